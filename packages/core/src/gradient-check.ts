@@ -1,0 +1,297 @@
+/**
+ * Gradient check: compares the tape's reverse-mode gradients with central finite differences,
+ *
+ *     ∂f/∂x_i ≈ (f(x + h·e_i) − f(x − h·e_i)) / 2h,   error O(h²) (common practice),
+ *
+ * entry by entry, in f64. Rounding in f(x ± h) leaves an absolute noise of about ε·|f|/h ≈ 1e-11 at h = 1e-5, so
+ * an entry whose true gradient is tiny can show a large relative error while being right. An entry therefore
+ * passes when its relative error |a − n| / max(|a|, |n|) is below `tolerance` or its absolute error is below
+ * `absoluteFloor`; the report lists which entries passed only by the floor. Directional checks (the derivative
+ * along a few random unit directions against the dot product with the gradient) have no such floor.
+ *
+ * Anyone can point it at their own computation: `build` records a scalar on the tape it is given, reading the
+ * tensors under test; the check perturbs those tensors' values in place and always puts them back exactly.
+ */
+import type { FloatArray } from './dtype.js';
+import { fail, formatShape } from './errors.js';
+import { BufferPool } from './pool.js';
+import { Random } from './random.js';
+import { Tape } from './tape.js';
+import type { Tensor } from './tensor.js';
+
+export interface GradientCheckOptions {
+  /** The finite-difference step h. Default 1e-5. */
+  readonly step?: number;
+  /** Largest relative error that passes. Default 1e-6. */
+  readonly tolerance?: number;
+  /** An absolute error below this passes whatever its relative error (the finite-difference noise floor). Default 1e-9. */
+  readonly absoluteFloor?: number;
+  /** Check at most this many entries per tensor, picked by the seeded generator. Default: every entry. */
+  readonly entriesPerTensor?: number;
+  /** Number of random directions for the directional check. Default 3. */
+  readonly directions?: number;
+  /** Seed for sampling entries and directions. Default 1. */
+  readonly seed?: number | string;
+}
+
+export interface TensorGradientCheck {
+  readonly name: string;
+  readonly shape: readonly number[];
+  /** Entries compared. */
+  readonly checked: number;
+  readonly passed: boolean;
+  /** The worst relative error |a − n| / max(|a|, |n|, tiny) among the checked entries. */
+  readonly worstRelativeError: number;
+  /** Its absolute error |a − n|. */
+  readonly worstAbsoluteError: number;
+  /** Where: the full index into the tensor, and its row-major offset. */
+  readonly worstIndex: readonly number[];
+  readonly worstOffset: number;
+  /** The reverse-mode value and the finite-difference value there. */
+  readonly analytic: number;
+  readonly numeric: number;
+  /** Offsets of entries whose relative error failed but whose absolute error was under the floor. */
+  readonly passedByFloor: readonly number[];
+  /** Offsets of entries that failed. */
+  readonly failures: readonly number[];
+}
+
+export interface DirectionalGradientCheck {
+  readonly analytic: number;
+  readonly numeric: number;
+  readonly relativeError: number;
+  readonly passed: boolean;
+}
+
+export interface GradientReport {
+  readonly passed: boolean;
+  readonly step: number;
+  readonly tolerance: number;
+  readonly absoluteFloor: number;
+  readonly loss: number;
+  readonly tensors: readonly TensorGradientCheck[];
+  readonly directions: readonly DirectionalGradientCheck[];
+  /** The report as readable lines. */
+  text(): string;
+}
+
+const TINY = 1e-300;
+
+function relativeError(a: number, n: number): number {
+  const d = Math.abs(a - n);
+  return d === 0 ? 0 : d / Math.max(Math.abs(a), Math.abs(n), TINY);
+}
+
+function indexOf(offset: number, shape: readonly number[]): number[] {
+  const index = new Array<number>(shape.length).fill(0);
+  let rest = offset;
+  for (let axis = shape.length - 1; axis >= 0; axis--) {
+    index[axis] = rest % shape[axis];
+    rest = Math.floor(rest / shape[axis]);
+  }
+  return index;
+}
+
+export function checkGradients(
+  build: (tape: Tape) => Tensor,
+  tensors: readonly Tensor[],
+  options: GradientCheckOptions = {},
+): GradientReport {
+  const step = options.step ?? 1e-5;
+  const tolerance = options.tolerance ?? 1e-6;
+  const absoluteFloor = options.absoluteFloor ?? 1e-9;
+  const directionCount = options.directions ?? 3;
+  const entriesPerTensor = options.entriesPerTensor ?? Infinity;
+  if (!(step > 0) || !Number.isFinite(step)) fail('invalid_option', 'checkGradients.step', 'a finite number > 0', String(step));
+  if (!(tolerance > 0)) fail('invalid_option', 'checkGradients.tolerance', 'a number > 0', String(tolerance));
+  if (!(absoluteFloor >= 0)) fail('invalid_option', 'checkGradients.absoluteFloor', 'a number ≥ 0', String(absoluteFloor));
+  if (!Number.isInteger(directionCount) || directionCount < 0) {
+    fail('invalid_option', 'checkGradients.directions', 'a whole number ≥ 0', String(directionCount));
+  }
+  if (!(entriesPerTensor >= 1)) fail('invalid_option', 'checkGradients.entriesPerTensor', 'a number ≥ 1', String(entriesPerTensor));
+  if (typeof build !== 'function') fail('invalid_argument', 'checkGradients.build', 'a function (tape) => scalar tensor', typeof build);
+  const names = tensors.map((t, i) => (t.name !== '' ? t.name : `tensors[${i}]`));
+  tensors.forEach((t, i) => {
+    if (t.dtype !== 'f64') {
+      fail('dtype_mismatch', `checkGradients.${names[i]}`, 'f64', t.dtype, 'finite differences need f64; build the computation in f64 to check it');
+    }
+  });
+
+  const random = new Random(options.seed ?? 1);
+  const pool = new BufferPool();
+  const tape = new Tape({ pool });
+
+  // Make every tensor under test a parameter for the duration, keeping what it had.
+  const before = tensors.map((t) => ({ trainable: t.trainable, tracked: t.tracked, gradient: t.gradient }));
+  for (const t of tensors) {
+    t.trainable = true;
+    t.tracked = true;
+    t.gradient = pool.takeZeroed('f64', t.size);
+  }
+
+  const evaluate = (where: string): number => {
+    tape.clear();
+    tape.recording = false;
+    const value = scalarOf(build(tape), where);
+    tape.clear();
+    return value;
+  };
+
+  try {
+    tape.recording = true;
+    const lossTensor = build(tape);
+    const loss = scalarOf(lossTensor, 'the unperturbed point');
+    if (lossTensor.tracked) tape.reverseSweep(lossTensor);
+    const analytic: FloatArray[] = tensors.map((t) => Float64Array.from(t.gradient as FloatArray));
+    tape.clear();
+
+    const results: TensorGradientCheck[] = [];
+    tensors.forEach((t, ti) => {
+      const offsets = pickEntries(t.size, entriesPerTensor, random);
+      let worst = -1;
+      let worstOffset = 0;
+      let worstAbsolute = 0;
+      let worstAnalytic = 0;
+      let worstNumeric = 0;
+      const passedByFloor: number[] = [];
+      const failures: number[] = [];
+      for (const offset of offsets) {
+        const original = t.data[offset];
+        const up = original + step;
+        const down = original - step;
+        t.data[offset] = up;
+        const fUp = evaluate(`${names[ti]}[${offset}] + h`);
+        t.data[offset] = down;
+        const fDown = evaluate(`${names[ti]}[${offset}] − h`);
+        t.data[offset] = original;
+        const numeric = (fUp - fDown) / (up - down);
+        const a = analytic[ti][offset];
+        const rel = relativeError(a, numeric);
+        const abs = Math.abs(a - numeric);
+        if (!(rel < tolerance)) {
+          if (abs < absoluteFloor) passedByFloor.push(offset);
+          else failures.push(offset);
+        }
+        if (rel > worst) {
+          worst = rel;
+          worstOffset = offset;
+          worstAbsolute = abs;
+          worstAnalytic = a;
+          worstNumeric = numeric;
+        }
+      }
+      results.push({
+        name: names[ti],
+        shape: t.shape.slice(),
+        checked: offsets.length,
+        passed: failures.length === 0,
+        worstRelativeError: Math.max(worst, 0),
+        worstAbsoluteError: worstAbsolute,
+        worstIndex: indexOf(worstOffset, t.shape),
+        worstOffset,
+        analytic: worstAnalytic,
+        numeric: worstNumeric,
+        passedByFloor,
+        failures,
+      });
+    });
+
+    const directions: DirectionalGradientCheck[] = [];
+    const totalSize = tensors.reduce((n, t) => n + t.size, 0);
+    for (let d = 0; d < directionCount && totalSize > 0; d++) {
+      const direction = new Float64Array(totalSize);
+      let norm = 0;
+      for (let i = 0; i < totalSize; i++) {
+        direction[i] = random.normal();
+        norm += direction[i] * direction[i];
+      }
+      norm = Math.sqrt(norm);
+      let expected = 0;
+      let offset = 0;
+      for (let ti = 0; ti < tensors.length; ti++) {
+        for (let i = 0; i < tensors[ti].size; i++) {
+          direction[offset + i] /= norm;
+          expected += analytic[ti][i] * direction[offset + i];
+        }
+        offset += tensors[ti].size;
+      }
+      const originals = tensors.map((t) => Float64Array.from(t.data));
+      const move = (s: number): void => {
+        let o = 0;
+        tensors.forEach((t, ti) => {
+          for (let i = 0; i < t.size; i++) t.data[i] = originals[ti][i] + s * direction[o + i];
+          o += t.size;
+        });
+      };
+      move(step);
+      const fUp = evaluate(`direction ${d} + h`);
+      move(-step);
+      const fDown = evaluate(`direction ${d} − h`);
+      tensors.forEach((t, ti) => t.data.set(originals[ti]));
+      const numeric = (fUp - fDown) / (2 * step);
+      const rel = relativeError(expected, numeric);
+      directions.push({ analytic: expected, numeric, relativeError: rel, passed: rel < tolerance || Math.abs(expected - numeric) < absoluteFloor });
+    }
+
+    const passed = results.every((r) => r.passed) && directions.every((d) => d.passed);
+    return makeReport({ passed, step, tolerance, absoluteFloor, loss, tensors: results, directions });
+  } finally {
+    tape.clear();
+    tensors.forEach((t, i) => {
+      t.trainable = before[i].trainable;
+      t.tracked = before[i].tracked;
+      t.gradient = before[i].gradient;
+    });
+  }
+}
+
+function scalarOf(t: Tensor, where: string): number {
+  if (t === null || typeof t !== 'object' || !('data' in t)) {
+    fail('invalid_argument', 'checkGradients.build', 'a function returning a tensor', String(t));
+  }
+  if (t.size !== 1) fail('shape_mismatch', 'checkGradients.build result', 'a scalar (one element)', formatShape(t.shape));
+  const value = t.data[0];
+  if (!Number.isFinite(value)) fail('not_finite', `checkGradients.build result at ${where}`, 'a finite value', String(value));
+  return value;
+}
+
+/** Every offset when the tensor is small enough, else `count` distinct offsets drawn by partial Fisher–Yates. */
+function pickEntries(size: number, count: number, random: Random): number[] {
+  if (size <= count) return Array.from({ length: size }, (_, i) => i);
+  const all = Int32Array.from({ length: size }, (_, i) => i);
+  const picked: number[] = [];
+  for (let i = 0; i < count; i++) {
+    const j = i + random.integer(size - i);
+    const held = all[i];
+    all[i] = all[j];
+    all[j] = held;
+    picked.push(all[i]);
+  }
+  return picked.sort((a, b) => a - b);
+}
+
+function makeReport(fields: Omit<GradientReport, 'text'>): GradientReport {
+  return {
+    ...fields,
+    text(): string {
+      const lines: string[] = [];
+      lines.push(
+        `gradient check ${fields.passed ? 'PASSED' : 'FAILED'}: h = ${fields.step}, tolerance ${fields.tolerance} relative, floor ${fields.absoluteFloor} absolute, loss ${fields.loss}`,
+      );
+      for (const r of fields.tensors) {
+        const where = `[${r.worstIndex.join(', ')}]`;
+        lines.push(
+          `  ${r.passed ? 'ok  ' : 'FAIL'} ${r.name} ${formatShape(r.shape)}: ${r.checked} entries, worst relative error ${r.worstRelativeError.toExponential(2)} at ${where} (reverse ${r.analytic}, finite difference ${r.numeric})` +
+            (r.passedByFloor.length > 0 ? `; ${r.passedByFloor.length} passed only by the absolute floor` : '') +
+            (r.failures.length > 0 ? `; ${r.failures.length} failed` : ''),
+        );
+      }
+      fields.directions.forEach((d, i) => {
+        lines.push(
+          `  ${d.passed ? 'ok  ' : 'FAIL'} direction ${i}: reverse ${d.analytic}, finite difference ${d.numeric}, relative error ${d.relativeError.toExponential(2)}`,
+        );
+      });
+      return lines.join('\n');
+    },
+  };
+}

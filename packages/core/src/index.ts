@@ -1,0 +1,37 @@
+/** @weft/core: tensors over typed arrays, the tape, operations, kernels and gradient checks. */
+export type { DType, FloatArray } from './dtype.js';
+export { bytesPerElement, dtypeOf, isDType } from './dtype.js';
+export type { Problem, ProblemCode } from './errors.js';
+export { WeftError, describeProblem, formatShape } from './errors.js';
+export type { Allocate, PoolCounts } from './pool.js';
+export { BufferPool, sharedPool } from './pool.js';
+export type { RandomState } from './random.js';
+export { Random } from './random.js';
+export {
+  Tensor,
+  convert,
+  detach,
+  filled,
+  randomNormal,
+  randomUniform,
+  resetGradients,
+  sameShape,
+  sizeOfShape,
+  tensor,
+  trainable,
+  zeros,
+} from './tensor.js';
+export type { OperationKind, TapeOptions } from './tape.js';
+export { Tape, TapeNode } from './tape.js';
+export type { MatmulOptions } from './ops/matmul.js';
+export { matmul } from './ops/matmul.js';
+export { add, multiply, scale, subtract } from './ops/arithmetic.js';
+export { exp, log, relu, sigmoid, tanh } from './ops/activations.js';
+export { concat, slice } from './ops/concat.js';
+export { mean, sum } from './ops/reduce.js';
+export { gatherRows } from './ops/gather.js';
+export type { CrossEntropyOptions } from './ops/losses.js';
+export { meanSquaredError, softmaxCrossEntropy } from './ops/losses.js';
+export type { DirectionalGradientCheck, GradientCheckOptions, GradientReport, TensorGradientCheck } from './gradient-check.js';
+export { checkGradients } from './gradient-check.js';
+export * as kernels from './kernels/index.js';

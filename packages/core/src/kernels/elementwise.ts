@@ -1,0 +1,71 @@
+/**
+ * Elementwise kernels over the first `length` elements, out-first. For every kernel here `out` may alias any
+ * input: each element is read before it is written and no element is read after its own write (the elementwise
+ * test proves it). Kernels whose names end in `Into` add to `out` rather than overwrite it; the reverse sweep uses
+ * them to accumulate gradients without temporaries.
+ */
+import type { FloatArray } from '../dtype.js';
+
+/** out = a + b */
+export function add(out: FloatArray, a: FloatArray, b: FloatArray, length: number): FloatArray {
+  for (let i = 0; i < length; i++) out[i] = a[i] + b[i];
+  return out;
+}
+
+/** out = a − b */
+export function subtract(out: FloatArray, a: FloatArray, b: FloatArray, length: number): FloatArray {
+  for (let i = 0; i < length; i++) out[i] = a[i] - b[i];
+  return out;
+}
+
+/** out = a ⊙ b (elementwise product) */
+export function multiply(out: FloatArray, a: FloatArray, b: FloatArray, length: number): FloatArray {
+  for (let i = 0; i < length; i++) out[i] = a[i] * b[i];
+  return out;
+}
+
+/** out = s · a */
+export function scale(out: FloatArray, a: FloatArray, s: number, length: number): FloatArray {
+  for (let i = 0; i < length; i++) out[i] = s * a[i];
+  return out;
+}
+
+/** out += a */
+export function addInto(out: FloatArray, a: FloatArray, length: number): FloatArray {
+  for (let i = 0; i < length; i++) out[i] += a[i];
+  return out;
+}
+
+/** out += s · a */
+export function addScaledInto(out: FloatArray, a: FloatArray, s: number, length: number): FloatArray {
+  for (let i = 0; i < length; i++) out[i] += s * a[i];
+  return out;
+}
+
+/** out += a ⊙ b */
+export function multiplyInto(out: FloatArray, a: FloatArray, b: FloatArray, length: number): FloatArray {
+  for (let i = 0; i < length; i++) out[i] += a[i] * b[i];
+  return out;
+}
+
+/** out[r, c] = a[r, c] + row[c] for a [rows, cols] matrix a and a [cols] row (the bias add). */
+export function addRow(out: FloatArray, a: FloatArray, row: FloatArray, rows: number, cols: number): FloatArray {
+  for (let r = 0; r < rows; r++) {
+    const base = r * cols;
+    for (let c = 0; c < cols; c++) out[base + c] = a[base + c] + row[c];
+  }
+  return out;
+}
+
+/**
+ * out[c] (+)= Σ_r a[r, c]: column sums of a [rows, cols] matrix, added to out when `accumulate`, else written.
+ * `out` must not alias `a` (it is written while rows of a are still being read).
+ */
+export function sumRows(out: FloatArray, a: FloatArray, rows: number, cols: number, accumulate = false): FloatArray {
+  if (!accumulate) out.fill(0, 0, cols);
+  for (let r = 0; r < rows; r++) {
+    const base = r * cols;
+    for (let c = 0; c < cols; c++) out[c] += a[base + c];
+  }
+  return out;
+}

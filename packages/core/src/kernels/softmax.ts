@@ -1,0 +1,37 @@
+/**
+ * Row-wise softmax cross-entropy over integer targets, out-first.
+ *
+ * For each row r of the [rows, classes] logits z, with m = max_j z_j (the log-sum-exp shift, common practice):
+ *   log p_j = z_j − m − log Σ_k exp(z_k − m),   loss_r = −log p_{target_r}.
+ * Every exponent is ≤ 0, so no logit, however large, overflows. The probabilities are written to `probabilities`
+ * (for the reverse sweep: ∂loss_r/∂z_j = p_j − [j = target_r]). `probabilities` may alias `logits`.
+ */
+import type { FloatArray } from '../dtype.js';
+
+export function softmaxCrossEntropyRows(
+  losses: FloatArray,
+  probabilities: FloatArray,
+  logits: FloatArray,
+  targets: Int32Array,
+  rows: number,
+  classes: number,
+): FloatArray {
+  for (let r = 0; r < rows; r++) {
+    const base = r * classes;
+    let m = -Infinity;
+    for (let j = 0; j < classes; j++) if (logits[base + j] > m) m = logits[base + j];
+    const target = targets[r];
+    const targetLogit = logits[base + target];
+    let total = 0;
+    for (let j = 0; j < classes; j++) {
+      const e = Math.exp(logits[base + j] - m);
+      probabilities[base + j] = e;
+      total += e;
+    }
+    const logTotal = Math.log(total);
+    losses[r] = -(targetLogit - m - logTotal);
+    const inverse = 1 / total;
+    for (let j = 0; j < classes; j++) probabilities[base + j] *= inverse;
+  }
+  return losses;
+}

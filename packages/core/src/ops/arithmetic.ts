@@ -1,0 +1,107 @@
+/**
+ * Elementwise arithmetic on the tape: add (with a bias row broadcast over the rows of `a`), subtract, multiply,
+ * scale. Backward (common practice): ∂(a+b)/∂a = ∂(a+b)/∂b = 1, summed over the broadcast rows for a bias;
+ * ∂(a−b)/∂b = −1; ∂(a⊙b)/∂a = b; ∂(s·a)/∂a = s.
+ */
+import { fail, formatShape } from '../errors.js';
+import { addInto, addRow, addScaledInto, add as addKernel, multiplyInto, multiply as multiplyKernel, scale as scaleKernel, subtract as subtractKernel, sumRows } from '../kernels/elementwise.js';
+import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import type { Tensor } from '../tensor.js';
+import { sameShape } from '../tensor.js';
+import { lastAxis, requireSameDType, requireShape } from './checks.js';
+
+const addKind: OperationKind = {
+  name: 'add',
+  backward(node: TapeNode, tape: Tape): void {
+    const a = node.first as Tensor;
+    const b = node.second as Tensor;
+    const g = (node.output as Tensor).gradient!;
+    if (a.tracked) addInto(tape.gradientOf(a), g, a.size);
+    if (b.tracked) {
+      if (node.flag0) sumRows(tape.gradientOf(b), g, a.size / b.size, b.size, true);
+      else addInto(tape.gradientOf(b), g, b.size);
+    }
+  },
+};
+
+/**
+ * a + b. `b` has the shape of `a`, or is a row of `a`'s last-axis length (shape [n] or [1, n]) that is added to
+ * every row of `a` (the bias add).
+ */
+export function add(tape: Tape, a: Tensor, b: Tensor): Tensor {
+  requireSameDType('add', 'b', b, a.dtype);
+  const broadcast = !sameShape(a.shape, b.shape);
+  if (broadcast) {
+    const cols = lastAxis(a);
+    const isRow = b.size === cols && (b.shape.length === 1 || (b.shape.length === 2 && b.shape[0] === 1));
+    if (!isRow || a.shape.length < 1) {
+      fail('shape_mismatch', 'add.b', `${formatShape(a.shape)} or a row [${cols}]`, formatShape(b.shape));
+    }
+  }
+  const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
+  if (broadcast) addRow(out.data, a.data, b.data, a.size / b.size, b.size);
+  else addKernel(out.data, a.data, b.data, a.size);
+  const node = tape.record(addKind, out, a, b);
+  if (node !== null) node.flag0 = broadcast;
+  return out;
+}
+
+const subtractKind: OperationKind = {
+  name: 'subtract',
+  backward(node: TapeNode, tape: Tape): void {
+    const a = node.first as Tensor;
+    const b = node.second as Tensor;
+    const g = (node.output as Tensor).gradient!;
+    if (a.tracked) addInto(tape.gradientOf(a), g, a.size);
+    if (b.tracked) addScaledInto(tape.gradientOf(b), g, -1, b.size);
+  },
+};
+
+/** a − b, same shapes. */
+export function subtract(tape: Tape, a: Tensor, b: Tensor): Tensor {
+  requireSameDType('subtract', 'b', b, a.dtype);
+  requireShape('subtract', 'b', b, a.shape);
+  const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
+  subtractKernel(out.data, a.data, b.data, a.size);
+  tape.record(subtractKind, out, a, b);
+  return out;
+}
+
+const multiplyKind: OperationKind = {
+  name: 'multiply',
+  backward(node: TapeNode, tape: Tape): void {
+    const a = node.first as Tensor;
+    const b = node.second as Tensor;
+    const g = (node.output as Tensor).gradient!;
+    if (a.tracked) multiplyInto(tape.gradientOf(a), g, b.data, a.size);
+    if (b.tracked) multiplyInto(tape.gradientOf(b), g, a.data, b.size);
+  },
+};
+
+/** a ⊙ b, the elementwise product of two tensors of one shape. */
+export function multiply(tape: Tape, a: Tensor, b: Tensor): Tensor {
+  requireSameDType('multiply', 'b', b, a.dtype);
+  requireShape('multiply', 'b', b, a.shape);
+  const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
+  multiplyKernel(out.data, a.data, b.data, a.size);
+  tape.record(multiplyKind, out, a, b);
+  return out;
+}
+
+const scaleKind: OperationKind = {
+  name: 'scale',
+  backward(node: TapeNode, tape: Tape): void {
+    const a = node.first as Tensor;
+    addScaledInto(tape.gradientOf(a), (node.output as Tensor).gradient!, node.number0, a.size);
+  },
+};
+
+/** s · a for a number s. */
+export function scale(tape: Tape, a: Tensor, s: number): Tensor {
+  if (typeof s !== 'number' || Number.isNaN(s)) fail('invalid_argument', 'scale.s', 'a number', String(s));
+  const out = tape.output(a.shape, a.dtype, a.tracked);
+  scaleKernel(out.data, a.data, s, a.size);
+  const node = tape.record(scaleKind, out, a);
+  if (node !== null) node.number0 = s;
+  return out;
+}

@@ -1,0 +1,108 @@
+/**
+ * Joining and cutting along the last axis. A tensor of shape [..., n] is handled as rows × n, rows being the
+ * product of the leading axes. Backward (common practice): each input's gradient is its own column range of the
+ * output's gradient; a slice's input gradient receives the output gradient in its column range.
+ */
+import { fail, formatShape } from '../errors.js';
+import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import type { Tensor } from '../tensor.js';
+import { lastAxis, requireSameDType } from './checks.js';
+
+const concatKind: OperationKind = {
+  name: 'concat',
+  backward(node: TapeNode, tape: Tape): void {
+    const parts = node.list as readonly Tensor[];
+    const out = node.output as Tensor;
+    const g = out.gradient!;
+    const width = lastAxis(out);
+    const rows = out.size / Math.max(1, width);
+    let offset = 0;
+    for (const part of parts) {
+      const w = lastAxis(part);
+      if (part.tracked) {
+        const gp = tape.gradientOf(part);
+        for (let r = 0; r < rows; r++) {
+          const from = r * width + offset;
+          const to = r * w;
+          for (let c = 0; c < w; c++) gp[to + c] += g[from + c];
+        }
+      }
+      offset += w;
+    }
+  },
+};
+
+/** Joins tensors along the last axis; all leading axes must agree. */
+export function concat(tape: Tape, parts: readonly Tensor[]): Tensor {
+  if (parts === undefined || parts === null || parts.length === 0) {
+    fail('invalid_argument', 'concat.parts', 'a list of at least one tensor', String(parts?.length ?? parts));
+  }
+  const first = parts[0];
+  const lead = first.shape.slice(0, -1);
+  let width = 0;
+  let tracked = false;
+  for (let i = 0; i < parts.length; i++) {
+    const part = parts[i];
+    requireSameDType('concat', `parts[${i}]`, part, first.dtype);
+    const partLead = part.shape.slice(0, -1);
+    if (part.shape.length !== first.shape.length || partLead.some((n, axis) => n !== lead[axis])) {
+      fail('shape_mismatch', `concat.parts[${i}]`, `[${[...lead, 'any'].join(', ')}]`, formatShape(part.shape));
+    }
+    width += lastAxis(part);
+    tracked = tracked || part.tracked;
+  }
+  const out = tape.output([...lead, width], first.dtype, tracked);
+  const rows = out.size / Math.max(1, width);
+  let offset = 0;
+  for (const part of parts) {
+    const w = lastAxis(part);
+    for (let r = 0; r < rows; r++) {
+      const to = r * width + offset;
+      const from = r * w;
+      for (let c = 0; c < w; c++) out.data[to + c] = part.data[from + c];
+    }
+    offset += w;
+  }
+  const node = tape.record(concatKind, out, null);
+  if (node !== null) node.list = parts.slice();
+  return out;
+}
+
+const sliceKind: OperationKind = {
+  name: 'slice',
+  backward(node: TapeNode, tape: Tape): void {
+    const a = node.first as Tensor;
+    const out = node.output as Tensor;
+    const g = out.gradient!;
+    const ga = tape.gradientOf(a);
+    const width = lastAxis(a);
+    const w = lastAxis(out);
+    const start = node.number0;
+    const rows = out.size / Math.max(1, w);
+    for (let r = 0; r < rows; r++) {
+      const to = r * width + start;
+      const from = r * w;
+      for (let c = 0; c < w; c++) ga[to + c] += g[from + c];
+    }
+  },
+};
+
+/** Columns [start, end) of the last axis. */
+export function slice(tape: Tape, a: Tensor, start: number, end: number): Tensor {
+  const width = lastAxis(a);
+  if (a.shape.length === 0) fail('shape_mismatch', 'slice.a', 'a tensor of rank ≥ 1', '[]');
+  if (!Number.isInteger(start) || !Number.isInteger(end) || start < 0 || end > width || start > end) {
+    fail('invalid_argument', 'slice.range', `0 ≤ start ≤ end ≤ ${width}`, `start ${start}, end ${end}`);
+  }
+  const w = end - start;
+  const out = tape.output([...a.shape.slice(0, -1), w], a.dtype, a.tracked);
+  const rows = a.size / Math.max(1, width);
+  for (let r = 0; r < rows; r++) {
+    const from = r * width + start;
+    const to = r * w;
+    for (let c = 0; c < w; c++) out.data[to + c] = a.data[from + c];
+  }
+  const node = tape.record(sliceKind, out, a);
+  if (node !== null) node.number0 = start;
+  return out;
+}

@@ -1,0 +1,46 @@
+/**
+ * Row gather: out[i] = table[indices[i]] (an embedding lookup). Backward scatter-adds: row indices[i] of the
+ * table's gradient receives out's gradient row i, so a row picked several times collects every share.
+ */
+import { fail } from '../errors.js';
+import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import type { Tensor } from '../tensor.js';
+import { requireRank } from './checks.js';
+
+const gatherKind: OperationKind = {
+  name: 'gatherRows',
+  backward(node: TapeNode, tape: Tape): void {
+    const table = node.first as Tensor;
+    const indices = node.integers as Int32Array;
+    const g = (node.output as Tensor).gradient!;
+    const gt = tape.gradientOf(table);
+    const width = table.shape[1];
+    for (let i = 0; i < indices.length; i++) {
+      const to = indices[i] * width;
+      const from = i * width;
+      for (let c = 0; c < width; c++) gt[to + c] += g[from + c];
+    }
+  },
+};
+
+/** Rows of a [rows, width] table picked by `indices`; the result is [indices.length, width]. */
+export function gatherRows(tape: Tape, table: Tensor, indices: Int32Array | readonly number[]): Tensor {
+  requireRank('gatherRows', 'table', table, 2);
+  const [rows, width] = table.shape;
+  const picked = indices instanceof Int32Array ? indices : Int32Array.from(indices);
+  for (let i = 0; i < picked.length; i++) {
+    const index = picked[i];
+    if (index < 0 || index >= rows || (!(indices instanceof Int32Array) && index !== (indices as readonly number[])[i])) {
+      fail('invalid_argument', `gatherRows.indices[${i}]`, `a whole number in [0, ${rows})`, String((indices as ArrayLike<number>)[i]));
+    }
+  }
+  const out = tape.output([picked.length, width], table.dtype, table.tracked);
+  for (let i = 0; i < picked.length; i++) {
+    const from = picked[i] * width;
+    const to = i * width;
+    for (let c = 0; c < width; c++) out.data[to + c] = table.data[from + c];
+  }
+  const node = tape.record(gatherKind, out, table);
+  if (node !== null) node.integers = picked;
+  return out;
+}

@@ -1,0 +1,130 @@
+/**
+ * Losses on the tape, each to a scalar (shape [1]).
+ *
+ * softmaxCrossEntropy: the weighted mean over rows of −log softmax(z_r)[t_r], computed through the log-sum-exp
+ * shift so that logits of any size stay finite (see kernels/softmax.ts). Per-row weights (0 for padding, 1
+ * otherwise, or any non-negative value) let a masked batch count only its real positions. Backward (common
+ * practice): ∂L/∂z_rj = w_r / Σw · (p_rj − [j = t_r]).
+ *
+ * meanSquaredError: mean over all elements of (p − y)². Backward: ∂L/∂p = 2(p − y)/n, ∂L/∂y = −2(p − y)/n.
+ */
+import type { FloatArray } from '../dtype.js';
+import { fail, formatShape } from '../errors.js';
+import { softmaxCrossEntropyRows } from '../kernels/softmax.js';
+import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import type { Tensor } from '../tensor.js';
+import { requireRank, requireSameDType, requireShape } from './checks.js';
+
+const crossEntropyKind: OperationKind = {
+  name: 'softmaxCrossEntropy',
+  backward(node: TapeNode, tape: Tape): void {
+    const logits = node.first as Tensor;
+    const probabilities = node.saved as FloatArray;
+    const weights = node.savedOther;
+    const targets = node.integers as Int32Array;
+    const [rows, classes] = logits.shape;
+    const share = (node.output as Tensor).gradient![0] * node.number0;
+    const gl = tape.gradientOf(logits);
+    for (let r = 0; r < rows; r++) {
+      const w = weights === null ? share : share * weights[r];
+      if (w === 0) continue;
+      const base = r * classes;
+      for (let j = 0; j < classes; j++) gl[base + j] += w * probabilities[base + j];
+      gl[base + targets[r]] -= w;
+    }
+  },
+};
+
+export interface CrossEntropyOptions {
+  /** One non-negative weight per row (0 masks the row out). The loss is Σ w_r·loss_r / Σ w_r. */
+  readonly weights?: FloatArray | readonly number[];
+}
+
+/** Weighted mean softmax cross-entropy of [rows, classes] logits against integer targets, one per row. */
+export function softmaxCrossEntropy(
+  tape: Tape,
+  logits: Tensor,
+  targets: Int32Array | readonly number[],
+  options: CrossEntropyOptions = {},
+): Tensor {
+  requireRank('softmaxCrossEntropy', 'logits', logits, 2);
+  const [rows, classes] = logits.shape;
+  if (targets.length !== rows) {
+    fail('shape_mismatch', 'softmaxCrossEntropy.targets', `${rows} targets (one per row of logits ${formatShape(logits.shape)})`, `${targets.length}`);
+  }
+  const picked = targets instanceof Int32Array ? targets : Int32Array.from(targets);
+  for (let r = 0; r < rows; r++) {
+    const t = (targets as ArrayLike<number>)[r];
+    if (!Number.isInteger(t) || t < 0 || t >= classes) {
+      fail('invalid_argument', `softmaxCrossEntropy.targets[${r}]`, `a class index in [0, ${classes})`, String(t));
+    }
+  }
+  let weights: FloatArray | null = null;
+  let total = rows;
+  if (options.weights !== undefined) {
+    const given = options.weights;
+    if (given.length !== rows) {
+      fail('shape_mismatch', 'softmaxCrossEntropy.weights', `${rows} weights`, `${given.length}`);
+    }
+    weights = tape.buffer(logits.dtype, rows);
+    total = 0;
+    for (let r = 0; r < rows; r++) {
+      const w = given[r];
+      if (!(w >= 0) || !Number.isFinite(w)) {
+        fail('invalid_argument', `softmaxCrossEntropy.weights[${r}]`, 'a finite number ≥ 0', String(w));
+      }
+      weights[r] = w;
+      total += w;
+    }
+  }
+  const probabilities = tape.buffer(logits.dtype, logits.size);
+  const losses = tape.buffer(logits.dtype, rows);
+  softmaxCrossEntropyRows(losses, probabilities, logits.data, picked, rows, classes);
+  let weighted = 0;
+  for (let r = 0; r < rows; r++) weighted += weights === null ? losses[r] : weights[r] * losses[r];
+  const normaliser = total > 0 ? 1 / total : 0;
+  const out = tape.output([1], logits.dtype, logits.tracked);
+  out.data[0] = weighted * normaliser;
+  const node = tape.record(crossEntropyKind, out, logits);
+  if (node !== null) {
+    node.saved = probabilities;
+    node.savedOther = weights;
+    node.integers = picked;
+    node.number0 = normaliser;
+  }
+  return out;
+}
+
+const squaredErrorKind: OperationKind = {
+  name: 'meanSquaredError',
+  backward(node: TapeNode, tape: Tape): void {
+    const prediction = node.first as Tensor;
+    const target = node.second as Tensor;
+    const factor = (node.output as Tensor).gradient![0] * node.number0;
+    const n = prediction.size;
+    const gp = prediction.tracked ? tape.gradientOf(prediction) : null;
+    const gt = target.tracked ? tape.gradientOf(target) : null;
+    for (let i = 0; i < n; i++) {
+      const d = factor * (prediction.data[i] - target.data[i]);
+      if (gp !== null) gp[i] += d;
+      if (gt !== null) gt[i] -= d;
+    }
+  },
+};
+
+/** Mean over all elements of (prediction − target)². */
+export function meanSquaredError(tape: Tape, prediction: Tensor, target: Tensor): Tensor {
+  requireSameDType('meanSquaredError', 'target', target, prediction.dtype);
+  requireShape('meanSquaredError', 'target', target, prediction.shape);
+  let total = 0;
+  for (let i = 0; i < prediction.size; i++) {
+    const d = prediction.data[i] - target.data[i];
+    total += d * d;
+  }
+  const n = prediction.size;
+  const out = tape.output([1], prediction.dtype, prediction.tracked || target.tracked);
+  out.data[0] = n === 0 ? 0 : total / n;
+  const node = tape.record(squaredErrorKind, out, prediction, target);
+  if (node !== null) node.number0 = n === 0 ? 0 : 2 / n;
+  return out;
+}

@@ -1,0 +1,76 @@
+/**
+ * Matrix product on the tape: C = op(A) · op(B) with optional transposes of either operand.
+ * Backward (common practice): for C = A·B, ∂A += ∂C · Bᵀ and ∂B += Aᵀ · ∂C; the transposed forms follow by
+ * transposing those products, so every case is one accumulating matmul kernel call per operand, no temporaries.
+ */
+import { fail, formatShape } from '../errors.js';
+import { matmul as matmulKernel } from '../kernels/matmul.js';
+import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import type { Tensor } from '../tensor.js';
+import { requireRank, requireSameDType } from './checks.js';
+
+export interface MatmulOptions {
+  /** Use Aᵀ: A is stored [inner, rows]. */
+  readonly transposeA?: boolean;
+  /** Use Bᵀ: B is stored [cols, inner]. */
+  readonly transposeB?: boolean;
+}
+
+const kind: OperationKind = {
+  name: 'matmul',
+  backward(node: TapeNode, tape: Tape): void {
+    const a = node.first as Tensor;
+    const b = node.second as Tensor;
+    const g = (node.output as Tensor).gradient!;
+    const transposeA = node.flag0;
+    const transposeB = node.flag1;
+    const rows = transposeA ? a.shape[1] : a.shape[0];
+    const inner = transposeA ? a.shape[0] : a.shape[1];
+    const cols = transposeB ? b.shape[0] : b.shape[1];
+    if (a.tracked) {
+      const ga = tape.gradientOf(a);
+      if (!transposeA) {
+        // ∂A [rows, inner] += ∂C [rows, cols] · op(B)ᵀ [cols, inner]
+        matmulKernel(ga, g, b.data, rows, cols, inner, false, !transposeB, true);
+      } else {
+        // ∂A stored [inner, rows] += op(B) [inner, cols] · ∂Cᵀ [cols, rows]
+        matmulKernel(ga, b.data, g, inner, cols, rows, transposeB, true, true);
+      }
+    }
+    if (b.tracked) {
+      const gb = tape.gradientOf(b);
+      if (!transposeB) {
+        // ∂B [inner, cols] += op(A)ᵀ [inner, rows] · ∂C [rows, cols]
+        matmulKernel(gb, a.data, g, inner, rows, cols, !transposeA, false, true);
+      } else {
+        // ∂B stored [cols, inner] += ∂Cᵀ [cols, rows] · op(A) [rows, inner]
+        matmulKernel(gb, g, a.data, cols, rows, inner, true, transposeA, true);
+      }
+    }
+  },
+};
+
+export function matmul(tape: Tape, a: Tensor, b: Tensor, options: MatmulOptions = {}): Tensor {
+  const transposeA = options.transposeA === true;
+  const transposeB = options.transposeB === true;
+  requireRank('matmul', 'a', a, 2);
+  requireRank('matmul', 'b', b, 2);
+  requireSameDType('matmul', 'b', b, a.dtype);
+  const rows = transposeA ? a.shape[1] : a.shape[0];
+  const inner = transposeA ? a.shape[0] : a.shape[1];
+  const innerB = transposeB ? b.shape[1] : b.shape[0];
+  const cols = transposeB ? b.shape[0] : b.shape[1];
+  if (inner !== innerB) {
+    const expected = transposeB ? `[${'cols'}, ${inner}]` : `[${inner}, ${'cols'}]`;
+    fail('shape_mismatch', 'matmul.b', expected, formatShape(b.shape),
+      `inner sizes differ: ${transposeA ? 'Aᵀ' : 'A'} is [${rows}, ${inner}], ${transposeB ? 'Bᵀ' : 'B'} is [${innerB}, ${cols}]`);
+  }
+  const out = tape.output([rows, cols], a.dtype, a.tracked || b.tracked);
+  matmulKernel(out.data, a.data, b.data, rows, inner, cols, transposeA, transposeB, false);
+  const node = tape.record(kind, out, a, b);
+  if (node !== null) {
+    node.flag0 = transposeA;
+    node.flag1 = transposeB;
+  }
+  return out;
+}

@@ -1,0 +1,86 @@
+/**
+ * The seeded random-number generator. Every random choice in weft (initial weights, dropout masks, shuffling,
+ * sampled gradient-check entries, sampling of outputs) draws from one of these, so the same seed gives the same
+ * bits. The underlying generator is seedrandom's Alea; its state is four plain numbers, saved and restored
+ * exactly for checkpoints.
+ */
+import seedrandom from 'seedrandom';
+import { fail } from './errors.js';
+
+/** The generator's state as plain data (safe to put in JSON: every field is an exactly representable number). */
+export interface RandomState {
+  readonly c: number;
+  readonly s0: number;
+  readonly s1: number;
+  readonly s2: number;
+}
+
+type AleaGenerator = seedrandom.StatefulPRNG<seedrandom.State.Alea>;
+
+export class Random {
+  private generator: AleaGenerator;
+
+  constructor(seed: string | number) {
+    if (typeof seed === 'number' && !Number.isFinite(seed)) {
+      fail('invalid_argument', 'Random.seed', 'a finite number or a string', String(seed));
+    }
+    this.generator = seedrandom.alea(String(seed), { state: true });
+  }
+
+  /** A generator that continues from a saved state. */
+  static fromState(state: RandomState): Random {
+    const random = new Random(0);
+    random.restore(state);
+    return random;
+  }
+
+  /** Uniform in [0, 1), 53 random bits. */
+  uniform(): number {
+    return this.generator.double();
+  }
+
+  /** Uniform in [low, high). */
+  between(low: number, high: number): number {
+    return low + (high - low) * this.generator.double();
+  }
+
+  /** A whole number in [0, count). */
+  integer(count: number): number {
+    return Math.floor(this.generator.double() * count);
+  }
+
+  /**
+   * Standard normal by the Box–Muller transform (Box & Muller 1958). One pair of uniforms per call and no
+   * cached spare, so the state is just the generator's.
+   */
+  normal(): number {
+    let u = this.generator.double();
+    while (u === 0) u = this.generator.double();
+    const v = this.generator.double();
+    return Math.sqrt(-2 * Math.log(u)) * Math.cos(2 * Math.PI * v);
+  }
+
+  /** Shuffles in place (Fisher–Yates, Durstenfeld's form). */
+  shuffle<T>(items: T[] | Int32Array | Uint32Array): void {
+    for (let i = items.length - 1; i > 0; i--) {
+      const j = Math.floor(this.generator.double() * (i + 1));
+      const held = items[i];
+      items[i] = items[j];
+      items[j] = held;
+    }
+  }
+
+  state(): RandomState {
+    const { c, s0, s1, s2 } = this.generator.state();
+    return { c, s0, s1, s2 };
+  }
+
+  restore(state: RandomState): void {
+    for (const key of ['c', 's0', 's1', 's2'] as const) {
+      if (typeof state[key] !== 'number' || !Number.isFinite(state[key])) {
+        fail('invalid_argument', `RandomState.${key}`, 'a finite number', String(state[key]));
+      }
+    }
+    this.generator = seedrandom.alea('', { state: { c: state.c, s0: state.s0, s1: state.s1, s2: state.s2 } });
+  }
+}

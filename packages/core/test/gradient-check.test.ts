@@ -1,0 +1,106 @@
+import { describe, expect, it } from 'vitest';
+import { Random, Tape, checkGradients, exp, multiply, randomUniform, sum, tanh, tensor } from '@weft/core';
+import type { OperationKind, Tensor } from '@weft/core';
+
+/** A mutant operation: y = x², whose backward deliberately adds 2x + 0.01 instead of 2x. */
+const wrongSquareKind: OperationKind = {
+  name: 'wrongSquare',
+  backward(node, tape) {
+    const x = node.first as Tensor;
+    const g = (node.output as Tensor).gradient!;
+    const gx = tape.gradientOf(x);
+    for (let i = 0; i < x.size; i++) gx[i] += g[i] * (2 * x.data[i] + (i === 4 ? 0.01 : 0));
+  },
+};
+
+function wrongSquare(tape: Tape, x: Tensor): Tensor {
+  const out = tape.output(x.shape, x.dtype, x.tracked);
+  for (let i = 0; i < x.size; i++) out.data[i] = x.data[i] * x.data[i];
+  tape.record(wrongSquareKind, out, x);
+  return out;
+}
+
+describe('checkGradients', () => {
+  it('catches a deliberately wrong backward and names the tensor and index', () => {
+    const random = new Random('mutant');
+    const good = randomUniform([2, 3], random, -1, 1, 'f64');
+    good.name = 'good';
+    const bad = randomUniform([2, 3], random, -1, 1, 'f64');
+    bad.name = 'bad';
+    const report = checkGradients((tape) => sum(tape, multiply(tape, tanh(tape, good), wrongSquare(tape, bad))), [good, bad]);
+    expect(report.passed).toBe(false);
+    const [goodCheck, badCheck] = report.tensors;
+    expect(goodCheck.passed).toBe(true);
+    expect(badCheck.passed).toBe(false);
+    expect(badCheck.name).toBe('bad');
+    expect(badCheck.worstIndex).toEqual([1, 1]);
+    expect(badCheck.worstOffset).toBe(4);
+    expect(badCheck.failures).toEqual([4]);
+    expect(report.text()).toContain('FAIL bad [2, 3]: 6 entries, worst relative error');
+    expect(report.text()).toContain('at [1, 1]');
+    expect(report.directions.some((d) => !d.passed)).toBe(true);
+  });
+
+  it('passes a correct computation and leaves values and gradients as they were', () => {
+    const x = tensor([0.1, -0.4, 0.9], [3], 'f64');
+    x.name = 'x';
+    const before = Array.from(x.data);
+    const report = checkGradients((tape) => sum(tape, tanh(tape, multiply(tape, x, x))), [x]);
+    expect(report.passed).toBe(true);
+    expect(Array.from(x.data)).toEqual(before);
+    expect(x.trainable).toBe(false);
+    expect(x.gradient).toBe(null);
+    expect(report.text().split('\n')[0]).toMatch(/^gradient check PASSED: h = 0.00001/);
+  });
+
+  it('samples a seeded subset of entries of a large tensor', () => {
+    const x = randomUniform([40, 50], new Random(2), -1, 1, 'f64');
+    const run = () => checkGradients((tape) => sum(tape, tanh(tape, x)), [x], { entriesPerTensor: 25, seed: 9 });
+    const first = run();
+    expect(first.tensors[0].checked).toBe(25);
+    expect(first.passed).toBe(true);
+    expect(run().tensors[0].worstOffset).toBe(first.tensors[0].worstOffset);
+  });
+
+  it('refuses f32 tensors with a message saying why', () => {
+    const x = tensor([1, 2], [2], 'f32');
+    x.name = 'weights';
+    expect(() => checkGradients((tape) => sum(tape, x), [x])).toThrowError(
+      'Dtype mismatch at checkGradients.weights: expected f64, received f32 (finite differences need f64; build the computation in f64 to check it)',
+    );
+  });
+
+  it('reports entries that pass only by the absolute floor', () => {
+    // f(x) = x0² + 1e-12·x1²: ∂f/∂x1 = 2e-12·x1 is far under the finite-difference noise (≈ ε·|f|/h ≈ 1e-12),
+    // so its relative error is large while its absolute error is tiny.
+    const x = tensor([0.3, 0.7], [2], 'f64');
+    x.name = 'x';
+    const weights = tensor([1, 1e-12], [2], 'f64');
+    const report = checkGradients((tape) => sum(tape, multiply(tape, multiply(tape, x, x), weights)), [x], { directions: 0 });
+    const check = report.tensors[0];
+    expect(check.worstOffset).toBe(1);
+    expect(check.worstRelativeError).toBeGreaterThan(1e-6);
+    expect(check.passedByFloor).toEqual([1]);
+    expect(check.passed).toBe(true);
+    expect(report.text()).toContain('1 passed only by the absolute floor');
+    // With no floor, the same entry fails.
+    expect(checkGradients((tape) => sum(tape, multiply(tape, multiply(tape, x, x), weights)), [x], { directions: 0, absoluteFloor: 0 }).passed).toBe(false);
+  });
+
+  it('its central differences have O(h²) error on a function with a known derivative (common practice)', () => {
+    // f(x) = e^x, f′(x) = e^x; the central difference errs by h²·f‴(x)/6 + O(h⁴) = h²·e^x/6 (Taylor's theorem).
+    const x = tensor([0.4], [1], 'f64');
+    const errors = [1e-1, 1e-2, 1e-3].map((step) => {
+      const report = checkGradients((tape) => sum(tape, exp(tape, x)), [x], { step, directions: 0, tolerance: 1 });
+      return report.tensors[0].numeric - Math.exp(0.4);
+    });
+    // Each tenfold smaller step cuts the error a hundredfold …
+    expect(errors[0] / errors[1]).toBeCloseTo(100, 0);
+    expect(errors[1] / errors[2]).toBeCloseTo(100, 0);
+    // … and the error is h²·e^x/6 to within 1%.
+    errors.forEach((error, i) => {
+      const h = [1e-1, 1e-2, 1e-3][i];
+      expect(Math.abs(error / ((h * h * Math.exp(0.4)) / 6) - 1)).toBeLessThan(0.01);
+    });
+  });
+});

@@ -1,0 +1,123 @@
+import { describe, expect, it } from 'vitest';
+import {
+  BufferPool, Random, Tape, WeftError, add, matmul, multiply, randomUniform, sigmoid, sum, tanh, tensor, trainable,
+  resetGradients, detach,
+} from '@weft/core';
+
+describe('the tape', () => {
+  it('records one node per operation and sweeps from a scalar with seed 1', () => {
+    // f(x) = Σ tanh(x ⊙ w): ∂f/∂x_i = w_i (1 − tanh²(x_i w_i)) (calculus, common practice).
+    const x = trainable(tensor([0.5, -1, 2], [3], 'f64'), 'x');
+    const w = tensor([2, 0.25, -1], [3], 'f64');
+    const tape = new Tape();
+    const f = sum(tape, tanh(tape, multiply(tape, x, w)));
+    expect(tape.kinds()).toEqual(['multiply', 'tanh', 'sum']);
+    tape.reverseSweep(f);
+    for (let i = 0; i < 3; i++) {
+      const expected = w.data[i] * (1 - Math.tanh(x.data[i] * w.data[i]) ** 2);
+      expect(x.gradient![i]).toBeCloseTo(expected, 15);
+    }
+  });
+
+  it('gives the vector–Jacobian product from a given output gradient', () => {
+    // y = A·x for x [1,2]·A; with seed v, ∂(v·y)/∂x = v·Aᵀ (linear algebra, common practice).
+    const x = trainable(tensor([[1, 2]], undefined, 'f64'));
+    const a = tensor([[1, 2, 3], [4, 5, 6]], undefined, 'f64');
+    const tape = new Tape();
+    const y = matmul(tape, x, a);
+    tape.reverseSweep(y, Float64Array.of(1, -1, 2));
+    expect(Array.from(x.gradient!)).toEqual([1 - 2 + 6, 4 - 5 + 12]);
+  });
+
+  it('accumulates parameter gradients across sweeps until reset', () => {
+    const x = trainable(tensor([3], [1], 'f64'));
+    const tape = new Tape();
+    for (let round = 0; round < 3; round++) {
+      tape.reverseSweep(sum(tape, multiply(tape, x, x)));
+      tape.clear();
+    }
+    expect(x.gradient![0]).toBe(3 * 6);
+    resetGradients([x]);
+    expect(x.gradient![0]).toBe(0);
+  });
+
+  it('refuses to sweep twice or to sweep from a non-scalar without a gradient', () => {
+    const x = trainable(tensor([1, 2], [2], 'f64'));
+    const tape = new Tape();
+    const y = tanh(tape, x);
+    expect(() => tape.reverseSweep(y)).toThrowError('Shape mismatch at Tape.reverseSweep.output: expected a scalar (one element) when no output gradient is given, received [2]');
+    const s = sum(tape, y);
+    tape.reverseSweep(s);
+    expect(() => tape.reverseSweep(s)).toThrowError(WeftError);
+    expect(() => tanh(tape, x)).toThrowError(/Tape misuse at tanh/);
+  });
+
+  it('refuses to sweep from a tensor that no trainable tensor leads to', () => {
+    const tape = new Tape();
+    const y = sum(tape, tensor([1, 2], [2], 'f64'));
+    expect(() => tape.reverseSweep(y)).toThrowError(/Tape misuse at Tape.reverseSweep.output/);
+  });
+
+  it('records nothing and tracks nothing while recording is off', () => {
+    const x = trainable(tensor([1, 2], [2]));
+    const tape = new Tape({ recording: false });
+    const y = sigmoid(tape, add(tape, x, x));
+    expect(tape.length).toBe(0);
+    expect(y.tracked).toBe(false);
+    expect(y.data[0]).toBeCloseTo(1 / (1 + Math.exp(-2)), 7);
+  });
+
+  it('detaches: no gradient flows through a detached or kept tensor', () => {
+    const x = trainable(tensor([0.3], [1], 'f64'));
+    const tape = new Tape();
+    const h = tanh(tape, x);
+    const stopped = detach(h);
+    const kept = tape.keep(h);
+    const f = add(tape, sum(tape, multiply(tape, h, stopped)), sum(tape, multiply(tape, kept, kept)));
+    tape.reverseSweep(f);
+    // d/dx [tanh(x)·c] with c held constant = c (1 − tanh²x).
+    const t = Math.tanh(0.3);
+    expect(x.gradient![0]).toBeCloseTo(t * (1 - t * t), 15);
+    tape.clear();
+    // The kept copy survives the clear; the tape's own buffers went back to the pool.
+    expect(kept.data[0]).toBe(Math.tanh(0.3));
+  });
+
+  it('keeps state across windows by copying into a tensor it is given', () => {
+    const tape = new Tape();
+    const state = tensor([0, 0], [2]);
+    const x = trainable(tensor([0.1, 0.2], [2]));
+    for (let window = 0; window < 3; window++) {
+      const next = tanh(tape, add(tape, x, state));
+      tape.keep(next, state);
+      tape.clear();
+    }
+    const expected = [0.1, 0.2].map((v) => {
+      let s = 0;
+      for (let i = 0; i < 3; i++) s = Math.fround(Math.tanh(Math.fround(Math.fround(v) + s)));
+      return s;
+    });
+    expect(Array.from(state.data)).toEqual(expected);
+    expect(() => tape.keep(x, tensor([0, 0, 0], [3]))).toThrowError('Shape mismatch at Tape.keep.into: expected [2], received [3]');
+  });
+
+  it('reuses every buffer: 1,000 forward and reverse sweeps of one graph create no typed array after the first', () => {
+    const pool = new BufferPool();
+    const tape = new Tape({ pool });
+    const random = new Random(5);
+    const w = trainable(randomUniform([8, 16], random, -1, 1, 'f32'));
+    const bias = trainable(randomUniform([16], random, -1, 1, 'f32'));
+    const x = randomUniform([4, 8], random, -1, 1, 'f32');
+    const step = (): void => {
+      const h = tanh(tape, add(tape, matmul(tape, x, w), bias));
+      tape.reverseSweep(sum(tape, multiply(tape, h, h)));
+      tape.clear();
+    };
+    step();
+    const afterFirst = pool.counts().created;
+    expect(afterFirst).toBeGreaterThan(0);
+    for (let i = 0; i < 1000; i++) step();
+    expect(pool.counts().created).toBe(afterFirst);
+    expect(pool.counts().bytesInUse).toBe(0);
+  });
+});
