@@ -8,6 +8,7 @@ export default defineConfig({
   resolve: {
     alias: {
       '@weft/core': source('./packages/core/src/index.ts'),
+      '@weft/cells': source('./packages/cells/src/index.ts'),
     },
   },
   test: {

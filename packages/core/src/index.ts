@@ -2,7 +2,7 @@
 export type { DType, FloatArray } from './dtype.js';
 export { bytesPerElement, dtypeOf, isDType } from './dtype.js';
 export type { Problem, ProblemCode } from './errors.js';
-export { WeftError, describeProblem, formatShape } from './errors.js';
+export { WeftError, describeProblem, fail, formatShape } from './errors.js';
 export type { Allocate, PoolCounts } from './pool.js';
 export { BufferPool, sharedPool } from './pool.js';
 export type { RandomState } from './random.js';
@@ -30,6 +30,8 @@ export { exp, log, relu, sigmoid, tanh } from './ops/activations.js';
 export { concat, slice } from './ops/concat.js';
 export { mean, sum } from './ops/reduce.js';
 export { gatherRows } from './ops/gather.js';
+export { reshape } from './ops/reshape.js';
+export { dropout } from './ops/dropout.js';
 export type { CrossEntropyOptions } from './ops/losses.js';
 export { meanSquaredError, softmaxCrossEntropy } from './ops/losses.js';
 export type { DirectionalGradientCheck, GradientCheckOptions, GradientReport, TensorGradientCheck } from './gradient-check.js';

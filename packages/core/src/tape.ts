@@ -19,7 +19,10 @@ import { Tensor, sameShape, sizeOfShape } from './tensor.js';
 /** What a node needs to run backward. One static object per operation kind; nodes point at it. */
 export interface OperationKind {
   readonly name: string;
-  /** Adds the gradient of the node's output (`node.output.gradient`) into its tracked inputs' gradients. */
+  /**
+   * Adds the gradient of the node's output (`node.output.gradient`) into its tracked inputs' gradients. Called
+   * only when some output has a gradient; a node with two outputs must allow for either gradient being null.
+   */
   backward(node: TapeNode, tape: Tape): void;
 }
 
@@ -30,12 +33,15 @@ export interface OperationKind {
 export class TapeNode {
   kind: OperationKind | null = null;
   output: Tensor | null = null;
+  /** A second output, for operations that produce two tensors (a cell step's h and c). */
+  secondOutput: Tensor | null = null;
   first: Tensor | null = null;
   second: Tensor | null = null;
   third: Tensor | null = null;
   list: readonly Tensor[] | null = null;
   saved: FloatArray | null = null;
   savedOther: FloatArray | null = null;
+  savedExtra: FloatArray | null = null;
   integers: Int32Array | null = null;
   number0 = 0;
   number1 = 0;
@@ -46,12 +52,14 @@ export class TapeNode {
   reset(): void {
     this.kind = null;
     this.output = null;
+    this.secondOutput = null;
     this.first = null;
     this.second = null;
     this.third = null;
     this.list = null;
     this.saved = null;
     this.savedOther = null;
+    this.savedExtra = null;
     this.integers = null;
     this.number0 = 0;
     this.number1 = 0;
@@ -181,7 +189,8 @@ export class Tape {
     for (let i = this.nodeCount - 1; i >= 0; i--) {
       const node = this.nodes[i];
       const out = node.output as Tensor;
-      if (out.gradient === null) continue;
+      const second = node.secondOutput;
+      if (out.gradient === null && (second === null || second.gradient === null)) continue;
       (node.kind as OperationKind).backward(node, this);
     }
   }

@@ -5,7 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import {
   Random, Tape, add, checkGradients, concat, exp, gatherRows, log, matmul, mean, meanSquaredError, multiply,
-  randomUniform, relu, trainable, scale, sigmoid, slice, softmaxCrossEntropy, subtract, sum, tanh,
+  randomUniform, relu, trainable, reshape, dropout, scale, sigmoid, slice, softmaxCrossEntropy, subtract, sum, tanh,
 } from '@weft/core';
 import type { GradientReport, Tensor } from '@weft/core';
 
@@ -90,6 +90,21 @@ describe('operation gradients (f64 finite differences)', () => {
       const joined = concat(tape, [a, b, c]);
       return weightedSum(tape, slice(tape, joined, 1, 4), w);
     }, [a, b, c], options));
+  });
+
+  it('multiply by a broadcast row, and reshape', () => {
+    const random = new Random('mulrow');
+    const a = input(random, [3, 4], 'a');
+    const row = input(random, [4], 'row');
+    const w = input(random, [2, 6], 'w');
+    expectPass(checkGradients((tape) => weightedSum(tape, reshape(tape, multiply(tape, a, row), [2, 6]), w), [a, row], options));
+  });
+
+  it('dropout, with its seeded mask held fixed across evaluations', () => {
+    const a = input(new Random('drop'), [5, 6], 'a');
+    const w = input(new Random('dropw'), [5, 6], 'w');
+    // A fresh generator with the same seed per evaluation: every evaluation draws the same mask.
+    expectPass(checkGradients((tape) => weightedSum(tape, tanh(tape, dropout(tape, a, 0.4, new Random('mask'))), w), [a], options));
   });
 
   it('sum and mean', () => {

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import {
   BufferPool, Random, Tape, WeftError, add, matmul, multiply, randomUniform, sigmoid, sum, tanh, tensor, trainable,
-  resetGradients, detach,
+  resetGradients, detach, dropout,
 } from '@weft/core';
 
 describe('the tape', () => {
@@ -119,5 +119,20 @@ describe('the tape', () => {
     for (let i = 0; i < 1000; i++) step();
     expect(pool.counts().created).toBe(afterFirst);
     expect(pool.counts().bytesInUse).toBe(0);
+  });
+});
+
+describe('dropout', () => {
+  it('keeps about 1 − rate of the elements, scaled by 1/(1 − rate), and the same seed gives the same mask', () => {
+    const x = tensor(new Float64Array(10000).fill(1), [100, 100], 'f64');
+    const tape = new Tape();
+    const y = dropout(tape, x, 0.25, new Random(9));
+    const kept = y.toArray().filter((v) => v !== 0);
+    expect(kept.every((v) => v === 1 / 0.75)).toBe(true);
+    // Binomial(10000, 0.75): mean 7500, standard deviation ≈ 43; allow 5 deviations (common practice).
+    expect(Math.abs(kept.length - 7500)).toBeLessThan(220);
+    const again = dropout(new Tape(), x, 0.25, new Random(9));
+    expect(again.toArray()).toEqual(y.toArray());
+    expect(() => dropout(tape, x, 1, new Random(1))).toThrowError('Invalid option at dropout.rate: expected a number in [0, 1), received 1');
   });
 });

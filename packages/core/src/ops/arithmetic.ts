@@ -10,6 +10,15 @@ import type { Tensor } from '../tensor.js';
 import { sameShape } from '../tensor.js';
 import { lastAxis, requireSameDType, requireShape } from './checks.js';
 
+/** True when b is a row broadcast over a, false when the shapes are equal; throws otherwise. */
+function rowBroadcast(operation: string, a: Tensor, b: Tensor): boolean {
+  if (sameShape(a.shape, b.shape)) return false;
+  const cols = lastAxis(a);
+  const isRow = a.shape.length >= 1 && b.size === cols && (b.shape.length === 1 || (b.shape.length === 2 && b.shape[0] === 1));
+  if (!isRow) fail('shape_mismatch', `${operation}.b`, `${formatShape(a.shape)} or a row [${cols}]`, formatShape(b.shape));
+  return true;
+}
+
 const addKind: OperationKind = {
   name: 'add',
   backward(node: TapeNode, tape: Tape): void {
@@ -30,14 +39,7 @@ const addKind: OperationKind = {
  */
 export function add(tape: Tape, a: Tensor, b: Tensor): Tensor {
   requireSameDType('add', 'b', b, a.dtype);
-  const broadcast = !sameShape(a.shape, b.shape);
-  if (broadcast) {
-    const cols = lastAxis(a);
-    const isRow = b.size === cols && (b.shape.length === 1 || (b.shape.length === 2 && b.shape[0] === 1));
-    if (!isRow || a.shape.length < 1) {
-      fail('shape_mismatch', 'add.b', `${formatShape(a.shape)} or a row [${cols}]`, formatShape(b.shape));
-    }
-  }
+  const broadcast = rowBroadcast('add', a, b);
   const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
   if (broadcast) addRow(out.data, a.data, b.data, a.size / b.size, b.size);
   else addKernel(out.data, a.data, b.data, a.size);
@@ -73,18 +75,51 @@ const multiplyKind: OperationKind = {
     const a = node.first as Tensor;
     const b = node.second as Tensor;
     const g = (node.output as Tensor).gradient!;
-    if (a.tracked) multiplyInto(tape.gradientOf(a), g, b.data, a.size);
-    if (b.tracked) multiplyInto(tape.gradientOf(b), g, a.data, b.size);
+    if (!node.flag0) {
+      if (a.tracked) multiplyInto(tape.gradientOf(a), g, b.data, a.size);
+      if (b.tracked) multiplyInto(tape.gradientOf(b), g, a.data, b.size);
+      return;
+    }
+    // b is a row broadcast over the rows of a.
+    const cols = b.size;
+    const rows = a.size / cols;
+    if (a.tracked) {
+      const ga = tape.gradientOf(a);
+      for (let r = 0; r < rows; r++) {
+        const base = r * cols;
+        for (let c = 0; c < cols; c++) ga[base + c] += g[base + c] * b.data[c];
+      }
+    }
+    if (b.tracked) {
+      const gb = tape.gradientOf(b);
+      for (let r = 0; r < rows; r++) {
+        const base = r * cols;
+        for (let c = 0; c < cols; c++) gb[c] += g[base + c] * a.data[base + c];
+      }
+    }
   },
 };
 
-/** a ⊙ b, the elementwise product of two tensors of one shape. */
+/**
+ * a ⊙ b, the elementwise product. `b` has the shape of `a`, or is a row of `a`'s last-axis length (shape [n] or
+ * [1, n]) that multiplies every row of `a` (a per-unit scale, such as a peephole weight).
+ */
 export function multiply(tape: Tape, a: Tensor, b: Tensor): Tensor {
   requireSameDType('multiply', 'b', b, a.dtype);
-  requireShape('multiply', 'b', b, a.shape);
+  const broadcast = rowBroadcast('multiply', a, b);
   const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
-  multiplyKernel(out.data, a.data, b.data, a.size);
-  tape.record(multiplyKind, out, a, b);
+  if (broadcast) {
+    const cols = b.size;
+    const rows = a.size / cols;
+    for (let r = 0; r < rows; r++) {
+      const base = r * cols;
+      for (let c = 0; c < cols; c++) out.data[base + c] = a.data[base + c] * b.data[c];
+    }
+  } else {
+    multiplyKernel(out.data, a.data, b.data, a.size);
+  }
+  const node = tape.record(multiplyKind, out, a, b);
+  if (node !== null) node.flag0 = broadcast;
   return out;
 }
 

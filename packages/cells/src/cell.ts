@@ -1,0 +1,65 @@
+/**
+ * The cell contract. A recurrent cell declares
+ *   - its parameters, by stable names (`input`, `recurrent`, `bias`, …), each a trainable tensor;
+ *   - its state: one or more vectors per batch row, each with a name and a width (`h`, or `h` and `c`);
+ *   - a step: (input batch [B, inputSize], state) → (output [B, outputSize], new state), written with core
+ *     operations on the tape it is given, so that its gradients come from the tape.
+ * Nothing else is needed to run a cell of your own in every sequence layer (stacked, bidirectional, ragged).
+ *
+ * Built-in cells may also offer a fused path over a whole sequence (`FusedSequence`), which the layers use when
+ * present; it must give the same numbers as `step`.
+ *
+ * Layout of a batch of sequences, everywhere in weft: time-major, [T, B, F] (step, batch row, feature), stored
+ * row-major, so the features of row b at step t start at (t·B + b)·F.
+ */
+import type { DType, Tape, Tensor } from '@weft/core';
+
+export interface StateSlot {
+  /** The slot's name (`h`, `c`). */
+  readonly name: string;
+  /** Its width per batch row. */
+  readonly size: number;
+}
+
+export interface NamedParameter {
+  /** Stable name within the cell (`recurrent`); layers prefix it (`layers.0.forward.recurrent`). */
+  readonly name: string;
+  readonly tensor: Tensor;
+}
+
+export interface CellStep {
+  /** The step's output, [B, outputSize]. */
+  readonly output: Tensor;
+  /** The new state, one tensor [B, size] per slot, in slot order. */
+  readonly state: readonly Tensor[];
+}
+
+export interface RecurrentCell {
+  /** What kind of cell this is (`lstm`, `gru`, `plain`, or your own word). */
+  readonly kind: string;
+  readonly inputSize: number;
+  readonly outputSize: number;
+  readonly dtype: DType;
+  readonly state: readonly StateSlot[];
+  parameters(): readonly NamedParameter[];
+  step(tape: Tape, input: Tensor, state: readonly Tensor[]): CellStep;
+}
+
+export interface SequenceResult {
+  /** Outputs [T, B, outputSize]; zero at steps beyond a row's length. */
+  readonly outputs: Tensor;
+  /** The state after each row's last valid step, one tensor [B, size] per slot. */
+  readonly state: readonly Tensor[];
+}
+
+/** A faster whole-sequence path a cell may offer; layers use it when the cell's mode asks for it. */
+export interface FusedSequence {
+  runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult;
+}
+
+export function hasFusedSequence(cell: RecurrentCell): cell is RecurrentCell & FusedSequence {
+  return typeof (cell as Partial<FusedSequence>).runFused === 'function';
+}
+
+/** How a built-in cell runs: `fused` (one node per step, hand-written backward) or `composed` (core operations). */
+export type CellMode = 'fused' | 'composed';

@@ -1,0 +1,149 @@
+/**
+ * The model description: a plain JSON object from which a model with fresh parameters is built, and which the
+ * weight file carries. Checking collects every problem with its JSON path before throwing.
+ *
+ *   {
+ *     "input":   { "kind": "embedding", "vocabulary": 64, "width": 32 }   (token ids in)
+ *              | { "kind": "values", "width": 3 },                         (numbers in)
+ *     "layers":  [ { "cell": "lstm", "hidden": 128, "bidirectional": false, "peepholes": false, "forgetBias": 1 },
+ *                  { "cell": "gru", "hidden": 64, "resetAfterProduct": true },
+ *                  { "cell": "plain", "hidden": 32, "activation": "relu" } ],
+ *     "dropout": 0.1,                    (between layers, training only; default 0)
+ *     "readout": { "width": 64 }         (an affine map of the last layer's outputs; absent or null for none)
+ *   }
+ */
+import { WeftError } from '@weft/core';
+import type { Problem } from '@weft/core';
+
+export type BuiltInCellKind = 'lstm' | 'gru' | 'plain';
+
+export interface EmbeddingInput {
+  readonly kind: 'embedding';
+  readonly vocabulary: number;
+  readonly width: number;
+}
+
+export interface ValuesInput {
+  readonly kind: 'values';
+  readonly width: number;
+}
+
+export interface LayerDescription {
+  /** `lstm`, `gru`, `plain`, or the kind of a cell registered with the builder. */
+  readonly cell: string;
+  readonly hidden: number;
+  readonly bidirectional?: boolean;
+  /** LSTM only. */
+  readonly peepholes?: boolean;
+  /** LSTM only. */
+  readonly forgetBias?: number;
+  /** GRU only. */
+  readonly resetAfterProduct?: boolean;
+  /** Plain only: `tanh` or `relu`. */
+  readonly activation?: 'tanh' | 'relu';
+}
+
+export interface ReadoutDescription {
+  readonly width: number;
+}
+
+export interface ModelDescription {
+  readonly input: EmbeddingInput | ValuesInput;
+  readonly layers: readonly LayerDescription[];
+  readonly dropout?: number;
+  readonly readout?: ReadoutDescription | null;
+}
+
+const layerKeys: Record<string, readonly string[]> = {
+  lstm: ['cell', 'hidden', 'bidirectional', 'peepholes', 'forgetBias'],
+  gru: ['cell', 'hidden', 'bidirectional', 'resetAfterProduct'],
+  plain: ['cell', 'hidden', 'bidirectional', 'activation'],
+};
+
+function isRecord(value: unknown): value is Record<string, unknown> {
+  return typeof value === 'object' && value !== null && !Array.isArray(value);
+}
+
+function describe(value: unknown): string {
+  if (value === undefined) return 'nothing';
+  if (Array.isArray(value)) return `an array of ${value.length}`;
+  return JSON.stringify(value) ?? String(value);
+}
+
+/**
+ * Every problem with a description, each with its path (`description.layers[1].cell`). `customKinds` are the
+ * cell kinds registered with the builder besides the built-in ones.
+ */
+export function describeProblems(value: unknown, path = 'description', customKinds: readonly string[] = []): Problem[] {
+  const problems: Problem[] = [];
+  const add = (where: string, expected: string, received: unknown): void => {
+    problems.push({ code: 'invalid_option', path: where, expected, received: describe(received) });
+  };
+  const whole = (where: string, v: unknown): void => {
+    if (typeof v !== 'number' || !Number.isInteger(v) || v < 1 || v > 1_000_000) add(where, 'a whole number from 1 to 1000000', v);
+  };
+  if (!isRecord(value)) {
+    add(path, 'an object with input and layers', value);
+    return problems;
+  }
+  for (const key of Object.keys(value)) {
+    if (!['input', 'layers', 'dropout', 'readout'].includes(key)) add(`${path}.${key}`, 'no such field (input, layers, dropout, readout)', value[key]);
+  }
+  const input = value.input;
+  if (!isRecord(input)) {
+    add(`${path}.input`, "an object with kind 'embedding' or 'values'", input);
+  } else if (input.kind === 'embedding') {
+    whole(`${path}.input.vocabulary`, input.vocabulary);
+    whole(`${path}.input.width`, input.width);
+  } else if (input.kind === 'values') {
+    whole(`${path}.input.width`, input.width);
+  } else {
+    add(`${path}.input.kind`, "'embedding' or 'values'", input.kind);
+  }
+  const layers = value.layers;
+  if (!Array.isArray(layers) || layers.length === 0) {
+    add(`${path}.layers`, 'a non-empty array of layers', layers);
+  } else {
+    layers.forEach((layer: unknown, i: number) => {
+      const where = `${path}.layers[${i}]`;
+      if (!isRecord(layer)) {
+        add(where, 'an object with cell and hidden', layer);
+        return;
+      }
+      const kind = layer.cell;
+      const known = typeof kind === 'string' && (kind in layerKeys || customKinds.includes(kind));
+      if (!known) {
+        add(`${where}.cell`, `one of ${[...Object.keys(layerKeys), ...customKinds].map((k) => `'${k}'`).join(', ')}`, kind);
+      }
+      whole(`${where}.hidden`, layer.hidden);
+      if (layer.bidirectional !== undefined && typeof layer.bidirectional !== 'boolean') add(`${where}.bidirectional`, 'true or false', layer.bidirectional);
+      if (typeof kind === 'string' && kind in layerKeys) {
+        for (const key of Object.keys(layer)) {
+          if (!layerKeys[kind].includes(key)) add(`${where}.${key}`, `no such field for a ${kind} layer (${layerKeys[kind].join(', ')})`, layer[key]);
+        }
+      }
+      if (layer.peepholes !== undefined && typeof layer.peepholes !== 'boolean') add(`${where}.peepholes`, 'true or false', layer.peepholes);
+      if (layer.forgetBias !== undefined && (typeof layer.forgetBias !== 'number' || !Number.isFinite(layer.forgetBias))) {
+        add(`${where}.forgetBias`, 'a finite number', layer.forgetBias);
+      }
+      if (layer.resetAfterProduct !== undefined && typeof layer.resetAfterProduct !== 'boolean') add(`${where}.resetAfterProduct`, 'true or false', layer.resetAfterProduct);
+      if (layer.activation !== undefined && layer.activation !== 'tanh' && layer.activation !== 'relu') add(`${where}.activation`, "'tanh' or 'relu'", layer.activation);
+    });
+  }
+  if (value.dropout !== undefined && !(typeof value.dropout === 'number' && value.dropout >= 0 && value.dropout < 1)) {
+    add(`${path}.dropout`, 'a number in [0, 1)', value.dropout);
+  }
+  const readout = value.readout;
+  if (readout !== undefined && readout !== null) {
+    if (!isRecord(readout)) add(`${path}.readout`, 'an object with width, or null', readout);
+    else whole(`${path}.readout.width`, readout.width);
+  }
+  return problems;
+}
+
+/** Returns the description typed, or throws one WeftError listing every problem. */
+export function checkDescription(value: unknown, path = 'description', customKinds: readonly string[] = []): ModelDescription {
+  const problems = describeProblems(value, path, customKinds);
+  if (problems.length > 0) throw new WeftError(problems);
+  return value as ModelDescription;
+}

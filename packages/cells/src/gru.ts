@@ -1,0 +1,193 @@
+/**
+ * The GRU cell (Cho et al. 2014); equations in kernels/gru-step.ts.
+ *
+ * Parameters (gate order z, r, n):
+ *   input [I, 3H], bias [3H] (input-side biases, with the recurrent-side biases of z and r folded in),
+ *   recurrent [H, 2H] (z and r), recurrentCandidate [H, H] (n), and, only with `resetAfterProduct`,
+ *   recurrentCandidateBias [H] (the bias inside the reset: n = tanh(a_n + r ⊙ (h₋·R_n + b_Rn))).
+ * `resetAfterProduct` false (default) applies the reset gate to h₋ before the recurrent product (ONNX
+ * linear_before_reset = 0); true applies it after (ONNX linear_before_reset = 1).
+ * Initialisation: input Glorot-uniform per gate block, each recurrent H×H block orthogonal, biases 0.
+ */
+import { Random, add, kernels, matmul, multiply, sigmoid, slice, subtract, tanh } from '@weft/core';
+import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
+import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
+import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
+import { gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset } from './kernels/gru-step.js';
+import { checkStepArguments, createParameter, projectInputs, requirePositiveWhole, runSteps } from './recurrence.js';
+
+export interface GruOptions {
+  readonly inputSize: number;
+  readonly hiddenSize: number;
+  /** Apply the reset gate after the recurrent product (ONNX linear_before_reset = 1). Default false. */
+  readonly resetAfterProduct?: boolean;
+  readonly dtype?: DType;
+  readonly random?: Random | number | string;
+  readonly mode?: CellMode;
+  readonly name?: string;
+}
+
+export class GruCell implements RecurrentCell, FusedSequence {
+  readonly kind = 'gru';
+  readonly inputSize: number;
+  readonly outputSize: number;
+  readonly dtype: DType;
+  readonly state: readonly StateSlot[];
+  readonly resetAfterProduct: boolean;
+  readonly input: Tensor;
+  readonly bias: Tensor;
+  readonly recurrent: Tensor;
+  readonly recurrentCandidate: Tensor;
+  readonly recurrentCandidateBias: Tensor | null;
+  mode: CellMode;
+  name: string;
+  private readonly stepWeights: readonly Tensor[];
+
+  constructor(options: GruOptions) {
+    const name = options.name ?? 'gru';
+    const inputSize = requirePositiveWhole(options.inputSize, `${name}.inputSize`);
+    const hidden = requirePositiveWhole(options.hiddenSize, `${name}.hiddenSize`);
+    const dtype = options.dtype ?? 'f32';
+    const random = options.random instanceof Random ? options.random : new Random(options.random ?? 0);
+    this.name = name;
+    this.inputSize = inputSize;
+    this.outputSize = hidden;
+    this.dtype = dtype;
+    this.mode = options.mode ?? 'fused';
+    this.resetAfterProduct = options.resetAfterProduct === true;
+    this.state = [{ name: 'h', size: hidden }];
+    this.input = createParameter('input', [inputSize, 3 * hidden], dtype);
+    this.bias = createParameter('bias', [3 * hidden], dtype);
+    this.recurrent = createParameter('recurrent', [hidden, 2 * hidden], dtype);
+    this.recurrentCandidate = createParameter('recurrentCandidate', [hidden, hidden], dtype);
+    this.recurrentCandidateBias = this.resetAfterProduct ? createParameter('recurrentCandidateBias', [hidden], dtype) : null;
+    const bound = glorotBound(inputSize, hidden);
+    for (let gate = 0; gate < 3; gate++) fillUniform(this.input.data, 3 * hidden, inputSize, gate * hidden, hidden, bound, random);
+    fillOrthogonal(this.recurrent.data, 2 * hidden, hidden, 0, random);
+    fillOrthogonal(this.recurrent.data, 2 * hidden, hidden, hidden, random);
+    fillOrthogonal(this.recurrentCandidate.data, hidden, hidden, 0, random);
+    this.stepWeights = this.recurrentCandidateBias === null
+      ? [this.recurrent, this.recurrentCandidate]
+      : [this.recurrent, this.recurrentCandidate, this.recurrentCandidateBias];
+  }
+
+  parameters(): readonly NamedParameter[] {
+    const list: NamedParameter[] = [
+      { name: 'input', tensor: this.input },
+      { name: 'bias', tensor: this.bias },
+      { name: 'recurrent', tensor: this.recurrent },
+      { name: 'recurrentCandidate', tensor: this.recurrentCandidate },
+    ];
+    if (this.recurrentCandidateBias !== null) list.push({ name: 'recurrentCandidateBias', tensor: this.recurrentCandidateBias });
+    return list;
+  }
+
+  step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
+    checkStepArguments(this.name, x, this.inputSize, state, this.state, this.dtype);
+    const size = this.outputSize;
+    const [h] = state;
+    const projected = add(tape, matmul(tape, x, this.input), this.bias);
+    const gates = matmul(tape, h, this.recurrent);
+    const z = sigmoid(tape, add(tape, slice(tape, projected, 0, size), slice(tape, gates, 0, size)));
+    const r = sigmoid(tape, add(tape, slice(tape, projected, size, 2 * size), slice(tape, gates, size, 2 * size)));
+    const candidateInput = slice(tape, projected, 2 * size, 3 * size);
+    const n = this.recurrentCandidateBias === null
+      ? tanh(tape, add(tape, candidateInput, matmul(tape, multiply(tape, r, h), this.recurrentCandidate)))
+      : tanh(tape, add(tape, candidateInput, multiply(tape, r, add(tape, matmul(tape, h, this.recurrentCandidate), this.recurrentCandidateBias))));
+    // h = (1 − z) ⊙ n + z ⊙ h₋ = n + z ⊙ (h₋ − n)
+    const hNext = add(tape, n, multiply(tape, z, subtract(tape, h, n)));
+    return { output: hNext, state: [hNext] };
+  }
+
+  runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult {
+    const projected = projectInputs(tape, inputs, this.input, this.bias);
+    return runSteps(tape, inputs.shape[0], state, lengths, (t, current) => [this.fusedStep(tape, projected, t, current[0], lengths)]);
+  }
+
+  private fusedStep(tape: Tape, projected: Tensor, step: number, hPrevious: Tensor, lengths: Int32Array | null): Tensor {
+    const rows = hPrevious.shape[0];
+    const size = this.outputSize;
+    const dtype = this.dtype;
+    const offset = step * rows * 3 * size;
+    const candidateBias = this.recurrentCandidateBias;
+    const tracked = projected.tracked || hPrevious.tracked || this.recurrent.tracked || this.recurrentCandidate.tracked || (candidateBias?.tracked ?? false);
+    const gates = tape.buffer(dtype, rows * 3 * size);
+    const updateReset = tape.buffer(dtype, rows * 2 * size);
+    kernels.matmul(updateReset, hPrevious.data, this.recurrent.data, rows, size, 2 * size);
+    gruUpdateReset(gates, projected.data, offset, updateReset, rows, size);
+    const candidate = tape.buffer(dtype, rows * size);
+    let resetHidden = null;
+    if (candidateBias === null) {
+      resetHidden = tape.buffer(dtype, rows * size);
+      gruResetHidden(resetHidden, gates, hPrevious.data, rows, size);
+      kernels.matmul(candidate, resetHidden, this.recurrentCandidate.data, rows, size, size);
+    } else {
+      kernels.matmul(candidate, hPrevious.data, this.recurrentCandidate.data, rows, size, size);
+      kernels.addRow(candidate, candidate, candidateBias.data, rows, size);
+    }
+    const h = tape.output([rows, size], dtype, tracked);
+    gruStepFinish(h.data, gates, projected.data, offset, candidate, hPrevious.data, candidateBias !== null, rows, size, lengths, step);
+    const node = tape.record(gruStepKind, h, projected, hPrevious);
+    if (node !== null) {
+      node.list = this.stepWeights;
+      node.saved = gates;
+      node.savedOther = candidate;
+      node.savedExtra = resetHidden;
+      node.integers = lengths;
+      node.number0 = step;
+      node.flag0 = candidateBias !== null;
+    }
+    return h;
+  }
+}
+
+const gruStepKind: OperationKind = {
+  name: 'gruStep',
+  backward(node: TapeNode, tape: Tape): void {
+    const projected = node.first as Tensor;
+    const hPrevious = node.second as Tensor;
+    const h = node.output as Tensor;
+    const [recurrent, recurrentCandidate, candidateBias] = node.list as readonly Tensor[];
+    const resetAfter = node.flag0;
+    const rows = hPrevious.shape[0];
+    const size = h.shape[1];
+    const dtype = h.dtype;
+    const step = node.number0;
+    const lengths = node.integers;
+    const gates = node.saved!;
+    const updateResetGradient = tape.buffer(dtype, rows * 2 * size);
+    const candidateGradient = tape.buffer(dtype, rows * size);
+    const productGradient = tape.buffer(dtype, rows * size);
+    const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
+    gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hPreviousGradient, h.gradient!, gates, node.savedOther!,
+      hPrevious.data, resetAfter, rows, size, lengths, step);
+    if (!resetAfter) {
+      // δ(r ⊙ h₋) = δq · R_nᵀ; δR_n += (r ⊙ h₋)ᵀ · δq
+      const resetHiddenGradient = tape.buffer(dtype, rows * size);
+      kernels.matmul(resetHiddenGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true);
+      gruBackwardReset(updateResetGradient, hPreviousGradient, resetHiddenGradient, gates, hPrevious.data, rows, size, lengths, step);
+      if (recurrentCandidate.tracked) {
+        kernels.matmul(tape.gradientOf(recurrentCandidate), node.savedExtra!, productGradient, size, rows, size, true, false, true);
+      }
+    } else {
+      // q = h₋·R_n + b_Rn: δR_n += h₋ᵀ · δq, δb_Rn += Σ_rows δq, δh₋ += δq · R_nᵀ
+      if (recurrentCandidate.tracked) {
+        kernels.matmul(tape.gradientOf(recurrentCandidate), hPrevious.data, productGradient, size, rows, size, true, false, true);
+      }
+      if (candidateBias.tracked) kernels.sumRows(tape.gradientOf(candidateBias), productGradient, rows, size, true);
+      if (hPreviousGradient !== null) kernels.matmul(hPreviousGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true, true);
+    }
+    if (projected.tracked) {
+      const gp = tape.gradientOf(projected);
+      const offset = step * rows * 3 * size;
+      for (let b = 0; b < rows; b++) {
+        const to = offset + b * 3 * size;
+        for (let k = 0; k < 2 * size; k++) gp[to + k] += updateResetGradient[b * 2 * size + k];
+        for (let j = 0; j < size; j++) gp[to + 2 * size + j] += candidateGradient[b * size + j];
+      }
+    }
+    // δh₋ += δa_zr · R_zrᵀ; δR_zr += h₋ᵀ · δa_zr
+    if (hPreviousGradient !== null) kernels.matmul(hPreviousGradient, updateResetGradient, recurrent.data, rows, 2 * size, size, false, true, true);
+    if (recurrent.tracked) kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, updateResetGradient, size, rows, 2 * size, true, false, true);
+  },
+};

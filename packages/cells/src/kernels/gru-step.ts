@@ -1,0 +1,160 @@
+/**
+ * The elementwise parts of one GRU step (Cho et al. 2014, "Learning phrase representations using RNN
+ * encoder–decoder for statistical machine translation", eqs. 5–8, in the form of the ONNX GRU operator), in our
+ * gate order z (update), r (reset), n (candidate), the same order as ONNX's z, r, h:
+ *
+ *   z = σ(a_z + h₋·R_z),   r = σ(a_r + h₋·R_r),
+ *   reset before the product (default):  n = tanh(a_n + (r ⊙ h₋)·R_n)
+ *   reset after the product:             n = tanh(a_n + r ⊙ (h₋·R_n + b_Rn))
+ *   h = (1 − z) ⊙ n + z ⊙ h₋
+ *
+ * where a = x·W + b is the row's [3H] input projection. The products with R_zr [H, 2H] and R_n [H, H] are the
+ * caller's matmul calls; q below is the recurrent candidate term ((r ⊙ h₋)·R_n, or h₋·R_n + b_Rn).
+ * Rows past their length hold their state.
+ */
+import type { FloatArray } from '@weft/core';
+import { logistic } from './logistic.js';
+
+/** Writes z and r into columns [0, 2H) of `gates` [B, 3H] from the projection row and h₋·R_zr ([B, 2H]). */
+export function gruUpdateReset(
+  gates: FloatArray,
+  projected: FloatArray,
+  projectedOffset: number,
+  recurrentGates: FloatArray,
+  rows: number,
+  size: number,
+): void {
+  for (let b = 0; b < rows; b++) {
+    const gate = b * 3 * size;
+    const source = projectedOffset + gate;
+    const product = b * 2 * size;
+    for (let k = 0; k < 2 * size; k++) gates[gate + k] = logistic(projected[source + k] + recurrentGates[product + k]);
+  }
+}
+
+/** resetHidden = r ⊙ h₋ (the default form's input to R_n). */
+export function gruResetHidden(resetHidden: FloatArray, gates: FloatArray, hiddenPrevious: FloatArray, rows: number, size: number): void {
+  for (let b = 0; b < rows; b++) {
+    for (let j = 0; j < size; j++) resetHidden[b * size + j] = gates[b * 3 * size + size + j] * hiddenPrevious[b * size + j];
+  }
+}
+
+/** Writes n into columns [2H, 3H) of `gates` and the new state h (h₋ for held rows). */
+export function gruStepFinish(
+  hidden: FloatArray,
+  gates: FloatArray,
+  projected: FloatArray,
+  projectedOffset: number,
+  candidate: FloatArray,
+  hiddenPrevious: FloatArray,
+  resetAfter: boolean,
+  rows: number,
+  size: number,
+  lengths: Int32Array | null,
+  step: number,
+): void {
+  for (let b = 0; b < rows; b++) {
+    const row = b * size;
+    if (lengths !== null && step >= lengths[b]) {
+      for (let j = 0; j < size; j++) hidden[row + j] = hiddenPrevious[row + j];
+      continue;
+    }
+    const gate = b * 3 * size;
+    for (let j = 0; j < size; j++) {
+      const z = gates[gate + j];
+      const q = candidate[row + j];
+      const a = projected[projectedOffset + gate + 2 * size + j] + (resetAfter ? gates[gate + size + j] * q : q);
+      const n = Math.tanh(a);
+      gates[gate + 2 * size + j] = n;
+      hidden[row + j] = (1 - z) * n + z * hiddenPrevious[row + j];
+    }
+  }
+}
+
+/**
+ * First half of the reverse step. With δh arriving:
+ *   δn = δh(1 − z), δa_z = δh(h₋ − n)·z(1 − z), δa_n = δn(1 − n²), δh₋ += δh·z;
+ *   reset after: δq = δa_n ⊙ r, δa_r = δa_n·q·r(1 − r);   reset before: δq = δa_n (δa_r follows in gruBackwardReset).
+ * Writes δa_z (and δa_r when reset after, else 0) into `updateResetGradient` [B, 2H], δa_n into
+ * `candidateGradient` [B, H] and δq into `productGradient` [B, H]; held rows get zeros and pass δh to h₋.
+ */
+export function gruBackwardCandidate(
+  updateResetGradient: FloatArray,
+  candidateGradient: FloatArray,
+  productGradient: FloatArray,
+  hiddenPreviousGradient: FloatArray | null,
+  hiddenGradient: FloatArray,
+  gates: FloatArray,
+  candidate: FloatArray,
+  hiddenPrevious: FloatArray,
+  resetAfter: boolean,
+  rows: number,
+  size: number,
+  lengths: Int32Array | null,
+  step: number,
+): void {
+  for (let b = 0; b < rows; b++) {
+    const row = b * size;
+    const pair = b * 2 * size;
+    if (lengths !== null && step >= lengths[b]) {
+      for (let j = 0; j < size; j++) {
+        updateResetGradient[pair + j] = 0;
+        updateResetGradient[pair + size + j] = 0;
+        candidateGradient[row + j] = 0;
+        productGradient[row + j] = 0;
+      }
+      if (hiddenPreviousGradient !== null) {
+        for (let j = 0; j < size; j++) hiddenPreviousGradient[row + j] += hiddenGradient[row + j];
+      }
+      continue;
+    }
+    const gate = b * 3 * size;
+    for (let j = 0; j < size; j++) {
+      const z = gates[gate + j];
+      const r = gates[gate + size + j];
+      const n = gates[gate + 2 * size + j];
+      const dh = hiddenGradient[row + j];
+      const hPrev = hiddenPrevious[row + j];
+      const dan = dh * (1 - z) * (1 - n * n);
+      updateResetGradient[pair + j] = dh * (hPrev - n) * z * (1 - z);
+      candidateGradient[row + j] = dan;
+      if (resetAfter) {
+        productGradient[row + j] = dan * r;
+        updateResetGradient[pair + size + j] = dan * candidate[row + j] * r * (1 - r);
+      } else {
+        productGradient[row + j] = dan;
+        updateResetGradient[pair + size + j] = 0;
+      }
+      if (hiddenPreviousGradient !== null) hiddenPreviousGradient[row + j] += dh * z;
+    }
+  }
+}
+
+/**
+ * Second half, reset-before form only: with δ(r ⊙ h₋) = δq·R_nᵀ computed by the caller,
+ * δa_r = δ(r⊙h₋)·h₋·r(1 − r) and δh₋ += δ(r⊙h₋)·r. Held rows have δq = 0 and are left alone.
+ */
+export function gruBackwardReset(
+  updateResetGradient: FloatArray,
+  hiddenPreviousGradient: FloatArray | null,
+  resetHiddenGradient: FloatArray,
+  gates: FloatArray,
+  hiddenPrevious: FloatArray,
+  rows: number,
+  size: number,
+  lengths: Int32Array | null,
+  step: number,
+): void {
+  for (let b = 0; b < rows; b++) {
+    if (lengths !== null && step >= lengths[b]) continue;
+    const row = b * size;
+    const gate = b * 3 * size;
+    const pair = b * 2 * size;
+    for (let j = 0; j < size; j++) {
+      const r = gates[gate + size + j];
+      const d = resetHiddenGradient[row + j];
+      updateResetGradient[pair + size + j] = d * hiddenPrevious[row + j] * r * (1 - r);
+      if (hiddenPreviousGradient !== null) hiddenPreviousGradient[row + j] += d * r;
+    }
+  }
+}

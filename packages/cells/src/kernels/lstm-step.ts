@@ -1,0 +1,145 @@
+/**
+ * The elementwise part of one LSTM step, forward and backward, for a batch of rows. The matrix products around
+ * it (gate pre-activations, and the recurrent products of the reverse sweep) are core matmul calls made by the
+ * caller. Equations (Gers, Schmidhuber & Cummins 2000, forget gate; Gers & Schmidhuber 2000, peepholes; in the
+ * form of the ONNX LSTM operator, where the output gate's peephole reads the new cell):
+ *
+ *   i = σ(a_i + p_i ⊙ c₋),  f = σ(a_f + p_f ⊙ c₋),  g = tanh(a_g),
+ *   c = f ⊙ c₋ + i ⊙ g,     o = σ(a_o + p_o ⊙ c),    h = o ⊙ tanh(c)
+ *
+ * where a = x·W + h₋·R + b is the [B, 4H] pre-activation in our gate order i, f, g, o. Rows past their length
+ * (step ≥ lengths[b]) hold their state: h = h₋, c = c₋.
+ */
+import type { FloatArray } from '@weft/core';
+import { logistic } from './logistic.js';
+
+/**
+ * On entry `gates` holds the pre-activations a; on exit the activations i, f, g, o (saved for backward).
+ * Writes h and c, and tanh(c) into `tanhCell`. `peephole` is [3H] in the order i, f, o, or null.
+ */
+export function lstmStepForward(
+  hidden: FloatArray,
+  cell: FloatArray,
+  gates: FloatArray,
+  tanhCell: FloatArray,
+  hiddenPrevious: FloatArray,
+  cellPrevious: FloatArray,
+  peephole: FloatArray | null,
+  rows: number,
+  size: number,
+  lengths: Int32Array | null,
+  step: number,
+): void {
+  const width = 4 * size;
+  for (let b = 0; b < rows; b++) {
+    const row = b * size;
+    if (lengths !== null && step >= lengths[b]) {
+      for (let j = 0; j < size; j++) {
+        hidden[row + j] = hiddenPrevious[row + j];
+        cell[row + j] = cellPrevious[row + j];
+      }
+      continue;
+    }
+    const gate = b * width;
+    for (let j = 0; j < size; j++) {
+      const cPrev = cellPrevious[row + j];
+      let ai = gates[gate + j];
+      let af = gates[gate + size + j];
+      let ao = gates[gate + 3 * size + j];
+      if (peephole !== null) {
+        ai += peephole[j] * cPrev;
+        af += peephole[size + j] * cPrev;
+      }
+      const i = logistic(ai);
+      const f = logistic(af);
+      const g = Math.tanh(gates[gate + 2 * size + j]);
+      const c = f * cPrev + i * g;
+      if (peephole !== null) ao += peephole[2 * size + j] * c;
+      const o = logistic(ao);
+      const tc = Math.tanh(c);
+      gates[gate + j] = i;
+      gates[gate + size + j] = f;
+      gates[gate + 2 * size + j] = g;
+      gates[gate + 3 * size + j] = o;
+      cell[row + j] = c;
+      tanhCell[row + j] = tc;
+      hidden[row + j] = o * tc;
+    }
+  }
+}
+
+/**
+ * Writes ∂L/∂a into `gateGradient` [B, 4H] (zero for held rows) and adds into the previous state's gradients
+ * (when not null) and the peephole gradient (when not null). `hiddenGradient` / `cellGradient` are the gradients
+ * arriving at h and c, either may be null (no gradient reached it).
+ *
+ * Derivatives (chain rule on the equations above): with δh, δc arriving,
+ *   δo = δh·tanh(c),        δa_o = δo·o(1−o),
+ *   δc* = δc + δh·o·(1 − tanh²c) + δa_o·p_o,
+ *   δa_i = δc*·g·i(1−i),    δa_f = δc*·c₋·f(1−f),    δa_g = δc*·i·(1 − g²),
+ *   δc₋ = δc*·f + δa_i·p_i + δa_f·p_f,
+ *   δp_i = Σ_b δa_i·c₋,     δp_f = Σ_b δa_f·c₋,     δp_o = Σ_b δa_o·c.
+ * The δh₋ share through R is the caller's matmul.
+ */
+export function lstmStepBackward(
+  gateGradient: FloatArray,
+  hiddenPreviousGradient: FloatArray | null,
+  cellPreviousGradient: FloatArray | null,
+  peepholeGradient: FloatArray | null,
+  hiddenGradient: FloatArray | null,
+  cellGradient: FloatArray | null,
+  gates: FloatArray,
+  tanhCell: FloatArray,
+  cellPrevious: FloatArray,
+  cell: FloatArray,
+  peephole: FloatArray | null,
+  rows: number,
+  size: number,
+  lengths: Int32Array | null,
+  step: number,
+): void {
+  const width = 4 * size;
+  for (let b = 0; b < rows; b++) {
+    const row = b * size;
+    const gate = b * width;
+    if (lengths !== null && step >= lengths[b]) {
+      for (let k = 0; k < width; k++) gateGradient[gate + k] = 0;
+      if (hiddenPreviousGradient !== null && hiddenGradient !== null) {
+        for (let j = 0; j < size; j++) hiddenPreviousGradient[row + j] += hiddenGradient[row + j];
+      }
+      if (cellPreviousGradient !== null && cellGradient !== null) {
+        for (let j = 0; j < size; j++) cellPreviousGradient[row + j] += cellGradient[row + j];
+      }
+      continue;
+    }
+    for (let j = 0; j < size; j++) {
+      const i = gates[gate + j];
+      const f = gates[gate + size + j];
+      const g = gates[gate + 2 * size + j];
+      const o = gates[gate + 3 * size + j];
+      const tc = tanhCell[row + j];
+      const cPrev = cellPrevious[row + j];
+      const dh = hiddenGradient === null ? 0 : hiddenGradient[row + j];
+      const dao = dh * tc * o * (1 - o);
+      let dc = (cellGradient === null ? 0 : cellGradient[row + j]) + dh * o * (1 - tc * tc);
+      if (peephole !== null) dc += dao * peephole[2 * size + j];
+      const dai = dc * g * i * (1 - i);
+      const daf = dc * cPrev * f * (1 - f);
+      const dag = dc * i * (1 - g * g);
+      gateGradient[gate + j] = dai;
+      gateGradient[gate + size + j] = daf;
+      gateGradient[gate + 2 * size + j] = dag;
+      gateGradient[gate + 3 * size + j] = dao;
+      if (cellPreviousGradient !== null) {
+        let dcPrev = dc * f;
+        if (peephole !== null) dcPrev += dai * peephole[j] + daf * peephole[size + j];
+        cellPreviousGradient[row + j] += dcPrev;
+      }
+      if (peepholeGradient !== null) {
+        peepholeGradient[j] += dai * cPrev;
+        peepholeGradient[size + j] += daf * cPrev;
+        peepholeGradient[2 * size + j] += dao * cell[row + j];
+      }
+    }
+  }
+}

@@ -1,0 +1,179 @@
+/**
+ * The LSTM cell with forget gate (Gers, Schmidhuber & Cummins 2000) and optional peepholes (Gers & Schmidhuber
+ * 2000); equations in kernels/lstm-step.ts.
+ *
+ * Parameters (gate order i, f, g, o in every gate-stacked tensor; g is the cell candidate):
+ *   input [I, 4H], recurrent [H, 4H], bias [4H], peephole [3H] (order i, f, o; only with `peepholes`).
+ * Initialisation: input Glorot-uniform per gate block, recurrent orthogonal per H×H block, bias 0 except the
+ * forget block, which starts at `forgetBias` (default 1: Jozefowicz, Zaremba & Sutskever 2015, "An empirical
+ * exploration of recurrent network architectures"), peepholes 0.
+ */
+import { Random, add, fail, kernels, matmul, multiply, sigmoid, slice, tanh } from '@weft/core';
+import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
+import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
+import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
+import { lstmStepBackward, lstmStepForward } from './kernels/lstm-step.js';
+import { addAt, checkStepArguments, copyFrom, createParameter, projectInputs, requirePositiveWhole, runSteps } from './recurrence.js';
+
+export interface LstmOptions {
+  readonly inputSize: number;
+  readonly hiddenSize: number;
+  /** Peephole connections from the cell to the gates. Default false. */
+  readonly peepholes?: boolean;
+  /** Starting value of the forget gate's bias. Default 1. */
+  readonly forgetBias?: number;
+  readonly dtype?: DType;
+  /** Seed or generator for the initial weights. Default seed 0. */
+  readonly random?: Random | number | string;
+  /** `fused` (default) or `composed` (the reference, built from core operations). */
+  readonly mode?: CellMode;
+  /** Name used in messages (`layers[0].forward`). */
+  readonly name?: string;
+}
+
+export class LstmCell implements RecurrentCell, FusedSequence {
+  readonly kind = 'lstm';
+  readonly inputSize: number;
+  readonly outputSize: number;
+  readonly dtype: DType;
+  readonly state: readonly StateSlot[];
+  readonly input: Tensor;
+  readonly recurrent: Tensor;
+  readonly bias: Tensor;
+  readonly peephole: Tensor | null;
+  mode: CellMode;
+  name: string;
+  private readonly stepWeights: readonly Tensor[];
+
+  constructor(options: LstmOptions) {
+    const name = options.name ?? 'lstm';
+    const inputSize = requirePositiveWhole(options.inputSize, `${name}.inputSize`);
+    const hidden = requirePositiveWhole(options.hiddenSize, `${name}.hiddenSize`);
+    const forgetBias = options.forgetBias ?? 1;
+    if (typeof forgetBias !== 'number' || !Number.isFinite(forgetBias)) fail('invalid_option', `${name}.forgetBias`, 'a finite number', String(forgetBias));
+    const dtype = options.dtype ?? 'f32';
+    const random = options.random instanceof Random ? options.random : new Random(options.random ?? 0);
+    this.name = name;
+    this.inputSize = inputSize;
+    this.outputSize = hidden;
+    this.dtype = dtype;
+    this.mode = options.mode ?? 'fused';
+    this.state = [{ name: 'h', size: hidden }, { name: 'c', size: hidden }];
+    this.input = createParameter('input', [inputSize, 4 * hidden], dtype);
+    this.recurrent = createParameter('recurrent', [hidden, 4 * hidden], dtype);
+    this.bias = createParameter('bias', [4 * hidden], dtype);
+    this.peephole = options.peepholes === true ? createParameter('peephole', [3 * hidden], dtype) : null;
+    const bound = glorotBound(inputSize, hidden);
+    for (let gate = 0; gate < 4; gate++) {
+      fillUniform(this.input.data, 4 * hidden, inputSize, gate * hidden, hidden, bound, random);
+      fillOrthogonal(this.recurrent.data, 4 * hidden, hidden, gate * hidden, random);
+    }
+    this.bias.data.fill(forgetBias, hidden, 2 * hidden);
+    this.stepWeights = this.peephole === null ? [this.recurrent] : [this.recurrent, this.peephole];
+  }
+
+  parameters(): readonly NamedParameter[] {
+    const list: NamedParameter[] = [
+      { name: 'input', tensor: this.input },
+      { name: 'recurrent', tensor: this.recurrent },
+      { name: 'bias', tensor: this.bias },
+    ];
+    if (this.peephole !== null) list.push({ name: 'peephole', tensor: this.peephole });
+    return list;
+  }
+
+  /** One step written with core operations: the reference the fused path is proven against. */
+  step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
+    checkStepArguments(this.name, x, this.inputSize, state, this.state, this.dtype);
+    const size = this.outputSize;
+    const [h, c] = state;
+    const pre = add(tape, add(tape, matmul(tape, x, this.input), matmul(tape, h, this.recurrent)), this.bias);
+    let ai = slice(tape, pre, 0, size);
+    let af = slice(tape, pre, size, 2 * size);
+    const ag = slice(tape, pre, 2 * size, 3 * size);
+    let ao = slice(tape, pre, 3 * size, 4 * size);
+    const p = this.peephole;
+    if (p !== null) {
+      ai = add(tape, ai, multiply(tape, c, slice(tape, p, 0, size)));
+      af = add(tape, af, multiply(tape, c, slice(tape, p, size, 2 * size)));
+    }
+    const i = sigmoid(tape, ai);
+    const f = sigmoid(tape, af);
+    const g = tanh(tape, ag);
+    const cNext = add(tape, multiply(tape, f, c), multiply(tape, i, g));
+    if (p !== null) ao = add(tape, ao, multiply(tape, cNext, slice(tape, p, 2 * size, 3 * size)));
+    const o = sigmoid(tape, ao);
+    const hNext = multiply(tape, o, tanh(tape, cNext));
+    return { output: hNext, state: [hNext, cNext] };
+  }
+
+  runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult {
+    const projected = projectInputs(tape, inputs, this.input, this.bias);
+    return runSteps(tape, inputs.shape[0], state, lengths, (t, current) => this.fusedStep(tape, projected, t, current, lengths));
+  }
+
+  private fusedStep(tape: Tape, projected: Tensor, step: number, state: readonly Tensor[], lengths: Int32Array | null): readonly Tensor[] {
+    const [hPrevious, cPrevious] = state;
+    const rows = hPrevious.shape[0];
+    const size = this.outputSize;
+    const width = 4 * size;
+    const tracked = projected.tracked || hPrevious.tracked || cPrevious.tracked || this.recurrent.tracked || (this.peephole?.tracked ?? false);
+    const gates = tape.buffer(this.dtype, rows * width);
+    copyFrom(gates, projected.data, step * rows * width, rows * width);
+    // a = (x·W + b) + h₋·R
+    kernels.matmul(gates, hPrevious.data, this.recurrent.data, rows, size, width, false, false, true);
+    const h = tape.output([rows, size], this.dtype, tracked);
+    const c = tape.output([rows, size], this.dtype, tracked);
+    const tanhCell = tape.buffer(this.dtype, rows * size);
+    lstmStepForward(h.data, c.data, gates, tanhCell, hPrevious.data, cPrevious.data, this.peephole?.data ?? null, rows, size, lengths, step);
+    const node = tape.record(lstmStepKind, h, projected, hPrevious, cPrevious);
+    if (node !== null) {
+      node.secondOutput = c;
+      node.list = this.stepWeights;
+      node.saved = gates;
+      node.savedOther = tanhCell;
+      node.integers = lengths;
+      node.number0 = step;
+    }
+    return [h, c];
+  }
+}
+
+const lstmStepKind: OperationKind = {
+  name: 'lstmStep',
+  backward(node: TapeNode, tape: Tape): void {
+    const projected = node.first as Tensor;
+    const hPrevious = node.second as Tensor;
+    const cPrevious = node.third as Tensor;
+    const h = node.output as Tensor;
+    const c = node.secondOutput as Tensor;
+    const [recurrent, peephole] = node.list as readonly Tensor[];
+    const rows = hPrevious.shape[0];
+    const size = h.shape[1];
+    const width = 4 * size;
+    const step = node.number0;
+    const gateGradient = tape.buffer(h.dtype, rows * width);
+    const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
+    lstmStepBackward(
+      gateGradient,
+      hPreviousGradient,
+      cPrevious.tracked ? tape.gradientOf(cPrevious) : null,
+      peephole !== undefined && peephole.tracked ? tape.gradientOf(peephole) : null,
+      h.gradient,
+      c.gradient,
+      node.saved!,
+      node.savedOther!,
+      cPrevious.data,
+      c.data,
+      peephole === undefined ? null : peephole.data,
+      rows,
+      size,
+      node.integers,
+      step,
+    );
+    if (projected.tracked) addAt(tape.gradientOf(projected), step * rows * width, gateGradient, rows * width);
+    // δh₋ += δa · Rᵀ and δR += h₋ᵀ · δa.
+    if (hPreviousGradient !== null) kernels.matmul(hPreviousGradient, gateGradient, recurrent.data, rows, width, size, false, true, true);
+    if (recurrent.tracked) kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, gateGradient, size, rows, width, true, false, true);
+  },
+};

@@ -1,0 +1,247 @@
+/**
+ * A model built from a description (description.ts): an input stage (an embedding table for token ids, or
+ * numbers as they are), a stack of recurrent layers (each one direction or both, with dropout between layers in
+ * training), and an optional affine readout. Parameters have stable names:
+ *
+ *   embedding.table                        [vocabulary, width]
+ *   layers.<i>.forward.<name>              the forward cell's parameters (`input`, `recurrent`, `bias`, …)
+ *   layers.<i>.backward.<name>             the backward cell's, for a bidirectional layer
+ *   readout.weights [features, width], readout.bias [width]
+ *
+ * Initialisation draws from one seeded generator in this order: embedding, layers (forward cell, then backward
+ * cell), readout. Embedding entries are N(0, 1/width); readout weights Glorot-uniform, readout bias 0.
+ */
+import { Random, WeftError, add, dropout, fail, formatShape, gatherRows, matmul, randomNormal, reshape, trainable } from '@weft/core';
+import type { DType, Tape, Tensor } from '@weft/core';
+import type { CellMode, NamedParameter, RecurrentCell, StateSlot } from './cell.js';
+import type { LayerDescription, ModelDescription } from './description.js';
+import { checkDescription } from './description.js';
+import { GruCell } from './gru.js';
+import { fillUniform, glorotBound } from './init.js';
+import { checkLengths, runBidirectional, runSequence } from './layer.js';
+import { LstmCell } from './lstm.js';
+import { PlainCell } from './plain.js';
+import { createParameter } from './recurrence.js';
+
+/** What a registered cell maker receives. */
+export interface CellRequest {
+  readonly layer: LayerDescription;
+  readonly inputSize: number;
+  readonly hiddenSize: number;
+  readonly dtype: DType;
+  readonly random: Random;
+  readonly name: string;
+}
+
+export type CellMaker = (request: CellRequest) => RecurrentCell;
+
+export interface BuildOptions {
+  /** Seed for the initial parameters. Default 0. */
+  readonly seed?: number | string;
+  readonly dtype?: DType;
+  /** How built-in cells run. Default `fused`. */
+  readonly mode?: CellMode;
+  /** Cells of your own, by the kind named in `layers[i].cell`. */
+  readonly cells?: Readonly<Record<string, CellMaker>>;
+}
+
+/** Token ids in time-major order: tokens[t·batch + b]. */
+export interface TokenBatch {
+  readonly tokens: Int32Array;
+  readonly steps: number;
+  readonly batch: number;
+}
+
+export interface ModelRunOptions {
+  readonly lengths?: Int32Array | readonly number[] | null;
+  /** The model's state slots in `stateSlots()` order; absent means zeros. */
+  readonly initialState?: readonly Tensor[];
+  /** Training applies dropout between layers, drawing masks from `random`. Default false. */
+  readonly training?: boolean;
+  readonly random?: Random;
+}
+
+export interface ModelRunResult {
+  /** [T, B, readout width] (or the last layer's features when there is no readout). */
+  readonly outputs: Tensor;
+  /** The final state, in `stateSlots()` order. */
+  readonly state: readonly Tensor[];
+}
+
+export interface ModelLayer {
+  readonly forward: RecurrentCell;
+  readonly backward: RecurrentCell | null;
+}
+
+export interface ModelStateSlot extends StateSlot {
+  /** Path of the slot: `layers.0.forward.h`. */
+  readonly path: string;
+}
+
+export class SequenceModel {
+  readonly description: ModelDescription;
+  readonly dtype: DType;
+  readonly embedding: Tensor | null;
+  readonly layers: readonly ModelLayer[];
+  readonly readoutWeights: Tensor | null;
+  readonly readoutBias: Tensor | null;
+  /** Width of each step's output. */
+  readonly outputSize: number;
+
+  constructor(description: unknown, options: BuildOptions = {}) {
+    const custom = options.cells ?? {};
+    const checked = checkDescription(description, 'description', Object.keys(custom));
+    const dtype = options.dtype ?? 'f32';
+    const random = new Random(options.seed ?? 0);
+    const mode = options.mode ?? 'fused';
+    this.description = JSON.parse(JSON.stringify(checked)) as ModelDescription;
+    this.dtype = dtype;
+    const input = checked.input;
+    if (input.kind === 'embedding') {
+      const table = randomNormal([input.vocabulary, input.width], random, 0, 1 / Math.sqrt(input.width), dtype);
+      this.embedding = trainable(table, 'embedding.table');
+    } else {
+      this.embedding = null;
+    }
+    let width = input.width;
+    const layers: ModelLayer[] = [];
+    checked.layers.forEach((layer, i) => {
+      const make = (direction: string): RecurrentCell => {
+        const name = `layers[${i}].${direction}`;
+        const request: CellRequest = { layer, inputSize: width, hiddenSize: layer.hidden, dtype, random, name };
+        const cell = makeCell(request, custom, mode);
+        if (cell.inputSize !== width || cell.dtype !== dtype) {
+          fail('invalid_option', `${name}`, `a cell with inputSize ${width} and dtype ${dtype}`, `inputSize ${cell.inputSize}, dtype ${cell.dtype}`);
+        }
+        for (const p of cell.parameters()) p.tensor.name = `layers.${i}.${direction}.${p.name}`;
+        return cell;
+      };
+      const forward = make('forward');
+      const backward = layer.bidirectional === true ? make('backward') : null;
+      layers.push({ forward, backward });
+      width = forward.outputSize + (backward?.outputSize ?? 0);
+    });
+    this.layers = layers;
+    const readout = checked.readout;
+    if (readout !== undefined && readout !== null) {
+      this.readoutWeights = createParameter('readout.weights', [width, readout.width], dtype);
+      fillUniform(this.readoutWeights.data, readout.width, width, 0, readout.width, glorotBound(width, readout.width), random);
+      this.readoutBias = createParameter('readout.bias', [readout.width], dtype);
+      this.outputSize = readout.width;
+    } else {
+      this.readoutWeights = null;
+      this.readoutBias = null;
+      this.outputSize = width;
+    }
+  }
+
+  /** Every parameter by its stable name, in a fixed order. */
+  parameters(): NamedParameter[] {
+    const list: NamedParameter[] = [];
+    if (this.embedding !== null) list.push({ name: 'embedding.table', tensor: this.embedding });
+    this.layers.forEach((layer, i) => {
+      for (const [direction, cell] of [['forward', layer.forward], ['backward', layer.backward]] as const) {
+        if (cell === null) continue;
+        for (const p of cell.parameters()) list.push({ name: `layers.${i}.${direction}.${p.name}`, tensor: p.tensor });
+      }
+    });
+    if (this.readoutWeights !== null && this.readoutBias !== null) {
+      list.push({ name: 'readout.weights', tensor: this.readoutWeights }, { name: 'readout.bias', tensor: this.readoutBias });
+    }
+    return list;
+  }
+
+  /** The state slots of the whole model, in the order `run` takes and returns them. */
+  stateSlots(): ModelStateSlot[] {
+    const slots: ModelStateSlot[] = [];
+    this.layers.forEach((layer, i) => {
+      for (const [direction, cell] of [['forward', layer.forward], ['backward', layer.backward]] as const) {
+        if (cell === null) continue;
+        for (const slot of cell.state) slots.push({ ...slot, path: `layers.${i}.${direction}.${slot.name}` });
+      }
+    });
+    return slots;
+  }
+
+  /** Runs the model over a batch: numbers [T, B, width] for a values input, token ids for an embedding input. */
+  run(tape: Tape, input: Tensor | TokenBatch, options: ModelRunOptions = {}): ModelRunResult {
+    let features = this.inputFeatures(tape, input);
+    const [steps, rows] = features.shape;
+    const lengths = checkLengths('model', options.lengths, steps, rows);
+    const slots = this.stateSlots();
+    const given = options.initialState;
+    if (given !== undefined && given.length !== slots.length) {
+      fail('invalid_argument', 'model.initialState', `${slots.length} tensors (${slots.map((s) => s.path).join(', ')})`, `${given.length}`);
+    }
+    const training = options.training === true;
+    const rate = this.description.dropout ?? 0;
+    if (training && rate > 0 && options.random === undefined) {
+      fail('invalid_option', 'model.run.random', 'a seeded Random when training with dropout', 'nothing');
+    }
+    const state: Tensor[] = [];
+    let offset = 0;
+    this.layers.forEach((layer, i) => {
+      if (i > 0 && training && rate > 0) features = dropout(tape, features, rate, options.random as Random);
+      const count = layer.forward.state.length + (layer.backward?.state.length ?? 0);
+      const initialState = given?.slice(offset, offset + count);
+      offset += count;
+      const where = `layers[${i}]`;
+      const result = layer.backward === null
+        ? runSequence(tape, layer.forward, features, { lengths, initialState }, where)
+        : runBidirectional(tape, layer.forward, layer.backward, features, { lengths, initialState }, where);
+      features = result.outputs;
+      state.push(...result.state);
+    });
+    if (this.readoutWeights === null || this.readoutBias === null) return { outputs: features, state };
+    const width = features.shape[2];
+    const flat = reshape(tape, features, [steps * rows, width]);
+    const mapped = add(tape, matmul(tape, flat, this.readoutWeights), this.readoutBias);
+    return { outputs: reshape(tape, mapped, [steps, rows, this.outputSize]), state };
+  }
+
+  private inputFeatures(tape: Tape, input: Tensor | TokenBatch): Tensor {
+    const described = this.description.input;
+    if (described.kind === 'embedding') {
+      if (!('tokens' in input)) fail('invalid_argument', 'model.input', 'token ids ({ tokens, steps, batch }) for an embedding input', `a tensor ${formatShape((input as Tensor).shape)}`);
+      const { tokens, steps, batch } = input;
+      if (!Number.isInteger(steps) || !Number.isInteger(batch) || steps < 1 || batch < 1 || tokens.length !== steps * batch) {
+        fail('shape_mismatch', 'model.input.tokens', `steps × batch = ${steps} × ${batch} ids`, `${tokens.length}`);
+      }
+      for (let i = 0; i < tokens.length; i++) {
+        if (tokens[i] < 0 || tokens[i] >= described.vocabulary) {
+          fail('invalid_argument', `model.input.tokens[${i}]`, `an id in [0, ${described.vocabulary})`, String(tokens[i]));
+        }
+      }
+      const rows = gatherRows(tape, this.embedding as Tensor, tokens);
+      return reshape(tape, rows, [steps, batch, described.width]);
+    }
+    if ('tokens' in input) fail('invalid_argument', 'model.input', `numbers [steps, batch, ${described.width}] for a values input`, 'token ids');
+    if (input.shape.length !== 3 || input.shape[2] !== described.width) {
+      fail('shape_mismatch', 'model.input', `[steps, batch, ${described.width}]`, formatShape(input.shape));
+    }
+    if (input.dtype !== this.dtype) fail('dtype_mismatch', 'model.input', this.dtype, input.dtype);
+    return input;
+  }
+}
+
+function makeCell(request: CellRequest, custom: Readonly<Record<string, CellMaker>>, mode: CellMode): RecurrentCell {
+  const { layer, inputSize, hiddenSize, dtype, random, name } = request;
+  switch (layer.cell) {
+    case 'lstm':
+      return new LstmCell({ inputSize, hiddenSize, dtype, random, name, mode, peepholes: layer.peepholes, forgetBias: layer.forgetBias });
+    case 'gru':
+      return new GruCell({ inputSize, hiddenSize, dtype, random, name, mode, resetAfterProduct: layer.resetAfterProduct });
+    case 'plain':
+      return new PlainCell({ inputSize, hiddenSize, dtype, random, name, mode, activation: layer.activation });
+    default: {
+      const maker = custom[layer.cell];
+      if (maker === undefined) throw new WeftError({ code: 'invalid_option', path: `${name}.cell`, expected: 'a known cell kind', received: layer.cell });
+      return maker(request);
+    }
+  }
+}
+
+/** Builds a model with freshly initialised parameters from a description. */
+export function buildModel(description: unknown, options: BuildOptions = {}): SequenceModel {
+  return new SequenceModel(description, options);
+}

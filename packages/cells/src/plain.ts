@@ -1,0 +1,122 @@
+/**
+ * The plain recurrent cell, h = φ(x·W + h₋·R + b) (Elman 1990), with φ = tanh (default) or ReLU. The ReLU form
+ * starts its recurrent matrix at the identity and its bias at 0 (Le, Jaitly & Hinton 2015); the tanh form starts
+ * it orthogonal (Saxe et al. 2014). Input weights are Glorot-uniform.
+ *
+ * Parameters: input [I, H], recurrent [H, H], bias [H].
+ */
+import { Random, add, fail, kernels, matmul, relu, tanh } from '@weft/core';
+import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
+import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
+import { fillIdentity, fillOrthogonal, fillUniform, glorotBound } from './init.js';
+import { plainStepBackward, plainStepForward } from './kernels/plain-step.js';
+import { addAt, checkStepArguments, copyFrom, createParameter, projectInputs, requirePositiveWhole, runSteps } from './recurrence.js';
+
+export type PlainActivation = 'tanh' | 'relu';
+
+export interface PlainOptions {
+  readonly inputSize: number;
+  readonly hiddenSize: number;
+  /** `tanh` (default) or `relu`. */
+  readonly activation?: PlainActivation;
+  readonly dtype?: DType;
+  readonly random?: Random | number | string;
+  readonly mode?: CellMode;
+  readonly name?: string;
+}
+
+export class PlainCell implements RecurrentCell, FusedSequence {
+  readonly kind = 'plain';
+  readonly inputSize: number;
+  readonly outputSize: number;
+  readonly dtype: DType;
+  readonly state: readonly StateSlot[];
+  readonly activation: PlainActivation;
+  readonly input: Tensor;
+  readonly recurrent: Tensor;
+  readonly bias: Tensor;
+  mode: CellMode;
+  name: string;
+  private readonly stepWeights: readonly Tensor[];
+
+  constructor(options: PlainOptions) {
+    const name = options.name ?? 'plain';
+    const inputSize = requirePositiveWhole(options.inputSize, `${name}.inputSize`);
+    const hidden = requirePositiveWhole(options.hiddenSize, `${name}.hiddenSize`);
+    const activation = options.activation ?? 'tanh';
+    if (activation !== 'tanh' && activation !== 'relu') fail('invalid_option', `${name}.activation`, "'tanh' or 'relu'", JSON.stringify(activation));
+    const dtype = options.dtype ?? 'f32';
+    const random = options.random instanceof Random ? options.random : new Random(options.random ?? 0);
+    this.name = name;
+    this.inputSize = inputSize;
+    this.outputSize = hidden;
+    this.dtype = dtype;
+    this.mode = options.mode ?? 'fused';
+    this.activation = activation;
+    this.state = [{ name: 'h', size: hidden }];
+    this.input = createParameter('input', [inputSize, hidden], dtype);
+    this.recurrent = createParameter('recurrent', [hidden, hidden], dtype);
+    this.bias = createParameter('bias', [hidden], dtype);
+    fillUniform(this.input.data, hidden, inputSize, 0, hidden, glorotBound(inputSize, hidden), random);
+    if (activation === 'relu') fillIdentity(this.recurrent.data, hidden, hidden, 0);
+    else fillOrthogonal(this.recurrent.data, hidden, hidden, 0, random);
+    this.stepWeights = [this.recurrent];
+  }
+
+  parameters(): readonly NamedParameter[] {
+    return [
+      { name: 'input', tensor: this.input },
+      { name: 'recurrent', tensor: this.recurrent },
+      { name: 'bias', tensor: this.bias },
+    ];
+  }
+
+  step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
+    checkStepArguments(this.name, x, this.inputSize, state, this.state, this.dtype);
+    const pre = add(tape, add(tape, matmul(tape, x, this.input), matmul(tape, state[0], this.recurrent)), this.bias);
+    const h = this.activation === 'relu' ? relu(tape, pre) : tanh(tape, pre);
+    return { output: h, state: [h] };
+  }
+
+  runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult {
+    const projected = projectInputs(tape, inputs, this.input, this.bias);
+    return runSteps(tape, inputs.shape[0], state, lengths, (t, current) => [this.fusedStep(tape, projected, t, current[0], lengths)]);
+  }
+
+  private fusedStep(tape: Tape, projected: Tensor, step: number, hPrevious: Tensor, lengths: Int32Array | null): Tensor {
+    const rows = hPrevious.shape[0];
+    const size = this.outputSize;
+    const tracked = projected.tracked || hPrevious.tracked || this.recurrent.tracked;
+    const h = tape.output([rows, size], this.dtype, tracked);
+    copyFrom(h.data, projected.data, step * rows * size, rows * size);
+    kernels.matmul(h.data, hPrevious.data, this.recurrent.data, rows, size, size, false, false, true);
+    plainStepForward(h.data, hPrevious.data, this.activation === 'relu', rows, size, lengths, step);
+    const node = tape.record(plainStepKind, h, projected, hPrevious);
+    if (node !== null) {
+      node.list = this.stepWeights;
+      node.integers = lengths;
+      node.number0 = step;
+      node.flag0 = this.activation === 'relu';
+    }
+    return h;
+  }
+}
+
+const plainStepKind: OperationKind = {
+  name: 'plainStep',
+  backward(node: TapeNode, tape: Tape): void {
+    const projected = node.first as Tensor;
+    const hPrevious = node.second as Tensor;
+    const h = node.output as Tensor;
+    const [recurrent] = node.list as readonly Tensor[];
+    const rows = hPrevious.shape[0];
+    const size = h.shape[1];
+    const step = node.number0;
+    const preGradient = tape.buffer(h.dtype, rows * size);
+    const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
+    plainStepBackward(preGradient, hPreviousGradient, h.gradient!, h.data, node.flag0, rows, size, node.integers, step);
+    if (projected.tracked) addAt(tape.gradientOf(projected), step * rows * size, preGradient, rows * size);
+    if (hPreviousGradient !== null) kernels.matmul(hPreviousGradient, preGradient, recurrent.data, rows, size, size, false, true, true);
+    if (recurrent.tracked) kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, preGradient, size, rows, size, true, false, true);
+  },
+};

@@ -1,0 +1,83 @@
+/**
+ * What the three built-in cells share: parameter creation, the checks at a cell's boundary, and the fused
+ * whole-sequence path. The fused path projects every step's input at once (one [T·B, I] × [I, G·H] product plus
+ * the bias, common practice for recurrent layers), then runs one fused tape node per step, each reading its
+ * step's rows of the projection.
+ */
+import { WeftError, add, fail, formatShape, matmul, reshape, trainable, zeros } from '@weft/core';
+import type { DType, FloatArray, Tape, Tensor } from '@weft/core';
+import type { SequenceResult } from './cell.js';
+import { stackSteps } from './sequence-ops.js';
+
+export function createParameter(name: string, shape: readonly number[], dtype: DType): Tensor {
+  return trainable(zeros(shape, dtype), name);
+}
+
+export function requirePositiveWhole(value: unknown, path: string): number {
+  if (typeof value !== 'number' || !Number.isInteger(value) || value < 1) {
+    fail('invalid_option', path, 'a whole number ≥ 1', JSON.stringify(value));
+  }
+  return value;
+}
+
+/** Checks a step's input [B, inputSize] and state tensors [B, size] at the cell's boundary. */
+export function checkStepArguments(
+  where: string,
+  input: Tensor,
+  inputSize: number,
+  state: readonly Tensor[],
+  slots: readonly { name: string; size: number }[],
+  dtype: DType,
+): void {
+  if (input.shape.length !== 2 || input.shape[1] !== inputSize) {
+    throw new WeftError({ code: 'shape_mismatch', path: `${where}.input`, expected: `[batch, ${inputSize}]`, received: formatShape(input.shape) });
+  }
+  if (input.dtype !== dtype) throw new WeftError({ code: 'dtype_mismatch', path: `${where}.input`, expected: dtype, received: input.dtype });
+  const rows = input.shape[0];
+  if (state.length !== slots.length) {
+    throw new WeftError({ code: 'invalid_argument', path: `${where}.state`, expected: `${slots.length} tensors (${slots.map((s) => s.name).join(', ')})`, received: `${state.length}` });
+  }
+  slots.forEach((slot, i) => {
+    const t = state[i];
+    if (t.shape.length !== 2 || t.shape[0] !== rows || t.shape[1] !== slot.size) {
+      throw new WeftError({ code: 'shape_mismatch', path: `${where}.state.${slot.name}`, expected: formatShape([rows, slot.size]), received: formatShape(t.shape) });
+    }
+    if (t.dtype !== dtype) throw new WeftError({ code: 'dtype_mismatch', path: `${where}.state.${slot.name}`, expected: dtype, received: t.dtype });
+  });
+}
+
+/** The input projection of a whole sequence: [T, B, I] → [T·B, G] = x·W + b. */
+export function projectInputs(tape: Tape, inputs: Tensor, weights: Tensor, bias: Tensor): Tensor {
+  const [steps, rows, width] = inputs.shape;
+  return add(tape, matmul(tape, reshape(tape, inputs, [steps * rows, width]), weights), bias);
+}
+
+/**
+ * Runs `step` for every time step and stacks the outputs (state slot 0 is the output); `step` returns the new
+ * state.
+ */
+export function runSteps(
+  tape: Tape,
+  steps: number,
+  state: readonly Tensor[],
+  lengths: Int32Array | null,
+  step: (t: number, state: readonly Tensor[]) => readonly Tensor[],
+): SequenceResult {
+  const outputs: Tensor[] = [];
+  let current = state;
+  for (let t = 0; t < steps; t++) {
+    current = step(t, current);
+    outputs.push(current[0]);
+  }
+  return { outputs: stackSteps(tape, outputs, lengths), state: current };
+}
+
+/** target[offset + i] += source[i] for i < length (no subarray views, so nothing is allocated). */
+export function addAt(target: FloatArray, offset: number, source: FloatArray, length: number): void {
+  for (let i = 0; i < length; i++) target[offset + i] += source[i];
+}
+
+/** target[i] = source[offset + i] for i < length. */
+export function copyFrom(target: FloatArray, source: FloatArray, offset: number, length: number): void {
+  for (let i = 0; i < length; i++) target[i] = source[offset + i];
+}

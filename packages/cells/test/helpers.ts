@@ -1,0 +1,66 @@
+/** Shared builders for the cells tests. */
+import { Random, Tape, add, multiply, randomUniform, sum } from '@weft/core';
+import type { Tensor } from '@weft/core';
+import { GruCell, LstmCell, PlainCell } from '@weft/cells';
+import type { CellMode, RecurrentCell } from '@weft/cells';
+
+export type CellCase = { label: string; make: (mode: CellMode, inputSize: number, hiddenSize: number, seed: number) => RecurrentCell };
+
+export const cellCases: CellCase[] = [
+  { label: 'LSTM', make: (mode, inputSize, hiddenSize, seed) => new LstmCell({ inputSize, hiddenSize, dtype: 'f64', random: seed, mode }) },
+  {
+    label: 'LSTM with peepholes',
+    make: (mode, inputSize, hiddenSize, seed) => {
+      const cell = new LstmCell({ inputSize, hiddenSize, dtype: 'f64', random: seed, mode, peepholes: true });
+      // Peepholes start at zero; give them values so their gradients are exercised.
+      const random = new Random(seed + 100);
+      for (let i = 0; i < cell.peephole!.size; i++) cell.peephole!.data[i] = random.between(-0.5, 0.5);
+      return cell;
+    },
+  },
+  { label: 'GRU (reset before the product)', make: (mode, inputSize, hiddenSize, seed) => new GruCell({ inputSize, hiddenSize, dtype: 'f64', random: seed, mode }) },
+  {
+    label: 'GRU (reset after the product)',
+    make: (mode, inputSize, hiddenSize, seed) => {
+      const cell = new GruCell({ inputSize, hiddenSize, dtype: 'f64', random: seed, mode, resetAfterProduct: true });
+      const random = new Random(seed + 200);
+      for (let i = 0; i < hiddenSize; i++) cell.recurrentCandidateBias!.data[i] = random.between(-0.5, 0.5);
+      return cell;
+    },
+  },
+  { label: 'plain tanh', make: (mode, inputSize, hiddenSize, seed) => new PlainCell({ inputSize, hiddenSize, dtype: 'f64', random: seed, mode }) },
+  {
+    label: 'plain ReLU',
+    make: (mode, inputSize, hiddenSize, seed) => {
+      const cell = new PlainCell({ inputSize, hiddenSize, dtype: 'f64', random: seed, mode, activation: 'relu' });
+      // Move the recurrent matrix off the identity so the recurrence is not trivial.
+      const random = new Random(seed + 300);
+      for (let i = 0; i < cell.recurrent.size; i++) cell.recurrent.data[i] += random.between(-0.2, 0.2);
+      for (let i = 0; i < cell.bias.size; i++) cell.bias.data[i] = random.between(0.05, 0.3);
+      return cell;
+    },
+  },
+];
+
+/** Give every bias entry a random value so no gradient path is hidden by zeros. */
+export function shakeBiases(cell: RecurrentCell, seed: number): void {
+  const random = new Random(seed);
+  for (const p of cell.parameters()) {
+    if (p.name === 'bias') for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
+  }
+}
+
+export function f64Input(random: Random, shape: number[], name: string, low = -1, high = 1): Tensor {
+  const t = randomUniform(shape, random, low, high, 'f64');
+  t.name = name;
+  return t;
+}
+
+/** Σ w ⊙ t: a scalar that reads every entry with its own weight. */
+export function weighted(tape: Tape, t: Tensor, w: Tensor): Tensor {
+  return sum(tape, multiply(tape, t, w));
+}
+
+export function plus(tape: Tape, a: Tensor, b: Tensor): Tensor {
+  return add(tape, a, b);
+}

@@ -1,0 +1,27 @@
+/**
+ * Reshape: the same elements in the same row-major order under another shape of equal size. The output shares
+ * the input's buffer (no copy); backward adds the output's gradient into the input's, element for element.
+ */
+import { fail, formatShape } from '../errors.js';
+import { addInto } from '../kernels/elementwise.js';
+import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import { Tensor, sizeOfShape } from '../tensor.js';
+
+const kind: OperationKind = {
+  name: 'reshape',
+  backward(node: TapeNode, tape: Tape): void {
+    const a = node.first as Tensor;
+    addInto(tape.gradientOf(a), (node.output as Tensor).gradient!, a.size);
+  },
+};
+
+export function reshape(tape: Tape, a: Tensor, shape: readonly number[]): Tensor {
+  const size = sizeOfShape(shape, 'reshape.shape');
+  if (size !== a.size) {
+    fail('shape_mismatch', 'reshape.shape', `a shape of ${a.size} elements (from ${formatShape(a.shape)})`, `${formatShape(shape)} of ${size}`);
+  }
+  const out = new Tensor(a.data, shape.slice());
+  out.tracked = a.tracked && tape.recording;
+  tape.record(kind, out, a);
+  return out;
+}
