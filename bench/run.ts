@@ -8,8 +8,9 @@ import { dirname, resolve } from 'node:path';
 import type { BenchCase, BenchResult, Derived } from './harness.js';
 import { measure } from './harness.js';
 import * as matmul from './matmul.bench.js';
+import * as window from './window.bench.js';
 
-const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul];
+const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window];
 
 function option(name: string, fallback: string): string {
   const index = process.argv.indexOf(`--${name}`);
@@ -38,11 +39,12 @@ for (const module of modules) {
     results[item.id] = result;
     console.log(`${item.id.padEnd(48)} ${String(result.value).padStart(10)} ${result.unit}  ±${result.marginPercent}%`);
   }
-  if (module.derived !== undefined) {
-    for (const [id, result] of Object.entries(module.derived(results))) {
-      results[id] = result;
-      console.log(`${id.padEnd(48)} ${String(result.value).padStart(10)} ${result.unit}`);
-    }
+}
+for (const module of modules) {
+  if (module.derived === undefined) continue;
+  for (const [id, result] of Object.entries(module.derived(results))) {
+    results[id] = result;
+    console.log(`${id.padEnd(48)} ${String(result.value).padStart(10)} ${result.unit}`);
   }
 }
 
