@@ -9,6 +9,7 @@ export default defineConfig({
     alias: {
       '@weft/core': source('./packages/core/src/index.ts'),
       '@weft/cells': source('./packages/cells/src/index.ts'),
+      '@weft/optim': source('./packages/optim/src/index.ts'),
     },
   },
   test: {

@@ -8,9 +8,10 @@ import { dirname, resolve } from 'node:path';
 import type { BenchCase, BenchResult, Derived } from './harness.js';
 import { measure } from './harness.js';
 import * as matmul from './matmul.bench.js';
+import * as train from './train.bench.js';
 import * as window from './window.bench.js';
 
-const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window];
+const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window, train];
 
 function option(name: string, fallback: string): string {
   const index = process.argv.indexOf(`--${name}`);

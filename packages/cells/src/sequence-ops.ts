@@ -166,3 +166,34 @@ export function holdInactiveRows(tape: Tape, next: Tensor, previous: Tensor, len
   }
   return out;
 }
+
+const lastKind: OperationKind = {
+  name: 'lastSteps',
+  backward(node: TapeNode, tape: Tape): void {
+    const sequence = node.first as Tensor;
+    const g = (node.output as Tensor).gradient!;
+    const gs = tape.gradientOf(sequence);
+    const [steps, rows, width] = sequence.shape;
+    const lengths = node.integers;
+    for (let b = 0; b < rows; b++) {
+      const length = lengths === null ? steps : lengths[b];
+      if (length === 0) continue;
+      const at = ((length - 1) * rows + b) * width;
+      for (let j = 0; j < width; j++) gs[at + j] += g[b * width + j];
+    }
+  },
+};
+
+/** Each row's output at its last valid step, [B, F] from [T, B, F] (zeros for a row of length 0). */
+export function lastSteps(tape: Tape, sequence: Tensor, lengths: Int32Array | null): Tensor {
+  const [steps, rows, width] = sequence.shape;
+  const out = tape.output([rows, width], sequence.dtype, sequence.tracked);
+  for (let b = 0; b < rows; b++) {
+    const length = lengths === null ? steps : lengths[b];
+    const at = ((length - 1) * rows + b) * width;
+    for (let j = 0; j < width; j++) out.data[b * width + j] = length === 0 ? 0 : sequence.data[at + j];
+  }
+  const node = tape.record(lastKind, out, sequence);
+  if (node !== null) node.integers = lengths;
+  return out;
+}

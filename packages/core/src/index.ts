@@ -32,7 +32,7 @@ export { mean, sum } from './ops/reduce.js';
 export { gatherRows } from './ops/gather.js';
 export { reshape } from './ops/reshape.js';
 export { dropout } from './ops/dropout.js';
-export type { CrossEntropyOptions } from './ops/losses.js';
+export type { CrossEntropyOptions, SquaredErrorOptions } from './ops/losses.js';
 export { meanSquaredError, softmaxCrossEntropy } from './ops/losses.js';
 export type { DirectionalGradientCheck, GradientCheckOptions, GradientReport, TensorGradientCheck } from './gradient-check.js';
 export { checkGradients } from './gradient-check.js';

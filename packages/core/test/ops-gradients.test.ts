@@ -151,6 +151,20 @@ describe('operation gradients (f64 finite differences)', () => {
     expectPass(checkGradients((tape) => meanSquaredError(tape, tanh(tape, p), y), [p, y], options));
   });
 
+  it('mean squared error with per-row weights (a mask)', () => {
+    const random = new Random('mse-mask');
+    const p = input(random, [4, 3], 'prediction');
+    const y = input(random, [4, 3], 'target');
+    const report = checkGradients((tape) => meanSquaredError(tape, sigmoid(tape, p), y, { weights: [1, 0, 2, 0.5] }), [p, y], options);
+    expectPass(report);
+    // A masked row (weight 0) gets no gradient at all.
+    trainable(p);
+    const tape = new Tape();
+    tape.reverseSweep(meanSquaredError(tape, sigmoid(tape, p), y, { weights: [1, 0, 2, 0.5] }));
+    expect(Array.from(p.gradient!.subarray(3, 6))).toEqual([0, 0, 0]);
+    expect(p.gradient![0]).not.toBe(0);
+  });
+
   it('a parameter used by 12 nodes (one per step of a small recurrence) accumulates every share', () => {
     const random = new Random('shared');
     const recurrent = input(random, [3, 3], 'recurrent', -0.8, 0.8);

@@ -6,14 +6,15 @@
  * otherwise, or any non-negative value) let a masked batch count only its real positions. Backward (common
  * practice): ∂L/∂z_rj = w_r / Σw · (p_rj − [j = t_r]).
  *
- * meanSquaredError: mean over all elements of (p − y)². Backward: ∂L/∂p = 2(p − y)/n, ∂L/∂y = −2(p − y)/n.
+ * meanSquaredError: mean over all elements of (p − y)², optionally weighted per row. Backward: ∂L/∂p = 2w(p − y)/n,
+ * ∂L/∂y = −2w(p − y)/n, n the weighted element count.
  */
 import type { FloatArray } from '../dtype.js';
 import { fail, formatShape } from '../errors.js';
 import { softmaxCrossEntropyRows } from '../kernels/softmax.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
-import { requireRank, requireSameDType, requireShape } from './checks.js';
+import { lastAxis, requireRank, requireSameDType, requireShape } from './checks.js';
 
 const crossEntropyKind: OperationKind = {
   name: 'softmaxCrossEntropy',
@@ -101,30 +102,60 @@ const squaredErrorKind: OperationKind = {
     const prediction = node.first as Tensor;
     const target = node.second as Tensor;
     const factor = (node.output as Tensor).gradient![0] * node.number0;
+    const weights = node.saved;
+    const width = lastAxis(prediction);
     const n = prediction.size;
     const gp = prediction.tracked ? tape.gradientOf(prediction) : null;
     const gt = target.tracked ? tape.gradientOf(target) : null;
     for (let i = 0; i < n; i++) {
-      const d = factor * (prediction.data[i] - target.data[i]);
+      const w = weights === null ? factor : factor * weights[Math.floor(i / width)];
+      const d = w * (prediction.data[i] - target.data[i]);
       if (gp !== null) gp[i] += d;
       if (gt !== null) gt[i] -= d;
     }
   },
 };
 
-/** Mean over all elements of (prediction − target)². */
-export function meanSquaredError(tape: Tape, prediction: Tensor, target: Tensor): Tensor {
+export interface SquaredErrorOptions {
+  /**
+   * One non-negative weight per row (rows = all but the last axis; 0 masks a padded position). The loss is
+   * Σ_r w_r Σ_c (p − y)² / (width · Σ_r w_r).
+   */
+  readonly weights?: FloatArray | readonly number[];
+}
+
+/** Mean over all elements of (prediction − target)², optionally weighted per row. */
+export function meanSquaredError(tape: Tape, prediction: Tensor, target: Tensor, options: SquaredErrorOptions = {}): Tensor {
   requireSameDType('meanSquaredError', 'target', target, prediction.dtype);
   requireShape('meanSquaredError', 'target', target, prediction.shape);
-  let total = 0;
+  const width = lastAxis(prediction);
+  const rows = width === 0 ? 0 : prediction.size / width;
+  let weights: FloatArray | null = null;
+  let count = prediction.size;
+  if (options.weights !== undefined) {
+    const given = options.weights;
+    if (given.length !== rows) fail('shape_mismatch', 'meanSquaredError.weights', `${rows} weights (one per row)`, `${given.length}`);
+    weights = tape.buffer(prediction.dtype, rows);
+    let total = 0;
+    for (let r = 0; r < rows; r++) {
+      const w = given[r];
+      if (!(w >= 0) || !Number.isFinite(w)) fail('invalid_argument', `meanSquaredError.weights[${r}]`, 'a finite number ≥ 0', String(w));
+      weights[r] = w;
+      total += w;
+    }
+    count = total * width;
+  }
+  let sum = 0;
   for (let i = 0; i < prediction.size; i++) {
     const d = prediction.data[i] - target.data[i];
-    total += d * d;
+    sum += weights === null ? d * d : weights[Math.floor(i / width)] * d * d;
   }
-  const n = prediction.size;
   const out = tape.output([1], prediction.dtype, prediction.tracked || target.tracked);
-  out.data[0] = n === 0 ? 0 : total / n;
+  out.data[0] = count === 0 ? 0 : sum / count;
   const node = tape.record(squaredErrorKind, out, prediction, target);
-  if (node !== null) node.number0 = n === 0 ? 0 : 2 / n;
+  if (node !== null) {
+    node.number0 = count === 0 ? 0 : 2 / count;
+    node.saved = weights;
+  }
   return out;
 }

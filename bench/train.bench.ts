@@ -1,0 +1,99 @@
+/**
+ * One training step through the trainer: forward, reverse sweep, clipping by global norm, the finiteness checks
+ * and the Adam update, on a [T, B, 64] input with an affine readout to V classes and softmax cross-entropy at
+ * every position; reported in µs per token (B·T tokens per step). `…update-share` is the time of the update
+ * path alone (clipping, the finiteness checks with their backup copy, and Adam) over the whole step, both from
+ * this run.
+ *
+ * Decision these numbers led to: the update path stays a small share of a step, so the trainer can afford its
+ * safety checks (non-finite gradients and parameters, with an undo copy) on every step.
+ */
+import { Random, randomUniform, tensor } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import type { SequenceModel } from '@weft/cells';
+import { AdamOptimizer, Trainer, clipByGlobalNorm, firstNonFiniteEntry } from '@weft/optim';
+import type { Batch, DataSource } from '@weft/optim';
+import type { BenchCase, BenchResult, Derived } from './harness.js';
+
+interface Shape {
+  readonly cell: 'lstm' | 'gru';
+  readonly batch: number;
+  readonly steps: number;
+  readonly inputs: number;
+  readonly hidden: number;
+  readonly classes: number;
+}
+
+function idOf(s: Shape): string {
+  return `train.${s.cell}.b${s.batch}t${s.steps}i${s.inputs}h${s.hidden}v${s.classes}`;
+}
+
+function setup(shape: Shape): { model: SequenceModel; trainer: Trainer; optimizer: AdamOptimizer } {
+  const random = new Random(`train-${idOf(shape)}`);
+  const model = buildModel({ input: { kind: 'values', width: shape.inputs }, layers: [{ cell: shape.cell, hidden: shape.hidden }], readout: { width: shape.classes } }, { seed: 1 });
+  const batch: Batch = {
+    input: randomUniform([shape.steps, shape.batch, shape.inputs], random, -1, 1, 'f32'),
+    steps: shape.steps,
+    batch: shape.batch,
+    lengths: null,
+    targets: { kind: 'classes', perStep: true, classes: Int32Array.from({ length: shape.steps * shape.batch }, () => random.integer(shape.classes)), weights: null },
+    positions: shape.steps * shape.batch,
+  };
+  // The same batch every step, so the bench measures the step, not data preparation.
+  const data: DataSource = { batchesPerEpoch: 1_000_000, carriesState: false, batch: () => batch };
+  const optimizer = new AdamOptimizer({ rate: 1e-4 });
+  const trainer = new Trainer({ model, data, optimizer, epochs: 1, clipNorm: 1 });
+  return { model, trainer, optimizer };
+}
+
+function stepCase(shape: Shape): BenchCase {
+  return {
+    id: idOf(shape),
+    unit: 'µs/token',
+    setup: () => {
+      const { trainer } = setup(shape);
+      return () => void trainer.step();
+    },
+    value: (hz) => 1e6 / (hz * shape.steps * shape.batch),
+  };
+}
+
+function updateCase(shape: Shape): BenchCase {
+  return {
+    id: `${idOf(shape)}.update-only`,
+    unit: 'µs/token',
+    setup: () => {
+      const { model, trainer, optimizer } = setup(shape);
+      trainer.step(); // gradients in place
+      const parameters = model.parameters().map((p) => p.tensor);
+      const backup = parameters.map((p) => tensor(new Float32Array(p.size), [p.size]));
+      return () => {
+        firstNonFiniteEntry(parameters, 'gradient');
+        clipByGlobalNorm(parameters, 1);
+        for (let i = 0; i < parameters.length; i++) backup[i].data.set(parameters[i].data);
+        optimizer.update(parameters);
+        firstNonFiniteEntry(parameters, 'values');
+      };
+    },
+    value: (hz) => 1e6 / (hz * shape.steps * shape.batch),
+  };
+}
+
+const main: Shape = { cell: 'lstm', batch: 32, steps: 32, inputs: 64, hidden: 128, classes: 64 };
+const shapes: Shape[] = [
+  main,
+  { ...main, cell: 'gru' },
+  { ...main, hidden: 256 },
+  { ...main, cell: 'gru', hidden: 256 },
+  { cell: 'lstm', batch: 1, steps: 64, inputs: 16, hidden: 32, classes: 16 },
+  { cell: 'gru', batch: 1, steps: 64, inputs: 16, hidden: 32, classes: 16 },
+];
+
+export const cases: BenchCase[] = [...shapes.map(stepCase), updateCase(main)];
+
+export const derived: Derived = (results): Record<string, BenchResult> => {
+  const step = results[idOf(main)];
+  const update = results[`${idOf(main)}.update-only`];
+  if (step === undefined || update === undefined) return {};
+  return { [`${idOf(main)}.update-share`]: { value: Number((update.value / step.value).toPrecision(4)), unit: 'ratio' } };
+};

@@ -1,0 +1,68 @@
+/**
+ * Adam (Kingma & Ba 2015, "Adam: a method for stochastic optimization", Algorithm 1), with an optional L2
+ * penalty (added to the gradient) and optional decoupled weight decay (Loshchilov & Hutter 2019, "Decoupled
+ * weight decay regularization", Algorithm 2), kept distinct:
+ *   g ← ∇ + κθ
+ *   m ← β₁m + (1 − β₁)g,   v ← β₂v + (1 − β₂)g²
+ *   m̂ = m / (1 − β₁ᵗ),     v̂ = v / (1 − β₂ᵗ)
+ *   θ ← θ − η_t(α·m̂ / (√v̂ + ε) + λθ)
+ */
+import type { FloatArray } from '@weft/core';
+import { Optimizer, checkFactor, checkRate } from './optimizer.js';
+
+export interface AdamOptions {
+  readonly rate: number;
+  /** β₁, default 0.9. */
+  readonly beta1?: number;
+  /** β₂, default 0.999. */
+  readonly beta2?: number;
+  /** ε, default 1e-8. */
+  readonly epsilon?: number;
+  /** κ: L2 penalty added to the gradient. Default 0. */
+  readonly l2Penalty?: number;
+  /** λ: decoupled weight decay. Default 0. */
+  readonly decoupledDecay?: number;
+}
+
+export class AdamOptimizer extends Optimizer {
+  readonly kind = 'adam';
+  readonly beta1: number;
+  readonly beta2: number;
+  readonly epsilon: number;
+  readonly l2Penalty: number;
+  readonly decoupledDecay: number;
+
+  constructor(options: AdamOptions) {
+    super(options.rate, ['firstMoment', 'secondMoment'], 'adam');
+    this.beta1 = checkFactor(options.beta1 ?? 0.9, 'adam.beta1');
+    this.beta2 = checkFactor(options.beta2 ?? 0.999, 'adam.beta2');
+    this.epsilon = checkRate(options.epsilon ?? 1e-8, 'adam.epsilon');
+    this.l2Penalty = checkRate(options.l2Penalty ?? 0, 'adam.l2Penalty', true);
+    this.decoupledDecay = checkRate(options.decoupledDecay ?? 0, 'adam.decoupledDecay', true);
+  }
+
+  protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number): void {
+    const m = this.slot('firstMoment', index);
+    const v = this.slot('secondMoment', index);
+    const b1 = this.beta1;
+    const b2 = this.beta2;
+    const t = this.steps;
+    const correction1 = 1 - b1 ** t;
+    const correction2 = 1 - b2 ** t;
+    const rate = this.rate * multiplier;
+    const decay = this.decoupledDecay * multiplier;
+    const kappa = this.l2Penalty;
+    const epsilon = this.epsilon;
+    for (let i = 0; i < values.length; i++) {
+      const theta = values[i];
+      const g = gradient[i] + kappa * theta;
+      const mi = b1 * m[i] + (1 - b1) * g;
+      const vi = b2 * v[i] + (1 - b2) * g * g;
+      m[i] = mi;
+      v[i] = vi;
+      const mHat = mi / correction1;
+      const vHat = vi / correction2;
+      values[i] = theta - (rate * (mHat / (Math.sqrt(vHat) + epsilon)) + decay * theta);
+    }
+  }
+}

@@ -1,0 +1,75 @@
+/**
+ * Gradient clipping and the finiteness check, over the gradient buffers of the parameters.
+ *
+ * By global norm (Pascanu, Mikolov & Bengio 2013, "On the difficulty of training recurrent neural networks",
+ * Algorithm 1): with ĝ the concatenation of all gradients, if ‖ĝ‖ ≥ threshold then ĝ ← (threshold / ‖ĝ‖)·ĝ.
+ * By value (common practice): every entry limited to [−limit, limit].
+ */
+import { fail } from '@weft/core';
+import type { Tensor } from '@weft/core';
+
+/** ‖ĝ‖₂ over every parameter's gradient (NaN or Infinity if any entry is not finite). */
+export function gradientNorm(parameters: readonly Tensor[]): number {
+  let total = 0;
+  for (const p of parameters) {
+    const g = p.gradient;
+    if (g === null) continue;
+    for (let i = 0; i < g.length; i++) total += g[i] * g[i];
+  }
+  return Math.sqrt(total);
+}
+
+/** Scales all gradients together so their global norm is at most `threshold`; returns the norm before. */
+export function clipByGlobalNorm(parameters: readonly Tensor[], threshold: number): number {
+  if (!(threshold > 0)) fail('invalid_option', 'clipByGlobalNorm.threshold', 'a number > 0', String(threshold));
+  const norm = gradientNorm(parameters);
+  if (norm >= threshold && Number.isFinite(norm)) {
+    const factor = threshold / norm;
+    for (const p of parameters) {
+      const g = p.gradient;
+      if (g === null) continue;
+      for (let i = 0; i < g.length; i++) g[i] *= factor;
+    }
+  }
+  return norm;
+}
+
+/** Limits every gradient entry to [−limit, limit]; returns how many entries were changed. */
+export function clipByValue(parameters: readonly Tensor[], limit: number): number {
+  if (!(limit > 0)) fail('invalid_option', 'clipByValue.limit', 'a number > 0', String(limit));
+  let changed = 0;
+  for (const p of parameters) {
+    const g = p.gradient;
+    if (g === null) continue;
+    for (let i = 0; i < g.length; i++) {
+      if (g[i] > limit) {
+        g[i] = limit;
+        changed++;
+      } else if (g[i] < -limit) {
+        g[i] = -limit;
+        changed++;
+      }
+    }
+  }
+  return changed;
+}
+
+export interface NonFiniteEntry {
+  /** The parameter's name (or `parameters[i]`). */
+  readonly name: string;
+  readonly offset: number;
+  readonly value: number;
+}
+
+/** The first non-finite entry among the given buffers (`gradient` or `values` of each parameter), or null. */
+export function firstNonFiniteEntry(parameters: readonly Tensor[], which: 'gradient' | 'values'): NonFiniteEntry | null {
+  for (let p = 0; p < parameters.length; p++) {
+    const t = parameters[p];
+    const buffer = which === 'gradient' ? t.gradient : t.data;
+    if (buffer === null) continue;
+    for (let i = 0; i < buffer.length; i++) {
+      if (!Number.isFinite(buffer[i])) return { name: t.name !== '' ? t.name : `parameters[${p}]`, offset: i, value: buffer[i] };
+    }
+  }
+  return null;
+}

@@ -1,0 +1,228 @@
+/**
+ * Training data in the shapes the trainer consumes, as batches in weft's time-major layout. Every source is
+ * deterministic: batch `index` of epoch `epoch` is a pure function of the source, its seed and those two
+ * numbers, so a data cursor { epoch, index } is all a checkpoint needs to resume exactly.
+ *
+ * - `streamBatches`: one long stream, or a corpus cut into B parallel streams (stream b is the b-th contiguous
+ *   slice), read in windows of T steps; consecutive windows continue each stream, so the model's state carries
+ *   across them (detached: truncated backpropagation through time, Williams & Peng 1990). The tail that does not
+ *   fill a whole window is left out of training.
+ * - `sequenceBatches`: independent sequences of different lengths, sorted by length and cut into batches of
+ *   similar lengths (so little padding), padded and masked; the batch order is shuffled each epoch by the seeded
+ *   generator, and the state starts afresh for each batch.
+ */
+import { Random, fail, tensor } from '@weft/core';
+import type { DType, FloatArray, Tensor } from '@weft/core';
+import type { TokenBatch } from '@weft/cells';
+
+/** What the model must predict for a batch. */
+export type BatchTargets =
+  /** A class per step ([T·B], time-major) or per sequence ([B]); weights (1 real, 0 padding) per target. */
+  | { readonly kind: 'classes'; readonly perStep: boolean; readonly classes: Int32Array; readonly weights: Float64Array | null }
+  /** Values per step ([T·B, width]) or per sequence ([B, width]); weights per row. */
+  | { readonly kind: 'values'; readonly perStep: boolean; readonly width: number; readonly values: Tensor; readonly weights: Float64Array | null };
+
+export interface Batch {
+  readonly input: Tensor | TokenBatch;
+  readonly steps: number;
+  readonly batch: number;
+  readonly lengths: Int32Array | null;
+  readonly targets: BatchTargets;
+  /** Real (unpadded) positions, for tokens per second. */
+  readonly positions: number;
+}
+
+export interface DataSource {
+  /** Batches in one epoch. */
+  readonly batchesPerEpoch: number;
+  /** True when the state after one batch is the starting state of the next (streams). */
+  readonly carriesState: boolean;
+  batch(epoch: number, index: number): Batch;
+}
+
+export interface TokenStreamOptions {
+  readonly kind: 'tokens';
+  /** The corpus as token ids; the target at each position is the next id. */
+  readonly tokens: Int32Array;
+  readonly vocabulary: number;
+}
+
+export interface ValueStreamOptions {
+  readonly kind: 'values';
+  /** Row-major [N, features]. */
+  readonly values: FloatArray | readonly number[];
+  readonly features: number;
+  /** Columns to predict (default all). */
+  readonly targetColumns?: readonly number[];
+  /** Predict the value this many steps ahead (default 1). */
+  readonly horizon?: number;
+  readonly dtype?: DType;
+}
+
+export interface StreamOptions {
+  /** Parallel streams B (default 1). */
+  readonly streams?: number;
+  /** Window length T. */
+  readonly window: number;
+}
+
+export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, options: StreamOptions): DataSource {
+  const streams = options.streams ?? 1;
+  const window = options.window;
+  if (!Number.isInteger(streams) || streams < 1) fail('invalid_option', 'stream.streams', 'a whole number ≥ 1', String(streams));
+  if (!Number.isInteger(window) || window < 1) fail('invalid_option', 'stream.window', 'a whole number ≥ 1', String(window));
+  if (data.kind === 'tokens') {
+    const { tokens, vocabulary } = data;
+    for (let i = 0; i < tokens.length; i++) {
+      if (!(tokens[i] >= 0 && tokens[i] < vocabulary)) fail('bad_data', `stream.tokens[${i}]`, `an id in [0, ${vocabulary})`, String(tokens[i]));
+    }
+    // Pairs (input, next): N − 1 of them, split into `streams` contiguous slices.
+    const perStream = Math.floor((tokens.length - 1) / streams);
+    const windows = Math.floor(perStream / window);
+    if (windows < 1) fail('bad_data', 'stream.tokens', `at least ${streams * window + 1} tokens for ${streams} streams of one ${window}-step window`, `${tokens.length}`);
+    return {
+      batchesPerEpoch: windows,
+      carriesState: true,
+      batch(_epoch: number, index: number): Batch {
+        const ids = new Int32Array(window * streams);
+        const classes = new Int32Array(window * streams);
+        for (let t = 0; t < window; t++) {
+          for (let b = 0; b < streams; b++) {
+            const at = b * perStream + index * window + t;
+            ids[t * streams + b] = tokens[at];
+            classes[t * streams + b] = tokens[at + 1];
+          }
+        }
+        return {
+          input: { tokens: ids, steps: window, batch: streams },
+          steps: window,
+          batch: streams,
+          lengths: null,
+          targets: { kind: 'classes', perStep: true, classes, weights: null },
+          positions: window * streams,
+        };
+      },
+    };
+  }
+  const { values, features } = data;
+  const horizon = data.horizon ?? 1;
+  const columns = data.targetColumns ?? Array.from({ length: features }, (_, i) => i);
+  const dtype = data.dtype ?? 'f32';
+  if (!Number.isInteger(features) || features < 1) fail('invalid_option', 'stream.features', 'a whole number ≥ 1', String(features));
+  if (values.length % features !== 0) fail('bad_data', 'stream.values', `a multiple of ${features} values (rows × features)`, `${values.length}`);
+  if (!Number.isInteger(horizon) || horizon < 1) fail('invalid_option', 'stream.horizon', 'a whole number ≥ 1', String(horizon));
+  columns.forEach((c, i) => {
+    if (!Number.isInteger(c) || c < 0 || c >= features) fail('invalid_option', `stream.targetColumns[${i}]`, `a column in [0, ${features})`, String(c));
+  });
+  for (let i = 0; i < values.length; i++) {
+    if (!Number.isFinite(values[i])) fail('bad_data', `stream.values[${Math.floor(i / features)}][${i % features}]`, 'a finite number', String(values[i]));
+  }
+  const rows = values.length / features;
+  const perStream = Math.floor((rows - horizon) / streams);
+  const windows = Math.floor(perStream / window);
+  if (windows < 1) fail('bad_data', 'stream.values', `at least ${streams * window + horizon} rows`, `${rows}`);
+  const width = columns.length;
+  return {
+    batchesPerEpoch: windows,
+    carriesState: true,
+    batch(_epoch: number, index: number): Batch {
+      const input = new Array<number>(window * streams * features);
+      const target = new Array<number>(window * streams * width);
+      for (let t = 0; t < window; t++) {
+        for (let b = 0; b < streams; b++) {
+          const row = b * perStream + index * window + t;
+          const at = t * streams + b;
+          for (let f = 0; f < features; f++) input[at * features + f] = values[row * features + f];
+          for (let c = 0; c < width; c++) target[at * width + c] = values[(row + horizon) * features + columns[c]];
+        }
+      }
+      return {
+        input: tensor(input, [window, streams, features], dtype),
+        steps: window,
+        batch: streams,
+        lengths: null,
+        targets: { kind: 'values', perStep: true, width, values: tensor(target, [window * streams, width], dtype), weights: null },
+        positions: window * streams,
+      };
+    },
+  };
+}
+
+/** One independent sequence: its inputs (token ids, or [L, features] numbers) and what to predict. */
+export interface LabelledSequence {
+  readonly tokens?: Int32Array | readonly number[];
+  readonly values?: FloatArray | readonly number[];
+  /** A class for the whole sequence. */
+  readonly label?: number;
+  /** Values for the whole sequence. */
+  readonly target?: readonly number[];
+}
+
+export interface SequenceSetOptions {
+  readonly batchSize: number;
+  /** Numbers per step for `values` sequences. */
+  readonly features?: number;
+  readonly seed?: number | string;
+  readonly dtype?: DType;
+}
+
+export function sequenceBatches(sequences: readonly LabelledSequence[], options: SequenceSetOptions): DataSource {
+  const { batchSize } = options;
+  if (!Number.isInteger(batchSize) || batchSize < 1) fail('invalid_option', 'sequences.batchSize', 'a whole number ≥ 1', String(batchSize));
+  if (sequences.length === 0) fail('bad_data', 'sequences', 'at least one sequence', '0');
+  const features = options.features ?? 1;
+  const dtype = options.dtype ?? 'f32';
+  const usesTokens = sequences[0].tokens !== undefined;
+  const usesLabels = sequences[0].label !== undefined;
+  const targetWidth = usesLabels ? 0 : (sequences[0].target?.length ?? 0);
+  const lengths = sequences.map((s, i) => {
+    const length = usesTokens ? s.tokens?.length : s.values === undefined ? undefined : s.values.length / features;
+    if (length === undefined || !Number.isInteger(length) || length < 1) {
+      fail('bad_data', `sequences[${i}]`, usesTokens ? 'non-empty tokens' : `non-empty values, a multiple of ${features}`, String(length));
+    }
+    if (usesLabels ? !Number.isInteger(s.label) || (s.label as number) < 0 : s.target?.length !== targetWidth || targetWidth === 0) {
+      fail('bad_data', `sequences[${i}]`, usesLabels ? 'a whole-number label ≥ 0' : `a target of ${targetWidth} values`, JSON.stringify(s.label ?? s.target));
+    }
+    return length;
+  });
+  // Sort by length (stable, by index for ties) and cut into batches of neighbours.
+  const order = sequences.map((_, i) => i).sort((a, b) => lengths[a] - lengths[b] || a - b);
+  const groups: number[][] = [];
+  for (let i = 0; i < order.length; i += batchSize) groups.push(order.slice(i, i + batchSize));
+  const seed = options.seed ?? 0;
+  const epochOrder = (epoch: number): number[] => {
+    const shuffled = groups.map((_, i) => i);
+    new Random(`${String(seed)}:epoch:${epoch}`).shuffle(shuffled);
+    return shuffled;
+  };
+  return {
+    batchesPerEpoch: groups.length,
+    carriesState: false,
+    batch(epoch: number, index: number): Batch {
+      const members = groups[epochOrder(epoch)[index]];
+      const rows = members.length;
+      const steps = Math.max(...members.map((m) => lengths[m]));
+      const batchLengths = Int32Array.from(members.map((m) => lengths[m]));
+      let input: Tensor | TokenBatch;
+      if (usesTokens) {
+        const ids = new Int32Array(steps * rows);
+        members.forEach((m, b) => {
+          const tokens = sequences[m].tokens!;
+          for (let t = 0; t < tokens.length; t++) ids[t * rows + b] = tokens[t];
+        });
+        input = { tokens: ids, steps, batch: rows };
+      } else {
+        const flat = new Array<number>(steps * rows * features).fill(0);
+        members.forEach((m, b) => {
+          const v = sequences[m].values!;
+          for (let t = 0; t < lengths[m]; t++) for (let f = 0; f < features; f++) flat[(t * rows + b) * features + f] = v[t * features + f];
+        });
+        input = tensor(flat, [steps, rows, features], dtype);
+      }
+      const targets: BatchTargets = usesLabels
+        ? { kind: 'classes', perStep: false, classes: Int32Array.from(members.map((m) => sequences[m].label as number)), weights: null }
+        : { kind: 'values', perStep: false, width: targetWidth, values: tensor(members.flatMap((m) => [...sequences[m].target!]), [rows, targetWidth], dtype), weights: null };
+      return { input, steps, batch: rows, lengths: batchLengths, targets, positions: batchLengths.reduce((s, l) => s + l, 0) };
+    },
+  };
+}

@@ -1,0 +1,21 @@
+/** @weft/optim: optimisers, clipping, schedules, data batching and the truncated-BPTT trainer. */
+export type { OptimizerState } from './optimizer.js';
+export { Optimizer } from './optimizer.js';
+export type { SgdOptions } from './sgd.js';
+export { SgdOptimizer } from './sgd.js';
+export type { AdamOptions } from './adam.js';
+export { AdamOptimizer } from './adam.js';
+export type { RmsPropOptions } from './rmsprop.js';
+export { RmsPropOptimizer } from './rmsprop.js';
+export type { AdagradOptions } from './adagrad.js';
+export { AdagradOptimizer } from './adagrad.js';
+export type { NonFiniteEntry } from './clipping.js';
+export { clipByGlobalNorm, clipByValue, firstNonFiniteEntry, gradientNorm } from './clipping.js';
+export type { ScheduleDescription } from './schedule.js';
+export { checkSchedule, scheduleFactor } from './schedule.js';
+export type { ClassificationMetrics, RegressionMetrics } from './metrics.js';
+export { classificationMetrics, regressionMetrics } from './metrics.js';
+export type { Batch, BatchTargets, DataSource, LabelledSequence, SequenceSetOptions, StreamOptions, TokenStreamOptions, ValueStreamOptions } from './data.js';
+export { sequenceBatches, streamBatches } from './data.js';
+export type { ProgressEvent, TrainerOptions, TrainingSnapshot, TrainingSummary, ValidationResult } from './trainer.js';
+export { Trainer } from './trainer.js';

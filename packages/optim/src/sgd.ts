@@ -1,0 +1,53 @@
+/**
+ * Stochastic gradient descent with momentum, plain or Nesterov's (common practice; in the form of Sutskever,
+ * Martens, Dahl & Hinton 2013): with g' = g + κθ (the L2 penalty κ, added to the gradient),
+ *   v ← μv + g',   θ ← θ − η_t(α·v + λθ)            (momentum)
+ *   v ← μv + g',   θ ← θ − η_t(α·(g' + μv) + λθ)    (Nesterov)
+ * where λ is the decoupled weight decay (Loshchilov & Hutter 2019). With μ = 0 it is plain SGD.
+ */
+import type { FloatArray } from '@weft/core';
+import { Optimizer, checkFactor, checkRate } from './optimizer.js';
+
+export interface SgdOptions {
+  readonly rate: number;
+  /** μ, default 0. */
+  readonly momentum?: number;
+  /** Nesterov's look-ahead form. Default false. */
+  readonly nesterov?: boolean;
+  /** κ: adds κθ to the gradient. Default 0. */
+  readonly l2Penalty?: number;
+  /** λ: decoupled decay, θ ← θ − η_t·λθ. Default 0. */
+  readonly decoupledDecay?: number;
+}
+
+export class SgdOptimizer extends Optimizer {
+  readonly kind = 'sgd';
+  readonly momentum: number;
+  readonly nesterov: boolean;
+  readonly l2Penalty: number;
+  readonly decoupledDecay: number;
+
+  constructor(options: SgdOptions) {
+    super(options.rate, ['velocity'], 'sgd');
+    this.momentum = checkFactor(options.momentum ?? 0, 'sgd.momentum');
+    this.nesterov = options.nesterov === true;
+    this.l2Penalty = checkRate(options.l2Penalty ?? 0, 'sgd.l2Penalty', true);
+    this.decoupledDecay = checkRate(options.decoupledDecay ?? 0, 'sgd.decoupledDecay', true);
+  }
+
+  protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number): void {
+    const velocity = this.slot('velocity', index);
+    const rate = this.rate * multiplier;
+    const decay = this.decoupledDecay * multiplier;
+    const mu = this.momentum;
+    const kappa = this.l2Penalty;
+    for (let i = 0; i < values.length; i++) {
+      const theta = values[i];
+      const g = gradient[i] + kappa * theta;
+      const v = mu * velocity[i] + g;
+      velocity[i] = v;
+      const direction = this.nesterov ? g + mu * v : v;
+      values[i] = theta - (rate * direction + decay * theta);
+    }
+  }
+}

@@ -1,0 +1,406 @@
+/**
+ * The training loop. Each step: clear the tape, run the model over one batch (with the carried state for
+ * streams), compute the task's loss, sweep, check, clip, update, and carry the detached final state on.
+ *
+ * Safety: a non-finite loss stops training with an error naming the step and the quantity; a non-finite
+ * gradient skips that update and is reported; an update that would leave a non-finite parameter is undone
+ * (values restored from the copy taken just before it) and stops training naming the parameter and entry. So the
+ * weights are always those after the last finite step.
+ *
+ * Reproducibility: every random choice (dropout masks, batch order) comes from seeded generators; `snapshot()`
+ * captures weights, optimiser state, generator state, schedule position, data cursor, carried state and the
+ * early-stopping record, and `restore()` continues bit for bit.
+ */
+import { BufferPool, Random, Tape, WeftError, meanSquaredError, reshape, resetGradients, sharedPool, softmaxCrossEntropy, zeros } from '@weft/core';
+import type { FloatArray, RandomState, Tensor } from '@weft/core';
+import type { SequenceModel } from '@weft/cells';
+import { lastSteps } from '@weft/cells';
+import { clipByGlobalNorm, clipByValue, firstNonFiniteEntry, gradientNorm } from './clipping.js';
+import type { Batch, DataSource } from './data.js';
+import { classificationMetrics, regressionMetrics } from './metrics.js';
+import type { Optimizer, OptimizerState } from './optimizer.js';
+import type { ScheduleDescription } from './schedule.js';
+import { checkSchedule, scheduleFactor } from './schedule.js';
+
+export interface TrainerOptions {
+  readonly model: SequenceModel;
+  readonly data: DataSource;
+  readonly optimizer: Optimizer;
+  readonly epochs: number;
+  readonly validation?: DataSource;
+  readonly schedule?: ScheduleDescription;
+  /** Clip the global gradient norm to this (Pascanu et al. 2013). */
+  readonly clipNorm?: number;
+  /** Clip every gradient entry to ±this. */
+  readonly clipValue?: number;
+  /** Validate every this many steps (and at the end of each epoch). Default: once per epoch. */
+  readonly validateEvery?: number;
+  /** Stop after this many validations without improvement, restoring the best weights. */
+  readonly patience?: number;
+  readonly seed?: number | string;
+  readonly signal?: AbortSignal;
+  readonly onProgress?: (event: ProgressEvent) => void;
+}
+
+export interface ProgressEvent {
+  readonly kind: 'step' | 'validation' | 'skipped' | 'finished';
+  readonly step: number;
+  readonly epoch: number;
+  readonly totalSteps: number;
+  readonly loss: number;
+  readonly gradientNorm: number;
+  readonly learningRate: number;
+  readonly positionsPerSecond: number;
+  readonly secondsLeft: number;
+  readonly validationLoss?: number;
+  /** Accuracy for classes, mean absolute error for values. */
+  readonly validationMetric?: number;
+  readonly validationMetricName?: 'accuracy' | 'meanAbsoluteError';
+  readonly reason?: string;
+}
+
+export interface ValidationResult {
+  readonly loss: number;
+  readonly metric: number;
+  readonly metricName: 'accuracy' | 'meanAbsoluteError';
+  /** e^loss for classes (perplexity), else equal to the loss (mean squared error). */
+  readonly perplexity: number;
+}
+
+export interface TrainingSnapshot {
+  readonly step: number;
+  readonly cursor: { readonly epoch: number; readonly index: number };
+  readonly parameters: Readonly<Record<string, readonly number[]>>;
+  readonly optimizer: OptimizerState;
+  readonly random: RandomState;
+  readonly carried: readonly (readonly number[])[] | null;
+  readonly best: { readonly loss: number; readonly step: number; readonly parameters: Readonly<Record<string, readonly number[]>> | null; readonly stale: number };
+  readonly skipped: number;
+}
+
+export interface TrainingSummary {
+  readonly steps: number;
+  readonly stoppedBy: 'epochs' | 'patience' | 'signal';
+  readonly lastLoss: number;
+  readonly bestValidation: ValidationResult | null;
+  readonly skippedUpdates: number;
+}
+
+export class Trainer {
+  readonly model: SequenceModel;
+  readonly pool = new BufferPool();
+  private readonly options: TrainerOptions;
+  private readonly tape: Tape;
+  private readonly parameters: Tensor[];
+  private readonly backup: FloatArray[];
+  private random: Random;
+  private stepCount = 0;
+  private epoch = 0;
+  private index = 0;
+  private carried: Tensor[] | null = null;
+  private bestLoss = Infinity;
+  private bestStep = -1;
+  private bestParameters: FloatArray[] | null = null;
+  private stale = 0;
+  private skipped = 0;
+  private lastLoss = NaN;
+  private bestValidation: ValidationResult | null = null;
+  private startedAt = 0;
+  private stepsThisRun = 0;
+  private positionsThisRun = 0;
+
+  constructor(options: TrainerOptions) {
+    if (!Number.isInteger(options.epochs) || options.epochs < 1) {
+      throw new WeftError({ code: 'invalid_option', path: 'trainer.epochs', expected: 'a whole number ≥ 1', received: String(options.epochs) });
+    }
+    if (options.schedule !== undefined) checkSchedule(options.schedule);
+    for (const [name, value] of [['clipNorm', options.clipNorm], ['clipValue', options.clipValue], ['validateEvery', options.validateEvery], ['patience', options.patience]] as const) {
+      if (value !== undefined && !(value > 0)) throw new WeftError({ code: 'invalid_option', path: `trainer.${name}`, expected: 'a number > 0', received: String(value) });
+    }
+    this.options = options;
+    this.model = options.model;
+    this.tape = new Tape({ pool: this.pool });
+    this.parameters = options.model.parameters().map((p) => p.tensor);
+    this.backup = this.parameters.map((p) => sharedPool.take(p.dtype, p.size));
+    this.random = new Random(options.seed ?? 0);
+  }
+
+  get totalSteps(): number {
+    return this.options.epochs * this.options.data.batchesPerEpoch;
+  }
+
+  get stepsTaken(): number {
+    return this.stepCount;
+  }
+
+  get finished(): boolean {
+    return this.epoch >= this.options.epochs;
+  }
+
+  /** One training step on the next batch; returns the loss. Throws on a non-finite loss or parameter. */
+  step(): number {
+    const { data, optimizer } = this.options;
+    const batch = data.batch(this.epoch, this.index);
+    if (data.carriesState && this.index === 0) this.carried = null;
+    this.tape.clear();
+    resetGradients(this.parameters);
+    const result = this.model.run(this.tape, batch.input, {
+      lengths: batch.lengths,
+      initialState: data.carriesState && this.carried !== null ? this.carried : undefined,
+      training: true,
+      random: this.random,
+    });
+    const loss = taskLoss(this.tape, result.outputs, batch);
+    const value = loss.data[0];
+    const stepNumber = this.stepCount + 1;
+    if (!Number.isFinite(value)) {
+      this.tape.clear();
+      throw new WeftError({ code: 'not_finite', path: `training step ${stepNumber}: loss`, expected: 'a finite value', received: String(value), detail: 'the weights are those after the last finite step' });
+    }
+    this.tape.reverseSweep(loss);
+    const multiplier = this.options.schedule === undefined ? 1 : scheduleFactor(this.options.schedule, this.stepCount);
+    const badGradient = firstNonFiniteEntry(this.parameters, 'gradient');
+    let norm = NaN;
+    if (badGradient !== null) {
+      this.skipped++;
+      this.emit('skipped', value, NaN, multiplier, `non-finite gradient of ${badGradient.name}[${badGradient.offset}] = ${badGradient.value}; update skipped`);
+    } else {
+      norm = this.options.clipNorm !== undefined ? clipByGlobalNorm(this.parameters, this.options.clipNorm) : gradientNorm(this.parameters);
+      if (this.options.clipValue !== undefined) clipByValue(this.parameters, this.options.clipValue);
+      for (let i = 0; i < this.parameters.length; i++) this.backup[i].set(this.parameters[i].data);
+      optimizer.update(this.parameters, multiplier);
+      const badValue = firstNonFiniteEntry(this.parameters, 'values');
+      if (badValue !== null) {
+        for (let i = 0; i < this.parameters.length; i++) this.parameters[i].data.set(this.backup[i]);
+        this.tape.clear();
+        throw new WeftError({
+          code: 'not_finite',
+          path: `training step ${stepNumber}: parameter ${badValue.name}[${badValue.offset}]`,
+          expected: 'a finite value after the update',
+          received: String(badValue.value),
+          detail: 'the update was undone; the weights are those after the last finite step',
+        });
+      }
+    }
+    if (data.carriesState) {
+      if (this.carried === null) this.carried = result.state.map((s) => this.tape.keep(s));
+      else result.state.forEach((s, i) => this.tape.keep(s, (this.carried as Tensor[])[i]));
+    }
+    this.tape.clear();
+    this.stepCount = stepNumber;
+    this.lastLoss = value;
+    this.index++;
+    if (this.index >= data.batchesPerEpoch) {
+      this.index = 0;
+      this.epoch++;
+    }
+    this.stepsThisRun++;
+    this.positionsThisRun += batch.positions;
+    this.emit('step', value, norm, multiplier);
+    return value;
+  }
+
+  /** Loss and metric over a whole data source, without recording (state carried across stream windows). */
+  validate(source: DataSource = this.requireValidation()): ValidationResult {
+    const tape = new Tape({ pool: this.pool, recording: false });
+    let carried: Tensor[] | null = null;
+    let lossSum = 0;
+    let metricSum = 0;
+    let count = 0;
+    let kind: 'classes' | 'values' = 'classes';
+    for (let i = 0; i < source.batchesPerEpoch; i++) {
+      const batch = source.batch(0, i);
+      const result = this.model.run(tape, batch.input, { lengths: batch.lengths, initialState: source.carriesState && carried !== null ? carried : undefined });
+      const { rows, outputs, weights } = taskRows(tape, result.outputs, batch);
+      const targets = batch.targets;
+      if (targets.kind === 'classes') {
+        const m = classificationMetrics(outputs.data, targets.classes, weights, rows, outputs.shape[1]);
+        lossSum += m.crossEntropy * m.count;
+        metricSum += m.accuracy * m.count;
+        count += m.count;
+      } else {
+        kind = 'values';
+        const m = regressionMetrics(outputs.data, targets.values.data, weights, rows, targets.width);
+        lossSum += m.meanSquaredError * m.count;
+        metricSum += m.meanAbsoluteError * m.count;
+        count += m.count;
+      }
+      if (source.carriesState) {
+        const kept: Tensor[] = result.state.map((s, k) => (carried === null ? tape.keep(s) : tape.keep(s, (carried as Tensor[])[k])));
+        carried = kept;
+      }
+      tape.clear();
+    }
+    const loss = count > 0 ? lossSum / count : 0;
+    return {
+      loss,
+      metric: count > 0 ? metricSum / count : 0,
+      metricName: kind === 'classes' ? 'accuracy' : 'meanAbsoluteError',
+      perplexity: kind === 'classes' ? Math.exp(loss) : loss,
+    };
+  }
+
+  /** Trains until the epochs are done, patience runs out, or the signal aborts; yields to the event loop now and then. */
+  async run(): Promise<TrainingSummary> {
+    const { signal, validation, validateEvery, patience } = this.options;
+    this.startedAt = now();
+    this.stepsThisRun = 0;
+    this.positionsThisRun = 0;
+    let lastYield = now();
+    let stoppedBy: TrainingSummary['stoppedBy'] = 'epochs';
+    while (!this.finished) {
+      if (signal?.aborted === true) {
+        stoppedBy = 'signal';
+        break;
+      }
+      const epochBefore = this.epoch;
+      this.step();
+      const due = validation !== undefined && ((validateEvery !== undefined && this.stepCount % validateEvery === 0) || this.epoch !== epochBefore);
+      if (due) {
+        const result = this.validate();
+        this.emit('validation', this.lastLoss, NaN, 1, undefined, result);
+        if (result.loss < this.bestLoss) {
+          this.bestLoss = result.loss;
+          this.bestStep = this.stepCount;
+          this.bestValidation = result;
+          this.bestParameters ??= this.parameters.map((p) => sharedPool.take(p.dtype, p.size));
+          this.parameters.forEach((p, i) => (this.bestParameters as FloatArray[])[i].set(p.data));
+          this.stale = 0;
+        } else if (patience !== undefined && ++this.stale >= patience) {
+          stoppedBy = 'patience';
+          break;
+        }
+      }
+      if (now() - lastYield > 50) {
+        await new Promise<void>((resolve) => setTimeout(resolve, 0));
+        lastYield = now();
+      }
+    }
+    if (stoppedBy === 'patience' && this.bestParameters !== null) {
+      this.parameters.forEach((p, i) => p.data.set((this.bestParameters as FloatArray[])[i]));
+    }
+    this.emit('finished', this.lastLoss, NaN, 1, stoppedBy);
+    return { steps: this.stepCount, stoppedBy, lastLoss: this.lastLoss, bestValidation: this.bestValidation, skippedUpdates: this.skipped };
+  }
+
+  snapshot(): TrainingSnapshot {
+    const named = (buffers: readonly FloatArray[]): Record<string, number[]> => {
+      const out: Record<string, number[]> = {};
+      this.model.parameters().forEach((p, i) => {
+        out[p.name] = Array.from(buffers[i]);
+      });
+      return out;
+    };
+    return {
+      step: this.stepCount,
+      cursor: { epoch: this.epoch, index: this.index },
+      parameters: named(this.parameters.map((p) => p.data)),
+      optimizer: this.options.optimizer.state(),
+      random: this.random.state(),
+      carried: this.carried === null ? null : this.carried.map((t) => Array.from(t.data)),
+      best: { loss: this.bestLoss, step: this.bestStep, parameters: this.bestParameters === null ? null : named(this.bestParameters), stale: this.stale },
+      skipped: this.skipped,
+    };
+  }
+
+  restore(snapshot: TrainingSnapshot): void {
+    const names = this.model.parameters().map((p) => p.name);
+    const load = (from: Readonly<Record<string, readonly number[]>>, into: readonly FloatArray[], where: string): void => {
+      names.forEach((name, i) => {
+        const values = from[name];
+        if (values === undefined || values.length !== into[i].length) {
+          throw new WeftError({ code: 'shape_mismatch', path: `${where}.${name}`, expected: `${into[i].length} values`, received: values === undefined ? 'nothing' : `${values.length}` });
+        }
+        for (let k = 0; k < values.length; k++) into[i][k] = values[k];
+      });
+    };
+    load(snapshot.parameters, this.parameters.map((p) => p.data), 'snapshot.parameters');
+    this.options.optimizer.restore(snapshot.optimizer, this.parameters);
+    this.random = Random.fromState(snapshot.random);
+    this.stepCount = snapshot.step;
+    this.epoch = snapshot.cursor.epoch;
+    this.index = snapshot.cursor.index;
+    if (snapshot.carried === null) {
+      this.carried = null;
+    } else {
+      const slots = this.model.stateSlots();
+      this.carried = snapshot.carried.map((values, i) => {
+        const t = zeros([values.length / slots[i].size, slots[i].size], this.model.dtype, this.pool);
+        for (let k = 0; k < values.length; k++) t.data[k] = values[k];
+        return t;
+      });
+    }
+    this.bestLoss = snapshot.best.loss ?? Infinity;
+    this.bestStep = snapshot.best.step;
+    this.stale = snapshot.best.stale;
+    if (snapshot.best.parameters === null) {
+      this.bestParameters = null;
+    } else {
+      this.bestParameters = this.parameters.map((p) => sharedPool.take(p.dtype, p.size));
+      load(snapshot.best.parameters, this.bestParameters, 'snapshot.best.parameters');
+    }
+    this.skipped = snapshot.skipped;
+  }
+
+  private requireValidation(): DataSource {
+    if (this.options.validation === undefined) throw new WeftError({ code: 'invalid_option', path: 'trainer.validation', expected: 'a validation data source', received: 'nothing' });
+    return this.options.validation;
+  }
+
+  private emit(kind: ProgressEvent['kind'], loss: number, norm: number, multiplier: number, reason?: string, validation?: ValidationResult): void {
+    const listener = this.options.onProgress;
+    if (listener === undefined) return;
+    const elapsed = (now() - this.startedAt) / 1000;
+    const perStep = this.stepsThisRun > 0 ? elapsed / this.stepsThisRun : 0;
+    listener({
+      kind,
+      step: this.stepCount,
+      epoch: this.epoch,
+      totalSteps: this.totalSteps,
+      loss,
+      gradientNorm: norm,
+      learningRate: this.options.optimizer.rate * multiplier,
+      positionsPerSecond: elapsed > 0 ? this.positionsThisRun / elapsed : 0,
+      secondsLeft: perStep * Math.max(0, this.totalSteps - this.stepCount),
+      validationLoss: validation?.loss,
+      validationMetric: validation?.metric,
+      validationMetricName: validation?.metricName,
+      reason,
+    });
+  }
+}
+
+function now(): number {
+  return typeof performance !== 'undefined' ? performance.now() : Date.now();
+}
+
+/** The rows the loss is taken over: every step for per-step targets, each row's last valid step otherwise. */
+function taskRows(tape: Tape, outputs: Tensor, batch: Batch): { rows: number; outputs: Tensor; weights: Float64Array | null } {
+  const width = outputs.shape[2];
+  const targets = batch.targets;
+  if (targets.perStep) {
+    const rows = batch.steps * batch.batch;
+    let weights = targets.weights;
+    if (weights === null && batch.lengths !== null) {
+      const lengths = batch.lengths;
+      weights = Float64Array.from({ length: rows }, (_, i) => (Math.floor(i / batch.batch) < lengths[i % batch.batch] ? 1 : 0));
+    }
+    return { rows, outputs: reshape(tape, outputs, [rows, width]), weights };
+  }
+  return { rows: batch.batch, outputs: lastSteps(tape, outputs, batch.lengths), weights: targets.weights };
+}
+
+function taskLoss(tape: Tape, outputs: Tensor, batch: Batch): Tensor {
+  const { rows, outputs: picked, weights } = taskRows(tape, outputs, batch);
+  const targets = batch.targets;
+  if (targets.kind === 'classes') {
+    if (targets.classes.length !== rows) {
+      throw new WeftError({ code: 'shape_mismatch', path: 'trainer.batch.targets', expected: `${rows} classes`, received: `${targets.classes.length}` });
+    }
+    return softmaxCrossEntropy(tape, picked, targets.classes, weights === null ? {} : { weights });
+  }
+  if (picked.shape[1] !== targets.width) {
+    throw new WeftError({ code: 'shape_mismatch', path: 'trainer.model.outputs', expected: `${targets.width} values per step (the target width)`, received: `${picked.shape[1]}` });
+  }
+  return meanSquaredError(tape, picked, targets.values, weights === null ? {} : { weights });
+}

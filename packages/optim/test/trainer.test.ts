@@ -1,0 +1,152 @@
+import { describe, expect, it } from 'vitest';
+import { Random, WeftError } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { AdamOptimizer, SgdOptimizer, Trainer, sequenceBatches, streamBatches } from '@weft/optim';
+import type { ProgressEvent, TrainerOptions } from '@weft/optim';
+
+function corpus(length: number, seed: string): Int32Array {
+  // A small invented "language": repeating motifs with random choices, over 6 symbols.
+  const random = new Random(seed);
+  const out = new Int32Array(length);
+  for (let i = 0; i < length; i++) out[i] = i % 3 === 2 ? (out[i - 1] + out[i - 2]) % 6 : random.integer(6);
+  return out;
+}
+
+function textModel(seed = 1) {
+  return buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'gru', hidden: 8 }], dropout: 0, readout: { width: 6 } }, { seed });
+}
+
+function weights(model: ReturnType<typeof textModel>): number[][] {
+  return model.parameters().map((p) => Array.from(p.tensor.data));
+}
+
+describe('the trainer', () => {
+  it('gives bit-identical weights for two runs with one seed', async () => {
+    const make = () => {
+      const model = buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }, { cell: 'gru', hidden: 6 }], dropout: 0.3, readout: { width: 6 } }, { seed: 9 });
+      return new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens: corpus(2000, 'c'), vocabulary: 6 }, { streams: 4, window: 10 }), optimizer: new AdamOptimizer({ rate: 0.01 }), epochs: 1, seed: 5, clipNorm: 1 });
+    };
+    const a = make();
+    const b = make();
+    await a.run();
+    await b.run();
+    expect(weights(b.model)).toEqual(weights(a.model));
+    expect(a.stepsTaken).toBe(49);
+  });
+
+  it('resumes from a snapshot bit-identical to an uninterrupted run (stream with carried state, dropout, schedule)', () => {
+    const options = (model: ReturnType<typeof textModel>): TrainerOptions => ({
+      model,
+      data: streamBatches({ kind: 'tokens', tokens: corpus(3000, 'r'), vocabulary: 6 }, { streams: 3, window: 12 }),
+      optimizer: new AdamOptimizer({ rate: 0.02, decoupledDecay: 0.01 }),
+      schedule: { kind: 'cosine', total: 160, warmup: 5 },
+      epochs: 2,
+      seed: 'resume',
+      clipNorm: 0.5,
+    });
+    const dropoutModel = () => buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }, { cell: 'lstm', hidden: 6 }], dropout: 0.25, readout: { width: 6 } }, { seed: 2 });
+    const whole = new Trainer(options(dropoutModel()));
+    while (!whole.finished) whole.step();
+    const first = new Trainer(options(dropoutModel()));
+    for (let i = 0; i < 100; i++) first.step();
+    const saved = JSON.parse(JSON.stringify(first.snapshot()));
+    const resumed = new Trainer(options(dropoutModel()));
+    resumed.restore(saved);
+    while (!resumed.finished) resumed.step();
+    expect(resumed.stepsTaken).toBe(whole.stepsTaken);
+    expect(weights(resumed.model)).toEqual(weights(whole.model));
+  });
+
+  it('stops a divergent run naming the step and the first non-finite quantity, keeping the last finite weights', () => {
+    // A forecaster of a sine wave with ReLU units and a learning rate far too large: the squared error explodes.
+    const wave = Array.from({ length: 600 }, (_, i) => Math.sin(i / 5));
+    const make = () => {
+      const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 8, activation: 'relu' }], readout: { width: 1 } }, { seed: 3 });
+      return new Trainer({ model, data: streamBatches({ kind: 'values', values: wave, features: 1 }, { streams: 2, window: 8 }), optimizer: new SgdOptimizer({ rate: 50 }), epochs: 5 });
+    };
+    const trainer = make();
+    let error: unknown;
+    try {
+      while (!trainer.finished) trainer.step();
+    } catch (caught) {
+      error = caught;
+    }
+    expect(error).toBeInstanceOf(WeftError);
+    const problem = (error as WeftError).problems[0];
+    expect(problem.code).toBe('not_finite');
+    const failedStep = Number(/^training step (\d+): /.exec(problem.path)?.[1]);
+    expect(failedStep).toBeGreaterThan(1);
+    expect(problem.path).toMatch(/^training step \d+: (loss|parameter [\w.]+\[\d+\])$/);
+    // The same run stopped one step earlier has exactly these weights.
+    const reference = make();
+    for (let i = 1; i < failedStep; i++) reference.step();
+    const values = (t: Trainer) => t.model.parameters().map((p) => Array.from(p.tensor.data));
+    expect(values(trainer)).toEqual(values(reference));
+    console.log(`divergent run: ${(error as WeftError).message}`);
+    for (const row of values(trainer)) expect(row.every(Number.isFinite)).toBe(true);
+  });
+
+  it('stops early with patience and restores the best weights; reports progress', async () => {
+    const events: ProgressEvent[] = [];
+    const model = textModel(4);
+    const trainer = new Trainer({
+      model,
+      data: streamBatches({ kind: 'tokens', tokens: corpus(1500, 'p'), vocabulary: 6 }, { window: 10 }),
+      validation: streamBatches({ kind: 'tokens', tokens: corpus(300, 'v'), vocabulary: 6 }, { window: 10 }),
+      optimizer: new AdamOptimizer({ rate: 0.3 }),
+      epochs: 30,
+      validateEvery: 10,
+      patience: 2,
+      onProgress: (event) => events.push(event),
+    });
+    const summary = await trainer.run();
+    expect(summary.stoppedBy).toBe('patience');
+    const validations = events.filter((e) => e.kind === 'validation');
+    const best = Math.min(...validations.map((e) => e.validationLoss!));
+    expect(summary.bestValidation!.loss).toBe(best);
+    expect(trainer.validate().loss).toBe(best);
+    const step = events.find((e) => e.kind === 'step')!;
+    expect(step.learningRate).toBe(0.3);
+    expect(step.gradientNorm).toBeGreaterThan(0);
+    expect(step.totalSteps).toBe(30 * 149);
+    expect(events.at(-1)!.kind).toBe('finished');
+  });
+
+  it('honours an abort signal between steps', async () => {
+    const controller = new AbortController();
+    let seen = 0;
+    const trainer = new Trainer({
+      model: textModel(5),
+      data: streamBatches({ kind: 'tokens', tokens: corpus(1500, 'a'), vocabulary: 6 }, { window: 10 }),
+      optimizer: new AdamOptimizer({ rate: 0.01 }),
+      epochs: 3,
+      signal: controller.signal,
+      onProgress: (event) => {
+        if (event.kind === 'step' && ++seen === 7) controller.abort();
+      },
+    });
+    const summary = await trainer.run();
+    expect(summary.stoppedBy).toBe('signal');
+    expect(summary.steps).toBe(7);
+  });
+
+  it('trains a sequence classifier on padded, masked, bucketed batches', async () => {
+    // Label: whether the sequence holds more 1s than 0s (invented task).
+    const random = new Random('classify');
+    const sequences = Array.from({ length: 240 }, () => {
+      const length = 3 + random.integer(10);
+      const tokens = Array.from({ length }, () => random.integer(2));
+      return { tokens, label: tokens.filter((t) => t === 1).length * 2 > length ? 1 : 0 };
+    });
+    const model = buildModel({ input: { kind: 'embedding', vocabulary: 2, width: 3 }, layers: [{ cell: 'gru', hidden: 8, bidirectional: true }], readout: { width: 2 } }, { seed: 1 });
+    const data = sequenceBatches(sequences.slice(0, 200), { batchSize: 16, seed: 2 });
+    const validation = sequenceBatches(sequences.slice(200), { batchSize: 40 });
+    const trainer = new Trainer({ model, data, validation, optimizer: new AdamOptimizer({ rate: 0.03 }), epochs: 25 });
+    const before = trainer.validate();
+    await trainer.run();
+    const after = trainer.validate();
+    expect(after.metricName).toBe('accuracy');
+    expect(after.loss).toBeLessThan(before.loss);
+    expect(after.metric).toBeGreaterThan(0.85);
+  });
+});
