@@ -6,11 +6,18 @@ const source = (path: string): string => fileURLToPath(new URL(path, import.meta
 
 export default defineConfig({
   resolve: {
-    alias: {
-      '@weft/core': source('./packages/core/src/index.ts'),
-      '@weft/cells': source('./packages/cells/src/index.ts'),
-      '@weft/optim': source('./packages/optim/src/index.ts'),
-    },
+    // Exact matches, most specific first, so that subpath entries resolve to their own sources.
+    alias: [
+      { find: /^@weft\/core$/, replacement: source('./packages/core/src/index.ts') },
+      { find: /^@weft\/core\/kernels$/, replacement: source('./packages/core/src/kernels/index.ts') },
+      { find: /^@weft\/cells$/, replacement: source('./packages/cells/src/index.ts') },
+      { find: /^@weft\/cells\/kernels$/, replacement: source('./packages/cells/src/kernels/index.ts') },
+      { find: /^@weft\/cells\/description$/, replacement: source('./packages/cells/src/description.ts') },
+      { find: /^@weft\/optim$/, replacement: source('./packages/optim/src/index.ts') },
+      { find: /^@weft\/io$/, replacement: source('./packages/io/src/index.ts') },
+      { find: /^@weft\/io\/runtime$/, replacement: source('./packages/io/src/runtime/index.ts') },
+      { find: /^@weft\/io\/node$/, replacement: source('./packages/io/src/node/index.ts') },
+    ],
   },
   test: {
     include: ['packages/*/test/**/*.test.ts', 'tests/**/*.test.ts'],

@@ -11,12 +11,16 @@ import { describe, expect, it } from 'vitest';
 const root = fileURLToPath(new URL('..', import.meta.url));
 const libraryPackages = ['core', 'cells', 'optim', 'io'];
 
+/** Source files under `folder`, leaving out `node/` folders: the clearly separate Node-only entry points. */
 function sourceFiles(folder: string): string[] {
   const files: string[] = [];
   for (const entry of readdirSync(folder)) {
     const path = join(folder, entry);
-    if (statSync(path).isDirectory()) files.push(...sourceFiles(path));
-    else if (path.endsWith('.ts')) files.push(path);
+    if (statSync(path).isDirectory()) {
+      if (entry !== 'node') files.push(...sourceFiles(path));
+    } else if (path.endsWith('.ts')) {
+      files.push(path);
+    }
   }
   return files;
 }

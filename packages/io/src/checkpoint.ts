@@ -1,0 +1,54 @@
+/**
+ * Checkpoints: a weight file (weights stored f32, so exact for f32 models) carrying the trainer's state in its
+ * `training` field: optimiser state, generator state, schedule position (the step), data cursor, carried stream
+ * state and the early-stopping record. A checkpoint is also a valid weight file for the runtime. Resuming from
+ * one continues bit for bit as if training had not stopped.
+ */
+import { WeftError } from '@weft/core';
+import type { Problem } from '@weft/core';
+import type { SequenceModel } from '@weft/cells';
+import type { Trainer, TrainingSnapshot } from '@weft/optim';
+import { modelTensors } from './model-file.js';
+import type { ReadOptions, WeightFile, WeightMetadata } from './weight-file.js';
+import { readWeightFile, writeWeightFile } from './weight-file.js';
+
+export async function writeCheckpoint(trainer: Trainer, model: SequenceModel, metadata: WeightMetadata = {}): Promise<string> {
+  const { parameters: _parameters, ...training } = trainer.snapshot();
+  void _parameters;
+  return writeWeightFile(model.description, modelTensors(model), { dtype: 'f32', metadata, training });
+}
+
+export interface Checkpoint {
+  readonly file: WeightFile;
+  readonly snapshot: TrainingSnapshot;
+}
+
+function isRecord(value: unknown): value is Record<string, unknown> {
+  return typeof value === 'object' && value !== null && !Array.isArray(value);
+}
+
+export async function readCheckpoint(text: string, options: ReadOptions = {}): Promise<Checkpoint> {
+  const file = await readWeightFile(text, options);
+  const training = file.training;
+  const problems: Problem[] = [];
+  const add = (path: string, expected: string, received: unknown): void => {
+    problems.push({ code: 'bad_weight_file', path: `training.${path}`, expected, received: typeof received === 'object' ? JSON.stringify(received)?.slice(0, 60) ?? 'null' : String(received) });
+  };
+  if (!isRecord(training)) throw new WeftError({ code: 'bad_weight_file', path: 'training', expected: 'the training state of a checkpoint', received: training === undefined ? 'none (a weight file, not a checkpoint)' : typeof training });
+  const whole = (v: unknown) => typeof v === 'number' && Number.isInteger(v) && v >= 0;
+  if (!whole(training.step)) add('step', 'a whole number ≥ 0', training.step);
+  if (!isRecord(training.cursor) || !whole(training.cursor.epoch) || !whole(training.cursor.index)) add('cursor', '{ epoch, index } whole numbers', training.cursor);
+  if (!isRecord(training.optimizer) || typeof training.optimizer.kind !== 'string' || !isRecord(training.optimizer.slots)) add('optimizer', 'an optimiser state { kind, steps, slots }', training.optimizer);
+  if (!isRecord(training.random)) add('random', 'a generator state', training.random);
+  if (training.carried !== null && !(Array.isArray(training.carried) && training.carried.every((row) => Array.isArray(row) && row.every((v) => typeof v === 'number')))) {
+    add('carried', 'null or arrays of numbers', training.carried);
+  }
+  if (!isRecord(training.best)) add('best', 'the early-stopping record', training.best);
+  if (problems.length > 0) throw new WeftError(problems);
+  const parameters: Record<string, number[]> = {};
+  for (const t of file.tensors) parameters[t.name] = Array.from(t.values);
+  const snapshot = { ...(training as unknown as Omit<TrainingSnapshot, 'parameters'>), parameters } as TrainingSnapshot;
+  // JSON has no Infinity: an early-stopping record with no validation yet was written as null.
+  if ((snapshot.best as { loss: number | null }).loss === null) (snapshot.best as { loss: number }).loss = Infinity;
+  return { file, snapshot };
+}

@@ -1,0 +1,36 @@
+/**
+ * Between models and weight files: the tensors of a built model by their stable names, and a model built from a
+ * weight file with every tensor checked against the shape its description implies (all problems collected).
+ */
+import { WeftError } from '@weft/core';
+import type { DType, Problem } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import type { BuildOptions, SequenceModel } from '@weft/cells';
+import type { NamedValues, WeightFile } from './weight-file.js';
+
+export function modelTensors(model: SequenceModel): NamedValues[] {
+  return model.parameters().map((p) => ({ name: p.name, shape: p.tensor.shape, values: p.tensor.data }));
+}
+
+/** A model with the weight file's values (computing in `dtype`, f32 by default). */
+export function loadModel(file: WeightFile, options: { dtype?: DType; cells?: BuildOptions['cells'] } = {}): SequenceModel {
+  const model = buildModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells });
+  const byName = new Map(file.tensors.map((t) => [t.name, t]));
+  const problems: Problem[] = [];
+  for (const p of model.parameters()) {
+    const stored = byName.get(p.name);
+    if (stored === undefined) {
+      problems.push({ code: 'bad_weight_file', path: `tensors (${p.name})`, expected: `a tensor named ${p.name}, shape [${p.tensor.shape.join(', ')}]`, received: 'none' });
+      continue;
+    }
+    byName.delete(p.name);
+    if (stored.shape.join(',') !== p.tensor.shape.join(',')) {
+      problems.push({ code: 'bad_weight_file', path: `tensors (${p.name}).shape`, expected: `[${p.tensor.shape.join(', ')}] (from the model description)`, received: `[${stored.shape.join(', ')}]` });
+      continue;
+    }
+    p.tensor.data.set(stored.values);
+  }
+  for (const name of byName.keys()) problems.push({ code: 'bad_weight_file', path: `tensors (${name})`, expected: 'only tensors the model description names', received: name });
+  if (problems.length > 0) throw new WeftError(problems);
+  return model;
+}

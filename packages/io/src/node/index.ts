@@ -1,0 +1,72 @@
+/**
+ * Node-only entry (`@weft/io/node`): files on disk. Writing is atomic: the text goes to a temporary file in the
+ * same folder, is flushed to the disk, and is renamed over the target, so a reader sees either the old file or
+ * the new one, never a half-written one. Nothing else in weft touches the file system.
+ */
+import { closeSync, fsyncSync, openSync, readFileSync, renameSync, rmSync, writeSync } from 'node:fs';
+import { basename, dirname, join } from 'node:path';
+import { WeftError } from '@weft/core';
+import type { SequenceModel } from '@weft/cells';
+import type { Trainer } from '@weft/optim';
+import { loadModel, modelTensors, readCheckpoint, readWeightFile, writeCheckpoint, writeWeightFile } from '@weft/io';
+import type { Checkpoint, ReadOptions, WeightFile, WeightMetadata, WriteOptions } from '@weft/io';
+
+/** Writes `text` to `path` atomically (temporary file in the same folder, flush, rename). */
+export function writeFileAtomic(path: string, text: string): void {
+  const temporary = join(dirname(path), `.${basename(path)}.${process.pid}.${Date.now()}.tmp`);
+  let descriptor: number | null = null;
+  try {
+    descriptor = openSync(temporary, 'w');
+    writeSync(descriptor, text);
+    fsyncSync(descriptor);
+    closeSync(descriptor);
+    descriptor = null;
+    renameSync(temporary, path);
+  } catch (error) {
+    if (descriptor !== null) closeSync(descriptor);
+    rmSync(temporary, { force: true });
+    throw error;
+  }
+}
+
+/** Reads a text file, turning "no such file" into the library's error with the path. */
+export function readText(path: string): string {
+  try {
+    return readFileSync(path, 'utf8');
+  } catch (error) {
+    const code = (error as NodeJS.ErrnoException).code;
+    throw new WeftError({ code: 'bad_data', path, expected: 'a readable file', received: code === 'ENOENT' ? 'no such file' : String((error as Error).message) });
+  }
+}
+
+export async function saveWeightFile(path: string, model: SequenceModel, options: WriteOptions = {}): Promise<void> {
+  writeFileAtomic(path, await writeWeightFile(model.description, modelTensors(model), options));
+}
+
+export async function loadWeightFile(path: string, options: ReadOptions = {}): Promise<WeightFile> {
+  return prefixed(path, () => readWeightFile(readText(path), options));
+}
+
+export async function loadModelFile(path: string, options: ReadOptions = {}): Promise<SequenceModel> {
+  return loadModel(await loadWeightFile(path, options));
+}
+
+export async function saveCheckpoint(path: string, trainer: Trainer, model: SequenceModel, metadata: WeightMetadata = {}): Promise<void> {
+  writeFileAtomic(path, await writeCheckpoint(trainer, model, metadata));
+}
+
+export async function loadCheckpoint(path: string, options: ReadOptions = {}): Promise<Checkpoint> {
+  return prefixed(path, () => readCheckpoint(readText(path), options));
+}
+
+/** Re-throws a weight-file error with the file's path in front of each problem's path. */
+async function prefixed<T>(path: string, run: () => Promise<T>): Promise<T> {
+  try {
+    return await run();
+  } catch (error) {
+    if (error instanceof WeftError && error.problems[0]?.path !== path) {
+      throw new WeftError(error.problems.map((p) => ({ ...p, path: `${path}: ${p.path}` })));
+    }
+    throw error;
+  }
+}

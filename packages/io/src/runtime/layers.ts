@@ -1,0 +1,107 @@
+/**
+ * The runtime's recurrent layers: each holds its weights (f32, decoded from the weight file) and steps a batch of
+ * rows with the same step kernels training uses, into buffers it was given at creation. Nothing here allocates
+ * per step.
+ */
+import { addRow, matmul } from '@weft/core/kernels';
+import { gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, plainStepForward } from '@weft/cells/kernels';
+import type { LayerDescription } from '@weft/cells/description';
+
+export type Weights = (name: string, shape: readonly number[]) => Float32Array;
+
+/** Per-batch working memory of one layer direction. */
+export interface LayerBuffers {
+  /** State slots, [rows, hidden] each: h (and c for an LSTM). */
+  readonly state: Float32Array[];
+  readonly work: Float32Array[];
+}
+
+export interface RuntimeCell {
+  readonly hidden: number;
+  readonly inputSize: number;
+  /** State slot count (2 for an LSTM). */
+  readonly slots: number;
+  buffers(rows: number, allocate: (length: number) => Float32Array): LayerBuffers;
+  /**
+   * One step for `rows` rows: reads x [rows, inputSize], updates the state in place (rows with step ≥ their
+   * length keep theirs). The new h is `buffers.state[0]`.
+   */
+  step(x: Float32Array, buffers: LayerBuffers, rows: number, lengths: Int32Array | null, step: number): void;
+}
+
+export function makeCell(layer: LayerDescription, inputSize: number, prefix: string, weights: Weights): RuntimeCell {
+  const hidden = layer.hidden;
+  if (layer.cell === 'lstm') {
+    const input = weights(`${prefix}.input`, [inputSize, 4 * hidden]);
+    const recurrent = weights(`${prefix}.recurrent`, [hidden, 4 * hidden]);
+    const bias = weights(`${prefix}.bias`, [4 * hidden]);
+    const peephole = layer.peepholes === true ? weights(`${prefix}.peephole`, [3 * hidden]) : null;
+    return {
+      hidden,
+      inputSize,
+      slots: 2,
+      buffers: (rows, allocate) => ({ state: [allocate(rows * hidden), allocate(rows * hidden)], work: [allocate(rows * 4 * hidden), allocate(rows * hidden)] }),
+      step(x, buffers, rows, lengths, step) {
+        const [h, c] = buffers.state;
+        const [gates, tanhCell] = buffers.work;
+        matmul(gates, x, input, rows, inputSize, 4 * hidden);
+        addRow(gates, gates, bias, rows, 4 * hidden);
+        matmul(gates, h, recurrent, rows, hidden, 4 * hidden, false, false, true);
+        // In place: the kernel reads each h₋, c₋ entry before writing the same entry.
+        lstmStepForward(h, c, gates, tanhCell, h, c, peephole, rows, hidden, lengths, step);
+      },
+    };
+  }
+  if (layer.cell === 'gru') {
+    const resetAfter = layer.resetAfterProduct === true;
+    const input = weights(`${prefix}.input`, [inputSize, 3 * hidden]);
+    const bias = weights(`${prefix}.bias`, [3 * hidden]);
+    const recurrent = weights(`${prefix}.recurrent`, [hidden, 2 * hidden]);
+    const candidateWeights = weights(`${prefix}.recurrentCandidate`, [hidden, hidden]);
+    const candidateBias = resetAfter ? weights(`${prefix}.recurrentCandidateBias`, [hidden]) : null;
+    return {
+      hidden,
+      inputSize,
+      slots: 1,
+      buffers: (rows, allocate) => ({
+        state: [allocate(rows * hidden)],
+        work: [allocate(rows * 3 * hidden), allocate(rows * 3 * hidden), allocate(rows * 2 * hidden), allocate(rows * hidden), allocate(rows * hidden)],
+      }),
+      step(x, buffers, rows, lengths, step) {
+        const [h] = buffers.state;
+        const [projected, gates, updateReset, candidate, resetHidden] = buffers.work;
+        matmul(projected, x, input, rows, inputSize, 3 * hidden);
+        addRow(projected, projected, bias, rows, 3 * hidden);
+        matmul(updateReset, h, recurrent, rows, hidden, 2 * hidden);
+        gruUpdateReset(gates, projected, 0, updateReset, rows, hidden);
+        if (candidateBias === null) {
+          gruResetHidden(resetHidden, gates, h, rows, hidden);
+          matmul(candidate, resetHidden, candidateWeights, rows, hidden, hidden);
+        } else {
+          matmul(candidate, h, candidateWeights, rows, hidden, hidden);
+          addRow(candidate, candidate, candidateBias, rows, hidden);
+        }
+        gruStepFinish(h, gates, projected, 0, candidate, h, resetAfter, rows, hidden, lengths, step);
+      },
+    };
+  }
+  const input = weights(`${prefix}.input`, [inputSize, hidden]);
+  const recurrent = weights(`${prefix}.recurrent`, [hidden, hidden]);
+  const bias = weights(`${prefix}.bias`, [hidden]);
+  const rectified = layer.activation === 'relu';
+  return {
+    hidden,
+    inputSize,
+    slots: 1,
+    buffers: (rows, allocate) => ({ state: [allocate(rows * hidden)], work: [allocate(rows * hidden)] }),
+    step(x, buffers, rows, lengths, step) {
+      const [h] = buffers.state;
+      const [pre] = buffers.work;
+      matmul(pre, x, input, rows, inputSize, hidden);
+      addRow(pre, pre, bias, rows, hidden);
+      matmul(pre, h, recurrent, rows, hidden, hidden, false, false, true);
+      plainStepForward(pre, h, rectified, rows, hidden, lengths, step);
+      h.set(pre);
+    },
+  };
+}

@@ -1,0 +1,301 @@
+/**
+ * The inference runtime: a model rebuilt from a weight file on the step kernels alone (no tape, no optimiser, no
+ * trainer). Two ways to run it:
+ *
+ * - `streams(count)`: `count` independent streams stepped together, one sample each per `step`, state carried;
+ *   every buffer is made when the streams are made, so stepping allocates nothing. Streams can be reset one by
+ *   one, and their state read out and restored. (A bidirectional layer needs the whole sequence, so models with
+ *   one run only in whole-sequence mode.)
+ * - `run(...)`: a whole batch of sequences in weft's time-major layout, ragged lengths allowed, any model.
+ */
+import { WeftError, fail } from '@weft/core';
+import { addRow, matmul } from '@weft/core/kernels';
+import type { ModelDescription } from '@weft/cells/description';
+import type { WeightFile, WeightMetadata } from '../weight-file.js';
+import { readWeightFile } from '../weight-file.js';
+import type { ReadOptions } from '../weight-file.js';
+import type { LayerBuffers, RuntimeCell } from './layers.js';
+import { makeCell } from './layers.js';
+
+interface RuntimeLayer {
+  readonly forward: RuntimeCell;
+  readonly backward: RuntimeCell | null;
+  readonly width: number;
+}
+
+/** Counts the arrays the runtime creates, so tests can prove the steady state creates none. */
+export const runtimeCounts = { arrays: 0 };
+
+function allocate(length: number): Float32Array {
+  runtimeCounts.arrays++;
+  return new Float32Array(length);
+}
+
+export class Runtime {
+  readonly model: ModelDescription;
+  readonly metadata: WeightMetadata;
+  /** Numbers per step for a values model; 0 for a token model. */
+  readonly inputWidth: number;
+  /** Token ids accepted, for a token model; 0 otherwise. */
+  readonly vocabularySize: number;
+  readonly outputWidth: number;
+  /** True when every layer runs forward in time only, so streaming works. */
+  readonly streamable: boolean;
+  private readonly embedding: Float32Array | null;
+  private readonly embeddingWidth: number;
+  private readonly layers: readonly RuntimeLayer[];
+  private readonly readoutWeights: Float32Array | null;
+  private readonly readoutBias: Float32Array | null;
+  private readonly featureWidth: number;
+
+  constructor(file: WeightFile) {
+    const tensors = new Map(file.tensors.map((t) => [t.name, t]));
+    const used = new Set<string>();
+    const weights = (name: string, shape: readonly number[]): Float32Array => {
+      const t = tensors.get(name);
+      if (t === undefined) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name})`, expected: `a tensor named ${name}, shape [${shape.join(', ')}]`, received: 'none' });
+      if (t.shape.join(',') !== shape.join(',')) {
+        throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name}).shape`, expected: `[${shape.join(', ')}] (from the model description)`, received: `[${t.shape.join(', ')}]` });
+      }
+      used.add(name);
+      return t.values instanceof Float32Array ? t.values : Float32Array.from(t.values);
+    };
+    const model = file.model;
+    this.model = model;
+    this.metadata = file.metadata;
+    const input = model.input;
+    let width: number;
+    if (input.kind === 'embedding') {
+      this.embedding = weights('embedding.table', [input.vocabulary, input.width]);
+      this.embeddingWidth = input.width;
+      this.vocabularySize = input.vocabulary;
+      this.inputWidth = 0;
+      width = input.width;
+    } else {
+      this.embedding = null;
+      this.embeddingWidth = 0;
+      this.vocabularySize = 0;
+      this.inputWidth = input.width;
+      width = input.width;
+    }
+    const layers: RuntimeLayer[] = [];
+    model.layers.forEach((layer, i) => {
+      if (!['lstm', 'gru', 'plain'].includes(layer.cell)) {
+        throw new WeftError({ code: 'bad_weight_file', path: `model.layers[${i}].cell`, expected: "a built-in cell ('lstm', 'gru', 'plain') for the runtime", received: layer.cell });
+      }
+      const forward = makeCell(layer, width, `layers.${i}.forward`, weights);
+      const backward = layer.bidirectional === true ? makeCell(layer, width, `layers.${i}.backward`, weights) : null;
+      width = layer.hidden * (backward === null ? 1 : 2);
+      layers.push({ forward, backward, width });
+    });
+    this.layers = layers;
+    this.featureWidth = width;
+    if (model.readout !== undefined && model.readout !== null) {
+      this.readoutWeights = weights('readout.weights', [width, model.readout.width]);
+      this.readoutBias = weights('readout.bias', [model.readout.width]);
+      this.outputWidth = model.readout.width;
+    } else {
+      this.readoutWeights = null;
+      this.readoutBias = null;
+      this.outputWidth = width;
+    }
+    for (const name of tensors.keys()) {
+      if (!used.has(name)) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name})`, expected: 'only tensors the model description names', received: name });
+    }
+    this.streamable = layers.every((l) => l.backward === null);
+  }
+
+  /** State slots per stream, in order (h, or h and c, per layer), and their widths. */
+  stateWidths(): number[] {
+    return this.layers.flatMap((l) => Array.from({ length: l.forward.slots }, () => l.forward.hidden));
+  }
+
+  /** `count` independent streams, each starting from zero state. */
+  streams(count: number): Streams {
+    if (!this.streamable) fail('invalid_argument', 'Runtime.streams', 'a model whose layers all run forward in time', 'a bidirectional layer (use run() on whole sequences)');
+    if (!Number.isInteger(count) || count < 1) fail('invalid_argument', 'Runtime.streams.count', 'a whole number ≥ 1', String(count));
+    return new Streams(this, count);
+  }
+
+  /**
+   * A whole batch: token ids [steps·batch] or numbers [steps·batch·inputWidth], time-major; returns the outputs
+   * [steps, batch, outputWidth] (zero beyond each row's length) and leaves nothing behind.
+   */
+  run(input: Float32Array | Int32Array | readonly number[], steps: number, batch: number, lengths: Int32Array | readonly number[] | null = null): Float32Array {
+    const rowsLengths = lengths === null ? null : Int32Array.from(lengths);
+    if (rowsLengths !== null) {
+      if (rowsLengths.length !== batch) fail('shape_mismatch', 'Runtime.run.lengths', `${batch} lengths`, `${rowsLengths.length}`);
+      rowsLengths.forEach((l, b) => {
+        if (!(l >= 0 && l <= steps)) fail('invalid_argument', `Runtime.run.lengths[${b}]`, `a whole number in [0, ${steps}]`, String(l));
+      });
+    }
+    let features = this.embed(input, steps * batch, 'Runtime.run.input');
+    let width = this.embedding === null ? this.inputWidth : this.embeddingWidth;
+    for (const layer of this.layers) {
+      const out = new Float32Array(steps * batch * layer.width);
+      const forward = runDirection(layer.forward, features, steps, batch, width, rowsLengths);
+      if (layer.backward === null) {
+        out.set(forward);
+      } else {
+        const reversed = reverseWithin(features, steps, batch, width, rowsLengths);
+        const behind = reverseWithin(runDirection(layer.backward, reversed, steps, batch, width, rowsLengths), steps, batch, layer.backward.hidden, rowsLengths);
+        const hf = layer.forward.hidden;
+        const hb = layer.backward.hidden;
+        for (let p = 0; p < steps * batch; p++) {
+          out.set(forward.subarray(p * hf, (p + 1) * hf), p * layer.width);
+          out.set(behind.subarray(p * hb, (p + 1) * hb), p * layer.width + hf);
+        }
+      }
+      features = out;
+      width = layer.width;
+    }
+    return this.readout(features, steps * batch, new Float32Array(steps * batch * this.outputWidth), rowsLengths, batch);
+  }
+
+  /** Numbers for the first layer: embedding rows for token ids, or the values as they are (checked). */
+  embed(input: Float32Array | Int32Array | readonly number[], positions: number, where: string, into?: Float32Array): Float32Array {
+    if (this.embedding !== null) {
+      if (input.length !== positions) fail('shape_mismatch', where, `${positions} token ids`, `${input.length}`);
+      const out = into ?? new Float32Array(positions * this.embeddingWidth);
+      const w = this.embeddingWidth;
+      for (let p = 0; p < positions; p++) {
+        const id = input[p];
+        if (!(id >= 0 && id < this.vocabularySize) || !Number.isInteger(id)) fail('invalid_argument', `${where}[${p}]`, `a token id in [0, ${this.vocabularySize})`, String(id));
+        for (let j = 0; j < w; j++) out[p * w + j] = this.embedding[id * w + j];
+      }
+      return out;
+    }
+    if (input.length !== positions * this.inputWidth) fail('shape_mismatch', where, `${positions * this.inputWidth} numbers (${positions} × ${this.inputWidth})`, `${input.length}`);
+    if (into !== undefined) {
+      for (let i = 0; i < input.length; i++) into[i] = input[i];
+      return into;
+    }
+    return Float32Array.from(input);
+  }
+
+  /** outputs = features · W + b (or the features themselves without a readout); zero rows beyond lengths. */
+  readout(features: Float32Array, positions: number, out: Float32Array, lengths: Int32Array | null, batch: number): Float32Array {
+    if (this.readoutWeights === null || this.readoutBias === null) {
+      for (let i = 0; i < positions * this.outputWidth; i++) out[i] = features[i];
+    } else {
+      matmul(out, features, this.readoutWeights, positions, this.featureWidth, this.outputWidth);
+      addRow(out, out, this.readoutBias, positions, this.outputWidth);
+    }
+    if (lengths !== null) {
+      for (let p = 0; p < positions; p++) {
+        if (Math.floor(p / batch) >= lengths[p % batch]) out.fill(0, p * this.outputWidth, (p + 1) * this.outputWidth);
+      }
+    }
+    return out;
+  }
+
+  /** The layers, for Streams. */
+  layerList(): readonly RuntimeLayer[] {
+    return this.layers;
+  }
+}
+
+function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null): Float32Array {
+  const buffers = cell.buffers(batch, (n) => new Float32Array(n));
+  const out = new Float32Array(steps * batch * cell.hidden);
+  for (let t = 0; t < steps; t++) {
+    cell.step(x.subarray(t * batch * width, (t + 1) * batch * width), buffers, batch, lengths, t);
+    const h = buffers.state[0];
+    for (let b = 0; b < batch; b++) {
+      if (lengths !== null && t >= lengths[b]) continue;
+      out.set(h.subarray(b * cell.hidden, (b + 1) * cell.hidden), (t * batch + b) * cell.hidden);
+    }
+  }
+  return out;
+}
+
+/** out[s, b] = in[L_b − 1 − s, b] for s < L_b, zero beyond (our ragged convention for the reverse direction). */
+function reverseWithin(x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null): Float32Array {
+  const out = new Float32Array(x.length);
+  for (let b = 0; b < batch; b++) {
+    const length = lengths === null ? steps : lengths[b];
+    for (let s = 0; s < length; s++) out.set(x.subarray(((length - 1 - s) * batch + b) * width, ((length - 1 - s) * batch + b + 1) * width), (s * batch + b) * width);
+  }
+  return out;
+}
+
+/** Several independent streams stepped together; see Runtime. */
+export class Streams {
+  readonly count: number;
+  private readonly runtime: Runtime;
+  private readonly buffers: LayerBuffers[];
+  private readonly first: Float32Array;
+  private readonly output: Float32Array;
+
+  constructor(runtime: Runtime, count: number) {
+    this.runtime = runtime;
+    this.count = count;
+    const layers = runtime.layerList();
+    this.buffers = layers.map((l) => l.forward.buffers(count, allocate));
+    this.first = allocate(count * layers[0].forward.inputSize);
+    this.output = allocate(count * runtime.outputWidth);
+  }
+
+  /**
+   * One step of every stream: `input` holds one token id per stream, or `inputWidth` numbers per stream. Writes
+   * the outputs ([count, outputWidth]) into `into` when given and returns them; the returned array is reused by
+   * the next step.
+   */
+  step(input: Float32Array | Int32Array | readonly number[], into?: Float32Array): Float32Array {
+    const runtime = this.runtime;
+    runtime.embed(input, this.count, 'Streams.step.input', this.first);
+    const layers = runtime.layerList();
+    let x = this.first;
+    for (let i = 0; i < layers.length; i++) {
+      // Each layer reads the previous layer's h and updates its own state in place.
+      layers[i].forward.step(x, this.buffers[i], this.count, null, 0);
+      x = this.buffers[i].state[0];
+    }
+    const out = into ?? this.output;
+    if (out.length !== this.count * runtime.outputWidth) fail('shape_mismatch', 'Streams.step.into', `${this.count * runtime.outputWidth} numbers`, `${out.length}`);
+    return runtime.readout(x, this.count, out, null, this.count);
+  }
+
+  /** Sets one stream's state (or every stream's) back to zero. */
+  reset(stream?: number): void {
+    for (const layer of this.buffers) {
+      for (const slot of layer.state) {
+        const width = slot.length / this.count;
+        if (stream === undefined) slot.fill(0);
+        else slot.fill(0, stream * width, (stream + 1) * width);
+      }
+    }
+  }
+
+  /** Every stream's state, slot after slot (`Runtime.stateWidths()` order), [count, width] each, into one array. */
+  readState(into?: Float32Array): Float32Array {
+    const total = this.buffers.reduce((n, l) => n + l.state.reduce((m, s) => m + s.length, 0), 0);
+    const out = into ?? new Float32Array(total);
+    let offset = 0;
+    for (const layer of this.buffers) {
+      for (const slot of layer.state) {
+        out.set(slot, offset);
+        offset += slot.length;
+      }
+    }
+    return out;
+  }
+
+  restoreState(state: Float32Array): void {
+    const total = this.buffers.reduce((n, l) => n + l.state.reduce((m, s) => m + s.length, 0), 0);
+    if (state.length !== total) fail('shape_mismatch', 'Streams.restoreState', `${total} numbers`, `${state.length}`);
+    let offset = 0;
+    for (const layer of this.buffers) {
+      for (const slot of layer.state) {
+        slot.set(state.subarray(offset, offset + slot.length));
+        offset += slot.length;
+      }
+    }
+  }
+}
+
+/** A runtime from weight-file text (read and checked) or from a file already read. */
+export async function createRuntime(source: string | WeightFile, options: ReadOptions = {}): Promise<Runtime> {
+  const file = typeof source === 'string' ? await readWeightFile(source, options) : source;
+  return new Runtime(file);
+}

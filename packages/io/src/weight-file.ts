@@ -1,0 +1,347 @@
+/**
+ * The weight file: writing and strict reading. The format is specified in docs/weight-format.md; in short
+ *
+ *   { "format": "weft-weights", "version": 1, "model": <description>, "metadata": {…},
+ *     "tensors": [ { "name", "shape", "dtype": "f32" | "f16" | "i8", "data": <base64>, "scales"?: <base64> } ],
+ *     "digest": { "algorithm": "SHA-256", "hex": "…" } }
+ *
+ * Reading checks everything before it trusts anything: the text's size and nesting depth before parsing, every
+ * field's type and range, shapes against the model description, element counts against a cap before any
+ * buffer is made, base64 lengths against shapes, and the SHA-256 digest over the tensor bytes. Keys named
+ * `__proto__`, `constructor` or `prototype` are refused wherever they appear. Every problem found is collected,
+ * each with its JSON path, and thrown together.
+ */
+import { WeftError, fail } from '@weft/core';
+import type { FloatArray, Problem } from '@weft/core';
+import { describeProblems } from '@weft/cells/description';
+import type { ModelDescription } from '@weft/cells/description';
+import { decodeBase64Into, decodedLength, encodeBase64 } from './base64.js';
+import { sha256Hex } from './digest.js';
+import { fromHalfBits, toHalfBits } from './half.js';
+import { dequantizeRows, quantizeRows } from './quantize.js';
+
+export const FORMAT_TAG = 'weft-weights';
+export const FORMAT_VERSION = 1;
+
+export type StoredDType = 'f32' | 'f16' | 'i8';
+
+/** What a user needs to run the model with nothing else. Every field is optional; unknown fields are kept. */
+export interface WeightMetadata {
+  /** `next-token`, `forecast`, `classification`, `sequence-to-sequence`, or your own word. */
+  readonly task?: string;
+  /** Token strings by id, for models over tokens. */
+  readonly vocabulary?: readonly string[];
+  /** Per-feature value normalisation: x' = (x − mean) / deviation. */
+  readonly normalisation?: { readonly mean: readonly number[]; readonly deviation: readonly number[] };
+  /** Class names by index, for classifiers. */
+  readonly classes?: readonly string[];
+  readonly training?: Readonly<Record<string, string | number | boolean | null>>;
+  readonly [key: string]: unknown;
+}
+
+export interface NamedValues {
+  readonly name: string;
+  readonly shape: readonly number[];
+  readonly values: FloatArray;
+}
+
+export interface WeightFile {
+  readonly version: number;
+  readonly model: ModelDescription;
+  readonly metadata: WeightMetadata;
+  /** Tensors in file order, decoded to f32 (f16 widened, i8 dequantised). */
+  readonly tensors: readonly NamedValues[];
+  /** The stored dtype of each tensor, by name. */
+  readonly storedAs: Readonly<Record<string, StoredDType>>;
+  readonly digest: string;
+  /** Training state, present only in checkpoints (checked by readCheckpoint). */
+  readonly training?: unknown;
+}
+
+export interface WriteOptions {
+  /** Training state to carry (checkpoints only). */
+  readonly training?: unknown;
+  /**
+   * Stored dtype for every tensor (default f32), or per tensor name. A single `i8` for the whole file quantises
+   * the matrices only; vectors stay f32. Per-name choices are taken as given.
+   */
+  readonly dtype?: StoredDType | Readonly<Record<string, StoredDType>>;
+  readonly metadata?: WeightMetadata;
+}
+
+export interface ReadOptions {
+  /** Largest total number of tensor elements accepted (default 50,000,000). */
+  readonly maxElements?: number;
+  /** Largest text accepted, in characters (default 512 MiB worth). */
+  readonly maxCharacters?: number;
+  /** Deepest JSON nesting accepted (default 64). */
+  readonly maxDepth?: number;
+}
+
+const forbiddenKeys = new Set(['__proto__', 'constructor', 'prototype']);
+
+function rowsAndCols(shape: readonly number[]): [number, number] {
+  if (shape.length === 0) return [1, 1];
+  const cols = shape[shape.length - 1];
+  const size = shape.reduce((a, b) => a * b, 1);
+  return [cols === 0 ? 0 : size / cols, cols];
+}
+
+function littleEndianBytes(values: FloatArray, dtype: StoredDType, shape: readonly number[]): { data: Uint8Array; scales: Uint8Array | null } {
+  const count = values.length;
+  if (dtype === 'f32') {
+    const out = new Uint8Array(count * 4);
+    const view = new DataView(out.buffer);
+    for (let i = 0; i < count; i++) view.setFloat32(i * 4, values[i], true);
+    return { data: out, scales: null };
+  }
+  if (dtype === 'f16') {
+    const out = new Uint8Array(count * 2);
+    const view = new DataView(out.buffer);
+    for (let i = 0; i < count; i++) view.setUint16(i * 2, toHalfBits(values[i]), true);
+    return { data: out, scales: null };
+  }
+  const [rows, cols] = rowsAndCols(shape);
+  const codes = new Int8Array(count);
+  const scales = new Float32Array(rows);
+  quantizeRows(values, rows, cols, codes, scales);
+  const scaleBytes = new Uint8Array(rows * 4);
+  const view = new DataView(scaleBytes.buffer);
+  for (let r = 0; r < rows; r++) view.setFloat32(r * 4, scales[r], true);
+  return { data: new Uint8Array(codes.buffer), scales: scaleBytes };
+}
+
+function concatenate(parts: readonly Uint8Array[]): Uint8Array {
+  const total = parts.reduce((n, p) => n + p.length, 0);
+  const out = new Uint8Array(total);
+  let offset = 0;
+  for (const part of parts) {
+    out.set(part, offset);
+    offset += part.length;
+  }
+  return out;
+}
+
+/**
+ * Writes a weight file as text: the header (format, version, model, metadata, digest) pretty-printed, then one
+ * line per tensor.
+ */
+export async function writeWeightFile(model: ModelDescription, tensors: readonly NamedValues[], options: WriteOptions = {}): Promise<string> {
+  const problems = describeProblems(model, 'model');
+  if (problems.length > 0) throw new WeftError(problems);
+  const entries: string[] = [];
+  const digestParts: Uint8Array[] = [];
+  for (const t of tensors) {
+    // A single i8 choice applies to matrices; vectors (biases, peepholes) stay f32, being small and sensitive.
+    const chosen = typeof options.dtype === 'string' ? options.dtype : (options.dtype?.[t.name] ?? 'f32');
+    const dtype = typeof options.dtype === 'string' && chosen === 'i8' && t.shape.length < 2 ? 'f32' : chosen;
+    if (dtype !== 'f32' && dtype !== 'f16' && dtype !== 'i8') fail('invalid_option', `writeWeightFile.dtype.${t.name}`, "'f32', 'f16' or 'i8'", String(dtype));
+    const { data, scales } = littleEndianBytes(t.values, dtype, t.shape);
+    digestParts.push(data);
+    if (scales !== null) digestParts.push(scales);
+    const entry: Record<string, unknown> = { name: t.name, shape: t.shape, dtype, data: encodeBase64(data) };
+    if (scales !== null) entry.scales = encodeBase64(scales);
+    entries.push(JSON.stringify(entry));
+  }
+  const digest = await sha256Hex(concatenate(digestParts));
+  const header = {
+    format: FORMAT_TAG,
+    version: FORMAT_VERSION,
+    model,
+    metadata: options.metadata ?? {},
+    digest: { algorithm: 'SHA-256', hex: digest },
+    ...(options.training === undefined ? {} : { training: options.training }),
+  };
+  const head = JSON.stringify(header, null, 2);
+  // Put the tensors last, one per line, inside the same JSON object.
+  return `${head.slice(0, -2)},\n  "tensors": [\n    ${entries.join(',\n    ')}\n  ]\n}\n`;
+}
+
+/** Scans the text for nesting deeper than `maxDepth` outside strings (JSON.parse would recurse into it). */
+function nestingProblem(text: string, maxDepth: number): Problem | null {
+  let depth = 0;
+  let inString = false;
+  for (let i = 0; i < text.length; i++) {
+    const c = text.charCodeAt(i);
+    if (inString) {
+      if (c === 92 /* \ */) i++;
+      else if (c === 34 /* " */) inString = false;
+    } else if (c === 34) {
+      inString = true;
+    } else if (c === 123 || c === 91) {
+      if (++depth > maxDepth) return { code: 'bad_weight_file', path: `(character ${i})`, expected: `nesting at most ${maxDepth} deep`, received: 'deeper nesting' };
+    } else if (c === 125 || c === 93) {
+      depth--;
+    }
+  }
+  return null;
+}
+
+function typeName(value: unknown): string {
+  if (value === null) return 'null';
+  if (Array.isArray(value)) return `an array of ${value.length}`;
+  if (typeof value === 'string') return value.length > 40 ? `a string of ${value.length} characters` : JSON.stringify(value);
+  if (typeof value === 'object') return 'an object';
+  return String(value);
+}
+
+function isRecord(value: unknown): value is Record<string, unknown> {
+  return typeof value === 'object' && value !== null && !Array.isArray(value);
+}
+
+/** Reads and checks a weight file; throws one WeftError listing every problem found. */
+export async function readWeightFile(text: string, options: ReadOptions = {}): Promise<WeightFile> {
+  const maxElements = options.maxElements ?? 50_000_000;
+  const maxCharacters = options.maxCharacters ?? 512 * 1024 * 1024;
+  const maxDepth = options.maxDepth ?? 64;
+  const refuse = (path: string, expected: string, received: string): never => {
+    throw new WeftError({ code: 'bad_weight_file', path, expected, received });
+  };
+  if (typeof text !== 'string') refuse('(file)', 'text', typeof text);
+  if (text.length > maxCharacters) refuse('(file)', `at most ${maxCharacters} characters`, `${text.length}`);
+  const deep = nestingProblem(text, maxDepth);
+  if (deep !== null) throw new WeftError(deep);
+  const forbidden: string[] = [];
+  let parsed: unknown;
+  try {
+    parsed = JSON.parse(text, function (this: unknown, key: string, value: unknown) {
+      if (forbiddenKeys.has(key)) forbidden.push(key);
+      return value;
+    });
+  } catch (error) {
+    refuse('(file)', 'valid JSON', `${(error as Error).message}${text.trimEnd().endsWith('}') ? '' : ' (the file looks cut short)'}`);
+  }
+  if (forbidden.length > 0) refuse('(file)', 'no key named __proto__, constructor or prototype', `a key ${JSON.stringify(forbidden[0])}`);
+  const problems: Problem[] = [];
+  const add = (path: string, expected: string, received: unknown): void => {
+    problems.push({ code: 'bad_weight_file', path, expected, received: typeName(received) });
+  };
+  if (!isRecord(parsed)) refuse('(file)', 'a JSON object', typeName(parsed));
+  const file = parsed as Record<string, unknown>;
+  if (file.format !== FORMAT_TAG) refuse('format', JSON.stringify(FORMAT_TAG), typeName(file.format));
+  if (typeof file.version !== 'number' || !Number.isInteger(file.version) || file.version < 1) refuse('version', 'a whole number ≥ 1', typeName(file.version));
+  if ((file.version as number) > FORMAT_VERSION) {
+    refuse('version', `version ${FORMAT_VERSION} or older (this reader's)`, `${String(file.version)}: written by a newer weft; update weft to read it`);
+  }
+  for (const key of Object.keys(file)) {
+    if (!['format', 'version', 'model', 'metadata', 'tensors', 'digest', 'training'].includes(key)) add(key, 'no such field', file[key]);
+  }
+  problems.push(...describeProblems(file.model, 'model').map((p) => ({ ...p, code: 'bad_weight_file' as const })));
+  if (file.metadata !== undefined && !isRecord(file.metadata)) add('metadata', 'an object', file.metadata);
+  const digest = file.digest;
+  if (!isRecord(digest) || digest.algorithm !== 'SHA-256' || typeof digest.hex !== 'string' || !/^[0-9a-f]{64}$/.test(digest.hex)) {
+    add('digest', '{ "algorithm": "SHA-256", "hex": 64 lower-case hex digits }', digest);
+  }
+  const tensors = file.tensors;
+  const decoded: NamedValues[] = [];
+  const storedAs: Record<string, StoredDType> = {};
+  const digestParts: Uint8Array[] = [];
+  if (!Array.isArray(tensors)) {
+    add('tensors', 'an array', tensors);
+  } else {
+    // Shapes and counts first, so nothing is allocated for a file that asks for too much.
+    let total = 0;
+    const plans: { index: number; name: string; shape: number[]; dtype: StoredDType; size: number; rows: number }[] = [];
+    const seen = new Set<string>();
+    tensors.forEach((entry: unknown, i: number) => {
+      const where = `tensors[${i}]`;
+      if (!isRecord(entry)) {
+        add(where, 'an object', entry);
+        return;
+      }
+      const { name, shape, dtype, data, scales } = entry;
+      let ok = true;
+      if (typeof name !== 'string' || name === '' || name.length > 200) {
+        add(`${where}.name`, 'a name of 1 to 200 characters', name);
+        ok = false;
+      } else if (seen.has(name)) {
+        add(`${where}.name`, 'a name not used before', name);
+        ok = false;
+      } else {
+        seen.add(name);
+      }
+      let size = 1;
+      if (!Array.isArray(shape) || shape.length > 8 || shape.some((n) => typeof n !== 'number' || !Number.isInteger(n) || n < 0 || n > maxElements)) {
+        add(`${where}.shape`, `up to 8 whole numbers in [0, ${maxElements}]`, shape);
+        ok = false;
+      } else {
+        for (const n of shape as number[]) size *= n;
+        if (size > maxElements) {
+          add(`${where}.shape`, `at most ${maxElements} elements`, `${size}`);
+          ok = false;
+        }
+      }
+      if (dtype !== 'f32' && dtype !== 'f16' && dtype !== 'i8') {
+        add(`${where}.dtype`, "'f32', 'f16' or 'i8'", dtype);
+        ok = false;
+      }
+      if (typeof data !== 'string') {
+        add(`${where}.data`, 'base64 text', data);
+        ok = false;
+      }
+      if (dtype === 'i8' ? typeof scales !== 'string' : scales !== undefined) {
+        add(`${where}.scales`, dtype === 'i8' ? 'base64 text (one f32 scale per row)' : 'no scales (only i8 has them)', scales);
+        ok = false;
+      }
+      for (const key of Object.keys(entry)) {
+        if (!['name', 'shape', 'dtype', 'data', 'scales'].includes(key)) add(`${where}.${key}`, 'no such field', entry[key]);
+      }
+      if (!ok) return;
+      total += size;
+      const [rows] = rowsAndCols(shape as number[]);
+      const bytes = size * (dtype === 'f32' ? 4 : dtype === 'f16' ? 2 : 1);
+      if (decodedLength(data as string) !== bytes) add(`${where}.data`, `base64 of ${bytes} bytes for shape [${(shape as number[]).join(', ')}] in ${String(dtype)}`, `${Math.max(0, decodedLength(data as string))} bytes`);
+      else if (dtype === 'i8' && decodedLength(scales as string) !== rows * 4) add(`${where}.scales`, `base64 of ${rows * 4} bytes (${rows} rows)`, `${Math.max(0, decodedLength(scales as string))} bytes`);
+      else plans.push({ index: i, name: name as string, shape: (shape as number[]).slice(), dtype: dtype as StoredDType, size, rows });
+    });
+    if (total > maxElements) add('tensors', `at most ${maxElements} elements in all`, `${total}`);
+    if (problems.length === 0) {
+      for (const plan of plans) {
+        const entry = tensors[plan.index] as Record<string, string>;
+        const where = `tensors[${plan.index}]`;
+        const bytes = new Uint8Array(decodedLength(entry.data));
+        const bad = decodeBase64Into(entry.data, bytes);
+        if (bad >= 0) {
+          add(`${where}.data`, 'base64 characters (A–Z, a–z, 0–9, +, /, = padding)', `a bad character at position ${bad}`);
+          continue;
+        }
+        digestParts.push(bytes);
+        const values = new Float32Array(plan.size);
+        const view = new DataView(bytes.buffer);
+        if (plan.dtype === 'f32') {
+          for (let i = 0; i < plan.size; i++) values[i] = view.getFloat32(i * 4, true);
+        } else if (plan.dtype === 'f16') {
+          for (let i = 0; i < plan.size; i++) values[i] = fromHalfBits(view.getUint16(i * 2, true));
+        } else {
+          const scaleBytes = new Uint8Array(plan.rows * 4);
+          const badScale = decodeBase64Into(entry.scales, scaleBytes);
+          if (badScale >= 0) {
+            add(`${where}.scales`, 'base64 characters', `a bad character at position ${badScale}`);
+            continue;
+          }
+          digestParts.push(scaleBytes);
+          const scaleView = new DataView(scaleBytes.buffer);
+          const scaleValues = new Float32Array(plan.rows);
+          for (let r = 0; r < plan.rows; r++) scaleValues[r] = scaleView.getFloat32(r * 4, true);
+          dequantizeRows(new Int8Array(bytes.buffer), scaleValues, plan.rows, plan.size / Math.max(1, plan.rows), values);
+        }
+        decoded.push({ name: plan.name, shape: plan.shape, values });
+        storedAs[plan.name] = plan.dtype;
+      }
+    }
+  }
+  if (problems.length > 0) throw new WeftError(problems);
+  const hex = await sha256Hex(concatenate(digestParts));
+  if (hex !== (digest as Record<string, string>).hex) {
+    throw new WeftError({ code: 'bad_weight_file', path: 'digest.hex', expected: (digest as Record<string, string>).hex, received: `${hex} (SHA-256 of the tensor bytes: the file was changed or damaged)` });
+  }
+  return {
+    version: file.version as number,
+    model: file.model as ModelDescription,
+    metadata: (file.metadata ?? {}) as WeightMetadata,
+    tensors: decoded,
+    storedAs,
+    digest: hex,
+    ...(file.training === undefined ? {} : { training: file.training }),
+  };
+}
