@@ -10,8 +10,8 @@ export interface BenchCase {
   /** Dotted lower-case id, as named in the issue that asked for it. */
   readonly id: string;
   readonly unit: string;
-  /** Builds the timed function (all allocation happens here, outside the timing). */
-  readonly setup: () => () => void;
+  /** Builds the timed function (all allocation happens here, outside the timing); may be async. */
+  readonly setup: () => (() => void) | Promise<() => void>;
   /** Turns calls per second into the reported value. */
   readonly value: (callsPerSecond: number) => number;
 }
@@ -25,8 +25,8 @@ export interface BenchResult {
 
 export type Derived = (results: Record<string, BenchResult>) => Record<string, BenchResult>;
 
-export function measure(item: BenchCase, maxTime: number): BenchResult {
-  const fn = item.setup();
+export async function measure(item: BenchCase, maxTime: number): Promise<BenchResult> {
+  const fn = await item.setup();
   for (let i = 0; i < 3; i++) fn(); // warm-up outside the timing
   const bench = new Benchmark(item.id, fn, { maxTime, minSamples: 5 });
   bench.run({ async: false });

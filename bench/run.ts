@@ -8,10 +8,11 @@ import { dirname, resolve } from 'node:path';
 import type { BenchCase, BenchResult, Derived } from './harness.js';
 import { measure } from './harness.js';
 import * as matmul from './matmul.bench.js';
+import * as runtime from './runtime.bench.js';
 import * as train from './train.bench.js';
 import * as window from './window.bench.js';
 
-const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window, train];
+const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window, train, runtime];
 
 function option(name: string, fallback: string): string {
   const index = process.argv.indexOf(`--${name}`);
@@ -36,9 +37,15 @@ const results: Record<string, BenchResult> = {};
 for (const module of modules) {
   for (const item of module.cases) {
     if (!item.id.startsWith(only)) continue;
-    const result = measure(item, seconds);
+    const result = await measure(item, seconds);
     results[item.id] = result;
     console.log(`${item.id.padEnd(48)} ${String(result.value).padStart(10)} ${result.unit}  ±${result.marginPercent}%`);
+  }
+}
+if ('runtime'.startsWith(only) || only.startsWith('runtime')) {
+  for (const [id, result] of Object.entries(await runtime.counts())) {
+    results[id] = result;
+    console.log(`${id.padEnd(48)} ${String(result.value).padStart(10)} ${result.unit}`);
   }
 }
 for (const module of modules) {

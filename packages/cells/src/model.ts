@@ -22,6 +22,7 @@ import { checkLengths, runBidirectional, runSequence } from './layer.js';
 import { LstmCell } from './lstm.js';
 import { PlainCell } from './plain.js';
 import { createParameter } from './recurrence.js';
+import { zeroBeyondLengths } from './sequence-ops.js';
 
 /** What a registered cell maker receives. */
 export interface CellRequest {
@@ -196,7 +197,9 @@ export class SequenceModel {
     const width = features.shape[2];
     const flat = reshape(tape, features, [steps * rows, width]);
     const mapped = add(tape, matmul(tape, flat, this.readoutWeights), this.readoutBias);
-    return { outputs: reshape(tape, mapped, [steps, rows, this.outputSize]), state };
+    const outputs = reshape(tape, mapped, [steps, rows, this.outputSize]);
+    // Keep the ragged convention past the readout too: positions beyond a row's length are zero.
+    return { outputs: lengths === null ? outputs : zeroBeyondLengths(tape, outputs, lengths), state };
   }
 
   private inputFeatures(tape: Tape, input: Tensor | TokenBatch): Tensor {

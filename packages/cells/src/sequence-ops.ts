@@ -197,3 +197,31 @@ export function lastSteps(tape: Tape, sequence: Tensor, lengths: Int32Array | nu
   if (node !== null) node.integers = lengths;
   return out;
 }
+
+const maskKind: OperationKind = {
+  name: 'zeroBeyondLengths',
+  backward(node: TapeNode, tape: Tape): void {
+    const sequence = node.first as Tensor;
+    const g = (node.output as Tensor).gradient!;
+    const gs = tape.gradientOf(sequence);
+    const [, rows, width] = sequence.shape;
+    const lengths = node.integers as Int32Array;
+    for (let p = 0; p < sequence.size / width; p++) {
+      if (Math.floor(p / rows) >= lengths[p % rows]) continue;
+      for (let j = 0; j < width; j++) gs[p * width + j] += g[p * width + j];
+    }
+  },
+};
+
+/** The sequence with every position beyond its row's length set to zero (and no gradient flowing there). */
+export function zeroBeyondLengths(tape: Tape, sequence: Tensor, lengths: Int32Array): Tensor {
+  const [, rows, width] = sequence.shape;
+  const out = tape.output(sequence.shape, sequence.dtype, sequence.tracked);
+  for (let p = 0; p < sequence.size / width; p++) {
+    const keep = Math.floor(p / rows) < lengths[p % rows];
+    for (let j = 0; j < width; j++) out.data[p * width + j] = keep ? sequence.data[p * width + j] : 0;
+  }
+  const node = tape.record(maskKind, out, sequence);
+  if (node !== null) node.integers = lengths;
+  return out;
+}

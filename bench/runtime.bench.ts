@@ -1,0 +1,43 @@
+/**
+ * The inference runtime: batch-1 streaming step latency (one sample in, one output out, state carried) for LSTM
+ * and GRU models of several sizes (µs per step, input width i, hidden h, readout to 8 values), and the size of
+ * the runtime entry bundled with esbuild (minified, gzipped) in bytes.
+ *
+ * Decision these numbers led to: a single stream reads each weight matrix in place (no packing for fewer than four
+ * rows), so a step costs about as much as its matrix-vector products.
+ */
+import { gzipSync } from 'node:zlib';
+import { fileURLToPath } from 'node:url';
+import { build } from 'esbuild';
+import { Random } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
+import { Runtime } from '@weft/io/runtime';
+import type { BenchCase, BenchResult } from './harness.js';
+
+function stepCase(cell: 'lstm' | 'gru', inputs: number, hidden: number): BenchCase {
+  return {
+    id: `step.${cell}.i${inputs}h${hidden}`,
+    unit: 'µs/step',
+    setup: async () => {
+      const model = buildModel({ input: { kind: 'values', width: inputs }, layers: [{ cell, hidden }], readout: { width: 8 } }, { seed: 1 });
+      const runtime = new Runtime(await readWeightFile(await writeWeightFile(model.description, modelTensors(model))));
+      const random = new Random(1);
+      const input = Float32Array.from({ length: inputs }, () => random.between(-1, 1));
+      const streams = runtime.streams(1);
+      return () => void streams.step(input);
+    },
+    value: (hz) => 1e6 / hz,
+  };
+}
+
+export const cases: BenchCase[] = [
+  ...(['lstm', 'gru'] as const).flatMap((cell) => [stepCase(cell, 16, 32), stepCase(cell, 32, 64), stepCase(cell, 32, 128), stepCase(cell, 64, 256)]),
+];
+
+/** Measured once, outside the timing loop: the bundle size is a count, not a rate. */
+export async function counts(): Promise<Record<string, BenchResult>> {
+  const entry = fileURLToPath(new URL('../packages/io/dist/runtime/index.js', import.meta.url));
+  const result = await build({ entryPoints: [entry], bundle: true, minify: true, format: 'esm', platform: 'browser', write: false, logLevel: 'silent' });
+  return { 'runtime.bundle-gzip-bytes': { value: gzipSync(result.outputFiles[0].contents, { level: 9 }).length, unit: 'bytes' } };
+}

@@ -1,0 +1,79 @@
+import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, describe, expect, it } from 'vitest';
+import { WeftError } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
+import { readCheckpoint, writeCheckpoint } from '@weft/io';
+import { loadCheckpoint, loadWeightFile, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
+import { createRuntime } from '@weft/io/runtime';
+
+const folder = mkdtempSync(join(tmpdir(), 'weft-io-'));
+afterAll(() => rmSync(folder, { recursive: true, force: true }));
+
+function setup() {
+  const tokens = Int32Array.from({ length: 2400 }, (_, i) => (i * 7 + Math.floor(i / 5)) % 9);
+  const model = buildModel({ input: { kind: 'embedding', vocabulary: 9, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }, { cell: 'gru', hidden: 8 }], dropout: 0.2, readout: { width: 9 } }, { seed: 8 });
+  const trainer = new Trainer({
+    model,
+    data: streamBatches({ kind: 'tokens', tokens, vocabulary: 9 }, { streams: 3, window: 10 }),
+    validation: streamBatches({ kind: 'tokens', tokens: tokens.slice(0, 400), vocabulary: 9 }, { window: 10 }),
+    optimizer: new AdamOptimizer({ rate: 0.01 }),
+    schedule: { kind: 'step', every: 20, factor: 0.8, warmup: 3 },
+    epochs: 2,
+    validateEvery: 25,
+    seed: 'checkpoint',
+  });
+  return { model, trainer };
+}
+
+const weights = (m: ReturnType<typeof setup>['model']) => m.parameters().map((p) => Array.from(p.tensor.data));
+
+describe('checkpoints', () => {
+  it('resume bit-identical to an uninterrupted run, through the file text', async () => {
+    const whole = setup();
+    await whole.trainer.run();
+    const first = setup();
+    for (let i = 0; i < 61; i++) first.trainer.step();
+    const text = await writeCheckpoint(first.trainer, first.model, { task: 'next-token' });
+    const { file, snapshot } = await readCheckpoint(text);
+    expect(file.metadata.task).toBe('next-token');
+    const resumed = setup();
+    resumed.trainer.restore(snapshot);
+    await resumed.trainer.run();
+    expect(resumed.trainer.stepsTaken).toBe(whole.trainer.stepsTaken);
+    expect(weights(resumed.model)).toEqual(weights(whole.model));
+    // A checkpoint is also a weight file the runtime can run.
+    expect((await createRuntime(text)).outputWidth).toBe(9);
+  });
+
+  it('are told apart from plain weight files', async () => {
+    const { model } = setup();
+    await saveWeightFile(join(folder, 'plain.json'), model);
+    await expect(loadCheckpoint(join(folder, 'plain.json'))).rejects.toThrowError(`Bad weight file at ${join(folder, 'plain.json')}: training: expected the training state of a checkpoint, received none (a weight file, not a checkpoint)`);
+  });
+
+  it('save and load through files, atomically', async () => {
+    const { model, trainer } = setup();
+    trainer.step();
+    const path = join(folder, 'run.checkpoint.json');
+    await saveCheckpoint(path, trainer, model);
+    const { snapshot } = await loadCheckpoint(path);
+    expect(snapshot.step).toBe(1);
+    expect(readdirSync(folder).filter((name) => name.endsWith('.tmp'))).toEqual([]);
+    // An atomic write replaces the whole file or nothing.
+    writeFileAtomic(path, 'new text');
+    expect(readFileSync(path, 'utf8')).toBe('new text');
+    expect(() => writeFileAtomic(join(folder, 'no-such-folder', 'x.json'), 'x')).toThrowError(/ENOENT/);
+    expect(readdirSync(folder).filter((name) => name.endsWith('.tmp'))).toEqual([]);
+  });
+
+  it('name the file when it is missing or damaged', async () => {
+    await expect(loadWeightFile(join(folder, 'missing.json'))).rejects.toThrowError(`Bad data at ${join(folder, 'missing.json')}: expected a readable file, received no such file`);
+    writeFileSync(join(folder, 'broken.json'), '{"format": "weft-weights", "version": 1');
+    const error = await loadWeightFile(join(folder, 'broken.json')).catch((e: unknown) => e);
+    expect(error).toBeInstanceOf(WeftError);
+    expect((error as WeftError).path.startsWith(`${join(folder, 'broken.json')}: (file)`)).toBe(true);
+  });
+});

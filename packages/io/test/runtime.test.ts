@@ -1,0 +1,143 @@
+import { describe, expect, it } from 'vitest';
+import { BufferPool, Random, Tape, sharedPool, tensor } from '@weft/core';
+import type { SequenceModel } from '@weft/cells';
+import { modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
+import { Runtime, createRuntime, generateTokens, greedy, runtimeCounts, sample } from '@weft/io/runtime';
+import { descriptions, shaken } from './models.js';
+
+async function runtimeFor(model: SequenceModel): Promise<Runtime> {
+  return createRuntime(await writeWeightFile(model.description, modelTensors(model)));
+}
+
+function inputFor(model: SequenceModel, steps: number, batch: number, seed: string): { values: Float32Array | Int32Array; training: Parameters<SequenceModel['run']>[1] } {
+  const random = new Random(seed);
+  const described = model.description.input;
+  if (described.kind === 'embedding') {
+    const tokens = Int32Array.from({ length: steps * batch }, () => random.integer(described.vocabulary));
+    return { values: tokens, training: { tokens, steps, batch } };
+  }
+  const values = Float32Array.from({ length: steps * batch * described.width }, () => random.between(-1, 1));
+  return { values, training: tensor(values, [steps, batch, described.width]) };
+}
+
+function maxGap(a: ArrayLike<number>, b: ArrayLike<number>): number {
+  expect(a.length).toBe(b.length);
+  let worst = 0;
+  for (let i = 0; i < a.length; i++) worst = Math.max(worst, Math.abs(a[i] - b[i]));
+  return worst;
+}
+
+describe('the inference runtime', () => {
+  for (const [label, description] of Object.entries(descriptions)) {
+    it(`${label}: whole-sequence run equals the training-side forward within 1e-6 (f32), ragged lengths`, async () => {
+      const model = shaken(description, 3);
+      const runtime = await runtimeFor(model);
+      const { values, training } = inputFor(model, 7, 4, label);
+      const lengths = [7, 3, 5, 1];
+      const expected = model.run(new Tape({ recording: false }), training, { lengths }).outputs.data;
+      expect(maxGap(runtime.run(values, 7, 4, lengths), expected)).toBeLessThanOrEqual(1e-6);
+    });
+  }
+
+  for (const label of ['plain tanh', 'plain ReLU', 'LSTM', 'LSTM with peepholes', 'GRU (reset before)', 'GRU (reset after)', 'stacked']) {
+    it(`${label}: streaming steps equal the whole-sequence run, several streams at once`, async () => {
+      const model = shaken(descriptions[label], 4);
+      const runtime = await runtimeFor(model);
+      const steps = 9;
+      const batch = 3;
+      const { values } = inputFor(model, steps, batch, `${label}-stream`);
+      const whole = runtime.run(values, steps, batch);
+      const streams = runtime.streams(batch);
+      const per = values.length / (steps * batch);
+      for (let t = 0; t < steps; t++) {
+        const out = streams.step(values.subarray(t * batch * per, (t + 1) * batch * per));
+        expect(maxGap(out, whole.subarray(t * batch * runtime.outputWidth, (t + 1) * batch * runtime.outputWidth))).toBeLessThanOrEqual(1e-6);
+      }
+    });
+  }
+
+  it('resets one stream, and reads and restores state', async () => {
+    const model = shaken(descriptions.stacked, 5);
+    const runtime = await runtimeFor(model);
+    const streams = runtime.streams(2);
+    const random = new Random('state');
+    const feed = () => Float32Array.from({ length: 6 }, () => random.between(-1, 1));
+    for (let i = 0; i < 4; i++) streams.step(feed());
+    const saved = streams.readState();
+    const probe = feed();
+    const first = Float32Array.from(streams.step(probe));
+    streams.restoreState(saved);
+    expect(Array.from(streams.step(probe))).toEqual(Array.from(first));
+    // A reset stream behaves as a fresh one: compare with stream 0 of new streams.
+    streams.reset(1);
+    const fresh = runtime.streams(2);
+    const x = feed();
+    const both = Float32Array.from(streams.step(x));
+    const fromFresh = fresh.step(x);
+    expect(Array.from(both.subarray(2, 4))).toEqual(Array.from(fromFresh.subarray(2, 4)));
+    expect(Array.from(both.subarray(0, 2))).not.toEqual(Array.from(fromFresh.subarray(0, 2)));
+    expect(runtime.stateWidths()).toEqual([6, 6, 5, 4]);
+  });
+
+  it('creates no typed arrays in 10,000 streaming steps after warm-up', async () => {
+    const model = shaken(descriptions.stacked, 6);
+    const runtime = await runtimeFor(model);
+    for (const count of [1, 5]) {
+      const streams = runtime.streams(count);
+      const input = new Float32Array(count * 3).fill(0.25);
+      streams.step(input);
+      const made = runtimeCounts.arrays;
+      const kernelArrays = sharedPool.counts().created;
+      for (let i = 0; i < 10_000; i++) {
+        input[0] = Math.sin(i);
+        streams.step(input);
+      }
+      expect(runtimeCounts.arrays).toBe(made);
+      expect(sharedPool.counts().created).toBe(kernelArrays);
+    }
+    void BufferPool;
+  });
+
+  it('refuses to stream a bidirectional model and names the input problems', async () => {
+    const runtime = await runtimeFor(shaken(descriptions.bidirectional));
+    expect(() => runtime.streams(1)).toThrowError('Invalid argument at Runtime.streams: expected a model whose layers all run forward in time, received a bidirectional layer (use run() on whole sequences)');
+    expect(() => runtime.run(Int32Array.of(1, 2, 9), 3, 1)).toThrowError('Invalid argument at Runtime.run.input[2]: expected a token id in [0, 7), received 9');
+    const values = await runtimeFor(shaken(descriptions['plain tanh']));
+    expect(() => values.streams(2).step(new Float32Array(5))).toThrowError('Shape mismatch at Streams.step.input: expected 6 numbers (2 × 3), received 5');
+  });
+
+  it('generates text greedily and by seeded sampling with temperature and top-k', async () => {
+    const model = shaken(descriptions.LSTM, 7);
+    const runtime = await runtimeFor(model);
+    const greedyRun = generateTokens(runtime, { prefix: [1, 2], length: 10 });
+    expect(greedyRun).toEqual(generateTokens(runtime, { prefix: [1, 2], length: 10 }));
+    const a = generateTokens(runtime, { prefix: [1], length: 30, random: new Random(3), temperature: 0.8, topK: 3 });
+    const b = generateTokens(runtime, { prefix: [1], length: 30, random: new Random(3), temperature: 0.8, topK: 3 });
+    expect(a).toEqual(b);
+    expect(a.every((t) => t >= 0 && t < 7)).toBe(true);
+  });
+
+  it('samples in proportion to softmax(z/T) and only among the top k (common practice)', () => {
+    const logits = Float32Array.of(Math.log(1), Math.log(2), Math.log(3), Math.log(4));
+    expect(greedy(logits, 0, 4)).toBe(3);
+    const random = new Random('sampling');
+    const counts = [0, 0, 0, 0];
+    for (let i = 0; i < 20_000; i++) counts[sample(logits, 0, 4, random)]++;
+    // Expected shares 0.1, 0.2, 0.3, 0.4; allow 5 binomial standard deviations (≈ 0.017).
+    counts.forEach((n, j) => expect(Math.abs(n / 20_000 - (j + 1) / 10)).toBeLessThan(0.017));
+    const top2 = [0, 0, 0, 0];
+    for (let i = 0; i < 5_000; i++) top2[sample(logits, 0, 4, random, { topK: 2 })]++;
+    expect(top2[0] + top2[1]).toBe(0);
+    // Temperature 0.5 squares the odds: 9 : 16 between the two largest.
+    expect(Math.abs(top2[3] / (top2[2] + top2[3]) - 4 / 7)).toBeLessThan(0.04);
+    const sharp = [0, 0, 0, 0];
+    for (let i = 0; i < 5_000; i++) sharp[sample(logits, 0, 4, random, { topK: 2, temperature: 0.5 })]++;
+    expect(Math.abs(sharp[3] / (sharp[2] + sharp[3]) - 16 / 25)).toBeLessThan(0.04);
+  });
+
+  it('builds from a file already read, and refuses a model its kernels do not know', async () => {
+    const model = shaken(descriptions['GRU (reset after)']);
+    const file = await readWeightFile(await writeWeightFile(model.description, modelTensors(model)));
+    expect(new Runtime(file).outputWidth).toBe(6);
+  });
+});
