@@ -147,3 +147,62 @@ export function checkDescription(value: unknown, path = 'description', customKin
   if (problems.length > 0) throw new WeftError(problems);
   return value as ModelDescription;
 }
+
+/**
+ * An encoder-decoder (Sutskever, Vinyals & Le 2014; Cho et al. 2014): the encoder reads the source tokens, and its
+ * final state is the decoder's initial state; the decoder reads the target tokens shifted right (starting with a
+ * start token) and predicts the next target token through its readout. Encoder and decoder layers must match
+ * one to one in cell kind and hidden size, run forward in time only, and both inputs are embeddings.
+ * `reverseSource` feeds each source sequence reversed within its length (Sutskever et al. 2014, §3.3).
+ *
+ *   { "kind": "encoder-decoder", "reverseSource": true,
+ *     "encoder": { "input": {embedding}, "layers": [...] },
+ *     "decoder": { "input": {embedding}, "layers": [...], "readout": { "width": V } } }
+ */
+export interface EncoderDecoderDescription {
+  readonly kind: 'encoder-decoder';
+  readonly encoder: ModelDescription;
+  readonly decoder: ModelDescription;
+  readonly reverseSource?: boolean;
+}
+
+export type AnyModelDescription = ModelDescription | EncoderDecoderDescription;
+
+export function isEncoderDecoder(value: unknown): value is EncoderDecoderDescription {
+  return isRecord(value) && value.kind === 'encoder-decoder';
+}
+
+/** Problems with either kind of description (a sequence model, or an encoder-decoder). */
+export function describeAnyProblems(value: unknown, path = 'description', customKinds: readonly string[] = []): Problem[] {
+  if (!isEncoderDecoder(value)) return describeProblems(value, path, customKinds);
+  const problems: Problem[] = [];
+  const v = value as unknown as Record<string, unknown>;
+  for (const key of Object.keys(v)) {
+    if (!['kind', 'encoder', 'decoder', 'reverseSource'].includes(key)) problems.push({ code: 'invalid_option', path: `${path}.${key}`, expected: 'no such field (kind, encoder, decoder, reverseSource)', received: describe(v[key]) });
+  }
+  if (v.reverseSource !== undefined && typeof v.reverseSource !== 'boolean') problems.push({ code: 'invalid_option', path: `${path}.reverseSource`, expected: 'true or false', received: describe(v.reverseSource) });
+  const encoder = describeProblems(v.encoder, `${path}.encoder`, customKinds);
+  const decoder = describeProblems(v.decoder, `${path}.decoder`, customKinds);
+  problems.push(...encoder, ...decoder);
+  if (encoder.length > 0 || decoder.length > 0) return problems;
+  const e = v.encoder as ModelDescription;
+  const d = v.decoder as ModelDescription;
+  if (e.input.kind !== 'embedding') problems.push({ code: 'invalid_option', path: `${path}.encoder.input.kind`, expected: "'embedding'", received: describe(e.input.kind) });
+  if (d.input.kind !== 'embedding') problems.push({ code: 'invalid_option', path: `${path}.decoder.input.kind`, expected: "'embedding'", received: describe(d.input.kind) });
+  if (e.readout !== undefined && e.readout !== null) problems.push({ code: 'invalid_option', path: `${path}.encoder.readout`, expected: 'none (the decoder reads out)', received: describe(e.readout) });
+  if (d.readout === undefined || d.readout === null) problems.push({ code: 'invalid_option', path: `${path}.decoder.readout`, expected: '{ "width": target vocabulary }', received: describe(d.readout) });
+  if (e.layers.length !== d.layers.length) {
+    problems.push({ code: 'invalid_option', path: `${path}.decoder.layers`, expected: `${e.layers.length} layers (one per encoder layer)`, received: `${d.layers.length}` });
+  } else {
+    e.layers.forEach((layer, i) => {
+      const other = d.layers[i];
+      if (layer.cell !== other.cell || layer.hidden !== other.hidden) {
+        problems.push({ code: 'invalid_option', path: `${path}.decoder.layers[${i}]`, expected: `a ${layer.cell} layer of ${layer.hidden} (as the encoder's)`, received: `${other.cell} of ${other.hidden}` });
+      }
+      for (const [side, l] of [['encoder', layer], ['decoder', other]] as const) {
+        if (l.bidirectional === true) problems.push({ code: 'invalid_option', path: `${path}.${side}.layers[${i}].bidirectional`, expected: 'false (state passes forward in time)', received: 'true' });
+      }
+    });
+  }
+  return problems;
+}

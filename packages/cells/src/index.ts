@@ -11,8 +11,10 @@ export { fillIdentity, fillOrthogonal, fillUniform, glorotBound, orthogonalMatri
 export { allActive, holdInactiveRows, isActive, lastSteps, reverseWithinLengths, stackSteps, timeStep, zeroBeyondLengths } from './sequence-ops.js';
 export type { SequenceOptions } from './layer.js';
 export { checkLengths, runBidirectional, runSequence } from './layer.js';
-export type { BuiltInCellKind, EmbeddingInput, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
-export { checkDescription, describeProblems } from './description.js';
+export type { AnyModelDescription, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
+export { checkDescription, describeAnyProblems, describeProblems, isEncoderDecoder } from './description.js';
+export type { EncoderDecoderRun } from './encoder-decoder.js';
+export { EncoderDecoderModel, reverseTokens } from './encoder-decoder.js';
 export type { BuildOptions, CellMaker, CellRequest, ModelLayer, ModelRunOptions, ModelRunResult, ModelStateSlot, TokenBatch } from './model.js';
 export { SequenceModel, buildModel } from './model.js';
 export * as stepKernels from './kernels/index.js';

@@ -5,6 +5,7 @@ export { dequantizeRows, quantizeRows } from './quantize.js';
 export { sha256Hex } from './digest.js';
 export type { NamedValues, ReadOptions, StoredDType, WeightFile, WeightMetadata, WriteOptions } from './weight-file.js';
 export { FORMAT_TAG, FORMAT_VERSION, readWeightFile, writeWeightFile } from './weight-file.js';
-export { loadModel, modelTensors } from './model-file.js';
+export type { LoadOptions } from './model-file.js';
+export { loadEncoderDecoder, loadModel, modelTensors } from './model-file.js';
 export type { Checkpoint } from './checkpoint.js';
 export { readCheckpoint, writeCheckpoint } from './checkpoint.js';

@@ -4,17 +4,34 @@
  */
 import { WeftError } from '@weft/core';
 import type { DType, Problem } from '@weft/core';
-import { buildModel } from '@weft/cells';
-import type { BuildOptions, SequenceModel } from '@weft/cells';
+import { EncoderDecoderModel, buildModel, isEncoderDecoder } from '@weft/cells';
+import type { BuildOptions, NamedParameter, SequenceModel } from '@weft/cells';
 import type { NamedValues, WeightFile } from './weight-file.js';
 
-export function modelTensors(model: SequenceModel): NamedValues[] {
+/** The tensors of any model with named parameters (a SequenceModel or an EncoderDecoderModel). */
+export function modelTensors(model: { parameters(): readonly NamedParameter[] }): NamedValues[] {
   return model.parameters().map((p) => ({ name: p.name, shape: p.tensor.shape, values: p.tensor.data }));
 }
 
+export interface LoadOptions {
+  readonly dtype?: DType;
+  readonly cells?: BuildOptions['cells'];
+}
+
 /** A model with the weight file's values (computing in `dtype`, f32 by default). */
-export function loadModel(file: WeightFile, options: { dtype?: DType; cells?: BuildOptions['cells'] } = {}): SequenceModel {
-  const model = buildModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells });
+export function loadModel(file: WeightFile, options: LoadOptions = {}): SequenceModel {
+  if (isEncoderDecoder(file.model)) {
+    throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: 'a sequence model (use loadEncoderDecoder for this file)', received: '"encoder-decoder"' });
+  }
+  return fill(buildModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells }), file);
+}
+
+/** An encoder-decoder model with the weight file's values. */
+export function loadEncoderDecoder(file: WeightFile, options: LoadOptions = {}): EncoderDecoderModel {
+  return fill(new EncoderDecoderModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells }), file);
+}
+
+function fill<M extends { parameters(): readonly NamedParameter[] }>(model: M, file: WeightFile): M {
   const byName = new Map(file.tensors.map((t) => [t.name, t]));
   const problems: Problem[] = [];
   for (const p of model.parameters()) {

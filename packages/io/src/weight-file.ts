@@ -13,8 +13,8 @@
  */
 import { WeftError, fail } from '@weft/core';
 import type { FloatArray, Problem } from '@weft/core';
-import { describeProblems } from '@weft/cells/description';
-import type { ModelDescription } from '@weft/cells/description';
+import { describeAnyProblems } from '@weft/cells/description';
+import type { AnyModelDescription } from '@weft/cells/description';
 import { decodeBase64Into, decodedLength, encodeBase64 } from './base64.js';
 import { sha256Hex } from './digest.js';
 import { fromHalfBits, toHalfBits } from './half.js';
@@ -47,7 +47,7 @@ export interface NamedValues {
 
 export interface WeightFile {
   readonly version: number;
-  readonly model: ModelDescription;
+  readonly model: AnyModelDescription;
   readonly metadata: WeightMetadata;
   /** Tensors in file order, decoded to f32 (f16 widened, i8 dequantised). */
   readonly tensors: readonly NamedValues[];
@@ -126,8 +126,8 @@ function concatenate(parts: readonly Uint8Array[]): Uint8Array {
  * Writes a weight file as text: the header (format, version, model, metadata, digest) pretty-printed, then one
  * line per tensor.
  */
-export async function writeWeightFile(model: ModelDescription, tensors: readonly NamedValues[], options: WriteOptions = {}): Promise<string> {
-  const problems = describeProblems(model, 'model');
+export async function writeWeightFile(model: AnyModelDescription, tensors: readonly NamedValues[], options: WriteOptions = {}): Promise<string> {
+  const problems = describeAnyProblems(model, 'model');
   if (problems.length > 0) throw new WeftError(problems);
   const entries: string[] = [];
   const digestParts: Uint8Array[] = [];
@@ -226,7 +226,7 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
   for (const key of Object.keys(file)) {
     if (!['format', 'version', 'model', 'metadata', 'tensors', 'digest', 'training'].includes(key)) add(key, 'no such field', file[key]);
   }
-  problems.push(...describeProblems(file.model, 'model').map((p) => ({ ...p, code: 'bad_weight_file' as const })));
+  problems.push(...describeAnyProblems(file.model, 'model').map((p) => ({ ...p, code: 'bad_weight_file' as const })));
   if (file.metadata !== undefined && !isRecord(file.metadata)) add('metadata', 'an object', file.metadata);
   const digest = file.digest;
   if (!isRecord(digest) || digest.algorithm !== 'SHA-256' || typeof digest.hex !== 'string' || !/^[0-9a-f]{64}$/.test(digest.hex)) {
@@ -337,7 +337,7 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
   }
   return {
     version: file.version as number,
-    model: file.model as ModelDescription,
+    model: file.model as AnyModelDescription,
     metadata: (file.metadata ?? {}) as WeightMetadata,
     tensors: decoded,
     storedAs,

@@ -10,6 +10,7 @@
  */
 import { WeftError, fail } from '@weft/core';
 import { addRow, matmul } from '@weft/core/kernels';
+import { isEncoderDecoder } from '@weft/cells/description';
 import type { ModelDescription } from '@weft/cells/description';
 import type { WeightFile, WeightMetadata } from '../weight-file.js';
 import { readWeightFile } from '../weight-file.js';
@@ -61,6 +62,9 @@ export class Runtime {
       return t.values instanceof Float32Array ? t.values : Float32Array.from(t.values);
     };
     const model = file.model;
+    if (isEncoderDecoder(model)) {
+      throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: 'a sequence model (use createEncoderDecoderRuntime for this file)', received: '"encoder-decoder"' });
+    }
     this.model = model;
     this.metadata = file.metadata;
     const input = model.input;

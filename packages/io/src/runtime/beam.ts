@@ -1,0 +1,168 @@
+/**
+ * Encoder-decoder models in the runtime, and beam search over their output (common practice; as in Sutskever,
+ * Vinyals & Le 2014, §3.2): keep the `width` best partial outputs by total log-probability, extend each by every
+ * token, keep the best `width` again; an output that emits the end token is finished. Finished outputs are ranked
+ * by length-normalised score, log P / length^α (α = `lengthPenalty`, default 1: the mean log-probability per
+ * token; 0 ranks by total log-probability).
+ */
+import { WeftError, fail } from '@weft/core';
+import type { EncoderDecoderDescription } from '@weft/cells/description';
+import { isEncoderDecoder } from '@weft/cells/description';
+import type { ReadOptions, WeightFile } from '../weight-file.js';
+import { readWeightFile } from '../weight-file.js';
+import { Runtime } from './runtime.js';
+import type { Streams } from './runtime.js';
+
+export interface BeamOptions {
+  /** How many partial outputs to keep (1 is greedy decoding). Default 4. */
+  readonly width?: number;
+  /** Token the decoder starts from. */
+  readonly startToken: number;
+  /** Token that ends an output. */
+  readonly endToken: number;
+  /** Longest output, in tokens (the end token included). */
+  readonly maxLength: number;
+  /** α in log P / length^α. Default 1. */
+  readonly lengthPenalty?: number;
+}
+
+export interface BeamResult {
+  /** Output tokens, without the start token; with the end token when it finished. */
+  readonly tokens: number[];
+  /** Total log-probability. */
+  readonly logProbability: number;
+  /** log P / length^α, the ranking score. */
+  readonly score: number;
+  readonly finished: boolean;
+}
+
+function part(file: WeightFile, side: 'encoder' | 'decoder', description: EncoderDecoderDescription): WeightFile {
+  const prefix = `${side}.`;
+  return {
+    ...file,
+    model: description[side],
+    tensors: file.tensors.filter((t) => t.name.startsWith(prefix)).map((t) => ({ ...t, name: t.name.slice(prefix.length) })),
+  };
+}
+
+export class EncoderDecoderRuntime {
+  readonly description: EncoderDecoderDescription;
+  readonly encoder: Runtime;
+  readonly decoder: Runtime;
+
+  constructor(file: WeightFile) {
+    if (!isEncoderDecoder(file.model)) {
+      throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: '"encoder-decoder" (use createRuntime for a sequence model)', received: 'a sequence model' });
+    }
+    this.description = file.model;
+    this.encoder = new Runtime(part(file, 'encoder', this.description));
+    this.decoder = new Runtime(part(file, 'decoder', this.description));
+    const stray = file.tensors.find((t) => !t.name.startsWith('encoder.') && !t.name.startsWith('decoder.'));
+    if (stray !== undefined) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${stray.name})`, expected: 'names starting with encoder. or decoder.', received: stray.name });
+  }
+
+  /** The encoder's final state for one source sequence, in `Runtime.stateWidths()` order (one row each). */
+  encode(source: readonly number[] | Int32Array): Float32Array {
+    if (source.length === 0) fail('invalid_argument', 'encode.source', 'at least one token', 'none');
+    const streams = this.encoder.streams(1);
+    const token = new Int32Array(1);
+    const order = this.description.reverseSource === true ? Array.from(source).reverse() : Array.from(source);
+    for (const id of order) {
+      token[0] = id;
+      streams.step(token);
+    }
+    return streams.readState();
+  }
+
+  /** The best outputs for one source sequence, best first (at most `width` of them). */
+  beamSearch(source: readonly number[] | Int32Array, options: BeamOptions): BeamResult[] {
+    const width = options.width ?? 4;
+    const alpha = options.lengthPenalty ?? 1;
+    const vocabulary = this.decoder.outputWidth;
+    if (!Number.isInteger(width) || width < 1) fail('invalid_option', 'beamSearch.width', 'a whole number ≥ 1', String(width));
+    if (!Number.isInteger(options.maxLength) || options.maxLength < 1) fail('invalid_option', 'beamSearch.maxLength', 'a whole number ≥ 1', String(options.maxLength));
+    for (const key of ['startToken', 'endToken'] as const) {
+      const id = options[key];
+      if (!Number.isInteger(id) || id < 0 || id >= Math.max(vocabulary, this.decoder.vocabularySize)) fail('invalid_option', `beamSearch.${key}`, `a token id in [0, ${vocabulary})`, String(id));
+    }
+    const encoded = this.encode(source);
+    const streams = this.decoder.streams(width);
+    streams.restoreState(replicate(encoded, this.decoder.stateWidths(), width));
+    let beams: { tokens: number[]; logProbability: number }[] = [{ tokens: [], logProbability: 0 }];
+    const finished: BeamResult[] = [];
+    const input = new Int32Array(width);
+    const score = (logProbability: number, length: number) => logProbability / length ** alpha;
+    for (let step = 0; step < options.maxLength && beams.length > 0; step++) {
+      beams.forEach((beam, i) => (input[i] = beam.tokens.length === 0 ? options.startToken : beam.tokens[beam.tokens.length - 1]));
+      for (let i = beams.length; i < width; i++) input[i] = options.startToken;
+      const logits = streams.step(input);
+      const candidates: { parent: number; token: number; logProbability: number }[] = [];
+      beams.forEach((beam, i) => {
+        const logSoftmax = logSoftmaxRow(logits, i * vocabulary, vocabulary);
+        for (let v = 0; v < vocabulary; v++) candidates.push({ parent: i, token: v, logProbability: beam.logProbability + logSoftmax[v] });
+      });
+      candidates.sort((a, b) => b.logProbability - a.logProbability || a.parent - b.parent || a.token - b.token);
+      const next: { tokens: number[]; logProbability: number; parent: number }[] = [];
+      for (const candidate of candidates) {
+        const tokens = [...beams[candidate.parent].tokens, candidate.token];
+        if (candidate.token === options.endToken) {
+          finished.push({ tokens, logProbability: candidate.logProbability, score: score(candidate.logProbability, tokens.length), finished: true });
+        } else {
+          next.push({ tokens, logProbability: candidate.logProbability, parent: candidate.parent });
+          if (next.length === width) break;
+        }
+      }
+      if (finished.length >= width) break;
+      // Each surviving output continues from its parent's decoder state.
+      streams.restoreState(gatherRows(streams.readState(), this.decoder.stateWidths(), width, next.map((n) => n.parent)));
+      beams = next;
+    }
+    const byScore = (a: BeamResult, b: BeamResult) => b.score - a.score;
+    const unfinished: BeamResult[] = beams.map((b) => ({ tokens: b.tokens, logProbability: b.logProbability, score: score(b.logProbability, Math.max(1, b.tokens.length)), finished: false }));
+    return [...finished.sort(byScore), ...unfinished.sort(byScore)].slice(0, width);
+  }
+}
+
+function logSoftmaxRow(logits: Float32Array, offset: number, width: number): Float64Array {
+  let max = -Infinity;
+  for (let j = 0; j < width; j++) max = Math.max(max, logits[offset + j]);
+  let total = 0;
+  for (let j = 0; j < width; j++) total += Math.exp(logits[offset + j] - max);
+  const shift = max + Math.log(total);
+  const out = new Float64Array(width);
+  for (let j = 0; j < width; j++) out[j] = logits[offset + j] - shift;
+  return out;
+}
+
+/** One row of state per slot, repeated for `rows` rows ([rows, width] per slot, slot after slot). */
+function replicate(state: Float32Array, widths: readonly number[], rows: number): Float32Array {
+  const out = new Float32Array(widths.reduce((n, w) => n + w * rows, 0));
+  let from = 0;
+  let to = 0;
+  for (const w of widths) {
+    for (let r = 0; r < rows; r++) out.set(state.subarray(from, from + w), to + r * w);
+    from += w;
+    to += w * rows;
+  }
+  return out;
+}
+
+/** Row `parents[i]` of every slot becomes row i (rows past the list keep row 0). */
+function gatherRows(state: Float32Array, widths: readonly number[], rows: number, parents: readonly number[]): Float32Array {
+  const out = new Float32Array(state.length);
+  let offset = 0;
+  for (const w of widths) {
+    for (let r = 0; r < rows; r++) {
+      const parent = parents[r] ?? 0;
+      out.set(state.subarray(offset + parent * w, offset + (parent + 1) * w), offset + r * w);
+    }
+    offset += w * rows;
+  }
+  return out;
+}
+
+export async function createEncoderDecoderRuntime(source: string | WeightFile, options: ReadOptions = {}): Promise<EncoderDecoderRuntime> {
+  return new EncoderDecoderRuntime(typeof source === 'string' ? await readWeightFile(source, options) : source);
+}
+
+export type { Streams };
