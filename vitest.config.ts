@@ -17,6 +17,7 @@ export default defineConfig({
       { find: /^@weft\/io$/, replacement: source('./packages/io/src/index.ts') },
       { find: /^@weft\/io\/runtime$/, replacement: source('./packages/io/src/runtime/index.ts') },
       { find: /^@weft\/io\/node$/, replacement: source('./packages/io/src/node/index.ts') },
+      { find: /^@weft\/cli$/, replacement: source('./packages/cli/src/index.ts') },
     ],
   },
   test: {

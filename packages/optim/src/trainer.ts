@@ -40,6 +40,8 @@ export interface TrainerOptions {
   readonly seed?: number | string;
   readonly signal?: AbortSignal;
   readonly onProgress?: (event: ProgressEvent) => void;
+  /** Awaited by `run()` after every step (for example to write a checkpoint every N steps). */
+  readonly afterStep?: (trainer: Trainer) => void | Promise<void>;
 }
 
 export interface ProgressEvent {
@@ -271,6 +273,7 @@ export class Trainer {
           break;
         }
       }
+      if (this.options.afterStep !== undefined) await this.options.afterStep(this);
       if (now() - lastYield > 50) {
         await new Promise<void>((resolve) => setTimeout(resolve, 0));
         lastYield = now();

@@ -1,0 +1,46 @@
+/** `weft inspect`: what a weight file holds, in a form a person can read. */
+import { loadWeightFile } from '@weft/io/node';
+import type { FlagSpec, ParsedArgs } from './args.js';
+import { CommandError } from './errors.js';
+
+export const inspectFlags: FlagSpec[] = [
+  { name: 'json', switch: true, description: 'print the summary as JSON' },
+  { name: 'debug', switch: true, description: 'show stack traces' },
+];
+
+const bytesPer = { f32: 4, f16: 2, i8: 1 } as const;
+
+export async function inspect(args: ParsedArgs): Promise<string> {
+  const [path] = args.positional;
+  if (path === undefined) throw new CommandError('weft inspect needs a weight file (see weft inspect --help)', 2);
+  const file = await loadWeightFile(path, { verifyDigest: false });
+  const rows = file.tensors.map((t) => {
+    const dtype = file.storedAs[t.name];
+    const rowsCount = t.shape.length === 0 ? 1 : t.values.length / Math.max(1, t.shape[t.shape.length - 1]);
+    const bytes = t.values.length * bytesPer[dtype] + (dtype === 'i8' ? rowsCount * 4 : 0);
+    return { name: t.name, shape: `[${t.shape.join(', ')}]`, dtype, bytes, elements: t.values.length };
+  });
+  const parameters = rows.reduce((n, r) => n + r.elements, 0);
+  const { history, ...metadata } = file.metadata as Record<string, unknown>;
+  void history;
+  if (args.switches.has('json')) {
+    return JSON.stringify({ model: file.model, tensors: rows, parameters, metadata, digest: { hex: file.digest, verified: file.digestVerified }, checkpoint: file.training !== undefined }, null, 2);
+  }
+  const lines: string[] = [];
+  lines.push(`${path}: weft weight file, version ${file.version}${file.training !== undefined ? ' (a checkpoint: carries training state)' : ''}`);
+  lines.push('', 'model:', ...JSON.stringify(file.model, null, 2).split('\n').map((l) => `  ${l}`));
+  const widths = [Math.max(6, ...rows.map((r) => r.name.length)), Math.max(5, ...rows.map((r) => r.shape.length)), 5, Math.max(5, ...rows.map((r) => String(r.bytes).length))];
+  lines.push('', 'tensors:');
+  lines.push(`  ${'name'.padEnd(widths[0])}  ${'shape'.padEnd(widths[1])}  ${'dtype'.padEnd(widths[2])}  ${'bytes'.padStart(widths[3])}`);
+  for (const r of rows) lines.push(`  ${r.name.padEnd(widths[0])}  ${r.shape.padEnd(widths[1])}  ${r.dtype.padEnd(widths[2])}  ${String(r.bytes).padStart(widths[3])}`);
+  lines.push(`  ${parameters} parameters, ${rows.reduce((n, r) => n + r.bytes, 0)} bytes of tensor data`);
+  lines.push('', 'metadata:');
+  for (const [key, value] of Object.entries(metadata)) {
+    let shown = JSON.stringify(value);
+    if (Array.isArray(value) && shown.length > 100) shown = `${value.length} entries: ${JSON.stringify(value.slice(0, 12)).slice(0, -1)}, …]`;
+    lines.push(`  ${key}: ${shown}`);
+  }
+  lines.push('', `digest: SHA-256 ${file.digest} — ${file.digestVerified ? 'verified' : 'DOES NOT MATCH the tensor bytes (the file was changed or damaged)'}`);
+  if (!file.digestVerified) throw new CommandError(lines.join('\n'), 1);
+  return lines.join('\n');
+}

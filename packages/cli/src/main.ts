@@ -1,0 +1,144 @@
+#!/usr/bin/env node
+/**
+ * The `weft` command. Verbs: train, run, sample, inspect, check; `--help` on each, `--version`. Errors are one
+ * line on stderr with a non-zero exit (2 for a misused command), and a stack trace only with --debug.
+ */
+import { readFileSync, realpathSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
+import { WeftError } from '@weft/core';
+import type { FlagSpec, ParsedArgs } from './args.js';
+import { helpText, parseArgs } from './args.js';
+import { check, checkFlags } from './check.js';
+import { CommandError } from './errors.js';
+import { inspect, inspectFlags } from './inspect.js';
+import { runFlags, runModel } from './run.js';
+import { sampleFlags, sampleText } from './sample.js';
+import { train, trainFlags } from './train.js';
+
+interface Verb {
+  readonly summary: string;
+  readonly usage: string;
+  readonly example: string;
+  readonly flags: FlagSpec[];
+  readonly act: (args: ParsedArgs) => Promise<number>;
+}
+
+const write = (text: string) => process.stdout.write(text.endsWith('\n') ? text : `${text}\n`);
+
+const verbs: Record<string, Verb> = {
+  train: {
+    summary: 'train a model on a CSV of numeric series, a text file, or a labelled CSV of sequences',
+    usage: 'weft train DATA [flags]',
+    example: 'weft train greenhouse.csv --target air_temperature_c --horizon 8 --cell gru --hidden 48 --epochs 4',
+    flags: trainFlags,
+    act: async (args) => {
+      await train(args);
+      return 0;
+    },
+  },
+  run: {
+    summary: 'apply a weight file to new data (a file, or - for standard input) and write CSV or JSON',
+    usage: 'weft run MODEL [DATA|-] [flags]',
+    example: 'weft run greenhouse.weft.json new-readings.csv --format json --out forecasts.json',
+    flags: runFlags,
+    act: async (args) => {
+      const output = await runModel(args);
+      if (output !== null) process.stdout.write(output);
+      return 0;
+    },
+  },
+  sample: {
+    summary: 'generate text from a text model',
+    usage: 'weft sample MODEL [flags]',
+    example: 'weft sample story.weft.json --prefix "The loom" --length 300 --temperature 0.7 --seed 4',
+    flags: sampleFlags,
+    act: async (args) => {
+      write(await sampleText(args));
+      return 0;
+    },
+  },
+  inspect: {
+    summary: "show a weight file's model, tensors, parameter count, metadata and digest",
+    usage: 'weft inspect MODEL [flags]',
+    example: 'weft inspect greenhouse.weft.json',
+    flags: inspectFlags,
+    act: async (args) => {
+      write(await inspect(args));
+      return 0;
+    },
+  },
+  check: {
+    summary: 'gradient-check the built-in cells, or a cell from your own module, against finite differences',
+    usage: 'weft check [--module FILE [--export NAME]] [flags]',
+    example: 'weft check --module ./my-cell.mjs --export makeCell',
+    flags: checkFlags,
+    act: async (args) => {
+      const { text, passed } = await check(args);
+      write(text);
+      return passed ? 0 : 1;
+    },
+  },
+};
+
+function version(): string {
+  const packageJson = JSON.parse(readFileSync(new URL('../package.json', import.meta.url), 'utf8')) as { version: string };
+  return packageJson.version;
+}
+
+function overview(): string {
+  const lines = ['weft: train and run small recurrent networks (LSTM, GRU, plain) from the terminal', '', 'usage: weft VERB [flags]   (weft VERB --help for each)', ''];
+  for (const [name, verb] of Object.entries(verbs)) lines.push(`  ${name.padEnd(8)} ${verb.summary}`);
+  lines.push('', '  --version  print the version', '', `example:\n  ${verbs.train.example}`);
+  return lines.join('\n');
+}
+
+export async function main(argv: readonly string[]): Promise<number> {
+  const [name, ...rest] = argv;
+  const debug = argv.includes('--debug');
+  try {
+    if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
+      write(overview());
+      return name === undefined ? 2 : 0;
+    }
+    if (name === '--version' || name === '-v') {
+      write(version());
+      return 0;
+    }
+    const verb = verbs[name];
+    if (verb === undefined) throw new CommandError(`unknown verb ${JSON.stringify(name)}; the verbs are ${Object.keys(verbs).join(', ')} (see weft --help)`, 2);
+    if (rest.includes('--help') || rest.includes('-h')) {
+      write(helpText(name, verb.summary, verb.usage, verb.flags, verb.example));
+      return 0;
+    }
+    return await verb.act(parseArgs(name, rest, verb.flags));
+  } catch (error) {
+    if (error instanceof CommandError) {
+      if (error.message !== '') process.stderr.write(`weft: ${error.message}\n`);
+      if (debug) process.stderr.write(`${error.stack ?? ''}\n`);
+      return error.exitCode;
+    }
+    if (error instanceof WeftError) {
+      process.stderr.write(`weft: ${error.message.split('\n').join('\n  ')}\n`);
+      if (debug) process.stderr.write(`${error.stack ?? ''}\n`);
+      return 1;
+    }
+    process.stderr.write(`weft: ${(error as Error).message ?? String(error)}${debug ? '' : ' (run again with --debug for details)'}\n`);
+    if (debug) process.stderr.write(`${(error as Error).stack ?? ''}\n`);
+    return 1;
+  }
+}
+
+function invokedDirectly(): boolean {
+  if (process.argv[1] === undefined) return false;
+  try {
+    return realpathSync(process.argv[1]) === fileURLToPath(import.meta.url);
+  } catch {
+    return false;
+  }
+}
+
+if (invokedDirectly()) {
+  main(process.argv.slice(2)).then((code) => {
+    process.exitCode = code;
+  });
+}

@@ -1,0 +1,71 @@
+/**
+ * Showing training progress: on a terminal, one line redrawn in place (a bar, loss, validation, tokens per
+ * second, time left); elsewhere (a pipe, a log file, CI), a plain line at each validation and every tenth of the
+ * run.
+ */
+import type { ProgressEvent } from '@weft/optim';
+
+export function formatSeconds(seconds: number): string {
+  if (!Number.isFinite(seconds)) return '?';
+  const s = Math.round(seconds);
+  return s >= 60 ? `${Math.floor(s / 60)}m${String(s % 60).padStart(2, '0')}s` : `${s}s`;
+}
+
+export class ProgressView {
+  private readonly stream: NodeJS.WriteStream;
+  private readonly interactive: boolean;
+  private lastValidation = '';
+  private lastDrawn = 0;
+  private lastPlainTenth = -1;
+
+  constructor(stream: NodeJS.WriteStream = process.stderr) {
+    this.stream = stream;
+    this.interactive = stream.isTTY === true;
+  }
+
+  show(event: ProgressEvent): void {
+    if (event.kind === 'validation') {
+      const metric = event.validationMetricName === 'accuracy' ? `accuracy ${(event.validationMetric! * 100).toFixed(1)}%` : `MAE ${event.validationMetric!.toPrecision(4)}`;
+      this.lastValidation = `validation ${event.validationLoss!.toPrecision(4)} (${metric})`;
+      if (!this.interactive) this.plain(event, true);
+      return;
+    }
+    if (event.kind === 'skipped') {
+      this.line(`step ${event.step}: ${event.reason ?? 'update skipped'}`);
+      return;
+    }
+    if (event.kind !== 'step') return;
+    if (this.interactive) {
+      const now = Date.now();
+      if (now - this.lastDrawn < 100 && event.step !== event.totalSteps) return;
+      this.lastDrawn = now;
+      const share = event.step / event.totalSteps;
+      const filled = Math.round(share * 24);
+      const bar = `[${'='.repeat(Math.max(0, filled - 1))}${filled > 0 ? '>' : ''}${' '.repeat(24 - filled)}]`;
+      this.stream.write(`\r\x1b[2K${bar} ${String(event.step).padStart(String(event.totalSteps).length)}/${event.totalSteps}  loss ${event.loss.toPrecision(4)}  ${this.lastValidation}  ${Math.round(event.positionsPerSecond)} tok/s  ${formatSeconds(event.secondsLeft)} left`);
+    } else {
+      const tenth = Math.floor((10 * event.step) / event.totalSteps);
+      if (tenth !== this.lastPlainTenth) {
+        this.lastPlainTenth = tenth;
+        this.plain(event, false);
+      }
+    }
+  }
+
+  /** Ends the redrawn line before other output. */
+  finish(): void {
+    if (this.interactive) this.stream.write('\n');
+  }
+
+  line(text: string): void {
+    if (this.interactive) this.stream.write(`\r\x1b[2K${text}\n`);
+    else this.stream.write(`${text}\n`);
+  }
+
+  private plain(event: ProgressEvent, validation: boolean): void {
+    const parts = [`step ${event.step}/${event.totalSteps}`, `epoch ${event.epoch}`, `loss ${event.loss.toPrecision(4)}`];
+    if (validation) parts.push(this.lastValidation);
+    else parts.push(`gradient norm ${Number.isFinite(event.gradientNorm) ? event.gradientNorm.toPrecision(3) : '-'}`, `rate ${event.learningRate.toPrecision(3)}`, `${Math.round(event.positionsPerSecond)} tok/s`, `${formatSeconds(event.secondsLeft)} left`);
+    this.stream.write(`${parts.join('  ')}\n`);
+  }
+}

@@ -1,0 +1,209 @@
+/** `weft train`: fit a model to a file of your own, with progress, checkpoints, resume and a loss curve. */
+import { existsSync, readFileSync } from 'node:fs';
+import { basename, extname, resolve } from 'node:path';
+import { buildModel } from '@weft/cells';
+import type { LayerDescription, ModelDescription } from '@weft/cells';
+import { AdamOptimizer, Trainer } from '@weft/optim';
+import type { ProgressEvent, TrainingSummary } from '@weft/optim';
+import { sha256Hex } from '@weft/io';
+import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
+import type { FlagSpec, ParsedArgs } from './args.js';
+import { choiceFlag, numberFlag } from './args.js';
+import { prepareClassification, prepareForecast, prepareText } from './datasets.js';
+import type { Prepared, Task } from './datasets.js';
+import { CommandError } from './errors.js';
+import { lossCurveSvg, sparkline } from './plot.js';
+import type { LossPoint } from './plot.js';
+import { ProgressView, formatSeconds } from './progress.js';
+
+export const trainFlags: FlagSpec[] = [
+  { name: 'task', value: 'forecast|text|classify', description: 'what to learn; by default .txt/.md files are text, CSVs with label and sequence columns are classify, other CSVs forecast' },
+  { name: 'cell', value: 'lstm|gru|plain', description: 'recurrent cell', fallback: 'lstm' },
+  { name: 'hidden', value: 'NUMBER', description: 'hidden units per layer', fallback: '64' },
+  { name: 'layers', value: 'NUMBER', description: 'stacked layers', fallback: '1' },
+  { name: 'bidirectional', switch: true, description: 'read sequences both ways (classify only)' },
+  { name: 'dropout', value: 'RATE', description: 'dropout between layers while training', fallback: '0' },
+  { name: 'window', value: 'STEPS', description: 'truncated-backpropagation window', fallback: '32' },
+  { name: 'streams', value: 'NUMBER', description: 'parallel streams (forecast, text) or sequences per batch (classify)', fallback: '8' },
+  { name: 'epochs', value: 'NUMBER', description: 'passes over the training data', fallback: '5' },
+  { name: 'rate', value: 'NUMBER', description: 'Adam learning rate', fallback: '0.005' },
+  { name: 'clip', value: 'NUMBER', description: 'clip the global gradient norm to this', fallback: '1' },
+  { name: 'seed', value: 'TEXT', description: 'seed for every random choice', fallback: '1' },
+  { name: 'validation', value: 'SHARE', description: 'share of the data held out (the end of a series or text)', fallback: '0.1' },
+  { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
+  { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement, keeping the best weights' },
+  { name: 'horizon', value: 'ROWS', description: 'forecast this many rows ahead', fallback: '1' },
+  { name: 'columns', value: 'A,B', description: 'input columns of a series CSV', fallback: 'every numeric column' },
+  { name: 'target', value: 'A,B', description: 'columns to forecast', fallback: 'the input columns' },
+  { name: 'tokens', value: 'characters|words', description: 'what a text model predicts', fallback: 'characters' },
+  { name: 'embedding', value: 'NUMBER', description: 'embedding width for token inputs', fallback: '16' },
+  { name: 'label-column', value: 'NAME', description: 'label column of a classify CSV', fallback: 'label' },
+  { name: 'sequence-column', value: 'NAME', description: 'sequence column of a classify CSV (space-separated items)', fallback: 'sequence' },
+  { name: 'out', value: 'FILE', description: 'where the weight file goes', fallback: '<data name>.weft.json' },
+  { name: 'checkpoint', value: 'FILE', description: 'where checkpoints go', fallback: '<out>.checkpoint.json' },
+  { name: 'checkpoint-every', value: 'STEPS', description: 'write a checkpoint this often (and at the end)', fallback: '200' },
+  { name: 'resume', value: 'CHECKPOINT', description: 'continue from a checkpoint of the same model and data' },
+  { name: 'store', value: 'f32|f16|i8', description: 'how the weight file stores numbers', fallback: 'f32' },
+  { name: 'quiet', switch: true, description: 'no progress output' },
+  { name: 'debug', switch: true, description: 'show stack traces' },
+];
+
+function readData(path: string): string {
+  if (!existsSync(path)) throw new CommandError(`${path}: no such file`);
+  return readFileSync(path, 'utf8');
+}
+
+function guessTask(path: string, text: string): Task {
+  const extension = extname(path).toLowerCase();
+  if (extension === '.txt' || extension === '.md') return 'text';
+  const header = text.split(/\r?\n/, 1)[0].split(',').map((h) => h.trim());
+  return header.includes('label') && header.includes('sequence') ? 'classify' : 'forecast';
+}
+
+/** The first place where two descriptions differ, as "layers[0].hidden is 32 in the checkpoint, 64 requested". */
+function firstDifference(saved: unknown, requested: unknown, path = 'model'): string | null {
+  if (typeof saved !== 'object' || saved === null || typeof requested !== 'object' || requested === null) {
+    return JSON.stringify(saved) === JSON.stringify(requested) ? null : `${path} is ${JSON.stringify(saved)} in the checkpoint, ${JSON.stringify(requested)} requested`;
+  }
+  const keys = [...new Set([...Object.keys(saved), ...Object.keys(requested)])];
+  for (const key of keys) {
+    const where = Array.isArray(saved) ? `${path}[${key}]` : `${path}.${key}`;
+    const found = firstDifference((saved as Record<string, unknown>)[key], (requested as Record<string, unknown>)[key], where);
+    if (found !== null) return found;
+  }
+  return null;
+}
+
+export interface TrainOutcome {
+  readonly summary: TrainingSummary;
+  readonly out: string;
+  readonly checkpoint: string;
+  readonly curve: string;
+  readonly heldOut: number;
+  readonly prepared: Prepared;
+}
+
+export async function train(args: ParsedArgs, log: (line: string) => void = (line) => process.stdout.write(`${line}\n`)): Promise<TrainOutcome> {
+  const [dataPath] = args.positional;
+  if (dataPath === undefined) throw new CommandError('weft train needs a data file (see weft train --help)', 2);
+  if (args.positional.length > 1) throw new CommandError(`weft train takes one data file, got ${args.positional.length}: ${args.positional.join(' ')}`, 2);
+  const text = readData(dataPath);
+  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify'] as const, guessTask(dataPath, text));
+  const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
+  const hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: 4096 });
+  const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
+  const dropout = numberFlag(args, 'dropout', 0, { min: 0, max: 0.95 });
+  const seed = args.flags.get('seed') ?? '1';
+  const options = {
+    window: numberFlag(args, 'window', 32, { whole: true, min: 1, max: 100000 }),
+    streams: numberFlag(args, 'streams', 8, { whole: true, min: 1, max: 4096 }),
+    validationShare: numberFlag(args, 'validation', 0.1, { min: 0.01, max: 0.9 }),
+    horizon: numberFlag(args, 'horizon', 1, { whole: true, min: 1, max: 100000 }),
+    columns: args.flags.get('columns')?.split(',').map((s) => s.trim()),
+    targets: args.flags.get('target')?.split(',').map((s) => s.trim()),
+    tokens: choiceFlag(args, 'tokens', ['characters', 'words'] as const, 'characters'),
+    embedding: numberFlag(args, 'embedding', 16, { whole: true, min: 1, max: 4096 }),
+    batch: numberFlag(args, 'streams', 8, { whole: true, min: 1, max: 4096 }),
+    seed,
+  };
+  if (args.switches.has('bidirectional') && task !== 'classify') throw new CommandError('--bidirectional needs --task classify (forecasts and text are read forward in time)', 2);
+  const prepared: Prepared =
+    task === 'forecast' ? prepareForecast(text, dataPath, options)
+      : task === 'text' ? prepareText(text, dataPath, options)
+        : prepareClassification(text, dataPath, { ...options, labelColumn: args.flags.get('label-column') ?? 'label', sequenceColumn: args.flags.get('sequence-column') ?? 'sequence' });
+  const layers: LayerDescription[] = Array.from({ length: layerCount }, () => ({ cell, hidden, ...(args.switches.has('bidirectional') ? { bidirectional: true } : {}) }));
+  const description: ModelDescription = { input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } };
+  const out = resolve(args.flags.get('out') ?? `${basename(dataPath, extname(dataPath))}.weft.json`);
+  const checkpoint = resolve(args.flags.get('checkpoint') ?? out.replace(/\.json$/i, '') + '.checkpoint.json');
+  const curve = checkpoint.replace(/\.json$/i, '') + '.loss.svg';
+  const dataDigest = await sha256Hex(new TextEncoder().encode(text));
+  const store = choiceFlag(args, 'store', ['f32', 'f16', 'i8'] as const, 'f32');
+  const every = numberFlag(args, 'checkpoint-every', 200, { whole: true, min: 1 });
+  const model = buildModel(description, { seed });
+  const history: { training: LossPoint[]; validation: LossPoint[] } = { training: [], validation: [] };
+  const view = args.switches.has('quiet') ? null : new ProgressView();
+  const controller = new AbortController();
+  const validateEvery = args.flags.has('validate-every') ? numberFlag(args, 'validate-every', 1, { whole: true, min: 1 }) : undefined;
+  const patience = args.flags.has('patience') ? numberFlag(args, 'patience', 1, { whole: true, min: 1 }) : undefined;
+  const metadataFor = (trainer: Trainer) => ({
+    ...prepared.metadata,
+    training: { data: basename(dataPath), dataDigest, steps: trainer.stepsTaken, seed, store },
+    history: { training: thin(history.training).map((p) => [p.step, p.loss]), validation: thin(history.validation).map((p) => [p.step, p.loss]) },
+  });
+  const trainer: Trainer = new Trainer({
+    model,
+    data: prepared.train,
+    validation: prepared.validation,
+    optimizer: new AdamOptimizer({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
+    epochs: numberFlag(args, 'epochs', 5, { whole: true, min: 1, max: 100000 }),
+    clipNorm: numberFlag(args, 'clip', 1, { min: 1e-9 }),
+    validateEvery,
+    patience,
+    seed,
+    signal: controller.signal,
+    onProgress: (event: ProgressEvent) => {
+      if (event.kind === 'step') history.training.push({ step: event.step, loss: event.loss });
+      if (event.kind === 'validation') history.validation.push({ step: event.step, loss: event.validationLoss! });
+      view?.show(event);
+    },
+    afterStep: async (t) => {
+      if (t.stepsTaken % every === 0) await saveCheckpoint(checkpoint, t, model, metadataFor(t));
+    },
+  });
+  const resume = args.flags.get('resume');
+  if (resume !== undefined) {
+    const saved = await loadCheckpoint(resolve(resume));
+    const difference = firstDifference(saved.file.model, description);
+    if (difference !== null) throw new CommandError(`${resume}: the checkpoint does not match the requested model: ${difference}`);
+    const savedTraining = saved.file.metadata.training as Record<string, unknown> | undefined;
+    if (savedTraining?.dataDigest !== undefined && savedTraining.dataDigest !== dataDigest) {
+      throw new CommandError(`${resume}: the checkpoint was trained on other data (${String(savedTraining.data)}, SHA-256 ${String(savedTraining.dataDigest).slice(0, 12)}…), not ${dataPath}`);
+    }
+    trainer.restore(saved.snapshot);
+    const savedHistory = saved.file.metadata.history as { training?: number[][]; validation?: number[][] } | undefined;
+    history.training.push(...(savedHistory?.training ?? []).map(([step, loss]) => ({ step, loss })));
+    history.validation.push(...(savedHistory?.validation ?? []).map(([step, loss]) => ({ step, loss })));
+    log(`resuming from ${resume} at step ${trainer.stepsTaken} of ${trainer.totalSteps}`);
+  }
+  let interrupts = 0;
+  const onInterrupt = () => {
+    interrupts++;
+    if (interrupts > 1) process.exit(130);
+    controller.abort();
+  };
+  process.on('SIGINT', onInterrupt);
+  log(`training a ${cell.toUpperCase()} ${task} model (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps`);
+  let summary: TrainingSummary;
+  const started = Date.now();
+  try {
+    summary = await trainer.run();
+  } finally {
+    process.off('SIGINT', onInterrupt);
+    view?.finish();
+  }
+  await saveCheckpoint(checkpoint, trainer, model, metadataFor(trainer));
+  writeFileAtomic(curve, lossCurveSvg(history.training, history.validation, `weft train ${basename(dataPath)}: ${cell} ${task}`));
+  if (summary.stoppedBy === 'signal') {
+    log(`interrupted at step ${summary.steps}; checkpoint written to ${checkpoint}`);
+    log(`resume with: weft train ${dataPath} --resume ${checkpoint} (and the same flags)`);
+    throw new CommandError('', 130);
+  }
+  await saveWeightFile(out, model, { dtype: store, metadata: metadataFor(trainer) });
+  const heldOut = prepared.heldOut(model);
+  log(`loss ${sparkline(history.training.map((p) => p.loss))} ${history.training.at(-1)?.loss.toPrecision(4) ?? ''}`);
+  const better = prepared.baseline.metric.includes('accuracy') ? heldOut / prepared.baseline.value - 1 : 1 - heldOut / prepared.baseline.value;
+  log(`${prepared.baseline.metric}: model ${heldOut.toPrecision(4)}, baseline ${prepared.baseline.value.toPrecision(4)} (${prepared.baseline.name}); model ${better >= 0 ? 'better' : 'worse'} by ${Math.abs(better * 100).toFixed(1)}%`);
+  log(`finished ${summary.steps} steps in ${formatSeconds((Date.now() - started) / 1000)} (${summary.stoppedBy === 'patience' ? 'stopped early, best weights kept' : 'all epochs'})`);
+  log(`weight file: ${out}`);
+  log(`checkpoint:  ${checkpoint}`);
+  log(`loss curve:  ${curve}`);
+  return { summary, out, checkpoint, curve, heldOut, prepared };
+}
+
+/** At most 2,000 points, evenly picked, so checkpoints stay small on long runs. */
+function thin(points: readonly LossPoint[]): LossPoint[] {
+  if (points.length <= 2000) return [...points];
+  const stride = points.length / 2000;
+  return Array.from({ length: 2000 }, (_, i) => points[Math.floor(i * stride)]);
+}
+
