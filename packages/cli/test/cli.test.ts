@@ -1,0 +1,137 @@
+/**
+ * End-to-end: the built `weft` binary run as a subprocess on temporary files (the test command builds it first).
+ * train → checkpoint → SIGINT → resume → run → inspect → sample; check on a correct and a broken cell; and the
+ * one-line errors for malformed input.
+ */
+import { spawn, spawnSync } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { afterAll, describe, expect, it } from 'vitest';
+
+const binary = fileURLToPath(new URL('../dist/main.js', import.meta.url));
+const fixtures = fileURLToPath(new URL('./fixtures/', import.meta.url));
+const folder = mkdtempSync(join(tmpdir(), 'weft-cli-'));
+afterAll(() => rmSync(folder, { recursive: true, force: true }));
+
+function weft(args: string[], input?: string) {
+  const result = spawnSync(process.execPath, [binary, ...args], { cwd: folder, encoding: 'utf8', input, timeout: 120_000 });
+  return { code: result.status, out: result.stdout, err: result.stderr };
+}
+
+/** Expect one line on stderr, matching `pattern`, no stack trace, and the exit code. */
+function expectOneLineError(result: ReturnType<typeof weft>, code: number, pattern: RegExp): void {
+  expect(result.code).toBe(code);
+  const lines = result.err.trimEnd().split('\n');
+  expect(lines).toHaveLength(1);
+  expect(lines[0]).toMatch(pattern);
+  expect(result.err).not.toMatch(/\n\s+at /);
+}
+
+// An invented text: notes from a weaving workshop, repeated with variations.
+const notes = Array.from({ length: 60 }, (_, i) => `day ${i % 7}: the warp was ${['wool', 'linen', 'silk'][i % 3]} and the weft was ${['red', 'blue', 'gold', 'grey'][i % 4]}; we wove ${10 + (i % 9)} rows before tea.\n`).join('');
+writeFileSync(join(folder, 'notes.txt'), notes);
+
+describe('the weft command', () => {
+  it('answers --version and --help on every verb, with an example line', () => {
+    const version = weft(['--version']);
+    expect(version.code).toBe(0);
+    expect(version.out.trim()).toMatch(/^\d+\.\d+\.\d+$/);
+    for (const verb of ['train', 'run', 'sample', 'inspect', 'check']) {
+      const help = weft([verb, '--help']);
+      expect(help.code).toBe(0);
+      expect(help.out).toContain(`usage: weft ${verb}`);
+      expect(help.out).toMatch(/example:\n {2}weft /);
+    }
+  });
+
+  it('trains, is interrupted by SIGINT with a checkpoint (exit 130), resumes, runs, inspects and samples', async () => {
+    const args = ['train', 'notes.txt', '--cell', 'gru', '--hidden', '32', '--window', '24', '--streams', '4', '--epochs', '40', '--checkpoint-every', '5', '--out', 'notes.weft.json'];
+    const child = spawn(process.execPath, [binary, ...args], { cwd: folder });
+    let stdout = '';
+    child.stdout.on('data', (chunk: Buffer) => (stdout += chunk.toString()));
+    const checkpoint = join(folder, 'notes.weft.checkpoint.json');
+    const started = Date.now();
+    while (!existsSync(checkpoint) && Date.now() - started < 60_000) await new Promise((r) => setTimeout(r, 50));
+    expect(existsSync(checkpoint)).toBe(true);
+    child.kill('SIGINT');
+    const code = await new Promise<number | null>((resolve) => child.on('exit', (c) => resolve(c)));
+    expect(code).toBe(130);
+    expect(stdout).toMatch(/interrupted at step \d+; checkpoint written to .*notes\.weft\.checkpoint\.json/);
+    const stoppedAt = Number(/interrupted at step (\d+)/.exec(stdout)![1]);
+    expect(existsSync(join(folder, 'notes.weft.json'))).toBe(false);
+
+    const resumed = weft([...args, '--resume', 'notes.weft.checkpoint.json', '--quiet']);
+    expect(resumed.code).toBe(0);
+    expect(resumed.out).toContain(`resuming from notes.weft.checkpoint.json at step ${stoppedAt}`);
+    expect(resumed.out).toMatch(/validation perplexity: model [\d.]+, baseline [\d.]+ \(unigram frequencies of the training text\); model better by/);
+    expect(existsSync(join(folder, 'notes.weft.checkpoint.loss.svg'))).toBe(true);
+    expect(readFileSync(join(folder, 'notes.weft.checkpoint.loss.svg'), 'utf8')).toMatch(/^<svg [^>]*>[\s\S]*<polyline/);
+
+    const run = weft(['run', 'notes.weft.json', '-', '--format', 'json'], 'the warp was ');
+    expect(run.code).toBe(0);
+    const rows = JSON.parse(run.out) as { token: string; 'most likely next': string }[];
+    expect(rows).toHaveLength(13);
+    expect(rows[0].token).toBe('t');
+
+    const inspect = weft(['inspect', 'notes.weft.json']);
+    expect(inspect.code).toBe(0);
+    expect(inspect.out).toContain('layers.0.forward.recurrentCandidate');
+    expect(inspect.out).toMatch(/digest: SHA-256 [0-9a-f]{64} — verified/);
+
+    const sample = weft(['sample', 'notes.weft.json', '--prefix', 'day 3: ', '--length', '60', '--seed', '2']);
+    expect(sample.code).toBe(0);
+    expect(sample.out.startsWith('day 3: ')).toBe(true);
+    expect(sample.out.trim().length).toBe(67);
+    expect(weft(['sample', 'notes.weft.json', '--prefix', 'day 3: ', '--length', '60', '--seed', '2']).out).toBe(sample.out);
+  });
+
+  it('checks the built-in cells, a correct cell of your own, and catches a broken one', () => {
+    const builtIn = weft(['check']);
+    expect(builtIn.code).toBe(0);
+    expect(builtIn.out).toContain('all 10 gradient checks passed');
+    const good = weft(['check', '--module', join(fixtures, 'gated-cell.mjs'), '--export', 'makeCell']);
+    expect(good.code).toBe(0);
+    expect(good.out).toContain('all 1 gradient checks passed');
+    const broken = weft(['check', '--module', join(fixtures, 'broken-cell.mjs')]);
+    expect(broken.code).toBe(1);
+    expect(broken.out).toMatch(/FAIL recurrent \[4, 4\]/);
+    expect(broken.out).toContain('GRADIENT CHECK FAILED');
+  });
+
+  describe('malformed input gets one line on stderr and a non-zero exit', () => {
+    it('a missing file', () => {
+      expectOneLineError(weft(['train', 'nowhere.csv']), 1, /^weft: nowhere\.csv: no such file$/);
+    });
+
+    it('a malformed CSV row', () => {
+      writeFileSync(join(folder, 'short.csv'), 'a,b\n1,2\n3\n4,5\n');
+      expectOneLineError(weft(['train', 'short.csv']), 1, /^weft: short\.csv:3: 1 fields where the header has 2$/);
+      writeFileSync(join(folder, 'quote.csv'), 'a,b\n1,2\n3,4"x\n');
+      expectOneLineError(weft(['train', 'quote.csv']), 1, /^weft: quote\.csv:3:4: a quote inside an unquoted field$/);
+    });
+
+    it('a non-numeric value, with line and column', () => {
+      const rows = Array.from({ length: 300 }, (_, i) => `${Math.sin(i)},${Math.cos(i)}`);
+      rows[150] = '0.5,warm';
+      writeFileSync(join(folder, 'sensor.csv'), `x,y\n${rows.join('\n')}\n`);
+      expectOneLineError(weft(['train', 'sensor.csv', '--window', '8', '--streams', '2']), 1, /^weft: sensor\.csv:152:2: "warm" in column "y" is not a number$/);
+    });
+
+    it('an unknown flag', () => {
+      expectOneLineError(weft(['train', 'notes.txt', '--hiden', '8']), 2, /^weft: unknown flag --hiden for weft train \(see weft train --help\)$/);
+    });
+
+    it('a checkpoint that does not match the requested model', () => {
+      const result = weft(['train', 'notes.txt', '--cell', 'gru', '--hidden', '16', '--window', '24', '--streams', '4', '--resume', 'notes.weft.checkpoint.json']);
+      expectOneLineError(result, 1, /^weft: notes\.weft\.checkpoint\.json: the checkpoint does not match the requested model: model\.layers\[0\]\.hidden is 32 in the checkpoint, 16 requested$/);
+    });
+
+    it('shows the stack trace only with --debug', () => {
+      const result = weft(['train', 'nowhere.csv', '--debug']);
+      expect(result.code).toBe(1);
+      expect(result.err).toMatch(/\n\s+at /);
+    });
+  });
+});
