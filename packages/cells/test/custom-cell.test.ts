@@ -7,12 +7,12 @@ import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { Random, Tape, checkGradients, multiply, randomUniform, sum } from '@weft/core';
 import { buildModel, runBidirectional, runSequence } from '@weft/cells';
-import { MinimalGatedCell } from '../../../examples/minimal-gated-cell.js';
+import { MinimalGatedCell } from '../../../examples/custom-cell/minimal-gated-cell.js';
 
 describe('a cell of your own', () => {
   it('is the code the README shows', () => {
     const readme = readFileSync(new URL('../README.md', import.meta.url), 'utf8');
-    const source = readFileSync(new URL('../../../examples/minimal-gated-cell.ts', import.meta.url), 'utf8');
+    const source = readFileSync(new URL('../../../examples/custom-cell/minimal-gated-cell.ts', import.meta.url), 'utf8');
     expect(readme).toContain('```ts\n' + source + '```');
   });
 

@@ -4,7 +4,7 @@
  * A "softsign" operation y = x / (1 + |x|) is written twice: once with the right derivative 1 / (1 + |x|)², once
  * with a slip (the square forgotten). The gradient check passes the first and points at the second.
  *
- * Run: npx tsx examples/check-your-own-operation.ts
+ * Run: npx tsx examples/custom-cell/check-your-own-operation.ts
  */
 import { Random, checkGradients, multiply, randomUniform, sum } from '@weft/core';
 import type { OperationKind, Tape, Tensor } from '@weft/core';
