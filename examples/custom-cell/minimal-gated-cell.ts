@@ -14,17 +14,17 @@ export class MinimalGatedCell implements RecurrentCell {
 
   constructor(readonly inputSize: number, hidden: number, readonly dtype: DType = 'f32', seed = 0) {
     const random = new Random(seed);
-    const make = (rows: number, cols: number, scale: number): Tensor =>
-      trainable(rows === 1 ? zeros([cols], dtype) : randomUniform([rows, cols], random, -scale, scale, dtype));
+    const matrix = (rows: number): Tensor => trainable(randomUniform([rows, hidden], random, -1 / Math.sqrt(rows), 1 / Math.sqrt(rows), dtype));
+    const bias = (): Tensor => trainable(zeros([hidden], dtype));
     this.outputSize = hidden;
     this.state = [{ name: 'h', size: hidden }];
     this.weights = {
-      inputGate: make(inputSize, hidden, 1 / Math.sqrt(inputSize)),
-      recurrentGate: make(hidden, hidden, 1 / Math.sqrt(hidden)),
-      gateBias: make(1, hidden, 0),
-      inputCandidate: make(inputSize, hidden, 1 / Math.sqrt(inputSize)),
-      recurrentCandidate: make(hidden, hidden, 1 / Math.sqrt(hidden)),
-      candidateBias: make(1, hidden, 0),
+      inputGate: matrix(inputSize),
+      recurrentGate: matrix(hidden),
+      gateBias: bias(),
+      inputCandidate: matrix(inputSize),
+      recurrentCandidate: matrix(hidden),
+      candidateBias: bias(),
     };
   }
 

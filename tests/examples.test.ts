@@ -1,0 +1,65 @@
+/** Every example runs on a reduced budget and shows what its README says it shows. */
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { tensor } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { modelTensors, writeWeightFile } from '@weft/io';
+import { createRuntime } from '@weft/io/runtime';
+
+const folder = mkdtempSync(join(tmpdir(), 'weft-examples-'));
+beforeAll(() => {
+  process.env.WEFT_EXAMPLE_BUDGET = 'small';
+});
+afterAll(() => rmSync(folder, { recursive: true, force: true }));
+
+describe('the examples (reduced budget)', () => {
+  it('(a) multi-sensor forecasting beats the seasonal-naive forecast', async () => {
+    const { forecastSensors } = await import('../examples/forecast-sensors/main.js');
+    const result = await forecastSensors();
+    expect(result.model).toBeLessThan(result.seasonalNaive);
+  });
+
+  it('(b) the character model ends well below the unigram perplexity and samples text', async () => {
+    const { textModel } = await import('../examples/text-model/main.js');
+    const result = await textModel();
+    expect(result.perplexity).toBeLessThan(0.7 * result.unigram);
+    expect(result.sample.startsWith('The weavers ')).toBe(true);
+    expect(result.sample.length).toBe(12 + 160);
+  });
+
+  it('(c) the encoder-decoder normalises held-out quantity phrases with greedy and beam decoding, sources in order and reversed', async () => {
+    const { quantities } = await import('../examples/quantities/main.js');
+    const result = await quantities();
+    expect(Object.keys(result)).toHaveLength(4);
+    for (const accuracy of Object.values(result)) expect(accuracy).toBeGreaterThan(0.5);
+  });
+
+  it('(d) the sequence classifier beats always answering the most common class', async () => {
+    const { classifyVibration } = await import('../examples/classify-vibration/main.js');
+    const result = await classifyVibration();
+    expect(result.accuracy).toBeGreaterThan(result.majority + 0.2);
+  });
+
+  it('(e) the custom cell passes its gradient check and learns inside a described model', async () => {
+    const { customCell } = await import('../examples/custom-cell/main.js');
+    const result = await customCell();
+    expect(result.gradientsPass).toBe(true);
+    expect(result.accuracy).toBeGreaterThan(0.45);
+  });
+
+  it('(f) the edge program streams readings to the same forecasts as a whole-sequence run', async () => {
+    const { streamReadings } = await import('../examples/edge-stream/main.js');
+    const model = buildModel({ input: { kind: 'values', width: 4 }, layers: [{ cell: 'gru', hidden: 8 }], readout: { width: 1 } }, { seed: 1 });
+    const metadata = { task: 'forecast', normalisation: { mean: [18, 80, 40, 15], deviation: [4, 9, 2, 18] } };
+    const path = join(folder, 'edge.weft.json');
+    writeFileSync(path, await writeWeightFile(model.description, modelTensors(model), { metadata }));
+    const readings = Array.from({ length: 20 }, (_, i) => [18 + Math.sin(i), 80 - i, 40, 15 + 3 * Math.cos(i)]);
+    const streamed = await streamReadings(path, readings);
+    const runtime = await createRuntime(await writeWeightFile(model.description, modelTensors(model), { metadata }));
+    const normalised = readings.flatMap((r) => r.map((v, j) => (v - metadata.normalisation.mean[j]) / metadata.normalisation.deviation[j]));
+    const whole = runtime.run(Float32Array.from(tensor(normalised, [20, 1, 4]).data), 20, 1);
+    streamed.forEach((value, i) => expect(Math.abs(value - (whole[i] * 4 + 18))).toBeLessThan(1e-4));
+  });
+});
