@@ -1,0 +1,65 @@
+/** A small line chart on a canvas: training loss, validation loss (dots) and gradient norm (own scale). */
+import type { ChartPoint } from './protocol.js';
+
+export class LossChart {
+  readonly training: ChartPoint[] = [];
+  readonly validation: ChartPoint[] = [];
+  readonly gradientNorm: ChartPoint[] = [];
+  private readonly canvas: HTMLCanvasElement;
+
+  constructor(canvas: HTMLCanvasElement) {
+    this.canvas = canvas;
+  }
+
+  clear(): void {
+    this.training.length = 0;
+    this.validation.length = 0;
+    this.gradientNorm.length = 0;
+    this.draw();
+  }
+
+  add(training: ChartPoint[], validation: ChartPoint[], gradientNorm: ChartPoint[]): void {
+    this.training.push(...training);
+    this.validation.push(...validation);
+    this.gradientNorm.push(...gradientNorm);
+    this.draw();
+  }
+
+  draw(): void {
+    const context = this.canvas.getContext('2d');
+    if (context === null) return;
+    const { width, height } = this.canvas;
+    const pad = 36;
+    context.fillStyle = 'white';
+    context.fillRect(0, 0, width, height);
+    context.strokeStyle = '#999';
+    context.strokeRect(pad, 8, width - 2 * pad, height - pad - 8);
+    const steps = Math.max(1, ...this.training.map((p) => p.step), ...this.validation.map((p) => p.step));
+    const losses = [...this.training, ...this.validation].map((p) => p.value).filter(Number.isFinite);
+    const high = Math.max(1e-9, ...losses);
+    const norms = this.gradientNorm.map((p) => p.value).filter(Number.isFinite);
+    const normHigh = Math.max(1e-9, ...norms);
+    const x = (step: number) => pad + ((width - 2 * pad) * step) / steps;
+    const y = (value: number, top: number) => 8 + (height - pad - 8) * (1 - value / top);
+    const line = (points: ChartPoint[], top: number, colour: string) => {
+      context.strokeStyle = colour;
+      context.beginPath();
+      points.forEach((p, i) => (i === 0 ? context.moveTo(x(p.step), y(p.value, top)) : context.lineTo(x(p.step), y(p.value, top))));
+      context.stroke();
+    };
+    line(this.gradientNorm, normHigh, '#bbb');
+    line(this.training, high, '#2c6fbb');
+    context.fillStyle = '#c0392b';
+    for (const p of this.validation) {
+      context.beginPath();
+      context.arc(x(p.step), y(p.value, high), 3, 0, 2 * Math.PI);
+      context.fill();
+    }
+    context.fillStyle = '#333';
+    context.font = '11px sans-serif';
+    context.fillText(high.toPrecision(3), 2, 16);
+    context.fillText('0', 2, height - pad);
+    context.fillText(`step ${steps}`, width - pad - 40, height - 10);
+    context.fillText(normHigh.toPrecision(3), width - pad + 2, 16);
+  }
+}

@@ -1,0 +1,80 @@
+/**
+ * What the browser page trains, as plain library calls shared by the page's worker and the Node side of the
+ * browser test: the same configuration gives the same model, data and trainer in both places, so their losses
+ * can be compared bit for bit.
+ */
+import { buildModel } from '@weft/cells';
+import type { SequenceModel } from '@weft/cells';
+import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
+import type { ProgressEvent } from '@weft/optim';
+import type { WeightMetadata } from '@weft/io';
+
+export interface TrainingConfig {
+  /** `text`: next-character model; `numbers`: one column of numbers, forecast one step ahead. */
+  readonly kind: 'text' | 'numbers';
+  readonly data: string;
+  readonly cell: 'lstm' | 'gru' | 'plain';
+  readonly hidden: number;
+  readonly epochs: number;
+  readonly window: number;
+  readonly streams: number;
+  readonly rate: number;
+  readonly seed: string;
+  /** Stop after this many steps (for quick, comparable runs). */
+  readonly maxSteps?: number;
+}
+
+export interface Prepared {
+  readonly model: SequenceModel;
+  readonly trainer: Trainer;
+  readonly metadata: WeightMetadata;
+}
+
+export function parseNumbers(text: string): number[] {
+  const values = text.split(/[\s,;]+/).filter((s) => s !== '').map(Number);
+  const bad = values.findIndex((v) => !Number.isFinite(v));
+  if (bad >= 0) throw new Error(`item ${bad + 1} is not a number`);
+  return values;
+}
+
+export function prepare(config: TrainingConfig, onProgress?: (event: ProgressEvent) => void, signal?: AbortSignal): Prepared {
+  const common = { optimizer: new AdamOptimizer({ rate: config.rate }), epochs: config.epochs, clipNorm: 1, seed: config.seed, onProgress, signal };
+  if (config.kind === 'text') {
+    const symbols = [...new Set(config.data)].sort();
+    const ids = Int32Array.from([...config.data].map((c) => symbols.indexOf(c)));
+    const split = Math.floor(ids.length * 0.9);
+    const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 12 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: symbols.length } }, { seed: config.seed });
+    const trainer = new Trainer({
+      ...common,
+      model,
+      data: streamBatches({ kind: 'tokens', tokens: ids.slice(0, split), vocabulary: symbols.length }, { streams: config.streams, window: config.window }),
+      validation: streamBatches({ kind: 'tokens', tokens: ids.slice(split), vocabulary: symbols.length }, { window: Math.min(config.window, ids.length - split - 1) }),
+      validateEvery: 10,
+    });
+    return { model, trainer, metadata: { task: 'next-token', tokens: 'characters', vocabulary: symbols } };
+  }
+  const values = parseNumbers(config.data);
+  const split = Math.floor(values.length * 0.85);
+  const mean = values.slice(0, split).reduce((s, v) => s + v, 0) / split;
+  const deviation = Math.sqrt(values.slice(0, split).reduce((s, v) => s + (v - mean) ** 2, 0) / split) || 1;
+  const normalised = values.map((v) => (v - mean) / deviation);
+  const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: 1 } }, { seed: config.seed });
+  const trainer = new Trainer({
+    ...common,
+    model,
+    data: streamBatches({ kind: 'values', values: normalised.slice(0, split), features: 1 }, { streams: config.streams, window: config.window }),
+    validation: streamBatches({ kind: 'values', values: normalised.slice(split - config.window), features: 1 }, { window: config.window }),
+    validateEvery: 10,
+  });
+  return { model, trainer, metadata: { task: 'forecast', columns: ['value'], targetColumns: ['value'], horizon: 1, normalisation: { mean: [mean], deviation: [deviation] } } };
+}
+
+/** The f32 bit pattern of a number, as 8 hex digits. */
+export function f32Bits(value: number): string {
+  const view = new DataView(new ArrayBuffer(4));
+  view.setFloat32(0, value);
+  return view.getUint32(0).toString(16).padStart(8, '0');
+}
+
+/** An invented demo text for the page. */
+export const sampleText = 'the loom hums at dawn while the dyer stirs a vat of indigo. a shuttle flies left, then right; the warp threads rise and fall. by noon the bolt of cloth is long enough to cover the bench. the weaver counts the picks per inch and tightens the reed. at dusk the looms rest and the spools are stacked by colour. ';
