@@ -9,22 +9,17 @@
  * linear_before_reset = 0); true applies it after (ONNX linear_before_reset = 1).
  * Initialisation: input Glorot-uniform per gate block, each recurrent H×H block orthogonal, biases 0.
  */
-import { Random, add, kernels, matmul, multiply, sigmoid, slice, subtract, tanh } from '@weft/core';
+import { add, kernels, matmul, multiply, sigmoid, slice, subtract, tanh } from '@weft/core';
 import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import { gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset } from './kernels/gru-step.js';
-import { checkStepArguments, createParameter, projectInputs, requirePositiveWhole, runSteps } from './recurrence.js';
+import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
+import type { CommonCellOptions } from './recurrence.js';
 
-export interface GruOptions {
-  readonly inputSize: number;
-  readonly hiddenSize: number;
+export interface GruOptions extends CommonCellOptions {
   /** Apply the reset gate after the recurrent product (ONNX linear_before_reset = 1). Default false. */
   readonly resetAfterProduct?: boolean;
-  readonly dtype?: DType;
-  readonly random?: Random | number | string;
-  readonly mode?: CellMode;
-  readonly name?: string;
 }
 
 export class GruCell implements RecurrentCell, FusedSequence {
@@ -44,16 +39,12 @@ export class GruCell implements RecurrentCell, FusedSequence {
   private readonly stepWeights: readonly Tensor[];
 
   constructor(options: GruOptions) {
-    const name = options.name ?? 'gru';
-    const inputSize = requirePositiveWhole(options.inputSize, `${name}.inputSize`);
-    const hidden = requirePositiveWhole(options.hiddenSize, `${name}.hiddenSize`);
-    const dtype = options.dtype ?? 'f32';
-    const random = options.random instanceof Random ? options.random : new Random(options.random ?? 0);
+    const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'gru');
     this.name = name;
     this.inputSize = inputSize;
     this.outputSize = hidden;
     this.dtype = dtype;
-    this.mode = options.mode ?? 'fused';
+    this.mode = mode;
     this.resetAfterProduct = options.resetAfterProduct === true;
     this.state = [{ name: 'h', size: hidden }];
     this.input = createParameter('input', [inputSize, 3 * hidden], dtype);

@@ -1,6 +1,7 @@
 /** @weft/cells: recurrent cells (plain, LSTM, GRU, your own), sequence layers and the model description. */
 export type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 export { hasFusedSequence } from './cell.js';
+export type { CommonCellOptions } from './recurrence.js';
 export type { LstmOptions } from './lstm.js';
 export { LstmCell } from './lstm.js';
 export type { GruOptions } from './gru.js';

@@ -8,27 +8,19 @@
  * forget block, which starts at `forgetBias` (default 1: Jozefowicz, Zaremba & Sutskever 2015, "An empirical
  * exploration of recurrent network architectures"), peepholes 0.
  */
-import { Random, add, fail, kernels, matmul, multiply, sigmoid, slice, tanh } from '@weft/core';
+import { add, fail, kernels, matmul, multiply, sigmoid, slice, tanh } from '@weft/core';
 import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import { lstmStepBackward, lstmStepForward } from './kernels/lstm-step.js';
-import { addAt, checkStepArguments, copyFrom, createParameter, projectInputs, requirePositiveWhole, runSteps } from './recurrence.js';
+import { addAt, checkStepArguments, copyFrom, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
+import type { CommonCellOptions } from './recurrence.js';
 
-export interface LstmOptions {
-  readonly inputSize: number;
-  readonly hiddenSize: number;
+export interface LstmOptions extends CommonCellOptions {
   /** Peephole connections from the cell to the gates. Default false. */
   readonly peepholes?: boolean;
   /** Starting value of the forget gate's bias. Default 1. */
   readonly forgetBias?: number;
-  readonly dtype?: DType;
-  /** Seed or generator for the initial weights. Default seed 0. */
-  readonly random?: Random | number | string;
-  /** `fused` (default) or `composed` (the reference, built from core operations). */
-  readonly mode?: CellMode;
-  /** Name used in messages (`layers[0].forward`). */
-  readonly name?: string;
 }
 
 export class LstmCell implements RecurrentCell, FusedSequence {
@@ -46,18 +38,14 @@ export class LstmCell implements RecurrentCell, FusedSequence {
   private readonly stepWeights: readonly Tensor[];
 
   constructor(options: LstmOptions) {
-    const name = options.name ?? 'lstm';
-    const inputSize = requirePositiveWhole(options.inputSize, `${name}.inputSize`);
-    const hidden = requirePositiveWhole(options.hiddenSize, `${name}.hiddenSize`);
+    const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'lstm');
     const forgetBias = options.forgetBias ?? 1;
     if (typeof forgetBias !== 'number' || !Number.isFinite(forgetBias)) fail('invalid_option', `${name}.forgetBias`, 'a finite number', String(forgetBias));
-    const dtype = options.dtype ?? 'f32';
-    const random = options.random instanceof Random ? options.random : new Random(options.random ?? 0);
     this.name = name;
     this.inputSize = inputSize;
     this.outputSize = hidden;
     this.dtype = dtype;
-    this.mode = options.mode ?? 'fused';
+    this.mode = mode;
     this.state = [{ name: 'h', size: hidden }, { name: 'c', size: hidden }];
     this.input = createParameter('input', [inputSize, 4 * hidden], dtype);
     this.recurrent = createParameter('recurrent', [hidden, 4 * hidden], dtype);

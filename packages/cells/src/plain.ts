@@ -5,24 +5,19 @@
  *
  * Parameters: input [I, H], recurrent [H, H], bias [H].
  */
-import { Random, add, fail, kernels, matmul, relu, tanh } from '@weft/core';
+import { add, fail, kernels, matmul, relu, tanh } from '@weft/core';
 import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillIdentity, fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import { plainStepBackward, plainStepForward } from './kernels/plain-step.js';
-import { addAt, checkStepArguments, copyFrom, createParameter, projectInputs, requirePositiveWhole, runSteps } from './recurrence.js';
+import { addAt, checkStepArguments, copyFrom, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
+import type { CommonCellOptions } from './recurrence.js';
 
 export type PlainActivation = 'tanh' | 'relu';
 
-export interface PlainOptions {
-  readonly inputSize: number;
-  readonly hiddenSize: number;
+export interface PlainOptions extends CommonCellOptions {
   /** `tanh` (default) or `relu`. */
   readonly activation?: PlainActivation;
-  readonly dtype?: DType;
-  readonly random?: Random | number | string;
-  readonly mode?: CellMode;
-  readonly name?: string;
 }
 
 export class PlainCell implements RecurrentCell, FusedSequence {
@@ -40,18 +35,14 @@ export class PlainCell implements RecurrentCell, FusedSequence {
   private readonly stepWeights: readonly Tensor[];
 
   constructor(options: PlainOptions) {
-    const name = options.name ?? 'plain';
-    const inputSize = requirePositiveWhole(options.inputSize, `${name}.inputSize`);
-    const hidden = requirePositiveWhole(options.hiddenSize, `${name}.hiddenSize`);
+    const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'plain');
     const activation = options.activation ?? 'tanh';
     if (activation !== 'tanh' && activation !== 'relu') fail('invalid_option', `${name}.activation`, "'tanh' or 'relu'", JSON.stringify(activation));
-    const dtype = options.dtype ?? 'f32';
-    const random = options.random instanceof Random ? options.random : new Random(options.random ?? 0);
     this.name = name;
     this.inputSize = inputSize;
     this.outputSize = hidden;
     this.dtype = dtype;
-    this.mode = options.mode ?? 'fused';
+    this.mode = mode;
     this.activation = activation;
     this.state = [{ name: 'h', size: hidden }];
     this.input = createParameter('input', [inputSize, hidden], dtype);

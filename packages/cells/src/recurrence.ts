@@ -4,10 +4,45 @@
  * the bias, common practice for recurrent layers), then runs one fused tape node per step, each reading its
  * step's rows of the projection.
  */
-import { WeftError, add, fail, formatShape, matmul, reshape, trainable, zeros } from '@weft/core';
+import { Random, WeftError, add, fail, formatShape, matmul, reshape, trainable, zeros } from '@weft/core';
 import type { DType, FloatArray, Tape, Tensor } from '@weft/core';
-import type { SequenceResult } from './cell.js';
+import type { CellMode, SequenceResult } from './cell.js';
 import { stackSteps } from './sequence-ops.js';
+
+/** The options every built-in cell takes. */
+export interface CommonCellOptions {
+  readonly inputSize: number;
+  readonly hiddenSize: number;
+  readonly dtype?: DType;
+  /** Seed or generator for the initial weights. Default seed 0. */
+  readonly random?: Random | number | string;
+  /** `fused` (default) or `composed` (the reference, built from core operations). */
+  readonly mode?: CellMode;
+  /** Name used in messages (`layers[0].forward`). */
+  readonly name?: string;
+}
+
+export interface ResolvedCellOptions {
+  readonly name: string;
+  readonly inputSize: number;
+  readonly hidden: number;
+  readonly dtype: DType;
+  readonly random: Random;
+  readonly mode: CellMode;
+}
+
+/** Checks and fills in the common options, naming the cell in any message. */
+export function resolveCellOptions(options: CommonCellOptions, kind: string): ResolvedCellOptions {
+  const name = options.name ?? kind;
+  return {
+    name,
+    inputSize: requirePositiveWhole(options.inputSize, `${name}.inputSize`),
+    hidden: requirePositiveWhole(options.hiddenSize, `${name}.hiddenSize`),
+    dtype: options.dtype ?? 'f32',
+    random: options.random instanceof Random ? options.random : new Random(options.random ?? 0),
+    mode: options.mode ?? 'fused',
+  };
+}
 
 export function createParameter(name: string, shape: readonly number[], dtype: DType): Tensor {
   return trainable(zeros(shape, dtype), name);

@@ -7,5 +7,6 @@ export type { NamedValues, ReadOptions, StoredDType, WeightFile, WeightMetadata,
 export { FORMAT_TAG, FORMAT_VERSION, readWeightFile, writeWeightFile } from './weight-file.js';
 export type { LoadOptions } from './model-file.js';
 export { loadEncoderDecoder, loadModel, modelTensors } from './model-file.js';
+export { readWeightFileBlob, weightFileBlob } from './blob.js';
 export type { Checkpoint } from './checkpoint.js';
 export { readCheckpoint, writeCheckpoint } from './checkpoint.js';

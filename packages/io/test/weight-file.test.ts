@@ -167,3 +167,15 @@ describe('the weight file', () => {
     }
   });
 });
+
+describe('weight files as Blobs', () => {
+  it('round-trip through a Blob', async () => {
+    const { readWeightFileBlob, weightFileBlob } = await import('@weft/io');
+    const model = shaken(descriptions.LSTM, 2);
+    const blob = weightFileBlob(await writeWeightFile(model.description, modelTensors(model)));
+    expect(blob.type).toBe('application/json');
+    const file = await readWeightFileBlob(blob);
+    expect(file.tensors.map((t) => t.name)).toEqual(model.parameters().map((p) => p.name));
+    await expect(readWeightFileBlob(blob, { maxCharacters: 10 })).rejects.toThrowError(/Bad weight file at \(file\): expected at most 10 characters/);
+  });
+});

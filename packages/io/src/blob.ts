@@ -1,0 +1,17 @@
+/** Weight files as Blobs, for pages that download or receive them (File is a Blob). */
+import { WeftError } from '@weft/core';
+import type { ReadOptions, WeightFile } from './weight-file.js';
+import { readWeightFile } from './weight-file.js';
+
+export function weightFileBlob(text: string): Blob {
+  return new Blob([text], { type: 'application/json' });
+}
+
+export async function readWeightFileBlob(blob: Blob, options: ReadOptions = {}): Promise<WeightFile> {
+  const limit = options.maxCharacters ?? 512 * 1024 * 1024;
+  // Refuse before reading: a UTF-8 Blob has at least one byte per character.
+  if (blob.size > limit * 4) {
+    throw new WeftError({ code: 'bad_weight_file', path: '(file)', expected: `at most ${limit} characters`, received: `${blob.size} bytes` });
+  }
+  return readWeightFile(await blob.text(), options);
+}
