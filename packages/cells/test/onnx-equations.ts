@@ -44,10 +44,9 @@ function gatePre(x: number[], h: number[], w: Matrix, r: Matrix, b: number[] | u
   return s;
 }
 
-function stepOrder(steps: number, length: number, reverse: boolean): number[] {
+function stepOrder(length: number, reverse: boolean): number[] {
   const order: number[] = [];
   for (let s = 0; s < length; s++) order.push(reverse ? length - 1 - s : s);
-  void steps;
   return order;
 }
 
@@ -67,7 +66,7 @@ export function specLstm(input: SpecInputs): SpecOutputs {
     let h = input.h0 ? input.h0[bRow].slice() : new Array<number>(hidden).fill(0);
     let c = input.c0 ? input.c0[bRow].slice() : new Array<number>(hidden).fill(0);
     const length = input.lengths ? input.lengths[bRow] : steps;
-    for (const t of stepOrder(steps, length, input.reverse === true)) {
+    for (const t of stepOrder(length, input.reverse === true)) {
       const x = input.x[t][bRow];
       const hNext: number[] = [];
       const cNext: number[] = [];
@@ -101,7 +100,7 @@ export function specGru(input: SpecInputs): SpecOutputs {
   for (let bRow = 0; bRow < batch; bRow++) {
     let h = input.h0 ? input.h0[bRow].slice() : new Array<number>(hidden).fill(0);
     const length = input.lengths ? input.lengths[bRow] : steps;
-    for (const t of stepOrder(steps, length, input.reverse === true)) {
+    for (const t of stepOrder(length, input.reverse === true)) {
       const x = input.x[t][bRow];
       const z: number[] = [];
       const r: number[] = [];
@@ -146,7 +145,7 @@ export function specRnn(input: SpecInputs): SpecOutputs {
   for (let bRow = 0; bRow < batch; bRow++) {
     let h = input.h0 ? input.h0[bRow].slice() : new Array<number>(hidden).fill(0);
     const length = input.lengths ? input.lengths[bRow] : steps;
-    for (const t of stepOrder(steps, length, input.reverse === true)) {
+    for (const t of stepOrder(length, input.reverse === true)) {
       const x = input.x[t][bRow];
       const hNext: number[] = [];
       for (let j = 0; j < hidden; j++) hNext.push(Math.tanh(gatePre(x, h, input.w, input.r, input.b, 0, j, hidden, 1)));

@@ -21,8 +21,8 @@ export async function inspect(args: ParsedArgs): Promise<string> {
     return { name: t.name, shape: `[${t.shape.join(', ')}]`, dtype, bytes, elements: t.values.length };
   });
   const parameters = rows.reduce((n, r) => n + r.elements, 0);
-  const { history, ...metadata } = file.metadata as Record<string, unknown>;
-  void history;
+  // The loss history a checkpoint carries is for resuming the loss curve, not for reading here.
+  const metadata = Object.fromEntries(Object.entries(file.metadata).filter(([key]) => key !== 'history'));
   if (args.switches.has('json')) {
     return JSON.stringify({ model: file.model, tensors: rows, parameters, metadata, digest: { hex: file.digest, verified: file.digestVerified }, checkpoint: file.training !== undefined }, null, 2);
   }

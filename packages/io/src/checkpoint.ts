@@ -13,9 +13,9 @@ import type { ReadOptions, WeightFile, WeightMetadata } from './weight-file.js';
 import { readWeightFile, writeWeightFile } from './weight-file.js';
 
 export async function writeCheckpoint(trainer: Trainer, model: SequenceModel, metadata: WeightMetadata = {}): Promise<string> {
-  // The trainer trains SequenceModels; its snapshot names their parameters.
-  const { parameters: _parameters, ...training } = trainer.snapshot();
-  void _parameters;
+  // The weights travel as the file's tensors; the rest of the snapshot is the training state.
+  const training: Partial<TrainingSnapshot> = { ...trainer.snapshot() };
+  delete training.parameters;
   return writeWeightFile(model.description, modelTensors(model), { dtype: 'f32', metadata, training });
 }
 

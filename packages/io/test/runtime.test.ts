@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { BufferPool, Random, Tape, sharedPool, tensor } from '@weft/core';
+import { Random, Tape, sharedPool, tensor } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
 import { Runtime, createRuntime, generateTokens, greedy, runtimeCounts, sample } from '@weft/io/runtime';
@@ -95,7 +95,6 @@ describe('the inference runtime', () => {
       expect(runtimeCounts.arrays).toBe(made);
       expect(sharedPool.counts().created).toBe(kernelArrays);
     }
-    void BufferPool;
   });
 
   it('refuses to stream a bidirectional model and names the input problems', async () => {

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Random, Tape, WeftError, tensor } from '@weft/core';
+import { Tape, WeftError, tensor } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { loadModel, modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
 import type { StoredDType } from '@weft/io';
@@ -159,8 +159,6 @@ describe('the weight file', () => {
     model.parameters().forEach((p, i) => (dtypes[p.name] = (['f32', 'f16', 'i8'] as const)[i % 3]));
     const file = await readWeightFile(await writeWeightFile(model.description, modelTensors(model), { dtype: dtypes }));
     expect(file.storedAs).toEqual(dtypes);
-    const random = new Random(1);
-    void random;
     for (const t of file.tensors) {
       const original = model.parameters().find((p) => p.name === t.name)!.tensor.data;
       if (dtypes[t.name] === 'f32') expect(Array.from(t.values)).toEqual(Array.from(original));
