@@ -14,7 +14,7 @@ import { readWeightFile, writeWeightFile } from './weight-file.js';
 
 export async function writeCheckpoint(trainer: Trainer, model: SequenceModel, metadata: WeightMetadata = {}): Promise<string> {
   // The weights travel as the file's tensors; the rest of the snapshot is the training state.
-  const training: Partial<TrainingSnapshot> = { ...trainer.snapshot() };
+  const training: Record<string, unknown> = { ...trainer.snapshot() };
   delete training.parameters;
   return writeWeightFile(model.description, modelTensors(model), { dtype: 'f32', metadata, training });
 }
