@@ -57,7 +57,7 @@ ${ticks}
 <text x="${width / 2}" y="${height - 10}" text-anchor="middle" font-size="12">step (of ${maxStep})</text>
 <polyline fill="none" stroke="#2c6fbb" stroke-width="1.5" points="${line}"/>
 ${dots}
-<text x="${width - right}" y="${top - 6}" text-anchor="end" font-size="11"><tspan fill="#2c6fbb">— training loss</tspan>  <tspan fill="#c0392b">● validation loss</tspan></text>
+<text x="${width - right - 6}" y="${top + 14}" text-anchor="end" font-size="11"><tspan fill="#2c6fbb">— training loss</tspan>  <tspan fill="#c0392b">● validation loss</tspan></text>
 </svg>
 `;
 }
