@@ -5,7 +5,7 @@
  */
 import { readFileSync, realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { WeftError } from '@weft/core';
+import { WeftError, describeProblem } from '@weft/core';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { helpText, parseArgs } from './args.js';
 import { check, checkFlags } from './check.js';
@@ -118,7 +118,9 @@ export async function main(argv: readonly string[]): Promise<number> {
       return error.exitCode;
     }
     if (error instanceof WeftError) {
-      process.stderr.write(`weft: ${error.message.split('\n').join('\n  ')}\n`);
+      // One line, however many problems the error lists.
+      const line = error.problems.length === 1 ? error.message : `${error.problems.length} problems: ${error.problems.map(describeProblem).join('; ')}`;
+      process.stderr.write(`weft: ${line}\n`);
       if (debug) process.stderr.write(`${error.stack ?? ''}\n`);
       return 1;
     }

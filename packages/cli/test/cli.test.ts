@@ -128,6 +128,13 @@ describe('the weft command', () => {
       expectOneLineError(result, 1, /^weft: notes\.weft\.checkpoint\.json: the checkpoint does not match the requested model: model\.layers\[0\]\.hidden is 32 in the checkpoint, 16 requested$/);
     });
 
+    it('a damaged weight file, every problem on the one line', () => {
+      writeFileSync(join(folder, 'damaged.json'), '{"format":"weft-weights","version":1}');
+      expectOneLineError(weft(['inspect', 'damaged.json']), 1, /^weft: 3 problems: Bad weight file at damaged\.json: model: .*; Bad weight file at damaged\.json: digest: .*; Bad weight file at damaged\.json: tensors: expected an array, received undefined$/);
+      writeFileSync(join(folder, 'not-json.json'), 'hello\nworld\n');
+      expectOneLineError(weft(['run', 'not-json.json', '-']), 1, /^weft: Bad weight file at not-json\.json: \(file\): expected valid JSON, received .*$/);
+    });
+
     it('shows the stack trace only with --debug', () => {
       const result = weft(['train', 'nowhere.csv', '--debug']);
       expect(result.code).toBe(1);

@@ -213,7 +213,9 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
       return value;
     });
   } catch (error) {
-    refuse('(file)', 'valid JSON', `${(error as Error).message}${text.trimEnd().endsWith('}') ? '' : ' (the file looks cut short)'}`);
+    const reason = (error as Error).message.replace(/\s+/g, ' ');
+    const cutShort = text.trimStart().startsWith('{') && !text.trimEnd().endsWith('}');
+    refuse('(file)', 'valid JSON', `${reason}${cutShort ? ' (the file looks cut short)' : ''}`);
   }
   if (forbidden.length > 0) refuse('(file)', 'no key named __proto__, constructor or prototype', `a key ${JSON.stringify(forbidden[0])}`);
   const problems: Problem[] = [];
