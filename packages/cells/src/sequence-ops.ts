@@ -225,3 +225,31 @@ export function zeroBeyondLengths(tape: Tape, sequence: Tensor, lengths: Int32Ar
   if (node !== null) node.integers = lengths;
   return out;
 }
+
+const joinKind: OperationKind = {
+  name: 'joinSteps',
+  backward(node: TapeNode, tape: Tape): void {
+    const first = node.first as Tensor;
+    const second = node.second as Tensor;
+    const g = (node.output as Tensor).gradient!;
+    if (first.tracked) {
+      const gf = tape.gradientOf(first);
+      for (let i = 0; i < first.size; i++) gf[i] += g[i];
+    }
+    if (second.tracked) {
+      const gs = tape.gradientOf(second);
+      for (let i = 0; i < second.size; i++) gs[i] += g[first.size + i];
+    }
+  },
+};
+
+/** Two sequences [T1, B, F] and [T2, B, F] one after the other in time: [T1 + T2, B, F]. */
+export function joinSteps(tape: Tape, first: Tensor, second: Tensor): Tensor {
+  const [t1, rows, width] = first.shape;
+  const [t2] = second.shape;
+  const out = tape.output([t1 + t2, rows, width], first.dtype, first.tracked || second.tracked);
+  for (let i = 0; i < first.size; i++) out.data[i] = first.data[i];
+  for (let i = 0; i < second.size; i++) out.data[first.size + i] = second.data[i];
+  tape.record(joinKind, out, first, second);
+  return out;
+}

@@ -32,6 +32,7 @@ export interface Prepared {
 
 export interface PrepareOptions {
   readonly window: number;
+  readonly lookback: number;
   readonly streams: number;
   readonly validationShare: number;
   readonly horizon: number;
@@ -70,7 +71,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const normalised = values.map((row) => row.map((v, j) => (v - mean[j]) / deviation[j]));
   const targetIndexes = targets.map((t) => columns.indexOf(t));
   const flat = (from: number, to: number) => normalised.slice(from, to).flat();
-  const train = streamBatches({ kind: 'values', values: flat(0, trainRows), features: columns.length, targetColumns: targetIndexes, horizon: options.horizon }, { streams: options.streams, window: options.window });
+  const train = streamBatches({ kind: 'values', values: flat(0, trainRows), features: columns.length, targetColumns: targetIndexes, horizon: options.horizon }, { streams: options.streams, window: options.window, lookback: options.lookback });
   // Validation reads the held-out rows as one stream, warmed up by the window before them.
   const validationFrom = trainRows - options.window;
   const heldOutSteps = Math.floor((rows - validationFrom - options.horizon) / options.window) * options.window;
@@ -144,7 +145,7 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
     task: 'text',
     input: { kind: 'embedding', vocabulary: vocabulary.length, width: options.embedding },
     outputWidth: vocabulary.length,
-    train: streamBatches({ kind: 'tokens', tokens: trainIds, vocabulary: vocabulary.length }, { streams: options.streams, window: options.window }),
+    train: streamBatches({ kind: 'tokens', tokens: trainIds, vocabulary: vocabulary.length }, { streams: options.streams, window: options.window, lookback: options.lookback }),
     validation: validationSource,
     metadata: { task: 'next-token', tokens: options.tokens, vocabulary },
     baseline: { name: 'unigram frequencies of the training text', value: unigram, metric: 'validation perplexity' },

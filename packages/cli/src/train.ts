@@ -23,7 +23,8 @@ export const trainFlags: FlagSpec[] = [
   { name: 'layers', value: 'NUMBER', description: 'stacked layers', fallback: '1' },
   { name: 'bidirectional', switch: true, description: 'read sequences both ways (classify only)' },
   { name: 'dropout', value: 'RATE', description: 'dropout between layers while training', fallback: '0' },
-  { name: 'window', value: 'STEPS', description: 'truncated-backpropagation window', fallback: '32' },
+  { name: 'window', value: 'STEPS', description: 'truncated-backpropagation window: new steps per update', fallback: '32' },
+  { name: 'lookback', value: 'STEPS', description: 'also back-propagate through this many steps before each window (forecast, text)', fallback: '0' },
   { name: 'streams', value: 'NUMBER', description: 'parallel streams (forecast, text) or sequences per batch (classify)', fallback: '8' },
   { name: 'epochs', value: 'NUMBER', description: 'passes over the training data', fallback: '5' },
   { name: 'rate', value: 'NUMBER', description: 'Adam learning rate', fallback: '0.005' },
@@ -96,6 +97,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const seed = args.flags.get('seed') ?? '1';
   const options = {
     window: numberFlag(args, 'window', 32, { whole: true, min: 1, max: 100000 }),
+    lookback: numberFlag(args, 'lookback', 0, { whole: true, min: 0, max: 100000 }),
     streams: numberFlag(args, 'streams', 8, { whole: true, min: 1, max: 4096 }),
     validationShare: numberFlag(args, 'validation', 0.1, { min: 0.01, max: 0.9 }),
     horizon: numberFlag(args, 'horizon', 1, { whole: true, min: 1, max: 100000 }),
@@ -106,6 +108,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     batch: numberFlag(args, 'streams', 8, { whole: true, min: 1, max: 4096 }),
     seed,
   };
+  if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
   if (args.switches.has('bidirectional') && task !== 'classify') throw new CommandError('--bidirectional needs --task classify (forecasts and text are read forward in time)', 2);
   const prepared: Prepared =
     task === 'forecast' ? prepareForecast(text, dataPath, options)

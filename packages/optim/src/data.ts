@@ -5,8 +5,10 @@
  *
  * - `streamBatches`: one long stream, or a corpus cut into B parallel streams (stream b is the b-th contiguous
  *   slice), read in windows of T steps; consecutive windows continue each stream, so the model's state carries
- *   across them (detached: truncated backpropagation through time, Williams & Peng 1990). The tail that does not
- *   fill a whole window is left out of training.
+ *   across them (detached: truncated backpropagation through time, Williams & Peng 1990, with k1 = T new steps per
+ *   update). With `lookback` L > 0 each window also re-reads the L steps before it, without loss on them, so the
+ *   reverse sweep reaches k2 = T + L steps back (their algorithm BPTT(k2; k1) with k2 > k1); the state carried on
+ *   is then the one L steps before the window's end. The tail that does not fill a whole window is left out.
  * - `sequenceBatches`: independent sequences of different lengths, sorted by length and cut into batches of
  *   similar lengths (so little padding), padded and masked; the batch order is shuffled each epoch by the seeded
  *   generator, and the state starts afresh for each batch.
@@ -30,6 +32,11 @@ export interface Batch {
   readonly targets: BatchTargets;
   /** Real (unpadded) positions, for tokens per second. */
   readonly positions: number;
+  /**
+   * For streams with a lookback: after how many leading steps the state to carry into the next batch is taken
+   * (absent: after the last step).
+   */
+  readonly carryAfter?: number;
 }
 
 export interface DataSource {
@@ -62,8 +69,25 @@ export interface ValueStreamOptions {
 export interface StreamOptions {
   /** Parallel streams B (default 1). */
   readonly streams?: number;
-  /** Window length T. */
+  /** Window length T: new steps per update (k1). */
   readonly window: number;
+  /** Extra steps before each window that the reverse sweep runs through (k2 − k1), at most T. Default 0. */
+  readonly lookback?: number;
+}
+
+/** Where window `index` starts and how its lookback, loss weights and carried state fall. */
+function windowPlan(index: number, window: number, lookback: number, streams: number) {
+  const start = index * window;
+  const begin = Math.max(0, start - lookback);
+  const steps = start + window - begin;
+  const skipped = start - begin;
+  const carryAfter = Math.max(0, (index + 1) * window - lookback - begin);
+  let weights: Float64Array | null = null;
+  if (skipped > 0) {
+    weights = new Float64Array(steps * streams).fill(1);
+    weights.fill(0, 0, skipped * streams);
+  }
+  return { begin, steps, carryAfter: lookback > 0 ? carryAfter : undefined, weights };
 }
 
 export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, options: StreamOptions): DataSource {
@@ -71,6 +95,8 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
   const window = options.window;
   if (!Number.isInteger(streams) || streams < 1) fail('invalid_option', 'stream.streams', 'a whole number ≥ 1', String(streams));
   if (!Number.isInteger(window) || window < 1) fail('invalid_option', 'stream.window', 'a whole number ≥ 1', String(window));
+  const lookback = options.lookback ?? 0;
+  if (!Number.isInteger(lookback) || lookback < 0 || lookback > window) fail('invalid_option', 'stream.lookback', `a whole number from 0 to the window (${window})`, String(lookback));
   if (data.kind === 'tokens') {
     const { tokens, vocabulary } = data;
     for (let i = 0; i < tokens.length; i++) {
@@ -84,22 +110,24 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
       batchesPerEpoch: windows,
       carriesState: true,
       batch(_epoch: number, index: number): Batch {
-        const ids = new Int32Array(window * streams);
-        const classes = new Int32Array(window * streams);
-        for (let t = 0; t < window; t++) {
+        const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams);
+        const ids = new Int32Array(steps * streams);
+        const classes = new Int32Array(steps * streams);
+        for (let t = 0; t < steps; t++) {
           for (let b = 0; b < streams; b++) {
-            const at = b * perStream + index * window + t;
+            const at = b * perStream + begin + t;
             ids[t * streams + b] = tokens[at];
             classes[t * streams + b] = tokens[at + 1];
           }
         }
         return {
-          input: { tokens: ids, steps: window, batch: streams },
-          steps: window,
+          input: { tokens: ids, steps, batch: streams },
+          steps,
           batch: streams,
           lengths: null,
-          targets: { kind: 'classes', perStep: true, classes, weights: null },
+          targets: { kind: 'classes', perStep: true, classes, weights },
           positions: window * streams,
+          carryAfter,
         };
       },
     };
@@ -126,23 +154,25 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
     batchesPerEpoch: windows,
     carriesState: true,
     batch(_epoch: number, index: number): Batch {
-      const input = new Array<number>(window * streams * features);
-      const target = new Array<number>(window * streams * width);
-      for (let t = 0; t < window; t++) {
+      const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams);
+      const input = new Array<number>(steps * streams * features);
+      const target = new Array<number>(steps * streams * width);
+      for (let t = 0; t < steps; t++) {
         for (let b = 0; b < streams; b++) {
-          const row = b * perStream + index * window + t;
+          const row = b * perStream + begin + t;
           const at = t * streams + b;
           for (let f = 0; f < features; f++) input[at * features + f] = values[row * features + f];
           for (let c = 0; c < width; c++) target[at * width + c] = values[(row + horizon) * features + columns[c]];
         }
       }
       return {
-        input: tensor(input, [window, streams, features], dtype),
-        steps: window,
+        input: tensor(input, [steps, streams, features], dtype),
+        steps,
         batch: streams,
         lengths: null,
-        targets: { kind: 'values', perStep: true, width, values: tensor(target, [window * streams, width], dtype), weights: null },
+        targets: { kind: 'values', perStep: true, width, values: tensor(target, [steps * streams, width], dtype), weights },
         positions: window * streams,
+        carryAfter,
       };
     },
   };

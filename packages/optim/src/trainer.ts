@@ -11,10 +11,11 @@
  * captures weights, optimiser state, generator state, schedule position, data cursor, carried state and the
  * early-stopping record, and `restore()` continues bit for bit.
  */
-import { BufferPool, Random, Tape, WeftError, meanSquaredError, reshape, resetGradients, sharedPool, softmaxCrossEntropy, zeros } from '@weft/core';
-import type { FloatArray, RandomState, Tensor } from '@weft/core';
+import { BufferPool, Random, Tape, Tensor, WeftError, meanSquaredError, reshape, resetGradients, sharedPool, softmaxCrossEntropy, zeros } from '@weft/core';
+import type { FloatArray, RandomState } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
-import { lastSteps } from '@weft/cells';
+import { joinSteps, lastSteps } from '@weft/cells';
+import type { TokenBatch } from '@weft/cells';
 import { clipByGlobalNorm, clipByValue, firstNonFiniteEntry, gradientNorm } from './clipping.js';
 import type { Batch, DataSource } from './data.js';
 import { classificationMetrics, regressionMetrics } from './metrics.js';
@@ -146,12 +147,7 @@ export class Trainer {
     if (data.carriesState && this.index === 0) this.carried = null;
     this.tape.clear();
     resetGradients(this.parameters);
-    const result = this.model.run(this.tape, batch.input, {
-      lengths: batch.lengths,
-      initialState: data.carriesState && this.carried !== null ? this.carried : undefined,
-      training: true,
-      random: this.random,
-    });
+    const result = this.forward(batch, data.carriesState && this.carried !== null ? this.carried : undefined);
     const loss = taskLoss(this.tape, result.outputs, batch);
     const value = loss.data[0];
     const stepNumber = this.stepCount + 1;
@@ -185,8 +181,8 @@ export class Trainer {
       }
     }
     if (data.carriesState) {
-      if (this.carried === null) this.carried = result.state.map((s) => this.tape.keep(s));
-      else result.state.forEach((s, i) => this.tape.keep(s, (this.carried as Tensor[])[i]));
+      if (this.carried === null) this.carried = result.carry.map((s) => this.tape.keep(s));
+      else result.carry.forEach((s, i) => this.tape.keep(s, (this.carried as Tensor[])[i]));
     }
     this.tape.clear();
     this.stepCount = stepNumber;
@@ -200,6 +196,36 @@ export class Trainer {
     this.positionsThisRun += batch.positions;
     this.emit('step', value, norm, multiplier);
     return value;
+  }
+
+  /**
+   * The model over one batch. With a lookback (`carryAfter` < steps) it runs in two pieces on one tape: the steps
+   * up to `carryAfter`, whose final state is what the next batch starts from, then the rest from that state, so
+   * the reverse sweep runs through all of them.
+   */
+  private forward(batch: Batch, initialState: readonly Tensor[] | undefined): { outputs: Tensor; carry: readonly Tensor[] } {
+    const options = { lengths: batch.lengths, training: true, random: this.random };
+    const split = batch.carryAfter;
+    if (split === undefined || split >= batch.steps) {
+      const result = this.model.run(this.tape, batch.input, { ...options, initialState });
+      return { outputs: result.outputs, carry: result.state };
+    }
+    const [head, tail] = splitSteps(batch.input, split, batch.batch);
+    let carry: readonly Tensor[];
+    let headOutputs: Tensor | null = null;
+    if (head === null) {
+      carry = initialState ?? this.model.stateSlots().map((slot) => {
+        const fresh = this.tape.output([batch.batch, slot.size], this.model.dtype, false);
+        fresh.data.fill(0);
+        return fresh;
+      });
+    } else {
+      const first = this.model.run(this.tape, head, { ...options, initialState });
+      carry = first.state;
+      headOutputs = first.outputs;
+    }
+    const second = this.model.run(this.tape, tail, { ...options, initialState: carry });
+    return { outputs: headOutputs === null ? second.outputs : joinSteps(this.tape, headOutputs, second.outputs), carry };
   }
 
   /** Loss and metric over a whole data source, without recording (state carried across stream windows). */
@@ -406,4 +432,17 @@ function taskLoss(tape: Tape, outputs: Tensor, batch: Batch): Tensor {
     throw new WeftError({ code: 'shape_mismatch', path: 'trainer.model.outputs', expected: `${targets.width} values per step (the target width)`, received: `${picked.shape[1]}` });
   }
   return meanSquaredError(tape, picked, targets.values, weights === null ? {} : { weights });
+}
+
+/** A time-major batch input cut after `split` steps (views, no copies); the first part is null when `split` is 0. */
+function splitSteps(input: Tensor | TokenBatch, split: number, rows: number): [Tensor | TokenBatch | null, Tensor | TokenBatch] {
+  if (!(input instanceof Tensor)) {
+    const { tokens, steps, batch } = input;
+    const tail: TokenBatch = { tokens: tokens.subarray(split * rows), steps: steps - split, batch };
+    return [split === 0 ? null : { tokens: tokens.subarray(0, split * rows), steps: split, batch }, tail];
+  }
+  const [steps, , width] = input.shape;
+  const cut = split * rows * width;
+  const tail = new Tensor(input.data.subarray(cut), [steps - split, rows, width]);
+  return [split === 0 ? null : new Tensor(input.data.subarray(0, cut), [split, rows, width]), tail];
 }
