@@ -63,3 +63,17 @@ describe('the examples (reduced budget)', () => {
     streamed.forEach((value, i) => expect(Math.abs(value - (whole[i] * 4 + 18))).toBeLessThan(1e-4));
   });
 });
+
+describe('the first look', () => {
+  it('runs and its gradient check passes', async () => {
+    const lines: string[] = [];
+    const log = console.log;
+    console.log = (...args: unknown[]) => lines.push(args.join(' '));
+    try {
+      await import('../examples/first-look.js');
+    } finally {
+      console.log = log;
+    }
+    expect(lines.join('\n')).toMatch(/^gradient check PASSED/);
+  });
+});
