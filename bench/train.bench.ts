@@ -11,7 +11,7 @@
 import { Random, randomUniform, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, clipByGlobalNorm, firstNonFiniteEntry } from '@weft/optim';
+import { AdamRule, Trainer, limitGradientNorm, firstNonFiniteEntry } from '@weft/optim';
 import type { Batch, DataSource } from '@weft/optim';
 import type { BenchCase, BenchResult, Derived } from './harness.js';
 
@@ -28,7 +28,7 @@ function idOf(s: Shape): string {
   return `train.${s.cell}.b${s.batch}t${s.steps}i${s.inputs}h${s.hidden}v${s.classes}`;
 }
 
-function setup(shape: Shape): { model: SequenceModel; trainer: Trainer; optimizer: AdamOptimizer } {
+function setup(shape: Shape): { model: SequenceModel; trainer: Trainer; optimizer: AdamRule } {
   const random = new Random(`train-${idOf(shape)}`);
   const model = buildModel({ input: { kind: 'values', width: shape.inputs }, layers: [{ cell: shape.cell, hidden: shape.hidden }], readout: { width: shape.classes } }, { seed: 1 });
   const batch: Batch = {
@@ -41,7 +41,7 @@ function setup(shape: Shape): { model: SequenceModel; trainer: Trainer; optimize
   };
   // The same batch every step, so the bench measures the step, not data preparation.
   const data: DataSource = { batchesPerEpoch: 1_000_000, carriesState: false, batch: () => batch };
-  const optimizer = new AdamOptimizer({ rate: 1e-4 });
+  const optimizer = new AdamRule({ rate: 1e-4 });
   const trainer = new Trainer({ model, data, optimizer, epochs: 1, clipNorm: 1 });
   return { model, trainer, optimizer };
 }
@@ -69,7 +69,7 @@ function updateCase(shape: Shape): BenchCase {
       const backup = parameters.map((p) => tensor(new Float32Array(p.size), [p.size]));
       return () => {
         firstNonFiniteEntry(parameters, 'gradient');
-        clipByGlobalNorm(parameters, 1);
+        limitGradientNorm(parameters, 1);
         for (let i = 0; i < parameters.length; i++) backup[i].data.set(parameters[i].data);
         optimizer.update(parameters);
         firstNonFiniteEntry(parameters, 'values');

@@ -14,7 +14,7 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { Tape, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
+import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 
 // The package's exports map does not list its data files, so read the file from the installed package folder.
 const csvPath = fileURLToPath(new URL('../node_modules/vega-datasets/data/co2-concentration.csv', import.meta.url));
@@ -35,7 +35,7 @@ describe('forecasting an open dataset (Mauna Loa CO₂ via vega-datasets)', () =
     const trainer = new Trainer({
       model,
       data: streamBatches({ kind: 'values', values: normalised.slice(0, trainCount), features: 1 }, { streams: 4, window: 24 }),
-      optimizer: new AdamOptimizer({ rate: 0.01 }),
+      optimizer: new AdamRule({ rate: 0.01 }),
       epochs: 60,
       clipNorm: 1,
     });

@@ -7,7 +7,7 @@
  */
 import { Random } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, sequenceBatches } from '@weft/optim';
+import { AdamRule, Trainer, sequenceBatches } from '@weft/optim';
 import type { LabelledSequence } from '@weft/optim';
 import { runIfMain, smallBudget } from '../shared.js';
 
@@ -38,7 +38,7 @@ export async function classifyVibration(): Promise<{ accuracy: number; majority:
     model,
     data: sequenceBatches(train, { batchSize: 32, seed: 1 }),
     validation: sequenceBatches(test, { batchSize: 100 }),
-    optimizer: new AdamOptimizer({ rate: 0.01 }),
+    optimizer: new AdamRule({ rate: 0.01 }),
     epochs: smallBudget() ? 6 : 12,
     clipNorm: 1,
   });

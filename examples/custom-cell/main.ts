@@ -7,7 +7,7 @@
  */
 import { Random, Tape, checkGradients, multiply, randomUniform, sum } from '@weft/core';
 import { buildModel, runSequence } from '@weft/cells';
-import { AdamOptimizer, Trainer, sequenceBatches } from '@weft/optim';
+import { AdamRule, Trainer, sequenceBatches } from '@weft/optim';
 import { bursts } from '../classify-vibration/main.js';
 import { runIfMain, smallBudget } from '../shared.js';
 import { MinimalGatedCell } from './minimal-gated-cell.js';
@@ -33,7 +33,7 @@ export async function customCell(): Promise<{ gradientsPass: boolean; accuracy: 
     model,
     data: sequenceBatches(bursts(smallBudget() ? 300 : 900, 'pumps-train'), { batchSize: 32, seed: 1 }),
     validation: sequenceBatches(bursts(300, 'pumps-test'), { batchSize: 100 }),
-    optimizer: new AdamOptimizer({ rate: 0.01 }),
+    optimizer: new AdamRule({ rate: 0.01 }),
     epochs: smallBudget() ? 6 : 12,
     clipNorm: 1,
   });

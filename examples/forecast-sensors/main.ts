@@ -8,7 +8,7 @@
  */
 import { Random, Tape, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
+import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 import { runIfMain, smallBudget } from '../shared.js';
 
 const CYCLE = 24;
@@ -39,7 +39,7 @@ export async function forecastSensors(): Promise<{ model: number; seasonalNaive:
   const trainer = new Trainer({
     model,
     data: streamBatches({ kind: 'values', values: normalised.slice(0, trainRows).flat(), features: 4 }, { streams: 4, window: 32 }),
-    optimizer: new AdamOptimizer({ rate: 0.01 }),
+    optimizer: new AdamRule({ rate: 0.01 }),
     epochs: smallBudget() ? 8 : 25,
     clipNorm: 1,
   });

@@ -6,9 +6,9 @@
  *
  * Run: npx tsx examples/quantities/main.ts
  */
-import { Random, Tape, reshape, resetGradients, softmaxCrossEntropy } from '@weft/core';
+import { Random, Tape, reshape, resetGradients, crossEntropyAtTargets } from '@weft/core';
 import { EncoderDecoderModel } from '@weft/cells';
-import { AdamOptimizer, clipByGlobalNorm } from '@weft/optim';
+import { AdamRule, limitGradientNorm } from '@weft/optim';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import { createEncoderDecoderRuntime } from '@weft/io/runtime';
 import { runIfMain, smallBudget } from '../shared.js';
@@ -57,7 +57,7 @@ export async function quantities(): Promise<Record<string, number>> {
       decoder: { input: { kind: 'embedding', vocabulary: characters.length, width: 16 }, layers: [layer], readout: { width: characters.length } },
     }, { seed: 2 });
     const parameters = model.parameters().map((p) => p.tensor);
-    const optimizer = new AdamOptimizer({ rate: 0.01 });
+    const optimizer = new AdamRule({ rate: 0.01 });
     const tape = new Tape();
     const random = new Random('batches');
     const checkpoints = smallBudget() ? [150] : [150, 600];
@@ -81,9 +81,9 @@ export async function quantities(): Promise<Record<string, number>> {
       tape.clear();
       resetGradients(parameters);
       const { outputs } = model.run(tape, { tokens: source, steps: sourceSteps, batch: 16 }, batch.map(([w]) => spelled(w).length), { tokens: targetIn, steps: targetSteps, batch: 16 }, batch.map(([, c]) => c.length + 1));
-      const loss = softmaxCrossEntropy(tape, reshape(tape, outputs, [targetSteps * 16, characters.length]), targetOut, { weights: mask });
+      const loss = crossEntropyAtTargets(tape, reshape(tape, outputs, [targetSteps * 16, characters.length]), targetOut, { weights: mask });
       tape.reverseSweep(loss);
-      clipByGlobalNorm(parameters, 1);
+      limitGradientNorm(parameters, 1);
       optimizer.update(parameters);
       if (!checkpoints.includes(step)) continue;
       tape.clear();

@@ -8,7 +8,7 @@
 import { readFileSync } from 'node:fs';
 import { Random } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
+import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime, generateTokens } from '@weft/io/runtime';
 import { runIfMain, smallBudget } from '../shared.js';
@@ -23,7 +23,7 @@ export async function textModel(): Promise<{ perplexity: number; unigram: number
     model,
     data: streamBatches({ kind: 'tokens', tokens: ids.slice(0, split), vocabulary: symbols.length }, { streams: 8, window: 48 }),
     validation: streamBatches({ kind: 'tokens', tokens: ids.slice(split), vocabulary: symbols.length }, { window: 48 }),
-    optimizer: new AdamOptimizer({ rate: 0.01 }),
+    optimizer: new AdamRule({ rate: 0.01 }),
     epochs: smallBudget() ? 15 : 40,
     clipNorm: 1,
     // The story is short: stop when the held-out text stops improving and keep the best weights.

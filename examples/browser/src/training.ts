@@ -5,8 +5,8 @@
  */
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
-import type { ProgressEvent } from '@weft/optim';
+import { AdamRule, Trainer, streamBatches } from '@weft/optim';
+import type { TrainingEvent } from '@weft/optim';
 import type { WeightMetadata } from '@weft/io';
 
 export interface TrainingConfig {
@@ -37,8 +37,8 @@ export function parseNumbers(text: string): number[] {
   return values;
 }
 
-export function prepare(config: TrainingConfig, onProgress?: (event: ProgressEvent) => void, signal?: AbortSignal): Prepared {
-  const common = { optimizer: new AdamOptimizer({ rate: config.rate }), epochs: config.epochs, clipNorm: 1, seed: config.seed, onProgress, signal };
+export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEvent) => void, signal?: AbortSignal): Prepared {
+  const common = { optimizer: new AdamRule({ rate: config.rate }), epochs: config.epochs, clipNorm: 1, seed: config.seed, onProgress, signal };
   if (config.kind === 'text') {
     const symbols = [...new Set(config.data)].sort();
     const ids = Int32Array.from([...config.data].map((c) => symbols.indexOf(c)));

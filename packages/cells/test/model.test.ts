@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Random, Tape, checkGradients, reshape, softmaxCrossEntropy, tensor } from '@weft/core';
+import { Random, Tape, checkGradients, reshape, crossEntropyAtTargets, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
 
 describe('models built from a description', () => {
@@ -71,7 +71,7 @@ describe('models built from a description', () => {
     const loss = (tape: Tape) => {
       // Dropout with a fresh generator of one seed per evaluation: the same masks every time.
       const { outputs } = model.run(tape, { tokens, steps, batch }, { lengths, training: true, random: new Random('dropout') });
-      return softmaxCrossEntropy(tape, reshape(tape, outputs, [steps * batch, 5]), targets, { weights: mask });
+      return crossEntropyAtTargets(tape, reshape(tape, outputs, [steps * batch, 5]), targets, { weights: mask });
     };
     const tensors = model.parameters().map((p) => { p.tensor.name = p.name; return p.tensor; });
     // The mean loss is about 1.6 while many entries of its gradient are near 1e-5; at h = 1e-5 the

@@ -149,7 +149,7 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
     validation: validationSource,
     metadata: { task: 'next-token', tokens: options.tokens, vocabulary },
     baseline: { name: 'unigram frequencies of the training text', value: unigram, metric: 'validation perplexity' },
-    heldOut: (model) => Math.exp(meanCrossEntropy(model, validationSource)),
+    heldOut: (model) => Math.exp(averageCrossEntropy(model, validationSource)),
   };
 }
 
@@ -231,7 +231,7 @@ export function forEachBatch(model: SequenceModel, source: DataSource, visit: (b
 }
 
 /** Mean cross-entropy (nats) of a next-token model over a source. */
-export function meanCrossEntropy(model: SequenceModel, source: DataSource): number {
+export function averageCrossEntropy(model: SequenceModel, source: DataSource): number {
   let total = 0;
   let n = 0;
   forEachBatch(model, source, (batch, outputs) => {

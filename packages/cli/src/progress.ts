@@ -3,7 +3,7 @@
  * second, time left); elsewhere (a pipe, a log file, CI), a plain line at each validation and every tenth of the
  * run.
  */
-import type { ProgressEvent } from '@weft/optim';
+import type { TrainingEvent } from '@weft/optim';
 
 export function formatSeconds(seconds: number): string {
   if (!Number.isFinite(seconds)) return '?';
@@ -23,7 +23,7 @@ export class ProgressView {
     this.interactive = stream.isTTY === true;
   }
 
-  show(event: ProgressEvent): void {
+  show(event: TrainingEvent): void {
     if (event.kind === 'validation') {
       const metric = event.validationMetricName === 'accuracy' ? `accuracy ${(event.validationMetric! * 100).toFixed(1)}%` : `MAE ${event.validationMetric!.toPrecision(4)}`;
       this.lastValidation = `validation ${event.validationLoss!.toPrecision(4)} (${metric})`;
@@ -62,7 +62,7 @@ export class ProgressView {
     else this.stream.write(`${text}\n`);
   }
 
-  private plain(event: ProgressEvent, validation: boolean): void {
+  private plain(event: TrainingEvent, validation: boolean): void {
     const parts = [`step ${event.step}/${event.totalSteps}`, `epoch ${event.epoch}`, `loss ${event.loss.toPrecision(4)}`];
     if (validation) parts.push(this.lastValidation);
     else parts.push(`gradient norm ${Number.isFinite(event.gradientNorm) ? event.gradientNorm.toPrecision(3) : '-'}`, `rate ${event.learningRate.toPrecision(3)}`, `${Math.round(event.positionsPerSecond)} tok/s`, `${formatSeconds(event.secondsLeft)} left`);

@@ -3,8 +3,8 @@ import { existsSync, readFileSync } from 'node:fs';
 import { basename, extname, resolve } from 'node:path';
 import { buildModel } from '@weft/cells';
 import type { LayerDescription, ModelDescription } from '@weft/cells';
-import { AdamOptimizer, Trainer } from '@weft/optim';
-import type { ProgressEvent, TrainingSummary } from '@weft/optim';
+import { AdamRule, Trainer } from '@weft/optim';
+import type { TrainingEvent, TrainingSummary } from '@weft/optim';
 import { sha256Hex } from '@weft/io';
 import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
@@ -137,14 +137,14 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     model,
     data: prepared.train,
     validation: prepared.validation,
-    optimizer: new AdamOptimizer({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
+    optimizer: new AdamRule({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
     epochs: numberFlag(args, 'epochs', 5, { whole: true, min: 1, max: 100000 }),
     clipNorm: numberFlag(args, 'clip', 1, { min: 1e-9 }),
     validateEvery,
     patience,
     seed,
     signal: controller.signal,
-    onProgress: (event: ProgressEvent) => {
+    onProgress: (event: TrainingEvent) => {
       if (event.kind === 'step') history.training.push({ step: event.step, loss: event.loss });
       if (event.kind === 'validation') history.validation.push({ step: event.step, loss: event.validationLoss! });
       view?.show(event);

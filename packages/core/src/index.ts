@@ -33,7 +33,7 @@ export { gatherRows } from './ops/gather.js';
 export { reshape } from './ops/reshape.js';
 export { dropout } from './ops/dropout.js';
 export type { CrossEntropyOptions, SquaredErrorOptions } from './ops/losses.js';
-export { meanSquaredError, softmaxCrossEntropy } from './ops/losses.js';
+export { meanSquaredError, crossEntropyAtTargets } from './ops/losses.js';
 export type { DirectionalGradientCheck, GradientCheckOptions, GradientReport, TensorGradientCheck } from './gradient-check.js';
 export { checkGradients } from './gradient-check.js';
 export * as kernels from './kernels/index.js';

@@ -4,7 +4,7 @@ import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
 import { WeftError } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
+import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 import { readCheckpoint, writeCheckpoint } from '@weft/io';
 import { loadCheckpoint, loadWeightFile, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
@@ -19,7 +19,7 @@ function setup() {
     model,
     data: streamBatches({ kind: 'tokens', tokens, vocabulary: 9 }, { streams: 3, window: 10 }),
     validation: streamBatches({ kind: 'tokens', tokens: tokens.slice(0, 400), vocabulary: 9 }, { window: 10 }),
-    optimizer: new AdamOptimizer({ rate: 0.01 }),
+    optimizer: new AdamRule({ rate: 0.01 }),
     schedule: { kind: 'step', every: 20, factor: 0.8, warmup: 3 },
     epochs: 2,
     validateEvery: 25,

@@ -2,7 +2,7 @@
 import { Random } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
+import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 
 export const descriptions: Record<string, ModelDescription> = {
   'plain tanh': { input: { kind: 'values', width: 3 }, layers: [{ cell: 'plain', hidden: 5 }], readout: { width: 2 } },
@@ -35,7 +35,7 @@ export function trainedTextModel(): { model: SequenceModel; tokens: Int32Array }
   const symbols = [...new Set(text)].sort();
   const tokens = Int32Array.from([...text].map((c) => symbols.indexOf(c)));
   const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 8 }, layers: [{ cell: 'lstm', hidden: 24 }], readout: { width: symbols.length } }, { seed: 2 });
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 16 }), optimizer: new AdamOptimizer({ rate: 0.02 }), epochs: 6, clipNorm: 1 });
+  const trainer = new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 16 }), optimizer: new AdamRule({ rate: 0.02 }), epochs: 6, clipNorm: 1 });
   while (!trainer.finished) trainer.step();
   return { model, tokens };
 }
@@ -45,7 +45,7 @@ export function trainedForecaster(): { model: SequenceModel; values: number[] } 
   const values: number[] = [];
   for (let i = 0; i < 800; i++) values.push(Math.sin(i / 6) + 0.3 * Math.sin(i / 2.3), Math.cos(i / 6) * 0.8);
   const model = buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'gru', hidden: 16 }], readout: { width: 2 } }, { seed: 5 });
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'values', values, features: 2 }, { streams: 4, window: 20 }), optimizer: new AdamOptimizer({ rate: 0.01 }), epochs: 10 });
+  const trainer = new Trainer({ model, data: streamBatches({ kind: 'values', values, features: 2 }, { streams: 4, window: 20 }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 10 });
   while (!trainer.finished) trainer.step();
   return { model, values };
 }

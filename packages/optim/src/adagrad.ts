@@ -3,7 +3,7 @@
  * optimization", diagonal form): s ← s + g², θ ← θ − η_t·α·g / (√s + ε), with g = ∇ + κθ.
  */
 import type { FloatArray } from '@weft/core';
-import { Optimizer, checkRate } from './optimizer.js';
+import { UpdateRule, checkRate } from './update-rule.js';
 
 export interface AdagradOptions {
   readonly rate: number;
@@ -12,7 +12,7 @@ export interface AdagradOptions {
   readonly l2Penalty?: number;
 }
 
-export class AdagradOptimizer extends Optimizer {
+export class AdagradRule extends UpdateRule {
   readonly kind = 'adagrad';
   readonly epsilon: number;
   readonly l2Penalty: number;

@@ -8,7 +8,7 @@
  *   θ ← θ − η_t(α·m̂ / (√v̂ + ε) + λθ)
  */
 import type { FloatArray } from '@weft/core';
-import { Optimizer, checkFactor, checkRate } from './optimizer.js';
+import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
 
 export interface AdamOptions {
   readonly rate: number;
@@ -24,7 +24,7 @@ export interface AdamOptions {
   readonly decoupledDecay?: number;
 }
 
-export class AdamOptimizer extends Optimizer {
+export class AdamRule extends UpdateRule {
   readonly kind = 'adam';
   readonly beta1: number;
   readonly beta2: number;

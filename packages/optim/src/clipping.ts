@@ -20,8 +20,8 @@ export function gradientNorm(parameters: readonly Tensor[]): number {
 }
 
 /** Scales all gradients together so their global norm is at most `threshold`; returns the norm before. */
-export function clipByGlobalNorm(parameters: readonly Tensor[], threshold: number): number {
-  if (!(threshold > 0)) fail('invalid_option', 'clipByGlobalNorm.threshold', 'a number > 0', String(threshold));
+export function limitGradientNorm(parameters: readonly Tensor[], threshold: number): number {
+  if (!(threshold > 0)) fail('invalid_option', 'limitGradientNorm.threshold', 'a number > 0', String(threshold));
   const norm = gradientNorm(parameters);
   if (norm >= threshold && Number.isFinite(norm)) {
     const factor = threshold / norm;
@@ -35,8 +35,8 @@ export function clipByGlobalNorm(parameters: readonly Tensor[], threshold: numbe
 }
 
 /** Limits every gradient entry to [−limit, limit]; returns how many entries were changed. */
-export function clipByValue(parameters: readonly Tensor[], limit: number): number {
-  if (!(limit > 0)) fail('invalid_option', 'clipByValue.limit', 'a number > 0', String(limit));
+export function limitGradientValues(parameters: readonly Tensor[], limit: number): number {
+  if (!(limit > 0)) fail('invalid_option', 'limitGradientValues.limit', 'a number > 0', String(limit));
   let changed = 0;
   for (const p of parameters) {
     const g = p.gradient;

@@ -3,7 +3,7 @@
  * θ ← θ − η_t·α·g / (√s + ε), with g = ∇ + κθ.
  */
 import type { FloatArray } from '@weft/core';
-import { Optimizer, checkFactor, checkRate } from './optimizer.js';
+import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
 
 export interface RmsPropOptions {
   readonly rate: number;
@@ -14,7 +14,7 @@ export interface RmsPropOptions {
   readonly l2Penalty?: number;
 }
 
-export class RmsPropOptimizer extends Optimizer {
+export class RmsPropRule extends UpdateRule {
   readonly kind = 'rmsprop';
   readonly decay: number;
   readonly epsilon: number;

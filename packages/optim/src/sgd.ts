@@ -6,7 +6,7 @@
  * where λ is the decoupled weight decay (Loshchilov & Hutter 2019). With μ = 0 it is plain SGD.
  */
 import type { FloatArray } from '@weft/core';
-import { Optimizer, checkFactor, checkRate } from './optimizer.js';
+import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
 
 export interface SgdOptions {
   readonly rate: number;
@@ -20,7 +20,7 @@ export interface SgdOptions {
   readonly decoupledDecay?: number;
 }
 
-export class SgdOptimizer extends Optimizer {
+export class SgdRule extends UpdateRule {
   readonly kind = 'sgd';
   readonly momentum: number;
   readonly nesterov: boolean;

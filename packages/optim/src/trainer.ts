@@ -11,22 +11,22 @@
  * captures weights, optimiser state, generator state, schedule position, data cursor, carried state and the
  * early-stopping record, and `restore()` continues bit for bit.
  */
-import { BufferPool, Random, Tape, Tensor, WeftError, meanSquaredError, reshape, resetGradients, sharedPool, softmaxCrossEntropy, zeros } from '@weft/core';
+import { BufferPool, Random, Tape, Tensor, WeftError, meanSquaredError, reshape, resetGradients, sharedPool, crossEntropyAtTargets, zeros } from '@weft/core';
 import type { FloatArray, RandomState } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { joinSteps, lastSteps } from '@weft/cells';
 import type { TokenBatch } from '@weft/cells';
-import { clipByGlobalNorm, clipByValue, firstNonFiniteEntry, gradientNorm } from './clipping.js';
+import { limitGradientNorm, limitGradientValues, firstNonFiniteEntry, gradientNorm } from './clipping.js';
 import type { Batch, DataSource } from './data.js';
 import { classificationMetrics, regressionMetrics } from './metrics.js';
-import type { Optimizer, OptimizerState } from './optimizer.js';
+import type { UpdateRule, UpdateRuleState } from './update-rule.js';
 import type { ScheduleDescription } from './schedule.js';
 import { checkSchedule, scheduleFactor } from './schedule.js';
 
 export interface TrainerOptions {
   readonly model: SequenceModel;
   readonly data: DataSource;
-  readonly optimizer: Optimizer;
+  readonly optimizer: UpdateRule;
   readonly epochs: number;
   readonly validation?: DataSource;
   readonly schedule?: ScheduleDescription;
@@ -40,12 +40,12 @@ export interface TrainerOptions {
   readonly patience?: number;
   readonly seed?: number | string;
   readonly signal?: AbortSignal;
-  readonly onProgress?: (event: ProgressEvent) => void;
+  readonly onProgress?: (event: TrainingEvent) => void;
   /** Awaited by `run()` after every step (for example to write a checkpoint every N steps). */
   readonly afterStep?: (trainer: Trainer) => void | Promise<void>;
 }
 
-export interface ProgressEvent {
+export interface TrainingEvent {
   readonly kind: 'step' | 'validation' | 'skipped' | 'finished';
   readonly step: number;
   readonly epoch: number;
@@ -74,7 +74,7 @@ export interface TrainingSnapshot {
   readonly step: number;
   readonly cursor: { readonly epoch: number; readonly index: number };
   readonly parameters: Readonly<Record<string, readonly number[]>>;
-  readonly optimizer: OptimizerState;
+  readonly optimizer: UpdateRuleState;
   readonly random: RandomState;
   readonly carried: readonly (readonly number[])[] | null;
   readonly best: { readonly loss: number; readonly step: number; readonly parameters: Readonly<Record<string, readonly number[]>> | null; readonly stale: number };
@@ -163,8 +163,8 @@ export class Trainer {
       this.skipped++;
       this.emit('skipped', value, NaN, multiplier, `non-finite gradient of ${badGradient.name}[${badGradient.offset}] = ${badGradient.value}; update skipped`);
     } else {
-      norm = this.options.clipNorm !== undefined ? clipByGlobalNorm(this.parameters, this.options.clipNorm) : gradientNorm(this.parameters);
-      if (this.options.clipValue !== undefined) clipByValue(this.parameters, this.options.clipValue);
+      norm = this.options.clipNorm !== undefined ? limitGradientNorm(this.parameters, this.options.clipNorm) : gradientNorm(this.parameters);
+      if (this.options.clipValue !== undefined) limitGradientValues(this.parameters, this.options.clipValue);
       for (let i = 0; i < this.parameters.length; i++) this.backup[i].set(this.parameters[i].data);
       optimizer.update(this.parameters, multiplier);
       const badValue = firstNonFiniteEntry(this.parameters, 'values');
@@ -376,7 +376,7 @@ export class Trainer {
     return this.options.validation;
   }
 
-  private emit(kind: ProgressEvent['kind'], loss: number, norm: number, multiplier: number, reason?: string, validation?: ValidationResult): void {
+  private emit(kind: TrainingEvent['kind'], loss: number, norm: number, multiplier: number, reason?: string, validation?: ValidationResult): void {
     const listener = this.options.onProgress;
     if (listener === undefined) return;
     const elapsed = (now() - this.startedAt) / 1000;
@@ -426,7 +426,7 @@ function taskLoss(tape: Tape, outputs: Tensor, batch: Batch): Tensor {
     if (targets.classes.length !== rows) {
       throw new WeftError({ code: 'shape_mismatch', path: 'trainer.batch.targets', expected: `${rows} classes`, received: `${targets.classes.length}` });
     }
-    return softmaxCrossEntropy(tape, picked, targets.classes, weights === null ? {} : { weights });
+    return crossEntropyAtTargets(tape, picked, targets.classes, weights === null ? {} : { weights });
   }
   if (picked.shape[1] !== targets.width) {
     throw new WeftError({ code: 'shape_mismatch', path: 'trainer.model.outputs', expected: `${targets.width} values per step (the target width)`, received: `${picked.shape[1]}` });

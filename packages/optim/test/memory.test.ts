@@ -4,12 +4,12 @@
  */
 import { describe, expect, it } from 'vitest';
 import { buildModel } from '@weft/cells';
-import { AdamOptimizer, Trainer, streamBatches } from '@weft/optim';
+import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 
 function peakBytes(streamLength: number, window: number): number {
   const values = Array.from({ length: streamLength }, (_, i) => Math.sin(i / 7) + 0.1 * Math.cos(i / 3));
   const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'lstm', hidden: 8 }], readout: { width: 1 } }, { seed: 1 });
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'values', values, features: 1 }, { window }), optimizer: new AdamOptimizer({ rate: 0.01 }), epochs: 1 });
+  const trainer = new Trainer({ model, data: streamBatches({ kind: 'values', values, features: 1 }, { window }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 1 });
   while (!trainer.finished) trainer.step();
   return trainer.pool.counts().peakBytesInUse;
 }

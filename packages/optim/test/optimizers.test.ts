@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { Random, randomUniform, tensor, trainable } from '@weft/core';
 import type { Tensor } from '@weft/core';
-import { AdagradOptimizer, AdamOptimizer, RmsPropOptimizer, SgdOptimizer, clipByGlobalNorm, clipByValue, gradientNorm } from '@weft/optim';
+import { AdagradRule, AdamRule, RmsPropRule, SgdRule, limitGradientNorm, limitGradientValues, gradientNorm } from '@weft/optim';
 
 function parameter(values: number[]): Tensor {
   return trainable(tensor(values, [values.length], 'f64'));
@@ -17,7 +17,7 @@ describe('Adam', () => {
     const g = [1e-3, -2, 50, -0.25, 1e-6];
     setGradient(p, g);
     const before = Array.from(p.data);
-    new AdamOptimizer({ rate: 0.01 }).update([p]);
+    new AdamRule({ rate: 0.01 }).update([p]);
     g.forEach((gi, i) => {
       // After bias correction m̂ = g and v̂ = g², so the step is α·g/(|g| + ε).
       const expected = (0.01 * gi) / (Math.abs(gi) + 1e-8);
@@ -36,7 +36,7 @@ describe('Adam', () => {
     //         √v̂ = 0.395225380701664184, step = 0.1·m̂/(√v̂ + ε) = 0.026633703292153797,
     //         θ₂ = 0.873366298707846163
     const p = parameter([1]);
-    const adam = new AdamOptimizer({ rate: 0.1 });
+    const adam = new AdamRule({ rate: 0.1 });
     setGradient(p, [0.5]);
     adam.update([p]);
     expect(Math.abs(p.data[0] - 0.900000001999999960)).toBeLessThanOrEqual(1e-12);
@@ -49,12 +49,12 @@ describe('Adam', () => {
     // With g = 0 the Adam term is 0 (m = v = 0), so only the decay acts: θ₁ = θ₀ − η·λ·θ₀.
     const p = parameter([2, -4]);
     setGradient(p, [0, 0]);
-    new AdamOptimizer({ rate: 0.1, decoupledDecay: 0.01 }).update([p], 0.5);
+    new AdamRule({ rate: 0.1, decoupledDecay: 0.01 }).update([p], 0.5);
     expect(Array.from(p.data)).toEqual([2 - 0.5 * 0.01 * 2, -4 - 0.5 * 0.01 * -4]);
     // The L2 penalty instead enters the moments: with g = 0, g' = κθ and the first step is α·sign(θ)·|κθ|/(|κθ|+ε).
     const q = parameter([2, -4]);
     setGradient(q, [0, 0]);
-    new AdamOptimizer({ rate: 0.1, l2Penalty: 0.01 }).update([q]);
+    new AdamRule({ rate: 0.1, l2Penalty: 0.01 }).update([q]);
     expect(Math.abs(q.data[0] - (2 - (0.1 * 0.02) / (0.02 + 1e-8)))).toBeLessThan(1e-15);
     expect(Math.abs(q.data[1] - (-4 + (0.1 * 0.04) / (0.04 + 1e-8)))).toBeLessThan(1e-15);
   });
@@ -63,15 +63,15 @@ describe('Adam', () => {
     const random = new Random(4);
     const a = trainable(randomUniform([6], random, -1, 1, 'f32'));
     const b = trainable(tensor(Array.from(a.data), [6], 'f32'));
-    const first = new AdamOptimizer({ rate: 0.05 });
+    const first = new AdamRule({ rate: 0.05 });
     const grads = Array.from({ length: 5 }, () => Array.from({ length: 6 }, () => random.between(-1, 1)));
     for (let s = 0; s < 2; s++) {
       a.gradient!.set(grads[s]);
       first.update([a]);
       b.gradient!.set(grads[s]);
     }
-    const second = new AdamOptimizer({ rate: 0.05 });
-    const warm = new AdamOptimizer({ rate: 0.05 });
+    const second = new AdamRule({ rate: 0.05 });
+    const warm = new AdamRule({ rate: 0.05 });
     warm.update([b]);
     b.data.set(a.data);
     second.restore(JSON.parse(JSON.stringify(first.state())), [b]);
@@ -82,21 +82,21 @@ describe('Adam', () => {
       second.update([b]);
     }
     expect(Array.from(b.data)).toEqual(Array.from(a.data));
-    expect(() => new SgdOptimizer({ rate: 0.1 }).restore(first.state(), [b])).toThrowError('Invalid argument at optimizer state.kind: expected sgd, received adam');
+    expect(() => new SgdRule({ rate: 0.1 }).restore(first.state(), [b])).toThrowError('Invalid argument at optimizer state.kind: expected sgd, received adam');
   });
 });
 
 describe('the other optimisers', () => {
   it('SGD with momentum and with Nesterov momentum follow their update rules', () => {
     const p = parameter([1]);
-    const sgd = new SgdOptimizer({ rate: 0.1, momentum: 0.9 });
+    const sgd = new SgdRule({ rate: 0.1, momentum: 0.9 });
     setGradient(p, [2]);
     sgd.update([p]); // v = 2, θ = 1 − 0.2
     setGradient(p, [1]);
     sgd.update([p]); // v = 1.8 + 1 = 2.8, θ = 0.8 − 0.28
     expect(p.data[0]).toBeCloseTo(0.52, 15);
     const q = parameter([1]);
-    const nesterov = new SgdOptimizer({ rate: 0.1, momentum: 0.9, nesterov: true });
+    const nesterov = new SgdRule({ rate: 0.1, momentum: 0.9, nesterov: true });
     setGradient(q, [2]);
     nesterov.update([q]); // v = 2, step = 0.1·(2 + 0.9·2) = 0.38
     expect(q.data[0]).toBeCloseTo(0.62, 15);
@@ -105,10 +105,10 @@ describe('the other optimisers', () => {
   it('RMSProp and Adagrad scale by the root of their accumulated squares', () => {
     const p = parameter([1]);
     setGradient(p, [2]);
-    new RmsPropOptimizer({ rate: 0.01, decay: 0.9, epsilon: 1e-300 }).update([p]); // s = 0.4, step = 0.01·2/√0.4
+    new RmsPropRule({ rate: 0.01, decay: 0.9, epsilon: 1e-300 }).update([p]); // s = 0.4, step = 0.01·2/√0.4
     expect(p.data[0]).toBeCloseTo(1 - 0.02 / Math.sqrt(0.4), 15);
     const q = parameter([1]);
-    const adagrad = new AdagradOptimizer({ rate: 0.5, epsilon: 1e-300 });
+    const adagrad = new AdagradRule({ rate: 0.5, epsilon: 1e-300 });
     setGradient(q, [3]);
     adagrad.update([q]); // s = 9, step = 0.5
     setGradient(q, [4]);
@@ -117,9 +117,9 @@ describe('the other optimisers', () => {
   });
 
   it('refuse bad options by name', () => {
-    expect(() => new AdamOptimizer({ rate: 0 })).toThrowError('Invalid option at adam.rate: expected a finite number > 0, received 0');
-    expect(() => new AdamOptimizer({ rate: 0.1, beta1: 1 })).toThrowError('Invalid option at adam.beta1: expected a number in [0, 1), received 1');
-    expect(() => new SgdOptimizer({ rate: Number.NaN })).toThrowError('Invalid option at sgd.rate: expected a finite number > 0, received NaN');
+    expect(() => new AdamRule({ rate: 0 })).toThrowError('Invalid option at adam.rate: expected a finite number > 0, received 0');
+    expect(() => new AdamRule({ rate: 0.1, beta1: 1 })).toThrowError('Invalid option at adam.beta1: expected a number in [0, 1), received 1');
+    expect(() => new SgdRule({ rate: Number.NaN })).toThrowError('Invalid option at sgd.rate: expected a finite number > 0, received NaN');
   });
 });
 
@@ -130,19 +130,19 @@ describe('gradient clipping', () => {
     const b = parameter([0]);
     setGradient(a, [3, 4]);
     setGradient(b, [12]);
-    expect(clipByGlobalNorm([a, b], 6.5)).toBe(13);
+    expect(limitGradientNorm([a, b], 6.5)).toBe(13);
     expect(Array.from(a.gradient!)).toEqual([1.5, 2]);
     expect(Array.from(b.gradient!)).toEqual([6]);
     expect(gradientNorm([a, b])).toBe(6.5);
     // Below the threshold nothing changes.
-    expect(clipByGlobalNorm([a, b], 100)).toBe(6.5);
+    expect(limitGradientNorm([a, b], 100)).toBe(6.5);
     expect(Array.from(a.gradient!)).toEqual([1.5, 2]);
   });
 
   it('by value limits each entry', () => {
     const a = parameter([0, 0, 0]);
     setGradient(a, [-5, 0.5, 7]);
-    expect(clipByValue([a], 1)).toBe(2);
+    expect(limitGradientValues([a], 1)).toBe(2);
     expect(Array.from(a.gradient!)).toEqual([-1, 0.5, 1]);
   });
 });

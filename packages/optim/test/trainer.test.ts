@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { Random, WeftError } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { AdamOptimizer, SgdOptimizer, Trainer, sequenceBatches, streamBatches } from '@weft/optim';
-import type { ProgressEvent, TrainerOptions } from '@weft/optim';
+import { AdamRule, SgdRule, Trainer, sequenceBatches, streamBatches } from '@weft/optim';
+import type { TrainingEvent, TrainerOptions } from '@weft/optim';
 
 function corpus(length: number, seed: string): Int32Array {
   // A small invented "language": repeating motifs with random choices, over 6 symbols.
@@ -24,7 +24,7 @@ describe('the trainer', () => {
   it('gives bit-identical weights for two runs with one seed', async () => {
     const make = () => {
       const model = buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }, { cell: 'gru', hidden: 6 }], dropout: 0.3, readout: { width: 6 } }, { seed: 9 });
-      return new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens: corpus(2000, 'c'), vocabulary: 6 }, { streams: 4, window: 10 }), optimizer: new AdamOptimizer({ rate: 0.01 }), epochs: 1, seed: 5, clipNorm: 1 });
+      return new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens: corpus(2000, 'c'), vocabulary: 6 }, { streams: 4, window: 10 }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 1, seed: 5, clipNorm: 1 });
     };
     const a = make();
     const b = make();
@@ -38,7 +38,7 @@ describe('the trainer', () => {
     const options = (model: ReturnType<typeof textModel>): TrainerOptions => ({
       model,
       data: streamBatches({ kind: 'tokens', tokens: corpus(3000, 'r'), vocabulary: 6 }, { streams: 3, window: 12 }),
-      optimizer: new AdamOptimizer({ rate: 0.02, decoupledDecay: 0.01 }),
+      optimizer: new AdamRule({ rate: 0.02, decoupledDecay: 0.01 }),
       schedule: { kind: 'cosine', total: 160, warmup: 5 },
       epochs: 2,
       seed: 'resume',
@@ -62,7 +62,7 @@ describe('the trainer', () => {
     const wave = Array.from({ length: 600 }, (_, i) => Math.sin(i / 5));
     const make = () => {
       const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 8, activation: 'relu' }], readout: { width: 1 } }, { seed: 3 });
-      return new Trainer({ model, data: streamBatches({ kind: 'values', values: wave, features: 1 }, { streams: 2, window: 8 }), optimizer: new SgdOptimizer({ rate: 50 }), epochs: 5 });
+      return new Trainer({ model, data: streamBatches({ kind: 'values', values: wave, features: 1 }, { streams: 2, window: 8 }), optimizer: new SgdRule({ rate: 50 }), epochs: 5 });
     };
     const trainer = make();
     let error: unknown;
@@ -87,13 +87,13 @@ describe('the trainer', () => {
   });
 
   it('stops early with patience and restores the best weights; reports progress', async () => {
-    const events: ProgressEvent[] = [];
+    const events: TrainingEvent[] = [];
     const model = textModel(4);
     const trainer = new Trainer({
       model,
       data: streamBatches({ kind: 'tokens', tokens: corpus(1500, 'p'), vocabulary: 6 }, { window: 10 }),
       validation: streamBatches({ kind: 'tokens', tokens: corpus(300, 'v'), vocabulary: 6 }, { window: 10 }),
-      optimizer: new AdamOptimizer({ rate: 0.3 }),
+      optimizer: new AdamRule({ rate: 0.3 }),
       epochs: 30,
       validateEvery: 10,
       patience: 2,
@@ -118,7 +118,7 @@ describe('the trainer', () => {
     const trainer = new Trainer({
       model: textModel(5),
       data: streamBatches({ kind: 'tokens', tokens: corpus(1500, 'a'), vocabulary: 6 }, { window: 10 }),
-      optimizer: new AdamOptimizer({ rate: 0.01 }),
+      optimizer: new AdamRule({ rate: 0.01 }),
       epochs: 3,
       signal: controller.signal,
       onProgress: (event) => {
@@ -141,7 +141,7 @@ describe('the trainer', () => {
     const model = buildModel({ input: { kind: 'embedding', vocabulary: 2, width: 3 }, layers: [{ cell: 'gru', hidden: 8, bidirectional: true }], readout: { width: 2 } }, { seed: 1 });
     const data = sequenceBatches(sequences.slice(0, 200), { batchSize: 16, seed: 2 });
     const validation = sequenceBatches(sequences.slice(200), { batchSize: 40 });
-    const trainer = new Trainer({ model, data, validation, optimizer: new AdamOptimizer({ rate: 0.03 }), epochs: 25 });
+    const trainer = new Trainer({ model, data, validation, optimizer: new AdamRule({ rate: 0.03 }), epochs: 25 });
     const before = trainer.validate();
     await trainer.run();
     const after = trainer.validate();

@@ -3,4 +3,4 @@ export { matmul, matmulNaive } from './matmul.js';
 export { add, addInto, addRow, addScaledInto, multiply, multiplyInto, scale, subtract, sumRows } from './elementwise.js';
 export { exp, log, relu, reluGradientInto, sigmoid, sigmoidGradientInto, tanh, tanhGradientInto } from './activations.js';
 export { dot, firstNonFinite, maxAbs, sum, sumOfSquares } from './reductions.js';
-export { softmaxCrossEntropyRows } from './softmax.js';
+export { crossEntropyRows } from './softmax.js';

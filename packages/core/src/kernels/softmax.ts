@@ -8,7 +8,7 @@
  */
 import type { FloatArray } from '../dtype.js';
 
-export function softmaxCrossEntropyRows(
+export function crossEntropyRows(
   losses: FloatArray,
   probabilities: FloatArray,
   logits: FloatArray,

@@ -1,7 +1,7 @@
 /**
  * Losses on the tape, each to a scalar (shape [1]).
  *
- * softmaxCrossEntropy: the weighted mean over rows of −log softmax(z_r)[t_r], computed through the log-sum-exp
+ * crossEntropyAtTargets: the weighted mean over rows of −log softmax(z_r)[t_r], computed through the log-sum-exp
  * shift so that logits of any size stay finite (see kernels/softmax.ts). Per-row weights (0 for padding, 1
  * otherwise, or any non-negative value) let a masked batch count only its real positions. Backward (common
  * practice): ∂L/∂z_rj = w_r / Σw · (p_rj − [j = t_r]).
@@ -11,13 +11,13 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { fail, formatShape } from '../errors.js';
-import { softmaxCrossEntropyRows } from '../kernels/softmax.js';
+import { crossEntropyRows } from '../kernels/softmax.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { lastAxis, requireRank, requireSameDType, requireShape } from './checks.js';
 
 const crossEntropyKind: OperationKind = {
-  name: 'softmaxCrossEntropy',
+  name: 'crossEntropyAtTargets',
   backward(node: TapeNode, tape: Tape): void {
     const logits = node.first as Tensor;
     const probabilities = node.saved as FloatArray;
@@ -42,22 +42,22 @@ export interface CrossEntropyOptions {
 }
 
 /** Weighted mean softmax cross-entropy of [rows, classes] logits against integer targets, one per row. */
-export function softmaxCrossEntropy(
+export function crossEntropyAtTargets(
   tape: Tape,
   logits: Tensor,
   targets: Int32Array | readonly number[],
   options: CrossEntropyOptions = {},
 ): Tensor {
-  requireRank('softmaxCrossEntropy', 'logits', logits, 2);
+  requireRank('crossEntropyAtTargets', 'logits', logits, 2);
   const [rows, classes] = logits.shape;
   if (targets.length !== rows) {
-    fail('shape_mismatch', 'softmaxCrossEntropy.targets', `${rows} targets (one per row of logits ${formatShape(logits.shape)})`, `${targets.length}`);
+    fail('shape_mismatch', 'crossEntropyAtTargets.targets', `${rows} targets (one per row of logits ${formatShape(logits.shape)})`, `${targets.length}`);
   }
   const picked = targets instanceof Int32Array ? targets : Int32Array.from(targets);
   for (let r = 0; r < rows; r++) {
     const t = (targets as ArrayLike<number>)[r];
     if (!Number.isInteger(t) || t < 0 || t >= classes) {
-      fail('invalid_argument', `softmaxCrossEntropy.targets[${r}]`, `a class index in [0, ${classes})`, String(t));
+      fail('invalid_argument', `crossEntropyAtTargets.targets[${r}]`, `a class index in [0, ${classes})`, String(t));
     }
   }
   let weights: FloatArray | null = null;
@@ -65,14 +65,14 @@ export function softmaxCrossEntropy(
   if (options.weights !== undefined) {
     const given = options.weights;
     if (given.length !== rows) {
-      fail('shape_mismatch', 'softmaxCrossEntropy.weights', `${rows} weights`, `${given.length}`);
+      fail('shape_mismatch', 'crossEntropyAtTargets.weights', `${rows} weights`, `${given.length}`);
     }
     weights = tape.buffer(logits.dtype, rows);
     total = 0;
     for (let r = 0; r < rows; r++) {
       const w = given[r];
       if (!(w >= 0) || !Number.isFinite(w)) {
-        fail('invalid_argument', `softmaxCrossEntropy.weights[${r}]`, 'a finite number ≥ 0', String(w));
+        fail('invalid_argument', `crossEntropyAtTargets.weights[${r}]`, 'a finite number ≥ 0', String(w));
       }
       weights[r] = w;
       total += w;
@@ -80,7 +80,7 @@ export function softmaxCrossEntropy(
   }
   const probabilities = tape.buffer(logits.dtype, logits.size);
   const losses = tape.buffer(logits.dtype, rows);
-  softmaxCrossEntropyRows(losses, probabilities, logits.data, picked, rows, classes);
+  crossEntropyRows(losses, probabilities, logits.data, picked, rows, classes);
   let weighted = 0;
   for (let r = 0; r < rows; r++) weighted += weights === null ? losses[r] : weights[r] * losses[r];
   const normaliser = total > 0 ? 1 / total : 0;

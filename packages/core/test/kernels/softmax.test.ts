@@ -8,7 +8,7 @@ describe('softmax cross-entropy kernel', () => {
     const targets = Int32Array.of(2, 0);
     const losses = new Float64Array(2);
     const probabilities = new Float64Array(6);
-    kernels.softmaxCrossEntropyRows(losses, probabilities, logits, targets, 2, 3);
+    kernels.crossEntropyRows(losses, probabilities, logits, targets, 2, 3);
     expect(Number.isFinite(losses[0]) && Number.isFinite(losses[1])).toBe(true);
     // Row 0: m = 1000, Σ e^{z−m} = 1 + e^−2000 + e^−1 = 1 + e^−1 (the middle term underflows to 0).
     expect(losses[0]).toBeCloseTo(1000 + Math.log(1 + Math.exp(-1)) - 999, 12);
@@ -22,7 +22,7 @@ describe('softmax cross-entropy kernel', () => {
     const logits = Float64Array.of(0.5, -1.25, 2, 0.1);
     const losses = new Float64Array(1);
     const probabilities = new Float64Array(4);
-    kernels.softmaxCrossEntropyRows(losses, probabilities, logits, Int32Array.of(1), 1, 4);
+    kernels.crossEntropyRows(losses, probabilities, logits, Int32Array.of(1), 1, 4);
     const total = Array.from(logits).reduce((s, z) => s + Math.exp(z), 0);
     expect(Math.abs(losses[0] - -Math.log(Math.exp(-1.25) / total))).toBeLessThan(1e-15);
     for (let j = 0; j < 4; j++) expect(Math.abs(probabilities[j] - Math.exp(logits[j]) / total)).toBeLessThan(1e-15);
@@ -32,10 +32,10 @@ describe('softmax cross-entropy kernel', () => {
     const logits = Float64Array.of(0.5, -1.25, 2, 0.1, 3, -3);
     const separate = new Float64Array(6);
     const lossesSeparate = new Float64Array(2);
-    kernels.softmaxCrossEntropyRows(lossesSeparate, separate, logits, Int32Array.of(2, 0), 2, 3);
+    kernels.crossEntropyRows(lossesSeparate, separate, logits, Int32Array.of(2, 0), 2, 3);
     const aliased = Float64Array.from(logits);
     const lossesAliased = new Float64Array(2);
-    kernels.softmaxCrossEntropyRows(lossesAliased, aliased, aliased, Int32Array.of(2, 0), 2, 3);
+    kernels.crossEntropyRows(lossesAliased, aliased, aliased, Int32Array.of(2, 0), 2, 3);
     expect(Array.from(aliased)).toEqual(Array.from(separate));
     expect(Array.from(lossesAliased)).toEqual(Array.from(lossesSeparate));
   });

@@ -10,7 +10,7 @@
 import { WeftError, fail, formatShape, sharedPool } from '@weft/core';
 import type { FloatArray, Tensor } from '@weft/core';
 
-export interface OptimizerState {
+export interface UpdateRuleState {
   readonly kind: string;
   /** Updates taken so far (Adam's t). */
   readonly steps: number;
@@ -35,7 +35,7 @@ function shown(value: unknown): string {
   return typeof value === 'number' ? String(value) : (JSON.stringify(value) ?? String(value));
 }
 
-export abstract class Optimizer {
+export abstract class UpdateRule {
   abstract readonly kind: string;
   /** The base learning rate α. */
   readonly rate: number;
@@ -73,14 +73,14 @@ export abstract class Optimizer {
   /** Updates one parameter's values in place. */
   protected abstract apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number): void;
 
-  state(): OptimizerState {
+  state(): UpdateRuleState {
     const slots: Record<string, number[][]> = {};
     for (const name of this.slotNames) slots[name] = (this.slots?.get(name) ?? []).map((buffer) => Array.from(buffer));
     return { kind: this.kind, steps: this.steps, slots };
   }
 
   /** Continues from a saved state, for these parameters (checked against it). */
-  restore(state: OptimizerState, parameters: readonly Tensor[]): void {
+  restore(state: UpdateRuleState, parameters: readonly Tensor[]): void {
     if (state.kind !== this.kind) fail('invalid_argument', 'optimizer state.kind', this.kind, String(state.kind));
     if (!Number.isInteger(state.steps) || state.steps < 0) fail('invalid_argument', 'optimizer state.steps', 'a whole number ≥ 0', String(state.steps));
     this.slots = null;
