@@ -14,6 +14,7 @@
  */
 import type { FloatArray } from '@weft/core';
 import { logistic } from './logistic.js';
+import { addRowInto, copyRow, isHeld } from './rows.js';
 
 /** Writes z and r into columns [0, 2H) of `gates` [B, 3H] from the projection row and h₋·R_zr ([B, 2H]). */
 export function gruUpdateReset(
@@ -55,8 +56,8 @@ export function gruStepFinish(
 ): void {
   for (let b = 0; b < rows; b++) {
     const row = b * size;
-    if (lengths !== null && step >= lengths[b]) {
-      for (let j = 0; j < size; j++) hidden[row + j] = hiddenPrevious[row + j];
+    if (isHeld(lengths, b, step)) {
+      copyRow(hidden, hiddenPrevious, row, size);
       continue;
     }
     const gate = b * 3 * size;
@@ -96,16 +97,11 @@ export function gruBackwardCandidate(
   for (let b = 0; b < rows; b++) {
     const row = b * size;
     const pair = b * 2 * size;
-    if (lengths !== null && step >= lengths[b]) {
-      for (let j = 0; j < size; j++) {
-        updateResetGradient[pair + j] = 0;
-        updateResetGradient[pair + size + j] = 0;
-        candidateGradient[row + j] = 0;
-        productGradient[row + j] = 0;
-      }
-      if (hiddenPreviousGradient !== null) {
-        for (let j = 0; j < size; j++) hiddenPreviousGradient[row + j] += hiddenGradient[row + j];
-      }
+    if (isHeld(lengths, b, step)) {
+      updateResetGradient.fill(0, pair, pair + 2 * size);
+      candidateGradient.fill(0, row, row + size);
+      productGradient.fill(0, row, row + size);
+      addRowInto(hiddenPreviousGradient, hiddenGradient, row, size);
       continue;
     }
     const gate = b * 3 * size;
@@ -146,7 +142,7 @@ export function gruBackwardReset(
   step: number,
 ): void {
   for (let b = 0; b < rows; b++) {
-    if (lengths !== null && step >= lengths[b]) continue;
+    if (isHeld(lengths, b, step)) continue;
     const row = b * size;
     const gate = b * 3 * size;
     const pair = b * 2 * size;

@@ -12,6 +12,7 @@
  */
 import type { FloatArray } from '@weft/core';
 import { logistic } from './logistic.js';
+import { addRowInto, copyRow, isHeld } from './rows.js';
 
 /**
  * On entry `gates` holds the pre-activations a; on exit the activations i, f, g, o (saved for backward).
@@ -33,11 +34,9 @@ export function lstmStepForward(
   const width = 4 * size;
   for (let b = 0; b < rows; b++) {
     const row = b * size;
-    if (lengths !== null && step >= lengths[b]) {
-      for (let j = 0; j < size; j++) {
-        hidden[row + j] = hiddenPrevious[row + j];
-        cell[row + j] = cellPrevious[row + j];
-      }
+    if (isHeld(lengths, b, step)) {
+      copyRow(hidden, hiddenPrevious, row, size);
+      copyRow(cell, cellPrevious, row, size);
       continue;
     }
     const gate = b * width;
@@ -102,14 +101,10 @@ export function lstmStepBackward(
   for (let b = 0; b < rows; b++) {
     const row = b * size;
     const gate = b * width;
-    if (lengths !== null && step >= lengths[b]) {
-      for (let k = 0; k < width; k++) gateGradient[gate + k] = 0;
-      if (hiddenPreviousGradient !== null && hiddenGradient !== null) {
-        for (let j = 0; j < size; j++) hiddenPreviousGradient[row + j] += hiddenGradient[row + j];
-      }
-      if (cellPreviousGradient !== null && cellGradient !== null) {
-        for (let j = 0; j < size; j++) cellPreviousGradient[row + j] += cellGradient[row + j];
-      }
+    if (isHeld(lengths, b, step)) {
+      gateGradient.fill(0, gate, gate + width);
+      addRowInto(hiddenPreviousGradient, hiddenGradient, row, size);
+      addRowInto(cellPreviousGradient, cellGradient, row, size);
       continue;
     }
     for (let j = 0; j < size; j++) {

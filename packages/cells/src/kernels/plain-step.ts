@@ -3,6 +3,7 @@
  * "Finding structure in time"). Rows past their length hold their state.
  */
 import type { FloatArray } from '@weft/core';
+import { addRowInto, copyRow, isHeld } from './rows.js';
 
 /** On entry `hidden` holds the pre-activation a; on exit φ(a), or h₋ for held rows. */
 export function plainStepForward(
@@ -16,8 +17,8 @@ export function plainStepForward(
 ): void {
   for (let b = 0; b < rows; b++) {
     const row = b * size;
-    if (lengths !== null && step >= lengths[b]) {
-      for (let j = 0; j < size; j++) hidden[row + j] = hiddenPrevious[row + j];
+    if (isHeld(lengths, b, step)) {
+      copyRow(hidden, hiddenPrevious, row, size);
       continue;
     }
     if (rectified) {
@@ -48,11 +49,9 @@ export function plainStepBackward(
 ): void {
   for (let b = 0; b < rows; b++) {
     const row = b * size;
-    if (lengths !== null && step >= lengths[b]) {
-      for (let j = 0; j < size; j++) preGradient[row + j] = 0;
-      if (hiddenPreviousGradient !== null) {
-        for (let j = 0; j < size; j++) hiddenPreviousGradient[row + j] += hiddenGradient[row + j];
-      }
+    if (isHeld(lengths, b, step)) {
+      preGradient.fill(0, row, row + size);
+      addRowInto(hiddenPreviousGradient, hiddenGradient, row, size);
       continue;
     }
     for (let j = 0; j < size; j++) {
