@@ -9,11 +9,10 @@
  * linear_before_reset = 0); true applies it after (ONNX linear_before_reset = 1).
  * Initialisation: input Glorot-uniform per gate block, each recurrent H×H block orthogonal, biases 0.
  */
-import { add, kernels, matmul, multiply, sigmoid, slice, subtract, tanh } from '@weft/core';
+import { add, matmul, multiply, sigmoid, slice, subtract, tanh } from '@weft/core';
 import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
-import { gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset } from './kernels/gru-step.js';
 import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
 import type { CommonCellOptions } from './recurrence.js';
 
@@ -104,20 +103,20 @@ export class GruCell implements RecurrentCell, FusedSequence {
     const tracked = projected.tracked || hPrevious.tracked || this.recurrent.tracked || this.recurrentCandidate.tracked || (candidateBias?.tracked ?? false);
     const gates = tape.buffer(dtype, rows * 3 * size);
     const updateReset = tape.buffer(dtype, rows * 2 * size);
-    kernels.matmul(updateReset, hPrevious.data, this.recurrent.data, rows, size, 2 * size);
-    gruUpdateReset(gates, projected.data, offset, updateReset, rows, size);
+    tape.kernels.matmul(updateReset, hPrevious.data, this.recurrent.data, rows, size, 2 * size);
+    tape.kernels.gruUpdateReset(gates, projected.data, offset, updateReset, rows, size);
     const candidate = tape.buffer(dtype, rows * size);
     let resetHidden = null;
     if (candidateBias === null) {
       resetHidden = tape.buffer(dtype, rows * size);
-      gruResetHidden(resetHidden, gates, hPrevious.data, rows, size);
-      kernels.matmul(candidate, resetHidden, this.recurrentCandidate.data, rows, size, size);
+      tape.kernels.gruResetHidden(resetHidden, gates, hPrevious.data, rows, size);
+      tape.kernels.matmul(candidate, resetHidden, this.recurrentCandidate.data, rows, size, size);
     } else {
-      kernels.matmul(candidate, hPrevious.data, this.recurrentCandidate.data, rows, size, size);
-      kernels.addRow(candidate, candidate, candidateBias.data, rows, size);
+      tape.kernels.matmul(candidate, hPrevious.data, this.recurrentCandidate.data, rows, size, size);
+      tape.kernels.addRow(candidate, candidate, candidateBias.data, rows, size);
     }
     const h = tape.output([rows, size], dtype, tracked);
-    gruStepFinish(h.data, gates, projected.data, offset, candidate, hPrevious.data, candidateBias !== null, rows, size, lengths, step);
+    tape.kernels.gruStepFinish(h.data, gates, projected.data, offset, candidate, hPrevious.data, candidateBias !== null, rows, size, lengths, step);
     const node = tape.record(gruStepKind, h, projected, hPrevious);
     if (node !== null) {
       node.list = this.stepWeights;
@@ -150,23 +149,23 @@ const gruStepKind: OperationKind = {
     const candidateGradient = tape.buffer(dtype, rows * size);
     const productGradient = tape.buffer(dtype, rows * size);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hPreviousGradient, h.gradient!, gates, node.savedOther!,
+    tape.kernels.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hPreviousGradient, h.gradient!, gates, node.savedOther!,
       hPrevious.data, resetAfter, rows, size, lengths, step);
     if (!resetAfter) {
       // δ(r ⊙ h₋) = δq · R_nᵀ; δR_n += (r ⊙ h₋)ᵀ · δq
       const resetHiddenGradient = tape.buffer(dtype, rows * size);
-      kernels.matmul(resetHiddenGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true);
-      gruBackwardReset(updateResetGradient, hPreviousGradient, resetHiddenGradient, gates, hPrevious.data, rows, size, lengths, step);
+      tape.kernels.matmul(resetHiddenGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true);
+      tape.kernels.gruBackwardReset(updateResetGradient, hPreviousGradient, resetHiddenGradient, gates, hPrevious.data, rows, size, lengths, step);
       if (recurrentCandidate.tracked) {
-        kernels.matmul(tape.gradientOf(recurrentCandidate), node.savedExtra!, productGradient, size, rows, size, true, false, true);
+        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), node.savedExtra!, productGradient, size, rows, size, true, false, true);
       }
     } else {
       // q = h₋·R_n + b_Rn: δR_n += h₋ᵀ · δq, δb_Rn += Σ_rows δq, δh₋ += δq · R_nᵀ
       if (recurrentCandidate.tracked) {
-        kernels.matmul(tape.gradientOf(recurrentCandidate), hPrevious.data, productGradient, size, rows, size, true, false, true);
+        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), hPrevious.data, productGradient, size, rows, size, true, false, true);
       }
-      if (candidateBias.tracked) kernels.sumRows(tape.gradientOf(candidateBias), productGradient, rows, size, true);
-      if (hPreviousGradient !== null) kernels.matmul(hPreviousGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true, true);
+      if (candidateBias.tracked) tape.kernels.sumRows(tape.gradientOf(candidateBias), productGradient, rows, size, true);
+      if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true, true);
     }
     if (projected.tracked) {
       const gp = tape.gradientOf(projected);
@@ -178,7 +177,7 @@ const gruStepKind: OperationKind = {
       }
     }
     // δh₋ += δa_zr · R_zrᵀ; δR_zr += h₋ᵀ · δa_zr
-    if (hPreviousGradient !== null) kernels.matmul(hPreviousGradient, updateResetGradient, recurrent.data, rows, 2 * size, size, false, true, true);
-    if (recurrent.tracked) kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, updateResetGradient, size, rows, 2 * size, true, false, true);
+    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, updateResetGradient, recurrent.data, rows, 2 * size, size, false, true, true);
+    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, updateResetGradient, size, rows, 2 * size, true, false, true);
   },
 };

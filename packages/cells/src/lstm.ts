@@ -8,12 +8,11 @@
  * forget block, which starts at `forgetBias` (default 1: Jozefowicz, Zaremba & Sutskever 2015, "An empirical
  * exploration of recurrent network architectures"), peepholes 0.
  */
-import { add, fail, kernels, matmul, multiply, sigmoid, slice, tanh } from '@weft/core';
+import { add, fail, matmul, multiply, sigmoid, slice, tanh } from '@weft/core';
 import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
-import { lstmStepBackward, lstmStepForward } from './kernels/lstm-step.js';
-import { addAt, checkStepArguments, copyFrom, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
+import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
 import type { CommonCellOptions } from './recurrence.js';
 
 export interface LstmOptions extends CommonCellOptions {
@@ -107,13 +106,13 @@ export class LstmCell implements RecurrentCell, FusedSequence {
     const width = 4 * size;
     const tracked = projected.tracked || hPrevious.tracked || cPrevious.tracked || this.recurrent.tracked || (this.peephole?.tracked ?? false);
     const gates = tape.buffer(this.dtype, rows * width);
-    copyFrom(gates, projected.data, step * rows * width, rows * width);
+    tape.kernels.copyAt(gates, 0, projected.data, step * rows * width, rows * width);
     // a = (x·W + b) + h₋·R
-    kernels.matmul(gates, hPrevious.data, this.recurrent.data, rows, size, width, false, false, true);
+    tape.kernels.matmul(gates, hPrevious.data, this.recurrent.data, rows, size, width, false, false, true);
     const h = tape.output([rows, size], this.dtype, tracked);
     const c = tape.output([rows, size], this.dtype, tracked);
     const tanhCell = tape.buffer(this.dtype, rows * size);
-    lstmStepForward(h.data, c.data, gates, tanhCell, hPrevious.data, cPrevious.data, this.peephole?.data ?? null, rows, size, lengths, step);
+    tape.kernels.lstmStepForward(h.data, c.data, gates, tanhCell, hPrevious.data, cPrevious.data, this.peephole?.data ?? null, rows, size, lengths, step);
     const node = tape.record(lstmStepKind, h, projected, hPrevious, cPrevious);
     if (node !== null) {
       node.secondOutput = c;
@@ -142,7 +141,7 @@ const lstmStepKind: OperationKind = {
     const step = node.number0;
     const gateGradient = tape.buffer(h.dtype, rows * width);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    lstmStepBackward(
+    tape.kernels.lstmStepBackward(
       gateGradient,
       hPreviousGradient,
       cPrevious.tracked ? tape.gradientOf(cPrevious) : null,
@@ -159,9 +158,9 @@ const lstmStepKind: OperationKind = {
       node.integers,
       step,
     );
-    if (projected.tracked) addAt(tape.gradientOf(projected), step * rows * width, gateGradient, rows * width);
+    if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * width, gateGradient, 0, rows * width);
     // δh₋ += δa · Rᵀ and δR += h₋ᵀ · δa.
-    if (hPreviousGradient !== null) kernels.matmul(hPreviousGradient, gateGradient, recurrent.data, rows, width, size, false, true, true);
-    if (recurrent.tracked) kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, gateGradient, size, rows, width, true, false, true);
+    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, gateGradient, recurrent.data, rows, width, size, false, true, true);
+    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, gateGradient, size, rows, width, true, false, true);
   },
 };

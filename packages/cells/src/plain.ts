@@ -5,12 +5,11 @@
  *
  * Parameters: input [I, H], recurrent [H, H], bias [H].
  */
-import { add, fail, kernels, matmul, relu, tanh } from '@weft/core';
+import { add, fail, matmul, relu, tanh } from '@weft/core';
 import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillIdentity, fillOrthogonal, fillUniform, glorotBound } from './init.js';
-import { plainStepBackward, plainStepForward } from './kernels/plain-step.js';
-import { addAt, checkStepArguments, copyFrom, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
+import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
 import type { CommonCellOptions } from './recurrence.js';
 
 export type PlainActivation = 'tanh' | 'relu';
@@ -79,9 +78,9 @@ export class PlainCell implements RecurrentCell, FusedSequence {
     const size = this.outputSize;
     const tracked = projected.tracked || hPrevious.tracked || this.recurrent.tracked;
     const h = tape.output([rows, size], this.dtype, tracked);
-    copyFrom(h.data, projected.data, step * rows * size, rows * size);
-    kernels.matmul(h.data, hPrevious.data, this.recurrent.data, rows, size, size, false, false, true);
-    plainStepForward(h.data, hPrevious.data, this.activation === 'relu', rows, size, lengths, step);
+    tape.kernels.copyAt(h.data, 0, projected.data, step * rows * size, rows * size);
+    tape.kernels.matmul(h.data, hPrevious.data, this.recurrent.data, rows, size, size, false, false, true);
+    tape.kernels.plainStepForward(h.data, hPrevious.data, this.activation === 'relu', rows, size, lengths, step);
     const node = tape.record(plainStepKind, h, projected, hPrevious);
     if (node !== null) {
       node.list = this.stepWeights;
@@ -105,9 +104,9 @@ const plainStepKind: OperationKind = {
     const step = node.number0;
     const preGradient = tape.buffer(h.dtype, rows * size);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    plainStepBackward(preGradient, hPreviousGradient, h.gradient!, h.data, node.flag0, rows, size, node.integers, step);
-    if (projected.tracked) addAt(tape.gradientOf(projected), step * rows * size, preGradient, rows * size);
-    if (hPreviousGradient !== null) kernels.matmul(hPreviousGradient, preGradient, recurrent.data, rows, size, size, false, true, true);
-    if (recurrent.tracked) kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, preGradient, size, rows, size, true, false, true);
+    tape.kernels.plainStepBackward(preGradient, hPreviousGradient, h.gradient!, h.data, node.flag0, rows, size, node.integers, step);
+    if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * size, preGradient, 0, rows * size);
+    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, preGradient, recurrent.data, rows, size, size, false, true, true);
+    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, preGradient, size, rows, size, true, false, true);
   },
 };

@@ -5,7 +5,7 @@
  * step's rows of the projection.
  */
 import { Random, WeftError, add, fail, formatShape, matmul, reshape, trainable, zeros } from '@weft/core';
-import type { DType, FloatArray, Tape, Tensor } from '@weft/core';
+import type { DType, Tape, Tensor } from '@weft/core';
 import type { CellMode, SequenceResult } from './cell.js';
 import { stackSteps } from './sequence-ops.js';
 
@@ -105,14 +105,4 @@ export function runSteps(
     outputs.push(current[0]);
   }
   return { outputs: stackSteps(tape, outputs, lengths), state: current };
-}
-
-/** target[offset + i] += source[i] for i < length (no subarray views, so nothing is allocated). */
-export function addAt(target: FloatArray, offset: number, source: FloatArray, length: number): void {
-  for (let i = 0; i < length; i++) target[offset + i] += source[i];
-}
-
-/** target[i] = source[offset + i] for i < length. */
-export function copyFrom(target: FloatArray, source: FloatArray, offset: number, length: number): void {
-  for (let i = 0; i < length; i++) target[i] = source[offset + i];
 }

@@ -12,7 +12,10 @@ export type ProblemCode =
   | 'bad_weight_file'
   | 'bad_data'
   | 'not_finite'
-  | 'tape_state';
+  | 'tape_state'
+  | 'backend_mismatch'
+  | 'backend_unavailable'
+  | 'backend_memory';
 
 export interface Problem {
   readonly code: ProblemCode;
@@ -35,6 +38,9 @@ const codeWords: Record<ProblemCode, string> = {
   bad_data: 'Bad data',
   not_finite: 'Non-finite value',
   tape_state: 'Tape misuse',
+  backend_mismatch: 'Backend mismatch',
+  backend_unavailable: 'Backend unavailable',
+  backend_memory: 'Backend memory exhausted',
 };
 
 /** Words one problem: "Shape mismatch at matmul.b: expected [3, 4], received [5, 4]". */

@@ -37,3 +37,17 @@ export { meanSquaredError, crossEntropyAtTargets } from './ops/losses.js';
 export type { DirectionalGradientCheck, GradientCheckOptions, GradientReport, TensorGradientCheck } from './gradient-check.js';
 export { checkGradients } from './gradient-check.js';
 export * as kernels from './kernels/index.js';
+export { requireBackend } from './ops/checks.js';
+export type { Backend, BackendName, KernelName, KernelTable, WebAssemblyBackendOptions } from './backend/index.js';
+export {
+  KERNEL_NAMES,
+  backendNamed,
+  backendOf,
+  createWebAssemblyBackend,
+  defaultBackend,
+  javascriptBackend,
+  javascriptKernels,
+  setDefaultBackend,
+  webAssemblyBackend,
+  webAssemblyUnavailable,
+} from './backend/index.js';

@@ -12,8 +12,10 @@
  */
 import type { DType, FloatArray } from './dtype.js';
 import { fail, formatShape } from './errors.js';
+import type { Backend } from './backend/backend.js';
+import { defaultBackend } from './backend/choose.js';
+import type { KernelTable } from './backend/kernel-table.js';
 import type { BufferPool } from './pool.js';
-import { sharedPool } from './pool.js';
 import { Tensor, sameShape, sizeOfShape } from './tensor.js';
 
 /** What a node needs to run backward. One static object per operation kind; nodes point at it. */
@@ -69,13 +71,18 @@ export class TapeNode {
 }
 
 export interface TapeOptions {
-  /** Where buffers come from (the shared pool by default). */
+  /** The kernels and memory every operation on this tape computes with (the default backend when not given). */
+  readonly backend?: Backend;
+  /** Where buffers come from (the backend's pool by default). */
   readonly pool?: BufferPool;
   /** When false, operations compute but record nothing (inference). Default true. */
   readonly recording?: boolean;
 }
 
 export class Tape {
+  readonly backend: Backend;
+  /** The backend's kernel table, the one way operations on this tape reach a kernel. */
+  readonly kernels: KernelTable;
   readonly pool: BufferPool;
   /** When false, operations compute but record nothing and their outputs are not tracked. */
   recording: boolean;
@@ -88,7 +95,9 @@ export class Tape {
   private swept = false;
 
   constructor(options: TapeOptions = {}) {
-    this.pool = options.pool ?? sharedPool;
+    this.backend = options.backend ?? defaultBackend();
+    this.kernels = this.backend.kernels;
+    this.pool = options.pool ?? this.backend.pool;
     this.recording = options.recording ?? true;
   }
 

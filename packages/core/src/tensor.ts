@@ -14,8 +14,8 @@
 import type { DType, FloatArray } from './dtype.js';
 import { dtypeOf, isDType } from './dtype.js';
 import { fail, formatShape } from './errors.js';
+import { backendOf, defaultBackend } from './backend/choose.js';
 import type { BufferPool } from './pool.js';
-import { sharedPool } from './pool.js';
 import type { Random } from './random.js';
 
 export class Tensor {
@@ -95,8 +95,8 @@ function checkDType(dtype: DType, path: string): void {
   if (!isDType(dtype)) fail('invalid_option', path, "'f32' or 'f64'", JSON.stringify(dtype));
 }
 
-/** A tensor of zeros. Its buffer comes from `pool` (the shared pool by default). */
-export function zeros(shape: readonly number[], dtype: DType = 'f32', pool: BufferPool = sharedPool): Tensor {
+/** A tensor of zeros. Its buffer comes from `pool` (the default backend's pool when none is given). */
+export function zeros(shape: readonly number[], dtype: DType = 'f32', pool: BufferPool = defaultBackend().pool): Tensor {
   checkDType(dtype, 'zeros.dtype');
   const size = sizeOfShape(shape, 'zeros.shape');
   return new Tensor(pool.takeZeroed(dtype, size), shape.slice());
@@ -194,7 +194,7 @@ export function trainable(t: Tensor, name?: string): Tensor {
   if (!t.trainable) {
     t.trainable = true;
     t.tracked = true;
-    t.gradient = sharedPool.takeZeroed(t.dtype, t.size);
+    t.gradient = backendOf(t.data).pool.takeZeroed(t.dtype, t.size);
   }
   if (name !== undefined) t.name = name;
   return t;
@@ -205,9 +205,9 @@ export function resetGradients(parameters: readonly Tensor[]): void {
   for (const p of parameters) if (p.gradient !== null) p.gradient.fill(0);
 }
 
-/** A copy in another dtype (or the same), not tracked, with its own buffer. */
-export function convert(t: Tensor, dtype: DType): Tensor {
-  const result = zeros(t.shape, dtype);
+/** A copy in another dtype (or the same), not tracked, with its own buffer (from `pool`, the default backend's by default). */
+export function convert(t: Tensor, dtype: DType, pool?: BufferPool): Tensor {
+  const result = zeros(t.shape, dtype, pool);
   result.data.set(t.data);
   result.name = t.name;
   return result;

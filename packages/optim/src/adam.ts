@@ -7,7 +7,7 @@
  *   m̂ = m / (1 − β₁ᵗ),     v̂ = v / (1 − β₂ᵗ)
  *   θ ← θ − η_t(α·m̂ / (√v̂ + ε) + λθ)
  */
-import type { FloatArray } from '@weft/core';
+import type { FloatArray, KernelTable } from '@weft/core';
 import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
 
 export interface AdamOptions {
@@ -41,28 +41,12 @@ export class AdamRule extends UpdateRule {
     this.decoupledDecay = checkRate(options.decoupledDecay ?? 0, 'adam.decoupledDecay', true);
   }
 
-  protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number): void {
-    const m = this.slot('firstMoment', index);
-    const v = this.slot('secondMoment', index);
-    const b1 = this.beta1;
-    const b2 = this.beta2;
+  protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number, kernels: KernelTable): void {
     const t = this.steps;
-    const correction1 = 1 - b1 ** t;
-    const correction2 = 1 - b2 ** t;
-    const rate = this.rate * multiplier;
-    const decay = this.decoupledDecay * multiplier;
-    const kappa = this.l2Penalty;
-    const epsilon = this.epsilon;
-    for (let i = 0; i < values.length; i++) {
-      const theta = values[i];
-      const g = gradient[i] + kappa * theta;
-      const mi = b1 * m[i] + (1 - b1) * g;
-      const vi = b2 * v[i] + (1 - b2) * g * g;
-      m[i] = mi;
-      v[i] = vi;
-      const mHat = mi / correction1;
-      const vHat = vi / correction2;
-      values[i] = theta - (rate * (mHat / (Math.sqrt(vHat) + epsilon)) + decay * theta);
-    }
+    kernels.adamUpdate(
+      values, gradient, this.slot('firstMoment', index), this.slot('secondMoment', index), values.length,
+      this.beta1, this.beta2, 1 - this.beta1 ** t, 1 - this.beta2 ** t,
+      this.rate * multiplier, this.decoupledDecay * multiplier, this.l2Penalty, this.epsilon,
+    );
   }
 }

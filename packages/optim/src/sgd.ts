@@ -5,7 +5,7 @@
  *   v ← μv + g',   θ ← θ − η_t(α·(g' + μv) + λθ)    (Nesterov)
  * where λ is the decoupled weight decay (Loshchilov & Hutter 2019). With μ = 0 it is plain SGD.
  */
-import type { FloatArray } from '@weft/core';
+import type { FloatArray, KernelTable } from '@weft/core';
 import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
 
 export interface SgdOptions {
@@ -35,19 +35,10 @@ export class SgdRule extends UpdateRule {
     this.decoupledDecay = checkRate(options.decoupledDecay ?? 0, 'sgd.decoupledDecay', true);
   }
 
-  protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number): void {
-    const velocity = this.slot('velocity', index);
-    const rate = this.rate * multiplier;
-    const decay = this.decoupledDecay * multiplier;
-    const mu = this.momentum;
-    const kappa = this.l2Penalty;
-    for (let i = 0; i < values.length; i++) {
-      const theta = values[i];
-      const g = gradient[i] + kappa * theta;
-      const v = mu * velocity[i] + g;
-      velocity[i] = v;
-      const direction = this.nesterov ? g + mu * v : v;
-      values[i] = theta - (rate * direction + decay * theta);
-    }
+  protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number, kernels: KernelTable): void {
+    kernels.sgdUpdate(
+      values, gradient, this.slot('velocity', index), values.length,
+      this.rate * multiplier, this.decoupledDecay * multiplier, this.momentum, this.l2Penalty, this.nesterov,
+    );
   }
 }

@@ -11,8 +11,8 @@
  * captures weights, optimiser state, generator state, schedule position, data cursor, carried state and the
  * early-stopping record, and `restore()` continues bit for bit.
  */
-import { BufferPool, Random, Tape, Tensor, WeftError, meanSquaredError, reshape, resetGradients, sharedPool, crossEntropyAtTargets, zeros } from '@weft/core';
-import type { FloatArray, RandomState } from '@weft/core';
+import { BufferPool, Random, Tape, Tensor, WeftError, backendOf, defaultBackend, meanSquaredError, reshape, resetGradients, crossEntropyAtTargets, zeros } from '@weft/core';
+import type { Backend, FloatArray, RandomState } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { joinSteps, lastSteps } from '@weft/cells';
 import type { TokenBatch } from '@weft/cells';
@@ -28,6 +28,8 @@ export interface TrainerOptions {
   readonly data: DataSource;
   readonly optimizer: UpdateRule;
   readonly epochs: number;
+  /** The backend to compute on: by default the one whose memory holds the model's parameters. */
+  readonly backend?: Backend;
   readonly validation?: DataSource;
   readonly schedule?: ScheduleDescription;
   /** Clip the global gradient norm to this (Pascanu et al. 2013). */
@@ -91,7 +93,8 @@ export interface TrainingSummary {
 
 export class Trainer {
   readonly model: SequenceModel;
-  readonly pool = new BufferPool();
+  readonly backend: Backend;
+  readonly pool: BufferPool;
   private readonly options: TrainerOptions;
   private readonly tape: Tape;
   private readonly parameters: Tensor[];
@@ -122,9 +125,16 @@ export class Trainer {
     }
     this.options = options;
     this.model = options.model;
-    this.tape = new Tape({ pool: this.pool });
     this.parameters = options.model.parameters().map((p) => p.tensor);
-    this.backup = this.parameters.map((p) => sharedPool.take(p.dtype, p.size));
+    this.backend = options.backend ?? (this.parameters.length > 0 ? backendOf(this.parameters[0].data) : defaultBackend());
+    this.parameters.forEach((p, i) => {
+      if (!this.backend.holds(p.data)) {
+        throw new WeftError({ code: 'backend_mismatch', path: `trainer.model.parameters[${i}] (${p.label()})`, expected: `a tensor in ${this.backend.name} memory (the trainer's backend)`, received: `a tensor in ${backendOf(p.data).name} memory` });
+      }
+    });
+    this.pool = this.backend.createPool();
+    this.tape = new Tape({ backend: this.backend, pool: this.pool });
+    this.backup = this.parameters.map((p) => this.backend.pool.take(p.dtype, p.size));
     this.random = new Random(options.seed ?? 0);
   }
 
@@ -230,7 +240,7 @@ export class Trainer {
 
   /** Loss and metric over a whole data source, without recording (state carried across stream windows). */
   validate(source: DataSource = this.requireValidation()): ValidationResult {
-    const tape = new Tape({ pool: this.pool, recording: false });
+    const tape = new Tape({ backend: this.backend, pool: this.pool, recording: false });
     let carried: Tensor[] | null = null;
     let lossSum = 0;
     let metricSum = 0;
@@ -291,7 +301,7 @@ export class Trainer {
           this.bestLoss = result.loss;
           this.bestStep = this.stepCount;
           this.bestValidation = result;
-          this.bestParameters ??= this.parameters.map((p) => sharedPool.take(p.dtype, p.size));
+          this.bestParameters ??= this.parameters.map((p) => this.backend.pool.take(p.dtype, p.size));
           this.parameters.forEach((p, i) => (this.bestParameters as FloatArray[])[i].set(p.data));
           this.stale = 0;
         } else if (patience !== undefined && ++this.stale >= patience) {
@@ -365,7 +375,7 @@ export class Trainer {
     if (snapshot.best.parameters === null) {
       this.bestParameters = null;
     } else {
-      this.bestParameters = this.parameters.map((p) => sharedPool.take(p.dtype, p.size));
+      this.bestParameters = this.parameters.map((p) => this.backend.pool.take(p.dtype, p.size));
       load(snapshot.best.parameters, this.bestParameters, 'snapshot.best.parameters');
     }
     this.skipped = snapshot.skipped;

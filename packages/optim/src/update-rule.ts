@@ -7,8 +7,8 @@
  * and is exposed as plain data for checkpoints: `state()` and `restore()` round-trip it exactly (f32 and f64
  * values are exact as JSON numbers).
  */
-import { WeftError, fail, formatShape, sharedPool } from '@weft/core';
-import type { FloatArray, Tensor } from '@weft/core';
+import { WeftError, backendOf, fail, formatShape } from '@weft/core';
+import type { FloatArray, KernelTable, Tensor } from '@weft/core';
 
 export interface UpdateRuleState {
   readonly kind: string;
@@ -61,7 +61,7 @@ export abstract class UpdateRule {
     this.steps++;
     for (let i = 0; i < parameters.length; i++) {
       const p = parameters[i];
-      this.apply(i, p.data, p.gradient as FloatArray, multiplier);
+      this.apply(i, p.data, p.gradient as FloatArray, multiplier, backendOf(p.data).kernels);
     }
   }
 
@@ -70,8 +70,8 @@ export abstract class UpdateRule {
     return (this.slots as Map<string, FloatArray[]>).get(name)![index];
   }
 
-  /** Updates one parameter's values in place. */
-  protected abstract apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number): void;
+  /** Updates one parameter's values in place, with the kernels of the backend that holds them. */
+  protected abstract apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number, kernels: KernelTable): void;
 
   state(): UpdateRuleState {
     const slots: Record<string, number[][]> = {};
@@ -104,7 +104,7 @@ export abstract class UpdateRule {
     if (this.slots === null) {
       this.slots = new Map();
       this.sizes = parameters.map((p) => p.size);
-      for (const name of this.slotNames) this.slots.set(name, parameters.map((p) => sharedPool.takeZeroed(p.dtype, p.size)));
+      for (const name of this.slotNames) this.slots.set(name, parameters.map((p) => backendOf(p.data).pool.takeZeroed(p.dtype, p.size)));
     }
     if (parameters.length !== this.sizes.length) {
       fail('invalid_argument', `${this.kind}.update.parameters`, `the same ${this.sizes.length} parameters on every update`, `${parameters.length}`);

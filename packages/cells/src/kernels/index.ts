@@ -1,5 +1,8 @@
-/** The cells' step kernels: typed-array loops shared by the tape path and the inference runtime. */
-export { lstmStepBackward, lstmStepForward } from './lstm-step.js';
-export { gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset } from './gru-step.js';
-export { plainStepBackward, plainStepForward } from './plain-step.js';
-export { logistic } from './logistic.js';
+/**
+ * The cells' step kernels. Their JavaScript implementations live in @weft/core's kernel table (so a backend can
+ * register its own twins beside them); this entry re-exports them for code that imported them from here.
+ */
+export {
+  gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset, logistic, lstmStepBackward,
+  lstmStepForward, plainStepBackward, plainStepForward,
+} from '@weft/core/kernels';

@@ -4,21 +4,14 @@
  * through the forward output `y` where that is the cheaper form (σ' = y(1 − y), tanh' = 1 − y²).
  */
 import type { FloatArray } from '../dtype.js';
+import { logistic } from './logistic.js';
 
 /**
  * The logistic function, written so that no exponential overflows: for x ≥ 0 it is 1 / (1 + e^−x), for x < 0
  * it is e^x / (1 + e^x) (common practice). Saturates to exactly 0 or 1 far out instead of producing NaN.
  */
 export function sigmoid(out: FloatArray, a: FloatArray, length: number): FloatArray {
-  for (let i = 0; i < length; i++) {
-    const x = a[i];
-    if (x >= 0) {
-      out[i] = 1 / (1 + Math.exp(-x));
-    } else {
-      const e = Math.exp(x);
-      out[i] = e / (1 + e);
-    }
-  }
+  for (let i = 0; i < length; i++) out[i] = logistic(a[i]);
   return out;
 }
 

@@ -69,3 +69,15 @@ export function sumRows(out: FloatArray, a: FloatArray, rows: number, cols: numb
   }
   return out;
 }
+
+/** target[targetOffset + i] = source[sourceOffset + i] for i < length. `target` must not overlap `source`. */
+export function copyAt(target: FloatArray, targetOffset: number, source: FloatArray, sourceOffset: number, length: number): FloatArray {
+  for (let i = 0; i < length; i++) target[targetOffset + i] = source[sourceOffset + i];
+  return target;
+}
+
+/** target[targetOffset + i] += source[sourceOffset + i] for i < length. */
+export function addAt(target: FloatArray, targetOffset: number, source: FloatArray, sourceOffset: number, length: number): FloatArray {
+  for (let i = 0; i < length; i++) target[targetOffset + i] += source[sourceOffset + i];
+  return target;
+}

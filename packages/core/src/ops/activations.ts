@@ -3,20 +3,20 @@
  * its derivative follows (σ' = y(1−y), tanh' = 1−y², relu' = [y > 0], exp' = y); log's is 1/x from its input.
  */
 import { fail } from '../errors.js';
-import * as activation from '../kernels/activations.js';
-import { multiplyInto } from '../kernels/elementwise.js';
+import type { KernelTable } from '../backend/kernel-table.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
-import type { FloatArray } from '../dtype.js';
+import { requireBackend } from './checks.js';
 
-type Forward = (out: FloatArray, a: FloatArray, length: number) => FloatArray;
+type ForwardName = 'sigmoid' | 'tanh' | 'relu' | 'exp' | 'log';
 
-function unary(name: string, forward: Forward, backward: (node: TapeNode, tape: Tape) => void): (tape: Tape, a: Tensor) => Tensor {
+function unary(name: ForwardName, backward: (node: TapeNode, tape: Tape) => void): (tape: Tape, a: Tensor) => Tensor {
   const kind: OperationKind = { name, backward };
   return (tape: Tape, a: Tensor): Tensor => {
     if (a === undefined || a === null) fail('invalid_argument', `${name}.a`, 'a tensor', String(a));
+    requireBackend(tape, name, 'a', a);
     const out = tape.output(a.shape, a.dtype, a.tracked);
-    forward(out.data, a.data, a.size);
+    (tape.kernels as KernelTable)[name](out.data, a.data, a.size);
     tape.record(kind, out, a);
     return out;
   };
@@ -31,28 +31,28 @@ function output(node: TapeNode): Tensor {
 }
 
 /** The logistic function 1/(1+e^−x), computed without overflow for any x. */
-export const sigmoid = unary('sigmoid', activation.sigmoid, (node, tape) => {
+export const sigmoid = unary('sigmoid', (node, tape) => {
   const y = output(node);
-  activation.sigmoidGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
+  tape.kernels.sigmoidGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
 });
 
-export const tanh = unary('tanh', activation.tanh, (node, tape) => {
+export const tanh = unary('tanh', (node, tape) => {
   const y = output(node);
-  activation.tanhGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
+  tape.kernels.tanhGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
 });
 
-export const relu = unary('relu', activation.relu, (node, tape) => {
+export const relu = unary('relu', (node, tape) => {
   const y = output(node);
-  activation.reluGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
+  tape.kernels.reluGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
 });
 
-export const exp = unary('exp', activation.exp, (node, tape) => {
+export const exp = unary('exp', (node, tape) => {
   const y = output(node);
-  multiplyInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
+  tape.kernels.multiplyInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
 });
 
 /** Natural logarithm; its derivative 1/x is taken from the input. */
-export const log = unary('log', activation.log, (node, tape) => {
+export const log = unary('log', (node, tape) => {
   const x = input(node);
   const g = output(node).gradient!;
   const gx = tape.gradientOf(x);

@@ -4,11 +4,10 @@
  * ∂(a−b)/∂b = −1; ∂(a⊙b)/∂a = b; ∂(s·a)/∂a = s.
  */
 import { fail, formatShape } from '../errors.js';
-import { addInto, addRow, addScaledInto, add as addKernel, multiplyInto, multiply as multiplyKernel, scale as scaleKernel, subtract as subtractKernel, sumRows } from '../kernels/elementwise.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { sameShape } from '../tensor.js';
-import { lastAxis, requireSameDType, requireShape } from './checks.js';
+import { lastAxis, requireBackend, requireSameDType, requireShape } from './checks.js';
 
 /** True when b is a row broadcast over a, false when the shapes are equal; throws otherwise. */
 function rowBroadcast(operation: string, a: Tensor, b: Tensor): boolean {
@@ -25,10 +24,10 @@ const addKind: OperationKind = {
     const a = node.first as Tensor;
     const b = node.second as Tensor;
     const g = (node.output as Tensor).gradient!;
-    if (a.tracked) addInto(tape.gradientOf(a), g, a.size);
+    if (a.tracked) tape.kernels.addInto(tape.gradientOf(a), g, a.size);
     if (b.tracked) {
-      if (node.flag0) sumRows(tape.gradientOf(b), g, a.size / b.size, b.size, true);
-      else addInto(tape.gradientOf(b), g, b.size);
+      if (node.flag0) tape.kernels.sumRows(tape.gradientOf(b), g, a.size / b.size, b.size, true);
+      else tape.kernels.addInto(tape.gradientOf(b), g, b.size);
     }
   },
 };
@@ -39,10 +38,12 @@ const addKind: OperationKind = {
  */
 export function add(tape: Tape, a: Tensor, b: Tensor): Tensor {
   requireSameDType('add', 'b', b, a.dtype);
+  requireBackend(tape, 'add', 'a', a);
+  requireBackend(tape, 'add', 'b', b);
   const broadcast = rowBroadcast('add', a, b);
   const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
-  if (broadcast) addRow(out.data, a.data, b.data, a.size / b.size, b.size);
-  else addKernel(out.data, a.data, b.data, a.size);
+  if (broadcast) tape.kernels.addRow(out.data, a.data, b.data, a.size / b.size, b.size);
+  else tape.kernels.add(out.data, a.data, b.data, a.size);
   const node = tape.record(addKind, out, a, b);
   if (node !== null) node.flag0 = broadcast;
   return out;
@@ -54,17 +55,19 @@ const subtractKind: OperationKind = {
     const a = node.first as Tensor;
     const b = node.second as Tensor;
     const g = (node.output as Tensor).gradient!;
-    if (a.tracked) addInto(tape.gradientOf(a), g, a.size);
-    if (b.tracked) addScaledInto(tape.gradientOf(b), g, -1, b.size);
+    if (a.tracked) tape.kernels.addInto(tape.gradientOf(a), g, a.size);
+    if (b.tracked) tape.kernels.addScaledInto(tape.gradientOf(b), g, -1, b.size);
   },
 };
 
 /** a − b, same shapes. */
 export function subtract(tape: Tape, a: Tensor, b: Tensor): Tensor {
   requireSameDType('subtract', 'b', b, a.dtype);
+  requireBackend(tape, 'subtract', 'a', a);
+  requireBackend(tape, 'subtract', 'b', b);
   requireShape('subtract', 'b', b, a.shape);
   const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
-  subtractKernel(out.data, a.data, b.data, a.size);
+  tape.kernels.subtract(out.data, a.data, b.data, a.size);
   tape.record(subtractKind, out, a, b);
   return out;
 }
@@ -76,8 +79,8 @@ const multiplyKind: OperationKind = {
     const b = node.second as Tensor;
     const g = (node.output as Tensor).gradient!;
     if (!node.flag0) {
-      if (a.tracked) multiplyInto(tape.gradientOf(a), g, b.data, a.size);
-      if (b.tracked) multiplyInto(tape.gradientOf(b), g, a.data, b.size);
+      if (a.tracked) tape.kernels.multiplyInto(tape.gradientOf(a), g, b.data, a.size);
+      if (b.tracked) tape.kernels.multiplyInto(tape.gradientOf(b), g, a.data, b.size);
       return;
     }
     // b is a row broadcast over the rows of a.
@@ -106,6 +109,8 @@ const multiplyKind: OperationKind = {
  */
 export function multiply(tape: Tape, a: Tensor, b: Tensor): Tensor {
   requireSameDType('multiply', 'b', b, a.dtype);
+  requireBackend(tape, 'multiply', 'a', a);
+  requireBackend(tape, 'multiply', 'b', b);
   const broadcast = rowBroadcast('multiply', a, b);
   const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
   if (broadcast) {
@@ -116,7 +121,7 @@ export function multiply(tape: Tape, a: Tensor, b: Tensor): Tensor {
       for (let c = 0; c < cols; c++) out.data[base + c] = a.data[base + c] * b.data[c];
     }
   } else {
-    multiplyKernel(out.data, a.data, b.data, a.size);
+    tape.kernels.multiply(out.data, a.data, b.data, a.size);
   }
   const node = tape.record(multiplyKind, out, a, b);
   if (node !== null) node.flag0 = broadcast;
@@ -127,15 +132,16 @@ const scaleKind: OperationKind = {
   name: 'scale',
   backward(node: TapeNode, tape: Tape): void {
     const a = node.first as Tensor;
-    addScaledInto(tape.gradientOf(a), (node.output as Tensor).gradient!, node.number0, a.size);
+    tape.kernels.addScaledInto(tape.gradientOf(a), (node.output as Tensor).gradient!, node.number0, a.size);
   },
 };
 
 /** s · a for a number s. */
 export function scale(tape: Tape, a: Tensor, s: number): Tensor {
+  requireBackend(tape, 'scale', 'a', a);
   if (typeof s !== 'number' || Number.isNaN(s)) fail('invalid_argument', 'scale.s', 'a number', String(s));
   const out = tape.output(a.shape, a.dtype, a.tracked);
-  scaleKernel(out.data, a.data, s, a.size);
+  tape.kernels.scale(out.data, a.data, s, a.size);
   const node = tape.record(scaleKind, out, a);
   if (node !== null) node.number0 = s;
   return out;

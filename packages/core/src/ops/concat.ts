@@ -6,7 +6,7 @@
 import { fail, formatShape } from '../errors.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
-import { lastAxis, requireSameDType } from './checks.js';
+import { lastAxis, requireBackend, requireSameDType } from './checks.js';
 
 const concatKind: OperationKind = {
   name: 'concat',
@@ -44,6 +44,7 @@ export function concat(tape: Tape, parts: readonly Tensor[]): Tensor {
   for (let i = 0; i < parts.length; i++) {
     const part = parts[i];
     requireSameDType('concat', `parts[${i}]`, part, first.dtype);
+    requireBackend(tape, 'concat', `parts[${i}]`, part);
     const partLead = part.shape.slice(0, -1);
     if (part.shape.length !== first.shape.length || partLead.some((n, axis) => n !== lead[axis])) {
       fail('shape_mismatch', `concat.parts[${i}]`, `[${[...lead, 'any'].join(', ')}]`, formatShape(part.shape));
@@ -91,6 +92,7 @@ const sliceKind: OperationKind = {
 export function slice(tape: Tape, a: Tensor, start: number, end: number): Tensor {
   const width = lastAxis(a);
   if (a.shape.length === 0) fail('shape_mismatch', 'slice.a', 'a tensor of rank ≥ 1', '[]');
+  requireBackend(tape, 'slice', 'a', a);
   if (!Number.isInteger(start) || !Number.isInteger(end) || start < 0 || end > width || start > end) {
     fail('invalid_argument', 'slice.range', `0 ≤ start ≤ end ≤ ${width}`, `start ${start}, end ${end}`);
   }

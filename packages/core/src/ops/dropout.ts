@@ -5,27 +5,28 @@
  * order and saved; backward multiplies the gradient by the same mask.
  */
 import { fail } from '../errors.js';
-import { multiply, multiplyInto } from '../kernels/elementwise.js';
 import type { Random } from '../random.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
+import { requireBackend } from './checks.js';
 
 const kind: OperationKind = {
   name: 'dropout',
   backward(node: TapeNode, tape: Tape): void {
     const a = node.first as Tensor;
-    multiplyInto(tape.gradientOf(a), (node.output as Tensor).gradient!, node.saved!, a.size);
+    tape.kernels.multiplyInto(tape.gradientOf(a), (node.output as Tensor).gradient!, node.saved!, a.size);
   },
 };
 
 export function dropout(tape: Tape, a: Tensor, rate: number, random: Random): Tensor {
   if (!(rate >= 0 && rate < 1)) fail('invalid_option', 'dropout.rate', 'a number in [0, 1)', String(rate));
+  requireBackend(tape, 'dropout', 'a', a);
   const mask = tape.buffer(a.dtype, a.size);
   const keep = 1 - rate;
   const scaleKept = 1 / keep;
   for (let i = 0; i < a.size; i++) mask[i] = random.uniform() < keep ? scaleKept : 0;
   const out = tape.output(a.shape, a.dtype, a.tracked);
-  multiply(out.data, a.data, mask, a.size);
+  tape.kernels.multiply(out.data, a.data, mask, a.size);
   const node = tape.record(kind, out, a);
   if (node !== null) node.saved = mask;
   return out;

@@ -5,7 +5,7 @@
 import { fail } from '../errors.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
-import { requireRank } from './checks.js';
+import { requireBackend, requireRank } from './checks.js';
 
 const gatherKind: OperationKind = {
   name: 'gatherRows',
@@ -26,6 +26,7 @@ const gatherKind: OperationKind = {
 /** Rows of a [rows, width] table picked by `indices`; the result is [indices.length, width]. */
 export function gatherRows(tape: Tape, table: Tensor, indices: Int32Array | readonly number[]): Tensor {
   requireRank('gatherRows', 'table', table, 2);
+  requireBackend(tape, 'gatherRows', 'table', table);
   const [rows, width] = table.shape;
   const picked = indices instanceof Int32Array ? indices : Int32Array.from(indices);
   for (let i = 0; i < picked.length; i++) {

@@ -11,10 +11,9 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { fail, formatShape } from '../errors.js';
-import { crossEntropyRows } from '../kernels/softmax.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
-import { lastAxis, requireRank, requireSameDType, requireShape } from './checks.js';
+import { lastAxis, requireBackend, requireRank, requireSameDType, requireShape } from './checks.js';
 
 const crossEntropyKind: OperationKind = {
   name: 'crossEntropyAtTargets',
@@ -49,6 +48,7 @@ export function crossEntropyAtTargets(
   options: CrossEntropyOptions = {},
 ): Tensor {
   requireRank('crossEntropyAtTargets', 'logits', logits, 2);
+  requireBackend(tape, 'crossEntropyAtTargets', 'logits', logits);
   const [rows, classes] = logits.shape;
   if (targets.length !== rows) {
     fail('shape_mismatch', 'crossEntropyAtTargets.targets', `${rows} targets (one per row of logits ${formatShape(logits.shape)})`, `${targets.length}`);
@@ -80,7 +80,7 @@ export function crossEntropyAtTargets(
   }
   const probabilities = tape.buffer(logits.dtype, logits.size);
   const losses = tape.buffer(logits.dtype, rows);
-  crossEntropyRows(losses, probabilities, logits.data, picked, rows, classes);
+  tape.kernels.crossEntropyRows(losses, probabilities, logits.data, picked, rows, classes);
   let weighted = 0;
   for (let r = 0; r < rows; r++) weighted += weights === null ? losses[r] : weights[r] * losses[r];
   const normaliser = total > 0 ? 1 / total : 0;
@@ -127,6 +127,8 @@ export interface SquaredErrorOptions {
 /** Mean over all elements of (prediction − target)², optionally weighted per row. */
 export function meanSquaredError(tape: Tape, prediction: Tensor, target: Tensor, options: SquaredErrorOptions = {}): Tensor {
   requireSameDType('meanSquaredError', 'target', target, prediction.dtype);
+  requireBackend(tape, 'meanSquaredError', 'prediction', prediction);
+  requireBackend(tape, 'meanSquaredError', 'target', target);
   requireShape('meanSquaredError', 'target', target, prediction.shape);
   const width = lastAxis(prediction);
   const rows = width === 0 ? 0 : prediction.size / width;

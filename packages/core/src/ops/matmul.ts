@@ -4,10 +4,9 @@
  * transposing those products, so every case is one accumulating matmul kernel call per operand, no temporaries.
  */
 import { fail, formatShape } from '../errors.js';
-import { matmul as matmulKernel } from '../kernels/matmul.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
-import { requireRank, requireSameDType } from './checks.js';
+import { requireBackend, requireRank, requireSameDType } from './checks.js';
 
 export interface MatmulOptions {
   /** Use Aᵀ: A is stored [inner, rows]. */
@@ -31,20 +30,20 @@ const kind: OperationKind = {
       const ga = tape.gradientOf(a);
       if (!transposeA) {
         // ∂A [rows, inner] += ∂C [rows, cols] · op(B)ᵀ [cols, inner]
-        matmulKernel(ga, g, b.data, rows, cols, inner, false, !transposeB, true);
+        tape.kernels.matmul(ga, g, b.data, rows, cols, inner, false, !transposeB, true);
       } else {
         // ∂A stored [inner, rows] += op(B) [inner, cols] · ∂Cᵀ [cols, rows]
-        matmulKernel(ga, b.data, g, inner, cols, rows, transposeB, true, true);
+        tape.kernels.matmul(ga, b.data, g, inner, cols, rows, transposeB, true, true);
       }
     }
     if (b.tracked) {
       const gb = tape.gradientOf(b);
       if (!transposeB) {
         // ∂B [inner, cols] += op(A)ᵀ [inner, rows] · ∂C [rows, cols]
-        matmulKernel(gb, a.data, g, inner, rows, cols, !transposeA, false, true);
+        tape.kernels.matmul(gb, a.data, g, inner, rows, cols, !transposeA, false, true);
       } else {
         // ∂B stored [cols, inner] += ∂Cᵀ [cols, rows] · op(A) [rows, inner]
-        matmulKernel(gb, g, a.data, cols, rows, inner, true, transposeA, true);
+        tape.kernels.matmul(gb, g, a.data, cols, rows, inner, true, transposeA, true);
       }
     }
   },
@@ -56,6 +55,8 @@ export function matmul(tape: Tape, a: Tensor, b: Tensor, options: MatmulOptions 
   requireRank('matmul', 'a', a, 2);
   requireRank('matmul', 'b', b, 2);
   requireSameDType('matmul', 'b', b, a.dtype);
+  requireBackend(tape, 'matmul', 'a', a);
+  requireBackend(tape, 'matmul', 'b', b);
   const rows = transposeA ? a.shape[1] : a.shape[0];
   const inner = transposeA ? a.shape[0] : a.shape[1];
   const innerB = transposeB ? b.shape[1] : b.shape[0];
@@ -66,7 +67,7 @@ export function matmul(tape: Tape, a: Tensor, b: Tensor, options: MatmulOptions 
       `inner sizes differ: ${transposeA ? 'Aᵀ' : 'A'} is [${rows}, ${inner}], ${transposeB ? 'Bᵀ' : 'B'} is [${innerB}, ${cols}]`);
   }
   const out = tape.output([rows, cols], a.dtype, a.tracked || b.tracked);
-  matmulKernel(out.data, a.data, b.data, rows, inner, cols, transposeA, transposeB, false);
+  tape.kernels.matmul(out.data, a.data, b.data, rows, inner, cols, transposeA, transposeB, false);
   const node = tape.record(kind, out, a, b);
   if (node !== null) {
     node.flag0 = transposeA;

@@ -1,7 +1,6 @@
 /** Sum and mean of all elements, to a scalar (shape [1]). Backward: every element receives g (or g/n). */
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
-import { sum as sumKernel } from '../kernels/reductions.js';
 
 const reduceKind: OperationKind = {
   name: 'sum',
@@ -15,7 +14,7 @@ const reduceKind: OperationKind = {
 
 function reduce(tape: Tape, a: Tensor, factor: number): Tensor {
   const out = tape.output([1], a.dtype, a.tracked);
-  out.data[0] = sumKernel(a.data, a.size) * factor;
+  out.data[0] = tape.kernels.sum(a.data, a.size) * factor;
   const node = tape.record(reduceKind, out, a);
   if (node !== null) node.number0 = factor;
   return out;

@@ -3,7 +3,6 @@
  * the input's buffer (no copy); backward adds the output's gradient into the input's, element for element.
  */
 import { fail, formatShape } from '../errors.js';
-import { addInto } from '../kernels/elementwise.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import { Tensor, sizeOfShape } from '../tensor.js';
 
@@ -11,7 +10,7 @@ const kind: OperationKind = {
   name: 'reshape',
   backward(node: TapeNode, tape: Tape): void {
     const a = node.first as Tensor;
-    addInto(tape.gradientOf(a), (node.output as Tensor).gradient!, a.size);
+    tape.kernels.addInto(tape.gradientOf(a), (node.output as Tensor).gradient!, a.size);
   },
 };
 

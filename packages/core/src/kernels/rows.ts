@@ -2,7 +2,7 @@
  * The row helpers the step kernels share for ragged batches: a row past its length holds its state, so forward
  * copies its previous state across and backward passes its gradient straight to the previous state.
  */
-import type { FloatArray } from '@weft/core';
+import type { FloatArray } from '../dtype.js';
 
 /** True when row `b` is past its length at `step` (its state is held). */
 export function isHeld(lengths: Int32Array | null, b: number, step: number): boolean {

@@ -2,7 +2,7 @@
  * The elementwise part of one plain recurrent step, h = φ(x·W + h₋·R + b) with φ = tanh or ReLU (Elman 1990,
  * "Finding structure in time"). Rows past their length hold their state.
  */
-import type { FloatArray } from '@weft/core';
+import type { FloatArray } from '../dtype.js';
 import { addRowInto, copyRow, isHeld } from './rows.js';
 
 /** On entry `hidden` holds the pre-activation a; on exit φ(a), or h₋ for held rows. */

@@ -12,7 +12,7 @@
  * caller's matmul calls; q below is the recurrent candidate term ((r ⊙ h₋)·R_n, or h₋·R_n + b_Rn).
  * Rows past their length hold their state.
  */
-import type { FloatArray } from '@weft/core';
+import type { FloatArray } from '../dtype.js';
 import { logistic } from './logistic.js';
 import { addRowInto, copyRow, isHeld } from './rows.js';
 

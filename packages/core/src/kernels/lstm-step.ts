@@ -10,7 +10,7 @@
  * where a = x·W + h₋·R + b is the [B, 4H] pre-activation in our gate order i, f, g, o. Rows past their length
  * (step ≥ lengths[b]) hold their state: h = h₋, c = c₋.
  */
-import type { FloatArray } from '@weft/core';
+import type { FloatArray } from '../dtype.js';
 import { logistic } from './logistic.js';
 import { addRowInto, copyRow, isHeld } from './rows.js';
 

@@ -1,0 +1,62 @@
+/**
+ * Which backend runs when none is given. The default is the WebAssembly SIMD backend where the platform validates
+ * a SIMD module, else the JavaScript backend; `setDefaultBackend` changes it for everything made afterwards, and
+ * the environment variable WEFT_BACKEND (`javascript` or `webassembly`, read once where a `process` exists) sets
+ * it for a whole process, which is how CI runs the suite on each backend.
+ *
+ * Tensors keep the backend whose memory holds them: changing the default does not move existing tensors, and an
+ * operation that meets tensors of two backends says so (see backend.ts).
+ */
+import type { FloatArray } from '../dtype.js';
+import { WeftError } from '../errors.js';
+import type { Backend, BackendName } from './backend.js';
+import { javascriptBackend } from './javascript.js';
+import { createWebAssemblyBackend, webAssemblyUnavailable } from './webassembly.js';
+
+let sharedWebAssembly: Backend | null = null;
+let current: Backend | null = null;
+
+const NAMES: readonly BackendName[] = ['javascript', 'webassembly'];
+
+/** The backend shared by everything that names `webassembly` without making its own (made on first use). */
+export function webAssemblyBackend(): Backend {
+  if (sharedWebAssembly === null) sharedWebAssembly = createWebAssemblyBackend();
+  return sharedWebAssembly;
+}
+
+/** The backend called `name` (`javascript` or `webassembly`); a WeftError names what is missing. */
+export function backendNamed(name: string, path = 'backend'): Backend {
+  if (name === 'javascript') return javascriptBackend;
+  if (name === 'webassembly') return webAssemblyBackend();
+  throw new WeftError({ code: 'invalid_option', path, expected: NAMES.map((n) => `'${n}'`).join(' or '), received: JSON.stringify(name) });
+}
+
+function environmentChoice(): string | undefined {
+  const host = globalThis as { process?: { env?: Record<string, string | undefined> } };
+  const value = host.process?.env?.WEFT_BACKEND;
+  return value === undefined || value === '' ? undefined : value;
+}
+
+/** The backend used where none is given. */
+export function defaultBackend(): Backend {
+  if (current === null) {
+    const requested = environmentChoice();
+    if (requested !== undefined) current = backendNamed(requested, 'WEFT_BACKEND');
+    else current = webAssemblyUnavailable() === null ? webAssemblyBackend() : javascriptBackend;
+  }
+  return current;
+}
+
+/** Makes `backend` (or the backend of that name) the default for everything made from now on; returns it. */
+export function setDefaultBackend(backend: Backend | BackendName): Backend {
+  current = typeof backend === 'string' ? backendNamed(backend) : backend;
+  return current;
+}
+
+export { memoryOwner } from './backend.js';
+import { memoryOwner } from './backend.js';
+
+/** The backend whose memory holds `array` (the JavaScript backend for ordinary typed arrays). */
+export function backendOf(array: FloatArray): Backend {
+  return memoryOwner(array) ?? javascriptBackend;
+}

@@ -1,0 +1,36 @@
+/**
+ * The kernel table: every loop the library computes with, by name, with a fixed signature (the JavaScript
+ * kernel's). A backend supplies one table; ops, cells, update rules and the runtime call kernels only through
+ * the table of the backend they were given, never by importing a kernel module.
+ *
+ * Adding a kernel (both backends, DESIGN "Numbers"):
+ *   1. write the JavaScript kernel in core/src/kernels/ (out-first, explicit sizes, aliasing stated) and add its
+ *      name to KERNEL_NAMES below; the JavaScript table picks it up;
+ *   2. if it is hot, write its twin in core/wasm/ (AssemblyScript, byte offsets, same argument order), export it
+ *      from core/wasm/training.ts (and runtime.ts if inference needs it), and wrap it in backend/webassembly.ts;
+ *      otherwise the WebAssembly table uses the JavaScript kernel on its own memory, which is correct, just slower;
+ *   3. add the pair to test/backend/agreement.test.ts (twin against kernel, f32, |a−b| ≤ 1e-5·max(1, |a|, |b|)).
+ */
+import * as javascript from '../kernels/index.js';
+
+/** The names in every kernel table. */
+export const KERNEL_NAMES = [
+  'matmul',
+  'add', 'subtract', 'multiply', 'scale', 'addInto', 'addScaledInto', 'multiplyInto', 'addRow', 'sumRows', 'copyAt', 'addAt',
+  'sigmoid', 'tanh', 'relu', 'exp', 'log', 'sigmoidGradientInto', 'tanhGradientInto', 'reluGradientInto',
+  'sum', 'dot', 'sumOfSquares', 'maxAbs', 'firstNonFinite', 'crossEntropyRows',
+  'lstmStepForward', 'lstmStepBackward',
+  'gruUpdateReset', 'gruResetHidden', 'gruStepFinish', 'gruBackwardCandidate', 'gruBackwardReset',
+  'plainStepForward', 'plainStepBackward',
+  'adamUpdate', 'sgdUpdate',
+] as const;
+
+export type KernelName = (typeof KERNEL_NAMES)[number];
+
+/** One function per name, with the JavaScript kernel's signature. */
+export type KernelTable = { readonly [K in KernelName]: (typeof javascript)[K] };
+
+/** The JavaScript kernels as a table. */
+export const javascriptKernels: KernelTable = Object.freeze(
+  Object.fromEntries(KERNEL_NAMES.map((name) => [name, javascript[name]])) as unknown as KernelTable,
+);

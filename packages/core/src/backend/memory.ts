@@ -1,0 +1,68 @@
+/**
+ * The WebAssembly backend's memory: one WebAssembly.Memory, reserved whole when the backend is made and never
+ * grown. Growing a memory detaches every typed-array view on it, and tensors hold such views; a memory that never
+ * grows keeps every view valid for the life of the backend, so no code anywhere has to re-derive a view. The
+ * reservation is address space: pages the kernels have not touched cost no physical memory on the platforms weft
+ * runs on, so the default can be generous; `memoryBytes` sets it. Asking for more than remains is a
+ * `backend_memory` error that says how much was reserved and how to reserve more.
+ *
+ * Blocks are 16-byte aligned (one SIMD vector) and start past address 0, which the kernels read as "no array".
+ * A block comes back only through `release` (the buffer pool keeps what is given back to it for reuse, so a
+ * training loop that repeats the same shapes takes new blocks only in its first step).
+ */
+import { fail } from '../errors.js';
+
+const PAGE = 65536;
+const ALIGN = 16;
+const FIRST = 64;
+
+export class LinearMemory {
+  readonly memory: WebAssembly.Memory;
+  readonly buffer: ArrayBuffer;
+  readonly reservedBytes: number;
+  private top = FIRST;
+  private readonly free = new Map<number, number[]>();
+
+  constructor(bytes: number) {
+    const pages = Math.ceil(bytes / PAGE);
+    this.memory = new WebAssembly.Memory({ initial: pages, maximum: pages });
+    this.buffer = this.memory.buffer;
+    this.reservedBytes = pages * PAGE;
+  }
+
+  /** Bytes handed out so far (the high-water mark of the bump pointer). */
+  get usedBytes(): number {
+    return this.top;
+  }
+
+  /** The byte offset of a fresh block of at least `bytes` bytes. */
+  allocate(bytes: number): number {
+    const size = Math.max(ALIGN, Math.ceil(bytes / ALIGN) * ALIGN);
+    const reuse = this.free.get(size);
+    if (reuse !== undefined && reuse.length > 0) return reuse.pop() as number;
+    if (this.top + size > this.reservedBytes) {
+      fail('backend_memory', 'webassembly backend', `at most ${this.reservedBytes} bytes of tensors and scratch (the reservation)`,
+        `a request for ${size} more bytes with ${this.top} in use`,
+        'make the backend with a larger memoryBytes, or give buffers back to their pool');
+    }
+    const offset = this.top;
+    this.top += size;
+    return offset;
+  }
+
+  /** Gives a block back for reuse by a later request of the same size. */
+  release(offset: number, bytes: number): void {
+    const size = Math.max(ALIGN, Math.ceil(bytes / ALIGN) * ALIGN);
+    const list = this.free.get(size);
+    if (list === undefined) this.free.set(size, [offset]);
+    else list.push(offset);
+  }
+
+  floats(length: number): Float32Array {
+    return new Float32Array(this.buffer, this.allocate(length * 4), length);
+  }
+
+  integers(length: number): Int32Array {
+    return new Int32Array(this.buffer, this.allocate(length * 4), length);
+  }
+}

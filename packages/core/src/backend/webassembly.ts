@@ -1,0 +1,296 @@
+/**
+ * The WebAssembly SIMD backend (f32): the kernels of core/wasm (AssemblyScript, compiled by scripts/build-wasm.mjs
+ * and shipped as base64 inside the build output) over one LinearMemory that never grows (see memory.ts for why
+ * that keeps every view valid).
+ *
+ * Each table entry checks that its arrays live in this backend's memory and then calls the SIMD twin with their
+ * byte offsets; otherwise (f64 arrays, or an ordinary f32 array that reached a kernel) it runs the JavaScript
+ * kernel, which computes the same thing on any typed array. Ops check their tensors at the boundary, so mixing
+ * tensors of two backends is refused there, not papered over here. Kernels without a SIMD twin (reductions, the
+ * softmax cross-entropy, ReLU, log, the offset copies) are the JavaScript kernels working on this memory.
+ *
+ * Scratch: the matrix product's packed panels and a copy of a ragged batch's lengths live in blocks of this memory
+ * that grow to the largest size asked of them (old blocks go back to the memory for reuse).
+ */
+import type { FloatArray } from '../dtype.js';
+import { WeftError } from '../errors.js';
+import { BufferPool } from '../pool.js';
+import type { Backend } from './backend.js';
+import { registerMemory } from './backend.js';
+import type { KernelTable } from './kernel-table.js';
+import { javascriptKernels } from './kernel-table.js';
+import { LinearMemory } from './memory.js';
+import { trainingModuleBase64 } from './wasm-training.generated.js';
+import { decodeBase64Bytes } from './bytes.js';
+
+type Pointer = number;
+type Kernel = (...args: number[]) => void;
+
+/** The functions of the training module, by name. */
+interface TrainingExports {
+  readonly [name: string]: Kernel;
+}
+
+export interface WebAssemblyBackendOptions {
+  /** Bytes of WebAssembly memory to reserve for tensors and scratch (default 256 MiB; address space, see memory.ts). */
+  readonly memoryBytes?: number;
+}
+
+const DEFAULT_MEMORY_BYTES = 256 * 1024 * 1024;
+const MAX_MEMORY_BYTES = 4 * 1024 * 1024 * 1024 - 65536;
+
+let compiled: WebAssembly.Module | null = null;
+
+/** Why a WebAssembly SIMD backend cannot be made here, or null when it can. */
+export function webAssemblyUnavailable(): string | null {
+  if (typeof WebAssembly !== 'object' || typeof WebAssembly.validate !== 'function') return 'this platform has no WebAssembly';
+  try {
+    if (!WebAssembly.validate(decodeBase64Bytes(trainingModuleBase64))) return 'this platform does not validate WebAssembly SIMD (128-bit) modules';
+  } catch (error) {
+    return `WebAssembly refused the module (${(error as Error).message})`;
+  }
+  return null;
+}
+
+function module(): WebAssembly.Module {
+  if (compiled === null) {
+    const missing = webAssemblyUnavailable();
+    if (missing !== null) {
+      throw new WeftError({ code: 'backend_unavailable', path: 'backend webassembly', expected: 'a platform that runs WebAssembly SIMD', received: missing, detail: "use the 'javascript' backend" });
+    }
+    compiled = new WebAssembly.Module(decodeBase64Bytes(trainingModuleBase64));
+  }
+  return compiled;
+}
+
+const pointer = (array: FloatArray | Int32Array | null): Pointer => (array === null ? 0 : array.byteOffset);
+
+export function createWebAssemblyBackend(options: WebAssemblyBackendOptions = {}): Backend {
+  const bytes = options.memoryBytes ?? DEFAULT_MEMORY_BYTES;
+  if (typeof bytes !== 'number' || !Number.isInteger(bytes) || bytes < 65536 || bytes > MAX_MEMORY_BYTES) {
+    throw new WeftError({ code: 'invalid_option', path: 'webassembly backend.memoryBytes', expected: `a whole number of bytes in [65536, ${MAX_MEMORY_BYTES}]`, received: String(bytes) });
+  }
+  module();
+  return new WebAssemblyBackend(bytes);
+}
+
+class WebAssemblyBackend implements Backend {
+  readonly name = 'webassembly' as const;
+  readonly kernels: KernelTable;
+  readonly pool: BufferPool;
+  readonly memory: LinearMemory;
+  private readonly exports: TrainingExports;
+  private scratchOffset = 0;
+  private scratchBytes = 0;
+  private lengthsCopy: Int32Array;
+
+  constructor(bytes: number) {
+    this.memory = new LinearMemory(bytes);
+    const instance = new WebAssembly.Instance(module(), { env: { memory: this.memory.memory } });
+    this.exports = instance.exports as unknown as TrainingExports;
+    const memory = this.memory;
+    this.pool = this.createPool();
+    this.lengthsCopy = memory.integers(64);
+    registerMemory(memory.buffer, this);
+    this.kernels = Object.freeze(this.table());
+  }
+
+  createPool(): BufferPool {
+    const memory = this.memory;
+    return new BufferPool((dtype, length) => (dtype === 'f64' ? new Float64Array(length) : memory.floats(length)));
+  }
+
+  holds(array: FloatArray): boolean {
+    return array instanceof Float64Array || array.buffer === this.memory.buffer;
+  }
+
+  describe(): string {
+    return `webassembly (f32x4 SIMD kernels, ${Math.round(this.memory.reservedBytes / 1048576)} MiB reserved)`;
+  }
+
+  /** The byte offset of a scratch block of at least `floats` floats (grown, never shrunk). */
+  private scratch(floats: number): Pointer {
+    const bytes = floats * 4;
+    if (bytes > this.scratchBytes) {
+      if (this.scratchBytes > 0) this.memory.release(this.scratchOffset, this.scratchBytes);
+      let grown = Math.max(4096, this.scratchBytes);
+      while (grown < bytes) grown *= 2;
+      this.scratchOffset = this.memory.allocate(grown);
+      this.scratchBytes = grown;
+    }
+    return this.scratchOffset;
+  }
+
+  /** A ragged batch's lengths copied into this memory, or 0 for none. */
+  private lengths(lengths: Int32Array | null, rows: number): Pointer {
+    if (lengths === null) return 0;
+    if (this.lengthsCopy.length < rows) {
+      this.memory.release(this.lengthsCopy.byteOffset, this.lengthsCopy.length * 4);
+      this.lengthsCopy = this.memory.integers(Math.max(rows, 2 * this.lengthsCopy.length));
+    }
+    const copy = this.lengthsCopy;
+    for (let b = 0; b < rows; b++) copy[b] = lengths[b];
+    return copy.byteOffset;
+  }
+
+  private table(): KernelTable {
+    const js = javascriptKernels;
+    const x = this.exports;
+    const buffer = this.memory.buffer;
+    const mine = (a: FloatArray): boolean => a.buffer === buffer;
+    const mineOrNull = (a: FloatArray | null): boolean => a === null || a.buffer === buffer;
+    return {
+      ...js,
+      matmul: (out, a, b, rows, inner, cols, transposeA = false, transposeB = false, accumulate = false) => {
+        if (!(mine(out) && mine(a) && mine(b))) return js.matmul(out, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
+        const scratch = rows < 4 ? 0 : this.scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
+        x.matmul(out.byteOffset, a.byteOffset, b.byteOffset, rows, inner, cols, +transposeA, +transposeB, +accumulate, scratch);
+        return out;
+      },
+      add: (out, a, b, length) => {
+        if (!(mine(out) && mine(a) && mine(b))) return js.add(out, a, b, length);
+        x.add(out.byteOffset, a.byteOffset, b.byteOffset, length);
+        return out;
+      },
+      subtract: (out, a, b, length) => {
+        if (!(mine(out) && mine(a) && mine(b))) return js.subtract(out, a, b, length);
+        x.subtract(out.byteOffset, a.byteOffset, b.byteOffset, length);
+        return out;
+      },
+      multiply: (out, a, b, length) => {
+        if (!(mine(out) && mine(a) && mine(b))) return js.multiply(out, a, b, length);
+        x.multiply(out.byteOffset, a.byteOffset, b.byteOffset, length);
+        return out;
+      },
+      scale: (out, a, s, length) => {
+        if (!(mine(out) && mine(a))) return js.scale(out, a, s, length);
+        x.scale(out.byteOffset, a.byteOffset, s, length);
+        return out;
+      },
+      addInto: (out, a, length) => {
+        if (!(mine(out) && mine(a))) return js.addInto(out, a, length);
+        x.addInto(out.byteOffset, a.byteOffset, length);
+        return out;
+      },
+      addScaledInto: (out, a, s, length) => {
+        if (!(mine(out) && mine(a))) return js.addScaledInto(out, a, s, length);
+        x.addScaledInto(out.byteOffset, a.byteOffset, s, length);
+        return out;
+      },
+      multiplyInto: (out, a, b, length) => {
+        if (!(mine(out) && mine(a) && mine(b))) return js.multiplyInto(out, a, b, length);
+        x.multiplyInto(out.byteOffset, a.byteOffset, b.byteOffset, length);
+        return out;
+      },
+      addRow: (out, a, row, rows, cols) => {
+        if (!(mine(out) && mine(a) && mine(row))) return js.addRow(out, a, row, rows, cols);
+        x.addRow(out.byteOffset, a.byteOffset, row.byteOffset, rows, cols);
+        return out;
+      },
+      sumRows: (out, a, rows, cols, accumulate = false) => {
+        if (!(mine(out) && mine(a))) return js.sumRows(out, a, rows, cols, accumulate);
+        x.sumRows(out.byteOffset, a.byteOffset, rows, cols, +accumulate);
+        return out;
+      },
+      sigmoid: (out, a, length) => {
+        if (!(mine(out) && mine(a))) return js.sigmoid(out, a, length);
+        x.sigmoid(out.byteOffset, a.byteOffset, length);
+        return out;
+      },
+      tanh: (out, a, length) => {
+        if (!(mine(out) && mine(a))) return js.tanh(out, a, length);
+        x.tanh(out.byteOffset, a.byteOffset, length);
+        return out;
+      },
+      exp: (out, a, length) => {
+        if (!(mine(out) && mine(a))) return js.exp(out, a, length);
+        x.exp(out.byteOffset, a.byteOffset, length);
+        return out;
+      },
+      sigmoidGradientInto: (inputGradient, outputGradient, y, length) => {
+        if (!(mine(inputGradient) && mine(outputGradient) && mine(y))) return js.sigmoidGradientInto(inputGradient, outputGradient, y, length);
+        x.sigmoidGradientInto(inputGradient.byteOffset, outputGradient.byteOffset, y.byteOffset, length);
+        return inputGradient;
+      },
+      tanhGradientInto: (inputGradient, outputGradient, y, length) => {
+        if (!(mine(inputGradient) && mine(outputGradient) && mine(y))) return js.tanhGradientInto(inputGradient, outputGradient, y, length);
+        x.tanhGradientInto(inputGradient.byteOffset, outputGradient.byteOffset, y.byteOffset, length);
+        return inputGradient;
+      },
+      lstmStepForward: (hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, lengths, step) => {
+        if (!(mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell) && mine(hiddenPrevious) && mine(cellPrevious) && mineOrNull(peephole))) {
+          return js.lstmStepForward(hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, lengths, step);
+        }
+        x.lstmStepForward(hidden.byteOffset, cell.byteOffset, gates.byteOffset, tanhCell.byteOffset, hiddenPrevious.byteOffset,
+          cellPrevious.byteOffset, pointer(peephole), rows, size, this.lengths(lengths, rows), step);
+      },
+      lstmStepBackward: (gateGradient, hiddenPreviousGradient, cellPreviousGradient, peepholeGradient, hiddenGradient, cellGradient,
+        gates, tanhCell, cellPrevious, cell, peephole, rows, size, lengths, step) => {
+        if (!(mine(gateGradient) && mineOrNull(hiddenPreviousGradient) && mineOrNull(cellPreviousGradient) && mineOrNull(peepholeGradient)
+          && mineOrNull(hiddenGradient) && mineOrNull(cellGradient) && mine(gates) && mine(tanhCell) && mine(cellPrevious) && mine(cell)
+          && mineOrNull(peephole))) {
+          return js.lstmStepBackward(gateGradient, hiddenPreviousGradient, cellPreviousGradient, peepholeGradient, hiddenGradient,
+            cellGradient, gates, tanhCell, cellPrevious, cell, peephole, rows, size, lengths, step);
+        }
+        x.lstmStepBackward(gateGradient.byteOffset, pointer(hiddenPreviousGradient), pointer(cellPreviousGradient), pointer(peepholeGradient),
+          pointer(hiddenGradient), pointer(cellGradient), gates.byteOffset, tanhCell.byteOffset, cellPrevious.byteOffset, cell.byteOffset,
+          pointer(peephole), rows, size, this.lengths(lengths, rows), step);
+      },
+      gruUpdateReset: (gates, projected, projectedOffset, recurrentGates, rows, size) => {
+        if (!(mine(gates) && mine(projected) && mine(recurrentGates))) return js.gruUpdateReset(gates, projected, projectedOffset, recurrentGates, rows, size);
+        x.gruUpdateReset(gates.byteOffset, projected.byteOffset, projectedOffset, recurrentGates.byteOffset, rows, size);
+      },
+      gruResetHidden: (resetHidden, gates, hiddenPrevious, rows, size) => {
+        if (!(mine(resetHidden) && mine(gates) && mine(hiddenPrevious))) return js.gruResetHidden(resetHidden, gates, hiddenPrevious, rows, size);
+        x.gruResetHidden(resetHidden.byteOffset, gates.byteOffset, hiddenPrevious.byteOffset, rows, size);
+      },
+      gruStepFinish: (hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step) => {
+        if (!(mine(hidden) && mine(gates) && mine(projected) && mine(candidate) && mine(hiddenPrevious))) {
+          return js.gruStepFinish(hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step);
+        }
+        x.gruStepFinish(hidden.byteOffset, gates.byteOffset, projected.byteOffset, projectedOffset, candidate.byteOffset,
+          hiddenPrevious.byteOffset, +resetAfter, rows, size, this.lengths(lengths, rows), step);
+      },
+      gruBackwardCandidate: (updateResetGradient, candidateGradient, productGradient, hiddenPreviousGradient, hiddenGradient, gates,
+        candidate, hiddenPrevious, resetAfter, rows, size, lengths, step) => {
+        if (!(mine(updateResetGradient) && mine(candidateGradient) && mine(productGradient) && mineOrNull(hiddenPreviousGradient)
+          && mine(hiddenGradient) && mine(gates) && mine(candidate) && mine(hiddenPrevious))) {
+          return js.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hiddenPreviousGradient, hiddenGradient,
+            gates, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step);
+        }
+        x.gruBackwardCandidate(updateResetGradient.byteOffset, candidateGradient.byteOffset, productGradient.byteOffset,
+          pointer(hiddenPreviousGradient), hiddenGradient.byteOffset, gates.byteOffset, candidate.byteOffset, hiddenPrevious.byteOffset,
+          +resetAfter, rows, size, this.lengths(lengths, rows), step);
+      },
+      gruBackwardReset: (updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hiddenPrevious, rows, size, lengths, step) => {
+        if (!(mine(updateResetGradient) && mineOrNull(hiddenPreviousGradient) && mine(resetHiddenGradient) && mine(gates) && mine(hiddenPrevious))) {
+          return js.gruBackwardReset(updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hiddenPrevious, rows, size, lengths, step);
+        }
+        x.gruBackwardReset(updateResetGradient.byteOffset, pointer(hiddenPreviousGradient), resetHiddenGradient.byteOffset, gates.byteOffset,
+          hiddenPrevious.byteOffset, rows, size, this.lengths(lengths, rows), step);
+      },
+      plainStepForward: (hidden, hiddenPrevious, rectified, rows, size, lengths, step) => {
+        if (!(mine(hidden) && mine(hiddenPrevious))) return js.plainStepForward(hidden, hiddenPrevious, rectified, rows, size, lengths, step);
+        x.plainStepForward(hidden.byteOffset, hiddenPrevious.byteOffset, +rectified, rows, size, this.lengths(lengths, rows), step);
+      },
+      plainStepBackward: (preGradient, hiddenPreviousGradient, hiddenGradient, hidden, rectified, rows, size, lengths, step) => {
+        if (!(mine(preGradient) && mineOrNull(hiddenPreviousGradient) && mine(hiddenGradient) && mine(hidden))) {
+          return js.plainStepBackward(preGradient, hiddenPreviousGradient, hiddenGradient, hidden, rectified, rows, size, lengths, step);
+        }
+        x.plainStepBackward(preGradient.byteOffset, pointer(hiddenPreviousGradient), hiddenGradient.byteOffset, hidden.byteOffset,
+          +rectified, rows, size, this.lengths(lengths, rows), step);
+      },
+      adamUpdate: (values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon) => {
+        if (!(mine(values) && mine(gradient) && mine(firstMoment) && mine(secondMoment))) {
+          return js.adamUpdate(values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon);
+        }
+        x.adamUpdate(values.byteOffset, gradient.byteOffset, firstMoment.byteOffset, secondMoment.byteOffset, length,
+          beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon);
+      },
+      sgdUpdate: (values, gradient, velocity, length, rate, decay, mu, kappa, nesterov) => {
+        if (!(mine(values) && mine(gradient) && mine(velocity))) return js.sgdUpdate(values, gradient, velocity, length, rate, decay, mu, kappa, nesterov);
+        x.sgdUpdate(values.byteOffset, gradient.byteOffset, velocity.byteOffset, length, rate, decay, mu, kappa, +nesterov);
+      },
+    };
+  }
+}

@@ -1,0 +1,120 @@
+/**
+ * SIMD transcendentals for f32x4 lanes (AssemblyScript; compiled by scripts/build-wasm.mjs).
+ *
+ * exp: Cody & Waite range reduction (W. J. Cody and W. Waite, "Software Manual for the Elementary Functions",
+ * 1980, ch. 6): x = n·ln 2 + r with n = round(x·log₂e) and ln 2 split in two parts (C1 exact in a few bits, C2 the
+ * rest) so r is exact; then e^r ≈ 1 + r + r²·P(r) with the degree-5 polynomial P of the Cephes library's expf
+ * (S. L. Moshier, "Methods and Programs for Mathematical Functions", 1989; coefficients from memory), and 2ⁿ
+ * built in the exponent bits. Inputs are clamped to [−87.33654, 88.72283] (the f32 normal range of e^x).
+ *
+ * tanh: for |x| < 0.625 the odd polynomial x + x³·Q(x²) of Cephes' tanhf (coefficients from memory); above,
+ * 1 − 2 / (e^{2|x|} + 1) with the sign of x restored. sigmoid: 1 / (1 + e^{−|x|}) for x ≥ 0 and
+ * e^{−|x|} / (1 + e^{−|x|}) below, so no exponent is positive (the same overflow-safe split as the JavaScript
+ * kernels). NaN in gives NaN out in every lane (f32x4.min/max propagate NaN).
+ *
+ * The worst errors against Math in f64 are pinned by packages/core/test/backend/wasm-math.test.ts.
+ */
+
+// @ts-ignore: decorator
+@inline const LOG2E: f32 = 1.44269504088896341;
+// @ts-ignore: decorator
+@inline const LN2_HIGH: f32 = 0.693359375;
+// @ts-ignore: decorator
+@inline const LN2_LOW: f32 = -2.12194440e-4;
+
+/** e^x for inputs already inside [−87.33654, 88.72283] or NaN. */
+// @ts-ignore: decorator
+@inline export function expClamped4(x: v128): v128 {
+  let n = f32x4.nearest(f32x4.mul(x, f32x4.splat(LOG2E)));
+  n = f32x4.min(n, f32x4.splat(127.0));
+  let r = f32x4.sub(x, f32x4.mul(n, f32x4.splat(LN2_HIGH)));
+  r = f32x4.sub(r, f32x4.mul(n, f32x4.splat(LN2_LOW)));
+  let p = f32x4.splat(1.9875691500e-4);
+  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(1.3981999507e-3));
+  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(8.3334519073e-3));
+  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(4.1665795894e-2));
+  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(1.6666665459e-1));
+  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(5.0000001201e-1));
+  const y = f32x4.add(f32x4.add(f32x4.mul(p, f32x4.mul(r, r)), r), f32x4.splat(1.0));
+  const scale = i32x4.shl(i32x4.add(i32x4.trunc_sat_f32x4_s(n), i32x4.splat(127)), 23);
+  return f32x4.mul(y, scale);
+}
+
+/** e^x clamped to the f32 normal range: the shape the gates need (they only use it below 0 or saturating). */
+// @ts-ignore: decorator
+@inline export function expSafe4(x: v128): v128 {
+  return expClamped4(f32x4.min(f32x4.max(x, f32x4.splat(-87.33654)), f32x4.splat(88.72283)));
+}
+
+/** e^x over the whole f32 range: 0 below the normal range, +Infinity above it. */
+// @ts-ignore: decorator
+@inline export function exp4(x: v128): v128 {
+  let y = expSafe4(x);
+  y = v128.bitselect(f32x4.splat(0), y, f32x4.lt(x, f32x4.splat(-87.33654)));
+  return v128.bitselect(f32x4.splat(Infinity), y, f32x4.gt(x, f32x4.splat(88.72283)));
+}
+
+/** The logistic function σ(x) = 1 / (1 + e^−x), overflow-safe. */
+// @ts-ignore: decorator
+@inline export function sigmoid4(x: v128): v128 {
+  const one = f32x4.splat(1.0);
+  const e = expSafe4(f32x4.neg(f32x4.abs(x)));
+  const d = f32x4.div(one, f32x4.add(one, e));
+  return v128.bitselect(d, f32x4.mul(e, d), f32x4.ge(x, f32x4.splat(0)));
+}
+
+/** tanh(x). */
+// @ts-ignore: decorator
+@inline export function tanh4(x: v128): v128 {
+  const one = f32x4.splat(1.0);
+  const ax = f32x4.abs(x);
+  const s = f32x4.mul(x, x);
+  let p = f32x4.splat(-5.70498872745e-3);
+  p = f32x4.add(f32x4.mul(p, s), f32x4.splat(2.06390887954e-2));
+  p = f32x4.add(f32x4.mul(p, s), f32x4.splat(-5.37397155531e-2));
+  p = f32x4.add(f32x4.mul(p, s), f32x4.splat(1.33314422036e-1));
+  p = f32x4.add(f32x4.mul(p, s), f32x4.splat(-3.33332819422e-1));
+  const small = f32x4.add(f32x4.mul(f32x4.mul(p, s), x), x);
+  const e = expSafe4(f32x4.add(ax, ax));
+  const magnitude = f32x4.sub(one, f32x4.div(f32x4.splat(2.0), f32x4.add(e, one)));
+  const large = v128.bitselect(magnitude, x, i32x4.splat(0x7fffffff));
+  return v128.bitselect(small, large, f32x4.lt(ax, f32x4.splat(0.625)));
+}
+
+/** Loads 4 lanes, or one value into every lane when `full` is false (the scalar tail of a row). */
+// @ts-ignore: decorator
+@inline export function load4(p: usize, full: bool): v128 {
+  return full ? v128.load(p) : f32x4.splat(load<f32>(p));
+}
+
+/** Stores 4 lanes, or lane 0 alone when `full` is false. */
+// @ts-ignore: decorator
+@inline export function store4(p: usize, v: v128, full: bool): void {
+  if (full) v128.store(p, v);
+  else store<f32>(p, f32x4.extract_lane(v, 0));
+}
+
+/** True when row `b` is past its length at `step` (its state is held); `lengths` 0 means no lengths. */
+// @ts-ignore: decorator
+@inline export function held(lengths: usize, b: i32, step: i32): bool {
+  return lengths != 0 && step >= load<i32>(lengths + (<usize>b << 2));
+}
+
+/** Copies `count` floats. */
+export function copyFloats(target: usize, source: usize, count: i32): void {
+  memory.copy(target, source, <usize>count << 2);
+}
+
+/** target += source over `count` floats, when both exist (0 is none). */
+export function addFloatsInto(target: usize, source: usize, count: i32): void {
+  if (target == 0 || source == 0) return;
+  let i = 0;
+  for (; i + 4 <= count; i += 4) {
+    const p = target + (<usize>i << 2);
+    v128.store(p, f32x4.add(v128.load(p), v128.load(source + (<usize>i << 2))));
+  }
+  for (; i < count; i++) {
+    const p = target + (<usize>i << 2);
+    store<f32>(p, load<f32>(p) + load<f32>(source + (<usize>i << 2)));
+  }
+}
