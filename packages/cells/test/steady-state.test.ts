@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { BufferPool, Random, Tape, randomUniform, resetGradients, sharedPool } from '@weft/core';
+import { Random, Tape, defaultBackend, randomUniform, resetGradients } from '@weft/core';
 import { GruCell, LstmCell, PlainCell, runSequence } from '@weft/cells';
 
 describe('a repeated training window', () => {
@@ -11,7 +11,7 @@ describe('a repeated training window', () => {
   ]) {
     const cell = make();
     it(`creates no typed arrays after its first run (${cell.kind}, fused)`, () => {
-      const pool = new BufferPool();
+      const pool = defaultBackend().createPool();
       const tape = new Tape({ pool });
       const inputs = randomUniform([6, 3, 4], new Random(1));
       const seed = new Float32Array(6 * 3 * 8).fill(0.01);
@@ -25,10 +25,10 @@ describe('a repeated training window', () => {
       };
       once();
       const tapeArrays = pool.counts().created;
-      const kernelArrays = sharedPool.counts().created;
+      const kernelArrays = defaultBackend().pool.counts().created;
       for (let i = 0; i < 50; i++) once();
       expect(pool.counts().created).toBe(tapeArrays);
-      expect(sharedPool.counts().created).toBe(kernelArrays);
+      expect(defaultBackend().pool.counts().created).toBe(kernelArrays);
       expect(pool.counts().bytesInUse).toBe(0);
     });
   }

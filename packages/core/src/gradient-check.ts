@@ -14,12 +14,15 @@
  */
 import type { FloatArray } from './dtype.js';
 import { fail, formatShape } from './errors.js';
-import { BufferPool } from './pool.js';
+import type { Backend } from './backend/backend.js';
+import { defaultBackend } from './backend/choose.js';
 import { Random } from './random.js';
 import { Tape } from './tape.js';
 import type { Tensor } from './tensor.js';
 
 export interface GradientCheckOptions {
+  /** The backend the computation runs on (the default backend when not given; f64 runs on JavaScript kernels everywhere). */
+  readonly backend?: Backend;
   /** The finite-difference step h. Default 1e-5. */
   readonly step?: number;
   /** Largest relative error that passes. Default 1e-6. */
@@ -118,8 +121,11 @@ export function checkGradients(
   });
 
   const random = new Random(options.seed ?? 1);
-  const pool = new BufferPool();
-  const tape = new Tape({ pool });
+  // f64 arrays run on the JavaScript kernels on every backend; the backend still matters for f32 tensors a
+  // computation reads (its inputs, constants), which must live where the tape computes.
+  const backend = options.backend ?? defaultBackend();
+  const pool = backend.createPool();
+  const tape = new Tape({ backend, pool });
 
   // Make every tensor under test a parameter for the duration, keeping what it had.
   const before = tensors.map((t) => ({ trainable: t.trainable, tracked: t.tracked, gradient: t.gradient }));

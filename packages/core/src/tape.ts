@@ -98,6 +98,15 @@ export class Tape {
     this.backend = options.backend ?? defaultBackend();
     this.kernels = this.backend.kernels;
     this.pool = options.pool ?? this.backend.pool;
+    if (options.pool !== undefined) {
+      // A pool hands out memory of one backend; check it is this tape's before any operation meets it.
+      const probe = this.pool.take('f32', 1);
+      this.pool.give(probe);
+      if (!this.backend.holds(probe)) {
+        fail('backend_mismatch', 'Tape.pool', `a pool of the ${this.backend.name} backend (backend.createPool())`, 'a pool whose buffers live elsewhere',
+          'pass { backend, pool: backend.createPool() } together, or leave out the pool');
+      }
+    }
     this.recording = options.recording ?? true;
   }
 

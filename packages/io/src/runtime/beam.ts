@@ -8,10 +8,11 @@
 import { WeftError, fail } from '@weft/core';
 import type { EncoderDecoderDescription } from '@weft/cells/description';
 import { isEncoderDecoder } from '@weft/cells/description';
-import type { ReadOptions, WeightFile } from '../weight-file.js';
+import type { ForwardBackend } from '@weft/core/forward/javascript';
+import type { WeightFile } from '../weight-file.js';
 import { readWeightFile } from '../weight-file.js';
 import { Runtime } from './runtime.js';
-import type { Streams } from './runtime.js';
+import type { RuntimeOptions, Streams } from './runtime.js';
 
 export interface BeamOptions {
   /** How many partial outputs to keep (1 is greedy decoding). Default 4. */
@@ -50,13 +51,13 @@ export class EncoderDecoderRuntime {
   readonly encoder: Runtime;
   readonly decoder: Runtime;
 
-  constructor(file: WeightFile) {
+  constructor(file: WeightFile, backend?: ForwardBackend) {
     if (!isEncoderDecoder(file.model)) {
       throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: '"encoder-decoder" (use createRuntime for a sequence model)', received: 'a sequence model' });
     }
     this.description = file.model;
-    this.encoder = new Runtime(part(file, 'encoder', this.description));
-    this.decoder = new Runtime(part(file, 'decoder', this.description));
+    this.encoder = new Runtime(part(file, 'encoder', this.description), backend);
+    this.decoder = new Runtime(part(file, 'decoder', this.description), backend);
     const stray = file.tensors.find((t) => !t.name.startsWith('encoder.') && !t.name.startsWith('decoder.'));
     if (stray !== undefined) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${stray.name})`, expected: 'names starting with encoder. or decoder.', received: stray.name });
   }
@@ -71,7 +72,9 @@ export class EncoderDecoderRuntime {
       token[0] = id;
       streams.step(token);
     }
-    return streams.readState();
+    const state = streams.readState();
+    streams.close();
+    return state;
   }
 
   /** The best outputs for one source sequence, best first (at most `width` of them). */
@@ -117,6 +120,7 @@ export class EncoderDecoderRuntime {
       streams.restoreState(gatherRows(streams.readState(), this.decoder.stateWidths(), width, next.map((n) => n.parent)));
       beams = next;
     }
+    streams.close();
     const byScore = (a: BeamResult, b: BeamResult) => b.score - a.score;
     const unfinished: BeamResult[] = beams.map((b) => ({ tokens: b.tokens, logProbability: b.logProbability, score: score(b.logProbability, Math.max(1, b.tokens.length)), finished: false }));
     return [...finished.sort(byScore), ...unfinished.sort(byScore)].slice(0, width);
@@ -161,8 +165,8 @@ function gatherRows(state: Float32Array, widths: readonly number[], rows: number
   return out;
 }
 
-export async function createEncoderDecoderRuntime(source: string | WeightFile, options: ReadOptions = {}): Promise<EncoderDecoderRuntime> {
-  return new EncoderDecoderRuntime(typeof source === 'string' ? await readWeightFile(source, options) : source);
+export async function createEncoderDecoderRuntime(source: string | WeightFile, options: RuntimeOptions = {}): Promise<EncoderDecoderRuntime> {
+  return new EncoderDecoderRuntime(typeof source === 'string' ? await readWeightFile(source, options) : source, options.backend);
 }
 
 export type { Streams };

@@ -32,12 +32,16 @@ export function generateTokens(runtime: Runtime, options: GenerateOptions): numb
     logits = streams.step(token);
   }
   const out: number[] = [];
-  for (let i = 0; i < options.length; i++) {
-    const next = options.random === undefined ? greedy(logits, 0, width) : sample(logits, 0, width, options.random, options, scratch);
-    out.push(next);
-    if (next === options.endToken) break;
-    token[0] = next;
-    logits = streams.step(token);
+  try {
+    for (let i = 0; i < options.length; i++) {
+      const next = options.random === undefined ? greedy(logits, 0, width) : sample(logits, 0, width, options.random, options, scratch);
+      out.push(next);
+      if (next === options.endToken) break;
+      token[0] = next;
+      logits = streams.step(token);
+    }
+  } finally {
+    streams.close();
   }
   return out;
 }

@@ -1,10 +1,9 @@
 /**
- * The runtime's recurrent layers: each holds its weights (f32, decoded from the weight file) and steps a batch of
- * rows with the same step kernels training uses, into buffers it was given at creation. Nothing here allocates
- * per step.
+ * The runtime's recurrent layers: each holds its weights (f32, in the runtime backend's memory) and steps a batch
+ * of rows with the same step kernels training uses (the backend's forward kernels), into buffers it was given at
+ * creation. Nothing here allocates per step.
  */
-import { addRow, matmul } from '@weft/core/kernels';
-import { gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, plainStepForward } from '@weft/cells/kernels';
+import type { ForwardKernels } from '@weft/core/forward/javascript';
 import type { LayerDescription } from '@weft/cells/description';
 
 export type Weights = (name: string, shape: readonly number[]) => Float32Array;
@@ -29,8 +28,9 @@ export interface RuntimeCell {
   step(x: Float32Array, buffers: LayerBuffers, rows: number, lengths: Int32Array | null, step: number): void;
 }
 
-export function makeCell(layer: LayerDescription, inputSize: number, prefix: string, weights: Weights): RuntimeCell {
+export function makeCell(layer: LayerDescription, inputSize: number, prefix: string, weights: Weights, kernels: ForwardKernels): RuntimeCell {
   const hidden = layer.hidden;
+  const { addRow, gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, matmul, plainStepForward } = kernels;
   if (layer.cell === 'lstm') {
     const input = weights(`${prefix}.input`, [inputSize, 4 * hidden]);
     const recurrent = weights(`${prefix}.recurrent`, [hidden, 4 * hidden]);

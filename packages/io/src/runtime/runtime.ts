@@ -9,8 +9,9 @@
  * - `run(...)`: a whole batch of sequences in weft's time-major layout, ragged lengths allowed, any model.
  */
 import { WeftError, fail } from '@weft/core';
-import { addRow, matmul } from '@weft/core/kernels';
+import type { ForwardBackend } from '@weft/core/forward/javascript';
 import { isEncoderDecoder } from '@weft/cells/description';
+import { defaultForward } from './forward-default.js';
 import type { ModelDescription } from '@weft/cells/description';
 import type { WeightFile, WeightMetadata } from '../weight-file.js';
 import { readWeightFile } from '../weight-file.js';
@@ -27,11 +28,6 @@ interface RuntimeLayer {
 /** Counts the arrays the runtime creates, so tests can prove the steady state creates none. */
 export const runtimeCounts = { arrays: 0 };
 
-function allocate(length: number): Float32Array {
-  runtimeCounts.arrays++;
-  return new Float32Array(length);
-}
-
 export class Runtime {
   readonly model: ModelDescription;
   readonly metadata: WeightMetadata;
@@ -42,6 +38,8 @@ export class Runtime {
   readonly outputWidth: number;
   /** True when every layer runs forward in time only, so streaming works. */
   readonly streamable: boolean;
+  /** The forward kernels and the memory this runtime computes in. */
+  readonly backend: ForwardBackend;
   private readonly embedding: Float32Array | null;
   private readonly embeddingWidth: number;
   private readonly layers: readonly RuntimeLayer[];
@@ -49,9 +47,17 @@ export class Runtime {
   private readonly readoutBias: Float32Array | null;
   private readonly featureWidth: number;
 
-  constructor(file: WeightFile) {
+  /**
+   * A runtime for `file` on `backend` (by default the WebAssembly SIMD backend where the platform runs it, else
+   * JavaScript; the `@weft/io/runtime/javascript` entry defaults to JavaScript and carries no WebAssembly).
+   */
+  constructor(file: WeightFile, backend?: ForwardBackend) {
     const tensors = new Map(file.tensors.map((t) => [t.name, t]));
     const used = new Set<string>();
+    let weightBytes = 0;
+    for (const t of file.tensors) weightBytes += 4 * t.values.length;
+    this.backend = backend ?? defaultForward(weightBytes);
+    const memory = this.backend;
     const weights = (name: string, shape: readonly number[]): Float32Array => {
       const t = tensors.get(name);
       if (t === undefined) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name})`, expected: `a tensor named ${name}, shape [${shape.join(', ')}]`, received: 'none' });
@@ -59,7 +65,9 @@ export class Runtime {
         throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name}).shape`, expected: `[${shape.join(', ')}] (from the model description)`, received: `[${t.shape.join(', ')}]` });
       }
       used.add(name);
-      return t.values instanceof Float32Array ? t.values : Float32Array.from(t.values);
+      const copy = memory.floats(t.values.length);
+      copy.set(t.values);
+      return copy;
     };
     const model = file.model;
     if (isEncoderDecoder(model)) {
@@ -87,8 +95,8 @@ export class Runtime {
       if (!['lstm', 'gru', 'plain'].includes(layer.cell)) {
         throw new WeftError({ code: 'bad_weight_file', path: `model.layers[${i}].cell`, expected: "a built-in cell ('lstm', 'gru', 'plain') for the runtime", received: layer.cell });
       }
-      const forward = makeCell(layer, width, `layers.${i}.forward`, weights);
-      const backward = layer.bidirectional === true ? makeCell(layer, width, `layers.${i}.backward`, weights) : null;
+      const forward = makeCell(layer, width, `layers.${i}.forward`, weights, this.backend.kernels);
+      const backward = layer.bidirectional === true ? makeCell(layer, width, `layers.${i}.backward`, weights, this.backend.kernels) : null;
       width = layer.hidden * (backward === null ? 1 : 2);
       layers.push({ forward, backward, width });
     });
@@ -133,27 +141,40 @@ export class Runtime {
         if (!(l >= 0 && l <= steps)) fail('invalid_argument', `Runtime.run.lengths[${b}]`, `a whole number in [0, ${steps}]`, String(l));
       });
     }
-    let features = this.embed(input, steps * batch, 'Runtime.run.input');
-    let width = this.embedding === null ? this.inputWidth : this.embeddingWidth;
-    for (const layer of this.layers) {
-      const out = new Float32Array(steps * batch * layer.width);
-      const forward = runDirection(layer.forward, features, steps, batch, width, rowsLengths);
-      if (layer.backward === null) {
-        out.set(forward);
-      } else {
-        const reversed = reverseWithin(features, steps, batch, width, rowsLengths);
-        const behind = reverseWithin(runDirection(layer.backward, reversed, steps, batch, width, rowsLengths), steps, batch, layer.backward.hidden, rowsLengths);
-        const hf = layer.forward.hidden;
-        const hb = layer.backward.hidden;
-        for (let p = 0; p < steps * batch; p++) {
-          out.set(forward.subarray(p * hf, (p + 1) * hf), p * layer.width);
-          out.set(behind.subarray(p * hb, (p + 1) * hb), p * layer.width + hf);
+    // Every buffer of a whole run comes from the backend's memory and goes back to it at the end; the result is
+    // copied out into an ordinary array the caller keeps.
+    const made: Float32Array[] = [];
+    const temporary = (length: number): Float32Array => {
+      const array = this.backend.floats(length);
+      made.push(array);
+      return array;
+    };
+    try {
+      let features = this.embed(input, steps * batch, 'Runtime.run.input', temporary(steps * batch * (this.embedding === null ? this.inputWidth : this.embeddingWidth)));
+      let width = this.embedding === null ? this.inputWidth : this.embeddingWidth;
+      for (const layer of this.layers) {
+        const out = temporary(steps * batch * layer.width);
+        const forward = runDirection(layer.forward, features, steps, batch, width, rowsLengths, temporary);
+        if (layer.backward === null) {
+          out.set(forward);
+        } else {
+          const reversed = reverseWithin(features, steps, batch, width, rowsLengths, temporary(features.length));
+          const backwardOutputs = runDirection(layer.backward, reversed, steps, batch, width, rowsLengths, temporary);
+          const behind = reverseWithin(backwardOutputs, steps, batch, layer.backward.hidden, rowsLengths, temporary(backwardOutputs.length));
+          const hf = layer.forward.hidden;
+          const hb = layer.backward.hidden;
+          for (let p = 0; p < steps * batch; p++) {
+            out.set(forward.subarray(p * hf, (p + 1) * hf), p * layer.width);
+            out.set(behind.subarray(p * hb, (p + 1) * hb), p * layer.width + hf);
+          }
         }
+        features = out;
+        width = layer.width;
       }
-      features = out;
-      width = layer.width;
+      return this.readout(features, steps * batch, temporary(steps * batch * this.outputWidth), rowsLengths, batch).slice();
+    } finally {
+      for (const array of made) this.backend.release(array);
     }
-    return this.readout(features, steps * batch, new Float32Array(steps * batch * this.outputWidth), rowsLengths, batch);
   }
 
   /** Numbers for the first layer: embedding rows for token ids, or the values as they are (checked). */
@@ -182,8 +203,8 @@ export class Runtime {
     if (this.readoutWeights === null || this.readoutBias === null) {
       for (let i = 0; i < positions * this.outputWidth; i++) out[i] = features[i];
     } else {
-      matmul(out, features, this.readoutWeights, positions, this.featureWidth, this.outputWidth);
-      addRow(out, out, this.readoutBias, positions, this.outputWidth);
+      this.backend.kernels.matmul(out, features, this.readoutWeights, positions, this.featureWidth, this.outputWidth);
+      this.backend.kernels.addRow(out, out, this.readoutBias, positions, this.outputWidth);
     }
     if (lengths !== null) {
       for (let p = 0; p < positions; p++) {
@@ -199,9 +220,11 @@ export class Runtime {
   }
 }
 
-function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null): Float32Array {
-  const buffers = cell.buffers(batch, (n) => new Float32Array(n));
-  const out = new Float32Array(steps * batch * cell.hidden);
+type Temporary = (length: number) => Float32Array;
+
+function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null, temporary: Temporary): Float32Array {
+  const buffers = cell.buffers(batch, temporary);
+  const out = temporary(steps * batch * cell.hidden);
   for (let t = 0; t < steps; t++) {
     cell.step(x.subarray(t * batch * width, (t + 1) * batch * width), buffers, batch, lengths, t);
     const h = buffers.state[0];
@@ -214,8 +237,7 @@ function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: 
 }
 
 /** out[s, b] = in[L_b − 1 − s, b] for s < L_b, zero beyond (our ragged convention for the reverse direction). */
-function reverseWithin(x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null): Float32Array {
-  const out = new Float32Array(x.length);
+function reverseWithin(x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null, out: Float32Array): Float32Array {
   for (let b = 0; b < batch; b++) {
     const length = lengths === null ? steps : lengths[b];
     for (let s = 0; s < length; s++) out.set(x.subarray(((length - 1 - s) * batch + b) * width, ((length - 1 - s) * batch + b + 1) * width), (s * batch + b) * width);
@@ -235,6 +257,10 @@ export class Streams {
     this.runtime = runtime;
     this.count = count;
     const layers = runtime.layerList();
+    const allocate = (length: number): Float32Array => {
+      runtimeCounts.arrays++;
+      return runtime.backend.floats(length);
+    };
     this.buffers = layers.map((l) => l.forward.buffers(count, allocate));
     this.first = allocate(count * layers[0].forward.inputSize);
     this.output = allocate(count * runtime.outputWidth);
@@ -285,6 +311,19 @@ export class Streams {
     return out;
   }
 
+  /**
+   * Gives the streams' buffers back to the runtime's backend (on WebAssembly they are blocks of its memory, which
+   * are reused by later streams). The streams must not be stepped afterwards.
+   */
+  close(): void {
+    for (const layer of this.buffers) {
+      for (const array of layer.state) this.runtime.backend.release(array);
+      for (const array of layer.work) this.runtime.backend.release(array);
+    }
+    this.runtime.backend.release(this.first);
+    this.runtime.backend.release(this.output);
+  }
+
   restoreState(state: Float32Array): void {
     const total = this.buffers.reduce((n, l) => n + l.state.reduce((m, s) => m + s.length, 0), 0);
     if (state.length !== total) fail('shape_mismatch', 'Streams.restoreState', `${total} numbers`, `${state.length}`);
@@ -298,8 +337,13 @@ export class Streams {
   }
 }
 
+export interface RuntimeOptions extends ReadOptions {
+  /** The forward backend to run on (default: see the Runtime constructor). */
+  readonly backend?: ForwardBackend;
+}
+
 /** A runtime from weight-file text (read and checked) or from a file already read. */
-export async function createRuntime(source: string | WeightFile, options: ReadOptions = {}): Promise<Runtime> {
+export async function createRuntime(source: string | WeightFile, options: RuntimeOptions = {}): Promise<Runtime> {
   const file = typeof source === 'string' ? await readWeightFile(source, options) : source;
-  return new Runtime(file);
+  return new Runtime(file, options.backend);
 }

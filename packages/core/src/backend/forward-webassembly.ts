@@ -1,0 +1,128 @@
+/**
+ * The runtime's WebAssembly SIMD backend: the forward kernels of core/wasm/runtime.ts (a module of its own, so the
+ * runtime bundle carries no training kernels) over one LinearMemory of its own that never grows (memory.ts says
+ * why that keeps every view valid). Weights are copied into it when a runtime is made; streams take their state
+ * and working buffers from it when they are made, so stepping allocates nothing. Arrays not in this memory (a
+ * caller's own buffer) run on the JavaScript kernels, which compute the same thing.
+ */
+import type { FloatArray } from '../dtype.js';
+import { WeftError } from '../errors.js';
+import { addRow, gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, matmul, plainStepForward } from '../kernels/index.js';
+import { decodeBase64Bytes } from './bytes.js';
+import type { ForwardBackend, ForwardKernels } from './forward.js';
+import { LinearMemory } from './memory.js';
+import { runtimeModuleBase64 } from './wasm-runtime.generated.js';
+
+type Kernel = (...args: number[]) => void;
+
+export interface ForwardWebAssemblyOptions {
+  /** Bytes to reserve for weights, stream state and scratch (default: 16 MiB plus four times `weightBytes`). */
+  readonly memoryBytes?: number;
+  /** The weights the runtime will copy in, to size the default reservation. */
+  readonly weightBytes?: number;
+}
+
+let compiled: WebAssembly.Module | null = null;
+
+/** Why the runtime's WebAssembly SIMD backend cannot run here, or null when it can. */
+export function forwardWebAssemblyUnavailable(): string | null {
+  if (typeof WebAssembly !== 'object' || typeof WebAssembly.validate !== 'function') return 'this platform has no WebAssembly';
+  try {
+    if (!WebAssembly.validate(decodeBase64Bytes(runtimeModuleBase64))) return 'this platform does not validate WebAssembly SIMD (128-bit) modules';
+  } catch (error) {
+    return `WebAssembly refused the module (${(error as Error).message})`;
+  }
+  return null;
+}
+
+export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}): ForwardBackend {
+  if (compiled === null) {
+    const missing = forwardWebAssemblyUnavailable();
+    if (missing !== null) {
+      throw new WeftError({ code: 'backend_unavailable', path: 'backend webassembly', expected: 'a platform that runs WebAssembly SIMD', received: missing, detail: "use the 'javascript' backend" });
+    }
+    compiled = new WebAssembly.Module(decodeBase64Bytes(runtimeModuleBase64));
+  }
+  const bytes = options.memoryBytes ?? 16 * 1048576 + 4 * (options.weightBytes ?? 0);
+  if (!Number.isInteger(bytes) || bytes < 65536 || bytes > 4 * 1073741824 - 65536) {
+    throw new WeftError({ code: 'invalid_option', path: 'runtime.memoryBytes', expected: 'a whole number of bytes in [65536, 4294901760]', received: String(bytes) });
+  }
+  const memory = new LinearMemory(bytes);
+  const x = new WebAssembly.Instance(compiled, { env: { memory: memory.memory } }).exports as unknown as Readonly<Record<string, Kernel>>;
+  const buffer = memory.buffer;
+  const mine = (a: FloatArray): boolean => a.buffer === buffer;
+  let lengthsCopy = memory.integers(64);
+  let scratchOffset = 0;
+  let scratchBytes = 0;
+  const scratch = (floats: number): number => {
+    if (floats * 4 > scratchBytes) {
+      if (scratchBytes > 0) memory.release(scratchOffset, scratchBytes);
+      scratchBytes = Math.max(4096, 2 * scratchBytes, floats * 4);
+      scratchOffset = memory.allocate(scratchBytes);
+    }
+    return scratchOffset;
+  };
+  const lengths = (values: Int32Array | null, rows: number): number => {
+    if (values === null) return 0;
+    if (lengthsCopy.length < rows) {
+      memory.release(lengthsCopy.byteOffset, lengthsCopy.length * 4);
+      lengthsCopy = memory.integers(Math.max(rows, 2 * lengthsCopy.length));
+    }
+    for (let b = 0; b < rows; b++) lengthsCopy[b] = values[b];
+    return lengthsCopy.byteOffset;
+  };
+  const kernels: ForwardKernels = {
+    matmul: (out, a, b, rows, inner, cols, transposeA = false, transposeB = false, accumulate = false) => {
+      if (!(mine(out) && mine(a) && mine(b))) return matmul(out, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
+      const pointer = rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
+      x.matmul(out.byteOffset, a.byteOffset, b.byteOffset, rows, inner, cols, +transposeA, +transposeB, +accumulate, pointer);
+      return out;
+    },
+    addRow: (out, a, row, rows, cols) => {
+      if (!(mine(out) && mine(a) && mine(row))) return addRow(out, a, row, rows, cols);
+      x.addRow(out.byteOffset, a.byteOffset, row.byteOffset, rows, cols);
+      return out;
+    },
+    lstmStepForward: (hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, rowLengths, step) => {
+      if (!(mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell) && mine(hiddenPrevious) && mine(cellPrevious) && (peephole === null || mine(peephole)))) {
+        return lstmStepForward(hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, rowLengths, step);
+      }
+      x.lstmStepForward(hidden.byteOffset, cell.byteOffset, gates.byteOffset, tanhCell.byteOffset, hiddenPrevious.byteOffset, cellPrevious.byteOffset,
+        peephole === null ? 0 : peephole.byteOffset, rows, size, lengths(rowLengths, rows), step);
+    },
+    gruUpdateReset: (gates, projected, projectedOffset, recurrentGates, rows, size) => {
+      if (!(mine(gates) && mine(projected) && mine(recurrentGates))) return gruUpdateReset(gates, projected, projectedOffset, recurrentGates, rows, size);
+      x.gruUpdateReset(gates.byteOffset, projected.byteOffset, projectedOffset, recurrentGates.byteOffset, rows, size);
+    },
+    gruResetHidden: (resetHidden, gates, hiddenPrevious, rows, size) => {
+      if (!(mine(resetHidden) && mine(gates) && mine(hiddenPrevious))) return gruResetHidden(resetHidden, gates, hiddenPrevious, rows, size);
+      x.gruResetHidden(resetHidden.byteOffset, gates.byteOffset, hiddenPrevious.byteOffset, rows, size);
+    },
+    gruStepFinish: (hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, rowLengths, step) => {
+      if (!(mine(hidden) && mine(gates) && mine(projected) && mine(candidate) && mine(hiddenPrevious))) {
+        return gruStepFinish(hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, rowLengths, step);
+      }
+      x.gruStepFinish(hidden.byteOffset, gates.byteOffset, projected.byteOffset, projectedOffset, candidate.byteOffset, hiddenPrevious.byteOffset,
+        +resetAfter, rows, size, lengths(rowLengths, rows), step);
+    },
+    plainStepForward: (hidden, hiddenPrevious, rectified, rows, size, rowLengths, step) => {
+      if (!(mine(hidden) && mine(hiddenPrevious))) return plainStepForward(hidden, hiddenPrevious, rectified, rows, size, rowLengths, step);
+      x.plainStepForward(hidden.byteOffset, hiddenPrevious.byteOffset, +rectified, rows, size, lengths(rowLengths, rows), step);
+    },
+  };
+  return Object.freeze({
+    name: 'webassembly' as const,
+    kernels: Object.freeze(kernels),
+    floats(length: number): Float32Array {
+      const array = memory.floats(length);
+      array.fill(0);
+      return array;
+    },
+    release(array: Float32Array): void {
+      if (array.buffer === buffer) memory.release(array.byteOffset, array.length * 4);
+    },
+    describe(): string {
+      return `webassembly (f32x4 SIMD forward kernels, ${Math.round(memory.reservedBytes / 1048576)} MiB reserved)`;
+    },
+  });
+}

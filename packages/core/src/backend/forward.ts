@@ -1,0 +1,37 @@
+/**
+ * The inference runtime's backend: the forward kernels alone (no tape, no reverse sweep, no update rules) and the
+ * memory they compute in, so a runtime bundle carries only what it runs. Two exist, as for training: JavaScript
+ * (the kernels of core/src/kernels over ordinary typed arrays) here, and WebAssembly SIMD in
+ * forward-webassembly.ts (a module of its own, core/wasm/runtime.ts, with the forward twins only).
+ */
+import { addRow, gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, matmul, plainStepForward } from '../kernels/index.js';
+import type { BackendName } from './backend.js';
+import type { KernelTable } from './kernel-table.js';
+
+export type ForwardKernelName = 'matmul' | 'addRow' | 'lstmStepForward' | 'gruUpdateReset' | 'gruResetHidden' | 'gruStepFinish' | 'plainStepForward';
+
+export type ForwardKernels = Pick<KernelTable, ForwardKernelName>;
+
+export interface ForwardBackend {
+  readonly name: BackendName;
+  readonly kernels: ForwardKernels;
+  /** An f32 array in this backend's memory, zeroed. */
+  floats(length: number): Float32Array;
+  /** Gives back an array made by `floats` that nothing uses any more. */
+  release(array: Float32Array): void;
+  describe(): string;
+}
+
+export const javascriptForward: ForwardBackend = Object.freeze({
+  name: 'javascript' as const,
+  kernels: Object.freeze({ matmul, addRow, lstmStepForward, gruUpdateReset, gruResetHidden, gruStepFinish, plainStepForward }),
+  floats(length: number): Float32Array {
+    return new Float32Array(length);
+  },
+  release(): void {
+    // Ordinary arrays are collected by the garbage collector.
+  },
+  describe(): string {
+    return 'javascript (typed-array kernels)';
+  },
+});

@@ -1,0 +1,33 @@
+/** `createRuntime` and `createEncoderDecoderRuntime` with the backend chosen by name (the `@weft/io/runtime` entry). */
+import type { WeightFile } from '../weight-file.js';
+import type { ReadOptions } from '../weight-file.js';
+import { readWeightFile } from '../weight-file.js';
+import { EncoderDecoderRuntime } from './beam.js';
+import type { RuntimeBackendChoice } from './choose.js';
+import { forwardBackend } from './choose.js';
+import { Runtime } from './runtime.js';
+
+export interface RuntimeChoiceOptions extends ReadOptions {
+  /** `webassembly`, `javascript`, or a forward backend; default WebAssembly where the platform runs SIMD. */
+  readonly backend?: RuntimeBackendChoice;
+  /** Bytes of WebAssembly memory to reserve (default: 16 MiB plus four times the weights). */
+  readonly memoryBytes?: number;
+}
+
+function weightBytes(file: WeightFile): number {
+  let bytes = 0;
+  for (const t of file.tensors) bytes += 4 * t.values.length;
+  return bytes;
+}
+
+/** A runtime from weight-file text (read and checked) or from a file already read. */
+export async function createRuntime(source: string | WeightFile, options: RuntimeChoiceOptions = {}): Promise<Runtime> {
+  const file = typeof source === 'string' ? await readWeightFile(source, options) : source;
+  return new Runtime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes));
+}
+
+/** An encoder-decoder runtime from weight-file text or a file already read. */
+export async function createEncoderDecoderRuntime(source: string | WeightFile, options: RuntimeChoiceOptions = {}): Promise<EncoderDecoderRuntime> {
+  const file = typeof source === 'string' ? await readWeightFile(source, options) : source;
+  return new EncoderDecoderRuntime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes));
+}
