@@ -77,8 +77,9 @@
   const small = f32x4.add(f32x4.mul(f32x4.mul(p, s), x), x);
   const e = expSafe4(f32x4.add(ax, ax));
   const magnitude = f32x4.sub(one, f32x4.div(f32x4.splat(2.0), f32x4.add(e, one)));
-  const large = v128.bitselect(magnitude, x, i32x4.splat(0x7fffffff));
-  return v128.bitselect(small, large, f32x4.lt(ax, f32x4.splat(0.625)));
+  const chosen = v128.bitselect(small, magnitude, f32x4.lt(ax, f32x4.splat(0.625)));
+  // The sign of x on every result, so tanh(−0) = −0 as IEEE 754 and Math give it.
+  return v128.bitselect(f32x4.abs(chosen), x, i32x4.splat(0x7fffffff));
 }
 
 /** Loads 4 lanes, or one value into every lane when `full` is false (the scalar tail of a row). */

@@ -1,0 +1,192 @@
+/**
+ * Agreement of the WebAssembly backend's kernels with their JavaScript twins (the reference), f32: every kernel
+ * the WebAssembly table implements, on seeded random arrays of sizes with and without SIMD tails, every transpose
+ * form, ragged lengths, absent (null) gradients and peepholes. Each case runs the WebAssembly kernel on arrays in
+ * the backend's memory and the JavaScript kernel on copies of them in ordinary arrays, then compares every array
+ * the kernel may have written: exactly where the twin's comment promises bit-for-bit agreement (sums, products,
+ * the update rules), else within |a − b| ≤ 1e-5·max(1, |a|, |b|) (tests/helpers/close.ts form).
+ */
+import { describe, expect, it } from 'vitest';
+import { Random, createWebAssemblyBackend, javascriptKernels, webAssemblyUnavailable } from '@weft/core';
+import type { KernelTable } from '@weft/core';
+
+const available = webAssemblyUnavailable() === null;
+const backend = available ? createWebAssemblyBackend({ memoryBytes: 64 * 1048576 }) : null;
+
+type Spec = number | null;
+interface Arrays { readonly f: (Float32Array | null)[] }
+
+/** Makes matching arrays: one set in WebAssembly memory, one in ordinary arrays, same seeded values. */
+function arrays(specs: readonly Spec[], seed: number, low = -2, high = 2): { wasm: Arrays; js: Arrays } {
+  const random = new Random(seed);
+  const wasm: (Float32Array | null)[] = [];
+  const js: (Float32Array | null)[] = [];
+  for (const length of specs) {
+    if (length === null) {
+      wasm.push(null);
+      js.push(null);
+      continue;
+    }
+    const a = backend!.pool.take('f32', length) as Float32Array;
+    for (let i = 0; i < length; i++) a[i] = random.between(low, high);
+    const b = Float32Array.from(a);
+    expect(backend!.holds(a)).toBe(true);
+    wasm.push(a);
+    js.push(b);
+  }
+  return { wasm: { f: wasm }, js: { f: js } };
+}
+
+function worstDifference(a: Float32Array, b: Float32Array): number {
+  let worst = 0;
+  for (let i = 0; i < a.length; i++) {
+    const e = Math.abs(a[i] - b[i]) / Math.max(1, Math.abs(a[i]), Math.abs(b[i]));
+    if (!(e <= worst)) worst = e;
+  }
+  return worst;
+}
+
+function agree(specs: readonly Spec[], run: (k: KernelTable, x: (Float32Array | null)[]) => void, exact: boolean, seed = 1, low = -2, high = 2): number {
+  const { wasm, js } = arrays(specs, seed, low, high);
+  run(backend!.kernels, wasm.f);
+  run(javascriptKernels, js.f);
+  let worst = 0;
+  wasm.f.forEach((a, i) => {
+    const b = js.f[i];
+    if (a === null || b === null) return;
+    if (exact) expect(Array.from(a), `array ${i}`).toEqual(Array.from(b));
+    else worst = Math.max(worst, worstDifference(a, b));
+  });
+  expect(worst).toBeLessThanOrEqual(1e-5);
+  return worst;
+}
+
+describe.skipIf(!available)('the WebAssembly kernels against their JavaScript twins', () => {
+  it('agree on the matrix product in all four transpose forms, accumulating or not, at every edge shape', () => {
+    // f32 accumulation (the SIMD kernel) against f64 accumulation rounded once (the twin): each entry within the
+    // forward error bound of an f32 dot product, γ_k·Σ|a||b| with γ_k = k·u/(1 − k·u), u = 2⁻²⁴ (Higham, "Accuracy
+    // and Stability of Numerical Algorithms", 2nd ed. 2002, §3.1), plus one rounding of each result.
+    const shapes = [[32, 192, 512], [5, 7, 9], [1, 32, 256], [3, 17, 13], [33, 65, 129], [2, 5, 3], [4, 8, 8], [1, 1, 1], [7, 1, 19], [6, 40, 1]];
+    const u = 2 ** -24;
+    let worstRatio = 0;
+    for (const [rows, inner, cols] of shapes) {
+      for (const transposeA of [false, true]) {
+        for (const transposeB of [false, true]) {
+          for (const accumulate of [false, true]) {
+            const { wasm, js } = arrays([rows * cols, rows * inner, inner * cols], rows * 131 + inner * 7 + cols);
+            const [outW, a, b] = wasm.f as Float32Array[];
+            const [outJ, a2, b2] = js.f as Float32Array[];
+            const start = Float64Array.from(outJ);
+            backend!.kernels.matmul(outW, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
+            javascriptKernels.matmul(outJ, a2, b2, rows, inner, cols, transposeA, transposeB, accumulate);
+            const k = inner + (accumulate ? 1 : 0);
+            const gamma = (k * u) / (1 - k * u);
+            for (let r = 0; r < rows; r++) {
+              for (let c = 0; c < cols; c++) {
+                let magnitude = accumulate ? Math.abs(start[r * cols + c]) : 0;
+                for (let i = 0; i < inner; i++) {
+                  const x = transposeA ? a2[i * rows + r] : a2[r * inner + i];
+                  const y = transposeB ? b2[c * inner + i] : b2[i * cols + c];
+                  magnitude += Math.abs(x * y);
+                }
+                const bound = gamma * magnitude + 2 * u * Math.abs(outJ[r * cols + c]) + 1e-30;
+                const ratio = Math.abs(outW[r * cols + c] - outJ[r * cols + c]) / bound;
+                if (!(ratio <= worstRatio)) worstRatio = ratio;
+              }
+            }
+          }
+        }
+      }
+    }
+    console.log(`matmul: worst difference is ${worstRatio.toFixed(4)} of the f32 error bound`);
+    expect(worstRatio).toBeLessThanOrEqual(1);
+  });
+
+  it('agree bit for bit on sums, differences, products, scaled sums, bias rows and column sums (lengths 1 to 37)', () => {
+    for (const n of [1, 3, 4, 5, 16, 37]) {
+      agree([n, n, n], (k, [o, a, b]) => k.add(o!, a!, b!, n), true, n);
+      agree([n, n, n], (k, [o, a, b]) => k.subtract(o!, a!, b!, n), true, n + 1);
+      agree([n, n, n], (k, [o, a, b]) => k.multiply(o!, a!, b!, n), true, n + 2);
+      agree([n, n], (k, [o, a]) => k.addInto(o!, a!, n), true, n + 3);
+      agree([n, n, n], (k, [o, a, b]) => k.multiplyInto(o!, a!, b!, n), true, n + 4);
+      agree([n, n], (k, [o, a]) => k.scale(o!, a!, 0.3, n), true, n + 5);
+      agree([n, n], (k, [o, a]) => k.addScaledInto(o!, a!, -1.7, n), true, n + 6);
+      agree([n], (k, [o]) => k.add(o!, o!, o!, n), true, n + 7); // out aliasing both inputs
+      for (const rows of [1, 3, 8]) {
+        agree([rows * n, rows * n, n], (k, [o, a, r]) => k.addRow(o!, a!, r!, rows, n), true, rows + n);
+        agree([n, rows * n], (k, [o, a]) => k.sumRows(o!, a!, rows, n, false), true, rows * n);
+        agree([n, rows * n], (k, [o, a]) => k.sumRows(o!, a!, rows, n, true), true, rows * n + 1);
+      }
+    }
+  });
+
+  it('agree on the activations and their gradients, in place and not', () => {
+    for (const n of [1, 7, 64, 1001]) {
+      for (const kernel of ['sigmoid', 'tanh', 'exp'] as const) {
+        agree([n, n], (k, [o, a]) => k[kernel](o!, a!, n), false, n, -30, 30);
+        agree([n], (k, [a]) => k[kernel](a!, a!, n), false, n + 1, -30, 30);
+      }
+      agree([n, n, n], (k, [g, d, y]) => k.sigmoidGradientInto(g!, d!, y!, n), false, n + 2, 0, 1);
+      agree([n, n, n], (k, [g, d, y]) => k.tanhGradientInto(g!, d!, y!, n), false, n + 3, -1, 1);
+    }
+  });
+
+  it('agree on the LSTM step forward and backward: peepholes or not, ragged rows, absent gradients', () => {
+    for (const [rows, size] of [[3, 8], [1, 5], [4, 13]]) {
+      for (const peephole of [false, true]) {
+        for (const lengths of [null, Int32Array.from({ length: rows }, (_, b) => b % 3)]) {
+          const p = peephole ? 3 * size : null;
+          const n = rows * size;
+          agree([n, n, 4 * n, n, n, n, p], (k, [h, c, gates, tanhCell, hp, cp, pp]) => {
+            k.lstmStepForward(h!, c!, gates!, tanhCell!, hp!, cp!, pp, rows, size, lengths, 1);
+          }, false, rows * size);
+          for (const absent of [false, true]) {
+            agree([4 * n, n, absent ? null : n, p, n, absent ? null : n, 4 * n, n, n, n, p], (k, [gg, hpg, cpg, pg, hg, cg, gates, tc, cp, c, pp]) => {
+              k.lstmStepBackward(gg!, hpg, cpg, pg, hg, cg, gates!, tc!, cp!, c!, pp, rows, size, lengths, 1);
+            }, false, rows + size, -1, 1);
+          }
+        }
+      }
+    }
+  });
+
+  it('agree on the GRU step pieces in both reset forms, forward and backward, ragged rows included', () => {
+    for (const [rows, size] of [[3, 8], [2, 5]]) {
+      const n = rows * size;
+      for (const lengths of [null, Int32Array.from({ length: rows }, (_, b) => b)]) {
+        agree([3 * n, 4 * 3 * n, 2 * n], (k, [gates, projected, product]) => k.gruUpdateReset(gates!, projected!, 3 * n, product!, rows, size), false, n);
+        agree([n, 3 * n, n], (k, [rh, gates, hp]) => k.gruResetHidden(rh!, gates!, hp!, rows, size), true, n + 1);
+        for (const resetAfter of [false, true]) {
+          agree([n, 3 * n, 2 * 3 * n, n, n], (k, [h, gates, projected, candidate, hp]) => {
+            k.gruStepFinish(h!, gates!, projected!, 3 * n, candidate!, hp!, resetAfter, rows, size, lengths, 1);
+          }, false, n + 2);
+          agree([2 * n, n, n, n, n, 3 * n, n, n], (k, [ur, cg, pg, hpg, hg, gates, candidate, hp]) => {
+            k.gruBackwardCandidate(ur!, cg!, pg!, hpg, hg!, gates!, candidate!, hp!, resetAfter, rows, size, lengths, 1);
+          }, false, n + 3, -1, 1);
+        }
+        agree([2 * n, n, n, 3 * n, n], (k, [ur, hpg, rhg, gates, hp]) => k.gruBackwardReset(ur!, hpg, rhg!, gates!, hp!, rows, size, lengths, 1), false, n + 4, -1, 1);
+      }
+    }
+  });
+
+  it('agree on the plain step, tanh and ReLU, forward and backward', () => {
+    for (const rectified of [false, true]) {
+      for (const lengths of [null, Int32Array.of(2, 0, 1)]) {
+        agree([3 * 6, 3 * 6], (k, [h, hp]) => k.plainStepForward(h!, hp!, rectified, 3, 6, lengths, 1), false, 5);
+        agree([18, 18, 18, 18], (k, [pg, hpg, hg, h]) => k.plainStepBackward(pg!, hpg, hg!, h!, rectified, 3, 6, lengths, 1), false, 6, -1, 1);
+      }
+    }
+  });
+
+  it('agree bit for bit on the Adam and SGD updates (f64 arithmetic in the twin\'s order)', () => {
+    for (const n of [1, 5, 37]) {
+      agree([n, n, n, n], (k, [values, gradient, m, v]) => {
+        for (let i = 0; i < n; i++) v![i] = Math.abs(v![i]);
+        k.adamUpdate(values!, gradient!, m!, v!, n, 0.9, 0.999, 1 - 0.9 ** 3, 1 - 0.999 ** 3, 0.01, 0.001, 0.0001, 1e-8);
+      }, true, n);
+      for (const nesterov of [false, true]) {
+        agree([n, n, n], (k, [values, gradient, velocity]) => k.sgdUpdate(values!, gradient!, velocity!, n, 0.05, 0.001, 0.9, 0.0001, nesterov), true, n + 1);
+      }
+    }
+  });
+});
