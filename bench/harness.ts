@@ -5,13 +5,19 @@
  * measurements) are computed from the same run.
  */
 import Benchmark from 'benchmark';
+import type { Backend } from '@weft/core';
 
 export interface BenchCase {
   /** Dotted lower-case id, as named in the issue that asked for it. */
   readonly id: string;
   readonly unit: string;
-  /** Builds the timed function (all allocation happens here, outside the timing); may be async. */
-  readonly setup: () => (() => void) | Promise<() => void>;
+  /**
+   * Builds the timed function (all allocation happens here, outside the timing) on `backend`, which is also the
+   * default backend while it runs; may be async.
+   */
+  readonly setup: (backend: Backend) => (() => void) | Promise<() => void>;
+  /** Measured on the default backend only (no `.js` twin): for cases that are JavaScript by nature. */
+  readonly defaultOnly?: boolean;
   /** Turns calls per second into the reported value. */
   readonly value: (callsPerSecond: number) => number;
 }
@@ -25,8 +31,8 @@ export interface BenchResult {
 
 export type Derived = (results: Record<string, BenchResult>) => Record<string, BenchResult>;
 
-export async function measure(item: BenchCase, maxTime: number): Promise<BenchResult> {
-  const fn = await item.setup();
+export async function measure(item: BenchCase, maxTime: number, backend: Backend): Promise<BenchResult> {
+  const fn = await item.setup(backend);
   for (let i = 0; i < 3; i++) fn(); // warm-up outside the timing
   const bench = new Benchmark(item.id, fn, { maxTime, minSamples: 5 });
   bench.run({ async: false });

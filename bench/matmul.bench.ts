@@ -8,13 +8,13 @@
  * the yardstick is not slowed by having seen two array types.
  */
 import { Random, kernels } from '@weft/core';
-import type { DType } from '@weft/core';
+import type { Backend, DType } from '@weft/core';
 import type { BenchCase, BenchResult, Derived } from './harness.js';
 
-function operands(dtype: DType, rows: number, inner: number, cols: number) {
+function operands(backend: Backend, dtype: DType, rows: number, inner: number, cols: number) {
   const random = new Random(`bench-${rows}-${inner}-${cols}`);
   const make = (n: number) => {
-    const array = dtype === 'f64' ? new Float64Array(n) : new Float32Array(n);
+    const array = backend.pool.take(dtype, n);
     for (let i = 0; i < n; i++) array[i] = random.between(-1, 1);
     return array;
   };
@@ -26,13 +26,15 @@ function product(id: string, dtype: DType, rows: number, inner: number, cols: nu
   return {
     id,
     unit: 'GFLOP/s',
-    setup: () => {
-      const { a, b, out } = operands(dtype, rows, inner, cols);
+    setup: (backend) => {
+      const { a, b, out } = operands(backend, dtype, rows, inner, cols);
+      const table = backend.kernels;
       return naive
         ? () => kernels.matmulNaive(out, a, b, rows, inner, cols)
-        : () => kernels.matmul(out, a, b, rows, inner, cols);
+        : () => table.matmul(out, a, b, rows, inner, cols);
     },
     value: (hz) => (hz * flops) / 1e9,
+    defaultOnly: naive || dtype === 'f64',
   };
 }
 

@@ -5,6 +5,7 @@
 import { mkdirSync, renameSync, writeFileSync } from 'node:fs';
 import { cpus } from 'node:os';
 import { dirname, resolve } from 'node:path';
+import { defaultBackend, javascriptBackend, setDefaultBackend } from '@weft/core';
 import type { BenchCase, BenchResult, Derived } from './harness.js';
 import { measure } from './harness.js';
 import * as matmul from './matmul.bench.js';
@@ -33,13 +34,22 @@ if (!(seconds > 0)) {
   process.exit(2);
 }
 
+// Every case runs on the default backend under its own id, and again on the JavaScript backend as `<id>.js`
+// (the same run, so the ratios below compare like with like).
+const chosen = defaultBackend();
 const results: Record<string, BenchResult> = {};
 for (const module of modules) {
   for (const item of module.cases) {
     if (!item.id.startsWith(only)) continue;
-    const result = await measure(item, seconds);
-    results[item.id] = result;
-    console.log(`${item.id.padEnd(48)} ${String(result.value).padStart(10)} ${result.unit}  ±${result.marginPercent}%`);
+    const runs: [string, typeof chosen][] = [[item.id, chosen]];
+    if (item.defaultOnly !== true && chosen !== javascriptBackend) runs.push([`${item.id}.js`, javascriptBackend]);
+    for (const [id, backend] of runs) {
+      setDefaultBackend(backend);
+      const result = await measure(item, seconds, backend);
+      results[id] = result;
+      console.log(`${id.padEnd(52)} ${String(result.value).padStart(10)} ${result.unit}  ±${result.marginPercent}%`);
+    }
+    setDefaultBackend(chosen);
   }
 }
 if ('runtime'.startsWith(only) || only.startsWith('runtime')) {
@@ -47,6 +57,15 @@ if ('runtime'.startsWith(only) || only.startsWith('runtime')) {
     results[id] = result;
     console.log(`${id.padEnd(48)} ${String(result.value).padStart(10)} ${result.unit}`);
   }
+}
+// <id>.speedup-over-js for the matrix product, window, training and streaming-step ids: how many times faster
+// the default backend ran than the JavaScript backend (a rate over a rate, or a time over a time).
+for (const [id, result] of Object.entries(results)) {
+  const twin = results[`${id}.js`];
+  if (twin === undefined || !/^(matmul|window|train|step)\./.test(id)) continue;
+  const ratio = result.unit === 'GFLOP/s' ? result.value / twin.value : twin.value / result.value;
+  results[`${id}.speedup-over-js`] = { value: Number(ratio.toPrecision(4)), unit: 'ratio' };
+  console.log(`${`${id}.speedup-over-js`.padEnd(52)} ${String(results[`${id}.speedup-over-js`].value).padStart(10)} ratio`);
 }
 for (const module of modules) {
   if (module.derived === undefined) continue;
@@ -60,6 +79,8 @@ const file = {
   node: process.version,
   cpus: `${cpus().length} × ${cpus()[0]?.model ?? 'unknown'}`,
   when: new Date().toISOString(),
+  backend: chosen.describe(),
+  backends: { '<id>': chosen.name, '<id>.js': javascriptBackend.name },
   results,
 };
 mkdirSync(dirname(path), { recursive: true });

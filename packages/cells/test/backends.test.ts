@@ -32,7 +32,7 @@ interface Run { readonly outputs: Float32Array; readonly gradients: Float32Array
 function cellRun(backend: Backend, make: () => RecurrentCell, mode: 'fused' | 'composed'): Run {
   setDefaultBackend(backend);
   const cell = make();
-  (cell as { mode: string }).mode = mode;
+  (cell as unknown as { mode: string }).mode = mode;
   const tape = new Tape();
   const random = new Random(3);
   const inputs = randomUniform([5, 3, 4], random, -1, 1);

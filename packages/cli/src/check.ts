@@ -11,6 +11,7 @@ import { GruCell, LstmCell, PlainCell, runSequence } from '@weft/cells';
 import type { RecurrentCell } from '@weft/cells';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { numberFlag } from './args.js';
+import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 
 export const checkFlags: FlagSpec[] = [
@@ -20,6 +21,7 @@ export const checkFlags: FlagSpec[] = [
   { name: 'hidden', value: 'NUMBER', description: 'hidden size for the check', fallback: '4' },
   { name: 'steps', value: 'NUMBER', description: 'sequence length (rows have lengths T, T−2, 1)', fallback: '5' },
   { name: 'tolerance', value: 'NUMBER', description: 'largest relative error that passes', fallback: '1e-6' },
+  backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
@@ -53,6 +55,7 @@ function checkCell(cell: RecurrentCell, steps: number, tolerance: number, seed: 
 }
 
 export async function check(args: ParsedArgs): Promise<{ text: string; passed: boolean }> {
+  const backend = chooseBackend(args);
   const inputSize = numberFlag(args, 'inputs', 3, { whole: true, min: 1, max: 64 });
   const hiddenSize = numberFlag(args, 'hidden', 4, { whole: true, min: 1, max: 64 });
   const steps = numberFlag(args, 'steps', 5, { whole: true, min: 2, max: 50 });
@@ -98,6 +101,6 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
     passed = passed && report.passed;
     parts.push(`${label}:\n${report.text()}`);
   }
-  parts.push(passed ? `all ${cells.length} gradient checks passed` : 'GRADIENT CHECK FAILED');
+  parts.push(`${passed ? `all ${cells.length} gradient checks passed` : 'GRADIENT CHECK FAILED'} (backend ${backend.name}; finite differences in f64 run on the JavaScript kernels on every backend)`);
   return { text: parts.join('\n\n'), passed };
 }

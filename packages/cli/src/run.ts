@@ -12,11 +12,13 @@ import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag } from './args.js';
 import { numberAt, parseCsv } from './csv.js';
 import { UNKNOWN, tokenize } from './datasets.js';
+import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
   { name: 'out', value: 'FILE', description: 'write here instead of standard output' },
+  backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
@@ -38,7 +40,7 @@ export async function runModel(args: ParsedArgs): Promise<string | null> {
   if (modelPath === undefined) throw new CommandError('weft run needs a weight file and data (see weft run --help)', 2);
   const format = choiceFlag(args, 'format', ['csv', 'json'] as const, 'csv');
   const file = await loadWeightFile(modelPath);
-  const runtime = await createRuntime(file);
+  const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
   const meta = file.metadata as Record<string, unknown>;
   const { text, name } = readInput(dataPath);
   let records: Record<string, string | number>[];

@@ -5,6 +5,7 @@ import { createRuntime, generateTokens } from '@weft/io/runtime';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { numberFlag } from './args.js';
 import { UNKNOWN, tokenize } from './datasets.js';
+import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 
 export const sampleFlags: FlagSpec[] = [
@@ -14,6 +15,7 @@ export const sampleFlags: FlagSpec[] = [
   { name: 'seed', value: 'TEXT', description: 'seed for the sampling', fallback: '1' },
   { name: 'prefix', value: 'TEXT', description: 'text to start from', fallback: 'the most common token' },
   { name: 'greedy', switch: true, description: 'always take the most likely token' },
+  backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
@@ -24,7 +26,7 @@ export async function sampleText(args: ParsedArgs): Promise<string> {
   const vocabulary = file.metadata.vocabulary;
   if (file.metadata.task !== 'next-token' || vocabulary === undefined) throw new CommandError(`${path}: not a text model (its task is ${JSON.stringify(file.metadata.task)}); weft sample needs one trained on text`);
   const mode = file.metadata.tokens === 'words' ? 'words' : 'characters';
-  const runtime = await createRuntime(file);
+  const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
   const index = new Map(vocabulary.map((v, i) => [v, i]));
   const prefixText = args.flags.get('prefix');
   const prefix = prefixText === undefined ? [Math.min(1, vocabulary.length - 1)] : tokenize(prefixText, mode).map((p) => index.get(p) ?? index.get(UNKNOWN) ?? 0);

@@ -11,6 +11,7 @@ import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { prepareClassification, prepareForecast, prepareText } from './datasets.js';
 import type { Prepared, Task } from './datasets.js';
+import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { lossCurveSvg, sparkline } from './plot.js';
 import type { LossPoint } from './plot.js';
@@ -45,6 +46,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'checkpoint-every', value: 'STEPS', description: 'write a checkpoint this often (and at the end)', fallback: '200' },
   { name: 'resume', value: 'CHECKPOINT', description: 'continue from a checkpoint of the same model and data' },
   { name: 'store', value: 'f32|f16|i8', description: 'how the weight file stores numbers', fallback: 'f32' },
+  backendFlag,
   { name: 'quiet', switch: true, description: 'no progress output' },
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
@@ -88,6 +90,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const [dataPath] = args.positional;
   if (dataPath === undefined) throw new CommandError('weft train needs a data file (see weft train --help)', 2);
   if (args.positional.length > 1) throw new CommandError(`weft train takes one data file, got ${args.positional.length}: ${args.positional.join(' ')}`, 2);
+  const backend = chooseBackend(args);
   const text = readData(dataPath);
   const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify'] as const, guessTask(dataPath, text));
   const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
@@ -175,7 +178,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     controller.abort();
   };
   process.on('SIGINT', onInterrupt);
-  log(`training a ${cell.toUpperCase()} ${task} model (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps`);
+  log(`training a ${cell.toUpperCase()} ${task} model (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend`);
   let summary: TrainingSummary;
   const started = Date.now();
   try {

@@ -5,7 +5,7 @@
  * 1980, ch. 6): x = n·ln 2 + r with n = round(x·log₂e) and ln 2 split in two parts (C1 exact in a few bits, C2 the
  * rest) so r is exact; then e^r ≈ 1 + r + r²·P(r) with the degree-5 polynomial P of the Cephes library's expf
  * (S. L. Moshier, "Methods and Programs for Mathematical Functions", 1989; coefficients from memory), and 2ⁿ
- * built in the exponent bits. Inputs are clamped to [−87.33654, 88.72283] (the f32 normal range of e^x).
+ * built in the exponent bits; the polynomial is evaluated by Estrin's scheme. Inputs are clamped to [−87.33654, 88.72283] (the f32 normal range of e^x).
  *
  * tanh: for |x| < 0.625 the odd polynomial x + x³·Q(x²) of Cephes' tanhf (coefficients from memory); above,
  * 1 − 2 / (e^{2|x|} + 1) with the sign of x restored. sigmoid: 1 / (1 + e^{−|x|}) for x ≥ 0 and
@@ -21,22 +21,27 @@
 @inline const LN2_HIGH: f32 = 0.693359375;
 // @ts-ignore: decorator
 @inline const LN2_LOW: f32 = -2.12194440e-4;
+// @ts-ignore: decorator
+@inline const SHIFT: f32 = 12582912.0;
 
 /** e^x for inputs already inside [−87.33654, 88.72283] or NaN. */
 // @ts-ignore: decorator
 @inline export function expClamped4(x: v128): v128 {
-  let n = f32x4.nearest(f32x4.mul(x, f32x4.splat(LOG2E)));
-  n = f32x4.min(n, f32x4.splat(127.0));
+  // n = round(x·log₂e) by the 1.5·2²³ shift (the sum's low mantissa bits are n), capped at 127 so 2ⁿ is finite;
+  // cheaper here than f32x4.nearest and a float-to-integer conversion.
+  const shifted = f32x4.add(f32x4.mul(x, f32x4.splat(LOG2E)), f32x4.splat(SHIFT));
+  const n = f32x4.min(f32x4.sub(shifted, f32x4.splat(SHIFT)), f32x4.splat(127.0));
   let r = f32x4.sub(x, f32x4.mul(n, f32x4.splat(LN2_HIGH)));
   r = f32x4.sub(r, f32x4.mul(n, f32x4.splat(LN2_LOW)));
-  let p = f32x4.splat(1.9875691500e-4);
-  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(1.3981999507e-3));
-  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(8.3334519073e-3));
-  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(4.1665795894e-2));
-  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(1.6666665459e-1));
-  p = f32x4.add(f32x4.mul(p, r), f32x4.splat(5.0000001201e-1));
-  const y = f32x4.add(f32x4.add(f32x4.mul(p, f32x4.mul(r, r)), r), f32x4.splat(1.0));
-  const scale = i32x4.shl(i32x4.add(i32x4.trunc_sat_f32x4_s(n), i32x4.splat(127)), 23);
+  const r2 = f32x4.mul(r, r);
+  // P(r) = c0 + c1·r + … + c5·r⁵ by Estrin's scheme (three short chains instead of one long Horner chain).
+  const a = f32x4.add(f32x4.splat(5.0000001201e-1), f32x4.mul(f32x4.splat(1.6666665459e-1), r));
+  const b = f32x4.add(f32x4.splat(4.1665795894e-2), f32x4.mul(f32x4.splat(8.3334519073e-3), r));
+  const c = f32x4.add(f32x4.splat(1.3981999507e-3), f32x4.mul(f32x4.splat(1.9875691500e-4), r));
+  const p = f32x4.add(a, f32x4.mul(r2, f32x4.add(b, f32x4.mul(r2, c))));
+  const y = f32x4.add(f32x4.add(f32x4.mul(p, r2), r), f32x4.splat(1.0));
+  // 2ⁿ from the bits of n + 1.5·2²³ (exact): its low bits are n in two's complement.
+  const scale = i32x4.shl(i32x4.add(f32x4.add(n, f32x4.splat(SHIFT)), i32x4.splat(127 - 0x4b400000)), 23);
   return f32x4.mul(y, scale);
 }
 
