@@ -124,3 +124,13 @@ export function addFloatsInto(target: usize, source: usize, count: i32): void {
     store<f32>(p, load<f32>(p) + load<f32>(source + (<usize>i << 2)));
   }
 }
+
+/** sigmoid4 as a call (not inlined): for the scalar tails of rows, where code size matters more than a call. */
+export function sigmoidCall4(x: v128): v128 {
+  return sigmoid4(x);
+}
+
+/** tanh4 as a call (not inlined), for the scalar tails. */
+export function tanhCall4(x: v128): v128 {
+  return tanh4(x);
+}

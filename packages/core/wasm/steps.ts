@@ -4,7 +4,7 @@
  * 0). The equations and their derivatives are written out beside the twins; rows past their length hold their
  * state exactly as there. Lanes run over the hidden units j, 4 at a time, with a scalar tail.
  */
-import { held, load4, sigmoid4, store4, tanh4 } from './math';
+import { held, load4, sigmoid4, sigmoidCall4, store4, tanh4, tanhCall4 } from './math';
 
 // @ts-ignore: decorator
 @inline function at(p: usize, i: i32): usize {
@@ -157,13 +157,13 @@ export function lstmStepForward(
         ai = f32x4.add(ai, f32x4.mul(load4(at(peephole, j), full), cPrev));
         af = f32x4.add(af, f32x4.mul(load4(at(peephole, size + j), full), cPrev));
       }
-      const i = sigmoid4(ai);
-      const f = sigmoid4(af);
-      const g = tanh4(ag);
+      const i = sigmoidCall4(ai);
+      const f = sigmoidCall4(af);
+      const g = tanhCall4(ag);
       const c = f32x4.add(f32x4.mul(f, cPrev), f32x4.mul(i, g));
       if (peephole != 0) ao = f32x4.add(ao, f32x4.mul(load4(at(peephole, 2 * size + j), full), c));
-      const o = sigmoid4(ao);
-      const tc = tanh4(c);
+      const o = sigmoidCall4(ao);
+      const tc = tanhCall4(c);
       store4(at(gates, gate + j), i, full);
       store4(at(gates, gate + size + j), f, full);
       store4(at(gates, gate + 2 * size + j), g, full);
@@ -368,7 +368,7 @@ export function gruUpdateReset(gates: usize, projected: usize, projectedOffset: 
     }
     for (; k < pair; k++) {
       const full = false;
-      store4(at(gates, gate + k), sigmoid4(f32x4.add(load4(at(projected, source + k), full), load4(at(recurrentGates, product + k), full))), full);
+      store4(at(gates, gate + k), sigmoidCall4(f32x4.add(load4(at(projected, source + k), full), load4(at(recurrentGates, product + k), full))), full);
     }
   }
 }
@@ -453,7 +453,7 @@ export function gruStepFinish(
       const z = load4(at(gates, gate + j), full);
       const q = load4(at(candidate, row + j), full);
       const recurrentTerm = resetAfter ? f32x4.mul(load4(at(gates, gate + size + j), full), q) : q;
-      const n = tanh4(f32x4.add(load4(at(projected, projectedOffset + gate + 2 * size + j), full), recurrentTerm));
+      const n = tanhCall4(f32x4.add(load4(at(projected, projectedOffset + gate + 2 * size + j), full), recurrentTerm));
       store4(at(gates, gate + 2 * size + j), n, full);
       const h = f32x4.add(f32x4.mul(f32x4.sub(one, z), n), f32x4.mul(z, load4(at(hiddenPrevious, row + j), full)));
       store4(at(hidden, row + j), h, full);
@@ -675,7 +675,7 @@ export function plainStepForward(hidden: usize, hiddenPrevious: usize, rectified
       const p = at(hidden, row + j);
       const a = load4(p, full);
       // ReLU as a select (not f32x4.max) so that −0 and NaN come out as the twin's `a > 0 ? a : 0` does.
-      store4(p, rectified ? v128.bitselect(a, zero, f32x4.gt(a, zero)) : tanh4(a), full);
+      store4(p, rectified ? v128.bitselect(a, zero, f32x4.gt(a, zero)) : tanhCall4(a), full);
     }
   }
 }

@@ -6,4 +6,3 @@ export {
   plainStepBackward, plainStepForward,
 } from './steps';
 export { adamUpdate, sgdUpdate } from './rules';
-export { copyFloats } from './math';

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Random, Tape, sharedPool, tensor } from '@weft/core';
+import { Random, Tape, defaultBackend, sharedPool, tensor } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
 import { Runtime, createRuntime, generateTokens, greedy, runtimeCounts, sample } from '@weft/io/runtime';
@@ -27,15 +27,31 @@ function maxGap(a: ArrayLike<number>, b: ArrayLike<number>): number {
   return worst;
 }
 
+// The JavaScript kernels accumulate products in f64 and round once, so the runtime and the training forward agree
+// to 1e-6 there; the WebAssembly SIMD kernels accumulate in f32, in an order that differs between the runtime's
+// fused layer step (bias first) and the training side's packed product, so they are held to the backends'
+// agreement bound instead, |a − b| ≤ 1e-5·max(1, |a|, |b|).
+const onJavaScript = defaultBackend().name === 'javascript';
+function withinRuntimeBound(a: ArrayLike<number>, b: ArrayLike<number>): void {
+  if (onJavaScript) {
+    expect(maxGap(a, b)).toBeLessThanOrEqual(1e-6);
+    return;
+  }
+  expect(a.length).toBe(b.length);
+  let worst = 0;
+  for (let i = 0; i < a.length; i++) worst = Math.max(worst, Math.abs(a[i] - b[i]) / Math.max(1, Math.abs(a[i]), Math.abs(b[i])));
+  expect(worst).toBeLessThanOrEqual(1e-5);
+}
+
 describe('the inference runtime', () => {
   for (const [label, description] of Object.entries(descriptions)) {
-    it(`${label}: whole-sequence run equals the training-side forward within 1e-6 (f32), ragged lengths`, async () => {
+    it(`${label}: whole-sequence run equals the training-side forward (f32: 1e-6 on JavaScript, 1e-5 relative on WebAssembly), ragged lengths`, async () => {
       const model = shaken(description, 3);
       const runtime = await runtimeFor(model);
       const { values, training } = inputFor(model, 7, 4, label);
       const lengths = [7, 3, 5, 1];
       const expected = model.run(new Tape({ recording: false }), training, { lengths }).outputs.data;
-      expect(maxGap(runtime.run(values, 7, 4, lengths), expected)).toBeLessThanOrEqual(1e-6);
+      withinRuntimeBound(runtime.run(values, 7, 4, lengths), expected);
     });
   }
 

@@ -7,7 +7,7 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { WeftError } from '../errors.js';
-import { addRow, gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, matmul, plainStepForward } from '../kernels/index.js';
+import { addRow, gruLayerStep, lstmLayerStep, matmul, plainLayerStep } from '../kernels/index.js';
 import { decodeBase64Bytes } from './bytes.js';
 import type { ForwardBackend, ForwardKernels } from './forward.js';
 import { LinearMemory } from './memory.js';
@@ -83,31 +83,33 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
       x.addRow(out.byteOffset, a.byteOffset, row.byteOffset, rows, cols);
       return out;
     },
-    lstmStepForward: (hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, rowLengths, step) => {
-      if (!(mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell) && mine(hiddenPrevious) && mine(cellPrevious) && (peephole === null || mine(peephole)))) {
-        return lstmStepForward(hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, rowLengths, step);
+    lstmLayerStep: (xs, input, recurrent, bias, peephole, hidden, cell, gates, tanhCell, rows, inputSize, size, rowLengths, step) => {
+      if (!(mine(xs) && mine(input) && mine(recurrent) && mine(bias) && (peephole === null || mine(peephole)) && mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell))) {
+        return lstmLayerStep(xs, input, recurrent, bias, peephole, hidden, cell, gates, tanhCell, rows, inputSize, size, rowLengths, step);
       }
-      x.lstmStepForward(hidden.byteOffset, cell.byteOffset, gates.byteOffset, tanhCell.byteOffset, hiddenPrevious.byteOffset, cellPrevious.byteOffset,
-        peephole === null ? 0 : peephole.byteOffset, rows, size, lengths(rowLengths, rows), step);
+      x.lstmLayerStep(xs.byteOffset, input.byteOffset, recurrent.byteOffset, bias.byteOffset, peephole === null ? 0 : peephole.byteOffset,
+        hidden.byteOffset, cell.byteOffset, gates.byteOffset, tanhCell.byteOffset, rows, inputSize, size, lengths(rowLengths, rows), step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * size) / 8) * 8) * Math.max(inputSize, size) + 32));
     },
-    gruUpdateReset: (gates, projected, projectedOffset, recurrentGates, rows, size) => {
-      if (!(mine(gates) && mine(projected) && mine(recurrentGates))) return gruUpdateReset(gates, projected, projectedOffset, recurrentGates, rows, size);
-      x.gruUpdateReset(gates.byteOffset, projected.byteOffset, projectedOffset, recurrentGates.byteOffset, rows, size);
-    },
-    gruResetHidden: (resetHidden, gates, hiddenPrevious, rows, size) => {
-      if (!(mine(resetHidden) && mine(gates) && mine(hiddenPrevious))) return gruResetHidden(resetHidden, gates, hiddenPrevious, rows, size);
-      x.gruResetHidden(resetHidden.byteOffset, gates.byteOffset, hiddenPrevious.byteOffset, rows, size);
-    },
-    gruStepFinish: (hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, rowLengths, step) => {
-      if (!(mine(hidden) && mine(gates) && mine(projected) && mine(candidate) && mine(hiddenPrevious))) {
-        return gruStepFinish(hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, rowLengths, step);
+    gruLayerStep: (xs, input, bias, recurrent, candidateWeights, candidateBias, hidden, projected, gates, updateReset, candidate, resetHidden,
+      rows, inputSize, size, rowLengths, step) => {
+      if (!(mine(xs) && mine(input) && mine(bias) && mine(recurrent) && mine(candidateWeights) && (candidateBias === null || mine(candidateBias))
+        && mine(hidden) && mine(projected) && mine(gates) && mine(updateReset) && mine(candidate) && mine(resetHidden))) {
+        return gruLayerStep(xs, input, bias, recurrent, candidateWeights, candidateBias, hidden, projected, gates, updateReset, candidate, resetHidden,
+          rows, inputSize, size, rowLengths, step);
       }
-      x.gruStepFinish(hidden.byteOffset, gates.byteOffset, projected.byteOffset, projectedOffset, candidate.byteOffset, hiddenPrevious.byteOffset,
-        +resetAfter, rows, size, lengths(rowLengths, rows), step);
+      x.gruLayerStep(xs.byteOffset, input.byteOffset, bias.byteOffset, recurrent.byteOffset, candidateWeights.byteOffset,
+        candidateBias === null ? 0 : candidateBias.byteOffset, hidden.byteOffset, projected.byteOffset, gates.byteOffset, updateReset.byteOffset,
+        candidate.byteOffset, resetHidden.byteOffset, rows, inputSize, size, lengths(rowLengths, rows), step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * size) / 8) * 8) * Math.max(inputSize, size) + 32));
     },
-    plainStepForward: (hidden, hiddenPrevious, rectified, rows, size, rowLengths, step) => {
-      if (!(mine(hidden) && mine(hiddenPrevious))) return plainStepForward(hidden, hiddenPrevious, rectified, rows, size, rowLengths, step);
-      x.plainStepForward(hidden.byteOffset, hiddenPrevious.byteOffset, +rectified, rows, size, lengths(rowLengths, rows), step);
+    plainLayerStep: (xs, input, recurrent, bias, hidden, pre, rectified, rows, inputSize, size, rowLengths, step) => {
+      if (!(mine(xs) && mine(input) && mine(recurrent) && mine(bias) && mine(hidden) && mine(pre))) {
+        return plainLayerStep(xs, input, recurrent, bias, hidden, pre, rectified, rows, inputSize, size, rowLengths, step);
+      }
+      x.plainLayerStep(xs.byteOffset, input.byteOffset, recurrent.byteOffset, bias.byteOffset, hidden.byteOffset, pre.byteOffset, +rectified,
+        rows, inputSize, size, lengths(rowLengths, rows), step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(size / 8) * 8) * Math.max(inputSize, size) + 32));
     },
   };
   return Object.freeze({

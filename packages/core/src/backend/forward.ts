@@ -4,13 +4,20 @@
  * (the kernels of core/src/kernels over ordinary typed arrays) here, and WebAssembly SIMD in
  * forward-webassembly.ts (a module of its own, core/wasm/runtime.ts, with the forward twins only).
  */
-import { addRow, gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, matmul, plainStepForward } from '../kernels/index.js';
+import { addRow, matmul } from '../kernels/index.js';
+import { gruLayerStep, lstmLayerStep, plainLayerStep } from '../kernels/layer-steps.js';
 import type { BackendName } from './backend.js';
-import type { KernelTable } from './kernel-table.js';
 
-export type ForwardKernelName = 'matmul' | 'addRow' | 'lstmStepForward' | 'gruUpdateReset' | 'gruResetHidden' | 'gruStepFinish' | 'plainStepForward';
+/** The forward kernel table: the readout's product and bias, and one whole step per built-in cell's layer. */
+export interface ForwardKernels {
+  readonly matmul: typeof matmul;
+  readonly addRow: typeof addRow;
+  readonly lstmLayerStep: typeof lstmLayerStep;
+  readonly gruLayerStep: typeof gruLayerStep;
+  readonly plainLayerStep: typeof plainLayerStep;
+}
 
-export type ForwardKernels = Pick<KernelTable, ForwardKernelName>;
+export type ForwardKernelName = keyof ForwardKernels;
 
 export interface ForwardBackend {
   readonly name: BackendName;
@@ -24,7 +31,7 @@ export interface ForwardBackend {
 
 export const javascriptForward: ForwardBackend = Object.freeze({
   name: 'javascript' as const,
-  kernels: Object.freeze({ matmul, addRow, lstmStepForward, gruUpdateReset, gruResetHidden, gruStepFinish, plainStepForward }),
+  kernels: Object.freeze({ matmul, addRow, lstmLayerStep, gruLayerStep, plainLayerStep }),
   floats(length: number): Float32Array {
     return new Float32Array(length);
   },

@@ -30,7 +30,7 @@ export interface RuntimeCell {
 
 export function makeCell(layer: LayerDescription, inputSize: number, prefix: string, weights: Weights, kernels: ForwardKernels): RuntimeCell {
   const hidden = layer.hidden;
-  const { addRow, gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, matmul, plainStepForward } = kernels;
+  const { gruLayerStep, lstmLayerStep, plainLayerStep } = kernels;
   if (layer.cell === 'lstm') {
     const input = weights(`${prefix}.input`, [inputSize, 4 * hidden]);
     const recurrent = weights(`${prefix}.recurrent`, [hidden, 4 * hidden]);
@@ -44,11 +44,7 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
       step(x, buffers, rows, lengths, step) {
         const [h, c] = buffers.state;
         const [gates, tanhCell] = buffers.work;
-        matmul(gates, x, input, rows, inputSize, 4 * hidden);
-        addRow(gates, gates, bias, rows, 4 * hidden);
-        matmul(gates, h, recurrent, rows, hidden, 4 * hidden, false, false, true);
-        // In place: the kernel reads each h₋, c₋ entry before writing the same entry.
-        lstmStepForward(h, c, gates, tanhCell, h, c, peephole, rows, hidden, lengths, step);
+        lstmLayerStep(x, input, recurrent, bias, peephole, h, c, gates, tanhCell, rows, inputSize, hidden, lengths, step);
       },
     };
   }
@@ -70,18 +66,7 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
       step(x, buffers, rows, lengths, step) {
         const [h] = buffers.state;
         const [projected, gates, updateReset, candidate, resetHidden] = buffers.work;
-        matmul(projected, x, input, rows, inputSize, 3 * hidden);
-        addRow(projected, projected, bias, rows, 3 * hidden);
-        matmul(updateReset, h, recurrent, rows, hidden, 2 * hidden);
-        gruUpdateReset(gates, projected, 0, updateReset, rows, hidden);
-        if (candidateBias === null) {
-          gruResetHidden(resetHidden, gates, h, rows, hidden);
-          matmul(candidate, resetHidden, candidateWeights, rows, hidden, hidden);
-        } else {
-          matmul(candidate, h, candidateWeights, rows, hidden, hidden);
-          addRow(candidate, candidate, candidateBias, rows, hidden);
-        }
-        gruStepFinish(h, gates, projected, 0, candidate, h, resetAfter, rows, hidden, lengths, step);
+        gruLayerStep(x, input, bias, recurrent, candidateWeights, candidateBias, h, projected, gates, updateReset, candidate, resetHidden, rows, inputSize, hidden, lengths, step);
       },
     };
   }
@@ -97,11 +82,7 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
     step(x, buffers, rows, lengths, step) {
       const [h] = buffers.state;
       const [pre] = buffers.work;
-      matmul(pre, x, input, rows, inputSize, hidden);
-      addRow(pre, pre, bias, rows, hidden);
-      matmul(pre, h, recurrent, rows, hidden, hidden, false, false, true);
-      plainStepForward(pre, h, rectified, rows, hidden, lengths, step);
-      h.set(pre);
+      plainLayerStep(x, input, recurrent, bias, h, pre, rectified, rows, inputSize, hidden, lengths, step);
     },
   };
 }
