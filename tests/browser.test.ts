@@ -3,7 +3,7 @@
  * network): gradient checks of every built-in cell pass there; a fixed-seed training run ends at a loss whose
  * f32 bits equal the same run in Node; the page stays responsive while its worker trains (a 100 ms timer fires
  * within 50 ms of schedule) and its chart holds the points; weight files move both ways between the page and
- * Node's runtime with equal outputs. A screenshot of the page is saved to artifacts/browser-page.png.
+ * Node's runtime with equal outputs (both on the WebAssembly forward backend, the page's default). A screenshot of the page is saved to artifacts/browser-page.png.
  *
  * .ci/run installs chromium with apt-get; on a machine without it this file is skipped, except under CI, where
  * a missing browser is a failure.
@@ -16,6 +16,7 @@ import type { Server } from 'node:http';
 import { chromium } from 'playwright-core';
 import type { Browser, Page } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { defaultBackend, setDefaultBackend } from '@weft/core';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 import { buildPage } from '../examples/browser/build.js';
@@ -35,7 +36,7 @@ let server: Server;
 
 interface PageHandle {
   runGradientChecks(): Promise<{ label: string; passed: boolean; worst: number }[]>;
-  trainFor(settings: Partial<TrainingConfig>): Promise<{ steps: number; lastLoss: number; lastLossBits: string; timerWorstLateness: number; timerTicks: number }>;
+  trainFor(settings: Partial<TrainingConfig>): Promise<{ steps: number; lastLoss: number; lastLossBits: string; backend: string; timerWorstLateness: number; timerTicks: number }>;
   chartPoints(): { training: number; validation: number; gradientNorm: number; firstLoss: number; lastLoss: number };
   forecast(values: number[]): number[];
   hasWeights(): boolean;
@@ -79,19 +80,28 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     for (const report of reports) expect({ label: report.label, passed: report.passed }).toEqual({ label: report.label, passed: true });
   }, 60_000);
 
-  it('ends a fixed-seed run of 40 steps at a loss bit-identical to the same run in Node (f32 bits)', async () => {
-    const config: TrainingConfig = { kind: 'text', data: sampleText.repeat(3), cell: 'gru', hidden: 16, epochs: 50, window: 24, streams: 4, rate: 0.01, seed: 'same bits', maxSteps: 40 };
-    const inBrowser = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
-    const { trainer } = prepare(config);
-    let loss = NaN;
-    for (let i = 0; i < 40; i++) loss = trainer.step();
-    console.log(`loss after 40 steps: Chromium ${inBrowser.lastLoss} (${inBrowser.lastLossBits}), Node ${loss} (${f32Bits(loss)})`);
-    expect(inBrowser.steps).toBe(40);
-    expect(inBrowser.lastLossBits).toBe(f32Bits(loss));
-  }, 60_000);
+  for (const backend of ['webassembly', 'javascript'] as const) {
+    it(`ends a fixed-seed run of 40 steps at a loss bit-identical to the same run in Node (f32 bits), ${backend} backend`, async () => {
+      const config: TrainingConfig = { kind: 'text', data: sampleText.repeat(3), cell: 'gru', hidden: 16, epochs: 50, window: 24, streams: 4, rate: 0.01, seed: 'same bits', maxSteps: 40, backend };
+      const inBrowser = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
+      const before = defaultBackend();
+      let loss = NaN;
+      try {
+        const { trainer } = prepare(config);
+        expect(trainer.backend.name).toBe(backend);
+        for (let i = 0; i < 40; i++) loss = trainer.step();
+      } finally {
+        setDefaultBackend(before);
+      }
+      console.log(`${backend}: loss after 40 steps: Chromium ${inBrowser.lastLoss} (${inBrowser.lastLossBits}), Node ${loss} (${f32Bits(loss)})`);
+      expect(inBrowser.backend).toBe(backend);
+      expect(inBrowser.steps).toBe(40);
+      expect(inBrowser.lastLossBits).toBe(f32Bits(loss));
+    }, 60_000);
+  }
 
   it('stays responsive while the worker trains, and charts the points (screenshot saved)', async () => {
-    const config: Partial<TrainingConfig> = { kind: 'numbers', data: waveText, cell: 'lstm', hidden: 48, epochs: 200, window: 24, streams: 4, rate: 0.01, seed: '3' };
+    const config: Partial<TrainingConfig> = { kind: 'numbers', data: waveText, cell: 'lstm', hidden: 48, epochs: 1000, window: 24, streams: 4, rate: 0.01, seed: '3' };
     const result = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
     console.log(`worker trained ${result.steps} steps; page timer fired ${result.timerTicks} times, at worst ${result.timerWorstLateness.toFixed(1)} ms late`);
     expect(result.timerTicks).toBeGreaterThan(10);
@@ -112,7 +122,7 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     const download = await downloading;
     const saved = join(folder, 'from-page.weft.json');
     await download.saveAs(saved);
-    const inNode = await createRuntime(readFileSync(saved, 'utf8'));
+    const inNode = await createRuntime(readFileSync(saved, 'utf8'), { backend: 'webassembly' });
     const { mean, deviation } = (inNode.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;
     const streams = inNode.streams(1);
     const probe = waveValues.slice(0, 50);
@@ -128,7 +138,7 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     writeFileSync(fromNode, await writeWeightFile(model.description, modelTensors(model), { metadata }));
     await page.setInputFiles('#load', fromNode);
     await page.waitForFunction(() => document.getElementById('status')?.textContent?.startsWith('loaded from-node'));
-    const nodeRuntime = await createRuntime(readFileSync(fromNode, 'utf8'));
+    const nodeRuntime = await createRuntime(readFileSync(fromNode, 'utf8'), { backend: 'webassembly' });
     const nodeStreams = nodeRuntime.streams(1);
     const norm = (nodeRuntime.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;
     const expected = probe.map((v) => nodeStreams.step(Float32Array.of((v - norm.mean[0]) / norm.deviation[0]))[0] * norm.deviation[0] + norm.mean[0]);

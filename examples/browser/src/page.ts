@@ -65,7 +65,7 @@ worker.onmessage = (event: MessageEvent<FromWorker>) => {
   } else if (message.type === 'done') {
     timer.running = false;
     lastDone = message;
-    status.textContent = `trained ${message.steps} steps; last loss ${message.lastLoss.toPrecision(5)}`;
+    status.textContent = `trained ${message.steps} steps on the ${message.backend} backend; last loss ${message.lastLoss.toPrecision(5)}`;
     void useWeights(message.weightFile);
   } else if (message.type === 'checked') {
     lastChecks = message;
@@ -164,7 +164,7 @@ const handle = {
     train(settings);
     const message = await until('done');
     if (message.type === 'failed') throw new Error(message.message);
-    return { steps: lastDone!.steps, lastLoss: lastDone!.lastLoss, lastLossBits: lastDone!.lastLossBits, timerWorstLateness: timer.worst, timerTicks: timer.ticks };
+    return { steps: lastDone!.steps, lastLoss: lastDone!.lastLoss, lastLossBits: lastDone!.lastLossBits, backend: lastDone!.backend, timerWorstLateness: timer.worst, timerTicks: timer.ticks };
   },
   chartPoints: () => ({ training: chart.training.length, validation: chart.validation.length, gradientNorm: chart.gradientNorm.length, firstLoss: chart.training[0]?.value, lastLoss: chart.training.at(-1)?.value }),
   forecast: (values: number[]) => forecast(values),

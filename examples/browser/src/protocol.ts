@@ -13,6 +13,6 @@ export interface ChartPoint {
 
 export type FromWorker =
   | { readonly type: 'progress'; readonly training: ChartPoint[]; readonly validation: ChartPoint[]; readonly gradientNorm: ChartPoint[]; readonly step: number; readonly totalSteps: number }
-  | { readonly type: 'done'; readonly steps: number; readonly lastLoss: number; readonly lastLossBits: string; readonly weightFile: string }
+  | { readonly type: 'done'; readonly steps: number; readonly lastLoss: number; readonly lastLossBits: string; readonly weightFile: string; readonly backend: string }
   | { readonly type: 'checked'; readonly reports: { readonly label: string; readonly passed: boolean; readonly worst: number }[] }
   | { readonly type: 'failed'; readonly message: string };

@@ -3,6 +3,7 @@
  * browser test: the same configuration gives the same model, data and trainer in both places, so their losses
  * can be compared bit for bit.
  */
+import { defaultBackend, setDefaultBackend } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches } from '@weft/optim';
@@ -22,6 +23,8 @@ export interface TrainingConfig {
   readonly seed: string;
   /** Stop after this many steps (for quick, comparable runs). */
   readonly maxSteps?: number;
+  /** The kernels to train with (default: the library's choice, WebAssembly SIMD where the browser runs it). */
+  readonly backend?: 'javascript' | 'webassembly';
 }
 
 export interface Prepared {
@@ -37,7 +40,12 @@ export function parseNumbers(text: string): number[] {
   return values;
 }
 
+/** The backend the platform chose before any run asked for one. */
+const platformBackend = defaultBackend();
+
 export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEvent) => void, signal?: AbortSignal): Prepared {
+  // Everything below (the model, the batches, the trainer's buffers) is made on this backend.
+  setDefaultBackend(config.backend ?? platformBackend);
   const common = { optimizer: new AdamRule({ rate: config.rate }), epochs: config.epochs, clipNorm: 1, seed: config.seed, onProgress, signal };
   if (config.kind === 'text') {
     const symbols = [...new Set(config.data)].sort();

@@ -70,7 +70,7 @@ self.onmessage = async (event: MessageEvent<ToWorker>) => {
     const summary = await trainer.run();
     flush(summary.steps);
     const weightFile = await writeWeightFile(model.description, modelTensors(model), { metadata });
-    post({ type: 'done', steps: summary.steps, lastLoss: summary.lastLoss, lastLossBits: f32Bits(summary.lastLoss), weightFile });
+    post({ type: 'done', steps: summary.steps, lastLoss: summary.lastLoss, lastLossBits: f32Bits(summary.lastLoss), weightFile, backend: trainer.backend.name });
   } catch (error) {
     post({ type: 'failed', message: (error as Error).message });
   }
