@@ -22,4 +22,4 @@ for (let i = 0; i < 10000; i++) {
 globalThis.gc();
 globalThis.gc();
 const after = process.memoryUsage().heapUsed;
-console.log(JSON.stringify({ before, after }));
+console.log(JSON.stringify({ before, after, backend: runtime.backend.name }));

@@ -1,0 +1,45 @@
+/**
+ * `--backend`: the demo's training run (the flags `npm run demo` uses, on the bundled greenhouse data) on each
+ * backend reaches a held-out error within 2% of the other's, and the first progress line names the backend that
+ * ran; a backend name that does not exist is a one-line usage error.
+ */
+import { mkdtempSync, rmSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { afterAll, describe, expect, it } from 'vitest';
+import { defaultBackend, setDefaultBackend, webAssemblyUnavailable } from '@weft/core';
+import { parseArgs } from '../src/args.js';
+import { chooseBackend } from '../src/backend.js';
+import { train, trainFlags } from '../src/train.js';
+
+const data = fileURLToPath(new URL('../demo/greenhouse.csv', import.meta.url));
+const folder = mkdtempSync(join(tmpdir(), 'weft-backend-'));
+const original = defaultBackend();
+afterAll(() => {
+  setDefaultBackend(original);
+  rmSync(folder, { recursive: true, force: true });
+});
+
+async function demoRun(backend: 'javascript' | 'webassembly'): Promise<{ heldOut: number; first: string }> {
+  const lines: string[] = [];
+  const flags = ['--target', 'air_temperature_c', '--horizon', '8', '--cell', 'gru', '--hidden', '48', '--window', '48', '--streams', '8', '--epochs', '30',
+    '--rate', '0.01', '--validation', '0.15', '--quiet', '--backend', backend, '--out', join(folder, `${backend}.weft.json`)];
+  const outcome = await train(parseArgs('train', [data, ...flags], trainFlags), (line) => lines.push(line));
+  return { heldOut: outcome.heldOut, first: lines[0] };
+}
+
+describe('weft train --backend', () => {
+  it.skipIf(webAssemblyUnavailable() !== null)('trains the demo to held-out errors within 2% of each other on the two backends', async () => {
+    const wasm = await demoRun('webassembly');
+    const js = await demoRun('javascript');
+    console.log(`demo held-out MAE: webassembly ${wasm.heldOut}, javascript ${js.heldOut}`);
+    expect(wasm.first).toMatch(/, webassembly backend$/);
+    expect(js.first).toMatch(/, javascript backend$/);
+    expect(Math.abs(wasm.heldOut - js.heldOut) / js.heldOut).toBeLessThan(0.02);
+  }, 120_000);
+
+  it('refuses a backend that does not exist, naming the choices', () => {
+    expect(() => chooseBackend(parseArgs('train', ['x.csv', '--backend', 'gpu'], trainFlags))).toThrowError('--backend must be one of javascript, webassembly, got "gpu"');
+  });
+});
