@@ -110,6 +110,11 @@ function affine(out: usize, bias: usize, x: usize, a: usize, inner: i32, y: usiz
   if (bias != 0) addRow(out, out, bias, rows, cols);
 }
 
+/** out [rows, cols] = bias + x·weights: the readout. `bias` 0 means none. */
+export function affineRows(out: usize, bias: usize, x: usize, weights: usize, rows: i32, inner: i32, cols: i32, scratch: usize): void {
+  affine(out, bias, x, weights, inner, 0, 0, 0, rows, cols, scratch);
+}
+
 /** One LSTM layer step: gates = b + x·W + h·R, then the LSTM gate arithmetic in place on h and c. */
 export function lstmLayerStep(
   x: usize, input: usize, recurrent: usize, bias: usize, peephole: usize, hidden: usize, cell: usize, gates: usize,

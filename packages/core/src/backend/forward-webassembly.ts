@@ -7,7 +7,7 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { WeftError } from '../errors.js';
-import { addRow, gruLayerStep, lstmLayerStep, matmul, plainLayerStep } from '../kernels/index.js';
+import { affineRows, gruLayerStep, lstmLayerStep, plainLayerStep } from '../kernels/index.js';
 import { decodeBase64Bytes } from './bytes.js';
 import type { ForwardBackend, ForwardKernels } from './forward.js';
 import { LinearMemory } from './memory.js';
@@ -72,15 +72,10 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
     return lengthsCopy.byteOffset;
   };
   const kernels: ForwardKernels = {
-    matmul: (out, a, b, rows, inner, cols, transposeA = false, transposeB = false, accumulate = false) => {
-      if (!(mine(out) && mine(a) && mine(b))) return matmul(out, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
-      const pointer = rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
-      x.matmul(out.byteOffset, a.byteOffset, b.byteOffset, rows, inner, cols, +transposeA, +transposeB, +accumulate, pointer);
-      return out;
-    },
-    addRow: (out, a, row, rows, cols) => {
-      if (!(mine(out) && mine(a) && mine(row))) return addRow(out, a, row, rows, cols);
-      x.addRow(out.byteOffset, a.byteOffset, row.byteOffset, rows, cols);
+    affineRows: (out, bias, xs, weights, rows, inner, cols) => {
+      if (!(mine(out) && mine(bias) && mine(xs) && mine(weights))) return affineRows(out, bias, xs, weights, rows, inner, cols);
+      x.affineRows(out.byteOffset, bias.byteOffset, xs.byteOffset, weights.byteOffset, rows, inner, cols,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32));
       return out;
     },
     lstmLayerStep: (xs, input, recurrent, bias, peephole, hidden, cell, gates, tanhCell, rows, inputSize, size, rowLengths, step) => {

@@ -4,14 +4,12 @@
  * (the kernels of core/src/kernels over ordinary typed arrays) here, and WebAssembly SIMD in
  * forward-webassembly.ts (a module of its own, core/wasm/runtime.ts, with the forward twins only).
  */
-import { addRow, matmul } from '../kernels/index.js';
-import { gruLayerStep, lstmLayerStep, plainLayerStep } from '../kernels/layer-steps.js';
+import { affineRows, gruLayerStep, lstmLayerStep, plainLayerStep } from '../kernels/layer-steps.js';
 import type { BackendName } from './backend.js';
 
-/** The forward kernel table: the readout's product and bias, and one whole step per built-in cell's layer. */
+/** The forward kernel table: the readout's affine map, and one whole step per built-in cell's layer. */
 export interface ForwardKernels {
-  readonly matmul: typeof matmul;
-  readonly addRow: typeof addRow;
+  readonly affineRows: typeof affineRows;
   readonly lstmLayerStep: typeof lstmLayerStep;
   readonly gruLayerStep: typeof gruLayerStep;
   readonly plainLayerStep: typeof plainLayerStep;
@@ -31,7 +29,7 @@ export interface ForwardBackend {
 
 export const javascriptForward: ForwardBackend = Object.freeze({
   name: 'javascript' as const,
-  kernels: Object.freeze({ matmul, addRow, lstmLayerStep, gruLayerStep, plainLayerStep }),
+  kernels: Object.freeze({ affineRows, lstmLayerStep, gruLayerStep, plainLayerStep }),
   floats(length: number): Float32Array {
     return new Float32Array(length);
   },

@@ -12,4 +12,4 @@ export { lstmStepBackward, lstmStepForward } from './lstm-step.js';
 export { gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset } from './gru-step.js';
 export { plainStepBackward, plainStepForward } from './plain-step.js';
 export { adamUpdate, sgdUpdate } from './rules.js';
-export { gruLayerStep, lstmLayerStep, plainLayerStep } from './layer-steps.js';
+export { affineRows, gruLayerStep, lstmLayerStep, plainLayerStep } from './layer-steps.js';

@@ -12,6 +12,12 @@ import { lstmStepForward } from './lstm-step.js';
 import { matmul } from './matmul.js';
 import { plainStepForward } from './plain-step.js';
 
+/** out [rows, cols] = x·weights + bias (the readout's affine map), out not aliasing x. */
+export function affineRows(out: FloatArray, bias: FloatArray, x: FloatArray, weights: FloatArray, rows: number, inner: number, cols: number): FloatArray {
+  matmul(out, x, weights, rows, inner, cols);
+  return addRow(out, out, bias, rows, cols);
+}
+
 /** gates [rows, 4H] = x·W + b + h·R, then h, c ← the LSTM step (tanhCell [rows, H] is working memory). */
 export function lstmLayerStep(
   x: FloatArray, input: FloatArray, recurrent: FloatArray, bias: FloatArray, peephole: FloatArray | null,

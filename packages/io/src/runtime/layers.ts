@@ -42,9 +42,10 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
       slots: 2,
       buffers: (rows, allocate) => ({ state: [allocate(rows * hidden), allocate(rows * hidden)], work: [allocate(rows * 4 * hidden), allocate(rows * hidden)] }),
       step(x, buffers, rows, lengths, step) {
-        const [h, c] = buffers.state;
-        const [gates, tanhCell] = buffers.work;
-        lstmLayerStep(x, input, recurrent, bias, peephole, h, c, gates, tanhCell, rows, inputSize, hidden, lengths, step);
+        // Indexing, not destructuring: this runs once per layer and step.
+        const state = buffers.state;
+        const work = buffers.work;
+        lstmLayerStep(x, input, recurrent, bias, peephole, state[0], state[1], work[0], work[1], rows, inputSize, hidden, lengths, step);
       },
     };
   }
@@ -64,9 +65,8 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
         work: [allocate(rows * 3 * hidden), allocate(rows * 3 * hidden), allocate(rows * 2 * hidden), allocate(rows * hidden), allocate(rows * hidden)],
       }),
       step(x, buffers, rows, lengths, step) {
-        const [h] = buffers.state;
-        const [projected, gates, updateReset, candidate, resetHidden] = buffers.work;
-        gruLayerStep(x, input, bias, recurrent, candidateWeights, candidateBias, h, projected, gates, updateReset, candidate, resetHidden, rows, inputSize, hidden, lengths, step);
+        const work = buffers.work;
+        gruLayerStep(x, input, bias, recurrent, candidateWeights, candidateBias, buffers.state[0], work[0], work[1], work[2], work[3], work[4], rows, inputSize, hidden, lengths, step);
       },
     };
   }
@@ -80,9 +80,7 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
     slots: 1,
     buffers: (rows, allocate) => ({ state: [allocate(rows * hidden)], work: [allocate(rows * hidden)] }),
     step(x, buffers, rows, lengths, step) {
-      const [h] = buffers.state;
-      const [pre] = buffers.work;
-      plainLayerStep(x, input, recurrent, bias, h, pre, rectified, rows, inputSize, hidden, lengths, step);
+      plainLayerStep(x, input, recurrent, bias, buffers.state[0], buffers.work[0], rectified, rows, inputSize, hidden, lengths, step);
     },
   };
 }

@@ -203,8 +203,7 @@ export class Runtime {
     if (this.readoutWeights === null || this.readoutBias === null) {
       for (let i = 0; i < positions * this.outputWidth; i++) out[i] = features[i];
     } else {
-      this.backend.kernels.matmul(out, features, this.readoutWeights, positions, this.featureWidth, this.outputWidth);
-      this.backend.kernels.addRow(out, out, this.readoutBias, positions, this.outputWidth);
+      this.backend.kernels.affineRows(out, this.readoutBias, features, this.readoutWeights, positions, this.featureWidth, this.outputWidth);
     }
     if (lengths !== null) {
       for (let p = 0; p < positions; p++) {
