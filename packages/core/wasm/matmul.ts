@@ -29,6 +29,25 @@ export function matmul(
   const edge = packedB + ((<usize>panels * <usize>inner) << 5);
   packLeft(packedA, a, rows, inner, transposeA);
   packRight(packedB, b, inner, cols, transposeB);
+  blocked(out, packedA, packedB, rows, inner, cols, accumulate, edge);
+}
+
+/**
+ * out (+)= a·B for 4 rows or more, with B already packed into 8-column panels (packed.ts packs runtime weights so):
+ * only a is packed, into `scratch` (⌈rows/4⌉·4·inner + 32 floats).
+ */
+export function matmulPackedRight(out: usize, a: usize, packedB: usize, rows: i32, inner: i32, cols: i32, accumulate: i32, scratch: usize): void {
+  const rowBlocks = (rows + 3) >> 2;
+  const packedA = scratch;
+  const edge = packedA + ((<usize>rowBlocks * <usize>inner) << 4);
+  packLeft(packedA, a, rows, inner, 0);
+  blocked(out, packedA, packedB, rows, inner, cols, accumulate, edge);
+}
+
+/** The 4 × 8 register-blocked product of two packed operands (see the comment at the top). */
+function blocked(out: usize, packedA: usize, packedB: usize, rows: i32, inner: i32, cols: i32, accumulate: i32, edge: usize): void {
+  const rowBlocks = (rows + 3) >> 2;
+  const panels = (cols + 7) >> 3;
   const rowStride = <usize>cols << 2;
   for (let rb = 0; rb < rowBlocks; rb++) {
     const row0 = rb << 2;

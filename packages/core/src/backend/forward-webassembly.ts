@@ -2,12 +2,12 @@
  * The runtime's WebAssembly SIMD backend: the forward kernels of core/wasm/runtime.ts (a module of its own, so the
  * runtime bundle carries no training kernels) over one LinearMemory of its own that never grows (memory.ts says
  * why that keeps every view valid). Weights are copied into it when a runtime is made; streams take their state
- * and working buffers from it when they are made, so stepping allocates nothing. Arrays not in this memory (a
- * caller's own buffer) run on the JavaScript kernels, which compute the same thing.
+ * and working buffers from it when they are made, so stepping allocates nothing. Weight matrices are packed into
+ * 8-column panels when they are copied in (core/wasm/packed.ts), so a streaming step reads each panel as one
+ * contiguous run; the kernels therefore refuse arrays that are not this memory's.
  */
 import type { FloatArray } from '../dtype.js';
 import { WeftError } from '../errors.js';
-import { affineRows, gruLayerStep, lstmLayerStep, plainLayerStep } from '../kernels/index.js';
 import { decodeBase64Bytes } from './bytes.js';
 import type { ForwardBackend, ForwardKernels } from './forward.js';
 import { LinearMemory } from './memory.js';
@@ -71,17 +71,19 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
     for (let b = 0; b < rows; b++) lengthsCopy[b] = values[b];
     return lengthsCopy.byteOffset;
   };
+  // The weights are packed for these kernels, so an array from elsewhere cannot be run on the JavaScript twins.
+  const foreign = (kernel: string): never => {
+    throw new WeftError({ code: 'backend_mismatch', path: `runtime ${kernel}`, expected: "arrays of this runtime's webassembly memory (made by its backend)", received: 'an array from elsewhere' });
+  };
   const kernels: ForwardKernels = {
     affineRows: (out, bias, xs, weights, rows, inner, cols) => {
-      if (!(mine(out) && mine(bias) && mine(xs) && mine(weights))) return affineRows(out, bias, xs, weights, rows, inner, cols);
+      if (!(mine(out) && mine(bias) && mine(xs) && mine(weights))) foreign('affineRows');
       x.affineRows(out.byteOffset, bias.byteOffset, xs.byteOffset, weights.byteOffset, rows, inner, cols,
         rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32));
       return out;
     },
     lstmLayerStep: (xs, input, recurrent, bias, peephole, hidden, cell, gates, tanhCell, rows, inputSize, size, rowLengths, step) => {
-      if (!(mine(xs) && mine(input) && mine(recurrent) && mine(bias) && (peephole === null || mine(peephole)) && mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell))) {
-        return lstmLayerStep(xs, input, recurrent, bias, peephole, hidden, cell, gates, tanhCell, rows, inputSize, size, rowLengths, step);
-      }
+      if (!(mine(xs) && mine(input) && mine(recurrent) && mine(bias) && (peephole === null || mine(peephole)) && mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell))) foreign('lstmLayerStep');
       x.lstmLayerStep(xs.byteOffset, input.byteOffset, recurrent.byteOffset, bias.byteOffset, peephole === null ? 0 : peephole.byteOffset,
         hidden.byteOffset, cell.byteOffset, gates.byteOffset, tanhCell.byteOffset, rows, inputSize, size, lengths(rowLengths, rows), step,
         rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * size) / 8) * 8) * Math.max(inputSize, size) + 32));
@@ -89,19 +91,14 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
     gruLayerStep: (xs, input, bias, recurrent, candidateWeights, candidateBias, hidden, projected, gates, updateReset, candidate, resetHidden,
       rows, inputSize, size, rowLengths, step) => {
       if (!(mine(xs) && mine(input) && mine(bias) && mine(recurrent) && mine(candidateWeights) && (candidateBias === null || mine(candidateBias))
-        && mine(hidden) && mine(projected) && mine(gates) && mine(updateReset) && mine(candidate) && mine(resetHidden))) {
-        return gruLayerStep(xs, input, bias, recurrent, candidateWeights, candidateBias, hidden, projected, gates, updateReset, candidate, resetHidden,
-          rows, inputSize, size, rowLengths, step);
-      }
+        && mine(hidden) && mine(projected) && mine(gates) && mine(updateReset) && mine(candidate) && mine(resetHidden))) foreign('gruLayerStep');
       x.gruLayerStep(xs.byteOffset, input.byteOffset, bias.byteOffset, recurrent.byteOffset, candidateWeights.byteOffset,
         candidateBias === null ? 0 : candidateBias.byteOffset, hidden.byteOffset, projected.byteOffset, gates.byteOffset, updateReset.byteOffset,
         candidate.byteOffset, resetHidden.byteOffset, rows, inputSize, size, lengths(rowLengths, rows), step,
         rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * size) / 8) * 8) * Math.max(inputSize, size) + 32));
     },
     plainLayerStep: (xs, input, recurrent, bias, hidden, pre, rectified, rows, inputSize, size, rowLengths, step) => {
-      if (!(mine(xs) && mine(input) && mine(recurrent) && mine(bias) && mine(hidden) && mine(pre))) {
-        return plainLayerStep(xs, input, recurrent, bias, hidden, pre, rectified, rows, inputSize, size, rowLengths, step);
-      }
+      if (!(mine(xs) && mine(input) && mine(recurrent) && mine(bias) && mine(hidden) && mine(pre))) foreign('plainLayerStep');
       x.plainLayerStep(xs.byteOffset, input.byteOffset, recurrent.byteOffset, bias.byteOffset, hidden.byteOffset, pre.byteOffset, +rectified,
         rows, inputSize, size, lengths(rowLengths, rows), step,
         rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(size / 8) * 8) * Math.max(inputSize, size) + 32));
@@ -114,6 +111,14 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
       const array = memory.floats(length);
       array.fill(0);
       return array;
+    },
+    matrix(values: ArrayLike<number>, rows: number, cols: number): Float32Array {
+      const plain = memory.floats(rows * cols);
+      plain.set(values);
+      const packed = memory.floats(Math.ceil(cols / 8) * 8 * rows);
+      x.packPanels(packed.byteOffset, plain.byteOffset, rows, cols);
+      memory.release(plain.byteOffset, plain.length * 4);
+      return packed;
     },
     release(array: Float32Array): void {
       if (array.buffer === buffer) memory.release(array.byteOffset, array.length * 4);

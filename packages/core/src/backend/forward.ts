@@ -7,7 +7,10 @@
 import { affineRows, gruLayerStep, lstmLayerStep, plainLayerStep } from '../kernels/layer-steps.js';
 import type { BackendName } from './backend.js';
 
-/** The forward kernel table: the readout's affine map, and one whole step per built-in cell's layer. */
+/**
+ * The forward kernel table: the readout's affine map, and one whole step per built-in cell's layer. Weight matrices
+ * (`input`, `recurrent`, `candidateWeights`, the readout's `weights`) are the backend's `matrix(...)` arrays.
+ */
 export interface ForwardKernels {
   readonly affineRows: typeof affineRows;
   readonly lstmLayerStep: typeof lstmLayerStep;
@@ -22,6 +25,11 @@ export interface ForwardBackend {
   readonly kernels: ForwardKernels;
   /** An f32 array in this backend's memory, zeroed. */
   floats(length: number): Float32Array;
+  /**
+   * A weight matrix [rows, cols] (row-major `values`) laid out as this backend's layer-step kernels read it: as it
+   * is for JavaScript, packed into 8-column panels for WebAssembly. Only the forward kernels read the result.
+   */
+  matrix(values: ArrayLike<number>, rows: number, cols: number): Float32Array;
   /** Gives back an array made by `floats` that nothing uses any more. */
   release(array: Float32Array): void;
   describe(): string;
@@ -32,6 +40,9 @@ export const javascriptForward: ForwardBackend = Object.freeze({
   kernels: Object.freeze({ affineRows, lstmLayerStep, gruLayerStep, plainLayerStep }),
   floats(length: number): Float32Array {
     return new Float32Array(length);
+  },
+  matrix(values: ArrayLike<number>): Float32Array {
+    return Float32Array.from(values);
   },
   release(): void {
     // Ordinary arrays are collected by the garbage collector.

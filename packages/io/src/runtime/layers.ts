@@ -6,7 +6,8 @@
 import type { ForwardKernels } from '@weft/core/forward/javascript';
 import type { LayerDescription } from '@weft/cells/description';
 
-export type Weights = (name: string, shape: readonly number[]) => Float32Array;
+/** A tensor of the weight file in the runtime backend's memory; `matrix` lays a product's weights out for its kernels. */
+export type Weights = (name: string, shape: readonly number[], matrix?: boolean) => Float32Array;
 
 /** Per-batch working memory of one layer direction. */
 export interface LayerBuffers {
@@ -32,8 +33,8 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
   const hidden = layer.hidden;
   const { gruLayerStep, lstmLayerStep, plainLayerStep } = kernels;
   if (layer.cell === 'lstm') {
-    const input = weights(`${prefix}.input`, [inputSize, 4 * hidden]);
-    const recurrent = weights(`${prefix}.recurrent`, [hidden, 4 * hidden]);
+    const input = weights(`${prefix}.input`, [inputSize, 4 * hidden], true);
+    const recurrent = weights(`${prefix}.recurrent`, [hidden, 4 * hidden], true);
     const bias = weights(`${prefix}.bias`, [4 * hidden]);
     const peephole = layer.peepholes === true ? weights(`${prefix}.peephole`, [3 * hidden]) : null;
     return {
@@ -51,10 +52,10 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
   }
   if (layer.cell === 'gru') {
     const resetAfter = layer.resetAfterProduct === true;
-    const input = weights(`${prefix}.input`, [inputSize, 3 * hidden]);
+    const input = weights(`${prefix}.input`, [inputSize, 3 * hidden], true);
     const bias = weights(`${prefix}.bias`, [3 * hidden]);
-    const recurrent = weights(`${prefix}.recurrent`, [hidden, 2 * hidden]);
-    const candidateWeights = weights(`${prefix}.recurrentCandidate`, [hidden, hidden]);
+    const recurrent = weights(`${prefix}.recurrent`, [hidden, 2 * hidden], true);
+    const candidateWeights = weights(`${prefix}.recurrentCandidate`, [hidden, hidden], true);
     const candidateBias = resetAfter ? weights(`${prefix}.recurrentCandidateBias`, [hidden]) : null;
     return {
       hidden,
@@ -70,8 +71,8 @@ export function makeCell(layer: LayerDescription, inputSize: number, prefix: str
       },
     };
   }
-  const input = weights(`${prefix}.input`, [inputSize, hidden]);
-  const recurrent = weights(`${prefix}.recurrent`, [hidden, hidden]);
+  const input = weights(`${prefix}.input`, [inputSize, hidden], true);
+  const recurrent = weights(`${prefix}.recurrent`, [hidden, hidden], true);
   const bias = weights(`${prefix}.bias`, [hidden]);
   const rectified = layer.activation === 'relu';
   return {

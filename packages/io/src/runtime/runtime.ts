@@ -58,13 +58,14 @@ export class Runtime {
     for (const t of file.tensors) weightBytes += 4 * t.values.length;
     this.backend = backend ?? defaultForward(weightBytes);
     const memory = this.backend;
-    const weights = (name: string, shape: readonly number[]): Float32Array => {
+    const weights = (name: string, shape: readonly number[], matrix = false): Float32Array => {
       const t = tensors.get(name);
       if (t === undefined) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name})`, expected: `a tensor named ${name}, shape [${shape.join(', ')}]`, received: 'none' });
       if (t.shape.join(',') !== shape.join(',')) {
         throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name}).shape`, expected: `[${shape.join(', ')}] (from the model description)`, received: `[${t.shape.join(', ')}]` });
       }
       used.add(name);
+      if (matrix) return memory.matrix(t.values, shape[0], shape[1]);
       const copy = memory.floats(t.values.length);
       copy.set(t.values);
       return copy;
@@ -103,7 +104,7 @@ export class Runtime {
     this.layers = layers;
     this.featureWidth = width;
     if (model.readout !== undefined && model.readout !== null) {
-      this.readoutWeights = weights('readout.weights', [width, model.readout.width]);
+      this.readoutWeights = weights('readout.weights', [width, model.readout.width], true);
       this.readoutBias = weights('readout.bias', [model.readout.width]);
       this.outputWidth = model.readout.width;
     } else {
@@ -280,9 +281,11 @@ export class Streams {
       layers[i].forward.step(x, this.buffers[i], this.count, null, 0);
       x = this.buffers[i].state[0];
     }
-    const out = into ?? this.output;
-    if (out.length !== this.count * runtime.outputWidth) fail('shape_mismatch', 'Streams.step.into', `${this.count * runtime.outputWidth} numbers`, `${out.length}`);
-    return runtime.readout(x, this.count, out, null, this.count);
+    if (into !== undefined && into.length !== this.count * runtime.outputWidth) fail('shape_mismatch', 'Streams.step.into', `${this.count * runtime.outputWidth} numbers`, `${into.length}`);
+    runtime.readout(x, this.count, this.output, null, this.count);
+    if (into === undefined) return this.output;
+    into.set(this.output);
+    return into;
   }
 
   /** Sets one stream's state (or every stream's) back to zero. */

@@ -1,0 +1,127 @@
+/**
+ * Weights packed once for the inference runtime, in the layout the matrix product packs its right operand into
+ * (matmul.ts): panels of 8 columns, k-major, missing columns zero — packed[(panel·inner + k)·8 + c]. A runtime packs
+ * each weight matrix when it is made, so a streaming step reads every panel as one contiguous run (no packing per
+ * step, and no cache-set conflicts from reading a row-major matrix down its columns), and a batch of 4 rows or more
+ * skips matmul's packing of the right operand.
+ */
+import { matmulPackedRight } from './matmul';
+
+// @ts-ignore: decorator
+@inline function at(p: usize, i: i32): usize {
+  return p + (<usize>i << 2);
+}
+
+/** Packs b [inner, cols] (row-major) into 8-column panels; `out` holds ⌈cols/8⌉·8·inner floats. */
+export function packPanels(out: usize, b: usize, inner: i32, cols: i32): void {
+  const panels = (cols + 7) >> 3;
+  for (let panel = 0; panel < panels; panel++) {
+    const base = out + ((<usize>panel * <usize>inner) << 5);
+    for (let k = 0; k < inner; k++) {
+      for (let c = 0; c < 8; c++) {
+        const col = (panel << 3) + c;
+        store<f32>(base + (<usize>k << 5) + (<usize>c << 2), col < cols ? load<f32>(at(b, k * cols + col)) : 0);
+      }
+    }
+  }
+}
+
+/**
+ * out[c] = start[c] (or 0) + Σ_k x[k]·A[k, c] + Σ_k y[k]·B[k, c] for one row, A and B packed; `y` may be 0.
+ * Four panels (32 columns) at a time, then one panel; the last panel's padding columns are not stored.
+ */
+export function rowAffinePacked(out: usize, start: usize, x: usize, a: usize, inner: i32, y: usize, b: usize, innerB: i32, cols: i32): void {
+  const panels = (cols + 7) >> 3;
+  let panel = 0;
+  for (; panel + 4 <= panels && (panel + 4) << 3 <= cols; panel += 4) {
+    let s0 = f32x4.splat(0), s1 = f32x4.splat(0), s2 = f32x4.splat(0), s3 = f32x4.splat(0);
+    let s4 = f32x4.splat(0), s5 = f32x4.splat(0), s6 = f32x4.splat(0), s7 = f32x4.splat(0);
+    const col = panel << 3;
+    if (start != 0) {
+      const p = at(start, col);
+      s0 = v128.load(p); s1 = v128.load(p, 16); s2 = v128.load(p, 32); s3 = v128.load(p, 48);
+      s4 = v128.load(p, 64); s5 = v128.load(p, 80); s6 = v128.load(p, 96); s7 = v128.load(p, 112);
+    }
+    for (let pass = 0; pass < 2; pass++) {
+      const v = pass == 0 ? x : y;
+      const m = pass == 0 ? a : b;
+      const n = pass == 0 ? inner : innerB;
+      if (v == 0) continue;
+      const step = <usize>n << 5;
+      let q = m + ((<usize>panel * <usize>n) << 5);
+      const end = v + (<usize>n << 2);
+      for (let pv = v; pv < end; pv += 4) {
+        const s = f32x4.splat(load<f32>(pv));
+        s0 = f32x4.add(s0, f32x4.mul(s, v128.load(q)));
+        s1 = f32x4.add(s1, f32x4.mul(s, v128.load(q, 16)));
+        const q1 = q + step;
+        s2 = f32x4.add(s2, f32x4.mul(s, v128.load(q1)));
+        s3 = f32x4.add(s3, f32x4.mul(s, v128.load(q1, 16)));
+        const q2 = q1 + step;
+        s4 = f32x4.add(s4, f32x4.mul(s, v128.load(q2)));
+        s5 = f32x4.add(s5, f32x4.mul(s, v128.load(q2, 16)));
+        const q3 = q2 + step;
+        s6 = f32x4.add(s6, f32x4.mul(s, v128.load(q3)));
+        s7 = f32x4.add(s7, f32x4.mul(s, v128.load(q3, 16)));
+        q += 32;
+      }
+    }
+    const o = at(out, col);
+    v128.store(o, s0); v128.store(o, s1, 16); v128.store(o, s2, 32); v128.store(o, s3, 48);
+    v128.store(o, s4, 64); v128.store(o, s5, 80); v128.store(o, s6, 96); v128.store(o, s7, 112);
+  }
+  for (; panel < panels; panel++) {
+    const col = panel << 3;
+    const width = min(8, cols - col);
+    let s0 = f32x4.splat(0), s1 = f32x4.splat(0);
+    for (let pass = 0; pass < 2; pass++) {
+      const v = pass == 0 ? x : y;
+      const m = pass == 0 ? a : b;
+      const n = pass == 0 ? inner : innerB;
+      if (v == 0) continue;
+      let q = m + ((<usize>panel * <usize>n) << 5);
+      const end = v + (<usize>n << 2);
+      for (let pv = v; pv < end; pv += 4) {
+        const s = f32x4.splat(load<f32>(pv));
+        s0 = f32x4.add(s0, f32x4.mul(s, v128.load(q)));
+        s1 = f32x4.add(s1, f32x4.mul(s, v128.load(q, 16)));
+        q += 32;
+      }
+    }
+    if (start != 0) {
+      // The sum starts at `start`, as in the 32-column blocks: add it lane by lane below.
+      for (let c = 0; c < width; c++) {
+        const value = (c < 4 ? extract(s0, c) : extract(s1, c - 4));
+        store<f32>(at(out, col + c), load<f32>(at(start, col + c)) + value);
+      }
+    } else {
+      for (let c = 0; c < width; c++) store<f32>(at(out, col + c), c < 4 ? extract(s0, c) : extract(s1, c - 4));
+    }
+  }
+}
+
+// @ts-ignore: decorator
+@inline function extract(v: v128, lane: i32): f32 {
+  if (lane == 0) return f32x4.extract_lane(v, 0);
+  if (lane == 1) return f32x4.extract_lane(v, 1);
+  if (lane == 2) return f32x4.extract_lane(v, 2);
+  return f32x4.extract_lane(v, 3);
+}
+
+/** out [rows, cols] = start + x·A (+ y·B), A and B packed; start (a bias row) may be 0. */
+export function affinePacked(out: usize, start: usize, x: usize, a: usize, inner: i32, y: usize, b: usize, innerB: i32, rows: i32, cols: i32, scratch: usize): void {
+  if (rows < 4) {
+    for (let r = 0; r < rows; r++) rowAffinePacked(at(out, r * cols), start, at(x, r * inner), a, inner, y == 0 ? 0 : at(y, r * innerB), b, innerB, cols);
+    return;
+  }
+  matmulPackedRight(out, x, a, rows, inner, cols, 0, scratch);
+  if (y != 0) matmulPackedRight(out, y, b, rows, innerB, cols, 1, scratch);
+  if (start != 0) {
+    for (let r = 0; r < rows; r++) {
+      for (let c = 0; c < cols; c++) {
+        const p = at(out, r * cols + c);
+        store<f32>(p, load<f32>(at(start, c)) + load<f32>(p));
+      }
+    }
+  }
+}
