@@ -14,7 +14,7 @@ export default defineConfig({
       { find: /^@weft\/core\/forward\/javascript$/, replacement: source('./packages/core/src/backend/forward-javascript-entry.ts') },
       { find: /^@weft\/cells$/, replacement: source('./packages/cells/src/index.ts') },
       { find: /^@weft\/cells\/kernels$/, replacement: source('./packages/cells/src/kernels/index.ts') },
-      { find: /^@weft\/cells\/description$/, replacement: source('./packages/cells/src/description.ts') },
+      { find: /^@weft\/cells\/description$/, replacement: source('./packages/cells/src/description-entry.ts') },
       { find: /^@weft\/optim$/, replacement: source('./packages/optim/src/index.ts') },
       { find: /^@weft\/io$/, replacement: source('./packages/io/src/index.ts') },
       { find: /^@weft\/io\/runtime$/, replacement: source('./packages/io/src/runtime/index.ts') },

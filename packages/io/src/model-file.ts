@@ -4,7 +4,8 @@
  */
 import { WeftError } from '@weft/core';
 import type { DType, Problem } from '@weft/core';
-import { EncoderDecoderModel, buildModel, isEncoderDecoder } from '@weft/cells';
+import { EncoderDecoderModel, buildModel, isEncoderDecoder, parameterLayout } from '@weft/cells';
+import { layoutProblems } from './layout-check.js';
 import type { BuildOptions, NamedParameter, SequenceModel } from '@weft/cells';
 import type { NamedValues, WeightFile } from './weight-file.js';
 
@@ -23,11 +24,21 @@ export function loadModel(file: WeightFile, options: LoadOptions = {}): Sequence
   if (isEncoderDecoder(file.model)) {
     throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: 'a sequence model (use loadEncoderDecoder for this file)', received: '"encoder-decoder"' });
   }
+  checkBeforeBuilding(file);
   return fill(buildModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells }), file);
+}
+
+/** With built-in cells only, the file is checked against its layout before any model is built from it. */
+function checkBeforeBuilding(file: WeightFile): void {
+  const layout = parameterLayout(file.model);
+  if (!layout.builtIn) return;
+  const problems = layoutProblems(file.tensors, layout.parameters);
+  if (problems.length > 0) throw new WeftError(problems);
 }
 
 /** An encoder-decoder model with the weight file's values. */
 export function loadEncoderDecoder(file: WeightFile, options: LoadOptions = {}): EncoderDecoderModel {
+  checkBeforeBuilding(file);
   return fill(new EncoderDecoderModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells }), file);
 }
 

@@ -9,8 +9,10 @@
  * - `run(...)`: a whole batch of sequences in weft's time-major layout, ragged lengths allowed, any model.
  */
 import { WeftError, fail } from '@weft/core';
+import type { Problem } from '@weft/core';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
-import { isEncoderDecoder } from '@weft/cells/description';
+import { isEncoderDecoder, modelLayout } from '@weft/cells/description';
+import { layoutProblems } from '../layout-check.js';
 import { defaultForward } from './forward-default.js';
 import type { ModelDescription } from '@weft/cells/description';
 import type { WeightFile, WeightMetadata } from '../weight-file.js';
@@ -52,56 +54,57 @@ export class Runtime {
    * JavaScript; the `@weft/io/runtime/javascript` entry defaults to JavaScript and carries no WebAssembly).
    */
   constructor(file: WeightFile, backend?: ForwardBackend) {
+    const model = file.model;
+    if (isEncoderDecoder(model)) {
+      throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: 'a sequence model (use createEncoderDecoderRuntime for this file)', received: '"encoder-decoder"' });
+    }
+    // Every problem of the file against its description's layout, collected, before any memory is taken.
+    const problems: Problem[] = [];
+    model.layers.forEach((layer, i) => {
+      if (!['lstm', 'gru', 'plain'].includes(layer.cell)) {
+        problems.push({ code: 'bad_weight_file', path: `model.layers[${i}].cell`, expected: "a built-in cell ('lstm', 'gru', 'plain') for the runtime", received: layer.cell });
+      }
+    });
+    if (problems.length > 0) throw new WeftError(problems);
+    const layout = modelLayout(model);
+    problems.push(...layoutProblems(file.tensors, layout.parameters));
+    if (problems.length > 0) throw new WeftError(problems);
+
     const tensors = new Map(file.tensors.map((t) => [t.name, t]));
-    const used = new Set<string>();
     let weightBytes = 0;
     for (const t of file.tensors) weightBytes += 4 * t.values.length;
     this.backend = backend ?? defaultForward(weightBytes);
     const memory = this.backend;
     const weights = (name: string, shape: readonly number[], matrix = false): Float32Array => {
-      const t = tensors.get(name);
-      if (t === undefined) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name})`, expected: `a tensor named ${name}, shape [${shape.join(', ')}]`, received: 'none' });
-      if (t.shape.join(',') !== shape.join(',')) {
-        throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name}).shape`, expected: `[${shape.join(', ')}] (from the model description)`, received: `[${t.shape.join(', ')}]` });
-      }
-      used.add(name);
-      if (matrix) return memory.matrix(t.values, shape[0], shape[1]);
-      const copy = memory.floats(t.values.length);
-      copy.set(t.values);
+      const values = (tensors.get(name) as WeightFile['tensors'][number]).values;
+      if (matrix) return memory.matrix(values, shape[0], shape[1]);
+      const copy = memory.floats(values.length);
+      copy.set(values);
       return copy;
     };
-    const model = file.model;
-    if (isEncoderDecoder(model)) {
-      throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: 'a sequence model (use createEncoderDecoderRuntime for this file)', received: '"encoder-decoder"' });
-    }
     this.model = model;
     this.metadata = file.metadata;
     const input = model.input;
-    let width: number;
     if (input.kind === 'embedding') {
       this.embedding = weights('embedding.table', [input.vocabulary, input.width]);
       this.embeddingWidth = input.width;
       this.vocabularySize = input.vocabulary;
       this.inputWidth = 0;
-      width = input.width;
     } else {
       this.embedding = null;
       this.embeddingWidth = 0;
       this.vocabularySize = 0;
       this.inputWidth = input.width;
-      width = input.width;
     }
     const layers: RuntimeLayer[] = [];
     model.layers.forEach((layer, i) => {
-      if (!['lstm', 'gru', 'plain'].includes(layer.cell)) {
-        throw new WeftError({ code: 'bad_weight_file', path: `model.layers[${i}].cell`, expected: "a built-in cell ('lstm', 'gru', 'plain') for the runtime", received: layer.cell });
-      }
-      const forward = makeCell(layer, width, `layers.${i}.forward`, weights, this.backend.kernels);
-      const backward = layer.bidirectional === true ? makeCell(layer, width, `layers.${i}.backward`, weights, this.backend.kernels) : null;
-      width = layer.hidden * (backward === null ? 1 : 2);
-      layers.push({ forward, backward, width });
+      const { inputWidth, outputWidth } = layout.layers[i];
+      const forward = makeCell(layer, inputWidth, `layers.${i}.forward`, weights, this.backend.kernels);
+      const backward = layer.bidirectional === true ? makeCell(layer, inputWidth, `layers.${i}.backward`, weights, this.backend.kernels) : null;
+      layers.push({ forward, backward, width: outputWidth });
     });
     this.layers = layers;
+    const width = layers.length > 0 ? layers[layers.length - 1].width : input.width;
     this.featureWidth = width;
     if (model.readout !== undefined && model.readout !== null) {
       this.readoutWeights = weights('readout.weights', [width, model.readout.width], true);
@@ -111,9 +114,6 @@ export class Runtime {
       this.readoutWeights = null;
       this.readoutBias = null;
       this.outputWidth = width;
-    }
-    for (const name of tensors.keys()) {
-      if (!used.has(name)) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${name})`, expected: 'only tensors the model description names', received: name });
     }
     this.streamable = layers.every((l) => l.backward === null);
   }

@@ -1,0 +1,110 @@
+/**
+ * The layout of a described model: every parameter's name and shape, in the model's parameter order, and each
+ * layer's input and output width, computed from the description alone (nothing is allocated). One function serves
+ * model building (its parameters are checked against this in the cells tests), the weight-file loaders (a file is
+ * checked against it before any model is built) and the inference runtime (which takes its tensors by it).
+ *
+ * Per built-in cell, with input width I and hidden size H (gate orders as in each cell's file):
+ *   lstm   input [I, 4H], recurrent [H, 4H], bias [4H], peephole [3H] (with peepholes)
+ *   gru    input [I, 3H], bias [3H], recurrent [H, 2H], recurrentCandidate [H, H],
+ *          recurrentCandidateBias [H] (with resetAfterProduct)
+ *   plain  input [I, H], recurrent [H, H], bias [H]
+ * around them `embedding.table` [vocabulary, width] first and `readout.weights` [F, W], `readout.bias` [W] last,
+ * where F is the last layer's output width (2H for a bidirectional layer). Names are `layers.<i>.<direction>.<name>`.
+ */
+import type { AnyModelDescription, LayerDescription, ModelDescription } from './description.js';
+import { isEncoderDecoder } from './description.js';
+
+export interface ParameterLayout {
+  /** The parameter's stable name, as in weight files (`layers.0.forward.input`). */
+  readonly name: string;
+  readonly shape: readonly number[];
+}
+
+export interface LayerLayout {
+  readonly inputWidth: number;
+  /** hidden × directions. */
+  readonly outputWidth: number;
+}
+
+export interface ModelLayout {
+  readonly parameters: readonly ParameterLayout[];
+  readonly layers: readonly LayerLayout[];
+  /** Width of what the model outputs: the readout's, else the last layer's. */
+  readonly outputWidth: number;
+  /** False when a layer's cell is not built in (its parameters are then the cell's own business). */
+  readonly builtIn: boolean;
+}
+
+/** The parameters of one built-in cell of `layer` with `inputWidth` inputs, by their names within the cell. */
+export function cellLayout(layer: LayerDescription, inputWidth: number): ParameterLayout[] | null {
+  const h = layer.hidden;
+  if (layer.cell === 'lstm') {
+    const list = [
+      { name: 'input', shape: [inputWidth, 4 * h] },
+      { name: 'recurrent', shape: [h, 4 * h] },
+      { name: 'bias', shape: [4 * h] },
+    ];
+    if (layer.peepholes === true) list.push({ name: 'peephole', shape: [3 * h] });
+    return list;
+  }
+  if (layer.cell === 'gru') {
+    const list = [
+      { name: 'input', shape: [inputWidth, 3 * h] },
+      { name: 'bias', shape: [3 * h] },
+      { name: 'recurrent', shape: [h, 2 * h] },
+      { name: 'recurrentCandidate', shape: [h, h] },
+    ];
+    if (layer.resetAfterProduct === true) list.push({ name: 'recurrentCandidateBias', shape: [h] });
+    return list;
+  }
+  if (layer.cell === 'plain') {
+    return [
+      { name: 'input', shape: [inputWidth, h] },
+      { name: 'recurrent', shape: [h, h] },
+      { name: 'bias', shape: [h] },
+    ];
+  }
+  return null;
+}
+
+/** The layout of a checked sequence-model description (see checkDescription). */
+export function modelLayout(description: ModelDescription): ModelLayout {
+  const parameters: ParameterLayout[] = [];
+  const layers: LayerLayout[] = [];
+  let builtIn = true;
+  const input = description.input;
+  if (input.kind === 'embedding') parameters.push({ name: 'embedding.table', shape: [input.vocabulary, input.width] });
+  let width = input.width;
+  description.layers.forEach((layer, i) => {
+    const directions = layer.bidirectional === true ? ['forward', 'backward'] : ['forward'];
+    for (const direction of directions) {
+      const cell = cellLayout(layer, width);
+      if (cell === null) builtIn = false;
+      else for (const p of cell) parameters.push({ name: `layers.${i}.${direction}.${p.name}`, shape: p.shape });
+    }
+    const outputWidth = layer.hidden * directions.length;
+    layers.push({ inputWidth: width, outputWidth });
+    width = outputWidth;
+  });
+  const readout = description.readout;
+  if (readout !== undefined && readout !== null) {
+    parameters.push({ name: 'readout.weights', shape: [width, readout.width] }, { name: 'readout.bias', shape: [readout.width] });
+    width = readout.width;
+  }
+  return { parameters, layers, outputWidth: width, builtIn };
+}
+
+/** The parameters of either kind of checked description (an encoder-decoder's are `encoder.…` then `decoder.…`). */
+export function parameterLayout(description: AnyModelDescription): { readonly parameters: readonly ParameterLayout[]; readonly builtIn: boolean } {
+  if (!isEncoderDecoder(description)) return modelLayout(description);
+  const encoder = modelLayout(description.encoder);
+  const decoder = modelLayout(description.decoder);
+  return {
+    parameters: [
+      ...encoder.parameters.map((p) => ({ name: `encoder.${p.name}`, shape: p.shape })),
+      ...decoder.parameters.map((p) => ({ name: `decoder.${p.name}`, shape: p.shape })),
+    ],
+    builtIn: encoder.builtIn && decoder.builtIn,
+  };
+}

@@ -1,0 +1,52 @@
+/**
+ * A weight file is checked against the layout its description implies before anything is built from it: the
+ * runtime and `loadModel` report every missing tensor, wrong shape and stray tensor at once, and a file whose
+ * description claims a model far larger than its tensors is refused without building that model.
+ */
+import { describe, expect, it } from 'vitest';
+import { WeftError } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { loadModel, modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
+import { Runtime } from '@weft/io/runtime';
+
+const description = { input: { kind: 'values' as const, width: 3 }, layers: [{ cell: 'gru' as const, hidden: 4 }], readout: { width: 2 } };
+
+async function fileWith(tensors: { name: string; shape: number[]; values: Float32Array }[], model: object = description) {
+  return readWeightFile(await writeWeightFile(model as typeof description, tensors));
+}
+
+describe('checking a weight file against its layout', () => {
+  it('collects every problem of the file in one error, in the runtime and in loadModel alike', async () => {
+    const good = modelTensors(buildModel(description, { seed: 1 })).map((t) => ({ name: t.name, shape: [...t.shape], values: Float32Array.from(t.values) }));
+    const broken = good
+      .filter((t) => t.name !== 'readout.bias')
+      .map((t) => (t.name === 'layers.0.forward.recurrent' ? { ...t, shape: [4, 7], values: new Float32Array(28) } : t));
+    broken.push({ name: 'extra', shape: [1], values: new Float32Array(1) });
+    const file = await fileWith(broken);
+    const expected = [
+      'Bad weight file at tensors (layers.0.forward.recurrent).shape: expected [4, 8] (from the model description), received [4, 7]',
+      'Bad weight file at tensors (readout.bias): expected a tensor named readout.bias, shape [2], received none',
+      'Bad weight file at tensors (extra): expected only tensors the model description names, received extra',
+    ];
+    for (const attempt of [() => new Runtime(file), () => loadModel(file)]) {
+      let error: unknown;
+      try {
+        attempt();
+      } catch (caught) {
+        error = caught;
+      }
+      expect(error).toBeInstanceOf(WeftError);
+      expect((error as WeftError).message).toBe(`3 problems:\n${expected.map((line) => `  - ${line}`).join('\n')}`);
+    }
+  });
+
+  it('refuses a small file that describes a model of hidden 20000 without building it', async () => {
+    const tensors = modelTensors(buildModel(description, { seed: 1 })).map((t) => ({ name: t.name, shape: [...t.shape], values: Float32Array.from(t.values) }));
+    const file = await fileWith(tensors, { ...description, layers: [{ cell: 'lstm', hidden: 20000 }] });
+    const before = process.memoryUsage().rss;
+    expect(() => loadModel(file)).toThrowError(/^\d+ problems:\n {2}- Bad weight file at tensors \(layers\.0\.forward\.input\)/);
+    expect(() => new Runtime(file)).toThrowError(/^\d+ problems:\n {2}- Bad weight file at tensors \(layers\.0\.forward\.input\)/);
+    // An LSTM of hidden 20000 would need 6.4 GB for its recurrent matrix alone.
+    expect(process.memoryUsage().rss - before).toBeLessThan(200 * 1024 * 1024);
+  });
+});
