@@ -5,6 +5,13 @@
  *
  * Decision these numbers led to: a single stream reads each weight matrix in place (no packing for fewer than four
  * rows), so a step costs about as much as its matrix-vector products.
+ *
+ * On WebAssembly a layer step is one call (products, bias and gates fused, weights packed once into 8-column
+ * panels): the LSTM at 32 inputs and 64 hidden took 5.9 µs against 45 on JavaScript (7.7×), 10× at 64 and 256;
+ * at the small sizes the products are bound by instruction count (standard WebAssembly SIMD has no fused
+ * multiply-add) and the gates' transcendentals take a quarter of the step, which keeps them under 8×.
+ * Two bundles are counted: `runtime.bundle-gzip-bytes` (with the forward WebAssembly module, budget 20 KiB) and
+ * `runtime.javascript.bundle-gzip-bytes` (`@weft/io/runtime/javascript`, budget 12 KiB).
  */
 import { gzipSync } from 'node:zlib';
 import { fileURLToPath } from 'node:url';

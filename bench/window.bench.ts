@@ -7,6 +7,10 @@
  * Decision these numbers led to: the fused cells project the whole window's inputs in one product and run one
  * tape node per step; see the results file for how far that puts them ahead of the composed twins and how close
  * the LSTM window comes to the bare matrix-product rate.
+ *
+ * On the WebAssembly backend the LSTM window ran at 0.77 of the bare product rate (≥ 0.6 asked) and 8.8× the
+ * JavaScript backend: the step kernels' SIMD transcendentals keep the non-product share small, so the fused cells
+ * stay one tape node per step rather than fusing the products into the step.
  */
 import { Random, Tape, randomUniform, resetGradients } from '@weft/core';
 import { GruCell, LstmCell, runSequence } from '@weft/cells';

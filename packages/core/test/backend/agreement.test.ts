@@ -190,3 +190,78 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
     }
   });
 });
+
+describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against their JavaScript twins', () => {
+  it('agree on the LSTM, GRU (both forms) and plain layer steps and the readout, one row and five rows, ragged', async () => {
+    const { createForwardWebAssembly, javascriptForward } = await import('@weft/core/forward');
+    const wasm = createForwardWebAssembly({ memoryBytes: 8 * 1048576 });
+    const random = new Random('layers');
+    const values = (n: number, scale = 0.5): number[] => Array.from({ length: n }, () => random.between(-scale, scale));
+    let worst = 0;
+    const compare = (a: Float32Array, b: Float32Array): void => {
+      worst = Math.max(worst, worstDifference(a, b));
+    };
+    for (const rows of [1, 5]) {
+      const inputSize = 7;
+      const size = 13;
+      const lengths = rows === 1 ? null : Int32Array.from({ length: rows }, (_, b) => b % 3);
+      // The same inputs, weights and state on each backend, weights through each backend's matrix layout.
+      const make = (backend: typeof javascriptForward, list: number[]) => {
+        const array = backend.floats(list.length);
+        array.set(list);
+        return array;
+      };
+      const x = values(rows * inputSize);
+      const h = values(rows * size);
+      const c = values(rows * size);
+      const w4 = values(inputSize * 4 * size);
+      const r4 = values(size * 4 * size);
+      const b4 = values(4 * size);
+      const p3 = values(3 * size);
+      const sides = [wasm, javascriptForward].map((backend) => {
+        const hidden = make(backend, h);
+        const cell = make(backend, c);
+        backend.kernels.lstmLayerStep(make(backend, x), backend.matrix(w4, inputSize, 4 * size), backend.matrix(r4, size, 4 * size), make(backend, b4),
+          make(backend, p3), hidden, cell, backend.floats(rows * 4 * size), backend.floats(rows * size), rows, inputSize, size, lengths, 1);
+        return [hidden, cell];
+      });
+      compare(sides[0][0], sides[1][0]);
+      compare(sides[0][1], sides[1][1]);
+      const w3 = values(inputSize * 3 * size);
+      const b3 = values(3 * size);
+      const r2 = values(size * 2 * size);
+      const rn = values(size * size);
+      const bn = values(size);
+      for (const resetAfter of [false, true]) {
+        const gru = [wasm, javascriptForward].map((backend) => {
+          const hidden = make(backend, h);
+          backend.kernels.gruLayerStep(make(backend, x), backend.matrix(w3, inputSize, 3 * size), make(backend, b3), backend.matrix(r2, size, 2 * size),
+            backend.matrix(rn, size, size), resetAfter ? make(backend, bn) : null, hidden, backend.floats(rows * 3 * size), backend.floats(rows * 3 * size),
+            backend.floats(rows * 2 * size), backend.floats(rows * size), backend.floats(rows * size), rows, inputSize, size, lengths, 1);
+          return hidden;
+        });
+        compare(gru[0], gru[1]);
+      }
+      const w1 = values(inputSize * size);
+      for (const rectified of [false, true]) {
+        const plain = [wasm, javascriptForward].map((backend) => {
+          const hidden = make(backend, h);
+          backend.kernels.plainLayerStep(make(backend, x), backend.matrix(w1, inputSize, size), backend.matrix(rn, size, size),
+            make(backend, bn), hidden, backend.floats(rows * size), rectified, rows, inputSize, size, lengths, 1);
+          return hidden;
+        });
+        compare(plain[0], plain[1]);
+      }
+      const readout = values(size * 3);
+      const readoutBias = values(3);
+      const outs = [wasm, javascriptForward].map((backend) => {
+        const out = backend.floats(rows * 3);
+        backend.kernels.affineRows(out, make(backend, readoutBias), make(backend, h), backend.matrix(readout, size, 3), rows, size, 3);
+        return out;
+      });
+      compare(outs[0], outs[1]);
+    }
+    console.log(`layer steps worst difference: ${worst.toExponential(2)}`);
+    expect(worst).toBeLessThanOrEqual(1e-5);
+  });
+});
