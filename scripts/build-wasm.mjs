@@ -4,13 +4,44 @@
 // and the browser load the same bytes with no file access. The generated files are build output: git ignores
 // them, and no .wasm file is ever written. Run by `npm run build` and `npm test` before tsc.
 import { readdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
-import { dirname, join } from 'node:path';
+import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import asc from 'assemblyscript/asc';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..');
 const sourceFolder = join(root, 'packages/core/wasm');
 const outputFolder = join(root, 'packages/core/src/backend');
+/**
+ * Lane loops, written once in the sources as
+ *     for (let j = 0; j < n; ) {
+ *       const full = j + 4 <= n;
+ *       …body…
+ *       j += full ? 4 : 1;
+ *     }
+ * become a vector loop with `full` constant true (so load4/store4 fold to plain vector loads and stores) and a
+ * scalar tail with `full` false, whose transcendentals are calls (sigmoidCall4, tanhCall4) to keep the module
+ * small. In steps.ts (the gate arithmetic, bound by chains of dependent operations) the vector loop first runs two
+ * vectors per turn. The agreement tests check the expanded kernels against their JavaScript twins.
+ */
+const laneLoop = /(?<indent>[ ]*)for \(let (?<v>\w+) = 0; \k<v> < (?<n>[\w ]+); \) \{\n\k<indent>  const full = \k<v> \+ 4 <= \k<n>;\n(?<body>[\s\S]*?)\n\k<indent>  \k<v> \+= full \? 4 : 1;\n\k<indent>\}/g;
+
+function expandLaneLoops(text, twoPerTurn) {
+  return text.replace(laneLoop, (...match) => {
+    const { indent, v, n, body } = match[match.length - 1];
+    const nested = (block) => block.split('\n').map((line) => (line === '' ? line : `  ${line}`)).join('\n');
+    const tail = body.replaceAll('sigmoid4(', 'sigmoidCall4(').replaceAll('tanh4(', 'tanhCall4(');
+    let out = `${indent}let ${v} = 0;\n`;
+    if (twoPerTurn) {
+      const second = body.replace(new RegExp(`\\b${v}\\b`, 'g'), `${v}Next`);
+      out += `${indent}for (; ${v} + 8 <= ${n}; ${v} += 8) {\n${indent}  {\n${indent}    const full = true;\n${nested(body)}\n${indent}  }\n`
+        + `${indent}  {\n${indent}    const full = true;\n${indent}    const ${v}Next = ${v} + 4;\n${nested(second)}\n${indent}  }\n${indent}}\n`;
+    }
+    out += `${indent}for (; ${v} + 4 <= ${n}; ${v} += 4) {\n${indent}  const full = true;\n${body}\n${indent}}\n`;
+    out += `${indent}for (; ${v} < ${n}; ${v}++) {\n${indent}  const full = false;\n${tail}\n${indent}}`;
+    return out;
+  });
+}
+
 const sources = Object.fromEntries(
   readdirSync(sourceFolder).filter((name) => name.endsWith('.ts')).map((name) => [name, readFileSync(join(sourceFolder, name), 'utf8')]),
 );
@@ -38,6 +69,17 @@ for (const module of modules) {
     join(sourceFolder, module.entry), '--outFile', 'module.wasm', '-O3', '--runtime', 'stub', '--enable', 'simd',
     '--importMemory', '--noAssert', '--noExportMemory',
   ], {
+    readFile: (name, baseDir) => {
+      const path = resolve(baseDir, name);
+      let text;
+      try {
+        text = readFileSync(path, 'utf8');
+      } catch {
+        return null;
+      }
+      if (!path.startsWith(sourceFolder)) return text;
+      return expandLaneLoops(text, path.endsWith('steps.ts'));
+    },
     writeFile: (name, contents) => { if (name.endsWith('.wasm')) bytes = contents; },
     stdout: { write: () => true },
     stderr: { write: (text) => { errors.push(String(text)); return true; } },

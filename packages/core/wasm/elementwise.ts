@@ -5,7 +5,11 @@
  * operation on two f32 values rounded to f32 is the correctly rounded f32 operation), so these agree bit for bit;
  * `scale` and `addScaledInto` work in f64 for the same reason. The activations use the approximations of math.ts.
  */
-import { exp4, load4, sigmoid4, store4, tanh4 } from './math';
+// @ts-ignore: sigmoidCall4 and tanhCall4 are used by the expanded loops
+import { exp4, load4, sigmoid4, sigmoidCall4, store4, tanh4, tanhCall4 } from './math';
+
+// Lane loops here are expanded by scripts/build-wasm.mjs into a one-vector loop and a scalar tail (see steps.ts);
+// this file asks for no doubling: its loops are bound by memory, not by chains of arithmetic.
 
 // @ts-ignore: decorator
 @inline function at(p: usize, i: i32): usize {
@@ -13,50 +17,34 @@ import { exp4, load4, sigmoid4, store4, tanh4 } from './math';
 }
 
 export function add(out: usize, a: usize, b: usize, length: i32): void {
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     store4(at(out, i), f32x4.add(load4(at(a, i), full), load4(at(b, i), full)), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    store4(at(out, i), f32x4.add(load4(at(a, i), full), load4(at(b, i), full)), full);
+    i += full ? 4 : 1;
   }
 }
 
 export function subtract(out: usize, a: usize, b: usize, length: i32): void {
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     store4(at(out, i), f32x4.sub(load4(at(a, i), full), load4(at(b, i), full)), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    store4(at(out, i), f32x4.sub(load4(at(a, i), full), load4(at(b, i), full)), full);
+    i += full ? 4 : 1;
   }
 }
 
 export function multiply(out: usize, a: usize, b: usize, length: i32): void {
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     store4(at(out, i), f32x4.mul(load4(at(a, i), full), load4(at(b, i), full)), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    store4(at(out, i), f32x4.mul(load4(at(a, i), full), load4(at(b, i), full)), full);
+    i += full ? 4 : 1;
   }
 }
 
 export function addInto(out: usize, a: usize, length: i32): void {
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     store4(at(out, i), f32x4.add(load4(at(out, i), full), load4(at(a, i), full)), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    store4(at(out, i), f32x4.add(load4(at(out, i), full), load4(at(a, i), full)), full);
+    i += full ? 4 : 1;
   }
 }
 
@@ -83,14 +71,10 @@ export function addScaledInto(out: usize, a: usize, s: f64, length: i32): void {
 export function addRow(out: usize, a: usize, row: usize, rows: i32, cols: i32): void {
   for (let r = 0; r < rows; r++) {
     const base = r * cols;
-    let c = 0;
-    for (; c + 4 <= cols; c += 4) {
-      const full = true;
+    for (let c = 0; c < cols; ) {
+      const full = c + 4 <= cols;
       store4(at(out, base + c), f32x4.add(load4(at(a, base + c), full), load4(at(row, c), full)), full);
-    }
-    for (; c < cols; c++) {
-      const full = false;
-      store4(at(out, base + c), f32x4.add(load4(at(a, base + c), full), load4(at(row, c), full)), full);
+      c += full ? 4 : 1;
     }
   }
 }
@@ -100,86 +84,58 @@ export function sumRows(out: usize, a: usize, rows: i32, cols: i32, accumulate: 
   if (!accumulate) memory.fill(out, 0, <usize>cols << 2);
   for (let r = 0; r < rows; r++) {
     const base = r * cols;
-    let c = 0;
-    for (; c + 4 <= cols; c += 4) {
-      const full = true;
+    for (let c = 0; c < cols; ) {
+      const full = c + 4 <= cols;
       store4(at(out, c), f32x4.add(load4(at(out, c), full), load4(at(a, base + c), full)), full);
-    }
-    for (; c < cols; c++) {
-      const full = false;
-      store4(at(out, c), f32x4.add(load4(at(out, c), full), load4(at(a, base + c), full)), full);
+      c += full ? 4 : 1;
     }
   }
 }
 
 export function sigmoid(out: usize, a: usize, length: i32): void {
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     store4(at(out, i), sigmoid4(load4(at(a, i), full)), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    store4(at(out, i), sigmoid4(load4(at(a, i), full)), full);
+    i += full ? 4 : 1;
   }
 }
 
 export function tanh(out: usize, a: usize, length: i32): void {
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     store4(at(out, i), tanh4(load4(at(a, i), full)), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    store4(at(out, i), tanh4(load4(at(a, i), full)), full);
+    i += full ? 4 : 1;
   }
 }
 
 export function exp(out: usize, a: usize, length: i32): void {
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     store4(at(out, i), exp4(load4(at(a, i), full)), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    store4(at(out, i), exp4(load4(at(a, i), full)), full);
+    i += full ? 4 : 1;
   }
 }
 
 /** inputGradient += outputGradient · y(1 − y). */
 export function sigmoidGradientInto(inputGradient: usize, outputGradient: usize, y: usize, length: i32): void {
   const one = f32x4.splat(1);
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     const v = load4(at(y, i), full);
     const d = f32x4.mul(f32x4.mul(load4(at(outputGradient, i), full), v), f32x4.sub(one, v));
     store4(at(inputGradient, i), f32x4.add(load4(at(inputGradient, i), full), d), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    const v = load4(at(y, i), full);
-    const d = f32x4.mul(f32x4.mul(load4(at(outputGradient, i), full), v), f32x4.sub(one, v));
-    store4(at(inputGradient, i), f32x4.add(load4(at(inputGradient, i), full), d), full);
+    i += full ? 4 : 1;
   }
 }
 
 /** inputGradient += outputGradient · (1 − y²). */
 export function tanhGradientInto(inputGradient: usize, outputGradient: usize, y: usize, length: i32): void {
   const one = f32x4.splat(1);
-  let i = 0;
-  for (; i + 4 <= length; i += 4) {
-    const full = true;
+  for (let i = 0; i < length; ) {
+    const full = i + 4 <= length;
     const v = load4(at(y, i), full);
     const d = f32x4.mul(load4(at(outputGradient, i), full), f32x4.sub(one, f32x4.mul(v, v)));
     store4(at(inputGradient, i), f32x4.add(load4(at(inputGradient, i), full), d), full);
-  }
-  for (; i < length; i++) {
-    const full = false;
-    const v = load4(at(y, i), full);
-    const d = f32x4.mul(load4(at(outputGradient, i), full), f32x4.sub(one, f32x4.mul(v, v)));
-    store4(at(inputGradient, i), f32x4.add(load4(at(inputGradient, i), full), d), full);
+    i += full ? 4 : 1;
   }
 }
