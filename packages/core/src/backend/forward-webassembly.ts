@@ -8,9 +8,9 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { WeftError } from '../errors.js';
-import { decodeBase64Bytes } from './bytes.js';
 import type { ForwardBackend, ForwardKernels } from './forward.js';
 import { LinearMemory } from './memory.js';
+import { KernelWorkspace, checkReservation, compileModule, moduleUnavailable } from './module.js';
 import { runtimeModuleBase64 } from './wasm-runtime.generated.js';
 
 type Kernel = (...args: number[]) => void;
@@ -26,51 +26,19 @@ let compiled: WebAssembly.Module | null = null;
 
 /** Why the runtime's WebAssembly SIMD backend cannot run here, or null when it can. */
 export function forwardWebAssemblyUnavailable(): string | null {
-  if (typeof WebAssembly !== 'object' || typeof WebAssembly.validate !== 'function') return 'this platform has no WebAssembly';
-  try {
-    if (!WebAssembly.validate(decodeBase64Bytes(runtimeModuleBase64))) return 'this platform does not validate WebAssembly SIMD (128-bit) modules';
-  } catch (error) {
-    return `WebAssembly refused the module (${(error as Error).message})`;
-  }
-  return null;
+  return moduleUnavailable(runtimeModuleBase64);
 }
 
 export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}): ForwardBackend {
-  if (compiled === null) {
-    const missing = forwardWebAssemblyUnavailable();
-    if (missing !== null) {
-      throw new WeftError({ code: 'backend_unavailable', path: 'backend webassembly', expected: 'a platform that runs WebAssembly SIMD', received: missing, detail: "use the 'javascript' backend" });
-    }
-    compiled = new WebAssembly.Module(decodeBase64Bytes(runtimeModuleBase64));
-  }
-  const bytes = options.memoryBytes ?? 16 * 1048576 + 4 * (options.weightBytes ?? 0);
-  if (!Number.isInteger(bytes) || bytes < 65536 || bytes > 4 * 1073741824 - 65536) {
-    throw new WeftError({ code: 'invalid_option', path: 'runtime.memoryBytes', expected: 'a whole number of bytes in [65536, 4294901760]', received: String(bytes) });
-  }
+  compiled ??= compileModule(runtimeModuleBase64);
+  const bytes = checkReservation(options.memoryBytes ?? 16 * 1048576 + 4 * (options.weightBytes ?? 0), 'runtime.memoryBytes');
   const memory = new LinearMemory(bytes);
   const x = new WebAssembly.Instance(compiled, { env: { memory: memory.memory } }).exports as unknown as Readonly<Record<string, Kernel>>;
   const buffer = memory.buffer;
   const mine = (a: FloatArray): boolean => a.buffer === buffer;
-  let lengthsCopy = memory.integers(64);
-  let scratchOffset = 0;
-  let scratchBytes = 0;
-  const scratch = (floats: number): number => {
-    if (floats * 4 > scratchBytes) {
-      if (scratchBytes > 0) memory.release(scratchOffset, scratchBytes);
-      scratchBytes = Math.max(4096, 2 * scratchBytes, floats * 4);
-      scratchOffset = memory.allocate(scratchBytes);
-    }
-    return scratchOffset;
-  };
-  const lengths = (values: Int32Array | null, rows: number): number => {
-    if (values === null) return 0;
-    if (lengthsCopy.length < rows) {
-      memory.release(lengthsCopy.byteOffset, lengthsCopy.length * 4);
-      lengthsCopy = memory.integers(Math.max(rows, 2 * lengthsCopy.length));
-    }
-    for (let b = 0; b < rows; b++) lengthsCopy[b] = values[b];
-    return lengthsCopy.byteOffset;
-  };
+  const workspace = new KernelWorkspace(memory);
+  const scratch = (floats: number): number => workspace.scratch(floats);
+  const lengths = (values: Int32Array | null, rows: number): number => workspace.lengths(values, rows);
   // The weights are packed for these kernels, so an array from elsewhere cannot be run on the JavaScript twins.
   const foreign = (kernel: string): never => {
     throw new WeftError({ code: 'backend_mismatch', path: `runtime ${kernel}`, expected: "arrays of this runtime's webassembly memory (made by its backend)", received: 'an array from elsewhere' });

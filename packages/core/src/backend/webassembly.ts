@@ -13,15 +13,14 @@
  * that grow to the largest size asked of them (old blocks go back to the memory for reuse).
  */
 import type { FloatArray } from '../dtype.js';
-import { WeftError } from '../errors.js';
 import { BufferPool } from '../pool.js';
 import type { Backend } from './backend.js';
 import { registerMemory } from './backend.js';
 import type { KernelTable } from './kernel-table.js';
 import { javascriptKernels } from './kernel-table.js';
 import { LinearMemory } from './memory.js';
+import { KernelWorkspace, checkReservation, compileModule, moduleUnavailable } from './module.js';
 import { trainingModuleBase64 } from './wasm-training.generated.js';
-import { decodeBase64Bytes } from './bytes.js';
 
 type Pointer = number;
 type Kernel = (...args: number[]) => void;
@@ -37,41 +36,20 @@ export interface WebAssemblyBackendOptions {
 }
 
 const DEFAULT_MEMORY_BYTES = 256 * 1024 * 1024;
-const MAX_MEMORY_BYTES = 4 * 1024 * 1024 * 1024 - 65536;
 
 let compiled: WebAssembly.Module | null = null;
 
 /** Why a WebAssembly SIMD backend cannot be made here, or null when it can. */
 export function webAssemblyUnavailable(): string | null {
-  if (typeof WebAssembly !== 'object' || typeof WebAssembly.validate !== 'function') return 'this platform has no WebAssembly';
-  try {
-    if (!WebAssembly.validate(decodeBase64Bytes(trainingModuleBase64))) return 'this platform does not validate WebAssembly SIMD (128-bit) modules';
-  } catch (error) {
-    return `WebAssembly refused the module (${(error as Error).message})`;
-  }
-  return null;
-}
-
-function module(): WebAssembly.Module {
-  if (compiled === null) {
-    const missing = webAssemblyUnavailable();
-    if (missing !== null) {
-      throw new WeftError({ code: 'backend_unavailable', path: 'backend webassembly', expected: 'a platform that runs WebAssembly SIMD', received: missing, detail: "use the 'javascript' backend" });
-    }
-    compiled = new WebAssembly.Module(decodeBase64Bytes(trainingModuleBase64));
-  }
-  return compiled;
+  return moduleUnavailable(trainingModuleBase64);
 }
 
 const pointer = (array: FloatArray | Int32Array | null): Pointer => (array === null ? 0 : array.byteOffset);
 
 export function createWebAssemblyBackend(options: WebAssemblyBackendOptions = {}): Backend {
-  const bytes = options.memoryBytes ?? DEFAULT_MEMORY_BYTES;
-  if (typeof bytes !== 'number' || !Number.isInteger(bytes) || bytes < 65536 || bytes > MAX_MEMORY_BYTES) {
-    throw new WeftError({ code: 'invalid_option', path: 'webassembly backend.memoryBytes', expected: `a whole number of bytes in [65536, ${MAX_MEMORY_BYTES}]`, received: String(bytes) });
-  }
-  module();
-  return new WebAssemblyBackend(bytes);
+  const bytes = checkReservation(options.memoryBytes ?? DEFAULT_MEMORY_BYTES, 'webassembly backend.memoryBytes');
+  compiled ??= compileModule(trainingModuleBase64);
+  return new WebAssemblyBackend(bytes, compiled);
 }
 
 class WebAssemblyBackend implements Backend {
@@ -80,17 +58,15 @@ class WebAssemblyBackend implements Backend {
   readonly pool: BufferPool;
   readonly memory: LinearMemory;
   private readonly exports: TrainingExports;
-  private scratchOffset = 0;
-  private scratchBytes = 0;
-  private lengthsCopy: Int32Array;
+  private readonly workspace: KernelWorkspace;
 
-  constructor(bytes: number) {
+  constructor(bytes: number, compiled: WebAssembly.Module) {
     this.memory = new LinearMemory(bytes);
-    const instance = new WebAssembly.Instance(module(), { env: { memory: this.memory.memory } });
+    const instance = new WebAssembly.Instance(compiled, { env: { memory: this.memory.memory } });
     this.exports = instance.exports as unknown as TrainingExports;
     const memory = this.memory;
     this.pool = this.createPool();
-    this.lengthsCopy = memory.integers(64);
+    this.workspace = new KernelWorkspace(memory);
     registerMemory(memory.buffer, this);
     this.kernels = Object.freeze(this.table());
   }
@@ -108,29 +84,12 @@ class WebAssemblyBackend implements Backend {
     return `webassembly (f32x4 SIMD kernels, ${Math.round(this.memory.reservedBytes / 1048576)} MiB reserved)`;
   }
 
-  /** The byte offset of a scratch block of at least `floats` floats (grown, never shrunk). */
   private scratch(floats: number): Pointer {
-    const bytes = floats * 4;
-    if (bytes > this.scratchBytes) {
-      if (this.scratchBytes > 0) this.memory.release(this.scratchOffset, this.scratchBytes);
-      let grown = Math.max(4096, this.scratchBytes);
-      while (grown < bytes) grown *= 2;
-      this.scratchOffset = this.memory.allocate(grown);
-      this.scratchBytes = grown;
-    }
-    return this.scratchOffset;
+    return this.workspace.scratch(floats);
   }
 
-  /** A ragged batch's lengths copied into this memory, or 0 for none. */
   private lengths(lengths: Int32Array | null, rows: number): Pointer {
-    if (lengths === null) return 0;
-    if (this.lengthsCopy.length < rows) {
-      this.memory.release(this.lengthsCopy.byteOffset, this.lengthsCopy.length * 4);
-      this.lengthsCopy = this.memory.integers(Math.max(rows, 2 * this.lengthsCopy.length));
-    }
-    const copy = this.lengthsCopy;
-    for (let b = 0; b < rows; b++) copy[b] = lengths[b];
-    return copy.byteOffset;
+    return this.workspace.lengths(lengths, rows);
   }
 
   private table(): KernelTable {

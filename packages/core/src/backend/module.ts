@@ -1,0 +1,74 @@
+/**
+ * What both WebAssembly backends (training and the runtime's forward backend) share: checking that the platform
+ * validates a module's bytes, compiling it once, and the two kinds of per-call working memory their kernels are
+ * handed — a scratch block for packed panels and a copy of a ragged batch's lengths — kept in the backend's own
+ * LinearMemory and grown (never shrunk) to the largest size asked.
+ */
+import { WeftError } from '../errors.js';
+import { decodeBase64Bytes } from './bytes.js';
+import type { LinearMemory } from './memory.js';
+
+/** Why a module in base64 cannot run here, or null when it can. */
+export function moduleUnavailable(base64: string): string | null {
+  if (typeof WebAssembly !== 'object' || typeof WebAssembly.validate !== 'function') return 'this platform has no WebAssembly';
+  try {
+    if (!WebAssembly.validate(decodeBase64Bytes(base64))) return 'this platform does not validate WebAssembly SIMD (128-bit) modules';
+  } catch (error) {
+    return `WebAssembly refused the module (${(error as Error).message})`;
+  }
+  return null;
+}
+
+/** Compiles a module, or throws the one-line error that names the backend and what the platform lacks. */
+export function compileModule(base64: string): WebAssembly.Module {
+  const missing = moduleUnavailable(base64);
+  if (missing !== null) {
+    throw new WeftError({ code: 'backend_unavailable', path: 'backend webassembly', expected: 'a platform that runs WebAssembly SIMD', received: missing, detail: "use the 'javascript' backend" });
+  }
+  return new WebAssembly.Module(decodeBase64Bytes(base64));
+}
+
+/** Checks a reservation in bytes (an option named `path`). */
+export function checkReservation(bytes: unknown, path: string): number {
+  const most = 4 * 1073741824 - 65536;
+  if (typeof bytes !== 'number' || !Number.isInteger(bytes) || bytes < 65536 || bytes > most) {
+    throw new WeftError({ code: 'invalid_option', path, expected: `a whole number of bytes in [65536, ${most}]`, received: String(bytes) });
+  }
+  return bytes;
+}
+
+/** The kernels' working memory inside one LinearMemory. */
+export class KernelWorkspace {
+  private readonly memory: LinearMemory;
+  private scratchOffset = 0;
+  private scratchBytes = 0;
+  private lengthsCopy: Int32Array;
+
+  constructor(memory: LinearMemory) {
+    this.memory = memory;
+    this.lengthsCopy = memory.integers(64);
+  }
+
+  /** The byte offset of a scratch block of at least `floats` floats. */
+  scratch(floats: number): number {
+    const bytes = floats * 4;
+    if (bytes > this.scratchBytes) {
+      if (this.scratchBytes > 0) this.memory.release(this.scratchOffset, this.scratchBytes);
+      this.scratchBytes = Math.max(4096, 2 * this.scratchBytes, bytes);
+      this.scratchOffset = this.memory.allocate(this.scratchBytes);
+    }
+    return this.scratchOffset;
+  }
+
+  /** A ragged batch's lengths copied into the memory (its byte offset), or 0 for none. */
+  lengths(lengths: Int32Array | null, rows: number): number {
+    if (lengths === null) return 0;
+    if (this.lengthsCopy.length < rows) {
+      this.memory.release(this.lengthsCopy.byteOffset, this.lengthsCopy.length * 4);
+      this.lengthsCopy = this.memory.integers(Math.max(rows, 2 * this.lengthsCopy.length));
+    }
+    const copy = this.lengthsCopy;
+    for (let b = 0; b < rows; b++) copy[b] = lengths[b];
+    return copy.byteOffset;
+  }
+}
