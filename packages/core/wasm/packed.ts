@@ -47,23 +47,44 @@ export function rowAffinePacked(out: usize, start: usize, x: usize, a: usize, in
       const m = pass == 0 ? a : b;
       const n = pass == 0 ? inner : innerB;
       if (v == 0) continue;
+      // Four panel pointers walk down their panels together; two rows of the matrix per turn.
       const step = <usize>n << 5;
-      let q = m + ((<usize>panel * <usize>n) << 5);
+      let q0 = m + ((<usize>panel * <usize>n) << 5);
+      let q1 = q0 + step;
+      let q2 = q1 + step;
+      let q3 = q2 + step;
       const end = v + (<usize>n << 2);
-      for (let pv = v; pv < end; pv += 4) {
+      let pv = v;
+      for (; pv + 8 <= end; pv += 8) {
         const s = f32x4.splat(load<f32>(pv));
-        s0 = f32x4.add(s0, f32x4.mul(s, v128.load(q)));
-        s1 = f32x4.add(s1, f32x4.mul(s, v128.load(q, 16)));
-        const q1 = q + step;
+        const t = f32x4.splat(load<f32>(pv, 4));
+        s0 = f32x4.add(f32x4.add(s0, f32x4.mul(s, v128.load(q0))), f32x4.mul(t, v128.load(q0, 32)));
+        s1 = f32x4.add(f32x4.add(s1, f32x4.mul(s, v128.load(q0, 16))), f32x4.mul(t, v128.load(q0, 48)));
+        s2 = f32x4.add(f32x4.add(s2, f32x4.mul(s, v128.load(q1))), f32x4.mul(t, v128.load(q1, 32)));
+        s3 = f32x4.add(f32x4.add(s3, f32x4.mul(s, v128.load(q1, 16))), f32x4.mul(t, v128.load(q1, 48)));
+        s4 = f32x4.add(f32x4.add(s4, f32x4.mul(s, v128.load(q2))), f32x4.mul(t, v128.load(q2, 32)));
+        s5 = f32x4.add(f32x4.add(s5, f32x4.mul(s, v128.load(q2, 16))), f32x4.mul(t, v128.load(q2, 48)));
+        s6 = f32x4.add(f32x4.add(s6, f32x4.mul(s, v128.load(q3))), f32x4.mul(t, v128.load(q3, 32)));
+        s7 = f32x4.add(f32x4.add(s7, f32x4.mul(s, v128.load(q3, 16))), f32x4.mul(t, v128.load(q3, 48)));
+        q0 += 64;
+        q1 += 64;
+        q2 += 64;
+        q3 += 64;
+      }
+      for (; pv < end; pv += 4) {
+        const s = f32x4.splat(load<f32>(pv));
+        s0 = f32x4.add(s0, f32x4.mul(s, v128.load(q0)));
+        s1 = f32x4.add(s1, f32x4.mul(s, v128.load(q0, 16)));
         s2 = f32x4.add(s2, f32x4.mul(s, v128.load(q1)));
         s3 = f32x4.add(s3, f32x4.mul(s, v128.load(q1, 16)));
-        const q2 = q1 + step;
         s4 = f32x4.add(s4, f32x4.mul(s, v128.load(q2)));
         s5 = f32x4.add(s5, f32x4.mul(s, v128.load(q2, 16)));
-        const q3 = q2 + step;
         s6 = f32x4.add(s6, f32x4.mul(s, v128.load(q3)));
         s7 = f32x4.add(s7, f32x4.mul(s, v128.load(q3, 16)));
-        q += 32;
+        q0 += 32;
+        q1 += 32;
+        q2 += 32;
+        q3 += 32;
       }
     }
     const o = at(out, col);
