@@ -2,6 +2,7 @@
 import { loadWeightFile } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { CommandError } from './errors.js';
+import { shown } from './terminal.js';
 
 export const inspectFlags: FlagSpec[] = [
   { name: 'json', switch: true, description: 'print the summary as JSON' },
@@ -18,27 +19,27 @@ export async function inspect(args: ParsedArgs): Promise<string> {
     const dtype = file.storedAs[t.name];
     const rowsCount = t.shape.length === 0 ? 1 : t.values.length / Math.max(1, t.shape[t.shape.length - 1]);
     const bytes = t.values.length * bytesPer[dtype] + (dtype === 'i8' ? rowsCount * 4 : 0);
-    return { name: t.name, shape: `[${t.shape.join(', ')}]`, dtype, bytes, elements: t.values.length };
+    return { name: shown(t.name), shape: `[${t.shape.join(', ')}]`, dtype, bytes, elements: t.values.length };
   });
   const parameters = rows.reduce((n, r) => n + r.elements, 0);
   // The loss history a checkpoint carries is for resuming the loss curve, not for reading here.
-  const metadata = Object.fromEntries(Object.entries(file.metadata).filter(([key]) => key !== 'history'));
+  const metadata = Object.entries(file.metadata).filter(([key]) => key !== 'history');
   if (args.switches.has('json')) {
-    return JSON.stringify({ model: file.model, tensors: rows, parameters, metadata, digest: { hex: file.digest, verified: file.digestVerified }, checkpoint: file.training !== undefined }, null, 2);
+    return JSON.stringify({ model: file.model, tensors: rows, parameters, metadata: Object.fromEntries(metadata), digest: { hex: file.digest, verified: file.digestVerified }, checkpoint: file.training !== undefined }, null, 2);
   }
   const lines: string[] = [];
-  lines.push(`${path}: weft weight file, version ${file.version}${file.training !== undefined ? ' (a checkpoint: carries training state)' : ''}`);
-  lines.push('', 'model:', ...JSON.stringify(file.model, null, 2).split('\n').map((l) => `  ${l}`));
+  lines.push(`${shown(path)}: weft weight file, version ${file.version}${file.training !== undefined ? ' (a checkpoint: carries training state)' : ''}`);
+  lines.push('', 'model:', ...JSON.stringify(file.model, null, 2).split('\n').map((l) => `  ${shown(l)}`));
   const widths = [Math.max(6, ...rows.map((r) => r.name.length)), Math.max(5, ...rows.map((r) => r.shape.length)), 5, Math.max(5, ...rows.map((r) => String(r.bytes).length))];
   lines.push('', 'tensors:');
   lines.push(`  ${'name'.padEnd(widths[0])}  ${'shape'.padEnd(widths[1])}  ${'dtype'.padEnd(widths[2])}  ${'bytes'.padStart(widths[3])}`);
   for (const r of rows) lines.push(`  ${r.name.padEnd(widths[0])}  ${r.shape.padEnd(widths[1])}  ${r.dtype.padEnd(widths[2])}  ${String(r.bytes).padStart(widths[3])}`);
   lines.push(`  ${parameters} parameters, ${rows.reduce((n, r) => n + r.bytes, 0)} bytes of tensor data`);
   lines.push('', 'metadata:');
-  for (const [key, value] of Object.entries(metadata)) {
-    let shown = JSON.stringify(value);
-    if (Array.isArray(value) && shown.length > 100) shown = `${value.length} entries: ${JSON.stringify(value.slice(0, 12)).slice(0, -1)}, …]`;
-    lines.push(`  ${key}: ${shown}`);
+  for (const [key, value] of metadata) {
+    let text = JSON.stringify(value) ?? String(value);
+    if (Array.isArray(value) && text.length > 100) text = `${value.length} entries: ${JSON.stringify(value.slice(0, 12)).slice(0, -1)}, …]`;
+    lines.push(`  ${shown(key)}: ${shown(text)}`);
   }
   lines.push('', `digest: SHA-256 ${file.digest} — ${file.digestVerified ? 'verified' : 'DOES NOT MATCH the tensor bytes (the file was changed or damaged)'}`);
   if (!file.digestVerified) throw new CommandError(lines.join('\n'), 1);

@@ -9,6 +9,7 @@ import { WeftError, describeProblem } from '@weft/core';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { helpText, parseArgs } from './args.js';
 import { check, checkFlags } from './check.js';
+import { endQuietlyOnClosedPipes, line } from './terminal.js';
 import { CommandError } from './errors.js';
 import { inspect, inspectFlags } from './inspect.js';
 import { runFlags, runModel } from './run.js';
@@ -113,18 +114,19 @@ export async function main(argv: readonly string[]): Promise<number> {
     return await verb.act(parseArgs(name, rest, verb.flags));
   } catch (error) {
     if (error instanceof CommandError) {
-      if (error.message !== '') process.stderr.write(`weft: ${error.message}\n`);
+      // Multi-line reports (a failed inspect) keep their lines; each is made safe on its own.
+      if (error.message !== '') process.stderr.write(`weft: ${error.message.split('\n').map(line).join('\n')}\n`);
       if (debug) process.stderr.write(`${error.stack ?? ''}\n`);
       return error.exitCode;
     }
     if (error instanceof WeftError) {
       // One line, however many problems the error lists.
-      const line = error.problems.length === 1 ? error.message : `${error.problems.length} problems: ${error.problems.map(describeProblem).join('; ')}`;
-      process.stderr.write(`weft: ${line}\n`);
+      const text = error.problems.length === 1 ? error.message : `${error.problems.length} problems: ${error.problems.map(describeProblem).join('; ')}`;
+      process.stderr.write(`weft: ${line(text)}\n`);
       if (debug) process.stderr.write(`${error.stack ?? ''}\n`);
       return 1;
     }
-    process.stderr.write(`weft: ${(error as Error).message ?? String(error)}${debug ? '' : ' (run again with --debug for details)'}\n`);
+    process.stderr.write(`weft: ${line((error as Error).message ?? String(error))}${debug ? '' : ' (run again with --debug for details)'}\n`);
     if (debug) process.stderr.write(`${(error as Error).stack ?? ''}\n`);
     return 1;
   }
@@ -140,6 +142,7 @@ function invokedDirectly(): boolean {
 }
 
 if (invokedDirectly()) {
+  endQuietlyOnClosedPipes();
   main(process.argv.slice(2)).then((code) => {
     process.exitCode = code;
   });

@@ -18,3 +18,18 @@ describe('the loss pictures', () => {
     expect(svg.match(/<circle /g)).toHaveLength(1);
   });
 });
+
+describe('a long run\'s loss curve', () => {
+  it('stays bounded: 58,000 steps draw at most 1,200 line points and 400 dots, and keep the highest spike', async () => {
+    const { MAX_DOTS, MAX_PLOTTED, lossCurveSvg, thinPoints } = await import('../src/plot.js');
+    const training = Array.from({ length: 58_000 }, (_, i) => ({ step: i + 1, loss: i === 31_337 ? 50 : 1 / Math.sqrt(i + 1) }));
+    const validation = Array.from({ length: 5_800 }, (_, i) => ({ step: 10 * (i + 1), loss: 2 / Math.sqrt(i + 1) }));
+    const thinned = thinPoints(training);
+    expect(thinned.length).toBeLessThanOrEqual(MAX_PLOTTED);
+    expect(thinned.some((p) => p.loss === 50)).toBe(true);
+    expect(thinned.every((p, i) => i === 0 || p.step > thinned[i - 1].step)).toBe(true);
+    const svg = lossCurveSvg(training, validation, 'long run');
+    expect((svg.match(/<circle /g) ?? []).length).toBeLessThanOrEqual(MAX_DOTS);
+    expect(svg.length).toBeLessThan(64 * 1024);
+  });
+});

@@ -46,7 +46,8 @@ export async function readCheckpoint(text: string, options: ReadOptions = {}): P
   }
   if (!isRecord(training.best)) add('best', 'the early-stopping record', training.best);
   if (problems.length > 0) throw new WeftError(problems);
-  const parameters: Record<string, number[]> = {};
+  // Names are data: a null-prototype object, so no tensor name (not even __proto__) reaches a prototype.
+  const parameters = Object.create(null) as Record<string, number[]>;
   for (const t of file.tensors) parameters[t.name] = Array.from(t.values);
   const snapshot = { ...(training as unknown as Omit<TrainingSnapshot, 'parameters'>), parameters } as TrainingSnapshot;
   // JSON has no Infinity: an early-stopping record with no validation yet was written as null.

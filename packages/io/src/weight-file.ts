@@ -80,6 +80,11 @@ export interface ReadOptions {
   readonly maxDepth?: number;
   /** When false, a digest mismatch is reported in `digestVerified` instead of refused (for inspection only). */
   readonly verifyDigest?: boolean;
+  /**
+   * When true, NaN and ±Infinity weights are accepted (for inspecting a damaged file); by default the first
+   * non-finite value of each tensor is a problem, because a model with one computes NaN for every input.
+   */
+  readonly allowNonFinite?: boolean;
 }
 
 const forbiddenKeys = new Set(['__proto__', 'constructor', 'prototype']);
@@ -240,7 +245,8 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
   }
   const tensors = file.tensors;
   const decoded: NamedValues[] = [];
-  const storedAs: Record<string, StoredDType> = {};
+  // Tensor names are data: a null-prototype object, so a tensor named __proto__ is a name like any other.
+  const storedAs: Record<string, StoredDType> = Object.create(null) as Record<string, StoredDType>;
   const digestParts: Uint8Array[] = [];
   if (!Array.isArray(tensors)) {
     add('tensors', 'an array', tensors);
@@ -330,6 +336,14 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
           const scaleValues = new Float32Array(plan.rows);
           for (let r = 0; r < plan.rows; r++) scaleValues[r] = scaleView.getFloat32(r * 4, true);
           dequantizeRows(new Int8Array(bytes.buffer), scaleValues, plan.rows, plan.size / Math.max(1, plan.rows), values);
+        }
+        if (options.allowNonFinite !== true) {
+          const at = values.findIndex((v) => !Number.isFinite(v));
+          if (at >= 0) {
+            problems.push({ code: 'not_finite', path: `tensors (${plan.name})[${at}]`, expected: 'finite weights', received: String(values[at]),
+              detail: 'a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it' });
+            continue;
+          }
         }
         decoded.push({ name: plan.name, shape: plan.shape, values });
         storedAs[plan.name] = plan.dtype;

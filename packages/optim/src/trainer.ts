@@ -324,7 +324,7 @@ export class Trainer {
 
   snapshot(): TrainingSnapshot {
     const named = (buffers: readonly FloatArray[]): Record<string, number[]> => {
-      const out: Record<string, number[]> = {};
+      const out = Object.create(null) as Record<string, number[]>;
       this.model.parameters().forEach((p, i) => {
         out[p.name] = Array.from(buffers[i]);
       });

@@ -3,7 +3,8 @@
  * same folder, is flushed to the disk, and is renamed over the target, so a reader sees either the old file or
  * the new one, never a half-written one. Nothing else in weft touches the file system.
  */
-import { closeSync, fsyncSync, openSync, readFileSync, renameSync, rmSync, writeSync } from 'node:fs';
+import { randomBytes } from 'node:crypto';
+import { closeSync, fsyncSync, openSync, readFileSync, readdirSync, renameSync, rmSync, writeSync } from 'node:fs';
 import { basename, dirname, join } from 'node:path';
 import { WeftError } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
@@ -11,9 +12,48 @@ import type { Trainer } from '@weft/optim';
 import { loadModel, modelTensors, readCheckpoint, readWeightFile, writeCheckpoint, writeWeightFile } from '@weft/io';
 import type { Checkpoint, ReadOptions, WeightFile, WeightMetadata, WriteOptions } from '@weft/io';
 
-/** Writes `text` to `path` atomically (temporary file in the same folder, flush, rename). */
+/** `.<name>.<pid>.<random>.tmp`: the temporary files of saves of `name`, by process. */
+function temporaryPattern(name: string): RegExp {
+  const escaped = name.replace(/[.*+?^${}()|[\]\\]/g, '\\$&');
+  return new RegExp(`^\\.${escaped}\\.(\\d+)\\.[0-9a-f]{16}\\.tmp$`);
+}
+
+function alive(pid: number): boolean {
+  if (pid === process.pid) return true;
+  try {
+    process.kill(pid, 0);
+    return true;
+  } catch (error) {
+    return (error as NodeJS.ErrnoException).code === 'EPERM';
+  }
+}
+
+/**
+ * Removes what earlier saves of `path` left behind when they were killed between writing and renaming: their
+ * temporary files, unless the process that made one is still running (it may be saving now).
+ */
+function removeLeftovers(path: string): void {
+  const folder = dirname(path);
+  const pattern = temporaryPattern(basename(path));
+  let names: string[];
+  try {
+    names = readdirSync(folder);
+  } catch {
+    return;
+  }
+  for (const name of names) {
+    const match = pattern.exec(name);
+    if (match !== null && !alive(Number(match[1]))) rmSync(join(folder, name), { force: true });
+  }
+}
+
+/**
+ * Writes `text` to `path` atomically (temporary file in the same folder, flush, rename). The temporary name holds
+ * the process id and a random part, so two saves never share one; leftovers of killed saves are removed first.
+ */
 export function writeFileAtomic(path: string, text: string): void {
-  const temporary = join(dirname(path), `.${basename(path)}.${process.pid}.${Date.now()}.tmp`);
+  removeLeftovers(path);
+  const temporary = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(8).toString('hex')}.tmp`);
   let descriptor: number | null = null;
   try {
     descriptor = openSync(temporary, 'w');

@@ -1,0 +1,77 @@
+/**
+ * What reaches the terminal: values from files are escaped and cut (a tensor name cannot forge a `weft:` line or
+ * send an escape sequence), and a closed pipe (`weft … | head -1`) ends a verb with exit 0 and no stack trace.
+ */
+import { spawn } from 'node:child_process';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { afterAll, describe, expect, it } from 'vitest';
+import { writeWeightFile } from '@weft/io';
+import { MAX_VALUE, line, shown } from '../src/terminal.js';
+
+const binary = fileURLToPath(new URL('../dist/main.js', import.meta.url));
+const demo = fileURLToPath(new URL('../demo/greenhouse.csv', import.meta.url));
+const folder = mkdtempSync(join(tmpdir(), 'weft-terminal-'));
+afterAll(() => rmSync(folder, { recursive: true, force: true }));
+
+/** Runs the binary, reads its first line of standard output, then closes the pipe as `head -1` does. */
+function firstLineThenClose(args: string[]): Promise<{ code: number | null; first: string; err: string }> {
+  return new Promise((resolve) => {
+    const child = spawn(process.execPath, [binary, ...args], { cwd: folder });
+    let out = '';
+    let err = '';
+    let first = '';
+    child.stdout.on('data', (chunk: Buffer) => {
+      out += chunk.toString();
+      if (first === '' && out.includes('\n')) {
+        first = out.slice(0, out.indexOf('\n'));
+        child.stdout.destroy();
+      }
+    });
+    child.stderr.on('data', (chunk: Buffer) => (err += chunk.toString()));
+    child.on('exit', (code) => resolve({ code, first, err }));
+  });
+}
+
+describe('writing to the terminal', () => {
+  it('escapes control characters and cuts long values, saying how much was left out', () => {
+    expect(shown('a\nweft: forged\u001b]0;title\u0007')).toBe('a\\nweft: forged\\u{1b}]0;title\\u{7}');
+    expect(shown('x'.repeat(MAX_VALUE + 5))).toBe(`${'x'.repeat(MAX_VALUE)}… (5 more characters)`);
+    expect(line('tab\there')).toBe('tab\\there');
+  });
+
+  it('shows a hostile tensor name and metadata key as escaped text in weft inspect', async () => {
+    const name = 'w\nweft: all good\u001b[31m';
+    const text = await writeWeightFile({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 1 }] },
+      [{ name: 'layers.0.forward.input', shape: [1, 1], values: Float32Array.of(0.5) }, { name: 'layers.0.forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
+        { name: 'layers.0.forward.bias', shape: [1], values: Float32Array.of(0) }],
+      { metadata: { [name]: 'x'.repeat(5000) } });
+    writeFileSync(join(folder, 'hostile.weft.json'), text);
+    const result = await new Promise<{ out: string; code: number | null }>((resolve) => {
+      const child = spawn(process.execPath, [binary, 'inspect', 'hostile.weft.json'], { cwd: folder });
+      let out = '';
+      child.stdout.on('data', (chunk: Buffer) => (out += chunk.toString()));
+      child.on('exit', (code) => resolve({ out, code }));
+    });
+    expect(result.code).toBe(0);
+    expect(result.out).not.toMatch(/[\u0000-\u0009\u000b-\u001f\u007f]/);
+    expect(result.out.split('\n').some((l) => l.startsWith('weft:'))).toBe(false);
+    expect(result.out).toContain('w\\nweft: all good\\u{1b}[31m: ');
+    expect(Math.max(...result.out.split('\n').map((l) => l.length))).toBeLessThan(2 * MAX_VALUE + 80);
+  });
+
+  for (const [label, args] of [
+    ['train', ['train', demo, '--target', 'air_temperature_c', '--horizon', '8', '--hidden', '8', '--epochs', '3', '--out', 'pipe.weft.json']],
+    ['inspect', ['inspect', 'hostile.weft.json']],
+    ['check', ['check']],
+  ] as const) {
+    it(`ends weft ${label} quietly when its reader closes the pipe (exit 0, no stack trace)`, async () => {
+      const result = await firstLineThenClose([...args]);
+      expect(result.first).not.toBe('');
+      expect(result.code).toBe(0);
+      expect(result.err).not.toMatch(/EPIPE|\n\s+at /);
+    }, 60_000);
+  }
+});
