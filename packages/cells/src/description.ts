@@ -64,10 +64,16 @@ function isRecord(value: unknown): value is Record<string, unknown> {
   return typeof value === 'object' && value !== null && !Array.isArray(value);
 }
 
+/** Most layers a description may have, and most parameters its model may hold. */
+export const MAX_LAYERS = 256;
+export const MAX_PARAMETERS = 100_000_000;
+
 function describe(value: unknown): string {
   if (value === undefined) return 'nothing';
   if (Array.isArray(value)) return `an array of ${value.length}`;
-  return JSON.stringify(value) ?? String(value);
+  const text = JSON.stringify(value) ?? String(value);
+  // A value from a file can be huge; the message shows its start and its length.
+  return text.length > 120 ? `${text.slice(0, 120)}… (${text.length} characters)` : text;
 }
 
 /**
@@ -103,6 +109,8 @@ export function describeProblems(value: unknown, path = 'description', customKin
   const layers = value.layers;
   if (!Array.isArray(layers) || layers.length === 0) {
     add(`${path}.layers`, 'a non-empty array of layers', layers);
+  } else if (layers.length > MAX_LAYERS) {
+    add(`${path}.layers`, `at most ${MAX_LAYERS} layers`, layers);
   } else {
     layers.forEach((layer: unknown, i: number) => {
       const where = `${path}.layers[${i}]`;
@@ -138,7 +146,27 @@ export function describeProblems(value: unknown, path = 'description', customKin
     if (!isRecord(readout)) add(`${path}.readout`, 'an object with width, or null', readout);
     else whole(`${path}.readout.width`, readout.width);
   }
+  if (problems.length === 0) {
+    // Sizes that are each fine can still multiply into a model no machine holds: count before anything is made.
+    const count = parameterCount(value as unknown as ModelDescription);
+    if (count > MAX_PARAMETERS) add(path, `a model of at most ${MAX_PARAMETERS} parameters`, `${count} parameters`);
+  }
   return problems;
+}
+
+/** The parameter count of a checked description's built-in layers, embedding and readout (arithmetic only). */
+function parameterCount(description: ModelDescription): number {
+  let total = description.input.kind === 'embedding' ? description.input.vocabulary * description.input.width : 0;
+  let width = description.input.width;
+  for (const layer of description.layers) {
+    const h = layer.hidden;
+    const directions = layer.bidirectional === true ? 2 : 1;
+    const gates = layer.cell === 'lstm' ? 4 : layer.cell === 'gru' ? 3 : 1;
+    total += directions * gates * h * (width + h + 1);
+    width = h * directions;
+  }
+  if (description.readout !== undefined && description.readout !== null) total += (width + 1) * description.readout.width;
+  return total;
 }
 
 /** Returns the description typed, or throws one WeftError listing every problem. */

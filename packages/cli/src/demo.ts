@@ -23,7 +23,7 @@ async function demo(): Promise<void> {
   console.log('weft demo: forecasting a greenhouse two hours ahead');
   console.log(`data: ${data}`);
   console.log('  invented readings every 15 minutes for 42 days: air temperature, humidity, soil moisture, light\n');
-  const flags = ['--target', 'air_temperature_c', '--horizon', '8', '--cell', 'gru', '--hidden', '48', '--window', '48', '--streams', '8', '--epochs', epochs, '--rate', '0.01', '--validation', '0.15', '--out', out];
+  const flags = ['--target', 'air_temperature_c', '--horizon', '8', '--cell', 'gru', '--hidden', '48', '--window', '48', '--streams', '8', '--epochs', epochs, '--rate', '0.01', '--validation', '0.15', '--start-over', '--out', out];
   console.log(`$ weft train greenhouse.csv ${flags.slice(0, -2).join(' ')} --out ${out}`);
   const outcome = await train(parseArgs('train', [data, ...flags], trainFlags));
 

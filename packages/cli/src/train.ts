@@ -45,6 +45,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'checkpoint', value: 'FILE', description: 'where checkpoints go', fallback: '<out>.checkpoint.json' },
   { name: 'checkpoint-every', value: 'STEPS', description: 'write a checkpoint this often (and at the end)', fallback: '200' },
   { name: 'resume', value: 'CHECKPOINT', description: 'continue from a checkpoint of the same model and data' },
+  { name: 'start-over', switch: true, description: 'replace the checkpoint an earlier run left at --checkpoint instead of refusing' },
   { name: 'store', value: 'f32|f16|i8', description: 'how the weight file stores numbers', fallback: 'f32' },
   backendFlag,
   { name: 'quiet', switch: true, description: 'no progress output' },
@@ -157,6 +158,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     },
   });
   const resume = args.flags.get('resume');
+  if (resume === undefined && existsSync(checkpoint) && !args.switches.has('start-over')) {
+    throw new CommandError(`${checkpoint} holds the checkpoint of an earlier run: continue it with --resume ${checkpoint}, or pass --start-over to replace it`, 2);
+  }
   if (resume !== undefined) {
     const saved = await loadCheckpoint(resolve(resume));
     const difference = firstDifference(saved.file.model, description);

@@ -10,3 +10,5 @@ export { loadEncoderDecoder, loadModel, modelTensors } from './model-file.js';
 export { readWeightFileBlob, weightFileBlob } from './blob.js';
 export type { Checkpoint } from './checkpoint.js';
 export { readCheckpoint, writeCheckpoint } from './checkpoint.js';
+export { checkMetadata, metadataProblems } from './metadata.js';
+export { layoutProblems } from './layout-check.js';

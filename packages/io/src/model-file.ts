@@ -6,6 +6,7 @@ import { WeftError } from '@weft/core';
 import type { DType, Problem } from '@weft/core';
 import { EncoderDecoderModel, buildModel, isEncoderDecoder, parameterLayout } from '@weft/cells';
 import { layoutProblems } from './layout-check.js';
+import { checkMetadata } from './metadata.js';
 import type { BuildOptions, NamedParameter, SequenceModel } from '@weft/cells';
 import type { NamedValues, WeightFile } from './weight-file.js';
 
@@ -30,6 +31,7 @@ export function loadModel(file: WeightFile, options: LoadOptions = {}): Sequence
 
 /** With built-in cells only, the file is checked against its layout before any model is built from it. */
 function checkBeforeBuilding(file: WeightFile): void {
+  checkMetadata(file);
   const layout = parameterLayout(file.model);
   if (!layout.builtIn) return;
   const problems = layoutProblems(file.tensors, layout.parameters);

@@ -9,7 +9,7 @@ import { basename, dirname, join } from 'node:path';
 import { WeftError } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import type { Trainer } from '@weft/optim';
-import { loadModel, modelTensors, readCheckpoint, readWeightFile, writeCheckpoint, writeWeightFile } from '@weft/io';
+import { checkMetadata, loadModel, modelTensors, readCheckpoint, readWeightFile, writeCheckpoint, writeWeightFile } from '@weft/io';
 import type { Checkpoint, ReadOptions, WeightFile, WeightMetadata, WriteOptions } from '@weft/io';
 
 /** `.<name>.<pid>.<random>.tmp`: the temporary files of saves of `name`, by process. */
@@ -83,8 +83,9 @@ export async function saveWeightFile(path: string, model: SequenceModel, options
   writeFileAtomic(path, await writeWeightFile(model.description, modelTensors(model), options));
 }
 
+/** Reads a weight file and checks its metadata against its model (checkMetadata). */
 export async function loadWeightFile(path: string, options: ReadOptions = {}): Promise<WeightFile> {
-  return prefixed(path, () => readWeightFile(readText(path), options));
+  return prefixed(path, async () => checkMetadata(await readWeightFile(readText(path), options)));
 }
 
 export async function loadModelFile(path: string, options: ReadOptions = {}): Promise<SequenceModel> {
@@ -96,7 +97,11 @@ export async function saveCheckpoint(path: string, trainer: Trainer, model: Sequ
 }
 
 export async function loadCheckpoint(path: string, options: ReadOptions = {}): Promise<Checkpoint> {
-  return prefixed(path, () => readCheckpoint(readText(path), options));
+  return prefixed(path, async () => {
+    const checkpoint = await readCheckpoint(readText(path), options);
+    checkMetadata(checkpoint.file);
+    return checkpoint;
+  });
 }
 
 /** Re-throws a weight-file error with the file's path in front of each problem's path. */

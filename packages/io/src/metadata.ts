@@ -1,0 +1,109 @@
+/**
+ * The metadata a weight file carries, checked against its model: what the CLI, the runtime helpers and a user's
+ * program read from it must agree with the model they run, or they would print "undefined", pick from classes
+ * that do not exist, or divide by a zero deviation. Only the fields weft writes are checked, each when present;
+ * every problem is collected. The Node loaders (`@weft/io/node`), `loadModel` and the `weft` command check every file
+ * they read; the runtime entries leave it out of their bundles (the runtime reads no metadata), so a program that
+ * reads a file's metadata itself calls `checkMetadata` on it.
+ *
+ *   vocabulary     strings, one per token id of an embedding input (and per output of a next-token model)
+ *   classes        strings, one per output of the model
+ *   columns        strings, one per input number of a values model
+ *   targetColumns  strings among `columns`, one per output of a forecast model
+ *   normalisation  { mean, deviation }: finite numbers, one per input number; deviations > 0
+ *   horizon        a whole number ≥ 1
+ *   task           'forecast' needs a values input and columns, targetColumns, normalisation, horizon;
+ *                  'next-token' an embedding input and a vocabulary; 'classification' classes
+ */
+import { WeftError } from '@weft/core';
+import type { Problem } from '@weft/core';
+import type { ModelDescription } from '@weft/cells/description';
+import { isEncoderDecoder, modelLayout } from '@weft/cells/description';
+import type { WeightFile } from './weight-file.js';
+
+function describe(value: unknown): string {
+  if (value === undefined) return 'nothing';
+  if (Array.isArray(value)) return `an array of ${value.length}`;
+  const text = JSON.stringify(value) ?? String(value);
+  return text.length > 80 ? `${text.slice(0, 80)}… (${text.length} characters)` : text;
+}
+
+const isStrings = (value: unknown): value is string[] => Array.isArray(value) && value.every((v) => typeof v === 'string');
+const isNumbers = (value: unknown): value is number[] => Array.isArray(value) && value.every((v) => typeof v === 'number');
+
+export function metadataProblems(metadata: Readonly<Record<string, unknown>>, model: ModelDescription): Problem[] {
+  const problems: Problem[] = [];
+  const add = (field: string, expected: string, received: unknown): void => {
+    problems.push({ code: 'bad_weight_file', path: `metadata.${field}`, expected, received: describe(received) });
+  };
+  const outputs = modelLayout(model).outputWidth;
+  const input = model.input;
+  const has = (field: string): boolean => Object.prototype.hasOwnProperty.call(metadata, field) && metadata[field] !== undefined;
+
+  if (has('vocabulary')) {
+    const vocabulary = metadata.vocabulary;
+    if (!isStrings(vocabulary)) add('vocabulary', 'an array of strings', vocabulary);
+    else if (input.kind === 'embedding' && vocabulary.length !== input.vocabulary) add('vocabulary', `${input.vocabulary} tokens (the embedding's vocabulary)`, vocabulary.length);
+    else if (metadata.task === 'next-token' && vocabulary.length !== outputs) add('vocabulary', `${outputs} tokens (the model's outputs)`, vocabulary.length);
+  }
+  if (has('classes')) {
+    const classes = metadata.classes;
+    if (!isStrings(classes)) add('classes', 'an array of strings', classes);
+    else if (classes.length !== outputs) add('classes', `${outputs} class names (one per output of the model)`, classes.length);
+  }
+  let columns: string[] | null = null;
+  if (has('columns')) {
+    const value = metadata.columns;
+    if (!isStrings(value)) add('columns', 'an array of column names', value);
+    else if (input.kind !== 'values') add('columns', 'no columns (the model reads tokens)', value);
+    else if (value.length !== input.width) add('columns', `${input.width} column names (the model's input width)`, value.length);
+    else columns = value;
+  }
+  if (has('targetColumns')) {
+    const value = metadata.targetColumns;
+    if (!isStrings(value)) add('targetColumns', 'an array of column names', value);
+    else if (value.length !== outputs) add('targetColumns', `${outputs} column names (one per output of the model)`, value.length);
+    else if (columns !== null) {
+      const stray = value.find((c) => !columns!.includes(c));
+      if (stray !== undefined) add('targetColumns', 'names among metadata.columns', stray);
+    }
+  }
+  if (has('normalisation')) {
+    const value = metadata.normalisation as { mean?: unknown; deviation?: unknown } | null;
+    const width = input.kind === 'values' ? input.width : 1;
+    if (typeof value !== 'object' || value === null || Array.isArray(value)) {
+      add('normalisation', '{ "mean": [...], "deviation": [...] }', value);
+    } else {
+      for (const field of ['mean', 'deviation'] as const) {
+        const numbers = value[field];
+        if (!isNumbers(numbers)) add(`normalisation.${field}`, `${width} numbers`, numbers);
+        else if (numbers.length !== width) add(`normalisation.${field}`, `${width} numbers (the model's input width)`, numbers.length);
+        else {
+          const bad = numbers.findIndex((v) => !Number.isFinite(v) || (field === 'deviation' && !(v > 0)));
+          if (bad >= 0) add(`normalisation.${field}[${bad}]`, field === 'deviation' ? 'a finite number > 0' : 'a finite number', numbers[bad]);
+        }
+      }
+    }
+  }
+  if (has('horizon')) {
+    const value = metadata.horizon;
+    if (typeof value !== 'number' || !Number.isInteger(value) || value < 1) add('horizon', 'a whole number ≥ 1', value);
+  }
+  // What weft's own tasks need to be run (the CLI reads these).
+  const needs: Record<string, readonly string[]> = { forecast: ['columns', 'targetColumns', 'normalisation', 'horizon'], 'next-token': ['vocabulary'], classification: ['classes'] };
+  const task = typeof metadata.task === 'string' ? metadata.task : '';
+  for (const field of Object.prototype.hasOwnProperty.call(needs, task) ? needs[task] : []) {
+    if (!has(field)) add(field, `a ${field} entry (a ${task} model needs it)`, undefined);
+  }
+  if (metadata.task === 'forecast' && input.kind !== 'values') add('task', "a task for a model over tokens (a forecast reads numbers)", metadata.task);
+  if (metadata.task === 'next-token' && input.kind !== 'embedding') add('task', "a task for a model over numbers (next-token reads tokens)", metadata.task);
+  return problems;
+}
+
+/** Throws one WeftError listing every way `file`'s metadata disagrees with its model (sequence models only). */
+export function checkMetadata(file: WeightFile): WeightFile {
+  if (isEncoderDecoder(file.model)) return file;
+  const problems = metadataProblems(file.metadata, file.model);
+  if (problems.length > 0) throw new WeftError(problems);
+  return file;
+}
