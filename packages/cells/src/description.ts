@@ -119,13 +119,13 @@ export function describeProblems(value: unknown, path = 'description', customKin
         return;
       }
       const kind = layer.cell;
-      const known = typeof kind === 'string' && (kind in layerKeys || customKinds.includes(kind));
+      const known = typeof kind === 'string' && (Object.prototype.hasOwnProperty.call(layerKeys, kind) || customKinds.includes(kind));
       if (!known) {
         add(`${where}.cell`, `one of ${[...Object.keys(layerKeys), ...customKinds].map((k) => `'${k}'`).join(', ')}`, kind);
       }
       whole(`${where}.hidden`, layer.hidden);
       if (layer.bidirectional !== undefined && typeof layer.bidirectional !== 'boolean') add(`${where}.bidirectional`, 'true or false', layer.bidirectional);
-      if (typeof kind === 'string' && kind in layerKeys) {
+      if (typeof kind === 'string' && Object.prototype.hasOwnProperty.call(layerKeys, kind)) {
         for (const key of Object.keys(layer)) {
           if (!layerKeys[kind].includes(key)) add(`${where}.${key}`, `no such field for a ${kind} layer (${layerKeys[kind].join(', ')})`, layer[key]);
         }

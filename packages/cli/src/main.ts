@@ -113,23 +113,29 @@ export async function main(argv: readonly string[]): Promise<number> {
     }
     return await verb.act(parseArgs(name, rest, verb.flags));
   } catch (error) {
-    if (error instanceof CommandError) {
-      // Multi-line reports (a failed inspect) keep their lines; each is made safe on its own.
-      if (error.message !== '') process.stderr.write(`weft: ${error.message.split('\n').map(line).join('\n')}\n`);
-      if (debug) process.stderr.write(`${error.stack ?? ''}\n`);
-      return error.exitCode;
-    }
-    if (error instanceof WeftError) {
-      // One line, however many problems the error lists.
-      const text = error.problems.length === 1 ? error.message : `${error.problems.length} problems: ${error.problems.map(describeProblem).join('; ')}`;
-      process.stderr.write(`weft: ${line(text)}\n`);
-      if (debug) process.stderr.write(`${error.stack ?? ''}\n`);
-      return 1;
-    }
-    process.stderr.write(`weft: ${line((error as Error).message ?? String(error))}${debug ? '' : ' (run again with --debug for details)'}\n`);
-    if (debug) process.stderr.write(`${(error as Error).stack ?? ''}\n`);
-    return 1;
+    const { text, code } = errorReport(error, debug);
+    if (text !== '') process.stderr.write(text);
+    return code;
   }
+}
+
+/**
+ * What an error prints on standard error, and the exit code: one safe line (escaped, cut: terminal.ts) for a
+ * library or command error, the stack only with --debug. Multi-line command reports keep their lines.
+ */
+export function errorReport(error: unknown, debug: boolean): { text: string; code: number } {
+  const stack = debug ? `${(error as Error)?.stack ?? ''}\n` : '';
+  if (error instanceof CommandError) {
+    const text = error.message === '' ? '' : `weft: ${error.message.split('\n').map(line).join('\n')}\n`;
+    return { text: text + stack, code: error.exitCode };
+  }
+  if (error instanceof WeftError) {
+    // One line, however many problems the error lists.
+    const text = error.problems.length === 1 ? error.message : `${error.problems.length} problems: ${error.problems.map(describeProblem).join('; ')}`;
+    return { text: `weft: ${line(text)}\n${stack}`, code: 1 };
+  }
+  const message = (error as Error)?.message ?? String(error);
+  return { text: `weft: ${line(message)}${debug ? '' : ' (run again with --debug for details)'}\n${stack}`, code: 1 };
 }
 
 function invokedDirectly(): boolean {
