@@ -77,12 +77,50 @@ export function parseCsv(text: string, file: string): Table {
   return { header, rows };
 }
 
-/** The field as a finite number, or an error naming file, line and column (1-based field number). */
+/** A decimal number as written in data files: digits, an optional point and exponent (no hex, no words). */
+const DECIMAL = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/;
+
+/** The text as a finite decimal number, or NaN (`0x10`, `Infinity`, `NaN`, `n/a`, `1e999` and '' are not). */
+export function decimal(text: string): number {
+  const trimmed = text.trim();
+  if (!DECIMAL.test(trimmed)) return NaN;
+  const value = Number(trimmed);
+  return Number.isFinite(value) ? value : NaN;
+}
+
+/** The field as a finite decimal number, or an error naming file, line and column (1-based field number). */
 export function numberAt(table: Table, row: number, column: number, file: string): number {
   const text = table.rows[row].fields[column].trim();
-  const value = Number(text);
-  if (text === '' || !Number.isFinite(value)) {
-    throw new CommandError(`${file}:${table.rows[row].line}:${column + 1}: ${JSON.stringify(text)} in column "${table.header[column]}" is not a number`);
+  const value = decimal(text);
+  if (Number.isNaN(value)) {
+    throw new CommandError(`${file}:${table.rows[row].line}:${column + 1}: ${JSON.stringify(text.slice(0, 80))} in column "${table.header[column]}" is not a decimal number`);
   }
   return value;
+}
+
+/**
+ * Mean and standard deviation of each column of `values` (rows × columns, finite), computed on values scaled by
+ * the column's largest magnitude so that neither the sums nor the squares overflow, whatever the data's size.
+ */
+export function columnStatistics(values: readonly (readonly number[])[], columns: number): { mean: number[]; deviation: number[] } {
+  const mean: number[] = [];
+  const deviation: number[] = [];
+  for (let j = 0; j < columns; j++) {
+    let scale = 0;
+    for (const row of values) scale = Math.max(scale, Math.abs(row[j]));
+    if (scale === 0) {
+      mean.push(0);
+      deviation.push(1);
+      continue;
+    }
+    let m = 0;
+    for (const row of values) m += row[j] / scale;
+    m /= values.length;
+    let squares = 0;
+    for (const row of values) squares += (row[j] / scale - m) ** 2;
+    const d = Math.sqrt(squares / values.length) * scale;
+    mean.push(m * scale);
+    deviation.push(d > 0 && Number.isFinite(d) ? d : 1);
+  }
+  return { mean, deviation };
 }

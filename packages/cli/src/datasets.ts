@@ -12,7 +12,7 @@ import { classificationMetrics, sequenceBatches, streamBatches } from '@weft/opt
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { Tape, lastStepsValues } from './evaluate.js';
 import type { WeightMetadata } from '@weft/io';
-import { numberAt, parseCsv } from './csv.js';
+import { columnStatistics, decimal, numberAt, parseCsv } from './csv.js';
 import { CommandError } from './errors.js';
 
 export type Task = 'forecast' | 'text' | 'classify';
@@ -24,6 +24,8 @@ export interface Prepared {
   readonly train: DataSource;
   readonly validation: DataSource;
   readonly metadata: WeightMetadata;
+  /** Lines to show the user about what preparation did (columns left out, and why). */
+  readonly notes?: readonly string[];
   /** The held-out baseline and how to read the model's validation figure against it. */
   readonly baseline: { readonly name: string; readonly value: number; readonly metric: string };
   /** The model's figure on the held-out data, in the baseline's terms (data units for forecasts). */
@@ -46,7 +48,24 @@ export interface PrepareOptions {
 
 export function prepareForecast(text: string, file: string, options: PrepareOptions): Prepared {
   const table = parseCsv(text, file);
-  const numericColumns = table.header.map((_, c) => c).filter((c) => table.rows.length > 0 && Number.isFinite(Number(table.rows[0].fields[c].trim())) && table.rows[0].fields[c].trim() !== '');
+  // A column of numbers is used; a column with no number at all (dates, names) is left out, and said so; a column
+  // of numbers with some cells that are not is an error at its first such cell, never quietly dropped.
+  const numericColumns: number[] = [];
+  const leftOut: string[] = [];
+  table.header.forEach((name, c) => {
+    let numbers = 0;
+    let firstBad = -1;
+    table.rows.forEach((row, r) => {
+      if (!Number.isNaN(decimal(row.fields[c]))) numbers++;
+      else if (firstBad < 0) firstBad = r;
+    });
+    if (firstBad < 0) numericColumns.push(c);
+    else if (numbers === 0) leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 40))} at line ${table.rows[firstBad].line})`);
+    else if (options.columns === undefined) {
+      throw new CommandError(`${file}:${table.rows[firstBad].line}:${c + 1}: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 80))} in column "${name}" is not a decimal number `
+        + `(${numbers} of ${table.rows.length} cells there are); fix the cell, or choose the columns with --columns`, 1);
+    }
+  });
   const pick = (names: string[] | undefined, fallback: number[], flag: string): number[] =>
     names === undefined
       ? fallback
@@ -66,8 +85,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   if (trainRows < options.streams * options.window + options.horizon) {
     throw new CommandError(`${file}: ${rows} rows are too few for ${options.streams} streams of ${options.window}-row windows plus a validation share of ${options.validationShare}`);
   }
-  const mean = columns.map((_, j) => values.slice(0, trainRows).reduce((s, row) => s + row[j], 0) / trainRows);
-  const deviation = columns.map((_, j) => Math.sqrt(values.slice(0, trainRows).reduce((s, row) => s + (row[j] - mean[j]) ** 2, 0) / trainRows) || 1);
+  const { mean, deviation } = columnStatistics(values.slice(0, trainRows), columns.length);
   const normalised = values.map((row) => row.map((v, j) => (v - mean[j]) / deviation[j]));
   const targetIndexes = targets.map((t) => columns.indexOf(t));
   const flat = (from: number, to: number) => normalised.slice(from, to).flat();
@@ -98,6 +116,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       horizon: options.horizon,
       normalisation: { mean, deviation },
     },
+    notes: options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : [],
     baseline: { name: `persistence (the value now, ${options.horizon} rows ahead)`, value: naive / count, metric: 'held-out MAE' },
     heldOut: (model) => {
       // Mean absolute error in the data's own units, over every target column and held-out position.
@@ -165,18 +184,27 @@ export function prepareClassification(text: string, file: string, options: Prepa
   items.forEach((list, i) => {
     if (list.length === 0) throw new CommandError(`${file}:${table.rows[i].line}:${sequenceAt + 1}: an empty sequence`);
   });
-  const numeric = items.every((list) => list.every((s) => Number.isFinite(Number(s))));
+  // Numbers or tokens, decided by every item: a file of numbers with one item that is not is an error there,
+  // not a quiet switch to tokens.
+  const total = items.reduce((n, list) => n + list.length, 0);
+  const numbers = items.reduce((n, list) => n + list.filter((s) => !Number.isNaN(decimal(s))).length, 0);
+  const numeric = numbers === total;
+  if (!numeric && numbers >= total / 2) {
+    const row = items.findIndex((list) => list.some((s) => Number.isNaN(decimal(s))));
+    const bad = items[row].find((s) => Number.isNaN(decimal(s)))!;
+    throw new CommandError(`${file}:${table.rows[row].line}:${sequenceAt + 1}: ${JSON.stringify(bad.slice(0, 80))} in a sequence of numbers is not a decimal number (${numbers} of ${total} items are)`);
+  }
   const vocabulary = numeric ? null : [UNKNOWN, ...[...new Set(items.flat())].sort()];
   const index = new Map((vocabulary ?? []).map((v, i) => [v, i]));
   let mean = 0;
   let deviation = 1;
   if (numeric) {
-    const all = items.flat().map(Number);
-    mean = all.reduce((s, v) => s + v, 0) / all.length;
-    deviation = Math.sqrt(all.reduce((s, v) => s + (v - mean) ** 2, 0) / all.length) || 1;
+    const statistics = columnStatistics(items.flat().map((s) => [decimal(s)]), 1);
+    mean = statistics.mean[0];
+    deviation = statistics.deviation[0];
   }
   const sequences: LabelledSequence[] = items.map((list, i) => ({
-    ...(numeric ? { values: list.map((s) => (Number(s) - mean) / deviation) } : { tokens: list.map((s) => index.get(s) ?? 0) }),
+    ...(numeric ? { values: list.map((s) => (decimal(s) - mean) / deviation) } : { tokens: list.map((s) => index.get(s) ?? 0) }),
     label: labels.indexOf(table.rows[i].fields[labelAt].trim()),
   }));
   const order = sequences.map((_, i) => i);

@@ -118,6 +118,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     task === 'forecast' ? prepareForecast(text, dataPath, options)
       : task === 'text' ? prepareText(text, dataPath, options)
         : prepareClassification(text, dataPath, { ...options, labelColumn: args.flags.get('label-column') ?? 'label', sequenceColumn: args.flags.get('sequence-column') ?? 'sequence' });
+  for (const note of prepared.notes ?? []) log(note);
   const layers: LayerDescription[] = Array.from({ length: layerCount }, () => ({ cell, hidden, ...(args.switches.has('bidirectional') ? { bidirectional: true } : {}) }));
   const description: ModelDescription = { input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } };
   const out = resolve(args.flags.get('out') ?? `${basename(dataPath, extname(dataPath))}.weft.json`);

@@ -1,0 +1,47 @@
+/**
+ * Preparing training data never changes the task or the columns without a word: numbers are decimal only, a
+ * column of numbers with a bad cell is an error at that cell, a column with no numbers is left out and said so,
+ * one bad item in a numeric sequence file is an error there (not a switch to tokens), and values near the top of
+ * the f64 range are normalised without overflow.
+ */
+import { describe, expect, it } from 'vitest';
+import { columnStatistics, decimal } from '../src/csv.js';
+import { prepareClassification, prepareForecast } from '../src/datasets.js';
+
+const options = { window: 4, lookback: 0, streams: 2, validationShare: 0.2, horizon: 1, tokens: 'characters' as const, embedding: 4, batch: 4, seed: '1' };
+
+function series(rows: number, cell: (r: number) => string): string {
+  return `when,level\n${Array.from({ length: rows }, (_, r) => `2026-01-${String((r % 28) + 1).padStart(2, '0')},${cell(r)}`).join('\n')}\n`;
+}
+
+describe('preparing training data', () => {
+  it('reads decimal numbers only: no hex, no words, nothing past the f64 range (IEEE 754)', () => {
+    expect([decimal('12'), decimal('-1.5e3'), decimal('.5'), decimal(' 7 ')]).toEqual([12, -1500, 0.5, 7]);
+    expect([decimal('0x10'), decimal('Infinity'), decimal('NaN'), decimal('n/a'), decimal('1e999'), decimal(''), decimal('1_000')].every(Number.isNaN)).toBe(true);
+  });
+
+  it('leaves out a column with no numbers and says so, and refuses a column of numbers with one bad cell', () => {
+    const prepared = prepareForecast(series(60, (r) => String(Math.sin(r))), 'levels.csv', options);
+    expect(prepared.notes).toEqual(['left out columns that hold no numbers: when (no numbers: "2026-01-01" at line 2)']);
+    expect((prepared.metadata as { columns: string[] }).columns).toEqual(['level']);
+    expect(() => prepareForecast(series(60, (r) => (r === 0 ? 'n/a' : String(r))), 'levels.csv', options)).toThrowError(
+      'levels.csv:2:2: "n/a" in column "level" is not a decimal number (59 of 60 cells there are); fix the cell, or choose the columns with --columns',
+    );
+    expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^levels\.csv:9:2: "0x10" in column "level"/);
+  });
+
+  it('normalises values of ±1e300 without overflowing (mean and deviation finite)', () => {
+    const prepared = prepareForecast(series(60, (r) => (r % 2 === 0 ? '1e300' : '-1e300')), 'huge.csv', options);
+    const { mean, deviation } = (prepared.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;
+    expect(Number.isFinite(mean[0]) && Number.isFinite(deviation[0])).toBe(true);
+    expect(Math.abs(deviation[0] - 1e300) / 1e300).toBeLessThan(1e-12);
+    expect(columnStatistics([[3], [5]], 1)).toEqual({ mean: [4], deviation: [1] });
+  });
+
+  it('refuses one item that is not a number in a file of numeric sequences, instead of turning it into tokens', () => {
+    const rows = Array.from({ length: 40 }, (_, i) => `${i % 2 === 0 ? 'calm' : 'gusty'},${i === 5 ? '1 2 NaN 4' : '1 2 3 4'}`);
+    expect(() => prepareClassification(`label,sequence\n${rows.join('\n')}\n`, 'wind.csv', { ...options, labelColumn: 'label', sequenceColumn: 'sequence' })).toThrowError(
+      'wind.csv:7:2: "NaN" in a sequence of numbers is not a decimal number (159 of 160 items are)',
+    );
+  });
+});
