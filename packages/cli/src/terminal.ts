@@ -7,8 +7,10 @@
 
 /** Longest value from a file shown in full, in characters. */
 export const MAX_VALUE = 200;
-/** Longest error line written, in characters. */
+/** Longest error line written, in characters, before its `weft: ` prefix and the count of what was cut. */
 export const MAX_LINE = 1000;
+/** So no line the command writes from a file's content is longer than this. */
+export const LONGEST_LINE = MAX_LINE + 40;
 
 // C0 and C1 controls, DEL, the line and paragraph separators, and the bidirectional overrides and isolates.
 const unsafe = /[\u0000-\u001f\u007f-\u009f\u2028\u2029\u202a-\u202e\u2066-\u2069]/g;

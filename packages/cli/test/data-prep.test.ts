@@ -30,7 +30,10 @@ describe('preparing training data', () => {
     expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^levels\.csv:9:2: "0x10" in column "level"/);
   });
 
-  it('normalises values of ±1e300 without overflowing (mean and deviation finite)', () => {
+  it('normalises values of ±1e300 and 1e308 without overflowing (mean and deviation finite)', () => {
+    const top = prepareForecast(series(60, (r) => (r % 3 === 0 ? '1e308' : '-1e308')), 'top.csv', options);
+    const stats = (top.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;
+    expect(Number.isFinite(stats.mean[0]) && Number.isFinite(stats.deviation[0]) && stats.deviation[0] > 0).toBe(true);
     const prepared = prepareForecast(series(60, (r) => (r % 2 === 0 ? '1e300' : '-1e300')), 'huge.csv', options);
     const { mean, deviation } = (prepared.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;
     expect(Number.isFinite(mean[0]) && Number.isFinite(deviation[0])).toBe(true);

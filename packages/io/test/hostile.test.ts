@@ -41,6 +41,24 @@ describe('hostile weight files', () => {
   });
 });
 
+describe('descriptions that claim too much', () => {
+  it('refuses a million layers and an embedding of 10^6 × 1000 in one line each, before building anything', async () => {
+    const text = await writeWeightFile(model, [
+      { name: 'layers.0.forward.input', shape: [1, 1], values: Float32Array.of(0.5) },
+      { name: 'layers.0.forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
+      { name: 'layers.0.forward.bias', shape: [1], values: Float32Array.of(0) },
+    ]);
+    const parsed = JSON.parse(text) as { model: Record<string, unknown> };
+    const before = process.memoryUsage().rss;
+    parsed.model.layers = Array.from({ length: 1_000_000 }, () => ({ cell: 'plain', hidden: 1 }));
+    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError('Bad weight file at model.layers: expected at most 256 layers, received an array of 1000000');
+    parsed.model.layers = [{ cell: 'plain', hidden: 1 }];
+    parsed.model.input = { kind: 'embedding', vocabulary: 1_000_000, width: 1000 };
+    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError(/Bad weight file at model: expected a model of at most 100000000 parameters, received "1000001002 parameters"/);
+    expect(process.memoryUsage().rss - before).toBeLessThan(300 * 1024 * 1024);
+  });
+});
+
 describe('atomic saves', () => {
   it('clear the temporary files of killed saves of the same file, and leave the others alone', () => {
     const target = join(folder, 'model.weft.json');
