@@ -147,9 +147,12 @@ function invokedDirectly(): boolean {
   }
 }
 
-if (invokedDirectly()) {
+/** Runs the command as a process: a closed pipe ends it quietly, and its exit code becomes the process's. */
+export function runCommand(argv: readonly string[]): void {
   endQuietlyOnClosedPipes();
-  main(process.argv.slice(2)).then((code) => {
+  main(argv).then((code) => {
     process.exitCode = code;
   });
 }
+
+if (invokedDirectly()) runCommand(process.argv.slice(2));
