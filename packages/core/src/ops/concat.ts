@@ -24,7 +24,7 @@ const concatKind: OperationKind = {
         for (let r = 0; r < rows; r++) {
           const from = r * width + offset;
           const to = r * w;
-          for (let c = 0; c < w; c++) gp[to + c] += g[from + c];
+          tape.kernels.addAt(gp, to, g, from, w);
         }
       }
       offset += w;
@@ -60,7 +60,7 @@ export function concat(tape: Tape, parts: readonly Tensor[]): Tensor {
     for (let r = 0; r < rows; r++) {
       const to = r * width + offset;
       const from = r * w;
-      for (let c = 0; c < w; c++) out.data[to + c] = part.data[from + c];
+      tape.kernels.copyAt(out.data, to, part.data, from, w);
     }
     offset += w;
   }
@@ -83,7 +83,7 @@ const sliceKind: OperationKind = {
     for (let r = 0; r < rows; r++) {
       const to = r * width + start;
       const from = r * w;
-      for (let c = 0; c < w; c++) ga[to + c] += g[from + c];
+      tape.kernels.addAt(ga, to, g, from, w);
     }
   },
 };
@@ -102,7 +102,7 @@ export function slice(tape: Tape, a: Tensor, start: number, end: number): Tensor
   for (let r = 0; r < rows; r++) {
     const from = r * width + start;
     const to = r * w;
-    for (let c = 0; c < w; c++) out.data[to + c] = a.data[from + c];
+    tape.kernels.copyAt(out.data, to, a.data, from, w);
   }
   const node = tape.record(sliceKind, out, a);
   if (node !== null) node.number0 = start;

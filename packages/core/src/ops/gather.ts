@@ -18,7 +18,7 @@ const gatherKind: OperationKind = {
     for (let i = 0; i < indices.length; i++) {
       const to = indices[i] * width;
       const from = i * width;
-      for (let c = 0; c < width; c++) gt[to + c] += g[from + c];
+      tape.kernels.addAt(gt, to, g, from, width);
     }
   },
 };
@@ -39,7 +39,7 @@ export function gatherRows(tape: Tape, table: Tensor, indices: Int32Array | read
   for (let i = 0; i < picked.length; i++) {
     const from = picked[i] * width;
     const to = i * width;
-    for (let c = 0; c < width; c++) out.data[to + c] = table.data[from + c];
+    tape.kernels.copyAt(out.data, to, table.data, from, width);
   }
   const node = tape.record(gatherKind, out, table);
   if (node !== null) node.integers = picked;
