@@ -13,7 +13,7 @@
  *   similar lengths (so little padding), padded and masked; the batch order is shuffled each epoch by the seeded
  *   generator, and the state starts afresh for each batch.
  */
-import { Random, fail, tensor } from '@weft/core';
+import { Random, backendOf, fail, tensor } from '@weft/core';
 import type { DType, FloatArray, Tensor } from '@weft/core';
 import type { TokenBatch } from '@weft/cells';
 
@@ -44,7 +44,32 @@ export interface DataSource {
   readonly batchesPerEpoch: number;
   /** True when the state after one batch is the starting state of the next (streams). */
   readonly carriesState: boolean;
+  /**
+   * One batch. The sources made here recycle: a batch's tensors are valid until the same source's next `batch()`
+   * call, which gives their buffers back to their pool for the new batch (see BatchBuffers).
+   */
   batch(epoch: number, index: number): Batch;
+}
+
+/**
+ * The tensors of one batch at a time. A source keeps what it handed out and gives the buffers back to their pool
+ * when it makes the next batch, so a long run reuses the same few buffers instead of taking new ones each step. On
+ * the WebAssembly backend this is what keeps a run within its memory reservation: blocks of a WebAssembly memory
+ * are not reclaimed by the garbage collector, only by being given back.
+ */
+class BatchBuffers {
+  private issued: Tensor[] = [];
+
+  /** Gives the previous batch's buffers back; call before making the next batch. */
+  recycle(): void {
+    for (const t of this.issued) backendOf(t.data).pool.give(t.data);
+    this.issued = [];
+  }
+
+  keep(t: Tensor): Tensor {
+    this.issued.push(t);
+    return t;
+  }
 }
 
 export interface TokenStreamOptions {
@@ -150,10 +175,12 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
   const windows = Math.floor(perStream / window);
   if (windows < 1) fail('bad_data', 'stream.values', `at least ${streams * window + horizon} rows`, `${rows}`);
   const width = columns.length;
+  const buffers = new BatchBuffers();
   return {
     batchesPerEpoch: windows,
     carriesState: true,
     batch(_epoch: number, index: number): Batch {
+      buffers.recycle();
       const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams);
       const input = new Array<number>(steps * streams * features);
       const target = new Array<number>(steps * streams * width);
@@ -166,11 +193,11 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
         }
       }
       return {
-        input: tensor(input, [steps, streams, features], dtype),
+        input: buffers.keep(tensor(input, [steps, streams, features], dtype)),
         steps,
         batch: streams,
         lengths: null,
-        targets: { kind: 'values', perStep: true, width, values: tensor(target, [steps * streams, width], dtype), weights },
+        targets: { kind: 'values', perStep: true, width, values: buffers.keep(tensor(target, [steps * streams, width], dtype)), weights },
         positions: window * streams,
         carryAfter,
       };
@@ -225,10 +252,12 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
     new Random(`${String(seed)}:epoch:${epoch}`).shuffle(shuffled);
     return shuffled;
   };
+  const buffers = new BatchBuffers();
   return {
     batchesPerEpoch: groups.length,
     carriesState: false,
     batch(epoch: number, index: number): Batch {
+      buffers.recycle();
       const members = groups[epochOrder(epoch)[index]];
       const rows = members.length;
       const steps = Math.max(...members.map((m) => lengths[m]));
@@ -247,11 +276,11 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
           const v = sequences[m].values!;
           for (let t = 0; t < lengths[m]; t++) for (let f = 0; f < features; f++) flat[(t * rows + b) * features + f] = v[t * features + f];
         });
-        input = tensor(flat, [steps, rows, features], dtype);
+        input = buffers.keep(tensor(flat, [steps, rows, features], dtype));
       }
       const targets: BatchTargets = usesLabels
         ? { kind: 'classes', perStep: false, classes: Int32Array.from(members.map((m) => sequences[m].label as number)), weights: null }
-        : { kind: 'values', perStep: false, width: targetWidth, values: tensor(members.flatMap((m) => [...sequences[m].target!]), [rows, targetWidth], dtype), weights: null };
+        : { kind: 'values', perStep: false, width: targetWidth, values: buffers.keep(tensor(members.flatMap((m) => [...sequences[m].target!]), [rows, targetWidth], dtype)), weights: null };
       return { input, steps, batch: rows, lengths: batchLengths, targets, positions: batchLengths.reduce((s, l) => s + l, 0) };
     },
   };

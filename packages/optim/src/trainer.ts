@@ -154,7 +154,7 @@ export class Trainer {
   step(): number {
     const { data, optimizer } = this.options;
     const batch = data.batch(this.epoch, this.index);
-    if (data.carriesState && this.index === 0) this.carried = null;
+    if (data.carriesState && this.index === 0) this.releaseCarried();
     this.tape.clear();
     resetGradients(this.parameters);
     const result = this.forward(batch, data.carriesState && this.carried !== null ? this.carried : undefined);
@@ -269,6 +269,8 @@ export class Trainer {
       }
       tape.clear();
     }
+    // The carried state's buffers came from the trainer's pool: give them back for the next validation.
+    if (carried !== null) for (const t of carried as Tensor[]) this.pool.give(t.data);
     const loss = count > 0 ? lossSum / count : 0;
     return {
       loss,
@@ -322,6 +324,12 @@ export class Trainer {
     return { steps: this.stepCount, stoppedBy, lastLoss: this.lastLoss, bestValidation: this.bestValidation, skippedUpdates: this.skipped };
   }
 
+  /** Gives the carried state's buffers back to the trainer's pool (they came from it) and forgets the state. */
+  private releaseCarried(): void {
+    if (this.carried !== null) for (const t of this.carried) this.pool.give(t.data);
+    this.carried = null;
+  }
+
   snapshot(): TrainingSnapshot {
     const named = (buffers: readonly FloatArray[]): Record<string, number[]> => {
       const out = Object.create(null) as Record<string, number[]>;
@@ -360,9 +368,10 @@ export class Trainer {
     this.epoch = snapshot.cursor.epoch;
     this.index = snapshot.cursor.index;
     if (snapshot.carried === null) {
-      this.carried = null;
+      this.releaseCarried();
     } else {
       const slots = this.model.stateSlots();
+      this.releaseCarried();
       this.carried = snapshot.carried.map((values, i) => {
         const t = zeros([values.length / slots[i].size, slots[i].size], this.model.dtype, this.pool);
         for (let k = 0; k < values.length; k++) t.data[k] = values[k];

@@ -32,3 +32,29 @@ describe('training memory on a stream', () => {
     expect(c / b).toBeLessThan(2.2);
   });
 });
+
+describe('a long run\'s buffers', () => {
+  it('stop being created after the first epoch: batches, carried state and validation reuse their buffers', async () => {
+    // On the WebAssembly backend memory is reclaimed only by giving buffers back, so this is what keeps a long run
+    // inside its reservation; the counts below are the pools' own, on whichever backend runs.
+    const { defaultBackend } = await import('@weft/core');
+    const values = Array.from({ length: 8 * 3000 }, (_, i) => Math.sin(i / 7) + 0.1 * Math.cos(i / 3));
+    const model = buildModel({ input: { kind: 'values', width: 8 }, layers: [{ cell: 'gru', hidden: 16 }], readout: { width: 8 } }, { seed: 1 });
+    const created: number[] = [];
+    const trainer = new Trainer({
+      model,
+      data: streamBatches({ kind: 'values', values: values.slice(0, 8 * 2400), features: 8 }, { streams: 4, window: 20 }),
+      validation: streamBatches({ kind: 'values', values: values.slice(8 * 2400), features: 8 }, { window: 20 }),
+      validateEvery: 7,
+      optimizer: new AdamRule({ rate: 0.01 }),
+      epochs: 12,
+      onProgress: (event) => {
+        if (event.kind === 'step' && event.step % 30 === 0) created.push(defaultBackend().pool.counts().created + trainer.pool.counts().created);
+      },
+    });
+    await trainer.run();
+    // 30 steps an epoch: every count after the first two epochs equals the one before it.
+    expect(created.length).toBeGreaterThan(8);
+    expect(new Set(created.slice(2)).size).toBe(1);
+  });
+});
