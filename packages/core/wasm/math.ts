@@ -90,7 +90,7 @@
 /** Loads 4 lanes, or one value into every lane when `full` is false (the scalar tail of a row). */
 // @ts-ignore: decorator
 @inline export function load4(p: usize, full: bool): v128 {
-  return full ? v128.load(p) : f32x4.splat(load<f32>(p));
+  return full ? v128.load(p) : v128.load32_splat(p);
 }
 
 /** Stores 4 lanes, or lane 0 alone when `full` is false. */

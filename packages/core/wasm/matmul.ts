@@ -193,7 +193,7 @@ function fewRows(out: usize, a: usize, b: usize, rows: i32, inner: i32, cols: i3
       let pa = aStart;
       let pb = b + (<usize>col << 2);
       for (let k = 0; k < inner; k++) {
-        const x = f32x4.splat(load<f32>(pa));
+        const x = v128.load32_splat(pa);
         s0 = f32x4.add(s0, f32x4.mul(x, v128.load(pb)));
         s1 = f32x4.add(s1, f32x4.mul(x, v128.load(pb, 16)));
         s2 = f32x4.add(s2, f32x4.mul(x, v128.load(pb, 32)));
@@ -220,7 +220,7 @@ function fewRows(out: usize, a: usize, b: usize, rows: i32, inner: i32, cols: i3
       let pa = aStart;
       let pb = b + (<usize>col << 2);
       for (let k = 0; k < inner; k++) {
-        const x = f32x4.splat(load<f32>(pa));
+        const x = v128.load32_splat(pa);
         s0 = f32x4.add(s0, f32x4.mul(x, v128.load(pb)));
         s1 = f32x4.add(s1, f32x4.mul(x, v128.load(pb, 16)));
         s2 = f32x4.add(s2, f32x4.mul(x, v128.load(pb, 32)));
@@ -241,7 +241,7 @@ function fewRows(out: usize, a: usize, b: usize, rows: i32, inner: i32, cols: i3
       let pa = aStart;
       let pb = b + (<usize>col << 2);
       for (let k = 0; k < inner; k++) {
-        s = f32x4.add(s, f32x4.mul(f32x4.splat(load<f32>(pa)), load4(pb, full)));
+        s = f32x4.add(s, f32x4.mul(v128.load32_splat(pa), load4(pb, full)));
         pa += aInnerStep << 2;
         pb += <usize>cols << 2;
       }

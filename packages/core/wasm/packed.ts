@@ -56,8 +56,8 @@ export function rowAffinePacked(out: usize, start: usize, x: usize, a: usize, in
       const end = v + (<usize>n << 2);
       let pv = v;
       for (; pv + 8 <= end; pv += 8) {
-        const s = f32x4.splat(load<f32>(pv));
-        const t = f32x4.splat(load<f32>(pv, 4));
+        const s = v128.load32_splat(pv);
+        const t = v128.load32_splat(pv, 4);
         s0 = f32x4.add(f32x4.add(s0, f32x4.mul(s, v128.load(q0))), f32x4.mul(t, v128.load(q0, 32)));
         s1 = f32x4.add(f32x4.add(s1, f32x4.mul(s, v128.load(q0, 16))), f32x4.mul(t, v128.load(q0, 48)));
         s2 = f32x4.add(f32x4.add(s2, f32x4.mul(s, v128.load(q1))), f32x4.mul(t, v128.load(q1, 32)));
@@ -72,7 +72,7 @@ export function rowAffinePacked(out: usize, start: usize, x: usize, a: usize, in
         q3 += 64;
       }
       for (; pv < end; pv += 4) {
-        const s = f32x4.splat(load<f32>(pv));
+        const s = v128.load32_splat(pv);
         s0 = f32x4.add(s0, f32x4.mul(s, v128.load(q0)));
         s1 = f32x4.add(s1, f32x4.mul(s, v128.load(q0, 16)));
         s2 = f32x4.add(s2, f32x4.mul(s, v128.load(q1)));
@@ -103,7 +103,7 @@ export function rowAffinePacked(out: usize, start: usize, x: usize, a: usize, in
       let q = m + ((<usize>panel * <usize>n) << 5);
       const end = v + (<usize>n << 2);
       for (let pv = v; pv < end; pv += 4) {
-        const s = f32x4.splat(load<f32>(pv));
+        const s = v128.load32_splat(pv);
         s0 = f32x4.add(s0, f32x4.mul(s, v128.load(q)));
         s1 = f32x4.add(s1, f32x4.mul(s, v128.load(q, 16)));
         q += 32;
