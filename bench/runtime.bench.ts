@@ -7,8 +7,8 @@
  * rows), so a step costs about as much as its matrix-vector products.
  *
  * On WebAssembly a layer step is one call (products, bias and gates fused, weights packed once into 8-column
- * panels): the LSTM at 32 inputs and 64 hidden took 4.2 µs against 37 on JavaScript (8.9×; 7.7× in another run), the GRU
- * 3.1 µs against 22 (7.1×), 13× at 64 and 256;
+ * panels): across four full runs the LSTM at 32 inputs and 64 hidden ran 5.5–9.8× the JavaScript backend and the GRU
+ * 6.3–7.4× (about 3.5 and 2.9 µs a step measured alone), 12–13× at 64 and 256;
  * at the small sizes the products are bound by instruction count (standard WebAssembly SIMD has no fused
  * multiply-add) and the gates' transcendentals take a quarter of the step, which keeps them under 8×.
  * Two bundles are counted: `runtime.bundle-gzip-bytes` (with the forward WebAssembly module, budget 20 KiB) and

@@ -8,8 +8,8 @@
  * Decision these numbers led to: the update path stays a small share of a step, so the trainer can afford its
  * safety checks (non-finite gradients and parameters, with an undo copy) on every step.
  *
- * On the WebAssembly backend the main step ran 7.0–9.0× the JavaScript backend and the batch-1 LSTM 4.1–5.6× (≥ 5
- * and ≥ 2 asked), across two runs. The Adam update is computed in f64 in both backends, bit for bit alike, and stays about 5–7% of a step,
+ * On the WebAssembly backend the main step ran 6.4–9.0× the JavaScript backend and the batch-1 LSTM 3.6–5.6× (≥ 5
+ * and ≥ 2 asked), across four runs. The Adam update is computed in f64 in both backends, bit for bit alike, and stays about 5–7% of a step,
  * so it was not given a faster f32 SIMD form that would make the backends' weights differ.
  */
 import { Random, randomUniform, tensor } from '@weft/core';

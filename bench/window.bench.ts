@@ -8,7 +8,7 @@
  * tape node per step; see the results file for how far that puts them ahead of the composed twins and how close
  * the LSTM window comes to the bare matrix-product rate.
  *
- * On the WebAssembly backend the LSTM window ran at 0.77–0.87 of the bare product rate (≥ 0.6 asked) and 8–9× the
+ * On the WebAssembly backend the LSTM window ran at 0.76–0.87 of the bare product rate (≥ 0.6 asked) and 6.6–9× the
  * JavaScript backend: the step kernels' SIMD transcendentals keep the non-product share small, so the fused cells
  * stay one tape node per step rather than fusing the products into the step.
  */
