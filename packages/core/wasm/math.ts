@@ -106,25 +106,6 @@
   return lengths != 0 && step >= load<i32>(lengths + (<usize>b << 2));
 }
 
-/** Copies `count` floats. */
-export function copyFloats(target: usize, source: usize, count: i32): void {
-  memory.copy(target, source, <usize>count << 2);
-}
-
-/** target += source over `count` floats, when both exist (0 is none). */
-export function addFloatsInto(target: usize, source: usize, count: i32): void {
-  if (target == 0 || source == 0) return;
-  let i = 0;
-  for (; i + 4 <= count; i += 4) {
-    const p = target + (<usize>i << 2);
-    v128.store(p, f32x4.add(v128.load(p), v128.load(source + (<usize>i << 2))));
-  }
-  for (; i < count; i++) {
-    const p = target + (<usize>i << 2);
-    store<f32>(p, load<f32>(p) + load<f32>(source + (<usize>i << 2)));
-  }
-}
-
 /** sigmoid4 as a call (not inlined): for the scalar tails of rows, where code size matters more than a call. */
 export function sigmoidCall4(x: v128): v128 {
   return sigmoid4(x);
