@@ -34,8 +34,6 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
   const bytes = checkReservation(options.memoryBytes ?? 16 * 1048576 + 4 * (options.weightBytes ?? 0), 'runtime.memoryBytes');
   const memory = new LinearMemory(bytes);
   const x = new WebAssembly.Instance(compiled, { env: { memory: memory.memory } }).exports as unknown as Readonly<Record<string, Kernel>>;
-  const buffer = memory.buffer;
-  const mine = (a: FloatArray): boolean => a.buffer === buffer;
   const workspace = new KernelWorkspace(memory);
   const scratch = (floats: number): number => workspace.scratch(floats);
   const lengths = (values: Int32Array | null, rows: number): number => workspace.lengths(values, rows);
@@ -43,32 +41,34 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
   const foreign = (kernel: string): never => {
     throw new WeftError({ code: 'backend_mismatch', path: `runtime ${kernel}`, expected: "arrays of this runtime's webassembly memory (made by its backend)", received: 'an array from elsewhere' });
   };
+  // The byte offset of each array, or −1 when it is not this memory's (memory.offsetOf says why not `byteOffset`).
+  const at = (a: FloatArray): number => memory.offsetOf(a);
+  const atOrZero = (a: FloatArray | null): number => (a === null ? 0 : memory.offsetOf(a));
   const kernels: ForwardKernels = {
     affineRows: (out, bias, xs, weights, rows, inner, cols) => {
-      if (!(mine(out) && mine(bias) && mine(xs) && mine(weights))) foreign('affineRows');
-      x.affineRows(out.byteOffset, bias.byteOffset, xs.byteOffset, weights.byteOffset, rows, inner, cols,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32));
+      const o = at(out), b = at(bias), p = at(xs), w = at(weights);
+      if (o < 0 || b < 0 || p < 0 || w < 0) foreign('affineRows');
+      x.affineRows(o, b, p, w, rows, inner, cols, rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32));
       return out;
     },
     lstmLayerStep: (xs, input, recurrent, bias, peephole, hidden, cell, gates, tanhCell, rows, inputSize, size, rowLengths, step) => {
-      if (!(mine(xs) && mine(input) && mine(recurrent) && mine(bias) && (peephole === null || mine(peephole)) && mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell))) foreign('lstmLayerStep');
-      x.lstmLayerStep(xs.byteOffset, input.byteOffset, recurrent.byteOffset, bias.byteOffset, peephole === null ? 0 : peephole.byteOffset,
-        hidden.byteOffset, cell.byteOffset, gates.byteOffset, tanhCell.byteOffset, rows, inputSize, size, lengths(rowLengths, rows), step,
+      const p = at(xs), w = at(input), r = at(recurrent), b = at(bias), e = atOrZero(peephole), h = at(hidden), c = at(cell), g = at(gates), t = at(tanhCell);
+      if (p < 0 || w < 0 || r < 0 || b < 0 || e < 0 || h < 0 || c < 0 || g < 0 || t < 0) foreign('lstmLayerStep');
+      x.lstmLayerStep(p, w, r, b, e, h, c, g, t, rows, inputSize, size, lengths(rowLengths, rows), step,
         rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * size) / 8) * 8) * Math.max(inputSize, size) + 32));
     },
     gruLayerStep: (xs, input, bias, recurrent, candidateWeights, candidateBias, hidden, projected, gates, updateReset, candidate, resetHidden,
       rows, inputSize, size, rowLengths, step) => {
-      if (!(mine(xs) && mine(input) && mine(bias) && mine(recurrent) && mine(candidateWeights) && (candidateBias === null || mine(candidateBias))
-        && mine(hidden) && mine(projected) && mine(gates) && mine(updateReset) && mine(candidate) && mine(resetHidden))) foreign('gruLayerStep');
-      x.gruLayerStep(xs.byteOffset, input.byteOffset, bias.byteOffset, recurrent.byteOffset, candidateWeights.byteOffset,
-        candidateBias === null ? 0 : candidateBias.byteOffset, hidden.byteOffset, projected.byteOffset, gates.byteOffset, updateReset.byteOffset,
-        candidate.byteOffset, resetHidden.byteOffset, rows, inputSize, size, lengths(rowLengths, rows), step,
+      const p = at(xs), w = at(input), b = at(bias), r = at(recurrent), cw = at(candidateWeights), cb = atOrZero(candidateBias), h = at(hidden);
+      const j = at(projected), g = at(gates), u = at(updateReset), c = at(candidate), rh = at(resetHidden);
+      if (p < 0 || w < 0 || b < 0 || r < 0 || cw < 0 || cb < 0 || h < 0 || j < 0 || g < 0 || u < 0 || c < 0 || rh < 0) foreign('gruLayerStep');
+      x.gruLayerStep(p, w, b, r, cw, cb, h, j, g, u, c, rh, rows, inputSize, size, lengths(rowLengths, rows), step,
         rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * size) / 8) * 8) * Math.max(inputSize, size) + 32));
     },
     plainLayerStep: (xs, input, recurrent, bias, hidden, pre, rectified, rows, inputSize, size, rowLengths, step) => {
-      if (!(mine(xs) && mine(input) && mine(recurrent) && mine(bias) && mine(hidden) && mine(pre))) foreign('plainLayerStep');
-      x.plainLayerStep(xs.byteOffset, input.byteOffset, recurrent.byteOffset, bias.byteOffset, hidden.byteOffset, pre.byteOffset, +rectified,
-        rows, inputSize, size, lengths(rowLengths, rows), step,
+      const p = at(xs), w = at(input), r = at(recurrent), b = at(bias), h = at(hidden), q = at(pre);
+      if (p < 0 || w < 0 || r < 0 || b < 0 || h < 0 || q < 0) foreign('plainLayerStep');
+      x.plainLayerStep(p, w, r, b, h, q, +rectified, rows, inputSize, size, lengths(rowLengths, rows), step,
         rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(size / 8) * 8) * Math.max(inputSize, size) + 32));
     },
   };
@@ -84,12 +84,13 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
       const plain = memory.floats(rows * cols);
       plain.set(values);
       const packed = memory.floats(Math.ceil(cols / 8) * 8 * rows);
-      x.packPanels(packed.byteOffset, plain.byteOffset, rows, cols);
-      memory.release(plain.byteOffset, plain.length * 4);
+      x.packPanels(memory.offsetOf(packed), memory.offsetOf(plain), rows, cols);
+      memory.release(memory.offsetOf(plain), plain.length * 4);
       return packed;
     },
     release(array: Float32Array): void {
-      if (array.buffer === buffer) memory.release(array.byteOffset, array.length * 4);
+      const offset = memory.offsetOf(array);
+      if (offset >= 0) memory.release(offset, array.length * 4);
     },
     describe(): string {
       return `webassembly (f32x4 SIMD forward kernels, ${Math.round(memory.reservedBytes / 1048576)} MiB reserved)`;

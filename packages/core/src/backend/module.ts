@@ -64,11 +64,11 @@ export class KernelWorkspace {
   lengths(lengths: Int32Array | null, rows: number): number {
     if (lengths === null) return 0;
     if (this.lengthsCopy.length < rows) {
-      this.memory.release(this.lengthsCopy.byteOffset, this.lengthsCopy.length * 4);
+      this.memory.release(this.memory.offsetOf(this.lengthsCopy), this.lengthsCopy.length * 4);
       this.lengthsCopy = this.memory.integers(Math.max(rows, 2 * this.lengthsCopy.length));
     }
     const copy = this.lengthsCopy;
     for (let b = 0; b < rows; b++) copy[b] = lengths[b];
-    return copy.byteOffset;
+    return this.memory.offsetOf(copy);
   }
 }

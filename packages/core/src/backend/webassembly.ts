@@ -44,8 +44,6 @@ export function webAssemblyUnavailable(): string | null {
   return moduleUnavailable(trainingModuleBase64);
 }
 
-const pointer = (array: FloatArray | Int32Array | null): Pointer => (array === null ? 0 : array.byteOffset);
-
 export function createWebAssemblyBackend(options: WebAssemblyBackendOptions = {}): Backend {
   const bytes = checkReservation(options.memoryBytes ?? DEFAULT_MEMORY_BYTES, 'webassembly backend.memoryBytes');
   compiled ??= compileModule(trainingModuleBase64);
@@ -77,7 +75,7 @@ class WebAssemblyBackend implements Backend {
   }
 
   holds(array: FloatArray): boolean {
-    return array instanceof Float64Array || array.buffer === this.memory.buffer;
+    return array instanceof Float64Array || this.memory.offsetOf(array) >= 0;
   }
 
   describe(): string {
@@ -95,93 +93,96 @@ class WebAssemblyBackend implements Backend {
   private table(): KernelTable {
     const js = javascriptKernels;
     const x = this.exports;
-    const buffer = this.memory.buffer;
-    const mine = (a: FloatArray): boolean => a.buffer === buffer;
-    const mineOrNull = (a: FloatArray | null): boolean => a === null || a.buffer === buffer;
+    const memory = this.memory;
+    // Arrays are found by memory.offsetOf (a recorded offset, not `byteOffset`/`buffer`: see memory.ts for why).
+    const mine = (a: FloatArray): boolean => memory.offsetOf(a) >= 0;
+    const mineOrNull = (a: FloatArray | null): boolean => a === null || memory.offsetOf(a) >= 0;
+    const at = (a: FloatArray | Int32Array): Pointer => memory.offsetOf(a);
+    const pointer = (a: FloatArray | Int32Array | null): Pointer => (a === null ? 0 : memory.offsetOf(a));
     return {
       ...js,
       matmul: (out, a, b, rows, inner, cols, transposeA = false, transposeB = false, accumulate = false) => {
         if (!(mine(out) && mine(a) && mine(b))) return js.matmul(out, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
         const scratch = rows < 4 ? 0 : this.scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
-        x.matmul(out.byteOffset, a.byteOffset, b.byteOffset, rows, inner, cols, +transposeA, +transposeB, +accumulate, scratch);
+        x.matmul(at(out), at(a), at(b), rows, inner, cols, +transposeA, +transposeB, +accumulate, scratch);
         return out;
       },
       add: (out, a, b, length) => {
         if (!(mine(out) && mine(a) && mine(b))) return js.add(out, a, b, length);
-        x.add(out.byteOffset, a.byteOffset, b.byteOffset, length);
+        x.add(at(out), at(a), at(b), length);
         return out;
       },
       subtract: (out, a, b, length) => {
         if (!(mine(out) && mine(a) && mine(b))) return js.subtract(out, a, b, length);
-        x.subtract(out.byteOffset, a.byteOffset, b.byteOffset, length);
+        x.subtract(at(out), at(a), at(b), length);
         return out;
       },
       multiply: (out, a, b, length) => {
         if (!(mine(out) && mine(a) && mine(b))) return js.multiply(out, a, b, length);
-        x.multiply(out.byteOffset, a.byteOffset, b.byteOffset, length);
+        x.multiply(at(out), at(a), at(b), length);
         return out;
       },
       scale: (out, a, s, length) => {
         if (!(mine(out) && mine(a))) return js.scale(out, a, s, length);
-        x.scale(out.byteOffset, a.byteOffset, s, length);
+        x.scale(at(out), at(a), s, length);
         return out;
       },
       addInto: (out, a, length) => {
         if (!(mine(out) && mine(a))) return js.addInto(out, a, length);
-        x.addInto(out.byteOffset, a.byteOffset, length);
+        x.addInto(at(out), at(a), length);
         return out;
       },
       addScaledInto: (out, a, s, length) => {
         if (!(mine(out) && mine(a))) return js.addScaledInto(out, a, s, length);
-        x.addScaledInto(out.byteOffset, a.byteOffset, s, length);
+        x.addScaledInto(at(out), at(a), s, length);
         return out;
       },
       multiplyInto: (out, a, b, length) => {
         if (!(mine(out) && mine(a) && mine(b))) return js.multiplyInto(out, a, b, length);
-        x.multiplyInto(out.byteOffset, a.byteOffset, b.byteOffset, length);
+        x.multiplyInto(at(out), at(a), at(b), length);
         return out;
       },
       addRow: (out, a, row, rows, cols) => {
         if (!(mine(out) && mine(a) && mine(row))) return js.addRow(out, a, row, rows, cols);
-        x.addRow(out.byteOffset, a.byteOffset, row.byteOffset, rows, cols);
+        x.addRow(at(out), at(a), at(row), rows, cols);
         return out;
       },
       sumRows: (out, a, rows, cols, accumulate = false) => {
         if (!(mine(out) && mine(a))) return js.sumRows(out, a, rows, cols, accumulate);
-        x.sumRows(out.byteOffset, a.byteOffset, rows, cols, +accumulate);
+        x.sumRows(at(out), at(a), rows, cols, +accumulate);
         return out;
       },
       sigmoid: (out, a, length) => {
         if (!(mine(out) && mine(a))) return js.sigmoid(out, a, length);
-        x.sigmoid(out.byteOffset, a.byteOffset, length);
+        x.sigmoid(at(out), at(a), length);
         return out;
       },
       tanh: (out, a, length) => {
         if (!(mine(out) && mine(a))) return js.tanh(out, a, length);
-        x.tanh(out.byteOffset, a.byteOffset, length);
+        x.tanh(at(out), at(a), length);
         return out;
       },
       exp: (out, a, length) => {
         if (!(mine(out) && mine(a))) return js.exp(out, a, length);
-        x.exp(out.byteOffset, a.byteOffset, length);
+        x.exp(at(out), at(a), length);
         return out;
       },
       sigmoidGradientInto: (inputGradient, outputGradient, y, length) => {
         if (!(mine(inputGradient) && mine(outputGradient) && mine(y))) return js.sigmoidGradientInto(inputGradient, outputGradient, y, length);
-        x.sigmoidGradientInto(inputGradient.byteOffset, outputGradient.byteOffset, y.byteOffset, length);
+        x.sigmoidGradientInto(at(inputGradient), at(outputGradient), at(y), length);
         return inputGradient;
       },
       tanhGradientInto: (inputGradient, outputGradient, y, length) => {
         if (!(mine(inputGradient) && mine(outputGradient) && mine(y))) return js.tanhGradientInto(inputGradient, outputGradient, y, length);
-        x.tanhGradientInto(inputGradient.byteOffset, outputGradient.byteOffset, y.byteOffset, length);
+        x.tanhGradientInto(at(inputGradient), at(outputGradient), at(y), length);
         return inputGradient;
       },
       lstmStepForward: (hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, lengths, step) => {
         if (!(mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell) && mine(hiddenPrevious) && mine(cellPrevious) && mineOrNull(peephole))) {
           return js.lstmStepForward(hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, lengths, step);
         }
-        x.lstmStepForward(hidden.byteOffset, cell.byteOffset, gates.byteOffset, tanhCell.byteOffset, hiddenPrevious.byteOffset,
-          cellPrevious.byteOffset, pointer(peephole), rows, size, this.lengths(lengths, rows), step);
+        x.lstmStepForward(at(hidden), at(cell), at(gates), at(tanhCell), at(hiddenPrevious),
+          at(cellPrevious), pointer(peephole), rows, size, this.lengths(lengths, rows), step);
       },
       lstmStepBackward: (gateGradient, hiddenPreviousGradient, cellPreviousGradient, peepholeGradient, hiddenGradient, cellGradient,
         gates, tanhCell, cellPrevious, cell, peephole, rows, size, lengths, step) => {
@@ -191,24 +192,24 @@ class WebAssemblyBackend implements Backend {
           return js.lstmStepBackward(gateGradient, hiddenPreviousGradient, cellPreviousGradient, peepholeGradient, hiddenGradient,
             cellGradient, gates, tanhCell, cellPrevious, cell, peephole, rows, size, lengths, step);
         }
-        x.lstmStepBackward(gateGradient.byteOffset, pointer(hiddenPreviousGradient), pointer(cellPreviousGradient), pointer(peepholeGradient),
-          pointer(hiddenGradient), pointer(cellGradient), gates.byteOffset, tanhCell.byteOffset, cellPrevious.byteOffset, cell.byteOffset,
+        x.lstmStepBackward(at(gateGradient), pointer(hiddenPreviousGradient), pointer(cellPreviousGradient), pointer(peepholeGradient),
+          pointer(hiddenGradient), pointer(cellGradient), at(gates), at(tanhCell), at(cellPrevious), at(cell),
           pointer(peephole), rows, size, this.lengths(lengths, rows), step);
       },
       gruUpdateReset: (gates, projected, projectedOffset, recurrentGates, rows, size) => {
         if (!(mine(gates) && mine(projected) && mine(recurrentGates))) return js.gruUpdateReset(gates, projected, projectedOffset, recurrentGates, rows, size);
-        x.gruUpdateReset(gates.byteOffset, projected.byteOffset, projectedOffset, recurrentGates.byteOffset, rows, size);
+        x.gruUpdateReset(at(gates), at(projected), projectedOffset, at(recurrentGates), rows, size);
       },
       gruResetHidden: (resetHidden, gates, hiddenPrevious, rows, size) => {
         if (!(mine(resetHidden) && mine(gates) && mine(hiddenPrevious))) return js.gruResetHidden(resetHidden, gates, hiddenPrevious, rows, size);
-        x.gruResetHidden(resetHidden.byteOffset, gates.byteOffset, hiddenPrevious.byteOffset, rows, size);
+        x.gruResetHidden(at(resetHidden), at(gates), at(hiddenPrevious), rows, size);
       },
       gruStepFinish: (hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step) => {
         if (!(mine(hidden) && mine(gates) && mine(projected) && mine(candidate) && mine(hiddenPrevious))) {
           return js.gruStepFinish(hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step);
         }
-        x.gruStepFinish(hidden.byteOffset, gates.byteOffset, projected.byteOffset, projectedOffset, candidate.byteOffset,
-          hiddenPrevious.byteOffset, +resetAfter, rows, size, this.lengths(lengths, rows), step);
+        x.gruStepFinish(at(hidden), at(gates), at(projected), projectedOffset, at(candidate),
+          at(hiddenPrevious), +resetAfter, rows, size, this.lengths(lengths, rows), step);
       },
       gruBackwardCandidate: (updateResetGradient, candidateGradient, productGradient, hiddenPreviousGradient, hiddenGradient, gates,
         candidate, hiddenPrevious, resetAfter, rows, size, lengths, step) => {
@@ -217,38 +218,38 @@ class WebAssemblyBackend implements Backend {
           return js.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hiddenPreviousGradient, hiddenGradient,
             gates, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step);
         }
-        x.gruBackwardCandidate(updateResetGradient.byteOffset, candidateGradient.byteOffset, productGradient.byteOffset,
-          pointer(hiddenPreviousGradient), hiddenGradient.byteOffset, gates.byteOffset, candidate.byteOffset, hiddenPrevious.byteOffset,
+        x.gruBackwardCandidate(at(updateResetGradient), at(candidateGradient), at(productGradient),
+          pointer(hiddenPreviousGradient), at(hiddenGradient), at(gates), at(candidate), at(hiddenPrevious),
           +resetAfter, rows, size, this.lengths(lengths, rows), step);
       },
       gruBackwardReset: (updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hiddenPrevious, rows, size, lengths, step) => {
         if (!(mine(updateResetGradient) && mineOrNull(hiddenPreviousGradient) && mine(resetHiddenGradient) && mine(gates) && mine(hiddenPrevious))) {
           return js.gruBackwardReset(updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hiddenPrevious, rows, size, lengths, step);
         }
-        x.gruBackwardReset(updateResetGradient.byteOffset, pointer(hiddenPreviousGradient), resetHiddenGradient.byteOffset, gates.byteOffset,
-          hiddenPrevious.byteOffset, rows, size, this.lengths(lengths, rows), step);
+        x.gruBackwardReset(at(updateResetGradient), pointer(hiddenPreviousGradient), at(resetHiddenGradient), at(gates),
+          at(hiddenPrevious), rows, size, this.lengths(lengths, rows), step);
       },
       plainStepForward: (hidden, hiddenPrevious, rectified, rows, size, lengths, step) => {
         if (!(mine(hidden) && mine(hiddenPrevious))) return js.plainStepForward(hidden, hiddenPrevious, rectified, rows, size, lengths, step);
-        x.plainStepForward(hidden.byteOffset, hiddenPrevious.byteOffset, +rectified, rows, size, this.lengths(lengths, rows), step);
+        x.plainStepForward(at(hidden), at(hiddenPrevious), +rectified, rows, size, this.lengths(lengths, rows), step);
       },
       plainStepBackward: (preGradient, hiddenPreviousGradient, hiddenGradient, hidden, rectified, rows, size, lengths, step) => {
         if (!(mine(preGradient) && mineOrNull(hiddenPreviousGradient) && mine(hiddenGradient) && mine(hidden))) {
           return js.plainStepBackward(preGradient, hiddenPreviousGradient, hiddenGradient, hidden, rectified, rows, size, lengths, step);
         }
-        x.plainStepBackward(preGradient.byteOffset, pointer(hiddenPreviousGradient), hiddenGradient.byteOffset, hidden.byteOffset,
+        x.plainStepBackward(at(preGradient), pointer(hiddenPreviousGradient), at(hiddenGradient), at(hidden),
           +rectified, rows, size, this.lengths(lengths, rows), step);
       },
       adamUpdate: (values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon) => {
         if (!(mine(values) && mine(gradient) && mine(firstMoment) && mine(secondMoment))) {
           return js.adamUpdate(values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon);
         }
-        x.adamUpdate(values.byteOffset, gradient.byteOffset, firstMoment.byteOffset, secondMoment.byteOffset, length,
+        x.adamUpdate(at(values), at(gradient), at(firstMoment), at(secondMoment), length,
           beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon);
       },
       sgdUpdate: (values, gradient, velocity, length, rate, decay, mu, kappa, nesterov) => {
         if (!(mine(values) && mine(gradient) && mine(velocity))) return js.sgdUpdate(values, gradient, velocity, length, rate, decay, mu, kappa, nesterov);
-        x.sgdUpdate(values.byteOffset, gradient.byteOffset, velocity.byteOffset, length, rate, decay, mu, kappa, +nesterov);
+        x.sgdUpdate(at(values), at(gradient), at(velocity), length, rate, decay, mu, kappa, +nesterov);
       },
     };
   }
