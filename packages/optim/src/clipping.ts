@@ -4,8 +4,11 @@
  * By global norm (Pascanu, Mikolov & Bengio 2013, "On the difficulty of training recurrent neural networks",
  * Algorithm 1): with ĝ the concatenation of all gradients, if ‖ĝ‖ ≥ threshold then ĝ ← (threshold / ‖ĝ‖)·ĝ.
  * By value (common practice): every entry limited to [−limit, limit].
+ *
+ * Each buffer goes through the kernels of the backend whose memory holds it (sums of squares, scaling, limits,
+ * the search for a non-finite entry), so clipping runs where the gradients live.
  */
-import { fail } from '@weft/core';
+import { backendOf, fail } from '@weft/core';
 import type { Tensor } from '@weft/core';
 
 /** ‖ĝ‖₂ over every parameter's gradient (NaN or Infinity if any entry is not finite). */
@@ -14,7 +17,7 @@ export function gradientNorm(parameters: readonly Tensor[]): number {
   for (const p of parameters) {
     const g = p.gradient;
     if (g === null) continue;
-    for (let i = 0; i < g.length; i++) total += g[i] * g[i];
+    total += backendOf(g).kernels.sumOfSquares(g, g.length);
   }
   return Math.sqrt(total);
 }
@@ -28,7 +31,7 @@ export function limitGradientNorm(parameters: readonly Tensor[], threshold: numb
     for (const p of parameters) {
       const g = p.gradient;
       if (g === null) continue;
-      for (let i = 0; i < g.length; i++) g[i] *= factor;
+      backendOf(g).kernels.scale(g, g, factor, g.length);
     }
   }
   return norm;
@@ -41,15 +44,7 @@ export function limitGradientValues(parameters: readonly Tensor[], limit: number
   for (const p of parameters) {
     const g = p.gradient;
     if (g === null) continue;
-    for (let i = 0; i < g.length; i++) {
-      if (g[i] > limit) {
-        g[i] = limit;
-        changed++;
-      } else if (g[i] < -limit) {
-        g[i] = -limit;
-        changed++;
-      }
-    }
+    changed += backendOf(g).kernels.limitEntries(g, limit, g.length);
   }
   return changed;
 }
@@ -67,9 +62,8 @@ export function firstNonFiniteEntry(parameters: readonly Tensor[], which: 'gradi
     const t = parameters[p];
     const buffer = which === 'gradient' ? t.gradient : t.data;
     if (buffer === null) continue;
-    for (let i = 0; i < buffer.length; i++) {
-      if (!Number.isFinite(buffer[i])) return { name: t.name !== '' ? t.name : `parameters[${p}]`, offset: i, value: buffer[i] };
-    }
+    const i = backendOf(buffer).kernels.firstNonFinite(buffer, buffer.length);
+    if (i >= 0) return { name: t.name !== '' ? t.name : `parameters[${p}]`, offset: i, value: buffer[i] };
   }
   return null;
 }

@@ -18,7 +18,7 @@ export const KERNEL_NAMES = [
   'matmul',
   'add', 'subtract', 'multiply', 'scale', 'addInto', 'addScaledInto', 'multiplyInto', 'addRow', 'sumRows', 'copyAt', 'addAt',
   'sigmoid', 'tanh', 'relu', 'exp', 'log', 'sigmoidGradientInto', 'tanhGradientInto', 'reluGradientInto',
-  'sum', 'dot', 'sumOfSquares', 'maxAbs', 'firstNonFinite', 'crossEntropyRows',
+  'sum', 'dot', 'sumOfSquares', 'maxAbs', 'firstNonFinite', 'limitEntries', 'crossEntropyRows',
   'lstmStepForward', 'lstmStepBackward',
   'gruUpdateReset', 'gruResetHidden', 'gruStepFinish', 'gruBackwardCandidate', 'gruBackwardReset',
   'plainStepForward', 'plainStepBackward',

@@ -34,3 +34,18 @@ export function firstNonFinite(a: FloatArray, length: number): number {
   for (let i = 0; i < length; i++) if (!Number.isFinite(a[i])) return i;
   return -1;
 }
+
+/** Limits every a[i] to [−limit, limit] in place; returns how many entries it changed (NaN stays NaN). */
+export function limitEntries(a: FloatArray, limit: number, length: number): number {
+  let changed = 0;
+  for (let i = 0; i < length; i++) {
+    if (a[i] > limit) {
+      a[i] = limit;
+      changed++;
+    } else if (a[i] < -limit) {
+      a[i] = -limit;
+      changed++;
+    }
+  }
+  return changed;
+}
