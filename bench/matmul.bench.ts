@@ -8,8 +8,8 @@
  * the yardstick is not slowed by having seen two array types.
  *
  * Each f32 product runs on the default backend and again as `<id>.js` on the JavaScript backend. Decision: the
- * WebAssembly SIMD kernel (4 × 8 register block over packed panels, f32 accumulation) ran at 30–33 GFLOP/s against
- * 2.6–3.3 for the JavaScript one (8.9–11× across four runs; ≥ 6 asked), so it is the default wherever SIMD validates; the
+ * WebAssembly SIMD kernel (4 × 8 register block over packed panels, f32 accumulation) ran at 29.8–33 GFLOP/s against
+ * 2.6–3.6 for the JavaScript one (8.3–11× across five runs; ≥ 6 asked), so it is the default wherever SIMD validates; the
  * JavaScript kernel stays as the reference, the fallback and the f64 path.
  */
 import { Random, kernels } from '@weft/core';

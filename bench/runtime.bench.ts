@@ -7,10 +7,11 @@
  * rows), so a step costs about as much as its matrix-vector products.
  *
  * On WebAssembly a layer step is one call (products, bias and gates fused, weights packed once into 8-column
- * panels): across four full runs the LSTM at 32 inputs and 64 hidden ran 5.5–9.8× the JavaScript backend and the GRU
- * 6.3–7.4× (about 3.5 and 2.9 µs a step measured alone), 12–13× at 64 and 256;
- * at the small sizes the products are bound by instruction count (standard WebAssembly SIMD has no fused
- * multiply-add) and the gates' transcendentals take a quarter of the step, which keeps them under 8×.
+ * panels). In the last full run the LSTM at 32 inputs and 64 hidden ran 11.4× the JavaScript backend and the GRU
+ * 10.3× (2.85 and 2.21 µs a step), 16.8× at 64 and 256. Two changes took the GRU from 6.3–7.4× to that: the
+ * one-row product walks two panels at a time, which V8 keeps in registers (four spilled), and arrays are found
+ * by an offset recorded when they were made (core/backend/memory.ts), not by `byteOffset`, which costs 10–15 ns a
+ * read in Node 20.
  * Two bundles are counted: `runtime.bundle-gzip-bytes` (with the forward WebAssembly module, budget 20 KiB) and
  * `runtime.javascript.bundle-gzip-bytes` (`@weft/io/runtime/javascript`, budget 12 KiB).
  */
