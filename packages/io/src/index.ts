@@ -1,4 +1,4 @@
-/** @weft/io: the weight file, checkpoints, and (under `@weft/io/runtime`) the inference runtime. */
+/** @weft/io: the weight file, checkpoints, the data path (tables, scores, baselines), and (under `@weft/io/runtime`) the inference runtime. */
 export { decodeBase64Into, decodedLength, encodeBase64 } from './base64.js';
 export { fromHalfBits, toHalfBits } from './half.js';
 export { dequantizeRows, quantizeRows } from './quantize.js';
@@ -12,3 +12,9 @@ export type { Checkpoint } from './checkpoint.js';
 export { readCheckpoint, writeCheckpoint } from './checkpoint.js';
 export { checkMetadata, metadataProblems } from './metadata.js';
 export { layoutProblems } from './layout-check.js';
+export type { Delimiter, Table, TableOptions, TableRow } from './data/table.js';
+export { columnNamed, columnStatistics, decimal, detectDelimiter, fieldPath, numberAt, parseTable } from './data/table.js';
+export type { ClassScores, ClassificationReport, ForecastErrors } from './data/scores.js';
+export { ForecastErrorSum, classificationReport, forecastErrors, scoresFromConfusion } from './data/scores.js';
+export type { BaselineOptions, BaselineScore, Forecaster, SeriesSplit } from './data/baselines.js';
+export { bestBaseline, detectSeason, fitLinear, forecastBaselines, scoreForecaster, solve } from './data/baselines.js';
