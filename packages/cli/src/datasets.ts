@@ -11,8 +11,8 @@ import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { classificationMetrics, sequenceBatches, streamBatches } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { Tape, lastStepsValues } from './evaluate.js';
-import type { WeightMetadata } from '@weft/io';
-import { columnStatistics, decimal, numberAt, parseCsv } from './csv.js';
+import { ForecastErrorSum, bestBaseline, classificationReport, columnStatistics, decimal, forecastBaselines, numberAt, parseTable } from '@weft/io';
+import type { ClassificationReport, ForecastErrors, WeightMetadata } from '@weft/io';
 import { CommandError } from './errors.js';
 
 export type Task = 'forecast' | 'text' | 'classify';
@@ -26,10 +26,34 @@ export interface Prepared {
   readonly metadata: WeightMetadata;
   /** Lines to show the user about what preparation did (columns left out, and why). */
   readonly notes?: readonly string[];
-  /** The held-out baseline and how to read the model's validation figure against it. */
-  readonly baseline: { readonly name: string; readonly value: number; readonly metric: string };
-  /** The model's figure on the held-out data, in the baseline's terms (data units for forecasts). */
-  readonly heldOut: (model: SequenceModel) => number;
+  /** The model and every baseline on the same held-out data, in the data's own units. */
+  readonly heldOut: (model: SequenceModel) => HeldOutReport;
+}
+
+/** One row of a held-out comparison: a model or a baseline, and its figures. */
+export interface Contender {
+  readonly name: string;
+  /** How a baseline forecasts, in words (empty for the model). */
+  readonly description: string;
+  /** The figure the verdict compares (MAE, perplexity: lower is better; accuracy: higher). */
+  readonly value: number;
+  /** Forecast errors per target (forecasts only). */
+  readonly perTarget?: readonly ForecastErrors[];
+  readonly overall?: ForecastErrors;
+  /** Classification scores (classify only). */
+  readonly scores?: ClassificationReport;
+}
+
+export interface HeldOutReport {
+  /** What `value` is: "MAE" (in the data's units), "perplexity" or "accuracy". */
+  readonly metric: string;
+  readonly lowerIsBetter: boolean;
+  /** What was held out, in words. */
+  readonly what: string;
+  readonly model: Contender;
+  readonly baselines: readonly Contender[];
+  /** Target names (forecasts), or class names (classify). */
+  readonly names: readonly string[];
 }
 
 export interface PrepareOptions {
@@ -44,10 +68,12 @@ export interface PrepareOptions {
   readonly embedding: number;
   readonly batch: number;
   readonly seed: string;
+  /** Rows in a season for the seasonal-naive baseline; null for none; undefined to detect one. */
+  readonly season?: number | null;
 }
 
 export function prepareForecast(text: string, file: string, options: PrepareOptions): Prepared {
-  const table = parseCsv(text, file);
+  const table = parseTable(text, { file });
   // A column of numbers is used; a column with no number at all (dates, names) is left out, and said so; a column
   // of numbers with some cells that are not is an error at its first such cell, never quietly dropped.
   const numericColumns: number[] = [];
@@ -62,7 +88,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     if (firstBad < 0) numericColumns.push(c);
     else if (numbers === 0) leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 40))} at line ${table.rows[firstBad].line})`);
     else if (options.columns === undefined) {
-      throw new CommandError(`${file}:${table.rows[firstBad].line}:${c + 1}: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 80))} in column "${name}" is not a decimal number `
+      throw new CommandError(`${file}:${table.rows[firstBad].line}:${table.rows[firstBad].starts[c]}: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 80))} in column "${name}" is not a decimal number `
         + `(${numbers} of ${table.rows.length} cells there are); fix the cell, or choose the columns with --columns`, 1);
     }
   });
@@ -79,7 +105,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const targets = pick(options.targets, columns, 'target');
   for (const t of targets) if (!columns.includes(t)) throw new CommandError(`--target ${table.header[t]} must be one of the input columns (${columns.map((c) => table.header[c]).join(', ')})`, 2);
   const rows = table.rows.length;
-  const values: number[][] = table.rows.map((_, r) => columns.map((c) => numberAt(table, r, c, file)));
+  const values: number[][] = table.rows.map((_, r) => columns.map((c) => numberAt(table, r, c)));
   const validationRows = Math.max(options.window + options.horizon + 1, Math.round(rows * options.validationShare));
   const trainRows = rows - validationRows;
   if (trainRows < options.streams * options.window + options.horizon) {
@@ -94,15 +120,18 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const validationFrom = trainRows - options.window;
   const heldOutSteps = Math.floor((rows - validationFrom - options.horizon) / options.window) * options.window;
   const validation = streamBatches({ kind: 'values', values: flat(validationFrom, validationFrom + heldOutSteps + options.horizon), features: columns.length, targetColumns: targetIndexes, horizon: options.horizon }, { streams: 1, window: options.window });
-  // Naive baseline on the same positions: the value now, as the forecast for `horizon` rows ahead (persistence).
-  let naive = 0;
-  let count = 0;
-  for (let t = validationFrom; t < validationFrom + heldOutSteps; t++) {
-    for (const j of targetIndexes) {
-      naive += Math.abs(values[t + options.horizon][j] - values[t][j]);
-      count++;
-    }
+  // The scored positions: rows t ≥ trainRows whose forecast (of row t + horizon) lies in the held-out stream; the
+  // warm-up window before them carries state only. The baselines are scored on exactly these positions.
+  const positions: number[] = [];
+  for (let t = trainRows; t < validationFrom + heldOutSteps; t++) positions.push(t);
+  if (positions.length === 0) throw new CommandError(`${file}: the validation share leaves no held-out rows to score; raise --validation`);
+  if (options.season !== undefined && options.season !== null && !(options.season < trainRows)) {
+    throw new CommandError(`${file}: --season ${options.season} is not shorter than the ${trainRows} training rows (of ${rows}); give a shorter season or more data`, 2);
   }
+  const baselines = forecastBaselines({ values, targets: targetIndexes, horizon: options.horizon, trainRows, positions }, { season: options.season });
+  const targetNames = targets.map((c) => table.header[c]);
+  const firstScored = table.rows[trainRows].line;
+  const lastScored = table.rows[positions[positions.length - 1] + options.horizon].line;
   return {
     task: 'forecast',
     input: { kind: 'values', width: columns.length },
@@ -112,25 +141,37 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     metadata: {
       task: 'forecast',
       columns: columns.map((c) => table.header[c]),
-      targetColumns: targets.map((c) => table.header[c]),
+      targetColumns: targetNames,
       horizon: options.horizon,
       normalisation: { mean, deviation },
     },
     notes: options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : [],
-    baseline: { name: `persistence (the value now, ${options.horizon} rows ahead)`, value: naive / count, metric: 'held-out MAE' },
     heldOut: (model) => {
-      // Mean absolute error in the data's own units, over every target column and held-out position.
-      let error = 0;
-      let n = 0;
-      forEachBatch(model, validation, (batch, outputs) => {
-        const targetsTensor = batch.targets.kind === 'values' ? batch.targets.values.data : null;
-        for (let i = 0; i < outputs.length; i++) {
-          const j = targetIndexes[i % targetIndexes.length];
-          error += Math.abs(outputs[i] - (targetsTensor as ArrayLike<number>)[i]) * deviation[j];
-          n++;
+      // Errors in the data's own units, per target and overall, at the scored positions.
+      const sums = targetIndexes.map(() => new ForecastErrorSum());
+      const all = new ForecastErrorSum();
+      let position = 0;
+      forEachBatch(model, validation, (_batch, outputs) => {
+        for (let i = 0; i < outputs.length; i += targetIndexes.length) {
+          const t = validationFrom + position++;
+          if (t < trainRows || t >= validationFrom + heldOutSteps) continue;
+          targetIndexes.forEach((j, k) => {
+            const forecast = outputs[i + k] * deviation[j] + mean[j];
+            const actual = values[t + options.horizon][j];
+            sums[k].add(actual, forecast);
+            all.add(actual, forecast);
+          });
         }
       });
-      return error / n;
+      const overall = all.result();
+      return {
+        metric: 'MAE',
+        lowerIsBetter: true,
+        what: `${positions.length} forecasts of ${targetNames.join(', ')}, ${options.horizon} row${options.horizon === 1 ? '' : 's'} ahead, for lines ${firstScored + options.horizon}–${lastScored} of ${file} (the last ${rows - trainRows} rows, not trained on)`,
+        model: { name: 'model', description: '', value: overall.mae, perTarget: sums.map((s) => s.result()), overall },
+        baselines: baselines.map((b) => ({ name: b.name, description: b.description, value: b.overall.mae, perTarget: b.perTarget, overall: b.overall })),
+        names: targetNames,
+      };
     },
   };
 }
@@ -167,13 +208,19 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
     train: streamBatches({ kind: 'tokens', tokens: trainIds, vocabulary: vocabulary.length }, { streams: options.streams, window: options.window, lookback: options.lookback }),
     validation: validationSource,
     metadata: { task: 'next-token', tokens: options.tokens, vocabulary },
-    baseline: { name: 'unigram frequencies of the training text', value: unigram, metric: 'validation perplexity' },
-    heldOut: (model) => Math.exp(averageCrossEntropy(model, validationSource)),
+    heldOut: (model) => ({
+      metric: 'perplexity',
+      lowerIsBetter: true,
+      what: `the last ${validationCount} ${options.tokens} of ${file} (not trained on), each predicted from those before it`,
+      model: { name: 'model', description: '', value: Math.exp(averageCrossEntropy(model, validationSource)) },
+      baselines: [{ name: 'unigram', description: 'each token as often as in the training text', value: unigram }],
+      names: [],
+    }),
   };
 }
 
 export function prepareClassification(text: string, file: string, options: PrepareOptions & { labelColumn: string; sequenceColumn: string }): Prepared {
-  const table = parseCsv(text, file);
+  const table = parseTable(text, { file });
   const labelAt = table.header.indexOf(options.labelColumn);
   const sequenceAt = table.header.indexOf(options.sequenceColumn);
   if (labelAt < 0 || sequenceAt < 0) {
@@ -214,7 +261,11 @@ export function prepareClassification(text: string, file: string, options: Prepa
   const trainSet = order.slice(validationCount).map((i) => sequences[i]);
   if (trainSet.length === 0) throw new CommandError(`${file}: too few sequences to keep a validation share of ${options.validationShare}`);
   const validation = sequenceBatches(validationSet, { batchSize: 64, features: 1 });
-  const majority = Math.max(...labels.map((_, k) => validationSet.filter((s) => s.label === k).length)) / validationSet.length;
+  // The majority class of the training sequences, scored on the validation sequences.
+  const trainCounts = labels.map((_, k) => trainSet.filter((q) => q.label === k).length);
+  const majorityClass = trainCounts.indexOf(Math.max(...trainCounts));
+  const validationLabels = validationSet.map((q) => q.label ?? 0);
+  const majority = classificationReport(validationLabels, validationLabels.map(() => majorityClass), labels.length);
   return {
     task: 'classify',
     input: numeric ? { kind: 'values', width: 1 } : { kind: 'embedding', vocabulary: vocabulary!.length, width: options.embedding },
@@ -227,17 +278,27 @@ export function prepareClassification(text: string, file: string, options: Prepa
       ...(numeric ? { normalisation: { mean: [mean], deviation: [deviation] } } : { vocabulary: vocabulary ?? [], tokens: 'words' }),
       sequenceColumn: options.sequenceColumn,
     },
-    baseline: { name: 'always the most common class', value: majority, metric: 'validation accuracy' },
     heldOut: (model) => {
-      let correct = 0;
-      let n = 0;
+      const predicted: number[] = [];
+      const actual: number[] = [];
       forEachBatch(model, validation, (batch, outputs) => {
         if (batch.targets.kind !== 'classes') return;
-        const metrics = classificationMetrics(outputs, batch.targets.classes, null, batch.batch, labels.length);
-        correct += metrics.accuracy * metrics.count;
-        n += metrics.count;
+        for (let r = 0; r < batch.batch; r++) {
+          let best = 0;
+          for (let k = 1; k < labels.length; k++) if (outputs[r * labels.length + k] > outputs[r * labels.length + best]) best = k;
+          predicted.push(best);
+          actual.push(batch.targets.classes[r]);
+        }
       });
-      return correct / n;
+      const scores = classificationReport(actual, predicted, labels.length);
+      return {
+        metric: 'accuracy',
+        lowerIsBetter: false,
+        what: `${validationSet.length} sequences of ${file} held out at random (seed ${options.seed}), not trained on`,
+        model: { name: 'model', description: '', value: scores.accuracy, scores },
+        baselines: [{ name: 'majority class', description: `always ${JSON.stringify(labels[majorityClass])}, the most common class in training`, value: majority.accuracy, scores: majority }],
+        names: labels,
+      };
     },
   };
 }

@@ -3,6 +3,6 @@ export { main } from './main.js';
 export { train } from './train.js';
 export type { TrainOutcome } from './train.js';
 export { parseArgs } from './args.js';
-export { parseCsv } from './csv.js';
+export { reportLines, verdict } from './report.js';
 export { CommandError } from './errors.js';
 export { lossCurveSvg, sparkline } from './plot.js';

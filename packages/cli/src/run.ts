@@ -1,120 +1,217 @@
 /**
- * `weft run`: a weight file applied to new data, through the inference runtime. What it reads and writes follows
- * the model's task (from the file's metadata):
- * - forecast: a CSV with the model's columns → for each row, the forecast of the target columns `horizon` rows on;
+ * `weft run`: a weight file applied to new data, through the inference runtime and the metadata's translator
+ * (`@weft/io` createTranslator: the normalisation and vocabulary training recorded). What it reads and writes
+ * follows the model's task:
+ * - forecast: a CSV/TSV with the model's columns → for each row, the forecast of the target columns `horizon`
+ *   rows on, in real units, with any `--keep` columns (a date, an id) carried through;
  * - next-token: text → for each position, the most likely next token and the probability it had;
  * - classification: a CSV with the sequence column → for each row, the predicted class and each class's probability.
+ * A table read from standard input (`-`) is read line by line and each output row is written as soon as its input
+ * row has arrived, so `tail -f readings.csv | weft run MODEL -` forecasts as readings come in.
  */
-import { existsSync, readFileSync } from 'node:fs';
+import { createReadStream, existsSync, readFileSync } from 'node:fs';
+import { createInterface } from 'node:readline';
+import { createTranslator, parseTable, fieldPath } from '@weft/io';
+import type { Table } from '@weft/io';
 import { loadWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
+import type { Runtime } from '@weft/io/runtime';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag } from './args.js';
-import { numberAt, parseCsv } from './csv.js';
-import { UNKNOWN, tokenize } from './datasets.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
+  { name: 'keep', value: 'A,B', description: 'input columns to carry through to each output row (forecast, classify), such as a date' },
   { name: 'out', value: 'FILE', description: 'write here instead of standard output' },
   backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
+type OutputRecord = Record<string, string | number>;
+
 function softmax(row: ArrayLike<number>): number[] {
-  const max = Math.max(...Array.from(row));
+  let max = -Infinity;
+  for (let i = 0; i < row.length; i++) max = Math.max(max, row[i]);
   const e = Array.from(row, (z) => Math.exp(z - max));
   const total = e.reduce((s, v) => s + v, 0);
   return e.map((v) => v / total);
 }
 
-function readInput(path: string | undefined): { text: string; name: string } {
-  if (path === undefined || path === '-') return { text: readFileSync(0, 'utf8'), name: '<stdin>' };
-  if (!existsSync(path)) throw new CommandError(`${path}: no such file`);
-  return { text: readFileSync(path, 'utf8'), name: path };
+const csvCell = (v: string | number): string => (typeof v === 'string' && /[",\n\r]/.test(v) ? `"${v.replace(/"/g, '""')}"` : String(v));
+
+/** Where output rows go: written as they come (CSV to a stream), or gathered (JSON, or a file written at the end). */
+class Output {
+  private header: string[] | null = null;
+  private readonly gathered: OutputRecord[] = [];
+  private readonly chunks: string[] = [];
+
+  constructor(private readonly format: 'csv' | 'json', private readonly write: ((text: string) => void) | null) {}
+
+  add(record: OutputRecord): void {
+    if (this.format === 'json') {
+      this.gathered.push(record);
+      return;
+    }
+    let text = '';
+    if (this.header === null) {
+      this.header = Object.keys(record);
+      text += `${this.header.map(csvCell).join(',')}\n`;
+    }
+    text += `${this.header.map((h) => csvCell(record[h] ?? '')).join(',')}\n`;
+    if (this.write !== null) this.write(text);
+    else this.chunks.push(text);
+  }
+
+  /** What remains to be written (JSON, or everything when writing to a file). */
+  finish(): string {
+    if (this.format === 'json') return `${JSON.stringify(this.gathered, null, 2)}\n`;
+    return this.chunks.join('');
+  }
 }
 
-export async function runModel(args: ParsedArgs): Promise<string | null> {
+/** The rows of a table, one record at a time, as lines arrive (quoted fields may span lines). */
+async function* tableRecords(lines: AsyncIterable<string>, file: string): AsyncGenerator<Table> {
+  let header: readonly string[] | null = null;
+  let delimiter: Table['delimiter'] = ',';
+  let pending = '';
+  let lineNumber = 0;
+  let startLine = 0;
+  for await (const raw of lines) {
+    lineNumber++;
+    if (header === null) {
+      const head = parseTable(`${raw}\n`, { file });
+      header = head.header;
+      delimiter = head.delimiter;
+      continue;
+    }
+    if (pending === '') startLine = lineNumber;
+    pending = pending === '' ? raw : `${pending}\n${raw}`;
+    // A record is complete when its quotes balance.
+    if ((pending.match(/"/g)?.length ?? 0) % 2 === 1) continue;
+    const table = parseTable(`${pending}\n`, { file, header, delimiter, firstLine: startLine });
+    pending = '';
+    if (table.rows.length > 0) yield table;
+  }
+  if (header === null) throw new CommandError(`${file}: no header row (the input is empty)`);
+  if (pending !== '') parseTable(pending, { file, header, delimiter, firstLine: startLine });
+}
+
+function columnsAt(table: Table, names: readonly string[], file: string, why: string): number[] {
+  return names.map((c) => {
+    const i = table.header.indexOf(c);
+    if (i < 0) throw new CommandError(`${file}: no column ${JSON.stringify(c)} (${why}); the input has ${table.header.join(', ')}`);
+    return i;
+  });
+}
+
+/** Runs the model on the input; returns what is left to print (null when written to --out or already written). */
+export async function runModel(args: ParsedArgs, write: (text: string) => void = (text) => void process.stdout.write(text)): Promise<string | null> {
   const [modelPath, dataPath] = args.positional;
   if (modelPath === undefined) throw new CommandError('weft run needs a weight file and data (see weft run --help)', 2);
+  if (args.positional.length > 2) throw new CommandError(`weft run takes a weight file and one data file, got ${args.positional.length} arguments`, 2);
   const format = choiceFlag(args, 'format', ['csv', 'json'] as const, 'csv');
   const file = await loadWeightFile(modelPath);
   const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
   const meta = file.metadata as Record<string, unknown>;
-  const { text, name } = readInput(dataPath);
-  let records: Record<string, string | number>[];
-  if (meta.task === 'forecast') {
-    const table = parseCsv(text, name);
-    const columns = meta.columns as string[];
-    const targets = meta.targetColumns as string[];
-    const { mean, deviation } = meta.normalisation as { mean: number[]; deviation: number[] };
-    const at = columns.map((c) => {
-      const i = table.header.indexOf(c);
-      if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)}, which the model reads (it needs ${columns.join(', ')})`);
-      return i;
-    });
-    const streams = runtime.streams(1);
-    const input = new Float32Array(columns.length);
-    const targetIndexes = targets.map((t) => columns.indexOf(t));
-    records = table.rows.map((_, r) => {
-      at.forEach((c, j) => (input[j] = (numberAt(table, r, c, name) - mean[j]) / deviation[j]));
-      const out = streams.step(input);
-      const record: Record<string, string | number> = { row: r + 1 };
-      targetIndexes.forEach((j, k) => (record[`${targets[k]} in ${String(meta.horizon)}`] = Number((out[k] * deviation[j] + mean[j]).toPrecision(6))));
-      return record;
-    });
+  const fromStdin = dataPath === undefined || dataPath === '-';
+  const name = fromStdin ? '<stdin>' : dataPath;
+  if (!fromStdin && !existsSync(dataPath)) throw new CommandError(`${dataPath}: no such file`);
+  const outPath = args.flags.get('out');
+  const output = new Output(format, outPath === undefined ? write : null);
+  const keep = args.flags.get('keep')?.split(',').map((s) => s.trim()).filter((s) => s !== '') ?? [];
+  if (keep.length > 0 && meta.task === 'next-token') throw new CommandError('--keep carries columns of a table; a next-token model reads text', 2);
+
+  if (meta.task === 'forecast' || meta.task === 'classification') {
+    const lines = fromStdin ? createInterface({ input: process.stdin, crlfDelay: Infinity }) : createInterface({ input: createReadStream(dataPath), crlfDelay: Infinity });
+    const each = meta.task === 'forecast' ? forecaster(runtime, meta, name, keep) : classifier(runtime, meta, name, keep);
+    let row = 0;
+    for await (const table of tableRecords(lines, name)) each(table, ++row, (record) => output.add(record));
   } else if (meta.task === 'next-token') {
-    const vocabulary = meta.vocabulary as string[];
-    const index = new Map(vocabulary.map((v, i) => [v, i]));
-    const pieces = tokenize(text, meta.tokens === 'words' ? 'words' : 'characters');
+    const text = fromStdin ? readFileSync(0, 'utf8') : readFileSync(dataPath, 'utf8');
+    const translator = createTranslator(meta);
+    const { ids, pieces, unknown } = translator.tokenIds(text);
+    if (unknown > 0) process.stderr.write(`weft: ${unknown} of ${pieces.length} ${meta.tokens === 'words' ? 'words' : 'characters'} of ${name} are not in the model's vocabulary; they are read as ${translator.tokenText(0)}\n`);
     const streams = runtime.streams(1);
     const token = new Int32Array(1);
-    records = pieces.map((piece, p) => {
-      token[0] = index.get(piece) ?? index.get(UNKNOWN) ?? 0;
+    pieces.forEach((piece, p) => {
+      token[0] = ids[p];
       const probabilities = softmax(streams.step(token));
       const best = probabilities.indexOf(Math.max(...probabilities));
-      const actual = p + 1 < pieces.length ? (index.get(pieces[p + 1]) ?? 0) : -1;
-      return { position: p + 1, token: piece, 'most likely next': vocabulary[best], probability: Number(probabilities[best].toPrecision(4)), 'probability of actual next': actual < 0 ? '' : Number(probabilities[actual].toPrecision(4)) };
-    });
-  } else if (meta.task === 'classification') {
-    const table = parseCsv(text, name);
-    const column = table.header.indexOf(String(meta.sequenceColumn ?? 'sequence'));
-    if (column < 0) throw new CommandError(`${name}: no column ${JSON.stringify(meta.sequenceColumn ?? 'sequence')} with the sequences`);
-    const classes = meta.classes as string[];
-    const vocabulary = meta.vocabulary as string[] | undefined;
-    const index = new Map((vocabulary ?? []).map((v, i) => [v, i]));
-    const norm = meta.normalisation as { mean: number[]; deviation: number[] } | undefined;
-    records = table.rows.map((row, r) => {
-      const items = row.fields[column].trim().split(/\s+/).filter((s) => s !== '');
-      if (items.length === 0) throw new CommandError(`${name}:${row.line}:${column + 1}: an empty sequence`);
-      const values = vocabulary !== undefined && vocabulary.length > 0
-        ? Int32Array.from(items, (s) => index.get(s) ?? 0)
-        : Float32Array.from(items, (s, k) => {
-            const v = Number(s);
-            if (!Number.isFinite(v)) throw new CommandError(`${name}:${row.line}:${column + 1}: item ${k + 1} ${JSON.stringify(s)} is not a number`);
-            return (v - (norm?.mean[0] ?? 0)) / (norm?.deviation[0] ?? 1);
-          });
-      const out = runtime.run(values, items.length, 1);
-      const probabilities = softmax(out.subarray((items.length - 1) * classes.length, items.length * classes.length));
-      const best = probabilities.indexOf(Math.max(...probabilities));
-      const record: Record<string, string | number> = { row: r + 1, predicted: classes[best] };
-      classes.forEach((c, k) => (record[`p(${c})`] = Number(probabilities[k].toPrecision(4))));
-      return record;
+      const actual = p + 1 < pieces.length ? ids[p + 1] : -1;
+      output.add({ position: p + 1, token: piece, 'most likely next': translator.tokenText(best), probability: Number(probabilities[best].toPrecision(4)), 'probability of actual next': actual < 0 ? '' : Number(probabilities[actual].toPrecision(4)) });
     });
   } else {
     throw new CommandError(`${modelPath}: its metadata names no task weft run knows (${JSON.stringify(meta.task)}); expected forecast, next-token or classification`);
   }
-  const output = format === 'json' ? JSON.stringify(records, null, 2) + '\n' : toCsv(records);
-  const outPath = args.flags.get('out');
-  if (outPath === undefined) return output;
-  writeFileAtomic(outPath, output);
-  return null;
+  const rest = output.finish();
+  if (outPath !== undefined) {
+    writeFileAtomic(outPath, rest);
+    return null;
+  }
+  return rest === '' ? null : rest;
 }
 
-function toCsv(records: Record<string, string | number>[]): string {
-  if (records.length === 0) return '';
-  const header = Object.keys(records[0]);
-  const cell = (v: string | number) => (typeof v === 'string' && /[",\n\r]/.test(v) ? `"${v.replace(/"/g, '""')}"` : String(v));
-  return [header.map(cell).join(','), ...records.map((r) => header.map((h) => cell(r[h])).join(','))].join('\n') + '\n';
+type EachRow = (table: Table, row: number, emit: (record: OutputRecord) => void) => void;
+
+function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[]): EachRow {
+  const translator = createTranslator(meta);
+  const streams = runtime.streams(1);
+  const input = new Float32Array(translator.inputNames.length);
+  const raw: Record<string, string> = {};
+  let at: number[] | null = null;
+  let kept: number[] = [];
+  return (table, row, emit) => {
+    at ??= columnsAt(table, translator.inputNames, name, 'the model reads it');
+    if (row === 1) kept = columnsAt(table, keep, name, 'for --keep');
+    const fields = table.rows[0].fields;
+    translator.inputNames.forEach((c, j) => (raw[c] = fields[(at as number[])[j]]));
+    try {
+      translator.inputs(raw, input);
+    } catch {
+      // Point at the first field that is not a number, by line and column.
+      const j = translator.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
+      throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[translator.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(translator.inputNames[Math.max(0, j)])} is not a number`);
+    }
+    const values = translator.outputs(streams.step(input));
+    const record: OutputRecord = { row };
+    kept.forEach((c) => (record[table.header[c]] = fields[c]));
+    for (const [target, value] of Object.entries(values)) record[`${target} in ${String(meta.horizon)}`] = Number(value.toPrecision(6));
+    emit(record);
+  };
+}
+
+function classifier(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[]): EachRow {
+  const translator = createTranslator(meta);
+  const classes = translator.outputNames;
+  const sequenceColumn = String(meta.sequenceColumn ?? 'sequence');
+  const tokens = Array.isArray(meta.vocabulary) && meta.vocabulary.length > 0;
+  const norm = meta.normalisation as { mean: number[]; deviation: number[] } | undefined;
+  let column = -1;
+  let kept: number[] = [];
+  return (table, row, emit) => {
+    if (row === 1) {
+      [column] = columnsAt(table, [sequenceColumn], name, 'the sequences');
+      kept = columnsAt(table, keep, name, 'for --keep');
+    }
+    const r = table.rows[0];
+    const items = r.fields[column].trim().split(/\s+/).filter((s) => s !== '');
+    if (items.length === 0) throw new CommandError(`${fieldPath(table, 0, column)}: an empty sequence`);
+    const values = tokens
+      ? translator.tokenIds(items.join(' ')).ids
+      : Float32Array.from(items, (s, k) => {
+          const v = Number(s);
+          if (!Number.isFinite(v)) throw new CommandError(`${fieldPath(table, 0, column)}: item ${k + 1} ${JSON.stringify(s.slice(0, 80))} is not a number`);
+          return (v - (norm?.mean[0] ?? 0)) / (norm?.deviation[0] ?? 1);
+        });
+    const out = runtime.run(values, items.length, 1);
+    const probabilities = softmax(out.subarray((items.length - 1) * classes.length, items.length * classes.length));
+    const best = probabilities.indexOf(Math.max(...probabilities));
+    const record: OutputRecord = { row };
+    kept.forEach((c) => (record[table.header[c]] = r.fields[c]));
+    record.predicted = classes[best];
+    classes.forEach((c, k) => (record[`p(${c})`] = Number(probabilities[k].toPrecision(4))));
+    emit(record);
+  };
 }

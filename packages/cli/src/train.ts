@@ -10,7 +10,8 @@ import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from 
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { prepareClassification, prepareForecast, prepareText } from './datasets.js';
-import type { Prepared, Task } from './datasets.js';
+import type { HeldOutReport, Prepared, Task } from './datasets.js';
+import { reportLines } from './report.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { lossCurveSvg, sparkline } from './plot.js';
@@ -27,13 +28,14 @@ export const trainFlags: FlagSpec[] = [
   { name: 'window', value: 'STEPS', description: 'truncated-backpropagation window: new steps per update', fallback: '32' },
   { name: 'lookback', value: 'STEPS', description: 'also back-propagate through this many steps before each window (forecast, text)', fallback: '0' },
   { name: 'streams', value: 'NUMBER', description: 'parallel streams (forecast, text) or sequences per batch (classify)', fallback: '8' },
-  { name: 'epochs', value: 'NUMBER', description: 'passes over the training data', fallback: '5' },
+  { name: 'epochs', value: 'NUMBER', description: 'passes over the training data (at most: see --patience)', fallback: '20' },
   { name: 'rate', value: 'NUMBER', description: 'Adam learning rate', fallback: '0.005' },
   { name: 'clip', value: 'NUMBER', description: 'clip the global gradient norm to this', fallback: '1' },
   { name: 'seed', value: 'TEXT', description: 'seed for every random choice', fallback: '1' },
   { name: 'validation', value: 'SHARE', description: 'share of the data held out (the end of a series or text)', fallback: '0.1' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
-  { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement, keeping the best weights' },
+  { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3' },
+  { name: 'season', value: 'ROWS|none', description: 'season of a series for the seasonal-naive baseline (forecast)', fallback: 'detected from the training rows' },
   { name: 'horizon', value: 'ROWS', description: 'forecast this many rows ahead', fallback: '1' },
   { name: 'columns', value: 'A,B', description: 'input columns of a series CSV', fallback: 'every numeric column' },
   { name: 'target', value: 'A,B', description: 'columns to forecast', fallback: 'the input columns' },
@@ -83,7 +85,7 @@ export interface TrainOutcome {
   readonly out: string;
   readonly checkpoint: string;
   readonly curve: string;
-  readonly heldOut: number;
+  readonly heldOut: HeldOutReport;
   readonly prepared: Prepared;
 }
 
@@ -111,6 +113,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     embedding: numberFlag(args, 'embedding', 16, { whole: true, min: 1, max: 4096 }),
     batch: numberFlag(args, 'streams', 8, { whole: true, min: 1, max: 4096 }),
     seed,
+    season: args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined,
   };
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
   if (args.switches.has('bidirectional') && task !== 'classify') throw new CommandError('--bidirectional needs --task classify (forecasts and text are read forward in time)', 2);
@@ -132,10 +135,10 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const view = args.switches.has('quiet') ? null : new ProgressView();
   const controller = new AbortController();
   const validateEvery = args.flags.has('validate-every') ? numberFlag(args, 'validate-every', 1, { whole: true, min: 1 }) : undefined;
-  const patience = args.flags.has('patience') ? numberFlag(args, 'patience', 1, { whole: true, min: 1 }) : undefined;
+  const patience = numberFlag(args, 'patience', 3, { whole: true, min: 1 });
   const metadataFor = (trainer: Trainer) => ({
     ...prepared.metadata,
-    training: { data: basename(dataPath), dataDigest, steps: trainer.stepsTaken, seed, store },
+    training: { data: basename(dataPath), dataDigest, steps: trainer.stepsTaken, seed, store, seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)) },
     history: { training: thin(history.training).map((p) => [p.step, p.loss]), validation: thin(history.validation).map((p) => [p.step, p.loss]) },
   });
   const trainer: Trainer = new Trainer({
@@ -143,7 +146,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     data: prepared.train,
     validation: prepared.validation,
     optimizer: new AdamRule({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
-    epochs: numberFlag(args, 'epochs', 5, { whole: true, min: 1, max: 100000 }),
+    epochs: numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 }),
     clipNorm: numberFlag(args, 'clip', 1, { min: 1e-9 }),
     validateEvery,
     patience,
@@ -158,6 +161,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
       if (t.stepsTaken % every === 0) await saveCheckpoint(checkpoint, t, model, metadataFor(t));
     },
   });
+  // Seconds of earlier runs of this training (from the checkpoint resumed), so the summary times the whole run.
+  let earlierSeconds = 0;
+  const started = Date.now();
   const resume = args.flags.get('resume');
   if (resume === undefined && existsSync(checkpoint) && !args.switches.has('start-over')) {
     throw new CommandError(`${checkpoint} holds the checkpoint of an earlier run: continue it with --resume ${checkpoint}, or pass --start-over to replace it`, 2);
@@ -171,6 +177,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
       throw new CommandError(`${resume}: the checkpoint was trained on other data (${String(savedTraining.data)}, SHA-256 ${String(savedTraining.dataDigest).slice(0, 12)}…), not ${dataPath}`);
     }
     trainer.restore(saved.snapshot);
+    earlierSeconds = typeof savedTraining?.seconds === 'number' && Number.isFinite(savedTraining.seconds) && savedTraining.seconds >= 0 ? savedTraining.seconds : 0;
     const savedHistory = saved.file.metadata.history as { training?: number[][]; validation?: number[][] } | undefined;
     history.training.push(...(savedHistory?.training ?? []).map(([step, loss]) => ({ step, loss })));
     history.validation.push(...(savedHistory?.validation ?? []).map(([step, loss]) => ({ step, loss })));
@@ -185,7 +192,6 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   process.on('SIGINT', onInterrupt);
   log(`training a ${cell.toUpperCase()} ${task} model (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend`);
   let summary: TrainingSummary;
-  const started = Date.now();
   try {
     summary = await trainer.run();
   } finally {
@@ -196,19 +202,35 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   writeFileAtomic(curve, lossCurveSvg(history.training, history.validation, `weft train ${basename(dataPath)}: ${cell} ${task}`));
   if (summary.stoppedBy === 'signal') {
     log(`interrupted at step ${summary.steps}; checkpoint written to ${checkpoint}`);
-    log(`resume with: weft train ${dataPath} --resume ${checkpoint} (and the same flags)`);
+    log(`resume with: ${resumeCommand(args, checkpoint)}`);
     throw new CommandError('', 130);
   }
   await saveWeightFile(out, model, { dtype: store, metadata: metadataFor(trainer) });
   const heldOut = prepared.heldOut(model);
   log(`loss ${sparkline(history.training.map((p) => p.loss))} ${history.training.at(-1)?.loss.toPrecision(4) ?? ''}`);
-  const better = prepared.baseline.metric.includes('accuracy') ? heldOut / prepared.baseline.value - 1 : 1 - heldOut / prepared.baseline.value;
-  log(`${prepared.baseline.metric}: model ${heldOut.toPrecision(4)}, baseline ${prepared.baseline.value.toPrecision(4)} (${prepared.baseline.name}); model ${better >= 0 ? 'better' : 'worse'} by ${Math.abs(better * 100).toFixed(1)}%`);
-  log(`finished ${summary.steps} steps in ${formatSeconds((Date.now() - started) / 1000)} (${summary.stoppedBy === 'patience' ? 'stopped early, best weights kept' : 'all epochs'})`);
+  for (const line of reportLines(heldOut)) log(line);
+  const seconds = earlierSeconds + (Date.now() - started) / 1000;
+  const ended = summary.stoppedBy === 'patience' ? `stopped early: ${patience} validations without improvement` : 'all epochs done';
+  const kept = summary.bestValidation === null || summary.keptStep === summary.steps ? `the weights of step ${summary.keptStep}, the last` : `the weights of step ${summary.keptStep}, the best validation`;
+  log(`finished ${summary.steps} steps in ${seconds < 10 ? `${seconds.toFixed(1)}s` : formatSeconds(seconds)}${earlierSeconds > 0 ? ' (resumed runs included)' : ''}; ${ended}; kept ${kept}`);
+  if (prepared.task === 'forecast') {
+    const m = prepared.metadata as { columns?: string[]; targetColumns?: string[] };
+    log(`columns read: ${(m.columns ?? []).join(', ')}; forecast: ${(m.targetColumns ?? []).join(', ')}`);
+  }
   log(`weight file: ${out}`);
   log(`checkpoint:  ${checkpoint}`);
   log(`loss curve:  ${curve}`);
   return { summary, out, checkpoint, curve, heldOut, prepared };
+}
+
+/** The command that resumes this run: the same data and flags, with --resume instead of --start-over. */
+function resumeCommand(args: ParsedArgs, checkpoint: string): string {
+  const quote = (text: string) => (/^[\w./:=,@%+-]+$/.test(text) ? text : `'${text.replace(/'/g, `'\\''`)}'`);
+  const parts = ['weft', 'train', ...args.positional.map(quote)];
+  for (const [name, value] of args.flags) if (name !== 'resume') parts.push(`--${name}`, quote(value));
+  for (const name of args.switches) if (name !== 'start-over') parts.push(`--${name}`);
+  parts.push('--resume', quote(checkpoint));
+  return parts.join(' ');
 }
 
 /** At most 2,000 points, evenly picked, so checkpoints stay small on long runs. */

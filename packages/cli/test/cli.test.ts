@@ -65,7 +65,8 @@ describe('the weft command', () => {
     const resumed = weft([...args, '--resume', 'notes.weft.checkpoint.json', '--quiet']);
     expect(resumed.code).toBe(0);
     expect(resumed.out).toContain(`resuming from notes.weft.checkpoint.json at step ${stoppedAt}`);
-    expect(resumed.out).toMatch(/validation perplexity: model [\d.]+, baseline [\d.]+ \(unigram frequencies of the training text\); model better by/);
+    expect(resumed.out).toMatch(/^  unigram +perplexity [\d.]+  \(each token as often as in the training text\)$/m);
+    expect(resumed.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline unigram): perplexity [\d.]+ against/m);
     expect(existsSync(join(folder, 'notes.weft.checkpoint.loss.svg'))).toBe(true);
     expect(readFileSync(join(folder, 'notes.weft.checkpoint.loss.svg'), 'utf8')).toMatch(/^<svg [^>]*>[\s\S]*<polyline/);
 
@@ -107,16 +108,16 @@ describe('the weft command', () => {
 
     it('a malformed CSV row', () => {
       writeFileSync(join(folder, 'short.csv'), 'a,b\n1,2\n3\n4,5\n');
-      expectOneLineError(weft(['train', 'short.csv']), 1, /^weft: short\.csv:3: 1 fields where the header has 2$/);
+      expectOneLineError(weft(['train', 'short.csv']), 1, /^weft: Bad data at short\.csv:3:2: expected 2 comma-separated fields, as the header has, received 1$/);
       writeFileSync(join(folder, 'quote.csv'), 'a,b\n1,2\n3,4"x\n');
-      expectOneLineError(weft(['train', 'quote.csv']), 1, /^weft: quote\.csv:3:4: a quote inside an unquoted field$/);
+      expectOneLineError(weft(['train', 'quote.csv']), 1, /^weft: Bad data at quote\.csv:3:4: expected a quote only at the start of a field \(or doubled inside quotes\), received a quote inside an unquoted field$/);
     });
 
     it('a non-numeric value, with line and column', () => {
       const rows = Array.from({ length: 300 }, (_, i) => `${Math.sin(i)},${Math.cos(i)}`);
       rows[150] = '0.5,warm';
       writeFileSync(join(folder, 'sensor.csv'), `x,y\n${rows.join('\n')}\n`);
-      expectOneLineError(weft(['train', 'sensor.csv', '--window', '8', '--streams', '2']), 1, /^weft: sensor\.csv:152:2: "warm" in column "y" is not a decimal number \(299 of 300 cells there are\); fix the cell, or choose the columns with --columns$/);
+      expectOneLineError(weft(['train', 'sensor.csv', '--window', '8', '--streams', '2']), 1, /^weft: sensor\.csv:152:\d+: "warm" in column "y" is not a decimal number \(299 of 300 cells there are\); fix the cell, or choose the columns with --columns$/);
     });
 
     it('an unknown flag', () => {
@@ -149,7 +150,8 @@ describe('weft run on forecasts and classifications', () => {
     writeFileSync(join(folder, 'room.csv'), `temperature,humidity\n${rows.join('\n')}\n`);
     const trained = weft(['train', 'room.csv', '--target', 'temperature', '--horizon', '2', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'room.weft.json', '--quiet']);
     expect(trained.code).toBe(0);
-    expect(trained.out).toMatch(/held-out MAE: model [\d.]+, baseline [\d.]+ \(persistence/);
+    for (const name of ['model', 'persistence', 'training mean', 'linear']) expect(trained.out).toMatch(new RegExp(`^  ${name} +MAE [\\d.]+  RMSE [\\d.]+  MAPE`, 'm'));
+    expect(trained.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline [a-z ]+): MAE [\d.]+ against/m);
     writeFileSync(join(folder, 'new-room.csv'), `humidity,temperature\n55,21\n54,22\n52,23\n`);
     const run = weft(['run', 'room.weft.json', 'new-room.csv', '--out', 'forecast.csv']);
     expect(run.code).toBe(0);
@@ -166,7 +168,8 @@ describe('weft run on forecasts and classifications', () => {
     writeFileSync(join(folder, 'trends.csv'), `label,sequence\n${labelled.join('\n')}\n`);
     const classifier = weft(['train', 'trends.csv', '--hidden', '8', '--streams', '16', '--epochs', '8', '--rate', '0.02', '--out', 'trends.weft.json', '--quiet']);
     expect(classifier.code).toBe(0);
-    expect(classifier.out).toMatch(/validation accuracy: model [\d.]+, baseline [\d.]+ \(always the most common class\)/);
+    expect(classifier.out).toMatch(/^  majority class +accuracy [\d.]+%  macro-F1 [\d.]+  \(always "[a-z]+", the most common class in training\)$/m);
+    expect(classifier.out).toMatch(/^counts by actual class \(rows\) and predicted class \(columns\):$/m);
     const classes = weft(['run', 'trends.weft.json', '-'], 'sequence\n"0 1 2 3 4"\n"0 -1 -2 -3"\n');
     expect(classes.code).toBe(0);
     expect(classes.out.split('\n')[0]).toBe('row,predicted,p(falling),p(rising)');

@@ -5,7 +5,7 @@
  * the f64 range are normalised without overflow.
  */
 import { describe, expect, it } from 'vitest';
-import { columnStatistics, decimal } from '../src/csv.js';
+import { columnStatistics, decimal } from '@weft/io';
 import { prepareClassification, prepareForecast } from '../src/datasets.js';
 
 const options = { window: 4, lookback: 0, streams: 2, validationShare: 0.2, horizon: 1, tokens: 'characters' as const, embedding: 4, batch: 4, seed: '1' };
@@ -25,9 +25,9 @@ describe('preparing training data', () => {
     expect(prepared.notes).toEqual(['left out columns that hold no numbers: when (no numbers: "2026-01-01" at line 2)']);
     expect((prepared.metadata as { columns: string[] }).columns).toEqual(['level']);
     expect(() => prepareForecast(series(60, (r) => (r === 0 ? 'n/a' : String(r))), 'levels.csv', options)).toThrowError(
-      'levels.csv:2:2: "n/a" in column "level" is not a decimal number (59 of 60 cells there are); fix the cell, or choose the columns with --columns',
+      'levels.csv:2:12: "n/a" in column "level" is not a decimal number (59 of 60 cells there are); fix the cell, or choose the columns with --columns',
     );
-    expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^levels\.csv:9:2: "0x10" in column "level"/);
+    expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^levels\.csv:9:12: "0x10" in column "level"/);
   });
 
   it('normalises values of ±1e300 and 1e308 without overflowing (mean and deviation finite)', () => {

@@ -18,3 +18,5 @@ export type { ClassScores, ClassificationReport, ForecastErrors } from './data/s
 export { ForecastErrorSum, classificationReport, forecastErrors, scoresFromConfusion } from './data/scores.js';
 export type { BaselineOptions, BaselineScore, Forecaster, SeriesSplit } from './data/baselines.js';
 export { bestBaseline, detectSeason, fitLinear, forecastBaselines, scoreForecaster, solve } from './data/baselines.js';
+export type { Translator } from './translate.js';
+export { UNKNOWN_TOKEN, createTranslator, splitTokens } from './translate.js';

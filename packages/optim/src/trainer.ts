@@ -40,6 +40,11 @@ export interface TrainerOptions {
   readonly validateEvery?: number;
   /** Stop after this many validations without improvement, restoring the best weights. */
   readonly patience?: number;
+  /**
+   * When the run ends (epochs done or patience out, not an abort), put back the weights of the best validation
+   * (default true when there is validation data), so a run that got worse at the end does not keep the worse weights.
+   */
+  readonly keepBest?: boolean;
   readonly seed?: number | string;
   readonly signal?: AbortSignal;
   readonly onProgress?: (event: TrainingEvent) => void;
@@ -88,6 +93,8 @@ export interface TrainingSummary {
   readonly stoppedBy: 'epochs' | 'patience' | 'signal';
   readonly lastLoss: number;
   readonly bestValidation: ValidationResult | null;
+  /** The step whose weights the model holds after the run: the best validation's when they were put back. */
+  readonly keptStep: number;
   readonly skippedUpdates: number;
 }
 
@@ -122,6 +129,9 @@ export class Trainer {
     if (options.schedule !== undefined) checkSchedule(options.schedule);
     for (const [name, value] of [['clipNorm', options.clipNorm], ['clipValue', options.clipValue], ['validateEvery', options.validateEvery], ['patience', options.patience]] as const) {
       if (value !== undefined && !(value > 0)) throw new WeftError({ code: 'invalid_option', path: `trainer.${name}`, expected: 'a number > 0', received: String(value) });
+    }
+    if (options.keepBest !== undefined && typeof options.keepBest !== 'boolean') {
+      throw new WeftError({ code: 'invalid_option', path: 'trainer.keepBest', expected: 'true or false', received: String(options.keepBest) });
     }
     this.options = options;
     this.model = options.model;
@@ -317,11 +327,14 @@ export class Trainer {
         lastYield = now();
       }
     }
-    if (stoppedBy === 'patience' && this.bestParameters !== null) {
+    let keptStep = this.stepCount;
+    const keepBest = this.options.keepBest ?? validation !== undefined;
+    if ((stoppedBy === 'patience' || (stoppedBy === 'epochs' && keepBest)) && this.bestParameters !== null) {
       this.parameters.forEach((p, i) => p.data.set((this.bestParameters as FloatArray[])[i]));
+      keptStep = this.bestStep;
     }
     this.emit('finished', this.lastLoss, NaN, 1, stoppedBy);
-    return { steps: this.stepCount, stoppedBy, lastLoss: this.lastLoss, bestValidation: this.bestValidation, skippedUpdates: this.skipped };
+    return { steps: this.stepCount, stoppedBy, lastLoss: this.lastLoss, bestValidation: this.bestValidation, keptStep, skippedUpdates: this.skipped };
   }
 
   /** Gives the carried state's buffers back to the trainer's pool (they came from it) and forgets the state. */

@@ -32,6 +32,13 @@ export interface TableOptions {
   readonly file?: string;
   /** The delimiter, or `detect` (default). */
   readonly delimiter?: Delimiter | 'detect';
+  /**
+   * The header, when the text holds rows only (a chunk of a longer input whose header came earlier): every record
+   * of the text is then a row.
+   */
+  readonly header?: readonly string[];
+  /** The line number of the text's first line (default 1), for chunks of a longer input. */
+  readonly firstLine?: number;
 }
 
 const NAMES: Record<Delimiter, string> = { ',': 'comma', '\t': 'tab', ';': 'semicolon' };
@@ -65,8 +72,8 @@ export function parseTable(text: string, options: TableOptions = {}): Table {
   let starts: number[] = [];
   let field = '';
   let quoted = false;
-  let line = 1;
-  let recordLine = 1;
+  let line = options.firstLine ?? 1;
+  let recordLine = line;
   let column = 1;
   let fieldStart = 1;
   let fieldStartedQuoted = false;
@@ -124,8 +131,9 @@ export function parseTable(text: string, options: TableOptions = {}): Table {
     starts.push(fieldStart);
     records.push({ fields, line: recordLine, starts, end: column });
   }
-  if (records.length === 0) throw problem(`${file}:1:1`, 'a header row', 'an empty text');
-  const [head, ...rest] = records;
+  if (records.length === 0 && options.header === undefined) throw problem(`${file}:1:1`, 'a header row', 'an empty text');
+  const head = options.header === undefined ? records[0] : { fields: [...options.header], line: 0, starts: options.header.map((_, c) => c + 1), end: 0 };
+  const rest = options.header === undefined ? records.slice(1) : records;
   const header = head.fields.map((h) => h.trim());
   const seen = new Map<string, number>();
   header.forEach((name, c) => {

@@ -1,0 +1,79 @@
+/**
+ * Held-out comparisons in words: the model and every baseline on the same data, in the data's own units, and a
+ * verdict against the best baseline. Used by `weft train` after training and by `weft score` on a labelled file.
+ */
+import type { ClassificationReport, ForecastErrors } from '@weft/io';
+import type { Contender, HeldOutReport } from './datasets.js';
+
+const figure = (v: number): string => (Number.isFinite(v) ? Number(v.toPrecision(4)).toString() : String(v));
+const percent = (v: number): string => `${(100 * v).toFixed(1)}%`;
+
+function errorsText(e: ForecastErrors | undefined): string {
+  if (e === undefined) return '';
+  return `MAE ${figure(e.mae)}  RMSE ${figure(e.rmse)}  MAPE ${e.mape === null ? 'undefined (every actual value is 0)' : `${e.mape.toFixed(1)}%`}`;
+}
+
+/** The contender that the verdict measures the model against: the best baseline. */
+export function bestOf(report: HeldOutReport): Contender {
+  return report.baselines.reduce((best, b) => ((report.lowerIsBetter ? b.value < best.value : b.value > best.value) ? b : best));
+}
+
+/** One line: does the model beat every baseline, and by how much in the metric's own units. */
+export function verdict(report: HeldOutReport): string {
+  const best = bestOf(report);
+  const m = report.model.value;
+  const better = report.lowerIsBetter ? m < best.value : m > best.value;
+  if (report.metric === 'accuracy') {
+    const points = (100 * Math.abs(m - best.value)).toFixed(1);
+    return better
+      ? `verdict: the model beats every baseline: accuracy ${percent(m)} against ${percent(best.value)} for the best, ${best.name} (${points} percentage points higher)`
+      : `verdict: the model does NOT beat the baseline ${best.name}: accuracy ${percent(m)} against its ${percent(best.value)} (${points} percentage points ${m === best.value ? 'apart' : 'lower'}); train longer, on more data, or use the baseline`;
+  }
+  const gap = Math.abs(m - best.value);
+  const units = report.metric === 'MAE' ? ' in the data\'s units' : '';
+  const relative = best.value === 0 ? '' : `, ${((100 * gap) / best.value).toFixed(1)}%`;
+  return better
+    ? `verdict: the model beats every baseline: ${report.metric} ${figure(m)} against ${figure(best.value)} for the best baseline, ${best.name} (${figure(gap)} lower${units}${relative})`
+    : `verdict: the model does NOT beat the baseline ${best.name}: ${report.metric} ${figure(m)} against its ${figure(best.value)} (${figure(gap)} ${m === best.value ? 'apart' : 'higher'}${units}${relative}); train longer (--epochs, --patience), on more data, or use the baseline`;
+}
+
+function classLines(scores: ClassificationReport, names: readonly string[]): string[] {
+  const lines = names.map((name, k) => {
+    const c = scores.perClass[k];
+    return `  ${name}: precision ${figure(c.precision)}, recall ${figure(c.recall)}, F1 ${figure(c.f1)} (${c.support} held out, predicted ${c.predicted} times)`;
+  });
+  const width = Math.max(6, ...names.map((n) => n.length));
+  const cell = (text: string) => text.padStart(width);
+  lines.push(`counts by actual class (rows) and predicted class (columns):`);
+  lines.push(`  ${cell('')}  ${names.map(cell).join('  ')}`);
+  scores.confusion.forEach((row, k) => lines.push(`  ${cell(names[k])}  ${row.map((v) => cell(String(v))).join('  ')}`));
+  if (scores.neverPredicted.length > 0) lines.push(`never predicted: ${scores.neverPredicted.map((k) => names[k]).join(', ')}`);
+  return lines;
+}
+
+/** Every line of a held-out comparison: what was held out, a line per contender, details, and the verdict. */
+export function reportLines(report: HeldOutReport): string[] {
+  const lines = [`held out: ${report.what}`];
+  const all = [report.model, ...report.baselines];
+  const width = Math.max(...all.map((c) => c.name.length));
+  for (const c of all) {
+    const name = c.name.padEnd(width);
+    const how = c.description === '' ? '' : `  (${c.description})`;
+    if (c.overall !== undefined) lines.push(`  ${name}  ${errorsText(c.overall)}${how}`);
+    else if (c.scores !== undefined) lines.push(`  ${name}  accuracy ${percent(c.scores.accuracy)}  macro-F1 ${figure(c.scores.macroF1)}${how}`);
+    else lines.push(`  ${name}  ${report.metric} ${figure(c.value)}${how}`);
+  }
+  if (report.names.length > 1 && report.model.perTarget !== undefined) {
+    report.names.forEach((name, k) => lines.push(`  model on ${name}: ${errorsText(report.model.perTarget?.[k])}`));
+  }
+  if (report.model.scores !== undefined) lines.push(...classLines(report.model.scores, report.names));
+  lines.push(verdict(report));
+  return lines;
+}
+
+/** The comparison as plain data, for `--format json`. */
+export function reportJson(report: HeldOutReport): unknown {
+  const best = bestOf(report);
+  const beats = report.lowerIsBetter ? report.model.value < best.value : report.model.value > best.value;
+  return { ...report, bestBaseline: best.name, modelBeatsEveryBaseline: beats };
+}

@@ -1,0 +1,101 @@
+/**
+ * What training recorded in a weight file's metadata, applied: raw named values in, model inputs out (normalised
+ * as training normalised them), and model outputs back to named values in real units; text in, token ids out
+ * (split as training split it, unknown pieces counted, not hidden), and ids back to text. So a program that
+ * embeds the runtime does not re-implement normalisation or vocabulary lookup, and cannot de-normalise a target
+ * with another column's statistics.
+ *
+ * The metadata fields read (written by `weft train`; see metadata.ts): `columns`, `targetColumns`,
+ * `normalisation` { mean, deviation } for values models; `vocabulary` and `tokens` ('characters' | 'words') for
+ * token models; `classes` for classifiers. Call `checkMetadata` first on a file you did not make.
+ */
+import { WeftError } from '@weft/core';
+
+/** The token of ids a vocabulary has no other id for (the first entry of every vocabulary weft makes). */
+export const UNKNOWN_TOKEN = '<unknown>';
+
+export interface Translator {
+  /** The named input columns a values model reads, in order (empty for token models). */
+  readonly inputNames: readonly string[];
+  /** The names of the outputs: target columns (forecasts), classes (classifiers) or the vocabulary (next token). */
+  readonly outputNames: readonly string[];
+  /** A row of raw values by column name → the model's input numbers (normalised), written into `into` if given. */
+  inputs(row: Readonly<Record<string, number | string>>, into?: Float32Array, where?: string): Float32Array;
+  /** Model outputs of one step (normalised targets) → the targets by name, in real units. */
+  outputs(values: ArrayLike<number>): Record<string, number>;
+  /** Text → token ids (as training split text); `unknown` counts the pieces not in the vocabulary. */
+  tokenIds(text: string): { readonly ids: Int32Array; readonly pieces: readonly string[]; readonly unknown: number };
+  /** A token id → its text. */
+  tokenText(id: number): string;
+}
+
+interface Normalisation {
+  readonly mean: readonly number[];
+  readonly deviation: readonly number[];
+}
+
+const strings = (value: unknown): readonly string[] => (Array.isArray(value) && value.every((v) => typeof v === 'string') ? value : []);
+
+function bad(path: string, expected: string, received: string): WeftError {
+  return new WeftError({ code: 'bad_data', path, expected, received });
+}
+
+/** Splits text into tokens as `weft train` does: characters (code points) or whitespace-separated words. */
+export function splitTokens(text: string, mode: 'characters' | 'words'): string[] {
+  return mode === 'characters' ? [...text] : (text.match(/\S+/g) ?? []);
+}
+
+/** A translator for the model a weight file's metadata describes. */
+export function createTranslator(metadata: Readonly<Record<string, unknown>>): Translator {
+  const columns = strings(metadata.columns);
+  const targets = strings(metadata.targetColumns);
+  const vocabulary = strings(metadata.vocabulary);
+  const classes = strings(metadata.classes);
+  const mode = metadata.tokens === 'words' ? 'words' : 'characters';
+  const normalisation = (metadata.normalisation ?? { mean: [], deviation: [] }) as Normalisation;
+  const targetIndexes = targets.map((t) => columns.indexOf(t));
+  const index = new Map(vocabulary.map((v, i) => [v, i]));
+  const unknownId = index.get(UNKNOWN_TOKEN) ?? 0;
+  const outputNames = targets.length > 0 ? targets : classes.length > 0 ? classes : vocabulary;
+  return {
+    inputNames: columns,
+    outputNames,
+    inputs(row, into, where = 'row') {
+      const out = into ?? new Float32Array(columns.length);
+      if (out.length !== columns.length) throw new WeftError({ code: 'shape_mismatch', path: `${where} (into)`, expected: `${columns.length} numbers`, received: String(out.length) });
+      columns.forEach((name, j) => {
+        if (!Object.prototype.hasOwnProperty.call(row, name)) throw bad(`${where}.${name}`, `a value for column ${JSON.stringify(name)}, which the model reads`, 'nothing');
+        const raw = row[name];
+        const value = typeof raw === 'number' ? raw : raw.trim() === '' ? NaN : Number(raw);
+        if (!Number.isFinite(value)) throw bad(`${where}.${name}`, 'a finite number', JSON.stringify(raw));
+        out[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
+      });
+      return out;
+    },
+    outputs(values) {
+      const named: Record<string, number> = {};
+      targets.forEach((name, k) => {
+        const j = targetIndexes[k];
+        named[name] = values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0);
+      });
+      return named;
+    },
+    tokenIds(text) {
+      const pieces = splitTokens(text, mode);
+      let unknown = 0;
+      const ids = Int32Array.from(pieces, (p) => {
+        const id = index.get(p);
+        if (id === undefined) {
+          unknown++;
+          return unknownId;
+        }
+        return id;
+      });
+      return { ids, pieces, unknown };
+    },
+    tokenText(id) {
+      if (!(Number.isInteger(id) && id >= 0 && id < vocabulary.length)) throw bad('tokenText.id', `a token id in [0, ${vocabulary.length})`, String(id));
+      return vocabulary[id];
+    },
+  };
+}
