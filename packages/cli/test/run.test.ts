@@ -1,0 +1,89 @@
+/**
+ * `weft run` as a pipeline stage (run.ts): a table on standard input is read row by row and each forecast is
+ * written before the next row is sent (as `tail -f readings.csv | weft run MODEL -` needs); `--keep` carries
+ * key columns through; the outputs equal what the library's translator and runtime compute from the same weight
+ * file (so a program embedding the runtime gets the numbers `weft run` prints); bad rows are one line naming
+ * file, line and column. The model is trained here on an invented series.
+ */
+import { spawn, spawnSync } from 'node:child_process';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createTranslator, readWeightFile } from '@weft/io';
+import { createRuntime } from '@weft/io/runtime';
+
+const binary = fileURLToPath(new URL('../dist/main.js', import.meta.url));
+const folder = mkdtempSync(join(tmpdir(), 'weft-run-'));
+afterAll(() => rmSync(folder, { recursive: true, force: true }));
+
+const weft = (args: string[], input?: string) => {
+  const result = spawnSync(process.execPath, [binary, ...args], { cwd: folder, encoding: 'utf8', input, timeout: 120_000 });
+  return { code: result.status, out: result.stdout, err: result.stderr };
+};
+
+// Invented readings of a tank: level and inflow, every hour.
+const readings = Array.from({ length: 400 }, (_, t) => ({ hour: `h${t}`, level: (50 + 10 * Math.sin(t / 9)).toFixed(3), inflow: (3 + Math.cos(t / 9)).toFixed(3) }));
+
+beforeAll(() => {
+  writeFileSync(join(folder, 'tank.csv'), `hour,level,inflow\n${readings.map((r) => `${r.hour},${r.level},${r.inflow}`).join('\n')}\n`);
+  const trained = weft(['train', 'tank.csv', '--target', 'level', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'tank.weft.json', '--quiet']);
+  expect(trained.code).toBe(0);
+});
+
+describe('weft run', () => {
+  it('forecasts each row from standard input before the next row is written, carrying the --keep column', async () => {
+    const child = spawn(process.execPath, [binary, 'run', 'tank.weft.json', '-', '--keep', 'hour'], { cwd: folder });
+    let received = '';
+    const waiters: (() => void)[] = [];
+    child.stdout.on('data', (chunk: Buffer) => {
+      received += chunk.toString('utf8');
+      waiters.splice(0).forEach((w) => w());
+    });
+    const lineCount = () => received.split('\n').length - 1;
+    const until = (lines: number) => new Promise<void>((resolve, reject) => {
+      const timer = setTimeout(() => reject(new Error(`waited for ${lines} lines, have: ${JSON.stringify(received)}`)), 20_000);
+      const check = () => (lineCount() >= lines ? (clearTimeout(timer), resolve()) : waiters.push(check));
+      check();
+    });
+    child.stdin.write('hour,level,inflow\n');
+    for (let i = 0; i < 3; i++) {
+      const r = readings[i];
+      child.stdin.write(`${r.hour},${r.level},${r.inflow}\n`);
+      // The header line comes with the first forecast; each row's forecast arrives while stdin is still open.
+      await until(i + 2);
+      expect(lineCount()).toBe(i + 2);
+    }
+    child.stdin.end();
+    const code = await new Promise<number | null>((resolve) => child.on('close', resolve));
+    expect(code).toBe(0);
+    const lines = received.trim().split('\n');
+    expect(lines[0]).toBe('row,hour,level in 1');
+    expect(lines.slice(1).map((l) => l.split(',')[1])).toEqual(['h0', 'h1', 'h2']);
+  }, 60_000);
+
+  it('prints what the translator and the runtime compute from the same weight file', async () => {
+    const rows = readings.slice(0, 30);
+    writeFileSync(join(folder, 'new.csv'), `inflow,level\n${rows.map((r) => `${r.inflow},${r.level}`).join('\n')}\n`);
+    const run = weft(['run', 'tank.weft.json', 'new.csv', '--format', 'json']);
+    expect(run.code).toBe(0);
+    const printed = (JSON.parse(run.out) as Record<string, number>[]).map((r) => r['level in 1']);
+    const file = await readWeightFile(readFileSync(join(folder, 'tank.weft.json'), 'utf8'));
+    const translator = createTranslator(file.metadata as Record<string, unknown>);
+    const streams = (await createRuntime(file)).streams(1);
+    const own = rows.map((r) => Number(translator.outputs(streams.step(translator.inputs({ level: r.level, inflow: r.inflow }))).level.toPrecision(6)));
+    expect(printed).toEqual(own);
+  });
+
+  it('names the file, line and column of a row that is not a number, and of a ragged row, in one line', () => {
+    const bad = weft(['run', 'tank.weft.json', '-'], 'hour,level,inflow\nh0,50,3\nh1,dry,3\n');
+    expect(bad.code).toBe(1);
+    expect(bad.err.trim()).toBe('weft: <stdin>:3:4: "dry" in column "level" is not a number');
+    const ragged = weft(['run', 'tank.weft.json', '-'], 'hour\tlevel\tinflow\nh0\t50\t3\nh1\t50\n');
+    expect(ragged.code).toBe(1);
+    expect(ragged.err.trim()).toBe('weft: Bad data at <stdin>:3:6: expected 3 tab-separated fields, as the header has, received 2');
+    const missing = weft(['run', 'tank.weft.json', '-', '--keep', 'date'], 'hour,level,inflow\nh0,50,3\n');
+    expect(missing.err.trim()).toBe('weft: <stdin>: no column "date" (for --keep); the input has hour, level, inflow');
+  });
+});

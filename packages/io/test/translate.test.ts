@@ -1,0 +1,53 @@
+/**
+ * The translator (translate.ts) applies a weight file's metadata: normalisation (x − mean) / deviation on the
+ * way in and its inverse on the way out, each target with its own column's statistics (common practice: the
+ * z-score and its inverse), worked by hand here; and tokens split as training split them, with unknown pieces
+ * counted and mapped to the unknown token.
+ */
+import { describe, expect, it } from 'vitest';
+import { WeftError } from '@weft/core';
+import { UNKNOWN_TOKEN, createTranslator } from '@weft/io';
+
+describe('createTranslator', () => {
+  const forecast = createTranslator({
+    task: 'forecast',
+    columns: ['inflow', 'level'],
+    targetColumns: ['level'],
+    horizon: 1,
+    normalisation: { mean: [3, 50], deviation: [1, 10] },
+  });
+
+  it('normalises named raw values and de-normalises each target with its own column (here the second)', () => {
+    expect(Array.from(forecast.inputs({ level: 60, inflow: '2.5' }))).toEqual([-0.5, 1]);
+    expect(forecast.outputs([0.25])).toEqual({ level: 52.5 });
+    expect(forecast.inputNames).toEqual(['inflow', 'level']);
+    expect(forecast.outputNames).toEqual(['level']);
+  });
+
+  it('refuses a missing column, a value that is not a number and a buffer of the wrong size, naming each', () => {
+    const message = (f: () => unknown) => {
+      try {
+        f();
+      } catch (error) {
+        expect(error).toBeInstanceOf(WeftError);
+        return (error as WeftError).message;
+      }
+      return 'no error';
+    };
+    expect(message(() => forecast.inputs({ level: 1 }, undefined, 'reading 4'))).toBe('Bad data at reading 4.inflow: expected a value for column "inflow", which the model reads, received nothing');
+    expect(message(() => forecast.inputs({ level: 'high', inflow: 1 }))).toBe('Bad data at row.level: expected a finite number, received "high"');
+    expect(message(() => forecast.inputs({ level: 1, inflow: 1 }, new Float32Array(3)))).toBe('Shape mismatch at row (into): expected 2 numbers, received 3');
+  });
+
+  it('splits text as training did, counts unknown pieces and maps them to the unknown token', () => {
+    const characters = createTranslator({ task: 'next-token', tokens: 'characters', vocabulary: [UNKNOWN_TOKEN, 'a', 'b', 'é'] });
+    const { ids, pieces, unknown } = characters.tokenIds('abé!a');
+    expect(Array.from(ids)).toEqual([1, 2, 3, 0, 1]);
+    expect(pieces).toEqual(['a', 'b', 'é', '!', 'a']);
+    expect(unknown).toBe(1);
+    expect(characters.tokenText(3)).toBe('é');
+    expect(() => characters.tokenText(4)).toThrowError('Bad data at tokenText.id: expected a token id in [0, 4), received 4');
+    const words = createTranslator({ task: 'next-token', tokens: 'words', vocabulary: [UNKNOWN_TOKEN, 'warp', 'weft'] });
+    expect(Array.from(words.tokenIds('  warp weft\nloom ').ids)).toEqual([1, 2, 0]);
+  });
+});
