@@ -1,6 +1,6 @@
 #!/usr/bin/env node
 /**
- * The `weft` command. Verbs: train, run, sample, inspect, check; `--help` on each, `--version`. Errors are one
+ * The `weft` command. Verbs: train, run, score, sample, inspect, check; `--help` on each, `--version`. Errors are one
  * line on stderr with a non-zero exit (2 for a misused command), and a stack trace only with --debug.
  */
 import { readFileSync, realpathSync } from 'node:fs';
@@ -14,6 +14,7 @@ import { CommandError } from './errors.js';
 import { inspect, inspectFlags } from './inspect.js';
 import { runFlags, runModel } from './run.js';
 import { sampleFlags, sampleText } from './sample.js';
+import { score, scoreFlags } from './score.js';
 import { train, trainFlags } from './train.js';
 
 interface Verb {
@@ -65,6 +66,16 @@ const verbs: Record<string, Verb> = {
     flags: inspectFlags,
     act: async (args) => {
       write(await inspect(args));
+      return 0;
+    },
+  },
+  score: {
+    summary: 'score a weight file on a labelled data file, beside the baselines, in the data\'s units',
+    usage: 'weft score MODEL DATA [flags]',
+    example: 'weft score greenhouse.weft.json greenhouse-june.csv --format json',
+    flags: scoreFlags,
+    act: async (args) => {
+      process.stdout.write(await score(args));
       return 0;
     },
   },
