@@ -11,8 +11,8 @@ import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { classificationMetrics, sequenceBatches, streamBatches } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { Tape, lastStepsValues } from './evaluate.js';
-import { ForecastErrorSum, bestBaseline, classificationReport, columnStatistics, decimal, forecastBaselines, numberAt, parseTable } from '@weft/io';
-import type { ClassificationReport, ForecastErrors, WeightMetadata } from '@weft/io';
+import { ForecastErrorSum, classificationReport, columnStatistics, decimal, fieldPath, forecastBaselines, numberAt, parseTable, readStepTable } from '@weft/io';
+import type { ClassificationReport, ForecastErrors, Table, WeightMetadata } from '@weft/io';
 import { CommandError } from './errors.js';
 
 export type Task = 'forecast' | 'text' | 'classify';
@@ -219,17 +219,28 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
   };
 }
 
-export function prepareClassification(text: string, file: string, options: PrepareOptions & { labelColumn: string; sequenceColumn: string }): Prepared {
+export interface ClassifyOptions extends PrepareOptions {
+  readonly labelColumn: string;
+  readonly sequenceColumn: string;
+  /** Set for a long table (one step per row): the column naming each row's sequence. */
+  readonly idColumn?: string;
+  /** For a long table: the column ordering the steps of a sequence (default file order). */
+  readonly stepColumn?: string;
+}
+
+export function prepareClassification(text: string, file: string, options: ClassifyOptions): Prepared {
   const table = parseTable(text, { file });
+  if (options.idColumn !== undefined) return prepareStepClassification(table, file, options);
   const labelAt = table.header.indexOf(options.labelColumn);
   const sequenceAt = table.header.indexOf(options.sequenceColumn);
   if (labelAt < 0 || sequenceAt < 0) {
-    throw new CommandError(`${file}: needs columns ${JSON.stringify(options.labelColumn)} and ${JSON.stringify(options.sequenceColumn)}; found ${table.header.join(', ')}`, 2);
+    throw new CommandError(`${file}: needs columns ${JSON.stringify(options.labelColumn)} and ${JSON.stringify(options.sequenceColumn)} (or a long table: one step per row, with --id-column); found ${table.header.join(', ')}`, 2);
   }
   const labels = [...new Set(table.rows.map((r) => r.fields[labelAt].trim()))].sort();
+  onlyOneClass(labels, file);
   const items = table.rows.map((r) => r.fields[sequenceAt].trim().split(/\s+/).filter((s) => s !== ''));
   items.forEach((list, i) => {
-    if (list.length === 0) throw new CommandError(`${file}:${table.rows[i].line}:${sequenceAt + 1}: an empty sequence`);
+    if (list.length === 0) throw new CommandError(`${fieldPath(table, i, sequenceAt)}: an empty sequence`);
   });
   // Numbers or tokens, decided by every item: a file of numbers with one item that is not is an error there,
   // not a quiet switch to tokens.
@@ -239,7 +250,7 @@ export function prepareClassification(text: string, file: string, options: Prepa
   if (!numeric && numbers >= total / 2) {
     const row = items.findIndex((list) => list.some((s) => Number.isNaN(decimal(s))));
     const bad = items[row].find((s) => Number.isNaN(decimal(s)))!;
-    throw new CommandError(`${file}:${table.rows[row].line}:${sequenceAt + 1}: ${JSON.stringify(bad.slice(0, 80))} in a sequence of numbers is not a decimal number (${numbers} of ${total} items are)`);
+    throw new CommandError(`${fieldPath(table, row, sequenceAt)}: ${JSON.stringify(bad.slice(0, 80))} in a sequence of numbers is not a decimal number (${numbers} of ${total} items are)`);
   }
   const vocabulary = numeric ? null : [UNKNOWN, ...[...new Set(items.flat())].sort()];
   const index = new Map((vocabulary ?? []).map((v, i) => [v, i]));
@@ -254,13 +265,58 @@ export function prepareClassification(text: string, file: string, options: Prepa
     ...(numeric ? { values: list.map((s) => (decimal(s) - mean) / deviation) } : { tokens: list.map((s) => index.get(s) ?? 0) }),
     label: labels.indexOf(table.rows[i].fields[labelAt].trim()),
   }));
+  return classificationData(sequences, labels, 1, file, options, {
+    input: numeric ? { kind: 'values', width: 1 } : { kind: 'embedding', vocabulary: vocabulary!.length, width: options.embedding },
+    metadata: {
+      task: 'classification',
+      classes: labels,
+      ...(numeric ? { normalisation: { mean: [mean], deviation: [deviation] } } : { vocabulary: vocabulary ?? [], tokens: 'words' }),
+      sequenceColumn: options.sequenceColumn,
+    },
+    notes: [],
+  });
+}
+
+function onlyOneClass(labels: readonly string[], file: string): void {
+  if (labels.length < 2) throw new CommandError(`${file}: every sequence has the label ${JSON.stringify(labels[0] ?? '')}; a classifier needs at least two classes`);
+}
+
+/** A labelled long table (one step per row, several numbers per step) as sequences, normalised per column. */
+function prepareStepClassification(table: Table, file: string, options: ClassifyOptions): Prepared {
+  const read = readStepTable(table, { idColumn: options.idColumn as string, stepColumn: options.stepColumn, labelColumn: options.labelColumn, columns: options.columns });
+  const labels = [...new Set(read.sequences.map((q) => q.label as string))].sort();
+  const width = read.columns.length;
+  onlyOneClass(labels, file);
+  const statistics = columnStatistics(read.sequences.flatMap((q) => q.steps), width);
+  const sequences: LabelledSequence[] = read.sequences.map((q) => ({
+    values: q.steps.flatMap((step) => step.map((v, j) => (v - statistics.mean[j]) / statistics.deviation[j])),
+    label: labels.indexOf(q.label as string),
+  }));
+  return classificationData(sequences, labels, width, file, options, {
+    input: { kind: 'values', width },
+    metadata: {
+      task: 'classification',
+      classes: labels,
+      columns: [...read.columns],
+      normalisation: statistics,
+      idColumn: options.idColumn,
+      ...(options.stepColumn === undefined ? {} : { stepColumn: options.stepColumn }),
+    },
+    notes: read.leftOut.length > 0 ? [`left out columns that hold no numbers: ${read.leftOut.join('; ')}`] : [],
+  });
+}
+
+function classificationData(
+  sequences: LabelledSequence[], labels: string[], features: number, file: string, options: ClassifyOptions,
+  shape: { input: ModelDescription['input']; metadata: WeightMetadata; notes: string[] },
+): Prepared {
   const order = sequences.map((_, i) => i);
   new Random(`${options.seed}:split`).shuffle(order);
   const validationCount = Math.max(1, Math.round(sequences.length * options.validationShare));
   const validationSet = order.slice(0, validationCount).map((i) => sequences[i]);
   const trainSet = order.slice(validationCount).map((i) => sequences[i]);
   if (trainSet.length === 0) throw new CommandError(`${file}: too few sequences to keep a validation share of ${options.validationShare}`);
-  const validation = sequenceBatches(validationSet, { batchSize: 64, features: 1 });
+  const validation = sequenceBatches(validationSet, { batchSize: 64, features });
   // The majority class of the training sequences, scored on the validation sequences.
   const trainCounts = labels.map((_, k) => trainSet.filter((q) => q.label === k).length);
   const majorityClass = trainCounts.indexOf(Math.max(...trainCounts));
@@ -268,16 +324,12 @@ export function prepareClassification(text: string, file: string, options: Prepa
   const majority = classificationReport(validationLabels, validationLabels.map(() => majorityClass), labels.length);
   return {
     task: 'classify',
-    input: numeric ? { kind: 'values', width: 1 } : { kind: 'embedding', vocabulary: vocabulary!.length, width: options.embedding },
+    input: shape.input,
     outputWidth: labels.length,
-    train: sequenceBatches(trainSet, { batchSize: options.batch, features: 1, seed: options.seed }),
+    train: sequenceBatches(trainSet, { batchSize: options.batch, features, seed: options.seed }),
     validation,
-    metadata: {
-      task: 'classification',
-      classes: labels,
-      ...(numeric ? { normalisation: { mean: [mean], deviation: [deviation] } } : { vocabulary: vocabulary ?? [], tokens: 'words' }),
-      sequenceColumn: options.sequenceColumn,
-    },
+    metadata: shape.metadata,
+    notes: shape.notes,
     heldOut: (model) => {
       const predicted: number[] = [];
       const actual: number[] = [];

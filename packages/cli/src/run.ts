@@ -20,6 +20,7 @@ import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
+import { classifyStepTable } from './score.js';
 
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
@@ -123,7 +124,24 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   const keep = args.flags.get('keep')?.split(',').map((s) => s.trim()).filter((s) => s !== '') ?? [];
   if (keep.length > 0 && meta.task === 'next-token') throw new CommandError('--keep carries columns of a table; a next-token model reads text', 2);
 
-  if (meta.task === 'forecast' || meta.task === 'classification') {
+  if (meta.task === 'classification' && typeof meta.idColumn === 'string') {
+    // A long table: a sequence is complete only when the whole input has been read (its rows need not be adjacent).
+    const table = parseTable(fromStdin ? readFileSync(0, 'utf8') : readFileSync(dataPath, 'utf8'), { file: name });
+    const classes = createTranslator(meta).outputNames;
+    const kept = keep.map((c) => {
+      const i = table.header.indexOf(c);
+      if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)} (for --keep); the input has ${table.header.join(', ')}`);
+      return i;
+    });
+    for (const result of classifyStepTable(runtime, meta, table)) {
+      const first = table.rows.find((r) => r.line === result.line);
+      const record: OutputRecord = { [String(meta.idColumn)]: result.id };
+      kept.forEach((c) => (record[table.header[c]] = first?.fields[c] ?? ''));
+      record.predicted = classes[result.probabilities.indexOf(Math.max(...result.probabilities))];
+      classes.forEach((c, k) => (record[`p(${c})`] = Number(result.probabilities[k].toPrecision(4))));
+      output.add(record);
+    }
+  } else if (meta.task === 'forecast' || meta.task === 'classification') {
     const lines = fromStdin ? createInterface({ input: process.stdin, crlfDelay: Infinity }) : createInterface({ input: createReadStream(dataPath), crlfDelay: Infinity });
     const each = meta.task === 'forecast' ? forecaster(runtime, meta, name, keep) : classifier(runtime, meta, name, keep);
     let row = 0;

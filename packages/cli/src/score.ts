@@ -9,8 +9,8 @@
  * `--format json` for scripts.
  */
 import { existsSync, readFileSync } from 'node:fs';
-import { classificationReport, createTranslator, detectSeason, fieldPath, fitLinear, numberAt, parseTable, scoreForecaster } from '@weft/io';
-import type { SeriesSplit } from '@weft/io';
+import { classificationReport, createTranslator, detectSeason, fieldPath, fitLinear, numberAt, parseTable, readStepTable, scoreForecaster } from '@weft/io';
+import type { SeriesSplit, Table } from '@weft/io';
 import { loadWeightFile } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
 import type { Runtime } from '@weft/io/runtime';
@@ -114,10 +114,46 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   };
 }
 
+/** The class probabilities of every sequence of a long table (one step per row), in the order ids first appear. */
+export function classifyStepTable(runtime: Runtime, meta: Record<string, unknown>, table: Table, labelColumn?: string): { id: string; line: number; label: string | null; probabilities: number[] }[] {
+  const translator = createTranslator(meta);
+  const classes = translator.outputNames;
+  const read = readStepTable(table, {
+    idColumn: String(meta.idColumn),
+    stepColumn: typeof meta.stepColumn === 'string' ? meta.stepColumn : undefined,
+    labelColumn,
+    columns: translator.inputNames,
+  });
+  const width = translator.inputNames.length;
+  const step: Record<string, number> = {};
+  return read.sequences.map((q) => {
+    const values = new Float32Array(q.steps.length * width);
+    q.steps.forEach((v, t) => {
+      translator.inputNames.forEach((c, j) => (step[c] = v[j]));
+      translator.inputs(step, values.subarray(t * width, (t + 1) * width));
+    });
+    const out = runtime.run(values, q.steps.length, 1);
+    const last = out.subarray((q.steps.length - 1) * classes.length, q.steps.length * classes.length);
+    const { logSumExp } = logits(last);
+    return { id: q.id, line: q.line, label: q.label, probabilities: Array.from(last, (z) => Math.exp(z - logSumExp)) };
+  });
+}
+
 function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, labelColumn: string): HeldOutReport {
   const translator = createTranslator(meta);
   const classes = translator.outputNames;
   const table = parseTable(text, { file: name });
+  if (typeof meta.idColumn === 'string') {
+    const labelAt = table.header.indexOf(labelColumn);
+    const results = classifyStepTable(runtime, meta, table, labelColumn);
+    const actual = results.map((r) => {
+      const k = classes.indexOf(r.label as string);
+      if (k < 0) throw new CommandError(`${name}:${r.line}:${table.rows.find((row) => row.line === r.line)?.starts[labelAt] ?? 1}: ${JSON.stringify((r.label ?? '').slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
+      return k;
+    });
+    const predicted = results.map((r) => r.probabilities.indexOf(Math.max(...r.probabilities)));
+    return classifierReport(actual, predicted, classes, `${results.length} labelled sequences (${table.rows.length} step rows) of ${name}`);
+  }
   const sequenceColumn = String(meta.sequenceColumn ?? 'sequence');
   const labelAt = table.header.indexOf(labelColumn);
   const sequenceAt = table.header.indexOf(sequenceColumn);
@@ -143,6 +179,10 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
     predicted.push(logits(out.subarray((items.length - 1) * classes.length, items.length * classes.length)).best);
     actual.push(k);
   });
+  return classifierReport(actual, predicted, classes, `${actual.length} labelled sequences of ${name}`);
+}
+
+function classifierReport(actual: number[], predicted: number[], classes: readonly string[], what: string): HeldOutReport {
   const counts = classes.map((_, k) => actual.filter((a) => a === k).length);
   const majorityClass = counts.indexOf(Math.max(...counts));
   const scores = classificationReport(actual, predicted, classes.length);
@@ -150,7 +190,7 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
   return {
     metric: 'accuracy',
     lowerIsBetter: false,
-    what: `${actual.length} labelled sequences of ${name}`,
+    what,
     model: { name: 'model', description: '', value: scores.accuracy, scores },
     baselines: [{ name: 'majority class', description: `always ${JSON.stringify(classes[majorityClass])}, the most common class in this file`, value: majority.accuracy, scores: majority }],
     names: classes,

@@ -5,7 +5,7 @@ import { buildModel } from '@weft/cells';
 import type { LayerDescription, ModelDescription } from '@weft/cells';
 import { AdamRule, Trainer } from '@weft/optim';
 import type { TrainingEvent, TrainingSummary } from '@weft/optim';
-import { sha256Hex } from '@weft/io';
+import { detectDelimiter, sha256Hex } from '@weft/io';
 import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
@@ -43,6 +43,8 @@ export const trainFlags: FlagSpec[] = [
   { name: 'embedding', value: 'NUMBER', description: 'embedding width for token inputs', fallback: '16' },
   { name: 'label-column', value: 'NAME', description: 'label column of a classify CSV', fallback: 'label' },
   { name: 'sequence-column', value: 'NAME', description: 'sequence column of a classify CSV (space-separated items)', fallback: 'sequence' },
+  { name: 'id-column', value: 'NAME', description: 'classify a long table: one step per row, several number columns per step, this column naming the sequence' },
+  { name: 'step-column', value: 'NAME', description: 'in a long table, the column ordering the steps of a sequence', fallback: 'file order' },
   { name: 'out', value: 'FILE', description: 'where the weight file goes', fallback: '<data name>.weft.json' },
   { name: 'checkpoint', value: 'FILE', description: 'where checkpoints go', fallback: '<out>.checkpoint.json' },
   { name: 'checkpoint-every', value: 'STEPS', description: 'write a checkpoint this often (and at the end)', fallback: '200' },
@@ -62,7 +64,7 @@ function readData(path: string): string {
 function guessTask(path: string, text: string): Task {
   const extension = extname(path).toLowerCase();
   if (extension === '.txt' || extension === '.md') return 'text';
-  const header = text.split(/\r?\n/, 1)[0].split(',').map((h) => h.trim());
+  const header = text.split(/\r?\n/, 1)[0].split(detectDelimiter(text, path)).map((h) => h.trim());
   return header.includes('label') && header.includes('sequence') ? 'classify' : 'forecast';
 }
 
@@ -95,7 +97,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   if (args.positional.length > 1) throw new CommandError(`weft train takes one data file, got ${args.positional.length}: ${args.positional.join(' ')}`, 2);
   const backend = chooseBackend(args);
   const text = readData(dataPath);
-  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify'] as const, guessTask(dataPath, text));
+  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify'] as const, args.flags.has('id-column') ? 'classify' : guessTask(dataPath, text));
   const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
   const hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: 4096 });
   const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
@@ -120,7 +122,13 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const prepared: Prepared =
     task === 'forecast' ? prepareForecast(text, dataPath, options)
       : task === 'text' ? prepareText(text, dataPath, options)
-        : prepareClassification(text, dataPath, { ...options, labelColumn: args.flags.get('label-column') ?? 'label', sequenceColumn: args.flags.get('sequence-column') ?? 'sequence' });
+        : prepareClassification(text, dataPath, {
+          ...options,
+          labelColumn: args.flags.get('label-column') ?? 'label',
+          sequenceColumn: args.flags.get('sequence-column') ?? 'sequence',
+          idColumn: args.flags.get('id-column'),
+          stepColumn: args.flags.get('step-column'),
+        });
   for (const note of prepared.notes ?? []) log(note);
   const layers: LayerDescription[] = Array.from({ length: layerCount }, () => ({ cell, hidden, ...(args.switches.has('bidirectional') ? { bidirectional: true } : {}) }));
   const description: ModelDescription = { input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } };
