@@ -49,18 +49,24 @@ describe('the examples (reduced budget)', () => {
     expect(result.accuracy).toBeGreaterThan(0.45);
   });
 
-  it('(f) the edge program streams readings to the same forecasts as a whole-sequence run', async () => {
+  it('(f) the edge program streams named readings to the same forecasts as a whole-sequence run, in real units', async () => {
     const { streamReadings } = await import('../examples/edge-stream/main.js');
     const model = buildModel({ input: { kind: 'values', width: 4 }, layers: [{ cell: 'gru', hidden: 8 }], readout: { width: 1 } }, { seed: 1 });
-    const metadata = { task: 'forecast', normalisation: { mean: [18, 80, 40, 15], deviation: [4, 9, 2, 18] } };
+    // The target is the second column, so de-normalising with the first column's statistics would be caught.
+    const columns = ['temp', 'humidity', 'soil', 'light'];
+    const normalisation = { mean: [18, 80, 40, 15], deviation: [4, 9, 2, 18] };
+    const metadata = { task: 'forecast', columns, targetColumns: ['humidity'], horizon: 1, normalisation };
     const path = join(folder, 'edge.weft.json');
     writeFileSync(path, await writeWeightFile(model.description, modelTensors(model), { metadata }));
     const readings = Array.from({ length: 20 }, (_, i) => [18 + Math.sin(i), 80 - i, 40, 15 + 3 * Math.cos(i)]);
-    const streamed = await streamReadings(path, readings);
+    const streamed = await streamReadings(path, readings.map((r) => Object.fromEntries(columns.map((c, j) => [c, r[j]]))));
     const runtime = await createRuntime(await writeWeightFile(model.description, modelTensors(model), { metadata }));
-    const normalised = readings.flatMap((r) => r.map((v, j) => (v - metadata.normalisation.mean[j]) / metadata.normalisation.deviation[j]));
+    const normalised = readings.flatMap((r) => r.map((v, j) => (v - normalisation.mean[j]) / normalisation.deviation[j]));
     const whole = runtime.run(Float32Array.from(tensor(normalised, [20, 1, 4]).data), 20, 1);
-    streamed.forEach((value, i) => expect(Math.abs(value - (whole[i] * 4 + 18))).toBeLessThan(1e-4));
+    streamed.forEach((value, i) => {
+      expect(Object.keys(value)).toEqual(['humidity']);
+      expect(Math.abs(value.humidity - (whole[i] * 9 + 80))).toBeLessThan(1e-4);
+    });
   });
 });
 

@@ -1,28 +1,35 @@
-// An edge program: load a weight file and stream readings through the runtime, one at a time, allocating
-// nothing per reading. Run after `npm run demo`: npx tsx examples/edge-stream/main.ts demo-output/greenhouse.weft.json
+// An edge program: load a weight file and stream named readings through the runtime, one at a time, with the
+// file's own metadata doing the normalisation and the de-normalisation (createTranslator), so each forecast comes
+// out named and in real units, whatever column it is. Stepping allocates nothing per reading.
+// Run after `npm run demo`: npx tsx examples/edge-stream/main.ts demo-output/greenhouse.weft.json
 import { readFileSync } from 'node:fs';
+import { createTranslator } from '@weft/io/translate';
 import { createRuntime } from '@weft/io/runtime';
 import { runIfMain } from '../shared.js';
 
-export async function streamReadings(weightFile: string, readings: readonly (readonly number[])[]): Promise<number[]> {
+export type Reading = Readonly<Record<string, number>>;
+
+export async function streamReadings(weightFile: string, readings: readonly Reading[]): Promise<Record<string, number>[]> {
   const runtime = await createRuntime(readFileSync(weightFile, 'utf8'));
-  const meta = runtime.metadata as { normalisation: { mean: number[]; deviation: number[] } };
-  const { mean, deviation } = meta.normalisation;
+  const translator = createTranslator(runtime.metadata);
   const streams = runtime.streams(1);
-  const input = new Float32Array(runtime.inputWidth);
-  const forecasts: number[] = [];
-  for (const reading of readings) {
-    for (let j = 0; j < input.length; j++) input[j] = (reading[j] - mean[j]) / deviation[j];
-    const output = streams.step(input);
-    forecasts.push(output[0] * deviation[0] + mean[0]);
-  }
-  return forecasts;
+  const input = new Float32Array(translator.inputNames.length);
+  // Each reading: named raw values in, the model's targets out, named and in real units.
+  return readings.map((reading, i) => translator.outputs(streams.step(translator.inputs(reading, input, `readings[${i}]`))));
 }
 
 runIfMain(import.meta.url, async () => {
   const file = process.argv[2] ?? 'demo-output/greenhouse.weft.json';
-  // A day of invented readings: temperature, humidity, soil moisture, light every 15 minutes.
-  const day = Array.from({ length: 96 }, (_, i) => [16 + 8 * Math.max(0, Math.sin((Math.PI * (i / 4 - 8)) / 14)), 80, 40, 40 * Math.max(0, Math.sin((Math.PI * (i / 4 - 6)) / 14))]);
+  // A day of invented greenhouse readings every 15 minutes.
+  const day = Array.from({ length: 96 }, (_, i) => ({
+    air_temperature_c: 16 + 8 * Math.max(0, Math.sin((Math.PI * (i / 4 - 8)) / 14)),
+    humidity_pct: 80,
+    soil_moisture_pct: 40,
+    light_klux: 40 * Math.max(0, Math.sin((Math.PI * (i / 4 - 6)) / 14)),
+  }));
   const forecasts = await streamReadings(file, day);
-  for (let i = 0; i < 96; i += 12) console.log(`${String(i / 4).padStart(2)}:00  now ${day[i][0].toFixed(1)} °C  in two hours ${forecasts[i].toFixed(1)} °C`);
+  for (let i = 0; i < 96; i += 12) {
+    const forecast = Object.entries(forecasts[i]).map(([name, value]) => `${name} ${value.toFixed(1)}`).join(', ');
+    console.log(`${String(i / 4).padStart(2)}:00  now ${day[i].air_temperature_c.toFixed(1)} °C  in two hours: ${forecast}`);
+  }
 });

@@ -17,7 +17,7 @@ import { loadWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
 import type { Runtime } from '@weft/io/runtime';
 import type { FlagSpec, ParsedArgs } from './args.js';
-import { choiceFlag } from './args.js';
+import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { classifyStepTable } from './score.js';
@@ -25,6 +25,7 @@ import { classifyStepTable } from './score.js';
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
   { name: 'keep', value: 'A,B', description: 'input columns to carry through to each output row (forecast, classify), such as a date' },
+  { name: 'ahead', value: 'ROWS', description: 'after the last row, forecast this many rows more, each from the forecast before it (a forecast of every column, 1 row ahead)' },
   { name: 'out', value: 'FILE', description: 'write here instead of standard output' },
   backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
@@ -143,9 +144,17 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
     }
   } else if (meta.task === 'forecast' || meta.task === 'classification') {
     const lines = fromStdin ? createInterface({ input: process.stdin, crlfDelay: Infinity }) : createInterface({ input: createReadStream(dataPath), crlfDelay: Infinity });
-    const each = meta.task === 'forecast' ? forecaster(runtime, meta, name, keep) : classifier(runtime, meta, name, keep);
+    const ahead = args.flags.has('ahead') ? numberFlag(args, 'ahead', 1, { whole: true, min: 1, max: 100000 }) : 0;
+    if (ahead > 0 && meta.task !== 'forecast') throw new CommandError('--ahead needs a forecast model', 2);
+    const forecast = meta.task === 'forecast' ? forecaster(runtime, meta, name, keep, ahead > 0) : null;
+    if (forecast !== null && ahead > 0) forecast.checkAhead();
+    const each = forecast?.each ?? classifier(runtime, meta, name, keep);
     let row = 0;
     for await (const table of tableRecords(lines, name)) each(table, ++row, (record) => output.add(record));
+    if (forecast !== null && ahead > 0) {
+      if (row === 0) throw new CommandError(`${name}: no rows to forecast ahead from`);
+      forecast.ahead(row, ahead, (record) => output.add(record));
+    }
   } else if (meta.task === 'next-token') {
     const text = fromStdin ? readFileSync(0, 'utf8') : readFileSync(dataPath, 'utf8');
     const translator = createTranslator(meta);
@@ -173,14 +182,38 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
 
 type EachRow = (table: Table, row: number, emit: (record: OutputRecord) => void) => void;
 
-function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[]): EachRow {
+/**
+ * Forecasts row by row; with `marked`, each record says whether it was made from data or, past the end (`ahead`),
+ * from the forecasts before it: the model's forecast of every column is fed back as the next row, which needs a
+ * model that forecasts all its input columns one row ahead.
+ */
+function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean) {
   const translator = createTranslator(meta);
   const streams = runtime.streams(1);
   const input = new Float32Array(translator.inputNames.length);
   const raw: Record<string, string> = {};
   let at: number[] | null = null;
   let kept: number[] = [];
-  return (table, row, emit) => {
+  let keptNames: string[] = [];
+  let last: Record<string, number> = {};
+  const targetName = (target: string) => `${target} in ${String(meta.horizon)}`;
+  const checkAhead = (): void => {
+    const missing = translator.inputNames.filter((c) => !translator.outputNames.includes(c));
+    if (Number(meta.horizon) !== 1 || missing.length > 0) {
+      throw new CommandError(`--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead; this one forecasts ${translator.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''} (train it with --horizon 1 and no --target)`, 2);
+    }
+  };
+  const ahead = (rows: number, count: number, emit: (record: OutputRecord) => void): void => {
+    for (let k = 1; k <= count; k++) {
+      const values = translator.outputs(streams.step(translator.inputs(last, input)));
+      const record: OutputRecord = { row: rows + k, made: 'from forecasts' };
+      for (const c of keptNames) record[c] = '';
+      for (const [target, value] of Object.entries(values)) record[targetName(target)] = Number(value.toPrecision(6));
+      last = values;
+      emit(record);
+    }
+  };
+  const each: EachRow = (table, row, emit) => {
     at ??= columnsAt(table, translator.inputNames, name, 'the model reads it');
     if (row === 1) kept = columnsAt(table, keep, name, 'for --keep');
     const fields = table.rows[0].fields;
@@ -193,11 +226,14 @@ function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: strin
       throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[translator.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(translator.inputNames[Math.max(0, j)])} is not a number`);
     }
     const values = translator.outputs(streams.step(input));
-    const record: OutputRecord = { row };
+    last = values;
+    const record: OutputRecord = marked ? { row, made: 'from data' } : { row };
+    keptNames = kept.map((c) => table.header[c]);
     kept.forEach((c) => (record[table.header[c]] = fields[c]));
-    for (const [target, value] of Object.entries(values)) record[`${target} in ${String(meta.horizon)}`] = Number(value.toPrecision(6));
+    for (const [target, value] of Object.entries(values)) record[targetName(target)] = Number(value.toPrecision(6));
     emit(record);
   };
+  return { each, ahead, checkAhead };
 }
 
 function classifier(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[]): EachRow {

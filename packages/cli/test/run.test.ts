@@ -76,6 +76,30 @@ describe('weft run', () => {
     expect(printed).toEqual(own);
   });
 
+  it('forecasts past the end with --ahead by feeding each forecast back, and refuses a model that cannot', async () => {
+    writeFileSync(join(folder, 'both.csv'), `level,inflow\n${readings.map((r) => `${r.level},${r.inflow}`).join('\n')}\n`);
+    expect(weft(['train', 'both.csv', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'both.weft.json', '--quiet']).code).toBe(0);
+    const tail = readings.slice(0, 40);
+    const run = weft(['run', 'both.weft.json', '-', '--ahead', '3', '--format', 'json'], `level,inflow\n${tail.map((r) => `${r.level},${r.inflow}`).join('\n')}\n`);
+    expect(run.code).toBe(0);
+    const records = JSON.parse(run.out) as { row: number; made: string; 'level in 1': number; 'inflow in 1': number }[];
+    expect(records).toHaveLength(43);
+    expect(records.slice(40).map((r) => [r.row, r.made])).toEqual([[41, 'from forecasts'], [42, 'from forecasts'], [43, 'from forecasts']]);
+    // The same recursion through the library: the forecast made at row 40 is the input of row 41, and so on.
+    const file = await readWeightFile(readFileSync(join(folder, 'both.weft.json'), 'utf8'));
+    const translator = createTranslator(file.metadata as Record<string, unknown>);
+    const streams = (await createRuntime(file)).streams(1);
+    let last: Record<string, number> = {};
+    for (const r of tail) last = translator.outputs(streams.step(translator.inputs({ level: r.level, inflow: r.inflow })));
+    for (let k = 0; k < 3; k++) {
+      last = translator.outputs(streams.step(translator.inputs(last)));
+      expect(records[40 + k]['level in 1']).toBe(Number(last.level.toPrecision(6)));
+    }
+    const refused = weft(['run', 'tank.weft.json', 'both.csv', '--ahead', '2']);
+    expect(refused.code).toBe(2);
+    expect(refused.err.trim()).toMatch(/^weft: --ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead; this one forecasts level 1 row\(s\) ahead and does not forecast inflow/);
+  });
+
   it('names the file, line and column of a row that is not a number, and of a ragged row, in one line', () => {
     const bad = weft(['run', 'tank.weft.json', '-'], 'hour,level,inflow\nh0,50,3\nh1,dry,3\n');
     expect(bad.code).toBe(1);
