@@ -18,15 +18,20 @@ export class ProgressView {
   private lastDrawn = 0;
   private lastPlainTenth = -1;
 
-  constructor(stream: NodeJS.WriteStream = process.stderr) {
+  /**
+   * `maeScale`: the factor that turns the validation MAE (on normalised values) into the data's units, when there
+   * is one (a forecast of one column: its deviation); null shows it as normalised.
+   */
+  constructor(stream: NodeJS.WriteStream = process.stderr, private readonly maeScale: number | null = null) {
     this.stream = stream;
     this.interactive = stream.isTTY === true;
   }
 
   show(event: TrainingEvent): void {
     if (event.kind === 'validation') {
-      const metric = event.validationMetricName === 'accuracy' ? `accuracy ${(event.validationMetric! * 100).toFixed(1)}%` : `MAE ${event.validationMetric!.toPrecision(4)}`;
-      this.lastValidation = `validation ${event.validationLoss!.toPrecision(4)} (${metric})`;
+      const mae = this.maeScale === null ? `MAE ${event.validationMetric!.toPrecision(4)} normalised` : `MAE ${(event.validationMetric! * this.maeScale).toPrecision(4)} in data units`;
+      const metric = event.validationMetricName === 'accuracy' ? `accuracy ${(event.validationMetric! * 100).toFixed(1)}%` : mae;
+      this.lastValidation = `validation loss ${event.validationLoss!.toPrecision(4)}, ${metric}`;
       if (!this.interactive) this.plain(event, true);
       return;
     }

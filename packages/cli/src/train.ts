@@ -140,7 +140,12 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const every = numberFlag(args, 'checkpoint-every', 200, { whole: true, min: 1 });
   const model = buildModel(description, { seed });
   const history: { training: LossPoint[]; validation: LossPoint[] } = { training: [], validation: [] };
-  const view = args.switches.has('quiet') ? null : new ProgressView();
+  // A forecast of one column: its validation MAE shown in the data's units (the column's deviation undoes the scaling).
+  const forecastMeta = prepared.metadata as { columns?: string[]; targetColumns?: string[]; normalisation?: { deviation: number[] } };
+  const maeScale = task === 'forecast' && forecastMeta.targetColumns?.length === 1
+    ? forecastMeta.normalisation?.deviation[forecastMeta.columns?.indexOf(forecastMeta.targetColumns[0]) ?? -1] ?? null
+    : null;
+  const view = args.switches.has('quiet') ? null : new ProgressView(process.stderr, maeScale);
   const controller = new AbortController();
   const validateEvery = args.flags.has('validate-every') ? numberFlag(args, 'validate-every', 1, { whole: true, min: 1 }) : undefined;
   const patience = numberFlag(args, 'patience', 3, { whole: true, min: 1 });
