@@ -22,7 +22,7 @@ import { createRuntime } from '@weft/io/runtime';
 import { buildPage } from '../examples/browser/build.js';
 import { servePage } from '../examples/browser/serve.js';
 import { f32Bits, prepare, sampleText } from '../examples/browser/src/training.js';
-import type { TrainingConfig } from '../examples/browser/src/training.js';
+import type { HeldOut, TrainingConfig } from '../examples/browser/src/training.js';
 
 const executable = '/usr/bin/chromium';
 const available = existsSync(executable);
@@ -36,7 +36,7 @@ let server: Server;
 
 interface PageHandle {
   runGradientChecks(): Promise<{ label: string; passed: boolean; worst: number }[]>;
-  trainFor(settings: Partial<TrainingConfig>): Promise<{ steps: number; lastLoss: number; lastLossBits: string; backend: string; timerWorstLateness: number; timerTicks: number }>;
+  trainFor(settings: Partial<TrainingConfig>): Promise<{ steps: number; lastLoss: number; lastLossBits: string; backend: string; heldOut: HeldOut; heldOutText: string; timerWorstLateness: number; timerTicks: number }>;
   chartPoints(): { training: number; validation: number; gradientNorm: number; firstLoss: number; lastLoss: number };
   forecast(values: number[]): number[];
   hasWeights(): boolean;
@@ -97,6 +97,10 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
       expect(inBrowser.backend).toBe(backend);
       expect(inBrowser.steps).toBe(40);
       expect(inBrowser.lastLossBits).toBe(f32Bits(loss));
+      // Text mode shows the held-out perplexity beside the unigram baseline.
+      expect(inBrowser.heldOut.metric).toBe('perplexity');
+      expect(inBrowser.heldOut.baselines.map((b) => b.name)).toEqual(['unigram (character frequencies)']);
+      expect(inBrowser.heldOutText.split('\n')[0]).toBe('held out: perplexity, lower is better');
     }, 60_000);
   }
 
@@ -111,6 +115,17 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     expect(points.validation).toBeGreaterThan(0);
     expect(points.gradientNorm).toBeGreaterThan(0);
     expect(points.lastLoss).toBeLessThan(points.firstLoss);
+    // Numbers mode: held-out MAE beside the baselines, and the forecast chart drawn from the same series.
+    const held = result.heldOut;
+    expect(held.metric).toBe('MAE');
+    expect(held.baselines.map((b) => b.name)).toEqual(expect.arrayContaining(['persistence', 'training mean', 'linear']));
+    expect(held.actual).toHaveLength(held.forecast!.length);
+    const mae = held.actual!.reduce((s, a, i) => s + Math.abs(a - held.forecast![i]), 0) / held.actual!.length;
+    expect(Math.abs(mae - held.model)).toBeLessThan(1e-9 * Math.max(1, mae));
+    expect(result.heldOutText).toMatch(/^held out: MAE \(in the data's units\), lower is better\n  model  [\d.]+\n  persistence  [\d.]+/);
+    expect(result.heldOutText).toMatch(/\nthe model (beats every baseline|does NOT beat the baseline)/);
+    console.log(result.heldOutText);
+    expect(await page.isVisible('#forecast-chart')).toBe(true);
     mkdirSync(artifacts, { recursive: true });
     await page.screenshot({ path: join(artifacts, 'browser-page.png'), fullPage: true });
     expect(existsSync(join(artifacts, 'browser-page.png'))).toBe(true);

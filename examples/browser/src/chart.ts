@@ -63,3 +63,38 @@ export class LossChart {
     context.fillText(normHigh.toPrecision(3), width - pad + 2, 16);
   }
 }
+
+/** The held-out part of a series and the model's one-step forecasts of it, on one scale. */
+export function drawForecast(canvas: HTMLCanvasElement, actual: readonly number[], forecast: readonly number[]): void {
+  const context = canvas.getContext('2d');
+  if (context === null) return;
+  const { width, height } = canvas;
+  const pad = 36;
+  context.fillStyle = 'white';
+  context.fillRect(0, 0, width, height);
+  context.strokeStyle = '#999';
+  context.strokeRect(pad, 8, width - 2 * pad, height - pad - 8);
+  const all = [...actual, ...forecast].filter(Number.isFinite);
+  if (all.length === 0) return;
+  const low = Math.min(...all);
+  const high = Math.max(...all);
+  const span = high - low || 1;
+  const x = (i: number) => pad + ((width - 2 * pad) * i) / Math.max(1, actual.length - 1);
+  const y = (v: number) => 8 + (height - pad - 8) * (1 - (v - low) / span);
+  const line = (values: readonly number[], colour: string, thickness: number) => {
+    context.strokeStyle = colour;
+    context.lineWidth = thickness;
+    context.beginPath();
+    values.forEach((v, i) => (i === 0 ? context.moveTo(x(i), y(v)) : context.lineTo(x(i), y(v))));
+    context.stroke();
+  };
+  // The held-out values wide and pale, so a close forecast drawn over them leaves them visible.
+  line(actual, '#bbb', 4);
+  line(forecast, '#2c6fbb', 1.5);
+  context.lineWidth = 1;
+  context.fillStyle = '#333';
+  context.font = '11px sans-serif';
+  context.fillText(high.toPrecision(4), 2, 16);
+  context.fillText(low.toPrecision(4), 2, height - pad);
+  context.fillText(`${actual.length} held-out values`, width - pad - 110, height - 10);
+}

@@ -6,10 +6,11 @@
 import { Random } from '@weft/core';
 import { createRuntime, generateTokens } from '@weft/io/runtime';
 import type { Runtime } from '@weft/io/runtime';
-import { LossChart } from './chart.js';
+import { createTranslator } from '@weft/io/translate';
+import { LossChart, drawForecast } from './chart.js';
 import type { FromWorker, ToWorker } from './protocol.js';
 import { parseNumbers, sampleText } from './training.js';
-import type { TrainingConfig } from './training.js';
+import type { HeldOut, TrainingConfig } from './training.js';
 
 const $ = <T extends HTMLElement>(id: string) => document.getElementById(id) as T;
 const worker = new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
@@ -66,6 +67,7 @@ worker.onmessage = (event: MessageEvent<FromWorker>) => {
     timer.running = false;
     lastDone = message;
     status.textContent = `trained ${message.steps} steps on the ${message.backend} backend; last loss ${message.lastLoss.toPrecision(5)}`;
+    showHeldOut(message.heldOut);
     void useWeights(message.weightFile);
   } else if (message.type === 'checked') {
     lastChecks = message;
@@ -78,6 +80,21 @@ worker.onmessage = (event: MessageEvent<FromWorker>) => {
   $<HTMLButtonElement>('stop').disabled = message.type === 'progress' ? false : true;
   for (const resolve of waiting.splice(0)) resolve(message);
 };
+
+/** The held-out figures beside the baselines, a verdict against the best, and (numbers) the forecast chart. */
+function showHeldOut(heldOut: HeldOut): void {
+  const best = heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a));
+  const units = heldOut.metric === 'MAE' ? ' (in the data\'s units)' : '';
+  const rows = [`held out: ${heldOut.metric}${units}, lower is better`, `  model  ${heldOut.model.toPrecision(4)}`, ...heldOut.baselines.map((b) => `  ${b.name}  ${b.value.toPrecision(4)}`)];
+  rows.push(heldOut.model < best.value
+    ? `the model beats every baseline; the best, ${best.name}, has ${best.value.toPrecision(4)}`
+    : `the model does NOT beat the baseline ${best.name} (${best.value.toPrecision(4)}): train longer, on more data, or use the baseline`);
+  $('heldout').textContent = rows.join('\n');
+  const canvas = $<HTMLCanvasElement>('forecast-chart');
+  canvas.hidden = heldOut.actual === undefined;
+  $('forecast-legend').hidden = heldOut.actual === undefined;
+  if (heldOut.actual !== undefined && heldOut.forecast !== undefined) drawForecast(canvas, heldOut.actual, heldOut.forecast);
+}
 
 async function useWeights(text: string): Promise<void> {
   weightFile = text;
@@ -111,13 +128,10 @@ function generate(): string {
 /** One-step-ahead forecasts for every value of a series, through the runtime. */
 function forecast(values: number[]): number[] {
   if (runtime === null) return [];
-  const { mean, deviation } = (runtime.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;
+  const translator = createTranslator(runtime.metadata);
   const streams = runtime.streams(1);
   const input = new Float32Array(1);
-  return values.map((v) => {
-    input[0] = (v - mean[0]) / deviation[0];
-    return streams.step(input)[0] * deviation[0] + mean[0];
-  });
+  return values.map((v) => translator.outputs(streams.step(translator.inputs({ value: v }, input))).value);
 }
 
 $('train').addEventListener('click', () => train());
@@ -164,7 +178,7 @@ const handle = {
     train(settings);
     const message = await until('done');
     if (message.type === 'failed') throw new Error(message.message);
-    return { steps: lastDone!.steps, lastLoss: lastDone!.lastLoss, lastLossBits: lastDone!.lastLossBits, backend: lastDone!.backend, timerWorstLateness: timer.worst, timerTicks: timer.ticks };
+    return { steps: lastDone!.steps, lastLoss: lastDone!.lastLoss, lastLossBits: lastDone!.lastLossBits, backend: lastDone!.backend, heldOut: lastDone!.heldOut, heldOutText: $('heldout').textContent ?? '', timerWorstLateness: timer.worst, timerTicks: timer.ticks };
   },
   chartPoints: () => ({ training: chart.training.length, validation: chart.validation.length, gradientNorm: chart.gradientNorm.length, firstLoss: chart.training[0]?.value, lastLoss: chart.training.at(-1)?.value }),
   forecast: (values: number[]) => forecast(values),

@@ -1,5 +1,5 @@
 /** Messages between the page and its training worker. */
-import type { TrainingConfig } from './training.js';
+import type { HeldOut, TrainingConfig } from './training.js';
 
 export type ToWorker =
   | { readonly type: 'train'; readonly config: TrainingConfig }
@@ -13,6 +13,6 @@ export interface ChartPoint {
 
 export type FromWorker =
   | { readonly type: 'progress'; readonly training: ChartPoint[]; readonly validation: ChartPoint[]; readonly gradientNorm: ChartPoint[]; readonly step: number; readonly totalSteps: number }
-  | { readonly type: 'done'; readonly steps: number; readonly lastLoss: number; readonly lastLossBits: string; readonly weightFile: string; readonly backend: string }
+  | { readonly type: 'done'; readonly steps: number; readonly lastLoss: number; readonly lastLossBits: string; readonly weightFile: string; readonly backend: string; readonly heldOut: HeldOut }
   | { readonly type: 'checked'; readonly reports: { readonly label: string; readonly passed: boolean; readonly worst: number }[] }
   | { readonly type: 'failed'; readonly message: string };

@@ -3,11 +3,12 @@
  * browser test: the same configuration gives the same model, data and trainer in both places, so their losses
  * can be compared bit for bit.
  */
-import { defaultBackend, setDefaultBackend } from '@weft/core';
+import { Tape, defaultBackend, setDefaultBackend, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 import type { TrainingEvent } from '@weft/optim';
+import { forecastBaselines, forecastErrors } from '@weft/io';
 import type { WeightMetadata } from '@weft/io';
 
 export interface TrainingConfig {
@@ -31,6 +32,19 @@ export interface Prepared {
   readonly model: SequenceModel;
   readonly trainer: Trainer;
   readonly metadata: WeightMetadata;
+  /** The model and the baselines on the held-out part, in the data's units (call after training). */
+  readonly heldOut: () => HeldOut;
+}
+
+/** Held-out figures for the page: a line per contender, and for numbers the series the chart draws. */
+export interface HeldOut {
+  /** `MAE` (numbers, in the data's units) or `perplexity` (text); lower is better for both. */
+  readonly metric: 'MAE' | 'perplexity';
+  readonly model: number;
+  readonly baselines: readonly { readonly name: string; readonly value: number }[];
+  /** The held-out values and the model's one-step forecasts of them (numbers only). */
+  readonly actual?: readonly number[];
+  readonly forecast?: readonly number[];
 }
 
 export function parseNumbers(text: string): number[] {
@@ -59,7 +73,30 @@ export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEve
       validation: streamBatches({ kind: 'tokens', tokens: ids.slice(split), vocabulary: symbols.length }, { window: Math.min(config.window, ids.length - split - 1) }),
       validateEvery: 10,
     });
-    return { model, trainer, metadata: { task: 'next-token', tokens: 'characters', vocabulary: symbols } };
+    const heldOut = (): HeldOut => {
+      // Perplexity of the held-out characters, each predicted from those before it (the state carried from the
+      // training text), against each character as often as in the training text (counts plus one).
+      const tape = new Tape({ recording: false });
+      const outputs = model.run(tape, { tokens: ids, steps: ids.length, batch: 1 }).outputs.data;
+      const vocabulary = symbols.length;
+      let crossEntropy = 0;
+      for (let t = split - 1; t + 1 < ids.length; t++) {
+        let max = -Infinity;
+        for (let k = 0; k < vocabulary; k++) max = Math.max(max, outputs[t * vocabulary + k]);
+        let sum = 0;
+        for (let k = 0; k < vocabulary; k++) sum += Math.exp(outputs[t * vocabulary + k] - max);
+        crossEntropy += max + Math.log(sum) - outputs[t * vocabulary + ids[t + 1]];
+      }
+      const counts = new Float64Array(vocabulary).fill(1);
+      for (let t = 0; t < split; t++) counts[ids[t]]++;
+      const total = counts.reduce((a, b) => a + b, 0);
+      let unigram = 0;
+      for (let t = split; t < ids.length; t++) unigram -= Math.log(counts[ids[t]] / total);
+      const n = ids.length - split;
+      tape.clear();
+      return { metric: 'perplexity', model: Math.exp(crossEntropy / n), baselines: [{ name: 'unigram (character frequencies)', value: Math.exp(unigram / n) }] };
+    };
+    return { model, trainer, metadata: { task: 'next-token', tokens: 'characters', vocabulary: symbols }, heldOut };
   }
   const values = parseNumbers(config.data);
   const split = Math.floor(values.length * 0.85);
@@ -74,7 +111,19 @@ export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEve
     validation: streamBatches({ kind: 'values', values: normalised.slice(split - config.window), features: 1 }, { window: config.window }),
     validateEvery: 10,
   });
-  return { model, trainer, metadata: { task: 'forecast', columns: ['value'], targetColumns: ['value'], horizon: 1, normalisation: { mean: [mean], deviation: [deviation] } } };
+  const heldOut = (): HeldOut => {
+    // One-step forecasts over the whole series (state carried from the start); scored from the first held-out value.
+    const tape = new Tape({ recording: false });
+    const outputs = model.run(tape, tensor(normalised, [values.length, 1, 1], 'f32')).outputs.data;
+    const positions: number[] = [];
+    for (let t = split - 1; t + 1 < values.length; t++) positions.push(t);
+    const forecast = positions.map((t) => outputs[t] * deviation + mean);
+    const actual = positions.map((t) => values[t + 1]);
+    tape.clear();
+    const baselines = forecastBaselines({ values: values.map((v) => [v]), targets: [0], horizon: 1, trainRows: split, positions });
+    return { metric: 'MAE', model: forecastErrors(actual, forecast).mae, baselines: baselines.map((b) => ({ name: b.name, value: b.overall.mae })), actual, forecast };
+  };
+  return { model, trainer, metadata: { task: 'forecast', columns: ['value'], targetColumns: ['value'], horizon: 1, normalisation: { mean: [mean], deviation: [deviation] } }, heldOut };
 }
 
 /** The f32 bit pattern of a number, as 8 hex digits. */

@@ -57,7 +57,7 @@ self.onmessage = async (event: MessageEvent<ToWorker>) => {
       pending.gradientNorm = [];
       lastPost = performance.now();
     };
-    const { model, trainer, metadata } = prepare(message.config, (e) => {
+    const { model, trainer, metadata, heldOut } = prepare(message.config, (e) => {
       if (e.kind === 'step') {
         pending.training.push({ step: e.step, value: e.loss });
         if (Number.isFinite(e.gradientNorm)) pending.gradientNorm.push({ step: e.step, value: e.gradientNorm });
@@ -70,7 +70,7 @@ self.onmessage = async (event: MessageEvent<ToWorker>) => {
     const summary = await trainer.run();
     flush(summary.steps);
     const weightFile = await writeWeightFile(model.description, modelTensors(model), { metadata });
-    post({ type: 'done', steps: summary.steps, lastLoss: summary.lastLoss, lastLossBits: f32Bits(summary.lastLoss), weightFile, backend: trainer.backend.name });
+    post({ type: 'done', steps: summary.steps, lastLoss: summary.lastLoss, lastLossBits: f32Bits(summary.lastLoss), weightFile, backend: trainer.backend.name, heldOut: heldOut() });
   } catch (error) {
     post({ type: 'failed', message: (error as Error).message });
   }
