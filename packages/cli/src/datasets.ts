@@ -11,7 +11,8 @@ import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { classificationMetrics, sequenceBatches, streamBatches } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { Tape, lastStepsValues } from './evaluate.js';
-import { ForecastErrorSum, classificationReport, columnStatistics, decimal, fieldPath, forecastBaselines, numberAt, parseTable, readStepTable } from '@weft/io';
+import { WeftError } from '@weft/core';
+import { ForecastErrorSum, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, numberAt, parseTable, readStepTable } from '@weft/io';
 import type { ClassificationReport, ForecastErrors, Table, WeightMetadata } from '@weft/io';
 import { CommandError } from './errors.js';
 
@@ -96,9 +97,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     names === undefined
       ? fallback
       : names.map((name) => {
-          const at = table.header.indexOf(name);
-          if (at < 0) throw new CommandError(`${file}: no column named ${JSON.stringify(name)} (for --${flag}); columns are ${table.header.join(', ')}`, 2);
-          return at;
+          return columnNamed(table, name, `for --${flag}`);
         });
   const columns = pick(options.columns, numericColumns, 'columns');
   if (columns.length === 0) throw new CommandError(`${file}: no numeric columns to forecast`);
@@ -126,7 +125,8 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   for (let t = trainRows; t < validationFrom + heldOutSteps; t++) positions.push(t);
   if (positions.length === 0) throw new CommandError(`${file}: the validation share leaves no held-out rows to score; raise --validation`);
   if (options.season !== undefined && options.season !== null && !(options.season < trainRows)) {
-    throw new CommandError(`${file}: --season ${options.season} is not shorter than the ${trainRows} training rows (of ${rows}); give a shorter season or more data`, 2);
+    // The training rows end at this line: a season must fit in them.
+    throw new WeftError({ code: 'invalid_option', path: `${file}:${table.rows[trainRows - 1].line}:1 (--season)`, expected: `a season shorter than the ${trainRows} training rows (of ${rows}), which end at this line`, received: String(options.season) });
   }
   const baselines = forecastBaselines({ values, targets: targetIndexes, horizon: options.horizon, trainRows, positions }, { season: options.season });
   const targetNames = targets.map((c) => table.header[c]);
@@ -237,7 +237,7 @@ export function prepareClassification(text: string, file: string, options: Class
     throw new CommandError(`${file}: needs columns ${JSON.stringify(options.labelColumn)} and ${JSON.stringify(options.sequenceColumn)} (or a long table: one step per row, with --id-column); found ${table.header.join(', ')}`, 2);
   }
   const labels = [...new Set(table.rows.map((r) => r.fields[labelAt].trim()))].sort();
-  onlyOneClass(labels, file);
+  onlyOneClass(labels, table.rows.length > 0 ? fieldPath(table, 0, labelAt) : `${file}:1:1`);
   const items = table.rows.map((r) => r.fields[sequenceAt].trim().split(/\s+/).filter((s) => s !== ''));
   items.forEach((list, i) => {
     if (list.length === 0) throw new CommandError(`${fieldPath(table, i, sequenceAt)}: an empty sequence`);
@@ -277,8 +277,9 @@ export function prepareClassification(text: string, file: string, options: Class
   });
 }
 
-function onlyOneClass(labels: readonly string[], file: string): void {
-  if (labels.length < 2) throw new CommandError(`${file}: every sequence has the label ${JSON.stringify(labels[0] ?? '')}; a classifier needs at least two classes`);
+/** A classifier needs two classes: `where` is the file:line:column of the first label. */
+function onlyOneClass(labels: readonly string[], where: string): void {
+  if (labels.length < 2) throw new WeftError({ code: 'bad_data', path: where, expected: 'labels of at least two classes (a classifier needs them)', received: `the label ${JSON.stringify(labels[0] ?? '')} on every sequence` });
 }
 
 /** A labelled long table (one step per row, several numbers per step) as sequences, normalised per column. */
@@ -286,7 +287,8 @@ function prepareStepClassification(table: Table, file: string, options: Classify
   const read = readStepTable(table, { idColumn: options.idColumn as string, stepColumn: options.stepColumn, labelColumn: options.labelColumn, columns: options.columns });
   const labels = [...new Set(read.sequences.map((q) => q.label as string))].sort();
   const width = read.columns.length;
-  onlyOneClass(labels, file);
+  const labelAt = columnNamed(table, options.labelColumn, 'the labels');
+  onlyOneClass(labels, table.rows.length > 0 ? fieldPath(table, 0, labelAt) : `${file}:1:1`);
   const statistics = columnStatistics(read.sequences.flatMap((q) => q.steps), width);
   const sequences: LabelledSequence[] = read.sequences.map((q) => ({
     values: q.steps.flatMap((step) => step.map((v, j) => (v - statistics.mean[j]) / statistics.deviation[j])),

@@ -30,6 +30,14 @@ describe('preparing training data', () => {
     expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^levels\.csv:9:12: "0x10" in column "level"/);
   });
 
+  it('names the file and line of an unknown column and of a season longer than the training rows', () => {
+    const text = series(60, (r) => String(Math.sin(r)));
+    expect(() => prepareForecast(text, 'levels.csv', { ...options, targets: ['flow'] })).toThrowError(
+      'Bad data at levels.csv:1:1: expected a column named "flow" (for --target), received the columns when, level');
+    expect(() => prepareForecast(text, 'levels.csv', { ...options, season: 48 })).toThrowError(
+      'Invalid option at levels.csv:49:1 (--season): expected a season shorter than the 48 training rows (of 60), which end at this line, received 48');
+  });
+
   it('normalises values of ±1e300 and 1e308 without overflowing (mean and deviation finite)', () => {
     const top = prepareForecast(series(60, (r) => (r % 3 === 0 ? '1e308' : '-1e308')), 'top.csv', options);
     const stats = (top.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;

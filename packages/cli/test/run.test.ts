@@ -76,6 +76,32 @@ describe('weft run', () => {
     expect(printed).toEqual(own);
   });
 
+  it('prints for a text model what the translator and the runtime compute, unknown characters counted on stderr', async () => {
+    const notes = Array.from({ length: 40 }, (_, i) => `vat ${i % 5} is ${['indigo', 'madder', 'weld'][i % 3]}; `).join('');
+    writeFileSync(join(folder, 'dye.txt'), notes);
+    expect(weft(['train', 'dye.txt', '--hidden', '8', '--epochs', '2', '--window', '16', '--streams', '4', '--out', 'dye.weft.json', '--quiet']).code).toBe(0);
+    const probe = 'vat 3 is weld! ';
+    const run = weft(['run', 'dye.weft.json', '-', '--format', 'json'], probe);
+    expect(run.code).toBe(0);
+    expect(run.err.trim()).toBe('weft: 1 of 15 characters of <stdin> are not in the model\'s vocabulary; they are read as <unknown>');
+    const printed = JSON.parse(run.out) as { token: string; 'most likely next': string; probability: number }[];
+    const file = await readWeightFile(readFileSync(join(folder, 'dye.weft.json'), 'utf8'));
+    const translator = createTranslator(file.metadata as Record<string, unknown>);
+    const streams = (await createRuntime(file)).streams(1);
+    const { ids } = translator.tokenIds(probe);
+    const own = Array.from(ids, (id) => {
+      const out = streams.step(Int32Array.of(id));
+      let best = 0;
+      for (let k = 1; k < out.length; k++) if (out[k] > out[best]) best = k;
+      const max = out[best];
+      const total = Array.from(out).reduce((s, z) => s + Math.exp(z - max), 0);
+      return { next: translator.tokenText(best), probability: Number((1 / total).toPrecision(4)) };
+    });
+    expect(printed.map((p) => p['most likely next'])).toEqual(own.map((o) => o.next));
+    expect(printed.map((p) => p.probability)).toEqual(own.map((o) => o.probability));
+    expect(printed.map((p) => p.token).join('')).toBe(probe);
+  });
+
   it('forecasts past the end with --ahead by feeding each forecast back, and refuses a model that cannot', async () => {
     writeFileSync(join(folder, 'both.csv'), `level,inflow\n${readings.map((r) => `${r.level},${r.inflow}`).join('\n')}\n`);
     expect(weft(['train', 'both.csv', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'both.weft.json', '--quiet']).code).toBe(0);

@@ -88,7 +88,7 @@ describe('weft score', () => {
     writeFileSync(join(folder, 'one.csv'), `label,sequence\n${Array.from({ length: 20 }, () => 'calm,"1 2 3"').join('\n')}\n`);
     const one = weft(['train', 'one.csv']);
     expect(one.code).toBe(1);
-    expect(one.err.trim()).toBe('weft: one.csv: every sequence has the label "calm"; a classifier needs at least two classes');
+    expect(one.err.trim()).toBe('weft: Bad data at one.csv:2:1: expected labels of at least two classes (a classifier needs them), received the label "calm" on every sequence');
     writeFileSync(join(folder, 'order.csv'), 'unit,step,label,pressure\nu1,1,a,0.1\nu1,3,a,0.2\nu1,2,a,0.3\nu2,1,b,0.1\n');
     const order = weft(['train', 'order.csv', '--id-column', 'unit', '--step-column', 'step']);
     expect(order.code).toBe(1);
