@@ -7,6 +7,9 @@
  * - A random walk with drift, generated here: the best forecast of a random walk is the value now (persistence;
  *   common practice), and the held-out part drifts above the training range, so the model must lose to some
  *   baseline, and the verdict must say so and name it.
+ * - A rising series, generated here: its held-out levels lie above every level trained on, which a model of the
+ *   level cannot reach; with --transform differences it forecasts the change and comes close to persistence
+ *   (common practice: difference a trending series before modelling it).
  */
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -54,5 +57,17 @@ describe('the held-out verdict', () => {
     expect(report.model.value).toBeGreaterThan(best.value);
     expect(text).toContain(`verdict: the model does NOT beat the baseline ${best.name}: MAE `);
     expect(text).toMatch(/train longer \(--epochs, --patience\), on more data, or use the baseline$/m);
+  }, 60_000);
+
+  it('forecasts a rising series far better as differences than as levels', async () => {
+    const rows = Array.from({ length: 1200 }, (_, t) => (0.05 * t + 2 * Math.sin(t / 5)).toFixed(4));
+    const file = join(folder, 'rising.csv');
+    writeFileSync(file, `level\n${rows.join('\n')}\n`);
+    const levels = await trainQuietly([file, '--validation', '0.2', '--quiet', '--out', join(folder, 'levels.weft.json')]);
+    const changes = await trainQuietly([file, '--validation', '0.2', '--transform', 'differences', '--quiet', '--out', join(folder, 'changes.weft.json')]);
+    const persistence = changes.outcome.heldOut.baselines.find((b) => b.name === 'persistence')!.value;
+    console.log(`rising series MAE: levels ${levels.outcome.heldOut.model.value}, differences ${changes.outcome.heldOut.model.value}, persistence ${persistence}`);
+    expect(changes.outcome.heldOut.model.value).toBeLessThan(0.3 * levels.outcome.heldOut.model.value);
+    expect(changes.outcome.heldOut.model.value).toBeLessThan(1.2 * persistence);
   }, 60_000);
 });

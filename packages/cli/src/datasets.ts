@@ -71,7 +71,15 @@ export interface PrepareOptions {
   readonly seed: string;
   /** Rows in a season for the seasonal-naive baseline; null for none; undefined to detect one. */
   readonly season?: number | null;
+  /** Forecast the change instead of the level: differences y(t+h) − y(t), or log returns ln(y(t+h) / y(t)). */
+  readonly transform?: 'none' | 'differences' | 'log-returns';
 }
+
+/** A target transform and its inverse, from the level now (y) and the level ahead (ahead) or the change (change). */
+export const TRANSFORMS = {
+  differences: { forward: (ahead: number, y: number) => ahead - y, inverse: (change: number, y: number) => y + change },
+  'log-returns': { forward: (ahead: number, y: number) => Math.log(ahead / y), inverse: (change: number, y: number) => y * Math.exp(change) },
+} as const;
 
 export function prepareForecast(text: string, file: string, options: PrepareOptions): Prepared {
   const table = parseTable(text, { file });
@@ -114,11 +122,28 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const normalised = values.map((row) => row.map((v, j) => (v - mean[j]) / deviation[j]));
   const targetIndexes = targets.map((t) => columns.indexOf(t));
   const flat = (from: number, to: number) => normalised.slice(from, to).flat();
-  const train = streamBatches({ kind: 'values', values: flat(0, trainRows), features: columns.length, targetColumns: targetIndexes, horizon: options.horizon }, { streams: options.streams, window: options.window, lookback: options.lookback });
+  // With a transform, the model learns the change over `horizon` rows (row s holds the change from s − h to s).
+  const transform = options.transform ?? 'none';
+  let change: { mean: number[]; deviation: number[]; rows: number[][] } | null = null;
+  if (transform !== 'none') {
+    if (transform === 'log-returns') {
+      values.forEach((row, r) => targetIndexes.forEach((j, k) => {
+        if (!(row[j] > 0)) throw new WeftError({ code: 'bad_data', path: fieldPath(table, r, targets[k]), expected: `a number > 0 in column ${JSON.stringify(table.header[targets[k]])} (log returns need positive values)`, received: String(row[j]) });
+      }));
+    }
+    const f = TRANSFORMS[transform].forward;
+    const raw = values.map((row, s) => targetIndexes.map((j) => (s < options.horizon ? 0 : f(row[j], values[s - options.horizon][j]))));
+    const statistics = columnStatistics(raw.slice(options.horizon, trainRows), targetIndexes.length);
+    change = { ...statistics, rows: raw.map((row) => row.map((v, k) => (v - statistics.mean[k]) / statistics.deviation[k])) };
+  }
+  const targetOptions = (from: number, to: number) => change === null
+    ? { targetColumns: targetIndexes }
+    : { targets: change.rows.slice(from, to).flat(), targetWidth: targetIndexes.length };
+  const train = streamBatches({ kind: 'values', values: flat(0, trainRows), features: columns.length, ...targetOptions(0, trainRows), horizon: options.horizon }, { streams: options.streams, window: options.window, lookback: options.lookback });
   // Validation reads the held-out rows as one stream, warmed up by the window before them.
   const validationFrom = trainRows - options.window;
   const heldOutSteps = Math.floor((rows - validationFrom - options.horizon) / options.window) * options.window;
-  const validation = streamBatches({ kind: 'values', values: flat(validationFrom, validationFrom + heldOutSteps + options.horizon), features: columns.length, targetColumns: targetIndexes, horizon: options.horizon }, { streams: 1, window: options.window });
+  const validation = streamBatches({ kind: 'values', values: flat(validationFrom, validationFrom + heldOutSteps + options.horizon), features: columns.length, ...targetOptions(validationFrom, validationFrom + heldOutSteps + options.horizon), horizon: options.horizon }, { streams: 1, window: options.window });
   // The scored positions: rows t ≥ trainRows whose forecast (of row t + horizon) lies in the held-out stream; the
   // warm-up window before them carries state only. The baselines are scored on exactly these positions.
   const positions: number[] = [];
@@ -144,6 +169,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       targetColumns: targetNames,
       horizon: options.horizon,
       normalisation: { mean, deviation },
+      ...(change === null || transform === 'none' ? {} : { targetTransform: { kind: transform, mean: change.mean, deviation: change.deviation } }),
     },
     notes: options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : [],
     heldOut: (model) => {
@@ -156,7 +182,9 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
           const t = validationFrom + position++;
           if (t < trainRows || t >= validationFrom + heldOutSteps) continue;
           targetIndexes.forEach((j, k) => {
-            const forecast = outputs[i + k] * deviation[j] + mean[j];
+            const forecast = change === null || transform === 'none'
+              ? outputs[i + k] * deviation[j] + mean[j]
+              : TRANSFORMS[transform].inverse(outputs[i + k] * change.deviation[k] + change.mean[k], values[t][j]);
             const actual = values[t + options.horizon][j];
             sums[k].add(actual, forecast);
             all.add(actual, forecast);

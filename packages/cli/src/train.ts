@@ -35,6 +35,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'validation', value: 'SHARE', description: 'share of the data held out (the end of a series or text)', fallback: '0.1' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
   { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3' },
+  { name: 'transform', value: 'none|differences|log-returns', description: 'forecast the change of the target instead of its level, inverted on output (forecast)', fallback: 'none' },
   { name: 'season', value: 'ROWS|none', description: 'season of a series for the seasonal-naive baseline (forecast)', fallback: 'detected from the training rows' },
   { name: 'horizon', value: 'ROWS', description: 'forecast this many rows ahead', fallback: '1' },
   { name: 'columns', value: 'A,B', description: 'input columns of a series CSV', fallback: 'every numeric column' },
@@ -115,6 +116,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     embedding: numberFlag(args, 'embedding', 16, { whole: true, min: 1, max: 4096 }),
     batch: numberFlag(args, 'streams', 8, { whole: true, min: 1, max: 4096 }),
     seed,
+    transform: choiceFlag(args, 'transform', ['none', 'differences', 'log-returns'] as const, 'none'),
     season: args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined,
   };
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
@@ -141,10 +143,12 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const model = buildModel(description, { seed });
   const history: { training: LossPoint[]; validation: LossPoint[] } = { training: [], validation: [] };
   // A forecast of one column: its validation MAE shown in the data's units (the column's deviation undoes the scaling).
-  const forecastMeta = prepared.metadata as { columns?: string[]; targetColumns?: string[]; normalisation?: { deviation: number[] } };
-  const maeScale = task === 'forecast' && forecastMeta.targetColumns?.length === 1
-    ? forecastMeta.normalisation?.deviation[forecastMeta.columns?.indexOf(forecastMeta.targetColumns[0]) ?? -1] ?? null
-    : null;
+  // With differences, the error of the change is the error of the level, so its deviation serves; log returns
+  // have no such factor and are shown normalised.
+  const forecastMeta = prepared.metadata as { columns?: string[]; targetColumns?: string[]; normalisation?: { deviation: number[] }; targetTransform?: { kind: string; deviation: number[] } };
+  const maeScale = task !== 'forecast' || forecastMeta.targetColumns?.length !== 1 ? null
+    : forecastMeta.targetTransform === undefined ? forecastMeta.normalisation?.deviation[forecastMeta.columns?.indexOf(forecastMeta.targetColumns[0]) ?? -1] ?? null
+      : forecastMeta.targetTransform.kind === 'differences' ? forecastMeta.targetTransform.deviation[0] : null;
   const view = args.switches.has('quiet') ? null : new ProgressView(process.stderr, maeScale);
   const controller = new AbortController();
   const validateEvery = args.flags.has('validate-every') ? numberFlag(args, 'validate-every', 1, { whole: true, min: 1 }) : undefined;

@@ -38,6 +38,11 @@ describe('preparing training data', () => {
       'Invalid option at levels.csv:49:1 (--season): expected a season shorter than the 48 training rows (of 60), which end at this line, received 48');
   });
 
+  it('refuses log returns of a value that is not positive, naming its line and column', () => {
+    expect(() => prepareForecast(series(60, (r) => String(r === 30 ? 0 : 1 + r)), 'levels.csv', { ...options, transform: 'log-returns' })).toThrowError(
+      'Bad data at levels.csv:32:12: expected a number > 0 in column "level" (log returns need positive values), received 0');
+  });
+
   it('normalises values of ±1e300 and 1e308 without overflowing (mean and deviation finite)', () => {
     const top = prepareForecast(series(60, (r) => (r % 3 === 0 ? '1e308' : '-1e308')), 'top.csv', options);
     const stats = (top.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;

@@ -6,7 +6,7 @@
  * with another column's statistics.
  *
  * The metadata fields read (written by `weft train`; see metadata.ts): `columns`, `targetColumns`,
- * `normalisation` { mean, deviation } for values models; `vocabulary` and `tokens` ('characters' | 'words') for
+ * `normalisation` { mean, deviation } and `targetTransform` { kind, mean, deviation } for values models; `vocabulary` and `tokens` ('characters' | 'words') for
  * token models; `classes` for classifiers. Call `checkMetadata` first on a file you did not make.
  */
 import { WeftError } from '@weft/core';
@@ -21,8 +21,12 @@ export interface Translator {
   readonly outputNames: readonly string[];
   /** A row of raw values by column name → the model's input numbers (normalised), written into `into` if given. */
   inputs(row: Readonly<Record<string, number | string>>, into?: Float32Array, where?: string): Float32Array;
-  /** Model outputs of one step (normalised targets) → the targets by name, in real units. */
-  outputs(values: ArrayLike<number>): Record<string, number>;
+  /**
+   * Model outputs of one step (normalised targets) → the targets by name, in real units. A model trained on a
+   * target transform (differences, log returns) forecasts a change; its level is the change applied to the
+   * target's value in `from` (the row the forecast is made at), by default the last row given to `inputs`.
+   */
+  outputs(values: ArrayLike<number>, from?: Readonly<Record<string, number | string>>): Record<string, number>;
   /** Text → token ids (as training split text); `unknown` counts the pieces not in the vocabulary. */
   tokenIds(text: string): { readonly ids: Int32Array; readonly pieces: readonly string[]; readonly unknown: number };
   /** A token id → its text. */
@@ -32,6 +36,10 @@ export interface Translator {
 interface Normalisation {
   readonly mean: readonly number[];
   readonly deviation: readonly number[];
+}
+
+interface TargetTransform extends Normalisation {
+  readonly kind: 'differences' | 'log-returns';
 }
 
 const strings = (value: unknown): readonly string[] => (Array.isArray(value) && value.every((v) => typeof v === 'string') ? value : []);
@@ -57,6 +65,9 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
   const index = new Map(vocabulary.map((v, i) => [v, i]));
   const unknownId = index.get(UNKNOWN_TOKEN) ?? 0;
   const outputNames = targets.length > 0 ? targets : classes.length > 0 ? classes : vocabulary;
+  const transform = metadata.targetTransform as TargetTransform | undefined;
+  // The targets' raw values in the last row given to inputs(), for undoing a transform.
+  const lastLevels = new Float64Array(targets.length).fill(NaN);
   return {
     inputNames: columns,
     outputNames,
@@ -69,14 +80,23 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
         const value = typeof raw === 'number' ? raw : raw.trim() === '' ? NaN : Number(raw);
         if (!Number.isFinite(value)) throw bad(`${where}.${name}`, 'a finite number', JSON.stringify(raw));
         out[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
+        const k = targets.indexOf(name);
+        if (k >= 0) lastLevels[k] = value;
       });
       return out;
     },
-    outputs(values) {
+    outputs(values, from) {
       const named: Record<string, number> = {};
       targets.forEach((name, k) => {
         const j = targetIndexes[k];
-        named[name] = values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0);
+        if (transform === undefined) {
+          named[name] = values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0);
+          return;
+        }
+        const level = from === undefined ? lastLevels[k] : Number(from[name]);
+        if (!Number.isFinite(level)) throw bad(`outputs.from.${name}`, `the value of ${JSON.stringify(name)} now (the model forecasts its change)`, from === undefined ? 'no row given to inputs() yet' : JSON.stringify(from[name]));
+        const change = values[k] * (transform.deviation[k] ?? 1) + (transform.mean[k] ?? 0);
+        named[name] = transform.kind === 'log-returns' ? level * Math.exp(change) : level + change;
       });
       return named;
     },

@@ -39,6 +39,18 @@ describe('createTranslator', () => {
     expect(message(() => forecast.inputs({ level: 1, inflow: 1 }, new Float32Array(3)))).toBe('Shape mismatch at row (into): expected 2 numbers, received 3');
   });
 
+  it('undoes a target transform from the level now: differences add the change, log returns scale by its exponential', () => {
+    const base = { task: 'forecast', columns: ['level'], targetColumns: ['level'], horizon: 1, normalisation: { mean: [0], deviation: [1] } };
+    const differences = createTranslator({ ...base, targetTransform: { kind: 'differences', mean: [1], deviation: [2] } });
+    differences.inputs({ level: 10 });
+    // change = 0.5 · 2 + 1 = 2, from the last row given to inputs(), or from a row given here.
+    expect(differences.outputs([0.5])).toEqual({ level: 12 });
+    expect(differences.outputs([0.5], { level: 20 })).toEqual({ level: 22 });
+    const returns = createTranslator({ ...base, targetTransform: { kind: 'log-returns', mean: [0], deviation: [Math.log(1.1)] } });
+    expect(returns.outputs([1], { level: 10 }).level).toBeCloseTo(11, 12);
+    expect(() => returns.outputs([1])).toThrowError('Bad data at outputs.from.level: expected the value of "level" now (the model forecasts its change), received no row given to inputs() yet');
+  });
+
   it('splits text as training did, counts unknown pieces and maps them to the unknown token', () => {
     const characters = createTranslator({ task: 'next-token', tokens: 'characters', vocabulary: [UNKNOWN_TOKEN, 'a', 'b', 'é'] });
     const { ids, pieces, unknown } = characters.tokenIds('abé!a');

@@ -86,6 +86,12 @@ export interface ValueStreamOptions {
   readonly features: number;
   /** Columns to predict (default all). */
   readonly targetColumns?: readonly number[];
+  /**
+   * What to predict instead of columns of `values`: row-major [N, targetWidth], row t + horizon being the target of
+   * step t (for targets derived from the values, such as differences). `targetColumns` is then not used.
+   */
+  readonly targets?: FloatArray | readonly number[];
+  readonly targetWidth?: number;
   /** Predict the value this many steps ahead (default 1). */
   readonly horizon?: number;
   readonly dtype?: DType;
@@ -171,10 +177,19 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
     if (!Number.isFinite(values[i])) fail('bad_data', `stream.values[${Math.floor(i / features)}][${i % features}]`, 'a finite number', String(values[i]));
   }
   const rows = values.length / features;
+  const own = data.targets;
+  const ownWidth = data.targetWidth ?? 1;
+  if (own !== undefined) {
+    if (!Number.isInteger(ownWidth) || ownWidth < 1) fail('invalid_option', 'stream.targetWidth', 'a whole number ≥ 1', String(ownWidth));
+    if (own.length !== rows * ownWidth) fail('bad_data', 'stream.targets', `${rows * ownWidth} values (${rows} rows × ${ownWidth}, as many rows as the values)`, `${own.length}`);
+    for (let i = 0; i < own.length; i++) {
+      if (!Number.isFinite(own[i])) fail('bad_data', `stream.targets[${Math.floor(i / ownWidth)}][${i % ownWidth}]`, 'a finite number', String(own[i]));
+    }
+  }
   const perStream = Math.floor((rows - horizon) / streams);
   const windows = Math.floor(perStream / window);
   if (windows < 1) fail('bad_data', 'stream.values', `at least ${streams * window + horizon} rows`, `${rows}`);
-  const width = columns.length;
+  const width = own === undefined ? columns.length : ownWidth;
   const buffers = new BatchBuffers();
   return {
     batchesPerEpoch: windows,
@@ -189,7 +204,8 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
           const row = b * perStream + begin + t;
           const at = t * streams + b;
           for (let f = 0; f < features; f++) input[at * features + f] = values[row * features + f];
-          for (let c = 0; c < width; c++) target[at * width + c] = values[(row + horizon) * features + columns[c]];
+          if (own === undefined) for (let c = 0; c < width; c++) target[at * width + c] = values[(row + horizon) * features + columns[c]];
+          else for (let c = 0; c < width; c++) target[at * width + c] = own[(row + horizon) * width + c];
         }
       }
       return {
