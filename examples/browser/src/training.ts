@@ -8,7 +8,7 @@ import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 import type { TrainingEvent } from '@weft/optim';
-import { forecastBaselines, forecastErrors } from '@weft/io';
+import { buildVocabulary, forecastBaselines, forecastErrors } from '@weft/io';
 import type { WeightMetadata } from '@weft/io';
 
 export interface TrainingConfig {
@@ -62,7 +62,8 @@ export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEve
   setDefaultBackend(config.backend ?? platformBackend);
   const common = { optimizer: new AdamRule({ rate: config.rate }), epochs: config.epochs, clipNorm: 1, seed: config.seed, onProgress, signal };
   if (config.kind === 'text') {
-    const symbols = [...new Set(config.data)].sort();
+    // The vocabulary as weft train makes it: the unknown token first, then every character of the text.
+    const symbols = buildVocabulary(config.data);
     const ids = Int32Array.from([...config.data].map((c) => symbols.indexOf(c)));
     const split = Math.floor(ids.length * 0.9);
     const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 12 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: symbols.length } }, { seed: config.seed });

@@ -12,7 +12,7 @@ import { classificationMetrics, sequenceBatches, streamBatches } from '@weft/opt
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { Tape, lastStepsValues } from './evaluate.js';
 import { WeftError } from '@weft/core';
-import { ForecastErrorSum, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, numberAt, parseTable, readStepTable } from '@weft/io';
+import { ForecastErrorSum, UNKNOWN_TOKEN, buildVocabulary, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable } from '@weft/io';
 import type { ClassificationReport, ForecastErrors, Table, WeightMetadata } from '@weft/io';
 import { CommandError } from './errors.js';
 
@@ -83,36 +83,12 @@ export const TRANSFORMS = {
 
 export function prepareForecast(text: string, file: string, options: PrepareOptions): Prepared {
   const table = parseTable(text, { file });
-  // A column of numbers is used; a column with no number at all (dates, names) is left out, and said so; a column
-  // of numbers with some cells that are not is an error at its first such cell, never quietly dropped.
-  const numericColumns: number[] = [];
-  const leftOut: string[] = [];
-  table.header.forEach((name, c) => {
-    let numbers = 0;
-    let firstBad = -1;
-    table.rows.forEach((row, r) => {
-      if (!Number.isNaN(decimal(row.fields[c]))) numbers++;
-      else if (firstBad < 0) firstBad = r;
-    });
-    if (firstBad < 0) numericColumns.push(c);
-    else if (numbers === 0) leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 40))} at line ${table.rows[firstBad].line})`);
-    else if (options.columns === undefined) {
-      throw new CommandError(`${file}:${table.rows[firstBad].line}:${table.rows[firstBad].starts[c]}: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 80))} in column "${name}" is not a decimal number `
-        + `(${numbers} of ${table.rows.length} cells there are); fix the cell, or choose the columns with --columns`, 1);
-    }
-  });
-  const pick = (names: string[] | undefined, fallback: number[], flag: string): number[] =>
-    names === undefined
-      ? fallback
-      : names.map((name) => {
-          return columnNamed(table, name, `for --${flag}`);
-        });
-  const columns = pick(options.columns, numericColumns, 'columns');
-  if (columns.length === 0) throw new CommandError(`${file}: no numeric columns to forecast`);
-  const targets = pick(options.targets, columns, 'target');
-  for (const t of targets) if (!columns.includes(t)) throw new CommandError(`--target ${table.header[t]} must be one of the input columns (${columns.map((c) => table.header[c]).join(', ')})`, 2);
+  const series = readSeries(table, { columns: options.columns, targets: options.targets, choices: { columns: 'with --columns', targets: 'for --target' } });
+  const columns = series.columns.map((name) => table.header.indexOf(name));
+  const targets = series.targets.map((name) => table.header.indexOf(name));
+  const leftOut = series.leftOut;
   const rows = table.rows.length;
-  const values: number[][] = table.rows.map((_, r) => columns.map((c) => numberAt(table, r, c)));
+  const values = series.values;
   const validationRows = Math.max(options.window + options.horizon + 1, Math.round(rows * options.validationShare));
   const trainRows = rows - validationRows;
   if (trainRows < options.streams * options.window + options.horizon) {
@@ -208,7 +184,7 @@ export function tokenize(text: string, mode: 'characters' | 'words'): string[] {
   return mode === 'characters' ? [...text] : (text.match(/\S+/g) ?? []);
 }
 
-export const UNKNOWN = '<unknown>';
+export const UNKNOWN = UNKNOWN_TOKEN;
 
 export function prepareText(text: string, file: string, options: PrepareOptions): Prepared {
   const pieces = tokenize(text, options.tokens);
@@ -217,7 +193,7 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
   if (trainPieces.length < options.streams * options.window + 1) {
     throw new CommandError(`${file}: ${pieces.length} ${options.tokens} are too few for ${options.streams} streams of ${options.window}-token windows`);
   }
-  const vocabulary = [UNKNOWN, ...[...new Set(trainPieces)].sort()];
+  const vocabulary = buildVocabulary(trainPieces);
   const index = new Map(vocabulary.map((v, i) => [v, i]));
   const ids = (list: string[]) => Int32Array.from(list, (p) => index.get(p) ?? 0);
   const trainIds = ids(trainPieces);
@@ -280,7 +256,7 @@ export function prepareClassification(text: string, file: string, options: Class
     const bad = items[row].find((s) => Number.isNaN(decimal(s)))!;
     throw new CommandError(`${fieldPath(table, row, sequenceAt)}: ${JSON.stringify(bad.slice(0, 80))} in a sequence of numbers is not a decimal number (${numbers} of ${total} items are)`);
   }
-  const vocabulary = numeric ? null : [UNKNOWN, ...[...new Set(items.flat())].sort()];
+  const vocabulary = numeric ? null : buildVocabulary(items.flat());
   const index = new Map((vocabulary ?? []).map((v, i) => [v, i]));
   let mean = 0;
   let deviation = 1;

@@ -25,9 +25,9 @@ describe('preparing training data', () => {
     expect(prepared.notes).toEqual(['left out columns that hold no numbers: when (no numbers: "2026-01-01" at line 2)']);
     expect((prepared.metadata as { columns: string[] }).columns).toEqual(['level']);
     expect(() => prepareForecast(series(60, (r) => (r === 0 ? 'n/a' : String(r))), 'levels.csv', options)).toThrowError(
-      'levels.csv:2:12: "n/a" in column "level" is not a decimal number (59 of 60 cells there are); fix the cell, or choose the columns with --columns',
+      'Bad data at levels.csv:2:12: expected a decimal number in column "level", received "n/a" (59 of 60 cells there are; fix the cell, or choose the columns with --columns)',
     );
-    expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^levels\.csv:9:12: "0x10" in column "level"/);
+    expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^Bad data at levels\.csv:9:12: expected a decimal number in column "level", received "0x10"/);
   });
 
   it('names the file and line of an unknown column and of a season longer than the training rows', () => {

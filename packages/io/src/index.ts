@@ -22,3 +22,5 @@ export type { Translator } from './translate.js';
 export { UNKNOWN_TOKEN, createTranslator, splitTokens } from './translate.js';
 export type { StepSequence, StepTable, StepTableOptions } from './data/steps.js';
 export { readStepTable } from './data/steps.js';
+export type { Series, SeriesOptions } from './data/series.js';
+export { buildVocabulary, readSeries } from './data/series.js';
