@@ -60,11 +60,14 @@ describe('the weft command', () => {
     expect(code).toBe(130);
     expect(stdout).toMatch(/interrupted at step \d+; checkpoint written to .*notes\.weft\.checkpoint\.json/);
     const stoppedAt = Number(/interrupted at step (\d+)/.exec(stdout)![1]);
+    // The exact command that resumes: the same data and flags, and --resume with the checkpoint.
+    expect(stdout).toContain(`resume with: weft ${args.join(' ')} --resume ${checkpoint}\n`);
     expect(existsSync(join(folder, 'notes.weft.json'))).toBe(false);
 
     const resumed = weft([...args, '--resume', 'notes.weft.checkpoint.json', '--quiet']);
     expect(resumed.code).toBe(0);
     expect(resumed.out).toContain(`resuming from notes.weft.checkpoint.json at step ${stoppedAt}`);
+    expect(resumed.out).toMatch(/^finished \d+ steps in [\d.ms]+ \(resumed runs included\); /m);
     expect(resumed.out).toMatch(/^  unigram +perplexity [\d.]+  \(each token as often as in the training text\)$/m);
     expect(resumed.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline unigram): perplexity [\d.]+ against/m);
     expect(existsSync(join(folder, 'notes.weft.checkpoint.loss.svg'))).toBe(true);

@@ -5,7 +5,7 @@
  * counted and mapped to the unknown token.
  */
 import { describe, expect, it } from 'vitest';
-import { WeftError } from '@weft/core';
+import { weftErrorMessage } from '../../../tests/helpers/errors.js';
 import { UNKNOWN_TOKEN, createTranslator } from '@weft/io';
 
 describe('createTranslator', () => {
@@ -25,15 +25,7 @@ describe('createTranslator', () => {
   });
 
   it('refuses a missing column, a value that is not a number and a buffer of the wrong size, naming each', () => {
-    const message = (f: () => unknown) => {
-      try {
-        f();
-      } catch (error) {
-        expect(error).toBeInstanceOf(WeftError);
-        return (error as WeftError).message;
-      }
-      return 'no error';
-    };
+    const message = weftErrorMessage;
     expect(message(() => forecast.inputs({ level: 1 }, undefined, 'reading 4'))).toBe('Bad data at reading 4.inflow: expected a value for column "inflow", which the model reads, received nothing');
     expect(message(() => forecast.inputs({ level: 'high', inflow: 1 }))).toBe('Bad data at row.level: expected a finite number, received "high"');
     expect(message(() => forecast.inputs({ level: 1, inflow: 1 }, new Float32Array(3)))).toBe('Shape mismatch at row (into): expected 2 numbers, received 3');

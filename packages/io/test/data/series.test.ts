@@ -4,7 +4,7 @@
  * a vocabulary with the unknown token first and the pieces in code-unit order (ECMAScript's default sort).
  */
 import { describe, expect, it } from 'vitest';
-import { WeftError } from '@weft/core';
+import { weftErrorMessage } from '../../../../tests/helpers/errors.js';
 import { UNKNOWN_TOKEN, buildVocabulary, parseTable, readSeries } from '@weft/io';
 
 const table = parseTable('day,level,flow\nmon,1,10\ntue,2,20\n', { file: 'river.csv' });
@@ -16,15 +16,7 @@ describe('readSeries', () => {
   });
 
   it('names the cell of a partly numeric column, an unknown column and a target not read', () => {
-    const message = (f: () => unknown) => {
-      try {
-        f();
-      } catch (error) {
-        expect(error).toBeInstanceOf(WeftError);
-        return (error as WeftError).message;
-      }
-      return 'no error';
-    };
+    const message = weftErrorMessage;
     expect(message(() => readSeries(parseTable('level\n1\ndry\n', { file: 'r.csv' })))).toBe(
       'Bad data at r.csv:3:1: expected a decimal number in column "level", received "dry" (1 of 2 cells there are; fix the cell, or choose the columns)');
     expect(message(() => readSeries(table, { targets: ['depth'] }))).toBe(
