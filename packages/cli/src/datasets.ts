@@ -197,7 +197,9 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
   const index = new Map(vocabulary.map((v, i) => [v, i]));
   const ids = (list: string[]) => Int32Array.from(list, (p) => index.get(p) ?? 0);
   const trainIds = ids(trainPieces);
-  const validationIds = ids(pieces.slice(pieces.length - validationCount));
+  const validationPieces = pieces.slice(pieces.length - validationCount);
+  const validationIds = ids(validationPieces);
+  const unseen = validationPieces.filter((p) => !index.has(p)).length;
   const counts = new Float64Array(vocabulary.length).fill(1);
   for (const id of trainIds) counts[id]++;
   const total = counts.reduce((s, c) => s + c, 0);
@@ -212,6 +214,7 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
     train: streamBatches({ kind: 'tokens', tokens: trainIds, vocabulary: vocabulary.length }, { streams: options.streams, window: options.window, lookback: options.lookback }),
     validation: validationSource,
     metadata: { task: 'next-token', tokens: options.tokens, vocabulary },
+    notes: unseen > 0 ? [`${unseen} of the ${validationCount} held-out ${options.tokens} never occur in the training text; the model reads them as ${UNKNOWN}`] : [],
     heldOut: (model) => ({
       metric: 'perplexity',
       lowerIsBetter: true,

@@ -1,10 +1,10 @@
 /** `weft sample`: text from a next-token model. */
 import { Random } from '@weft/core';
+import { createTranslator } from '@weft/io';
 import { loadWeightFile } from '@weft/io/node';
 import { createRuntime, generateTokens } from '@weft/io/runtime';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { numberFlag } from './args.js';
-import { UNKNOWN, tokenize } from './datasets.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 
@@ -27,10 +27,14 @@ export async function sampleText(args: ParsedArgs): Promise<string> {
   if (file.metadata.task !== 'next-token' || vocabulary === undefined) throw new CommandError(`${path}: not a text model (its task is ${JSON.stringify(file.metadata.task)}); weft sample needs one trained on text`);
   const mode = file.metadata.tokens === 'words' ? 'words' : 'characters';
   const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
-  const index = new Map(vocabulary.map((v, i) => [v, i]));
+  const translator = createTranslator(file.metadata as Record<string, unknown>);
   const prefixText = args.flags.get('prefix');
-  const prefix = prefixText === undefined ? [Math.min(1, vocabulary.length - 1)] : tokenize(prefixText, mode).map((p) => index.get(p) ?? index.get(UNKNOWN) ?? 0);
+  const split = prefixText === undefined ? null : translator.tokenIds(prefixText);
+  const prefix = split === null ? [Math.min(1, vocabulary.length - 1)] : Array.from(split.ids);
   if (prefix.length === 0) throw new CommandError('--prefix must hold at least one token', 2);
+  if (split !== null && split.unknown > 0) {
+    process.stderr.write(`weft: ${split.unknown} of ${split.pieces.length} ${mode} of --prefix are not in the model's vocabulary; the model reads them as ${translator.tokenText(0)}\n`);
+  }
   const tokens = generateTokens(runtime, {
     prefix,
     length: numberFlag(args, 'length', 200, { whole: true, min: 0, max: 1_000_000 }),
@@ -39,5 +43,7 @@ export async function sampleText(args: ParsedArgs): Promise<string> {
     random: args.switches.has('greedy') ? undefined : new Random(args.flags.get('seed') ?? '1'),
   });
   const join = mode === 'words' ? ' ' : '';
-  return [...prefix, ...tokens].map((id) => vocabulary[id]).join(join);
+  // The prefix as written (unknown pieces included), then what the model made.
+  const shown = split === null ? prefix.map((id) => vocabulary[id]) : [...split.pieces];
+  return [...shown, ...tokens.map((id) => vocabulary[id])].join(join);
 }

@@ -89,6 +89,11 @@ describe('the weft command', () => {
     expect(sample.out.startsWith('day 3: ')).toBe(true);
     expect(sample.out.trim().length).toBe(67);
     expect(weft(['sample', 'notes.weft.json', '--prefix', 'day 3: ', '--length', '60', '--seed', '2']).out).toBe(sample.out);
+    // A prefix with a character the model never saw: said on stderr, and shown as written.
+    const unknown = weft(['sample', 'notes.weft.json', '--prefix', 'day Ω: ', '--length', '10', '--seed', '2']);
+    expect(unknown.code).toBe(0);
+    expect(unknown.err.trim()).toBe("weft: 1 of 7 characters of --prefix are not in the model's vocabulary; the model reads them as <unknown>");
+    expect(unknown.out.startsWith('day Ω: ')).toBe(true);
   });
 
   it('checks the built-in cells, a correct cell of your own, and catches a broken one', () => {

@@ -6,7 +6,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { columnStatistics, decimal } from '@weft/io';
-import { prepareClassification, prepareForecast } from '../src/datasets.js';
+import { prepareClassification, prepareForecast, prepareText } from '../src/datasets.js';
 
 const options = { window: 4, lookback: 0, streams: 2, validationShare: 0.2, horizon: 1, tokens: 'characters' as const, embedding: 4, batch: 4, seed: '1' };
 
@@ -41,6 +41,11 @@ describe('preparing training data', () => {
   it('refuses log returns of a value that is not positive, naming its line and column', () => {
     expect(() => prepareForecast(series(60, (r) => String(r === 30 ? 0 : 1 + r)), 'levels.csv', { ...options, transform: 'log-returns' })).toThrowError(
       'Bad data at levels.csv:32:12: expected a number > 0 in column "level" (log returns need positive values), received 0');
+  });
+
+  it('says how many held-out characters never occur in the training text, instead of reading them as unknown without a word', () => {
+    const prepared = prepareText(`${'abc'.repeat(200)}xyz`, 'notes.txt', { ...options, validationShare: 0.1 });
+    expect(prepared.notes).toEqual(['3 of the 60 held-out characters never occur in the training text; the model reads them as <unknown>']);
   });
 
   it('normalises values of ±1e300 and 1e308 without overflowing (mean and deviation finite)', () => {
