@@ -134,8 +134,10 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
       if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)} (for --keep); the input has ${table.header.join(', ')}`);
       return i;
     });
+    // Each sequence's first row, by line, for the --keep columns (one lookup table, not a search per sequence).
+    const rowAtLine = new Map(table.rows.map((r) => [r.line, r]));
     for (const result of classifyStepTable(runtime, meta, table)) {
-      const first = table.rows.find((r) => r.line === result.line);
+      const first = rowAtLine.get(result.line);
       const record: OutputRecord = { [String(meta.idColumn)]: result.id };
       kept.forEach((c) => (record[table.header[c]] = first?.fields[c] ?? ''));
       record.predicted = classes[result.probabilities.indexOf(Math.max(...result.probabilities))];
