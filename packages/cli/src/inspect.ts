@@ -14,7 +14,7 @@ const bytesPer = { f32: 4, f16: 2, i8: 1 } as const;
 export async function inspect(args: ParsedArgs): Promise<string> {
   const [path] = args.positional;
   if (path === undefined) throw new CommandError('weft inspect needs a weight file (see weft inspect --help)', 2);
-  const file = await loadWeightFile(path, { verifyDigest: false });
+  const file = await loadWeightFile(path, { verifyDigest: 'report' });
   const rows = file.tensors.map((t) => {
     const dtype = file.storedAs[t.name];
     const rowsCount = t.shape.length === 0 ? 1 : t.values.length / Math.max(1, t.shape[t.shape.length - 1]);

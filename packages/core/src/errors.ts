@@ -15,7 +15,8 @@ export type ProblemCode =
   | 'tape_state'
   | 'backend_mismatch'
   | 'backend_unavailable'
-  | 'backend_memory';
+  | 'backend_memory'
+  | 'digest_failed';
 
 export interface Problem {
   readonly code: ProblemCode;
@@ -41,6 +42,7 @@ const codeWords: Record<ProblemCode, string> = {
   backend_mismatch: 'Backend mismatch',
   backend_unavailable: 'Backend unavailable',
   backend_memory: 'Backend memory exhausted',
+  digest_failed: 'Digest failed',
 };
 
 /** Words one problem: "Shape mismatch at matmul.b: expected [3, 4], received [5, 4]". */

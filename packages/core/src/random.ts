@@ -2,9 +2,10 @@
  * The seeded random-number generator. Every random choice in weft (initial weights, dropout masks, shuffling,
  * sampled gradient-check entries, sampling of outputs) draws from one of these, so the same seed gives the same
  * bits. The underlying generator is seedrandom's Alea; its state is four plain numbers, saved and restored
- * exactly for checkpoints.
+ * exactly for checkpoints. The generator's code is the package's own, bundled into an ES module at build time
+ * (scripts/build-random.mjs), so core has no CommonJS dependency and loads in a browser without a bundler.
  */
-import seedrandom from 'seedrandom';
+import alea from './alea.generated.js';
 import { fail } from './errors.js';
 
 /** The generator's state as plain data (safe to put in JSON: every field is an exactly representable number). */
@@ -15,7 +16,7 @@ export interface RandomState {
   readonly s2: number;
 }
 
-type AleaGenerator = seedrandom.StatefulPRNG<seedrandom.State.Alea>;
+type AleaGenerator = ReturnType<typeof alea>;
 
 export class Random {
   private generator: AleaGenerator;
@@ -24,7 +25,7 @@ export class Random {
     if (typeof seed === 'number' && !Number.isFinite(seed)) {
       fail('invalid_argument', 'Random.seed', 'a finite number or a string', String(seed));
     }
-    this.generator = seedrandom.alea(String(seed), { state: true });
+    this.generator = alea(String(seed), { state: true });
   }
 
   /** A generator that continues from a saved state. */
@@ -81,6 +82,6 @@ export class Random {
         fail('invalid_argument', `RandomState.${key}`, 'a finite number', String(state[key]));
       }
     }
-    this.generator = seedrandom.alea('', { state: { c: state.c, s0: state.s0, s1: state.s1, s2: state.s2 } });
+    this.generator = alea('', { state: { c: state.c, s0: state.s0, s1: state.s1, s2: state.s2 } });
   }
 }

@@ -1,9 +1,22 @@
-/** SHA-256 (FIPS 180-4) through the platform's Web Crypto (`crypto.subtle`), as lower-case hex. */
+/**
+ * SHA-256 (FIPS 180-4) as lower-case hex: through the platform's Web Crypto (`crypto.subtle`) where there is one,
+ * otherwise through the plain-TypeScript implementation in `sha256.ts`, loaded only then (browsers give pages
+ * that are not secure contexts no `crypto.subtle`). Both give the same digest; a failure is a `WeftError`.
+ */
+import { WeftError } from '@weft/core';
 
 export async function sha256Hex(bytes: Uint8Array): Promise<string> {
   const subtle = globalThis.crypto?.subtle;
-  if (subtle === undefined) throw new Error('Web Crypto (crypto.subtle) is not available here; it is needed for the SHA-256 digest');
-  const digest = new Uint8Array(await subtle.digest('SHA-256', bytes as Uint8Array<ArrayBuffer>));
+  if (subtle === undefined) {
+    const { sha256HexSync } = await import('./sha256.js');
+    return sha256HexSync(bytes);
+  }
+  let digest: Uint8Array;
+  try {
+    digest = new Uint8Array(await subtle.digest('SHA-256', bytes as Uint8Array<ArrayBuffer>));
+  } catch (error) {
+    throw new WeftError({ code: 'digest_failed', path: 'sha256Hex', expected: 'a SHA-256 digest from Web Crypto', received: error instanceof Error ? error.message : String(error) });
+  }
   let hex = '';
   for (const byte of digest) hex += byte.toString(16).padStart(2, '0');
   return hex;

@@ -54,8 +54,10 @@ export interface WeightFile {
   /** The stored dtype of each tensor, by name. */
   readonly storedAs: Readonly<Record<string, StoredDType>>;
   readonly digest: string;
-  /** True when the stored digest matched the tensor bytes. */
+  /** True when the stored digest was computed and matched the tensor bytes. */
   readonly digestVerified: boolean;
+  /** False when the read skipped the digest (`verifyDigest: false`); `digestVerified` is then false too. */
+  readonly digestChecked: boolean;
   /** Training state, present only in checkpoints (checked by readCheckpoint). */
   readonly training?: unknown;
 }
@@ -78,8 +80,12 @@ export interface ReadOptions {
   readonly maxCharacters?: number;
   /** Deepest JSON nesting accepted (default 64). */
   readonly maxDepth?: number;
-  /** When false, a digest mismatch is reported in `digestVerified` instead of refused (for inspection only). */
-  readonly verifyDigest?: boolean;
+  /**
+   * The SHA-256 digest over the tensor bytes: `true` (default) computes it and refuses a mismatch; `'report'`
+   * computes it and reports a mismatch in `digestVerified` instead (for inspection); `false` skips hashing
+   * (`digestChecked` false) for a caller that trusts the file's source.
+   */
+  readonly verifyDigest?: boolean | 'report';
   /**
    * When true, NaN and ±Infinity weights are accepted (for inspecting a damaged file); by default the first
    * non-finite value of each tensor is a problem, because a model with one computes NaN for every input.
@@ -351,9 +357,10 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
     }
   }
   if (problems.length > 0) throw new WeftError(problems);
-  const hex = await sha256Hex(concatenate(digestParts));
-  const verified = hex === (digest as Record<string, string>).hex;
-  if (!verified && options.verifyDigest !== false) {
+  const checked = options.verifyDigest !== false;
+  const hex = checked ? await sha256Hex(concatenate(digestParts)) : '';
+  const verified = checked && hex === (digest as Record<string, string>).hex;
+  if (checked && !verified && options.verifyDigest !== 'report') {
     throw new WeftError({ code: 'bad_weight_file', path: 'digest.hex', expected: (digest as Record<string, string>).hex, received: `${hex} (SHA-256 of the tensor bytes: the file was changed or damaged)` });
   }
   return {
@@ -364,6 +371,7 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
     storedAs,
     digest: (digest as Record<string, string>).hex,
     digestVerified: verified,
+    digestChecked: checked,
     ...(file.training === undefined ? {} : { training: file.training }),
   };
 }

@@ -105,6 +105,18 @@ describe('the weight file', () => {
       expect(found[0]).toMatch(/^digest\.hex: expected [0-9a-f]{64}, received [0-9a-f]{64} \(SHA-256 of the tensor bytes: the file was changed or damaged\)$/);
     });
 
+    it('a changed tensor byte is reported, not refused, with verifyDigest "report", and not looked for with false', async () => {
+      const text = await good();
+      const at = text.indexOf('"data": "') >= 0 ? text.indexOf('"data": "') + 9 : text.indexOf('"data":"') + 8;
+      const flipped = text.slice(0, at) + (text[at] === 'A' ? 'B' : 'A') + text.slice(at + 1);
+      const reported = await readWeightFile(flipped, { verifyDigest: 'report' });
+      expect([reported.digestChecked, reported.digestVerified]).toEqual([true, false]);
+      const skipped = await readWeightFile(flipped, { verifyDigest: false });
+      expect([skipped.digestChecked, skipped.digestVerified]).toEqual([false, false]);
+      const intact = await readWeightFile(text);
+      expect([intact.digestChecked, intact.digestVerified]).toEqual([true, true]);
+    });
+
     it('a truncated file', async () => {
       const text = await good();
       const found = await problems(text.slice(0, Math.floor(text.length * 0.7)));

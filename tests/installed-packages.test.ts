@@ -1,0 +1,256 @@
+/**
+ * The packages as a user gets them: `npm pack` of every workspace (its `prepack` builds), the tarballs installed
+ * into a fresh project outside the repository with `npm install --offline` (no network, no workspace links), then
+ * (1) every entry imported from an ES module and a tiny train + save + runtime forecast run through them,
+ * (2) every entry through require() from CommonJS, (3) a consumer .ts type-checked against the installed
+ * declarations with moduleResolution nodenext and bundler, (4) the installed `weft --version` and `weft check`.
+ * In Debian's Chromium: (B) a page with nothing but an import map onto the installed files (no bundler) trains
+ * and streams, ending at the same loss bits as Node; (C) on a plain-http origin that is not a secure context
+ * (a made-up host name mapped to the loopback server by Chromium's host-resolver rules), a weight file loads with
+ * its digest verified (by the plain-TypeScript SHA-256, since such a page has no Web Crypto).
+ */
+import { execFileSync, spawnSync } from 'node:child_process';
+import { copyFileSync, existsSync, lstatSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
+import { createServer } from 'node:http';
+import type { Server } from 'node:http';
+import type { AddressInfo } from 'node:net';
+import { tmpdir } from 'node:os';
+import { extname, join, normalize } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { chromium } from 'playwright-core';
+import type { Browser } from 'playwright-core';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+
+const root = fileURLToPath(new URL('..', import.meta.url));
+const fixtures = fileURLToPath(new URL('./consumer/', import.meta.url));
+const packageNames = ['core', 'cells', 'optim', 'io', 'cli'];
+const executable = '/usr/bin/chromium';
+const browserAvailable = existsSync(executable);
+if (!browserAvailable && process.env.CI !== undefined) throw new Error(`${executable} is missing: .ci/run should have installed Debian's chromium`);
+
+const folder = mkdtempSync(join(tmpdir(), 'weft-installed-'));
+const tarballs = join(folder, 'tarballs');
+const project = join(folder, 'project');
+let nodeResult: { missing: number; backend: string; steps: number; firstLoss: number; lastLoss: number; lastLossBits: string; digestVerified: boolean; forecasts: number[][]; refused: string; savedVerified: boolean; text: string };
+
+function run(command: string, args: string[], cwd: string): { status: number | null; stdout: string; stderr: string } {
+  const result = spawnSync(command, args, { cwd, encoding: 'utf8', env: { ...process.env, NODE_OPTIONS: '' } });
+  return { status: result.status, stdout: result.stdout, stderr: result.stderr };
+}
+
+beforeAll(() => {
+  mkdirSync(tarballs, { recursive: true });
+  mkdirSync(project, { recursive: true });
+  execFileSync('npm', ['pack', '--workspaces', '--pack-destination', tarballs, '--silent'], { cwd: root, stdio: 'pipe', env: { ...process.env, npm_config_loglevel: 'error' } });
+  writeFileSync(join(project, 'package.json'), JSON.stringify({ name: 'weft-consumer', private: true, type: 'module' }));
+  const files = readdirSync(tarballs).filter((name) => name.endsWith('.tgz')).map((name) => join(tarballs, name));
+  execFileSync('npm', ['install', '--offline', '--no-audit', '--no-fund', '--silent', ...files], { cwd: project, stdio: 'pipe' });
+  for (const name of readdirSync(fixtures)) copyFileSync(join(fixtures, name), join(project, name));
+}, 180_000);
+
+afterAll(() => rmSync(folder, { recursive: true, force: true }));
+
+describe('the packed tarballs', () => {
+  const listing = (name: string) => {
+    const file = readdirSync(tarballs).find((f) => f.startsWith(`weft-${name}-`));
+    return execFileSync('tar', ['-tzf', join(tarballs, file ?? 'missing')], { encoding: 'utf8' }).split('\n').filter((line) => line !== '');
+  };
+
+  for (const name of packageNames) {
+    it(`@weft/${name} holds its built modules with declarations and maps, the sources, a README and the licence, and no build-info file`, () => {
+      const entries = listing(name);
+      for (const required of ['package/package.json', 'package/README.md', 'package/LICENSE', 'package/dist/index.js', 'package/dist/index.d.ts', 'package/dist/index.js.map', 'package/dist/index.d.ts.map', 'package/src/index.ts']) {
+        expect(entries, required).toContain(required);
+      }
+      expect(entries.filter((entry) => entry.includes('tsbuildinfo'))).toEqual([]);
+      expect(readFileSync(join(project, 'node_modules/@weft', name, 'LICENSE'), 'utf8')).toContain('MIT License');
+    });
+
+    it(`@weft/${name} says where it lives and which Node it needs, allows patch releases of its siblings, and serves import and require`, () => {
+      const manifest = JSON.parse(readFileSync(join(project, 'node_modules/@weft', name, 'package.json'), 'utf8'));
+      expect(manifest.repository.url).toMatch(/^git\+https:/);
+      expect(manifest.homepage).toMatch(/^https:/);
+      expect(manifest.engines.node).toBe('>=20.19');
+      expect(manifest.publishConfig.access).toBe('public');
+      expect(manifest.scripts.prepack).toBeDefined();
+      for (const [sibling, range] of Object.entries(manifest.dependencies ?? {})) {
+        expect(`${sibling} ${String(range)}`).toMatch(/^@weft\/\w+ \^0\.1\.0$/);
+      }
+      for (const [entry, conditions] of Object.entries(manifest.exports as Record<string, Record<string, string>>)) {
+        expect(Object.keys(conditions), entry).toEqual(['types', 'import', 'require', 'default']);
+      }
+    });
+  }
+
+  it('installs as real folders, not links back into the repository, with no dependency outside weft', () => {
+    const installed = readdirSync(join(project, 'node_modules/@weft'));
+    expect(installed.sort()).toEqual([...packageNames].sort());
+    for (const name of installed) expect(lstatSync(join(project, 'node_modules/@weft', name)).isSymbolicLink(), name).toBe(false);
+    expect(readdirSync(join(project, 'node_modules')).filter((name) => !name.startsWith('.')).sort()).toEqual(['@weft']);
+  });
+});
+
+describe('the installed packages in Node', () => {
+  it('import from an ES module, entry by entry, and train, save and forecast through the runtime', () => {
+    const result = run('node', ['node-esm.mjs'], project);
+    expect(result.stderr).toBe('');
+    expect(result.status).toBe(0);
+    nodeResult = JSON.parse(result.stdout);
+    expect(nodeResult.missing).toBe(0);
+    expect(nodeResult.steps).toBeGreaterThan(10);
+    expect(nodeResult.lastLoss).toBeLessThan(nodeResult.firstLoss);
+    expect(nodeResult.digestVerified).toBe(true);
+    expect(nodeResult.savedVerified).toBe(true);
+    expect(nodeResult.refused).toBe('WeftError bad_weight_file');
+    // The WebAssembly and the JavaScript runtimes agree on the forecast (f32 sums in other orders).
+    const [wasm, plain] = nodeResult.forecasts;
+    expect(wasm).toHaveLength(40);
+    for (let i = 0; i < 40; i++) expect(Math.abs(wasm[i] - plain[i])).toBeLessThanOrEqual(1e-5 * Math.max(1, Math.abs(plain[i])));
+  }, 60_000);
+
+  it('load through require() from CommonJS, as the same modules an ES import gets', () => {
+    const result = run('node', ['node-require.cjs'], project);
+    expect(result.stderr).toBe('');
+    expect(result.status).toBe(0);
+    const report = JSON.parse(result.stdout) as { loaded: Record<string, number>; sameErrorType: boolean; sameModule: boolean; draw: number };
+    expect(Object.keys(report.loaded)).toHaveLength(14);
+    for (const [entry, count] of Object.entries(report.loaded)) expect(count, entry).toBeGreaterThan(0);
+    expect(report.sameErrorType).toBe(true);
+    expect(report.sameModule).toBe(true);
+  }, 30_000);
+
+  for (const resolution of [{ module: 'nodenext', moduleResolution: 'nodenext' }, { module: 'esnext', moduleResolution: 'bundler' }]) {
+    it(`type-check a consumer's TypeScript against the installed declarations (moduleResolution ${resolution.moduleResolution})`, () => {
+      const config = join(project, `tsconfig.${resolution.moduleResolution}.json`);
+      writeFileSync(config, JSON.stringify({
+        compilerOptions: { ...resolution, target: 'es2022', strict: true, noEmit: true, skipLibCheck: false, types: ['node'], typeRoots: [join(root, 'node_modules/@types')] },
+        files: ['consumer.ts'],
+      }));
+      const result = run('node', [join(root, 'node_modules/typescript/bin/tsc'), '-p', config], project);
+      expect(result.stdout + result.stderr).toBe('');
+      expect(result.status).toBe(0);
+    }, 60_000);
+  }
+
+  it('run the installed weft command: --version and the gradient checks', () => {
+    const weft = join(project, 'node_modules/.bin/weft');
+    const version = run(weft, ['--version'], project);
+    expect(version.stdout.trim()).toBe(JSON.parse(readFileSync(join(root, 'packages/cli/package.json'), 'utf8')).version);
+    const check = run(weft, ['check'], project);
+    expect(check.status).toBe(0);
+    expect(check.stdout).toMatch(/all \d+ gradient checks passed/);
+  }, 60_000);
+});
+
+const types: Record<string, string> = { '.html': 'text/html', '.js': 'text/javascript', '.mjs': 'text/javascript', '.json': 'application/json', '.map': 'application/json' };
+
+/** A static file server over the consumer project (its node_modules included), for the page. */
+function serve(): Promise<Server> {
+  const server = createServer((request, response) => {
+    const path = normalize(join(project, decodeURIComponent(new URL(request.url ?? '/', 'http://x').pathname)));
+    if (!path.startsWith(project) || !existsSync(path) || lstatSync(path).isDirectory()) {
+      response.writeHead(404).end();
+      return;
+    }
+    response.writeHead(200, { 'content-type': types[extname(path)] ?? 'application/octet-stream' }).end(readFileSync(path));
+  });
+  return new Promise((resolve) => server.listen(0, '127.0.0.1', () => resolve(server)));
+}
+
+/** The import map: each installed package's exports, browser condition first, mapped to its files. */
+function importMap(): Record<string, string> {
+  const imports: Record<string, string> = {};
+  for (const name of ['core', 'cells', 'optim', 'io']) {
+    const manifest = JSON.parse(readFileSync(join(project, 'node_modules/@weft', name, 'package.json'), 'utf8'));
+    for (const [entry, conditions] of Object.entries(manifest.exports as Record<string, Record<string, string>>)) {
+      if (entry === './node') continue;
+      const file = conditions.browser ?? conditions.import ?? conditions.default;
+      imports[`@weft/${name}${entry.slice(1)}`] = `/node_modules/@weft/${name}/${file.replace(/^\.\//, '')}`;
+    }
+  }
+  return imports;
+}
+
+describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an import map and no bundler', () => {
+  let browser: Browser;
+  let server: Server;
+  let port = 0;
+
+  beforeAll(async () => {
+    server = await serve();
+    port = (server.address() as AddressInfo).port;
+    writeFileSync(join(project, 'page.html'), `<!doctype html>\n<meta charset="utf-8">\n<title>weft from an import map</title>\n<link rel="icon" href="data:,">\n`
+      + `<script type="importmap">${JSON.stringify({ imports: importMap() })}</script>\n`
+      + `<script type="module">\nimport * as consumer from './train.mjs';\nwindow.consumer = consumer;\n</script>\n`);
+    writeFileSync(join(project, 'from-node.weft.json'), nodeResult?.text ?? run('node', ['node-esm.mjs'], project).stdout);
+    browser = await chromium.launch({
+      executablePath: executable,
+      headless: true,
+      args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync',
+        '--host-resolver-rules=MAP weft-kiosk.test 127.0.0.1'],
+    });
+  }, 120_000);
+
+  afterAll(async () => {
+    await browser?.close();
+    server?.close();
+  });
+
+  async function open(origin: string) {
+    const page = await browser.newPage();
+    const errors: string[] = [];
+    page.on('pageerror', (error) => errors.push(error.message));
+    page.on('console', (message) => { if (message.type() === 'error') errors.push(message.text()); });
+    await page.goto(`${origin}/page.html`);
+    await page.waitForFunction(() => 'consumer' in window, undefined, { timeout: 30_000 }).catch(() => undefined);
+    return { page, errors };
+  }
+
+  it('trains a small model and streams the runtime, ending at the loss bits Node ends at', async () => {
+    expect(nodeResult).toBeDefined();
+    const { page, errors } = await open(`http://127.0.0.1:${port}`);
+    expect(errors).toEqual([]);
+    const result = await page.evaluate(async () => {
+      const { text, ...rest } = await (window as unknown as { consumer: { trainAndForecast(): Promise<typeof nodeResult> } }).consumer.trainAndForecast();
+      return { ...rest, text: text.length };
+    });
+    console.log(`installed packages, loss after ${result.steps} steps: Chromium ${result.lastLoss} (${result.lastLossBits}), Node ${nodeResult.lastLoss} (${nodeResult.lastLossBits}); backend ${result.backend}`);
+    expect(result.missing).toBe(0);
+    expect(result.backend).toBe(nodeResult.backend);
+    expect(result.steps).toBe(nodeResult.steps);
+    expect(result.lastLossBits).toBe(nodeResult.lastLossBits);
+    expect(result.forecasts).toEqual(nodeResult.forecasts);
+    expect(result.refused).toBe('WeftError bad_weight_file');
+    await page.close();
+  }, 60_000);
+
+  it('reads a weight file with its digest verified on a plain-http origin that is not a secure context', async () => {
+    const { page, errors } = await open(`http://weft-kiosk.test:${port}`);
+    expect(errors).toEqual([]);
+    const result = await page.evaluate(async () => {
+      const text = await (await fetch('/from-node.weft.json')).text();
+      const read = await (window as unknown as { consumer: { readAndForecast(text: string): Promise<{ digestChecked: boolean; digestVerified: boolean; forecasts: number[] }> } }).consumer.readAndForecast(text);
+      return { secure: window.isSecureContext, subtle: globalThis.crypto?.subtle !== undefined, host: location.hostname, ...read };
+    });
+    expect(result.host).toBe('weft-kiosk.test');
+    expect(result.secure).toBe(false);
+    expect(result.subtle).toBe(false);
+    expect(result.digestChecked).toBe(true);
+    expect(result.digestVerified).toBe(true);
+    expect(result.forecasts).toEqual(nodeResult.forecasts[0].slice(0, 10));
+    // A damaged copy is still refused there: the digest is really computed.
+    const refused = await page.evaluate(async () => {
+      const text = await (await fetch('/from-node.weft.json')).text();
+      const at = text.indexOf('"data": "') >= 0 ? text.indexOf('"data": "') + 9 : text.indexOf('"data":"') + 8;
+      const damaged = text.slice(0, at) + (text[at] === 'A' ? 'B' : 'A') + text.slice(at + 1);
+      try {
+        await (window as unknown as { consumer: { readAndForecast(text: string): Promise<unknown> } }).consumer.readAndForecast(damaged);
+        return 'read';
+      } catch (error) {
+        return `${(error as Error).name}: ${(error as Error).message}`;
+      }
+    });
+    expect(refused).toMatch(/^WeftError: .*digest\.hex/);
+    await page.close();
+  }, 60_000);
+});
