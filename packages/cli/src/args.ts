@@ -1,7 +1,10 @@
 /**
- * Command-line flags: `--name value`, `--name=value`, and `--switch` for the flags a verb declares as switches.
- * Unknown flags and missing values are refused with one line naming the flag and the verb.
+ * Command-line flags, read by Node's own `util.parseArgs`: `--name value`, `--name=value`, and `--switch` for the
+ * flags a verb declares as switches; `--` ends the flags (everything after it is positional, so a file named
+ * `--odd.csv` can be given). Unknown flags, missing values and a flag given twice are refused with one line naming
+ * the flag and the verb.
  */
+import { parseArgs as readArguments } from 'node:util';
 import { CommandError } from './errors.js';
 
 export interface FlagSpec {
@@ -23,26 +26,28 @@ export interface ParsedArgs {
 
 export function parseArgs(verb: string, argv: readonly string[], specs: readonly FlagSpec[]): ParsedArgs {
   const known = new Map(specs.map((s) => [s.name, s]));
+  const options = Object.fromEntries(specs.map((s) => [s.name, { type: s.switch === true ? ('boolean' as const) : ('string' as const) }]));
+  const { tokens } = readArguments({ args: [...argv], options, strict: false, allowPositionals: true, tokens: true });
   const flags = new Map<string, string>();
   const switches = new Set<string>();
   const positional: string[] = [];
-  for (let i = 0; i < argv.length; i++) {
-    const arg = argv[i];
-    if (!arg.startsWith('--')) {
-      positional.push(arg);
+  for (const token of tokens) {
+    if (token.kind === 'positional') {
+      positional.push(token.value);
       continue;
     }
-    const [rawName, inline] = arg.slice(2).split(/=(.*)/s, 2);
-    const spec = known.get(rawName);
-    if (spec === undefined) throw new CommandError(`unknown flag --${rawName} for weft ${verb} (see weft ${verb} --help)`, 2);
+    if (token.kind === 'option-terminator') continue;
+    const spec = known.get(token.name);
+    if (spec === undefined || !token.rawName.startsWith('--')) throw new CommandError(`unknown flag ${token.rawName} for weft ${verb} (see weft ${verb} --help)`, 2);
+    if (flags.has(spec.name) || switches.has(spec.name)) throw new CommandError(`flag --${spec.name} of weft ${verb} is given twice; give it once`, 2);
     if (spec.switch === true) {
-      if (inline !== undefined) throw new CommandError(`flag --${rawName} of weft ${verb} takes no value`, 2);
-      switches.add(rawName);
+      if (token.inlineValue === true) throw new CommandError(`flag --${spec.name} of weft ${verb} takes no value`, 2);
+      switches.add(spec.name);
       continue;
     }
-    const value = inline ?? argv[++i];
-    if (value === undefined || (inline === undefined && value.startsWith('--'))) throw new CommandError(`flag --${rawName} of weft ${verb} needs a value (${spec.value ?? 'VALUE'})`, 2);
-    flags.set(rawName, value);
+    const value = token.value;
+    if (value === undefined || (token.inlineValue !== true && value.startsWith('--'))) throw new CommandError(`flag --${spec.name} of weft ${verb} needs a value (${spec.value ?? 'VALUE'})`, 2);
+    flags.set(spec.name, value);
   }
   return { flags, switches, positional };
 }

@@ -22,6 +22,7 @@ export const checkFlags: FlagSpec[] = [
   { name: 'steps', value: 'NUMBER', description: 'sequence length (rows have lengths T, T−2, 1)', fallback: '5' },
   { name: 'tolerance', value: 'NUMBER', description: 'largest relative error that passes', fallback: '1e-6' },
   backendFlag,
+  { name: 'quiet', switch: true, description: 'print only the result line (and the reports of checks that fail)' },
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
@@ -99,7 +100,7 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
   for (const [label, cell] of cells) {
     const report = checkCell(cell, steps, tolerance, label);
     passed = passed && report.passed;
-    parts.push(`${label}:\n${report.text()}`);
+    if (!args.switches.has('quiet') || !report.passed) parts.push(`${label}:\n${report.text()}`);
   }
   parts.push(`${passed ? `all ${cells.length} gradient checks passed` : 'GRADIENT CHECK FAILED'} (backend ${backend.name}; finite differences in f64 run on the JavaScript kernels on every backend)`);
   return { text: parts.join('\n\n'), passed };

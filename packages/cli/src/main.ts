@@ -106,7 +106,10 @@ function overview(): string {
 
 export async function main(argv: readonly string[]): Promise<number> {
   const [name, ...rest] = argv;
-  const debug = argv.includes('--debug');
+  // Flags end at `--`; what follows is positional, even when it looks like --help.
+  const ended = rest.indexOf('--');
+  const flagPart = ended < 0 ? rest : rest.slice(0, ended);
+  const debug = name !== '--' && flagPart.includes('--debug');
   try {
     if (name === undefined || name === '--help' || name === '-h' || name === 'help') {
       write(overview());
@@ -118,7 +121,7 @@ export async function main(argv: readonly string[]): Promise<number> {
     }
     const verb = verbs[name];
     if (verb === undefined) throw new CommandError(`unknown verb ${JSON.stringify(name)}; the verbs are ${Object.keys(verbs).join(', ')} (see weft --help)`, 2);
-    if (rest.includes('--help') || rest.includes('-h')) {
+    if (flagPart.includes('--help') || flagPart.includes('-h')) {
       write(helpText(name, verb.summary, verb.usage, verb.flags, verb.example));
       return 0;
     }

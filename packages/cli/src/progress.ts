@@ -11,6 +11,16 @@ export function formatSeconds(seconds: number): string {
   return s >= 60 ? `${Math.floor(s / 60)}m${String(s % 60).padStart(2, '0')}s` : `${s}s`;
 }
 
+/**
+ * The redrawn line cut to one character less than the terminal's width (80 when it does not say): a line that
+ * wraps leaves its first rows behind at every redraw, since `\r` returns only to the start of the last row.
+ */
+export function fitToWidth(text: string, columns: number | undefined): string {
+  const width = Math.max(10, (columns !== undefined && columns > 0 ? columns : 80) - 1);
+  const characters = [...text];
+  return characters.length <= width ? text : `${characters.slice(0, width - 1).join('')}…`;
+}
+
 export class ProgressView {
   private readonly stream: NodeJS.WriteStream;
   private readonly interactive: boolean;
@@ -47,7 +57,8 @@ export class ProgressView {
       const share = event.step / event.totalSteps;
       const filled = Math.round(share * 24);
       const bar = `[${'='.repeat(Math.max(0, filled - 1))}${filled > 0 ? '>' : ''}${' '.repeat(24 - filled)}]`;
-      this.stream.write(`\r\x1b[2K${bar} ${String(event.step).padStart(String(event.totalSteps).length)}/${event.totalSteps}  loss ${event.loss.toPrecision(4)}  ${this.lastValidation}  ${Math.round(event.positionsPerSecond)} tok/s  ${formatSeconds(event.secondsLeft)} left`);
+      const text = `${bar} ${String(event.step).padStart(String(event.totalSteps).length)}/${event.totalSteps}  loss ${event.loss.toPrecision(4)}  ${this.lastValidation}  ${Math.round(event.positionsPerSecond)} tok/s  ${formatSeconds(event.secondsLeft)} left`;
+      this.stream.write(`\r\x1b[2K${fitToWidth(text, this.stream.columns)}`);
     } else {
       const tenth = Math.floor((10 * event.step) / event.totalSteps);
       if (tenth !== this.lastPlainTenth) {

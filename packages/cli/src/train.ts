@@ -53,7 +53,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'start-over', switch: true, description: 'replace the checkpoint an earlier run left at --checkpoint instead of refusing' },
   { name: 'store', value: 'f32|f16|i8', description: 'how the weight file stores numbers', fallback: 'f32' },
   backendFlag,
-  { name: 'quiet', switch: true, description: 'no progress output' },
+  { name: 'quiet', switch: true, description: 'no progress and no notes: print only the final result lines' },
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
@@ -131,7 +131,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
           idColumn: args.flags.get('id-column'),
           stepColumn: args.flags.get('step-column'),
         });
-  for (const note of prepared.notes ?? []) log(note);
+  // Under --quiet only the final result lines are printed (the held-out report, the summary, where files went).
+  const info = args.switches.has('quiet') ? () => undefined : log;
+  for (const note of prepared.notes ?? []) info(note);
   const layers: LayerDescription[] = Array.from({ length: layerCount }, () => ({ cell, hidden, ...(args.switches.has('bidirectional') ? { bidirectional: true } : {}) }));
   const description: ModelDescription = { input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } };
   const out = resolve(args.flags.get('out') ?? `${basename(dataPath, extname(dataPath))}.weft.json`);
@@ -198,7 +200,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     const savedHistory = saved.file.metadata.history as { training?: number[][]; validation?: number[][] } | undefined;
     history.training.push(...(savedHistory?.training ?? []).map(([step, loss]) => ({ step, loss })));
     history.validation.push(...(savedHistory?.validation ?? []).map(([step, loss]) => ({ step, loss })));
-    log(`resuming from ${resume} at step ${trainer.stepsTaken} of ${trainer.totalSteps}`);
+    info(`resuming from ${resume} at step ${trainer.stepsTaken} of ${trainer.totalSteps}`);
   }
   let interrupts = 0;
   const onInterrupt = () => {
@@ -207,7 +209,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     controller.abort();
   };
   process.on('SIGINT', onInterrupt);
-  log(`training a ${cell.toUpperCase()} ${task} model (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend`);
+  info(`training a ${cell.toUpperCase()} ${task} model (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend`);
   let summary: TrainingSummary;
   try {
     summary = await trainer.run();
@@ -224,7 +226,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   }
   await saveWeightFile(out, model, { dtype: store, metadata: metadataFor(trainer) });
   const heldOut = prepared.heldOut(model);
-  log(`loss ${sparkline(history.training.map((p) => p.loss))} ${history.training.at(-1)?.loss.toPrecision(4) ?? ''}`);
+  info(`loss ${sparkline(history.training.map((p) => p.loss))} ${history.training.at(-1)?.loss.toPrecision(4) ?? ''}`);
   for (const line of reportLines(heldOut)) log(line);
   const seconds = earlierSeconds + (Date.now() - started) / 1000;
   const ended = summary.stoppedBy === 'patience' ? `stopped early: ${patience} validations without improvement` : 'all epochs done';

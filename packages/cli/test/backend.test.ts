@@ -24,7 +24,7 @@ afterAll(() => {
 async function demoRun(backend: 'javascript' | 'webassembly'): Promise<{ heldOut: number; first: string }> {
   const lines: string[] = [];
   const flags = ['--target', 'air_temperature_c', '--horizon', '8', '--cell', 'gru', '--hidden', '48', '--window', '48', '--streams', '8', '--epochs', '30',
-    '--rate', '0.01', '--validation', '0.15', '--quiet', '--backend', backend, '--out', join(folder, `${backend}.weft.json`)];
+    '--rate', '0.01', '--validation', '0.15', '--backend', backend, '--out', join(folder, `${backend}.weft.json`)];
   const outcome = await train(parseArgs('train', [data, ...flags], trainFlags), (line) => lines.push(line));
   return { heldOut: outcome.heldOut.model.value, first: lines.find((l) => l.startsWith('training a ')) ?? '' };
 }

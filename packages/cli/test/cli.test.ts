@@ -64,7 +64,7 @@ describe('the weft command', () => {
     expect(stdout).toContain(`resume with: weft ${args.join(' ')} --resume ${checkpoint}\n`);
     expect(existsSync(join(folder, 'notes.weft.json'))).toBe(false);
 
-    const resumed = weft([...args, '--resume', 'notes.weft.checkpoint.json', '--quiet']);
+    const resumed = weft([...args, '--resume', 'notes.weft.checkpoint.json']);
     expect(resumed.code).toBe(0);
     expect(resumed.out).toContain(`resuming from notes.weft.checkpoint.json at step ${stoppedAt}`);
     expect(resumed.out).toMatch(/^finished \d+ steps in [\d.ms]+ \(resumed runs included\); /m);
@@ -88,6 +88,7 @@ describe('the weft command', () => {
     expect(sample.code).toBe(0);
     expect(sample.out.startsWith('day 3: ')).toBe(true);
     expect(sample.out.trim().length).toBe(67);
+    expect(sample.out.endsWith('\n')).toBe(true);
     expect(weft(['sample', 'notes.weft.json', '--prefix', 'day 3: ', '--length', '60', '--seed', '2']).out).toBe(sample.out);
     // A prefix with a character the model never saw: said on stderr, and shown as written.
     const unknown = weft(['sample', 'notes.weft.json', '--prefix', 'day Ω: ', '--length', '10', '--seed', '2']);
@@ -107,6 +108,28 @@ describe('the weft command', () => {
     expect(broken.code).toBe(1);
     expect(broken.out).toMatch(/FAIL recurrent \[4, 4\]/);
     expect(broken.out).toContain('GRADIENT CHECK FAILED');
+  });
+
+  it('prints only the result line of a passing check under --quiet, and still the report of a failing one', () => {
+    const quiet = weft(['check', '--quiet']);
+    expect(quiet.code).toBe(0);
+    expect(quiet.out).toBe('all 10 gradient checks passed (backend webassembly; finite differences in f64 run on the JavaScript kernels on every backend)\n'.replace('webassembly', process.env.WEFT_BACKEND ?? 'webassembly'));
+    const broken = weft(['check', '--quiet', '--module', join(fixtures, 'broken-cell.mjs')]);
+    expect(broken.code).toBe(1);
+    expect(broken.out).toMatch(/FAIL recurrent \[4, 4\]/);
+  });
+
+  it('ends the flags at --, so a file whose name starts with dashes can be named', () => {
+    writeFileSync(join(folder, '--odd.weft.json'), readFileSync(join(folder, 'notes.weft.json')));
+    const inspect = weft(['inspect', '--', '--odd.weft.json']);
+    expect(inspect.code).toBe(0);
+    expect(inspect.out).toMatch(/digest: SHA-256 [0-9a-f]{64} — verified/);
+    // After --, even --help is a file name.
+    expectOneLineError(weft(['inspect', '--', '--help']), 1, /--help/);
+  });
+
+  it('refuses a flag given twice instead of keeping one silently', () => {
+    expectOneLineError(weft(['train', 'notes.txt', '--epochs', '1', '--epochs=2']), 2, /^weft: flag --epochs of weft train is given twice; give it once$/);
   });
 
   describe('malformed input gets one line on stderr and a non-zero exit', () => {
@@ -158,6 +181,11 @@ describe('weft run on forecasts and classifications', () => {
     writeFileSync(join(folder, 'room.csv'), `temperature,humidity\n${rows.join('\n')}\n`);
     const trained = weft(['train', 'room.csv', '--target', 'temperature', '--horizon', '2', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'room.weft.json', '--quiet']);
     expect(trained.code).toBe(0);
+    // --quiet: no progress, no notes, only the final result lines.
+    expect(trained.err).toBe('');
+    expect(trained.out).not.toMatch(/^(training a |loss (?!curve)|left out )/m);
+    expect(trained.out.split('\n')[0]).toMatch(/^held out/);
+    expect(trained.out).toMatch(/^weight file: .*room\.weft\.json$/m);
     for (const name of ['model', 'persistence', 'training mean', 'linear']) expect(trained.out).toMatch(new RegExp(`^  ${name} +MAE [\\d.]+  RMSE [\\d.]+  MAPE`, 'm'));
     expect(trained.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline [a-z ]+): MAE [\d.]+ against/m);
     writeFileSync(join(folder, 'new-room.csv'), `humidity,temperature\n55,21\n54,22\n52,23\n`);
