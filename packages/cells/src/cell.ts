@@ -24,6 +24,7 @@ export interface StateSlot {
 export interface NamedParameter {
   /** Stable name within the cell (`recurrent`); layers prefix it (`layers.0.forward.recurrent`). */
   readonly name: string;
+  /** The trainable tensor itself; its `gradient` holds ∂loss after a reverse sweep. */
   readonly tensor: Tensor;
 }
 
@@ -37,11 +38,20 @@ export interface CellStep {
 export interface RecurrentCell {
   /** What kind of cell this is (`lstm`, `gru`, `plain`, or your own word). */
   readonly kind: string;
+  /** Features per batch row at each step (the width of `input` in `step`). */
   readonly inputSize: number;
+  /** Width of the step's output per batch row (the hidden size for the built-in cells). */
   readonly outputSize: number;
+  /** The element type of the cell's parameters and of every tensor it computes. */
   readonly dtype: DType;
+  /** The state slots carried from step to step, in order (`h`; or `h` then `c` for an LSTM). */
   readonly state: readonly StateSlot[];
+  /** Every trainable tensor of the cell, with its stable name, in a fixed order. */
   parameters(): readonly NamedParameter[];
+  /**
+   * One time step for a batch: `input` [B, inputSize] and the state (one [B, size] per slot) in, the output and the new
+   * state out, recorded on `tape`.
+   */
   step(tape: Tape, input: Tensor, state: readonly Tensor[]): CellStep;
 }
 
@@ -54,9 +64,14 @@ export interface SequenceResult {
 
 /** A faster whole-sequence path a cell may offer; layers use it when the cell's mode asks for it. */
 export interface FusedSequence {
+  /**
+   * Runs the whole sequence `inputs` [T, B, inputSize] from `state`; rows stop at `lengths` (null: all run T steps).
+   * Must equal stepping with `step`.
+   */
   runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult;
 }
 
+/** True when the cell offers the whole-sequence path (`runFused`). */
 export function hasFusedSequence(cell: RecurrentCell): cell is RecurrentCell & FusedSequence {
   return typeof (cell as Partial<FusedSequence>).runFused === 'function';
 }

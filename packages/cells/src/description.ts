@@ -15,23 +15,34 @@
 import { WeftError } from '@weft/core';
 import type { Problem } from '@weft/core';
 
+/** The cells weft builds itself, by their word in a description. */
 export type BuiltInCellKind = 'lstm' | 'gru' | 'plain';
 
+/** Inputs that are token ids, looked up in a trained embedding table. */
 export interface EmbeddingInput {
+  /** Marks token-id input. */
   readonly kind: 'embedding';
+  /** How many distinct tokens there are (ids run from 0 to vocabulary − 1). */
   readonly vocabulary: number;
+  /** Width of each token's embedding vector, the first layer's input width. */
   readonly width: number;
 }
 
+/** Inputs that are numbers: `width` values per step. */
 export interface ValuesInput {
+  /** Marks numeric input. */
   readonly kind: 'values';
+  /** Values per step (features). */
   readonly width: number;
 }
 
+/** One recurrent layer of a model description. */
 export interface LayerDescription {
   /** `lstm`, `gru`, `plain`, or the kind of a cell registered with the builder. */
   readonly cell: string;
+  /** Hidden size of the layer's cell (per direction). */
   readonly hidden: number;
+  /** Run a second cell backward in time and join both outputs (width 2 × hidden); default false. */
   readonly bidirectional?: boolean;
   /** LSTM only. */
   readonly peepholes?: boolean;
@@ -43,14 +54,21 @@ export interface LayerDescription {
   readonly activation?: 'tanh' | 'relu';
 }
 
+/** The affine map from the last layer's output to the model's output at each step. */
 export interface ReadoutDescription {
+  /** Output width: classes (or tokens) for classification, values for forecasting. */
   readonly width: number;
 }
 
+/** A sequence model as plain data (JSON): what a weight file stores and `buildModel` builds. */
 export interface ModelDescription {
+  /** What the model reads at each step. */
   readonly input: EmbeddingInput | ValuesInput;
+  /** The recurrent layers, first to last (stacked: each reads the one before). */
   readonly layers: readonly LayerDescription[];
+  /** Dropout rate between layers and before the readout while training, in [0, 1); default 0. */
   readonly dropout?: number;
+  /** The readout; absent or null to output the last layer's states. */
   readonly readout?: ReadoutDescription | null;
 }
 
@@ -188,14 +206,20 @@ export function checkDescription(value: unknown, path = 'description', customKin
  *     "decoder": { "input": {embedding}, "layers": [...], "readout": { "width": V } } }
  */
 export interface EncoderDecoderDescription {
+  /** Marks an encoder-decoder. */
   readonly kind: 'encoder-decoder';
+  /** Reads the source sequence; its final state starts the decoder. */
   readonly encoder: ModelDescription;
+  /** Generates the target sequence, one token per step, from the encoder's final state. */
   readonly decoder: ModelDescription;
+  /** Feed the source to the encoder in reverse order (Sutskever, Vinyals & Le 2014); default false. */
   readonly reverseSource?: boolean;
 }
 
+/** Either kind of model description. */
 export type AnyModelDescription = ModelDescription | EncoderDecoderDescription;
 
+/** True when `value` is (shaped like) an encoder-decoder description. */
 export function isEncoderDecoder(value: unknown): value is EncoderDecoderDescription {
   return isRecord(value) && value.kind === 'encoder-decoder';
 }

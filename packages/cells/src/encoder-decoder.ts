@@ -10,6 +10,7 @@ import { describeAnyProblems, isEncoderDecoder } from './description.js';
 import type { BuildOptions, TokenBatch } from './model.js';
 import { SequenceModel } from './model.js';
 
+/** What an encoder-decoder's teacher-forced run gives. */
 export interface EncoderDecoderRun {
   /** Logits [T_target, B, V]. */
   readonly outputs: Tensor;
@@ -17,9 +18,15 @@ export interface EncoderDecoderRun {
   readonly encoded: readonly Tensor[];
 }
 
+/**
+ * An encoder and a decoder, built from an `EncoderDecoderDescription`: the encoder's final state starts the decoder.
+ */
 export class EncoderDecoderModel {
+  /** The checked description it was built from. */
   readonly description: EncoderDecoderDescription;
+  /** The model that reads the source. */
   readonly encoder: SequenceModel;
+  /** The model that writes the target, one token per step. */
   readonly decoder: SequenceModel;
 
   constructor(description: unknown, options: BuildOptions = {}) {
@@ -35,6 +42,7 @@ export class EncoderDecoderModel {
     for (const p of this.decoder.parameters()) p.tensor.name = `decoder.${p.name}`;
   }
 
+  /** Every parameter, the encoder's (`encoder.…`) then the decoder's (`decoder.…`). */
   parameters(): NamedParameter[] {
     return [
       ...this.encoder.parameters().map((p) => ({ name: `encoder.${p.name}`, tensor: p.tensor })),

@@ -27,13 +27,21 @@ export class GruCell implements RecurrentCell, FusedSequence {
   readonly outputSize: number;
   readonly dtype: DType;
   readonly state: readonly StateSlot[];
+  /** True when the reset gate applies after the recurrent product (ONNX linear_before_reset = 1). */
   readonly resetAfterProduct: boolean;
+  /** Input weights [I, 3H], gate blocks z, r, n. */
   readonly input: Tensor;
+  /** Bias [3H], gate blocks z, r, n (the recurrent-side biases of z and r folded in). */
   readonly bias: Tensor;
+  /** Recurrent weights of the update and reset gates [H, 2H]. */
   readonly recurrent: Tensor;
+  /** Recurrent weights of the candidate [H, H]. */
   readonly recurrentCandidate: Tensor;
+  /** The candidate's recurrent bias [H] (inside the reset), only with `resetAfterProduct`; else null. */
   readonly recurrentCandidateBias: Tensor | null;
+  /** How the cell runs: `fused` or `composed` (may be changed between runs). */
   mode: CellMode;
+  /** The cell's path in messages and parameter names (`layers.0.forward`). */
   name: string;
   private readonly stepWeights: readonly Tensor[];
 

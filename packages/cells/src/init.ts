@@ -23,6 +23,7 @@ export function fillUniform(data: FloatArray, stride: number, rows: number, colu
   }
 }
 
+/** The bound √(6 / (fanIn + fanOut)) of Glorot-uniform initialisation (Glorot & Bengio 2010, eq. 16). */
 export function glorotBound(fanIn: number, fanOut: number): number {
   return Math.sqrt(6 / (fanIn + fanOut));
 }

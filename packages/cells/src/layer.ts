@@ -10,6 +10,7 @@ import type { RecurrentCell, SequenceResult } from './cell.js';
 import { hasFusedSequence } from './cell.js';
 import { allActive, holdInactiveRows, reverseWithinLengths, stackSteps, timeStep } from './sequence-ops.js';
 
+/** How a sequence layer runs a batch. */
 export interface SequenceOptions {
   /** Per-row lengths (each in [0, T]); absent or null means every row has length T. */
   readonly lengths?: Int32Array | readonly number[] | null;

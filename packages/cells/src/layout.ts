@@ -15,20 +15,27 @@
 import type { AnyModelDescription, LayerDescription, ModelDescription } from './description.js';
 import { isEncoderDecoder } from './description.js';
 
+/** One parameter's name and shape, as a model description implies it. */
 export interface ParameterLayout {
   /** The parameter's stable name, as in weight files (`layers.0.forward.input`). */
   readonly name: string;
+  /** Its shape (`[input width, gates × hidden]` for an input matrix). */
   readonly shape: readonly number[];
 }
 
+/** The widths of one layer, as a description implies them. */
 export interface LayerLayout {
+  /** Width of the layer's input per step: the embedding or value width, or the previous layer's output width. */
   readonly inputWidth: number;
   /** hidden × directions. */
   readonly outputWidth: number;
 }
 
+/** Everything a model description implies about sizes, without building the model. */
 export interface ModelLayout {
+  /** Every parameter, in the order of `SequenceModel.parameters()` and of weight files. */
   readonly parameters: readonly ParameterLayout[];
+  /** Each layer's widths, first to last. */
   readonly layers: readonly LayerLayout[];
   /** Width of what the model outputs: the readout's, else the last layer's. */
   readonly outputWidth: number;
@@ -96,7 +103,7 @@ export function modelLayout(description: ModelDescription): ModelLayout {
 }
 
 /** The parameters of either kind of checked description (an encoder-decoder's are `encoder.…` then `decoder.…`). */
-export function parameterLayout(description: AnyModelDescription): { readonly parameters: readonly ParameterLayout[]; readonly builtIn: boolean } {
+export function parameterLayout(description: AnyModelDescription): Pick<ModelLayout, 'parameters' | 'builtIn'> {
   if (!isEncoderDecoder(description)) return modelLayout(description);
   const encoder = modelLayout(description.encoder);
   const decoder = modelLayout(description.decoder);

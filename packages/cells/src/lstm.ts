@@ -28,11 +28,17 @@ export class LstmCell implements RecurrentCell, FusedSequence {
   readonly outputSize: number;
   readonly dtype: DType;
   readonly state: readonly StateSlot[];
+  /** Input weights [I, 4H], gate blocks i, f, g, o. */
   readonly input: Tensor;
+  /** Recurrent weights [H, 4H], gate blocks i, f, g, o. */
   readonly recurrent: Tensor;
+  /** Bias [4H], gate blocks i, f, g, o. */
   readonly bias: Tensor;
+  /** Peephole weights [3H] (i, f, o), or null without peepholes. */
   readonly peephole: Tensor | null;
+  /** How the cell runs: `fused` or `composed` (may be changed between runs). */
   mode: CellMode;
+  /** The cell's path in messages and parameter names (`layers.0.forward`). */
   name: string;
   private readonly stepWeights: readonly Tensor[];
 

@@ -26,19 +26,28 @@ import { zeroBeyondLengths } from './sequence-ops.js';
 
 /** What a registered cell maker receives. */
 export interface CellRequest {
+  /** The layer's description, as written (its `cell` word and any options of your own). */
   readonly layer: LayerDescription;
+  /** Features per batch row that the cell reads at each step. */
   readonly inputSize: number;
+  /** The layer's `hidden`: the width of the cell's output. */
   readonly hiddenSize: number;
+  /** The element type the model is built in. */
   readonly dtype: DType;
+  /** The model's seeded generator, for the cell's initial weights. */
   readonly random: Random;
+  /** The cell's path, for messages and parameter names (`layers.0.forward`). */
   readonly name: string;
 }
 
+/** Makes a cell of your own for one layer (and direction) of a model. */
 export type CellMaker = (request: CellRequest) => RecurrentCell;
 
+/** How `buildModel` builds a model from its description. */
 export interface BuildOptions {
   /** Seed for the initial parameters. Default 0. */
   readonly seed?: number | string;
+  /** Element type of the parameters: `f32` (default) or `f64` (for gradient checks). */
   readonly dtype?: DType;
   /** How built-in cells run. Default `fused`. */
   readonly mode?: CellMode;
@@ -48,20 +57,30 @@ export interface BuildOptions {
 
 /** Token ids in time-major order: tokens[t·batch + b]. */
 export interface TokenBatch {
+  /** The ids, `steps × batch` of them. */
   readonly tokens: Int32Array;
+  /** Time steps (T). */
   readonly steps: number;
+  /** Batch rows (B). */
   readonly batch: number;
 }
 
+/** How `SequenceModel.run` runs a batch. */
 export interface ModelRunOptions {
+  /**
+   * Each row's length, for ragged batches (outputs beyond it are zero, its state is held); absent: every row runs T
+   * steps.
+   */
   readonly lengths?: Int32Array | readonly number[] | null;
   /** The model's state slots in `stateSlots()` order; absent means zeros. */
   readonly initialState?: readonly Tensor[];
   /** Training applies dropout between layers, drawing masks from `random`. Default false. */
   readonly training?: boolean;
+  /** The generator dropout masks come from when `training` is true. */
   readonly random?: Random;
 }
 
+/** What a model's run over a batch gives. */
 export interface ModelRunResult {
   /** [T, B, readout width] (or the last layer's features when there is no readout). */
   readonly outputs: Tensor;
@@ -69,8 +88,11 @@ export interface ModelRunResult {
   readonly state: readonly Tensor[];
 }
 
+/** One layer's cells. */
 export interface ModelLayer {
+  /** The cell that reads forward in time. */
   readonly forward: RecurrentCell;
+  /** The cell that reads backward in time, for a bidirectional layer; else null. */
   readonly backward: RecurrentCell | null;
 }
 
@@ -79,12 +101,22 @@ export interface ModelStateSlot extends StateSlot {
   readonly path: string;
 }
 
+/**
+ * A stack of recurrent layers with an optional embedding before and readout after, built from a `ModelDescription` by
+ * `buildModel`.
+ */
 export class SequenceModel {
+  /** The checked description it was built from. */
   readonly description: ModelDescription;
+  /** Element type of every parameter. */
   readonly dtype: DType;
+  /** The embedding table [vocabulary, width] for token input; null for numeric input. */
   readonly embedding: Tensor | null;
+  /** The recurrent layers, first to last. */
   readonly layers: readonly ModelLayer[];
+  /** The readout matrix [last layer width, output width]; null without a readout. */
   readonly readoutWeights: Tensor | null;
+  /** The readout bias [output width]; null without a readout. */
   readonly readoutBias: Tensor | null;
   /** Width of each step's output. */
   readonly outputSize: number;

@@ -12,6 +12,7 @@ import { fillIdentity, fillOrthogonal, fillUniform, glorotBound } from './init.j
 import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
 import type { CommonCellOptions } from './recurrence.js';
 
+/** The nonlinearity of a plain recurrent cell. */
 export type PlainActivation = 'tanh' | 'relu';
 
 export interface PlainOptions extends CommonCellOptions {
@@ -25,11 +26,17 @@ export class PlainCell implements RecurrentCell, FusedSequence {
   readonly outputSize: number;
   readonly dtype: DType;
   readonly state: readonly StateSlot[];
+  /** The cell's nonlinearity. */
   readonly activation: PlainActivation;
+  /** Input weights [I, H]. */
   readonly input: Tensor;
+  /** Recurrent weights [H, H]. */
   readonly recurrent: Tensor;
+  /** Bias [H]. */
   readonly bias: Tensor;
+  /** How the cell runs: `fused` or `composed` (may be changed between runs). */
   mode: CellMode;
+  /** The cell's path in messages and parameter names (`layers.0.forward`). */
   name: string;
   private readonly stepWeights: readonly Tensor[];
 

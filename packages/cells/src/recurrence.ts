@@ -11,8 +11,11 @@ import { stackSteps } from './sequence-ops.js';
 
 /** The options every built-in cell takes. */
 export interface CommonCellOptions {
+  /** Features per batch row at each step. */
   readonly inputSize: number;
+  /** Width of the hidden state (and of the output) per batch row. */
   readonly hiddenSize: number;
+  /** Element type of the parameters: `f32` (default) or `f64` (for gradient checks). */
   readonly dtype?: DType;
   /** Seed or generator for the initial weights. Default seed 0. */
   readonly random?: Random | number | string;

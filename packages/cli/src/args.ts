@@ -24,6 +24,7 @@ export interface ParsedArgs {
   readonly positional: string[];
 }
 
+/** Reads a verb's arguments against its flag specs (see above). */
 export function parseArgs(verb: string, argv: readonly string[], specs: readonly FlagSpec[]): ParsedArgs {
   const known = new Map(specs.map((s) => [s.name, s]));
   const options = Object.fromEntries(specs.map((s) => [s.name, { type: s.switch === true ? ('boolean' as const) : ('string' as const) }]));

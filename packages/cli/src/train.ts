@@ -83,15 +83,26 @@ function firstDifference(saved: unknown, requested: unknown, path = 'model'): st
   return null;
 }
 
+/** What `train` did, for programs that drive the verb directly. */
 export interface TrainOutcome {
+  /** The trainer's summary. */
   readonly summary: TrainingSummary;
+  /** The weight file written (absolute path). */
   readonly out: string;
+  /** The checkpoint written (absolute path). */
   readonly checkpoint: string;
+  /** The SVG loss curve written (absolute path). */
   readonly curve: string;
+  /** The model and the baselines on the held-out data. */
   readonly heldOut: HeldOutReport;
+  /** The data as the verb prepared it (inputs, targets, metadata, held-out rows). */
   readonly prepared: Prepared;
 }
 
+/**
+ * Runs `weft train` with parsed arguments: prepares the data, trains with progress and checkpoints, compares with the
+ * baselines, saves; `log` receives the result lines.
+ */
 export async function train(args: ParsedArgs, log: (line: string) => void = (line) => process.stdout.write(`${line}\n`)): Promise<TrainOutcome> {
   const [dataPath] = args.positional;
   if (dataPath === undefined) throw new CommandError('weft train needs a data file (see weft train --help)', 2);

@@ -18,7 +18,9 @@ export type ProblemCode =
   | 'backend_memory'
   | 'digest_failed';
 
+/** One thing wrong with an input, as data: what kind, where, what was expected and what arrived. */
 export interface Problem {
+  /** What kind of problem it is, for programs to act on. */
   readonly code: ProblemCode;
   /** Where the problem is: an operation and argument (`matmul.b`), a JSON path, or `file.csv:17:3`. */
   readonly path: string;
@@ -57,7 +59,9 @@ export function describeProblem(problem: Problem): string {
   return text;
 }
 
+/** The one error type weft throws: one or more problems, worded alike by `describeProblem`. */
 export class WeftError extends Error {
+  /** Every problem found, in the order found (a weight file lists all its problems at once). */
   readonly problems: readonly Problem[];
 
   constructor(problems: Problem | readonly Problem[]) {
@@ -76,14 +80,17 @@ export class WeftError extends Error {
     return this.problems[0].code;
   }
 
+  /** Where the first problem is. */
   get path(): string {
     return this.problems[0].path;
   }
 
+  /** What the first problem expected. */
   get expected(): string {
     return this.problems[0].expected;
   }
 
+  /** What the first problem received. */
   get received(): string {
     return this.problems[0].received;
   }
@@ -94,6 +101,7 @@ export function formatShape(shape: readonly number[]): string {
   return `[${shape.join(', ')}]`;
 }
 
+/** Throws a `WeftError` with one problem made of these fields. */
 export function fail(
   code: ProblemCode,
   path: string,

@@ -20,6 +20,7 @@ import { Random } from './random.js';
 import { Tape } from './tape.js';
 import type { Tensor } from './tensor.js';
 
+/** How `checkGradients` compares reverse-mode gradients with central finite differences. */
 export interface GradientCheckOptions {
   /** The backend the computation runs on (the default backend when not given; f64 runs on JavaScript kernels everywhere). */
   readonly backend?: Backend;
@@ -37,11 +38,15 @@ export interface GradientCheckOptions {
   readonly seed?: number | string;
 }
 
+/** The entry-by-entry comparison for one tensor. */
 export interface TensorGradientCheck {
+  /** The tensor's name (or its place in the list). */
   readonly name: string;
+  /** The tensor's shape. */
   readonly shape: readonly number[];
   /** Entries compared. */
   readonly checked: number;
+  /** True when every checked entry passed (by relative error, or by the absolute floor). */
   readonly passed: boolean;
   /** The worst relative error |a − n| / max(|a|, |n|, tiny) among the checked entries. */
   readonly worstRelativeError: number;
@@ -49,9 +54,11 @@ export interface TensorGradientCheck {
   readonly worstAbsoluteError: number;
   /** Where: the full index into the tensor, and its row-major offset. */
   readonly worstIndex: readonly number[];
+  /** The row-major offset of the worst entry. */
   readonly worstOffset: number;
   /** The reverse-mode value and the finite-difference value there. */
   readonly analytic: number;
+  /** The finite-difference value at the worst entry. */
   readonly numeric: number;
   /** Offsets of entries whose relative error failed but whose absolute error was under the floor. */
   readonly passedByFloor: readonly number[];
@@ -59,20 +66,33 @@ export interface TensorGradientCheck {
   readonly failures: readonly number[];
 }
 
+/** The comparison along one random direction d: the reverse-mode ∇·d against (f(x + hd) − f(x − hd)) / 2h. */
 export interface DirectionalGradientCheck {
+  /** ∇·d from the reverse sweep. */
   readonly analytic: number;
+  /** The central difference along d. */
   readonly numeric: number;
+  /** |analytic − numeric| / max(|analytic|, |numeric|). */
   readonly relativeError: number;
+  /** True when the relative error is within the tolerance (or the absolute error under the floor). */
   readonly passed: boolean;
 }
 
+/** The result of `checkGradients`. */
 export interface GradientReport {
+  /** True when every tensor and every direction passed. */
   readonly passed: boolean;
+  /** The finite-difference step h used. */
   readonly step: number;
+  /** The largest relative error that passed. */
   readonly tolerance: number;
+  /** The absolute error under which an entry passed whatever its relative error. */
   readonly absoluteFloor: number;
+  /** The loss at the unperturbed parameters. */
   readonly loss: number;
+  /** One comparison per tensor, in the order given. */
   readonly tensors: readonly TensorGradientCheck[];
+  /** The directional comparisons. */
   readonly directions: readonly DirectionalGradientCheck[];
   /** The report as readable lines. */
   text(): string;
@@ -95,6 +115,10 @@ function indexOf(offset: number, shape: readonly number[]): number[] {
   return index;
 }
 
+/**
+ * Checks the reverse-mode gradients of the scalar `build` returns with respect to `tensors` against central finite
+ * differences, entry by entry and along random directions (f64 recommended).
+ */
 export function checkGradients(
   build: (tape: Tape) => Tensor,
   tensors: readonly Tensor[],

@@ -11,8 +11,10 @@ import type { DType, FloatArray } from './dtype.js';
 import { bytesPerElement, dtypeOf } from './dtype.js';
 import { fail } from './errors.js';
 
+/** Makes a zero-filled buffer of a dtype and length (a backend's allocator, in its own memory). */
 export type Allocate = (dtype: DType, length: number) => FloatArray;
 
+/** What a pool has made and handed out, for tests and leak hunts. */
 export interface PoolCounts {
   /** Typed arrays created since the pool was made (or since `resetCounts`). */
   readonly created: number;
@@ -27,6 +29,10 @@ export interface PoolCounts {
 const defaultAllocate: Allocate = (dtype, length) =>
   dtype === 'f64' ? new Float64Array(length) : new Float32Array(length);
 
+/**
+ * Typed arrays kept for reuse by dtype and length: `take` hands one out (zeroed), `give` takes it back; hot loops
+ * allocate nothing once the pool is warm.
+ */
 export class BufferPool {
   private readonly allocate: Allocate;
   private readonly free32 = new Map<number, Float32Array[]>();
@@ -80,6 +86,7 @@ export class BufferPool {
     }
   }
 
+  /** The pool's counts now. */
   counts(): PoolCounts {
     return {
       created: this.created,

@@ -10,14 +10,19 @@ import { fail } from './errors.js';
 
 /** The generator's state as plain data (safe to put in JSON: every field is an exactly representable number). */
 export interface RandomState {
+  /** Alea's carry. */
   readonly c: number;
+  /** Alea's first state word (a fraction in [0, 1)). */
   readonly s0: number;
+  /** Alea's second state word. */
   readonly s1: number;
+  /** Alea's third state word. */
   readonly s2: number;
 }
 
 type AleaGenerator = ReturnType<typeof alea>;
 
+/** The seeded generator every random choice in weft draws from; same seed, same bits, on every platform. */
 export class Random {
   private generator: AleaGenerator;
 
@@ -71,11 +76,13 @@ export class Random {
     }
   }
 
+  /** The generator's state as plain data, to save in a checkpoint. */
   state(): RandomState {
     const { c, s0, s1, s2 } = this.generator.state();
     return { c, s0, s1, s2 };
   }
 
+  /** Continues from a saved state (each field checked to be a finite number). */
   restore(state: RandomState): void {
     for (const key of ['c', 's0', 's1', 's2'] as const) {
       if (typeof state[key] !== 'number' || !Number.isFinite(state[key])) {

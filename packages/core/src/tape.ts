@@ -20,6 +20,7 @@ import { Tensor, sameShape, sizeOfShape } from './tensor.js';
 
 /** What a node needs to run backward. One static object per operation kind; nodes point at it. */
 export interface OperationKind {
+  /** The operation's name, in messages (`matmul`). */
   readonly name: string;
   /**
    * Adds the gradient of the node's output (`node.output.gradient`) into its tracked inputs' gradients. Called
@@ -33,21 +34,35 @@ export interface OperationKind {
  * tensor inputs (or a list), saved buffers, integer data and numbers, as each kind documents.
  */
 export class TapeNode {
+  /** The operation recorded; null while the record is free. */
   kind: OperationKind | null = null;
+  /** The operation's output. */
   output: Tensor | null = null;
   /** A second output, for operations that produce two tensors (a cell step's h and c). */
   secondOutput: Tensor | null = null;
+  /** The first tensor input. */
   first: Tensor | null = null;
+  /** The second tensor input, when there is one. */
   second: Tensor | null = null;
+  /** The third tensor input, when there is one. */
   third: Tensor | null = null;
+  /** The inputs of an operation with any number of them (concatenation). */
   list: readonly Tensor[] | null = null;
+  /** A buffer the forward pass saved for the backward pass (what each kind saves is documented with it). */
   saved: FloatArray | null = null;
+  /** A second saved buffer. */
   savedOther: FloatArray | null = null;
+  /** A third saved buffer. */
   savedExtra: FloatArray | null = null;
+  /** Integer data the operation needs backward (indices, lengths). */
   integers: Int32Array | null = null;
+  /** A number the operation needs backward (a scale, a step index: per kind). */
   number0 = 0;
+  /** A second number the operation needs backward. */
   number1 = 0;
+  /** A switch the operation needs backward (per kind). */
   flag0 = false;
+  /** A second switch the operation needs backward. */
   flag1 = false;
 
   /** Clears the slots so a reused record keeps nothing alive. */
@@ -70,6 +85,7 @@ export class TapeNode {
   }
 }
 
+/** How a `Tape` is made. */
 export interface TapeOptions {
   /** The kernels and memory every operation on this tape computes with (the default backend when not given). */
   readonly backend?: Backend;
@@ -79,10 +95,16 @@ export interface TapeOptions {
   readonly recording?: boolean;
 }
 
+/**
+ * Records operations as they run so that `reverseSweep` can add each gradient into its inputs, newest first; buffers
+ * come from the tape's pool and go back on `clear()`.
+ */
 export class Tape {
+  /** The backend every operation on this tape computes on. */
   readonly backend: Backend;
   /** The backend's kernel table, the one way operations on this tape reach a kernel. */
   readonly kernels: KernelTable;
+  /** Where the tape takes its buffers from. */
   readonly pool: BufferPool;
   /** When false, operations compute but record nothing and their outputs are not tracked. */
   recording: boolean;

@@ -18,9 +18,16 @@ import { backendOf, defaultBackend } from './backend/choose.js';
 import type { BufferPool } from './pool.js';
 import type { Random } from './random.js';
 
+/**
+ * An n-dimensional array: a contiguous row-major typed array, its shape and dtype, and the gradient slot the tape
+ * fills.
+ */
 export class Tensor {
+  /** The values, row-major (the last axis varies fastest). */
   readonly data: FloatArray;
+  /** The size of each axis. */
   readonly shape: readonly number[];
+  /** The element type (`f32` or `f64`), from `data`. */
   readonly dtype: DType;
   /** Number of elements: the product of the shape. */
   readonly size: number;
@@ -45,6 +52,7 @@ export class Tensor {
     this.size = size;
   }
 
+  /** Number of axes. */
   get rank(): number {
     return this.shape.length;
   }

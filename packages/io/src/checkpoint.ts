@@ -12,6 +12,7 @@ import { modelTensors } from './model-file.js';
 import type { ReadOptions, WeightFile, WeightMetadata } from './weight-file.js';
 import { readWeightFile, writeWeightFile } from './weight-file.js';
 
+/** A checkpoint's text: the model's weights (f32) with the trainer's snapshot in the `training` field. */
 export async function writeCheckpoint(trainer: Trainer, model: SequenceModel, metadata: WeightMetadata = {}): Promise<string> {
   // The weights travel as the file's tensors; the rest of the snapshot is the training state.
   const training: Record<string, unknown> = { ...trainer.snapshot() };
@@ -19,8 +20,11 @@ export async function writeCheckpoint(trainer: Trainer, model: SequenceModel, me
   return writeWeightFile(model.description, modelTensors(model), { dtype: 'f32', metadata, training });
 }
 
+/** A checkpoint after reading. */
 export interface Checkpoint {
+  /** The weight file it is (the runtime can run it). */
   readonly file: WeightFile;
+  /** The trainer's state, with the parameters taken from the file's tensors; `Trainer.restore` takes it. */
   readonly snapshot: TrainingSnapshot;
 }
 
@@ -28,6 +32,7 @@ function isRecord(value: unknown): value is Record<string, unknown> {
   return typeof value === 'object' && value !== null && !Array.isArray(value);
 }
 
+/** Reads and checks a checkpoint: the weight file, then every field of its training state, all problems at once. */
 export async function readCheckpoint(text: string, options: ReadOptions = {}): Promise<Checkpoint> {
   const file = await readWeightFile(text, options);
   const training = file.training;

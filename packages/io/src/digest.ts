@@ -5,6 +5,7 @@
  */
 import { WeftError } from '@weft/core';
 
+/** The SHA-256 digest of `bytes` as 64 lower-case hex digits (Web Crypto where present, else plain TypeScript). */
 export async function sha256Hex(bytes: Uint8Array): Promise<string> {
   const subtle = globalThis.crypto?.subtle;
   if (subtle === undefined) {

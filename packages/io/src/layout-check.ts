@@ -10,6 +10,10 @@ export interface NamedShape {
   readonly shape: readonly number[];
 }
 
+/**
+ * The problems of a file's tensors against the layout its description implies (missing, extra, misshapen); empty when
+ * they match.
+ */
 export function layoutProblems(tensors: readonly NamedShape[], layout: readonly ParameterLayout[]): Problem[] {
   const byName = new Map<string, NamedShape>();
   for (const t of tensors) byName.set(t.name, t);

@@ -31,6 +31,10 @@ function describe(value: unknown): string {
 const isStrings = (value: unknown): value is string[] => Array.isArray(value) && value.every((v) => typeof v === 'string');
 const isNumbers = (value: unknown): value is number[] => Array.isArray(value) && value.every((v) => typeof v === 'number');
 
+/**
+ * The problems of a file's metadata against its model (vocabulary length, normalisation widths, class count, field
+ * types); empty when it fits.
+ */
 export function metadataProblems(metadata: Readonly<Record<string, unknown>>, model: ModelDescription): Problem[] {
   const problems: Problem[] = [];
   const add = (field: string, expected: string, received: unknown): void => {

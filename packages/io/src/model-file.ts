@@ -15,8 +15,11 @@ export function modelTensors(model: { parameters(): readonly NamedParameter[] })
   return model.parameters().map((p) => ({ name: p.name, shape: p.tensor.shape, values: p.tensor.data }));
 }
 
+/** How a model is built from a weight file. */
 export interface LoadOptions {
+  /** Element type to build the model in; default `f32`. */
   readonly dtype?: DType;
+  /** Makers of the file's cells that are not built in, by their kind. */
   readonly cells?: BuildOptions['cells'];
 }
 

@@ -5,6 +5,7 @@
  */
 import type { FloatArray } from '@weft/core';
 
+/** Quantises a [rows, cols] tensor row by row into int8 `codes` and one f32 scale per row in `scales` (see above). */
 export function quantizeRows(values: FloatArray, rows: number, cols: number, codes: Int8Array, scales: Float32Array): void {
   for (let r = 0; r < rows; r++) {
     let max = 0;
@@ -18,6 +19,7 @@ export function quantizeRows(values: FloatArray, rows: number, cols: number, cod
   }
 }
 
+/** Turns int8 `codes` and their row scales back into values: out = q·s_r. */
 export function dequantizeRows(codes: Int8Array, scales: Float32Array, rows: number, cols: number, out: FloatArray): void {
   for (let r = 0; r < rows; r++) for (let c = 0; c < cols; c++) out[r * cols + c] = codes[r * cols + c] * scales[r];
 }

@@ -14,6 +14,10 @@ import { WeftError } from '@weft/core';
 /** The token of ids a vocabulary has no other id for (the first entry of every vocabulary weft makes). */
 export const UNKNOWN_TOKEN = '<unknown>';
 
+/**
+ * Turns named raw values and text into a model's inputs, and its outputs back into named values in real units, from a
+ * weight file's metadata.
+ */
 export interface Translator {
   /** The named input columns a values model reads, in order (empty for token models). */
   readonly inputNames: readonly string[];
@@ -28,7 +32,14 @@ export interface Translator {
    */
   outputs(values: ArrayLike<number>, from?: Readonly<Record<string, number | string>>): Record<string, number>;
   /** Text → token ids (as training split text); `unknown` counts the pieces not in the vocabulary. */
-  tokenIds(text: string): { readonly ids: Int32Array; readonly pieces: readonly string[]; readonly unknown: number };
+  tokenIds(text: string): {
+    /** The token id of each piece (the unknown token's id for a piece not in the vocabulary). */
+    readonly ids: Int32Array;
+    /** The pieces the text was split into (characters or words, as the model was trained). */
+    readonly pieces: readonly string[];
+    /** How many pieces are not in the vocabulary. */
+    readonly unknown: number;
+  };
   /** A token id → its text. */
   tokenText(id: number): string;
 }

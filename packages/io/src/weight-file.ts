@@ -20,9 +20,12 @@ import { sha256Hex } from './digest.js';
 import { fromHalfBits, toHalfBits } from './half.js';
 import { dequantizeRows, quantizeRows } from './quantize.js';
 
+/** The `format` field every weight file carries. */
 export const FORMAT_TAG = 'weft-weights';
+/** The version this reader writes; it reads this version and older ones. */
 export const FORMAT_VERSION = 1;
 
+/** How a tensor's values are stored in a file: f32, f16 (binary16), or int8 with one scale per row. */
 export type StoredDType = 'f32' | 'f16' | 'i8';
 
 /** What a user needs to run the model with nothing else. Every field is optional; unknown fields are kept. */
@@ -32,27 +35,42 @@ export interface WeightMetadata {
   /** Token strings by id, for models over tokens. */
   readonly vocabulary?: readonly string[];
   /** Per-feature value normalisation: x' = (x − mean) / deviation. */
-  readonly normalisation?: { readonly mean: readonly number[]; readonly deviation: readonly number[] };
+  readonly normalisation?: {
+    /** The training data's mean of each input feature. */
+    readonly mean: readonly number[];
+    /** The training data's standard deviation of each input feature. */
+    readonly deviation: readonly number[];
+  };
   /** Class names by index, for classifiers. */
   readonly classes?: readonly string[];
+  /** How the model was trained, as flat fields (data file, its digest, flags, figures), for the record. */
   readonly training?: Readonly<Record<string, string | number | boolean | null>>;
   readonly [key: string]: unknown;
 }
 
+/** One tensor's values by name, as weight files hold them. */
 export interface NamedValues {
+  /** The parameter's name (`layers.0.forward.input`). */
   readonly name: string;
+  /** Its shape. */
   readonly shape: readonly number[];
+  /** Its values, row-major. */
   readonly values: FloatArray;
 }
 
+/** A weight file after reading: checked, decoded and (by default) verified by its digest. */
 export interface WeightFile {
+  /** The format version the file was written in. */
   readonly version: number;
+  /** The model description, checked. */
   readonly model: AnyModelDescription;
+  /** The file's metadata (empty when it has none). */
   readonly metadata: WeightMetadata;
   /** Tensors in file order, decoded to f32 (f16 widened, i8 dequantised). */
   readonly tensors: readonly NamedValues[];
   /** The stored dtype of each tensor, by name. */
   readonly storedAs: Readonly<Record<string, StoredDType>>;
+  /** The SHA-256 digest the file states for its tensor bytes, as hex. */
   readonly digest: string;
   /** True when the stored digest was computed and matched the tensor bytes. */
   readonly digestVerified: boolean;
@@ -62,6 +80,7 @@ export interface WeightFile {
   readonly training?: unknown;
 }
 
+/** How `writeWeightFile` writes. */
 export interface WriteOptions {
   /** Training state to carry (checkpoints only). */
   readonly training?: unknown;
@@ -70,9 +89,11 @@ export interface WriteOptions {
    * the matrices only; vectors stay f32. Per-name choices are taken as given.
    */
   readonly dtype?: StoredDType | Readonly<Record<string, StoredDType>>;
+  /** What the model needs beside its weights (vocabulary, normalisation, classes, training record). */
   readonly metadata?: WeightMetadata;
 }
 
+/** Limits and checks of `readWeightFile`: every limit is checked before anything of that size is made. */
 export interface ReadOptions {
   /** Largest total number of tensor elements accepted (default 50,000,000). */
   readonly maxElements?: number;

@@ -5,16 +5,23 @@
 import type { FloatArray } from '@weft/core';
 import { UpdateRule, checkRate } from './update-rule.js';
 
+/** Options of Adagrad. */
 export interface AdagradOptions {
+  /** α, the base learning rate (> 0). */
   readonly rate: number;
   /** ε, default 1e-10. */
   readonly epsilon?: number;
+  /** κ: L2 penalty added to the gradient. Default 0. */
   readonly l2Penalty?: number;
 }
 
+/** Adagrad: each step divided by the root of the sum of all squared gradients so far. */
 export class AdagradRule extends UpdateRule {
+  /** Always `adagrad`. */
   readonly kind = 'adagrad';
+  /** ε, added to the root in the denominator. */
   readonly epsilon: number;
+  /** κ, the L2 penalty added to the gradient. */
   readonly l2Penalty: number;
 
   constructor(options: AdagradOptions) {

@@ -10,7 +10,9 @@
 import type { FloatArray, KernelTable } from '@weft/core';
 import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
 
+/** Options of Adam. */
 export interface AdamOptions {
+  /** α, the base learning rate (> 0). */
   readonly rate: number;
   /** β₁, default 0.9. */
   readonly beta1?: number;
@@ -24,12 +26,19 @@ export interface AdamOptions {
   readonly decoupledDecay?: number;
 }
 
+/** Adam (Kingma & Ba 2015), with an L2 penalty or decoupled weight decay (Loshchilov & Hutter 2019). */
 export class AdamRule extends UpdateRule {
+  /** Always `adam`. */
   readonly kind = 'adam';
+  /** β₁, the decay of the first-moment estimate. */
   readonly beta1: number;
+  /** β₂, the decay of the second-moment estimate. */
   readonly beta2: number;
+  /** ε, added to √v̂ in the denominator. */
   readonly epsilon: number;
+  /** κ, the L2 penalty added to the gradient. */
   readonly l2Penalty: number;
+  /** λ, the decoupled weight decay. */
   readonly decoupledDecay: number;
 
   constructor(options: AdamOptions) {

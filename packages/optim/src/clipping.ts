@@ -49,10 +49,13 @@ export function limitGradientValues(parameters: readonly Tensor[], limit: number
   return changed;
 }
 
+/** The first NaN or ±Infinity found in a set of gradients. */
 export interface NonFiniteEntry {
   /** The parameter's name (or `parameters[i]`). */
   readonly name: string;
+  /** Its offset in the parameter's row-major values. */
   readonly offset: number;
+  /** The value found there (NaN, Infinity or -Infinity). */
   readonly value: number;
 }
 

@@ -20,15 +20,41 @@ import type { TokenBatch } from '@weft/cells';
 /** What the model must predict for a batch. */
 export type BatchTargets =
   /** A class per step ([T·B], time-major) or per sequence ([B]); weights (1 real, 0 padding) per target. */
-  | { readonly kind: 'classes'; readonly perStep: boolean; readonly classes: Int32Array; readonly weights: Float64Array | null }
+  | {
+    /** Class targets (cross-entropy loss). */
+    readonly kind: 'classes';
+    /** True for a target at every step, false for one per sequence (read at its last valid step). */
+    readonly perStep: boolean;
+    /** The target class ids. */
+    readonly classes: Int32Array;
+    /** A weight per target (0 for padding); null when every target counts once. */
+    readonly weights: Float64Array | null;
+  }
   /** Values per step ([T·B, width]) or per sequence ([B, width]); weights per row. */
-  | { readonly kind: 'values'; readonly perStep: boolean; readonly width: number; readonly values: Tensor; readonly weights: Float64Array | null };
+  | {
+    /** Value targets (mean squared error). */
+    readonly kind: 'values';
+    /** True for targets at every step, false for one row per sequence. */
+    readonly perStep: boolean;
+    /** Values per target row. */
+    readonly width: number;
+    /** The target values, one row per target. */
+    readonly values: Tensor;
+    /** A weight per target row (0 for padding); null when every row counts once. */
+    readonly weights: Float64Array | null;
+  };
 
+/** One batch, as a data source hands it to the trainer. */
 export interface Batch {
+  /** The inputs: numbers [T, B, features], or token ids (time-major). */
   readonly input: Tensor | TokenBatch;
+  /** Time steps T. */
   readonly steps: number;
+  /** Batch rows B. */
   readonly batch: number;
+  /** Each row's length for a padded batch of sequences; null when every row runs T steps. */
   readonly lengths: Int32Array | null;
+  /** What the model must predict. */
   readonly targets: BatchTargets;
   /** Real (unpadded) positions, for tokens per second. */
   readonly positions: number;
@@ -39,6 +65,10 @@ export interface Batch {
   readonly carryAfter?: number;
 }
 
+/**
+ * Where a trainer gets its batches: a fixed number per epoch, each addressed by epoch and index so a resumed run gets
+ * the same batches.
+ */
 export interface DataSource {
   /** Batches in one epoch. */
   readonly batchesPerEpoch: number;
@@ -72,17 +102,23 @@ class BatchBuffers {
   }
 }
 
+/** A long stream of token ids, for next-token models. */
 export interface TokenStreamOptions {
+  /** Marks a token stream. */
   readonly kind: 'tokens';
   /** The corpus as token ids; the target at each position is the next id. */
   readonly tokens: Int32Array;
+  /** How many distinct ids there are; every id must be below it. */
   readonly vocabulary: number;
 }
 
+/** A long series of numbers, for forecasting. */
 export interface ValueStreamOptions {
+  /** Marks a value stream. */
   readonly kind: 'values';
   /** Row-major [N, features]. */
   readonly values: FloatArray | readonly number[];
+  /** Numbers per row (the model's input width). */
   readonly features: number;
   /** Columns to predict (default all). */
   readonly targetColumns?: readonly number[];
@@ -91,12 +127,18 @@ export interface ValueStreamOptions {
    * step t (for targets derived from the values, such as differences). `targetColumns` is then not used.
    */
   readonly targets?: FloatArray | readonly number[];
+  /** Numbers per row of `targets`. */
   readonly targetWidth?: number;
   /** Predict the value this many steps ahead (default 1). */
   readonly horizon?: number;
+  /** Element type of the batches' tensors; default `f32`. */
   readonly dtype?: DType;
 }
 
+/**
+ * How a stream is cut into batches: B parallel streams through the data, T steps per window, the state carried from one
+ * window to the next.
+ */
 export interface StreamOptions {
   /** Parallel streams B (default 1). */
   readonly streams?: number;
@@ -121,6 +163,10 @@ function windowPlan(index: number, window: number, lookback: number, streams: nu
   return { begin, steps, carryAfter: lookback > 0 ? carryAfter : undefined, weights };
 }
 
+/**
+ * Batches over a long stream for truncated backpropagation through time: the data is cut into `streams` equal parts
+ * read side by side, `window` steps per batch, each batch continuing where the last ended.
+ */
 export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, options: StreamOptions): DataSource {
   const streams = options.streams ?? 1;
   const window = options.window;
@@ -223,7 +269,9 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
 
 /** One independent sequence: its inputs (token ids, or [L, features] numbers) and what to predict. */
 export interface LabelledSequence {
+  /** Token ids, one per step (for a model with embedding input). */
   readonly tokens?: Int32Array | readonly number[];
+  /** Numbers, row-major [length, features] (for a model with numeric input). */
   readonly values?: FloatArray | readonly number[];
   /** A class for the whole sequence. */
   readonly label?: number;
@@ -231,14 +279,22 @@ export interface LabelledSequence {
   readonly target?: readonly number[];
 }
 
+/** How a set of independent sequences is batched. */
 export interface SequenceSetOptions {
+  /** Sequences per batch. */
   readonly batchSize: number;
   /** Numbers per step for `values` sequences. */
   readonly features?: number;
+  /** Seed of the shuffle of the batch order each epoch; default 0. */
   readonly seed?: number | string;
+  /** Element type of the batches' tensors; default `f32`. */
   readonly dtype?: DType;
 }
 
+/**
+ * Batches of independent sequences (for classifiers and sequence-to-value models), grouped by similar lengths, padded
+ * and masked, in a batch order shuffled each epoch from the seed.
+ */
 export function sequenceBatches(sequences: readonly LabelledSequence[], options: SequenceSetOptions): DataSource {
   const { batchSize } = options;
   if (!Number.isInteger(batchSize) || batchSize < 1) fail('invalid_option', 'sequences.batchSize', 'a whole number ≥ 1', String(batchSize));

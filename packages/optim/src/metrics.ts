@@ -5,16 +5,25 @@
  */
 import type { FloatArray } from '@weft/core';
 
+/** How well outputs (logits) predict target classes, over the positions with positive weight. */
 export interface ClassificationMetrics {
+  /** Mean cross-entropy in nats. */
   readonly crossEntropy: number;
+  /** e^crossEntropy: the effective number of equally likely choices. */
   readonly perplexity: number;
+  /** Share of positions whose arg-max class is the target, in [0, 1]. */
   readonly accuracy: number;
+  /** Positions counted. */
   readonly count: number;
 }
 
+/** How far output values are from target values, over the positions with positive weight. */
 export interface RegressionMetrics {
+  /** Mean of squared differences. */
   readonly meanSquaredError: number;
+  /** Mean of absolute differences. */
   readonly meanAbsoluteError: number;
+  /** Values counted. */
   readonly count: number;
 }
 

@@ -5,19 +5,27 @@
 import type { FloatArray } from '@weft/core';
 import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
 
+/** Options of RMSProp. */
 export interface RmsPropOptions {
+  /** α, the base learning rate (> 0). */
   readonly rate: number;
   /** ρ, default 0.9. */
   readonly decay?: number;
   /** ε, default 1e-8. */
   readonly epsilon?: number;
+  /** κ: L2 penalty added to the gradient. Default 0. */
   readonly l2Penalty?: number;
 }
 
+/** RMSProp: each step divided by a running root mean square of the gradients. */
 export class RmsPropRule extends UpdateRule {
+  /** Always `rmsprop`. */
   readonly kind = 'rmsprop';
+  /** ρ, the decay of the running mean of squared gradients. */
   readonly decay: number;
+  /** ε, added to the root in the denominator. */
   readonly epsilon: number;
+  /** κ, the L2 penalty added to the gradient. */
   readonly l2Penalty: number;
 
   constructor(options: RmsPropOptions) {

@@ -8,7 +8,9 @@
 import type { FloatArray, KernelTable } from '@weft/core';
 import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
 
+/** Options of stochastic gradient descent. */
 export interface SgdOptions {
+  /** α, the base learning rate (> 0). */
   readonly rate: number;
   /** μ, default 0. */
   readonly momentum?: number;
@@ -20,11 +22,17 @@ export interface SgdOptions {
   readonly decoupledDecay?: number;
 }
 
+/** Stochastic gradient descent with optional momentum (heavy-ball or Nesterov), L2 penalty and decoupled decay. */
 export class SgdRule extends UpdateRule {
+  /** Always `sgd`. */
   readonly kind = 'sgd';
+  /** μ, in [0, 1). */
   readonly momentum: number;
+  /** Whether the look-ahead (Nesterov) form of momentum is used. */
   readonly nesterov: boolean;
+  /** κ, the L2 penalty added to the gradient (κθ). */
   readonly l2Penalty: number;
+  /** λ, the decoupled weight decay. */
   readonly decoupledDecay: number;
 
   constructor(options: SgdOptions) {

@@ -23,14 +23,21 @@ import type { UpdateRule, UpdateRuleState } from './update-rule.js';
 import type { ScheduleDescription } from './schedule.js';
 import { checkSchedule, scheduleFactor } from './schedule.js';
 
+/** What a `Trainer` trains, on what, and how. */
 export interface TrainerOptions {
+  /** The model whose parameters are trained in place. */
   readonly model: SequenceModel;
+  /** The training batches. */
   readonly data: DataSource;
+  /** The update rule (SGD, Adam, RMSProp, Adagrad). */
   readonly optimizer: UpdateRule;
+  /** Passes over `data` (a whole number ≥ 1); the run has epochs × batches-per-epoch steps. */
   readonly epochs: number;
   /** The backend to compute on: by default the one whose memory holds the model's parameters. */
   readonly backend?: Backend;
+  /** Held-out batches for validation, early stopping and keeping the best weights. */
   readonly validation?: DataSource;
+  /** The learning-rate schedule; default constant. */
   readonly schedule?: ScheduleDescription;
   /** Clip the global gradient norm to this (Pascanu et al. 2013). */
   readonly clipNorm?: number;
@@ -45,62 +52,119 @@ export interface TrainerOptions {
    * (default true when there is validation data), so a run that got worse at the end does not keep the worse weights.
    */
   readonly keepBest?: boolean;
+  /** Seed of the trainer's generator (dropout masks); default 0. */
   readonly seed?: number | string;
+  /** Ends `run()` after the current step when aborted (stoppedBy `signal`). */
   readonly signal?: AbortSignal;
+  /** Called after each step, each validation, each skipped update and at the end. */
   readonly onProgress?: (event: TrainingEvent) => void;
   /** Awaited by `run()` after every step (for example to write a checkpoint every N steps). */
   readonly afterStep?: (trainer: Trainer) => void | Promise<void>;
 }
 
+/** What `onProgress` receives. */
 export interface TrainingEvent {
+  /** A step, a validation, an update skipped for a non-finite gradient, or the end of the run. */
   readonly kind: 'step' | 'validation' | 'skipped' | 'finished';
+  /** Steps taken so far. */
   readonly step: number;
+  /** The epoch in progress (from 0). */
   readonly epoch: number;
+  /** Steps in the whole run. */
   readonly totalSteps: number;
+  /** The latest step's training loss. */
   readonly loss: number;
+  /** The global gradient norm of the latest step, before clipping. */
   readonly gradientNorm: number;
+  /** The rate the latest update used (base rate × schedule). */
   readonly learningRate: number;
+  /** Real (unpadded) positions trained per second in this run so far. */
   readonly positionsPerSecond: number;
+  /** Estimated time to the end of the run, from the pace so far. */
   readonly secondsLeft: number;
+  /** For a validation event: the validation loss. */
   readonly validationLoss?: number;
   /** Accuracy for classes, mean absolute error for values. */
   readonly validationMetric?: number;
+  /** Which metric `validationMetric` is. */
   readonly validationMetricName?: 'accuracy' | 'meanAbsoluteError';
+  /** For a skipped update: why (the parameter and offset of the first non-finite entry). */
   readonly reason?: string;
 }
 
+/** The model's figures on a validation source. */
 export interface ValidationResult {
+  /** Mean loss: cross-entropy in nats for classes, mean squared error for values. */
   readonly loss: number;
+  /** Accuracy for classes, mean absolute error for values. */
   readonly metric: number;
+  /** Which metric `metric` is. */
   readonly metricName: 'accuracy' | 'meanAbsoluteError';
   /** e^loss for classes (perplexity), else equal to the loss (mean squared error). */
   readonly perplexity: number;
 }
 
+/** Everything needed to resume a run exactly, as plain data (what a checkpoint stores). */
 export interface TrainingSnapshot {
+  /** Steps taken. */
   readonly step: number;
-  readonly cursor: { readonly epoch: number; readonly index: number };
+  /** Where the data stands: the next batch to train on. */
+  readonly cursor: {
+    /** The epoch of the next batch. */
+    readonly epoch: number;
+    /** The index of the next batch within its epoch. */
+    readonly index: number;
+  };
+  /** The parameters' values, by name. */
   readonly parameters: Readonly<Record<string, readonly number[]>>;
+  /** The update rule's state (moments, velocities, update count). */
   readonly optimizer: UpdateRuleState;
+  /** The trainer's generator's state. */
   readonly random: RandomState;
+  /** The state carried into the next window of a stream, slot by slot; null when none. */
   readonly carried: readonly (readonly number[])[] | null;
-  readonly best: { readonly loss: number; readonly step: number; readonly parameters: Readonly<Record<string, readonly number[]>> | null; readonly stale: number };
+  /** The best validation so far, for early stopping and keeping the best weights. */
+  readonly best: {
+    /** The best validation loss so far (Infinity before the first validation). */
+    readonly loss: number;
+    /** The step of that validation (−1 before the first). */
+    readonly step: number;
+    /** The parameters at that validation, by name; null when none were kept. */
+    readonly parameters: Readonly<Record<string, readonly number[]>> | null;
+    /** Validations since the best one (the early-stopping count). */
+    readonly stale: number;
+  };
+  /** Updates skipped so far for non-finite gradients. */
   readonly skipped: number;
 }
 
+/** How a `run()` ended. */
 export interface TrainingSummary {
+  /** Steps taken in all. */
   readonly steps: number;
+  /** Why it ended: every epoch done, patience out (early stopping), or the abort signal. */
   readonly stoppedBy: 'epochs' | 'patience' | 'signal';
+  /** The last step's training loss. */
   readonly lastLoss: number;
+  /** The best validation's figures; null without validation data. */
   readonly bestValidation: ValidationResult | null;
   /** The step whose weights the model holds after the run: the best validation's when they were put back. */
   readonly keptStep: number;
+  /** Updates skipped for non-finite gradients. */
   readonly skippedUpdates: number;
 }
 
+/**
+ * Trains a sequence model: truncated backpropagation through time over streams (state carried between windows, with an
+ * optional lookback) or padded sequence batches; clipping, schedules, validation, early stopping, progress and exact
+ * snapshots.
+ */
 export class Trainer {
+  /** The model being trained. */
   readonly model: SequenceModel;
+  /** The backend every step computes on: the one holding the model's parameters unless given. */
   readonly backend: Backend;
+  /** The trainer's own buffer pool on that backend (its tape's buffers). */
   readonly pool: BufferPool;
   private readonly options: TrainerOptions;
   private readonly tape: Tape;
@@ -148,14 +212,17 @@ export class Trainer {
     this.random = new Random(options.seed ?? 0);
   }
 
+  /** Steps in the whole run: epochs × batches per epoch. */
   get totalSteps(): number {
     return this.options.epochs * this.options.data.batchesPerEpoch;
   }
 
+  /** Steps taken so far (resumed runs included). */
   get stepsTaken(): number {
     return this.stepCount;
   }
 
+  /** True once every epoch is done. */
   get finished(): boolean {
     return this.epoch >= this.options.epochs;
   }
@@ -343,6 +410,7 @@ export class Trainer {
     this.carried = null;
   }
 
+  /** The run's whole state as plain data, for a checkpoint; `restore` continues bit-identically. */
   snapshot(): TrainingSnapshot {
     const named = (buffers: readonly FloatArray[]): Record<string, number[]> => {
       const out = Object.create(null) as Record<string, number[]>;
@@ -363,6 +431,7 @@ export class Trainer {
     };
   }
 
+  /** Continues from a snapshot of a run with the same model, data and options. */
   restore(snapshot: TrainingSnapshot): void {
     const names = this.model.parameters().map((p) => p.name);
     const load = (from: Readonly<Record<string, readonly number[]>>, into: readonly FloatArray[], where: string): void => {

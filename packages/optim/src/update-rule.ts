@@ -10,7 +10,9 @@
 import { WeftError, backendOf, fail, formatShape } from '@weft/core';
 import type { FloatArray, KernelTable, Tensor } from '@weft/core';
 
+/** An update rule's state as plain data, for checkpoints: exact as JSON numbers. */
 export interface UpdateRuleState {
+  /** The rule's kind (`sgd`, `adam`, `rmsprop`, `adagrad`); `restore` refuses another kind's state. */
   readonly kind: string;
   /** Updates taken so far (Adam's t). */
   readonly steps: number;
@@ -35,10 +37,16 @@ function shown(value: unknown): string {
   return typeof value === 'number' ? String(value) : (JSON.stringify(value) ?? String(value));
 }
 
+/**
+ * An optimiser: updates parameters in place from their gradients, keeping per-parameter slots (moments, velocities) it
+ * can save and restore exactly.
+ */
 export abstract class UpdateRule {
+  /** The rule's kind, as saved in its state. */
   abstract readonly kind: string;
   /** The base learning rate α. */
   readonly rate: number;
+  /** Updates taken so far (Adam's t). */
   protected steps = 0;
   private readonly slotNames: readonly string[];
   private slots: Map<string, FloatArray[]> | null = null;
@@ -73,6 +81,7 @@ export abstract class UpdateRule {
   /** Updates one parameter's values in place, with the kernels of the backend that holds them. */
   protected abstract apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number, kernels: KernelTable): void;
 
+  /** The rule's state as plain data (slots copied), for a checkpoint. */
   state(): UpdateRuleState {
     const slots: Record<string, number[][]> = {};
     for (const name of this.slotNames) slots[name] = (this.slots?.get(name) ?? []).map((buffer) => Array.from(buffer));

@@ -16,10 +16,17 @@ import type { FloatArray } from '../dtype.js';
 import type { BufferPool } from '../pool.js';
 import type { KernelTable } from './kernel-table.js';
 
+/** The backends weft has, by name. */
 export type BackendName = 'javascript' | 'webassembly';
 
+/**
+ * Kernels and the memory they compute in: every operation, cell, update rule, trainer and runtime reaches kernels
+ * through one.
+ */
 export interface Backend {
+  /** Which backend this is. */
   readonly name: BackendName;
+  /** The backend's kernel table, one function per kernel name. */
   readonly kernels: KernelTable;
   /** Where this backend's tensors get their buffers. */
   readonly pool: BufferPool;

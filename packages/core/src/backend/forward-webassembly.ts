@@ -15,6 +15,7 @@ import { runtimeModuleBase64 } from './wasm-runtime.generated.js';
 
 type Kernel = (...args: number[]) => void;
 
+/** Options of the runtime's WebAssembly SIMD backend. */
 export interface ForwardWebAssemblyOptions {
   /** Bytes to reserve for weights, stream state and scratch (default: 16 MiB plus four times `weightBytes`). */
   readonly memoryBytes?: number;
@@ -29,6 +30,10 @@ export function forwardWebAssemblyUnavailable(): string | null {
   return moduleUnavailable(runtimeModuleBase64);
 }
 
+/**
+ * Makes the runtime's WebAssembly SIMD forward backend with a memory of its own; throws a `WeftError` where SIMD
+ * modules cannot run.
+ */
 export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}): ForwardBackend {
   compiled ??= compileModule(runtimeModuleBase64);
   const bytes = checkReservation(options.memoryBytes ?? 16 * 1048576 + 4 * (options.weightBytes ?? 0), 'runtime.memoryBytes');

@@ -12,16 +12,23 @@ import type { BackendName } from './backend.js';
  * (`input`, `recurrent`, `candidateWeights`, the readout's `weights`) are the backend's `matrix(...)` arrays.
  */
 export interface ForwardKernels {
+  /** The readout: rows × weights + bias. */
   readonly affineRows: typeof affineRows;
+  /** One LSTM step for every stream of a layer. */
   readonly lstmLayerStep: typeof lstmLayerStep;
+  /** One GRU step for every stream of a layer. */
   readonly gruLayerStep: typeof gruLayerStep;
+  /** One plain-cell step for every stream of a layer. */
   readonly plainLayerStep: typeof plainLayerStep;
 }
 
 export type ForwardKernelName = keyof ForwardKernels;
 
+/** The backend of the inference runtime: forward kernels only, over f32 arrays in its own memory. */
 export interface ForwardBackend {
+  /** Which backend this is. */
   readonly name: BackendName;
+  /** Its forward kernels. */
   readonly kernels: ForwardKernels;
   /** An f32 array in this backend's memory, zeroed. */
   floats(length: number): Float32Array;
@@ -32,9 +39,11 @@ export interface ForwardBackend {
   matrix(values: ArrayLike<number>, rows: number, cols: number): Float32Array;
   /** Gives back an array made by `floats` that nothing uses any more. */
   release(array: Float32Array): void;
+  /** A line for messages and `weft inspect`: the backend and its memory. */
   describe(): string;
 }
 
+/** The runtime's JavaScript forward backend (no WebAssembly; ordinary typed arrays). */
 export const javascriptForward: ForwardBackend = Object.freeze({
   name: 'javascript' as const,
   kernels: Object.freeze({ affineRows, lstmLayerStep, gruLayerStep, plainLayerStep }),

@@ -5,6 +5,7 @@ import type { Backend } from './backend.js';
 import { memoryOwner } from './backend.js';
 import { javascriptKernels } from './kernel-table.js';
 
+/** The JavaScript backend: the kernels of `@weft/core/kernels` over ordinary typed arrays, f32 and f64. */
 export const javascriptBackend: Backend = Object.freeze({
   name: 'javascript' as const,
   kernels: javascriptKernels,

@@ -25,6 +25,7 @@ export const KERNEL_NAMES = [
   'adamUpdate', 'sgdUpdate',
 ] as const;
 
+/** The name of a kernel in every backend's table. */
 export type KernelName = (typeof KERNEL_NAMES)[number];
 
 /** One function per name, with the JavaScript kernel's signature. */

@@ -30,6 +30,7 @@ interface TrainingExports {
   readonly [name: string]: Kernel;
 }
 
+/** Options of a WebAssembly SIMD backend. */
 export interface WebAssemblyBackendOptions {
   /** Bytes of WebAssembly memory to reserve for tensors and scratch (default 256 MiB; address space, see memory.ts). */
   readonly memoryBytes?: number;
@@ -44,6 +45,10 @@ export function webAssemblyUnavailable(): string | null {
   return moduleUnavailable(trainingModuleBase64);
 }
 
+/**
+ * Makes a WebAssembly SIMD backend with a memory of its own, reserved now and never grown; throws a `WeftError` where
+ * SIMD modules cannot run (see `webAssemblyUnavailable`).
+ */
 export function createWebAssemblyBackend(options: WebAssemblyBackendOptions = {}): Backend {
   const bytes = checkReservation(options.memoryBytes ?? DEFAULT_MEMORY_BYTES, 'webassembly backend.memoryBytes');
   compiled ??= compileModule(trainingModuleBase64);

@@ -15,11 +15,13 @@ export function sigmoid(out: FloatArray, a: FloatArray, length: number): FloatAr
   return out;
 }
 
+/** out[i] = tanh(a[i]) for the first `length` elements; `out` may alias `a`. */
 export function tanh(out: FloatArray, a: FloatArray, length: number): FloatArray {
   for (let i = 0; i < length; i++) out[i] = Math.tanh(a[i]);
   return out;
 }
 
+/** out[i] = max(0, a[i]); `out` may alias `a`. */
 export function relu(out: FloatArray, a: FloatArray, length: number): FloatArray {
   for (let i = 0; i < length; i++) {
     const x = a[i];
@@ -28,11 +30,13 @@ export function relu(out: FloatArray, a: FloatArray, length: number): FloatArray
   return out;
 }
 
+/** out[i] = e^a[i]; `out` may alias `a`. */
 export function exp(out: FloatArray, a: FloatArray, length: number): FloatArray {
   for (let i = 0; i < length; i++) out[i] = Math.exp(a[i]);
   return out;
 }
 
+/** out[i] = ln a[i]; `out` may alias `a`. */
 export function log(out: FloatArray, a: FloatArray, length: number): FloatArray {
   for (let i = 0; i < length; i++) out[i] = Math.log(a[i]);
   return out;

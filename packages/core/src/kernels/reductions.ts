@@ -1,18 +1,21 @@
 /** Reductions over the first `length` elements; each returns a number and writes nothing. */
 import type { FloatArray } from '../dtype.js';
 
+/** Σ a[i], summed in index order. */
 export function sum(a: FloatArray, length: number): number {
   let s = 0;
   for (let i = 0; i < length; i++) s += a[i];
   return s;
 }
 
+/** Σ a[i]·b[i], summed in index order. */
 export function dot(a: FloatArray, b: FloatArray, length: number): number {
   let s = 0;
   for (let i = 0; i < length; i++) s += a[i] * b[i];
   return s;
 }
 
+/** Σ a[i]², summed in index order. */
 export function sumOfSquares(a: FloatArray, length: number): number {
   let s = 0;
   for (let i = 0; i < length; i++) s += a[i] * a[i];

@@ -8,6 +8,10 @@
  */
 import type { FloatArray } from '../dtype.js';
 
+/**
+ * Writes each row's loss into `losses` and its softmax probabilities into `probabilities` (see above); returns
+ * `losses`.
+ */
 export function crossEntropyRows(
   losses: FloatArray,
   probabilities: FloatArray,

@@ -36,16 +36,19 @@ export const sigmoid = unary('sigmoid', (node, tape) => {
   tape.kernels.sigmoidGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
 });
 
+/** The hyperbolic tangent, element by element. */
 export const tanh = unary('tanh', (node, tape) => {
   const y = output(node);
   tape.kernels.tanhGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
 });
 
+/** max(0, x), element by element (gradient 0 at 0). */
 export const relu = unary('relu', (node, tape) => {
   const y = output(node);
   tape.kernels.reluGradientInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);
 });
 
+/** e^x, element by element. */
 export const exp = unary('exp', (node, tape) => {
   const y = output(node);
   tape.kernels.multiplyInto(tape.gradientOf(input(node)), y.gradient!, y.data, y.size);

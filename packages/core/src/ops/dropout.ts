@@ -18,6 +18,7 @@ const kind: OperationKind = {
   },
 };
 
+/** Inverted dropout of `a` at `rate`, the mask drawn from `random` (see above); rate 0 passes `a` through. */
 export function dropout(tape: Tape, a: Tensor, rate: number, random: Random): Tensor {
   if (!(rate >= 0 && rate < 1)) fail('invalid_option', 'dropout.rate', 'a number in [0, 1)', String(rate));
   requireBackend(tape, 'dropout', 'a', a);

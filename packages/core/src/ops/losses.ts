@@ -35,6 +35,7 @@ const crossEntropyKind: OperationKind = {
   },
 };
 
+/** Options of `crossEntropyAtTargets`. */
 export interface CrossEntropyOptions {
   /** One non-negative weight per row (0 masks the row out). The loss is Σ w_r·loss_r / Σ w_r. */
   readonly weights?: FloatArray | readonly number[];
@@ -116,6 +117,7 @@ const squaredErrorKind: OperationKind = {
   },
 };
 
+/** Options of `meanSquaredError`. */
 export interface SquaredErrorOptions {
   /**
    * One non-negative weight per row (rows = all but the last axis; 0 masks a padded position). The loss is

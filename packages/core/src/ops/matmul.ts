@@ -8,6 +8,7 @@ import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { requireBackend, requireRank, requireSameDType } from './checks.js';
 
+/** Which operands of `matmul` are read transposed. */
 export interface MatmulOptions {
   /** Use Aᵀ: A is stored [inner, rows]. */
   readonly transposeA?: boolean;
@@ -49,6 +50,10 @@ const kind: OperationKind = {
   },
 };
 
+/**
+ * The matrix product op(A) · op(B) of two 2-D tensors, recorded on the tape: [rows, inner] · [inner, cols] → [rows,
+ * cols].
+ */
 export function matmul(tape: Tape, a: Tensor, b: Tensor, options: MatmulOptions = {}): Tensor {
   const transposeA = options.transposeA === true;
   const transposeB = options.transposeB === true;

@@ -14,6 +14,7 @@ const kind: OperationKind = {
   },
 };
 
+/** The same values under another shape of the same size (the data is shared, not copied). */
 export function reshape(tape: Tape, a: Tensor, shape: readonly number[]): Tensor {
   const size = sizeOfShape(shape, 'reshape.shape');
   if (size !== a.size) {

@@ -13,6 +13,7 @@ import { WeftError } from '@weft/core';
 import { ForecastErrorSum } from './scores.js';
 import type { ForecastErrors } from './scores.js';
 
+/** A series cut for scoring: which rows fit the baselines and which positions are scored. */
 export interface SeriesSplit {
   /** The series in real units, one row per time step, one number per input column. */
   readonly values: readonly (readonly number[])[];
@@ -26,6 +27,7 @@ export interface SeriesSplit {
   readonly positions: readonly number[];
 }
 
+/** One baseline's held-out errors. */
 export interface BaselineScore {
   /** A short name: persistence, training mean, seasonal naive, linear. */
   readonly name: string;
@@ -41,7 +43,7 @@ export interface BaselineScore {
 export type Forecaster = (t: number, k: number) => number;
 
 /** Scores a forecaster on the split's positions, per target and overall. */
-export function scoreForecaster(split: SeriesSplit, forecast: Forecaster): { perTarget: ForecastErrors[]; overall: ForecastErrors } {
+export function scoreForecaster(split: SeriesSplit, forecast: Forecaster): Pick<BaselineScore, 'perTarget' | 'overall'> {
   const sums = split.targets.map(() => new ForecastErrorSum());
   const all = new ForecastErrorSum();
   for (const t of split.positions) {
@@ -143,6 +145,7 @@ export function solve(a: readonly (readonly number[])[], b: readonly number[]): 
   return w;
 }
 
+/** Options of `forecastBaselines`. */
 export interface BaselineOptions {
   /** Rows in a season, or null for none; undefined detects one from the first target's training rows. */
   readonly season?: number | null;

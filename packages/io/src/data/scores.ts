@@ -9,8 +9,11 @@
  * their example).
  */
 
+/** How far forecasts were from what happened. */
 export interface ForecastErrors {
+  /** Mean absolute error, in the data's units. */
   readonly mae: number;
+  /** Root mean squared error, in the data's units. */
   readonly rmse: number;
   /** Percent; null when every actual value is 0. */
   readonly mape: number | null;
@@ -26,6 +29,7 @@ export class ForecastErrorSum {
   private percentCount = 0;
   private n = 0;
 
+  /** Adds one position: what happened and what was forecast. */
   add(actual: number, forecast: number): void {
     const e = actual - forecast;
     this.absolute += Math.abs(e);
@@ -37,6 +41,7 @@ export class ForecastErrorSum {
     this.n++;
   }
 
+  /** The errors over the positions added so far (NaN when there are none). */
   result(): ForecastErrors {
     const n = this.n;
     return {
@@ -55,9 +60,13 @@ export function forecastErrors(actual: ArrayLike<number>, forecast: ArrayLike<nu
   return sum.result();
 }
 
+/** One class's scores. */
 export interface ClassScores {
+  /** Of the examples predicted as this class, the share that truly are (0 when never predicted). */
   readonly precision: number;
+  /** Of the examples that truly are this class, the share predicted as it. */
   readonly recall: number;
+  /** The harmonic mean of precision and recall. */
   readonly f1: number;
   /** How many examples truly have the class. */
   readonly support: number;
@@ -65,12 +74,17 @@ export interface ClassScores {
   readonly predicted: number;
 }
 
+/** A classifier's scores on labelled examples. */
 export interface ClassificationReport {
+  /** Share of examples whose predicted class is the true one. */
   readonly accuracy: number;
+  /** The unweighted mean of the classes' F1 scores (each class counts alike, whatever its size). */
   readonly macroF1: number;
+  /** Scores per class, by class index. */
   readonly perClass: readonly ClassScores[];
   /** confusion[actual][predicted]: counts. */
   readonly confusion: readonly (readonly number[])[];
+  /** Examples scored. */
   readonly count: number;
   /** Classes never predicted (indexes), so a report can say so. */
   readonly neverPredicted: readonly number[];

@@ -11,17 +11,26 @@ import { columnNamed, decimal, fieldPath, numberAt } from './table.js';
 import type { Table } from './table.js';
 import { UNKNOWN_TOKEN } from '../translate.js';
 
+/** Which columns of a table `readSeries` reads and forecasts. */
 export interface SeriesOptions {
   /** The columns to read, by name (default: every column of numbers). */
   readonly columns?: readonly string[];
   /** The columns to forecast, by name, among those read (default: all of them). */
   readonly targets?: readonly string[];
   /** How errors name the two choices (default "a column to read", "a column to forecast"; a command names its flags). */
-  readonly choices?: { readonly columns: string; readonly targets: string };
+  readonly choices?: {
+    /** How an error names a column to read. */
+    readonly columns: string;
+    /** How an error names a column to forecast. */
+    readonly targets: string;
+  };
 }
 
+/** A table's numeric columns as a series, one row per time step. */
 export interface Series {
+  /** The columns read, in table order. */
   readonly columns: readonly string[];
+  /** The columns to forecast, among those read. */
   readonly targets: readonly string[];
   /** One row per table row, one number per column read. */
   readonly values: readonly (readonly number[])[];
@@ -29,6 +38,7 @@ export interface Series {
   readonly leftOut: readonly string[];
 }
 
+/** Reads numeric columns of a table as a series, with `file:line:column` errors for any field that is not a number. */
 export function readSeries(table: Table, options: SeriesOptions = {}): Series {
   const numeric: number[] = [];
   const leftOut: string[] = [];

@@ -13,6 +13,7 @@ import { WeftError } from '@weft/core';
 import { columnNamed, decimal, fieldPath, numberAt } from './table.js';
 import type { Table } from './table.js';
 
+/** How `readStepTable` reads a long table (one row per step of a sequence). */
 export interface StepTableOptions {
   /** The column naming each row's sequence. */
   readonly idColumn: string;
@@ -24,7 +25,9 @@ export interface StepTableOptions {
   readonly columns?: readonly string[];
 }
 
+/** One sequence of a long table. */
 export interface StepSequence {
+  /** Its id, as written in the id column. */
   readonly id: string;
   /** The line of the sequence's first row. */
   readonly line: number;
@@ -34,7 +37,9 @@ export interface StepSequence {
   readonly steps: readonly (readonly number[])[];
 }
 
+/** The sequences of a long table, in the order their first rows appear. */
 export interface StepTable {
+  /** The sequences. */
   readonly sequences: readonly StepSequence[];
   /** The value columns read. */
   readonly columns: readonly string[];

@@ -7,8 +7,10 @@
  */
 import { WeftError } from '@weft/core';
 
+/** The field separators a table may use: comma, tab or semicolon. */
 export type Delimiter = ',' | '\t' | ';';
 
+/** One record of a table, with where each field was found. */
 export interface TableRow {
   /** The fields as written (quotes removed). */
   readonly fields: readonly string[];
@@ -18,15 +20,19 @@ export interface TableRow {
   readonly starts: readonly number[];
 }
 
+/** A delimited text table: its header and its records, with positions for errors. */
 export interface Table {
   /** The name errors use for the text (a path, `<stdin>`, …). */
   readonly file: string;
+  /** The separator used (given, or detected from the header line). */
   readonly delimiter: Delimiter;
   /** Column names, trimmed. */
   readonly header: readonly string[];
+  /** The records after the header (blank lines skipped). */
   readonly rows: readonly TableRow[];
 }
 
+/** How `parseTable` reads a text. */
 export interface TableOptions {
   /** The name errors use (default `<text>`); a name ending in `.tsv` means tab-separated unless `delimiter` says. */
   readonly file?: string;
@@ -193,7 +199,12 @@ export function columnNamed(table: Table, name: string, purpose: string): number
  * the column's largest magnitude so that neither the sums nor the squares overflow, whatever the data's size.
  * A constant column gets deviation 1 (so normalising it gives zeros, not NaN).
  */
-export function columnStatistics(values: readonly (readonly number[])[], columns: number): { mean: number[]; deviation: number[] } {
+export function columnStatistics(values: readonly (readonly number[])[], columns: number): {
+  /** Each column's mean. */
+  mean: number[];
+  /** Each column's standard deviation. */
+  deviation: number[];
+} {
   const mean: number[] = [];
   const deviation: number[] = [];
   for (let j = 0; j < columns; j++) {

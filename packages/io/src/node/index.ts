@@ -79,6 +79,7 @@ export function readText(path: string): string {
   }
 }
 
+/** Writes a model's weight file to `path` atomically (a temporary file, then a rename). */
 export async function saveWeightFile(path: string, model: SequenceModel, options: WriteOptions = {}): Promise<void> {
   writeFileAtomic(path, await writeWeightFile(model.description, modelTensors(model), options));
 }
@@ -88,14 +89,17 @@ export async function loadWeightFile(path: string, options: ReadOptions = {}): P
   return prefixed(path, async () => checkMetadata(await readWeightFile(readText(path), options)));
 }
 
+/** Reads a weight file from `path` and builds its model. */
 export async function loadModelFile(path: string, options: ReadOptions = {}): Promise<SequenceModel> {
   return loadModel(await loadWeightFile(path, options));
 }
 
+/** Writes a trainer's checkpoint to `path` atomically. */
 export async function saveCheckpoint(path: string, trainer: Trainer, model: SequenceModel, metadata: WeightMetadata = {}): Promise<void> {
   writeFileAtomic(path, await writeCheckpoint(trainer, model, metadata));
 }
 
+/** Reads and checks a checkpoint from `path`; errors name the file. */
 export async function loadCheckpoint(path: string, options: ReadOptions = {}): Promise<Checkpoint> {
   return prefixed(path, async () => {
     const checkpoint = await readCheckpoint(readText(path), options);

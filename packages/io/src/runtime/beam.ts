@@ -14,6 +14,7 @@ import { readWeightFile } from '../weight-file.js';
 import { Runtime } from './runtime.js';
 import type { RuntimeOptions, Streams } from './runtime.js';
 
+/** How beam search decodes. */
 export interface BeamOptions {
   /** How many partial outputs to keep (1 is greedy decoding). Default 4. */
   readonly width?: number;
@@ -27,6 +28,7 @@ export interface BeamOptions {
   readonly lengthPenalty?: number;
 }
 
+/** One decoded output. */
 export interface BeamResult {
   /** Output tokens, without the start token; with the end token when it finished. */
   readonly tokens: number[];
@@ -34,6 +36,7 @@ export interface BeamResult {
   readonly logProbability: number;
   /** log P / length^α, the ranking score. */
   readonly score: number;
+  /** True when it ended with the end token (false when it reached `maxLength`). */
   readonly finished: boolean;
 }
 
@@ -46,9 +49,16 @@ function part(file: WeightFile, side: 'encoder' | 'decoder', description: Encode
   };
 }
 
+/**
+ * The runtime of an encoder-decoder: the encoder runs over a source, then the decoder decodes greedily, by sampling, or
+ * by beam search.
+ */
 export class EncoderDecoderRuntime {
+  /** The model description from the weight file. */
   readonly description: EncoderDecoderDescription;
+  /** The encoder's runtime. */
   readonly encoder: Runtime;
+  /** The decoder's runtime. */
   readonly decoder: Runtime;
 
   constructor(file: WeightFile, backend?: ForwardBackend) {
@@ -165,6 +175,7 @@ function gatherRows(state: Float32Array, widths: readonly number[], rows: number
   return out;
 }
 
+/** An encoder-decoder runtime from weight-file text (read and checked) or from a file already read. */
 export async function createEncoderDecoderRuntime(source: string | WeightFile, options: RuntimeOptions = {}): Promise<EncoderDecoderRuntime> {
   return new EncoderDecoderRuntime(typeof source === 'string' ? await readWeightFile(source, options) : source, options.backend);
 }

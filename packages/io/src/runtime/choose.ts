@@ -8,6 +8,7 @@ import type { ForwardBackend } from '@weft/core/forward';
 import { createForwardWebAssembly, forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
 import { setForwardChooser } from './forward-default.js';
 
+/** Where a runtime runs: a backend by name, or a forward backend you made. */
 export type RuntimeBackendChoice = 'javascript' | 'webassembly' | ForwardBackend;
 
 /** The forward backend for a choice, sized for `weightBytes` of weights. */

@@ -7,6 +7,7 @@ import type { RuntimeBackendChoice } from './choose.js';
 import { forwardBackend } from './choose.js';
 import { Runtime } from './runtime.js';
 
+/** How `createRuntime` reads the file and which forward backend it makes. */
 export interface RuntimeChoiceOptions extends ReadOptions {
   /** `webassembly`, `javascript`, or a forward backend; default WebAssembly where the platform runs SIMD. */
   readonly backend?: RuntimeBackendChoice;

@@ -7,6 +7,7 @@ import type { Runtime } from './runtime.js';
 import type { SamplingOptions, UniformSource } from './sampling.js';
 import { greedy, sample } from './sampling.js';
 
+/** How `generateTokens` generates. */
 export interface GenerateOptions extends SamplingOptions {
   /** Token ids to start from (at least one). */
   readonly prefix: readonly number[];
@@ -18,6 +19,10 @@ export interface GenerateOptions extends SamplingOptions {
   readonly endToken?: number;
 }
 
+/**
+ * Feeds the prefix through a token model, then generates `length` tokens (greedy, or sampled with `random`), stopping
+ * early at `endToken`; returns the generated ids.
+ */
 export function generateTokens(runtime: Runtime, options: GenerateOptions): number[] {
   if (runtime.vocabularySize === 0) fail('invalid_argument', 'generateTokens', 'a model over token ids', 'a model over numbers');
   if (options.prefix.length === 0) fail('invalid_argument', 'generateTokens.prefix', 'at least one token id', 'none');

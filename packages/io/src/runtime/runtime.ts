@@ -28,15 +28,25 @@ interface RuntimeLayer {
 }
 
 /** Counts the arrays the runtime creates, so tests can prove the steady state creates none. */
-export const runtimeCounts = { arrays: 0 };
+export const runtimeCounts: {
+  /** Arrays the runtime has made since the program started (or since a test reset it). */
+  arrays: number;
+} = { arrays: 0 };
 
+/**
+ * The inference runtime of one sequence model: its weights copied once into the forward backend's memory, then streams
+ * and whole sequences run with no allocation per step.
+ */
 export class Runtime {
+  /** The model description from the weight file. */
   readonly model: ModelDescription;
+  /** The weight file's metadata (vocabulary, normalisation, classes, …). */
   readonly metadata: WeightMetadata;
   /** Numbers per step for a values model; 0 for a token model. */
   readonly inputWidth: number;
   /** Token ids accepted, for a token model; 0 otherwise. */
   readonly vocabularySize: number;
+  /** Numbers each step outputs (logits for a token model or classifier, values for a forecaster). */
   readonly outputWidth: number;
   /** True when every layer runs forward in time only, so streaming works. */
   readonly streamable: boolean;
@@ -247,6 +257,7 @@ function reverseWithin(x: Float32Array, steps: number, batch: number, width: num
 
 /** Several independent streams stepped together; see Runtime. */
 export class Streams {
+  /** How many streams step together. */
   readonly count: number;
   private readonly runtime: Runtime;
   private readonly buffers: LayerBuffers[];
@@ -326,6 +337,9 @@ export class Streams {
     this.runtime.backend.release(this.output);
   }
 
+  /**
+   * Puts back every layer's state from `state` (the layout `readState` gives), to continue streams from a saved point.
+   */
   restoreState(state: Float32Array): void {
     const total = this.buffers.reduce((n, l) => n + l.state.reduce((m, s) => m + s.length, 0), 0);
     if (state.length !== total) fail('shape_mismatch', 'Streams.restoreState', `${total} numbers`, `${state.length}`);
@@ -339,6 +353,7 @@ export class Streams {
   }
 }
 
+/** How `createRuntime` reads the file and where it runs. */
 export interface RuntimeOptions extends ReadOptions {
   /** The forward backend to run on (default: see the Runtime constructor). */
   readonly backend?: ForwardBackend;

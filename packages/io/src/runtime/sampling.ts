@@ -6,10 +6,13 @@
  */
 import { fail } from '@weft/core';
 
+/** Anything that draws uniform numbers in [0, 1), such as core's seeded `Random`. */
 export interface UniformSource {
+  /** The next uniform number in [0, 1). */
   uniform(): number;
 }
 
+/** How `sample` chooses a token. */
 export interface SamplingOptions {
   /** Divides the logits; below 1 sharpens, above 1 flattens. Default 1. */
   readonly temperature?: number;
@@ -24,6 +27,10 @@ export function greedy(logits: ArrayLike<number>, offset: number, width: number)
   return best;
 }
 
+/**
+ * Draws a token index from softmax(row / temperature), among the `topK` largest logits when given; allocation-free with
+ * a `scratch` of the row's width.
+ */
 export function sample(logits: ArrayLike<number>, offset: number, width: number, random: UniformSource, options: SamplingOptions = {}, scratch?: Float64Array): number {
   const temperature = options.temperature ?? 1;
   const topK = options.topK ?? 0;
