@@ -34,7 +34,11 @@ const project = join(folder, 'project');
 let nodeResult: { missing: number; backend: string; steps: number; firstLoss: number; lastLoss: number; lastLossBits: string; digestVerified: boolean; forecasts: number[][]; refused: string; savedVerified: boolean; text: string };
 
 function run(command: string, args: string[], cwd: string): { status: number | null; stdout: string; stderr: string } {
-  const result = spawnSync(command, args, { cwd, encoding: 'utf8', env: { ...process.env, NODE_OPTIONS: '' } });
+  // The consumer runs on the default backend whatever this suite's WEFT_BACKEND, as the page does, so the two
+  // runs compare like with like.
+  const env: NodeJS.ProcessEnv = { ...process.env, NODE_OPTIONS: '' };
+  delete env.WEFT_BACKEND;
+  const result = spawnSync(command, args, { cwd, encoding: 'utf8', env });
   return { status: result.status, stdout: result.stdout, stderr: result.stderr };
 }
 
