@@ -46,7 +46,7 @@ function setup(shape: Shape): { model: SequenceModel; trainer: Trainer; optimize
   // The same batch every step, so the bench measures the step, not data preparation.
   const data: DataSource = { batchesPerEpoch: 1_000_000, carriesState: false, batch: () => batch };
   const optimizer = new AdamRule({ rate: 1e-4 });
-  const trainer = new Trainer({ model, data, optimizer, epochs: 1, clipNorm: 1 });
+  const trainer = new Trainer({ model, data, optimizer, epochs: 1, gradientNormLimit: 1 });
   return { model, trainer, optimizer };
 }
 

@@ -37,7 +37,7 @@ describe('forecasting an open dataset (Mauna Loa CO₂ via vega-datasets)', () =
       data: streamBatches({ kind: 'values', values: normalised.slice(0, trainCount), features: 1 }, { streams: 4, window: 24 }),
       optimizer: new AdamRule({ rate: 0.01 }),
       epochs: 60,
-      clipNorm: 1,
+      gradientNormLimit: 1,
     });
     while (!trainer.finished) trainer.step();
     // One pass over the whole series: the output at change t forecasts change t + 1.

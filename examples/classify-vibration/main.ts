@@ -40,7 +40,7 @@ export async function classifyVibration(): Promise<{ accuracy: number; majority:
     validation: sequenceBatches(test, { batchSize: 100 }),
     optimizer: new AdamRule({ rate: 0.01 }),
     epochs: smallBudget() ? 6 : 12,
-    clipNorm: 1,
+    gradientNormLimit: 1,
   });
   await trainer.run();
   const { metric: accuracy } = trainer.validate();

@@ -35,7 +35,7 @@ export async function customCell(): Promise<{ gradientsPass: boolean; accuracy: 
     validation: sequenceBatches(bursts(300, 'pumps-test'), { batchSize: 100 }),
     optimizer: new AdamRule({ rate: 0.01 }),
     epochs: smallBudget() ? 6 : 12,
-    clipNorm: 1,
+    gradientNormLimit: 1,
   });
   await trainer.run();
   const accuracy = trainer.validate().metric;

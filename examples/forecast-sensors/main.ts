@@ -41,7 +41,7 @@ export async function forecastSensors(): Promise<{ model: number; seasonalNaive:
     data: streamBatches({ kind: 'values', values: normalised.slice(0, trainRows).flat(), features: 4 }, { streams: 4, window: 32 }),
     optimizer: new AdamRule({ rate: 0.01 }),
     epochs: smallBudget() ? 8 : 25,
-    clipNorm: 1,
+    gradientNormLimit: 1,
   });
   while (!trainer.finished) trainer.step();
   // One pass over all readings; the output at reading t forecasts reading t + 1.

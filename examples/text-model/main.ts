@@ -25,7 +25,7 @@ export async function textModel(): Promise<{ perplexity: number; unigram: number
     validation: streamBatches({ kind: 'tokens', tokens: ids.slice(split), vocabulary: symbols.length }, { window: 48 }),
     optimizer: new AdamRule({ rate: 0.01 }),
     epochs: smallBudget() ? 15 : 40,
-    clipNorm: 1,
+    gradientNormLimit: 1,
     // The story is short: stop when the held-out text stops improving and keep the best weights.
     validateEvery: 10,
     patience: 4,

@@ -60,7 +60,7 @@ const platformBackend = defaultBackend();
 export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEvent) => void, signal?: AbortSignal): Prepared {
   // Everything below (the model, the batches, the trainer's buffers) is made on this backend.
   setDefaultBackend(config.backend ?? platformBackend);
-  const common = { optimizer: new AdamRule({ rate: config.rate }), epochs: config.epochs, clipNorm: 1, seed: config.seed, onProgress, signal };
+  const common = { optimizer: new AdamRule({ rate: config.rate }), epochs: config.epochs, gradientNormLimit: 1, seed: config.seed, onProgress, signal };
   if (config.kind === 'text') {
     // The vocabulary as weft train makes it: the unknown token first, then every character of the text.
     const symbols = buildVocabulary(config.data);

@@ -1,6 +1,6 @@
 /**
- * Showing training progress: on a terminal, one line redrawn in place (a bar, loss, validation, tokens per
- * second, time left); elsewhere (a pipe, a log file, CI), a plain line at each validation and every tenth of the
+ * Showing training progress: on a terminal, one line redrawn in place (percent done, step, epoch, loss, the
+ * latest validation, positions per second, time to go); elsewhere (a pipe, a log file, CI), a plain line at each validation and every tenth of the
  * run.
  */
 import type { TrainingEvent } from '@weft/optim';
@@ -54,10 +54,14 @@ export class ProgressView {
       const now = Date.now();
       if (now - this.lastDrawn < 100 && event.step !== event.totalSteps) return;
       this.lastDrawn = now;
-      const share = event.step / event.totalSteps;
-      const filled = Math.round(share * 24);
-      const bar = `[${'='.repeat(Math.max(0, filled - 1))}${filled > 0 ? '>' : ''}${' '.repeat(24 - filled)}]`;
-      const text = `${bar} ${String(event.step).padStart(String(event.totalSteps).length)}/${event.totalSteps}  loss ${event.loss.toPrecision(4)}  ${this.lastValidation}  ${Math.round(event.positionsPerSecond)} tok/s  ${formatSeconds(event.secondsLeft)} left`;
+      // Our one-line layout: how far (percent, then step of total), where in the data (epoch), how it goes (loss,
+      // then the latest validation), how fast and how long to go; cut to the terminal's width, least urgent last.
+      const percent = `${Math.floor((100 * event.step) / event.totalSteps)}%`.padStart(4);
+      const speed = event.positionsPerSecond >= 10_000 ? `${(event.positionsPerSecond / 1000).toFixed(1)}k` : `${Math.round(event.positionsPerSecond)}`;
+      const parts = [`${percent}  step ${event.step} of ${event.totalSteps}`, `epoch ${event.epoch}`, `loss ${event.loss.toPrecision(4)}`];
+      if (this.lastValidation !== '') parts.push(this.lastValidation);
+      parts.push(`${speed} positions/s`, `done in ${formatSeconds(event.secondsLeft)}`);
+      const text = parts.join(' · ');
       this.stream.write(`\r\x1b[2K${fitToWidth(text, this.stream.columns)}`);
     } else {
       const tenth = Math.floor((10 * event.step) / event.totalSteps);

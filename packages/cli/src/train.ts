@@ -177,7 +177,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     validation: prepared.validation,
     optimizer: new AdamRule({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
     epochs: numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 }),
-    clipNorm: numberFlag(args, 'clip', 1, { min: 1e-9 }),
+    gradientNormLimit: numberFlag(args, 'clip', 1, { min: 1e-9 }),
     validateEvery,
     patience,
     seed,

@@ -35,7 +35,7 @@ export function trainedTextModel(): { model: SequenceModel; tokens: Int32Array }
   const symbols = [...new Set(text)].sort();
   const tokens = Int32Array.from([...text].map((c) => symbols.indexOf(c)));
   const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 8 }, layers: [{ cell: 'lstm', hidden: 24 }], readout: { width: symbols.length } }, { seed: 2 });
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 16 }), optimizer: new AdamRule({ rate: 0.02 }), epochs: 6, clipNorm: 1 });
+  const trainer = new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 16 }), optimizer: new AdamRule({ rate: 0.02 }), epochs: 6, gradientNormLimit: 1 });
   while (!trainer.finished) trainer.step();
   return { model, tokens };
 }

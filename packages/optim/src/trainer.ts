@@ -39,10 +39,10 @@ export interface TrainerOptions {
   readonly validation?: DataSource;
   /** The learning-rate schedule; default constant. */
   readonly schedule?: ScheduleDescription;
-  /** Clip the global gradient norm to this (Pascanu et al. 2013). */
-  readonly clipNorm?: number;
-  /** Clip every gradient entry to ±this. */
-  readonly clipValue?: number;
+  /** Scale the gradients down so their global norm is at most this (Pascanu et al. 2013; `limitGradientNorm`). */
+  readonly gradientNormLimit?: number;
+  /** Limit every gradient entry to ±this (`limitGradientValues`). */
+  readonly gradientValueLimit?: number;
   /** Validate every this many steps (and at the end of each epoch). Default: once per epoch. */
   readonly validateEvery?: number;
   /** Stop after this many validations without improvement, restoring the best weights. */
@@ -191,7 +191,11 @@ export class Trainer {
       throw new WeftError({ code: 'invalid_option', path: 'trainer.epochs', expected: 'a whole number ≥ 1', received: String(options.epochs) });
     }
     if (options.schedule !== undefined) checkSchedule(options.schedule);
-    for (const [name, value] of [['clipNorm', options.clipNorm], ['clipValue', options.clipValue], ['validateEvery', options.validateEvery], ['patience', options.patience]] as const) {
+    // The names these options had before 0.2: refused by name, so a program written for them does not train unclipped.
+    for (const [old, now] of [['clipNorm', 'gradientNormLimit'], ['clipValue', 'gradientValueLimit']] as const) {
+      if (old in options) throw new WeftError({ code: 'invalid_option', path: `trainer.${old}`, expected: `trainer.${now} (the option's name now)`, received: `trainer.${old}` });
+    }
+    for (const [name, value] of [['gradientNormLimit', options.gradientNormLimit], ['gradientValueLimit', options.gradientValueLimit], ['validateEvery', options.validateEvery], ['patience', options.patience]] as const) {
       if (value !== undefined && !(value > 0)) throw new WeftError({ code: 'invalid_option', path: `trainer.${name}`, expected: 'a number > 0', received: String(value) });
     }
     if (options.keepBest !== undefined && typeof options.keepBest !== 'boolean') {
@@ -250,8 +254,8 @@ export class Trainer {
       this.skipped++;
       this.emit('skipped', value, NaN, multiplier, `non-finite gradient of ${badGradient.name}[${badGradient.offset}] = ${badGradient.value}; update skipped`);
     } else {
-      norm = this.options.clipNorm !== undefined ? limitGradientNorm(this.parameters, this.options.clipNorm) : gradientNorm(this.parameters);
-      if (this.options.clipValue !== undefined) limitGradientValues(this.parameters, this.options.clipValue);
+      norm = this.options.gradientNormLimit !== undefined ? limitGradientNorm(this.parameters, this.options.gradientNormLimit) : gradientNorm(this.parameters);
+      if (this.options.gradientValueLimit !== undefined) limitGradientValues(this.parameters, this.options.gradientValueLimit);
       for (let i = 0; i < this.parameters.length; i++) this.backup[i].set(this.parameters[i].data);
       optimizer.update(this.parameters, multiplier);
       const badValue = firstNonFiniteEntry(this.parameters, 'values');

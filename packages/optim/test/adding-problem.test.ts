@@ -35,7 +35,7 @@ function train(cell: 'lstm' | 'plain'): { testLoss: number; steps: number; basel
   const testSet = addingSequences(1000, 'adding-test');
   const test = sequenceBatches(testSet, { batchSize: 250, features: 2 });
   const model = buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell, hidden: 32 }], readout: { width: 1 } }, { seed: 3 });
-  const trainer = new Trainer({ model, data, validation: test, optimizer: new AdamRule({ rate: 0.01 }), epochs: 10, clipNorm: 1 });
+  const trainer = new Trainer({ model, data, validation: test, optimizer: new AdamRule({ rate: 0.01 }), epochs: 10, gradientNormLimit: 1 });
   let testLoss = Infinity;
   while (trainer.stepsTaken < BUDGET) {
     trainer.step();

@@ -59,7 +59,7 @@ describe('truncated backpropagation with a lookback (k2 > k1)', () => {
         validation: streamBatches({ kind: 'tokens', tokens: copies(200, 'check'), vocabulary: 4 }, { window: 12 }),
         optimizer: new AdamRule({ rate: 0.01 }),
         epochs: 4,
-        clipNorm: 1,
+        gradientNormLimit: 1,
       });
       while (!trainer.finished) trainer.step();
       return trainer.validate().metric;

@@ -24,7 +24,7 @@ describe('the trainer', () => {
   it('gives bit-identical weights for two runs with one seed', async () => {
     const make = () => {
       const model = buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }, { cell: 'gru', hidden: 6 }], dropout: 0.3, readout: { width: 6 } }, { seed: 9 });
-      return new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens: corpus(2000, 'c'), vocabulary: 6 }, { streams: 4, window: 10 }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 1, seed: 5, clipNorm: 1 });
+      return new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens: corpus(2000, 'c'), vocabulary: 6 }, { streams: 4, window: 10 }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 1, seed: 5, gradientNormLimit: 1 });
     };
     const a = make();
     const b = make();
@@ -42,7 +42,7 @@ describe('the trainer', () => {
       schedule: { kind: 'cosine', total: 160, warmup: 5 },
       epochs: 2,
       seed: 'resume',
-      clipNorm: 0.5,
+      gradientNormLimit: 0.5,
     });
     const dropoutModel = () => buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }, { cell: 'lstm', hidden: 6 }], dropout: 0.25, readout: { width: 6 } }, { seed: 2 });
     const whole = new Trainer(options(dropoutModel()));
@@ -155,6 +155,26 @@ describe('the trainer', () => {
     const summary = await trainer.run();
     expect(summary.stoppedBy).toBe('signal');
     expect(summary.steps).toBe(7);
+  });
+
+  it('refuses the clipping options by their old names instead of training unclipped', () => {
+    const options = {
+      model: textModel(5),
+      data: streamBatches({ kind: 'tokens', tokens: corpus(200, 'a'), vocabulary: 6 }, { window: 10 }),
+      optimizer: new AdamRule({ rate: 0.01 }),
+      epochs: 1,
+    };
+    for (const [old, now] of [['clipNorm', 'gradientNormLimit'], ['clipValue', 'gradientValueLimit']]) {
+      const error = (() => {
+        try {
+          return new Trainer({ ...options, [old]: 1 } as TrainerOptions);
+        } catch (caught) {
+          return caught;
+        }
+      })();
+      expect(error).toBeInstanceOf(WeftError);
+      expect((error as WeftError).message).toBe(`Invalid option at trainer.${old}: expected trainer.${now} (the option's name now), received trainer.${old}`);
+    }
   });
 
   it('trains a sequence classifier on padded, masked, bucketed batches', async () => {
