@@ -1,11 +1,13 @@
 import { mkdtempSync, readdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
-import { afterAll, describe, expect, it } from 'vitest';
+import { afterAll, describe, expect, expectTypeOf, it } from 'vitest';
 import { WeftError } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 import { readCheckpoint, writeCheckpoint } from '@weft/io';
+import type { TrainingState } from '@weft/io';
+import type { TrainingSnapshot } from '@weft/optim';
 import { loadCheckpoint, loadWeightFile, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
 
@@ -29,6 +31,15 @@ function setup() {
 }
 
 const weights = (m: ReturnType<typeof setup>['model']) => m.parameters().map((p) => Array.from(p.tensor.data));
+
+describe('the training state a checkpoint carries', () => {
+  it("is the trainer's snapshot type exactly, though @weft/io does not depend on @weft/optim", () => {
+    // Checked by the type checker (npm test type-checks the tests): a field added to one and not the other fails.
+    expectTypeOf<TrainingState>().toEqualTypeOf<TrainingSnapshot>();
+    const io = JSON.parse(readFileSync(new URL('../package.json', import.meta.url), 'utf8')) as { dependencies: Record<string, string> };
+    expect(Object.keys(io.dependencies).sort()).toEqual(['@weft/cells', '@weft/core']);
+  });
+});
 
 describe('checkpoints', () => {
   it('resume bit-identical to an uninterrupted run, through the file text', async () => {

@@ -8,9 +8,8 @@ import { closeSync, fsyncSync, openSync, readFileSync, readdirSync, renameSync, 
 import { basename, dirname, join } from 'node:path';
 import { WeftError } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
-import type { Trainer } from '@weft/optim';
 import { checkMetadata, loadModel, modelTensors, readCheckpoint, readWeightFile, writeCheckpoint, writeWeightFile } from '@weft/io';
-import type { Checkpoint, ReadOptions, WeightFile, WeightMetadata, WriteOptions } from '@weft/io';
+import type { Checkpoint, ReadOptions, TrainingStateSource, WeightFile, WeightMetadata, WriteOptions } from '@weft/io';
 
 /** `.<name>.<pid>.<random>.tmp`: the temporary files of saves of `name`, by process. */
 function temporaryPattern(name: string): RegExp {
@@ -95,7 +94,7 @@ export async function loadModelFile(path: string, options: ReadOptions = {}): Pr
 }
 
 /** Writes a trainer's checkpoint to `path` atomically. */
-export async function saveCheckpoint(path: string, trainer: Trainer, model: SequenceModel, metadata: WeightMetadata = {}): Promise<void> {
+export async function saveCheckpoint(path: string, trainer: TrainingStateSource, model: SequenceModel, metadata: WeightMetadata = {}): Promise<void> {
   writeFileAtomic(path, await writeCheckpoint(trainer, model, metadata));
 }
 
