@@ -12,7 +12,7 @@
  *     "readout": { "width": 64 }         (an affine map of the last layer's outputs; absent or null for none)
  *   }
  */
-import { WeftError } from '@weft/core';
+import { WeftError, isRecord } from '@weft/core';
 import type { Problem } from '@weft/core';
 
 /** The cells weft builds itself, by their word in a description. */
@@ -77,10 +77,6 @@ const layerKeys: Record<string, readonly string[]> = {
   gru: ['cell', 'hidden', 'bidirectional', 'resetAfterProduct'],
   plain: ['cell', 'hidden', 'bidirectional', 'activation'],
 };
-
-function isRecord(value: unknown): value is Record<string, unknown> {
-  return typeof value === 'object' && value !== null && !Array.isArray(value);
-}
 
 /** Most layers a description may have, and most parameters its model may hold. */
 export const MAX_LAYERS = 256;

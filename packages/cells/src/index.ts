@@ -9,7 +9,7 @@ export { GruCell } from './gru.js';
 export type { PlainActivation, PlainOptions } from './plain.js';
 export { PlainCell } from './plain.js';
 export { fillIdentity, fillOrthogonal, fillUniform, glorotBound, orthogonalMatrix } from './init.js';
-export { allActive, holdInactiveRows, isActive, joinSteps, lastSteps, reverseWithinLengths, stackSteps, timeStep, zeroBeyondLengths } from './sequence-ops.js';
+export { allActive, copyLastSteps, holdInactiveRows, isActive, joinSteps, lastSteps, reverseWithinLengths, stackSteps, timeStep, zeroBeyondLengths } from './sequence-ops.js';
 export type { SequenceOptions } from './layer.js';
 export { checkLengths, runBidirectional, runSequence } from './layer.js';
 export type { AnyModelDescription, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';

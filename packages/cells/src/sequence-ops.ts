@@ -5,7 +5,7 @@
  * zero, its state is held from step L − 1, its final state is the state after its last valid step, and a
  * reverse direction starts at step L − 1 of that row.
  */
-import type { OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
+import type { FloatArray, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
 
 /** True when row `row` is still inside its sequence at `step`. */
 export function isActive(lengths: Int32Array | null, row: number, step: number): boolean {
@@ -184,15 +184,25 @@ const lastKind: OperationKind = {
   },
 };
 
+/**
+ * Copies each row's features at its last valid step from time-major `data` [steps, rows, width] into `out`
+ * [rows, width] (zeros for a row of length 0; `lengths` null means every row has `steps` steps); returns `out`. The
+ * one home of the last-valid-step rule, for the tape's `lastSteps` and for code that reads outputs off the tape.
+ */
+export function copyLastSteps<T extends FloatArray>(out: T, data: ArrayLike<number>, lengths: Int32Array | null, steps: number, rows: number, width: number): T {
+  for (let b = 0; b < rows; b++) {
+    const length = lengths === null ? steps : lengths[b];
+    const at = ((length - 1) * rows + b) * width;
+    for (let j = 0; j < width; j++) out[b * width + j] = length === 0 ? 0 : data[at + j];
+  }
+  return out;
+}
+
 /** Each row's output at its last valid step, [B, F] from [T, B, F] (zeros for a row of length 0). */
 export function lastSteps(tape: Tape, sequence: Tensor, lengths: Int32Array | null): Tensor {
   const [steps, rows, width] = sequence.shape;
   const out = tape.output([rows, width], sequence.dtype, sequence.tracked);
-  for (let b = 0; b < rows; b++) {
-    const length = lengths === null ? steps : lengths[b];
-    const at = ((length - 1) * rows + b) * width;
-    for (let j = 0; j < width; j++) out.data[b * width + j] = length === 0 ? 0 : sequence.data[at + j];
-  }
+  copyLastSteps(out.data, sequence.data, lengths, steps, rows, width);
   const node = tape.record(lastKind, out, sequence);
   if (node !== null) node.integers = lengths;
   return out;

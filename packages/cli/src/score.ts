@@ -9,7 +9,7 @@
  * `--format json` for scripts.
  */
 import { existsSync, readFileSync } from 'node:fs';
-import { WeftError } from '@weft/core';
+import { WeftError, logSumExp } from '@weft/core';
 import { classificationReport, createTranslator, detectSeason, fieldPath, fitLinear, numberAt, parseTable, readStepTable, scoreForecaster } from '@weft/io';
 import type { SeriesSplit, Table } from '@weft/io';
 import { loadWeightFile } from '@weft/io/node';
@@ -33,9 +33,7 @@ export const scoreFlags: FlagSpec[] = [
 function logits(row: ArrayLike<number>): { best: number; logSumExp: number } {
   let best = 0;
   for (let k = 1; k < row.length; k++) if (row[k] > row[best]) best = k;
-  let sum = 0;
-  for (let k = 0; k < row.length; k++) sum += Math.exp(row[k] - row[best]);
-  return { best, logSumExp: row[best] + Math.log(sum) };
+  return { best, logSumExp: logSumExp(row, 0, row.length) };
 }
 
 export async function score(args: ParsedArgs): Promise<string> {

@@ -3,6 +3,7 @@ export type { DType, FloatArray } from './dtype.js';
 export { bytesPerElement, dtypeOf, isDType } from './dtype.js';
 export type { Problem, ProblemCode } from './errors.js';
 export { WeftError, describeProblem, fail, formatShape } from './errors.js';
+export { isRecord } from './records.js';
 export type { Allocate, PoolCounts } from './pool.js';
 export { BufferPool, sharedPool } from './pool.js';
 export type { RandomState } from './random.js';
@@ -37,6 +38,7 @@ export { meanSquaredError, crossEntropyAtTargets } from './ops/losses.js';
 export type { DirectionalGradientCheck, GradientCheckOptions, GradientReport, TensorGradientCheck } from './gradient-check.js';
 export { checkGradients } from './gradient-check.js';
 export * as kernels from './kernels/index.js';
+export { logSumExp } from './kernels/softmax.js';
 export { requireBackend } from './ops/checks.js';
 export type { Backend, BackendName, KernelName, KernelTable, WebAssemblyBackendOptions } from './backend/index.js';
 export {

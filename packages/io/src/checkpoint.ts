@@ -4,7 +4,7 @@
  * state and the early-stopping record. A checkpoint is also a valid weight file for the runtime. Resuming from
  * one continues bit for bit as if training had not stopped.
  */
-import { WeftError } from '@weft/core';
+import { WeftError, isRecord } from '@weft/core';
 import type { Problem, RandomState } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors } from './model-file.js';
@@ -76,10 +76,6 @@ export interface Checkpoint {
   readonly file: WeightFile;
   /** The trainer's state, with the parameters taken from the file's tensors; `Trainer.restore` takes it. */
   readonly snapshot: TrainingState;
-}
-
-function isRecord(value: unknown): value is Record<string, unknown> {
-  return typeof value === 'object' && value !== null && !Array.isArray(value);
 }
 
 /** Reads and checks a checkpoint: the weight file, then every field of its training state, all problems at once. */

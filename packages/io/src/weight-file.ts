@@ -11,7 +11,7 @@
  * `__proto__`, `constructor` or `prototype` are refused wherever they appear. Every problem found is collected,
  * each with its JSON path, and thrown together.
  */
-import { WeftError, fail } from '@weft/core';
+import { WeftError, fail, isRecord } from '@weft/core';
 import type { FloatArray, Problem } from '@weft/core';
 import { describeAnyProblems } from '@weft/cells/description';
 import type { AnyModelDescription } from '@weft/cells/description';
@@ -219,10 +219,6 @@ function typeName(value: unknown): string {
   if (typeof value === 'string') return value.length > 40 ? `a string of ${value.length} characters` : JSON.stringify(value);
   if (typeof value === 'object') return 'an object';
   return String(value);
-}
-
-function isRecord(value: unknown): value is Record<string, unknown> {
-  return typeof value === 'object' && value !== null && !Array.isArray(value);
 }
 
 /** Reads and checks a weight file; throws one WeftError listing every problem found. */

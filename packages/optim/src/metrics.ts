@@ -3,6 +3,7 @@
  * with its perplexity e^{loss} and the accuracy of the arg-max class, and mean squared and mean absolute error,
  * each over the positions whose weight is positive.
  */
+import { logSumExp } from '@weft/core';
 import type { FloatArray } from '@weft/core';
 
 /** How well outputs (logits) predict target classes, over the positions with positive weight. */
@@ -44,9 +45,7 @@ export function classificationMetrics(logits: FloatArray, targets: Int32Array, w
         best = j;
       }
     }
-    let sum = 0;
-    for (let j = 0; j < classes; j++) sum += Math.exp(logits[base + j] - max);
-    total += w * (max + Math.log(sum) - logits[base + targets[r]]);
+    total += w * (logSumExp(logits, base, classes) - logits[base + targets[r]]);
     if (best === targets[r]) correct += w;
     count += w;
   }

@@ -6,7 +6,7 @@ export { matmul, matmulNaive } from './matmul.js';
 export { add, addAt, addInto, addRow, addScaledInto, copyAt, multiply, multiplyInto, scale, subtract, sumRows } from './elementwise.js';
 export { exp, log, relu, reluGradientInto, sigmoid, sigmoidGradientInto, tanh, tanhGradientInto } from './activations.js';
 export { dot, firstNonFinite, limitEntries, maxAbs, sum, sumOfSquares } from './reductions.js';
-export { crossEntropyRows } from './softmax.js';
+export { crossEntropyRows, logSumExp } from './softmax.js';
 export { logistic } from './logistic.js';
 export { lstmStepBackward, lstmStepForward } from './lstm-step.js';
 export { gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset } from './gru-step.js';

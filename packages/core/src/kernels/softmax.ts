@@ -9,6 +9,19 @@
 import type { FloatArray } from '../dtype.js';
 
 /**
+ * log Σ_j exp(row[offset + j]) over `width` entries, shifted by the row's largest entry m so that no exponent is
+ * positive: m + log Σ exp(row_j − m), summed in index order (common practice). The one log-sum-exp of weft's
+ * JavaScript code; `crossEntropyRows` below fuses the same shift with writing the probabilities.
+ */
+export function logSumExp(row: ArrayLike<number>, offset: number, width: number): number {
+  let m = -Infinity;
+  for (let j = 0; j < width; j++) if (row[offset + j] > m) m = row[offset + j];
+  let total = 0;
+  for (let j = 0; j < width; j++) total += Math.exp(row[offset + j] - m);
+  return m + Math.log(total);
+}
+
+/**
  * Writes each row's loss into `losses` and its softmax probabilities into `probabilities` (see above); returns
  * `losses`.
  */

@@ -40,3 +40,18 @@ describe('softmax cross-entropy kernel', () => {
     expect(Array.from(lossesAliased)).toEqual(Array.from(lossesSeparate));
   });
 });
+
+describe('log-sum-exp', () => {
+  it('equals log Σ e^z on moderate values (direct formula) and stays finite at ±1000 (the shift, common practice)', () => {
+    const row = [0.5, -1.25, 2, 0.1];
+    expect(Math.abs(kernels.logSumExp(row, 0, 4) - Math.log(row.reduce((s, z) => s + Math.exp(z), 0)))).toBeLessThan(1e-15);
+    // m = 1000; e^{999 − 1000} = e^−1 and e^{−2000} underflows: 1000 + log(1 + e^−1).
+    expect(kernels.logSumExp(Float64Array.of(7, 1000, -1000, 999, 7), 1, 3)).toBe(1000 + Math.log(1 + Math.exp(-1)));
+  });
+
+  it('reads only the row it is given, at its offset', () => {
+    const rows = Float32Array.of(1, 2, 3, 100, 100, 100);
+    expect(kernels.logSumExp(rows, 0, 3)).toBe(3 + Math.log(Math.exp(-2) + Math.exp(-1) + 1));
+    expect(kernels.logSumExp(rows, 3, 3)).toBe(100 + Math.log(3));
+  });
+});

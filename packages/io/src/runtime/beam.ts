@@ -5,7 +5,7 @@
  * by length-normalised score, log P / length^α (α = `lengthPenalty`, default 1: the mean log-probability per
  * token; 0 ranks by total log-probability).
  */
-import { WeftError, fail } from '@weft/core';
+import { WeftError, fail, logSumExp } from '@weft/core';
 import type { EncoderDecoderDescription } from '@weft/cells/description';
 import { isEncoderDecoder } from '@weft/cells/description';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
@@ -138,11 +138,7 @@ export class EncoderDecoderRuntime {
 }
 
 function logSoftmaxRow(logits: Float32Array, offset: number, width: number): Float64Array {
-  let max = -Infinity;
-  for (let j = 0; j < width; j++) max = Math.max(max, logits[offset + j]);
-  let total = 0;
-  for (let j = 0; j < width; j++) total += Math.exp(logits[offset + j] - max);
-  const shift = max + Math.log(total);
+  const shift = logSumExp(logits, offset, width);
   const out = new Float64Array(width);
   for (let j = 0; j < width; j++) out[j] = logits[offset + j] - shift;
   return out;
