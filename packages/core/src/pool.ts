@@ -30,8 +30,8 @@ const defaultAllocate: Allocate = (dtype, length) =>
   dtype === 'f64' ? new Float64Array(length) : new Float32Array(length);
 
 /**
- * Typed arrays kept for reuse by dtype and length: `take` hands one out (zeroed), `give` takes it back; hot loops
- * allocate nothing once the pool is warm.
+ * Typed arrays kept for reuse by dtype and length: `take` hands one out as it was left (`takeZeroed` clears it),
+ * `give` takes it back; hot loops allocate nothing once the pool is warm.
  */
 export class BufferPool {
   private readonly allocate: Allocate;

@@ -13,7 +13,7 @@
  *   similar lengths (so little padding), padded and masked; the batch order is shuffled each epoch by the seeded
  *   generator, and the state starts afresh for each batch.
  */
-import { Random, backendOf, fail, tensor } from '@weft/core';
+import { Random, backendOf, fail, zeros } from '@weft/core';
 import type { DType, FloatArray, Tensor } from '@weft/core';
 import type { TokenBatch } from '@weft/cells';
 
@@ -148,8 +148,12 @@ export interface StreamOptions {
   readonly lookback?: number;
 }
 
-/** Where window `index` starts and how its lookback, loss weights and carried state fall. */
-function windowPlan(index: number, window: number, lookback: number, streams: number) {
+/**
+ * Where window `index` starts and how its lookback, loss weights and carried state fall. The weights (0 over the
+ * lookback steps, 1 over the window's own) depend only on how many steps are skipped, so each distinct one is made
+ * once and kept in `weightsBySkipped`; batches hand out the same read-only array.
+ */
+function windowPlan(index: number, window: number, lookback: number, streams: number, weightsBySkipped: Map<number, Float64Array>) {
   const start = index * window;
   const begin = Math.max(0, start - lookback);
   const steps = start + window - begin;
@@ -157,8 +161,12 @@ function windowPlan(index: number, window: number, lookback: number, streams: nu
   const carryAfter = Math.max(0, (index + 1) * window - lookback - begin);
   let weights: Float64Array | null = null;
   if (skipped > 0) {
-    weights = new Float64Array(steps * streams).fill(1);
-    weights.fill(0, 0, skipped * streams);
+    weights = weightsBySkipped.get(skipped) ?? null;
+    if (weights === null) {
+      weights = new Float64Array(steps * streams).fill(1);
+      weights.fill(0, 0, skipped * streams);
+      weightsBySkipped.set(skipped, weights);
+    }
   }
   return { begin, steps, carryAfter: lookback > 0 ? carryAfter : undefined, weights };
 }
@@ -183,13 +191,21 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
     const perStream = Math.floor((tokens.length - 1) / streams);
     const windows = Math.floor(perStream / window);
     if (windows < 1) fail('bad_data', 'stream.tokens', `at least ${streams * window + 1} tokens for ${streams} streams of one ${window}-step window`, `${tokens.length}`);
+    const weightsBySkipped = new Map<number, Float64Array>();
+    // The id and target arrays of a batch, by its number of steps (a window, or a window and its lookback): refilled
+    // by each batch, valid until the next `batch()` call, as for every source.
+    const arraysBySteps = new Map<number, { ids: Int32Array; classes: Int32Array }>();
     return {
       batchesPerEpoch: windows,
       carriesState: true,
       batch(_epoch: number, index: number): Batch {
-        const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams);
-        const ids = new Int32Array(steps * streams);
-        const classes = new Int32Array(steps * streams);
+        const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams, weightsBySkipped);
+        let arrays = arraysBySteps.get(steps);
+        if (arrays === undefined) {
+          arrays = { ids: new Int32Array(steps * streams), classes: new Int32Array(steps * streams) };
+          arraysBySteps.set(steps, arrays);
+        }
+        const { ids, classes } = arrays;
         for (let t = 0; t < steps; t++) {
           for (let b = 0; b < streams; b++) {
             const at = b * perStream + begin + t;
@@ -237,14 +253,18 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
   if (windows < 1) fail('bad_data', 'stream.values', `at least ${streams * window + horizon} rows`, `${rows}`);
   const width = own === undefined ? columns.length : ownWidth;
   const buffers = new BatchBuffers();
+  const weightsBySkipped = new Map<number, Float64Array>();
   return {
     batchesPerEpoch: windows,
     carriesState: true,
     batch(_epoch: number, index: number): Batch {
       buffers.recycle();
-      const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams);
-      const input = new Array<number>(steps * streams * features);
-      const target = new Array<number>(steps * streams * width);
+      const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams, weightsBySkipped);
+      // Filled in place in buffers from the pool (given back at the next batch): every entry is written below.
+      const inputTensor = buffers.keep(zeros([steps, streams, features], dtype));
+      const targetTensor = buffers.keep(zeros([steps * streams, width], dtype));
+      const input = inputTensor.data;
+      const target = targetTensor.data;
       for (let t = 0; t < steps; t++) {
         for (let b = 0; b < streams; b++) {
           const row = b * perStream + begin + t;
@@ -255,11 +275,11 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
         }
       }
       return {
-        input: buffers.keep(tensor(input, [steps, streams, features], dtype)),
+        input: inputTensor,
         steps,
         batch: streams,
         lengths: null,
-        targets: { kind: 'values', perStep: true, width, values: buffers.keep(tensor(target, [steps * streams, width], dtype)), weights },
+        targets: { kind: 'values', perStep: true, width, values: targetTensor, weights },
         positions: window * streams,
         carryAfter,
       };
@@ -319,10 +339,52 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
   const groups: number[][] = [];
   for (let i = 0; i < order.length; i += batchSize) groups.push(order.slice(i, i + batchSize));
   const seed = options.seed ?? 0;
+  // The batch order of the epoch last asked for (a trainer asks for one epoch's batches in turn).
+  let orderEpoch = -1;
+  let batchOrder: number[] = [];
   const epochOrder = (epoch: number): number[] => {
-    const shuffled = groups.map((_, i) => i);
-    new Random(`${String(seed)}:epoch:${epoch}`).shuffle(shuffled);
-    return shuffled;
+    if (epoch !== orderEpoch) {
+      batchOrder = groups.map((_, i) => i);
+      new Random(`${String(seed)}:epoch:${epoch}`).shuffle(batchOrder);
+      orderEpoch = epoch;
+    }
+    return batchOrder;
+  };
+  // What a group's batch holds that never changes (its lengths, classes, token ids), made at its first use and
+  // handed out again, read-only, every epoch.
+  interface GroupPlan {
+    readonly steps: number;
+    readonly lengths: Int32Array;
+    readonly positions: number;
+    readonly classes: Int32Array | null;
+    readonly ids: Int32Array | null;
+  }
+  const plans: (GroupPlan | undefined)[] = new Array<GroupPlan | undefined>(groups.length);
+  const planOf = (group: number): GroupPlan => {
+    const known = plans[group];
+    if (known !== undefined) return known;
+    const members = groups[group];
+    const rows = members.length;
+    const steps = Math.max(...members.map((m) => lengths[m]));
+    const batchLengths = Int32Array.from(members.map((m) => lengths[m]));
+    let ids: Int32Array | null = null;
+    if (usesTokens) {
+      ids = new Int32Array(steps * rows);
+      const into = ids;
+      members.forEach((m, b) => {
+        const tokens = sequences[m].tokens!;
+        for (let t = 0; t < tokens.length; t++) into[t * rows + b] = tokens[t];
+      });
+    }
+    const plan: GroupPlan = {
+      steps,
+      lengths: batchLengths,
+      positions: batchLengths.reduce((s, l) => s + l, 0),
+      classes: usesLabels ? Int32Array.from(members.map((m) => sequences[m].label as number)) : null,
+      ids,
+    };
+    plans[group] = plan;
+    return plan;
   };
   const buffers = new BatchBuffers();
   return {
@@ -330,30 +392,37 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
     carriesState: false,
     batch(epoch: number, index: number): Batch {
       buffers.recycle();
-      const members = groups[epochOrder(epoch)[index]];
+      const group = epochOrder(epoch)[index];
+      const members = groups[group];
+      const plan = planOf(group);
       const rows = members.length;
-      const steps = Math.max(...members.map((m) => lengths[m]));
-      const batchLengths = Int32Array.from(members.map((m) => lengths[m]));
+      const steps = plan.steps;
       let input: Tensor | TokenBatch;
-      if (usesTokens) {
-        const ids = new Int32Array(steps * rows);
-        members.forEach((m, b) => {
-          const tokens = sequences[m].tokens!;
-          for (let t = 0; t < tokens.length; t++) ids[t * rows + b] = tokens[t];
-        });
-        input = { tokens: ids, steps, batch: rows };
+      if (plan.ids !== null) {
+        input = { tokens: plan.ids, steps, batch: rows };
       } else {
-        const flat = new Array<number>(steps * rows * features).fill(0);
-        members.forEach((m, b) => {
+        // Padding stays zero: the buffer comes zeroed from the pool, and only each row's own steps are written.
+        const values = buffers.keep(zeros([steps, rows, features], dtype));
+        const flat = values.data;
+        for (let b = 0; b < rows; b++) {
+          const m = members[b];
           const v = sequences[m].values!;
           for (let t = 0; t < lengths[m]; t++) for (let f = 0; f < features; f++) flat[(t * rows + b) * features + f] = v[t * features + f];
-        });
-        input = buffers.keep(tensor(flat, [steps, rows, features], dtype));
+        }
+        input = values;
       }
-      const targets: BatchTargets = usesLabels
-        ? { kind: 'classes', perStep: false, classes: Int32Array.from(members.map((m) => sequences[m].label as number)), weights: null }
-        : { kind: 'values', perStep: false, width: targetWidth, values: buffers.keep(tensor(members.flatMap((m) => [...sequences[m].target!]), [rows, targetWidth], dtype)), weights: null };
-      return { input, steps, batch: rows, lengths: batchLengths, targets, positions: batchLengths.reduce((s, l) => s + l, 0) };
+      let targets: BatchTargets;
+      if (plan.classes !== null) {
+        targets = { kind: 'classes', perStep: false, classes: plan.classes, weights: null };
+      } else {
+        const values = buffers.keep(zeros([rows, targetWidth], dtype));
+        for (let b = 0; b < rows; b++) {
+          const target = sequences[members[b]].target!;
+          for (let c = 0; c < targetWidth; c++) values.data[b * targetWidth + c] = target[c];
+        }
+        targets = { kind: 'values', perStep: false, width: targetWidth, values, weights: null };
+      }
+      return { input, steps, batch: rows, lengths: plan.lengths, targets, positions: plan.positions };
     },
   };
 }
