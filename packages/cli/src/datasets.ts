@@ -6,12 +6,10 @@
  * - a labelled CSV of sequences → sequence classification.
  * Validation data is the last share of a series or text (time order kept), or a seeded random share of sequences.
  */
-import { Random } from '@weft/core';
+import { Random, WeftError } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
-import { classificationMetrics, sequenceBatches, streamBatches } from '@weft/optim';
+import { evaluate, forEachEvaluatedBatch, sequenceBatches, streamBatches } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
-import { Tape, lastStepsValues } from './evaluate.js';
-import { WeftError } from '@weft/core';
 import { ForecastErrorSum, UNKNOWN_TOKEN, buildVocabulary, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable } from '@weft/io';
 import type { ClassificationReport, ForecastErrors, Table, WeightMetadata } from '@weft/io';
 import { CommandError } from './errors.js';
@@ -153,7 +151,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       const sums = targetIndexes.map(() => new ForecastErrorSum());
       const all = new ForecastErrorSum();
       let position = 0;
-      forEachBatch(model, validation, (_batch, outputs) => {
+      forEachEvaluatedBatch(model, validation, (_batch, { outputs }) => {
         for (let i = 0; i < outputs.length; i += targetIndexes.length) {
           const t = validationFrom + position++;
           if (t < trainRows || t >= validationFrom + heldOutSteps) continue;
@@ -342,7 +340,7 @@ function classificationData(
     heldOut: (model) => {
       const predicted: number[] = [];
       const actual: number[] = [];
-      forEachBatch(model, validation, (batch, outputs) => {
+      forEachEvaluatedBatch(model, validation, (batch, { outputs }) => {
         if (batch.targets.kind !== 'classes') return;
         for (let r = 0; r < batch.batch; r++) {
           let best = 0;
@@ -364,31 +362,7 @@ function classificationData(
   };
 }
 
-/**
- * Runs the model over every batch of a source without recording (state carried across stream windows) and hands
- * each batch's outputs at the loss positions (every step, or each row's last valid step) to `visit`.
- */
-export function forEachBatch(model: SequenceModel, source: DataSource, visit: (batch: Batch, outputs: Float32Array | Float64Array) => void): void {
-  const tape = new Tape({ recording: false });
-  let carried: import('@weft/core').Tensor[] | null = null;
-  for (let i = 0; i < source.batchesPerEpoch; i++) {
-    const batch = source.batch(0, i);
-    const result = model.run(tape, batch.input, { lengths: batch.lengths, initialState: source.carriesState && carried !== null ? carried : undefined });
-    visit(batch, batch.targets.perStep ? result.outputs.data : lastStepsValues(result.outputs, batch.lengths));
-    if (source.carriesState) carried = result.state.map((t) => tape.keep(t));
-    tape.clear();
-  }
-}
-
-/** Mean cross-entropy (nats) of a next-token model over a source. */
+/** Mean cross-entropy (nats) of a next-token model over a source: the trainer's own evaluation. */
 export function averageCrossEntropy(model: SequenceModel, source: DataSource): number {
-  let total = 0;
-  let n = 0;
-  forEachBatch(model, source, (batch, outputs) => {
-    if (batch.targets.kind !== 'classes') return;
-    const m = classificationMetrics(outputs, batch.targets.classes, null, batch.targets.classes.length, model.outputSize);
-    total += m.crossEntropy * m.count;
-    n += m.count;
-  });
-  return total / n;
+  return evaluate(model, source).loss;
 }

@@ -17,5 +17,7 @@ export type { ClassificationMetrics, RegressionMetrics } from './metrics.js';
 export { classificationMetrics, regressionMetrics } from './metrics.js';
 export type { Batch, BatchTargets, DataSource, LabelledSequence, SequenceSetOptions, StreamOptions, TokenStreamOptions, ValueStreamOptions } from './data.js';
 export { sequenceBatches, streamBatches } from './data.js';
-export type { TrainingEvent, TrainerOptions, TrainingSnapshot, TrainingSummary, ValidationResult } from './trainer.js';
+export type { TrainingEvent, TrainerOptions, TrainingSnapshot, TrainingSummary } from './trainer.js';
+export type { EvaluatedRows, EvaluationOptions, ValidationResult } from './training/evaluation.js';
+export { evaluate, forEachEvaluatedBatch } from './training/evaluation.js';
 export { Trainer } from './trainer.js';

@@ -1,5 +1,7 @@
 /**
- * The training loop. Each step: clear the tape, run the model over one batch (with the carried state for
+ * The training loop; its parts live in training/ (task.ts: the loss by target kind; lookback.ts: the two-piece
+ * forward; evaluation.ts: the one evaluation loop; stopping.ts: the stopping rule; types.ts: options, events,
+ * snapshot, summary). Each step: clear the tape, run the model over one batch (with the carried state for
  * streams), compute the task's loss, sweep, check, clip, update, and carry the detached final state on.
  *
  * Safety: a non-finite loss stops training with an error naming the step and the quantity; a non-finite
@@ -11,148 +13,20 @@
  * captures weights, optimiser state, generator state, schedule position, data cursor, carried state and the
  * early-stopping record, and `restore()` continues bit for bit.
  */
-import { BufferPool, Random, Tape, Tensor, WeftError, backendOf, defaultBackend, meanSquaredError, reshape, resetGradients, crossEntropyAtTargets, zeros } from '@weft/core';
-import type { Backend, FloatArray, RandomState } from '@weft/core';
+import { BufferPool, Random, Tape, Tensor, WeftError, backendOf, defaultBackend, resetGradients, zeros } from '@weft/core';
+import type { Backend, FloatArray } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
-import { joinSteps, lastSteps } from '@weft/cells';
-import type { TokenBatch } from '@weft/cells';
 import { limitGradientNorm, limitGradientValues, firstNonFiniteEntry, gradientNorm } from './clipping.js';
-import type { Batch, DataSource } from './data.js';
-import { classificationMetrics, regressionMetrics } from './metrics.js';
-import type { UpdateRule, UpdateRuleState } from './update-rule.js';
-import type { ScheduleDescription } from './schedule.js';
+import type { DataSource } from './data.js';
+import { evaluate } from './training/evaluation.js';
+import type { ValidationResult } from './training/evaluation.js';
+import { forwardWithLookback } from './training/lookback.js';
+import { BestValidation } from './training/stopping.js';
+import { taskLoss } from './training/task.js';
+import type { TrainerOptions, TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
 import { checkSchedule, scheduleFactor } from './schedule.js';
 
-/** What a `Trainer` trains, on what, and how. */
-export interface TrainerOptions {
-  /** The model whose parameters are trained in place. */
-  readonly model: SequenceModel;
-  /** The training batches. */
-  readonly data: DataSource;
-  /** The update rule (SGD, Adam, RMSProp, Adagrad). */
-  readonly optimizer: UpdateRule;
-  /** Passes over `data` (a whole number ≥ 1); the run has epochs × batches-per-epoch steps. */
-  readonly epochs: number;
-  /** The backend to compute on: by default the one whose memory holds the model's parameters. */
-  readonly backend?: Backend;
-  /** Held-out batches for validation, early stopping and keeping the best weights. */
-  readonly validation?: DataSource;
-  /** The learning-rate schedule; default constant. */
-  readonly schedule?: ScheduleDescription;
-  /** Scale the gradients down so their global norm is at most this (Pascanu et al. 2013; `limitGradientNorm`). */
-  readonly gradientNormLimit?: number;
-  /** Limit every gradient entry to ±this (`limitGradientValues`). */
-  readonly gradientValueLimit?: number;
-  /** Validate every this many steps (and at the end of each epoch). Default: once per epoch. */
-  readonly validateEvery?: number;
-  /** Stop after this many validations without improvement, restoring the best weights. */
-  readonly patience?: number;
-  /**
-   * When the run ends (epochs done or patience out, not an abort), put back the weights of the best validation
-   * (default true when there is validation data), so a run that got worse at the end does not keep the worse weights.
-   */
-  readonly keepBest?: boolean;
-  /** Seed of the trainer's generator (dropout masks); default 0. */
-  readonly seed?: number | string;
-  /** Ends `run()` after the current step when aborted (stoppedBy `signal`). */
-  readonly signal?: AbortSignal;
-  /** Called after each step, each validation, each skipped update and at the end. */
-  readonly onProgress?: (event: TrainingEvent) => void;
-  /** Awaited by `run()` after every step (for example to write a checkpoint every N steps). */
-  readonly afterStep?: (trainer: Trainer) => void | Promise<void>;
-}
-
-/** What `onProgress` receives. */
-export interface TrainingEvent {
-  /** A step, a validation, an update skipped for a non-finite gradient, or the end of the run. */
-  readonly kind: 'step' | 'validation' | 'skipped' | 'finished';
-  /** Steps taken so far. */
-  readonly step: number;
-  /** The epoch in progress (from 0). */
-  readonly epoch: number;
-  /** Steps in the whole run. */
-  readonly totalSteps: number;
-  /** The latest step's training loss. */
-  readonly loss: number;
-  /** The global gradient norm of the latest step, before clipping. */
-  readonly gradientNorm: number;
-  /** The rate the latest update used (base rate × schedule). */
-  readonly learningRate: number;
-  /** Real (unpadded) positions trained per second in this run so far. */
-  readonly positionsPerSecond: number;
-  /** Estimated time to the end of the run, from the pace so far. */
-  readonly secondsLeft: number;
-  /** For a validation event: the validation loss. */
-  readonly validationLoss?: number;
-  /** Accuracy for classes, mean absolute error for values. */
-  readonly validationMetric?: number;
-  /** Which metric `validationMetric` is. */
-  readonly validationMetricName?: 'accuracy' | 'meanAbsoluteError';
-  /** For a skipped update: why (the parameter and offset of the first non-finite entry). */
-  readonly reason?: string;
-}
-
-/** The model's figures on a validation source. */
-export interface ValidationResult {
-  /** Mean loss: cross-entropy in nats for classes, mean squared error for values. */
-  readonly loss: number;
-  /** Accuracy for classes, mean absolute error for values. */
-  readonly metric: number;
-  /** Which metric `metric` is. */
-  readonly metricName: 'accuracy' | 'meanAbsoluteError';
-  /** e^loss for classes (perplexity), else equal to the loss (mean squared error). */
-  readonly perplexity: number;
-}
-
-/** Everything needed to resume a run exactly, as plain data (what a checkpoint stores). */
-export interface TrainingSnapshot {
-  /** Steps taken. */
-  readonly step: number;
-  /** Where the data stands: the next batch to train on. */
-  readonly cursor: {
-    /** The epoch of the next batch. */
-    readonly epoch: number;
-    /** The index of the next batch within its epoch. */
-    readonly index: number;
-  };
-  /** The parameters' values, by name. */
-  readonly parameters: Readonly<Record<string, readonly number[]>>;
-  /** The update rule's state (moments, velocities, update count). */
-  readonly optimizer: UpdateRuleState;
-  /** The trainer's generator's state. */
-  readonly random: RandomState;
-  /** The state carried into the next window of a stream, slot by slot; null when none. */
-  readonly carried: readonly (readonly number[])[] | null;
-  /** The best validation so far, for early stopping and keeping the best weights. */
-  readonly best: {
-    /** The best validation loss so far (Infinity before the first validation). */
-    readonly loss: number;
-    /** The step of that validation (−1 before the first). */
-    readonly step: number;
-    /** The parameters at that validation, by name; null when none were kept. */
-    readonly parameters: Readonly<Record<string, readonly number[]>> | null;
-    /** Validations since the best one (the early-stopping count). */
-    readonly stale: number;
-  };
-  /** Updates skipped so far for non-finite gradients. */
-  readonly skipped: number;
-}
-
-/** How a `run()` ended. */
-export interface TrainingSummary {
-  /** Steps taken in all. */
-  readonly steps: number;
-  /** Why it ended: every epoch done, patience out (early stopping), or the abort signal. */
-  readonly stoppedBy: 'epochs' | 'patience' | 'signal';
-  /** The last step's training loss. */
-  readonly lastLoss: number;
-  /** The best validation's figures; null without validation data. */
-  readonly bestValidation: ValidationResult | null;
-  /** The step whose weights the model holds after the run: the best validation's when they were put back. */
-  readonly keptStep: number;
-  /** Updates skipped for non-finite gradients. */
-  readonly skippedUpdates: number;
-}
+export type { TrainerOptions, TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
 
 /**
  * Trains a sequence model: truncated backpropagation through time over streams (state carried between windows, with an
@@ -175,13 +49,9 @@ export class Trainer {
   private epoch = 0;
   private index = 0;
   private carried: Tensor[] | null = null;
-  private bestLoss = Infinity;
-  private bestStep = -1;
-  private bestParameters: FloatArray[] | null = null;
-  private stale = 0;
   private skipped = 0;
   private lastLoss = NaN;
-  private bestValidation: ValidationResult | null = null;
+  private readonly best: BestValidation;
   private startedAt = 0;
   private stepsThisRun = 0;
   private positionsThisRun = 0;
@@ -214,6 +84,7 @@ export class Trainer {
     this.tape = new Tape({ backend: this.backend, pool: this.pool });
     this.backup = this.parameters.map((p) => this.backend.pool.take(p.dtype, p.size));
     this.random = new Random(options.seed ?? 0);
+    this.best = new BestValidation(this.backend, options.patience);
   }
 
   /** Steps in the whole run: epochs × batches per epoch. */
@@ -238,7 +109,7 @@ export class Trainer {
     if (data.carriesState && this.index === 0) this.releaseCarried();
     this.tape.clear();
     resetGradients(this.parameters);
-    const result = this.forward(batch, data.carriesState && this.carried !== null ? this.carried : undefined);
+    const result = forwardWithLookback(this.model, this.tape, batch, data.carriesState && this.carried !== null ? this.carried : undefined, this.random);
     const loss = taskLoss(this.tape, result.outputs, batch);
     const value = loss.data[0];
     const stepNumber = this.stepCount + 1;
@@ -289,81 +160,14 @@ export class Trainer {
     return value;
   }
 
-  /**
-   * The model over one batch. With a lookback (`carryAfter` < steps) it runs in two pieces on one tape: the steps
-   * up to `carryAfter`, whose final state is what the next batch starts from, then the rest from that state, so
-   * the reverse sweep runs through all of them.
-   */
-  private forward(batch: Batch, initialState: readonly Tensor[] | undefined): { outputs: Tensor; carry: readonly Tensor[] } {
-    const options = { lengths: batch.lengths, training: true, random: this.random };
-    const split = batch.carryAfter;
-    if (split === undefined || split >= batch.steps) {
-      const result = this.model.run(this.tape, batch.input, { ...options, initialState });
-      return { outputs: result.outputs, carry: result.state };
-    }
-    const [head, tail] = splitSteps(batch.input, split, batch.batch);
-    let carry: readonly Tensor[];
-    let headOutputs: Tensor | null = null;
-    if (head === null) {
-      carry = initialState ?? this.model.stateSlots().map((slot) => {
-        const fresh = this.tape.output([batch.batch, slot.size], this.model.dtype, false);
-        fresh.data.fill(0);
-        return fresh;
-      });
-    } else {
-      const first = this.model.run(this.tape, head, { ...options, initialState });
-      carry = first.state;
-      headOutputs = first.outputs;
-    }
-    const second = this.model.run(this.tape, tail, { ...options, initialState: carry });
-    return { outputs: headOutputs === null ? second.outputs : joinSteps(this.tape, headOutputs, second.outputs), carry };
-  }
-
   /** Loss and metric over a whole data source, without recording (state carried across stream windows). */
   validate(source: DataSource = this.requireValidation()): ValidationResult {
-    const tape = new Tape({ backend: this.backend, pool: this.pool, recording: false });
-    let carried: Tensor[] | null = null;
-    let lossSum = 0;
-    let metricSum = 0;
-    let count = 0;
-    let kind: 'classes' | 'values' = 'classes';
-    for (let i = 0; i < source.batchesPerEpoch; i++) {
-      const batch = source.batch(0, i);
-      const result = this.model.run(tape, batch.input, { lengths: batch.lengths, initialState: source.carriesState && carried !== null ? carried : undefined });
-      const { rows, outputs, weights } = taskRows(tape, result.outputs, batch);
-      const targets = batch.targets;
-      if (targets.kind === 'classes') {
-        const m = classificationMetrics(outputs.data, targets.classes, weights, rows, outputs.shape[1]);
-        lossSum += m.crossEntropy * m.count;
-        metricSum += m.accuracy * m.count;
-        count += m.count;
-      } else {
-        kind = 'values';
-        const m = regressionMetrics(outputs.data, targets.values.data, weights, rows, targets.width);
-        lossSum += m.meanSquaredError * m.count;
-        metricSum += m.meanAbsoluteError * m.count;
-        count += m.count;
-      }
-      if (source.carriesState) {
-        const kept: Tensor[] = result.state.map((s, k) => (carried === null ? tape.keep(s) : tape.keep(s, (carried as Tensor[])[k])));
-        carried = kept;
-      }
-      tape.clear();
-    }
-    // The carried state's buffers came from the trainer's pool: give them back for the next validation.
-    if (carried !== null) for (const t of carried as Tensor[]) this.pool.give(t.data);
-    const loss = count > 0 ? lossSum / count : 0;
-    return {
-      loss,
-      metric: count > 0 ? metricSum / count : 0,
-      metricName: kind === 'classes' ? 'accuracy' : 'meanAbsoluteError',
-      perplexity: kind === 'classes' ? Math.exp(loss) : loss,
-    };
+    return evaluate(this.model, source, { backend: this.backend, pool: this.pool });
   }
 
   /** Trains until the epochs are done, patience runs out, or the signal aborts; yields to the event loop now and then. */
   async run(): Promise<TrainingSummary> {
-    const { signal, validation, validateEvery, patience } = this.options;
+    const { signal, validation, validateEvery } = this.options;
     this.startedAt = now();
     this.stepsThisRun = 0;
     this.positionsThisRun = 0;
@@ -380,14 +184,7 @@ export class Trainer {
       if (due) {
         const result = this.validate();
         this.emit('validation', this.lastLoss, NaN, 1, undefined, result);
-        if (result.loss < this.bestLoss) {
-          this.bestLoss = result.loss;
-          this.bestStep = this.stepCount;
-          this.bestValidation = result;
-          this.bestParameters ??= this.parameters.map((p) => this.backend.pool.take(p.dtype, p.size));
-          this.parameters.forEach((p, i) => (this.bestParameters as FloatArray[])[i].set(p.data));
-          this.stale = 0;
-        } else if (patience !== undefined && ++this.stale >= patience) {
+        if (this.best.observe(result, this.stepCount, this.parameters)) {
           stoppedBy = 'patience';
           break;
         }
@@ -400,12 +197,9 @@ export class Trainer {
     }
     let keptStep = this.stepCount;
     const keepBest = this.options.keepBest ?? validation !== undefined;
-    if ((stoppedBy === 'patience' || (stoppedBy === 'epochs' && keepBest)) && this.bestParameters !== null) {
-      this.parameters.forEach((p, i) => p.data.set((this.bestParameters as FloatArray[])[i]));
-      keptStep = this.bestStep;
-    }
+    if (stoppedBy === 'patience' || (stoppedBy === 'epochs' && keepBest)) keptStep = this.best.putBack(this.parameters) ?? keptStep;
     this.emit('finished', this.lastLoss, NaN, 1, stoppedBy);
-    return { steps: this.stepCount, stoppedBy, lastLoss: this.lastLoss, bestValidation: this.bestValidation, keptStep, skippedUpdates: this.skipped };
+    return { steps: this.stepCount, stoppedBy, lastLoss: this.lastLoss, bestValidation: this.best.result, keptStep, skippedUpdates: this.skipped };
   }
 
   /** Gives the carried state's buffers back to the trainer's pool (they came from it) and forgets the state. */
@@ -430,7 +224,7 @@ export class Trainer {
       optimizer: this.options.optimizer.state(),
       random: this.random.state(),
       carried: this.carried === null ? null : this.carried.map((t) => Array.from(t.data)),
-      best: { loss: this.bestLoss, step: this.bestStep, parameters: this.bestParameters === null ? null : named(this.bestParameters), stale: this.stale },
+      best: { loss: this.best.loss, step: this.best.step, parameters: this.best.parameters === null ? null : named(this.best.parameters), stale: this.best.stale },
       skipped: this.skipped,
     };
   }
@@ -464,14 +258,14 @@ export class Trainer {
         return t;
       });
     }
-    this.bestLoss = snapshot.best.loss ?? Infinity;
-    this.bestStep = snapshot.best.step;
-    this.stale = snapshot.best.stale;
+    this.best.loss = snapshot.best.loss ?? Infinity;
+    this.best.step = snapshot.best.step;
+    this.best.stale = snapshot.best.stale;
     if (snapshot.best.parameters === null) {
-      this.bestParameters = null;
+      this.best.parameters = null;
     } else {
-      this.bestParameters = this.parameters.map((p) => this.backend.pool.take(p.dtype, p.size));
-      load(snapshot.best.parameters, this.bestParameters, 'snapshot.best.parameters');
+      this.best.parameters = this.best.copies(this.parameters);
+      load(snapshot.best.parameters, this.best.parameters, 'snapshot.best.parameters');
     }
     this.skipped = snapshot.skipped;
   }
@@ -508,46 +302,3 @@ function now(): number {
   return typeof performance !== 'undefined' ? performance.now() : Date.now();
 }
 
-/** The rows the loss is taken over: every step for per-step targets, each row's last valid step otherwise. */
-function taskRows(tape: Tape, outputs: Tensor, batch: Batch): { rows: number; outputs: Tensor; weights: Float64Array | null } {
-  const width = outputs.shape[2];
-  const targets = batch.targets;
-  if (targets.perStep) {
-    const rows = batch.steps * batch.batch;
-    let weights = targets.weights;
-    if (weights === null && batch.lengths !== null) {
-      const lengths = batch.lengths;
-      weights = Float64Array.from({ length: rows }, (_, i) => (Math.floor(i / batch.batch) < lengths[i % batch.batch] ? 1 : 0));
-    }
-    return { rows, outputs: reshape(tape, outputs, [rows, width]), weights };
-  }
-  return { rows: batch.batch, outputs: lastSteps(tape, outputs, batch.lengths), weights: targets.weights };
-}
-
-function taskLoss(tape: Tape, outputs: Tensor, batch: Batch): Tensor {
-  const { rows, outputs: picked, weights } = taskRows(tape, outputs, batch);
-  const targets = batch.targets;
-  if (targets.kind === 'classes') {
-    if (targets.classes.length !== rows) {
-      throw new WeftError({ code: 'shape_mismatch', path: 'trainer.batch.targets', expected: `${rows} classes`, received: `${targets.classes.length}` });
-    }
-    return crossEntropyAtTargets(tape, picked, targets.classes, weights === null ? {} : { weights });
-  }
-  if (picked.shape[1] !== targets.width) {
-    throw new WeftError({ code: 'shape_mismatch', path: 'trainer.model.outputs', expected: `${targets.width} values per step (the target width)`, received: `${picked.shape[1]}` });
-  }
-  return meanSquaredError(tape, picked, targets.values, weights === null ? {} : { weights });
-}
-
-/** A time-major batch input cut after `split` steps (views, no copies); the first part is null when `split` is 0. */
-function splitSteps(input: Tensor | TokenBatch, split: number, rows: number): [Tensor | TokenBatch | null, Tensor | TokenBatch] {
-  if (!(input instanceof Tensor)) {
-    const { tokens, steps, batch } = input;
-    const tail: TokenBatch = { tokens: tokens.subarray(split * rows), steps: steps - split, batch };
-    return [split === 0 ? null : { tokens: tokens.subarray(0, split * rows), steps: split, batch }, tail];
-  }
-  const [steps, , width] = input.shape;
-  const cut = split * rows * width;
-  const tail = new Tensor(input.data.subarray(cut), [steps - split, rows, width]);
-  return [split === 0 ? null : new Tensor(input.data.subarray(0, cut), [split, rows, width]), tail];
-}
