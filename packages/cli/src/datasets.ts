@@ -5,6 +5,9 @@
  * - a text file → next-character (or next-word) prediction;
  * - a labelled CSV of sequences → sequence classification.
  * Validation data is the last share of a series or text (time order kept), or a seeded random share of sequences.
+ *
+ * Why one file of this length: the three tasks' preparations (forecast, text, classify) produce one shape (Prepared,
+ * HeldOutReport) and share their normalisation and held-out splits; side by side they stay alike.
  */
 import { Random, WeftError } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';

@@ -11,6 +11,9 @@
  *
  * Anyone can point it at their own computation: `build` records a scalar on the tape it is given, reading the
  * tensors under test; the check perturbs those tensors' values in place and always puts them back exactly.
+ *
+ * Why one file of this length: the entry-by-entry and the directional checks share the perturbation, tolerance and
+ * report code, and the report's text is the check's output.
  */
 import type { FloatArray } from './dtype.js';
 import { fail, formatShape } from './errors.js';

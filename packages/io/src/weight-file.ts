@@ -10,6 +10,9 @@
  * buffer is made, base64 lengths against shapes, and the SHA-256 digest over the tensor bytes. Keys named
  * `__proto__`, `constructor` or `prototype` are refused wherever they appear. Every problem found is collected,
  * each with its JSON path, and thrown together.
+ *
+ * Why one file of this length: the writer and the reader are the two halves of one format, and every check the
+ * reader makes (limits, layout, base64, digest) sits beside the field it guards, so the format is read in one place.
  */
 import { WeftError, fail, isRecord } from '@weft/core';
 import type { FloatArray, Problem } from '@weft/core';

@@ -12,6 +12,9 @@
  * Reproducibility: every random choice (dropout masks, batch order) comes from seeded generators; `snapshot()`
  * captures weights, optimiser state, generator state, schedule position, data cursor, carried state and the
  * early-stopping record, and `restore()` continues bit for bit.
+ *
+ * Why one file of this length (just over 300 lines): the step, the run loop and snapshot/restore read and write the
+ * same private state of one object; the parts that stand alone are in training/.
  */
 import { BufferPool, Random, Tape, Tensor, WeftError, backendOf, defaultBackend, resetGradients, zeros } from '@weft/core';
 import type { Backend, FloatArray } from '@weft/core';

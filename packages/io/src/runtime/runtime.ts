@@ -7,6 +7,9 @@
  *   one, and their state read out and restored. (A bidirectional layer needs the whole sequence, so models with
  *   one run only in whole-sequence mode.)
  * - `run(...)`: a whole batch of sequences in weft's time-major layout, ragged lengths allowed, any model.
+ *
+ * Why one file of this length: Runtime and Streams share one preallocated buffer layout (weights, per-layer state
+ * and scratch); keeping them together keeps that layout in one place.
  */
 import { WeftError, fail } from '@weft/core';
 import type { Problem } from '@weft/core';

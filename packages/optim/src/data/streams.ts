@@ -1,0 +1,190 @@
+/** Batches over long streams (see data.ts): value series for forecasting and token streams for next-token models. */
+import { fail, zeros } from '@weft/core';
+import type { DType, FloatArray } from '@weft/core';
+import { BatchBuffers } from './buffers.js';
+import type { Batch, DataSource } from '../data.js';
+
+/** A long stream of token ids, for next-token models. */
+export interface TokenStreamOptions {
+  /** Marks a token stream. */
+  readonly kind: 'tokens';
+  /** The corpus as token ids; the target at each position is the next id. */
+  readonly tokens: Int32Array;
+  /** How many distinct ids there are; every id must be below it. */
+  readonly vocabulary: number;
+}
+
+/** A long series of numbers, for forecasting. */
+export interface ValueStreamOptions {
+  /** Marks a value stream. */
+  readonly kind: 'values';
+  /** Row-major [N, features]. */
+  readonly values: FloatArray | readonly number[];
+  /** Numbers per row (the model's input width). */
+  readonly features: number;
+  /** Columns to predict (default all). */
+  readonly targetColumns?: readonly number[];
+  /**
+   * What to predict instead of columns of `values`: row-major [N, targetWidth], row t + horizon being the target of
+   * step t (for targets derived from the values, such as differences). `targetColumns` is then not used.
+   */
+  readonly targets?: FloatArray | readonly number[];
+  /** Numbers per row of `targets`. */
+  readonly targetWidth?: number;
+  /** Predict the value this many steps ahead (default 1). */
+  readonly horizon?: number;
+  /** Element type of the batches' tensors; default `f32`. */
+  readonly dtype?: DType;
+}
+
+/**
+ * How a stream is cut into batches: B parallel streams through the data, T steps per window, the state carried from one
+ * window to the next.
+ */
+export interface StreamOptions {
+  /** Parallel streams B (default 1). */
+  readonly streams?: number;
+  /** Window length T: new steps per update (k1). */
+  readonly window: number;
+  /** Extra steps before each window that the reverse sweep runs through (k2 − k1), at most T. Default 0. */
+  readonly lookback?: number;
+}
+
+/**
+ * Where window `index` starts and how its lookback, loss weights and carried state fall. The weights (0 over the
+ * lookback steps, 1 over the window's own) depend only on how many steps are skipped, so each distinct one is made
+ * once and kept in `weightsBySkipped`; batches hand out the same read-only array.
+ */
+function windowPlan(index: number, window: number, lookback: number, streams: number, weightsBySkipped: Map<number, Float64Array>) {
+  const start = index * window;
+  const begin = Math.max(0, start - lookback);
+  const steps = start + window - begin;
+  const skipped = start - begin;
+  const carryAfter = Math.max(0, (index + 1) * window - lookback - begin);
+  let weights: Float64Array | null = null;
+  if (skipped > 0) {
+    weights = weightsBySkipped.get(skipped) ?? null;
+    if (weights === null) {
+      weights = new Float64Array(steps * streams).fill(1);
+      weights.fill(0, 0, skipped * streams);
+      weightsBySkipped.set(skipped, weights);
+    }
+  }
+  return { begin, steps, carryAfter: lookback > 0 ? carryAfter : undefined, weights };
+}
+
+/**
+ * Batches over a long stream for truncated backpropagation through time: the data is cut into `streams` equal parts
+ * read side by side, `window` steps per batch, each batch continuing where the last ended.
+ */
+export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, options: StreamOptions): DataSource {
+  const streams = options.streams ?? 1;
+  const window = options.window;
+  if (!Number.isInteger(streams) || streams < 1) fail('invalid_option', 'stream.streams', 'a whole number ≥ 1', String(streams));
+  if (!Number.isInteger(window) || window < 1) fail('invalid_option', 'stream.window', 'a whole number ≥ 1', String(window));
+  const lookback = options.lookback ?? 0;
+  if (!Number.isInteger(lookback) || lookback < 0 || lookback > window) fail('invalid_option', 'stream.lookback', `a whole number from 0 to the window (${window})`, String(lookback));
+  if (data.kind === 'tokens') {
+    const { tokens, vocabulary } = data;
+    for (let i = 0; i < tokens.length; i++) {
+      if (!(tokens[i] >= 0 && tokens[i] < vocabulary)) fail('bad_data', `stream.tokens[${i}]`, `an id in [0, ${vocabulary})`, String(tokens[i]));
+    }
+    // Pairs (input, next): N − 1 of them, split into `streams` contiguous slices.
+    const perStream = Math.floor((tokens.length - 1) / streams);
+    const windows = Math.floor(perStream / window);
+    if (windows < 1) fail('bad_data', 'stream.tokens', `at least ${streams * window + 1} tokens for ${streams} streams of one ${window}-step window`, `${tokens.length}`);
+    const weightsBySkipped = new Map<number, Float64Array>();
+    // The id and target arrays of a batch, by its number of steps (a window, or a window and its lookback): refilled
+    // by each batch, valid until the next `batch()` call, as for every source.
+    const arraysBySteps = new Map<number, { ids: Int32Array; classes: Int32Array }>();
+    return {
+      batchesPerEpoch: windows,
+      carriesState: true,
+      batch(_epoch: number, index: number): Batch {
+        const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams, weightsBySkipped);
+        let arrays = arraysBySteps.get(steps);
+        if (arrays === undefined) {
+          arrays = { ids: new Int32Array(steps * streams), classes: new Int32Array(steps * streams) };
+          arraysBySteps.set(steps, arrays);
+        }
+        const { ids, classes } = arrays;
+        for (let t = 0; t < steps; t++) {
+          for (let b = 0; b < streams; b++) {
+            const at = b * perStream + begin + t;
+            ids[t * streams + b] = tokens[at];
+            classes[t * streams + b] = tokens[at + 1];
+          }
+        }
+        return {
+          input: { tokens: ids, steps, batch: streams },
+          steps,
+          batch: streams,
+          lengths: null,
+          targets: { kind: 'classes', perStep: true, classes, weights },
+          positions: window * streams,
+          carryAfter,
+        };
+      },
+    };
+  }
+  const { values, features } = data;
+  const horizon = data.horizon ?? 1;
+  const columns = data.targetColumns ?? Array.from({ length: features }, (_, i) => i);
+  const dtype = data.dtype ?? 'f32';
+  if (!Number.isInteger(features) || features < 1) fail('invalid_option', 'stream.features', 'a whole number ≥ 1', String(features));
+  if (values.length % features !== 0) fail('bad_data', 'stream.values', `a multiple of ${features} values (rows × features)`, `${values.length}`);
+  if (!Number.isInteger(horizon) || horizon < 1) fail('invalid_option', 'stream.horizon', 'a whole number ≥ 1', String(horizon));
+  columns.forEach((c, i) => {
+    if (!Number.isInteger(c) || c < 0 || c >= features) fail('invalid_option', `stream.targetColumns[${i}]`, `a column in [0, ${features})`, String(c));
+  });
+  for (let i = 0; i < values.length; i++) {
+    if (!Number.isFinite(values[i])) fail('bad_data', `stream.values[${Math.floor(i / features)}][${i % features}]`, 'a finite number', String(values[i]));
+  }
+  const rows = values.length / features;
+  const own = data.targets;
+  const ownWidth = data.targetWidth ?? 1;
+  if (own !== undefined) {
+    if (!Number.isInteger(ownWidth) || ownWidth < 1) fail('invalid_option', 'stream.targetWidth', 'a whole number ≥ 1', String(ownWidth));
+    if (own.length !== rows * ownWidth) fail('bad_data', 'stream.targets', `${rows * ownWidth} values (${rows} rows × ${ownWidth}, as many rows as the values)`, `${own.length}`);
+    for (let i = 0; i < own.length; i++) {
+      if (!Number.isFinite(own[i])) fail('bad_data', `stream.targets[${Math.floor(i / ownWidth)}][${i % ownWidth}]`, 'a finite number', String(own[i]));
+    }
+  }
+  const perStream = Math.floor((rows - horizon) / streams);
+  const windows = Math.floor(perStream / window);
+  if (windows < 1) fail('bad_data', 'stream.values', `at least ${streams * window + horizon} rows`, `${rows}`);
+  const width = own === undefined ? columns.length : ownWidth;
+  const buffers = new BatchBuffers();
+  const weightsBySkipped = new Map<number, Float64Array>();
+  return {
+    batchesPerEpoch: windows,
+    carriesState: true,
+    batch(_epoch: number, index: number): Batch {
+      buffers.recycle();
+      const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams, weightsBySkipped);
+      // Filled in place in buffers from the pool (given back at the next batch): every entry is written below.
+      const inputTensor = buffers.keep(zeros([steps, streams, features], dtype));
+      const targetTensor = buffers.keep(zeros([steps * streams, width], dtype));
+      const input = inputTensor.data;
+      const target = targetTensor.data;
+      for (let t = 0; t < steps; t++) {
+        for (let b = 0; b < streams; b++) {
+          const row = b * perStream + begin + t;
+          const at = t * streams + b;
+          for (let f = 0; f < features; f++) input[at * features + f] = values[row * features + f];
+          if (own === undefined) for (let c = 0; c < width; c++) target[at * width + c] = values[(row + horizon) * features + columns[c]];
+          else for (let c = 0; c < width; c++) target[at * width + c] = own[(row + horizon) * width + c];
+        }
+      }
+      return {
+        input: inputTensor,
+        steps,
+        batch: streams,
+        lengths: null,
+        targets: { kind: 'values', perStep: true, width, values: targetTensor, weights },
+        positions: window * streams,
+        carryAfter,
+      };
+    },
+  };
+}
