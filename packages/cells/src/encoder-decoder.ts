@@ -2,7 +2,7 @@
  * An encoder-decoder model for training (see EncoderDecoderDescription): two SequenceModels, the encoder's final
  * state passed as the decoder's initial state. Parameters are named `encoder.<name>` and `decoder.<name>`.
  */
-import { WeftError } from '@weft/core';
+import { WeftError, fail } from '@weft/core';
 import type { Tape, Tensor } from '@weft/core';
 import type { NamedParameter } from './cell.js';
 import type { EncoderDecoderDescription } from './description.js';
@@ -56,7 +56,7 @@ export class EncoderDecoderModel {
    */
   run(tape: Tape, source: TokenBatch, sourceLengths: Int32Array | readonly number[] | null, targetInput: TokenBatch, targetLengths: Int32Array | readonly number[] | null = null): EncoderDecoderRun {
     if (source.batch !== targetInput.batch) {
-      throw new WeftError({ code: 'shape_mismatch', path: 'encoderDecoder.targetInput.batch', expected: `${source.batch} (the source batch)`, received: `${targetInput.batch}` });
+      fail('shape_mismatch', 'encoderDecoder.targetInput.batch', `${source.batch} (the source batch)`, `${targetInput.batch}`);
     }
     const fed = this.description.reverseSource === true ? reverseTokens(source, sourceLengths) : source;
     const encoded = this.encoder.run(tape, fed, { lengths: sourceLengths }).state;

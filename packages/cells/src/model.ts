@@ -11,7 +11,7 @@
  * Initialisation draws from one seeded generator in this order: embedding, layers (forward cell, then backward
  * cell), readout. Embedding entries are N(0, 1/width); readout weights Glorot-uniform, readout bias 0.
  */
-import { Random, WeftError, add, dropout, fail, formatShape, gatherRows, matmul, randomNormal, reshape, trainable } from '@weft/core';
+import { Random, add, dropout, fail, formatShape, gatherRows, matmul, randomNormal, reshape, trainable } from '@weft/core';
 import type { DType, Tape, Tensor } from '@weft/core';
 import type { CellMode, NamedParameter, RecurrentCell, StateSlot } from './cell.js';
 import type { LayerDescription, ModelDescription } from './description.js';
@@ -270,7 +270,7 @@ function makeCell(request: CellRequest, custom: Readonly<Record<string, CellMake
       return new PlainCell({ inputSize, hiddenSize, dtype, random, name, mode, activation: layer.activation });
     default: {
       const maker = custom[layer.cell];
-      if (maker === undefined) throw new WeftError({ code: 'invalid_option', path: `${name}.cell`, expected: 'a known cell kind', received: layer.cell });
+      if (maker === undefined) fail('invalid_option', `${name}.cell`, 'a known cell kind', layer.cell);
       return maker(request);
     }
   }

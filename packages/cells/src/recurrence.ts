@@ -4,7 +4,7 @@
  * the bias, common practice for recurrent layers), then runs one fused tape node per step, each reading its
  * step's rows of the projection.
  */
-import { Random, WeftError, add, fail, formatShape, matmul, reshape, trainable, zeros } from '@weft/core';
+import { Random, add, fail, formatShape, matmul, reshape, trainable, zeros } from '@weft/core';
 import type { DType, Tape, Tensor } from '@weft/core';
 import type { CellMode, SequenceResult } from './cell.js';
 import { stackSteps } from './sequence-ops.js';
@@ -68,19 +68,19 @@ export function checkStepArguments(
   dtype: DType,
 ): void {
   if (input.shape.length !== 2 || input.shape[1] !== inputSize) {
-    throw new WeftError({ code: 'shape_mismatch', path: `${where}.input`, expected: `[batch, ${inputSize}]`, received: formatShape(input.shape) });
+    fail('shape_mismatch', `${where}.input`, `[batch, ${inputSize}]`, formatShape(input.shape));
   }
-  if (input.dtype !== dtype) throw new WeftError({ code: 'dtype_mismatch', path: `${where}.input`, expected: dtype, received: input.dtype });
+  if (input.dtype !== dtype) fail('dtype_mismatch', `${where}.input`, dtype, input.dtype);
   const rows = input.shape[0];
   if (state.length !== slots.length) {
-    throw new WeftError({ code: 'invalid_argument', path: `${where}.state`, expected: `${slots.length} tensors (${slots.map((s) => s.name).join(', ')})`, received: `${state.length}` });
+    fail('invalid_argument', `${where}.state`, `${slots.length} tensors (${slots.map((s) => s.name).join(', ')})`, `${state.length}`);
   }
   slots.forEach((slot, i) => {
     const t = state[i];
     if (t.shape.length !== 2 || t.shape[0] !== rows || t.shape[1] !== slot.size) {
-      throw new WeftError({ code: 'shape_mismatch', path: `${where}.state.${slot.name}`, expected: formatShape([rows, slot.size]), received: formatShape(t.shape) });
+      fail('shape_mismatch', `${where}.state.${slot.name}`, formatShape([rows, slot.size]), formatShape(t.shape));
     }
-    if (t.dtype !== dtype) throw new WeftError({ code: 'dtype_mismatch', path: `${where}.state.${slot.name}`, expected: dtype, received: t.dtype });
+    if (t.dtype !== dtype) fail('dtype_mismatch', `${where}.state.${slot.name}`, dtype, t.dtype);
   });
 }
 

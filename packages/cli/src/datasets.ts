@@ -9,7 +9,7 @@
  * Why one file of this length: the three tasks' preparations (forecast, text, classify) produce one shape (Prepared,
  * HeldOutReport) and share their normalisation and held-out splits; side by side they stay alike.
  */
-import { Random, WeftError } from '@weft/core';
+import { Random, fail } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { evaluate, forEachEvaluatedBatch, sequenceBatches, streamBatches } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
@@ -105,7 +105,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   if (transform !== 'none') {
     if (transform === 'log-returns') {
       values.forEach((row, r) => targetIndexes.forEach((j, k) => {
-        if (!(row[j] > 0)) throw new WeftError({ code: 'bad_data', path: fieldPath(table, r, targets[k]), expected: `a number > 0 in column ${JSON.stringify(table.header[targets[k]])} (log returns need positive values)`, received: String(row[j]) });
+        if (!(row[j] > 0)) fail('bad_data', fieldPath(table, r, targets[k]), `a number > 0 in column ${JSON.stringify(table.header[targets[k]])} (log returns need positive values)`, String(row[j]));
       }));
     }
     const f = TRANSFORMS[transform].forward;
@@ -128,7 +128,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   if (positions.length === 0) throw new CommandError(`${file}: the validation share leaves no held-out rows to score; raise --validation`);
   if (options.season !== undefined && options.season !== null && !(options.season < trainRows)) {
     // The training rows end at this line: a season must fit in them.
-    throw new WeftError({ code: 'invalid_option', path: `${file}:${table.rows[trainRows - 1].line}:1 (--season)`, expected: `a season shorter than the ${trainRows} training rows (of ${rows}), which end at this line`, received: String(options.season) });
+    fail('invalid_option', `${file}:${table.rows[trainRows - 1].line}:1 (--season)`, `a season shorter than the ${trainRows} training rows (of ${rows}), which end at this line`, String(options.season));
   }
   const baselines = forecastBaselines({ values, targets: targetIndexes, horizon: options.horizon, trainRows, positions }, { season: options.season });
   const targetNames = targets.map((c) => table.header[c]);
@@ -287,7 +287,7 @@ export function prepareClassification(text: string, file: string, options: Class
 
 /** A classifier needs two classes: `where` is the file:line:column of the first label. */
 function onlyOneClass(labels: readonly string[], where: string): void {
-  if (labels.length < 2) throw new WeftError({ code: 'bad_data', path: where, expected: 'labels of at least two classes (a classifier needs them)', received: `the label ${JSON.stringify(labels[0] ?? '')} on every sequence` });
+  if (labels.length < 2) fail('bad_data', where, 'labels of at least two classes (a classifier needs them)', `the label ${JSON.stringify(labels[0] ?? '')} on every sequence`);
 }
 
 /** A labelled long table (one step per row, several numbers per step) as sequences, normalised per column. */

@@ -9,7 +9,7 @@
  * `--format json` for scripts.
  */
 import { existsSync, readFileSync } from 'node:fs';
-import { WeftError, logSumExp } from '@weft/core';
+import { fail, logSumExp } from '@weft/core';
 import { classificationReport, createTranslator, detectSeason, fieldPath, fitLinear, numberAt, parseTable, readStepTable, scoreForecaster } from '@weft/io';
 import type { SeriesSplit, Table } from '@weft/io';
 import { loadWeightFile } from '@weft/io/node';
@@ -79,7 +79,7 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   const firstTarget = values.map((v) => v[targets[0]]);
   const chosenSeason = season === undefined ? detectSeason(firstTarget) : season;
   if (chosenSeason !== null && !(chosenSeason < values.length - horizon)) {
-    throw new WeftError({ code: 'invalid_option', path: `${name}:${table.rows[table.rows.length - 1].line}:1 (--season)`, expected: `a season shorter than the ${values.length - horizon} rows that have a target row, which end near this line`, received: String(chosenSeason) });
+    fail('invalid_option', `${name}:${table.rows[table.rows.length - 1].line}:1 (--season)`, `a season shorter than the ${values.length - horizon} rows that have a target row, which end near this line`, String(chosenSeason));
   }
   const back = chosenSeason === null ? 0 : Math.ceil(horizon / chosenSeason) * chosenSeason;
   const first = Math.max(0, back - horizon);

@@ -1,5 +1,5 @@
 /** Weight files as Blobs, for pages that download or receive them (File is a Blob). */
-import { WeftError } from '@weft/core';
+import { fail } from '@weft/core';
 import type { ReadOptions, WeightFile } from './weight-file.js';
 import { readWeightFile } from './weight-file.js';
 
@@ -13,7 +13,7 @@ export async function readWeightFileBlob(blob: Blob, options: ReadOptions = {}):
   const limit = options.maxCharacters ?? 512 * 1024 * 1024;
   // Refuse before reading: a UTF-8 Blob has at least one byte per character.
   if (blob.size > limit * 4) {
-    throw new WeftError({ code: 'bad_weight_file', path: '(file)', expected: `at most ${limit} characters`, received: `${blob.size} bytes` });
+    fail('bad_weight_file', '(file)', `at most ${limit} characters`, `${blob.size} bytes`);
   }
   return readWeightFile(await blob.text(), options);
 }

@@ -4,7 +4,7 @@
  * state and the early-stopping record. A checkpoint is also a valid weight file for the runtime. Resuming from
  * one continues bit for bit as if training had not stopped.
  */
-import { WeftError, isRecord } from '@weft/core';
+import { WeftError, fail, isRecord } from '@weft/core';
 import type { Problem, RandomState } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors } from './model-file.js';
@@ -86,7 +86,7 @@ export async function readCheckpoint(text: string, options: ReadOptions = {}): P
   const add = (path: string, expected: string, received: unknown): void => {
     problems.push({ code: 'bad_weight_file', path: `training.${path}`, expected, received: typeof received === 'object' ? JSON.stringify(received)?.slice(0, 60) ?? 'null' : String(received) });
   };
-  if (!isRecord(training)) throw new WeftError({ code: 'bad_weight_file', path: 'training', expected: 'the training state of a checkpoint', received: training === undefined ? 'none (a weight file, not a checkpoint)' : typeof training });
+  if (!isRecord(training)) fail('bad_weight_file', 'training', 'the training state of a checkpoint', training === undefined ? 'none (a weight file, not a checkpoint)' : typeof training);
   const whole = (v: unknown) => typeof v === 'number' && Number.isInteger(v) && v >= 0;
   if (!whole(training.step)) add('step', 'a whole number ≥ 0', training.step);
   if (!isRecord(training.cursor) || !whole(training.cursor.epoch) || !whole(training.cursor.index)) add('cursor', '{ epoch, index } whole numbers', training.cursor);

@@ -3,7 +3,7 @@
  * otherwise through the plain-TypeScript implementation in `sha256.ts`, loaded only then (browsers give pages
  * that are not secure contexts no `crypto.subtle`). Both give the same digest; a failure is a `WeftError`.
  */
-import { WeftError } from '@weft/core';
+import { fail } from '@weft/core';
 
 /** The SHA-256 digest of `bytes` as 64 lower-case hex digits (Web Crypto where present, else plain TypeScript). */
 export async function sha256Hex(bytes: Uint8Array): Promise<string> {
@@ -16,7 +16,7 @@ export async function sha256Hex(bytes: Uint8Array): Promise<string> {
   try {
     digest = new Uint8Array(await subtle.digest('SHA-256', bytes as Uint8Array<ArrayBuffer>));
   } catch (error) {
-    throw new WeftError({ code: 'digest_failed', path: 'sha256Hex', expected: 'a SHA-256 digest from Web Crypto', received: error instanceof Error ? error.message : String(error) });
+    fail('digest_failed', 'sha256Hex', 'a SHA-256 digest from Web Crypto', error instanceof Error ? error.message : String(error));
   }
   let hex = '';
   for (const byte of digest) hex += byte.toString(16).padStart(2, '0');

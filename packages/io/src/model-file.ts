@@ -2,7 +2,7 @@
  * Between models and weight files: the tensors of a built model by their stable names, and a model built from a
  * weight file with every tensor checked against the shape its description implies (all problems collected).
  */
-import { WeftError } from '@weft/core';
+import { WeftError, fail } from '@weft/core';
 import type { DType, Problem } from '@weft/core';
 import { EncoderDecoderModel, buildModel, isEncoderDecoder, parameterLayout } from '@weft/cells';
 import { layoutProblems } from './layout-check.js';
@@ -26,7 +26,7 @@ export interface LoadOptions {
 /** A model with the weight file's values (computing in `dtype`, f32 by default). */
 export function loadModel(file: WeightFile, options: LoadOptions = {}): SequenceModel {
   if (isEncoderDecoder(file.model)) {
-    throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: 'a sequence model (use loadEncoderDecoder for this file)', received: '"encoder-decoder"' });
+    fail('bad_weight_file', 'model.kind', 'a sequence model (use loadEncoderDecoder for this file)', '"encoder-decoder"');
   }
   checkBeforeBuilding(file);
   return fill(buildModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells }), file);

@@ -9,7 +9,7 @@
  * `normalisation` { mean, deviation } and `targetTransform` { kind, mean, deviation } for values models; `vocabulary` and `tokens` ('characters' | 'words') for
  * token models; `classes` for classifiers. Call `checkMetadata` first on a file you did not make.
  */
-import { WeftError } from '@weft/core';
+import { WeftError, fail } from '@weft/core';
 
 /** The token of ids a vocabulary has no other id for (the first entry of every vocabulary weft makes). */
 export const UNKNOWN_TOKEN = '<unknown>';
@@ -84,7 +84,7 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
     outputNames,
     inputs(row, into, where = 'row') {
       const out = into ?? new Float32Array(columns.length);
-      if (out.length !== columns.length) throw new WeftError({ code: 'shape_mismatch', path: `${where} (into)`, expected: `${columns.length} numbers`, received: String(out.length) });
+      if (out.length !== columns.length) fail('shape_mismatch', `${where} (into)`, `${columns.length} numbers`, String(out.length));
       columns.forEach((name, j) => {
         if (!Object.prototype.hasOwnProperty.call(row, name)) throw bad(`${where}.${name}`, `a value for column ${JSON.stringify(name)}, which the model reads`, 'nothing');
         const raw = row[name];

@@ -230,7 +230,7 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
   const maxCharacters = options.maxCharacters ?? 512 * 1024 * 1024;
   const maxDepth = options.maxDepth ?? 64;
   const refuse = (path: string, expected: string, received: string): never => {
-    throw new WeftError({ code: 'bad_weight_file', path, expected, received });
+    fail('bad_weight_file', path, expected, received);
   };
   if (typeof text !== 'string') refuse('(file)', 'text', typeof text);
   if (text.length > maxCharacters) refuse('(file)', `at most ${maxCharacters} characters`, `${text.length}`);
@@ -381,7 +381,7 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
   const hex = checked ? await sha256Hex(concatenate(digestParts)) : '';
   const verified = checked && hex === (digest as Record<string, string>).hex;
   if (checked && !verified && options.verifyDigest !== 'report') {
-    throw new WeftError({ code: 'bad_weight_file', path: 'digest.hex', expected: (digest as Record<string, string>).hex, received: `${hex} (SHA-256 of the tensor bytes: the file was changed or damaged)` });
+    fail('bad_weight_file', 'digest.hex', (digest as Record<string, string>).hex, `${hex} (SHA-256 of the tensor bytes: the file was changed or damaged)`);
   }
   return {
     version: file.version as number,

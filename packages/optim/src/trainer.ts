@@ -16,7 +16,7 @@
  * Why one file of this length (just over 300 lines): the step, the run loop and snapshot/restore read and write the
  * same private state of one object; the parts that stand alone are in training/.
  */
-import { BufferPool, Random, Tape, Tensor, WeftError, backendOf, defaultBackend, resetGradients, zeros } from '@weft/core';
+import { BufferPool, Random, Tape, Tensor, backendOf, defaultBackend, fail, resetGradients, zeros } from '@weft/core';
 import type { Backend, FloatArray } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { limitGradientNorm, limitGradientValues, firstNonFiniteEntry, gradientNorm } from './clipping.js';
@@ -61,18 +61,18 @@ export class Trainer {
 
   constructor(options: TrainerOptions) {
     if (!Number.isInteger(options.epochs) || options.epochs < 1) {
-      throw new WeftError({ code: 'invalid_option', path: 'trainer.epochs', expected: 'a whole number ≥ 1', received: String(options.epochs) });
+      fail('invalid_option', 'trainer.epochs', 'a whole number ≥ 1', String(options.epochs));
     }
     if (options.schedule !== undefined) checkSchedule(options.schedule);
     // The names these options had before 0.2: refused by name, so a program written for them does not train unclipped.
     for (const [old, now] of [['clipNorm', 'gradientNormLimit'], ['clipValue', 'gradientValueLimit']] as const) {
-      if (old in options) throw new WeftError({ code: 'invalid_option', path: `trainer.${old}`, expected: `trainer.${now} (the option's name now)`, received: `trainer.${old}` });
+      if (old in options) fail('invalid_option', `trainer.${old}`, `trainer.${now} (the option's name now)`, `trainer.${old}`);
     }
     for (const [name, value] of [['gradientNormLimit', options.gradientNormLimit], ['gradientValueLimit', options.gradientValueLimit], ['validateEvery', options.validateEvery], ['patience', options.patience]] as const) {
-      if (value !== undefined && !(value > 0)) throw new WeftError({ code: 'invalid_option', path: `trainer.${name}`, expected: 'a number > 0', received: String(value) });
+      if (value !== undefined && !(value > 0)) fail('invalid_option', `trainer.${name}`, 'a number > 0', String(value));
     }
     if (options.keepBest !== undefined && typeof options.keepBest !== 'boolean') {
-      throw new WeftError({ code: 'invalid_option', path: 'trainer.keepBest', expected: 'true or false', received: String(options.keepBest) });
+      fail('invalid_option', 'trainer.keepBest', 'true or false', String(options.keepBest));
     }
     this.options = options;
     this.model = options.model;
@@ -80,7 +80,7 @@ export class Trainer {
     this.backend = options.backend ?? (this.parameters.length > 0 ? backendOf(this.parameters[0].data) : defaultBackend());
     this.parameters.forEach((p, i) => {
       if (!this.backend.holds(p.data)) {
-        throw new WeftError({ code: 'backend_mismatch', path: `trainer.model.parameters[${i}] (${p.label()})`, expected: `a tensor in ${this.backend.name} memory (the trainer's backend)`, received: `a tensor in ${backendOf(p.data).name} memory` });
+        fail('backend_mismatch', `trainer.model.parameters[${i}] (${p.label()})`, `a tensor in ${this.backend.name} memory (the trainer's backend)`, `a tensor in ${backendOf(p.data).name} memory`);
       }
     });
     this.pool = this.backend.createPool();
@@ -118,7 +118,7 @@ export class Trainer {
     const stepNumber = this.stepCount + 1;
     if (!Number.isFinite(value)) {
       this.tape.clear();
-      throw new WeftError({ code: 'not_finite', path: `training step ${stepNumber}: loss`, expected: 'a finite value', received: String(value), detail: 'the weights are those after the last finite step' });
+      fail('not_finite', `training step ${stepNumber}: loss`, 'a finite value', String(value), 'the weights are those after the last finite step');
     }
     this.tape.reverseSweep(loss);
     const multiplier = this.options.schedule === undefined ? 1 : scheduleFactor(this.options.schedule, this.stepCount);
@@ -136,13 +136,13 @@ export class Trainer {
       if (badValue !== null) {
         for (let i = 0; i < this.parameters.length; i++) this.parameters[i].data.set(this.backup[i]);
         this.tape.clear();
-        throw new WeftError({
-          code: 'not_finite',
-          path: `training step ${stepNumber}: parameter ${badValue.name}[${badValue.offset}]`,
-          expected: 'a finite value after the update',
-          received: String(badValue.value),
-          detail: 'the update was undone; the weights are those after the last finite step',
-        });
+        fail(
+          'not_finite',
+          `training step ${stepNumber}: parameter ${badValue.name}[${badValue.offset}]`,
+          'a finite value after the update',
+          String(badValue.value),
+          'the update was undone; the weights are those after the last finite step',
+        );
       }
     }
     if (data.carriesState) {
@@ -239,7 +239,7 @@ export class Trainer {
       names.forEach((name, i) => {
         const values = from[name];
         if (values === undefined || values.length !== into[i].length) {
-          throw new WeftError({ code: 'shape_mismatch', path: `${where}.${name}`, expected: `${into[i].length} values`, received: values === undefined ? 'nothing' : `${values.length}` });
+          fail('shape_mismatch', `${where}.${name}`, `${into[i].length} values`, values === undefined ? 'nothing' : `${values.length}`);
         }
         for (let k = 0; k < values.length; k++) into[i][k] = values[k];
       });
@@ -274,7 +274,7 @@ export class Trainer {
   }
 
   private requireValidation(): DataSource {
-    if (this.options.validation === undefined) throw new WeftError({ code: 'invalid_option', path: 'trainer.validation', expected: 'a validation data source', received: 'nothing' });
+    if (this.options.validation === undefined) fail('invalid_option', 'trainer.validation', 'a validation data source', 'nothing');
     return this.options.validation;
   }
 

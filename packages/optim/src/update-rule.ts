@@ -7,7 +7,7 @@
  * and is exposed as plain data for checkpoints: `state()` and `restore()` round-trip it exactly (f32 and f64
  * values are exact as JSON numbers).
  */
-import { WeftError, backendOf, fail, formatShape } from '@weft/core';
+import { backendOf, fail, formatShape } from '@weft/core';
 import type { FloatArray, KernelTable, Tensor } from '@weft/core';
 
 /** An update rule's state as plain data, for checkpoints: exact as JSON numbers. */
@@ -122,7 +122,7 @@ export abstract class UpdateRule {
       const p = parameters[i];
       if (p.size !== this.sizes[i]) fail('shape_mismatch', `${this.kind}.update.parameters[${i}]`, `${this.sizes[i]} elements`, `${formatShape(p.shape)}`);
       if (p.gradient === null) {
-        throw new WeftError({ code: 'invalid_argument', path: `${this.kind}.update.parameters[${i}]`, expected: 'a trainable tensor with a gradient', received: p.label() });
+        fail('invalid_argument', `${this.kind}.update.parameters[${i}]`, 'a trainable tensor with a gradient', p.label());
       }
     }
   }

@@ -8,7 +8,7 @@
  * operation that meets tensors of two backends says so (see backend.ts).
  */
 import type { FloatArray } from '../dtype.js';
-import { WeftError } from '../errors.js';
+import { fail } from '../errors.js';
 import type { Backend, BackendName } from './backend.js';
 import { javascriptBackend } from './javascript.js';
 import { createWebAssemblyBackend, webAssemblyUnavailable } from './webassembly.js';
@@ -28,7 +28,7 @@ export function webAssemblyBackend(): Backend {
 export function backendNamed(name: string, path = 'backend'): Backend {
   if (name === 'javascript') return javascriptBackend;
   if (name === 'webassembly') return webAssemblyBackend();
-  throw new WeftError({ code: 'invalid_option', path, expected: NAMES.map((n) => `'${n}'`).join(' or '), received: JSON.stringify(name) });
+  fail('invalid_option', path, NAMES.map((n) => `'${n}'`).join(' or '), JSON.stringify(name));
 }
 
 function environmentChoice(): string | undefined {

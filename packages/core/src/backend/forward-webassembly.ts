@@ -7,7 +7,7 @@
  * contiguous run; the kernels therefore refuse arrays that are not this memory's.
  */
 import type { FloatArray } from '../dtype.js';
-import { WeftError } from '../errors.js';
+import { fail } from '../errors.js';
 import type { ForwardBackend, ForwardKernels } from './forward.js';
 import { LinearMemory } from './memory.js';
 import { KernelWorkspace, checkReservation, compileModule, moduleUnavailable } from './module.js';
@@ -44,7 +44,7 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
   const lengths = (values: Int32Array | null, rows: number): number => workspace.lengths(values, rows);
   // The weights are packed for these kernels, so an array from elsewhere cannot be run on the JavaScript twins.
   const foreign = (kernel: string): never => {
-    throw new WeftError({ code: 'backend_mismatch', path: `runtime ${kernel}`, expected: "arrays of this runtime's webassembly memory (made by its backend)", received: 'an array from elsewhere' });
+    fail('backend_mismatch', `runtime ${kernel}`, "arrays of this runtime's webassembly memory (made by its backend)", 'an array from elsewhere');
   };
   // The byte offset of each array, or −1 when it is not this memory's (memory.offsetOf says why not `byteOffset`).
   const at = (a: FloatArray): number => memory.offsetOf(a);

@@ -4,7 +4,7 @@
  * handed — a scratch block for packed panels and a copy of a ragged batch's lengths — kept in the backend's own
  * LinearMemory and grown (never shrunk) to the largest size asked.
  */
-import { WeftError } from '../errors.js';
+import { fail } from '../errors.js';
 import { decodeBase64Bytes } from './bytes.js';
 import type { LinearMemory } from './memory.js';
 
@@ -23,7 +23,7 @@ export function moduleUnavailable(base64: string): string | null {
 export function compileModule(base64: string): WebAssembly.Module {
   const missing = moduleUnavailable(base64);
   if (missing !== null) {
-    throw new WeftError({ code: 'backend_unavailable', path: 'backend webassembly', expected: 'a platform that runs WebAssembly SIMD', received: missing, detail: "use the 'javascript' backend" });
+    fail('backend_unavailable', 'backend webassembly', 'a platform that runs WebAssembly SIMD', missing, "use the 'javascript' backend");
   }
   return new WebAssembly.Module(decodeBase64Bytes(base64));
 }
@@ -32,7 +32,7 @@ export function compileModule(base64: string): WebAssembly.Module {
 export function checkReservation(bytes: unknown, path: string): number {
   const most = 4 * 1073741824 - 65536;
   if (typeof bytes !== 'number' || !Number.isInteger(bytes) || bytes < 65536 || bytes > most) {
-    throw new WeftError({ code: 'invalid_option', path, expected: `a whole number of bytes in [65536, ${most}]`, received: String(bytes) });
+    fail('invalid_option', path, `a whole number of bytes in [65536, ${most}]`, String(bytes));
   }
   return bytes;
 }

@@ -9,7 +9,7 @@
  * - linear: least squares on the current values of every input column plus an intercept, fitted on the training
  *   rows (the normal equations solved by Gaussian elimination with partial pivoting, in f64).
  */
-import { WeftError } from '@weft/core';
+import { fail } from '@weft/core';
 import { ForecastErrorSum } from './scores.js';
 import type { ForecastErrors } from './scores.js';
 
@@ -155,7 +155,7 @@ export interface BaselineOptions {
 export function forecastBaselines(split: SeriesSplit, options: BaselineOptions = {}): BaselineScore[] {
   const { values, targets, horizon, trainRows } = split;
   if (trainRows < 2 || trainRows > values.length) {
-    throw new WeftError({ code: 'invalid_argument', path: 'forecastBaselines.trainRows', expected: `a number of rows in [2, ${values.length}]`, received: String(trainRows) });
+    fail('invalid_argument', 'forecastBaselines.trainRows', `a number of rows in [2, ${values.length}]`, String(trainRows));
   }
   const out: BaselineScore[] = [];
   const add = (name: string, description: string, forecast: Forecaster) => out.push({ name, description, ...scoreForecaster(split, forecast) });
@@ -169,7 +169,7 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
   const season = options.season === undefined ? detectSeason(values.slice(0, trainRows).map((row) => row[targets[0]])) : options.season;
   if (season !== null) {
     if (!(Number.isInteger(season) && season >= 1 && season < trainRows)) {
-      throw new WeftError({ code: 'invalid_option', path: 'season', expected: `a whole number of rows in [1, ${trainRows - 1}] (shorter than the training rows)`, received: String(season) });
+      fail('invalid_option', 'season', `a whole number of rows in [1, ${trainRows - 1}] (shorter than the training rows)`, String(season));
     }
     const back = Math.ceil(horizon / season) * season;
     const usable = split.positions.every((t) => t + horizon - back >= 0);

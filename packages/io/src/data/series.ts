@@ -6,7 +6,7 @@
  * names) is left out and listed with the reason; a column of numbers with a cell that is not one is an error at
  * that cell (`file:line:column`), never dropped quietly. Targets must be among the columns read.
  */
-import { WeftError } from '@weft/core';
+import { fail } from '@weft/core';
 import { columnNamed, decimal, fieldPath, numberAt } from './table.js';
 import type { Table } from './table.js';
 import { UNKNOWN_TOKEN } from '../translate.js';
@@ -52,19 +52,21 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
     if (firstBad < 0) numeric.push(c);
     else if (numbers === 0) leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 40))} at line ${table.rows[firstBad].line})`);
     else if (options.columns === undefined) {
-      throw new WeftError({
-        code: 'bad_data', path: fieldPath(table, firstBad, c), expected: `a decimal number in column ${JSON.stringify(name)}`,
-        received: JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 80)),
-        detail: `${numbers} of ${table.rows.length} cells there are; fix the cell, or choose the columns${options.choices === undefined ? '' : ` ${options.choices.columns}`}`,
-      });
+      fail(
+        'bad_data',
+        fieldPath(table, firstBad, c),
+        `a decimal number in column ${JSON.stringify(name)}`,
+        JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 80)),
+        `${numbers} of ${table.rows.length} cells there are; fix the cell, or choose the columns${options.choices === undefined ? '' : ` ${options.choices.columns}`}`,
+      );
     }
   });
   const columns = options.columns === undefined ? numeric : options.columns.map((name) => columnNamed(table, name, options.choices?.columns ?? 'a column to read'));
-  if (columns.length === 0) throw new WeftError({ code: 'bad_data', path: `${table.file}:1:1`, expected: 'at least one column of numbers', received: `the columns ${table.header.join(', ')}` });
+  if (columns.length === 0) fail('bad_data', `${table.file}:1:1`, 'at least one column of numbers', `the columns ${table.header.join(', ')}`);
   const targets = options.targets === undefined ? columns : options.targets.map((name) => columnNamed(table, name, options.choices?.targets ?? 'a column to forecast'));
   for (const t of targets) {
     if (!columns.includes(t)) {
-      throw new WeftError({ code: 'bad_data', path: `${table.file}:1:1`, expected: `a target among the columns read (${columns.map((c) => table.header[c]).join(', ')})`, received: JSON.stringify(table.header[t]) });
+      fail('bad_data', `${table.file}:1:1`, `a target among the columns read (${columns.map((c) => table.header[c]).join(', ')})`, JSON.stringify(table.header[t]));
     }
   }
   return {

@@ -6,7 +6,7 @@
 import { randomBytes } from 'node:crypto';
 import { closeSync, fsyncSync, openSync, readFileSync, readdirSync, renameSync, rmSync, writeSync } from 'node:fs';
 import { basename, dirname, join } from 'node:path';
-import { WeftError } from '@weft/core';
+import { WeftError, fail } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { checkMetadata, loadModel, modelTensors, readCheckpoint, readWeightFile, writeCheckpoint, writeWeightFile } from '@weft/io';
 import type { Checkpoint, ReadOptions, TrainingStateSource, WeightFile, WeightMetadata, WriteOptions } from '@weft/io';
@@ -74,7 +74,7 @@ export function readText(path: string): string {
     return readFileSync(path, 'utf8');
   } catch (error) {
     const code = (error as NodeJS.ErrnoException).code;
-    throw new WeftError({ code: 'bad_data', path, expected: 'a readable file', received: code === 'ENOENT' ? 'no such file' : String((error as Error).message) });
+    fail('bad_data', path, 'a readable file', code === 'ENOENT' ? 'no such file' : String((error as Error).message));
   }
 }
 

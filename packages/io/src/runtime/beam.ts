@@ -5,7 +5,7 @@
  * by length-normalised score, log P / length^α (α = `lengthPenalty`, default 1: the mean log-probability per
  * token; 0 ranks by total log-probability).
  */
-import { WeftError, fail, logSumExp } from '@weft/core';
+import { fail, logSumExp } from '@weft/core';
 import type { EncoderDecoderDescription } from '@weft/cells/description';
 import { isEncoderDecoder } from '@weft/cells/description';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
@@ -63,13 +63,13 @@ export class EncoderDecoderRuntime {
 
   constructor(file: WeightFile, backend?: ForwardBackend) {
     if (!isEncoderDecoder(file.model)) {
-      throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: '"encoder-decoder" (use createRuntime for a sequence model)', received: 'a sequence model' });
+      fail('bad_weight_file', 'model.kind', '"encoder-decoder" (use createRuntime for a sequence model)', 'a sequence model');
     }
     this.description = file.model;
     this.encoder = new Runtime(part(file, 'encoder', this.description), backend);
     this.decoder = new Runtime(part(file, 'decoder', this.description), backend);
     const stray = file.tensors.find((t) => !t.name.startsWith('encoder.') && !t.name.startsWith('decoder.'));
-    if (stray !== undefined) throw new WeftError({ code: 'bad_weight_file', path: `tensors (${stray.name})`, expected: 'names starting with encoder. or decoder.', received: stray.name });
+    if (stray !== undefined) fail('bad_weight_file', `tensors (${stray.name})`, 'names starting with encoder. or decoder.', stray.name);
   }
 
   /** The encoder's final state for one source sequence, in `Runtime.stateWidths()` order (one row each). */

@@ -3,7 +3,7 @@
  * `javascript`, or a ForwardBackend made by the caller. The default is WebAssembly where the platform validates a
  * SIMD module, else JavaScript; WEFT_BACKEND (read once where a `process` exists) overrides it, as for training.
  */
-import { WeftError } from '@weft/core';
+import { fail } from '@weft/core';
 import type { ForwardBackend } from '@weft/core/forward';
 import { createForwardWebAssembly, forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
 import { setForwardChooser } from './forward-default.js';
@@ -22,7 +22,7 @@ export function forwardBackend(choice: RuntimeBackendChoice | undefined, weightB
   if (choice === 'javascript') return javascriptForward;
   if (choice === 'webassembly') return createForwardWebAssembly({ weightBytes, memoryBytes });
   if (typeof choice === 'object' && choice !== null && typeof choice.floats === 'function') return choice;
-  throw new WeftError({ code: 'invalid_option', path: 'runtime.backend', expected: "'javascript', 'webassembly' or a forward backend", received: JSON.stringify(choice) ?? String(choice) });
+  fail('invalid_option', 'runtime.backend', "'javascript', 'webassembly' or a forward backend", JSON.stringify(choice) ?? String(choice));
 }
 
 setForwardChooser((weightBytes) => forwardBackend(undefined, weightBytes));

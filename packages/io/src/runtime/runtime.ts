@@ -69,7 +69,7 @@ export class Runtime {
   constructor(file: WeightFile, backend?: ForwardBackend) {
     const model = file.model;
     if (isEncoderDecoder(model)) {
-      throw new WeftError({ code: 'bad_weight_file', path: 'model.kind', expected: 'a sequence model (use createEncoderDecoderRuntime for this file)', received: '"encoder-decoder"' });
+      fail('bad_weight_file', 'model.kind', 'a sequence model (use createEncoderDecoderRuntime for this file)', '"encoder-decoder"');
     }
     // Every problem of the file against its description's layout, collected, before any memory is taken.
     const problems: Problem[] = [];

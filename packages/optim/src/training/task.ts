@@ -3,7 +3,7 @@
  * or mean squared error against values, at every step (per-step targets, padding weighted 0) or at each row's last
  * valid step (one target per sequence). Training and evaluation both read their outputs through `taskRows`.
  */
-import { WeftError, crossEntropyAtTargets, meanSquaredError, reshape } from '@weft/core';
+import { crossEntropyAtTargets, fail, meanSquaredError, reshape } from '@weft/core';
 import type { Tape, Tensor } from '@weft/core';
 import { lastSteps } from '@weft/cells';
 import type { Batch } from '../data.js';
@@ -30,12 +30,12 @@ export function taskLoss(tape: Tape, outputs: Tensor, batch: Batch): Tensor {
   const targets = batch.targets;
   if (targets.kind === 'classes') {
     if (targets.classes.length !== rows) {
-      throw new WeftError({ code: 'shape_mismatch', path: 'trainer.batch.targets', expected: `${rows} classes`, received: `${targets.classes.length}` });
+      fail('shape_mismatch', 'trainer.batch.targets', `${rows} classes`, `${targets.classes.length}`);
     }
     return crossEntropyAtTargets(tape, picked, targets.classes, weights === null ? {} : { weights });
   }
   if (picked.shape[1] !== targets.width) {
-    throw new WeftError({ code: 'shape_mismatch', path: 'trainer.model.outputs', expected: `${targets.width} values per step (the target width)`, received: `${picked.shape[1]}` });
+    fail('shape_mismatch', 'trainer.model.outputs', `${targets.width} values per step (the target width)`, `${picked.shape[1]}`);
   }
   return meanSquaredError(tape, picked, targets.values, weights === null ? {} : { weights });
 }
