@@ -64,7 +64,7 @@ export class Trainer {
       fail('invalid_option', 'trainer.epochs', 'a whole number ≥ 1', String(options.epochs));
     }
     if (options.schedule !== undefined) checkSchedule(options.schedule);
-    // The names these options had before 0.2: refused by name, so a program written for them does not train unclipped.
+    // The names these options had in 0.1.0: refused by name, so a program written for them does not train unclipped.
     for (const [old, now] of [['clipNorm', 'gradientNormLimit'], ['clipValue', 'gradientValueLimit']] as const) {
       if (old in options) fail('invalid_option', `trainer.${old}`, `trainer.${now} (the option's name now)`, `trainer.${old}`);
     }
