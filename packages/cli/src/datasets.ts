@@ -248,7 +248,7 @@ export function prepareClassification(text: string, file: string, options: Class
   onlyOneClass(labels, table.rows.length > 0 ? fieldPath(table, 0, labelAt) : `${file}:1:1`);
   const items = table.rows.map((r) => r.fields[sequenceAt].trim().split(/\s+/).filter((s) => s !== ''));
   items.forEach((list, i) => {
-    if (list.length === 0) throw new CommandError(`${fieldPath(table, i, sequenceAt)}: an empty sequence`);
+    if (list.length === 0) fail('bad_data', fieldPath(table, i, sequenceAt), 'a sequence of at least one item', 'an empty field');
   });
   // Numbers or tokens, decided by every item: a file of numbers with one item that is not is an error there,
   // not a quiet switch to tokens.
@@ -258,7 +258,7 @@ export function prepareClassification(text: string, file: string, options: Class
   if (!numeric && numbers >= total / 2) {
     const row = items.findIndex((list) => list.some((s) => Number.isNaN(decimal(s))));
     const bad = items[row].find((s) => Number.isNaN(decimal(s)))!;
-    throw new CommandError(`${fieldPath(table, row, sequenceAt)}: ${JSON.stringify(bad.slice(0, 80))} in a sequence of numbers is not a decimal number (${numbers} of ${total} items are)`);
+    fail('bad_data', fieldPath(table, row, sequenceAt), `a decimal number, as ${numbers} of the ${total} items of the sequences are`, JSON.stringify(bad.slice(0, 80)));
   }
   const vocabulary = numeric ? null : buildVocabulary(items.flat());
   const index = new Map((vocabulary ?? []).map((v, i) => [v, i]));

@@ -9,6 +9,7 @@
  * A table read from standard input (`-`) is read line by line and each output row is written as soon as its input
  * row has arrived, so `tail -f readings.csv | weft run MODEL -` forecasts as readings come in.
  */
+import { fail } from '@weft/core';
 import { createReadStream, existsSync, readFileSync } from 'node:fs';
 import { createInterface } from 'node:readline';
 import { createTranslator, parseTable, fieldPath } from '@weft/io';
@@ -253,7 +254,7 @@ function classifier(runtime: Runtime, meta: Record<string, unknown>, name: strin
     }
     const r = table.rows[0];
     const items = r.fields[column].trim().split(/\s+/).filter((s) => s !== '');
-    if (items.length === 0) throw new CommandError(`${fieldPath(table, 0, column)}: an empty sequence`);
+    if (items.length === 0) fail('bad_data', fieldPath(table, 0, column), 'a sequence of at least one item', 'an empty field');
     const values = tokens
       ? translator.tokenIds(items.join(' ')).ids
       : Float32Array.from(items, (s, k) => {

@@ -166,7 +166,7 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
     const k = classes.indexOf(label);
     if (k < 0) throw new CommandError(`${fieldPath(table, i, labelAt)}: ${JSON.stringify(label.slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
     const items = r.fields[sequenceAt].trim().split(/\s+/).filter((s) => s !== '');
-    if (items.length === 0) throw new CommandError(`${fieldPath(table, i, sequenceAt)}: an empty sequence`);
+    if (items.length === 0) fail('bad_data', fieldPath(table, i, sequenceAt), 'a sequence of at least one item', 'an empty field');
     const input = tokens
       ? translator.tokenIds(items.join(' ')).ids
       : Float32Array.from(items, (s, j) => {

@@ -62,7 +62,7 @@ describe('preparing training data', () => {
   it('refuses one item that is not a number in a file of numeric sequences, instead of turning it into tokens', () => {
     const rows = Array.from({ length: 40 }, (_, i) => `${i % 2 === 0 ? 'calm' : 'gusty'},${i === 5 ? '1 2 NaN 4' : '1 2 3 4'}`);
     expect(() => prepareClassification(`label,sequence\n${rows.join('\n')}\n`, 'wind.csv', { ...options, labelColumn: 'label', sequenceColumn: 'sequence' })).toThrowError(
-      'wind.csv:7:7: "NaN" in a sequence of numbers is not a decimal number (159 of 160 items are)',
+      'Bad data at wind.csv:7:7: expected a decimal number, as 159 of the 160 items of the sequences are, received "NaN"',
     );
   });
 });
