@@ -11,7 +11,7 @@
  */
 import { Random, fail } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
-import { evaluate, forEachEvaluatedBatch, sequenceBatches, streamBatches } from '@weft/optim';
+import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { ForecastErrorSum, UNKNOWN_TOKEN, buildVocabulary, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable } from '@weft/io';
 import type { ClassificationReport, ForecastErrors, Table, WeightMetadata } from '@weft/io';
@@ -154,7 +154,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       const sums = targetIndexes.map(() => new ForecastErrorSum());
       const all = new ForecastErrorSum();
       let position = 0;
-      forEachEvaluatedBatch(model, validation, (_batch, { outputs }) => {
+      forEachOutputBatch(model, validation, (_batch, { outputs }) => {
         for (let i = 0; i < outputs.length; i += targetIndexes.length) {
           const t = validationFrom + position++;
           if (t < trainRows || t >= validationFrom + heldOutSteps) continue;
@@ -343,7 +343,7 @@ function classificationData(
     heldOut: (model) => {
       const predicted: number[] = [];
       const actual: number[] = [];
-      forEachEvaluatedBatch(model, validation, (batch, { outputs }) => {
+      forEachOutputBatch(model, validation, (batch, { outputs }) => {
         if (batch.targets.kind !== 'classes') return;
         for (let r = 0; r < batch.batch; r++) {
           let best = 0;
@@ -367,5 +367,5 @@ function classificationData(
 
 /** Mean cross-entropy (nats) of a next-token model over a source: the trainer's own evaluation. */
 export function averageCrossEntropy(model: SequenceModel, source: DataSource): number {
-  return evaluate(model, source).loss;
+  return figuresOn(model, source).loss;
 }

@@ -18,6 +18,6 @@ export { classificationMetrics, regressionMetrics } from './metrics.js';
 export type { Batch, BatchTargets, DataSource, LabelledSequence, SequenceSetOptions, StreamOptions, TokenStreamOptions, ValueStreamOptions } from './data.js';
 export { sequenceBatches, streamBatches } from './data.js';
 export type { TrainingEvent, TrainerOptions, TrainingSnapshot, TrainingSummary } from './trainer.js';
-export type { EvaluatedRows, EvaluationOptions, ValidationResult } from './training/evaluation.js';
-export { evaluate, forEachEvaluatedBatch } from './training/evaluation.js';
+export type { OutputRows, SourceRunOptions, ValidationResult } from './training/evaluation.js';
+export { figuresOn, forEachOutputBatch } from './training/evaluation.js';
 export { Trainer } from './trainer.js';

@@ -21,7 +21,7 @@ import type { Backend, FloatArray } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { limitGradientNorm, limitGradientValues, firstNonFiniteEntry, gradientNorm } from './clipping.js';
 import type { DataSource } from './data.js';
-import { evaluate } from './training/evaluation.js';
+import { figuresOn } from './training/evaluation.js';
 import type { ValidationResult } from './training/evaluation.js';
 import { forwardWithLookback } from './training/lookback.js';
 import { BestValidation } from './training/stopping.js';
@@ -165,7 +165,7 @@ export class Trainer {
 
   /** Loss and metric over a whole data source, without recording (state carried across stream windows). */
   validate(source: DataSource = this.requireValidation()): ValidationResult {
-    return evaluate(this.model, source, { backend: this.backend, pool: this.pool });
+    return figuresOn(this.model, source, { backend: this.backend, pool: this.pool });
   }
 
   /** Trains until the epochs are done, patience runs out, or the signal aborts; yields to the event loop now and then. */

@@ -1,7 +1,7 @@
 /**
  * The one evaluation loop: a model over every batch of a source without recording (the state carried across stream
  * windows, as in training), each batch's outputs at the loss positions handed to a visitor. The trainer's
- * validation is `evaluate` below; the command's held-out figures visit the same loop.
+ * validation is `figuresOn` below; the command's held-out figures visit the same loop.
  */
 import { Tape, backendOf, defaultBackend } from '@weft/core';
 import type { Backend, BufferPool, FloatArray, Tensor } from '@weft/core';
@@ -11,7 +11,7 @@ import { classificationMetrics, regressionMetrics } from '../metrics.js';
 import { taskRows } from './task.js';
 
 /** Where an evaluation computes. */
-export interface EvaluationOptions {
+export interface SourceRunOptions {
   /** The backend to run on: by default the one holding the model's parameters. */
   readonly backend?: Backend;
   /** The pool the evaluation's buffers come from and go back to: by default the backend's. */
@@ -19,7 +19,7 @@ export interface EvaluationOptions {
 }
 
 /** What an evaluation visitor sees of one batch: the model's outputs at the positions the loss is taken over. */
-export interface EvaluatedRows {
+export interface OutputRows {
   /** How many positions: steps × rows for per-step targets, rows for one target per sequence. */
   readonly rows: number;
   /** The outputs there, [rows, width] row-major, valid only during the visit. */
@@ -43,7 +43,7 @@ export interface ValidationResult {
 }
 
 /** Runs `model` over every batch of `source` (epoch 0) without recording, handing each batch to `visit`. */
-export function forEachEvaluatedBatch(model: SequenceModel, source: DataSource, visit: (batch: Batch, rows: EvaluatedRows) => void, options: EvaluationOptions = {}): void {
+export function forEachOutputBatch(model: SequenceModel, source: DataSource, visit: (batch: Batch, rows: OutputRows) => void, options: SourceRunOptions = {}): void {
   const parameters = model.parameters();
   const backend = options.backend ?? (parameters.length > 0 ? backendOf(parameters[0].tensor.data) : defaultBackend());
   const pool = options.pool ?? backend.pool;
@@ -69,12 +69,12 @@ export function forEachEvaluatedBatch(model: SequenceModel, source: DataSource, 
 }
 
 /** Loss and metric of `model` over a whole source: cross-entropy and accuracy for classes, MSE and MAE for values. */
-export function evaluate(model: SequenceModel, source: DataSource, options: EvaluationOptions = {}): ValidationResult {
+export function figuresOn(model: SequenceModel, source: DataSource, options: SourceRunOptions = {}): ValidationResult {
   let lossSum = 0;
   let metricSum = 0;
   let count = 0;
   let kind: 'classes' | 'values' = 'classes';
-  forEachEvaluatedBatch(model, source, (batch, { rows, outputs, width, weights }) => {
+  forEachOutputBatch(model, source, (batch, { rows, outputs, width, weights }) => {
     const targets = batch.targets;
     if (targets.kind === 'classes') {
       const m = classificationMetrics(outputs, targets.classes, weights, rows, width);

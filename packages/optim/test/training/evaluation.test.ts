@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { Tape, defaultBackend, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { evaluate, forEachEvaluatedBatch, streamBatches } from '@weft/optim';
+import { figuresOn, forEachOutputBatch, streamBatches } from '@weft/optim';
 
 // One stream of 61 rows, windows of 12: evaluating window by window with the state carried must equal one run of
 // the model over the first 60 rows at once (the targets are rows 1–60).
@@ -17,7 +17,7 @@ describe('the evaluation loop', () => {
       squared += (whole[t] - series[t + 1]) ** 2;
       absolute += Math.abs(whole[t] - series[t + 1]);
     }
-    const result = evaluate(model, streamBatches({ kind: 'values', values: series, features: 1 }, { window: 12 }));
+    const result = figuresOn(model, streamBatches({ kind: 'values', values: series, features: 1 }, { window: 12 }));
     expect(result.metricName).toBe('meanAbsoluteError');
     expect(Math.abs(result.loss - squared / 60)).toBeLessThanOrEqual(1e-6 * Math.max(1, squared / 60));
     expect(Math.abs(result.metric - absolute / 60)).toBeLessThanOrEqual(1e-6 * Math.max(1, absolute / 60));
@@ -30,7 +30,7 @@ describe('the evaluation loop', () => {
     source.batch(0, 0);
     const before = pool.counts().bytesInUse;
     const rows: number[] = [];
-    forEachEvaluatedBatch(model, source, (_batch, visited) => rows.push(visited.rows * visited.width));
+    forEachOutputBatch(model, source, (_batch, visited) => rows.push(visited.rows * visited.width));
     expect(rows).toEqual([12, 12, 12, 12, 12]);
     // The source still holds its last batch's buffers, as it held the first's before: the same bytes.
     expect(pool.counts().bytesInUse).toBe(before);
