@@ -6,15 +6,17 @@
  *
  * Run: npx tsx examples/custom-cell/check-your-own-operation.ts
  */
-import { Random, checkGradients, multiply, randomUniform, sum } from '@weft/core';
+import { Random, checkGradients, multiply, noTensor, randomUniform, sum } from '@weft/core';
 import type { OperationKind, Tape, Tensor } from '@weft/core';
 
 function softsignWith(derivative: (x: number) => number, name: string) {
-  const kind: OperationKind = {
+  // What backward needs: the input x (the output is the node's own).
+  const kind: OperationKind<{ x: Tensor }> = {
     name,
+    saves: () => ({ x: noTensor }),
     backward(node, tape) {
-      const x = node.first as Tensor;
-      const g = (node.output as Tensor).gradient!;
+      const x = node.saved.x;
+      const g = node.output.gradient!;
       const gx = tape.gradientOf(x);
       for (let i = 0; i < x.size; i++) gx[i] += g[i] * derivative(x.data[i]);
     },
@@ -22,7 +24,8 @@ function softsignWith(derivative: (x: number) => number, name: string) {
   return (tape: Tape, x: Tensor): Tensor => {
     const out = tape.output(x.shape, x.dtype, x.tracked);
     for (let i = 0; i < x.size; i++) out.data[i] = x.data[i] / (1 + Math.abs(x.data[i]));
-    tape.record(kind, out, x);
+    const saved = tape.record(kind, out);
+    if (saved !== null) saved.x = x;
     return out;
   };
 }

@@ -9,8 +9,8 @@
  * linear_before_reset = 0); true applies it after (ONNX linear_before_reset = 1).
  * Initialisation: input Glorot-uniform per gate block, each recurrent H×H block orthogonal, biases 0.
  */
-import { add, matmul, multiply, sigmoid, slice, subtract, tanh } from '@weft/core';
-import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
+import { add, matmul, multiply, noTensor, sigmoid, slice, subtract, tanh } from '@weft/core';
+import type { DType, FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
@@ -43,7 +43,6 @@ export class GruCell implements RecurrentCell, FusedSequence {
   mode: CellMode;
   /** The cell's path in messages and parameter names (`layers.0.forward`). */
   name: string;
-  private readonly stepWeights: readonly Tensor[];
 
   constructor(options: GruOptions) {
     const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'gru');
@@ -64,9 +63,6 @@ export class GruCell implements RecurrentCell, FusedSequence {
     fillOrthogonal(this.recurrent.data, 2 * hidden, hidden, 0, random);
     fillOrthogonal(this.recurrent.data, 2 * hidden, hidden, hidden, random);
     fillOrthogonal(this.recurrentCandidate.data, hidden, hidden, 0, random);
-    this.stepWeights = this.recurrentCandidateBias === null
-      ? [this.recurrent, this.recurrentCandidate]
-      : [this.recurrent, this.recurrentCandidate, this.recurrentCandidateBias];
   }
 
   parameters(): readonly NamedParameter[] {
@@ -125,39 +121,60 @@ export class GruCell implements RecurrentCell, FusedSequence {
     }
     const h = tape.output([rows, size], dtype, tracked);
     tape.kernels.gruStepFinish(h.data, gates, projected.data, offset, candidate, hPrevious.data, candidateBias !== null, rows, size, lengths, step);
-    const node = tape.record(gruStepKind, h, projected, hPrevious);
-    if (node !== null) {
-      node.list = this.stepWeights;
-      node.saved = gates;
-      node.savedOther = candidate;
-      node.savedExtra = resetHidden;
-      node.integers = lengths;
-      node.number0 = step;
-      node.flag0 = candidateBias !== null;
+    const saved = tape.record(gruStepKind, h);
+    if (saved !== null) {
+      saved.projected = projected;
+      saved.hPrevious = hPrevious;
+      saved.recurrent = this.recurrent;
+      saved.recurrentCandidate = this.recurrentCandidate;
+      saved.candidateBias = candidateBias;
+      saved.gates = gates;
+      saved.candidate = candidate;
+      saved.resetHidden = resetHidden;
+      saved.lengths = lengths;
+      saved.step = step;
     }
     return h;
   }
 }
 
-const gruStepKind: OperationKind = {
+/** What a fused GRU step saves for backward. */
+interface GruStepSaved {
+  /** The whole sequence's projected inputs x·W + b, [T·B, 3H]; this step reads rows `step`·B onward. */
+  projected: Tensor;
+  hPrevious: Tensor;
+  recurrent: Tensor;
+  recurrentCandidate: Tensor;
+  /** The candidate's recurrent bias with the reset applied after the product; null for the reset-before form. */
+  candidateBias: Tensor | null;
+  /** The gates z, r and the candidate n of this step, [B, 3H]. */
+  gates: FloatArray;
+  /** The candidate's recurrent term before the reset, [B, H]. */
+  candidate: FloatArray;
+  /** r ⊙ h₋ (reset-before form only), [B, H]. */
+  resetHidden: FloatArray | null;
+  lengths: Int32Array | null;
+  step: number;
+}
+
+const gruStepKind: OperationKind<GruStepSaved> = {
   name: 'gruStep',
-  backward(node: TapeNode, tape: Tape): void {
-    const projected = node.first as Tensor;
-    const hPrevious = node.second as Tensor;
-    const h = node.output as Tensor;
-    const [recurrent, recurrentCandidate, candidateBias] = node.list as readonly Tensor[];
-    const resetAfter = node.flag0;
+  saves: () => ({
+    projected: noTensor, hPrevious: noTensor, recurrent: noTensor, recurrentCandidate: noTensor, candidateBias: null,
+    gates: noTensor.data, candidate: noTensor.data, resetHidden: null, lengths: null, step: 0,
+  }),
+  backward(node, tape): void {
+    const { projected, hPrevious, recurrent, recurrentCandidate, candidateBias, gates, candidate, resetHidden, lengths, step } = node.saved;
+    const h = node.output;
+    const resetAfter = candidateBias !== null;
     const rows = hPrevious.shape[0];
     const size = h.shape[1];
     const dtype = h.dtype;
-    const step = node.number0;
-    const lengths = node.integers;
-    const gates = node.saved!;
     const updateResetGradient = tape.buffer(dtype, rows * 2 * size);
     const candidateGradient = tape.buffer(dtype, rows * size);
     const productGradient = tape.buffer(dtype, rows * size);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    tape.kernels.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hPreviousGradient, h.gradient!, gates, node.savedOther!,
+    tape.kernels.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hPreviousGradient, h.gradient!, gates, candidate,
       hPrevious.data, resetAfter, rows, size, lengths, step);
     if (!resetAfter) {
       // δ(r ⊙ h₋) = δq · R_nᵀ; δR_n += (r ⊙ h₋)ᵀ · δq
@@ -165,14 +182,14 @@ const gruStepKind: OperationKind = {
       tape.kernels.matmul(resetHiddenGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true);
       tape.kernels.gruBackwardReset(updateResetGradient, hPreviousGradient, resetHiddenGradient, gates, hPrevious.data, rows, size, lengths, step);
       if (recurrentCandidate.tracked) {
-        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), node.savedExtra!, productGradient, size, rows, size, true, false, true);
+        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), resetHidden!, productGradient, size, rows, size, true, false, true);
       }
     } else {
       // q = h₋·R_n + b_Rn: δR_n += h₋ᵀ · δq, δb_Rn += Σ_rows δq, δh₋ += δq · R_nᵀ
       if (recurrentCandidate.tracked) {
         tape.kernels.matmul(tape.gradientOf(recurrentCandidate), hPrevious.data, productGradient, size, rows, size, true, false, true);
       }
-      if (candidateBias.tracked) tape.kernels.sumRows(tape.gradientOf(candidateBias), productGradient, rows, size, true);
+      if (candidateBias!.tracked) tape.kernels.sumRows(tape.gradientOf(candidateBias!), productGradient, rows, size, true);
       if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true, true);
     }
     if (projected.tracked) {

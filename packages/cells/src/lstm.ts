@@ -8,8 +8,8 @@
  * forget block, which starts at `forgetBias` (default 1: Jozefowicz, Zaremba & Sutskever 2015, "An empirical
  * exploration of recurrent network architectures"), peepholes 0.
  */
-import { add, fail, matmul, multiply, sigmoid, slice, tanh } from '@weft/core';
-import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
+import { add, fail, matmul, multiply, noTensor, sigmoid, slice, tanh } from '@weft/core';
+import type { DType, FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
@@ -40,7 +40,6 @@ export class LstmCell implements RecurrentCell, FusedSequence {
   mode: CellMode;
   /** The cell's path in messages and parameter names (`layers.0.forward`). */
   name: string;
-  private readonly stepWeights: readonly Tensor[];
 
   constructor(options: LstmOptions) {
     const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'lstm');
@@ -62,7 +61,6 @@ export class LstmCell implements RecurrentCell, FusedSequence {
       fillOrthogonal(this.recurrent.data, 4 * hidden, hidden, gate * hidden, random);
     }
     this.bias.data.fill(forgetBias, hidden, 2 * hidden);
-    this.stepWeights = this.peephole === null ? [this.recurrent] : [this.recurrent, this.peephole];
   }
 
   parameters(): readonly NamedParameter[] {
@@ -119,49 +117,68 @@ export class LstmCell implements RecurrentCell, FusedSequence {
     const c = tape.output([rows, size], this.dtype, tracked);
     const tanhCell = tape.buffer(this.dtype, rows * size);
     tape.kernels.lstmStepForward(h.data, c.data, gates, tanhCell, hPrevious.data, cPrevious.data, this.peephole?.data ?? null, rows, size, lengths, step);
-    const node = tape.record(lstmStepKind, h, projected, hPrevious, cPrevious);
-    if (node !== null) {
-      node.secondOutput = c;
-      node.list = this.stepWeights;
-      node.saved = gates;
-      node.savedOther = tanhCell;
-      node.integers = lengths;
-      node.number0 = step;
+    const saved = tape.record(lstmStepKind, h, c);
+    if (saved !== null) {
+      saved.projected = projected;
+      saved.hPrevious = hPrevious;
+      saved.cPrevious = cPrevious;
+      saved.recurrent = this.recurrent;
+      saved.peephole = this.peephole;
+      saved.gates = gates;
+      saved.tanhCell = tanhCell;
+      saved.lengths = lengths;
+      saved.step = step;
     }
     return [h, c];
   }
 }
 
-const lstmStepKind: OperationKind = {
+/** What a fused LSTM step saves for backward (outputs: h, then c). */
+interface LstmStepSaved {
+  /** The whole sequence's projected inputs x·W + b, [T·B, 4H]; this step reads rows `step`·B onward. */
+  projected: Tensor;
+  hPrevious: Tensor;
+  cPrevious: Tensor;
+  recurrent: Tensor;
+  peephole: Tensor | null;
+  /** The gate activations i, f, g, o of this step, [B, 4H]. */
+  gates: FloatArray;
+  /** tanh(c) of this step, [B, H]. */
+  tanhCell: FloatArray;
+  lengths: Int32Array | null;
+  step: number;
+}
+
+const lstmStepKind: OperationKind<LstmStepSaved> = {
   name: 'lstmStep',
-  backward(node: TapeNode, tape: Tape): void {
-    const projected = node.first as Tensor;
-    const hPrevious = node.second as Tensor;
-    const cPrevious = node.third as Tensor;
-    const h = node.output as Tensor;
+  saves: () => ({
+    projected: noTensor, hPrevious: noTensor, cPrevious: noTensor, recurrent: noTensor, peephole: null,
+    gates: noTensor.data, tanhCell: noTensor.data, lengths: null, step: 0,
+  }),
+  backward(node, tape): void {
+    const { projected, hPrevious, cPrevious, recurrent, peephole, gates, tanhCell, lengths, step } = node.saved;
+    const h = node.output;
     const c = node.secondOutput as Tensor;
-    const [recurrent, peephole] = node.list as readonly Tensor[];
     const rows = hPrevious.shape[0];
     const size = h.shape[1];
     const width = 4 * size;
-    const step = node.number0;
     const gateGradient = tape.buffer(h.dtype, rows * width);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
     tape.kernels.lstmStepBackward(
       gateGradient,
       hPreviousGradient,
       cPrevious.tracked ? tape.gradientOf(cPrevious) : null,
-      peephole !== undefined && peephole.tracked ? tape.gradientOf(peephole) : null,
+      peephole !== null && peephole.tracked ? tape.gradientOf(peephole) : null,
       h.gradient,
       c.gradient,
-      node.saved!,
-      node.savedOther!,
+      gates,
+      tanhCell,
       cPrevious.data,
       c.data,
-      peephole === undefined ? null : peephole.data,
+      peephole === null ? null : peephole.data,
       rows,
       size,
-      node.integers,
+      lengths,
       step,
     );
     if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * width, gateGradient, 0, rows * width);

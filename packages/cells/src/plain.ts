@@ -5,8 +5,8 @@
  *
  * Parameters: input [I, H], recurrent [H, H], bias [H].
  */
-import { add, fail, matmul, relu, tanh } from '@weft/core';
-import type { DType, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
+import { add, fail, matmul, noTensor, relu, tanh } from '@weft/core';
+import type { DType, OperationKind, Tape, Tensor } from '@weft/core';
 import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
 import { fillIdentity, fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
@@ -38,7 +38,6 @@ export class PlainCell implements RecurrentCell, FusedSequence {
   mode: CellMode;
   /** The cell's path in messages and parameter names (`layers.0.forward`). */
   name: string;
-  private readonly stepWeights: readonly Tensor[];
 
   constructor(options: PlainOptions) {
     const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'plain');
@@ -57,7 +56,6 @@ export class PlainCell implements RecurrentCell, FusedSequence {
     fillUniform(this.input.data, hidden, inputSize, 0, hidden, glorotBound(inputSize, hidden), random);
     if (activation === 'relu') fillIdentity(this.recurrent.data, hidden, hidden, 0);
     else fillOrthogonal(this.recurrent.data, hidden, hidden, 0, random);
-    this.stepWeights = [this.recurrent];
   }
 
   parameters(): readonly NamedParameter[] {
@@ -88,30 +86,42 @@ export class PlainCell implements RecurrentCell, FusedSequence {
     tape.kernels.copyAt(h.data, 0, projected.data, step * rows * size, rows * size);
     tape.kernels.matmul(h.data, hPrevious.data, this.recurrent.data, rows, size, size, false, false, true);
     tape.kernels.plainStepForward(h.data, hPrevious.data, this.activation === 'relu', rows, size, lengths, step);
-    const node = tape.record(plainStepKind, h, projected, hPrevious);
-    if (node !== null) {
-      node.list = this.stepWeights;
-      node.integers = lengths;
-      node.number0 = step;
-      node.flag0 = this.activation === 'relu';
+    const saved = tape.record(plainStepKind, h);
+    if (saved !== null) {
+      saved.projected = projected;
+      saved.hPrevious = hPrevious;
+      saved.recurrent = this.recurrent;
+      saved.relu = this.activation === 'relu';
+      saved.lengths = lengths;
+      saved.step = step;
     }
     return h;
   }
 }
 
-const plainStepKind: OperationKind = {
+/** What a fused plain step saves for backward. */
+interface PlainStepSaved {
+  /** The whole sequence's projected inputs x·W + b, [T·B, H]; this step reads rows `step`·B onward. */
+  projected: Tensor;
+  hPrevious: Tensor;
+  recurrent: Tensor;
+  /** ReLU rather than tanh. */
+  relu: boolean;
+  lengths: Int32Array | null;
+  step: number;
+}
+
+const plainStepKind: OperationKind<PlainStepSaved> = {
   name: 'plainStep',
-  backward(node: TapeNode, tape: Tape): void {
-    const projected = node.first as Tensor;
-    const hPrevious = node.second as Tensor;
-    const h = node.output as Tensor;
-    const [recurrent] = node.list as readonly Tensor[];
+  saves: () => ({ projected: noTensor, hPrevious: noTensor, recurrent: noTensor, relu: false, lengths: null, step: 0 }),
+  backward(node, tape): void {
+    const { projected, hPrevious, recurrent, relu, lengths, step } = node.saved;
+    const h = node.output;
     const rows = hPrevious.shape[0];
     const size = h.shape[1];
-    const step = node.number0;
     const preGradient = tape.buffer(h.dtype, rows * size);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    tape.kernels.plainStepBackward(preGradient, hPreviousGradient, h.gradient!, h.data, node.flag0, rows, size, node.integers, step);
+    tape.kernels.plainStepBackward(preGradient, hPreviousGradient, h.gradient!, h.data, relu, rows, size, lengths, step);
     if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * size, preGradient, 0, rows * size);
     if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, preGradient, recurrent.data, rows, size, size, false, true, true);
     if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, preGradient, size, rows, size, true, false, true);

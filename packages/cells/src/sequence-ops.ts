@@ -5,7 +5,23 @@
  * zero, its state is held from step L − 1, its final state is the state after its last valid step, and a
  * reverse direction starts at step L − 1 of that row.
  */
-import type { FloatArray, OperationKind, Tape, TapeNode, Tensor } from '@weft/core';
+import { noTensor } from '@weft/core';
+import type { FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
+
+/** What an operation on a ragged sequence saves: its input and the rows' lengths (null: every row is full). */
+interface RaggedSaved {
+  sequence: Tensor;
+  lengths: Int32Array | null;
+}
+
+const savesRagged = (): RaggedSaved => ({ sequence: noTensor, lengths: null });
+
+function recordRagged(tape: Tape, kind: OperationKind<RaggedSaved>, out: Tensor, sequence: Tensor, lengths: Int32Array | null): void {
+  const saved = tape.record(kind, out);
+  if (saved === null) return;
+  saved.sequence = sequence;
+  saved.lengths = lengths;
+}
 
 /** True when row `row` is still inside its sequence at `step`. */
 export function isActive(lengths: Int32Array | null, row: number, step: number): boolean {
@@ -19,13 +35,19 @@ export function allActive(lengths: Int32Array | null, step: number): boolean {
   return true;
 }
 
-const timeStepKind: OperationKind = {
+/** What `timeStep` saves: the sequence and where the step's rows start in it. */
+interface TimeStepSaved {
+  sequence: Tensor;
+  offset: number;
+}
+
+const timeStepKind: OperationKind<TimeStepSaved> = {
   name: 'timeStep',
-  backward(node: TapeNode, tape: Tape): void {
-    const sequence = node.first as Tensor;
-    const g = (node.output as Tensor).gradient!;
+  saves: () => ({ sequence: noTensor, offset: 0 }),
+  backward(node, tape): void {
+    const { sequence, offset } = node.saved;
+    const g = node.output.gradient!;
     const gs = tape.gradientOf(sequence);
-    const offset = node.number0;
     for (let i = 0; i < g.length; i++) gs[offset + i] += g[i];
   },
 };
@@ -36,17 +58,26 @@ export function timeStep(tape: Tape, sequence: Tensor, step: number): Tensor {
   const out = tape.output([rows, width], sequence.dtype, sequence.tracked);
   const offset = step * rows * width;
   out.data.set(sequence.data.subarray(offset, offset + rows * width));
-  const node = tape.record(timeStepKind, out, sequence);
-  if (node !== null) node.number0 = offset;
+  const saved = tape.record(timeStepKind, out);
+  if (saved !== null) {
+    saved.sequence = sequence;
+    saved.offset = offset;
+  }
   return out;
 }
 
-const stackKind: OperationKind = {
+/** What `stackSteps` saves: the steps stacked, first to last, and the rows' lengths. */
+interface StackSaved {
+  parts: readonly Tensor[];
+  lengths: Int32Array | null;
+}
+
+const stackKind: OperationKind<StackSaved> = {
   name: 'stackSteps',
-  backward(node: TapeNode, tape: Tape): void {
-    const parts = node.list as readonly Tensor[];
-    const g = (node.output as Tensor).gradient!;
-    const lengths = node.integers;
+  saves: () => ({ parts: [], lengths: null }),
+  backward(node, tape): void {
+    const { parts, lengths } = node.saved;
+    const g = node.output.gradient!;
     for (let t = 0; t < parts.length; t++) {
       const part = parts[t];
       if (!part.tracked) continue;
@@ -75,20 +106,20 @@ export function stackSteps(tape: Tape, parts: readonly Tensor[], lengths: Int32A
       for (let j = 0; j < width; j++) out.data[base + b * width + j] = active ? data[b * width + j] : 0;
     }
   }
-  const node = tape.record(stackKind, out, null);
-  if (node !== null) {
-    node.list = parts.slice();
-    node.integers = lengths;
+  const saved = tape.record(stackKind, out);
+  if (saved !== null) {
+    saved.parts = parts.slice();
+    saved.lengths = lengths;
   }
   return out;
 }
 
-const reverseKind: OperationKind = {
+const reverseKind: OperationKind<RaggedSaved> = {
   name: 'reverseWithinLengths',
-  backward(node: TapeNode, tape: Tape): void {
-    const sequence = node.first as Tensor;
-    const g = (node.output as Tensor).gradient!;
-    reverseRows(tape.gradientOf(sequence), g, sequence.shape, node.integers, true);
+  saves: savesRagged,
+  backward(node, tape): void {
+    const { sequence, lengths } = node.saved;
+    reverseRows(tape.gradientOf(sequence), node.output.gradient!, sequence.shape, lengths, true);
   },
 };
 
@@ -100,8 +131,7 @@ const reverseKind: OperationKind = {
 export function reverseWithinLengths(tape: Tape, sequence: Tensor, lengths: Int32Array | null): Tensor {
   const out = tape.output(sequence.shape, sequence.dtype, sequence.tracked);
   reverseRows(out.data, sequence.data, sequence.shape, lengths, false);
-  const node = tape.record(reverseKind, out, sequence);
-  if (node !== null) node.integers = lengths;
+  recordRagged(tape, reverseKind, out, sequence, lengths);
   return out;
 }
 
@@ -132,14 +162,20 @@ function reverseRows(
   }
 }
 
-const holdKind: OperationKind = {
+/** What `holdInactiveRows` saves: the new and the held state, the rows' lengths and the step. */
+interface HoldSaved {
+  next: Tensor;
+  previous: Tensor;
+  lengths: Int32Array | null;
+  step: number;
+}
+
+const holdKind: OperationKind<HoldSaved> = {
   name: 'holdInactiveRows',
-  backward(node: TapeNode, tape: Tape): void {
-    const next = node.first as Tensor;
-    const previous = node.second as Tensor;
-    const g = (node.output as Tensor).gradient!;
-    const lengths = node.integers;
-    const step = node.number0;
+  saves: () => ({ next: noTensor, previous: noTensor, lengths: null, step: 0 }),
+  backward(node, tape): void {
+    const { next, previous, lengths, step } = node.saved;
+    const g = node.output.gradient!;
     const [rows, width] = next.shape;
     const gn = next.tracked ? tape.gradientOf(next) : null;
     const gp = previous.tracked ? tape.gradientOf(previous) : null;
@@ -159,22 +195,24 @@ export function holdInactiveRows(tape: Tape, next: Tensor, previous: Tensor, len
     const source = isActive(lengths, b, step) ? next.data : previous.data;
     for (let j = 0; j < width; j++) out.data[b * width + j] = source[b * width + j];
   }
-  const node = tape.record(holdKind, out, next, previous);
-  if (node !== null) {
-    node.integers = lengths;
-    node.number0 = step;
+  const saved = tape.record(holdKind, out);
+  if (saved !== null) {
+    saved.next = next;
+    saved.previous = previous;
+    saved.lengths = lengths;
+    saved.step = step;
   }
   return out;
 }
 
-const lastKind: OperationKind = {
+const lastKind: OperationKind<RaggedSaved> = {
   name: 'lastSteps',
-  backward(node: TapeNode, tape: Tape): void {
-    const sequence = node.first as Tensor;
-    const g = (node.output as Tensor).gradient!;
+  saves: savesRagged,
+  backward(node, tape): void {
+    const { sequence, lengths } = node.saved;
+    const g = node.output.gradient!;
     const gs = tape.gradientOf(sequence);
     const [steps, rows, width] = sequence.shape;
-    const lengths = node.integers;
     for (let b = 0; b < rows; b++) {
       const length = lengths === null ? steps : lengths[b];
       if (length === 0) continue;
@@ -203,19 +241,19 @@ export function lastSteps(tape: Tape, sequence: Tensor, lengths: Int32Array | nu
   const [steps, rows, width] = sequence.shape;
   const out = tape.output([rows, width], sequence.dtype, sequence.tracked);
   copyLastSteps(out.data, sequence.data, lengths, steps, rows, width);
-  const node = tape.record(lastKind, out, sequence);
-  if (node !== null) node.integers = lengths;
+  recordRagged(tape, lastKind, out, sequence, lengths);
   return out;
 }
 
-const maskKind: OperationKind = {
+const maskKind: OperationKind<RaggedSaved> = {
   name: 'zeroBeyondLengths',
-  backward(node: TapeNode, tape: Tape): void {
-    const sequence = node.first as Tensor;
-    const g = (node.output as Tensor).gradient!;
+  saves: savesRagged,
+  backward(node, tape): void {
+    const sequence = node.saved.sequence;
+    const lengths = node.saved.lengths as Int32Array;
+    const g = node.output.gradient!;
     const gs = tape.gradientOf(sequence);
     const [, rows, width] = sequence.shape;
-    const lengths = node.integers as Int32Array;
     for (let p = 0; p < sequence.size / width; p++) {
       if (Math.floor(p / rows) >= lengths[p % rows]) continue;
       for (let j = 0; j < width; j++) gs[p * width + j] += g[p * width + j];
@@ -231,17 +269,22 @@ export function zeroBeyondLengths(tape: Tape, sequence: Tensor, lengths: Int32Ar
     const keep = Math.floor(p / rows) < lengths[p % rows];
     for (let j = 0; j < width; j++) out.data[p * width + j] = keep ? sequence.data[p * width + j] : 0;
   }
-  const node = tape.record(maskKind, out, sequence);
-  if (node !== null) node.integers = lengths;
+  recordRagged(tape, maskKind, out, sequence, lengths);
   return out;
 }
 
-const joinKind: OperationKind = {
+/** What `joinSteps` saves: the earlier and the later sequence. */
+interface JoinSaved {
+  first: Tensor;
+  second: Tensor;
+}
+
+const joinKind: OperationKind<JoinSaved> = {
   name: 'joinSteps',
-  backward(node: TapeNode, tape: Tape): void {
-    const first = node.first as Tensor;
-    const second = node.second as Tensor;
-    const g = (node.output as Tensor).gradient!;
+  saves: () => ({ first: noTensor, second: noTensor }),
+  backward(node, tape): void {
+    const { first, second } = node.saved;
+    const g = node.output.gradient!;
     if (first.tracked) {
       const gf = tape.gradientOf(first);
       for (let i = 0; i < first.size; i++) gf[i] += g[i];
@@ -260,6 +303,10 @@ export function joinSteps(tape: Tape, first: Tensor, second: Tensor): Tensor {
   const out = tape.output([t1 + t2, rows, width], first.dtype, first.tracked || second.tracked);
   for (let i = 0; i < first.size; i++) out.data[i] = first.data[i];
   for (let i = 0; i < second.size; i++) out.data[first.size + i] = second.data[i];
-  tape.record(joinKind, out, first, second);
+  const saved = tape.record(joinKind, out);
+  if (saved !== null) {
+    saved.first = first;
+    saved.second = second;
+  }
   return out;
 }

@@ -23,7 +23,7 @@ export {
   zeros,
 } from './tensor.js';
 export type { OperationKind, TapeOptions } from './tape.js';
-export { Tape, TapeNode } from './tape.js';
+export { Tape, TapeNode, noTensor } from './tape.js';
 export type { MatmulOptions } from './ops/matmul.js';
 export { matmul } from './ops/matmul.js';
 export { add, multiply, scale, subtract } from './ops/arithmetic.js';

@@ -18,70 +18,52 @@ import type { KernelTable } from './backend/kernel-table.js';
 import type { BufferPool } from './pool.js';
 import { Tensor, sameShape, sizeOfShape } from './tensor.js';
 
-/** What a node needs to run backward. One static object per operation kind; nodes point at it. */
-export interface OperationKind {
+/**
+ * What a node needs to run backward. One static object per operation kind; nodes point at it. `Saved` is the
+ * kind's own record of what its backward reads (inputs, saved buffers, numbers, switches), with a named field for
+ * each: `saves()` makes an empty one, the forward fills it in through the record `Tape.record` returns, and
+ * `backward` reads it back from `node.saved`.
+ */
+export interface OperationKind<Saved extends object = object> {
   /** The operation's name, in messages (`matmul`). */
   readonly name: string;
+  /**
+   * A new, empty record of what this kind saves. A tape calls it the first time a node position holds this kind
+   * and reuses the record afterwards, so recording the same graph again allocates nothing. Tensor fields start as
+   * `noTensor`.
+   */
+  saves(): Saved;
   /**
    * Adds the gradient of the node's output (`node.output.gradient`) into its tracked inputs' gradients. Called
    * only when some output has a gradient; a node with two outputs must allow for either gradient being null.
    */
-  backward(node: TapeNode, tape: Tape): void;
+  backward(node: TapeNode<Saved>, tape: Tape): void;
 }
 
+/** The stand-in for a tensor field of a saved record that nothing has filled yet: no elements, never tracked. */
+export const noTensor: Tensor = new Tensor(new Float64Array(0), [0]);
+
 /**
- * One recorded operation. The fields are generic slots so that records can be reused for any kind: up to three
- * tensor inputs (or a list), saved buffers, integer data and numbers, as each kind documents.
+ * One recorded operation: its kind, its output (two for a cell step's h and c) and the kind's saved record. Records
+ * are kept per kind and reused when the tape records again.
  */
-export class TapeNode {
-  /** The operation recorded; null while the record is free. */
-  kind: OperationKind | null = null;
-  /** The operation's output. */
-  output: Tensor | null = null;
+export class TapeNode<Saved extends object = object> {
+  /** The operation recorded; null while the node is free. */
+  kind: OperationKind<Saved> | null = null;
+  /** The operation's output (`noTensor` while the node is free). */
+  output: Tensor = noTensor;
   /** A second output, for operations that produce two tensors (a cell step's h and c). */
   secondOutput: Tensor | null = null;
-  /** The first tensor input. */
-  first: Tensor | null = null;
-  /** The second tensor input, when there is one. */
-  second: Tensor | null = null;
-  /** The third tensor input, when there is one. */
-  third: Tensor | null = null;
-  /** The inputs of an operation with any number of them (concatenation). */
-  list: readonly Tensor[] | null = null;
-  /** A buffer the forward pass saved for the backward pass (what each kind saves is documented with it). */
-  saved: FloatArray | null = null;
-  /** A second saved buffer. */
-  savedOther: FloatArray | null = null;
-  /** A third saved buffer. */
-  savedExtra: FloatArray | null = null;
-  /** Integer data the operation needs backward (indices, lengths). */
-  integers: Int32Array | null = null;
-  /** A number the operation needs backward (a scale, a step index: per kind). */
-  number0 = 0;
-  /** A second number the operation needs backward. */
-  number1 = 0;
-  /** A switch the operation needs backward (per kind). */
-  flag0 = false;
-  /** A second switch the operation needs backward. */
-  flag1 = false;
+  /** What the kind saved for backward, by name (see each kind's record type). */
+  saved: Saved = null as unknown as Saved;
+  /** One record per kind this node position has held, reused. */
+  readonly records = new Map<OperationKind<never>, object>();
 
-  /** Clears the slots so a reused record keeps nothing alive. */
+  /** Frees the node: kind and outputs are forgotten; the kind's record stays for reuse, overwritten when next filled. */
   reset(): void {
     this.kind = null;
-    this.output = null;
+    this.output = noTensor;
     this.secondOutput = null;
-    this.first = null;
-    this.second = null;
-    this.third = null;
-    this.list = null;
-    this.saved = null;
-    this.savedOther = null;
-    this.savedExtra = null;
-    this.integers = null;
-    this.number0 = 0;
-    this.number1 = 0;
-    this.flag0 = false;
-    this.flag1 = false;
   }
 }
 
@@ -162,8 +144,11 @@ export class Tape {
     return t;
   }
 
-  /** Records a node for `output` if it is tracked; returns the record (for the kind's saved slots) or null. */
-  record(kind: OperationKind, output: Tensor, first: Tensor | null, second: Tensor | null = null, third: Tensor | null = null): TapeNode | null {
+  /**
+   * Records a node for `output` (and `secondOutput`, for operations with two) if it is tracked, and returns the
+   * kind's record for the forward to fill in with what backward needs; null when nothing is recorded.
+   */
+  record<Saved extends object>(kind: OperationKind<Saved>, output: Tensor, secondOutput: Tensor | null = null): Saved | null {
     if (!output.tracked) return null;
     if (this.swept) {
       fail('tape_state', `${kind.name}`, 'a cleared tape before recording again', 'a tape that has been swept');
@@ -174,12 +159,16 @@ export class Tape {
       this.nodes.push(node);
     }
     this.nodeCount++;
-    node.kind = kind;
+    let saved = node.records.get(kind as OperationKind<never>) as Saved | undefined;
+    if (saved === undefined) {
+      saved = kind.saves();
+      node.records.set(kind as OperationKind<never>, saved);
+    }
+    node.kind = kind as unknown as OperationKind;
     node.output = output;
-    node.first = first;
-    node.second = second;
-    node.third = third;
-    return node;
+    node.secondOutput = secondOutput;
+    node.saved = saved;
+    return saved;
   }
 
   /**
@@ -228,9 +217,8 @@ export class Tape {
     this.swept = true;
     for (let i = this.nodeCount - 1; i >= 0; i--) {
       const node = this.nodes[i];
-      const out = node.output as Tensor;
       const second = node.secondOutput;
-      if (out.gradient === null && (second === null || second.gradient === null)) continue;
+      if (node.output.gradient === null && (second === null || second.gradient === null)) continue;
       (node.kind as OperationKind).backward(node, this);
     }
   }

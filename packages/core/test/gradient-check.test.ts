@@ -1,13 +1,14 @@
 import { describe, expect, it } from 'vitest';
-import { Random, Tape, checkGradients, exp, multiply, randomUniform, sum, tanh, tensor } from '@weft/core';
+import { Random, Tape, checkGradients, exp, multiply, noTensor, randomUniform, sum, tanh, tensor } from '@weft/core';
 import type { OperationKind, Tensor } from '@weft/core';
 
 /** A mutant operation: y = x², whose backward deliberately adds 2x + 0.01 instead of 2x. */
-const wrongSquareKind: OperationKind = {
+const wrongSquareKind: OperationKind<{ x: Tensor }> = {
   name: 'wrongSquare',
+  saves: () => ({ x: noTensor }),
   backward(node, tape) {
-    const x = node.first as Tensor;
-    const g = (node.output as Tensor).gradient!;
+    const x = node.saved.x;
+    const g = node.output.gradient!;
     const gx = tape.gradientOf(x);
     for (let i = 0; i < x.size; i++) gx[i] += g[i] * (2 * x.data[i] + (i === 4 ? 0.01 : 0));
   },
@@ -16,7 +17,8 @@ const wrongSquareKind: OperationKind = {
 function wrongSquare(tape: Tape, x: Tensor): Tensor {
   const out = tape.output(x.shape, x.dtype, x.tracked);
   for (let i = 0; i < x.size; i++) out.data[i] = x.data[i] * x.data[i];
-  tape.record(wrongSquareKind, out, x);
+  const saved = tape.record(wrongSquareKind, out);
+  if (saved !== null) saved.x = x;
   return out;
 }
 

@@ -4,30 +4,37 @@
  */
 import { fail } from '../errors.js';
 import type { KernelTable } from '../backend/kernel-table.js';
+import { noTensor } from '../tape.js';
 import type { OperationKind, Tape, TapeNode } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { requireBackend } from './checks.js';
 
 type ForwardName = 'sigmoid' | 'tanh' | 'relu' | 'exp' | 'log';
 
-function unary(name: ForwardName, backward: (node: TapeNode, tape: Tape) => void): (tape: Tape, a: Tensor) => Tensor {
-  const kind: OperationKind = { name, backward };
+/** What an activation saves: its input (the output is the node's). */
+interface UnarySaved {
+  input: Tensor;
+}
+
+function unary(name: ForwardName, backward: (node: TapeNode<UnarySaved>, tape: Tape) => void): (tape: Tape, a: Tensor) => Tensor {
+  const kind: OperationKind<UnarySaved> = { name, saves: () => ({ input: noTensor }), backward };
   return (tape: Tape, a: Tensor): Tensor => {
     if (a === undefined || a === null) fail('invalid_argument', `${name}.a`, 'a tensor', String(a));
     requireBackend(tape, name, 'a', a);
     const out = tape.output(a.shape, a.dtype, a.tracked);
     (tape.kernels as KernelTable)[name](out.data, a.data, a.size);
-    tape.record(kind, out, a);
+    const saved = tape.record(kind, out);
+    if (saved !== null) saved.input = a;
     return out;
   };
 }
 
-function input(node: TapeNode): Tensor {
-  return node.first as Tensor;
+function input(node: TapeNode<UnarySaved>): Tensor {
+  return node.saved.input;
 }
 
-function output(node: TapeNode): Tensor {
-  return node.output as Tensor;
+function output(node: TapeNode<UnarySaved>): Tensor {
+  return node.output;
 }
 
 /** The logistic function 1/(1+e^−x), computed without overflow for any x. */

@@ -4,7 +4,8 @@
  * ∂(a−b)/∂b = −1; ∂(a⊙b)/∂a = b; ∂(s·a)/∂a = s.
  */
 import { fail, formatShape } from '../errors.js';
-import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import { noTensor } from '../tape.js';
+import type { OperationKind, Tape } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { sameShape } from '../tensor.js';
 import { lastAxis, requireBackend, requireSameDType, requireShape } from './checks.js';
@@ -18,15 +19,32 @@ function rowBroadcast(operation: string, a: Tensor, b: Tensor): boolean {
   return true;
 }
 
-const addKind: OperationKind = {
+/** What a two-operand elementwise operation saves: its operands, and whether b is a row broadcast over a. */
+interface PairSaved {
+  a: Tensor;
+  b: Tensor;
+  broadcast: boolean;
+}
+
+const savesPair = (): PairSaved => ({ a: noTensor, b: noTensor, broadcast: false });
+
+function recordPair(tape: Tape, kind: OperationKind<PairSaved>, out: Tensor, a: Tensor, b: Tensor, broadcast: boolean): void {
+  const saved = tape.record(kind, out);
+  if (saved === null) return;
+  saved.a = a;
+  saved.b = b;
+  saved.broadcast = broadcast;
+}
+
+const addKind: OperationKind<PairSaved> = {
   name: 'add',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    const b = node.second as Tensor;
-    const g = (node.output as Tensor).gradient!;
+  saves: savesPair,
+  backward(node, tape): void {
+    const { a, b, broadcast } = node.saved;
+    const g = node.output.gradient!;
     if (a.tracked) tape.kernels.addInto(tape.gradientOf(a), g, a.size);
     if (b.tracked) {
-      if (node.flag0) tape.kernels.sumRows(tape.gradientOf(b), g, a.size / b.size, b.size, true);
+      if (broadcast) tape.kernels.sumRows(tape.gradientOf(b), g, a.size / b.size, b.size, true);
       else tape.kernels.addInto(tape.gradientOf(b), g, b.size);
     }
   },
@@ -44,17 +62,16 @@ export function add(tape: Tape, a: Tensor, b: Tensor): Tensor {
   const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
   if (broadcast) tape.kernels.addRow(out.data, a.data, b.data, a.size / b.size, b.size);
   else tape.kernels.add(out.data, a.data, b.data, a.size);
-  const node = tape.record(addKind, out, a, b);
-  if (node !== null) node.flag0 = broadcast;
+  recordPair(tape, addKind, out, a, b, broadcast);
   return out;
 }
 
-const subtractKind: OperationKind = {
+const subtractKind: OperationKind<PairSaved> = {
   name: 'subtract',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    const b = node.second as Tensor;
-    const g = (node.output as Tensor).gradient!;
+  saves: savesPair,
+  backward(node, tape): void {
+    const { a, b } = node.saved;
+    const g = node.output.gradient!;
     if (a.tracked) tape.kernels.addInto(tape.gradientOf(a), g, a.size);
     if (b.tracked) tape.kernels.addScaledInto(tape.gradientOf(b), g, -1, b.size);
   },
@@ -68,17 +85,17 @@ export function subtract(tape: Tape, a: Tensor, b: Tensor): Tensor {
   requireShape('subtract', 'b', b, a.shape);
   const out = tape.output(a.shape, a.dtype, a.tracked || b.tracked);
   tape.kernels.subtract(out.data, a.data, b.data, a.size);
-  tape.record(subtractKind, out, a, b);
+  recordPair(tape, subtractKind, out, a, b, false);
   return out;
 }
 
-const multiplyKind: OperationKind = {
+const multiplyKind: OperationKind<PairSaved> = {
   name: 'multiply',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    const b = node.second as Tensor;
-    const g = (node.output as Tensor).gradient!;
-    if (!node.flag0) {
+  saves: savesPair,
+  backward(node, tape): void {
+    const { a, b, broadcast } = node.saved;
+    const g = node.output.gradient!;
+    if (!broadcast) {
       if (a.tracked) tape.kernels.multiplyInto(tape.gradientOf(a), g, b.data, a.size);
       if (b.tracked) tape.kernels.multiplyInto(tape.gradientOf(b), g, a.data, b.size);
       return;
@@ -123,16 +140,22 @@ export function multiply(tape: Tape, a: Tensor, b: Tensor): Tensor {
   } else {
     tape.kernels.multiply(out.data, a.data, b.data, a.size);
   }
-  const node = tape.record(multiplyKind, out, a, b);
-  if (node !== null) node.flag0 = broadcast;
+  recordPair(tape, multiplyKind, out, a, b, broadcast);
   return out;
 }
 
-const scaleKind: OperationKind = {
+/** What `scale` saves: its operand and the factor. */
+interface ScaleSaved {
+  a: Tensor;
+  factor: number;
+}
+
+const scaleKind: OperationKind<ScaleSaved> = {
   name: 'scale',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    tape.kernels.addScaledInto(tape.gradientOf(a), (node.output as Tensor).gradient!, node.number0, a.size);
+  saves: () => ({ a: noTensor, factor: 0 }),
+  backward(node, tape): void {
+    const { a, factor } = node.saved;
+    tape.kernels.addScaledInto(tape.gradientOf(a), node.output.gradient!, factor, a.size);
   },
 };
 
@@ -142,7 +165,10 @@ export function scale(tape: Tape, a: Tensor, s: number): Tensor {
   if (typeof s !== 'number' || Number.isNaN(s)) fail('invalid_argument', 'scale.s', 'a number', String(s));
   const out = tape.output(a.shape, a.dtype, a.tracked);
   tape.kernels.scale(out.data, a.data, s, a.size);
-  const node = tape.record(scaleKind, out, a);
-  if (node !== null) node.number0 = s;
+  const saved = tape.record(scaleKind, out);
+  if (saved !== null) {
+    saved.a = a;
+    saved.factor = s;
+  }
   return out;
 }

@@ -4,15 +4,17 @@
  * output's gradient; a slice's input gradient receives the output gradient in its column range.
  */
 import { fail, formatShape } from '../errors.js';
-import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import { noTensor } from '../tape.js';
+import type { OperationKind, Tape } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { lastAxis, requireBackend, requireSameDType } from './checks.js';
 
-const concatKind: OperationKind = {
+const concatKind: OperationKind<{ parts: readonly Tensor[] }> = {
   name: 'concat',
-  backward(node: TapeNode, tape: Tape): void {
-    const parts = node.list as readonly Tensor[];
-    const out = node.output as Tensor;
+  saves: () => ({ parts: [] }),
+  backward(node, tape): void {
+    const parts = node.saved.parts;
+    const out = node.output;
     const g = out.gradient!;
     const width = lastAxis(out);
     const rows = out.size / Math.max(1, width);
@@ -64,21 +66,28 @@ export function concat(tape: Tape, parts: readonly Tensor[]): Tensor {
     }
     offset += w;
   }
-  const node = tape.record(concatKind, out, null);
-  if (node !== null) node.list = parts.slice();
+  const saved = tape.record(concatKind, out);
+  if (saved !== null) saved.parts = parts.slice();
   return out;
 }
 
-const sliceKind: OperationKind = {
+/** What a slice saves: its input and the first column it took. */
+interface SliceSaved {
+  input: Tensor;
+  start: number;
+}
+
+const sliceKind: OperationKind<SliceSaved> = {
   name: 'slice',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    const out = node.output as Tensor;
+  saves: () => ({ input: noTensor, start: 0 }),
+  backward(node, tape): void {
+    const a = node.saved.input;
+    const out = node.output;
     const g = out.gradient!;
     const ga = tape.gradientOf(a);
     const width = lastAxis(a);
     const w = lastAxis(out);
-    const start = node.number0;
+    const start = node.saved.start;
     const rows = out.size / Math.max(1, w);
     for (let r = 0; r < rows; r++) {
       const to = r * width + start;
@@ -104,7 +113,10 @@ export function slice(tape: Tape, a: Tensor, start: number, end: number): Tensor
     const to = r * w;
     tape.kernels.copyAt(out.data, to, a.data, from, w);
   }
-  const node = tape.record(sliceKind, out, a);
-  if (node !== null) node.number0 = start;
+  const saved = tape.record(sliceKind, out);
+  if (saved !== null) {
+    saved.input = a;
+    saved.start = start;
+  }
   return out;
 }

@@ -6,15 +6,24 @@
  */
 import { fail } from '../errors.js';
 import type { Random } from '../random.js';
-import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import type { FloatArray } from '../dtype.js';
+import { noTensor } from '../tape.js';
+import type { OperationKind, Tape } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { requireBackend } from './checks.js';
 
-const kind: OperationKind = {
+/** What dropout saves: its input and the mask it multiplied by (0 or 1/(1 − rate) per element). */
+interface DropoutSaved {
+  input: Tensor;
+  mask: FloatArray;
+}
+
+const kind: OperationKind<DropoutSaved> = {
   name: 'dropout',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    tape.kernels.multiplyInto(tape.gradientOf(a), (node.output as Tensor).gradient!, node.saved!, a.size);
+  saves: () => ({ input: noTensor, mask: noTensor.data }),
+  backward(node, tape): void {
+    const { input, mask } = node.saved;
+    tape.kernels.multiplyInto(tape.gradientOf(input), node.output.gradient!, mask, input.size);
   },
 };
 
@@ -28,7 +37,10 @@ export function dropout(tape: Tape, a: Tensor, rate: number, random: Random): Te
   for (let i = 0; i < a.size; i++) mask[i] = random.uniform() < keep ? scaleKept : 0;
   const out = tape.output(a.shape, a.dtype, a.tracked);
   tape.kernels.multiply(out.data, a.data, mask, a.size);
-  const node = tape.record(kind, out, a);
-  if (node !== null) node.saved = mask;
+  const saved = tape.record(kind, out);
+  if (saved !== null) {
+    saved.input = a;
+    saved.mask = mask;
+  }
   return out;
 }

@@ -3,16 +3,23 @@
  * table's gradient receives out's gradient row i, so a row picked several times collects every share.
  */
 import { fail } from '../errors.js';
-import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import { noTensor } from '../tape.js';
+import type { OperationKind, Tape } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { requireBackend, requireRank } from './checks.js';
 
-const gatherKind: OperationKind = {
+/** What a row gather saves: the table and the rows it picked. */
+interface GatherSaved {
+  table: Tensor;
+  indices: Int32Array;
+}
+
+const gatherKind: OperationKind<GatherSaved> = {
   name: 'gatherRows',
-  backward(node: TapeNode, tape: Tape): void {
-    const table = node.first as Tensor;
-    const indices = node.integers as Int32Array;
-    const g = (node.output as Tensor).gradient!;
+  saves: () => ({ table: noTensor, indices: new Int32Array(0) }),
+  backward(node, tape): void {
+    const { table, indices } = node.saved;
+    const g = node.output.gradient!;
     const gt = tape.gradientOf(table);
     const width = table.shape[1];
     for (let i = 0; i < indices.length; i++) {
@@ -41,7 +48,10 @@ export function gatherRows(tape: Tape, table: Tensor, indices: Int32Array | read
     const to = i * width;
     tape.kernels.copyAt(out.data, to, table.data, from, width);
   }
-  const node = tape.record(gatherKind, out, table);
-  if (node !== null) node.integers = picked;
+  const saved = tape.record(gatherKind, out);
+  if (saved !== null) {
+    saved.table = table;
+    saved.indices = picked;
+  }
   return out;
 }

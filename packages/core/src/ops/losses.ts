@@ -11,19 +11,32 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { fail, formatShape } from '../errors.js';
-import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import { noTensor } from '../tape.js';
+import type { OperationKind, Tape } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { lastAxis, requireBackend, requireRank, requireSameDType, requireShape } from './checks.js';
 
-const crossEntropyKind: OperationKind = {
+/** What softmax cross-entropy saves for backward. */
+interface CrossEntropySaved {
+  logits: Tensor;
+  /** softmax of each row of the logits. */
+  probabilities: FloatArray;
+  /** The per-row weights, or null for all ones. */
+  weights: FloatArray | null;
+  targets: Int32Array;
+  /** 1 / Σ weights (0 when they sum to 0). */
+  normaliser: number;
+}
+
+const noIntegers = new Int32Array(0);
+
+const crossEntropyKind: OperationKind<CrossEntropySaved> = {
   name: 'crossEntropyAtTargets',
-  backward(node: TapeNode, tape: Tape): void {
-    const logits = node.first as Tensor;
-    const probabilities = node.saved as FloatArray;
-    const weights = node.savedOther;
-    const targets = node.integers as Int32Array;
+  saves: () => ({ logits: noTensor, probabilities: noTensor.data, weights: null, targets: noIntegers, normaliser: 0 }),
+  backward(node, tape): void {
+    const { logits, probabilities, weights, targets, normaliser } = node.saved;
     const [rows, classes] = logits.shape;
-    const share = (node.output as Tensor).gradient![0] * node.number0;
+    const share = node.output.gradient![0] * normaliser;
     const gl = tape.gradientOf(logits);
     for (let r = 0; r < rows; r++) {
       const w = weights === null ? share : share * weights[r];
@@ -87,23 +100,33 @@ export function crossEntropyAtTargets(
   const normaliser = total > 0 ? 1 / total : 0;
   const out = tape.output([1], logits.dtype, logits.tracked);
   out.data[0] = weighted * normaliser;
-  const node = tape.record(crossEntropyKind, out, logits);
-  if (node !== null) {
-    node.saved = probabilities;
-    node.savedOther = weights;
-    node.integers = picked;
-    node.number0 = normaliser;
+  const saved = tape.record(crossEntropyKind, out);
+  if (saved !== null) {
+    saved.logits = logits;
+    saved.probabilities = probabilities;
+    saved.weights = weights;
+    saved.targets = picked;
+    saved.normaliser = normaliser;
   }
   return out;
 }
 
-const squaredErrorKind: OperationKind = {
+/** What the mean squared error saves for backward. */
+interface SquaredErrorSaved {
+  prediction: Tensor;
+  target: Tensor;
+  /** The per-row weights, or null for all ones. */
+  weights: FloatArray | null;
+  /** 2 / the weighted element count (0 for none). */
+  factor: number;
+}
+
+const squaredErrorKind: OperationKind<SquaredErrorSaved> = {
   name: 'meanSquaredError',
-  backward(node: TapeNode, tape: Tape): void {
-    const prediction = node.first as Tensor;
-    const target = node.second as Tensor;
-    const factor = (node.output as Tensor).gradient![0] * node.number0;
-    const weights = node.saved;
+  saves: () => ({ prediction: noTensor, target: noTensor, weights: null, factor: 0 }),
+  backward(node, tape): void {
+    const { prediction, target, weights } = node.saved;
+    const factor = node.output.gradient![0] * node.saved.factor;
     const width = lastAxis(prediction);
     const n = prediction.size;
     const gp = prediction.tracked ? tape.gradientOf(prediction) : null;
@@ -156,10 +179,12 @@ export function meanSquaredError(tape: Tape, prediction: Tensor, target: Tensor,
   }
   const out = tape.output([1], prediction.dtype, prediction.tracked || target.tracked);
   out.data[0] = count === 0 ? 0 : sum / count;
-  const node = tape.record(squaredErrorKind, out, prediction, target);
-  if (node !== null) {
-    node.number0 = count === 0 ? 0 : 2 / count;
-    node.saved = weights;
+  const saved = tape.record(squaredErrorKind, out);
+  if (saved !== null) {
+    saved.prediction = prediction;
+    saved.target = target;
+    saved.weights = weights;
+    saved.factor = count === 0 ? 0 : 2 / count;
   }
   return out;
 }

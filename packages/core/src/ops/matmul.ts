@@ -4,7 +4,8 @@
  * transposing those products, so every case is one accumulating matmul kernel call per operand, no temporaries.
  */
 import { fail, formatShape } from '../errors.js';
-import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import { noTensor } from '../tape.js';
+import type { OperationKind, Tape } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { requireBackend, requireRank, requireSameDType } from './checks.js';
 
@@ -16,14 +17,20 @@ export interface MatmulOptions {
   readonly transposeB?: boolean;
 }
 
-const kind: OperationKind = {
+/** What a matrix product saves for backward. */
+interface MatmulSaved {
+  a: Tensor;
+  b: Tensor;
+  transposeA: boolean;
+  transposeB: boolean;
+}
+
+const kind: OperationKind<MatmulSaved> = {
   name: 'matmul',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    const b = node.second as Tensor;
-    const g = (node.output as Tensor).gradient!;
-    const transposeA = node.flag0;
-    const transposeB = node.flag1;
+  saves: () => ({ a: noTensor, b: noTensor, transposeA: false, transposeB: false }),
+  backward(node, tape): void {
+    const { a, b, transposeA, transposeB } = node.saved;
+    const g = node.output.gradient!;
     const rows = transposeA ? a.shape[1] : a.shape[0];
     const inner = transposeA ? a.shape[0] : a.shape[1];
     const cols = transposeB ? b.shape[0] : b.shape[1];
@@ -73,10 +80,12 @@ export function matmul(tape: Tape, a: Tensor, b: Tensor, options: MatmulOptions 
   }
   const out = tape.output([rows, cols], a.dtype, a.tracked || b.tracked);
   tape.kernels.matmul(out.data, a.data, b.data, rows, inner, cols, transposeA, transposeB, false);
-  const node = tape.record(kind, out, a, b);
-  if (node !== null) {
-    node.flag0 = transposeA;
-    node.flag1 = transposeB;
+  const saved = tape.record(kind, out);
+  if (saved !== null) {
+    saved.a = a;
+    saved.b = b;
+    saved.transposeA = transposeA;
+    saved.transposeB = transposeB;
   }
   return out;
 }

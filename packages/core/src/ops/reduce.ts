@@ -1,12 +1,20 @@
 /** Sum and mean of all elements, to a scalar (shape [1]). Backward: every element receives g (or g/n). */
-import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import { noTensor } from '../tape.js';
+import type { OperationKind, Tape } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 
-const reduceKind: OperationKind = {
+/** What a sum saves: its input and the factor on the sum (1 for `sum`, 1/n for `mean`). */
+interface ReduceSaved {
+  input: Tensor;
+  factor: number;
+}
+
+const reduceKind: OperationKind<ReduceSaved> = {
   name: 'sum',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    const share = (node.output as Tensor).gradient![0] * node.number0;
+  saves: () => ({ input: noTensor, factor: 0 }),
+  backward(node, tape): void {
+    const a = node.saved.input;
+    const share = node.output.gradient![0] * node.saved.factor;
     const ga = tape.gradientOf(a);
     for (let i = 0; i < a.size; i++) ga[i] += share;
   },
@@ -15,8 +23,11 @@ const reduceKind: OperationKind = {
 function reduce(tape: Tape, a: Tensor, factor: number): Tensor {
   const out = tape.output([1], a.dtype, a.tracked);
   out.data[0] = tape.kernels.sum(a.data, a.size) * factor;
-  const node = tape.record(reduceKind, out, a);
-  if (node !== null) node.number0 = factor;
+  const saved = tape.record(reduceKind, out);
+  if (saved !== null) {
+    saved.input = a;
+    saved.factor = factor;
+  }
   return out;
 }
 

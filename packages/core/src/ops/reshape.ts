@@ -3,14 +3,16 @@
  * the input's buffer (no copy); backward adds the output's gradient into the input's, element for element.
  */
 import { fail, formatShape } from '../errors.js';
-import type { OperationKind, Tape, TapeNode } from '../tape.js';
+import { noTensor } from '../tape.js';
+import type { OperationKind, Tape } from '../tape.js';
 import { Tensor, sizeOfShape } from '../tensor.js';
 
-const kind: OperationKind = {
+const kind: OperationKind<{ input: Tensor }> = {
   name: 'reshape',
-  backward(node: TapeNode, tape: Tape): void {
-    const a = node.first as Tensor;
-    tape.kernels.addInto(tape.gradientOf(a), (node.output as Tensor).gradient!, a.size);
+  saves: () => ({ input: noTensor }),
+  backward(node, tape): void {
+    const a = node.saved.input;
+    tape.kernels.addInto(tape.gradientOf(a), node.output.gradient!, a.size);
   },
 };
 
@@ -22,6 +24,7 @@ export function reshape(tape: Tape, a: Tensor, shape: readonly number[]): Tensor
   }
   const out = new Tensor(a.data, shape.slice());
   out.tracked = a.tracked && tape.recording;
-  tape.record(kind, out, a);
+  const saved = tape.record(kind, out);
+  if (saved !== null) saved.input = a;
   return out;
 }
