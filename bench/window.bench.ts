@@ -56,8 +56,8 @@ function window(id: string, make: (mode: CellMode, size: Size) => RecurrentCell,
   };
 }
 
-const lstm = (mode: CellMode, size: Size) => new LstmCell({ inputSize: size.inputs, hiddenSize: size.hidden, random: 1, mode });
-const gru = (mode: CellMode, size: Size) => new GruCell({ inputSize: size.inputs, hiddenSize: size.hidden, random: 1, mode });
+const lstm = (mode: CellMode, size: Size) => new LstmCell({ inputWidth: size.inputs, hidden: size.hidden, random: 1, mode });
+const gru = (mode: CellMode, size: Size) => new GruCell({ inputWidth: size.inputs, hidden: size.hidden, random: 1, mode });
 
 export const cases: BenchCase[] = [
   window('window.lstm.b32t32i64h128', lstm, 'fused'),

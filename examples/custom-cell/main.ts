@@ -27,7 +27,7 @@ export async function customCell(): Promise<{ gradientsPass: boolean; accuracy: 
   // 2. Train it, registered under its own kind, in a described model.
   const model = buildModel(
     { input: { kind: 'values', width: 1 }, layers: [{ cell: 'minimal-gated', hidden: 16 }], readout: { width: 3 } },
-    { seed: 2, cells: { 'minimal-gated': (request) => new MinimalGatedCell(request.inputSize, request.hiddenSize, request.dtype, 5) } },
+    { seed: 2, cells: { 'minimal-gated': (request) => new MinimalGatedCell(request.inputWidth, request.hidden, request.dtype, 5) } },
   );
   const trainer = new Trainer({
     model,

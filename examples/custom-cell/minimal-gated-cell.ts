@@ -9,20 +9,20 @@ import type { CellStep, NamedParameter, RecurrentCell, StateSlot } from '@weft/c
 export class MinimalGatedCell implements RecurrentCell {
   readonly kind = 'minimal-gated';
   readonly state: readonly StateSlot[];
-  readonly outputSize: number;
+  readonly hidden: number;
   private readonly weights: Record<'inputGate' | 'recurrentGate' | 'gateBias' | 'inputCandidate' | 'recurrentCandidate' | 'candidateBias', Tensor>;
 
-  constructor(readonly inputSize: number, hidden: number, readonly dtype: DType = 'f32', seed = 0) {
+  constructor(readonly inputWidth: number, hidden: number, readonly dtype: DType = 'f32', seed = 0) {
     const random = new Random(seed);
     const matrix = (rows: number): Tensor => trainable(randomUniform([rows, hidden], random, -1 / Math.sqrt(rows), 1 / Math.sqrt(rows), dtype));
     const bias = (): Tensor => trainable(zeros([hidden], dtype));
-    this.outputSize = hidden;
-    this.state = [{ name: 'h', size: hidden }];
+    this.hidden = hidden;
+    this.state = [{ name: 'h', width: hidden }];
     this.weights = {
-      inputGate: matrix(inputSize),
+      inputGate: matrix(inputWidth),
       recurrentGate: matrix(hidden),
       gateBias: bias(),
-      inputCandidate: matrix(inputSize),
+      inputCandidate: matrix(inputWidth),
       recurrentCandidate: matrix(hidden),
       candidateBias: bias(),
     };

@@ -13,11 +13,11 @@ function gradientChecks(): FromWorker {
   const cells: [string, () => RecurrentCell][] = [];
   for (const mode of ['fused', 'composed'] as const) {
     cells.push(
-      [`LSTM (${mode})`, () => new LstmCell({ inputSize: 3, hiddenSize: 4, dtype: 'f64', mode, random: 5 })],
-      [`LSTM with peepholes (${mode})`, () => new LstmCell({ inputSize: 3, hiddenSize: 4, dtype: 'f64', mode, peepholes: true, random: 1 })],
-      [`GRU, reset before (${mode})`, () => new GruCell({ inputSize: 3, hiddenSize: 4, dtype: 'f64', mode, random: 2 })],
-      [`GRU, reset after (${mode})`, () => new GruCell({ inputSize: 3, hiddenSize: 4, dtype: 'f64', mode, resetAfterProduct: true, random: 3 })],
-      [`plain tanh (${mode})`, () => new PlainCell({ inputSize: 3, hiddenSize: 4, dtype: 'f64', mode, random: 4 })],
+      [`LSTM (${mode})`, () => new LstmCell({ inputWidth: 3, hidden: 4, dtype: 'f64', mode, random: 5 })],
+      [`LSTM with peepholes (${mode})`, () => new LstmCell({ inputWidth: 3, hidden: 4, dtype: 'f64', mode, peepholes: true, random: 1 })],
+      [`GRU, reset before (${mode})`, () => new GruCell({ inputWidth: 3, hidden: 4, dtype: 'f64', mode, random: 2 })],
+      [`GRU, reset after (${mode})`, () => new GruCell({ inputWidth: 3, hidden: 4, dtype: 'f64', mode, resetAfterProduct: true, random: 3 })],
+      [`plain tanh (${mode})`, () => new PlainCell({ inputWidth: 3, hidden: 4, dtype: 'f64', mode, random: 4 })],
     );
   }
   const reports = cells.map(([label, make]) => {

@@ -2,7 +2,7 @@
  * The cell contract. A recurrent cell declares
  *   - its parameters, by stable names (`input`, `recurrent`, `bias`, …), each a trainable tensor;
  *   - its state: one or more vectors per batch row, each with a name and a width (`h`, or `h` and `c`);
- *   - a step: (input batch [B, inputSize], state) → (output [B, outputSize], new state), written with core
+ *   - a step: (input batch [B, inputWidth], state) → (output [B, hidden], new state), written with core
  *     operations on the tape it is given, so that its gradients come from the tape.
  * Nothing else is needed to run a cell of your own in every sequence layer (stacked, bidirectional, ragged).
  *
@@ -18,20 +18,20 @@ export interface StateSlot {
   /** The slot's name (`h`, `c`). */
   readonly name: string;
   /** Its width per batch row. */
-  readonly size: number;
+  readonly width: number;
 }
 
 export interface NamedParameter {
-  /** Stable name within the cell (`recurrent`); layers prefix it (`layers.0.forward.recurrent`). */
+  /** Stable name within the cell (`recurrent`); layers prefix it (`layers[0].forward.recurrent`). */
   readonly name: string;
   /** The trainable tensor itself; its `gradient` holds ∂loss after a reverse sweep. */
   readonly tensor: Tensor;
 }
 
 export interface CellStep {
-  /** The step's output, [B, outputSize]. */
+  /** The step's output, [B, hidden]. */
   readonly output: Tensor;
-  /** The new state, one tensor [B, size] per slot, in slot order. */
+  /** The new state, one tensor [B, width] per slot, in slot order. */
   readonly state: readonly Tensor[];
 }
 
@@ -39,9 +39,9 @@ export interface RecurrentCell {
   /** What kind of cell this is (`lstm`, `gru`, `plain`, or your own word). */
   readonly kind: string;
   /** Features per batch row at each step (the width of `input` in `step`). */
-  readonly inputSize: number;
-  /** Width of the step's output per batch row (the hidden size for the built-in cells). */
-  readonly outputSize: number;
+  readonly inputWidth: number;
+  /** The hidden size: the width of the step's output per batch row (a model's layer of this cell is `hidden` wide per direction). */
+  readonly hidden: number;
   /** The element type of the cell's parameters and of every tensor it computes. */
   readonly dtype: DType;
   /** The state slots carried from step to step, in order (`h`; or `h` then `c` for an LSTM). */
@@ -49,23 +49,23 @@ export interface RecurrentCell {
   /** Every trainable tensor of the cell, with its stable name, in a fixed order. */
   parameters(): readonly NamedParameter[];
   /**
-   * One time step for a batch: `input` [B, inputSize] and the state (one [B, size] per slot) in, the output and the new
+   * One time step for a batch: `input` [B, inputWidth] and the state (one [B, width] per slot) in, the output and the new
    * state out, recorded on `tape`.
    */
   step(tape: Tape, input: Tensor, state: readonly Tensor[]): CellStep;
 }
 
 export interface SequenceResult {
-  /** Outputs [T, B, outputSize]; zero at steps beyond a row's length. */
+  /** Outputs [T, B, hidden]; zero at steps beyond a row's length. */
   readonly outputs: Tensor;
-  /** The state after each row's last valid step, one tensor [B, size] per slot. */
+  /** The state after each row's last valid step, one tensor [B, width] per slot. */
   readonly state: readonly Tensor[];
 }
 
 /** A faster whole-sequence path a cell may offer; layers use it when the cell's mode asks for it. */
 export interface FusedSequence {
   /**
-   * Runs the whole sequence `inputs` [T, B, inputSize] from `state`; rows stop at `lengths` (null: all run T steps).
+   * Runs the whole sequence `inputs` [T, B, inputWidth] from `state`; rows stop at `lengths` (null: all run T steps).
    * Must equal stepping with `step`.
    */
   runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult;

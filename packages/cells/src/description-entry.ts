@@ -3,6 +3,6 @@
  * with nothing of the tape or the cells, for the weight-file reader and the inference runtime.
  */
 export type { AnyModelDescription, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
-export { checkDescription, describeAnyProblems, describeProblems, isEncoderDecoder } from './description.js';
+export { MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
-export { cellLayout, modelLayout, parameterLayout } from './layout.js';
+export { cellLayout, layerPath, modelLayout, parameterLayout } from './layout.js';

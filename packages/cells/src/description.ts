@@ -78,6 +78,17 @@ const layerKeys: Record<string, readonly string[]> = {
   plain: ['cell', 'hidden', 'bidirectional', 'activation'],
 };
 
+/**
+ * The largest hidden size of a layer. The one bound on a hidden size, checked by `hiddenProblem` wherever one
+ * enters: a model description (built, or read from a weight file), a cell's options, `weft train --hidden`.
+ */
+export const MAX_HIDDEN = 4096;
+
+/** What is wrong with `value` as a hidden size (the words of the expected value), or null when it is one. */
+export function hiddenProblem(value: unknown): string | null {
+  return typeof value === 'number' && Number.isInteger(value) && value >= 1 && value <= MAX_HIDDEN ? null : `a whole number from 1 to ${MAX_HIDDEN}`;
+}
+
 /** Most layers a description may have, and most parameters its model may hold. */
 export const MAX_LAYERS = 256;
 export const MAX_PARAMETERS = 100_000_000;
@@ -137,7 +148,8 @@ export function describeProblems(value: unknown, path = 'description', customKin
       if (!known) {
         add(`${where}.cell`, `one of ${[...Object.keys(layerKeys), ...customKinds].map((k) => `'${k}'`).join(', ')}`, kind);
       }
-      whole(`${where}.hidden`, layer.hidden);
+      const hidden = hiddenProblem(layer.hidden);
+      if (hidden !== null) add(`${where}.hidden`, hidden, layer.hidden);
       if (layer.bidirectional !== undefined && typeof layer.bidirectional !== 'boolean') add(`${where}.bidirectional`, 'true or false', layer.bidirectional);
       if (typeof kind === 'string' && Object.prototype.hasOwnProperty.call(layerKeys, kind)) {
         for (const key of Object.keys(layer)) {

@@ -23,8 +23,8 @@ export interface GruOptions extends CommonCellOptions {
 
 export class GruCell implements RecurrentCell, FusedSequence {
   readonly kind = 'gru';
-  readonly inputSize: number;
-  readonly outputSize: number;
+  readonly inputWidth: number;
+  readonly hidden: number;
   readonly dtype: DType;
   readonly state: readonly StateSlot[];
   /** True when the reset gate applies after the recurrent product (ONNX linear_before_reset = 1). */
@@ -41,25 +41,25 @@ export class GruCell implements RecurrentCell, FusedSequence {
   readonly recurrentCandidateBias: Tensor | null;
   /** How the cell runs: `fused` or `composed` (may be changed between runs). */
   mode: CellMode;
-  /** The cell's path in messages and parameter names (`layers.0.forward`). */
+  /** The cell's path in messages and parameter names (`layers[0].forward`). */
   name: string;
 
   constructor(options: GruOptions) {
-    const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'gru');
+    const { name, inputWidth, hidden, dtype, random, mode } = resolveCellOptions(options, 'gru');
     this.name = name;
-    this.inputSize = inputSize;
-    this.outputSize = hidden;
+    this.inputWidth = inputWidth;
+    this.hidden = hidden;
     this.dtype = dtype;
     this.mode = mode;
     this.resetAfterProduct = options.resetAfterProduct === true;
-    this.state = [{ name: 'h', size: hidden }];
-    this.input = createParameter('input', [inputSize, 3 * hidden], dtype);
+    this.state = [{ name: 'h', width: hidden }];
+    this.input = createParameter('input', [inputWidth, 3 * hidden], dtype);
     this.bias = createParameter('bias', [3 * hidden], dtype);
     this.recurrent = createParameter('recurrent', [hidden, 2 * hidden], dtype);
     this.recurrentCandidate = createParameter('recurrentCandidate', [hidden, hidden], dtype);
     this.recurrentCandidateBias = this.resetAfterProduct ? createParameter('recurrentCandidateBias', [hidden], dtype) : null;
-    const bound = glorotBound(inputSize, hidden);
-    for (let gate = 0; gate < 3; gate++) fillUniform(this.input.data, 3 * hidden, inputSize, gate * hidden, hidden, bound, random);
+    const bound = glorotBound(inputWidth, hidden);
+    for (let gate = 0; gate < 3; gate++) fillUniform(this.input.data, 3 * hidden, inputWidth, gate * hidden, hidden, bound, random);
     fillOrthogonal(this.recurrent.data, 2 * hidden, hidden, 0, random);
     fillOrthogonal(this.recurrent.data, 2 * hidden, hidden, hidden, random);
     fillOrthogonal(this.recurrentCandidate.data, hidden, hidden, 0, random);
@@ -77,14 +77,14 @@ export class GruCell implements RecurrentCell, FusedSequence {
   }
 
   step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
-    checkStepArguments(this.name, x, this.inputSize, state, this.state, this.dtype);
-    const size = this.outputSize;
+    checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
+    const hidden = this.hidden;
     const [h] = state;
     const projected = add(tape, matmul(tape, x, this.input), this.bias);
     const gates = matmul(tape, h, this.recurrent);
-    const z = sigmoid(tape, add(tape, slice(tape, projected, 0, size), slice(tape, gates, 0, size)));
-    const r = sigmoid(tape, add(tape, slice(tape, projected, size, 2 * size), slice(tape, gates, size, 2 * size)));
-    const candidateInput = slice(tape, projected, 2 * size, 3 * size);
+    const z = sigmoid(tape, add(tape, slice(tape, projected, 0, hidden), slice(tape, gates, 0, hidden)));
+    const r = sigmoid(tape, add(tape, slice(tape, projected, hidden, 2 * hidden), slice(tape, gates, hidden, 2 * hidden)));
+    const candidateInput = slice(tape, projected, 2 * hidden, 3 * hidden);
     const n = this.recurrentCandidateBias === null
       ? tanh(tape, add(tape, candidateInput, matmul(tape, multiply(tape, r, h), this.recurrentCandidate)))
       : tanh(tape, add(tape, candidateInput, multiply(tape, r, add(tape, matmul(tape, h, this.recurrentCandidate), this.recurrentCandidateBias))));
@@ -100,27 +100,27 @@ export class GruCell implements RecurrentCell, FusedSequence {
 
   private fusedStep(tape: Tape, projected: Tensor, step: number, hPrevious: Tensor, lengths: Int32Array | null): Tensor {
     const rows = hPrevious.shape[0];
-    const size = this.outputSize;
+    const hidden = this.hidden;
     const dtype = this.dtype;
-    const offset = step * rows * 3 * size;
+    const offset = step * rows * 3 * hidden;
     const candidateBias = this.recurrentCandidateBias;
     const tracked = projected.tracked || hPrevious.tracked || this.recurrent.tracked || this.recurrentCandidate.tracked || (candidateBias?.tracked ?? false);
-    const gates = tape.buffer(dtype, rows * 3 * size);
-    const updateReset = tape.buffer(dtype, rows * 2 * size);
-    tape.kernels.matmul(updateReset, hPrevious.data, this.recurrent.data, rows, size, 2 * size);
-    tape.kernels.gruUpdateReset(gates, projected.data, offset, updateReset, rows, size);
-    const candidate = tape.buffer(dtype, rows * size);
+    const gates = tape.buffer(dtype, rows * 3 * hidden);
+    const updateReset = tape.buffer(dtype, rows * 2 * hidden);
+    tape.kernels.matmul(updateReset, hPrevious.data, this.recurrent.data, rows, hidden, 2 * hidden);
+    tape.kernels.gruUpdateReset(gates, projected.data, offset, updateReset, rows, hidden);
+    const candidate = tape.buffer(dtype, rows * hidden);
     let resetHidden = null;
     if (candidateBias === null) {
-      resetHidden = tape.buffer(dtype, rows * size);
-      tape.kernels.gruResetHidden(resetHidden, gates, hPrevious.data, rows, size);
-      tape.kernels.matmul(candidate, resetHidden, this.recurrentCandidate.data, rows, size, size);
+      resetHidden = tape.buffer(dtype, rows * hidden);
+      tape.kernels.gruResetHidden(resetHidden, gates, hPrevious.data, rows, hidden);
+      tape.kernels.matmul(candidate, resetHidden, this.recurrentCandidate.data, rows, hidden, hidden);
     } else {
-      tape.kernels.matmul(candidate, hPrevious.data, this.recurrentCandidate.data, rows, size, size);
-      tape.kernels.addRow(candidate, candidate, candidateBias.data, rows, size);
+      tape.kernels.matmul(candidate, hPrevious.data, this.recurrentCandidate.data, rows, hidden, hidden);
+      tape.kernels.addRow(candidate, candidate, candidateBias.data, rows, hidden);
     }
-    const h = tape.output([rows, size], dtype, tracked);
-    tape.kernels.gruStepFinish(h.data, gates, projected.data, offset, candidate, hPrevious.data, candidateBias !== null, rows, size, lengths, step);
+    const h = tape.output([rows, hidden], dtype, tracked);
+    tape.kernels.gruStepFinish(h.data, gates, projected.data, offset, candidate, hPrevious.data, candidateBias !== null, rows, hidden, lengths, step);
     const saved = tape.record(gruStepKind, h);
     if (saved !== null) {
       saved.projected = projected;
@@ -168,41 +168,41 @@ const gruStepKind: OperationKind<GruStepSaved> = {
     const h = node.output;
     const resetAfter = candidateBias !== null;
     const rows = hPrevious.shape[0];
-    const size = h.shape[1];
+    const hidden = h.shape[1];
     const dtype = h.dtype;
-    const updateResetGradient = tape.buffer(dtype, rows * 2 * size);
-    const candidateGradient = tape.buffer(dtype, rows * size);
-    const productGradient = tape.buffer(dtype, rows * size);
+    const updateResetGradient = tape.buffer(dtype, rows * 2 * hidden);
+    const candidateGradient = tape.buffer(dtype, rows * hidden);
+    const productGradient = tape.buffer(dtype, rows * hidden);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
     tape.kernels.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hPreviousGradient, h.gradient!, gates, candidate,
-      hPrevious.data, resetAfter, rows, size, lengths, step);
+      hPrevious.data, resetAfter, rows, hidden, lengths, step);
     if (!resetAfter) {
       // δ(r ⊙ h₋) = δq · R_nᵀ; δR_n += (r ⊙ h₋)ᵀ · δq
-      const resetHiddenGradient = tape.buffer(dtype, rows * size);
-      tape.kernels.matmul(resetHiddenGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true);
-      tape.kernels.gruBackwardReset(updateResetGradient, hPreviousGradient, resetHiddenGradient, gates, hPrevious.data, rows, size, lengths, step);
+      const resetHiddenGradient = tape.buffer(dtype, rows * hidden);
+      tape.kernels.matmul(resetHiddenGradient, productGradient, recurrentCandidate.data, rows, hidden, hidden, false, true);
+      tape.kernels.gruBackwardReset(updateResetGradient, hPreviousGradient, resetHiddenGradient, gates, hPrevious.data, rows, hidden, lengths, step);
       if (recurrentCandidate.tracked) {
-        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), resetHidden!, productGradient, size, rows, size, true, false, true);
+        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), resetHidden!, productGradient, hidden, rows, hidden, true, false, true);
       }
     } else {
       // q = h₋·R_n + b_Rn: δR_n += h₋ᵀ · δq, δb_Rn += Σ_rows δq, δh₋ += δq · R_nᵀ
       if (recurrentCandidate.tracked) {
-        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), hPrevious.data, productGradient, size, rows, size, true, false, true);
+        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), hPrevious.data, productGradient, hidden, rows, hidden, true, false, true);
       }
-      if (candidateBias!.tracked) tape.kernels.sumRows(tape.gradientOf(candidateBias!), productGradient, rows, size, true);
-      if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, productGradient, recurrentCandidate.data, rows, size, size, false, true, true);
+      if (candidateBias!.tracked) tape.kernels.sumRows(tape.gradientOf(candidateBias!), productGradient, rows, hidden, true);
+      if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, productGradient, recurrentCandidate.data, rows, hidden, hidden, false, true, true);
     }
     if (projected.tracked) {
       const gp = tape.gradientOf(projected);
-      const offset = step * rows * 3 * size;
+      const offset = step * rows * 3 * hidden;
       for (let b = 0; b < rows; b++) {
-        const to = offset + b * 3 * size;
-        for (let k = 0; k < 2 * size; k++) gp[to + k] += updateResetGradient[b * 2 * size + k];
-        for (let j = 0; j < size; j++) gp[to + 2 * size + j] += candidateGradient[b * size + j];
+        const to = offset + b * 3 * hidden;
+        for (let k = 0; k < 2 * hidden; k++) gp[to + k] += updateResetGradient[b * 2 * hidden + k];
+        for (let j = 0; j < hidden; j++) gp[to + 2 * hidden + j] += candidateGradient[b * hidden + j];
       }
     }
     // δh₋ += δa_zr · R_zrᵀ; δR_zr += h₋ᵀ · δa_zr
-    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, updateResetGradient, recurrent.data, rows, 2 * size, size, false, true, true);
-    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, updateResetGradient, size, rows, 2 * size, true, false, true);
+    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, updateResetGradient, recurrent.data, rows, 2 * hidden, hidden, false, true, true);
+    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, updateResetGradient, hidden, rows, 2 * hidden, true, false, true);
   },
 };

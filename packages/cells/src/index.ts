@@ -13,9 +13,9 @@ export { allActive, copyLastSteps, holdInactiveRows, isActive, joinSteps, lastSt
 export type { SequenceOptions } from './layer.js';
 export { checkLengths, runBidirectional, runSequence } from './layer.js';
 export type { AnyModelDescription, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
-export { checkDescription, describeAnyProblems, describeProblems, isEncoderDecoder } from './description.js';
+export { MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
-export { cellLayout, modelLayout, parameterLayout } from './layout.js';
+export { cellLayout, layerPath, modelLayout, parameterLayout } from './layout.js';
 export type { EncoderDecoderRun } from './encoder-decoder.js';
 export { EncoderDecoderModel, reverseTokens } from './encoder-decoder.js';
 export type { BuildOptions, CellMaker, CellRequest, ModelLayer, ModelRunOptions, ModelRunResult, ModelStateSlot, TokenBatch } from './model.js';

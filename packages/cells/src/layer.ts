@@ -32,8 +32,8 @@ export function checkLengths(where: string, lengths: Int32Array | readonly numbe
 }
 
 function checkSequence(where: string, cell: RecurrentCell, inputs: Tensor): void {
-  if (inputs.shape.length !== 3 || inputs.shape[2] !== cell.inputSize) {
-    fail('shape_mismatch', `${where}.inputs`, `[steps, batch, ${cell.inputSize}]`, formatShape(inputs.shape));
+  if (inputs.shape.length !== 3 || inputs.shape[2] !== cell.inputWidth) {
+    fail('shape_mismatch', `${where}.inputs`, `[steps, batch, ${cell.inputWidth}]`, formatShape(inputs.shape));
   }
   if (inputs.dtype !== cell.dtype) fail('dtype_mismatch', `${where}.inputs`, cell.dtype, inputs.dtype);
 }
@@ -46,7 +46,7 @@ function checkState(path: string, t: Tensor, shape: readonly number[], dtype: DT
 function initialState(where: string, tape: Tape, cell: RecurrentCell, rows: number, given: readonly Tensor[] | undefined): readonly Tensor[] {
   if (given === undefined) {
     return cell.state.map((slot) => {
-      const t = tape.output([rows, slot.size], cell.dtype, false);
+      const t = tape.output([rows, slot.width], cell.dtype, false);
       t.data.fill(0);
       return t;
     });
@@ -54,7 +54,7 @@ function initialState(where: string, tape: Tape, cell: RecurrentCell, rows: numb
   if (given.length !== cell.state.length) {
     fail('invalid_argument', `${where}.initialState`, `${cell.state.length} tensors (${cell.state.map((s) => s.name).join(', ')})`, `${given.length}`);
   }
-  cell.state.forEach((slot, i) => checkState(`${where}.initialState.${slot.name}`, given[i], [rows, slot.size], cell.dtype));
+  cell.state.forEach((slot, i) => checkState(`${where}.initialState.${slot.name}`, given[i], [rows, slot.width], cell.dtype));
   return given;
 }
 

@@ -10,14 +10,15 @@
  *          recurrentCandidateBias [H] (with resetAfterProduct)
  *   plain  input [I, H], recurrent [H, H], bias [H]
  * around them `embedding.table` [vocabulary, width] first and `readout.weights` [F, W], `readout.bias` [W] last,
- * where F is the last layer's output width (2H for a bidirectional layer). Names are `layers.<i>.<direction>.<name>`.
+ * where F is the last layer's output width (2H for a bidirectional layer). Names are `layers[<i>].<direction>.<name>`,
+ * the same path that messages use.
  */
 import type { AnyModelDescription, LayerDescription, ModelDescription } from './description.js';
 import { isEncoderDecoder } from './description.js';
 
 /** One parameter's name and shape, as a model description implies it. */
 export interface ParameterLayout {
-  /** The parameter's stable name, as in weight files (`layers.0.forward.input`). */
+  /** The parameter's stable name, as in weight files and messages (`layers[0].forward.input`). */
   readonly name: string;
   /** Its shape (`[input width, gates × hidden]` for an input matrix). */
   readonly shape: readonly number[];
@@ -41,6 +42,11 @@ export interface ModelLayout {
   readonly outputWidth: number;
   /** False when a layer's cell is not built in (its parameters are then the cell's own business). */
   readonly builtIn: boolean;
+}
+
+/** The path of one direction's cell of layer `index`, in parameter names and messages alike: `layers[0].forward`. */
+export function layerPath(index: number, direction: 'forward' | 'backward'): string {
+  return `layers[${index}].${direction}`;
 }
 
 /** The parameters of one built-in cell of `layer` with `inputWidth` inputs, by their names within the cell. */
@@ -84,11 +90,11 @@ export function modelLayout(description: ModelDescription): ModelLayout {
   if (input.kind === 'embedding') parameters.push({ name: 'embedding.table', shape: [input.vocabulary, input.width] });
   let width = input.width;
   description.layers.forEach((layer, i) => {
-    const directions = layer.bidirectional === true ? ['forward', 'backward'] : ['forward'];
+    const directions = layer.bidirectional === true ? (['forward', 'backward'] as const) : (['forward'] as const);
     for (const direction of directions) {
       const cell = cellLayout(layer, width);
       if (cell === null) builtIn = false;
-      else for (const p of cell) parameters.push({ name: `layers.${i}.${direction}.${p.name}`, shape: p.shape });
+      else for (const p of cell) parameters.push({ name: `${layerPath(i, direction)}.${p.name}`, shape: p.shape });
     }
     const outputWidth = layer.hidden * directions.length;
     layers.push({ inputWidth: width, outputWidth });

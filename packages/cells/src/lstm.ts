@@ -24,8 +24,8 @@ export interface LstmOptions extends CommonCellOptions {
 
 export class LstmCell implements RecurrentCell, FusedSequence {
   readonly kind = 'lstm';
-  readonly inputSize: number;
-  readonly outputSize: number;
+  readonly inputWidth: number;
+  readonly hidden: number;
   readonly dtype: DType;
   readonly state: readonly StateSlot[];
   /** Input weights [I, 4H], gate blocks i, f, g, o. */
@@ -38,26 +38,26 @@ export class LstmCell implements RecurrentCell, FusedSequence {
   readonly peephole: Tensor | null;
   /** How the cell runs: `fused` or `composed` (may be changed between runs). */
   mode: CellMode;
-  /** The cell's path in messages and parameter names (`layers.0.forward`). */
+  /** The cell's path in messages and parameter names (`layers[0].forward`). */
   name: string;
 
   constructor(options: LstmOptions) {
-    const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'lstm');
+    const { name, inputWidth, hidden, dtype, random, mode } = resolveCellOptions(options, 'lstm');
     const forgetBias = options.forgetBias ?? 1;
     if (typeof forgetBias !== 'number' || !Number.isFinite(forgetBias)) fail('invalid_option', `${name}.forgetBias`, 'a finite number', String(forgetBias));
     this.name = name;
-    this.inputSize = inputSize;
-    this.outputSize = hidden;
+    this.inputWidth = inputWidth;
+    this.hidden = hidden;
     this.dtype = dtype;
     this.mode = mode;
-    this.state = [{ name: 'h', size: hidden }, { name: 'c', size: hidden }];
-    this.input = createParameter('input', [inputSize, 4 * hidden], dtype);
+    this.state = [{ name: 'h', width: hidden }, { name: 'c', width: hidden }];
+    this.input = createParameter('input', [inputWidth, 4 * hidden], dtype);
     this.recurrent = createParameter('recurrent', [hidden, 4 * hidden], dtype);
     this.bias = createParameter('bias', [4 * hidden], dtype);
     this.peephole = options.peepholes === true ? createParameter('peephole', [3 * hidden], dtype) : null;
-    const bound = glorotBound(inputSize, hidden);
+    const bound = glorotBound(inputWidth, hidden);
     for (let gate = 0; gate < 4; gate++) {
-      fillUniform(this.input.data, 4 * hidden, inputSize, gate * hidden, hidden, bound, random);
+      fillUniform(this.input.data, 4 * hidden, inputWidth, gate * hidden, hidden, bound, random);
       fillOrthogonal(this.recurrent.data, 4 * hidden, hidden, gate * hidden, random);
     }
     this.bias.data.fill(forgetBias, hidden, 2 * hidden);
@@ -75,24 +75,24 @@ export class LstmCell implements RecurrentCell, FusedSequence {
 
   /** One step written with core operations: the reference the fused path is proven against. */
   step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
-    checkStepArguments(this.name, x, this.inputSize, state, this.state, this.dtype);
-    const size = this.outputSize;
+    checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
+    const hidden = this.hidden;
     const [h, c] = state;
     const pre = add(tape, add(tape, matmul(tape, x, this.input), matmul(tape, h, this.recurrent)), this.bias);
-    let ai = slice(tape, pre, 0, size);
-    let af = slice(tape, pre, size, 2 * size);
-    const ag = slice(tape, pre, 2 * size, 3 * size);
-    let ao = slice(tape, pre, 3 * size, 4 * size);
+    let ai = slice(tape, pre, 0, hidden);
+    let af = slice(tape, pre, hidden, 2 * hidden);
+    const ag = slice(tape, pre, 2 * hidden, 3 * hidden);
+    let ao = slice(tape, pre, 3 * hidden, 4 * hidden);
     const p = this.peephole;
     if (p !== null) {
-      ai = add(tape, ai, multiply(tape, c, slice(tape, p, 0, size)));
-      af = add(tape, af, multiply(tape, c, slice(tape, p, size, 2 * size)));
+      ai = add(tape, ai, multiply(tape, c, slice(tape, p, 0, hidden)));
+      af = add(tape, af, multiply(tape, c, slice(tape, p, hidden, 2 * hidden)));
     }
     const i = sigmoid(tape, ai);
     const f = sigmoid(tape, af);
     const g = tanh(tape, ag);
     const cNext = add(tape, multiply(tape, f, c), multiply(tape, i, g));
-    if (p !== null) ao = add(tape, ao, multiply(tape, cNext, slice(tape, p, 2 * size, 3 * size)));
+    if (p !== null) ao = add(tape, ao, multiply(tape, cNext, slice(tape, p, 2 * hidden, 3 * hidden)));
     const o = sigmoid(tape, ao);
     const hNext = multiply(tape, o, tanh(tape, cNext));
     return { output: hNext, state: [hNext, cNext] };
@@ -106,17 +106,17 @@ export class LstmCell implements RecurrentCell, FusedSequence {
   private fusedStep(tape: Tape, projected: Tensor, step: number, state: readonly Tensor[], lengths: Int32Array | null): readonly Tensor[] {
     const [hPrevious, cPrevious] = state;
     const rows = hPrevious.shape[0];
-    const size = this.outputSize;
-    const width = 4 * size;
+    const hidden = this.hidden;
+    const width = 4 * hidden;
     const tracked = projected.tracked || hPrevious.tracked || cPrevious.tracked || this.recurrent.tracked || (this.peephole?.tracked ?? false);
     const gates = tape.buffer(this.dtype, rows * width);
     tape.kernels.copyAt(gates, 0, projected.data, step * rows * width, rows * width);
     // a = (x·W + b) + h₋·R
-    tape.kernels.matmul(gates, hPrevious.data, this.recurrent.data, rows, size, width, false, false, true);
-    const h = tape.output([rows, size], this.dtype, tracked);
-    const c = tape.output([rows, size], this.dtype, tracked);
-    const tanhCell = tape.buffer(this.dtype, rows * size);
-    tape.kernels.lstmStepForward(h.data, c.data, gates, tanhCell, hPrevious.data, cPrevious.data, this.peephole?.data ?? null, rows, size, lengths, step);
+    tape.kernels.matmul(gates, hPrevious.data, this.recurrent.data, rows, hidden, width, false, false, true);
+    const h = tape.output([rows, hidden], this.dtype, tracked);
+    const c = tape.output([rows, hidden], this.dtype, tracked);
+    const tanhCell = tape.buffer(this.dtype, rows * hidden);
+    tape.kernels.lstmStepForward(h.data, c.data, gates, tanhCell, hPrevious.data, cPrevious.data, this.peephole?.data ?? null, rows, hidden, lengths, step);
     const saved = tape.record(lstmStepKind, h, c);
     if (saved !== null) {
       saved.projected = projected;
@@ -160,8 +160,8 @@ const lstmStepKind: OperationKind<LstmStepSaved> = {
     const h = node.output;
     const c = node.secondOutput as Tensor;
     const rows = hPrevious.shape[0];
-    const size = h.shape[1];
-    const width = 4 * size;
+    const hidden = h.shape[1];
+    const width = 4 * hidden;
     const gateGradient = tape.buffer(h.dtype, rows * width);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
     tape.kernels.lstmStepBackward(
@@ -177,13 +177,13 @@ const lstmStepKind: OperationKind<LstmStepSaved> = {
       c.data,
       peephole === null ? null : peephole.data,
       rows,
-      size,
+      hidden,
       lengths,
       step,
     );
     if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * width, gateGradient, 0, rows * width);
     // δh₋ += δa · Rᵀ and δR += h₋ᵀ · δa.
-    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, gateGradient, recurrent.data, rows, width, size, false, true, true);
-    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, gateGradient, size, rows, width, true, false, true);
+    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, gateGradient, recurrent.data, rows, width, hidden, false, true, true);
+    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, gateGradient, hidden, rows, width, true, false, true);
   },
 };

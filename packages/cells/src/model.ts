@@ -4,8 +4,8 @@
  * training), and an optional affine readout. Parameters have stable names:
  *
  *   embedding.table                        [vocabulary, width]
- *   layers.<i>.forward.<name>              the forward cell's parameters (`input`, `recurrent`, `bias`, …)
- *   layers.<i>.backward.<name>             the backward cell's, for a bidirectional layer
+ *   layers[<i>].forward.<name>             the forward cell's parameters (`input`, `recurrent`, `bias`, …)
+ *   layers[<i>].backward.<name>            the backward cell's, for a bidirectional layer
  *   readout.weights [features, width], readout.bias [width]
  *
  * Initialisation draws from one seeded generator in this order: embedding, layers (forward cell, then backward
@@ -21,6 +21,7 @@ import { fillUniform, glorotBound } from './init.js';
 import { checkLengths, runBidirectional, runSequence } from './layer.js';
 import { LstmCell } from './lstm.js';
 import { PlainCell } from './plain.js';
+import { layerPath } from './layout.js';
 import { createParameter } from './recurrence.js';
 import { zeroBeyondLengths } from './sequence-ops.js';
 
@@ -29,14 +30,14 @@ export interface CellRequest {
   /** The layer's description, as written (its `cell` word and any options of your own). */
   readonly layer: LayerDescription;
   /** Features per batch row that the cell reads at each step. */
-  readonly inputSize: number;
+  readonly inputWidth: number;
   /** The layer's `hidden`: the width of the cell's output. */
-  readonly hiddenSize: number;
+  readonly hidden: number;
   /** The element type the model is built in. */
   readonly dtype: DType;
   /** The model's seeded generator, for the cell's initial weights. */
   readonly random: Random;
-  /** The cell's path, for messages and parameter names (`layers.0.forward`). */
+  /** The cell's path, for messages and parameter names (`layers[0].forward`). */
   readonly name: string;
 }
 
@@ -97,7 +98,7 @@ export interface ModelLayer {
 }
 
 export interface ModelStateSlot extends StateSlot {
-  /** Path of the slot: `layers.0.forward.h`. */
+  /** Path of the slot: `layers[0].forward.h`. */
   readonly path: string;
 }
 
@@ -118,8 +119,8 @@ export class SequenceModel {
   readonly readoutWeights: Tensor | null;
   /** The readout bias [output width]; null without a readout. */
   readonly readoutBias: Tensor | null;
-  /** Width of each step's output. */
-  readonly outputSize: number;
+  /** Width of each step's output: the readout's, else the last layer's (hidden × directions). */
+  readonly outputWidth: number;
 
   constructor(description: unknown, options: BuildOptions = {}) {
     const custom = options.cells ?? {};
@@ -139,20 +140,20 @@ export class SequenceModel {
     let width = input.width;
     const layers: ModelLayer[] = [];
     checked.layers.forEach((layer, i) => {
-      const make = (direction: string): RecurrentCell => {
-        const name = `layers[${i}].${direction}`;
-        const request: CellRequest = { layer, inputSize: width, hiddenSize: layer.hidden, dtype, random, name };
+      const make = (direction: 'forward' | 'backward'): RecurrentCell => {
+        const name = layerPath(i, direction);
+        const request: CellRequest = { layer, inputWidth: width, hidden: layer.hidden, dtype, random, name };
         const cell = makeCell(request, custom, mode);
-        if (cell.inputSize !== width || cell.dtype !== dtype) {
-          fail('invalid_option', `${name}`, `a cell with inputSize ${width} and dtype ${dtype}`, `inputSize ${cell.inputSize}, dtype ${cell.dtype}`);
+        if (cell.inputWidth !== width || cell.dtype !== dtype) {
+          fail('invalid_option', `${name}`, `a cell with inputWidth ${width} and dtype ${dtype}`, `inputWidth ${cell.inputWidth}, dtype ${cell.dtype}`);
         }
-        for (const p of cell.parameters()) p.tensor.name = `layers.${i}.${direction}.${p.name}`;
+        for (const p of cell.parameters()) p.tensor.name = `${name}.${p.name}`;
         return cell;
       };
       const forward = make('forward');
       const backward = layer.bidirectional === true ? make('backward') : null;
       layers.push({ forward, backward });
-      width = forward.outputSize + (backward?.outputSize ?? 0);
+      width = forward.hidden + (backward?.hidden ?? 0);
     });
     this.layers = layers;
     const readout = checked.readout;
@@ -160,11 +161,11 @@ export class SequenceModel {
       this.readoutWeights = createParameter('readout.weights', [width, readout.width], dtype);
       fillUniform(this.readoutWeights.data, readout.width, width, 0, readout.width, glorotBound(width, readout.width), random);
       this.readoutBias = createParameter('readout.bias', [readout.width], dtype);
-      this.outputSize = readout.width;
+      this.outputWidth = readout.width;
     } else {
       this.readoutWeights = null;
       this.readoutBias = null;
-      this.outputSize = width;
+      this.outputWidth = width;
     }
   }
 
@@ -175,7 +176,7 @@ export class SequenceModel {
     this.layers.forEach((layer, i) => {
       for (const [direction, cell] of [['forward', layer.forward], ['backward', layer.backward]] as const) {
         if (cell === null) continue;
-        for (const p of cell.parameters()) list.push({ name: `layers.${i}.${direction}.${p.name}`, tensor: p.tensor });
+        for (const p of cell.parameters()) list.push({ name: `${layerPath(i, direction)}.${p.name}`, tensor: p.tensor });
       }
     });
     if (this.readoutWeights !== null && this.readoutBias !== null) {
@@ -190,7 +191,7 @@ export class SequenceModel {
     this.layers.forEach((layer, i) => {
       for (const [direction, cell] of [['forward', layer.forward], ['backward', layer.backward]] as const) {
         if (cell === null) continue;
-        for (const slot of cell.state) slots.push({ ...slot, path: `layers.${i}.${direction}.${slot.name}` });
+        for (const slot of cell.state) slots.push({ ...slot, path: `${layerPath(i, direction)}.${slot.name}` });
       }
     });
     return slots;
@@ -229,7 +230,7 @@ export class SequenceModel {
     const width = features.shape[2];
     const flat = reshape(tape, features, [steps * rows, width]);
     const mapped = add(tape, matmul(tape, flat, this.readoutWeights), this.readoutBias);
-    const outputs = reshape(tape, mapped, [steps, rows, this.outputSize]);
+    const outputs = reshape(tape, mapped, [steps, rows, this.outputWidth]);
     // Keep the ragged convention past the readout too: positions beyond a row's length are zero.
     return { outputs: lengths === null ? outputs : zeroBeyondLengths(tape, outputs, lengths), state };
   }
@@ -260,14 +261,14 @@ export class SequenceModel {
 }
 
 function makeCell(request: CellRequest, custom: Readonly<Record<string, CellMaker>>, mode: CellMode): RecurrentCell {
-  const { layer, inputSize, hiddenSize, dtype, random, name } = request;
+  const { layer, inputWidth, hidden, dtype, random, name } = request;
   switch (layer.cell) {
     case 'lstm':
-      return new LstmCell({ inputSize, hiddenSize, dtype, random, name, mode, peepholes: layer.peepholes, forgetBias: layer.forgetBias });
+      return new LstmCell({ inputWidth, hidden, dtype, random, name, mode, peepholes: layer.peepholes, forgetBias: layer.forgetBias });
     case 'gru':
-      return new GruCell({ inputSize, hiddenSize, dtype, random, name, mode, resetAfterProduct: layer.resetAfterProduct });
+      return new GruCell({ inputWidth, hidden, dtype, random, name, mode, resetAfterProduct: layer.resetAfterProduct });
     case 'plain':
-      return new PlainCell({ inputSize, hiddenSize, dtype, random, name, mode, activation: layer.activation });
+      return new PlainCell({ inputWidth, hidden, dtype, random, name, mode, activation: layer.activation });
     default: {
       const maker = custom[layer.cell];
       if (maker === undefined) fail('invalid_option', `${name}.cell`, 'a known cell kind', layer.cell);

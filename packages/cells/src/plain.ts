@@ -22,8 +22,8 @@ export interface PlainOptions extends CommonCellOptions {
 
 export class PlainCell implements RecurrentCell, FusedSequence {
   readonly kind = 'plain';
-  readonly inputSize: number;
-  readonly outputSize: number;
+  readonly inputWidth: number;
+  readonly hidden: number;
   readonly dtype: DType;
   readonly state: readonly StateSlot[];
   /** The cell's nonlinearity. */
@@ -36,24 +36,24 @@ export class PlainCell implements RecurrentCell, FusedSequence {
   readonly bias: Tensor;
   /** How the cell runs: `fused` or `composed` (may be changed between runs). */
   mode: CellMode;
-  /** The cell's path in messages and parameter names (`layers.0.forward`). */
+  /** The cell's path in messages and parameter names (`layers[0].forward`). */
   name: string;
 
   constructor(options: PlainOptions) {
-    const { name, inputSize, hidden, dtype, random, mode } = resolveCellOptions(options, 'plain');
+    const { name, inputWidth, hidden, dtype, random, mode } = resolveCellOptions(options, 'plain');
     const activation = options.activation ?? 'tanh';
     if (activation !== 'tanh' && activation !== 'relu') fail('invalid_option', `${name}.activation`, "'tanh' or 'relu'", JSON.stringify(activation));
     this.name = name;
-    this.inputSize = inputSize;
-    this.outputSize = hidden;
+    this.inputWidth = inputWidth;
+    this.hidden = hidden;
     this.dtype = dtype;
     this.mode = mode;
     this.activation = activation;
-    this.state = [{ name: 'h', size: hidden }];
-    this.input = createParameter('input', [inputSize, hidden], dtype);
+    this.state = [{ name: 'h', width: hidden }];
+    this.input = createParameter('input', [inputWidth, hidden], dtype);
     this.recurrent = createParameter('recurrent', [hidden, hidden], dtype);
     this.bias = createParameter('bias', [hidden], dtype);
-    fillUniform(this.input.data, hidden, inputSize, 0, hidden, glorotBound(inputSize, hidden), random);
+    fillUniform(this.input.data, hidden, inputWidth, 0, hidden, glorotBound(inputWidth, hidden), random);
     if (activation === 'relu') fillIdentity(this.recurrent.data, hidden, hidden, 0);
     else fillOrthogonal(this.recurrent.data, hidden, hidden, 0, random);
   }
@@ -67,7 +67,7 @@ export class PlainCell implements RecurrentCell, FusedSequence {
   }
 
   step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
-    checkStepArguments(this.name, x, this.inputSize, state, this.state, this.dtype);
+    checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
     const pre = add(tape, add(tape, matmul(tape, x, this.input), matmul(tape, state[0], this.recurrent)), this.bias);
     const h = this.activation === 'relu' ? relu(tape, pre) : tanh(tape, pre);
     return { output: h, state: [h] };
@@ -80,12 +80,12 @@ export class PlainCell implements RecurrentCell, FusedSequence {
 
   private fusedStep(tape: Tape, projected: Tensor, step: number, hPrevious: Tensor, lengths: Int32Array | null): Tensor {
     const rows = hPrevious.shape[0];
-    const size = this.outputSize;
+    const hidden = this.hidden;
     const tracked = projected.tracked || hPrevious.tracked || this.recurrent.tracked;
-    const h = tape.output([rows, size], this.dtype, tracked);
-    tape.kernels.copyAt(h.data, 0, projected.data, step * rows * size, rows * size);
-    tape.kernels.matmul(h.data, hPrevious.data, this.recurrent.data, rows, size, size, false, false, true);
-    tape.kernels.plainStepForward(h.data, hPrevious.data, this.activation === 'relu', rows, size, lengths, step);
+    const h = tape.output([rows, hidden], this.dtype, tracked);
+    tape.kernels.copyAt(h.data, 0, projected.data, step * rows * hidden, rows * hidden);
+    tape.kernels.matmul(h.data, hPrevious.data, this.recurrent.data, rows, hidden, hidden, false, false, true);
+    tape.kernels.plainStepForward(h.data, hPrevious.data, this.activation === 'relu', rows, hidden, lengths, step);
     const saved = tape.record(plainStepKind, h);
     if (saved !== null) {
       saved.projected = projected;
@@ -118,12 +118,12 @@ const plainStepKind: OperationKind<PlainStepSaved> = {
     const { projected, hPrevious, recurrent, relu, lengths, step } = node.saved;
     const h = node.output;
     const rows = hPrevious.shape[0];
-    const size = h.shape[1];
-    const preGradient = tape.buffer(h.dtype, rows * size);
+    const hidden = h.shape[1];
+    const preGradient = tape.buffer(h.dtype, rows * hidden);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    tape.kernels.plainStepBackward(preGradient, hPreviousGradient, h.gradient!, h.data, relu, rows, size, lengths, step);
-    if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * size, preGradient, 0, rows * size);
-    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, preGradient, recurrent.data, rows, size, size, false, true, true);
-    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, preGradient, size, rows, size, true, false, true);
+    tape.kernels.plainStepBackward(preGradient, hPreviousGradient, h.gradient!, h.data, relu, rows, hidden, lengths, step);
+    if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * hidden, preGradient, 0, rows * hidden);
+    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, preGradient, recurrent.data, rows, hidden, hidden, false, true, true);
+    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, preGradient, hidden, rows, hidden, true, false, true);
   },
 };

@@ -7,14 +7,15 @@
 import { Random, add, fail, formatShape, matmul, reshape, trainable, zeros } from '@weft/core';
 import type { DType, Tape, Tensor } from '@weft/core';
 import type { CellMode, SequenceResult } from './cell.js';
+import { hiddenProblem } from './description.js';
 import { stackSteps } from './sequence-ops.js';
 
 /** The options every built-in cell takes. */
 export interface CommonCellOptions {
   /** Features per batch row at each step. */
-  readonly inputSize: number;
+  readonly inputWidth: number;
   /** Width of the hidden state (and of the output) per batch row. */
-  readonly hiddenSize: number;
+  readonly hidden: number;
   /** Element type of the parameters: `f32` (default) or `f64` (for gradient checks). */
   readonly dtype?: DType;
   /** Seed or generator for the initial weights. Default seed 0. */
@@ -27,7 +28,7 @@ export interface CommonCellOptions {
 
 export interface ResolvedCellOptions {
   readonly name: string;
-  readonly inputSize: number;
+  readonly inputWidth: number;
   readonly hidden: number;
   readonly dtype: DType;
   readonly random: Random;
@@ -37,10 +38,13 @@ export interface ResolvedCellOptions {
 /** Checks and fills in the common options, naming the cell in any message. */
 export function resolveCellOptions(options: CommonCellOptions, kind: string): ResolvedCellOptions {
   const name = options.name ?? kind;
+  // Options of earlier versions, refused by name so that a program written for them learns the new word.
+  if ('hiddenSize' in options) fail('invalid_option', `${name}.hiddenSize`, 'the option hidden (hiddenSize was renamed)', JSON.stringify((options as { hiddenSize?: unknown }).hiddenSize));
+  if ('inputSize' in options) fail('invalid_option', `${name}.inputSize`, 'the option inputWidth (inputSize was renamed)', JSON.stringify((options as { inputSize?: unknown }).inputSize));
   return {
     name,
-    inputSize: requirePositiveWhole(options.inputSize, `${name}.inputSize`),
-    hidden: requirePositiveWhole(options.hiddenSize, `${name}.hiddenSize`),
+    inputWidth: requirePositiveWhole(options.inputWidth, `${name}.inputWidth`),
+    hidden: requireHidden(options.hidden, `${name}.hidden`),
     dtype: options.dtype ?? 'f32',
     random: options.random instanceof Random ? options.random : new Random(options.random ?? 0),
     mode: options.mode ?? 'fused',
@@ -51,6 +55,13 @@ export function createParameter(name: string, shape: readonly number[], dtype: D
   return trainable(zeros(shape, dtype), name);
 }
 
+/** `value` as a hidden size, or a WeftError at `path` (the one bound: `hiddenProblem`). */
+export function requireHidden(value: unknown, path: string): number {
+  const problem = hiddenProblem(value);
+  if (problem !== null) fail('invalid_option', path, problem, JSON.stringify(value));
+  return value as number;
+}
+
 export function requirePositiveWhole(value: unknown, path: string): number {
   if (typeof value !== 'number' || !Number.isInteger(value) || value < 1) {
     fail('invalid_option', path, 'a whole number ≥ 1', JSON.stringify(value));
@@ -58,17 +69,17 @@ export function requirePositiveWhole(value: unknown, path: string): number {
   return value;
 }
 
-/** Checks a step's input [B, inputSize] and state tensors [B, size] at the cell's boundary. */
+/** Checks a step's input [B, inputWidth] and state tensors [B, width] at the cell's boundary. */
 export function checkStepArguments(
   where: string,
   input: Tensor,
-  inputSize: number,
+  inputWidth: number,
   state: readonly Tensor[],
-  slots: readonly { name: string; size: number }[],
+  slots: readonly { name: string; width: number }[],
   dtype: DType,
 ): void {
-  if (input.shape.length !== 2 || input.shape[1] !== inputSize) {
-    fail('shape_mismatch', `${where}.input`, `[batch, ${inputSize}]`, formatShape(input.shape));
+  if (input.shape.length !== 2 || input.shape[1] !== inputWidth) {
+    fail('shape_mismatch', `${where}.input`, `[batch, ${inputWidth}]`, formatShape(input.shape));
   }
   if (input.dtype !== dtype) fail('dtype_mismatch', `${where}.input`, dtype, input.dtype);
   const rows = input.shape[0];
@@ -77,8 +88,8 @@ export function checkStepArguments(
   }
   slots.forEach((slot, i) => {
     const t = state[i];
-    if (t.shape.length !== 2 || t.shape[0] !== rows || t.shape[1] !== slot.size) {
-      fail('shape_mismatch', `${where}.state.${slot.name}`, formatShape([rows, slot.size]), formatShape(t.shape));
+    if (t.shape.length !== 2 || t.shape[0] !== rows || t.shape[1] !== slot.width) {
+      fail('shape_mismatch', `${where}.state.${slot.name}`, formatShape([rows, slot.width]), formatShape(t.shape));
     }
     if (t.dtype !== dtype) fail('dtype_mismatch', `${where}.state.${slot.name}`, dtype, t.dtype);
   });

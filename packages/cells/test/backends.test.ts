@@ -48,12 +48,12 @@ function cellRun(backend: Backend, make: () => RecurrentCell, mode: 'fused' | 'c
 }
 
 const cells: [string, () => RecurrentCell][] = [
-  ['LSTM', () => new LstmCell({ inputSize: 4, hiddenSize: 6, random: 2 })],
-  ['LSTM with peepholes', () => new LstmCell({ inputSize: 4, hiddenSize: 6, peepholes: true, random: 2 })],
-  ['GRU, reset before the product', () => new GruCell({ inputSize: 4, hiddenSize: 6, random: 2 })],
-  ['GRU, reset after the product', () => new GruCell({ inputSize: 4, hiddenSize: 6, resetAfterProduct: true, random: 2 })],
-  ['plain tanh', () => new PlainCell({ inputSize: 4, hiddenSize: 6, random: 2 })],
-  ['plain ReLU', () => new PlainCell({ inputSize: 4, hiddenSize: 6, activation: 'relu', random: 2 })],
+  ['LSTM', () => new LstmCell({ inputWidth: 4, hidden: 6, random: 2 })],
+  ['LSTM with peepholes', () => new LstmCell({ inputWidth: 4, hidden: 6, peepholes: true, random: 2 })],
+  ['GRU, reset before the product', () => new GruCell({ inputWidth: 4, hidden: 6, random: 2 })],
+  ['GRU, reset after the product', () => new GruCell({ inputWidth: 4, hidden: 6, resetAfterProduct: true, random: 2 })],
+  ['plain tanh', () => new PlainCell({ inputWidth: 4, hidden: 6, random: 2 })],
+  ['plain ReLU', () => new PlainCell({ inputWidth: 4, hidden: 6, activation: 'relu', random: 2 })],
 ];
 
 describe.skipIf(!available)('one model on the JavaScript and the WebAssembly backend', () => {

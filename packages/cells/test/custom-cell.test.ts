@@ -38,9 +38,9 @@ describe('a cell of your own', () => {
   it('runs inside a described model when registered by its kind', () => {
     const model = buildModel(
       { input: { kind: 'values', width: 3 }, layers: [{ cell: 'minimal-gated', hidden: 5 }, { cell: 'lstm', hidden: 2 }] },
-      { cells: { 'minimal-gated': (request) => new MinimalGatedCell(request.inputSize, request.hiddenSize, request.dtype) } },
+      { cells: { 'minimal-gated': (request) => new MinimalGatedCell(request.inputWidth, request.hidden, request.dtype) } },
     );
-    expect(model.parameters().map((p) => p.name).slice(0, 2)).toEqual(['layers.0.forward.inputGate', 'layers.0.forward.recurrentGate']);
+    expect(model.parameters().map((p) => p.name).slice(0, 2)).toEqual(['layers[0].forward.inputGate', 'layers[0].forward.recurrentGate']);
     const result = model.run(new Tape(), randomUniform([4, 2, 3], new Random(3)));
     expect(result.outputs.shape).toEqual([4, 2, 2]);
   });

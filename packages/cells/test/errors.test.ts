@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { Tape, WeftError, tensor, zeros } from '@weft/core';
-import { LstmCell, buildModel, runSequence } from '@weft/cells';
+import { GruCell, LstmCell, MAX_HIDDEN, PlainCell, buildModel, hiddenProblem, runSequence } from '@weft/cells';
 
 function problemsOf(run: () => unknown): WeftError {
   try {
@@ -17,7 +17,7 @@ describe('bad input to cells and layers', () => {
   const tape = new Tape();
 
   it('names the layer and argument for a wrong input width', () => {
-    const cell = new LstmCell({ inputSize: 3, hiddenSize: 4, name: 'layers[0].forward' });
+    const cell = new LstmCell({ inputWidth: 3, hidden: 4, name: 'layers[0].forward' });
     expect(() => runSequence(tape, cell, zeros([5, 2, 4]), {}, 'layers[0]')).toThrowError(
       'Shape mismatch at layers[0].inputs: expected [steps, batch, 3], received [5, 2, 4]',
     );
@@ -26,12 +26,31 @@ describe('bad input to cells and layers', () => {
     );
   });
 
+  it('holds a hidden size to one bound wherever it enters: a cell, a description, and says so in the same words', () => {
+    expect(MAX_HIDDEN).toBe(4096);
+    expect(() => new GruCell({ inputWidth: 3, hidden: 4097, name: 'layers[0].forward' })).toThrowError(
+      'Invalid option at layers[0].forward.hidden: expected a whole number from 1 to 4096, received 4097',
+    );
+    expect(() => new PlainCell({ inputWidth: 3, hidden: 0 })).toThrowError('Invalid option at plain.hidden: expected a whole number from 1 to 4096, received 0');
+    expect(() => buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 4097 }] })).toThrowError(
+      'Invalid option at description.layers[0].hidden: expected a whole number from 1 to 4096, received 4097',
+    );
+    expect([hiddenProblem(1), hiddenProblem(4096), hiddenProblem(4096.5), hiddenProblem('8')]).toEqual([null, null, 'a whole number from 1 to 4096', 'a whole number from 1 to 4096']);
+  });
+
+  it('refuses the option names of earlier versions by name, so a program written for them learns the new word', () => {
+    const old = { inputSize: 3, hiddenSize: 4 } as unknown as ConstructorParameters<typeof LstmCell>[0];
+    expect(() => new LstmCell(old)).toThrowError('Invalid option at lstm.hiddenSize: expected the option hidden (hiddenSize was renamed), received 4');
+    const halfway = { inputSize: 3, hidden: 4 } as unknown as ConstructorParameters<typeof LstmCell>[0];
+    expect(() => new LstmCell(halfway)).toThrowError('Invalid option at lstm.inputSize: expected the option inputWidth (inputSize was renamed), received 3');
+  });
+
   it('names the state slot for a wrong state shape', () => {
     expect(() => model.run(tape, zeros([5, 2, 3]), { initialState: [zeros([2, 4]), zeros([2, 5]), zeros([2, 2]), zeros([2, 2])] })).toThrowError(
       'Shape mismatch at layers[0].initialState.c: expected [2, 4], received [2, 5]',
     );
     expect(() => model.run(tape, zeros([5, 2, 3]), { initialState: [zeros([2, 4])] })).toThrowError(
-      'Invalid argument at model.initialState: expected 4 tensors (layers.0.forward.h, layers.0.forward.c, layers.1.forward.h, layers.1.backward.h), received 1',
+      'Invalid argument at model.initialState: expected 4 tensors (layers[0].forward.h, layers[0].forward.c, layers[1].forward.h, layers[1].backward.h), received 1',
     );
     expect(() => model.run(tape, zeros([5, 2, 3]), { initialState: [zeros([2, 4]), zeros([2, 4]), zeros([2, 2]), zeros([3, 2])] })).toThrowError(
       'Shape mismatch at layers[1].backward.initialState.h: expected [2, 2], received [3, 2]',
@@ -48,7 +67,7 @@ describe('bad input to cells and layers', () => {
     expect(() => model.run(tape, zeros([5, 2, 3]), { lengths: [5, 5, 5] })).toThrowError(
       'Shape mismatch at model.lengths: expected 2 lengths (one per batch row), received 3',
     );
-    const cell = new LstmCell({ inputSize: 3, hiddenSize: 4 });
+    const cell = new LstmCell({ inputWidth: 3, hidden: 4 });
     expect(() => runSequence(tape, cell, zeros([5, 2, 3]), { lengths: Int32Array.of(1, 2, 3) }, 'layers[0]')).toThrowError(
       'Shape mismatch at layers[0].lengths: expected 2 lengths (one per batch row), received 3',
     );
@@ -70,7 +89,7 @@ describe('bad input to cells and layers', () => {
   });
 
   it('refuses a dtype mismatch between input and cell', () => {
-    const cell = new LstmCell({ inputSize: 3, hiddenSize: 4, dtype: 'f64' });
+    const cell = new LstmCell({ inputWidth: 3, hidden: 4, dtype: 'f64' });
     expect(() => runSequence(tape, cell, tensor(new Array(6).fill(0), [1, 2, 3]), {}, 'layers[0]')).toThrowError(
       'Dtype mismatch at layers[0].inputs: expected f64, received f32',
     );

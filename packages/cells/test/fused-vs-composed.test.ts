@@ -21,9 +21,9 @@ function run(label: string, make: (typeof cellCases)[number]['make'], mode: Cell
   shakeBiases(cell, 22);
   const random = new Random('fused-vs-composed');
   const inputs = trainable(f64Input(random, [T, B, I], 'inputs'));
-  const state = cell.state.map((slot) => trainable(f64Input(random, [B, slot.size], slot.name, -0.5, 0.5)));
+  const state = cell.state.map((slot) => trainable(f64Input(random, [B, slot.width], slot.name, -0.5, 0.5)));
   const outputWeights = f64Input(random, [T, B, H], 'w');
-  const stateWeights = cell.state.map((slot) => f64Input(random, [B, slot.size], 'v'));
+  const stateWeights = cell.state.map((slot) => f64Input(random, [B, slot.width], 'v'));
   const tape = new Tape();
   const result = runSequence(tape, cell, inputs, { lengths, initialState: state });
   let total = weighted(tape, result.outputs, outputWeights);

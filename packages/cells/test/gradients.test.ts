@@ -29,9 +29,9 @@ describe('cell gradients (f64 finite differences, ragged lengths 5, 3, 1)', () =
         shakeBiases(cell, 12);
         const random = new Random(`${label}-${mode}`);
         const inputs = f64Input(random, [T, B, I], 'inputs');
-        const state = cell.state.map((slot) => f64Input(random, [B, slot.size], `initial ${slot.name}`, -0.5, 0.5));
+        const state = cell.state.map((slot) => f64Input(random, [B, slot.width], `initial ${slot.name}`, -0.5, 0.5));
         const outputWeights = f64Input(random, [T, B, H], 'w');
-        const stateWeights = cell.state.map((slot) => f64Input(random, [B, slot.size], 'v'));
+        const stateWeights = cell.state.map((slot) => f64Input(random, [B, slot.width], 'v'));
         const loss = (tape: Tape): Tensor => {
           const result = runSequence(tape, cell, inputs, { lengths, initialState: state });
           let total = weighted(tape, result.outputs, outputWeights);

@@ -21,18 +21,18 @@ describe('initialisation', () => {
   // Saxe, McClelland & Ganguli 2014: orthogonal recurrent weights, WᵀW = I.
   it('makes every recurrent gate block orthogonal: WᵀW = I within 1e-5 (f32) and 1e-12 (f64 generator)', () => {
     expect(worstFromIdentity(gram(orthogonalMatrix(64, new Random(1)), 64, 64, 0))).toBeLessThan(1e-12);
-    const lstm = new LstmCell({ inputSize: 10, hiddenSize: 32, random: 5 });
+    const lstm = new LstmCell({ inputWidth: 10, hidden: 32, random: 5 });
     for (let gate = 0; gate < 4; gate++) expect(worstFromIdentity(gram(lstm.recurrent.data, 128, 32, gate * 32))).toBeLessThan(1e-5);
-    const gru = new GruCell({ inputSize: 10, hiddenSize: 16, random: 6 });
+    const gru = new GruCell({ inputWidth: 10, hidden: 16, random: 6 });
     for (let gate = 0; gate < 2; gate++) expect(worstFromIdentity(gram(gru.recurrent.data, 32, 16, gate * 16))).toBeLessThan(1e-5);
     expect(worstFromIdentity(gram(gru.recurrentCandidate.data, 16, 16, 0))).toBeLessThan(1e-5);
-    const plain = new PlainCell({ inputSize: 3, hiddenSize: 20, random: 7 });
+    const plain = new PlainCell({ inputWidth: 3, hidden: 20, random: 7 });
     expect(worstFromIdentity(gram(plain.recurrent.data, 20, 20, 0))).toBeLessThan(1e-5);
   });
 
   // Glorot & Bengio 2010, eq. 16: U(−b, b), b = √(6 / (fan_in + fan_out)).
   it('draws input weights Glorot-uniform within √(6/(fan_in+fan_out)), filling the range', () => {
-    const lstm = new LstmCell({ inputSize: 40, hiddenSize: 24, random: 8 });
+    const lstm = new LstmCell({ inputWidth: 40, hidden: 24, random: 8 });
     const bound = Math.sqrt(6 / (40 + 24));
     expect(glorotBound(40, 24)).toBe(bound);
     const values = Array.from(lstm.input.data);
@@ -46,22 +46,22 @@ describe('initialisation', () => {
 
   // Le, Jaitly & Hinton 2015: ReLU recurrent weights start at the identity, biases at 0.
   it('starts the ReLU cell recurrent matrix at the identity', () => {
-    const cell = new PlainCell({ inputSize: 3, hiddenSize: 5, activation: 'relu' });
+    const cell = new PlainCell({ inputWidth: 3, hidden: 5, activation: 'relu' });
     expect(Array.from(cell.recurrent.data)).toEqual(Array.from({ length: 25 }, (_, i) => (i % 6 === 0 ? 1 : 0)));
     expect(Array.from(cell.bias.data)).toEqual([0, 0, 0, 0, 0]);
   });
 
   // Jozefowicz, Zaremba & Sutskever 2015: forget-gate bias 1.
   it('sets the LSTM forget-gate bias to 1 by default and every other bias to 0', () => {
-    const cell = new LstmCell({ inputSize: 2, hiddenSize: 3 });
+    const cell = new LstmCell({ inputWidth: 2, hidden: 3 });
     expect(Array.from(cell.bias.data)).toEqual([0, 0, 0, 1, 1, 1, 0, 0, 0, 0, 0, 0]);
-    const custom = new LstmCell({ inputSize: 2, hiddenSize: 2, forgetBias: 2.5 });
+    const custom = new LstmCell({ inputWidth: 2, hidden: 2, forgetBias: 2.5 });
     expect(Array.from(custom.bias.data)).toEqual([0, 0, 2.5, 2.5, 0, 0, 0, 0]);
   });
 
   it('is deterministic: one seed, the same bits', () => {
-    const a = new GruCell({ inputSize: 4, hiddenSize: 6, random: 'same' });
-    const b = new GruCell({ inputSize: 4, hiddenSize: 6, random: 'same' });
+    const a = new GruCell({ inputWidth: 4, hidden: 6, random: 'same' });
+    const b = new GruCell({ inputWidth: 4, hidden: 6, random: 'same' });
     a.parameters().forEach((p, i) => expect(Array.from(p.tensor.data)).toEqual(Array.from(b.parameters()[i].tensor.data)));
   });
 });

@@ -27,7 +27,7 @@ describe('the layout of a description', () => {
       const layout = modelLayout(description);
       expect(layout.builtIn).toBe(true);
       expect(layout.parameters.map((p) => `${p.name} [${p.shape.join(', ')}]`)).toEqual(model.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`));
-      expect(layout.outputWidth).toBe(model.outputSize);
+      expect(layout.outputWidth).toBe(model.outputWidth);
     });
   }
 

@@ -26,8 +26,8 @@ function transposeBlocks(target: Float32Array | Float64Array, targetCols: number
 const lstmBlocks = [0, 2, 3, 1];
 
 export function loadLstm(cell: LstmCell, w: Flat, r: Flat, b?: Flat, p?: Flat): void {
-  const hidden = cell.outputSize;
-  transposeBlocks(cell.input.data, 4 * hidden, w, cell.inputSize, hidden, lstmBlocks);
+  const hidden = cell.hidden;
+  transposeBlocks(cell.input.data, 4 * hidden, w, cell.inputWidth, hidden, lstmBlocks);
   transposeBlocks(cell.recurrent.data, 4 * hidden, r, hidden, hidden, lstmBlocks);
   cell.bias.data.fill(0);
   if (b !== undefined) {
@@ -46,8 +46,8 @@ export function loadLstm(cell: LstmCell, w: Flat, r: Flat, b?: Flat, p?: Flat): 
 }
 
 export function loadGru(cell: GruCell, w: Flat, r: Flat, b?: Flat): void {
-  const hidden = cell.outputSize;
-  transposeBlocks(cell.input.data, 3 * hidden, w, cell.inputSize, hidden, [0, 1, 2]);
+  const hidden = cell.hidden;
+  transposeBlocks(cell.input.data, 3 * hidden, w, cell.inputWidth, hidden, [0, 1, 2]);
   transposeBlocks(cell.recurrent.data, 2 * hidden, r, hidden, hidden, [0, 1]);
   transposeBlocks(cell.recurrentCandidate.data, hidden, r, hidden, hidden, [2]);
   cell.bias.data.fill(0);
@@ -69,8 +69,8 @@ export function loadGru(cell: GruCell, w: Flat, r: Flat, b?: Flat): void {
 }
 
 export function loadPlain(cell: PlainCell, w: Flat, r: Flat, b?: Flat): void {
-  const hidden = cell.outputSize;
-  transposeBlocks(cell.input.data, hidden, w, cell.inputSize, hidden, [0]);
+  const hidden = cell.hidden;
+  transposeBlocks(cell.input.data, hidden, w, cell.inputWidth, hidden, [0]);
   transposeBlocks(cell.recurrent.data, hidden, r, hidden, hidden, [0]);
   cell.bias.data.fill(0);
   if (b !== undefined) for (let j = 0; j < hidden; j++) cell.bias.data[j] = b[j] + b[hidden + j];

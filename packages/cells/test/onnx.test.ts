@@ -56,19 +56,19 @@ function unsupported(c: OnnxCase): string | null {
 function cellFor(c: OnnxCase, dtype: DType): RecurrentCell {
   const hidden = c.attributes.hidden_size as number;
   const w = c.inputs.W;
-  const inputSize = w.dims[2];
+  const inputWidth = w.dims[2];
   const b = c.inputs.B?.data;
   if (c.op_type === 'LSTM') {
-    const cell = new LstmCell({ inputSize, hiddenSize: hidden, dtype, peepholes: c.inputs.P !== undefined });
+    const cell = new LstmCell({ inputWidth, hidden, dtype, peepholes: c.inputs.P !== undefined });
     loadLstm(cell, w.data, c.inputs.R.data, b, c.inputs.P?.data);
     return cell;
   }
   if (c.op_type === 'GRU') {
-    const cell = new GruCell({ inputSize, hiddenSize: hidden, dtype, resetAfterProduct: (c.attributes.linear_before_reset ?? 0) !== 0 });
+    const cell = new GruCell({ inputWidth, hidden, dtype, resetAfterProduct: (c.attributes.linear_before_reset ?? 0) !== 0 });
     loadGru(cell, w.data, c.inputs.R.data, b);
     return cell;
   }
-  const cell = new PlainCell({ inputSize, hiddenSize: hidden, dtype });
+  const cell = new PlainCell({ inputWidth, hidden, dtype });
   loadPlain(cell, w.data, c.inputs.R.data, b);
   return cell;
 }
@@ -106,7 +106,7 @@ function runCase(c: OnnxCase, dtype: DType): Record<string, number[]> {
   const initialC = stateOf(c.inputs.initial_c, dtype);
   const rows = inputs.shape[1];
   const zeros = (size: number) => tensor(new Array<number>(rows * size).fill(0), [rows, size], dtype);
-  const hidden = cell.outputSize;
+  const hidden = cell.hidden;
   const initialState = c.op_type === 'LSTM' ? [initialH ?? zeros(hidden), initialC ?? zeros(hidden)] : [initialH ?? zeros(hidden)];
   const lengths = c.inputs.sequence_lens?.data;
   const result = runSequence(new Tape({ recording: false }), cell, inputs, { initialState, lengths });
@@ -212,16 +212,16 @@ function setup(kind: 'lstm' | 'gru-before' | 'gru-after' | 'rnn', seed: string, 
   const flat = (m: Matrix) => m.flat();
   const cell = (dtype: DType): RecurrentCell => {
     if (kind === 'lstm') {
-      const made = new LstmCell({ inputSize: width, hiddenSize: hidden, dtype, peepholes: true });
+      const made = new LstmCell({ inputWidth: width, hidden, dtype, peepholes: true });
       loadLstm(made, flat(spec.w), flat(spec.r), spec.b, spec.p);
       return made;
     }
     if (kind === 'rnn') {
-      const made = new PlainCell({ inputSize: width, hiddenSize: hidden, dtype });
+      const made = new PlainCell({ inputWidth: width, hidden, dtype });
       loadPlain(made, flat(spec.w), flat(spec.r), spec.b);
       return made;
     }
-    const made = new GruCell({ inputSize: width, hiddenSize: hidden, dtype, resetAfterProduct: kind === 'gru-after' });
+    const made = new GruCell({ inputWidth: width, hidden, dtype, resetAfterProduct: kind === 'gru-after' });
     loadGru(made, flat(spec.w), flat(spec.r), spec.b);
     return made;
   };

@@ -4,10 +4,10 @@ import { GruCell, LstmCell, PlainCell, runSequence } from '@weft/cells';
 
 describe('a repeated training window', () => {
   for (const make of [
-    () => new LstmCell({ inputSize: 4, hiddenSize: 8, peepholes: true }),
-    () => new GruCell({ inputSize: 4, hiddenSize: 8, resetAfterProduct: true }),
-    () => new GruCell({ inputSize: 4, hiddenSize: 8 }),
-    () => new PlainCell({ inputSize: 4, hiddenSize: 8 }),
+    () => new LstmCell({ inputWidth: 4, hidden: 8, peepholes: true }),
+    () => new GruCell({ inputWidth: 4, hidden: 8, resetAfterProduct: true }),
+    () => new GruCell({ inputWidth: 4, hidden: 8 }),
+    () => new PlainCell({ inputWidth: 4, hidden: 8 }),
   ]) {
     const cell = make();
     it(`creates no typed arrays after its first run (${cell.kind}, fused)`, () => {

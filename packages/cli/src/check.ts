@@ -1,7 +1,7 @@
 /**
  * `weft check`: gradient checks (f64 central differences against the tape) for the built-in cells, fused and
  * composed, or for a cell exported from the user's own module. A module exports (as default, or under
- * --export NAME) a function that makes the cell: ({ inputSize, hiddenSize, dtype }) => RecurrentCell.
+ * --export NAME) a function that makes the cell: ({ inputWidth, hidden, dtype }) => RecurrentCell.
  */
 import { resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
@@ -26,19 +26,19 @@ export const checkFlags: FlagSpec[] = [
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
-type Maker = (request: { inputSize: number; hiddenSize: number; dtype: 'f64' }) => RecurrentCell;
+type Maker = (request: { inputWidth: number; hidden: number; dtype: 'f64' }) => RecurrentCell;
 
 function checkCell(cell: RecurrentCell, steps: number, tolerance: number, seed: string): GradientReport {
   const random = new Random(seed);
   const batch = 3;
-  const inputs = randomUniform([steps, batch, cell.inputSize], random, -1, 1, 'f64');
+  const inputs = randomUniform([steps, batch, cell.inputWidth], random, -1, 1, 'f64');
   inputs.name = 'inputs';
   const state = cell.state.map((slot) => {
-    const t = randomUniform([batch, slot.size], random, -0.5, 0.5, 'f64');
+    const t = randomUniform([batch, slot.width], random, -0.5, 0.5, 'f64');
     t.name = `initial ${slot.name}`;
     return t;
   });
-  const weights = randomUniform([steps, batch, cell.outputSize], random, -1, 1, 'f64');
+  const weights = randomUniform([steps, batch, cell.hidden], random, -1, 1, 'f64');
   const lengths = [steps, Math.max(1, steps - 2), 1];
   const tensors: Tensor[] = [...cell.parameters().map((p) => {
     p.tensor.name = p.name;
@@ -57,8 +57,8 @@ function checkCell(cell: RecurrentCell, steps: number, tolerance: number, seed: 
 
 export async function check(args: ParsedArgs): Promise<{ text: string; passed: boolean }> {
   const backend = chooseBackend(args);
-  const inputSize = numberFlag(args, 'inputs', 3, { whole: true, min: 1, max: 64 });
-  const hiddenSize = numberFlag(args, 'hidden', 4, { whole: true, min: 1, max: 64 });
+  const inputWidth = numberFlag(args, 'inputs', 3, { whole: true, min: 1, max: 64 });
+  const hidden = numberFlag(args, 'hidden', 4, { whole: true, min: 1, max: 64 });
   const steps = numberFlag(args, 'steps', 5, { whole: true, min: 2, max: 50 });
   const tolerance = numberFlag(args, 'tolerance', 1e-6, { min: 1e-14, max: 1 });
   const cells: [string, RecurrentCell][] = [];
@@ -72,8 +72,8 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
     }
     const name = args.flags.get('export') ?? 'default';
     const maker = loaded[name];
-    if (typeof maker !== 'function') throw new CommandError(`${modulePath}: export ${JSON.stringify(name)} is ${typeof maker}, not a function ({ inputSize, hiddenSize, dtype }) => cell`);
-    const cell = (maker as Maker)({ inputSize, hiddenSize, dtype: 'f64' });
+    if (typeof maker !== 'function') throw new CommandError(`${modulePath}: export ${JSON.stringify(name)} is ${typeof maker}, not a function ({ inputWidth, hidden, dtype }) => cell`);
+    const cell = (maker as Maker)({ inputWidth, hidden, dtype: 'f64' });
     if (typeof cell !== 'object' || cell === null || typeof cell.step !== 'function' || typeof cell.parameters !== 'function' || !Array.isArray(cell.state)) {
       throw new CommandError(`${modulePath}: export ${JSON.stringify(name)} did not return a cell (an object with state, parameters() and step())`);
     }
@@ -85,7 +85,7 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
         for (const p of cell.parameters()) if (p.name !== 'input' && p.name !== 'recurrent') for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.4, 0.4);
         return cell;
       };
-      const base = { inputSize, hiddenSize, dtype: 'f64' as const, mode };
+      const base = { inputWidth, hidden, dtype: 'f64' as const, mode };
       cells.push(
         [`LSTM (${mode})`, shake(new LstmCell({ ...base, random: 1 }))],
         [`LSTM with peepholes (${mode})`, shake(new LstmCell({ ...base, random: 2, peepholes: true }))],

@@ -1,7 +1,7 @@
 /** `weft train`: fit a model to a file of your own, with progress, checkpoints, resume and a loss curve. */
 import { existsSync, readFileSync } from 'node:fs';
 import { basename, extname, resolve } from 'node:path';
-import { buildModel } from '@weft/cells';
+import { MAX_HIDDEN, buildModel } from '@weft/cells';
 import type { LayerDescription, ModelDescription } from '@weft/cells';
 import { AdamRule, Trainer } from '@weft/optim';
 import type { TrainingEvent, TrainingSummary } from '@weft/optim';
@@ -111,7 +111,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const text = readData(dataPath);
   const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify'] as const, args.flags.has('id-column') ? 'classify' : guessTask(dataPath, text));
   const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
-  const hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: 4096 });
+  const hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
   const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
   const dropout = numberFlag(args, 'dropout', 0, { min: 0, max: 0.95 });
   const seed = args.flags.get('seed') ?? '1';

@@ -81,7 +81,7 @@ describe('the weft command', () => {
 
     const inspect = weft(['inspect', 'notes.weft.json']);
     expect(inspect.code).toBe(0);
-    expect(inspect.out).toContain('layers.0.forward.recurrentCandidate');
+    expect(inspect.out).toContain('layers[0].forward.recurrentCandidate');
     expect(inspect.out).toMatch(/digest: SHA-256 [0-9a-f]{64} — verified/);
 
     const sample = weft(['sample', 'notes.weft.json', '--prefix', 'day 3: ', '--length', '60', '--seed', '2']);

@@ -54,8 +54,8 @@ describe('writing to the terminal', () => {
   it('shows a hostile tensor name and metadata key as escaped text in weft inspect', async () => {
     const name = 'w\nweft: all good\u001b[31m';
     const text = await writeWeightFile({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 1 }] },
-      [{ name: 'layers.0.forward.input', shape: [1, 1], values: Float32Array.of(0.5) }, { name: 'layers.0.forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
-        { name: 'layers.0.forward.bias', shape: [1], values: Float32Array.of(0) }],
+      [{ name: 'layers[0].forward.input', shape: [1, 1], values: Float32Array.of(0.5) }, { name: 'layers[0].forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
+        { name: 'layers[0].forward.bias', shape: [1], values: Float32Array.of(0) }],
       { metadata: { [name]: 'x'.repeat(5000) } });
     writeFileSync(join(folder, 'hostile.weft.json'), text);
     const result = await new Promise<{ out: string; code: number | null }>((resolve) => {

@@ -161,6 +161,10 @@ export class Tape {
     this.nodeCount++;
     let saved = node.records.get(kind as OperationKind<never>) as Saved | undefined;
     if (saved === undefined) {
+      if (typeof kind.saves !== 'function') {
+        fail('invalid_argument', `${kind.name}.saves`, 'a function that makes the record of what backward reads (see OperationKind)', typeof kind.saves,
+          'an operation kind now keeps what backward needs in named fields: give it saves() and fill the record tape.record returns');
+      }
       saved = kind.saves();
       node.records.set(kind as OperationKind<never>, saved);
     }

@@ -58,6 +58,46 @@ describe('the tape', () => {
     expect(() => tape.reverseSweep(y)).toThrowError(/Tape misuse at Tape.reverseSweep.output/);
   });
 
+  it('gives each node its kind\'s own record, reused when the same graph is recorded again', () => {
+    const x = trainable(tensor([1, 2], [2], 'f64'), 'x');
+    const tape = new Tape();
+    const scaledKind = {
+      name: 'scaled',
+      saves: () => ({ input: x, factor: 0 }),
+      backward(node: { saved: { input: typeof x; factor: number }; output: typeof x }, t: Tape) {
+        const g = node.output.gradient!;
+        const gx = t.gradientOf(node.saved.input);
+        for (let i = 0; i < g.length; i++) gx[i] += node.saved.factor * g[i];
+      },
+    };
+    const records: object[] = [];
+    for (let round = 0; round < 2; round++) {
+      const out = tape.output([2], 'f64', true);
+      out.data.set([3 * x.data[0], 3 * x.data[1]]);
+      const saved = tape.record(scaledKind, out);
+      expect(saved).not.toBeNull();
+      saved!.input = x;
+      saved!.factor = 3;
+      records.push(saved!);
+      tape.reverseSweep(sum(tape, out));
+      tape.clear();
+    }
+    expect(records[1]).toBe(records[0]);
+    // d(Σ 3x)/dx = 3 per sweep, two sweeps.
+    expect(Array.from(x.gradient!)).toEqual([6, 6]);
+  });
+
+  it('refuses an operation kind without saves(), saying what it needs', () => {
+    const x = trainable(tensor([1], [1], 'f64'), 'x');
+    const tape = new Tape();
+    const out = tape.output([1], 'f64', true);
+    const oldStyle = { name: 'oldStyle', backward() {} } as unknown as Parameters<Tape['record']>[0];
+    expect(() => tape.record(oldStyle, out)).toThrowError(
+      'Invalid argument at oldStyle.saves: expected a function that makes the record of what backward reads (see OperationKind), received undefined',
+    );
+    void x;
+  });
+
   it('records nothing and tracks nothing while recording is off', () => {
     const x = trainable(tensor([1, 2], [2]));
     const tape = new Tape({ recording: false });

@@ -19,37 +19,37 @@ export function affineRows(out: usize, bias: usize, x: usize, weights: usize, ro
 
 /** One LSTM layer step: gates = b + x·W + h·R, then the LSTM gate arithmetic in place on h and c. */
 export function lstmLayerStep(
-  x: usize, input: usize, recurrent: usize, bias: usize, peephole: usize, hidden: usize, cell: usize, gates: usize,
-  tanhCell: usize, rows: i32, inputSize: i32, size: i32, lengths: usize, step: i32, scratch: usize,
+  x: usize, input: usize, recurrent: usize, bias: usize, peephole: usize, hState: usize, cell: usize, gates: usize,
+  tanhCell: usize, rows: i32, inputWidth: i32, hidden: i32, lengths: usize, step: i32, scratch: usize,
 ): void {
-  affinePacked(gates, bias, x, input, inputSize, hidden, recurrent, size, rows, 4 * size, scratch);
-  lstmStepForward(hidden, cell, gates, tanhCell, hidden, cell, peephole, rows, size, lengths, step);
+  affinePacked(gates, bias, x, input, inputWidth, hState, recurrent, hidden, rows, 4 * hidden, scratch);
+  lstmStepForward(hState, cell, gates, tanhCell, hState, cell, peephole, rows, hidden, lengths, step);
 }
 
 /** One GRU layer step (both reset forms), with the runtime's work buffers. */
 export function gruLayerStep(
-  x: usize, input: usize, bias: usize, recurrent: usize, candidateWeights: usize, candidateBias: usize, hidden: usize,
+  x: usize, input: usize, bias: usize, recurrent: usize, candidateWeights: usize, candidateBias: usize, hState: usize,
   projected: usize, gates: usize, updateReset: usize, candidate: usize, resetHidden: usize,
-  rows: i32, inputSize: i32, size: i32, lengths: usize, step: i32, scratch: usize,
+  rows: i32, inputWidth: i32, hidden: i32, lengths: usize, step: i32, scratch: usize,
 ): void {
-  affinePacked(projected, bias, x, input, inputSize, 0, 0, 0, rows, 3 * size, scratch);
-  affinePacked(updateReset, 0, hidden, recurrent, size, 0, 0, 0, rows, 2 * size, scratch);
-  gruUpdateReset(gates, projected, 0, updateReset, rows, size);
+  affinePacked(projected, bias, x, input, inputWidth, 0, 0, 0, rows, 3 * hidden, scratch);
+  affinePacked(updateReset, 0, hState, recurrent, hidden, 0, 0, 0, rows, 2 * hidden, scratch);
+  gruUpdateReset(gates, projected, 0, updateReset, rows, hidden);
   if (candidateBias == 0) {
-    gruResetHidden(resetHidden, gates, hidden, rows, size);
-    affinePacked(candidate, 0, resetHidden, candidateWeights, size, 0, 0, 0, rows, size, scratch);
+    gruResetHidden(resetHidden, gates, hState, rows, hidden);
+    affinePacked(candidate, 0, resetHidden, candidateWeights, hidden, 0, 0, 0, rows, hidden, scratch);
   } else {
-    affinePacked(candidate, candidateBias, hidden, candidateWeights, size, 0, 0, 0, rows, size, scratch);
+    affinePacked(candidate, candidateBias, hState, candidateWeights, hidden, 0, 0, 0, rows, hidden, scratch);
   }
-  gruStepFinish(hidden, gates, projected, 0, candidate, hidden, candidateBias != 0 ? 1 : 0, rows, size, lengths, step);
+  gruStepFinish(hState, gates, projected, 0, candidate, hState, candidateBias != 0 ? 1 : 0, rows, hidden, lengths, step);
 }
 
 /** One plain layer step: pre = b + x·W + h·R, φ in place, then h = pre. */
 export function plainLayerStep(
-  x: usize, input: usize, recurrent: usize, bias: usize, hidden: usize, pre: usize, rectified: i32,
-  rows: i32, inputSize: i32, size: i32, lengths: usize, step: i32, scratch: usize,
+  x: usize, input: usize, recurrent: usize, bias: usize, hState: usize, pre: usize, rectified: i32,
+  rows: i32, inputWidth: i32, hidden: i32, lengths: usize, step: i32, scratch: usize,
 ): void {
-  affinePacked(pre, bias, x, input, inputSize, hidden, recurrent, size, rows, size, scratch);
-  plainStepForward(pre, hidden, rectified, rows, size, lengths, step);
-  memory.copy(hidden, pre, <usize>(rows * size) << 2);
+  affinePacked(pre, bias, x, input, inputWidth, hState, recurrent, hidden, rows, hidden, scratch);
+  plainStepForward(pre, hState, rectified, rows, hidden, lengths, step);
+  memory.copy(hState, pre, <usize>(rows * hidden) << 2);
 }

@@ -9,7 +9,7 @@ import type { Problem, RandomState } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors } from './model-file.js';
 import type { ReadOptions, WeightFile, WeightMetadata } from './weight-file.js';
-import { readWeightFile, writeWeightFile } from './weight-file.js';
+import { readWeightFile, respellVersionOneName, writeWeightFile } from './weight-file.js';
 
 /**
  * The training state a checkpoint carries, as plain data: what a trainer's `snapshot()` gives and its `restore()`
@@ -101,6 +101,13 @@ export async function readCheckpoint(text: string, options: ReadOptions = {}): P
   const parameters = Object.create(null) as Record<string, number[]>;
   for (const t of file.tensors) parameters[t.name] = Array.from(t.values);
   const snapshot = { ...(training as unknown as Omit<TrainingState, 'parameters'>), parameters } as TrainingState;
+  const best = snapshot.best as { parameters: Record<string, number[]> | null };
+  if (file.version === 1 && isRecord(best.parameters)) {
+    // A version-1 checkpoint keeps the best weights under the old spelling of their names, as its tensors did.
+    const respelled = Object.create(null) as Record<string, number[]>;
+    for (const [name, values] of Object.entries(best.parameters)) respelled[respellVersionOneName(name)] = values;
+    best.parameters = respelled;
+  }
   // JSON has no Infinity: an early-stopping record with no validation yet was written as null.
   if ((snapshot.best as { loss: number | null }).loss === null) (snapshot.best as { loss: number }).loss = Infinity;
   return { file, snapshot };

@@ -1,7 +1,7 @@
 /**
  * The weight file: writing and strict reading. The format is specified in docs/weight-format.md; in short
  *
- *   { "format": "weft-weights", "version": 1, "model": <description>, "metadata": {…},
+ *   { "format": "weft-weights", "version": 2, "model": <description>, "metadata": {…},
  *     "tensors": [ { "name", "shape", "dtype": "f32" | "f16" | "i8", "data": <base64>, "scales"?: <base64> } ],
  *     "digest": { "algorithm": "SHA-256", "hex": "…" } }
  *
@@ -25,8 +25,17 @@ import { dequantizeRows, quantizeRows } from './quantize.js';
 
 /** The `format` field every weight file carries. */
 export const FORMAT_TAG = 'weft-weights';
-/** The version this reader writes; it reads this version and older ones. */
-export const FORMAT_VERSION = 1;
+/**
+ * The version this reader writes; it reads this version and older ones. Version 2 spells layer parameters as
+ * messages do (`layers[0].forward.input`); version 1 files (`layers.0.forward.input`) are read with their names
+ * respelled, so a model, a checkpoint and its error messages all use one spelling.
+ */
+export const FORMAT_VERSION = 2;
+
+/** A version-1 tensor name in today's spelling: `layers.0.forward.input` → `layers[0].forward.input` (also after `encoder.`/`decoder.`). */
+export function respellVersionOneName(name: string): string {
+  return name.replace(/(^|\.)layers\.(\d+)\./, '$1layers[$2].');
+}
 
 /** How a tensor's values are stored in a file: f32, f16 (binary16), or int8 with one scale per row. */
 export type StoredDType = 'f32' | 'f16' | 'i8';
@@ -53,7 +62,7 @@ export interface WeightMetadata {
 
 /** One tensor's values by name, as weight files hold them. */
 export interface NamedValues {
-  /** The parameter's name (`layers.0.forward.input`). */
+  /** The parameter's name (`layers[0].forward.input`). */
   readonly name: string;
   /** Its shape. */
   readonly shape: readonly number[];
@@ -287,7 +296,8 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
         add(where, 'an object', entry);
         return;
       }
-      const { name, shape, dtype, data, scales } = entry;
+      const { shape, dtype, data, scales } = entry;
+      const name = file.version === 1 && typeof entry.name === 'string' ? respellVersionOneName(entry.name) : entry.name;
       let ok = true;
       if (typeof name !== 'string' || name === '' || name.length > 200) {
         add(`${where}.name`, 'a name of 1 to 200 characters', name);

@@ -42,6 +42,23 @@ describe('the training state a checkpoint carries', () => {
 });
 
 describe('checkpoints', () => {
+  it('of version 1 read as the same training state, their best weights respelled as version 2 names', async () => {
+    const first = setup();
+    await first.trainer.run();
+    const text = await writeCheckpoint(first.trainer, first.model, { task: 'next-token' });
+    // As version 1 wrote it: the old version number, and layers.0.forward.input in the tensors and the best weights.
+    const old = text.replace('"version": 2', '"version": 1').replace(/"layers\[(\d+)\]\./g, '"layers.$1.');
+    expect(old).not.toContain('"layers[');
+    const current = await readCheckpoint(text);
+    const { file, snapshot } = await readCheckpoint(old);
+    expect(file.version).toBe(1);
+    expect(Object.keys(snapshot.best.parameters ?? {})).toContain('layers[1].forward.recurrentCandidate');
+    expect(snapshot).toEqual(current.snapshot);
+    const resumed = setup();
+    resumed.trainer.restore(snapshot);
+    expect(weights(resumed.model)).toEqual(weights(first.model));
+  });
+
   it('resume bit-identical to an uninterrupted run, through the file text', async () => {
     const whole = setup();
     await whole.trainer.run();

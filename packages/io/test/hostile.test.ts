@@ -18,13 +18,13 @@ const model = { input: { kind: 'values' as const, width: 1 }, layers: [{ cell: '
 describe('hostile weight files', () => {
   it('refuses NaN and infinite weights, naming the tensor and the first bad index, unless allowNonFinite is set', async () => {
     const text = await writeWeightFile(model, [
-      { name: 'layers.0.forward.input', shape: [1, 1], values: Float32Array.of(NaN) },
-      { name: 'layers.0.forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
-      { name: 'layers.0.forward.bias', shape: [1], values: Float32Array.of(-Infinity) },
+      { name: 'layers[0].forward.input', shape: [1, 1], values: Float32Array.of(NaN) },
+      { name: 'layers[0].forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
+      { name: 'layers[0].forward.bias', shape: [1], values: Float32Array.of(-Infinity) },
     ]);
     await expect(readWeightFile(text)).rejects.toThrowError(
-      '2 problems:\n  - Non-finite value at tensors (layers.0.forward.input)[0]: expected finite weights, received NaN (a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it)\n'
-      + '  - Non-finite value at tensors (layers.0.forward.bias)[0]: expected finite weights, received -Infinity (a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it)',
+      '2 problems:\n  - Non-finite value at tensors (layers[0].forward.input)[0]: expected finite weights, received NaN (a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it)\n'
+      + '  - Non-finite value at tensors (layers[0].forward.bias)[0]: expected finite weights, received -Infinity (a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it)',
     );
     const file = await readWeightFile(text, { allowNonFinite: true });
     expect(Number.isNaN(file.tensors[0].values[0])).toBe(true);
@@ -44,9 +44,9 @@ describe('hostile weight files', () => {
 describe('descriptions that claim too much', () => {
   it('refuses a million layers and an embedding of 10^6 × 1000 in one line each, before building anything', async () => {
     const text = await writeWeightFile(model, [
-      { name: 'layers.0.forward.input', shape: [1, 1], values: Float32Array.of(0.5) },
-      { name: 'layers.0.forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
-      { name: 'layers.0.forward.bias', shape: [1], values: Float32Array.of(0) },
+      { name: 'layers[0].forward.input', shape: [1, 1], values: Float32Array.of(0.5) },
+      { name: 'layers[0].forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
+      { name: 'layers[0].forward.bias', shape: [1], values: Float32Array.of(0) },
     ]);
     const parsed = JSON.parse(text) as { model: Record<string, unknown> };
     const before = process.memoryUsage().rss;

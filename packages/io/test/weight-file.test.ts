@@ -27,7 +27,7 @@ function probabilities(logits: Float32Array, width: number): Float32Array {
 }
 
 async function worstGap(model: SequenceModel, dtype: StoredDType, input: Parameters<SequenceModel['run']>[1], asProbabilities = false): Promise<number> {
-  const read = (m: SequenceModel) => (asProbabilities ? probabilities(outputsOf(m, input), m.outputSize) : outputsOf(m, input));
+  const read = (m: SequenceModel) => (asProbabilities ? probabilities(outputsOf(m, input), m.outputWidth) : outputsOf(m, input));
   const reference = read(model);
   const loaded = loadModel(await readWeightFile(await write(model, dtype)));
   const got = read(loaded);
@@ -35,6 +35,27 @@ async function worstGap(model: SequenceModel, dtype: StoredDType, input: Paramet
   for (let i = 0; i < got.length; i++) worst = Math.max(worst, Math.abs(got[i] - reference[i]));
   return worst;
 }
+
+/** A version-2 file's text as version 1 wrote it: version 1 and the old spelling `layers.0.forward.input`. */
+function asVersionOne(text: string): string {
+  return text.replace('"version": 2', '"version": 1').replace(/"layers\[(\d+)\]\./g, '"layers.$1.');
+}
+
+describe('a version 1 weight file', () => {
+  it('is read with its tensors named in the version 2 spelling, its digest verified, and runs the same', async () => {
+    const model = shaken(descriptions.bidirectional);
+    const text = await write(model);
+    const old = asVersionOne(text);
+    expect(old).toContain('"name":"layers.1.backward.peephole"');
+    const file = await readWeightFile(old);
+    expect(file.version).toBe(1);
+    expect(file.digestVerified).toBe(true);
+    expect(file.tensors.map((t) => t.name)).toEqual(model.parameters().map((p) => p.name));
+    expect(file.tensors.map((t) => t.name)).toContain('layers[1].backward.peephole');
+    const input = { tokens: Int32Array.from({ length: 12 }, (_, i) => i % 5), steps: 4, batch: 3 };
+    expect(outputsOf(loadModel(file), input)).toEqual(outputsOf(model, input));
+  });
+});
 
 describe('the weight file', () => {
   it('round-trips every model kind: write → read → outputs identical bit for bit (f32)', async () => {
@@ -73,7 +94,7 @@ describe('the weight file', () => {
 
   it('is JSON with a readable, pretty-printed header and one line per tensor', async () => {
     const text = await write(shaken(descriptions.LSTM));
-    expect(text.startsWith('{\n  "format": "weft-weights",\n  "version": 1,\n  "model": {\n')).toBe(true);
+    expect(text.startsWith('{\n  "format": "weft-weights",\n  "version": 2,\n  "model": {\n')).toBe(true);
     expect(text.split('\n').filter((line) => line.trimStart().startsWith('{"name":')).length).toBe(6);
     expect(() => JSON.parse(text)).not.toThrow();
   });
@@ -92,8 +113,8 @@ describe('the weight file', () => {
     }
 
     it('a newer version, saying so', async () => {
-      const text = (await good()).replace('"version": 1', '"version": 7');
-      expect(await problems(text)).toEqual(['version: expected version 1 or older (this reader\'s), received 7: written by a newer weft; update weft to read it']);
+      const text = (await good()).replace('"version": 2', '"version": 7');
+      expect(await problems(text)).toEqual(['version: expected version 2 or older (this reader\'s), received 7: written by a newer weft; update weft to read it']);
     });
 
     it('a changed tensor byte, by its digest', async () => {
@@ -156,7 +177,7 @@ describe('the weight file', () => {
       // Re-reading is fine (shapes are only compared with the description when a model is built) …
       const file = await readWeightFile(JSON.stringify(parsed));
       // … and building names every tensor that does not fit.
-      expect(() => loadModel(file)).toThrowError(/Bad weight file at tensors \(layers\.0\.forward\.input\)\.shape: expected \[3, 21\] \(from the model description\), received \[3, 18\]/);
+      expect(() => loadModel(file)).toThrowError(/Bad weight file at tensors \(layers\[0\]\.forward\.input\)\.shape: expected \[3, 21\] \(from the model description\), received \[3, 18\]/);
     });
 
     it('deep nesting, without recursing into it', async () => {

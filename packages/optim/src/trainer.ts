@@ -256,7 +256,7 @@ export class Trainer {
       const slots = this.model.stateSlots();
       this.releaseCarried();
       this.carried = snapshot.carried.map((values, i) => {
-        const t = zeros([values.length / slots[i].size, slots[i].size], this.model.dtype, this.pool);
+        const t = zeros([values.length / slots[i].width, slots[i].width], this.model.dtype, this.pool);
         for (let k = 0; k < values.length; k++) t.data[k] = values[k];
         return t;
       });

@@ -13,7 +13,7 @@ describe.skipIf(!available)('a trainer on a backend', () => {
       const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 2 }], readout: { width: 1 } }, { seed: 1 });
       const data = streamBatches({ kind: 'values', values: Array.from({ length: 40 }, (_, i) => Math.sin(i)), features: 1 }, { window: 4 });
       expect(() => new Trainer({ model, data, optimizer: new AdamRule({ rate: 0.1 }), epochs: 1, backend: backendNamed('webassembly') })).toThrowError(
-        "Backend mismatch at trainer.model.parameters[0] (layers.0.forward.input): expected a tensor in webassembly memory (the trainer's backend), received a tensor in javascript memory",
+        "Backend mismatch at trainer.model.parameters[0] (layers[0].forward.input): expected a tensor in webassembly memory (the trainer's backend), received a tensor in javascript memory",
       );
     } finally {
       setDefaultBackend(before);

@@ -56,25 +56,25 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
       x.affineRows(o, b, p, w, rows, inner, cols, rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32));
       return out;
     },
-    lstmLayerStep: (xs, input, recurrent, bias, peephole, hidden, cell, gates, tanhCell, rows, inputSize, size, rowLengths, step) => {
-      const p = at(xs), w = at(input), r = at(recurrent), b = at(bias), e = atOrZero(peephole), h = at(hidden), c = at(cell), g = at(gates), t = at(tanhCell);
+    lstmLayerStep: (xs, input, recurrent, bias, peephole, hState, cell, gates, tanhCell, rows, inputWidth, hidden, rowLengths, step) => {
+      const p = at(xs), w = at(input), r = at(recurrent), b = at(bias), e = atOrZero(peephole), h = at(hState), c = at(cell), g = at(gates), t = at(tanhCell);
       if (p < 0 || w < 0 || r < 0 || b < 0 || e < 0 || h < 0 || c < 0 || g < 0 || t < 0) foreign('lstmLayerStep');
-      x.lstmLayerStep(p, w, r, b, e, h, c, g, t, rows, inputSize, size, lengths(rowLengths, rows), step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * size) / 8) * 8) * Math.max(inputSize, size) + 32));
+      x.lstmLayerStep(p, w, r, b, e, h, c, g, t, rows, inputWidth, hidden, lengths(rowLengths, rows), step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32));
     },
-    gruLayerStep: (xs, input, bias, recurrent, candidateWeights, candidateBias, hidden, projected, gates, updateReset, candidate, resetHidden,
-      rows, inputSize, size, rowLengths, step) => {
-      const p = at(xs), w = at(input), b = at(bias), r = at(recurrent), cw = at(candidateWeights), cb = atOrZero(candidateBias), h = at(hidden);
+    gruLayerStep: (xs, input, bias, recurrent, candidateWeights, candidateBias, hState, projected, gates, updateReset, candidate, resetHidden,
+      rows, inputWidth, hidden, rowLengths, step) => {
+      const p = at(xs), w = at(input), b = at(bias), r = at(recurrent), cw = at(candidateWeights), cb = atOrZero(candidateBias), h = at(hState);
       const j = at(projected), g = at(gates), u = at(updateReset), c = at(candidate), rh = at(resetHidden);
       if (p < 0 || w < 0 || b < 0 || r < 0 || cw < 0 || cb < 0 || h < 0 || j < 0 || g < 0 || u < 0 || c < 0 || rh < 0) foreign('gruLayerStep');
-      x.gruLayerStep(p, w, b, r, cw, cb, h, j, g, u, c, rh, rows, inputSize, size, lengths(rowLengths, rows), step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * size) / 8) * 8) * Math.max(inputSize, size) + 32));
+      x.gruLayerStep(p, w, b, r, cw, cb, h, j, g, u, c, rh, rows, inputWidth, hidden, lengths(rowLengths, rows), step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32));
     },
-    plainLayerStep: (xs, input, recurrent, bias, hidden, pre, rectified, rows, inputSize, size, rowLengths, step) => {
-      const p = at(xs), w = at(input), r = at(recurrent), b = at(bias), h = at(hidden), q = at(pre);
+    plainLayerStep: (xs, input, recurrent, bias, hState, pre, rectified, rows, inputWidth, hidden, rowLengths, step) => {
+      const p = at(xs), w = at(input), r = at(recurrent), b = at(bias), h = at(hState), q = at(pre);
       if (p < 0 || w < 0 || r < 0 || b < 0 || h < 0 || q < 0) foreign('plainLayerStep');
-      x.plainLayerStep(p, w, r, b, h, q, +rectified, rows, inputSize, size, lengths(rowLengths, rows), step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(size / 8) * 8) * Math.max(inputSize, size) + 32));
+      x.plainLayerStep(p, w, r, b, h, q, +rectified, rows, inputWidth, hidden, lengths(rowLengths, rows), step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(hidden / 8) * 8) * Math.max(inputWidth, hidden) + 32));
     },
   };
   return Object.freeze({

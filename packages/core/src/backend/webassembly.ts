@@ -182,68 +182,68 @@ class WebAssemblyBackend implements Backend {
         x.tanhGradientInto(at(inputGradient), at(outputGradient), at(y), length);
         return inputGradient;
       },
-      lstmStepForward: (hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, lengths, step) => {
-        if (!(mine(hidden) && mine(cell) && mine(gates) && mine(tanhCell) && mine(hiddenPrevious) && mine(cellPrevious) && mineOrNull(peephole))) {
-          return js.lstmStepForward(hidden, cell, gates, tanhCell, hiddenPrevious, cellPrevious, peephole, rows, size, lengths, step);
+      lstmStepForward: (hState, cell, gates, tanhCell, hPrevious, cellPrevious, peephole, rows, hidden, lengths, step) => {
+        if (!(mine(hState) && mine(cell) && mine(gates) && mine(tanhCell) && mine(hPrevious) && mine(cellPrevious) && mineOrNull(peephole))) {
+          return js.lstmStepForward(hState, cell, gates, tanhCell, hPrevious, cellPrevious, peephole, rows, hidden, lengths, step);
         }
-        x.lstmStepForward(at(hidden), at(cell), at(gates), at(tanhCell), at(hiddenPrevious),
-          at(cellPrevious), pointer(peephole), rows, size, this.lengths(lengths, rows), step);
+        x.lstmStepForward(at(hState), at(cell), at(gates), at(tanhCell), at(hPrevious),
+          at(cellPrevious), pointer(peephole), rows, hidden, this.lengths(lengths, rows), step);
       },
       lstmStepBackward: (gateGradient, hiddenPreviousGradient, cellPreviousGradient, peepholeGradient, hiddenGradient, cellGradient,
-        gates, tanhCell, cellPrevious, cell, peephole, rows, size, lengths, step) => {
+        gates, tanhCell, cellPrevious, cell, peephole, rows, hidden, lengths, step) => {
         if (!(mine(gateGradient) && mineOrNull(hiddenPreviousGradient) && mineOrNull(cellPreviousGradient) && mineOrNull(peepholeGradient)
           && mineOrNull(hiddenGradient) && mineOrNull(cellGradient) && mine(gates) && mine(tanhCell) && mine(cellPrevious) && mine(cell)
           && mineOrNull(peephole))) {
           return js.lstmStepBackward(gateGradient, hiddenPreviousGradient, cellPreviousGradient, peepholeGradient, hiddenGradient,
-            cellGradient, gates, tanhCell, cellPrevious, cell, peephole, rows, size, lengths, step);
+            cellGradient, gates, tanhCell, cellPrevious, cell, peephole, rows, hidden, lengths, step);
         }
         x.lstmStepBackward(at(gateGradient), pointer(hiddenPreviousGradient), pointer(cellPreviousGradient), pointer(peepholeGradient),
           pointer(hiddenGradient), pointer(cellGradient), at(gates), at(tanhCell), at(cellPrevious), at(cell),
-          pointer(peephole), rows, size, this.lengths(lengths, rows), step);
+          pointer(peephole), rows, hidden, this.lengths(lengths, rows), step);
       },
-      gruUpdateReset: (gates, projected, projectedOffset, recurrentGates, rows, size) => {
-        if (!(mine(gates) && mine(projected) && mine(recurrentGates))) return js.gruUpdateReset(gates, projected, projectedOffset, recurrentGates, rows, size);
-        x.gruUpdateReset(at(gates), at(projected), projectedOffset, at(recurrentGates), rows, size);
+      gruUpdateReset: (gates, projected, projectedOffset, recurrentGates, rows, hidden) => {
+        if (!(mine(gates) && mine(projected) && mine(recurrentGates))) return js.gruUpdateReset(gates, projected, projectedOffset, recurrentGates, rows, hidden);
+        x.gruUpdateReset(at(gates), at(projected), projectedOffset, at(recurrentGates), rows, hidden);
       },
-      gruResetHidden: (resetHidden, gates, hiddenPrevious, rows, size) => {
-        if (!(mine(resetHidden) && mine(gates) && mine(hiddenPrevious))) return js.gruResetHidden(resetHidden, gates, hiddenPrevious, rows, size);
-        x.gruResetHidden(at(resetHidden), at(gates), at(hiddenPrevious), rows, size);
+      gruResetHidden: (resetHidden, gates, hPrevious, rows, hidden) => {
+        if (!(mine(resetHidden) && mine(gates) && mine(hPrevious))) return js.gruResetHidden(resetHidden, gates, hPrevious, rows, hidden);
+        x.gruResetHidden(at(resetHidden), at(gates), at(hPrevious), rows, hidden);
       },
-      gruStepFinish: (hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step) => {
-        if (!(mine(hidden) && mine(gates) && mine(projected) && mine(candidate) && mine(hiddenPrevious))) {
-          return js.gruStepFinish(hidden, gates, projected, projectedOffset, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step);
+      gruStepFinish: (hState, gates, projected, projectedOffset, candidate, hPrevious, resetAfter, rows, hidden, lengths, step) => {
+        if (!(mine(hState) && mine(gates) && mine(projected) && mine(candidate) && mine(hPrevious))) {
+          return js.gruStepFinish(hState, gates, projected, projectedOffset, candidate, hPrevious, resetAfter, rows, hidden, lengths, step);
         }
-        x.gruStepFinish(at(hidden), at(gates), at(projected), projectedOffset, at(candidate),
-          at(hiddenPrevious), +resetAfter, rows, size, this.lengths(lengths, rows), step);
+        x.gruStepFinish(at(hState), at(gates), at(projected), projectedOffset, at(candidate),
+          at(hPrevious), +resetAfter, rows, hidden, this.lengths(lengths, rows), step);
       },
       gruBackwardCandidate: (updateResetGradient, candidateGradient, productGradient, hiddenPreviousGradient, hiddenGradient, gates,
-        candidate, hiddenPrevious, resetAfter, rows, size, lengths, step) => {
+        candidate, hPrevious, resetAfter, rows, hidden, lengths, step) => {
         if (!(mine(updateResetGradient) && mine(candidateGradient) && mine(productGradient) && mineOrNull(hiddenPreviousGradient)
-          && mine(hiddenGradient) && mine(gates) && mine(candidate) && mine(hiddenPrevious))) {
+          && mine(hiddenGradient) && mine(gates) && mine(candidate) && mine(hPrevious))) {
           return js.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hiddenPreviousGradient, hiddenGradient,
-            gates, candidate, hiddenPrevious, resetAfter, rows, size, lengths, step);
+            gates, candidate, hPrevious, resetAfter, rows, hidden, lengths, step);
         }
         x.gruBackwardCandidate(at(updateResetGradient), at(candidateGradient), at(productGradient),
-          pointer(hiddenPreviousGradient), at(hiddenGradient), at(gates), at(candidate), at(hiddenPrevious),
-          +resetAfter, rows, size, this.lengths(lengths, rows), step);
+          pointer(hiddenPreviousGradient), at(hiddenGradient), at(gates), at(candidate), at(hPrevious),
+          +resetAfter, rows, hidden, this.lengths(lengths, rows), step);
       },
-      gruBackwardReset: (updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hiddenPrevious, rows, size, lengths, step) => {
-        if (!(mine(updateResetGradient) && mineOrNull(hiddenPreviousGradient) && mine(resetHiddenGradient) && mine(gates) && mine(hiddenPrevious))) {
-          return js.gruBackwardReset(updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hiddenPrevious, rows, size, lengths, step);
+      gruBackwardReset: (updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hPrevious, rows, hidden, lengths, step) => {
+        if (!(mine(updateResetGradient) && mineOrNull(hiddenPreviousGradient) && mine(resetHiddenGradient) && mine(gates) && mine(hPrevious))) {
+          return js.gruBackwardReset(updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hPrevious, rows, hidden, lengths, step);
         }
         x.gruBackwardReset(at(updateResetGradient), pointer(hiddenPreviousGradient), at(resetHiddenGradient), at(gates),
-          at(hiddenPrevious), rows, size, this.lengths(lengths, rows), step);
+          at(hPrevious), rows, hidden, this.lengths(lengths, rows), step);
       },
-      plainStepForward: (hidden, hiddenPrevious, rectified, rows, size, lengths, step) => {
-        if (!(mine(hidden) && mine(hiddenPrevious))) return js.plainStepForward(hidden, hiddenPrevious, rectified, rows, size, lengths, step);
-        x.plainStepForward(at(hidden), at(hiddenPrevious), +rectified, rows, size, this.lengths(lengths, rows), step);
+      plainStepForward: (hState, hPrevious, rectified, rows, hidden, lengths, step) => {
+        if (!(mine(hState) && mine(hPrevious))) return js.plainStepForward(hState, hPrevious, rectified, rows, hidden, lengths, step);
+        x.plainStepForward(at(hState), at(hPrevious), +rectified, rows, hidden, this.lengths(lengths, rows), step);
       },
-      plainStepBackward: (preGradient, hiddenPreviousGradient, hiddenGradient, hidden, rectified, rows, size, lengths, step) => {
-        if (!(mine(preGradient) && mineOrNull(hiddenPreviousGradient) && mine(hiddenGradient) && mine(hidden))) {
-          return js.plainStepBackward(preGradient, hiddenPreviousGradient, hiddenGradient, hidden, rectified, rows, size, lengths, step);
+      plainStepBackward: (preGradient, hiddenPreviousGradient, hiddenGradient, hState, rectified, rows, hidden, lengths, step) => {
+        if (!(mine(preGradient) && mineOrNull(hiddenPreviousGradient) && mine(hiddenGradient) && mine(hState))) {
+          return js.plainStepBackward(preGradient, hiddenPreviousGradient, hiddenGradient, hState, rectified, rows, hidden, lengths, step);
         }
-        x.plainStepBackward(at(preGradient), pointer(hiddenPreviousGradient), at(hiddenGradient), at(hidden),
-          +rectified, rows, size, this.lengths(lengths, rows), step);
+        x.plainStepBackward(at(preGradient), pointer(hiddenPreviousGradient), at(hiddenGradient), at(hState),
+          +rectified, rows, hidden, this.lengths(lengths, rows), step);
       },
       adamUpdate: (values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon) => {
         if (!(mine(values) && mine(gradient) && mine(firstMoment) && mine(secondMoment))) {

@@ -23,51 +23,51 @@ export function gruUpdateReset(
   projectedOffset: number,
   recurrentGates: FloatArray,
   rows: number,
-  size: number,
+  hidden: number,
 ): void {
   for (let b = 0; b < rows; b++) {
-    const gate = b * 3 * size;
+    const gate = b * 3 * hidden;
     const source = projectedOffset + gate;
-    const product = b * 2 * size;
-    for (let k = 0; k < 2 * size; k++) gates[gate + k] = logistic(projected[source + k] + recurrentGates[product + k]);
+    const product = b * 2 * hidden;
+    for (let k = 0; k < 2 * hidden; k++) gates[gate + k] = logistic(projected[source + k] + recurrentGates[product + k]);
   }
 }
 
 /** resetHidden = r ⊙ h₋ (the default form's input to R_n). */
-export function gruResetHidden(resetHidden: FloatArray, gates: FloatArray, hiddenPrevious: FloatArray, rows: number, size: number): void {
+export function gruResetHidden(resetHidden: FloatArray, gates: FloatArray, hPrevious: FloatArray, rows: number, hidden: number): void {
   for (let b = 0; b < rows; b++) {
-    for (let j = 0; j < size; j++) resetHidden[b * size + j] = gates[b * 3 * size + size + j] * hiddenPrevious[b * size + j];
+    for (let j = 0; j < hidden; j++) resetHidden[b * hidden + j] = gates[b * 3 * hidden + hidden + j] * hPrevious[b * hidden + j];
   }
 }
 
 /** Writes n into columns [2H, 3H) of `gates` and the new state h (h₋ for held rows). */
 export function gruStepFinish(
-  hidden: FloatArray,
+  hState: FloatArray,
   gates: FloatArray,
   projected: FloatArray,
   projectedOffset: number,
   candidate: FloatArray,
-  hiddenPrevious: FloatArray,
+  hPrevious: FloatArray,
   resetAfter: boolean,
   rows: number,
-  size: number,
+  hidden: number,
   lengths: Int32Array | null,
   step: number,
 ): void {
   for (let b = 0; b < rows; b++) {
-    const row = b * size;
+    const row = b * hidden;
     if (isHeld(lengths, b, step)) {
-      copyRow(hidden, hiddenPrevious, row, size);
+      copyRow(hState, hPrevious, row, hidden);
       continue;
     }
-    const gate = b * 3 * size;
-    for (let j = 0; j < size; j++) {
+    const gate = b * 3 * hidden;
+    for (let j = 0; j < hidden; j++) {
       const z = gates[gate + j];
       const q = candidate[row + j];
-      const a = projected[projectedOffset + gate + 2 * size + j] + (resetAfter ? gates[gate + size + j] * q : q);
+      const a = projected[projectedOffset + gate + 2 * hidden + j] + (resetAfter ? gates[gate + hidden + j] * q : q);
       const n = Math.tanh(a);
-      gates[gate + 2 * size + j] = n;
-      hidden[row + j] = (1 - z) * n + z * hiddenPrevious[row + j];
+      gates[gate + 2 * hidden + j] = n;
+      hState[row + j] = (1 - z) * n + z * hPrevious[row + j];
     }
   }
 }
@@ -87,39 +87,39 @@ export function gruBackwardCandidate(
   hiddenGradient: FloatArray,
   gates: FloatArray,
   candidate: FloatArray,
-  hiddenPrevious: FloatArray,
+  hPrevious: FloatArray,
   resetAfter: boolean,
   rows: number,
-  size: number,
+  hidden: number,
   lengths: Int32Array | null,
   step: number,
 ): void {
   for (let b = 0; b < rows; b++) {
-    const row = b * size;
-    const pair = b * 2 * size;
+    const row = b * hidden;
+    const pair = b * 2 * hidden;
     if (isHeld(lengths, b, step)) {
-      updateResetGradient.fill(0, pair, pair + 2 * size);
-      candidateGradient.fill(0, row, row + size);
-      productGradient.fill(0, row, row + size);
-      addRowInto(hiddenPreviousGradient, hiddenGradient, row, size);
+      updateResetGradient.fill(0, pair, pair + 2 * hidden);
+      candidateGradient.fill(0, row, row + hidden);
+      productGradient.fill(0, row, row + hidden);
+      addRowInto(hiddenPreviousGradient, hiddenGradient, row, hidden);
       continue;
     }
-    const gate = b * 3 * size;
-    for (let j = 0; j < size; j++) {
+    const gate = b * 3 * hidden;
+    for (let j = 0; j < hidden; j++) {
       const z = gates[gate + j];
-      const r = gates[gate + size + j];
-      const n = gates[gate + 2 * size + j];
+      const r = gates[gate + hidden + j];
+      const n = gates[gate + 2 * hidden + j];
       const dh = hiddenGradient[row + j];
-      const hPrev = hiddenPrevious[row + j];
+      const hPrev = hPrevious[row + j];
       const dan = dh * (1 - z) * (1 - n * n);
       updateResetGradient[pair + j] = dh * (hPrev - n) * z * (1 - z);
       candidateGradient[row + j] = dan;
       if (resetAfter) {
         productGradient[row + j] = dan * r;
-        updateResetGradient[pair + size + j] = dan * candidate[row + j] * r * (1 - r);
+        updateResetGradient[pair + hidden + j] = dan * candidate[row + j] * r * (1 - r);
       } else {
         productGradient[row + j] = dan;
-        updateResetGradient[pair + size + j] = 0;
+        updateResetGradient[pair + hidden + j] = 0;
       }
       if (hiddenPreviousGradient !== null) hiddenPreviousGradient[row + j] += dh * z;
     }
@@ -135,21 +135,21 @@ export function gruBackwardReset(
   hiddenPreviousGradient: FloatArray | null,
   resetHiddenGradient: FloatArray,
   gates: FloatArray,
-  hiddenPrevious: FloatArray,
+  hPrevious: FloatArray,
   rows: number,
-  size: number,
+  hidden: number,
   lengths: Int32Array | null,
   step: number,
 ): void {
   for (let b = 0; b < rows; b++) {
     if (isHeld(lengths, b, step)) continue;
-    const row = b * size;
-    const gate = b * 3 * size;
-    const pair = b * 2 * size;
-    for (let j = 0; j < size; j++) {
-      const r = gates[gate + size + j];
+    const row = b * hidden;
+    const gate = b * 3 * hidden;
+    const pair = b * 2 * hidden;
+    for (let j = 0; j < hidden; j++) {
+      const r = gates[gate + hidden + j];
       const d = resetHiddenGradient[row + j];
-      updateResetGradient[pair + size + j] = d * hiddenPrevious[row + j] * r * (1 - r);
+      updateResetGradient[pair + hidden + j] = d * hPrevious[row + j] * r * (1 - r);
       if (hiddenPreviousGradient !== null) hiddenPreviousGradient[row + j] += d * r;
     }
   }

@@ -21,14 +21,14 @@ export function affineRows(out: FloatArray, bias: FloatArray, x: FloatArray, wei
 /** gates [rows, 4H] = x·W + b + h·R, then h, c ← the LSTM step (tanhCell [rows, H] is working memory). */
 export function lstmLayerStep(
   x: FloatArray, input: FloatArray, recurrent: FloatArray, bias: FloatArray, peephole: FloatArray | null,
-  hidden: FloatArray, cell: FloatArray, gates: FloatArray, tanhCell: FloatArray,
-  rows: number, inputSize: number, size: number, lengths: Int32Array | null, step: number,
+  hState: FloatArray, cell: FloatArray, gates: FloatArray, tanhCell: FloatArray,
+  rows: number, inputWidth: number, hidden: number, lengths: Int32Array | null, step: number,
 ): void {
-  matmul(gates, x, input, rows, inputSize, 4 * size);
-  addRow(gates, gates, bias, rows, 4 * size);
-  matmul(gates, hidden, recurrent, rows, size, 4 * size, false, false, true);
+  matmul(gates, x, input, rows, inputWidth, 4 * hidden);
+  addRow(gates, gates, bias, rows, 4 * hidden);
+  matmul(gates, hState, recurrent, rows, hidden, 4 * hidden, false, false, true);
   // In place: the kernel reads each h₋, c₋ entry before writing the same entry.
-  lstmStepForward(hidden, cell, gates, tanhCell, hidden, cell, peephole, rows, size, lengths, step);
+  lstmStepForward(hState, cell, gates, tanhCell, hState, cell, peephole, rows, hidden, lengths, step);
 }
 
 /**
@@ -37,32 +37,32 @@ export function lstmLayerStep(
  */
 export function gruLayerStep(
   x: FloatArray, input: FloatArray, bias: FloatArray, recurrent: FloatArray, candidateWeights: FloatArray,
-  candidateBias: FloatArray | null, hidden: FloatArray, projected: FloatArray, gates: FloatArray,
+  candidateBias: FloatArray | null, hState: FloatArray, projected: FloatArray, gates: FloatArray,
   updateReset: FloatArray, candidate: FloatArray, resetHidden: FloatArray,
-  rows: number, inputSize: number, size: number, lengths: Int32Array | null, step: number,
+  rows: number, inputWidth: number, hidden: number, lengths: Int32Array | null, step: number,
 ): void {
-  matmul(projected, x, input, rows, inputSize, 3 * size);
-  addRow(projected, projected, bias, rows, 3 * size);
-  matmul(updateReset, hidden, recurrent, rows, size, 2 * size);
-  gruUpdateReset(gates, projected, 0, updateReset, rows, size);
+  matmul(projected, x, input, rows, inputWidth, 3 * hidden);
+  addRow(projected, projected, bias, rows, 3 * hidden);
+  matmul(updateReset, hState, recurrent, rows, hidden, 2 * hidden);
+  gruUpdateReset(gates, projected, 0, updateReset, rows, hidden);
   if (candidateBias === null) {
-    gruResetHidden(resetHidden, gates, hidden, rows, size);
-    matmul(candidate, resetHidden, candidateWeights, rows, size, size);
+    gruResetHidden(resetHidden, gates, hState, rows, hidden);
+    matmul(candidate, resetHidden, candidateWeights, rows, hidden, hidden);
   } else {
-    matmul(candidate, hidden, candidateWeights, rows, size, size);
-    addRow(candidate, candidate, candidateBias, rows, size);
+    matmul(candidate, hState, candidateWeights, rows, hidden, hidden);
+    addRow(candidate, candidate, candidateBias, rows, hidden);
   }
-  gruStepFinish(hidden, gates, projected, 0, candidate, hidden, candidateBias !== null, rows, size, lengths, step);
+  gruStepFinish(hState, gates, projected, 0, candidate, hState, candidateBias !== null, rows, hidden, lengths, step);
 }
 
 /** pre [rows, H] = x·W + b + h·R, φ applied (held rows keep h₋), then h = pre. */
 export function plainLayerStep(
-  x: FloatArray, input: FloatArray, recurrent: FloatArray, bias: FloatArray, hidden: FloatArray, pre: FloatArray,
-  rectified: boolean, rows: number, inputSize: number, size: number, lengths: Int32Array | null, step: number,
+  x: FloatArray, input: FloatArray, recurrent: FloatArray, bias: FloatArray, hState: FloatArray, pre: FloatArray,
+  rectified: boolean, rows: number, inputWidth: number, hidden: number, lengths: Int32Array | null, step: number,
 ): void {
-  matmul(pre, x, input, rows, inputSize, size);
-  addRow(pre, pre, bias, rows, size);
-  matmul(pre, hidden, recurrent, rows, size, size, false, false, true);
-  plainStepForward(pre, hidden, rectified, rows, size, lengths, step);
-  for (let i = 0; i < rows * size; i++) hidden[i] = pre[i];
+  matmul(pre, x, input, rows, inputWidth, hidden);
+  addRow(pre, pre, bias, rows, hidden);
+  matmul(pre, hState, recurrent, rows, hidden, hidden, false, false, true);
+  plainStepForward(pre, hState, rectified, rows, hidden, lengths, step);
+  for (let i = 0; i < rows * hidden; i++) hState[i] = pre[i];
 }

@@ -19,50 +19,50 @@ import { addRowInto, copyRow, isHeld } from './rows.js';
  * Writes h and c, and tanh(c) into `tanhCell`. `peephole` is [3H] in the order i, f, o, or null.
  */
 export function lstmStepForward(
-  hidden: FloatArray,
+  hState: FloatArray,
   cell: FloatArray,
   gates: FloatArray,
   tanhCell: FloatArray,
-  hiddenPrevious: FloatArray,
+  hPrevious: FloatArray,
   cellPrevious: FloatArray,
   peephole: FloatArray | null,
   rows: number,
-  size: number,
+  hidden: number,
   lengths: Int32Array | null,
   step: number,
 ): void {
-  const width = 4 * size;
+  const width = 4 * hidden;
   for (let b = 0; b < rows; b++) {
-    const row = b * size;
+    const row = b * hidden;
     if (isHeld(lengths, b, step)) {
-      copyRow(hidden, hiddenPrevious, row, size);
-      copyRow(cell, cellPrevious, row, size);
+      copyRow(hState, hPrevious, row, hidden);
+      copyRow(cell, cellPrevious, row, hidden);
       continue;
     }
     const gate = b * width;
-    for (let j = 0; j < size; j++) {
+    for (let j = 0; j < hidden; j++) {
       const cPrev = cellPrevious[row + j];
       let ai = gates[gate + j];
-      let af = gates[gate + size + j];
-      let ao = gates[gate + 3 * size + j];
+      let af = gates[gate + hidden + j];
+      let ao = gates[gate + 3 * hidden + j];
       if (peephole !== null) {
         ai += peephole[j] * cPrev;
-        af += peephole[size + j] * cPrev;
+        af += peephole[hidden + j] * cPrev;
       }
       const i = logistic(ai);
       const f = logistic(af);
-      const g = Math.tanh(gates[gate + 2 * size + j]);
+      const g = Math.tanh(gates[gate + 2 * hidden + j]);
       const c = f * cPrev + i * g;
-      if (peephole !== null) ao += peephole[2 * size + j] * c;
+      if (peephole !== null) ao += peephole[2 * hidden + j] * c;
       const o = logistic(ao);
       const tc = Math.tanh(c);
       gates[gate + j] = i;
-      gates[gate + size + j] = f;
-      gates[gate + 2 * size + j] = g;
-      gates[gate + 3 * size + j] = o;
+      gates[gate + hidden + j] = f;
+      gates[gate + 2 * hidden + j] = g;
+      gates[gate + 3 * hidden + j] = o;
       cell[row + j] = c;
       tanhCell[row + j] = tc;
-      hidden[row + j] = o * tc;
+      hState[row + j] = o * tc;
     }
   }
 }
@@ -93,47 +93,47 @@ export function lstmStepBackward(
   cell: FloatArray,
   peephole: FloatArray | null,
   rows: number,
-  size: number,
+  hidden: number,
   lengths: Int32Array | null,
   step: number,
 ): void {
-  const width = 4 * size;
+  const width = 4 * hidden;
   for (let b = 0; b < rows; b++) {
-    const row = b * size;
+    const row = b * hidden;
     const gate = b * width;
     if (isHeld(lengths, b, step)) {
       gateGradient.fill(0, gate, gate + width);
-      addRowInto(hiddenPreviousGradient, hiddenGradient, row, size);
-      addRowInto(cellPreviousGradient, cellGradient, row, size);
+      addRowInto(hiddenPreviousGradient, hiddenGradient, row, hidden);
+      addRowInto(cellPreviousGradient, cellGradient, row, hidden);
       continue;
     }
-    for (let j = 0; j < size; j++) {
+    for (let j = 0; j < hidden; j++) {
       const i = gates[gate + j];
-      const f = gates[gate + size + j];
-      const g = gates[gate + 2 * size + j];
-      const o = gates[gate + 3 * size + j];
+      const f = gates[gate + hidden + j];
+      const g = gates[gate + 2 * hidden + j];
+      const o = gates[gate + 3 * hidden + j];
       const tc = tanhCell[row + j];
       const cPrev = cellPrevious[row + j];
       const dh = hiddenGradient === null ? 0 : hiddenGradient[row + j];
       const dao = dh * tc * o * (1 - o);
       let dc = (cellGradient === null ? 0 : cellGradient[row + j]) + dh * o * (1 - tc * tc);
-      if (peephole !== null) dc += dao * peephole[2 * size + j];
+      if (peephole !== null) dc += dao * peephole[2 * hidden + j];
       const dai = dc * g * i * (1 - i);
       const daf = dc * cPrev * f * (1 - f);
       const dag = dc * i * (1 - g * g);
       gateGradient[gate + j] = dai;
-      gateGradient[gate + size + j] = daf;
-      gateGradient[gate + 2 * size + j] = dag;
-      gateGradient[gate + 3 * size + j] = dao;
+      gateGradient[gate + hidden + j] = daf;
+      gateGradient[gate + 2 * hidden + j] = dag;
+      gateGradient[gate + 3 * hidden + j] = dao;
       if (cellPreviousGradient !== null) {
         let dcPrev = dc * f;
-        if (peephole !== null) dcPrev += dai * peephole[j] + daf * peephole[size + j];
+        if (peephole !== null) dcPrev += dai * peephole[j] + daf * peephole[hidden + j];
         cellPreviousGradient[row + j] += dcPrev;
       }
       if (peepholeGradient !== null) {
         peepholeGradient[j] += dai * cPrev;
-        peepholeGradient[size + j] += daf * cPrev;
-        peepholeGradient[2 * size + j] += dao * cell[row + j];
+        peepholeGradient[hidden + j] += daf * cPrev;
+        peepholeGradient[2 * hidden + j] += dao * cell[row + j];
       }
     }
   }

@@ -5,29 +5,29 @@
 import type { FloatArray } from '../dtype.js';
 import { addRowInto, copyRow, isHeld } from './rows.js';
 
-/** On entry `hidden` holds the pre-activation a; on exit φ(a), or h₋ for held rows. */
+/** On entry `hState` holds the pre-activation a; on exit φ(a), or h₋ for held rows. */
 export function plainStepForward(
-  hidden: FloatArray,
-  hiddenPrevious: FloatArray,
+  hState: FloatArray,
+  hPrevious: FloatArray,
   rectified: boolean,
   rows: number,
-  size: number,
+  hidden: number,
   lengths: Int32Array | null,
   step: number,
 ): void {
   for (let b = 0; b < rows; b++) {
-    const row = b * size;
+    const row = b * hidden;
     if (isHeld(lengths, b, step)) {
-      copyRow(hidden, hiddenPrevious, row, size);
+      copyRow(hState, hPrevious, row, hidden);
       continue;
     }
     if (rectified) {
-      for (let j = 0; j < size; j++) {
-        const a = hidden[row + j];
-        hidden[row + j] = a > 0 ? a : 0;
+      for (let j = 0; j < hidden; j++) {
+        const a = hState[row + j];
+        hState[row + j] = a > 0 ? a : 0;
       }
     } else {
-      for (let j = 0; j < size; j++) hidden[row + j] = Math.tanh(hidden[row + j]);
+      for (let j = 0; j < hidden; j++) hState[row + j] = Math.tanh(hState[row + j]);
     }
   }
 }
@@ -40,22 +40,22 @@ export function plainStepBackward(
   preGradient: FloatArray,
   hiddenPreviousGradient: FloatArray | null,
   hiddenGradient: FloatArray,
-  hidden: FloatArray,
+  hState: FloatArray,
   rectified: boolean,
   rows: number,
-  size: number,
+  hidden: number,
   lengths: Int32Array | null,
   step: number,
 ): void {
   for (let b = 0; b < rows; b++) {
-    const row = b * size;
+    const row = b * hidden;
     if (isHeld(lengths, b, step)) {
-      preGradient.fill(0, row, row + size);
-      addRowInto(hiddenPreviousGradient, hiddenGradient, row, size);
+      preGradient.fill(0, row, row + hidden);
+      addRowInto(hiddenPreviousGradient, hiddenGradient, row, hidden);
       continue;
     }
-    for (let j = 0; j < size; j++) {
-      const h = hidden[row + j];
+    for (let j = 0; j < hidden; j++) {
+      const h = hState[row + j];
       const dh = hiddenGradient[row + j];
       preGradient[row + j] = rectified ? (h > 0 ? dh : 0) : dh * (1 - h * h);
     }

@@ -202,7 +202,7 @@ describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against thei
       worst = Math.max(worst, worstDifference(a, b));
     };
     for (const rows of [1, 5]) {
-      const inputSize = 7;
+      const inputWidth = 7;
       const size = 13;
       const lengths = rows === 1 ? null : Int32Array.from({ length: rows }, (_, b) => b % 3);
       // The same inputs, weights and state on each backend, weights through each backend's matrix layout.
@@ -211,23 +211,23 @@ describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against thei
         array.set(list);
         return array;
       };
-      const x = values(rows * inputSize);
+      const x = values(rows * inputWidth);
       const h = values(rows * size);
       const c = values(rows * size);
-      const w4 = values(inputSize * 4 * size);
+      const w4 = values(inputWidth * 4 * size);
       const r4 = values(size * 4 * size);
       const b4 = values(4 * size);
       const p3 = values(3 * size);
       const sides = [wasm, javascriptForward].map((backend) => {
         const hidden = make(backend, h);
         const cell = make(backend, c);
-        backend.kernels.lstmLayerStep(make(backend, x), backend.matrix(w4, inputSize, 4 * size), backend.matrix(r4, size, 4 * size), make(backend, b4),
-          make(backend, p3), hidden, cell, backend.floats(rows * 4 * size), backend.floats(rows * size), rows, inputSize, size, lengths, 1);
+        backend.kernels.lstmLayerStep(make(backend, x), backend.matrix(w4, inputWidth, 4 * size), backend.matrix(r4, size, 4 * size), make(backend, b4),
+          make(backend, p3), hidden, cell, backend.floats(rows * 4 * size), backend.floats(rows * size), rows, inputWidth, size, lengths, 1);
         return [hidden, cell];
       });
       compare(sides[0][0], sides[1][0]);
       compare(sides[0][1], sides[1][1]);
-      const w3 = values(inputSize * 3 * size);
+      const w3 = values(inputWidth * 3 * size);
       const b3 = values(3 * size);
       const r2 = values(size * 2 * size);
       const rn = values(size * size);
@@ -235,19 +235,19 @@ describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against thei
       for (const resetAfter of [false, true]) {
         const gru = [wasm, javascriptForward].map((backend) => {
           const hidden = make(backend, h);
-          backend.kernels.gruLayerStep(make(backend, x), backend.matrix(w3, inputSize, 3 * size), make(backend, b3), backend.matrix(r2, size, 2 * size),
+          backend.kernels.gruLayerStep(make(backend, x), backend.matrix(w3, inputWidth, 3 * size), make(backend, b3), backend.matrix(r2, size, 2 * size),
             backend.matrix(rn, size, size), resetAfter ? make(backend, bn) : null, hidden, backend.floats(rows * 3 * size), backend.floats(rows * 3 * size),
-            backend.floats(rows * 2 * size), backend.floats(rows * size), backend.floats(rows * size), rows, inputSize, size, lengths, 1);
+            backend.floats(rows * 2 * size), backend.floats(rows * size), backend.floats(rows * size), rows, inputWidth, size, lengths, 1);
           return hidden;
         });
         compare(gru[0], gru[1]);
       }
-      const w1 = values(inputSize * size);
+      const w1 = values(inputWidth * size);
       for (const rectified of [false, true]) {
         const plain = [wasm, javascriptForward].map((backend) => {
           const hidden = make(backend, h);
-          backend.kernels.plainLayerStep(make(backend, x), backend.matrix(w1, inputSize, size), backend.matrix(rn, size, size),
-            make(backend, bn), hidden, backend.floats(rows * size), rectified, rows, inputSize, size, lengths, 1);
+          backend.kernels.plainLayerStep(make(backend, x), backend.matrix(w1, inputWidth, size), backend.matrix(rn, size, size),
+            make(backend, bn), hidden, backend.floats(rows * size), rectified, rows, inputWidth, size, lengths, 1);
           return hidden;
         });
         compare(plain[0], plain[1]);

@@ -14,7 +14,7 @@
 import { WeftError, fail } from '@weft/core';
 import type { Problem } from '@weft/core';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
-import { isEncoderDecoder, modelLayout } from '@weft/cells/description';
+import { isEncoderDecoder, layerPath, modelLayout } from '@weft/cells/description';
 import { layoutProblems } from '../layout-check.js';
 import { defaultForward } from './forward-default.js';
 import type { ModelDescription } from '@weft/cells/description';
@@ -112,8 +112,8 @@ export class Runtime {
     const layers: RuntimeLayer[] = [];
     model.layers.forEach((layer, i) => {
       const { inputWidth, outputWidth } = layout.layers[i];
-      const forward = makeCell(layer, inputWidth, `layers.${i}.forward`, weights, this.backend.kernels);
-      const backward = layer.bidirectional === true ? makeCell(layer, inputWidth, `layers.${i}.backward`, weights, this.backend.kernels) : null;
+      const forward = makeCell(layer, inputWidth, layerPath(i, 'forward'), weights, this.backend.kernels);
+      const backward = layer.bidirectional === true ? makeCell(layer, inputWidth, layerPath(i, 'backward'), weights, this.backend.kernels) : null;
       layers.push({ forward, backward, width: outputWidth });
     });
     this.layers = layers;
@@ -276,7 +276,7 @@ export class Streams {
       return runtime.backend.floats(length);
     };
     this.buffers = layers.map((l) => l.forward.buffers(count, allocate));
-    this.first = allocate(count * layers[0].forward.inputSize);
+    this.first = allocate(count * layers[0].forward.inputWidth);
     this.output = allocate(count * runtime.outputWidth);
   }
 

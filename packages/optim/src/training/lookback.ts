@@ -22,7 +22,7 @@ export function forwardWithLookback(model: SequenceModel, tape: Tape, batch: Bat
   let headOutputs: Tensor | null = null;
   if (head === null) {
     carry = initialState ?? model.stateSlots().map((slot) => {
-      const fresh = tape.output([batch.batch, slot.size], model.dtype, false);
+      const fresh = tape.output([batch.batch, slot.width], model.dtype, false);
       fresh.data.fill(0);
       return fresh;
     });
