@@ -7,6 +7,7 @@ export { isRecord } from './records.js';
 export type { Allocate, PoolCounts } from './pool.js';
 export { BufferPool, sharedPool } from './pool.js';
 export type { RandomState } from './random.js';
+export type { TrainingState, UpdateRuleState } from './training-state.js';
 export { Random } from './random.js';
 export {
   Tensor,

@@ -5,56 +5,11 @@
  * one continues bit for bit as if training had not stopped.
  */
 import { WeftError, fail, isRecord } from '@weft/core';
-import type { Problem, RandomState } from '@weft/core';
+import type { Problem, TrainingState } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors } from './model-file.js';
 import type { ReadOptions, WeightFile, WeightMetadata } from './weight-file.js';
 import { readWeightFile, respellVersionOneName, writeWeightFile } from './weight-file.js';
-
-/**
- * The training state a checkpoint carries, as plain data: what a trainer's `snapshot()` gives and its `restore()`
- * takes (`@weft/optim`'s `TrainingSnapshot` has this shape; a type test keeps the two the same). Written here so
- * that `@weft/io` reads and writes checkpoints without depending on the trainer.
- */
-export interface TrainingState {
-  /** Steps taken. */
-  readonly step: number;
-  /** Where the data stands: the next batch to train on. */
-  readonly cursor: {
-    /** The epoch of the next batch. */
-    readonly epoch: number;
-    /** The index of the next batch within its epoch. */
-    readonly index: number;
-  };
-  /** The parameters' values, by name. */
-  readonly parameters: Readonly<Record<string, readonly number[]>>;
-  /** The update rule's state. */
-  readonly optimizer: {
-    /** The rule's kind (`sgd`, `adam`, `rmsprop`, `adagrad`). */
-    readonly kind: string;
-    /** Updates taken so far. */
-    readonly steps: number;
-    /** Per slot name, one array of values per parameter, in parameter order. */
-    readonly slots: Readonly<Record<string, readonly (readonly number[])[]>>;
-  };
-  /** The trainer's generator's state. */
-  readonly random: RandomState;
-  /** The state carried into the next window of a stream, slot by slot; null when none. */
-  readonly carried: readonly (readonly number[])[] | null;
-  /** The best validation so far, for early stopping and keeping the best weights. */
-  readonly best: {
-    /** The best validation loss so far (Infinity before the first validation). */
-    readonly loss: number;
-    /** The step of that validation (−1 before the first). */
-    readonly step: number;
-    /** The parameters at that validation, by name; null when none were kept. */
-    readonly parameters: Readonly<Record<string, readonly number[]>> | null;
-    /** Validations since the best one (the early-stopping count). */
-    readonly stale: number;
-  };
-  /** Updates skipped so far for non-finite gradients. */
-  readonly skipped: number;
-}
 
 /** What a checkpoint is written from: anything that gives its training state (a `Trainer`). */
 export interface TrainingStateSource {

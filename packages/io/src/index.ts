@@ -8,7 +8,8 @@ export { FORMAT_TAG, FORMAT_VERSION, readWeightFile, writeWeightFile } from './w
 export type { LoadOptions } from './model-file.js';
 export { loadEncoderDecoder, loadModel, modelTensors } from './model-file.js';
 export { readWeightFileBlob, weightFileBlob } from './blob.js';
-export type { Checkpoint, TrainingState, TrainingStateSource } from './checkpoint.js';
+export type { TrainingState } from '@weft/core';
+export type { Checkpoint, TrainingStateSource } from './checkpoint.js';
 export { readCheckpoint, writeCheckpoint } from './checkpoint.js';
 export { checkMetadata, metadataProblems } from './metadata.js';
 export { layoutProblems } from './layout-check.js';

@@ -1,5 +1,5 @@
 /** @weft/optim: optimisers, clipping, schedules, data batching and the truncated-BPTT trainer. */
-export type { UpdateRuleState } from './update-rule.js';
+export type { UpdateRuleState } from '@weft/core';
 export { UpdateRule } from './update-rule.js';
 export type { SgdOptions } from './sgd.js';
 export { SgdRule } from './sgd.js';

@@ -8,17 +8,8 @@
  * values are exact as JSON numbers).
  */
 import { backendOf, fail, formatShape } from '@weft/core';
-import type { FloatArray, KernelTable, Tensor } from '@weft/core';
+import type { FloatArray, KernelTable, Tensor, UpdateRuleState } from '@weft/core';
 
-/** An update rule's state as plain data, for checkpoints: exact as JSON numbers. */
-export interface UpdateRuleState {
-  /** The rule's kind (`sgd`, `adam`, `rmsprop`, `adagrad`); `restore` refuses another kind's state. */
-  readonly kind: string;
-  /** Updates taken so far (Adam's t). */
-  readonly steps: number;
-  /** Per slot name, one array of values per parameter, in parameter order. */
-  readonly slots: Readonly<Record<string, readonly (readonly number[])[]>>;
-}
 
 /** Checks a learning-rate-like option: a finite number > 0 (or ≥ 0 when `zeroAllowed`). */
 export function checkRate(value: unknown, path: string, zeroAllowed = false): number {

@@ -14,7 +14,7 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { logistic } from './logistic.js';
-import { addRowInto, copyRow, isHeld } from './rows.js';
+import { holdRow, isHeld, passHeldRow } from './rows.js';
 
 /** Writes z and r into columns [0, 2H) of `gates` [B, 3H] from the projection row and h₋·R_zr ([B, 2H]). */
 export function gruUpdateReset(
@@ -56,10 +56,7 @@ export function gruStepFinish(
 ): void {
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
-    if (isHeld(lengths, b, step)) {
-      copyRow(hState, hPrevious, row, hidden);
-      continue;
-    }
+    if (holdRow(lengths, b, step, hState, hPrevious, row, hidden)) continue;
     const gate = b * 3 * hidden;
     for (let j = 0; j < hidden; j++) {
       const z = gates[gate + j];
@@ -97,11 +94,9 @@ export function gruBackwardCandidate(
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
     const pair = b * 2 * hidden;
-    if (isHeld(lengths, b, step)) {
-      updateResetGradient.fill(0, pair, pair + 2 * hidden);
+    if (passHeldRow(lengths, b, step, hiddenPreviousGradient, hiddenGradient, row, hidden, updateResetGradient, pair, pair + 2 * hidden)) {
       candidateGradient.fill(0, row, row + hidden);
       productGradient.fill(0, row, row + hidden);
-      addRowInto(hiddenPreviousGradient, hiddenGradient, row, hidden);
       continue;
     }
     const gate = b * 3 * hidden;

@@ -12,7 +12,7 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { logistic } from './logistic.js';
-import { addRowInto, copyRow, isHeld } from './rows.js';
+import { addRowInto, copyRow, holdRow, passHeldRow } from './rows.js';
 
 /**
  * On entry `gates` holds the pre-activations a; on exit the activations i, f, g, o (saved for backward).
@@ -34,8 +34,7 @@ export function lstmStepForward(
   const width = 4 * hidden;
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
-    if (isHeld(lengths, b, step)) {
-      copyRow(hState, hPrevious, row, hidden);
+    if (holdRow(lengths, b, step, hState, hPrevious, row, hidden)) {
       copyRow(cell, cellPrevious, row, hidden);
       continue;
     }
@@ -101,9 +100,7 @@ export function lstmStepBackward(
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
     const gate = b * width;
-    if (isHeld(lengths, b, step)) {
-      gateGradient.fill(0, gate, gate + width);
-      addRowInto(hiddenPreviousGradient, hiddenGradient, row, hidden);
+    if (passHeldRow(lengths, b, step, hiddenPreviousGradient, hiddenGradient, row, hidden, gateGradient, gate, gate + width)) {
       addRowInto(cellPreviousGradient, cellGradient, row, hidden);
       continue;
     }

@@ -3,7 +3,7 @@
  * "Finding structure in time"). Rows past their length hold their state.
  */
 import type { FloatArray } from '../dtype.js';
-import { addRowInto, copyRow, isHeld } from './rows.js';
+import { holdRow, passHeldRow } from './rows.js';
 
 /** On entry `hState` holds the pre-activation a; on exit φ(a), or h₋ for held rows. */
 export function plainStepForward(
@@ -17,10 +17,7 @@ export function plainStepForward(
 ): void {
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
-    if (isHeld(lengths, b, step)) {
-      copyRow(hState, hPrevious, row, hidden);
-      continue;
-    }
+    if (holdRow(lengths, b, step, hState, hPrevious, row, hidden)) continue;
     if (rectified) {
       for (let j = 0; j < hidden; j++) {
         const a = hState[row + j];
@@ -49,11 +46,7 @@ export function plainStepBackward(
 ): void {
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
-    if (isHeld(lengths, b, step)) {
-      preGradient.fill(0, row, row + hidden);
-      addRowInto(hiddenPreviousGradient, hiddenGradient, row, hidden);
-      continue;
-    }
+    if (passHeldRow(lengths, b, step, hiddenPreviousGradient, hiddenGradient, row, hidden, preGradient, row, row + hidden)) continue;
     for (let j = 0; j < hidden; j++) {
       const h = hState[row + j];
       const dh = hiddenGradient[row + j];

@@ -1,8 +1,8 @@
 /** The trainer's public shapes: its options, its progress events, its snapshot and its summary. */
-import type { Backend, RandomState } from '@weft/core';
+import type { Backend, TrainingState } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import type { DataSource } from '../data.js';
-import type { UpdateRule, UpdateRuleState } from '../update-rule.js';
+import type { UpdateRule } from '../update-rule.js';
 import type { ScheduleDescription } from '../schedule.js';
 import type { ValidationResult } from './evaluation.js';
 import type { Trainer } from '../trainer.js';
@@ -76,39 +76,8 @@ export interface TrainingEvent {
   readonly reason?: string;
 }
 
-/** Everything needed to resume a run exactly, as plain data (what a checkpoint stores). */
-export interface TrainingSnapshot {
-  /** Steps taken. */
-  readonly step: number;
-  /** Where the data stands: the next batch to train on. */
-  readonly cursor: {
-    /** The epoch of the next batch. */
-    readonly epoch: number;
-    /** The index of the next batch within its epoch. */
-    readonly index: number;
-  };
-  /** The parameters' values, by name. */
-  readonly parameters: Readonly<Record<string, readonly number[]>>;
-  /** The update rule's state (moments, velocities, update count). */
-  readonly optimizer: UpdateRuleState;
-  /** The trainer's generator's state. */
-  readonly random: RandomState;
-  /** The state carried into the next window of a stream, slot by slot; null when none. */
-  readonly carried: readonly (readonly number[])[] | null;
-  /** The best validation so far, for early stopping and keeping the best weights. */
-  readonly best: {
-    /** The best validation loss so far (Infinity before the first validation). */
-    readonly loss: number;
-    /** The step of that validation (−1 before the first). */
-    readonly step: number;
-    /** The parameters at that validation, by name; null when none were kept. */
-    readonly parameters: Readonly<Record<string, readonly number[]>> | null;
-    /** Validations since the best one (the early-stopping count). */
-    readonly stale: number;
-  };
-  /** Updates skipped so far for non-finite gradients. */
-  readonly skipped: number;
-}
+/** Everything needed to resume a run exactly, as plain data (what a checkpoint stores): core's `TrainingState`. */
+export type TrainingSnapshot = TrainingState;
 
 /** How a `run()` ended. */
 export interface TrainingSummary {
