@@ -1,8 +1,17 @@
 import { describe, expect, it } from 'vitest';
+import type { Tensor } from '@weft/core';
 import {
-  Random, defaultBackend, Tape, WeftError, add, matmul, multiply, randomUniform, sigmoid, sum, tanh, tensor, trainable,
+  Random, defaultBackend, Tape, WeftError, add, checkGradients, matmul, multiply, randomUniform, sigmoid, sum, tanh, tensor, trainable,
   resetGradients, detach, dropout,
 } from '@weft/core';
+
+
+/** An f64 tensor of uniform values in [low, high), named for the gradient report. */
+function f64Input(random: Random, shape: number[], name: string, low = -1, high = 1): Tensor {
+  const t = randomUniform(shape, random, low, high, 'f64');
+  t.name = name;
+  return t;
+}
 
 describe('the tape', () => {
   it('records one node per operation and sweeps from a scalar with seed 1', () => {
@@ -174,5 +183,28 @@ describe('dropout', () => {
     const again = dropout(new Tape(), x, 0.25, new Random(9));
     expect(again.toArray()).toEqual(y.toArray());
     expect(() => dropout(tape, x, 1, new Random(1))).toThrowError('Invalid option at dropout.rate: expected a number in [0, 1), received 1');
+  });
+
+  it('a parameter used by 12 nodes (one per step of a small recurrence) accumulates every share', () => {
+    const random = new Random('shared');
+    const recurrent = f64Input(random, [3, 3], 'recurrent', -0.8, 0.8);
+    const inputWeights = f64Input(random, [2, 3], 'inputWeights');
+    const bias = f64Input(random, [3], 'bias');
+    const xs = Array.from({ length: 12 }, (_, t) => f64Input(random, [2, 2], `x${t}`));
+    const report = checkGradients((tape) => {
+      let h = f64Input(new Random(0), [2, 3], 'h0');
+      for (const x of xs) {
+        h = tanh(tape, add(tape, add(tape, matmul(tape, x, inputWeights), matmul(tape, h, recurrent)), bias));
+      }
+      return sum(tape, multiply(tape, h, h));
+    }, [recurrent, inputWeights, bias], { tolerance: 1e-7, directions: 2 });
+    if (!report.passed) throw new Error(report.text());
+    expect(report.passed).toBe(true);
+    // The recorded graph really has the recurrent matrix read by 12 matmul nodes.
+    trainable(recurrent);
+    const tape = new Tape();
+    let h = f64Input(new Random(0), [2, 3], 'h0');
+    for (const x of xs) h = tanh(tape, add(tape, add(tape, matmul(tape, x, inputWeights), matmul(tape, h, recurrent)), bias));
+    expect(tape.kinds().filter((k) => k === 'matmul').length).toBe(12);
   });
 });
