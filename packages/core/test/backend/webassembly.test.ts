@@ -9,6 +9,7 @@
 import { describe, expect, it } from 'vitest';
 import { Random, createWebAssemblyBackend, javascriptKernels, webAssemblyUnavailable } from '@weft/core';
 import type { KernelTable } from '@weft/core';
+import { worstGap } from '../../../../tests/helpers/close.js';
 
 const available = webAssemblyUnavailable() === null;
 const backend = available ? createWebAssemblyBackend({ memoryBytes: 64 * 1048576 }) : null;
@@ -37,15 +38,6 @@ function arrays(specs: readonly Spec[], seed: number, low = -2, high = 2): { was
   return { wasm: { f: wasm }, js: { f: js } };
 }
 
-function worstDifference(a: Float32Array, b: Float32Array): number {
-  let worst = 0;
-  for (let i = 0; i < a.length; i++) {
-    const e = Math.abs(a[i] - b[i]) / Math.max(1, Math.abs(a[i]), Math.abs(b[i]));
-    if (!(e <= worst)) worst = e;
-  }
-  return worst;
-}
-
 function agree(specs: readonly Spec[], run: (k: KernelTable, x: (Float32Array | null)[]) => void, exact: boolean, seed = 1, low = -2, high = 2): number {
   const { wasm, js } = arrays(specs, seed, low, high);
   run(backend!.kernels, wasm.f);
@@ -55,7 +47,7 @@ function agree(specs: readonly Spec[], run: (k: KernelTable, x: (Float32Array | 
     const b = js.f[i];
     if (a === null || b === null) return;
     if (exact) expect(Array.from(a), `array ${i}`).toEqual(Array.from(b));
-    else worst = Math.max(worst, worstDifference(a, b));
+    else worst = Math.max(worst, worstGap(a, b));
   });
   expect(worst).toBeLessThanOrEqual(1e-5);
   return worst;
@@ -188,80 +180,5 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
         agree([n, n, n], (k, [values, gradient, velocity]) => k.sgdUpdate(values!, gradient!, velocity!, n, 0.05, 0.001, 0.9, 0.0001, nesterov), true, n + 1);
       }
     }
-  });
-});
-
-describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against their JavaScript twins', () => {
-  it('agree on the LSTM, GRU (both forms) and plain layer steps and the readout, one row and five rows, ragged', async () => {
-    const { createForwardWebAssembly, javascriptForward } = await import('@weft/core/forward');
-    const wasm = createForwardWebAssembly({ memoryBytes: 8 * 1048576 });
-    const random = new Random('layers');
-    const values = (n: number, scale = 0.5): number[] => Array.from({ length: n }, () => random.between(-scale, scale));
-    let worst = 0;
-    const compare = (a: Float32Array, b: Float32Array): void => {
-      worst = Math.max(worst, worstDifference(a, b));
-    };
-    for (const rows of [1, 5]) {
-      const inputWidth = 7;
-      const size = 13;
-      const lengths = rows === 1 ? null : Int32Array.from({ length: rows }, (_, b) => b % 3);
-      // The same inputs, weights and state on each backend, weights through each backend's matrix layout.
-      const make = (backend: typeof javascriptForward, list: number[]) => {
-        const array = backend.floats(list.length);
-        array.set(list);
-        return array;
-      };
-      const x = values(rows * inputWidth);
-      const h = values(rows * size);
-      const c = values(rows * size);
-      const w4 = values(inputWidth * 4 * size);
-      const r4 = values(size * 4 * size);
-      const b4 = values(4 * size);
-      const p3 = values(3 * size);
-      const sides = [wasm, javascriptForward].map((backend) => {
-        const hidden = make(backend, h);
-        const cell = make(backend, c);
-        backend.kernels.lstmLayerStep(make(backend, x), backend.matrix(w4, inputWidth, 4 * size), backend.matrix(r4, size, 4 * size), make(backend, b4),
-          make(backend, p3), hidden, cell, backend.floats(rows * 4 * size), backend.floats(rows * size), rows, inputWidth, size, lengths, 1);
-        return [hidden, cell];
-      });
-      compare(sides[0][0], sides[1][0]);
-      compare(sides[0][1], sides[1][1]);
-      const w3 = values(inputWidth * 3 * size);
-      const b3 = values(3 * size);
-      const r2 = values(size * 2 * size);
-      const rn = values(size * size);
-      const bn = values(size);
-      for (const resetAfter of [false, true]) {
-        const gru = [wasm, javascriptForward].map((backend) => {
-          const hidden = make(backend, h);
-          backend.kernels.gruLayerStep(make(backend, x), backend.matrix(w3, inputWidth, 3 * size), make(backend, b3), backend.matrix(r2, size, 2 * size),
-            backend.matrix(rn, size, size), resetAfter ? make(backend, bn) : null, hidden, backend.floats(rows * 3 * size), backend.floats(rows * 3 * size),
-            backend.floats(rows * 2 * size), backend.floats(rows * size), backend.floats(rows * size), rows, inputWidth, size, lengths, 1);
-          return hidden;
-        });
-        compare(gru[0], gru[1]);
-      }
-      const w1 = values(inputWidth * size);
-      for (const rectified of [false, true]) {
-        const plain = [wasm, javascriptForward].map((backend) => {
-          const hidden = make(backend, h);
-          backend.kernels.plainLayerStep(make(backend, x), backend.matrix(w1, inputWidth, size), backend.matrix(rn, size, size),
-            make(backend, bn), hidden, backend.floats(rows * size), rectified, rows, inputWidth, size, lengths, 1);
-          return hidden;
-        });
-        compare(plain[0], plain[1]);
-      }
-      const readout = values(size * 3);
-      const readoutBias = values(3);
-      const outs = [wasm, javascriptForward].map((backend) => {
-        const out = backend.floats(rows * 3);
-        backend.kernels.affineRows(out, make(backend, readoutBias), make(backend, h), backend.matrix(readout, size, 3), rows, size, 3);
-        return out;
-      });
-      compare(outs[0], outs[1]);
-    }
-    console.log(`layer steps worst difference: ${worst.toExponential(2)}`);
-    expect(worst).toBeLessThanOrEqual(1e-5);
   });
 });

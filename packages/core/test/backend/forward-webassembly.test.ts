@@ -1,0 +1,98 @@
+/**
+ * The runtime's WebAssembly layer steps (core/wasm/runtime.ts, through forward-webassembly.ts) against their
+ * JavaScript twins (kernels/layer-steps.ts, themselves checked against the ONNX operator equations), f32, within
+ * |a − b| ≤ 1e-5·max(1, |a|, |b|) (tests/helpers/close.ts form).
+ */
+import { describe, expect, it } from 'vitest';
+import { Random } from '@weft/core';
+import { createForwardWebAssembly, forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
+import { worstGap } from '../../../../tests/helpers/close.js';
+
+const available = forwardWebAssemblyUnavailable() === null;
+
+describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against their JavaScript twins', () => {
+  it('agree on the LSTM, GRU (both forms) and plain layer steps and the readout, one row and five rows, ragged', () => {
+    const wasm = createForwardWebAssembly({ memoryBytes: 8 * 1048576 });
+    const random = new Random('layers');
+    const values = (n: number, scale = 0.5): number[] => Array.from({ length: n }, () => random.between(-scale, scale));
+    let worst = 0;
+    const compare = (a: Float32Array, b: Float32Array): void => {
+      worst = Math.max(worst, worstGap(a, b));
+    };
+    for (const rows of [1, 5]) {
+      const inputWidth = 7;
+      const hidden = 13;
+      const lengths = rows === 1 ? null : Int32Array.from({ length: rows }, (_, b) => b % 3);
+      // The same inputs, weights and state on each backend, weights through each backend's matrix layout.
+      const make = (backend: typeof javascriptForward, list: number[]) => {
+        const array = backend.floats(list.length);
+        array.set(list);
+        return array;
+      };
+      const x = values(rows * inputWidth);
+      const h = values(rows * hidden);
+      const c = values(rows * hidden);
+      const w4 = values(inputWidth * 4 * hidden);
+      const r4 = values(hidden * 4 * hidden);
+      const b4 = values(4 * hidden);
+      const p3 = values(3 * hidden);
+      const sides = [wasm, javascriptForward].map((backend) => {
+        const state = make(backend, h);
+        const cell = make(backend, c);
+        backend.kernels.lstmLayerStep(make(backend, x), backend.matrix(w4, inputWidth, 4 * hidden), backend.matrix(r4, hidden, 4 * hidden), make(backend, b4),
+          make(backend, p3), state, cell, backend.floats(rows * 4 * hidden), backend.floats(rows * hidden), rows, inputWidth, hidden, lengths, 1);
+        return [state, cell];
+      });
+      compare(sides[0][0], sides[1][0]);
+      compare(sides[0][1], sides[1][1]);
+      const w3 = values(inputWidth * 3 * hidden);
+      const b3 = values(3 * hidden);
+      const r2 = values(hidden * 2 * hidden);
+      const rn = values(hidden * hidden);
+      const bn = values(hidden);
+      for (const resetAfter of [false, true]) {
+        const gru = [wasm, javascriptForward].map((backend) => {
+          const state = make(backend, h);
+          backend.kernels.gruLayerStep(make(backend, x), backend.matrix(w3, inputWidth, 3 * hidden), make(backend, b3), backend.matrix(r2, hidden, 2 * hidden),
+            backend.matrix(rn, hidden, hidden), resetAfter ? make(backend, bn) : null, state, backend.floats(rows * 3 * hidden), backend.floats(rows * 3 * hidden),
+            backend.floats(rows * 2 * hidden), backend.floats(rows * hidden), backend.floats(rows * hidden), rows, inputWidth, hidden, lengths, 1);
+          return state;
+        });
+        compare(gru[0], gru[1]);
+      }
+      const w1 = values(inputWidth * hidden);
+      for (const rectified of [false, true]) {
+        const plain = [wasm, javascriptForward].map((backend) => {
+          const state = make(backend, h);
+          backend.kernels.plainLayerStep(make(backend, x), backend.matrix(w1, inputWidth, hidden), backend.matrix(rn, hidden, hidden),
+            make(backend, bn), state, backend.floats(rows * hidden), rectified, rows, inputWidth, hidden, lengths, 1);
+          return state;
+        });
+        compare(plain[0], plain[1]);
+      }
+      const readout = values(hidden * 3);
+      const readoutBias = values(3);
+      const outs = [wasm, javascriptForward].map((backend) => {
+        const out = backend.floats(rows * 3);
+        backend.kernels.affineRows(out, make(backend, readoutBias), make(backend, h), backend.matrix(readout, hidden, 3), rows, hidden, 3);
+        return out;
+      });
+      compare(outs[0], outs[1]);
+    }
+    console.log(`layer steps worst difference: ${worst.toExponential(2)}`);
+    expect(worst).toBeLessThanOrEqual(1e-5);
+  });
+});
+
+describe.skipIf(!available)('the runtime\'s WebAssembly forward backend', () => {
+  it('packs a weight matrix for its kernels, zeroes new arrays, takes released ones back and names itself', () => {
+    const wasm = createForwardWebAssembly({ memoryBytes: 1048576 });
+    const floats = wasm.floats(10);
+    expect(Array.from(floats).every((v) => v === 0)).toBe(true);
+    // 3 × 9 packs into two 8-column panels: 3 rows × 16 columns.
+    expect(wasm.matrix(Array.from({ length: 27 }, (_, i) => i), 3, 9).length).toBeGreaterThanOrEqual(27);
+    wasm.release(floats);
+    expect(wasm.describe()).toMatch(/^webassembly/);
+    expect(() => createForwardWebAssembly({ memoryBytes: 100 })).toThrowError(/^Invalid option at /);
+  });
+});
