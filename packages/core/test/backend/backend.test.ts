@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { javascriptBackend } from '@weft/core';
+import { javascriptBackend } from '../../src/backend/javascript.js';
 import { memoryOwner, registerMemory } from '../../src/backend/backend.js';
 
 describe('where an array lives', () => {

@@ -1,0 +1,59 @@
+/**
+ * One test file per source file with logic (DEVELOPERS.md): packages/<p>/src/<path>.ts is tested by
+ * packages/<p>/test/<path>.test.ts. Files with no logic of their own (re-exporting entries, type-only files) are
+ * listed below with the reason; the test also checks that each of those still has no function or class of its own,
+ * so a file that grows logic has to grow its test file too.
+ */
+import { existsSync, readFileSync, readdirSync, statSync } from 'node:fs';
+import { join, relative } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { describe, expect, it } from 'vitest';
+
+const root = fileURLToPath(new URL('../', import.meta.url));
+
+const withoutLogic: Record<string, string> = {
+  'packages/core/src/index.ts': 'the package entry: re-exports',
+  'packages/core/src/kernels/index.ts': 'an entry: re-exports the kernels',
+  'packages/core/src/backend/index.ts': 'an entry: re-exports the backends',
+  'packages/core/src/backend/forward-entry.ts': 'the @weft/core/forward entry: re-exports',
+  'packages/core/src/backend/forward-javascript-entry.ts': 'the @weft/core/forward/javascript entry: re-exports',
+  'packages/core/src/training-state.ts': 'types only (the training state as plain data)',
+  'packages/cells/src/index.ts': 'the package entry: re-exports',
+  'packages/cells/src/kernels/index.ts': 'an entry: re-exports core\'s step kernels',
+  'packages/cells/src/description-entry.ts': 'the @weft/cells/description entry: re-exports',
+  'packages/optim/src/index.ts': 'the package entry: re-exports',
+  'packages/optim/src/training/types.ts': 'types only (the trainer\'s options, events and summary)',
+  'packages/optim/src/data.ts': 'types only (the batch shapes) and re-exports of the sources',
+  'packages/io/src/index.ts': 'the package entry: re-exports',
+  'packages/io/src/runtime/index.ts': 'the @weft/io/runtime entry: re-exports',
+  'packages/io/src/runtime/javascript.ts': 'the @weft/io/runtime/javascript entry: re-exports',
+  'packages/cli/src/index.ts': 'the package entry: re-exports',
+};
+
+function sources(folder: string): string[] {
+  return readdirSync(folder).flatMap((name) => {
+    const path = join(folder, name);
+    if (statSync(path).isDirectory()) return sources(path);
+    return name.endsWith('.ts') && !name.endsWith('.generated.ts') && !name.endsWith('.d.ts') ? [path] : [];
+  });
+}
+
+const files = readdirSync(join(root, 'packages')).flatMap((p) => sources(join(root, 'packages', p, 'src'))).map((f) => relative(root, f).split('\\').join('/'));
+
+describe('the tests mirror the sources', () => {
+  it('give every source file with logic a test file of its own name and place', () => {
+    const missing = files
+      .filter((file) => withoutLogic[file] === undefined)
+      .map((file) => file.replace(/\/src\//, '/test/').replace(/\.ts$/, '.test.ts'))
+      .filter((test) => !existsSync(join(root, test)));
+    expect(missing).toEqual([]);
+  });
+
+  it('list as without logic only files that exist and declare no function or class of their own', () => {
+    for (const file of Object.keys(withoutLogic)) {
+      expect(files, file).toContain(file);
+      const code = readFileSync(join(root, file), 'utf8').replace(/\/\*[\s\S]*?\*\/|\/\/.*$/gm, '');
+      expect(code, file).not.toMatch(/\bfunction\b|\bclass\b|=>\s*\{/);
+    }
+  });
+});
