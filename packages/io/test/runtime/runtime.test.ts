@@ -2,8 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { Random, Tape, defaultBackend, sharedPool, tensor } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
-import { Runtime, createRuntime, generateTokens, greedy, runtimeCounts, sample } from '@weft/io/runtime';
-import { descriptions, shaken } from './models.js';
+import { Runtime, createRuntime, runtimeCounts } from '@weft/io/runtime';
+import { descriptions, shaken } from '../models.js';
 
 async function runtimeFor(model: SequenceModel): Promise<Runtime> {
   return createRuntime(await writeWeightFile(model.description, modelTensors(model)));
@@ -121,34 +121,7 @@ describe('the inference runtime', () => {
     expect(() => values.streams(2).step(new Float32Array(5))).toThrowError('Shape mismatch at Streams.step.input: expected 6 numbers (2 × 3), received 5');
   });
 
-  it('generates text greedily and by seeded sampling with temperature and top-k', async () => {
-    const model = shaken(descriptions.LSTM, 7);
-    const runtime = await runtimeFor(model);
-    const greedyRun = generateTokens(runtime, { prefix: [1, 2], length: 10 });
-    expect(greedyRun).toEqual(generateTokens(runtime, { prefix: [1, 2], length: 10 }));
-    const a = generateTokens(runtime, { prefix: [1], length: 30, random: new Random(3), temperature: 0.8, topK: 3 });
-    const b = generateTokens(runtime, { prefix: [1], length: 30, random: new Random(3), temperature: 0.8, topK: 3 });
-    expect(a).toEqual(b);
-    expect(a.every((t) => t >= 0 && t < 7)).toBe(true);
-  });
 
-  it('samples in proportion to softmax(z/T) and only among the top k (common practice)', () => {
-    const logits = Float32Array.of(Math.log(1), Math.log(2), Math.log(3), Math.log(4));
-    expect(greedy(logits, 0, 4)).toBe(3);
-    const random = new Random('sampling');
-    const counts = [0, 0, 0, 0];
-    for (let i = 0; i < 20_000; i++) counts[sample(logits, 0, 4, random)]++;
-    // Expected shares 0.1, 0.2, 0.3, 0.4; allow 5 binomial standard deviations (≈ 0.017).
-    counts.forEach((n, j) => expect(Math.abs(n / 20_000 - (j + 1) / 10)).toBeLessThan(0.017));
-    const top2 = [0, 0, 0, 0];
-    for (let i = 0; i < 5_000; i++) top2[sample(logits, 0, 4, random, { topK: 2 })]++;
-    expect(top2[0] + top2[1]).toBe(0);
-    // Temperature 0.5 squares the odds: 9 : 16 between the two largest.
-    expect(Math.abs(top2[3] / (top2[2] + top2[3]) - 4 / 7)).toBeLessThan(0.04);
-    const sharp = [0, 0, 0, 0];
-    for (let i = 0; i < 5_000; i++) sharp[sample(logits, 0, 4, random, { topK: 2, temperature: 0.5 })]++;
-    expect(Math.abs(sharp[3] / (sharp[2] + sharp[3]) - 16 / 25)).toBeLessThan(0.04);
-  });
 
   it('builds from a file already read, and refuses a model its kernels do not know', async () => {
     const model = shaken(descriptions['GRU (reset after)']);
