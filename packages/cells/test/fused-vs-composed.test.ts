@@ -56,28 +56,4 @@ describe('fused cells agree with their composed reference', () => {
       fused.gradients.forEach((g, i) => expect(worstGap(g, composed.gradients[i])).toBeLessThanOrEqual(1e-12));
     });
   }
-
-  it('zeroes the outputs beyond each row length and holds the state from the last valid step', () => {
-    const { make } = cellCases[0];
-    const cell = make('fused', I, H, 3);
-    const random = new Random('ragged');
-    const inputs = f64Input(random, [T, B, I], 'inputs');
-    const tape = new Tape();
-    const ragged = runSequence(tape, cell, inputs, { lengths });
-    // Row 1 has length 4: run it alone over its first 4 steps and compare.
-    const alone = f64Input(random, [4, 1, I], 'alone');
-    for (let t = 0; t < 4; t++) for (let j = 0; j < I; j++) alone.data[t * I + j] = inputs.data[(t * B + 1) * I + j];
-    const single = runSequence(tape, cell, alone);
-    for (let t = 0; t < T; t++) {
-      for (let j = 0; j < H; j++) {
-        const value = ragged.outputs.data[(t * B + 1) * H + j];
-        if (t < 4) expect(value).toBe(single.outputs.data[t * H + j]);
-        else expect(value).toBe(0);
-      }
-    }
-    for (let j = 0; j < H; j++) expect(ragged.state[0].data[1 * H + j]).toBe(single.state[0].data[j]);
-    // Row 2 has length 0: all outputs zero and the final state is the (zero) initial state.
-    for (let t = 0; t < T; t++) for (let j = 0; j < H; j++) expect(ragged.outputs.data[(t * B + 2) * H + j]).toBe(0);
-    for (let j = 0; j < H; j++) expect(ragged.state[1].data[2 * H + j]).toBe(0);
-  });
 });
