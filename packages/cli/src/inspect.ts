@@ -42,6 +42,10 @@ export async function inspect(args: ParsedArgs): Promise<string> {
     lines.push(`  ${shown(key)}: ${shown(text)}`);
   }
   lines.push('', `digest: SHA-256 ${file.digest} — ${file.digestVerified ? 'verified' : 'DOES NOT MATCH the tensor bytes (the file was changed or damaged)'}`);
-  if (!file.digestVerified) throw new CommandError(lines.join('\n'), 1);
+  if (!file.digestVerified) {
+    // The report still goes where reports go; the failure is one line on standard error and exit 1.
+    process.stdout.write(`${lines.join('\n')}\n`);
+    throw new CommandError(`${shown(path)}: the SHA-256 digest does not match the tensor bytes (the file was changed or damaged)`, 1);
+  }
   return lines.join('\n');
 }

@@ -137,3 +137,42 @@ describe('weft run', () => {
     expect(missing.err.trim()).toBe('weft: <stdin>: no column "date" (for --keep); the input has hour, level, inflow');
   });
 });
+
+describe('weft run on forecasts and classifications', () => {
+  it('writes forecasts for a CSV to a file, and classes for labelled sequences as CSV', () => {
+    const rows = Array.from({ length: 400 }, (_, i) => `${(20 + 5 * Math.sin(i / 6)).toFixed(3)},${(50 + 10 * Math.cos(i / 6)).toFixed(3)}`);
+    writeFileSync(join(folder, 'room.csv'), `temperature,humidity\n${rows.join('\n')}\n`);
+    const trained = weft(['train', 'room.csv', '--target', 'temperature', '--horizon', '2', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'room.weft.json', '--quiet']);
+    expect(trained.code).toBe(0);
+    // --quiet: no progress, no notes, only the final result lines.
+    expect(trained.err).toBe('');
+    expect(trained.out).not.toMatch(/^(training a |loss (?!curve)|left out )/m);
+    expect(trained.out.split('\n')[0]).toMatch(/^held out/);
+    expect(trained.out).toMatch(/^weight file: .*room\.weft\.json$/m);
+    for (const name of ['model', 'persistence', 'training mean', 'linear']) expect(trained.out).toMatch(new RegExp(`^  ${name} +MAE [\\d.]+  RMSE [\\d.]+  MAPE`, 'm'));
+    expect(trained.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline [a-z ]+): MAE [\d.]+ against/m);
+    writeFileSync(join(folder, 'new-room.csv'), `humidity,temperature\n55,21\n54,22\n52,23\n`);
+    const run = weft(['run', 'room.weft.json', 'new-room.csv', '--out', 'forecast.csv']);
+    expect(run.code).toBe(0);
+    const forecast = readFileSync(join(folder, 'forecast.csv'), 'utf8').trim().split('\n');
+    expect(forecast[0]).toBe('row,temperature in 2');
+    expect(forecast).toHaveLength(4);
+    for (const line of forecast.slice(1)) expect(Number(line.split(',')[1])).toBeGreaterThan(5);
+
+    const labelled = Array.from({ length: 160 }, (_, i) => {
+      const rising = i % 2 === 0;
+      const items = Array.from({ length: 4 + (i % 5) }, (_, t) => (rising ? t : -t) + ((i * 7) % 3) * 0.1);
+      return `${rising ? 'rising' : 'falling'},${items.map((v) => v.toFixed(2)).join(' ')}`;
+    });
+    writeFileSync(join(folder, 'trends.csv'), `label,sequence\n${labelled.join('\n')}\n`);
+    const classifier = weft(['train', 'trends.csv', '--hidden', '8', '--streams', '16', '--epochs', '8', '--rate', '0.02', '--out', 'trends.weft.json', '--quiet']);
+    expect(classifier.code).toBe(0);
+    expect(classifier.out).toMatch(/^  majority class +accuracy [\d.]+%  macro-F1 [\d.]+  \(always "[a-z]+", the most common class in training\)$/m);
+    expect(classifier.out).toMatch(/^counts by actual class \(rows\) and predicted class \(columns\):$/m);
+    const classes = weft(['run', 'trends.weft.json', '-'], 'sequence\n"0 1 2 3 4"\n"0 -1 -2 -3"\n');
+    expect(classes.code).toBe(0);
+    expect(classes.out.split('\n')[0]).toBe('row,predicted,p(falling),p(rising)');
+    expect(classes.out.split('\n')[1].split(',')[1]).toBe('rising');
+    expect(classes.out.split('\n')[2].split(',')[1]).toBe('falling');
+  });
+});

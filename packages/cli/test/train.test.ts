@@ -1,0 +1,69 @@
+/**
+ * `weft train` end to end, the built binary on temporary files: train → checkpoint → SIGINT → resume → run, and the
+ * one-line errors for malformed training data and a checkpoint of another model.
+ */
+import { spawn } from 'node:child_process';
+import { existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { binary, commandFolder, expectOneLineError, writeNotes } from './command.js';
+
+const { folder, weft } = commandFolder('weft-train-');
+writeNotes(folder);
+
+describe('weft train', () => {
+  it('trains, is interrupted by SIGINT with a checkpoint (exit 130), resumes and runs', async () => {
+    const args = ['train', 'notes.txt', '--cell', 'gru', '--hidden', '32', '--window', '24', '--streams', '4', '--epochs', '40', '--checkpoint-every', '5', '--out', 'notes.weft.json'];
+    const child = spawn(process.execPath, [binary, ...args], { cwd: folder });
+    let stdout = '';
+    child.stdout.on('data', (chunk: Buffer) => (stdout += chunk.toString()));
+    const checkpoint = join(folder, 'notes.weft.checkpoint.json');
+    const started = Date.now();
+    while (!existsSync(checkpoint) && Date.now() - started < 60_000) await new Promise((r) => setTimeout(r, 50));
+    expect(existsSync(checkpoint)).toBe(true);
+    child.kill('SIGINT');
+    const code = await new Promise<number | null>((resolve) => child.on('exit', (c) => resolve(c)));
+    expect(code).toBe(130);
+    expect(stdout).toMatch(/interrupted at step \d+; checkpoint written to .*notes\.weft\.checkpoint\.json/);
+    const stoppedAt = Number(/interrupted at step (\d+)/.exec(stdout)![1]);
+    // The exact command that resumes: the same data and flags, and --resume with the checkpoint.
+    expect(stdout).toContain(`resume with: weft ${args.join(' ')} --resume ${checkpoint}\n`);
+    expect(existsSync(join(folder, 'notes.weft.json'))).toBe(false);
+
+    const resumed = weft([...args, '--resume', 'notes.weft.checkpoint.json']);
+    expect(resumed.code).toBe(0);
+    expect(resumed.out).toContain(`resuming from notes.weft.checkpoint.json at step ${stoppedAt}`);
+    expect(resumed.out).toMatch(/^finished \d+ steps in [\d.ms]+ \(resumed runs included\); /m);
+    expect(resumed.out).toMatch(/^  unigram +perplexity [\d.]+  \(each token as often as in the training text\)$/m);
+    expect(resumed.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline unigram): perplexity [\d.]+ against/m);
+    expect(existsSync(join(folder, 'notes.weft.checkpoint.loss.svg'))).toBe(true);
+    expect(readFileSync(join(folder, 'notes.weft.checkpoint.loss.svg'), 'utf8')).toMatch(/^<svg [^>]*>[\s\S]*<polyline/);
+
+    const run = weft(['run', 'notes.weft.json', '-', '--format', 'json'], 'the warp was ');
+    expect(run.code).toBe(0);
+    const rows = JSON.parse(run.out) as { token: string; 'most likely next': string }[];
+    expect(rows).toHaveLength(13);
+    expect(rows[0].token).toBe('t');
+  });
+
+  it('a checkpoint that does not match the requested model', () => {
+  const result = weft(['train', 'notes.txt', '--cell', 'gru', '--hidden', '16', '--window', '24', '--streams', '4', '--resume', 'notes.weft.checkpoint.json']);
+  expectOneLineError(result, 1, /^weft: notes\.weft\.checkpoint\.json: the checkpoint does not match the requested model: model\.layers\[0\]\.hidden is 32 in the checkpoint, 16 requested$/);
+  });
+
+  describe('malformed training data gets one line on stderr and a non-zero exit', () => {
+    it('a malformed CSV row', () => {
+      writeFileSync(join(folder, 'short.csv'), 'a,b\n1,2\n3\n4,5\n');
+      expectOneLineError(weft(['train', 'short.csv']), 1, /^weft: Bad data at short\.csv:3:2: expected 2 comma-separated fields, as the header has, received 1$/);
+      writeFileSync(join(folder, 'quote.csv'), 'a,b\n1,2\n3,4"x\n');
+      expectOneLineError(weft(['train', 'quote.csv']), 1, /^weft: Bad data at quote\.csv:3:4: expected a quote only at the start of a field \(or doubled inside quotes\), received a quote inside an unquoted field$/);
+    });
+
+    it('a non-numeric value, with line and column', () => {
+      const rows = Array.from({ length: 300 }, (_, i) => `${Math.sin(i)},${Math.cos(i)}`);
+      rows[150] = '0.5,warm';
+      writeFileSync(join(folder, 'sensor.csv'), `x,y\n${rows.join('\n')}\n`);
+      expectOneLineError(weft(['train', 'sensor.csv', '--window', '8', '--streams', '2']), 1, /^weft: Bad data at sensor\.csv:152:5: expected a decimal number in column "y", received "warm" \(299 of 300 cells there are; fix the cell, or choose the columns with --columns\)$/);
+    });
+  });
+});
