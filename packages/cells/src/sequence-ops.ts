@@ -4,6 +4,9 @@
  * Our convention for a row b of length L < T (written down in the package README): its outputs at steps ≥ L are
  * zero, its state is held from step L − 1, its final state is the state after its last valid step, and a
  * reverse direction starts at step L − 1 of that row.
+ *
+ * Why one file of this length: every operation here applies that one convention, through `isActive` and the saved
+ * record of a ragged sequence they share; apart they would each restate it.
  */
 import { noTensor } from '@weft/core';
 import type { FloatArray, OperationKind, Tape, Tensor } from '@weft/core';

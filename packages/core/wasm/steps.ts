@@ -1,5 +1,5 @@
 /**
- * The cells' step kernels in f32x4 SIMD: twins of packages/cells/src/kernels/{lstm,gru,plain}-step.ts with the
+ * The cells' step kernels in f32x4 SIMD: twins of packages/core/src/kernels/{lstm,gru,plain}-step.ts with the
  * same arguments in the same order (arrays as byte offsets, 0 for an absent array, `lengths` an Int32 array or
  * 0). The equations and their derivatives are written out beside the twins; rows past their length hold their
  * state exactly as there. Lanes run over the hidden units j, 4 at a time, with a scalar tail.
@@ -9,6 +9,9 @@
  * chains for the out-of-order core: about 30% faster here for the LSTM step), a one-vector loop and a scalar tail,
  * each with `full` constant so no branch is left in the vector loops. Loops marked `// lanes: one vector` are not
  * doubled.
+ *
+ * Why one file of this length: the three cells' forward and backward twins share the lane-loop convention, the
+ * row-holding rule and the gate layout helpers, and the build expands this file as one unit.
  */
 // The scalar tails call sigmoidCall4 / tanhCall4 once the build expands the lane loops (see below).
 // @ts-ignore: used by the expanded loops
