@@ -58,6 +58,10 @@ export class TapeNode<Saved extends object = object> {
   saved: Saved = null as unknown as Saved;
   /** One record per kind this node position has held, reused. */
   readonly records = new Map<OperationKind<never>, object>();
+  /** The kind this position held last and its record: the lookup a repeated graph takes, without the map. */
+  lastKind: OperationKind | null = null;
+  /** The record of `lastKind`. */
+  lastSaved: object | null = null;
 
   /** Frees the node: kind and outputs are forgotten; the kind's record stays for reuse, overwritten when next filled. */
   reset(): void {
@@ -159,7 +163,8 @@ export class Tape {
       this.nodes.push(node);
     }
     this.nodeCount++;
-    let saved = node.records.get(kind as OperationKind<never>) as Saved | undefined;
+    // The same graph recorded again puts the same kind at the same position: its record is the last one used here.
+    let saved = (node.lastKind === kind ? node.lastSaved : node.records.get(kind as OperationKind<never>)) as Saved | undefined;
     if (saved === undefined) {
       if (typeof kind.saves !== 'function') {
         fail('invalid_argument', `${kind.name}.saves`, 'a function that makes the record of what backward reads (see OperationKind)', typeof kind.saves,
@@ -169,6 +174,8 @@ export class Tape {
       node.records.set(kind as OperationKind<never>, saved);
     }
     node.kind = kind as unknown as OperationKind;
+    node.lastKind = kind as unknown as OperationKind;
+    node.lastSaved = saved;
     node.output = output;
     node.secondOutput = secondOutput;
     node.saved = saved;

@@ -10,7 +10,10 @@
  * 4 × 8 register block (8 vectors of accumulators) then does 32 multiply-adds per 3 vector loads. Accumulation is
  * in f32 (the JavaScript twin accumulates in f64; the agreement tests bound the difference).
  *
- * Fewer than 4 rows (one streaming sample): no packing; blocks of 32, then 16 columns read b in place.
+ * Fewer than 4 rows (one streaming sample): no packing; blocks of 16 columns read b in place (four accumulator vectors,
+ * one broadcast of op(a)[row, k] per four loads of b). A 32-column block with eight accumulators was measured slower
+ * here for every shape up to 64 × 256 (V8 spills its registers): 1×48×144 in 702–756 ns against 454–460 ns, 1×32×128 in
+ * 416 against 266, 3×128×512 in 20.0 µs against 15.6 µs; only 1×256×1024 was faster with it (31 µs against 39 µs).
  */
 import { load4, store4 } from './math';
 
@@ -186,35 +189,6 @@ function fewRows(out: usize, a: usize, b: usize, rows: i32, inner: i32, cols: i3
     let col = 0;
     const bStride = <usize>cols << 2;
     const aStride = aInnerStep << 2;
-    // 32 columns at a time: 8 vectors of accumulators, one broadcast of op(a)[row, k] per 8 vector loads of b.
-    for (; col + 32 <= cols; col += 32) {
-      let s0 = f32x4.splat(0), s1 = f32x4.splat(0), s2 = f32x4.splat(0), s3 = f32x4.splat(0);
-      let s4 = f32x4.splat(0), s5 = f32x4.splat(0), s6 = f32x4.splat(0), s7 = f32x4.splat(0);
-      let pa = aStart;
-      let pb = b + (<usize>col << 2);
-      for (let k = 0; k < inner; k++) {
-        const x = v128.load32_splat(pa);
-        s0 = f32x4.add(s0, f32x4.mul(x, v128.load(pb)));
-        s1 = f32x4.add(s1, f32x4.mul(x, v128.load(pb, 16)));
-        s2 = f32x4.add(s2, f32x4.mul(x, v128.load(pb, 32)));
-        s3 = f32x4.add(s3, f32x4.mul(x, v128.load(pb, 48)));
-        s4 = f32x4.add(s4, f32x4.mul(x, v128.load(pb, 64)));
-        s5 = f32x4.add(s5, f32x4.mul(x, v128.load(pb, 80)));
-        s6 = f32x4.add(s6, f32x4.mul(x, v128.load(pb, 96)));
-        s7 = f32x4.add(s7, f32x4.mul(x, v128.load(pb, 112)));
-        pa += aStride;
-        pb += bStride;
-      }
-      const o = outRow + (<usize>col << 2);
-      if (accumulate) {
-        s0 = f32x4.add(s0, v128.load(o)); s1 = f32x4.add(s1, v128.load(o, 16));
-        s2 = f32x4.add(s2, v128.load(o, 32)); s3 = f32x4.add(s3, v128.load(o, 48));
-        s4 = f32x4.add(s4, v128.load(o, 64)); s5 = f32x4.add(s5, v128.load(o, 80));
-        s6 = f32x4.add(s6, v128.load(o, 96)); s7 = f32x4.add(s7, v128.load(o, 112));
-      }
-      v128.store(o, s0); v128.store(o, s1, 16); v128.store(o, s2, 32); v128.store(o, s3, 48);
-      v128.store(o, s4, 64); v128.store(o, s5, 80); v128.store(o, s6, 96); v128.store(o, s7, 112);
-    }
     for (; col + 16 <= cols; col += 16) {
       let s0 = f32x4.splat(0), s1 = f32x4.splat(0), s2 = f32x4.splat(0), s3 = f32x4.splat(0);
       let pa = aStart;
