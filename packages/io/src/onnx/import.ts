@@ -1,0 +1,476 @@
+/**
+ * ONNX to weft: a graph that is a recurrent stack — LSTM, GRU and RNN nodes (forward or bidirectional,
+ * `sequence_lens`, `initial_h`/`initial_c`, peepholes `P`, `layout` 0 and 1, `linear_before_reset` 0 and 1, the
+ * default activations, or Relu for RNN), optionally a row gather from a constant table before it (an embedding) and a
+ * readout after it (MatMul + Add, or Gemm on rows flattened by a Reshape) with Softmax or LogSoftmax — becomes a weft
+ * model description and its tensors. The glue between nodes (Squeeze, Transpose, Reshape, Identity) is followed by
+ * the axes it moves (time, batch, direction, hidden), so any arrangement that hands the next node [time, batch,
+ * features] or [batch, time, features] is read. Anything else is refused with an error naming the node, its operator
+ * and what is wrong, before any tensor is copied.
+ *
+ * What weft runs from the imported model's input: `input` [steps, batch, width] time-major (or token ids); ONNX's
+ * layout, the names of the graph's inputs and outputs, and how the output's axes lie are kept in the metadata
+ * (`onnx`), so a caller can feed the original tensors.
+ */
+import { fail } from '@weft/core';
+import type { LayerDescription, ModelDescription } from '@weft/cells/description';
+import { layerPath } from '@weft/cells/description';
+import type { NamedValues } from '../weight-file.js';
+import { fromOnnxBlocks, gateBlocks, sumBiases } from './mapping.js';
+import type { OnnxAttribute, OnnxModel, OnnxNode, OnnxTensor } from './model.js';
+import { ONNX_FLOAT } from './model.js';
+
+/** How `importOnnx` reads a model. */
+export interface OnnxImportOptions {
+  /**
+   * Values for graph inputs that are weights rather than per-run data (W, R, B, P given as inputs, as in ONNX's
+   * operator test models), by graph input name.
+   */
+  readonly values?: Readonly<Record<string, OnnxTensor>>;
+}
+
+/** How the imported model meets the ONNX graph's inputs and outputs (kept in the weight file's metadata as `onnx`). */
+export interface OnnxBinding {
+  /** The graph input the model reads, and whether it holds numbers or token ids. */
+  readonly input: { readonly name: string; readonly kind: 'values' | 'tokens' };
+  /** ONNX `layout` of the first recurrent node: 0 is [steps, batch, …], 1 is [batch, steps, …]. */
+  readonly layout: 0 | 1;
+  /** The graph input holding each row's length (`sequence_lens`), or null. */
+  readonly lengths: string | null;
+  /** Per layer, the graph inputs holding its initial h and c ([directions, batch, hidden]), or null. */
+  readonly initialState: readonly { readonly h: string | null; readonly c: string | null }[];
+  /**
+   * The graph output the model's outputs correspond to, and the axes it has: t time, b batch, d direction, h hidden,
+   * f features, v readout values, n rows of time and batch; name '' when the graph gives only final states.
+   */
+  readonly output: { readonly name: string; readonly axes: readonly string[] };
+  /** Per layer, graph outputs that are its final states (Y_h, Y_c), when the graph gives them. */
+  readonly states: readonly { readonly h: string | null; readonly c: string | null }[];
+  /** Softmax or LogSoftmax applied after the readout in the ONNX graph (weft models give the logits). */
+  readonly outputFunction: 'none' | 'softmax' | 'logSoftmax';
+  /** The operator set version the file imports. */
+  readonly opset: number;
+  /** The program that wrote the file. */
+  readonly producer: string;
+}
+
+/** What `importOnnx` gives: a weft model description, its tensors by weft names, and how it binds to the graph. */
+export interface OnnxImport {
+  /** The model description. */
+  readonly description: ModelDescription;
+  /** Every tensor, in the description's parameter order. */
+  readonly tensors: NamedValues[];
+  /** How the model meets the ONNX graph. */
+  readonly binding: OnnxBinding;
+  /** weft metadata the file carries (`weft.metadata` in `metadata_props`, written by weft's export), else {}. */
+  readonly metadata: Record<string, unknown>;
+}
+
+const RECURRENT = new Set(['LSTM', 'GRU', 'RNN']);
+const GLUE = new Set(['Identity', 'Squeeze', 'Transpose', 'Reshape']);
+const SUPPORTED = new Set([...RECURRENT, ...GLUE, 'Gather', 'MatMul', 'Add', 'Gemm', 'Softmax', 'LogSoftmax']);
+
+/** A value's axes as the walk knows them, with the sizes of the ones it knows. */
+interface Axes {
+  readonly labels: readonly string[];
+  readonly sizes: Readonly<Record<string, number>>;
+}
+
+function nodeLabel(node: OnnxNode, index: number): string {
+  return `node ${index}${node.name === '' ? '' : ` "${node.name}"`} (${node.opType})`;
+}
+
+function attribute(node: OnnxNode, name: string): OnnxAttribute | undefined {
+  return node.attributes.find((a) => a.name === name);
+}
+
+/** Reads an ONNX model (see above); throws a WeftError naming the node, operator and attribute of anything weft does not run. */
+export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): OnnxImport {
+  const graph = model.graph;
+  const opset = model.opsets.find((o) => o.domain === '' || o.domain === 'ai.onnx')?.version ?? 0;
+  const constants = new Map<string, OnnxTensor>();
+  for (const t of graph.initializers) constants.set(t.name, t);
+  for (const [name, t] of Object.entries(options.values ?? {})) constants.set(name, { ...t, name });
+  const graphInputs = new Set(graph.inputs.map((i) => i.name).filter((n) => !constants.has(n)));
+  const graphOutputs = new Set(graph.outputs.map((o) => o.name));
+  const producer = new Map<string, number>();
+  graph.nodes.forEach((node, index) => {
+    const where = nodeLabel(node, index);
+    if (node.domain !== '' && node.domain !== 'ai.onnx') fail('invalid_option', `${where}.domain`, "the default ONNX domain ('')", JSON.stringify(node.domain));
+    if (!SUPPORTED.has(node.opType)) {
+      fail('invalid_option', `${where}`, `one of the operators weft runs (${[...SUPPORTED].join(', ')})`, node.opType);
+    }
+    for (const output of node.outputs) if (output !== '') producer.set(output, index);
+  });
+  const consumers = new Map<string, number[]>();
+  graph.nodes.forEach((node, index) => {
+    for (const input of node.inputs) if (input !== '') consumers.set(input, [...(consumers.get(input) ?? []), index]);
+  });
+  const constant = (node: OnnxNode, index: number, slot: number, what: string): OnnxTensor => {
+    const name = node.inputs[slot];
+    const t = name === undefined || name === '' ? undefined : constants.get(name);
+    if (t === undefined) {
+      const why = name === undefined || name === '' ? 'none' : graphInputs.has(name) ? `graph input "${name}" with no initializer (give its values)` : `"${name}", computed by another node`;
+      fail('bad_data', `${nodeLabel(node, index)}.input[${slot}]`, `${what}: an initializer or given values`, why);
+    }
+    if (t.dataType !== ONNX_FLOAT && what !== 'a shape' && what !== 'axes') fail('bad_data', `${nodeLabel(node, index)}.input[${slot}] ("${name}")`, 'FLOAT data', `data type ${t.dataType}`);
+    return t;
+  };
+  const used = new Set<number>();
+  const consumedOnce = (value: string, from: string): [OnnxNode, number] | null => {
+    const list = consumers.get(value) ?? [];
+    if (list.length === 0) return null;
+    if (list.length > 1) fail('invalid_option', `${from} output "${value}"`, 'one node reading it (weft reads a chain of layers)', `${list.length} nodes: ${list.map((i) => nodeLabel(graph.nodes[i], i)).join(', ')}`);
+    return [graph.nodes[list[0]], list[0]];
+  };
+
+  const recurrent = graph.nodes.map((n, i) => [n, i] as const).filter(([n]) => RECURRENT.has(n.opType));
+  if (recurrent.length === 0) fail('invalid_option', 'graph', 'at least one LSTM, GRU or RNN node', 'none');
+
+  // The model's input: a graph input straight into the first recurrent node, or a row gather of a constant table.
+  const [first, firstIndex] = recurrent[0];
+  let inputKind: 'values' | 'tokens' = 'values';
+  let inputName = first.inputs[0];
+  let embedding: OnnxTensor | null = null;
+  const firstX = producer.get(first.inputs[0]);
+  if (firstX !== undefined) {
+    const gather = graph.nodes[firstX];
+    const where = nodeLabel(gather, firstX);
+    if (gather.opType !== 'Gather') fail('invalid_option', where, 'a Gather of token ids from a constant table, or nothing, before the first recurrent node', gather.opType);
+    const axis = attribute(gather, 'axis')?.i ?? 0;
+    if (axis !== 0) fail('invalid_option', `${where}.axis`, '0 (rows of the table)', String(axis));
+    embedding = constant(gather, firstX, 0, 'an embedding table');
+    if (embedding.dims.length !== 2) fail('bad_data', `${where}.input[0]`, 'a table [vocabulary, width]', JSON.stringify(embedding.dims));
+    inputName = gather.inputs[1];
+    if (!graphInputs.has(inputName)) fail('invalid_option', `${where}.input[1]`, 'a graph input of token ids', `"${inputName}"`);
+    inputKind = 'tokens';
+    used.add(firstX);
+  } else if (!graphInputs.has(inputName)) {
+    fail('invalid_option', `${nodeLabel(first, firstIndex)}.input[0]`, 'a graph input', `"${inputName}"`);
+  }
+
+  const layers: LayerDescription[] = [];
+  const tensors: NamedValues[] = [];
+  if (embedding !== null) tensors.push({ name: 'embedding.table', shape: [...embedding.dims], values: Float32Array.from(embedding.values as Float32Array) });
+  const initialState: { h: string | null; c: string | null }[] = [];
+  const states: { h: string | null; c: string | null }[] = [];
+  let lengths: string | null = null;
+  let layout: 0 | 1 = 0;
+  let width = embedding !== null ? embedding.dims[1] : -1;
+  let current: Axes | null = null;
+  let currentValue = '';
+
+  recurrent.forEach(([node, index], layerIndex) => {
+    const where = nodeLabel(node, index);
+    used.add(index);
+    const nodeLayout = attribute(node, 'layout')?.i ?? 0;
+    if (nodeLayout !== 0 && nodeLayout !== 1) fail('invalid_option', `${where}.layout`, '0 or 1', String(nodeLayout));
+    if (layerIndex === 0) {
+      layout = nodeLayout;
+    } else {
+      // The previous layer's output, through the glue, must be [time, batch, features] in this node's layout.
+      const wanted = nodeLayout === 0 ? ['t', 'b', 'f'] : ['b', 't', 'f'];
+      if (node.inputs[0] !== currentValue || current === null || current.labels.join() !== wanted.join()) {
+        fail('invalid_option', `${where}.input[0]`, `the previous layer's output as [${wanted.join(', ')}] (t time, b batch, f features)`,
+          current === null || node.inputs[0] !== currentValue ? `"${node.inputs[0]}"` : `[${current.labels.join(', ')}]`);
+      }
+    }
+    const kind = node.opType === 'LSTM' ? 'lstm' : node.opType === 'GRU' ? 'gru' : 'plain';
+    const gates = kind === 'lstm' ? 4 : kind === 'gru' ? 3 : 1;
+    const direction = attribute(node, 'direction')?.s ?? 'forward';
+    if (direction !== 'forward' && direction !== 'bidirectional') {
+      fail('invalid_option', `${where}.direction`, "'forward' or 'bidirectional' (weft layers read forward, or both ways)", JSON.stringify(direction));
+    }
+    const directions = direction === 'bidirectional' ? 2 : 1;
+    for (const a of node.attributes) {
+      if (a.name === 'clip') fail('invalid_option', `${where}.clip`, 'no clip (weft cells do not clip their activations)', String(a.f));
+      if (a.name === 'input_forget' && (a.i ?? 0) !== 0) fail('invalid_option', `${where}.input_forget`, '0 (weft LSTMs have separate input and forget gates)', String(a.i));
+      if (a.name === 'activation_alpha' || a.name === 'activation_beta') fail('invalid_option', `${where}.${a.name}`, 'none (only the default activations are run)', JSON.stringify(a.floats));
+      if (!['hidden_size', 'direction', 'layout', 'linear_before_reset', 'activations', 'clip', 'input_forget'].includes(a.name)) {
+        fail('invalid_option', `${where}.${a.name}`, `an attribute of ${node.opType}`, a.name);
+      }
+    }
+    const activations = attribute(node, 'activations')?.strings;
+    let activation: 'tanh' | 'relu' = 'tanh';
+    if (activations !== undefined) {
+      const defaults = kind === 'lstm' ? ['Sigmoid', 'Tanh', 'Tanh'] : kind === 'gru' ? ['Sigmoid', 'Tanh'] : null;
+      const expected = defaults === null ? null : Array.from({ length: directions }, () => defaults).flat();
+      if (kind === 'plain' && activations.length === directions && activations.every((x) => x === activations[0]) && (activations[0] === 'Tanh' || activations[0] === 'Relu')) {
+        activation = activations[0] === 'Relu' ? 'relu' : 'tanh';
+      } else if (expected === null || activations.join() !== expected.join()) {
+        fail('invalid_option', `${where}.activations`, kind === 'plain' ? `Tanh or Relu, ${directions} time(s)` : `the defaults ${JSON.stringify(expected)}`, JSON.stringify(activations));
+      }
+    }
+    const resetAfter = (attribute(node, 'linear_before_reset')?.i ?? 0) !== 0;
+    const w = constant(node, index, 1, 'the input weights W');
+    const r = constant(node, index, 2, 'the recurrent weights R');
+    const declared = attribute(node, 'hidden_size')?.i;
+    const hidden = declared ?? r.dims[2];
+    const inputWidth = w.dims[2];
+    if (w.dims.length !== 3 || w.dims[0] !== directions || w.dims[1] !== gates * hidden) {
+      fail('bad_data', `${where}.input[1] (W, "${node.inputs[1]}")`, `dims [${directions}, ${gates * hidden}, input width] (${directions} direction(s), ${gates} gates × hidden_size ${hidden})`, JSON.stringify(w.dims));
+    }
+    if (r.dims.length !== 3 || r.dims[0] !== directions || r.dims[1] !== gates * hidden || r.dims[2] !== hidden) {
+      fail('bad_data', `${where}.input[2] (R, "${node.inputs[2]}")`, `dims [${directions}, ${gates * hidden}, ${hidden}] (hidden_size ${hidden})`, JSON.stringify(r.dims));
+    }
+    if (width !== -1 && inputWidth !== width) fail('bad_data', `${where}.input[1] (W, "${node.inputs[1]}")`, `an input width of ${width} (what the layer before gives)`, String(inputWidth));
+    const optional = (slot: number): OnnxTensor | null => (node.inputs[slot] === undefined || node.inputs[slot] === '' ? null : constant(node, index, slot, ['', '', '', 'the biases B', '', '', '', 'the peepholes P'][slot]));
+    const b = optional(3);
+    if (b !== null && (b.dims.length !== 2 || b.dims[0] !== directions || b.dims[1] !== 2 * gates * hidden)) {
+      fail('bad_data', `${where}.input[3] (B, "${node.inputs[3]}")`, `dims [${directions}, ${2 * gates * hidden}]`, JSON.stringify(b.dims));
+    }
+    const p = kind === 'lstm' ? optional(7) : null;
+    if (p !== null && (p.dims.length !== 2 || p.dims[0] !== directions || p.dims[1] !== 3 * hidden)) {
+      fail('bad_data', `${where}.input[7] (P, "${node.inputs[7]}")`, `dims [${directions}, ${3 * hidden}]`, JSON.stringify(p.dims));
+    }
+    // Per-run inputs: lengths and initial states come from graph inputs, or are absent; constants must be zero states.
+    const runInput = (slot: number, what: string): string | null => {
+      const name = node.inputs[slot];
+      if (name === undefined || name === '') return null;
+      if (graphInputs.has(name)) return name;
+      const t = constants.get(name);
+      if (t !== undefined && slot >= 5 && Array.from(t.values as ArrayLike<number>).every((v) => v === 0)) return null;
+      fail('invalid_option', `${where}.input[${slot}] (${what}, "${name}")`, slot === 4 ? 'a graph input (lengths are given per run)' : 'a graph input, or zeros (weft states start at zero)', t === undefined ? 'a value computed by another node' : 'a constant that is not all zeros');
+    };
+    const lengthsInput = runInput(4, 'sequence_lens');
+    if (lengthsInput !== null) {
+      if (lengths !== null && lengths !== lengthsInput) fail('invalid_option', `${where}.input[4]`, `the same lengths as the layers before ("${lengths}")`, `"${lengthsInput}"`);
+      lengths = lengthsInput;
+    }
+    initialState.push({ h: runInput(5, 'initial_h'), c: kind === 'lstm' ? runInput(6, 'initial_c') : null });
+    states.push({ h: node.outputs[1] !== undefined && node.outputs[1] !== '' ? node.outputs[1] : null, c: node.outputs[2] !== undefined && node.outputs[2] !== '' ? node.outputs[2] : null });
+    for (const state of [node.outputs[1], node.outputs[2]]) {
+      if (state !== undefined && state !== '' && (consumers.get(state) ?? []).length > 0) {
+        fail('invalid_option', `${where} output "${state}"`, 'final states read by no other node (weft passes only the sequence between layers)', `read by ${nodeLabel(graph.nodes[consumers.get(state)![0]], consumers.get(state)![0])}`);
+      }
+    }
+
+    // The tensors, direction by direction, in weft's names and layouts.
+    const blocks = gateBlocks[kind];
+    for (let d = 0; d < directions; d++) {
+      const prefix = layerPath(layers.length, d === 0 ? 'forward' : 'backward');
+      const input = new Float32Array(inputWidth * gates * hidden);
+      fromOnnxBlocks(input, gates * hidden, w.values as Float32Array, d * gates * hidden * inputWidth, inputWidth, hidden, blocks);
+      const bias = new Float32Array(gates * hidden);
+      let candidateBias: Float32Array | null = null;
+      if (b !== null) {
+        const bv = b.values as Float32Array;
+        const base = d * 2 * gates * hidden;
+        blocks.forEach((onnxBlock, block) => {
+          for (let j = 0; j < hidden; j++) {
+            const wb = bv[base + onnxBlock * hidden + j];
+            const rb = bv[base + gates * hidden + onnxBlock * hidden + j];
+            bias[block * hidden + j] = kind === 'gru' && resetAfter && block === 2 ? wb : sumBiases(wb, rb);
+          }
+        });
+        if (kind === 'gru' && resetAfter) candidateBias = Float32Array.from(bv.subarray(base + 5 * hidden, base + 6 * hidden));
+      }
+      if (kind === 'gru' && resetAfter && candidateBias === null) candidateBias = new Float32Array(hidden);
+      const rv = r.values as Float32Array;
+      const rOffset = d * gates * hidden * hidden;
+      if (kind === 'gru') {
+        const recurrentZr = new Float32Array(hidden * 2 * hidden);
+        fromOnnxBlocks(recurrentZr, 2 * hidden, rv, rOffset, hidden, hidden, [0, 1]);
+        const recurrentCandidate = new Float32Array(hidden * hidden);
+        fromOnnxBlocks(recurrentCandidate, hidden, rv, rOffset, hidden, hidden, [2]);
+        tensors.push(
+          { name: `${prefix}.input`, shape: [inputWidth, 3 * hidden], values: input },
+          { name: `${prefix}.bias`, shape: [3 * hidden], values: bias },
+          { name: `${prefix}.recurrent`, shape: [hidden, 2 * hidden], values: recurrentZr },
+          { name: `${prefix}.recurrentCandidate`, shape: [hidden, hidden], values: recurrentCandidate },
+        );
+        if (candidateBias !== null) tensors.push({ name: `${prefix}.recurrentCandidateBias`, shape: [hidden], values: candidateBias });
+      } else {
+        const recurrentWeights = new Float32Array(hidden * gates * hidden);
+        fromOnnxBlocks(recurrentWeights, gates * hidden, rv, rOffset, hidden, hidden, blocks);
+        tensors.push(
+          { name: `${prefix}.input`, shape: [inputWidth, gates * hidden], values: input },
+          { name: `${prefix}.recurrent`, shape: [hidden, gates * hidden], values: recurrentWeights },
+          { name: `${prefix}.bias`, shape: [gates * hidden], values: bias },
+        );
+        if (p !== null) {
+          const pv = p.values as Float32Array;
+          const base = d * 3 * hidden;
+          const peephole = new Float32Array(3 * hidden);
+          // ONNX P is [i, o, f]; ours is [i, f, o].
+          for (let j = 0; j < hidden; j++) {
+            peephole[j] = pv[base + j];
+            peephole[hidden + j] = pv[base + 2 * hidden + j];
+            peephole[2 * hidden + j] = pv[base + hidden + j];
+          }
+          tensors.push({ name: `${prefix}.peephole`, shape: [3 * hidden], values: peephole });
+        }
+      }
+    }
+    const layer: { -readonly [K in keyof LayerDescription]: LayerDescription[K] } = { cell: kind, hidden };
+    if (directions === 2) layer.bidirectional = true;
+    if (kind === 'lstm' && p !== null) layer.peepholes = true;
+    if (kind === 'gru' && resetAfter) layer.resetAfterProduct = true;
+    if (kind === 'plain' && activation === 'relu') layer.activation = 'relu';
+    layers.push(layer);
+    if (layerIndex === 0 && embedding === null) width = inputWidth;
+    width = directions * hidden;
+    // Follow Y through the glue to the next recurrent node, or to the readout.
+    currentValue = node.outputs[0] ?? '';
+    current = { labels: nodeLayout === 0 ? ['t', 'd', 'b', 'h'] : ['b', 't', 'd', 'h'], sizes: { d: directions, h: hidden, f: directions * hidden } };
+    if (currentValue === '') {
+      // Only the final states are asked for: fine for the last layer, whose states the model's run gives.
+      if (layerIndex < recurrent.length - 1) fail('invalid_option', `${where}.output[0]`, 'the sequence output Y (weft layers pass the sequence on)', 'not asked for');
+      return;
+    }
+    for (;;) {
+      const next = consumedOnce(currentValue, where);
+      if (next === null || RECURRENT.has(next[0].opType) || !GLUE.has(next[0].opType)) break;
+      const [glue, glueIndex] = next;
+      used.add(glueIndex);
+      current = moveAxes(glue, glueIndex, current, constants);
+      currentValue = glue.outputs[0];
+    }
+  });
+
+  // The readout: MatMul (+ Add), or Gemm on flattened rows; then Softmax or LogSoftmax.
+  let readout: { weights: Float32Array; bias: Float32Array; width: number } | null = null as { weights: Float32Array; bias: Float32Array; width: number } | null;
+  let outputFunction: OnnxBinding['outputFunction'] = 'none';
+  let axes = current as Axes | null;
+  for (;;) {
+    if (currentValue === '') break;
+    const next = consumedOnce(currentValue, 'the last layer');
+    if (next === null) break;
+    const [node, index] = next;
+    const where = nodeLabel(node, index);
+    used.add(index);
+    const labels = (axes as Axes).labels;
+    const lastLabel = labels[labels.length - 1];
+    if ((node.opType === 'MatMul' || node.opType === 'Gemm') && readout === null) {
+      if (lastLabel !== 'f') fail('invalid_option', `${where}.input[0]`, 'features on the last axis', `[${labels.join(', ')}]`);
+      const weights = constant(node, index, 1, 'the readout weights');
+      let transB = 0;
+      if (node.opType === 'Gemm') {
+        if (labels.length !== 2) fail('invalid_option', `${where}.input[0]`, 'rows [steps·batch, features] (Gemm is 2-D; flatten with Reshape)', `[${labels.join(', ')}]`);
+        const alpha = attribute(node, 'alpha')?.f ?? 1;
+        const beta = attribute(node, 'beta')?.f ?? 1;
+        if (alpha !== 1 || beta !== 1 || (attribute(node, 'transA')?.i ?? 0) !== 0) fail('invalid_option', `${where}`, 'alpha 1, beta 1, transA 0', `alpha ${alpha}, beta ${beta}, transA ${attribute(node, 'transA')?.i ?? 0}`);
+        transB = attribute(node, 'transB')?.i ?? 0;
+      }
+      const [rows, cols] = transB === 0 ? weights.dims : [weights.dims[1], weights.dims[0]];
+      if (weights.dims.length !== 2 || rows !== width) fail('bad_data', `${where}.input[1] ("${node.inputs[1]}")`, `a matrix with ${width} ${transB === 0 ? 'rows' : 'columns'} (the features)`, JSON.stringify(weights.dims));
+      const values = new Float32Array(width * cols);
+      const wv = weights.values as Float32Array;
+      for (let i = 0; i < width; i++) for (let j = 0; j < cols; j++) values[i * cols + j] = transB === 0 ? wv[i * cols + j] : wv[j * width + i];
+      let bias: Float32Array = new Float32Array(cols);
+      if (node.opType === 'Gemm' && node.inputs[2] !== undefined && node.inputs[2] !== '') bias = biasOf(node, index, 2, cols, constant);
+      readout = { weights: values, bias, width: cols };
+      axes = { labels: [...labels.slice(0, -1), 'v'], sizes: { ...(axes as Axes).sizes, v: cols } };
+    } else if (node.opType === 'Add' && readout !== null && lastLabel === 'v') {
+      const other = node.inputs[0] === currentValue ? 2 : 1;
+      const slot = node.inputs[0] === currentValue ? 1 : 0;
+      const bias = biasOf(node, index, slot, readout.width, constant);
+      void other;
+      readout.bias = readout.bias.map((v, j) => sumBiases(v, bias[j]));
+    } else if ((node.opType === 'Softmax' || node.opType === 'LogSoftmax') && outputFunction === 'none') {
+      const axis = attribute(node, 'axis')?.i ?? -1;
+      if (axis !== -1 && axis !== labels.length - 1) fail('invalid_option', `${where}.axis`, `the last axis (-1 or ${labels.length - 1})`, String(axis));
+      outputFunction = node.opType === 'Softmax' ? 'softmax' : 'logSoftmax';
+    } else if (GLUE.has(node.opType)) {
+      axes = moveAxes(node, index, axes as Axes, constants);
+    } else {
+      fail('invalid_option', where, 'a readout (MatMul + Add, or Gemm), Softmax, LogSoftmax or layout glue after the last layer', node.opType);
+    }
+    currentValue = node.outputs[0];
+  }
+  graph.nodes.forEach((node, index) => {
+    if (!used.has(index)) fail('invalid_option', nodeLabel(node, index), 'a node on the chain from the input to the output', 'a node off it (weft reads a single chain of layers)');
+  });
+  if (currentValue !== '' && !graphOutputs.has(currentValue)) fail('invalid_option', 'graph output', `"${currentValue}" (the end of the chain)`, `[${[...graphOutputs].join(', ')}]`);
+  if (currentValue === '' && states[states.length - 1].h === null) fail('invalid_option', 'graph output', "the last layer's Y or Y_h", 'neither');
+  if (readout !== null) {
+    tensors.push({ name: 'readout.weights', shape: [width, readout.width], values: readout.weights }, { name: 'readout.bias', shape: [readout.width], values: readout.bias });
+  }
+  const description: ModelDescription = {
+    input: inputKind === 'tokens' ? { kind: 'embedding', vocabulary: (embedding as OnnxTensor).dims[0], width: (embedding as OnnxTensor).dims[1] } : { kind: 'values', width: layers.length > 0 ? (tensors.find((t) => t.name.endsWith('.input'))?.shape[0] ?? 0) : 0 },
+    layers,
+    ...(readout !== null ? { readout: { width: readout.width } } : {}),
+  };
+  let metadata: Record<string, unknown> = {};
+  const carried = model.metadata['weft.metadata'];
+  if (carried !== undefined) {
+    try {
+      const parsed = JSON.parse(carried) as unknown;
+      if (typeof parsed === 'object' && parsed !== null && !Array.isArray(parsed)) metadata = parsed as Record<string, unknown>;
+    } catch {
+      fail('bad_data', 'metadata_props (weft.metadata)', 'JSON text of an object', carried.slice(0, 60));
+    }
+  }
+  return {
+    description,
+    tensors,
+    binding: { input: { name: inputName, kind: inputKind }, layout, lengths, initialState, output: { name: currentValue, axes: currentValue === '' ? [] : (axes as Axes).labels }, states, outputFunction, opset, producer: model.producerName },
+    metadata,
+  };
+}
+
+function biasOf(node: OnnxNode, index: number, slot: number, width: number, constant: (node: OnnxNode, index: number, slot: number, what: string) => OnnxTensor): Float32Array {
+  const bias = constant(node, index, slot, 'the readout bias');
+  const count = bias.dims.reduce((n, d) => n * d, 1);
+  if (count !== width || bias.dims[bias.dims.length - 1] !== width) fail('bad_data', `${nodeLabel(node, index)}.input[${slot}] ("${node.inputs[slot]}")`, `a bias of ${width} values`, JSON.stringify(bias.dims));
+  return Float32Array.from(bias.values as Float32Array);
+}
+
+/** The axes after one glue node, or an error saying what the node would do to them. */
+function moveAxes(node: OnnxNode, index: number, axes: Axes, constants: Map<string, OnnxTensor>): Axes {
+  const where = nodeLabel(node, index);
+  const labels = axes.labels;
+  const size = (label: string): number | undefined => axes.sizes[label];
+  const normalise = (axis: number): number => (axis < 0 ? axis + labels.length : axis);
+  if (node.opType === 'Identity') return axes;
+  if (node.opType === 'Transpose') {
+    const perm = attribute(node, 'perm')?.ints ?? labels.map((_, i) => labels.length - 1 - i);
+    if (perm.length !== labels.length || [...perm].sort().some((v, i) => v !== i)) fail('invalid_option', `${where}.perm`, `a permutation of ${labels.length} axes`, JSON.stringify(perm));
+    return { labels: perm.map((i) => labels[i]), sizes: axes.sizes };
+  }
+  if (node.opType === 'Squeeze') {
+    const axesInput = node.inputs[1];
+    const list = axesInput !== undefined && axesInput !== '' ? (constants.get(axesInput)?.values as readonly number[] | undefined) : attribute(node, 'axes')?.ints;
+    if (list === undefined) fail('invalid_option', `${where}.axes`, 'constant axes (the direction axis)', 'none or computed');
+    const removed = list.map(normalise);
+    for (const axis of removed) {
+      if (labels[axis] !== 'd' || size('d') !== 1) fail('invalid_option', `${where}.axes`, 'the direction axis of a one-direction layer', `axis ${axis} (${labels[axis] ?? 'none'})`);
+    }
+    return { labels: labels.filter((_, i) => !removed.includes(i)).map((l) => (l === 'h' ? 'f' : l)), sizes: axes.sizes };
+  }
+  // Reshape: copy axes (0), merge direction and hidden into features, or flatten time and batch into rows.
+  const shapeName = node.inputs[1];
+  const shape = shapeName === undefined ? undefined : constants.get(shapeName);
+  if (shape === undefined) fail('invalid_option', `${where}.input[1]`, 'a constant shape', shapeName === undefined ? 'none' : `"${shapeName}", computed`);
+  const entries = Array.from(shape.values as ArrayLike<number>);
+  const out: string[] = [];
+  let p = 0;
+  const merged = (from: number): number => (labels[from] === 'd' && labels[from + 1] === 'h' ? 2 : 0);
+  for (let i = 0; i < entries.length; i++) {
+    const entry = entries[i];
+    if (entry === 0 && p === i && p < labels.length) {
+      out.push(labels[p++]);
+    } else if (entry === -1 && i === entries.length - 1) {
+      const rest = labels.slice(p);
+      if (rest.length === 1) out.push(rest[0]);
+      else if (rest.join() === 'd,h') out.push('f');
+      else fail('invalid_option', `${where}.shape`, 'the last axes as one of features (direction, hidden)', `[${rest.join(', ')}]`);
+      p = labels.length;
+    } else if (entry === -1 && i === 0 && entries.length === 2) {
+      const lead = labels.slice(0, labels.length - (merged(labels.length - 2) === 2 ? 2 : 1));
+      if (lead.join() !== 't,b' && lead.join() !== 'b,t') fail('invalid_option', `${where}.shape`, 'rows of time and batch', `[${lead.join(', ')}]`);
+      out.push(lead.join() === 't,b' ? 'n' : 'n-batch-major');
+      p = lead.length;
+    } else if (entry > 0 && merged(p) === 2 && entry === size('f')) {
+      out.push('f');
+      p += 2;
+    } else if (entry > 0 && size(labels[p]) === entry) {
+      out.push(labels[p] === 'h' && size('d') === 1 ? 'f' : labels[p]);
+      p++;
+    } else {
+      fail('invalid_option', `${where}.shape`, `a reshape weft can follow of axes [${labels.join(', ')}]`, JSON.stringify(entries));
+    }
+  }
+  if (p !== labels.length) fail('invalid_option', `${where}.shape`, `a shape covering every axis of [${labels.join(', ')}]`, JSON.stringify(entries));
+  return { labels: out, sizes: axes.sizes };
+}
