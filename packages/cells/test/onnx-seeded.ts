@@ -29,13 +29,13 @@ function randomVector(random: Random, length: number, scale = 0.6): number[] {
   return Array.from({ length }, () => random.between(-scale, scale));
 }
 
-interface Setup {
+export interface Setup {
   spec: SpecInputs;
   cell: (dtype: DType) => RecurrentCell;
   run: (input: SpecInputs) => SpecOutputs;
 }
 
-function setup(kind: OnnxKind, seed: string, steps: number, batch: number, width: number, hidden: number): Setup {
+export function setup(kind: OnnxKind, seed: string, steps: number, batch: number, width: number, hidden: number): Setup {
   const random = new Random(seed);
   const gates = kind === 'lstm' ? 4 : kind === 'rnn' ? 1 : 3;
   const spec: SpecInputs = {

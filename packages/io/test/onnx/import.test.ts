@@ -11,6 +11,7 @@ import { loadModel, readWeightFile, writeWeightFile } from '@weft/io';
 import { decodeOnnxModel, decodeOnnxTensor, importOnnx } from '@weft/io/onnx';
 import type { OnnxTensor } from '@weft/io/onnx';
 import { runAsOnnx } from './run.js';
+import { smallModel } from './refusals.js';
 
 const folder = fileURLToPath(new URL('../../../../../shared/reference/onnx/', import.meta.url));
 const cases = existsSync(folder) ? readdirSync(folder).filter((name) => name.startsWith('test_')).sort() : [];
@@ -48,4 +49,40 @@ describe('ONNX backend test models (ONNX backend test data, opset 22)', () => {
       }
     });
   }
+});
+
+describe('ONNX models weft does not run', () => {
+  const refused = (model: Parameters<typeof importOnnx>[0]) => () => importOnnx(model);
+
+  it('are refused in one line naming the node, the operator and what is wrong: an operator weft does not run', () => {
+    const model = smallModel();
+    const extra = { ...model, graph: { ...model.graph, nodes: [...model.graph.nodes, { name: 'squash', opType: 'Tanh', domain: '', inputs: ['Y'], outputs: ['Z'], attributes: [] }] } };
+    expect(refused(extra)).toThrowError(/^Invalid option at node 1 "squash" \(Tanh\): expected one of the operators weft runs \(LSTM, GRU, RNN, Identity, Squeeze, Transpose, Reshape, Gather, MatMul, Add, Gemm, Softmax, LogSoftmax\), received Tanh$/);
+  });
+
+  it('an attribute or attribute value weft does not run: clip, input_forget, other activations, direction reverse', () => {
+    const withAttribute = (a: { name: string; type: number; f?: number; i?: number; s?: string; strings?: string[] }) => smallModel((n) => ({ ...n, attributes: [...n.attributes, a] }));
+    expect(refused(withAttribute({ name: 'clip', type: 1, f: 3 }))).toThrowError('Invalid option at node 0 "lstm" (LSTM).clip: expected no clip (weft cells do not clip their activations), received 3');
+    expect(refused(withAttribute({ name: 'input_forget', type: 2, i: 1 }))).toThrowError('Invalid option at node 0 "lstm" (LSTM).input_forget: expected 0 (weft LSTMs have separate input and forget gates), received 1');
+    expect(refused(withAttribute({ name: 'activations', type: 8, strings: ['HardSigmoid', 'Tanh', 'Tanh'] }))).toThrowError(
+      'Invalid option at node 0 "lstm" (LSTM).activations: expected the defaults ["Sigmoid","Tanh","Tanh"], received ["HardSigmoid","Tanh","Tanh"]',
+    );
+    expect(refused(withAttribute({ name: 'direction', type: 3, s: 'reverse' }))).toThrowError(
+      'Invalid option at node 0 "lstm" (LSTM).direction: expected \'forward\' or \'bidirectional\' (weft layers read forward, or both ways), received "reverse"',
+    );
+  });
+
+  it('a node input that names no initializer, and weights whose shape disagrees with hidden_size', () => {
+    const noWeights = smallModel(undefined, []);
+    const asInput = { ...noWeights, graph: { ...noWeights.graph, inputs: [...noWeights.graph.inputs, { name: 'W', elementType: 1, dims: null }] } };
+    expect(refused(asInput)).toThrowError('Bad data at node 0 "lstm" (LSTM).input[1]: expected the input weights W: an initializer or given values, received graph input "W" with no initializer (give its values)');
+    const wrong = smallModel((n) => ({ ...n, attributes: [{ name: 'hidden_size', type: 2, i: 4 }] }));
+    expect(refused(wrong)).toThrowError('Bad data at node 0 "lstm" (LSTM).input[1] (W, "W"): expected dims [1, 16, input width] (1 direction(s), 4 gates × hidden_size 4), received [1,12,2]');
+  });
+
+  it('a chain that branches, and a node off the chain', () => {
+    const model = smallModel();
+    const branch = { ...model, graph: { ...model.graph, nodes: [...model.graph.nodes, { name: 'a', opType: 'Identity', domain: '', inputs: ['Y'], outputs: ['A'] }, { name: 'b', opType: 'Identity', domain: '', inputs: ['Y'], outputs: ['B'] }].map((n) => ({ attributes: [], ...n })) } };
+    expect(refused(branch)).toThrowError(/^Invalid option at node 0 "lstm" \(LSTM\) output "Y": expected one node reading it \(weft reads a chain of layers\), received 2 nodes/);
+  });
 });
