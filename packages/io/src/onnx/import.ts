@@ -11,13 +11,20 @@
  * What weft runs from the imported model's input: `input` [steps, batch, width] time-major (or token ids); ONNX's
  * layout, the names of the graph's inputs and outputs, and how the output's axes lie are kept in the metadata
  * (`onnx`), so a caller can feed the original tensors.
+ *
+ * Why one file of this length: the import is one walk along the chain from the graph's input to its output, and
+ * what it carries from node to node (nodes used, the width so far, the value's axes, the binding) is read and
+ * written at every step of it.
  */
 import { fail } from '@weft/core';
 import type { LayerDescription, ModelDescription } from '@weft/cells/description';
 import { layerPath } from '@weft/cells/description';
 import type { NamedValues } from '../weight-file.js';
-import { fromOnnxBlocks, gateBlocks, sumBiases } from './mapping.js';
-import type { OnnxAttribute, OnnxModel, OnnxNode, OnnxTensor } from './model.js';
+import { layerTensors, sumBiases } from './mapping.js';
+import { attribute, moveAxes, nodeLabel } from './axes.js';
+import { recurrentForm } from './recurrent.js';
+import type { Axes } from './axes.js';
+import type { OnnxModel, OnnxNode, OnnxTensor } from './model.js';
 import { ONNX_FLOAT } from './model.js';
 
 /** How `importOnnx` reads a model. */
@@ -70,19 +77,6 @@ const RECURRENT = new Set(['LSTM', 'GRU', 'RNN']);
 const GLUE = new Set(['Identity', 'Squeeze', 'Transpose', 'Reshape']);
 const SUPPORTED = new Set([...RECURRENT, ...GLUE, 'Gather', 'MatMul', 'Add', 'Gemm', 'Softmax', 'LogSoftmax']);
 
-/** A value's axes as the walk knows them, with the sizes of the ones it knows. */
-interface Axes {
-  readonly labels: readonly string[];
-  readonly sizes: Readonly<Record<string, number>>;
-}
-
-function nodeLabel(node: OnnxNode, index: number): string {
-  return `node ${index}${node.name === '' ? '' : ` "${node.name}"`} (${node.opType})`;
-}
-
-function attribute(node: OnnxNode, name: string): OnnxAttribute | undefined {
-  return node.attributes.find((a) => a.name === name);
-}
 
 /** Reads an ONNX model (see above); throws a WeftError naming the node, operator and attribute of anything weft does not run. */
 export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): OnnxImport {
@@ -163,8 +157,7 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
   recurrent.forEach(([node, index], layerIndex) => {
     const where = nodeLabel(node, index);
     used.add(index);
-    const nodeLayout = attribute(node, 'layout')?.i ?? 0;
-    if (nodeLayout !== 0 && nodeLayout !== 1) fail('invalid_option', `${where}.layout`, '0 or 1', String(nodeLayout));
+    const { kind, gates, directions, layout: nodeLayout, activation, resetAfter } = recurrentForm(node, index);
     if (layerIndex === 0) {
       layout = nodeLayout;
     } else {
@@ -175,33 +168,6 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
           current === null || node.inputs[0] !== currentValue ? `"${node.inputs[0]}"` : `[${current.labels.join(', ')}]`);
       }
     }
-    const kind = node.opType === 'LSTM' ? 'lstm' : node.opType === 'GRU' ? 'gru' : 'plain';
-    const gates = kind === 'lstm' ? 4 : kind === 'gru' ? 3 : 1;
-    const direction = attribute(node, 'direction')?.s ?? 'forward';
-    if (direction !== 'forward' && direction !== 'bidirectional') {
-      fail('invalid_option', `${where}.direction`, "'forward' or 'bidirectional' (weft layers read forward, or both ways)", JSON.stringify(direction));
-    }
-    const directions = direction === 'bidirectional' ? 2 : 1;
-    for (const a of node.attributes) {
-      if (a.name === 'clip') fail('invalid_option', `${where}.clip`, 'no clip (weft cells do not clip their activations)', String(a.f));
-      if (a.name === 'input_forget' && (a.i ?? 0) !== 0) fail('invalid_option', `${where}.input_forget`, '0 (weft LSTMs have separate input and forget gates)', String(a.i));
-      if (a.name === 'activation_alpha' || a.name === 'activation_beta') fail('invalid_option', `${where}.${a.name}`, 'none (only the default activations are run)', JSON.stringify(a.floats));
-      if (!['hidden_size', 'direction', 'layout', 'linear_before_reset', 'activations', 'clip', 'input_forget'].includes(a.name)) {
-        fail('invalid_option', `${where}.${a.name}`, `an attribute of ${node.opType}`, a.name);
-      }
-    }
-    const activations = attribute(node, 'activations')?.strings;
-    let activation: 'tanh' | 'relu' = 'tanh';
-    if (activations !== undefined) {
-      const defaults = kind === 'lstm' ? ['Sigmoid', 'Tanh', 'Tanh'] : kind === 'gru' ? ['Sigmoid', 'Tanh'] : null;
-      const expected = defaults === null ? null : Array.from({ length: directions }, () => defaults).flat();
-      if (kind === 'plain' && activations.length === directions && activations.every((x) => x === activations[0]) && (activations[0] === 'Tanh' || activations[0] === 'Relu')) {
-        activation = activations[0] === 'Relu' ? 'relu' : 'tanh';
-      } else if (expected === null || activations.join() !== expected.join()) {
-        fail('invalid_option', `${where}.activations`, kind === 'plain' ? `Tanh or Relu, ${directions} time(s)` : `the defaults ${JSON.stringify(expected)}`, JSON.stringify(activations));
-      }
-    }
-    const resetAfter = (attribute(node, 'linear_before_reset')?.i ?? 0) !== 0;
     const w = constant(node, index, 1, 'the input weights W');
     const r = constant(node, index, 2, 'the recurrent weights R');
     const declared = attribute(node, 'hidden_size')?.i;
@@ -246,62 +212,8 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
     }
 
     // The tensors, direction by direction, in weft's names and layouts.
-    const blocks = gateBlocks[kind];
-    for (let d = 0; d < directions; d++) {
-      const prefix = layerPath(layers.length, d === 0 ? 'forward' : 'backward');
-      const input = new Float32Array(inputWidth * gates * hidden);
-      fromOnnxBlocks(input, gates * hidden, w.values as Float32Array, d * gates * hidden * inputWidth, inputWidth, hidden, blocks);
-      const bias = new Float32Array(gates * hidden);
-      let candidateBias: Float32Array | null = null;
-      if (b !== null) {
-        const bv = b.values as Float32Array;
-        const base = d * 2 * gates * hidden;
-        blocks.forEach((onnxBlock, block) => {
-          for (let j = 0; j < hidden; j++) {
-            const wb = bv[base + onnxBlock * hidden + j];
-            const rb = bv[base + gates * hidden + onnxBlock * hidden + j];
-            bias[block * hidden + j] = kind === 'gru' && resetAfter && block === 2 ? wb : sumBiases(wb, rb);
-          }
-        });
-        if (kind === 'gru' && resetAfter) candidateBias = Float32Array.from(bv.subarray(base + 5 * hidden, base + 6 * hidden));
-      }
-      if (kind === 'gru' && resetAfter && candidateBias === null) candidateBias = new Float32Array(hidden);
-      const rv = r.values as Float32Array;
-      const rOffset = d * gates * hidden * hidden;
-      if (kind === 'gru') {
-        const recurrentZr = new Float32Array(hidden * 2 * hidden);
-        fromOnnxBlocks(recurrentZr, 2 * hidden, rv, rOffset, hidden, hidden, [0, 1]);
-        const recurrentCandidate = new Float32Array(hidden * hidden);
-        fromOnnxBlocks(recurrentCandidate, hidden, rv, rOffset, hidden, hidden, [2]);
-        tensors.push(
-          { name: `${prefix}.input`, shape: [inputWidth, 3 * hidden], values: input },
-          { name: `${prefix}.bias`, shape: [3 * hidden], values: bias },
-          { name: `${prefix}.recurrent`, shape: [hidden, 2 * hidden], values: recurrentZr },
-          { name: `${prefix}.recurrentCandidate`, shape: [hidden, hidden], values: recurrentCandidate },
-        );
-        if (candidateBias !== null) tensors.push({ name: `${prefix}.recurrentCandidateBias`, shape: [hidden], values: candidateBias });
-      } else {
-        const recurrentWeights = new Float32Array(hidden * gates * hidden);
-        fromOnnxBlocks(recurrentWeights, gates * hidden, rv, rOffset, hidden, hidden, blocks);
-        tensors.push(
-          { name: `${prefix}.input`, shape: [inputWidth, gates * hidden], values: input },
-          { name: `${prefix}.recurrent`, shape: [hidden, gates * hidden], values: recurrentWeights },
-          { name: `${prefix}.bias`, shape: [gates * hidden], values: bias },
-        );
-        if (p !== null) {
-          const pv = p.values as Float32Array;
-          const base = d * 3 * hidden;
-          const peephole = new Float32Array(3 * hidden);
-          // ONNX P is [i, o, f]; ours is [i, f, o].
-          for (let j = 0; j < hidden; j++) {
-            peephole[j] = pv[base + j];
-            peephole[hidden + j] = pv[base + 2 * hidden + j];
-            peephole[2 * hidden + j] = pv[base + hidden + j];
-          }
-          tensors.push({ name: `${prefix}.peephole`, shape: [3 * hidden], values: peephole });
-        }
-      }
-    }
+    tensors.push(...layerTensors(kind, layers.length, directions, inputWidth, hidden, resetAfter, w.values as Float32Array, r.values as Float32Array,
+      b === null ? null : (b.values as Float32Array), p === null ? null : (p.values as Float32Array)));
     const layer: { -readonly [K in keyof LayerDescription]: LayerDescription[K] } = { cell: kind, hidden };
     if (directions === 2) layer.bidirectional = true;
     if (kind === 'lstm' && p !== null) layer.peepholes = true;
@@ -414,63 +326,4 @@ function biasOf(node: OnnxNode, index: number, slot: number, width: number, cons
   const count = bias.dims.reduce((n, d) => n * d, 1);
   if (count !== width || bias.dims[bias.dims.length - 1] !== width) fail('bad_data', `${nodeLabel(node, index)}.input[${slot}] ("${node.inputs[slot]}")`, `a bias of ${width} values`, JSON.stringify(bias.dims));
   return Float32Array.from(bias.values as Float32Array);
-}
-
-/** The axes after one glue node, or an error saying what the node would do to them. */
-function moveAxes(node: OnnxNode, index: number, axes: Axes, constants: Map<string, OnnxTensor>): Axes {
-  const where = nodeLabel(node, index);
-  const labels = axes.labels;
-  const size = (label: string): number | undefined => axes.sizes[label];
-  const normalise = (axis: number): number => (axis < 0 ? axis + labels.length : axis);
-  if (node.opType === 'Identity') return axes;
-  if (node.opType === 'Transpose') {
-    const perm = attribute(node, 'perm')?.ints ?? labels.map((_, i) => labels.length - 1 - i);
-    if (perm.length !== labels.length || [...perm].sort().some((v, i) => v !== i)) fail('invalid_option', `${where}.perm`, `a permutation of ${labels.length} axes`, JSON.stringify(perm));
-    return { labels: perm.map((i) => labels[i]), sizes: axes.sizes };
-  }
-  if (node.opType === 'Squeeze') {
-    const axesInput = node.inputs[1];
-    const list = axesInput !== undefined && axesInput !== '' ? (constants.get(axesInput)?.values as readonly number[] | undefined) : attribute(node, 'axes')?.ints;
-    if (list === undefined) fail('invalid_option', `${where}.axes`, 'constant axes (the direction axis)', 'none or computed');
-    const removed = list.map(normalise);
-    for (const axis of removed) {
-      if (labels[axis] !== 'd' || size('d') !== 1) fail('invalid_option', `${where}.axes`, 'the direction axis of a one-direction layer', `axis ${axis} (${labels[axis] ?? 'none'})`);
-    }
-    return { labels: labels.filter((_, i) => !removed.includes(i)).map((l) => (l === 'h' ? 'f' : l)), sizes: axes.sizes };
-  }
-  // Reshape: copy axes (0), merge direction and hidden into features, or flatten time and batch into rows.
-  const shapeName = node.inputs[1];
-  const shape = shapeName === undefined ? undefined : constants.get(shapeName);
-  if (shape === undefined) fail('invalid_option', `${where}.input[1]`, 'a constant shape', shapeName === undefined ? 'none' : `"${shapeName}", computed`);
-  const entries = Array.from(shape.values as ArrayLike<number>);
-  const out: string[] = [];
-  let p = 0;
-  const merged = (from: number): number => (labels[from] === 'd' && labels[from + 1] === 'h' ? 2 : 0);
-  for (let i = 0; i < entries.length; i++) {
-    const entry = entries[i];
-    if (entry === 0 && p === i && p < labels.length) {
-      out.push(labels[p++]);
-    } else if (entry === -1 && i === entries.length - 1) {
-      const rest = labels.slice(p);
-      if (rest.length === 1) out.push(rest[0]);
-      else if (rest.join() === 'd,h') out.push('f');
-      else fail('invalid_option', `${where}.shape`, 'the last axes as one of features (direction, hidden)', `[${rest.join(', ')}]`);
-      p = labels.length;
-    } else if (entry === -1 && i === 0 && entries.length === 2) {
-      const lead = labels.slice(0, labels.length - (merged(labels.length - 2) === 2 ? 2 : 1));
-      if (lead.join() !== 't,b' && lead.join() !== 'b,t') fail('invalid_option', `${where}.shape`, 'rows of time and batch', `[${lead.join(', ')}]`);
-      out.push(lead.join() === 't,b' ? 'n' : 'n-batch-major');
-      p = lead.length;
-    } else if (entry > 0 && merged(p) === 2 && entry === size('f')) {
-      out.push('f');
-      p += 2;
-    } else if (entry > 0 && size(labels[p]) === entry) {
-      out.push(labels[p] === 'h' && size('d') === 1 ? 'f' : labels[p]);
-      p++;
-    } else {
-      fail('invalid_option', `${where}.shape`, `a reshape weft can follow of axes [${labels.join(', ')}]`, JSON.stringify(entries));
-    }
-  }
-  if (p !== labels.length) fail('invalid_option', `${where}.shape`, `a shape covering every axis of [${labels.join(', ')}]`, JSON.stringify(entries));
-  return { labels: out, sizes: axes.sizes };
 }

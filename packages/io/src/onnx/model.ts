@@ -3,6 +3,9 @@
  * ModelProto, GraphProto, NodeProto, AttributeProto, TensorProto, ValueInfoProto and the small ones around them —
  * decoded from and encoded to the protobuf wire format. Field numbers are the schema's. Tensor data is checked
  * against its dims and type before anything is copied; data held outside the file (`external_data`) is refused.
+ *
+ * Why one file of this length: decoding and encoding are the two halves of one schema, kept side by side so a field
+ * number is read and written in one place.
  */
 import { fail } from '@weft/core';
 import { ProtoWriter, bytesOf, floatsOf, int64Of, int64sOf, littleEndian, readFields, requireWire, stringOf } from './protobuf.js';
