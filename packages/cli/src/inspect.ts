@@ -3,6 +3,9 @@ import { loadWeightFile } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { CommandError } from './errors.js';
 import { shown } from './terminal.js';
+import { importSummary, isWeightFileText, readBytes } from './convert.js';
+import { WeftError, describeProblem } from '@weft/core';
+import { decodeOnnxModel, importOnnx } from '@weft/io/onnx';
 
 export const inspectFlags: FlagSpec[] = [
   { name: 'json', switch: true, description: 'print the summary as JSON' },
@@ -14,6 +17,8 @@ const bytesPer = { f32: 4, f16: 2, i8: 1 } as const;
 export async function inspect(args: ParsedArgs): Promise<string> {
   const [path] = args.positional;
   if (path === undefined) throw new CommandError('weft inspect needs a weight file (see weft inspect --help)', 2);
+  const bytes = readBytes(path);
+  if (!isWeightFileText(bytes)) return inspectOnnx(path, bytes);
   const file = await loadWeightFile(path, { verifyDigest: 'report' });
   const rows = file.tensors.map((t) => {
     const dtype = file.storedAs[t.name];
@@ -46,6 +51,32 @@ export async function inspect(args: ParsedArgs): Promise<string> {
     // The report still goes where reports go; the failure is one line on standard error and exit 1.
     process.stdout.write(`${lines.join('\n')}\n`);
     throw new CommandError(`${shown(path)}: the SHA-256 digest does not match the tensor bytes (the file was changed or damaged)`, 1);
+  }
+  return lines.join('\n');
+}
+
+/** What an ONNX file holds (its nodes, inputs, outputs and constants), and what importing it gives, or why not. */
+function inspectOnnx(path: string, bytes: Uint8Array): string {
+  const model = decodeOnnxModel(bytes, path);
+  const g = model.graph;
+  const dims = (d: readonly (number | string | null)[] | null) => (d === null ? '[?]' : `[${d.map((x) => (x === null ? '?' : String(x))).join(', ')}]`);
+  const lines = [`${shown(path)}: ONNX model, IR version ${model.irVersion}, operator sets ${model.opsets.map((o) => `${o.domain === '' ? 'ai.onnx' : shown(o.domain)} ${o.version}`).join(', ')}${model.producerName === '' ? '' : `, written by ${shown(model.producerName)}${model.producerVersion === '' ? '' : ` ${shown(model.producerVersion)}`}`}`];
+  lines.push('', 'inputs:', ...g.inputs.map((i) => `  ${shown(i.name)} ${dims(i.dims)}${g.initializers.some((t) => t.name === i.name) ? ' (has an initializer)' : ''}`));
+  lines.push('', 'outputs:', ...g.outputs.map((o) => `  ${shown(o.name)} ${dims(o.dims)}`));
+  lines.push('', 'nodes:');
+  g.nodes.forEach((n, i) => {
+    const attributes = n.attributes.map((a) => `${shown(a.name)}=${shown(JSON.stringify(a.i ?? a.f ?? a.s ?? a.ints ?? a.floats ?? a.strings ?? '…'))}`).join(' ');
+    lines.push(`  ${String(i).padStart(3)} ${shown(n.opType).padEnd(10)} ${n.inputs.map((x) => (x === '' ? '-' : shown(x))).join(', ')} → ${n.outputs.map((x) => (x === '' ? '-' : shown(x))).join(', ')}${attributes === '' ? '' : `  (${attributes})`}`);
+  });
+  const parameters = g.initializers.reduce((n, t) => n + t.values.length, 0);
+  lines.push('', `constants: ${g.initializers.length} tensors, ${parameters} values`);
+  const metadata = Object.keys(model.metadata);
+  if (metadata.length > 0) lines.push(`metadata: ${metadata.map((key) => shown(key)).join(', ')}`);
+  try {
+    lines.push('', `import: ${importSummary(importOnnx(model))}`);
+  } catch (error) {
+    if (!(error instanceof WeftError)) throw error;
+    lines.push('', `import: not possible as it is: ${shown(describeProblem(error.problems[0]))}`);
   }
   return lines.join('\n');
 }

@@ -1,6 +1,6 @@
 #!/usr/bin/env node
 /**
- * The `weft` command. Verbs: train, run, score, sample, inspect, check; `--help` on each, `--version`. Errors are one
+ * The `weft` command. Verbs: train, run, score, sample, inspect, convert, check; `--help` on each, `--version`. Errors are one
  * line on stderr with a non-zero exit (2 for a misused command), and a stack trace only with --debug.
  */
 import { readFileSync, realpathSync } from 'node:fs';
@@ -9,6 +9,7 @@ import { WeftError, describeProblem } from '@weft/core';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { helpText, parseArgs } from './args.js';
 import { check, checkFlags } from './check.js';
+import { convert, convertFlags } from './convert.js';
 import { endQuietlyOnClosedPipes, line } from './terminal.js';
 import { CommandError } from './errors.js';
 import { inspect, inspectFlags } from './inspect.js';
@@ -76,6 +77,16 @@ const verbs: Record<string, Verb> = {
     flags: scoreFlags,
     act: async (args) => {
       process.stdout.write(await score(args));
+      return 0;
+    },
+  },
+  convert: {
+    summary: 'convert between ONNX and weft: an .onnx model to a weight file, a weight file to an .onnx model',
+    usage: 'weft convert FILE [flags]',
+    example: 'weft convert greenhouse.weft.json --out greenhouse.onnx',
+    flags: convertFlags,
+    act: async (args) => {
+      write(await convert(args));
       return 0;
     },
   },

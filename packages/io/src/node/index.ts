@@ -47,16 +47,18 @@ function removeLeftovers(path: string): void {
 }
 
 /**
- * Writes `text` to `path` atomically (temporary file in the same folder, flush, rename). The temporary name holds
- * the process id and a random part, so two saves never share one; leftovers of killed saves are removed first.
+ * Writes `text` (or bytes) to `path` atomically (temporary file in the same folder, flush, rename). The temporary
+ * name holds the process id and a random part, so two saves never share one; leftovers of killed saves are removed
+ * first.
  */
-export function writeFileAtomic(path: string, text: string): void {
+export function writeFileAtomic(path: string, text: string | Uint8Array): void {
   removeLeftovers(path);
   const temporary = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(8).toString('hex')}.tmp`);
   let descriptor: number | null = null;
   try {
     descriptor = openSync(temporary, 'w');
-    writeSync(descriptor, text);
+    if (typeof text === 'string') writeSync(descriptor, text);
+    else writeSync(descriptor, text, 0, text.length);
     fsyncSync(descriptor);
     closeSync(descriptor);
     descriptor = null;

@@ -4,7 +4,7 @@ import { readWeightFile, writeWeightFile } from '../weight-file.js';
 import { exportOnnx } from './export.js';
 import type { OnnxExportOptions } from './export.js';
 import { importOnnx } from './import.js';
-import type { OnnxImportOptions } from './import.js';
+import type { OnnxImport, OnnxImportOptions } from './import.js';
 import { decodeOnnxModel, encodeOnnxModel } from './model.js';
 
 /** How `weightFileFromOnnx` reads the ONNX file. */
@@ -18,7 +18,11 @@ export interface OnnxReadOptions extends OnnxImportOptions {
  * binds to the ONNX graph (metadata `onnx`, see OnnxBinding).
  */
 export async function weightFileFromOnnx(bytes: Uint8Array, options: OnnxReadOptions = {}): Promise<string> {
-  const imported = importOnnx(decodeOnnxModel(bytes, options.file ?? 'model.onnx'), options);
+  return importedWeightFile(importOnnx(decodeOnnxModel(bytes, options.file ?? 'model.onnx'), options));
+}
+
+/** An import's weight-file text: its model and tensors, with the file's weft metadata and the binding as `onnx`. */
+export async function importedWeightFile(imported: OnnxImport): Promise<string> {
   return writeWeightFile(imported.description, imported.tensors, { metadata: { ...imported.metadata, onnx: imported.binding } });
 }
 

@@ -9,4 +9,4 @@ export { importOnnx } from './import.js';
 export type { OnnxExportOptions } from './export.js';
 export { ONNX_IR_VERSION, ONNX_OPSET, exportOnnx } from './export.js';
 export type { OnnxReadOptions } from './convert.js';
-export { onnxFromWeightFile, weightFileFromOnnx } from './convert.js';
+export { importedWeightFile, onnxFromWeightFile, weightFileFromOnnx } from './convert.js';
