@@ -18,8 +18,9 @@ import { gateBlocks, toOnnxBlocks } from './mapping.js';
 import type { OnnxModel, OnnxNode, OnnxTensor } from './model.js';
 import { ONNX_FLOAT, ONNX_INT32, ONNX_INT64 } from './model.js';
 
-/** The operator set and IR version weft writes. */
+/** The operator set weft writes. */
 export const ONNX_OPSET = 22;
+/** The IR version weft writes: the one that goes with operator set 22. */
 export const ONNX_IR_VERSION = 10;
 
 /** How `exportOnnx` writes the model. */

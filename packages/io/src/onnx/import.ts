@@ -36,23 +36,44 @@ export interface OnnxImportOptions {
   readonly values?: Readonly<Record<string, OnnxTensor>>;
 }
 
+/** A graph value by name, and what it holds. */
+export interface OnnxBoundInput {
+  /** The graph input's name. */
+  readonly name: string;
+  /** Numbers, or token ids. */
+  readonly kind: 'values' | 'tokens';
+}
+
+/** The graph values holding a layer's state: h, and c for an LSTM (null where the graph has none). */
+export interface OnnxStateNames {
+  /** The hidden state's value. */
+  readonly h: string | null;
+  /** The LSTM cell state's value. */
+  readonly c: string | null;
+}
+
+/** A graph output and the axes it has. */
+export interface OnnxBoundOutput {
+  /** The graph output's name ('' when the graph gives only final states). */
+  readonly name: string;
+  /** Its axes: t time, b batch, d direction, h hidden, f features, v readout values, n rows of time and batch. */
+  readonly axes: readonly string[];
+}
+
 /** How the imported model meets the ONNX graph's inputs and outputs (kept in the weight file's metadata as `onnx`). */
 export interface OnnxBinding {
   /** The graph input the model reads, and whether it holds numbers or token ids. */
-  readonly input: { readonly name: string; readonly kind: 'values' | 'tokens' };
+  readonly input: OnnxBoundInput;
   /** ONNX `layout` of the first recurrent node: 0 is [steps, batch, …], 1 is [batch, steps, …]. */
   readonly layout: 0 | 1;
   /** The graph input holding each row's length (`sequence_lens`), or null. */
   readonly lengths: string | null;
   /** Per layer, the graph inputs holding its initial h and c ([directions, batch, hidden]), or null. */
-  readonly initialState: readonly { readonly h: string | null; readonly c: string | null }[];
-  /**
-   * The graph output the model's outputs correspond to, and the axes it has: t time, b batch, d direction, h hidden,
-   * f features, v readout values, n rows of time and batch; name '' when the graph gives only final states.
-   */
-  readonly output: { readonly name: string; readonly axes: readonly string[] };
+  readonly initialState: readonly OnnxStateNames[];
+  /** The graph output the model's outputs correspond to, and the axes it has. */
+  readonly output: OnnxBoundOutput;
   /** Per layer, graph outputs that are its final states (Y_h, Y_c), when the graph gives them. */
-  readonly states: readonly { readonly h: string | null; readonly c: string | null }[];
+  readonly states: readonly OnnxStateNames[];
   /** Softmax or LogSoftmax applied after the readout in the ONNX graph (weft models give the logits). */
   readonly outputFunction: 'none' | 'softmax' | 'logSoftmax';
   /** The operator set version the file imports. */

@@ -91,12 +91,20 @@ export interface OnnxGraph {
   readonly outputs: readonly OnnxValueInfo[];
 }
 
+/** One operator set a model imports. */
+export interface OnnxOperatorSet {
+  /** Its domain ('' is the default ONNX domain). */
+  readonly domain: string;
+  /** Its version. */
+  readonly version: number;
+}
+
 /** A model: the IR version, the operator sets it imports, its graph and its metadata. */
 export interface OnnxModel {
   /** The IR version the file follows. */
   readonly irVersion: number;
   /** Operator sets used, by domain ('' is the default ONNX domain). */
-  readonly opsets: readonly { readonly domain: string; readonly version: number }[];
+  readonly opsets: readonly OnnxOperatorSet[];
   /** The program that wrote the file. */
   readonly producerName: string;
   /** Its version. */
