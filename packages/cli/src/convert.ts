@@ -30,11 +30,16 @@ export function readBytes(path: string): Uint8Array {
   }
 }
 
-/** True when the bytes look like a weight file (JSON text) rather than an ONNX file (protobuf). */
-export function isWeightFileText(bytes: Uint8Array): boolean {
+/**
+ * True when the file is a weight file (JSON text) rather than an ONNX file (protobuf): by its name's ending where it
+ * has one of the two, else by its first character (a protobuf file never starts with `{` or `[`).
+ */
+export function isWeightFileText(bytes: Uint8Array, path = ''): boolean {
+  if (/\.onnx$/i.test(path)) return false;
+  if (/\.json$/i.test(path)) return true;
   for (const byte of bytes) {
     if (byte === 0x20 || byte === 0x0a || byte === 0x0d || byte === 0x09 || byte === 0xef || byte === 0xbb || byte === 0xbf) continue;
-    return byte === 0x7b;
+    return byte === 0x7b || byte === 0x5b;
   }
   return false;
 }
@@ -64,7 +69,7 @@ export async function convert(args: ParsedArgs): Promise<string> {
   if (path === undefined) throw new CommandError('weft convert needs a file: an .onnx model or a weight file (see weft convert --help)', 2);
   const bytes = readBytes(path);
   const name = basename(path);
-  if (isWeightFileText(bytes)) {
+  if (isWeightFileText(bytes, path)) {
     if (args.flags.has('values')) throw new CommandError('--values is for ONNX files; this is a weight file', 2);
     const file = await readWeightFile(new TextDecoder().decode(bytes));
     const onnx = exportOnnx(file, { lengths: args.switches.has('lengths') });

@@ -18,7 +18,7 @@ export async function inspect(args: ParsedArgs): Promise<string> {
   const [path] = args.positional;
   if (path === undefined) throw new CommandError('weft inspect needs a weight file (see weft inspect --help)', 2);
   const bytes = readBytes(path);
-  if (!isWeightFileText(bytes)) return inspectOnnx(path, bytes);
+  if (!isWeightFileText(bytes, path)) return inspectOnnx(path, bytes);
   const file = await loadWeightFile(path, { verifyDigest: 'report' });
   const rows = file.tensors.map((t) => {
     const dtype = file.storedAs[t.name];

@@ -43,7 +43,7 @@ describe('weft convert', () => {
     writeFileSync(join(folder, 'notes.txt'), 'not a model');
     expectOneLineError(weft(['convert', 'notes.txt']), 1, /^weft: Bad data at notes\.txt @\d+: /);
     expectOneLineError(weft(['convert', 'pump.weft.json', '--values', 'W=x.pb']), 2, /^weft: --values is for ONNX files; this is a weight file$/);
-    expect([isWeightFileText(new TextEncoder().encode(' \n{"format"')), isWeightFileText(Uint8Array.of(8, 10))]).toEqual([true, false]);
+    expect([isWeightFileText(new TextEncoder().encode(' \n{"format"')), isWeightFileText(Uint8Array.of(8, 10)), isWeightFileText(Uint8Array.of(8), 'a.json'), isWeightFileText(Uint8Array.of(0x7b), 'b.onnx')]).toEqual([true, false, true, false]);
   });
 });
 
