@@ -5,4 +5,4 @@
 export type { AnyModelDescription, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
 export { MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
-export { cellLayout, layerPath, modelLayout, parameterLayout } from './layout.js';
+export { cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';

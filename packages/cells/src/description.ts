@@ -44,6 +44,11 @@ export interface LayerDescription {
   readonly hidden: number;
   /** Run a second cell backward in time and join both outputs (width 2 × hidden); default false. */
   readonly bidirectional?: boolean;
+  /**
+   * Run the layer's one cell backward in time only (each row from its last valid step to its first; outputs put back
+   * in time order), its parameters named `backward`; default false. Not with `bidirectional`.
+   */
+  readonly reverse?: boolean;
   /** LSTM only. */
   readonly peepholes?: boolean;
   /** LSTM only. */
@@ -73,9 +78,9 @@ export interface ModelDescription {
 }
 
 const layerKeys: Record<string, readonly string[]> = {
-  lstm: ['cell', 'hidden', 'bidirectional', 'peepholes', 'forgetBias'],
-  gru: ['cell', 'hidden', 'bidirectional', 'resetAfterProduct'],
-  plain: ['cell', 'hidden', 'bidirectional', 'activation'],
+  lstm: ['cell', 'hidden', 'bidirectional', 'reverse', 'peepholes', 'forgetBias'],
+  gru: ['cell', 'hidden', 'bidirectional', 'reverse', 'resetAfterProduct'],
+  plain: ['cell', 'hidden', 'bidirectional', 'reverse', 'activation'],
 };
 
 /**
@@ -151,6 +156,8 @@ export function describeProblems(value: unknown, path = 'description', customKin
       const hidden = hiddenProblem(layer.hidden);
       if (hidden !== null) add(`${where}.hidden`, hidden, layer.hidden);
       if (layer.bidirectional !== undefined && typeof layer.bidirectional !== 'boolean') add(`${where}.bidirectional`, 'true or false', layer.bidirectional);
+      if (layer.reverse !== undefined && typeof layer.reverse !== 'boolean') add(`${where}.reverse`, 'true or false', layer.reverse);
+      if (layer.reverse === true && layer.bidirectional === true) add(`${where}.reverse`, 'not with bidirectional (a bidirectional layer reads both ways already)', true);
       if (typeof kind === 'string' && Object.prototype.hasOwnProperty.call(layerKeys, kind)) {
         for (const key of Object.keys(layer)) {
           if (!layerKeys[kind].includes(key)) add(`${where}.${key}`, `no such field for a ${kind} layer (${layerKeys[kind].join(', ')})`, layer[key]);

@@ -83,6 +83,18 @@ function runComposed(tape: Tape, cell: RecurrentCell, inputs: Tensor, state: rea
 }
 
 /**
+ * Backward only: the cell reads each row reversed within its own length, and its outputs are put back in time order
+ * (the backward half of a bidirectional layer, alone).
+ */
+export function runReversed(tape: Tape, cell: RecurrentCell, inputs: Tensor, options: SequenceOptions = {}, where = 'layer'): SequenceResult {
+  checkSequence(where, cell, inputs);
+  const [steps, rows] = inputs.shape;
+  const lengths = checkLengths(where, options.lengths, steps, rows);
+  const behind = runSequence(tape, cell, reverseWithinLengths(tape, inputs, lengths), { lengths, initialState: options.initialState }, `${where}.backward`);
+  return { outputs: reverseWithinLengths(tape, behind.outputs, lengths), state: behind.state };
+}
+
+/**
  * Both directions: the forward cell reads the rows in time order, the backward cell reads each row reversed
  * within its own length; outputs are concatenated along the features [forward | backward], each at its own
  * time step. The state lists the forward cell's slots, then the backward cell's.

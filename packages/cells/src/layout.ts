@@ -44,6 +44,12 @@ export interface ModelLayout {
   readonly builtIn: boolean;
 }
 
+/** The cells a layer runs, by the direction each reads: forward, backward (a reverse layer), or both. */
+export function layerDirections(layer: LayerDescription): readonly ('forward' | 'backward')[] {
+  if (layer.bidirectional === true) return ['forward', 'backward'];
+  return layer.reverse === true ? ['backward'] : ['forward'];
+}
+
 /** The path of one direction's cell of layer `index`, in parameter names and messages alike: `layers[0].forward`. */
 export function layerPath(index: number, direction: 'forward' | 'backward'): string {
   return `layers[${index}].${direction}`;
@@ -90,7 +96,7 @@ export function modelLayout(description: ModelDescription): ModelLayout {
   if (input.kind === 'embedding') parameters.push({ name: 'embedding.table', shape: [input.vocabulary, input.width] });
   let width = input.width;
   description.layers.forEach((layer, i) => {
-    const directions = layer.bidirectional === true ? (['forward', 'backward'] as const) : (['forward'] as const);
+    const directions = layerDirections(layer);
     for (const direction of directions) {
       const cell = cellLayout(layer, width);
       if (cell === null) builtIn = false;

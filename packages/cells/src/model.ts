@@ -18,10 +18,10 @@ import type { LayerDescription, ModelDescription } from './description.js';
 import { checkDescription } from './description.js';
 import { GruCell } from './gru.js';
 import { fillUniform, glorotBound } from './init.js';
-import { checkLengths, runBidirectional, runSequence } from './layer.js';
+import { checkLengths, runBidirectional, runReversed, runSequence } from './layer.js';
 import { LstmCell } from './lstm.js';
 import { PlainCell } from './plain.js';
-import { layerPath } from './layout.js';
+import { layerDirections, layerPath } from './layout.js';
 import { createParameter } from './recurrence.js';
 import { zeroBeyondLengths } from './sequence-ops.js';
 
@@ -91,9 +91,9 @@ export interface ModelRunResult {
 
 /** One layer's cells. */
 export interface ModelLayer {
-  /** The cell that reads forward in time. */
-  readonly forward: RecurrentCell;
-  /** The cell that reads backward in time, for a bidirectional layer; else null. */
+  /** The cell that reads forward in time; null for a reverse layer. */
+  readonly forward: RecurrentCell | null;
+  /** The cell that reads backward in time, for a bidirectional or a reverse layer; else null. */
   readonly backward: RecurrentCell | null;
 }
 
@@ -150,10 +150,11 @@ export class SequenceModel {
         for (const p of cell.parameters()) p.tensor.name = `${name}.${p.name}`;
         return cell;
       };
-      const forward = make('forward');
-      const backward = layer.bidirectional === true ? make('backward') : null;
+      const directions = layerDirections(layer);
+      const forward = directions.includes('forward') ? make('forward') : null;
+      const backward = directions.includes('backward') ? make('backward') : null;
       layers.push({ forward, backward });
-      width = forward.hidden + (backward?.hidden ?? 0);
+      width = (forward?.hidden ?? 0) + (backward?.hidden ?? 0);
     });
     this.layers = layers;
     const readout = checked.readout;
@@ -216,13 +217,15 @@ export class SequenceModel {
     let offset = 0;
     this.layers.forEach((layer, i) => {
       if (i > 0 && training && rate > 0) features = dropout(tape, features, rate, options.random as Random);
-      const count = layer.forward.state.length + (layer.backward?.state.length ?? 0);
+      const count = (layer.forward?.state.length ?? 0) + (layer.backward?.state.length ?? 0);
       const initialState = given?.slice(offset, offset + count);
       offset += count;
       const where = `layers[${i}]`;
-      const result = layer.backward === null
-        ? runSequence(tape, layer.forward, features, { lengths, initialState }, where)
-        : runBidirectional(tape, layer.forward, layer.backward, features, { lengths, initialState }, where);
+      const result = layer.forward === null
+        ? runReversed(tape, layer.backward as RecurrentCell, features, { lengths, initialState }, where)
+        : layer.backward === null
+          ? runSequence(tape, layer.forward, features, { lengths, initialState }, where)
+          : runBidirectional(tape, layer.forward, layer.backward, features, { lengths, initialState }, where);
       features = result.outputs;
       state.push(...result.state);
     });

@@ -45,4 +45,12 @@ describe('model descriptions', () => {
       'description.decoder.layers[0]: expected a lstm layer of 4 (as the encoder\'s), received gru of 4',
     ]);
   });
+
+  it('take a reverse layer, but not one that is also bidirectional', () => {
+    const base = { input: { kind: 'values', width: 2 } };
+    expect(describeProblems({ ...base, layers: [{ cell: 'plain', hidden: 3, reverse: true }] })).toEqual([]);
+    expect(describeProblems({ ...base, layers: [{ cell: 'plain', hidden: 3, reverse: true, bidirectional: true }] }).map((p) => `${p.path}: expected ${p.expected}`)).toEqual([
+      'description.layers[0].reverse: expected not with bidirectional (a bidirectional layer reads both ways already)',
+    ]);
+  });
 });

@@ -1,6 +1,6 @@
 import { describe, expect, it } from 'vitest';
 import { Random, Tape, tensor, zeros } from '@weft/core';
-import { LstmCell, buildModel, runSequence } from '@weft/cells';
+import { LstmCell, buildModel, runBidirectional, runReversed, runSequence } from '@weft/cells';
 import { cellCases, f64Input } from './helpers.js';
 
 const T = 6;
@@ -70,5 +70,20 @@ describe('sequence layers', () => {
     expect(() => runSequence(tape, cell, tensor(new Array(6).fill(0), [1, 2, 3]), {}, 'layers[0]')).toThrowError(
       'Dtype mismatch at layers[0].inputs: expected f64, received f32',
     );
+  });
+
+  it('runs a reverse layer as the backward half of a bidirectional one: same outputs, same final state', () => {
+    const random = new Random('reverse');
+    const cell = new LstmCell({ inputWidth: 3, hidden: 2, random: 4 });
+    const other = new LstmCell({ inputWidth: 3, hidden: 2, random: 5 });
+    const inputs = tensor(Float32Array.from({ length: 5 * 3 * 3 }, () => random.between(-1, 1)), [5, 3, 3]);
+    const lengths = Int32Array.of(5, 2, 0);
+    const both = runBidirectional(new Tape(), other, cell, inputs, { lengths });
+    const alone = runReversed(new Tape(), cell, inputs, { lengths });
+    for (let p = 0; p < 15; p++) for (let j = 0; j < 2; j++) expect(alone.outputs.data[p * 2 + j]).toBe(both.outputs.data[p * 4 + 2 + j]);
+    expect(Array.from(alone.state[0].data)).toEqual(Array.from(both.state[2].data));
+    const model = buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'gru', hidden: 2, reverse: true }] });
+    expect(model.parameters().map((p) => p.name)).toEqual(['layers[0].backward.input', 'layers[0].backward.bias', 'layers[0].backward.recurrent', 'layers[0].backward.recurrentCandidate']);
+    expect(model.stateSlots().map((s) => s.path)).toEqual(['layers[0].backward.h']);
   });
 });

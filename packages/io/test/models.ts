@@ -13,6 +13,7 @@ export const descriptions: Record<string, ModelDescription> = {
   'GRU (reset after)': { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'gru', hidden: 6, resetAfterProduct: true }] },
   stacked: { input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 6, peepholes: true }, { cell: 'gru', hidden: 5, resetAfterProduct: true }, { cell: 'plain', hidden: 4 }], readout: { width: 2 } },
   bidirectional: { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'gru', hidden: 5, bidirectional: true }, { cell: 'lstm', hidden: 4, bidirectional: true, peepholes: true }], readout: { width: 3 } },
+  reverse: { input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 5, reverse: true, peepholes: true }, { cell: 'gru', hidden: 4 }], readout: { width: 2 } },
 };
 
 /** A model with every parameter moved off its initial values (biases and peepholes included). */

@@ -1,5 +1,5 @@
 /**
- * weft to ONNX: a sequence model (built-in cells, stacked, bidirectional, embedding, readout) as an ONNX model of the
+ * weft to ONNX: a sequence model (built-in cells, stacked, bidirectional or reverse, embedding, readout) as an ONNX model of the
  * operators LSTM, GRU, RNN, Gather, Transpose, Reshape, Squeeze, MatMul and Add at operator set 22 (the newest that
  * defines them as used here, all at this form since set 22 or earlier) and IR version 10, the version that goes
  * with set 22. Inputs and outputs are named: `input` [steps, batch, width] (FLOAT) or `tokens` [steps, batch]
@@ -11,7 +11,7 @@
  * recurrent bias goes to its Rb block), so every weight survives the round trip bit for bit.
  */
 import { fail } from '@weft/core';
-import { isEncoderDecoder, layerPath } from '@weft/cells/description';
+import { isEncoderDecoder, layerDirections, layerPath } from '@weft/cells/description';
 import type { ModelDescription } from '@weft/cells/description';
 import type { WeightFile } from '../weight-file.js';
 import { gateBlocks, toOnnxBlocks } from './mapping.js';
@@ -78,8 +78,9 @@ export function exportOnnx(file: WeightFile, options: OnnxExportOptions = {}): O
     const b = new Float32Array(directions * 2 * gates * hidden);
     const p = kind === 'lstm' && layer.peepholes === true ? new Float32Array(directions * 3 * hidden) : null;
     const blocks = gateBlocks[kind];
+    const cells = layerDirections(layer);
     for (let d = 0; d < directions; d++) {
-      const prefix = layerPath(i, d === 0 ? 'forward' : 'backward');
+      const prefix = layerPath(i, cells[d]);
       toOnnxBlocks(w, d * gates * hidden * width, take(`${prefix}.input`), gates * hidden, width, hidden, blocks);
       const bias = take(`${prefix}.bias`);
       blocks.forEach((onnxBlock, block) => {
@@ -108,7 +109,7 @@ export function exportOnnx(file: WeightFile, options: OnnxExportOptions = {}): O
     if (p !== null) args.push('', '', floats(`${name}.P`, [directions, 3 * hidden], p));
     const attributes: OnnxNode['attributes'][number][] = [
       { name: 'hidden_size', type: 2, i: hidden },
-      { name: 'direction', type: 3, s: directions === 2 ? 'bidirectional' : 'forward' },
+      { name: 'direction', type: 3, s: directions === 2 ? 'bidirectional' : layer.reverse === true ? 'reverse' : 'forward' },
     ];
     if (kind === 'gru') attributes.push({ name: 'linear_before_reset', type: 2, i: layer.resetAfterProduct === true ? 1 : 0 });
     if (kind === 'plain') attributes.push({ name: 'activations', type: 8, strings: Array.from({ length: directions }, () => (layer.activation === 'relu' ? 'Relu' : 'Tanh')) });

@@ -1,5 +1,5 @@
 /**
- * ONNX to weft: a graph that is a recurrent stack — LSTM, GRU and RNN nodes (forward or bidirectional,
+ * ONNX to weft: a graph that is a recurrent stack — LSTM, GRU and RNN nodes (any direction,
  * `sequence_lens`, `initial_h`/`initial_c`, peepholes `P`, `layout` 0 and 1, `linear_before_reset` 0 and 1, the
  * default activations, or Relu for RNN), optionally a row gather from a constant table before it (an embedding) and a
  * readout after it (MatMul + Add, or Gemm on rows flattened by a Reshape) with Softmax or LogSoftmax — becomes a weft
@@ -178,7 +178,7 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
   recurrent.forEach(([node, index], layerIndex) => {
     const where = nodeLabel(node, index);
     used.add(index);
-    const { kind, gates, directions, layout: nodeLayout, activation, resetAfter } = recurrentForm(node, index);
+    const { kind, gates, directions, reverse, layout: nodeLayout, activation, resetAfter } = recurrentForm(node, index);
     if (layerIndex === 0) {
       layout = nodeLayout;
     } else {
@@ -233,10 +233,11 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
     }
 
     // The tensors, direction by direction, in weft's names and layouts.
-    tensors.push(...layerTensors(kind, layers.length, directions, inputWidth, hidden, resetAfter, w.values as Float32Array, r.values as Float32Array,
-      b === null ? null : (b.values as Float32Array), p === null ? null : (p.values as Float32Array)));
+    tensors.push(...layerTensors(kind, layers.length, reverse ? ['backward'] : directions === 2 ? ['forward', 'backward'] : ['forward'], inputWidth, hidden, resetAfter,
+      w.values as Float32Array, r.values as Float32Array, b === null ? null : (b.values as Float32Array), p === null ? null : (p.values as Float32Array)));
     const layer: { -readonly [K in keyof LayerDescription]: LayerDescription[K] } = { cell: kind, hidden };
     if (directions === 2) layer.bidirectional = true;
+    if (reverse) layer.reverse = true;
     if (kind === 'lstm' && p !== null) layer.peepholes = true;
     if (kind === 'gru' && resetAfter) layer.resetAfterProduct = true;
     if (kind === 'plain' && activation === 'relu') layer.activation = 'relu';

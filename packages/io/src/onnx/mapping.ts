@@ -48,14 +48,14 @@ export function sumBiases(wb: number, rb: number): number {
  * and layouts for layer `layer`.
  */
 export function layerTensors(
-  kind: 'lstm' | 'gru' | 'plain', layer: number, directions: number, inputWidth: number, hidden: number, resetAfter: boolean,
+  kind: 'lstm' | 'gru' | 'plain', layer: number, cells: readonly ('forward' | 'backward')[], inputWidth: number, hidden: number, resetAfter: boolean,
   w: Float32Array, r: Float32Array, b: Float32Array | null, p: Float32Array | null,
 ): NamedValues[] {
   const gates = kind === 'lstm' ? 4 : kind === 'gru' ? 3 : 1;
   const out: NamedValues[] = [];
   const blocks = gateBlocks[kind];
-  for (let d = 0; d < directions; d++) {
-    const prefix = layerPath(layer, d === 0 ? 'forward' : 'backward');
+  for (let d = 0; d < cells.length; d++) {
+    const prefix = layerPath(layer, cells[d]);
     const input = new Float32Array(inputWidth * gates * hidden);
     fromOnnxBlocks(input, gates * hidden, w, d * gates * hidden * inputWidth, inputWidth, hidden, blocks);
     const bias = new Float32Array(gates * hidden);

@@ -1,8 +1,7 @@
 /**
  * What an LSTM, GRU or RNN node's attributes make of it, checked against what weft runs: the cell kind, its gate
  * count, one direction or both, the layout, the plain cell's activation and the GRU's reset form. Anything else
- * (clip, input_forget, activations other than the defaults, their alpha and beta, direction reverse, an unknown
- * attribute) is refused naming the node and the attribute.
+ * (clip, input_forget, activations other than the defaults, their alpha and beta, an unknown attribute) is refused naming the node and the attribute.
  */
 import { fail } from '@weft/core';
 import { attribute, nodeLabel } from './axes.js';
@@ -13,6 +12,8 @@ export interface RecurrentForm {
   readonly kind: 'lstm' | 'gru' | 'plain';
   readonly gates: number;
   readonly directions: 1 | 2;
+  /** One direction, read backward in time (`direction` reverse). */
+  readonly reverse: boolean;
   readonly layout: 0 | 1;
   readonly activation: 'tanh' | 'relu';
   readonly resetAfter: boolean;
@@ -26,8 +27,8 @@ export function recurrentForm(node: OnnxNode, index: number): RecurrentForm {
   const kind: RecurrentForm['kind'] = node.opType === 'LSTM' ? 'lstm' : node.opType === 'GRU' ? 'gru' : 'plain';
   const gates = kind === 'lstm' ? 4 : kind === 'gru' ? 3 : 1;
   const direction = attribute(node, 'direction')?.s ?? 'forward';
-  if (direction !== 'forward' && direction !== 'bidirectional') {
-    fail('invalid_option', `${where}.direction`, "'forward' or 'bidirectional' (weft layers read forward, or both ways)", JSON.stringify(direction));
+  if (direction !== 'forward' && direction !== 'reverse' && direction !== 'bidirectional') {
+    fail('invalid_option', `${where}.direction`, "'forward', 'reverse' or 'bidirectional'", JSON.stringify(direction));
   }
   const directions: 1 | 2 = direction === 'bidirectional' ? 2 : 1;
   for (const a of node.attributes) {
@@ -50,5 +51,5 @@ export function recurrentForm(node: OnnxNode, index: number): RecurrentForm {
     }
   }
   const resetAfter = (attribute(node, 'linear_before_reset')?.i ?? 0) !== 0;
-  return { kind, gates, directions, layout, activation, resetAfter };
+  return { kind, gates, directions, reverse: direction === 'reverse', layout, activation, resetAfter };
 }

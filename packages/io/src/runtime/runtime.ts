@@ -25,9 +25,13 @@ import type { LayerBuffers, RuntimeCell } from './layers.js';
 import { makeCell } from './layers.js';
 
 interface RuntimeLayer {
+  /** The cell that runs in the layer's own direction (forward, or backward for a reverse layer). */
   readonly forward: RuntimeCell;
+  /** The backward cell of a bidirectional layer. */
   readonly backward: RuntimeCell | null;
   readonly width: number;
+  /** The layer reads backward in time only. */
+  readonly reverse: boolean;
 }
 
 /** Counts the arrays the runtime creates, so tests can prove the steady state creates none. */
@@ -112,9 +116,11 @@ export class Runtime {
     const layers: RuntimeLayer[] = [];
     model.layers.forEach((layer, i) => {
       const { inputWidth, outputWidth } = layout.layers[i];
-      const forward = makeCell(layer, inputWidth, layerPath(i, 'forward'), weights, this.backend.kernels);
+      // A reverse layer's one cell (named `backward`) runs in the forward slot over the sequence reversed.
+      const reverse = layer.reverse === true;
+      const forward = makeCell(layer, inputWidth, layerPath(i, reverse ? 'backward' : 'forward'), weights, this.backend.kernels);
       const backward = layer.bidirectional === true ? makeCell(layer, inputWidth, layerPath(i, 'backward'), weights, this.backend.kernels) : null;
-      layers.push({ forward, backward, width: outputWidth });
+      layers.push({ forward, backward, width: outputWidth, reverse });
     });
     this.layers = layers;
     const width = layers.length > 0 ? layers[layers.length - 1].width : input.width;
@@ -128,7 +134,7 @@ export class Runtime {
       this.readoutBias = null;
       this.outputWidth = width;
     }
-    this.streamable = layers.every((l) => l.backward === null);
+    this.streamable = layers.every((l) => l.backward === null && !l.reverse);
   }
 
   /** State slots per stream, in order (h, or h and c, per layer), and their widths. */
@@ -138,7 +144,7 @@ export class Runtime {
 
   /** `count` independent streams, each starting from zero state. */
   streams(count: number): Streams {
-    if (!this.streamable) fail('invalid_argument', 'Runtime.streams', 'a model whose layers all run forward in time', 'a bidirectional layer (use run() on whole sequences)');
+    if (!this.streamable) fail('invalid_argument', 'Runtime.streams', 'a model whose layers all run forward in time', 'a bidirectional or reverse layer (use run() on whole sequences)');
     if (!Number.isInteger(count) || count < 1) fail('invalid_argument', 'Runtime.streams.count', 'a whole number ≥ 1', String(count));
     return new Streams(this, count);
   }
@@ -168,6 +174,14 @@ export class Runtime {
       let width = this.embedding === null ? this.inputWidth : this.embeddingWidth;
       for (const layer of this.layers) {
         const out = temporary(steps * batch * layer.width);
+        if (layer.reverse) {
+          const reversed = reverseWithin(features, steps, batch, width, rowsLengths, temporary(features.length));
+          const outputs = runDirection(layer.forward, reversed, steps, batch, width, rowsLengths, temporary);
+          out.set(reverseWithin(outputs, steps, batch, layer.forward.hidden, rowsLengths, temporary(outputs.length)));
+          features = out;
+          width = layer.width;
+          continue;
+        }
         const forward = runDirection(layer.forward, features, steps, batch, width, rowsLengths, temporary);
         if (layer.backward === null) {
           out.set(forward);

@@ -22,6 +22,7 @@ const models: Record<string, ModelDescription> = {
   'a 2-layer stack with embedding and readout': { input: tokens, layers: [{ cell: 'lstm', hidden: 4 }, { cell: 'gru', hidden: 3 }], readout: { width: 7 } },
   'bidirectional layers': { input: values(3), layers: [{ cell: 'gru', hidden: 3, bidirectional: true, resetAfterProduct: true }, { cell: 'lstm', hidden: 2, bidirectional: true, peepholes: true }], readout: { width: 2 } },
   'bidirectional layers with embedding, no readout': { input: tokens, layers: [{ cell: 'plain', hidden: 3, bidirectional: true }] },
+  'a reverse layer under a forward one': { input: values(3), layers: [{ cell: 'lstm', hidden: 3, reverse: true, peepholes: true }, { cell: 'gru', hidden: 2 }], readout: { width: 1 } },
 };
 
 /** A model whose every parameter is nonzero (biases and peepholes start at 0 or 1, which would hide a mix-up). */

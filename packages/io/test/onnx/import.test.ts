@@ -60,15 +60,15 @@ describe('ONNX models weft does not run', () => {
     expect(refused(extra)).toThrowError(/^Invalid option at node 1 "squash" \(Tanh\): expected one of the operators weft runs \(LSTM, GRU, RNN, Identity, Squeeze, Transpose, Reshape, Gather, MatMul, Add, Gemm, Softmax, LogSoftmax\), received Tanh$/);
   });
 
-  it('an attribute or attribute value weft does not run: clip, input_forget, other activations, direction reverse', () => {
+  it('an attribute or attribute value weft does not run: clip, input_forget, other activations, an unknown direction', () => {
     const withAttribute = (a: { name: string; type: number; f?: number; i?: number; s?: string; strings?: string[] }) => smallModel((n) => ({ ...n, attributes: [...n.attributes, a] }));
     expect(refused(withAttribute({ name: 'clip', type: 1, f: 3 }))).toThrowError('Invalid option at node 0 "lstm" (LSTM).clip: expected no clip (weft cells do not clip their activations), received 3');
     expect(refused(withAttribute({ name: 'input_forget', type: 2, i: 1 }))).toThrowError('Invalid option at node 0 "lstm" (LSTM).input_forget: expected 0 (weft LSTMs have separate input and forget gates), received 1');
     expect(refused(withAttribute({ name: 'activations', type: 8, strings: ['HardSigmoid', 'Tanh', 'Tanh'] }))).toThrowError(
       'Invalid option at node 0 "lstm" (LSTM).activations: expected the defaults ["Sigmoid","Tanh","Tanh"], received ["HardSigmoid","Tanh","Tanh"]',
     );
-    expect(refused(withAttribute({ name: 'direction', type: 3, s: 'reverse' }))).toThrowError(
-      'Invalid option at node 0 "lstm" (LSTM).direction: expected \'forward\' or \'bidirectional\' (weft layers read forward, or both ways), received "reverse"',
+    expect(refused(withAttribute({ name: 'direction', type: 3, s: 'sideways' }))).toThrowError(
+      'Invalid option at node 0 "lstm" (LSTM).direction: expected \'forward\', \'reverse\' or \'bidirectional\', received "sideways"',
     );
   });
 

@@ -6,9 +6,10 @@ const node = (opType: string, attributes: OnnxNode['attributes']): OnnxNode => (
 
 describe('reading a recurrent node\'s attributes', () => {
   it('gives the cell kind, gates, directions, layout, activation and GRU reset form (defaults as ONNX states them)', () => {
-    expect(recurrentForm(node('LSTM', []), 0)).toEqual({ kind: 'lstm', gates: 4, directions: 1, layout: 0, activation: 'tanh', resetAfter: false });
+    expect(recurrentForm(node('LSTM', []), 0)).toEqual({ kind: 'lstm', gates: 4, directions: 1, reverse: false, layout: 0, activation: 'tanh', resetAfter: false });
+    expect(recurrentForm(node('LSTM', [{ name: 'direction', type: 3, s: 'reverse' }]), 0)).toMatchObject({ directions: 1, reverse: true });
     expect(recurrentForm(node('GRU', [{ name: 'linear_before_reset', type: 2, i: 1 }, { name: 'direction', type: 3, s: 'bidirectional' }, { name: 'layout', type: 2, i: 1 }]), 0))
-      .toEqual({ kind: 'gru', gates: 3, directions: 2, layout: 1, activation: 'tanh', resetAfter: true });
+      .toEqual({ kind: 'gru', gates: 3, directions: 2, reverse: false, layout: 1, activation: 'tanh', resetAfter: true });
     expect(recurrentForm(node('RNN', [{ name: 'activations', type: 8, strings: ['Relu'] }]), 0).activation).toBe('relu');
   });
 

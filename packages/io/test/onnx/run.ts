@@ -3,6 +3,7 @@
  * outputs as the graph's outputs (Y in its layout, Y_h and Y_c), using the binding the import recorded.
  */
 import { Tape, tensor } from '@weft/core';
+import { layerDirections } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import type { OnnxBinding, OnnxTensor } from '@weft/io/onnx';
 
@@ -27,7 +28,8 @@ export function runAsOnnx(model: SequenceModel, binding: OnnxBinding, feeds: Rea
     ? model.stateSlots().map((slot) => {
       const match = /^layers\[(\d+)\]\.(forward|backward)\.(h|c)$/.exec(slot.path)!;
       const layer = Number(match[1]);
-      const direction = match[2] === 'forward' ? 0 : 1;
+      // The direction's place among the layer's cells: a reverse layer's one cell is direction 0 in ONNX.
+      const direction = layerDirections(layers[layer]).indexOf(match[2] as 'forward' | 'backward');
       const name = binding.initialState[layer][match[3] as 'h' | 'c'];
       const directions = layers[layer].bidirectional === true ? 2 : 1;
       const hidden = layers[layer].hidden;

@@ -15,11 +15,15 @@ import { runAsOnnx } from './run.js';
 const float = (name: string, dims: number[], values: number[]): OnnxTensor => ({ name, dataType: 1, dims, values: Float32Array.from(values) });
 const lengths = [6, 3, 1, 0, 5];
 
-function modelOf(kind: OnnxKind, directions: 1 | 2): { model: OnnxModel; feeds: Record<string, OnnxTensor>; expected: Record<string, number[]> } {
+type Direction = 'forward' | 'reverse' | 'bidirectional';
+
+function modelOf(kind: OnnxKind, direction: Direction): { model: OnnxModel; feeds: Record<string, OnnxTensor>; expected: Record<string, number[]> } {
   const [steps, batch, width, hidden] = [6, 5, 3, 4];
-  const sides = Array.from({ length: directions }, (_, d) => setup(kind, `${kind}-${d === 0 ? 'ahead' : 'behind'}`, steps, batch, width, hidden));
-  const x = sides[0].spec.x;
-  const results = sides.map((s, d) => s.run({ ...s.spec, x, lengths, reverse: d === 1 }));
+  const directions = direction === 'bidirectional' ? 2 : 1;
+  const reads = direction === 'bidirectional' ? ['ahead', 'behind'] : direction === 'reverse' ? ['behind'] : ['ahead'];
+  const sides = reads.map((side) => setup(kind, `${kind}-${side}`, steps, batch, width, hidden));
+  const x = setup(kind, `${kind}-ahead`, steps, batch, width, hidden).spec.x;
+  const results = sides.map((s, d) => s.run({ ...s.spec, x, lengths, reverse: reads[d] === 'behind' }));
   const opType = kind === 'lstm' ? 'LSTM' : kind === 'rnn' ? 'RNN' : 'GRU';
   const initializers = [
     float('W', [directions, sides[0].spec.w.length, width], sides.flatMap((s) => s.spec.w.flat())),
@@ -27,7 +31,7 @@ function modelOf(kind: OnnxKind, directions: 1 | 2): { model: OnnxModel; feeds: 
     float('B', [directions, sides[0].spec.b!.length], sides.flatMap((s) => s.spec.b!)),
   ];
   if (kind === 'lstm') initializers.push(float('P', [directions, 3 * hidden], sides.flatMap((s) => s.spec.p!)));
-  const attributes = [{ name: 'hidden_size', type: 2, i: hidden }, { name: 'direction', type: 3, s: directions === 2 ? 'bidirectional' : 'forward' }];
+  const attributes = [{ name: 'hidden_size', type: 2, i: hidden }, { name: 'direction', type: 3, s: direction }];
   if (kind === 'gru-after') attributes.push({ name: 'linear_before_reset', type: 2, i: 1 });
   const stateInputs = kind === 'lstm' ? ['initial_h', 'initial_c'] : ['initial_h'];
   const model: OnnxModel = {
@@ -65,9 +69,9 @@ function modelOf(kind: OnnxKind, directions: 1 | 2): { model: OnnxModel; feeds: 
 
 describe('seeded random-weight ONNX models of every cell form', () => {
   for (const kind of ['lstm', 'gru-before', 'gru-after', 'rnn'] as const) {
-    for (const directions of [1, 2] as const) {
-      it(`${kind}, ${directions === 1 ? 'forward' : 'bidirectional'}, ragged lengths ${lengths.join(', ')}: import and match the equations within 1e-5`, async () => {
-        const { model, feeds, expected } = modelOf(kind, directions);
+    for (const direction of ['forward', 'reverse', 'bidirectional'] as const) {
+      it(`${kind}, ${direction}, ragged lengths ${lengths.join(', ')}: import and match the equations within 1e-5`, async () => {
+        const { model, feeds, expected } = modelOf(kind, direction);
         const imported = importOnnx(decodeOnnxModel(encodeOnnxModel(model)));
         const file = await readWeightFile(await writeWeightFile(imported.description, imported.tensors));
         const produced = runAsOnnx(loadModel(file), imported.binding, feeds);

@@ -113,9 +113,11 @@ describe('the inference runtime', () => {
     }
   });
 
-  it('refuses to stream a bidirectional model and names the input problems', async () => {
+  it('refuses to stream a bidirectional or reverse model and names the input problems', async () => {
     const runtime = await runtimeFor(shaken(descriptions.bidirectional));
-    expect(() => runtime.streams(1)).toThrowError('Invalid argument at Runtime.streams: expected a model whose layers all run forward in time, received a bidirectional layer (use run() on whole sequences)');
+    const reversed = await runtimeFor(shaken(descriptions.reverse));
+    expect(() => runtime.streams(1)).toThrowError('Invalid argument at Runtime.streams: expected a model whose layers all run forward in time, received a bidirectional or reverse layer (use run() on whole sequences)');
+    expect(() => reversed.streams(1)).toThrowError(/received a bidirectional or reverse layer/);
     expect(() => runtime.run(Int32Array.of(1, 2, 9), 3, 1)).toThrowError('Invalid argument at Runtime.run.input[2]: expected a token id in [0, 7), received 9');
     const values = await runtimeFor(shaken(descriptions['plain tanh']));
     expect(() => values.streams(2).step(new Float32Array(5))).toThrowError('Shape mismatch at Streams.step.input: expected 6 numbers (2 × 3), received 5');
