@@ -21,6 +21,8 @@ export type { BaselineOptions, BaselineScore, Forecaster, SeriesSplit } from './
 export { bestBaseline, detectSeason, fitLinear, forecastBaselines, scoreForecaster, solve } from './data/baselines.js';
 export type { Translator } from './translate.js';
 export { UNKNOWN_TOKEN, createTranslator, splitTokens } from './translate.js';
+export type { BleuScore } from './data/transduction.js';
+export { corpusBleu, exactMatchRate, tokenAccuracy } from './data/transduction.js';
 export type { StepSequence, StepTable, StepTableOptions } from './data/steps.js';
 export { readStepTable } from './data/steps.js';
 export type { Series, SeriesOptions } from './data/series.js';
