@@ -21,3 +21,5 @@ export { EncoderDecoderModel, reverseTokens } from './encoder-decoder.js';
 export type { BuildOptions, CellMaker, CellRequest, ModelLayer, ModelRunOptions, ModelRunResult, ModelStateSlot, TokenBatch } from './model.js';
 export { SequenceModel, buildModel } from './model.js';
 export * as stepKernels from './kernels/index.js';
+export type { AttentionStep } from './attention.js';
+export { attend } from './attention.js';
