@@ -21,7 +21,7 @@ export type { BaselineOptions, BaselineScore, Forecaster, SeriesSplit } from './
 export { bestBaseline, detectSeason, fitLinear, forecastBaselines, scoreForecaster, solve } from './data/baselines.js';
 export type { Translator } from './translate.js';
 export { UNKNOWN_TOKEN, createTranslator, splitTokens } from './translate.js';
-export type { BleuScore } from './data/transduction.js';
+export type { BleuScore, NgramCounts } from './data/transduction.js';
 export { corpusBleu, exactMatchRate, tokenAccuracy } from './data/transduction.js';
 export type { StepSequence, StepTable, StepTableOptions } from './data/steps.js';
 export { readStepTable } from './data/steps.js';

@@ -8,6 +8,14 @@
  * a corpus with no matching n-gram of some order scores 0, as in the paper.
  */
 
+/** One n-gram order's counts over a corpus. */
+export interface NgramCounts {
+  /** Candidate n-grams matched, each clipped to its most frequent count in any one reference. */
+  readonly matched: number;
+  /** Candidate n-grams. */
+  readonly total: number;
+}
+
 /** Corpus BLEU with its parts. */
 export interface BleuScore {
   /** BP · exp(Σ_n (1/N) log p_n), in [0, 1]. */
@@ -15,7 +23,7 @@ export interface BleuScore {
   /** The modified n-gram precision p_n for n = 1 … N, as fractions of counts summed over the corpus. */
   readonly precisions: readonly number[];
   /** Clipped matches and candidate n-grams per order, summed over the corpus (the numerators and denominators). */
-  readonly counts: readonly { readonly matched: number; readonly total: number }[];
+  readonly counts: readonly NgramCounts[];
   /** The brevity penalty. */
   readonly brevityPenalty: number;
   /** c: the candidates' total length in tokens. */
