@@ -128,7 +128,7 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
       const why = name === undefined || name === '' ? 'none' : graphInputs.has(name) ? `graph input "${name}" with no initializer (give its values)` : `"${name}", computed by another node`;
       fail('bad_data', `${nodeLabel(node, index)}.input[${slot}]`, `${what}: an initializer or given values`, why);
     }
-    if (t.dataType !== ONNX_FLOAT && what !== 'a shape' && what !== 'axes') fail('bad_data', `${nodeLabel(node, index)}.input[${slot}] ("${name}")`, 'FLOAT data', `data type ${t.dataType}`);
+    if (t.dataType !== ONNX_FLOAT) fail('bad_data', `${nodeLabel(node, index)}.input[${slot}] ("${name}")`, 'FLOAT data', `data type ${t.dataType}`);
     return t;
   };
   const used = new Set<number>();
@@ -296,10 +296,8 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
       readout = { weights: values, bias, width: cols };
       axes = { labels: [...labels.slice(0, -1), 'v'], sizes: { ...(axes as Axes).sizes, v: cols } };
     } else if (node.opType === 'Add' && readout !== null && lastLabel === 'v') {
-      const other = node.inputs[0] === currentValue ? 2 : 1;
       const slot = node.inputs[0] === currentValue ? 1 : 0;
       const bias = biasOf(node, index, slot, readout.width, constant);
-      void other;
       readout.bias = readout.bias.map((v, j) => sumBiases(v, bias[j]));
     } else if ((node.opType === 'Softmax' || node.opType === 'LogSoftmax') && outputFunction === 'none') {
       const axis = attribute(node, 'axis')?.i ?? -1;

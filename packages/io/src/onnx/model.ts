@@ -200,7 +200,7 @@ export function decodeTensor(bytes: Uint8Array, path = 'tensor', offset = 0): On
   fail('bad_data', `${where}.data_type`, 'FLOAT (1), INT32 (6) or INT64 (7)', `${typeNames[dataType] ?? 'unknown'} (${dataType})`);
 }
 
-function decodeAttribute(fields: WireField[], path: string, base: (f: WireField) => number, bytes: Uint8Array, offset: number): OnnxAttribute {
+function decodeAttribute(fields: WireField[], path: string, base: (f: WireField) => number): OnnxAttribute {
   const map = groups(fields);
   const name = last(map, 1) === undefined ? '' : stringOf(last(map, 1)!, path, 'name');
   const where = `${path} (${name})`;
@@ -217,8 +217,6 @@ function decodeAttribute(fields: WireField[], path: string, base: (f: WireField)
   if (map.has(7)) attribute.floats = (map.get(7) ?? []).flatMap((x) => Array.from(floatsOf(x, where, 'floats')));
   if (map.has(8)) attribute.ints = (map.get(8) ?? []).flatMap((x) => int64sOf(x, where, 'ints'));
   if (map.has(9)) attribute.strings = (map.get(9) ?? []).map((x) => stringOf(x, where, 'strings'));
-  void bytes;
-  void offset;
   return attribute;
 }
 
@@ -277,7 +275,7 @@ export function decodeOnnxModel(bytes: Uint8Array, file = 'model.onnx'): OnnxMod
       domain: last(node, 7) === undefined ? '' : stringOf(last(node, 7)!, label, 'domain'),
       inputs: (node.get(1) ?? []).map((x) => stringOf(x, label, 'input')),
       outputs: (node.get(2) ?? []).map((x) => stringOf(x, label, 'output')),
-      attributes: (node.get(5) ?? []).map((x, k) => decodeAttribute(nested(x, label, `attribute[${k}]`, base), `${label}.attribute[${k}]`, base, bytes, 0)),
+      attributes: (node.get(5) ?? []).map((x, k) => decodeAttribute(nested(x, label, `attribute[${k}]`, base), `${label}.attribute[${k}]`, base)),
     };
   });
   const initializers = (graph.get(5) ?? []).map((f, k) => decodeTensor(bytesOf(f, path, `initializer[${k}]`), `${path}.initializer[${k}]`, base(f)));

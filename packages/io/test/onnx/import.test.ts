@@ -86,3 +86,33 @@ describe('ONNX models weft does not run', () => {
     expect(refused(branch)).toThrowError(/^Invalid option at node 0 "lstm" \(LSTM\) output "Y": expected one node reading it \(weft reads a chain of layers\), received 2 nodes/);
   });
 });
+
+describe('ONNX readouts', () => {
+  it('read a Gemm on rows flattened by Reshape, with Softmax after it, as a readout and a recorded output function', () => {
+    const model = smallModel();
+    const weights = { name: 'G', dataType: 1, dims: [2, 3], values: Float32Array.of(1, 2, 3, 4, 5, 6) };
+    const bias = { name: 'C', dataType: 1, dims: [2], values: Float32Array.of(-1, 1) };
+    const axis = { name: 'axis', dataType: 7, dims: [1], values: [1] };
+    const rows = { name: 'rows', dataType: 7, dims: [2], values: [-1, 3] };
+    const graph = {
+      ...model.graph,
+      initializers: [...model.graph.initializers, weights, bias, axis, rows],
+      nodes: [
+        ...model.graph.nodes,
+        { name: 'squeeze', opType: 'Squeeze', domain: '', inputs: ['Y', 'axis'], outputs: ['S'], attributes: [] },
+        { name: 'flatten', opType: 'Reshape', domain: '', inputs: ['S', 'rows'], outputs: ['F'], attributes: [] },
+        { name: 'readout', opType: 'Gemm', domain: '', inputs: ['F', 'G', 'C'], outputs: ['L'], attributes: [{ name: 'transB', type: 2, i: 1 }] },
+        { name: 'probabilities', opType: 'Softmax', domain: '', inputs: ['L'], outputs: ['P'], attributes: [{ name: 'axis', type: 2, i: -1 }] },
+      ],
+      outputs: [{ name: 'P', elementType: 1, dims: null }, { name: 'Y_h', elementType: 1, dims: null }],
+    };
+    const imported = importOnnx({ ...model, graph });
+    expect(imported.description.readout).toEqual({ width: 2 });
+    expect(imported.binding.output).toEqual({ name: 'P', axes: ['n', 'v'] });
+    expect(imported.binding.outputFunction).toBe('softmax');
+    const readout = imported.tensors.find((t) => t.name === 'readout.weights')!;
+    // Gemm with transB = 1 reads G [2, 3] as its transpose: our readout [3, 2].
+    expect(Array.from(readout.values)).toEqual([1, 4, 2, 5, 3, 6]);
+    expect(Array.from(imported.tensors.find((t) => t.name === 'readout.bias')!.values)).toEqual([-1, 1]);
+  });
+});
