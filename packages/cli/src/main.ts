@@ -1,6 +1,6 @@
 #!/usr/bin/env node
 /**
- * The `weft` command. Verbs: train, run, score, sample, inspect, convert, check; `--help` on each, `--version`. Errors are one
+ * The `weft` command. Verbs: train, run, score, sample, inspect, convert, sweep, check; `--help` on each, `--version`. Errors are one
  * line on stderr with a non-zero exit (2 for a misused command), and a stack trace only with --debug.
  */
 import { readFileSync, realpathSync } from 'node:fs';
@@ -16,6 +16,7 @@ import { inspect, inspectFlags } from './inspect.js';
 import { runFlags, runModel } from './run.js';
 import { sampleFlags, sampleText } from './sample.js';
 import { score, scoreFlags } from './score.js';
+import { sweep, sweepFlags } from './sweep.js';
 import { train, trainFlags } from './train.js';
 
 interface Verb {
@@ -88,6 +89,17 @@ const verbs: Record<string, Verb> = {
     act: async (args) => {
       write(await convert(args));
       return 0;
+    },
+  },
+  sweep: {
+    summary: 'train every combination of a grid of flags and data files, several at a time, and rank them',
+    usage: 'weft sweep GRID [--part K/N] [--merge] [flags]',
+    example: 'weft sweep grid.json --part 2/3 --folder runs',
+    flags: sweepFlags,
+    act: async (args) => {
+      const { text, failed } = await sweep(args);
+      write(text);
+      return failed ? 1 : 0;
     },
   },
   check: {

@@ -54,6 +54,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'store', value: 'f32|f16|i8', description: 'how the weight file stores numbers', fallback: 'f32' },
   backendFlag,
   { name: 'quiet', switch: true, description: 'no progress and no notes: print only the final result lines' },
+  { name: 'results', value: 'FILE', description: 'also write the run\'s result as JSON (validation, held-out figures against the best baseline, files)' },
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
@@ -84,6 +85,43 @@ function firstDifference(saved: unknown, requested: unknown, path = 'model'): st
 }
 
 /** What `train` did, for programs that drive the verb directly. */
+/** A run's result as `--results` writes it: what a sweep ranks by and reports. */
+export interface RunResults {
+  /** The best validation loss (null without validation). */
+  readonly validationLoss: number | null;
+  /** Steps taken. */
+  readonly steps: number;
+  /** Why the run ended: `epochs`, `patience` or `signal`. */
+  readonly stoppedBy: string;
+  /** The held-out figure's name: MAE (in the data's units), perplexity or accuracy. */
+  readonly metric: string;
+  /** True when a lower figure is better. */
+  readonly lowerIsBetter: boolean;
+  /** The model's held-out figure. */
+  readonly model: number;
+  /** The best baseline on the same held-out data. */
+  readonly bestBaseline: { readonly name: string; readonly value: number } | null;
+  /** The weight file written. */
+  readonly out: string;
+}
+
+/** The result of a run as plain data (see RunResults). */
+export function runResults(summary: TrainingSummary, heldOut: HeldOutReport, out: string): RunResults {
+  const better = (a: number, b: number) => (heldOut.lowerIsBetter ? a < b : a > b);
+  let best: { name: string; value: number } | null = null;
+  for (const b of heldOut.baselines) if (Number.isFinite(b.value) && (best === null || better(b.value, best.value))) best = { name: b.name, value: b.value };
+  return {
+    validationLoss: summary.bestValidation?.loss ?? null,
+    steps: summary.steps,
+    stoppedBy: summary.stoppedBy,
+    metric: heldOut.metric,
+    lowerIsBetter: heldOut.lowerIsBetter,
+    model: heldOut.model.value,
+    bestBaseline: best,
+    out,
+  };
+}
+
 export interface TrainOutcome {
   /** The trainer's summary. */
   readonly summary: TrainingSummary;
@@ -250,6 +288,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   log(`weight file: ${out}`);
   log(`checkpoint:  ${checkpoint}`);
   log(`loss curve:  ${curve}`);
+  const resultsPath = args.flags.get('results');
+  if (resultsPath !== undefined) writeFileAtomic(resultsPath, `${JSON.stringify(runResults(summary, heldOut, out))}\n`);
   return { summary, out, checkpoint, curve, heldOut, prepared };
 }
 
