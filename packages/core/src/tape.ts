@@ -40,8 +40,8 @@ export interface OperationKind<Saved extends object = object> {
   backward(node: TapeNode<Saved>, tape: Tape): void;
 }
 
-/** The stand-in for a tensor field of a saved record that nothing has filled yet: no elements, never tracked. */
-export const noTensor: Tensor = new Tensor(new Float64Array(0), [0]);
+/** The stand-in for a tensor field of a saved record that nothing has filled yet: no elements, never tracked, frozen. */
+export const noTensor: Tensor = Object.freeze(new Tensor(new Float64Array(0), [0]));
 
 /**
  * One recorded operation: its kind, its output (two for a cell step's h and c) and the kind's saved record. Records
