@@ -84,7 +84,6 @@ function firstDifference(saved: unknown, requested: unknown, path = 'model'): st
   return null;
 }
 
-/** What `train` did, for programs that drive the verb directly. */
 /** A run's result as `--results` writes it: what a sweep ranks by and reports. */
 export interface RunResults {
   /** The best validation loss (null without validation). */
@@ -122,6 +121,7 @@ export function runResults(summary: TrainingSummary, heldOut: HeldOutReport, out
   };
 }
 
+/** What `train` did, for programs that drive the verb directly. */
 export interface TrainOutcome {
   /** The trainer's summary. */
   readonly summary: TrainingSummary;
