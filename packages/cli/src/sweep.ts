@@ -20,7 +20,7 @@ import { numberFlag } from './args.js';
 import { CommandError } from './errors.js';
 import { shown } from './terminal.js';
 import { trainFlags } from './train.js';
-import type { RunResults } from './train.js';
+import type { RunResults } from './results.js';
 
 export const sweepFlags: FlagSpec[] = [
   { name: 'part', value: 'K/N', description: 'run only the K-th of N parts of the grid (for a cluster\'s job array)', fallback: '1/1' },
