@@ -62,7 +62,7 @@ const verbs: Record<string, Verb> = {
     },
   },
   inspect: {
-    summary: "show a weight file's model, tensors, parameter count, metadata and digest",
+    summary: "show a weight file's model, tensors, parameter count, metadata and digest, or an ONNX file's graph",
     usage: 'weft inspect MODEL [flags]',
     example: 'weft inspect greenhouse.weft.json',
     flags: inspectFlags,

@@ -17,7 +17,7 @@ describe('the weft command', () => {
     const version = weft(['--version']);
     expect(version.code).toBe(0);
     expect(version.out.trim()).toMatch(/^\d+\.\d+\.\d+$/);
-    for (const verb of ['train', 'run', 'sample', 'inspect', 'check']) {
+    for (const verb of ['train', 'run', 'sample', 'inspect', 'score', 'convert', 'sweep', 'check']) {
       const help = weft([verb, '--help']);
       expect(help.code).toBe(0);
       expect(help.out).toContain(`usage: weft ${verb}`);
