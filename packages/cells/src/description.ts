@@ -77,10 +77,11 @@ export interface ModelDescription {
   readonly readout?: ReadoutDescription | null;
 }
 
+const everyLayer = ['cell', 'hidden', 'bidirectional', 'reverse'];
 const layerKeys: Record<string, readonly string[]> = {
-  lstm: ['cell', 'hidden', 'bidirectional', 'reverse', 'peepholes', 'forgetBias'],
-  gru: ['cell', 'hidden', 'bidirectional', 'reverse', 'resetAfterProduct'],
-  plain: ['cell', 'hidden', 'bidirectional', 'reverse', 'activation'],
+  lstm: [...everyLayer, 'peepholes', 'forgetBias'],
+  gru: [...everyLayer, 'resetAfterProduct'],
+  plain: [...everyLayer, 'activation'],
 };
 
 /**
@@ -123,7 +124,8 @@ export function describeProblems(value: unknown, path = 'description', customKin
     return problems;
   }
   for (const key of Object.keys(value)) {
-    if (!['input', 'layers', 'dropout', 'readout'].includes(key)) add(`${path}.${key}`, 'no such field (input, layers, dropout, readout)', value[key]);
+    const fields = ['input', 'layers', 'dropout', 'readout'];
+    if (!fields.includes(key)) add(`${path}.${key}`, `no such field (${fields.join(', ')})`, value[key]);
   }
   const input = value.input;
   if (!isRecord(input)) {
@@ -157,7 +159,7 @@ export function describeProblems(value: unknown, path = 'description', customKin
       if (hidden !== null) add(`${where}.hidden`, hidden, layer.hidden);
       if (layer.bidirectional !== undefined && typeof layer.bidirectional !== 'boolean') add(`${where}.bidirectional`, 'true or false', layer.bidirectional);
       if (layer.reverse !== undefined && typeof layer.reverse !== 'boolean') add(`${where}.reverse`, 'true or false', layer.reverse);
-      if (layer.reverse === true && layer.bidirectional === true) add(`${where}.reverse`, 'not with bidirectional (a bidirectional layer reads both ways already)', true);
+      if (layer.reverse === true && layer.bidirectional === true) add(`${where}.reverse`, 'not with bidirectional', true);
       if (typeof kind === 'string' && Object.prototype.hasOwnProperty.call(layerKeys, kind)) {
         for (const key of Object.keys(layer)) {
           if (!layerKeys[kind].includes(key)) add(`${where}.${key}`, `no such field for a ${kind} layer (${layerKeys[kind].join(', ')})`, layer[key]);
@@ -245,7 +247,8 @@ export function describeAnyProblems(value: unknown, path = 'description', custom
   const problems: Problem[] = [];
   const v = value as unknown as Record<string, unknown>;
   for (const key of Object.keys(v)) {
-    if (!['kind', 'encoder', 'decoder', 'reverseSource'].includes(key)) problems.push({ code: 'invalid_option', path: `${path}.${key}`, expected: 'no such field (kind, encoder, decoder, reverseSource)', received: describe(v[key]) });
+    const fields = ['kind', 'encoder', 'decoder', 'reverseSource'];
+    if (!fields.includes(key)) problems.push({ code: 'invalid_option', path: `${path}.${key}`, expected: `no such field (${fields.join(', ')})`, received: describe(v[key]) });
   }
   if (v.reverseSource !== undefined && typeof v.reverseSource !== 'boolean') problems.push({ code: 'invalid_option', path: `${path}.reverseSource`, expected: 'true or false', received: describe(v.reverseSource) });
   const encoder = describeProblems(v.encoder, `${path}.encoder`, customKinds);

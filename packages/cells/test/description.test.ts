@@ -50,7 +50,7 @@ describe('model descriptions', () => {
     const base = { input: { kind: 'values', width: 2 } };
     expect(describeProblems({ ...base, layers: [{ cell: 'plain', hidden: 3, reverse: true }] })).toEqual([]);
     expect(describeProblems({ ...base, layers: [{ cell: 'plain', hidden: 3, reverse: true, bidirectional: true }] }).map((p) => `${p.path}: expected ${p.expected}`)).toEqual([
-      'description.layers[0].reverse: expected not with bidirectional (a bidirectional layer reads both ways already)',
+      'description.layers[0].reverse: expected not with bidirectional',
     ]);
   });
 });

@@ -144,7 +144,7 @@ export class Runtime {
 
   /** `count` independent streams, each starting from zero state. */
   streams(count: number): Streams {
-    if (!this.streamable) fail('invalid_argument', 'Runtime.streams', 'a model whose layers all run forward in time', 'a bidirectional or reverse layer (use run() on whole sequences)');
+    if (!this.streamable) fail('invalid_argument', 'Runtime.streams', 'a model whose layers all run forward in time', 'a layer that reads backward (use run() on whole sequences)');
     if (!Number.isInteger(count) || count < 1) fail('invalid_argument', 'Runtime.streams.count', 'a whole number ≥ 1', String(count));
     return new Streams(this, count);
   }
@@ -174,27 +174,18 @@ export class Runtime {
       let width = this.embedding === null ? this.inputWidth : this.embeddingWidth;
       for (const layer of this.layers) {
         const out = temporary(steps * batch * layer.width);
-        if (layer.reverse) {
-          const reversed = reverseWithin(features, steps, batch, width, rowsLengths, temporary(features.length));
-          const outputs = runDirection(layer.forward, reversed, steps, batch, width, rowsLengths, temporary);
-          out.set(reverseWithin(outputs, steps, batch, layer.forward.hidden, rowsLengths, temporary(outputs.length)));
-          features = out;
-          width = layer.width;
-          continue;
+        // A reverse layer is the backward half of a bidirectional one, alone.
+        const ahead = layer.reverse ? null : runDirection(layer.forward, features, steps, batch, width, rowsLengths, temporary);
+        const back = layer.reverse ? layer.forward : layer.backward;
+        let behind: Float32Array | null = null;
+        if (back !== null) {
+          const outputs = runDirection(back, reverseWithin(features, steps, batch, width, rowsLengths, temporary(features.length)), steps, batch, width, rowsLengths, temporary);
+          behind = reverseWithin(outputs, steps, batch, back.hidden, rowsLengths, temporary(outputs.length));
         }
-        const forward = runDirection(layer.forward, features, steps, batch, width, rowsLengths, temporary);
-        if (layer.backward === null) {
-          out.set(forward);
-        } else {
-          const reversed = reverseWithin(features, steps, batch, width, rowsLengths, temporary(features.length));
-          const backwardOutputs = runDirection(layer.backward, reversed, steps, batch, width, rowsLengths, temporary);
-          const behind = reverseWithin(backwardOutputs, steps, batch, layer.backward.hidden, rowsLengths, temporary(backwardOutputs.length));
-          const hf = layer.forward.hidden;
-          const hb = layer.backward.hidden;
-          for (let p = 0; p < steps * batch; p++) {
-            out.set(forward.subarray(p * hf, (p + 1) * hf), p * layer.width);
-            out.set(behind.subarray(p * hb, (p + 1) * hb), p * layer.width + hf);
-          }
+        const hf = ahead === null ? 0 : layer.forward.hidden;
+        for (let p = 0; p < steps * batch; p++) {
+          if (ahead !== null) out.set(ahead.subarray(p * hf, (p + 1) * hf), p * layer.width);
+          if (behind !== null && back !== null) out.set(behind.subarray(p * back.hidden, (p + 1) * back.hidden), p * layer.width + hf);
         }
         features = out;
         width = layer.width;
