@@ -70,6 +70,17 @@ describe('the examples (reduced budget)', () => {
   });
 });
 
+describe('the ONNX example', () => {
+  it('sends a trained model through ONNX and back and streams the same forecasts, bit for bit', async () => {
+    const { throughOnnx } = await import('../examples/onnx/main.js');
+    const { onnxBytes, nodes, before, after } = await throughOnnx(1, 12);
+    expect(nodes).toEqual(['GRU', 'Squeeze', 'MatMul', 'Add']);
+    expect(onnxBytes).toBeGreaterThan(1000);
+    expect(after).toEqual(before);
+    expect(new Set(before).size).toBeGreaterThan(1);
+  });
+});
+
 describe('the first look', () => {
   it('runs and its gradient check passes', async () => {
     const lines: string[] = [];
