@@ -1,5 +1,5 @@
 /** Shared builders for the cells tests. */
-import { Random, Tape, add, multiply, randomUniform, sum } from '@weft/core';
+import { Random, Tape, add } from '@weft/core';
 import type { Tensor } from '@weft/core';
 import { GruCell, LstmCell, PlainCell } from '@weft/cells';
 import type { CellMode, RecurrentCell } from '@weft/cells';
@@ -50,16 +50,7 @@ export function shakeBiases(cell: RecurrentCell, seed: number): void {
   }
 }
 
-export function f64Input(random: Random, shape: number[], name: string, low = -1, high = 1): Tensor {
-  const t = randomUniform(shape, random, low, high, 'f64');
-  t.name = name;
-  return t;
-}
-
-/** Σ w ⊙ t: a scalar that reads every entry with its own weight. */
-export function weighted(tape: Tape, t: Tensor, w: Tensor): Tensor {
-  return sum(tape, multiply(tape, t, w));
-}
+export { f64Input, weightedSum as weighted } from '../../../tests/helpers/tensors.js';
 
 export function plus(tape: Tape, a: Tensor, b: Tensor): Tensor {
   return add(tape, a, b);

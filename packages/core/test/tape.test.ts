@@ -1,17 +1,10 @@
 import { describe, expect, it } from 'vitest';
-import type { Tensor } from '@weft/core';
+import { f64Input } from '../../../tests/helpers/tensors.js';
 import {
   Random, defaultBackend, Tape, WeftError, add, checkGradients, matmul, multiply, randomUniform, sigmoid, sum, tanh, tensor, trainable,
   resetGradients, detach, dropout,
 } from '@weft/core';
 
-
-/** An f64 tensor of uniform values in [low, high), named for the gradient report. */
-function f64Input(random: Random, shape: number[], name: string, low = -1, high = 1): Tensor {
-  const t = randomUniform(shape, random, low, high, 'f64');
-  t.name = name;
-  return t;
-}
 
 describe('the tape', () => {
   it('records one node per operation and sweeps from a scalar with seed 1', () => {
