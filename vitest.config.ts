@@ -19,6 +19,7 @@ export default defineConfig({
       { find: /^@weft\/io$/, replacement: source('./packages/io/src/index.ts') },
       { find: /^@weft\/io\/runtime$/, replacement: source('./packages/io/src/runtime/index.ts') },
       { find: /^@weft\/io\/runtime\/javascript$/, replacement: source('./packages/io/src/runtime/javascript.ts') },
+      { find: /^@weft\/io\/runtime\/encoder-decoder$/, replacement: source('./packages/io/src/runtime/encoder-decoder.ts') },
       { find: /^@weft\/io\/translate$/, replacement: source('./packages/io/src/translate.ts') },
       { find: /^@weft\/io\/onnx$/, replacement: source('./packages/io/src/onnx/index.ts') },
       { find: /^@weft\/io\/node$/, replacement: source('./packages/io/src/node/index.ts') },

@@ -29,6 +29,7 @@ const withoutLogic: Record<string, string> = {
   'packages/io/src/index.ts': 'the package entry: re-exports',
   'packages/io/src/runtime/index.ts': 'the @weft/io/runtime entry: re-exports',
   'packages/io/src/runtime/javascript.ts': 'the @weft/io/runtime/javascript entry: re-exports',
+  'packages/io/src/runtime/encoder-decoder.ts': 'the @weft/io/runtime/encoder-decoder entry: re-exports',
   'packages/io/src/onnx/index.ts': 'the @weft/io/onnx entry: re-exports',
   'packages/cli/src/index.ts': 'the package entry: re-exports',
 };

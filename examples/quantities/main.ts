@@ -10,7 +10,7 @@ import { Random, Tape, reshape, resetGradients, crossEntropyAtTargets } from '@w
 import { EncoderDecoderModel } from '@weft/cells';
 import { AdamRule, limitGradientNorm } from '@weft/optim';
 import { modelTensors, writeWeightFile } from '@weft/io';
-import { createEncoderDecoderRuntime } from '@weft/io/runtime';
+import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
 import { runIfMain, smallBudget } from '../shared.js';
 
 const numbers = ['one', 'two', 'three', 'four', 'five', 'six', 'seven', 'eight', 'nine', 'ten', 'eleven', 'twelve'];

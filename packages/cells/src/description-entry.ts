@@ -2,7 +2,7 @@
  * `@weft/cells/description`: model descriptions and their layouts (parameter names and shapes, layer widths),
  * with nothing of the tape or the cells, for the weight-file reader and the inference runtime.
  */
-export type { AnyModelDescription, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
-export { MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
+export type { AnyModelDescription, AttentionForm, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
+export { ATTENTION_FORMS, MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
-export { cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';
+export { attentionLayout, cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';

@@ -214,11 +214,15 @@ export function checkDescription(value: unknown, path = 'description', customKin
 /**
  * An encoder-decoder (Sutskever, Vinyals & Le 2014; Cho et al. 2014): the encoder reads the source tokens, and its
  * final state is the decoder's initial state; the decoder reads the target tokens shifted right (starting with a
- * start token) and predicts the next target token through its readout. Encoder and decoder layers must match
- * one to one in cell kind and hidden size, run forward in time only, and both inputs are embeddings.
- * `reverseSource` feeds each source sequence reversed within its length (Sutskever et al. 2014, §3.3).
+ * start token) and predicts the next target token through its readout. Encoder and decoder layers match one to one
+ * in cell kind and hidden size; decoder layer i starts from the final state of encoder layer i's last cell (its
+ * backward cell when the layer is bidirectional or reverse: that cell ends on the first source token, as Bahdanau
+ * et al. 2015 start the decoder from the backward state there). Decoder layers run forward in time only; both inputs
+ * are embeddings. `reverseSource` feeds each source sequence reversed within its length (Sutskever et al. 2014, §3.3).
+ * `attention` (Luong, Pham & Manning 2015, global attention) lets each decoding step look at every encoder output:
+ * see `attend` and EncoderDecoderModel.
  *
- *   { "kind": "encoder-decoder", "reverseSource": true,
+ *   { "kind": "encoder-decoder", "reverseSource": true, "attention": "general",
  *     "encoder": { "input": {embedding}, "layers": [...] },
  *     "decoder": { "input": {embedding}, "layers": [...], "readout": { "width": V } } }
  */
@@ -231,7 +235,18 @@ export interface EncoderDecoderDescription {
   readonly decoder: ModelDescription;
   /** Feed the source to the encoder in reverse order (Sutskever, Vinyals & Le 2014); default false. */
   readonly reverseSource?: boolean;
+  /**
+   * How each decoding step scores the encoder's outputs: `dot` (h·h̄; the encoder's output width must equal the
+   * decoder's hidden size), `general` (h·W h̄), `additive` (v·tanh(W h + U h̄)); absent or null for no attention.
+   */
+  readonly attention?: AttentionForm | null;
 }
+
+/** The score functions of attention (Luong et al. 2015, eq. 8; `additive` is Bahdanau et al. 2015's). */
+export type AttentionForm = 'dot' | 'general' | 'additive';
+
+/** The attention forms, as a description spells them. */
+export const ATTENTION_FORMS: readonly AttentionForm[] = ['dot', 'general', 'additive'];
 
 /** Either kind of model description. */
 export type AnyModelDescription = ModelDescription | EncoderDecoderDescription;
@@ -246,33 +261,36 @@ export function describeAnyProblems(value: unknown, path = 'description', custom
   if (!isEncoderDecoder(value)) return describeProblems(value, path, customKinds);
   const problems: Problem[] = [];
   const v = value as unknown as Record<string, unknown>;
-  for (const key of Object.keys(v)) {
-    const fields = ['kind', 'encoder', 'decoder', 'reverseSource'];
-    if (!fields.includes(key)) problems.push({ code: 'invalid_option', path: `${path}.${key}`, expected: `no such field (${fields.join(', ')})`, received: describe(v[key]) });
-  }
-  if (v.reverseSource !== undefined && typeof v.reverseSource !== 'boolean') problems.push({ code: 'invalid_option', path: `${path}.reverseSource`, expected: 'true or false', received: describe(v.reverseSource) });
+  const add = (where: string, expected: string, received: unknown): void => {
+    problems.push({ code: 'invalid_option', path: `${path}${where}`, expected, received: describe(received) });
+  };
+  const fields = ['kind', 'encoder', 'decoder', 'reverseSource', 'attention'];
+  for (const key of Object.keys(v)) if (!fields.includes(key)) add(`.${key}`, `no such field (${fields.join(', ')})`, v[key]);
+  if (v.reverseSource !== undefined && typeof v.reverseSource !== 'boolean') add('.reverseSource', 'true or false', v.reverseSource);
+  const attention = v.attention;
+  if (attention !== undefined && attention !== null && !ATTENTION_FORMS.includes(attention as AttentionForm)) add('.attention', `${ATTENTION_FORMS.map((f) => `'${f}'`).join(', ')} or null`, attention);
   const encoder = describeProblems(v.encoder, `${path}.encoder`, customKinds);
   const decoder = describeProblems(v.decoder, `${path}.decoder`, customKinds);
   problems.push(...encoder, ...decoder);
   if (encoder.length > 0 || decoder.length > 0) return problems;
   const e = v.encoder as ModelDescription;
   const d = v.decoder as ModelDescription;
-  if (e.input.kind !== 'embedding') problems.push({ code: 'invalid_option', path: `${path}.encoder.input.kind`, expected: "'embedding'", received: describe(e.input.kind) });
-  if (d.input.kind !== 'embedding') problems.push({ code: 'invalid_option', path: `${path}.decoder.input.kind`, expected: "'embedding'", received: describe(d.input.kind) });
-  if (e.readout !== undefined && e.readout !== null) problems.push({ code: 'invalid_option', path: `${path}.encoder.readout`, expected: 'none (the decoder reads out)', received: describe(e.readout) });
-  if (d.readout === undefined || d.readout === null) problems.push({ code: 'invalid_option', path: `${path}.decoder.readout`, expected: '{ "width": target vocabulary }', received: describe(d.readout) });
+  if (e.input.kind !== 'embedding') add('.encoder.input.kind', "'embedding'", e.input.kind);
+  if (d.input.kind !== 'embedding') add('.decoder.input.kind', "'embedding'", d.input.kind);
+  if (e.readout !== undefined && e.readout !== null) add('.encoder.readout', 'none (the decoder reads out)', e.readout);
+  if (d.readout === undefined || d.readout === null) add('.decoder.readout', '{ "width": target vocabulary }', d.readout);
   if (e.layers.length !== d.layers.length) {
-    problems.push({ code: 'invalid_option', path: `${path}.decoder.layers`, expected: `${e.layers.length} layers (one per encoder layer)`, received: `${d.layers.length}` });
-  } else {
-    e.layers.forEach((layer, i) => {
-      const other = d.layers[i];
-      if (layer.cell !== other.cell || layer.hidden !== other.hidden) {
-        problems.push({ code: 'invalid_option', path: `${path}.decoder.layers[${i}]`, expected: `a ${layer.cell} layer of ${layer.hidden} (as the encoder's)`, received: `${other.cell} of ${other.hidden}` });
-      }
-      for (const [side, l] of [['encoder', layer], ['decoder', other]] as const) {
-        if (l.bidirectional === true) problems.push({ code: 'invalid_option', path: `${path}.${side}.layers[${i}].bidirectional`, expected: 'false (state passes forward in time)', received: 'true' });
-      }
-    });
+    add('.decoder.layers', `${e.layers.length} layers (one per encoder layer)`, d.layers);
+    return problems;
   }
+  e.layers.forEach((layer, i) => {
+    const other = d.layers[i];
+    if (layer.cell !== other.cell || layer.hidden !== other.hidden) problems.push({ code: 'invalid_option', path: `${path}.decoder.layers[${i}]`, expected: `a ${layer.cell} layer of ${layer.hidden} (as the encoder's)`, received: `${other.cell} of ${other.hidden}` });
+    if (other.bidirectional === true || other.reverse === true) add(`.decoder.layers[${i}]`, 'a layer that reads forward (it decodes one step at a time)', other);
+  });
+  const top = e.layers[e.layers.length - 1];
+  const width = top.hidden * (top.bidirectional === true ? 2 : 1);
+  const hidden = d.layers[d.layers.length - 1].hidden;
+  if (attention === 'dot' && width !== hidden) add('.attention', `'general' or 'additive' (dot needs the encoder's output width ${width} to equal the decoder's hidden size ${hidden})`, attention);
   return problems;
 }

@@ -12,12 +12,12 @@ export { fillIdentity, fillOrthogonal, fillUniform, glorotBound, orthogonalMatri
 export { allActive, copyLastSteps, holdInactiveRows, isActive, joinSteps, lastSteps, reverseWithinLengths, stackSteps, timeStep, zeroBeyondLengths } from './sequence-ops.js';
 export type { SequenceOptions } from './layer.js';
 export { checkLengths, runBidirectional, runReversed, runSequence } from './layer.js';
-export type { AnyModelDescription, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
-export { MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
+export type { AnyModelDescription, AttentionForm, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
+export { ATTENTION_FORMS, MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
-export { cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';
-export type { EncoderDecoderRun } from './encoder-decoder.js';
-export { EncoderDecoderModel, reverseTokens } from './encoder-decoder.js';
+export { attentionLayout, cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';
+export type { EncoderDecoderRun, EncoderDecoderRunOptions } from './encoder-decoder.js';
+export { EncoderDecoderModel, decoderStart, reverseTokens } from './encoder-decoder.js';
 export type { BuildOptions, CellMaker, CellRequest, ModelLayer, ModelRunOptions, ModelRunResult, ModelStateSlot, TokenBatch } from './model.js';
 export { SequenceModel, buildModel } from './model.js';
 export * as stepKernels from './kernels/index.js';

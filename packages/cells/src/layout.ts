@@ -13,7 +13,7 @@
  * where F is the last layer's output width (2H for a bidirectional layer). Names are `layers[<i>].<direction>.<name>`,
  * the same path that messages use.
  */
-import type { AnyModelDescription, LayerDescription, ModelDescription } from './description.js';
+import type { AnyModelDescription, EncoderDecoderDescription, LayerDescription, ModelDescription } from './description.js';
 import { isEncoderDecoder } from './description.js';
 
 /** One parameter's name and shape, as a model description implies it. */
@@ -114,7 +114,29 @@ export function modelLayout(description: ModelDescription): ModelLayout {
   return { parameters, layers, outputWidth: width, builtIn };
 }
 
-/** The parameters of either kind of checked description (an encoder-decoder's are `encoder.…` then `decoder.…`). */
+/**
+ * The attention parameters of a checked encoder-decoder description (none without attention), with E the encoder's
+ * output width and D the decoder's hidden size: `attention.keys` [E, D] (W of the general form, U of the additive
+ * form), `attention.query` [D, D] and `attention.vector` [D] (the additive form's W and v), and
+ * `attention.combine` [E + D, D] (W_c of h̃ = tanh(W_c [c; h]), every form).
+ */
+export function attentionLayout(description: EncoderDecoderDescription): ParameterLayout[] {
+  const form = description.attention;
+  if (form === undefined || form === null) return [];
+  const top = description.encoder.layers[description.encoder.layers.length - 1];
+  const e = top.hidden * layerDirections(top).length;
+  const d = description.decoder.layers[description.decoder.layers.length - 1].hidden;
+  const list: ParameterLayout[] = [];
+  if (form !== 'dot') list.push({ name: 'attention.keys', shape: [e, d] });
+  if (form === 'additive') list.push({ name: 'attention.query', shape: [d, d] }, { name: 'attention.vector', shape: [d] });
+  list.push({ name: 'attention.combine', shape: [e + d, d] });
+  return list;
+}
+
+/**
+ * The parameters of either kind of checked description (an encoder-decoder's are `encoder.…`, `decoder.…`, then
+ * `attention.…`).
+ */
 export function parameterLayout(description: AnyModelDescription): Pick<ModelLayout, 'parameters' | 'builtIn'> {
   if (!isEncoderDecoder(description)) return modelLayout(description);
   const encoder = modelLayout(description.encoder);
@@ -123,6 +145,7 @@ export function parameterLayout(description: AnyModelDescription): Pick<ModelLay
     parameters: [
       ...encoder.parameters.map((p) => ({ name: `encoder.${p.name}`, shape: p.shape })),
       ...decoder.parameters.map((p) => ({ name: `decoder.${p.name}`, shape: p.shape })),
+      ...attentionLayout(description),
     ],
     builtIn: encoder.builtIn && decoder.builtIn,
   };

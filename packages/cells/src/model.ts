@@ -79,6 +79,11 @@ export interface ModelRunOptions {
   readonly training?: boolean;
   /** The generator dropout masks come from when `training` is true. */
   readonly random?: Random;
+  /**
+   * False: output the last layer's features and leave the readout to the caller (attention reads them first);
+   * default true.
+   */
+  readonly readout?: boolean;
 }
 
 /** What a model's run over a batch gives. */
@@ -229,7 +234,7 @@ export class SequenceModel {
       features = result.outputs;
       state.push(...result.state);
     });
-    if (this.readoutWeights === null || this.readoutBias === null) return { outputs: features, state };
+    if (this.readoutWeights === null || this.readoutBias === null || options.readout === false) return { outputs: features, state };
     const width = features.shape[2];
     const flat = reshape(tape, features, [steps * rows, width]);
     const mapped = add(tape, matmul(tape, flat, this.readoutWeights), this.readoutBias);

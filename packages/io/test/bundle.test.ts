@@ -1,7 +1,8 @@
 /**
  * The runtime entries stay small: bundled with esbuild (minified, ESM, for the browser) and gzipped,
  * `@weft/io/runtime` (WebAssembly SIMD forward kernels included) is at most 20 KiB and
- * `@weft/io/runtime/javascript` (no WebAssembly) at most 12 KiB. Also checks what the bundles leave out: the
+ * `@weft/io/runtime/javascript` (no WebAssembly) at most 12 KiB; `@weft/io/runtime/encoder-decoder` (beam search,
+ * attention, WebAssembly) at most 24 KiB, a budget of its own so the streaming entries do not carry it. Also checks what the bundles leave out: the
  * tape, optimisers, trainer, the training kernels' module; and that only the first carries WebAssembly bytes.
  * The bundles are built with code splitting, as a bundler builds a page: the plain-TypeScript SHA-256 (used only
  * where there is no Web Crypto, on pages that are not secure contexts) is a chunk of its own, loaded on demand;
@@ -58,5 +59,15 @@ describe('the runtime bundles', () => {
     expect(absent.filter((word) => text.includes(word))).toEqual([]);
     expect(text.includes(wasmMagic)).toBe(false);
     expect(text.includes('weft-weights')).toBe(true);
+  });
+
+  it('for encoder-decoders (an entry of its own, WebAssembly included): at most 24,576 bytes gzipped, with no tape, optimiser or trainer', async () => {
+    const bundle = await runtimeBundle('encoder-decoder.js');
+    const { text, gzipBytes } = bundle;
+    console.log(`runtime bundle (encoder-decoder): ${text.length} bytes minified, ${gzipBytes} gzipped; lazy SHA-256 chunk ${bundle.lazy[0]?.gzipBytes} gzipped`);
+    expectLazySha256(bundle);
+    expect(gzipBytes).toBeLessThanOrEqual(24_576);
+    expect(absent.filter((word) => text.includes(word))).toEqual([]);
+    expect(text.split(wasmMagic).length - 1).toBe(1);
   });
 });

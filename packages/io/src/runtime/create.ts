@@ -1,8 +1,7 @@
-/** `createRuntime` and `createEncoderDecoderRuntime` with the backend chosen by name (the `@weft/io/runtime` entry). */
+/** `createRuntime` with the backend chosen by name (the `@weft/io/runtime` entry). */
 import type { WeightFile } from '../weight-file.js';
 import type { ReadOptions } from '../weight-file.js';
 import { readWeightFile } from '../weight-file.js';
-import { EncoderDecoderRuntime } from './beam.js';
 import type { RuntimeBackendChoice } from './choose.js';
 import { forwardBackend } from './choose.js';
 import { Runtime } from './runtime.js';
@@ -15,7 +14,8 @@ export interface RuntimeChoiceOptions extends ReadOptions {
   readonly memoryBytes?: number;
 }
 
-function weightBytes(file: WeightFile): number {
+/** Bytes the file's tensors take as f32 (the WebAssembly memory a runtime reserves grows with it). */
+export function weightBytes(file: WeightFile): number {
   let bytes = 0;
   for (const t of file.tensors) bytes += 4 * t.values.length;
   return bytes;
@@ -25,10 +25,4 @@ function weightBytes(file: WeightFile): number {
 export async function createRuntime(source: string | WeightFile, options: RuntimeChoiceOptions = {}): Promise<Runtime> {
   const file = typeof source === 'string' ? await readWeightFile(source, options) : source;
   return new Runtime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes));
-}
-
-/** An encoder-decoder runtime from weight-file text or a file already read. */
-export async function createEncoderDecoderRuntime(source: string | WeightFile, options: RuntimeChoiceOptions = {}): Promise<EncoderDecoderRuntime> {
-  const file = typeof source === 'string' ? await readWeightFile(source, options) : source;
-  return new EncoderDecoderRuntime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes));
 }

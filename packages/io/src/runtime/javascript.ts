@@ -9,7 +9,5 @@ export type { SamplingOptions, UniformSource } from './sampling.js';
 export { greedy, sample } from './sampling.js';
 export type { GenerateOptions } from './generate.js';
 export { generateTokens } from './generate.js';
-export type { BeamOptions, BeamResult } from './beam.js';
-export { EncoderDecoderRuntime, createEncoderDecoderRuntime } from './beam.js';
 export { readWeightFile } from '../weight-file.js';
 export type { WeightFile, WeightMetadata } from '../weight-file.js';

@@ -151,9 +151,11 @@ export class Runtime {
 
   /**
    * A whole batch: token ids [steps·batch] or numbers [steps·batch·inputWidth], time-major; returns the outputs
-   * [steps, batch, outputWidth] (zero beyond each row's length) and leaves nothing behind.
+   * [steps, batch, outputWidth] (zero beyond each row's length) and leaves nothing behind. When `finalState` is
+   * given, each cell's final state is pushed onto it (layer by layer, the forward cell then the backward one; each
+   * cell's slots in order, [batch, hidden] each).
    */
-  run(input: Float32Array | Int32Array | readonly number[], steps: number, batch: number, lengths: Int32Array | readonly number[] | null = null): Float32Array {
+  run(input: Float32Array | Int32Array | readonly number[], steps: number, batch: number, lengths: Int32Array | readonly number[] | null = null, finalState?: Float32Array[]): Float32Array {
     const rowsLengths = lengths === null ? null : Int32Array.from(lengths);
     if (rowsLengths !== null) {
       if (rowsLengths.length !== batch) fail('shape_mismatch', 'Runtime.run.lengths', `${batch} lengths`, `${rowsLengths.length}`);
@@ -175,11 +177,11 @@ export class Runtime {
       for (const layer of this.layers) {
         const out = temporary(steps * batch * layer.width);
         // A reverse layer is the backward half of a bidirectional one, alone.
-        const ahead = layer.reverse ? null : runDirection(layer.forward, features, steps, batch, width, rowsLengths, temporary);
+        const ahead = layer.reverse ? null : runDirection(layer.forward, features, steps, batch, width, rowsLengths, temporary, finalState);
         const back = layer.reverse ? layer.forward : layer.backward;
         let behind: Float32Array | null = null;
         if (back !== null) {
-          const outputs = runDirection(back, reverseWithin(features, steps, batch, width, rowsLengths, temporary(features.length)), steps, batch, width, rowsLengths, temporary);
+          const outputs = runDirection(back, reverseWithin(features, steps, batch, width, rowsLengths, temporary(features.length)), steps, batch, width, rowsLengths, temporary, finalState);
           behind = reverseWithin(outputs, steps, batch, back.hidden, rowsLengths, temporary(outputs.length));
         }
         const hf = ahead === null ? 0 : layer.forward.hidden;
@@ -240,7 +242,7 @@ export class Runtime {
 
 type Temporary = (length: number) => Float32Array;
 
-function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null, temporary: Temporary): Float32Array {
+function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null, temporary: Temporary, finalState?: Float32Array[]): Float32Array {
   const buffers = cell.buffers(batch, temporary);
   const out = temporary(steps * batch * cell.hidden);
   for (let t = 0; t < steps; t++) {
@@ -251,6 +253,7 @@ function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: 
       out.set(h.subarray(b * cell.hidden, (b + 1) * cell.hidden), (t * batch + b) * cell.hidden);
     }
   }
+  if (finalState !== undefined) for (const slot of buffers.state) finalState.push(slot.slice());
   return out;
 }
 

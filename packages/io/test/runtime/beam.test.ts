@@ -3,7 +3,8 @@ import { Random, Tape } from '@weft/core';
 import { EncoderDecoderModel } from '@weft/cells';
 import type { EncoderDecoderDescription } from '@weft/cells';
 import { loadEncoderDecoder, modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
-import { createEncoderDecoderRuntime, createRuntime } from '@weft/io/runtime';
+import { createRuntime } from '@weft/io/runtime';
+import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
 
 const START = 0;
 const END = 1;
