@@ -3,13 +3,14 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, expectTypeOf, it } from 'vitest';
 import { WeftError } from '@weft/core';
-import { buildModel } from '@weft/cells';
-import { AdamRule, Trainer, streamBatches } from '@weft/optim';
+import { EncoderDecoderModel, buildModel } from '@weft/cells';
+import { AdamRule, Trainer, pairBatches, streamBatches } from '@weft/optim';
 import { readCheckpoint, writeCheckpoint } from '@weft/io';
 import type { TrainingState } from '@weft/io';
 import type { TrainingSnapshot } from '@weft/optim';
 import { loadCheckpoint, loadWeightFile, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
+import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
 
 const folder = mkdtempSync(join(tmpdir(), 'weft-io-'));
 afterAll(() => rmSync(folder, { recursive: true, force: true }));
@@ -74,6 +75,41 @@ describe('checkpoints', () => {
     expect(weights(resumed.model)).toEqual(weights(whole.model));
     // A checkpoint is also a weight file the runtime can run.
     expect((await createRuntime(text)).outputWidth).toBe(9);
+  });
+
+  it('of an encoder-decoder with attention resume bit-identical too, and the runtime decodes the checkpoint', async () => {
+    const pairs = Array.from({ length: 90 }, (_, i) => ({ source: [2 + (i % 5), 2 + ((i * 3) % 5), 2 + (i % 3)], target: [2 + ((i * 3) % 5), 2 + (i % 5)] }));
+    const make = () => {
+      const model = new EncoderDecoderModel({
+        kind: 'encoder-decoder',
+        attention: 'additive',
+        encoder: { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }] },
+        decoder: { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }], dropout: 0.2, readout: { width: 7 } },
+      }, { seed: 4 });
+      const trainer = new Trainer({
+        model,
+        data: pairBatches(pairs, { batchSize: 8, startToken: 0, endToken: 1, seed: 2 }),
+        validation: pairBatches(pairs.slice(0, 20), { batchSize: 10, startToken: 0, endToken: 1 }),
+        optimizer: new AdamRule({ rate: 0.01 }),
+        epochs: 3,
+        validateEvery: 10,
+        seed: 'pairs',
+      });
+      return { model, trainer };
+    };
+    const whole = make();
+    await whole.trainer.run();
+    const first = make();
+    for (let i = 0; i < 14; i++) first.trainer.step();
+    const text = await writeCheckpoint(first.trainer, first.model);
+    const resumed = make();
+    resumed.trainer.restore((await readCheckpoint(text)).snapshot);
+    await resumed.trainer.run();
+    const values = (m: EncoderDecoderModel) => m.parameters().map((p) => Array.from(p.tensor.data));
+    expect(values(resumed.model)).toEqual(values(whole.model));
+    const runtime = await createEncoderDecoderRuntime(text, { backend: 'javascript' });
+    expect(runtime.attention).toBe('additive');
+    expect(runtime.decode([2, 3, 4], { startToken: 0, endToken: 1, maxLength: 5 }).tokens.length).toBeGreaterThan(0);
   });
 
   it('are told apart from plain weight files', async () => {

@@ -65,6 +65,16 @@ export interface Batch {
    * (absent: after the last step).
    */
   readonly carryAfter?: number;
+  /**
+   * The sources of a batch of pairs (an encoder-decoder's; see pairBatches): token ids, time-major, and each row's
+   * length. `input` is then the decoder's input.
+   */
+  readonly source?: {
+    /** The source token ids [S, B], padded. */
+    readonly tokens: TokenBatch;
+    /** Each row's source length. */
+    readonly lengths: Int32Array;
+  };
 }
 
 /**
@@ -88,3 +98,5 @@ export type { StreamOptions, TokenStreamOptions, ValueStreamOptions } from './da
 export { streamBatches } from './data/streams.js';
 export type { LabelledSequence, SequenceSetOptions } from './data/sequences.js';
 export { sequenceBatches } from './data/sequences.js';
+export type { PairSetOptions, TokenPair } from './data/pairs.js';
+export { pairBatches } from './data/pairs.js';

@@ -19,6 +19,7 @@
 import { BufferPool, Random, Tape, Tensor, backendOf, defaultBackend, fail, resetGradients, zeros } from '@weft/core';
 import type { Backend, FloatArray } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
+import type { TrainableModel } from './training/lookback.js';
 import { limitGradientNorm, limitGradientValues, firstNonFiniteEntry, gradientNorm } from './clipping.js';
 import type { DataSource } from './data.js';
 import { figuresOn } from './training/evaluation.js';
@@ -32,13 +33,13 @@ import { checkSchedule, scheduleFactor } from './schedule.js';
 export type { TrainerOptions, TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
 
 /**
- * Trains a sequence model: truncated backpropagation through time over streams (state carried between windows, with an
- * optional lookback) or padded sequence batches; clipping, schedules, validation, early stopping, progress and exact
+ * Trains a sequence model — truncated backpropagation through time over streams (state carried between windows, with
+ * an optional lookback) or padded sequence batches — or an encoder-decoder on batches of pairs (teacher forcing); clipping, schedules, validation, early stopping, progress and exact
  * snapshots.
  */
 export class Trainer {
   /** The model being trained. */
-  readonly model: SequenceModel;
+  readonly model: TrainableModel;
   /** The backend every step computes on: the one holding the model's parameters unless given. */
   readonly backend: Backend;
   /** The trainer's own buffer pool on that backend (its tape's buffers). */
@@ -253,10 +254,13 @@ export class Trainer {
     if (snapshot.carried === null) {
       this.releaseCarried();
     } else {
-      const slots = this.model.stateSlots();
+      // Only a sequence model carries state (an encoder-decoder's snapshots have none).
+      if (!('stateSlots' in this.model)) fail('shape_mismatch', 'snapshot.carried', 'null (an encoder-decoder carries no state)', `${snapshot.carried.length} slots`);
+      const model: SequenceModel = this.model;
+      const slots = model.stateSlots();
       this.releaseCarried();
       this.carried = snapshot.carried.map((values, i) => {
-        const t = zeros([values.length / slots[i].width, slots[i].width], this.model.dtype, this.pool);
+        const t = zeros([values.length / slots[i].width, slots[i].width], model.dtype, this.pool);
         for (let k = 0; k < values.length; k++) t.data[k] = values[k];
         return t;
       });

@@ -5,9 +5,10 @@
  */
 import { Tape, backendOf, defaultBackend } from '@weft/core';
 import type { Backend, BufferPool, FloatArray, Tensor } from '@weft/core';
-import type { SequenceModel } from '@weft/cells';
 import type { Batch, DataSource } from '../data.js';
 import { classificationMetrics, regressionMetrics } from '../metrics.js';
+import { runOnBatch } from './lookback.js';
+import type { TrainableModel } from './lookback.js';
 import { taskRows } from './task.js';
 
 /** Where an evaluation computes. */
@@ -43,7 +44,7 @@ export interface ValidationResult {
 }
 
 /** Runs `model` over every batch of `source` (epoch 0) without recording, handing each batch to `visit`. */
-export function forEachOutputBatch(model: SequenceModel, source: DataSource, visit: (batch: Batch, rows: OutputRows) => void, options: SourceRunOptions = {}): void {
+export function forEachOutputBatch(model: TrainableModel, source: DataSource, visit: (batch: Batch, rows: OutputRows) => void, options: SourceRunOptions = {}): void {
   const parameters = model.parameters();
   const backend = options.backend ?? (parameters.length > 0 ? backendOf(parameters[0].tensor.data) : defaultBackend());
   const pool = options.pool ?? backend.pool;
@@ -52,7 +53,7 @@ export function forEachOutputBatch(model: SequenceModel, source: DataSource, vis
   try {
     for (let i = 0; i < source.batchesPerEpoch; i++) {
       const batch = source.batch(0, i);
-      const result = model.run(tape, batch.input, { lengths: batch.lengths, initialState: source.carriesState && carried !== null ? carried : undefined });
+      const result = runOnBatch(model, tape, batch, source.carriesState && carried !== null ? carried : undefined, { training: false });
       const picked = taskRows(tape, result.outputs, batch);
       visit(batch, { rows: picked.rows, outputs: picked.outputs.data, width: picked.outputs.shape[1], weights: picked.weights });
       if (source.carriesState) {
@@ -69,7 +70,7 @@ export function forEachOutputBatch(model: SequenceModel, source: DataSource, vis
 }
 
 /** Loss and metric of `model` over a whole source: cross-entropy and accuracy for classes, MSE and MAE for values. */
-export function figuresOn(model: SequenceModel, source: DataSource, options: SourceRunOptions = {}): ValidationResult {
+export function figuresOn(model: TrainableModel, source: DataSource, options: SourceRunOptions = {}): ValidationResult {
   let lossSum = 0;
   let metricSum = 0;
   let count = 0;

@@ -1,22 +1,45 @@
 /**
- * The model over one training batch, in two pieces when the batch has a lookback (`carryAfter` < steps): the steps
- * up to `carryAfter`, whose final state is what the next batch starts from, then the rest from that state, on one
- * tape, so the reverse sweep runs through all of them (truncated BPTT with k2 > k1).
+ * The model over one training batch. A sequence model runs in two pieces when the batch has a lookback
+ * (`carryAfter` < steps): the steps up to `carryAfter`, whose final state is what the next batch starts from, then
+ * the rest from that state, on one tape, so the reverse sweep runs through all of them (truncated BPTT with
+ * k2 > k1). An encoder-decoder reads the batch's sources and decodes its input by teacher forcing (`runOnBatch`).
  */
-import { Tensor } from '@weft/core';
+import { Tensor, fail } from '@weft/core';
 import type { Random, Tape } from '@weft/core';
-import { joinSteps } from '@weft/cells';
+import { EncoderDecoderModel, joinSteps } from '@weft/cells';
 import type { SequenceModel, TokenBatch } from '@weft/cells';
 import type { Batch } from '../data.js';
 
+/** What the trainer trains: a sequence model, or an encoder-decoder (on batches of pairs). */
+export type TrainableModel = SequenceModel | EncoderDecoderModel;
+
+/**
+ * The model's outputs over one batch and its final state: an encoder-decoder's teacher-forced logits on a batch of
+ * pairs (no state), or a sequence model's run from `initialState`.
+ */
+export function runOnBatch(model: TrainableModel, tape: Tape, batch: Batch, initialState: readonly Tensor[] | undefined, training: { training: boolean; random?: Random }): { outputs: Tensor; state: readonly Tensor[] } {
+  if (model instanceof EncoderDecoderModel) {
+    const source = batch.source;
+    if (source === undefined) fail('invalid_argument', 'trainer.batch.source', 'batches of pairs (pairBatches) for an encoder-decoder', 'a batch without sources');
+    const run = model.run(tape, source.tokens, source.lengths, batch.input as TokenBatch, batch.lengths, training);
+    return { outputs: run.outputs, state: [] };
+  }
+  if (batch.source !== undefined) fail('invalid_argument', 'trainer.batch.source', 'no sources (batches of pairs train an encoder-decoder)', 'a batch of pairs');
+  return model.run(tape, batch.input, { lengths: batch.lengths, initialState, ...training });
+}
+
 /** The outputs over the whole batch and the state to carry into the next batch. */
-export function forwardWithLookback(model: SequenceModel, tape: Tape, batch: Batch, initialState: readonly Tensor[] | undefined, random: Random): { outputs: Tensor; carry: readonly Tensor[] } {
-  const options = { lengths: batch.lengths, training: true, random };
-  const split = batch.carryAfter;
-  if (split === undefined || split >= batch.steps) {
-    const result = model.run(tape, batch.input, { ...options, initialState });
+export function forwardWithLookback(model: TrainableModel, tape: Tape, batch: Batch, initialState: readonly Tensor[] | undefined, random: Random): { outputs: Tensor; carry: readonly Tensor[] } {
+  if (model instanceof EncoderDecoderModel) {
+    const result = runOnBatch(model, tape, batch, undefined, { training: true, random });
     return { outputs: result.outputs, carry: result.state };
   }
+  const split = batch.carryAfter;
+  if (split === undefined || split >= batch.steps) {
+    const result = runOnBatch(model, tape, batch, initialState, { training: true, random });
+    return { outputs: result.outputs, carry: result.state };
+  }
+  const options = { lengths: batch.lengths, training: true, random };
   const [head, tail] = splitSteps(batch.input, split, batch.batch);
   let carry: readonly Tensor[];
   let headOutputs: Tensor | null = null;

@@ -1,16 +1,19 @@
 /** The trainer's public shapes: its options, its progress events, its snapshot and its summary. */
 import type { Backend, TrainingState } from '@weft/core';
-import type { SequenceModel } from '@weft/cells';
 import type { DataSource } from '../data.js';
 import type { UpdateRule } from '../update-rule.js';
 import type { ScheduleDescription } from '../schedule.js';
 import type { ValidationResult } from './evaluation.js';
+import type { TrainableModel } from './lookback.js';
 import type { Trainer } from '../trainer.js';
 
 /** What a `Trainer` trains, on what, and how. */
 export interface TrainerOptions {
-  /** The model whose parameters are trained in place. */
-  readonly model: SequenceModel;
+  /**
+   * The model whose parameters are trained in place: a sequence model, or an encoder-decoder trained on batches of
+   * pairs (`pairBatches`).
+   */
+  readonly model: TrainableModel;
   /** The training batches. */
   readonly data: DataSource;
   /** The update rule (SGD, Adam, RMSProp, Adagrad). */
