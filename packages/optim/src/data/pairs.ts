@@ -6,7 +6,8 @@
  * padding. Pairs are sorted by source length, then target length, and cut into batches of neighbours (little
  * padding); the batch order is shuffled each epoch from the seed, as for sequenceBatches.
  */
-import { Random, fail } from '@weft/core';
+import { fail } from '@weft/core';
+import { neighbourBatches } from './sequences.js';
 import type { Batch, DataSource } from '../data.js';
 
 /** One source/target pair of token ids. */
@@ -51,19 +52,7 @@ export function pairBatches(pairs: readonly TokenPair[], options: PairSetOptions
     }
   });
   const order = pairs.map((_, i) => i).sort((a, b) => pairs[a].source.length - pairs[b].source.length || pairs[a].target.length - pairs[b].target.length || a - b);
-  const groups: number[][] = [];
-  for (let i = 0; i < order.length; i += batchSize) groups.push(order.slice(i, i + batchSize));
-  const seed = options.seed ?? 0;
-  let orderEpoch = -1;
-  let batchOrder: number[] = [];
-  const epochOrder = (epoch: number): number[] => {
-    if (epoch !== orderEpoch) {
-      batchOrder = groups.map((_, i) => i);
-      new Random(`${String(seed)}:epoch:${epoch}`).shuffle(batchOrder);
-      orderEpoch = epoch;
-    }
-    return batchOrder;
-  };
+  const { groups, epochOrder } = neighbourBatches(order, batchSize, options.seed ?? 0);
   // A group's batch never changes (token ids only): made at its first use, handed out read-only every epoch.
   const plans: (PairPlan | undefined)[] = new Array<PairPlan | undefined>(groups.length);
   const planOf = (group: number): PairPlan => {

@@ -52,22 +52,7 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
     }
     return length;
   });
-  // Sort by length (stable, by index for ties) and cut into batches of neighbours.
-  const order = sequences.map((_, i) => i).sort((a, b) => lengths[a] - lengths[b] || a - b);
-  const groups: number[][] = [];
-  for (let i = 0; i < order.length; i += batchSize) groups.push(order.slice(i, i + batchSize));
-  const seed = options.seed ?? 0;
-  // The batch order of the epoch last asked for (a trainer asks for one epoch's batches in turn).
-  let orderEpoch = -1;
-  let batchOrder: number[] = [];
-  const epochOrder = (epoch: number): number[] => {
-    if (epoch !== orderEpoch) {
-      batchOrder = groups.map((_, i) => i);
-      new Random(`${String(seed)}:epoch:${epoch}`).shuffle(batchOrder);
-      orderEpoch = epoch;
-    }
-    return batchOrder;
-  };
+  const { groups, epochOrder } = neighbourBatches(sequences.map((_, i) => i).sort((a, b) => lengths[a] - lengths[b] || a - b), batchSize, options.seed ?? 0);
   // What a group's batch holds that never changes (its lengths, classes, token ids), made at its first use and
   // handed out again, read-only, every epoch.
   interface GroupPlan {
@@ -143,4 +128,25 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
       return { input, steps, batch: rows, lengths: plan.lengths, targets, positions: plan.positions };
     },
   };
+}
+
+/**
+ * Items in `order` (sorted by length, ties by index) cut into batches of `batchSize` neighbours, and each epoch's
+ * batch order: shuffled by a generator seeded with the seed and the epoch, so it depends on nothing else (the order
+ * of the epoch last asked for is kept, as a trainer asks for one epoch's batches in turn).
+ */
+export function neighbourBatches(order: readonly number[], batchSize: number, seed: number | string): { groups: number[][]; epochOrder: (epoch: number) => number[] } {
+  const groups: number[][] = [];
+  for (let i = 0; i < order.length; i += batchSize) groups.push(order.slice(i, i + batchSize));
+  let orderEpoch = -1;
+  let batchOrder: number[] = [];
+  const epochOrder = (epoch: number): number[] => {
+    if (epoch !== orderEpoch) {
+      batchOrder = groups.map((_, i) => i);
+      new Random(`${String(seed)}:epoch:${epoch}`).shuffle(batchOrder);
+      orderEpoch = epoch;
+    }
+    return batchOrder;
+  };
+  return { groups, epochOrder };
 }
