@@ -44,10 +44,12 @@ export interface Contender {
   readonly overall?: ForecastErrors;
   /** Classification scores (classify only). */
   readonly scores?: ClassificationReport;
+  /** Transduction scores (pairs only): exact-match rate, token accuracy, corpus BLEU, each in [0, 1]. */
+  readonly transduction?: { readonly exactMatch: number; readonly tokenAccuracy: number; readonly bleu: number };
 }
 
 export interface HeldOutReport {
-  /** What `value` is: "MAE" (in the data's units), "perplexity" or "accuracy". */
+  /** What `value` is: "MAE" (in the data's units), "perplexity", "accuracy" or "exact match". */
   readonly metric: string;
   readonly lowerIsBetter: boolean;
   /** What was held out, in words. */

@@ -23,11 +23,12 @@ export function verdict(report: HeldOutReport): string {
   const best = bestOf(report);
   const m = report.model.value;
   const better = report.lowerIsBetter ? m < best.value : m > best.value;
-  if (report.metric === 'accuracy') {
+  if (report.metric === 'accuracy' || report.metric === 'exact match') {
+    const metric = report.metric;
     const points = (100 * Math.abs(m - best.value)).toFixed(1);
     return better
-      ? `verdict: the model beats every baseline: accuracy ${percent(m)} against ${percent(best.value)} for the best, ${best.name} (${points} percentage points higher)`
-      : `verdict: the model does NOT beat the baseline ${best.name}: accuracy ${percent(m)} against its ${percent(best.value)} (${points} percentage points ${m === best.value ? 'apart' : 'lower'}); train longer, on more data, or use the baseline`;
+      ? `verdict: the model beats every baseline: ${metric} ${percent(m)} against ${percent(best.value)} for the best, ${best.name} (${points} percentage points higher)`
+      : `verdict: the model does NOT beat the baseline ${best.name}: ${metric} ${percent(m)} against its ${percent(best.value)} (${points} percentage points ${m === best.value ? 'apart' : 'lower'}); train longer, on more data, or use the baseline`;
   }
   const gap = Math.abs(m - best.value);
   const units = report.metric === 'MAE' ? ' in the data\'s units' : '';
@@ -60,6 +61,7 @@ export function reportLines(report: HeldOutReport): string[] {
     const name = c.name.padEnd(width);
     const how = c.description === '' ? '' : `  (${c.description})`;
     if (c.overall !== undefined) lines.push(`  ${name}  ${errorsText(c.overall)}${how}`);
+    else if (c.transduction !== undefined) lines.push(`  ${name}  exact match ${percent(c.transduction.exactMatch)}  token accuracy ${percent(c.transduction.tokenAccuracy)}  BLEU ${figure(c.transduction.bleu)}${how}`);
     else if (c.scores !== undefined) lines.push(`  ${name}  accuracy ${percent(c.scores.accuracy)}  macro-F1 ${figure(c.scores.macroF1)}${how}`);
     else lines.push(`  ${name}  ${report.metric} ${figure(c.value)}${how}`);
   }

@@ -5,11 +5,13 @@
  * - forecast: a CSV/TSV with the model's columns → for each row, the forecast of the target columns `horizon`
  *   rows on, in real units, with any `--keep` columns (a date, an id) carried through;
  * - next-token: text → for each position, the most likely next token and the probability it had;
- * - classification: a CSV with the sequence column → for each row, the predicted class and each class's probability.
+ * - classification: a CSV with the sequence column → for each row, the predicted class and each class's probability;
+ * - an encoder-decoder (pairs): one source per line → its output (transduce.ts).
  * A table read from standard input (`-`) is read line by line and each output row is written as soon as its input
  * row has arrived, so `tail -f readings.csv | weft run MODEL -` forecasts as readings come in.
  */
 import { fail } from '@weft/core';
+import { isEncoderDecoder } from '@weft/cells';
 import { createReadStream, existsSync, readFileSync } from 'node:fs';
 import { createInterface } from 'node:readline';
 import { createTranslator, parseTable, fieldPath } from '@weft/io';
@@ -22,11 +24,14 @@ import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { classifyStepTable } from './score.js';
+import { runTransduction } from './transduce.js';
 
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
   { name: 'keep', value: 'A,B', description: 'input columns to carry through to each output row (forecast, classify), such as a date' },
   { name: 'ahead', value: 'ROWS', description: 'after the last row, forecast this many rows more, each from the forecast before it (a forecast of every column, 1 row ahead)' },
+  { name: 'beam', value: 'WIDTH', description: 'beam search of this width instead of greedy decoding (pairs)', fallback: '1' },
+  { name: 'attention-map', value: 'FILE.svg', description: 'draw the attention weights of the first output (pairs, with attention)' },
   { name: 'out', value: 'FILE', description: 'write here instead of standard output' },
   backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
@@ -116,12 +121,19 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   if (args.positional.length > 2) throw new CommandError(`weft run takes a weight file and one data file, got ${args.positional.length} arguments`, 2);
   const format = choiceFlag(args, 'format', ['csv', 'json'] as const, 'csv');
   const file = await loadWeightFile(modelPath);
-  const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
-  const meta = file.metadata as Record<string, unknown>;
   const fromStdin = dataPath === undefined || dataPath === '-';
   const name = fromStdin ? '<stdin>' : dataPath;
   if (!fromStdin && !existsSync(dataPath)) throw new CommandError(`${dataPath}: no such file`);
   const outPath = args.flags.get('out');
+  if (isEncoderDecoder(file.model)) {
+    const text = await runTransduction(file, args, modelPath, fromStdin ? readFileSync(0, 'utf8') : readFileSync(dataPath, 'utf8'), name, format);
+    if (outPath === undefined) return text;
+    writeFileAtomic(outPath, text);
+    return null;
+  }
+  for (const flag of ['beam', 'attention-map']) if (args.flags.has(flag)) throw new CommandError(`--${flag} applies to encoder-decoders (weft train --task pairs); ${modelPath} is a sequence model`, 2);
+  const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
+  const meta = file.metadata as Record<string, unknown>;
   const output = new Output(format, outPath === undefined ? write : null);
   const keep = args.flags.get('keep')?.split(',').map((s) => s.trim()).filter((s) => s !== '') ?? [];
   if (keep.length > 0 && meta.task === 'next-token') throw new CommandError('--keep carries columns of a table; a next-token model reads text', 2);

@@ -5,13 +5,15 @@
  * file), seasonal naive (`--season ROWS`, or detected in the file) and a linear least-squares fit made on the
  * file itself (so it is flattered: it has seen the answers). Classifiers: accuracy, per-class precision, recall
  * and F1, macro-F1, the counts by actual and predicted class, against always predicting the file's most common
- * class. Next-token models: perplexity against a uniform guess over the vocabulary. Plain text, or
+ * class. Next-token models: perplexity against a uniform guess over the vocabulary. Encoder-decoders (pairs): exact
+ * match, token accuracy and corpus BLEU against copying the source (transduce.ts). Plain text, or
  * `--format json` for scripts.
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { fail, logSumExp } from '@weft/core';
 import { classificationReport, createTranslator, detectSeason, fieldPath, fitLinear, numberAt, parseTable, readStepTable, scoreForecaster } from '@weft/io';
 import type { SeriesSplit, Table } from '@weft/io';
+import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
 import type { Runtime } from '@weft/io/runtime';
@@ -20,12 +22,14 @@ import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import type { Contender, HeldOutReport } from './datasets.js';
 import { CommandError } from './errors.js';
+import { scoreTransduction } from './transduce.js';
 import { reportJson, reportLines } from './report.js';
 
 export const scoreFlags: FlagSpec[] = [
   { name: 'format', value: 'text|json', description: 'plain text, or JSON for scripts', fallback: 'text' },
   { name: 'season', value: 'ROWS|none', description: 'season for the seasonal-naive baseline (forecast)', fallback: 'detected in the file' },
   { name: 'label-column', value: 'NAME', description: 'label column of a classify CSV', fallback: 'label' },
+  { name: 'beam', value: 'WIDTH', description: 'decode by beam search of this width (pairs)', fallback: '1' },
   backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
@@ -43,6 +47,10 @@ export async function score(args: ParsedArgs): Promise<string> {
   const format = choiceFlag(args, 'format', ['text', 'json'] as const, 'text');
   if (!existsSync(dataPath)) throw new CommandError(`${dataPath}: no such file`);
   const file = await loadWeightFile(modelPath);
+  if (isEncoderDecoder(file.model)) {
+    const report = await scoreTransduction(file, args, modelPath, dataPath);
+    return format === 'json' ? `${JSON.stringify(reportJson(report), null, 2)}\n` : `${reportLines(report).join('\n')}\n`;
+  }
   const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
   const meta = file.metadata as Record<string, unknown>;
   const text = readFileSync(dataPath, 'utf8');

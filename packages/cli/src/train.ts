@@ -1,16 +1,18 @@
 /** `weft train`: fit a model to a file of your own, with progress, checkpoints, resume and a loss curve. */
 import { existsSync, readFileSync } from 'node:fs';
 import { basename, extname, resolve } from 'node:path';
-import { MAX_HIDDEN, buildModel } from '@weft/cells';
-import type { LayerDescription, ModelDescription } from '@weft/cells';
+import { ATTENTION_FORMS, EncoderDecoderModel, MAX_HIDDEN, buildModel } from '@weft/cells';
+import type { AnyModelDescription, LayerDescription, ModelDescription, SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer } from '@weft/optim';
-import type { TrainingEvent, TrainingSummary } from '@weft/optim';
+import type { TrainableModel, TrainingEvent, TrainingSummary } from '@weft/optim';
 import { detectDelimiter, sha256Hex } from '@weft/io';
 import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { prepareClassification, prepareForecast, prepareText } from './datasets.js';
 import type { HeldOutReport, Prepared, Task } from './datasets.js';
+import { pairsDescription, preparePairs } from './pairs.js';
+import type { PairsPrepared } from './pairs.js';
 import { runResults } from './results.js';
 import { reportLines } from './report.js';
 import { backendFlag, chooseBackend } from './backend.js';
@@ -20,15 +22,15 @@ import type { LossPoint } from './plot.js';
 import { ProgressView, formatSeconds } from './progress.js';
 
 export const trainFlags: FlagSpec[] = [
-  { name: 'task', value: 'forecast|text|classify', description: 'what to learn; by default .txt/.md files are text, CSVs with label and sequence columns are classify, other CSVs forecast' },
+  { name: 'task', value: 'forecast|text|classify|pairs', description: 'what to learn; by default .txt/.md files are text, CSVs with label and sequence columns are classify, with source and target columns pairs (an encoder-decoder), other CSVs forecast' },
   { name: 'cell', value: 'lstm|gru|plain', description: 'recurrent cell', fallback: 'lstm' },
   { name: 'hidden', value: 'NUMBER', description: 'hidden units per layer', fallback: '64' },
   { name: 'layers', value: 'NUMBER', description: 'stacked layers', fallback: '1' },
-  { name: 'bidirectional', switch: true, description: 'read sequences both ways (classify only)' },
+  { name: 'bidirectional', switch: true, description: 'read sequences both ways (classify; pairs: the encoder)' },
   { name: 'dropout', value: 'RATE', description: 'dropout between layers while training', fallback: '0' },
   { name: 'window', value: 'STEPS', description: 'truncated-backpropagation window: new steps per update', fallback: '32' },
   { name: 'lookback', value: 'STEPS', description: 'also back-propagate through this many steps before each window (forecast, text)', fallback: '0' },
-  { name: 'streams', value: 'NUMBER', description: 'parallel streams (forecast, text) or sequences per batch (classify)', fallback: '8' },
+  { name: 'streams', value: 'NUMBER', description: 'parallel streams (forecast, text) or sequences per batch (classify, pairs)', fallback: '8' },
   { name: 'epochs', value: 'NUMBER', description: 'passes over the training data (at most: see --patience)', fallback: '20' },
   { name: 'rate', value: 'NUMBER', description: 'Adam learning rate', fallback: '0.005' },
   { name: 'clip', value: 'NUMBER', description: 'clip the global gradient norm to this', fallback: '1' },
@@ -47,6 +49,11 @@ export const trainFlags: FlagSpec[] = [
   { name: 'sequence-column', value: 'NAME', description: 'sequence column of a classify CSV (space-separated items)', fallback: 'sequence' },
   { name: 'id-column', value: 'NAME', description: 'classify a long table: one step per row, several number columns per step, this column naming the sequence' },
   { name: 'step-column', value: 'NAME', description: 'in a long table, the column ordering the steps of a sequence', fallback: 'file order' },
+  { name: 'source-column', value: 'NAME', description: 'source column of a pairs CSV', fallback: 'source' },
+  { name: 'target-column', value: 'NAME', description: 'target column of a pairs CSV', fallback: 'target' },
+  { name: 'attention', value: 'general|dot|additive|none', description: 'how each decoding step looks at the source (pairs)', fallback: 'general' },
+  { name: 'reverse-source', switch: true, description: 'feed each source to the encoder reversed (pairs)' },
+  { name: 'max-target', value: 'TOKENS', description: 'longest target the decoder writes; longer targets in the data are an error (pairs)', fallback: '100' },
   { name: 'out', value: 'FILE', description: 'where the weight file goes', fallback: '<data name>.weft.json' },
   { name: 'checkpoint', value: 'FILE', description: 'where checkpoints go', fallback: '<out>.checkpoint.json' },
   { name: 'checkpoint-every', value: 'STEPS', description: 'write a checkpoint this often (and at the end)', fallback: '200' },
@@ -64,10 +71,11 @@ function readData(path: string): string {
   return readFileSync(path, 'utf8');
 }
 
-function guessTask(path: string, text: string): Task {
+function guessTask(path: string, text: string): Task | 'pairs' {
   const extension = extname(path).toLowerCase();
   if (extension === '.txt' || extension === '.md') return 'text';
   const header = text.split(/\r?\n/, 1)[0].split(detectDelimiter(text, path)).map((h) => h.trim());
+  if (header.includes('source') && header.includes('target')) return 'pairs';
   return header.includes('label') && header.includes('sequence') ? 'classify' : 'forecast';
 }
 
@@ -98,7 +106,7 @@ export interface TrainOutcome {
   /** The model and the baselines on the held-out data. */
   readonly heldOut: HeldOutReport;
   /** The data as the verb prepared it (inputs, targets, metadata, held-out rows). */
-  readonly prepared: Prepared;
+  readonly prepared: Prepared | PairsPrepared;
 }
 
 /**
@@ -111,7 +119,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   if (args.positional.length > 1) throw new CommandError(`weft train takes one data file, got ${args.positional.length}: ${args.positional.join(' ')}`, 2);
   const backend = chooseBackend(args);
   const text = readData(dataPath);
-  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify'] as const, args.flags.has('id-column') ? 'classify' : guessTask(dataPath, text));
+  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify', 'pairs'] as const, args.flags.has('id-column') ? 'classify' : guessTask(dataPath, text));
   const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
   const hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
   const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
@@ -133,9 +141,20 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     season: args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined,
   };
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
-  if (args.switches.has('bidirectional') && task !== 'classify') throw new CommandError('--bidirectional needs --task classify (forecasts and text are read forward in time)', 2);
-  const prepared: Prepared =
-    task === 'forecast' ? prepareForecast(text, dataPath, options)
+  if (options.lookback > 0 && task === 'pairs') throw new CommandError('--lookback applies to streams (--task forecast or text); pairs are read whole', 2);
+  if (args.switches.has('bidirectional') && task !== 'classify' && task !== 'pairs') throw new CommandError('--bidirectional needs --task classify or pairs (forecasts and text are read forward in time)', 2);
+  for (const name of ['source-column', 'target-column', 'attention', 'reverse-source', 'max-target']) {
+    if ((args.flags.has(name) || args.switches.has(name)) && task !== 'pairs') throw new CommandError(`--${name} applies to --task pairs (an encoder-decoder), not ${task}`, 2);
+  }
+  const attention = choiceFlag(args, 'attention', [...ATTENTION_FORMS, 'none'] as const, 'general');
+  const prepared: Prepared | PairsPrepared =
+    task === 'pairs' ? preparePairs(text, dataPath, {
+      ...options,
+      sourceColumn: args.flags.get('source-column') ?? 'source',
+      targetColumn: args.flags.get('target-column') ?? 'target',
+      maxTarget: numberFlag(args, 'max-target', 100, { whole: true, min: 1, max: 100000 }),
+    })
+    : task === 'forecast' ? prepareForecast(text, dataPath, options)
       : task === 'text' ? prepareText(text, dataPath, options)
         : prepareClassification(text, dataPath, {
           ...options,
@@ -148,14 +167,16 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const info = args.switches.has('quiet') ? () => undefined : log;
   for (const note of prepared.notes ?? []) info(note);
   const layers: LayerDescription[] = Array.from({ length: layerCount }, () => ({ cell, hidden, ...(args.switches.has('bidirectional') ? { bidirectional: true } : {}) }));
-  const description: ModelDescription = { input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } };
+  const description: AnyModelDescription = prepared.task === 'pairs'
+    ? pairsDescription({ cell, hidden, layers: layerCount, bidirectional: args.switches.has('bidirectional'), dropout, embedding: options.embedding, attention: attention === 'none' ? null : attention, reverseSource: args.switches.has('reverse-source'), sourceVocabulary: prepared.sourceVocabulary.length, targetVocabulary: prepared.targetVocabulary.length })
+    : { input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } } satisfies ModelDescription;
   const out = resolve(args.flags.get('out') ?? `${basename(dataPath, extname(dataPath))}.weft.json`);
   const checkpoint = resolve(args.flags.get('checkpoint') ?? out.replace(/\.json$/i, '') + '.checkpoint.json');
   const curve = checkpoint.replace(/\.json$/i, '') + '.loss.svg';
   const dataDigest = await sha256Hex(new TextEncoder().encode(text));
   const store = choiceFlag(args, 'store', ['f32', 'f16', 'i8'] as const, 'f32');
   const every = numberFlag(args, 'checkpoint-every', 200, { whole: true, min: 1 });
-  const model = buildModel(description, { seed });
+  const model: TrainableModel = prepared.task === 'pairs' ? new EncoderDecoderModel(description, { seed }) : buildModel(description, { seed });
   const history: { training: LossPoint[]; validation: LossPoint[] } = { training: [], validation: [] };
   // A forecast of one column: its validation MAE shown in the data's units (the column's deviation undoes the scaling).
   // With differences, the error of the change is the error of the level, so its deviation serves; log returns
@@ -222,7 +243,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     controller.abort();
   };
   process.on('SIGINT', onInterrupt);
-  info(`training a ${cell.toUpperCase()} ${task} model (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend`);
+  const kind = task === 'pairs' ? `encoder-decoder (${attention === 'none' ? 'no' : attention} attention)` : `${task} model`;
+  info(`training a ${cell.toUpperCase()} ${kind} (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend`);
   let summary: TrainingSummary;
   try {
     summary = await trainer.run();
@@ -238,7 +260,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     throw new CommandError('', 130);
   }
   await saveWeightFile(out, model, { dtype: store, metadata: metadataFor(trainer) });
-  const heldOut = prepared.heldOut(model);
+  const heldOut = prepared.task === 'pairs' ? prepared.heldOut(model as EncoderDecoderModel) : prepared.heldOut(model as SequenceModel);
   info(`loss ${sparkline(history.training.map((p) => p.loss))} ${history.training.at(-1)?.loss.toPrecision(4) ?? ''}`);
   for (const line of reportLines(heldOut)) log(line);
   const seconds = earlierSeconds + (Date.now() - started) / 1000;

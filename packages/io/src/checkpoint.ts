@@ -6,7 +6,7 @@
  */
 import { WeftError, fail, isRecord } from '@weft/core';
 import type { Problem, TrainingState } from '@weft/core';
-import type { AnyModelDescription, NamedParameter } from '@weft/cells';
+import type { SavedModel } from './model-file.js';
 import { modelTensors } from './model-file.js';
 import type { ReadOptions, WeightFile, WeightMetadata } from './weight-file.js';
 import { readWeightFile, respellVersionOneName, writeWeightFile } from './weight-file.js';
@@ -18,7 +18,7 @@ export interface TrainingStateSource {
 }
 
 /** A checkpoint's text: the model's weights (f32) with the trainer's snapshot in the `training` field. */
-export async function writeCheckpoint(trainer: TrainingStateSource, model: { readonly description: AnyModelDescription; parameters(): readonly NamedParameter[] }, metadata: WeightMetadata = {}): Promise<string> {
+export async function writeCheckpoint(trainer: TrainingStateSource, model: SavedModel, metadata: WeightMetadata = {}): Promise<string> {
   // The weights travel as the file's tensors; the rest of the snapshot is the training state.
   const training: Record<string, unknown> = { ...trainer.snapshot() };
   delete training.parameters;

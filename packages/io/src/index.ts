@@ -7,6 +7,7 @@ export type { NamedValues, ReadOptions, StoredDType, WeightFile, WeightMetadata,
 export { FORMAT_TAG, FORMAT_VERSION, readWeightFile, writeWeightFile } from './weight-file.js';
 export type { LoadOptions } from './model-file.js';
 export { loadEncoderDecoder, loadModel, modelTensors } from './model-file.js';
+export type { SavedModel } from './model-file.js';
 export { readWeightFileBlob, weightFileBlob } from './blob.js';
 export type { TrainingState } from '@weft/core';
 export type { Checkpoint, TrainingStateSource } from './checkpoint.js';

@@ -7,8 +7,16 @@ import type { DType, Problem } from '@weft/core';
 import { EncoderDecoderModel, buildModel, isEncoderDecoder, parameterLayout } from '@weft/cells';
 import { layoutProblems } from './layout-check.js';
 import { checkMetadata } from './metadata.js';
-import type { BuildOptions, NamedParameter, SequenceModel } from '@weft/cells';
+import type { AnyModelDescription, BuildOptions, NamedParameter, SequenceModel } from '@weft/cells';
 import type { NamedValues, WeightFile } from './weight-file.js';
+
+/** A model a weight file can be written from: its description and its named parameters (either kind of model). */
+export interface SavedModel {
+  /** The model's description. */
+  readonly description: AnyModelDescription;
+  /** Its parameters by their stable names. */
+  parameters(): readonly NamedParameter[];
+}
 
 /** The tensors of any model with named parameters (a SequenceModel or an EncoderDecoderModel). */
 export function modelTensors(model: { parameters(): readonly NamedParameter[] }): NamedValues[] {

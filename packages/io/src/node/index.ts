@@ -8,6 +8,7 @@ import { closeSync, fsyncSync, openSync, readFileSync, readdirSync, renameSync, 
 import { basename, dirname, join } from 'node:path';
 import { WeftError, fail } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
+import type { SavedModel } from '../model-file.js';
 import { checkMetadata, loadModel, modelTensors, readCheckpoint, readWeightFile, writeCheckpoint, writeWeightFile } from '@weft/io';
 import type { Checkpoint, ReadOptions, TrainingStateSource, WeightFile, WeightMetadata, WriteOptions } from '@weft/io';
 
@@ -81,7 +82,7 @@ export function readText(path: string): string {
 }
 
 /** Writes a model's weight file to `path` atomically (a temporary file, then a rename). */
-export async function saveWeightFile(path: string, model: SequenceModel, options: WriteOptions = {}): Promise<void> {
+export async function saveWeightFile(path: string, model: SavedModel, options: WriteOptions = {}): Promise<void> {
   writeFileAtomic(path, await writeWeightFile(model.description, modelTensors(model), options));
 }
 
@@ -96,7 +97,7 @@ export async function loadModelFile(path: string, options: ReadOptions = {}): Pr
 }
 
 /** Writes a trainer's checkpoint to `path` atomically. */
-export async function saveCheckpoint(path: string, trainer: TrainingStateSource, model: SequenceModel, metadata: WeightMetadata = {}): Promise<void> {
+export async function saveCheckpoint(path: string, trainer: TrainingStateSource, model: SavedModel, metadata: WeightMetadata = {}): Promise<void> {
   writeFileAtomic(path, await writeCheckpoint(trainer, model, metadata));
 }
 

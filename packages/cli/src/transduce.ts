@@ -1,0 +1,72 @@
+/**
+ * `weft run` and `weft score` for an encoder-decoder written by `weft train --task pairs`: sources in, outputs out
+ * (greedy, or beam search with `--beam`), and held-out figures on a pairs file beside the copy baseline. `run` reads
+ * one source per line, or a pairs CSV (a first line naming the model's source column); `--attention-map FILE.svg`
+ * draws what attention looked at while writing the first output.
+ */
+import { readFileSync } from 'node:fs';
+import { parseTable } from '@weft/io';
+import type { WeightFile } from '@weft/io';
+import { writeFileAtomic } from '@weft/io/node';
+import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
+import type { EncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
+import type { ParsedArgs } from './args.js';
+import { numberFlag } from './args.js';
+import { attentionMapSvg } from './attention-map.js';
+import { chooseBackend } from './backend.js';
+import { CommandError } from './errors.js';
+import { decodeText, readPairs, sourceIds, textOf, tokensOf, transductionMeta, transductionReport } from './pairs.js';
+import type { TransductionMeta } from './pairs.js';
+import type { HeldOutReport } from './datasets.js';
+
+async function open(file: WeightFile, args: ParsedArgs, path: string): Promise<{ runtime: EncoderDecoderRuntime; meta: TransductionMeta; beam: number }> {
+  const runtime = await createEncoderDecoderRuntime(file, { backend: chooseBackend(args).name });
+  const meta = transductionMeta(file.metadata, runtime, path);
+  return { runtime, meta, beam: numberFlag(args, 'beam', 1, { whole: true, min: 1, max: 64 }) };
+}
+
+/** The sources of `text`: the source column of a pairs CSV whose header names it, else every non-empty line. */
+function sourcesOf(text: string, name: string, meta: TransductionMeta): { sources: string[][]; lines: string[] } {
+  const first = text.split(/\r?\n/, 1)[0].trim();
+  if (first === meta.sourceColumn || first.split(/[,\t;]/).map((h) => h.trim()).includes(meta.sourceColumn)) {
+    const table = parseTable(text, { file: name });
+    const at = table.header.indexOf(meta.sourceColumn);
+    const lines = table.rows.map((r) => r.fields[at].trim());
+    return { sources: lines.map((l) => tokensOf(l, meta.tokens)), lines };
+  }
+  const lines = text.split(/\r?\n/).map((l) => l.trim()).filter((l) => l !== '');
+  return { sources: lines.map((l) => tokensOf(l, meta.tokens)), lines };
+}
+
+const csvCell = (v: string): string => (/[",\n\r]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v);
+
+/** `weft run` on a transduction model: each source's output, as CSV (source,output) or JSON. */
+export async function runTransduction(file: WeightFile, args: ParsedArgs, modelPath: string, text: string, name: string, format: 'csv' | 'json'): Promise<string> {
+  const { runtime, meta, beam } = await open(file, args, modelPath);
+  const { sources, lines } = sourcesOf(text, name, meta);
+  if (sources.length === 0) throw new CommandError(`${name}: no sources to run (one per line, or a CSV with a ${JSON.stringify(meta.sourceColumn)} column)`);
+  const unknown = sources.reduce((n, s) => n + sourceIds(s, meta.sourceVocabulary).unknown, 0);
+  if (unknown > 0) process.stderr.write(`weft: ${unknown} ${meta.tokens} of ${name} are not in the model's source vocabulary; they are read as <unknown>\n`);
+  const mapPath = args.flags.get('attention-map');
+  if (mapPath !== undefined && runtime.attention === null) throw new CommandError(`--attention-map needs a model with attention; ${modelPath} has none`, 2);
+  const records = sources.map((source, k) => {
+    const decoded = decodeText(runtime, meta, source, k === 0 && mapPath !== undefined ? 1 : beam);
+    if (k === 0 && mapPath !== undefined) {
+      const weights = new Float32Array(decoded.attention.length * source.length);
+      decoded.attention.forEach((row, t) => weights.set(row, t * source.length));
+      // The last row is the end token's, when the output finished.
+      const output = [...decoded.output, ...(decoded.attention.length > decoded.output.length ? ['<end>'] : [])];
+      writeFileAtomic(mapPath, attentionMapSvg(source, output, weights, `attention while writing ${JSON.stringify(textOf(decoded.output, meta.tokens))}`));
+    }
+    return { source: lines[k], output: textOf(decoded.output, meta.tokens) };
+  });
+  if (format === 'json') return `${JSON.stringify(records, null, 2)}\n`;
+  return `source,output\n${records.map((r) => `${csvCell(r.source)},${csvCell(r.output)}`).join('\n')}\n`;
+}
+
+/** `weft score` on a transduction model: exact match, token accuracy and BLEU on a pairs file, beside copying. */
+export async function scoreTransduction(file: WeightFile, args: ParsedArgs, modelPath: string, dataPath: string): Promise<HeldOutReport> {
+  const { runtime, meta, beam } = await open(file, args, modelPath);
+  const pairs = readPairs(readFileSync(dataPath, 'utf8'), dataPath, { sourceColumn: meta.sourceColumn, targetColumn: meta.targetColumn, tokens: meta.tokens, maxTarget: Number.MAX_SAFE_INTEGER });
+  return transductionReport(runtime, meta, pairs.sources, pairs.targets, `${pairs.sources.length} pairs of ${dataPath}`, beam);
+}

@@ -1,0 +1,65 @@
+/**
+ * `weft train --task pairs`, then `weft run` and `weft score` on the encoder-decoder it writes, through the built
+ * binary: outputs for standard input and for a pairs CSV, beam search, the attention map, the held-out report
+ * (the copy baseline's figures recomputed here from their definitions), and one-line errors (F of issue 16).
+ */
+import { readFileSync, writeFileSync } from 'node:fs';
+import { join } from 'node:path';
+import { describe, expect, it } from 'vitest';
+import { commandFolder, expectOneLineError } from './command.js';
+
+const { folder, weft } = commandFolder('weft-pairs-');
+// Invented shelf codes: letters a–d with dashes, to be written upper case without the dashes.
+const codes = Array.from({ length: 160 }, (_, i) => {
+  const letters = Array.from({ length: 3 + (i % 4) }, (_, k) => 'abcd'[(i * 7 + k * 3 + Math.floor(i / 5)) % 4]);
+  if (i % 3 !== 0) letters.splice(1 + (i % 2), 0, '-');
+  return letters.join('');
+});
+writeFileSync(join(folder, 'codes.csv'), ['source,target', ...codes.map((c) => `${c},${c.replace(/-/g, '').toUpperCase()}`)].join('\n') + '\n');
+
+describe('weft on source/target pairs', () => {
+  it('trains an encoder-decoder with attention from a pairs CSV (found by its columns) and reports it beside copying', () => {
+    const trained = weft(['train', 'codes.csv', '--hidden', '24', '--embedding', '8', '--epochs', '25', '--streams', '16', '--rate', '0.02', '--bidirectional', '--quiet']);
+    expect(trained.err).toBe('');
+    expect(trained.code).toBe(0);
+    expect(trained.out).toMatch(/^held out: 16 pairs of codes\.csv \(a seeded 10% share\)$/m);
+    expect(trained.out).toMatch(/^ {2}model +exact match [\d.]+%  token accuracy [\d.]+%  BLEU [\d.]+  \(greedy decoding\)$/m);
+    expect(trained.out).toMatch(/^ {2}copy +exact match 0\.0%  token accuracy [\d.]+%  BLEU [\d.]+  \(the source itself as the output\)$/m);
+    const file = JSON.parse(readFileSync(join(folder, 'codes.weft.json'), 'utf8')) as { model: { attention: string; encoder: { layers: { bidirectional: boolean }[] } }; metadata: { task: string } };
+    expect([file.model.attention, file.model.encoder.layers[0].bidirectional, file.metadata.task]).toEqual(['general', true, 'transduction']);
+  });
+
+  it('runs sources from standard input and from a pairs CSV, greedily and by beam search, and draws the attention map', () => {
+    const run = weft(['run', 'codes.weft.json', '-', '--format', 'json'], 'ab-cd\nd-dab\n');
+    expect(run.code).toBe(0);
+    const rows = JSON.parse(run.out) as { source: string; output: string }[];
+    expect(rows.map((r) => r.source)).toEqual(['ab-cd', 'd-dab']);
+    for (const row of rows) expect(row.output).toMatch(/^[ABCD]*$/);
+    const beam = weft(['run', 'codes.weft.json', 'codes.csv', '--beam', '3', '--attention-map', 'map.svg']);
+    expect(beam.code).toBe(0);
+    expect(beam.out.split('\n')[0]).toBe('source,output');
+    expect(beam.out.trim().split('\n')).toHaveLength(161);
+    const svg = readFileSync(join(folder, 'map.svg'), 'utf8');
+    // The first source's characters label the columns.
+    expect(svg).toMatch(/^<svg /);
+    for (const c of codes[0]) expect(svg).toContain(`>${c}</text>`);
+  });
+
+  it('scores a pairs file: the copy baseline\'s figures are those of its definitions', () => {
+    const scored = weft(['score', 'codes.weft.json', 'codes.csv', '--format', 'json']);
+    expect(scored.code).toBe(0);
+    const report = JSON.parse(scored.out) as { metric: string; model: { transduction: { exactMatch: number } }; baselines: { name: string; transduction: { exactMatch: number; tokenAccuracy: number } }[] };
+    expect(report.metric).toBe('exact match');
+    expect(report.model.transduction.exactMatch).toBeGreaterThan(report.baselines[0].transduction.exactMatch);
+    // Copying: every source letter is lower case and every target letter upper case, so no position matches.
+    expect(report.baselines[0].transduction).toMatchObject({ exactMatch: 0, tokenAccuracy: 0 });
+  });
+
+  it('refuses an empty side, a target over the decoder limit and an unknown attention form in one line', () => {
+    writeFileSync(join(folder, 'empty.csv'), 'source,target\nab,AB\ncd,\n');
+    expectOneLineError(weft(['train', 'empty.csv']), 1, /^weft: Bad data at empty\.csv:3:4: expected a target of at least one character, received an empty field$/);
+    expectOneLineError(weft(['train', 'codes.csv', '--max-target', '3', '--start-over']), 1, /^weft: Bad data at codes\.csv:\d+:\d+: expected a target of at most 3 characters \(the decoder's limit, --max-target\), received \d+$/);
+    expectOneLineError(weft(['train', 'codes.csv', '--attention', 'cosine']), 2, /^weft: --attention must be one of dot, general, additive, none, got "cosine"$/);
+    expectOneLineError(weft(['train', 'codes.csv', '--task', 'classify', '--reverse-source']), 2, /^weft: --reverse-source applies to --task pairs/);
+  });
+});
