@@ -103,6 +103,12 @@ export class BufferPool {
     this.peakBytesInUse = this.bytesInUse;
   }
 
+  /** Hands every free f32 array to `release` (its memory's own release) and drops every free array. */
+  releaseFree(release: (array: Float32Array) => void): void {
+    for (const list of this.free32.values()) for (const array of list) release(array);
+    this.drain();
+  }
+
   /** Drops every free array, so the memory can be collected. */
   drain(): void {
     this.free32.clear();

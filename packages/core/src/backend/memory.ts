@@ -8,7 +8,10 @@
  *
  * Blocks are 16-byte aligned (one SIMD vector) and start past address 0, which the kernels read as "no array".
  * A block comes back only through `release` (the buffer pool keeps what is given back to it for reuse, so a
- * training loop that repeats the same shapes takes new blocks only in its first step).
+ * training loop that repeats the same shapes takes new blocks only in its first step). Batches of many shapes
+ * (sequences of every length) leave blocks of many sizes: when the reservation runs out, `whenExhausted` is asked
+ * to give back what it holds unused (the training backend empties its pools' free lists), neighbouring free blocks
+ * are joined, and the request is served from the smallest free block that holds it (the rest stays free).
  */
 import { fail } from '../errors.js';
 
@@ -36,6 +39,8 @@ export class LinearMemory {
   private readonly free = new Map<number, number[]>();
   /** This memory's place in the numbering of recorded offsets (see OFFSET_KEY): its number times 2³². */
   private readonly base = memoriesMade++ * SPAN;
+  /** Called once when a request does not fit, to give unused blocks back (through `release`) before it fails. */
+  whenExhausted: (() => void) | null = null;
   constructor(bytes: number) {
     const pages = Math.ceil(bytes / PAGE);
     this.memory = new WebAssembly.Memory({ initial: pages, maximum: pages });
@@ -54,6 +59,9 @@ export class LinearMemory {
     const reuse = this.free.get(size);
     if (reuse !== undefined && reuse.length > 0) return reuse.pop() as number;
     if (this.top + size > this.reservedBytes) {
+      this.whenExhausted?.();
+      const found = this.joinFree(size);
+      if (found >= 0) return found;
       fail('backend_memory', 'webassembly backend', `at most ${this.reservedBytes} bytes of tensors and scratch (the reservation)`,
         `a request for ${size} more bytes with ${this.top} in use`,
         'make the backend with a larger memoryBytes, or give buffers back to their pool');
@@ -69,6 +77,40 @@ export class LinearMemory {
     const list = this.free.get(size);
     if (list === undefined) this.free.set(size, [offset]);
     else list.push(offset);
+  }
+
+  /**
+   * Joins neighbouring free blocks (lowering the bump pointer under a free tail), then takes the smallest free block
+   * of at least `size` bytes, splitting off the rest; −1 when none holds it.
+   */
+  private joinFree(size: number): number {
+    const blocks: number[][] = [];
+    for (const [bytes, offsets] of this.free) for (const offset of offsets) blocks.push([offset, bytes]);
+    blocks.sort((a, b) => a[0] - b[0]);
+    const joined: number[][] = [];
+    for (const block of blocks) {
+      const last = joined[joined.length - 1];
+      if (last !== undefined && last[0] + last[1] === block[0]) last[1] += block[1];
+      else joined.push(block);
+    }
+    const tail = joined[joined.length - 1];
+    if (tail !== undefined && tail[0] + tail[1] === this.top) {
+      this.top = tail[0];
+      joined.pop();
+    }
+    this.free.clear();
+    let best = -1;
+    for (let i = 0; i < joined.length; i++) if (joined[i][1] >= size && (best < 0 || joined[i][1] < joined[best][1])) best = i;
+    let offset = -1;
+    if (best >= 0) {
+      offset = joined[best][0];
+      joined[best] = [offset + size, joined[best][1] - size];
+    } else if (this.top + size <= this.reservedBytes) {
+      offset = this.top;
+      this.top += size;
+    }
+    for (const [at, bytes] of joined) if (bytes > 0) this.release(at, bytes);
+    return offset;
   }
 
   floats(length: number): Float32Array {

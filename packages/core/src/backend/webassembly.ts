@@ -60,6 +60,7 @@ class WebAssemblyBackend implements Backend {
   readonly kernels: KernelTable;
   readonly pool: BufferPool;
   readonly memory: LinearMemory;
+  private readonly pools: BufferPool[] = [];
   private readonly exports: TrainingExports;
   private readonly workspace: KernelWorkspace;
 
@@ -68,6 +69,10 @@ class WebAssemblyBackend implements Backend {
     const instance = new WebAssembly.Instance(compiled, { env: { memory: this.memory.memory } });
     this.exports = instance.exports as unknown as TrainingExports;
     const memory = this.memory;
+    // When the reservation runs out, every pool's unused f32 blocks go back to the memory first (memory.ts).
+    memory.whenExhausted = () => {
+      for (const pool of this.pools) pool.releaseFree((array) => memory.release(memory.offsetOf(array), array.length * 4));
+    };
     this.pool = this.createPool();
     this.workspace = new KernelWorkspace(memory);
     registerMemory(memory.buffer, this);
@@ -76,7 +81,9 @@ class WebAssemblyBackend implements Backend {
 
   createPool(): BufferPool {
     const memory = this.memory;
-    return new BufferPool((dtype, length) => (dtype === 'f64' ? new Float64Array(length) : memory.floats(length)));
+    const pool = new BufferPool((dtype, length) => (dtype === 'f64' ? new Float64Array(length) : memory.floats(length)));
+    this.pools.push(pool);
+    return pool;
   }
 
   holds(array: FloatArray): boolean {

@@ -5,7 +5,7 @@
  * loads); the rest are the promises of memory.ts, checked against the views' own `byteOffset` and `buffer`.
  */
 import { describe, expect, it } from 'vitest';
-import { WeftError } from '@weft/core';
+import { WeftError, createWebAssemblyBackend, webAssemblyUnavailable } from '@weft/core';
 import { LinearMemory } from '../../src/backend/memory.js';
 
 describe('LinearMemory', () => {
@@ -75,5 +75,47 @@ describe('LinearMemory', () => {
     expect(Object.getOwnPropertySymbols(a).every((key) => !Object.getOwnPropertyDescriptor(a, key)?.enumerable)).toBe(true);
     expect(a).toEqual(Float32Array.from([1, 2, 3]));
     expect(JSON.stringify(a)).toBe('{"0":1,"1":2,"2":3}');
+  });
+
+  it('when the reservation runs out, joins neighbouring free blocks and serves the request from them, splitting the rest off', () => {
+    const memory = new LinearMemory(65536);
+    const blocks = Array.from({ length: 15 }, () => memory.floats(1000));
+    // 15 × 4000 bytes are in use; 4,000 more do not fit, nor does one block of 12,000 before anything is released.
+    expect(() => memory.floats(3000)).toThrowError(WeftError);
+    for (const block of blocks.slice(3, 6)) memory.release(block.byteOffset, block.byteLength);
+    // Three neighbours of 4,000 bytes make one of 12,000: a request of 2,500 floats (10,000 bytes) fits there.
+    const big = memory.floats(2500);
+    expect(big.byteOffset).toBe(blocks[3].byteOffset);
+    // The 2,000 bytes split off stay free for a smaller request.
+    expect(memory.floats(500).byteOffset).toBe(blocks[3].byteOffset + 10000);
+  });
+
+  it('asks whenExhausted for unused blocks before refusing, and lowers its top under a free tail', () => {
+    const memory = new LinearMemory(65536);
+    const kept: Float32Array[] = [];
+    for (let i = 0; i < 15; i++) kept.push(memory.floats(1000));
+    let asked = 0;
+    memory.whenExhausted = () => {
+      asked++;
+      // A pool's free list giving its blocks back: the last five, which end at the top.
+      for (const block of kept.splice(10)) memory.release(block.byteOffset, block.byteLength);
+    };
+    const fresh = memory.floats(4000);
+    expect(asked).toBe(1);
+    expect(fresh.byteOffset).toBe(kept[9].byteOffset + 4000);
+  });
+});
+
+describe.skipIf(webAssemblyUnavailable() !== null)('the WebAssembly backend on batches of many shapes', () => {
+  it('reuses its pools\' unused blocks when the reservation runs out, instead of failing', () => {
+    const backend = createWebAssemblyBackend({ memoryBytes: 1048576 });
+    const pool = backend.createPool();
+    // 300 different lengths of about 8 KB each: 2.4 MB in all, more than the 1 MiB reserved, one at a time in use.
+    for (let length = 2000; length < 2300; length++) {
+      const array = pool.take('f32', length);
+      array[length - 1] = length;
+      pool.give(array);
+    }
+    expect(backend.memory.usedBytes).toBeLessThanOrEqual(1048576);
   });
 });
