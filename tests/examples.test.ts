@@ -36,6 +36,16 @@ describe('the examples (reduced budget)', () => {
     for (const accuracy of Object.values(result)) expect(accuracy).toBeGreaterThan(0.5);
   });
 
+  it('(g) attention keeps long seal codes exact where the model without it, of the same size and budget, fails (issue 16, D)', async () => {
+    const { sealCodes } = await import('../examples/seal-codes/main.js');
+    const result = await sealCodes();
+    const [, , longest] = result.bands;
+    console.log(`seal codes, longest third (${longest.from}–${longest.to}): with attention ${longest.withAttention}, without ${longest.without}; parameters ${JSON.stringify(result.parameters)}`);
+    expect(longest.withAttention - longest.without).toBeGreaterThanOrEqual(0.2);
+    expect(Math.abs(result.parameters.withAttention - result.parameters.without) / result.parameters.withAttention).toBeLessThan(0.01);
+    expect(result.map).toMatch(/^<svg [\s\S]*<\/svg>\n?$/);
+  }, 300_000);
+
   it('(d) the sequence classifier beats always answering the most common class', async () => {
     const { classifyVibration } = await import('../examples/classify-vibration/main.js');
     const result = await classifyVibration();

@@ -6,3 +6,4 @@ export { parseArgs } from './args.js';
 export { reportLines, verdict } from './report.js';
 export { CommandError } from './errors.js';
 export { lossCurveSvg, sparkline } from './plot.js';
+export { attentionMapSvg } from './attention-map.js';

@@ -3,7 +3,9 @@
  * Vinyals & Le 2014, §3.2): keep the `width` best partial outputs by total log-probability, extend each by every
  * token, keep the best `width` again; an output that emits the end token is finished. Finished outputs are ranked
  * by length-normalised score, log P / length^α (α = `lengthPenalty`, default 1: the mean log-probability per
- * token; 0 ranks by total log-probability).
+ * token; 0 ranks by total log-probability). The search goes on until no partial output is left or `maxLength`
+ * (with α = 0 it stops once no partial output can beat the `width` best finished ones); outputs that reached
+ * `maxLength` unfinished come after every finished one.
  */
 import { fail, logSumExp } from '@weft/core';
 import type { Decoding, EncoderDecoderRuntime } from './decoding.js';
@@ -76,7 +78,14 @@ function search(decoding: Decoding, vocabulary: number, width: number, alpha: nu
         if (next.length === width) break;
       }
     }
-    if (finished.length >= width) break;
+    // Stop early only when nothing alive can still win: with α = 0 a score only falls as an output grows, so once
+    // `width` finished outputs all score above the best alive one, no longer output can beat them. With α > 0 a
+    // longer output can still score higher (its mean can rise), so the search goes on to the end or maxLength
+    // (stopping at the first `width` finished outputs returned short, wrong ones ahead of better ones still alive).
+    if (alpha === 0 && finished.length >= width && next.length > 0) {
+      const worstKept = finished.map((f) => f.score).sort((a, b) => b - a)[width - 1];
+      if (worstKept >= next[0].logProbability) break;
+    }
     // Each surviving output continues from its parent's decoder state.
     decoding.keepRows(next.map((n) => n.parent));
     beams = next;
