@@ -102,6 +102,19 @@ describe('encoder-decoders with attention in the runtime', () => {
     }
   });
 
+  it('samples with a seeded generator: the same seed gives the same output, and each token is one the softmax allows', async () => {
+    const runtime = await runtimeOf(shaken(description('additive', true), 'sampled'));
+    const source = [2, 3, 4, 5, 6];
+    const draw = (seed: string) => runtime.decode(source, { startToken: START, endToken: END, maxLength: 12, random: new Random(seed), temperature: 1.5 }).tokens;
+    expect(draw('a')).toEqual(draw('a'));
+    const outputs = ['a', 'b', 'c', 'd', 'e', 'f'].map(draw);
+    // At temperature 1.5 over 5 tokens, six seeds do not all draw the greedy output.
+    const greedy = runtime.decode(source, { startToken: START, endToken: END, maxLength: 12 }).tokens;
+    expect(outputs.some((o) => o.join() !== greedy.join())).toBe(true);
+    // top-k 1 is greedy, whatever the seed.
+    expect(runtime.decode(source, { startToken: START, endToken: END, maxLength: 12, random: new Random('z'), topK: 1 }).tokens).toEqual(greedy);
+  });
+
   it('with a beam wide enough to keep everything, finds the exhaustive best by length-normalised score (attention on)', async () => {
     const model = shaken(description('general', true), 'exhaustive');
     const runtime = await runtimeOf(model);
