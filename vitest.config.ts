@@ -23,6 +23,7 @@ export default defineConfig({
       { find: /^@weft\/io\/translate$/, replacement: source('./packages/io/src/translate.ts') },
       { find: /^@weft\/io\/onnx$/, replacement: source('./packages/io/src/onnx/index.ts') },
       { find: /^@weft\/io\/node$/, replacement: source('./packages/io/src/node/index.ts') },
+      { find: /^@weft\/optim\/node$/, replacement: source('./packages/optim/src/node/index.ts') },
       { find: /^@weft\/cli$/, replacement: source('./packages/cli/src/index.ts') },
     ],
   },

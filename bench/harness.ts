@@ -16,6 +16,11 @@ export interface BenchCase {
    * default backend while it runs; may be async.
    */
   readonly setup: (backend: Backend) => (() => void) | Promise<() => void>;
+  /**
+   * For work that is asynchronous (steps on worker threads): measures itself for about `seconds` after its own
+   * warm-up and returns calls per second; `setup` is then not called.
+   */
+  readonly measureAsync?: (backend: Backend, seconds: number) => Promise<number>;
   /** Measured on the default backend only (no `.js` twin): for cases that are JavaScript by nature. */
   readonly defaultOnly?: boolean;
   /** Turns calls per second into the reported value. */
@@ -32,6 +37,7 @@ export interface BenchResult {
 export type Derived = (results: Record<string, BenchResult>) => Record<string, BenchResult>;
 
 export async function measure(item: BenchCase, maxTime: number, backend: Backend): Promise<BenchResult> {
+  if (item.measureAsync !== undefined) return { value: round(item.value(await item.measureAsync(backend, maxTime))), unit: item.unit };
   const fn = await item.setup(backend);
   for (let i = 0; i < 3; i++) fn(); // warm-up outside the timing
   const bench = new Benchmark(item.id, fn, { maxTime, minSamples: 5 });

@@ -47,7 +47,7 @@ for (const module of modules) {
       setDefaultBackend(backend);
       const result = await measure(item, seconds, backend);
       results[id] = result;
-      console.log(`${id.padEnd(52)} ${String(result.value).padStart(10)} ${result.unit}  ±${result.marginPercent}%`);
+      console.log(`${id.padEnd(52)} ${String(result.value).padStart(10)} ${result.unit}${result.marginPercent === undefined ? '' : `  ±${result.marginPercent}%`}`);
     }
     setDefaultBackend(chosen);
   }

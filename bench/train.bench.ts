@@ -16,6 +16,7 @@ import { Random, randomUniform, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, limitGradientNorm, firstNonFiniteEntry } from '@weft/optim';
+import { startTrainingThreads } from '@weft/optim/node';
 import type { Batch, DataSource } from '@weft/optim';
 import type { BenchCase, BenchResult, Derived } from './harness.js';
 
@@ -32,7 +33,7 @@ function idOf(s: Shape): string {
   return `train.${s.cell}.b${s.batch}t${s.steps}i${s.inputs}h${s.hidden}v${s.classes}`;
 }
 
-function setup(shape: Shape): { model: SequenceModel; trainer: Trainer; optimizer: AdamRule } {
+function setup(shape: Shape, threads?: Awaited<ReturnType<typeof startTrainingThreads>>): { model: SequenceModel; trainer: Trainer; optimizer: AdamRule } {
   const random = new Random(`train-${idOf(shape)}`);
   const model = buildModel({ input: { kind: 'values', width: shape.inputs }, layers: [{ cell: shape.cell, hidden: shape.hidden }], readout: { width: shape.classes } }, { seed: 1 });
   const batch: Batch = {
@@ -46,7 +47,7 @@ function setup(shape: Shape): { model: SequenceModel; trainer: Trainer; optimize
   // The same batch every step, so the bench measures the step, not data preparation.
   const data: DataSource = { batchesPerEpoch: 1_000_000, carriesState: false, batch: () => batch };
   const optimizer = new AdamRule({ rate: 1e-4 });
-  const trainer = new Trainer({ model, data, optimizer, epochs: 1, gradientNormLimit: 1 });
+  const trainer = new Trainer({ model, data, optimizer, epochs: 1, gradientNormLimit: 1, ...(threads === undefined ? {} : { workers: threads, shardRows: shape.batch / 2 }) });
   return { model, trainer, optimizer };
 }
 
@@ -93,11 +94,46 @@ const shapes: Shape[] = [
   { cell: 'gru', batch: 1, steps: 64, inputs: 16, hidden: 32, classes: 16 },
 ];
 
-export const cases: BenchCase[] = [...shapes.map(stepCase), updateCase(main)];
+/**
+ * The main step on training threads, in tokens per second: the batch in two shards of 16 rows, on 1 thread (both
+ * shards in turn) and on 2 (one each); the trainer's own thread adds the gradients and updates.
+ */
+function threadsCase(shape: Shape, count: number): BenchCase {
+  return {
+    id: `${idOf(shape)}.workers${count}`,
+    unit: 'tokens/s',
+    defaultOnly: true,
+    setup: () => () => undefined,
+    measureAsync: async (_backend, seconds) => {
+      const model = buildModel({ input: { kind: 'values', width: shape.inputs }, layers: [{ cell: shape.cell, hidden: shape.hidden }], readout: { width: shape.classes } }, { seed: 1 });
+      const threads = await startTrainingThreads({ count, model });
+      try {
+        const { trainer } = setup(shape, threads);
+        for (let i = 0; i < 5; i++) await trainer.stepAsync();
+        const started = performance.now();
+        let steps = 0;
+        while (performance.now() - started < seconds * 1000) {
+          await trainer.stepAsync();
+          steps++;
+        }
+        return steps / ((performance.now() - started) / 1000);
+      } finally {
+        await threads.close();
+      }
+    },
+    value: (hz) => hz * shape.steps * shape.batch,
+  };
+}
+
+export const cases: BenchCase[] = [...shapes.map(stepCase), updateCase(main), threadsCase(main, 1), threadsCase(main, 2)];
 
 export const derived: Derived = (results): Record<string, BenchResult> => {
+  const out: Record<string, BenchResult> = {};
   const step = results[idOf(main)];
   const update = results[`${idOf(main)}.update-only`];
-  if (step === undefined || update === undefined) return {};
-  return { [`${idOf(main)}.update-share`]: { value: Number((update.value / step.value).toPrecision(4)), unit: 'ratio' } };
+  if (step !== undefined && update !== undefined) out[`${idOf(main)}.update-share`] = { value: Number((update.value / step.value).toPrecision(4)), unit: 'ratio' };
+  const one = results[`${idOf(main)}.workers1`];
+  const two = results[`${idOf(main)}.workers2`];
+  if (one !== undefined && two !== undefined) out[`${idOf(main)}.workers2.speedup`] = { value: Number((two.value / one.value).toPrecision(4)), unit: 'ratio' };
+  return out;
 };

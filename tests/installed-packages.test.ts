@@ -117,7 +117,7 @@ describe('the installed packages in Node', () => {
     expect(result.stderr).toBe('');
     expect(result.status).toBe(0);
     const report = JSON.parse(result.stdout) as { loaded: Record<string, number>; sameErrorType: boolean; sameModule: boolean; draw: number };
-    expect(Object.keys(report.loaded)).toHaveLength(16);
+    expect(Object.keys(report.loaded)).toHaveLength(17);
     for (const [entry, count] of Object.entries(report.loaded)) expect(count, entry).toBeGreaterThan(0);
     expect(report.sameErrorType).toBe(true);
     expect(report.sameModule).toBe(true);

@@ -26,6 +26,8 @@ const withoutLogic: Record<string, string> = {
   'packages/optim/src/index.ts': 'the package entry: re-exports',
   'packages/optim/src/training/types.ts': 'types only (the trainer\'s options, events and summary)',
   'packages/optim/src/data.ts': 'types only (the batch shapes) and re-exports of the sources',
+  'packages/optim/src/node/index.ts': 'the @weft/optim/node entry: re-exports',
+  'packages/optim/src/node/shard-worker.ts': 'a worker thread\'s script, run by threads.ts and tested through test/node/threads.test.ts',
   'packages/io/src/index.ts': 'the package entry: re-exports',
   'packages/io/src/runtime/index.ts': 'the @weft/io/runtime entry: re-exports',
   'packages/io/src/runtime/javascript.ts': 'the @weft/io/runtime/javascript entry: re-exports',

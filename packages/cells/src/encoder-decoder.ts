@@ -15,7 +15,7 @@
  * the decoder's readout is W_s, b.
  */
 import { Random, WeftError, add, concat, fail, matmul, reshape, tanh } from '@weft/core';
-import type { Tape, Tensor } from '@weft/core';
+import type { DType, Tape, Tensor } from '@weft/core';
 import { attend } from './attention.js';
 import type { NamedParameter } from './cell.js';
 import type { EncoderDecoderDescription } from './description.js';
@@ -61,6 +61,8 @@ export class EncoderDecoderModel {
   readonly decoder: SequenceModel;
   /** The attention parameters by their names (`attention.keys`, …); empty without attention. */
   readonly attention: ReadonlyMap<string, Tensor>;
+  /** Element type of every parameter. */
+  readonly dtype: DType;
 
   constructor(description: unknown, options: BuildOptions = {}) {
     const problems = describeAnyProblems(description, 'description', Object.keys(options.cells ?? {}));
@@ -71,6 +73,7 @@ export class EncoderDecoderModel {
     const seed = options.seed ?? 0;
     this.encoder = new SequenceModel(checked.encoder, { ...options, seed: `${String(seed)}:encoder` });
     this.decoder = new SequenceModel(checked.decoder, { ...options, seed: `${String(seed)}:decoder` });
+    this.dtype = this.encoder.dtype;
     for (const p of this.encoder.parameters()) p.tensor.name = `encoder.${p.name}`;
     for (const p of this.decoder.parameters()) p.tensor.name = `decoder.${p.name}`;
     // Attention matrices Glorot-uniform, v uniform in ±1/√D (common practice), from a generator of their own.

@@ -16,7 +16,8 @@ export type ProblemCode =
   | 'backend_mismatch'
   | 'backend_unavailable'
   | 'backend_memory'
-  | 'digest_failed';
+  | 'digest_failed'
+  | 'worker_failed';
 
 /** One thing wrong with an input, as data: what kind, where, what was expected and what arrived. */
 export interface Problem {
@@ -45,6 +46,7 @@ const codeWords: Record<ProblemCode, string> = {
   backend_unavailable: 'Backend unavailable',
   backend_memory: 'Backend memory exhausted',
   digest_failed: 'Digest failed',
+  worker_failed: 'Training thread failed',
 };
 
 /** Words one problem: "Shape mismatch at matmul.b: expected [3, 4], received [5, 4]". */

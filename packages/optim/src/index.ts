@@ -18,6 +18,8 @@ export { classificationMetrics, regressionMetrics } from './metrics.js';
 export type { Batch, BatchTargets, DataSource, LabelledSequence, PairSetOptions, SequenceSetOptions, StreamOptions, TokenPair, TokenStreamOptions, ValueStreamOptions } from './data.js';
 export { pairBatches, sequenceBatches, streamBatches } from './data.js';
 export type { TrainableModel } from './training/lookback.js';
+export type { PlainBatch, ShardJob, ShardOutcome, ShardWorkers } from './training/shards.js';
+export { batchOf, lossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
 export type { TrainingEvent, TrainerOptions, TrainingSnapshot, TrainingSummary } from './trainer.js';
 export type { OutputRows, SourceRunOptions, ValidationResult } from './training/evaluation.js';
 export { figuresOn, forEachOutputBatch } from './training/evaluation.js';

@@ -21,12 +21,14 @@ import type { Backend, FloatArray } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import type { TrainableModel } from './training/lookback.js';
 import { limitGradientNorm, limitGradientValues, firstNonFiniteEntry, gradientNorm } from './clipping.js';
-import type { DataSource } from './data.js';
+import type { Batch, DataSource } from './data.js';
 import { figuresOn } from './training/evaluation.js';
 import type { ValidationResult } from './training/evaluation.js';
 import { forwardWithLookback } from './training/lookback.js';
 import { BestValidation } from './training/stopping.js';
 import { taskLoss } from './training/task.js';
+import { addInto, batchOf, lossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
+import type { PlainBatch, ShardJob, ShardWorkers } from './training/shards.js';
 import type { TrainerOptions, TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
 import { checkSchedule, scheduleFactor } from './schedule.js';
 
@@ -59,6 +61,8 @@ export class Trainer {
   private startedAt = 0;
   private stepsThisRun = 0;
   private positionsThisRun = 0;
+  private sums: FloatArray[] | null = null;
+  private readonly seed: number | string;
 
   constructor(options: TrainerOptions) {
     if (!Number.isInteger(options.epochs) || options.epochs < 1) {
@@ -88,6 +92,10 @@ export class Trainer {
     this.tape = new Tape({ backend: this.backend, pool: this.pool });
     this.backup = this.parameters.map((p) => this.backend.pool.take(p.dtype, p.size));
     this.random = new Random(options.seed ?? 0);
+    this.seed = options.seed ?? 0;
+    if (options.shardRows !== undefined && !(Number.isInteger(options.shardRows) && options.shardRows >= 1)) {
+      fail('invalid_option', 'trainer.shardRows', 'a whole number ≥ 1', String(options.shardRows));
+    }
     this.best = new BestValidation(this.backend, options.patience);
   }
 
@@ -108,20 +116,133 @@ export class Trainer {
 
   /** One training step on the next batch; returns the loss. Throws on a non-finite loss or parameter. */
   step(): number {
-    const { data, optimizer } = this.options;
+    if (this.options.workers !== undefined) fail('invalid_option', 'trainer.step', 'stepAsync() or run() (steps on training threads are asynchronous)', 'step() with workers');
+    const batch = this.nextBatch();
+    return this.finishStep(batch, this.shardRanges(batch).length > 1 ? this.shardsInThread(batch) : this.wholeBatch(batch));
+  }
+
+  /** One training step, on the worker threads when the trainer has them; returns the loss. */
+  async stepAsync(): Promise<number> {
+    const workers = this.options.workers;
+    if (workers === undefined) return this.step();
+    const batch = this.nextBatch();
+    const ranges = this.shardRanges(batch);
+    return this.finishStep(batch, ranges.length > 1 ? await this.shardsOnWorkers(batch, workers) : this.wholeBatch(batch));
+  }
+
+  private nextBatch(): Batch {
+    const data = this.options.data;
     const batch = data.batch(this.epoch, this.index);
     if (data.carriesState && this.index === 0) this.releaseCarried();
+    return batch;
+  }
+
+  /** The shards of a batch: one range, the whole batch, unless `shardRows` cuts it. */
+  private shardRanges(batch: Batch): [number, number][] {
+    const rows = this.options.shardRows ?? (this.options.workers === undefined ? batch.batch : DEFAULT_SHARD_ROWS);
+    return shardRanges(batch.batch, rows);
+  }
+
+  private carriedState(): Tensor[] | undefined {
+    return this.options.data.carriesState && this.carried !== null ? this.carried : undefined;
+  }
+
+  /** The whole batch at once: its loss (the parameters hold its gradients) and the state to carry. */
+  private wholeBatch(batch: Batch): StepOutcome {
     this.tape.clear();
     resetGradients(this.parameters);
-    const result = forwardWithLookback(this.model, this.tape, batch, data.carriesState && this.carried !== null ? this.carried : undefined, this.random);
+    const result = forwardWithLookback(this.model, this.tape, batch, this.carriedState(), this.random);
     const loss = taskLoss(this.tape, result.outputs, batch);
     const value = loss.data[0];
+    if (Number.isFinite(value)) this.tape.reverseSweep(loss);
+    return { loss: value, carry: result.carry };
+  }
+
+  /** Every shard in this thread, in order; the parameters hold the sum of their gradients. */
+  private shardsInThread(batch: Batch): StepOutcome {
+    const total = lossWeight(batch);
+    const step = this.stepCount + 1;
+    const sums = this.zeroedSums();
+    const carried = this.carriedState();
+    const states: FloatArray[][] = [];
+    let loss = 0;
+    this.shardRanges(batch).forEach(([from, to], k) => {
+      const made: FloatArray[] = [];
+      const shard = batchOf(shardOf(batch, from, to), this.model.dtype, this.pool, made);
+      const initial = carried?.map((slot) => this.rowsTensor(slot, from, to, made));
+      const outcome = shardGradients(this.model, this.parameters, this.tape, shard, initial, shardSeed(this.seed, step, k), lossWeight(shard) / total);
+      loss += outcome.loss;
+      states.push(outcome.state);
+      this.parameters.forEach((p, i) => {
+        if (p.gradient !== null) addInto(sums[i], p.gradient);
+      });
+      this.tape.clear();
+      for (const array of made) this.pool.give(array);
+    });
+    return { loss, carry: this.joinedStates(states, batch.batch), sums };
+  }
+
+  /** Every shard on the worker threads; the sums are added here in shard order, as in this thread. */
+  private async shardsOnWorkers(batch: Batch, workers: ShardWorkers): Promise<StepOutcome> {
+    const total = lossWeight(batch);
+    const step = this.stepCount + 1;
+    const carried = this.carriedState();
+    const jobs: ShardJob[] = this.shardRanges(batch).map(([from, to], k) => {
+      const plain = shardOf(batch, from, to);
+      const share = plainWeight(plain) / total;
+      return { shard: k, batch: plain, state: carried === undefined ? null : carried.map((slot) => rowsOf(slot, from, to)), seed: shardSeed(this.seed, step, k), share };
+    });
+    const outcomes = await workers.compute(step, this.parameters.map((p) => p.data), jobs);
+    const sums = this.zeroedSums();
+    let loss = 0;
+    outcomes.forEach((outcome, k) => {
+      loss += outcome.loss;
+      this.parameters.forEach((_, i) => addInto(sums[i], workers.gradient(k, i)));
+    });
+    return { loss, carry: this.joinedStates(outcomes.map((o) => o.state), batch.batch), sums };
+  }
+
+  private zeroedSums(): FloatArray[] {
+    if (this.sums === null) this.sums = this.parameters.map((p) => (p.dtype === 'f64' ? new Float64Array(p.size) : new Float32Array(p.size)));
+    for (const sum of this.sums) sum.fill(0);
+    return this.sums;
+  }
+
+  /** Rows [from, to) of a [rows, width] state slot, as a tensor from the trainer's pool. */
+  private rowsTensor(slot: Tensor, from: number, to: number, made: FloatArray[]): Tensor {
+    const width = slot.shape[1];
+    const data = this.pool.take(slot.dtype, (to - from) * width);
+    data.set(slot.data.subarray(from * width, to * width));
+    made.push(data);
+    return new Tensor(data, [to - from, width]);
+  }
+
+  /** The shards' final states joined back into whole slots [rows, width]. */
+  private joinedStates(states: readonly FloatArray[][], rows: number): FloatArray[] {
+    if (states.length === 0 || states[0].length === 0) return [];
+    return states[0].map((_, slot) => {
+      const parts = states.map((s) => s[slot]);
+      const joined = parts[0] instanceof Float64Array ? new Float64Array(parts.reduce((n, p) => n + p.length, 0)) : new Float32Array(parts.reduce((n, p) => n + p.length, 0));
+      let offset = 0;
+      for (const part of parts) {
+        joined.set(part, offset);
+        offset += part.length;
+      }
+      if (joined.length % rows !== 0) fail('shape_mismatch', 'trainer.carried', `a multiple of ${rows} values`, `${joined.length}`);
+      return joined;
+    });
+  }
+
+  /** The rest of a step, the same for every way the gradients were computed. */
+  private finishStep(batch: Batch, outcome: StepOutcome): number {
+    const { data, optimizer } = this.options;
+    const value = outcome.loss;
     const stepNumber = this.stepCount + 1;
     if (!Number.isFinite(value)) {
       this.tape.clear();
       fail('not_finite', `training step ${stepNumber}: loss`, 'a finite value', String(value), 'the weights are those after the last finite step');
     }
-    this.tape.reverseSweep(loss);
+    if (outcome.sums !== undefined) this.parameters.forEach((p, i) => this.tape.gradientOf(p).set((outcome.sums as FloatArray[])[i]));
     const multiplier = this.options.schedule === undefined ? 1 : scheduleFactor(this.options.schedule, this.stepCount);
     const badGradient = firstNonFiniteEntry(this.parameters, 'gradient');
     let norm = NaN;
@@ -146,10 +267,7 @@ export class Trainer {
         );
       }
     }
-    if (data.carriesState) {
-      if (this.carried === null) this.carried = result.carry.map((s) => this.tape.keep(s));
-      else result.carry.forEach((s, i) => this.tape.keep(s, (this.carried as Tensor[])[i]));
-    }
+    if (data.carriesState) this.keepCarried(outcome.carry);
     this.tape.clear();
     this.stepCount = stepNumber;
     this.lastLoss = value;
@@ -162,6 +280,17 @@ export class Trainer {
     this.positionsThisRun += batch.positions;
     this.emit('step', value, norm, multiplier);
     return value;
+  }
+
+  /** The state after this step becomes the carried state (copied into the trainer's pool). */
+  private keepCarried(carry: readonly Tensor[] | readonly FloatArray[]): void {
+    carry.forEach((state, i) => {
+      const values = state instanceof Tensor ? state.data : state;
+      const width = state instanceof Tensor ? state.shape[1] : (this.model as SequenceModel).stateSlots()[i].width;
+      if (this.carried === null) this.carried = [];
+      if (this.carried[i] === undefined) this.carried[i] = new Tensor(this.pool.take(this.model.dtype, values.length), [values.length / width, width]);
+      this.carried[i].data.set(values);
+    });
   }
 
   /** Loss and metric over a whole data source, without recording (state carried across stream windows). */
@@ -183,7 +312,7 @@ export class Trainer {
         break;
       }
       const epochBefore = this.epoch;
-      this.step();
+      await this.stepAsync();
       const due = validation !== undefined && ((validateEvery !== undefined && this.stepCount % validateEvery === 0) || this.epoch !== epochBefore);
       if (due) {
         const result = this.validate();
@@ -303,6 +432,32 @@ export class Trainer {
       reason,
     });
   }
+}
+
+/** Rows per shard when the trainer has workers and no `shardRows`. */
+const DEFAULT_SHARD_ROWS = 8;
+
+/** What computing one step's gradients gives. */
+interface StepOutcome {
+  /** The batch's loss. */
+  readonly loss: number;
+  /** The state to carry into the next batch: tensors of the whole batch, or joined shard states. */
+  readonly carry: readonly Tensor[] | readonly FloatArray[];
+  /** The summed shard gradients, per parameter; absent when the parameters already hold the gradients. */
+  readonly sums?: readonly FloatArray[];
+}
+
+/** Rows [from, to) of a [rows, width] state slot, copied. */
+function rowsOf(slot: Tensor, from: number, to: number): FloatArray {
+  const width = slot.shape[1];
+  return slot.data.slice(from * width, to * width);
+}
+
+/** The loss weight of a plain shard, as lossWeight counts it. */
+function plainWeight(plain: PlainBatch): number {
+  if (plain.weights !== null) return plain.weights.reduce((n, w) => n + w, 0);
+  if (plain.perStep && plain.lengths !== null) return plain.lengths.reduce((n, l) => n + l, 0);
+  return plain.perStep ? plain.steps * plain.rows : plain.rows;
 }
 
 function now(): number {

@@ -5,6 +5,7 @@ import type { UpdateRule } from '../update-rule.js';
 import type { ScheduleDescription } from '../schedule.js';
 import type { ValidationResult } from './evaluation.js';
 import type { TrainableModel } from './lookback.js';
+import type { ShardWorkers } from './shards.js';
 import type { Trainer } from '../trainer.js';
 
 /** What a `Trainer` trains, on what, and how. */
@@ -39,6 +40,16 @@ export interface TrainerOptions {
    * (default true when there is validation data), so a run that got worse at the end does not keep the worse weights.
    */
   readonly keepBest?: boolean;
+  /**
+   * Cut each batch into shards of this many rows and add their gradients in shard order (see training/shards.ts):
+   * the same bits in this thread as on any number of `workers`. Default: 8 with workers, else no cut.
+   */
+  readonly shardRows?: number;
+  /**
+   * Threads that compute the shards (`startTrainingThreads` from `@weft/optim/node`); steps are then asynchronous
+   * (`stepAsync`, `run`).
+   */
+  readonly workers?: ShardWorkers;
   /** Seed of the trainer's generator (dropout masks); default 0. */
   readonly seed?: number | string;
   /** Ends `run()` after the current step when aborted (stoppedBy `signal`). */

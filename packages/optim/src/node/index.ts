@@ -1,0 +1,6 @@
+/**
+ * `@weft/optim/node`: training on worker threads in Node (`startTrainingThreads`; give the result to a Trainer as
+ * `workers`). Node-only, so an entry of its own: `@weft/optim` itself stays browser-safe.
+ */
+export { TrainingThreads, startTrainingThreads } from './threads.js';
+export type { ThreadStart, TrainingThreadOptions } from './threads.js';

@@ -1,0 +1,194 @@
+/**
+ * Data-parallel training by fixed shards. The rows of a batch are cut into shards of `shardRows` rows (the last
+ * may be smaller): a cut that depends on the batch alone, never on how many threads compute it. Each shard's
+ * forward and reverse sweep runs on its own (its loss scaled by its share of the batch's loss weight, so the shards'
+ * gradients add up to the batch's), each shard's dropout masks come from a generator seeded by the run's seed, the
+ * step and the shard, and the gradients are added in shard order into one sum. Computed in this thread or by
+ * worker threads (`ShardWorkers`), the sum is the same, bit for bit: every shard is the same arithmetic on the same
+ * numbers, and the order of the additions is fixed.
+ *
+ * A shard travels to a worker as a `PlainBatch` (typed arrays only, for structured cloning); in this thread it is
+ * rebuilt the same way, so both paths start from the same numbers.
+ */
+import { Random, Tensor, fail, resetGradients, scale } from '@weft/core';
+import type { BufferPool, DType, FloatArray, Tape } from '@weft/core';
+import type { TokenBatch } from '@weft/cells';
+import type { Batch, BatchTargets } from '../data.js';
+import { forwardWithLookback } from './lookback.js';
+import type { TrainableModel } from './lookback.js';
+import { taskLoss } from './task.js';
+
+/** The row ranges [from, to) of `rows` rows cut into shards of `shardRows` rows. */
+export function shardRanges(rows: number, shardRows: number): [number, number][] {
+  const ranges: [number, number][] = [];
+  for (let from = 0; from < rows; from += shardRows) ranges.push([from, Math.min(rows, from + shardRows)]);
+  return ranges;
+}
+
+/** The total weight of a batch's loss positions: what its loss is a weighted mean over. */
+export function lossWeight(batch: Batch): number {
+  const targets = batch.targets;
+  if (targets.weights !== null) {
+    let total = 0;
+    for (let i = 0; i < targets.weights.length; i++) total += targets.weights[i];
+    return total;
+  }
+  if (targets.perStep && batch.lengths !== null) {
+    let total = 0;
+    for (let b = 0; b < batch.batch; b++) total += batch.lengths[b];
+    return total;
+  }
+  return targets.perStep ? batch.steps * batch.batch : batch.batch;
+}
+
+/** A batch as typed arrays only (structured-clone-able), for a worker. */
+export interface PlainBatch {
+  readonly steps: number;
+  readonly rows: number;
+  /** Token ids [T·rows] for an embedding input, else null. */
+  readonly tokens: Int32Array | null;
+  /** Numbers [T·rows·width] for a values input, else null. */
+  readonly values: FloatArray | null;
+  readonly width: number;
+  readonly lengths: Int32Array | null;
+  readonly carryAfter: number | null;
+  readonly positions: number;
+  readonly targetKind: 'classes' | 'values';
+  readonly perStep: boolean;
+  readonly classes: Int32Array | null;
+  readonly targetValues: FloatArray | null;
+  readonly targetWidth: number;
+  readonly weights: Float64Array | null;
+  readonly sourceTokens: Int32Array | null;
+  readonly sourceSteps: number;
+  readonly sourceLengths: Int32Array | null;
+}
+
+/** Rows [from, to) of a time-major array of `rows` rows × `width` numbers per step. */
+function rowsOf<T extends Int32Array | Float32Array | Float64Array>(array: T, steps: number, rows: number, width: number, from: number, to: number): T {
+  const out = new (array.constructor as new (n: number) => T)(steps * (to - from) * width);
+  const w = (to - from) * width;
+  for (let t = 0; t < steps; t++) out.set(array.subarray((t * rows + from) * width, (t * rows + to) * width), t * w);
+  return out;
+}
+
+/** Rows [from, to) of `batch`, as a plain batch of their own. */
+export function shardOf(batch: Batch, from: number, to: number): PlainBatch {
+  const { steps, batch: rows } = batch;
+  const input = batch.input;
+  const tokens = input instanceof Tensor ? null : rowsOf(input.tokens, steps, rows, 1, from, to);
+  const width = input instanceof Tensor ? input.shape[2] : 1;
+  const values = input instanceof Tensor ? rowsOf(input.data, steps, rows, width, from, to) : null;
+  const lengths = batch.lengths === null ? null : batch.lengths.slice(from, to);
+  const targets: BatchTargets = batch.targets;
+  const targetSteps = targets.perStep ? steps : 1;
+  const targetWidth = targets.kind === 'values' ? targets.width : 1;
+  const source = batch.source;
+  let positions = 0;
+  for (let b = from; b < to; b++) positions += batch.lengths === null ? steps : batch.lengths[b];
+  return {
+    steps,
+    rows: to - from,
+    tokens,
+    values,
+    width,
+    lengths,
+    carryAfter: batch.carryAfter ?? null,
+    positions,
+    targetKind: targets.kind,
+    perStep: targets.perStep,
+    classes: targets.kind === 'classes' ? rowsOf(targets.classes, targetSteps, rows, 1, from, to) : null,
+    targetValues: targets.kind === 'values' ? rowsOf(targets.values.data, targetSteps, rows, targetWidth, from, to) : null,
+    targetWidth,
+    weights: targets.weights === null ? null : rowsOf(targets.weights, targetSteps, rows, 1, from, to),
+    sourceTokens: source === undefined ? null : rowsOf(source.tokens.tokens, source.tokens.steps, rows, 1, from, to),
+    sourceSteps: source === undefined ? 0 : source.tokens.steps,
+    sourceLengths: source === undefined ? null : source.lengths.slice(from, to),
+  };
+}
+
+/** A plain batch as a Batch, its numbers copied into buffers of `pool` (handed to `made`, to give back later). */
+export function batchOf(plain: PlainBatch, dtype: DType, pool: BufferPool, made: FloatArray[]): Batch {
+  const tensor = (data: FloatArray, shape: number[]): Tensor => {
+    const buffer = pool.take(dtype, data.length);
+    buffer.set(data);
+    made.push(buffer);
+    return new Tensor(buffer, shape);
+  };
+  const input: Tensor | TokenBatch = plain.tokens !== null
+    ? { tokens: plain.tokens, steps: plain.steps, batch: plain.rows }
+    : tensor(plain.values as FloatArray, [plain.steps, plain.rows, plain.width]);
+  const targetRows = plain.perStep ? plain.steps * plain.rows : plain.rows;
+  const targets: BatchTargets = plain.targetKind === 'classes'
+    ? { kind: 'classes', perStep: plain.perStep, classes: plain.classes as Int32Array, weights: plain.weights }
+    : { kind: 'values', perStep: plain.perStep, width: plain.targetWidth, values: tensor(plain.targetValues as FloatArray, [targetRows, plain.targetWidth]), weights: plain.weights };
+  return {
+    input,
+    steps: plain.steps,
+    batch: plain.rows,
+    lengths: plain.lengths,
+    targets,
+    positions: plain.positions,
+    ...(plain.carryAfter === null ? {} : { carryAfter: plain.carryAfter }),
+    ...(plain.sourceTokens === null ? {} : { source: { tokens: { tokens: plain.sourceTokens, steps: plain.sourceSteps, batch: plain.rows }, lengths: plain.sourceLengths as Int32Array } }),
+  };
+}
+
+/** The generator of one shard's dropout masks: the run's seed, the step and the shard, nothing else. */
+export function shardSeed(seed: number | string, step: number, shard: number): string {
+  return `${String(seed)}:step ${step}:shard ${shard}`;
+}
+
+/** What one shard's computation gives: its scaled loss and its rows' final state (for streams). */
+export interface ShardOutcome {
+  /** The shard's loss times its share of the batch's loss weight. */
+  readonly loss: number;
+  /** The state to carry, [rows, width] per slot; empty when the model carries none. */
+  readonly state: FloatArray[];
+}
+
+/**
+ * One shard's forward and reverse sweep on `tape` (cleared first): the parameters' gradients are the shard's
+ * (scaled by `share`) afterwards.
+ */
+export function shardGradients(model: TrainableModel, parameters: readonly Tensor[], tape: Tape, batch: Batch, initialState: readonly Tensor[] | undefined, seed: string, share: number): ShardOutcome {
+  tape.clear();
+  resetGradients(parameters);
+  const result = forwardWithLookback(model, tape, batch, initialState, new Random(seed));
+  const loss = scale(tape, taskLoss(tape, result.outputs, batch), share);
+  const value = loss.data[0];
+  if (Number.isFinite(value)) tape.reverseSweep(loss);
+  return { loss: value, state: result.carry.map((s) => s.data.slice()) };
+}
+
+/** The work of one step for `ShardWorkers`: every shard's batch, state rows, generator seed and share. */
+export interface ShardJob {
+  /** The shard's number in the batch (its place in the sum). */
+  readonly shard: number;
+  readonly batch: PlainBatch;
+  /** The shard's rows of the carried state, per slot; null to start from zeros. */
+  readonly state: FloatArray[] | null;
+  readonly seed: string;
+  readonly share: number;
+}
+
+/**
+ * Threads that compute shards (see `startTrainingThreads` in `@weft/optim/node`): each call publishes the weights,
+ * hands the jobs out, and resolves when every shard's gradients are in `gradient(shard, parameter)`.
+ */
+export interface ShardWorkers {
+  /** How many threads compute. */
+  readonly count: number;
+  /** Computes `jobs` of step `step` with `weights` (the parameters' values, in parameter order). */
+  compute(step: number, weights: readonly FloatArray[], jobs: readonly ShardJob[]): Promise<ShardOutcome[]>;
+  /** The gradient of parameter `parameter` from shard `shard` of the last `compute`. */
+  gradient(shard: number, parameter: number): FloatArray;
+  /** Ends every thread. */
+  close(): Promise<void>;
+}
+
+/** Adds `from` into `into`, entry by entry (the one addition both paths use, so the sum's bits agree). */
+export function addInto(into: FloatArray, from: FloatArray): void {
+  if (into.length !== from.length) fail('shape_mismatch', 'shards.gradient', `${into.length} values`, `${from.length}`);
+  for (let i = 0; i < into.length; i++) into[i] += from[i];
+}
