@@ -119,6 +119,8 @@ export function trainArguments(c: Combination, folder: string): string[] {
     args.push(`--${name}`);
     if (value !== true) args.push(String(value));
   }
+  // Several combinations train at a time, one per core: each in one thread unless the grid says otherwise.
+  if (!('workers' in c.flags)) args.push('--workers', '1');
   const base = join(folder, `c${c.index}`);
   args.push('--out', `${base}.weft.json`, '--checkpoint', `${base}.checkpoint.json`, '--start-over', '--quiet', '--results', `${base}.result.json`);
   return args;

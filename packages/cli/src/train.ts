@@ -1,9 +1,12 @@
 /** `weft train`: fit a model to a file of your own, with progress, checkpoints, resume and a loss curve. */
 import { existsSync, readFileSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
 import { basename, extname, resolve } from 'node:path';
 import { ATTENTION_FORMS, EncoderDecoderModel, MAX_HIDDEN, buildModel } from '@weft/cells';
 import type { AnyModelDescription, LayerDescription, ModelDescription, SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer } from '@weft/optim';
+import { startTrainingThreads } from '@weft/optim/node';
+import type { TrainingThreads } from '@weft/optim/node';
 import type { TrainableModel, TrainingEvent, TrainingSummary } from '@weft/optim';
 import { detectDelimiter, sha256Hex } from '@weft/io';
 import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
@@ -34,6 +37,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'epochs', value: 'NUMBER', description: 'passes over the training data (at most: see --patience)', fallback: '20' },
   { name: 'rate', value: 'NUMBER', description: 'Adam learning rate', fallback: '0.005' },
   { name: 'clip', value: 'NUMBER', description: 'clip the global gradient norm to this', fallback: '1' },
+  { name: 'workers', value: 'N', description: 'training threads: each batch is cut into shards of 8 rows computed in parallel, the same weights for any N', fallback: 'the cores, at most one per shard' },
   { name: 'seed', value: 'TEXT', description: 'seed for every random choice', fallback: '1' },
   { name: 'validation', value: 'SHARE', description: 'share of the data held out (the end of a series or text)', fallback: '0.1' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
@@ -194,26 +198,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     training: { data: basename(dataPath), dataDigest, steps: trainer.stepsTaken, seed, store, seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)) },
     history: { training: thin(history.training).map((p) => [p.step, p.loss]), validation: thin(history.validation).map((p) => [p.step, p.loss]) },
   });
-  const trainer: Trainer = new Trainer({
-    model,
-    data: prepared.train,
-    validation: prepared.validation,
-    optimizer: new AdamRule({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
-    epochs: numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 }),
-    gradientNormLimit: numberFlag(args, 'clip', 1, { min: 1e-9 }),
-    validateEvery,
-    patience,
-    seed,
-    signal: controller.signal,
-    onProgress: (event: TrainingEvent) => {
-      if (event.kind === 'step') history.training.push({ step: event.step, loss: event.loss });
-      if (event.kind === 'validation') history.validation.push({ step: event.step, loss: event.validationLoss! });
-      view?.show(event);
-    },
-    afterStep: async (t) => {
-      if (t.stepsTaken % every === 0) await saveCheckpoint(checkpoint, t, model, metadataFor(t));
-    },
-  });
+  // Shards of 8 rows whatever the thread count, so --workers changes the speed and never the weights.
+  const shardCount = Math.ceil(options.batch / SHARD_ROWS);
+  const workerCount = Math.min(shardCount, args.flags.has('workers') ? numberFlag(args, 'workers', 1, { whole: true, min: 1, max: 256 }) : availableParallelism());
   // Seconds of earlier runs of this training (from the checkpoint resumed), so the summary times the whole run.
   let earlierSeconds = 0;
   const started = Date.now();
@@ -221,20 +208,54 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   if (resume === undefined && existsSync(checkpoint) && !args.switches.has('start-over')) {
     throw new CommandError(`${checkpoint} holds the checkpoint of an earlier run: continue it with --resume ${checkpoint}, or pass --start-over to replace it`, 2);
   }
-  if (resume !== undefined) {
-    const saved = await loadCheckpoint(resolve(resume));
-    const difference = firstDifference(saved.file.model, description);
-    if (difference !== null) throw new CommandError(`${resume}: the checkpoint does not match the requested model: ${difference}`);
-    const savedTraining = saved.file.metadata.training as Record<string, unknown> | undefined;
-    if (savedTraining?.dataDigest !== undefined && savedTraining.dataDigest !== dataDigest) {
-      throw new CommandError(`${resume}: the checkpoint was trained on other data (${String(savedTraining.data)}, SHA-256 ${String(savedTraining.dataDigest).slice(0, 12)}…), not ${dataPath}`);
+  const threads: TrainingThreads | undefined = workerCount > 1 ? await startTrainingThreads({ count: workerCount, model }) : undefined;
+  // The trainer (and a resumed run's state) made with the threads running: any refusal here ends them first.
+  const makeTrainer = async (): Promise<Trainer> => {
+    const trainer: Trainer = new Trainer({
+      model,
+      shardRows: SHARD_ROWS,
+      ...(threads === undefined ? {} : { workers: threads }),
+      data: prepared.train,
+      validation: prepared.validation,
+      optimizer: new AdamRule({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
+      epochs: numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 }),
+      gradientNormLimit: numberFlag(args, 'clip', 1, { min: 1e-9 }),
+      validateEvery,
+      patience,
+      seed,
+      signal: controller.signal,
+      onProgress: (event: TrainingEvent) => {
+        if (event.kind === 'step') history.training.push({ step: event.step, loss: event.loss });
+        if (event.kind === 'validation') history.validation.push({ step: event.step, loss: event.validationLoss! });
+        view?.show(event);
+      },
+      afterStep: async (t) => {
+        if (t.stepsTaken % every === 0) await saveCheckpoint(checkpoint, t, model, metadataFor(t));
+      },
+    });
+    if (resume !== undefined) {
+      const saved = await loadCheckpoint(resolve(resume));
+      const difference = firstDifference(saved.file.model, description);
+      if (difference !== null) throw new CommandError(`${resume}: the checkpoint does not match the requested model: ${difference}`);
+      const savedTraining = saved.file.metadata.training as Record<string, unknown> | undefined;
+      if (savedTraining?.dataDigest !== undefined && savedTraining.dataDigest !== dataDigest) {
+        throw new CommandError(`${resume}: the checkpoint was trained on other data (${String(savedTraining.data)}, SHA-256 ${String(savedTraining.dataDigest).slice(0, 12)}…), not ${dataPath}`);
+      }
+      trainer.restore(saved.snapshot);
+      earlierSeconds = typeof savedTraining?.seconds === 'number' && Number.isFinite(savedTraining.seconds) && savedTraining.seconds >= 0 ? savedTraining.seconds : 0;
+      const savedHistory = saved.file.metadata.history as { training?: number[][]; validation?: number[][] } | undefined;
+      history.training.push(...(savedHistory?.training ?? []).map(([step, loss]) => ({ step, loss })));
+      history.validation.push(...(savedHistory?.validation ?? []).map(([step, loss]) => ({ step, loss })));
+      info(`resuming from ${resume} at step ${trainer.stepsTaken} of ${trainer.totalSteps}`);
     }
-    trainer.restore(saved.snapshot);
-    earlierSeconds = typeof savedTraining?.seconds === 'number' && Number.isFinite(savedTraining.seconds) && savedTraining.seconds >= 0 ? savedTraining.seconds : 0;
-    const savedHistory = saved.file.metadata.history as { training?: number[][]; validation?: number[][] } | undefined;
-    history.training.push(...(savedHistory?.training ?? []).map(([step, loss]) => ({ step, loss })));
-    history.validation.push(...(savedHistory?.validation ?? []).map(([step, loss]) => ({ step, loss })));
-    info(`resuming from ${resume} at step ${trainer.stepsTaken} of ${trainer.totalSteps}`);
+    return trainer;
+  };
+  let trainer: Trainer;
+  try {
+    trainer = await makeTrainer();
+  } catch (error) {
+    await threads?.close();
+    throw error;
   }
   let interrupts = 0;
   const onInterrupt = () => {
@@ -244,13 +265,14 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   };
   process.on('SIGINT', onInterrupt);
   const kind = task === 'pairs' ? `encoder-decoder (${attention === 'none' ? 'no' : attention} attention)` : `${task} model`;
-  info(`training a ${cell.toUpperCase()} ${kind} (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend`);
+  info(`training a ${cell.toUpperCase()} ${kind} (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend, ${workerCount > 1 ? `${workerCount} threads` : 'this thread'}`);
   let summary: TrainingSummary;
   try {
     summary = await trainer.run();
   } finally {
     process.off('SIGINT', onInterrupt);
     view?.finish();
+    await threads?.close();
   }
   await saveCheckpoint(checkpoint, trainer, model, metadataFor(trainer));
   writeFileAtomic(curve, lossCurveSvg(history.training, history.validation, `weft train ${basename(dataPath)}: ${cell} ${task}`));
@@ -278,6 +300,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   if (resultsPath !== undefined) writeFileAtomic(resultsPath, `${JSON.stringify(runResults(summary, heldOut, out))}\n`);
   return { summary, out, checkpoint, curve, heldOut, prepared };
 }
+
+/** Rows per shard of a batch (see --workers). */
+const SHARD_ROWS = 8;
 
 /** The command that resumes this run: the same data and flags, with --resume instead of --start-over. */
 function resumeCommand(args: ParsedArgs, checkpoint: string): string {

@@ -66,4 +66,15 @@ describe('weft train', () => {
       expectOneLineError(weft(['train', 'sensor.csv', '--window', '8', '--streams', '2']), 1, /^weft: Bad data at sensor\.csv:152:5: expected a decimal number in column "y", received "warm" \(299 of 300 cells there are; fix the cell, or choose the columns with --columns\)$/);
     });
   });
+
+  it('trains on 2 threads to the same weight file tensors as in one thread, and refuses --workers 0 in one line', () => {
+    const common = ['train', 'notes.txt', '--cell', 'lstm', '--hidden', '16', '--window', '12', '--streams', '16', '--epochs', '1', '--dropout', '0.1', '--layers', '2', '--quiet', '--start-over'];
+    const two = weft([...common.filter((a) => a !== '--quiet'), '--workers', '2', '--out', 'two.weft.json']);
+    const one = weft([...common, '--workers', '1', '--out', 'one.weft.json']);
+    expect([two.code, one.code]).toEqual([0, 0]);
+    expect(two.out).toMatch(/^training a LSTM text model .* webassembly backend, 2 threads$|^training a LSTM text model .* javascript backend, 2 threads$/m);
+    const tensors = (name: string) => (JSON.parse(readFileSync(join(folder, name), 'utf8')) as { tensors: unknown }).tensors;
+    expect(tensors('two.weft.json')).toEqual(tensors('one.weft.json'));
+    expectOneLineError(weft([...common, '--workers', '0']), 2, /^weft: --workers must be a whole number from 1 to 256, got "0"$/);
+  });
 });
