@@ -1,4 +1,10 @@
-/** `weft train`: fit a model to a file of your own, with progress, checkpoints, resume and a loss curve. */
+/**
+ * `weft train`: fit a model to a file of your own, with progress, checkpoints, resume and a loss curve.
+ *
+ * Why one file of this length: one run's state (paths, history, the trainer and its threads, the resume checks)
+ * threads through every step from the flags to the files written; preparing data (datasets.ts, pairs.ts) and
+ * reporting (report.ts) live apart.
+ */
 import { existsSync, readFileSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { basename, extname, resolve } from 'node:path';
@@ -6,7 +12,7 @@ import { ATTENTION_FORMS, EncoderDecoderModel, MAX_HIDDEN, buildModel } from '@w
 import type { AnyModelDescription, LayerDescription, ModelDescription, SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer } from '@weft/optim';
 import { startTrainingThreads } from '@weft/optim/node';
-import type { TrainingThreads } from '@weft/optim/node';
+import type { ThreadGroup } from '@weft/optim';
 import type { TrainableModel, TrainingEvent, TrainingSummary } from '@weft/optim';
 import { detectDelimiter, sha256Hex } from '@weft/io';
 import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
@@ -208,7 +214,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   if (resume === undefined && existsSync(checkpoint) && !args.switches.has('start-over')) {
     throw new CommandError(`${checkpoint} holds the checkpoint of an earlier run: continue it with --resume ${checkpoint}, or pass --start-over to replace it`, 2);
   }
-  const threads: TrainingThreads | undefined = workerCount > 1 ? await startTrainingThreads({ count: workerCount, model }) : undefined;
+  const threads: ThreadGroup | undefined = workerCount > 1 ? await startTrainingThreads({ count: workerCount, model }) : undefined;
   // The trainer (and a resumed run's state) made with the threads running: any refusal here ends them first.
   const makeTrainer = async (): Promise<Trainer> => {
     const trainer: Trainer = new Trainer({

@@ -20,6 +20,8 @@ export { pairBatches, sequenceBatches, streamBatches } from './data.js';
 export type { TrainableModel } from './training/lookback.js';
 export type { PlainBatch, ShardJob, ShardOutcome, ShardWorkers } from './training/shards.js';
 export { batchOf, lossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
+export type { ShardEndpoint, ShardThread, ThreadGroupOptions, ThreadStart } from './training/thread-group.js';
+export { ThreadGroup, canShareMemory, serveShards, serveShardsInWorker, startThreadGroup, webWorkerThread } from './training/thread-group.js';
 export type { TrainingEvent, TrainerOptions, TrainingSnapshot, TrainingSummary } from './trainer.js';
 export type { OutputRows, SourceRunOptions, ValidationResult } from './training/evaluation.js';
 export { figuresOn, forEachOutputBatch } from './training/evaluation.js';

@@ -2,5 +2,5 @@
  * `@weft/optim/node`: training on worker threads in Node (`startTrainingThreads`; give the result to a Trainer as
  * `workers`). Node-only, so an entry of its own: `@weft/optim` itself stays browser-safe.
  */
-export { TrainingThreads, startTrainingThreads } from './threads.js';
-export type { ThreadStart, TrainingThreadOptions } from './threads.js';
+export { startTrainingThreads } from './threads.js';
+export type { TrainingThreadOptions } from './threads.js';

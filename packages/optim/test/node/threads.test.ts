@@ -14,7 +14,7 @@ import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 import type { DataSource, ShardWorkers, TrainerOptions } from '@weft/optim';
 import { startTrainingThreads } from '@weft/optim/node';
-import type { TrainingThreads } from '@weft/optim/node';
+import type { ThreadGroup as TrainingThreads } from '@weft/optim';
 import { loadCheckpoint, saveCheckpoint } from '@weft/io/node';
 
 const folder = mkdtempSync(join(tmpdir(), 'weft-threads-'));
@@ -68,6 +68,20 @@ describe('training on worker threads', () => {
     }, 120_000);
   }
 
+  it('gives the same bits with weights and gradients sent in messages instead of shared memory', async () => {
+    const inThread = new Trainer(options(model('gru')));
+    await steps(inThread, 20);
+    const m = model('gru');
+    const threads = await startTrainingThreads({ count: 2, model: m, shared: false });
+    expect(threads.shared).toBe(false);
+    try {
+      await steps(new Trainer(options(m, threads)), 20);
+    } finally {
+      await threads.close();
+    }
+    expect(weights(m)).toEqual(weights(inThread.model as SequenceModel));
+  }, 60_000);
+
   it('resumes on 3 threads from a checkpoint written on 2, to the same bits as 50 steps in this thread', async () => {
     const inThread = new Trainer(options(model('lstm')));
     await steps(inThread, 50);
@@ -112,7 +126,7 @@ describe('training on worker threads', () => {
         if (t.stepsTaken === 5) {
           await saveCheckpoint(path, t, m);
           // Ends one thread while the next step is on it.
-          setTimeout(() => void threads.threads[1].terminate(), 2);
+          setTimeout(() => void (threads.threads[1] as unknown as { worker: { terminate(): Promise<number> } }).worker.terminate(), 2);
         }
       },
     });
@@ -136,6 +150,6 @@ describe('training on worker threads', () => {
 
 /** Threads of `threads` still running: each answers a terminate() with its exit code, undefined once it has ended. */
 async function threadsAlive(threads: TrainingThreads): Promise<number> {
-  const codes = await Promise.all(threads.threads.map((t) => t.terminate()));
+  const codes = await Promise.all(threads.threads.map((t) => (t as unknown as { worker: { terminate(): Promise<number | undefined> } }).worker.terminate()));
   return codes.filter((code) => code !== undefined).length;
 }
