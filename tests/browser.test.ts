@@ -2,7 +2,8 @@
  * The browser page in real Chromium (Debian's /usr/bin/chromium, driven headless by playwright-core, kept off the
  * network): gradient checks of every built-in cell pass there; a fixed-seed training run ends at a loss whose
  * f32 bits equal the same run in Node; the page stays responsive while its worker trains (a 100 ms timer fires
- * within 50 ms of schedule) and its chart holds the points; weight files move both ways between the page and
+ * within 50 ms of schedule) and its chart holds the points; served with the two isolation headers, the page trains on
+ * two worker threads and ends at the loss bits of Node on two threads; weight files move both ways between the page and
  * Node's runtime with equal outputs (both on the WebAssembly forward backend, the page's default). A screenshot of the page is saved to artifacts/browser-page.png.
  *
  * .ci/run installs chromium with apt-get; on a machine without it this file is skipped, except under CI, where
@@ -19,6 +20,7 @@ import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { defaultBackend, setDefaultBackend } from '@weft/core';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
+import { startTrainingThreads } from '@weft/optim/node';
 import { buildPage } from '../examples/browser/build.js';
 import { servePage } from '../examples/browser/serve.js';
 import { f32Bits, prepare, sampleText } from '../examples/browser/src/training.js';
@@ -36,7 +38,7 @@ let server: Server;
 
 interface PageHandle {
   runGradientChecks(): Promise<{ label: string; passed: boolean; worst: number }[]>;
-  trainFor(settings: Partial<TrainingConfig>): Promise<{ steps: number; lastLoss: number; lastLossBits: string; backend: string; heldOut: HeldOut; heldOutText: string; timerWorstLateness: number; timerTicks: number }>;
+  trainFor(settings: Partial<TrainingConfig>): Promise<{ steps: number; lastLoss: number; lastLossBits: string; backend: string; workers: number; status: string; heldOut: HeldOut; heldOutText: string; timerWorstLateness: number; timerTicks: number }>;
   chartPoints(): { training: number; validation: number; gradientNorm: number; firstLoss: number; lastLoss: number };
   forecast(values: number[]): number[];
   hasWeights(): boolean;
@@ -82,12 +84,12 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
 
   for (const backend of ['webassembly', 'javascript'] as const) {
     it(`ends a fixed-seed run of 40 steps at a loss bit-identical to the same run in Node (f32 bits), ${backend} backend`, async () => {
-      const config: TrainingConfig = { kind: 'text', data: sampleText.repeat(3), cell: 'gru', hidden: 16, epochs: 50, window: 24, streams: 4, rate: 0.01, seed: 'same bits', maxSteps: 40, backend };
+      const config: TrainingConfig = { kind: 'text', data: sampleText.repeat(3), cell: 'gru', hidden: 16, epochs: 50, window: 24, streams: 4, rate: 0.01, seed: 'same bits', maxSteps: 40, backend, workers: 1 };
       const inBrowser = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
       const before = defaultBackend();
       let loss = NaN;
       try {
-        const { trainer } = prepare(config);
+        const { trainer } = await prepare(config);
         expect(trainer.backend.name).toBe(backend);
         for (let i = 0; i < 40; i++) loss = trainer.step();
       } finally {
@@ -103,6 +105,29 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
       expect(inBrowser.heldOutText.split('\n')[0]).toBe('held out: perplexity, lower is better');
     }, 60_000);
   }
+
+  it('trains on 2 worker threads when cross-origin isolated, says so, and ends at the loss bits of Node on 2 threads (issue 17, E)', async () => {
+    const config: TrainingConfig = { kind: 'text', data: sampleText.repeat(3), cell: 'lstm', hidden: 16, epochs: 50, window: 24, streams: 4, rate: 0.01, seed: 'two threads', maxSteps: 30, workers: 2 };
+    expect(await page.evaluate(() => (globalThis as { crossOriginIsolated?: boolean }).crossOriginIsolated)).toBe(true);
+    const inBrowser = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
+    expect(inBrowser.workers).toBe(2);
+    expect(inBrowser.status).toMatch(/^trained 30 steps on the webassembly backend, 2 worker threads \(the page is cross-origin isolated\); last loss /);
+    const before = defaultBackend();
+    let loss = NaN;
+    try {
+      const { trainer, threads } = await prepare({ ...config, backend: 'webassembly' }, undefined, undefined, (model, count) => startTrainingThreads({ count, model }));
+      expect(threads?.count).toBe(2);
+      try {
+        for (let i = 0; i < 30; i++) loss = await trainer.stepAsync();
+      } finally {
+        await threads?.close();
+      }
+    } finally {
+      setDefaultBackend(before);
+    }
+    console.log(`2 threads: loss after 30 steps: Chromium ${inBrowser.lastLoss} (${inBrowser.lastLossBits}), Node ${loss} (${f32Bits(loss)})`);
+    expect(inBrowser.lastLossBits).toBe(f32Bits(loss));
+  }, 60_000);
 
   it('stays responsive while the worker trains, and charts the points (screenshot saved)', async () => {
     const config: Partial<TrainingConfig> = { kind: 'numbers', data: waveText, cell: 'lstm', hidden: 48, epochs: 1000, window: 24, streams: 4, rate: 0.01, seed: '3' };
@@ -147,7 +172,7 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
 
     // The other way: a model made in Node, loaded through the page's file input.
     const config: TrainingConfig = { kind: 'numbers', data: waveText, cell: 'gru', hidden: 8, epochs: 1, window: 24, streams: 4, rate: 0.01, seed: 'node side' };
-    const { model, trainer, metadata } = prepare(config);
+    const { model, trainer, metadata } = await prepare(config);
     for (let i = 0; i < 10; i++) trainer.step();
     const fromNode = join(folder, 'from-node.weft.json');
     writeFileSync(fromNode, await writeWeightFile(model.description, modelTensors(model), { metadata }));

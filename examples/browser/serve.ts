@@ -22,7 +22,14 @@ export function servePage(port = 0): Promise<{ server: Server; url: string }> {
     }
     try {
       const body = await readFile(file);
-      response.writeHead(200, { 'content-type': types[extname(file)] ?? 'application/octet-stream', 'cache-control': 'no-store' }).end(body);
+      // The two headers that make the page cross-origin isolated, so its workers may share memory and train on
+      // several threads (HTML Living Standard: Cross-Origin-Opener-Policy and Cross-Origin-Embedder-Policy).
+      response.writeHead(200, {
+        'content-type': types[extname(file)] ?? 'application/octet-stream',
+        'cache-control': 'no-store',
+        'cross-origin-opener-policy': 'same-origin',
+        'cross-origin-embedder-policy': 'require-corp',
+      }).end(body);
     } catch {
       response.writeHead(404).end('not found');
     }

@@ -43,6 +43,10 @@ function startTimer(): void {
 
 $<HTMLTextAreaElement>('data').value = sampleText.repeat(3);
 
+/** Training threads of the run in progress (1: the page's worker alone). */
+let threadsInUse = 1;
+const threadWords = (count: number): string => (count > 1 ? `${count} worker threads (the page is cross-origin isolated)` : 'one worker thread');
+
 function config(): TrainingConfig {
   const kind = (document.querySelector('input[name=kind]:checked') as HTMLInputElement).value as 'text' | 'numbers';
   return {
@@ -60,13 +64,18 @@ function config(): TrainingConfig {
 
 worker.onmessage = (event: MessageEvent<FromWorker>) => {
   const message = event.data;
+  if (message.type === 'started') {
+    threadsInUse = message.workers;
+    status.textContent = `training on ${threadWords(threadsInUse)}…`;
+    return;
+  }
   if (message.type === 'progress') {
     chart.add(message.training, message.validation, message.gradientNorm);
-    status.textContent = `training: step ${message.step} of ${message.totalSteps}`;
+    status.textContent = `training on ${threadWords(threadsInUse)}: step ${message.step} of ${message.totalSteps}`;
   } else if (message.type === 'done') {
     timer.running = false;
     lastDone = message;
-    status.textContent = `trained ${message.steps} steps on the ${message.backend} backend; last loss ${message.lastLoss.toPrecision(5)}`;
+    status.textContent = `trained ${message.steps} steps on the ${message.backend} backend, ${threadWords(message.workers)}; last loss ${message.lastLoss.toPrecision(5)}`;
     showHeldOut(message.heldOut);
     void useWeights(message.weightFile);
   } else if (message.type === 'checked') {
@@ -178,7 +187,7 @@ const handle = {
     train(settings);
     const message = await until('done');
     if (message.type === 'failed') throw new Error(message.message);
-    return { steps: lastDone!.steps, lastLoss: lastDone!.lastLoss, lastLossBits: lastDone!.lastLossBits, backend: lastDone!.backend, heldOut: lastDone!.heldOut, heldOutText: $('heldout').textContent ?? '', timerWorstLateness: timer.worst, timerTicks: timer.ticks };
+    return { steps: lastDone!.steps, lastLoss: lastDone!.lastLoss, lastLossBits: lastDone!.lastLossBits, backend: lastDone!.backend, workers: lastDone!.workers, status: status.textContent ?? '', heldOut: lastDone!.heldOut, heldOutText: $('heldout').textContent ?? '', timerWorstLateness: timer.worst, timerTicks: timer.ticks };
   },
   chartPoints: () => ({ training: chart.training.length, validation: chart.validation.length, gradientNorm: chart.gradientNorm.length, firstLoss: chart.training[0]?.value, lastLoss: chart.training.at(-1)?.value }),
   forecast: (values: number[]) => forecast(values),

@@ -7,7 +7,7 @@ import { Tape, defaultBackend, setDefaultBackend, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches } from '@weft/optim';
-import type { TrainingEvent } from '@weft/optim';
+import type { ShardWorkers, TrainableModel, TrainingEvent } from '@weft/optim';
 import { buildVocabulary, forecastBaselines, forecastErrors } from '@weft/io';
 import type { WeightMetadata } from '@weft/io';
 
@@ -26,11 +26,24 @@ export interface TrainingConfig {
   readonly maxSteps?: number;
   /** The kernels to train with (default: the library's choice, WebAssembly SIMD where the browser runs it). */
   readonly backend?: 'javascript' | 'webassembly';
+  /**
+   * Training threads to use (the page's worker starts them when the page is cross-origin isolated); 1 trains in
+   * the worker itself. The weights are the same bits for any count (shards of SHARD_ROWS rows).
+   */
+  readonly workers?: number;
 }
+
+/** Rows per shard of a batch: fixed, so the number of threads changes the speed and never the weights. */
+export const SHARD_ROWS = 2;
+
+/** Starts threads for a model (Web Workers in the page, worker_threads in Node). */
+export type StartThreads = (model: TrainableModel, count: number) => Promise<ShardWorkers>;
 
 export interface Prepared {
   readonly model: SequenceModel;
   readonly trainer: Trainer;
+  /** The threads the trainer uses, or null when it trains in its own thread (close them after the run). */
+  readonly threads: ShardWorkers | null;
   readonly metadata: WeightMetadata;
   /** The model and the baselines on the held-out part, in the data's units (call after training). */
   readonly heldOut: () => HeldOut;
@@ -57,10 +70,20 @@ export function parseNumbers(text: string): number[] {
 /** The backend the platform chose before any run asked for one. */
 const platformBackend = defaultBackend();
 
-export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEvent) => void, signal?: AbortSignal): Prepared {
+/**
+ * The model, trainer and held-out figures of a configuration; with `startThreads` and `config.workers` > 1 (and
+ * more than one shard per batch), the trainer computes its shards on that many threads.
+ */
+export async function prepare(config: TrainingConfig, onProgress?: (event: TrainingEvent) => void, signal?: AbortSignal, startThreads?: StartThreads): Promise<Prepared> {
   // Everything below (the model, the batches, the trainer's buffers) is made on this backend.
   setDefaultBackend(config.backend ?? platformBackend);
-  const common = { optimizer: new AdamRule({ rate: config.rate }), epochs: config.epochs, gradientNormLimit: 1, seed: config.seed, onProgress, signal };
+  const count = Math.min(config.workers ?? 1, Math.ceil(config.streams / SHARD_ROWS));
+  let threads: ShardWorkers | null = null;
+  const threadsFor = async (model: TrainableModel) => {
+    if (count > 1 && startThreads !== undefined) threads = await startThreads(model, count);
+    return threads === null ? {} : { workers: threads };
+  };
+  const common = { optimizer: new AdamRule({ rate: config.rate }), epochs: config.epochs, gradientNormLimit: 1, seed: config.seed, onProgress, signal, shardRows: SHARD_ROWS };
   if (config.kind === 'text') {
     // The vocabulary as weft train makes it: the unknown token first, then every character of the text.
     const symbols = buildVocabulary(config.data);
@@ -69,6 +92,7 @@ export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEve
     const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 12 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: symbols.length } }, { seed: config.seed });
     const trainer = new Trainer({
       ...common,
+      ...(await threadsFor(model)),
       model,
       data: streamBatches({ kind: 'tokens', tokens: ids.slice(0, split), vocabulary: symbols.length }, { streams: config.streams, window: config.window }),
       validation: streamBatches({ kind: 'tokens', tokens: ids.slice(split), vocabulary: symbols.length }, { window: Math.min(config.window, ids.length - split - 1) }),
@@ -97,7 +121,7 @@ export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEve
       tape.clear();
       return { metric: 'perplexity', model: Math.exp(crossEntropy / n), baselines: [{ name: 'unigram (character frequencies)', value: Math.exp(unigram / n) }] };
     };
-    return { model, trainer, metadata: { task: 'next-token', tokens: 'characters', vocabulary: symbols }, heldOut };
+    return { model, trainer, threads, metadata: { task: 'next-token', tokens: 'characters', vocabulary: symbols }, heldOut };
   }
   const values = parseNumbers(config.data);
   const split = Math.floor(values.length * 0.85);
@@ -107,6 +131,7 @@ export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEve
   const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: 1 } }, { seed: config.seed });
   const trainer = new Trainer({
     ...common,
+    ...(await threadsFor(model)),
     model,
     data: streamBatches({ kind: 'values', values: normalised.slice(0, split), features: 1 }, { streams: config.streams, window: config.window }),
     validation: streamBatches({ kind: 'values', values: normalised.slice(split - config.window), features: 1 }, { window: config.window }),
@@ -124,7 +149,7 @@ export function prepare(config: TrainingConfig, onProgress?: (event: TrainingEve
     const baselines = forecastBaselines({ values: values.map((v) => [v]), targets: [0], horizon: 1, trainRows: split, positions });
     return { metric: 'MAE', model: forecastErrors(actual, forecast).mae, baselines: baselines.map((b) => ({ name: b.name, value: b.overall.mae })), actual, forecast };
   };
-  return { model, trainer, metadata: { task: 'forecast', columns: ['value'], targetColumns: ['value'], horizon: 1, normalisation: { mean: [mean], deviation: [deviation] } }, heldOut };
+  return { model, trainer, threads, metadata: { task: 'forecast', columns: ['value'], targetColumns: ['value'], horizon: 1, normalisation: { mean: [mean], deviation: [deviation] } }, heldOut };
 }
 
 /** The f32 bit pattern of a number, as 8 hex digits. */

@@ -4,7 +4,20 @@ import { GruCell, LstmCell, PlainCell, runSequence } from '@weft/cells';
 import type { RecurrentCell } from '@weft/cells';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import type { ChartPoint, FromWorker, ToWorker } from './protocol.js';
+import { startThreadGroup, webWorkerThread } from '@weft/optim';
+import type { ShardWorkers, TrainableModel } from '@weft/optim';
 import { f32Bits, prepare } from './training.js';
+
+/** Web Workers running shard.js, as many as asked: the page's training threads (cross-origin isolated pages only). */
+function startThreads(model: TrainableModel, count: number): Promise<ShardWorkers> {
+  return startThreadGroup({ count, model, spawn: (start) => webWorkerThread(new Worker(new URL('./shard.js', import.meta.url), { type: 'module' }), start) });
+}
+
+/** Threads a run may use: the cores the browser reports, where the page may share memory; else none. */
+function availableThreads(): number {
+  const isolated = (self as unknown as { crossOriginIsolated?: boolean }).crossOriginIsolated === true;
+  return isolated ? Math.max(1, navigator.hardwareConcurrency || 1) : 1;
+}
 
 let controller: AbortController | null = null;
 const post = (message: FromWorker) => (self as unknown as { postMessage(m: FromWorker): void }).postMessage(message);
@@ -57,7 +70,9 @@ self.onmessage = async (event: MessageEvent<ToWorker>) => {
       pending.gradientNorm = [];
       lastPost = performance.now();
     };
-    const { model, trainer, metadata, heldOut } = prepare(message.config, (e) => {
+    const config = { ...message.config, workers: message.config.workers ?? availableThreads() };
+    if (config.workers > availableThreads()) throw new Error(`${config.workers} training threads asked, ${availableThreads()} available (threads need a cross-origin isolated page)`);
+    const { model, trainer, threads, metadata, heldOut } = await prepare(config, (e) => {
       if (e.kind === 'step') {
         pending.training.push({ step: e.step, value: e.loss });
         if (Number.isFinite(e.gradientNorm)) pending.gradientNorm.push({ step: e.step, value: e.gradientNorm });
@@ -66,11 +81,17 @@ self.onmessage = async (event: MessageEvent<ToWorker>) => {
       if (e.kind === 'validation') pending.validation.push({ step: e.step, value: e.validationLoss! });
       total = Math.min(e.totalSteps, message.config.maxSteps ?? Infinity);
       if (performance.now() - lastPost > 100) flush(e.step);
-    }, controller.signal);
-    const summary = await trainer.run();
+    }, controller.signal, startThreads);
+    post({ type: 'started', workers: threads?.count ?? 1 });
+    let summary;
+    try {
+      summary = await trainer.run();
+    } finally {
+      await threads?.close();
+    }
     flush(summary.steps);
     const weightFile = await writeWeightFile(model.description, modelTensors(model), { metadata });
-    post({ type: 'done', steps: summary.steps, lastLoss: summary.lastLoss, lastLossBits: f32Bits(summary.lastLoss), weightFile, backend: trainer.backend.name, heldOut: heldOut() });
+    post({ type: 'done', steps: summary.steps, lastLoss: summary.lastLoss, lastLossBits: f32Bits(summary.lastLoss), weightFile, backend: trainer.backend.name, workers: threads?.count ?? 1, heldOut: heldOut() });
   } catch (error) {
     post({ type: 'failed', message: (error as Error).message });
   }
