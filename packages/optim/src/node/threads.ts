@@ -33,7 +33,8 @@ function workerScript(): URL {
 
 /** A worker_threads Worker as a thread of a group (the Worker itself as `worker`, for a supervisor). */
 function nodeThread(start: ThreadStart): ShardThread & { readonly worker: Worker } {
-  const worker = new Worker(workerScript(), { workerData: start });
+  // A young generation as large as the main thread's, so a thread's step is not cut by more scavenges than there.
+  const worker = new Worker(workerScript(), { workerData: start, resourceLimits: { maxYoungGenerationSizeMb: 64 } });
   let ended = false;
   return {
     worker,
