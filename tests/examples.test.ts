@@ -104,3 +104,17 @@ describe('the first look', () => {
     expect(lines.join('\n')).toMatch(/^gradient check PASSED/);
   });
 });
+
+describe('the README\'s look at encoder-decoders and threads (examples/pairs-look.ts)', () => {
+  it('trains on two threads and decodes the reversal it learned, greedily and by beam search', async () => {
+    const lines: string[] = [];
+    const log = console.log;
+    console.log = (...args: unknown[]) => lines.push(args.join(' '));
+    try {
+      await import('../examples/pairs-look.js');
+    } finally {
+      console.log = log;
+    }
+    expect(lines.join('\n')).toMatch(/^greedy 6 5 4 1, beam 6 5 4 1; attention of the first output token: [\d. ]+$/);
+  }, 60_000);
+});

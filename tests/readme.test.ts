@@ -8,6 +8,12 @@ describe('the README', () => {
     expect(readme).toContain('```ts\n' + example + '```');
   });
 
+  it('shows the library code of examples/pairs-look.ts verbatim (encoder-decoders, attention, threads)', () => {
+    const readme = readFileSync(new URL('../README.md', import.meta.url), 'utf8');
+    const example = readFileSync(new URL('../examples/pairs-look.ts', import.meta.url), 'utf8').split('\n').slice(1).join('\n');
+    expect(readme).toContain('```ts\n' + example + '```');
+  });
+
   it('opens with the job and gives the two setup commands', () => {
     const readme = readFileSync(new URL('../README.md', import.meta.url), 'utf8');
     expect(readme.split('\n')[2]).toMatch(/^weft is a TypeScript library for training and running small gated recurrent networks/);
