@@ -13,8 +13,9 @@
  * captures weights, optimiser state, generator state, schedule position, data cursor, carried state and the
  * early-stopping record, and `restore()` continues bit for bit.
  *
- * Why one file of this length (just over 300 lines): the step, the run loop and snapshot/restore read and write the
- * same private state of one object; the parts that stand alone are in training/.
+ * Why one file of this length: the step (its gradients from the whole batch, from shards in this thread, or from
+ * shards on threads), the run loop and snapshot/restore read and write the same private state of one object (the
+ * carried state, the sums, the counters); the parts that stand alone are in training/ (shards.ts, thread-group.ts).
  */
 import { BufferPool, Random, Tape, Tensor, backendOf, defaultBackend, fail, resetGradients, zeros } from '@weft/core';
 import type { Backend, FloatArray } from '@weft/core';
@@ -173,9 +174,8 @@ export class Trainer {
       const outcome = shardGradients(this.model, this.parameters, this.tape, shard, initial, shardSeed(this.seed, step, k), lossWeight(shard) / total);
       loss += outcome.loss;
       states.push(outcome.state);
-      this.parameters.forEach((p, i) => {
-        if (p.gradient !== null) addInto(sums[i], p.gradient);
-      });
+      // A parameter the shard did not reach adds zeros, as a thread's answer for it does.
+      this.parameters.forEach((p, i) => addInto(sums[i], p.gradient ?? this.zerosOf(p.size)));
       this.tape.clear();
       for (const array of made) this.pool.give(array);
     });
@@ -200,6 +200,13 @@ export class Trainer {
       this.parameters.forEach((_, i) => addInto(sums[i], workers.gradient(k, i)));
     });
     return { loss, carry: this.joinedStates(outcomes.map((o) => o.state), batch.batch), sums };
+  }
+
+  private zeros: Float64Array = new Float64Array(0);
+
+  private zerosOf(size: number): Float64Array {
+    if (this.zeros.length < size) this.zeros = new Float64Array(size);
+    return this.zeros.subarray(0, size);
   }
 
   private zeroedSums(): FloatArray[] {
