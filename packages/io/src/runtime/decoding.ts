@@ -30,6 +30,14 @@ export interface DecodingOptions {
   readonly maxSourceLength?: number;
 }
 
+/** What the encoder makes of one source. */
+export interface EncodedSource {
+  /** The decoder's initial state, in the decoder's `Runtime.stateWidths()` order, one row each. */
+  readonly state: Float32Array;
+  /** The encoder's top outputs [S, encodedWidth], in the source's order. */
+  readonly outputs: Float32Array;
+}
+
 /** How `decode` chooses each token. */
 export interface DecodeOptions extends SamplingOptions {
   /** Token the decoder starts from. */
@@ -141,7 +149,7 @@ export class EncoderDecoderRuntime {
    * reversed). Returns the decoder's initial state (`Runtime.stateWidths()` order of the decoder, one row) and the
    * encoder's top outputs [S, encodedWidth] in the source's order.
    */
-  encodeAll(source: readonly number[] | Int32Array): { state: Float32Array; outputs: Float32Array } {
+  encodeAll(source: readonly number[] | Int32Array): EncodedSource {
     const length = source.length;
     if (length === 0) fail('invalid_argument', 'encode.source', 'at least one token', 'none');
     const reversed = this.description.reverseSource === true;

@@ -5,7 +5,7 @@
  * `@weft/io/runtime`, it runs on WebAssembly SIMD where the platform validates it.
  */
 import './choose.js';
-export type { DecodedOutput, DecodeOptions, DecodingOptions } from './decoding.js';
+export type { DecodedOutput, DecodeOptions, DecodingOptions, EncodedSource } from './decoding.js';
 export { Decoding, EncoderDecoderRuntime } from './decoding.js';
 export type { BeamOptions, BeamResult } from './beam.js';
 export { searchBeams } from './beam.js';

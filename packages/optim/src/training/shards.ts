@@ -43,24 +43,39 @@ export function lossWeight(batch: Batch): number {
 
 /** A batch as typed arrays only (structured-clone-able), for a worker. */
 export interface PlainBatch {
+  /** Time steps T. */
   readonly steps: number;
+  /** Rows of the shard. */
   readonly rows: number;
   /** Token ids [T·rows] for an embedding input, else null. */
   readonly tokens: Int32Array | null;
   /** Numbers [T·rows·width] for a values input, else null. */
   readonly values: FloatArray | null;
+  /** Numbers per step of a values input (1 for tokens). */
   readonly width: number;
+  /** Each row's length, or null when every row runs T steps. */
   readonly lengths: Int32Array | null;
+  /** The batch's `carryAfter`, or null. */
   readonly carryAfter: number | null;
+  /** Real (unpadded) positions of the shard. */
   readonly positions: number;
+  /** Class targets or value targets. */
   readonly targetKind: 'classes' | 'values';
+  /** A target at every step, or one per row. */
   readonly perStep: boolean;
+  /** The class targets (time-major for per-step targets), or null. */
   readonly classes: Int32Array | null;
+  /** The value targets, one row of `targetWidth` per target, or null. */
   readonly targetValues: FloatArray | null;
+  /** Values per target row (1 for classes). */
   readonly targetWidth: number;
+  /** A weight per target, or null. */
   readonly weights: Float64Array | null;
+  /** The sources of a batch of pairs [sourceSteps·rows], or null. */
   readonly sourceTokens: Int32Array | null;
+  /** Source steps S of a batch of pairs (0 otherwise). */
   readonly sourceSteps: number;
+  /** Each row's source length, or null. */
   readonly sourceLengths: Int32Array | null;
 }
 
@@ -165,10 +180,13 @@ export function shardGradients(model: TrainableModel, parameters: readonly Tenso
 export interface ShardJob {
   /** The shard's number in the batch (its place in the sum). */
   readonly shard: number;
+  /** The shard's rows of the batch. */
   readonly batch: PlainBatch;
   /** The shard's rows of the carried state, per slot; null to start from zeros. */
   readonly state: FloatArray[] | null;
+  /** The seed of the shard's dropout masks (`shardSeed`). */
   readonly seed: string;
+  /** The shard's share of the batch's loss weight, its loss's scale. */
   readonly share: number;
 }
 

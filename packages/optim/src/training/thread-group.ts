@@ -35,17 +35,23 @@ export interface ShardThread {
 
 /** The thread's end of the protocol: what `serveShards` needs of its surroundings. */
 export interface ShardEndpoint {
+  /** Sends a message to the group, moving the listed buffers. */
   post(message: unknown, transfer: ArrayBuffer[]): void;
+  /** Calls `onMessage` with each message from the group. */
   listen(onMessage: (data: unknown) => void): void;
 }
 
 /** What a thread is told at its start. */
 export interface ThreadStart {
+  /** The model's description (rebuilt in the thread). */
   readonly description: unknown;
+  /** The model's element type. */
   readonly dtype: 'f32' | 'f64';
+  /** The backend the trainer computes on (the thread uses the same). */
   readonly backend: string;
   /** The shared weights, or null when they travel in each step's message. */
   readonly weights: SharedArrayBuffer | null;
+  /** Each parameter's element count, in parameter order. */
   readonly sizes: readonly number[];
 }
 
