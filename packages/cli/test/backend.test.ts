@@ -34,8 +34,8 @@ describe('weft train --backend', () => {
     const wasm = await demoRun('webassembly');
     const js = await demoRun('javascript');
     console.log(`demo held-out MAE: webassembly ${wasm.heldOut}, javascript ${js.heldOut}`);
-    expect(wasm.first).toMatch(/, webassembly backend$/);
-    expect(js.first).toMatch(/, javascript backend$/);
+    expect(wasm.first).toMatch(/, webassembly backend, this thread$/);
+    expect(js.first).toMatch(/, javascript backend, this thread$/);
     expect(Math.abs(wasm.heldOut - js.heldOut) / js.heldOut).toBeLessThan(0.02);
   }, 120_000);
 
