@@ -176,7 +176,8 @@ export class ThreadGroup implements ShardWorkers {
   }
 
   private fault(thread: number, cause: string): WeftError {
-    const where = `training thread ${thread + 1} of ${this.count}${this.currentStep > 0 ? `, step ${this.currentStep}` : ', starting'}`;
+    const when = this.currentStep === 0 ? ', starting' : this.pending === null ? `, after step ${this.currentStep}` : `, step ${this.currentStep}`;
+    const where = `training thread ${thread + 1} of ${this.count}${when}`;
     return new WeftError({ code: 'worker_failed', path: where, expected: 'its shards\' gradients', received: cause, detail: 'every thread was ended; the last checkpoint is as it was written' });
   }
 
@@ -186,9 +187,13 @@ export class ThreadGroup implements ShardWorkers {
     this.failure = error;
     const pending = this.pending;
     this.pending = null;
-    await this.close();
+    this.ending = this.close();
+    await this.ending;
     pending?.reject(error);
   }
+
+  /** The ending of every thread after a failure (a later step waits for it before it reports the failure). */
+  private ending: Promise<void> = Promise.resolve();
 
   private waiting = new Set<number>();
   private answers = new Map<number, ShardOutcome>();
@@ -213,7 +218,11 @@ export class ThreadGroup implements ShardWorkers {
   }
 
   async compute(step: number, weights: readonly FloatArray[], jobs: readonly ShardJob[]): Promise<ShardOutcome[]> {
-    if (this.failure !== null) throw this.failure;
+    if (this.failure !== null) {
+      // A thread failed between steps: report it once every thread has ended.
+      await this.ending;
+      throw this.failure;
+    }
     if (this.closed) fail('worker_failed', 'training threads', 'threads still running', 'threads already closed');
     this.currentStep = step;
     const values = this.weights ?? (this.start.dtype === 'f64' ? new Float64Array(this.total) : new Float32Array(this.total));

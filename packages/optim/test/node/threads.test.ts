@@ -133,7 +133,7 @@ describe('training on worker threads', () => {
     const started = Date.now();
     const error = await trainer.run().then(() => null, (e: unknown) => e);
     expect(Date.now() - started).toBeLessThan(10_000);
-    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, step (6|7): expected its shards' gradients, received it exited \(code \d+\)/);
+    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, (step [67]|after step [56]): expected its shards' gradients, received it exited \(code \d+\)/);
     expect(await threadsAlive(threads)).toBe(0);
     const saved = await loadCheckpoint(path);
     expect(saved.snapshot.step).toBe(5);
@@ -141,6 +141,20 @@ describe('training on worker threads', () => {
     resumed.restore(saved.snapshot);
     resumed.step();
     expect(resumed.stepsTaken).toBe(6);
+  }, 30_000);
+
+  it('reports a thread ended between steps at the next step, once every thread has ended', async () => {
+    const m = model('gru');
+    const threads = await startTrainingThreads({ count: 2, model: m });
+    const trainer = new Trainer({
+      ...options(m, threads),
+      afterStep: async (t) => {
+        if (t.stepsTaken === 3) await (threads.threads[0] as unknown as { worker: { terminate(): Promise<number> } }).worker.terminate();
+      },
+    });
+    const error = await trainer.run().then(() => null, (e: unknown) => e);
+    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 1 of 2, after step 3: expected its shards' gradients, received it exited \(code \d+\)/);
+    expect(await threadsAlive(threads)).toBe(0);
   }, 30_000);
 
   it('refuses a thread count of 0 in one line', async () => {
