@@ -36,7 +36,9 @@ describe('the examples (reduced budget)', () => {
     for (const accuracy of Object.values(result)) expect(accuracy).toBeGreaterThan(0.5);
   });
 
-  it('(g) attention keeps long seal codes exact where the model without it, of the same size and budget, fails (issue 16, D)', async () => {
+  // Once, on the default backend: the run is the suite's longest (28 s there, 80 s on JavaScript, which ends at the
+  // same figures, 0.4353 against 0); attention on the JavaScript kernels is covered by the cells' and runtime's tests.
+  it.skipIf(process.env.WEFT_BACKEND === 'javascript')('(g) attention keeps long seal codes exact where the model without it, of the same size and budget, fails (issue 16, D)', async () => {
     const { sealCodes } = await import('../examples/seal-codes/main.js');
     const result = await sealCodes();
     const [, , longest] = result.bands;
