@@ -5,7 +5,8 @@
  * draws what attention looked at while writing the first output.
  */
 import { readFileSync } from 'node:fs';
-import { parseTable } from '@weft/io';
+import { fail } from '@weft/core';
+import { fieldPath, parseTable } from '@weft/io';
 import type { WeightFile } from '@weft/io';
 import { writeFileAtomic } from '@weft/io/node';
 import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
@@ -32,6 +33,9 @@ function sourcesOf(text: string, name: string, meta: TransductionMeta): { source
     const table = parseTable(text, { file: name });
     const at = table.header.indexOf(meta.sourceColumn);
     const lines = table.rows.map((r) => r.fields[at].trim());
+    lines.forEach((line, r) => {
+      if (line === '') fail('bad_data', fieldPath(table, r, at), 'a source of at least one token', 'an empty field');
+    });
     return { sources: lines.map((l) => tokensOf(l, meta.tokens)), lines };
   }
   const lines = text.split(/\r?\n/).map((l) => l.trim()).filter((l) => l !== '');

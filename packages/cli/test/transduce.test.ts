@@ -61,5 +61,7 @@ describe('weft on source/target pairs', () => {
     expectOneLineError(weft(['train', 'codes.csv', '--max-target', '3', '--start-over']), 1, /^weft: Bad data at codes\.csv:\d+:\d+: expected a target of at most 3 characters \(the decoder's limit, --max-target\), received \d+$/);
     expectOneLineError(weft(['train', 'codes.csv', '--attention', 'cosine']), 2, /^weft: --attention must be one of dot, general, additive, none, got "cosine"$/);
     expectOneLineError(weft(['train', 'codes.csv', '--task', 'classify', '--reverse-source']), 2, /^weft: --reverse-source applies to --task pairs/);
+    writeFileSync(join(folder, 'sources.csv'), 'source,note\nab-cd,first\n,second\n');
+    expectOneLineError(weft(['run', 'codes.weft.json', 'sources.csv']), 1, /^weft: Bad data at sources\.csv:3:1: expected a source of at least one token, received an empty field$/);
   });
 });

@@ -200,7 +200,7 @@ export class EncoderDecoderRuntime {
    */
   decode(source: readonly number[] | Int32Array, options: DecodeOptions): DecodedOutput {
     checkTokens(options, this, 'decode');
-    const decoding = this.decoding({ maxSourceLength: source.length });
+    const decoding = this.decoding({ maxSourceLength: Math.max(1, source.length) });
     try {
       decoding.start(source);
       const tokens: number[] = [];

@@ -165,5 +165,6 @@ describe('encoder-decoders with attention in the runtime', () => {
     const tensors = modelTensors(model).filter((t) => t.name !== 'attention.vector');
     await expect(createEncoderDecoderRuntime(await writeWeightFile(model.description, tensors), { backend: 'javascript' })).rejects.toThrowError(/attention\.vector/);
     expect(() => runtime.decode([1, 2], { startToken: 9, endToken: END, maxLength: 4 })).toThrowError('Invalid option at decode.startToken: expected a token id in [0, 5), received 9');
+    expect(() => runtime.decode([], { startToken: START, endToken: END, maxLength: 4 })).toThrowError('Invalid argument at encode.source: expected at least one token, received none');
   });
 });
