@@ -28,8 +28,8 @@ import type { ValidationResult } from './training/evaluation.js';
 import { forwardWithLookback } from './training/lookback.js';
 import { BestValidation } from './training/stopping.js';
 import { taskLoss } from './training/task.js';
-import { addInto, batchOf, lossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
-import type { PlainBatch, ShardJob, ShardWorkers } from './training/shards.js';
+import { addInto, batchOf, lossWeight, plainLossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
+import type { ShardJob, ShardWorkers } from './training/shards.js';
 import type { TrainerOptions, TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
 import { checkSchedule, scheduleFactor } from './schedule.js';
 
@@ -189,7 +189,7 @@ export class Trainer {
     const carried = this.carriedState();
     const jobs: ShardJob[] = this.shardRanges(batch).map(([from, to], k) => {
       const plain = shardOf(batch, from, to);
-      const share = plainWeight(plain) / total;
+      const share = plainLossWeight(plain) / total;
       return { shard: k, batch: plain, state: carried === undefined ? null : carried.map((slot) => rowsOf(slot, from, to)), seed: shardSeed(this.seed, step, k), share };
     });
     const outcomes = await workers.compute(step, this.parameters.map((p) => p.data), jobs);
@@ -458,13 +458,6 @@ interface StepOutcome {
 function rowsOf(slot: Tensor, from: number, to: number): FloatArray {
   const width = slot.shape[1];
   return slot.data.slice(from * width, to * width);
-}
-
-/** The loss weight of a plain shard, as lossWeight counts it. */
-function plainWeight(plain: PlainBatch): number {
-  if (plain.weights !== null) return plain.weights.reduce((n, w) => n + w, 0);
-  if (plain.perStep && plain.lengths !== null) return plain.lengths.reduce((n, l) => n + l, 0);
-  return plain.perStep ? plain.steps * plain.rows : plain.rows;
 }
 
 function now(): number {

@@ -27,18 +27,25 @@ export function shardRanges(rows: number, shardRows: number): [number, number][]
 
 /** The total weight of a batch's loss positions: what its loss is a weighted mean over. */
 export function lossWeight(batch: Batch): number {
-  const targets = batch.targets;
-  if (targets.weights !== null) {
-    let total = 0;
-    for (let i = 0; i < targets.weights.length; i++) total += targets.weights[i];
+  return weightOf(batch.targets.weights, batch.targets.perStep, batch.lengths, batch.steps, batch.batch);
+}
+
+/** The same total for a shard in its plain form (what a job's share is computed from). */
+export function plainLossWeight(plain: PlainBatch): number {
+  return weightOf(plain.weights, plain.perStep, plain.lengths, plain.steps, plain.rows);
+}
+
+/** Σ weights when there are weights; else the valid positions (per-step targets) or the rows. */
+function weightOf(weights: Float64Array | null, perStep: boolean, lengths: Int32Array | null, steps: number, rows: number): number {
+  let total = 0;
+  if (weights !== null) {
+    for (let i = 0; i < weights.length; i++) total += weights[i];
     return total;
   }
-  if (targets.perStep && batch.lengths !== null) {
-    let total = 0;
-    for (let b = 0; b < batch.batch; b++) total += batch.lengths[b];
-    return total;
-  }
-  return targets.perStep ? batch.steps * batch.batch : batch.batch;
+  if (!perStep) return rows;
+  if (lengths === null) return steps * rows;
+  for (let b = 0; b < rows; b++) total += lengths[b];
+  return total;
 }
 
 /** A batch as typed arrays only (structured-clone-able), for a worker. */
