@@ -43,7 +43,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'epochs', value: 'NUMBER', description: 'passes over the training data (at most: see --patience)', fallback: '20' },
   { name: 'rate', value: 'NUMBER', description: 'Adam learning rate', fallback: '0.005' },
   { name: 'clip', value: 'NUMBER', description: 'clip the global gradient norm to this', fallback: '1' },
-  { name: 'workers', value: 'N', description: 'training threads: each batch is cut into shards of 8 rows computed in parallel, the same weights for any N', fallback: 'the cores, at most one per shard' },
+  { name: 'workers', value: 'N', description: 'training threads, this one included: each batch is cut into shards of 8 rows computed in parallel, the same weights for any N', fallback: 'the cores, at most one per shard' },
   { name: 'seed', value: 'TEXT', description: 'seed for every random choice', fallback: '1' },
   { name: 'validation', value: 'SHARE', description: 'share of the data held out (the end of a series or text)', fallback: '0.1' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },

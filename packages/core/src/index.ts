@@ -46,11 +46,13 @@ export {
   KERNEL_NAMES,
   backendNamed,
   backendOf,
+  compiledKernels,
   createWebAssemblyBackend,
   defaultBackend,
   javascriptBackend,
   javascriptKernels,
   setDefaultBackend,
+  useCompiledKernels,
   webAssemblyBackend,
   webAssemblyUnavailable,
 } from './backend/index.js';

@@ -22,10 +22,12 @@ export function gradientNorm(parameters: readonly Tensor[]): number {
   return Math.sqrt(total);
 }
 
-/** Scales all gradients together so their global norm is at most `threshold`; returns the norm before. */
-export function limitGradientNorm(parameters: readonly Tensor[], threshold: number): number {
+/**
+ * Scales all gradients together so their global norm is at most `threshold`; returns the norm before. `norm` is
+ * that norm when the caller has just computed it (`gradientNorm`), saving a pass over every gradient.
+ */
+export function limitGradientNorm(parameters: readonly Tensor[], threshold: number, norm: number = gradientNorm(parameters)): number {
   if (!(threshold > 0)) fail('invalid_option', 'limitGradientNorm.threshold', 'a number > 0', String(threshold));
-  const norm = gradientNorm(parameters);
   if (norm >= threshold && Number.isFinite(norm)) {
     const factor = threshold / norm;
     for (const p of parameters) {

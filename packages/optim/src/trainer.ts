@@ -28,7 +28,7 @@ import type { ValidationResult } from './training/evaluation.js';
 import { forwardWithLookback } from './training/lookback.js';
 import { BestValidation } from './training/stopping.js';
 import { taskLoss } from './training/task.js';
-import { addInto, batchOf, lossWeight, plainLossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
+import { batchOf, computeJob, lossWeight, plainLossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
 import type { ShardJob, ShardWorkers } from './training/shards.js';
 import type { TrainerOptions, TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
 import { checkSchedule, scheduleFactor } from './schedule.js';
@@ -163,7 +163,7 @@ export class Trainer {
   private shardsInThread(batch: Batch): StepOutcome {
     const total = lossWeight(batch);
     const step = this.stepCount + 1;
-    const sums = this.zeroedSums();
+    const sums = this.sumBuffers();
     const carried = this.carriedState();
     const states: FloatArray[][] = [];
     let loss = 0;
@@ -175,7 +175,7 @@ export class Trainer {
       loss += outcome.loss;
       states.push(outcome.state);
       // A parameter the shard did not reach adds zeros, as a thread's answer for it does.
-      this.parameters.forEach((p, i) => addInto(sums[i], p.gradient ?? this.zerosOf(p.size)));
+      this.parameters.forEach((p, i) => this.sumInto(sums[i], p.gradient ?? this.zerosOf(p.size), k));
       this.tape.clear();
       for (const array of made) this.pool.give(array);
     });
@@ -192,12 +192,13 @@ export class Trainer {
       const share = plainLossWeight(plain) / total;
       return { shard: k, batch: plain, state: carried === undefined ? null : carried.map((slot) => rowsOf(slot, from, to)), seed: shardSeed(this.seed, step, k), share };
     });
-    const outcomes = await workers.compute(step, this.parameters.map((p) => p.data), jobs);
-    const sums = this.zeroedSums();
+    const here = (job: ShardJob, into: FloatArray, at: number) => computeJob(this.model, this.parameters, this.tape, this.pool, job, into, at);
+    const outcomes = await workers.compute(step, this.parameters.map((p) => p.data), jobs, here);
+    const sums = this.sumBuffers();
     let loss = 0;
     outcomes.forEach((outcome, k) => {
       loss += outcome.loss;
-      this.parameters.forEach((_, i) => addInto(sums[i], workers.gradient(k, i)));
+      this.parameters.forEach((_, i) => this.sumInto(sums[i], workers.gradient(k, i), k));
     });
     return { loss, carry: this.joinedStates(outcomes.map((o) => o.state), batch.batch), sums };
   }
@@ -209,10 +210,33 @@ export class Trainer {
     return this.zeros.subarray(0, size);
   }
 
-  private zeroedSums(): FloatArray[] {
-    if (this.sums === null) this.sums = this.parameters.map((p) => (p.dtype === 'f64' ? new Float64Array(p.size) : new Float32Array(p.size)));
-    for (const sum of this.sums) sum.fill(0);
+  /** The buffers the shards' gradients are summed in, in the backend's memory (overwritten by the first shard). */
+  private sumBuffers(): FloatArray[] {
+    this.sums ??= this.parameters.map((p) => this.backend.pool.take(p.dtype, p.size));
     return this.sums;
+  }
+
+  /** A copy of `values` in the backend's memory (one buffer, grown as needed), for its kernels to read. */
+  private staged(values: FloatArray): FloatArray {
+    if (this.stage === null || this.stage.length < values.length || this.stage.constructor !== values.constructor) {
+      if (this.stage !== null) this.backend.pool.give(this.stage);
+      this.stage = this.backend.pool.take(values instanceof Float64Array ? 'f64' : 'f32', values.length);
+    }
+    const copy = this.stage.subarray(0, values.length);
+    copy.set(values);
+    return copy;
+  }
+
+  private stage: FloatArray | null = null;
+
+  /**
+   * Shard `shard`'s gradient into the sum: the first is copied, each later one added in shard order with the
+   * backend's kernel (one rule for shards computed here and on threads, so the sums agree bit for bit; an f32 sum
+   * is the correctly rounded one in either backend).
+   */
+  private sumInto(sum: FloatArray, gradient: FloatArray, shard: number): void {
+    if (shard === 0) sum.set(gradient);
+    else this.backend.kernels.addInto(sum, this.backend.holds(gradient) ? gradient : this.staged(gradient), sum.length);
   }
 
   /** Rows [from, to) of a [rows, width] state slot, as a tensor from the trainer's pool. */
@@ -251,13 +275,16 @@ export class Trainer {
     }
     if (outcome.sums !== undefined) this.parameters.forEach((p, i) => this.tape.gradientOf(p).set((outcome.sums as FloatArray[])[i]));
     const multiplier = this.options.schedule === undefined ? 1 : scheduleFactor(this.options.schedule, this.stepCount);
-    const badGradient = firstNonFiniteEntry(this.parameters, 'gradient');
+    // The squares are summed in f64, where a finite entry's square stays finite: a finite norm means every entry is
+    // finite, so only a non-finite norm sends the search for the entry to name.
+    const wholeNorm = gradientNorm(this.parameters);
+    const badGradient = Number.isFinite(wholeNorm) ? null : firstNonFiniteEntry(this.parameters, 'gradient');
     let norm = NaN;
     if (badGradient !== null) {
       this.skipped++;
       this.emit('skipped', value, NaN, multiplier, `non-finite gradient of ${badGradient.name}[${badGradient.offset}] = ${badGradient.value}; update skipped`);
     } else {
-      norm = this.options.gradientNormLimit !== undefined ? limitGradientNorm(this.parameters, this.options.gradientNormLimit) : gradientNorm(this.parameters);
+      norm = this.options.gradientNormLimit !== undefined ? limitGradientNorm(this.parameters, this.options.gradientNormLimit, wholeNorm) : wholeNorm;
       if (this.options.gradientValueLimit !== undefined) limitGradientValues(this.parameters, this.options.gradientValueLimit);
       for (let i = 0; i < this.parameters.length; i++) this.backup[i].set(this.parameters[i].data);
       optimizer.update(this.parameters, multiplier);

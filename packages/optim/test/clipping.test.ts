@@ -18,6 +18,19 @@ describe('gradient clipping', () => {
     expect(Array.from(a.gradient!)).toEqual([1.5, 2]);
   });
 
+  it('by global norm with the norm the caller computed scales by that norm, as without it', () => {
+    // Same hand example: gradientNorm gives 13, and handing it over gives the same (1.5, 2 | 6).
+    const a = parameter([0, 0]);
+    const b = parameter([0]);
+    setGradient(a, [3, 4]);
+    setGradient(b, [12]);
+    const norm = gradientNorm([a, b]);
+    expect(norm).toBe(13);
+    expect(limitGradientNorm([a, b], 6.5, norm)).toBe(13);
+    expect(Array.from(a.gradient!)).toEqual([1.5, 2]);
+    expect(Array.from(b.gradient!)).toEqual([6]);
+  });
+
   it('by value limits each entry', () => {
     const a = parameter([0, 0, 0]);
     setGradient(a, [-5, 0.5, 7]);

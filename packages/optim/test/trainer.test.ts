@@ -1,8 +1,8 @@
 import { describe, expect, it } from 'vitest';
-import { Random, WeftError } from '@weft/core';
+import { Random, WeftError, tensor } from '@weft/core';
 import { EncoderDecoderModel, buildModel } from '@weft/cells';
 import { AdamRule, SgdRule, Trainer, pairBatches, sequenceBatches, streamBatches } from '@weft/optim';
-import type { TrainingEvent, TrainerOptions } from '@weft/optim';
+import type { Batch, TrainingEvent, TrainerOptions } from '@weft/optim';
 
 function corpus(length: number, seed: string): Int32Array {
   // A small invented "language": repeating motifs with random choices, over 6 symbols.
@@ -84,6 +84,27 @@ describe('the trainer', () => {
     expect(values(trainer)).toEqual(values(reference));
     console.log(`divergent run: ${(error as WeftError).message}`);
     for (const row of values(trainer)) expect(row.every(Number.isFinite)).toBe(true);
+  });
+
+  it('skips the update of a step whose gradient is not finite, naming the entry, whole or in shards', () => {
+    // Infinity at a padded step (row 1 is 3 steps of 4): the loss never reads it, but the input weights' gradient
+    // is Σ x·δ over every step, and Infinity · 0 is NaN (IEEE 754 §7.2), so the gradient is not finite.
+    const x = Float32Array.from({ length: 8 }, (_, i) => (i % 3) / 3);
+    x[3 * 2 + 1] = Infinity;
+    const batch: Batch = { input: tensor(x, [4, 2, 1]), steps: 4, batch: 2, lengths: Int32Array.of(4, 3), targets: { kind: 'values', perStep: false, width: 1, values: tensor(Float32Array.of(0.5, -0.5), [2, 1]), weights: null }, positions: 7 };
+    for (const shardRows of [undefined, 1]) {
+      const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'gru', hidden: 3 }], readout: { width: 1 } }, { seed: 1 });
+      const before = model.parameters().map((p) => Array.from(p.tensor.data));
+      const events: TrainingEvent[] = [];
+      const trainer = new Trainer({ model, data: { batchesPerEpoch: 1, carriesState: false, batch: () => batch }, optimizer: new AdamRule({ rate: 0.01 }), epochs: 1, gradientNormLimit: 1, onProgress: (e) => events.push(e), ...(shardRows === undefined ? {} : { shardRows }) });
+      const loss = trainer.step();
+      expect(Number.isFinite(loss)).toBe(true);
+      const skipped = events.filter((e) => e.kind === 'skipped');
+      expect(skipped.length, `shardRows ${shardRows}`).toBe(1);
+      expect(skipped[0].reason).toBe('non-finite gradient of layers[0].forward.input[0] = NaN; update skipped');
+      expect(Number.isNaN(skipped[0].gradientNorm)).toBe(true);
+      expect(model.parameters().map((p) => Array.from(p.tensor.data))).toEqual(before);
+    }
   });
 
   it('stops early with patience and restores the best weights; reports progress', async () => {

@@ -4,5 +4,5 @@ export type { KernelName, KernelTable } from './kernel-table.js';
 export { KERNEL_NAMES, javascriptKernels } from './kernel-table.js';
 export { javascriptBackend } from './javascript.js';
 export type { WebAssemblyBackendOptions } from './webassembly.js';
-export { createWebAssemblyBackend, webAssemblyUnavailable } from './webassembly.js';
+export { compiledKernels, createWebAssemblyBackend, useCompiledKernels, webAssemblyUnavailable } from './webassembly.js';
 export { backendNamed, backendOf, defaultBackend, memoryOwner, setDefaultBackend, webAssemblyBackend } from './choose.js';

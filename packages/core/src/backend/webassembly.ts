@@ -12,6 +12,7 @@
  * Scratch: the matrix product's packed panels and a copy of a ragged batch's lengths live in blocks of this memory
  * that grow to the largest size asked of them (old blocks go back to the memory for reuse).
  */
+import { fail } from '../errors.js';
 import type { FloatArray } from '../dtype.js';
 import { BufferPool } from '../pool.js';
 import type { Backend } from './backend.js';
@@ -46,13 +47,31 @@ export function webAssemblyUnavailable(): string | null {
 }
 
 /**
+ * The compiled kernels of this backend (compiled on first use): a training thread is handed them at its start
+ * (`useCompiledKernels`), so it runs the code this thread has already compiled and tiered up instead of compiling
+ * its own. Throws a `WeftError` where SIMD modules cannot run.
+ */
+export function compiledKernels(): WebAssembly.Module {
+  compiled ??= compileModule(trainingModuleBase64);
+  return compiled;
+}
+
+/**
+ * Uses kernels compiled in another thread (`compiledKernels` there, sent in a message) for the WebAssembly
+ * backends made from now on in this one; kernels already compiled here stay as they are.
+ */
+export function useCompiledKernels(module: WebAssembly.Module): void {
+  if (!(module instanceof WebAssembly.Module)) fail('invalid_argument', 'useCompiledKernels.module', 'a WebAssembly.Module (from compiledKernels)', typeof module);
+  compiled ??= module;
+}
+
+/**
  * Makes a WebAssembly SIMD backend with a memory of its own, reserved now and never grown; throws a `WeftError` where
  * SIMD modules cannot run (see `webAssemblyUnavailable`).
  */
 export function createWebAssemblyBackend(options: WebAssemblyBackendOptions = {}): Backend {
   const bytes = checkReservation(options.memoryBytes ?? DEFAULT_MEMORY_BYTES, 'webassembly backend.memoryBytes');
-  compiled ??= compileModule(trainingModuleBase64);
-  return new WebAssemblyBackend(bytes, compiled);
+  return new WebAssemblyBackend(bytes, compiledKernels());
 }
 
 class WebAssemblyBackend implements Backend {

@@ -7,7 +7,8 @@
  * the update rules), else within |a − b| ≤ 1e-5·max(1, |a|, |b|) (tests/helpers/close.ts form).
  */
 import { describe, expect, it } from 'vitest';
-import { Random, createWebAssemblyBackend, javascriptKernels, webAssemblyUnavailable } from '@weft/core';
+import { MessageChannel } from 'node:worker_threads';
+import { Random, compiledKernels, createWebAssemblyBackend, javascriptKernels, useCompiledKernels, webAssemblyUnavailable } from '@weft/core';
 import type { KernelTable } from '@weft/core';
 import { worstGap } from '../../../../tests/helpers/close.js';
 
@@ -171,7 +172,7 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
   });
 
   it('agree bit for bit on the Adam and SGD updates (f64 arithmetic in the twin\'s order)', () => {
-    for (const n of [1, 5, 37]) {
+    for (const n of [1, 2, 5, 37, 1001]) {
       agree([n, n, n, n], (k, [values, gradient, m, v]) => {
         for (let i = 0; i < n; i++) v![i] = Math.abs(v![i]);
         k.adamUpdate(values!, gradient!, m!, v!, n, 0.9, 0.999, 1 - 0.9 ** 3, 1 - 0.999 ** 3, 0.01, 0.001, 0.0001, 1e-8);
@@ -180,5 +181,28 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
         agree([n, n, n], (k, [values, gradient, velocity]) => k.sgdUpdate(values!, gradient!, velocity!, n, 0.05, 0.001, 0.9, 0.0001, nesterov), true, n + 1);
       }
     }
+  });
+});
+
+describe.skipIf(!available)('the compiled kernels handed to another thread', () => {
+  it('are one module, compiled once, that survives a trip through a message port', async () => {
+    const module = compiledKernels();
+    expect(module).toBeInstanceOf(WebAssembly.Module);
+    expect(compiledKernels()).toBe(module);
+    const { port1, port2 } = new MessageChannel();
+    const received = new Promise<unknown>((resolve) => port2.once('message', resolve));
+    port1.postMessage(module);
+    const copy = await received;
+    port1.close();
+    port2.close();
+    expect(copy).toBeInstanceOf(WebAssembly.Module);
+    // Already compiled here: the module in use stays the one compiled first.
+    useCompiledKernels(copy as WebAssembly.Module);
+    expect(compiledKernels()).toBe(module);
+    expect(WebAssembly.Module.exports(copy as WebAssembly.Module).map((e) => e.name)).toEqual(WebAssembly.Module.exports(module).map((e) => e.name));
+  });
+
+  it('refuse anything that is not a compiled module, in one line', () => {
+    expect(() => useCompiledKernels('kernels' as unknown as WebAssembly.Module)).toThrowError('Invalid argument at useCompiledKernels.module: expected a WebAssembly.Module (from compiledKernels), received string');
   });
 });

@@ -183,6 +183,38 @@ export function shardGradients(model: TrainableModel, parameters: readonly Tenso
   return { loss: value, state: result.carry.map((s) => s.data.slice()) };
 }
 
+/**
+ * One job computed in the calling thread on `model` (whose parameter tensors are `parameters`): the shard's
+ * gradients written in parameter order into `into` from offset `at` (zeros for a parameter the shard did not reach),
+ * then the tape cleared and the pooled buffers given back. A training thread and the trainer's own thread both run
+ * it, so a shard is the same arithmetic wherever it is computed.
+ */
+export function computeJob(model: TrainableModel, parameters: readonly Tensor[], tape: Tape, pool: BufferPool, job: ShardJob, into: FloatArray, at: number): ShardOutcome {
+  const dtype = model.dtype;
+  const made: FloatArray[] = [];
+  try {
+    const batch = batchOf(job.batch, dtype, pool, made);
+    const rows = job.batch.rows;
+    const initial = job.state === null ? undefined : job.state.map((values) => {
+      const buffer = pool.take(dtype, values.length);
+      buffer.set(values);
+      made.push(buffer);
+      return new Tensor(buffer, [rows, values.length / rows]);
+    });
+    const outcome = shardGradients(model, parameters, tape, batch, initial, job.seed, job.share);
+    let offset = at;
+    for (const p of parameters) {
+      if (p.gradient === null) into.fill(0, offset, offset + p.size);
+      else into.set(p.gradient, offset);
+      offset += p.size;
+    }
+    return outcome;
+  } finally {
+    tape.clear();
+    for (const array of made) pool.give(array);
+  }
+}
+
 /** The work of one step for `ShardWorkers`: every shard's batch, state rows, generator seed and share. */
 export interface ShardJob {
   /** The shard's number in the batch (its place in the sum). */
@@ -198,22 +230,25 @@ export interface ShardJob {
 }
 
 /**
+ * Computes one job in the caller's thread, writing its gradients (every parameter's, in order) into `into` from
+ * offset `at`: what `ShardWorkers.compute` calls for the shards it leaves to the caller (see `computeJob`).
+ */
+export type ComputeHere = (job: ShardJob, into: FloatArray, at: number) => ShardOutcome;
+
+/**
  * Threads that compute shards (see `startTrainingThreads` in `@weft/optim/node`): each call publishes the weights,
  * hands the jobs out, and resolves when every shard's gradients are in `gradient(shard, parameter)`.
  */
 export interface ShardWorkers {
-  /** How many threads compute. */
+  /** How many threads compute, the caller's own thread included when it takes shards (`here`). */
   readonly count: number;
-  /** Computes `jobs` of step `step` with `weights` (the parameters' values, in parameter order). */
-  compute(step: number, weights: readonly FloatArray[], jobs: readonly ShardJob[]): Promise<ShardOutcome[]>;
+  /**
+   * Computes `jobs` of step `step` with `weights` (the parameters' values, in parameter order); the shards it
+   * leaves to the caller's thread are computed with `here` while the other threads compute theirs.
+   */
+  compute(step: number, weights: readonly FloatArray[], jobs: readonly ShardJob[], here?: ComputeHere): Promise<ShardOutcome[]>;
   /** The gradient of parameter `parameter` from shard `shard` of the last `compute`. */
   gradient(shard: number, parameter: number): FloatArray;
   /** Ends every thread. */
   close(): Promise<void>;
-}
-
-/** Adds `from` into `into`, entry by entry (the one addition both paths use, so the sum's bits agree). */
-export function addInto(into: FloatArray, from: FloatArray): void {
-  if (into.length !== from.length) fail('shape_mismatch', 'shards.gradient', `${into.length} values`, `${from.length}`);
-  for (let i = 0; i < into.length; i++) into[i] += from[i];
 }

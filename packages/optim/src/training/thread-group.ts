@@ -1,9 +1,15 @@
 /**
  * Threads that compute shards (training/shards.ts), whatever the platform's threads are: Node's worker_threads
- * (`@weft/optim/node`) or a browser's Web Workers (`webWorkerThread`, `serveShardsInWorker`). A `ThreadGroup`
- * starts `count` threads, each building the model from its description on the backend the trainer uses; each step
- * it publishes the weights, hands shard k to thread k mod count, and gives back every shard's gradients, which the
- * trainer adds in shard order, so the weights are the same bits for any count and as in the trainer's own thread.
+ * (`@weft/optim/node`) or a browser's Web Workers (`webWorkerThread`, `serveShardsInWorker`). A `ThreadGroup` of
+ * `count` computes shards on the trainer's own thread and `count − 1` threads it starts (or on `count` threads,
+ * with `callerComputes: false`), each thread building the model from its description on the backend the trainer
+ * uses. Each step it publishes the weights, hands shard k to computer k mod count (the caller is computer 0), and
+ * gives back every shard's gradients, which the trainer adds in shard order, so the weights are the same bits for
+ * any count and as in the trainer's own thread.
+ *
+ * The caller computes too because a thread that only waits is a core lost: on two cores, two computing threads
+ * and a waiting third spent their time waking each other (measured: the step's messages took ~0.5 ms of a 17 ms
+ * step there, against ~0.05 ms to one idle thread).
  *
  * Weights and gradients live in SharedArrayBuffers where the platform has them (Node always; a browser page when
  * it is cross-origin isolated): the weights written once per step by the trainer, each shard's gradients into its
@@ -16,12 +22,12 @@
  * Why one file of this length: the group and the serving side speak one message protocol (the start message, the
  * step messages and their answers); keeping both ends of it in one place keeps them in step.
  */
-import { Tape, Tensor, WeftError, backendOf, fail, setDefaultBackend } from '@weft/core';
+import { Tape, WeftError, backendOf, compiledKernels, fail, setDefaultBackend, useCompiledKernels } from '@weft/core';
 import type { BackendName, FloatArray } from '@weft/core';
 import { EncoderDecoderModel, SequenceModel, isEncoderDecoder } from '@weft/cells';
 import type { TrainableModel } from './lookback.js';
-import { batchOf, shardGradients } from './shards.js';
-import type { ShardJob, ShardOutcome, ShardWorkers } from './shards.js';
+import { computeJob } from './shards.js';
+import type { ComputeHere, ShardJob, ShardOutcome, ShardWorkers } from './shards.js';
 
 /** One thread as the group drives it: a platform's worker behind four calls. */
 export interface ShardThread {
@@ -49,6 +55,11 @@ export interface ThreadStart {
   readonly dtype: 'f32' | 'f64';
   /** The backend the trainer computes on (the thread uses the same). */
   readonly backend: string;
+  /**
+   * The WebAssembly backend's kernels as the trainer's thread compiled them, or null for the JavaScript backend: a
+   * thread runs that code (already tiered up) instead of compiling its own copy while the others compute.
+   */
+  readonly kernels: WebAssembly.Module | null;
   /** The shared weights, or null when they travel in each step's message. */
   readonly weights: SharedArrayBuffer | null;
   /** Each parameter's element count, in parameter order. */
@@ -72,13 +83,21 @@ interface Answer {
 
 /** How a `ThreadGroup` is started. */
 export interface ThreadGroupOptions {
-  /** Threads to start (a whole number ≥ 1). */
+  /** Threads that compute (a whole number ≥ 1), the caller's own thread included unless `callerComputes` is false. */
   readonly count: number;
+  /**
+   * The caller's thread computes its share of the shards (default true), so `count − 1` threads are started; false
+   * starts `count` threads and leaves the caller free (a page's UI thread, a server answering requests).
+   */
+  readonly callerComputes?: boolean;
   /** The model being trained (its description is rebuilt in each thread; built-in cells only). */
   readonly model: TrainableModel;
   /** Makes one thread, handing it `start` (see ThreadStart). */
   readonly spawn: (start: ThreadStart) => ShardThread;
-  /** How long a thread may take for one step before the run ends with an error; default 120,000 ms. */
+  /**
+   * How long a thread may take for one step, beyond the caller's own shards, before the run ends with an error;
+   * default 120,000 ms.
+   */
   readonly answerWithinMs?: number;
   /** Share weights and gradients through SharedArrayBuffers; default: where the platform can. */
   readonly shared?: boolean;
@@ -102,17 +121,20 @@ export async function startThreadGroup(options: ThreadGroupOptions): Promise<Thr
   const total = sizes.reduce((n, s) => n + s, 0);
   const weights = shared ? new SharedArrayBuffer(total * (model.dtype === 'f64' ? 8 : 4)) : null;
   const backend = parameters.length > 0 ? backendOf(parameters[0].tensor.data).name : 'javascript';
-  const start: ThreadStart = { description: model.description, dtype: model.dtype, backend, weights, sizes };
-  const group = new ThreadGroup(count, start, answerWithinMs);
+  const kernels = backend === 'webassembly' ? compiledKernels() : null;
+  const start: ThreadStart = { description: model.description, dtype: model.dtype, backend, kernels, weights, sizes };
+  const group = new ThreadGroup(count, options.callerComputes ?? true, start, answerWithinMs);
   await group.begin(options.spawn);
   return group;
 }
 
 /** Threads that compute shards (see above). */
 export class ThreadGroup implements ShardWorkers {
-  /** How many threads compute. */
+  /** How many threads compute, the caller's included when `callerComputes`. */
   readonly count: number;
-  /** The threads, in order (for a supervisor that must end one). */
+  /** True when the caller's thread computes shards (computer 0) and `count − 1` threads were started. */
+  readonly callerComputes: boolean;
+  /** The threads started, in order (for a supervisor that must end one). */
   readonly threads: ShardThread[] = [];
   /** True when weights and gradients are in shared memory. */
   readonly shared: boolean;
@@ -129,8 +151,9 @@ export class ThreadGroup implements ShardWorkers {
   private currentStep = 0;
   private readonly answerWithinMs: number;
 
-  constructor(count: number, start: ThreadStart, answerWithinMs: number) {
+  constructor(count: number, callerComputes: boolean, start: ThreadStart, answerWithinMs: number) {
     this.count = count;
+    this.callerComputes = callerComputes;
     this.start = start;
     this.shared = start.weights !== null;
     let offset = 0;
@@ -149,7 +172,7 @@ export class ThreadGroup implements ShardWorkers {
 
   /** Makes the threads and waits for each to say it built the model. */
   async begin(spawn: (start: ThreadStart) => ShardThread): Promise<void> {
-    const ready = Array.from({ length: this.count }, (_, i) => new Promise<void>((resolve, reject) => {
+    const ready = Array.from({ length: this.count - this.first }, (_, i) => new Promise<void>((resolve, reject) => {
       const thread = spawn(this.start);
       this.threads.push(thread);
       let started = false;
@@ -175,9 +198,15 @@ export class ThreadGroup implements ShardWorkers {
     }
   }
 
+  /** The computer number of the first started thread: 1 when the caller computes (it is computer 0), else 0. */
+  private get first(): number {
+    return this.callerComputes ? 1 : 0;
+  }
+
+  /** A failure of started thread `thread` (0-based among `threads`), named by its computer number. */
   private fault(thread: number, cause: string): WeftError {
     const when = this.currentStep === 0 ? ', starting' : this.pending === null ? `, after step ${this.currentStep}` : `, step ${this.currentStep}`;
-    const where = `training thread ${thread + 1} of ${this.count}${when}`;
+    const where = `training thread ${thread + this.first + 1} of ${this.count}${when}`;
     return new WeftError({ code: 'worker_failed', path: where, expected: 'its shards\' gradients', received: cause, detail: 'every thread was ended; the last checkpoint is as it was written' });
   }
 
@@ -210,20 +239,17 @@ export class ThreadGroup implements ShardWorkers {
       if (r.gradients !== null) this.moved[r.shard] = r.gradients;
     }
     this.waiting.delete(thread);
-    if (this.waiting.size === 0 && this.pending !== null) {
-      const pending = this.pending;
-      this.pending = null;
-      pending.resolve(this.jobs.map((job) => this.answers.get(job.shard) as ShardOutcome));
-    }
+    if (this.waiting.size === 0) this.settle();
   }
 
-  async compute(step: number, weights: readonly FloatArray[], jobs: readonly ShardJob[]): Promise<ShardOutcome[]> {
+  async compute(step: number, weights: readonly FloatArray[], jobs: readonly ShardJob[], here?: ComputeHere): Promise<ShardOutcome[]> {
     if (this.failure !== null) {
       // A thread failed between steps: report it once every thread has ended.
       await this.ending;
       throw this.failure;
     }
     if (this.closed) fail('worker_failed', 'training threads', 'threads still running', 'threads already closed');
+    if (this.callerComputes && here === undefined) fail('invalid_option', 'trainingThreads.compute', 'a function computing the caller\'s shards (the group was started with callerComputes)', 'none');
     this.currentStep = step;
     const values = this.weights ?? (this.start.dtype === 'f64' ? new Float64Array(this.total) : new Float32Array(this.total));
     weights.forEach((w, i) => {
@@ -243,20 +269,41 @@ export class ThreadGroup implements ShardWorkers {
     const result = new Promise<ShardOutcome[]>((resolve, reject) => {
       this.pending = { resolve, reject };
     });
-    const timer = setTimeout(() => void this.fail(this.fault([...this.waiting][0] ?? 0, `no answer within ${this.answerWithinMs} ms`)), this.answerWithinMs);
-    this.threads.forEach((thread, i) => {
-      const mine = jobs.filter((job) => job.shard % this.count === i);
-      if (mine.length === 0) return;
-      this.waiting.add(i);
-      const message: StepMessage = { step, jobs: mine, gradients: fresh, weights: this.shared ? null : values.slice() };
-      // The jobs' arrays (and unshared weights) are copies made for this step: moved to the thread, not copied again.
-      thread.post(message, [...mine.flatMap(movable), ...(message.weights === null ? [] : [message.weights.buffer as ArrayBuffer])]);
-    });
+    let timer: ReturnType<typeof setTimeout> | undefined;
     try {
+      this.threads.forEach((thread, i) => {
+        const mine = jobs.filter((job) => job.shard % this.count === i + this.first);
+        if (mine.length === 0) return;
+        this.waiting.add(i);
+        const message: StepMessage = { step, jobs: mine, gradients: fresh, weights: this.shared ? null : values.slice() };
+        // The jobs' arrays (and unshared weights) are copies made for this step: moved to the thread, not copied again.
+        thread.post(message, [...mine.flatMap(movable), ...(message.weights === null ? [] : [message.weights.buffer as ArrayBuffer])]);
+      });
+      // The caller's shards, while the threads compute theirs (their answers are read once this yields).
+      if (here !== undefined && this.callerComputes) {
+        for (const job of jobs) {
+          if (job.shard % this.count !== 0) continue;
+          const own = this.shared ? null : this.start.dtype === 'f64' ? new Float64Array(this.total) : new Float32Array(this.total);
+          this.answers.set(job.shard, here(job, own ?? this.gradients, own === null ? job.shard * this.total : 0));
+          if (own !== null) this.moved[job.shard] = own;
+        }
+      }
+      if (this.waiting.size === 0) this.settle();
+      // Timed from here: a thread has the caller's own shards' time and then `answerWithinMs` more.
+      else timer = setTimeout(() => void this.fail(this.fault([...this.waiting][0] ?? 0, `no answer within ${this.answerWithinMs} ms`)), this.answerWithinMs);
       return await result;
     } finally {
-      clearTimeout(timer);
+      if (timer !== undefined) clearTimeout(timer);
+      this.pending = null;
     }
+  }
+
+  /** Resolves the step in progress with every shard's outcome, in job order. */
+  private settle(): void {
+    const pending = this.pending;
+    if (pending === null) return;
+    this.pending = null;
+    pending.resolve(this.jobs.map((job) => this.answers.get(job.shard) as ShardOutcome));
   }
 
   gradient(shard: number, parameter: number): FloatArray {
@@ -291,6 +338,7 @@ function movable(job: ShardJob): ArrayBuffer[] {
  */
 export function serveShards(endpoint: ShardEndpoint, start: ThreadStart): void {
   try {
+    if (start.kernels !== null) useCompiledKernels(start.kernels);
     const backend = setDefaultBackend(start.backend as BackendName);
     const model = isEncoderDecoder(start.description)
       ? new EncoderDecoderModel(start.description, { dtype: start.dtype })
@@ -314,32 +362,13 @@ export function serveShards(endpoint: ShardEndpoint, start: ThreadStart): void {
           offset += p.size;
         }
         const results = jobs.map((job) => {
-          const made: FloatArray[] = [];
-          const batch = batchOf(job.batch, start.dtype, pool, made);
-          const rows = job.batch.rows;
-          const initial = job.state === null ? undefined : job.state.map((values) => {
-            const buffer = pool.take(start.dtype, values.length);
-            buffer.set(values);
-            made.push(buffer);
-            return new Tensor(buffer, [rows, values.length / rows]);
-          });
-          const outcome = shardGradients(model, parameters, tape, batch, initial, job.seed, job.share);
           const own = shared === null ? make(total) : null;
-          const into = own ?? gradients;
-          let at = own === null ? job.shard * total : 0;
-          for (const p of parameters) {
-            if (p.gradient === null) into.fill(0, at, at + p.size);
-            else into.set(p.gradient, at);
-            at += p.size;
-          }
-          tape.clear();
-          for (const array of made) pool.give(array);
+          const outcome = computeJob(model, parameters, tape, pool, job, own ?? gradients, own === null ? job.shard * total : 0);
           return { shard: job.shard, loss: outcome.loss, state: outcome.state, gradients: own };
         });
         const transfer = results.flatMap((r) => [...r.state.map((s) => s.buffer as ArrayBuffer), ...(r.gradients === null ? [] : [r.gradients.buffer as ArrayBuffer])]);
         endpoint.post({ step, results }, transfer);
       } catch (error) {
-        tape.clear();
         endpoint.post({ step, error: error instanceof Error ? error.message : String(error) }, []);
       }
     });

@@ -1,8 +1,8 @@
 /**
  * Training on worker threads (issue 17, A and C): fixed shards make the weights the same bits in this thread and on
- * 1, 2, 3 or 4 threads (LSTM and GRU, dropout on, carried state with a lookback), across a resume that changes the
- * thread count; a thread that throws or is ended mid-step ends the run with a one-line error naming it, within the
- * time asked, with no thread left and the last checkpoint intact.
+ * 1, 2, 3 or 4 threads (LSTM and GRU, dropout on, carried state with a lookback), with the trainer's thread computing
+ * its share or not, across a resume that changes the thread count; a thread that throws or is ended mid-step ends
+ * the run with a one-line error naming it, within the time asked, with no thread left and the last checkpoint intact.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
@@ -58,6 +58,8 @@ describe('training on worker threads', () => {
       for (const count of [1, 2, 3, 4]) {
         const m = model(cell);
         const threads = await startTrainingThreads({ count, model: m });
+        // The trainer's thread is one of the count: count − 1 threads started.
+        expect(threads.threads.length).toBe(count - 1);
         try {
           await steps(new Trainer(options(m, threads)), 50);
         } finally {
@@ -68,19 +70,25 @@ describe('training on worker threads', () => {
     }, 120_000);
   }
 
-  it('gives the same bits with weights and gradients sent in messages instead of shared memory', async () => {
-    const inThread = new Trainer(options(model('gru')));
-    await steps(inThread, 20);
-    const m = model('gru');
-    const threads = await startTrainingThreads({ count: 2, model: m, shared: false });
-    expect(threads.shared).toBe(false);
-    try {
-      await steps(new Trainer(options(m, threads)), 20);
-    } finally {
-      await threads.close();
-    }
-    expect(weights(m)).toEqual(weights(inThread.model as SequenceModel));
-  }, 60_000);
+  const variants = [
+    { what: 'when the trainer\'s thread leaves every shard to 2 started threads', cell: 'lstm', options: { callerComputes: false }, check: (t: TrainingThreads) => expect(t.threads.length).toBe(2) },
+    { what: 'with weights and gradients sent in messages instead of shared memory', cell: 'gru', options: { shared: false }, check: (t: TrainingThreads) => expect(t.shared).toBe(false) },
+  ] as const;
+  for (const variant of variants) {
+    it(`gives the same bits ${variant.what}`, async () => {
+      const inThread = new Trainer(options(model(variant.cell)));
+      await steps(inThread, 20);
+      const m = model(variant.cell);
+      const threads = await startTrainingThreads({ count: 2, model: m, ...variant.options });
+      variant.check(threads);
+      try {
+        await steps(new Trainer(options(m, threads)), 20);
+      } finally {
+        await threads.close();
+      }
+      expect(weights(m)).toEqual(weights(inThread.model as SequenceModel));
+    }, 60_000);
+  }
 
   it('resumes on 3 threads from a checkpoint written on 2, to the same bits as 50 steps in this thread', async () => {
     const inThread = new Trainer(options(model('lstm')));
@@ -103,8 +111,9 @@ describe('training on worker threads', () => {
 
   it('ends the run when a thread throws, naming the thread, the step and the cause, with no thread left', async () => {
     // Token 11 is outside the vocabulary of 11: the shard holding it throws in its thread at the step that reads it.
+    // 12 streams of 500 tokens: stream 4 is in shard 1 (rows 4–7), which the started thread computes.
     const tokens = corpus(6000);
-    tokens[12 * 6 * 4 + 500] = 11;
+    tokens[4 * 500 + 6 * 4] = 11;
     const data = streamBatches({ kind: 'tokens', tokens, vocabulary: 12 }, { streams: 12, window: 6 });
     const m = model('gru');
     const threads = await startTrainingThreads({ count: 2, model: m });
@@ -112,7 +121,7 @@ describe('training on worker threads', () => {
     const error = await new Trainer(options(m, threads, data)).run().then(() => null, (e: unknown) => e);
     expect(Date.now() - started).toBeLessThan(10_000);
     expect(error).toBeInstanceOf(WeftError);
-    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread \d of 2, step \d+: expected its shards' gradients, received it threw: Invalid argument at model\.input\.tokens\[\d+\]: expected an id in \[0, 11\), received 11 \(every thread was ended; the last checkpoint is as it was written\)$/);
+    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, step 5: expected its shards' gradients, received it threw: Invalid argument at model\.input\.tokens\[\d+\]: expected an id in \[0, 11\), received 11 \(every thread was ended; the last checkpoint is as it was written\)$/);
     expect(await threadsAlive(threads)).toBe(0);
   }, 30_000);
 
@@ -120,20 +129,24 @@ describe('training on worker threads', () => {
     const m = model('lstm');
     const threads = await startTrainingThreads({ count: 2, model: m, answerWithinMs: 5_000 });
     const path = join(folder, 'killed.checkpoint.json');
+    // The started thread is ended right after step 6 is handed to it, while it computes. Ending is asynchronous:
+    // on a busy machine its small shard may be answered first, and the thread is gone by step 7.
+    const thread = threads.threads[0];
+    const post = thread.post.bind(thread);
+    thread.post = (message, transfer) => {
+      post(message, transfer);
+      if ((message as { step?: number }).step === 6) void (thread as unknown as { worker: { terminate(): Promise<number> } }).worker.terminate();
+    };
     const trainer = new Trainer({
       ...options(m, threads),
       afterStep: async (t) => {
-        if (t.stepsTaken === 5) {
-          await saveCheckpoint(path, t, m);
-          // Ends one thread while the next step is on it.
-          setTimeout(() => void (threads.threads[1] as unknown as { worker: { terminate(): Promise<number> } }).worker.terminate(), 2);
-        }
+        if (t.stepsTaken === 5) await saveCheckpoint(path, t, m);
       },
     });
     const started = Date.now();
     const error = await trainer.run().then(() => null, (e: unknown) => e);
     expect(Date.now() - started).toBeLessThan(10_000);
-    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, (step [67]|after step [56]): expected its shards' gradients, received it exited \(code \d+\)/);
+    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, (step [67]|after step 6): expected its shards' gradients, received it exited \(code \d+\)/);
     expect(await threadsAlive(threads)).toBe(0);
     const saved = await loadCheckpoint(path);
     expect(saved.snapshot.step).toBe(5);
@@ -153,7 +166,22 @@ describe('training on worker threads', () => {
       },
     });
     const error = await trainer.run().then(() => null, (e: unknown) => e);
-    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 1 of 2, after step 3: expected its shards' gradients, received it exited \(code \d+\)/);
+    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, after step 3: expected its shards' gradients, received it exited \(code \d+\)/);
+    expect(await threadsAlive(threads)).toBe(0);
+  }, 30_000);
+
+  it('ends the step with the trainer\'s own error when a shard of its own thread throws, and the threads still close', async () => {
+    // Stream 1 is in shard 0 (rows 0–3), which the trainer's thread computes.
+    const tokens = corpus(6000);
+    tokens[1 * 500 + 6 * 4] = 11;
+    const data = () => streamBatches({ kind: 'tokens', tokens, vocabulary: 12 }, { streams: 12, window: 6 });
+    const alone = await new Trainer(options(model('gru'), undefined, data())).run().then(() => null, (e: unknown) => e);
+    const m = model('gru');
+    const threads = await startTrainingThreads({ count: 2, model: m });
+    const error = await new Trainer(options(m, threads, data())).run().then(() => null, (e: unknown) => e);
+    expect((error as WeftError).message).toBe((alone as WeftError).message);
+    expect((error as WeftError).message).toMatch(/^Invalid argument at model\.input\.tokens\[\d+\]: expected an id in \[0, 11\), received 11$/);
+    await threads.close();
     expect(await threadsAlive(threads)).toBe(0);
   }, 30_000);
 

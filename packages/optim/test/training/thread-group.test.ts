@@ -40,23 +40,23 @@ describe('a group of training threads', () => {
     expect(canShareMemory()).toBe(true);
     const alone = new Trainer(options(model()));
     for (let i = 0; i < 12; i++) alone.step();
-    for (const shared of [true, false]) {
+    for (const [shared, callerComputes] of [[true, true], [false, true], [true, false], [false, false]]) {
       const m = model();
-      const group = await startThreadGroup({ count: 2, model: m, spawn: (start) => channelThread(start), shared });
+      const group = await startThreadGroup({ count: 2, model: m, spawn: (start) => channelThread(start), shared, callerComputes });
       const trainer = new Trainer({ ...options(m), workers: group });
       for (let i = 0; i < 12; i++) await trainer.stepAsync();
       await group.close();
-      expect(m.parameters().map((p) => Array.from(p.tensor.data))).toEqual(alone.model.parameters().map((p) => Array.from(p.tensor.data)));
+      expect(m.parameters().map((p) => Array.from(p.tensor.data)), `shared ${shared}, caller computes ${callerComputes}`).toEqual(alone.model.parameters().map((p) => Array.from(p.tensor.data)));
     }
   });
 
   it('ends a step that a thread does not answer after the time asked, naming the thread and the step', async () => {
     const m = model();
     let spawned = 0;
-    // The second thread starts, then never answers a step.
-    const group = await startThreadGroup({ count: 2, model: m, spawn: (start) => channelThread(start, spawned++ === 1), answerWithinMs: 50 });
+    // Beside the trainer's thread, the second of three starts, then never answers a step.
+    const group = await startThreadGroup({ count: 3, model: m, spawn: (start) => channelThread(start, spawned++ === 1), answerWithinMs: 50 });
     const trainer = new Trainer({ ...options(m), workers: group });
-    await expect(trainer.stepAsync()).rejects.toThrowError('Training thread failed at training thread 2 of 2, step 1: expected its shards\' gradients, received no answer within 50 ms (every thread was ended; the last checkpoint is as it was written)');
+    await expect(trainer.stepAsync()).rejects.toThrowError('Training thread failed at training thread 3 of 3, step 1: expected its shards\' gradients, received no answer within 50 ms (every thread was ended; the last checkpoint is as it was written)');
   });
 
   it('names a thread that cannot build the model', async () => {
@@ -65,6 +65,6 @@ describe('a group of training threads', () => {
       port2.postMessage({ error: 'no such cell' });
       return { post: () => undefined, listen: (f) => port1.on('message', f), terminate: async () => port1.close() };
     };
-    await expect(startThreadGroup({ count: 1, model: model(), spawn: start })).rejects.toThrowError('Training thread failed at training thread 1 of 1, starting: expected its shards\' gradients, received it could not start: no such cell');
+    await expect(startThreadGroup({ count: 2, model: model(), spawn: start })).rejects.toThrowError('Training thread failed at training thread 2 of 2, starting: expected its shards\' gradients, received it could not start: no such cell');
   });
 });
