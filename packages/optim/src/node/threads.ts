@@ -1,7 +1,8 @@
 /**
  * Training threads for Node: a ThreadGroup (training/thread-group.ts) whose threads are `worker_threads` Workers
  * running shard-worker.js, beside the trainer's own thread. Give the result to a Trainer as `workers`; the weights
- * come out the same bits for any count and as in the trainer's own thread. In Node the weights and gradients are always in shared memory.
+ * come out the same bits for any count and as in the trainer's own thread. In Node the weights and gradients are
+ * always in shared memory.
  */
 import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
@@ -11,13 +12,16 @@ import type { ShardThread, ThreadGroup, ThreadStart, TrainableModel } from '@wef
 
 /** How `startTrainingThreads` starts its threads. */
 export interface TrainingThreadOptions {
-  /** Threads that compute (a whole number ≥ 1): the caller's own and `count − 1` started, unless `callerComputes` is false. */
+  /** Threads that compute (a whole number ≥ 1): the caller's and `count − 1` started (see `callerComputes`). */
   readonly count: number;
   /** The caller's thread computes its share of the shards (default true); false starts `count` threads. */
   readonly callerComputes?: boolean;
   /** The model being trained (its description is rebuilt in each thread; built-in cells only). */
   readonly model: TrainableModel;
-  /** How long a thread may take for one step, beyond the caller's own shards, before the run ends with an error; default 120,000 ms. */
+  /**
+   * How long a thread may take for one step, beyond the caller's own shards, before the run ends with an error;
+   * default 120,000 ms.
+   */
   readonly answerWithinMs?: number;
   /**
    * Weights and gradients in shared memory (default true); false sends them in each step's messages, as a page that
@@ -55,7 +59,7 @@ function nodeThread(start: ThreadStart): ShardThread & { readonly worker: Worker
   };
 }
 
-/** Starts the training threads for `model` (`count − 1` beside the caller's, by default) and waits until each has built it. */
+/** Starts the training threads for `model` (`count − 1` beside the caller's by default); waits until each built it. */
 export function startTrainingThreads(options: TrainingThreadOptions): Promise<ThreadGroup> {
   return startThreadGroup({ ...options, spawn: nodeThread, shared: options.shared ?? true });
 }

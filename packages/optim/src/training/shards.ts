@@ -10,7 +10,7 @@
  * A shard travels to a worker as a `PlainBatch` (typed arrays only, for structured cloning); in this thread it is
  * rebuilt the same way, so both paths start from the same numbers.
  */
-import { Random, Tensor, fail, resetGradients, scale } from '@weft/core';
+import { Random, Tensor, resetGradients, scale } from '@weft/core';
 import type { BufferPool, DType, FloatArray, Tape } from '@weft/core';
 import type { TokenBatch } from '@weft/cells';
 import type { Batch, BatchTargets } from '../data.js';

@@ -8,8 +8,8 @@
  * any count and as in the trainer's own thread.
  *
  * The caller computes too because a thread that only waits is a core lost: on two cores, two computing threads
- * and a waiting third spent their time waking each other (measured: the step's messages took ~0.5 ms of a 17 ms
- * step there, against ~0.05 ms to one idle thread).
+ * and a waiting third woke each other (measured: the trainer's two posts of a step took ~0.49 ms there, a post to
+ * one idle thread ~0.02 ms), and the tokens per second of two threads against one went from 1.62× to 1.84×.
  *
  * Weights and gradients live in SharedArrayBuffers where the platform has them (Node always; a browser page when
  * it is cross-origin isolated): the weights written once per step by the trainer, each shard's gradients into its
