@@ -1,8 +1,12 @@
 /**
- * How good a model's outputs are, in the data's own units: forecast errors (MAE, RMSE, MAPE) and classification
- * scores (accuracy, per-class precision, recall and F1, their macro average, the confusion matrix). Definitions
+ * How good a model's outputs are, in the data's own units: forecast errors (MAE, RMSE, MAPE), scale-free forecast
+ * errors (MASE and sMAPE as the M4 competition defines them) and classification scores (accuracy, per-class precision, recall and F1, their macro average, the confusion matrix). Definitions
  * are common practice: MAE = mean |y − ŷ|, RMSE = √(mean (y − ŷ)²), MAPE = 100 · mean |y − ŷ| / |y| over the
- * positions where y ≠ 0 (undefined, null, when every y is 0); precision_k = TP_k / (TP_k + FP_k), recall_k =
+ * positions where y ≠ 0 (undefined, null, when every y is 0); sMAPE = 200 · mean |y − ŷ| / (|y| + |ŷ|) over the
+ * positions where |y| + |ŷ| > 0 (Makridakis, Spiliotis & Assimakopoulos, "The M4 Competition", IJF 2020, eq. 1);
+ * MASE = mean |y − ŷ| / scale, the scale being the in-sample mean absolute error of the seasonal naive forecast,
+ * (1 / (n − m)) Σ_{t=m}^{n−1} |y_t − y_{t−m}| over the fitting rows (Hyndman & Koehler, "Another look at measures
+ * of forecast accuracy", IJF 22, 2006; m = 1 without a season, as M4 does); precision_k = TP_k / (TP_k + FP_k), recall_k =
  * TP_k / (TP_k + FN_k), F1_k their harmonic mean, each 0 when its denominator is 0; macro-F1 the unweighted mean
  * of F1_k over the classes, every class counting alike however rare (macro-averaging as Manning, Raghavan &
  * Schütze, "Introduction to Information Retrieval", 2008, §13.6, describe it for precision; the test works
@@ -17,6 +21,10 @@ export interface ForecastErrors {
   readonly rmse: number;
   /** Percent; null when every actual value is 0. */
   readonly mape: number | null;
+  /** Symmetric MAPE in percent (0 to 200); null when every actual and forecast is 0. */
+  readonly smape: number | null;
+  /** Mean absolute scaled error; null when no scale was given (or the scale is 0). */
+  readonly mase: number | null;
   /** Positions scored. */
   readonly count: number;
 }
@@ -27,16 +35,29 @@ export class ForecastErrorSum {
   private squared = 0;
   private percent = 0;
   private percentCount = 0;
+  private symmetric = 0;
+  private symmetricCount = 0;
+  private scaled = 0;
+  private scaledCount = 0;
   private n = 0;
 
-  /** Adds one position: what happened and what was forecast. */
-  add(actual: number, forecast: number): void {
+  /** Adds one position: what happened, what was forecast, and the MASE scale of its series (if known). */
+  add(actual: number, forecast: number, scale = NaN): void {
     const e = actual - forecast;
     this.absolute += Math.abs(e);
     this.squared += e * e;
     if (actual !== 0) {
       this.percent += Math.abs(e / actual);
       this.percentCount++;
+    }
+    const size = Math.abs(actual) + Math.abs(forecast);
+    if (size > 0) {
+      this.symmetric += Math.abs(e) / size;
+      this.symmetricCount++;
+    }
+    if (scale > 0) {
+      this.scaled += Math.abs(e) / scale;
+      this.scaledCount++;
     }
     this.n++;
   }
@@ -48,16 +69,28 @@ export class ForecastErrorSum {
       mae: n === 0 ? NaN : this.absolute / n,
       rmse: n === 0 ? NaN : Math.sqrt(this.squared / n),
       mape: this.percentCount === 0 ? null : (100 * this.percent) / this.percentCount,
+      smape: this.symmetricCount === 0 ? null : (200 * this.symmetric) / this.symmetricCount,
+      mase: this.scaledCount === 0 ? null : this.scaled / this.scaledCount,
       count: n,
     };
   }
 }
 
-/** Forecast errors of `forecast` against `actual` (same length). */
-export function forecastErrors(actual: ArrayLike<number>, forecast: ArrayLike<number>): ForecastErrors {
+/** Forecast errors of `forecast` against `actual` (same length), with MASE when `scale` is given. */
+export function forecastErrors(actual: ArrayLike<number>, forecast: ArrayLike<number>, scale = NaN): ForecastErrors {
   const sum = new ForecastErrorSum();
-  for (let i = 0; i < actual.length; i++) sum.add(actual[i], forecast[i]);
+  for (let i = 0; i < actual.length; i++) sum.add(actual[i], forecast[i], scale);
   return sum.result();
+}
+
+/**
+ * The MASE scale of a series: the mean absolute error of the seasonal naive forecast (lag `season`, 1 for none)
+ * over rows [0, count), in the series' units (Hyndman & Koehler 2006). NaN with `count ≤ season`.
+ */
+export function maseScale(series: ArrayLike<number>, count: number, season = 1): number {
+  let sum = 0;
+  for (let t = season; t < count; t++) sum += Math.abs(series[t] - series[t - season]);
+  return count > season ? sum / (count - season) : NaN;
 }
 
 /** One class's scores. */

@@ -5,7 +5,7 @@
  * micro-average of 0.83 (100 of 120; values from memory).
  */
 import { describe, expect, it } from 'vitest';
-import { classificationReport, forecastErrors, scoresFromConfusion } from '@weft/io';
+import { classificationReport, forecastErrors, maseScale, scoresFromConfusion } from '@weft/io';
 
 describe('forecast errors', () => {
   it('computes MAE, RMSE and MAPE as worked by hand', () => {
@@ -47,5 +47,23 @@ describe('classification scores', () => {
     expect(report.macroF1).toBeCloseTo(0.7, 15);
     expect(report.accuracy).toBeCloseTo(100 / 120, 15);
     expect(Number(report.accuracy.toFixed(2))).toBe(0.83);
+  });
+});
+
+describe('scale-free forecast errors', () => {
+  it('works sMAPE and MASE by hand as M4 and Hyndman & Koehler define them', () => {
+    // actual 10, 20; forecast 12, 15: sMAPE = 200/2 · (2/22 + 5/35); MASE with scale 2.5 = mean(2, 5) / 2.5 = 1.4.
+    const errors = forecastErrors([10, 20], [12, 15], 2.5);
+    expect(errors.smape).toBeCloseTo(100 * (2 / 22 + 5 / 35), 12);
+    expect(errors.mase).toBeCloseTo(1.4, 14);
+    expect(forecastErrors([10, 20], [12, 15]).mase).toBeNull();
+    expect(forecastErrors([0], [0]).smape).toBeNull();
+  });
+
+  it('scales MASE by the in-sample seasonal naive error of the fitting rows', () => {
+    // Season 2 over 1, 2, 4, 8, 3: |4 − 1|, |8 − 2|, |3 − 4| → 10/3; season 1: 1, 2, 4, 5 → 3.
+    expect(maseScale([1, 2, 4, 8, 3, 100], 5, 2)).toBe(10 / 3);
+    expect(maseScale([1, 2, 4, 8, 3], 5)).toBe(3);
+    expect(maseScale([1, 2], 2, 2)).toBeNaN();
   });
 });

@@ -1,0 +1,148 @@
+/**
+ * Exponential smoothing in component form (Hyndman, Koehler, Ord & Snyder, "Forecasting with Exponential
+ * Smoothing", Springer 2008, ch. 2, Table 2.1), with additive, damped or no trend and additive, multiplicative or
+ * no season:
+ *   forecast made at t − 1:  ŷ_t = (ℓ + φ b) ⊕ s_{t−m}                    (⊕ is + or ×)
+ *   level:   ℓ_t = α (y_t ⊖ s_{t−m}) + (1 − α)(ℓ_{t−1} + φ b_{t−1})
+ *   trend:   b_t = β (ℓ_t − ℓ_{t−1}) + (1 − β) φ b_{t−1}
+ *   season:  s_t = γ (y_t ⊖ (ℓ_{t−1} + φ b_{t−1})) + (1 − γ) s_{t−m}
+ *   h ahead: ŷ_{t+h|t} = (ℓ_t + (φ + … + φ^h) b_t) ⊕ s_{t+h−m(k+1)},  k = ⌊(h − 1)/m⌋
+ * Simple smoothing has no trend and no season; Holt's method φ = 1; the damped trend is Gardner & McKenzie (1985),
+ * "Forecasting trends in time series", Management Science 31; Holt–Winters has φ = 1 and a season.
+ *
+ * Initial states are set from the first rows so that a noiseless line, or a line plus a repeating season, is
+ * reproduced exactly (the states at time −1): trend b = (mean of season 2 − mean of season 1) / m, level
+ * ℓ = mean of season 1 − b (m + 1) / 2, season s_j = y_j ⊖ (ℓ + (j + 1) b); without a season m = 1 and the first
+ * two rows. Parameters minimise the sum of squared one-step errors over the fitting rows (HKOS 2008, §2.4 calls
+ * this the least-squares criterion) by Nelder–Mead (minimise.ts), each mapped into its bounds by a logistic:
+ * α ∈ [0.0001, 0.9999], β ∈ [0.0001, 0.9999], γ ∈ [0.0001, 1 − α], φ ∈ [0.8, 0.98] (the usual bounds of automatic
+ * smoothing, HKOS 2008 §5.2, from memory).
+ */
+import { minimise } from './minimise.js';
+
+/** Which smoothing method: trend and season. */
+export type SmoothingMethod = 'simple' | 'holt' | 'damped' | 'additive' | 'multiplicative';
+
+/** The parameters and initial states of one smoothing method. */
+export interface SmoothingParameters {
+  /** The method. */
+  readonly method: SmoothingMethod;
+  /** Rows in a season (1 for the methods without one). */
+  readonly season: number;
+  /** Level smoothing α. */
+  readonly alpha: number;
+  /** Trend smoothing β (0 without a trend). */
+  readonly beta: number;
+  /** Season smoothing γ (0 without a season). */
+  readonly gamma: number;
+  /** Damping φ (1 for Holt and Holt–Winters; no trend: unused). */
+  readonly phi: number;
+  /** Level at time −1. */
+  readonly level: number;
+  /** Trend at time −1. */
+  readonly trend: number;
+  /** Season states for rows 0 … m − 1 (the values s_{j−m}). */
+  readonly seasonal: readonly number[];
+}
+
+/** A fitted method and its fit. */
+export interface SmoothingFit extends SmoothingParameters {
+  /** Mean squared one-step error over the fitting rows. */
+  readonly meanSquaredError: number;
+}
+
+const hasTrend = (m: SmoothingMethod) => m !== 'simple';
+const hasSeason = (m: SmoothingMethod) => m === 'additive' || m === 'multiplicative';
+
+/**
+ * Runs a method over `series` with fixed parameters: returns the mean squared one-step error over rows
+ * [0, count), and when `forecasts` is given, writes there the forecast made at each row t of row t + horizon
+ * (every row of `series`, using only rows ≤ t). NaN when the multiplicative form meets a level or season ≤ 0.
+ */
+export function runSmoothing(series: ArrayLike<number>, count: number, p: SmoothingParameters, horizon = 1, forecasts: Float64Array | null = null): number {
+  const m = hasSeason(p.method) ? p.season : 1;
+  const multiplicative = p.method === 'multiplicative';
+  const trend = hasTrend(p.method);
+  const seasonal = hasSeason(p.method);
+  const { alpha, beta, gamma } = p;
+  const phi = trend ? p.phi : 0;
+  const ring = Float64Array.from(seasonal ? p.seasonal : [multiplicative ? 1 : 0]);
+  // φ + φ² + … + φ^h, the trend's weight h rows ahead.
+  let damping = 0;
+  for (let i = 1, power = 1; i <= horizon; i++) damping += (power *= phi);
+  let level = p.level;
+  let slope = trend ? p.trend : 0;
+  let squared = 0;
+  const rows = forecasts === null ? count : series.length;
+  for (let t = 0; t < rows; t++) {
+    const y = series[t];
+    const j = t % m;
+    const s = seasonal ? ring[j] : multiplicative ? 1 : 0;
+    const base = level + phi * slope;
+    const oneStep = seasonal ? (multiplicative ? base * s : base + s) : base;
+    if (t < count) squared += (y - oneStep) ** 2;
+    const nextLevel = alpha * (seasonal ? (multiplicative ? y / s : y - s) : y) + (1 - alpha) * base;
+    if (trend) slope = beta * (nextLevel - level) + (1 - beta) * phi * slope;
+    if (seasonal) ring[j] = gamma * (multiplicative ? y / base : y - base) + (1 - gamma) * s;
+    level = nextLevel;
+    if (multiplicative && !(level > 0 && ring[j] > 0)) return NaN;
+    if (forecasts !== null) {
+      const ahead = level + damping * slope;
+      const sAhead = seasonal ? ring[(t + horizon) % m] : 0;
+      forecasts[t] = seasonal ? (multiplicative ? ahead * sAhead : ahead + sAhead) : ahead;
+    }
+  }
+  return squared / Math.max(1, count);
+}
+
+/** States at time −1 from the first rows (see the file's comment); null when there are too few rows. */
+export function initialStates(series: ArrayLike<number>, method: SmoothingMethod, season: number): Pick<SmoothingParameters, 'level' | 'trend' | 'seasonal'> | null {
+  const m = hasSeason(method) ? season : 1;
+  if (series.length < 2 * m) return null;
+  let first = 0;
+  let second = 0;
+  for (let j = 0; j < m; j++) {
+    first += series[j] / m;
+    second += series[m + j] / m;
+  }
+  const trend = hasTrend(method) ? (second - first) / m : 0;
+  const level = hasTrend(method) ? first - (trend * (m + 1)) / 2 : first;
+  if (!hasSeason(method)) return { level: hasTrend(method) ? level : series[0], trend, seasonal: [] };
+  const seasonal: number[] = [];
+  for (let j = 0; j < m; j++) {
+    const base = level + (j + 1) * trend;
+    seasonal.push(method === 'multiplicative' ? series[j] / base : series[j] - base);
+  }
+  return { level, trend, seasonal };
+}
+
+const logistic = (u: number) => 1 / (1 + Math.exp(-u));
+const logit = (v: number) => Math.log(v / (1 - v));
+
+/**
+ * Fits a method to rows [0, count) of `series` by least squares on the one-step errors; null when it cannot be
+ * fitted (fewer than two seasons of rows, or the multiplicative form on values that are not all positive).
+ */
+export function fitSmoothing(series: ArrayLike<number>, count: number, method: SmoothingMethod, season = 1): SmoothingFit | null {
+  const fitted = Array.from({ length: count }, (_, i) => series[i]);
+  if (method === 'multiplicative' && !fitted.every((v) => v > 0)) return null;
+  const states = initialStates(fitted, method, season);
+  if (states === null || count < 3) return null;
+  const lo = 0.0001;
+  const hi = 0.9999;
+  const parameters = (u: Float64Array): SmoothingParameters => {
+    const alpha = lo + (hi - lo) * logistic(u[0]);
+    const beta = hasTrend(method) ? lo + (hi - lo) * logistic(u[1]) : 0;
+    const gamma = hasSeason(method) ? lo + (1 - alpha - lo) * logistic(u[2]) : 0;
+    const phi = method === 'damped' ? 0.8 + 0.18 * logistic(u[hasSeason(method) ? 3 : 2]) : 1;
+    return { method, season: hasSeason(method) ? season : 1, alpha, beta, gamma, phi, ...states };
+  };
+  // Small α, β and γ to start with: the multiplicative form can diverge over long series with large ones.
+  const start: number[] = [logit((0.3 - lo) / (hi - lo))];
+  if (hasTrend(method)) start.push(logit((0.05 - lo) / (hi - lo)));
+  if (hasSeason(method)) start.push(logit(0.1 / 0.7));
+  if (method === 'damped') start.push(logit(0.5));
+  const best = minimise((u) => runSmoothing(fitted, count, parameters(u)), start, { evaluations: 60 * start.length });
+  const chosen = parameters(best.point);
+  return { ...chosen, meanSquaredError: runSmoothing(fitted, count, chosen) };
+}

@@ -1,0 +1,33 @@
+/**
+ * Times (data/time-column.ts): the ISO 8601 forms (ISO 8601-1:2019 calendar dates and times of day, with UTC
+ * offsets) checked against JavaScript's own `Date.UTC` (ECMA-262 §21.4.1.28), and the spacing of rows.
+ */
+import { describe, expect, it } from 'vitest';
+import { parseTime, timeSpacing } from '@weft/io';
+
+describe('times in a column', () => {
+  it('reads dates, date-times with offsets, year-months, year-quarters and years as UTC', () => {
+    expect(parseTime('2024-03-01')).toBe(Date.UTC(2024, 2, 1));
+    expect(parseTime('2024-03-01T13:05')).toBe(Date.UTC(2024, 2, 1, 13, 5));
+    expect(parseTime('2024-03-01 13:05:09')).toBe(Date.UTC(2024, 2, 1, 13, 5, 9));
+    expect(parseTime('2024-03-01T13:05:00+02:00')).toBe(Date.UTC(2024, 2, 1, 11, 5));
+    expect(parseTime('2024-03-01T13:05:00Z')).toBe(Date.UTC(2024, 2, 1, 13, 5));
+    expect(parseTime('1958-03')).toBe(Date.UTC(1958, 2, 1));
+    expect(parseTime('2001-Q3')).toBe(Date.UTC(2001, 6, 1));
+    expect(parseTime('2001Q4')).toBe(Date.UTC(2001, 9, 1));
+    expect(parseTime(' 1990 ')).toBe(Date.UTC(1990, 0, 1));
+  });
+
+  it('refuses days and times that do not exist, and other text', () => {
+    for (const text of ['2023-02-29', '2024-13', '2024-04-31', '2024-01-01T24:00', 'Jan 1 2000', '', '12.5']) expect(parseTime(text)).toBeNaN();
+  });
+
+  it('names the spacing of hourly, daily, monthly and quarterly rows, and none for irregular ones', () => {
+    const hours = Array.from({ length: 10 }, (_, i) => Date.UTC(2024, 0, 1, i));
+    expect(timeSpacing(hours)).toBe('hours');
+    expect(timeSpacing(Array.from({ length: 10 }, (_, i) => Date.UTC(2024, 0, 1 + i)))).toBe('days');
+    expect(timeSpacing(Array.from({ length: 30 }, (_, i) => Date.UTC(2000, i, 1)))).toBe('months');
+    expect(timeSpacing(Array.from({ length: 12 }, (_, i) => Date.UTC(2000, 3 * i, 1)))).toBe('quarters');
+    expect(timeSpacing([0, 5_000, 17_000, 18_000])).toBeNull();
+  });
+});
