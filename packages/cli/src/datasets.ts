@@ -11,10 +11,10 @@
  */
 import { Random, fail } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
-import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches } from '@weft/optim';
+import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
-import { ForecastErrorSum, UNKNOWN_TOKEN, buildVocabulary, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable } from '@weft/io';
-import type { ClassificationReport, ForecastErrors, Table, WeightMetadata } from '@weft/io';
+import { UNKNOWN_TOKEN, buildVocabulary, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
+import type { BaselineScore, ClassificationReport, ForecastErrors, Table, TimeColumn, WeightMetadata } from '@weft/io';
 import { CommandError } from './errors.js';
 
 export type Task = 'forecast' | 'text' | 'classify';
@@ -58,14 +58,21 @@ export interface HeldOutReport {
   readonly baselines: readonly Contender[];
   /** Target names (forecasts), or class names (classify). */
   readonly names: readonly string[];
+  /** Lines that say how the comparison was set up: the parts, the season and why, baselines left out. */
+  readonly context?: readonly string[];
 }
 
 export interface PrepareOptions {
   readonly window: number;
   readonly lookback: number;
   readonly streams: number;
+  /** Share of the data for validation (stopping, keeping the best weights). */
   readonly validationShare: number;
+  /** Share of the data for the test, scored once for the verdict. */
+  readonly testShare: number;
   readonly horizon: number;
+  /** The time column of a series, by name (default: found by its name or values). */
+  readonly timeColumn?: string;
   readonly columns?: string[];
   readonly targets?: string[];
   readonly tokens: 'characters' | 'words';
@@ -84,20 +91,74 @@ export const TRANSFORMS = {
   'log-returns': { forward: (ahead: number, y: number) => Math.log(ahead / y), inverse: (change: number, y: number) => y * Math.exp(change) },
 } as const;
 
+/** The three parts of a series, by target row: training [0, trainEnd), validation [trainEnd, testStart), test [testStart, rows). */
+export interface SeriesParts {
+  readonly rows: number;
+  readonly trainEnd: number;
+  readonly testStart: number;
+}
+
+/**
+ * Cuts `rows` rows into training, validation and test parts, in time order, by the shares asked; every part gets at
+ * least one row, the test part at least the horizon (else a one-line error naming --test).
+ */
+export function seriesParts(rows: number, options: Pick<PrepareOptions, 'validationShare' | 'testShare' | 'horizon'>): SeriesParts {
+  const test = Math.max(1, Math.round(rows * options.testShare));
+  const validation = Math.max(1, Math.round(rows * options.validationShare));
+  if (test < options.horizon) {
+    fail('invalid_option', '--test', `a share leaving at least ${options.horizon} test rows (the horizon) of the ${rows}: ${Math.ceil((100 * options.horizon) / rows) / 100} or more`, `${options.testShare} (${test} row${test === 1 ? '' : 's'})`);
+  }
+  return { rows, trainEnd: rows - test - validation, testStart: rows - test };
+}
+
+/** Lines a to b of a table, as "lines 2–145 (144 rows)". */
+function linesOf(table: Table, from: number, to: number): string {
+  return `lines ${table.rows[from].line}–${table.rows[to - 1].line} (${to - from} row${to - from === 1 ? '' : 's'})`;
+}
+
+/** Notes on a table that may hold several series or counters, so nothing is pooled without a word. */
+function tableNotes(table: Table, time: TimeColumn | null, numeric: readonly string[], file: string): string[] {
+  const notes: string[] = [];
+  if (time !== null && time.repeated >= 0) {
+    const r = time.repeated;
+    const first = time.times.indexOf(time.times[r]);
+    notes.push(`note: times repeat in column ${JSON.stringify(time.name)} (line ${table.rows[r].line} repeats line ${table.rows[first].line}): this table may hold several series side by side; weft forecasts one series per model, so pick one series's rows, or classify the sequences with --task classify --id-column NAME`);
+  } else if (time !== null && time.backwards >= 0) {
+    notes.push(`note: times go back at line ${table.rows[time.backwards].line} of ${file} (column ${JSON.stringify(time.name)}): rows are read in file order; sort the file by time first`);
+  }
+  for (const name of numeric) {
+    const c = table.header.indexOf(name);
+    const first = decimal(table.rows[0]?.fields[c] ?? '');
+    if (table.rows.length > 2 && table.rows.every((row, r) => decimal(row.fields[c]) === first + r)) {
+      notes.push(`note: column ${JSON.stringify(name)} counts the rows (${first}, ${first + 1}, ${first + 2}, …): it is probably an index, not a reading; leave it out with --columns`);
+    }
+  }
+  table.header.forEach((name, c) => {
+    if (c === time?.index || numeric.includes(name) || table.rows.length < 4) return;
+    const distinct = new Set(table.rows.map((row) => row.fields[c].trim())).size;
+    if (distinct > 1 && distinct <= table.rows.length / 2) {
+      notes.push(`note: column ${JSON.stringify(name)} names ${distinct} repeating values: if each names a series, the table holds several series and weft would pool them into one; pick one series's rows, or classify the sequences with --task classify --id-column ${name}`);
+    }
+  });
+  return notes;
+}
+
 export function prepareForecast(text: string, file: string, options: PrepareOptions): Prepared {
   const table = parseTable(text, { file });
-  const series = readSeries(table, { columns: options.columns, targets: options.targets, choices: { columns: 'with --columns', targets: 'for --target' } });
+  const time = readTimeColumn(table, options.timeColumn, 'for --time-column');
+  const series = readSeries(table, { columns: options.columns, targets: options.targets, leaveOut: time === null ? [] : [time.name], choices: { columns: 'with --columns', targets: 'for --target' } });
   const columns = series.columns.map((name) => table.header.indexOf(name));
   const targets = series.targets.map((name) => table.header.indexOf(name));
-  const leftOut = series.leftOut;
+  const leftOut = series.leftOut.filter((text) => time === null || !text.startsWith(`${time.name} (`));
   const rows = table.rows.length;
   const values = series.values;
-  const validationRows = Math.max(options.window + options.horizon + 1, Math.round(rows * options.validationShare));
-  const trainRows = rows - validationRows;
-  if (trainRows < options.streams * options.window + options.horizon) {
-    throw new CommandError(`${file}: ${rows} rows are too few for ${options.streams} streams of ${options.window}-row windows plus a validation share of ${options.validationShare}`);
+  const horizon = options.horizon;
+  const parts = seriesParts(rows, options);
+  const { trainEnd, testStart } = parts;
+  if (trainEnd < options.streams * options.window + horizon) {
+    throw new CommandError(`${file}: ${rows} rows leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test), too few for ${options.streams} streams of ${options.window}-row windows ${horizon} rows ahead (${options.streams * options.window + horizon} rows); lower --streams or --window, or the --validation and --test shares`);
   }
-  const { mean, deviation } = columnStatistics(values.slice(0, trainRows), columns.length);
+  const { mean, deviation } = columnStatistics(values.slice(0, trainEnd), columns.length);
   const normalised = values.map((row) => row.map((v, j) => (v - mean[j]) / deviation[j]));
   const targetIndexes = targets.map((t) => columns.indexOf(t));
   const flat = (from: number, to: number) => normalised.slice(from, to).flat();
@@ -111,31 +172,38 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       }));
     }
     const f = TRANSFORMS[transform].forward;
-    const raw = values.map((row, s) => targetIndexes.map((j) => (s < options.horizon ? 0 : f(row[j], values[s - options.horizon][j]))));
-    const statistics = columnStatistics(raw.slice(options.horizon, trainRows), targetIndexes.length);
+    const raw = values.map((row, s) => targetIndexes.map((j) => (s < horizon ? 0 : f(row[j], values[s - horizon][j]))));
+    const statistics = columnStatistics(raw.slice(horizon, trainEnd), targetIndexes.length);
     change = { ...statistics, rows: raw.map((row) => row.map((v, k) => (v - statistics.mean[k]) / statistics.deviation[k])) };
   }
   const targetOptions = (from: number, to: number) => change === null
     ? { targetColumns: targetIndexes }
     : { targets: change.rows.slice(from, to).flat(), targetWidth: targetIndexes.length };
-  const train = streamBatches({ kind: 'values', values: flat(0, trainRows), features: columns.length, ...targetOptions(0, trainRows), horizon: options.horizon }, { streams: options.streams, window: options.window, lookback: options.lookback });
-  // Validation reads the held-out rows as one stream, warmed up by the window before them.
-  const validationFrom = trainRows - options.window;
-  const heldOutSteps = Math.floor((rows - validationFrom - options.horizon) / options.window) * options.window;
-  const validation = streamBatches({ kind: 'values', values: flat(validationFrom, validationFrom + heldOutSteps + options.horizon), features: columns.length, ...targetOptions(validationFrom, validationFrom + heldOutSteps + options.horizon), horizon: options.horizon }, { streams: 1, window: options.window });
-  // The scored positions: rows t ≥ trainRows whose forecast (of row t + horizon) lies in the held-out stream; the
-  // warm-up window before them carries state only. The baselines are scored on exactly these positions.
-  const positions: number[] = [];
-  for (let t = trainRows; t < validationFrom + heldOutSteps; t++) positions.push(t);
-  if (positions.length === 0) throw new CommandError(`${file}: the validation share leaves no held-out rows to score; raise --validation`);
-  if (options.season !== undefined && options.season !== null && !(options.season < trainRows)) {
-    // The training rows end at this line: a season must fit in them.
-    fail('invalid_option', `${file}:${table.rows[trainRows - 1].line}:1 (--season)`, `a season shorter than the ${trainRows} training rows (of ${rows}), which end at this line`, String(options.season));
+  const train = streamBatches({ kind: 'values', values: flat(0, trainEnd), features: columns.length, ...targetOptions(0, trainEnd), horizon }, { streams: options.streams, window: options.window, lookback: options.lookback });
+  // Validation and test read the series from its first row as one stream (the runtime's forecast at each row, as
+  // `weft run` makes it), every row before their own first target carrying state only.
+  const reading = (end: number, firstTarget: number) => wholeStream(
+    { kind: 'values', values: flat(0, end), features: columns.length, ...targetOptions(0, end), horizon },
+    { window: options.window, scoredFrom: firstTarget - horizon },
+  );
+  const validation = reading(testStart, trainEnd);
+  const test = reading(rows, testStart);
+  if (options.season !== undefined && options.season !== null && !(options.season < testStart)) {
+    // The fitting rows end at this line: a season must fit in them.
+    fail('invalid_option', `${file}:${table.rows[testStart - 1].line}:1 (--season)`, `a season shorter than the ${testStart} training and validation rows (of ${rows}), which end at this line`, String(options.season));
   }
-  const baselines = forecastBaselines({ values, targets: targetIndexes, horizon: options.horizon, trainRows, positions }, { season: options.season });
+  const positions: number[] = [];
+  for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
+  const split = { values, targets: targetIndexes, horizon, fitRows: testStart, positions };
+  const baselines = forecastBaselines(split, { season: options.season, spacing: time?.spacing ?? null });
   const targetNames = targets.map((c) => table.header[c]);
-  const firstScored = table.rows[trainRows].line;
-  const lastScored = table.rows[positions[positions.length - 1] + options.horizon].line;
+  const partsLine = `parts of ${file}, in time order: training ${linesOf(table, 0, trainEnd)}, validation ${linesOf(table, trainEnd, testStart)} (for stopping and keeping weights), test ${linesOf(table, testStart, rows)} (scored once, at the end)`;
+  const notes = [
+    ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
+    ...(time === null ? [] : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing} apart)`}`]),
+    ...tableNotes(table, time, series.columns, file),
+    partsLine,
+  ];
   return {
     task: 'forecast',
     input: { kind: 'values', width: columns.length },
@@ -146,40 +214,50 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       task: 'forecast',
       columns: columns.map((c) => table.header[c]),
       targetColumns: targetNames,
-      horizon: options.horizon,
+      horizon,
       normalisation: { mean, deviation },
       ...(change === null || transform === 'none' ? {} : { targetTransform: { kind: transform, mean: change.mean, deviation: change.deviation } }),
+      ...(time === null ? {} : { timeColumn: time.name }),
+      split: { kind: 'series', rows, trainingRows: trainEnd, validationRows: testStart - trainEnd, testRows: rows - testStart },
+      ...(baselines.season.season === null ? {} : { season: baselines.season.season }),
     },
-    notes: options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : [],
+    notes,
     heldOut: (model) => {
-      // Errors in the data's own units, per target and overall, at the scored positions.
-      const sums = targetIndexes.map(() => new ForecastErrorSum());
-      const all = new ForecastErrorSum();
-      let position = 0;
-      forEachOutputBatch(model, validation, (_batch, { outputs }) => {
-        for (let i = 0; i < outputs.length; i += targetIndexes.length) {
-          const t = validationFrom + position++;
-          if (t < trainRows || t >= validationFrom + heldOutSteps) continue;
+      const forecasts = Array.from({ length: targetIndexes.length }, () => new Float64Array(rows));
+      let t = 0;
+      forEachOutputBatch(model, test, (_batch, { outputs }) => {
+        for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
           targetIndexes.forEach((j, k) => {
-            const forecast = change === null || transform === 'none'
+            forecasts[k][t] = change === null
               ? outputs[i + k] * deviation[j] + mean[j]
-              : TRANSFORMS[transform].inverse(outputs[i + k] * change.deviation[k] + change.mean[k], values[t][j]);
-            const actual = values[t + options.horizon][j];
-            sums[k].add(actual, forecast);
-            all.add(actual, forecast);
+              : TRANSFORMS[transform as 'differences' | 'log-returns'].inverse(outputs[i + k] * change.deviation[k] + change.mean[k], values[t][j]);
           });
         }
       });
-      const overall = all.result();
-      return {
-        metric: 'MAE',
-        lowerIsBetter: true,
-        what: `${positions.length} forecasts of ${targetNames.join(', ')}, ${options.horizon} row${options.horizon === 1 ? '' : 's'} ahead, for lines ${firstScored + options.horizon}–${lastScored} of ${file} (the last ${rows - trainRows} rows, not trained on)`,
-        model: { name: 'model', description: '', value: overall.mae, perTarget: sums.map((s) => s.result()), overall },
-        baselines: baselines.map((b) => ({ name: b.name, description: b.description, value: b.overall.mae, perTarget: b.perTarget, overall: b.overall })),
+      const scored = scoreForecaster(split, (at, k) => forecasts[k][at], baselines.scales);
+      return forecastReport({
+        what: `${positions.length} forecasts of ${targetNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`,
+        model: scored,
+        baselines: baselines.scores,
         names: targetNames,
-      };
+        context: [partsLine, `${baselines.season.reason}${options.season === undefined ? ' (--season to choose another, or none)' : ''}`, ...baselines.leftOut.map((l) => `left out: ${l}`)],
+      });
     },
+  };
+}
+
+/** A forecast comparison: MAE in the data's units for one target; with several targets, the mean MASE (scale-free). */
+export function forecastReport(parts: { what: string; model: Pick<BaselineScore, 'perTarget' | 'overall'>; baselines: readonly BaselineScore[]; names: readonly string[]; context: readonly string[] }): HeldOutReport {
+  const several = parts.names.length > 1;
+  const value = (s: Pick<BaselineScore, 'overall'>) => (several ? s.overall.mase ?? NaN : s.overall.mae);
+  return {
+    metric: several ? 'MASE' : 'MAE',
+    lowerIsBetter: true,
+    what: parts.what,
+    model: { name: 'model', description: '', value: value(parts.model), perTarget: parts.model.perTarget, overall: parts.model.overall },
+    baselines: parts.baselines.map((b) => ({ name: b.name, description: b.description, value: value(b), perTarget: b.perTarget, overall: b.overall })),
+    names: parts.names,
+    context: parts.context,
   };
 }
 

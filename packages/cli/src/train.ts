@@ -45,11 +45,13 @@ export const trainFlags: FlagSpec[] = [
   { name: 'clip', value: 'NUMBER', description: 'clip the global gradient norm to this', fallback: '1' },
   { name: 'workers', value: 'N', description: 'training threads, this one included: each batch is cut into shards of 8 rows computed in parallel, the same weights for any N', fallback: 'the cores, at most one per shard' },
   { name: 'seed', value: 'TEXT', description: 'seed for every random choice', fallback: '1' },
-  { name: 'validation', value: 'SHARE', description: 'share of the data held out (the end of a series or text)', fallback: '0.1' },
+  { name: 'validation', value: 'SHARE', description: 'share of the data for validation: stopping and keeping the best weights (before the test part of a series or text; a seeded share of sequences)', fallback: '0.1' },
+  { name: 'test', value: 'SHARE', description: 'share of the data for the test, scored once for the verdict against the baselines and never used for stopping (the end of a series or text; a seeded share of sequences)', fallback: '0.1' },
+  { name: 'time-column', value: 'NAME', description: 'the column of times of a series (dates, date-times, year-months, year-quarters, years): gives the season\'s candidates', fallback: 'a column named like a time, or the first whose values are times' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
   { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3' },
   { name: 'transform', value: 'none|differences|log-returns', description: 'forecast the change of the target instead of its level, inverted on output (forecast)', fallback: 'none' },
-  { name: 'season', value: 'ROWS|none', description: 'season of a series for the seasonal-naive baseline (forecast)', fallback: 'detected from the training rows' },
+  { name: 'season', value: 'ROWS|none', description: 'season of a series for the seasonal baselines (forecast)', fallback: 'from the time column\'s spacing or the differences\' autocorrelation, by the 90% test' },
   { name: 'horizon', value: 'ROWS', description: 'forecast this many rows ahead', fallback: '1' },
   { name: 'columns', value: 'A,B', description: 'input columns of a series CSV', fallback: 'every numeric column' },
   { name: 'target', value: 'A,B', description: 'columns to forecast', fallback: 'the input columns' },
@@ -139,7 +141,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     window: numberFlag(args, 'window', 32, { whole: true, min: 1, max: 100000 }),
     lookback: numberFlag(args, 'lookback', 0, { whole: true, min: 0, max: 100000 }),
     streams: numberFlag(args, 'streams', 8, { whole: true, min: 1, max: 4096 }),
-    validationShare: numberFlag(args, 'validation', 0.1, { min: 0.01, max: 0.9 }),
+    validationShare: numberFlag(args, 'validation', 0.1, { min: 0.01, max: 0.8 }),
+    testShare: numberFlag(args, 'test', 0.1, { min: 0.01, max: 0.8 }),
+    timeColumn: args.flags.get('time-column'),
     horizon: numberFlag(args, 'horizon', 1, { whole: true, min: 1, max: 100000 }),
     columns: args.flags.get('columns')?.split(',').map((s) => s.trim()),
     targets: args.flags.get('target')?.split(',').map((s) => s.trim()),
@@ -150,6 +154,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     transform: choiceFlag(args, 'transform', ['none', 'differences', 'log-returns'] as const, 'none'),
     season: args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined,
   };
+  if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
+  if (options.timeColumn !== undefined && task !== 'forecast') throw new CommandError(`--time-column applies to --task forecast, not ${task}`, 2);
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
   if (options.lookback > 0 && task === 'pairs') throw new CommandError('--lookback applies to streams (--task forecast or text); pairs are read whole', 2);
   if (args.switches.has('bidirectional') && task !== 'classify' && task !== 'pairs') throw new CommandError('--bidirectional needs --task classify or pairs (forecasts and text are read forward in time)', 2);

@@ -94,8 +94,8 @@ export interface DataSource {
 }
 
 
-export type { StreamOptions, TokenStreamOptions, ValueStreamOptions } from './data/streams.js';
-export { streamBatches } from './data/streams.js';
+export type { StreamOptions, TokenStreamOptions, ValueStreamOptions, WholeStreamOptions } from './data/streams.js';
+export { streamBatches, wholeStream } from './data/streams.js';
 export type { LabelledSequence, SequenceSetOptions } from './data/sequences.js';
 export { sequenceBatches } from './data/sequences.js';
 export type { PairSetOptions, TokenPair } from './data/pairs.js';

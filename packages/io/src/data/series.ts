@@ -17,6 +17,8 @@ export interface SeriesOptions {
   readonly columns?: readonly string[];
   /** The columns to forecast, by name, among those read (default: all of them). */
   readonly targets?: readonly string[];
+  /** Columns never read as numbers (a time column of plain years, say). */
+  readonly leaveOut?: readonly string[];
   /** How errors name the two choices (default "a column to read", "a column to forecast"; a command names its flags). */
   readonly choices?: {
     /** How an error names a column to read. */
@@ -43,6 +45,7 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
   const numeric: number[] = [];
   const leftOut: string[] = [];
   table.header.forEach((name, c) => {
+    if (options.leaveOut?.includes(name)) return;
     let numbers = 0;
     let firstBad = -1;
     table.rows.forEach((row, r) => {

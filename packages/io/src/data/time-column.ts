@@ -4,7 +4,10 @@
  * read as UTC milliseconds; and how rows are spaced (the median gap between rows, named in calendar units), which
  * gives the seasons a forecaster tries first (seasonality.ts).
  */
+import { fail } from '@weft/core';
 import type { Spacing } from './seasonality.js';
+import { columnNamed, decimal, fieldPath } from './table.js';
+import type { Table } from './table.js';
 
 const DATE_TIME = /^(\d{4})-(\d{2})-(\d{2})(?:[T ](\d{2}):(\d{2})(?::(\d{2})(?:\.\d+)?)?(Z|[+-]\d{2}:?\d{2})?)?$/;
 const YEAR_MONTH = /^(\d{4})-(\d{2})$/;
@@ -54,4 +57,56 @@ export function timeSpacing(times: ArrayLike<number>): Spacing | null {
   if (near(DAY, 89, 92)) return 'quarters';
   if (near(DAY, 365, 366)) return 'years';
   return null;
+}
+
+/** A table's time column, read. */
+export interface TimeColumn {
+  /** The column's name. */
+  readonly name: string;
+  /** Its index in the table's header. */
+  readonly index: number;
+  /** Each row's time, UTC milliseconds. */
+  readonly times: Float64Array;
+  /** How rows are spaced, or null when the times repeat, go back, or are irregular. */
+  readonly spacing: Spacing | null;
+  /** The first row (0-based) whose time repeats an earlier row's, or −1. */
+  readonly repeated: number;
+  /** The first row (0-based) whose time is before the row above it, or −1. */
+  readonly backwards: number;
+}
+
+/** Header names that say a column holds times (common practice in exported tables). */
+const TIME_NAMES = /^(date|time|datetime|timestamp|day|week|month|quarter|year|period)$/i;
+
+/**
+ * The table's time column: the one named, or else the first column named like a time (date, time, month, …) or
+ * whose first value is a time and not a number. Every value of it must parse (parseTime): the first that does not is
+ * an error at its file:line:column. Null when no column looks like times.
+ */
+export function readTimeColumn(table: Table, name?: string, choice = 'a time column'): TimeColumn | null {
+  let index = -1;
+  if (name !== undefined) index = columnNamed(table, name, choice);
+  else if (table.rows.length > 0) {
+    index = table.header.findIndex((h, c) => {
+      const first = table.rows[0].fields[c] ?? '';
+      const isTime = !Number.isNaN(parseTime(first));
+      return (TIME_NAMES.test(h.trim()) && isTime) || (isTime && Number.isNaN(decimal(first)));
+    });
+  }
+  if (index < 0) return null;
+  const times = new Float64Array(table.rows.length);
+  let repeated = -1;
+  let backwards = -1;
+  const seen = new Set<number>();
+  table.rows.forEach((row, r) => {
+    const t = parseTime(row.fields[index] ?? '');
+    if (Number.isNaN(t)) {
+      fail('bad_data', fieldPath(table, r, index), `a time in column ${JSON.stringify(table.header[index])} (2024-03-01, 2024-03-01T13:00, 2024-03, 2024-Q1 or 2024)`, JSON.stringify((row.fields[index] ?? '').trim().slice(0, 80)));
+    }
+    times[r] = t;
+    if (repeated < 0 && seen.has(t)) repeated = r;
+    seen.add(t);
+    if (backwards < 0 && r > 0 && t < times[r - 1]) backwards = r;
+  });
+  return { name: table.header[index], index, times, spacing: repeated < 0 && backwards < 0 ? timeSpacing(times) : null, repeated, backwards };
 }

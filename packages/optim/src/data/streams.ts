@@ -188,3 +188,54 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
     },
   };
 }
+
+/** How `wholeStream` reads one stream for evaluation. */
+export interface WholeStreamOptions {
+  /** Steps per batch; the last batch holds what is left, so no position is dropped. */
+  readonly window: number;
+  /** Positions before this one carry state only (loss weight 0): the warm-up before the rows scored. Default 0. */
+  readonly scoredFrom?: number;
+}
+
+/**
+ * One stream read whole for evaluation: every position that has a target (N − horizon of them for values, N − 1
+ * for tokens) is in exactly one batch, `window` steps at a time with a shorter last batch, the state carried
+ * across; positions before `scoredFrom` weigh 0. Where `streamBatches` drops the rows that do not fill a window
+ * (right for training), this scores exactly the positions asked for.
+ */
+export function wholeStream(data: TokenStreamOptions | ValueStreamOptions, options: WholeStreamOptions): DataSource {
+  const window = options.window;
+  const scoredFrom = options.scoredFrom ?? 0;
+  if (!Number.isInteger(window) || window < 1) fail('invalid_option', 'stream.window', 'a whole number ≥ 1', String(window));
+  const features = data.kind === 'values' ? data.features : 1;
+  const rows = data.kind === 'values' ? data.values.length / features : data.tokens.length;
+  const horizon = data.kind === 'values' ? data.horizon ?? 1 : 1;
+  const total = rows - horizon;
+  if (!(Number.isInteger(scoredFrom) && scoredFrom >= 0 && scoredFrom < total)) fail('invalid_option', 'stream.scoredFrom', `a position in [0, ${total})`, String(scoredFrom));
+  const batches = Math.ceil(total / window);
+  // Each batch is read from a one-window source over the batch's own rows (with the horizon after them).
+  const sliceOf = (index: number) => {
+    const begin = index * window;
+    const steps = Math.min(window, total - begin);
+    const end = begin + steps + horizon;
+    const source = data.kind === 'values'
+      ? streamBatches({ ...data, values: data.values.slice(begin * features, end * features), ...(data.targets === undefined ? {} : { targets: data.targets.slice(begin * (data.targetWidth ?? 1), end * (data.targetWidth ?? 1)) }) }, { window: steps })
+      : streamBatches({ ...data, tokens: data.tokens.subarray(begin, end) }, { window: steps });
+    let weights: Float64Array | null = null;
+    if (begin < scoredFrom) {
+      weights = new Float64Array(steps).fill(1);
+      weights.fill(0, 0, Math.min(steps, scoredFrom - begin));
+    }
+    return { source, weights, scored: steps - Math.max(0, Math.min(steps, scoredFrom - begin)) };
+  };
+  const slices = Array.from({ length: batches }, (_, i) => sliceOf(i));
+  return {
+    batchesPerEpoch: batches,
+    carriesState: true,
+    batch(_epoch: number, index: number): Batch {
+      const { source, weights, scored } = slices[index];
+      const batch = source.batch(0, 0);
+      return { ...batch, targets: { ...batch.targets, weights: weights ?? batch.targets.weights } as Batch['targets'], positions: scored };
+    },
+  };
+}

@@ -5,7 +5,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { WeftError } from '@weft/core';
-import { streamBatches } from '@weft/optim';
+import { streamBatches, wholeStream } from '@weft/optim';
 
 // Rows t = 0..9 of two columns: [t, 10t].
 const values = Array.from({ length: 10 }, (_, t) => [t, 10 * t]).flat();
@@ -29,5 +29,33 @@ describe('value streams', () => {
     expect(() => streamBatches({ kind: 'values', values, features: 2, targets: [1, 2, 3], targetWidth: 1 }, { window: 2 })).toThrowError(WeftError);
     expect(() => streamBatches({ kind: 'values', values, features: 2, targets: [1, 2, 3], targetWidth: 1 }, { window: 2 })).toThrowError(
       'Bad data at stream.targets: expected 10 values (10 rows × 1, as many rows as the values), received 3');
+  });
+});
+
+describe('a whole stream for evaluation', () => {
+  it('puts every position with a target in exactly one batch, the last one shorter, and weighs the warm-up 0', () => {
+    // 11 rows, horizon 2 → positions 0 … 8; windows of 4 → batches of 4, 4, 1; positions 0 … 2 warm up only.
+    const values = Array.from({ length: 11 }, (_, i) => i);
+    const source = wholeStream({ kind: 'values', values, features: 1, horizon: 2 }, { window: 4, scoredFrom: 3 });
+    expect(source.batchesPerEpoch).toBe(3);
+    expect(source.carriesState).toBe(true);
+    const seen: number[] = [];
+    const targets: number[] = [];
+    const weights: number[] = [];
+    for (let i = 0; i < 3; i++) {
+      const batch = source.batch(0, i);
+      if (batch.targets.kind !== 'values' || !('data' in batch.input)) throw new Error('expected a value batch');
+      seen.push(...batch.input.data);
+      targets.push(...batch.targets.values.data);
+      weights.push(...(batch.targets.weights ?? new Float64Array(batch.steps).fill(1)));
+    }
+    expect(seen).toEqual([0, 1, 2, 3, 4, 5, 6, 7, 8]);
+    expect(targets).toEqual([2, 3, 4, 5, 6, 7, 8, 9, 10]);
+    expect(weights).toEqual([0, 0, 0, 1, 1, 1, 1, 1, 1]);
+    expect([0, 1, 2].map((i) => source.batch(0, i).positions)).toEqual([1, 4, 1]);
+  });
+
+  it('refuses a warm-up that leaves nothing to score, naming the option', () => {
+    expect(() => wholeStream({ kind: 'values', values: [1, 2, 3], features: 1 }, { window: 2, scoredFrom: 2 })).toThrow('Invalid option at stream.scoredFrom: expected a position in [0, 2), received 2');
   });
 });
