@@ -13,7 +13,7 @@ import { Random, fail } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
-import { UNKNOWN_TOKEN, buildVocabulary, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
+import { KneserNeyModel, UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, chooseNgramOrder, predictLogistic, summaryFeatures, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
 import type { BaselineScore, ClassificationReport, ForecastErrors, Table, TimeColumn, WeightMetadata } from '@weft/io';
 import { CommandError } from './errors.js';
 
@@ -197,12 +197,11 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const split = { values, targets: targetIndexes, horizon, fitRows: testStart, positions };
   const baselines = forecastBaselines(split, { season: options.season, spacing: time?.spacing ?? null });
   const targetNames = targets.map((c) => table.header[c]);
-  const partsLine = `parts of ${file}, in time order: training ${linesOf(table, 0, trainEnd)}, validation ${linesOf(table, trainEnd, testStart)} (for stopping and keeping weights), test ${linesOf(table, testStart, rows)} (scored once, at the end)`;
+  const partsLine = `parts of ${file}, in time order: training ${linesOf(table, 0, trainEnd)}; validation, for stopping and keeping weights, ${linesOf(table, trainEnd, testStart)}; test, scored once at the end, ${linesOf(table, testStart, rows)}`;
   const notes = [
     ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
-    ...(time === null ? [] : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing} apart)`}`]),
+    ...(time === null ? [] : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
     ...tableNotes(table, time, series.columns, file),
-    partsLine,
   ];
   return {
     task: 'forecast',
@@ -267,42 +266,67 @@ export function tokenize(text: string, mode: 'characters' | 'words'): string[] {
 
 export const UNKNOWN = UNKNOWN_TOKEN;
 
+/** Tokens of warm-up before the first scored token of a text part: state only, never scored. */
+const TEXT_WARM_UP = 256;
+
 export function prepareText(text: string, file: string, options: PrepareOptions): Prepared {
   const pieces = tokenize(text, options.tokens);
-  const validationCount = Math.max(options.window + 1, Math.round(pieces.length * options.validationShare));
-  const trainPieces = pieces.slice(0, pieces.length - validationCount);
-  if (trainPieces.length < options.streams * options.window + 1) {
-    throw new CommandError(`${file}: ${pieces.length} ${options.tokens} are too few for ${options.streams} streams of ${options.window}-token windows`);
+  const testCount = Math.max(2, Math.round(pieces.length * options.testShare));
+  const validationCount = Math.max(2, Math.round(pieces.length * options.validationShare));
+  const trainEnd = pieces.length - testCount - validationCount;
+  const testStart = pieces.length - testCount;
+  if (trainEnd < options.streams * options.window + 1) {
+    throw new CommandError(`${file}: ${pieces.length} ${options.tokens} leave ${Math.max(0, trainEnd)} to train on (after ${validationCount} for validation and ${testCount} for the test), too few for ${options.streams} streams of ${options.window}-token windows (${options.streams * options.window + 1}); lower --streams or --window, or the --validation and --test shares`);
   }
+  const trainPieces = pieces.slice(0, trainEnd);
   const vocabulary = buildVocabulary(trainPieces);
   const index = new Map(vocabulary.map((v, i) => [v, i]));
-  const ids = (list: string[]) => Int32Array.from(list, (p) => index.get(p) ?? 0);
-  const trainIds = ids(trainPieces);
-  const validationPieces = pieces.slice(pieces.length - validationCount);
-  const validationIds = ids(validationPieces);
-  const unseen = validationPieces.filter((p) => !index.has(p)).length;
+  const ids = Int32Array.from(pieces, (p) => index.get(p) ?? 0);
+  const trainIds = ids.subarray(0, trainEnd);
+  let unseen = 0;
+  for (let i = trainEnd; i < pieces.length; i++) if (!index.has(pieces[i])) unseen++;
+  // A part read as one stream from a warm-up before it; its first token is predicted from the one before it.
+  const reading = (from: number, to: number) => {
+    const begin = Math.max(0, from - 1 - TEXT_WARM_UP);
+    return wholeStream({ kind: 'tokens', tokens: ids.subarray(begin, to), vocabulary: vocabulary.length }, { window: options.window, scoredFrom: from - 1 - begin });
+  };
+  const validation = reading(trainEnd, testStart);
+  const test = reading(testStart, pieces.length);
+  // Baselines: unigram (add-one) and interpolated Kneser–Ney with its order chosen on the validation part, both
+  // counted on training and validation for the test, as the forecast baselines are fitted.
+  const most = options.tokens === 'characters' ? 6 : 3;
+  const { order, crossEntropy: orderLosses } = chooseNgramOrder(trainIds, ids.subarray(trainEnd, testStart), vocabulary.length, most);
+  const fitted = ids.subarray(0, testStart);
+  const ngram = new KneserNeyModel(fitted, order, vocabulary.length);
   const counts = new Float64Array(vocabulary.length).fill(1);
-  for (const id of trainIds) counts[id]++;
+  for (const id of fitted) counts[id]++;
   const total = counts.reduce((s, c) => s + c, 0);
-  let crossEntropy = 0;
-  for (let i = 1; i < validationIds.length; i++) crossEntropy -= Math.log(counts[validationIds[i]] / total);
-  const unigram = Math.exp(crossEntropy / (validationIds.length - 1));
-  const validationSource = streamBatches({ kind: 'tokens', tokens: validationIds, vocabulary: vocabulary.length }, { streams: 1, window: Math.min(options.window, validationIds.length - 1) });
+  let unigramLoss = 0;
+  for (let i = testStart; i < ids.length; i++) unigramLoss -= Math.log(counts[ids[i]] / total);
+  const unigram = Math.exp(unigramLoss / testCount);
+  const ngramPerplexity = Math.exp(ngram.crossEntropy(ids, testStart));
+  const partsLine = `parts of ${file}, in order: training ${trainEnd} ${options.tokens}; validation, for stopping and keeping weights, ${validationCount}; test, scored once at the end, the last ${testCount}`;
   return {
     task: 'text',
     input: { kind: 'embedding', vocabulary: vocabulary.length, width: options.embedding },
     outputWidth: vocabulary.length,
     train: streamBatches({ kind: 'tokens', tokens: trainIds, vocabulary: vocabulary.length }, { streams: options.streams, window: options.window, lookback: options.lookback }),
-    validation: validationSource,
-    metadata: { task: 'next-token', tokens: options.tokens, vocabulary },
-    notes: unseen > 0 ? [`${unseen} of the ${validationCount} held-out ${options.tokens} never occur in the training text; the model reads them as ${UNKNOWN}`] : [],
+    validation,
+    metadata: { task: 'next-token', tokens: options.tokens, vocabulary, split: { kind: 'text', tokens: pieces.length, trainingTokens: trainEnd, validationTokens: validationCount, testTokens: testCount } },
+    notes: [
+      ...(unseen > 0 ? [`${unseen} of the ${pieces.length - trainEnd} validation and test ${options.tokens} never occur in the training text; the model reads them as ${UNKNOWN}`] : []),
+    ],
     heldOut: (model) => ({
       metric: 'perplexity',
       lowerIsBetter: true,
-      what: `the last ${validationCount} ${options.tokens} of ${file} (not trained on), each predicted from those before it`,
-      model: { name: 'model', description: '', value: Math.exp(averageCrossEntropy(model, validationSource)) },
-      baselines: [{ name: 'unigram', description: 'each token as often as in the training text', value: unigram }],
+      what: `the last ${testCount} ${options.tokens} of ${file}, used for neither training nor stopping, each predicted from those before it`,
+      model: { name: 'model', description: '', value: Math.exp(averageCrossEntropy(model, test)) },
+      baselines: [
+        { name: 'unigram', description: 'each token as often as in the training and validation text (add-one)', value: unigram },
+        { name: `${order}-gram`, description: `interpolated Kneser-Ney over ${options.tokens}, order ${order} of 1-${most} chosen on the validation part (validation perplexity ${orderLosses.map((l, i) => `${i + 1}: ${Number(Math.exp(l).toPrecision(4))}`).join(', ')})`, value: ngramPerplexity },
+      ],
       names: [],
+      context: [partsLine],
     }),
   };
 }
@@ -396,34 +420,54 @@ function prepareStepClassification(table: Table, file: string, options: Classify
   });
 }
 
+/** Features of a sequence for the logistic baseline: summaries of numbers, or token shares and the length. */
+function sequenceFeatures(q: LabelledSequence, features: number, vocabulary: number): number[] {
+  if (q.values !== undefined) return summaryFeatures(q.values, q.values.length / features, features);
+  const tokens = q.tokens ?? [];
+  const shares = new Array<number>(vocabulary).fill(0);
+  for (let i = 0; i < tokens.length; i++) shares[tokens[i]] += 1 / tokens.length;
+  return [...shares, tokens.length];
+}
+
 function classificationData(
   sequences: LabelledSequence[], labels: string[], features: number, file: string, options: ClassifyOptions,
   shape: { input: ModelDescription['input']; metadata: WeightMetadata; notes: string[] },
 ): Prepared {
   const order = sequences.map((_, i) => i);
   new Random(`${options.seed}:split`).shuffle(order);
+  const testCount = Math.max(1, Math.round(sequences.length * options.testShare));
   const validationCount = Math.max(1, Math.round(sequences.length * options.validationShare));
-  const validationSet = order.slice(0, validationCount).map((i) => sequences[i]);
-  const trainSet = order.slice(validationCount).map((i) => sequences[i]);
-  if (trainSet.length === 0) throw new CommandError(`${file}: too few sequences to keep a validation share of ${options.validationShare}`);
+  const testSet = order.slice(0, testCount).map((i) => sequences[i]);
+  const validationSet = order.slice(testCount, testCount + validationCount).map((i) => sequences[i]);
+  const trainSet = order.slice(testCount + validationCount).map((i) => sequences[i]);
+  if (trainSet.length < 2) throw new CommandError(`${file}: ${sequences.length} sequences leave ${trainSet.length} to train on after ${validationCount} for validation and ${testCount} for the test; lower --validation or --test`);
   const validation = sequenceBatches(validationSet, { batchSize: 64, features });
-  // The majority class of the training sequences, scored on the validation sequences.
+  const test = sequenceBatches(testSet, { batchSize: 64, features });
+  const labelsOf = (set: LabelledSequence[]) => set.map((q) => q.label ?? 0);
+  // The majority class of the training sequences, and a logistic regression on summary features with its penalty
+  // chosen on the validation sequences, both scored on the test sequences.
   const trainCounts = labels.map((_, k) => trainSet.filter((q) => q.label === k).length);
   const majorityClass = trainCounts.indexOf(Math.max(...trainCounts));
-  const validationLabels = validationSet.map((q) => q.label ?? 0);
-  const majority = classificationReport(validationLabels, validationLabels.map(() => majorityClass), labels.length);
+  const testLabels = labelsOf(testSet);
+  const majority = classificationReport(testLabels, testLabels.map(() => majorityClass), labels.length);
+  const vocabulary = shape.input.kind === 'embedding' ? shape.input.vocabulary : 0;
+  const featuresOf = (set: LabelledSequence[]) => set.map((q) => sequenceFeatures(q, features, vocabulary));
+  const logistic = chooseLogistic(featuresOf(trainSet), labelsOf(trainSet), featuresOf(validationSet), labelsOf(validationSet), labels.length);
+  const regression = classificationReport(testLabels, featuresOf(testSet).map((row) => predictLogistic(logistic, row)), labels.length);
+  const summaries = shape.input.kind === 'embedding' ? 'the share of each token and the length' : 'mean, deviation, minimum, maximum, last value and slope of each column';
+  const partsLine = `parts of ${file}, a seeded shuffle (seed ${options.seed}): training ${trainSet.length} sequences; validation, for stopping and keeping weights, ${validationSet.length}; test, scored once at the end, ${testSet.length}`;
   return {
     task: 'classify',
     input: shape.input,
     outputWidth: labels.length,
     train: sequenceBatches(trainSet, { batchSize: options.batch, features, seed: options.seed }),
     validation,
-    metadata: shape.metadata,
+    metadata: { ...shape.metadata, split: { kind: 'sequences', seed: options.seed, sequences: sequences.length, trainingSequences: trainSet.length, validationSequences: validationSet.length, testSequences: testSet.length } },
     notes: shape.notes,
     heldOut: (model) => {
       const predicted: number[] = [];
       const actual: number[] = [];
-      forEachOutputBatch(model, validation, (batch, { outputs }) => {
+      forEachOutputBatch(model, test, (batch, { outputs }) => {
         if (batch.targets.kind !== 'classes') return;
         for (let r = 0; r < batch.batch; r++) {
           let best = 0;
@@ -436,10 +480,14 @@ function classificationData(
       return {
         metric: 'accuracy',
         lowerIsBetter: false,
-        what: `${validationSet.length} sequences of ${file} held out at random (seed ${options.seed}), not trained on`,
+        what: `${testSet.length} test sequences of ${file}, drawn at random (seed ${options.seed}), used for neither training nor stopping`,
         model: { name: 'model', description: '', value: scores.accuracy, scores },
-        baselines: [{ name: 'majority class', description: `always ${JSON.stringify(labels[majorityClass])}, the most common class in training`, value: majority.accuracy, scores: majority }],
+        baselines: [
+          { name: 'majority class', description: `always ${JSON.stringify(labels[majorityClass])}, the most common class in training`, value: majority.accuracy, scores: majority },
+          { name: 'logistic regression', description: `on ${summaries} of each sequence, L2 penalty ${logistic.penalty} chosen on the validation sequences`, value: regression.accuracy, scores: regression },
+        ],
         names: labels,
+        context: [partsLine],
       };
     },
   };

@@ -91,25 +91,40 @@ export interface PairsPrepared {
 /** How pairs are prepared for training. */
 export interface PairsPrepareOptions extends PairsReadOptions {
   readonly validationShare: number;
+  readonly testShare: number;
   readonly batch: number;
   readonly seed: string;
 }
 
-/** Reads, splits (a seeded shuffle; the last share held out) and batches a pairs file. */
+/** Reads, splits (a seeded shuffle: test, validation, then training) and batches a pairs file. */
 export function preparePairs(text: string, file: string, options: PairsPrepareOptions): PairsPrepared {
   const pairs = readPairs(text, file, options);
   const count = pairs.sources.length;
-  const held = Math.max(1, Math.round(count * options.validationShare));
-  if (count - held < 1) fail('bad_data', file, 'at least two pairs (one to train on, one held out)', `${count}`);
+  const testCount = Math.max(1, Math.round(count * options.testShare));
+  const validationCount = Math.max(1, Math.round(count * options.validationShare));
+  if (count - testCount - validationCount < 1) fail('bad_data', file, `at least ${testCount + validationCount + 1} pairs (one to train on, ${validationCount} for validation and ${testCount} for the test)`, `${count}`);
   const sourceVocabulary = [UNKNOWN_TOKEN, ...[...new Set(pairs.sources.flat())].sort()];
   const targetVocabulary = [START_TOKEN, END_TOKEN, ...[...new Set(pairs.targets.flat())].sort()];
   const sourceIds = new Map(sourceVocabulary.map((t, i) => [t, i]));
   const targetIds = new Map(targetVocabulary.map((t, i) => [t, i]));
   const order = seededOrder(count, options.seed);
   const toPair = (k: number): TokenPair => ({ source: pairs.sources[k].map((t) => sourceIds.get(t) as number), target: pairs.targets[k].map((t) => targetIds.get(t) as number) });
-  const trainRows = order.slice(0, count - held);
-  const heldRows = order.slice(count - held);
+  const testRows = order.slice(0, testCount);
+  const validationRows = order.slice(testCount, testCount + validationCount);
+  const trainRows = order.slice(testCount + validationCount);
   const batchOptions = { batchSize: options.batch, startToken: START, endToken: END, seed: options.seed };
+  // The most frequent target of the training pairs (the first in file order on ties): a baseline that ignores the source.
+  const frequency = new Map<string, number>();
+  for (const k of trainRows) {
+    const joined = textOf(pairs.targets[k], options.tokens);
+    frequency.set(joined, (frequency.get(joined) ?? 0) + 1);
+  }
+  let mostFrequent = pairs.targets[trainRows[0]];
+  let most = 0;
+  for (const k of [...trainRows].sort((a, b) => a - b)) {
+    const n = frequency.get(textOf(pairs.targets[k], options.tokens)) ?? 0;
+    if (n > most) [mostFrequent, most] = [pairs.targets[k], n];
+  }
   const metadata: WeightMetadata = {
     task: 'transduction',
     tokens: options.tokens,
@@ -118,22 +133,27 @@ export function preparePairs(text: string, file: string, options: PairsPrepareOp
     sourceColumn: options.sourceColumn,
     targetColumn: options.targetColumn,
     maxTarget: options.maxTarget,
+    mostFrequentTarget: mostFrequent,
+    split: { kind: 'pairs', seed: options.seed, pairs: count, trainingPairs: trainRows.length, validationPairs: validationRows.length, testPairs: testRows.length },
   };
-  const longest = Math.max(...pairs.sources.map((s) => s.length));
+  let longest = 0;
+  for (const s of pairs.sources) longest = Math.max(longest, s.length);
+  const partsLine = `parts of ${file}, a seeded shuffle (seed ${options.seed}): training ${trainRows.length} pairs; validation, for stopping and keeping weights, ${validationRows.length}; test, scored once at the end, ${testRows.length}`;
   return {
     task: 'pairs',
     train: pairBatches(trainRows.map(toPair), batchOptions),
-    validation: pairBatches(heldRows.map(toPair), { ...batchOptions, batchSize: Math.max(options.batch, 32) }),
+    validation: pairBatches(validationRows.map(toPair), { ...batchOptions, batchSize: Math.max(options.batch, 32) }),
     metadata,
-    notes: [`${count} pairs (${trainRows.length} to train on, ${heldRows.length} held out); ${sourceVocabulary.length - 1} source and ${targetVocabulary.length - 2} target ${options.tokens}; longest source ${longest}`],
+    notes: [`${count} pairs; ${sourceVocabulary.length - 1} source and ${targetVocabulary.length - 2} target ${options.tokens}; longest source ${longest}`],
     sourceVocabulary,
     targetVocabulary,
-    heldOutRows: heldRows,
+    heldOutRows: testRows,
     heldOut: (model) => {
       const runtime = runtimeOf(model, metadata);
-      const sources = heldRows.map((k) => pairs.sources[k]);
-      const references = heldRows.map((k) => pairs.targets[k]);
-      return transductionReport(runtime, { sourceVocabulary, targetVocabulary, maxTarget: options.maxTarget }, sources, references, `${heldRows.length} pairs of ${file} (a seeded ${Math.round(options.validationShare * 100)}% share)`, 1);
+      const sources = testRows.map((k) => pairs.sources[k]);
+      const references = testRows.map((k) => pairs.targets[k]);
+      const report = transductionReport(runtime, { sourceVocabulary, targetVocabulary, maxTarget: options.maxTarget }, sources, references, `${testRows.length} test pairs of ${file}, drawn at random (seed ${options.seed}), used for neither training nor stopping`, 1, mostFrequent);
+      return { ...report, context: [partsLine] };
     },
   };
 }
@@ -210,15 +230,18 @@ function scores(outputs: readonly (readonly string[])[], references: readonly (r
   return { name, description, value: exact, transduction: { exactMatch: exact, tokenAccuracy: tokenAccuracy(outputs, references), bleu } };
 }
 
-/** The model's decoding and the copy baseline on the same pairs. */
-export function transductionReport(runtime: EncoderDecoderRuntime, meta: Pick<TransductionMeta, 'sourceVocabulary' | 'targetVocabulary' | 'maxTarget'>, sources: readonly string[][], references: readonly string[][], what: string, beam: number): HeldOutReport {
+/** The model's decoding, the copy baseline and (when known) the most frequent training target on the same pairs. */
+export function transductionReport(runtime: EncoderDecoderRuntime, meta: Pick<TransductionMeta, 'sourceVocabulary' | 'targetVocabulary' | 'maxTarget'>, sources: readonly string[][], references: readonly string[][], what: string, beam: number, mostFrequent: readonly string[] | null = null): HeldOutReport {
   const outputs = sources.map((source) => decodeText(runtime, meta, source, beam).output);
   return {
     metric: 'exact match',
     lowerIsBetter: false,
     what,
     model: scores(outputs, references, 'model', beam > 1 ? `beam search, width ${beam}` : 'greedy decoding'),
-    baselines: [scores(sources, references, 'copy', 'the source itself as the output')],
+    baselines: [
+      scores(sources, references, 'copy', 'the source itself as the output'),
+      ...(mostFrequent === null ? [] : [scores(sources.map(() => mostFrequent), references, 'most frequent target', 'the most frequent target of the training pairs, whatever the source')]),
+    ],
     names: [],
   };
 }

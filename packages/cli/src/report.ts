@@ -8,9 +8,11 @@ import type { Contender, HeldOutReport } from './datasets.js';
 const figure = (v: number): string => (Number.isFinite(v) ? Number(v.toPrecision(4)).toString() : String(v));
 const percent = (v: number): string => `${(100 * v).toFixed(1)}%`;
 
-function errorsText(e: ForecastErrors | undefined): string {
+function errorsText(e: ForecastErrors | undefined, units = true): string {
   if (e === undefined) return '';
-  return `MAE ${figure(e.mae)}  RMSE ${figure(e.rmse)}  MAPE ${e.mape === null ? 'undefined (every actual value is 0)' : `${e.mape.toFixed(1)}%`}`;
+  const scaleFree = `sMAPE ${e.smape === null ? 'undefined' : `${e.smape.toFixed(1)}%`}${e.mase === null ? '' : `  MASE ${figure(e.mase)}`}`;
+  if (!units) return scaleFree;
+  return `MAE ${figure(e.mae)}  RMSE ${figure(e.rmse)}  MAPE ${e.mape === null ? 'undefined (every actual value is 0)' : `${e.mape.toFixed(1)}%`}  ${scaleFree}`;
 }
 
 /** The contender that the verdict measures the model against: the best baseline. */
@@ -33,9 +35,11 @@ export function verdict(report: HeldOutReport): string {
   const gap = Math.abs(m - best.value);
   const units = report.metric === 'MAE' ? ' in the data\'s units' : '';
   const relative = best.value === 0 ? '' : `, ${((100 * gap) / best.value).toFixed(1)}%`;
+  // Beside the data's units, the scale-free figure (MASE) when there is one.
+  const mase = report.metric === 'MAE' && report.model.overall?.mase != null && best.overall?.mase != null ? `; MASE ${figure(report.model.overall.mase)} against ${figure(best.overall.mase)}` : '';
   return better
-    ? `verdict: the model beats every baseline: ${report.metric} ${figure(m)} against ${figure(best.value)} for the best baseline, ${best.name} (${figure(gap)} lower${units}${relative})`
-    : `verdict: the model does NOT beat the baseline ${best.name}: ${report.metric} ${figure(m)} against its ${figure(best.value)} (${figure(gap)} ${m === best.value ? 'apart' : 'higher'}${units}${relative}); train longer (--epochs, --patience), on more data, or use the baseline`;
+    ? `verdict: the model beats every baseline: ${report.metric} ${figure(m)} against ${figure(best.value)} for the best baseline, ${best.name} (${figure(gap)} lower${units}${relative}${mase})`
+    : `verdict: the model does NOT beat the baseline ${best.name}: ${report.metric} ${figure(m)} against its ${figure(best.value)} (${figure(gap)} ${m === best.value ? 'apart' : 'higher'}${units}${relative}${mase}); use the baseline, or train longer (--epochs, --patience), on more data, or with other settings`;
 }
 
 function classLines(scores: ClassificationReport, names: readonly string[]): string[] {
@@ -54,19 +58,25 @@ function classLines(scores: ClassificationReport, names: readonly string[]): str
 
 /** Every line of a held-out comparison: what was held out, a line per contender, details, and the verdict. */
 export function reportLines(report: HeldOutReport): string[] {
-  const lines = [`held out: ${report.what}`];
+  const lines = [...(report.context ?? []), `test: ${report.what}`];
   const all = [report.model, ...report.baselines];
   const width = Math.max(...all.map((c) => c.name.length));
+  // With several targets in different units, the rows show scale-free figures only; MAE follows per target.
+  const several = report.names.length > 1 && report.model.perTarget !== undefined;
   for (const c of all) {
     const name = c.name.padEnd(width);
     const how = c.description === '' ? '' : `  (${c.description})`;
-    if (c.overall !== undefined) lines.push(`  ${name}  ${errorsText(c.overall)}${how}`);
+    if (c.overall !== undefined) lines.push(`  ${name}  ${errorsText(c.overall, !several)}${how}`);
     else if (c.transduction !== undefined) lines.push(`  ${name}  exact match ${percent(c.transduction.exactMatch)}  token accuracy ${percent(c.transduction.tokenAccuracy)}  BLEU ${figure(c.transduction.bleu)}${how}`);
     else if (c.scores !== undefined) lines.push(`  ${name}  accuracy ${percent(c.scores.accuracy)}  macro-F1 ${figure(c.scores.macroF1)}${how}`);
     else lines.push(`  ${name}  ${report.metric} ${figure(c.value)}${how}`);
   }
-  if (report.names.length > 1 && report.model.perTarget !== undefined) {
-    report.names.forEach((name, k) => lines.push(`  model on ${name}: ${errorsText(report.model.perTarget?.[k])}`));
+  if (several) {
+    const best = bestOf(report);
+    report.names.forEach((name, k) => {
+      lines.push(`  ${name}: model ${errorsText(report.model.perTarget?.[k])}`);
+      lines.push(`  ${' '.repeat(name.length)}  ${best.name} ${errorsText(best.perTarget?.[k])}`);
+    });
   }
   if (report.model.scores !== undefined) lines.push(...classLines(report.model.scores, report.names));
   lines.push(verdict(report));

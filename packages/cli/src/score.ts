@@ -1,18 +1,20 @@
 /**
  * `weft score MODEL DATA`: how good a trained model is on a labelled file, beside the baselines, in the data's
- * units. Forecast models: MAE, RMSE and MAPE per target over every row whose target row is in the file (the
- * model's state starts at zero on the first row), against persistence, the training mean (recorded in the weight
- * file), seasonal naive (`--season ROWS`, or detected in the file) and a linear least-squares fit made on the
- * file itself (so it is flattered: it has seen the answers). Classifiers: accuracy, per-class precision, recall
- * and F1, macro-F1, the counts by actual and predicted class, against always predicting the file's most common
- * class. Next-token models: perplexity against a uniform guess over the vocabulary. Encoder-decoders (pairs): exact
- * match, token accuracy and corpus BLEU against copying the source (transduce.ts). Plain text, or
+ * units and scale-free. The file is cut as `weft train` cuts its data: a scored part (the end of a series or text,
+ * a seeded share of sequences or pairs) and the rest, on which the baselines are fitted; when the file is the one
+ * the model was trained on (its SHA-256 matches the weight file's record) the scored part is that run's own test
+ * part, so `score` repeats `train`'s verdict, and a scored part that overlaps the rows trained on or stopped by is
+ * named in a warning. Forecasts: MAE, RMSE, MAPE, sMAPE and MASE per target (the model's state starts at zero on
+ * the first row and runs through every row) against the same forecasting baselines and season rule as `train`.
+ * Classifiers: accuracy, per-class precision, recall and F1, macro-F1 and the counts by class, against the
+ * majority class and a logistic regression on summary features. Next-token models: perplexity against unigram and
+ * Kneser-Ney n-gram models. Encoder-decoders: exact match, token accuracy and BLEU (transduce.ts). Plain text, or
  * `--format json` for scripts.
  */
 import { existsSync, readFileSync } from 'node:fs';
-import { fail, logSumExp } from '@weft/core';
-import { classificationReport, createTranslator, detectSeason, fieldPath, fitLinear, numberAt, parseTable, readStepTable, scoreForecaster } from '@weft/io';
-import type { SeriesSplit, Table } from '@weft/io';
+import { Random, fail, logSumExp } from '@weft/core';
+import { KneserNeyModel, chooseLogistic, chooseNgramOrder, classificationReport, createTranslator, fieldPath, forecastBaselines, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures } from '@weft/io';
+import type { Table, WeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
@@ -20,14 +22,18 @@ import type { Runtime } from '@weft/io/runtime';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
-import type { Contender, HeldOutReport } from './datasets.js';
+import { forecastReport } from './datasets.js';
+import { DEFAULT_SHARE, scoredCount, scoredItems } from './scored-part.js';
+import type { ScoredPart } from './scored-part.js';
+import type { HeldOutReport } from './datasets.js';
 import { CommandError } from './errors.js';
 import { scoreTransduction } from './transduce.js';
 import { reportJson, reportLines } from './report.js';
 
 export const scoreFlags: FlagSpec[] = [
   { name: 'format', value: 'text|json', description: 'plain text, or JSON for scripts', fallback: 'text' },
-  { name: 'season', value: 'ROWS|none', description: 'season for the seasonal-naive baseline (forecast)', fallback: 'detected in the file' },
+  { name: 'season', value: 'ROWS|none', description: 'season for the seasonal baselines (forecast)', fallback: 'as weft train chooses it: the time column\'s spacing or the differences\' autocorrelation' },
+  { name: 'test', value: 'SHARE', description: 'share of the file scored (the end of a series or text, a seeded share of sequences); the rest fits the baselines', fallback: 'the training run\'s test part when this is its data file, else 0.2' },
   { name: 'label-column', value: 'NAME', description: 'label column of a classify CSV', fallback: 'label' },
   { name: 'beam', value: 'WIDTH', description: 'decode by beam search of this width (pairs)', fallback: '1' },
   backendFlag,
@@ -47,24 +53,32 @@ export async function score(args: ParsedArgs): Promise<string> {
   const format = choiceFlag(args, 'format', ['text', 'json'] as const, 'text');
   if (!existsSync(dataPath)) throw new CommandError(`${dataPath}: no such file`);
   const file = await loadWeightFile(modelPath);
+  const bytes = readFileSync(dataPath);
+  const training = file.metadata.training as Record<string, unknown> | undefined;
+  const split = typeof file.metadata.split === 'object' && file.metadata.split !== null ? (file.metadata.split as Record<string, unknown>) : null;
+  const part: ScoredPart = {
+    share: args.flags.has('test') ? numberFlag(args, 'test', DEFAULT_SHARE, { min: 0.01, max: 0.99 }) : undefined,
+    trainedOn: typeof training?.dataDigest === 'string' && training.dataDigest === (await sha256Hex(new Uint8Array(bytes))),
+    split,
+  };
   if (isEncoderDecoder(file.model)) {
-    const report = await scoreTransduction(file, args, modelPath, dataPath);
+    const report = await scoreTransduction(file, args, modelPath, dataPath, part);
     return format === 'json' ? `${JSON.stringify(reportJson(report), null, 2)}\n` : `${reportLines(report).join('\n')}\n`;
   }
   const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
   const meta = file.metadata as Record<string, unknown>;
-  const text = readFileSync(dataPath, 'utf8');
+  const text = bytes.toString('utf8');
   const season = args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined;
   const report =
-    meta.task === 'forecast' ? scoreForecast(runtime, meta, text, dataPath, season)
-      : meta.task === 'classification' ? scoreClassifier(runtime, meta, text, dataPath, args.flags.get('label-column') ?? 'label')
-        : meta.task === 'next-token' ? scoreText(runtime, meta, text, dataPath)
+    meta.task === 'forecast' ? scoreForecast(runtime, meta, text, dataPath, season, part)
+      : meta.task === 'classification' ? scoreClassifier(runtime, meta, text, dataPath, args.flags.get('label-column') ?? 'label', part)
+        : meta.task === 'next-token' ? scoreText(runtime, meta, text, dataPath, part)
           : null;
   if (report === null) throw new CommandError(`${modelPath}: its metadata names no task weft score knows (${JSON.stringify(meta.task)}); expected forecast, classification or next-token`);
   return format === 'json' ? `${JSON.stringify(reportJson(report), null, 2)}\n` : `${reportLines(report).join('\n')}\n`;
 }
 
-function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, season: number | null | undefined): HeldOutReport {
+function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, season: number | null | undefined, part: ScoredPart): HeldOutReport {
   const translator = createTranslator(meta);
   const table = parseTable(text, { file: name });
   const at = translator.inputNames.map((c) => {
@@ -75,8 +89,17 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   const horizon = Number(meta.horizon);
   const values = table.rows.map((_, r) => at.map((c) => numberAt(table, r, c)));
   const targets = translator.outputNames.map((t) => translator.inputNames.indexOf(t));
-  if (values.length <= horizon + 1) throw new CommandError(`${name}: ${values.length} rows are too few to score forecasts ${horizon} rows ahead`);
-  // The model's forecast made at every row, in real units.
+  const rows = values.length;
+  if (rows < horizon + 4) throw new CommandError(`${name}: ${rows} rows are too few to score forecasts ${horizon} rows ahead`);
+  const time = readTimeColumn(table, typeof meta.timeColumn === 'string' && table.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
+  const { scored, warning, same } = scoredCount(rows, part, 'series', { all: 'rows', test: 'testRows', fitted: ['trainingRows', 'validationRows'] });
+  if (scored < horizon) fail('invalid_option', '--test', `a share leaving at least ${horizon} scored rows (the horizon) of the ${rows}`, `${part.share} (${scored} rows)`);
+  const testStart = rows - scored;
+  if (testStart < 3) fail('invalid_option', '--test', `a share leaving at least 3 rows to fit the baselines on, of the ${rows}`, `${part.share} (${testStart} rows)`);
+  if (season !== undefined && season !== null && !(season < testStart)) {
+    fail('invalid_option', `${name}:${table.rows[testStart - 1].line}:1 (--season)`, `a season shorter than the ${testStart} rows before the scored ones, which end at this line`, String(season));
+  }
+  // The model's forecast made at every row, in real units, its state running from the first row.
   const streams = runtime.streams(1);
   const input = new Float32Array(at.length);
   const row: Record<string, number> = {};
@@ -84,41 +107,23 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
     translator.inputNames.forEach((c, j) => (row[c] = v[j]));
     return Object.values(translator.outputs(streams.step(translator.inputs(row, input))));
   });
-  const firstTarget = values.map((v) => v[targets[0]]);
-  const chosenSeason = season === undefined ? detectSeason(firstTarget) : season;
-  if (chosenSeason !== null && !(chosenSeason < values.length - horizon)) {
-    fail('invalid_option', `${name}:${table.rows[table.rows.length - 1].line}:1 (--season)`, `a season shorter than the ${values.length - horizon} rows that have a target row, which end near this line`, String(chosenSeason));
-  }
-  const back = chosenSeason === null ? 0 : Math.ceil(horizon / chosenSeason) * chosenSeason;
-  const first = Math.max(0, back - horizon);
   const positions: number[] = [];
-  for (let t = first; t + horizon < values.length; t++) positions.push(t);
-  const split: SeriesSplit = { values, targets, horizon, trainRows: values.length, positions };
-  const normalisation = meta.normalisation as { mean: number[] };
-  const contender = (name: string, description: string, forecast: (t: number, k: number) => number): Contender => {
-    const scored = scoreForecaster(split, forecast);
-    return { name, description, value: scored.overall.mae, perTarget: scored.perTarget, overall: scored.overall };
-  };
-  const weights = fitLinear(split);
-  const baselines = [
-    contender('persistence', `the value now, as the forecast ${horizon} row${horizon === 1 ? '' : 's'} ahead`, (t, k) => values[t][targets[k]]),
-    contender('training mean', 'the mean of the training rows, from the weight file', (_t, k) => normalisation.mean[targets[k]]),
-    ...(chosenSeason === null ? [] : [contender('seasonal naive', `the value one season (${chosenSeason} rows) before the forecast row`, (t, k) => values[t + horizon - back][targets[k]])]),
-    contender('linear', 'least squares on the current inputs, fitted on this file itself, so it has seen the answers', (t, k) => {
-      let s = weights[k][0];
-      for (let c = 0; c < values[t].length; c++) s += weights[k][c + 1] * values[t][c];
-      return s;
-    }),
-  ];
-  const model = contender('model', '', (t, k) => forecasts[t][k]);
-  return {
-    metric: 'MAE',
-    lowerIsBetter: true,
-    what: `${positions.length} forecasts of ${translator.outputNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, over ${name} (the model's state starts at zero on its first row)`,
-    model,
-    baselines,
+  for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
+  const split = { values, targets, horizon, fitRows: testStart, positions };
+  const baselines = forecastBaselines(split, { season, spacing: time?.spacing ?? null });
+  const lines = `lines ${table.rows[testStart].line}–${table.rows[rows - 1].line} (${scored} rows)`;
+  return forecastReport({
+    what: `${positions.length} forecasts of ${translator.outputNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
+    model: scoreForecaster(split, (t, k) => forecasts[t][k], baselines.scales),
+    baselines: baselines.scores,
     names: translator.outputNames,
-  };
+    context: [
+      ...(warning === null ? [] : [warning]),
+      `the model's state starts at zero on line ${table.rows[0].line} and runs through every row; the baselines are fitted on lines ${table.rows[0].line}–${table.rows[testStart - 1].line}, the rows before the scored ones`,
+      `${baselines.season.reason}${season === undefined ? ' (--season to choose another, or none)' : ''}`,
+      ...baselines.leftOut.map((l) => `left out: ${l}`),
+    ],
+  });
 }
 
 /** The class probabilities of every sequence of a long table (one step per row), in the order ids first appear. */
@@ -146,83 +151,125 @@ export function classifyStepTable(runtime: Runtime, meta: Record<string, unknown
   });
 }
 
-function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, labelColumn: string): HeldOutReport {
+function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, labelColumn: string, part: ScoredPart): HeldOutReport {
   const translator = createTranslator(meta);
   const classes = translator.outputNames;
   const table = parseTable(text, { file: name });
+  // Every labelled sequence: its class, the model's prediction and the baseline's summary features.
+  const items: { actual: number; predicted: number; features: number[] }[] = [];
+  let unit = 'labelled sequences';
   if (typeof meta.idColumn === 'string') {
     const labelAt = table.header.indexOf(labelColumn);
+    const read = readStepTable(table, { idColumn: String(meta.idColumn), stepColumn: typeof meta.stepColumn === 'string' ? meta.stepColumn : undefined, labelColumn, columns: translator.inputNames });
     const results = classifyStepTable(runtime, meta, table, labelColumn);
-    const actual = results.map((r) => {
+    results.forEach((r, i) => {
       const k = classes.indexOf(r.label as string);
       if (k < 0) throw new CommandError(`${name}:${r.line}:${table.rows.find((row) => row.line === r.line)?.starts[labelAt] ?? 1}: ${JSON.stringify((r.label ?? '').slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
-      return k;
+      let best = 0;
+      for (let j = 1; j < r.probabilities.length; j++) if (r.probabilities[j] > r.probabilities[best]) best = j;
+      const steps = read.sequences[i].steps;
+      items.push({ actual: k, predicted: best, features: summaryFeatures(steps.flat(), steps.length, translator.inputNames.length) });
     });
-    const predicted = results.map((r) => r.probabilities.indexOf(Math.max(...r.probabilities)));
-    return classifierReport(actual, predicted, classes, `${results.length} labelled sequences (${table.rows.length} step rows) of ${name}`);
+    unit = `labelled sequences (${table.rows.length} step rows)`;
+  } else {
+    const sequenceColumn = String(meta.sequenceColumn ?? 'sequence');
+    const labelAt = table.header.indexOf(labelColumn);
+    const sequenceAt = table.header.indexOf(sequenceColumn);
+    if (labelAt < 0 || sequenceAt < 0) throw new CommandError(`${name}: needs columns ${JSON.stringify(labelColumn)} and ${JSON.stringify(sequenceColumn)} to score; found ${table.header.join(', ')}`, 2);
+    const tokens = Array.isArray(meta.vocabulary) && meta.vocabulary.length > 0;
+    const vocabulary = tokens ? (meta.vocabulary as unknown[]).length : 0;
+    const norm = meta.normalisation as { mean: number[]; deviation: number[] } | undefined;
+    table.rows.forEach((r, i) => {
+      const label = r.fields[labelAt].trim();
+      const k = classes.indexOf(label);
+      if (k < 0) throw new CommandError(`${fieldPath(table, i, labelAt)}: ${JSON.stringify(label.slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
+      const pieces = r.fields[sequenceAt].trim().split(/\s+/).filter((s) => s !== '');
+      if (pieces.length === 0) fail('bad_data', fieldPath(table, i, sequenceAt), 'a sequence of at least one item', 'an empty field');
+      const raw = tokens ? null : pieces.map((s, j) => {
+        const v = Number(s);
+        if (!Number.isFinite(v)) throw new CommandError(`${fieldPath(table, i, sequenceAt)}: item ${j + 1} ${JSON.stringify(s.slice(0, 80))} is not a number`);
+        return v;
+      });
+      const ids = tokens ? translator.tokenIds(pieces.join(' ')).ids : null;
+      const input = ids ?? Float32Array.from(raw!, (v) => (v - (norm?.mean[0] ?? 0)) / (norm?.deviation[0] ?? 1));
+      const out = runtime.run(input, pieces.length, 1);
+      let features: number[];
+      if (ids !== null) {
+        features = new Array<number>(vocabulary).fill(0);
+        for (const id of ids) features[id] += 1 / ids.length;
+        features.push(ids.length);
+      } else features = summaryFeatures(raw!, raw!.length, 1);
+      items.push({ actual: k, predicted: logits(out.subarray((pieces.length - 1) * classes.length, pieces.length * classes.length)).best, features });
+    });
   }
-  const sequenceColumn = String(meta.sequenceColumn ?? 'sequence');
-  const labelAt = table.header.indexOf(labelColumn);
-  const sequenceAt = table.header.indexOf(sequenceColumn);
-  if (labelAt < 0 || sequenceAt < 0) throw new CommandError(`${name}: needs columns ${JSON.stringify(labelColumn)} and ${JSON.stringify(sequenceColumn)} to score; found ${table.header.join(', ')}`, 2);
-  const tokens = Array.isArray(meta.vocabulary) && meta.vocabulary.length > 0;
-  const norm = meta.normalisation as { mean: number[]; deviation: number[] } | undefined;
-  const actual: number[] = [];
-  const predicted: number[] = [];
-  table.rows.forEach((r, i) => {
-    const label = r.fields[labelAt].trim();
-    const k = classes.indexOf(label);
-    if (k < 0) throw new CommandError(`${fieldPath(table, i, labelAt)}: ${JSON.stringify(label.slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
-    const items = r.fields[sequenceAt].trim().split(/\s+/).filter((s) => s !== '');
-    if (items.length === 0) fail('bad_data', fieldPath(table, i, sequenceAt), 'a sequence of at least one item', 'an empty field');
-    const input = tokens
-      ? translator.tokenIds(items.join(' ')).ids
-      : Float32Array.from(items, (s, j) => {
-          const v = Number(s);
-          if (!Number.isFinite(v)) throw new CommandError(`${fieldPath(table, i, sequenceAt)}: item ${j + 1} ${JSON.stringify(s.slice(0, 80))} is not a number`);
-          return (v - (norm?.mean[0] ?? 0)) / (norm?.deviation[0] ?? 1);
-        });
-    const out = runtime.run(input, items.length, 1);
-    predicted.push(logits(out.subarray((items.length - 1) * classes.length, items.length * classes.length)).best);
-    actual.push(k);
-  });
-  return classifierReport(actual, predicted, classes, `${actual.length} labelled sequences of ${name}`);
-}
-
-function classifierReport(actual: number[], predicted: number[], classes: readonly string[], what: string): HeldOutReport {
-  const counts = classes.map((_, k) => actual.filter((a) => a === k).length);
+  if (items.length < 3) throw new CommandError(`${name}: ${items.length} labelled sequences are too few to score beside baselines fitted on others (at least 3)`);
+  const { scored, warning, same } = scoredItems(items.length, part, 'sequences', { all: 'sequences', test: 'testSequences', fitted: ['trainingSequences', 'validationSequences'] }, (seed) => new Random(`${seed}:split`));
+  const test = items.filter((_, i) => scored.has(i));
+  const fit = items.filter((_, i) => !scored.has(i));
+  // The baselines learn from the sequences not scored: the majority class, and the logistic regression with its
+  // penalty chosen on every fifth of them.
+  const counts = classes.map((_, k) => fit.filter((q) => q.actual === k).length);
   const majorityClass = counts.indexOf(Math.max(...counts));
-  const scores = classificationReport(actual, predicted, classes.length);
+  const learn = fit.filter((_, i) => i % 5 !== 4 || fit.length < 5);
+  const check = fit.length < 5 ? fit : fit.filter((_, i) => i % 5 === 4);
+  const logistic = chooseLogistic(learn.map((q) => q.features), learn.map((q) => q.actual), check.map((q) => q.features), check.map((q) => q.actual), classes.length);
+  const actual = test.map((q) => q.actual);
+  const scores = classificationReport(actual, test.map((q) => q.predicted), classes.length);
   const majority = classificationReport(actual, actual.map(() => majorityClass), classes.length);
+  const regression = classificationReport(actual, test.map((q) => predictLogistic(logistic, q.features)), classes.length);
   return {
     metric: 'accuracy',
     lowerIsBetter: false,
-    what,
+    what: `${test.length} of the ${items.length} ${unit} of ${name}${same ? ', the training run\'s test part' : ', drawn at random'}`,
     model: { name: 'model', description: '', value: scores.accuracy, scores },
-    baselines: [{ name: 'majority class', description: `always ${JSON.stringify(classes[majorityClass])}, the most common class in this file`, value: majority.accuracy, scores: majority }],
+    baselines: [
+      { name: 'majority class', description: `always ${JSON.stringify(classes[majorityClass])}, the most common class of the ${fit.length} sequences not scored`, value: majority.accuracy, scores: majority },
+      { name: 'logistic regression', description: `on summary features of each sequence, fitted on the ${fit.length} sequences not scored (L2 penalty ${logistic.penalty})`, value: regression.accuracy, scores: regression },
+    ],
     names: classes,
+    context: warning === null ? [] : [warning],
   };
 }
 
-function scoreText(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string): HeldOutReport {
+/** Tokens of warm-up before the first scored token: state only. */
+const WARM_UP = 256;
+
+function scoreText(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, part: ScoredPart): HeldOutReport {
   const translator = createTranslator(meta);
   const { ids, pieces, unknown } = translator.tokenIds(text);
-  if (ids.length < 2) throw new CommandError(`${name}: fewer than two tokens to score`);
+  if (ids.length < 10) throw new CommandError(`${name}: ${ids.length} tokens are too few to score beside baselines counted on the text before them (at least 10)`);
+  const { scored, warning, same } = scoredCount(ids.length, part, 'text', { all: 'tokens', test: 'testTokens', fitted: ['trainingTokens', 'validationTokens'] });
+  const testStart = ids.length - scored;
   const streams = runtime.streams(1);
   const token = new Int32Array(1);
   let crossEntropy = 0;
-  for (let p = 0; p + 1 < ids.length; p++) {
+  for (let p = Math.max(0, testStart - 1 - WARM_UP); p + 1 < ids.length; p++) {
     token[0] = ids[p];
     const out = streams.step(token);
-    crossEntropy += logits(out).logSumExp - out[ids[p + 1]];
+    if (p + 1 >= testStart) crossEntropy += logits(out).logSumExp - out[ids[p + 1]];
   }
   const vocabulary = translator.outputNames.length;
+  // Baselines counted on the text before the scored part; the n-gram order chosen on its last fifth.
+  const fitted = ids.subarray(0, testStart);
+  const cut = Math.max(1, Math.round(testStart * 0.8));
+  const most = meta.tokens === 'words' ? 3 : 6;
+  const { order } = chooseNgramOrder(fitted.subarray(0, cut), fitted.subarray(cut), vocabulary, most);
+  const ngram = new KneserNeyModel(fitted, order, vocabulary);
+  const counts = new Float64Array(vocabulary).fill(1);
+  for (const id of fitted) counts[id]++;
+  const total = counts.reduce((sum, c) => sum + c, 0);
+  let unigram = 0;
+  for (let i = testStart; i < ids.length; i++) unigram -= Math.log(counts[ids[i]] / total);
   return {
     metric: 'perplexity',
     lowerIsBetter: true,
-    what: `${ids.length - 1} next-token predictions over ${name}${unknown > 0 ? ` (${unknown} of ${pieces.length} pieces not in the vocabulary, read as the unknown token)` : ''}`,
-    model: { name: 'model', description: '', value: Math.exp(crossEntropy / (ids.length - 1)) },
-    baselines: [{ name: 'uniform', description: `every one of the ${vocabulary} tokens alike`, value: vocabulary }],
+    what: `the last ${scored} tokens of ${name}${same ? ' (the training run\'s test part)' : ''}, each predicted from those before it${unknown > 0 ? ` (${unknown} of ${pieces.length} pieces of the file not in the vocabulary, read as the unknown token)` : ''}`,
+    model: { name: 'model', description: '', value: Math.exp(crossEntropy / scored) },
+    baselines: [
+      { name: 'unigram', description: `each token as often as in the ${testStart} tokens before (add-one)`, value: Math.exp(unigram / scored) },
+      { name: `${order}-gram`, description: `interpolated Kneser-Ney, counted on the ${testStart} tokens before, order ${order} of 1-${most} chosen on their last fifth`, value: Math.exp(ngram.crossEntropy(ids, testStart)) },
+    ],
     names: [],
+    context: warning === null ? [] : [warning],
   };
 }

@@ -5,7 +5,7 @@
  * draws what attention looked at while writing the first output.
  */
 import { readFileSync } from 'node:fs';
-import { fail } from '@weft/core';
+import { Random, fail } from '@weft/core';
 import { fieldPath, parseTable } from '@weft/io';
 import type { WeightFile } from '@weft/io';
 import { writeFileAtomic } from '@weft/io/node';
@@ -19,6 +19,8 @@ import { CommandError } from './errors.js';
 import { decodeText, readPairs, sourceIds, textOf, tokensOf, transductionMeta, transductionReport } from './pairs.js';
 import type { TransductionMeta } from './pairs.js';
 import type { HeldOutReport } from './datasets.js';
+import { scoredItems } from './scored-part.js';
+import type { ScoredPart } from './scored-part.js';
 
 async function open(file: WeightFile, args: ParsedArgs, path: string): Promise<{ runtime: EncoderDecoderRuntime; meta: TransductionMeta; beam: number }> {
   const runtime = await createEncoderDecoderRuntime(file, { backend: chooseBackend(args).name });
@@ -68,9 +70,18 @@ export async function runTransduction(file: WeightFile, args: ParsedArgs, modelP
   return `source,output\n${records.map((r) => `${csvCell(r.source)},${csvCell(r.output)}`).join('\n')}\n`;
 }
 
-/** `weft score` on a transduction model: exact match, token accuracy and BLEU on a pairs file, beside copying. */
-export async function scoreTransduction(file: WeightFile, args: ParsedArgs, modelPath: string, dataPath: string): Promise<HeldOutReport> {
+/** `weft score` on a transduction model: exact match, token accuracy and BLEU on a pairs file, beside copying and the most frequent training target (recorded in the weight file). */
+export async function scoreTransduction(file: WeightFile, args: ParsedArgs, modelPath: string, dataPath: string, part: ScoredPart): Promise<HeldOutReport> {
   const { runtime, meta, beam } = await open(file, args, modelPath);
   const pairs = readPairs(readFileSync(dataPath, 'utf8'), dataPath, { sourceColumn: meta.sourceColumn, targetColumn: meta.targetColumn, tokens: meta.tokens, maxTarget: Number.MAX_SAFE_INTEGER });
-  return transductionReport(runtime, meta, pairs.sources, pairs.targets, `${pairs.sources.length} pairs of ${dataPath}`, beam);
+  const recorded = file.metadata.mostFrequentTarget;
+  const mostFrequent = Array.isArray(recorded) && recorded.every((t) => typeof t === 'string') ? (recorded as string[]) : null;
+  // Every pair is scored, unless this is the file trained on: then the training run's own test part (or --test).
+  const count = pairs.sources.length;
+  const chosen = part.trainedOn || part.share !== undefined
+    ? scoredItems(count, part, 'pairs', { all: 'pairs', test: 'testPairs', fitted: ['trainingPairs', 'validationPairs'] }, (seed) => new Random(`pairs:${seed}`))
+    : null;
+  const keep = (_: unknown, i: number) => chosen === null || chosen.scored.has(i);
+  const report = transductionReport(runtime, meta, pairs.sources.filter(keep), pairs.targets.filter(keep), `${chosen === null ? count : chosen.scored.size} pairs of ${dataPath}${chosen?.same ? ', the training run\'s test part' : ''}`, beam, mostFrequent);
+  return chosen?.warning ? { ...report, context: [chosen.warning] } : report;
 }

@@ -28,7 +28,7 @@ export { fitSmoothing, initialStates, runSmoothing } from './data/smoothing.js';
 export type { ThetaForecast } from './data/theta.js';
 export { lineSlope, thetaForecasts } from './data/theta.js';
 export type { SeasonCandidate, SeasonChoice, Spacing } from './data/seasonality.js';
-export { SEASONS_BY_SPACING, autocorrelations, chooseSeason, differences, isSeasonal, seasonalIndices, seasonalityLimit } from './data/seasonality.js';
+export { autocorrelations, chooseSeason, differences, isSeasonal, seasonalIndices, seasonalityLimit } from './data/seasonality.js';
 export { KneserNeyModel, chooseNgramOrder } from './data/ngram.js';
 export type { LogisticModel } from './data/logistic.js';
 export { LOGISTIC_PENALTIES, chooseLogistic, fitLogistic, logisticLoss, predictLogistic, summaryFeatures } from './data/logistic.js';

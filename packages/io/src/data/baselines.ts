@@ -156,7 +156,7 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
     if (split.positions.every((t) => t + horizon - back >= 0)) {
       add('seasonal naive', `the value one season (${m} rows) before the forecast row${back > m ? ` (${back / m} seasons back)` : ''}`, (t, k) => columns[k][t + horizon - back]);
     } else leftOut.push(`seasonal naive: a scored row has no row ${back} rows before it`);
-  } else leftOut.push(`the seasonal methods (seasonal naive, Holt-Winters): ${season.reason}`);
+  } else leftOut.push('the seasonal methods (seasonal naive, Holt-Winters): no season');
   for (const { method, name, what } of SMOOTHING) {
     const seasonal = method === 'additive' || method === 'multiplicative';
     if (seasonal && m === null) continue;

@@ -3,8 +3,8 @@
  * - autocorrelation r_k = Σ (y_t − ȳ)(y_{t−k} − ȳ) / Σ (y_t − ȳ)² (Box & Jenkins; common practice);
  * - the 90% seasonality test of the M4 competition's benchmarks (Makridakis, Spiliotis & Assimakopoulos 2020):
  *   seasonal at period m when |r_m| > 1.645 · √((1 + 2 Σ_{k<m} r_k²) / n), and only with at least 3m rows;
- * - candidates from a time column's spacing (hours → 24 and 168, days → 7 and 365, weeks → 52, months → 12,
- *   quarters → 4, minutes → 60 and 1440), else from the autocorrelation of the differenced series (the trend
+ * - candidates from a time column's spacing (rows under a day apart → a day and a week of rows, so hours → 24 and
+ *   168; days → 7 and 365; weeks → 52; months → 12; quarters → 4; common practice), else from the autocorrelation of the differenced series (the trend
  *   removed, so a rising series does not look seasonal at every lag), each tested on the differences;
  * - classical decomposition's seasonal indices (Makridakis, Wheelwright & Hyndman, "Forecasting: Methods and
  *   Applications", 3rd ed., 1998, §4/3; common practice): a centred moving average of order m (2×m when m is
@@ -51,19 +51,13 @@ export function differences(series: ArrayLike<number>): Float64Array {
   return out;
 }
 
-/** How rows are spaced in time, as a time column says. */
-export type Spacing = 'minutes' | 'hours' | 'days' | 'weeks' | 'months' | 'quarters' | 'years';
-
-/** The seasons a forecaster tries first for a spacing (common practice). */
-export const SEASONS_BY_SPACING: Readonly<Record<Spacing, readonly number[]>> = {
-  minutes: [60, 1440],
-  hours: [24, 168],
-  days: [7, 365],
-  weeks: [52],
-  months: [12],
-  quarters: [4],
-  years: [],
-};
+/** How rows are spaced in time, as a time column says: in words, and the seasons a forecaster tries first. */
+export interface Spacing {
+  /** The gap between rows in words: "hours", "15 minutes", "days", "months", … */
+  readonly unit: string;
+  /** The seasons to try, in rows: a day and a week of rows under a day apart, 7 and 365 for days, … */
+  readonly seasons: readonly number[];
+}
 
 /** One season tried: its autocorrelation on the differences and the 90% limit it was held to. */
 export interface SeasonCandidate {
@@ -99,7 +93,7 @@ export function chooseSeason(series: ArrayLike<number>, spacing: Spacing | null 
   const fromTime = spacing !== null;
   let lags: number[];
   const most = Math.min(longest, Math.floor(n / 3));
-  if (fromTime) lags = [...SEASONS_BY_SPACING[spacing]];
+  if (fromTime) lags = [...spacing.seasons];
   else lags = [];
   const acf = autocorrelations(diff, Math.max(most + 1, ...lags, 1));
   if (!fromTime) {
@@ -133,7 +127,7 @@ export function chooseSeason(series: ArrayLike<number>, spacing: Spacing | null 
   // clearly to the day.
   const top = Math.max(-Infinity, ...candidates.filter((c) => c.rejected === null).map((c) => c.autocorrelation));
   const passing = candidates.filter((c) => c.rejected === null && c.autocorrelation >= top - 0.1).sort((a, b) => a.rows - b.rows);
-  const source = fromTime ? `the time column (rows ${spacing} apart)` : 'the autocorrelation of the differenced series';
+  const source = fromTime ? `the time column (rows ${spacing.unit} apart)` : 'the autocorrelation of the differenced series';
   if (passing.length === 0) {
     const tried = candidates.length === 0 ? 'no candidate peak' : candidates.map((c) => `${c.rows} rows: ${c.rejected}`).join('; ');
     return { season: null, reason: `no season: candidates from ${source}; ${tried}`, candidates };

@@ -49,13 +49,17 @@ export function timeSpacing(times: ArrayLike<number>): Spacing | null {
   gaps.sort((a, b) => a - b);
   const median = gaps[Math.floor(gaps.length / 2)];
   const near = (unit: number, low: number, high: number) => median >= unit * low && median <= unit * high;
-  if (median === MINUTE) return 'minutes';
-  if (median === HOUR) return 'hours';
-  if (median === DAY) return 'days';
-  if (median === 7 * DAY) return 'weeks';
-  if (near(DAY, 28, 31)) return 'months';
-  if (near(DAY, 89, 92)) return 'quarters';
-  if (near(DAY, 365, 366)) return 'years';
+  if (median > 0 && median < DAY && DAY % median === 0) {
+    const perDay = DAY / median;
+    const unit = median % HOUR === 0 ? (median === HOUR ? 'hours' : `${median / HOUR} hours`)
+      : median % MINUTE === 0 ? (median === MINUTE ? 'minutes' : `${median / MINUTE} minutes`) : `${median / 1000} seconds`;
+    return { unit, seasons: perDay * 7 <= 100_000 ? [perDay, perDay * 7] : [perDay] };
+  }
+  if (median === DAY) return { unit: 'days', seasons: [7, 365] };
+  if (median === 7 * DAY) return { unit: 'weeks', seasons: [52] };
+  if (near(DAY, 28, 31)) return { unit: 'months', seasons: [12] };
+  if (near(DAY, 89, 92)) return { unit: 'quarters', seasons: [4] };
+  if (near(DAY, 365, 366)) return { unit: 'years', seasons: [] };
   return null;
 }
 

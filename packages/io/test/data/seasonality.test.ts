@@ -31,7 +31,7 @@ describe('seasons', () => {
   });
 
   it('finds the 24-row season of a trending series from hourly times, and says why', () => {
-    const choice = chooseSeason(trendingDaily, 'hours');
+    const choice = chooseSeason(trendingDaily, { unit: 'hours', seasons: [24, 168] });
     expect(choice.season).toBe(24);
     expect(choice.reason).toMatch(/^season of 24 rows from the time column \(rows hours apart\): autocorrelation of the differences 0\.\d{3}, above the 90% limit 0\.\d{3}$/);
     expect(choice.candidates.map((c) => c.rows)).toEqual([24, 168]);
@@ -44,7 +44,7 @@ describe('seasons', () => {
   it('finds no season in a random walk and names every candidate it rejected', () => {
     let level = 0;
     const walk = Array.from({ length: 500 }, () => (level += random.normal()));
-    const choice = chooseSeason(walk, 'days');
+    const choice = chooseSeason(walk, { unit: 'days', seasons: [7, 365] });
     expect(choice.season).toBeNull();
     expect(choice.reason).toContain('7 rows: autocorrelation of the differences');
     expect(choice.reason).toContain('365 rows: fewer than 3 seasons');

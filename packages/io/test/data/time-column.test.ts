@@ -22,12 +22,13 @@ describe('times in a column', () => {
     for (const text of ['2023-02-29', '2024-13', '2024-04-31', '2024-01-01T24:00', 'Jan 1 2000', '', '12.5']) expect(parseTime(text)).toBeNaN();
   });
 
-  it('names the spacing of hourly, daily, monthly and quarterly rows, and none for irregular ones', () => {
+  it('names the spacing of hourly, quarter-hourly, daily, monthly and quarterly rows and their seasons, and none for irregular ones', () => {
     const hours = Array.from({ length: 10 }, (_, i) => Date.UTC(2024, 0, 1, i));
-    expect(timeSpacing(hours)).toBe('hours');
-    expect(timeSpacing(Array.from({ length: 10 }, (_, i) => Date.UTC(2024, 0, 1 + i)))).toBe('days');
-    expect(timeSpacing(Array.from({ length: 30 }, (_, i) => Date.UTC(2000, i, 1)))).toBe('months');
-    expect(timeSpacing(Array.from({ length: 12 }, (_, i) => Date.UTC(2000, 3 * i, 1)))).toBe('quarters');
+    expect(timeSpacing(hours)).toEqual({ unit: 'hours', seasons: [24, 168] });
+    expect(timeSpacing(Array.from({ length: 10 }, (_, i) => Date.UTC(2024, 0, 1, 0, 15 * i)))).toEqual({ unit: '15 minutes', seasons: [96, 672] });
+    expect(timeSpacing(Array.from({ length: 10 }, (_, i) => Date.UTC(2024, 0, 1 + i)))).toEqual({ unit: 'days', seasons: [7, 365] });
+    expect(timeSpacing(Array.from({ length: 30 }, (_, i) => Date.UTC(2000, i, 1)))).toEqual({ unit: 'months', seasons: [12] });
+    expect(timeSpacing(Array.from({ length: 12 }, (_, i) => Date.UTC(2000, 3 * i, 1)))).toEqual({ unit: 'quarters', seasons: [4] });
     expect(timeSpacing([0, 5_000, 17_000, 18_000])).toBeNull();
   });
 });
