@@ -24,6 +24,7 @@ import { startTrainingThreads } from '@weft/optim/node';
 import { buildPage } from '../examples/browser/build.js';
 import { servePage } from '../examples/browser/serve.js';
 import { f32Bits, prepare, sampleText } from '../examples/browser/src/training.js';
+import { seasonalTrend } from './helpers/series.js';
 import type { HeldOut, TrainingConfig } from '../examples/browser/src/training.js';
 
 const executable = '/usr/bin/chromium';
@@ -46,6 +47,8 @@ interface PageHandle {
 
 const waveText = Array.from({ length: 400 }, (_, i) => (10 + 3 * Math.sin(i / 4) + Math.sin(i / 1.7)).toFixed(3)).join('\n');
 const waveValues = waveText.split('\n').map(Number);
+/** A rising series with a 24-value season and seeded noise (the generator of tests/held-out-verdicts.test.ts). */
+const seasonalTrendText = seasonalTrend(480).map((v) => v.toFixed(3)).join('\n');
 
 describe.skipIf(!available)('the browser page in Chromium', () => {
   beforeAll(async () => {
@@ -99,10 +102,11 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
       expect(inBrowser.backend).toBe(backend);
       expect(inBrowser.steps).toBe(40);
       expect(inBrowser.lastLossBits).toBe(f32Bits(loss));
-      // Text mode shows the held-out perplexity beside the unigram baseline.
-      expect(inBrowser.heldOut.metric).toBe('perplexity');
-      expect(inBrowser.heldOut.baselines.map((b) => b.name)).toEqual(['unigram (character frequencies)']);
-      expect(inBrowser.heldOutText.split('\n')[0]).toBe('held out: perplexity, lower is better');
+      // Text mode shows the test perplexity beside the unigram and Kneser-Ney baselines, worded as weft train words it.
+      expect(inBrowser.heldOut.report.metric).toBe('perplexity');
+      expect(inBrowser.heldOut.report.baselines.map((b) => b.name)).toEqual(['unigram', expect.stringMatching(/^[1-6]-gram$/)]);
+      expect(inBrowser.heldOutText.split('\n')[0]).toMatch(/^parts of the text, in order: training \d+ characters; validation, for stopping and keeping weights, \d+; test, scored once at the end, the last \d+$/);
+      expect(inBrowser.heldOutText).toMatch(/\nverdict: the model (beats every baseline|does NOT beat the baseline)/);
     }, 60_000);
   }
 
@@ -140,21 +144,32 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     expect(points.validation).toBeGreaterThan(0);
     expect(points.gradientNorm).toBeGreaterThan(0);
     expect(points.lastLoss).toBeLessThan(points.firstLoss);
-    // Numbers mode: held-out MAE beside the baselines, and the forecast chart drawn from the same series.
+    // Numbers mode: test MAE beside the baselines weft train computes, and the forecast chart drawn from the same series.
     const held = result.heldOut;
-    expect(held.metric).toBe('MAE');
-    expect(held.baselines.map((b) => b.name)).toEqual(expect.arrayContaining(['persistence', 'training mean', 'linear']));
+    expect(held.report.metric).toBe('MAE');
+    expect(held.report.baselines.map((b) => b.name)).toEqual(expect.arrayContaining(['naive', 'simple smoothing', 'Theta', 'linear']));
     expect(held.actual).toHaveLength(held.forecast!.length);
     const mae = held.actual!.reduce((s, a, i) => s + Math.abs(a - held.forecast![i]), 0) / held.actual!.length;
-    expect(Math.abs(mae - held.model)).toBeLessThan(1e-9 * Math.max(1, mae));
-    expect(result.heldOutText).toMatch(/^held out: MAE \(in the data's units\), lower is better\n  model  [\d.]+\n  persistence  [\d.]+/);
-    expect(result.heldOutText).toMatch(/\nthe model (beats every baseline|does NOT beat the baseline)/);
+    expect(Math.abs(mae - held.report.model.value)).toBeLessThan(1e-9 * Math.max(1, mae));
+    expect(result.heldOutText).toMatch(/^parts of the series, in order: training 320 values; validation, for stopping and keeping weights, 40; test, scored once at the end, the last 40\n/);
+    expect(result.heldOutText).toMatch(/\n {2}model +MAE [\d.]+ {2}RMSE/);
+    expect(result.heldOutText).toMatch(/\nverdict: the model (beats every baseline|does NOT beat the baseline)/);
     console.log(result.heldOutText);
     expect(await page.isVisible('#forecast-chart')).toBe(true);
     mkdirSync(artifacts, { recursive: true });
     await page.screenshot({ path: join(artifacts, 'browser-page.png'), fullPage: true });
     expect(existsSync(join(artifacts, 'browser-page.png'))).toBe(true);
   }, 120_000);
+
+  it('finds the 24-value season of a trending series and says plainly that a briefly trained model loses to the seasonal baselines', async () => {
+    const config: Partial<TrainingConfig> = { kind: 'numbers', data: seasonalTrendText, cell: 'gru', hidden: 8, epochs: 1000, window: 24, streams: 4, rate: 0.01, seed: '5', maxSteps: 20 };
+    const result = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
+    const report = result.heldOut.report;
+    const seasonal = report.baselines.find((b) => b.name === 'seasonal naive')!;
+    expect(seasonal.value).toBeLessThan(report.model.value);
+    expect(result.heldOutText).toContain('\nseason of 24 rows from the autocorrelation of the differenced series: ');
+    expect(result.heldOutText).toMatch(/\nverdict: the model does NOT beat the baseline (seasonal naive|Holt-Winters additive|Holt-Winters multiplicative): MAE /);
+  }, 60_000);
 
   it('downloads a weight file that gives the same outputs in Node, and loads one written by Node', async () => {
     const downloading = page.waitForEvent('download');

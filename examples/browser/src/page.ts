@@ -90,15 +90,9 @@ worker.onmessage = (event: MessageEvent<FromWorker>) => {
   for (const resolve of waiting.splice(0)) resolve(message);
 };
 
-/** The held-out figures beside the baselines, a verdict against the best, and (numbers) the forecast chart. */
+/** The test figures beside the baselines and the verdict, worded as weft train words them, and (numbers) the forecast chart. */
 function showHeldOut(heldOut: HeldOut): void {
-  const best = heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a));
-  const units = heldOut.metric === 'MAE' ? ' (in the data\'s units)' : '';
-  const rows = [`held out: ${heldOut.metric}${units}, lower is better`, `  model  ${heldOut.model.toPrecision(4)}`, ...heldOut.baselines.map((b) => `  ${b.name}  ${b.value.toPrecision(4)}`)];
-  rows.push(heldOut.model < best.value
-    ? `the model beats every baseline; the best, ${best.name}, has ${best.value.toPrecision(4)}`
-    : `the model does NOT beat the baseline ${best.name} (${best.value.toPrecision(4)}): train longer, on more data, or use the baseline`);
-  $('heldout').textContent = rows.join('\n');
+  $('heldout').textContent = heldOut.lines.join('\n');
   const canvas = $<HTMLCanvasElement>('forecast-chart');
   canvas.hidden = heldOut.actual === undefined;
   $('forecast-legend').hidden = heldOut.actual === undefined;

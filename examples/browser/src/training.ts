@@ -6,10 +6,10 @@
 import { Tape, defaultBackend, setDefaultBackend, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
-import { AdamRule, Trainer, streamBatches } from '@weft/optim';
+import { AdamRule, Trainer, streamBatches, wholeStream } from '@weft/optim';
 import type { ShardWorkers, TrainableModel, TrainingEvent } from '@weft/optim';
-import { buildVocabulary, forecastBaselines, forecastErrors } from '@weft/io';
-import type { WeightMetadata } from '@weft/io';
+import { KneserNeyModel, buildVocabulary, chooseNgramOrder, forecastBaselines, forecastReport, reportLines, scoreForecaster } from '@weft/io';
+import type { HeldOutReport, WeightMetadata } from '@weft/io';
 
 export interface TrainingConfig {
   /** `text`: next-character model; `numbers`: one column of numbers, forecast one step ahead. */
@@ -49,15 +49,26 @@ export interface Prepared {
   readonly heldOut: () => HeldOut;
 }
 
-/** Held-out figures for the page: a line per contender, and for numbers the series the chart draws. */
+/** Test figures for the page: the same comparison and verdict as `weft train`, and for numbers the series the chart draws. */
 export interface HeldOut {
-  /** `MAE` (numbers, in the data's units) or `perplexity` (text); lower is better for both. */
-  readonly metric: 'MAE' | 'perplexity';
-  readonly model: number;
-  readonly baselines: readonly { readonly name: string; readonly value: number }[];
-  /** The held-out values and the model's one-step forecasts of them (numbers only). */
+  /** The model and the baselines on the test part. */
+  readonly report: HeldOutReport;
+  /** The comparison and the verdict in words, as weft train prints them (reportLines). */
+  readonly lines: readonly string[];
+  /** The test values and the model's one-step forecasts of them (numbers only). */
   readonly actual?: readonly number[];
   readonly forecast?: readonly number[];
+}
+
+/** The shares of the data for validation and for the test, as `weft train`'s defaults. */
+export const VALIDATION_SHARE = 0.1;
+export const TEST_SHARE = 0.1;
+
+/** Where the validation and test parts start, in items (rows or characters), each at least `least` long. */
+function parts(count: number, least: number): { trainEnd: number; testStart: number } {
+  const test = Math.max(least, Math.round(count * TEST_SHARE));
+  const validation = Math.max(least, Math.round(count * VALIDATION_SHARE));
+  return { trainEnd: count - test - validation, testStart: count - test };
 }
 
 export function parseNumbers(text: string): number[] {
@@ -88,66 +99,92 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
     // The vocabulary as weft train makes it: the unknown token first, then every character of the text.
     const symbols = buildVocabulary(config.data);
     const ids = Int32Array.from([...config.data].map((c) => symbols.indexOf(c)));
-    const split = Math.floor(ids.length * 0.9);
+    const { trainEnd, testStart } = parts(ids.length, 2);
     const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 12 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: symbols.length } }, { seed: config.seed });
     const trainer = new Trainer({
       ...common,
       ...(await threadsFor(model)),
       model,
-      data: streamBatches({ kind: 'tokens', tokens: ids.slice(0, split), vocabulary: symbols.length }, { streams: config.streams, window: config.window }),
-      validation: streamBatches({ kind: 'tokens', tokens: ids.slice(split), vocabulary: symbols.length }, { window: Math.min(config.window, ids.length - split - 1) }),
+      data: streamBatches({ kind: 'tokens', tokens: ids.slice(0, trainEnd), vocabulary: symbols.length }, { streams: config.streams, window: config.window }),
+      validation: wholeStream({ kind: 'tokens', tokens: ids.slice(0, testStart), vocabulary: symbols.length }, { window: config.window, scoredFrom: trainEnd - 1 }),
       validateEvery: 10,
     });
     const heldOut = (): HeldOut => {
-      // Perplexity of the held-out characters, each predicted from those before it (the state carried from the
-      // training text), against each character as often as in the training text (counts plus one).
+      // Perplexity of the test characters, each predicted from those before it (the state carried from the first
+      // character), against unigram and Kneser–Ney models counted on the text before the test, as weft train does.
       const tape = new Tape({ recording: false });
       const outputs = model.run(tape, { tokens: ids, steps: ids.length, batch: 1 }).outputs.data;
       const vocabulary = symbols.length;
       let crossEntropy = 0;
-      for (let t = split - 1; t + 1 < ids.length; t++) {
+      for (let t = testStart - 1; t + 1 < ids.length; t++) {
         let max = -Infinity;
         for (let k = 0; k < vocabulary; k++) max = Math.max(max, outputs[t * vocabulary + k]);
         let sum = 0;
         for (let k = 0; k < vocabulary; k++) sum += Math.exp(outputs[t * vocabulary + k] - max);
         crossEntropy += max + Math.log(sum) - outputs[t * vocabulary + ids[t + 1]];
       }
+      tape.clear();
       const counts = new Float64Array(vocabulary).fill(1);
-      for (let t = 0; t < split; t++) counts[ids[t]]++;
+      for (let t = 0; t < testStart; t++) counts[ids[t]]++;
       const total = counts.reduce((a, b) => a + b, 0);
       let unigram = 0;
-      for (let t = split; t < ids.length; t++) unigram -= Math.log(counts[ids[t]] / total);
-      const n = ids.length - split;
-      tape.clear();
-      return { metric: 'perplexity', model: Math.exp(crossEntropy / n), baselines: [{ name: 'unigram (character frequencies)', value: Math.exp(unigram / n) }] };
+      for (let t = testStart; t < ids.length; t++) unigram -= Math.log(counts[ids[t]] / total);
+      const { order } = chooseNgramOrder(ids.subarray(0, trainEnd), ids.subarray(trainEnd, testStart), vocabulary, 6);
+      const ngram = new KneserNeyModel(ids.subarray(0, testStart), order, vocabulary);
+      const n = ids.length - testStart;
+      const report: HeldOutReport = {
+        metric: 'perplexity',
+        lowerIsBetter: true,
+        what: `the last ${n} characters, used for neither training nor stopping, each predicted from those before it`,
+        model: { name: 'model', description: '', value: Math.exp(crossEntropy / n) },
+        baselines: [
+          { name: 'unigram', description: 'each character as often as in the text before the test (add-one)', value: Math.exp(unigram / n) },
+          { name: `${order}-gram`, description: `interpolated Kneser-Ney, order ${order} of 1-6 chosen on the validation part`, value: Math.exp(ngram.crossEntropy(ids, testStart)) },
+        ],
+        names: [],
+        context: [`parts of the text, in order: training ${trainEnd} characters; validation, for stopping and keeping weights, ${testStart - trainEnd}; test, scored once at the end, the last ${n}`],
+      };
+      return { report, lines: reportLines(report) };
     };
     return { model, trainer, threads, metadata: { task: 'next-token', tokens: 'characters', vocabulary: symbols }, heldOut };
   }
   const values = parseNumbers(config.data);
-  const split = Math.floor(values.length * 0.85);
-  const mean = values.slice(0, split).reduce((s, v) => s + v, 0) / split;
-  const deviation = Math.sqrt(values.slice(0, split).reduce((s, v) => s + (v - mean) ** 2, 0) / split) || 1;
+  const { trainEnd, testStart } = parts(values.length, 1);
+  const mean = values.slice(0, trainEnd).reduce((s, v) => s + v, 0) / trainEnd;
+  const deviation = Math.sqrt(values.slice(0, trainEnd).reduce((s, v) => s + (v - mean) ** 2, 0) / trainEnd) || 1;
   const normalised = values.map((v) => (v - mean) / deviation);
   const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: 1 } }, { seed: config.seed });
   const trainer = new Trainer({
     ...common,
     ...(await threadsFor(model)),
     model,
-    data: streamBatches({ kind: 'values', values: normalised.slice(0, split), features: 1 }, { streams: config.streams, window: config.window }),
-    validation: streamBatches({ kind: 'values', values: normalised.slice(split - config.window), features: 1 }, { window: config.window }),
+    data: streamBatches({ kind: 'values', values: normalised.slice(0, trainEnd), features: 1 }, { streams: config.streams, window: config.window }),
+    validation: wholeStream({ kind: 'values', values: normalised.slice(0, testStart), features: 1 }, { window: config.window, scoredFrom: trainEnd - 1 }),
     validateEvery: 10,
   });
   const heldOut = (): HeldOut => {
-    // One-step forecasts over the whole series (state carried from the start); scored from the first held-out value.
+    // One-step forecasts over the whole series (state carried from the start); the test part scored beside the
+    // baselines weft train computes, fitted on the rows before it, with the same season rule.
     const tape = new Tape({ recording: false });
     const outputs = model.run(tape, tensor(normalised, [values.length, 1, 1], 'f32')).outputs.data;
     const positions: number[] = [];
-    for (let t = split - 1; t + 1 < values.length; t++) positions.push(t);
+    for (let t = testStart - 1; t + 1 < values.length; t++) positions.push(t);
     const forecast = positions.map((t) => outputs[t] * deviation + mean);
-    const actual = positions.map((t) => values[t + 1]);
     tape.clear();
-    const baselines = forecastBaselines({ values: values.map((v) => [v]), targets: [0], horizon: 1, trainRows: split, positions });
-    return { metric: 'MAE', model: forecastErrors(actual, forecast).mae, baselines: baselines.map((b) => ({ name: b.name, value: b.overall.mae })), actual, forecast };
+    const split = { values: values.map((v) => [v]), targets: [0], horizon: 1, fitRows: testStart, positions };
+    const baselines = forecastBaselines(split);
+    const report = forecastReport({
+      what: `${positions.length} one-step forecasts of the last ${values.length - testStart} values, used for neither training nor stopping`,
+      model: scoreForecaster(split, (t) => outputs[t] * deviation + mean, baselines.scales),
+      baselines: baselines.scores,
+      names: ['value'],
+      context: [
+        `parts of the series, in order: training ${trainEnd} values; validation, for stopping and keeping weights, ${testStart - trainEnd}; test, scored once at the end, the last ${values.length - testStart}`,
+        baselines.season.reason,
+        ...baselines.leftOut.map((l) => `left out: ${l}`),
+      ],
+    });
+    return { report, lines: reportLines(report), actual: positions.map((t) => values[t + 1]), forecast };
   };
   return { model, trainer, threads, metadata: { task: 'forecast', columns: ['value'], targetColumns: ['value'], horizon: 1, normalisation: { mean: [mean], deviation: [deviation] } }, heldOut };
 }

@@ -14,7 +14,10 @@ import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { KneserNeyModel, UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, chooseNgramOrder, predictLogistic, summaryFeatures, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
-import type { BaselineScore, ClassificationReport, ForecastErrors, Table, TimeColumn, WeightMetadata } from '@weft/io';
+import { forecastReport } from '@weft/io';
+import type { ClassificationReport, HeldOutReport, Table, TimeColumn, WeightMetadata } from '@weft/io';
+
+export type { Contender, HeldOutReport } from '@weft/io';
 import { CommandError } from './errors.js';
 
 export type Task = 'forecast' | 'text' | 'classify';
@@ -28,38 +31,10 @@ export interface Prepared {
   readonly metadata: WeightMetadata;
   /** Lines to show the user about what preparation did (columns left out, and why). */
   readonly notes?: readonly string[];
-  /** The model and every baseline on the same held-out data, in the data's own units. */
+  /** The model and every baseline on the test part, in the data's own units. */
   readonly heldOut: (model: SequenceModel) => HeldOutReport;
-}
-
-/** One row of a held-out comparison: a model or a baseline, and its figures. */
-export interface Contender {
-  readonly name: string;
-  /** How a baseline forecasts, in words (empty for the model). */
-  readonly description: string;
-  /** The figure the verdict compares (MAE, perplexity: lower is better; accuracy: higher). */
-  readonly value: number;
-  /** Forecast errors per target (forecasts only). */
-  readonly perTarget?: readonly ForecastErrors[];
-  readonly overall?: ForecastErrors;
-  /** Classification scores (classify only). */
-  readonly scores?: ClassificationReport;
-  /** Transduction scores (pairs only): exact-match rate, token accuracy, corpus BLEU, each in [0, 1]. */
-  readonly transduction?: { readonly exactMatch: number; readonly tokenAccuracy: number; readonly bleu: number };
-}
-
-export interface HeldOutReport {
-  /** What `value` is: "MAE" (in the data's units), "perplexity", "accuracy" or "exact match". */
-  readonly metric: string;
-  readonly lowerIsBetter: boolean;
-  /** What was held out, in words. */
-  readonly what: string;
-  readonly model: Contender;
-  readonly baselines: readonly Contender[];
-  /** Target names (forecasts), or class names (classify). */
-  readonly names: readonly string[];
-  /** Lines that say how the comparison was set up: the parts, the season and why, baselines left out. */
-  readonly context?: readonly string[];
+  /** The model's figure on the validation part, in the test figure's units (for ranking runs without the test). */
+  readonly validationFigure?: (model: SequenceModel) => number;
 }
 
 export interface PrepareOptions {
@@ -221,18 +196,15 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       ...(baselines.season.season === null ? {} : { season: baselines.season.season }),
     },
     notes,
+    validationFigure: (model) => {
+      const forecasts = forecastsOn(model, validation, testStart);
+      const scoredPositions: number[] = [];
+      for (let t = trainEnd - horizon; t < testStart - horizon; t++) scoredPositions.push(t);
+      const errors = scoreForecaster({ ...split, positions: scoredPositions }, (at, k) => forecasts[k][at], baselines.scales).overall;
+      return targetNames.length > 1 ? errors.mase ?? NaN : errors.mae;
+    },
     heldOut: (model) => {
-      const forecasts = Array.from({ length: targetIndexes.length }, () => new Float64Array(rows));
-      let t = 0;
-      forEachOutputBatch(model, test, (_batch, { outputs }) => {
-        for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
-          targetIndexes.forEach((j, k) => {
-            forecasts[k][t] = change === null
-              ? outputs[i + k] * deviation[j] + mean[j]
-              : TRANSFORMS[transform as 'differences' | 'log-returns'].inverse(outputs[i + k] * change.deviation[k] + change.mean[k], values[t][j]);
-          });
-        }
-      });
+      const forecasts = forecastsOn(model, test, rows);
       const scored = scoreForecaster(split, (at, k) => forecasts[k][at], baselines.scales);
       return forecastReport({
         what: `${positions.length} forecasts of ${targetNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`,
@@ -243,21 +215,22 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       });
     },
   };
-}
 
-/** A forecast comparison: MAE in the data's units for one target; with several targets, the mean MASE (scale-free). */
-export function forecastReport(parts: { what: string; model: Pick<BaselineScore, 'perTarget' | 'overall'>; baselines: readonly BaselineScore[]; names: readonly string[]; context: readonly string[] }): HeldOutReport {
-  const several = parts.names.length > 1;
-  const value = (s: Pick<BaselineScore, 'overall'>) => (several ? s.overall.mase ?? NaN : s.overall.mae);
-  return {
-    metric: several ? 'MASE' : 'MAE',
-    lowerIsBetter: true,
-    what: parts.what,
-    model: { name: 'model', description: '', value: value(parts.model), perTarget: parts.model.perTarget, overall: parts.model.overall },
-    baselines: parts.baselines.map((b) => ({ name: b.name, description: b.description, value: value(b), perTarget: b.perTarget, overall: b.overall })),
-    names: parts.names,
-    context: parts.context,
-  };
+  /** The model's forecast, in real units, made at each row of a source read from the first row (forecasts[k][t]). */
+  function forecastsOn(model: SequenceModel, source: DataSource, end: number): Float64Array[] {
+    const forecasts = Array.from({ length: targetIndexes.length }, () => new Float64Array(end));
+    let t = 0;
+    forEachOutputBatch(model, source, (_batch, { outputs }) => {
+      for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
+        targetIndexes.forEach((j, k) => {
+          forecasts[k][t] = change === null
+            ? outputs[i + k] * deviation[j] + mean[j]
+            : TRANSFORMS[transform as 'differences' | 'log-returns'].inverse(outputs[i + k] * change.deviation[k] + change.mean[k], values[t][j]);
+        });
+      }
+    });
+    return forecasts;
+  }
 }
 
 export function tokenize(text: string, mode: 'characters' | 'words'): string[] {
@@ -316,6 +289,7 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
     notes: [
       ...(unseen > 0 ? [`${unseen} of the ${pieces.length - trainEnd} validation and test ${options.tokens} never occur in the training text; the model reads them as ${UNKNOWN}`] : []),
     ],
+    validationFigure: (model) => Math.exp(averageCrossEntropy(model, validation)),
     heldOut: (model) => ({
       metric: 'perplexity',
       lowerIsBetter: true,
@@ -464,19 +438,9 @@ function classificationData(
     validation,
     metadata: { ...shape.metadata, split: { kind: 'sequences', seed: options.seed, sequences: sequences.length, trainingSequences: trainSet.length, validationSequences: validationSet.length, testSequences: testSet.length } },
     notes: shape.notes,
+    validationFigure: (model) => predictedClasses(model, validation, labels.length).accuracy,
     heldOut: (model) => {
-      const predicted: number[] = [];
-      const actual: number[] = [];
-      forEachOutputBatch(model, test, (batch, { outputs }) => {
-        if (batch.targets.kind !== 'classes') return;
-        for (let r = 0; r < batch.batch; r++) {
-          let best = 0;
-          for (let k = 1; k < labels.length; k++) if (outputs[r * labels.length + k] > outputs[r * labels.length + best]) best = k;
-          predicted.push(best);
-          actual.push(batch.targets.classes[r]);
-        }
-      });
-      const scores = classificationReport(actual, predicted, labels.length);
+      const scores = predictedClasses(model, test, labels.length);
       return {
         metric: 'accuracy',
         lowerIsBetter: false,
@@ -491,6 +455,22 @@ function classificationData(
       };
     },
   };
+}
+
+/** The class the model predicts for each sequence of a source, scored against the labels. */
+function predictedClasses(model: SequenceModel, source: DataSource, classes: number): ClassificationReport {
+  const predicted: number[] = [];
+  const actual: number[] = [];
+  forEachOutputBatch(model, source, (batch, { outputs }) => {
+    if (batch.targets.kind !== 'classes') return;
+    for (let r = 0; r < batch.batch; r++) {
+      let best = 0;
+      for (let k = 1; k < classes; k++) if (outputs[r * classes + k] > outputs[r * classes + best]) best = k;
+      predicted.push(best);
+      actual.push(batch.targets.classes[r]);
+    }
+  });
+  return classificationReport(actual, predicted, classes);
 }
 
 /** Mean cross-entropy (nats) of a next-token model over a source: the trainer's own evaluation. */

@@ -3,7 +3,7 @@ export { main } from './main.js';
 export { train } from './train.js';
 export type { TrainOutcome } from './train.js';
 export { parseArgs } from './args.js';
-export { reportLines, verdict } from './report.js';
+export { reportLines, verdict } from '@weft/io';
 export { CommandError } from './errors.js';
 export { lossCurveSvg, sparkline } from './plot.js';
 export { attentionMapSvg } from './attention-map.js';

@@ -22,13 +22,13 @@ import type { Runtime } from '@weft/io/runtime';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
-import { forecastReport } from './datasets.js';
+import { forecastReport } from '@weft/io';
 import { DEFAULT_SHARE, scoredCount, scoredItems } from './scored-part.js';
 import type { ScoredPart } from './scored-part.js';
 import type { HeldOutReport } from './datasets.js';
 import { CommandError } from './errors.js';
 import { scoreTransduction } from './transduce.js';
-import { reportJson, reportLines } from './report.js';
+import { reportJson, reportLines } from '@weft/io';
 
 export const scoreFlags: FlagSpec[] = [
   { name: 'format', value: 'text|json', description: 'plain text, or JSON for scripts', fallback: 'text' },

@@ -1,7 +1,7 @@
 /**
  * `weft sweep GRID`: train every combination of a grid — values per `weft train` flag, and the data files — several
- * at a time across the cores, one weight file and one result per combination, and a table sorted by the validation
- * loss. `--part K/N` runs only the combinations whose index i (0-based, in the grid's fixed order) has i mod N =
+ * at a time across the cores, one weight file and one result per combination, and a table sorted by the model's
+ * validation figure in the data's units (see `ranked`). `--part K/N` runs only the combinations whose index i (0-based, in the grid's fixed order) has i mod N =
  * K − 1, so N machines (the tasks of a cluster's job array) can share a sweep; `--merge` joins the parts' result
  * files into the one table, the same table one process running every combination writes.
  *
@@ -144,19 +144,32 @@ function trainOne(c: Combination, folder: string): Promise<SweepRow> {
   });
 }
 
-/** The rows in table order: by validation loss, lowest first, then by index; failed runs last. */
+/**
+ * The rows in table order: by the validation figure in the data's units (MAE, MASE, perplexity: lowest first;
+ * accuracy: highest first), never by the test figure, which would choose on the rows the verdict is scored on, nor
+ * by the validation loss, whose units change with --transform; runs without a figure by validation loss after
+ * them; failed runs last; ties by index.
+ */
 export function ranked(rows: readonly SweepRow[]): SweepRow[] {
-  const key = (r: SweepRow) => (r.results === null ? Infinity : (r.results.validationLoss ?? Infinity));
-  return [...rows].sort((a, b) => key(a) - key(b) || a.index - b.index);
+  const key = (r: SweepRow): [number, number] => {
+    if (r.results === null) return [3, 0];
+    if (r.results.validationFigure !== null && r.results.validationFigure !== undefined) return [0, r.results.lowerIsBetter ? r.results.validationFigure : -r.results.validationFigure];
+    return [r.results.validationLoss === null ? 2 : 1, r.results.validationLoss ?? 0];
+  };
+  return [...rows].sort((a, b) => {
+    const [ga, va] = key(a);
+    const [gb, vb] = key(b);
+    return ga - gb || va - vb || a.index - b.index;
+  });
 }
 
 /** The table as CSV, every figure written in full (so tables from parts and from one process compare exactly). */
 export function tableCsv(rows: readonly SweepRow[]): string {
   const flagNames = [...new Set(rows.flatMap((r) => Object.keys(r.flags)))].sort();
-  const lines = [['rank', 'index', 'data', ...flagNames, 'validation loss', 'metric', 'model', 'best baseline', 'baseline value', 'steps', 'error'].join(',')];
+  const lines = [['rank', 'index', 'data', ...flagNames, 'validation loss', 'metric', 'validation figure', 'test figure', 'best baseline', 'baseline test figure', 'steps', 'error'].join(',')];
   ranked(rows).forEach((r, i) => {
     const q = (v: unknown) => (typeof v === 'string' && /[",\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : String(v ?? ''));
-    lines.push([i + 1, r.index, q(r.data), ...flagNames.map((f) => q(r.flags[f])), q(r.results?.validationLoss), q(r.results?.metric), q(r.results?.model),
+    lines.push([i + 1, r.index, q(r.data), ...flagNames.map((f) => q(r.flags[f])), q(r.results?.validationLoss), q(r.results?.metric), q(r.results?.validationFigure), q(r.results?.model),
       q(r.results?.bestBaseline?.name), q(r.results?.bestBaseline?.value), q(r.results?.steps), q(r.error)].join(','));
   });
   return `${lines.join('\n')}\n`;
@@ -165,7 +178,8 @@ export function tableCsv(rows: readonly SweepRow[]): string {
 function readable(rows: readonly SweepRow[]): string {
   return ranked(rows).map((r, i) => {
     const flags = Object.entries(r.flags).map(([k, v]) => `--${k} ${String(v)}`).join(' ');
-    const figure = r.results === null ? `failed: ${r.error ?? ''}` : `validation ${r.results.validationLoss?.toPrecision(4) ?? '—'}, ${r.results.metric} ${r.results.model.toPrecision(4)}${r.results.bestBaseline === null ? '' : ` (best baseline ${r.results.bestBaseline.name} ${r.results.bestBaseline.value.toPrecision(4)})`}`;
+    const figure = r.results === null ? `failed: ${r.error ?? ''}`
+      : `validation ${r.results.metric} ${r.results.validationFigure?.toPrecision(4) ?? '—'} (loss ${r.results.validationLoss?.toPrecision(4) ?? '—'}), test ${r.results.metric} ${r.results.model.toPrecision(4)}${r.results.bestBaseline === null ? '' : ` (best baseline ${r.results.bestBaseline.name} ${r.results.bestBaseline.value.toPrecision(4)})`}`;
     return `${String(i + 1).padStart(3)}. c${r.index} ${shown(r.data.split(/[\\/]/).at(-1) ?? r.data)} ${shown(flags)}: ${shown(figure)}`;
   }).join('\n');
 }

@@ -23,7 +23,7 @@ import type { HeldOutReport, Prepared, Task } from './datasets.js';
 import { pairsDescription, preparePairs } from './pairs.js';
 import type { PairsPrepared } from './pairs.js';
 import { runResults } from './results.js';
-import { reportLines } from './report.js';
+import { reportLines } from '@weft/io';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { lossCurveSvg, sparkline } from './plot.js';
@@ -309,7 +309,10 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   log(`checkpoint:  ${checkpoint}`);
   log(`loss curve:  ${curve}`);
   const resultsPath = args.flags.get('results');
-  if (resultsPath !== undefined) writeFileAtomic(resultsPath, `${JSON.stringify(runResults(summary, heldOut, out))}\n`);
+  if (resultsPath !== undefined) {
+    const figure = prepared.task === 'pairs' ? null : prepared.validationFigure?.(model as SequenceModel) ?? null;
+    writeFileAtomic(resultsPath, `${JSON.stringify(runResults(summary, heldOut, out, figure))}\n`);
+  }
   return { summary, out, checkpoint, curve, heldOut, prepared };
 }
 

@@ -8,10 +8,15 @@ import { describe, expect, it } from 'vitest';
 import { columnStatistics, decimal } from '@weft/io';
 import { prepareClassification, prepareForecast, prepareText } from '../src/datasets.js';
 
-const options = { window: 4, lookback: 0, streams: 2, validationShare: 0.2, horizon: 1, tokens: 'characters' as const, embedding: 4, batch: 4, seed: '1' };
+const options = { window: 4, lookback: 0, streams: 2, validationShare: 0.2, testShare: 0.1, horizon: 1, tokens: 'characters' as const, embedding: 4, batch: 4, seed: '1' };
 
 function series(rows: number, cell: (r: number) => string): string {
-  return `when,level\n${Array.from({ length: rows }, (_, r) => `2026-01-${String((r % 28) + 1).padStart(2, '0')},${cell(r)}`).join('\n')}\n`;
+  return `site,level\n${Array.from({ length: rows }, (_, r) => `north,${cell(r)}`).join('\n')}\n`;
+}
+
+/** A daily series from 2026-01-01 with a time column. */
+function dated(rows: number, cell: (r: number) => string, date: (r: number) => string = (r) => new Date(Date.UTC(2026, 0, 1 + r)).toISOString().slice(0, 10)): string {
+  return `date,level\n${Array.from({ length: rows }, (_, r) => `${date(r)},${cell(r)}`).join('\n')}\n`;
 }
 
 describe('preparing training data', () => {
@@ -22,30 +27,56 @@ describe('preparing training data', () => {
 
   it('leaves out a column with no numbers and says so, and refuses a column of numbers with one bad cell', () => {
     const prepared = prepareForecast(series(60, (r) => String(Math.sin(r))), 'levels.csv', options);
-    expect(prepared.notes).toEqual(['left out columns that hold no numbers: when (no numbers: "2026-01-01" at line 2)']);
+    expect(prepared.notes).toEqual(['left out columns that hold no numbers: site (no numbers: "north" at line 2)']);
     expect((prepared.metadata as { columns: string[] }).columns).toEqual(['level']);
     expect(() => prepareForecast(series(60, (r) => (r === 0 ? 'n/a' : String(r))), 'levels.csv', options)).toThrowError(
-      'Bad data at levels.csv:2:12: expected a decimal number in column "level", received "n/a" (59 of 60 cells there are; fix the cell, or choose the columns with --columns)',
+      'Bad data at levels.csv:2:7: expected a decimal number in column "level", received "n/a" (59 of 60 cells there are; fix the cell, or choose the columns with --columns)',
     );
-    expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^Bad data at levels\.csv:9:12: expected a decimal number in column "level", received "0x10"/);
+    expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^Bad data at levels\.csv:9:7: expected a decimal number in column "level", received "0x10"/);
   });
 
-  it('names the file and line of an unknown column and of a season longer than the training rows', () => {
+  it('names the file and line of an unknown column and of a season longer than the training and validation rows', () => {
     const text = series(60, (r) => String(Math.sin(r)));
     expect(() => prepareForecast(text, 'levels.csv', { ...options, targets: ['flow'] })).toThrowError(
-      'Bad data at levels.csv:1:1: expected a column named "flow" (for --target), received the columns when, level');
-    expect(() => prepareForecast(text, 'levels.csv', { ...options, season: 48 })).toThrowError(
-      'Invalid option at levels.csv:49:1 (--season): expected a season shorter than the 48 training rows (of 60), which end at this line, received 48');
+      'Bad data at levels.csv:1:1: expected a column named "flow" (for --target), received the columns site, level');
+    expect(() => prepareForecast(text, 'levels.csv', { ...options, season: 54 })).toThrowError(
+      'Invalid option at levels.csv:55:1 (--season): expected a season shorter than the 54 training and validation rows (of 60), which end at this line, received 54');
   });
 
   it('refuses log returns of a value that is not positive, naming its line and column', () => {
     expect(() => prepareForecast(series(60, (r) => String(r === 30 ? 0 : 1 + r)), 'levels.csv', { ...options, transform: 'log-returns' })).toThrowError(
-      'Bad data at levels.csv:32:12: expected a number > 0 in column "level" (log returns need positive values), received 0');
+      'Bad data at levels.csv:32:7: expected a number > 0 in column "level" (log returns need positive values), received 0');
   });
 
-  it('says how many held-out characters never occur in the training text, instead of reading them as unknown without a word', () => {
+  it('says how many validation and test characters never occur in the training text, instead of reading them as unknown without a word', () => {
     const prepared = prepareText(`${'abc'.repeat(200)}xyz`, 'notes.txt', { ...options, validationShare: 0.1 });
-    expect(prepared.notes).toEqual(['3 of the 60 held-out characters never occur in the training text; the model reads them as <unknown>']);
+    expect(prepared.notes).toEqual(['3 of the 120 validation and test characters never occur in the training text; the model reads them as <unknown>']);
+  });
+
+  it('reads a time column, names its spacing, and records the three parts of the rows in the metadata', () => {
+    const prepared = prepareForecast(dated(100, (r) => String(Math.sin(r))), 'daily.csv', options);
+    expect(prepared.notes).toEqual(['time column: date (rows days apart)']);
+    expect(prepared.metadata.timeColumn).toBe('date');
+    expect(prepared.metadata.split).toEqual({ kind: 'series', rows: 100, trainingRows: 70, validationRows: 20, testRows: 10 });
+  });
+
+  it('refuses a time that does not parse, naming its line and column', () => {
+    expect(() => prepareForecast(dated(60, (r) => String(r), (r) => (r === 4 ? '2026-02-30' : `2026-01-${String(r % 28 + 1).padStart(2, '0')}`)), 'daily.csv', options)).toThrowError(
+      'Bad data at daily.csv:6:1: expected a time in column "date" (2024-03-01, 2024-03-01T13:00, 2024-03, 2024-Q1 or 2024), received "2026-02-30"');
+  });
+
+  it('refuses a test share that leaves fewer rows than the horizon, naming the flag', () => {
+    expect(() => prepareForecast(series(60, (r) => String(r)), 'levels.csv', { ...options, testShare: 0.02, horizon: 3 })).toThrowError(
+      'Invalid option at --test: expected a share leaving at least 3 test rows (the horizon) of the 60: 0.05 or more, received 0.02 (1 row)');
+  });
+
+  it('says so when times repeat or a column counts the rows, instead of pooling several series without a word', () => {
+    const twoCities = `date,city,temperature\n${Array.from({ length: 60 }, (_, r) => `2026-01-${String(Math.floor(r / 2) + 1).padStart(2, '0')},${r % 2 === 0 ? 'north' : 'south'},${r % 7}`).join('\n')}\n`;
+    const notes = prepareForecast(twoCities, 'cities.csv', options).notes ?? [];
+    expect(notes).toContain('note: times repeat in column "date" (line 3 repeats line 2): this table may hold several series side by side; weft forecasts one series per model, so pick one series\'s rows, or classify the sequences with --task classify --id-column NAME');
+    expect(notes).toContain('note: column "city" names 2 repeating values: if each names a series, the table holds several series and weft would pool them into one; pick one series\'s rows, or classify the sequences with --task classify --id-column city');
+    const counted = prepareForecast(`step,level\n${Array.from({ length: 60 }, (_, r) => `${r + 1},${Math.sin(r)}`).join('\n')}\n`, 'steps.csv', options).notes ?? [];
+    expect(counted).toEqual(['note: column "step" counts the rows (1, 2, 3, …): it is probably an index, not a reading; leave it out with --columns']);
   });
 
   it('normalises values of ±1e300 and 1e308 without overflowing (mean and deviation finite)', () => {

@@ -30,11 +30,12 @@ describe('pairs of sources and targets', () => {
     expect(() => readPairs('from,to\nab,AB\n', 'codes.csv', options)).toThrowError('codes.csv: needs a "source" column (--source-column); found from, to');
   });
 
-  it('hold out a seeded share, build vocabularies with <unknown>, <start> and <end>, and report figures that match their definitions', async () => {
-    const prepared = preparePairs(csv, 'codes.csv', { sourceColumn: 'source', targetColumn: 'target', tokens: 'characters', maxTarget: 10, validationShare: 0.15, batch: 8, seed: '1' });
+  it('keep a seeded test share apart from validation, build vocabularies with <unknown>, <start> and <end>, and report figures that match their definitions', async () => {
+    const prepared = preparePairs(csv, 'codes.csv', { sourceColumn: 'source', targetColumn: 'target', tokens: 'characters', maxTarget: 10, validationShare: 0.15, testShare: 0.1, batch: 8, seed: '1' });
     expect(prepared.sourceVocabulary).toEqual(['<unknown>', '-', 'a', 'b', 'c']);
     expect(prepared.targetVocabulary).toEqual(['<start>', '<end>', 'A', 'B', 'C']);
-    expect(prepared.notes[0]).toBe('80 pairs (68 to train on, 12 held out); 4 source and 3 target characters; longest source 7');
+    expect(prepared.notes[0]).toBe('80 pairs; 4 source and 3 target characters; longest source 7');
+    expect(prepared.metadata.split).toEqual({ kind: 'pairs', seed: '1', pairs: 80, trainingPairs: 60, validationPairs: 12, testPairs: 8 });
     const model = new EncoderDecoderModel(pairsDescription({ cell: 'gru', hidden: 16, layers: 1, bidirectional: true, dropout: 0, embedding: 8, attention: 'general', reverseSource: false, sourceVocabulary: 5, targetVocabulary: 5 }), { seed: 1 });
     await new Trainer({ model, data: prepared.train, optimizer: new AdamRule({ rate: 0.02 }), epochs: 30, seed: 1 }).run();
     const report = prepared.heldOut(model);
@@ -42,10 +43,10 @@ describe('pairs of sources and targets', () => {
     const pairs = readPairs(csv, 'codes.csv', { sourceColumn: 'source', targetColumn: 'target', tokens: 'characters', maxTarget: 10 });
     const runtime = runtimeOf(model, prepared.metadata);
     const meta = { sourceVocabulary: prepared.sourceVocabulary, targetVocabulary: prepared.targetVocabulary, maxTarget: 10 };
-    expect(prepared.heldOutRows).toHaveLength(12);
+    expect(prepared.heldOutRows).toHaveLength(8);
     const outputs = prepared.heldOutRows.map((k) => decodeText(runtime, meta, pairs.sources[k], 1).output);
     const references = prepared.heldOutRows.map((k) => pairs.targets[k]);
-    const exact = outputs.filter((o, k) => o.join('|') === references[k].join('|')).length / 12;
+    const exact = outputs.filter((o, k) => o.join('|') === references[k].join('|')).length / 8;
     const right = references.reduce((n, r, k) => n + r.filter((token, i) => outputs[k][i] === token).length, 0);
     const total = references.reduce((n, r) => n + r.length, 0);
     expect(report.model.transduction).toEqual({ exactMatch: exact, tokenAccuracy: right / total, bleu: corpusBleu(outputs, references.map((r) => [r])).bleu });
@@ -53,5 +54,8 @@ describe('pairs of sources and targets', () => {
     expect(report.model.transduction!.tokenAccuracy).toBeGreaterThan(0.5);
     // Every target is upper case and every source lower case: copying never matches a whole target.
     expect(report.baselines[0]).toMatchObject({ name: 'copy', transduction: { exactMatch: 0 } });
+    // The most frequent training target, whatever the source: exact only where a test target is that one.
+    const frequent = prepared.metadata.mostFrequentTarget as string[];
+    expect(report.baselines[1]).toMatchObject({ name: 'most frequent target', transduction: { exactMatch: references.filter((r) => r.join('') === frequent.join('')).length / 8 } });
   });
 });

@@ -30,6 +30,8 @@ export { lineSlope, thetaForecasts } from './data/theta.js';
 export type { SeasonCandidate, SeasonChoice, Spacing } from './data/seasonality.js';
 export { autocorrelations, chooseSeason, differences, isSeasonal, seasonalIndices, seasonalityLimit } from './data/seasonality.js';
 export { KneserNeyModel, chooseNgramOrder } from './data/ngram.js';
+export type { Contender, ForecastReportParts, HeldOutReport } from './data/verdict.js';
+export { bestOf, forecastReport, reportJson, reportLines, verdict } from './data/verdict.js';
 export type { LogisticModel } from './data/logistic.js';
 export { LOGISTIC_PENALTIES, chooseLogistic, fitLogistic, logisticLoss, predictLogistic, summaryFeatures } from './data/logistic.js';
 export type { TimeColumn } from './data/time-column.js';

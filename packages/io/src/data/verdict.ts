@@ -1,9 +1,76 @@
 /**
- * Held-out comparisons in words: the model and every baseline on the same data, in the data's own units, and a
- * verdict against the best baseline. Used by `weft train` after training and by `weft score` on a labelled file.
+ * Test comparisons in words: the model and every baseline on the same data, in the data's own units and
+ * scale-free, and one verdict against the best baseline, worded in one place for `weft train`, `weft score`,
+ * `weft sweep` and the browser page.
  */
-import type { ClassificationReport, ForecastErrors } from '@weft/io';
-import type { Contender, HeldOutReport } from './datasets.js';
+import type { BaselineScore } from './baselines.js';
+import type { ClassificationReport, ForecastErrors } from './scores.js';
+
+/** One row of a test comparison: a model or a baseline, and its figures. */
+export interface Contender {
+  /** "model", or the baseline's short name. */
+  readonly name: string;
+  /** How a baseline forecasts, in words (empty for the model). */
+  readonly description: string;
+  /** The figure the verdict compares (MAE, perplexity: lower is better; accuracy: higher). */
+  readonly value: number;
+  /** Forecast errors per target (forecasts only). */
+  readonly perTarget?: readonly ForecastErrors[];
+  /** Forecast errors over every target together (forecasts only). */
+  readonly overall?: ForecastErrors;
+  /** Classification scores (classify only). */
+  readonly scores?: ClassificationReport;
+  /** Transduction scores (pairs only): exact-match rate, token accuracy, corpus BLEU, each in [0, 1]. */
+  readonly transduction?: { readonly exactMatch: number; readonly tokenAccuracy: number; readonly bleu: number };
+}
+
+/** The model and every baseline on the same test data. */
+export interface HeldOutReport {
+  /** What `value` is: "MAE" (in the data's units), "MASE", "perplexity", "accuracy" or "exact match". */
+  readonly metric: string;
+  /** True when a lower figure is better. */
+  readonly lowerIsBetter: boolean;
+  /** What was scored, in words. */
+  readonly what: string;
+  /** The model's figures. */
+  readonly model: Contender;
+  /** Each baseline's figures, in a fixed order. */
+  readonly baselines: readonly Contender[];
+  /** Target names (forecasts), or class names (classify). */
+  readonly names: readonly string[];
+  /** Lines that say how the comparison was set up: the parts, the season and why, baselines left out. */
+  readonly context?: readonly string[];
+}
+
+/** What a forecast comparison is made of. */
+export interface ForecastReportParts {
+  /** What was scored, in words. */
+  readonly what: string;
+  /** The model's errors on the scored positions. */
+  readonly model: Pick<BaselineScore, 'perTarget' | 'overall'>;
+  /** The baselines' errors on the same positions. */
+  readonly baselines: readonly BaselineScore[];
+  /** The targets' names. */
+  readonly names: readonly string[];
+  /** Lines that say how the comparison was set up. */
+  readonly context: readonly string[];
+}
+
+/** A forecast comparison: MAE in the data's units for one target; with several targets, the mean MASE (scale-free). */
+export function forecastReport(parts: ForecastReportParts): HeldOutReport {
+  const several = parts.names.length > 1;
+  const value = (s: Pick<BaselineScore, 'overall'>) => (several ? s.overall.mase ?? NaN : s.overall.mae);
+  return {
+    metric: several ? 'MASE' : 'MAE',
+    lowerIsBetter: true,
+    what: parts.what,
+    model: { name: 'model', description: '', value: value(parts.model), perTarget: parts.model.perTarget, overall: parts.model.overall },
+    baselines: parts.baselines.map((b) => ({ name: b.name, description: b.description, value: value(b), perTarget: b.perTarget, overall: b.overall })),
+    names: parts.names,
+    context: parts.context,
+  };
+}
+
 
 const figure = (v: number): string => (Number.isFinite(v) ? Number(v.toPrecision(4)).toString() : String(v));
 const percent = (v: number): string => `${(100 * v).toFixed(1)}%`;
@@ -56,7 +123,7 @@ function classLines(scores: ClassificationReport, names: readonly string[]): str
   return lines;
 }
 
-/** Every line of a held-out comparison: what was held out, a line per contender, details, and the verdict. */
+/** Every line of a test comparison: how it was set up, what was scored, a line per contender, details, and the verdict. */
 export function reportLines(report: HeldOutReport): string[] {
   const lines = [...(report.context ?? []), `test: ${report.what}`];
   const all = [report.model, ...report.baselines];

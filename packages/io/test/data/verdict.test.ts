@@ -1,12 +1,11 @@
 /**
- * The held-out comparison in words (report.ts): the verdict names the best baseline and the gap in the metric's
+ * The test comparison in words (data/verdict.ts): the verdict names the best baseline and the gap in the metric's
  * own units (percentage points for accuracy, never a relative percentage of an accuracy), whichever way it goes;
  * the confusion counts and classes never predicted are shown. Figures are worked by hand.
  */
 import { describe, expect, it } from 'vitest';
-import { classificationReport } from '@weft/io';
-import type { HeldOutReport } from '../src/datasets.js';
-import { reportLines, verdict } from '../src/report.js';
+import { classificationReport, reportLines, verdict } from '@weft/io';
+import type { HeldOutReport } from '@weft/io';
 
 const forecast = (model: number): HeldOutReport => ({
   metric: 'MAE',
