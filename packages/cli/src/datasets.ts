@@ -131,7 +131,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const parts = seriesParts(rows, options);
   const { trainEnd, testStart } = parts;
   if (trainEnd < options.streams * options.window + horizon) {
-    throw new CommandError(`${file}: ${rows} rows leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test), too few for ${options.streams} streams of ${options.window}-row windows ${horizon} rows ahead (${options.streams * options.window + horizon} rows); lower --streams or --window, or the --validation and --test shares`);
+    throw new CommandError(`${file}: ${rows} rows leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test), too few for ${options.streams} streams of ${options.window}-row windows ${horizon} row${horizon === 1 ? '' : 's'} ahead (${options.streams * options.window + horizon} rows); lower --streams or --window, or the --validation and --test shares`);
   }
   const { mean, deviation } = columnStatistics(values.slice(0, trainEnd), columns.length);
   const normalised = values.map((row) => row.map((v, j) => (v - mean[j]) / deviation[j]));

@@ -2,7 +2,7 @@
  * `npm run demo`: the main job end to end on bundled demo data. Readings from the sensors of an invented
  * community greenhouse (demo/greenhouse.csv, made by demo/make-greenhouse.ts) train a GRU to forecast the air
  * temperature two hours ahead; the weight file is saved, loaded back into the inference runtime, and its
- * forecasts on held-out readings are printed next to the naive forecast (the temperature now).
+ * forecasts on the test days (the last tenth, used for neither training nor stopping) are printed beside what happened.
  */
 import { mkdirSync, readFileSync } from 'node:fs';
 import { join, resolve } from 'node:path';
@@ -23,11 +23,11 @@ async function demo(): Promise<void> {
   console.log('weft demo: forecasting a greenhouse two hours ahead');
   console.log(`data: ${data}`);
   console.log('  invented readings every 15 minutes for 42 days: air temperature, humidity, soil moisture, light\n');
-  const flags = ['--target', 'air_temperature_c', '--horizon', '8', '--cell', 'gru', '--hidden', '48', '--window', '48', '--streams', '8', '--epochs', epochs, '--rate', '0.01', '--validation', '0.15', '--start-over', '--out', out];
+  const flags = ['--target', 'air_temperature_c', '--horizon', '8', '--cell', 'gru', '--hidden', '48', '--window', '48', '--streams', '8', '--epochs', epochs, '--rate', '0.01', '--start-over', '--out', out];
   console.log(`$ weft train greenhouse.csv ${flags.slice(0, -2).join(' ')} --out ${out}`);
   const outcome = await train(parseArgs('train', [data, ...flags], trainFlags));
 
-  // Load the saved file back into the runtime and forecast the held-out days from it.
+  // Load the saved file back into the runtime and forecast the test days from it.
   const file = await loadWeightFile(out);
   const runtime = await createRuntime(file);
   // The translator applies what training recorded (the columns' normalisation), so the forecasts come out in °C.
@@ -39,18 +39,18 @@ async function demo(): Promise<void> {
   const streams = runtime.streams(1);
   const input = new Float32Array(columns.length);
   const horizon = Number((file.metadata as { horizon: number }).horizon);
-  const firstHeldOut = table.rows.length - Math.round(table.rows.length * 0.15);
+  const firstTest = table.rows.length - (outcome.prepared.metadata.split as { testRows: number }).testRows;
   const row: Record<string, string> = {};
   const samples: string[] = [];
   for (let r = 0; r + horizon < table.rows.length; r++) {
     translator.inputNames.forEach((c, j) => (row[c] = table.rows[r].fields[columns[j]]));
     const forecast = translator.outputs(streams.step(translator.inputs(row, input)))[target];
-    if (r < firstHeldOut || (r - firstHeldOut) % 40 !== 0 || samples.length >= 10) continue;
+    if (r + horizon < firstTest || (r + horizon - firstTest) % 40 !== 0 || samples.length >= 10) continue;
     const now = Number(table.rows[r].fields[targetColumn]);
     const actual = Number(table.rows[r + horizon].fields[targetColumn]);
     samples.push(`  ${table.rows[r].fields[0].padEnd(17)}  ${now.toFixed(2).padStart(6)}  ${actual.toFixed(2).padStart(12)}  ${forecast.toFixed(2).padStart(8)}`);
   }
-  console.log('\nsome forecasts from the saved weight file, loaded into the runtime (held-out days, °C):');
+  console.log('\nsome forecasts from the saved weight file, loaded into the runtime (test days, °C):');
   console.log(`  ${'time'.padEnd(17)}  ${'now'.padStart(6)}  ${'actual in 2h'.padStart(12)}  ${'forecast'.padStart(8)}`);
   for (const line of samples) console.log(line);
   console.log(`\nfiles: weight file ${outcome.out}\n       checkpoint  ${outcome.checkpoint}\n       loss curve  ${outcome.curve}`);

@@ -147,10 +147,10 @@ describe('weft run on forecasts and classifications', () => {
     // --quiet: no progress, no notes, only the final result lines.
     expect(trained.err).toBe('');
     expect(trained.out).not.toMatch(/^(training a |loss (?!curve)|left out )/m);
-    expect(trained.out.split('\n')[0]).toMatch(/^held out/);
+    expect(trained.out.split('\n')[0]).toBe('parts of room.csv, in time order: training lines 2–321 (320 rows); validation, for stopping and keeping weights, lines 322–361 (40 rows); test, scored once at the end, lines 362–401 (40 rows)');
     expect(trained.out).toMatch(/^weight file: .*room\.weft\.json$/m);
-    for (const name of ['model', 'persistence', 'training mean', 'linear']) expect(trained.out).toMatch(new RegExp(`^  ${name} +MAE [\\d.]+  RMSE [\\d.]+  MAPE`, 'm'));
-    expect(trained.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline [a-z ]+): MAE [\d.]+ against/m);
+    for (const name of ['model', 'naive', 'simple smoothing', 'Theta', 'linear']) expect(trained.out).toMatch(new RegExp(`^  ${name} +MAE [\\d.]+  RMSE [\\d.]+  MAPE`, 'm'));
+    expect(trained.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline [\w -]+): MAE [\d.]+ against/m);
     writeFileSync(join(folder, 'new-room.csv'), `humidity,temperature\n55,21\n54,22\n52,23\n`);
     const run = weft(['run', 'room.weft.json', 'new-room.csv', '--out', 'forecast.csv']);
     expect(run.code).toBe(0);

@@ -34,8 +34,9 @@ describe('weft train', () => {
     expect(resumed.code).toBe(0);
     expect(resumed.out).toContain(`resuming from notes.weft.checkpoint.json at step ${stoppedAt}`);
     expect(resumed.out).toMatch(/^finished \d+ steps in [\d.ms]+ \(resumed runs included\); /m);
-    expect(resumed.out).toMatch(/^  unigram +perplexity [\d.]+  \(each token as often as in the training text\)$/m);
-    expect(resumed.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline unigram): perplexity [\d.]+ against/m);
+    expect(resumed.out).toMatch(/^  unigram +perplexity [\d.]+  \(each token as often as in the training and validation text \(add-one\)\)$/m);
+    expect(resumed.out).toMatch(/^  [1-6]-gram +perplexity [\d.]+  \(interpolated Kneser-Ney over characters, order [1-6] of 1-6 chosen on the validation part/m);
+    expect(resumed.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline (unigram|[1-6]-gram)): perplexity [\d.]+ against/m);
     expect(existsSync(join(folder, 'notes.weft.checkpoint.loss.svg'))).toBe(true);
     expect(readFileSync(join(folder, 'notes.weft.checkpoint.loss.svg'), 'utf8')).toMatch(/^<svg [^>]*>[\s\S]*<polyline/);
 

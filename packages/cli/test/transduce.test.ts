@@ -22,7 +22,8 @@ describe('weft on source/target pairs', () => {
     const trained = weft(['train', 'codes.csv', '--hidden', '24', '--embedding', '8', '--epochs', '25', '--streams', '16', '--rate', '0.02', '--bidirectional', '--quiet']);
     expect(trained.err).toBe('');
     expect(trained.code).toBe(0);
-    expect(trained.out).toMatch(/^held out: 16 pairs of codes\.csv \(a seeded 10% share\)$/m);
+    expect(trained.out).toMatch(/^test: 16 test pairs of codes\.csv, drawn at random \(seed 1\), used for neither training nor stopping$/m);
+    expect(trained.out).toMatch(/^ {2}most frequent target +exact match [\d.]+%/m);
     expect(trained.out).toMatch(/^ {2}model +exact match [\d.]+%  token accuracy [\d.]+%  BLEU [\d.]+  \(greedy decoding\)$/m);
     expect(trained.out).toMatch(/^ {2}copy +exact match 0\.0%  token accuracy [\d.]+%  BLEU [\d.]+  \(the source itself as the output\)$/m);
     const file = JSON.parse(readFileSync(join(folder, 'codes.weft.json'), 'utf8')) as { model: { attention: string; encoder: { layers: { bidirectional: boolean }[] } }; metadata: { task: string } };
@@ -45,11 +46,14 @@ describe('weft on source/target pairs', () => {
     for (const c of codes[0]) expect(svg).toContain(`>${c}</text>`);
   });
 
-  it('scores a pairs file: the copy baseline\'s figures are those of its definitions', () => {
+  it('scores the test part of the file trained on: the copy baseline\'s figures are those of its definitions', () => {
     const scored = weft(['score', 'codes.weft.json', 'codes.csv', '--format', 'json']);
     expect(scored.code).toBe(0);
-    const report = JSON.parse(scored.out) as { metric: string; model: { transduction: { exactMatch: number } }; baselines: { name: string; transduction: { exactMatch: number; tokenAccuracy: number } }[] };
+    const report = JSON.parse(scored.out) as { metric: string; what: string; model: { transduction: { exactMatch: number } }; baselines: { name: string; transduction: { exactMatch: number; tokenAccuracy: number } }[] };
     expect(report.metric).toBe('exact match');
+    // The file trained on: only its test part is scored, the pairs training never saw.
+    expect(report.what).toBe('16 pairs of codes.csv, the training run\'s test part');
+    expect(report.baselines.map((b) => b.name)).toEqual(['copy', 'most frequent target']);
     expect(report.model.transduction.exactMatch).toBeGreaterThan(report.baselines[0].transduction.exactMatch);
     // Copying: every source letter is lower case and every target letter upper case, so no position matches.
     expect(report.baselines[0].transduction).toMatchObject({ exactMatch: 0, tokenAccuracy: 0 });

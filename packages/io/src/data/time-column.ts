@@ -41,22 +41,27 @@ const MINUTE = 60_000;
 const HOUR = 60 * MINUTE;
 const DAY = 24 * HOUR;
 
-/** How rows are spaced: the median gap between consecutive times in calendar units, or null when irregular. */
+/**
+ * How rows are spaced: the median gap between consecutive times in calendar units, or null when irregular (fewer
+ * than nine gaps in ten of that unit).
+ */
 export function timeSpacing(times: ArrayLike<number>): Spacing | null {
   const gaps: number[] = [];
   for (let i = 1; i < times.length; i++) gaps.push(times[i] - times[i - 1]);
   if (gaps.length === 0) return null;
   gaps.sort((a, b) => a - b);
   const median = gaps[Math.floor(gaps.length / 2)];
-  const near = (unit: number, low: number, high: number) => median >= unit * low && median <= unit * high;
-  if (median > 0 && median < DAY && DAY % median === 0) {
+  // Regular when nine gaps in ten are the median's calendar unit (a month is 28 to 31 days, and so on).
+  const regular = (low: number, high: number) => gaps.filter((g) => g >= low && g <= high).length >= 0.9 * gaps.length;
+  const near = (unit: number, low: number, high: number) => median >= unit * low && median <= unit * high && regular(unit * low, unit * high);
+  if (median > 0 && median < DAY && DAY % median === 0 && regular(median, median)) {
     const perDay = DAY / median;
     const unit = median % HOUR === 0 ? (median === HOUR ? 'hours' : `${median / HOUR} hours`)
       : median % MINUTE === 0 ? (median === MINUTE ? 'minutes' : `${median / MINUTE} minutes`) : `${median / 1000} seconds`;
     return { unit, seasons: perDay * 7 <= 100_000 ? [perDay, perDay * 7] : [perDay] };
   }
-  if (median === DAY) return { unit: 'days', seasons: [7, 365] };
-  if (median === 7 * DAY) return { unit: 'weeks', seasons: [52] };
+  if (median === DAY && regular(DAY, DAY)) return { unit: 'days', seasons: [7, 365] };
+  if (median === 7 * DAY && regular(7 * DAY, 7 * DAY)) return { unit: 'weeks', seasons: [52] };
   if (near(DAY, 28, 31)) return { unit: 'months', seasons: [12] };
   if (near(DAY, 89, 92)) return { unit: 'quarters', seasons: [4] };
   if (near(DAY, 365, 366)) return { unit: 'years', seasons: [] };

@@ -22,7 +22,7 @@ const forecast = (model: number): HeldOutReport => ({
 describe('the verdict', () => {
   it('compares a forecast with the best baseline in the data units, both ways', () => {
     expect(verdict(forecast(1.2))).toBe("verdict: the model beats every baseline: MAE 1.2 against 1.6 for the best baseline, linear (0.4 lower in the data's units, 25.0%)");
-    expect(verdict(forecast(1.8))).toBe("verdict: the model does NOT beat the baseline linear: MAE 1.8 against its 1.6 (0.2 higher in the data's units, 12.5%); train longer (--epochs, --patience), on more data, or use the baseline");
+    expect(verdict(forecast(1.8))).toBe("verdict: the model does NOT beat the baseline linear: MAE 1.8 against its 1.6 (0.2 higher in the data's units, 12.5%); use the baseline, or train longer (--epochs, --patience), on more data, or with other settings");
   });
 
   it('gives accuracy gaps in percentage points and lists counts and classes never predicted', () => {
