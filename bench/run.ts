@@ -8,12 +8,13 @@ import { dirname, resolve } from 'node:path';
 import { defaultBackend, javascriptBackend, setDefaultBackend } from '@weft/core';
 import type { BenchCase, BenchResult, Derived } from './harness.js';
 import { measure } from './harness.js';
+import * as baselines from './baselines.bench.js';
 import * as matmul from './matmul.bench.js';
 import * as runtime from './runtime.bench.js';
 import * as train from './train.bench.js';
 import * as window from './window.bench.js';
 
-const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window, train, runtime];
+const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window, train, runtime, baselines];
 
 function option(name: string, fallback: string): string {
   const index = process.argv.indexOf(`--${name}`);
