@@ -95,7 +95,8 @@ export function chooseSeason(series: ArrayLike<number>, spacing: Spacing | null 
   const most = Math.min(longest, Math.floor(n / 3));
   if (fromTime) lags = [...spacing.seasons];
   else lags = [];
-  const acf = autocorrelations(diff, Math.max(most + 1, ...lags, 1));
+  // From a time column only the candidates' lags (and those below them, for the test's limit) are needed.
+  const acf = autocorrelations(diff, fromTime ? Math.max(1, ...lags) : most + 1);
   if (!fromTime) {
     // Local peaks of the differences' autocorrelation, highest first, at most five; each moved to the lag within
     // two rows of it whose multiples (up to three in range) have the highest mean autocorrelation, since noise can

@@ -74,9 +74,8 @@ export function runSmoothing(series: ArrayLike<number>, count: number, p: Smooth
   let slope = trend ? p.trend : 0;
   let squared = 0;
   const rows = forecasts === null ? count : series.length;
-  for (let t = 0; t < rows; t++) {
+  for (let t = 0, j = 0; t < rows; t++, j = j + 1 === m ? 0 : j + 1) {
     const y = series[t];
-    const j = t % m;
     const s = seasonal ? ring[j] : multiplicative ? 1 : 0;
     const base = level + phi * slope;
     const oneStep = seasonal ? (multiplicative ? base * s : base + s) : base;
@@ -91,6 +90,64 @@ export function runSmoothing(series: ArrayLike<number>, count: number, p: Smooth
       const sAhead = seasonal ? ring[(t + horizon) % m] : 0;
       forecasts[t] = seasonal ? (multiplicative ? ahead * sAhead : ahead + sAhead) : ahead;
     }
+  }
+  return squared / Math.max(1, count);
+}
+
+/**
+ * The mean squared one-step error over rows [0, count) alone: runSmoothing's recursion in loops without its
+ * forecast branch, one loop per form, as fitting calls it many times (same arithmetic, same order, same result).
+ */
+export function oneStepError(series: ArrayLike<number>, count: number, p: SmoothingParameters): number {
+  const { alpha, beta, gamma } = p;
+  let level = p.level;
+  let squared = 0;
+  if (p.method === 'simple') {
+    for (let t = 0; t < count; t++) {
+      const y = series[t];
+      squared += (y - level) ** 2;
+      level = alpha * y + (1 - alpha) * level;
+    }
+    return squared / Math.max(1, count);
+  }
+  const phi = p.phi;
+  let slope = p.trend;
+  if (p.method === 'holt' || p.method === 'damped') {
+    for (let t = 0; t < count; t++) {
+      const y = series[t];
+      const base = level + phi * slope;
+      squared += (y - base) ** 2;
+      const next = alpha * y + (1 - alpha) * base;
+      slope = beta * (next - level) + (1 - beta) * phi * slope;
+      level = next;
+    }
+    return squared / Math.max(1, count);
+  }
+  const m = p.season;
+  const ring = Float64Array.from(p.seasonal);
+  if (p.method === 'additive') {
+    for (let t = 0, j = 0; t < count; t++, j = j + 1 === m ? 0 : j + 1) {
+      const y = series[t];
+      const s = ring[j];
+      const base = level + phi * slope;
+      squared += (y - (base + s)) ** 2;
+      const next = alpha * (y - s) + (1 - alpha) * base;
+      slope = beta * (next - level) + (1 - beta) * phi * slope;
+      ring[j] = gamma * (y - base) + (1 - gamma) * s;
+      level = next;
+    }
+    return squared / Math.max(1, count);
+  }
+  for (let t = 0, j = 0; t < count; t++, j = j + 1 === m ? 0 : j + 1) {
+    const y = series[t];
+    const s = ring[j];
+    const base = level + phi * slope;
+    squared += (y - base * s) ** 2;
+    const next = alpha * (y / s) + (1 - alpha) * base;
+    slope = beta * (next - level) + (1 - beta) * phi * slope;
+    ring[j] = gamma * (y / base) + (1 - gamma) * s;
+    level = next;
+    if (!(level > 0 && ring[j] > 0)) return NaN;
   }
   return squared / Math.max(1, count);
 }
@@ -124,7 +181,7 @@ const logit = (v: number) => Math.log(v / (1 - v));
  * fitted (fewer than two seasons of rows, or the multiplicative form on values that are not all positive).
  */
 export function fitSmoothing(series: ArrayLike<number>, count: number, method: SmoothingMethod, season = 1): SmoothingFit | null {
-  const fitted = Array.from({ length: count }, (_, i) => series[i]);
+  const fitted = Float64Array.from({ length: count }, (_, i) => series[i]);
   if (method === 'multiplicative' && !fitted.every((v) => v > 0)) return null;
   const states = initialStates(fitted, method, season);
   if (states === null || count < 3) return null;
@@ -142,7 +199,7 @@ export function fitSmoothing(series: ArrayLike<number>, count: number, method: S
   if (hasTrend(method)) start.push(logit((0.05 - lo) / (hi - lo)));
   if (hasSeason(method)) start.push(logit(0.1 / 0.7));
   if (method === 'damped') start.push(logit(0.5));
-  const best = minimise((u) => runSmoothing(fitted, count, parameters(u)), start, { evaluations: 60 * start.length });
+  const best = minimise((u) => oneStepError(fitted, count, parameters(u)), start, { evaluations: 60 * start.length });
   const chosen = parameters(best.point);
-  return { ...chosen, meanSquaredError: runSmoothing(fitted, count, chosen) };
+  return { ...chosen, meanSquaredError: oneStepError(fitted, count, chosen) };
 }

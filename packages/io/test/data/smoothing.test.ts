@@ -7,7 +7,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { fitSmoothing, initialStates, runSmoothing } from '@weft/io';
+import { fitSmoothing, initialStates, oneStepError, runSmoothing } from '@weft/io';
 import type { SmoothingParameters } from '@weft/io';
 
 const base = { beta: 0, gamma: 0, phi: 1, trend: 0, seasonal: [] as number[], season: 1 };
@@ -95,5 +95,14 @@ describe('exponential smoothing', () => {
     expect(fit.phi).toBeGreaterThanOrEqual(0.8);
     expect(fit.phi).toBeLessThanOrEqual(0.98);
     for (const v of [fit.alpha, fit.beta]) expect(v > 0 && v < 1).toBe(true);
+  });
+
+  it('gives the same one-step error in the fitting loops as in the forecasting loop, to the bit, for every form', () => {
+    const random = new Random('loops');
+    const series = Array.from({ length: 200 }, (_, t) => 30 + 0.1 * t + 4 * Math.sin(t / 2) + random.normal());
+    for (const method of ['simple', 'holt', 'damped', 'additive', 'multiplicative'] as const) {
+      const fit = fitSmoothing(series, 150, method, 12)!;
+      expect(oneStepError(series, 150, fit)).toBe(runSmoothing(series, 150, fit, 1, new Float64Array(200)));
+    }
   });
 });
