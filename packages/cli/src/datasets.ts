@@ -108,10 +108,16 @@ function tableNotes(table: Table, time: TimeColumn | null, numeric: readonly str
       notes.push(`note: column ${JSON.stringify(name)} counts the rows (${first}, ${first + 1}, ${first + 2}, …): it is probably an index, not a reading; leave it out with --columns`);
     }
   }
+  // A text column that names series: its values stand in blocks (series one after another) or take turns
+  // (series interleaved row by row); a label that merely repeats (the day's weather) does neither.
   table.header.forEach((name, c) => {
     if (c === time?.index || numeric.includes(name) || table.rows.length < 4) return;
-    const distinct = new Set(table.rows.map((row) => row.fields[c].trim())).size;
-    if (distinct > 1 && distinct <= table.rows.length / 2) {
+    const cells = table.rows.map((row) => row.fields[c].trim());
+    const distinct = new Set(cells).size;
+    let runs = 1;
+    for (let r = 1; r < cells.length; r++) if (cells[r] !== cells[r - 1]) runs++;
+    const inTurns = cells.every((v, r) => r < distinct || v === cells[r - distinct]);
+    if (distinct > 1 && distinct <= table.rows.length / 3 && (runs === distinct || inTurns)) {
       notes.push(`note: column ${JSON.stringify(name)} names ${distinct} repeating values: if each names a series, the table holds several series and weft would pool them into one; pick one series's rows, or classify the sequences with --task classify --id-column ${name}`);
     }
   });
