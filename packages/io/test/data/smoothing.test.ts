@@ -3,7 +3,11 @@
  * Snyder, "Forecasting with Exponential Smoothing" (2008), Table 2.1: values worked by hand from those equations
  * (not copied from a published table), and properties that pin each method: α = 1 simple smoothing is the naive
  * forecast; Holt's method reproduces a noiseless line, and Holt–Winters a noiseless line plus a repeating season,
- * exactly; the damped trend with φ = 1 is Holt's method.
+ * exactly; the damped trend with φ = 1 is Holt's method. One published worked value: NIST/SEMATECH e-Handbook of
+ * Statistical Methods, §6.4.3.2 ("Forecasting with Single Exponential Smoothing", bootstrapping example): with
+ * α = 0.1 on the twelve points of §6.4.3.1's example, the forecast of the last point, 70, "was 71.7". The twelve
+ * points (71, 70, 69, 68, 64, 65, 72, 78, 75, 75, 75, 70) are from memory; that they give the published 71.7
+ * supports the recall.
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
@@ -32,6 +36,15 @@ describe('exponential smoothing', () => {
     const two = new Float64Array(4);
     runSmoothing([1, 3, 4, 8], 4, p, 2, two);
     expect(two[3]).toBe(7.125 + 2 * 2.1875);
+  });
+
+  it('forecasts the last point of the NIST handbook\'s example as 71.7 with α 0.1', () => {
+    const points = [71, 70, 69, 68, 64, 65, 72, 78, 75, 75, 75, 70];
+    const out = new Float64Array(12);
+    runSmoothing(points, 12, { ...base, method: 'simple', alpha: 0.1, level: points[0] }, 1, out);
+    // out[10] is the forecast made at the eleventh point of the twelfth (NIST's S₁₂, starting from S₂ = y₁).
+    expect(out[10].toFixed(1)).toBe('71.7');
+    expect(out[10]).toBeCloseTo(71.6653, 4);
   });
 
   it('is the naive forecast when simple smoothing has α = 1', () => {
