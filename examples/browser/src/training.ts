@@ -8,7 +8,7 @@ import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches, wholeStream } from '@weft/optim';
 import type { ShardWorkers, TrainableModel, TrainingEvent } from '@weft/optim';
-import { KneserNeyModel, buildVocabulary, chooseNgramOrder, forecastBaselines, forecastReport, reportLines, scoreForecaster } from '@weft/io';
+import { buildVocabulary, forecastBaselines, forecastReport, reportLines, scoreForecaster, textBaselines } from '@weft/io';
 import type { HeldOutReport, WeightMetadata } from '@weft/io';
 
 export interface TrainingConfig {
@@ -124,13 +124,7 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
         crossEntropy += max + Math.log(sum) - outputs[t * vocabulary + ids[t + 1]];
       }
       tape.clear();
-      const counts = new Float64Array(vocabulary).fill(1);
-      for (let t = 0; t < testStart; t++) counts[ids[t]]++;
-      const total = counts.reduce((a, b) => a + b, 0);
-      let unigram = 0;
-      for (let t = testStart; t < ids.length; t++) unigram -= Math.log(counts[ids[t]] / total);
-      const { order } = chooseNgramOrder(ids.subarray(0, trainEnd), ids.subarray(trainEnd, testStart), vocabulary, 6);
-      const ngram = new KneserNeyModel(ids.subarray(0, testStart), order, vocabulary);
+      const judged = textBaselines(ids, trainEnd, testStart, vocabulary, 6);
       const n = ids.length - testStart;
       const report: HeldOutReport = {
         metric: 'perplexity',
@@ -138,8 +132,8 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
         what: `the last ${n} characters, used for neither training nor stopping, each predicted from those before it`,
         model: { name: 'model', description: '', value: Math.exp(crossEntropy / n) },
         baselines: [
-          { name: 'unigram', description: 'each character as often as in the text before the test (add-one)', value: Math.exp(unigram / n) },
-          { name: `${order}-gram`, description: `interpolated Kneser-Ney, order ${order} of 1-6 chosen on the validation part`, value: Math.exp(ngram.crossEntropy(ids, testStart)) },
+          { name: 'unigram', description: 'each character as often as in the text before the test (add-one)', value: judged.unigram },
+          { name: `${judged.order}-gram`, description: `interpolated Kneser-Ney, order ${judged.order} of 1-6 chosen on the validation part`, value: judged.ngram },
         ],
         names: [],
         context: [`parts of the text, in order: training ${trainEnd} characters; validation, for stopping and keeping weights, ${testStart - trainEnd}; test, scored once at the end, the last ${n}`],

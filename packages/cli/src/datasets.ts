@@ -13,7 +13,7 @@ import { Random, fail } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
-import { KneserNeyModel, UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, chooseNgramOrder, predictLogistic, summaryFeatures, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
+import { UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, predictLogistic, summaryFeatures, textBaselines, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
 import { forecastReport } from '@weft/io';
 import type { ClassificationReport, HeldOutReport, Table, TimeColumn, WeightMetadata } from '@weft/io';
 
@@ -274,16 +274,7 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
   // Baselines: unigram (add-one) and interpolated Kneser–Ney with its order chosen on the validation part, both
   // counted on training and validation for the test, as the forecast baselines are fitted.
   const most = options.tokens === 'characters' ? 6 : 3;
-  const { order, crossEntropy: orderLosses } = chooseNgramOrder(trainIds, ids.subarray(trainEnd, testStart), vocabulary.length, most);
-  const fitted = ids.subarray(0, testStart);
-  const ngram = new KneserNeyModel(fitted, order, vocabulary.length);
-  const counts = new Float64Array(vocabulary.length).fill(1);
-  for (const id of fitted) counts[id]++;
-  const total = counts.reduce((s, c) => s + c, 0);
-  let unigramLoss = 0;
-  for (let i = testStart; i < ids.length; i++) unigramLoss -= Math.log(counts[ids[i]] / total);
-  const unigram = Math.exp(unigramLoss / testCount);
-  const ngramPerplexity = Math.exp(ngram.crossEntropy(ids, testStart));
+  const judged = textBaselines(ids, trainEnd, testStart, vocabulary.length, most);
   const partsLine = `parts of ${file}, in order: training ${trainEnd} ${options.tokens}; validation, for stopping and keeping weights, ${validationCount}; test, scored once at the end, the last ${testCount}`;
   return {
     task: 'text',
@@ -302,8 +293,8 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
       what: `the last ${testCount} ${options.tokens} of ${file}, used for neither training nor stopping, each predicted from those before it`,
       model: { name: 'model', description: '', value: Math.exp(averageCrossEntropy(model, test)) },
       baselines: [
-        { name: 'unigram', description: 'each token as often as in the training and validation text (add-one)', value: unigram },
-        { name: `${order}-gram`, description: `interpolated Kneser-Ney over ${options.tokens}, order ${order} of 1-${most} chosen on the validation part (validation perplexity ${orderLosses.map((l, i) => `${i + 1}: ${Number(Math.exp(l).toPrecision(4))}`).join(', ')})`, value: ngramPerplexity },
+        { name: 'unigram', description: 'each token as often as in the training and validation text (add-one)', value: judged.unigram },
+        { name: `${judged.order}-gram`, description: `interpolated Kneser-Ney over ${options.tokens}, order ${judged.order} of 1-${most} chosen on the validation part (validation perplexity ${judged.orderLosses.map((l, i) => `${i + 1}: ${Number(Math.exp(l).toPrecision(4))}`).join(', ')})`, value: judged.ngram },
       ],
       names: [],
       context: [partsLine],

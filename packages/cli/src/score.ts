@@ -13,7 +13,7 @@
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { Random, fail, logSumExp } from '@weft/core';
-import { KneserNeyModel, chooseLogistic, chooseNgramOrder, classificationReport, createTranslator, fieldPath, forecastBaselines, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures } from '@weft/io';
+import { chooseLogistic, classificationReport, createTranslator, fieldPath, forecastBaselines, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
 import type { Table, WeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
@@ -250,24 +250,16 @@ function scoreText(runtime: Runtime, meta: Record<string, unknown>, text: string
   }
   const vocabulary = translator.outputNames.length;
   // Baselines counted on the text before the scored part; the n-gram order chosen on its last fifth.
-  const fitted = ids.subarray(0, testStart);
-  const cut = Math.max(1, Math.round(testStart * 0.8));
   const most = meta.tokens === 'words' ? 3 : 6;
-  const { order } = chooseNgramOrder(fitted.subarray(0, cut), fitted.subarray(cut), vocabulary, most);
-  const ngram = new KneserNeyModel(fitted, order, vocabulary);
-  const counts = new Float64Array(vocabulary).fill(1);
-  for (const id of fitted) counts[id]++;
-  const total = counts.reduce((sum, c) => sum + c, 0);
-  let unigram = 0;
-  for (let i = testStart; i < ids.length; i++) unigram -= Math.log(counts[ids[i]] / total);
+  const judged = textBaselines(ids, Math.max(1, Math.round(testStart * 0.8)), testStart, vocabulary, most);
   return {
     metric: 'perplexity',
     lowerIsBetter: true,
     what: `the last ${scored} tokens of ${name}${same ? ' (the training run\'s test part)' : ''}, each predicted from those before it${unknown > 0 ? ` (${unknown} of ${pieces.length} pieces of the file not in the vocabulary, read as the unknown token)` : ''}`,
     model: { name: 'model', description: '', value: Math.exp(crossEntropy / scored) },
     baselines: [
-      { name: 'unigram', description: `each token as often as in the ${testStart} tokens before (add-one)`, value: Math.exp(unigram / scored) },
-      { name: `${order}-gram`, description: `interpolated Kneser-Ney, counted on the ${testStart} tokens before, order ${order} of 1-${most} chosen on their last fifth`, value: Math.exp(ngram.crossEntropy(ids, testStart)) },
+      { name: 'unigram', description: `each token as often as in the ${testStart} tokens before (add-one)`, value: judged.unigram },
+      { name: `${judged.order}-gram`, description: `interpolated Kneser-Ney, counted on the ${testStart} tokens before, order ${judged.order} of 1-${most} chosen on their last fifth`, value: judged.ngram },
     ],
     names: [],
     context: warning === null ? [] : [warning],

@@ -102,3 +102,38 @@ export function chooseNgramOrder(training: ArrayLike<number>, validation: ArrayL
   for (let n = 1; n <= most; n++) crossEntropy.push(new KneserNeyModel(training, n, vocabulary).crossEntropy(joined, training.length));
   return { order: crossEntropy.indexOf(Math.min(...crossEntropy)) + 1, crossEntropy };
 }
+
+/** The text baselines' perplexities on the tokens from `testStart` on. */
+export interface TextBaselines {
+  /** Add-one unigram model counted on the tokens before `testStart`. */
+  readonly unigram: number;
+  /** The interpolated Kneser–Ney model of the chosen order, counted on the tokens before `testStart`. */
+  readonly ngram: number;
+  /** The order chosen. */
+  readonly order: number;
+  /** Cross-entropy (nats) of each order 1 … most on the tokens [validationFrom, testStart), counted before them. */
+  readonly orderLosses: readonly number[];
+}
+
+/**
+ * The baselines a next-token model is judged against, on tokens [testStart, end): a unigram model with add-one
+ * counts and a Kneser–Ney model whose order (1 … most) is chosen on tokens [validationFrom, testStart), both then
+ * counted on every token before `testStart`.
+ */
+export function textBaselines(ids: Int32Array, validationFrom: number, testStart: number, vocabulary: number, most: number): TextBaselines {
+  const { order, crossEntropy } = chooseNgramOrder(ids.subarray(0, validationFrom), ids.subarray(validationFrom, testStart), vocabulary, most);
+  const fitted = ids.subarray(0, testStart);
+  const counts = new Float64Array(vocabulary).fill(1);
+  for (const id of fitted) counts[id]++;
+  let total = 0;
+  for (const c of counts) total += c;
+  let unigram = 0;
+  for (let i = testStart; i < ids.length; i++) unigram -= Math.log(counts[ids[i]] / total);
+  const scored = Math.max(1, ids.length - testStart);
+  return {
+    unigram: Math.exp(unigram / scored),
+    ngram: Math.exp(new KneserNeyModel(fitted, order, vocabulary).crossEntropy(ids, testStart)),
+    order,
+    orderLosses: crossEntropy,
+  };
+}

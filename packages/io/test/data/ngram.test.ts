@@ -5,7 +5,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { KneserNeyModel, chooseNgramOrder } from '@weft/io';
+import { KneserNeyModel, chooseNgramOrder, textBaselines } from '@weft/io';
 
 describe('interpolated Kneser–Ney', () => {
   // a b a b c as ids 0 1 0 1 2.
@@ -39,5 +39,13 @@ describe('interpolated Kneser–Ney', () => {
     const { order, crossEntropy } = chooseNgramOrder(make(2000), make(500), 4, 4);
     expect(crossEntropy[0]).toBeGreaterThan(crossEntropy[1]);
     expect(order).toBeGreaterThanOrEqual(2);
+  });
+
+  it('scores the unigram baseline with add-one counts of the tokens before the test, worked by hand', () => {
+    // Counts of 0 1 1 plus one each: 2, 3, 1 of 6; the test token 2 has probability 1/6: perplexity 6.
+    const judged = textBaselines(Int32Array.from([0, 1, 1, 2]), 2, 3, 3, 2);
+    expect(judged.unigram).toBeCloseTo(6, 12);
+    expect(judged.orderLosses).toHaveLength(2);
+    expect(judged.ngram).toBeCloseTo(1 / new KneserNeyModel([0, 1, 1], judged.order, 3).probability([0, 1, 1], 0, 3, 2), 12);
   });
 });
