@@ -40,10 +40,13 @@ export function summaryFeatures(values: ArrayLike<number>, steps: number, width:
 export interface LogisticModel {
   /** classes × (features + 1), the bias first in each row. */
   readonly weights: Float64Array;
+  /** How many classes. */
   readonly classes: number;
+  /** How many features per row. */
   readonly features: number;
-  /** The training features' means and deviations (deviation 1 where a feature is constant). */
+  /** The training features' means. */
   readonly mean: Float64Array;
+  /** The training features' deviations (1 where a feature is constant). */
   readonly deviation: Float64Array;
   /** The L2 penalty λ. */
   readonly penalty: number;

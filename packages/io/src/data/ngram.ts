@@ -31,8 +31,15 @@ export class KneserNeyModel {
   /** counts[n − 1]: the counts of n-grams. */
   private readonly counts: OrderCounts[] = [];
 
+  /** The highest order counted. */
+  readonly order: number;
+  /** How many distinct ids there are (the uniform floor is 1 / vocabulary). */
+  readonly vocabulary: number;
+
   /** Counts n-grams of orders 1 … `order` in `tokens` (ids below `vocabulary`). */
-  constructor(tokens: ArrayLike<number>, readonly order: number, readonly vocabulary: number) {
+  constructor(tokens: ArrayLike<number>, order: number, vocabulary: number) {
+    this.order = order;
+    this.vocabulary = vocabulary;
     const raw: Map<string, number>[] = [];
     const left: Map<string, Set<number>>[] = [];
     for (let n = 1; n <= order; n++) {
@@ -93,14 +100,24 @@ export class KneserNeyModel {
   }
 }
 
+/** The order chosen and the cross-entropy of each order tried. */
+export interface NgramOrderChoice {
+  /** The order with the lowest cross-entropy. */
+  readonly order: number;
+  /** Cross-entropy (nats per token) of orders 1 … most, in order. */
+  readonly crossEntropy: readonly number[];
+}
+
 /** The n-gram order (1 … most) with the lowest cross-entropy on `validation` tokens, counted on `training`. */
-export function chooseNgramOrder(training: ArrayLike<number>, validation: ArrayLike<number>, vocabulary: number, most: number): { order: number; crossEntropy: number[] } {
+export function chooseNgramOrder(training: ArrayLike<number>, validation: ArrayLike<number>, vocabulary: number, most: number): NgramOrderChoice {
   const joined = new Int32Array(training.length + validation.length);
   joined.set(Array.from(training));
   joined.set(Array.from(validation), training.length);
   const crossEntropy: number[] = [];
   for (let n = 1; n <= most; n++) crossEntropy.push(new KneserNeyModel(training, n, vocabulary).crossEntropy(joined, training.length));
-  return { order: crossEntropy.indexOf(Math.min(...crossEntropy)) + 1, crossEntropy };
+  let best = 0;
+  for (let n = 1; n < crossEntropy.length; n++) if (crossEntropy[n] < crossEntropy[best]) best = n;
+  return { order: best + 1, crossEntropy };
 }
 
 /** The text baselines' perplexities on the tokens from `testStart` on. */

@@ -20,8 +20,18 @@ export interface Contender {
   readonly overall?: ForecastErrors;
   /** Classification scores (classify only). */
   readonly scores?: ClassificationReport;
-  /** Transduction scores (pairs only): exact-match rate, token accuracy, corpus BLEU, each in [0, 1]. */
-  readonly transduction?: { readonly exactMatch: number; readonly tokenAccuracy: number; readonly bleu: number };
+  /** Transduction scores (pairs only). */
+  readonly transduction?: TransductionFigures;
+}
+
+/** An encoder-decoder's figures, each in [0, 1]. */
+export interface TransductionFigures {
+  /** Share of outputs equal to their reference. */
+  readonly exactMatch: number;
+  /** Share of reference tokens matched at their position. */
+  readonly tokenAccuracy: number;
+  /** Corpus BLEU (Papineni et al. 2002, no smoothing). */
+  readonly bleu: number;
 }
 
 /** The model and every baseline on the same test data. */
