@@ -35,6 +35,8 @@ export interface Prepared {
   readonly heldOut: (model: SequenceModel) => HeldOutReport;
   /** The model's figure on the validation part, in the test figure's units (for ranking runs without the test). */
   readonly validationFigure?: (model: SequenceModel) => number;
+  /** Settings chosen from the data for flags that were not given. */
+  readonly chosen?: ChosenSettings;
 }
 
 export interface PrepareOptions {
@@ -48,6 +50,10 @@ export interface PrepareOptions {
   readonly horizon: number;
   /** The time column of a series, by name (default: found by its name or values). */
   readonly timeColumn?: string;
+  /** How a series becomes training examples (default: sliding windows up to SLIDING_ROWS training rows). */
+  readonly examples?: 'sliding' | 'streams';
+  /** The flags given on the command line (others may be chosen from the data). */
+  readonly given?: ReadonlySet<string>;
   readonly columns?: string[];
   readonly targets?: string[];
   readonly tokens: 'characters' | 'words';
@@ -136,12 +142,45 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const horizon = options.horizon;
   const parts = seriesParts(rows, options);
   const { trainEnd, testStart } = parts;
+  if (options.season !== undefined && options.season !== null && !(options.season < testStart)) {
+    // The fitting rows end at this line: a season must fit in them.
+    fail('invalid_option', `${file}:${table.rows[testStart - 1].line}:1 (--season)`, `a season shorter than the ${testStart} training and validation rows (of ${rows}), which end at this line`, String(options.season));
+  }
+  const targetIndexes = targets.map((t) => columns.indexOf(t));
+  const positions: number[] = [];
+  for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
+  const split = { values, targets: targetIndexes, horizon, fitRows: testStart, positions };
+  const baselines = forecastBaselines(split, { season: options.season, spacing: time?.spacing ?? null });
+  const targetNames = targets.map((c) => table.header[c]);
+  const partsLine = `parts of ${file}, in time order: training ${linesOf(table, 0, trainEnd)}; validation, for stopping and keeping weights, ${linesOf(table, trainEnd, testStart)}; test, scored once at the end, ${linesOf(table, testStart, rows)}`;
+  const notes = [
+    ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
+    ...(time === null ? [] : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
+    ...tableNotes(table, time, series.columns, file),
+  ];
+  const common = {
+    task: 'forecast' as const,
+    columns: columns.map((c) => table.header[c]),
+    targetColumns: targetNames,
+    horizon,
+    ...(time === null ? {} : { timeColumn: time.name }),
+    split: { kind: 'series', rows, trainingRows: trainEnd, validationRows: testStart - trainEnd, testRows: rows - testStart },
+    ...(baselines.season.season === null ? {} : { season: baselines.season.season }),
+  };
+  const context = [partsLine, `${baselines.season.reason}${options.season === undefined ? ' (--season to choose another, or none)' : ''}`, ...baselines.leftOut.map((l) => `left out: ${l}`)];
+  const testWhat = `${positions.length} forecasts of ${targetNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`;
+  // Sliding windows by default for series up to SLIDING_ROWS training rows, unless a flag that applies to streams
+  // alone (--transform, --lookback) asks for streams.
+  const streamsAsked = (options.transform ?? 'none') !== 'none' || options.lookback > 0;
+  const examples = options.examples ?? (trainEnd <= SLIDING_ROWS && !streamsAsked ? 'sliding' : 'streams');
+  if (examples === 'sliding') {
+    return slidingWindows({ table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season: baselines.season.season, options, split, baselines, notes, metadata: common, context, what: testWhat });
+  }
   if (trainEnd < options.streams * options.window + horizon) {
     throw new CommandError(`${file}: ${rows} rows leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test), too few for ${options.streams} streams of ${options.window}-row windows ${horizon} row${horizon === 1 ? '' : 's'} ahead (${options.streams * options.window + horizon} rows); lower --streams or --window, or the --validation and --test shares`);
   }
   const { mean, deviation } = columnStatistics(values.slice(0, trainEnd), columns.length);
   const normalised = values.map((row) => row.map((v, j) => (v - mean[j]) / deviation[j]));
-  const targetIndexes = targets.map((t) => columns.indexOf(t));
   const flat = (from: number, to: number) => normalised.slice(from, to).flat();
   // With a transform, the model learns the change over `horizon` rows (row s holds the change from s − h to s).
   const transform = options.transform ?? 'none';
@@ -169,21 +208,6 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   );
   const validation = reading(testStart, trainEnd);
   const test = reading(rows, testStart);
-  if (options.season !== undefined && options.season !== null && !(options.season < testStart)) {
-    // The fitting rows end at this line: a season must fit in them.
-    fail('invalid_option', `${file}:${table.rows[testStart - 1].line}:1 (--season)`, `a season shorter than the ${testStart} training and validation rows (of ${rows}), which end at this line`, String(options.season));
-  }
-  const positions: number[] = [];
-  for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
-  const split = { values, targets: targetIndexes, horizon, fitRows: testStart, positions };
-  const baselines = forecastBaselines(split, { season: options.season, spacing: time?.spacing ?? null });
-  const targetNames = targets.map((c) => table.header[c]);
-  const partsLine = `parts of ${file}, in time order: training ${linesOf(table, 0, trainEnd)}; validation, for stopping and keeping weights, ${linesOf(table, trainEnd, testStart)}; test, scored once at the end, ${linesOf(table, testStart, rows)}`;
-  const notes = [
-    ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
-    ...(time === null ? [] : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
-    ...tableNotes(table, time, series.columns, file),
-  ];
   return {
     task: 'forecast',
     input: { kind: 'values', width: columns.length },
@@ -191,15 +215,9 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     train,
     validation,
     metadata: {
-      task: 'forecast',
-      columns: columns.map((c) => table.header[c]),
-      targetColumns: targetNames,
-      horizon,
+      ...common,
       normalisation: { mean, deviation },
       ...(change === null || transform === 'none' ? {} : { targetTransform: { kind: transform, mean: change.mean, deviation: change.deviation } }),
-      ...(time === null ? {} : { timeColumn: time.name }),
-      split: { kind: 'series', rows, trainingRows: trainEnd, validationRows: testStart - trainEnd, testRows: rows - testStart },
-      ...(baselines.season.season === null ? {} : { season: baselines.season.season }),
     },
     notes,
     validationFigure: (model) => {
@@ -212,13 +230,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     heldOut: (model) => {
       const forecasts = forecastsOn(model, test, rows);
       const scored = scoreForecaster(split, (at, k) => forecasts[k][at], baselines.scales);
-      return forecastReport({
-        what: `${positions.length} forecasts of ${targetNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`,
-        model: scored,
-        baselines: baselines.scores,
-        names: targetNames,
-        context: [partsLine, `${baselines.season.reason}${options.season === undefined ? ' (--season to choose another, or none)' : ''}`, ...baselines.leftOut.map((l) => `left out: ${l}`)],
-      });
+      return forecastReport({ what: testWhat, model: scored, baselines: baselines.scores, names: targetNames, context });
     },
   };
 
@@ -237,6 +249,130 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     });
     return forecasts;
   }
+}
+
+/** At most this many training rows train on sliding windows by default (short series); longer ones on streams. */
+export const SLIDING_ROWS = 2_000;
+
+/** The settings a preparation chose from the data (for flags not given), and why, for the first line. */
+export interface ChosenSettings {
+  readonly epochs?: number;
+  readonly patience?: number;
+  readonly hidden?: number;
+  /** In words, for the first line of output. */
+  readonly said: string;
+}
+
+interface SlidingInput {
+  readonly table: Table;
+  readonly file: string;
+  readonly values: readonly (readonly number[])[];
+  readonly columns: readonly number[];
+  readonly targetIndexes: readonly number[];
+  readonly trainEnd: number;
+  readonly testStart: number;
+  readonly horizon: number;
+  readonly season: number | null;
+  readonly options: PrepareOptions;
+  readonly split: { values: readonly (readonly number[])[]; targets: readonly number[]; horizon: number; fitRows: number; positions: readonly number[] };
+  readonly baselines: ReturnType<typeof forecastBaselines>;
+  readonly notes: string[];
+  readonly metadata: WeightMetadata;
+  readonly context: readonly string[];
+  readonly what: string;
+}
+
+/**
+ * Sliding windows: every row t of the training part whose target row t + horizon is a training row ends one
+ * example, the `window` rows up to t, each value taken relative to row t and divided by its column's deviation of
+ * one-row changes; the example's target is the change of each target from row t to row t + horizon, divided by
+ * that change's deviation (recorded as metadata `window`; createRowForecaster applies it). Validation and test
+ * examples end at the rows whose target rows are in those parts. Defaults from the data: a window of two seasons
+ * (24 rows without one), at most 64 rows and a quarter of the training rows; 32 windows per batch; enough epochs for about
+ * 2,000 updates (20 to 300); patience 5; 32 hidden units.
+ */
+function slidingWindows(input: SlidingInput): Prepared {
+  const { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season, options, split, baselines } = input;
+  const given = options.given ?? new Set<string>();
+  if ((options.transform ?? 'none') !== 'none') throw new CommandError('--transform applies to --examples streams; sliding windows already forecast the change from the window\'s last row', 2);
+  if (options.lookback > 0) throw new CommandError('--lookback applies to --examples streams (sliding windows are read whole)', 2);
+  const least = (season === null ? 32 : 2 * season) + horizon;
+  if (trainEnd < least) {
+    const rows = values.length;
+    const total = Math.ceil(least / (1 - options.validationShare - options.testShare));
+    throw new CommandError(`${file}: ${rows} rows leave ${trainEnd} training rows; a series ${season === null ? 'without a season' : `with a season of ${season} rows`} needs ${least} (${season === null ? '32 rows' : 'two seasons'} and the horizon), about ${total} rows in all with the --validation and --test shares`);
+  }
+  const window = given.has('window') ? options.window : Math.max(2, Math.min(season === null ? 24 : 2 * season, 64, Math.floor(trainEnd / 4)));
+  const width = columns.length;
+  // Deviations of one-row changes per column, and of the forecast change per target, over the training rows.
+  const deviation = Array.from({ length: width }, (_, j) => {
+    let sum = 0;
+    for (let t = 1; t < trainEnd; t++) sum += (values[t][j] - values[t - 1][j]) ** 2;
+    const d = Math.sqrt(sum / Math.max(1, trainEnd - 1));
+    return d > 0 && Number.isFinite(d) ? d : 1;
+  });
+  const targetDeviation = targetIndexes.map((j) => {
+    let sum = 0;
+    for (let t = 0; t + horizon < trainEnd; t++) sum += (values[t + horizon][j] - values[t][j]) ** 2;
+    const d = Math.sqrt(sum / Math.max(1, trainEnd - horizon));
+    return d > 0 && Number.isFinite(d) ? d : 1;
+  });
+  const example = (t: number): LabelledSequence => {
+    const inputs = new Array<number>(window * width);
+    for (let k = 0; k < window; k++) for (let j = 0; j < width; j++) inputs[k * width + j] = (values[t - window + 1 + k][j] - values[t][j]) / deviation[j];
+    return { values: inputs, target: targetIndexes.map((j, i) => (values[t + horizon][j] - values[t][j]) / targetDeviation[i]) };
+  };
+  const examplesEnding = (firstTarget: number, endTarget: number) => {
+    const out: LabelledSequence[] = [];
+    for (let t = Math.max(window - 1, firstTarget - horizon); t + horizon < endTarget; t++) out.push(example(t));
+    return out;
+  };
+  const trainSet = examplesEnding(0, trainEnd);
+  const validationSet = examplesEnding(trainEnd, testStart);
+  if (validationSet.length === 0) throw new CommandError(`${file}: the validation part has no row with ${window} rows before it; lower --window`);
+  const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(trainSet.length / 4)));
+  const batchesPerEpoch = Math.ceil(trainSet.length / batch);
+  const epochs = Math.min(300, Math.max(20, Math.ceil(2000 / batchesPerEpoch)));
+  const validation = sequenceBatches(validationSet, { batchSize: 256, features: width });
+  const test = sequenceBatches(examplesEnding(testStart, values.length), { batchSize: 256, features: width });
+  const seasonWords = season === null ? 'no season found' : 2 * season === window ? `two seasons of ${season} rows` : `a season of ${season} rows`;
+  const forecastsOf = (model: SequenceModel, source: DataSource, firstTarget: number): Float64Array[] => {
+    const forecasts = targetIndexes.map(() => new Float64Array(values.length).fill(NaN));
+    let t = Math.max(window - 1, firstTarget - horizon);
+    forEachOutputBatch(model, source, (_batch, { outputs }) => {
+      for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
+        targetIndexes.forEach((j, k) => (forecasts[k][t] = values[t][j] + outputs[i + k] * targetDeviation[k]));
+      }
+    });
+    return forecasts;
+  };
+  return {
+    task: 'forecast',
+    input: { kind: 'values', width },
+    outputWidth: targetIndexes.length,
+    train: sequenceBatches(trainSet, { batchSize: batch, features: width, seed: options.seed }),
+    validation,
+    metadata: { ...input.metadata, normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation } },
+    notes: input.notes,
+    chosen: {
+      ...(given.has('epochs') ? {} : { epochs }),
+      ...(given.has('patience') ? {} : { patience: 5 }),
+      ...(given.has('hidden') ? {} : { hidden: 32 }),
+      said: `sliding windows: ${trainSet.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override, --examples streams reads the series as streams)`,
+    },
+    validationFigure: (model) => {
+      const forecasts = forecastsOf(model, validation, trainEnd);
+      const positions: number[] = [];
+      for (let t = Math.max(window - 1, trainEnd - horizon); t < testStart - horizon; t++) positions.push(t);
+      const errors = scoreForecaster({ ...split, positions }, (at, k) => forecasts[k][at], baselines.scales).overall;
+      return targetIndexes.length > 1 ? errors.mase ?? NaN : errors.mae;
+    },
+    heldOut: (model) => {
+      const forecasts = forecastsOf(model, test, testStart);
+      const scored = scoreForecaster(split, (at, k) => forecasts[k][at], baselines.scales);
+      return forecastReport({ what: input.what, model: scored, baselines: baselines.scores, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
+    },
+  };
 }
 
 export function tokenize(text: string, mode: 'characters' | 'words'): string[] {

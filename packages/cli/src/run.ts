@@ -14,7 +14,7 @@ import { fail } from '@weft/core';
 import { isEncoderDecoder } from '@weft/cells';
 import { createReadStream, existsSync, readFileSync } from 'node:fs';
 import { createInterface } from 'node:readline';
-import { createTranslator, parseTable, fieldPath } from '@weft/io';
+import { createRowForecaster, createTranslator, parseTable, fieldPath } from '@weft/io';
 import type { Table } from '@weft/io';
 import { loadWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
@@ -203,9 +203,7 @@ type EachRow = (table: Table, row: number, emit: (record: OutputRecord) => void)
  * model that forecasts all its input columns one row ahead.
  */
 function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean) {
-  const translator = createTranslator(meta);
-  const streams = runtime.streams(1);
-  const input = new Float32Array(translator.inputNames.length);
+  const model = createRowForecaster(runtime, meta);
   const raw: Record<string, string> = {};
   let at: number[] | null = null;
   let kept: number[] = [];
@@ -213,14 +211,15 @@ function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: strin
   let last: Record<string, number> = {};
   const targetName = (target: string) => `${target} in ${String(meta.horizon)}`;
   const checkAhead = (): void => {
-    const missing = translator.inputNames.filter((c) => !translator.outputNames.includes(c));
+    const missing = model.inputNames.filter((c) => !model.outputNames.includes(c));
     if (Number(meta.horizon) !== 1 || missing.length > 0) {
-      throw new CommandError(`--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead; this one forecasts ${translator.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''} (train it with --horizon 1 and no --target)`, 2);
+      throw new CommandError(`--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead; this one forecasts ${model.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''} (train it with --horizon 1 and no --target)`, 2);
     }
   };
   const ahead = (rows: number, count: number, emit: (record: OutputRecord) => void): void => {
+    if (rows < model.warmUp) throw new CommandError(`${name}: ${rows} rows are fewer than the ${model.warmUp} the model reads before its first forecast; nothing to forecast ahead from`);
     for (let k = 1; k <= count; k++) {
-      const values = translator.outputs(streams.step(translator.inputs(last, input)));
+      const values = model.next(last) as Record<string, number>;
       const record: OutputRecord = { row: rows + k, made: 'from forecasts' };
       for (const c of keptNames) record[c] = '';
       for (const [target, value] of Object.entries(values)) record[targetName(target)] = Number(value.toPrecision(6));
@@ -229,23 +228,28 @@ function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: strin
     }
   };
   const each: EachRow = (table, row, emit) => {
-    at ??= columnsAt(table, translator.inputNames, name, 'the model reads it');
+    at ??= columnsAt(table, model.inputNames, name, 'the model reads it');
     if (row === 1) kept = columnsAt(table, keep, name, 'for --keep');
     const fields = table.rows[0].fields;
-    translator.inputNames.forEach((c, j) => (raw[c] = fields[(at as number[])[j]]));
+    model.inputNames.forEach((c, j) => (raw[c] = fields[(at as number[])[j]]));
+    let values: Record<string, number> | null;
     try {
-      translator.inputs(raw, input);
+      values = model.next(raw);
     } catch {
       // Point at the first field that is not a number, by line and column.
-      const j = translator.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
-      throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[translator.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(translator.inputNames[Math.max(0, j)])} is not a number`);
+      const j = model.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
+      throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`);
     }
-    const values = translator.outputs(streams.step(input));
-    last = values;
     const record: OutputRecord = marked ? { row, made: 'from data' } : { row };
     keptNames = kept.map((c) => table.header[c]);
     kept.forEach((c) => (record[table.header[c]] = fields[c]));
-    for (const [target, value] of Object.entries(values)) record[targetName(target)] = Number(value.toPrecision(6));
+    if (values === null) {
+      // A windowed model forecasts once it has a window of rows: the first rows get empty forecasts.
+      for (const target of model.outputNames) record[targetName(target)] = '';
+    } else {
+      last = values;
+      for (const [target, value] of Object.entries(values)) record[targetName(target)] = Number(value.toPrecision(6));
+    }
     emit(record);
   };
   return { each, ahead, checkAhead };

@@ -13,7 +13,7 @@
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { Random, fail, logSumExp } from '@weft/core';
-import { chooseLogistic, classificationReport, createTranslator, fieldPath, forecastBaselines, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
+import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
 import type { Table, WeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
@@ -99,14 +99,18 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   if (season !== undefined && season !== null && !(season < testStart)) {
     fail('invalid_option', `${name}:${table.rows[testStart - 1].line}:1 (--season)`, `a season shorter than the ${testStart} rows before the scored ones, which end at this line`, String(season));
   }
-  // The model's forecast made at every row, in real units, its state running from the first row.
-  const streams = runtime.streams(1);
-  const input = new Float32Array(at.length);
+  // The model's forecast made at every row, in real units (a stream's state running from the first row; a
+  // windowed model's from the rows of its window).
+  const forecaster = createRowForecaster(runtime, meta);
   const row: Record<string, number> = {};
-  const forecasts = values.map((v) => {
+  const forecasts = values.map((v, r) => {
     translator.inputNames.forEach((c, j) => (row[c] = v[j]));
-    return Object.values(translator.outputs(streams.step(translator.inputs(row, input))));
+    const made = forecaster.next(row, fieldPath(table, r, at[0]));
+    return made === null ? null : translator.outputNames.map((name) => made[name]);
   });
+  if (forecasts[rows - scored - horizon] === null) {
+    fail('invalid_option', '--test', `a share whose first scored row has the model's ${forecaster.warmUp} rows of window before it`, `${part.share ?? 'the recorded test part'} (${scored} of ${rows} rows)`);
+  }
   const positions: number[] = [];
   for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
   const split = { values, targets, horizon, fitRows: testStart, positions };
@@ -114,12 +118,12 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   const lines = `lines ${table.rows[testStart].line}–${table.rows[rows - 1].line} (${scored} rows)`;
   return forecastReport({
     what: `${positions.length} forecasts of ${translator.outputNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
-    model: scoreForecaster(split, (t, k) => forecasts[t][k], baselines.scales),
+    model: scoreForecaster(split, (t, k) => (forecasts[t] as number[])[k], baselines.scales),
     baselines: baselines.scores,
     names: translator.outputNames,
     context: [
       ...(warning === null ? [] : [warning]),
-      `the model's state starts at zero on line ${table.rows[0].line} and runs through every row; the baselines are fitted on lines ${table.rows[0].line}–${table.rows[testStart - 1].line}, the rows before the scored ones`,
+      `${forecaster.warmUp > 1 ? `the model forecasts from the last ${forecaster.warmUp} rows at each row` : `the model's state starts at zero on line ${table.rows[0].line} and runs through every row`}; the baselines are fitted on lines ${table.rows[0].line}–${table.rows[testStart - 1].line}, the rows before the scored ones`,
       `${baselines.season.reason}${season === undefined ? ' (--season to choose another, or none)' : ''}`,
       ...baselines.leftOut.map((l) => `left out: ${l}`),
     ],

@@ -18,7 +18,7 @@ import { detectDelimiter, sha256Hex } from '@weft/io';
 import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
-import { prepareClassification, prepareForecast, prepareText } from './datasets.js';
+import { SLIDING_ROWS, prepareClassification, prepareForecast, prepareText } from './datasets.js';
 import type { HeldOutReport, Prepared, Task } from './datasets.js';
 import { pairsDescription, preparePairs } from './pairs.js';
 import type { PairsPrepared } from './pairs.js';
@@ -47,6 +47,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'seed', value: 'TEXT', description: 'seed for every random choice', fallback: '1' },
   { name: 'validation', value: 'SHARE', description: 'share of the data for validation: stopping and keeping the best weights (before the test part of a series or text; a seeded share of sequences)', fallback: '0.1' },
   { name: 'test', value: 'SHARE', description: 'share of the data for the test, scored once for the verdict against the baselines and never used for stopping (the end of a series or text; a seeded share of sequences)', fallback: '0.1' },
+  { name: 'examples', value: 'sliding|streams', description: 'how a series becomes training examples: sliding windows (every training row ends one window of --window rows, read relative to its last row) or long streams cut into windows with carried state (forecast)', fallback: `sliding up to ${SLIDING_ROWS} training rows, else streams` },
   { name: 'time-column', value: 'NAME', description: 'the column of times of a series (dates, date-times, year-months, year-quarters, years): gives the season\'s candidates', fallback: 'a column named like a time, or the first whose values are times' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
   { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3' },
@@ -133,7 +134,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const text = readData(dataPath);
   const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify', 'pairs'] as const, args.flags.has('id-column') ? 'classify' : guessTask(dataPath, text));
   const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
-  const hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
+  let hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
   const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
   const dropout = numberFlag(args, 'dropout', 0, { min: 0, max: 0.95 });
   const seed = args.flags.get('seed') ?? '1';
@@ -144,6 +145,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     validationShare: numberFlag(args, 'validation', 0.1, { min: 0.01, max: 0.8 }),
     testShare: numberFlag(args, 'test', 0.1, { min: 0.01, max: 0.8 }),
     timeColumn: args.flags.get('time-column'),
+    examples: args.flags.has('examples') ? choiceFlag(args, 'examples', ['sliding', 'streams'] as const, 'sliding') : undefined,
+    given: new Set([...args.flags.keys(), ...args.switches]),
     horizon: numberFlag(args, 'horizon', 1, { whole: true, min: 1, max: 100000 }),
     columns: args.flags.get('columns')?.split(',').map((s) => s.trim()),
     targets: args.flags.get('target')?.split(',').map((s) => s.trim()),
@@ -155,7 +158,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     season: args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined,
   };
   if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
-  if (options.timeColumn !== undefined && task !== 'forecast') throw new CommandError(`--time-column applies to --task forecast, not ${task}`, 2);
+  for (const name of ['time-column', 'examples']) {
+    if (args.flags.has(name) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
+  }
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
   if (options.lookback > 0 && task === 'pairs') throw new CommandError('--lookback applies to streams (--task forecast or text); pairs are read whole', 2);
   if (args.switches.has('bidirectional') && task !== 'classify' && task !== 'pairs') throw new CommandError('--bidirectional needs --task classify or pairs (forecasts and text are read forward in time)', 2);
@@ -181,6 +186,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
         });
   // Under --quiet only the final result lines are printed (the held-out report, the summary, where files went).
   const info = args.switches.has('quiet') ? () => undefined : log;
+  const chosen = prepared.task === 'pairs' ? undefined : prepared.chosen;
+  if (chosen !== undefined) info(chosen.said);
+  hidden = chosen?.hidden ?? hidden;
   for (const note of prepared.notes ?? []) info(note);
   const layers: LayerDescription[] = Array.from({ length: layerCount }, () => ({ cell, hidden, ...(args.switches.has('bidirectional') ? { bidirectional: true } : {}) }));
   const description: AnyModelDescription = prepared.task === 'pairs'
@@ -204,7 +212,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const view = args.switches.has('quiet') ? null : new ProgressView(process.stderr, maeScale);
   const controller = new AbortController();
   const validateEvery = args.flags.has('validate-every') ? numberFlag(args, 'validate-every', 1, { whole: true, min: 1 }) : undefined;
-  const patience = numberFlag(args, 'patience', 3, { whole: true, min: 1 });
+  const patience = chosen?.patience ?? numberFlag(args, 'patience', 3, { whole: true, min: 1 });
   const metadataFor = (trainer: Trainer) => ({
     ...prepared.metadata,
     training: { data: basename(dataPath), dataDigest, steps: trainer.stepsTaken, seed, store, seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)) },
@@ -230,7 +238,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
       data: prepared.train,
       validation: prepared.validation,
       optimizer: new AdamRule({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
-      epochs: numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 }),
+      epochs: chosen?.epochs ?? numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 }),
       gradientNormLimit: numberFlag(args, 'clip', 1, { min: 1e-9 }),
       validateEvery,
       patience,

@@ -28,7 +28,7 @@ const readings = Array.from({ length: 400 }, (_, t) => ({ hour: `h${t}`, level: 
 
 beforeAll(() => {
   writeFileSync(join(folder, 'tank.csv'), `hour,level,inflow\n${readings.map((r) => `${r.hour},${r.level},${r.inflow}`).join('\n')}\n`);
-  const trained = weft(['train', 'tank.csv', '--target', 'level', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'tank.weft.json', '--quiet']);
+  const trained = weft(['train', 'tank.csv', '--examples', 'streams', '--target', 'level', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'tank.weft.json', '--quiet']);
   expect(trained.code).toBe(0);
 });
 
@@ -104,7 +104,7 @@ describe('weft run', () => {
 
   it('forecasts past the end with --ahead by feeding each forecast back, and refuses a model that cannot', async () => {
     writeFileSync(join(folder, 'both.csv'), `level,inflow\n${readings.map((r) => `${r.level},${r.inflow}`).join('\n')}\n`);
-    expect(weft(['train', 'both.csv', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'both.weft.json', '--quiet']).code).toBe(0);
+    expect(weft(['train', 'both.csv', '--examples', 'streams', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'both.weft.json', '--quiet']).code).toBe(0);
     const tail = readings.slice(0, 40);
     const run = weft(['run', 'both.weft.json', '-', '--ahead', '3', '--format', 'json'], `level,inflow\n${tail.map((r) => `${r.level},${r.inflow}`).join('\n')}\n`);
     expect(run.code).toBe(0);
@@ -142,7 +142,7 @@ describe('weft run on forecasts and classifications', () => {
   it('writes forecasts for a CSV to a file, and classes for labelled sequences as CSV', () => {
     const rows = Array.from({ length: 400 }, (_, i) => `${(20 + 5 * Math.sin(i / 6)).toFixed(3)},${(50 + 10 * Math.cos(i / 6)).toFixed(3)}`);
     writeFileSync(join(folder, 'room.csv'), `temperature,humidity\n${rows.join('\n')}\n`);
-    const trained = weft(['train', 'room.csv', '--target', 'temperature', '--horizon', '2', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'room.weft.json', '--quiet']);
+    const trained = weft(['train', 'room.csv', '--examples', 'streams', '--target', 'temperature', '--horizon', '2', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'room.weft.json', '--quiet']);
     expect(trained.code).toBe(0);
     // --quiet: no progress, no notes, only the final result lines.
     expect(trained.err).toBe('');

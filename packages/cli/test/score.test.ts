@@ -80,7 +80,7 @@ describe('weft score', () => {
   it('scores a forecast model with the MAE of weft run\'s own forecasts on the last fifth, beside every baseline', () => {
     const rows = Array.from({ length: 300 }, (_, t) => `${(20 + 5 * Math.sin(t / 6)).toFixed(3)},${(Math.cos(t / 6)).toFixed(3)}`);
     writeFileSync(join(folder, 'kiln.csv'), `heat,draft\n${rows.join('\n')}\n`);
-    expect(weft(['train', 'kiln.csv', '--target', 'heat', '--hidden', '8', '--epochs', '3', '--streams', '4', '--out', 'kiln.weft.json', '--quiet']).code).toBe(0);
+    expect(weft(['train', 'kiln.csv', '--examples', 'streams', '--target', 'heat', '--hidden', '8', '--epochs', '3', '--streams', '4', '--out', 'kiln.weft.json', '--quiet']).code).toBe(0);
     const rows2 = Array.from({ length: 200 }, (_, t) => `${(21 + 5 * Math.sin(t / 6 + 1)).toFixed(3)},${(Math.cos(t / 6 + 1)).toFixed(3)}`);
     writeFileSync(join(folder, 'kiln-later.csv'), `heat,draft\n${rows2.join('\n')}\n`);
     const scored = JSON.parse(weft(['score', 'kiln.weft.json', 'kiln-later.csv', '--format', 'json', '--season', 'none']).out) as { what: string; context: string[]; model: { value: number; overall: { count: number } }; baselines: { name: string }[] };

@@ -37,6 +37,8 @@ export type { LogisticModel } from './data/logistic.js';
 export { LOGISTIC_PENALTIES, chooseLogistic, fitLogistic, logisticLoss, predictLogistic, summaryFeatures } from './data/logistic.js';
 export type { TimeColumn } from './data/time-column.js';
 export { parseTime, readTimeColumn, timeSpacing } from './data/time-column.js';
+export type { ForecastWindow, RowForecaster } from './forecaster.js';
+export { createRowForecaster, forecastWindow } from './forecaster.js';
 export type { Translator } from './translate.js';
 export { UNKNOWN_TOKEN, createTranslator, splitTokens } from './translate.js';
 export type { BleuScore, NgramCounts } from './data/transduction.js';

@@ -1,0 +1,67 @@
+/**
+ * Row forecasters (forecaster.ts): a stream model steps once per row exactly as the translator and runtime do by
+ * hand; a windowed model forecasts, once it has a window of rows, what the same runtime gives for that window read
+ * relative to its last row from a zero state, worked here by hand from the metadata's definition; it refuses a
+ * malformed `window` record naming the field, and a row without a number naming the column.
+ */
+import { describe, expect, it } from 'vitest';
+import { Random } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { createRowForecaster, createTranslator, modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
+import { createRuntime } from '@weft/io/runtime';
+
+const description = { input: { kind: 'values' as const, width: 2 }, layers: [{ cell: 'gru' as const, hidden: 6 }], readout: { width: 1 } };
+const base = { task: 'forecast', columns: ['heat', 'flow'], targetColumns: ['heat'], horizon: 1, normalisation: { mean: [20, 3], deviation: [4, 1.5] } };
+
+async function runtimeOf(seed: number) {
+  const model = buildModel(description, { seed });
+  const random = new Random(`forecaster ${seed}`);
+  for (const p of model.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
+  return createRuntime(await readWeightFile(await writeWeightFile(model.description, modelTensors(model))));
+}
+
+const rows = Array.from({ length: 12 }, (_, t) => ({ heat: 20 + 3 * Math.sin(t / 2), flow: 3 + Math.cos(t) }));
+
+describe('forecasting row by row', () => {
+  it('steps a stream model once per row, as the translator and runtime do by hand', async () => {
+    const forecaster = createRowForecaster(await runtimeOf(1), base);
+    const runtime = await runtimeOf(1);
+    const translator = createTranslator(base);
+    const streams = runtime.streams(1);
+    expect(forecaster.warmUp).toBe(1);
+    for (const row of rows) expect(forecaster.next(row)).toEqual(translator.outputs(streams.step(translator.inputs(row))));
+  });
+
+  it('forecasts from the last rows of its window alone, relative to the last row, once it has them', async () => {
+    const window = { rows: 4, deviation: [0.5, 2], targetDeviation: [0.25] };
+    const forecaster = createRowForecaster(await runtimeOf(2), { ...base, window });
+    const runtime = await runtimeOf(2);
+    expect(forecaster.warmUp).toBe(4);
+    rows.forEach((row, t) => {
+      const made = forecaster.next(row);
+      if (t < 3) {
+        expect(made).toBeNull();
+        return;
+      }
+      // By hand: rows t − 3 … t, each minus row t and divided by its column's deviation, run from a zero state.
+      const input = new Float32Array(8);
+      for (let k = 0; k < 4; k++) {
+        input[2 * k] = (rows[t - 3 + k].heat - row.heat) / 0.5;
+        input[2 * k + 1] = (rows[t - 3 + k].flow - row.flow) / 2;
+      }
+      const out = runtime.run(input, 4, 1);
+      expect(made!.heat).toBeCloseTo(row.heat + out[3] * 0.25, 5);
+    });
+    forecaster.reset();
+    expect(forecaster.next(rows[0])).toBeNull();
+  });
+
+  it('refuses a malformed window record naming the field, and a row without a number naming the column', async () => {
+    const runtime = await runtimeOf(3);
+    expect(() => createRowForecaster(runtime, { ...base, window: { rows: 4, deviation: [1], targetDeviation: [1] } })).toThrowError(
+      'Bad weight file at metadata.window.deviation: expected 2 finite numbers > 0 (one per column), received [1]');
+    expect(() => createRowForecaster(runtime, { ...base, window: { rows: 0, deviation: [1, 1], targetDeviation: [1] } })).toThrowError(/^Bad weight file at metadata\.window\.rows: expected a whole number ≥ 1, received 0$/);
+    const forecaster = createRowForecaster(runtime, { ...base, window: { rows: 2, deviation: [1, 1], targetDeviation: [1] } });
+    expect(() => forecaster.next({ heat: 'warm', flow: 1 }, 'readings.csv:4:1')).toThrowError('Bad data at readings.csv:4:1.heat: expected a finite number, received "warm"');
+  });
+});
