@@ -10,7 +10,7 @@ import { fileURLToPath } from 'node:url';
 import { loadWeightFile } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
 import { parseArgs } from './args.js';
-import { createTranslator, parseTable } from '@weft/io';
+import { createRowForecaster, parseTable } from '@weft/io';
 import { train, trainFlags } from './train.js';
 
 const data = fileURLToPath(new URL('../demo/greenhouse.csv', import.meta.url));
@@ -30,22 +30,21 @@ async function demo(): Promise<void> {
   // Load the saved file back into the runtime and forecast the test days from it.
   const file = await loadWeightFile(out);
   const runtime = await createRuntime(file);
-  // The translator applies what training recorded (the columns' normalisation), so the forecasts come out in °C.
-  const translator = createTranslator(file.metadata as Record<string, unknown>);
+  // The forecaster applies what training recorded (the columns' scaling, a window if it trained on windows), so
+  // the forecasts come out in °C.
+  const forecaster = createRowForecaster(runtime, file.metadata as Record<string, unknown>);
   const table = parseTable(readFileSync(data, 'utf8'), { file: data });
-  const columns = translator.inputNames.map((c) => table.header.indexOf(c));
-  const target = translator.outputNames[0];
+  const columns = forecaster.inputNames.map((c) => table.header.indexOf(c));
+  const target = forecaster.outputNames[0];
   const targetColumn = table.header.indexOf(target);
-  const streams = runtime.streams(1);
-  const input = new Float32Array(columns.length);
   const horizon = Number((file.metadata as { horizon: number }).horizon);
   const firstTest = table.rows.length - (outcome.prepared.metadata.split as { testRows: number }).testRows;
   const row: Record<string, string> = {};
   const samples: string[] = [];
   for (let r = 0; r + horizon < table.rows.length; r++) {
-    translator.inputNames.forEach((c, j) => (row[c] = table.rows[r].fields[columns[j]]));
-    const forecast = translator.outputs(streams.step(translator.inputs(row, input)))[target];
-    if (r + horizon < firstTest || (r + horizon - firstTest) % 40 !== 0 || samples.length >= 10) continue;
+    forecaster.inputNames.forEach((c, j) => (row[c] = table.rows[r].fields[columns[j]]));
+    const forecast = forecaster.next(row)?.[target];
+    if (forecast === undefined || r + horizon < firstTest || (r + horizon - firstTest) % 40 !== 0 || samples.length >= 10) continue;
     const now = Number(table.rows[r].fields[targetColumn]);
     const actual = Number(table.rows[r + horizon].fields[targetColumn]);
     samples.push(`  ${table.rows[r].fields[0].padEnd(17)}  ${now.toFixed(2).padStart(6)}  ${actual.toFixed(2).padStart(12)}  ${forecast.toFixed(2).padStart(8)}`);
