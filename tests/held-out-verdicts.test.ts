@@ -89,6 +89,20 @@ describe('the held-out verdict', () => {
     expect(scored.bestBaseline).toBe(outcome.heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a)).name);
   }, 60_000);
 
+  it('beats every baseline on monthly CO₂ with --hybrid, on top of the smoothing method best on the validation part, in train and score alike', async () => {
+    const co2 = fileURLToPath(new URL('../node_modules/vega-datasets/data/co2-concentration.csv', import.meta.url));
+    const out = join(folder, 'co2-hybrid.weft.json');
+    const { outcome, text } = await trainQuietly([co2, '--target', 'CO2', '--hybrid', '--out', out]);
+    expect(text.split('\n')[0]).toMatch(/^sliding windows on top of Holt-Winters (additive|multiplicative): /);
+    const best = outcome.heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a));
+    console.log(`CO₂ with --hybrid: model MAE ${outcome.heldOut.model.value}, best baseline ${best.name} ${best.value}`);
+    expect(outcome.heldOut.model.value).toBeLessThan(best.value);
+    expect(text).toMatch(/^verdict: the model beats every baseline: MAE /m);
+    const scored = JSON.parse(await score(parseArgs('score', [out, co2, '--format', 'json'], scoreFlags))) as { model: { value: number } };
+    expect(Math.abs(scored.model.value - outcome.heldOut.model.value)).toBeLessThanOrEqual(1e-5 * outcome.heldOut.model.value);
+    await expect(trainQuietly([co2, '--target', 'CO2', '--hybrid', '--examples', 'streams', '--out', join(folder, 'x.weft.json')])).rejects.toThrow('--hybrid needs sliding windows');
+  }, 60_000);
+
   it('refuses a series too short for two seasons and the horizon in its training rows, naming the minimum', async () => {
     const file = join(folder, 'short.csv');
     writeFileSync(file, `level\n${seasonalTrend(60).map((v) => v.toFixed(4)).join('\n')}\n`);

@@ -14,8 +14,8 @@ import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, predictLogistic, summaryFeatures, textBaselines, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
-import { forecastReport } from '@weft/io';
-import type { ClassificationReport, HeldOutReport, Table, TimeColumn, WeightMetadata } from '@weft/io';
+import { fitSmoothing, forecastReport, runSmoothing } from '@weft/io';
+import type { ClassificationReport, HeldOutReport, SmoothingMethod, SmoothingParameters, Table, TimeColumn, WeightMetadata } from '@weft/io';
 
 export type { Contender, HeldOutReport } from '@weft/io';
 import { CommandError } from './errors.js';
@@ -54,6 +54,8 @@ export interface PrepareOptions {
   readonly examples?: 'sliding' | 'streams';
   /** The flags given on the command line (others may be chosen from the data). */
   readonly given?: ReadonlySet<string>;
+  /** Sliding windows only: forecast the correction to an exponential smoothing forecast (see slidingWindows). */
+  readonly hybrid?: boolean;
   readonly columns?: string[];
   readonly targets?: string[];
   readonly tokens: 'characters' | 'words';
@@ -176,6 +178,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   if (examples === 'sliding') {
     return slidingWindows({ table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season: baselines.season.season, options, split, baselines, notes, metadata: common, context, what: testWhat });
   }
+  if (options.hybrid === true) throw new CommandError('--hybrid needs sliding windows (--examples sliding; the default up to 2,000 training rows, and not with --transform or --lookback)', 2);
   if (trainEnd < options.streams * options.window + horizon) {
     throw new CommandError(`${file}: ${rows} rows leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test), too few for ${options.streams} streams of ${options.window}-row windows ${horizon} row${horizon === 1 ? '' : 's'} ahead (${options.streams * options.window + horizon} rows); lower --streams or --window, or the --validation and --test shares`);
   }
@@ -263,6 +266,26 @@ export interface ChosenSettings {
   readonly said: string;
 }
 
+/** The smoothing method, fitted on rows [0, fitEnd), whose forecasts of rows [fitEnd, checkEnd) have the lowest MAE. */
+function chooseSmoothing(series: readonly number[], fitEnd: number, checkEnd: number, horizon: number, season: number | null): { name: string; parameters: SmoothingParameters; forecasts: Float64Array } {
+  const methods: SmoothingMethod[] = ['simple', 'damped', ...(season === null ? [] : (['additive', 'multiplicative'] as SmoothingMethod[]))];
+  let best: { name: string; parameters: SmoothingParameters; forecasts: Float64Array; error: number } | null = null;
+  for (const method of methods) {
+    const fit = fitSmoothing(series, fitEnd, method, season ?? 1);
+    if (fit === null) continue;
+    const forecasts = new Float64Array(series.length);
+    if (Number.isNaN(runSmoothing(series, fitEnd, fit, horizon, forecasts))) continue;
+    let error = 0;
+    for (let t = fitEnd - horizon; t + horizon < checkEnd; t++) error += Math.abs(series[t + horizon] - forecasts[t]);
+    if (best === null || error < best.error) {
+      const { meanSquaredError: _unused, ...parameters } = fit;
+      best = { name: method === 'simple' ? 'simple smoothing' : method === 'damped' ? 'a damped trend' : `Holt-Winters ${method}`, parameters, forecasts, error };
+    }
+  }
+  if (best === null) throw new CommandError('--hybrid found no smoothing method to fit on the training rows', 2);
+  return best;
+}
+
 interface SlidingInput {
   readonly table: Table;
   readonly file: string;
@@ -311,16 +334,26 @@ function slidingWindows(input: SlidingInput): Prepared {
     const d = Math.sqrt(sum / Math.max(1, trainEnd - 1));
     return d > 0 && Number.isFinite(d) ? d : 1;
   });
-  const targetDeviation = targetIndexes.map((j) => {
+  // The hybrid: per target, the smoothing method (fitted on the training rows) whose forecasts of the validation
+  // rows are best; the model reads its forecasts beside the values and forecasts the correction to them.
+  const hybrid = options.hybrid === true ? targetIndexes.map((j) => chooseSmoothing(values.map((row) => row[j]), trainEnd, testStart, horizon, season)) : null;
+  const smoothed = hybrid?.map((h) => h.forecasts) ?? null;
+  const base = (k: number, t: number) => (smoothed === null ? values[t][targetIndexes[k]] : smoothed[k][t]);
+  const inputWidth = width + (hybrid === null ? 0 : targetIndexes.length);
+  const targetDeviation = targetIndexes.map((j, k) => {
     let sum = 0;
-    for (let t = 0; t + horizon < trainEnd; t++) sum += (values[t + horizon][j] - values[t][j]) ** 2;
+    for (let t = 0; t + horizon < trainEnd; t++) sum += (values[t + horizon][j] - base(k, t)) ** 2;
     const d = Math.sqrt(sum / Math.max(1, trainEnd - horizon));
     return d > 0 && Number.isFinite(d) ? d : 1;
   });
   const example = (t: number): LabelledSequence => {
-    const inputs = new Array<number>(window * width);
-    for (let k = 0; k < window; k++) for (let j = 0; j < width; j++) inputs[k * width + j] = (values[t - window + 1 + k][j] - values[t][j]) / deviation[j];
-    return { values: inputs, target: targetIndexes.map((j, i) => (values[t + horizon][j] - values[t][j]) / targetDeviation[i]) };
+    const inputs = new Array<number>(window * inputWidth);
+    for (let k = 0; k < window; k++) {
+      const row = t - window + 1 + k;
+      for (let j = 0; j < width; j++) inputs[k * inputWidth + j] = (values[row][j] - values[t][j]) / deviation[j];
+      if (smoothed !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (smoothed[i][row] - values[t][j]) / deviation[j]));
+    }
+    return { values: inputs, target: targetIndexes.map((j, i) => (values[t + horizon][j] - base(i, t)) / targetDeviation[i]) };
   };
   const examplesEnding = (firstTarget: number, endTarget: number) => {
     const out: LabelledSequence[] = [];
@@ -333,32 +366,32 @@ function slidingWindows(input: SlidingInput): Prepared {
   const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(trainSet.length / 4)));
   const batchesPerEpoch = Math.ceil(trainSet.length / batch);
   const epochs = Math.min(300, Math.max(20, Math.ceil(2000 / batchesPerEpoch)));
-  const validation = sequenceBatches(validationSet, { batchSize: 256, features: width });
-  const test = sequenceBatches(examplesEnding(testStart, values.length), { batchSize: 256, features: width });
+  const validation = sequenceBatches(validationSet, { batchSize: 256, features: inputWidth });
+  const test = sequenceBatches(examplesEnding(testStart, values.length), { batchSize: 256, features: inputWidth });
   const seasonWords = season === null ? 'no season found' : 2 * season === window ? `two seasons of ${season} rows` : `a season of ${season} rows`;
   const forecastsOf = (model: SequenceModel, source: DataSource, firstTarget: number): Float64Array[] => {
     const forecasts = targetIndexes.map(() => new Float64Array(values.length).fill(NaN));
     let t = Math.max(window - 1, firstTarget - horizon);
     forEachOutputBatch(model, source, (_batch, { outputs }) => {
       for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
-        targetIndexes.forEach((j, k) => (forecasts[k][t] = values[t][j] + outputs[i + k] * targetDeviation[k]));
+        targetIndexes.forEach((_j, k) => (forecasts[k][t] = base(k, t) + outputs[i + k] * targetDeviation[k]));
       }
     });
     return forecasts;
   };
   return {
     task: 'forecast',
-    input: { kind: 'values', width },
+    input: { kind: 'values', width: inputWidth },
     outputWidth: targetIndexes.length,
-    train: sequenceBatches(trainSet, { batchSize: batch, features: width, seed: options.seed }),
+    train: sequenceBatches(trainSet, { batchSize: batch, features: inputWidth, seed: options.seed }),
     validation,
-    metadata: { ...input.metadata, normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation } },
+    metadata: { ...input.metadata, normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }) } },
     notes: input.notes,
     chosen: {
       ...(given.has('epochs') ? {} : { epochs }),
       ...(given.has('patience') ? {} : { patience: 5 }),
       ...(given.has('hidden') ? {} : { hidden: 32 }),
-      said: `sliding windows: ${trainSet.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override, --examples streams reads the series as streams)`,
+      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}: ${trainSet.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override, --examples streams reads the series as streams)`,
     },
     validationFigure: (model) => {
       const forecasts = forecastsOf(model, validation, trainEnd);

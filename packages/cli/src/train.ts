@@ -48,6 +48,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'validation', value: 'SHARE', description: 'share of the data for validation: stopping and keeping the best weights (before the test part of a series or text; a seeded share of sequences)', fallback: '0.1' },
   { name: 'test', value: 'SHARE', description: 'share of the data for the test, scored once for the verdict against the baselines and never used for stopping (the end of a series or text; a seeded share of sequences)', fallback: '0.1' },
   { name: 'examples', value: 'sliding|streams', description: 'how a series becomes training examples: sliding windows (every training row ends one window of --window rows, read relative to its last row) or long streams cut into windows with carried state (forecast)', fallback: `sliding up to ${SLIDING_ROWS} training rows, else streams` },
+  { name: 'hybrid', switch: true, description: 'on top of exponential smoothing: the model reads the forecasts of the smoothing method that is best on the validation part and forecasts their correction (forecast, sliding windows)' },
   { name: 'time-column', value: 'NAME', description: 'the column of times of a series (dates, date-times, year-months, year-quarters, years): gives the season\'s candidates', fallback: 'a column named like a time, or the first whose values are times' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
   { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3' },
@@ -147,6 +148,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     timeColumn: args.flags.get('time-column'),
     examples: args.flags.has('examples') ? choiceFlag(args, 'examples', ['sliding', 'streams'] as const, 'sliding') : undefined,
     given: new Set([...args.flags.keys(), ...args.switches]),
+    hybrid: args.switches.has('hybrid'),
     horizon: numberFlag(args, 'horizon', 1, { whole: true, min: 1, max: 100000 }),
     columns: args.flags.get('columns')?.split(',').map((s) => s.trim()),
     targets: args.flags.get('target')?.split(',').map((s) => s.trim()),
@@ -158,8 +160,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     season: args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined,
   };
   if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
-  for (const name of ['time-column', 'examples']) {
-    if (args.flags.has(name) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
+  for (const name of ['time-column', 'examples', 'hybrid']) {
+    if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
   if (options.lookback > 0 && task === 'pairs') throw new CommandError('--lookback applies to streams (--task forecast or text); pairs are read whole', 2);

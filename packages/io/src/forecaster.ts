@@ -5,11 +5,16 @@
  * - A model trained on sliding windows (metadata `window`) forecasts from the last `rows` rows alone: each row's
  *   forecast resets the state and reads the window again, every value taken relative to the window's last row and
  *   divided by the column's deviation of one-row changes, the output being the target's change from that last row
- *   in units of `targetDeviation` (so a level above every training level is read like any other).
+ *   in units of `targetDeviation` (so a level above every training level is read like any other). A hybrid also
+ *   runs an exponential smoothing method over every row (from the first row given) and forecasts the correction to
+ *   its forecast (after Smyl, "A hybrid method of exponential smoothing and recurrent neural networks for time series
+ *   forecasting", IJF 36, 2020, in a simpler form: the network sees the smoothing forecasts beside the values).
  */
 import { fail } from '@weft/core';
 import type { Runtime } from './runtime/runtime.js';
 import { createTranslator } from './translate.js';
+import { SmoothingStepper } from './data/smoothing.js';
+import type { SmoothingParameters } from './data/smoothing.js';
 
 /** What a windowed forecast model records in its metadata (`window`). */
 export interface ForecastWindow {
@@ -19,6 +24,12 @@ export interface ForecastWindow {
   readonly deviation: readonly number[];
   /** Per target, the deviation of the change forecast (outputs are multiplied by it). */
   readonly targetDeviation: readonly number[];
+  /**
+   * Per target, an exponential smoothing method (the hybrid): its forecast made at each row is read as one more
+   * input per target (relative to the window's last row, over that target's deviation), and the model's output is
+   * the correction to the smoothing forecast made at the last row instead of the change from that row.
+   */
+  readonly hybrid?: readonly SmoothingParameters[];
 }
 
 /** Forecasts row by row. */
@@ -46,6 +57,16 @@ export function forecastWindow(metadata: Readonly<Record<string, unknown>>, colu
   if (typeof window !== 'object' || window === null || !Number.isInteger(window.rows) || (window.rows as number) < 1) fail('bad_weight_file', 'metadata.window.rows', 'a whole number ≥ 1', JSON.stringify(window?.rows));
   if (!positive(window.deviation, columns)) fail('bad_weight_file', 'metadata.window.deviation', `${columns} finite numbers > 0 (one per column)`, JSON.stringify(window.deviation)?.slice(0, 80) ?? 'nothing');
   if (!positive(window.targetDeviation, targets)) fail('bad_weight_file', 'metadata.window.targetDeviation', `${targets} finite numbers > 0 (one per target)`, JSON.stringify(window.targetDeviation)?.slice(0, 80) ?? 'nothing');
+  if (window.hybrid !== undefined) {
+    const methods = ['simple', 'holt', 'damped', 'additive', 'multiplicative'];
+    const finite = (v: unknown) => typeof v === 'number' && Number.isFinite(v);
+    const sound = (p: Partial<SmoothingParameters>) => typeof p === 'object' && p !== null && methods.includes(p.method as string) && Number.isInteger(p.season) && (p.season as number) >= 1
+      && [p.alpha, p.beta, p.gamma, p.phi, p.level, p.trend].every(finite) && Array.isArray(p.seasonal) && p.seasonal.every(finite)
+      && (p.method === 'additive' || p.method === 'multiplicative' ? p.seasonal.length === p.season : true);
+    if (!Array.isArray(window.hybrid) || window.hybrid.length !== targets || !window.hybrid.every(sound)) {
+      fail('bad_weight_file', 'metadata.window.hybrid', `${targets} smoothing records (method, season, alpha, beta, gamma, phi, level, trend, seasonal), one per target`, JSON.stringify(window.hybrid)?.slice(0, 80) ?? 'nothing');
+    }
+  }
   return window as ForecastWindow;
 }
 
@@ -69,38 +90,48 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const width = inputNames.length;
   const w = window.rows;
   const targets = outputNames.map((t) => inputNames.indexOf(t));
+  const horizon = Number(metadata.horizon ?? 1);
+  const smoothers = window.hybrid?.map((p) => new SmoothingStepper(p, horizon)) ?? null;
+  // Each row as the model reads it: the raw values, then (hybrid) the smoothing forecast made at it per target.
+  const stride = width + (smoothers === null ? 0 : smoothers.length);
   // The last w rows, oldest first once full: ring[(start + k) % w] is the k-th row of the window.
-  const ring = new Float64Array(w * width);
-  const input = new Float32Array(width);
+  const ring = new Float64Array(w * stride);
+  const input = new Float32Array(stride);
   const output = new Float32Array(outputNames.length);
   let seen = 0;
+  const fresh = () => window.hybrid?.map((p) => new SmoothingStepper(p, horizon)) ?? null;
+  let steppers = smoothers;
   return {
     inputNames,
     outputNames,
     warmUp: w,
     next(row, where = 'row') {
       const slot = seen % w;
+      const at = slot * stride;
       inputNames.forEach((name, j) => {
         const raw = Object.prototype.hasOwnProperty.call(row, name) ? row[name] : undefined;
         const value = typeof raw === 'number' ? raw : raw === undefined || raw.trim() === '' ? NaN : Number(raw);
         if (!Number.isFinite(value)) fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : 'a finite number', raw === undefined ? 'nothing' : JSON.stringify(raw));
-        ring[slot * width + j] = value;
+        ring[at + j] = value;
       });
+      if (steppers !== null) for (let k = 0; k < steppers.length; k++) ring[at + width + k] = steppers[k].next(ring[at + targets[k]]);
       seen++;
       if (seen < w) return null;
       streams.reset();
       const start = seen % w;
       for (let k = 0; k < w; k++) {
-        const at = ((start + k) % w) * width;
-        for (let j = 0; j < width; j++) input[j] = (ring[at + j] - ring[slot * width + j]) / window.deviation[j];
+        const from = ((start + k) % w) * stride;
+        for (let j = 0; j < width; j++) input[j] = (ring[from + j] - ring[at + j]) / window.deviation[j];
+        for (let i = width; i < stride; i++) input[i] = (ring[from + i] - ring[at + targets[i - width]]) / window.deviation[targets[i - width]];
         streams.step(input, output);
       }
       const named: Record<string, number> = {};
-      outputNames.forEach((name, k) => (named[name] = ring[slot * width + targets[k]] + output[k] * window.targetDeviation[k]));
+      outputNames.forEach((name, k) => (named[name] = (steppers === null ? ring[at + targets[k]] : ring[at + width + k]) + output[k] * window.targetDeviation[k]));
       return named;
     },
     reset() {
       seen = 0;
+      steppers = fresh();
       streams.reset();
     },
   };

@@ -24,7 +24,7 @@ export { leastSquares } from './data/least-squares.js';
 export type { MinimiseOptions, MinimiseResult } from './data/minimise.js';
 export { minimise } from './data/minimise.js';
 export type { SmoothingFit, SmoothingMethod, SmoothingParameters } from './data/smoothing.js';
-export { fitSmoothing, initialStates, oneStepError, runSmoothing } from './data/smoothing.js';
+export { SmoothingStepper, fitSmoothing, initialStates, oneStepError, runSmoothing } from './data/smoothing.js';
 export type { ThetaForecast } from './data/theta.js';
 export { lineSlope, thetaForecasts } from './data/theta.js';
 export type { SeasonCandidate, SeasonChoice, Spacing } from './data/seasonality.js';

@@ -55,12 +55,17 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
     if (!isStrings(classes)) add('classes', 'an array of strings', classes);
     else if (classes.length !== outputs) add('classes', `${outputs} class names (one per output of the model)`, classes.length);
   }
+  // A hybrid forecast model (window.hybrid) reads one smoothing forecast per target besides its columns.
+  const hybrid = (metadata.window as { hybrid?: unknown } | undefined)?.hybrid;
+  const extra = Array.isArray(hybrid) ? hybrid.length : 0;
+  const readWidth = input.kind === 'values' ? input.width - extra : 1;
+  const widthWords = extra > 0 ? `the model's input width less the hybrid's ${extra} smoothing input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
   let columns: string[] | null = null;
   if (has('columns')) {
     const value = metadata.columns;
     if (!isStrings(value)) add('columns', 'an array of column names', value);
     else if (input.kind !== 'values') add('columns', 'no columns (the model reads tokens)', value);
-    else if (value.length !== input.width) add('columns', `${input.width} column names (the model's input width)`, value.length);
+    else if (value.length !== readWidth) add('columns', `${readWidth} column names (${widthWords})`, value.length);
     else columns = value;
   }
   if (has('targetColumns')) {
@@ -74,14 +79,14 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
   }
   if (has('normalisation')) {
     const value = metadata.normalisation as { mean?: unknown; deviation?: unknown } | null;
-    const width = input.kind === 'values' ? input.width : 1;
+    const width = readWidth;
     if (typeof value !== 'object' || value === null || Array.isArray(value)) {
       add('normalisation', '{ "mean": [...], "deviation": [...] }', value);
     } else {
       for (const field of ['mean', 'deviation'] as const) {
         const numbers = value[field];
         if (!isNumbers(numbers)) add(`normalisation.${field}`, `${width} numbers`, numbers);
-        else if (numbers.length !== width) add(`normalisation.${field}`, `${width} numbers (the model's input width)`, numbers.length);
+        else if (numbers.length !== width) add(`normalisation.${field}`, `${width} numbers (${widthWords})`, numbers.length);
         else {
           const bad = numbers.findIndex((v) => !Number.isFinite(v) || (field === 'deviation' && !(v > 0)));
           if (bad >= 0) add(`normalisation.${field}[${bad}]`, field === 'deviation' ? 'a finite number > 0' : 'a finite number', numbers[bad]);

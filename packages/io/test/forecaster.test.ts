@@ -7,7 +7,7 @@
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { createRowForecaster, createTranslator, modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
+import { createRowForecaster, createTranslator, fitSmoothing, modelTensors, readWeightFile, runSmoothing, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 
 const description = { input: { kind: 'values' as const, width: 2 }, layers: [{ cell: 'gru' as const, hidden: 6 }], readout: { width: 1 } };
@@ -54,6 +54,31 @@ describe('forecasting row by row', () => {
     });
     forecaster.reset();
     expect(forecaster.next(rows[0])).toBeNull();
+  });
+
+  it('reads the smoothing forecasts beside the values in a hybrid and forecasts the correction to the last one', async () => {
+    const heat = rows.map((r) => r.heat);
+    const fit = fitSmoothing(heat, 12, 'damped')!;
+    const { meanSquaredError: _unused, ...parameters } = fit;
+    const smoothed = new Float64Array(12);
+    runSmoothing(heat, 12, parameters, 1, smoothed);
+    const window = { rows: 3, deviation: [0.5, 2], targetDeviation: [0.25], hybrid: [parameters] };
+    const hybridDescription = { ...description, input: { kind: 'values' as const, width: 3 } };
+    const model = buildModel(hybridDescription, { seed: 4 });
+    const file = await readWeightFile(await writeWeightFile(model.description, modelTensors(model)));
+    const forecaster = createRowForecaster(await createRuntime(file), { ...base, window });
+    const runtime = await createRuntime(file);
+    rows.forEach((row, t) => {
+      const made = forecaster.next(row);
+      if (t < 2) return expect(made).toBeNull();
+      const input = new Float32Array(9);
+      for (let k = 0; k < 3; k++) {
+        const r = rows[t - 2 + k];
+        input.set([(r.heat - row.heat) / 0.5, (r.flow - row.flow) / 2, (smoothed[t - 2 + k] - row.heat) / 0.5], 3 * k);
+      }
+      const out = runtime.run(input, 3, 1);
+      expect(made!.heat).toBeCloseTo(smoothed[t] + out[2] * 0.25, 5);
+    });
   });
 
   it('refuses a malformed window record naming the field, and a row without a number naming the column', async () => {

@@ -95,6 +95,53 @@ export function runSmoothing(series: ArrayLike<number>, count: number, p: Smooth
 }
 
 /**
+ * A smoothing method run one row at a time with fixed parameters: `next(y)` takes the row's value and returns the
+ * forecast made at it of the row `horizon` ahead, with runSmoothing's arithmetic in the same order (the same bits).
+ * It allocates nothing after it is made.
+ */
+export class SmoothingStepper {
+  private level: number;
+  private slope: number;
+  private readonly ring: Float64Array;
+  private t = 0;
+  private readonly damping: number;
+  private readonly m: number;
+
+  constructor(private readonly p: SmoothingParameters, private readonly horizon = 1) {
+    const seasonal = hasSeason(p.method);
+    this.m = seasonal ? p.season : 1;
+    this.ring = Float64Array.from(seasonal ? p.seasonal : [0]);
+    this.level = p.level;
+    this.slope = hasTrend(p.method) ? p.trend : 0;
+    const phi = hasTrend(p.method) ? p.phi : 0;
+    let damping = 0;
+    for (let i = 1, power = 1; i <= horizon; i++) damping += (power *= phi);
+    this.damping = damping;
+  }
+
+  /** Takes the next value and returns the forecast made at it (NaN once a multiplicative state is not positive). */
+  next(y: number): number {
+    const { p, ring, m } = this;
+    const multiplicative = p.method === 'multiplicative';
+    const trend = hasTrend(p.method);
+    const seasonal = hasSeason(p.method);
+    const phi = trend ? p.phi : 0;
+    const j = this.t % m;
+    const s = seasonal ? ring[j] : multiplicative ? 1 : 0;
+    const base = this.level + phi * this.slope;
+    const nextLevel = p.alpha * (seasonal ? (multiplicative ? y / s : y - s) : y) + (1 - p.alpha) * base;
+    if (trend) this.slope = p.beta * (nextLevel - this.level) + (1 - p.beta) * phi * this.slope;
+    if (seasonal) ring[j] = p.gamma * (multiplicative ? y / base : y - base) + (1 - p.gamma) * s;
+    this.level = nextLevel;
+    this.t++;
+    if (multiplicative && !(this.level > 0 && ring[j] > 0)) return NaN;
+    const ahead = this.level + this.damping * this.slope;
+    const sAhead = seasonal ? ring[(this.t - 1 + this.horizon) % m] : 0;
+    return seasonal ? (multiplicative ? ahead * sAhead : ahead + sAhead) : ahead;
+  }
+}
+
+/**
  * The mean squared one-step error over rows [0, count) alone: runSmoothing's recursion in loops without its
  * forecast branch, one loop per form, as fitting calls it many times (same arithmetic, same order, same result).
  */

@@ -11,7 +11,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { fitSmoothing, initialStates, oneStepError, runSmoothing } from '@weft/io';
+import { SmoothingStepper, fitSmoothing, initialStates, oneStepError, runSmoothing } from '@weft/io';
 import type { SmoothingParameters } from '@weft/io';
 
 const base = { beta: 0, gamma: 0, phi: 1, trend: 0, seasonal: [] as number[], season: 1 };
@@ -116,6 +116,18 @@ describe('exponential smoothing', () => {
     for (const method of ['simple', 'holt', 'damped', 'additive', 'multiplicative'] as const) {
       const fit = fitSmoothing(series, 150, method, 12)!;
       expect(oneStepError(series, 150, fit)).toBe(runSmoothing(series, 150, fit, 1, new Float64Array(200)));
+    }
+  });
+
+  it('steps one row at a time to the same bits as the forecasting loop, for every form and 3 rows ahead', () => {
+    const random = new Random('stepper');
+    const series = Array.from({ length: 120 }, (_, t) => 30 + 0.1 * t + 4 * Math.sin(t / 2) + random.normal());
+    for (const method of ['simple', 'holt', 'damped', 'additive', 'multiplicative'] as const) {
+      const fit = fitSmoothing(series, 100, method, 12)!;
+      const whole = new Float64Array(120);
+      runSmoothing(series, 100, fit, 3, whole);
+      const stepper = new SmoothingStepper(fit, 3);
+      series.forEach((y, t) => expect(stepper.next(y)).toBe(whole[t]));
     }
   });
 });
