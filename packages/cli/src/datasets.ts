@@ -99,16 +99,44 @@ function linesOf(table: Table, from: number, to: number): string {
   return `lines ${table.rows[from].line}–${table.rows[to - 1].line} (${to - from} row${to - from === 1 ? '' : 's'})`;
 }
 
+/**
+ * A series' times must increase down the file: a repeated time (several series side by side?) or one that goes
+ * back is an error at its file:line:column, never a silently pooled or shuffled series.
+ */
+function checkTimes(table: Table, time: TimeColumn): void {
+  const at = (r: number) => fieldPath(table, r, time.index);
+  const shown = (r: number) => JSON.stringify(table.rows[r].fields[time.index].trim().slice(0, 40));
+  if (time.repeated >= 0 && (time.backwards < 0 || time.repeated < time.backwards)) {
+    const r = time.repeated;
+    const first = time.times.indexOf(time.times[r]);
+    fail('bad_data', at(r), `a time after line ${table.rows[r - 1].line}'s in column ${JSON.stringify(time.name)}, as a series has one row per time (several series in one table? forecast one series per file, or classify them with --task classify --id-column NAME)`, `${shown(r)} again (as on line ${table.rows[first].line})`);
+  }
+  if (time.backwards >= 0) {
+    const r = time.backwards;
+    fail('bad_data', at(r), `a time after line ${table.rows[r - 1].line}'s ${shown(r - 1)} in column ${JSON.stringify(time.name)} (sort the file by time)`, shown(r));
+  }
+}
+
+/**
+ * A gap in a regular series longer than a season (rows missing) is an error at the row after it: the seasonal
+ * baselines and the windows would silently misalign.
+ */
+function checkGaps(table: Table, time: TimeColumn, season: number | null): void {
+  if (time.spacing === null || season === null) return;
+  const gaps: number[] = [];
+  for (let r = 1; r < time.times.length; r++) gaps.push(time.times[r] - time.times[r - 1]);
+  const sorted = [...gaps].sort((a, b) => a - b);
+  const median = sorted[Math.floor(sorted.length / 2)];
+  const r = gaps.findIndex((g) => g > season * median * 1.05) + 1;
+  if (r > 0) {
+    fail('bad_data', fieldPath(table, r, time.index), `a time at most a season (${season} rows, ${time.spacing.unit} apart) after line ${table.rows[r - 1].line}'s in column ${JSON.stringify(time.name)}; fill the missing rows, or forecast the parts apart`, `${JSON.stringify(table.rows[r].fields[time.index].trim().slice(0, 40))}, ${Math.round(gaps[r - 1] / median)} rows' time later`);
+  }
+}
+
 /** Notes on a table that may hold several series or counters, so nothing is pooled without a word. */
 function tableNotes(table: Table, time: TimeColumn | null, numeric: readonly string[], file: string): string[] {
   const notes: string[] = [];
-  if (time !== null && time.repeated >= 0) {
-    const r = time.repeated;
-    const first = time.times.indexOf(time.times[r]);
-    notes.push(`note: times repeat in column ${JSON.stringify(time.name)} (line ${table.rows[r].line} repeats line ${table.rows[first].line}): this table may hold several series side by side; weft forecasts one series per model, so pick one series's rows, or classify the sequences with --task classify --id-column NAME`);
-  } else if (time !== null && time.backwards >= 0) {
-    notes.push(`note: times go back at line ${table.rows[time.backwards].line} of ${file} (column ${JSON.stringify(time.name)}): rows are read in file order; sort the file by time first`);
-  }
+  if (time !== null) checkTimes(table, time);
   for (const name of numeric) {
     const c = table.header.indexOf(name);
     const first = decimal(table.rows[0]?.fields[c] ?? '');
@@ -153,6 +181,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
   const split = { values, targets: targetIndexes, horizon, fitRows: testStart, positions };
   const baselines = forecastBaselines(split, { season: options.season, spacing: time?.spacing ?? null });
+  if (time !== null) checkGaps(table, time, baselines.season.season);
   const targetNames = targets.map((c) => table.header[c]);
   const partsLine = `parts of ${file}, in time order: training ${linesOf(table, 0, trainEnd)}; validation, for stopping and keeping weights, ${linesOf(table, trainEnd, testStart)}; test, scored once at the end, ${linesOf(table, testStart, rows)}`;
   const notes = [

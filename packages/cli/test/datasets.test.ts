@@ -70,11 +70,17 @@ describe('preparing training data', () => {
       'Invalid option at --test: expected a share leaving at least 3 test rows (the horizon) of the 60: 0.05 or more, received 0.02 (1 row)');
   });
 
-  it('says so when times repeat or a column counts the rows, instead of pooling several series without a word', () => {
+  it('refuses times that repeat, go back or skip more than a season, at their line and column, and notes a column naming series or counting rows', () => {
     const twoCities = `date,city,temperature\n${Array.from({ length: 60 }, (_, r) => `2026-01-${String(Math.floor(r / 2) + 1).padStart(2, '0')},${r % 2 === 0 ? 'north' : 'south'},${r % 7}`).join('\n')}\n`;
-    const notes = prepareForecast(twoCities, 'cities.csv', options).notes ?? [];
-    expect(notes).toContain('note: times repeat in column "date" (line 3 repeats line 2): this table may hold several series side by side; weft forecasts one series per model, so pick one series\'s rows, or classify the sequences with --task classify --id-column NAME');
-    expect(notes).toContain('note: column "city" names 2 repeating values: if each names a series, the table holds several series and weft would pool them into one; pick one series\'s rows, or classify the sequences with --task classify --id-column city');
+    expect(() => prepareForecast(twoCities, 'cities.csv', options)).toThrowError(
+      'Bad data at cities.csv:3:1: expected a time after line 2\'s in column "date", as a series has one row per time (several series in one table? forecast one series per file, or classify them with --task classify --id-column NAME), received "2026-01-01" again (as on line 2)');
+    const back = dated(60, (r) => String(Math.sin(r)), (r) => new Date(Date.UTC(2026, 0, 1 + (r === 30 ? 10 : r))).toISOString().slice(0, 10));
+    expect(() => prepareForecast(back, 'back.csv', options)).toThrowError('Bad data at back.csv:32:1: expected a time after line 31\'s "2026-01-30" in column "date" (sort the file by time), received "2026-01-11"');
+    const hours = (r: number) => new Date(Date.UTC(2026, 0, 1, r < 100 ? r : r + 30)).toISOString().slice(0, 16);
+    const gap = `time,level\n${Array.from({ length: 200 }, (_, r) => `${hours(r)},${(10 + 3 * Math.sin((2 * Math.PI * r) / 24) + 0.01 * r).toFixed(3)}`).join('\n')}\n`;
+    expect(() => prepareForecast(gap, 'gap.csv', options)).toThrowError('Bad data at gap.csv:102:1: expected a time at most a season (24 rows, hours apart) after line 101\'s in column "time"; fill the missing rows, or forecast the parts apart, received "2026-01-06T10:00", 31 rows\' time later');
+    const named = `site,level\n${Array.from({ length: 60 }, (_, r) => `${r < 30 ? 'north' : 'south'},${Math.sin(r)}`).join('\n')}\n`;
+    expect(prepareForecast(named, 'sites.csv', options).notes).toContain('note: column "site" names 2 repeating values: if each names a series, the table holds several series and weft would pool them into one; pick one series\'s rows, or classify the sequences with --task classify --id-column site');
     const counted = prepareForecast(`step,level\n${Array.from({ length: 60 }, (_, r) => `${r + 1},${Math.sin(r)}`).join('\n')}\n`, 'steps.csv', options).notes ?? [];
     expect(counted).toEqual(['note: column "step" counts the rows (1, 2, 3, …): it is probably an index, not a reading; leave it out with --columns']);
   });
