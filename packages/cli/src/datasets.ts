@@ -390,6 +390,7 @@ function slidingWindows(input: SlidingInput): Prepared {
     return out;
   };
   const trainSet = examplesEnding(0, trainEnd);
+  if (trainSet.length < 2) throw new CommandError(`${file}: ${trainEnd} training rows make ${trainSet.length} windows of ${window} rows ${horizon} row${horizon === 1 ? '' : 's'} ahead; lower --window`, 2);
   const validationSet = examplesEnding(trainEnd, testStart);
   if (validationSet.length === 0) throw new CommandError(`${file}: the validation part has no row with ${window} rows before it; lower --window`);
   const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(trainSet.length / 4)));

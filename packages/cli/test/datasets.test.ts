@@ -85,6 +85,14 @@ describe('preparing training data', () => {
     expect(counted).toEqual(['note: column "step" counts the rows (1, 2, 3, …): it is probably an index, not a reading; leave it out with --columns']);
   });
 
+  it('trains a short series on sliding windows chosen from the data, and refuses a window longer than its training rows', () => {
+    const prepared = prepareForecast(dated(100, (r) => String(10 + Math.sin(r / 3))), 'daily.csv', { ...options, given: new Set(['streams']) });
+    // 70 training rows: a window of 17 (a quarter of them, under 24), 53 windows, 27 batches of 2, 2,000 updates in 75 epochs.
+    expect(prepared.chosen?.said).toBe('sliding windows: 53 training examples of 17 rows (no season found), 2 per batch, up to 75 epochs, patience 5, 32 hidden (chosen from the data; flags override, --examples streams reads the series as streams)');
+    expect(prepared.metadata.window).toMatchObject({ rows: 17 });
+    expect(() => prepareForecast(dated(100, (r) => String(r)), 'daily.csv', { ...options, window: 90, given: new Set(['window']) })).toThrowError('daily.csv: 70 training rows make 0 windows of 90 rows 1 row ahead; lower --window');
+  });
+
   it('normalises values of ±1e300 and 1e308 without overflowing (mean and deviation finite)', () => {
     const top = prepareForecast(series(60, (r) => (r % 3 === 0 ? '1e308' : '-1e308')), 'top.csv', options);
     const stats = (top.metadata as { normalisation: { mean: number[]; deviation: number[] } }).normalisation;
