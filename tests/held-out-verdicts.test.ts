@@ -30,7 +30,10 @@ import { parseArgs, train } from '@weft/cli';
 import { score, scoreFlags } from '../packages/cli/src/score.js';
 import { trainFlags } from '../packages/cli/src/train.js';
 import { seasonalTrend } from './helpers/series.js';
-import { loadWeightFile } from '@weft/io/node';
+import { loadModelFile, loadWeightFile } from '@weft/io/node';
+
+/** The model a weight file holds, ready to run on the tape. */
+const modelOf = (path: string) => loadModelFile(path);
 
 const seattle = fileURLToPath(new URL('../node_modules/vega-datasets/data/seattle-weather.csv', import.meta.url));
 const folder = mkdtempSync(join(tmpdir(), 'weft-verdicts-'));
@@ -92,7 +95,7 @@ describe('the held-out verdict', () => {
   it('beats every baseline on monthly CO₂ with --hybrid, on top of the smoothing method best on the validation part, in train and score alike', async () => {
     const co2 = fileURLToPath(new URL('../node_modules/vega-datasets/data/co2-concentration.csv', import.meta.url));
     const out = join(folder, 'co2-hybrid.weft.json');
-    const { outcome, text } = await trainQuietly([co2, '--target', 'CO2', '--hybrid', '--out', out]);
+    const { outcome, text } = await trainQuietly([co2, '--target', 'CO2', '--hybrid', 'yes', '--out', out]);
     expect(text.split('\n')[0]).toMatch(/^sliding windows on top of Holt-Winters (additive|multiplicative): /);
     const best = outcome.heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a));
     console.log(`CO₂ with --hybrid: model MAE ${outcome.heldOut.model.value}, best baseline ${best.name} ${best.value}`);
@@ -100,7 +103,25 @@ describe('the held-out verdict', () => {
     expect(text).toMatch(/^verdict: the model beats every baseline: MAE /m);
     const scored = JSON.parse(await score(parseArgs('score', [out, co2, '--format', 'json'], scoreFlags))) as { model: { value: number } };
     expect(Math.abs(scored.model.value - outcome.heldOut.model.value)).toBeLessThanOrEqual(1e-5 * outcome.heldOut.model.value);
-    await expect(trainQuietly([co2, '--target', 'CO2', '--hybrid', '--examples', 'streams', '--out', join(folder, 'x.weft.json')])).rejects.toThrow('--hybrid needs sliding windows');
+    await expect(trainQuietly([co2, '--target', 'CO2', '--hybrid', 'yes', '--examples', 'streams', '--out', join(folder, 'x.weft.json')])).rejects.toThrow('--hybrid needs sliding windows');
+  }, 60_000);
+
+  it('tries the plain model and the hybrid on the validation part by default and trains the better one, exactly as tried', async () => {
+    const file = join(folder, 'rising-480.csv');
+    writeFileSync(file, `level\n${seasonalTrend(480).map((v) => v.toFixed(4)).join('\n')}\n`);
+    const out = join(folder, 'rising-480.weft.json');
+    const { outcome, text } = await trainQuietly([file, '--out', out]);
+    const tried = /^tried both on the validation part: sliding windows on top of (.+) MAE ([\d.]+), plain ([\d.]+): training the (hybrid|plain model) \(--hybrid yes or no to choose\)$/m.exec(text);
+    expect(tried).not.toBeNull();
+    const [, , hybridFigure, plainFigure, winner] = tried!;
+    expect(winner).toBe(Number(hybridFigure) < Number(plainFigure) ? 'hybrid' : 'plain model');
+    const saved = await loadWeightFile(out);
+    expect((saved.metadata.window as { hybrid?: unknown }).hybrid !== undefined).toBe(winner === 'hybrid');
+    // The run repeats the winner's trial bit for bit: its validation figure is the one printed.
+    const figure = outcome.prepared.task === 'forecast' ? outcome.prepared.validationFigure!(await modelOf(out)) : NaN;
+    expect(Number(figure.toPrecision(4))).toBe(Number(winner === 'hybrid' ? hybridFigure : plainFigure));
+    const plain = await trainQuietly([file, '--hybrid', 'no', '--out', join(folder, 'rising-plain.weft.json')]);
+    expect(plain.text).not.toMatch(/^tried both/m);
   }, 60_000);
 
   it('refuses a series too short for two seasons and the horizon in its training rows, naming the minimum', async () => {

@@ -48,7 +48,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'validation', value: 'SHARE', description: 'share of the data for validation: stopping and keeping the best weights (before the test part of a series or text; a seeded share of sequences)', fallback: '0.1' },
   { name: 'test', value: 'SHARE', description: 'share of the data for the test, scored once for the verdict against the baselines and never used for stopping (the end of a series or text; a seeded share of sequences)', fallback: '0.1' },
   { name: 'examples', value: 'sliding|streams', description: 'how a series becomes training examples: sliding windows (every training row ends one window of --window rows, read relative to its last row) or long streams cut into windows with carried state (forecast)', fallback: `sliding up to ${SLIDING_ROWS} training rows, else streams` },
-  { name: 'hybrid', switch: true, description: 'on top of exponential smoothing: the model reads the forecasts of the smoothing method that is best on the validation part and forecasts their correction (forecast, sliding windows)' },
+  { name: 'hybrid', value: 'auto|yes|no', description: 'on top of exponential smoothing: the model reads the forecasts of the smoothing method best on the validation part and forecasts their correction; auto trains it and the plain model and keeps the one better on the validation part (forecast, sliding windows)', fallback: 'auto' },
   { name: 'time-column', value: 'NAME', description: 'the column of times of a series (dates, date-times, year-months, year-quarters, years): gives the season\'s candidates', fallback: 'a column named like a time, or the first whose values are times' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
   { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3' },
@@ -148,7 +148,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     timeColumn: args.flags.get('time-column'),
     examples: args.flags.has('examples') ? choiceFlag(args, 'examples', ['sliding', 'streams'] as const, 'sliding') : undefined,
     given: new Set([...args.flags.keys(), ...args.switches]),
-    hybrid: args.switches.has('hybrid'),
+    hybrid: choiceFlag(args, 'hybrid', ['auto', 'yes', 'no'] as const, 'auto') === 'yes',
     horizon: numberFlag(args, 'horizon', 1, { whole: true, min: 1, max: 100000 }),
     columns: args.flags.get('columns')?.split(',').map((s) => s.trim()),
     targets: args.flags.get('target')?.split(',').map((s) => s.trim()),
@@ -170,7 +170,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'pairs') throw new CommandError(`--${name} applies to --task pairs (an encoder-decoder), not ${task}`, 2);
   }
   const attention = choiceFlag(args, 'attention', [...ATTENTION_FORMS, 'none'] as const, 'general');
-  const prepared: Prepared | PairsPrepared =
+  let prepared: Prepared | PairsPrepared =
     task === 'pairs' ? preparePairs(text, dataPath, {
       ...options,
       sourceColumn: args.flags.get('source-column') ?? 'source',
@@ -193,6 +193,28 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   hidden = chosen?.hidden ?? hidden;
   for (const note of prepared.notes ?? []) info(note);
   const layers: LayerDescription[] = Array.from({ length: layerCount }, () => ({ cell, hidden, ...(args.switches.has('bidirectional') ? { bidirectional: true } : {}) }));
+  const rate = numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 });
+  const clip = numberFlag(args, 'clip', 1, { min: 1e-9 });
+  const epochs = chosen?.epochs ?? numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 });
+  const patience = chosen?.patience ?? numberFlag(args, 'patience', 3, { whole: true, min: 1 });
+  // --hybrid auto on sliding windows: train the plain model and the hybrid alike (same seed, same settings) and keep
+  // the one better on the validation part; training is deterministic, so the run below repeats the winner exactly.
+  if (prepared.task === 'forecast' && prepared.metadata.window !== undefined && !args.flags.has('hybrid') && args.flags.get('resume') === undefined) {
+    const hybrid = prepareForecast(text, dataPath, { ...options, hybrid: true });
+    const figure = async (candidate: Prepared): Promise<number> => {
+      const trial = buildModel({ input: candidate.input, layers, dropout, readout: { width: candidate.outputWidth } }, { seed });
+      await new Trainer({ model: trial, shardRows: SHARD_ROWS, data: candidate.train, validation: candidate.validation, optimizer: new AdamRule({ rate }), epochs, gradientNormLimit: clip, patience, seed }).run();
+      return candidate.validationFigure?.(trial) ?? Infinity;
+    };
+    const [plainFigure, hybridFigure] = [await figure(prepared), await figure(hybrid)];
+    const metric = prepared.outputWidth > 1 ? 'MASE' : 'MAE';
+    info(`tried both on the validation part: ${hybrid.chosen?.said.split(':')[0] ?? 'the hybrid'} ${metric} ${Number(hybridFigure.toPrecision(4))}, plain ${Number(plainFigure.toPrecision(4))}: training the ${hybridFigure < plainFigure ? 'hybrid' : 'plain model'} (--hybrid yes or no to choose)`);
+    if (hybridFigure < plainFigure) prepared = hybrid;
+  } else if (args.flags.get('resume') !== undefined && prepared.task === 'forecast' && prepared.metadata.window !== undefined && !args.flags.has('hybrid')) {
+    // A resumed run keeps the choice its checkpoint made.
+    const saved = await loadCheckpoint(resolve(args.flags.get('resume') as string));
+    if ((saved.file.metadata.window as { hybrid?: unknown } | undefined)?.hybrid !== undefined) prepared = prepareForecast(text, dataPath, { ...options, hybrid: true });
+  }
   const description: AnyModelDescription = prepared.task === 'pairs'
     ? pairsDescription({ cell, hidden, layers: layerCount, bidirectional: args.switches.has('bidirectional'), dropout, embedding: options.embedding, attention: attention === 'none' ? null : attention, reverseSource: args.switches.has('reverse-source'), sourceVocabulary: prepared.sourceVocabulary.length, targetVocabulary: prepared.targetVocabulary.length })
     : { input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } } satisfies ModelDescription;
@@ -206,15 +228,15 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const history: { training: LossPoint[]; validation: LossPoint[] } = { training: [], validation: [] };
   // A forecast of one column: its validation MAE shown in the data's units (the column's deviation undoes the scaling).
   // With differences, the error of the change is the error of the level, so its deviation serves; log returns
-  // have no such factor and are shown normalised.
-  const forecastMeta = prepared.metadata as { columns?: string[]; targetColumns?: string[]; normalisation?: { deviation: number[] }; targetTransform?: { kind: string; deviation: number[] } };
+  // have no such factor and are shown normalised. Sliding windows scale the target's change by its own deviation.
+  const forecastMeta = prepared.metadata as { columns?: string[]; targetColumns?: string[]; normalisation?: { deviation: number[] }; targetTransform?: { kind: string; deviation: number[] }; window?: { targetDeviation: number[] } };
   const maeScale = task !== 'forecast' || forecastMeta.targetColumns?.length !== 1 ? null
+    : forecastMeta.window !== undefined ? forecastMeta.window.targetDeviation[0]
     : forecastMeta.targetTransform === undefined ? forecastMeta.normalisation?.deviation[forecastMeta.columns?.indexOf(forecastMeta.targetColumns[0]) ?? -1] ?? null
       : forecastMeta.targetTransform.kind === 'differences' ? forecastMeta.targetTransform.deviation[0] : null;
   const view = args.switches.has('quiet') ? null : new ProgressView(process.stderr, maeScale);
   const controller = new AbortController();
   const validateEvery = args.flags.has('validate-every') ? numberFlag(args, 'validate-every', 1, { whole: true, min: 1 }) : undefined;
-  const patience = chosen?.patience ?? numberFlag(args, 'patience', 3, { whole: true, min: 1 });
   const metadataFor = (trainer: Trainer) => ({
     ...prepared.metadata,
     training: { data: basename(dataPath), dataDigest, steps: trainer.stepsTaken, seed, store, seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)) },
@@ -239,9 +261,9 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
       ...(threads === undefined ? {} : { workers: threads }),
       data: prepared.train,
       validation: prepared.validation,
-      optimizer: new AdamRule({ rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }) }),
-      epochs: chosen?.epochs ?? numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 }),
-      gradientNormLimit: numberFlag(args, 'clip', 1, { min: 1e-9 }),
+      optimizer: new AdamRule({ rate }),
+      epochs,
+      gradientNormLimit: clip,
       validateEvery,
       patience,
       seed,
