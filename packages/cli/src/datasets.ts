@@ -14,7 +14,7 @@ import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, predictLogistic, summaryFeatures, textBaselines, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
-import { fitSmoothing, forecastReport, runSmoothing } from '@weft/io';
+import { calendarFor, calendarInputs, fitSmoothing, forecastReport, runSmoothing } from '@weft/io';
 import type { ClassificationReport, HeldOutReport, SmoothingMethod, SmoothingParameters, Table, TimeColumn, WeightMetadata } from '@weft/io';
 
 export type { Contender, HeldOutReport } from '@weft/io';
@@ -56,6 +56,8 @@ export interface PrepareOptions {
   readonly given?: ReadonlySet<string>;
   /** Sliding windows only: forecast the correction to an exponential smoothing forecast (see slidingWindows). */
   readonly hybrid?: boolean;
+  /** Sliding windows only: read calendar positions of the time column (default true when its spacing is known). */
+  readonly calendar?: boolean;
   readonly columns?: string[];
   readonly targets?: string[];
   readonly tokens: 'characters' | 'words';
@@ -205,7 +207,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const streamsAsked = (options.transform ?? 'none') !== 'none' || options.lookback > 0;
   const examples = options.examples ?? (trainEnd <= SLIDING_ROWS && !streamsAsked ? 'sliding' : 'streams');
   if (examples === 'sliding') {
-    return slidingWindows({ table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season: baselines.season.season, options, split, baselines, notes, metadata: common, context, what: testWhat });
+    return slidingWindows({ table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season: baselines.season.season, options, split, baselines, notes, metadata: common, context, what: testWhat, time });
   }
   if (options.hybrid === true) throw new CommandError('--hybrid needs sliding windows (--examples sliding; the default up to 2,000 training rows, and not with --transform or --lookback)', 2);
   if (trainEnd < options.streams * options.window + horizon) {
@@ -332,6 +334,7 @@ interface SlidingInput {
   readonly metadata: WeightMetadata;
   readonly context: readonly string[];
   readonly what: string;
+  readonly time: TimeColumn | null;
 }
 
 /**
@@ -368,7 +371,11 @@ function slidingWindows(input: SlidingInput): Prepared {
   const hybrid = options.hybrid === true ? targetIndexes.map((j) => chooseSmoothing(values.map((row) => row[j]), trainEnd, testStart, horizon, season)) : null;
   const smoothed = hybrid?.map((h) => h.forecasts) ?? null;
   const base = (k: number, t: number) => (smoothed === null ? values[t][targetIndexes[k]] : smoothed[k][t]);
-  const inputWidth = width + (hybrid === null ? 0 : targetIndexes.length);
+  // Calendar inputs from the time column (where in the year, week or day each row falls), after the hybrid's.
+  const positions = options.calendar === false || input.time === null ? [] : calendarFor(input.time.spacing);
+  const times = input.time?.times ?? null;
+  const calendarAt = width + (hybrid === null ? 0 : targetIndexes.length);
+  const inputWidth = calendarAt + 2 * positions.length;
   const targetDeviation = targetIndexes.map((j, k) => {
     let sum = 0;
     for (let t = 0; t + horizon < trainEnd; t++) sum += (values[t + horizon][j] - base(k, t)) ** 2;
@@ -381,6 +388,7 @@ function slidingWindows(input: SlidingInput): Prepared {
       const row = t - window + 1 + k;
       for (let j = 0; j < width; j++) inputs[k * inputWidth + j] = (values[row][j] - values[t][j]) / deviation[j];
       if (smoothed !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (smoothed[i][row] - values[t][j]) / deviation[j]));
+      if (times !== null && positions.length > 0) calendarInputs(positions, times[row], inputs, k * inputWidth + calendarAt);
     }
     return { values: inputs, target: targetIndexes.map((j, i) => (values[t + horizon][j] - base(i, t)) / targetDeviation[i]) };
   };
@@ -415,13 +423,13 @@ function slidingWindows(input: SlidingInput): Prepared {
     outputWidth: targetIndexes.length,
     train: sequenceBatches(trainSet, { batchSize: batch, features: inputWidth, seed: options.seed }),
     validation,
-    metadata: { ...input.metadata, normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }) } },
+    metadata: { ...input.metadata, normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
     notes: input.notes,
     chosen: {
       ...(given.has('epochs') ? {} : { epochs }),
       ...(given.has('patience') ? {} : { patience: 5 }),
       ...(given.has('hidden') ? {} : { hidden: 32 }),
-      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}: ${trainSet.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override, --examples streams reads the series as streams)`,
+      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}: ${trainSet.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
     },
     validationFigure: (model) => {
       const forecasts = forecastsOf(model, validation, trainEnd);

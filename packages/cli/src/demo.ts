@@ -34,7 +34,7 @@ async function demo(): Promise<void> {
   // the forecasts come out in °C.
   const forecaster = createRowForecaster(runtime, file.metadata as Record<string, unknown>);
   const table = parseTable(readFileSync(data, 'utf8'), { file: data });
-  const columns = forecaster.inputNames.map((c) => table.header.indexOf(c));
+  const columns = forecaster.readNames.map((c) => table.header.indexOf(c));
   const target = forecaster.outputNames[0];
   const targetColumn = table.header.indexOf(target);
   const horizon = Number((file.metadata as { horizon: number }).horizon);
@@ -42,7 +42,7 @@ async function demo(): Promise<void> {
   const row: Record<string, string> = {};
   const samples: string[] = [];
   for (let r = 0; r + horizon < table.rows.length; r++) {
-    forecaster.inputNames.forEach((c, j) => (row[c] = table.rows[r].fields[columns[j]]));
+    forecaster.readNames.forEach((c, j) => (row[c] = table.rows[r].fields[columns[j]]));
     const forecast = forecaster.next(row)?.[target];
     if (forecast === undefined || r + horizon < firstTest || (r + horizon - firstTest) % 40 !== 0 || samples.length >= 10) continue;
     const now = Number(table.rows[r].fields[targetColumn]);

@@ -228,16 +228,17 @@ function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: strin
     }
   };
   const each: EachRow = (table, row, emit) => {
-    at ??= columnsAt(table, model.inputNames, name, 'the model reads it');
+    at ??= columnsAt(table, model.readNames, name, 'the model reads it');
     if (row === 1) kept = columnsAt(table, keep, name, 'for --keep');
     const fields = table.rows[0].fields;
-    model.inputNames.forEach((c, j) => (raw[c] = fields[(at as number[])[j]]));
+    model.readNames.forEach((c, j) => (raw[c] = fields[(at as number[])[j]]));
     let values: Record<string, number> | null;
     try {
       values = model.next(raw);
-    } catch {
-      // Point at the first field that is not a number, by line and column.
+    } catch (error) {
+      // Point at the first field that is not a number, by line and column (a time that does not parse: its message).
       const j = model.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
+      if (j < 0) throw new CommandError(`${fieldPath(table, 0, (at as number[])[model.readNames.length - 1])}: ${(error as Error).message}`);
       throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`);
     }
     const record: OutputRecord = marked ? { row, made: 'from data' } : { row };

@@ -102,9 +102,13 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   // The model's forecast made at every row, in real units (a stream's state running from the first row; a
   // windowed model's from the rows of its window).
   const forecaster = createRowForecaster(runtime, meta);
-  const row: Record<string, number> = {};
+  const timeName = forecaster.readNames.length > forecaster.inputNames.length ? forecaster.readNames[forecaster.readNames.length - 1] : null;
+  const timeAt = timeName === null ? -1 : table.header.indexOf(timeName);
+  if (timeName !== null && timeAt < 0) throw new CommandError(`${name}: no column ${JSON.stringify(timeName)}, the times the model reads its calendar inputs from`);
+  const row: Record<string, number | string> = {};
   const forecasts = values.map((v, r) => {
     translator.inputNames.forEach((c, j) => (row[c] = v[j]));
+    if (timeName !== null) row[timeName] = table.rows[r].fields[timeAt];
     const made = forecaster.next(row, fieldPath(table, r, at[0]));
     return made === null ? null : translator.outputNames.map((name) => made[name]);
   });

@@ -88,8 +88,8 @@ describe('preparing training data', () => {
   it('trains a short series on sliding windows chosen from the data, and refuses a window longer than its training rows', () => {
     const prepared = prepareForecast(dated(100, (r) => String(10 + Math.sin(r / 3))), 'daily.csv', { ...options, given: new Set(['streams']) });
     // 70 training rows: a window of 17 (a quarter of them, under 24), 53 windows, 27 batches of 2, 2,000 updates in 75 epochs.
-    expect(prepared.chosen?.said).toBe('sliding windows: 53 training examples of 17 rows (no season found), 2 per batch, up to 75 epochs, patience 5, 32 hidden (chosen from the data; flags override, --examples streams reads the series as streams)');
-    expect(prepared.metadata.window).toMatchObject({ rows: 17 });
+    expect(prepared.chosen?.said).toBe('sliding windows: 53 training examples of 17 rows (no season found), 2 per batch, up to 75 epochs, patience 5, 32 hidden, reading the day of week and day of year (chosen from the data; flags override, --examples streams reads the series as streams)');
+    expect(prepared.metadata.window).toMatchObject({ rows: 17, calendar: ['day of week', 'day of year'] });
     expect(() => prepareForecast(dated(100, (r) => String(r)), 'daily.csv', { ...options, window: 90, given: new Set(['window']) })).toThrowError('daily.csv: 70 training rows make 0 windows of 90 rows 1 row ahead; lower --window');
   });
 

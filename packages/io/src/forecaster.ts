@@ -15,6 +15,9 @@ import type { Runtime } from './runtime/runtime.js';
 import { createTranslator } from './translate.js';
 import { SmoothingStepper } from './data/smoothing.js';
 import type { SmoothingParameters } from './data/smoothing.js';
+import { calendarInputs } from './data/calendar.js';
+import type { CalendarPosition } from './data/calendar.js';
+import { parseTime } from './data/time-column.js';
 
 /** What a windowed forecast model records in its metadata (`window`). */
 export interface ForecastWindow {
@@ -30,12 +33,16 @@ export interface ForecastWindow {
    * the correction to the smoothing forecast made at the last row instead of the change from that row.
    */
   readonly hybrid?: readonly SmoothingParameters[];
+  /** Calendar positions read from the time column (metadata `timeColumn`), a sine and cosine each, last. */
+  readonly calendar?: readonly CalendarPosition[];
 }
 
 /** Forecasts row by row. */
 export interface RowForecaster {
-  /** The columns it reads, in order. */
+  /** The columns of numbers it reads, in order. */
   readonly inputNames: readonly string[];
+  /** Every column a row must have: the input columns and, for calendar inputs, the time column last. */
+  readonly readNames: readonly string[];
   /** The targets it forecasts. */
   readonly outputNames: readonly string[];
   /** Rows it needs before its first forecast (1 for a stream, the window's rows for a windowed model). */
@@ -67,6 +74,11 @@ export function forecastWindow(metadata: Readonly<Record<string, unknown>>, colu
       fail('bad_weight_file', 'metadata.window.hybrid', `${targets} smoothing records (method, season, alpha, beta, gamma, phi, level, trend, seasonal), one per target`, JSON.stringify(window.hybrid)?.slice(0, 80) ?? 'nothing');
     }
   }
+  if (window.calendar !== undefined) {
+    const known = ['month of year', 'quarter of year', 'week of year', 'day of week', 'day of year', 'time of day'];
+    if (!Array.isArray(window.calendar) || !window.calendar.every((c) => known.includes(c))) fail('bad_weight_file', 'metadata.window.calendar', `calendar positions among ${known.join(', ')}`, JSON.stringify(window.calendar)?.slice(0, 80) ?? 'nothing');
+    if (typeof metadata.timeColumn !== 'string') fail('bad_weight_file', 'metadata.timeColumn', 'the name of the time column the calendar inputs are read from', JSON.stringify(metadata.timeColumn) ?? 'nothing');
+  }
   return window as ForecastWindow;
 }
 
@@ -81,6 +93,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     const input = new Float32Array(inputNames.length);
     return {
       inputNames,
+      readNames: inputNames,
       outputNames,
       warmUp: 1,
       next: (row, where) => translator.outputs(streams.step(translator.inputs(row, input, where))),
@@ -92,17 +105,23 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const targets = outputNames.map((t) => inputNames.indexOf(t));
   const horizon = Number(metadata.horizon ?? 1);
   const smoothers = window.hybrid?.map((p) => new SmoothingStepper(p, horizon)) ?? null;
-  // Each row as the model reads it: the raw values, then (hybrid) the smoothing forecast made at it per target.
-  const stride = width + (smoothers === null ? 0 : smoothers.length);
+  const calendar = window.calendar ?? [];
+  const timeColumn = calendar.length > 0 ? String(metadata.timeColumn) : null;
+  const hybrids = smoothers === null ? 0 : smoothers.length;
+  // Each row as kept: the raw values, (hybrid) the smoothing forecast made at it per target, and its time.
+  const timeSlot = width + hybrids;
+  const stride = timeSlot + 1;
+  const inputWidth = timeSlot + 2 * calendar.length;
   // The last w rows, oldest first once full: ring[(start + k) % w] is the k-th row of the window.
   const ring = new Float64Array(w * stride);
-  const input = new Float32Array(stride);
+  const input = new Float32Array(inputWidth);
   const output = new Float32Array(outputNames.length);
   let seen = 0;
   const fresh = () => window.hybrid?.map((p) => new SmoothingStepper(p, horizon)) ?? null;
   let steppers = smoothers;
   return {
     inputNames,
+    readNames: timeColumn === null ? inputNames : [...inputNames, timeColumn],
     outputNames,
     warmUp: w,
     next(row, where = 'row') {
@@ -115,6 +134,12 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
         ring[at + j] = value;
       });
       if (steppers !== null) for (let k = 0; k < steppers.length; k++) ring[at + width + k] = steppers[k].next(ring[at + targets[k]]);
+      if (timeColumn !== null) {
+        const raw = Object.prototype.hasOwnProperty.call(row, timeColumn) ? String(row[timeColumn]) : undefined;
+        const time = raw === undefined ? NaN : parseTime(raw);
+        if (Number.isNaN(time)) fail('bad_data', `${where}.${timeColumn}`, `a time in column ${JSON.stringify(timeColumn)} (the model reads where in the calendar each row falls)`, raw === undefined ? 'nothing' : JSON.stringify(raw.slice(0, 80)));
+        ring[at + timeSlot] = time;
+      }
       seen++;
       if (seen < w) return null;
       streams.reset();
@@ -122,7 +147,8 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
       for (let k = 0; k < w; k++) {
         const from = ((start + k) % w) * stride;
         for (let j = 0; j < width; j++) input[j] = (ring[from + j] - ring[at + j]) / window.deviation[j];
-        for (let i = width; i < stride; i++) input[i] = (ring[from + i] - ring[at + targets[i - width]]) / window.deviation[targets[i - width]];
+        for (let i = width; i < timeSlot; i++) input[i] = (ring[from + i] - ring[at + targets[i - width]]) / window.deviation[targets[i - width]];
+        if (timeColumn !== null) calendarInputs(calendar, ring[from + timeSlot], input, timeSlot);
         streams.step(input, output);
       }
       const named: Record<string, number> = {};

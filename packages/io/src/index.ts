@@ -35,6 +35,8 @@ export type { Contender, ForecastReportParts, HeldOutReport, TransductionFigures
 export { bestOf, forecastReport, reportJson, reportLines, verdict } from './data/verdict.js';
 export type { LogisticModel } from './data/logistic.js';
 export { LOGISTIC_PENALTIES, chooseLogistic, fitLogistic, logisticLoss, predictLogistic, summaryFeatures } from './data/logistic.js';
+export type { CalendarPosition } from './data/calendar.js';
+export { calendarFor, calendarInputs } from './data/calendar.js';
 export type { TimeColumn } from './data/time-column.js';
 export { parseTime, readTimeColumn, timeSpacing } from './data/time-column.js';
 export type { ForecastWindow, RowForecaster } from './forecaster.js';

@@ -55,11 +55,12 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
     if (!isStrings(classes)) add('classes', 'an array of strings', classes);
     else if (classes.length !== outputs) add('classes', `${outputs} class names (one per output of the model)`, classes.length);
   }
-  // A hybrid forecast model (window.hybrid) reads one smoothing forecast per target besides its columns.
-  const hybrid = (metadata.window as { hybrid?: unknown } | undefined)?.hybrid;
-  const extra = Array.isArray(hybrid) ? hybrid.length : 0;
+  // A windowed forecast model may read one smoothing forecast per target (window.hybrid) and a sine and cosine per
+  // calendar position (window.calendar) besides its columns.
+  const window = metadata.window as { hybrid?: unknown; calendar?: unknown } | undefined;
+  const extra = (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) + (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0);
   const readWidth = input.kind === 'values' ? input.width - extra : 1;
-  const widthWords = extra > 0 ? `the model's input width less the hybrid's ${extra} smoothing input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
+  const widthWords = extra > 0 ? `the model's input width less its ${extra} smoothing and calendar input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
   let columns: string[] | null = null;
   if (has('columns')) {
     const value = metadata.columns;

@@ -7,7 +7,7 @@
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { createRowForecaster, createTranslator, fitSmoothing, modelTensors, readWeightFile, runSmoothing, writeWeightFile } from '@weft/io';
+import { calendarInputs, createRowForecaster, createTranslator, fitSmoothing, modelTensors, readWeightFile, runSmoothing, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 
 const description = { input: { kind: 'values' as const, width: 2 }, layers: [{ cell: 'gru' as const, hidden: 6 }], readout: { width: 1 } };
@@ -79,6 +79,31 @@ describe('forecasting row by row', () => {
       const out = runtime.run(input, 3, 1);
       expect(made!.heat).toBeCloseTo(smoothed[t] + out[2] * 0.25, 5);
     });
+  });
+
+  it('reads each row\'s calendar position from the time column after its values, and names a time that does not parse', async () => {
+    const window = { rows: 3, deviation: [0.5, 2], targetDeviation: [0.25], calendar: ['month of year'] };
+    const model = buildModel({ ...description, input: { kind: 'values' as const, width: 4 } }, { seed: 5 });
+    const file = await readWeightFile(await writeWeightFile(model.description, modelTensors(model)));
+    const meta = { ...base, timeColumn: 'month', window };
+    const forecaster = createRowForecaster(await createRuntime(file), meta);
+    const runtime = await createRuntime(file);
+    expect(forecaster.readNames).toEqual(['heat', 'flow', 'month']);
+    const month = (t: number) => `2024-${String(t + 1).padStart(2, '0')}`;
+    rows.forEach((row, t) => {
+      const made = forecaster.next({ ...row, month: month(t) });
+      if (t < 2) return expect(made).toBeNull();
+      const input = new Float32Array(12);
+      for (let k = 0; k < 3; k++) {
+        const r = rows[t - 2 + k];
+        input.set([(r.heat - row.heat) / 0.5, (r.flow - row.flow) / 2], 4 * k);
+        calendarInputs(['month of year'], Date.UTC(2024, t - 2 + k, 1), input, 4 * k + 2);
+      }
+      const out = runtime.run(input, 3, 1);
+      expect(made!.heat).toBeCloseTo(row.heat + out[2] * 0.25, 5);
+    });
+    expect(() => forecaster.next({ ...rows[0], month: 'Smarch' }, 'readings.csv:14:1')).toThrowError('Bad data at readings.csv:14:1.month: expected a time in column "month" (the model reads where in the calendar each row falls), received "Smarch"');
+    expect(() => createRowForecaster(runtime, { ...meta, timeColumn: undefined })).toThrowError(/^Bad weight file at metadata\.timeColumn: expected the name of the time column/);
   });
 
   it('refuses a malformed window record naming the field, and a row without a number naming the column', async () => {
