@@ -126,6 +126,15 @@ describe('the held-out verdict', () => {
     expect(plain.text).not.toMatch(/^tried both/m);
   }, 60_000);
 
+  it('finds the daily season of the hourly Seattle normals from the time column and names the best baseline 6 hours ahead', async () => {
+    const hourly = fileURLToPath(new URL('../node_modules/vega-datasets/data/seattle-weather-hourly-normals.csv', import.meta.url));
+    const { outcome, text } = await trainQuietly([hourly, '--target', 'temperature', '--horizon', '6', '--out', join(folder, 'hourly.weft.json')]);
+    expect(text).toMatch(/^season of 24 rows from the time column \(rows hours apart\): /m);
+    const best = outcome.heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a));
+    console.log(`hourly Seattle normals, 6 h ahead: model MAE ${outcome.heldOut.model.value}, best ${best.name} ${best.value}`);
+    expect(text).toMatch(outcome.heldOut.model.value < best.value ? /^verdict: the model beats every baseline/m : new RegExp(`^verdict: the model does NOT beat the baseline ${best.name}: MAE `, 'm'));
+  }, 60_000);
+
   it('refuses a series too short for two seasons and the horizon in its training rows, naming the minimum', async () => {
     const file = join(folder, 'short.csv');
     writeFileSync(file, `level\n${seasonalTrend(60).map((v) => v.toFixed(4)).join('\n')}\n`);
