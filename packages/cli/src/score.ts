@@ -135,7 +135,7 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
 }
 
 /** The class probabilities of every sequence of a long table (one step per row), in the order ids first appear. */
-export function classifyStepTable(runtime: Runtime, meta: Record<string, unknown>, table: Table, labelColumn?: string): { id: string; line: number; label: string | null; probabilities: number[] }[] {
+export function classifyStepTable(runtime: Runtime, meta: Record<string, unknown>, table: Table, labelColumn?: string): { id: string; line: number; label: string | null; probabilities: number[]; steps: readonly (readonly number[])[] }[] {
   const translator = createTranslator(meta);
   const classes = translator.outputNames;
   const read = readStepTable(table, {
@@ -155,7 +155,7 @@ export function classifyStepTable(runtime: Runtime, meta: Record<string, unknown
     const out = runtime.run(values, q.steps.length, 1);
     const last = out.subarray((q.steps.length - 1) * classes.length, q.steps.length * classes.length);
     const { logSumExp } = logits(last);
-    return { id: q.id, line: q.line, label: q.label, probabilities: Array.from(last, (z) => Math.exp(z - logSumExp)) };
+    return { id: q.id, line: q.line, label: q.label, probabilities: Array.from(last, (z) => Math.exp(z - logSumExp)), steps: q.steps };
   });
 }
 
@@ -168,15 +168,13 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
   let unit = 'labelled sequences';
   if (typeof meta.idColumn === 'string') {
     const labelAt = table.header.indexOf(labelColumn);
-    const read = readStepTable(table, { idColumn: String(meta.idColumn), stepColumn: typeof meta.stepColumn === 'string' ? meta.stepColumn : undefined, labelColumn, columns: translator.inputNames });
     const results = classifyStepTable(runtime, meta, table, labelColumn);
-    results.forEach((r, i) => {
+    results.forEach((r) => {
       const k = classes.indexOf(r.label as string);
       if (k < 0) throw new CommandError(`${name}:${r.line}:${table.rows.find((row) => row.line === r.line)?.starts[labelAt] ?? 1}: ${JSON.stringify((r.label ?? '').slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
       let best = 0;
       for (let j = 1; j < r.probabilities.length; j++) if (r.probabilities[j] > r.probabilities[best]) best = j;
-      const steps = read.sequences[i].steps;
-      items.push({ actual: k, predicted: best, features: summaryFeatures(steps.flat(), steps.length, translator.inputNames.length) });
+      items.push({ actual: k, predicted: best, features: summaryFeatures(r.steps.flat(), r.steps.length, translator.inputNames.length) });
     });
     unit = `labelled sequences (${table.rows.length} step rows)`;
   } else {
