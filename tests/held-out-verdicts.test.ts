@@ -135,6 +135,18 @@ describe('the held-out verdict', () => {
     expect(text).toMatch(outcome.heldOut.model.value < best.value ? /^verdict: the model beats every baseline/m : new RegExp(`^verdict: the model does NOT beat the baseline ${best.name}: MAE `, 'm'));
   }, 60_000);
 
+  it('scores more test windows than fit in one batch in their own order, as weft score does from the runtime', async () => {
+    // 1,800 rows, a fifth for the test: 360 windows, two batches of evaluation (a shuffled order once scrambled them).
+    const file = join(folder, 'long-windows.csv');
+    writeFileSync(file, `level\n${seasonalTrend(1800).map((v) => v.toFixed(4)).join('\n')}\n`);
+    const out = join(folder, 'long-windows.weft.json');
+    const { outcome } = await trainQuietly([file, '--test', '0.2', '--hybrid', 'no', '--epochs', '2', '--hidden', '8', '--out', out]);
+    expect(outcome.heldOut.model.overall!.count).toBe(360);
+    const scored = JSON.parse(await score(parseArgs('score', [out, file, '--format', 'json'], scoreFlags))) as { model: { value: number; overall: { count: number } } };
+    expect(scored.model.overall.count).toBe(360);
+    expect(Math.abs(scored.model.value - outcome.heldOut.model.value)).toBeLessThanOrEqual(1e-5 * outcome.heldOut.model.value);
+  }, 60_000);
+
   it('refuses a series too short for two seasons and the horizon in its training rows, naming the minimum', async () => {
     const file = join(folder, 'short.csv');
     writeFileSync(file, `level\n${seasonalTrend(60).map((v) => v.toFixed(4)).join('\n')}\n`);

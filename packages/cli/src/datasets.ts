@@ -405,16 +405,26 @@ function slidingWindows(input: SlidingInput): Prepared {
   const batchesPerEpoch = Math.ceil(trainSet.length / batch);
   const epochs = Math.min(300, Math.max(20, Math.ceil(2000 / batchesPerEpoch)));
   const validation = sequenceBatches(validationSet, { batchSize: 256, features: inputWidth });
-  const test = sequenceBatches(examplesEnding(testStart, values.length), { batchSize: 256, features: inputWidth });
+  // Forecasts are read in window order: a batch source shuffles its batches, so each chunk of windows is a source
+  // of one batch, read in turn.
+  const inOrder = (set: LabelledSequence[]): DataSource[] => {
+    const chunks: DataSource[] = [];
+    for (let i = 0; i < set.length; i += 256) chunks.push(sequenceBatches(set.slice(i, i + 256), { batchSize: 256, features: inputWidth }));
+    return chunks;
+  };
+  const validationInOrder = inOrder(validationSet);
+  const test = inOrder(examplesEnding(testStart, values.length));
   const seasonWords = season === null ? 'no season found' : 2 * season === window ? `two seasons of ${season} rows` : `a season of ${season} rows`;
-  const forecastsOf = (model: SequenceModel, source: DataSource, firstTarget: number): Float64Array[] => {
+  const forecastsOf = (model: SequenceModel, chunks: readonly DataSource[], firstTarget: number): Float64Array[] => {
     const forecasts = targetIndexes.map(() => new Float64Array(values.length).fill(NaN));
     let t = Math.max(window - 1, firstTarget - horizon);
-    forEachOutputBatch(model, source, (_batch, { outputs }) => {
-      for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
-        targetIndexes.forEach((_j, k) => (forecasts[k][t] = base(k, t) + outputs[i + k] * targetDeviation[k]));
-      }
-    });
+    for (const chunk of chunks) {
+      forEachOutputBatch(model, chunk, (_batch, { outputs }) => {
+        for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
+          targetIndexes.forEach((_j, k) => (forecasts[k][t] = base(k, t) + outputs[i + k] * targetDeviation[k]));
+        }
+      });
+    }
     return forecasts;
   };
   return {
@@ -432,7 +442,7 @@ function slidingWindows(input: SlidingInput): Prepared {
       said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}: ${trainSet.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
     },
     validationFigure: (model) => {
-      const forecasts = forecastsOf(model, validation, trainEnd);
+      const forecasts = forecastsOf(model, validationInOrder, trainEnd);
       const positions: number[] = [];
       for (let t = Math.max(window - 1, trainEnd - horizon); t < testStart - horizon; t++) positions.push(t);
       const errors = scoreForecaster({ ...split, positions }, (at, k) => forecasts[k][at], baselines.scales).overall;
