@@ -104,10 +104,11 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const w = window.rows;
   const targets = outputNames.map((t) => inputNames.indexOf(t));
   const horizon = Number(metadata.horizon ?? 1);
-  const smoothers = window.hybrid?.map((p) => new SmoothingStepper(p, horizon)) ?? null;
+  const fresh = () => window.hybrid?.map((p) => new SmoothingStepper(p, horizon)) ?? null;
+  let steppers = fresh();
   const calendar = window.calendar ?? [];
   const timeColumn = calendar.length > 0 ? String(metadata.timeColumn) : null;
-  const hybrids = smoothers === null ? 0 : smoothers.length;
+  const hybrids = steppers === null ? 0 : steppers.length;
   // Each row as kept: the raw values, (hybrid) the smoothing forecast made at it per target, and its time.
   const timeSlot = width + hybrids;
   const stride = timeSlot + 1;
@@ -117,8 +118,6 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const input = new Float32Array(inputWidth);
   const output = new Float32Array(outputNames.length);
   let seen = 0;
-  const fresh = () => window.hybrid?.map((p) => new SmoothingStepper(p, horizon)) ?? null;
-  let steppers = smoothers;
   return {
     inputNames,
     readNames: timeColumn === null ? inputNames : [...inputNames, timeColumn],
@@ -127,12 +126,13 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     next(row, where = 'row') {
       const slot = seen % w;
       const at = slot * stride;
-      inputNames.forEach((name, j) => {
+      for (let j = 0; j < width; j++) {
+        const name = inputNames[j];
         const raw = Object.prototype.hasOwnProperty.call(row, name) ? row[name] : undefined;
         const value = typeof raw === 'number' ? raw : raw === undefined || raw.trim() === '' ? NaN : Number(raw);
         if (!Number.isFinite(value)) fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : 'a finite number', raw === undefined ? 'nothing' : JSON.stringify(raw));
         ring[at + j] = value;
-      });
+      }
       if (steppers !== null) for (let k = 0; k < steppers.length; k++) ring[at + width + k] = steppers[k].next(ring[at + targets[k]]);
       if (timeColumn !== null) {
         const raw = Object.prototype.hasOwnProperty.call(row, timeColumn) ? String(row[timeColumn]) : undefined;

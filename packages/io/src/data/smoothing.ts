@@ -60,44 +60,23 @@ const hasSeason = (m: SmoothingMethod) => m === 'additive' || m === 'multiplicat
  * (every row of `series`, using only rows ≤ t). NaN when the multiplicative form meets a level or season ≤ 0.
  */
 export function runSmoothing(series: ArrayLike<number>, count: number, p: SmoothingParameters, horizon = 1, forecasts: Float64Array | null = null): number {
-  const m = hasSeason(p.method) ? p.season : 1;
-  const multiplicative = p.method === 'multiplicative';
-  const trend = hasTrend(p.method);
-  const seasonal = hasSeason(p.method);
-  const { alpha, beta, gamma } = p;
-  const phi = trend ? p.phi : 0;
-  const ring = Float64Array.from(seasonal ? p.seasonal : [multiplicative ? 1 : 0]);
-  // φ + φ² + … + φ^h, the trend's weight h rows ahead.
-  let damping = 0;
-  for (let i = 1, power = 1; i <= horizon; i++) damping += (power *= phi);
-  let level = p.level;
-  let slope = trend ? p.trend : 0;
+  const stepper = new SmoothingStepper(p, horizon);
   let squared = 0;
   const rows = forecasts === null ? count : series.length;
-  for (let t = 0, j = 0; t < rows; t++, j = j + 1 === m ? 0 : j + 1) {
+  for (let t = 0; t < rows; t++) {
     const y = series[t];
-    const s = seasonal ? ring[j] : multiplicative ? 1 : 0;
-    const base = level + phi * slope;
-    const oneStep = seasonal ? (multiplicative ? base * s : base + s) : base;
-    if (t < count) squared += (y - oneStep) ** 2;
-    const nextLevel = alpha * (seasonal ? (multiplicative ? y / s : y - s) : y) + (1 - alpha) * base;
-    if (trend) slope = beta * (nextLevel - level) + (1 - beta) * phi * slope;
-    if (seasonal) ring[j] = gamma * (multiplicative ? y / base : y - base) + (1 - gamma) * s;
-    level = nextLevel;
-    if (multiplicative && !(level > 0 && ring[j] > 0)) return NaN;
-    if (forecasts !== null) {
-      const ahead = level + damping * slope;
-      const sAhead = seasonal ? ring[(t + horizon) % m] : 0;
-      forecasts[t] = seasonal ? (multiplicative ? ahead * sAhead : ahead + sAhead) : ahead;
-    }
+    if (t < count) squared += (y - stepper.oneStep()) ** 2;
+    const ahead = stepper.next(y);
+    if (Number.isNaN(ahead)) return NaN;
+    if (forecasts !== null) forecasts[t] = ahead;
   }
   return squared / Math.max(1, count);
 }
 
 /**
  * A smoothing method run one row at a time with fixed parameters: `next(y)` takes the row's value and returns the
- * forecast made at it of the row `horizon` ahead, with runSmoothing's arithmetic in the same order (the same bits).
- * It allocates nothing after it is made.
+ * forecast made at it of the row `horizon` ahead; `oneStep()` is the forecast of the next row before it is given.
+ * runSmoothing is this stepper over a series. It allocates nothing after it is made.
  */
 export class SmoothingStepper {
   private level: number;
@@ -117,6 +96,16 @@ export class SmoothingStepper {
     let damping = 0;
     for (let i = 1, power = 1; i <= horizon; i++) damping += (power *= phi);
     this.damping = damping;
+  }
+
+  /** The one-step forecast of the next row, made at the row before it (what `next` will be given). */
+  oneStep(): number {
+    const { p, ring } = this;
+    const seasonal = hasSeason(p.method);
+    const base = this.level + (hasTrend(p.method) ? p.phi : 0) * this.slope;
+    if (!seasonal) return base;
+    const s = ring[this.t % this.m];
+    return p.method === 'multiplicative' ? base * s : base + s;
   }
 
   /** Takes the next value and returns the forecast made at it (NaN once a multiplicative state is not positive). */
