@@ -23,3 +23,4 @@ export { SequenceModel, buildModel } from './model.js';
 export * as stepKernels from './kernels/index.js';
 export type { AttentionStep } from './attention.js';
 export { attend } from './attention.js';
+export { medianOfMembers, stackMembers, stackedDescription } from './ensemble.js';

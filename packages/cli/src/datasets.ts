@@ -10,11 +10,12 @@
  * HeldOutReport) and share their normalisation and held-out splits; side by side they stay alike.
  */
 import { Random, fail } from '@weft/core';
+import { medianOfMembers } from '@weft/cells';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { Batch, DataSource, LabelledSequence } from '@weft/optim';
 import { UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, predictLogistic, summaryFeatures, textBaselines, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, forecastBaselines, parseTable, readSeries, readStepTable, readTimeColumn, scoreForecaster } from '@weft/io';
-import { calendarFor, calendarInputs, fitSmoothing, forecastReport, runSmoothing } from '@weft/io';
+import { calendarFor, calendarInputs, fitSmoothing, forecastReport, forecastWords, runSmoothing } from '@weft/io';
 import type { ClassificationReport, HeldOutReport, SmoothingMethod, SmoothingParameters, Table, TimeColumn, WeightMetadata } from '@weft/io';
 
 export type { Contender, HeldOutReport } from '@weft/io';
@@ -201,11 +202,13 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     ...(baselines.season.season === null ? {} : { season: baselines.season.season }),
   };
   const context = [partsLine, `${baselines.season.reason}${options.season === undefined ? ' (--season to choose another, or none)' : ''}`, ...baselines.leftOut.map((l) => `left out: ${l}`)];
-  const testWhat = `${positions.length} forecasts of ${targetNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`;
+  const examplesAsked = options.examples ?? (trainEnd <= SLIDING_ROWS && (options.transform ?? 'none') === 'none' && options.lookback === 0 ? 'sliding' : 'streams');
+  // Sliding windows forecast every row up to the horizon at once; streams the row `horizon` ahead.
+  const rowsAheadWords = examplesAsked === 'sliding' ? Array.from({ length: horizon }, (_, i) => i + 1) : [horizon];
+  const testWhat = `${forecastWords(positions.length, targetNames, rowsAheadWords)}, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`;
   // Sliding windows by default for series up to SLIDING_ROWS training rows, unless a flag that applies to streams
   // alone (--transform, --lookback) asks for streams.
-  const streamsAsked = (options.transform ?? 'none') !== 'none' || options.lookback > 0;
-  const examples = options.examples ?? (trainEnd <= SLIDING_ROWS && !streamsAsked ? 'sliding' : 'streams');
+  const examples = examplesAsked;
   if (examples === 'sliding') {
     return slidingWindows({ table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season: baselines.season.season, options, split, baselines, notes, metadata: common, context, what: testWhat, time });
   }
@@ -272,12 +275,17 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   function forecastsOn(model: SequenceModel, source: DataSource, end: number): Float64Array[] {
     const forecasts = Array.from({ length: targetIndexes.length }, () => new Float64Array(end));
     let t = 0;
-    forEachOutputBatch(model, source, (_batch, { outputs }) => {
-      for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
+    const combined = new Float64Array(targetIndexes.length);
+    forEachOutputBatch(model, source, (_batch, { outputs, width }) => {
+      // Members stacked into one model (--ensemble) give one block of targets each: their median is the forecast.
+      const members = width / targetIndexes.length;
+      const scratch = new Float64Array(members);
+      for (let i = 0; i < outputs.length; i += width, t++) {
+        medianOfMembers(outputs, i, members, targetIndexes.length, combined, scratch);
         targetIndexes.forEach((j, k) => {
           forecasts[k][t] = change === null
-            ? outputs[i + k] * deviation[j] + mean[j]
-            : TRANSFORMS[transform as 'differences' | 'log-returns'].inverse(outputs[i + k] * change.deviation[k] + change.mean[k], values[t][j]);
+            ? combined[k] * deviation[j] + mean[j]
+            : TRANSFORMS[transform as 'differences' | 'log-returns'].inverse(combined[k] * change.deviation[k] + change.mean[k], values[t][j]);
         });
       }
     });
@@ -297,17 +305,22 @@ export interface ChosenSettings {
   readonly said: string;
 }
 
-/** The smoothing method, fitted on rows [0, fitEnd), whose forecasts of rows [fitEnd, checkEnd) have the lowest MAE. */
-function chooseSmoothing(series: readonly number[], fitEnd: number, checkEnd: number, horizon: number, season: number | null): { name: string; parameters: SmoothingParameters; forecasts: Float64Array } {
+/**
+ * The smoothing method, fitted on rows [0, fitEnd), whose forecasts of rows [fitEnd, checkEnd) have the lowest MAE
+ * (over every row ahead in `rowsAhead`); its forecasts made at every row, per row ahead (forecasts[s][t]).
+ */
+function chooseSmoothing(series: readonly number[], fitEnd: number, checkEnd: number, rowsAhead: readonly number[], season: number | null): { name: string; parameters: SmoothingParameters; forecasts: Float64Array[] } {
   const methods: SmoothingMethod[] = ['simple', 'damped', ...(season === null ? [] : (['additive', 'multiplicative'] as SmoothingMethod[]))];
-  let best: { name: string; parameters: SmoothingParameters; forecasts: Float64Array; error: number } | null = null;
+  let best: { name: string; parameters: SmoothingParameters; forecasts: Float64Array[]; error: number } | null = null;
   for (const method of methods) {
     const fit = fitSmoothing(series, fitEnd, method, season ?? 1);
     if (fit === null) continue;
-    const forecasts = new Float64Array(series.length);
-    if (Number.isNaN(runSmoothing(series, fitEnd, fit, horizon, forecasts))) continue;
+    const forecasts = rowsAhead.map(() => new Float64Array(series.length));
+    if (rowsAhead.some((h, s) => Number.isNaN(runSmoothing(series, fitEnd, fit, h, forecasts[s])))) continue;
     let error = 0;
-    for (let t = fitEnd - horizon; t + horizon < checkEnd; t++) error += Math.abs(series[t + horizon] - forecasts[t]);
+    rowsAhead.forEach((h, s) => {
+      for (let t = fitEnd - h; t + h < checkEnd; t++) error += Math.abs(series[t + h] - forecasts[s][t]);
+    });
     if (best === null || error < best.error) {
       const { meanSquaredError: _unused, ...parameters } = fit;
       best = { name: method === 'simple' ? 'simple smoothing' : method === 'damped' ? 'a damped trend' : `Holt-Winters ${method}`, parameters, forecasts, error };
@@ -359,6 +372,9 @@ function slidingWindows(input: SlidingInput): Prepared {
   }
   const window = given.has('window') ? options.window : Math.max(2, Math.min(season === null ? 24 : 2 * season, 64, Math.floor(trainEnd / 4)));
   const width = columns.length;
+  const targetCount = targetIndexes.length;
+  // Every row up to the horizon at once (direct multi-output): one block of targets per row ahead, nearest first.
+  const rowsAhead = Array.from({ length: horizon }, (_, i) => i + 1);
   // Deviations of one-row changes per column, and of the forecast change per target, over the training rows.
   const deviation = Array.from({ length: width }, (_, j) => {
     let sum = 0;
@@ -367,91 +383,108 @@ function slidingWindows(input: SlidingInput): Prepared {
     return d > 0 && Number.isFinite(d) ? d : 1;
   });
   // The hybrid: per target, the smoothing method (fitted on the training rows) whose forecasts of the validation
-  // rows are best; the model reads its forecasts beside the values and forecasts the correction to them.
-  const hybrid = options.hybrid === true ? targetIndexes.map((j) => chooseSmoothing(values.map((row) => row[j]), trainEnd, testStart, horizon, season)) : null;
-  const smoothed = hybrid?.map((h) => h.forecasts) ?? null;
-  const base = (k: number, t: number) => (smoothed === null ? values[t][targetIndexes[k]] : smoothed[k][t]);
+  // rows are best; the model reads its forecasts of the next row beside the values and forecasts the correction to
+  // its forecast of each row ahead.
+  const hybrid = options.hybrid === true ? targetIndexes.map((j) => chooseSmoothing(values.map((row) => row[j]), trainEnd, testStart, rowsAhead, season)) : null;
+  const base = (s: number, k: number, t: number) => (hybrid === null ? values[t][targetIndexes[k]] : hybrid[k].forecasts[s][t]);
   // Calendar inputs from the time column (where in the year, week or day each row falls), after the hybrid's.
   const positions = options.calendar === false || input.time === null ? [] : calendarFor(input.time.spacing);
   const times = input.time?.times ?? null;
-  const calendarAt = width + (hybrid === null ? 0 : targetIndexes.length);
+  const calendarAt = width + (hybrid === null ? 0 : targetCount);
   const inputWidth = calendarAt + 2 * positions.length;
-  const targetDeviation = targetIndexes.map((j, k) => {
+  const targetDeviation = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
     let sum = 0;
-    for (let t = 0; t + horizon < trainEnd; t++) sum += (values[t + horizon][j] - base(k, t)) ** 2;
-    const d = Math.sqrt(sum / Math.max(1, trainEnd - horizon));
+    for (let t = 0; t + h < trainEnd; t++) sum += (values[t + h][j] - base(s, k, t)) ** 2;
+    const d = Math.sqrt(sum / Math.max(1, trainEnd - h));
     return d > 0 && Number.isFinite(d) ? d : 1;
-  });
-  const example = (t: number): LabelledSequence => {
+  }));
+  // The window ending at row t; its targets are the rows ahead before row `end` (0 past it: those are never scored).
+  const example = (t: number, end: number): LabelledSequence => {
     const inputs = new Array<number>(window * inputWidth);
     for (let k = 0; k < window; k++) {
       const row = t - window + 1 + k;
       for (let j = 0; j < width; j++) inputs[k * inputWidth + j] = (values[row][j] - values[t][j]) / deviation[j];
-      if (smoothed !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (smoothed[i][row] - values[t][j]) / deviation[j]));
+      if (hybrid !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (hybrid[i].forecasts[0][row] - values[t][j]) / deviation[j]));
       if (times !== null && positions.length > 0) calendarInputs(positions, times[row], inputs, k * inputWidth + calendarAt);
     }
-    return { values: inputs, target: targetIndexes.map((j, i) => (values[t + horizon][j] - base(i, t)) / targetDeviation[i]) };
+    const target = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => (t + h < end ? (values[t + h][j] - base(s, k, t)) / targetDeviation[s * targetCount + k] : 0)));
+    return { values: inputs, target };
   };
-  const examplesEnding = (firstTarget: number, endTarget: number) => {
+  // Windows ending at rows [from, to) (none before a full window), targets before row `end`.
+  const windowsEnding = (from: number, to: number, end: number) => {
     const out: LabelledSequence[] = [];
-    for (let t = Math.max(window - 1, firstTarget - horizon); t + horizon < endTarget; t++) out.push(example(t));
+    for (let t = Math.max(window - 1, from); t < to; t++) out.push(example(t, end));
     return out;
   };
-  const trainSet = examplesEnding(0, trainEnd);
+  // Training and validation windows have every row ahead in their part (the farthest row ahead is in it).
+  const trainSet = windowsEnding(0, trainEnd - horizon, trainEnd);
   if (trainSet.length < 2) throw new CommandError(`${file}: ${trainEnd} training rows make ${trainSet.length} windows of ${window} rows ${horizon} row${horizon === 1 ? '' : 's'} ahead; lower --window`, 2);
-  const validationSet = examplesEnding(trainEnd, testStart);
+  const validationSet = windowsEnding(trainEnd - horizon, testStart - horizon, testStart);
   if (validationSet.length === 0) throw new CommandError(`${file}: the validation part has no row with ${window} rows before it; lower --window`);
   const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(trainSet.length / 4)));
   const batchesPerEpoch = Math.ceil(trainSet.length / batch);
   const epochs = Math.min(300, Math.max(20, Math.ceil(2000 / batchesPerEpoch)));
   const validation = sequenceBatches(validationSet, { batchSize: 256, features: inputWidth });
   // Forecasts are read in window order: a batch source shuffles its batches, so each chunk of windows is a source
-  // of one batch, read in turn.
+  // of one batch, read in turn. Scoring reads every window with a row ahead in the part (the nearest at least).
   const inOrder = (set: LabelledSequence[]): DataSource[] => {
     const chunks: DataSource[] = [];
     for (let i = 0; i < set.length; i += 256) chunks.push(sequenceBatches(set.slice(i, i + 256), { batchSize: 256, features: inputWidth }));
     return chunks;
   };
-  const validationInOrder = inOrder(validationSet);
-  const test = inOrder(examplesEnding(testStart, values.length));
+  const validationFrom = Math.max(window - 1, trainEnd - horizon);
+  const validationInOrder = inOrder(windowsEnding(validationFrom, testStart - 1, testStart));
+  const testFrom = Math.max(window - 1, testStart - horizon);
+  const test = inOrder(windowsEnding(testFrom, values.length - 1, values.length));
   const seasonWords = season === null ? 'no season found' : 2 * season === window ? `two seasons of ${season} rows` : `a season of ${season} rows`;
-  const forecastsOf = (model: SequenceModel, chunks: readonly DataSource[], firstTarget: number): Float64Array[] => {
-    const forecasts = targetIndexes.map(() => new Float64Array(values.length).fill(NaN));
-    let t = Math.max(window - 1, firstTarget - horizon);
+  const block = rowsAhead.length * targetCount;
+  const combined = new Float64Array(block);
+  /** forecasts[s][k][t]: the forecast of target k made at row t for row t + rowsAhead[s] (members' median). */
+  const forecastsOf = (model: SequenceModel, chunks: readonly DataSource[], from: number): Float64Array[][] => {
+    const forecasts = rowsAhead.map(() => targetIndexes.map(() => new Float64Array(values.length).fill(NaN)));
+    let t = from;
     for (const chunk of chunks) {
-      forEachOutputBatch(model, chunk, (_batch, { outputs }) => {
-        for (let i = 0; i < outputs.length; i += targetIndexes.length, t++) {
-          targetIndexes.forEach((_j, k) => (forecasts[k][t] = base(k, t) + outputs[i + k] * targetDeviation[k]));
+      forEachOutputBatch(model, chunk, (_batch, { outputs, width: outputWidth }) => {
+        const members = outputWidth / block;
+        const scratch = new Float64Array(members);
+        for (let i = 0; i < outputs.length; i += outputWidth, t++) {
+          medianOfMembers(outputs, i, members, block, combined, scratch);
+          for (let s = 0; s < rowsAhead.length; s++) for (let k = 0; k < targetCount; k++) forecasts[s][k][t] = base(s, k, t) + combined[s * targetCount + k] * targetDeviation[s * targetCount + k];
         }
       });
     }
     return forecasts;
   };
+  // With several rows ahead, every baseline forecasts each of them too (fitted once).
+  const several = rowsAhead.length > 1;
+  const scoredSplit = several ? { ...split, rowsAhead } : split;
+  const scoredBaselines = several ? forecastBaselines(scoredSplit, { season, spacing: input.time?.spacing ?? null }).scores : baselines.scores;
+  const ahead = several ? `, forecasting rows 1 to ${horizon} ahead at once` : '';
   return {
     task: 'forecast',
     input: { kind: 'values', width: inputWidth },
-    outputWidth: targetIndexes.length,
+    outputWidth: block,
     train: sequenceBatches(trainSet, { batchSize: batch, features: inputWidth, seed: options.seed }),
     validation,
-    metadata: { ...input.metadata, normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
+    metadata: { ...input.metadata, ...(several ? { rowsAhead: 'all' } : {}), normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
     notes: input.notes,
     chosen: {
       ...(given.has('epochs') ? {} : { epochs }),
       ...(given.has('patience') ? {} : { patience: 5 }),
       ...(given.has('hidden') ? {} : { hidden: 32 }),
-      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}: ${trainSet.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
+      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}: ${trainSet.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}${ahead}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
     },
     validationFigure: (model) => {
-      const forecasts = forecastsOf(model, validationInOrder, trainEnd);
-      const positions: number[] = [];
-      for (let t = Math.max(window - 1, trainEnd - horizon); t < testStart - horizon; t++) positions.push(t);
-      const errors = scoreForecaster({ ...split, positions }, (at, k) => forecasts[k][at], baselines.scales).overall;
-      return targetIndexes.length > 1 ? errors.mase ?? NaN : errors.mae;
+      const forecasts = forecastsOf(model, validationInOrder, validationFrom);
+      const scored: number[] = [];
+      for (let t = validationFrom; t < testStart - horizon; t++) scored.push(t);
+      const errors = scoreForecaster({ ...scoredSplit, positions: scored }, (at, k, h) => forecasts[h - 1][k][at], baselines.scales).overall;
+      return targetCount > 1 ? errors.mase ?? NaN : errors.mae;
     },
     heldOut: (model) => {
-      const forecasts = forecastsOf(model, test, testStart);
-      const scored = scoreForecaster(split, (at, k) => forecasts[k][at], baselines.scales);
-      return forecastReport({ what: input.what, model: scored, baselines: baselines.scores, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
+      const forecasts = forecastsOf(model, test, testFrom);
+      const scored = scoreForecaster(scoredSplit, (at, k, h) => forecasts[h - 1][k][at], baselines.scales);
+      return forecastReport({ what: input.what, model: scored, baselines: scoredBaselines, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
     },
   };
 }

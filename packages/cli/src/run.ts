@@ -14,7 +14,7 @@ import { fail } from '@weft/core';
 import { isEncoderDecoder } from '@weft/cells';
 import { createReadStream, existsSync, readFileSync } from 'node:fs';
 import { createInterface } from 'node:readline';
-import { createRowForecaster, createTranslator, parseTable, fieldPath } from '@weft/io';
+import { createTranslator, parseTable, fieldPath } from '@weft/io';
 import type { Table } from '@weft/io';
 import { loadWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
@@ -24,12 +24,14 @@ import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { classifyStepTable } from './score.js';
+import { columnsAt, rowForecasts } from './run-forecasts.js';
+import type { EachRow, OutputRecord } from './run-forecasts.js';
 import { runTransduction } from './transduce.js';
 
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
   { name: 'keep', value: 'A,B', description: 'input columns to carry through to each output row (forecast, classify), such as a date' },
-  { name: 'ahead', value: 'ROWS', description: 'after the last row, forecast this many rows more, each from the forecast before it (a forecast of every column, 1 row ahead)' },
+  { name: 'ahead', value: 'ROWS', description: 'after the last row, forecast this many rows more: from the last row by a model forecasting every row up to its horizon at once (weft train --horizon on sliding windows), else each from the forecast before it (a model forecasting every column 1 row ahead)' },
   { name: 'beam', value: 'WIDTH', description: 'beam search of this width instead of greedy decoding (pairs)', fallback: '1' },
   { name: 'attention-map', value: 'FILE.svg', description: 'draw the attention weights of the first output (pairs, with attention)' },
   { name: 'out', value: 'FILE', description: 'write here instead of standard output' },
@@ -37,7 +39,6 @@ export const runFlags: FlagSpec[] = [
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
-type OutputRecord = Record<string, string | number>;
 
 function softmax(row: ArrayLike<number>): number[] {
   let max = -Infinity;
@@ -106,13 +107,6 @@ async function* tableRecords(lines: AsyncIterable<string>, file: string): AsyncG
   if (pending !== '') parseTable(pending, { file, header, delimiter, firstLine: startLine });
 }
 
-function columnsAt(table: Table, names: readonly string[], file: string, why: string): number[] {
-  return names.map((c) => {
-    const i = table.header.indexOf(c);
-    if (i < 0) throw new CommandError(`${file}: no column ${JSON.stringify(c)} (${why}); the input has ${table.header.join(', ')}`);
-    return i;
-  });
-}
 
 /** Runs the model on the input; returns what is left to print (null when written to --out or already written). */
 export async function runModel(args: ParsedArgs, write: (text: string) => void = (text) => void process.stdout.write(text)): Promise<string | null> {
@@ -161,8 +155,8 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
     const lines = fromStdin ? createInterface({ input: process.stdin, crlfDelay: Infinity }) : createInterface({ input: createReadStream(dataPath), crlfDelay: Infinity });
     const ahead = args.flags.has('ahead') ? numberFlag(args, 'ahead', 1, { whole: true, min: 1, max: 100000 }) : 0;
     if (ahead > 0 && meta.task !== 'forecast') throw new CommandError('--ahead needs a forecast model', 2);
-    const forecast = meta.task === 'forecast' ? forecaster(runtime, meta, name, keep, ahead > 0) : null;
-    if (forecast !== null && ahead > 0) forecast.checkAhead();
+    const forecast = meta.task === 'forecast' ? rowForecasts(runtime, meta, name, keep, ahead > 0) : null;
+    if (forecast !== null && ahead > 0) forecast.checkAhead(ahead);
     const each = forecast?.each ?? classifier(runtime, meta, name, keep);
     let row = 0;
     for await (const table of tableRecords(lines, name)) each(table, ++row, (record) => output.add(record));
@@ -195,66 +189,6 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   return rest === '' ? null : rest;
 }
 
-type EachRow = (table: Table, row: number, emit: (record: OutputRecord) => void) => void;
-
-/**
- * Forecasts row by row; with `marked`, each record says whether it was made from data or, past the end (`ahead`),
- * from the forecasts before it: the model's forecast of every column is fed back as the next row, which needs a
- * model that forecasts all its input columns one row ahead.
- */
-function forecaster(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean) {
-  const model = createRowForecaster(runtime, meta);
-  const raw: Record<string, string> = {};
-  let at: number[] | null = null;
-  let kept: number[] = [];
-  let keptNames: string[] = [];
-  let last: Record<string, number> = {};
-  const targetName = (target: string) => `${target} in ${String(meta.horizon)}`;
-  const checkAhead = (): void => {
-    const missing = model.inputNames.filter((c) => !model.outputNames.includes(c));
-    if (Number(meta.horizon) !== 1 || missing.length > 0) {
-      throw new CommandError(`--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead; this one forecasts ${model.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''} (train it with --horizon 1 and no --target)`, 2);
-    }
-  };
-  const ahead = (rows: number, count: number, emit: (record: OutputRecord) => void): void => {
-    if (rows < model.warmUp) throw new CommandError(`${name}: ${rows} rows are fewer than the ${model.warmUp} the model reads before its first forecast; nothing to forecast ahead from`);
-    for (let k = 1; k <= count; k++) {
-      const values = model.next(last) as Record<string, number>;
-      const record: OutputRecord = { row: rows + k, made: 'from forecasts' };
-      for (const c of keptNames) record[c] = '';
-      for (const [target, value] of Object.entries(values)) record[targetName(target)] = Number(value.toPrecision(6));
-      last = values;
-      emit(record);
-    }
-  };
-  const each: EachRow = (table, row, emit) => {
-    at ??= columnsAt(table, model.readNames, name, 'the model reads it');
-    if (row === 1) kept = columnsAt(table, keep, name, 'for --keep');
-    const fields = table.rows[0].fields;
-    model.readNames.forEach((c, j) => (raw[c] = fields[(at as number[])[j]]));
-    let values: Record<string, number> | null;
-    try {
-      values = model.next(raw);
-    } catch (error) {
-      // Point at the first field that is not a number, by line and column (a time that does not parse: its message).
-      const j = model.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
-      if (j < 0) throw new CommandError(`${fieldPath(table, 0, (at as number[])[model.readNames.length - 1])}: ${(error as Error).message}`);
-      throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`);
-    }
-    const record: OutputRecord = marked ? { row, made: 'from data' } : { row };
-    keptNames = kept.map((c) => table.header[c]);
-    kept.forEach((c) => (record[table.header[c]] = fields[c]));
-    if (values === null) {
-      // A windowed model forecasts once it has a window of rows: the first rows get empty forecasts.
-      for (const target of model.outputNames) record[targetName(target)] = '';
-    } else {
-      last = values;
-      for (const [target, value] of Object.entries(values)) record[targetName(target)] = Number(value.toPrecision(6));
-    }
-    emit(record);
-  };
-  return { each, ahead, checkAhead };
-}
 
 function classifier(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[]): EachRow {
   const translator = createTranslator(meta);

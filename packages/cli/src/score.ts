@@ -13,7 +13,7 @@
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { Random, fail, logSumExp } from '@weft/core';
-import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
+import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastWords, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
 import type { Table, WeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
@@ -106,23 +106,28 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   const timeAt = timeName === null ? -1 : table.header.indexOf(timeName);
   if (timeName !== null && timeAt < 0) throw new CommandError(`${name}: no column ${JSON.stringify(timeName)}, the times the model reads its calendar inputs from`);
   const row: Record<string, number | string> = {};
+  // forecasts[t][s × targets + k]: target k, rowsAhead[s] rows after row t (every row up to the horizon for a model
+  // that forecasts them all at once).
+  const rowsAhead = forecaster.rowsAhead;
+  const width = rowsAhead.length * targets.length;
   const forecasts = values.map((v, r) => {
     translator.inputNames.forEach((c, j) => (row[c] = v[j]));
     if (timeName !== null) row[timeName] = table.rows[r].fields[timeAt];
-    const made = forecaster.next(row, fieldPath(table, r, at[0]));
-    return made === null ? null : translator.outputNames.map((name) => made[name]);
+    const made = new Float64Array(width);
+    return forecaster.nextInto(row, made, fieldPath(table, r, at[0])) ? made : null;
   });
-  if (forecasts[rows - scored - horizon] === null) {
+  if (forecasts[rows - scored - horizon] === null || forecasts[rows - scored - rowsAhead[0]] === null) {
     fail('invalid_option', '--test', `a share whose first scored row has the model's ${forecaster.warmUp} rows of window before it`, `${part.share ?? 'the recorded test part'} (${scored} of ${rows} rows)`);
   }
   const positions: number[] = [];
   for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
-  const split = { values, targets, horizon, fitRows: testStart, positions };
+  const split = { values, targets, horizon, fitRows: testStart, positions, ...(rowsAhead.length > 1 ? { rowsAhead } : {}) };
   const baselines = forecastBaselines(split, { season, spacing: time?.spacing ?? null });
   const lines = `lines ${table.rows[testStart].line}–${table.rows[rows - 1].line} (${scored} rows)`;
+  const step = (h: number) => rowsAhead.indexOf(h) * targets.length;
   return forecastReport({
-    what: `${positions.length} forecasts of ${translator.outputNames.join(', ')}, ${horizon} row${horizon === 1 ? '' : 's'} ahead, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
-    model: scoreForecaster(split, (t, k) => (forecasts[t] as number[])[k], baselines.scales),
+    what: `${forecastWords(positions.length, translator.outputNames, rowsAhead)}, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
+    model: scoreForecaster(split, (t, k, h) => (forecasts[t] as Float64Array)[step(h) + k], baselines.scales),
     baselines: baselines.scores,
     names: translator.outputNames,
     context: [
@@ -271,3 +276,4 @@ function scoreText(runtime: Runtime, meta: Record<string, unknown>, text: string
     context: warning === null ? [] : [warning],
   };
 }
+

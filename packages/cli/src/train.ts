@@ -8,7 +8,7 @@
 import { existsSync, readFileSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { basename, extname, resolve } from 'node:path';
-import { ATTENTION_FORMS, EncoderDecoderModel, MAX_HIDDEN, buildModel } from '@weft/cells';
+import { ATTENTION_FORMS, EncoderDecoderModel, MAX_HIDDEN, buildModel, stackMembers } from '@weft/cells';
 import type { AnyModelDescription, LayerDescription, ModelDescription, SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer } from '@weft/optim';
 import { startTrainingThreads } from '@weft/optim/node';
@@ -48,13 +48,14 @@ export const trainFlags: FlagSpec[] = [
   { name: 'validation', value: 'SHARE', description: 'share of the data for validation: stopping and keeping the best weights (before the test part of a series or text; a seeded share of sequences)', fallback: '0.1' },
   { name: 'test', value: 'SHARE', description: 'share of the data for the test, scored once for the verdict against the baselines and never used for stopping (the end of a series or text; a seeded share of sequences)', fallback: '0.1' },
   { name: 'examples', value: 'sliding|streams', description: 'how a series becomes training examples: sliding windows (every training row ends one window of --window rows, read relative to its last row) or long streams cut into windows with carried state (forecast)', fallback: `sliding up to ${SLIDING_ROWS} training rows, else streams` },
+  { name: 'ensemble', value: 'K', description: 'train K models from seeds <seed>, <seed>/2, … <seed>/K and forecast the median of their forecasts; the weight file holds all K, stacked into one model (forecast)', fallback: '1' },
   { name: 'hybrid', value: 'auto|yes|no', description: 'on top of exponential smoothing: the model reads the forecasts of the smoothing method best on the validation part and forecasts their correction; auto trains it and the plain model and keeps the one better on the validation part (forecast, sliding windows)', fallback: 'auto' },
   { name: 'time-column', value: 'NAME', description: 'the column of times of a series (dates, date-times, year-months, year-quarters, years): gives the season\'s candidates', fallback: 'a column named like a time, or the first whose values are times' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
   { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3; 5 on sliding windows' },
   { name: 'transform', value: 'none|differences|log-returns', description: 'forecast the change of the target instead of its level, inverted on output (forecast)', fallback: 'none' },
   { name: 'season', value: 'ROWS|none', description: 'season of a series for the seasonal baselines (forecast)', fallback: 'from the time column\'s spacing or the differences\' autocorrelation, by the 90% test' },
-  { name: 'horizon', value: 'ROWS', description: 'forecast this many rows ahead', fallback: '1' },
+  { name: 'horizon', value: 'ROWS', description: 'forecast this many rows ahead: on sliding windows every row from 1 to ROWS at once (one output per row ahead, each scored), on streams the row ROWS ahead alone', fallback: '1' },
   { name: 'columns', value: 'A,B', description: 'input columns of a series CSV', fallback: 'every numeric column' },
   { name: 'target', value: 'A,B', description: 'columns to forecast', fallback: 'the input columns' },
   { name: 'tokens', value: 'characters|words', description: 'what a text model predicts', fallback: 'characters' },
@@ -160,7 +161,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     season: args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined,
   };
   if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
-  for (const name of ['time-column', 'examples', 'hybrid']) {
+  const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
+  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble']) {
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
@@ -325,8 +327,36 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     log(`resume with: ${resumeCommand(args, checkpoint)}`);
     throw new CommandError('', 130);
   }
-  await saveWeightFile(out, model, { dtype: store, metadata: metadataFor(trainer) });
-  const heldOut = prepared.task === 'pairs' ? prepared.heldOut(model as EncoderDecoderModel) : prepared.heldOut(model as SequenceModel);
+  // --ensemble K: members 2…K trained alike from their own seeds (after the first, which the checkpoint holds, so a
+  // resumed run repeats them exactly), then stacked into one model whose forecasts' median is the forecast.
+  let final: TrainableModel = model;
+  let keptMetadata: ReturnType<typeof metadataFor> & { members?: number } = metadataFor(trainer);
+  if (ensemble > 1 && prepared.task === 'forecast') {
+    const members = [model as SequenceModel];
+    for (let k = 2; k <= ensemble; k++) {
+      const memberSeed = `${seed}/${k}`;
+      const member = buildModel(description, { seed: memberSeed });
+      const memberThreads = workerCount > 1 ? await startTrainingThreads({ count: workerCount, model: member }) : undefined;
+      let memberSummary: TrainingSummary;
+      try {
+        memberSummary = await new Trainer({ model: member, shardRows: SHARD_ROWS, ...(memberThreads === undefined ? {} : { workers: memberThreads }), data: prepared.train, validation: prepared.validation, optimizer: new AdamRule({ rate }), epochs, gradientNormLimit: clip, validateEvery, patience, seed: memberSeed, signal: controller.signal }).run();
+      } finally {
+        await memberThreads?.close();
+      }
+      if (memberSummary.stoppedBy === 'signal') {
+        log(`interrupted while training member ${k} of ${ensemble}; the checkpoint holds member 1: ${checkpoint}`);
+        log(`resume with: ${resumeCommand(args, checkpoint)}`);
+        throw new CommandError('', 130);
+      }
+      const figure = prepared.validationFigure?.(member);
+      info(`member ${k} of ${ensemble} (seed ${memberSeed}): ${memberSummary.steps} steps, kept step ${memberSummary.keptStep}${figure === undefined ? '' : `, validation ${prepared.outputWidth > 1 ? 'MASE' : 'MAE'} ${Number(figure.toPrecision(4))}`}`);
+      members.push(member);
+    }
+    final = stackMembers(members);
+    keptMetadata = { ...keptMetadata, members: ensemble, training: { ...keptMetadata.training, seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)) } };
+  }
+  await saveWeightFile(out, final, { dtype: store, metadata: keptMetadata });
+  const heldOut = prepared.task === 'pairs' ? prepared.heldOut(model as EncoderDecoderModel) : prepared.heldOut(final as SequenceModel);
   info(`loss ${sparkline(history.training.map((p) => p.loss))} ${history.training.at(-1)?.loss.toPrecision(4) ?? ''}`);
   for (const line of reportLines(heldOut)) log(line);
   const seconds = earlierSeconds + (Date.now() - started) / 1000;
@@ -342,7 +372,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   log(`loss curve:  ${curve}`);
   const resultsPath = args.flags.get('results');
   if (resultsPath !== undefined) {
-    const figure = prepared.task === 'pairs' ? null : prepared.validationFigure?.(model as SequenceModel) ?? null;
+    const figure = prepared.task === 'pairs' ? null : prepared.validationFigure?.(final as SequenceModel) ?? null;
     writeFileAtomic(resultsPath, `${JSON.stringify(runResults(summary, heldOut, out, figure))}\n`);
   }
   return { summary, out, checkpoint, curve, heldOut, prepared };

@@ -123,7 +123,7 @@ describe('weft run', () => {
     }
     const refused = weft(['run', 'tank.weft.json', 'both.csv', '--ahead', '2']);
     expect(refused.code).toBe(2);
-    expect(refused.err.trim()).toMatch(/^weft: --ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead; this one forecasts level 1 row\(s\) ahead and does not forecast inflow/);
+    expect(refused.err.trim()).toMatch(/^weft: --ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead, and read no times; this one forecasts level 1 row\(s\) ahead and does not forecast inflow/);
   });
 
   it('names the file, line and column of a row that is not a number, and of a ragged row, in one line', () => {

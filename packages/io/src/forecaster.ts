@@ -9,13 +9,17 @@
  *   runs an exponential smoothing method over every row (from the first row given) and forecasts the correction to
  *   its forecast (after Smyl, "A hybrid method of exponential smoothing and recurrent neural networks for time series
  *   forecasting", IJF 36, 2020, in a simpler form: the network sees the smoothing forecasts beside the values).
+ * - A windowed model may forecast every row up to its horizon at once (metadata `rowsAhead: "all"`: one block of
+ *   targets per row ahead, each with its own `targetDeviation`), and any model may be several members trained from
+ *   different seeds (metadata `members`, stacked by `stackMembers`), whose forecasts are combined by their median.
  */
 import { fail } from '@weft/core';
+import { medianOfMembers } from '@weft/cells';
 import type { Runtime } from './runtime/runtime.js';
 import { createTranslator } from './translate.js';
 import { SmoothingStepper } from './data/smoothing.js';
 import type { SmoothingParameters } from './data/smoothing.js';
-import { calendarInputs } from './data/calendar.js';
+import { calendarInputsAt } from './data/calendar.js';
 import type { CalendarPosition } from './data/calendar.js';
 import { parseTime } from './data/time-column.js';
 
@@ -25,7 +29,7 @@ export interface ForecastWindow {
   readonly rows: number;
   /** Per input column, the deviation of one-row changes over the training rows (inputs are divided by it). */
   readonly deviation: readonly number[];
-  /** Per target, the deviation of the change forecast (outputs are multiplied by it). */
+  /** Per target (and row ahead, rows ahead outer), the deviation of the change forecast (outputs are multiplied by it). */
   readonly targetDeviation: readonly number[];
   /**
    * Per target, an exponential smoothing method (the hybrid): its forecast made at each row is read as one more
@@ -37,6 +41,9 @@ export interface ForecastWindow {
   readonly calendar?: readonly CalendarPosition[];
 }
 
+/** A row's values by column name: numbers, text as read from a file, or (for the time column) a Date. */
+export type ForecastRow = Readonly<Record<string, number | string | Date>>;
+
 /** Forecasts row by row. */
 export interface RowForecaster {
   /** The columns of numbers it reads, in order. */
@@ -45,25 +52,43 @@ export interface RowForecaster {
   readonly readNames: readonly string[];
   /** The targets it forecasts. */
   readonly outputNames: readonly string[];
+  /**
+   * The rows ahead each forecast block is for, nearest first: `[horizon]` for a model of one row ahead, `[1, …, H]`
+   * for a model forecasting every row up to its horizon at once.
+   */
+  readonly rowsAhead: readonly number[];
+  /** Models trained from different seeds whose median is the forecast (1 for a single model). */
+  readonly members: number;
   /** Rows it needs before its first forecast (1 for a stream, the window's rows for a windowed model). */
   readonly warmUp: number;
   /**
-   * Takes the next row (raw values by column name; `where` names it in errors) and returns the forecast made at it,
-   * by target name in real units, or null while fewer than `warmUp` rows have been given.
+   * Takes the next row (raw values by column name; `where` names it in errors) and returns the forecast made at it
+   * of the farthest row ahead, by target name in real units, or null while fewer than `warmUp` rows have been given.
    */
-  next(row: Readonly<Record<string, number | string>>, where?: string): Record<string, number> | null;
+  next(row: ForecastRow, where?: string): Record<string, number> | null;
+  /**
+   * As `next`, writing every forecast into `out` (`out[s × targets + k]`: target k, `rowsAhead[s]` rows ahead) and
+   * returning false while warming up.
+   */
+  nextInto(row: ForecastRow, out: { [index: number]: number; readonly length: number }, where?: string): boolean;
+  /**
+   * As `nextInto`, the row given as numbers in the order of `readNames`: the input columns and, for a model reading
+   * calendar positions, the row's time last, in milliseconds since 1970-01-01 UTC. It allocates nothing: the way to
+   * stream a forecaster in a hot loop.
+   */
+  nextValuesInto(values: ArrayLike<number>, out: { [index: number]: number; readonly length: number }): boolean;
   /** Forgets every row given so far. */
   reset(): void;
 }
 
 /** The window a forecast model's metadata records, or null for a model trained on streams (checked when present). */
-export function forecastWindow(metadata: Readonly<Record<string, unknown>>, columns: number, targets: number): ForecastWindow | null {
+export function forecastWindow(metadata: Readonly<Record<string, unknown>>, columns: number, targets: number, steps = 1): ForecastWindow | null {
   const window = metadata.window as Partial<ForecastWindow> | undefined;
   if (window === undefined) return null;
   const positive = (v: unknown, n: number) => Array.isArray(v) && v.length === n && v.every((x) => typeof x === 'number' && x > 0 && Number.isFinite(x));
   if (typeof window !== 'object' || window === null || !Number.isInteger(window.rows) || (window.rows as number) < 1) fail('bad_weight_file', 'metadata.window.rows', 'a whole number ≥ 1', JSON.stringify(window?.rows));
   if (!positive(window.deviation, columns)) fail('bad_weight_file', 'metadata.window.deviation', `${columns} finite numbers > 0 (one per column)`, JSON.stringify(window.deviation)?.slice(0, 80) ?? 'nothing');
-  if (!positive(window.targetDeviation, targets)) fail('bad_weight_file', 'metadata.window.targetDeviation', `${targets} finite numbers > 0 (one per target)`, JSON.stringify(window.targetDeviation)?.slice(0, 80) ?? 'nothing');
+  if (!positive(window.targetDeviation, targets * steps)) fail('bad_weight_file', 'metadata.window.targetDeviation', `${targets * steps} finite numbers > 0 (one per target${steps > 1 ? ` and row ahead, rows ahead outer` : ''})`, JSON.stringify(window.targetDeviation)?.slice(0, 80) ?? 'nothing');
   if (window.hybrid !== undefined) {
     const methods = ['simple', 'holt', 'damped', 'additive', 'multiplicative'];
     const finite = (v: unknown) => typeof v === 'number' && Number.isFinite(v);
@@ -82,29 +107,104 @@ export function forecastWindow(metadata: Readonly<Record<string, unknown>>, colu
   return window as ForecastWindow;
 }
 
+/** The number in a row's cell: a number as it is, text parsed (NaN when it holds no number or is missing). */
+function cellNumber(raw: number | string | Date | undefined): number {
+  if (typeof raw === 'number') return raw;
+  if (raw === undefined || raw instanceof Date) return NaN;
+  return raw.trim() === '' ? NaN : Number(raw);
+}
+
+function valueAt(row: ForecastRow, name: string, where: string): number {
+  const raw = Object.prototype.hasOwnProperty.call(row, name) ? row[name] : undefined;
+  const value = cellNumber(raw);
+  if (!Number.isFinite(value)) fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : 'a finite number', raw === undefined ? 'nothing' : raw instanceof Date ? 'a Date' : JSON.stringify(raw));
+  return value;
+}
+
+/** The rows ahead of each block of a forecast model's outputs, from its metadata (`horizon`, `rowsAhead`). */
+export function forecastRowsAhead(metadata: Readonly<Record<string, unknown>>): number[] {
+  const horizon = Number(metadata.horizon ?? 1);
+  const all = metadata.rowsAhead === 'all';
+  if (metadata.rowsAhead !== undefined && !all) fail('bad_weight_file', 'metadata.rowsAhead', '"all" (every row up to the horizon) or no entry (the horizon alone)', JSON.stringify(metadata.rowsAhead).slice(0, 80));
+  return all ? Array.from({ length: horizon }, (_, i) => i + 1) : [horizon];
+}
+
 /** A row forecaster for a forecast model and its weight file's metadata. */
 export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<string, unknown>>): RowForecaster {
   const translator = createTranslator(metadata);
   const inputNames = translator.inputNames;
   const outputNames = translator.outputNames;
+  const targetCount = outputNames.length;
   const streams = runtime.streams(1);
-  const window = forecastWindow(metadata, inputNames.length, outputNames.length);
+  const rowsAhead = forecastRowsAhead(metadata);
+  const members = metadata.members === undefined ? 1 : Number(metadata.members);
+  const block = rowsAhead.length * targetCount;
+  if (!Number.isInteger(members) || members < 1 || runtime.outputWidth !== members * block) {
+    fail('bad_weight_file', 'metadata.members', `a count of members whose ${rowsAhead.length} × ${targetCount} forecasts make the model's ${runtime.outputWidth} outputs`, JSON.stringify(metadata.members) ?? 'nothing');
+  }
+  const output = new Float32Array(runtime.outputWidth);
+  const combined = new Float64Array(block);
+  const scratch = new Float64Array(members);
+  const window = forecastWindow(metadata, inputNames.length, targetCount, rowsAhead.length);
+  const farthest = new Float64Array(block);
+  const named = (): Record<string, number> => {
+    const record: Record<string, number> = {};
+    const last = (rowsAhead.length - 1) * targetCount;
+    for (let k = 0; k < targetCount; k++) record[outputNames[k]] = farthest[last + k];
+    return record;
+  };
+  const width = inputNames.length;
+  const checkOut = (out: { readonly length: number }) => {
+    if (out.length < block) fail('shape_mismatch', 'out', `room for ${block} forecasts (${targetCount} target${targetCount === 1 ? '' : 's'} × ${rowsAhead.length} row${rowsAhead.length === 1 ? '' : 's'} ahead)`, `${out.length}`);
+  };
   if (window === null) {
-    const input = new Float32Array(inputNames.length);
+    if (rowsAhead.length !== 1) fail('bad_weight_file', 'metadata.rowsAhead', 'no entry for a model trained on streams (every row up to the horizon needs metadata.window)', '"all"');
+    const normalisation = metadata.normalisation as { mean: readonly number[]; deviation: readonly number[] };
+    const transform = metadata.targetTransform as { kind: 'differences' | 'log-returns'; mean: readonly number[]; deviation: readonly number[] } | undefined;
+    const targets = outputNames.map((t) => inputNames.indexOf(t));
+    const input = new Float32Array(width);
+    const rowValues = new Float64Array(width);
+    const advance = (values: ArrayLike<number>, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
+      checkOut(out);
+      for (let j = 0; j < width; j++) {
+        const v = values[j];
+        if (!Number.isFinite(v)) fail('bad_data', `${where}.${inputNames[j]}`, 'a finite number', String(v));
+        input[j] = (v - normalisation.mean[j]) / normalisation.deviation[j];
+      }
+      streams.step(input, output);
+      medianOfMembers(output, 0, members, block, combined, scratch);
+      for (let k = 0; k < targetCount; k++) {
+        const j = targets[k];
+        if (transform === undefined) {
+          out[k] = combined[k] * normalisation.deviation[j] + normalisation.mean[j];
+        } else {
+          const level = values[j];
+          const change = combined[k] * transform.deviation[k] + transform.mean[k];
+          out[k] = transform.kind === 'log-returns' ? level * Math.exp(change) : level + change;
+        }
+      }
+      return true;
+    };
+    const nextInto: RowForecaster['nextInto'] = (row, out, where = 'row') => {
+      for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where);
+      return advance(rowValues, out, where);
+    };
     return {
       inputNames,
       readNames: inputNames,
       outputNames,
+      rowsAhead,
+      members,
       warmUp: 1,
-      next: (row, where) => translator.outputs(streams.step(translator.inputs(row, input, where))),
+      nextInto,
+      nextValuesInto: (values, out) => advance(values, out, 'values'),
+      next: (row, where) => (nextInto(row, farthest, where), named()),
       reset: () => streams.reset(),
     };
   }
-  const width = inputNames.length;
   const w = window.rows;
   const targets = outputNames.map((t) => inputNames.indexOf(t));
-  const horizon = Number(metadata.horizon ?? 1);
-  const fresh = () => window.hybrid?.map((p) => new SmoothingStepper(p, horizon)) ?? null;
+  const fresh = () => window.hybrid?.map((p) => new SmoothingStepper(p, rowsAhead[0])) ?? null;
   let steppers = fresh();
   const calendar = window.calendar ?? [];
   const timeColumn = calendar.length > 0 ? String(metadata.timeColumn) : null;
@@ -116,45 +216,66 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   // The last w rows, oldest first once full: ring[(start + k) % w] is the k-th row of the window.
   const ring = new Float64Array(w * stride);
   const input = new Float32Array(inputWidth);
-  const output = new Float32Array(outputNames.length);
   let seen = 0;
+  const rowValues = new Float64Array(width);
+  const bases = new Float64Array(targetCount * rowsAhead.length);
+  const advance = (values: ArrayLike<number>, time: number, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
+    checkOut(out);
+    for (let j = 0; j < width; j++) {
+      if (!Number.isFinite(values[j])) fail('bad_data', `${where}.${inputNames[j]}`, 'a finite number', String(values[j]));
+    }
+    if (timeColumn !== null && !Number.isFinite(time)) fail('bad_data', `${where}.${timeColumn}`, `a time (milliseconds since 1970-01-01 UTC) for column ${JSON.stringify(timeColumn)}, last: the model reads where in the calendar each row falls`, String(time));
+    const slot = seen % w;
+    const at = slot * stride;
+    for (let j = 0; j < width; j++) ring[at + j] = values[j];
+    // The hybrid's forecasts made at this row: the nearest row ahead kept with the row, every row ahead in `bases`.
+    if (steppers !== null) {
+      for (let k = 0; k < steppers.length; k++) {
+        steppers[k].nextFrom(ring, at + targets[k], rowsAhead, bases, k * rowsAhead.length);
+        ring[at + width + k] = bases[k * rowsAhead.length];
+      }
+    }
+    ring[at + timeSlot] = time;
+    seen++;
+    if (seen < w) return false;
+    streams.reset();
+    const start = seen % w;
+    for (let k = 0; k < w; k++) {
+      const from = ((start + k) % w) * stride;
+      for (let j = 0; j < width; j++) input[j] = (ring[from + j] - ring[at + j]) / window.deviation[j];
+      for (let i = width; i < timeSlot; i++) input[i] = (ring[from + i] - ring[at + targets[i - width]]) / window.deviation[targets[i - width]];
+      if (timeColumn !== null) calendarInputsAt(calendar, ring, from + timeSlot, input, timeSlot);
+      streams.step(input, output);
+    }
+    medianOfMembers(output, 0, members, block, combined, scratch);
+    for (let s = 0; s < rowsAhead.length; s++) {
+      for (let k = 0; k < targetCount; k++) {
+        const base = steppers === null ? ring[at + targets[k]] : bases[k * rowsAhead.length + s];
+        out[s * targetCount + k] = base + combined[s * targetCount + k] * window.targetDeviation[s * targetCount + k];
+      }
+    }
+    return true;
+  };
+  const nextInto: RowForecaster['nextInto'] = (row, out, where = 'row') => {
+    for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where);
+    let time = NaN;
+    if (timeColumn !== null) {
+      const raw = Object.prototype.hasOwnProperty.call(row, timeColumn) ? row[timeColumn] : undefined;
+      time = raw instanceof Date ? raw.getTime() : raw === undefined ? NaN : parseTime(String(raw));
+      if (Number.isNaN(time)) fail('bad_data', `${where}.${timeColumn}`, `a time in column ${JSON.stringify(timeColumn)} (the model reads where in the calendar each row falls)`, raw === undefined ? 'nothing' : JSON.stringify(String(raw).slice(0, 80)));
+    }
+    return advance(rowValues, time, out, where);
+  };
   return {
     inputNames,
     readNames: timeColumn === null ? inputNames : [...inputNames, timeColumn],
     outputNames,
+    rowsAhead,
+    members,
     warmUp: w,
-    next(row, where = 'row') {
-      const slot = seen % w;
-      const at = slot * stride;
-      for (let j = 0; j < width; j++) {
-        const name = inputNames[j];
-        const raw = Object.prototype.hasOwnProperty.call(row, name) ? row[name] : undefined;
-        const value = typeof raw === 'number' ? raw : raw === undefined || raw.trim() === '' ? NaN : Number(raw);
-        if (!Number.isFinite(value)) fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : 'a finite number', raw === undefined ? 'nothing' : JSON.stringify(raw));
-        ring[at + j] = value;
-      }
-      if (steppers !== null) for (let k = 0; k < steppers.length; k++) ring[at + width + k] = steppers[k].next(ring[at + targets[k]]);
-      if (timeColumn !== null) {
-        const raw = Object.prototype.hasOwnProperty.call(row, timeColumn) ? String(row[timeColumn]) : undefined;
-        const time = raw === undefined ? NaN : parseTime(raw);
-        if (Number.isNaN(time)) fail('bad_data', `${where}.${timeColumn}`, `a time in column ${JSON.stringify(timeColumn)} (the model reads where in the calendar each row falls)`, raw === undefined ? 'nothing' : JSON.stringify(raw.slice(0, 80)));
-        ring[at + timeSlot] = time;
-      }
-      seen++;
-      if (seen < w) return null;
-      streams.reset();
-      const start = seen % w;
-      for (let k = 0; k < w; k++) {
-        const from = ((start + k) % w) * stride;
-        for (let j = 0; j < width; j++) input[j] = (ring[from + j] - ring[at + j]) / window.deviation[j];
-        for (let i = width; i < timeSlot; i++) input[i] = (ring[from + i] - ring[at + targets[i - width]]) / window.deviation[targets[i - width]];
-        if (timeColumn !== null) calendarInputs(calendar, ring[from + timeSlot], input, timeSlot);
-        streams.step(input, output);
-      }
-      const named: Record<string, number> = {};
-      outputNames.forEach((name, k) => (named[name] = (steppers === null ? ring[at + targets[k]] : ring[at + width + k]) + output[k] * window.targetDeviation[k]));
-      return named;
-    },
+    nextInto,
+    nextValuesInto: (values, out) => advance(values, timeColumn === null ? NaN : values[width], out, 'values'),
+    next: (row, where) => (nextInto(row, farthest, where) ? named() : null),
     reset() {
       seen = 0;
       steppers = fresh();

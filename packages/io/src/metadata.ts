@@ -69,10 +69,21 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
     else if (value.length !== readWidth) add('columns', `${readWidth} column names (${widthWords})`, value.length);
     else columns = value;
   }
+  // Forecast members stacked into one model (metadata.members) output one block of targets each.
+  let members = 1;
+  if (has('members')) {
+    const value = metadata.members;
+    if (typeof value !== 'number' || !Number.isInteger(value) || value < 1 || outputs % value !== 0) add('members', `a whole number ≥ 1 dividing the model's ${outputs} outputs (members stacked into the model)`, value);
+    else members = value;
+  }
   if (has('targetColumns')) {
     const value = metadata.targetColumns;
+    // A model forecasting every row up to its horizon (metadata.rowsAhead "all") outputs one block per row ahead.
+    const steps = metadata.rowsAhead === 'all' && typeof metadata.horizon === 'number' && Number.isInteger(metadata.horizon) && metadata.horizon >= 1 ? metadata.horizon : 1;
+    const perTarget = members * steps;
+    const words = [members > 1 ? `each of the ${members} members` : '', steps > 1 ? `each of the ${steps} rows ahead` : ''].filter((w) => w !== '').join(' and ');
     if (!isStrings(value)) add('targetColumns', 'an array of column names', value);
-    else if (value.length !== outputs) add('targetColumns', `${outputs} column names (one per output of the model)`, value.length);
+    else if (value.length * perTarget !== outputs) add('targetColumns', perTarget > 1 ? `${outputs / perTarget} column names (one per output of ${words})` : `${outputs} column names (one per output of the model)`, value.length);
     else if (columns !== null) {
       const stray = value.find((c) => !columns!.includes(c));
       if (stray !== undefined) add('targetColumns', 'names among metadata.columns', stray);

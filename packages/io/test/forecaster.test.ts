@@ -4,9 +4,12 @@
  * relative to its last row from a zero state, worked here by hand from the metadata's definition; it refuses a
  * malformed `window` record naming the field, and a row without a number naming the column.
  */
+import { execFileSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
+import { median } from 'mathjs';
 import { Random } from '@weft/core';
-import { buildModel } from '@weft/cells';
+import { buildModel, stackMembers } from '@weft/cells';
 import { calendarInputs, createRowForecaster, createTranslator, fitSmoothing, modelTensors, readWeightFile, runSmoothing, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 
@@ -113,5 +116,65 @@ describe('forecasting row by row', () => {
     expect(() => createRowForecaster(runtime, { ...base, window: { rows: 0, deviation: [1, 1], targetDeviation: [1] } })).toThrowError(/^Bad weight file at metadata\.window\.rows: expected a whole number ≥ 1, received 0$/);
     const forecaster = createRowForecaster(runtime, { ...base, window: { rows: 2, deviation: [1, 1], targetDeviation: [1] } });
     expect(() => forecaster.next({ heat: 'warm', flow: 1 }, 'readings.csv:4:1')).toThrowError('Bad data at readings.csv:4:1.heat: expected a finite number, received "warm"');
+  });
+
+  it('forecasts every row up to its horizon at once, each row ahead from its own block of outputs and deviation', async () => {
+    const window = { rows: 3, deviation: [0.5, 2], targetDeviation: [0.25, 0.5, 0.75] };
+    const model = buildModel({ ...description, readout: { width: 3 } }, { seed: 6 });
+    const file = await readWeightFile(await writeWeightFile(model.description, modelTensors(model)));
+    const meta = { ...base, horizon: 3, rowsAhead: 'all', window };
+    const forecaster = createRowForecaster(await createRuntime(file), meta);
+    const runtime = await createRuntime(file);
+    expect(forecaster.rowsAhead).toEqual([1, 2, 3]);
+    const out = new Float64Array(3);
+    rows.forEach((row, t) => {
+      const ready = forecaster.nextInto(row, out);
+      expect(ready).toBe(t >= 2);
+      if (!ready) return;
+      const input = new Float32Array(6);
+      for (let k = 0; k < 3; k++) input.set([(rows[t - 2 + k].heat - row.heat) / 0.5, (rows[t - 2 + k].flow - row.flow) / 2], 2 * k);
+      const last = runtime.run(input, 3, 1).subarray(6, 9);
+      [0.25, 0.5, 0.75].forEach((d, s) => expect(out[s]).toBeCloseTo(row.heat + last[s] * d, 5));
+    });
+    // `next` gives the farthest row ahead: the last of what nextInto wrote for the same rows.
+    forecaster.reset();
+    for (const row of rows.slice(0, 3)) forecaster.nextInto(row, out);
+    forecaster.reset();
+    rows.slice(0, 2).forEach((row) => expect(forecaster.next(row)).toBeNull());
+    expect(forecaster.next(rows[2])).toEqual({ heat: out[2] });
+    expect(() => createRowForecaster(runtime, { ...meta, window: { ...window, targetDeviation: [1] } })).toThrowError(/metadata\.window\.targetDeviation: expected 3 finite numbers > 0 \(one per target and row ahead/);
+  });
+
+  it('forecasts the median of stacked members, the median mathjs takes of each member\'s own forecast', async () => {
+    const window = { rows: 3, deviation: [0.5, 2], targetDeviation: [0.25] };
+    const members = [7, 8, 9].map((seed) => {
+      const m = buildModel(description, { seed });
+      const random = new Random(`member ${seed}`);
+      for (const p of m.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
+      return m;
+    });
+    const stacked = stackMembers(members);
+    const meta = { ...base, window };
+    const together = createRowForecaster(await createRuntime(await readWeightFile(await writeWeightFile(stacked.description, modelTensors(stacked)))), { ...meta, members: 3 });
+    expect(together.members).toBe(3);
+    const alone = await Promise.all(members.map(async (m) => createRowForecaster(await createRuntime(await readWeightFile(await writeWeightFile(m.description, modelTensors(m)))), meta)));
+    rows.forEach((row) => {
+      const made = together.next(row);
+      const each = alone.map((f) => f.next(row));
+      if (made === null) return expect(each.every((e) => e === null)).toBe(true);
+      expect(made.heat).toBeCloseTo(median(each.map((e) => e!.heat)) as number, 5);
+    });
+    const runtime = await runtimeOf(3);
+    expect(() => createRowForecaster(runtime, { ...meta, members: 2 })).toThrowError(/^Bad weight file at metadata\.members: expected a count of members whose 1 × 1 forecasts make the model's 1 outputs, received 2$/);
+  });
+
+  it('allocates nothing per row given as numbers and a time (node --expose-gc, collections counted with a 1 MB young generation)', () => {
+    const probe = fileURLToPath(new URL('./forecaster-probe.mjs', import.meta.url));
+    const output = execFileSync(process.execPath, ['--expose-gc', '--max-semi-space-size=1', probe], { encoding: 'utf8' });
+    const { collections, rows, control } = JSON.parse(output.trim().split('\n').at(-1)!) as { collections: number; rows: number; control: number };
+    console.log(`${collections} collections over ${rows} rows of a windowed hybrid ensemble reading calendar positions; ${control} over the same rows when each also makes one small object`);
+    // The control proves the count can see an allocation of one small object per row.
+    expect(control).toBeGreaterThan(0);
+    expect(collections).toBe(0);
   });
 });

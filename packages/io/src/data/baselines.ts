@@ -35,6 +35,19 @@ export interface SeriesSplit {
   readonly fitRows: number;
   /** The rows t whose forecast (of row t + horizon) is scored. */
   readonly positions: readonly number[];
+  /**
+   * Rows ahead to score, each up to `horizon` (default: `horizon` alone). Every one scores the same target rows,
+   * t + horizon for t in `positions`, each forecast made `h` rows before its target row.
+   */
+  readonly rowsAhead?: readonly number[];
+}
+
+/** Errors at one number of rows ahead. */
+export interface StepErrors {
+  /** Rows ahead of the row the forecasts were made at. */
+  readonly rowsAhead: number;
+  /** Errors over every target there (MASE: the mean over targets of the scaled errors). */
+  readonly overall: ForecastErrors;
 }
 
 /** One contender's scored errors. */
@@ -47,6 +60,8 @@ export interface BaselineScore {
   readonly perTarget: readonly ForecastErrors[];
   /** Errors over every target and position together (MASE: the mean over targets of the scaled errors). */
   readonly overall: ForecastErrors;
+  /** With several rows ahead (`SeriesSplit.rowsAhead`), the errors at each, nearest first. */
+  readonly byRowsAhead?: readonly StepErrors[];
 }
 
 /** Every baseline that applies, the season used and why, and why any baseline was left out. */
@@ -61,22 +76,43 @@ export interface ForecastBaselines {
   readonly leftOut: readonly string[];
 }
 
-/** A forecaster: the forecast of target k for row t + horizon, made at row t. */
-export type Forecaster = (t: number, k: number) => number;
+/** A forecaster: the forecast of target k for row t + h, made at row t (h: the split's horizon unless given). */
+export type Forecaster = (t: number, k: number, h: number) => number;
 
-/** Scores a forecaster on the split's positions, per target and overall; `scales` give MASE. */
-export function scoreForecaster(split: SeriesSplit, forecast: Forecaster, scales: readonly number[] = []): Pick<BaselineScore, 'perTarget' | 'overall'> {
+/** The rows ahead a split scores, nearest first (checked: whole numbers from 1 to its horizon). */
+export function rowsAheadOf(split: SeriesSplit): readonly number[] {
+  const steps = split.rowsAhead ?? [split.horizon];
+  steps.forEach((h, i) => {
+    if (!(Number.isInteger(h) && h >= 1 && h <= split.horizon)) fail('invalid_argument', `split.rowsAhead[${i}]`, `a whole number in [1, ${split.horizon}] (the horizon)`, String(h));
+  });
+  return steps;
+}
+
+/**
+ * Scores a forecaster on the split's target rows, per target and overall (every row ahead pooled), and at each row
+ * ahead when the split has several; `scales` give MASE.
+ */
+export function scoreForecaster(split: SeriesSplit, forecast: Forecaster, scales: readonly number[] = []): Pick<BaselineScore, 'perTarget' | 'overall' | 'byRowsAhead'> {
   const sums = split.targets.map(() => new ForecastErrorSum());
   const all = new ForecastErrorSum();
-  for (const t of split.positions) {
-    for (let k = 0; k < split.targets.length; k++) {
-      const actual = split.values[t + split.horizon][split.targets[k]];
-      const predicted = forecast(t, k);
-      sums[k].add(actual, predicted, scales[k]);
-      all.add(actual, predicted, scales[k]);
+  const steps = rowsAheadOf(split);
+  const byRowsAhead: StepErrors[] = [];
+  for (const h of steps) {
+    const step = new ForecastErrorSum();
+    for (const position of split.positions) {
+      const target = position + split.horizon;
+      const t = target - h;
+      for (let k = 0; k < split.targets.length; k++) {
+        const actual = split.values[target][split.targets[k]];
+        const predicted = forecast(t, k, h);
+        sums[k].add(actual, predicted, scales[k]);
+        all.add(actual, predicted, scales[k]);
+        step.add(actual, predicted, scales[k]);
+      }
     }
+    byRowsAhead.push({ rowsAhead: h, overall: step.result() });
   }
-  return { perTarget: sums.map((s) => s.result()), overall: all.result() };
+  return { perTarget: sums.map((s) => s.result()), overall: all.result(), ...(split.rowsAhead === undefined ? {} : { byRowsAhead }) };
 }
 
 /** Rows of lagged inputs the linear baseline reads (the value now and the two before it, of every column). */
@@ -149,40 +185,61 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
   const scores: BaselineScore[] = [];
   const leftOut: string[] = [];
   const add = (name: string, description: string, forecast: Forecaster) => scores.push({ name, description, ...scoreForecaster(split, forecast, scales) });
-  const ahead = `${horizon} row${horizon === 1 ? '' : 's'} ahead`;
+  const steps = rowsAheadOf(split);
+  const ahead = steps.length > 1 ? `${steps[0]} to ${steps[steps.length - 1]} rows ahead` : `${horizon} row${horizon === 1 ? '' : 's'} ahead`;
   add('naive', `the value now, as the forecast ${ahead}`, (t, k) => columns[k][t]);
   if (m !== null) {
-    const back = Math.ceil(horizon / m) * m;
-    if (split.positions.every((t) => t + horizon - back >= 0)) {
-      add('seasonal naive', `the value one season (${m} rows) before the forecast row${back > m ? ` (${back / m} seasons back)` : ''}`, (t, k) => columns[k][t + horizon - back]);
-    } else leftOut.push(`seasonal naive: a scored row has no row ${back} rows before it`);
+    const back = (h: number) => Math.ceil(h / m) * m;
+    // The scored row farthest back: the first target row less the most seasons any row ahead reaches back.
+    const reach = Math.max(...steps.map((h) => back(h) - h));
+    if (split.positions.every((t) => t + horizon - reach >= 0)) {
+      const far = back(horizon);
+      add('seasonal naive', `the value one season (${m} rows) before the forecast row${far > m ? ` (up to ${far / m} seasons back)` : ''}`, (t, k, h) => columns[k][t + h - back(h)]);
+    } else leftOut.push(`seasonal naive: a scored row has no row ${reach} rows before it`);
   } else leftOut.push('the seasonal methods (seasonal naive, Holt-Winters): no season');
+  // Forecasts made at every row, for each row ahead scored: forecasts.get(h)[k][t].
+  const byStep = (make: (h: number) => Float64Array[] | null): ((t: number, k: number, h: number) => number) | null => {
+    const made = new Map<number, Float64Array[]>();
+    for (const h of steps) {
+      const f = make(h);
+      if (f === null) return null;
+      made.set(h, f);
+    }
+    return (t, k, h) => made.get(h)![k][t];
+  };
   for (const { method, name, what } of SMOOTHING) {
     const seasonal = method === 'additive' || method === 'multiplicative';
     if (seasonal && m === null) continue;
-    const forecasts: Float64Array[] = [];
-    let parameters = '';
-    for (const series of columns) {
-      const fit = fitSmoothing(series, fitRows, method, m ?? 1);
-      const out = new Float64Array(series.length);
-      if (fit === null || Number.isNaN(runSmoothing(series, fitRows, fit, horizon, out))) break;
-      forecasts.push(out);
-      if (parameters === '') parameters = `α ${figure(fit.alpha)}${method === 'simple' ? '' : `, β ${figure(fit.beta)}`}${seasonal ? `, γ ${figure(fit.gamma)}` : ''}${method === 'damped' ? `, φ ${figure(fit.phi)}` : ''}`;
-    }
-    if (forecasts.length < columns.length) {
+    // Fitted once (the one-step error does not depend on the rows ahead), run once per row ahead.
+    const fits = columns.map((series) => fitSmoothing(series, fitRows, method, m ?? 1));
+    const forecast = fits.every((f) => f !== null) ? byStep((h) => {
+      const out = columns.map((series) => new Float64Array(series.length));
+      return columns.every((series, k) => !Number.isNaN(runSmoothing(series, fitRows, fits[k]!, h, out[k]))) ? out : null;
+    }) : null;
+    if (forecast === null) {
       leftOut.push(`${name}: ${method === 'multiplicative' ? 'needs values above 0 and two seasons of fitting rows' : `needs at least ${seasonal ? 2 * (m ?? 1) : 3} fitting rows`}`);
       continue;
     }
-    add(name, `${what}, ${parameters}${columns.length > 1 ? ' (first target)' : ''}`, (t, k) => forecasts[k][t]);
+    const fit = fits[0]!;
+    const parameters = `α ${figure(fit.alpha)}${method === 'simple' ? '' : `, β ${figure(fit.beta)}`}${seasonal ? `, γ ${figure(fit.gamma)}` : ''}${method === 'damped' ? `, φ ${figure(fit.phi)}` : ''}`;
+    add(name, `${what}, ${parameters}${columns.length > 1 ? ' (first target)' : ''}`, forecast);
   }
-  const thetas = columns.map((series) => thetaForecasts(series, fitRows, horizon, m));
-  if (thetas.every((f) => f !== null)) {
-    const first = thetas[0]!;
-    add('Theta', `simple smoothing with half the trend line's slope as drift, α ${figure(first.alpha)}${first.adjustment === null ? '' : `, season taken out (${first.adjustment})`}`, (t, k) => thetas[k]!.forecasts[t]);
+  let thetaAlpha = NaN;
+  let thetaAdjustment: string | null = null;
+  const theta = byStep((h) => {
+    const made = columns.map((series) => thetaForecasts(series, fitRows, h, m));
+    if (!made.every((f) => f !== null)) return null;
+    thetaAlpha = made[0]!.alpha;
+    thetaAdjustment = made[0]!.adjustment;
+    return made.map((f) => f!.forecasts);
+  });
+  if (theta !== null) {
+    add('Theta', `simple smoothing with half the trend line's slope as drift, α ${figure(thetaAlpha)}${thetaAdjustment === null ? '' : `, season taken out (${thetaAdjustment})`}`, theta);
   } else leftOut.push('Theta: needs at least 3 fitting rows');
-  if (split.positions.every((t) => t >= LAGS - 1)) {
-    const weights = fitLinear(split);
-    add('linear', `least squares on the last ${LAGS} values of every input column`, (t, k) => linearForecast(values, weights[k], t));
+  if (split.positions.every((t) => t + horizon - Math.max(...steps) >= LAGS - 1)) {
+    // One least-squares fit per row ahead (direct forecasts).
+    const weights = new Map(steps.map((h) => [h, fitLinear({ ...split, horizon: h })]));
+    add('linear', `least squares on the last ${LAGS} values of every input column${steps.length > 1 ? ', one fit per row ahead' : ''}`, (t, k, h) => linearForecast(values, weights.get(h)![k], t));
   } else leftOut.push(`linear: a scored row has fewer than ${LAGS - 1} rows before it`);
   return { scores, season, scales, leftOut };
 }

@@ -79,30 +79,27 @@ export function runSmoothing(series: ArrayLike<number>, count: number, p: Smooth
  * runSmoothing is this stepper over a series. It allocates nothing after it is made.
  */
 export class SmoothingStepper {
-  private level: number;
-  private slope: number;
+  // [level, slope, the value given]: numbers kept in a typed array, so stepping stores and boxes none.
+  private readonly state = new Float64Array(3);
   private readonly ring: Float64Array;
+  private readonly made = new Float64Array(1);
   private t = 0;
-  private readonly damping: number;
+  private broken = false;
   private readonly m: number;
 
   constructor(private readonly p: SmoothingParameters, private readonly horizon = 1) {
     const seasonal = hasSeason(p.method);
     this.m = seasonal ? p.season : 1;
     this.ring = Float64Array.from(seasonal ? p.seasonal : [0]);
-    this.level = p.level;
-    this.slope = hasTrend(p.method) ? p.trend : 0;
-    const phi = hasTrend(p.method) ? p.phi : 0;
-    let damping = 0;
-    for (let i = 1, power = 1; i <= horizon; i++) damping += (power *= phi);
-    this.damping = damping;
+    this.state[LEVEL] = p.level;
+    this.state[SLOPE] = hasTrend(p.method) ? p.trend : 0;
   }
 
   /** The one-step forecast of the next row, made at the row before it (what `next` will be given). */
   oneStep(): number {
-    const { p, ring } = this;
+    const { p, ring, state } = this;
     const seasonal = hasSeason(p.method);
-    const base = this.level + (hasTrend(p.method) ? p.phi : 0) * this.slope;
+    const base = state[LEVEL] + (hasTrend(p.method) ? p.phi : 0) * state[SLOPE];
     if (!seasonal) return base;
     const s = ring[this.t % this.m];
     return p.method === 'multiplicative' ? base * s : base + s;
@@ -110,25 +107,72 @@ export class SmoothingStepper {
 
   /** Takes the next value and returns the forecast made at it (NaN once a multiplicative state is not positive). */
   next(y: number): number {
-    const { p, ring, m } = this;
+    this.state[GIVEN] = y;
+    this.update();
+    this.forecastInto(this.horizon, this.made, 0);
+    return this.made[0];
+  }
+
+  /**
+   * Takes the next value, `values[index]`, and writes the forecasts made at it into `into` from `at`, one per entry
+   * of `rowsAhead` (as `ahead` gives them). Every number passes through arrays, so nothing is boxed in a hot loop.
+   */
+  nextFrom(values: ArrayLike<number>, index: number, rowsAhead: readonly number[], into: { [index: number]: number }, at: number): void {
+    this.state[GIVEN] = values[index];
+    this.update();
+    for (let s = 0; s < rowsAhead.length; s++) this.forecastInto(rowsAhead[s], into, at + s);
+  }
+
+  /**
+   * The forecast of the row `rows` ahead of the last value given (the same as `next` returned for its own horizon;
+   * NaN once a multiplicative state is not positive).
+   */
+  ahead(rows: number): number {
+    this.forecastInto(rows, this.made, 0);
+    return this.made[0];
+  }
+
+  private update(): void {
+    const { p, ring, m, state } = this;
+    const y = state[GIVEN];
     const multiplicative = p.method === 'multiplicative';
     const trend = hasTrend(p.method);
     const seasonal = hasSeason(p.method);
     const phi = trend ? p.phi : 0;
     const j = this.t % m;
     const s = seasonal ? ring[j] : multiplicative ? 1 : 0;
-    const base = this.level + phi * this.slope;
+    const level = state[LEVEL];
+    const base = level + phi * state[SLOPE];
     const nextLevel = p.alpha * (seasonal ? (multiplicative ? y / s : y - s) : y) + (1 - p.alpha) * base;
-    if (trend) this.slope = p.beta * (nextLevel - this.level) + (1 - p.beta) * phi * this.slope;
+    if (trend) state[SLOPE] = p.beta * (nextLevel - level) + (1 - p.beta) * phi * state[SLOPE];
     if (seasonal) ring[j] = p.gamma * (multiplicative ? y / base : y - base) + (1 - p.gamma) * s;
-    this.level = nextLevel;
+    state[LEVEL] = nextLevel;
     this.t++;
-    if (multiplicative && !(this.level > 0 && ring[j] > 0)) return NaN;
-    const ahead = this.level + this.damping * this.slope;
-    const sAhead = seasonal ? ring[(this.t - 1 + this.horizon) % m] : 0;
-    return seasonal ? (multiplicative ? ahead * sAhead : ahead + sAhead) : ahead;
+    this.broken = multiplicative && !(nextLevel > 0 && ring[j] > 0);
+  }
+
+  private forecastInto(rows: number, into: { [index: number]: number }, at: number): void {
+    const { p, ring, m, state } = this;
+    if (this.broken) {
+      into[at] = NaN;
+      return;
+    }
+    const phi = hasTrend(p.method) ? p.phi : 0;
+    let damping = 0;
+    for (let i = 1, power = 1; i <= rows; i++) damping += (power *= phi);
+    const ahead = state[LEVEL] + damping * state[SLOPE];
+    if (!hasSeason(p.method)) {
+      into[at] = ahead;
+      return;
+    }
+    const sAhead = ring[(this.t - 1 + rows) % m];
+    into[at] = p.method === 'multiplicative' ? ahead * sAhead : ahead + sAhead;
   }
 }
+
+const LEVEL = 0;
+const SLOPE = 1;
+const GIVEN = 2;
 
 /**
  * The mean squared one-step error over rows [0, count) alone: runSmoothing's recursion in loops without its

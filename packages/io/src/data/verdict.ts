@@ -3,7 +3,7 @@
  * scale-free, and one verdict against the best baseline, worded in one place for `weft train`, `weft score`,
  * `weft sweep` and the browser page.
  */
-import type { BaselineScore } from './baselines.js';
+import type { BaselineScore, StepErrors } from './baselines.js';
 import type { ClassificationReport, ForecastErrors } from './scores.js';
 
 /** One row of a test comparison: a model or a baseline, and its figures. */
@@ -18,6 +18,8 @@ export interface Contender {
   readonly perTarget?: readonly ForecastErrors[];
   /** Forecast errors over every target together (forecasts only). */
   readonly overall?: ForecastErrors;
+  /** Forecast errors at each row ahead, nearest first (forecasts of several rows ahead only). */
+  readonly byRowsAhead?: readonly StepErrors[];
   /** Classification scores (classify only). */
   readonly scores?: ClassificationReport;
   /** Transduction scores (pairs only). */
@@ -57,7 +59,7 @@ export interface ForecastReportParts {
   /** What was scored, in words. */
   readonly what: string;
   /** The model's errors on the scored positions. */
-  readonly model: Pick<BaselineScore, 'perTarget' | 'overall'>;
+  readonly model: Pick<BaselineScore, 'perTarget' | 'overall' | 'byRowsAhead'>;
   /** The baselines' errors on the same positions. */
   readonly baselines: readonly BaselineScore[];
   /** The targets' names. */
@@ -74,8 +76,8 @@ export function forecastReport(parts: ForecastReportParts): HeldOutReport {
     metric: several ? 'MASE' : 'MAE',
     lowerIsBetter: true,
     what: parts.what,
-    model: { name: 'model', description: '', value: value(parts.model), perTarget: parts.model.perTarget, overall: parts.model.overall },
-    baselines: parts.baselines.map((b) => ({ name: b.name, description: b.description, value: value(b), perTarget: b.perTarget, overall: b.overall })),
+    model: { name: 'model', description: '', value: value(parts.model), perTarget: parts.model.perTarget, overall: parts.model.overall, ...(parts.model.byRowsAhead === undefined ? {} : { byRowsAhead: parts.model.byRowsAhead }) },
+    baselines: parts.baselines.map((b) => ({ name: b.name, description: b.description, value: value(b), perTarget: b.perTarget, overall: b.overall, ...(b.byRowsAhead === undefined ? {} : { byRowsAhead: b.byRowsAhead }) })),
     names: parts.names,
     context: parts.context,
   };
@@ -155,6 +157,13 @@ export function reportLines(report: HeldOutReport): string[] {
       lines.push(`  ${' '.repeat(name.length)}  ${best.name} ${errorsText(best.perTarget?.[k])}`);
     });
   }
+  const steps = report.model.byRowsAhead;
+  if (steps !== undefined && steps.length > 1) {
+    // The model and the best baseline at each row ahead, in the report's metric.
+    const best = bestOf(report);
+    const at = (e: ForecastErrors) => figure(report.metric === 'MASE' ? e.mase ?? NaN : e.mae);
+    lines.push(`  ${report.metric} by rows ahead: ${steps.map((s, i) => `${s.rowsAhead}: ${at(s.overall)}${best.byRowsAhead?.[i] === undefined ? '' : ` (${at(best.byRowsAhead[i].overall)})`}`).join(', ')} — the model's, and in brackets ${best.name}'s`);
+  }
   if (report.model.scores !== undefined) lines.push(...classLines(report.model.scores, report.names));
   lines.push(verdict(report));
   return lines;
@@ -165,4 +174,11 @@ export function reportJson(report: HeldOutReport): unknown {
   const best = bestOf(report);
   const beats = report.lowerIsBetter ? report.model.value < best.value : report.model.value > best.value;
   return { ...report, bestBaseline: best.name, modelBeatsEveryBaseline: beats };
+}
+
+/** "74 forecasts of CO2, 1 row ahead", or with every row up to the horizon "74 rows of CO2, each forecast 1 to 12 rows ahead (888 forecasts)". */
+export function forecastWords(rows: number, names: readonly string[], rowsAhead: readonly number[]): string {
+  const last = rowsAhead[rowsAhead.length - 1];
+  if (rowsAhead.length === 1) return `${rows} forecasts of ${names.join(', ')}, ${last} row${last === 1 ? '' : 's'} ahead`;
+  return `${rows} rows of ${names.join(', ')}, each forecast ${rowsAhead[0]} to ${last} rows ahead (${rows * rowsAhead.length * names.length} forecasts)`;
 }

@@ -4,6 +4,7 @@
  * Monday, so the week starts there.
  */
 import { describe, expect, it } from 'vitest';
+import { Random } from '@weft/core';
 import { calendarFor, calendarInputs } from '@weft/io';
 
 describe('calendar inputs', () => {
@@ -31,5 +32,35 @@ describe('calendar inputs', () => {
     // Thursday: 3 days into the week.
     calendarInputs(['day of week'], Date.UTC(2024, 0, 4), out);
     expect(out[0]).toBeCloseTo(Math.sin((2 * Math.PI * 3) / 7), 15);
+  });
+
+  it('agree with the calendar of ECMA-262 Date for times from the year 1600 to 2400, before and after 1970', () => {
+    const positions = ['month of year', 'quarter of year', 'week of year', 'day of week', 'day of year', 'time of day'] as const;
+    const DAY = 86_400_000;
+    const YEAR = 365.2425 * DAY;
+    const out = new Float64Array(12);
+    const random = new Random('calendar');
+    const start = Date.UTC(1600, 0, 1);
+    const end = Date.UTC(2400, 0, 1);
+    // Every 1 January and 28 February to 1 March around leap years, and random times.
+    const times = [Date.UTC(2000, 1, 29), Date.UTC(1900, 2, 1), Date.UTC(1969, 11, 31, 23, 59), Date.UTC(1970, 0, 1), Date.UTC(2100, 0, 1) - 1];
+    for (let i = 0; i < 2000; i++) times.push(Math.floor(start + random.uniform() * (end - start)));
+    for (const time of times) {
+      calendarInputs(positions, time, out);
+      const date = new Date(time);
+      const startOfYear = Date.UTC(date.getUTCFullYear(), 0, 1);
+      const fractions = [
+        date.getUTCMonth() / 12,
+        Math.floor(date.getUTCMonth() / 3) / 4,
+        (time - startOfYear) / YEAR,
+        ((date.getUTCDay() + 6) % 7) / 7,
+        (time - startOfYear) / YEAR,
+        (((time % DAY) + DAY) % DAY) / DAY,
+      ];
+      fractions.forEach((f, i) => {
+        expect(out[2 * i]).toBeCloseTo(Math.sin(2 * Math.PI * f), 12);
+        expect(out[2 * i + 1]).toBeCloseTo(Math.cos(2 * Math.PI * f), 12);
+      });
+    }
   });
 });

@@ -1,0 +1,96 @@
+/**
+ * `weft run` on a forecast model: each row's forecasts as a record (every row ahead the model forecasts at once, as
+ * "<target> in <rows>" columns), and with `--ahead` the rows past the end.
+ */
+import type { Runtime } from '@weft/io/runtime';
+import { createRowForecaster, fieldPath } from '@weft/io';
+import type { Table } from '@weft/io';
+import { CommandError } from './errors.js';
+
+/** One record of output: values by column name. */
+export type OutputRecord = Record<string, string | number>;
+
+/** Turns one row of a table (its only row) into records. */
+export type EachRow = (table: Table, row: number, emit: (record: OutputRecord) => void) => void;
+
+/**
+ * Forecasts row by row; with `marked`, each record says whether it was made from data or, past the end (`ahead`),
+ * from the forecasts before it: the model's forecast of every column is fed back as the next row, which needs a
+ * model that forecasts all its input columns one row ahead.
+ */
+export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean) {
+  const model = createRowForecaster(runtime, meta);
+  const raw: Record<string, string> = {};
+  let at: number[] | null = null;
+  let kept: number[] = [];
+  let keptNames: string[] = [];
+  const targets = model.outputNames.length;
+  const rowsAhead = model.rowsAhead;
+  // The forecasts made at the last row, every row ahead (made[s × targets + k]).
+  const made = new Float64Array(rowsAhead.length * targets);
+  const columnNames = rowsAhead.flatMap((h) => model.outputNames.map((target) => `${target} in ${h}`));
+  const several = rowsAhead.length > 1;
+  const checkAhead = (count: number): void => {
+    if (several) {
+      if (count > rowsAhead[rowsAhead.length - 1]) throw new CommandError(`--ahead ${count}: this model forecasts rows 1 to ${rowsAhead[rowsAhead.length - 1]} ahead at once; ask for at most ${rowsAhead[rowsAhead.length - 1]} (or train it with a longer --horizon)`, 2);
+      return;
+    }
+    const missing = model.inputNames.filter((c) => !model.outputNames.includes(c));
+    if (Number(meta.horizon) !== 1 || missing.length > 0 || model.readNames.length > model.inputNames.length) {
+      throw new CommandError(`--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead, and read no times; this one forecasts ${model.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''}${model.readNames.length > model.inputNames.length ? ' and reads the time column' : ''} (train it with --horizon 1 and no --target, or with --horizon ROWS to forecast that many rows at once)`, 2);
+    }
+  };
+  const ahead = (rows: number, count: number, emit: (record: OutputRecord) => void): void => {
+    if (rows < model.warmUp) throw new CommandError(`${name}: ${rows} rows are fewer than the ${model.warmUp} the model reads before its first forecast; nothing to forecast ahead from`);
+    for (let k = 1; k <= count; k++) {
+      // A model of every row up to its horizon: row rows + k holds the forecast made at the last row, k rows ahead,
+      // in its "in k" columns (so each column keeps its meaning: made at the row `made` names, k rows on).
+      const record: OutputRecord = { row: rows + k, made: several ? `at row ${rows}` : 'from forecasts' };
+      for (const c of keptNames) record[c] = '';
+      for (const c of columnNames) record[c] = '';
+      if (several) {
+        // Row k after the last: the forecast the model made at the last row, k rows ahead.
+        const s = rowsAhead.indexOf(k);
+        model.outputNames.forEach((target, j) => (record[`${target} in ${k}`] = Number(made[s * targets + j].toPrecision(6))));
+      } else {
+        const last: Record<string, number> = {};
+        model.outputNames.forEach((target, j) => (last[target] = made[j]));
+        model.nextInto(last, made);
+        model.outputNames.forEach((target, j) => (record[`${target} in 1`] = Number(made[j].toPrecision(6))));
+      }
+      emit(record);
+    }
+  };
+  const each: EachRow = (table, row, emit) => {
+    at ??= columnsAt(table, model.readNames, name, 'the model reads it');
+    if (row === 1) kept = columnsAt(table, keep, name, 'for --keep');
+    const fields = table.rows[0].fields;
+    model.readNames.forEach((c, j) => (raw[c] = fields[(at as number[])[j]]));
+    let ready: boolean;
+    try {
+      ready = model.nextInto(raw, made);
+    } catch (error) {
+      // Point at the first field that is not a number, by line and column (a time that does not parse: its message).
+      const j = model.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
+      if (j < 0) throw new CommandError(`${fieldPath(table, 0, (at as number[])[model.readNames.length - 1])}: ${(error as Error).message}`);
+      throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`);
+    }
+    const record: OutputRecord = marked ? { row, made: 'from data' } : { row };
+    keptNames = kept.map((c) => table.header[c]);
+    kept.forEach((c) => (record[table.header[c]] = fields[c]));
+    // A windowed model forecasts once it has a window of rows: the first rows get empty forecasts.
+    columnNames.forEach((c, i) => (record[c] = ready ? Number(made[i].toPrecision(6)) : ''));
+    emit(record);
+  };
+  return { each, ahead, checkAhead };
+}
+
+
+/** The index of each named column in a table, or a one-line error naming the file, the column and why it is needed. */
+export function columnsAt(table: Table, names: readonly string[], file: string, why: string): number[] {
+  return names.map((c) => {
+    const i = table.header.indexOf(c);
+    if (i < 0) throw new CommandError(`${file}: no column ${JSON.stringify(c)} (${why}); the input has ${table.header.join(', ')}`);
+    return i;
+  });
+}
