@@ -29,6 +29,9 @@ import { Random } from '@weft/core';
 import { parseArgs, train } from '@weft/cli';
 import { score, scoreFlags } from '../packages/cli/src/score.js';
 import { trainFlags } from '../packages/cli/src/train.js';
+import { runFlags, runModel } from '../packages/cli/src/run.js';
+import { createRowForecaster } from '@weft/io';
+import { createRuntime } from '@weft/io/runtime';
 import { seasonalTrend } from './helpers/series.js';
 import { loadModelFile, loadWeightFile } from '@weft/io/node';
 
@@ -124,6 +127,34 @@ describe('the held-out verdict', () => {
     expect(Number(figure.toPrecision(4))).toBe(Number(winner === 'hybrid' ? hybridFigure : plainFigure));
     const plain = await trainQuietly([file, '--hybrid', 'no', '--out', join(folder, 'rising-plain.weft.json')]);
     expect(plain.text).not.toMatch(/^tried both/m);
+  }, 60_000);
+
+  it('stacks an ensemble of hybrid members into one file whose forecasts the runtime and weft run reproduce bit for bit, every row ahead', async () => {
+    const file = join(folder, 'ensemble.csv');
+    writeFileSync(file, `level\n${seasonalTrend(200).map((v) => v.toFixed(4)).join('\n')}\n`);
+    const out = join(folder, 'ensemble.weft.json');
+    const { outcome, text } = await trainQuietly([file, '--ensemble', '3', '--hybrid', 'yes', '--horizon', '2', '--epochs', '6', '--out', out]);
+    expect(text).toMatch(/^member 3 of 3 \(seed 1\/3\): \d+ steps, kept step \d+, validation MAE [\d.]+$/m);
+    const saved = await loadWeightFile(out);
+    expect(saved.metadata.members).toBe(3);
+    expect(saved.metadata.rowsAhead).toBe('all');
+    // Three members of 32 units, two rows ahead each: 96 units, 6 outputs.
+    expect(saved.model).toMatchObject({ layers: [{ hidden: 96 }], readout: { width: 6 } });
+    // weft score reads the file through the runtime and scores the test part as train did.
+    const scored = JSON.parse(await score(parseArgs('score', [out, file, '--format', 'json'], scoreFlags))) as { model: { value: number; byRowsAhead: { rowsAhead: number }[] } };
+    expect(Math.abs(scored.model.value - outcome.heldOut.model.value)).toBeLessThanOrEqual(1e-5 * outcome.heldOut.model.value);
+    expect(scored.model.byRowsAhead.map((s) => s.rowsAhead)).toEqual([1, 2]);
+    // weft run prints what a program's row forecaster on the runtime computes, to every printed digit.
+    const printed = JSON.parse((await runModel(parseArgs('run', [out, file, '--format', 'json'], runFlags), () => undefined))!) as Record<string, number | string>[];
+    const forecaster = createRowForecaster(await createRuntime(saved), saved.metadata as Record<string, unknown>);
+    const made = new Float64Array(2);
+    const values = new Float64Array(1);
+    seasonalTrend(200).forEach((v, t) => {
+      values[0] = Number(v.toFixed(4));
+      const ready = forecaster.nextValuesInto(values, made);
+      expect([printed[t]['level in 1'], printed[t]['level in 2']]).toEqual(ready ? [Number(made[0].toPrecision(6)), Number(made[1].toPrecision(6))] : ['', '']);
+    });
+    await expect(trainQuietly([file, '--ensemble', '0', '--out', join(folder, 'none.weft.json')])).rejects.toThrow(/--ensemble/);
   }, 60_000);
 
   it('finds the daily season of the hourly Seattle normals from the time column and names the best baseline 6 hours ahead', async () => {

@@ -209,7 +209,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
       return candidate.validationFigure?.(trial) ?? Infinity;
     };
     const [plainFigure, hybridFigure] = [await figure(prepared), await figure(hybrid)];
-    const metric = prepared.outputWidth > 1 ? 'MASE' : 'MAE';
+    const metric = figureName(prepared);
     info(`tried both on the validation part: ${hybrid.chosen?.said.split(':')[0] ?? 'the hybrid'} ${metric} ${Number(hybridFigure.toPrecision(4))}, plain ${Number(plainFigure.toPrecision(4))}: training the ${hybridFigure < plainFigure ? 'hybrid' : 'plain model'} (--hybrid yes or no to choose)`);
     if (hybridFigure < plainFigure) prepared = hybrid;
   } else if (args.flags.get('resume') !== undefined && prepared.task === 'forecast' && prepared.metadata.window !== undefined && !args.flags.has('hybrid')) {
@@ -232,7 +232,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   // With differences, the error of the change is the error of the level, so its deviation serves; log returns
   // have no such factor and are shown normalised. Sliding windows scale the target's change by its own deviation.
   const forecastMeta = prepared.metadata as { columns?: string[]; targetColumns?: string[]; normalisation?: { deviation: number[] }; targetTransform?: { kind: string; deviation: number[] }; window?: { targetDeviation: number[] } };
-  const maeScale = task !== 'forecast' || forecastMeta.targetColumns?.length !== 1 ? null
+  const maeScale = task !== 'forecast' || forecastMeta.targetColumns?.length !== 1 || (prepared.task === 'forecast' && prepared.outputWidth !== 1) ? null
     : forecastMeta.window !== undefined ? forecastMeta.window.targetDeviation[0]
     : forecastMeta.targetTransform === undefined ? forecastMeta.normalisation?.deviation[forecastMeta.columns?.indexOf(forecastMeta.targetColumns[0]) ?? -1] ?? null
       : forecastMeta.targetTransform.kind === 'differences' ? forecastMeta.targetTransform.deviation[0] : null;
@@ -349,7 +349,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
         throw new CommandError('', 130);
       }
       const figure = prepared.validationFigure?.(member);
-      info(`member ${k} of ${ensemble} (seed ${memberSeed}): ${memberSummary.steps} steps, kept step ${memberSummary.keptStep}${figure === undefined ? '' : `, validation ${prepared.outputWidth > 1 ? 'MASE' : 'MAE'} ${Number(figure.toPrecision(4))}`}`);
+      info(`member ${k} of ${ensemble} (seed ${memberSeed}): ${memberSummary.steps} steps, kept step ${memberSummary.keptStep}${figure === undefined ? '' : `, validation ${figureName(prepared)} ${Number(figure.toPrecision(4))}`}`);
       members.push(member);
     }
     final = stackMembers(members);
@@ -376,6 +376,12 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     writeFileAtomic(resultsPath, `${JSON.stringify(runResults(summary, heldOut, out, figure))}\n`);
   }
   return { summary, out, checkpoint, curve, heldOut, prepared };
+}
+
+/** What a forecast's validation figure is: MAE in the data's units for one target, MASE for several. */
+function figureName(prepared: Prepared | PairsPrepared): 'MAE' | 'MASE' {
+  const targets = (prepared.metadata as { targetColumns?: readonly string[] }).targetColumns?.length ?? 1;
+  return targets > 1 ? 'MASE' : 'MAE';
 }
 
 /** Rows per shard of a batch (see --workers). */

@@ -10,7 +10,7 @@
 import { describe, expect, it } from 'vitest';
 import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
-import { lusolve, multiply, transpose } from 'mathjs';
+import { lusolve, mean, multiply, transpose } from 'mathjs';
 import { Random, WeftError } from '@weft/core';
 import { bestBaseline, fitLinear, forecastBaselines, parseTable, readSeries } from '@weft/io';
 import type { SeriesSplit } from '@weft/io';
@@ -83,5 +83,27 @@ describe('forecast baselines', () => {
     }
     expect(error).toBeInstanceOf(WeftError);
     expect((error as WeftError).message).toBe('Invalid option at season: expected a whole number of rows in [1, 4] (shorter than the fitting rows), received 5');
+  });
+
+  it('scores every row ahead on the same target rows: naive as worked by hand, each method as its own one-horizon run, pooled as their mean', () => {
+    const random = new Random('rows ahead');
+    const values = Array.from({ length: 90 }, (_, t) => [20 + 0.1 * t + 3 * Math.sin((2 * Math.PI * t) / 6) + random.normal() * 0.2]);
+    // Target rows 80–89 (positions t with t + 3 in them), forecast 1, 2 and 3 rows ahead.
+    const positions = Array.from({ length: 10 }, (_, i) => 77 + i);
+    const split: SeriesSplit = { values, targets: [0], horizon: 3, fitRows: 80, positions, rowsAhead: [1, 2, 3] };
+    const all = forecastBaselines(split, { season: 6 });
+    for (const name of ['naive', 'seasonal naive', 'Holt-Winters additive', 'Theta', 'linear']) {
+      const scored = all.scores.find((b) => b.name === name)!;
+      expect(scored.byRowsAhead!.map((s) => s.rowsAhead)).toEqual([1, 2, 3]);
+      [1, 2, 3].forEach((h, i) => {
+        // The same target rows forecast h rows before them, as a split of one horizon.
+        const alone = forecastBaselines({ values, targets: [0], horizon: h, fitRows: 80, positions: positions.map((t) => t + 3 - h) }, { season: 6 }).scores.find((b) => b.name === name)!;
+        expect(scored.byRowsAhead![i].overall.mae).toBeCloseTo(alone.overall.mae, 12);
+        if (name === 'naive') expect(alone.overall.mae).toBeCloseTo(mean(positions.map((t) => Math.abs(values[t + 3][0] - values[t + 3 - h][0]))) as number, 12);
+      });
+      // Every row ahead has the same count, so the pooled MAE is their mean (mathjs).
+      expect(scored.overall.mae).toBeCloseTo(mean(scored.byRowsAhead!.map((s) => s.overall.mae)) as number, 12);
+    }
+    expect(() => forecastBaselines({ ...split, rowsAhead: [4] })).toThrowError(/split\.rowsAhead\[0\]: expected a whole number in \[1, 3\]/);
   });
 });

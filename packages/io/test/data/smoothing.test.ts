@@ -130,4 +130,24 @@ describe('exponential smoothing', () => {
       series.forEach((y, t) => expect(stepper.next(y)).toBe(whole[t]));
     }
   });
+
+  it('writes the forecasts of every row ahead at each row, the bits of the forecasting loop run once per row ahead', () => {
+    const random = new Random('stepper rows ahead');
+    const series = Float64Array.from({ length: 120 }, (_, t) => 30 + 0.1 * t + 4 * Math.sin(t / 2) + random.normal());
+    for (const method of ['simple', 'holt', 'damped', 'additive', 'multiplicative'] as const) {
+      const fit = fitSmoothing(series, 100, method, 12)!;
+      const wholes = [1, 2, 5].map((h) => {
+        const whole = new Float64Array(120);
+        runSmoothing(series, 100, fit, h, whole);
+        return whole;
+      });
+      const stepper = new SmoothingStepper(fit);
+      const into = new Float64Array(4);
+      for (let t = 0; t < 120; t++) {
+        stepper.nextFrom(series, t, [1, 2, 5], into, 1);
+        expect([into[1], into[2], into[3]]).toEqual(wholes.map((w) => w[t]));
+        expect(stepper.ahead(2)).toBe(wholes[1][t]);
+      }
+    }
+  });
 });
