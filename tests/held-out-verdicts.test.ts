@@ -157,12 +157,18 @@ describe('the held-out verdict', () => {
     await expect(trainQuietly([file, '--ensemble', '0', '--out', join(folder, 'none.weft.json')])).rejects.toThrow(/--ensemble/);
   }, 60_000);
 
-  it('finds the daily season of the hourly Seattle normals from the time column and names the best baseline 6 hours ahead', async () => {
+  // 8,760 hourly rows on sliding windows take about 30 s on the default backend; the JavaScript pass of the suite
+  // leaves this verdict out (its figures depend on no backend: backend.test.ts checks that the two train alike).
+  it.skipIf(process.env.WEFT_BACKEND === 'javascript')('finds the daily season of the hourly Seattle normals from the time column and names the best baseline 6 hours ahead', async () => {
     const hourly = fileURLToPath(new URL('../node_modules/vega-datasets/data/seattle-weather-hourly-normals.csv', import.meta.url));
     const { outcome, text } = await trainQuietly([hourly, '--target', 'temperature', '--horizon', '6', '--out', join(folder, 'hourly.weft.json')]);
     expect(text).toMatch(/^season of 24 rows from the time column \(rows hours apart\): /m);
     const best = outcome.heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a));
-    console.log(`hourly Seattle normals, 6 h ahead: model MAE ${outcome.heldOut.model.value}, best ${best.name} ${best.value}`);
+    console.log(`hourly Seattle normals, 1 to 6 h ahead: model MAE ${outcome.heldOut.model.value}, best ${best.name} ${best.value}`);
+    // Sliding windows over every hour up to 6 ahead, on top of Holt-Winters: measured 0.0469 against Holt-Winters
+    // additive's 0.0444 (1.055×). On streams, the default before for a series this long, the model scored 0.77.
+    expect(text.split('\n')[0]).toMatch(/^sliding windows: \d+ training examples of 48 rows \(two seasons of 24 rows\), forecasting rows 1 to 6 ahead at once, /);
+    expect(outcome.heldOut.model.value).toBeLessThan(1.2 * best.value);
     expect(text).toMatch(outcome.heldOut.model.value < best.value ? /^verdict: the model beats every baseline/m : new RegExp(`^verdict: the model does NOT beat the baseline ${best.name}: MAE `, 'm'));
   }, 60_000);
 

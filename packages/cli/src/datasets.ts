@@ -212,7 +212,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   if (examples === 'sliding') {
     return slidingWindows({ table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season: baselines.season.season, options, split, baselines, notes, metadata: common, context, what: testWhat, time });
   }
-  if (options.hybrid === true) throw new CommandError('--hybrid needs sliding windows (--examples sliding; the default up to 2,000 training rows, and not with --transform or --lookback)', 2);
+  if (options.hybrid === true) throw new CommandError('--hybrid needs sliding windows (--examples sliding; the default up to 10,000 training rows, and not with --transform or --lookback)', 2);
   if (trainEnd < options.streams * options.window + horizon) {
     throw new CommandError(`${file}: ${rows} rows leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test), too few for ${options.streams} streams of ${options.window}-row windows ${horizon} row${horizon === 1 ? '' : 's'} ahead (${options.streams * options.window + horizon} rows); lower --streams or --window, or the --validation and --test shares`);
   }
@@ -294,7 +294,7 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
 }
 
 /** At most this many training rows train on sliding windows by default (short series); longer ones on streams. */
-export const SLIDING_ROWS = 2_000;
+export const SLIDING_ROWS = 10_000;
 
 /** The settings a preparation chose from the data (for flags not given), and why, for the first line. */
 export interface ChosenSettings {
@@ -357,7 +357,7 @@ interface SlidingInput {
  * that change's deviation (recorded as metadata `window`; createRowForecaster applies it). Validation and test
  * examples end at the rows whose target rows are in those parts. Defaults from the data: a window of two seasons
  * (24 rows without one), at most 64 rows and a quarter of the training rows; 32 windows per batch; enough epochs for about
- * 2,000 updates (20 to 300); patience 5; 32 hidden units.
+ * 2,000 updates (3 to 300 epochs); patience 5; 32 hidden units.
  */
 function slidingWindows(input: SlidingInput): Prepared {
   const { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season, options, split, baselines } = input;
@@ -423,7 +423,7 @@ function slidingWindows(input: SlidingInput): Prepared {
   if (validationSet.length === 0) throw new CommandError(`${file}: the validation part has no row with ${window} rows before it; lower --window`);
   const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(trainSet.length / 4)));
   const batchesPerEpoch = Math.ceil(trainSet.length / batch);
-  const epochs = Math.min(300, Math.max(20, Math.ceil(2000 / batchesPerEpoch)));
+  const epochs = Math.min(300, Math.max(3, Math.ceil(2000 / batchesPerEpoch)));
   const validation = sequenceBatches(validationSet, { batchSize: 256, features: inputWidth });
   // Forecasts are read in window order: a batch source shuffles its batches, so each chunk of windows is a source
   // of one batch, read in turn. Scoring reads every window with a row ahead in the part (the nearest at least).
