@@ -151,7 +151,8 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     expect(held.actual).toHaveLength(held.forecast!.length);
     const mae = held.actual!.reduce((s, a, i) => s + Math.abs(a - held.forecast![i]), 0) / held.actual!.length;
     expect(Math.abs(mae - held.report.model.value)).toBeLessThan(1e-9 * Math.max(1, mae));
-    expect(result.heldOutText).toMatch(/^parts of the series, in order: training 320 values; validation, for stopping and keeping weights, 40; test, scored once at the end, the last 40\n/);
+    // The parts weft train cuts and words, from the same pipeline (prepareSeries).
+    expect(result.heldOutText).toMatch(/^parts of the series, in time order: training lines 2–321 \(320 rows\); validation, for stopping and keeping weights, lines 322–361 \(40 rows\); test, scored once at the end, lines 362–401 \(40 rows\)\n/);
     expect(result.heldOutText).toMatch(/\n {2}model +MAE [\d.]+ {2}RMSE/);
     expect(result.heldOutText).toMatch(/\nverdict: the model (beats every baseline|does NOT beat the baseline)/);
     console.log(result.heldOutText);

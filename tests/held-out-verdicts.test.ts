@@ -108,7 +108,7 @@ describe('the held-out verdict', () => {
     expect(text).toMatch(/^verdict: the model beats every baseline: MAE /m);
     const scored = JSON.parse(await score(parseArgs('score', [out, co2, '--format', 'json'], scoreFlags))) as { model: { value: number } };
     expect(Math.abs(scored.model.value - outcome.heldOut.model.value)).toBeLessThanOrEqual(1e-5 * outcome.heldOut.model.value);
-    await expect(trainQuietly([co2, '--target', 'CO2', '--hybrid', 'yes', '--examples', 'streams', '--out', join(folder, 'x.weft.json')])).rejects.toThrow('--hybrid needs sliding windows');
+    await expect(trainQuietly([co2, '--target', 'CO2', '--hybrid', 'yes', '--examples', 'streams', '--out', join(folder, 'x.weft.json')])).rejects.toThrow('Invalid option at --hybrid: expected sliding windows (--examples sliding;');
   }, 60_000);
 
   it('tries the plain model and the hybrid on the validation part by default and trains the better one, exactly as tried', async () => {
@@ -188,7 +188,7 @@ describe('the held-out verdict', () => {
     const file = join(folder, 'short.csv');
     writeFileSync(file, `level\n${seasonalTrend(60).map((v) => v.toFixed(4)).join('\n')}\n`);
     await expect(trainQuietly([file, '--season', '24', '--out', join(folder, 'short.weft.json')])).rejects.toThrow(
-      `${file}: 60 rows leave 48 training rows; a series with a season of 24 rows needs 49 (two seasons and the horizon), about 62 rows in all with the --validation and --test shares`);
+      `Invalid option at ${file}: expected at least 49 training rows for a series with a season of 24 rows (two seasons and the horizon): about 62 rows in all with the --validation and --test shares, received 60 rows, which leave 48 training rows`);
   });
 
   it('never uses the test rows for stopping, from sliding windows or streams: noise in place of them keeps the kept step and every weight', async () => {

@@ -8,8 +8,8 @@ import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches, wholeStream } from '@weft/optim';
 import type { ShardWorkers, TrainableModel, TrainingEvent } from '@weft/optim';
-import { buildVocabulary, forecastBaselines, forecastReport, reportLines, scoreForecaster, textBaselines } from '@weft/io';
-import type { HeldOutReport, WeightMetadata } from '@weft/io';
+import { buildVocabulary, prepareSeries, reportLines, textBaselines } from '@weft/io';
+import type { HeldOutReport, SeriesStreams, WeightMetadata } from '@weft/io';
 
 export interface TrainingConfig {
   /** `text`: next-character model; `numbers`: one column of numbers, forecast one step ahead. */
@@ -142,45 +142,34 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
     };
     return { model, trainer, threads, metadata: { task: 'next-token', tokens: 'characters', vocabulary: symbols }, heldOut };
   }
+  // A column of numbers, prepared as weft train prepares a series (prepareSeries: the same parts, scaling,
+  // baselines and verdict), read as long streams as the page's window and streams settings describe.
   const values = parseNumbers(config.data);
-  const { trainEnd, testStart } = parts(values.length, 1);
-  const mean = values.slice(0, trainEnd).reduce((s, v) => s + v, 0) / trainEnd;
-  const deviation = Math.sqrt(values.slice(0, trainEnd).reduce((s, v) => s + (v - mean) ** 2, 0) / trainEnd) || 1;
-  const normalised = values.map((v) => (v - mean) / deviation);
+  const series = prepareSeries(`value\n${values.join('\n')}\n`, 'the series', { window: config.window, lookback: 0, streams: config.streams, validationShare: VALIDATION_SHARE, testShare: TEST_SHARE, horizon: 1, seed: config.seed, examples: 'streams' });
+  const streams = series.examples as SeriesStreams;
+  const { trainEnd, testStart } = streams;
   const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: 1 } }, { seed: config.seed });
   const trainer = new Trainer({
     ...common,
     ...(await threadsFor(model)),
     model,
-    data: streamBatches({ kind: 'values', values: normalised.slice(0, trainEnd), features: 1 }, { streams: config.streams, window: config.window }),
-    validation: wholeStream({ kind: 'values', values: normalised.slice(0, testStart), features: 1 }, { window: config.window, scoredFrom: trainEnd - 1 }),
+    data: streamBatches({ kind: 'values', values: streams.values.slice(0, trainEnd), features: 1 }, { streams: config.streams, window: config.window }),
+    validation: wholeStream({ kind: 'values', values: streams.values.slice(0, testStart), features: 1 }, { window: config.window, scoredFrom: trainEnd - 1 }),
     validateEvery: 10,
   });
   const heldOut = (): HeldOut => {
-    // One-step forecasts over the whole series (state carried from the start); the test part scored beside the
-    // baselines weft train computes, fitted on the rows before it, with the same season rule.
+    // One-step forecasts over the whole series (state carried from the start), scored on the test part beside the
+    // baselines, as weft train scores them.
     const tape = new Tape({ recording: false });
-    const outputs = model.run(tape, tensor(normalised, [values.length, 1, 1], 'f32')).outputs.data;
+    const outputs = Array.from(model.run(tape, tensor([...streams.values], [values.length, 1, 1], 'f32')).outputs.data);
+    tape.clear();
+    const report = series.heldOut(outputs.slice(0, values.length - 1), 1);
+    const { mean, deviation } = series.metadata.normalisation as { mean: number[]; deviation: number[] };
     const positions: number[] = [];
     for (let t = testStart - 1; t + 1 < values.length; t++) positions.push(t);
-    const forecast = positions.map((t) => outputs[t] * deviation + mean);
-    tape.clear();
-    const split = { values: values.map((v) => [v]), targets: [0], horizon: 1, fitRows: testStart, positions };
-    const baselines = forecastBaselines(split);
-    const report = forecastReport({
-      what: `${positions.length} one-step forecasts of the last ${values.length - testStart} values, used for neither training nor stopping`,
-      model: scoreForecaster(split, (t) => outputs[t] * deviation + mean, baselines.scales),
-      baselines: baselines.scores,
-      names: ['value'],
-      context: [
-        `parts of the series, in order: training ${trainEnd} values; validation, for stopping and keeping weights, ${testStart - trainEnd}; test, scored once at the end, the last ${values.length - testStart}`,
-        baselines.season.reason,
-        ...baselines.leftOut.map((l) => `left out: ${l}`),
-      ],
-    });
-    return { report, lines: reportLines(report), actual: positions.map((t) => values[t + 1]), forecast };
+    return { report, lines: reportLines(report), actual: positions.map((t) => values[t + 1]), forecast: positions.map((t) => outputs[t] * deviation[0] + mean[0]) };
   };
-  return { model, trainer, threads, metadata: { task: 'forecast', columns: ['value'], targetColumns: ['value'], horizon: 1, normalisation: { mean: [mean], deviation: [deviation] } }, heldOut };
+  return { model, trainer, threads, metadata: series.metadata, heldOut };
 }
 
 /** The f32 bit pattern of a number, as 8 hex digits. */

@@ -49,3 +49,7 @@ export type { StepSequence, StepTable, StepTableOptions } from './data/steps.js'
 export { readStepTable } from './data/steps.js';
 export type { Series, SeriesOptions } from './data/series.js';
 export { buildVocabulary, readSeries } from './data/series.js';
+export type { ChosenSettings, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './data/prepare-series.js';
+export { SLIDING_ROWS, TRANSFORMS, prepareSeries } from './data/prepare-series.js';
+export type { SeriesParts } from './data/series-checks.js';
+export { seriesParts } from './data/series-checks.js';

@@ -1,0 +1,193 @@
+/**
+ * Sliding windows: every row t of the training part whose rows ahead are training rows ends one example, the
+ * `window` rows up to t, each value taken relative to row t and divided by its column's deviation of one-row
+ * changes; the example's targets are the change of each target from row t to each row ahead (1 to the horizon),
+ * each divided by that change's deviation (recorded as metadata `window`; createRowForecaster applies it). A hybrid
+ * reads an exponential smoothing method's forecasts beside the values and forecasts the correction to them (after
+ * Smyl 2020, simplified). Defaults from the data: a window of two seasons (24 rows without one), at most 64 rows and
+ * a quarter of the training rows; 32 windows per batch; enough epochs for about 2,000 updates (3 to 300); patience
+ * 5; 32 hidden units.
+ */
+import { fail } from '@weft/core';
+import { medianOfMembers } from '@weft/cells';
+import type { WeightMetadata } from '../weight-file.js';
+import type { ForecastBaselines, SeriesSplit } from './baselines.js';
+import { forecastBaselines, scoreForecaster } from './baselines.js';
+import { calendarFor, calendarInputs } from './calendar.js';
+import type { PreparedSeries, SeriesPreparation, WindowExample } from './prepare-series.js';
+import type { SmoothingMethod, SmoothingParameters } from './smoothing.js';
+import { fitSmoothing, runSmoothing } from './smoothing.js';
+import { columnStatistics } from './table.js';
+import type { Table } from './table.js';
+import type { TimeColumn } from './time-column.js';
+import { forecastReport } from './verdict.js';
+
+/** What prepareSeries has read and decided before the examples are made. */
+export interface SeriesContext {
+  readonly table: Table;
+  readonly file: string;
+  readonly values: readonly (readonly number[])[];
+  /** Header indexes of the input columns. */
+  readonly columns: readonly number[];
+  /** Indexes into `columns` of the targets. */
+  readonly targetIndexes: readonly number[];
+  readonly trainEnd: number;
+  readonly testStart: number;
+  readonly horizon: number;
+  readonly season: number | null;
+  readonly options: SeriesPreparation;
+  readonly split: SeriesSplit;
+  readonly baselines: ForecastBaselines;
+  readonly notes: readonly string[];
+  readonly metadata: WeightMetadata;
+  readonly context: readonly string[];
+  readonly what: string;
+  readonly time: TimeColumn | null;
+}
+
+/**
+ * The smoothing method, fitted on rows [0, fitEnd), whose forecasts of rows [fitEnd, checkEnd) have the lowest MAE
+ * (over every row ahead in `rowsAhead`); its forecasts made at every row, per row ahead (forecasts[s][t]).
+ */
+function chooseSmoothing(series: readonly number[], fitEnd: number, checkEnd: number, rowsAhead: readonly number[], season: number | null): { name: string; parameters: SmoothingParameters; forecasts: Float64Array[] } {
+  const methods: SmoothingMethod[] = ['simple', 'damped', ...(season === null ? [] : (['additive', 'multiplicative'] as SmoothingMethod[]))];
+  let best: { name: string; parameters: SmoothingParameters; forecasts: Float64Array[]; error: number } | null = null;
+  for (const method of methods) {
+    const fit = fitSmoothing(series, fitEnd, method, season ?? 1);
+    if (fit === null) continue;
+    const forecasts = rowsAhead.map(() => new Float64Array(series.length));
+    if (rowsAhead.some((h, s) => Number.isNaN(runSmoothing(series, fitEnd, fit, h, forecasts[s])))) continue;
+    let error = 0;
+    rowsAhead.forEach((h, s) => {
+      for (let t = fitEnd - h; t + h < checkEnd; t++) error += Math.abs(series[t + h] - forecasts[s][t]);
+    });
+    if (best === null || error < best.error) {
+      const { meanSquaredError: _unused, ...parameters } = fit;
+      best = { name: method === 'simple' ? 'simple smoothing' : method === 'damped' ? 'a damped trend' : `Holt-Winters ${method}`, parameters, forecasts, error };
+    }
+  }
+  if (best === null) fail('invalid_option', '--hybrid', 'a smoothing method that fits the training rows', 'none fits');
+  return best;
+}
+
+/** Sliding windows over a series (see the file's comment). */
+export function slidingWindows(input: SeriesContext): PreparedSeries {
+  const { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season, options, split, baselines } = input;
+  const given = options.given ?? new Set<string>();
+  if ((options.transform ?? 'none') !== 'none') fail('invalid_option', '--transform', '--examples streams (sliding windows already forecast the change from the window\'s last row)', options.transform ?? 'none');
+  if (options.lookback > 0) fail('invalid_option', '--lookback', '--examples streams (sliding windows are read whole)', String(options.lookback));
+  const least = (season === null ? 32 : 2 * season) + horizon;
+  if (trainEnd < least) {
+    const rows = values.length;
+    const total = Math.ceil(least / (1 - options.validationShare - options.testShare));
+    fail('invalid_option', file, `at least ${least} training rows for a series ${season === null ? 'without a season' : `with a season of ${season} rows`} (${season === null ? '32 rows' : 'two seasons'} and the horizon): about ${total} rows in all with the --validation and --test shares`, `${rows} rows, which leave ${trainEnd} training rows`);
+  }
+  const window = given.has('window') ? options.window : Math.max(2, Math.min(season === null ? 24 : 2 * season, 64, Math.floor(trainEnd / 4)));
+  const width = columns.length;
+  const targetCount = targetIndexes.length;
+  // Every row up to the horizon at once (direct multi-output): one block of targets per row ahead, nearest first.
+  const rowsAhead = Array.from({ length: horizon }, (_, i) => i + 1);
+  // Deviations of one-row changes per column, and of the forecast change per target, over the training rows.
+  const deviation = Array.from({ length: width }, (_, j) => {
+    let sum = 0;
+    for (let t = 1; t < trainEnd; t++) sum += (values[t][j] - values[t - 1][j]) ** 2;
+    const d = Math.sqrt(sum / Math.max(1, trainEnd - 1));
+    return d > 0 && Number.isFinite(d) ? d : 1;
+  });
+  // The hybrid: per target, the smoothing method (fitted on the training rows) whose forecasts of the validation
+  // rows are best; the model reads its forecasts of the next row beside the values and forecasts the correction to
+  // its forecast of each row ahead.
+  const hybrid = options.hybrid === true ? targetIndexes.map((j) => chooseSmoothing(values.map((row) => row[j]), trainEnd, testStart, rowsAhead, season)) : null;
+  const base = (s: number, k: number, t: number) => (hybrid === null ? values[t][targetIndexes[k]] : hybrid[k].forecasts[s][t]);
+  // Calendar inputs from the time column (where in the year, week or day each row falls), after the hybrid's.
+  const positions = options.calendar === false || input.time === null ? [] : calendarFor(input.time.spacing);
+  const times = input.time?.times ?? null;
+  const calendarAt = width + (hybrid === null ? 0 : targetCount);
+  const inputWidth = calendarAt + 2 * positions.length;
+  const targetDeviation = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
+    let sum = 0;
+    for (let t = 0; t + h < trainEnd; t++) sum += (values[t + h][j] - base(s, k, t)) ** 2;
+    const d = Math.sqrt(sum / Math.max(1, trainEnd - h));
+    return d > 0 && Number.isFinite(d) ? d : 1;
+  }));
+  // The window ending at row t; its targets are the rows ahead before row `end` (0 past it: those are never scored).
+  const example = (t: number, end: number): WindowExample => {
+    const inputs = new Array<number>(window * inputWidth);
+    for (let k = 0; k < window; k++) {
+      const row = t - window + 1 + k;
+      for (let j = 0; j < width; j++) inputs[k * inputWidth + j] = (values[row][j] - values[t][j]) / deviation[j];
+      if (hybrid !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (hybrid[i].forecasts[0][row] - values[t][j]) / deviation[j]));
+      if (times !== null && positions.length > 0) calendarInputs(positions, times[row], inputs, k * inputWidth + calendarAt);
+    }
+    const target = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => (t + h < end ? (values[t + h][j] - base(s, k, t)) / targetDeviation[s * targetCount + k] : 0)));
+    return { values: inputs, target };
+  };
+  // Windows ending at rows [from, to) (none before a full window), targets before row `end`.
+  const windowsEnding = (from: number, to: number, end: number) => {
+    const out: WindowExample[] = [];
+    for (let t = Math.max(window - 1, from); t < to; t++) out.push(example(t, end));
+    return out;
+  };
+  // Training and validation windows have every row ahead in their part (the farthest row ahead is in it).
+  const train = windowsEnding(0, trainEnd - horizon, trainEnd);
+  if (train.length < 2) fail('invalid_option', '--window', `a window leaving at least 2 training windows ${horizon} row${horizon === 1 ? '' : 's'} ahead in the ${trainEnd} training rows of ${file}`, `${window} rows (${train.length} window${train.length === 1 ? '' : 's'})`);
+  const validation = windowsEnding(trainEnd - horizon, testStart - horizon, testStart);
+  if (validation.length === 0) fail('invalid_option', '--window', `a window that fits before a validation row of ${file} (${testStart - trainEnd} validation rows)`, `${window} rows`);
+  const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(train.length / 4)));
+  const batchesPerEpoch = Math.ceil(train.length / batch);
+  const epochs = Math.min(300, Math.max(3, Math.ceil(2000 / batchesPerEpoch)));
+  // Scoring reads every window with a row ahead in the part (the nearest at least).
+  const validationFrom = Math.max(window - 1, trainEnd - horizon);
+  const testFrom = Math.max(window - 1, testStart - horizon);
+  const seasonWords = season === null ? 'no season found' : 2 * season === window ? `two seasons of ${season} rows` : `a season of ${season} rows`;
+  const block = rowsAhead.length * targetCount;
+  const combined = new Float64Array(block);
+  /** forecasts[s][k][t]: the forecast of target k made at row t for row t + rowsAhead[s] (members' median). */
+  const forecastsOf = (outputs: ArrayLike<number>, outputWidth: number, from: number): Float64Array[][] => {
+    const forecasts = rowsAhead.map(() => targetIndexes.map(() => new Float64Array(values.length).fill(NaN)));
+    const members = outputWidth / block;
+    const scratch = new Float64Array(members);
+    for (let i = 0, t = from; i + outputWidth <= outputs.length; i += outputWidth, t++) {
+      medianOfMembers(outputs, i, members, block, combined, scratch);
+      for (let s = 0; s < rowsAhead.length; s++) for (let k = 0; k < targetCount; k++) forecasts[s][k][t] = base(s, k, t) + combined[s * targetCount + k] * targetDeviation[s * targetCount + k];
+    }
+    return forecasts;
+  };
+  // With several rows ahead, every baseline forecasts each of them too (fitted once).
+  const several = rowsAhead.length > 1;
+  const scoredSplit = several ? { ...split, rowsAhead } : split;
+  const scoredBaselines = several ? forecastBaselines(scoredSplit, { season, spacing: input.time?.spacing ?? null }).scores : baselines.scores;
+  const ahead = several ? `, forecasting rows 1 to ${horizon} ahead at once` : '';
+  return {
+    inputWidth,
+    outputWidth: block,
+    examples: {
+      kind: 'windows',
+      train,
+      validation,
+      validationForecasts: windowsEnding(validationFrom, testStart - 1, testStart),
+      test: windowsEnding(testFrom, values.length - 1, values.length),
+      batch,
+    },
+    metadata: { ...input.metadata, ...(several ? { rowsAhead: 'all' } : {}), normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
+    notes: input.notes,
+    chosen: {
+      ...(given.has('epochs') ? {} : { epochs }),
+      ...(given.has('patience') ? {} : { patience: 5 }),
+      ...(given.has('hidden') ? {} : { hidden: 32 }),
+      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}${ahead}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
+    },
+    validationFigure: (outputs, outputWidth) => {
+      const forecasts = forecastsOf(outputs, outputWidth, validationFrom);
+      const scored: number[] = [];
+      for (let t = validationFrom; t < testStart - horizon; t++) scored.push(t);
+      const errors = scoreForecaster({ ...scoredSplit, positions: scored }, (at, k, h) => forecasts[h - 1][k][at], baselines.scales).overall;
+      return targetCount > 1 ? errors.mase ?? NaN : errors.mae;
+    },
+    heldOut: (outputs, outputWidth) => {
+      const forecasts = forecastsOf(outputs, outputWidth, testFrom);
+      const scored = scoreForecaster(scoredSplit, (at, k, h) => forecasts[h - 1][k][at], baselines.scales);
+      return forecastReport({ what: input.what, model: scored, baselines: scoredBaselines, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
+    },
+  };
+}

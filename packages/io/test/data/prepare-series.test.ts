@@ -1,0 +1,57 @@
+/**
+ * prepareSeries (prepare-series.ts): sliding windows up to SLIDING_ROWS training rows and long streams past them
+ * (or when asked); a stream's values normalised by each column's training mean and population deviation (mathjs,
+ * a general-purpose reference library, gives both); a transform's changes as targets; forecasts that are exactly
+ * right score 0 against the baselines; settings that need the other kind of examples refused naming the flag.
+ */
+import { describe, expect, it } from 'vitest';
+import { mean, std } from 'mathjs';
+import { SLIDING_ROWS, prepareSeries } from '@weft/io';
+import type { SeriesStreams } from '@weft/io';
+
+const options = { window: 8, lookback: 0, streams: 4, validationShare: 0.1, testShare: 0.1, horizon: 1, seed: '1' };
+const table = (rows: number) => `level,flow\n${Array.from({ length: rows }, (_, t) => `${(20 + 0.01 * t + Math.sin(t / 5)).toFixed(5)},${(3 + Math.cos(t / 7)).toFixed(5)}`).join('\n')}\n`;
+
+describe('preparing a series', () => {
+  it('trains on sliding windows up to SLIDING_ROWS training rows and on streams past them', () => {
+    expect(prepareSeries(table(400), 's.csv', options).examples.kind).toBe('windows');
+    const long = Math.ceil((SLIDING_ROWS + 10) / 0.8);
+    expect(prepareSeries(table(long), 's.csv', options).examples.kind).toBe('streams');
+    expect(prepareSeries(table(400), 's.csv', { ...options, transform: 'differences' }).examples.kind).toBe('streams');
+  });
+
+  it('normalises a stream by the training rows\' mean and deviation, and scores exact forecasts as 0', () => {
+    const prepared = prepareSeries(table(400), 's.csv', { ...options, examples: 'streams', targets: ['level'] });
+    const streams = prepared.examples as SeriesStreams;
+    expect([streams.trainEnd, streams.testStart, streams.rows]).toEqual([320, 360, 400]);
+    const level = Array.from({ length: 400 }, (_, t) => Number((20 + 0.01 * t + Math.sin(t / 5)).toFixed(5)));
+    const m = mean(level.slice(0, 320)) as number;
+    const d = std(level.slice(0, 320), 'uncorrected') as number;
+    expect(streams.values[2 * 7]).toBeCloseTo((level[7] - m) / d, 12);
+    expect(streams.targets).toEqual({ columns: [0] });
+    // The forecast made at row t of row t + 1 is the output at t; exactly right outputs are next rows' values.
+    const exact = level.slice(1).map((v) => (v - m) / d);
+    expect(prepared.heldOut(exact, 1).model.value).toBeCloseTo(0, 9);
+    expect(prepared.validationFigure(exact.slice(0, 359), 1)).toBeCloseTo(0, 9);
+    expect(prepared.heldOut(exact, 1).baselines.every((b) => b.value > 0)).toBe(true);
+  });
+
+  it('gives a transform\'s normalised changes as the targets of a stream', () => {
+    const prepared = prepareSeries(table(400), 's.csv', { ...options, transform: 'differences', targets: ['level'] });
+    const streams = prepared.examples as SeriesStreams;
+    const level = Array.from({ length: 400 }, (_, t) => Number((20 + 0.01 * t + Math.sin(t / 5)).toFixed(5)));
+    const changes = level.slice(1, 320).map((v, t) => v - level[t]);
+    const m = mean(changes) as number;
+    const d = std(changes, 'uncorrected') as number;
+    expect('values' in streams.targets).toBe(true);
+    const targets = streams.targets as { values: number[]; width: number };
+    expect(targets.width).toBe(1);
+    expect(targets.values[10]).toBeCloseTo((level[10] - level[9] - m) / d, 12);
+  });
+
+  it('refuses settings that need the other kind of examples, naming the flag', () => {
+    expect(() => prepareSeries(table(400), 's.csv', { ...options, examples: 'streams', hybrid: true })).toThrowError(/^Invalid option at --hybrid: expected sliding windows/);
+    expect(() => prepareSeries(table(400), 's.csv', { ...options, examples: 'sliding', transform: 'log-returns' })).toThrowError(/^Invalid option at --transform: expected --examples streams/);
+    expect(() => prepareSeries(table(400), 's.csv', { ...options, examples: 'sliding', lookback: 4 })).toThrowError(/^Invalid option at --lookback: expected --examples streams/);
+  });
+});
