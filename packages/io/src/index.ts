@@ -50,6 +50,6 @@ export { readStepTable } from './data/steps.js';
 export type { Series, SeriesOptions } from './data/series.js';
 export { buildVocabulary, readSeries } from './data/series.js';
 export type { ChosenSettings, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './data/prepare-series.js';
-export { SLIDING_ROWS, TRANSFORMS, prepareSeries } from './data/prepare-series.js';
+export { SLIDING_ROWS, prepareSeries } from './data/prepare-series.js';
 export type { SeriesParts } from './data/series-checks.js';
 export { seriesParts } from './data/series-checks.js';

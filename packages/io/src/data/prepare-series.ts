@@ -65,6 +65,7 @@ export interface WindowExample {
 
 /** The examples of sliding windows. */
 export interface SeriesWindows {
+  /** Sliding windows. */
   readonly kind: 'windows';
   /** Training windows (to shuffle). */
   readonly train: readonly WindowExample[];
@@ -80,27 +81,45 @@ export interface SeriesWindows {
 
 /** The examples of long streams: the series normalised, row-major, read by the caller in three readings. */
 export interface SeriesStreams {
+  /** Long streams. */
   readonly kind: 'streams';
   /** Every row's inputs, normalised per column, row-major. */
   readonly values: readonly number[];
   /** Numbers per row. */
   readonly features: number;
   /** The targets: input columns forecast `horizon` rows on, or explicit per-row values (a transform's changes). */
-  readonly targets: { readonly columns: readonly number[] } | { readonly values: readonly number[]; readonly width: number };
+  readonly targets: {
+    /** Indexes into a row of the columns forecast. */
+    readonly columns: readonly number[];
+  } | {
+    /** Per row, `width` target numbers, row-major. */
+    readonly values: readonly number[];
+    /** Targets per row. */
+    readonly width: number;
+  };
+  /** Rows ahead of each target. */
   readonly horizon: number;
   /** Rows [0, trainEnd) train; [trainEnd, testStart) validate; [testStart, rows) test. */
   readonly trainEnd: number;
+  /** The first test row. */
   readonly testStart: number;
+  /** Rows in the series. */
   readonly rows: number;
+  /** Steps per truncated-backpropagation window. */
   readonly window: number;
+  /** Steps back-propagated before each window. */
   readonly lookback: number;
+  /** Parallel streams. */
   readonly streams: number;
 }
 
 /** The settings a preparation chose from the data (for settings not given), and why, for the first line. */
 export interface ChosenSettings {
+  /** Passes over the training examples (at most: see patience). */
   readonly epochs?: number;
+  /** Validations without improvement before stopping. */
   readonly patience?: number;
+  /** Hidden units per layer. */
   readonly hidden?: number;
   /** In words, for the first line of output. */
   readonly said: string;
@@ -134,7 +153,7 @@ export interface PreparedSeries {
 export const SLIDING_ROWS = 10_000;
 
 /** A target transform and its inverse, from the level now (y) and the level ahead (ahead) or the change (change). */
-export const TRANSFORMS = {
+const TRANSFORMS = {
   differences: { forward: (ahead: number, y: number) => ahead - y, inverse: (change: number, y: number) => y + change },
   'log-returns': { forward: (ahead: number, y: number) => Math.log(ahead / y), inverse: (change: number, y: number) => y * Math.exp(change) },
 } as const;
