@@ -19,9 +19,9 @@ export class LossChart {
   }
 
   add(training: ChartPoint[], validation: ChartPoint[], gradientNorm: ChartPoint[]): void {
-    this.training.push(...training);
-    this.validation.push(...validation);
-    this.gradientNorm.push(...gradientNorm);
+    for (const p of training) this.training.push(p);
+    for (const p of validation) this.validation.push(p);
+    for (const p of gradientNorm) this.gradientNorm.push(p);
     this.draw();
   }
 
@@ -76,8 +76,8 @@ export function drawForecast(canvas: HTMLCanvasElement, actual: readonly number[
   context.strokeRect(pad, 8, width - 2 * pad, height - pad - 8);
   const all = [...actual, ...forecast].filter(Number.isFinite);
   if (all.length === 0) return;
-  const low = Math.min(...all);
-  const high = Math.max(...all);
+  const low = all.reduce((a, b) => Math.min(a, b), Infinity);
+  const high = all.reduce((a, b) => Math.max(a, b), -Infinity);
   const span = high - low || 1;
   const x = (i: number) => pad + ((width - 2 * pad) * i) / Math.max(1, actual.length - 1);
   const y = (v: number) => 8 + (height - pad - 8) * (1 - (v - low) / span);

@@ -10,7 +10,7 @@
  * Why one file of this length: the three tasks' preparations (forecast, text, classify) produce one shape (Prepared,
  * HeldOutReport) and share their held-out splits; side by side they stay alike.
  */
-import { Random, fail } from '@weft/core';
+import { Random, fail, indexOfLargest } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { DataSource, LabelledSequence } from '@weft/optim';
@@ -288,7 +288,7 @@ function classificationData(
   // The majority class of the training sequences, and a logistic regression on summary features with its penalty
   // chosen on the validation sequences, both scored on the test sequences.
   const trainCounts = labels.map((_, k) => trainSet.filter((q) => q.label === k).length);
-  const majorityClass = trainCounts.indexOf(Math.max(...trainCounts));
+  const majorityClass = indexOfLargest(trainCounts);
   const testLabels = labelsOf(testSet);
   const majority = classificationReport(testLabels, testLabels.map(() => majorityClass), labels.length);
   const vocabulary = shape.input.kind === 'embedding' ? shape.input.vocabulary : 0;

@@ -19,8 +19,8 @@ export function sparkline(values: readonly number[], width = 40): string {
     const slice = finite.slice(from, Math.max(to, from + 1));
     means.push(slice.reduce((s, v) => s + v, 0) / slice.length);
   }
-  const low = Math.min(...means);
-  const high = Math.max(...means);
+  const low = means.reduce((a, b) => Math.min(a, b), Infinity);
+  const high = means.reduce((a, b) => Math.max(a, b), -Infinity);
   return means.map((m) => bars[high === low ? 0 : Math.min(7, Math.floor(((m - low) / (high - low)) * 8))]).join('');
 }
 

@@ -10,7 +10,7 @@
  * A table read from standard input (`-`) is read line by line and each output row is written as soon as its input
  * row has arrived, so `tail -f readings.csv | weft run MODEL -` forecasts as readings come in.
  */
-import { fail } from '@weft/core';
+import { fail, indexOfLargest } from '@weft/core';
 import { isEncoderDecoder } from '@weft/cells';
 import { createReadStream, existsSync, readFileSync } from 'node:fs';
 import { createInterface } from 'node:readline';
@@ -147,7 +147,7 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
       const first = rowAtLine.get(result.line);
       const record: OutputRecord = { [String(meta.idColumn)]: result.id };
       kept.forEach((c) => (record[table.header[c]] = first?.fields[c] ?? ''));
-      record.predicted = classes[result.probabilities.indexOf(Math.max(...result.probabilities))];
+      record.predicted = classes[indexOfLargest(result.probabilities)];
       classes.forEach((c, k) => (record[`p(${c})`] = Number(result.probabilities[k].toPrecision(4))));
       output.add(record);
     }
@@ -174,7 +174,7 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
     pieces.forEach((piece, p) => {
       token[0] = ids[p];
       const probabilities = softmax(streams.step(token));
-      const best = probabilities.indexOf(Math.max(...probabilities));
+      const best = indexOfLargest(probabilities);
       const actual = p + 1 < pieces.length ? ids[p + 1] : -1;
       output.add({ position: p + 1, token: piece, 'most likely next': translator.tokenText(best), probability: Number(probabilities[best].toPrecision(4)), 'probability of actual next': actual < 0 ? '' : Number(probabilities[actual].toPrecision(4)) });
     });
@@ -215,7 +215,7 @@ function classifier(runtime: Runtime, meta: Record<string, unknown>, name: strin
         });
     const out = runtime.run(values, items.length, 1);
     const probabilities = softmax(out.subarray((items.length - 1) * classes.length, items.length * classes.length));
-    const best = probabilities.indexOf(Math.max(...probabilities));
+    const best = indexOfLargest(probabilities);
     const record: OutputRecord = { row };
     kept.forEach((c) => (record[table.header[c]] = r.fields[c]));
     record.predicted = classes[best];

@@ -12,7 +12,7 @@
  * `--format json` for scripts.
  */
 import { existsSync, readFileSync } from 'node:fs';
-import { Random, fail, logSumExp } from '@weft/core';
+import { Random, fail, indexOfLargest, logSumExp } from '@weft/core';
 import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastWords, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
 import type { Table, WeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
@@ -220,7 +220,7 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
   // The baselines learn from the sequences not scored: the majority class, and the logistic regression with its
   // penalty chosen on every fifth of them.
   const counts = classes.map((_, k) => fit.filter((q) => q.actual === k).length);
-  const majorityClass = counts.indexOf(Math.max(...counts));
+  const majorityClass = indexOfLargest(counts);
   const learn = fit.filter((_, i) => i % 5 !== 4 || fit.length < 5);
   const check = fit.length < 5 ? fit : fit.filter((_, i) => i % 5 === 4);
   const logistic = chooseLogistic(learn.map((q) => q.features), learn.map((q) => q.actual), check.map((q) => q.features), check.map((q) => q.actual), classes.length);

@@ -15,7 +15,7 @@ import { startTrainingThreads } from '@weft/optim/node';
 import type { ThreadGroup } from '@weft/optim';
 import type { TrainableModel, TrainingEvent, TrainingSummary } from '@weft/optim';
 import { SLIDING_ROWS, detectDelimiter, sha256Hex } from '@weft/io';
-import { loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
+import { checkWritable, loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { prepareClassification, prepareForecast, prepareText } from './datasets.js';
@@ -134,6 +134,13 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   if (args.positional.length > 1) throw new CommandError(`weft train takes one data file, got ${args.positional.length}: ${args.positional.join(' ')}`, 2);
   const backend = chooseBackend(args);
   const text = readData(dataPath);
+  // Where the files go, checked before any training: a folder that is missing or refuses files fails now, not
+  // after the run.
+  const out = resolve(args.flags.get('out') ?? `${basename(dataPath, extname(dataPath))}.weft.json`);
+  const checkpoint = resolve(args.flags.get('checkpoint') ?? out.replace(/\.json$/i, '') + '.checkpoint.json');
+  const curve = checkpoint.replace(/\.json$/i, '') + '.loss.svg';
+  const resultsFile = args.flags.get('results');
+  for (const path of [out, checkpoint, ...(resultsFile === undefined ? [] : [resolve(resultsFile)])]) checkWritable(path);
   const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify', 'pairs'] as const, args.flags.has('id-column') ? 'classify' : guessTask(dataPath, text));
   const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
   let hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
@@ -220,9 +227,6 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const description: AnyModelDescription = prepared.task === 'pairs'
     ? pairsDescription({ cell, hidden, layers: layerCount, bidirectional: args.switches.has('bidirectional'), dropout, embedding: options.embedding, attention: attention === 'none' ? null : attention, reverseSource: args.switches.has('reverse-source'), sourceVocabulary: prepared.sourceVocabulary.length, targetVocabulary: prepared.targetVocabulary.length })
     : { input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } } satisfies ModelDescription;
-  const out = resolve(args.flags.get('out') ?? `${basename(dataPath, extname(dataPath))}.weft.json`);
-  const checkpoint = resolve(args.flags.get('checkpoint') ?? out.replace(/\.json$/i, '') + '.checkpoint.json');
-  const curve = checkpoint.replace(/\.json$/i, '') + '.loss.svg';
   const dataDigest = await sha256Hex(new TextEncoder().encode(text));
   const store = choiceFlag(args, 'store', ['f32', 'f16', 'i8'] as const, 'f32');
   const every = numberFlag(args, 'checkpoint-every', 200, { whole: true, min: 1 });
@@ -311,7 +315,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   };
   process.on('SIGINT', onInterrupt);
   const kind = task === 'pairs' ? `encoder-decoder (${attention === 'none' ? 'no' : attention} attention)` : `${task} model`;
-  info(`training a ${cell.toUpperCase()} ${kind} (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend, ${workerCount > 1 ? `${workerCount} threads` : 'this thread'}`);
+  info(`training ${cell === 'lstm' ? 'an LSTM' : cell === 'gru' ? 'a GRU' : 'a plain recurrent'} ${kind} (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend, ${workerCount > 1 ? `${workerCount} threads` : 'this thread'}`);
   let summary: TrainingSummary;
   try {
     summary = await trainer.run();

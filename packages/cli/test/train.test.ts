@@ -73,7 +73,7 @@ describe('weft train', () => {
     const two = weft([...common.filter((a) => a !== '--quiet'), '--workers', '2', '--out', 'two.weft.json']);
     const one = weft([...common, '--workers', '1', '--out', 'one.weft.json']);
     expect([two.code, one.code]).toEqual([0, 0]);
-    expect(two.out).toMatch(/^training a LSTM text model .* webassembly backend, 2 threads$|^training a LSTM text model .* javascript backend, 2 threads$/m);
+    expect(two.out).toMatch(/^training an LSTM text model .* webassembly backend, 2 threads$|^training an LSTM text model .* javascript backend, 2 threads$/m);
     const tensors = (name: string) => (JSON.parse(readFileSync(join(folder, name), 'utf8')) as { tensors: unknown }).tensors;
     expect(tensors('two.weft.json')).toEqual(tensors('one.weft.json'));
     expectOneLineError(weft([...common, '--workers', '0']), 2, /^weft: --workers must be a whole number from 1 to 256, got "0"$/);

@@ -17,7 +17,8 @@ export type ProblemCode =
   | 'backend_unavailable'
   | 'backend_memory'
   | 'digest_failed'
-  | 'worker_failed';
+  | 'worker_failed'
+  | 'write_failed';
 
 /** One thing wrong with an input, as data: what kind, where, what was expected and what arrived. */
 export interface Problem {
@@ -47,6 +48,7 @@ const codeWords: Record<ProblemCode, string> = {
   backend_memory: 'Backend memory exhausted',
   digest_failed: 'Digest failed',
   worker_failed: 'Training thread failed',
+  write_failed: 'Could not save',
 };
 
 /** Words one problem: "Shape mismatch at matmul.b: expected [3, 4], received [5, 4]". */

@@ -39,7 +39,7 @@ export { meanSquaredError, crossEntropyAtTargets } from './ops/losses.js';
 export type { DirectionalGradientCheck, GradientCheckOptions, GradientReport, TensorGradientCheck } from './gradient-check.js';
 export { checkGradients } from './gradient-check.js';
 export * as kernels from './kernels/index.js';
-export { logSumExp } from './kernels/softmax.js';
+export { indexOfLargest, logSumExp } from './kernels/softmax.js';
 export { requireBackend } from './ops/checks.js';
 export type { Backend, BackendName, KernelName, KernelTable, WebAssemblyBackendOptions } from './backend/index.js';
 export {

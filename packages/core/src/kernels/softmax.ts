@@ -22,6 +22,16 @@ export function logSumExp(row: ArrayLike<number>, offset: number, width: number)
 }
 
 /**
+ * The index of the largest entry (the first of equals; -1 for none, NaN entries never chosen), by a loop: a spread
+ * into Math.max overflows the call stack on large arrays (a 150,000-word vocabulary).
+ */
+export function indexOfLargest(values: ArrayLike<number>): number {
+  let best = -1;
+  for (let i = 0; i < values.length; i++) if (best < 0 ? !Number.isNaN(values[i]) : values[i] > values[best]) best = i;
+  return best;
+}
+
+/**
  * Writes each row's loss into `losses` and its softmax probabilities into `probabilities` (see above); returns
  * `losses`.
  */

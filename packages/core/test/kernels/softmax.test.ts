@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { kernels } from '@weft/core';
+import { indexOfLargest, kernels } from '@weft/core';
 
 describe('softmax cross-entropy kernel', () => {
   it('stays finite at logits ±1000 and equals the log-sum-exp identity', () => {
@@ -53,5 +53,18 @@ describe('log-sum-exp', () => {
     const rows = Float32Array.of(1, 2, 3, 100, 100, 100);
     expect(kernels.logSumExp(rows, 0, 3)).toBe(3 + Math.log(Math.exp(-2) + Math.exp(-1) + 1));
     expect(kernels.logSumExp(rows, 3, 3)).toBe(100 + Math.log(3));
+  });
+});
+
+describe('the index of the largest entry', () => {
+  it('is the first of equals, skips NaN, and takes arrays far longer than a call\'s argument limit (a 150,000-word vocabulary)', () => {
+    expect(indexOfLargest([3, 7, 7, -1])).toBe(1);
+    expect(indexOfLargest([NaN, 2, NaN, 5])).toBe(3);
+    expect(indexOfLargest([])).toBe(-1);
+    const long = new Float32Array(1_000_000);
+    long[765_432] = 1;
+    // Math.max(...long) throws RangeError (Maximum call stack size exceeded) on such an array in V8.
+    expect(() => Math.max(...long)).toThrowError(RangeError);
+    expect(indexOfLargest(long)).toBe(765_432);
   });
 });

@@ -47,19 +47,39 @@ function removeLeftovers(path: string): void {
   }
 }
 
+/** The operating system's words for a failed write, by error code. */
+function writeProblem(error: unknown): string {
+  const code = (error as NodeJS.ErrnoException).code;
+  if (code === 'ENOSPC') return 'no space left on the device';
+  if (code === 'EDQUOT') return 'the disk quota is used up';
+  if (code === 'ENOENT') return 'the folder does not exist';
+  if (code === 'EACCES' || code === 'EPERM') return 'no permission to write there';
+  if (code === 'EROFS') return 'a read-only file system';
+  if (code === 'EISDIR') return 'a folder of that name';
+  return (error as Error).message ?? String(error);
+}
+
 /**
- * Writes `text` (or bytes) to `path` atomically (temporary file in the same folder, flush, rename). The temporary
- * name holds the process id and a random part, so two saves never share one; leftovers of killed saves are removed
- * first.
+ * Writes `text` (or bytes) to `path` atomically: a temporary file in the same folder, every byte written (a short
+ * write goes on where it stopped; a write that makes no progress is a failure), flushed to the disk, renamed over
+ * the target, and the folder flushed so the rename survives a crash. On any failure the target is as it was, the
+ * temporary file is removed, and the error names `path` and the reason (no space left, no permission, …). The
+ * temporary name holds the process id and a random part, so two saves never share one; leftovers of killed saves
+ * are removed first. `write` stands in for the system's write in tests (it returns the bytes written).
  */
-export function writeFileAtomic(path: string, text: string | Uint8Array): void {
+export function writeFileAtomic(path: string, text: string | Uint8Array, write: (descriptor: number, bytes: Uint8Array, offset: number, length: number) => number = writeSync): void {
   removeLeftovers(path);
-  const temporary = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(8).toString('hex')}.tmp`);
+  const folder = dirname(path);
+  const temporary = join(folder, `.${basename(path)}.${process.pid}.${randomBytes(8).toString('hex')}.tmp`);
+  const bytes = typeof text === 'string' ? new TextEncoder().encode(text) : text;
   let descriptor: number | null = null;
   try {
     descriptor = openSync(temporary, 'w');
-    if (typeof text === 'string') writeSync(descriptor, text);
-    else writeSync(descriptor, text, 0, text.length);
+    for (let done = 0; done < bytes.length;) {
+      const written = write(descriptor, bytes, done, bytes.length - done);
+      if (!(written > 0)) fail('write_failed', path, `all ${bytes.length} bytes written`, `${done} (the disk took no more: is it full?)`);
+      done += written;
+    }
     fsyncSync(descriptor);
     closeSync(descriptor);
     descriptor = null;
@@ -67,7 +87,35 @@ export function writeFileAtomic(path: string, text: string | Uint8Array): void {
   } catch (error) {
     if (descriptor !== null) closeSync(descriptor);
     rmSync(temporary, { force: true });
-    throw error;
+    if (error instanceof WeftError) throw error;
+    fail('write_failed', path, `a file written in full (${bytes.length} bytes)`, writeProblem(error));
+  }
+  // The rename is durable once the folder's entry is on the disk (not every platform can flush a folder).
+  try {
+    const handle = openSync(folder, 'r');
+    try {
+      fsyncSync(handle);
+    } finally {
+      closeSync(handle);
+    }
+  } catch {
+    // Windows and some file systems refuse to open or flush a folder; the file itself is flushed.
+  }
+}
+
+/**
+ * Checks before a long run that `path` can be saved: its folder exists and takes a file (a small probe written and
+ * removed). Throws the error a save would (Could not save at PATH: …), before any work is lost.
+ */
+export function checkWritable(path: string): void {
+  const probe = join(dirname(path), `.${basename(path)}.${process.pid}.${randomBytes(8).toString('hex')}.probe`);
+  try {
+    const handle = openSync(probe, 'wx');
+    closeSync(handle);
+  } catch (error) {
+    fail('write_failed', path, 'a folder that exists and takes files', writeProblem(error));
+  } finally {
+    rmSync(probe, { force: true });
   }
 }
 

@@ -119,7 +119,12 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
   });
   const consumers = new Map<string, number[]>();
   graph.nodes.forEach((node, index) => {
-    for (const input of node.inputs) if (input !== '') consumers.set(input, [...(consumers.get(input) ?? []), index]);
+    for (const input of node.inputs) {
+      if (input === '') continue;
+      const list = consumers.get(input);
+      if (list === undefined) consumers.set(input, [index]);
+      else list.push(index);
+    }
   });
   const constant = (node: OnnxNode, index: number, slot: number, what: string): OnnxTensor => {
     const name = node.inputs[slot];
@@ -136,6 +141,8 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
     const list = consumers.get(value) ?? [];
     if (list.length === 0) return null;
     if (list.length > 1) fail('invalid_option', `${from} output "${value}"`, 'one node reading it (weft reads a chain of layers)', `${list.length} nodes: ${list.map((i) => nodeLabel(graph.nodes[i], i)).join(', ')}`);
+    // A node met twice on the walk closes a cycle (an output fed back into the chain): refused, never followed.
+    if (used.has(list[0])) fail('invalid_option', `${from} output "${value}"`, 'a graph without cycles (each node met once on the way from the input to the outputs)', `read again by ${nodeLabel(graph.nodes[list[0]], list[0])}, met before`);
     return [graph.nodes[list[0]], list[0]];
   };
 

@@ -156,13 +156,17 @@ export class Runtime {
    * cell's slots in order, [batch, hidden] each).
    */
   run(input: Float32Array | Int32Array | readonly number[], steps: number, batch: number, lengths: Int32Array | readonly number[] | null = null, finalState?: Float32Array[]): Float32Array {
-    const rowsLengths = lengths === null ? null : Int32Array.from(lengths);
-    if (rowsLengths !== null) {
-      if (rowsLengths.length !== batch) fail('shape_mismatch', 'Runtime.run.lengths', `${batch} lengths`, `${rowsLengths.length}`);
-      rowsLengths.forEach((l, b) => {
-        if (!(l >= 0 && l <= steps)) fail('invalid_argument', `Runtime.run.lengths[${b}]`, `a whole number in [0, ${steps}]`, String(l));
-      });
+    if (!(Number.isInteger(steps) && steps >= 0)) fail('invalid_argument', 'Runtime.run.steps', 'a whole number ≥ 0', String(steps));
+    if (!(Number.isInteger(batch) && batch >= 1)) fail('invalid_argument', 'Runtime.run.batch', 'a whole number ≥ 1', String(batch));
+    if (lengths !== null) {
+      // Checked before conversion: Int32Array.from would turn NaN into 0 and 2.5 into 2 without a word.
+      if (lengths.length !== batch) fail('shape_mismatch', 'Runtime.run.lengths', `${batch} lengths`, `${lengths.length}`);
+      for (let b = 0; b < lengths.length; b++) {
+        const l = lengths[b];
+        if (!(Number.isInteger(l) && l >= 0 && l <= steps)) fail('invalid_argument', `Runtime.run.lengths[${b}]`, `a whole number in [0, ${steps}]`, String(l));
+      }
     }
+    const rowsLengths = lengths === null ? null : Int32Array.from(lengths);
     // Every buffer of a whole run comes from the backend's memory and goes back to it at the end; the result is
     // copied out into an ordinary array the caller keeps.
     const made: Float32Array[] = [];
@@ -212,6 +216,8 @@ export class Runtime {
       return out;
     }
     if (input.length !== positions * this.inputWidth) fail('shape_mismatch', where, `${positions * this.inputWidth} numbers (${positions} × ${this.inputWidth})`, `${input.length}`);
+    // A NaN or infinity would poison a stream's state for good: refused at the boundary, naming its place.
+    for (let i = 0; i < input.length; i++) if (!Number.isFinite(input[i])) fail('not_finite', `${where}[${i}]`, 'a finite number', String(input[i]));
     if (into !== undefined) {
       for (let i = 0; i < input.length; i++) into[i] = input[i];
       return into;
@@ -274,6 +280,7 @@ export class Streams {
   private readonly buffers: LayerBuffers[];
   private readonly first: Float32Array;
   private readonly output: Float32Array;
+  private closed = false;
 
   constructor(runtime: Runtime, count: number) {
     this.runtime = runtime;
@@ -294,7 +301,10 @@ export class Streams {
    * the next step.
    */
   step(input: Float32Array | Int32Array | readonly number[], into?: Float32Array): Float32Array {
+    this.open('step');
     const runtime = this.runtime;
+    // Every check before any state changes: a step that throws leaves every stream as it was.
+    if (into !== undefined && into.length !== this.count * runtime.outputWidth) fail('shape_mismatch', 'Streams.step.into', `${this.count * runtime.outputWidth} numbers`, `${into.length}`);
     runtime.embed(input, this.count, 'Streams.step.input', this.first);
     const layers = runtime.layerList();
     let x = this.first;
@@ -303,7 +313,6 @@ export class Streams {
       layers[i].forward.step(x, this.buffers[i], this.count, null, 0);
       x = this.buffers[i].state[0];
     }
-    if (into !== undefined && into.length !== this.count * runtime.outputWidth) fail('shape_mismatch', 'Streams.step.into', `${this.count * runtime.outputWidth} numbers`, `${into.length}`);
     runtime.readout(x, this.count, this.output, null, this.count);
     if (into === undefined) return this.output;
     into.set(this.output);
@@ -312,6 +321,8 @@ export class Streams {
 
   /** Sets one stream's state (or every stream's) back to zero. */
   reset(stream?: number): void {
+    this.open('reset');
+    if (stream !== undefined && !(Number.isInteger(stream) && stream >= 0 && stream < this.count)) fail('invalid_argument', 'Streams.reset.stream', `a stream number in [0, ${this.count})`, String(stream));
     for (const layer of this.buffers) {
       for (const slot of layer.state) {
         const width = slot.length / this.count;
@@ -323,7 +334,9 @@ export class Streams {
 
   /** Every stream's state, slot after slot (`Runtime.stateWidths()` order), [count, width] each, into one array. */
   readState(into?: Float32Array): Float32Array {
+    this.open('readState');
     const total = this.buffers.reduce((n, l) => n + l.state.reduce((m, s) => m + s.length, 0), 0);
+    if (into !== undefined && into.length !== total) fail('shape_mismatch', 'Streams.readState.into', `${total} numbers`, `${into.length}`);
     const out = into ?? new Float32Array(total);
     let offset = 0;
     for (const layer of this.buffers) {
@@ -337,9 +350,12 @@ export class Streams {
 
   /**
    * Gives the streams' buffers back to the runtime's backend (on WebAssembly they are blocks of its memory, which
-   * are reused by later streams). The streams must not be stepped afterwards.
+   * are reused by later streams). Every later call but `close` is refused; closing again does nothing (the blocks
+   * are given back once).
    */
   close(): void {
+    if (this.closed) return;
+    this.closed = true;
     for (const layer of this.buffers) {
       for (const array of layer.state) this.runtime.backend.release(array);
       for (const array of layer.work) this.runtime.backend.release(array);
@@ -348,12 +364,20 @@ export class Streams {
     this.runtime.backend.release(this.output);
   }
 
+  /** Refuses a call on closed streams (their blocks may already hold other streams' state). */
+  private open(call: string): void {
+    if (this.closed) fail('invalid_argument', `Streams.${call}`, 'open streams', 'streams closed by close() (make new ones with runtime.streams())');
+  }
+
   /**
    * Puts back every layer's state from `state` (the layout `readState` gives), to continue streams from a saved point.
    */
   restoreState(state: Float32Array): void {
+    this.open('restoreState');
     const total = this.buffers.reduce((n, l) => n + l.state.reduce((m, s) => m + s.length, 0), 0);
     if (state.length !== total) fail('shape_mismatch', 'Streams.restoreState', `${total} numbers`, `${state.length}`);
+    const bad = state.findIndex((v) => !Number.isFinite(v));
+    if (bad >= 0) fail('not_finite', `Streams.restoreState[${bad}]`, 'a finite number', String(state[bad]));
     let offset = 0;
     for (const layer of this.buffers) {
       for (const slot of layer.state) {

@@ -85,6 +85,21 @@ describe('ONNX models weft does not run', () => {
     const branch = { ...model, graph: { ...model.graph, nodes: [...model.graph.nodes, { name: 'a', opType: 'Identity', domain: '', inputs: ['Y'], outputs: ['A'] }, { name: 'b', opType: 'Identity', domain: '', inputs: ['Y'], outputs: ['B'] }].map((n) => ({ attributes: [], ...n })) } };
     expect(refused(branch)).toThrowError(/^Invalid option at node 0 "lstm" \(LSTM\) output "Y": expected one node reading it \(weft reads a chain of layers\), received 2 nodes/);
   });
+
+  it('a cycle, refused at once instead of followed forever: an Identity fed its own output, a node renamed onto its input, two nodes in a ring', () => {
+    const withNodes = (extra: { name: string; opType: string; inputs: string[]; outputs: string[] }[], yName = 'Y') => {
+      const model = smallModel((n) => ({ ...n, outputs: [yName, 'Y_h'] }));
+      return { ...model, graph: { ...model.graph, nodes: [...model.graph.nodes, ...extra.map((n) => ({ domain: '', attributes: [], ...n }))] } };
+    };
+    const cycles = [
+      // Y → Identity → Y' where the Identity also reads what it writes.
+      withNodes([{ name: 'self', opType: 'Identity', inputs: ['Y'], outputs: ['Z'] }, { name: 'loop', opType: 'Identity', inputs: ['Z'], outputs: ['Z'] }]),
+      // Two glue nodes that feed each other.
+      withNodes([{ name: 'a', opType: 'Identity', inputs: ['Y'], outputs: ['A'] }, { name: 'b', opType: 'Identity', inputs: ['A'], outputs: ['Y2'] }, { name: 'c', opType: 'Identity', inputs: ['Y2'], outputs: ['A2'] }, { name: 'd', opType: 'Identity', inputs: ['A2'], outputs: ['Y2'] }]),
+    ];
+    expect(refused(cycles[0])).toThrowError(/^Invalid option at node 0 "lstm" \(LSTM\) output "Z": expected a graph without cycles \(each node met once on the way from the input to the outputs\), received read again by node 2 "loop" \(Identity\), met before$/);
+    expect(refused(cycles[1])).toThrowError(/output "Y2": expected a graph without cycles .*, received read again by node 3 "c" \(Identity\), met before$/);
+  });
 });
 
 describe('ONNX readouts', () => {

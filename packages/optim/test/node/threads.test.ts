@@ -117,9 +117,8 @@ describe('training on worker threads', () => {
     const data = streamBatches({ kind: 'tokens', tokens, vocabulary: 12 }, { streams: 12, window: 6 });
     const m = model('gru');
     const threads = await startTrainingThreads({ count: 2, model: m });
-    const started = Date.now();
+    // A hang would outlast the test's time limit (30 s) and fail it; the run's duration is not asserted.
     const error = await new Trainer(options(m, threads, data)).run().then(() => null, (e: unknown) => e);
-    expect(Date.now() - started).toBeLessThan(10_000);
     expect(error).toBeInstanceOf(WeftError);
     expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, step 5: expected its shards' gradients, received it threw: Invalid argument at model\.input\.tokens\[\d+\]: expected an id in \[0, 11\), received 11 \(every thread was ended; the last checkpoint is as it was written\)$/);
     expect(await threadsAlive(threads)).toBe(0);
@@ -143,9 +142,8 @@ describe('training on worker threads', () => {
         if (t.stepsTaken === 5) await saveCheckpoint(path, t, m);
       },
     });
-    const started = Date.now();
+    // A thread that never answers is given up after answerWithinMs; a hang would outlast the test's time limit.
     const error = await trainer.run().then(() => null, (e: unknown) => e);
-    expect(Date.now() - started).toBeLessThan(10_000);
     expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, (step [67]|after step 6): expected its shards' gradients, received it exited \(code \d+\)/);
     expect(await threadsAlive(threads)).toBe(0);
     const saved = await loadCheckpoint(path);
