@@ -1,7 +1,7 @@
 /**
  * A small, plain f64 implementation of the ONNX LSTM, GRU and RNN operators, written directly from the
  * equations of the ONNX operator specification (docs/Operators.md, opset 22; restated in
- * ../shared/reference/onnx/README.md), in ONNX's own weight layout: one direction, W [gates·H][I], R [gates·H][H]
+ * tests/fixtures/onnx/README.md), in ONNX's own weight layout: one direction, W [gates·H][I], R [gates·H][H]
  * as nested arrays, B = [Wb | Rb], P (LSTM) = [Pi | Po | Pf]. Gate orders: LSTM i, o, f, c; GRU z, r, h.
  *
  * Nothing from weft is used here, so it can serve as the outside reference for our cells. Ragged rows follow

@@ -1,6 +1,6 @@
 /**
  * ONNX conformance. Source: the ONNX operator specification (LSTM, GRU, RNN, opset 22) and its backend test
- * data (onnx/backend/test/data/node, copied with decoded case.json files into ../shared/reference/onnx; see the
+ * data (onnx/backend/test/data/node, copied with decoded case.json files into tests/fixtures/onnx; see the
  * README there). Every case is loaded into our cells through the documented mapping (onnx-mapping.ts) and must
  * reproduce its stored outputs within 1e-5 absolute in f32. The stored outputs are float32, so in f64 they bound
  * us only to their own precision (about 5e-8); the 1e-9 f64 check is against the f64 implementation of the specification's
@@ -22,7 +22,7 @@ import { loadGru, loadLstm, loadPlain } from './onnx-mapping.js';
 import { specGru, specLstm, specRnn } from './onnx-equations.js';
 import type { Matrix, SpecInputs, SpecOutputs } from './onnx-equations.js';
 
-const folder = fileURLToPath(new URL('../../../../shared/reference/onnx/', import.meta.url));
+const folder = fileURLToPath(new URL('../../../tests/fixtures/onnx/', import.meta.url));
 
 interface StoredTensor {
   readonly dims: number[];
@@ -152,7 +152,7 @@ function maxGap(a: ArrayLike<number>, b: ArrayLike<number>): number {
 }
 
 describe('ONNX backend test vectors', () => {
-  it('are present (../shared/reference/onnx has 12 cases)', () => {
+  it('are present (tests/fixtures/onnx has 12 cases)', () => {
     expect(cases.map((c) => c.case)).toHaveLength(12);
   });
 

@@ -1,6 +1,6 @@
 /**
  * `weft convert` and `weft inspect` on ONNX files: a weight file to ONNX and back keeps its weights bit for bit; an
- * ONNX operator test model (ONNX backend test data, ../shared/reference/onnx) converts with its weights given by
+ * ONNX operator test model (ONNX backend test data, tests/fixtures/onnx) converts with its weights given by
  * --values; inspect shows an ONNX file's graph and what importing it gives, or why not.
  */
 import { copyFileSync, readFileSync, writeFileSync } from 'node:fs';
@@ -13,7 +13,7 @@ import { commandFolder, expectOneLineError } from './command.js';
 import { isWeightFileText } from '../src/convert.js';
 
 const { folder, weft } = commandFolder('weft-convert-');
-const reference = fileURLToPath(new URL('../../../../shared/reference/onnx/test_lstm_defaults/', import.meta.url));
+const reference = fileURLToPath(new URL('../../../tests/fixtures/onnx/test_lstm_defaults/', import.meta.url));
 
 describe('weft convert', () => {
   it('turns a weight file into ONNX and back with every weight the same, and says what it wrote', async () => {

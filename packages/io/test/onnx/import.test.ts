@@ -1,6 +1,6 @@
 /**
  * ONNX models in: the operator test models of the ONNX backend test data (onnx/backend/test/data/node, Apache 2.0,
- * copied to ../shared/reference/onnx with their stored inputs and outputs) import and, run by weft in f32 on the
+ * copied to tests/fixtures/onnx with their stored inputs and outputs) import and, run by weft in f32 on the
  * stored inputs, reproduce the stored outputs within 1e-5. Their weights are graph inputs there, given here as values.
  */
 import { existsSync, readFileSync, readdirSync } from 'node:fs';
@@ -13,7 +13,7 @@ import type { OnnxTensor } from '@weft/io/onnx';
 import { runAsOnnx } from './run.js';
 import { smallModel } from './refusals.js';
 
-const folder = fileURLToPath(new URL('../../../../../shared/reference/onnx/', import.meta.url));
+const folder = fileURLToPath(new URL('../../../../tests/fixtures/onnx/', import.meta.url));
 const cases = existsSync(folder) ? readdirSync(folder).filter((name) => name.startsWith('test_')).sort() : [];
 
 interface CaseFile {

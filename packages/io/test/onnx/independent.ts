@@ -1,12 +1,12 @@
 /**
  * The independent route: ONNX files decoded by protobufjs (a general-purpose protocol-buffer library) with ONNX's
- * published schema, ../shared/reference/onnx/onnx.proto (Apache 2.0), so our decoder and encoder are checked against
+ * published schema, tests/fixtures/onnx/onnx.proto (Apache 2.0), so our decoder and encoder are checked against
  * something that shares no code with them.
  */
 import { fileURLToPath } from 'node:url';
 import protobuf from 'protobufjs';
 
-const schema = fileURLToPath(new URL('../../../../../shared/reference/onnx/onnx.proto', import.meta.url));
+const schema = fileURLToPath(new URL('../../../../tests/fixtures/onnx/onnx.proto', import.meta.url));
 const root = protobuf.loadSync(schema);
 
 /** A ModelProto (or TensorProto) as plain data: field names in protobufjs's camelCase, int64 as numbers, bytes as arrays. */

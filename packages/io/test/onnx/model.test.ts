@@ -1,5 +1,5 @@
 /**
- * ONNX messages: every model and tensor file of the ONNX backend test data (../shared/reference/onnx) decoded by our
+ * ONNX messages: every model and tensor file of the ONNX backend test data (tests/fixtures/onnx) decoded by our
  * reader and by protobufjs with ONNX's published schema gives the same nodes, attributes, graph inputs and tensors;
  * what we write decodes back to what we wrote; tensors that claim too much, or live outside the file, are refused
  * before anything is allocated.
@@ -12,7 +12,7 @@ import { decodeOnnxModel, decodeOnnxTensor, encodeOnnxModel } from '@weft/io/onn
 import { ProtoWriter } from '../../src/onnx/protobuf.js';
 import { decodeIndependently, floatsOfIndependent } from './independent.js';
 
-const folder = fileURLToPath(new URL('../../../../../shared/reference/onnx/', import.meta.url));
+const folder = fileURLToPath(new URL('../../../../tests/fixtures/onnx/', import.meta.url));
 const cases = existsSync(folder) ? readdirSync(folder).filter((name) => name.startsWith('test_')).sort() : [];
 
 interface Theirs {
