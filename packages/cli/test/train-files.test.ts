@@ -17,7 +17,8 @@ const demo = fileURLToPath(new URL('../demo/greenhouse.csv', import.meta.url));
 const folder = mkdtempSync(join(tmpdir(), 'weft-train-files-'));
 afterAll(() => rmSync(folder, { recursive: true, force: true }));
 
-const small = [demo, '--target', 'air_temperature_c', '--horizon', '4', '--hidden', '8', '--quiet'];
+// Streams: the first checkpoint comes at once (sliding windows would first try the plain model and the hybrid).
+const small = [demo, '--target', 'air_temperature_c', '--horizon', '4', '--hidden', '8', '--examples', 'streams', '--quiet'];
 
 function weft(args: string[]) {
   const result = spawnSync(process.execPath, [binary, ...args], { cwd: folder, encoding: 'utf8', timeout: 120_000 });
