@@ -50,6 +50,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'examples', value: 'sliding|streams', description: 'how a series becomes training examples: sliding windows (every training row ends one window of --window rows, read relative to its last row) or long streams cut into windows with carried state (forecast)', fallback: `sliding up to ${SLIDING_ROWS} training rows, else streams` },
   { name: 'ensemble', value: 'K', description: 'train K models from seeds <seed>, <seed>/2, … <seed>/K and forecast the median of their forecasts; the weight file holds all K, stacked into one model (forecast)', fallback: '1' },
   { name: 'hybrid', value: 'auto|yes|no', description: 'on top of exponential smoothing: the model reads the forecasts of the smoothing method best on the validation part and forecasts their correction; auto trains it and the plain model and keeps the one better on the validation part (forecast, sliding windows)', fallback: 'auto' },
+  { name: 'log', value: 'auto|yes|no', description: 'read the targets as logarithms (sliding windows): auto where every value is above 0 and the season\'s swing grows with the level (Holt-Winters fits the training rows better with a multiplicative season than an additive one); windows read relative to their last value already scale with the level', fallback: 'no' },
   { name: 'time-column', value: 'NAME', description: 'the column of times of a series (dates, date-times, year-months, year-quarters, years): gives the season\'s candidates', fallback: 'a column named like a time, or the first whose values are times' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
   { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3; 5 on sliding windows' },
@@ -157,6 +158,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     examples: args.flags.has('examples') ? choiceFlag(args, 'examples', ['sliding', 'streams'] as const, 'sliding') : undefined,
     given: new Set([...args.flags.keys(), ...args.switches]),
     hybrid: choiceFlag(args, 'hybrid', ['auto', 'yes', 'no'] as const, 'auto') === 'yes',
+    log: choiceFlag(args, 'log', ['auto', 'yes', 'no'] as const, 'no'),
     horizon: numberFlag(args, 'horizon', 1, { whole: true, min: 1, max: 100000 }),
     columns: args.flags.get('columns')?.split(',').map((s) => s.trim()),
     targets: args.flags.get('target')?.split(',').map((s) => s.trim()),
@@ -169,7 +171,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   };
   if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
   const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
-  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble']) {
+  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble', 'log']) {
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);

@@ -11,7 +11,8 @@
  *   forecasting", IJF 36, 2020, in a simpler form: the network sees the smoothing forecasts beside the values).
  * - A windowed model may forecast every row up to its horizon at once (metadata `rowsAhead: "all"`: one block of
  *   targets per row ahead, each with its own `targetDeviation`), and any model may be several members trained from
- *   different seeds (metadata `members`, stacked by `stackMembers`), whose forecasts are combined by their median.
+ *   different seeds (metadata `members`, stacked by `stackMembers`), whose forecasts are combined by their median;
+ *   and it may read some columns as logarithms (`window.log`), its forecasts of those coming back through exp.
  */
 import { fail } from '@weft/core';
 import { medianOfMembers } from '@weft/cells';
@@ -39,6 +40,8 @@ export interface ForecastWindow {
   readonly hybrid?: readonly SmoothingParameters[];
   /** Calendar positions read from the time column (metadata `timeColumn`), a sine and cosine each, last. */
   readonly calendar?: readonly CalendarPosition[];
+  /** Per column, true where its logarithm is read (and, for a target, forecast: the output comes back through exp). */
+  readonly log?: readonly boolean[];
 }
 
 /** A row's values by column name: numbers, text as read from a file, or (for the time column) a Date. */
@@ -98,6 +101,9 @@ export function forecastWindow(metadata: Readonly<Record<string, unknown>>, colu
     if (!Array.isArray(window.hybrid) || window.hybrid.length !== targets || !window.hybrid.every(sound)) {
       fail('bad_weight_file', 'metadata.window.hybrid', `${targets} smoothing records (method, season, alpha, beta, gamma, phi, level, trend, seasonal), one per target`, JSON.stringify(window.hybrid)?.slice(0, 80) ?? 'nothing');
     }
+  }
+  if (window.log !== undefined && !(Array.isArray(window.log) && window.log.length === columns && window.log.every((l) => typeof l === 'boolean'))) {
+    fail('bad_weight_file', 'metadata.window.log', `${columns} true or false (one per column)`, JSON.stringify(window.log)?.slice(0, 80) ?? 'nothing');
   }
   if (window.calendar !== undefined) {
     const known = ['month of year', 'quarter of year', 'week of year', 'day of week', 'day of year', 'time of day'];
@@ -219,6 +225,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   let seen = 0;
   const rowValues = new Float64Array(width);
   const bases = new Float64Array(targetCount * rowsAhead.length);
+  const logged = window.log ?? inputNames.map(() => false);
   const advance = (values: ArrayLike<number>, time: number, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
     checkOut(out);
     for (let j = 0; j < width; j++) {
@@ -227,7 +234,11 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     if (timeColumn !== null && !Number.isFinite(time)) fail('bad_data', `${where}.${timeColumn}`, `a time (milliseconds since 1970-01-01 UTC) for column ${JSON.stringify(timeColumn)}, last: the model reads where in the calendar each row falls`, String(time));
     const slot = seen % w;
     const at = slot * stride;
-    for (let j = 0; j < width; j++) ring[at + j] = values[j];
+    for (let j = 0; j < width; j++) {
+      const v = values[j];
+      if (logged[j] && !(v > 0)) fail('bad_data', `${where}.${inputNames[j]}`, 'a number > 0 (the model reads its logarithm)', String(v));
+      ring[at + j] = logged[j] ? Math.log(v) : v;
+    }
     // The hybrid's forecasts made at this row: the nearest row ahead kept with the row, every row ahead in `bases`.
     if (steppers !== null) {
       for (let k = 0; k < steppers.length; k++) {
@@ -251,7 +262,8 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     for (let s = 0; s < rowsAhead.length; s++) {
       for (let k = 0; k < targetCount; k++) {
         const base = steppers === null ? ring[at + targets[k]] : bases[k * rowsAhead.length + s];
-        out[s * targetCount + k] = base + combined[s * targetCount + k] * window.targetDeviation[s * targetCount + k];
+        const made = base + combined[s * targetCount + k] * window.targetDeviation[s * targetCount + k];
+        out[s * targetCount + k] = logged[targets[k]] ? Math.exp(made) : made;
       }
     }
     return true;

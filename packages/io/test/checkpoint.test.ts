@@ -129,7 +129,7 @@ describe('checkpoints', () => {
     // An atomic write replaces the whole file or nothing.
     writeFileAtomic(path, 'new text');
     expect(readFileSync(path, 'utf8')).toBe('new text');
-    expect(() => writeFileAtomic(join(folder, 'no-such-folder', 'x.json'), 'x')).toThrowError(/ENOENT/);
+    expect(() => writeFileAtomic(join(folder, 'no-such-folder', 'x.json'), 'x')).toThrowError(/^Could not save at .*no-such-folder\/x\.json: expected a file written in full \(1 bytes\), received the folder does not exist$/);
     expect(readdirSync(folder).filter((name) => name.endsWith('.tmp'))).toEqual([]);
   });
 

@@ -177,4 +177,20 @@ describe('forecasting row by row', () => {
     expect(control).toBeGreaterThan(0);
     expect(collections).toBe(0);
   });
+
+  it('reads a logged column\'s logarithm and sends its forecast back through exp, refusing a value not above 0', async () => {
+    const window = { rows: 3, deviation: [0.05, 2], targetDeviation: [0.02], log: [true, false] };
+    const forecaster = createRowForecaster(await runtimeOf(15), { ...base, window });
+    const runtime = await runtimeOf(15);
+    rows.forEach((row, t) => {
+      const made = forecaster.next(row);
+      if (t < 2) return expect(made).toBeNull();
+      const input = new Float32Array(6);
+      for (let k = 0; k < 3; k++) input.set([(Math.log(rows[t - 2 + k].heat) - Math.log(row.heat)) / 0.05, (rows[t - 2 + k].flow - row.flow) / 2], 2 * k);
+      const out = runtime.run(input, 3, 1);
+      expect(made!.heat).toBeCloseTo(Math.exp(Math.log(row.heat) + out[2] * 0.02), 5);
+    });
+    expect(() => forecaster.next({ heat: -1, flow: 1 }, 'readings.csv:9:1')).toThrowError('Bad data at readings.csv:9:1.heat: expected a number > 0 (the model reads its logarithm), received -1');
+    expect(() => createRowForecaster(runtime, { ...base, window: { ...window, log: [true] } })).toThrowError(/^Bad weight file at metadata\.window\.log: expected 2 true or false \(one per column\)/);
+  });
 });

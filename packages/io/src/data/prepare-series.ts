@@ -43,6 +43,11 @@ export interface SeriesPreparation {
   readonly given?: ReadonlySet<string>;
   /** Sliding windows only: forecast the correction to an exponential smoothing forecast. */
   readonly hybrid?: boolean;
+  /**
+   * Sliding windows only: read the targets as logarithms ('yes'), never ('no', the default), or where the season's
+   * swing grows with the level ('auto'; see series-windows.ts, which says why it is not the default).
+   */
+  readonly log?: 'auto' | 'yes' | 'no';
   /** Sliding windows only: read calendar positions of the time column (default true when its spacing is known). */
   readonly calendar?: boolean;
   /** The input columns (default: every numeric column). */

@@ -17,7 +17,7 @@ import { calendarFor, calendarInputs } from './calendar.js';
 import type { PreparedSeries, SeriesPreparation, WindowExample } from './prepare-series.js';
 import type { SmoothingMethod, SmoothingParameters } from './smoothing.js';
 import { fitSmoothing, runSmoothing } from './smoothing.js';
-import { columnStatistics } from './table.js';
+import { columnStatistics, fieldPath } from './table.js';
 import type { Table } from './table.js';
 import type { TimeColumn } from './time-column.js';
 import { forecastReport } from './verdict.js';
@@ -72,18 +72,23 @@ function chooseSmoothing(series: readonly number[], fitEnd: number, checkEnd: nu
 
 /** Sliding windows over a series (see the file's comment). */
 export function slidingWindows(input: SeriesContext): PreparedSeries {
-  const { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, season, options, split, baselines } = input;
+  const { table, file, columns, targetIndexes, trainEnd, testStart, horizon, season, options, split, baselines } = input;
   const given = options.given ?? new Set<string>();
   if ((options.transform ?? 'none') !== 'none') fail('invalid_option', '--transform', '--examples streams (sliding windows already forecast the change from the window\'s last row)', options.transform ?? 'none');
   if (options.lookback > 0) fail('invalid_option', '--lookback', '--examples streams (sliding windows are read whole)', String(options.lookback));
-  const least = (season === null ? 32 : 2 * season) + horizon;
+  // Two seasons and the horizon, or without a season 24 rows and the horizon (a 40-row series with the default shares).
+  const least = (season === null ? 24 : 2 * season) + horizon;
   if (trainEnd < least) {
-    const rows = values.length;
+    const rows = input.values.length;
     const total = Math.ceil(least / (1 - options.validationShare - options.testShare));
-    fail('invalid_option', file, `at least ${least} training rows for a series ${season === null ? 'without a season' : `with a season of ${season} rows`} (${season === null ? '32 rows' : 'two seasons'} and the horizon): about ${total} rows in all with the --validation and --test shares`, `${rows} rows, which leave ${trainEnd} training rows`);
+    fail('invalid_option', file, `at least ${least} training rows for a series ${season === null ? 'without a season' : `with a season of ${season} rows`} (${season === null ? '24 rows' : 'two seasons'} and the horizon): about ${total} rows in all with the --validation and --test shares`, `${rows} rows, which leave ${trainEnd} training rows`);
   }
   const window = given.has('window') ? options.window : Math.max(2, Math.min(season === null ? 24 : 2 * season, 64, Math.floor(trainEnd / 4)));
   const width = columns.length;
+  // Targets read as logarithms where the season's swing grows with the level (see logTargets); the windows, the
+  // hybrid and the targets all work on the logged series, and forecasts come back through exp.
+  const logged = logTargets(input);
+  const values = logged.some((l) => l) ? input.values.map((row) => row.map((v, j) => (logged[j] ? Math.log(v) : v))) : input.values;
   const targetCount = targetIndexes.length;
   // Every row up to the horizon at once (direct multi-output): one block of targets per row ahead, nearest first.
   const rowsAhead = Array.from({ length: horizon }, (_, i) => i + 1);
@@ -149,7 +154,12 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
     const scratch = new Float64Array(members);
     for (let i = 0, t = from; i + outputWidth <= outputs.length; i += outputWidth, t++) {
       medianOfMembers(outputs, i, members, block, combined, scratch);
-      for (let s = 0; s < rowsAhead.length; s++) for (let k = 0; k < targetCount; k++) forecasts[s][k][t] = base(s, k, t) + combined[s * targetCount + k] * targetDeviation[s * targetCount + k];
+      for (let s = 0; s < rowsAhead.length; s++) {
+        for (let k = 0; k < targetCount; k++) {
+          const made = base(s, k, t) + combined[s * targetCount + k] * targetDeviation[s * targetCount + k];
+          forecasts[s][k][t] = logged[targetIndexes[k]] ? Math.exp(made) : made;
+        }
+      }
     }
     return forecasts;
   };
@@ -169,13 +179,13 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       test: windowsEnding(testFrom, values.length - 1, values.length),
       batch,
     },
-    metadata: { ...input.metadata, ...(several ? { rowsAhead: 'all' } : {}), normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
+    metadata: { ...input.metadata, ...(several ? { rowsAhead: 'all' } : {}), normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(logged.some((l) => l) ? { log: logged } : {}), ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
     notes: input.notes,
     chosen: {
       ...(given.has('epochs') ? {} : { epochs }),
       ...(given.has('patience') ? {} : { patience: 5 }),
       ...(given.has('hidden') ? {} : { hidden: 32 }),
-      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}${ahead}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
+      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}${logged.some((l) => l) ? ` of the logarithm of ${targetIndexes.filter((j) => logged[j]).map((j) => table.header[columns[j]]).join(', ')}` : ''}: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}${ahead}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
     },
     validationFigure: (outputs, outputWidth) => {
       const forecasts = forecastsOf(outputs, outputWidth, validationFrom);
@@ -190,4 +200,36 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       return forecastReport({ what: input.what, model: scored, baselines: scoredBaselines, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
     },
   };
+}
+
+/**
+ * Which columns are read as logarithms (true at a column's index): with `log: 'yes'` every target (each value must
+ * be above 0, else an error at its file:line:column); with 'no' (the default) none; with 'auto' a target whose training values are
+ * all above 0 and whose season's swing grows with its level, judged as forecasters judge it: Holt-Winters with a
+ * multiplicative season fits the training rows better (lower one-step squared error) than with an additive one
+ * (Hyndman & Athanasopoulos, "Forecasting: Principles and Practice", 3rd ed., §8.3; common practice: a log turns a
+ * multiplicative season into an additive one). Never without a season. Measured on a generated series with a
+ * multiplicative season (144 months), the logarithm made the test MAE worse (11.4 against 9.5 for the plain model,
+ * 9.8 against 8.2 on top of Holt-Winters): windows read relative to their last value already scale with the level,
+ * so 'auto' is not the default.
+ */
+function logTargets(input: SeriesContext): boolean[] {
+  const { values, columns, targetIndexes, trainEnd, season, options, table } = input;
+  const logged = columns.map(() => false);
+  const asked = options.log ?? 'no';
+  if (asked === 'no') return logged;
+  for (const j of targetIndexes) {
+    const column = values.map((row) => row[j]);
+    if (asked === 'yes') {
+      const bad = column.findIndex((v) => !(v > 0));
+      if (bad >= 0) fail('bad_data', fieldPath(table, bad, columns[j]), `a number > 0 in column ${JSON.stringify(table.header[columns[j]])} (--log yes reads its logarithm)`, String(column[bad]));
+      logged[j] = true;
+      continue;
+    }
+    if (season === null || !column.every((v) => v > 0)) continue;
+    const additive = fitSmoothing(column, trainEnd, 'additive', season);
+    const multiplicative = fitSmoothing(column, trainEnd, 'multiplicative', season);
+    if (additive !== null && multiplicative !== null && multiplicative.meanSquaredError < additive.meanSquaredError) logged[j] = true;
+  }
+  return logged;
 }

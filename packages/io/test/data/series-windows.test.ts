@@ -65,4 +65,27 @@ describe('sliding windows', () => {
     const t = 2;
     [0, 1, 2].forEach((k) => expect(windows.train[0].values[2 * k + 1]).toBeCloseTo((forecasts[k] - values[t]) / recorded.deviation[0], 9));
   });
+
+  it('read the targets as logarithms when asked, or (auto) where the season swings with the level, and refuse a value not above 0', () => {
+    // Monthly, a season whose swing grows with the level (multiplicative), and one whose swing stays (additive).
+    const swinging = Array.from({ length: 144 }, (_, t) => (100 + 2 * t) * (1 + 0.3 * Math.sin((2 * Math.PI * t) / 12)));
+    const steady = Array.from({ length: 144 }, (_, t) => 100 + 2 * t + 30 * Math.sin((2 * Math.PI * t) / 12));
+    const monthly = (ys: number[]) => `month,level\n${ys.map((v, t) => `${1990 + Math.floor(t / 12)}-${String((t % 12) + 1).padStart(2, '0')},${v.toFixed(4)}`).join('\n')}\n`;
+    const base = { ...options, season: 12, given: new Set<string>(), horizon: 1 };
+    expect((prepareSeries(monthly(swinging), 'm.csv', { ...base, log: 'auto' }).metadata.window as { log?: boolean[] }).log).toEqual([true]);
+    expect((prepareSeries(monthly(steady), 'm.csv', { ...base, log: 'auto' }).metadata.window as { log?: boolean[] }).log).toBeUndefined();
+    expect((prepareSeries(monthly(swinging), 'm.csv', base).metadata.window as { log?: boolean[] }).log).toBeUndefined();
+    const logged = prepareSeries(monthly(swinging), 'm.csv', { ...base, log: 'yes' });
+    const windows = logged.examples as SeriesWindows;
+    const logs = swinging.map((v) => Math.log(Number(v.toFixed(4))));
+    const deviation = (logged.metadata.window as { deviation: number[] }).deviation[0];
+    const trainingRows = (logged.metadata.split as { trainingRows: number }).trainingRows;
+    expect(deviation).toBeCloseTo(rms(Array.from({ length: trainingRows - 1 }, (_, i) => logs[i + 1] - logs[i])), 12);
+    const w = (logged.metadata.window as { rows: number }).rows;
+    expect(windows.train[0].values[0]).toBeCloseTo((logs[0] - logs[w - 1]) / deviation, 12);
+    // Exactly right outputs in the log scale come back through exp as the values themselves.
+    expect(logged.heldOut(windows.test.flatMap((x) => x.target), 1).model.value).toBeCloseTo(0, 6);
+    const withZero = monthly(swinging.map((v, t) => (t === 5 ? 0 : v)));
+    expect(() => prepareSeries(withZero, 'm.csv', { ...base, log: 'yes' })).toThrowError('Bad data at m.csv:7:9: expected a number > 0 in column "level" (--log yes reads its logarithm), received 0');
+  });
 });
