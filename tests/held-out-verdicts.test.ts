@@ -144,6 +144,10 @@ describe('the held-out verdict', () => {
     const scored = JSON.parse(await score(parseArgs('score', [out, file, '--format', 'json'], scoreFlags))) as { model: { value: number; byRowsAhead: { rowsAhead: number }[] } };
     expect(Math.abs(scored.model.value - outcome.heldOut.model.value)).toBeLessThanOrEqual(1e-5 * outcome.heldOut.model.value);
     expect(scored.model.byRowsAhead.map((s) => s.rowsAhead)).toEqual([1, 2]);
+    // The intervals weft train recorded, scored by weft score from the file on the same rows: the same figures.
+    const trainedIntervals = outcome.heldOut.intervals!;
+    expect((scored as unknown as { intervals: typeof trainedIntervals }).intervals.coverage).toBe(trainedIntervals.coverage);
+    expect((scored as unknown as { intervals: typeof trainedIntervals }).intervals.count).toBe(40);
     // weft run prints what a program's row forecaster on the runtime computes, to every printed digit.
     const printed = JSON.parse((await runModel(parseArgs('run', [out, file, '--format', 'json'], runFlags), () => undefined))!) as Record<string, number | string>[];
     const forecaster = createRowForecaster(await createRuntime(saved), saved.metadata as Record<string, unknown>);

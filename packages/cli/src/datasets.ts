@@ -16,7 +16,7 @@ import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStr
 import type { DataSource, LabelledSequence } from '@weft/optim';
 import { UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, predictLogistic, summaryFeatures, textBaselines, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, parseTable, readStepTable } from '@weft/io';
 import { prepareSeries } from '@weft/io';
-import type { ChosenSettings, ClassificationReport, HeldOutReport, PreparedSeries, SeriesPreparation, Table, WeightMetadata } from '@weft/io';
+import type { ChosenSettings, ClassificationReport, ForecastIntervals, HeldOutReport, PreparedSeries, SeriesPreparation, Table, WeightMetadata } from '@weft/io';
 
 export type { Contender, HeldOutReport } from '@weft/io';
 import { CommandError } from './errors.js';
@@ -32,8 +32,10 @@ export interface Prepared {
   readonly metadata: WeightMetadata;
   /** Lines to show the user about what preparation did (columns left out, and why). */
   readonly notes?: readonly string[];
-  /** The model and every baseline on the test part, in the data's own units. */
-  readonly heldOut: (model: SequenceModel) => HeldOutReport;
+  /** The model and every baseline on the test part, in the data's own units (forecasts: with their intervals scored). */
+  readonly heldOut: (model: SequenceModel, intervals?: ForecastIntervals) => HeldOutReport;
+  /** Forecasts: split conformal half-widths at a level from the validation part's errors (see prepareSeries). */
+  readonly intervals?: (model: SequenceModel, level: number) => number[];
   /** The model's figure on the validation part, in the test figure's units (for ranking runs without the test). */
   readonly validationFigure?: (model: SequenceModel) => number;
   /** Settings chosen from the data for flags that were not given. */
@@ -70,7 +72,8 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
       train: sequenceBatches([...examples.train], { batchSize: examples.batch, features, seed: options.seed }),
       validation: sequenceBatches([...examples.validation], { batchSize: 256, features }),
       validationFigure: (model) => series.validationFigure(...outputsOf(model, validationInOrder)),
-      heldOut: (model) => series.heldOut(...outputsOf(model, testInOrder)),
+      heldOut: (model, intervals) => series.heldOut(...outputsOf(model, testInOrder), intervals),
+      intervals: (model, level) => series.intervals(...outputsOf(model, validationInOrder), level),
     };
   }
   const { values, features, horizon, trainEnd, testStart, rows } = examples;
@@ -87,7 +90,8 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     train: streamBatches(data(trainEnd), { streams: examples.streams, window: examples.window, lookback: examples.lookback }),
     validation,
     validationFigure: (model) => series.validationFigure(...outputsOf(model, [validation])),
-    heldOut: (model) => series.heldOut(...outputsOf(model, [test])),
+    heldOut: (model, intervals) => series.heldOut(...outputsOf(model, [test]), intervals),
+    intervals: (model, level) => series.intervals(...outputsOf(model, [validation]), level),
   };
 }
 

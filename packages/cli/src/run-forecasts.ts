@@ -29,6 +29,10 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
   // The forecasts made at the last row, every row ahead (made[s × targets + k]).
   const made = new Float64Array(rowsAhead.length * targets);
   const columnNames = rowsAhead.flatMap((h) => model.outputNames.map((target) => `${target} in ${h}`));
+  // With prediction intervals, a low and a high column after each forecast column.
+  const bounds = model.intervals;
+  const boundNames = bounds === null ? [] : columnNames.map((c) => [`${c} low`, `${c} high`]);
+  const shown = (v: number) => (Number.isFinite(v) ? Number(v.toPrecision(6)) : '');
   const several = rowsAhead.length > 1;
   const checkAhead = (count: number): void => {
     if (several) {
@@ -47,15 +51,26 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
       // in its "in k" columns (so each column keeps its meaning: made at the row `made` names, k rows on).
       const record: OutputRecord = { row: rows + k, made: several ? `at row ${rows}` : 'from forecasts' };
       for (const c of keptNames) record[c] = '';
-      for (const c of columnNames) record[c] = '';
+      for (const c of columnNames) {
+        record[c] = '';
+        if (bounds !== null) record[`${c} low`] = record[`${c} high`] = '';
+      }
       if (several) {
         // Row k after the last: the forecast the model made at the last row, k rows ahead.
         const s = rowsAhead.indexOf(k);
-        model.outputNames.forEach((target, j) => (record[`${target} in ${k}`] = Number(made[s * targets + j].toPrecision(6))));
+        model.outputNames.forEach((target, j) => {
+          const i = s * targets + j;
+          record[`${target} in ${k}`] = Number(made[i].toPrecision(6));
+          if (bounds !== null) {
+            record[`${target} in ${k} low`] = shown(made[i] - bounds.halfWidth[i]);
+            record[`${target} in ${k} high`] = shown(made[i] + bounds.halfWidth[i]);
+          }
+        });
       } else {
         const last: Record<string, number> = {};
         model.outputNames.forEach((target, j) => (last[target] = made[j]));
         model.nextInto(last, made);
+        // Fed back, the forecasts' own errors compound: the one-row interval would understate them, so none is shown.
         model.outputNames.forEach((target, j) => (record[`${target} in 1`] = Number(made[j].toPrecision(6))));
       }
       emit(record);
@@ -79,7 +94,13 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
     keptNames = kept.map((c) => table.header[c]);
     kept.forEach((c) => (record[table.header[c]] = fields[c]));
     // A windowed model forecasts once it has a window of rows: the first rows get empty forecasts.
-    columnNames.forEach((c, i) => (record[c] = ready ? Number(made[i].toPrecision(6)) : ''));
+    columnNames.forEach((c, i) => {
+      record[c] = ready ? Number(made[i].toPrecision(6)) : '';
+      if (bounds !== null) {
+        record[boundNames[i][0]] = ready ? shown(made[i] - bounds.halfWidth[i]) : '';
+        record[boundNames[i][1]] = ready ? shown(made[i] + bounds.halfWidth[i]) : '';
+      }
+    });
     emit(record);
   };
   return { each, ahead, checkAhead };

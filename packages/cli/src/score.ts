@@ -13,7 +13,7 @@
  */
 import { existsSync, readFileSync } from 'node:fs';
 import { Random, fail, indexOfLargest, logSumExp } from '@weft/core';
-import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastWords, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
+import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastWords, scoreIntervals, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
 import type { Table, WeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
@@ -125,9 +125,10 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   const baselines = forecastBaselines(split, { season, spacing: time?.spacing ?? null });
   const lines = `lines ${table.rows[testStart].line}–${table.rows[rows - 1].line} (${scored} rows)`;
   const step = (h: number) => rowsAhead.indexOf(h) * targets.length;
-  return forecastReport({
+  const forecastAt = (t: number, k: number, h: number) => (forecasts[t] as Float64Array)[step(h) + k];
+  const report = forecastReport({
     what: `${forecastWords(positions.length, translator.outputNames, rowsAhead)}, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
-    model: scoreForecaster(split, (t, k, h) => (forecasts[t] as Float64Array)[step(h) + k], baselines.scales),
+    model: scoreForecaster(split, forecastAt, baselines.scales),
     baselines: baselines.scores,
     names: translator.outputNames,
     context: [
@@ -137,6 +138,8 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
       ...baselines.leftOut.map((l) => `left out: ${l}`),
     ],
   });
+  // The model's own prediction intervals (recorded by weft train), scored on the same rows.
+  return forecaster.intervals === null ? report : { ...report, intervals: scoreIntervals(split, forecastAt, forecaster.intervals, baselines.scales) };
 }
 
 /** The class probabilities of every sequence of a long table (one step per row), in the order ids first appear. */

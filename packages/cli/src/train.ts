@@ -15,6 +15,7 @@ import { startTrainingThreads } from '@weft/optim/node';
 import type { ThreadGroup } from '@weft/optim';
 import type { TrainableModel, TrainingEvent, TrainingSummary } from '@weft/optim';
 import { SLIDING_ROWS, detectDelimiter, sha256Hex } from '@weft/io';
+import type { ForecastIntervals } from '@weft/io';
 import { checkWritable, loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
@@ -50,6 +51,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'examples', value: 'sliding|streams', description: 'how a series becomes training examples: sliding windows (every training row ends one window of --window rows, read relative to its last row) or long streams cut into windows with carried state (forecast)', fallback: `sliding up to ${SLIDING_ROWS} training rows, else streams` },
   { name: 'ensemble', value: 'K', description: 'train K models from seeds <seed>, <seed>/2, … <seed>/K and forecast the median of their forecasts; the weight file holds all K, stacked into one model (forecast)', fallback: '1' },
   { name: 'hybrid', value: 'auto|yes|no', description: 'on top of exponential smoothing: the model reads the forecasts of the smoothing method best on the validation part and forecasts their correction; auto trains it and the plain model and keeps the one better on the validation part (forecast, sliding windows)', fallback: 'auto' },
+  { name: 'interval', value: 'LEVEL|none', description: 'prediction intervals meant to hold this share of values (split conformal on the validation part\'s errors), recorded in the weight file, scored on the test part (coverage, MSIS) and printed by weft run (forecast)', fallback: '0.95' },
   { name: 'log', value: 'auto|yes|no', description: 'read the targets as logarithms (sliding windows): auto where every value is above 0 and the season\'s swing grows with the level (Holt-Winters fits the training rows better with a multiplicative season than an additive one); windows read relative to their last value already scale with the level', fallback: 'no' },
   { name: 'time-column', value: 'NAME', description: 'the column of times of a series (dates, date-times, year-months, year-quarters, years): gives the season\'s candidates', fallback: 'a column named like a time, or the first whose values are times' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
@@ -171,7 +173,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   };
   if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
   const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
-  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble', 'log']) {
+  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble', 'log', 'interval']) {
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
@@ -336,7 +338,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   // --ensemble K: members 2…K trained alike from their own seeds (after the first, which the checkpoint holds, so a
   // resumed run repeats them exactly), then stacked into one model whose forecasts' median is the forecast.
   let final: TrainableModel = model;
-  let keptMetadata: ReturnType<typeof metadataFor> & { members?: number } = metadataFor(trainer);
+  let keptMetadata: ReturnType<typeof metadataFor> & { members?: number; intervals?: unknown } = metadataFor(trainer);
   if (ensemble > 1 && prepared.task === 'forecast') {
     const members = [model as SequenceModel];
     for (let k = 2; k <= ensemble; k++) {
@@ -361,8 +363,16 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     final = stackMembers(members);
     keptMetadata = { ...keptMetadata, members: ensemble, training: { ...keptMetadata.training, seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)) } };
   }
+  // Prediction intervals from the validation part's errors (JSON has no Infinity: a part too short for the level
+  // records null, an interval without bounds).
+  let intervals: ForecastIntervals | undefined;
+  if (prepared.task === 'forecast' && prepared.intervals !== undefined && args.flags.get('interval') !== 'none') {
+    const level = numberFlag(args, 'interval', 0.95, { min: 0.5, max: 0.999 });
+    intervals = { level, halfWidth: prepared.intervals(final as SequenceModel, level) };
+    keptMetadata = { ...keptMetadata, intervals: { level, method: 'split conformal', halfWidth: intervals.halfWidth.map((h) => (Number.isFinite(h) ? h : null)) } };
+  }
   await saveWeightFile(out, final, { dtype: store, metadata: keptMetadata });
-  const heldOut = prepared.task === 'pairs' ? prepared.heldOut(model as EncoderDecoderModel) : prepared.heldOut(final as SequenceModel);
+  const heldOut = prepared.task === 'pairs' ? prepared.heldOut(model as EncoderDecoderModel) : prepared.heldOut(final as SequenceModel, intervals);
   info(`loss ${sparkline(history.training.map((p) => p.loss))} ${history.training.at(-1)?.loss.toPrecision(4) ?? ''}`);
   for (const line of reportLines(heldOut)) log(line);
   const seconds = earlierSeconds + (Date.now() - started) / 1000;

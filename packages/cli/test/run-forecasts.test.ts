@@ -29,8 +29,9 @@ beforeAll(() => {
   writeFileSync(join(folder, 'tank.csv'), `level,inflow\n${readings.map((r) => `${r.level.toFixed(3)},${r.inflow.toFixed(3)}`).join('\n')}\n`);
   const trained = weft(['train', 'tank.csv', '--target', 'level', '--horizon', '3', '--hybrid', 'no', '--hidden', '8', '--epochs', '3', '--out', 'tank.weft.json', '--quiet']);
   expect(trained.code, trained.err).toBe(0);
-  // The test part is scored at every row ahead, each against the best baseline.
+  // The test part is scored at every row ahead, each against the best baseline, and so are the intervals.
   expect(trained.out).toMatch(/MAE by rows ahead: 1: [\d.]+ \([\d.]+\), 2: [\d.]+ \([\d.]+\), 3: [\d.]+ \([\d.]+\)/);
+  expect(trained.out).toMatch(/^ {2}prediction intervals at 95% \(split conformal on the validation part's errors\): coverage [\d.]+% of 90 values, mean width [\d.]+, MSIS [\d.]+$/m);
 });
 
 describe('weft run on a model of several rows ahead', () => {
@@ -38,15 +39,19 @@ describe('weft run on a model of several rows ahead', () => {
     const run = weft(['run', 'tank.weft.json', 'tank.csv', '--format', 'json']);
     expect(run.code, run.err).toBe(0);
     const records = JSON.parse(run.out) as Record<string, number | string>[];
-    expect(Object.keys(records[0])).toEqual(['row', 'level in 1', 'level in 2', 'level in 3']);
+    expect(Object.keys(records[0])).toEqual(['row', 'level in 1', 'level in 1 low', 'level in 1 high', 'level in 2', 'level in 2 low', 'level in 2 high', 'level in 3', 'level in 3 low', 'level in 3 high']);
     const file = await readWeightFile(readFileSync(join(folder, 'tank.weft.json'), 'utf8'));
     const forecaster = createRowForecaster(await createRuntime(file), file.metadata as Record<string, unknown>);
     expect(forecaster.rowsAhead).toEqual([1, 2, 3]);
+    // One half-width per row ahead, from the validation part's errors at that row ahead.
+    const half = forecaster.intervals!.halfWidth;
+    expect(half).toHaveLength(3);
     const out = new Float64Array(3);
     readings.forEach((r, t) => {
       const ready = forecaster.nextInto({ level: r.level.toFixed(3), inflow: r.inflow.toFixed(3) }, out);
       expect(records[t]['level in 1']).toBe(ready ? Number(out[0].toPrecision(6)) : '');
       expect(records[t]['level in 3']).toBe(ready ? Number(out[2].toPrecision(6)) : '');
+      expect(records[t]['level in 3 high']).toBe(ready ? Number((out[2] + half[2]).toPrecision(6)) : '');
     });
   });
 
@@ -57,6 +62,7 @@ describe('weft run on a model of several rows ahead', () => {
     expect(run.code, run.err).toBe(0);
     const records = JSON.parse(run.out) as Record<string, number | string>[];
     expect(records).toHaveLength(303);
+    expect(records[300]['level in 1 low']).toBe(last['level in 1 low']);
     expect(records.slice(300).map((r) => [r.row, r.made, r['level in 1'], r['level in 2'], r['level in 3']])).toEqual([
       [301, 'at row 300', last['level in 1'], '', ''],
       [302, 'at row 300', '', last['level in 2'], ''],

@@ -59,7 +59,8 @@ describe('weft run', () => {
     const code = await new Promise<number | null>((resolve) => child.on('close', resolve));
     expect(code).toBe(0);
     const lines = received.trim().split('\n');
-    expect(lines[0]).toBe('row,hour,level in 1');
+    // Each forecast comes with the prediction interval weft train recorded (95%, split conformal).
+    expect(lines[0]).toBe('row,hour,level in 1,level in 1 low,level in 1 high');
     expect(lines.slice(1).map((l) => l.split(',')[1])).toEqual(['h0', 'h1', 'h2']);
   }, 60_000);
 
@@ -155,9 +156,14 @@ describe('weft run on forecasts and classifications', () => {
     const run = weft(['run', 'room.weft.json', 'new-room.csv', '--out', 'forecast.csv']);
     expect(run.code).toBe(0);
     const forecast = readFileSync(join(folder, 'forecast.csv'), 'utf8').trim().split('\n');
-    expect(forecast[0]).toBe('row,temperature in 2');
+    expect(forecast[0]).toBe('row,temperature in 2,temperature in 2 low,temperature in 2 high');
     expect(forecast).toHaveLength(4);
-    for (const line of forecast.slice(1)) expect(Number(line.split(',')[1])).toBeGreaterThan(5);
+    for (const line of forecast.slice(1)) {
+      const [, middle, low, high] = line.split(',').map(Number);
+      expect(middle).toBeGreaterThan(5);
+      expect(low).toBeLessThan(middle);
+      expect(high).toBeGreaterThan(middle);
+    }
 
     const labelled = Array.from({ length: 160 }, (_, i) => {
       const rising = i % 2 === 0;

@@ -23,6 +23,7 @@ import type { SmoothingParameters } from './data/smoothing.js';
 import { calendarInputsAt } from './data/calendar.js';
 import type { CalendarPosition } from './data/calendar.js';
 import { parseTime } from './data/time-column.js';
+import type { ForecastIntervals } from './data/prepare-series.js';
 
 /** What a windowed forecast model records in its metadata (`window`). */
 export interface ForecastWindow {
@@ -62,6 +63,11 @@ export interface RowForecaster {
   readonly rowsAhead: readonly number[];
   /** Models trained from different seeds whose median is the forecast (1 for a single model). */
   readonly members: number;
+  /**
+   * Prediction intervals (metadata `intervals`): forecast ± halfWidth[s × targets + k], Infinity where the
+   * validation part was too short for the level; null when the model has none.
+   */
+  readonly intervals: ForecastIntervals | null;
   /** Rows it needs before its first forecast (1 for a stream, the window's rows for a windowed model). */
   readonly warmUp: number;
   /**
@@ -135,6 +141,19 @@ export function forecastRowsAhead(metadata: Readonly<Record<string, unknown>>): 
   return all ? Array.from({ length: horizon }, (_, i) => i + 1) : [horizon];
 }
 
+/** The prediction intervals a forecast model's metadata records (checked), or null. */
+export function forecastIntervals(metadata: Readonly<Record<string, unknown>>, count: number): ForecastIntervals | null {
+  const intervals = metadata.intervals as { level?: unknown; halfWidth?: unknown } | undefined;
+  if (intervals === undefined) return null;
+  const level = intervals?.level;
+  if (typeof level !== 'number' || !(level > 0 && level < 1)) fail('bad_weight_file', 'metadata.intervals.level', 'a share between 0 and 1', JSON.stringify(level) ?? 'nothing');
+  const half = intervals.halfWidth;
+  if (!Array.isArray(half) || half.length !== count || !half.every((h) => h === null || (typeof h === 'number' && h >= 0 && Number.isFinite(h)))) {
+    fail('bad_weight_file', 'metadata.intervals.halfWidth', `${count} half-widths ≥ 0 (null for none), one per row ahead and target`, JSON.stringify(half)?.slice(0, 80) ?? 'nothing');
+  }
+  return { level, halfWidth: half.map((h: number | null) => (h === null ? Infinity : h)) };
+}
+
 /** A row forecaster for a forecast model and its weight file's metadata. */
 export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<string, unknown>>): RowForecaster {
   const translator = createTranslator(metadata);
@@ -148,6 +167,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   if (!Number.isInteger(members) || members < 1 || runtime.outputWidth !== members * block) {
     fail('bad_weight_file', 'metadata.members', `a count of members whose ${rowsAhead.length} × ${targetCount} forecasts make the model's ${runtime.outputWidth} outputs`, JSON.stringify(metadata.members) ?? 'nothing');
   }
+  const intervals = forecastIntervals(metadata, block);
   const output = new Float32Array(runtime.outputWidth);
   const combined = new Float64Array(block);
   const scratch = new Float64Array(members);
@@ -201,6 +221,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
       outputNames,
       rowsAhead,
       members,
+      intervals,
       warmUp: 1,
       nextInto,
       nextValuesInto: (values, out) => advance(values, out, 'values'),
@@ -284,6 +305,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     outputNames,
     rowsAhead,
     members,
+    intervals,
     warmUp: w,
     nextInto,
     nextValuesInto: (values, out) => advance(values, timeColumn === null ? NaN : values[width], out, 'values'),

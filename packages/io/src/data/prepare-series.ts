@@ -10,6 +10,7 @@ import { fail } from '@weft/core';
 import { medianOfMembers } from '@weft/cells';
 import type { WeightMetadata } from '../weight-file.js';
 import { forecastBaselines, scoreForecaster } from './baselines.js';
+import { conformalHalfWidth, scoreIntervals } from './intervals.js';
 import { readSeries } from './series.js';
 import { checkGaps, linesOf, seriesParts, tableNotes } from './series-checks.js';
 import { columnStatistics, fieldPath, parseTable } from './table.js';
@@ -150,8 +151,24 @@ export interface PreparedSeries {
    * `validationForecasts` in order, or on streams at every row of the validation reading.
    */
   validationFigure(outputs: ArrayLike<number>, width: number): number;
-  /** The model and every baseline on the test part, from the model's outputs as `validationFigure` takes them. */
-  heldOut(outputs: ArrayLike<number>, width: number): HeldOutReport;
+  /**
+   * The model and every baseline on the test part, from the model's outputs as `validationFigure` takes them; with
+   * `intervals`, the prediction intervals scored too (coverage, mean width, MSIS).
+   */
+  heldOut(outputs: ArrayLike<number>, width: number, intervals?: ForecastIntervals): HeldOutReport;
+  /**
+   * Split conformal half-widths at `level` from the validation part's errors (outputs as `validationFigure` takes
+   * them): one per row ahead and target (rows ahead outer), Infinity where the part is too short for the level.
+   */
+  intervals(outputs: ArrayLike<number>, width: number, level: number): number[];
+}
+
+/** Prediction intervals of a forecast model: forecast ± halfWidth, per row ahead and target (rows ahead outer). */
+export interface ForecastIntervals {
+  /** The share of values they are meant to cover (0.95 for 95%). */
+  readonly level: number;
+  /** Half-widths in the data's units. */
+  readonly halfWidth: readonly number[];
 }
 
 /** At most this many training rows train on sliding windows by default; longer series on streams. */
@@ -287,10 +304,19 @@ function streamsOf(input: Omit<Common, 'season'>): PreparedSeries {
       const errors = scoreForecaster({ ...split, positions: scored }, (at, k) => forecasts[k][at], baselines.scales).overall;
       return targetCount > 1 ? errors.mase ?? NaN : errors.mae;
     },
-    heldOut: (outputs, width) => {
+    heldOut: (outputs, width, intervals) => {
       const forecasts = forecastsOf(outputs, width, rows);
       const scored = scoreForecaster(split, (at, k) => forecasts[k][at], baselines.scales);
-      return forecastReport({ what: input.what, model: scored, baselines: baselines.scores, names, context: input.context });
+      const report = forecastReport({ what: input.what, model: scored, baselines: baselines.scores, names, context: input.context });
+      return intervals === undefined ? report : { ...report, intervals: scoreIntervals(split, (at, k) => forecasts[k][at], intervals, baselines.scales) };
+    },
+    intervals: (outputs, width, level) => {
+      const forecasts = forecastsOf(outputs, width, testStart);
+      return targetIndexes.map((j, k) => {
+        const errors: number[] = [];
+        for (let t = trainEnd - horizon; t < testStart - horizon; t++) errors.push(values[t + horizon][j] - forecasts[k][t]);
+        return conformalHalfWidth(errors, level);
+      });
     },
   };
 }

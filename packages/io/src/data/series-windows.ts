@@ -15,6 +15,7 @@ import type { ForecastBaselines, SeriesSplit } from './baselines.js';
 import { forecastBaselines, scoreForecaster } from './baselines.js';
 import { calendarFor, calendarInputs } from './calendar.js';
 import type { PreparedSeries, SeriesPreparation, WindowExample } from './prepare-series.js';
+import { conformalHalfWidth, scoreIntervals } from './intervals.js';
 import type { SmoothingMethod, SmoothingParameters } from './smoothing.js';
 import { fitSmoothing, runSmoothing } from './smoothing.js';
 import { columnStatistics, fieldPath } from './table.js';
@@ -194,10 +195,24 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       const errors = scoreForecaster({ ...scoredSplit, positions: scored }, (at, k, h) => forecasts[h - 1][k][at], baselines.scales).overall;
       return targetCount > 1 ? errors.mase ?? NaN : errors.mae;
     },
-    heldOut: (outputs, outputWidth) => {
+    heldOut: (outputs, outputWidth, intervals) => {
       const forecasts = forecastsOf(outputs, outputWidth, testFrom);
-      const scored = scoreForecaster(scoredSplit, (at, k, h) => forecasts[h - 1][k][at], baselines.scales);
-      return forecastReport({ what: input.what, model: scored, baselines: scoredBaselines, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
+      const forecast = (at: number, k: number, h: number) => forecasts[h - 1][k][at];
+      const scored = scoreForecaster(scoredSplit, forecast, baselines.scales);
+      const report = forecastReport({ what: input.what, model: scored, baselines: scoredBaselines, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
+      return intervals === undefined ? report : { ...report, intervals: scoreIntervals(scoredSplit, forecast, intervals, baselines.scales) };
+    },
+    intervals: (outputs, outputWidth, level) => {
+      // Each row ahead's errors on the validation rows, from the windows whose row that far ahead is one of them.
+      const forecasts = forecastsOf(outputs, outputWidth, validationFrom);
+      return rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
+        const errors: number[] = [];
+        for (let t = Math.max(validationFrom, trainEnd - h); t + h < testStart; t++) {
+          const made = forecasts[s][k][t];
+          errors.push(input.values[t + h][j] - made);
+        }
+        return conformalHalfWidth(errors, level);
+      }));
     },
   };
 }

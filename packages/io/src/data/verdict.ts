@@ -5,6 +5,7 @@
  */
 import type { BaselineScore, StepErrors } from './baselines.js';
 import type { ClassificationReport, ForecastErrors } from './scores.js';
+import type { IntervalScores } from './intervals.js';
 
 /** One row of a test comparison: a model or a baseline, and its figures. */
 export interface Contender {
@@ -52,6 +53,8 @@ export interface HeldOutReport {
   readonly names: readonly string[];
   /** Lines that say how the comparison was set up: the parts, the season and why, baselines left out. */
   readonly context?: readonly string[];
+  /** The model's prediction intervals on the test part (forecasts with intervals only). */
+  readonly intervals?: IntervalScores;
 }
 
 /** What a forecast comparison is made of. */
@@ -163,6 +166,10 @@ export function reportLines(report: HeldOutReport): string[] {
     const best = bestOf(report);
     const at = (e: ForecastErrors) => figure(report.metric === 'MASE' ? e.mase ?? NaN : e.mae);
     lines.push(`  ${report.metric} by rows ahead: ${steps.map((s, i) => `${s.rowsAhead}: ${at(s.overall)}${best.byRowsAhead?.[i] === undefined ? '' : ` (${at(best.byRowsAhead[i].overall)})`}`).join(', ')} — the model's, and in brackets ${best.name}'s`);
+  }
+  if (report.intervals !== undefined) {
+    const i = report.intervals;
+    lines.push(`  prediction intervals at ${Number((100 * i.level).toFixed(1))}% (split conformal on the validation part's errors): coverage ${percent(i.coverage)} of ${i.count} values, mean width ${figure(i.meanWidth)}${i.msis === null ? '' : `, MSIS ${figure(i.msis)}`}${Number.isFinite(i.meanWidth) ? '' : ' (the validation part is too short for this level)'}`);
   }
   if (report.model.scores !== undefined) lines.push(...classLines(report.model.scores, report.names));
   lines.push(verdict(report));
