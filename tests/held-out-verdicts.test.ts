@@ -32,7 +32,7 @@ import { trainFlags } from '../packages/cli/src/train.js';
 import { runFlags, runModel } from '../packages/cli/src/run.js';
 import { createRowForecaster } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
-import { seasonalTrend } from './helpers/series.js';
+import { seasonalNoise, seasonalTrend } from './helpers/series.js';
 import { loadModelFile, loadWeightFile } from '@weft/io/node';
 
 /** The model a weight file holds, ready to run on the tape. */
@@ -173,7 +173,29 @@ describe('the held-out verdict', () => {
     // additive's 0.0444 (1.055×). On streams, the default before for a series this long, the model scored 0.77.
     expect(text.split('\n')[0]).toMatch(/^sliding windows: \d+ training examples of 48 rows \(two seasons of 24 rows\), forecasting rows 1 to 6 ahead at once, /);
     expect(outcome.heldOut.model.value).toBeLessThan(1.2 * best.value);
+    // The 95% intervals' coverage is printed, and flagged when it strays more than 5 points from 95%.
+    const coverage = outcome.heldOut.intervals!.coverage;
+    console.log(`hourly Seattle normals: 95% intervals hold ${coverage} of ${outcome.heldOut.intervals!.count}`);
+    expect(text).toMatch(Math.abs(coverage - 0.95) > 0.05 ? /^ {2}prediction intervals at 95% .*; more than 5 points from the 95% asked/m : /^ {2}prediction intervals at 95% .*MSIS [\d.]+$/m);
     expect(text).toMatch(outcome.heldOut.model.value < best.value ? /^verdict: the model beats every baseline/m : new RegExp(`^verdict: the model does NOT beat the baseline ${best.name}: MAE `, 'm'));
+  }, 60_000);
+
+  it('holds 93–97% of 2,000 test values in the 95% intervals of a series with known noise, in train and score alike', async () => {
+    const file = join(folder, 'noise.csv');
+    writeFileSync(file, `level\n${seasonalNoise(10_000).map((v) => v.toFixed(4)).join('\n')}\n`);
+    const out = join(folder, 'noise.weft.json');
+    const { outcome, text } = await trainQuietly([file, '--test', '0.2', '--hybrid', 'no', '--epochs', '2', '--hidden', '16', '--out', out]);
+    const intervals = outcome.heldOut.intervals!;
+    console.log(`known noise: coverage ${intervals.coverage} of ${intervals.count}, mean width ${intervals.meanWidth} (the noise's own 95% width is 1.96)`);
+    expect(intervals.count).toBe(2000);
+    expect(intervals.coverage).toBeGreaterThanOrEqual(0.93);
+    expect(intervals.coverage).toBeLessThanOrEqual(0.97);
+    // No interval can be narrower than the noise's: 2 × 1.96 × 0.5 = 1.96 (common practice: the normal's 97.5% point).
+    expect(intervals.meanWidth).toBeGreaterThan(1.8);
+    expect(text).toMatch(/^ {2}prediction intervals at 95% \(split conformal on the validation part's errors\): coverage 9[3-7]\.\d% of 2000 values/m);
+    const scored = JSON.parse(await score(parseArgs('score', [out, file, '--format', 'json'], scoreFlags))) as { intervals: { coverage: number } };
+    expect(scored.intervals.coverage).toBe(intervals.coverage);
+    await expect(trainQuietly([file, '--interval', '1.5', '--out', join(folder, 'x.weft.json')])).rejects.toThrow(/--interval/);
   }, 60_000);
 
   it('scores more test windows than fit in one batch in their own order, as weft score does from the runtime', async () => {

@@ -169,7 +169,7 @@ export function reportLines(report: HeldOutReport): string[] {
   }
   if (report.intervals !== undefined) {
     const i = report.intervals;
-    lines.push(`  prediction intervals at ${Number((100 * i.level).toFixed(1))}% (split conformal on the validation part's errors): coverage ${percent(i.coverage)} of ${i.count} values, mean width ${figure(i.meanWidth)}${i.msis === null ? '' : `, MSIS ${figure(i.msis)}`}${Number.isFinite(i.meanWidth) ? '' : ' (the validation part is too short for this level)'}`);
+    lines.push(`  prediction intervals at ${Number((100 * i.level).toFixed(1))}% (split conformal on the validation part's errors): coverage ${percent(i.coverage)} of ${i.count} values, mean width ${figure(i.meanWidth)}${i.msis === null ? '' : `, MSIS ${figure(i.msis)}`}${Number.isFinite(i.meanWidth) ? '' : ' (the validation part is too short for this level)'}${Math.abs(i.coverage - i.level) > 0.05 ? `; more than 5 points from the ${Number((100 * i.level).toFixed(1))}% asked: do not rely on these intervals at this level` : ''}`);
   }
   if (report.model.scores !== undefined) lines.push(...classLines(report.model.scores, report.names));
   lines.push(verdict(report));
