@@ -13,7 +13,6 @@
 import { fail, indexOfLargest } from '@weft/core';
 import { isEncoderDecoder } from '@weft/cells';
 import { createReadStream, existsSync, readFileSync } from 'node:fs';
-import { createInterface } from 'node:readline';
 import { createTranslator, parseTable, fieldPath } from '@weft/io';
 import type { Table } from '@weft/io';
 import { loadWeightFile, writeFileAtomic } from '@weft/io/node';
@@ -25,6 +24,7 @@ import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { classifyStepTable } from './score.js';
 import { columnsAt, rowForecasts } from './run-forecasts.js';
+import { boundedLines, tableRecords } from './stream-table.js';
 import type { EachRow, OutputRecord } from './run-forecasts.js';
 import { runTransduction } from './transduce.js';
 
@@ -80,32 +80,6 @@ class Output {
   }
 }
 
-/** The rows of a table, one record at a time, as lines arrive (quoted fields may span lines). */
-async function* tableRecords(lines: AsyncIterable<string>, file: string): AsyncGenerator<Table> {
-  let header: readonly string[] | null = null;
-  let delimiter: Table['delimiter'] = ',';
-  let pending = '';
-  let lineNumber = 0;
-  let startLine = 0;
-  for await (const raw of lines) {
-    lineNumber++;
-    if (header === null) {
-      const head = parseTable(`${raw}\n`, { file });
-      header = head.header;
-      delimiter = head.delimiter;
-      continue;
-    }
-    if (pending === '') startLine = lineNumber;
-    pending = pending === '' ? raw : `${pending}\n${raw}`;
-    // A record is complete when its quotes balance.
-    if ((pending.match(/"/g)?.length ?? 0) % 2 === 1) continue;
-    const table = parseTable(`${pending}\n`, { file, header, delimiter, firstLine: startLine });
-    pending = '';
-    if (table.rows.length > 0) yield table;
-  }
-  if (header === null) throw new CommandError(`${file}: no header row (the input is empty)`);
-  if (pending !== '') parseTable(pending, { file, header, delimiter, firstLine: startLine });
-}
 
 
 /** Runs the model on the input; returns what is left to print (null when written to --out or already written). */
@@ -152,7 +126,7 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
       output.add(record);
     }
   } else if (meta.task === 'forecast' || meta.task === 'classification') {
-    const lines = fromStdin ? createInterface({ input: process.stdin, crlfDelay: Infinity }) : createInterface({ input: createReadStream(dataPath), crlfDelay: Infinity });
+    const lines = boundedLines(fromStdin ? process.stdin : createReadStream(dataPath), name);
     const ahead = args.flags.has('ahead') ? numberFlag(args, 'ahead', 1, { whole: true, min: 1, max: 100000 }) : 0;
     if (ahead > 0 && meta.task !== 'forecast') throw new CommandError('--ahead needs a forecast model', 2);
     const forecast = meta.task === 'forecast' ? rowForecasts(runtime, meta, name, keep, ahead > 0) : null;

@@ -31,7 +31,7 @@ beforeAll(() => {
   expect(trained.code, trained.err).toBe(0);
   // The test part is scored at every row ahead, each against the best baseline, and so are the intervals.
   expect(trained.out).toMatch(/MAE by rows ahead: 1: [\d.]+ \([\d.]+\), 2: [\d.]+ \([\d.]+\), 3: [\d.]+ \([\d.]+\)/);
-  expect(trained.out).toMatch(/^ {2}prediction intervals at 95% \(split conformal on the validation part's errors\): coverage [\d.]+% of 90 values, mean width [\d.]+, MSIS [\d.]+$/m);
+  expect(trained.out).toMatch(/^ {2}prediction intervals at 95% \(split conformal on the validation part's errors\): coverage [\d.]+% of 90 values, mean width [\d.]+, MSIS [\d.]+(; more than 5 points from the 95% asked: do not rely on these intervals at this level)?$/m);
 });
 
 describe('weft run on a model of several rows ahead', () => {
