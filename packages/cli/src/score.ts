@@ -11,7 +11,7 @@
  * Kneser-Ney n-gram models. Encoder-decoders: exact match, token accuracy and BLEU (transduce.ts). Plain text, or
  * `--format json` for scripts.
  */
-import { existsSync, readFileSync } from 'node:fs';
+import { readData } from './train.js';
 import { Random, fail, indexOfLargest, logSumExp } from '@weft/core';
 import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastWords, scoreIntervals, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
 import type { Table, WeightFile } from '@weft/io';
@@ -51,9 +51,9 @@ export async function score(args: ParsedArgs): Promise<string> {
   if (modelPath === undefined || dataPath === undefined) throw new CommandError('weft score needs a weight file and a labelled data file (see weft score --help)', 2);
   if (args.positional.length > 2) throw new CommandError(`weft score takes a weight file and one data file, got ${args.positional.length} arguments`, 2);
   const format = choiceFlag(args, 'format', ['text', 'json'] as const, 'text');
-  if (!existsSync(dataPath)) throw new CommandError(`${dataPath}: no such file`);
+  const text = readData(dataPath);
   const file = await loadWeightFile(modelPath);
-  const bytes = readFileSync(dataPath);
+  const bytes = new TextEncoder().encode(text);
   const training = file.metadata.training as Record<string, unknown> | undefined;
   const split = typeof file.metadata.split === 'object' && file.metadata.split !== null ? (file.metadata.split as Record<string, unknown>) : null;
   const part: ScoredPart = {
@@ -67,7 +67,6 @@ export async function score(args: ParsedArgs): Promise<string> {
   }
   const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
   const meta = file.metadata as Record<string, unknown>;
-  const text = bytes.toString('utf8');
   const season = args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined;
   const report =
     meta.task === 'forecast' ? scoreForecast(runtime, meta, text, dataPath, season, part)

@@ -86,6 +86,11 @@ export function readGrid(path: string): Combination[] {
     });
     return { name, values: values as (string | number | boolean)[] };
   });
+  // Counted before any is made: a few hundred bytes of grid can ask for 10⁸ runs.
+  const count = lists.reduce((n, l) => n * l.values.length, files.length);
+  if (count > MAX_COMBINATIONS) {
+    throw new CommandError(`${shown(path)}: ${count.toLocaleString('en')} combinations (${files.length} data file${files.length === 1 ? '' : 's'} × ${lists.map((l) => `${l.values.length} ${l.name}`).join(' × ')}); a grid may hold at most ${MAX_COMBINATIONS.toLocaleString('en')}: split it into grids of fewer values`);
+  }
   const combinations: Combination[] = [];
   for (const file of files) {
     let partial: Record<string, string | number | boolean>[] = [{}];
@@ -95,13 +100,16 @@ export function readGrid(path: string): Combination[] {
   return combinations;
 }
 
+/** The most combinations a grid may hold (each is a training run). */
+export const MAX_COMBINATIONS = 10_000;
+
 /** `--part K/N` as [K, N], checked. */
 export function partOf(text: string | undefined): [number, number] {
   if (text === undefined) return [1, 1];
   const match = /^(\d+)\/(\d+)$/.exec(text.trim());
   const [k, n] = match === null ? [NaN, NaN] : [Number(match[1]), Number(match[2])];
-  if (!(Number.isInteger(k) && Number.isInteger(n) && n >= 1 && k >= 1 && k <= n)) {
-    throw new CommandError(`--part must be K/N with 1 ≤ K ≤ N (the K-th of N parts), got ${JSON.stringify(text)}`, 2);
+  if (!(Number.isSafeInteger(k) && Number.isSafeInteger(n) && n >= 1 && k >= 1 && k <= n && n <= MAX_COMBINATIONS)) {
+    throw new CommandError(`--part must be K/N with 1 ≤ K ≤ N ≤ ${MAX_COMBINATIONS.toLocaleString('en')} (the K-th of N parts), got ${JSON.stringify(text)}`, 2);
   }
   return [k, n];
 }

@@ -5,7 +5,7 @@
  * threads through every step from the flags to the files written; preparing data (datasets.ts, pairs.ts) and
  * reporting (report.ts) live apart.
  */
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readFileSync, statSync } from 'node:fs';
 import { availableParallelism } from 'node:os';
 import { basename, extname, resolve } from 'node:path';
 import { ATTENTION_FORMS, EncoderDecoderModel, MAX_HIDDEN, buildModel, stackMembers } from '@weft/cells';
@@ -84,8 +84,14 @@ export const trainFlags: FlagSpec[] = [
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
-function readData(path: string): string {
+/** The largest data file `weft train` and `weft score` read (checked before reading: a larger one is refused). */
+export const MAX_DATA_BYTES = 32 * 1024 * 1024;
+
+/** A data file's text, refused before it is read when it is missing or larger than MAX_DATA_BYTES. */
+export function readData(path: string): string {
   if (!existsSync(path)) throw new CommandError(`${path}: no such file`);
+  const size = statSync(path).size;
+  if (size > MAX_DATA_BYTES) throw new CommandError(`${path}: ${(size / 1048576).toFixed(1)} MB; weft reads data files of at most ${MAX_DATA_BYTES / 1048576} MB (a small model learns from a sample: cut the file, or keep the last rows)`);
   return readFileSync(path, 'utf8');
 }
 

@@ -53,7 +53,12 @@ describe('weft sweep', () => {
 
   it('refuses a part 3/2, a flag weft train does not know, a flag the sweep sets itself and an empty value list, in one line', () => {
     expect(partOf('2/3')).toEqual([2, 3]);
-    expectOneLineError(weft(['sweep', 'grid.json', '--part', '3/2']), 2, /^weft: --part must be K\/N with 1 ≤ K ≤ N \(the K-th of N parts\), got "3\/2"$/);
+    expectOneLineError(weft(['sweep', 'grid.json', '--part', '3/2']), 2, /^weft: --part must be K\/N with 1 ≤ K ≤ N ≤ 10,000 \(the K-th of N parts\), got "3\/2"$/);
+    expectOneLineError(weft(['sweep', 'grid.json', '--part', '1/99999999999999999999']), 2, /^weft: --part must be K\/N with 1 ≤ K ≤ N ≤ 10,000/);
+    // A grid of a few hundred bytes asking for 10⁸ runs is refused before any is made (each list of 100 values).
+    const hundred = Array.from({ length: 100 }, (_, i) => i + 1);
+    writeFileSync(join(folder, 'huge.json'), JSON.stringify({ data: 'small.csv', flags: { hidden: hundred, window: hundred, streams: hundred, epochs: hundred } }));
+    expectOneLineError(weft(['sweep', 'huge.json', '--merge']), 1, /^weft: huge\.json: 100,000,000 combinations \(1 data file × 100 epochs × 100 hidden × 100 streams × 100 window\); a grid may hold at most 10,000: split it into grids of fewer values$/);
     writeFileSync(join(folder, 'bad.json'), JSON.stringify({ data: 'small.csv', flags: { hiden: [8] } }));
     expectOneLineError(weft(['sweep', 'bad.json']), 1, /^weft: bad\.json: flags\.hiden is not a flag of weft train \(see weft train --help\)$/);
     writeFileSync(join(folder, 'bad.json'), JSON.stringify({ data: 'small.csv', flags: { out: ['x'] } }));

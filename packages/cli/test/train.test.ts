@@ -3,7 +3,7 @@
  * one-line errors for malformed training data and a checkpoint of another model.
  */
 import { spawn } from 'node:child_process';
-import { existsSync, readFileSync, writeFileSync } from 'node:fs';
+import { existsSync, readFileSync, truncateSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { binary, commandFolder, expectOneLineError, writeNotes } from './command.js';
@@ -58,6 +58,13 @@ describe('weft train', () => {
       expectOneLineError(weft(['train', 'short.csv']), 1, /^weft: Bad data at short\.csv:3:2: expected 2 comma-separated fields, as the header has, received 1$/);
       writeFileSync(join(folder, 'quote.csv'), 'a,b\n1,2\n3,4"x\n');
       expectOneLineError(weft(['train', 'quote.csv']), 1, /^weft: Bad data at quote\.csv:3:4: expected a quote only at the start of a field \(or doubled inside quotes\), received a quote inside an unquoted field$/);
+    });
+
+    it('a data file past the size limit, refused before it is read (a sparse 33 MB file), by train and score alike', () => {
+      writeFileSync(join(folder, 'huge.csv'), 'a,b\n');
+      truncateSync(join(folder, 'huge.csv'), 33 * 1024 * 1024);
+      expectOneLineError(weft(['train', 'huge.csv']), 1, /^weft: huge\.csv: 33\.0 MB; weft reads data files of at most 32 MB \(a small model learns from a sample: cut the file, or keep the last rows\)$/);
+      expectOneLineError(weft(['score', 'notes.weft.json', 'huge.csv']), 1, /^weft: huge\.csv: 33\.0 MB; weft reads data files of at most 32 MB/);
     });
 
     it('a non-numeric value, with line and column', () => {
