@@ -29,6 +29,7 @@ const withoutLogic: Record<string, string> = {
   'packages/optim/src/node/index.ts': 'the @weft/optim/node entry: re-exports',
   'packages/optim/src/node/shard-worker.ts': 'a worker thread\'s script, run by threads.ts and tested through test/node/threads.test.ts',
   'packages/io/src/index.ts': 'the package entry: re-exports',
+  'packages/io/src/data/series-types.ts': 'types only (a prepared series\' shapes)',
   'packages/io/src/runtime/index.ts': 'the @weft/io/runtime entry: re-exports',
   'packages/io/src/runtime/javascript.ts': 'the @weft/io/runtime/javascript entry: re-exports',
   'packages/io/src/runtime/encoder-decoder.ts': 'the @weft/io/runtime/encoder-decoder entry: re-exports',

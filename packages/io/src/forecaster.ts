@@ -19,31 +19,11 @@ import { medianOfMembers } from '@weft/cells';
 import type { Runtime } from './runtime/runtime.js';
 import { createTranslator } from './translate.js';
 import { SmoothingStepper } from './data/smoothing.js';
-import type { SmoothingParameters } from './data/smoothing.js';
 import { calendarInputsAt } from './data/calendar.js';
-import type { CalendarPosition } from './data/calendar.js';
 import { parseTime } from './data/time-column.js';
-import type { ForecastIntervals } from './data/prepare-series.js';
-
-/** What a windowed forecast model records in its metadata (`window`). */
-export interface ForecastWindow {
-  /** Rows in a window. */
-  readonly rows: number;
-  /** Per input column, the deviation of one-row changes over the training rows (inputs are divided by it). */
-  readonly deviation: readonly number[];
-  /** Per target (and row ahead, rows ahead outer), the deviation of the change forecast (outputs are multiplied by it). */
-  readonly targetDeviation: readonly number[];
-  /**
-   * Per target, an exponential smoothing method (the hybrid): its forecast made at each row is read as one more
-   * input per target (relative to the window's last row, over that target's deviation), and the model's output is
-   * the correction to the smoothing forecast made at the last row instead of the change from that row.
-   */
-  readonly hybrid?: readonly SmoothingParameters[];
-  /** Calendar positions read from the time column (metadata `timeColumn`), a sine and cosine each, last. */
-  readonly calendar?: readonly CalendarPosition[];
-  /** Per column, true where its logarithm is read (and, for a target, forecast: the output comes back through exp). */
-  readonly log?: readonly boolean[];
-}
+import type { ForecastIntervals } from './data/series-types.js';
+import { forecastIntervals, forecastRowsAhead, forecastWindow } from './forecast-metadata.js';
+export type { ForecastWindow } from './forecast-metadata.js';
 
 /** A row's values by column name: numbers, text as read from a file, or (for the time column) a Date. */
 export type ForecastRow = Readonly<Record<string, number | string | Date>>;
@@ -90,35 +70,6 @@ export interface RowForecaster {
   reset(): void;
 }
 
-/** The window a forecast model's metadata records, or null for a model trained on streams (checked when present). */
-export function forecastWindow(metadata: Readonly<Record<string, unknown>>, columns: number, targets: number, steps = 1): ForecastWindow | null {
-  const window = metadata.window as Partial<ForecastWindow> | undefined;
-  if (window === undefined) return null;
-  const positive = (v: unknown, n: number) => Array.isArray(v) && v.length === n && v.every((x) => typeof x === 'number' && x > 0 && Number.isFinite(x));
-  if (typeof window !== 'object' || window === null || !Number.isInteger(window.rows) || (window.rows as number) < 1) fail('bad_weight_file', 'metadata.window.rows', 'a whole number ≥ 1', JSON.stringify(window?.rows));
-  if (!positive(window.deviation, columns)) fail('bad_weight_file', 'metadata.window.deviation', `${columns} finite numbers > 0 (one per column)`, JSON.stringify(window.deviation)?.slice(0, 80) ?? 'nothing');
-  if (!positive(window.targetDeviation, targets * steps)) fail('bad_weight_file', 'metadata.window.targetDeviation', `${targets * steps} finite numbers > 0 (one per target${steps > 1 ? ` and row ahead, rows ahead outer` : ''})`, JSON.stringify(window.targetDeviation)?.slice(0, 80) ?? 'nothing');
-  if (window.hybrid !== undefined) {
-    const methods = ['simple', 'holt', 'damped', 'additive', 'multiplicative'];
-    const finite = (v: unknown) => typeof v === 'number' && Number.isFinite(v);
-    const sound = (p: Partial<SmoothingParameters>) => typeof p === 'object' && p !== null && methods.includes(p.method as string) && Number.isInteger(p.season) && (p.season as number) >= 1
-      && [p.alpha, p.beta, p.gamma, p.phi, p.level, p.trend].every(finite) && Array.isArray(p.seasonal) && p.seasonal.every(finite)
-      && (p.method === 'additive' || p.method === 'multiplicative' ? p.seasonal.length === p.season : true);
-    if (!Array.isArray(window.hybrid) || window.hybrid.length !== targets || !window.hybrid.every(sound)) {
-      fail('bad_weight_file', 'metadata.window.hybrid', `${targets} smoothing records (method, season, alpha, beta, gamma, phi, level, trend, seasonal), one per target`, JSON.stringify(window.hybrid)?.slice(0, 80) ?? 'nothing');
-    }
-  }
-  if (window.log !== undefined && !(Array.isArray(window.log) && window.log.length === columns && window.log.every((l) => typeof l === 'boolean'))) {
-    fail('bad_weight_file', 'metadata.window.log', `${columns} true or false (one per column)`, JSON.stringify(window.log)?.slice(0, 80) ?? 'nothing');
-  }
-  if (window.calendar !== undefined) {
-    const known = ['month of year', 'quarter of year', 'week of year', 'day of week', 'day of year', 'time of day'];
-    if (!Array.isArray(window.calendar) || !window.calendar.every((c) => known.includes(c))) fail('bad_weight_file', 'metadata.window.calendar', `calendar positions among ${known.join(', ')}`, JSON.stringify(window.calendar)?.slice(0, 80) ?? 'nothing');
-    if (typeof metadata.timeColumn !== 'string') fail('bad_weight_file', 'metadata.timeColumn', 'the name of the time column the calendar inputs are read from', JSON.stringify(metadata.timeColumn) ?? 'nothing');
-  }
-  return window as ForecastWindow;
-}
-
 /** The number in a row's cell: a number as it is, text parsed (NaN when it holds no number or is missing). */
 function cellNumber(raw: number | string | Date | undefined): number {
   if (typeof raw === 'number') return raw;
@@ -131,27 +82,6 @@ function valueAt(row: ForecastRow, name: string, where: string): number {
   const value = cellNumber(raw);
   if (!Number.isFinite(value)) fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : 'a finite number', raw === undefined ? 'nothing' : raw instanceof Date ? 'a Date' : JSON.stringify(raw));
   return value;
-}
-
-/** The rows ahead of each block of a forecast model's outputs, from its metadata (`horizon`, `rowsAhead`). */
-export function forecastRowsAhead(metadata: Readonly<Record<string, unknown>>): number[] {
-  const horizon = Number(metadata.horizon ?? 1);
-  const all = metadata.rowsAhead === 'all';
-  if (metadata.rowsAhead !== undefined && !all) fail('bad_weight_file', 'metadata.rowsAhead', '"all" (every row up to the horizon) or no entry (the horizon alone)', JSON.stringify(metadata.rowsAhead).slice(0, 80));
-  return all ? Array.from({ length: horizon }, (_, i) => i + 1) : [horizon];
-}
-
-/** The prediction intervals a forecast model's metadata records (checked), or null. */
-export function forecastIntervals(metadata: Readonly<Record<string, unknown>>, count: number): ForecastIntervals | null {
-  const intervals = metadata.intervals as { level?: unknown; halfWidth?: unknown } | undefined;
-  if (intervals === undefined) return null;
-  const level = intervals?.level;
-  if (typeof level !== 'number' || !(level > 0 && level < 1)) fail('bad_weight_file', 'metadata.intervals.level', 'a share between 0 and 1', JSON.stringify(level) ?? 'nothing');
-  const half = intervals.halfWidth;
-  if (!Array.isArray(half) || half.length !== count || !half.every((h) => h === null || (typeof h === 'number' && h >= 0 && Number.isFinite(h)))) {
-    fail('bad_weight_file', 'metadata.intervals.halfWidth', `${count} half-widths ≥ 0 (null for none), one per row ahead and target`, JSON.stringify(half)?.slice(0, 80) ?? 'nothing');
-  }
-  return { level, halfWidth: half.map((h: number | null) => (h === null ? Infinity : h)) };
 }
 
 /** A row forecaster for a forecast model and its weight file's metadata. */

@@ -14,7 +14,7 @@ import type { WeightMetadata } from '../weight-file.js';
 import type { ForecastBaselines, SeriesSplit } from './baselines.js';
 import { forecastBaselines, scoreForecaster } from './baselines.js';
 import { calendarFor, calendarInputs } from './calendar.js';
-import type { PreparedSeries, SeriesPreparation, WindowExample } from './prepare-series.js';
+import type { PreparedSeries, SeriesPreparation, WindowExample } from './series-types.js';
 import { conformalHalfWidth, scoreIntervals } from './intervals.js';
 import type { SmoothingMethod, SmoothingParameters } from './smoothing.js';
 import { fitSmoothing, runSmoothing } from './smoothing.js';
