@@ -5,7 +5,8 @@
  */
 import { readFileSync } from 'node:fs';
 import { basename } from 'node:path';
-import { readWeightFile } from '@weft/io';
+import { checkMetadata, readWeightFile } from '@weft/io';
+import { isEncoderDecoder } from '@weft/cells';
 import { writeFileAtomic } from '@weft/io/node';
 import { ONNX_OPSET, decodeOnnxModel, decodeOnnxTensor, encodeOnnxModel, exportOnnx, importOnnx, importedWeightFile } from '@weft/io/onnx';
 import type { OnnxImport, OnnxTensor } from '@weft/io/onnx';
@@ -72,6 +73,7 @@ export async function convert(args: ParsedArgs): Promise<string> {
   if (isWeightFileText(bytes, path)) {
     if (args.flags.has('values')) throw new CommandError('--values is for ONNX files; this is a weight file', 2);
     const file = await readWeightFile(new TextDecoder().decode(bytes));
+    if (isEncoderDecoder(file.model)) throw new CommandError(`${shown(name)}: an encoder-decoder; weft converts sequence models (one chain of layers) to ONNX, not encoder-decoders`);
     const onnx = exportOnnx(file, { lengths: args.switches.has('lengths') });
     const out = args.flags.get('out') ?? path.replace(/(\.weft)?\.json$/i, '') + '.onnx';
     const encoded = encodeOnnxModel(onnx);
@@ -82,7 +84,15 @@ export async function convert(args: ParsedArgs): Promise<string> {
   const values = givenValues(args);
   const imported = importOnnx(decodeOnnxModel(bytes, name), { values });
   const out = args.flags.get('out') ?? path.replace(/\.onnx$/i, '') + '.weft.json';
-  writeFileAtomic(out, await importedWeightFile(imported));
+  const text = await importedWeightFile(imported);
+  // Checked with the reader weft run uses (the file and its metadata against the model) before anything is written:
+  // a model's metadata the ONNX file carried (say a horizon of -3) must not make a file weft then refuses.
+  try {
+    checkMetadata(await readWeightFile(text));
+  } catch (error) {
+    throw new CommandError(`${shown(name)}: the weight file it would become is not one weft can run (nothing written): ${(error as Error).message}`);
+  }
+  writeFileAtomic(out, text);
   const count = imported.tensors.reduce((n, t) => n + t.values.length, 0);
   return `${shown(name)} → ${shown(out)}: ${importSummary(imported)}; ${count} parameters`;
 }

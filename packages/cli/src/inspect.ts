@@ -6,6 +6,8 @@ import { shown } from './terminal.js';
 import { importSummary, isWeightFileText, readBytes } from './convert.js';
 import { WeftError, describeProblem } from '@weft/core';
 import { decodeOnnxModel, importOnnx } from '@weft/io/onnx';
+import { layoutProblems } from '@weft/io';
+import { parameterLayout } from '@weft/cells';
 
 export const inspectFlags: FlagSpec[] = [
   { name: 'json', switch: true, description: 'print the summary as JSON' },
@@ -47,6 +49,14 @@ export async function inspect(args: ParsedArgs): Promise<string> {
     lines.push(`  ${shown(key)}: ${shown(text)}`);
   }
   lines.push('', `digest: SHA-256 ${file.digest} — ${file.digestVerified ? 'verified' : 'DOES NOT MATCH the tensor bytes (the file was changed or damaged)'}`);
+  // The tensors against the description's layout, as weft run checks them (built-in cells; a cell of your own
+  // defines its own tensors).
+  const layout = parameterLayout(file.model);
+  const problems = layout.builtIn ? layoutProblems(file.tensors.map((t) => ({ name: t.name, shape: t.shape })), layout.parameters) : [];
+  if (problems.length > 0) {
+    process.stdout.write(`${lines.join('\n')}\n`);
+    throw new CommandError(`${shown(path)}: weft run refuses this file, its tensors disagree with its description: ${problems.map(describeProblem).join('; ')}`, 1);
+  }
   if (!file.digestVerified) {
     // The report still goes where reports go; the failure is one line on standard error and exit 1.
     process.stdout.write(`${lines.join('\n')}\n`);

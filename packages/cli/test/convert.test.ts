@@ -3,7 +3,7 @@
  * ONNX operator test model (ONNX backend test data, tests/fixtures/onnx) converts with its weights given by
  * --values; inspect shows an ONNX file's graph and what importing it gives, or why not.
  */
-import { copyFileSync, readFileSync, writeFileSync } from 'node:fs';
+import { copyFileSync, existsSync, readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
@@ -37,6 +37,16 @@ describe('weft convert', () => {
     const result = weft(['convert', 'lstm.onnx', '--values', values]);
     expect(result.code).toBe(0);
     expect(result.out).toMatch(/^lstm\.onnx → lstm\.weft\.json: LSTM 3; reads 2 values per step from "X" \(layout 0\); 72 parameters$/m);
+  });
+
+  it('refuses to write a weight file weft could not run, from an ONNX file whose carried metadata contradicts the model', async () => {
+    const model = buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'gru', hidden: 3 }], readout: { width: 1 } }, { seed: 4 });
+    const metadata = { task: 'forecast', columns: ['a', 'b'], targetColumns: ['a'], horizon: -3, normalisation: { mean: [0, 0], deviation: [1, 1] } };
+    writeFileSync(join(folder, 'odd.weft.json'), await writeWeightFile(model.description, modelTensors(model), { metadata }));
+    expect(weft(['convert', 'odd.weft.json']).code).toBe(0);
+    const back = weft(['convert', 'odd.onnx', '--out', 'odd-again.weft.json']);
+    expectOneLineError(back, 1, /^weft: odd\.onnx: the weight file it would become is not one weft can run \(nothing written\): Bad weight file at metadata\.horizon: expected a whole number ≥ 1, received -3$/);
+    expect(existsSync(join(folder, 'odd-again.weft.json'))).toBe(false);
   });
 
   it('refuses a file that is neither, and flags that belong to the other direction', () => {

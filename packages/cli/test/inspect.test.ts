@@ -32,6 +32,16 @@ describe('weft inspect', () => {
     expectOneLineError(result, 1, /^weft: changed\.weft\.json: the SHA-256 digest does not match the tensor bytes \(the file was changed or damaged\)$/);
   });
 
+  it('shows a file whose description disagrees with its tensors, then says in one line that weft run refuses it (exit 1)', () => {
+    // The digest covers the tensor bytes only: a hand-edited description passes it, and the layout check catches it.
+    const text = readFileSync(join(folder, 'small.weft.json'), 'utf8').replace(/"hidden": 6/, '"hidden": 7');
+    writeFileSync(join(folder, 'edited.weft.json'), text);
+    const result = weft(['inspect', 'edited.weft.json']);
+    expect(result.out).toMatch(/^digest: SHA-256 [0-9a-f]{64} — verified$/m);
+    expectOneLineError(result, 1, /^weft: edited\.weft\.json: weft run refuses this file, its tensors disagree with its description: Bad weight file at tensors \(layers\[0\]\.forward\.input\)\.shape: expected \[4, 21\] \(from the model description\), received \[4, 18\]; /);
+    expect(weft(['run', 'edited.weft.json', '-']).code).not.toBe(0);
+  });
+
   it('refuses a file that is no weight file in one line', () => {
     writeFileSync(join(folder, 'text.json'), '[1, 2, 3]');
     expectOneLineError(weft(['inspect', 'text.json']), 1, /^weft: Bad weight file at text\.json: \(file\): expected a JSON object, received /);

@@ -46,6 +46,12 @@ describe('weft on source/target pairs', () => {
     for (const c of codes[0]) expect(svg).toContain(`>${c}</text>`);
   });
 
+  it('says in one line that an encoder-decoder does not convert to ONNX, naming the file', () => {
+    const converted = weft(['convert', 'codes.weft.json']);
+    expect(converted.code).toBe(1);
+    expect(converted.err.trim()).toBe('weft: codes.weft.json: an encoder-decoder; weft converts sequence models (one chain of layers) to ONNX, not encoder-decoders');
+  });
+
   it('scores the test part of the file trained on: the copy baseline\'s figures are those of its definitions', () => {
     const scored = weft(['score', 'codes.weft.json', 'codes.csv', '--format', 'json']);
     expect(scored.code).toBe(0);
