@@ -16,7 +16,7 @@ import { inspect, inspectFlags } from './inspect.js';
 import { runFlags, runModel } from './run.js';
 import { sampleFlags, sampleText } from './sample.js';
 import { score, scoreFlags } from './score.js';
-import { sweep, sweepFlags } from './sweep.js';
+import { sweep, sweepFlags, watchSweepParent } from './sweep.js';
 import { train, trainFlags } from './train.js';
 
 interface Verb {
@@ -33,9 +33,10 @@ const verbs: Record<string, Verb> = {
   train: {
     summary: 'train a model on a CSV of numeric series, a text file, or a labelled CSV of sequences',
     usage: 'weft train DATA [flags]',
-    example: 'weft train greenhouse.csv --target air_temperature_c --horizon 8 --cell gru --hidden 48 --epochs 4',
+    example: 'weft train greenhouse.csv --target air_temperature_c --horizon 8 --cell gru',
     flags: trainFlags,
     act: async (args) => {
+      watchSweepParent();
       await train(args);
       return 0;
     },

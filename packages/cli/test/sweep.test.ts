@@ -5,7 +5,7 @@
  * and one-line errors for a bad grid or part.
  */
 import { spawn } from 'node:child_process';
-import { readFileSync, writeFileSync } from 'node:fs';
+import { readFileSync, readdirSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
@@ -44,6 +44,46 @@ describe('weft sweep', () => {
     expect(readFileSync(join(folder, 'parts', 'table.csv'), 'utf8')).toBe(table);
     expect(table.split('\n')[1]).toMatch(/^1,\d,small\.csv,gru,2,\d+,4,0\.0\d,4,air_temperature_c,16,[\d.e-]+,MAE,[\d.e-]+,[\d.e-]+,\w[\w -]*,[\d.e-]+,\d+,$/);
   }, 120_000);
+
+  it('trains again only what an earlier run of the same grid did not finish, and merges only parts of this grid, as written', () => {
+    const again = weft(['sweep', 'grid.json', '--folder', 'whole']);
+    expect(again.code).toBe(0);
+    expect(again.out).toMatch(/^part 1 of 1: 6 of 6 combinations, \d+ at a time \(6 finished by an earlier run of this grid, not trained again\)$/m);
+    // Another grid over the same folder: its parts are not this grid's.
+    writeFileSync(join(folder, 'other.json'), JSON.stringify({ ...grid, flags: { ...grid.flags, rate: [0.01, 0.03] } }));
+    expectOneLineError(weft(['sweep', 'other.json', '--folder', 'parts', '--merge']), 1, /^weft: part-1-of-3\.json: made from another grid \(the grid changed since: run the parts again\)$/);
+    // A part changed by hand: a row's results taken out, or the file broken.
+    const partPath = join(folder, 'parts', 'part-1-of-3.json');
+    const original = readFileSync(partPath, 'utf8');
+    const part = JSON.parse(original) as { rows: { results: unknown }[] };
+    part.rows[0].results = null;
+    writeFileSync(partPath, JSON.stringify(part));
+    expectOneLineError(weft(['sweep', 'grid.json', '--folder', 'parts', '--merge']), 1, /^weft: part-1-of-3\.json: combination 0: its results are not those weft train writes \(changed by hand\?\)$/);
+    writeFileSync(partPath, original.slice(0, 40));
+    expectOneLineError(weft(['sweep', 'grid.json', '--folder', 'parts', '--merge']), 1, /^weft: part-1-of-3\.json: not a part's results \(/);
+    writeFileSync(partPath, original);
+    expect(weft(['sweep', 'grid.json', '--folder', 'parts', '--merge']).code).toBe(0);
+  }, 60_000);
+
+  it.skipIf(process.platform !== 'linux')('leaves no training running when its part is killed with SIGKILL', async () => {
+    // Trainings long enough to outlive the wait below by far (300 epochs, never stopped early).
+    writeFileSync(join(folder, 'long.json'), JSON.stringify({ ...grid, flags: { ...grid.flags, epochs: 300, patience: 1000 } }));
+    const child = spawn(process.execPath, [binary, 'sweep', 'long.json', '--folder', 'killed', '--jobs', '2'], { cwd: folder, stdio: 'ignore' });
+    // The training processes of this sweep, found by their command lines (Linux's /proc).
+    const trainings = () => readdirSync('/proc').filter((pid) => /^\d+$/.test(pid)).filter((pid) => {
+      try {
+        return readFileSync(`/proc/${pid}/cmdline`, 'utf8').includes(join(folder, 'killed', 'c'));
+      } catch {
+        return false;
+      }
+    });
+    for (let waited = 0; trainings().length === 0 && waited < 30_000; waited += 100) await new Promise((r) => setTimeout(r, 100));
+    expect(trainings().length).toBeGreaterThan(0);
+    child.kill('SIGKILL');
+    // Each training checks every second that its sweep is still there, and ends itself when it is not.
+    for (let waited = 0; trainings().length > 0 && waited < 10_000; waited += 100) await new Promise((r) => setTimeout(r, 100));
+    expect(trainings()).toEqual([]);
+  }, 60_000);
 
   it('refuses to merge while a part is missing, naming the combinations', () => {
     expectOneLineError(weft(['sweep', 'grid.json', '--folder', 'whole-missing', '--merge']), 1, /no such folder/);
