@@ -88,24 +88,36 @@ function safe(value: bigint, where: string): number {
 export function int64sOf(field: WireField, path: string, name: string): number[] {
   if (field.wire === 0) return [int64Of(field, path, name)];
   requireWire(field, 2, path, name);
-  return readPackedVarints(field.value as Uint8Array, field.at, `${path}.${name}`).map((v) => safe(BigInt.asIntN(64, v), `${path}.${name} @${field.at}`));
+  return readPackedVarints(field.value as Uint8Array, field.at, `${path}.${name}`);
 }
 
-function readPackedVarints(bytes: Uint8Array, at: number, path: string): bigint[] {
-  const out: bigint[] = [];
-  let value = 0n;
-  let shift = 0n;
-  for (let i = 0; i < bytes.length; i++) {
-    value |= BigInt(bytes[i] & 0x7f) << shift;
-    if ((bytes[i] & 0x80) === 0) {
-      out.push(value);
-      value = 0n;
-      shift = 0n;
-    } else if ((shift += 7n) > 63n) {
-      fail('bad_data', `${path} @${at}`, 'packed varints of at most 10 bytes', 'a longer one');
+/**
+ * Packed varints as signed 64-bit integers, each within ±2^53 (else an error): one number per value, computed in
+ * plain arithmetic for varints of up to 7 bytes (49 bits: exact), through BigInt only for longer ones (negative
+ * values take 10 bytes), so a large tensor costs 8 bytes a value, not a BigInt object each.
+ */
+function readPackedVarints(bytes: Uint8Array, at: number, path: string): number[] {
+  let count = 0;
+  for (let i = 0; i < bytes.length; i++) if ((bytes[i] & 0x80) === 0) count++;
+  if (bytes.length > 0 && (bytes[bytes.length - 1] & 0x80) !== 0) fail('bad_data', `${path} @${at}`, 'complete packed varints', 'a varint cut short');
+  const out = new Array<number>(count);
+  let start = 0;
+  for (let k = 0; k < count; k++) {
+    let end = start;
+    while ((bytes[end] & 0x80) !== 0) end++;
+    const length = end - start + 1;
+    if (length > 10) fail('bad_data', `${path} @${at}`, 'packed varints of at most 10 bytes', 'a longer one');
+    if (length <= 7) {
+      let value = 0;
+      for (let i = end; i >= start; i--) value = value * 128 + (bytes[i] & 0x7f);
+      out[k] = value;
+    } else {
+      let value = 0n;
+      for (let i = end; i >= start; i--) value = (value << 7n) | BigInt(bytes[i] & 0x7f);
+      out[k] = safe(BigInt.asIntN(64, value), `${path} @${at}`);
     }
+    start = end + 1;
   }
-  if (shift !== 0n) fail('bad_data', `${path} @${at}`, 'complete packed varints', 'a varint cut short');
   return out;
 }
 

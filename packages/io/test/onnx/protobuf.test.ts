@@ -23,6 +23,23 @@ describe('the protobuf wire format', () => {
     expect(int64sOf(fields[3], 'm', 'd')).toEqual([3, 300, -1]);
   });
 
+  it('reads packed varints of every length as protobufjs writes them, 1 to 10 bytes, negatives and ±2^53 included', () => {
+    const values = [0, 1, 127, 128, 300, 2 ** 28, 2 ** 35 + 5, 2 ** 48 - 1, 2 ** 49, 2 ** 53 - 1, -1, -300, -(2 ** 53) + 1];
+    const theirs = protobuf.Writer.create();
+    theirs.uint32(10).fork();
+    for (const v of values) theirs.int64(v);
+    theirs.ldelim();
+    const fields = readFields(theirs.finish(), 0, 'm');
+    expect(int64sOf(fields[0], 'm', 'ints')).toEqual(values);
+    // 2^53 itself is past what a number holds exactly: refused, not rounded.
+    const big = protobuf.Writer.create();
+    big.uint32(10).fork().int64(protobuf.util.LongBits.fromNumber(2 ** 53).toLong()).ldelim();
+    expect(() => int64sOf(readFields(big.finish(), 0, 'm')[0], 'm', 'ints')).toThrowError(/^Bad data at m\.ints @\d+: expected an integer within ±2\^53, received 9007199254740992$/);
+    // A packed run cut in the middle of a varint.
+    const cut = readFields(Uint8Array.of(0x0a, 0x02, 0x96, 0x81), 0, 'm');
+    expect(() => int64sOf(cut[0], 'm', 'ints')).toThrowError(/^Bad data at m\.ints @\d+: expected complete packed varints, received a varint cut short$/);
+  });
+
   it('refuses bytes cut short, a length past the end, group wire types and a field of the wrong wire type, by offset', () => {
     expect(() => readFields(Uint8Array.of(0x08, 0x96), 0, 'model.onnx')).toThrowError('Bad data at model.onnx @2: expected a complete varint, received the end of the bytes (the file is cut short)');
     expect(() => readFields(Uint8Array.of(0x0a, 0x05, 0x01), 0, 'model.onnx')).toThrowError(
