@@ -7,8 +7,11 @@ import { existsSync, readFileSync, readdirSync } from 'node:fs';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
-import { loadModel, readWeightFile, writeWeightFile } from '@weft/io';
-import { decodeOnnxModel, decodeOnnxTensor, importOnnx } from '@weft/io/onnx';
+import fc from 'fast-check';
+import { WeftError } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { loadModel, modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
+import { decodeOnnxModel, decodeOnnxTensor, exportOnnx, importOnnx } from '@weft/io/onnx';
 import type { OnnxTensor } from '@weft/io/onnx';
 import { runAsOnnx } from './run.js';
 import { smallModel } from './refusals.js';
@@ -130,4 +133,46 @@ describe('ONNX readouts', () => {
     expect(Array.from(readout.values)).toEqual([1, 4, 2, 5, 3, 6]);
     expect(Array.from(imported.tensors.find((t) => t.name === 'readout.bias')!.values)).toEqual([-1, 1]);
   });
+});
+
+describe('ONNX graphs mutated at random (fast-check, 1,000 cases)', () => {
+  it('import or give the library\'s one-line error, never hang or throw anything else: cycles, self-loops, duplicate outputs, stray nodes', async () => {
+    const model = buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'gru', hidden: 4 }, { cell: 'lstm', hidden: 3 }], readout: { width: 2 } }, { seed: 9 });
+    const base = exportOnnx(await readWeightFile(await writeWeightFile(model.description, modelTensors(model))));
+    expect(() => importOnnx(base)).not.toThrow();
+    const names = [...new Set(base.graph.nodes.flatMap((n) => [...n.inputs, ...n.outputs]).filter((n) => n !== ''))];
+    const ops = ['Identity', 'Transpose', 'Squeeze', 'Reshape', 'MatMul', 'Add', 'LSTM', 'GRU'];
+    const mutation = fc.oneof(
+      // A new node reading and writing existing values (cycles, self-loops and duplicate outputs among them).
+      fc.record({ kind: fc.constant('add' as const), op: fc.constantFrom(...ops), inputs: fc.array(fc.constantFrom(...names, 'fresh'), { minLength: 1, maxLength: 3 }), output: fc.constantFrom(...names, 'fresh2') }),
+      // A node's input renamed onto one of the values (its own output included).
+      fc.record({ kind: fc.constant('rewire' as const), node: fc.nat(), slot: fc.nat(), to: fc.constantFrom(...names) }),
+      fc.record({ kind: fc.constant('duplicate' as const), node: fc.nat() }),
+      fc.record({ kind: fc.constant('remove' as const), node: fc.nat() }),
+    );
+    let imported = 0;
+    let refused = 0;
+    fc.assert(fc.property(fc.array(mutation, { minLength: 1, maxLength: 4 }), (mutations) => {
+      const nodes = base.graph.nodes.map((n) => ({ ...n, inputs: [...n.inputs], outputs: [...n.outputs] }));
+      for (const m of mutations) {
+        if (m.kind === 'add') nodes.push({ name: `x${nodes.length}`, opType: m.op, domain: '', inputs: m.inputs, outputs: [m.output], attributes: [] });
+        else if (nodes.length === 0) continue;
+        else if (m.kind === 'rewire') {
+          const node = nodes[m.node % nodes.length];
+          node.inputs[m.slot % node.inputs.length] = m.to;
+        } else if (m.kind === 'duplicate') nodes.push({ ...nodes[m.node % nodes.length], name: `d${nodes.length}` });
+        else nodes.splice(m.node % nodes.length, 1);
+      }
+      try {
+        importOnnx({ ...base, graph: { ...base.graph, nodes } });
+        imported++;
+      } catch (error) {
+        if (!(error instanceof WeftError)) throw new Error(`not the library's error: ${String(error)}`);
+        expect(error.message.split('\n')).toHaveLength(1);
+        refused++;
+      }
+    }), { numRuns: 1000, seed: 20261205 });
+    console.log(`mutated graphs: ${imported} imported, ${refused} refused in one line`);
+    expect(refused).toBeGreaterThan(0);
+  }, 60_000);
 });
