@@ -179,6 +179,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   };
   if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
   const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
+  // Checked with the other flags, before any training.
+  const intervalLevel = args.flags.get('interval') === 'none' ? null : numberFlag(args, 'interval', 0.95, { min: 0.5, max: 0.999 });
   for (const name of ['time-column', 'examples', 'hybrid', 'ensemble', 'log', 'interval']) {
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
@@ -372,8 +374,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   // Prediction intervals from the validation part's errors (JSON has no Infinity: a part too short for the level
   // records null, an interval without bounds).
   let intervals: ForecastIntervals | undefined;
-  if (prepared.task === 'forecast' && prepared.intervals !== undefined && args.flags.get('interval') !== 'none') {
-    const level = numberFlag(args, 'interval', 0.95, { min: 0.5, max: 0.999 });
+  if (prepared.task === 'forecast' && prepared.intervals !== undefined && intervalLevel !== null) {
+    const level = intervalLevel;
     intervals = { level, halfWidth: prepared.intervals(final as SequenceModel, level) };
     keptMetadata = { ...keptMetadata, intervals: { level, method: 'split conformal', halfWidth: intervals.halfWidth.map((h) => (Number.isFinite(h) ? h : null)) } };
   }
