@@ -349,6 +349,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   let keptMetadata: ReturnType<typeof metadataFor> & { members?: number; intervals?: unknown } = metadataFor(trainer);
   if (ensemble > 1 && prepared.task === 'forecast') {
     const members = [model as SequenceModel];
+    // Ctrl-C while a member trains stops it as it stops the first: the checkpoint holds member 1, resuming repeats the rest.
+    process.on('SIGINT', onInterrupt);
     for (let k = 2; k <= ensemble; k++) {
       const memberSeed = `${seed}/${k}`;
       const member = buildModel(description, { seed: memberSeed });
@@ -360,6 +362,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
         await memberThreads?.close();
       }
       if (memberSummary.stoppedBy === 'signal') {
+        process.off('SIGINT', onInterrupt);
         log(`interrupted while training member ${k} of ${ensemble}; the checkpoint holds member 1: ${checkpoint}`);
         log(`resume with: ${resumeCommand(args, checkpoint)}`);
         throw new CommandError('', 130);
@@ -368,6 +371,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
       info(`member ${k} of ${ensemble} (seed ${memberSeed}): ${memberSummary.steps} steps, kept step ${memberSummary.keptStep}${figure === undefined ? '' : `, validation ${figureName(prepared)} ${Number(figure.toPrecision(4))}`}`);
       members.push(member);
     }
+    process.off('SIGINT', onInterrupt);
     final = stackMembers(members);
     keptMetadata = { ...keptMetadata, members: ensemble, training: { ...keptMetadata.training, seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)) } };
   }
