@@ -3,7 +3,7 @@
  * as in ONNX's own operator test models, come from TensorProto files named with `--values`); a weight file becomes an
  * ONNX model (operator set 22). Which way is read from the file's content: a weight file is JSON text.
  */
-import { readFileSync } from 'node:fs';
+import { closeSync, openSync, readFileSync, readSync, statSync } from 'node:fs';
 import { basename } from 'node:path';
 import { checkMetadata, readWeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
@@ -22,10 +22,29 @@ export const convertFlags: FlagSpec[] = [
 ];
 
 /** Reads a file whole, naming it when it is missing. */
+/**
+ * The largest ONNX file `weft convert` and `weft inspect` read, checked before reading (decoding takes several times
+ * a file's size; weight files have the reader's own limits, docs/weight-format.md).
+ */
+export const MAX_ONNX_BYTES = 64 * 1024 * 1024;
+
+/** A file's bytes; an ONNX file (not a weight file, by its name or first byte) past MAX_ONNX_BYTES is refused unread. */
 export function readBytes(path: string): Uint8Array {
   try {
+    const size = statSync(path).size;
+    if (size > MAX_ONNX_BYTES) {
+      const head = new Uint8Array(64);
+      const handle = openSync(path, 'r');
+      try {
+        readSync(handle, head, 0, head.length, 0);
+      } finally {
+        closeSync(handle);
+      }
+      if (!isWeightFileText(head, path)) throw new CommandError(`${shown(path)}: ${(size / 1048576).toFixed(1)} MB; weft reads ONNX files of at most ${MAX_ONNX_BYTES / 1048576} MB`);
+    }
     return readFileSync(path);
   } catch (error) {
+    if (error instanceof CommandError) throw error;
     const code = (error as NodeJS.ErrnoException).code;
     throw new CommandError(`${shown(path)}: ${code === 'ENOENT' ? 'no such file' : (error as Error).message}`);
   }

@@ -20,6 +20,8 @@ export async function* boundedLines(input: Readable | AsyncIterable<string | Uin
   let partial = '';
   let line = 0;
   const tooLong = (): never => {
+    // Stop the stream too: left open, it would go on filling memory with input nobody reads.
+    if (typeof (input as Readable).destroy === 'function') (input as Readable).destroy();
     throw new CommandError(`${file}:${line + 1}: a line longer than ${maxLine.toLocaleString('en')} characters; weft run reads at most that much per line`);
   };
   for await (const chunk of input as AsyncIterable<string | Uint8Array>) {
