@@ -13,7 +13,7 @@
  */
 import { readData } from './train.js';
 import { Random, fail, indexOfLargest, logSumExp } from '@weft/core';
-import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastWords, scoreIntervals, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
+import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastMissing, forecastWords, insertSkippedTimes, missingTest, scoreIntervals, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
 import type { Table, WeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
@@ -79,14 +79,20 @@ export async function score(args: ParsedArgs): Promise<string> {
 
 function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, season: number | null | undefined, part: ScoredPart): HeldOutReport {
   const translator = createTranslator(meta);
-  const table = parseTable(text, { file: name });
+  const given = parseTable(text, { file: name });
+  // A model that takes missing readings reads the file as training did: skipped times put back as rows of missing
+  // cells, and the markers read as missing (never scored).
+  const missing = forecastMissing(meta, translator.inputNames.length);
+  const givenTime = missing === null ? null : readTimeColumn(given, typeof meta.timeColumn === 'string' && given.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
+  const table = givenTime === null ? given : insertSkippedTimes(given, givenTime).table;
+  const isMissing = missing === null ? null : missingTest(missing.markers);
   const at = translator.inputNames.map((c) => {
     const i = table.header.indexOf(c);
     if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)}, which the model reads (it reads ${translator.inputNames.join(', ')})`);
     return i;
   });
   const horizon = Number(meta.horizon);
-  const values = table.rows.map((_, r) => at.map((c) => numberAt(table, r, c)));
+  const values = table.rows.map((row, r) => at.map((c) => (isMissing !== null && isMissing(row.fields[c]) ? NaN : numberAt(table, r, c))));
   const targets = translator.outputNames.map((t) => translator.inputNames.indexOf(t));
   const rows = values.length;
   if (rows < horizon + 4) throw new CommandError(`${name}: ${rows} rows are too few to score forecasts ${horizon} rows ahead`);
@@ -126,7 +132,7 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
   const step = (h: number) => rowsAhead.indexOf(h) * targets.length;
   const forecastAt = (t: number, k: number, h: number) => (forecasts[t] as Float64Array)[step(h) + k];
   const report = forecastReport({
-    what: `${forecastWords(positions.length, translator.outputNames, rowsAhead)}, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
+    what: `${forecastWords(positions.length, translator.outputNames, rowsAhead, positions.reduce((n, t) => n + targets.filter((j) => !Number.isNaN(values[t + horizon][j])).length, 0))}, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
     model: scoreForecaster(split, forecastAt, baselines.scales),
     baselines: baselines.scores,
     names: translator.outputNames,

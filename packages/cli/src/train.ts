@@ -53,6 +53,9 @@ export const trainFlags: FlagSpec[] = [
   { name: 'hybrid', value: 'auto|yes|no', description: 'on top of exponential smoothing: the model reads the forecasts of the smoothing method best on the validation part and forecasts their correction; auto trains it and the plain model and keeps the one better on the validation part (forecast, sliding windows)', fallback: 'auto' },
   { name: 'interval', value: 'LEVEL|none', description: 'prediction intervals meant to hold this share of values (split conformal on the validation part\'s errors), recorded in the weight file, scored on the test part (coverage, MSIS) and printed by weft run (forecast)', fallback: '0.95' },
   { name: 'log', value: 'auto|yes|no', description: 'read the targets as logarithms (sliding windows): auto where every value is above 0 and the season\'s swing grows with the level (Holt-Winters fits the training rows better with a multiplicative season than an additive one); windows read relative to their last value already scale with the level', fallback: 'no' },
+  { name: 'missing', value: 'interpolate|carry|segments|refuse', description: 'missing readings (empty, NA, N/A, NaN, null, None, -, and skipped times of a regular time column): fill inputs across each gap linearly, or carry the last value, each with a 0/1 "was missing" input per column with holes; segments keeps every hole out of the training windows; refuse stops at the first; a missing target is never trained on or scored (forecast, sliding windows)', fallback: 'interpolate' },
+  { name: 'gap-limit', value: 'ROWS', description: 'the longest gap a training window may hold; longer gaps cut the series into segments (forecast)', fallback: 'half the window' },
+  { name: 'missing-marker', value: 'TEXT', description: 'one more cell text read as missing, such as -999 (write --missing-marker=-999 for one that starts with a dash); several separated by commas (forecast)' },
   { name: 'time-column', value: 'NAME', description: 'the column of times of a series (dates, date-times, year-months, year-quarters, years): gives the season\'s candidates', fallback: 'a column named like a time, or the first whose values are times' },
   { name: 'validate-every', value: 'STEPS', description: 'validate this often (and at each epoch end)' },
   { name: 'patience', value: 'NUMBER', description: 'stop after this many validations without improvement; the best weights are kept either way', fallback: '3; 5 on sliding windows' },
@@ -176,12 +179,15 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     seed,
     transform: choiceFlag(args, 'transform', ['none', 'differences', 'log-returns'] as const, 'none'),
     season: args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined,
+    missing: choiceFlag(args, 'missing', ['interpolate', 'carry', 'segments', 'refuse'] as const, 'interpolate'),
+    gapLimit: args.flags.has('gap-limit') ? numberFlag(args, 'gap-limit', 1, { whole: true, min: 1, max: 100000 }) : undefined,
+    missingMarkers: args.flags.get('missing-marker')?.split(','),
   };
   if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
   const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
   // Checked with the other flags, before any training.
   const intervalLevel = args.flags.get('interval') === 'none' ? null : numberFlag(args, 'interval', 0.95, { min: 0.5, max: 0.999 });
-  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble', 'log', 'interval']) {
+  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble', 'log', 'interval', 'missing', 'gap-limit', 'missing-marker']) {
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);

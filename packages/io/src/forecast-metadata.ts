@@ -7,6 +7,7 @@ import { fail } from '@weft/core';
 import type { SmoothingParameters } from './data/smoothing.js';
 import type { CalendarPosition } from './data/calendar.js';
 import type { ForecastIntervals } from './data/series-types.js';
+import type { MissingRecord } from './data/missing.js';
 
 /** What a windowed forecast model records in its metadata (`window`). */
 export interface ForecastWindow {
@@ -76,4 +77,22 @@ export function forecastIntervals(metadata: Readonly<Record<string, unknown>>, c
     fail('bad_weight_file', 'metadata.intervals.halfWidth', `${count} half-widths ≥ 0 (null for none), one per row ahead and target`, JSON.stringify(half)?.slice(0, 80) ?? 'nothing');
   }
   return { level, halfWidth: half.map((h: number | null) => (h === null ? Infinity : h)) };
+}
+
+/** How a forecast model handles missing readings (metadata `missing`, checked), or null for a model without the record. */
+export function forecastMissing(metadata: Readonly<Record<string, unknown>>, columns: number): MissingRecord | null {
+  const missing = metadata.missing as Partial<MissingRecord> | undefined;
+  if (missing === undefined) return null;
+  const where = (field: string) => `metadata.missing.${field}`;
+  if (typeof missing !== 'object' || missing === null || !['interpolate', 'carry', 'segments'].includes(missing.rule as string)) fail('bad_weight_file', where('rule'), 'interpolate, carry or segments', JSON.stringify(missing?.rule) ?? 'nothing');
+  if (!(Number.isInteger(missing.gapLimit) && (missing.gapLimit as number) >= 1)) fail('bad_weight_file', where('gapLimit'), 'a whole number of rows ≥ 1', JSON.stringify(missing.gapLimit) ?? 'nothing');
+  const flagged = missing.flagged;
+  if (!Array.isArray(flagged) || !flagged.every((j, i) => Number.isInteger(j) && j >= 0 && j < columns && (i === 0 || j > flagged[i - 1]))) {
+    fail('bad_weight_file', where('flagged'), `indexes of input columns in [0, ${columns}), increasing`, JSON.stringify(flagged)?.slice(0, 80) ?? 'nothing');
+  }
+  if (!Array.isArray(missing.fallback) || missing.fallback.length !== columns || !missing.fallback.every((v) => typeof v === 'number' && Number.isFinite(v))) {
+    fail('bad_weight_file', where('fallback'), `${columns} finite numbers (one per column)`, JSON.stringify(missing.fallback)?.slice(0, 80) ?? 'nothing');
+  }
+  if (!Array.isArray(missing.markers) || !missing.markers.every((m) => typeof m === 'string')) fail('bad_weight_file', where('markers'), 'an array of strings', JSON.stringify(missing.markers)?.slice(0, 80) ?? 'nothing');
+  return missing as MissingRecord;
 }

@@ -13,6 +13,9 @@
  *   targets per row ahead, each with its own `targetDeviation`), and any model may be several members trained from
  *   different seeds (metadata `members`, stacked by `stackMembers`), whose forecasts are combined by their median;
  *   and it may read some columns as logarithms (`window.log`), its forecasts of those coming back through exp.
+ * - A windowed model that records how it handles missing readings (metadata `missing`) takes rows with holes: a
+ *   missing cell (a marker such as `NA` or an empty cell, or NaN among numbers) is filled in each window by the
+ *   recorded rule from the rows up to it (missing.ts, as in training) and flagged where the model reads a flag.
  */
 import { fail } from '@weft/core';
 import { medianOfMembers } from '@weft/cells';
@@ -22,7 +25,8 @@ import { SmoothingStepper } from './data/smoothing.js';
 import { calendarInputsAt } from './data/calendar.js';
 import { parseTime } from './data/time-column.js';
 import type { ForecastIntervals } from './data/series-types.js';
-import { forecastIntervals, forecastRowsAhead, forecastWindow } from './forecast-metadata.js';
+import { forecastIntervals, forecastMissing, forecastRowsAhead, forecastWindow } from './forecast-metadata.js';
+import { fillColumn, missingTest } from './data/missing.js';
 export type { ForecastWindow } from './forecast-metadata.js';
 
 /** A row's values by column name: numbers, text as read from a file, or (for the time column) a Date. */
@@ -50,6 +54,8 @@ export interface RowForecaster {
   readonly intervals: ForecastIntervals | null;
   /** Rows it needs before its first forecast (1 for a stream, the window's rows for a windowed model). */
   readonly warmUp: number;
+  /** True when rows may have missing readings (the model records how to fill them); else every cell must hold a number. */
+  readonly takesMissing: boolean;
   /**
    * Takes the next row (raw values by column name; `where` names it in errors) and returns the forecast made at it
    * of the farthest row ahead, by target name in real units, or null while fewer than `warmUp` rows have been given.
@@ -63,12 +69,14 @@ export interface RowForecaster {
   /**
    * As `nextInto`, the row given as numbers in the order of `readNames`: the input columns and, for a model reading
    * calendar positions, the row's time last, in milliseconds since 1970-01-01 UTC. It allocates nothing: the way to
-   * stream a forecaster in a hot loop.
+   * stream a forecaster in a hot loop. NaN is a missing reading, for a model that takes them (`takesMissing`).
    */
   nextValuesInto(values: ArrayLike<number>, out: { [index: number]: number; readonly length: number }): boolean;
   /** Forgets every row given so far. */
   reset(): void;
 }
+
+const STANDARD_MISSING = missingTest();
 
 /** The number in a row's cell: a number as it is, text parsed (NaN when it holds no number or is missing). */
 function cellNumber(raw: number | string | Date | undefined): number {
@@ -77,10 +85,19 @@ function cellNumber(raw: number | string | Date | undefined): number {
   return raw.trim() === '' ? NaN : Number(raw);
 }
 
-function valueAt(row: ForecastRow, name: string, where: string): number {
+/**
+ * The reading of column `name` in a row: a finite number, or NaN for a missing reading where `isMissing` is given
+ * (a marker, or NaN); anything else is an error naming the row and column.
+ */
+function valueAt(row: ForecastRow, name: string, where: string, isMissing: ((text: string) => boolean) | null): number {
   const raw = Object.prototype.hasOwnProperty.call(row, name) ? row[name] : undefined;
+  if (isMissing !== null && ((typeof raw === 'string' && isMissing(raw)) || (typeof raw === 'number' && Number.isNaN(raw)))) return NaN;
   const value = cellNumber(raw);
-  if (!Number.isFinite(value)) fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : 'a finite number', raw === undefined ? 'nothing' : raw instanceof Date ? 'a Date' : JSON.stringify(raw));
+  if (!Number.isFinite(value)) {
+    const marker = (typeof raw === 'string' && STANDARD_MISSING(raw)) || (typeof raw === 'number' && Number.isNaN(raw));
+    const expected = isMissing !== null ? 'a finite number or a missing-reading marker' : marker ? 'a finite number (this model records no rule for missing readings: retrain it with this version)' : 'a finite number';
+    fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : expected, raw === undefined ? 'nothing' : raw instanceof Date ? 'a Date' : JSON.stringify(raw));
+  }
   return value;
 }
 
@@ -142,7 +159,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
       return true;
     };
     const nextInto: RowForecaster['nextInto'] = (row, out, where = 'row') => {
-      for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where);
+      for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where, null);
       return advance(rowValues, out, where);
     };
     return {
@@ -153,6 +170,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
       members,
       intervals,
       warmUp: 1,
+      takesMissing: false,
       nextInto,
       nextValuesInto: (values, out) => advance(values, out, 'values'),
       next: (row, where) => (nextInto(row, farthest, where), named()),
@@ -169,7 +187,11 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   // Each row as kept: the raw values, (hybrid) the smoothing forecast made at it per target, and its time.
   const timeSlot = width + hybrids;
   const stride = timeSlot + 1;
-  const inputWidth = timeSlot + 2 * calendar.length;
+  const missing = forecastMissing(metadata, width);
+  const isMissing = missing === null ? null : missingTest(missing.markers);
+  const flagged = missing?.flagged ?? [];
+  const flagAt = timeSlot + 2 * calendar.length;
+  const inputWidth = flagAt + flagged.length;
   // The last w rows, oldest first once full: ring[(start + k) % w] is the k-th row of the window.
   const ring = new Float64Array(w * stride);
   const input = new Float32Array(inputWidth);
@@ -177,17 +199,30 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const rowValues = new Float64Array(width);
   const bases = new Float64Array(targetCount * rowsAhead.length);
   const logged = window.log ?? inputNames.map(() => false);
+  // Missing readings: the window's values filled (row-major), and per column the last value observed in a row that
+  // has left the window, and that row's number.
+  const filled = new Float64Array(w * width);
+  const before = new Float64Array(width).fill(NaN);
+  const beforeRow = new Float64Array(width).fill(-1);
   const advance = (values: ArrayLike<number>, time: number, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
     checkOut(out);
     for (let j = 0; j < width; j++) {
-      if (!Number.isFinite(values[j])) fail('bad_data', `${where}.${inputNames[j]}`, 'a finite number', String(values[j]));
+      if (!Number.isFinite(values[j]) && !(missing !== null && Number.isNaN(values[j]))) fail('bad_data', `${where}.${inputNames[j]}`, missing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(values[j]));
     }
     if (timeColumn !== null && !Number.isFinite(time)) fail('bad_data', `${where}.${timeColumn}`, `a time (milliseconds since 1970-01-01 UTC) for column ${JSON.stringify(timeColumn)}, last: the model reads where in the calendar each row falls`, String(time));
     const slot = seen % w;
     const at = slot * stride;
+    if (missing !== null && seen >= w) {
+      // The row leaving the window: its readings become the last seen before the window.
+      for (let j = 0; j < width; j++) {
+        if (Number.isNaN(ring[at + j])) continue;
+        before[j] = ring[at + j];
+        beforeRow[j] = seen - w;
+      }
+    }
     for (let j = 0; j < width; j++) {
       const v = values[j];
-      if (logged[j] && !(v > 0)) fail('bad_data', `${where}.${inputNames[j]}`, 'a number > 0 (the model reads its logarithm)', String(v));
+      if (logged[j] && !(v > 0) && !Number.isNaN(v)) fail('bad_data', `${where}.${inputNames[j]}`, 'a number > 0 (the model reads its logarithm)', String(v));
       ring[at + j] = logged[j] ? Math.log(v) : v;
     }
     // The hybrid's forecasts made at this row: the nearest row ahead kept with the row, every row ahead in `bases`.
@@ -202,17 +237,28 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     if (seen < w) return false;
     streams.reset();
     const start = seen % w;
+    // The window's values, oldest first, with any missing reading filled by the recorded rule.
     for (let k = 0; k < w; k++) {
       const from = ((start + k) % w) * stride;
-      for (let j = 0; j < width; j++) input[j] = (ring[from + j] - ring[at + j]) / window.deviation[j];
-      for (let i = width; i < timeSlot; i++) input[i] = (ring[from + i] - ring[at + targets[i - width]]) / window.deviation[targets[i - width]];
+      for (let j = 0; j < width; j++) filled[k * width + j] = ring[from + j];
+    }
+    if (missing !== null) {
+      const first = seen - w;
+      for (let j = 0; j < width; j++) fillColumn(filled, j, width, w, before[j], beforeRow[j] - first, missing.rule, missing.fallback[j]);
+    }
+    const last = (w - 1) * width;
+    for (let k = 0; k < w; k++) {
+      const from = ((start + k) % w) * stride;
+      for (let j = 0; j < width; j++) input[j] = (filled[k * width + j] - filled[last + j]) / window.deviation[j];
+      for (let i = width; i < timeSlot; i++) input[i] = (ring[from + i] - filled[last + targets[i - width]]) / window.deviation[targets[i - width]];
       if (timeColumn !== null) calendarInputsAt(calendar, ring, from + timeSlot, input, timeSlot);
+      for (let i = 0; i < flagged.length; i++) input[flagAt + i] = Number.isNaN(ring[from + flagged[i]]) ? 1 : 0;
       streams.step(input, output);
     }
     medianOfMembers(output, 0, members, block, combined, scratch);
     for (let s = 0; s < rowsAhead.length; s++) {
       for (let k = 0; k < targetCount; k++) {
-        const base = steppers === null ? ring[at + targets[k]] : bases[k * rowsAhead.length + s];
+        const base = steppers === null ? filled[last + targets[k]] : bases[k * rowsAhead.length + s];
         const made = base + combined[s * targetCount + k] * window.targetDeviation[s * targetCount + k];
         out[s * targetCount + k] = logged[targets[k]] ? Math.exp(made) : made;
       }
@@ -220,7 +266,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     return true;
   };
   const nextInto: RowForecaster['nextInto'] = (row, out, where = 'row') => {
-    for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where);
+    for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where, isMissing);
     let time = NaN;
     if (timeColumn !== null) {
       const raw = Object.prototype.hasOwnProperty.call(row, timeColumn) ? row[timeColumn] : undefined;
@@ -237,11 +283,14 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     members,
     intervals,
     warmUp: w,
+    takesMissing: missing !== null,
     nextInto,
     nextValuesInto: (values, out) => advance(values, timeColumn === null ? NaN : values[width], out, 'values'),
     next: (row, where) => (nextInto(row, farthest, where) ? named() : null),
     reset() {
       seen = 0;
+      before.fill(NaN);
+      beforeRow.fill(-1);
       steppers = fresh();
       streams.reset();
     },

@@ -57,10 +57,12 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
   }
   // A windowed forecast model may read one smoothing forecast per target (window.hybrid) and a sine and cosine per
   // calendar position (window.calendar) besides its columns.
+  // It also reads a 0/1 "was missing" input per column with holes (missing.flagged).
   const window = metadata.window as { hybrid?: unknown; calendar?: unknown } | undefined;
-  const extra = (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) + (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0);
+  const flagged = (metadata.missing as { flagged?: unknown } | undefined)?.flagged;
+  const extra = (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) + (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) + (window !== undefined && Array.isArray(flagged) ? flagged.length : 0);
   const readWidth = input.kind === 'values' ? input.width - extra : 1;
-  const widthWords = extra > 0 ? `the model's input width less its ${extra} smoothing and calendar input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
+  const widthWords = extra > 0 ? `the model's input width less its ${extra} smoothing, calendar and missing-value input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
   let columns: string[] | null = null;
   if (has('columns')) {
     const value = metadata.columns;

@@ -32,7 +32,7 @@ export type BatchTargets =
     /** A weight per target (0 for padding); null when every target counts once. */
     readonly weights: Float64Array | null;
   }
-  /** Values per step ([T·B, width]) or per sequence ([B, width]); weights per row. */
+  /** Values per step ([T·B, width]) or per sequence ([B, width]); weights per row or per value. */
   | {
     /** Value targets (mean squared error). */
     readonly kind: 'values';
@@ -42,7 +42,10 @@ export type BatchTargets =
     readonly width: number;
     /** The target values, one row per target. */
     readonly values: Tensor;
-    /** A weight per target row (0 for padding); null when every row counts once. */
+    /**
+     * A weight per target row (0 for padding), or per target value (rows × width; 0 for a value never observed);
+     * null when every row counts once.
+     */
     readonly weights: Float64Array | null;
   };
 

@@ -53,20 +53,24 @@ export function classificationMetrics(logits: FloatArray, targets: Int32Array, w
   return { crossEntropy, perplexity: Math.exp(crossEntropy), accuracy: count > 0 ? correct / count : 0, count };
 }
 
-/** Predictions against targets, `width` values per row; rows with weight 0 are skipped. */
+/** Predictions against targets, `width` values per row, weighted per row or per value; weight 0 is skipped. */
 export function regressionMetrics(predictions: FloatArray, targets: FloatArray, weights: FloatArray | null, rows: number, width: number): RegressionMetrics {
   let squared = 0;
   let absolute = 0;
   let count = 0;
+  // Weights per row, or per value (rows × width).
+  const perValue = weights !== null && weights.length === rows * width && width !== 1;
   for (let r = 0; r < rows; r++) {
-    const w = weights === null ? 1 : weights[r];
-    if (!(w > 0)) continue;
+    const rowWeight = weights === null ? 1 : perValue ? 1 : weights[r];
+    if (!(rowWeight > 0)) continue;
     for (let j = 0; j < width; j++) {
+      const w = perValue ? weights![r * width + j] : rowWeight;
+      if (!(w > 0)) continue;
       const d = predictions[r * width + j] - targets[r * width + j];
       squared += w * d * d;
       absolute += w * Math.abs(d);
+      count += w;
     }
-    count += w * width;
   }
   return { meanSquaredError: count > 0 ? squared / count : 0, meanAbsoluteError: count > 0 ? absolute / count : 0, count };
 }

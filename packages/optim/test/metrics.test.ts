@@ -19,4 +19,10 @@ describe('metrics outside the tape', () => {
     expect(m).toEqual({ meanSquaredError: 13 / 8, meanAbsoluteError: 7 / 8, count: 8 });
     expect(regressionMetrics(Float64Array.of(1), Float64Array.of(0), Float64Array.of(0), 1, 1)).toEqual({ meanSquaredError: 0, meanAbsoluteError: 0, count: 0 });
   });
+
+  it('give the errors over weighted values when there is one weight per value, leaving out values weighted 0', () => {
+    // Differences (1, 0, −2, 5): the 5 weighs 0 (never observed); Σ w·d² = 1 + 0 + 2·4, Σ w·|d| = 1 + 0 + 2·2, Σ w = 4.
+    const m = regressionMetrics(Float64Array.of(1, 2, 3, 9), Float64Array.of(0, 2, 5, 4), Float64Array.of(1, 1, 2, 0), 2, 2);
+    expect(m).toEqual({ meanSquaredError: 9 / 4, meanAbsoluteError: 5 / 4, count: 4 });
+  });
 });

@@ -132,7 +132,7 @@ const squaredErrorKind: OperationKind<SquaredErrorSaved> = {
     const gp = prediction.tracked ? tape.gradientOf(prediction) : null;
     const gt = target.tracked ? tape.gradientOf(target) : null;
     for (let i = 0; i < n; i++) {
-      const w = weights === null ? factor : factor * weights[Math.floor(i / width)];
+      const w = weights === null ? factor : factor * weights[weights.length === n ? i : Math.floor(i / width)];
       const d = w * (prediction.data[i] - target.data[i]);
       if (gp !== null) gp[i] += d;
       if (gt !== null) gt[i] -= d;
@@ -143,13 +143,14 @@ const squaredErrorKind: OperationKind<SquaredErrorSaved> = {
 /** Options of `meanSquaredError`. */
 export interface SquaredErrorOptions {
   /**
-   * One non-negative weight per row (rows = all but the last axis; 0 masks a padded position). The loss is
-   * Σ_r w_r Σ_c (p − y)² / (width · Σ_r w_r).
+   * One non-negative weight per row (rows = all but the last axis; 0 masks a padded position), the loss then
+   * Σ_r w_r Σ_c (p − y)² / (width · Σ_r w_r); or one per value (as many as the prediction has; 0 masks a value that
+   * was never observed), the loss then Σ_i w_i (p_i − y_i)² / Σ_i w_i.
    */
   readonly weights?: FloatArray | readonly number[];
 }
 
-/** Mean over all elements of (prediction − target)², optionally weighted per row. */
+/** Mean over all elements of (prediction − target)², optionally weighted per row or per value. */
 export function meanSquaredError(tape: Tape, prediction: Tensor, target: Tensor, options: SquaredErrorOptions = {}): Tensor {
   requireSameDType('meanSquaredError', 'target', target, prediction.dtype);
   requireBackend(tape, 'meanSquaredError', 'prediction', prediction);
@@ -161,21 +162,23 @@ export function meanSquaredError(tape: Tape, prediction: Tensor, target: Tensor,
   let count = prediction.size;
   if (options.weights !== undefined) {
     const given = options.weights;
-    if (given.length !== rows) fail('shape_mismatch', 'meanSquaredError.weights', `${rows} weights (one per row)`, `${given.length}`);
-    weights = tape.buffer(prediction.dtype, rows);
+    // One weight per row, or one per value (a missing target weighs 0 beside its row's observed ones).
+    const perValue = given.length === prediction.size && width !== 1;
+    if (given.length !== rows && !perValue) fail('shape_mismatch', 'meanSquaredError.weights', `${rows} weights (one per row) or ${prediction.size} (one per value)`, `${given.length}`);
+    weights = tape.buffer(prediction.dtype, given.length);
     let total = 0;
-    for (let r = 0; r < rows; r++) {
+    for (let r = 0; r < given.length; r++) {
       const w = given[r];
       if (!(w >= 0) || !Number.isFinite(w)) fail('invalid_argument', `meanSquaredError.weights[${r}]`, 'a finite number ≥ 0', String(w));
       weights[r] = w;
       total += w;
     }
-    count = total * width;
+    count = perValue ? total : total * width;
   }
   let sum = 0;
   for (let i = 0; i < prediction.size; i++) {
     const d = prediction.data[i] - target.data[i];
-    sum += weights === null ? d * d : weights[Math.floor(i / width)] * d * d;
+    sum += weights === null ? d * d : weights[weights.length === prediction.size ? i : Math.floor(i / width)] * d * d;
   }
   const out = tape.output([1], prediction.dtype, prediction.tracked || target.tracked);
   out.data[0] = count === 0 ? 0 : sum / count;

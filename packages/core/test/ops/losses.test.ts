@@ -57,6 +57,27 @@ describe('losses on the tape', () => {
     expect(p.gradient![0]).not.toBe(0);
   });
 
+  it('weighs the mean squared error per value when given one weight per value, as Σ w (p − y)² / Σ w', () => {
+    const p = tensor([[1, 2], [3, 4]], [2, 2], 'f64');
+    const y = tensor([[0, 2], [5, 9]], [2, 2], 'f64');
+    // The last value weighs 0 (never observed): its error of 5 counts nowhere.
+    expect(meanSquaredError(new Tape(), p, y, { weights: [1, 1, 2, 0] }).data[0]).toBe((1 + 0 + 2 * 4) / 4);
+    expect(() => meanSquaredError(new Tape(), p, y, { weights: [1, 1, 1] })).toThrowError('meanSquaredError.weights: expected 2 weights (one per row) or 4 (one per value), received 3');
+  });
+
+  it('gives a value weighted 0 no gradient, and the others those of finite differences', () => {
+    const random = new Random('mse-values');
+    const p = input(random, [3, 2], 'prediction');
+    const y = input(random, [3, 2], 'target');
+    const weights = [1, 0, 2, 0.5, 0, 1];
+    expectPass(checkGradients((tape) => meanSquaredError(tape, sigmoid(tape, p), y, { weights }), [p, y], checkOptions));
+    trainable(p);
+    const tape = new Tape();
+    tape.reverseSweep(meanSquaredError(tape, sigmoid(tape, p), y, { weights }));
+    expect([p.gradient![1], p.gradient![4]]).toEqual([0, 0]);
+    expect(p.gradient![0]).not.toBe(0);
+  });
+
   it('refuses a target outside the classes and a negative weight, by position', () => {
     const logits = tensor([[1, 2], [3, 4]], [2, 2], 'f64');
     expect(() => crossEntropyAtTargets(new Tape(), logits, [0, 2])).toThrowError('Invalid argument at crossEntropyAtTargets.targets[1]: expected a class index in [0, 2), received 2');

@@ -12,8 +12,14 @@
  *   columns (least-squares.ts).
  * The season is chosen once, on the first target's fitting rows (seasonality.ts), unless given; MASE is scaled by
  * each target's in-sample seasonal naive error over the fitting rows (scores.ts).
+ *
+ * Missing values (NaN) are never scored: a target row without a value is left out of every contender's figures, so
+ * all are scored on the same observed rows. Forecasts made at a row without a value use what was last seen: naive
+ * carries the last value, seasonal naive goes back whole seasons to a value, the smoothing methods skip the update
+ * (smoothing.ts), and the linear baseline reads the last values carried forward (and is fitted on complete rows).
  */
 import { fail } from '@weft/core';
+import { interpolated } from './missing.js';
 import { ForecastErrorSum, maseScale } from './scores.js';
 import type { ForecastErrors } from './scores.js';
 import { leastSquares } from './least-squares.js';
@@ -104,6 +110,8 @@ export function scoreForecaster(split: SeriesSplit, forecast: Forecaster, scales
       const t = target - h;
       for (let k = 0; k < split.targets.length; k++) {
         const actual = split.values[target][split.targets[k]];
+        // A target never observed is scored by no one.
+        if (Number.isNaN(actual)) continue;
         const predicted = forecast(t, k, h);
         sums[k].add(actual, predicted, scales[k]);
         all.add(actual, predicted, scales[k]);
@@ -126,7 +134,14 @@ export function fitLinear(split: SeriesSplit): Float64Array[] {
   const width = split.values[0]?.length ?? 0;
   const p = 1 + LAGS * width;
   const rows: number[] = [];
-  for (let t = LAGS - 1; t + split.horizon < split.fitRows; t++) rows.push(t);
+  // Rows whose lags and target all have values (missing values, NaN, leave a row out).
+  const complete = (t: number) => {
+    for (let lag = 0; lag < LAGS; lag++) if (split.values[t - lag].some((v) => Number.isNaN(v))) return false;
+    return true;
+  };
+  for (let t = LAGS - 1; t + split.horizon < split.fitRows; t++) {
+    if (complete(t) && split.targets.every((j) => !Number.isNaN(split.values[t + split.horizon][j]))) rows.push(t);
+  }
   const x = new Float64Array(rows.length * p);
   rows.forEach((t, r) => {
     x[r * p] = 1;
@@ -171,8 +186,13 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
     fail('invalid_argument', 'forecastBaselines.fitRows', `a number of rows in [3, ${values.length}]`, String(fitRows));
   }
   const columns = targets.map((j) => Float64Array.from(values, (row) => row[j]));
+  // With missing values: each column carried forward (what was last seen at each row), and rows of them for the
+  // linear baseline to read.
+  const gappy = values.some((row) => row.some((v) => Number.isNaN(v)));
+  const carried = gappy ? columns.map(carryForward) : columns;
+  const carriedRows = gappy ? carryRows(values) : values;
   let season: SeasonChoice;
-  if (options.season === undefined) season = chooseSeason(columns[0].subarray(0, fitRows), options.spacing ?? null);
+  if (options.season === undefined) season = chooseSeason(gappy ? interpolated(columns[0].subarray(0, fitRows)) : columns[0].subarray(0, fitRows), options.spacing ?? null);
   else if (options.season === null) season = { season: null, reason: 'no season (as asked)', candidates: [] };
   else {
     if (!(Number.isInteger(options.season) && options.season >= 1 && options.season < fitRows)) {
@@ -187,14 +207,19 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
   const add = (name: string, description: string, forecast: Forecaster) => scores.push({ name, description, ...scoreForecaster(split, forecast, scales) });
   const steps = rowsAheadOf(split);
   const ahead = steps.length > 1 ? `${steps[0]} to ${steps[steps.length - 1]} rows ahead` : `${horizon} row${horizon === 1 ? '' : 's'} ahead`;
-  add('naive', `the value now, as the forecast ${ahead}`, (t, k) => columns[k][t]);
+  add('naive', `the value now, as the forecast ${ahead}`, (t, k) => carried[k][t]);
   if (m !== null) {
     const back = (h: number) => Math.ceil(h / m) * m;
     // The scored row farthest back: the first target row less the most seasons any row ahead reaches back.
     const reach = Math.max(...steps.map((h) => back(h) - h));
     if (split.positions.every((t) => t + horizon - reach >= 0)) {
       const far = back(horizon);
-      add('seasonal naive', `the value one season (${m} rows) before the forecast row${far > m ? ` (up to ${far / m} seasons back)` : ''}`, (t, k, h) => columns[k][t + h - back(h)]);
+      // Without a value there, whole seasons further back (the last value seen when none has one).
+      const seasonBack = (t: number, k: number, h: number) => {
+        for (let r = t + h - back(h); r >= 0; r -= m) if (!Number.isNaN(columns[k][r])) return columns[k][r];
+        return carried[k][t];
+      };
+      add('seasonal naive', `the value one season (${m} rows) before the forecast row${far > m ? ` (up to ${far / m} seasons back)` : ''}`, seasonBack);
     } else leftOut.push(`seasonal naive: a scored row has no row ${reach} rows before it`);
   } else leftOut.push('the seasonal methods (seasonal naive, Holt-Winters): no season');
   // Forecasts made at every row, for each row ahead scored: forecasts.get(h)[k][t].
@@ -239,7 +264,7 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
   if (split.positions.every((t) => t + horizon - Math.max(...steps) >= LAGS - 1)) {
     // One least-squares fit per row ahead (direct forecasts).
     const weights = new Map(steps.map((h) => [h, fitLinear({ ...split, horizon: h })]));
-    add('linear', `least squares on the last ${LAGS} values of every input column${steps.length > 1 ? ', one fit per row ahead' : ''}`, (t, k, h) => linearForecast(values, weights.get(h)![k], t));
+    add('linear', `least squares on the last ${LAGS} values of every input column${steps.length > 1 ? ', one fit per row ahead' : ''}`, (t, k, h) => linearForecast(carriedRows, weights.get(h)![k], t));
   } else leftOut.push(`linear: a scored row has fewer than ${LAGS - 1} rows before it`);
   return { scores, season, scales, leftOut };
 }
@@ -248,4 +273,18 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
 export function bestBaseline(scores: readonly BaselineScore[]): BaselineScore {
   const key = (s: BaselineScore) => s.overall.mase ?? s.overall.mae;
   return scores.reduce((best, s) => (key(s) < key(best) ? s : best));
+}
+
+/** A column with each missing value (NaN) replaced by the last value before it (NaN before the first). */
+function carryForward(column: Float64Array): Float64Array {
+  const out = Float64Array.from(column);
+  for (let t = 1; t < out.length; t++) if (Number.isNaN(out[t])) out[t] = out[t - 1];
+  return out;
+}
+
+/** Rows with each missing value replaced by its column's last value before it (the first value after it at the start). */
+function carryRows(values: readonly (readonly number[])[]): number[][] {
+  const width = values[0]?.length ?? 0;
+  const columns = Array.from({ length: width }, (_, c) => interpolated(carryForward(Float64Array.from(values, (row) => row[c]))));
+  return values.map((_, t) => columns.map((column) => column[t]));
 }

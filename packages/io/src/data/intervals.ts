@@ -65,7 +65,7 @@ export class IntervalScoreSum {
   }
 }
 
-/** Scores prediction intervals on a split's target rows (every row ahead), each target scaled by its MASE scale. */
+/** Scores prediction intervals on a split's observed target rows (every row ahead), each target scaled by its MASE scale. */
 export function scoreIntervals(split: SeriesSplit, forecast: Forecaster, intervals: { readonly level: number; readonly halfWidth: readonly number[] }, scales: readonly number[]): IntervalScores {
   const sum = new IntervalScoreSum(intervals.level);
   const steps = rowsAheadOf(split);
@@ -74,9 +74,12 @@ export function scoreIntervals(split: SeriesSplit, forecast: Forecaster, interva
     for (const position of split.positions) {
       const target = position + split.horizon;
       for (let k = 0; k < targets; k++) {
+        const actual = split.values[target][split.targets[k]];
+        // A target never observed (NaN) is not scored.
+        if (Number.isNaN(actual)) continue;
         const f = forecast(target - h, k, h);
         const half = intervals.halfWidth[s * targets + k];
-        sum.add(split.values[target][split.targets[k]], f - half, f + half, scales[k]);
+        sum.add(actual, f - half, f + half, scales[k]);
       }
     }
   });

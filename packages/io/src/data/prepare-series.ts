@@ -5,6 +5,10 @@
  * recorded in the weight file's metadata so that `createRowForecaster` applies it to new rows. What trains on the
  * examples is the caller's: it turns them into batches, and hands the model's outputs back to `validationFigure`
  * and `heldOut`, which score them in the data's units against the baselines.
+ *
+ * Missing readings (missing.ts): skipped times are put back as rows of missing cells (skipped-times.ts); missing
+ * cells are filled in each window and flagged, missing targets weigh nothing and are scored by no one; the note
+ * says per column how many were missing and what was done.
  */
 import { fail } from '@weft/core';
 import { medianOfMembers } from '@weft/cells';
@@ -14,6 +18,7 @@ import { readSeries } from './series.js';
 import { checkGaps, linesOf, seriesParts, tableNotes } from './series-checks.js';
 import { columnStatistics, fieldPath, parseTable } from './table.js';
 import { readTimeColumn } from './time-column.js';
+import { insertSkippedTimes } from './skipped-times.js';
 import { forecastReport, forecastWords } from './verdict.js';
 import type { PreparedSeries, SeriesPreparation } from './series-types.js';
 export type { ChosenSettings, ForecastIntervals, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './series-types.js';
@@ -31,9 +36,16 @@ const TRANSFORMS = {
 
 /** Prepares a CSV/TSV text of series (`file` names it in messages) for training and judging. */
 export function prepareSeries(text: string, file: string, options: SeriesPreparation): PreparedSeries {
-  const table = parseTable(text, { file });
-  const time = readTimeColumn(table, options.timeColumn, 'for --time-column');
-  const series = readSeries(table, { columns: options.columns, targets: options.targets, leaveOut: time === null ? [] : [time.name], choices: { columns: 'with --columns', targets: 'for --target' } });
+  const rule = options.missing ?? 'interpolate';
+  if (!['interpolate', 'carry', 'segments', 'refuse'].includes(rule)) fail('invalid_option', '--missing', 'interpolate, carry, segments or refuse', String(rule));
+  if (options.gapLimit !== undefined && !(Number.isInteger(options.gapLimit) && options.gapLimit >= 1)) fail('invalid_option', '--gap-limit', 'a whole number of rows ≥ 1', String(options.gapLimit));
+  const given = parseTable(text, { file });
+  const timeGiven = readTimeColumn(given, options.timeColumn, 'for --time-column');
+  // Skipped times come back as rows of missing cells, before anything else reads the rows.
+  const putBack = timeGiven === null ? null : insertSkippedTimes(given, timeGiven, rule === 'refuse');
+  const table = putBack?.table ?? given;
+  const time = putBack?.time ?? timeGiven;
+  const series = readSeries(table, { columns: options.columns, targets: options.targets, leaveOut: time === null ? [] : [time.name], markers: options.missingMarkers, refuseMissing: rule === 'refuse', choices: { columns: 'with --columns', targets: 'for --target' } });
   const columns = series.columns.map((name) => table.header.indexOf(name));
   const targets = series.targets.map((name) => table.header.indexOf(name));
   const leftOut = series.leftOut.filter((text) => time === null || !text.startsWith(`${time.name} (`));
@@ -53,8 +65,12 @@ export function prepareSeries(text: string, file: string, options: SeriesPrepara
   if (time !== null) checkGaps(table, time, baselines.season.season);
   const targetNames = targets.map((c) => table.header[c]);
   const partsLine = `parts of ${file}, in time order: training ${linesOf(table, 0, trainEnd)}; validation, for stopping and keeping weights, ${linesOf(table, trainEnd, testStart)}; test, scored once at the end, ${linesOf(table, testStart, rows)}`;
+  const holes = series.missing.some((n) => n > 0);
   const notes = [
     ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
+    ...(putBack?.note === null || putBack === null ? [] : [putBack.note]),
+    ...series.notes,
+    ...(holes ? [missingNote(series.columns, series.missing, rows, rule, options.gapLimit, series.targets)] : []),
     ...(time === null ? [] : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
     ...tableNotes(table, time, series.columns),
   ];
@@ -73,9 +89,12 @@ export function prepareSeries(text: string, file: string, options: SeriesPrepara
   const examples = options.examples ?? (trainEnd <= SLIDING_ROWS && (options.transform ?? 'none') === 'none' && options.lookback === 0 ? 'sliding' : 'streams');
   // Sliding windows forecast every row up to the horizon at once; streams the row `horizon` ahead.
   const rowsAhead = examples === 'sliding' ? Array.from({ length: horizon }, (_, i) => i + 1) : [horizon];
-  const what = `${forecastWords(positions.length, targetNames, rowsAhead)}, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`;
-  const common = { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, options, split, baselines, notes, metadata, context, what, time };
+  let observed = 0;
+  for (const t of positions) for (const j of targetIndexes) if (!Number.isNaN(values[t + horizon][j])) observed++;
+  const what = `${forecastWords(positions.length, targetNames, rowsAhead, observed)}, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`;
+  const common = { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, options, split, baselines, notes, metadata, context, what, time, missing: series.missing };
   if (examples === 'sliding') return slidingWindows({ ...common, season: baselines.season.season });
+  if (holes) fail('invalid_option', file, `a series with every reading present for --examples streams (missing readings are filled on sliding windows, up to ${SLIDING_ROWS.toLocaleString('en')} training rows); fill the gaps, or forecast a shorter stretch`, `${series.missing.reduce((a, b) => a + b, 0)} missing readings`);
   if (options.hybrid === true) fail('invalid_option', '--hybrid', `sliding windows (--examples sliding; the default up to ${SLIDING_ROWS.toLocaleString('en')} training rows, and not with --transform or --lookback)`, 'streams');
   if (trainEnd < options.streams * options.window + horizon) {
     fail('invalid_option', file, `at least ${options.streams * options.window + horizon} training rows for ${options.streams} streams of ${options.window}-row windows ${horizon} row${horizon === 1 ? '' : 's'} ahead; lower --streams or --window, or the --validation and --test shares`, `${rows} rows, which leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test)`);
@@ -168,4 +187,14 @@ function streamsOf(input: Omit<Common, 'season'>): PreparedSeries {
       });
     },
   };
+}
+
+/** What was missing and what was done, in one line. */
+function missingNote(columns: readonly string[], missing: readonly number[], rows: number, rule: string, gapLimit: number | undefined, targets: readonly string[]): string {
+  const counts = columns.flatMap((name, j) => (missing[j] > 0 ? [`${name} ${missing[j]} of ${rows} (${Math.round((100 * missing[j]) / rows)}%)`] : []));
+  const inputs = rule === 'refuse' ? '' : rule === 'segments'
+    ? 'no training window holds a missing input (every gap cuts the series; the runtime carries the last value)'
+    : `inputs ${rule === 'interpolate' ? 'interpolated across each gap (carried where a gap reaches the window\'s last row)' : 'carried from the last value'}, gaps longer than ${gapLimit === undefined ? 'half the window' : `${gapLimit} rows`} kept out of training windows`;
+  const targetHoles = columns.some((name, j) => missing[j] > 0 && targets.includes(name));
+  return `missing readings: ${counts.join(', ')}; ${inputs}, with a 0/1 "was missing" input per column with holes${targetHoles ? '; a missing target weighs 0 in the loss and is scored by no one' : ''} (--missing, --gap-limit)`;
 }

@@ -85,12 +85,20 @@ export function forecastErrors(actual: ArrayLike<number>, forecast: ArrayLike<nu
 
 /**
  * The MASE scale of a series: the mean absolute error of the seasonal naive forecast (lag `season`, 1 for none)
- * over rows [0, count), in the series' units (Hyndman & Koehler 2006). NaN with `count ≤ season`.
+ * over rows [0, count), in the series' units (Hyndman & Koehler 2006), over the pairs of rows that both have a value.
+ * NaN with no such pair (`count ≤ season`).
  */
 export function maseScale(series: ArrayLike<number>, count: number, season = 1): number {
   let sum = 0;
-  for (let t = season; t < count; t++) sum += Math.abs(series[t] - series[t - season]);
-  return count > season ? sum / (count - season) : NaN;
+  let pairs = 0;
+  for (let t = season; t < count; t++) {
+    const d = Math.abs(series[t] - series[t - season]);
+    // A pair with a missing value (NaN) is left out.
+    if (Number.isNaN(d)) continue;
+    sum += d;
+    pairs++;
+  }
+  return pairs > 0 ? sum / pairs : NaN;
 }
 
 /** One class's scores. */

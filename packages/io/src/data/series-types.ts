@@ -4,6 +4,7 @@
  */
 import type { WeightMetadata } from '../weight-file.js';
 import type { HeldOutReport } from './verdict.js';
+import type { MissingRule } from './missing.js';
 
 /** How a series table is prepared (the command's flags; a user's program gives the same). */
 export interface SeriesPreparation {
@@ -44,6 +45,16 @@ export interface SeriesPreparation {
   readonly season?: number | null;
   /** Streams only: forecast the change (differences, log returns) instead of the level. */
   readonly transform?: 'none' | 'differences' | 'log-returns';
+  /**
+   * How missing readings are handled (missing.ts): filled by interpolating across gaps ('interpolate', the default),
+   * by carrying the last value ('carry'), or left out of every training window ('segments'); or refused ('refuse':
+   * an error at the first missing cell or skipped time).
+   */
+  readonly missing?: MissingRule;
+  /** The longest gap (rows) a training window may hold (default: half the window); longer gaps cut the series. */
+  readonly gapLimit?: number;
+  /** Cells read as missing besides the standard markers (empty, NA, N/A, NaN, null, None, -). */
+  readonly missingMarkers?: readonly string[];
 }
 
 /** One training example of sliding windows: the window's numbers, row-major, and its targets. */
@@ -52,6 +63,8 @@ export interface WindowExample {
   readonly values: number[];
   /** One number per target and row ahead (rows ahead outer). */
   readonly target: number[];
+  /** With missing targets: 1 per target observed, 0 per target never observed (it counts in no loss). */
+  readonly targetWeights?: number[];
 }
 
 /** The examples of sliding windows. */

@@ -7,6 +7,11 @@
  * Smyl 2020, simplified). Defaults from the data: a window of two seasons (24 rows without one), at most 64 rows and
  * a quarter of the training rows; 32 windows per batch; enough epochs for about 2,000 updates (3 to 300); patience
  * 5; 32 hidden units.
+ *
+ * Missing values (NaN): each window is filled from its own rows and those before it (missing.ts, the runtime's rule
+ * too), a column with holes adds a 0/1 "was missing" input per row, a missing target weighs 0 in the loss (and is
+ * scored by no one), and no training window holds a row of a gap longer than the gap limit (half the window by
+ * default; none at all with the rule `segments`), so long gaps cut the series into segments.
  */
 import { fail } from '@weft/core';
 import { medianOfMembers } from '@weft/cells';
@@ -16,6 +21,8 @@ import { forecastBaselines, scoreForecaster } from './baselines.js';
 import { calendarFor, calendarInputs } from './calendar.js';
 import type { PreparedSeries, SeriesPreparation, WindowExample } from './series-types.js';
 import { conformalHalfWidth, scoreIntervals } from './intervals.js';
+import { fillColumn, gapLengths, lastObserved } from './missing.js';
+import type { MissingRecord } from './missing.js';
 import type { SmoothingMethod, SmoothingParameters } from './smoothing.js';
 import { fitSmoothing, runSmoothing } from './smoothing.js';
 import { columnStatistics, fieldPath } from './table.js';
@@ -44,6 +51,8 @@ export interface SeriesContext {
   readonly context: readonly string[];
   readonly what: string;
   readonly time: TimeColumn | null;
+  /** Per input column, its count of missing values. */
+  readonly missing: readonly number[];
 }
 
 /**
@@ -60,7 +69,7 @@ function chooseSmoothing(series: readonly number[], fitEnd: number, checkEnd: nu
     if (rowsAhead.some((h, s) => Number.isNaN(runSmoothing(series, fitEnd, fit, h, forecasts[s])))) continue;
     let error = 0;
     rowsAhead.forEach((h, s) => {
-      for (let t = fitEnd - h; t + h < checkEnd; t++) error += Math.abs(series[t + h] - forecasts[s][t]);
+      for (let t = fitEnd - h; t + h < checkEnd; t++) if (!Number.isNaN(series[t + h])) error += Math.abs(series[t + h] - forecasts[s][t]);
     });
     if (best === null || error < best.error) {
       const { meanSquaredError: _unused, ...parameters } = fit;
@@ -94,50 +103,94 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   // Every row up to the horizon at once (direct multi-output): one block of targets per row ahead, nearest first.
   const rowsAhead = Array.from({ length: horizon }, (_, i) => i + 1);
   // Deviations of one-row changes per column, and of the forecast change per target, over the training rows.
+  // (Pairs with a missing value are left out.)
   const deviation = Array.from({ length: width }, (_, j) => {
     let sum = 0;
-    for (let t = 1; t < trainEnd; t++) sum += (values[t][j] - values[t - 1][j]) ** 2;
-    const d = Math.sqrt(sum / Math.max(1, trainEnd - 1));
+    let pairs = 0;
+    for (let t = 1; t < trainEnd; t++) {
+      const d = values[t][j] - values[t - 1][j];
+      if (Number.isNaN(d)) continue;
+      sum += d * d;
+      pairs++;
+    }
+    const d = Math.sqrt(sum / Math.max(1, pairs));
     return d > 0 && Number.isFinite(d) ? d : 1;
   });
+  // Missing values: each row's last observed value per column (the level a window ending there is read from), the
+  // gaps' lengths, the columns read with a 0/1 "was missing" input, and the fill of a column never observed yet.
+  const gappy = input.missing.some((n) => n > 0);
+  const rule = options.missing === undefined || options.missing === 'refuse' ? 'interpolate' : options.missing;
+  const flagged = input.missing.flatMap((n, j) => (n > 0 ? [j] : []));
+  const fallback = columnStatistics(values.slice(0, trainEnd), width).mean;
+  const lastSeen = Array.from({ length: width }, (_, j) => lastObserved(values.map((row) => row[j])));
+  const level = (t: number, j: number) => (lastSeen[j][t] >= 0 ? values[lastSeen[j][t]][j] : fallback[j]);
+  const gaps = gapLengths(values, flagged);
+  const gapLimit = options.gapLimit ?? Math.max(1, Math.floor(window / 2));
+  const limit = rule === 'segments' ? 0 : gapLimit;
   // The hybrid: per target, the smoothing method (fitted on the training rows) whose forecasts of the validation
   // rows are best; the model reads its forecasts of the next row beside the values and forecasts the correction to
   // its forecast of each row ahead.
   const hybrid = options.hybrid === true ? targetIndexes.map((j) => chooseSmoothing(values.map((row) => row[j]), trainEnd, testStart, rowsAhead, season)) : null;
-  const base = (s: number, k: number, t: number) => (hybrid === null ? values[t][targetIndexes[k]] : hybrid[k].forecasts[s][t]);
+  const base = (s: number, k: number, t: number) => (hybrid === null ? level(t, targetIndexes[k]) : hybrid[k].forecasts[s][t]);
   // Calendar inputs from the time column (where in the year, week or day each row falls), after the hybrid's.
   const positions = options.calendar === false || input.time === null ? [] : calendarFor(input.time.spacing);
   const times = input.time?.times ?? null;
   const calendarAt = width + (hybrid === null ? 0 : targetCount);
-  const inputWidth = calendarAt + 2 * positions.length;
+  const flagAt = calendarAt + 2 * positions.length;
+  const inputWidth = flagAt + flagged.length;
   const targetDeviation = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
     let sum = 0;
-    for (let t = 0; t + h < trainEnd; t++) sum += (values[t + h][j] - base(s, k, t)) ** 2;
-    const d = Math.sqrt(sum / Math.max(1, trainEnd - h));
+    let n = 0;
+    for (let t = 0; t + h < trainEnd; t++) {
+      const d = values[t + h][j] - base(s, k, t);
+      if (Number.isNaN(d)) continue;
+      sum += d * d;
+      n++;
+    }
+    const d = Math.sqrt(sum / Math.max(1, n));
     return d > 0 && Number.isFinite(d) ? d : 1;
   }));
+  const filled = new Float64Array(window * width);
   // The window ending at row t; its targets are the rows ahead before row `end` (0 past it: those are never scored).
   const example = (t: number, end: number): WindowExample => {
     const inputs = new Array<number>(window * inputWidth);
-    for (let k = 0; k < window; k++) {
-      const row = t - window + 1 + k;
-      for (let j = 0; j < width; j++) inputs[k * inputWidth + j] = (values[row][j] - values[t][j]) / deviation[j];
-      if (hybrid !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (hybrid[i].forecasts[0][row] - values[t][j]) / deviation[j]));
-      if (times !== null && positions.length > 0) calendarInputs(positions, times[row], inputs, k * inputWidth + calendarAt);
+    const first = t - window + 1;
+    for (let k = 0; k < window; k++) for (let j = 0; j < width; j++) filled[k * width + j] = values[first + k][j];
+    for (const j of flagged) {
+      const before = first > 0 ? lastSeen[j][first - 1] : -1;
+      fillColumn(filled, j, width, window, before >= 0 ? values[before][j] : NaN, before - first, rule, fallback[j]);
     }
-    const target = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => (t + h < end ? (values[t + h][j] - base(s, k, t)) / targetDeviation[s * targetCount + k] : 0)));
-    return { values: inputs, target };
+    const last = (window - 1) * width;
+    for (let k = 0; k < window; k++) {
+      const row = first + k;
+      for (let j = 0; j < width; j++) inputs[k * inputWidth + j] = (filled[k * width + j] - filled[last + j]) / deviation[j];
+      if (hybrid !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (hybrid[i].forecasts[0][row] - filled[last + j]) / deviation[j]));
+      if (times !== null && positions.length > 0) calendarInputs(positions, times[row], inputs, k * inputWidth + calendarAt);
+      flagged.forEach((j, i) => (inputs[k * inputWidth + flagAt + i] = Number.isNaN(values[row][j]) ? 1 : 0));
+    }
+    // A target past `end` or never observed weighs 0 (its value 0 is never read).
+    const known = (h: number, j: number) => t + h < end && !Number.isNaN(values[t + h][j]);
+    const target = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => (known(h, j) ? (values[t + h][j] - base(s, k, t)) / targetDeviation[s * targetCount + k] : 0)));
+    if (!gappy) return { values: inputs, target };
+    return { values: inputs, target, targetWeights: rowsAhead.flatMap((h) => targetIndexes.map((j) => (known(h, j) ? 1 : 0))) };
+  };
+  // A training window holds no row of a gap longer than the limit, and some target of it was observed.
+  const trainable = (t: number, end: number) => {
+    if (!gappy) return true;
+    for (let r = t - window + 1; r <= t; r++) if (gaps[r] > limit) return false;
+    return rowsAhead.some((h) => t + h < end && targetIndexes.some((j) => !Number.isNaN(values[t + h][j])));
   };
   // Windows ending at rows [from, to) (none before a full window), targets before row `end`.
-  const windowsEnding = (from: number, to: number, end: number) => {
+  const windowsEnding = (from: number, to: number, end: number, keep: (t: number, end: number) => boolean = () => true) => {
     const out: WindowExample[] = [];
-    for (let t = Math.max(window - 1, from); t < to; t++) out.push(example(t, end));
+    for (let t = Math.max(window - 1, from); t < to; t++) if (keep(t, end)) out.push(example(t, end));
     return out;
   };
   // Training and validation windows have every row ahead in their part (the farthest row ahead is in it).
-  const train = windowsEnding(0, trainEnd - horizon, trainEnd);
+  const train = windowsEnding(0, trainEnd - horizon, trainEnd, trainable);
   if (train.length < 2) fail('invalid_option', '--window', `a window leaving at least 2 training windows ${horizon} row${horizon === 1 ? '' : 's'} ahead in the ${trainEnd} training rows of ${file}`, `${window} rows (${train.length} window${train.length === 1 ? '' : 's'})`);
-  const validation = windowsEnding(trainEnd - horizon, testStart - horizon, testStart);
+  const observed = (t: number, end: number) => !gappy || rowsAhead.some((h) => t + h < end && targetIndexes.some((j) => !Number.isNaN(values[t + h][j])));
+  const validation = windowsEnding(trainEnd - horizon, testStart - horizon, testStart, observed);
   if (validation.length === 0) fail('invalid_option', '--window', `a window that fits before a validation row of ${file} (${testStart - trainEnd} validation rows)`, `${window} rows`);
   const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(train.length / 4)));
   const batchesPerEpoch = Math.ceil(train.length / batch);
@@ -180,7 +233,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       test: windowsEnding(testFrom, values.length - 1, values.length),
       batch,
     },
-    metadata: { ...input.metadata, ...(several ? { rowsAhead: 'all' } : {}), normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(logged.some((l) => l) ? { log: logged } : {}), ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
+    metadata: { ...input.metadata, ...(several ? { rowsAhead: 'all' } : {}), missing: { rule, gapLimit, flagged, fallback, markers: [...(options.missingMarkers ?? [])] } satisfies MissingRecord, normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(logged.some((l) => l) ? { log: logged } : {}), ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
     notes: input.notes,
     chosen: {
       ...(given.has('epochs') ? {} : { epochs }),
@@ -236,12 +289,12 @@ function logTargets(input: SeriesContext): boolean[] {
   for (const j of targetIndexes) {
     const column = values.map((row) => row[j]);
     if (asked === 'yes') {
-      const bad = column.findIndex((v) => !(v > 0));
+      const bad = column.findIndex((v) => !(v > 0) && !Number.isNaN(v));
       if (bad >= 0) fail('bad_data', fieldPath(table, bad, columns[j]), `a number > 0 in column ${JSON.stringify(table.header[columns[j]])} (--log yes reads its logarithm)`, String(column[bad]));
       logged[j] = true;
       continue;
     }
-    if (season === null || !column.every((v) => v > 0)) continue;
+    if (season === null || !column.every((v) => v > 0 || Number.isNaN(v))) continue;
     const additive = fitSmoothing(column, trainEnd, 'additive', season);
     const multiplicative = fitSmoothing(column, trainEnd, 'multiplicative', season);
     if (additive !== null && multiplicative !== null && multiplicative.meanSquaredError < additive.meanSquaredError) logged[j] = true;

@@ -3,10 +3,12 @@
  * file, as library calls (so a program or a page prepares data the same way).
  *
  * readSeries: the columns chosen by name, or every column of numbers; a column with no number at all (dates,
- * names) is left out and listed with the reason; a column of numbers with a cell that is not one is an error at
- * that cell (`file:line:column`), never dropped quietly. Targets must be among the columns read.
+ * names, or every cell missing) is left out and listed with the reason; a missing cell (missing.ts) is NaN; a column
+ * of numbers with a cell that is neither a number nor missing is an error at that cell (`file:line:column`), never
+ * dropped quietly. Targets must be among the columns read.
  */
 import { fail } from '@weft/core';
+import { missingTest } from './missing.js';
 import { columnNamed, decimal, fieldPath, numberAt } from './table.js';
 import type { Table } from './table.js';
 import { UNKNOWN_TOKEN } from '../translate.js';
@@ -19,6 +21,10 @@ export interface SeriesOptions {
   readonly targets?: readonly string[];
   /** Columns never read as numbers (a time column of plain years, say). */
   readonly leaveOut?: readonly string[];
+  /** Markers of missing cells besides the standard ones (missing.ts). */
+  readonly markers?: readonly string[];
+  /** True to refuse any missing cell in the columns read (an error at its file:line:column). */
+  readonly refuseMissing?: boolean;
   /** How errors name the two choices (default "a column to read", "a column to forecast"; a command names its flags). */
   readonly choices?: {
     /** How an error names a column to read. */
@@ -34,14 +40,19 @@ export interface Series {
   readonly columns: readonly string[];
   /** The columns to forecast, among those read. */
   readonly targets: readonly string[];
-  /** One row per table row, one number per column read. */
+  /** One row per table row, one number per column read (NaN where the cell is missing). */
   readonly values: readonly (readonly number[])[];
+  /** Per column read, how many of its cells are missing. */
+  readonly missing: readonly number[];
+  /** Notes for the user (a marker that is also a number, and where it was read as missing). */
+  readonly notes: readonly string[];
   /** Columns left out because they hold no numbers, each with where that was seen. */
   readonly leftOut: readonly string[];
 }
 
 /** Reads numeric columns of a table as a series, with `file:line:column` errors for any field that is not a number. */
 export function readSeries(table: Table, options: SeriesOptions = {}): Series {
+  const isMissing = missingTest(options.markers);
   const numeric: number[] = [];
   const leftOut: string[] = [];
   table.header.forEach((name, c) => {
@@ -49,10 +60,12 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
     let numbers = 0;
     let firstBad = -1;
     table.rows.forEach((row, r) => {
+      if (isMissing(row.fields[c])) return;
       if (!Number.isNaN(decimal(row.fields[c]))) numbers++;
       else if (firstBad < 0) firstBad = r;
     });
-    if (firstBad < 0) numeric.push(c);
+    if (firstBad < 0 && numbers > 0) numeric.push(c);
+    else if (firstBad < 0) leftOut.push(`${name} (every cell missing)`);
     else if (numbers === 0) leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 40))} at line ${table.rows[firstBad].line})`);
     else if (options.columns === undefined) {
       fail(
@@ -60,7 +73,7 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
         fieldPath(table, firstBad, c),
         `a decimal number in column ${JSON.stringify(name)}`,
         JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 80)),
-        `${numbers} of ${table.rows.length} cells there are; fix the cell, or choose the columns${options.choices === undefined ? '' : ` ${options.choices.columns}`}`,
+        `${numbers} of ${table.rows.length} cells there are; fix the cell, mark missing readings with --missing-marker, or choose the columns${options.choices === undefined ? '' : ` ${options.choices.columns}`}`,
       );
     }
   });
@@ -72,10 +85,34 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
       fail('bad_data', `${table.file}:1:1`, `a target among the columns read (${columns.map((c) => table.header[c]).join(', ')})`, JSON.stringify(table.header[t]));
     }
   }
+  const missing = columns.map(() => 0);
+  const values = table.rows.map((row, r) => columns.map((c, j) => {
+    if (!isMissing(row.fields[c])) return numberAt(table, r, c);
+    if (options.refuseMissing === true) fail('bad_data', fieldPath(table, r, c), `a reading in column ${JSON.stringify(table.header[c])} (missing cells are refused here)`, JSON.stringify(row.fields[c].trim().slice(0, 80)));
+    missing[j]++;
+    return NaN;
+  }));
+  columns.forEach((c, j) => {
+    if (missing[j] === table.rows.length && table.rows.length > 0) fail('bad_data', fieldPath(table, 0, c), `a column with at least one reading (${JSON.stringify(table.header[c])} was chosen)`, `every one of its ${table.rows.length} cells missing`);
+  });
+  // A marker that is also a number changes what the file says: said, with the first cell it took.
+  const notes: string[] = [];
+  for (const marker of options.markers ?? []) {
+    if (Number.isNaN(decimal(marker))) continue;
+    let count = 0;
+    let first = '';
+    columns.forEach((c) => table.rows.forEach((row, r) => {
+      if (row.fields[c].trim() !== marker.trim()) return;
+      if (count++ === 0) first = fieldPath(table, r, c);
+    }));
+    notes.push(`note: the missing marker ${JSON.stringify(marker)} is also a number; ${count === 0 ? 'no cell holds it' : `${count} cell${count === 1 ? '' : 's'} holding it ${count === 1 ? 'was' : 'were'} read as missing, the first at ${first}`}`);
+  }
   return {
     columns: columns.map((c) => table.header[c]),
     targets: targets.map((c) => table.header[c]),
-    values: table.rows.map((_, r) => columns.map((c) => numberAt(table, r, c))),
+    values,
+    missing,
+    notes,
     leftOut: options.columns === undefined ? leftOut : [],
   };
 }

@@ -17,8 +17,13 @@
  * this the least-squares criterion) by Nelder–Mead (minimise.ts), each mapped into its bounds by a logistic:
  * α ∈ [0.0001, 0.9999], β ∈ [0.0001, 0.9999], γ ∈ [0.0001, 1 − α], φ ∈ [0.8, 0.98] (the usual bounds of automatic
  * smoothing, HKOS 2008 §5.2, from memory).
+ *
+ * A missing value (NaN) updates nothing: the state moves on as its own forecast (level ℓ + φ b, trend φ b, the season
+ * kept), as the state-space form does with a missing observation (HKOS 2008, from memory), and it adds no error.
+ * Initial states are then set from the series with its gaps interpolated (missing.ts).
  */
 import { minimise } from './minimise.js';
+import { interpolated } from './missing.js';
 
 /** Which smoothing method: trend and season. */
 export type SmoothingMethod = 'simple' | 'holt' | 'damped' | 'additive' | 'multiplicative';
@@ -62,15 +67,19 @@ const hasSeason = (m: SmoothingMethod) => m === 'additive' || m === 'multiplicat
 export function runSmoothing(series: ArrayLike<number>, count: number, p: SmoothingParameters, horizon = 1, forecasts: Float64Array | null = null): number {
   const stepper = new SmoothingStepper(p, horizon);
   let squared = 0;
+  let observed = 0;
   const rows = forecasts === null ? count : series.length;
   for (let t = 0; t < rows; t++) {
     const y = series[t];
-    if (t < count) squared += (y - stepper.oneStep()) ** 2;
+    if (t < count && !Number.isNaN(y)) {
+      squared += (y - stepper.oneStep()) ** 2;
+      observed++;
+    }
     const ahead = stepper.next(y);
     if (Number.isNaN(ahead)) return NaN;
     if (forecasts !== null) forecasts[t] = ahead;
   }
-  return squared / Math.max(1, count);
+  return squared / Math.max(1, observed);
 }
 
 /**
@@ -143,6 +152,14 @@ export class SmoothingStepper {
     const s = seasonal ? ring[j] : multiplicative ? 1 : 0;
     const level = state[LEVEL];
     const base = level + phi * state[SLOPE];
+    if (Number.isNaN(y)) {
+      // Missing: the state moves on as its own forecast.
+      state[SLOPE] = phi * state[SLOPE];
+      state[LEVEL] = base;
+      this.t++;
+      this.broken = this.broken || (multiplicative && !(base > 0));
+      return;
+    }
     const nextLevel = p.alpha * (seasonal ? (multiplicative ? y / s : y - s) : y) + (1 - p.alpha) * base;
     if (trend) state[SLOPE] = p.beta * (nextLevel - level) + (1 - p.beta) * phi * state[SLOPE];
     if (seasonal) ring[j] = p.gamma * (multiplicative ? y / base : y - base) + (1 - p.gamma) * s;
@@ -182,13 +199,18 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
   const { alpha, beta, gamma } = p;
   let level = p.level;
   let squared = 0;
+  // Rows with a value: the mean is over them (a missing value, NaN, adds no error and updates nothing).
+  let observed = 0;
+  for (let t = 0; t < count; t++) if (!Number.isNaN(series[t])) observed++;
+  const mean = (sum: number) => sum / Math.max(1, observed);
   if (p.method === 'simple') {
     for (let t = 0; t < count; t++) {
       const y = series[t];
+      if (Number.isNaN(y)) continue;
       squared += (y - level) ** 2;
       level = alpha * y + (1 - alpha) * level;
     }
-    return squared / Math.max(1, count);
+    return mean(squared);
   }
   const phi = p.phi;
   let slope = p.trend;
@@ -196,12 +218,17 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
     for (let t = 0; t < count; t++) {
       const y = series[t];
       const base = level + phi * slope;
+      if (Number.isNaN(y)) {
+        slope *= phi;
+        level = base;
+        continue;
+      }
       squared += (y - base) ** 2;
       const next = alpha * y + (1 - alpha) * base;
       slope = beta * (next - level) + (1 - beta) * phi * slope;
       level = next;
     }
-    return squared / Math.max(1, count);
+    return mean(squared);
   }
   const m = p.season;
   const ring = Float64Array.from(p.seasonal);
@@ -210,18 +237,28 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
       const y = series[t];
       const s = ring[j];
       const base = level + phi * slope;
+      if (Number.isNaN(y)) {
+        slope *= phi;
+        level = base;
+        continue;
+      }
       squared += (y - (base + s)) ** 2;
       const next = alpha * (y - s) + (1 - alpha) * base;
       slope = beta * (next - level) + (1 - beta) * phi * slope;
       ring[j] = gamma * (y - base) + (1 - gamma) * s;
       level = next;
     }
-    return squared / Math.max(1, count);
+    return mean(squared);
   }
   for (let t = 0, j = 0; t < count; t++, j = j + 1 === m ? 0 : j + 1) {
     const y = series[t];
     const s = ring[j];
     const base = level + phi * slope;
+    if (Number.isNaN(y)) {
+      slope *= phi;
+      level = base;
+      continue;
+    }
     squared += (y - base * s) ** 2;
     const next = alpha * (y / s) + (1 - alpha) * base;
     slope = beta * (next - level) + (1 - beta) * phi * slope;
@@ -229,7 +266,7 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
     level = next;
     if (!(level > 0 && ring[j] > 0)) return NaN;
   }
-  return squared / Math.max(1, count);
+  return mean(squared);
 }
 
 /** States at time −1 from the first rows (see the file's comment); null when there are too few rows. */
@@ -262,8 +299,9 @@ const logit = (v: number) => Math.log(v / (1 - v));
  */
 export function fitSmoothing(series: ArrayLike<number>, count: number, method: SmoothingMethod, season = 1): SmoothingFit | null {
   const fitted = Float64Array.from({ length: count }, (_, i) => series[i]);
-  if (method === 'multiplicative' && !fitted.every((v) => v > 0)) return null;
-  const states = initialStates(fitted, method, season);
+  if (method === 'multiplicative' && !fitted.every((v) => v > 0 || Number.isNaN(v))) return null;
+  const gappy = fitted.some((v) => Number.isNaN(v));
+  const states = initialStates(gappy ? interpolated(fitted) : fitted, method, season);
   if (states === null || count < 3) return null;
   const lo = 0.0001;
   const hi = 0.9999;

@@ -195,9 +195,10 @@ export function columnNamed(table: Table, name: string, purpose: string): number
 }
 
 /**
- * Mean and standard deviation of each column of `values` (rows × columns, finite), computed on values scaled by
- * the column's largest magnitude so that neither the sums nor the squares overflow, whatever the data's size.
- * A constant column gets deviation 1 (so normalising it gives zeros, not NaN).
+ * Mean and standard deviation of each column of `values` (rows × columns; NaN, a missing value, is left out),
+ * computed on values scaled by the column's largest magnitude so that neither the sums nor the squares overflow,
+ * whatever the data's size. A constant column gets deviation 1 (so normalising it gives zeros, not NaN), and so does
+ * a column with no value (mean 0).
  */
 export function columnStatistics(values: readonly (readonly number[])[], columns: number): {
   /** Each column's mean. */
@@ -209,18 +210,23 @@ export function columnStatistics(values: readonly (readonly number[])[], columns
   const deviation: number[] = [];
   for (let j = 0; j < columns; j++) {
     let scale = 0;
-    for (const row of values) scale = Math.max(scale, Math.abs(row[j]));
+    let n = 0;
+    for (const row of values) {
+      if (Number.isNaN(row[j])) continue;
+      scale = Math.max(scale, Math.abs(row[j]));
+      n++;
+    }
     if (scale === 0) {
       mean.push(0);
       deviation.push(1);
       continue;
     }
     let m = 0;
-    for (const row of values) m += row[j] / scale;
-    m /= values.length;
+    for (const row of values) if (!Number.isNaN(row[j])) m += row[j] / scale;
+    m /= n;
     let squares = 0;
-    for (const row of values) squares += (row[j] / scale - m) ** 2;
-    const d = Math.sqrt(squares / values.length) * scale;
+    for (const row of values) if (!Number.isNaN(row[j])) squares += (row[j] / scale - m) ** 2;
+    const d = Math.sqrt(squares / n) * scale;
     mean.push(m * scale);
     deviation.push(d > 0 && Number.isFinite(d) ? d : 1);
   }

@@ -5,8 +5,11 @@
  *   ŷ_{t+h|t} = ℓ_t + (b₀ / 2) · (h − 1 + (1 − (1 − α)^{t+1}) / α),
  * on the seasonally adjusted series when the M4 benchmarks' 90% test finds the season (Makridakis, Spiliotis &
  * Assimakopoulos 2020): classical multiplicative decomposition, or additive when some value is not positive (a
- * choice of ours: ratios need positive values), then reseasonalised.
+ * choice of ours: ratios need positive values), then reseasonalised. With missing values (NaN) the season is found
+ * on the series with its gaps interpolated, the line is fitted to the rows with a value, and the smoothing skips the
+ * gaps (smoothing.ts).
  */
+import { interpolated } from './missing.js';
 import { fitSmoothing, runSmoothing } from './smoothing.js';
 import { isSeasonal, seasonalIndices } from './seasonality.js';
 
@@ -22,14 +25,19 @@ export interface ThetaForecast {
   readonly adjustment: 'multiplicative' | 'additive' | null;
 }
 
-/** The slope of the least-squares line of y on t = 0 … count − 1. */
+/** The slope of the least-squares line of y on t over the rows t < count with a value (NaN: missing). */
 export function lineSlope(series: ArrayLike<number>, count: number): number {
-  const tMean = (count - 1) / 2;
+  let n = 0;
+  let tMean = 0;
+  for (let t = 0; t < count; t++) if (!Number.isNaN(series[t])) (n++, (tMean += t));
+  if (n === 0) return 0;
+  tMean /= n;
   let yMean = 0;
-  for (let t = 0; t < count; t++) yMean += series[t] / count;
+  for (let t = 0; t < count; t++) if (!Number.isNaN(series[t])) yMean += series[t] / n;
   let sxy = 0;
   let sxx = 0;
   for (let t = 0; t < count; t++) {
+    if (Number.isNaN(series[t])) continue;
     sxy += (t - tMean) * (series[t] - yMean);
     sxx += (t - tMean) ** 2;
   }
@@ -42,11 +50,14 @@ export function thetaForecasts(series: ArrayLike<number>, count: number, horizon
   let adjusted: ArrayLike<number> = series;
   let indices: Float64Array | null = null;
   let adjustment: ThetaForecast['adjustment'] = null;
-  if (season !== null && season >= 2 && isSeasonal(Array.from({ length: count }, (_, i) => series[i]), season)) {
+  let gappy = false;
+  for (let t = 0; t < n && !gappy; t++) gappy = Number.isNaN(series[t]);
+  const whole = gappy ? interpolated(series) : series;
+  if (season !== null && season >= 2 && isSeasonal(Array.from({ length: count }, (_, i) => whole[i]), season)) {
     let positive = true;
-    for (let t = 0; t < n && positive; t++) positive = series[t] > 0;
+    for (let t = 0; t < n && positive; t++) positive = whole[t] > 0;
     adjustment = positive ? 'multiplicative' : 'additive';
-    indices = seasonalIndices(series, count, season, positive);
+    indices = seasonalIndices(whole, count, season, positive);
     const out = new Float64Array(n);
     for (let t = 0; t < n; t++) out[t] = positive ? series[t] / indices[t % season] : series[t] - indices[t % season];
     adjusted = out;

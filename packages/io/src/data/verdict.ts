@@ -183,9 +183,15 @@ export function reportJson(report: HeldOutReport): unknown {
   return { ...report, bestBaseline: best.name, modelBeatsEveryBaseline: beats };
 }
 
-/** "74 forecasts of CO2, 1 row ahead", or with every row up to the horizon "74 rows of CO2, each forecast 1 to 12 rows ahead (888 forecasts)". */
-export function forecastWords(rows: number, names: readonly string[], rowsAhead: readonly number[]): string {
+/**
+ * "74 forecasts of CO2, 1 row ahead", or with every row up to the horizon "74 rows of CO2, each forecast 1 to 12
+ * rows ahead (888 forecasts)"; with `observed` (target values that have a reading, of rows × targets) below them
+ * all, how many are scored: "(66 of them observed: only those are scored)".
+ */
+export function forecastWords(rows: number, names: readonly string[], rowsAhead: readonly number[], observed = rows * names.length): string {
   const last = rowsAhead[rowsAhead.length - 1];
-  if (rowsAhead.length === 1) return `${rows} forecasts of ${names.join(', ')}, ${last} row${last === 1 ? '' : 's'} ahead`;
-  return `${rows} rows of ${names.join(', ')}, each forecast ${rowsAhead[0]} to ${last} rows ahead (${rows * rowsAhead.length * names.length} forecasts)`;
+  const all = rows * names.length;
+  const scored = observed < all ? ` (${observed * rowsAhead.length} of them with an observed value, the only ones scored, for the model and every baseline alike)` : '';
+  if (rowsAhead.length === 1) return `${rows} forecasts of ${names.join(', ')}, ${last} row${last === 1 ? '' : 's'} ahead${scored}`;
+  return `${rows} rows of ${names.join(', ')}, each forecast ${rowsAhead[0]} to ${last} rows ahead (${rows * rowsAhead.length * names.length} forecasts)${scored}`;
 }

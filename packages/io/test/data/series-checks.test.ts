@@ -1,7 +1,7 @@
 /**
  * The checks and cuts of a series table (series-checks.ts), through prepareSeries as the command meets them: three
- * parts in time order worked by hand; times that repeat, go back or skip more than a season refused at their
- * file:line:column; a column that counts rows or names several series noted.
+ * parts in time order worked by hand; times that repeat, go back or skip more than a season off the grid refused at
+ * their file:line:column (skipped times on the grid are put back: skipped-times.ts); a column that counts rows or names several series noted.
  */
 import { describe, expect, it } from 'vitest';
 import { prepareSeries, seriesParts } from '@weft/io';
@@ -49,7 +49,12 @@ describe('the checks and cuts of a series', () => {
     expect(() => prepareSeries(back, 'back.csv', options)).toThrowError('Bad data at back.csv:32:1: expected a time after line 31\'s "2026-01-30" in column "date" (sort the file by time), received "2026-01-11"');
     const hours = (r: number) => new Date(Date.UTC(2026, 0, 1, r < 100 ? r : r + 30)).toISOString().slice(0, 16);
     const gap = `time,level\n${Array.from({ length: 200 }, (_, r) => `${hours(r)},${(10 + 3 * Math.sin((2 * Math.PI * r) / 24) + 0.01 * r).toFixed(3)}`).join('\n')}\n`;
-    expect(() => prepareSeries(gap, 'gap.csv', options)).toThrowError('Bad data at gap.csv:102:1: expected a time at most a season (24 rows, hours apart) after line 101\'s in column "time"; fill the missing rows, or forecast the parts apart, received "2026-01-06T10:00", 31 rows\' time later');
+    // Skipped hours on the grid are put back as missing rows; refused with --missing refuse.
+    expect(prepareSeries(gap, 'gap.csv', options).notes).toContain('inserted 30 rows of missing readings at 1 skipped time in column "time", the longest 30 hours before line 102');
+    expect(() => prepareSeries(gap, 'gap.csv', { ...options, missing: 'refuse' })).toThrowError('Bad data at gap.csv:102:1: expected a row at every time hours apart in column "time" (missing rows are refused here), received 31 hours after line 101');
+    // Off the grid (half an hour more), nothing is put back and a gap longer than a season stays an error.
+    const offGrid = gap.replace('2026-01-06T10:00', '2026-01-06T10:30');
+    expect(() => prepareSeries(offGrid, 'gap.csv', options)).toThrowError('Bad data at gap.csv:102:1: expected a time at most a season (24 rows, hours apart) after line 101\'s in column "time"; fill the missing rows, or forecast the parts apart, received "2026-01-06T10:30", 32 rows\' time later');
     const named = `site,level\n${Array.from({ length: 60 }, (_, r) => `${r < 30 ? 'north' : 'south'},${Math.sin(r)}`).join('\n')}\n`;
     expect(prepareSeries(named, 'sites.csv', options).notes).toContain('note: column "site" names 2 repeating values: if each names a series, the table holds several series and weft would pool them into one; pick one series\'s rows, or classify the sequences with --task classify --id-column site');
     const counted = prepareSeries(`step,level\n${Array.from({ length: 60 }, (_, r) => `${r + 1},${Math.sin(r)}`).join('\n')}\n`, 'steps.csv', options).notes ?? [];

@@ -15,6 +15,11 @@ export interface LabelledSequence {
   readonly label?: number;
   /** Values for the whole sequence. */
   readonly target?: readonly number[];
+  /**
+   * A weight per target value (0 for a value never observed: it then counts in no loss); default 1 each. When any
+   * sequence has them, every batch carries one weight per target value.
+   */
+  readonly targetWeights?: readonly number[];
 }
 
 /** How a set of independent sequences is batched. */
@@ -42,6 +47,7 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
   const usesTokens = sequences[0].tokens !== undefined;
   const usesLabels = sequences[0].label !== undefined;
   const targetWidth = usesLabels ? 0 : (sequences[0].target?.length ?? 0);
+  const weighted = !usesLabels && sequences.some((s) => s.targetWeights !== undefined);
   const lengths = sequences.map((s, i) => {
     const length = usesTokens ? s.tokens?.length : s.values === undefined ? undefined : s.values.length / features;
     if (length === undefined || !Number.isInteger(length) || length < 1) {
@@ -49,6 +55,9 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
     }
     if (usesLabels ? !Number.isInteger(s.label) || (s.label as number) < 0 : s.target?.length !== targetWidth || targetWidth === 0) {
       fail('bad_data', `sequences[${i}]`, usesLabels ? 'a whole-number label ≥ 0' : `a target of ${targetWidth} values`, JSON.stringify(s.label ?? s.target));
+    }
+    if (s.targetWeights !== undefined && (s.targetWeights.length !== targetWidth || !s.targetWeights.every((w) => w >= 0 && Number.isFinite(w)))) {
+      fail('bad_data', `sequences[${i}].targetWeights`, `${targetWidth} finite weights ≥ 0, one per target value`, JSON.stringify(s.targetWeights));
     }
     return length;
   });
@@ -123,7 +132,15 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
           const target = sequences[members[b]].target!;
           for (let c = 0; c < targetWidth; c++) values.data[b * targetWidth + c] = target[c];
         }
-        targets = { kind: 'values', perStep: false, width: targetWidth, values, weights: null };
+        let weights: Float64Array | null = null;
+        if (weighted) {
+          weights = new Float64Array(rows * targetWidth);
+          for (let b = 0; b < rows; b++) {
+            const given = sequences[members[b]].targetWeights;
+            for (let c = 0; c < targetWidth; c++) weights[b * targetWidth + c] = given === undefined ? 1 : given[c];
+          }
+        }
+        targets = { kind: 'values', perStep: false, width: targetWidth, values, weights };
       }
       return { input, steps, batch: rows, lengths: plan.lengths, targets, positions: plan.positions };
     },

@@ -122,7 +122,8 @@ export function shardOf(batch: Batch, from: number, to: number): PlainBatch {
     classes: targets.kind === 'classes' ? rowsOf(targets.classes, targetSteps, rows, 1, from, to) : null,
     targetValues: targets.kind === 'values' ? rowsOf(targets.values.data, targetSteps, rows, targetWidth, from, to) : null,
     targetWidth,
-    weights: targets.weights === null ? null : rowsOf(targets.weights, targetSteps, rows, 1, from, to),
+    // Weights per target row, or per target value (the width of a row of values).
+    weights: targets.weights === null ? null : rowsOf(targets.weights, targetSteps, rows, targets.weights.length === targetSteps * rows ? 1 : targetWidth, from, to),
     sourceTokens: source === undefined ? null : rowsOf(source.tokens.tokens, source.tokens.steps, rows, 1, from, to),
     sourceSteps: source === undefined ? 0 : source.tokens.steps,
     sourceLengths: source === undefined ? null : source.lengths.slice(from, to),

@@ -59,4 +59,27 @@ describe('fixed shards of a batch', () => {
     expect(Math.abs(loss - whole.loss)).toBeLessThan(1e-12);
     expected.forEach((g, i) => g.forEach((value, k) => expect(Math.abs(sums[i][k] - value)).toBeLessThan(1e-12)));
   });
+
+  it('cut weights per target value with their rows, and the shards\' gradients still add up to the whole batch\'s', () => {
+    const model = buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'gru', hidden: 4 }], readout: { width: 2 } }, { seed: 3, dtype: 'f64' });
+    const parameters = model.parameters().map((p) => p.tensor);
+    const tape = new Tape();
+    const weights = Float64Array.of(1, 0, 1, 1, 0, 1, 1, 1, 0, 0);
+    const valued: Batch = { ...batch, targets: { kind: 'values', perStep: false, width: 2, values: randomUniform([5, 2], random, -1, 1, 'f64'), weights } };
+    const state = model.stateSlots().map((slot) => randomUniform([5, slot.width], random, -0.5, 0.5, 'f64'));
+    const whole = shardGradients(model, parameters, tape, valued, state, 'seed', 1);
+    const expected = parameters.map((p) => Float64Array.from(p.gradient!));
+    const sums = parameters.map((p) => new Float64Array(p.size));
+    let loss = 0;
+    for (const [from, to] of shardRanges(5, 2)) {
+      const made: FloatArray[] = [];
+      const shard = batchOf(shardOf(valued, from, to), 'f64', tape.pool, made);
+      expect(shard.targets.weights === null ? [] : Array.from(shard.targets.weights)).toEqual(Array.from(weights.subarray(2 * from, 2 * to)));
+      const rows = state.map((s) => new Tensor(s.data.slice(from * s.shape[1], to * s.shape[1]), [to - from, s.shape[1]]));
+      loss += shardGradients(model, parameters, tape, shard, rows, 'seed', lossWeight(shard) / lossWeight(valued)).loss;
+      parameters.forEach((p, i) => p.gradient!.forEach((g, k) => (sums[i][k] += g)));
+    }
+    expect(Math.abs(loss - whole.loss)).toBeLessThan(1e-12);
+    expected.forEach((g, i) => g.forEach((value, k) => expect(Math.abs(sums[i][k] - value)).toBeLessThan(1e-12)));
+  });
 });
