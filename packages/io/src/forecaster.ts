@@ -204,6 +204,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const filled = new Float64Array(w * width);
   const before = new Float64Array(width).fill(NaN);
   const beforeRow = new Float64Array(width).fill(-1);
+  const edges = new Float64Array(3);
   const advance = (values: ArrayLike<number>, time: number, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
     checkOut(out);
     for (let j = 0; j < width; j++) {
@@ -244,7 +245,12 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     }
     if (missing !== null) {
       const first = seen - w;
-      for (let j = 0; j < width; j++) fillColumn(filled, j, width, w, before[j], beforeRow[j] - first, missing.rule, missing.fallback[j]);
+      for (let j = 0; j < width; j++) {
+        edges[0] = before[j];
+        edges[1] = beforeRow[j] - first;
+        edges[2] = missing.fallback[j];
+        fillColumn(filled, j, width, w, edges, 0, missing.rule);
+      }
     }
     const last = (w - 1) * width;
     for (let k = 0; k < w; k++) {

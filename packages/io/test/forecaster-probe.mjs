@@ -1,6 +1,6 @@
 // Run by forecaster.test.ts as `node --expose-gc --max-semi-space-size=1 forecaster-probe.mjs`: a windowed hybrid
 // model of three stacked members reading calendar positions forecasts two rows ahead for 20,000 rows given as numbers
-// (nextValuesInto) after a warm-up; the collections
+// (nextValuesInto), one heat reading in seven missing (NaN: filled and flagged), after a warm-up; the collections
 // during those rows are counted, then again while each row also makes one small object (the control: it shows the
 // count sees an allocation of that size).
 import { PerformanceObserver } from 'node:perf_hooks';
@@ -8,13 +8,14 @@ import { buildModel, stackMembers } from '@weft/cells';
 import { createRowForecaster, modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 
-const member = { input: { kind: 'values', width: 5 }, layers: [{ cell: 'lstm', hidden: 4 }], readout: { width: 2 } };
+const member = { input: { kind: 'values', width: 6 }, layers: [{ cell: 'lstm', hidden: 4 }], readout: { width: 2 } };
 const stacked = stackMembers([1, 2, 3].map((seed) => buildModel(member, { seed })));
 const smoothing = { method: 'additive', season: 4, alpha: 0.3, beta: 0.1, gamma: 0.2, phi: 1, level: 10, trend: 0.1, seasonal: [1, -1, 0.5, -0.5] };
 const meta = {
   task: 'forecast', columns: ['heat', 'flow'], targetColumns: ['heat'], horizon: 2, rowsAhead: 'all', members: 3, timeColumn: 'time',
   normalisation: { mean: [0, 0], deviation: [1, 1] },
   window: { rows: 4, deviation: [1, 1], targetDeviation: [1, 1], hybrid: [smoothing], calendar: ['day of week'] },
+  missing: { rule: 'interpolate', gapLimit: 3, flagged: [0], fallback: [10, 0], markers: [] },
 };
 const forecaster = createRowForecaster(await createRuntime(await writeWeightFile(stacked.description, modelTensors(stacked))), meta);
 const row = new Float64Array(3);
@@ -22,7 +23,7 @@ const out = new Float64Array(2);
 const run = (count, start, extra) => {
   let kept = null;
   for (let i = start; i < start + count; i++) {
-    row[0] = 10 + Math.sin(i);
+    row[0] = i % 7 === 3 ? NaN : 10 + Math.sin(i);
     row[1] = Math.cos(i);
     row[2] = i * 86_400_000;
     forecaster.nextValuesInto(row, out);

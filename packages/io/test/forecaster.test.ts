@@ -168,14 +168,46 @@ describe('forecasting row by row', () => {
     expect(() => createRowForecaster(runtime, { ...meta, members: 2 })).toThrowError(/^Bad weight file at metadata\.members: expected a count of members whose 1 × 1 forecasts make the model's 1 outputs, received 2$/);
   });
 
-  it('allocates nothing per row given as numbers and a time (node --expose-gc, collections counted with a 1 MB young generation)', () => {
+  it('allocates nothing per row given as numbers and a time, holes included (node --expose-gc, collections counted with a 1 MB young generation)', () => {
     const probe = fileURLToPath(new URL('./forecaster-probe.mjs', import.meta.url));
     const output = execFileSync(process.execPath, ['--expose-gc', '--max-semi-space-size=1', probe], { encoding: 'utf8' });
     const { collections, rows, control } = JSON.parse(output.trim().split('\n').at(-1)!) as { collections: number; rows: number; control: number };
-    console.log(`${collections} collections over ${rows} rows of a windowed hybrid ensemble reading calendar positions; ${control} over the same rows when each also makes one small object`);
+    console.log(`${collections} collections over ${rows} rows of a windowed hybrid ensemble reading calendar positions, one reading in seven missing; ${control} over the same rows when each also makes one small object`);
     // The control proves the count can see an allocation of one small object per row.
     expect(control).toBeGreaterThan(0);
     expect(collections).toBe(0);
+  });
+
+  it('takes missing readings where the model records a rule: markers and NaN filled in the window as recorded, a flag input per column with holes', async () => {
+    // Inputs: heat, flow, and a 0/1 flag for heat; interpolation inside the window, the last value carried at its end.
+    const flagged = { input: { kind: 'values' as const, width: 3 }, layers: [{ cell: 'gru' as const, hidden: 6 }], readout: { width: 1 } };
+    const model = buildModel(flagged, { seed: 8 });
+    const runtime = await createRuntime(await readWeightFile(await writeWeightFile(model.description, modelTensors(model))));
+    const window = { rows: 3, deviation: [0.5, 2], targetDeviation: [0.25] };
+    const meta = { ...base, window, missing: { rule: 'interpolate', gapLimit: 2, flagged: [0], fallback: [20, 3], markers: ['?'] } };
+    const forecaster = createRowForecaster(runtime, meta);
+    expect(forecaster.takesMissing).toBe(true);
+    const given = [{ heat: '20', flow: 1 }, { heat: 'NA', flow: 2 }, { heat: '?', flow: 3 }, { heat: '23', flow: 4 }, { heat: '', flow: 5 }];
+    const made = given.map((row, t) => forecaster.next(row, `row ${t}`));
+    // By hand, the window ending at row 3 (rows 1–3): heat 21, 22 interpolated from 20 (before it) to 23; flags 1, 1, 0.
+    const byHand = (heat: number[], flow: number[], flags: number[]) => {
+      const input = new Float32Array(9);
+      for (let k = 0; k < 3; k++) {
+        input[3 * k] = (heat[k] - heat[2]) / 0.5;
+        input[3 * k + 1] = (flow[k] - flow[2]) / 2;
+        input[3 * k + 2] = flags[k];
+      }
+      const out = runtime.run(input, 3, 1);
+      return heat[2] + out[2] * 0.25;
+    };
+    expect(made[3]!.heat).toBeCloseTo(byHand([21, 22, 23], [2, 3, 4], [1, 1, 0]), 5);
+    // The window ending at row 4 (rows 2–4): row 2 interpolated (22), row 4 carried from 23.
+    expect(made[4]!.heat).toBeCloseTo(byHand([22, 23, 23], [3, 4, 5], [1, 0, 1]), 5);
+    expect(() => forecaster.next({ heat: 'warm', flow: 1 }, 'row 5')).toThrowError('Bad data at row 5.heat: expected a finite number or a missing-reading marker, received "warm"');
+    // A model without the record refuses a missing reading, saying why.
+    const old = createRowForecaster(await runtimeOf(2), { ...base, window });
+    expect(old.takesMissing).toBe(false);
+    expect(() => old.next({ heat: 'NA', flow: 1 }, 'row 0')).toThrowError('Bad data at row 0.heat: expected a finite number (this model records no rule for missing readings: retrain it with this version), received "NA"');
   });
 
   it('reads a logged column\'s logarithm and sends its forecast back through exp, refusing a value not above 0', async () => {

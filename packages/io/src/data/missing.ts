@@ -47,13 +47,15 @@ export interface MissingRecord {
 
 /**
  * Fills the missing (NaN) entries of one column of a window in place: `count` values at `values[offset + k ×
- * stride]`, k = 0 … count − 1, oldest first. `before` is the last value observed before the window (NaN for none),
- * `beforeAt` its position relative to the window's first row (−1 for the row just before, and so on); `fallback`
- * fills a column with no value at all. Allocates nothing.
+ * stride]`, k = 0 … count − 1, oldest first. Three numbers from `edges[edge]` say what lies outside the window: the
+ * last value observed before it (NaN for none), that value's position relative to the window's first row (−1 for the
+ * row just before, and so on), and the fallback that fills a column with no value at all. They come in an array, not
+ * as arguments, so that a hot loop passes no number that would be boxed: it allocates nothing.
  */
-export function fillColumn(values: Float64Array | Float32Array, offset: number, stride: number, count: number, before: number, beforeAt: number, rule: Exclude<MissingRule, 'refuse'>, fallback: number): void {
-  let left = before;
-  let leftAt = beforeAt;
+export function fillColumn(values: Float64Array | Float32Array, offset: number, stride: number, count: number, edges: ArrayLike<number>, edge: number, rule: Exclude<MissingRule, 'refuse'>): void {
+  let left = edges[edge];
+  let leftAt = edges[edge + 1];
+  const fallback = edges[edge + 2];
   let k = 0;
   while (k < count) {
     const v = values[offset + k * stride];
@@ -119,6 +121,6 @@ export function interpolated(column: ArrayLike<number>): Float64Array {
   let mean = 0;
   let n = 0;
   for (let i = 0; i < out.length; i++) if (!Number.isNaN(out[i])) (mean += out[i], n++);
-  fillColumn(out, 0, 1, out.length, NaN, -1, 'interpolate', n === 0 ? 0 : mean / n);
+  fillColumn(out, 0, 1, out.length, [NaN, -1, n === 0 ? 0 : mean / n], 0, 'interpolate');
   return out;
 }

@@ -23,9 +23,8 @@ import type { PreparedSeries, SeriesPreparation, WindowExample } from './series-
 import { conformalHalfWidth, scoreIntervals } from './intervals.js';
 import { fillColumn, gapLengths, lastObserved } from './missing.js';
 import type { MissingRecord } from './missing.js';
-import type { SmoothingMethod, SmoothingParameters } from './smoothing.js';
-import { fitSmoothing, runSmoothing } from './smoothing.js';
-import { columnStatistics, fieldPath } from './table.js';
+import { columnStatistics } from './table.js';
+import { chooseSmoothing, logTargets } from './window-choices.js';
 import type { Table } from './table.js';
 import type { TimeColumn } from './time-column.js';
 import { forecastReport } from './verdict.js';
@@ -53,31 +52,6 @@ export interface SeriesContext {
   readonly time: TimeColumn | null;
   /** Per input column, its count of missing values. */
   readonly missing: readonly number[];
-}
-
-/**
- * The smoothing method, fitted on rows [0, fitEnd), whose forecasts of rows [fitEnd, checkEnd) have the lowest MAE
- * (over every row ahead in `rowsAhead`); its forecasts made at every row, per row ahead (forecasts[s][t]).
- */
-function chooseSmoothing(series: readonly number[], fitEnd: number, checkEnd: number, rowsAhead: readonly number[], season: number | null): { name: string; parameters: SmoothingParameters; forecasts: Float64Array[] } {
-  const methods: SmoothingMethod[] = ['simple', 'damped', ...(season === null ? [] : (['additive', 'multiplicative'] as SmoothingMethod[]))];
-  let best: { name: string; parameters: SmoothingParameters; forecasts: Float64Array[]; error: number } | null = null;
-  for (const method of methods) {
-    const fit = fitSmoothing(series, fitEnd, method, season ?? 1);
-    if (fit === null) continue;
-    const forecasts = rowsAhead.map(() => new Float64Array(series.length));
-    if (rowsAhead.some((h, s) => Number.isNaN(runSmoothing(series, fitEnd, fit, h, forecasts[s])))) continue;
-    let error = 0;
-    rowsAhead.forEach((h, s) => {
-      for (let t = fitEnd - h; t + h < checkEnd; t++) if (!Number.isNaN(series[t + h])) error += Math.abs(series[t + h] - forecasts[s][t]);
-    });
-    if (best === null || error < best.error) {
-      const { meanSquaredError: _unused, ...parameters } = fit;
-      best = { name: method === 'simple' ? 'simple smoothing' : method === 'damped' ? 'a damped trend' : `Holt-Winters ${method}`, parameters, forecasts, error };
-    }
-  }
-  if (best === null) fail('invalid_option', '--hybrid', 'a smoothing method that fits the training rows', 'none fits');
-  return best;
 }
 
 /** Sliding windows over a series (see the file's comment). */
@@ -158,7 +132,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
     for (let k = 0; k < window; k++) for (let j = 0; j < width; j++) filled[k * width + j] = values[first + k][j];
     for (const j of flagged) {
       const before = first > 0 ? lastSeen[j][first - 1] : -1;
-      fillColumn(filled, j, width, window, before >= 0 ? values[before][j] : NaN, before - first, rule, fallback[j]);
+      fillColumn(filled, j, width, window, [before >= 0 ? values[before][j] : NaN, before - first, fallback[j]], 0, rule);
     }
     const last = (window - 1) * width;
     for (let k = 0; k < window; k++) {
@@ -268,36 +242,4 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       }));
     },
   };
-}
-
-/**
- * Which columns are read as logarithms (true at a column's index): with `log: 'yes'` every target (each value must
- * be above 0, else an error at its file:line:column); with 'no' (the default) none; with 'auto' a target whose training values are
- * all above 0 and whose season's swing grows with its level, judged as forecasters judge it: Holt-Winters with a
- * multiplicative season fits the training rows better (lower one-step squared error) than with an additive one
- * (Hyndman & Athanasopoulos, "Forecasting: Principles and Practice", 3rd ed., §8.3; common practice: a log turns a
- * multiplicative season into an additive one). Never without a season. Measured on a generated series with a
- * multiplicative season (144 months), the logarithm made the test MAE worse (11.4 against 9.5 for the plain model,
- * 9.8 against 8.2 on top of Holt-Winters): windows read relative to their last value already scale with the level,
- * so 'auto' is not the default.
- */
-function logTargets(input: SeriesContext): boolean[] {
-  const { values, columns, targetIndexes, trainEnd, season, options, table } = input;
-  const logged = columns.map(() => false);
-  const asked = options.log ?? 'no';
-  if (asked === 'no') return logged;
-  for (const j of targetIndexes) {
-    const column = values.map((row) => row[j]);
-    if (asked === 'yes') {
-      const bad = column.findIndex((v) => !(v > 0) && !Number.isNaN(v));
-      if (bad >= 0) fail('bad_data', fieldPath(table, bad, columns[j]), `a number > 0 in column ${JSON.stringify(table.header[columns[j]])} (--log yes reads its logarithm)`, String(column[bad]));
-      logged[j] = true;
-      continue;
-    }
-    if (season === null || !column.every((v) => v > 0 || Number.isNaN(v))) continue;
-    const additive = fitSmoothing(column, trainEnd, 'additive', season);
-    const multiplicative = fitSmoothing(column, trainEnd, 'multiplicative', season);
-    if (additive !== null && multiplicative !== null && multiplicative.meanSquaredError < additive.meanSquaredError) logged[j] = true;
-  }
-  return logged;
 }

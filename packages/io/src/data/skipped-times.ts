@@ -59,6 +59,16 @@ function stepsBetween(step: Step, a: number, b: number): number {
   return months >= step.months && months % step.months === 0 ? months / step.months : NaN;
 }
 
+/** The grid's step as the unit rows are apart: "days", "hours", "2 hours", "months", "quarters", "90 seconds". */
+function stepWords(step: Step): string {
+  if (step.kind === 'months') return step.months === 1 ? 'months' : step.months === 3 ? 'quarters' : 'years';
+  const units: [number, string][] = [[7 * DAY, 'weeks'], [DAY, 'days'], [3_600_000, 'hours'], [60_000, 'minutes'], [1000, 'seconds']];
+  for (const [size, name] of units) {
+    if (step.span % size === 0) return step.span === size ? name : `${step.span / size} ${name}`;
+  }
+  return `${step.span} milliseconds`;
+}
+
 /** `count` steps in words: "3 days", "2 months", "1 step of 15 minutes". */
 function spanWords(step: Step, count: number, unit: string): string {
   if (step.kind === 'months') return `${count * step.months} month${count * step.months === 1 ? '' : 's'}`;
@@ -81,7 +91,7 @@ export function insertSkippedTimes(table: Table, time: TimeColumn, refuse = fals
     : median >= 89 * DAY && median <= 92 * DAY ? { kind: 'months', months: 3 }
       : median >= 365 * DAY && median <= 366 * DAY ? { kind: 'months', months: 12 }
         : { kind: 'span', span: median };
-  const unit = timeSpacing(time.times)?.unit ?? `${median / 1000} seconds`;
+  const unit = stepWords(step);
   const steps = gaps.map((g, i) => stepsBetween(step, time.times[i], time.times[i + 1]));
   const off = steps.findIndex((s) => Number.isNaN(s));
   if (off >= 0) {

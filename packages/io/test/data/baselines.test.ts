@@ -12,7 +12,7 @@ import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { lusolve, mean, multiply, transpose } from 'mathjs';
 import { Random, WeftError } from '@weft/core';
-import { bestBaseline, fitLinear, forecastBaselines, parseTable, readSeries } from '@weft/io';
+import { bestBaseline, fitLinear, forecastBaselines, parseTable, readSeries, scoreForecaster } from '@weft/io';
 import type { SeriesSplit } from '@weft/io';
 
 describe('the linear baseline', () => {
@@ -66,6 +66,23 @@ describe('forecast baselines', () => {
     expect(byName.naive.mase).toBeCloseTo(0.9, 14);
     expect(scores.map((s) => s.name)).toEqual(['naive', 'seasonal naive', 'simple smoothing', 'Holt', 'damped trend', 'Holt-Winters additive', 'Holt-Winters multiplicative', 'Theta', 'linear']);
     expect(bestBaseline(scores).overall.mase).toBe(Math.min(...scores.map((s) => s.overall.mase!)));
+  });
+
+  it('scores no one on a target never observed, and forecasts from what was last seen at a row without a value', () => {
+    // Rows 1 (a fitting row) and 6 (a scored target row) are missing.
+    const gappy: SeriesSplit = { values: [[1], [NaN], [4], [8], [3], [6], [NaN]], targets: [0], horizon: 1, fitRows: 5, positions: [4, 5] };
+    const { scores, scales } = forecastBaselines(gappy, { season: 2 });
+    const byName = Object.fromEntries(scores.map((s) => [s.name, s.overall]));
+    // Only row 5 (6) is scored: naive from row 4 (3) → 3; seasonal naive from row 3 (8) → 2.
+    expect(scores.every((s) => s.overall.count === 1)).toBe(true);
+    expect(byName.naive.mae).toBe(3);
+    expect(byName['seasonal naive'].mae).toBe(2);
+    // Scale over the pairs two rows apart that both have a value: |4 − 1|, |3 − 4| → 2 (the pair 8, NaN left out).
+    expect(scales[0]).toBe(2);
+    // A forecaster that is absurd wherever the target was never observed scores the same as a sane one.
+    const sane = scoreForecaster(gappy, (t) => gappy.values[t][0] + 1, scales);
+    const absurd = scoreForecaster(gappy, (t) => (Number.isNaN(gappy.values[t + 1][0]) ? 1e300 : gappy.values[t][0] + 1), scales);
+    expect(absurd).toEqual(sane);
   });
 
   it('says why the seasonal methods are left out when there is no season', () => {

@@ -7,7 +7,10 @@
  */
 import { describe, expect, it } from 'vitest';
 import { mean, sqrt } from 'mathjs';
-import { prepareSeries, runSmoothing } from '@weft/io';
+import { Random } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { createRowForecaster, modelTensors, prepareSeries, readWeightFile, runSmoothing, writeWeightFile } from '@weft/io';
+import { createRuntime } from '@weft/io/runtime';
 import type { SeriesWindows } from '@weft/io';
 
 const rows = 120;
@@ -66,26 +69,80 @@ describe('sliding windows', () => {
     [0, 1, 2].forEach((k) => expect(windows.train[0].values[2 * k + 1]).toBeCloseTo((forecasts[k] - values[t]) / recorded.deviation[0], 9));
   });
 
-  it('read the targets as logarithms when asked, or (auto) where the season swings with the level, and refuse a value not above 0', () => {
-    // Monthly, a season whose swing grows with the level (multiplicative), and one whose swing stays (additive).
-    const swinging = Array.from({ length: 144 }, (_, t) => (100 + 2 * t) * (1 + 0.3 * Math.sin((2 * Math.PI * t) / 12)));
-    const steady = Array.from({ length: 144 }, (_, t) => 100 + 2 * t + 30 * Math.sin((2 * Math.PI * t) / 12));
-    const monthly = (ys: number[]) => `month,level\n${ys.map((v, t) => `${1990 + Math.floor(t / 12)}-${String((t % 12) + 1).padStart(2, '0')},${v.toFixed(4)}`).join('\n')}\n`;
-    const base = { ...options, season: 12, given: new Set<string>(), horizon: 1 };
-    expect((prepareSeries(monthly(swinging), 'm.csv', { ...base, log: 'auto' }).metadata.window as { log?: boolean[] }).log).toEqual([true]);
-    expect((prepareSeries(monthly(steady), 'm.csv', { ...base, log: 'auto' }).metadata.window as { log?: boolean[] }).log).toBeUndefined();
-    expect((prepareSeries(monthly(swinging), 'm.csv', base).metadata.window as { log?: boolean[] }).log).toBeUndefined();
-    const logged = prepareSeries(monthly(swinging), 'm.csv', { ...base, log: 'yes' });
-    const windows = logged.examples as SeriesWindows;
-    const logs = swinging.map((v) => Math.log(Number(v.toFixed(4))));
-    const deviation = (logged.metadata.window as { deviation: number[] }).deviation[0];
-    const trainingRows = (logged.metadata.split as { trainingRows: number }).trainingRows;
-    expect(deviation).toBeCloseTo(rms(Array.from({ length: trainingRows - 1 }, (_, i) => logs[i + 1] - logs[i])), 12);
-    const w = (logged.metadata.window as { rows: number }).rows;
-    expect(windows.train[0].values[0]).toBeCloseTo((logs[0] - logs[w - 1]) / deviation, 12);
-    // Exactly right outputs in the log scale come back through exp as the values themselves.
-    expect(logged.heldOut(windows.test.flatMap((x) => x.target), 1).model.value).toBeCloseTo(0, 6);
-    const withZero = monthly(swinging.map((v, t) => (t === 5 ? 0 : v)));
-    expect(() => prepareSeries(withZero, 'm.csv', { ...base, log: 'yes' })).toThrowError('Bad data at m.csv:7:9: expected a number > 0 in column "level" (--log yes reads its logarithm), received 0');
+  describe('with missing readings', () => {
+    // Two columns, a time column, holes in both: the target's rows 50–52 and 90, the input's rows 10–29 (a long gap).
+    const days = 160;
+    const heat = Array.from({ length: days }, (_, t) => 20 + 5 * Math.sin((2 * Math.PI * t) / 7) + 0.02 * t);
+    const wind = Array.from({ length: days }, (_, t) => 3 + Math.cos(t / 3));
+    const heatGone = (t: number) => (t >= 50 && t <= 52) || t === 90 || t === 150;
+    const windGone = (t: number) => t >= 10 && t < 30;
+    const cell = (v: number, gone: boolean) => (gone ? 'NA' : v.toFixed(4));
+    const gappy = `date,heat,wind\n${heat.map((v, t) => `${new Date(Date.UTC(2026, 0, 1 + t)).toISOString().slice(0, 10)},${cell(v, heatGone(t))},${cell(wind[t], windGone(t))}`).join('\n')}\n`;
+    const settings = { window: 6, lookback: 0, streams: 8, validationShare: 0.2, testShare: 0.15, horizon: 1, seed: '1', season: 7, given: new Set(['window', 'streams']), targets: ['heat'], calendar: false };
+
+    it('fill each window from its own rows and those before it, flag the holes, weigh a missing target 0, and keep long gaps out of training', () => {
+      const prepared = prepareSeries(gappy, 'gappy.csv', settings);
+      const windows = prepared.examples as SeriesWindows;
+      // Inputs: heat, wind, then a 0/1 flag for each (both had holes).
+      expect(prepared.inputWidth).toBe(4);
+      expect(prepared.metadata.missing).toMatchObject({ rule: 'interpolate', gapLimit: 3, flagged: [0, 1] });
+      const deviation = (prepared.metadata.window as { deviation: number[] }).deviation;
+      const value = (t: number) => Number(heat[t].toFixed(4));
+      // The window ending at row 53 (rows 48–53) holds the gap 50–52, closed by row 53: interpolated 49 → 53.
+      const flags = (w: { values: number[] }) => [0, 1, 2, 3, 4, 5].map((k) => w.values[4 * k + 2]);
+      const at53 = windows.train.find((w) => flags(w).join() === '0,0,1,1,1,0');
+      expect(at53).toBeDefined();
+      const interpolatedAt51 = value(49) + ((value(53) - value(49)) * 2) / 4;
+      expect(at53!.values[4 * 3]).toBeCloseTo((interpolatedAt51 - value(53)) / deviation[0], 12);
+      expect([at53!.values[4 * 2 + 2], at53!.values[4 * 3 + 2], at53!.values[4 * 4 + 2], at53!.values[4 * 5 + 2]]).toEqual([1, 1, 1, 0]);
+      // Training windows never hold a row of the 20-row gap (rows 10–29), nor end before a missing target.
+      expect(windows.train.every((w) => w.values.every((_, i) => i % 4 !== 3 || w.values[i] === 0))).toBe(true);
+      expect(windows.train.some((w) => w.targetWeights?.[0] === 0)).toBe(false);
+      // Validation windows keep a target weight per value; the test windows include every row, gaps and all.
+      expect(windows.validation.every((w) => w.targetWeights !== undefined)).toBe(true);
+      expect(prepared.notes.some((n) => n.startsWith('missing readings: heat 5 of 160 (3%), wind 20 of 160 (13%)'))).toBe(true);
+    });
+
+    it('score exact forecasts as 0 on the observed rows, counting only them, and never read a forecast of a row never observed', () => {
+      const prepared = prepareSeries(gappy, 'gappy.csv', settings);
+      const windows = prepared.examples as SeriesWindows;
+      const exact = windows.test.flatMap((w) => w.target);
+      const report = prepared.heldOut(exact, 1);
+      expect(report.model.value).toBeCloseTo(0, 9);
+      // 24 test rows (0.15 of 160), one of them (row 150) never observed.
+      expect(report.model.overall?.count).toBe(23);
+      expect(report.baselines.every((b) => b.overall?.count === 23)).toBe(true);
+      // A shadow set of outputs, absurd wherever the target is missing, gives the same figures.
+      const absurd = windows.test.flatMap((w) => (w.targetWeights?.[0] === 0 ? [1e12] : w.target));
+      expect(prepared.heldOut(absurd, 1)).toEqual(report);
+    });
+
+    it('give the runtime\'s row-by-row forecasts the scored figures to the bit, holes and all', async () => {
+      const prepared = prepareSeries(gappy, 'gappy.csv', settings);
+      const windows = prepared.examples as SeriesWindows;
+      const model = buildModel({ input: { kind: 'values', width: prepared.inputWidth }, layers: [{ cell: 'gru', hidden: 5 }], readout: { width: 1 } }, { seed: 4 });
+      const random = new Random('gappy runtime');
+      for (const p of model.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
+      const runtime = await createRuntime(await readWeightFile(await writeWeightFile(model.description, modelTensors(model))));
+      const w = (prepared.metadata.window as { rows: number }).rows;
+      const outputs = windows.test.flatMap((x) => Array.from(runtime.run(Float32Array.from(x.values), w, 1).subarray(w - 1, w)));
+      const report = prepared.heldOut(outputs, 1);
+      const forecaster = createRowForecaster(runtime, prepared.metadata);
+      const table = gappy.trim().split('\n').slice(1).map((line) => line.split(','));
+      let sum = 0;
+      let count = 0;
+      table.forEach((fields, t) => {
+        const made = forecaster.next({ date: fields[0], heat: fields[1], wind: fields[2] }, `row ${t}`);
+        if (t >= 136 - 1 && t + 1 < days && !heatGone(t + 1)) {
+          sum += Math.abs(value(t + 1) - made!.heat);
+          count++;
+        }
+      });
+      function value(t: number) {
+        return Number(heat[t].toFixed(4));
+      }
+      expect(count).toBe(23);
+      expect(sum / count).toBe(report.model.overall?.mae);
+    });
   });
 });

@@ -150,4 +150,37 @@ describe('exponential smoothing', () => {
       }
     }
   });
+
+  it('moves on as its own forecast at a missing value: the forecast made there is the one made a row before, one row farther, for every form', () => {
+    // The state-space form with a missing observation (HKOS 2008, from memory): no error, no update, the forecast
+    // of every later row unchanged.
+    const random = new Random('gap');
+    const series = Array.from({ length: 80 }, (_, t) => 30 + 0.1 * t + 4 * Math.sin((2 * Math.PI * t) / 12) + random.normal());
+    for (const method of ['simple', 'holt', 'damped', 'additive', 'multiplicative'] as const) {
+      const fit = fitSmoothing(series, 60, method, 12)!;
+      const before = new SmoothingStepper(fit, 3);
+      const gappy = new SmoothingStepper(fit, 2);
+      for (let t = 0; t < 40; t++) {
+        const made = before.next(series[t]);
+        gappy.next(series[t]);
+        if (t === 39) expect(gappy.next(NaN)).toBeCloseTo(made, 10);
+      }
+    }
+  });
+
+  it('fits and scores over the values present when some are missing, never reading the gaps', () => {
+    const random = new Random('gaps fit');
+    const series = Array.from({ length: 120 }, (_, t) => 30 + 0.1 * t + 4 * Math.sin((2 * Math.PI * t) / 12) + random.normal());
+    const gappy = series.map((v, t) => (t % 9 === 4 ? NaN : v));
+    for (const method of ['simple', 'holt', 'damped', 'additive', 'multiplicative'] as const) {
+      const fit = fitSmoothing(gappy, 100, method, 12)!;
+      const error = oneStepError(gappy, 100, fit);
+      expect(Number.isFinite(error)).toBe(true);
+      expect(error).toBe(runSmoothing(gappy, 100, fit, 1, new Float64Array(120)));
+      // A forecast at every row, gaps included.
+      const forecasts = new Float64Array(120);
+      runSmoothing(gappy, 100, fit, 1, forecasts);
+      expect(forecasts.every((f) => Number.isFinite(f))).toBe(true);
+    }
+  });
 });
