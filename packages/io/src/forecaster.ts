@@ -204,7 +204,8 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const filled = new Float64Array(w * width);
   const before = new Float64Array(width).fill(NaN);
   const beforeRow = new Float64Array(width).fill(-1);
-  const edges = new Float64Array(3);
+  const edges = new Float64Array(4);
+  const season = typeof metadata.season === 'number' ? metadata.season : 0;
   const advance = (values: ArrayLike<number>, time: number, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
     checkOut(out);
     for (let j = 0; j < width; j++) {
@@ -249,6 +250,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
         edges[0] = before[j];
         edges[1] = beforeRow[j] - first;
         edges[2] = missing.fallback[j];
+        edges[3] = season;
         fillColumn(filled, j, width, w, edges, 0, missing.rule);
       }
     }

@@ -132,7 +132,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
     for (let k = 0; k < window; k++) for (let j = 0; j < width; j++) filled[k * width + j] = values[first + k][j];
     for (const j of flagged) {
       const before = first > 0 ? lastSeen[j][first - 1] : -1;
-      fillColumn(filled, j, width, window, [before >= 0 ? values[before][j] : NaN, before - first, fallback[j]], 0, rule);
+      fillColumn(filled, j, width, window, [before >= 0 ? values[before][j] : NaN, before - first, fallback[j], season ?? 0], 0, rule);
     }
     const last = (window - 1) * width;
     for (let k = 0; k < window; k++) {

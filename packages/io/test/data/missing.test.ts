@@ -48,6 +48,23 @@ describe('missing readings', () => {
     expect(Array.from(window)).toEqual([1, 10, 2, 20, 3, 30]);
   });
 
+  it('follow the season\'s shape when a season of rows before the gap lies in the window', () => {
+    // Season 3: rows 0–2 are 0, 3, 0; the next season is 10 higher. Row 4 is missing inside the window: the line from
+    // row 3 (10) to row 5 (10) gives 10 at row 4, plus the previous season's departure from its own line at row 1,
+    // 3 − (0 + (0 − 0) / 2) = 3: 13.
+    const inside = column([0, 3, 0, 10, NaN, 10]);
+    fillColumn(inside, 0, 1, 6, [NaN, -1, 0, 3], 0, 'interpolate');
+    expect(inside[4]).toBe(13);
+    // A gap at the window's end: carried from row 4 (13), moving as rows 1 → 2 and 1 → 3 moved a season earlier.
+    const end = column([0, 3, 0, 10, 13, NaN, NaN]);
+    fillColumn(end, 0, 1, 7, [NaN, -1, 0, 3], 0, 'carry');
+    expect(Array.from(end.subarray(5))).toEqual([13 + (0 - 3), 13 + (10 - 3)]);
+    // Without the season's rows in the window, a plain carry.
+    const short = column([10, 13, NaN]);
+    fillColumn(short, 0, 1, 3, [NaN, -1, 0, 3], 0, 'carry');
+    expect(short[2]).toBe(13);
+  });
+
   it('find each row\'s last reading and the length of the gap each row lies in', () => {
     expect(Array.from(lastObserved([NaN, 1, NaN, NaN, 4]))).toEqual([-1, 1, 1, 1, 4]);
     expect(Array.from(gapLengths([[1, NaN], [NaN, NaN], [NaN, 3], [4, 4]], [0, 1]))).toEqual([2, 2, 2, 0]);
