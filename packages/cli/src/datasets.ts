@@ -80,7 +80,9 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
   const targetOptions = (to: number) => 'columns' in examples.targets
     ? { targetColumns: [...examples.targets.columns] }
     : { targets: examples.targets.values.slice(0, to * examples.targets.width), targetWidth: examples.targets.width };
-  const data = (to: number) => ({ kind: 'values' as const, values: values.slice(0, to * features), features, ...targetOptions(to), horizon });
+  const weights = examples.targetWeights;
+  const weightWidth = 'columns' in examples.targets ? examples.targets.columns.length : examples.targets.width;
+  const data = (to: number) => ({ kind: 'values' as const, values: values.slice(0, to * features), features, ...targetOptions(to), ...(weights === undefined ? {} : { targetWeights: weights.slice(0, to * weightWidth) }), horizon });
   // Validation and test read the series from its first row as one stream (the runtime's forecast at each row, as
   // `weft run` makes it), every row before their own first target carrying state only.
   const validation = wholeStream(data(testStart), { window: examples.window, scoredFrom: trainEnd - horizon });

@@ -24,82 +24,12 @@ import { createTranslator } from './translate.js';
 import { SmoothingStepper } from './data/smoothing.js';
 import { calendarInputsAt } from './data/calendar.js';
 import { parseTime } from './data/time-column.js';
-import type { ForecastIntervals } from './data/series-types.js';
 import { forecastIntervals, forecastMissing, forecastRowsAhead, forecastWindow } from './forecast-metadata.js';
 import { fillColumn, missingTest } from './data/missing.js';
+import { valueAt } from './forecast-row.js';
+import type { RowForecaster } from './forecast-row.js';
+export type { ForecastRow, RowForecaster } from './forecast-row.js';
 export type { ForecastWindow } from './forecast-metadata.js';
-
-/** A row's values by column name: numbers, text as read from a file, or (for the time column) a Date. */
-export type ForecastRow = Readonly<Record<string, number | string | Date>>;
-
-/** Forecasts row by row. */
-export interface RowForecaster {
-  /** The columns of numbers it reads, in order. */
-  readonly inputNames: readonly string[];
-  /** Every column a row must have: the input columns and, for calendar inputs, the time column last. */
-  readonly readNames: readonly string[];
-  /** The targets it forecasts. */
-  readonly outputNames: readonly string[];
-  /**
-   * The rows ahead each forecast block is for, nearest first: `[horizon]` for a model of one row ahead, `[1, …, H]`
-   * for a model forecasting every row up to its horizon at once.
-   */
-  readonly rowsAhead: readonly number[];
-  /** Models trained from different seeds whose median is the forecast (1 for a single model). */
-  readonly members: number;
-  /**
-   * Prediction intervals (metadata `intervals`): forecast ± halfWidth[s × targets + k], Infinity where the
-   * validation part was too short for the level; null when the model has none.
-   */
-  readonly intervals: ForecastIntervals | null;
-  /** Rows it needs before its first forecast (1 for a stream, the window's rows for a windowed model). */
-  readonly warmUp: number;
-  /** True when rows may have missing readings (the model records how to fill them); else every cell must hold a number. */
-  readonly takesMissing: boolean;
-  /**
-   * Takes the next row (raw values by column name; `where` names it in errors) and returns the forecast made at it
-   * of the farthest row ahead, by target name in real units, or null while fewer than `warmUp` rows have been given.
-   */
-  next(row: ForecastRow, where?: string): Record<string, number> | null;
-  /**
-   * As `next`, writing every forecast into `out` (`out[s × targets + k]`: target k, `rowsAhead[s]` rows ahead) and
-   * returning false while warming up.
-   */
-  nextInto(row: ForecastRow, out: { [index: number]: number; readonly length: number }, where?: string): boolean;
-  /**
-   * As `nextInto`, the row given as numbers in the order of `readNames`: the input columns and, for a model reading
-   * calendar positions, the row's time last, in milliseconds since 1970-01-01 UTC. It allocates nothing: the way to
-   * stream a forecaster in a hot loop. NaN is a missing reading, for a model that takes them (`takesMissing`).
-   */
-  nextValuesInto(values: ArrayLike<number>, out: { [index: number]: number; readonly length: number }): boolean;
-  /** Forgets every row given so far. */
-  reset(): void;
-}
-
-const STANDARD_MISSING = missingTest();
-
-/** The number in a row's cell: a number as it is, text parsed (NaN when it holds no number or is missing). */
-function cellNumber(raw: number | string | Date | undefined): number {
-  if (typeof raw === 'number') return raw;
-  if (raw === undefined || raw instanceof Date) return NaN;
-  return raw.trim() === '' ? NaN : Number(raw);
-}
-
-/**
- * The reading of column `name` in a row: a finite number, or NaN for a missing reading where `isMissing` is given
- * (a marker, or NaN); anything else is an error naming the row and column.
- */
-function valueAt(row: ForecastRow, name: string, where: string, isMissing: ((text: string) => boolean) | null): number {
-  const raw = Object.prototype.hasOwnProperty.call(row, name) ? row[name] : undefined;
-  if (isMissing !== null && ((typeof raw === 'string' && isMissing(raw)) || (typeof raw === 'number' && Number.isNaN(raw)))) return NaN;
-  const value = cellNumber(raw);
-  if (!Number.isFinite(value)) {
-    const marker = (typeof raw === 'string' && STANDARD_MISSING(raw)) || (typeof raw === 'number' && Number.isNaN(raw));
-    const expected = isMissing !== null ? 'a finite number or a missing-reading marker' : marker ? 'a finite number (this model records no rule for missing readings: retrain it with this version)' : 'a finite number';
-    fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : expected, raw === undefined ? 'nothing' : raw instanceof Date ? 'a Date' : JSON.stringify(raw));
-  }
-  return value;
-}
 
 /** A row forecaster for a forecast model and its weight file's metadata. */
 export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<string, unknown>>): RowForecaster {
@@ -135,15 +65,23 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     const normalisation = metadata.normalisation as { mean: readonly number[]; deviation: readonly number[] };
     const transform = metadata.targetTransform as { kind: 'differences' | 'log-returns'; mean: readonly number[]; deviation: readonly number[] } | undefined;
     const targets = outputNames.map((t) => inputNames.indexOf(t));
-    const input = new Float32Array(width);
+    // Missing readings (a model that records a rule): each carries the column's last value (its fallback before
+    // any), with a 0/1 flag input per column that had holes in training.
+    const missing = forecastMissing(metadata, width);
+    const isMissing = missing === null ? null : missingTest(missing.markers);
+    const flagged = missing?.flagged ?? [];
+    const carried = Float64Array.from(missing?.fallback ?? normalisation.mean);
+    const input = new Float32Array(width + flagged.length);
     const rowValues = new Float64Array(width);
     const advance = (values: ArrayLike<number>, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
       checkOut(out);
       for (let j = 0; j < width; j++) {
         const v = values[j];
-        if (!Number.isFinite(v)) fail('bad_data', `${where}.${inputNames[j]}`, 'a finite number', String(v));
-        input[j] = (v - normalisation.mean[j]) / normalisation.deviation[j];
+        if (!Number.isFinite(v) && !(missing !== null && Number.isNaN(v))) fail('bad_data', `${where}.${inputNames[j]}`, missing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(v));
+        if (!Number.isNaN(v)) carried[j] = v;
+        input[j] = (carried[j] - normalisation.mean[j]) / normalisation.deviation[j];
       }
+      for (let i = 0; i < flagged.length; i++) input[width + i] = Number.isNaN(values[flagged[i]]) ? 1 : 0;
       streams.step(input, output);
       medianOfMembers(output, 0, members, block, combined, scratch);
       for (let k = 0; k < targetCount; k++) {
@@ -151,7 +89,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
         if (transform === undefined) {
           out[k] = combined[k] * normalisation.deviation[j] + normalisation.mean[j];
         } else {
-          const level = values[j];
+          const level = carried[j];
           const change = combined[k] * transform.deviation[k] + transform.mean[k];
           out[k] = transform.kind === 'log-returns' ? level * Math.exp(change) : level + change;
         }
@@ -159,7 +97,7 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
       return true;
     };
     const nextInto: RowForecaster['nextInto'] = (row, out, where = 'row') => {
-      for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where, null);
+      for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where, isMissing);
       return advance(rowValues, out, where);
     };
     return {
@@ -170,11 +108,14 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
       members,
       intervals,
       warmUp: 1,
-      takesMissing: false,
+      takesMissing: missing !== null,
       nextInto,
       nextValuesInto: (values, out) => advance(values, out, 'values'),
       next: (row, where) => (nextInto(row, farthest, where), named()),
-      reset: () => streams.reset(),
+      reset: () => {
+        streams.reset();
+        carried.set(missing?.fallback ?? normalisation.mean);
+      },
     };
   }
   const w = window.rows;

@@ -60,7 +60,7 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
   // It also reads a 0/1 "was missing" input per column with holes (missing.flagged).
   const window = metadata.window as { hybrid?: unknown; calendar?: unknown } | undefined;
   const flagged = (metadata.missing as { flagged?: unknown } | undefined)?.flagged;
-  const extra = (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) + (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) + (window !== undefined && Array.isArray(flagged) ? flagged.length : 0);
+  const extra = (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) + (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) + (Array.isArray(flagged) ? flagged.length : 0);
   const readWidth = input.kind === 'values' ? input.width - extra : 1;
   const widthWords = extra > 0 ? `the model's input width less its ${extra} smoothing, calendar and missing-value input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
   let columns: string[] | null = null;

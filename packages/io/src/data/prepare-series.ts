@@ -19,6 +19,7 @@ import { checkGaps, linesOf, seriesParts, tableNotes } from './series-checks.js'
 import { columnStatistics, fieldPath, parseTable } from './table.js';
 import { readTimeColumn } from './time-column.js';
 import { insertSkippedTimes } from './skipped-times.js';
+import type { MissingRecord } from './missing.js';
 import { forecastReport, forecastWords } from './verdict.js';
 import type { PreparedSeries, SeriesPreparation } from './series-types.js';
 export type { ChosenSettings, ForecastIntervals, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './series-types.js';
@@ -65,12 +66,15 @@ export function prepareSeries(text: string, file: string, options: SeriesPrepara
   if (time !== null) checkGaps(table, time, baselines.season.season);
   const targetNames = targets.map((c) => table.header[c]);
   const partsLine = `parts of ${file}, in time order: training ${linesOf(table, 0, trainEnd)}; validation, for stopping and keeping weights, ${linesOf(table, trainEnd, testStart)}; test, scored once at the end, ${linesOf(table, testStart, rows)}`;
+  // Sliding windows by default for series up to SLIDING_ROWS training rows, unless a setting that applies to streams
+  // alone (a transform, a lookback) asks for streams.
+  const examples = options.examples ?? (trainEnd <= SLIDING_ROWS && (options.transform ?? 'none') === 'none' && options.lookback === 0 ? 'sliding' : 'streams');
   const holes = series.missing.some((n) => n > 0);
   const notes = [
     ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
     ...(putBack?.note === null || putBack === null ? [] : [putBack.note]),
     ...series.notes,
-    ...(holes ? [missingNote(series.columns, series.missing, rows, rule, options.gapLimit, series.targets)] : []),
+    ...(holes ? [missingNote(series.columns, series.missing, rows, examples === 'sliding' ? rule : 'streams', options.gapLimit, series.targets)] : []),
     ...(time === null ? [] : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
     ...tableNotes(table, time, series.columns),
   ];
@@ -84,9 +88,6 @@ export function prepareSeries(text: string, file: string, options: SeriesPrepara
     ...(baselines.season.season === null ? {} : { season: baselines.season.season }),
   };
   const context = [partsLine, `${baselines.season.reason}${options.season === undefined ? ' (--season to choose another, or none)' : ''}`, ...baselines.leftOut.map((l) => `left out: ${l}`)];
-  // Sliding windows by default for series up to SLIDING_ROWS training rows, unless a setting that applies to streams
-  // alone (a transform, a lookback) asks for streams.
-  const examples = options.examples ?? (trainEnd <= SLIDING_ROWS && (options.transform ?? 'none') === 'none' && options.lookback === 0 ? 'sliding' : 'streams');
   // Sliding windows forecast every row up to the horizon at once; streams the row `horizon` ahead.
   const rowsAhead = examples === 'sliding' ? Array.from({ length: horizon }, (_, i) => i + 1) : [horizon];
   let observed = 0;
@@ -94,7 +95,7 @@ export function prepareSeries(text: string, file: string, options: SeriesPrepara
   const what = `${forecastWords(positions.length, targetNames, rowsAhead, observed)}, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`;
   const common = { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, options, split, baselines, notes, metadata, context, what, time, missing: series.missing };
   if (examples === 'sliding') return slidingWindows({ ...common, season: baselines.season.season });
-  if (holes) fail('invalid_option', file, `a series with every reading present for --examples streams (missing readings are filled on sliding windows, up to ${SLIDING_ROWS.toLocaleString('en')} training rows); fill the gaps, or forecast a shorter stretch`, `${series.missing.reduce((a, b) => a + b, 0)} missing readings`);
+  if (holes && (options.transform ?? 'none') !== 'none') fail('invalid_option', '--transform', `none for a series with missing readings (a change from or to a missing reading is unknown); or fill the gaps first`, `${options.transform} with ${series.missing.reduce((a, b) => a + b, 0)} missing readings`);
   if (options.hybrid === true) fail('invalid_option', '--hybrid', `sliding windows (--examples sliding; the default up to ${SLIDING_ROWS.toLocaleString('en')} training rows, and not with --transform or --lookback)`, 'streams');
   if (trainEnd < options.streams * options.window + horizon) {
     fail('invalid_option', file, `at least ${options.streams * options.window + horizon} training rows for ${options.streams} streams of ${options.window}-row windows ${horizon} row${horizon === 1 ? '' : 's'} ahead; lower --streams or --window, or the --validation and --test shares`, `${rows} rows, which leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test)`);
@@ -109,7 +110,20 @@ function streamsOf(input: Omit<Common, 'season'>): PreparedSeries {
   const { table, values, columns, targetIndexes, trainEnd, testStart, horizon, options, split, baselines } = input;
   const rows = values.length;
   const { mean, deviation } = columnStatistics(values.slice(0, trainEnd), columns.length);
-  const normalised = values.flatMap((row) => row.map((v, j) => (v - mean[j]) / deviation[j]));
+  // Missing inputs carry the last value (the training mean before the first), each column with holes adding a 0/1
+  // "was missing" input, as the runtime does row by row.
+  const flagged = input.missing.flatMap((n, j) => (n > 0 ? [j] : []));
+  const features = columns.length + flagged.length;
+  const carried = [...mean];
+  const normalised = values.flatMap((row) => [
+    ...row.map((v, j) => {
+      if (!Number.isNaN(v)) carried[j] = v;
+      return (carried[j] - mean[j]) / deviation[j];
+    }),
+    ...flagged.map((j) => (Number.isNaN(row[j]) ? 1 : 0)),
+  ]);
+  // A missing target weighs 0: the targets are given with a weight each (0 stands in for the missing value).
+  const targetHoles = targetIndexes.some((j) => input.missing[j] > 0);
   // With a transform, the model learns the change over `horizon` rows (row s holds the change from s − h to s).
   const transform = options.transform ?? 'none';
   let change: { mean: number[]; deviation: number[]; rows: number[][] } | null = null;
@@ -144,13 +158,16 @@ function streamsOf(input: Omit<Common, 'season'>): PreparedSeries {
   };
   const names = targetIndexes.map((j) => table.header[columns[j]]);
   return {
-    inputWidth: columns.length,
+    inputWidth: features,
     outputWidth: targetCount,
     examples: {
       kind: 'streams',
       values: normalised,
-      features: columns.length,
-      targets: change === null ? { columns: targetIndexes } : { values: change.rows.flat(), width: targetCount },
+      features,
+      targets: change !== null ? { values: change.rows.flat(), width: targetCount }
+        : targetHoles ? { values: values.flatMap((row) => targetIndexes.map((j) => (Number.isNaN(row[j]) ? 0 : (row[j] - mean[j]) / deviation[j]))), width: targetCount }
+          : { columns: targetIndexes },
+      ...(targetHoles ? { targetWeights: values.flatMap((row) => targetIndexes.map((j) => (Number.isNaN(row[j]) ? 0 : 1))) } : {}),
       horizon,
       trainEnd,
       testStart,
@@ -161,6 +178,7 @@ function streamsOf(input: Omit<Common, 'season'>): PreparedSeries {
     },
     metadata: {
       ...input.metadata,
+      missing: { rule: 'carry', gapLimit: rows, flagged, fallback: mean, markers: [...(options.missingMarkers ?? [])] } satisfies MissingRecord,
       normalisation: { mean, deviation },
       ...(change === null ? {} : { targetTransform: { kind: transform, mean: change.mean, deviation: change.deviation } }),
     },
@@ -192,7 +210,7 @@ function streamsOf(input: Omit<Common, 'season'>): PreparedSeries {
 /** What was missing and what was done, in one line. */
 function missingNote(columns: readonly string[], missing: readonly number[], rows: number, rule: string, gapLimit: number | undefined, targets: readonly string[]): string {
   const counts = columns.flatMap((name, j) => (missing[j] > 0 ? [`${name} ${missing[j]} of ${rows} (${Math.round((100 * missing[j]) / rows)}%)`] : []));
-  const inputs = rule === 'refuse' ? '' : rule === 'segments'
+  const inputs = rule === 'streams' ? 'inputs carried from the last value (streams read row by row; the state carries across every gap)' : rule === 'segments'
     ? 'no training window holds a missing input (every gap cuts the series; the runtime carries the last value)'
     : `inputs ${rule === 'interpolate' ? 'interpolated across each gap (carried where a gap reaches the window\'s last row)' : 'carried from the last value'}, gaps longer than ${gapLimit === undefined ? 'half the window' : `${gapLimit} rows`} kept out of training windows`;
   const targetHoles = columns.some((name, j) => missing[j] > 0 && targets.includes(name));

@@ -101,6 +101,8 @@ export interface SeriesStreams {
     /** Targets per row. */
     readonly width: number;
   };
+  /** With missing targets: per row, 1 per target observed and 0 per target missing (row-major like `targets.values`). */
+  readonly targetWeights?: readonly number[];
   /** Rows ahead of each target. */
   readonly horizon: number;
   /** Rows [0, trainEnd) train; [trainEnd, testStart) validate; [testStart, rows) test. */

@@ -31,6 +31,11 @@ export interface ValueStreamOptions {
   readonly targets?: FloatArray | readonly number[];
   /** Numbers per row of `targets`. */
   readonly targetWidth?: number;
+  /**
+   * A weight per target value, row-major [N, target width] like `targets` (row t + horizon weighs step t's targets):
+   * 0 for a value never observed, which then counts in no loss. Default 1 each.
+   */
+  readonly targetWeights?: FloatArray | readonly number[];
   /** Predict the value this many steps ahead (default 1). */
   readonly horizon?: number;
   /** Element type of the batches' tensors; default `f32`. */
@@ -154,6 +159,14 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
   const windows = Math.floor(perStream / window);
   if (windows < 1) fail('bad_data', 'stream.values', `at least ${streams * window + horizon} rows`, `${rows}`);
   const width = own === undefined ? columns.length : ownWidth;
+  const valueWeights = data.targetWeights;
+  let weightBuffer = new Float64Array(0);
+  if (valueWeights !== undefined) {
+    if (valueWeights.length !== rows * width) fail('bad_data', 'stream.targetWeights', `${rows * width} weights (${rows} rows × ${width} targets)`, `${valueWeights.length}`);
+    for (let i = 0; i < valueWeights.length; i++) {
+      if (!(valueWeights[i] >= 0 && Number.isFinite(valueWeights[i]))) fail('bad_data', `stream.targetWeights[${Math.floor(i / width)}][${i % width}]`, 'a finite weight ≥ 0', String(valueWeights[i]));
+    }
+  }
   const buffers = new BatchBuffers();
   const weightsBySkipped = new Map<number, Float64Array>();
   return {
@@ -176,12 +189,27 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
           else for (let c = 0; c < width; c++) target[at * width + c] = own[(row + horizon) * width + c];
         }
       }
+      // With weights per target value: each one times its row's weight (0 over a lookback).
+      let batchWeights: Float64Array | null = weights;
+      if (valueWeights !== undefined) {
+        // Kept, like the tensors, until the next batch is asked for.
+        if (weightBuffer.length !== steps * streams * width) weightBuffer = new Float64Array(steps * streams * width);
+        batchWeights = weightBuffer;
+        for (let t = 0; t < steps; t++) {
+          for (let b = 0; b < streams; b++) {
+            const row = b * perStream + begin + t;
+            const at = t * streams + b;
+            const rowWeight = weights === null ? 1 : weights[at];
+            for (let c = 0; c < width; c++) batchWeights[at * width + c] = rowWeight * valueWeights[(row + horizon) * width + c];
+          }
+        }
+      }
       return {
         input: inputTensor,
         steps,
         batch: streams,
         lengths: null,
-        targets: { kind: 'values', perStep: true, width, values: targetTensor, weights },
+        targets: { kind: 'values', perStep: true, width, values: targetTensor, weights: batchWeights },
         positions: window * streams,
         carryAfter,
       };
@@ -213,13 +241,20 @@ export function wholeStream(data: TokenStreamOptions | ValueStreamOptions, optio
   const total = rows - horizon;
   if (!(Number.isInteger(scoredFrom) && scoredFrom >= 0 && scoredFrom < total)) fail('invalid_option', 'stream.scoredFrom', `a position in [0, ${total})`, String(scoredFrom));
   const batches = Math.ceil(total / window);
+  // Targets per row of a value stream (for slicing its weights per target value).
+  const valueWidth = data.kind === 'values' ? (data.targets === undefined ? (data.targetColumns?.length ?? features) : (data.targetWidth ?? 1)) : 1;
   // Each batch is read from a one-window source over the batch's own rows (with the horizon after them).
   const sliceOf = (index: number) => {
     const begin = index * window;
     const steps = Math.min(window, total - begin);
     const end = begin + steps + horizon;
     const source = data.kind === 'values'
-      ? streamBatches({ ...data, values: data.values.slice(begin * features, end * features), ...(data.targets === undefined ? {} : { targets: data.targets.slice(begin * (data.targetWidth ?? 1), end * (data.targetWidth ?? 1)) }) }, { window: steps })
+      ? streamBatches({
+        ...data,
+        values: data.values.slice(begin * features, end * features),
+        ...(data.targets === undefined ? {} : { targets: data.targets.slice(begin * (data.targetWidth ?? 1), end * (data.targetWidth ?? 1)) }),
+        ...(data.targetWeights === undefined ? {} : { targetWeights: data.targetWeights.slice(begin * valueWidth, end * valueWidth) }),
+      }, { window: steps })
       : streamBatches({ ...data, tokens: data.tokens.subarray(begin, end) }, { window: steps });
     let weights: Float64Array | null = null;
     if (begin < scoredFrom) {
@@ -235,7 +270,14 @@ export function wholeStream(data: TokenStreamOptions | ValueStreamOptions, optio
     batch(_epoch: number, index: number): Batch {
       const { source, weights, scored } = slices[index];
       const batch = source.batch(0, 0);
-      return { ...batch, targets: { ...batch.targets, weights: weights ?? batch.targets.weights } as Batch['targets'], positions: scored };
+      let combined = weights ?? batch.targets.weights;
+      if (weights !== null && batch.targets.weights !== null) {
+        // Weights per target value (from targetWeights) times the warm-up's weight of their row.
+        const perValue = batch.targets.weights;
+        const width = perValue.length / weights.length;
+        combined = perValue.map((w, i) => w * weights[Math.floor(i / width)]);
+      }
+      return { ...batch, targets: { ...batch.targets, weights: combined } as Batch['targets'], positions: scored };
     },
   };
 }

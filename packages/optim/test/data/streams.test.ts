@@ -30,9 +30,29 @@ describe('value streams', () => {
     expect(() => streamBatches({ kind: 'values', values, features: 2, targets: [1, 2, 3], targetWidth: 1 }, { window: 2 })).toThrowError(
       'Bad data at stream.targets: expected 10 values (10 rows × 1, as many rows as the values), received 3');
   });
+
+  it('weigh each target value as given (0 for one never observed), times its row\'s weight, and refuse a wrong count', () => {
+    // Column 1's row 3 and row 6 were never observed: steps 1 and 4 (horizon 2) weigh 0 there.
+    const targetWeights = Array.from({ length: 10 }, (_, t) => (t === 3 || t === 6 ? 0 : 1));
+    const source = streamBatches({ kind: 'values', values, features: 2, targetColumns: [1], horizon: 2, targetWeights }, { streams: 2, window: 2 });
+    const batch = source.batch(0, 0);
+    // Steps (t, b): (0, 0) row 0 → target row 2; (0, 1) row 4 → 6; (1, 0) row 1 → 3; (1, 1) row 5 → 7.
+    expect(Array.from(batch.targets.weights ?? [])).toEqual([1, 0, 0, 1]);
+    expect(() => streamBatches({ kind: 'values', values, features: 2, targetWeights: [1, 1] }, { window: 2 })).toThrowError(
+      'Bad data at stream.targetWeights: expected 20 weights (10 rows × 2 targets), received 2');
+  });
 });
 
 describe('a whole stream for evaluation', () => {
+  it('weigh the warm-up 0 and each target value as given after it', () => {
+    const values = Array.from({ length: 11 }, (_, i) => i);
+    const targetWeights = values.map((v) => (v === 6 ? 0 : 1));
+    const source = wholeStream({ kind: 'values', values, features: 1, horizon: 2, targetWeights }, { window: 4, scoredFrom: 3 });
+    const weights = [0, 1, 2].flatMap((i) => Array.from(source.batch(0, i).targets.weights ?? new Float64Array(4).fill(1)));
+    // Positions 0–2 warm up; position 4's target (row 6) was never observed.
+    expect(weights).toEqual([0, 0, 0, 1, 0, 1, 1, 1, 1]);
+  });
+
   it('puts every position with a target in exactly one batch, the last one shorter, and weighs the warm-up 0', () => {
     // 11 rows, horizon 2 → positions 0 … 8; windows of 4 → batches of 4, 4, 1; positions 0 … 2 warm up only.
     const values = Array.from({ length: 11 }, (_, i) => i);
