@@ -29,8 +29,8 @@ describe('preparing training data', () => {
     const prepared = prepareForecast(series(60, (r) => String(Math.sin(r))), 'levels.csv', options);
     expect(prepared.notes).toEqual(['left out columns that hold no numbers: site (no numbers: "north" at line 2)']);
     expect((prepared.metadata as { columns: string[] }).columns).toEqual(['level']);
-    expect(() => prepareForecast(series(60, (r) => (r === 0 ? 'n/a' : String(r))), 'levels.csv', options)).toThrowError(
-      'Bad data at levels.csv:2:7: expected a decimal number in column "level", received "n/a" (59 of 60 cells there are; fix the cell, or choose the columns with --columns)',
+    expect(() => prepareForecast(series(60, (r) => (r === 0 ? 'n.a.' : String(r))), 'levels.csv', options)).toThrowError(
+      'Bad data at levels.csv:2:7: expected a decimal number in column "level", received "n.a." (59 of 60 cells there are; fix the cell, mark missing readings with --missing-marker, or choose the columns with --columns)',
     );
     expect(() => prepareForecast(series(60, (r) => (r === 7 ? '0x10' : String(r))), 'levels.csv', options)).toThrowError(/^Bad data at levels\.csv:9:7: expected a decimal number in column "level", received "0x10"/);
   });

@@ -71,7 +71,7 @@ describe('weft train', () => {
       const rows = Array.from({ length: 300 }, (_, i) => `${Math.sin(i)},${Math.cos(i)}`);
       rows[150] = '0.5,warm';
       writeFileSync(join(folder, 'sensor.csv'), `x,y\n${rows.join('\n')}\n`);
-      expectOneLineError(weft(['train', 'sensor.csv', '--window', '8', '--streams', '2']), 1, /^weft: Bad data at sensor\.csv:152:5: expected a decimal number in column "y", received "warm" \(299 of 300 cells there are; fix the cell, or choose the columns with --columns\)$/);
+      expectOneLineError(weft(['train', 'sensor.csv', '--window', '8', '--streams', '2']), 1, /^weft: Bad data at sensor\.csv:152:5: expected a decimal number in column "y", received "warm" \(299 of 300 cells there are; fix the cell, mark missing readings with --missing-marker, or choose the columns with --columns\)$/);
     });
   });
 

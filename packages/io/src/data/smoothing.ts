@@ -21,6 +21,10 @@
  * A missing value (NaN) updates nothing: the state moves on as its own forecast (level ℓ + φ b, trend φ b, the season
  * kept), as the state-space form does with a missing observation (HKOS 2008, from memory), and it adds no error.
  * Initial states are then set from the series with its gaps interpolated (missing.ts).
+ *
+ * Why one file of this length: the recursion is written twice, once general (the stepper) and once per form in
+ * tight loops for fitting (oneStepError), and the two must agree to the bit (a test checks it); side by side, a
+ * change to one is seen in the other.
  */
 import { minimise } from './minimise.js';
 import { interpolated } from './missing.js';
