@@ -102,6 +102,8 @@ describe('series with missing readings', () => {
     expect(outcome.heldOut.model.overall!.count).toBe(observedCount);
     expect(outcome.heldOut.baselines.every((b) => b.overall!.count === observedCount)).toBe(true);
     expect(text).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline)/m);
+    const best = outcome.heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a));
+    console.log(`Seattle, a tenth of the readings removed: model MAE ${outcome.heldOut.model.value.toFixed(3)} on ${observedCount} observed test days, best baseline ${best.name} ${best.value.toFixed(3)}`);
     // weft score reads the file through the runtime and repeats the figures.
     const scored = await score(parseArgs('score', [out, file, '--format', 'json'], scoreFlags));
     const report = JSON.parse(scored) as { model: { overall: { mae: number; count: number } } };
