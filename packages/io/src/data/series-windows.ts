@@ -97,7 +97,20 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   const flagged = input.missing.flatMap((n, j) => (n > 0 ? [j] : []));
   const fallback = columnStatistics(values.slice(0, trainEnd), width).mean;
   const lastSeen = Array.from({ length: width }, (_, j) => lastObserved(values.map((row) => row[j])));
-  const level = (t: number, j: number) => (lastSeen[j][t] >= 0 ? values[lastSeen[j][t]][j] : fallback[j]);
+  // The value a window ending at row t is read relative to, per column: the row's own, or, where it is missing, the
+  // window's fill of its last row (what the runtime computes; the last value carried, moved with the season).
+  const column = new Float64Array(window);
+  const referenceOf = (j: number): Float64Array => Float64Array.from(values, (row, t) => {
+    if (!Number.isNaN(row[j])) return row[j];
+    if (t < window - 1) return lastSeen[j][t] >= 0 ? values[lastSeen[j][t]][j] : fallback[j];
+    const first = t - window + 1;
+    for (let k = 0; k < window; k++) column[k] = values[first + k][j];
+    const before = first > 0 ? lastSeen[j][first - 1] : -1;
+    fillColumn(column, 0, 1, window, [before >= 0 ? values[before][j] : NaN, before - first, fallback[j], season ?? 0], 0, rule);
+    return column[window - 1];
+  });
+  const reference = targetIndexes.map((j) => (input.missing[j] > 0 ? referenceOf(j) : null));
+  const level = (t: number, k: number) => reference[k]?.[t] ?? values[t][targetIndexes[k]];
   const gaps = gapLengths(values, flagged);
   const gapLimit = options.gapLimit ?? Math.max(1, Math.floor(window / 2));
   const limit = rule === 'segments' ? 0 : gapLimit;
@@ -105,7 +118,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   // rows are best; the model reads its forecasts of the next row beside the values and forecasts the correction to
   // its forecast of each row ahead.
   const hybrid = options.hybrid === true ? targetIndexes.map((j) => chooseSmoothing(values.map((row) => row[j]), trainEnd, testStart, rowsAhead, season)) : null;
-  const base = (s: number, k: number, t: number) => (hybrid === null ? level(t, targetIndexes[k]) : hybrid[k].forecasts[s][t]);
+  const base = (s: number, k: number, t: number) => (hybrid === null ? level(t, k) : hybrid[k].forecasts[s][t]);
   // Calendar inputs from the time column (where in the year, week or day each row falls), after the hybrid's.
   const positions = options.calendar === false || input.time === null ? [] : calendarFor(input.time.spacing);
   const times = input.time?.times ?? null;

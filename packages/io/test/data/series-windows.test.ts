@@ -117,9 +117,12 @@ describe('sliding windows', () => {
       expect(prepared.heldOut(absurd, 1)).toEqual(report);
     });
 
-    it('give the runtime\'s row-by-row forecasts the scored figures to the bit, holes and all', async () => {
-      const prepared = prepareSeries(gappy, 'gappy.csv', settings);
+    it('give the runtime\'s row-by-row forecasts the scored figures to the bit, holes and all, forecasts made at a missing row included', async () => {
+      // Two seasons of rows per window, so a missing last row is filled with the season's shape; row 150 is missing
+      // and forecasts row 151.
+      const prepared = prepareSeries(gappy, 'gappy.csv', { ...settings, window: 14 });
       const windows = prepared.examples as SeriesWindows;
+      expect((prepared.metadata.window as { rows: number }).rows).toBe(14);
       const model = buildModel({ input: { kind: 'values', width: prepared.inputWidth }, layers: [{ cell: 'gru', hidden: 5 }], readout: { width: 1 } }, { seed: 4 });
       const random = new Random('gappy runtime');
       for (const p of model.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
