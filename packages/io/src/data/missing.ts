@@ -18,7 +18,8 @@
  * value moves as the values m rows earlier moved since the last reading, and an interpolated one adds the previous
  * season's departure from the same straight line (interpolating the series with the season taken out; a choice of
  * ours). Measured on a generated hourly series (24-hour cycle, 10% missing in runs of 1–10 rows, eight seeds), the
- * test MAE relative to the complete series was 1.018 on average with the season's shape and 1.027 without.
+ * test MAE relative to the complete series was 1.00 on average with the season's shape (0.86–1.10) and 1.03 without
+ * (0.91–1.19).
  */
 
 /** The cells read as missing besides those the user adds (compared trimmed, in any case). */
