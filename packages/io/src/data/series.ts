@@ -81,6 +81,9 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
   if (columns.length === 0) fail('bad_data', `${table.file}:1:1`, 'at least one column of numbers', `the columns ${table.header.join(', ')}`);
   const targets = options.targets === undefined ? columns : options.targets.map((name) => columnNamed(table, name, options.choices?.targets ?? 'a column to forecast'));
   for (const t of targets) {
+    if (!columns.includes(t) && leftOut.includes(`${table.header[t]} (every cell missing)`)) {
+      fail('bad_data', fieldPath(table, 0, t), `a column with at least one reading (${JSON.stringify(table.header[t])} was chosen ${options.choices?.targets ?? 'as a column to forecast'})`, `every one of its ${table.rows.length} cells missing`);
+    }
     if (!columns.includes(t)) {
       fail('bad_data', `${table.file}:1:1`, `a target among the columns read (${columns.map((c) => table.header[c]).join(', ')})`, JSON.stringify(table.header[t]));
     }

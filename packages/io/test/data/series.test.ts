@@ -39,6 +39,7 @@ describe('readSeries with missing readings', () => {
 
   it('refuses a column chosen with every cell missing, and any missing cell when asked to, at its file:line:column', () => {
     expect(weftErrorMessage(() => readSeries(gappy, { columns: ['note'] }))).toBe('Bad data at gaps.csv:2:8: expected a column with at least one reading ("note" was chosen), received every one of its 4 cells missing');
+    expect(weftErrorMessage(() => readSeries(gappy, { targets: ['note'], choices: { columns: 'with --columns', targets: 'for --target' } }))).toBe('Bad data at gaps.csv:2:8: expected a column with at least one reading ("note" was chosen for --target), received every one of its 4 cells missing');
     expect(weftErrorMessage(() => readSeries(gappy, { refuseMissing: true }))).toBe('Bad data at gaps.csv:2:7: expected a reading in column "flow" (missing cells are refused here), received ""');
   });
 
