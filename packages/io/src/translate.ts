@@ -7,9 +7,14 @@
  *
  * The metadata fields read (written by `weft train`; see metadata.ts): `columns`, `targetColumns`,
  * `normalisation` { mean, deviation } and `targetTransform` { kind, mean, deviation } for values models; `vocabulary` and `tokens` ('characters' | 'words') for
- * token models; `classes` for classifiers. Call `checkMetadata` first on a file you did not make.
+ * token models; `classes` for classifiers; `missing` (missing.ts) for a model that takes missing readings: a stream
+ * model's missing reading (a marker, or NaN) carries the column's last value, and a 0/1 flag follows the columns for
+ * each column that had holes in training. Call `checkMetadata` first on a file you did not make.
  */
 import { WeftError, fail } from '@weft/core';
+import { missingTest } from './data/missing.js';
+import type { MissingRecord } from './data/missing.js';
+import { forecastMissing } from './forecast-metadata.js';
 
 /** The token of ids a vocabulary has no other id for (the first entry of every vocabulary weft makes). */
 export const UNKNOWN_TOKEN = '<unknown>';
@@ -23,7 +28,12 @@ export interface Translator {
   readonly inputNames: readonly string[];
   /** The names of the outputs: target columns (forecasts), classes (classifiers) or the vocabulary (next token). */
   readonly outputNames: readonly string[];
-  /** A row of raw values by column name → the model's input numbers (normalised), written into `into` if given. */
+  /** How the model takes missing readings (metadata `missing`), or null when it takes none. */
+  readonly missing: MissingRecord | null;
+  /**
+   * A row of raw values by column name → the model's input numbers (normalised; a stream model's missing readings
+   * carried and flagged), written into `into` if given.
+   */
   inputs(row: Readonly<Record<string, number | string>>, into?: Float32Array, where?: string): Float32Array;
   /**
    * Model outputs of one step (normalised targets) → the targets by name, in real units. A model trained on a
@@ -79,20 +89,33 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
   const transform = metadata.targetTransform as TargetTransform | undefined;
   // The targets' raw values in the last row given to inputs(), for undoing a transform.
   const lastLevels = new Float64Array(targets.length).fill(NaN);
+  // Missing readings: each column's last value (its fallback before any), and the flags after the columns.
+  const missing = metadata.missing === undefined ? null : forecastMissing(metadata, columns.length);
+  const isMissing = missing === null ? null : missingTest(missing.markers);
+  const flagged = missing === null || metadata.window !== undefined ? [] : missing.flagged;
+  const carried = Float64Array.from(missing?.fallback ?? []);
+  const width = columns.length + flagged.length;
   return {
     inputNames: columns,
     outputNames,
+    missing,
     inputs(row, into, where = 'row') {
-      const out = into ?? new Float32Array(columns.length);
-      if (out.length !== columns.length) fail('shape_mismatch', `${where} (into)`, `${columns.length} numbers`, String(out.length));
+      const out = into ?? new Float32Array(width);
+      if (out.length !== width) fail('shape_mismatch', `${where} (into)`, `${width} numbers`, String(out.length));
       columns.forEach((name, j) => {
         if (!Object.prototype.hasOwnProperty.call(row, name)) throw bad(`${where}.${name}`, `a value for column ${JSON.stringify(name)}, which the model reads`, 'nothing');
         const raw = row[name];
-        const value = typeof raw === 'number' ? raw : raw.trim() === '' ? NaN : Number(raw);
-        if (!Number.isFinite(value)) throw bad(`${where}.${name}`, 'a finite number', JSON.stringify(raw));
+        let value = typeof raw === 'number' ? raw : raw.trim() === '' ? NaN : Number(raw);
+        if (isMissing !== null && (typeof raw === 'number' ? Number.isNaN(raw) : isMissing(raw))) value = carried[j];
+        else if (!Number.isFinite(value)) throw bad(`${where}.${name}`, isMissing === null ? 'a finite number' : 'a finite number or a missing-reading marker', JSON.stringify(raw));
+        else if (missing !== null) carried[j] = value;
         out[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
         const k = targets.indexOf(name);
         if (k >= 0) lastLevels[k] = value;
+      });
+      flagged.forEach((j, i) => {
+        const raw = row[columns[j]];
+        out[columns.length + i] = (typeof raw === 'number' ? Number.isNaN(raw) : isMissing!(raw)) ? 1 : 0;
       });
       return out;
     },

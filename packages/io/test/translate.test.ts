@@ -31,6 +31,26 @@ describe('createTranslator', () => {
     expect(message(() => forecast.inputs({ level: 1, inflow: 1 }, new Float32Array(3)))).toBe('Shape mismatch at row (into): expected 2 numbers, received 3');
   });
 
+  it('carries a stream model\'s missing reading from the column\'s last value (its fallback before any) and flags it after the columns', () => {
+    const gappy = createTranslator({
+      task: 'forecast',
+      columns: ['inflow', 'level'],
+      targetColumns: ['level'],
+      horizon: 1,
+      normalisation: { mean: [3, 50], deviation: [1, 10] },
+      missing: { rule: 'carry', gapLimit: 100, flagged: [1], fallback: [3, 40], markers: ['?'] },
+    });
+    expect(gappy.missing?.flagged).toEqual([1]);
+    // Level missing before any reading: its fallback, 40 → −1; flagged.
+    expect(Array.from(gappy.inputs({ inflow: 4, level: 'NA' }))).toEqual([1, -1, 1]);
+    expect(Array.from(gappy.inputs({ inflow: 2, level: 70 }))).toEqual([-1, 2, 0]);
+    // Then the last value, 70, carried; a marker given for the model and NaN both count.
+    expect(Array.from(gappy.inputs({ inflow: 3, level: '?' }))).toEqual([0, 2, 1]);
+    expect(Array.from(gappy.inputs({ inflow: Number.NaN, level: Number.NaN }))).toEqual([0, 2, 1]);
+    expect(weftErrorMessage(() => gappy.inputs({ inflow: 3, level: 'high' }))).toBe('Bad data at row.level: expected a finite number or a missing-reading marker, received "high"');
+    expect(forecast.missing).toBeNull();
+  });
+
   it('undoes a target transform from the level now: differences add the change, log returns scale by its exponential', () => {
     const base = { task: 'forecast', columns: ['level'], targetColumns: ['level'], horizon: 1, normalisation: { mean: [0], deviation: [1] } };
     const differences = createTranslator({ ...base, targetTransform: { kind: 'differences', mean: [1], deviation: [2] } });
