@@ -115,6 +115,12 @@ describe('sliding windows', () => {
       // A shadow set of outputs, absurd wherever the target is missing, gives the same figures.
       const absurd = windows.test.flatMap((w) => (w.targetWeights?.[0] === 0 ? [1e12] : w.target));
       expect(prepared.heldOut(absurd, 1)).toEqual(report);
+      // A shadow copy of the data with absurd numbers behind every missing cell, marked missing, prepares and scores
+      // the same: the examples, the metadata and every figure.
+      const shadow = prepareSeries(gappy.replaceAll(',NA', ',-987654321'), 'gappy.csv', { ...settings, missingMarkers: ['-987654321'] });
+      expect((shadow.examples as SeriesWindows).train).toEqual(windows.train);
+      expect(shadow.metadata).toEqual({ ...prepared.metadata, missing: { ...(prepared.metadata.missing as object), markers: ['-987654321'] } });
+      expect(shadow.heldOut(exact, 1)).toEqual(report);
     });
 
     it('give the runtime\'s row-by-row forecasts the scored figures to the bit, holes and all, forecasts made at a missing row included', async () => {
