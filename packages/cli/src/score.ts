@@ -13,7 +13,7 @@
  */
 import { readData } from './train.js';
 import { Random, fail, indexOfLargest, logSumExp } from '@weft/core';
-import { chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastMissing, forecastWords, insertSkippedTimes, missingTest, scoreIntervals, numberAt, parseTable, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
+import { baselineIntervals, chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastMissing, forecastWords, insertSkippedTimes, missingTest, scoreIntervals, numberAt, parseTable, withIntervals, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
 import type { Table, WeightFile } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
@@ -144,7 +144,12 @@ function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: st
     ],
   });
   // The model's own prediction intervals (recorded by weft train), scored on the same rows.
-  return forecaster.intervals === null ? report : { ...report, intervals: scoreIntervals(split, forecastAt, forecaster.intervals, baselines.scales) };
+  if (forecaster.intervals === null) return report;
+  // The baselines' intervals from their errors on the rows before the scored ones, as many as the training run's
+  // validation part (a tenth of the rows when the file does not say).
+  const recorded = Number((meta.split as { validationRows?: unknown } | undefined)?.validationRows);
+  const from = testStart - (Number.isInteger(recorded) && recorded > 0 ? recorded : Math.max(1, Math.round(rows / 10)));
+  return withIntervals(report, scoreIntervals(split, forecastAt, forecaster.intervals, baselines.scales), baselineIntervals(split, baselines, forecaster.intervals.level, Math.max(0, from)));
 }
 
 /** The class probabilities of every sequence of a long table (one step per row), in the order ids first appear. */

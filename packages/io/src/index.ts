@@ -32,7 +32,7 @@ export { autocorrelations, chooseSeason, differences, isSeasonal, seasonalIndice
 export type { NgramOrderChoice, TextBaselines } from './data/ngram.js';
 export { KneserNeyModel, chooseNgramOrder, textBaselines } from './data/ngram.js';
 export type { Contender, ForecastReportParts, HeldOutReport, TransductionFigures } from './data/verdict.js';
-export { bestOf, forecastReport, forecastWords, reportJson, reportLines, verdict } from './data/verdict.js';
+export { bestOf, forecastReport, forecastWords, reportJson, reportLines, verdict, withIntervals } from './data/verdict.js';
 export type { LogisticModel } from './data/logistic.js';
 export { LOGISTIC_PENALTIES, chooseLogistic, fitLogistic, logisticLoss, predictLogistic, summaryFeatures } from './data/logistic.js';
 export type { CalendarPosition } from './data/calendar.js';
@@ -59,4 +59,4 @@ export { SLIDING_ROWS, prepareSeries } from './data/prepare-series.js';
 export type { SeriesParts } from './data/series-checks.js';
 export { seriesParts } from './data/series-checks.js';
 export type { IntervalScores } from './data/intervals.js';
-export { IntervalScoreSum, conformalHalfWidth, scoreIntervals } from './data/intervals.js';
+export { IntervalScoreSum, baselineIntervals, conformalHalfWidth, scoreIntervals } from './data/intervals.js';

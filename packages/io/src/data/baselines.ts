@@ -80,6 +80,8 @@ export interface ForecastBaselines {
   readonly scales: readonly number[];
   /** Baselines left out, each with the reason. */
   readonly leftOut: readonly string[];
+  /** Each baseline's forecaster, in the order of `scores` (for scores computed later, such as intervals). */
+  readonly forecasters: readonly Forecaster[];
 }
 
 /** A forecaster: the forecast of target k for row t + h, made at row t (h: the split's horizon unless given). */
@@ -204,7 +206,11 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
   const scales = columns.map((c) => maseScale(c, fitRows, m ?? 1));
   const scores: BaselineScore[] = [];
   const leftOut: string[] = [];
-  const add = (name: string, description: string, forecast: Forecaster) => scores.push({ name, description, ...scoreForecaster(split, forecast, scales) });
+  const forecasters: Forecaster[] = [];
+  const add = (name: string, description: string, forecast: Forecaster) => {
+    scores.push({ name, description, ...scoreForecaster(split, forecast, scales) });
+    forecasters.push(forecast);
+  };
   const steps = rowsAheadOf(split);
   const ahead = steps.length > 1 ? `${steps[0]} to ${steps[steps.length - 1]} rows ahead` : `${horizon} row${horizon === 1 ? '' : 's'} ahead`;
   add('naive', `the value now, as the forecast ${ahead}`, (t, k) => carried[k][t]);
@@ -266,7 +272,7 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
     const weights = new Map(steps.map((h) => [h, fitLinear({ ...split, horizon: h })]));
     add('linear', `least squares on the last ${LAGS} values of every input column${steps.length > 1 ? ', one fit per row ahead' : ''}`, (t, k, h) => linearForecast(carriedRows, weights.get(h)![k], t));
   } else leftOut.push(`linear: a scored row has fewer than ${LAGS - 1} rows before it`);
-  return { scores, season, scales, leftOut };
+  return { scores, season, scales, leftOut, forecasters };
 }
 
 /** The baseline with the lowest overall MASE when every target has a scale, else the lowest overall MAE. */

@@ -85,3 +85,21 @@ export function scoreIntervals(split: SeriesSplit, forecast: Forecaster, interva
   });
   return sum.result();
 }
+
+/**
+ * Each baseline's split conformal intervals at `level`, as the model's are made: half-widths per row ahead and target
+ * from its own errors on the target rows [from, fitRows) (the validation part; the baselines were fitted on them too,
+ * so these errors are in-sample and the intervals, if anything, narrow), scored on the split's test rows. In the
+ * order of `baselines.scores`.
+ */
+export function baselineIntervals(split: SeriesSplit, baselines: { readonly forecasters: readonly Forecaster[]; readonly scales: readonly number[] }, level: number, from: number): IntervalScores[] {
+  const steps = rowsAheadOf(split);
+  return baselines.forecasters.map((forecast) => {
+    const halfWidth = steps.flatMap((h) => split.targets.map((j, k) => {
+      const errors: number[] = [];
+      for (let r = Math.max(from, h); r < split.fitRows; r++) errors.push(split.values[r][j] - forecast(r - h, k, h));
+      return conformalHalfWidth(errors, level);
+    }));
+    return scoreIntervals(split, forecast, { level, halfWidth }, baselines.scales);
+  });
+}

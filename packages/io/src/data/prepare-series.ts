@@ -13,14 +13,14 @@
 import { fail } from '@weft/core';
 import { medianOfMembers } from '@weft/cells';
 import { forecastBaselines, scoreForecaster } from './baselines.js';
-import { conformalHalfWidth, scoreIntervals } from './intervals.js';
+import { baselineIntervals, conformalHalfWidth, scoreIntervals } from './intervals.js';
 import { readSeries } from './series.js';
 import { checkGaps, linesOf, seriesParts, tableNotes } from './series-checks.js';
 import { columnStatistics, fieldPath, parseTable } from './table.js';
 import { readTimeColumn } from './time-column.js';
 import { insertSkippedTimes } from './skipped-times.js';
 import type { MissingRecord } from './missing.js';
-import { forecastReport, forecastWords } from './verdict.js';
+import { forecastReport, forecastWords, withIntervals } from './verdict.js';
 import type { PreparedSeries, SeriesPreparation } from './series-types.js';
 export type { ChosenSettings, ForecastIntervals, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './series-types.js';
 import { slidingWindows } from './series-windows.js';
@@ -194,7 +194,8 @@ function streamsOf(input: Omit<Common, 'season'>): PreparedSeries {
       const forecasts = forecastsOf(outputs, width, rows);
       const scored = scoreForecaster(split, (at, k) => forecasts[k][at], baselines.scales);
       const report = forecastReport({ what: input.what, model: scored, baselines: baselines.scores, names, context: input.context });
-      return intervals === undefined ? report : { ...report, intervals: scoreIntervals(split, (at, k) => forecasts[k][at], intervals, baselines.scales) };
+      if (intervals === undefined) return report;
+      return withIntervals(report, scoreIntervals(split, (at, k) => forecasts[k][at], intervals, baselines.scales), baselineIntervals(split, baselines, intervals.level, trainEnd));
     },
     intervals: (outputs, width, level) => {
       const forecasts = forecastsOf(outputs, width, testStart);

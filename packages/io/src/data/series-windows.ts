@@ -20,14 +20,14 @@ import type { ForecastBaselines, SeriesSplit } from './baselines.js';
 import { forecastBaselines, scoreForecaster } from './baselines.js';
 import { calendarFor, calendarInputs } from './calendar.js';
 import type { PreparedSeries, SeriesPreparation, WindowExample } from './series-types.js';
-import { conformalHalfWidth, scoreIntervals } from './intervals.js';
+import { baselineIntervals, conformalHalfWidth, scoreIntervals } from './intervals.js';
 import { fillColumn, gapLengths, lastObserved } from './missing.js';
 import type { MissingRecord } from './missing.js';
 import { columnStatistics } from './table.js';
 import { chooseSmoothing, logTargets } from './window-choices.js';
 import type { Table } from './table.js';
 import type { TimeColumn } from './time-column.js';
-import { forecastReport } from './verdict.js';
+import { forecastReport, withIntervals } from './verdict.js';
 
 /** What prepareSeries has read and decided before the examples are made. */
 export interface SeriesContext {
@@ -207,7 +207,8 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   // With several rows ahead, every baseline forecasts each of them too (fitted once).
   const several = rowsAhead.length > 1;
   const scoredSplit = several ? { ...split, rowsAhead } : split;
-  const scoredBaselines = several ? forecastBaselines(scoredSplit, { season, spacing: input.time?.spacing ?? null }).scores : baselines.scores;
+  const scoredFits = several ? forecastBaselines(scoredSplit, { season, spacing: input.time?.spacing ?? null }) : baselines;
+  const scoredBaselines = scoredFits.scores;
   const ahead = several ? `, forecasting rows 1 to ${horizon} ahead at once` : '';
   return {
     inputWidth,
@@ -240,7 +241,8 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       const forecast = (at: number, k: number, h: number) => forecasts[h - 1][k][at];
       const scored = scoreForecaster(scoredSplit, forecast, baselines.scales);
       const report = forecastReport({ what: input.what, model: scored, baselines: scoredBaselines, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
-      return intervals === undefined ? report : { ...report, intervals: scoreIntervals(scoredSplit, forecast, intervals, baselines.scales) };
+      if (intervals === undefined) return report;
+      return withIntervals(report, scoreIntervals(scoredSplit, forecast, intervals, baselines.scales), baselineIntervals(scoredSplit, scoredFits, intervals.level, trainEnd));
     },
     intervals: (outputs, outputWidth, level) => {
       // Each row ahead's errors on the validation rows, from the windows whose row that far ahead is one of them.

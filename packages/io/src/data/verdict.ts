@@ -25,6 +25,8 @@ export interface Contender {
   readonly scores?: ClassificationReport;
   /** Transduction scores (pairs only). */
   readonly transduction?: TransductionFigures;
+  /** Its prediction intervals on the test part (forecasts with intervals only). */
+  readonly intervals?: IntervalScores;
 }
 
 /** An encoder-decoder's figures, each in [0, 1]. */
@@ -170,6 +172,8 @@ export function reportLines(report: HeldOutReport): string[] {
   if (report.intervals !== undefined) {
     const i = report.intervals;
     lines.push(`  prediction intervals at ${Number((100 * i.level).toFixed(1))}% (split conformal on the validation part's errors): coverage ${percent(i.coverage)} of ${i.count} values, mean width ${figure(i.meanWidth)}${i.msis === null ? '' : `, MSIS ${figure(i.msis)}`}${Number.isFinite(i.meanWidth) ? '' : ' (the validation part is too short for this level)'}${Math.abs(i.coverage - i.level) > 0.05 ? `; more than 5 points from the ${Number((100 * i.level).toFixed(1))}% asked: do not rely on these intervals at this level` : ''}`);
+    const line = baselineIntervalsLine(report);
+    if (line !== null) lines.push(line);
   }
   if (report.model.scores !== undefined) lines.push(...classLines(report.model.scores, report.names));
   lines.push(verdict(report));
@@ -194,4 +198,24 @@ export function forecastWords(rows: number, names: readonly string[], rowsAhead:
   const scored = observed < all ? ` (${observed * rowsAhead.length} of them with an observed value, the only ones scored, for the model and every baseline alike)` : '';
   if (rowsAhead.length === 1) return `${rows} forecasts of ${names.join(', ')}, ${last} row${last === 1 ? '' : 's'} ahead${scored}`;
   return `${rows} rows of ${names.join(', ')}, each forecast ${rowsAhead[0]} to ${last} rows ahead (${rows * rowsAhead.length * names.length} forecasts)${scored}`;
+}
+
+/**
+ * The baselines' intervals beside the model's: the one with the lowest MSIS (the M4 competition's interval score,
+ * lower is better), and how the model's compares; null when the baselines have none.
+ */
+function baselineIntervalsLine(report: HeldOutReport): string | null {
+  const model = report.intervals?.msis ?? null;
+  const scored = report.baselines.filter((b) => b.intervals?.msis != null);
+  if (model === null || scored.length === 0) return null;
+  const best = scored.reduce((a, b) => (b.intervals!.msis! < a.intervals!.msis! ? b : a));
+  const i = best.intervals!;
+  const msis = i.msis!;
+  const compared = model < msis ? `the model's ${figure(model)} is lower (better) by ${percent(1 - model / msis)}` : model > msis ? `the model's ${figure(model)} is higher (worse) by ${percent(model / msis - 1)}` : `the model's is the same`;
+  return `  the baselines' intervals, each made the same way from its own validation errors: lowest MSIS ${best.name} ${figure(msis)} (coverage ${percent(i.coverage)}, mean width ${figure(i.meanWidth)}); ${compared}`;
+}
+
+/** A forecast report with the model's intervals and each baseline's (in the order of its baselines). */
+export function withIntervals(report: HeldOutReport, model: IntervalScores, baselines: readonly IntervalScores[]): HeldOutReport {
+  return { ...report, intervals: model, baselines: report.baselines.map((b, i) => (baselines[i] === undefined ? b : { ...b, intervals: baselines[i] })) };
 }

@@ -2,11 +2,13 @@
  * Prediction intervals (intervals.ts): the split conformal half-width is the ⌈(n + 1)·level⌉-th smallest absolute
  * error (Angelopoulos & Bates 2021, as worked here by hand), Infinity with too few errors; on exchangeable errors
  * (seeded normal draws) the interval covers about `level` of new ones; the scaled interval score is the M4
- * competition's MSIS (Makridakis et al. 2020), worked by hand.
+ * competition's MSIS (Makridakis et al. 2020), worked by hand; each baseline's intervals are made the same way from
+ * its own validation errors (worked by hand for naive) and reported beside the model's.
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { IntervalScoreSum, conformalHalfWidth } from '@weft/io';
+import { IntervalScoreSum, baselineIntervals, conformalHalfWidth, forecastBaselines, reportLines, verdict } from '@weft/io';
+import type { SeriesSplit } from '@weft/io';
 
 describe('prediction intervals', () => {
   it('take the ⌈(n + 1)·level⌉-th smallest absolute error, and none from too few errors', () => {
@@ -42,5 +44,22 @@ describe('prediction intervals', () => {
     expect(scores.meanWidth).toBe(4);
     expect(scores.msis).toBeCloseTo((2 + 22 + 32) / 3, 12);
     expect(scores.count).toBe(3);
+  });
+
+  it('give each baseline intervals from its own validation errors, scored on the test rows, and say which is best beside the model\'s', () => {
+    // Naive on 0, 1, 3, 2, 4, 7, 5, 6, 10, 9: validation rows 5–7 (t = 4–6), test rows 8–9.
+    const values = [0, 1, 3, 2, 4, 7, 5, 6, 10, 9].map((v) => [v]);
+    const split: SeriesSplit = { values, targets: [0], horizon: 1, fitRows: 8, positions: [7, 8] };
+    const fitted = forecastBaselines(split, { season: null });
+    const naive = fitted.scores.findIndex((b) => b.name === 'naive');
+    const scores = baselineIntervals(split, fitted, 0.5, 5)[naive];
+    // Naive's validation errors: 7 − 4, 5 − 7, 6 − 5 → |3|, |2|, |1|; the ⌈4 · 0.5⌉ = 2nd smallest: 2.
+    // Test: 10 from 6 ± 2 (outside), 9 from 10 ± 2 (inside): coverage 1/2, width 4.
+    expect(scores.coverage).toBe(0.5);
+    expect(scores.meanWidth).toBe(4);
+    expect(scores.count).toBe(2);
+    const report = { metric: 'MAE', lowerIsBetter: true, what: 'w', model: { name: 'model', description: '', value: 1 }, baselines: [{ name: 'naive', description: '', value: 2, intervals: scores }], names: ['y'], intervals: { ...scores, msis: scores.msis! / 2 } };
+    expect(reportLines(report)).toContain(`  the baselines' intervals, each made the same way from its own validation errors: lowest MSIS naive ${Number(scores.msis!.toPrecision(4))} (coverage 50.0%, mean width 4); the model's ${Number((scores.msis! / 2).toPrecision(4))} is lower (better) by 50.0%`);
+    expect(verdict(report)).toMatch(/^verdict: the model beats every baseline/);
   });
 });
