@@ -55,7 +55,10 @@ describe('descriptions that claim too much', () => {
     parsed.model.layers = [{ cell: 'plain', hidden: 1 }];
     parsed.model.input = { kind: 'embedding', vocabulary: 1_000_000, width: 1000 };
     await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError(/Bad weight file at model: expected a model of at most 100000000 parameters, received "1000001002 parameters"/);
-    expect(process.memoryUsage().rss - before).toBeLessThan(300 * 1024 * 1024);
+    // What the test itself makes (a million layer records, their JSON, parsed again) grows the resident memory by an
+    // amount that depends on the Node line's collector: under 300 MB on Node 20 and 26, 522 MB measured on Node 24.
+    // The embedding, if it were built, would take 4 GB.
+    expect(process.memoryUsage().rss - before).toBeLessThan(1024 * 1024 * 1024);
   });
 });
 
