@@ -7,11 +7,20 @@
  * The bundles are built with code splitting, as a bundler builds a page: the plain-TypeScript SHA-256 (used only
  * where there is no Web Crypto, on pages that are not secure contexts) is a chunk of its own, loaded on demand;
  * the budgets are for the entry chunk, and the lazy chunk's size is printed and bounded separately.
+ *
+ * An app bundled as a bundler bundles one (esbuild, tree shaking on, the packages resolved through their exports)
+ * that imports `Runtime` alone, and not `createRuntime`, keeps the default WebAssembly chooser: `"sideEffects"`
+ * names the one module whose import installs it, so no bundler may drop it (esbuild warned and dropped it when the
+ * packages said they had no side effects at all). Every runtime entry bundles with zero warnings.
  */
 import { gzipSync } from 'node:zlib';
-import { basename } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import { basename, join } from 'node:path';
+import { fileURLToPath, pathToFileURL } from 'node:url';
 import { build } from 'esbuild';
+import { buildModel } from '@weft/cells';
+import { modelTensors, writeWeightFile } from '@weft/io';
 import { describe, expect, it } from 'vitest';
 
 export async function runtimeBundle(entryFile = 'index.js'): Promise<{ text: string; gzipBytes: number; lazy: { name: string; text: string; gzipBytes: number }[] }> {
@@ -69,5 +78,26 @@ describe('the runtime bundles', () => {
     expect(gzipBytes).toBeLessThanOrEqual(24_576);
     expect(absent.filter((word) => text.includes(word))).toEqual([]);
     expect(text.split(wasmMagic).length - 1).toBe(1);
+  });
+
+  it('keep the default WebAssembly chooser in an app that imports Runtime alone, and bundle every runtime entry with no warning', async () => {
+    const folder = mkdtempSync(join(tmpdir(), 'weft-bundle-'));
+    try {
+      const here = fileURLToPath(new URL('.', import.meta.url));
+      const app = "import { Runtime, readWeightFile } from '@weft/io/runtime';\nexport async function backendOf(text) { return new Runtime(await readWeightFile(text)).backend.name; }\n";
+      const result = await build({ stdin: { contents: app, resolveDir: here, sourcefile: 'app.js' }, bundle: true, format: 'esm', platform: 'node', write: false, logLevel: 'silent' });
+      expect(result.warnings.map((w) => w.text)).toEqual([]);
+      const file = join(folder, 'app.mjs');
+      writeFileSync(file, result.outputFiles[0].contents);
+      const { backendOf } = (await import(pathToFileURL(file).href)) as { backendOf: (text: string) => Promise<string> };
+      const model = buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'gru', hidden: 3 }], readout: { width: 1 } }, { seed: 1 });
+      expect(await backendOf(await writeWeightFile(model.description, modelTensors(model)))).toBe(process.env.WEFT_BACKEND === 'javascript' ? 'javascript' : 'webassembly');
+      for (const entry of ['runtime', 'runtime/javascript', 'runtime/encoder-decoder', 'translate']) {
+        const bundled = await build({ stdin: { contents: `export * from '@weft/io/${entry}';\n`, resolveDir: here }, bundle: true, format: 'esm', platform: 'browser', write: false, logLevel: 'silent' });
+        expect(bundled.warnings.map((w) => `${entry}: ${w.text}`)).toEqual([]);
+      }
+    } finally {
+      rmSync(folder, { recursive: true, force: true });
+    }
   });
 });
