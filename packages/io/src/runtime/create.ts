@@ -1,10 +1,11 @@
 /** `createRuntime` with the backend chosen by name (the `@weft/io/runtime` entry). */
 import type { WeightFile } from '../weight-file.js';
 import type { ReadOptions } from '../weight-file.js';
-import { readWeightFile } from '../weight-file.js';
 import type { RuntimeBackendChoice } from './choose.js';
 import { forwardBackend } from './choose.js';
 import { Runtime } from './runtime.js';
+import type { WeightSource } from './source.js';
+import { weightFileFrom } from './source.js';
 
 /** How `createRuntime` reads the file and which forward backend it makes. */
 export interface RuntimeChoiceOptions extends ReadOptions {
@@ -21,8 +22,11 @@ export function weightBytes(file: WeightFile): number {
   return bytes;
 }
 
-/** A runtime from weight-file text (read and checked) or from a file already read. */
-export async function createRuntime(source: string | WeightFile, options: RuntimeChoiceOptions = {}): Promise<Runtime> {
-  const file = typeof source === 'string' ? await readWeightFile(source, options) : source;
+/**
+ * A runtime from a weight file in any form (text, bytes, a Response, a URL, the parsed object: read and checked), or
+ * from a file already read.
+ */
+export async function createRuntime(source: WeightSource, options: RuntimeChoiceOptions = {}): Promise<Runtime> {
+  const file = await weightFileFrom(source, options);
   return new Runtime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes));
 }

@@ -10,6 +10,7 @@ export { Decoding, EncoderDecoderRuntime } from './decoding.js';
 export type { BeamOptions, BeamResult } from './beam.js';
 export { searchBeams } from './beam.js';
 export { createEncoderDecoderRuntime } from './create-encoder-decoder.js';
+export type { WeightSource } from './source.js';
 export { runtimeCounts } from './runtime.js';
 export { readWeightFile } from '../weight-file.js';
 export type { WeightFile, WeightMetadata } from '../weight-file.js';

@@ -11,6 +11,7 @@ export type { RuntimeOptions } from './runtime.js';
 export type { RuntimeBackendChoice } from './choose.js';
 export { forwardBackend } from './choose.js';
 export { createRuntime } from './create.js';
+export type { WeightSource } from './source.js';
 export type { RuntimeChoiceOptions } from './create.js';
 export type { SamplingOptions, UniformSource } from './sampling.js';
 export { greedy, sample } from './sampling.js';

@@ -4,6 +4,7 @@
  */
 export { Runtime, Streams, createRuntime, runtimeCounts } from './runtime.js';
 export type { RuntimeOptions } from './runtime.js';
+export type { WeightSource } from './source.js';
 export { javascriptForward } from '@weft/core/forward/javascript';
 export type { SamplingOptions, UniformSource } from './sampling.js';
 export { greedy, sample } from './sampling.js';

@@ -19,8 +19,9 @@ import { layoutProblems } from '../layout-check.js';
 import { defaultForward } from './forward-default.js';
 import type { ModelDescription } from '@weft/cells/description';
 import type { WeightFile, WeightMetadata } from '../weight-file.js';
-import { readWeightFile } from '../weight-file.js';
 import type { ReadOptions } from '../weight-file.js';
+import type { WeightSource } from './source.js';
+import { weightFileFrom } from './source.js';
 import type { LayerBuffers, RuntimeCell } from './layers.js';
 import { makeCell } from './layers.js';
 
@@ -394,8 +395,11 @@ export interface RuntimeOptions extends ReadOptions {
   readonly backend?: ForwardBackend;
 }
 
-/** A runtime from weight-file text (read and checked) or from a file already read. */
-export async function createRuntime(source: string | WeightFile, options: RuntimeOptions = {}): Promise<Runtime> {
-  const file = typeof source === 'string' ? await readWeightFile(source, options) : source;
+/**
+ * A runtime from a weight file in any form (text, bytes, a Response, a URL, the parsed object: read and checked), or
+ * from a file already read.
+ */
+export async function createRuntime(source: WeightSource, options: RuntimeOptions = {}): Promise<Runtime> {
+  const file = await weightFileFrom(source, options);
   return new Runtime(file, options.backend);
 }
