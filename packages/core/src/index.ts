@@ -49,6 +49,7 @@ export {
   compiledKernels,
   createWebAssemblyBackend,
   defaultBackend,
+  environmentBackendChoice,
   javascriptBackend,
   javascriptKernels,
   setDefaultBackend,

@@ -8,6 +8,7 @@
  * operation that meets tensors of two backends says so (see backend.ts).
  */
 import type { FloatArray } from '../dtype.js';
+import { environmentBackendChoice } from './environment.js';
 import { fail } from '../errors.js';
 import type { Backend, BackendName } from './backend.js';
 import { javascriptBackend } from './javascript.js';
@@ -31,16 +32,10 @@ export function backendNamed(name: string, path = 'backend'): Backend {
   fail('invalid_option', path, NAMES.map((n) => `'${n}'`).join(' or '), JSON.stringify(name));
 }
 
-function environmentChoice(): string | undefined {
-  const host = globalThis as { process?: { env?: Record<string, string | undefined> } };
-  const value = host.process?.env?.WEFT_BACKEND;
-  return value === undefined || value === '' ? undefined : value;
-}
-
 /** The backend used where none is given. */
 export function defaultBackend(): Backend {
   if (current === null) {
-    const requested = environmentChoice();
+    const requested = environmentBackendChoice();
     if (requested !== undefined) current = backendNamed(requested, 'WEFT_BACKEND');
     else current = webAssemblyUnavailable() === null ? webAssemblyBackend() : javascriptBackend;
   }

@@ -3,3 +3,4 @@ export type { ForwardBackend, ForwardKernelName, ForwardKernels } from './forwar
 export { javascriptForward } from './forward.js';
 export type { ForwardWebAssemblyOptions } from './forward-webassembly.js';
 export { createForwardWebAssembly, forwardWebAssemblyUnavailable } from './forward-webassembly.js';
+export { environmentBackendChoice } from './environment.js';

@@ -6,3 +6,4 @@ export { javascriptBackend } from './javascript.js';
 export type { WebAssemblyBackendOptions } from './webassembly.js';
 export { compiledKernels, createWebAssemblyBackend, useCompiledKernels, webAssemblyUnavailable } from './webassembly.js';
 export { backendNamed, backendOf, defaultBackend, memoryOwner, setDefaultBackend, webAssemblyBackend } from './choose.js';
+export { environmentBackendChoice } from './environment.js';

@@ -25,7 +25,12 @@ export function compileModule(base64: string): WebAssembly.Module {
   if (missing !== null) {
     fail('backend_unavailable', 'backend webassembly', 'a platform that runs WebAssembly SIMD', missing, "use the 'javascript' backend");
   }
-  return new WebAssembly.Module(decodeBase64Bytes(base64));
+  try {
+    return new WebAssembly.Module(decodeBase64Bytes(base64));
+  } catch (error) {
+    // Validated but not compiled: a page whose Content-Security-Policy lacks 'wasm-unsafe-eval', for one.
+    fail('backend_unavailable', 'backend webassembly', 'a platform that compiles WebAssembly', `a refusal to compile (${(error as Error).message})`, "use the 'javascript' backend, or allow 'wasm-unsafe-eval' in the page's CSP");
+  }
 }
 
 /** Checks a reservation in bytes (an option named `path`). */

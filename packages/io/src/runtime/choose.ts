@@ -1,23 +1,40 @@
 /**
  * Which backend a runtime runs on: `webassembly` (forward SIMD kernels in a memory of the runtime's own),
  * `javascript`, or a ForwardBackend made by the caller. The default is WebAssembly where the platform validates a
- * SIMD module, else JavaScript; WEFT_BACKEND (read once where a `process` exists) overrides it, as for training.
+ * SIMD module, else JavaScript; WEFT_BACKEND (where a `process` exists and may be read) overrides it, as for
+ * training.
  */
 import { fail } from '@weft/core';
 import type { ForwardBackend } from '@weft/core/forward';
-import { createForwardWebAssembly, forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
+import { createForwardWebAssembly, environmentBackendChoice, forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
 import { setForwardChooser } from './forward-default.js';
 
 /** Where a runtime runs: a backend by name, or a forward backend you made. */
 export type RuntimeBackendChoice = 'javascript' | 'webassembly' | ForwardBackend;
 
-/** The forward backend for a choice, sized for `weightBytes` of weights. */
+let warned = false;
+
+/**
+ * The forward backend for a choice, sized for `weightBytes` of weights. With no choice: WebAssembly where the
+ * platform validates and compiles SIMD modules, else JavaScript (with a one-time console note when compiling was
+ * refused; `runtime.backend.name` says which ran).
+ */
 export function forwardBackend(choice: RuntimeBackendChoice | undefined, weightBytes: number, memoryBytes?: number): ForwardBackend {
   if (choice === undefined) {
-    const host = globalThis as { process?: { env?: Record<string, string | undefined> } };
-    const requested = host.process?.env?.WEFT_BACKEND;
-    if (requested !== undefined && requested !== '') return forwardBackend(requested as RuntimeBackendChoice, weightBytes, memoryBytes);
-    return forwardWebAssemblyUnavailable() === null ? createForwardWebAssembly({ weightBytes, memoryBytes }) : javascriptForward;
+    const requested = environmentBackendChoice();
+    if (requested !== undefined) return forwardBackend(requested as RuntimeBackendChoice, weightBytes, memoryBytes);
+    if (forwardWebAssemblyUnavailable() !== null) return javascriptForward;
+    try {
+      return createForwardWebAssembly({ weightBytes, memoryBytes });
+    } catch (error) {
+      // A platform that validates SIMD modules but refuses to compile them (a page whose Content-Security-Policy
+      // lacks 'wasm-unsafe-eval'): JavaScript, said once. Choosing a backend by name says nothing.
+      if (!warned) {
+        warned = true;
+        console.warn(`weft: WebAssembly could not be compiled here (${(error as Error).message}); the runtime runs on JavaScript, 3–4× slower. Allow 'wasm-unsafe-eval' in a page's CSP, or pass backend: 'javascript'.`);
+      }
+      return javascriptForward;
+    }
   }
   if (choice === 'javascript') return javascriptForward;
   if (choice === 'webassembly') return createForwardWebAssembly({ weightBytes, memoryBytes });

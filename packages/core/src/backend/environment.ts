@@ -1,0 +1,17 @@
+/** Reading the backend asked for by the environment, where there is one to read (Node, Bun, Deno with permission). */
+
+/**
+ * The backend named by the environment variable WEFT_BACKEND, where a `process` exists and may read it; undefined
+ * when it is unset, empty, or not readable (Deno without `--allow-env` throws on the read: taken as unset, so the
+ * default choice stands).
+ */
+export function environmentBackendChoice(): string | undefined {
+  const host = globalThis as { process?: { env?: Record<string, string | undefined> } };
+  let value: string | undefined;
+  try {
+    value = host.process?.env?.WEFT_BACKEND;
+  } catch {
+    return undefined;
+  }
+  return value === undefined || value === '' ? undefined : value;
+}
