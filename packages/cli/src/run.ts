@@ -27,6 +27,7 @@ import { columnsAt, rowForecasts } from './run-forecasts.js';
 import { boundedLines, tableRecords } from './stream-table.js';
 import type { EachRow, OutputRecord } from './run-forecasts.js';
 import { runTransduction } from './transduce.js';
+import { utf8Text } from './text-bytes.js';
 
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
@@ -94,7 +95,7 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   if (!fromStdin && !existsSync(dataPath)) throw new CommandError(`${dataPath}: no such file`);
   const outPath = args.flags.get('out');
   if (isEncoderDecoder(file.model)) {
-    const text = await runTransduction(file, args, modelPath, fromStdin ? readFileSync(0, 'utf8') : readFileSync(dataPath, 'utf8'), name, format);
+    const text = await runTransduction(file, args, modelPath, utf8Text(fromStdin ? readFileSync(0) : readFileSync(dataPath), name), name, format);
     if (outPath === undefined) return text;
     writeFileAtomic(outPath, text);
     return null;
@@ -108,7 +109,7 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
 
   if (meta.task === 'classification' && typeof meta.idColumn === 'string') {
     // A long table: a sequence is complete only when the whole input has been read (its rows need not be adjacent).
-    const table = parseTable(fromStdin ? readFileSync(0, 'utf8') : readFileSync(dataPath, 'utf8'), { file: name });
+    const table = parseTable(utf8Text(fromStdin ? readFileSync(0) : readFileSync(dataPath), name), { file: name });
     const classes = createTranslator(meta).outputNames;
     const kept = keep.map((c) => {
       const i = table.header.indexOf(c);
@@ -139,7 +140,7 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
       forecast.ahead(row, ahead, (record) => output.add(record));
     }
   } else if (meta.task === 'next-token') {
-    const text = fromStdin ? readFileSync(0, 'utf8') : readFileSync(dataPath, 'utf8');
+    const text = utf8Text(fromStdin ? readFileSync(0) : readFileSync(dataPath), name);
     const translator = createTranslator(meta);
     const { ids, pieces, unknown } = translator.tokenIds(text);
     if (unknown > 0) process.stderr.write(`weft: ${unknown} of ${pieces.length} ${meta.tokens === 'words' ? 'words' : 'characters'} of ${name} are not in the model's vocabulary; they are read as ${translator.tokenText(0)}\n`);

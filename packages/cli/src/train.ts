@@ -6,6 +6,7 @@
  * reporting (report.ts) live apart.
  */
 import { existsSync, readFileSync, statSync } from 'node:fs';
+import { utf8Text } from './text-bytes.js';
 import { availableParallelism } from 'node:os';
 import { basename, extname, resolve } from 'node:path';
 import { ATTENTION_FORMS, EncoderDecoderModel, MAX_HIDDEN, buildModel, stackMembers } from '@weft/cells';
@@ -90,12 +91,12 @@ export const trainFlags: FlagSpec[] = [
 /** The largest data file `weft train` and `weft score` read (checked before reading: a larger one is refused). */
 export const MAX_DATA_BYTES = 32 * 1024 * 1024;
 
-/** A data file's text, refused before it is read when it is missing or larger than MAX_DATA_BYTES. */
+/** A data file's text (strict UTF-8: text-bytes.ts), refused before it is read when it is missing or larger than MAX_DATA_BYTES. */
 export function readData(path: string): string {
   if (!existsSync(path)) throw new CommandError(`${path}: no such file`);
   const size = statSync(path).size;
   if (size > MAX_DATA_BYTES) throw new CommandError(`${path}: ${(size / 1048576).toFixed(1)} MB; weft reads data files of at most ${MAX_DATA_BYTES / 1048576} MB (a small model learns from a sample: cut the file, or keep the last rows)`);
-  return readFileSync(path, 'utf8');
+  return utf8Text(readFileSync(path), path);
 }
 
 function guessTask(path: string, text: string): Task | 'pairs' {
@@ -191,6 +192,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
+  if (options.lookback > options.window) throw new CommandError(`--lookback ${options.lookback} is longer than --window ${options.window}: it re-reads at most a window's steps before each window; lower it, or raise --window`, 2);
   if (options.lookback > 0 && task === 'pairs') throw new CommandError('--lookback applies to streams (--task forecast or text); pairs are read whole', 2);
   if (args.switches.has('bidirectional') && task !== 'classify' && task !== 'pairs') throw new CommandError('--bidirectional needs --task classify or pairs (forecasts and text are read forward in time)', 2);
   for (const name of ['source-column', 'target-column', 'attention', 'reverse-source', 'max-target']) {

@@ -73,6 +73,12 @@ describe('weft train', () => {
       writeFileSync(join(folder, 'sensor.csv'), `x,y\n${rows.join('\n')}\n`);
       expectOneLineError(weft(['train', 'sensor.csv', '--window', '8', '--streams', '2']), 1, /^weft: Bad data at sensor\.csv:152:5: expected a decimal number in column "y", received "warm" \(299 of 300 cells there are; fix the cell, mark missing readings with --missing-marker, or choose the columns with --columns\)$/);
     });
+
+    it('bytes that are not UTF-8, at their line and column; a lookback longer than the window, naming both flags', () => {
+      writeFileSync(join(folder, 'latin1.csv'), Buffer.concat([Buffer.from('x,y\n1,2\n3,'), Buffer.from([0xe9]), Buffer.from('t\n')]));
+      expectOneLineError(weft(['train', 'latin1.csv']), 1, /^weft: latin1\.csv:3:3: expected UTF-8 text, received the byte 0xe9 \(save the file as UTF-8\)$/);
+      expectOneLineError(weft(['train', 'notes.txt', '--lookback', '64', '--window', '8']), 2, /^weft: --lookback 64 is longer than --window 8: it re-reads at most a window's steps before each window; lower it, or raise --window$/);
+    });
   });
 
   it('trains on 2 threads to the same weight file tensors as in one thread, and refuses --workers 0 in one line', () => {

@@ -157,12 +157,21 @@ export function decodeTensor(bytes: Uint8Array, path = 'tensor', offset = 0): On
   if (location !== undefined && int64Of(location, where, 'data_location') !== 0 || map.has(13)) {
     fail('bad_data', `${where}.external_data`, 'tensor data inside the file', 'data held in an external file (save the model with its weights inside it)');
   }
-  let count = 1;
   for (const d of dims) {
     if (!Number.isInteger(d) || d < 0) fail('bad_data', `${where}.dims`, 'whole numbers ≥ 0', JSON.stringify(dims));
-    count *= d;
   }
-  if (count > MAX_ELEMENTS) fail('bad_data', `${where}.dims`, `at most ${MAX_ELEMENTS} elements`, `${JSON.stringify(dims)}: ${count} elements (${count * 4} bytes), refused before reading`);
+  // The product, stopped once past the limit (a product of huge dims overflows to Infinity, and Infinity × 0 is NaN).
+  let count = dims.includes(0) ? 0 : 1;
+  let multiplied = 0;
+  for (const d of dims) {
+    if (count > MAX_ELEMENTS) break;
+    count *= d;
+    multiplied++;
+  }
+  if (count > MAX_ELEMENTS) {
+    const claimed = multiplied === dims.length && Number.isSafeInteger(count) ? `${count} elements (${count * 4} bytes)` : `more than ${MAX_ELEMENTS} elements`;
+    fail('bad_data', `${where}.dims`, `at most ${MAX_ELEMENTS} elements`, `${JSON.stringify(dims)}: ${claimed}, refused before reading`);
+  }
   const raw = last(map, 9);
   if (dataType === ONNX_FLOAT) {
     let values: Float32Array;
@@ -250,6 +259,8 @@ export function decodeOnnxModel(bytes: Uint8Array, file = 'model.onnx'): OnnxMod
   const base = startOf(bytes, 0);
   const model = groups(readFields(bytes, 0, file));
   const irVersion = last(model, 1) === undefined ? 0 : int64Of(last(model, 1)!, file, 'ir_version');
+  // ir_version is an int64 (onnx.proto): one written past 2^63 − 1 as unsigned reads as negative, and no version is.
+  if (irVersion < 0) fail('bad_data', `${file}.ir_version`, 'a version ≥ 0', `${irVersion} (${(2n ** 64n + BigInt(irVersion)).toString()} written as unsigned)`);
   const opsets = (model.get(8) ?? []).map((f) => {
     const o = groups(nested(f, file, 'opset_import', base));
     return { domain: last(o, 1) === undefined ? '' : stringOf(last(o, 1)!, file, 'opset_import.domain'), version: last(o, 2) === undefined ? 0 : int64Of(last(o, 2)!, file, 'opset_import.version') };

@@ -61,6 +61,14 @@ describe('ONNX messages', () => {
   it('refuse a tensor claiming 2 GB before allocating, data outside the file, and an element type weft does not read', () => {
     const claim = new ProtoWriter().int(1, 536_870_912).int(2, 1).string(8, 'huge').bytes(9, new Uint8Array(4)).finish();
     expect(() => decodeOnnxTensor(claim, 'input_0.pb')).toThrowError('Bad data at input_0.pb (huge).dims: expected at most 50000000 elements, received [536870912]: 536870912 elements (2147483648 bytes), refused before reading');
+    // Dims whose product overflows (2^40 three times) are refused as more than the limit, never as NaN bytes; with a
+    // 0 among them the tensor is empty, whatever the others claim.
+    const overflow = new ProtoWriter().int(1, 2 ** 40).int(1, 2 ** 40).int(1, 2 ** 40).int(2, 1).string(8, 'vast').finish();
+    expect(() => decodeOnnxTensor(overflow, 'input_1.pb')).toThrowError('Bad data at input_1.pb (vast).dims: expected at most 50000000 elements, received [1099511627776,1099511627776,1099511627776]: more than 50000000 elements, refused before reading');
+    const empty = new ProtoWriter().int(1, 2 ** 40).int(1, 2 ** 40).int(1, 0).int(2, 1).string(8, 'none').finish();
+    expect(decodeOnnxTensor(empty, 'input_2.pb').values).toHaveLength(0);
+    // An ir_version written as 2^64 − 1 reads as the int64 −1 (onnx.proto declares it int64): no version is negative.
+    expect(() => decodeOnnxModel(new ProtoWriter().int(1, -1).finish(), 'odd.onnx')).toThrowError('Bad data at odd.onnx.ir_version: expected a version ≥ 0, received -1 (18446744073709551615 written as unsigned)');
     const outside = new ProtoWriter().int(1, 2).int(2, 1).string(8, 'w').int(14, 1).finish();
     expect(() => decodeOnnxTensor(outside, 'model.onnx')).toThrowError(/^Bad data at model\.onnx \(w\)\.external_data: expected tensor data inside the file/);
     const doubles = new ProtoWriter().int(1, 1).int(2, 11).string(8, 'd').bytes(9, new Uint8Array(8)).finish();
