@@ -32,12 +32,25 @@ export function backendNamed(name: string, path = 'backend'): Backend {
   fail('invalid_option', path, NAMES.map((n) => `'${n}'`).join(' or '), JSON.stringify(name));
 }
 
-/** The backend used where none is given. */
+/**
+ * The backend used where none is given: WEFT_BACKEND's, else WebAssembly where SIMD modules validate and compile,
+ * else JavaScript (with a one-time console note when compiling was refused).
+ */
 export function defaultBackend(): Backend {
   if (current === null) {
     const requested = environmentBackendChoice();
     if (requested !== undefined) current = backendNamed(requested, 'WEFT_BACKEND');
-    else current = webAssemblyUnavailable() === null ? webAssemblyBackend() : javascriptBackend;
+    else if (webAssemblyUnavailable() !== null) current = javascriptBackend;
+    else {
+      try {
+        current = webAssemblyBackend();
+      } catch (error) {
+        // Validated but not compiled (a page whose Content-Security-Policy lacks 'wasm-unsafe-eval'): JavaScript,
+        // said once, as the runtime does. Naming a backend says nothing.
+        console.warn(`weft: WebAssembly could not be compiled here (${(error as Error).message}); training runs on JavaScript. Allow 'wasm-unsafe-eval' in a page's CSP, or choose the 'javascript' backend.`);
+        current = javascriptBackend;
+      }
+    }
   }
   return current;
 }

@@ -3,7 +3,9 @@
  * the wrong backend, an unknown backend name, a platform without WebAssembly SIMD, and a memory reservation that
  * runs out. Each is a WeftError naming the backend and what was wrong; messages are pinned.
  */
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it, vi } from 'vitest';
+import { withRefusedWebAssembly } from '../../../../tests/helpers/refused-webassembly.js';
 import {
   Tape, WeftError, add, backendNamed, backendOf, createWebAssemblyBackend, defaultBackend, javascriptBackend, matmul, setDefaultBackend,
   tensor, webAssemblyUnavailable, zeros,
@@ -16,6 +18,22 @@ describe('choosing a backend', () => {
     const requested = process.env.WEFT_BACKEND;
     const expected = requested !== undefined && requested !== '' ? requested : available ? 'webassembly' : 'javascript';
     expect(defaultBackend().name).toBe(expected);
+  });
+
+  it('falls back to JavaScript with one note where WebAssembly validates but may not be compiled (a strict Content-Security-Policy), and refuses it by name there in one line', () => {
+    const entry = fileURLToPath(new URL('../../dist/index.js', import.meta.url));
+    const { result, stderr } = withRefusedWebAssembly<{ names: string[]; notes: string[]; named: string }>(`
+      const core = await import(${JSON.stringify(entry)});
+      const names = [core.defaultBackend().name, core.defaultBackend().name];
+      let named;
+      try { core.createWebAssemblyBackend(); } catch (error) { named = error.message; }
+      console.log(JSON.stringify({ names, notes, named }));`);
+    expect(stderr).toBe('');
+    const { names, notes, named } = result;
+    expect(names).toEqual(['javascript', 'javascript']);
+    expect(notes).toHaveLength(1);
+    expect(notes[0]).toMatch(/^weft: WebAssembly could not be compiled here \(.*disallowed by embedder.*\); training runs on JavaScript/);
+    expect(named).toMatch(/^Backend unavailable at backend webassembly: expected a platform that compiles WebAssembly, received a refusal to compile \(Wasm code generation disallowed by embedder\)/);
   });
 
   it('refuses an unknown backend name, listing the known ones', () => {

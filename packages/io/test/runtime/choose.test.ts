@@ -1,6 +1,6 @@
-import { spawnSync } from 'node:child_process';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
+import { withRefusedWebAssembly } from '../../../../tests/helpers/refused-webassembly.js';
 import { forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
 import { forwardBackend } from '../../src/runtime/choose.js';
 
@@ -29,23 +29,15 @@ describe('choosing the runtime\'s backend', () => {
   });
 
   it('falls back to JavaScript, with one note, where WebAssembly validates but may not be compiled (a strict Content-Security-Policy)', () => {
-    // In a process of its own: WebAssembly.Module throws as a page's CSP makes it throw ("Wasm code generation
-    // disallowed by embedder"), before the runtime's module is first compiled.
     const runtimeEntry = fileURLToPath(new URL('../../dist/runtime/index.js', import.meta.url));
-    const script = `
-      const notes = [];
-      console.warn = (line) => notes.push(line);
-      WebAssembly.Module = function () { throw new WebAssembly.CompileError('Wasm code generation disallowed by embedder'); };
+    const { result, stderr } = withRefusedWebAssembly<{ names: string[]; notes: string[]; named: string }>(`
       const { forwardBackend } = await import(${JSON.stringify(runtimeEntry)});
       const names = [forwardBackend(undefined, 0).name, forwardBackend(undefined, 0).name];
       let named;
       try { forwardBackend('webassembly', 0); } catch (error) { named = error.constructor.name; }
-      console.log(JSON.stringify({ names, notes, named }));`;
-    const env = { ...process.env };
-    delete env.WEFT_BACKEND;
-    const result = spawnSync(process.execPath, ['--input-type=module', '-e', script], { encoding: 'utf8', env });
-    expect(result.stderr).toBe('');
-    const { names, notes, named } = JSON.parse(result.stdout) as { names: string[]; notes: string[]; named: string };
+      console.log(JSON.stringify({ names, notes, named }));`);
+    expect(stderr).toBe('');
+    const { names, notes, named } = result;
     expect(names).toEqual(['javascript', 'javascript']);
     expect(notes).toHaveLength(1);
     expect(notes[0]).toMatch(/^weft: WebAssembly could not be compiled here \(.*a refusal to compile \(Wasm code generation disallowed by embedder\).*\); the runtime runs on JavaScript/);
