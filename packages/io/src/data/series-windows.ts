@@ -97,6 +97,12 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   const flagged = input.missing.flatMap((n, j) => (n > 0 ? [j] : []));
   const fallback = columnStatistics(values.slice(0, trainEnd), width).mean;
   const lastSeen = Array.from({ length: width }, (_, j) => lastObserved(values.map((row) => row[j])));
+  // What lies outside a window starting at row `first`, for fillColumn: column j's last reading before it (NaN for
+  // none), that reading's place relative to the window, the column's fallback, and the season.
+  const edgesOf = (j: number, first: number): number[] => {
+    const before = first > 0 ? lastSeen[j][first - 1] : -1;
+    return [before >= 0 ? values[before][j] : NaN, before - first, fallback[j], season ?? 0];
+  };
   // The value a window ending at row t is read relative to, per column: the row's own, or, where it is missing, the
   // window's fill of its last row (what the runtime computes; the last value carried, moved with the season).
   const column = new Float64Array(window);
@@ -105,8 +111,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
     if (t < window - 1) return lastSeen[j][t] >= 0 ? values[lastSeen[j][t]][j] : fallback[j];
     const first = t - window + 1;
     for (let k = 0; k < window; k++) column[k] = values[first + k][j];
-    const before = first > 0 ? lastSeen[j][first - 1] : -1;
-    fillColumn(column, 0, 1, window, [before >= 0 ? values[before][j] : NaN, before - first, fallback[j], season ?? 0], 0, rule);
+    fillColumn(column, 0, 1, window, edgesOf(j, first), 0, rule);
     return column[window - 1];
   });
   const reference = targetIndexes.map((j) => (input.missing[j] > 0 ? referenceOf(j) : null));
@@ -144,8 +149,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
     const first = t - window + 1;
     for (let k = 0; k < window; k++) for (let j = 0; j < width; j++) filled[k * width + j] = values[first + k][j];
     for (const j of flagged) {
-      const before = first > 0 ? lastSeen[j][first - 1] : -1;
-      fillColumn(filled, j, width, window, [before >= 0 ? values[before][j] : NaN, before - first, fallback[j], season ?? 0], 0, rule);
+      fillColumn(filled, j, width, window, edgesOf(j, first), 0, rule);
     }
     const last = (window - 1) * width;
     for (let k = 0; k < window; k++) {
