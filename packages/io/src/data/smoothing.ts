@@ -204,14 +204,15 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
   let level = p.level;
   let squared = 0;
   // Rows with a value: the mean is over them (a missing value, NaN, adds no error and updates nothing).
+  // (Counted in the loops below, which skip a NaN before counting.)
   let observed = 0;
-  for (let t = 0; t < count; t++) if (!Number.isNaN(series[t])) observed++;
   const mean = (sum: number) => sum / Math.max(1, observed);
   if (p.method === 'simple') {
     for (let t = 0; t < count; t++) {
       const y = series[t];
       if (Number.isNaN(y)) continue;
       squared += (y - level) ** 2;
+      observed++;
       level = alpha * y + (1 - alpha) * level;
     }
     return mean(squared);
@@ -228,6 +229,7 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
         continue;
       }
       squared += (y - base) ** 2;
+      observed++;
       const next = alpha * y + (1 - alpha) * base;
       slope = beta * (next - level) + (1 - beta) * phi * slope;
       level = next;
@@ -247,6 +249,7 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
         continue;
       }
       squared += (y - (base + s)) ** 2;
+      observed++;
       const next = alpha * (y - s) + (1 - alpha) * base;
       slope = beta * (next - level) + (1 - beta) * phi * slope;
       ring[j] = gamma * (y - base) + (1 - gamma) * s;
@@ -264,6 +267,7 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
       continue;
     }
     squared += (y - base * s) ** 2;
+    observed++;
     const next = alpha * (y / s) + (1 - alpha) * base;
     slope = beta * (next - level) + (1 - beta) * phi * slope;
     ring[j] = gamma * (y / base) + (1 - gamma) * s;
