@@ -3,7 +3,7 @@
  * "<target> in <rows>" columns), and with `--ahead` the rows past the end.
  */
 import type { Runtime } from '@weft/io/runtime';
-import { createRowForecaster, fieldPath } from '@weft/io';
+import { createRowForecaster, fieldPath, forecastPanel, seriesMetadata } from '@weft/io';
 import type { Table } from '@weft/io';
 import { CommandError } from './errors.js';
 
@@ -106,6 +106,36 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
   return { each, ahead, checkAhead };
 }
 
+
+/**
+ * `weft run` on a model of many series (metadata `panel`): each row goes to its series' forecaster (by the id
+ * column, which leads each record), rows numbered within their series; `--ahead` forecasts past the end of every
+ * series, in the order the series first appeared. A series the model was not trained on is an error at its cell.
+ */
+export function seriesForecasts(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean) {
+  const panel = forecastPanel(meta)!;
+  const bySeries = new Map<string, { forecasts: ReturnType<typeof rowForecasts>; rows: number }>();
+  let idAt = -1;
+  const withId = (id: string, emit: (record: OutputRecord) => void) => (record: OutputRecord) => emit({ [panel.idColumn]: id, ...record });
+  const each: EachRow = (table, _row, emit) => {
+    if (idAt < 0) [idAt] = columnsAt(table, [panel.idColumn], name, 'it names the series the model forecasts');
+    const id = table.rows[0].fields[idAt].trim();
+    if (!panel.ids.includes(id)) throw new CommandError(`${fieldPath(table, 0, idAt)}: ${JSON.stringify(id.slice(0, 80))} is not a series the model was trained on (${panel.ids.slice(0, 6).map((s) => JSON.stringify(s)).join(', ')}${panel.ids.length > 6 ? `, … ${panel.ids.length} in all` : ''})`);
+    let series = bySeries.get(id);
+    if (series === undefined) {
+      series = { forecasts: rowForecasts(runtime, seriesMetadata(meta, id), name, keep.filter((c) => c !== panel.idColumn), marked), rows: 0 };
+      bySeries.set(id, series);
+    }
+    series.forecasts.each(table, ++series.rows, withId(id, emit));
+  };
+  return {
+    each,
+    checkAhead: (count: number) => rowForecasts(runtime, seriesMetadata(meta, panel.ids[0]), name, keep, marked).checkAhead(count),
+    ahead: (_rows: number, count: number, emit: (record: OutputRecord) => void) => {
+      for (const [id, series] of bySeries) series.forecasts.ahead(series.rows, count, withId(id, emit));
+    },
+  };
+}
 
 /** The index of each named column in a table, or a one-line error naming the file, the column and why it is needed. */
 export function columnsAt(table: Table, names: readonly string[], file: string, why: string): number[] {

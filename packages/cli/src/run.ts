@@ -13,7 +13,7 @@
 import { fail, indexOfLargest } from '@weft/core';
 import { isEncoderDecoder } from '@weft/cells';
 import { createReadStream, existsSync, readFileSync } from 'node:fs';
-import { createTranslator, parseTable, fieldPath } from '@weft/io';
+import { createTranslator, isJsonRecords, parseTable, fieldPath, readTable } from '@weft/io';
 import type { Table } from '@weft/io';
 import { loadWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
@@ -23,7 +23,7 @@ import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { classifyStepTable } from './score.js';
-import { columnsAt, rowForecasts } from './run-forecasts.js';
+import { columnsAt, rowForecasts, seriesForecasts } from './run-forecasts.js';
 import { boundedLines, tableRecords } from './stream-table.js';
 import type { EachRow, OutputRecord } from './run-forecasts.js';
 import { runTransduction } from './transduce.js';
@@ -127,14 +127,15 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
       output.add(record);
     }
   } else if (meta.task === 'forecast' || meta.task === 'classification') {
-    const lines = boundedLines(fromStdin ? process.stdin : createReadStream(dataPath), name);
     const ahead = args.flags.has('ahead') ? numberFlag(args, 'ahead', 1, { whole: true, min: 1, max: 100000 }) : 0;
     if (ahead > 0 && meta.task !== 'forecast') throw new CommandError('--ahead needs a forecast model', 2);
-    const forecast = meta.task === 'forecast' ? rowForecasts(runtime, meta, name, keep, ahead > 0) : null;
+    const forecast = meta.task !== 'forecast' ? null : meta.panel !== undefined ? seriesForecasts(runtime, meta, name, keep, ahead > 0) : rowForecasts(runtime, meta, name, keep, ahead > 0);
     if (forecast !== null && ahead > 0) forecast.checkAhead(ahead);
     const each = forecast?.each ?? classifier(runtime, meta, name, keep);
     let row = 0;
-    for await (const table of tableRecords(lines, name)) each(table, ++row, (record) => output.add(record));
+    // JSON records are read whole (a record may span lines), then given row by row as a table is.
+    const records = fromStdin || !isJsonRecords('', dataPath) ? tableRecords(boundedLines(fromStdin ? process.stdin : createReadStream(dataPath), name), name) : jsonRows(readTable(utf8Text(readFileSync(dataPath), name), name));
+    for await (const table of records) each(table, ++row, (record) => output.add(record));
     if (forecast !== null && ahead > 0) {
       if (row === 0) throw new CommandError(`${name}: no rows to forecast ahead from`);
       forecast.ahead(row, ahead, (record) => output.add(record));
@@ -164,6 +165,11 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   return rest === '' ? null : rest;
 }
 
+
+/** A table's rows one at a time, each as a table of that row alone (how tableRecords gives them). */
+function* jsonRows(table: Table): Generator<Table> {
+  for (const row of table.rows) yield { ...table, rows: [row] };
+}
 
 function classifier(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[]): EachRow {
   const translator = createTranslator(meta);

@@ -13,8 +13,8 @@
  */
 import { readData } from './train.js';
 import { Random, fail, indexOfLargest, logSumExp } from '@weft/core';
-import { baselineIntervals, chooseLogistic, classificationReport, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastMissing, forecastWords, insertSkippedTimes, missingTest, scoreIntervals, numberAt, parseTable, withIntervals, predictLogistic, readStepTable, readTimeColumn, scoreForecaster, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
-import type { Table, WeightFile } from '@weft/io';
+import { chooseLogistic, classificationReport, createTranslator, fieldPath, parseTable, predictLogistic, readStepTable, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
+import type { Table } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
@@ -22,13 +22,13 @@ import type { Runtime } from '@weft/io/runtime';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
-import { forecastReport } from '@weft/io';
 import { DEFAULT_SHARE, scoredCount, scoredItems } from './scored-part.js';
 import type { ScoredPart } from './scored-part.js';
 import type { HeldOutReport } from './datasets.js';
 import { CommandError } from './errors.js';
 import { scoreTransduction } from './transduce.js';
 import { reportJson, reportLines } from '@weft/io';
+import { scoreForecast } from './score-forecast.js';
 
 export const scoreFlags: FlagSpec[] = [
   { name: 'format', value: 'text|json', description: 'plain text, or JSON for scripts', fallback: 'text' },
@@ -75,81 +75,6 @@ export async function score(args: ParsedArgs): Promise<string> {
           : null;
   if (report === null) throw new CommandError(`${modelPath}: its metadata names no task weft score knows (${JSON.stringify(meta.task)}); expected forecast, classification or next-token`);
   return format === 'json' ? `${JSON.stringify(reportJson(report), null, 2)}\n` : `${reportLines(report).join('\n')}\n`;
-}
-
-function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, season: number | null | undefined, part: ScoredPart): HeldOutReport {
-  const translator = createTranslator(meta);
-  const given = parseTable(text, { file: name });
-  // A model that takes missing readings reads the file as training did: skipped times put back as rows of missing
-  // cells, and the markers read as missing (never scored).
-  const missing = forecastMissing(meta, translator.inputNames.length);
-  const givenTime = missing === null ? null : readTimeColumn(given, typeof meta.timeColumn === 'string' && given.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
-  const table = givenTime === null ? given : insertSkippedTimes(given, givenTime).table;
-  const isMissing = missing === null ? null : missingTest(missing.markers);
-  const at = translator.inputNames.map((c) => {
-    const i = table.header.indexOf(c);
-    if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)}, which the model reads (it reads ${translator.inputNames.join(', ')})`);
-    return i;
-  });
-  const horizon = Number(meta.horizon);
-  const values = table.rows.map((row, r) => at.map((c) => (isMissing !== null && isMissing(row.fields[c]) ? NaN : numberAt(table, r, c))));
-  const targets = translator.outputNames.map((t) => translator.inputNames.indexOf(t));
-  const rows = values.length;
-  if (rows < horizon + 4) throw new CommandError(`${name}: ${rows} rows are too few to score forecasts ${horizon} rows ahead`);
-  const time = readTimeColumn(table, typeof meta.timeColumn === 'string' && table.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
-  const { scored, warning, same } = scoredCount(rows, part, 'series', { all: 'rows', test: 'testRows', fitted: ['trainingRows', 'validationRows'] });
-  if (scored < horizon) fail('invalid_option', '--test', `a share leaving at least ${horizon} scored rows (the horizon) of the ${rows}`, `${part.share} (${scored} rows)`);
-  const testStart = rows - scored;
-  if (testStart < 3) fail('invalid_option', '--test', `a share leaving at least 3 rows to fit the baselines on, of the ${rows}`, `${part.share} (${testStart} rows)`);
-  if (season !== undefined && season !== null && !(season < testStart)) {
-    fail('invalid_option', `${name}:${table.rows[testStart - 1].line}:1 (--season)`, `a season shorter than the ${testStart} rows before the scored ones, which end at this line`, String(season));
-  }
-  // The model's forecast made at every row, in real units (a stream's state running from the first row; a
-  // windowed model's from the rows of its window).
-  const forecaster = createRowForecaster(runtime, meta);
-  const timeName = forecaster.readNames.length > forecaster.inputNames.length ? forecaster.readNames[forecaster.readNames.length - 1] : null;
-  const timeAt = timeName === null ? -1 : table.header.indexOf(timeName);
-  if (timeName !== null && timeAt < 0) throw new CommandError(`${name}: no column ${JSON.stringify(timeName)}, the times the model reads its calendar inputs from`);
-  const row: Record<string, number | string> = {};
-  // forecasts[t][s × targets + k]: target k, rowsAhead[s] rows after row t (every row up to the horizon for a model
-  // that forecasts them all at once).
-  const rowsAhead = forecaster.rowsAhead;
-  const width = rowsAhead.length * targets.length;
-  const forecasts = values.map((v, r) => {
-    translator.inputNames.forEach((c, j) => (row[c] = v[j]));
-    if (timeName !== null) row[timeName] = table.rows[r].fields[timeAt];
-    const made = new Float64Array(width);
-    return forecaster.nextInto(row, made, fieldPath(table, r, at[0])) ? made : null;
-  });
-  if (forecasts[rows - scored - horizon] === null || forecasts[rows - scored - rowsAhead[0]] === null) {
-    fail('invalid_option', '--test', `a share whose first scored row has the model's ${forecaster.warmUp} rows of window before it`, `${part.share ?? 'the recorded test part'} (${scored} of ${rows} rows)`);
-  }
-  const positions: number[] = [];
-  for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
-  const split = { values, targets, horizon, fitRows: testStart, positions, ...(rowsAhead.length > 1 ? { rowsAhead } : {}) };
-  const baselines = forecastBaselines(split, { season, spacing: time?.spacing ?? null });
-  const lines = `lines ${table.rows[testStart].line}–${table.rows[rows - 1].line} (${scored} rows)`;
-  const step = (h: number) => rowsAhead.indexOf(h) * targets.length;
-  const forecastAt = (t: number, k: number, h: number) => (forecasts[t] as Float64Array)[step(h) + k];
-  const report = forecastReport({
-    what: `${forecastWords(positions.length, translator.outputNames, rowsAhead, positions.reduce((n, t) => n + targets.filter((j) => !Number.isNaN(values[t + horizon][j])).length, 0))}, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
-    model: scoreForecaster(split, forecastAt, baselines.scales),
-    baselines: baselines.scores,
-    names: translator.outputNames,
-    context: [
-      ...(warning === null ? [] : [warning]),
-      `${forecaster.warmUp > 1 ? `the model forecasts from the last ${forecaster.warmUp} rows at each row` : `the model's state starts at zero on line ${table.rows[0].line} and runs through every row`}; the baselines are fitted on lines ${table.rows[0].line}–${table.rows[testStart - 1].line}, the rows before the scored ones`,
-      `${baselines.season.reason}${season === undefined ? ' (--season to choose another, or none)' : ''}`,
-      ...baselines.leftOut.map((l) => `left out: ${l}`),
-    ],
-  });
-  // The model's own prediction intervals (recorded by weft train), scored on the same rows.
-  if (forecaster.intervals === null) return report;
-  // The baselines' intervals from their errors on the rows before the scored ones, as many as the training run's
-  // validation part (a tenth of the rows when the file does not say).
-  const recorded = Number((meta.split as { validationRows?: unknown } | undefined)?.validationRows);
-  const from = testStart - (Number.isInteger(recorded) && recorded > 0 ? recorded : Math.max(1, Math.round(rows / 10)));
-  return withIntervals(report, scoreIntervals(split, forecastAt, forecaster.intervals, baselines.scales), baselineIntervals(split, baselines, forecaster.intervals.level, Math.max(0, from)));
 }
 
 /** The class probabilities of every sequence of a long table (one step per row), in the order ids first appear. */

@@ -15,7 +15,7 @@ import { AdamRule, Trainer } from '@weft/optim';
 import { startTrainingThreads } from '@weft/optim/node';
 import type { ThreadGroup } from '@weft/optim';
 import type { TrainableModel, TrainingEvent, TrainingSummary } from '@weft/optim';
-import { SLIDING_ROWS, detectDelimiter, sha256Hex } from '@weft/io';
+import { SLIDING_ROWS, detectDelimiter, isJsonRecords, readTable, sha256Hex } from '@weft/io';
 import type { ForecastIntervals } from '@weft/io';
 import { checkWritable, loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
@@ -69,7 +69,9 @@ export const trainFlags: FlagSpec[] = [
   { name: 'embedding', value: 'NUMBER', description: 'embedding width for token inputs', fallback: '16' },
   { name: 'label-column', value: 'NAME', description: 'label column of a classify CSV', fallback: 'label' },
   { name: 'sequence-column', value: 'NAME', description: 'sequence column of a classify CSV (space-separated items)', fallback: 'sequence' },
-  { name: 'id-column', value: 'NAME', description: 'classify a long table: one step per row, several number columns per step, this column naming the sequence' },
+  { name: 'id-column', value: 'NAME|none', description: 'a long table\'s column naming each series or sequence: with a label column, classify the sequences (one step per row); without, forecast every series with one model', fallback: 'for a forecast, a text column whose names share times, if any' },
+  { name: 'short-series', value: 'skip|refuse', description: 'many series: leave out, with a note, a series too short for a window, the horizon and its parts, or stop at it', fallback: 'skip' },
+  { name: 'id-inputs', value: 'yes|no', description: 'many series: the model also reads which series a window is from (a 0/1 input per series, so it learns a vector per series)', fallback: 'no' },
   { name: 'step-column', value: 'NAME', description: 'in a long table, the column ordering the steps of a sequence', fallback: 'file order' },
   { name: 'source-column', value: 'NAME', description: 'source column of a pairs CSV', fallback: 'source' },
   { name: 'target-column', value: 'NAME', description: 'target column of a pairs CSV', fallback: 'target' },
@@ -99,11 +101,14 @@ export function readData(path: string): string {
   return utf8Text(readFileSync(path), path);
 }
 
-function guessTask(path: string, text: string): Task | 'pairs' {
+function guessTask(path: string, text: string, args: ParsedArgs): Task | 'pairs' {
   const extension = extname(path).toLowerCase();
   if (extension === '.txt' || extension === '.md') return 'text';
-  const header = text.split(/\r?\n/, 1)[0].split(detectDelimiter(text, path)).map((h) => h.trim());
+  const header = isJsonRecords(text, path) ? readTable(text, path).header : text.split(/\r?\n/, 1)[0].split(detectDelimiter(text, path)).map((h) => h.trim());
   if (header.includes('source') && header.includes('target')) return 'pairs';
+  // A long table with an id column: sequences to classify when it has labels, else series to forecast.
+  const id = args.flags.get('id-column');
+  if (id !== undefined && id !== 'none') return header.includes(args.flags.get('label-column') ?? 'label') ? 'classify' : 'forecast';
   return header.includes('label') && header.includes('sequence') ? 'classify' : 'forecast';
 }
 
@@ -154,7 +159,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const curve = checkpoint.replace(/\.json$/i, '') + '.loss.svg';
   const resultsFile = args.flags.get('results');
   for (const path of [out, checkpoint, ...(resultsFile === undefined ? [] : [resolve(resultsFile)])]) checkWritable(path);
-  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify', 'pairs'] as const, args.flags.has('id-column') ? 'classify' : guessTask(dataPath, text));
+  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify', 'pairs'] as const, guessTask(dataPath, text, args));
   const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
   let hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
   const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
@@ -183,12 +188,15 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     missing: choiceFlag(args, 'missing', ['interpolate', 'carry', 'segments', 'refuse'] as const, 'interpolate'),
     gapLimit: args.flags.has('gap-limit') ? numberFlag(args, 'gap-limit', 1, { whole: true, min: 1, max: 100000 }) : undefined,
     missingMarkers: args.flags.get('missing-marker')?.split(','),
+    ...(args.flags.has('id-column') ? { idColumn: args.flags.get('id-column') === 'none' ? null : args.flags.get('id-column') } : {}),
+    shortSeries: choiceFlag(args, 'short-series', ['skip', 'refuse'] as const, 'skip'),
+    idInputs: choiceFlag(args, 'id-inputs', ['yes', 'no'] as const, 'no') === 'yes',
   };
   if (options.validationShare + options.testShare > 0.9) throw new CommandError(`--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`, 2);
   const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
   // Checked with the other flags, before any training.
   const intervalLevel = args.flags.get('interval') === 'none' ? null : numberFlag(args, 'interval', 0.95, { min: 0.5, max: 0.999 });
-  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble', 'log', 'interval', 'missing', 'gap-limit', 'missing-marker']) {
+  for (const name of ['time-column', 'examples', 'hybrid', 'ensemble', 'log', 'interval', 'missing', 'gap-limit', 'missing-marker', 'short-series', 'id-inputs']) {
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast') throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
   if (options.lookback > 0 && task === 'classify') throw new CommandError('--lookback applies to streams (--task forecast or text); classify reads whole sequences', 2);
@@ -228,7 +236,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const patience = chosen?.patience ?? numberFlag(args, 'patience', 3, { whole: true, min: 1 });
   // --hybrid auto on sliding windows: train the plain model and the hybrid alike (same seed, same settings) and keep
   // the one better on the validation part; training is deterministic, so the run below repeats the winner exactly.
-  if (prepared.task === 'forecast' && prepared.metadata.window !== undefined && !args.flags.has('hybrid') && args.flags.get('resume') === undefined) {
+  if (prepared.task === 'forecast' && (prepared.metadata.window !== undefined || prepared.metadata.panel !== undefined) && !args.flags.has('hybrid') && args.flags.get('resume') === undefined) {
     const hybrid = prepareForecast(text, dataPath, { ...options, hybrid: true });
     const figure = async (candidate: Prepared): Promise<number> => {
       const trial = buildModel({ input: candidate.input, layers, dropout, readout: { width: candidate.outputWidth } }, { seed });
@@ -239,10 +247,11 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     const metric = figureName(prepared);
     info(`tried both on the validation part: ${hybrid.chosen?.said.split(':')[0] ?? 'the hybrid'} ${metric} ${Number(hybridFigure.toPrecision(4))}, plain ${Number(plainFigure.toPrecision(4))}: training the ${hybridFigure < plainFigure ? 'hybrid' : 'plain model'} (--hybrid yes or no to choose)`);
     if (hybridFigure < plainFigure) prepared = hybrid;
-  } else if (args.flags.get('resume') !== undefined && prepared.task === 'forecast' && prepared.metadata.window !== undefined && !args.flags.has('hybrid')) {
+  } else if (args.flags.get('resume') !== undefined && prepared.task === 'forecast' && (prepared.metadata.window !== undefined || prepared.metadata.panel !== undefined) && !args.flags.has('hybrid')) {
     // A resumed run keeps the choice its checkpoint made.
     const saved = await loadCheckpoint(resolve(args.flags.get('resume') as string));
-    if ((saved.file.metadata.window as { hybrid?: unknown } | undefined)?.hybrid !== undefined) prepared = prepareForecast(text, dataPath, { ...options, hybrid: true });
+    const savedWindow = (saved.file.metadata.window ?? (saved.file.metadata.panel as { series?: { window?: unknown }[] } | undefined)?.series?.[0]?.window) as { hybrid?: unknown } | undefined;
+    if (savedWindow?.hybrid !== undefined) prepared = prepareForecast(text, dataPath, { ...options, hybrid: true });
   }
   const description: AnyModelDescription = prepared.task === 'pairs'
     ? pairsDescription({ cell, hidden, layers: layerCount, bidirectional: args.switches.has('bidirectional'), dropout, embedding: options.embedding, attention: attention === 'none' ? null : attention, reverseSource: args.switches.has('reverse-source'), sourceVocabulary: prepared.sourceVocabulary.length, targetVocabulary: prepared.targetVocabulary.length })
@@ -256,7 +265,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   // With differences, the error of the change is the error of the level, so its deviation serves; log returns
   // have no such factor and are shown normalised. Sliding windows scale the target's change by its own deviation.
   const forecastMeta = prepared.metadata as { columns?: string[]; targetColumns?: string[]; normalisation?: { deviation: number[] }; targetTransform?: { kind: string; deviation: number[] }; window?: { targetDeviation: number[] } };
-  const maeScale = task !== 'forecast' || forecastMeta.targetColumns?.length !== 1 || (prepared.task === 'forecast' && prepared.outputWidth !== 1) ? null
+  const maeScale = task !== 'forecast' || forecastMeta.targetColumns?.length !== 1 || prepared.metadata.panel !== undefined || (prepared.task === 'forecast' && prepared.outputWidth !== 1) ? null
     : forecastMeta.window !== undefined ? forecastMeta.window.targetDeviation[0]
     : forecastMeta.targetTransform === undefined ? forecastMeta.normalisation?.deviation[forecastMeta.columns?.indexOf(forecastMeta.targetColumns[0]) ?? -1] ?? null
       : forecastMeta.targetTransform.kind === 'differences' ? forecastMeta.targetTransform.deviation[0] : null;
@@ -417,7 +426,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
 /** What a forecast's validation figure is: MAE in the data's units for one target, MASE for several. */
 function figureName(prepared: Prepared | PairsPrepared): 'MAE' | 'MASE' {
   const targets = (prepared.metadata as { targetColumns?: readonly string[] }).targetColumns?.length ?? 1;
-  return targets > 1 ? 'MASE' : 'MAE';
+  return targets > 1 || prepared.metadata.panel !== undefined ? 'MASE' : 'MAE';
 }
 
 /** Rows per shard of a batch (see --workers). */

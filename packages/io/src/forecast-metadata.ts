@@ -96,3 +96,60 @@ export function forecastMissing(metadata: Readonly<Record<string, unknown>>, col
   if (!Array.isArray(missing.markers) || !missing.markers.every((m) => typeof m === 'string')) fail('bad_weight_file', where('markers'), 'an array of strings', JSON.stringify(missing.markers)?.slice(0, 80) ?? 'nothing');
   return missing as MissingRecord;
 }
+
+/** Many series' record in a forecast model's metadata (`panel`): the id column and each series' own fields. */
+export interface ForecastPanel {
+  /** The column naming each series. */
+  readonly idColumn: string;
+  /** True when the model reads a 0/1 input per series. */
+  readonly idInputs: boolean;
+  /** The series' ids, in the order the model knows them. */
+  readonly ids: readonly string[];
+}
+
+/** The fields each series of many records for itself; the rest of the metadata is shared. */
+const OWN_FIELDS = ['normalisation', 'window', 'missing', 'split', 'season'];
+
+/** The many-series record of a forecast model's metadata (checked), or null for a model of one series. */
+export function forecastPanel(metadata: Readonly<Record<string, unknown>>): ForecastPanel | null {
+  const panel = metadata.panel as { idColumn?: unknown; idInputs?: unknown; series?: unknown } | undefined;
+  if (panel === undefined) return null;
+  if (typeof panel !== 'object' || panel === null || typeof panel.idColumn !== 'string') fail('bad_weight_file', 'metadata.panel.idColumn', 'the name of the column naming each series', JSON.stringify(panel?.idColumn) ?? 'nothing');
+  const series = panel.series;
+  if (!Array.isArray(series) || series.length === 0 || !series.every((s) => typeof s === 'object' && s !== null && typeof (s as { id?: unknown }).id === 'string')) {
+    fail('bad_weight_file', 'metadata.panel.series', 'an array of records, each with the series\' id', JSON.stringify(series)?.slice(0, 80) ?? 'nothing');
+  }
+  const ids = (series as { id: string }[]).map((s) => s.id);
+  const twice = ids.findIndex((id, i) => ids.indexOf(id) !== i);
+  if (twice >= 0) fail('bad_weight_file', `metadata.panel.series[${twice}].id`, 'ids that differ', `${JSON.stringify(ids[twice])} again`);
+  if (metadata.window !== undefined) fail('bad_weight_file', 'metadata.window', 'no entry in a model of many series (each series records its own, in metadata.panel.series)', 'an entry');
+  return { idColumn: panel.idColumn, idInputs: panel.idInputs === true, ids };
+}
+
+/**
+ * The metadata one series of many is forecast with, as a model of that series alone: the shared fields, the series'
+ * own (its scales, window record, missing-value fill), its block of the intervals' half-widths, and its place among
+ * the series inputs (`seriesInput`) when the model reads them. An id the model does not know is an error naming it.
+ */
+export function seriesMetadata(metadata: Readonly<Record<string, unknown>>, id: string): Record<string, unknown> {
+  const panel = forecastPanel(metadata);
+  if (panel === null) fail('invalid_argument', 'seriesMetadata.metadata', 'the metadata of a model of many series (metadata.panel)', 'a model of one series');
+  const index = panel.ids.indexOf(id);
+  if (index < 0) fail('bad_data', `series ${JSON.stringify(id.slice(0, 80))}`, `a series the model was trained on (${panel.ids.slice(0, 6).map((s) => JSON.stringify(s)).join(', ')}${panel.ids.length > 6 ? `, … ${panel.ids.length} in all` : ''})`, 'an unknown id');
+  const own = (metadata.panel as { series: Record<string, unknown>[] }).series[index];
+  const shared = Object.fromEntries(Object.entries(metadata).filter(([key]) => key !== 'panel' && key !== 'intervals' && !OWN_FIELDS.includes(key)));
+  const intervals = metadata.intervals as { halfWidth?: unknown } | undefined;
+  let block: Record<string, unknown> = {};
+  if (intervals !== undefined) {
+    const half = intervals.halfWidth;
+    if (!Array.isArray(half) || half.length % panel.ids.length !== 0) fail('bad_weight_file', 'metadata.intervals.halfWidth', `half-widths for each of the ${panel.ids.length} series in turn`, JSON.stringify(half)?.slice(0, 80) ?? 'nothing');
+    const per = half.length / panel.ids.length;
+    block = { intervals: { ...intervals, halfWidth: half.slice(index * per, (index + 1) * per) } };
+  }
+  return {
+    ...shared,
+    ...Object.fromEntries(OWN_FIELDS.flatMap((key) => (own[key] === undefined ? [] : [[key, own[key]]]))),
+    ...block,
+    ...(panel.idInputs ? { seriesInput: { index, count: panel.ids.length } } : {}),
+  };
+}

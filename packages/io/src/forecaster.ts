@@ -24,15 +24,36 @@ import { createTranslator } from './translate.js';
 import { SmoothingStepper } from './data/smoothing.js';
 import { calendarInputsAt } from './data/calendar.js';
 import { parseTime } from './data/time-column.js';
-import { forecastIntervals, forecastMissing, forecastRowsAhead, forecastWindow } from './forecast-metadata.js';
+import { forecastIntervals, forecastMissing, forecastPanel, forecastRowsAhead, forecastWindow, seriesMetadata } from './forecast-metadata.js';
 import { fillColumn, missingTest } from './data/missing.js';
 import { valueAt } from './forecast-row.js';
 import type { RowForecaster } from './forecast-row.js';
 export type { ForecastRow, RowForecaster } from './forecast-row.js';
 export type { ForecastWindow } from './forecast-metadata.js';
 
+/** The series input of one series of many (metadata `seriesInput`, from seriesMetadata), checked, or null. */
+function seriesInputOf(metadata: Readonly<Record<string, unknown>>): { index: number; count: number } | null {
+  const code = metadata.seriesInput as { index?: unknown; count?: unknown } | undefined;
+  if (code === undefined) return null;
+  if (!(Number.isInteger(code.count) && Number.isInteger(code.index) && (code.index as number) >= 0 && (code.index as number) < (code.count as number))) {
+    fail('bad_weight_file', 'metadata.seriesInput', 'a series\' index among a count of series', JSON.stringify(code).slice(0, 80));
+  }
+  return code as { index: number; count: number };
+}
+
+/**
+ * A row forecaster per series of a model of many series (metadata `panel`): each reads its own series' rows alone,
+ * as createRowForecaster does for one series, with that series' scales; all share the model's weights.
+ */
+export function createSeriesForecasters(runtime: Runtime, metadata: Readonly<Record<string, unknown>>): Map<string, RowForecaster> {
+  const panel = forecastPanel(metadata);
+  if (panel === null) fail('invalid_argument', 'createSeriesForecasters.metadata', 'the metadata of a model of many series (metadata.panel)', 'a model of one series: use createRowForecaster');
+  return new Map(panel.ids.map((id) => [id, createRowForecaster(runtime, seriesMetadata(metadata, id))]));
+}
+
 /** A row forecaster for a forecast model and its weight file's metadata. */
 export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<string, unknown>>): RowForecaster {
+  if (metadata.panel !== undefined) fail('invalid_argument', 'createRowForecaster.metadata', 'the metadata of a model of one series (a model of many: createSeriesForecasters, or seriesMetadata for one of them)', `a model of ${forecastPanel(metadata)?.ids.length} series`);
   const translator = createTranslator(metadata);
   const inputNames = translator.inputNames;
   const outputNames = translator.outputNames;
@@ -132,10 +153,14 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const isMissing = missing === null ? null : missingTest(missing.markers);
   const flagged = missing?.flagged ?? [];
   const flagAt = timeSlot + 2 * calendar.length;
-  const inputWidth = flagAt + flagged.length;
+  // One series of many with series inputs: a 0/1 input per series after the flags, its own 1 (set once: never rewritten).
+  const code = seriesInputOf(metadata);
+  const inputWidth = flagAt + flagged.length + (code?.count ?? 0);
   // The last w rows, oldest first once full: ring[(start + k) % w] is the k-th row of the window.
   const ring = new Float64Array(w * stride);
   const input = new Float32Array(inputWidth);
+  if (code !== null) input[flagAt + flagged.length + code.index] = 1;
+  if (runtime.inputWidth !== inputWidth) fail('bad_weight_file', 'metadata', `a record of the ${runtime.inputWidth} inputs the model reads`, `${inputWidth} inputs (${width} columns${hybrids > 0 ? `, ${hybrids} smoothing forecasts` : ''}${calendar.length > 0 ? `, ${2 * calendar.length} calendar inputs` : ''}${flagged.length > 0 ? `, ${flagged.length} missing flags` : ''}${code === null ? '' : `, ${code.count} series inputs`})`);
   let seen = 0;
   const rowValues = new Float64Array(width);
   const bases = new Float64Array(targetCount * rowsAhead.length);

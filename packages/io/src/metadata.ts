@@ -20,6 +20,7 @@ import type { Problem } from '@weft/core';
 import type { ModelDescription } from '@weft/cells/description';
 import { isEncoderDecoder, modelLayout } from '@weft/cells/description';
 import type { WeightFile } from './weight-file.js';
+import { forecastPanel, seriesMetadata } from './forecast-metadata.js';
 
 function describe(value: unknown): string {
   if (value === undefined) return 'nothing';
@@ -36,6 +37,20 @@ const isNumbers = (value: unknown): value is number[] => Array.isArray(value) &&
  * types); empty when it fits.
  */
 export function metadataProblems(metadata: Readonly<Record<string, unknown>>, model: ModelDescription): Problem[] {
+  // A model of many series: each series' metadata, as one series' (its own fields named under panel.series[i]).
+  if (metadata.panel !== undefined) {
+    let ids: readonly string[];
+    try {
+      ids = forecastPanel(metadata)?.ids ?? [];
+    } catch (error) {
+      if (error instanceof WeftError) return [...error.problems];
+      throw error;
+    }
+    return ids.flatMap((id, i) => {
+      const own = seriesMetadata(metadata, id);
+      return metadataProblems(own, model).map((p) => ({ ...p, path: p.path.replace(/^metadata\.(normalisation|window|missing|split|season)\b/, `metadata.panel.series[${i}].$1`) }));
+    });
+  }
   const problems: Problem[] = [];
   const add = (field: string, expected: string, received: unknown): void => {
     problems.push({ code: 'bad_weight_file', path: `metadata.${field}`, expected, received: describe(received) });
@@ -60,9 +75,11 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
   // It also reads a 0/1 "was missing" input per column with holes (missing.flagged).
   const window = metadata.window as { hybrid?: unknown; calendar?: unknown } | undefined;
   const flagged = (metadata.missing as { flagged?: unknown } | undefined)?.flagged;
-  const extra = (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) + (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) + (Array.isArray(flagged) ? flagged.length : 0);
+  // And, one series of many, a 0/1 input per series (seriesInput).
+  const seriesInputs = Number((metadata.seriesInput as { count?: unknown } | undefined)?.count ?? 0) || 0;
+  const extra = (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) + (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) + (Array.isArray(flagged) ? flagged.length : 0) + seriesInputs;
   const readWidth = input.kind === 'values' ? input.width - extra : 1;
-  const widthWords = extra > 0 ? `the model's input width less its ${extra} smoothing, calendar and missing-value input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
+  const widthWords = extra > 0 ? `the model's input width less its ${extra} smoothing, calendar, missing-value and series input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
   let columns: string[] | null = null;
   if (has('columns')) {
     const value = metadata.columns;

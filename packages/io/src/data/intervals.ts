@@ -92,14 +92,24 @@ export function scoreIntervals(split: SeriesSplit, forecast: Forecaster, interva
  * so these errors are in-sample and the intervals, if anything, narrow), scored on the split's test rows. In the
  * order of `baselines.scores`.
  */
-export function baselineIntervals(split: SeriesSplit, baselines: { readonly forecasters: readonly Forecaster[]; readonly scales: readonly number[] }, level: number, from: number): IntervalScores[] {
-  const steps = rowsAheadOf(split);
-  return baselines.forecasters.map((forecast) => {
-    const halfWidth = steps.flatMap((h) => split.targets.map((j, k) => {
-      const errors: number[] = [];
-      for (let r = Math.max(from, h); r < split.fitRows; r++) errors.push(split.values[r][j] - forecast(r - h, k, h));
-      return conformalHalfWidth(errors, level);
-    }));
+export function baselineIntervals(split: SeriesSplit, baselines: { readonly forecasters: readonly Forecaster[]; readonly scales: readonly number[] }, level: number, from: number, halfWidths?: readonly (readonly number[])[]): IntervalScores[] {
+  const errors = halfWidths === undefined ? baselineErrors(split, baselines, from) : null;
+  return baselines.forecasters.map((forecast, b) => {
+    const halfWidth = halfWidths?.[b] ?? errors![b].map((e) => conformalHalfWidth(e, level));
     return scoreIntervals(split, forecast, { level, halfWidth }, baselines.scales);
   });
+}
+
+/**
+ * Each baseline's errors (actual − forecast) on the target rows [from, fitRows), per row ahead and target (rows
+ * ahead outer), in the order of `baselines.forecasters`: what its intervals are made from (baselineIntervals), or,
+ * for many series, pooled with other series' (panel.ts); `halfWidths` then gives baselineIntervals the result.
+ */
+export function baselineErrors(split: SeriesSplit, baselines: { readonly forecasters: readonly Forecaster[] }, from: number): number[][][] {
+  const steps = rowsAheadOf(split);
+  return baselines.forecasters.map((forecast) => steps.flatMap((h) => split.targets.map((j, k) => {
+    const errors: number[] = [];
+    for (let r = Math.max(from, h); r < split.fitRows; r++) errors.push(split.values[r][j] - forecast(r - h, k, h));
+    return errors;
+  })));
 }

@@ -16,13 +16,17 @@ import { forecastBaselines, scoreForecaster } from './baselines.js';
 import { baselineIntervals, conformalHalfWidth, scoreIntervals } from './intervals.js';
 import { readSeries } from './series.js';
 import { checkGaps, linesOf, seriesParts, tableNotes } from './series-checks.js';
-import { columnStatistics, fieldPath, parseTable } from './table.js';
-import { readTimeColumn } from './time-column.js';
+import { columnStatistics, fieldPath } from './table.js';
+import type { Table } from './table.js';
+import { readTable } from './json-records.js';
+import { calendarCopies, readTimeColumn } from './time-column.js';
+import type { TimeColumn } from './time-column.js';
+import { preparePanel, seriesIdColumn } from './panel.js';
 import { insertSkippedTimes } from './skipped-times.js';
 import type { MissingRecord } from './missing.js';
 import { forecastReport, forecastWords, withIntervals } from './verdict.js';
-import type { PreparedSeries, SeriesPreparation } from './series-types.js';
-export type { ChosenSettings, ForecastIntervals, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './series-types.js';
+import type { PanelPart, PreparedSeries, SeriesPreparation } from './series-types.js';
+export type { ChosenSettings, ForecastIntervals, PanelPart, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './series-types.js';
 import { slidingWindows } from './series-windows.js';
 import type { SeriesContext } from './series-windows.js';
 
@@ -35,18 +39,36 @@ const TRANSFORMS = {
   'log-returns': { forward: (ahead: number, y: number) => Math.log(ahead / y), inverse: (change: number, y: number) => y * Math.exp(change) },
 } as const;
 
-/** Prepares a CSV/TSV text of series (`file` names it in messages) for training and judging. */
+/**
+ * Prepares a CSV/TSV text or JSON records of series (`file` names it in messages) for training and judging: one
+ * series, or, with an id column (given, or found: panel.ts), many series and one model across them.
+ */
 export function prepareSeries(text: string, file: string, options: SeriesPreparation): PreparedSeries {
   const rule = options.missing ?? 'interpolate';
   if (!['interpolate', 'carry', 'segments', 'refuse'].includes(rule)) fail('invalid_option', '--missing', 'interpolate, carry, segments or refuse', String(rule));
   if (options.gapLimit !== undefined && !(Number.isInteger(options.gapLimit) && options.gapLimit >= 1)) fail('invalid_option', '--gap-limit', 'a whole number of rows ≥ 1', String(options.gapLimit));
-  const given = parseTable(text, { file });
-  const timeGiven = readTimeColumn(given, options.timeColumn, 'for --time-column');
+  const given = readTable(text, file);
+  const time = readTimeColumn(given, options.timeColumn, 'for --time-column');
+  const id = seriesIdColumn(given, time, options);
+  if (id !== null) return preparePanel(given, time, id, options, prepareTable);
+  return prepareTable(given, time, options);
+}
+
+/**
+ * One series' table (and its time column) prepared; `part` when it is one of many series (panel.ts), with the
+ * choices they share.
+ */
+export function prepareTable(given: Table, timeGiven: TimeColumn | null, options: SeriesPreparation, part?: PanelPart): PreparedSeries {
+  const file = given.file;
+  const rule = options.missing ?? 'interpolate';
   // Skipped times come back as rows of missing cells, before anything else reads the rows.
   const putBack = timeGiven === null ? null : insertSkippedTimes(given, timeGiven, rule === 'refuse');
   const table = putBack?.table ?? given;
   const time = putBack?.time ?? timeGiven;
-  const series = readSeries(table, { columns: options.columns, targets: options.targets, leaveOut: time === null ? [] : [time.name], markers: options.missingMarkers, refuseMissing: rule === 'refuse', choices: { columns: 'with --columns', targets: 'for --target' } });
+  // Columns that repeat the time column's calendar (a year, a month number) are not readings: left out, said.
+  const copies = time === null || options.columns !== undefined ? [] : calendarCopies(table, time);
+  const leaveOut = [...(time === null ? [] : [time.name]), ...copies, ...(part?.leaveOut ?? [])];
+  const series = readSeries(table, { columns: options.columns, targets: options.targets, leaveOut, markers: options.missingMarkers, refuseMissing: rule === 'refuse', choices: { columns: 'with --columns', targets: 'for --target' } });
   const columns = series.columns.map((name) => table.header.indexOf(name));
   const targets = series.targets.map((name) => table.header.indexOf(name));
   const leftOut = series.leftOut.filter((text) => time === null || !text.startsWith(`${time.name} (`));
@@ -72,6 +94,7 @@ export function prepareSeries(text: string, file: string, options: SeriesPrepara
   const holes = series.missing.some((n) => n > 0);
   const notes = [
     ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
+    ...(copies.length === 0 ? [] : [`left out ${copies.map((c) => JSON.stringify(c)).join(' and ')}: ${copies.length === 1 ? 'it repeats' : 'they repeat'} the time column's calendar (--columns to read ${copies.length === 1 ? 'it' : 'them'})`]),
     ...(putBack?.note === null || putBack === null ? [] : [putBack.note]),
     ...series.notes,
     ...(holes ? [missingNote(series.columns, series.missing, rows, examples === 'sliding' ? rule : 'streams', options.gapLimit, series.targets)] : []),
@@ -93,7 +116,7 @@ export function prepareSeries(text: string, file: string, options: SeriesPrepara
   let observed = 0;
   for (const t of positions) for (const j of targetIndexes) if (!Number.isNaN(values[t + horizon][j])) observed++;
   const what = `${forecastWords(positions.length, targetNames, rowsAhead, observed)}, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`;
-  const common = { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, options, split, baselines, notes, metadata, context, what, time, missing: series.missing };
+  const common = { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, options, split, baselines, notes, metadata, context, what, time, missing: series.missing, ...(part === undefined ? {} : { panel: part }) };
   if (examples === 'sliding') return slidingWindows({ ...common, season: baselines.season.season });
   if (holes && (options.transform ?? 'none') !== 'none') fail('invalid_option', '--transform', `none for a series with missing readings (a change from or to a missing reading is unknown); or fill the gaps first`, `${options.transform} with ${series.missing.reduce((a, b) => a + b, 0)} missing readings`);
   if (options.hybrid === true) fail('invalid_option', '--hybrid', `sliding windows (--examples sliding; the default up to ${SLIDING_ROWS.toLocaleString('en')} training rows, and not with --transform or --lookback)`, 'streams');

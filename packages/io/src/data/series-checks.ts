@@ -47,7 +47,7 @@ export function checkTimes(table: Table, time: TimeColumn): void {
   if (time.repeated >= 0 && (time.backwards < 0 || time.repeated < time.backwards)) {
     const r = time.repeated;
     const first = time.times.indexOf(time.times[r]);
-    fail('bad_data', at(r), `a time after line ${table.rows[r - 1].line}'s in column ${JSON.stringify(time.name)}, as a series has one row per time (several series in one table? forecast one series per file, or classify them with --task classify --id-column NAME)`, `${shown(r)} again (as on line ${table.rows[first].line})`);
+    fail('bad_data', at(r), `a time after line ${table.rows[r - 1].line}'s in column ${JSON.stringify(time.name)}, as a series has one row per time (several series in one table? name the column that tells them apart with --id-column NAME to forecast them all with one model)`, `${shown(r)} again (as on line ${table.rows[first].line})`);
   }
   if (time.backwards >= 0) {
     const r = time.backwards;
@@ -92,7 +92,7 @@ export function tableNotes(table: Table, time: TimeColumn | null, numeric: reado
     for (let r = 1; r < cells.length; r++) if (cells[r] !== cells[r - 1]) runs++;
     const inTurns = cells.every((v, r) => r < distinct || v === cells[r - distinct]);
     if (distinct > 1 && distinct <= table.rows.length / 3 && (runs === distinct || inTurns)) {
-      notes.push(`note: column ${JSON.stringify(name)} names ${distinct} repeating values: if each names a series, the table holds several series and weft would pool them into one; pick one series's rows, or classify the sequences with --task classify --id-column ${name}`);
+      notes.push(`note: column ${JSON.stringify(name)} names ${distinct} repeating values: if each names a series, the table holds several series and weft would pool them into one; forecast each with one model with --id-column ${name}, or pick one series's rows`);
     }
   });
   return notes;

@@ -55,6 +55,25 @@ export interface SeriesPreparation {
   readonly gapLimit?: number;
   /** Cells read as missing besides the standard markers (empty, NA, N/A, NaN, null, None, -). */
   readonly missingMarkers?: readonly string[];
+  /**
+   * The column naming each series of a long table (one model across them all: panel.ts); null for none; undefined
+   * to find one (a text column whose values name series that share times).
+   */
+  readonly idColumn?: string | null;
+  /** Many series: a series too short for a window, the horizon and its parts is left out with a note ('skip', the default) or refused. */
+  readonly shortSeries?: 'skip' | 'refuse';
+  /** Many series: the model also reads which series a window is from (a 0/1 input per series: a learned vector each). */
+  readonly idInputs?: boolean;
+}
+
+/** What a series of many (panel.ts) is prepared with, beyond its settings: the choices shared by every series. */
+export interface PanelPart {
+  /** Columns never read as numbers (the id column). */
+  readonly leaveOut: readonly string[];
+  /** Columns with a "was missing" input in every series (those with holes in any). */
+  readonly flagged: readonly string[];
+  /** The series' place among them, for 0/1 series inputs (absent without them). */
+  readonly code?: { readonly index: number; readonly count: number };
 }
 
 /** One training example of sliding windows: the window's numbers, row-major, and its targets. */
@@ -161,6 +180,15 @@ export interface PreparedSeries {
    * them): one per row ahead and target (rows ahead outer), Infinity where the part is too short for the level.
    */
   intervals(outputs: ArrayLike<number>, width: number, level: number): number[];
+  /**
+   * Sliding windows: the validation part's errors (actual − forecast, data units) per row ahead and target (rows
+   * ahead outer), outputs as `validationFigure` takes them; what `intervals` ranks, for pooling across series.
+   */
+  validationErrors?(outputs: ArrayLike<number>, width: number): number[][];
+  /** Per target, the MASE scale (in-sample seasonal naive error over the fitting rows). */
+  readonly scales?: readonly number[];
+  /** Sliding windows: each baseline's name and validation errors as `validationErrors` gives the model's (in the report's order). */
+  baselineErrors?(): { readonly name: string; readonly errors: number[][] }[];
 }
 
 /** Prediction intervals of a forecast model: forecast ± halfWidth, per row ahead and target (rows ahead outer). */
@@ -169,4 +197,9 @@ export interface ForecastIntervals {
   readonly level: number;
   /** Half-widths in the data's units. */
   readonly halfWidth: readonly number[];
+  /**
+   * The baselines' half-widths, per baseline in the report's order (as halfWidth); absent, each baseline's are made
+   * from its own validation errors (many series pool them across series: panel.ts).
+   */
+  readonly baselines?: readonly (readonly number[])[];
 }

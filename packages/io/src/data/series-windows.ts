@@ -19,8 +19,8 @@ import type { WeightMetadata } from '../weight-file.js';
 import type { ForecastBaselines, SeriesSplit } from './baselines.js';
 import { forecastBaselines, scoreForecaster } from './baselines.js';
 import { calendarFor, calendarInputs } from './calendar.js';
-import type { PreparedSeries, SeriesPreparation, WindowExample } from './series-types.js';
-import { baselineIntervals, conformalHalfWidth, scoreIntervals } from './intervals.js';
+import type { PanelPart, PreparedSeries, SeriesPreparation, WindowExample } from './series-types.js';
+import { baselineErrors, baselineIntervals, conformalHalfWidth, scoreIntervals } from './intervals.js';
 import { fillColumn, gapLengths, lastObserved } from './missing.js';
 import type { MissingRecord } from './missing.js';
 import { columnStatistics } from './table.js';
@@ -52,6 +52,8 @@ export interface SeriesContext {
   readonly time: TimeColumn | null;
   /** Per input column, its count of missing values. */
   readonly missing: readonly number[];
+  /** One series of many (panel.ts): the choices shared with the others; its validation figure is then MASE. */
+  readonly panel?: PanelPart;
 }
 
 /** Sliding windows over a series (see the file's comment). */
@@ -94,7 +96,8 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   // gaps' lengths, the columns read with a 0/1 "was missing" input, and the fill of a column never observed yet.
   const gappy = input.missing.some((n) => n > 0);
   const rule = options.missing === undefined || options.missing === 'refuse' ? 'interpolate' : options.missing;
-  const flagged = input.missing.flatMap((n, j) => (n > 0 ? [j] : []));
+  // One of many series flags the columns every series flags (so every series has the same inputs).
+  const flagged = input.missing.flatMap((n, j) => (n > 0 || input.panel?.flagged.includes(table.header[columns[j]]) === true ? [j] : []));
   const fallback = columnStatistics(values.slice(0, trainEnd), width).mean;
   const lastSeen = Array.from({ length: width }, (_, j) => lastObserved(values.map((row) => row[j])));
   // What lies outside a window starting at row `first`, for fillColumn: column j's last reading before it (NaN for
@@ -129,7 +132,10 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   const times = input.time?.times ?? null;
   const calendarAt = width + (hybrid === null ? 0 : targetCount);
   const flagAt = calendarAt + 2 * positions.length;
-  const inputWidth = flagAt + flagged.length;
+  // One of many series with series inputs: a 0/1 input per series after the flags, this one's 1 in every row.
+  const code = input.panel?.code;
+  const codeAt = flagAt + flagged.length;
+  const inputWidth = codeAt + (code?.count ?? 0);
   const targetDeviation = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
     let sum = 0;
     let n = 0;
@@ -158,6 +164,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       if (hybrid !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (hybrid[i].forecasts[0][row] - filled[last + j]) / deviation[j]));
       if (times !== null && positions.length > 0) calendarInputs(positions, times[row], inputs, k * inputWidth + calendarAt);
       flagged.forEach((j, i) => (inputs[k * inputWidth + flagAt + i] = Number.isNaN(values[row][j]) ? 1 : 0));
+      if (code !== undefined) for (let i = 0; i < code.count; i++) inputs[k * inputWidth + codeAt + i] = i === code.index ? 1 : 0;
     }
     // A target past `end` or never observed weighs 0 (its value 0 is never read).
     const known = (h: number, j: number) => t + h < end && !Number.isNaN(values[t + h][j]);
@@ -208,6 +215,15 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
     }
     return forecasts;
   };
+  /** Each row ahead's errors on the validation rows, from the windows whose row that far ahead is one of them. */
+  const validationErrors = (outputs: ArrayLike<number>, outputWidth: number): number[][] => {
+    const forecasts = forecastsOf(outputs, outputWidth, validationFrom);
+    return rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
+      const errors: number[] = [];
+      for (let t = Math.max(validationFrom, trainEnd - h); t + h < testStart; t++) errors.push(input.values[t + h][j] - forecasts[s][k][t]);
+      return errors;
+    }));
+  };
   // With several rows ahead, every baseline forecasts each of them too (fitted once).
   const several = rowsAhead.length > 1;
   const scoredSplit = several ? { ...split, rowsAhead } : split;
@@ -238,7 +254,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       const scored: number[] = [];
       for (let t = validationFrom; t < testStart - horizon; t++) scored.push(t);
       const errors = scoreForecaster({ ...scoredSplit, positions: scored }, (at, k, h) => forecasts[h - 1][k][at], baselines.scales).overall;
-      return targetCount > 1 ? errors.mase ?? NaN : errors.mae;
+      return targetCount > 1 || input.panel !== undefined ? errors.mase ?? NaN : errors.mae;
     },
     heldOut: (outputs, outputWidth, intervals) => {
       const forecasts = forecastsOf(outputs, outputWidth, testFrom);
@@ -246,19 +262,11 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       const scored = scoreForecaster(scoredSplit, forecast, baselines.scales);
       const report = forecastReport({ what: input.what, model: scored, baselines: scoredBaselines, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
       if (intervals === undefined) return report;
-      return withIntervals(report, scoreIntervals(scoredSplit, forecast, intervals, baselines.scales), baselineIntervals(scoredSplit, scoredFits, intervals.level, trainEnd));
+      return withIntervals(report, scoreIntervals(scoredSplit, forecast, intervals, baselines.scales), baselineIntervals(scoredSplit, scoredFits, intervals.level, trainEnd, intervals.baselines));
     },
-    intervals: (outputs, outputWidth, level) => {
-      // Each row ahead's errors on the validation rows, from the windows whose row that far ahead is one of them.
-      const forecasts = forecastsOf(outputs, outputWidth, validationFrom);
-      return rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
-        const errors: number[] = [];
-        for (let t = Math.max(validationFrom, trainEnd - h); t + h < testStart; t++) {
-          const made = forecasts[s][k][t];
-          errors.push(input.values[t + h][j] - made);
-        }
-        return conformalHalfWidth(errors, level);
-      }));
-    },
+    intervals: (outputs, outputWidth, level) => validationErrors(outputs, outputWidth).map((errors) => conformalHalfWidth(errors, level)),
+    validationErrors,
+    scales: baselines.scales,
+    baselineErrors: () => baselineErrors(scoredSplit, scoredFits, trainEnd).map((errors, b) => ({ name: scoredFits.scores[b].name, errors })),
   };
 }

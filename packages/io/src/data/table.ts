@@ -18,6 +18,8 @@ export interface TableRow {
   readonly line: number;
   /** The character column (1-based) where each field starts on its line. */
   readonly starts: readonly number[];
+  /** The line each field starts on, where it differs from `line` (records spread over lines: JSON). */
+  readonly lines?: readonly number[];
 }
 
 /** A delimited text table: its header and its records, with positions for errors. */
@@ -171,7 +173,7 @@ export function decimal(text: string): number {
 /** Where a field is: `file:line:column`. */
 export function fieldPath(table: Table, row: number, column: number): string {
   const r = table.rows[row];
-  return `${table.file}:${r.line}:${r.starts[column]}`;
+  return `${table.file}:${r.lines?.[column] ?? r.line}:${r.starts[column]}`;
 }
 
 /** The field as a finite decimal number, or a `bad_data` error at its `file:line:column`. */

@@ -96,11 +96,14 @@ export function readTimeColumn(table: Table, name?: string, choice = 'a time col
   let index = -1;
   if (name !== undefined) index = columnNamed(table, name, choice);
   else if (table.rows.length > 0) {
-    index = table.header.findIndex((h, c) => {
+    // Of several such columns (a year column beside a date), the one with the most distinct times; the first on a tie.
+    const candidates = table.header.flatMap((h, c) => {
       const first = table.rows[0].fields[c] ?? '';
       const isTime = !Number.isNaN(parseTime(first));
-      return (TIME_NAMES.test(h.trim()) && isTime) || (isTime && Number.isNaN(decimal(first)));
+      return (TIME_NAMES.test(h.trim()) && isTime) || (isTime && Number.isNaN(decimal(first))) ? [c] : [];
     });
+    const distinct = (c: number) => new Set(table.rows.map((row) => row.fields[c]?.trim())).size;
+    index = candidates.length <= 1 ? candidates[0] ?? -1 : candidates.reduce((best, c) => (distinct(c) > distinct(best) ? c : best));
   }
   if (index < 0) return null;
   const times = new Float64Array(table.rows.length);
@@ -118,4 +121,19 @@ export function readTimeColumn(table: Table, name?: string, choice = 'a time col
     if (backwards < 0 && r > 0 && t < times[r - 1]) backwards = r;
   });
   return { name: table.header[index], index, times, spacing: repeated < 0 && backwards < 0 ? timeSpacing(times) : null, repeated, backwards };
+}
+
+/**
+ * Columns of numbers that repeat the time column's calendar in every row (the UTC year, month number 1–12, day of
+ * the month or hour of each row's time): a year or month column beside a date is not a reading to forecast.
+ */
+export function calendarCopies(table: Table, time: TimeColumn): string[] {
+  if (table.rows.length < 3) return [];
+  const parts = [(d: Date) => d.getUTCFullYear(), (d: Date) => d.getUTCMonth() + 1, (d: Date) => d.getUTCDate(), (d: Date) => d.getUTCHours()];
+  const dates = Array.from(time.times, (t) => new Date(t));
+  return table.header.filter((_, c) => c !== time.index && parts.some((part) => {
+    // A part that never changes (every row's hour 0) names nothing.
+    if (dates.every((d) => part(d) === part(dates[0]))) return false;
+    return table.rows.every((row, r) => decimal(row.fields[c]) === part(dates[r]));
+  }));
 }

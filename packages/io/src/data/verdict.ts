@@ -57,6 +57,20 @@ export interface HeldOutReport {
   readonly context?: readonly string[];
   /** The model's prediction intervals on the test part (forecasts with intervals only). */
   readonly intervals?: IntervalScores;
+  /** Many series (panel.ts): each series' figures; the contenders' figures are then means over series. */
+  readonly series?: readonly SeriesFigures[];
+}
+
+/** One series' figures on its test part, beside its baselines' (many series: panel.ts). */
+export interface SeriesFigures {
+  /** The series' id. */
+  readonly id: string;
+  /** The model's MASE. */
+  readonly model: number;
+  /** Each baseline's MASE, in the report's order of baselines. */
+  readonly baselines: readonly { readonly name: string; readonly value: number }[];
+  /** The series' best baseline on its test part. */
+  readonly best: string;
 }
 
 /** What a forecast comparison is made of. */
@@ -150,7 +164,7 @@ export function reportLines(report: HeldOutReport): string[] {
   for (const c of all) {
     const name = c.name.padEnd(width);
     const how = c.description === '' ? '' : `  (${c.description})`;
-    if (c.overall !== undefined) lines.push(`  ${name}  ${errorsText(c.overall, !several)}${how}`);
+    if (c.overall !== undefined) lines.push(`  ${name}  ${errorsText(c.overall, !several && report.series === undefined)}${how}`);
     else if (c.transduction !== undefined) lines.push(`  ${name}  exact match ${percent(c.transduction.exactMatch)}  token accuracy ${percent(c.transduction.tokenAccuracy)}  BLEU ${figure(c.transduction.bleu)}${how}`);
     else if (c.scores !== undefined) lines.push(`  ${name}  accuracy ${percent(c.scores.accuracy)}  macro-F1 ${figure(c.scores.macroF1)}${how}`);
     else lines.push(`  ${name}  ${report.metric} ${figure(c.value)}${how}`);
@@ -162,6 +176,7 @@ export function reportLines(report: HeldOutReport): string[] {
       lines.push(`  ${' '.repeat(name.length)}  ${best.name} ${errorsText(best.perTarget?.[k])}`);
     });
   }
+  if (report.series !== undefined) lines.push(...seriesLines(report, report.series));
   const steps = report.model.byRowsAhead;
   if (steps !== undefined && steps.length > 1) {
     // The model and the best baseline at each row ahead, in the report's metric.
@@ -171,12 +186,31 @@ export function reportLines(report: HeldOutReport): string[] {
   }
   if (report.intervals !== undefined) {
     const i = report.intervals;
-    lines.push(`  prediction intervals at ${Number((100 * i.level).toFixed(1))}% (split conformal on the validation part's errors): coverage ${percent(i.coverage)} of ${i.count} values, mean width ${figure(i.meanWidth)}${i.msis === null ? '' : `, MSIS ${figure(i.msis)}`}${Number.isFinite(i.meanWidth) ? '' : ' (the validation part is too short for this level)'}${Math.abs(i.coverage - i.level) > 0.05 ? `; more than 5 points from the ${Number((100 * i.level).toFixed(1))}% asked: do not rely on these intervals at this level` : ''}`);
+    lines.push(`  prediction intervals at ${Number((100 * i.level).toFixed(1))}% (split conformal on the validation part's errors${report.series === undefined ? '' : ', pooled over series in units of each one\'s scale'}): coverage ${percent(i.coverage)} of ${i.count} values${Number.isNaN(i.meanWidth) ? '' : `, mean width ${figure(i.meanWidth)}`}${i.msis === null ? '' : `, MSIS ${figure(i.msis)}`}${Number.isFinite(i.meanWidth) || Number.isNaN(i.meanWidth) ? '' : ' (the validation part is too short for this level)'}${Math.abs(i.coverage - i.level) > 0.05 ? `; more than 5 points from the ${Number((100 * i.level).toFixed(1))}% asked: do not rely on these intervals at this level` : ''}`);
     const line = baselineIntervalsLine(report);
     if (line !== null) lines.push(line);
   }
   if (report.model.scores !== undefined) lines.push(...classLines(report.model.scores, report.names));
   lines.push(verdict(report));
+  return lines;
+}
+
+/**
+ * Many series: a line per series (the model's MASE and its best baseline's), and on how many series the model beats
+ * that series' best baseline (picked on the test part itself, so the count is, if anything, unkind to the model).
+ */
+function seriesLines(report: HeldOutReport, series: readonly SeriesFigures[]): string[] {
+  const width = Math.max(...series.map((s) => s.id.length));
+  const lines = [`  per series, MASE: the model's, and the best baseline of that series`];
+  let wins = 0;
+  for (const s of series) {
+    const best = s.baselines.find((b) => b.name === s.best)!;
+    if (s.model < best.value) wins++;
+    lines.push(`    ${s.id.padEnd(width)}  ${figure(s.model)}  ${best.name} ${figure(best.value)}${s.model < best.value ? '' : '  (baseline better)'}`);
+  }
+  const method = bestOf(report);
+  const againstMethod = series.filter((s) => s.model < (s.baselines.find((b) => b.name === method.name)?.value ?? Infinity)).length;
+  lines.push(`  the model beats ${method.name} (the best method over all series) on ${againstMethod} of ${series.length} series, and each series' own best baseline on ${wins} of ${series.length}`);
   return lines;
 }
 
@@ -212,7 +246,7 @@ function baselineIntervalsLine(report: HeldOutReport): string | null {
   const i = best.intervals!;
   const msis = i.msis!;
   const compared = model < msis ? `the model's ${figure(model)} is lower (better) by ${percent(1 - model / msis)}` : model > msis ? `the model's ${figure(model)} is higher (worse) by ${percent(model / msis - 1)}` : `the model's is the same`;
-  return `  the baselines' intervals, each made the same way from its own validation errors: lowest MSIS ${best.name} ${figure(msis)} (coverage ${percent(i.coverage)}, mean width ${figure(i.meanWidth)}); ${compared}`;
+  return `  the baselines' intervals, each made the same way from its own validation errors${report.series === undefined ? '' : ' (pooled over series)'}: lowest MSIS ${best.name} ${figure(msis)} (coverage ${percent(i.coverage)}${Number.isNaN(i.meanWidth) ? '' : `, mean width ${figure(i.meanWidth)}`}); ${compared}`;
 }
 
 /** A forecast report with the model's intervals and each baseline's (in the order of its baselines). */

@@ -43,8 +43,11 @@ describe('the checks and cuts of a series', () => {
 
   it('refuses times that repeat, go back or skip more than a season, at their line and column, and notes a column naming series or counting rows', () => {
     const twoCities = `date,city,temperature\n${Array.from({ length: 60 }, (_, r) => `2026-01-${String(Math.floor(r / 2) + 1).padStart(2, '0')},${r % 2 === 0 ? 'north' : 'south'},${r % 7}`).join('\n')}\n`;
-    expect(() => prepareSeries(twoCities, 'cities.csv', options)).toThrowError(
-      'Bad data at cities.csv:3:1: expected a time after line 2\'s in column "date", as a series has one row per time (several series in one table? forecast one series per file, or classify them with --task classify --id-column NAME), received "2026-01-01" again (as on line 2)');
+    // Two cities taking turns: a text column under which no city repeats a time names the series (panel.ts).
+    expect(prepareSeries(twoCities, 'cities.csv', options).notes[0]).toMatch(/^many series: 2 series named in column "city" \(found/);
+    const repeated = `date,temperature\n${Array.from({ length: 60 }, (_, r) => `2026-01-${String(Math.floor(r / 2) + 1).padStart(2, '0')},${r % 7}`).join('\n')}\n`;
+    expect(() => prepareSeries(repeated, 'cities.csv', options)).toThrowError(
+      'Bad data at cities.csv:3:1: expected a time after line 2\'s in column "date", as a series has one row per time (several series in one table? name the column that tells them apart with --id-column NAME to forecast them all with one model), received "2026-01-01" again (as on line 2)');
     const back = dated(60, (r) => String(Math.sin(r)), (r) => new Date(Date.UTC(2026, 0, 1 + (r === 30 ? 10 : r))).toISOString().slice(0, 10));
     expect(() => prepareSeries(back, 'back.csv', options)).toThrowError('Bad data at back.csv:32:1: expected a time after line 31\'s "2026-01-30" in column "date" (sort the file by time), received "2026-01-11"');
     const hours = (r: number) => new Date(Date.UTC(2026, 0, 1, r < 100 ? r : r + 30)).toISOString().slice(0, 16);
@@ -56,7 +59,7 @@ describe('the checks and cuts of a series', () => {
     const offGrid = gap.replace('2026-01-06T10:00', '2026-01-06T10:30');
     expect(() => prepareSeries(offGrid, 'gap.csv', options)).toThrowError('Bad data at gap.csv:102:1: expected a time at most a season (24 rows, hours apart) after line 101\'s in column "time"; fill the missing rows, or forecast the parts apart, received "2026-01-06T10:30", 32 rows\' time later');
     const named = `site,level\n${Array.from({ length: 60 }, (_, r) => `${r < 30 ? 'north' : 'south'},${Math.sin(r)}`).join('\n')}\n`;
-    expect(prepareSeries(named, 'sites.csv', options).notes).toContain('note: column "site" names 2 repeating values: if each names a series, the table holds several series and weft would pool them into one; pick one series\'s rows, or classify the sequences with --task classify --id-column site');
+    expect(prepareSeries(named, 'sites.csv', options).notes).toContain('note: column "site" names 2 repeating values: if each names a series, the table holds several series and weft would pool them into one; forecast each with one model with --id-column site, or pick one series\'s rows');
     const counted = prepareSeries(`step,level\n${Array.from({ length: 60 }, (_, r) => `${r + 1},${Math.sin(r)}`).join('\n')}\n`, 'steps.csv', options).notes ?? [];
     expect(counted).toEqual(['note: column "step" counts the rows (1, 2, 3, …): it is probably an index, not a reading; leave it out with --columns']);
   });

@@ -1,0 +1,311 @@
+/**
+ * Many series, one model (a global model): a long table whose id column names the series (sales per shop, readings
+ * per machine) trains one forecaster on the sliding windows of every series. Each series is read on its own scale
+ * as one series is (series-windows.ts: every value relative to the window's last row, divided by that series' own
+ * deviation of one-row changes), so series of any size share the weights; Salinas, Flunkert, Gasthaus & Januschowski
+ * (DeepAR, IJF 36, 2020) scale each series by its own level for the same reason, and we keep our single-series
+ * scaling so one series and many are read alike. With `idInputs` the model also reads a 0/1 input per series, so the
+ * first layer learns a vector per series (an embedding of the id).
+ *
+ * Every series is cut into its own three parts in time order (the test part is the end of every series), fitted its
+ * own baselines, and scored on its own; the figures overall are means over series of MASE (so series of different
+ * sizes count alike), and the verdict compares the model with each baseline method applied to every series.
+ *
+ * Prediction intervals pool the validation errors of every series, each divided by its series' MASE scale (the
+ * in-sample seasonal naive error): the conformal quantile of the pooled scaled errors, times a series' scale, is
+ * its half-width. A choice of ours: one series' validation part is too short for a 95% quantile (12 rows of a
+ * monthly series), and scaled errors of related series are closer to exchangeable than raw ones; still not
+ * exchangeable (series and times differ), so the coverage on the test part is measured and reported.
+ */
+import { fail } from '@weft/core';
+import type { ForecastErrors } from './scores.js';
+import { readSeries } from './series.js';
+import { chooseSeason } from './seasonality.js';
+import { conformalHalfWidth } from './intervals.js';
+import type { IntervalScores } from './intervals.js';
+import { insertSkippedTimes } from './skipped-times.js';
+import { interpolated } from './missing.js';
+import { seriesParts } from './series-checks.js';
+import { columnNamed, decimal, fieldPath } from './table.js';
+import type { Table } from './table.js';
+import { readTimeColumn } from './time-column.js';
+import type { TimeColumn } from './time-column.js';
+import type { Contender, HeldOutReport, SeriesFigures } from './verdict.js';
+import type { PanelPart, PreparedSeries, SeriesPreparation, SeriesWindows, WindowExample } from './series-types.js';
+
+/** The column that names each series of a long table. */
+export interface SeriesIdColumn {
+  /** Its index in the header. */
+  readonly index: number;
+  /** Its name. */
+  readonly name: string;
+  /** True when found from the table (not named by the caller). */
+  readonly found: boolean;
+}
+
+/**
+ * The id column of a long table: the one named (`idColumn`), none (`null`), or, when not said, found: with a time
+ * column whose times repeat down the table, the first text column under which no series repeats a time.
+ */
+export function seriesIdColumn(table: Table, time: TimeColumn | null, options: Pick<SeriesPreparation, 'idColumn'>): SeriesIdColumn | null {
+  if (options.idColumn === null) return null;
+  if (options.idColumn !== undefined) {
+    const index = columnNamed(table, options.idColumn, 'for --id-column');
+    if (time !== null && index === time.index) fail('invalid_option', '--id-column', 'a column other than the time column', JSON.stringify(options.idColumn));
+    return { index, name: table.header[index], found: false };
+  }
+  if (time === null || time.repeated < 0 || table.rows.length < 4) return null;
+  const index = table.header.findIndex((_, c) => {
+    if (c === time.index) return false;
+    const cells = table.rows.map((row) => row.fields[c].trim());
+    if (cells.every((v) => !Number.isNaN(decimal(v)))) return false;
+    const seen = new Map<string, Set<number>>();
+    return new Set(cells).size > 1 && cells.every((v, r) => {
+      const times = seen.get(v) ?? new Set<number>();
+      seen.set(v, times);
+      if (times.has(time.times[r])) return false;
+      times.add(time.times[r]);
+      return true;
+    });
+  });
+  return index < 0 ? null : { index, name: table.header[index], found: true };
+}
+
+/**
+ * The rows of each series of a long table, by id in order of first appearance, each series' rows in time order
+ * (series may take turns row by row): an empty id, or a time not after the series' previous one, is an error at
+ * its file:line:column.
+ */
+export function seriesRows(table: Table, id: Pick<SeriesIdColumn, 'index' | 'name'>, time: TimeColumn | null): Map<string, number[]> {
+  const groups = new Map<string, number[]>();
+  table.rows.forEach((row, r) => {
+    const name = row.fields[id.index].trim();
+    if (name === '') fail('bad_data', fieldPath(table, r, id.index), `a series name in column ${JSON.stringify(id.name)}`, 'an empty cell');
+    const rows = groups.get(name) ?? [];
+    if (time !== null && rows.length > 0) {
+      const last = rows[rows.length - 1];
+      if (!(time.times[r] > time.times[last])) {
+        fail('bad_data', fieldPath(table, r, time.index), `a time after line ${table.rows[last].line}'s ${JSON.stringify(table.rows[last].fields[time.index].trim())} for series ${JSON.stringify(name)} (each series' rows in time order; series may take turns)`, JSON.stringify(row.fields[time.index].trim().slice(0, 40)));
+      }
+    }
+    rows.push(r);
+    groups.set(name, rows);
+  });
+  return groups;
+}
+
+/** Prepares one series' table (prepare-series.ts' prepareTable, passed in so the modules do not import each other). */
+export type PrepareOne = (table: Table, time: TimeColumn | null, options: SeriesPreparation, part: PanelPart) => PreparedSeries;
+
+/** Many series of a long table prepared as one model's data (see the file's comment). */
+export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesIdColumn, options: SeriesPreparation, prepareOne: PrepareOne): PreparedSeries {
+  const file = table.file;
+  if (options.examples === 'streams') fail('invalid_option', '--examples', `sliding (a table of many series, by ${JSON.stringify(id.name)}, trains on every series' sliding windows)`, 'streams');
+  const short = options.shortSeries ?? 'skip';
+  if (short !== 'skip' && short !== 'refuse') fail('invalid_option', '--short-series', 'skip or refuse', String(short));
+  const groups = seriesRows(table, id, time);
+  if (groups.size < 2) fail('bad_data', fieldPath(table, 0, id.index), `at least two series named in column ${JSON.stringify(id.name)} (one series: leave out --id-column)`, `only ${JSON.stringify([...groups.keys()][0])}`);
+  const horizon = options.horizon;
+  const subTable = (rows: readonly number[]): Table => ({ file, delimiter: table.delimiter, header: table.header, rows: rows.map((r) => table.rows[r]) });
+  const probes = [...groups].map(([name, rows]) => {
+    const sub = subTable(rows);
+    const subTime = time === null ? null : readTimeColumn(sub, time.name);
+    const putBack = subTime === null ? null : insertSkippedTimes(sub, subTime, options.missing === 'refuse');
+    const read = readSeries(putBack?.table ?? sub, { columns: options.columns, targets: options.targets, leaveOut: [id.name, ...(time === null ? [] : [time.name])], markers: options.missingMarkers });
+    return { name, rows, sub, subTime, read, count: (putBack?.table ?? sub).rows.length };
+  });
+  // One season for all: the one most series choose (the smaller on a tie), unless given.
+  let season = options.season;
+  const seasonCounts = new Map<number | null, number>();
+  if (season === undefined) {
+    for (const p of probes) {
+      const column = p.read.values.map((row) => row[p.read.columns.indexOf(p.read.targets[0])]);
+      const fit = p.count - Math.max(1, Math.round(p.count * options.testShare));
+      const observed = column.slice(0, fit);
+      if (observed.length < 8) continue;
+      const choice = chooseSeason(interpolated(observed), p.subTime === null || time === null ? null : readTimeColumn(p.sub, time.name)?.spacing ?? null).season;
+      seasonCounts.set(choice, (seasonCounts.get(choice) ?? 0) + 1);
+    }
+    season = [...seasonCounts].sort((a, b) => b[1] - a[1] || (a[0] ?? 0) - (b[0] ?? 0))[0]?.[0] ?? null;
+  }
+  // A series is kept when its training part holds the windows a model needs (two seasons or 24 rows, and the horizon).
+  const given = options.given ?? new Set<string>();
+  const least = (season === null ? 24 : 2 * season) + horizon;
+  // (A series whose test share holds fewer rows than the horizon is refused by seriesParts when it is prepared.)
+  const trainingRows = (rows: number) => (Math.max(1, Math.round(rows * options.testShare)) < horizon ? 0 : seriesParts(rows, options).trainEnd);
+  const needed = (enough: number) => {
+    let n = enough;
+    while (trainingRows(n) < enough && n < 10 * enough + 100) n++;
+    return n;
+  };
+  const windowOf = (train: number) => Math.max(2, Math.min(season === null ? 24 : 2 * season, 64, Math.floor(train / 4)));
+  const fits = (p: (typeof probes)[number], window: number) => trainingRows(p.count) >= Math.max(given.has('window') ? 0 : least, window + horizon + 1);
+  const longEnough = probes.filter((p) => fits(p, given.has('window') ? options.window : 2));
+  const window = given.has('window') ? options.window : windowOf(Math.min(...longEnough.map((p) => trainingRows(p.count))));
+  const kept = probes.filter((p) => fits(p, window));
+  const dropped = probes.filter((p) => !fits(p, window));
+  const need = needed(Math.max(given.has('window') ? 0 : least, window + horizon + 1));
+  if (dropped.length > 0 && short === 'refuse') {
+    const p = dropped[0];
+    fail('bad_data', fieldPath(table, p.rows[0], id.index), `at least ${need} rows for series ${JSON.stringify(p.name)} (a ${window}-row window, ${horizon} row${horizon === 1 ? '' : 's'} ahead and its validation and test parts; --short-series skip leaves such series out)`, `${p.count} rows`);
+  }
+  if (kept.length === 0) fail('bad_data', fieldPath(table, 0, id.index), `a series with at least ${need} rows (a ${window}-row window, ${horizon} row${horizon === 1 ? '' : 's'} ahead and its validation and test parts)`, `${probes.length} series of at most ${Math.max(...probes.map((p) => p.count))} rows`);
+  // Every series flags the columns any series has holes in, so all read the same inputs.
+  const flagged = [...new Set(kept.flatMap((p) => p.read.columns.filter((_, j) => p.read.missing[j] > 0)))];
+  const settings: SeriesPreparation = { ...options, season, window, examples: 'sliding', given: new Set([...given, 'window']) };
+  const parts = kept.map((p, i) => prepareOne(p.sub, p.subTime, settings, { leaveOut: [id.name], flagged, ...(options.idInputs === true ? { code: { index: i, count: kept.length } } : {}) }));
+  const first = parts[0];
+  parts.forEach((part, i) => {
+    if (part.inputWidth !== first.inputWidth) {
+      fail('bad_data', fieldPath(table, kept[i].rows[0], id.index), `series ${JSON.stringify(kept[i].name)} read with the ${first.inputWidth} inputs of series ${JSON.stringify(kept[0].name)} (the same columns, calendar and spacing)`, `${part.inputWidth} inputs`);
+    }
+  });
+  const windows = parts.map((p) => p.examples as SeriesWindows);
+  const concat = (pick: (w: SeriesWindows) => readonly WindowExample[]) => windows.flatMap((w) => [...pick(w)]);
+  const train = concat((w) => w.train);
+  const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(train.length / 4)));
+  const epochs = Math.min(300, Math.max(3, Math.ceil(2000 / Math.ceil(train.length / batch))));
+  const ids = kept.map((p) => p.name);
+  // Outputs are read series by series: each series' windows in order, `counts` of them.
+  const slices = (counts: readonly number[], outputs: ArrayLike<number>, width: number) => {
+    let at = 0;
+    return counts.map((n) => {
+      const slice = Array.prototype.slice.call(outputs, at, at + n * width) as number[];
+      at += n * width;
+      return slice;
+    });
+  };
+  const validationCounts = windows.map((w) => w.validationForecasts.length);
+  const testCounts = windows.map((w) => w.test.length);
+  const block = first.outputWidth;
+  const meta = first.metadata as Record<string, unknown>;
+  const perSeries = ['normalisation', 'window', 'missing', 'split', 'season'];
+  const shared = Object.fromEntries(Object.entries(meta).filter(([key]) => !perSeries.includes(key)));
+  const seasonWords = options.season !== undefined ? `season: ${season === null ? 'none (as asked)' : `${season} rows (as asked)`}`
+    : `season: ${season === null ? 'none' : `${season} rows`}, the choice of ${seasonCounts.get(season) ?? 0} of ${probes.length} series (each chosen as for one series; one season for all, so every series reads the same window)`;
+  const testRows = kept.map((p) => p.count - seriesParts(p.count, options).testStart);
+  const notes = [
+    `many series: ${ids.length} series named in column ${JSON.stringify(id.name)}${id.found ? ' (found: its names share times; --id-column to choose another, none for one series)' : ''}, one model across them, each read on its own scale${options.idInputs === true ? ', with a 0/1 input per series' : ''}`,
+    ...(dropped.length === 0 ? [] : [`left out ${dropped.length} series shorter than the ${need} rows a ${window}-row window, ${horizon} row${horizon === 1 ? '' : 's'} ahead and their parts need: ${dropped.slice(0, 5).map((p) => `${JSON.stringify(p.name)} (${p.count} rows from line ${table.rows[p.rows[0]].line})`).join(', ')}${dropped.length > 5 ? `, and ${dropped.length - 5} more` : ''} (--short-series refuse to stop instead)`]),
+    ...[...new Set(parts.flatMap((p) => p.notes.filter((n) => !n.startsWith('note: column'))))],
+  ];
+  const sizes = [...new Set(testRows)];
+  const what = `the last ${sizes.length === 1 ? sizes[0] : `${Math.min(...sizes)} to ${Math.max(...sizes)}`} rows of each of ${ids.length} series of ${file}, used for neither training nor stopping (figures per series, then means over series)`;
+  return {
+    inputWidth: first.inputWidth,
+    outputWidth: block,
+    examples: {
+      kind: 'windows',
+      train,
+      validation: concat((w) => w.validation),
+      validationForecasts: concat((w) => w.validationForecasts),
+      test: concat((w) => w.test),
+      batch,
+    },
+    metadata: {
+      ...shared,
+      panel: {
+        idColumn: id.name,
+        idInputs: options.idInputs === true,
+        series: kept.map((p, i) => ({ id: p.name, ...Object.fromEntries(perSeries.flatMap((key) => (parts[i].metadata as Record<string, unknown>)[key] === undefined ? [] : [[key, (parts[i].metadata as Record<string, unknown>)[key]]])) })),
+      },
+    },
+    notes,
+    chosen: {
+      ...(given.has('epochs') ? {} : { epochs }),
+      ...(given.has('patience') ? {} : { patience: 5 }),
+      ...(given.has('hidden') ? {} : { hidden: 32 }),
+      said: `sliding windows of ${ids.length} series: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${season === null ? 'no season' : `two seasons of ${season} rows`}, at most a quarter of the shortest series' training rows)`}${horizon > 1 ? `, forecasting rows 1 to ${horizon} ahead at once` : ''}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override)`,
+    },
+    validationFigure: (outputs, width) => {
+      const figures = slices(validationCounts, outputs, width).map((slice, i) => parts[i].validationFigure(slice, width));
+      return figures.reduce((a, b) => a + b, 0) / figures.length;
+    },
+    heldOut: (outputs, width, intervals) => {
+      // The baselines' intervals are pooled across series as the model's are (each baseline method on its own).
+      const baselineWidths = intervals === undefined ? null : pooledBaselineWidths(parts.map((p) => p.baselineErrors!()), parts.map((p) => p.scales!), intervals.level);
+      const reports = slices(testCounts, outputs, width).map((slice, i) => parts[i].heldOut(slice, width, intervals === undefined ? undefined : { level: intervals.level, halfWidth: intervals.halfWidth.slice(i * block, (i + 1) * block), baselines: baselineWidths![i] }));
+      return panelReport(ids, reports, what, [
+        `parts of each series, in time order: training, validation (for stopping and keeping weights), test (scored once at the end), by the --validation and --test shares of its rows`,
+        seasonWords,
+      ]);
+    },
+    intervals: (outputs, width, level) => pooledHalfWidths(slices(validationCounts, outputs, width).map((slice, i) => parts[i].validationErrors!(slice, width)), parts.map((p) => p.scales!), level).flat(),
+  };
+}
+
+/**
+ * Per series, half-widths per row ahead and target from the pooled errors of every series (`errors[i][c]`, series i,
+ * row ahead and target c), each divided by its series' scale of that target: the pooled conformal quantile times the
+ * series' scale.
+ */
+export function pooledHalfWidths(errors: readonly (readonly (readonly number[])[])[], scales: readonly (readonly number[])[], level: number): number[][] {
+  const targets = scales[0].length;
+  const quantiles = errors[0].map((_, c) => conformalHalfWidth(errors.flatMap((e, i) => e[c].map((v) => v / usable(scales[i][c % targets]))), level));
+  return errors.map((_, i) => quantiles.map((q, c) => q * usable(scales[i][c % targets])));
+}
+
+/**
+ * Per series, per baseline in its own order, the half-widths pooled across the series that have that baseline
+ * (`errors[i]`: series i's baselines, each with its errors per row ahead and target; `scales[i]`: its scale per target).
+ */
+export function pooledBaselineWidths(errors: readonly (readonly { readonly name: string; readonly errors: readonly (readonly number[])[] }[])[], scales: readonly (readonly number[])[], level: number): number[][][] {
+  const byName = new Map<string, number[][]>();
+  for (const name of new Set(errors.flatMap((e) => e.map((b) => b.name)))) {
+    const having = errors.flatMap((e, i) => (e.some((b) => b.name === name) ? [i] : []));
+    const widths = pooledHalfWidths(having.map((i) => errors[i].find((b) => b.name === name)!.errors), having.map((i) => scales[i]), level);
+    having.forEach((i, n) => byName.set(`${i}:${name}`, [widths[n]]));
+  }
+  return errors.map((e, i) => e.map((b) => byName.get(`${i}:${b.name}`)![0]));
+}
+
+/** A scale that divides: a series that never changed has scale 0, and its errors count in its own units. */
+const usable = (scale: number) => (scale > 0 && Number.isFinite(scale) ? scale : 1);
+
+/**
+ * The figures of many series in one report: per series the model's MASE and each baseline's; overall, the mean over
+ * series for the model and for each baseline method fitted to every series (a method missing from some series, such
+ * as a seasonal one where a series has no room for it, is left out of the means, and said).
+ */
+export function panelReport(ids: readonly string[], reports: readonly HeldOutReport[], what: string, context: readonly string[]): HeldOutReport {
+  const mase = (c: Contender | undefined) => c?.overall?.mase ?? NaN;
+  const names = reports[0].baselines.map((b) => b.name).filter((name) => reports.every((r) => r.baselines.some((b) => b.name === name)));
+  const dropped = [...new Set(reports.flatMap((r) => r.baselines.map((b) => b.name)))].filter((n) => !names.includes(n));
+  const mean = (values: readonly number[]) => values.reduce((a, b) => a + b, 0) / values.length;
+  const meanErrors = (pick: (r: HeldOutReport) => Contender | undefined): ForecastErrors => {
+    const all = reports.map((r) => pick(r)?.overall);
+    const smapes = all.map((e) => e?.smape).filter((v): v is number => typeof v === 'number');
+    return { mae: NaN, rmse: NaN, mape: null, smape: smapes.length === all.length ? mean(smapes) : null, mase: mean(all.map((e) => e?.mase ?? NaN)), count: all.reduce((n, e) => n + (e?.count ?? 0), 0) };
+  };
+  const pooled = (pick: (r: HeldOutReport) => IntervalScores | undefined): IntervalScores | undefined => {
+    const scores = reports.map(pick);
+    if (scores.some((s) => s === undefined)) return undefined;
+    const all = scores as IntervalScores[];
+    const count = all.reduce((n, s) => n + s.count, 0);
+    const weighted = (f: (s: IntervalScores) => number) => all.reduce((sum, s) => sum + f(s) * s.count, 0) / count;
+    return { level: all[0].level, coverage: weighted((s) => s.coverage), meanWidth: NaN, msis: all.every((s) => s.msis !== null) ? weighted((s) => s.msis as number) : null, count };
+  };
+  const contender = (name: string, description: string, pick: (r: HeldOutReport) => Contender | undefined): Contender => {
+    const overall = meanErrors(pick);
+    const intervals = pooled((r) => pick(r)?.intervals ?? (name === 'model' ? r.intervals : undefined));
+    return { name, description, value: overall.mase ?? NaN, overall, ...(intervals === undefined ? {} : { intervals }) };
+  };
+  const { intervals: modelIntervals, ...model } = contender('model', '', (r) => r.model);
+  const baselines = names.map((name) => contender(name, `fitted to each series on its own`, (r) => r.baselines.find((b) => b.name === name)));
+  const series: SeriesFigures[] = reports.map((r, i) => {
+    const own = names.map((name) => ({ name, value: mase(r.baselines.find((b) => b.name === name)) }));
+    const best = own.reduce((a, b) => (b.value < a.value ? b : a));
+    return { id: ids[i], model: mase(r.model), baselines: own, best: best.name };
+  });
+  return {
+    metric: 'MASE',
+    lowerIsBetter: true,
+    what,
+    model,
+    baselines,
+    names: reports[0].names,
+    context: [...context, ...(dropped.length === 0 ? [] : [`left out of the means: ${dropped.join(', ')} (not fitted to every series)`])],
+    series,
+    ...(modelIntervals === undefined ? {} : { intervals: modelIntervals }),
+  };
+}
