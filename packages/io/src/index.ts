@@ -39,7 +39,7 @@ export { LOGISTIC_PENALTIES, chooseLogistic, fitLogistic, logisticLoss, predictL
 export type { CalendarPosition } from './data/calendar.js';
 export { calendarFor, calendarInputs } from './data/calendar.js';
 export type { TimeColumn } from './data/time-column.js';
-export { parseTime, readTimeColumn, timeSpacing } from './data/time-column.js';
+export { calendarCopies, parseTime, readTimeColumn, timeSpacing } from './data/time-column.js';
 export type { ForecastRow, ForecastWindow, RowForecaster } from './forecaster.js';
 export { createRowForecaster, createSeriesForecasters } from './forecaster.js';
 export { forecastIntervals, forecastMissing, forecastPanel, forecastRowsAhead, forecastWindow, seriesMetadata } from './forecast-metadata.js';

@@ -4,7 +4,7 @@
  * line naming it (worked by hand from docs/weight-format.md).
  */
 import { describe, expect, it } from 'vitest';
-import { forecastIntervals, forecastRowsAhead, forecastWindow } from '@weft/io';
+import { forecastIntervals, forecastPanel, forecastRowsAhead, forecastWindow, seriesMetadata } from '@weft/io';
 
 const window = { rows: 4, deviation: [0.5, 2], targetDeviation: [0.25] };
 
@@ -34,5 +34,18 @@ describe('forecast metadata', () => {
     expect(() => forecastIntervals({ intervals: { level: 90, halfWidth: [1, 1] } }, 2)).toThrowError('Bad weight file at metadata.intervals.level: expected a share between 0 and 1, received 90');
     expect(() => forecastIntervals({ intervals: { level: 0.9, halfWidth: [1] } }, 2)).toThrowError('Bad weight file at metadata.intervals.halfWidth: expected 2 half-widths ≥ 0 (null for none), one per row ahead and target, received [1]');
     expect(() => forecastIntervals({ intervals: { level: 0.9, halfWidth: [-1, 1] } }, 2)).toThrowError(/^Bad weight file at metadata\.intervals\.halfWidth/);
+  });
+
+  it('gives a model of many series\' record, each series\' metadata as one series\' with its block of half-widths, and refuses a malformed record', () => {
+    const series = [{ id: 'north', window, normalisation: { mean: [1], deviation: [2] } }, { id: 'south', window: { ...window, rows: 4 }, normalisation: { mean: [5], deviation: [6] } }];
+    const meta = { task: 'forecast', columns: ['heat'], targetColumns: ['heat'], horizon: 1, panel: { idColumn: 'site', idInputs: true, series }, intervals: { level: 0.95, halfWidth: [1, 2] } };
+    expect(forecastPanel(meta)).toEqual({ idColumn: 'site', idInputs: true, ids: ['north', 'south'] });
+    expect(forecastPanel({ task: 'forecast' })).toBeNull();
+    expect(seriesMetadata(meta, 'south')).toEqual({ task: 'forecast', columns: ['heat'], targetColumns: ['heat'], horizon: 1, window: series[1].window, normalisation: series[1].normalisation, intervals: { level: 0.95, halfWidth: [2] }, seriesInput: { index: 1, count: 2 } });
+    expect(() => forecastPanel({ panel: { series } })).toThrowError('Bad weight file at metadata.panel.idColumn: expected the name of the column naming each series, received nothing');
+    expect(() => forecastPanel({ panel: { idColumn: 'site', series: [] } })).toThrowError(/^Bad weight file at metadata\.panel\.series: expected an array of records, each with the series' id/);
+    expect(() => forecastPanel({ panel: { idColumn: 'site', series: [series[0], series[0]] } })).toThrowError('Bad weight file at metadata.panel.series[1].id: expected ids that differ, received "north" again');
+    expect(() => forecastPanel({ window, panel: { idColumn: 'site', series } })).toThrowError(/^Bad weight file at metadata\.window: expected no entry in a model of many series/);
+    expect(() => seriesMetadata({ ...meta, intervals: { level: 0.95, halfWidth: [1, 2, 3] } }, 'north')).toThrowError(/^Bad weight file at metadata\.intervals\.halfWidth: expected half-widths for each of the 2 series in turn/);
   });
 });

@@ -5,10 +5,12 @@
 // count sees an allocation of that size).
 import { PerformanceObserver } from 'node:perf_hooks';
 import { buildModel, stackMembers } from '@weft/cells';
-import { createRowForecaster, modelTensors, writeWeightFile } from '@weft/io';
+import { createRowForecaster, createSeriesForecasters, modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 
-const member = { input: { kind: 'values', width: 6 }, layers: [{ cell: 'lstm', hidden: 4 }], readout: { width: 2 } };
+// With the argument "many": three series of one model taking turns row by row, each with its own 0/1 input.
+const many = process.argv[2] === 'many';
+const member = { input: { kind: 'values', width: many ? 9 : 6 }, layers: [{ cell: 'lstm', hidden: 4 }], readout: { width: 2 } };
 const stacked = stackMembers([1, 2, 3].map((seed) => buildModel(member, { seed })));
 const smoothing = { method: 'additive', season: 4, alpha: 0.3, beta: 0.1, gamma: 0.2, phi: 1, level: 10, trend: 0.1, seasonal: [1, -1, 0.5, -0.5] };
 const meta = {
@@ -17,7 +19,10 @@ const meta = {
   window: { rows: 4, deviation: [1, 1], targetDeviation: [1, 1], hybrid: [smoothing], calendar: ['day of week'] },
   missing: { rule: 'interpolate', gapLimit: 3, flagged: [0], fallback: [10, 0], markers: [] },
 };
-const forecaster = createRowForecaster(await createRuntime(await writeWeightFile(stacked.description, modelTensors(stacked))), meta);
+const runtime = await createRuntime(await writeWeightFile(stacked.description, modelTensors(stacked)));
+const { normalisation, window, missing, ...shared } = meta;
+const series = ['a', 'b', 'c'].map((id) => ({ id, normalisation, window, missing }));
+const forecasters = many ? [...createSeriesForecasters(runtime, { ...shared, panel: { idColumn: 'site', idInputs: true, series } }).values()] : [createRowForecaster(runtime, meta)];
 const row = new Float64Array(3);
 const out = new Float64Array(2);
 const run = (count, start, extra) => {
@@ -26,7 +31,7 @@ const run = (count, start, extra) => {
     row[0] = i % 7 === 3 ? NaN : 10 + Math.sin(i);
     row[1] = Math.cos(i);
     row[2] = i * 86_400_000;
-    forecaster.nextValuesInto(row, out);
+    forecasters[i % forecasters.length].nextValuesInto(row, out);
     if (extra) kept = { i, heat: row[0] };
   }
   return kept;

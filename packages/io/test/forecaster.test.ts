@@ -10,7 +10,7 @@ import { describe, expect, it } from 'vitest';
 import { median } from 'mathjs';
 import { Random } from '@weft/core';
 import { buildModel, stackMembers } from '@weft/cells';
-import { calendarInputs, createRowForecaster, createTranslator, fitSmoothing, modelTensors, readWeightFile, runSmoothing, writeWeightFile } from '@weft/io';
+import { calendarInputs, createRowForecaster, createSeriesForecasters, createTranslator, fitSmoothing, modelTensors, readWeightFile, runSmoothing, seriesMetadata, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 
 const description = { input: { kind: 'values' as const, width: 2 }, layers: [{ cell: 'gru' as const, hidden: 6 }], readout: { width: 1 } };
@@ -109,6 +109,30 @@ describe('forecasting row by row', () => {
     expect(() => createRowForecaster(runtime, { ...meta, timeColumn: undefined })).toThrowError(/^Bad weight file at metadata\.timeColumn: expected the name of the time column/);
   });
 
+  it('forecasts each series of many with its own scales and its own 0/1 series input, worked by hand', async () => {
+    // Two series of one model reading heat, flow and a 0/1 input per series: 4 inputs a row.
+    const wide = buildModel({ ...description, input: { kind: 'values', width: 4 } }, { seed: 3 });
+    const runtime = await createRuntime(await readWeightFile(await writeWeightFile(wide.description, modelTensors(wide))));
+    const own = (scale: number) => ({ normalisation: base.normalisation, window: { rows: 3, deviation: [0.5 * scale, 2 * scale], targetDeviation: [0.25 * scale] } });
+    const meta = { ...base, panel: { idColumn: 'site', idInputs: true, series: [{ id: 'north', ...own(1) }, { id: 'south', ...own(10) }] }, intervals: { level: 0.9, halfWidth: [1, 10] } };
+    const forecasters = createSeriesForecasters(runtime, meta);
+    expect([...forecasters.keys()]).toEqual(['north', 'south']);
+    expect(forecasters.get('south')!.intervals).toEqual({ level: 0.9, halfWidth: [10] });
+    const south = rows.slice(0, 3).map((r) => ({ heat: 10 * r.heat, flow: 10 * r.flow }));
+    const made = south.map((row) => forecasters.get('south')!.next(row));
+    // By hand: the window relative to its last row, over the south's deviations, then 0, 1 (the south's input).
+    const input = new Float32Array(12);
+    for (let k = 0; k < 3; k++) input.set([(south[k].heat - south[2].heat) / 5, (south[k].flow - south[2].flow) / 20, 0, 1], 4 * k);
+    const out = runtime.run(input, 3, 1);
+
+    expect(made[2]!.heat).toBeCloseTo(south[2].heat + out[2] * 2.5, 4);
+    // The same series through seriesMetadata and createRowForecaster gives the same bits.
+    const alone = createRowForecaster(runtime, seriesMetadata(meta, 'south'));
+    expect(south.map((row) => alone.next(row))[2]).toEqual(made[2]);
+    expect(() => seriesMetadata(meta, 'east')).toThrowError('Bad data at series "east": expected a series the model was trained on ("north", "south"), received an unknown id');
+    expect(() => createRowForecaster(runtime, meta)).toThrowError(/^Invalid argument at createRowForecaster\.metadata: expected the metadata of a model of one series/);
+  });
+
   it('refuses a malformed window record naming the field, and a row without a number naming the column', async () => {
     const runtime = await runtimeOf(3);
     expect(() => createRowForecaster(runtime, { ...base, window: { rows: 4, deviation: [1], targetDeviation: [1] } })).toThrowError(
@@ -168,14 +192,16 @@ describe('forecasting row by row', () => {
     expect(() => createRowForecaster(runtime, { ...meta, members: 2 })).toThrowError(/^Bad weight file at metadata\.members: expected a count of members whose 1 × 1 forecasts make the model's 1 outputs, received 2$/);
   });
 
-  it('allocates nothing per row given as numbers and a time, holes included (node --expose-gc, collections counted with a 1 MB young generation)', () => {
+  it('allocates nothing per row given as numbers and a time, holes included, for one series and for many (node --expose-gc, collections counted with a 1 MB young generation)', () => {
     const probe = fileURLToPath(new URL('./forecaster-probe.mjs', import.meta.url));
-    const output = execFileSync(process.execPath, ['--expose-gc', '--max-semi-space-size=1', probe], { encoding: 'utf8' });
-    const { collections, rows, control } = JSON.parse(output.trim().split('\n').at(-1)!) as { collections: number; rows: number; control: number };
-    console.log(`${collections} collections over ${rows} rows of a windowed hybrid ensemble reading calendar positions, one reading in seven missing; ${control} over the same rows when each also makes one small object`);
-    // The control proves the count can see an allocation of one small object per row.
-    expect(control).toBeGreaterThan(0);
-    expect(collections).toBe(0);
+    for (const mode of ['one', 'many']) {
+      const output = execFileSync(process.execPath, ['--expose-gc', '--max-semi-space-size=1', probe, mode], { encoding: 'utf8' });
+      const { collections, rows, control } = JSON.parse(output.trim().split('\n').at(-1)!) as { collections: number; rows: number; control: number };
+      console.log(`${collections} collections over ${rows} rows of a windowed hybrid ensemble reading calendar positions${mode === 'many' ? ', three series taking turns with series inputs' : ''}, one reading in seven missing; ${control} over the same rows when each also makes one small object`);
+      // The control proves the count can see an allocation of one small object per row.
+      expect(control).toBeGreaterThan(0);
+      expect(collections).toBe(0);
+    }
   });
 
   it('takes missing readings where the model records a rule: markers and NaN filled in the window as recorded, a flag input per column with holes', async () => {

@@ -49,4 +49,16 @@ describe('metadata against its model', () => {
     // loadModel checks it too, before building anything.
     expect(() => loadModel(classes)).toThrowError(/metadata\.classes/);
   });
+
+  it('checks each series of a model of many as one series, naming the series\' own field', async () => {
+    // Two columns and a 0/1 input per series of two: four inputs.
+    const wide = { ...forecaster, input: { kind: 'values' as const, width: 4 } };
+    const own = { normalisation: { mean: [0, 1], deviation: [1, 2] } };
+    const panel = { idColumn: 'site', idInputs: true, series: [{ id: 'north', ...own }, { id: 'south', normalisation: { mean: [0, 1], deviation: [1, 0] } }] };
+    const { normalisation: _unused, ...shared } = goodForecast;
+    const file = await fileOf(wide as unknown as typeof forecaster, { ...shared, panel });
+    expect(() => checkMetadata(file)).toThrowError('Bad weight file at metadata.panel.series[1].normalisation.deviation[1]: expected a finite number > 0, received 0');
+    const good = await fileOf(wide as unknown as typeof forecaster, { ...shared, panel: { ...panel, series: [panel.series[0], { id: 'south', ...own }] } });
+    expect(() => checkMetadata(good)).not.toThrow();
+  });
 });

@@ -145,11 +145,13 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
   const kept = probes.filter((p) => fits(p, window));
   const dropped = probes.filter((p) => !fits(p, window));
   const need = needed(Math.max(given.has('window') ? 0 : least, window + horizon + 1));
+  // What binds: two seasons (or 24 rows) to train on, or the window and the horizon.
+  const needWords = `${!given.has('window') && least > window + horizon + 1 ? (season === null ? '24 rows to train on' : `two seasons of ${season} rows to train on`) : `a ${window}-row window`}, ${horizon} row${horizon === 1 ? '' : 's'} ahead and the validation and test parts`;
   if (dropped.length > 0 && short === 'refuse') {
     const p = dropped[0];
-    fail('bad_data', fieldPath(table, p.rows[0], id.index), `at least ${need} rows for series ${JSON.stringify(p.name)} (a ${window}-row window, ${horizon} row${horizon === 1 ? '' : 's'} ahead and its validation and test parts; --short-series skip leaves such series out)`, `${p.count} rows`);
+    fail('bad_data', fieldPath(table, p.rows[0], id.index), `at least ${need} rows for series ${JSON.stringify(p.name)} (${needWords}; --short-series skip leaves such series out)`, `${p.count} rows`);
   }
-  if (kept.length === 0) fail('bad_data', fieldPath(table, 0, id.index), `a series with at least ${need} rows (a ${window}-row window, ${horizon} row${horizon === 1 ? '' : 's'} ahead and its validation and test parts)`, `${probes.length} series of at most ${Math.max(...probes.map((p) => p.count))} rows`);
+  if (kept.length === 0) fail('bad_data', fieldPath(table, 0, id.index), `a series with at least ${need} rows (${needWords})`, `${probes.length} series of at most ${Math.max(...probes.map((p) => p.count))} rows`);
   // Every series flags the columns any series has holes in, so all read the same inputs.
   const flagged = [...new Set(kept.flatMap((p) => p.read.columns.filter((_, j) => p.read.missing[j] > 0)))];
   const settings: SeriesPreparation = { ...options, season, window, examples: 'sliding', given: new Set([...given, 'window']) };
@@ -186,7 +188,7 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
   const testRows = kept.map((p) => p.count - seriesParts(p.count, options).testStart);
   const notes = [
     `many series: ${ids.length} series named in column ${JSON.stringify(id.name)}${id.found ? ' (found: its names share times; --id-column to choose another, none for one series)' : ''}, one model across them, each read on its own scale${options.idInputs === true ? ', with a 0/1 input per series' : ''}`,
-    ...(dropped.length === 0 ? [] : [`left out ${dropped.length} series shorter than the ${need} rows a ${window}-row window, ${horizon} row${horizon === 1 ? '' : 's'} ahead and their parts need: ${dropped.slice(0, 5).map((p) => `${JSON.stringify(p.name)} (${p.count} rows from line ${table.rows[p.rows[0]].line})`).join(', ')}${dropped.length > 5 ? `, and ${dropped.length - 5} more` : ''} (--short-series refuse to stop instead)`]),
+    ...(dropped.length === 0 ? [] : [`left out ${dropped.length} series shorter than the ${need} rows needed (${needWords}): ${dropped.slice(0, 5).map((p) => `${JSON.stringify(p.name)} (${p.count} rows from line ${table.rows[p.rows[0]].line})`).join(', ')}${dropped.length > 5 ? `, and ${dropped.length - 5} more` : ''} (--short-series refuse to stop instead)`]),
     ...[...new Set(parts.flatMap((p) => p.notes.filter((n) => !n.startsWith('note: column'))))],
   ];
   const sizes = [...new Set(testRows)];

@@ -7,7 +7,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { IntervalScoreSum, baselineIntervals, conformalHalfWidth, forecastBaselines, reportLines, verdict } from '@weft/io';
+import { IntervalScoreSum, baselineErrors, baselineIntervals, conformalHalfWidth, forecastBaselines, reportLines, verdict } from '@weft/io';
 import type { SeriesSplit } from '@weft/io';
 
 describe('prediction intervals', () => {
@@ -61,5 +61,10 @@ describe('prediction intervals', () => {
     const report = { metric: 'MAE', lowerIsBetter: true, what: 'w', model: { name: 'model', description: '', value: 1 }, baselines: [{ name: 'naive', description: '', value: 2, intervals: scores }], names: ['y'], intervals: { ...scores, msis: scores.msis! / 2 } };
     expect(reportLines(report)).toContain(`  the baselines' intervals, each made the same way from its own validation errors: lowest MSIS naive ${Number(scores.msis!.toPrecision(4))} (coverage 50.0%, mean width 4); the model's ${Number((scores.msis! / 2).toPrecision(4))} is lower (better) by 50.0%`);
     expect(verdict(report)).toMatch(/^verdict: the model beats every baseline/);
+    // The errors those intervals come from, given out for pooling (panel.ts), and half-widths given back.
+    expect(baselineErrors(split, fitted, 5)[naive]).toEqual([[3, -2, 1]]);
+    const given = baselineIntervals(split, fitted, 0.5, 5, fitted.scores.map(() => [1]))[naive];
+    // 6 ± 1 misses 10, 10 ± 1 holds 9: coverage 1/2, width 2.
+    expect([given.coverage, given.meanWidth]).toEqual([0.5, 2]);
   });
 });

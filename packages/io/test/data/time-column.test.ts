@@ -3,7 +3,7 @@
  * offsets) checked against JavaScript's own `Date.UTC` (ECMA-262 §21.4.1.28), and the spacing of rows.
  */
 import { describe, expect, it } from 'vitest';
-import { parseTime, timeSpacing } from '@weft/io';
+import { calendarCopies, parseTable, parseTime, readTimeColumn, timeSpacing } from '@weft/io';
 
 describe('times in a column', () => {
   it('reads dates, date-times with offsets, year-months, year-quarters and years as UTC', () => {
@@ -30,5 +30,15 @@ describe('times in a column', () => {
     expect(timeSpacing(Array.from({ length: 30 }, (_, i) => Date.UTC(2000, i, 1)))).toEqual({ unit: 'months', seasons: [12] });
     expect(timeSpacing(Array.from({ length: 12 }, (_, i) => Date.UTC(2000, 3 * i, 1)))).toEqual({ unit: 'quarters', seasons: [4] });
     expect(timeSpacing([0, 5_000, 17_000, 18_000])).toBeNull();
+  });
+
+  it('takes the column of most distinct times when several look like times, and names columns that repeat its calendar', () => {
+    const rows = Array.from({ length: 24 }, (_, r) => `${2020 + Math.floor(r / 12)},${(r % 12) + 1},${2020 + Math.floor(r / 12)}-${String((r % 12) + 1).padStart(2, '0')}-01,${r * 3}`);
+    const table = parseTable(`year,month,date,sales\n${rows.join('\n')}\n`, { file: 'x.csv' });
+    // "year" is named like a time and holds years (2 distinct); "date" holds 24 distinct dates.
+    const time = readTimeColumn(table)!;
+    expect(time.name).toBe('date');
+    // Year and month number equal the date's UTC calendar (ECMA-262 Date getters); sales does not.
+    expect(calendarCopies(table, time)).toEqual(['year', 'month']);
   });
 });
