@@ -156,6 +156,12 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     expect(result.heldOutText).toMatch(/^parts of the series, in time order: training lines 2–321 \(320 rows\); validation, for stopping and keeping weights, lines 322–361 \(40 rows\); test, scored once at the end, lines 362–401 \(40 rows\)\n/);
     expect(result.heldOutText).toMatch(/\n {2}model +MAE [\d.]+ {2}RMSE/);
     expect(result.heldOutText).toMatch(/\nverdict: the model (beats every baseline|does NOT beat the baseline)/);
+    // The 95% intervals the chart shades: their half-width and their coverage of the 40 test values, as weft train
+    // words it (the coverage counted here from the chart's own numbers).
+    const half = held.halfWidth!;
+    expect(half).toBeGreaterThan(0);
+    const inside = held.actual!.filter((a, i) => Math.abs(a - held.forecast![i]) <= half).length;
+    expect(result.heldOutText).toContain(`prediction intervals at 95% (split conformal on the validation part's errors): coverage ${(100 * inside / 40).toFixed(1)}% of 40 values`);
     console.log(result.heldOutText);
     expect(await page.isVisible('#forecast-chart')).toBe(true);
     mkdirSync(artifacts, { recursive: true });

@@ -64,8 +64,8 @@ export class LossChart {
   }
 }
 
-/** The held-out part of a series and the model's one-step forecasts of it, on one scale. */
-export function drawForecast(canvas: HTMLCanvasElement, actual: readonly number[], forecast: readonly number[]): void {
+/** The held-out part of a series and the model's one-step forecasts of it, with the band of its intervals, on one scale. */
+export function drawForecast(canvas: HTMLCanvasElement, actual: readonly number[], forecast: readonly number[], halfWidth = NaN): void {
   const context = canvas.getContext('2d');
   if (context === null) return;
   const { width, height } = canvas;
@@ -74,7 +74,8 @@ export function drawForecast(canvas: HTMLCanvasElement, actual: readonly number[
   context.fillRect(0, 0, width, height);
   context.strokeStyle = '#999';
   context.strokeRect(pad, 8, width - 2 * pad, height - pad - 8);
-  const all = [...actual, ...forecast].filter(Number.isFinite);
+  const band = Number.isFinite(halfWidth);
+  const all = [...actual, ...forecast, ...(band ? forecast.flatMap((f) => [f - halfWidth, f + halfWidth]) : [])].filter(Number.isFinite);
   if (all.length === 0) return;
   const low = all.reduce((a, b) => Math.min(a, b), Infinity);
   const high = all.reduce((a, b) => Math.max(a, b), -Infinity);
@@ -88,6 +89,15 @@ export function drawForecast(canvas: HTMLCanvasElement, actual: readonly number[
     values.forEach((v, i) => (i === 0 ? context.moveTo(x(i), y(v)) : context.lineTo(x(i), y(v))));
     context.stroke();
   };
+  // The band first, the forecast ± the half-width, under both lines.
+  if (band) {
+    context.fillStyle = 'rgba(44, 111, 187, 0.18)';
+    context.beginPath();
+    forecast.forEach((f, i) => (i === 0 ? context.moveTo(x(i), y(f + halfWidth)) : context.lineTo(x(i), y(f + halfWidth))));
+    for (let i = forecast.length - 1; i >= 0; i--) context.lineTo(x(i), y(forecast[i] - halfWidth));
+    context.closePath();
+    context.fill();
+  }
   // The held-out values wide and pale, so a close forecast drawn over them leaves them visible.
   line(actual, '#bbb', 4);
   line(forecast, '#2c6fbb', 1.5);

@@ -96,7 +96,7 @@ function showHeldOut(heldOut: HeldOut): void {
   const canvas = $<HTMLCanvasElement>('forecast-chart');
   canvas.hidden = heldOut.actual === undefined;
   $('forecast-legend').hidden = heldOut.actual === undefined;
-  if (heldOut.actual !== undefined && heldOut.forecast !== undefined) drawForecast(canvas, heldOut.actual, heldOut.forecast);
+  if (heldOut.actual !== undefined && heldOut.forecast !== undefined) drawForecast(canvas, heldOut.actual, heldOut.forecast, heldOut.halfWidth);
 }
 
 async function useWeights(text: string): Promise<void> {

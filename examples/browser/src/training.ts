@@ -58,7 +58,12 @@ export interface HeldOut {
   /** The test values and the model's one-step forecasts of them (numbers only). */
   readonly actual?: readonly number[];
   readonly forecast?: readonly number[];
+  /** The half-width of the model's 95% prediction intervals (numbers only; Infinity when the validation part is too short). */
+  readonly halfWidth?: number;
 }
+
+/** The level of the prediction intervals the page draws and scores. */
+export const INTERVAL_LEVEL = 0.95;
 
 /** The shares of the data for validation and for the test, as `weft train`'s defaults. */
 export const VALIDATION_SHARE = 0.1;
@@ -163,11 +168,14 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
     const tape = new Tape({ recording: false });
     const outputs = Array.from(model.run(tape, tensor([...streams.values], [values.length, 1, 1], 'f32')).outputs.data);
     tape.clear();
-    const report = series.heldOut(outputs.slice(0, values.length - 1), 1);
+    // 95% intervals from the validation part's errors (split conformal, as weft train makes them), scored too.
+    const made = outputs.slice(0, values.length - 1);
+    const halfWidth = series.intervals(made, 1, INTERVAL_LEVEL);
+    const report = series.heldOut(made, 1, { level: INTERVAL_LEVEL, halfWidth });
     const { mean, deviation } = series.metadata.normalisation as { mean: number[]; deviation: number[] };
     const positions: number[] = [];
     for (let t = testStart - 1; t + 1 < values.length; t++) positions.push(t);
-    return { report, lines: reportLines(report), actual: positions.map((t) => values[t + 1]), forecast: positions.map((t) => outputs[t] * deviation[0] + mean[0]) };
+    return { report, lines: reportLines(report), actual: positions.map((t) => values[t + 1]), forecast: positions.map((t) => outputs[t] * deviation[0] + mean[0]), halfWidth: halfWidth[0] };
   };
   return { model, trainer, threads, metadata: series.metadata, heldOut };
 }

@@ -3,7 +3,9 @@
  * "<target> in <rows>" columns), and with `--ahead` the rows past the end.
  */
 import type { Runtime } from '@weft/io/runtime';
-import { createRowForecaster, fieldPath, forecastPanel, seriesMetadata } from '@weft/io';
+import { createRowForecaster, fieldPath, forecastIntervals, forecastPanel, seriesMetadata } from '@weft/io';
+import { TraceRecorder } from './forecast-plot.js';
+import type { ForecastTrace } from './forecast-plot.js';
 import type { Table } from '@weft/io';
 import { CommandError } from './errors.js';
 
@@ -18,8 +20,10 @@ export type EachRow = (table: Table, row: number, emit: (record: OutputRecord) =
  * from the forecasts before it: the model's forecast of every column is fed back as the next row, which needs a
  * model that forecasts all its input columns one row ahead.
  */
-export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean) {
+export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean, plotTitle: string | null = null) {
   const model = createRowForecaster(runtime, meta);
+  // With --plot: the first target's values and its nearest forecasts, for the picture.
+  const recorder = plotTitle === null ? null : new TraceRecorder(plotTitle === '' ? model.outputNames[0] : `${plotTitle}: ${model.outputNames[0]}`, model.rowsAhead[0]);
   const raw: Record<string, string> = {};
   let at: number[] | null = null;
   let kept: number[] = [];
@@ -61,6 +65,7 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
         model.outputNames.forEach((target, j) => {
           const i = s * targets + j;
           record[`${target} in ${k}`] = Number(made[i].toPrecision(6));
+          if (j === 0) recorder?.forecastAt(rows - 1 + k, made[i], bounds?.halfWidth[i] ?? NaN);
           if (bounds !== null) {
             record[`${target} in ${k} low`] = shown(made[i] - bounds.halfWidth[i]);
             record[`${target} in ${k} high`] = shown(made[i] + bounds.halfWidth[i]);
@@ -90,6 +95,7 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
       if (j < 0) throw new CommandError(`${fieldPath(table, 0, (at as number[])[model.readNames.length - 1])}: ${(error as Error).message}`);
       throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`);
     }
+    recorder?.add(row - 1, model.takesMissing || raw[model.outputNames[0]].trim() !== '' ? Number(raw[model.outputNames[0]]) : NaN, ready ? made[0] : NaN, bounds?.halfWidth[0] ?? NaN);
     const record: OutputRecord = marked ? { row, made: 'from data' } : { row };
     keptNames = kept.map((c) => table.header[c]);
     kept.forEach((c) => (record[table.header[c]] = fields[c]));
@@ -103,7 +109,7 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
     });
     emit(record);
   };
-  return { each, ahead, checkAhead };
+  return { each, ahead, checkAhead, traces: (): ForecastTrace[] => (recorder === null ? [] : [recorder.trace()]), level: bounds?.level ?? null };
 }
 
 
@@ -112,7 +118,7 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
  * column, which leads each record), rows numbered within their series; `--ahead` forecasts past the end of every
  * series, in the order the series first appeared. A series the model was not trained on is an error at its cell.
  */
-export function seriesForecasts(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean) {
+export function seriesForecasts(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean, plot = false) {
   const panel = forecastPanel(meta)!;
   const bySeries = new Map<string, { forecasts: ReturnType<typeof rowForecasts>; rows: number }>();
   let idAt = -1;
@@ -123,7 +129,7 @@ export function seriesForecasts(runtime: Runtime, meta: Record<string, unknown>,
     if (!panel.ids.includes(id)) throw new CommandError(`${fieldPath(table, 0, idAt)}: ${JSON.stringify(id.slice(0, 80))} is not a series the model was trained on (${panel.ids.slice(0, 6).map((s) => JSON.stringify(s)).join(', ')}${panel.ids.length > 6 ? `, … ${panel.ids.length} in all` : ''})`);
     let series = bySeries.get(id);
     if (series === undefined) {
-      series = { forecasts: rowForecasts(runtime, seriesMetadata(meta, id), name, keep.filter((c) => c !== panel.idColumn), marked), rows: 0 };
+      series = { forecasts: rowForecasts(runtime, seriesMetadata(meta, id), name, keep.filter((c) => c !== panel.idColumn), marked, plot ? id : null), rows: 0 };
       bySeries.set(id, series);
     }
     series.forecasts.each(table, ++series.rows, withId(id, emit));
@@ -134,6 +140,8 @@ export function seriesForecasts(runtime: Runtime, meta: Record<string, unknown>,
     ahead: (_rows: number, count: number, emit: (record: OutputRecord) => void) => {
       for (const [id, series] of bySeries) series.forecasts.ahead(series.rows, count, withId(id, emit));
     },
+    traces: (): ForecastTrace[] => [...bySeries.values()].flatMap((s) => s.forecasts.traces()),
+    level: forecastIntervals(meta, Array.isArray((meta.intervals as { halfWidth?: unknown[] } | undefined)?.halfWidth) ? (meta.intervals as { halfWidth: unknown[] }).halfWidth.length : 0)?.level ?? null,
   };
 }
 

@@ -27,6 +27,8 @@ import { columnsAt, rowForecasts, seriesForecasts } from './run-forecasts.js';
 import { boundedLines, tableRecords } from './stream-table.js';
 import type { EachRow, OutputRecord } from './run-forecasts.js';
 import { runTransduction } from './transduce.js';
+import { forecastSvg } from './forecast-plot.js';
+import { basename } from 'node:path';
 import { utf8Text } from './text-bytes.js';
 
 export const runFlags: FlagSpec[] = [
@@ -35,6 +37,7 @@ export const runFlags: FlagSpec[] = [
   { name: 'ahead', value: 'ROWS', description: 'after the last row, forecast this many rows more: from the last row by a model forecasting every row up to its horizon at once (weft train --horizon on sliding windows), else each from the forecast before it (a model forecasting every column 1 row ahead)' },
   { name: 'beam', value: 'WIDTH', description: 'beam search of this width instead of greedy decoding (pairs)', fallback: '1' },
   { name: 'attention-map', value: 'FILE.svg', description: 'draw the attention weights of the first output (pairs, with attention)' },
+  { name: 'plot', value: 'FILE.svg', description: 'draw each series\' values, the forecasts made for them and the band of the prediction intervals (forecast; the last 240 rows of each series)' },
   { name: 'out', value: 'FILE', description: 'write here instead of standard output' },
   backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
@@ -129,7 +132,9 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   } else if (meta.task === 'forecast' || meta.task === 'classification') {
     const ahead = args.flags.has('ahead') ? numberFlag(args, 'ahead', 1, { whole: true, min: 1, max: 100000 }) : 0;
     if (ahead > 0 && meta.task !== 'forecast') throw new CommandError('--ahead needs a forecast model', 2);
-    const forecast = meta.task !== 'forecast' ? null : meta.panel !== undefined ? seriesForecasts(runtime, meta, name, keep, ahead > 0) : rowForecasts(runtime, meta, name, keep, ahead > 0);
+    const plot = args.flags.get('plot');
+    if (plot !== undefined && meta.task !== 'forecast') throw new CommandError('--plot draws forecasts: it needs a forecast model', 2);
+    const forecast = meta.task !== 'forecast' ? null : meta.panel !== undefined ? seriesForecasts(runtime, meta, name, keep, ahead > 0, plot !== undefined) : rowForecasts(runtime, meta, name, keep, ahead > 0, plot === undefined ? null : '');
     if (forecast !== null && ahead > 0) forecast.checkAhead(ahead);
     const each = forecast?.each ?? classifier(runtime, meta, name, keep);
     let row = 0;
@@ -140,6 +145,7 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
       if (row === 0) throw new CommandError(`${name}: no rows to forecast ahead from`);
       forecast.ahead(row, ahead, (record) => output.add(record));
     }
+    if (forecast !== null && plot !== undefined) writeFileAtomic(plot, forecastSvg(forecast.traces(), `weft run ${basename(modelPath)} on ${basename(name)}`, forecast.level));
   } else if (meta.task === 'next-token') {
     const text = utf8Text(fromStdin ? readFileSync(0) : readFileSync(dataPath), name);
     const translator = createTranslator(meta);

@@ -87,6 +87,12 @@ describe('many series through the command', () => {
       compared++;
     });
     expect(compared).toBe(14 * (122 - 23));
+    // --plot draws every series with its band, each captioned with how many of its values the band holds.
+    const picture = join(folder, 'industries.svg');
+    await runModel(parseArgs('run', [out, unemployment, '--plot', picture], runFlags), () => undefined);
+    const svg = readFileSync(picture, 'utf8');
+    for (const s of report.series!) expect(svg).toMatch(new RegExp(`>${s.id}: count: \\d+ of \\d+ values inside the band<`));
+    expect(svg.match(/<polygon /g)!.length).toBeGreaterThanOrEqual(14);
   }, 120_000);
 
   it('refuses a short series when asked, series out of time order, an unknown series and an interval level outside (0, 1), in one line each', () => {
