@@ -18,11 +18,9 @@
  * exchangeable (series and times differ), so the coverage on the test part is measured and reported.
  */
 import { fail } from '@weft/core';
-import type { ForecastErrors } from './scores.js';
 import { readSeries } from './series.js';
 import { chooseSeason } from './seasonality.js';
-import { conformalHalfWidth } from './intervals.js';
-import type { IntervalScores } from './intervals.js';
+import { panelReport, pooledBaselineWidths, pooledHalfWidths } from './panel-report.js';
 import { insertSkippedTimes } from './skipped-times.js';
 import { interpolated } from './missing.js';
 import { seriesParts } from './series-checks.js';
@@ -30,7 +28,6 @@ import { columnNamed, decimal, fieldPath } from './table.js';
 import type { Table } from './table.js';
 import { readTimeColumn } from './time-column.js';
 import type { TimeColumn } from './time-column.js';
-import type { Contender, HeldOutReport, SeriesFigures } from './verdict.js';
 import type { PanelPart, PreparedSeries, SeriesPreparation, SeriesWindows, WindowExample } from './series-types.js';
 
 /** The column that names each series of a long table. */
@@ -217,7 +214,7 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
       ...(given.has('epochs') ? {} : { epochs }),
       ...(given.has('patience') ? {} : { patience: 5 }),
       ...(given.has('hidden') ? {} : { hidden: 32 }),
-      said: `sliding windows of ${ids.length} series: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${season === null ? 'no season' : `two seasons of ${season} rows`}, at most a quarter of the shortest series' training rows)`}${horizon > 1 ? `, forecasting rows 1 to ${horizon} ahead at once` : ''}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override)`,
+      said: `sliding windows of ${ids.length} series${options.hybrid === true ? ' on top of each one\'s best exponential smoothing method' : ''}: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${season === null ? 'no season' : `two seasons of ${season} rows`}, at most a quarter of the shortest series' training rows)`}${horizon > 1 ? `, forecasting rows 1 to ${horizon} ahead at once` : ''}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override)`,
     },
     validationFigure: (outputs, width) => {
       const figures = slices(validationCounts, outputs, width).map((slice, i) => parts[i].validationFigure(slice, width));
@@ -233,81 +230,5 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
       ]);
     },
     intervals: (outputs, width, level) => pooledHalfWidths(slices(validationCounts, outputs, width).map((slice, i) => parts[i].validationErrors!(slice, width)), parts.map((p) => p.scales!), level).flat(),
-  };
-}
-
-/**
- * Per series, half-widths per row ahead and target from the pooled errors of every series (`errors[i][c]`, series i,
- * row ahead and target c), each divided by its series' scale of that target: the pooled conformal quantile times the
- * series' scale.
- */
-export function pooledHalfWidths(errors: readonly (readonly (readonly number[])[])[], scales: readonly (readonly number[])[], level: number): number[][] {
-  const targets = scales[0].length;
-  const quantiles = errors[0].map((_, c) => conformalHalfWidth(errors.flatMap((e, i) => e[c].map((v) => v / usable(scales[i][c % targets]))), level));
-  return errors.map((_, i) => quantiles.map((q, c) => q * usable(scales[i][c % targets])));
-}
-
-/**
- * Per series, per baseline in its own order, the half-widths pooled across the series that have that baseline
- * (`errors[i]`: series i's baselines, each with its errors per row ahead and target; `scales[i]`: its scale per target).
- */
-export function pooledBaselineWidths(errors: readonly (readonly { readonly name: string; readonly errors: readonly (readonly number[])[] }[])[], scales: readonly (readonly number[])[], level: number): number[][][] {
-  const byName = new Map<string, number[][]>();
-  for (const name of new Set(errors.flatMap((e) => e.map((b) => b.name)))) {
-    const having = errors.flatMap((e, i) => (e.some((b) => b.name === name) ? [i] : []));
-    const widths = pooledHalfWidths(having.map((i) => errors[i].find((b) => b.name === name)!.errors), having.map((i) => scales[i]), level);
-    having.forEach((i, n) => byName.set(`${i}:${name}`, [widths[n]]));
-  }
-  return errors.map((e, i) => e.map((b) => byName.get(`${i}:${b.name}`)![0]));
-}
-
-/** A scale that divides: a series that never changed has scale 0, and its errors count in its own units. */
-const usable = (scale: number) => (scale > 0 && Number.isFinite(scale) ? scale : 1);
-
-/**
- * The figures of many series in one report: per series the model's MASE and each baseline's; overall, the mean over
- * series for the model and for each baseline method fitted to every series (a method missing from some series, such
- * as a seasonal one where a series has no room for it, is left out of the means, and said).
- */
-export function panelReport(ids: readonly string[], reports: readonly HeldOutReport[], what: string, context: readonly string[]): HeldOutReport {
-  const mase = (c: Contender | undefined) => c?.overall?.mase ?? NaN;
-  const names = reports[0].baselines.map((b) => b.name).filter((name) => reports.every((r) => r.baselines.some((b) => b.name === name)));
-  const dropped = [...new Set(reports.flatMap((r) => r.baselines.map((b) => b.name)))].filter((n) => !names.includes(n));
-  const mean = (values: readonly number[]) => values.reduce((a, b) => a + b, 0) / values.length;
-  const meanErrors = (pick: (r: HeldOutReport) => Contender | undefined): ForecastErrors => {
-    const all = reports.map((r) => pick(r)?.overall);
-    const smapes = all.map((e) => e?.smape).filter((v): v is number => typeof v === 'number');
-    return { mae: NaN, rmse: NaN, mape: null, smape: smapes.length === all.length ? mean(smapes) : null, mase: mean(all.map((e) => e?.mase ?? NaN)), count: all.reduce((n, e) => n + (e?.count ?? 0), 0) };
-  };
-  const pooled = (pick: (r: HeldOutReport) => IntervalScores | undefined): IntervalScores | undefined => {
-    const scores = reports.map(pick);
-    if (scores.some((s) => s === undefined)) return undefined;
-    const all = scores as IntervalScores[];
-    const count = all.reduce((n, s) => n + s.count, 0);
-    const weighted = (f: (s: IntervalScores) => number) => all.reduce((sum, s) => sum + f(s) * s.count, 0) / count;
-    return { level: all[0].level, coverage: weighted((s) => s.coverage), meanWidth: NaN, msis: all.every((s) => s.msis !== null) ? weighted((s) => s.msis as number) : null, count };
-  };
-  const contender = (name: string, description: string, pick: (r: HeldOutReport) => Contender | undefined): Contender => {
-    const overall = meanErrors(pick);
-    const intervals = pooled((r) => pick(r)?.intervals ?? (name === 'model' ? r.intervals : undefined));
-    return { name, description, value: overall.mase ?? NaN, overall, ...(intervals === undefined ? {} : { intervals }) };
-  };
-  const { intervals: modelIntervals, ...model } = contender('model', '', (r) => r.model);
-  const baselines = names.map((name) => contender(name, `fitted to each series on its own`, (r) => r.baselines.find((b) => b.name === name)));
-  const series: SeriesFigures[] = reports.map((r, i) => {
-    const own = names.map((name) => ({ name, value: mase(r.baselines.find((b) => b.name === name)) }));
-    const best = own.reduce((a, b) => (b.value < a.value ? b : a));
-    return { id: ids[i], model: mase(r.model), baselines: own, best: best.name };
-  });
-  return {
-    metric: 'MASE',
-    lowerIsBetter: true,
-    what,
-    model,
-    baselines,
-    names: reports[0].names,
-    context: [...context, ...(dropped.length === 0 ? [] : [`left out of the means: ${dropped.join(', ')} (not fitted to every series)`])],
-    series,
-    ...(modelIntervals === undefined ? {} : { intervals: modelIntervals }),
   };
 }

@@ -73,7 +73,12 @@ export interface PanelPart {
   /** Columns with a "was missing" input in every series (those with holes in any). */
   readonly flagged: readonly string[];
   /** The series' place among them, for 0/1 series inputs (absent without them). */
-  readonly code?: { readonly index: number; readonly count: number };
+  readonly code?: {
+    /** This series' place, from 0. */
+    readonly index: number;
+    /** How many series there are. */
+    readonly count: number;
+  };
 }
 
 /** One training example of sliding windows: the window's numbers, row-major, and its targets. */
@@ -188,7 +193,12 @@ export interface PreparedSeries {
   /** Per target, the MASE scale (in-sample seasonal naive error over the fitting rows). */
   readonly scales?: readonly number[];
   /** Sliding windows: each baseline's name and validation errors as `validationErrors` gives the model's (in the report's order). */
-  baselineErrors?(): { readonly name: string; readonly errors: number[][] }[];
+  baselineErrors?(): {
+    /** The baseline's short name. */
+    readonly name: string;
+    /** Its errors per row ahead and target (rows ahead outer). */
+    readonly errors: number[][];
+  }[];
 }
 
 /** Prediction intervals of a forecast model: forecast ± halfWidth, per row ahead and target (rows ahead outer). */

@@ -68,7 +68,12 @@ export interface SeriesFigures {
   /** The model's MASE. */
   readonly model: number;
   /** Each baseline's MASE, in the report's order of baselines. */
-  readonly baselines: readonly { readonly name: string; readonly value: number }[];
+  readonly baselines: readonly {
+    /** The baseline's short name. */
+    readonly name: string;
+    /** Its MASE on the series' test part. */
+    readonly value: number;
+  }[];
   /** The series' best baseline on its test part. */
   readonly best: string;
 }
