@@ -49,6 +49,17 @@ export function textOf(pieces: readonly string[], tokens: 'characters' | 'words'
 }
 
 /** Reads a pairs CSV/TSV; an empty side or a target over the limit is an error at its file:line:column. */
+/**
+ * The longest source an encoder-decoder reads from a file, in tokens: its encoder's outputs and the attention over
+ * them grow with the source, so a longer one is refused in one line before any is made (on either backend).
+ */
+export const MAX_SOURCE_TOKENS = 10_000;
+
+/** The one-line refusal of a source past MAX_SOURCE_TOKENS at `where` (file:line:column). */
+export function checkSourceLength(length: number, where: string, tokens: 'characters' | 'words'): void {
+  if (length > MAX_SOURCE_TOKENS) fail('bad_data', where, `a source of at most ${MAX_SOURCE_TOKENS.toLocaleString('en')} ${tokens} (weft's limit for an encoder-decoder's source)`, `${length.toLocaleString('en')} ${tokens}`);
+}
+
 export function readPairs(text: string, file: string, options: PairsReadOptions): TextPairs {
   const table = parseTable(text, { file });
   const at = (name: string, flag: string): number => {
@@ -66,6 +77,7 @@ export function readPairs(text: string, file: string, options: PairsReadOptions)
     const target = tokensOf(row.fields[targetAt].trim(), options.tokens);
     if (source.length === 0) fail('bad_data', fieldPath(table, r, sourceAt), `a source of at least one ${options.tokens === 'characters' ? 'character' : 'word'}`, 'an empty field');
     if (target.length === 0) fail('bad_data', fieldPath(table, r, targetAt), `a target of at least one ${options.tokens === 'characters' ? 'character' : 'word'}`, 'an empty field');
+    checkSourceLength(source.length, fieldPath(table, r, sourceAt), options.tokens);
     if (target.length > options.maxTarget) fail('bad_data', fieldPath(table, r, targetAt), `a target of at most ${options.maxTarget} ${options.tokens} (the decoder's limit, --max-target)`, `${target.length}`);
     sources.push(source);
     targets.push(target);

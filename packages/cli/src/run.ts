@@ -30,6 +30,7 @@ import { runTransduction } from './transduce.js';
 import { forecastSvg } from './forecast-plot.js';
 import { basename } from 'node:path';
 import { utf8Text } from './text-bytes.js';
+import { csvCell } from './terminal.js';
 
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
@@ -52,7 +53,6 @@ function softmax(row: ArrayLike<number>): number[] {
   return e.map((v) => v / total);
 }
 
-const csvCell = (v: string | number): string => (typeof v === 'string' && /[",\n\r]/.test(v) ? `"${v.replace(/"/g, '""')}"` : String(v));
 
 /** Where output rows go: written as they come (CSV to a stream), or gathered (JSON, or a file written at the end). */
 class Output {

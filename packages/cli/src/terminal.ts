@@ -27,6 +27,21 @@ export function shown(text: string, max = MAX_VALUE): string {
   return text.length > max ? `${safe}… (${text.length - max} more characters)` : safe;
 }
 
+/**
+ * A value written as data (a CSV cell of `weft run`): every control character escaped as `shown` escapes it, except
+ * tab, line feed and carriage return, which a quoted CSV field holds as they are; nothing cut.
+ */
+export function dataText(text: string): string {
+  return text.replace(unsafe, (c) => (c === '\t' || c === '\n' || c === '\r' ? c : escape(c)));
+}
+
+/** A CSV cell of output: a number as it is, text with its control characters escaped (dataText) and quoted where CSV needs it (RFC 4180). */
+export function csvCell(value: string | number): string {
+  if (typeof value !== 'string') return String(value);
+  const safe = dataText(value);
+  return /[",\n\r]/.test(safe) ? `"${safe.replace(/"/g, '""')}"` : safe;
+}
+
 /** One line of output: every character escaped as `shown` does, at most `MAX_LINE` characters. */
 export function line(text: string): string {
   return shown(text, MAX_LINE);

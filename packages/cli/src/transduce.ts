@@ -16,7 +16,8 @@ import { numberFlag } from './args.js';
 import { attentionMapSvg } from './attention-map.js';
 import { chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
-import { decodeText, readPairs, sourceIds, textOf, tokensOf, transductionMeta, transductionReport } from './pairs.js';
+import { checkSourceLength, decodeText, readPairs, sourceIds, textOf, tokensOf, transductionMeta, transductionReport } from './pairs.js';
+import { csvCell } from './terminal.js';
 import type { TransductionMeta } from './pairs.js';
 import type { HeldOutReport } from './datasets.js';
 import { scoredItems } from './scored-part.js';
@@ -38,13 +39,19 @@ function sourcesOf(text: string, name: string, meta: TransductionMeta): { source
     lines.forEach((line, r) => {
       if (line === '') fail('bad_data', fieldPath(table, r, at), 'a source of at least one token', 'an empty field');
     });
-    return { sources: lines.map((l) => tokensOf(l, meta.tokens)), lines };
+    const sources = lines.map((l) => tokensOf(l, meta.tokens));
+    sources.forEach((source, r) => checkSourceLength(source.length, fieldPath(table, r, at), meta.tokens));
+    return { sources, lines };
   }
-  const lines = text.split(/\r?\n/).map((l) => l.trim()).filter((l) => l !== '');
-  return { sources: lines.map((l) => tokensOf(l, meta.tokens)), lines };
+  const numbered = text.split(/\r?\n/).map((l, i) => ({ line: l.trim(), at: i + 1 })).filter((l) => l.line !== '');
+  const sources = numbered.map((l) => {
+    const source = tokensOf(l.line, meta.tokens);
+    checkSourceLength(source.length, `${name}:${l.at}:1`, meta.tokens);
+    return source;
+  });
+  return { sources, lines: numbered.map((l) => l.line) };
 }
 
-const csvCell = (v: string): string => (/[",\n\r]/.test(v) ? `"${v.replace(/"/g, '""')}"` : v);
 
 /** `weft run` on a transduction model: each source's output, as CSV (source,output) or JSON. */
 export async function runTransduction(file: WeightFile, args: ParsedArgs, modelPath: string, text: string, name: string, format: 'csv' | 'json'): Promise<string> {

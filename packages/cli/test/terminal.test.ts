@@ -9,7 +9,7 @@ import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, describe, expect, it } from 'vitest';
 import { writeWeightFile } from '@weft/io';
-import { MAX_VALUE, line, shown } from '../src/terminal.js';
+import { MAX_VALUE, csvCell, line, shown } from '../src/terminal.js';
 
 const binary = fileURLToPath(new URL('../dist/main.js', import.meta.url));
 const demo = fileURLToPath(new URL('../demo/greenhouse.csv', import.meta.url));
@@ -49,6 +49,13 @@ describe('writing to the terminal', () => {
     expect(shown('a\nweft: forged\u001b]0;title\u0007')).toBe('a\\nweft: forged\\u{1b}]0;title\\u{7}');
     expect(shown('x'.repeat(MAX_VALUE + 5))).toBe(`${'x'.repeat(MAX_VALUE)}… (5 more characters)`);
     expect(line('tab\there')).toBe('tab\\there');
+  });
+
+  it('writes data cells with control characters escaped and CSV quoting kept (RFC 4180: quotes doubled, line breaks inside quotes)', () => {
+    expect(csvCell('ab\u001b[31mred\u0007\u0000')).toBe('ab\\u{1b}[31mred\\u{7}\\u{0}');
+    expect(csvCell('two\nlines, "quoted"')).toBe('"two\nlines, ""quoted"""');
+    expect(csvCell('a\tb')).toBe('a\tb');
+    expect(csvCell(1.5)).toBe('1.5');
   });
 
   it('shows a hostile tensor name and metadata key as escaped text in weft inspect', async () => {

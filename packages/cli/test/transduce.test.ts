@@ -74,4 +74,18 @@ describe('weft on source/target pairs', () => {
     writeFileSync(join(folder, 'sources.csv'), 'source,note\nab-cd,first\n,second\n');
     expectOneLineError(weft(['run', 'codes.weft.json', 'sources.csv']), 1, /^weft: Bad data at sources\.csv:3:1: expected a source of at least one token, received an empty field$/);
   });
+
+  it('refuses a source past 10,000 tokens at its line on either backend, and escapes control characters in CSV output', () => {
+    const long = `ab\n${'a'.repeat(10_001)}\n`;
+    for (const backend of ['javascript', 'webassembly']) {
+      expectOneLineError(weft(['run', 'codes.weft.json', '-', '--backend', backend], long), 1, /^weft: Bad data at <stdin>:2:1: expected a source of at most 10,000 characters \(weft's limit for an encoder-decoder's source\), received 10,001 characters$/);
+    }
+    writeFileSync(join(folder, 'long.csv'), `source,target\nab,AB\n${'c'.repeat(10_001)},C\n`);
+    expectOneLineError(weft(['score', 'codes.weft.json', 'long.csv']), 1, /^weft: Bad data at long\.csv:3:1: expected a source of at most 10,000 characters/);
+    // A source holding ESC, BEL and NUL: the CSV shows them escaped (the terminal never receives them raw).
+    const run = weft(['run', 'codes.weft.json', '-'], 'a\u001b[2Jb\u0007\u0000c\n');
+    expect(run.code).toBe(0);
+    expect(run.out.split('\n')[1]).toMatch(/^a\\u\{1b\}\[2Jb\\u\{7\}\\u\{0\}c,/);
+    expect(run.out).not.toMatch(/[\u0000-\u0008\u001b]/);
+  });
 });
