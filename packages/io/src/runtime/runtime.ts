@@ -60,6 +60,12 @@ export class Runtime {
   readonly streamable: boolean;
   /** The forward kernels and the memory this runtime computes in. */
   readonly backend: ForwardBackend;
+  /**
+   * True (the default) to refuse a NaN or infinite input value at the boundary, naming its place, before it can
+   * poison a stream's state for good. A program whose inputs are finite by construction may set it false to skip
+   * the check on a hot path; a non-finite value then flows into the state unchecked.
+   */
+  checksFinite = true;
   private readonly embedding: Float32Array | null;
   private readonly embeddingWidth: number;
   private readonly layers: readonly RuntimeLayer[];
@@ -218,7 +224,7 @@ export class Runtime {
     }
     if (input.length !== positions * this.inputWidth) fail('shape_mismatch', where, `${positions * this.inputWidth} numbers (${positions} × ${this.inputWidth})`, `${input.length}`);
     // A NaN or infinity would poison a stream's state for good: refused at the boundary, naming its place.
-    for (let i = 0; i < input.length; i++) if (!Number.isFinite(input[i])) fail('not_finite', `${where}[${i}]`, 'a finite number', String(input[i]));
+    if (this.checksFinite) for (let i = 0; i < input.length; i++) if (!Number.isFinite(input[i])) fail('not_finite', `${where}[${i}]`, 'a finite number', String(input[i]));
     if (into !== undefined) {
       for (let i = 0; i < input.length; i++) into[i] = input[i];
       return into;

@@ -175,6 +175,20 @@ describe('misused streams', () => {
     expect(Array.from(streams.step(x))).toEqual(Array.from(reference.step(x)));
   });
 
+  it('skip the finite check of inputs where a trusted hot path turns it off, and otherwise give the same outputs', async () => {
+    const runtime = await runtimeFor(shaken(small, 14));
+    const checked = runtime.streams(1);
+    const x = Float32Array.of(0.5, -0.25, 1);
+    const expected = Array.from(checked.step(x));
+    runtime.checksFinite = false;
+    const trusted = runtime.streams(1);
+    expect(Array.from(trusted.step(x))).toEqual(expected);
+    // Unchecked, a NaN flows into the state (IEEE 754: NaN propagates through every arithmetic operation).
+    expect(Array.from(trusted.step(Float32Array.of(NaN, 0, 0))).every(Number.isNaN)).toBe(true);
+    runtime.checksFinite = true;
+    expect(() => checked.step(Float32Array.of(NaN, 0, 0))).toThrowError(/^Non-finite value at Streams\.step\.input\[0\]/);
+  });
+
   it('refuse whole runs of a negative length, and lengths that are not whole numbers', async () => {
     const runtime = await runtimeFor(shaken(small, 13));
     expect(() => runtime.run(new Float32Array(3), -1, 1)).toThrowError('Invalid argument at Runtime.run.steps: expected a whole number ≥ 0, received -1');
