@@ -1,4 +1,7 @@
-/** A small line chart on a canvas: training loss, validation loss (dots) and gradient norm (own scale). */
+/**
+ * Line charts on canvases: training loss and validation loss (dots) on one, and the gradient norm on a small one of
+ * its own (it has its own units, and drawn over the losses it hid them).
+ */
 import type { ChartPoint } from './protocol.js';
 
 export class LossChart {
@@ -6,9 +9,11 @@ export class LossChart {
   readonly validation: ChartPoint[] = [];
   readonly gradientNorm: ChartPoint[] = [];
   private readonly canvas: HTMLCanvasElement;
+  private readonly normCanvas: HTMLCanvasElement | null;
 
-  constructor(canvas: HTMLCanvasElement) {
+  constructor(canvas: HTMLCanvasElement, normCanvas: HTMLCanvasElement | null = null) {
     this.canvas = canvas;
+    this.normCanvas = normCanvas;
   }
 
   clear(): void {
@@ -26,41 +31,57 @@ export class LossChart {
   }
 
   draw(): void {
-    const context = this.canvas.getContext('2d');
-    if (context === null) return;
-    const { width, height } = this.canvas;
-    const pad = 36;
-    context.fillStyle = 'white';
-    context.fillRect(0, 0, width, height);
-    context.strokeStyle = '#999';
-    context.strokeRect(pad, 8, width - 2 * pad, height - pad - 8);
-    const steps = Math.max(1, ...this.training.map((p) => p.step), ...this.validation.map((p) => p.step));
-    const losses = [...this.training, ...this.validation].map((p) => p.value).filter(Number.isFinite);
-    const high = Math.max(1e-9, ...losses);
-    const norms = this.gradientNorm.map((p) => p.value).filter(Number.isFinite);
-    const normHigh = Math.max(1e-9, ...norms);
-    const x = (step: number) => pad + ((width - 2 * pad) * step) / steps;
-    const y = (value: number, top: number) => 8 + (height - pad - 8) * (1 - value / top);
-    const line = (points: ChartPoint[], top: number, colour: string) => {
-      context.strokeStyle = colour;
-      context.beginPath();
-      points.forEach((p, i) => (i === 0 ? context.moveTo(x(p.step), y(p.value, top)) : context.lineTo(x(p.step), y(p.value, top))));
-      context.stroke();
-    };
-    line(this.gradientNorm, normHigh, '#bbb');
-    line(this.training, high, '#2c6fbb');
+    const largest = (values: readonly number[], floor: number) => values.reduce((a, b) => (Number.isFinite(b) && b > a ? b : a), floor);
+    const steps = largest([...this.training.map((p) => p.step), ...this.validation.map((p) => p.step)], 1);
+    const losses = [...this.training, ...this.validation].map((p) => p.value);
+    const high = largest(losses, 1e-9);
+    const low = losses.reduce((a, b) => (Number.isFinite(b) && b < a ? b : a), Infinity);
+    // A log scale where the losses span more than a decade, so the first steps do not flatten the rest.
+    const frame = this.frame(this.canvas, steps, high, low > 0 && high / low > 10 ? low : null);
+    if (frame === null) return;
+    const { context, x, y } = frame;
+    frame.line(this.training, '#2c6fbb');
     context.fillStyle = '#c0392b';
     for (const p of this.validation) {
       context.beginPath();
-      context.arc(x(p.step), y(p.value, high), 3, 0, 2 * Math.PI);
+      context.arc(x(p.step), y(p.value), 3, 0, 2 * Math.PI);
       context.fill();
     }
+    if (this.normCanvas === null) return;
+    const norms = this.frame(this.normCanvas, steps, largest(this.gradientNorm.map((p) => p.value), 1e-9));
+    norms?.line(this.gradientNorm, '#777');
+  }
+
+  /**
+   * A cleared canvas with its frame and labels (the lowest and highest value on the left, the last step below), and
+   * its scales: linear from 0, or logarithmic from `logLow`.
+   */
+  private frame(canvas: HTMLCanvasElement, steps: number, high: number, logLow: number | null = null) {
+    const context = canvas.getContext('2d');
+    if (context === null) return null;
+    const { width, height } = canvas;
+    const pad = 36;
+    const bottom = height > 120 ? pad : 16;
+    context.fillStyle = 'white';
+    context.fillRect(0, 0, width, height);
+    context.strokeStyle = '#999';
+    context.strokeRect(pad, 8, width - 2 * pad, height - bottom - 8);
+    const x = (step: number) => pad + ((width - 2 * pad) * step) / steps;
+    const share = logLow === null ? (value: number) => value / high : (value: number) => Math.log(value / logLow) / Math.log(high / logLow);
+    const y = (value: number) => 8 + (height - bottom - 8) * (1 - share(value));
     context.fillStyle = '#333';
     context.font = '11px sans-serif';
     context.fillText(high.toPrecision(3), 2, 16);
-    context.fillText('0', 2, height - pad);
-    context.fillText(`step ${steps}`, width - pad - 40, height - 10);
-    context.fillText(normHigh.toPrecision(3), width - pad + 2, 16);
+    context.fillText(logLow === null ? '0' : logLow.toPrecision(3), 2, height - bottom);
+    if (logLow !== null) context.fillText('log scale', pad + 4, 20);
+    if (bottom === pad) context.fillText(`step ${steps}`, width - pad - 40, height - 10);
+    const line = (points: readonly ChartPoint[], colour: string) => {
+      context.strokeStyle = colour;
+      context.beginPath();
+      points.forEach((p, i) => (i === 0 ? context.moveTo(x(p.step), y(p.value)) : context.lineTo(x(p.step), y(p.value))));
+      context.stroke();
+    };
+    return { context, x, y, line };
   }
 }
 

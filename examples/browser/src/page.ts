@@ -14,7 +14,7 @@ import type { HeldOut, TrainingConfig } from './training.js';
 
 const $ = <T extends HTMLElement>(id: string) => document.getElementById(id) as T;
 const worker = new Worker(new URL('./worker.js', import.meta.url), { type: 'module' });
-const chart = new LossChart($<HTMLCanvasElement>('chart'));
+const chart = new LossChart($<HTMLCanvasElement>('chart'), $<HTMLCanvasElement>('norm-chart'));
 const status = $('status');
 const output = $('output');
 let weightFile: string | null = null;

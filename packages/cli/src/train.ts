@@ -354,7 +354,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     await threads?.close();
   }
   await saveCheckpoint(checkpoint, trainer, model, metadataFor(trainer));
-  writeFileAtomic(curve, lossCurveSvg(history.training, history.validation, `weft train ${basename(dataPath)}: ${cell} ${task}`));
+  writeFileAtomic(curve, lossCurveSvg(history.training, history.validation, `weft train ${basename(dataPath)}: ${cell} ${task}`, summary.keptStep));
   if (summary.stoppedBy === 'signal') {
     log(`interrupted at step ${summary.steps}; checkpoint written to ${checkpoint}`);
     log(`resume with: ${resumeCommand(args, checkpoint)}`);

@@ -33,3 +33,26 @@ describe('a long run\'s loss curve', () => {
     expect(svg.length).toBeLessThan(64 * 1024);
   });
 });
+
+describe('the loss curve\'s scales', () => {
+  it('ticks at round values: 1, 2 or 5 times a power of ten, and each decade of a log scale', async () => {
+    const { logTicks, roundTicks } = await import('../src/plot.js');
+    expect(roundTicks(0, 1)).toEqual([0, 0.2, 0.4, 0.6, 0.8, 1]);
+    expect(roundTicks(0, 58_000, 6)).toEqual([0, 10_000, 20_000, 30_000, 40_000, 50_000]);
+    expect(roundTicks(0.0031, 0.0097)).toEqual([0.004, 0.006, 0.008]);
+    expect(logTicks(0.05, 5)).toEqual([0.05, 0.1, 0.2, 0.5, 1, 2, 5]);
+    expect(logTicks(1e-4, 10)).toEqual([1e-4, 1e-3, 0.01, 0.1, 1, 10]);
+  });
+
+  it('smooths the training loss by a centred moving mean (mathjs mean of each window)', async () => {
+    const { mean } = await import('mathjs');
+    const { smoothed } = await import('../src/plot.js');
+    const losses = [5, 1, 4, 1, 5, 9, 2, 6];
+    const line = smoothed(losses.map((loss, i) => ({ step: i + 1, loss })), 1);
+    expect(line.map((p) => p.step)).toEqual([1, 2, 3, 4, 5, 6, 7, 8]);
+    line.forEach((p, i) => expect(p.loss).toBeCloseTo(mean(losses.slice(Math.max(0, i - 1), i + 2)) as number, 12));
+    // A long run is drawn with at most MAX_PLOTTED smoothed points.
+    const { MAX_PLOTTED } = await import('../src/plot.js');
+    expect(smoothed(Array.from({ length: 58_000 }, (_, i) => ({ step: i + 1, loss: 1 }))).length).toBeLessThanOrEqual(MAX_PLOTTED);
+  });
+});
