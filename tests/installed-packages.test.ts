@@ -7,7 +7,9 @@
  * In Debian's Chromium: (B) a page with nothing but an import map onto the installed files (no bundler) trains
  * and streams, ending at the same loss bits as Node; (C) on a plain-http origin that is not a secure context
  * (a made-up host name mapped to the loopback server by Chromium's host-resolver rules), a weight file loads with
- * its digest verified (by the plain-TypeScript SHA-256, since such a page has no Web Crypto).
+ * its digest verified (by the plain-TypeScript SHA-256, since such a page has no Web Crypto). In Deno and Bun
+ * (helpers/engines.ts: their npm registry packages at exact versions, on linux-x64), the same ES module as in Node:
+ * the same training loss bits, weight file text, forecasts of both runtimes and character model outputs, bit for bit.
  */
 import { execFileSync, spawnSync } from 'node:child_process';
 import { copyFileSync, existsSync, lstatSync, mkdirSync, mkdtempSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
@@ -18,6 +20,7 @@ import { tmpdir } from 'node:os';
 import { extname, join, normalize } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { chromium } from 'playwright-core';
+import { otherEngines } from './helpers/engines.js';
 import type { Browser } from 'playwright-core';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 
@@ -31,7 +34,7 @@ if (!browserAvailable && process.env.CI !== undefined) throw new Error(`${execut
 const folder = mkdtempSync(join(tmpdir(), 'weft-installed-'));
 const tarballs = join(folder, 'tarballs');
 const project = join(folder, 'project');
-let nodeResult: { missing: number; backend: string; steps: number; firstLoss: number; lastLoss: number; lastLossBits: string; digestVerified: boolean; forecasts: number[][]; refused: string; savedVerified: boolean; text: string };
+let nodeResult: { missing: number; backend: string; steps: number; firstLoss: number; lastLoss: number; lastLossBits: string; digestVerified: boolean; forecasts: number[][]; textModel: { losses: string[]; outputs: string[] }; refused: string; savedVerified: boolean; text: string };
 
 function run(command: string, args: string[], cwd: string): { status: number | null; stdout: string; stderr: string } {
   // The consumer runs on the default backend whatever this suite's WEFT_BACKEND, as the page does, so the two
@@ -175,6 +178,33 @@ function importMap(): Record<string, string> {
   return imports;
 }
 
+const engines = otherEngines();
+
+describe.skipIf(engines.length === 0)('the installed packages in Deno and Bun, from their registry packages', () => {
+  for (const engine of engines) {
+    it(`${engine.name} ${engine.version}: the same training, weight file, forecasts and text model outputs as Node, to the bit`, () => {
+      nodeResult ??= JSON.parse(run('node', ['node-esm.mjs'], project).stdout);
+      const [command, args] = engine.command('node-esm.mjs');
+      const result = run(command, args, project);
+      expect(result.status, result.stderr).toBe(0);
+      const other = JSON.parse(result.stdout) as typeof nodeResult;
+      console.log(`${engine.name} ${engine.version}: backend ${other.backend}, ${other.steps} steps, last loss bits ${other.lastLossBits} (Node ${nodeResult.lastLossBits}); text model's last loss bits ${other.textModel.losses.at(-1)} (Node ${nodeResult.textModel.losses.at(-1)})`);
+      expect(other.missing).toBe(0);
+      expect(other.backend).toBe(nodeResult.backend);
+      expect(other.steps).toBe(nodeResult.steps);
+      expect(other.lastLossBits).toBe(nodeResult.lastLossBits);
+      // Both runtimes (WebAssembly and JavaScript) forecast the same numbers as in Node, and the weight file it wrote
+      // is the same text.
+      expect(other.forecasts).toEqual(nodeResult.forecasts);
+      expect(other.text).toBe(nodeResult.text);
+      // The character model: 20 steps' loss bits and 30 steps of the runtime's outputs, every bit.
+      expect(other.textModel.losses).toHaveLength(20);
+      expect(other.textModel).toEqual(nodeResult.textModel);
+      expect([other.digestVerified, other.savedVerified, other.refused]).toEqual([true, true, 'WeftError bad_weight_file']);
+    }, 180_000);
+  }
+});
+
 describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an import map and no bundler', () => {
   let browser: Browser;
   let server: Server;
@@ -224,6 +254,7 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
     expect(result.steps).toBe(nodeResult.steps);
     expect(result.lastLossBits).toBe(nodeResult.lastLossBits);
     expect(result.forecasts).toEqual(nodeResult.forecasts);
+    expect(result.textModel).toEqual(nodeResult.textModel);
     expect(result.refused).toBe('WeftError bad_weight_file');
     await page.close();
   }, 60_000);

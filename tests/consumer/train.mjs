@@ -52,6 +52,7 @@ export async function trainAndForecast() {
     streams.close();
     forecasts.push(out);
   }
+  const textModel = await textModelBits();
   let refused = '';
   try {
     await readWeightFile('{ "format": "something else" }');
@@ -67,9 +68,31 @@ export async function trainAndForecast() {
     lastLossBits: f32Bits(losses[losses.length - 1]),
     digestVerified: read.digestVerified,
     forecasts,
+    textModel,
     refused,
     text,
   };
+}
+
+/**
+ * A character model trained 20 steps on an invented line of text, then run by the runtime over its first 30
+ * characters: the loss bits after each step and the f32 bits of every output, so engines compare exactly.
+ */
+export async function textModelBits() {
+  const line = 'the loom hums at dawn while the dyer stirs a vat of indigo; a shuttle flies left, then right. ';
+  const symbols = [...new Set(line)].sort();
+  const tokens = Int32Array.from(line.repeat(6), (c) => symbols.indexOf(c));
+  const description = { input: { kind: 'embedding', vocabulary: symbols.length, width: 8 }, layers: [{ cell: 'lstm', hidden: 16 }], readout: { width: symbols.length } };
+  const model = buildModel(description, { seed: 5 });
+  const trainer = new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 12 }), optimizer: new AdamRule({ rate: 0.02 }), epochs: 100, seed: 5 });
+  const losses = [];
+  for (let i = 0; i < 20; i++) losses.push(f32Bits(trainer.step()));
+  const runtime = await createRuntime(await writeWeightFile(model.description, modelTensors(model)));
+  const streams = runtime.streams(1);
+  const outputs = [];
+  for (let p = 0; p < 30; p++) outputs.push(Array.from(streams.step(Int32Array.of(tokens[p])), f32Bits).join(''));
+  streams.close();
+  return { losses, outputs };
 }
 
 /** A weight file from elsewhere (fetched by the page), read with its digest checked, and one forecast from it. */
