@@ -1,11 +1,14 @@
 /** Every example runs on a reduced budget and shows what its README says it shows. */
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { fileURLToPath } from 'node:url';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { modelTensors, writeWeightFile } from '@weft/io';
+import { createRowForecaster, modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
+import { parseArgs, train } from '@weft/cli';
+import { trainFlags } from '../packages/cli/src/train.js';
 import { createRuntime } from '@weft/io/runtime';
 
 const folder = mkdtempSync(join(tmpdir(), 'weft-examples-'));
@@ -80,6 +83,40 @@ describe('the examples (reduced budget)', () => {
       expect(Math.abs(value.humidity - (whole[i] * 9 + 80))).toBeLessThan(1e-4);
     });
   });
+
+  it('(g) the edge worker answers a POST of rows with the forecasts createRowForecaster makes, and a bad request with a 400 naming it', async () => {
+    // A small hourly series with a daily cycle, trained by weft train with defaults (a windowed model with intervals).
+    const csv = join(folder, 'hourly.csv');
+    writeFileSync(csv, `time,heat\n${Array.from({ length: 240 }, (_, i) => `${new Date(Date.UTC(2026, 0, 1, i)).toISOString().slice(0, 16)},${(20 + 3 * Math.sin((2 * Math.PI * i) / 24) + 0.3 * Math.sin(i * 1.7)).toFixed(3)}`).join('\n')}\n`);
+    const out = join(folder, 'hourly.weft.json');
+    await train(parseArgs('train', [csv, '--quiet', '--epochs', '3', '--horizon', '3', '--out', out], trainFlags), () => undefined);
+    const model = readFileSync(out, 'utf8');
+    const worker = (await import('../examples/edge-worker/worker.js')).default;
+    const rows = readFileSync(csv, 'utf8').trim().split('\n').slice(1, 61).map((line) => ({ time: line.split(',')[0], heat: line.split(',')[1] }));
+    const post = (body: string) => worker.fetch(new Request('https://forecasts.example/', { method: 'POST', body }), { MODEL: model });
+    const response = await post(JSON.stringify({ rows }));
+    expect(response.status).toBe(200);
+    const answer = await response.json() as { rowsAhead: number[]; forecasts: { heat: number[] }; level: number; low: { heat: number[] }; high: { heat: number[] } };
+    // The same forecasts the library's row forecaster makes at the last row.
+    const direct = createRowForecaster(await createRuntime(model), (await readWeightFile(model)).metadata);
+    const made = new Float64Array(3);
+    for (const row of rows) direct.nextInto(row, made);
+    expect(answer.rowsAhead).toEqual([1, 2, 3]);
+    expect(answer.forecasts.heat).toEqual(Array.from(made));
+    expect(answer.level).toBe(0.95);
+    expect(answer.high.heat.map((h, s) => h - answer.forecasts.heat[s])).toEqual(direct.intervals!.halfWidth);
+    // Bad requests: not JSON, too few rows, a cell that is not a number (named by row and column).
+    expect((await post('not json')).status).toBe(400);
+    const few = await post(JSON.stringify({ rows: rows.slice(0, 3) }));
+    expect([few.status, ((await few.json()) as { error: string }).error]).toEqual([400, `at least ${direct.warmUp} rows (the model's window), got 3`]);
+    const bad = await post(JSON.stringify({ rows: rows.map((r, i) => (i === 7 ? { ...r, heat: 'warm' } : r)) }));
+    expect(bad.status).toBe(400);
+    expect(((await bad.json()) as { error: string }).error).toMatch(/^Bad data at rows\[7\]\.heat: expected a finite number/);
+    expect((await worker.fetch(new Request('https://forecasts.example/'), { MODEL: model })).status).toBe(405);
+    // Nothing but the packages' browser-safe entries: no Node built-in.
+    const source = readFileSync(fileURLToPath(new URL('../examples/edge-worker/worker.ts', import.meta.url)), 'utf8');
+    expect([...source.matchAll(/from '([^']+)'/g)].map((m) => m[1]).sort()).toEqual(['@weft/core', '@weft/io', '@weft/io', '@weft/io/runtime', '@weft/io/runtime']);
+  }, 60_000);
 });
 
 describe('the ONNX example', () => {
