@@ -64,6 +64,52 @@ describe('the examples (reduced budget)', () => {
     expect(result.accuracy).toBeGreaterThan(0.45);
   });
 
+  it('(e) the custom cell\'s reverse-mode gradient agrees with a finite difference extrapolated to h → 0 (Richardson, here) to 1e-7 relative at H = 32, T = 20', async () => {
+    const { MinimalGatedCell } = await import('../examples/custom-cell/minimal-gated-cell.js');
+    const { Random, Tape, multiply, randomUniform, sum } = await import('@weft/core');
+    const { runSequence } = await import('@weft/cells');
+    const cell = new MinimalGatedCell(3, 32, 'f64', 7);
+    const random = new Random('richardson');
+    const inputs = randomUniform([20, 2, 3], random, -1, 1, 'f64');
+    const weights = randomUniform([20, 2, 32], random, -1, 1, 'f64');
+    const loss = (tape: InstanceType<typeof Tape>) => sum(tape, multiply(tape, runSequence(tape, cell, inputs).outputs, weights));
+    const tape = new Tape();
+    const parameters = cell.parameters();
+    for (const p of parameters) p.tensor.gradient = new Float64Array(p.tensor.size);
+    tape.reverseSweep(loss(tape));
+    const value = () => {
+      const quiet = new Tape({ recording: false });
+      return loss(quiet).data[0];
+    };
+    // Central differences D(h) at h, h/2, h/4, then two levels of Richardson's table: (4D(h/2) − D(h))/3, and
+    // (16R(h/2) − R(h))/15, error O(h⁶) (Richardson 1911, as numerical analysis texts state it).
+    let compared = 0;
+    for (const { name, tensor } of parameters) {
+      for (let k = 0; k < 6; k++) {
+        const i = random.integer(tensor.size);
+        const original = tensor.data[i];
+        const difference = (h: number) => {
+          tensor.data[i] = original + h;
+          const up = value();
+          tensor.data[i] = original - h;
+          const down = value();
+          tensor.data[i] = original;
+          return (up - down) / (2 * h);
+        };
+        const [d1, d2, d4] = [difference(1e-3), difference(5e-4), difference(2.5e-4)];
+        const r1 = (4 * d2 - d1) / 3;
+        const r2 = (4 * d4 - d2) / 3;
+        const extrapolated = (16 * r2 - r1) / 15;
+        const reverse = tensor.gradient![i];
+        // Relative to the gradient's size, with a floor of 1e-6 of the loss's scale for entries near zero.
+        expect(Math.abs(reverse - extrapolated) / Math.max(Math.abs(reverse), Math.abs(extrapolated), 1e-6), `${name}[${i}]: reverse ${reverse}, extrapolated ${extrapolated}`).toBeLessThan(1e-7);
+        if (Math.abs(reverse) > 1e-6) compared++;
+      }
+    }
+    // Gradients that are there to compare (a reverse sweep that wrote nothing would agree with nothing else).
+    expect(compared).toBeGreaterThanOrEqual(30);
+  });
+
   it('(f) the edge program streams named readings to the same forecasts as a whole-sequence run, in real units', async () => {
     const { streamReadings } = await import('../examples/edge-stream/main.js');
     const model = buildModel({ input: { kind: 'values', width: 4 }, layers: [{ cell: 'gru', hidden: 8 }], readout: { width: 1 } }, { seed: 1 });

@@ -5,12 +5,12 @@
  */
 import { resolve } from 'node:path';
 import { pathToFileURL } from 'node:url';
-import { Random, add, checkGradients, multiply, randomUniform, sum } from '@weft/core';
-import type { GradientReport, Tape, Tensor } from '@weft/core';
+import { MAX_FAILED_SHOWN, Random, add, checkGradients, multiply, randomUniform, sum } from '@weft/core';
+import type { GradientCheckOptions, GradientReport, Tape, Tensor } from '@weft/core';
 import { GruCell, LstmCell, PlainCell, runSequence } from '@weft/cells';
 import type { RecurrentCell } from '@weft/cells';
 import type { FlagSpec, ParsedArgs } from './args.js';
-import { numberFlag } from './args.js';
+import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 
@@ -21,6 +21,11 @@ export const checkFlags: FlagSpec[] = [
   { name: 'hidden', value: 'NUMBER', description: 'hidden size for the check', fallback: '4' },
   { name: 'steps', value: 'NUMBER', description: 'sequence length (rows have lengths T, T−2, 1)', fallback: '5' },
   { name: 'tolerance', value: 'NUMBER', description: 'largest relative error that passes', fallback: '1e-6' },
+  { name: 'step', value: 'NUMBER', description: 'the finite-difference step h (Richardson extrapolation adds h/2 where needed)', fallback: '1e-5' },
+  { name: 'floor', value: 'NUMBER', description: 'an absolute error under this passes whatever its relative error', fallback: '1e-9' },
+  { name: 'entries', value: 'NUMBER', description: 'check at most this many entries of each tensor, drawn by the seed', fallback: 'every entry' },
+  { name: 'seed', value: 'TEXT', description: 'seed of the check\'s inputs, weights and drawn entries', fallback: 'the cell\'s name' },
+  { name: 'report', value: 'summary|table', description: 'summary: a line per tensor; table: also every failing entry with both values', fallback: 'summary' },
   backendFlag,
   { name: 'quiet', switch: true, description: 'print only the result line (and the reports of checks that fail)' },
   { name: 'debug', switch: true, description: 'show stack traces' },
@@ -28,7 +33,21 @@ export const checkFlags: FlagSpec[] = [
 
 type Maker = (request: { inputWidth: number; hidden: number; dtype: 'f64' }) => RecurrentCell;
 
-function checkCell(cell: RecurrentCell, steps: number, tolerance: number, seed: string): GradientReport {
+/** How one cell is checked (the command's flags; a test gives the same). */
+export interface CellCheckOptions extends Omit<GradientCheckOptions, 'seed' | 'directions'> {
+  /** Sequence length. */
+  readonly steps: number;
+  /** Seed of the inputs, weights and drawn entries. */
+  readonly seed: string;
+}
+
+/**
+ * The gradient check of one cell: a batch of three rows of lengths T, T − 2 and 1 from random initial states, the
+ * loss a weighted sum of its outputs plus the squares of its final state, every parameter, the inputs and the
+ * initial state checked (f64).
+ */
+export function checkCell(cell: RecurrentCell, options: CellCheckOptions): GradientReport {
+  const { steps, seed } = options;
   const random = new Random(seed);
   const batch = 3;
   const inputs = randomUniform([steps, batch, cell.inputWidth], random, -1, 1, 'f64');
@@ -52,7 +71,13 @@ function checkCell(cell: RecurrentCell, steps: number, tolerance: number, seed: 
     let total = sum(tape, multiply(tape, result.outputs, weights));
     for (const s of result.state) total = add(tape, total, sum(tape, multiply(tape, s, s)));
     return total;
-  }, tensors, { tolerance, directions: 2 });
+  }, tensors, { ...options, directions: 2, seed });
+}
+
+/** Every failing entry of a report as table rows: tensor, index, reverse value, finite difference, relative error. */
+function failureTable(report: GradientReport): string {
+  const rows = report.tensors.flatMap((t) => t.failed.map((f) => `  ${t.name}[${f.index.join(', ')}]  reverse ${f.analytic}  finite difference ${f.numeric}  relative error ${f.relativeError.toExponential(2)}`));
+  return rows.length === 0 ? '' : `\nfailing entries (at most ${MAX_FAILED_SHOWN} per tensor, the worst first):\n${rows.join('\n')}`;
 }
 
 export async function check(args: ParsedArgs): Promise<{ text: string; passed: boolean }> {
@@ -61,6 +86,10 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
   const hidden = numberFlag(args, 'hidden', 4, { whole: true, min: 1, max: 64 });
   const steps = numberFlag(args, 'steps', 5, { whole: true, min: 2, max: 50 });
   const tolerance = numberFlag(args, 'tolerance', 1e-6, { min: 1e-14, max: 1 });
+  const step = numberFlag(args, 'step', 1e-5, { min: 1e-12, max: 0.1 });
+  const absoluteFloor = numberFlag(args, 'floor', 1e-9, { min: 0, max: 1 });
+  const entries = args.flags.has('entries') ? numberFlag(args, 'entries', 1, { whole: true, min: 1, max: 1e9 }) : undefined;
+  const table = choiceFlag(args, 'report', ['summary', 'table'] as const, 'summary') === 'table';
   const cells: [string, RecurrentCell][] = [];
   const modulePath = args.flags.get('module');
   if (modulePath !== undefined) {
@@ -98,9 +127,9 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
   const parts: string[] = [];
   let passed = true;
   for (const [label, cell] of cells) {
-    const report = checkCell(cell, steps, tolerance, label);
+    const report = checkCell(cell, { steps, tolerance, step, absoluteFloor, ...(entries === undefined ? {} : { entriesPerTensor: entries }), seed: args.flags.get('seed') ?? label });
     passed = passed && report.passed;
-    if (!args.switches.has('quiet') || !report.passed) parts.push(`${label}:\n${report.text()}`);
+    if (!args.switches.has('quiet') || !report.passed) parts.push(`${label}:\n${report.text()}${table ? failureTable(report) : ''}`);
   }
   parts.push(`${passed ? `all ${cells.length} gradient checks passed` : 'GRADIENT CHECK FAILED'} (backend ${backend.name}; finite differences in f64 run on the JavaScript kernels on every backend)`);
   return { text: parts.join('\n\n'), passed };

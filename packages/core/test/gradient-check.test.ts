@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Random, Tape, checkGradients, exp, multiply, noTensor, randomUniform, sum, tanh, tensor } from '@weft/core';
+import { Random, Tape, add, checkGradients, exp, multiply, noTensor, randomUniform, sum, tanh, tensor } from '@weft/core';
 import type { OperationKind, Tensor } from '@weft/core';
 
 /** A mutant operation: y = x², whose backward deliberately adds 2x + 0.01 instead of 2x. */
@@ -72,21 +72,61 @@ describe('checkGradients', () => {
     );
   });
 
-  it('reports entries that pass only by the absolute floor', () => {
-    // f(x) = x0² + 1e-12·x1²: ∂f/∂x1 = 2e-12·x1 is far under the finite-difference noise (≈ ε·|f|/h ≈ 1e-12),
-    // so its relative error is large while its absolute error is tiny.
+  it('passes an entry within the difference\'s rounding noise, and says so', () => {
+    // f(x) = x0² + 1e-12·x1²: ∂f/∂x1 = 2e-12·x1 is far under the finite-difference noise (≈ ε·|f|/h), so its
+    // relative error is large while its absolute error is within NOISE_GROWTH·ε·(|f(x+h)| + |f(x−h)|)/2h.
     const x = tensor([0.3, 0.7], [2], 'f64');
     x.name = 'x';
     const weights = tensor([1, 1e-12], [2], 'f64');
-    const report = checkGradients((tape) => sum(tape, multiply(tape, multiply(tape, x, x), weights)), [x], { directions: 0 });
+    const report = checkGradients((tape) => sum(tape, multiply(tape, multiply(tape, x, x), weights)), [x], { directions: 0, absoluteFloor: 0 });
     const check = report.tensors[0];
     expect(check.worstOffset).toBe(1);
     expect(check.worstRelativeError).toBeGreaterThan(1e-6);
-    expect(check.passedByFloor).toEqual([1]);
+    expect(check.passedByNoise).toEqual([1]);
     expect(check.passed).toBe(true);
+    expect(report.text()).toContain('1 passed within the difference\'s rounding noise');
+  });
+
+  it('scales the noise bound with the loss: a correct gradient of a loss near 1e6 passes, a wrong one still fails', () => {
+    const x = tensor([0.3, -0.2, 0.5, 0.1, 0.7], [5], 'f64');
+    x.name = 'x';
+    const offset = tensor([1e6], [1], 'f64');
+    const right = checkGradients((tape) => add(tape, sum(tape, multiply(tape, x, x)), sum(tape, offset)), [x], { directions: 0, absoluteFloor: 0 });
+    expect(right.passed).toBe(true);
+    // The mutant square's backward is off by 0.01 at entry 4: far above the noise (about 7e-4 here), it fails.
+    const wrong = checkGradients((tape) => add(tape, sum(tape, wrongSquare(tape, x)), sum(tape, offset)), [x], { directions: 0 });
+    expect(wrong.passed).toBe(false);
+    expect(wrong.tensors[0].failures).toEqual([4]);
+    expect(wrong.tensors[0].failed[0].index).toEqual([4]);
+  });
+
+  it('reports entries that pass only by the absolute floor given', () => {
+    // A backward off by 3e-10 at entry 1: above the noise of a loss near 0.1 and not removed by extrapolation, under
+    // the default floor of 1e-9; with no floor, it fails.
+    const tiny: OperationKind<{ x: Tensor }> = {
+      name: 'tinySlip',
+      saves: () => ({ x: noTensor }),
+      backward(node, tape) {
+        const gx = tape.gradientOf(node.saved.x);
+        for (let i = 0; i < node.saved.x.size; i++) gx[i] += node.output.gradient![i] * 2 * node.saved.x.data[i] + (i === 1 ? 3e-10 : 0);
+      },
+    };
+    const slip = (tape: Tape, x: Tensor) => {
+      const out = tape.output(x.shape, x.dtype, x.tracked);
+      for (let i = 0; i < x.size; i++) out.data[i] = x.data[i] * x.data[i];
+      const saved = tape.record(tiny, out);
+      if (saved !== null) saved.x = x;
+      return out;
+    };
+    const x = tensor([0.3, 0.7], [2], 'f64');
+    x.name = 'x';
+    // Entry 1 weighs 1e-6, so its gradient (1.4e-6) is small enough for the slip to be 2e-4 of it.
+    const weights = tensor([1, 1e-6], [2], 'f64');
+    const loss = (tape: Tape) => sum(tape, multiply(tape, slip(tape, x), weights));
+    const report = checkGradients(loss, [x], { directions: 0 });
+    expect(report.tensors[0].passedByFloor).toEqual([1]);
     expect(report.text()).toContain('1 passed only by the absolute floor');
-    // With no floor, the same entry fails.
-    expect(checkGradients((tape) => sum(tape, multiply(tape, multiply(tape, x, x), weights)), [x], { directions: 0, absoluteFloor: 0 }).passed).toBe(false);
+    expect(checkGradients(loss, [x], { directions: 0, absoluteFloor: 0 }).passed).toBe(false);
   });
 
   it('its central differences have O(h²) error on a function with a known derivative (common practice)', () => {
