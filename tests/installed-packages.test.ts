@@ -147,6 +147,20 @@ describe('the installed packages in Node', () => {
     expect(check.status).toBe(0);
     expect(check.stdout).toMatch(/all \d+ gradient checks passed/);
   }, 60_000);
+
+  it('check a cell written in TypeScript with the installed weft check --module, where this Node strips types (else say what to get)', () => {
+    copyFileSync(fileURLToPath(new URL('../packages/cli/test/fixtures/gated-cell.ts', import.meta.url)), join(project, 'cell.ts'));
+    const result = run(join(project, 'node_modules/.bin/weft'), ['check', '--module', 'cell.ts', '--export', 'makeCell'], project);
+    if ((process.features as { typescript?: unknown }).typescript) {
+      expect(result.stderr).toBe('');
+      expect(result.status).toBe(0);
+      expect(result.stdout).toMatch(/all 1 gradient checks passed/);
+    } else {
+      // Node 20: no type stripping, and the fresh project has no tsx.
+      expect(result.status).toBe(1);
+      expect(result.stderr).toMatch(/^weft: cell\.ts: a TypeScript module needs Node 22\.18 or later/);
+    }
+  }, 60_000);
 });
 
 const types: Record<string, string> = { '.html': 'text/html', '.js': 'text/javascript', '.mjs': 'text/javascript', '.json': 'application/json', '.map': 'application/json' };

@@ -3,8 +3,6 @@
  * composed, or for a cell exported from the user's own module. A module exports (as default, or under
  * --export NAME) a function that makes the cell: ({ inputWidth, hidden, dtype }) => RecurrentCell.
  */
-import { resolve } from 'node:path';
-import { pathToFileURL } from 'node:url';
 import { MAX_FAILED_SHOWN, Random, add, checkGradients, multiply, randomUniform, sum } from '@weft/core';
 import type { GradientCheckOptions, GradientReport, Tape, Tensor } from '@weft/core';
 import { GruCell, LstmCell, PlainCell, runSequence } from '@weft/cells';
@@ -13,9 +11,10 @@ import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
+import { loadUserModule, makerExport } from './user-module.js';
 
 export const checkFlags: FlagSpec[] = [
-  { name: 'module', value: 'FILE', description: 'check the cell your JavaScript module makes instead of the built-in cells' },
+  { name: 'module', value: 'FILE', description: 'check the cell your module makes instead of the built-in cells (JavaScript; TypeScript on Node 22.18+, or with tsx installed beside it)' },
   { name: 'export', value: 'NAME', description: 'the export that makes the cell', fallback: 'default' },
   { name: 'inputs', value: 'NUMBER', description: 'input width for the check', fallback: '3' },
   { name: 'hidden', value: 'NUMBER', description: 'hidden size for the check', fallback: '4' },
@@ -93,16 +92,15 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
   const cells: [string, RecurrentCell][] = [];
   const modulePath = args.flags.get('module');
   if (modulePath !== undefined) {
-    let loaded: Record<string, unknown>;
-    try {
-      loaded = (await import(pathToFileURL(resolve(modulePath)).href)) as Record<string, unknown>;
-    } catch (error) {
-      throw new CommandError(`${modulePath}: could not load the module: ${(error as Error).message.split('\n')[0]}`);
-    }
+    const loaded = await loadUserModule(modulePath);
     const name = args.flags.get('export') ?? 'default';
-    const maker = loaded[name];
-    if (typeof maker !== 'function') throw new CommandError(`${modulePath}: export ${JSON.stringify(name)} is ${typeof maker}, not a function ({ inputWidth, hidden, dtype }) => cell`);
-    const cell = (maker as Maker)({ inputWidth, hidden, dtype: 'f64' });
+    const maker = makerExport<Maker>(loaded, modulePath, name, '({ inputWidth, hidden, dtype }) => cell');
+    let cell: RecurrentCell;
+    try {
+      cell = maker({ inputWidth, hidden, dtype: 'f64' });
+    } catch (error) {
+      throw new CommandError(`${modulePath}: export ${JSON.stringify(name)} threw when asked for a cell of ${inputWidth} inputs and ${hidden} hidden in f64: ${(error as Error).message.split('\n')[0]}`);
+    }
     if (typeof cell !== 'object' || cell === null || typeof cell.step !== 'function' || typeof cell.parameters !== 'function' || !Array.isArray(cell.state)) {
       throw new CommandError(`${modulePath}: export ${JSON.stringify(name)} did not return a cell (an object with state, parameters() and step())`);
     }
