@@ -41,6 +41,18 @@ export interface Translator {
    * target's value in `from` (the row the forecast is made at), by default the last row given to `inputs`.
    */
   outputs(values: ArrayLike<number>, from?: Readonly<Record<string, number | string>>): Record<string, number>;
+  /**
+   * As `outputs`, the targets written into `into` in the order of `outputNames` (values models), allocating
+   * nothing: with `inputs(row, into)` and a runtime stream, a reading goes in and out without making an array.
+   */
+  outputsInto(values: ArrayLike<number>, into: { [index: number]: number; readonly length: number }, from?: Readonly<Record<string, number | string>>): void;
+  /**
+   * As `inputs`, the row given as numbers in the order of `inputNames` (NaN a missing reading, for a model that takes
+   * them), allocating nothing (a row of named numbers costs the engine a box per number it reads).
+   */
+  inputsFromNumbers(values: ArrayLike<number>, into: Float32Array): Float32Array;
+  /** One piece (a character or word, as the model was trained) → its token id, the unknown token's for a piece not in the vocabulary; allocates nothing. */
+  tokenId(piece: string): number;
   /** Text → token ids (as training split text); `unknown` counts the pieces not in the vocabulary. */
   tokenIds(text: string): {
     /** The token id of each piece (the unknown token's id for a piece not in the vocabulary). */
@@ -95,6 +107,18 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
   const flagged = missing === null || metadata.window !== undefined ? [] : missing.flagged;
   const carried = Float64Array.from(missing?.fallback ?? []);
   const width = columns.length + flagged.length;
+  // Per column, its place among the targets (−1 for none), found once.
+  const targetOf = columns.map((name) => targets.indexOf(name));
+  // Target k in real units from the model's output (loops and no closures: nothing is made per reading).
+  const target = (values: ArrayLike<number>, k: number, from: Readonly<Record<string, number | string>> | undefined): number => {
+    const j = targetIndexes[k];
+    if (transform === undefined) return values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0);
+    const name = targets[k];
+    const level = from === undefined ? lastLevels[k] : Number(from[name]);
+    if (!Number.isFinite(level)) throw bad(`outputs.from.${name}`, `the value of ${JSON.stringify(name)} now (the model forecasts its change)`, from === undefined ? 'no row given to inputs() yet' : JSON.stringify(from[name]));
+    const change = values[k] * (transform.deviation[k] ?? 1) + (transform.mean[k] ?? 0);
+    return transform.kind === 'log-returns' ? level * Math.exp(change) : level + change;
+  };
   return {
     inputNames: columns,
     outputNames,
@@ -102,7 +126,8 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
     inputs(row, into, where = 'row') {
       const out = into ?? new Float32Array(width);
       if (out.length !== width) fail('shape_mismatch', `${where} (into)`, `${width} numbers`, String(out.length));
-      columns.forEach((name, j) => {
+      for (let j = 0; j < columns.length; j++) {
+        const name = columns[j];
         if (!Object.prototype.hasOwnProperty.call(row, name)) throw bad(`${where}.${name}`, `a value for column ${JSON.stringify(name)}, which the model reads`, 'nothing');
         const raw = row[name];
         let value = typeof raw === 'number' ? raw : raw.trim() === '' ? NaN : Number(raw);
@@ -110,29 +135,42 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
         else if (!Number.isFinite(value)) throw bad(`${where}.${name}`, isMissing === null ? 'a finite number' : 'a finite number or a missing-reading marker', JSON.stringify(raw));
         else if (missing !== null) carried[j] = value;
         out[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
-        const k = targets.indexOf(name);
-        if (k >= 0) lastLevels[k] = value;
-      });
-      flagged.forEach((j, i) => {
-        const raw = row[columns[j]];
+        if (targetOf[j] >= 0) lastLevels[targetOf[j]] = value;
+      }
+      for (let i = 0; i < flagged.length; i++) {
+        const raw = row[columns[flagged[i]]];
         out[columns.length + i] = (typeof raw === 'number' ? Number.isNaN(raw) : isMissing!(raw)) ? 1 : 0;
-      });
+      }
       return out;
     },
     outputs(values, from) {
       const named: Record<string, number> = {};
-      targets.forEach((name, k) => {
-        const j = targetIndexes[k];
-        if (transform === undefined) {
-          named[name] = values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0);
-          return;
-        }
-        const level = from === undefined ? lastLevels[k] : Number(from[name]);
-        if (!Number.isFinite(level)) throw bad(`outputs.from.${name}`, `the value of ${JSON.stringify(name)} now (the model forecasts its change)`, from === undefined ? 'no row given to inputs() yet' : JSON.stringify(from[name]));
-        const change = values[k] * (transform.deviation[k] ?? 1) + (transform.mean[k] ?? 0);
-        named[name] = transform.kind === 'log-returns' ? level * Math.exp(change) : level + change;
-      });
+      for (let k = 0; k < targets.length; k++) named[targets[k]] = target(values, k, from);
       return named;
+    },
+    outputsInto(values, into, from) {
+      if (into.length < targets.length) fail('shape_mismatch', 'outputsInto.into', `room for ${targets.length} targets`, String(into.length));
+      for (let k = 0; k < targets.length; k++) {
+        const j = targetIndexes[k];
+        into[k] = transform === undefined ? values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0) : target(values, k, from);
+      }
+    },
+    inputsFromNumbers(values, into) {
+      if (values.length !== columns.length) fail('shape_mismatch', 'inputsFromNumbers.values', `${columns.length} numbers (${columns.join(', ')})`, String(values.length));
+      if (into.length !== width) fail('shape_mismatch', 'inputsFromNumbers.into', `${width} numbers`, String(into.length));
+      for (let j = 0; j < columns.length; j++) {
+        let value = values[j];
+        if (Number.isNaN(value) && isMissing !== null) value = carried[j];
+        else if (!Number.isFinite(value)) throw bad(`values[${j}] (${columns[j]})`, isMissing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(value));
+        else if (missing !== null) carried[j] = value;
+        into[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
+        if (targetOf[j] >= 0) lastLevels[targetOf[j]] = value;
+      }
+      for (let i = 0; i < flagged.length; i++) into[columns.length + i] = Number.isNaN(values[flagged[i]]) ? 1 : 0;
+      return into;
+    },
+    tokenId(piece) {
+      return index.get(piece) ?? unknownId;
     },
     tokenIds(text) {
       const pieces = splitTokens(text, mode);

@@ -4,6 +4,8 @@
  * z-score and its inverse), worked by hand here; and tokens split as training split them, with unknown pieces
  * counted and mapped to the unknown token.
  */
+import { execFileSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { weftErrorMessage } from '../../../tests/helpers/errors.js';
 import { UNKNOWN_TOKEN, createTranslator } from '@weft/io';
@@ -73,5 +75,27 @@ describe('createTranslator', () => {
     expect(() => characters.tokenText(4)).toThrowError('Bad data at tokenText.id: expected a token id in [0, 4), received 4');
     const words = createTranslator({ task: 'next-token', tokens: 'words', vocabulary: [UNKNOWN_TOKEN, 'warp', 'weft'] });
     expect(Array.from(words.tokenIds('  warp weft\nloom ').ids)).toEqual([1, 2, 0]);
+  });
+
+  it('gives the same numbers through the allocation-free forms: inputsFromNumbers, outputsInto and tokenId', () => {
+    const row = { inflow: 12, level: 3.5 };
+    const named = Float32Array.from(forecast.inputs(row));
+    expect(Array.from(forecast.inputsFromNumbers(Float64Array.of(12, 3.5), new Float32Array(2)))).toEqual(Array.from(named));
+    const into = new Float64Array(1);
+    forecast.outputsInto(Float32Array.of(0.25), into);
+    expect(into[0]).toBe(forecast.outputs(Float32Array.of(0.25)).level);
+    expect(() => forecast.inputsFromNumbers(Float64Array.of(1), new Float32Array(2))).toThrowError(/^Shape mismatch at inputsFromNumbers\.values: expected 2 numbers \(inflow, level\), received 1$/);
+    expect(() => forecast.inputsFromNumbers(Float64Array.of(1, Infinity), new Float32Array(2))).toThrowError(/^Bad data at values\[1\] \(level\): expected a finite number, received Infinity$/);
+    const text = createTranslator({ task: 'next-token', tokens: 'characters', vocabulary: [UNKNOWN_TOKEN, 'a', 'b'] });
+    expect(['a', 'b', 'z'].map((c) => text.tokenId(c))).toEqual(Array.from(text.tokenIds('abz').ids));
+  });
+
+  it('takes 100,000 readings of a values model and of a text model with a runtime stream and makes no garbage (node --expose-gc, a 1 MB young generation)', () => {
+    const probe = fileURLToPath(new URL('./translate-probe.mjs', import.meta.url));
+    const output = execFileSync(process.execPath, ['--expose-gc', '--max-semi-space-size=1', probe], { encoding: 'utf8' });
+    const { collections, readings, control } = JSON.parse(output.trim().split('\n').at(-1)!) as { collections: number; readings: number; control: number };
+    console.log(`${collections} collections over ${readings} readings of each model; ${control} when each reading also makes one small object`);
+    expect(control).toBeGreaterThan(0);
+    expect(collections).toBe(0);
   });
 });
