@@ -12,6 +12,7 @@ export default defineConfig({
       { find: /^@weft\/core\/kernels$/, replacement: source('./packages/core/src/kernels/index.ts') },
       { find: /^@weft\/core\/forward$/, replacement: source('./packages/core/src/backend/forward-entry.ts') },
       { find: /^@weft\/core\/forward\/javascript$/, replacement: source('./packages/core/src/backend/forward-javascript-entry.ts') },
+      { find: /^@weft\/core\/base$/, replacement: source('./packages/core/src/base-entry.ts') },
       { find: /^@weft\/cells$/, replacement: source('./packages/cells/src/index.ts') },
       { find: /^@weft\/cells\/kernels$/, replacement: source('./packages/cells/src/kernels/index.ts') },
       { find: /^@weft\/cells\/description$/, replacement: source('./packages/cells/src/description-entry.ts') },

@@ -120,7 +120,7 @@ describe('the installed packages in Node', () => {
     expect(result.stderr).toBe('');
     expect(result.status).toBe(0);
     const report = JSON.parse(result.stdout) as { loaded: Record<string, number>; sameErrorType: boolean; sameModule: boolean; draw: number };
-    expect(Object.keys(report.loaded)).toHaveLength(17);
+    expect(Object.keys(report.loaded)).toHaveLength(18);
     for (const [entry, count] of Object.entries(report.loaded)) expect(count, entry).toBeGreaterThan(0);
     expect(report.sameErrorType).toBe(true);
     expect(report.sameModule).toBe(true);
@@ -253,6 +253,33 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
     await page.waitForFunction(() => 'consumer' in window, undefined, { timeout: 30_000 }).catch(() => undefined);
     return { page, errors };
   }
+
+  it('runs the runtime from an import map loading runtime modules only: no tape, trainer, optimiser or package root', async () => {
+    // A page that imports @weft/io/runtime alone and forecasts from Node's weight file; every request is counted.
+    writeFileSync(join(project, 'runtime.html'), `<!doctype html>\n<meta charset="utf-8">\n<title>the runtime alone</title>\n<link rel="icon" href="data:,">\n`
+      + `<script type="importmap">${JSON.stringify({ imports: importMap() })}</script>\n`
+      + `<script type="module">\nimport { createRuntime } from '@weft/io/runtime';\n`
+      + `const runtime = await createRuntime(await (await fetch('/from-node.weft.json')).text());\n`
+      + `window.outputs = Array.from(runtime.streams(1).step(Float32Array.of(0.5)));\nwindow.backend = runtime.backend.name;\n</script>\n`);
+    const page = await browser.newPage();
+    const requested: { url: string; bytes: number }[] = [];
+    page.on('response', async (response) => {
+      const url = new URL(response.url()).pathname;
+      if (url.endsWith('.js')) requested.push({ url, bytes: (await response.body()).length });
+    });
+    await page.goto(`http://127.0.0.1:${port}/runtime.html`);
+    await page.waitForFunction(() => 'outputs' in window, undefined, { timeout: 30_000 });
+    const outputs = await page.evaluate(() => (window as unknown as { outputs: number[] }).outputs);
+    expect(outputs).toHaveLength(1);
+    expect(Number.isFinite(outputs[0])).toBe(true);
+    const modules = requested.map((r) => r.url);
+    const bytes = requested.reduce((n, r) => n + r.bytes, 0);
+    console.log(`the runtime from an import map: ${modules.length} modules, ${bytes} bytes, on ${await page.evaluate(() => (window as unknown as { backend: string }).backend)}`);
+    const training = modules.filter((url) => /\/(tape|trainer|tensor|pool|random|gradient-check)\.js$|\/optim\/|\/ops\/|@weft\/(core|cells|io)\/dist\/index\.js$|\/kernels\/index\.js$/.test(url));
+    expect(training).toEqual([]);
+    expect(modules.length).toBeLessThanOrEqual(45);
+    await page.close();
+  }, 60_000);
 
   it('trains a small model and streams the runtime, ending at the loss bits Node ends at', async () => {
     expect(nodeResult).toBeDefined();

@@ -19,6 +19,7 @@ const withoutLogic: Record<string, string> = {
   'packages/core/src/backend/index.ts': 'an entry: re-exports the backends',
   'packages/core/src/backend/forward-entry.ts': 'the @weft/core/forward entry: re-exports',
   'packages/core/src/backend/forward-javascript-entry.ts': 'the @weft/core/forward/javascript entry: re-exports',
+  'packages/core/src/base-entry.ts': 'the @weft/core/base entry: re-exports',
   'packages/core/src/training-state.ts': 'types only (the training state as plain data)',
   'packages/cells/src/index.ts': 'the package entry: re-exports',
   'packages/cells/src/kernels/index.ts': 'an entry: re-exports core\'s step kernels',

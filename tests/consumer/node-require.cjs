@@ -1,6 +1,6 @@
 // CommonJS consumers: every entry through require(), which Node (from 20.19) answers with the ES module itself,
 // so a CommonJS program and an ES module share one copy of each package (one WeftError, one default backend).
-const entries = ['@weft/core', '@weft/core/kernels', '@weft/core/forward', '@weft/core/forward/javascript', '@weft/cells', '@weft/cells/kernels',
+const entries = ['@weft/core', '@weft/core/kernels', '@weft/core/forward', '@weft/core/forward/javascript', '@weft/core/base', '@weft/cells', '@weft/cells/kernels',
   '@weft/cells/description', '@weft/optim', '@weft/io', '@weft/io/runtime', '@weft/io/runtime/javascript', '@weft/io/runtime/encoder-decoder', '@weft/io/translate', '@weft/io/onnx', '@weft/io/node', '@weft/optim/node', '@weft/cli'];
 const loaded = Object.fromEntries(entries.map((name) => [name, Object.keys(require(name)).length]));
 const { WeftError, Random } = require('@weft/core');

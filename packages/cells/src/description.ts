@@ -12,8 +12,8 @@
  *     "readout": { "width": 64 }         (an affine map of the last layer's outputs; absent or null for none)
  *   }
  */
-import { WeftError, isRecord } from '@weft/core';
-import type { Problem } from '@weft/core';
+import { WeftError, isRecord } from '@weft/core/base';
+import type { Problem } from '@weft/core/base';
 
 /** The cells weft builds itself, by their word in a description. */
 export type BuiltInCellKind = 'lstm' | 'gru' | 'plain';

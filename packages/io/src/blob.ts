@@ -1,5 +1,5 @@
 /** Weight files as Blobs, for pages that download or receive them (File is a Blob). */
-import { fail } from '@weft/core';
+import { fail } from '@weft/core/base';
 import type { ReadOptions, WeightFile } from './weight-file.js';
 import { readWeightFile } from './weight-file.js';
 

@@ -3,7 +3,7 @@
  * otherwise through the plain-TypeScript implementation in `sha256.ts`, loaded only then (browsers give pages
  * that are not secure contexts no `crypto.subtle`). Both give the same digest; a failure is a `WeftError`.
  */
-import { fail } from '@weft/core';
+import { fail } from '@weft/core/base';
 
 /** The SHA-256 digest of `bytes` as 64 lower-case hex digits (Web Crypto where present, else plain TypeScript). */
 export async function sha256Hex(bytes: Uint8Array): Promise<string> {

@@ -2,7 +2,7 @@
  * A weight file's tensors against the layout its description implies (@weft/cells' parameterLayout): every missing
  * tensor, wrong shape and stray tensor, collected, before anything is allocated or built from the file.
  */
-import type { Problem } from '@weft/core';
+import type { Problem } from '@weft/core/base';
 import type { ParameterLayout } from '@weft/cells/description';
 
 export interface NamedShape {

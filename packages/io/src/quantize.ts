@@ -3,7 +3,7 @@
  * (a 1-D tensor is one row), s_r = max|w_r| / 127 and q = round(w / s_r) ∈ [−127, 127]; w ≈ q·s_r. A row of
  * zeros has scale 0 and dequantises to zeros. The largest error per entry is s_r / 2.
  */
-import type { FloatArray } from '@weft/core';
+import type { FloatArray } from '@weft/core/base';
 
 /** Quantises a [rows, cols] tensor row by row into int8 `codes` and one f32 scale per row in `scales` (see above). */
 export function quantizeRows(values: FloatArray, rows: number, cols: number, codes: Int8Array, scales: Float32Array): void {

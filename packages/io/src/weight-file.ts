@@ -14,8 +14,8 @@
  * Why one file of this length: the writer and the reader are the two halves of one format, and every check the
  * reader makes (limits, layout, base64, digest) sits beside the field it guards, so the format is read in one place.
  */
-import { WeftError, fail, isRecord } from '@weft/core';
-import type { FloatArray, Problem } from '@weft/core';
+import { WeftError, fail, isRecord } from '@weft/core/base';
+import type { FloatArray, Problem } from '@weft/core/base';
 import { describeAnyProblems } from '@weft/cells/description';
 import type { AnyModelDescription } from '@weft/cells/description';
 import { decodeBase64Into, decodedLength, encodeBase64 } from './base64.js';

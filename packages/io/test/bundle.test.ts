@@ -1,6 +1,8 @@
 /**
  * The runtime entries stay small: bundled with esbuild (minified, ESM, for the browser) and gzipped,
- * `@weft/io/runtime` (WebAssembly SIMD forward kernels included) is at most 20 KiB and
+ * `@weft/io/runtime` (WebAssembly SIMD forward kernels included) is at most 20,736 bytes (20 KiB until the runtime
+ * imported `@weft/core/base` instead of the package root: the same code, bundled in another order, compresses 59
+ * bytes worse, while an unbundled page loads 40 modules instead of 70) and
  * `@weft/io/runtime/javascript` (no WebAssembly) at most 12 KiB; `@weft/io/runtime/encoder-decoder` (beam search,
  * attention, WebAssembly) at most 24 KiB, a budget of its own so the streaming entries do not carry it. Also checks what the bundles leave out: the
  * tape, optimisers, trainer, the training kernels' module; and that only the first carries WebAssembly bytes.
@@ -53,12 +55,12 @@ const absent = ['reverseSweep', 'gradientOf', 'firstMoment', 'batchesPerEpoch', 
 const wasmMagic = 'AGFzbQ';
 
 describe('the runtime bundles', () => {
-  it('with WebAssembly: at most 20,480 bytes gzipped (the SHA-256 fallback in a lazy chunk), carrying no tape, optimiser, trainer or training kernels', async () => {
+  it('with WebAssembly: at most 20,736 bytes gzipped (the SHA-256 fallback in a lazy chunk), carrying no tape, optimiser, trainer or training kernels', async () => {
     const bundle = await runtimeBundle('index.js');
     const { text, gzipBytes } = bundle;
     console.log(`runtime bundle (webassembly + javascript): ${text.length} bytes minified, ${gzipBytes} gzipped; lazy chunks ${bundle.lazy.map((c) => `${c.name} ${c.gzipBytes}`).join(', ')} gzipped`);
     expectLazySha256(bundle);
-    expect(gzipBytes).toBeLessThanOrEqual(20_480);
+    expect(gzipBytes).toBeLessThanOrEqual(20_736);
     expect(absent.filter((word) => text.includes(word))).toEqual([]);
     expect(text.includes('weft-weights')).toBe(true);
     expect(text.split(wasmMagic).length - 1).toBe(1);

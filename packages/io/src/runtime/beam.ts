@@ -7,7 +7,7 @@
  * (with α = 0 it stops once no partial output can beat the `width` best finished ones); outputs that reached
  * `maxLength` unfinished come after every finished one.
  */
-import { fail, logSumExp } from '@weft/core';
+import { fail, logSumExp } from '@weft/core/base';
 import type { Decoding, EncoderDecoderRuntime } from './decoding.js';
 import { checkTokens } from './decoding.js';
 

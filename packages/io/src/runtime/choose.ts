@@ -4,7 +4,7 @@
  * SIMD module, else JavaScript; WEFT_BACKEND (where a `process` exists and may be read) overrides it, as for
  * training.
  */
-import { fail } from '@weft/core';
+import { fail } from '@weft/core/base';
 import type { ForwardBackend } from '@weft/core/forward';
 import { createForwardWebAssembly, environmentBackendChoice, forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
 import { setForwardChooser } from './forward-default.js';

@@ -9,7 +9,7 @@
  * Why one file of this length: the runtime and its Decoding share the attention weights' layout and the encoder's
  * outputs in the source's order; beam search (beam.ts) is apart because it only steps a Decoding.
  */
-import { WeftError, fail } from '@weft/core';
+import { WeftError, fail } from '@weft/core/base';
 import type { AttentionForm, EncoderDecoderDescription } from '@weft/cells/description';
 import { attentionLayout, isEncoderDecoder } from '@weft/cells/description';
 import type { ForwardBackend } from '@weft/core/forward/javascript';

@@ -2,7 +2,7 @@
  * Text generation with a next-token model: feed the prefix, then sample (or take the arg-max of) each next token
  * and feed it back, on one stream of the runtime.
  */
-import { fail } from '@weft/core';
+import { fail } from '@weft/core/base';
 import type { Runtime } from './runtime.js';
 import type { SamplingOptions, UniformSource } from './sampling.js';
 import { greedy, sample } from './sampling.js';

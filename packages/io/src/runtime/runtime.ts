@@ -11,8 +11,8 @@
  * Why one file of this length: Runtime and Streams share one preallocated buffer layout (weights, per-layer state
  * and scratch); keeping them together keeps that layout in one place.
  */
-import { WeftError, fail } from '@weft/core';
-import type { Problem } from '@weft/core';
+import { WeftError, fail } from '@weft/core/base';
+import type { Problem } from '@weft/core/base';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
 import { isEncoderDecoder, layerPath, modelLayout } from '@weft/cells/description';
 import { layoutProblems } from '../layout-check.js';

@@ -4,7 +4,7 @@
  * the caller's generator (anything with `uniform()`, such as core's seeded Random), so results repeat with the
  * seed. Allocation-free when given a scratch array of the row's width.
  */
-import { fail } from '@weft/core';
+import { fail } from '@weft/core/base';
 
 /** Anything that draws uniform numbers in [0, 1), such as core's seeded `Random`. */
 export interface UniformSource {

@@ -5,7 +5,7 @@
  * one-line error naming what was given. Text is read here; the other forms are turned into text by a module loaded
  * only when one is given (source-forms.ts).
  */
-import { fail } from '@weft/core';
+import { fail } from '@weft/core/base';
 import type { ReadOptions, WeightFile } from '../weight-file.js';
 import { readWeightFile } from '../weight-file.js';
 
