@@ -173,7 +173,10 @@ function serve(): Promise<Server> {
       response.writeHead(404).end();
       return;
     }
-    response.writeHead(200, { 'content-type': types[extname(path)] ?? 'application/octet-stream' }).end(readFileSync(path));
+    // A page named strict-*.html comes with a Content-Security-Policy that allows its nonce's scripts and its own
+    // origin's modules, and not 'wasm-unsafe-eval': no WebAssembly may be compiled on it.
+    const strict = /\/strict-[^/]*\.html$/.test(path) ? { 'content-security-policy': "script-src 'self' 'nonce-weft'" } : {};
+    response.writeHead(200, { 'content-type': types[extname(path)] ?? 'application/octet-stream', ...strict }).end(readFileSync(path));
   });
   return new Promise((resolve) => server.listen(0, '127.0.0.1', () => resolve(server)));
 }
@@ -217,6 +220,20 @@ describe.skipIf(engines.length === 0)('the installed packages in Deno and Bun, f
       expect([other.digestVerified, other.savedVerified, other.refused]).toEqual([true, true, 'WeftError bad_weight_file']);
     }, 180_000);
   }
+
+  it('runs the runtime in Deno with no permission at all (no --allow-env, no --allow-read): the weight file inline, the same outputs as Node', () => {
+    const deno = engines.find((e) => e.name === 'deno')!;
+    nodeResult ??= JSON.parse(run('node', ['node-esm.mjs'], project).stdout);
+    writeFileSync(join(project, 'no-permissions.mjs'), `import { createRuntime } from '@weft/io/runtime';\nconst runtime = await createRuntime(${JSON.stringify(nodeResult.text)});\n`
+      + `const streams = runtime.streams(1);\nconst out = [];\nfor (let i = 0; i < 20; i++) out.push(streams.step(Float32Array.of(Math.sin(i / 3)))[0]);\n`
+      + `console.log(JSON.stringify({ backend: runtime.backend.name, out }));\n`);
+    const [executable] = deno.command('no-permissions.mjs');
+    const denied = run(executable, ['run', 'no-permissions.mjs'], project);
+    expect(denied.status, denied.stderr).toBe(0);
+    const inNode = run('node', ['no-permissions.mjs'], project);
+    expect(JSON.parse(denied.stdout)).toEqual(JSON.parse(inNode.stdout));
+    expect(JSON.parse(denied.stdout).backend).toBe('webassembly');
+  }, 60_000);
 });
 
 describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an import map and no bundler', () => {
@@ -278,6 +295,31 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
     const training = modules.filter((url) => /\/(tape|trainer|tensor|pool|random|gradient-check)\.js$|\/optim\/|\/ops\/|@weft\/(core|cells|io)\/dist\/index\.js$|\/kernels\/index\.js$/.test(url));
     expect(training).toEqual([]);
     expect(modules.length).toBeLessThanOrEqual(45);
+    await page.close();
+  }, 60_000);
+
+  it('runs the runtime on JavaScript, with one console note, on a page whose Content-Security-Policy forbids compiling WebAssembly', async () => {
+    writeFileSync(join(project, 'strict-runtime.html'), `<!doctype html>\n<meta charset="utf-8">\n<title>a strict page</title>\n<link rel="icon" href="data:,">\n`
+      + `<script type="importmap" nonce="weft">${JSON.stringify({ imports: importMap() })}</script>\n`
+      + `<script type="module" nonce="weft">\nimport { createRuntime } from '@weft/io/runtime';\n`
+      + `const runtime = await createRuntime(await (await fetch('/from-node.weft.json')).text());\n`
+      + `window.outputs = Array.from(runtime.streams(1).step(Float32Array.of(0.5)));\nwindow.backend = runtime.backend.name;\n</script>\n`);
+    const page = await browser.newPage();
+    const notes: string[] = [];
+    const errors: string[] = [];
+    page.on('console', (message) => (message.type() === 'warning' ? notes : message.type() === 'error' ? errors : []).push(message.text()));
+    page.on('pageerror', (error) => errors.push(error.message));
+    await page.goto(`http://127.0.0.1:${port}/strict-runtime.html`);
+    await page.waitForFunction(() => 'outputs' in window, undefined, { timeout: 30_000 });
+    const result = await page.evaluate(() => ({ outputs: (window as unknown as { outputs: number[] }).outputs, backend: (window as unknown as { backend: string }).backend }));
+    console.log(`strict page: backend ${result.backend}; notes: ${notes.join(' | ')}`);
+    expect(result.backend).toBe('javascript');
+    expect(notes.filter((n) => /WebAssembly/.test(n))).toHaveLength(1);
+    expect(errors.filter((e) => !/Content Security Policy|wasm-unsafe-eval|WebAssembly/.test(e))).toEqual([]);
+    // The same forecast as the WebAssembly runtime gives elsewhere, to f32 rounding in other summation orders.
+    const { createRuntime } = await import('@weft/io/runtime');
+    const reference = Array.from((await createRuntime(readFileSync(join(project, 'from-node.weft.json'), 'utf8'), { backend: 'javascript' })).streams(1).step(Float32Array.of(0.5)));
+    expect(result.outputs).toEqual(reference);
     await page.close();
   }, 60_000);
 
