@@ -148,6 +148,33 @@ describe('the installed packages in Node', () => {
     expect(check.stdout).toMatch(/all \d+ gradient checks passed/);
   }, 60_000);
 
+  it('bundle an app that makes new Runtime(file) from the installed tarballs with esbuild and with rollup, tree shaking on: it runs on WebAssembly', async () => {
+    const { build } = await import('esbuild');
+    const { rollup } = await import('rollup');
+    const { nodeResolve } = await import('@rollup/plugin-node-resolve');
+    writeFileSync(join(project, 'app.mjs'), "import { Runtime, readWeightFile } from '@weft/io/runtime';\n"
+      + "const text = process.argv[2] === undefined ? null : (await import('node:fs')).readFileSync(process.argv[2], 'utf8');\n"
+      + "const runtime = new Runtime(await readWeightFile(text));\nconsole.log(JSON.stringify({ backend: runtime.backend.name, out: Array.from(runtime.streams(1).step(Float32Array.of(0.5))) }));\n");
+    nodeResult ??= JSON.parse(run('node', ['node-esm.mjs'], project).stdout);
+    writeFileSync(join(project, 'from-node.weft.json'), nodeResult.text);
+    const esbuilt = await build({ entryPoints: [join(project, 'app.mjs')], bundle: true, treeShaking: true, format: 'esm', platform: 'node', write: false, logLevel: 'silent' });
+    expect(esbuilt.warnings.map((w) => w.text)).toEqual([]);
+    writeFileSync(join(project, 'app.esbuild.mjs'), esbuilt.outputFiles[0].contents);
+    const warnings: string[] = [];
+    const bundle = await rollup({ input: join(project, 'app.mjs'), treeshake: true, external: [/^node:/], plugins: [nodeResolve({ rootDir: project, exportConditions: ['import', 'default'] })], onwarn: (w) => warnings.push(w.message) });
+    await bundle.write({ file: join(project, 'app.rollup.mjs'), format: 'es', inlineDynamicImports: true });
+    await bundle.close();
+    expect(warnings).toEqual([]);
+    const direct = JSON.parse(run('node', ['app.mjs', 'from-node.weft.json'], project).stdout);
+    for (const file of ['app.esbuild.mjs', 'app.rollup.mjs']) {
+      const result = run('node', [file, 'from-node.weft.json'], project);
+      expect(result.stderr, file).toBe('');
+      const bundled = JSON.parse(result.stdout);
+      expect(bundled.backend, file).toBe('webassembly');
+      expect(bundled.out, file).toEqual(direct.out);
+    }
+  }, 120_000);
+
   it('check a cell written in TypeScript with the installed weft check --module, where this Node strips types (else say what to get)', () => {
     copyFileSync(fileURLToPath(new URL('../packages/cli/test/fixtures/gated-cell.ts', import.meta.url)), join(project, 'cell.ts'));
     const result = run(join(project, 'node_modules/.bin/weft'), ['check', '--module', 'cell.ts', '--export', 'makeCell'], project);

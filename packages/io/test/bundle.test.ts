@@ -13,8 +13,10 @@
  *
  * An app bundled as a bundler bundles one (esbuild, tree shaking on, the packages resolved through their exports)
  * that imports `Runtime` alone, and not `createRuntime`, keeps the default WebAssembly chooser: `"sideEffects"`
- * names the one module whose import installs it, so no bundler may drop it (esbuild warned and dropped it when the
- * packages said they had no side effects at all). Every runtime entry bundles with zero warnings.
+ * names the module whose import installs it and the two entries that import it, so no bundler may drop it (esbuild
+ * warned and dropped it when the packages said they had no side effects at all; rollup dropped the import itself
+ * while the entries importing it were listed as free of side effects: tests/installed-packages.test.ts bundles the
+ * installed tarballs with both). Every runtime entry bundles with zero warnings.
  */
 import { gzipSync } from 'node:zlib';
 import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
