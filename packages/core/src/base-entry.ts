@@ -1,6 +1,7 @@
 /**
  * `@weft/core/base`: what every entry of weft needs and nothing more: the one error type and its helpers, the
- * plain-record check, and the log-sum-exp the runtime's decoding shares with training. No tensors, no tape, no
+ * plain-record check, the log-sum-exp the runtime's decoding shares with training, and the seeded generator a
+ * program samples from a runtime with. No tensors, no tape, no
  * kernels table: the runtime entries import this instead of the package's root, so a page that loads them
  * unbundled loads no training module.
  */
@@ -8,4 +9,6 @@ export type { Problem, ProblemCode } from './errors.js';
 export { WeftError, describeProblem, fail } from './errors.js';
 export { isRecord } from './records.js';
 export { logSumExp } from './kernels/softmax.js';
+// The seeded generator, for sampling from a runtime (generateTokens, sample) with no training module loaded.
+export { Random } from './random.js';
 export type { DType, FloatArray } from './dtype.js';

@@ -13,6 +13,7 @@ import { WeftError, fail } from '@weft/core/base';
 import type { AttentionForm, EncoderDecoderDescription } from '@weft/cells/description';
 import { attentionLayout, isEncoderDecoder } from '@weft/cells/description';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
+import type { WeightMetadata } from '../weight-file.js';
 import { layoutProblems } from '../layout-check.js';
 import type { BeamOptions, BeamResult } from './beam.js';
 import { searchBeams } from './beam.js';
@@ -97,6 +98,16 @@ export class EncoderDecoderRuntime {
   /** The encoder's output width (hidden × directions of its last layer): what attention weighs. */
   readonly encodedWidth: number;
   private readonly weights: AttentionWeights | null;
+
+  /** The weight file's metadata (vocabularies, tokens), as `Runtime.metadata` gives a sequence model's. */
+  get metadata(): WeightMetadata {
+    return this.encoder.metadata;
+  }
+
+  /** The forward kernels and memory it computes in (the encoder's and the decoder's), as `Runtime.backend`. */
+  get backend(): ForwardBackend {
+    return this.decoder.backend;
+  }
 
   constructor(file: WeightFile, backend?: ForwardBackend) {
     if (!isEncoderDecoder(file.model)) {

@@ -115,6 +115,16 @@ describe('encoder-decoders with attention in the runtime', () => {
     expect(runtime.decode(source, { startToken: START, endToken: END, maxLength: 12, random: new Random('z'), topK: 1 }).tokens).toEqual(greedy);
   });
 
+  it('has the shape of a sequence runtime (metadata, backend), and samples with the generator of @weft/core/base as with the root\'s', async () => {
+    const runtime = await runtimeOf(shaken(description('general', true), 'shape'));
+    expect(runtime.metadata).toBe(runtime.encoder.metadata);
+    expect(runtime.backend.name).toBe('javascript');
+    const { Random: BaseRandom } = await import('@weft/core/base');
+    const source = [2, 3, 4];
+    const options = { startToken: START, endToken: END, maxLength: 8, temperature: 1.2 };
+    expect(runtime.decode(source, { ...options, random: new BaseRandom('same') }).tokens).toEqual(runtime.decode(source, { ...options, random: new Random('same') }).tokens);
+  });
+
   it('with a beam wide enough to keep everything, finds the exhaustive best by length-normalised score (attention on)', async () => {
     const model = shaken(description('general', true), 'exhaustive');
     const runtime = await runtimeOf(model);
