@@ -270,6 +270,13 @@ export class Decoding {
   private readonly zeros: Float32Array;
   private readonly state: Float32Array;
   private readonly gathered: Float32Array;
+  // An encoder whose layers all run forward is streamed token by token into buffers made once (start() then makes
+  // nothing); one with a layer reading backward runs whole (encodeAll), which allocates its outputs.
+  private readonly encoderStreams: Streams | null;
+  private readonly encoderState: Float32Array | null;
+  private readonly encoded: Float32Array;
+  private readonly widths: readonly number[];
+  private readonly token = new Int32Array(1);
 
   constructor(runtime: EncoderDecoderRuntime, rows: number, maxSourceLength: number, attention: AttentionWeights | null) {
     for (const [name, value] of [['rows', rows], ['maxSourceLength', maxSourceLength]] as const) {
@@ -298,9 +305,13 @@ export class Decoding {
     this.attentional = allocate(on * rows * d);
     this.logits = allocate(on * rows * runtime.outputWidth);
     this.zeros = allocate(on * d);
-    const total = runtime.decoder.stateWidths().reduce((n, w) => n + w * rows, 0);
+    this.widths = runtime.decoder.stateWidths();
+    const total = this.widths.reduce((n, w) => n + w * rows, 0);
     this.state = allocate(total);
     this.gathered = allocate(total);
+    this.encoderStreams = runtime.encoder.streamable ? runtime.encoder.streams(1) : null;
+    this.encoderState = this.encoderStreams === null ? null : allocate(this.encoderStreams.readState().length);
+    this.encoded = allocate(this.encoderStreams === null ? 1 : runtime.encoder.outputWidth);
   }
 
   /** Tokens of the source last started. */
@@ -311,21 +322,39 @@ export class Decoding {
   /** Encodes `source` and puts every row at the start of decoding it. */
   start(source: readonly number[] | Int32Array): void {
     if (source.length > this.maxSourceLength) fail('invalid_argument', 'decoding.start.source', `at most ${this.maxSourceLength} tokens (the decoding's maxSourceLength)`, `${source.length}`);
-    const { state, outputs } = this.runtime.encodeAll(source);
     this.length = source.length;
-    const widths = this.runtime.decoder.stateWidths();
+    const attention = this.attention;
+    let state: Float32Array;
+    if (this.encoderStreams !== null && this.encoderState !== null) {
+      if (source.length === 0) fail('invalid_argument', 'encode.source', 'at least one token', 'none');
+      // Token by token, fed in reverse when the model reads its source reversed; each output kept at its source
+      // position (as encodeAll orders them).
+      const length = source.length;
+      const reversed = this.runtime.description.reverseSource === true;
+      const e = this.runtime.encodedWidth;
+      this.encoderStreams.reset();
+      for (let s = 0; s < length; s++) {
+        const at = reversed ? length - 1 - s : s;
+        this.token[0] = source[at];
+        const out = this.encoderStreams.step(this.token, this.encoded);
+        if (attention !== null) for (let j = 0; j < e; j++) this.values[at * e + j] = out[j];
+      }
+      state = this.encoderStreams.readState(this.encoderState);
+    } else {
+      const encoded = this.runtime.encodeAll(source);
+      state = encoded.state;
+      if (attention !== null) this.values.set(encoded.outputs);
+    }
     let from = 0;
     let to = 0;
-    for (const w of widths) {
-      for (let r = 0; r < this.rows; r++) this.state.set(state.subarray(from, from + w), to + r * w);
+    for (const w of this.widths) {
+      for (let r = 0; r < this.rows; r++) for (let j = 0; j < w; j++) this.state[to + r * w + j] = state[from + j];
       from += w;
       to += w * this.rows;
     }
     this.streams.restoreState(this.state);
     this.weights.fill(0);
-    const attention = this.attention;
     if (attention === null) return;
-    this.values.set(outputs);
     if (attention.keys !== null) {
       const d = this.runtime.decoder.outputWidth;
       this.runtime.decoder.backend.kernels.affineRows(this.keys, this.zeros, this.values, attention.keys, source.length, this.runtime.encodedWidth, d);
@@ -398,6 +427,7 @@ export class Decoding {
   /** Gives every buffer back to the runtime's backend; the decoding must not be used afterwards. */
   close(): void {
     this.streams.close();
+    this.encoderStreams?.close();
     for (const array of this.allocated) this.runtime.decoder.backend.release(array);
   }
 }

@@ -342,7 +342,7 @@ export class Streams {
   /** Every stream's state, slot after slot (`Runtime.stateWidths()` order), [count, width] each, into one array. */
   readState(into?: Float32Array): Float32Array {
     this.open('readState');
-    const total = this.buffers.reduce((n, l) => n + l.state.reduce((m, s) => m + s.length, 0), 0);
+    const total = this.stateLength();
     if (into !== undefined && into.length !== total) fail('shape_mismatch', 'Streams.readState.into', `${total} numbers`, `${into.length}`);
     const out = into ?? new Float32Array(total);
     let offset = 0;
@@ -381,17 +381,24 @@ export class Streams {
    */
   restoreState(state: Float32Array): void {
     this.open('restoreState');
-    const total = this.buffers.reduce((n, l) => n + l.state.reduce((m, s) => m + s.length, 0), 0);
+    const total = this.stateLength();
     if (state.length !== total) fail('shape_mismatch', 'Streams.restoreState', `${total} numbers`, `${state.length}`);
-    const bad = state.findIndex((v) => !Number.isFinite(v));
-    if (bad >= 0) fail('not_finite', `Streams.restoreState[${bad}]`, 'a finite number', String(state[bad]));
+    for (let i = 0; i < total; i++) if (!Number.isFinite(state[i])) fail('not_finite', `Streams.restoreState[${i}]`, 'a finite number', String(state[i]));
+    // Copied number by number: no view is made, so restoring (as every decoding start does) allocates nothing.
     let offset = 0;
     for (const layer of this.buffers) {
       for (const slot of layer.state) {
-        slot.set(state.subarray(offset, offset + slot.length));
+        for (let j = 0; j < slot.length; j++) slot[j] = state[offset + j];
         offset += slot.length;
       }
     }
+  }
+
+  /** Numbers of every stream's state together. */
+  private stateLength(): number {
+    let total = 0;
+    for (const layer of this.buffers) for (const slot of layer.state) total += slot.length;
+    return total;
   }
 }
 

@@ -4,6 +4,8 @@
  * step by step, the same greedy decode, beam width 1 equal to greedy, beam search against an exhaustive ranking, and
  * steps that allocate nothing (the runtime's array counter).
  */
+import { execFileSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { Random, Tape } from '@weft/core';
 import { EncoderDecoderModel } from '@weft/cells';
@@ -31,6 +33,8 @@ const cases: [string, EncoderDecoderDescription][] = [
   ['dot', description('dot', false)],
   ['general, bidirectional encoder', description('general', true)],
   ['additive, bidirectional encoder, source reversed', description('additive', true, true)],
+  // A forward-only encoder is streamed token by token by decoding.start (no arrays made), in either order.
+  ['general, source reversed', description('general', false, true)],
 ];
 
 function shaken(d: EncoderDecoderDescription, seed = 'decode'): EncoderDecoderModel {
@@ -97,7 +101,9 @@ describe('encoder-decoders with attention in the runtime', () => {
         expect(decoded.tokens).toEqual(expected);
         expect(decoded.attention).toHaveLength(expected.length);
         for (const weights of decoded.attention) expect(Math.abs(weights.reduce((n, a) => n + a, 0) - 1)).toBeLessThan(1e-5);
-        expect(runtime.beamSearch(source, { width: 1, startToken: START, endToken: END, maxLength: 7 })[0].tokens).toEqual(expected);
+        // Without length normalisation (α = 0) a beam of one is greedy; with it, a longer finished output may outscore
+        // an output the greedy step ended at once (as the fourth case's first seed shows).
+        expect(runtime.beamSearch(source, { width: 1, startToken: START, endToken: END, maxLength: 7, lengthPenalty: 0 })[0].tokens).toEqual(expected);
       }
     }
   });
@@ -176,5 +182,14 @@ describe('encoder-decoders with attention in the runtime', () => {
     await expect(createEncoderDecoderRuntime(await writeWeightFile(model.description, tensors), { backend: 'javascript' })).rejects.toThrowError(/attention\.vector/);
     expect(() => runtime.decode([1, 2], { startToken: 9, endToken: END, maxLength: 4 })).toThrowError('Invalid option at decode.startToken: expected a token id in [0, 5), received 9');
     expect(() => runtime.decode([], { startToken: START, endToken: END, maxLength: 4 })).toThrowError('Invalid argument at encode.source: expected at least one token, received none');
+  });
+
+  it('starts each source again without making garbage where the encoder runs forward only (node --expose-gc, a 1 MB young generation)', () => {
+    const probe = fileURLToPath(new URL('./decoding-probe.mjs', import.meta.url));
+    const output = execFileSync(process.execPath, ['--expose-gc', '--max-semi-space-size=1', probe], { encoding: 'utf8' });
+    const { collections, starts, control } = JSON.parse(output.trim().split('\n').at(-1)!) as { collections: number; starts: number; control: number };
+    console.log(`${collections} collections over ${starts} starts and steps; ${control} when each also makes an array of four numbers`);
+    expect(control).toBeGreaterThan(0);
+    expect(collections).toBe(0);
   });
 });
