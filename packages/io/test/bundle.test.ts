@@ -2,7 +2,7 @@
  * The runtime entries stay small: bundled with esbuild (minified, ESM, for the browser) and gzipped,
  * `@weft/io/runtime` (WebAssembly SIMD forward kernels included) is at most 20,736 bytes (20 KiB until the runtime
  * imported `@weft/core/base` instead of the package root: the same code, bundled in another order, compresses 59
- * bytes worse, while an unbundled page loads 40 modules instead of 70) and
+ * bytes worse, while an unbundled page loads 42 modules instead of 70) and
  * `@weft/io/runtime/javascript` (no WebAssembly) at most 12 KiB; `@weft/io/runtime/encoder-decoder` (beam search,
  * attention, WebAssembly) at most 24 KiB, a budget of its own so the streaming entries do not carry it. Also checks what the bundles leave out: the
  * tape, optimisers, trainer, the training kernels' module; and that only the first carries WebAssembly bytes.
