@@ -120,7 +120,7 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
       const fit = p.count - Math.max(1, Math.round(p.count * options.testShare));
       const observed = column.slice(0, fit);
       if (observed.length < 8) continue;
-      const choice = chooseSeason(interpolated(observed), p.subTime === null || time === null ? null : readTimeColumn(p.sub, time.name)?.spacing ?? null).season;
+      const choice = chooseSeason(interpolated(observed), p.subTime?.spacing ?? null).season;
       seasonCounts.set(choice, (seasonCounts.get(choice) ?? 0) + 1);
     }
     season = [...seasonCounts].sort((a, b) => b[1] - a[1] || (a[0] ?? 0) - (b[0] ?? 0))[0]?.[0] ?? null;
