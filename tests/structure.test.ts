@@ -24,6 +24,7 @@ const withoutLogic: Record<string, string> = {
   'packages/cells/src/index.ts': 'the package entry: re-exports',
   'packages/cells/src/kernels/index.ts': 'an entry: re-exports core\'s step kernels',
   'packages/cells/src/description-entry.ts': 'the @weft/cells/description entry: re-exports',
+  'packages/cells/src/plans/plan.ts': 'types only (the plan contract and the traced program)',
   'packages/optim/src/index.ts': 'the package entry: re-exports',
   'packages/optim/src/training/types.ts': 'types only (the trainer\'s options, events and summary)',
   'packages/optim/src/data.ts': 'types only (the batch shapes) and re-exports of the sources',

@@ -14,6 +14,8 @@
  */
 import { WeftError, isRecord } from '@weft/core/base';
 import type { Problem } from '@weft/core/base';
+import { planOf } from './plans/index.js';
+import { plainPlan } from './plans/plain.js';
 
 /** The cells weft builds itself, by their word in a description. */
 export type BuiltInCellKind = 'lstm' | 'gru' | 'plain';
@@ -189,15 +191,15 @@ export function describeProblems(value: unknown, path = 'description', customKin
   return problems;
 }
 
-/** The parameter count of a checked description's built-in layers, embedding and readout (arithmetic only). */
+/** Parameters of a checked description (cells by their plans, an unknown kind as a plain cell); nothing is made. */
 function parameterCount(description: ModelDescription): number {
   let total = description.input.kind === 'embedding' ? description.input.vocabulary * description.input.width : 0;
   let width = description.input.width;
   for (const layer of description.layers) {
     const h = layer.hidden;
     const directions = layer.bidirectional === true ? 2 : 1;
-    const gates = layer.cell === 'lstm' ? 4 : layer.cell === 'gru' ? 3 : 1;
-    total += directions * gates * h * (width + h + 1);
+    const plan = planOf(layer.cell) ?? plainPlan;
+    for (const p of plan.parameters({ inputWidth: width, hidden: h, layer })) total += directions * p.shape.reduce((a, b) => a * b, 1);
     width = h * directions;
   }
   if (description.readout !== undefined && description.readout !== null) total += (width + 1) * description.readout.width;

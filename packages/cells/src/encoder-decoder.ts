@@ -22,6 +22,7 @@ import type { EncoderDecoderDescription } from './description.js';
 import { describeAnyProblems, isEncoderDecoder } from './description.js';
 import { fillUniform, glorotBound } from './init.js';
 import { attentionLayout } from './layout.js';
+import { checkPlans } from './plans/index.js';
 import { createParameter } from './recurrence.js';
 import type { BuildOptions, TokenBatch } from './model.js';
 import { SequenceModel } from './model.js';
@@ -65,7 +66,7 @@ export class EncoderDecoderModel {
   readonly dtype: DType;
 
   constructor(description: unknown, options: BuildOptions = {}) {
-    const problems = describeAnyProblems(description, 'description', Object.keys(options.cells ?? {}));
+    const problems = describeAnyProblems(description, 'description', [...Object.keys(options.cells ?? {}), ...Object.keys(checkPlans(options.plans, 'EncoderDecoderModel.plans'))]);
     if (!isEncoderDecoder(description)) problems.unshift({ code: 'invalid_option', path: 'description.kind', expected: "'encoder-decoder'", received: JSON.stringify((description as { kind?: unknown })?.kind) ?? 'nothing' });
     if (problems.length > 0) throw new WeftError(problems);
     const checked = description as EncoderDecoderDescription;

@@ -9,11 +9,13 @@
  * linear_before_reset = 0); true applies it after (ONNX linear_before_reset = 1).
  * Initialisation: input Glorot-uniform per gate block, each recurrent H×H block orthogonal, biases 0.
  */
-import { add, matmul, multiply, noTensor, sigmoid, slice, subtract, tanh } from '@weft/core';
-import type { DType, FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
-import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
+import { noTensor } from '@weft/core';
+import type { FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
+import type { CellMode, FusedSequence, SequenceResult } from './cell.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
-import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
+import { PlanCell } from './plan-cell.js';
+import { gruPlan } from './plans/gru.js';
+import { projectInputs, runSteps } from './recurrence.js';
 import type { CommonCellOptions } from './recurrence.js';
 
 export interface GruOptions extends CommonCellOptions {
@@ -21,12 +23,8 @@ export interface GruOptions extends CommonCellOptions {
   readonly resetAfterProduct?: boolean;
 }
 
-export class GruCell implements RecurrentCell, FusedSequence {
-  readonly kind = 'gru';
-  readonly inputWidth: number;
-  readonly hidden: number;
-  readonly dtype: DType;
-  readonly state: readonly StateSlot[];
+export class GruCell extends PlanCell implements FusedSequence {
+  override readonly kind = 'gru';
   /** True when the reset gate applies after the recurrent product (ONNX linear_before_reset = 1). */
   readonly resetAfterProduct: boolean;
   /** Input weights [I, 3H], gate blocks z, r, n. */
@@ -39,58 +37,30 @@ export class GruCell implements RecurrentCell, FusedSequence {
   readonly recurrentCandidate: Tensor;
   /** The candidate's recurrent bias [H] (inside the reset), only with `resetAfterProduct`; else null. */
   readonly recurrentCandidateBias: Tensor | null;
-  /** How the cell runs: `fused` or `composed` (may be changed between runs). */
+  /** How the cell runs: `fused` or `composed` (the plan's step on the tape; may be changed between runs). */
   mode: CellMode;
-  /** The cell's path in messages and parameter names (`layers[0].forward`). */
-  name: string;
 
   constructor(options: GruOptions) {
-    const { name, inputWidth, hidden, dtype, random, mode } = resolveCellOptions(options, 'gru');
-    this.name = name;
-    this.inputWidth = inputWidth;
-    this.hidden = hidden;
-    this.dtype = dtype;
-    this.mode = mode;
-    this.resetAfterProduct = options.resetAfterProduct === true;
-    this.state = [{ name: 'h', width: hidden }];
-    this.input = createParameter('input', [inputWidth, 3 * hidden], dtype);
-    this.bias = createParameter('bias', [3 * hidden], dtype);
-    this.recurrent = createParameter('recurrent', [hidden, 2 * hidden], dtype);
-    this.recurrentCandidate = createParameter('recurrentCandidate', [hidden, hidden], dtype);
-    this.recurrentCandidateBias = this.resetAfterProduct ? createParameter('recurrentCandidateBias', [hidden], dtype) : null;
-    const bound = glorotBound(inputWidth, hidden);
-    for (let gate = 0; gate < 3; gate++) fillUniform(this.input.data, 3 * hidden, inputWidth, gate * hidden, hidden, bound, random);
-    fillOrthogonal(this.recurrent.data, 2 * hidden, hidden, 0, random);
-    fillOrthogonal(this.recurrent.data, 2 * hidden, hidden, hidden, random);
-    fillOrthogonal(this.recurrentCandidate.data, hidden, hidden, 0, random);
-  }
-
-  parameters(): readonly NamedParameter[] {
-    const list: NamedParameter[] = [
-      { name: 'input', tensor: this.input },
-      { name: 'bias', tensor: this.bias },
-      { name: 'recurrent', tensor: this.recurrent },
-      { name: 'recurrentCandidate', tensor: this.recurrentCandidate },
-    ];
-    if (this.recurrentCandidateBias !== null) list.push({ name: 'recurrentCandidateBias', tensor: this.recurrentCandidateBias });
-    return list;
-  }
-
-  step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
-    checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
-    const hidden = this.hidden;
-    const [h] = state;
-    const projected = add(tape, matmul(tape, x, this.input), this.bias);
-    const gates = matmul(tape, h, this.recurrent);
-    const z = sigmoid(tape, add(tape, slice(tape, projected, 0, hidden), slice(tape, gates, 0, hidden)));
-    const r = sigmoid(tape, add(tape, slice(tape, projected, hidden, 2 * hidden), slice(tape, gates, hidden, 2 * hidden)));
-    const candidateInput = slice(tape, projected, 2 * hidden, 3 * hidden);
-    const n = this.recurrentCandidateBias === null
-      ? tanh(tape, add(tape, candidateInput, matmul(tape, multiply(tape, r, h), this.recurrentCandidate)))
-      : tanh(tape, add(tape, candidateInput, multiply(tape, r, add(tape, matmul(tape, h, this.recurrentCandidate), this.recurrentCandidateBias))));
-    // h = (1 − z) ⊙ n + z ⊙ h₋ = n + z ⊙ (h₋ − n)
-    const hNext = add(tape, n, multiply(tape, z, subtract(tape, h, n)));
-    return { output: hNext, state: [hNext] };
+    const resetAfterProduct = options.resetAfterProduct === true;
+    super({
+      ...options,
+      plan: gruPlan,
+      layer: { cell: 'gru', hidden: options.hidden, resetAfterProduct },
+      initialise(value, { inputWidth, hidden }, random) {
+        const bound = glorotBound(inputWidth, hidden);
+        for (let gate = 0; gate < 3; gate++) fillUniform(value('input'), 3 * hidden, inputWidth, gate * hidden, hidden, bound, random);
+        fillOrthogonal(value('recurrent'), 2 * hidden, hidden, 0, random);
+        fillOrthogonal(value('recurrent'), 2 * hidden, hidden, hidden, random);
+        fillOrthogonal(value('recurrentCandidate'), hidden, hidden, 0, random);
+      },
+    });
+    this.mode = options.mode ?? 'fused';
+    this.resetAfterProduct = resetAfterProduct;
+    this.input = this.parameter('input');
+    this.bias = this.parameter('bias');
+    this.recurrent = this.parameter('recurrent');
+    this.recurrentCandidate = this.parameter('recurrentCandidate');
+    this.recurrentCandidateBias = resetAfterProduct ? this.parameter('recurrentCandidateBias') : null;
   }
 
   runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult {

@@ -15,6 +15,12 @@ export { checkLengths, runBidirectional, runReversed, runSequence } from './laye
 export type { AnyModelDescription, AttentionForm, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
 export { ATTENTION_FORMS, MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
+export type { CellPlan, CellShape, PlanSlot, ProgramValue, StepInstruction, StepOperation, StepProgram, StepValue, StepWriter, ValueSource } from './plans/plan.js';
+export type { CellPlans } from './plans/index.js';
+export { builtInPlans, planOf } from './plans/index.js';
+export { traceStep } from './plans/trace.js';
+export type { PlanCellOptions } from './plan-cell.js';
+export { PlanCell, initialisePlanParameters, stepOnTape } from './plan-cell.js';
 export { attentionLayout, cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';
 export type { EncoderDecoderRun, EncoderDecoderRunOptions } from './encoder-decoder.js';
 export { EncoderDecoderModel, decoderStart, reverseTokens } from './encoder-decoder.js';

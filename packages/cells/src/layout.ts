@@ -4,7 +4,7 @@
  * model building (its parameters are checked against this in the cells tests), the weight-file loaders (a file is
  * checked against it before any model is built) and the inference runtime (which takes its tensors by it).
  *
- * Per built-in cell, with input width I and hidden size H (gate orders as in each cell's file):
+ * Each cell's parameters come from its plan (plans/); for the built-in cells, with input width I and hidden size H:
  *   lstm   input [I, 4H], recurrent [H, 4H], bias [4H], peephole [3H] (with peepholes)
  *   gru    input [I, 3H], bias [3H], recurrent [H, 2H], recurrentCandidate [H, H],
  *          recurrentCandidateBias [H] (with resetAfterProduct)
@@ -15,14 +15,11 @@
  */
 import type { AnyModelDescription, EncoderDecoderDescription, LayerDescription, ModelDescription } from './description.js';
 import { isEncoderDecoder } from './description.js';
+import type { CellPlans } from './plans/index.js';
+import { planOf } from './plans/index.js';
+import type { ParameterLayout } from './plans/plan.js';
 
-/** One parameter's name and shape, as a model description implies it. */
-export interface ParameterLayout {
-  /** The parameter's stable name, as in weight files and messages (`layers[0].forward.input`). */
-  readonly name: string;
-  /** Its shape (`[input width, gates × hidden]` for an input matrix). */
-  readonly shape: readonly number[];
-}
+export type { ParameterLayout } from './plans/plan.js';
 
 /** The widths of one layer, as a description implies them. */
 export interface LayerLayout {
@@ -40,7 +37,7 @@ export interface ModelLayout {
   readonly layers: readonly LayerLayout[];
   /** Width of what the model outputs: the readout's, else the last layer's. */
   readonly outputWidth: number;
-  /** False when a layer's cell is not built in (its parameters are then the cell's own business). */
+  /** False when no plan knows a layer's cell (a maker's cell: its parameters are then the cell's own business). */
   readonly builtIn: boolean;
 }
 
@@ -55,40 +52,17 @@ export function layerPath(index: number, direction: 'forward' | 'backward'): str
   return `layers[${index}].${direction}`;
 }
 
-/** The parameters of one built-in cell of `layer` with `inputWidth` inputs, by their names within the cell. */
-export function cellLayout(layer: LayerDescription, inputWidth: number): ParameterLayout[] | null {
-  const h = layer.hidden;
-  if (layer.cell === 'lstm') {
-    const list = [
-      { name: 'input', shape: [inputWidth, 4 * h] },
-      { name: 'recurrent', shape: [h, 4 * h] },
-      { name: 'bias', shape: [4 * h] },
-    ];
-    if (layer.peepholes === true) list.push({ name: 'peephole', shape: [3 * h] });
-    return list;
-  }
-  if (layer.cell === 'gru') {
-    const list = [
-      { name: 'input', shape: [inputWidth, 3 * h] },
-      { name: 'bias', shape: [3 * h] },
-      { name: 'recurrent', shape: [h, 2 * h] },
-      { name: 'recurrentCandidate', shape: [h, h] },
-    ];
-    if (layer.resetAfterProduct === true) list.push({ name: 'recurrentCandidateBias', shape: [h] });
-    return list;
-  }
-  if (layer.cell === 'plain') {
-    return [
-      { name: 'input', shape: [inputWidth, h] },
-      { name: 'recurrent', shape: [h, h] },
-      { name: 'bias', shape: [h] },
-    ];
-  }
-  return null;
+/**
+ * The parameters of one cell of `layer` with `inputWidth` inputs, by their names within the cell, from its plan
+ * (built in, or one of `plans`); null when no plan knows the cell's kind (a cell made by a maker of your own).
+ */
+export function cellLayout(layer: LayerDescription, inputWidth: number, plans?: CellPlans): readonly ParameterLayout[] | null {
+  const plan = planOf(layer.cell, plans);
+  return plan === null ? null : plan.parameters({ inputWidth, hidden: layer.hidden, layer });
 }
 
 /** The layout of a checked sequence-model description (see checkDescription). */
-export function modelLayout(description: ModelDescription): ModelLayout {
+export function modelLayout(description: ModelDescription, plans?: CellPlans): ModelLayout {
   const parameters: ParameterLayout[] = [];
   const layers: LayerLayout[] = [];
   let builtIn = true;
@@ -98,7 +72,7 @@ export function modelLayout(description: ModelDescription): ModelLayout {
   description.layers.forEach((layer, i) => {
     const directions = layerDirections(layer);
     for (const direction of directions) {
-      const cell = cellLayout(layer, width);
+      const cell = cellLayout(layer, width, plans);
       if (cell === null) builtIn = false;
       else for (const p of cell) parameters.push({ name: `${layerPath(i, direction)}.${p.name}`, shape: p.shape });
     }
@@ -137,10 +111,10 @@ export function attentionLayout(description: EncoderDecoderDescription): Paramet
  * The parameters of either kind of checked description (an encoder-decoder's are `encoder.…`, `decoder.…`, then
  * `attention.…`).
  */
-export function parameterLayout(description: AnyModelDescription): Pick<ModelLayout, 'parameters' | 'builtIn'> {
-  if (!isEncoderDecoder(description)) return modelLayout(description);
-  const encoder = modelLayout(description.encoder);
-  const decoder = modelLayout(description.decoder);
+export function parameterLayout(description: AnyModelDescription, plans?: CellPlans): Pick<ModelLayout, 'parameters' | 'builtIn'> {
+  if (!isEncoderDecoder(description)) return modelLayout(description, plans);
+  const encoder = modelLayout(description.encoder, plans);
+  const decoder = modelLayout(description.decoder, plans);
   return {
     parameters: [
       ...encoder.parameters.map((p) => ({ name: `encoder.${p.name}`, shape: p.shape })),

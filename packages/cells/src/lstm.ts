@@ -8,11 +8,13 @@
  * forget block, which starts at `forgetBias` (default 1: Jozefowicz, Zaremba & Sutskever 2015, "An empirical
  * exploration of recurrent network architectures"), peepholes 0.
  */
-import { add, fail, matmul, multiply, noTensor, sigmoid, slice, tanh } from '@weft/core';
-import type { DType, FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
-import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
+import { fail, noTensor } from '@weft/core';
+import type { FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
+import type { CellMode, FusedSequence, SequenceResult } from './cell.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
-import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
+import { PlanCell } from './plan-cell.js';
+import { lstmPlan } from './plans/lstm.js';
+import { projectInputs, runSteps } from './recurrence.js';
 import type { CommonCellOptions } from './recurrence.js';
 
 export interface LstmOptions extends CommonCellOptions {
@@ -22,12 +24,8 @@ export interface LstmOptions extends CommonCellOptions {
   readonly forgetBias?: number;
 }
 
-export class LstmCell implements RecurrentCell, FusedSequence {
-  readonly kind = 'lstm';
-  readonly inputWidth: number;
-  readonly hidden: number;
-  readonly dtype: DType;
-  readonly state: readonly StateSlot[];
+export class LstmCell extends PlanCell implements FusedSequence {
+  override readonly kind = 'lstm';
   /** Input weights [I, 4H], gate blocks i, f, g, o. */
   readonly input: Tensor;
   /** Recurrent weights [H, 4H], gate blocks i, f, g, o. */
@@ -36,66 +34,30 @@ export class LstmCell implements RecurrentCell, FusedSequence {
   readonly bias: Tensor;
   /** Peephole weights [3H] (i, f, o), or null without peepholes. */
   readonly peephole: Tensor | null;
-  /** How the cell runs: `fused` or `composed` (may be changed between runs). */
+  /** How the cell runs: `fused` or `composed` (the plan's step on the tape; may be changed between runs). */
   mode: CellMode;
-  /** The cell's path in messages and parameter names (`layers[0].forward`). */
-  name: string;
 
   constructor(options: LstmOptions) {
-    const { name, inputWidth, hidden, dtype, random, mode } = resolveCellOptions(options, 'lstm');
     const forgetBias = options.forgetBias ?? 1;
-    if (typeof forgetBias !== 'number' || !Number.isFinite(forgetBias)) fail('invalid_option', `${name}.forgetBias`, 'a finite number', String(forgetBias));
-    this.name = name;
-    this.inputWidth = inputWidth;
-    this.hidden = hidden;
-    this.dtype = dtype;
-    this.mode = mode;
-    this.state = [{ name: 'h', width: hidden }, { name: 'c', width: hidden }];
-    this.input = createParameter('input', [inputWidth, 4 * hidden], dtype);
-    this.recurrent = createParameter('recurrent', [hidden, 4 * hidden], dtype);
-    this.bias = createParameter('bias', [4 * hidden], dtype);
-    this.peephole = options.peepholes === true ? createParameter('peephole', [3 * hidden], dtype) : null;
-    const bound = glorotBound(inputWidth, hidden);
-    for (let gate = 0; gate < 4; gate++) {
-      fillUniform(this.input.data, 4 * hidden, inputWidth, gate * hidden, hidden, bound, random);
-      fillOrthogonal(this.recurrent.data, 4 * hidden, hidden, gate * hidden, random);
-    }
-    this.bias.data.fill(forgetBias, hidden, 2 * hidden);
-  }
-
-  parameters(): readonly NamedParameter[] {
-    const list: NamedParameter[] = [
-      { name: 'input', tensor: this.input },
-      { name: 'recurrent', tensor: this.recurrent },
-      { name: 'bias', tensor: this.bias },
-    ];
-    if (this.peephole !== null) list.push({ name: 'peephole', tensor: this.peephole });
-    return list;
-  }
-
-  /** One step written with core operations: the reference the fused path is proven against. */
-  step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
-    checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
-    const hidden = this.hidden;
-    const [h, c] = state;
-    const pre = add(tape, add(tape, matmul(tape, x, this.input), matmul(tape, h, this.recurrent)), this.bias);
-    let ai = slice(tape, pre, 0, hidden);
-    let af = slice(tape, pre, hidden, 2 * hidden);
-    const ag = slice(tape, pre, 2 * hidden, 3 * hidden);
-    let ao = slice(tape, pre, 3 * hidden, 4 * hidden);
-    const p = this.peephole;
-    if (p !== null) {
-      ai = add(tape, ai, multiply(tape, c, slice(tape, p, 0, hidden)));
-      af = add(tape, af, multiply(tape, c, slice(tape, p, hidden, 2 * hidden)));
-    }
-    const i = sigmoid(tape, ai);
-    const f = sigmoid(tape, af);
-    const g = tanh(tape, ag);
-    const cNext = add(tape, multiply(tape, f, c), multiply(tape, i, g));
-    if (p !== null) ao = add(tape, ao, multiply(tape, cNext, slice(tape, p, 2 * hidden, 3 * hidden)));
-    const o = sigmoid(tape, ao);
-    const hNext = multiply(tape, o, tanh(tape, cNext));
-    return { output: hNext, state: [hNext, cNext] };
+    if (typeof forgetBias !== 'number' || !Number.isFinite(forgetBias)) fail('invalid_option', `${options.name ?? 'lstm'}.forgetBias`, 'a finite number', String(forgetBias));
+    super({
+      ...options,
+      plan: lstmPlan,
+      layer: { cell: 'lstm', hidden: options.hidden, peepholes: options.peepholes === true },
+      initialise(value, { inputWidth, hidden }, random) {
+        const bound = glorotBound(inputWidth, hidden);
+        for (let gate = 0; gate < 4; gate++) {
+          fillUniform(value('input'), 4 * hidden, inputWidth, gate * hidden, hidden, bound, random);
+          fillOrthogonal(value('recurrent'), 4 * hidden, hidden, gate * hidden, random);
+        }
+        value('bias').fill(forgetBias, hidden, 2 * hidden);
+      },
+    });
+    this.mode = options.mode ?? 'fused';
+    this.input = this.parameter('input');
+    this.recurrent = this.parameter('recurrent');
+    this.bias = this.parameter('bias');
+    this.peephole = options.peepholes === true ? this.parameter('peephole') : null;
   }
 
   runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult {

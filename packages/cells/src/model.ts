@@ -23,6 +23,9 @@ import { LstmCell } from './lstm.js';
 import { PlainCell } from './plain.js';
 import { layerDirections, layerPath } from './layout.js';
 import { createParameter } from './recurrence.js';
+import { PlanCell } from './plan-cell.js';
+import { checkPlans } from './plans/index.js';
+import type { CellPlans } from './plans/index.js';
 import { zeroBeyondLengths } from './sequence-ops.js';
 
 /** What a registered cell maker receives. */
@@ -52,8 +55,10 @@ export interface BuildOptions {
   readonly dtype?: DType;
   /** How built-in cells run. Default `fused`. */
   readonly mode?: CellMode;
-  /** Cells of your own, by the kind named in `layers[i].cell`. */
+  /** Cells of your own made by makers (training only), by the kind named in `layers[i].cell`. */
   readonly cells?: Readonly<Record<string, CellMaker>>;
+  /** Cells of your own as plans (plans/plan.ts), by kind: they also run in the runtime and travel in weight files. */
+  readonly plans?: CellPlans;
 }
 
 /** Token ids in time-major order: tokens[t·batch + b]. */
@@ -129,7 +134,8 @@ export class SequenceModel {
 
   constructor(description: unknown, options: BuildOptions = {}) {
     const custom = options.cells ?? {};
-    const checked = checkDescription(description, 'description', Object.keys(custom));
+    const plans = checkPlans(options.plans, 'buildModel.plans');
+    const checked = checkDescription(description, 'description', [...Object.keys(custom), ...Object.keys(plans)]);
     const dtype = options.dtype ?? 'f32';
     const random = new Random(options.seed ?? 0);
     const mode = options.mode ?? 'fused';
@@ -148,7 +154,7 @@ export class SequenceModel {
       const make = (direction: 'forward' | 'backward'): RecurrentCell => {
         const name = layerPath(i, direction);
         const request: CellRequest = { layer, inputWidth: width, hidden: layer.hidden, dtype, random, name };
-        const cell = makeCell(request, custom, mode);
+        const cell = makeCell(request, custom, plans, mode);
         if (cell.inputWidth !== width || cell.dtype !== dtype) {
           fail('invalid_option', `${name}`, `a cell with inputWidth ${width} and dtype ${dtype}`, `inputWidth ${cell.inputWidth}, dtype ${cell.dtype}`);
         }
@@ -268,7 +274,7 @@ export class SequenceModel {
   }
 }
 
-function makeCell(request: CellRequest, custom: Readonly<Record<string, CellMaker>>, mode: CellMode): RecurrentCell {
+function makeCell(request: CellRequest, custom: Readonly<Record<string, CellMaker>>, plans: CellPlans, mode: CellMode): RecurrentCell {
   const { layer, inputWidth, hidden, dtype, random, name } = request;
   switch (layer.cell) {
     case 'lstm':
@@ -278,6 +284,7 @@ function makeCell(request: CellRequest, custom: Readonly<Record<string, CellMake
     case 'plain':
       return new PlainCell({ inputWidth, hidden, dtype, random, name, mode, activation: layer.activation });
     default: {
+      if (Object.hasOwn(plans, layer.cell)) return new PlanCell({ plan: plans[layer.cell], layer, inputWidth, hidden, dtype, random, name });
       const maker = custom[layer.cell];
       if (maker === undefined) fail('invalid_option', `${name}.cell`, 'a known cell kind', layer.cell);
       return maker(request);

@@ -5,11 +5,13 @@
  *
  * Parameters: input [I, H], recurrent [H, H], bias [H].
  */
-import { add, fail, matmul, noTensor, relu, tanh } from '@weft/core';
-import type { DType, OperationKind, Tape, Tensor } from '@weft/core';
-import type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
+import { fail, noTensor } from '@weft/core';
+import type { OperationKind, Tape, Tensor } from '@weft/core';
+import type { CellMode, FusedSequence, SequenceResult } from './cell.js';
 import { fillIdentity, fillOrthogonal, fillUniform, glorotBound } from './init.js';
-import { checkStepArguments, createParameter, projectInputs, resolveCellOptions, runSteps } from './recurrence.js';
+import { PlanCell } from './plan-cell.js';
+import { plainPlan } from './plans/plain.js';
+import { projectInputs, runSteps } from './recurrence.js';
 import type { CommonCellOptions } from './recurrence.js';
 
 /** The nonlinearity of a plain recurrent cell. */
@@ -20,12 +22,8 @@ export interface PlainOptions extends CommonCellOptions {
   readonly activation?: PlainActivation;
 }
 
-export class PlainCell implements RecurrentCell, FusedSequence {
-  readonly kind = 'plain';
-  readonly inputWidth: number;
-  readonly hidden: number;
-  readonly dtype: DType;
-  readonly state: readonly StateSlot[];
+export class PlainCell extends PlanCell implements FusedSequence {
+  override readonly kind = 'plain';
   /** The cell's nonlinearity. */
   readonly activation: PlainActivation;
   /** Input weights [I, H]. */
@@ -34,43 +32,27 @@ export class PlainCell implements RecurrentCell, FusedSequence {
   readonly recurrent: Tensor;
   /** Bias [H]. */
   readonly bias: Tensor;
-  /** How the cell runs: `fused` or `composed` (may be changed between runs). */
+  /** How the cell runs: `fused` or `composed` (the plan's step on the tape; may be changed between runs). */
   mode: CellMode;
-  /** The cell's path in messages and parameter names (`layers[0].forward`). */
-  name: string;
 
   constructor(options: PlainOptions) {
-    const { name, inputWidth, hidden, dtype, random, mode } = resolveCellOptions(options, 'plain');
     const activation = options.activation ?? 'tanh';
-    if (activation !== 'tanh' && activation !== 'relu') fail('invalid_option', `${name}.activation`, "'tanh' or 'relu'", JSON.stringify(activation));
-    this.name = name;
-    this.inputWidth = inputWidth;
-    this.hidden = hidden;
-    this.dtype = dtype;
-    this.mode = mode;
+    if (activation !== 'tanh' && activation !== 'relu') fail('invalid_option', `${options.name ?? 'plain'}.activation`, "'tanh' or 'relu'", JSON.stringify(activation));
+    super({
+      ...options,
+      plan: plainPlan,
+      layer: { cell: 'plain', hidden: options.hidden, activation },
+      initialise(value, { inputWidth, hidden }, random) {
+        fillUniform(value('input'), hidden, inputWidth, 0, hidden, glorotBound(inputWidth, hidden), random);
+        if (activation === 'relu') fillIdentity(value('recurrent'), hidden, hidden, 0);
+        else fillOrthogonal(value('recurrent'), hidden, hidden, 0, random);
+      },
+    });
+    this.mode = options.mode ?? 'fused';
     this.activation = activation;
-    this.state = [{ name: 'h', width: hidden }];
-    this.input = createParameter('input', [inputWidth, hidden], dtype);
-    this.recurrent = createParameter('recurrent', [hidden, hidden], dtype);
-    this.bias = createParameter('bias', [hidden], dtype);
-    fillUniform(this.input.data, hidden, inputWidth, 0, hidden, glorotBound(inputWidth, hidden), random);
-    if (activation === 'relu') fillIdentity(this.recurrent.data, hidden, hidden, 0);
-    else fillOrthogonal(this.recurrent.data, hidden, hidden, 0, random);
-  }
-
-  parameters(): readonly NamedParameter[] {
-    return [
-      { name: 'input', tensor: this.input },
-      { name: 'recurrent', tensor: this.recurrent },
-      { name: 'bias', tensor: this.bias },
-    ];
-  }
-
-  step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
-    checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
-    const pre = add(tape, add(tape, matmul(tape, x, this.input), matmul(tape, state[0], this.recurrent)), this.bias);
-    const h = this.activation === 'relu' ? relu(tape, pre) : tanh(tape, pre);
-    return { output: h, state: [h] };
+    this.input = this.parameter('input');
+    this.recurrent = this.parameter('recurrent');
+    this.bias = this.parameter('bias');
   }
 
   runFused(tape: Tape, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult {

@@ -9,6 +9,8 @@ export type { Problem, ProblemCode } from './errors.js';
 export { WeftError, describeProblem, fail } from './errors.js';
 export { isRecord } from './records.js';
 export { logSumExp } from './kernels/softmax.js';
+// The overflow-safe logistic function, for the runtime's steps of cells that are not built in.
+export { logistic } from './kernels/logistic.js';
 // The seeded generator, for sampling from a runtime (generateTokens, sample) with no training module loaded.
 export { Random } from './random.js';
 export type { DType, FloatArray } from './dtype.js';

@@ -16,7 +16,8 @@
  */
 import { WeftError, fail, isRecord } from '@weft/core/base';
 import type { FloatArray, Problem } from '@weft/core/base';
-import { describeAnyProblems } from '@weft/cells/description';
+import { checkPlans, describeAnyProblems } from '@weft/cells/description';
+import type { CellPlans } from '@weft/cells/description';
 import type { AnyModelDescription } from '@weft/cells/description';
 import { decodeBase64Into, decodedLength, encodeBase64 } from './base64.js';
 import { sha256Hex } from './digest.js';
@@ -124,6 +125,11 @@ export interface ReadOptions {
    * non-finite value of each tensor is a problem, because a model with one computes NaN for every input.
    */
   readonly allowNonFinite?: boolean;
+  /**
+   * Plans of the file's cells that are not built in, by the kind the file names them with; a file naming a kind
+   * with no plan here is refused at that layer's `cell`.
+   */
+  readonly plans?: CellPlans;
 }
 
 const forbiddenKeys = new Set(['__proto__', 'constructor', 'prototype']);
@@ -272,7 +278,8 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
   for (const key of Object.keys(file)) {
     if (!['format', 'version', 'model', 'metadata', 'tensors', 'digest', 'training'].includes(key)) add(key, 'no such field', file[key]);
   }
-  problems.push(...describeAnyProblems(file.model, 'model').map((p) => ({ ...p, code: 'bad_weight_file' as const })));
+  const plans = checkPlans(options.plans, 'readWeightFile.plans');
+  problems.push(...describeAnyProblems(file.model, 'model', Object.keys(plans)).map((p) => ({ ...p, code: 'bad_weight_file' as const })));
   if (file.metadata !== undefined && !isRecord(file.metadata)) add('metadata', 'an object', file.metadata);
   const digest = file.digest;
   if (!isRecord(digest) || digest.algorithm !== 'SHA-256' || typeof digest.hex !== 'string' || !/^[0-9a-f]{64}$/.test(digest.hex)) {

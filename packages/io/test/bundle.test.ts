@@ -1,10 +1,10 @@
 /**
  * The runtime entries stay small: bundled with esbuild (minified, ESM, for the browser) and gzipped,
- * `@weft/io/runtime` (WebAssembly SIMD forward kernels included) is at most 20,736 bytes (20 KiB until the runtime
- * imported `@weft/core/base` instead of the package root: the same code, bundled in another order, compresses 59
- * bytes worse, while an unbundled page loads 42 modules instead of 70) and
- * `@weft/io/runtime/javascript` (no WebAssembly) at most 12 KiB; `@weft/io/runtime/encoder-decoder` (beam search,
- * attention, WebAssembly) at most 24 KiB, a budget of its own so the streaming entries do not carry it. Also checks what the bundles leave out: the
+ * `@weft/io/runtime` (WebAssembly SIMD forward kernels included) is at most 23 KiB and `@weft/io/runtime/javascript`
+ * (no WebAssembly) at most 14 KiB; `@weft/io/runtime/encoder-decoder` (beam search, attention, WebAssembly) at
+ * most 26 KiB, a budget of its own so the streaming entries do not carry it. Each budget grew by 2 KiB (from 20,736,
+ * 12,288 and 24,576) when the runtime began to run any cell through its step plan (cells/src/plans: the tracer and
+ * the traced program's step, about 2.5 KB gzipped), so that a cell of your own runs where the built-in ones do. Also checks what the bundles leave out: the
  * tape, optimisers, trainer, the training kernels' module; and that only the first carries WebAssembly bytes.
  * The bundles are built with code splitting, as a bundler builds a page: the plain-TypeScript SHA-256 (used only
  * where there is no Web Crypto, on pages that are not secure contexts) is a chunk of its own, loaded on demand;
@@ -57,34 +57,34 @@ const absent = ['reverseSweep', 'gradientOf', 'firstMoment', 'batchesPerEpoch', 
 const wasmMagic = 'AGFzbQ';
 
 describe('the runtime bundles', () => {
-  it('with WebAssembly: at most 20,736 bytes gzipped (the SHA-256 fallback in a lazy chunk), carrying no tape, optimiser, trainer or training kernels', async () => {
+  it('with WebAssembly: at most 23,552 bytes gzipped (the SHA-256 fallback in a lazy chunk), carrying no tape, optimiser, trainer or training kernels', async () => {
     const bundle = await runtimeBundle('index.js');
     const { text, gzipBytes } = bundle;
     console.log(`runtime bundle (webassembly + javascript): ${text.length} bytes minified, ${gzipBytes} gzipped; lazy chunks ${bundle.lazy.map((c) => `${c.name} ${c.gzipBytes}`).join(', ')} gzipped`);
     expectLazySha256(bundle);
-    expect(gzipBytes).toBeLessThanOrEqual(20_736);
+    expect(gzipBytes).toBeLessThanOrEqual(23_552);
     expect(absent.filter((word) => text.includes(word))).toEqual([]);
     expect(text.includes('weft-weights')).toBe(true);
     expect(text.split(wasmMagic).length - 1).toBe(1);
   });
 
-  it('for JavaScript alone: at most 12,288 bytes gzipped (the SHA-256 fallback in a lazy chunk), with no WebAssembly module in it', async () => {
+  it('for JavaScript alone: at most 14,336 bytes gzipped (the SHA-256 fallback in a lazy chunk), with no WebAssembly module in it', async () => {
     const bundle = await runtimeBundle('javascript.js');
     const { text, gzipBytes } = bundle;
     console.log(`runtime bundle (javascript only): ${text.length} bytes minified, ${gzipBytes} gzipped; lazy chunks ${bundle.lazy.map((c) => `${c.name} ${c.gzipBytes}`).join(', ')} gzipped`);
     expectLazySha256(bundle);
-    expect(gzipBytes).toBeLessThanOrEqual(12_288);
+    expect(gzipBytes).toBeLessThanOrEqual(14_336);
     expect(absent.filter((word) => text.includes(word))).toEqual([]);
     expect(text.includes(wasmMagic)).toBe(false);
     expect(text.includes('weft-weights')).toBe(true);
   });
 
-  it('for encoder-decoders (an entry of its own, WebAssembly included): at most 24,576 bytes gzipped, with no tape, optimiser or trainer', async () => {
+  it('for encoder-decoders (an entry of its own, WebAssembly included): at most 26,624 bytes gzipped, with no tape, optimiser or trainer', async () => {
     const bundle = await runtimeBundle('encoder-decoder.js');
     const { text, gzipBytes } = bundle;
     console.log(`runtime bundle (encoder-decoder): ${text.length} bytes minified, ${gzipBytes} gzipped; lazy chunks ${bundle.lazy.map((c) => `${c.name} ${c.gzipBytes}`).join(', ')} gzipped`);
     expectLazySha256(bundle);
-    expect(gzipBytes).toBeLessThanOrEqual(24_576);
+    expect(gzipBytes).toBeLessThanOrEqual(26_624);
     expect(absent.filter((word) => text.includes(word))).toEqual([]);
     expect(text.split(wasmMagic).length - 1).toBe(1);
   });

@@ -18,7 +18,6 @@
  */
 import { fail } from '@weft/core';
 import type { LayerDescription, ModelDescription } from '@weft/cells/description';
-import { layerPath } from '@weft/cells/description';
 import type { NamedValues } from '../weight-file.js';
 import { layerTensors, sumBiases } from './mapping.js';
 import { attribute, moveAxes, nodeLabel } from './axes.js';

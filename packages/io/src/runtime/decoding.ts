@@ -178,8 +178,9 @@ export class EncoderDecoderRuntime {
     let at = 0;
     for (const layer of this.encoder.layerList()) {
       const cells = layer.reverse || layer.backward === null ? 1 : 2;
-      at += cells * layer.forward.slots;
-      picked.push(...finals.slice(at - layer.forward.slots, at));
+      const slots = layer.forward.slotWidths.length;
+      at += cells * slots;
+      picked.push(...finals.slice(at - slots, at));
     }
     const state = new Float32Array(picked.reduce((n, s) => n + s.length, 0));
     let offset = 0;

@@ -14,7 +14,8 @@
 import { WeftError, fail } from '@weft/core/base';
 import type { Problem } from '@weft/core/base';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
-import { isEncoderDecoder, layerPath, modelLayout } from '@weft/cells/description';
+import { isEncoderDecoder, layerPath, modelLayout, planOf, runtimeCell } from '@weft/cells/description';
+import type { CellPlan, CellPlans, LayerBuffers, RuntimeCell } from '@weft/cells/description';
 import { layoutProblems } from '../layout-check.js';
 import { defaultForward } from './forward-default.js';
 import type { ModelDescription } from '@weft/cells/description';
@@ -22,8 +23,6 @@ import type { WeightFile, WeightMetadata } from '../weight-file.js';
 import type { ReadOptions } from '../weight-file.js';
 import type { WeightSource } from './source.js';
 import { weightFileFrom } from './source.js';
-import type { LayerBuffers, RuntimeCell } from './layers.js';
-import { makeCell } from './layers.js';
 
 interface RuntimeLayer {
   /** The cell that runs in the layer's own direction (forward, or backward for a reverse layer). */
@@ -77,20 +76,22 @@ export class Runtime {
    * A runtime for `file` on `backend` (by default the WebAssembly SIMD backend where the platform runs it, else
    * JavaScript; the `@weft/io/runtime/javascript` entry defaults to JavaScript and carries no WebAssembly).
    */
-  constructor(file: WeightFile, backend?: ForwardBackend) {
+  constructor(file: WeightFile, backend?: ForwardBackend, plans?: CellPlans) {
     const model = file.model;
     if (isEncoderDecoder(model)) {
       fail('bad_weight_file', 'model.kind', 'a sequence model (use createEncoderDecoderRuntime for this file)', '"encoder-decoder"');
     }
     // Every problem of the file against its description's layout, collected, before any memory is taken.
     const problems: Problem[] = [];
-    model.layers.forEach((layer, i) => {
-      if (!['lstm', 'gru', 'plain'].includes(layer.cell)) {
-        problems.push({ code: 'bad_weight_file', path: `model.layers[${i}].cell`, expected: "a built-in cell ('lstm', 'gru', 'plain') for the runtime", received: layer.cell });
+    const cellPlans = model.layers.map((layer, i) => {
+      const plan = planOf(layer.cell, plans);
+      if (plan === null) {
+        problems.push({ code: 'bad_weight_file', path: `model.layers[${i}].cell`, expected: "a cell with a plan: built in ('lstm', 'gru', 'plain') or given in the runtime's plans", received: layer.cell });
       }
+      return plan as CellPlan;
     });
     if (problems.length > 0) throw new WeftError(problems);
-    const layout = modelLayout(model);
+    const layout = modelLayout(model, plans);
     problems.push(...layoutProblems(file.tensors, layout.parameters));
     if (problems.length > 0) throw new WeftError(problems);
 
@@ -125,8 +126,9 @@ export class Runtime {
       const { inputWidth, outputWidth } = layout.layers[i];
       // A reverse layer's one cell (named `backward`) runs in the forward slot over the sequence reversed.
       const reverse = layer.reverse === true;
-      const forward = makeCell(layer, inputWidth, layerPath(i, reverse ? 'backward' : 'forward'), weights, this.backend.kernels);
-      const backward = layer.bidirectional === true ? makeCell(layer, inputWidth, layerPath(i, 'backward'), weights, this.backend.kernels) : null;
+      const shape = { inputWidth, hidden: layer.hidden, layer };
+      const forward = runtimeCell(cellPlans[i], shape, layerPath(i, reverse ? 'backward' : 'forward'), weights, this.backend.kernels);
+      const backward = layer.bidirectional === true ? runtimeCell(cellPlans[i], shape, layerPath(i, 'backward'), weights, this.backend.kernels) : null;
       layers.push({ forward, backward, width: outputWidth, reverse });
     });
     this.layers = layers;
@@ -146,7 +148,7 @@ export class Runtime {
 
   /** State slots per stream, in order (h, or h and c, per layer), and their widths. */
   stateWidths(): number[] {
-    return this.layers.flatMap((l) => Array.from({ length: l.forward.slots }, () => l.forward.hidden));
+    return this.layers.flatMap((l) => [...l.forward.slotWidths]);
   }
 
   /** `count` independent streams, each starting from zero state. */
@@ -414,5 +416,5 @@ export interface RuntimeOptions extends ReadOptions {
  */
 export async function createRuntime(source: WeightSource, options: RuntimeOptions = {}): Promise<Runtime> {
   const file = await weightFileFrom(source, options);
-  return new Runtime(file, options.backend);
+  return new Runtime(file, options.backend, options.plans);
 }

@@ -1,0 +1,140 @@
+/**
+ * A cell's plan on the tape: its traced step run with core operations (each recorded, so the gradients come from
+ * the tape), and `PlanCell`, the training cell of any plan. The built-in cells run their plans' steps this way in
+ * `composed` mode (the reference their fused steps are proven against); a cell of your own is a plan and runs
+ * this way always, in training, in gradient checks, and (through the same traced step) in the runtime.
+ */
+import { add, fail, matmul, multiply, relu, sigmoid, slice, subtract, tanh } from '@weft/core';
+import type { DType, FloatArray, Random, Tape, Tensor } from '@weft/core';
+import type { CellStep, NamedParameter, RecurrentCell, StateSlot } from './cell.js';
+import type { LayerDescription } from './description.js';
+import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
+import type { CellPlan, CellShape, StepProgram } from './plans/plan.js';
+import { traceStep } from './plans/trace.js';
+import { checkStepArguments, createParameter, resolveCellOptions } from './recurrence.js';
+import type { CommonCellOptions } from './recurrence.js';
+
+/** Runs a traced step on `tape`: x [B, inputWidth] and the state in, the new state (slot order) out. */
+export function stepOnTape(program: StepProgram, tape: Tape, x: Tensor, state: readonly Tensor[], parameter: (name: string) => Tensor): Tensor[] {
+  const values: Tensor[] = new Array<Tensor>(program.values.length);
+  values[0] = x;
+  program.values.forEach((v, id) => {
+    if (v.source === 'state') values[id] = state[v.slot];
+    else if (v.source === 'vector') values[id] = parameter(v.name);
+  });
+  for (const instruction of program.instructions) {
+    const a = values[instruction.a];
+    const b = values[instruction.b];
+    let out: Tensor;
+    switch (instruction.operation) {
+      case 'product': out = matmul(tape, a, parameter(instruction.weights)); break;
+      case 'add': out = add(tape, a, b); break;
+      case 'subtract': out = subtract(tape, a, b); break;
+      case 'multiply': out = multiply(tape, a, b); break;
+      case 'sigmoid': out = sigmoid(tape, a); break;
+      case 'tanh': out = tanh(tape, a); break;
+      case 'relu': out = relu(tape, a); break;
+      case 'columns': out = slice(tape, a, instruction.start, instruction.start + program.values[instruction.out].width); break;
+    }
+    values[instruction.out] = out;
+  }
+  return program.results.map((r) => values[r]);
+}
+
+/** The parameters a traced plan names, made as trainable zeros, by name (in the plan's order). */
+function planParameters(program: StepProgram, dtype: DType): Map<string, Tensor> {
+  return new Map(program.parameters.map((p) => [p.name, createParameter(p.name, p.shape, dtype)]));
+}
+
+/** The parameters by name, as a cell lists them (the plan's order). */
+function namedParameters(parameters: ReadonlyMap<string, Tensor>): NamedParameter[] {
+  return [...parameters].map(([name, tensor]) => ({ name, tensor }));
+}
+
+/** The parameter `name` of a cell (`where`), or a WeftError when its plan has none of that name. */
+function parameterNamed(parameters: ReadonlyMap<string, Tensor>, name: string, where: string): Tensor {
+  const t = parameters.get(name);
+  if (t === undefined) fail('invalid_option', `${where}.parameters`, `a parameter '${name}' in the plan`, 'none');
+  return t;
+}
+
+/**
+ * The default initialisation of a plan's parameters. A matrix whose width is a multiple of H is taken as gate
+ * blocks H wide, each its own matrix: orthogonal when it has H rows (a recurrent block; Saxe, McClelland & Ganguli
+ * 2014), else Glorot-uniform with fanIn = its rows and fanOut = H (Glorot & Bengio 2010), as the built-in cells
+ * start. Any other matrix is Glorot-uniform over its own shape; vectors start at 0.
+ */
+export function initialisePlanParameters(parameters: ReadonlyMap<string, Tensor>, hidden: number, random: Random): void {
+  for (const tensor of parameters.values()) {
+    if (tensor.shape.length !== 2) continue;
+    const [rows, cols] = tensor.shape;
+    if (cols % hidden !== 0) {
+      fillUniform(tensor.data, cols, rows, 0, cols, glorotBound(rows, cols), random);
+      continue;
+    }
+    for (let block = 0; block < cols / hidden; block++) {
+      if (rows === hidden) fillOrthogonal(tensor.data, cols, hidden, block * hidden, random);
+      else fillUniform(tensor.data, cols, rows, block * hidden, hidden, glorotBound(rows, hidden), random);
+    }
+  }
+}
+
+/** How a plan's cell is made. */
+export interface PlanCellOptions extends CommonCellOptions {
+  /** The cell's plan. */
+  readonly plan: CellPlan;
+  /** The layer's description, for options of the plan's own; default `{ cell: plan.kind, hidden }`. */
+  readonly layer?: LayerDescription;
+  /**
+   * Sets the parameters' starting values (each given by name, zero-filled); default the plan's own `initialise`,
+   * else `initialisePlanParameters`.
+   */
+  readonly initialise?: (value: (name: string) => FloatArray, shape: CellShape, random: Random) => void;
+}
+
+/** The training cell of a plan: its parameters from the plan, its step the plan's step on the tape. */
+export class PlanCell implements RecurrentCell {
+  readonly kind: string;
+  readonly inputWidth: number;
+  readonly hidden: number;
+  readonly dtype: DType;
+  readonly state: readonly StateSlot[];
+  /** The plan's step traced for this cell's sizes. */
+  readonly program: StepProgram;
+  /** The cell's path in messages and parameter names (`layers[0].forward`). */
+  name: string;
+  private readonly tensors: Map<string, Tensor>;
+
+  constructor(options: PlanCellOptions) {
+    const { name, inputWidth, hidden, dtype, random } = resolveCellOptions(options, options.plan.kind);
+    const layer = options.layer ?? { cell: options.plan.kind, hidden };
+    const shape = { inputWidth, hidden, layer };
+    this.kind = options.plan.kind;
+    this.name = name;
+    this.inputWidth = inputWidth;
+    this.hidden = hidden;
+    this.dtype = dtype;
+    this.program = traceStep(options.plan, shape, name);
+    this.state = this.program.state;
+    this.tensors = planParameters(this.program, dtype);
+    const initialise = options.initialise ?? options.plan.initialise;
+    if (initialise !== undefined) initialise((n) => parameterNamed(this.tensors, n, name).data, shape, random);
+    else initialisePlanParameters(this.tensors, hidden, random);
+  }
+
+  parameters(): readonly NamedParameter[] {
+    return namedParameters(this.tensors);
+  }
+
+  /** One step of the plan on the tape (core operations); for a built-in cell, the reference its fused path is proven against. */
+  step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
+    checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
+    const next = stepOnTape(this.program, tape, x, state, (n) => this.parameter(n));
+    return { output: next[0], state: next };
+  }
+
+  /** The parameter `name` of the plan. */
+  protected parameter(name: string): Tensor {
+    return parameterNamed(this.tensors, name, this.name);
+  }
+}

@@ -1,0 +1,222 @@
+/**
+ * A cell run by the inference runtime: its weights in the runtime backend's memory, stepping a batch of rows into
+ * buffers made once, with nothing allocated per step. Any plan runs through its traced program (each operation
+ * on the runtime's kernels or a plain loop over the buffers); the three built-in cells run instead through one
+ * whole-layer kernel call per step (a streaming step crosses into WebAssembly once per layer), which computes the
+ * same equations as their plans (the runtime tests compare both with the training model).
+ */
+import { logistic } from '@weft/core/base';
+import type { ForwardKernels } from '@weft/core/forward/javascript';
+import type { CellPlan, CellShape, StepProgram } from './plan.js';
+import { traceStep } from './trace.js';
+
+/** A tensor of the weight file in the runtime backend's memory; `matrix` lays a product's weights out for its kernels. */
+export type Weights = (name: string, shape: readonly number[], matrix?: boolean) => Float32Array;
+
+/** Per-batch working memory of one layer direction. */
+export interface LayerBuffers {
+  /** State slots, [rows, width] each: h (and c for an LSTM). */
+  readonly state: Float32Array[];
+  /** Working memory of the step. */
+  readonly work: Float32Array[];
+}
+
+/** One direction's cell of a layer, as the runtime runs it. */
+export interface RuntimeCell {
+  /** The layer's hidden size (the output slot's width). */
+  readonly hidden: number;
+  /** Features per row read at each step. */
+  readonly inputWidth: number;
+  /** The width of each state slot, in order. */
+  readonly slotWidths: readonly number[];
+  /** Working memory for `rows` rows, from `allocate`. */
+  buffers(rows: number, allocate: (length: number) => Float32Array): LayerBuffers;
+  /**
+   * One step for `rows` rows: reads x [rows, inputWidth], updates the state in place (rows with step ≥ their
+   * length keep theirs). The new h is `buffers.state[0]`.
+   */
+  step(x: Float32Array, buffers: LayerBuffers, rows: number, lengths: Int32Array | null, step: number): void;
+}
+
+/** The runtime's cell for `plan` at `shape`, its parameters named `prefix.<name>` and taken from `weights`. */
+export function runtimeCell(plan: CellPlan, shape: CellShape, prefix: string, weights: Weights, kernels: ForwardKernels): RuntimeCell {
+  const fused = plan.kind === 'lstm' || plan.kind === 'gru' || plan.kind === 'plain' ? wholeLayerCell(plan.kind, shape, prefix, weights, kernels) : null;
+  return fused ?? programCell(traceStep(plan, shape, prefix), prefix, weights, kernels);
+}
+
+function wholeLayerCell(kind: 'lstm' | 'gru' | 'plain', shape: CellShape, prefix: string, weights: Weights, kernels: ForwardKernels): RuntimeCell {
+  const { inputWidth, hidden, layer } = shape;
+  if (kind === 'lstm') {
+    const input = weights(`${prefix}.input`, [inputWidth, 4 * hidden], true);
+    const recurrent = weights(`${prefix}.recurrent`, [hidden, 4 * hidden], true);
+    const bias = weights(`${prefix}.bias`, [4 * hidden]);
+    const peephole = layer.peepholes === true ? weights(`${prefix}.peephole`, [3 * hidden]) : null;
+    const lstmLayerStep = kernels.lstmLayerStep;
+    return {
+      hidden,
+      inputWidth,
+      slotWidths: [hidden, hidden],
+      buffers: (rows, allocate) => ({ state: [allocate(rows * hidden), allocate(rows * hidden)], work: [allocate(rows * 4 * hidden), allocate(rows * hidden)] }),
+      step(x, buffers, rows, lengths, step) {
+        // Indexing, not destructuring: this runs once per layer and step.
+        const state = buffers.state;
+        const work = buffers.work;
+        lstmLayerStep(x, input, recurrent, bias, peephole, state[0], state[1], work[0], work[1], rows, inputWidth, hidden, lengths, step);
+      },
+    };
+  }
+  if (kind === 'gru') {
+    const input = weights(`${prefix}.input`, [inputWidth, 3 * hidden], true);
+    const bias = weights(`${prefix}.bias`, [3 * hidden]);
+    const recurrent = weights(`${prefix}.recurrent`, [hidden, 2 * hidden], true);
+    const candidateWeights = weights(`${prefix}.recurrentCandidate`, [hidden, hidden], true);
+    const candidateBias = layer.resetAfterProduct === true ? weights(`${prefix}.recurrentCandidateBias`, [hidden]) : null;
+    const gruLayerStep = kernels.gruLayerStep;
+    return {
+      hidden,
+      inputWidth,
+      slotWidths: [hidden],
+      buffers: (rows, allocate) => ({
+        state: [allocate(rows * hidden)],
+        work: [allocate(rows * 3 * hidden), allocate(rows * 3 * hidden), allocate(rows * 2 * hidden), allocate(rows * hidden), allocate(rows * hidden)],
+      }),
+      step(x, buffers, rows, lengths, step) {
+        const work = buffers.work;
+        gruLayerStep(x, input, bias, recurrent, candidateWeights, candidateBias, buffers.state[0], work[0], work[1], work[2], work[3], work[4], rows, inputWidth, hidden, lengths, step);
+      },
+    };
+  }
+  const input = weights(`${prefix}.input`, [inputWidth, hidden], true);
+  const recurrent = weights(`${prefix}.recurrent`, [hidden, hidden], true);
+  const bias = weights(`${prefix}.bias`, [hidden]);
+  const rectified = layer.activation === 'relu';
+  const plainLayerStep = kernels.plainLayerStep;
+  return {
+    hidden,
+    inputWidth,
+    slotWidths: [hidden],
+    buffers: (rows, allocate) => ({ state: [allocate(rows * hidden)], work: [allocate(rows * hidden)] }),
+    step(x, buffers, rows, lengths, step) {
+      plainLayerStep(x, input, recurrent, bias, buffers.state[0], buffers.work[0], rectified, rows, inputWidth, hidden, lengths, step);
+    },
+  };
+}
+
+/** Where a traced program's values live: each one's source, and its slot, vector or working-buffer index. */
+interface ValuePlaces {
+  readonly sources: Int32Array;
+  readonly place: Int32Array;
+  readonly vectors: readonly Float32Array[];
+}
+
+const SOURCE_INPUT = 0;
+const SOURCE_STATE = 1;
+const SOURCE_VECTOR = 2;
+const SOURCE_COMPUTED = 3;
+
+/**
+ * A cell run through its traced program. Each computed value has a buffer ([rows, width], or [width] for a row);
+ * products run on the backend's affine kernel with a zero bias (so they read its packed weight matrices), the
+ * rest are loops over the buffers. The new state is written into the slots after the whole step, so every
+ * operation reads the state from before it.
+ */
+function programCell(program: StepProgram, prefix: string, weights: Weights, kernels: ForwardKernels): RuntimeCell {
+  const values = program.values;
+  const sources = Int32Array.from(values, (v) => (v.source === 'input' ? SOURCE_INPUT : v.source === 'state' ? SOURCE_STATE : v.source === 'vector' ? SOURCE_VECTOR : SOURCE_COMPUTED));
+  // Where each value lives: its slot, its vector's index, or its working buffer's index.
+  const place = new Int32Array(values.length);
+  const parameterArrays = new Map<string, Float32Array>();
+  for (const p of program.parameters) parameterArrays.set(p.name, weights(`${prefix}.${p.name}`, p.shape, p.shape.length === 2));
+  const vectors: Float32Array[] = [];
+  let computed = 0;
+  values.forEach((v, id) => {
+    if (v.source === 'state') place[id] = v.slot;
+    else if (v.source === 'vector') place[id] = vectors.push(parameterArrays.get(v.name) as Float32Array) - 1;
+    else if (v.source === 'computed') place[id] = computed++;
+  });
+  const rowValue = Uint8Array.from(values, (v) => (v.row ? 1 : 0));
+  const widths = Int32Array.from(values, (v) => v.width);
+  const instructions = program.instructions;
+  const matrices = instructions.map((i) => (i.operation === 'product' ? (parameterArrays.get(i.weights) as Float32Array) : null));
+  const widestProduct = Math.max(1, ...instructions.map((i) => (i.operation === 'product' ? widths[i.out] : 0)));
+  const results = Int32Array.from(program.results);
+  const where: ValuePlaces = { sources, place, vectors };
+  const slotWidths = program.state.map((s) => s.width);
+  return {
+    hidden: program.hidden,
+    inputWidth: program.inputWidth,
+    slotWidths,
+    buffers(rows, allocate) {
+      const state = slotWidths.map((w) => allocate(rows * w));
+      const work: Float32Array[] = [];
+      values.forEach((v) => {
+        if (v.source === 'computed') work.push(allocate(v.row ? v.width : rows * v.width));
+      });
+      // The zero bias of every product, last.
+      work.push(allocate(widestProduct));
+      return { state, work };
+    },
+    step(x, buffers, rows, lengths, step) {
+      const state = buffers.state;
+      const work = buffers.work;
+      const zero = work[work.length - 1];
+      for (let k = 0; k < instructions.length; k++) {
+        const instruction = instructions[k];
+        const out = work[place[instruction.out]];
+        const a = pick(instruction.a, where, work, state, x);
+        const width = widths[instruction.out];
+        const n = (rowValue[instruction.out] === 1 ? 1 : rows) * width;
+        switch (instruction.operation) {
+          case 'product':
+            kernels.affineRows(out, zero, a, matrices[k] as Float32Array, rows, widths[instruction.a], width);
+            break;
+          case 'add':
+          case 'subtract':
+          case 'multiply':
+            elementwise(instruction.operation, out, a, pick(instruction.b, where, work, state, x), n, rowValue[instruction.b] === 1 ? width : n);
+            break;
+          case 'sigmoid':
+            for (let i = 0; i < n; i++) out[i] = logistic(a[i]);
+            break;
+          case 'tanh':
+            for (let i = 0; i < n; i++) out[i] = Math.tanh(a[i]);
+            break;
+          case 'relu':
+            for (let i = 0; i < n; i++) out[i] = a[i] > 0 ? a[i] : 0;
+            break;
+          case 'columns': {
+            const from = widths[instruction.a];
+            const count = n / width;
+            for (let r = 0; r < count; r++) for (let j = 0; j < width; j++) out[r * width + j] = a[r * from + instruction.start + j];
+            break;
+          }
+        }
+      }
+      for (let s = 0; s < results.length; s++) {
+        const slot = state[s];
+        const next = work[place[results[s]]];
+        const width = slotWidths[s];
+        for (let r = 0; r < rows; r++) {
+          // Rows past their length hold their state.
+          if (lengths !== null && step >= lengths[r]) continue;
+          for (let j = r * width; j < (r + 1) * width; j++) slot[j] = next[j];
+        }
+      }
+    },
+  };
+}
+
+/** The array of value `id` (a function of the module, not a closure: the step makes no object). */
+function pick(id: number, where: ValuePlaces, work: readonly Float32Array[], state: readonly Float32Array[], x: Float32Array): Float32Array {
+  const source = where.sources[id];
+  if (source === SOURCE_COMPUTED) return work[where.place[id]];
+  if (source === SOURCE_STATE) return state[where.place[id]];
+  return source === SOURCE_VECTOR ? where.vectors[where.place[id]] : x;
+}
+
+/** out = a ∘ b over n numbers, b repeating every `period` numbers (a row broadcast) or not (period = n). */
+function elementwise(operation: 'add' | 'subtract' | 'multiply', out: Float32Array, a: Float32Array, b: Float32Array, n: number, period: number): void {
+  for (let i = 0, j = 0; i < n; i++, j = j + 1 === period ? 0 : j + 1) {
+    out[i] = operation === 'add' ? a[i] + b[j] : operation === 'subtract' ? a[i] - b[j] : a[i] * b[j];
+  }
+}
