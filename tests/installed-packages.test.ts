@@ -337,7 +337,8 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
     // (The seeded generator, random.js, is the runtime's too: @weft/core/base gives it for sampling.)
     const training = modules.filter((url) => /\/(tape|trainer|tensor|pool|gradient-check)\.js$|\/optim\/|\/ops\/|@weft\/(core|cells|io)\/dist\/index\.js$|\/kernels\/index\.js$/.test(url));
     expect(training).toEqual([]);
-    expect(modules.length).toBeLessThanOrEqual(45);
+    // 42 before the cells' step plans (cells/dist/plans: the plans, their tracer and the traced program's step) joined.
+    expect(modules.length).toBeLessThanOrEqual(50);
     await page.close();
   }, 60_000);
 

@@ -8,7 +8,7 @@ export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
 export { attentionLayout, cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';
 export type { CellPlan, CellShape, ParameterLayout as PlanParameter, PlanSlot, ProgramValue, StepInstruction, StepOperation, StepProgram, StepValue, StepWriter, ValueSource } from './plans/plan.js';
 export type { CellPlans } from './plans/index.js';
-export { builtInPlans, checkPlans, planOf } from './plans/index.js';
+export { builtInPlans, checkPlans, isNamespacedKind, namespacedKinds, planOf } from './plans/index.js';
 export { traceStep } from './plans/trace.js';
 export type { LayerBuffers, RuntimeCell, Weights } from './plans/forward.js';
 export { runtimeCell } from './plans/forward.js';

@@ -14,7 +14,7 @@
  */
 import { WeftError, isRecord } from '@weft/core/base';
 import type { Problem } from '@weft/core/base';
-import { planOf } from './plans/index.js';
+import { isNamespacedKind, planOf } from './plans/index.js';
 import { plainPlan } from './plans/plain.js';
 
 /** The cells weft builds itself, by their word in a description. */
@@ -155,7 +155,8 @@ export function describeProblems(value: unknown, path = 'description', customKin
       const kind = layer.cell;
       const known = typeof kind === 'string' && (Object.prototype.hasOwnProperty.call(layerKeys, kind) || customKinds.includes(kind));
       if (!known) {
-        add(`${where}.cell`, `one of ${[...Object.keys(layerKeys), ...customKinds].map((k) => `'${k}'`).join(', ')}`, kind);
+        const own = typeof kind === 'string' && isNamespacedKind(kind) ? ` (${kind} is a cell of your own: give its plan, plans: { '${kind}': … })` : '';
+        add(`${where}.cell`, `one of ${[...Object.keys(layerKeys), ...customKinds].map((k) => `'${k}'`).join(', ')}${own}`, kind);
       }
       const hidden = hiddenProblem(layer.hidden);
       if (hidden !== null) add(`${where}.hidden`, hidden, layer.hidden);

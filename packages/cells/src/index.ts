@@ -17,7 +17,7 @@ export { ATTENTION_FORMS, MAX_HIDDEN, checkDescription, describeAnyProblems, des
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
 export type { CellPlan, CellShape, PlanSlot, ProgramValue, StepInstruction, StepOperation, StepProgram, StepValue, StepWriter, ValueSource } from './plans/plan.js';
 export type { CellPlans } from './plans/index.js';
-export { builtInPlans, planOf } from './plans/index.js';
+export { builtInPlans, isNamespacedKind, namespacedKinds, planOf } from './plans/index.js';
 export { traceStep } from './plans/trace.js';
 export type { PlanCellOptions } from './plan-cell.js';
 export { PlanCell, initialisePlanParameters, stepOnTape } from './plan-cell.js';

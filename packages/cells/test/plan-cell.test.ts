@@ -67,7 +67,7 @@ describe('a plan on the tape', () => {
       return 'no error';
     };
     expect(refused({ 'test.other': mguPlan })).toMatch(/buildModel\.plans\.test\.other\.kind/);
-    expect(refused({ lstm: mguPlan })).toMatch(/buildModel\.plans\.lstm.*built in/);
+    expect(refused({ lstm: mguPlan })).toMatch(/buildModel\.plans\.lstm.*a namespaced kind of your own such as 'lab\.mgu'/);
     expect(refused({ 'test.mgu': () => mguPlan })).toMatch(/a cell maker\? plans are objects/);
   });
 });

@@ -27,8 +27,10 @@ export function modelTensors(model: { parameters(): readonly NamedParameter[] })
 export interface LoadOptions {
   /** Element type to build the model in; default `f32`. */
   readonly dtype?: DType;
-  /** Makers of the file's cells that are not built in, by their kind. */
+  /** Makers of the file's cells that are not built in, by their kind (training only). */
   readonly cells?: BuildOptions['cells'];
+  /** Plans of the file's cells that are not built in, by their kind (the file's tensors are checked against them). */
+  readonly plans?: BuildOptions['plans'];
 }
 
 /** A model with the weight file's values (computing in `dtype`, f32 by default). */
@@ -36,14 +38,14 @@ export function loadModel(file: WeightFile, options: LoadOptions = {}): Sequence
   if (isEncoderDecoder(file.model)) {
     fail('bad_weight_file', 'model.kind', 'a sequence model (use loadEncoderDecoder for this file)', '"encoder-decoder"');
   }
-  checkBeforeBuilding(file);
-  return fill(buildModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells }), file);
+  checkBeforeBuilding(file, options);
+  return fill(buildModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells, plans: options.plans }), file);
 }
 
-/** With built-in cells only, the file is checked against its layout before any model is built from it. */
-function checkBeforeBuilding(file: WeightFile): void {
+/** With a plan for every cell, the file is checked against its layout before any model is built from it. */
+function checkBeforeBuilding(file: WeightFile, options: LoadOptions): void {
   checkMetadata(file);
-  const layout = parameterLayout(file.model);
+  const layout = parameterLayout(file.model, options.plans);
   if (!layout.builtIn) return;
   const problems = layoutProblems(file.tensors, layout.parameters);
   if (problems.length > 0) throw new WeftError(problems);
@@ -51,8 +53,8 @@ function checkBeforeBuilding(file: WeightFile): void {
 
 /** An encoder-decoder model with the weight file's values. */
 export function loadEncoderDecoder(file: WeightFile, options: LoadOptions = {}): EncoderDecoderModel {
-  checkBeforeBuilding(file);
-  return fill(new EncoderDecoderModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells }), file);
+  checkBeforeBuilding(file, options);
+  return fill(new EncoderDecoderModel(file.model, { dtype: options.dtype ?? 'f32', cells: options.cells, plans: options.plans }), file);
 }
 
 function fill<M extends { parameters(): readonly NamedParameter[] }>(model: M, file: WeightFile): M {

@@ -16,7 +16,7 @@
  */
 import { WeftError, fail, isRecord } from '@weft/core/base';
 import type { FloatArray, Problem } from '@weft/core/base';
-import { checkPlans, describeAnyProblems } from '@weft/cells/description';
+import { checkPlans, describeAnyProblems, namespacedKinds } from '@weft/cells/description';
 import type { CellPlans } from '@weft/cells/description';
 import type { AnyModelDescription } from '@weft/cells/description';
 import { decodeBase64Into, decodedLength, encodeBase64 } from './base64.js';
@@ -181,7 +181,9 @@ function concatenate(parts: readonly Uint8Array[]): Uint8Array {
  * line per tensor.
  */
 export async function writeWeightFile(model: AnyModelDescription, tensors: readonly NamedValues[], options: WriteOptions = {}): Promise<string> {
-  const problems = describeAnyProblems(model, 'model');
+  // A cell of your own is written under its namespaced kind, its tensors with their shapes; reading it back asks
+  // for its plan.
+  const problems = describeAnyProblems(model, 'model', namespacedKinds(model));
   if (problems.length > 0) throw new WeftError(problems);
   const entries: string[] = [];
   const digestParts: Uint8Array[] = [];

@@ -1,6 +1,7 @@
 /**
  * weft to ONNX: a sequence model (built-in cells, stacked, bidirectional or reverse, embedding, readout) as an ONNX model of the
- * operators LSTM, GRU, RNN, Gather, Transpose, Reshape, Squeeze, MatMul and Add at operator set 22 (the newest that
+ * operators LSTM, GRU, RNN, Gather, Transpose, Reshape, Squeeze, MatMul and Add (a forward layer of a cell of your own:
+ * a Scan of its plan's step, plan-scan.ts) at operator set 22 (the newest that
  * defines them as used here, all at this form since set 22 or earlier) and IR version 10, the version that goes
  * with set 22. Inputs and outputs are named: `input` [steps, batch, width] (FLOAT) or `tokens` [steps, batch]
  * (INT64), optionally `lengths` [batch] (INT32) for ragged batches, and `output` [steps, batch, width]. The weight
@@ -11,12 +12,14 @@
  * recurrent bias goes to its Rb block), so every weight survives the round trip bit for bit.
  */
 import { fail } from '@weft/core';
-import { isEncoderDecoder, layerDirections, layerPath } from '@weft/cells/description';
-import type { ModelDescription } from '@weft/cells/description';
+import { checkPlans, isEncoderDecoder, layerDirections, layerPath, planOf, traceStep } from '@weft/cells/description';
+import type { CellPlans, LayerDescription, ModelDescription } from '@weft/cells/description';
 import type { WeightFile } from '../weight-file.js';
 import { gateBlocks, toOnnxBlocks } from './mapping.js';
 import type { OnnxModel, OnnxNode, OnnxTensor } from './model.js';
 import { ONNX_FLOAT, ONNX_INT32, ONNX_INT64 } from './model.js';
+import type { GraphWriter } from './plan-scan.js';
+import { writeScanLayer } from './plan-scan.js';
 
 /** The operator set weft writes. */
 export const ONNX_OPSET = 22;
@@ -29,6 +32,19 @@ export interface OnnxExportOptions {
   readonly lengths?: boolean;
   /** The version string written as `producer_version`. */
   readonly producerVersion?: string;
+  /** Plans of the file's cells that are not built in, by kind: each such layer is written as a Scan (plan-scan.ts). */
+  readonly plans?: CellPlans;
+}
+
+/** A layer of a cell of your own as a Scan, after the checks that it can be one; returns its output's name. */
+function ownCellLayer(layer: LayerDescription, i: number, width: number, input: string, options: OnnxExportOptions, take: (name: string) => Float32Array, graph: GraphWriter): string {
+  const where = `model.layers[${i}]`;
+  const plan = planOf(layer.cell, checkPlans(options.plans, 'exportOnnx.plans'));
+  if (plan === null) fail('invalid_option', `${where}.cell`, `a built-in cell ('lstm', 'gru', 'plain') or one whose plan is given (exportOnnx plans: { '${layer.cell}': … })`, JSON.stringify(layer.cell));
+  if (layer.bidirectional === true || layer.reverse === true) fail('invalid_option', where, `a forward layer (a cell of your own is written as an ONNX Scan, which runs forward only)`, layer.bidirectional === true ? 'bidirectional' : 'reverse');
+  if (options.lengths === true) fail('invalid_option', 'exportOnnx.lengths', `no lengths input (layer ${i}'s cell of your own is written as an ONNX Scan, which has no sequence lengths)`, 'true');
+  const program = traceStep(plan, { inputWidth: width, hidden: layer.hidden, layer }, layerPath(i, 'forward'));
+  return writeScanLayer(program, `layers[${i}]`, layerPath(i, 'forward'), input, take, graph);
 }
 
 /** A weight file's model as an ONNX model (see above). */
@@ -69,7 +85,11 @@ export function exportOnnx(file: WeightFile, options: OnnxExportOptions = {}): O
   if (options.lengths === true) inputs.push({ name: 'lengths', elementType: ONNX_INT32, dims: ['batch'] });
   description.layers.forEach((layer, i) => {
     const kind = layer.cell;
-    if (kind !== 'lstm' && kind !== 'gru' && kind !== 'plain') fail('invalid_option', `model.layers[${i}].cell`, "a built-in cell ('lstm', 'gru', 'plain')", JSON.stringify(kind));
+    if (kind !== 'lstm' && kind !== 'gru' && kind !== 'plain') {
+      current = ownCellLayer(layer, i, width, current, options, take, { floats, int64s, node });
+      width = layer.hidden;
+      return;
+    }
     const hidden = layer.hidden;
     const gates = kind === 'lstm' ? 4 : kind === 'gru' ? 3 : 1;
     const directions = layer.bidirectional === true ? 2 : 1;

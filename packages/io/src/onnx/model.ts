@@ -33,7 +33,7 @@ export interface OnnxTensor {
 export interface OnnxAttribute {
   /** The attribute's name (`hidden_size`). */
   readonly name: string;
-  /** AttributeProto.AttributeType: 1 FLOAT, 2 INT, 3 STRING, 4 TENSOR, 6 FLOATS, 7 INTS, 8 STRINGS. */
+  /** AttributeProto.AttributeType: 1 FLOAT, 2 INT, 3 STRING, 4 TENSOR, 5 GRAPH, 6 FLOATS, 7 INTS, 8 STRINGS. */
   readonly type: number;
   /** FLOAT. */
   readonly f?: number;
@@ -43,6 +43,8 @@ export interface OnnxAttribute {
   readonly s?: string;
   /** TENSOR. */
   readonly t?: OnnxTensor;
+  /** GRAPH (the body of a Scan). */
+  readonly g?: OnnxGraph;
   /** FLOATS. */
   readonly floats?: readonly number[];
   /** INTS. */
@@ -114,6 +116,9 @@ export interface OnnxModel {
   /** `metadata_props`, as key → value. */
   readonly metadata: Readonly<Record<string, string>>;
 }
+
+/** Deepest nesting of graphs in attributes (a Scan's body is one level) a file may have. */
+const MAX_GRAPH_DEPTH = 8;
 
 /** Most elements one tensor may hold (the weight file's limit). */
 const MAX_ELEMENTS = 50_000_000;
@@ -209,7 +214,7 @@ export function decodeTensor(bytes: Uint8Array, path = 'tensor', offset = 0): On
   fail('bad_data', `${where}.data_type`, 'FLOAT (1), INT32 (6) or INT64 (7)', `${typeNames[dataType] ?? 'unknown'} (${dataType})`);
 }
 
-function decodeAttribute(fields: WireField[], path: string, base: (f: WireField) => number): OnnxAttribute {
+function decodeAttribute(fields: WireField[], path: string, base: (f: WireField) => number, depth: number): OnnxAttribute {
   const map = groups(fields);
   const name = last(map, 1) === undefined ? '' : stringOf(last(map, 1)!, path, 'name');
   const where = `${path} (${name})`;
@@ -223,6 +228,8 @@ function decodeAttribute(fields: WireField[], path: string, base: (f: WireField)
   if (s !== undefined) attribute.s = stringOf(s, where, 's');
   const t = last(map, 5);
   if (t !== undefined) attribute.t = decodeTensor(bytesOf(t, where, 't'), `${where}.t`, base(t));
+  const g = last(map, 6);
+  if (g !== undefined) attribute.g = decodeGraph(groups(nested(g, where, 'g', base)), `${where}.g`, base, depth + 1);
   if (map.has(7)) attribute.floats = (map.get(7) ?? []).flatMap((x) => Array.from(floatsOf(x, where, 'floats')));
   if (map.has(8)) attribute.ints = (map.get(8) ?? []).flatMap((x) => int64sOf(x, where, 'ints'));
   if (map.has(9)) attribute.strings = (map.get(9) ?? []).map((x) => stringOf(x, where, 'strings'));
@@ -254,6 +261,36 @@ function decodeValueInfo(fields: WireField[], path: string, base: (f: WireField)
   return { name, elementType, dims };
 }
 
+/** Decodes a GraphProto's fields (the model's graph, or a Scan's body). */
+function decodeGraph(graph: Map<number, WireField[]>, path: string, base: (f: WireField) => number, depth = 0): OnnxGraph {
+  // A graph inside a node's attribute inside a graph …: bounded, so a crafted file cannot exhaust the stack.
+  if (depth > MAX_GRAPH_DEPTH) fail('bad_data', path, `graphs nested at most ${MAX_GRAPH_DEPTH} deep`, 'deeper');
+  const nodes = (graph.get(1) ?? []).map((f, index) => {
+    const where = `${path}.node[${index}]`;
+    const node = groups(nested(f, path, `node[${index}]`, base));
+    const name = last(node, 3) === undefined ? '' : stringOf(last(node, 3)!, where, 'name');
+    const opType = last(node, 4) === undefined ? '' : stringOf(last(node, 4)!, where, 'op_type');
+    const label = `${where} (${name === '' ? opType : `${name}, ${opType}`})`;
+    return {
+      name,
+      opType,
+      domain: last(node, 7) === undefined ? '' : stringOf(last(node, 7)!, label, 'domain'),
+      inputs: (node.get(1) ?? []).map((x) => stringOf(x, label, 'input')),
+      outputs: (node.get(2) ?? []).map((x) => stringOf(x, label, 'output')),
+      attributes: (node.get(5) ?? []).map((x, k) => decodeAttribute(nested(x, label, `attribute[${k}]`, base), `${label}.attribute[${k}]`, base, depth)),
+    };
+  });
+  const initializers = (graph.get(5) ?? []).map((f, k) => decodeTensor(bytesOf(f, path, `initializer[${k}]`), `${path}.initializer[${k}]`, base(f)));
+  const values = (number: number, name: string) => (graph.get(number) ?? []).map((f, k) => decodeValueInfo(nested(f, path, `${name}[${k}]`, base), `${path}.${name}[${k}]`, base));
+  return {
+    name: last(graph, 2) === undefined ? '' : stringOf(last(graph, 2)!, path, 'name'),
+    nodes,
+    initializers,
+    inputs: values(11, 'input'),
+    outputs: values(12, 'output'),
+  };
+}
+
 /** Decodes an ONNX model file. `file` names it in errors. */
 export function decodeOnnxModel(bytes: Uint8Array, file = 'model.onnx'): OnnxModel {
   const base = startOf(bytes, 0);
@@ -272,37 +309,13 @@ export function decodeOnnxModel(bytes: Uint8Array, file = 'model.onnx'): OnnxMod
   }
   const graphField = last(model, 7);
   if (graphField === undefined) fail('bad_data', `${file}.graph`, 'a graph', 'none (is this an ONNX model file?)');
-  const path = `${file}.graph`;
-  const graph = groups(nested(graphField, file, 'graph', base));
-  const nodes = (graph.get(1) ?? []).map((f, index) => {
-    const where = `${path}.node[${index}]`;
-    const node = groups(nested(f, path, `node[${index}]`, base));
-    const name = last(node, 3) === undefined ? '' : stringOf(last(node, 3)!, where, 'name');
-    const opType = last(node, 4) === undefined ? '' : stringOf(last(node, 4)!, where, 'op_type');
-    const label = `${where} (${name === '' ? opType : `${name}, ${opType}`})`;
-    return {
-      name,
-      opType,
-      domain: last(node, 7) === undefined ? '' : stringOf(last(node, 7)!, label, 'domain'),
-      inputs: (node.get(1) ?? []).map((x) => stringOf(x, label, 'input')),
-      outputs: (node.get(2) ?? []).map((x) => stringOf(x, label, 'output')),
-      attributes: (node.get(5) ?? []).map((x, k) => decodeAttribute(nested(x, label, `attribute[${k}]`, base), `${label}.attribute[${k}]`, base)),
-    };
-  });
-  const initializers = (graph.get(5) ?? []).map((f, k) => decodeTensor(bytesOf(f, path, `initializer[${k}]`), `${path}.initializer[${k}]`, base(f)));
-  const values = (number: number, name: string) => (graph.get(number) ?? []).map((f, k) => decodeValueInfo(nested(f, path, `${name}[${k}]`, base), `${path}.${name}[${k}]`, base));
+  const graph = decodeGraph(groups(nested(graphField, file, 'graph', base)), `${file}.graph`, base);
   return {
     irVersion,
     opsets,
     producerName: last(model, 2) === undefined ? '' : stringOf(last(model, 2)!, file, 'producer_name'),
     producerVersion: last(model, 3) === undefined ? '' : stringOf(last(model, 3)!, file, 'producer_version'),
-    graph: {
-      name: last(graph, 2) === undefined ? '' : stringOf(last(graph, 2)!, path, 'name'),
-      nodes,
-      initializers,
-      inputs: values(11, 'input'),
-      outputs: values(12, 'output'),
-    },
+    graph,
     metadata,
   };
 }
@@ -334,40 +347,43 @@ function writeValueInfo(w: ProtoWriter, v: OnnxValueInfo): void {
   }));
 }
 
+function writeGraph(g: ProtoWriter, graph: OnnxGraph): void {
+  for (const node of graph.nodes) {
+    g.message(1, (n) => {
+      for (const x of node.inputs) n.string(1, x);
+      for (const x of node.outputs) n.string(2, x);
+      if (node.name !== '') n.string(3, node.name);
+      n.string(4, node.opType);
+      for (const a of node.attributes) n.message(5, (attribute) => writeAttribute(attribute, a));
+      if (node.domain !== '') n.string(7, node.domain);
+    });
+  }
+  g.string(2, graph.name);
+  for (const t of graph.initializers) g.message(5, (x) => writeTensor(x, t));
+  for (const v of graph.inputs) g.message(11, (x) => writeValueInfo(x, v));
+  for (const v of graph.outputs) g.message(12, (x) => writeValueInfo(x, v));
+}
+
+function writeAttribute(attribute: ProtoWriter, a: OnnxAttribute): void {
+  attribute.string(1, a.name);
+  if (a.f !== undefined) attribute.float(2, a.f);
+  if (a.i !== undefined) attribute.int(3, a.i);
+  if (a.s !== undefined) attribute.string(4, a.s);
+  if (a.t !== undefined) attribute.message(5, (t) => writeTensor(t, a.t!));
+  if (a.g !== undefined) attribute.message(6, (g) => writeGraph(g, a.g!));
+  if (a.floats !== undefined) for (const v of a.floats) attribute.float(7, v);
+  if (a.ints !== undefined) for (const v of a.ints) attribute.int(8, v);
+  if (a.strings !== undefined) for (const v of a.strings) attribute.string(9, v);
+  attribute.int(20, a.type);
+}
+
 /** Encodes a model as an ONNX file's bytes (fields in schema order). */
 export function encodeOnnxModel(model: OnnxModel): Uint8Array {
   const w = new ProtoWriter();
   w.int(1, model.irVersion);
   w.string(2, model.producerName);
   w.string(3, model.producerVersion);
-  w.message(7, (g) => {
-    for (const node of model.graph.nodes) {
-      g.message(1, (n) => {
-        for (const x of node.inputs) n.string(1, x);
-        for (const x of node.outputs) n.string(2, x);
-        if (node.name !== '') n.string(3, node.name);
-        n.string(4, node.opType);
-        for (const a of node.attributes) {
-          n.message(5, (attribute) => {
-            attribute.string(1, a.name);
-            if (a.f !== undefined) attribute.float(2, a.f);
-            if (a.i !== undefined) attribute.int(3, a.i);
-            if (a.s !== undefined) attribute.string(4, a.s);
-            if (a.t !== undefined) attribute.message(5, (t) => writeTensor(t, a.t!));
-            if (a.floats !== undefined) for (const v of a.floats) attribute.float(7, v);
-            if (a.ints !== undefined) for (const v of a.ints) attribute.int(8, v);
-            if (a.strings !== undefined) for (const v of a.strings) attribute.string(9, v);
-            attribute.int(20, a.type);
-          });
-        }
-        if (node.domain !== '') n.string(7, node.domain);
-      });
-    }
-    g.string(2, model.graph.name);
-    for (const t of model.graph.initializers) g.message(5, (x) => writeTensor(x, t));
-    for (const v of model.graph.inputs) g.message(11, (x) => writeValueInfo(x, v));
-    for (const v of model.graph.outputs) g.message(12, (x) => writeValueInfo(x, v));
-  });
+  w.message(7, (g) => writeGraph(g, model.graph));
   for (const o of model.opsets) w.message(8, (x) => x.string(1, o.domain).int(2, o.version));
   for (const [key, value] of Object.entries(model.metadata)) w.message(14, (x) => x.string(1, key).string(2, value));
   return w.finish();

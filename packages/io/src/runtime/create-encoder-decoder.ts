@@ -9,5 +9,5 @@ import { weightFileFrom } from './source.js';
 /** An encoder-decoder runtime from a weight file in any form `createRuntime` takes (source.ts). */
 export async function createEncoderDecoderRuntime(source: WeightSource, options: RuntimeChoiceOptions = {}): Promise<EncoderDecoderRuntime> {
   const file = await weightFileFrom(source, options);
-  return new EncoderDecoderRuntime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes));
+  return new EncoderDecoderRuntime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes), options.plans);
 }

@@ -28,5 +28,5 @@ export function weightBytes(file: WeightFile): number {
  */
 export async function createRuntime(source: WeightSource, options: RuntimeChoiceOptions = {}): Promise<Runtime> {
   const file = await weightFileFrom(source, options);
-  return new Runtime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes));
+  return new Runtime(file, forwardBackend(options.backend, weightBytes(file), options.memoryBytes), options.plans);
 }

@@ -10,7 +10,7 @@
  * outputs in the source's order; beam search (beam.ts) is apart because it only steps a Decoding.
  */
 import { WeftError, fail } from '@weft/core/base';
-import type { AttentionForm, EncoderDecoderDescription } from '@weft/cells/description';
+import type { AttentionForm, EncoderDecoderDescription, CellPlans } from '@weft/cells/description';
 import { attentionLayout, isEncoderDecoder } from '@weft/cells/description';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
 import type { WeightMetadata } from '../weight-file.js';
@@ -109,7 +109,7 @@ export class EncoderDecoderRuntime {
     return this.decoder.backend;
   }
 
-  constructor(file: WeightFile, backend?: ForwardBackend) {
+  constructor(file: WeightFile, backend?: ForwardBackend, plans?: CellPlans) {
     if (!isEncoderDecoder(file.model)) {
       fail('bad_weight_file', 'model.kind', '"encoder-decoder" (use createRuntime for a sequence model)', 'a sequence model');
     }
@@ -120,8 +120,8 @@ export class EncoderDecoderRuntime {
     const own = file.tensors.filter((t) => !t.name.startsWith('encoder.') && !t.name.startsWith('decoder.'));
     const problems = layoutProblems(own, layout);
     if (problems.length > 0) throw new WeftError(problems);
-    this.encoder = new Runtime(part(file, 'encoder', description), backend);
-    this.decoder = new Runtime(part(file, 'decoder', description), this.encoder.backend);
+    this.encoder = new Runtime(part(file, 'encoder', description), backend, plans);
+    this.decoder = new Runtime(part(file, 'decoder', description), this.encoder.backend, plans);
     const top = description.encoder.layers[description.encoder.layers.length - 1];
     this.encodedWidth = top.hidden * (top.bidirectional === true ? 2 : 1);
     this.outputWidth = (description.decoder.readout as { width: number }).width;

@@ -10,6 +10,8 @@ import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { loadModel, modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
 import { ONNX_IR_VERSION, ONNX_OPSET, decodeOnnxModel, encodeOnnxModel, exportOnnx, importOnnx, onnxFromWeightFile, weightFileFromOnnx } from '@weft/io/onnx';
 import { decodeIndependently, floatsOfIndependent } from './independent.js';
+import { evaluateGraph } from './evaluate.js';
+import { mguPlan } from '../../../cells/test/plans/mgu.js';
 
 const values = (width: number): ModelDescription['input'] => ({ kind: 'values', width });
 const tokens = { kind: 'embedding' as const, vocabulary: 7, width: 4 };
@@ -91,5 +93,46 @@ describe('exporting to ONNX and importing back', () => {
     const ours = decodeOnnxModel(encodeOnnxModel(onnx));
     expect(ours.graph.nodes.map((n) => n.opType)).toEqual(decoded.graph.node.map((n) => n.opType));
     expect(importOnnx(ours).binding.lengths).toBe('lengths');
+  });
+});
+
+describe('exporting a cell of your own to ONNX', () => {
+  const plans = { 'test.mgu': mguPlan };
+  const description: ModelDescription = { input: values(3), layers: [{ cell: 'test.mgu', hidden: 5 }, { cell: 'test.mgu', hidden: 4 }], readout: { width: 2 } };
+
+  it('writes each of its layers as a Scan of its plan\'s step, which an evaluator of the ONNX operators runs to the model\'s outputs', async () => {
+    const model = buildModel(description, { seed: 5, plans });
+    const random = new Random('own-cell-onnx');
+    for (const p of model.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
+    const bytes = await onnxFromWeightFile(await writeWeightFile(model.description, modelTensors(model)), { plans });
+    // Decoded by protobufjs with ONNX's schema, run by evaluate.ts: nothing of weft's reader or runtime takes part.
+    const graph = (decodeIndependently(bytes) as { graph: Record<string, unknown> }).graph;
+    const nodes = graph.node as { opType: string; attribute?: { name: string; g?: { node: { opType: string }[] } }[] }[];
+    expect(nodes.filter((n) => n.opType === 'Scan')).toHaveLength(2);
+    const body = nodes.find((n) => n.opType === 'Scan')!.attribute!.find((a) => a.name === 'body')!.g!;
+    expect([...new Set(body.node.map((n) => n.opType))].sort()).toEqual(['Add', 'Identity', 'MatMul', 'Mul', 'Sigmoid', 'Slice', 'Sub', 'Tanh']);
+    const [steps, batch] = [6, 2];
+    const input = Float32Array.from({ length: steps * batch * 3 }, () => random.between(-1, 1));
+    const evaluated = evaluateGraph(graph, new Map([['input', { dims: [steps, batch, 3], data: Array.from(input) }]])).get('output')!;
+    const expected = model.run(new Tape({ recording: false }), tensor(input, [steps, batch, 3])).outputs.data;
+    expect(evaluated.dims).toEqual([steps, batch, 2]);
+    let worst = 0;
+    evaluated.data.forEach((v, i) => (worst = Math.max(worst, Math.abs(v - expected[i]))));
+    // f32 weights and model against the evaluator's f64.
+    expect(worst).toBeLessThan(1e-5);
+    // Our own decoder reads the Scan's body back as written.
+    const ours = decodeOnnxModel(bytes).graph.nodes.find((n) => n.opType === 'Scan')!;
+    expect(ours.attributes.find((a) => a.name === 'body')!.g!.nodes.map((n) => n.opType)).toEqual(body.node.map((n) => n.opType));
+  });
+
+  it('refuses, in one line naming the place, a layer with no plan, a bidirectional one, and a lengths input', async () => {
+    const text = async (layers: ModelDescription['layers']): Promise<string> => writeWeightFile({ input: values(3), layers }, modelTensors(buildModel({ input: values(3), layers }, { plans })));
+    const message = (promise: Promise<unknown>): Promise<string> => promise.then(() => 'written', (error: Error) => error.message);
+    const plain = await text([{ cell: 'test.mgu', hidden: 3 }]);
+    expect(await message(onnxFromWeightFile(plain, { plans, lengths: true }))).toMatch(/exportOnnx\.lengths: expected no lengths input \(layer 0's cell of your own is written as an ONNX Scan/);
+    const file = await readWeightFile(plain, { plans });
+    expect(() => exportOnnx(file)).toThrowError(/model\.layers\[0\]\.cell: expected a built-in cell .* or one whose plan is given/);
+    const both = await text([{ cell: 'test.mgu', hidden: 3, bidirectional: true }]);
+    expect(await message(onnxFromWeightFile(both, { plans }))).toMatch(/model\.layers\[0\]: expected a forward layer .*received bidirectional/);
   });
 });

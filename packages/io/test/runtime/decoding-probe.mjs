@@ -2,7 +2,7 @@
 // attention and a forward-only encoder reading its source reversed; decoding.start(source) and two steps, 20,000
 // times after a warm-up, the garbage collections counted, then again while each start also makes one small array of
 // four numbers (the control: it shows the count sees an allocation of that size).
-import { PerformanceObserver } from 'node:perf_hooks';
+import { collectionsDuring } from '../../../../tests/helpers/collections.mjs';
 import { EncoderDecoderModel } from '@weft/cells';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
@@ -27,16 +27,5 @@ const run = (count, extra) => {
     if (extra) kept = Float64Array.of(i, i, i, i);
   }
 };
-run(20_000, false);
-globalThis.gc();
-let collections = 0;
-const observer = new PerformanceObserver((list) => (collections += list.getEntries().length));
-observer.observe({ entryTypes: ['gc'] });
-run(20_000, false);
-await new Promise((resolve) => setTimeout(resolve, 50));
-const counted = collections;
-collections = 0;
-run(20_000, true);
-await new Promise((resolve) => setTimeout(resolve, 50));
-observer.disconnect();
-console.log(JSON.stringify({ collections: counted, starts: 20_000, control: collections, kept: kept?.[0] ?? null }));
+const { collections, control } = await collectionsDuring(run, 20_000);
+console.log(JSON.stringify({ collections, starts: 20_000, control, kept: kept?.[0] ?? null }));
