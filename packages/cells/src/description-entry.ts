@@ -12,3 +12,5 @@ export { builtInPlans, checkPlans, isNamespacedKind, namespacedKinds, planOf } f
 export { traceStep } from './plans/trace.js';
 export type { LayerBuffers, RuntimeCell, Weights } from './plans/forward.js';
 export { runtimeCell } from './plans/forward.js';
+export type { SequenceShape } from './sequence-rows.js';
+export { joinFeatures, reverseRows, zeroBeyond } from './sequence-rows.js';

@@ -1,5 +1,6 @@
 /**
- * Tape operations on time-major sequences [T, B, F] (see cell.ts), with per-row lengths for ragged batches.
+ * Tape operations on time-major sequences [T, B, F] (see cell.ts), with per-row lengths for ragged batches (their
+ * arithmetic, where the runtime needs it too, is in sequence-rows.ts).
  *
  * Our convention for a row b of length L < T (written down in the package README): its outputs at steps ≥ L are
  * zero, its state is held from step L − 1, its final state is the state after its last valid step, and a
@@ -10,6 +11,8 @@
  */
 import { noTensor } from '@weft/core';
 import type { FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
+import { reverseRows, zeroBeyond } from './sequence-rows.js';
+import type { SequenceShape } from './sequence-rows.js';
 
 /** What an operation on a ragged sequence saves: its input and the rows' lengths (null: every row is full). */
 interface RaggedSaved {
@@ -24,6 +27,12 @@ function recordRagged(tape: Tape, kind: OperationKind<RaggedSaved>, out: Tensor,
   if (saved === null) return;
   saved.sequence = sequence;
   saved.lengths = lengths;
+}
+
+/** The sizes of a [T, B, F] tensor. */
+function shapeOf(sequence: Tensor): SequenceShape {
+  const [steps, rows, width] = sequence.shape;
+  return { steps, rows, width };
 }
 
 /** True when row `row` is still inside its sequence at `step`. */
@@ -122,7 +131,7 @@ const reverseKind: OperationKind<RaggedSaved> = {
   saves: savesRagged,
   backward(node, tape): void {
     const { sequence, lengths } = node.saved;
-    reverseRows(tape.gradientOf(sequence), node.output.gradient!, sequence.shape, lengths, true);
+    reverseRows(tape.gradientOf(sequence), node.output.gradient!, shapeOf(sequence), lengths, true);
   },
 };
 
@@ -133,36 +142,9 @@ const reverseKind: OperationKind<RaggedSaved> = {
  */
 export function reverseWithinLengths(tape: Tape, sequence: Tensor, lengths: Int32Array | null): Tensor {
   const out = tape.output(sequence.shape, sequence.dtype, sequence.tracked);
-  reverseRows(out.data, sequence.data, sequence.shape, lengths, false);
+  reverseRows(out.data, sequence.data, shapeOf(sequence), lengths);
   recordRagged(tape, reverseKind, out, sequence, lengths);
   return out;
-}
-
-/**
- * The permutation itself. Forward (`accumulate` false): target[s, b] = source[L_b−1−s, b], zero beyond. Backward
- * (`accumulate` true): target[L_b−1−s, b] += source[s, b].
- */
-function reverseRows(
-  target: Float32Array | Float64Array,
-  source: Float32Array | Float64Array,
-  shape: readonly number[],
-  lengths: Int32Array | null,
-  accumulate: boolean,
-): void {
-  const [steps, rows, width] = shape;
-  for (let b = 0; b < rows; b++) {
-    const length = lengths === null ? steps : lengths[b];
-    for (let s = 0; s < steps; s++) {
-      const at = (s * rows + b) * width;
-      if (s >= length) {
-        if (!accumulate) for (let j = 0; j < width; j++) target[at + j] = 0;
-        continue;
-      }
-      const mirrored = ((length - 1 - s) * rows + b) * width;
-      if (accumulate) for (let j = 0; j < width; j++) target[mirrored + j] += source[at + j];
-      else for (let j = 0; j < width; j++) target[at + j] = source[mirrored + j];
-    }
-  }
 }
 
 /** What `holdInactiveRows` saves: the new and the held state, the rows' lengths and the step. */
@@ -253,25 +235,14 @@ const maskKind: OperationKind<RaggedSaved> = {
   saves: savesRagged,
   backward(node, tape): void {
     const sequence = node.saved.sequence;
-    const lengths = node.saved.lengths as Int32Array;
-    const g = node.output.gradient!;
-    const gs = tape.gradientOf(sequence);
-    const [, rows, width] = sequence.shape;
-    for (let p = 0; p < sequence.size / width; p++) {
-      if (Math.floor(p / rows) >= lengths[p % rows]) continue;
-      for (let j = 0; j < width; j++) gs[p * width + j] += g[p * width + j];
-    }
+    zeroBeyond(tape.gradientOf(sequence), node.output.gradient!, shapeOf(sequence), node.saved.lengths as Int32Array, true);
   },
 };
 
 /** The sequence with every position beyond its row's length set to zero (and no gradient flowing there). */
 export function zeroBeyondLengths(tape: Tape, sequence: Tensor, lengths: Int32Array): Tensor {
-  const [, rows, width] = sequence.shape;
   const out = tape.output(sequence.shape, sequence.dtype, sequence.tracked);
-  for (let p = 0; p < sequence.size / width; p++) {
-    const keep = Math.floor(p / rows) < lengths[p % rows];
-    for (let j = 0; j < width; j++) out.data[p * width + j] = keep ? sequence.data[p * width + j] : 0;
-  }
+  zeroBeyond(out.data, sequence.data, shapeOf(sequence), lengths);
   recordRagged(tape, maskKind, out, sequence, lengths);
   return out;
 }

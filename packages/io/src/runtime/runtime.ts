@@ -14,7 +14,7 @@
 import { WeftError, fail } from '@weft/core/base';
 import type { Problem } from '@weft/core/base';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
-import { isEncoderDecoder, layerPath, modelLayout, planOf, runtimeCell } from '@weft/cells/description';
+import { isEncoderDecoder, joinFeatures, layerPath, modelLayout, planOf, reverseRows, runtimeCell, zeroBeyond } from '@weft/cells/description';
 import type { CellPlan, CellPlans, LayerBuffers, RuntimeCell } from '@weft/cells/description';
 import { layoutProblems } from '../layout-check.js';
 import { defaultForward } from './forward-default.js';
@@ -194,14 +194,14 @@ export class Runtime {
         const back = layer.reverse ? layer.forward : layer.backward;
         let behind: Float32Array | null = null;
         if (back !== null) {
-          const outputs = runDirection(back, reverseWithin(features, steps, batch, width, rowsLengths, temporary(features.length)), steps, batch, width, rowsLengths, temporary, finalState);
-          behind = reverseWithin(outputs, steps, batch, back.hidden, rowsLengths, temporary(outputs.length));
+          const reversed = temporary(features.length);
+          reverseRows(reversed, features, { steps, rows: batch, width }, rowsLengths);
+          const outputs = runDirection(back, reversed, steps, batch, width, rowsLengths, temporary, finalState);
+          behind = temporary(outputs.length);
+          reverseRows(behind, outputs, { steps, rows: batch, width: back.hidden }, rowsLengths);
         }
-        const hf = ahead === null ? 0 : layer.forward.hidden;
-        for (let p = 0; p < steps * batch; p++) {
-          if (ahead !== null) out.set(ahead.subarray(p * hf, (p + 1) * hf), p * layer.width);
-          if (behind !== null && back !== null) out.set(behind.subarray(p * back.hidden, (p + 1) * back.hidden), p * layer.width + hf);
-        }
+        if (ahead !== null && behind !== null && back !== null) joinFeatures(out, ahead, behind, layer.forward.hidden, back.hidden);
+        else out.set((ahead ?? behind) as Float32Array);
         features = out;
         width = layer.width;
       }
@@ -241,11 +241,7 @@ export class Runtime {
     } else {
       this.backend.kernels.affineRows(out, this.readoutBias, features, this.readoutWeights, positions, this.featureWidth, this.outputWidth);
     }
-    if (lengths !== null) {
-      for (let p = 0; p < positions; p++) {
-        if (Math.floor(p / batch) >= lengths[p % batch]) out.fill(0, p * this.outputWidth, (p + 1) * this.outputWidth);
-      }
-    }
+    if (lengths !== null) zeroBeyond(out, out, { steps: positions / batch, rows: batch, width: this.outputWidth }, lengths);
     return out;
   }
 
@@ -269,15 +265,6 @@ function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: 
     }
   }
   if (finalState !== undefined) for (const slot of buffers.state) finalState.push(slot.slice());
-  return out;
-}
-
-/** out[s, b] = in[L_b − 1 − s, b] for s < L_b, zero beyond (our ragged convention for the reverse direction). */
-function reverseWithin(x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null, out: Float32Array): Float32Array {
-  for (let b = 0; b < batch; b++) {
-    const length = lengths === null ? steps : lengths[b];
-    for (let s = 0; s < length; s++) out.set(x.subarray(((length - 1 - s) * batch + b) * width, ((length - 1 - s) * batch + b + 1) * width), (s * batch + b) * width);
-  }
   return out;
 }
 
