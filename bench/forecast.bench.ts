@@ -41,8 +41,16 @@ export const cases: BenchCase[] = [
     measureAsync: async (_backend, seconds) => {
       const folder = mkdtempSync(join(tmpdir(), 'weft-bench-forecast-'));
       const file = join(folder, 'short.csv');
-      writeFileSync(file, `level\n${seasonalTrend(200).map((v) => v.toFixed(4)).join('\n')}\n`);
-      return runsPerSecond(() => train(parseArgs('train', [file, '--quiet', '--start-over', '--out', join(folder, 'short.weft.json')], trainFlags), () => undefined), seconds);
+      writeFileSync(
+        file,
+        `level\n${seasonalTrend(200)
+          .map((v) => v.toFixed(4))
+          .join('\n')}\n`,
+      );
+      return runsPerSecond(
+        () => train(parseArgs('train', [file, '--quiet', '--start-over', '--out', join(folder, 'short.weft.json')], trainFlags), () => undefined),
+        seconds,
+      );
     },
     setup: () => () => undefined,
     value: (callsPerSecond) => 1 / callsPerSecond,
@@ -54,7 +62,10 @@ export const cases: BenchCase[] = [
     measureAsync: async (_backend, seconds) => {
       const folder = mkdtempSync(join(tmpdir(), 'weft-bench-panel-'));
       const file = fileURLToPath(new URL('../node_modules/vega-datasets/data/unemployment-across-industries.json', import.meta.url));
-      return runsPerSecond(() => train(parseArgs('train', [file, '--quiet', '--start-over', '--out', join(folder, 'industries.weft.json')], trainFlags), () => undefined), seconds);
+      return runsPerSecond(
+        () => train(parseArgs('train', [file, '--quiet', '--start-over', '--out', join(folder, 'industries.weft.json')], trainFlags), () => undefined),
+        seconds,
+      );
     },
     setup: () => () => undefined,
     value: (callsPerSecond) => 1 / callsPerSecond,

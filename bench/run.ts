@@ -49,7 +49,9 @@ for (const module of modules) {
       setDefaultBackend(backend);
       const result = await measure(item, seconds, backend);
       results[id] = result;
-      console.log(`${id.padEnd(52)} ${String(result.value).padStart(10)} ${result.unit}${result.marginPercent === undefined ? '' : `  ±${result.marginPercent}%`}`);
+      console.log(
+        `${id.padEnd(52)} ${String(result.value).padStart(10)} ${result.unit}${result.marginPercent === undefined ? '' : `  ±${result.marginPercent}%`}`,
+      );
     }
     setDefaultBackend(chosen);
   }
@@ -87,6 +89,6 @@ const file = {
 };
 mkdirSync(dirname(path), { recursive: true });
 const temporary = `${path}.${process.pid}.tmp`;
-writeFileSync(temporary, JSON.stringify(file, null, 2) + '\n');
+writeFileSync(temporary, `${JSON.stringify(file, null, 2)}\n`);
 renameSync(temporary, path);
 console.log(`wrote ${path}`);

@@ -35,19 +35,34 @@ function idOf(s: Shape): string {
 
 function setup(shape: Shape, threads?: Awaited<ReturnType<typeof startTrainingThreads>>): { model: SequenceModel; trainer: Trainer; optimizer: AdamRule } {
   const random = new Random(`train-${idOf(shape)}`);
-  const model = buildModel({ input: { kind: 'values', width: shape.inputs }, layers: [{ cell: shape.cell, hidden: shape.hidden }], readout: { width: shape.classes } }, { seed: 1 });
+  const model = buildModel(
+    { input: { kind: 'values', width: shape.inputs }, layers: [{ cell: shape.cell, hidden: shape.hidden }], readout: { width: shape.classes } },
+    { seed: 1 },
+  );
   const batch: Batch = {
     input: randomUniform([shape.steps, shape.batch, shape.inputs], random, -1, 1, 'f32'),
     steps: shape.steps,
     batch: shape.batch,
     lengths: null,
-    targets: { kind: 'classes', perStep: true, classes: Int32Array.from({ length: shape.steps * shape.batch }, () => random.integer(shape.classes)), weights: null },
+    targets: {
+      kind: 'classes',
+      perStep: true,
+      classes: Int32Array.from({ length: shape.steps * shape.batch }, () => random.integer(shape.classes)),
+      weights: null,
+    },
     positions: shape.steps * shape.batch,
   };
   // The same batch every step, so the bench measures the step, not data preparation.
   const data: DataSource = { batchesPerEpoch: 1_000_000, carriesState: false, batch: () => batch };
   const optimizer = new AdamRule({ rate: 1e-4 });
-  const trainer = new Trainer({ model, data, optimizer, epochs: 1, gradientNormLimit: 1, ...(threads === undefined ? {} : { workers: threads, shardRows: shape.batch / 2 }) });
+  const trainer = new Trainer({
+    model,
+    data,
+    optimizer,
+    epochs: 1,
+    gradientNormLimit: 1,
+    ...(threads === undefined ? {} : { workers: threads, shardRows: shape.batch / 2 }),
+  });
   return { model, trainer, optimizer };
 }
 
@@ -109,7 +124,10 @@ function threadsCase(shape: Shape, count: number): BenchCase {
     defaultOnly: true,
     setup: () => () => undefined,
     measureAsync: async (_backend, seconds) => {
-      const model = buildModel({ input: { kind: 'values', width: shape.inputs }, layers: [{ cell: shape.cell, hidden: shape.hidden }], readout: { width: shape.classes } }, { seed: 1 });
+      const model = buildModel(
+        { input: { kind: 'values', width: shape.inputs }, layers: [{ cell: shape.cell, hidden: shape.hidden }], readout: { width: shape.classes } },
+        { seed: 1 },
+      );
       const threads = await startTrainingThreads({ count, model });
       try {
         const { trainer } = setup(shape, threads);
@@ -137,7 +155,8 @@ export const derived: Derived = (results): Record<string, BenchResult> => {
   const out: Record<string, BenchResult> = {};
   const step = results[idOf(main)];
   const update = results[`${idOf(main)}.update-only`];
-  if (step !== undefined && update !== undefined) out[`${idOf(main)}.update-share`] = { value: Number((update.value / step.value).toPrecision(4)), unit: 'ratio' };
+  if (step !== undefined && update !== undefined)
+    out[`${idOf(main)}.update-share`] = { value: Number((update.value / step.value).toPrecision(4)), unit: 'ratio' };
   const one = results[`${idOf(main)}.workers1`];
   const two = results[`${idOf(main)}.workers2`];
   if (one !== undefined && two !== undefined) out[`${idOf(main)}.workers2.speedup`] = { value: Number((two.value / one.value).toPrecision(4)), unit: 'ratio' };

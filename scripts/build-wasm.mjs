@@ -23,18 +23,24 @@ const outputFolder = join(root, 'packages/core/src/backend');
  * small. In steps.ts (the gate arithmetic, bound by chains of dependent operations) the vector loop first runs two
  * vectors per turn. The agreement tests check the expanded kernels against their JavaScript twins.
  */
-const laneLoop = /(?<indent>[ ]*)for \(let (?<v>\w+) = 0; \k<v> < (?<n>[\w ]+); \) \{\n\k<indent>  const full = \k<v> \+ 4 <= \k<n>;\n(?<body>[\s\S]*?)\n\k<indent>  \k<v> \+= full \? 4 : 1;\n\k<indent>\}/g;
+const laneLoop =
+  /(?<indent>[ ]*)for \(let (?<v>\w+) = 0; \k<v> < (?<n>[\w ]+); \) \{\n\k<indent> {2}const full = \k<v> \+ 4 <= \k<n>;\n(?<body>[\s\S]*?)\n\k<indent> {2}\k<v> \+= full \? 4 : 1;\n\k<indent>\}/g;
 
 function expandLaneLoops(text, twoPerTurn) {
   return text.replace(laneLoop, (...match) => {
     const { indent, v, n, body } = match[match.length - 1];
-    const nested = (block) => block.split('\n').map((line) => (line === '' ? line : `  ${line}`)).join('\n');
+    const nested = (block) =>
+      block
+        .split('\n')
+        .map((line) => (line === '' ? line : `  ${line}`))
+        .join('\n');
     const tail = body.replaceAll('sigmoid4(', 'sigmoidCall4(').replaceAll('tanh4(', 'tanhCall4(');
     let out = `${indent}let ${v} = 0;\n`;
     if (twoPerTurn) {
       const second = body.replace(new RegExp(`\\b${v}\\b`, 'g'), `${v}Next`);
-      out += `${indent}for (; ${v} + 8 <= ${n}; ${v} += 8) {\n${indent}  {\n${indent}    const full = true;\n${nested(body)}\n${indent}  }\n`
-        + `${indent}  {\n${indent}    const full = true;\n${indent}    const ${v}Next = ${v} + 4;\n${nested(second)}\n${indent}  }\n${indent}}\n`;
+      out +=
+        `${indent}for (; ${v} + 8 <= ${n}; ${v} += 8) {\n${indent}  {\n${indent}    const full = true;\n${nested(body)}\n${indent}  }\n` +
+        `${indent}  {\n${indent}    const full = true;\n${indent}    const ${v}Next = ${v} + 4;\n${nested(second)}\n${indent}  }\n${indent}}\n`;
     }
     out += `${indent}for (; ${v} + 4 <= ${n}; ${v} += 4) {\n${indent}  const full = true;\n${body}\n${indent}}\n`;
     out += `${indent}for (; ${v} < ${n}; ${v}++) {\n${indent}  const full = false;\n${tail}\n${indent}}`;
@@ -43,9 +49,14 @@ function expandLaneLoops(text, twoPerTurn) {
 }
 
 const sources = Object.fromEntries(
-  readdirSync(sourceFolder).filter((name) => name.endsWith('.ts')).map((name) => [name, readFileSync(join(sourceFolder, name), 'utf8')]),
+  readdirSync(sourceFolder)
+    .filter((name) => name.endsWith('.ts'))
+    .map((name) => [name, readFileSync(join(sourceFolder, name), 'utf8')]),
 );
-const newestSource = Math.max(...Object.keys(sources).map((name) => statSync(join(sourceFolder, name)).mtimeMs), statSync(fileURLToPath(import.meta.url)).mtimeMs);
+const newestSource = Math.max(
+  ...Object.keys(sources).map((name) => statSync(join(sourceFolder, name)).mtimeMs),
+  statSync(fileURLToPath(import.meta.url)).mtimeMs,
+);
 
 const modules = [
   { entry: 'training.ts', output: 'wasm-training.generated.ts', name: 'trainingModuleBase64', what: 'every kernel of the WebAssembly backend' },
@@ -65,36 +76,58 @@ for (const module of modules) {
   // just what its entry names.
   let bytes = null;
   const errors = [];
-  const { error } = await asc.main([
-    join(sourceFolder, module.entry), '--outFile', 'module.wasm', '-O3', '--runtime', 'stub', '--enable', 'simd',
-    '--importMemory', '--noAssert', '--noExportMemory',
-  ], {
-    readFile: (name, baseDir) => {
-      const path = resolve(baseDir, name);
-      let text;
-      try {
-        text = readFileSync(path, 'utf8');
-      } catch {
-        return null;
-      }
-      if (!path.startsWith(sourceFolder)) return text;
-      return expandLaneLoops(text, path.endsWith('steps.ts'));
+  const { error } = await asc.main(
+    [
+      join(sourceFolder, module.entry),
+      '--outFile',
+      'module.wasm',
+      '-O3',
+      '--runtime',
+      'stub',
+      '--enable',
+      'simd',
+      '--importMemory',
+      '--noAssert',
+      '--noExportMemory',
+    ],
+    {
+      readFile: (name, baseDir) => {
+        const path = resolve(baseDir, name);
+        let text;
+        try {
+          text = readFileSync(path, 'utf8');
+        } catch {
+          return null;
+        }
+        if (!path.startsWith(sourceFolder)) return text;
+        return expandLaneLoops(text, path.endsWith('steps.ts'));
+      },
+      writeFile: (name, contents) => {
+        if (name.endsWith('.wasm')) bytes = contents;
+      },
+      stdout: { write: () => true },
+      stderr: {
+        write: (text) => {
+          errors.push(String(text));
+          return true;
+        },
+      },
     },
-    writeFile: (name, contents) => { if (name.endsWith('.wasm')) bytes = contents; },
-    stdout: { write: () => true },
-    stderr: { write: (text) => { errors.push(String(text)); return true; } },
-  });
+  );
   if (error !== null && error !== undefined) {
     process.stderr.write(errors.join(''));
     console.error(`build-wasm: ${module.entry} did not compile: ${error.message}`);
     process.exit(1);
   }
-  const exports = WebAssembly.Module.exports(new WebAssembly.Module(bytes)).map((e) => e.name).filter((n) => n !== 'memory');
-  const text = `// Generated by scripts/build-wasm.mjs from packages/core/wasm/${module.entry}: do not edit, do not commit.\n`
-    + `// ${module.what}; ${bytes.length} bytes of WebAssembly (SIMD), base64.\n`
-    + `export const ${module.name}: string =\n  '${Buffer.from(bytes).toString('base64')}';\n`
-    + `/** The functions the module exports. */\n`
-    + `export const ${module.name.replace('Base64', 'Exports')} = ${JSON.stringify(exports)} as const;\n`;
+  const exports = WebAssembly.Module.exports(new WebAssembly.Module(bytes))
+    .map((e) => e.name)
+    .filter((n) => n !== 'memory');
+  const text =
+    `// Generated by scripts/build-wasm.mjs from packages/core/wasm/${module.entry}: do not edit, do not commit.\n` +
+    `// ${module.what}; ${bytes.length} bytes of WebAssembly (SIMD), base64.\n` +
+    `export const ${module.name}: string =\n  '${Buffer.from(bytes).toString('base64')}';\n` +
+    `/** The functions the module exports. */\n` +
+    `export const ${module.name.replace('Base64', 'Exports')} = ${JSON.stringify(exports)} as const;\n`;
   const temporary = `${target}.${process.pid}.tmp`;
   writeFileSync(temporary, text);
   renameSync(temporary, target);

@@ -27,7 +27,12 @@ function sourceFiles(folder: string): string[] {
 
 function importedSpecifiers(text: string): string[] {
   const found: string[] = [];
-  const patterns = [/\bfrom\s+['"]([^'"]+)['"]/g, /\bimport\s*\(\s*['"]([^'"]+)['"]\s*\)/g, /\bimport\s+['"]([^'"]+)['"]/g, /\brequire\s*\(\s*['"]([^'"]+)['"]\s*\)/g];
+  const patterns = [
+    /\bfrom\s+['"]([^'"]+)['"]/g,
+    /\bimport\s*\(\s*['"]([^'"]+)['"]\s*\)/g,
+    /\bimport\s+['"]([^'"]+)['"]/g,
+    /\brequire\s*\(\s*['"]([^'"]+)['"]\s*\)/g,
+  ];
   for (const pattern of patterns) for (const match of text.matchAll(pattern)) found.push(match[1]);
   return found;
 }

@@ -39,7 +39,18 @@ let server: Server;
 
 interface PageHandle {
   runGradientChecks(): Promise<{ label: string; passed: boolean; worst: number }[]>;
-  trainFor(settings: Partial<TrainingConfig>): Promise<{ steps: number; lastLoss: number; lastLossBits: string; backend: string; workers: number; status: string; heldOut: HeldOut; heldOutText: string; timerWorstLateness: number; timerTicks: number }>;
+  trainFor(settings: Partial<TrainingConfig>): Promise<{
+    steps: number;
+    lastLoss: number;
+    lastLossBits: string;
+    backend: string;
+    workers: number;
+    status: string;
+    heldOut: HeldOut;
+    heldOutText: string;
+    timerWorstLateness: number;
+    timerTicks: number;
+  }>;
   chartPoints(): { training: number; validation: number; gradientNorm: number; firstLoss: number; lastLoss: number };
   forecast(values: number[]): number[];
   hasWeights(): boolean;
@@ -48,7 +59,9 @@ interface PageHandle {
 const waveText = Array.from({ length: 400 }, (_, i) => (10 + 3 * Math.sin(i / 4) + Math.sin(i / 1.7)).toFixed(3)).join('\n');
 const waveValues = waveText.split('\n').map(Number);
 /** A rising series with a 24-value season and seeded noise (the generator of tests/held-out-verdicts.test.ts). */
-const seasonalTrendText = seasonalTrend(480).map((v) => v.toFixed(3)).join('\n');
+const seasonalTrendText = seasonalTrend(480)
+  .map((v) => v.toFixed(3))
+  .join('\n');
 
 describe.skipIf(!available)('the browser page in Chromium', () => {
   beforeAll(async () => {
@@ -58,7 +71,15 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     browser = await chromium.launch({
       executablePath: executable,
       headless: true,
-      args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync'],
+      args: [
+        '--no-sandbox',
+        '--disable-gpu',
+        '--disable-quic',
+        '--no-first-run',
+        '--disable-background-networking',
+        '--disable-component-update',
+        '--disable-sync',
+      ],
     });
     const context = await browser.newContext({ acceptDownloads: true, viewport: { width: 1000, height: 900 } });
     page = await context.newPage();
@@ -74,10 +95,13 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
   });
 
   const call = <T>(body: (handle: PageHandle, argument: unknown) => T | Promise<T>, argument?: unknown): Promise<T> =>
-    page.evaluate(([source, arg]) => {
-      const run = new Function('handle', 'argument', `return (${source})(handle, argument);`) as (h: unknown, a: unknown) => unknown;
-      return run((window as unknown as { weftPage: unknown }).weftPage, arg);
-    }, [body.toString(), argument] as const) as Promise<T>;
+    page.evaluate(
+      ([source, arg]) => {
+        const run = new Function('handle', 'argument', `return (${source})(handle, argument);`) as (h: unknown, a: unknown) => unknown;
+        return run((window as unknown as { weftPage: unknown }).weftPage, arg);
+      },
+      [body.toString(), argument] as const,
+    ) as Promise<T>;
 
   it('passes the gradient check of every built-in cell, fused and composed', async () => {
     const reports = await call((handle) => handle.runGradientChecks());
@@ -87,7 +111,20 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
 
   for (const backend of ['webassembly', 'javascript'] as const) {
     it(`ends a fixed-seed run of 40 steps at a loss bit-identical to the same run in Node (f32 bits), ${backend} backend`, async () => {
-      const config: TrainingConfig = { kind: 'text', data: sampleText.repeat(3), cell: 'gru', hidden: 16, epochs: 50, window: 24, streams: 4, rate: 0.01, seed: 'same bits', maxSteps: 40, backend, workers: 1 };
+      const config: TrainingConfig = {
+        kind: 'text',
+        data: sampleText.repeat(3),
+        cell: 'gru',
+        hidden: 16,
+        epochs: 50,
+        window: 24,
+        streams: 4,
+        rate: 0.01,
+        seed: 'same bits',
+        maxSteps: 40,
+        backend,
+        workers: 1,
+      };
       const inBrowser = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
       const before = defaultBackend();
       let loss = NaN;
@@ -105,13 +142,27 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
       // Text mode shows the test perplexity beside the unigram and Kneser-Ney baselines, worded as weft train words it.
       expect(inBrowser.heldOut.report.metric).toBe('perplexity');
       expect(inBrowser.heldOut.report.baselines.map((b) => b.name)).toEqual(['unigram', expect.stringMatching(/^[1-6]-gram$/)]);
-      expect(inBrowser.heldOutText.split('\n')[0]).toMatch(/^parts of the text, in order: training \d+ characters; validation, for stopping and keeping weights, \d+; test, scored once at the end, the last \d+$/);
+      expect(inBrowser.heldOutText.split('\n')[0]).toMatch(
+        /^parts of the text, in order: training \d+ characters; validation, for stopping and keeping weights, \d+; test, scored once at the end, the last \d+$/,
+      );
       expect(inBrowser.heldOutText).toMatch(/\nverdict: the model (beats every baseline|does NOT beat the baseline)/);
     }, 60_000);
   }
 
   it('trains on 2 worker threads when cross-origin isolated, says so, and ends at the loss bits of Node on 2 threads (issue 17, E)', async () => {
-    const config: TrainingConfig = { kind: 'text', data: sampleText.repeat(3), cell: 'lstm', hidden: 16, epochs: 50, window: 24, streams: 4, rate: 0.01, seed: 'two threads', maxSteps: 30, workers: 2 };
+    const config: TrainingConfig = {
+      kind: 'text',
+      data: sampleText.repeat(3),
+      cell: 'lstm',
+      hidden: 16,
+      epochs: 50,
+      window: 24,
+      streams: 4,
+      rate: 0.01,
+      seed: 'two threads',
+      maxSteps: 30,
+      workers: 2,
+    };
     expect(await page.evaluate(() => (globalThis as { crossOriginIsolated?: boolean }).crossOriginIsolated)).toBe(true);
     const inBrowser = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
     expect(inBrowser.workers).toBe(2);
@@ -119,7 +170,9 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     const before = defaultBackend();
     let loss = NaN;
     try {
-      const { trainer, threads } = await prepare({ ...config, backend: 'webassembly' }, undefined, undefined, (model, count) => startTrainingThreads({ count, model }));
+      const { trainer, threads } = await prepare({ ...config, backend: 'webassembly' }, undefined, undefined, (model, count) =>
+        startTrainingThreads({ count, model }),
+      );
       expect(threads?.count).toBe(2);
       try {
         for (let i = 0; i < 30; i++) loss = await trainer.stepAsync();
@@ -134,7 +187,17 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
   }, 60_000);
 
   it('stays responsive while the worker trains, and charts the points (screenshot saved)', async () => {
-    const config: Partial<TrainingConfig> = { kind: 'numbers', data: waveText, cell: 'lstm', hidden: 48, epochs: 1000, window: 24, streams: 4, rate: 0.01, seed: '3' };
+    const config: Partial<TrainingConfig> = {
+      kind: 'numbers',
+      data: waveText,
+      cell: 'lstm',
+      hidden: 48,
+      epochs: 1000,
+      window: 24,
+      streams: 4,
+      rate: 0.01,
+      seed: '3',
+    };
     const result = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
     console.log(`worker trained ${result.steps} steps; page timer fired ${result.timerTicks} times, at worst ${result.timerWorstLateness.toFixed(1)} ms late`);
     expect(result.timerTicks).toBeGreaterThan(10);
@@ -153,7 +216,9 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     const mae = held.actual!.reduce((s, a, i) => s + Math.abs(a - held.forecast![i]), 0) / held.actual!.length;
     expect(Math.abs(mae - held.report.model.value)).toBeLessThan(1e-9 * Math.max(1, mae));
     // The parts weft train cuts and words, from the same pipeline (prepareSeries).
-    expect(result.heldOutText).toMatch(/^parts of the series, in time order: training lines 2–321 \(320 rows\); validation, for stopping and keeping weights, lines 322–361 \(40 rows\); test, scored once at the end, lines 362–401 \(40 rows\)\n/);
+    expect(result.heldOutText).toMatch(
+      /^parts of the series, in time order: training lines 2–321 \(320 rows\); validation, for stopping and keeping weights, lines 322–361 \(40 rows\); test, scored once at the end, lines 362–401 \(40 rows\)\n/,
+    );
     expect(result.heldOutText).toMatch(/\n {2}model +MAE [\d.]+ {2}RMSE/);
     expect(result.heldOutText).toMatch(/\nverdict: the model (beats every baseline|does NOT beat the baseline)/);
     // The 95% intervals the chart shades: their half-width and their coverage of the 40 test values, as weft train
@@ -161,7 +226,9 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     const half = held.halfWidth!;
     expect(half).toBeGreaterThan(0);
     const inside = held.actual!.filter((a, i) => Math.abs(a - held.forecast![i]) <= half).length;
-    expect(result.heldOutText).toContain(`prediction intervals at 95% (split conformal on the validation part's errors): coverage ${(100 * inside / 40).toFixed(1)}% of 40 values`);
+    expect(result.heldOutText).toContain(
+      `prediction intervals at 95% (split conformal on the validation part's errors): coverage ${((100 * inside) / 40).toFixed(1)}% of 40 values`,
+    );
     console.log(result.heldOutText);
     expect(await page.isVisible('#forecast-chart')).toBe(true);
     mkdirSync(artifacts, { recursive: true });
@@ -170,13 +237,26 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
   }, 120_000);
 
   it('finds the 24-value season of a trending series and says plainly that a briefly trained model loses to the seasonal baselines', async () => {
-    const config: Partial<TrainingConfig> = { kind: 'numbers', data: seasonalTrendText, cell: 'gru', hidden: 8, epochs: 1000, window: 24, streams: 4, rate: 0.01, seed: '5', maxSteps: 20 };
+    const config: Partial<TrainingConfig> = {
+      kind: 'numbers',
+      data: seasonalTrendText,
+      cell: 'gru',
+      hidden: 8,
+      epochs: 1000,
+      window: 24,
+      streams: 4,
+      rate: 0.01,
+      seed: '5',
+      maxSteps: 20,
+    };
     const result = await call((handle, settings) => handle.trainFor(settings as Partial<TrainingConfig>), config);
     const report = result.heldOut.report;
     const seasonal = report.baselines.find((b) => b.name === 'seasonal naive')!;
     expect(seasonal.value).toBeLessThan(report.model.value);
     expect(result.heldOutText).toContain('\nseason of 24 rows from the autocorrelation of the differenced series: ');
-    expect(result.heldOutText).toMatch(/\nverdict: the model does NOT beat the baseline (seasonal naive|Holt-Winters additive|Holt-Winters multiplicative): MAE /);
+    expect(result.heldOutText).toMatch(
+      /\nverdict: the model does NOT beat the baseline (seasonal naive|Holt-Winters additive|Holt-Winters multiplicative): MAE /,
+    );
   }, 60_000);
 
   it('downloads a weight file that gives the same outputs in Node, and loads one written by Node', async () => {
@@ -194,7 +274,17 @@ describe.skipIf(!available)('the browser page in Chromium', () => {
     expect(pageForecasts).toEqual(nodeForecasts);
 
     // The other way: a model made in Node, loaded through the page's file input.
-    const config: TrainingConfig = { kind: 'numbers', data: waveText, cell: 'gru', hidden: 8, epochs: 1, window: 24, streams: 4, rate: 0.01, seed: 'node side' };
+    const config: TrainingConfig = {
+      kind: 'numbers',
+      data: waveText,
+      cell: 'gru',
+      hidden: 8,
+      epochs: 1,
+      window: 24,
+      streams: 4,
+      rate: 0.01,
+      seed: 'node side',
+    };
     const { model, trainer, metadata } = await prepare(config);
     for (let i = 0; i < 10; i++) trainer.step();
     const fromNode = join(folder, 'from-node.weft.json');

@@ -18,10 +18,23 @@ afterAll(() => rmSync(folder, { recursive: true, force: true }));
 
 const nodeOnly = new Set(['@weft/optim/node', '@weft/io/node', '@weft/cli']);
 const entries = [
-  '@weft/core', '@weft/core/kernels', '@weft/core/forward', '@weft/core/forward/javascript', '@weft/core/base',
-  '@weft/cells', '@weft/cells/kernels', '@weft/cells/description',
-  '@weft/optim', '@weft/optim/node',
-  '@weft/io', '@weft/io/runtime', '@weft/io/runtime/javascript', '@weft/io/runtime/encoder-decoder', '@weft/io/translate', '@weft/io/onnx', '@weft/io/node',
+  '@weft/core',
+  '@weft/core/kernels',
+  '@weft/core/forward',
+  '@weft/core/forward/javascript',
+  '@weft/core/base',
+  '@weft/cells',
+  '@weft/cells/kernels',
+  '@weft/cells/description',
+  '@weft/optim',
+  '@weft/optim/node',
+  '@weft/io',
+  '@weft/io/runtime',
+  '@weft/io/runtime/javascript',
+  '@weft/io/runtime/encoder-decoder',
+  '@weft/io/translate',
+  '@weft/io/onnx',
+  '@weft/io/node',
   '@weft/cli',
 ];
 

@@ -41,15 +41,21 @@ describe('the examples (reduced budget)', () => {
 
   // Once, on the default backend: the run is the suite's longest (28 s there, 80 s on JavaScript, which ends at the
   // same figures, 0.4353 against 0); attention on the JavaScript kernels is covered by the cells' and runtime's tests.
-  it.skipIf(process.env.WEFT_BACKEND === 'javascript')('(g) attention keeps long seal codes exact where the model without it, of the same size and budget, fails (issue 16, D)', async () => {
-    const { sealCodes } = await import('../examples/seal-codes/main.js');
-    const result = await sealCodes();
-    const [, , longest] = result.bands;
-    console.log(`seal codes, longest third (${longest.from}–${longest.to}): with attention ${longest.withAttention}, without ${longest.without}; parameters ${JSON.stringify(result.parameters)}`);
-    expect(longest.withAttention - longest.without).toBeGreaterThanOrEqual(0.2);
-    expect(Math.abs(result.parameters.withAttention - result.parameters.without) / result.parameters.withAttention).toBeLessThan(0.01);
-    expect(result.map).toMatch(/^<svg [\s\S]*<\/svg>\n?$/);
-  }, 300_000);
+  it.skipIf(process.env.WEFT_BACKEND === 'javascript')(
+    '(g) attention keeps long seal codes exact where the model without it, of the same size and budget, fails (issue 16, D)',
+    async () => {
+      const { sealCodes } = await import('../examples/seal-codes/main.js');
+      const result = await sealCodes();
+      const [, , longest] = result.bands;
+      console.log(
+        `seal codes, longest third (${longest.from}–${longest.to}): with attention ${longest.withAttention}, without ${longest.without}; parameters ${JSON.stringify(result.parameters)}`,
+      );
+      expect(longest.withAttention - longest.without).toBeGreaterThanOrEqual(0.2);
+      expect(Math.abs(result.parameters.withAttention - result.parameters.without) / result.parameters.withAttention).toBeLessThan(0.01);
+      expect(result.map).toMatch(/^<svg [\s\S]*<\/svg>\n?$/);
+    },
+    300_000,
+  );
 
   it('(d) the sequence classifier beats always answering the most common class', async () => {
     const { classifyVibration } = await import('../examples/classify-vibration/main.js');
@@ -64,7 +70,7 @@ describe('the examples (reduced budget)', () => {
     expect(result.accuracy).toBeGreaterThan(0.45);
   });
 
-  it('(e) the custom cell\'s reverse-mode gradient agrees with a finite difference extrapolated to h → 0 (Richardson, here) to 1e-7 relative at H = 32, T = 20', async () => {
+  it("(e) the custom cell's reverse-mode gradient agrees with a finite difference extrapolated to h → 0 (Richardson, here) to 1e-7 relative at H = 32, T = 20", async () => {
     const { MinimalGatedCell } = await import('../examples/custom-cell/minimal-gated-cell.js');
     const { Random, Tape, multiply, randomUniform, sum } = await import('@weft/core');
     const { runSequence } = await import('@weft/cells');
@@ -102,7 +108,10 @@ describe('the examples (reduced budget)', () => {
         const extrapolated = (16 * r2 - r1) / 15;
         const reverse = tensor.gradient![i];
         // Relative to the gradient's size, with a floor of 1e-6 of the loss's scale for entries near zero.
-        expect(Math.abs(reverse - extrapolated) / Math.max(Math.abs(reverse), Math.abs(extrapolated), 1e-6), `${name}[${i}]: reverse ${reverse}, extrapolated ${extrapolated}`).toBeLessThan(1e-7);
+        expect(
+          Math.abs(reverse - extrapolated) / Math.max(Math.abs(reverse), Math.abs(extrapolated), 1e-6),
+          `${name}[${i}]: reverse ${reverse}, extrapolated ${extrapolated}`,
+        ).toBeLessThan(1e-7);
         if (Math.abs(reverse) > 1e-6) compared++;
       }
     }
@@ -120,7 +129,10 @@ describe('the examples (reduced budget)', () => {
     const path = join(folder, 'edge.weft.json');
     writeFileSync(path, await writeWeightFile(model.description, modelTensors(model), { metadata }));
     const readings = Array.from({ length: 20 }, (_, i) => [18 + Math.sin(i), 80 - i, 40, 15 + 3 * Math.cos(i)]);
-    const streamed = await streamReadings(path, readings.map((r) => Object.fromEntries(columns.map((c, j) => [c, r[j]]))));
+    const streamed = await streamReadings(
+      path,
+      readings.map((r) => Object.fromEntries(columns.map((c, j) => [c, r[j]]))),
+    );
     const runtime = await createRuntime(await writeWeightFile(model.description, modelTensors(model), { metadata }));
     const normalised = readings.flatMap((r) => r.map((v, j) => (v - normalisation.mean[j]) / normalisation.deviation[j]));
     const whole = runtime.run(Float32Array.from(tensor(normalised, [20, 1, 4]).data), 20, 1);
@@ -133,16 +145,29 @@ describe('the examples (reduced budget)', () => {
   it('(g) the edge worker answers a POST of rows with the forecasts createRowForecaster makes, and a bad request with a 400 naming it', async () => {
     // A small hourly series with a daily cycle, trained by weft train with defaults (a windowed model with intervals).
     const csv = join(folder, 'hourly.csv');
-    writeFileSync(csv, `time,heat\n${Array.from({ length: 240 }, (_, i) => `${new Date(Date.UTC(2026, 0, 1, i)).toISOString().slice(0, 16)},${(20 + 3 * Math.sin((2 * Math.PI * i) / 24) + 0.3 * Math.sin(i * 1.7)).toFixed(3)}`).join('\n')}\n`);
+    writeFileSync(
+      csv,
+      `time,heat\n${Array.from({ length: 240 }, (_, i) => `${new Date(Date.UTC(2026, 0, 1, i)).toISOString().slice(0, 16)},${(20 + 3 * Math.sin((2 * Math.PI * i) / 24) + 0.3 * Math.sin(i * 1.7)).toFixed(3)}`).join('\n')}\n`,
+    );
     const out = join(folder, 'hourly.weft.json');
     await train(parseArgs('train', [csv, '--quiet', '--epochs', '3', '--horizon', '3', '--out', out], trainFlags), () => undefined);
     const model = readFileSync(out, 'utf8');
     const worker = (await import('../examples/edge-worker/worker.js')).default;
-    const rows = readFileSync(csv, 'utf8').trim().split('\n').slice(1, 61).map((line) => ({ time: line.split(',')[0], heat: line.split(',')[1] }));
+    const rows = readFileSync(csv, 'utf8')
+      .trim()
+      .split('\n')
+      .slice(1, 61)
+      .map((line) => ({ time: line.split(',')[0], heat: line.split(',')[1] }));
     const post = (body: string) => worker.fetch(new Request('https://forecasts.example/', { method: 'POST', body }), { MODEL: model });
     const response = await post(JSON.stringify({ rows }));
     expect(response.status).toBe(200);
-    const answer = await response.json() as { rowsAhead: number[]; forecasts: { heat: number[] }; level: number; low: { heat: number[] }; high: { heat: number[] } };
+    const answer = (await response.json()) as {
+      rowsAhead: number[];
+      forecasts: { heat: number[] };
+      level: number;
+      low: { heat: number[] };
+      high: { heat: number[] };
+    };
     // The same forecasts the library's row forecaster makes at the last row.
     const direct = createRowForecaster(await createRuntime(model), (await readWeightFile(model)).metadata);
     const made = new Float64Array(3);
@@ -161,7 +186,13 @@ describe('the examples (reduced budget)', () => {
     expect((await worker.fetch(new Request('https://forecasts.example/'), { MODEL: model })).status).toBe(405);
     // Nothing but the packages' browser-safe entries: no Node built-in.
     const source = readFileSync(fileURLToPath(new URL('../examples/edge-worker/worker.ts', import.meta.url)), 'utf8');
-    expect([...source.matchAll(/from '([^']+)'/g)].map((m) => m[1]).sort()).toEqual(['@weft/core', '@weft/io', '@weft/io', '@weft/io/runtime', '@weft/io/runtime']);
+    expect([...source.matchAll(/from '([^']+)'/g)].map((m) => m[1]).sort()).toEqual([
+      '@weft/core',
+      '@weft/io',
+      '@weft/io',
+      '@weft/io/runtime',
+      '@weft/io/runtime',
+    ]);
   }, 60_000);
 });
 
@@ -190,7 +221,7 @@ describe('the first look', () => {
   });
 });
 
-describe('the README\'s look at encoder-decoders and threads (examples/pairs-look.ts)', () => {
+describe("the README's look at encoder-decoders and threads (examples/pairs-look.ts)", () => {
   it('trains on two threads and decodes the reversal it learned, greedily and by beam search', async () => {
     const lines: string[] = [];
     const log = console.log;

@@ -34,7 +34,20 @@ if (!browserAvailable && process.env.CI !== undefined) throw new Error(`${execut
 const folder = mkdtempSync(join(tmpdir(), 'weft-installed-'));
 const tarballs = join(folder, 'tarballs');
 const project = join(folder, 'project');
-let nodeResult: { missing: number; backend: string; steps: number; firstLoss: number; lastLoss: number; lastLossBits: string; digestVerified: boolean; forecasts: number[][]; textModel: { losses: string[]; outputs: string[] }; refused: string; savedVerified: boolean; text: string };
+let nodeResult: {
+  missing: number;
+  backend: string;
+  steps: number;
+  firstLoss: number;
+  lastLoss: number;
+  lastLossBits: string;
+  digestVerified: boolean;
+  forecasts: number[][];
+  textModel: { losses: string[]; outputs: string[] };
+  refused: string;
+  savedVerified: boolean;
+  text: string;
+};
 
 function run(command: string, args: string[], cwd: string): { status: number | null; stdout: string; stderr: string } {
   // The consumer runs on the default backend whatever this suite's WEFT_BACKEND, as the page does, so the two
@@ -48,9 +61,15 @@ function run(command: string, args: string[], cwd: string): { status: number | n
 beforeAll(() => {
   mkdirSync(tarballs, { recursive: true });
   mkdirSync(project, { recursive: true });
-  execFileSync('npm', ['pack', '--workspaces', '--pack-destination', tarballs, '--silent'], { cwd: root, stdio: 'pipe', env: { ...process.env, npm_config_loglevel: 'error' } });
+  execFileSync('npm', ['pack', '--workspaces', '--pack-destination', tarballs, '--silent'], {
+    cwd: root,
+    stdio: 'pipe',
+    env: { ...process.env, npm_config_loglevel: 'error' },
+  });
   writeFileSync(join(project, 'package.json'), JSON.stringify({ name: 'weft-consumer', private: true, type: 'module' }));
-  const files = readdirSync(tarballs).filter((name) => name.endsWith('.tgz')).map((name) => join(tarballs, name));
+  const files = readdirSync(tarballs)
+    .filter((name) => name.endsWith('.tgz'))
+    .map((name) => join(tarballs, name));
   execFileSync('npm', ['install', '--offline', '--no-audit', '--no-fund', '--silent', ...files], { cwd: project, stdio: 'pipe' });
   for (const name of readdirSync(fixtures)) copyFileSync(join(fixtures, name), join(project, name));
 }, 180_000);
@@ -60,13 +79,24 @@ afterAll(() => rmSync(folder, { recursive: true, force: true }));
 describe('the packed tarballs', () => {
   const listing = (name: string) => {
     const file = readdirSync(tarballs).find((f) => f.startsWith(`weft-${name}-`));
-    return execFileSync('tar', ['-tzf', join(tarballs, file ?? 'missing')], { encoding: 'utf8' }).split('\n').filter((line) => line !== '');
+    return execFileSync('tar', ['-tzf', join(tarballs, file ?? 'missing')], { encoding: 'utf8' })
+      .split('\n')
+      .filter((line) => line !== '');
   };
 
   for (const name of packageNames) {
     it(`@weft/${name} holds its built modules with declarations and maps, the sources, a README and the licence, and no build-info file`, () => {
       const entries = listing(name);
-      for (const required of ['package/package.json', 'package/README.md', 'package/LICENSE', 'package/dist/index.js', 'package/dist/index.d.ts', 'package/dist/index.js.map', 'package/dist/index.d.ts.map', 'package/src/index.ts']) {
+      for (const required of [
+        'package/package.json',
+        'package/README.md',
+        'package/LICENSE',
+        'package/dist/index.js',
+        'package/dist/index.d.ts',
+        'package/dist/index.js.map',
+        'package/dist/index.d.ts.map',
+        'package/src/index.ts',
+      ]) {
         expect(entries, required).toContain(required);
       }
       expect(entries.filter((entry) => entry.includes('tsbuildinfo'))).toEqual([]);
@@ -93,7 +123,11 @@ describe('the packed tarballs', () => {
     const installed = readdirSync(join(project, 'node_modules/@weft'));
     expect(installed.sort()).toEqual([...packageNames].sort());
     for (const name of installed) expect(lstatSync(join(project, 'node_modules/@weft', name)).isSymbolicLink(), name).toBe(false);
-    expect(readdirSync(join(project, 'node_modules')).filter((name) => !name.startsWith('.')).sort()).toEqual(['@weft']);
+    expect(
+      readdirSync(join(project, 'node_modules'))
+        .filter((name) => !name.startsWith('.'))
+        .sort(),
+    ).toEqual(['@weft']);
   });
 });
 
@@ -126,13 +160,27 @@ describe('the installed packages in Node', () => {
     expect(report.sameModule).toBe(true);
   }, 30_000);
 
-  for (const resolution of [{ module: 'nodenext', moduleResolution: 'nodenext' }, { module: 'esnext', moduleResolution: 'bundler' }]) {
+  for (const resolution of [
+    { module: 'nodenext', moduleResolution: 'nodenext' },
+    { module: 'esnext', moduleResolution: 'bundler' },
+  ]) {
     it(`type-check a consumer's TypeScript against the installed declarations (moduleResolution ${resolution.moduleResolution})`, () => {
       const config = join(project, `tsconfig.${resolution.moduleResolution}.json`);
-      writeFileSync(config, JSON.stringify({
-        compilerOptions: { ...resolution, target: 'es2022', strict: true, noEmit: true, skipLibCheck: false, types: ['node'], typeRoots: [join(root, 'node_modules/@types')] },
-        files: ['consumer.ts'],
-      }));
+      writeFileSync(
+        config,
+        JSON.stringify({
+          compilerOptions: {
+            ...resolution,
+            target: 'es2022',
+            strict: true,
+            noEmit: true,
+            skipLibCheck: false,
+            types: ['node'],
+            typeRoots: [join(root, 'node_modules/@types')],
+          },
+          files: ['consumer.ts'],
+        }),
+      );
       const result = run('node', [join(root, 'node_modules/typescript/bin/tsc'), '-p', config], project);
       expect(result.stdout + result.stderr).toBe('');
       expect(result.status).toBe(0);
@@ -152,16 +200,33 @@ describe('the installed packages in Node', () => {
     const { build } = await import('esbuild');
     const { rollup } = await import('rollup');
     const { nodeResolve } = await import('@rollup/plugin-node-resolve');
-    writeFileSync(join(project, 'app.mjs'), "import { Runtime, readWeightFile } from '@weft/io/runtime';\n"
-      + "const text = process.argv[2] === undefined ? null : (await import('node:fs')).readFileSync(process.argv[2], 'utf8');\n"
-      + "const runtime = new Runtime(await readWeightFile(text));\nconsole.log(JSON.stringify({ backend: runtime.backend.name, out: Array.from(runtime.streams(1).step(Float32Array.of(0.5))) }));\n");
+    writeFileSync(
+      join(project, 'app.mjs'),
+      "import { Runtime, readWeightFile } from '@weft/io/runtime';\n" +
+        "const text = process.argv[2] === undefined ? null : (await import('node:fs')).readFileSync(process.argv[2], 'utf8');\n" +
+        'const runtime = new Runtime(await readWeightFile(text));\nconsole.log(JSON.stringify({ backend: runtime.backend.name, out: Array.from(runtime.streams(1).step(Float32Array.of(0.5))) }));\n',
+    );
     nodeResult ??= JSON.parse(run('node', ['node-esm.mjs'], project).stdout);
     writeFileSync(join(project, 'from-node.weft.json'), nodeResult.text);
-    const esbuilt = await build({ entryPoints: [join(project, 'app.mjs')], bundle: true, treeShaking: true, format: 'esm', platform: 'node', write: false, logLevel: 'silent' });
+    const esbuilt = await build({
+      entryPoints: [join(project, 'app.mjs')],
+      bundle: true,
+      treeShaking: true,
+      format: 'esm',
+      platform: 'node',
+      write: false,
+      logLevel: 'silent',
+    });
     expect(esbuilt.warnings.map((w) => w.text)).toEqual([]);
     writeFileSync(join(project, 'app.esbuild.mjs'), esbuilt.outputFiles[0].contents);
     const warnings: string[] = [];
-    const bundle = await rollup({ input: join(project, 'app.mjs'), treeshake: true, external: [/^node:/], plugins: [nodeResolve({ rootDir: project, exportConditions: ['import', 'default'] })], onwarn: (w) => warnings.push(w.message) });
+    const bundle = await rollup({
+      input: join(project, 'app.mjs'),
+      treeshake: true,
+      external: [/^node:/],
+      plugins: [nodeResolve({ rootDir: project, exportConditions: ['import', 'default'] })],
+      onwarn: (w) => warnings.push(w.message),
+    });
     await bundle.write({ file: join(project, 'app.rollup.mjs'), format: 'es', inlineDynamicImports: true });
     await bundle.close();
     expect(warnings).toEqual([]);
@@ -190,7 +255,13 @@ describe('the installed packages in Node', () => {
   }, 60_000);
 });
 
-const types: Record<string, string> = { '.html': 'text/html', '.js': 'text/javascript', '.mjs': 'text/javascript', '.json': 'application/json', '.map': 'application/json' };
+const types: Record<string, string> = {
+  '.html': 'text/html',
+  '.js': 'text/javascript',
+  '.mjs': 'text/javascript',
+  '.json': 'application/json',
+  '.map': 'application/json',
+};
 
 /** A static file server over the consumer project (its node_modules included), for the page. */
 function serve(): Promise<Server> {
@@ -213,11 +284,14 @@ function serve(): Promise<Server> {
  * `nonce` is added to its scripts (for a page served with a Content-Security-Policy).
  */
 function runtimePage(name: string, nonce: string): void {
-  writeFileSync(join(project, name), `<!doctype html>\n<meta charset="utf-8">\n<title>the runtime alone</title>\n<link rel="icon" href="data:,">\n`
-    + `<script type="importmap"${nonce}>${JSON.stringify({ imports: importMap() })}</script>\n`
-    + `<script type="module"${nonce}>\nimport { createRuntime } from '@weft/io/runtime';\n`
-    + `const runtime = await createRuntime(await (await fetch('/from-node.weft.json')).text());\n`
-    + `window.outputs = Array.from(runtime.streams(1).step(Float32Array.of(0.5)));\nwindow.backend = runtime.backend.name;\n</script>\n`);
+  writeFileSync(
+    join(project, name),
+    `<!doctype html>\n<meta charset="utf-8">\n<title>the runtime alone</title>\n<link rel="icon" href="data:,">\n` +
+      `<script type="importmap"${nonce}>${JSON.stringify({ imports: importMap() })}</script>\n` +
+      `<script type="module"${nonce}>\nimport { createRuntime } from '@weft/io/runtime';\n` +
+      `const runtime = await createRuntime(await (await fetch('/from-node.weft.json')).text());\n` +
+      `window.outputs = Array.from(runtime.streams(1).step(Float32Array.of(0.5)));\nwindow.backend = runtime.backend.name;\n</script>\n`,
+  );
 }
 
 /** Another engine's run of the consumer (Deno, Bun, Chromium) against Node's: the same bits everywhere. */
@@ -258,7 +332,9 @@ describe.skipIf(engines.length === 0)('the installed packages in Deno and Bun, f
       const result = run(command, args, project);
       expect(result.status, result.stderr).toBe(0);
       const other = JSON.parse(result.stdout) as typeof nodeResult;
-      console.log(`${engine.name} ${engine.version}: backend ${other.backend}, ${other.steps} steps, last loss bits ${other.lastLossBits} (Node ${nodeResult.lastLossBits}); text model's last loss bits ${other.textModel.losses.at(-1)} (Node ${nodeResult.textModel.losses.at(-1)})`);
+      console.log(
+        `${engine.name} ${engine.version}: backend ${other.backend}, ${other.steps} steps, last loss bits ${other.lastLossBits} (Node ${nodeResult.lastLossBits}); text model's last loss bits ${other.textModel.losses.at(-1)} (Node ${nodeResult.textModel.losses.at(-1)})`,
+      );
       expectSameAsNode(other);
       // The weight file it wrote is the same text, saved and read back with its digest verified.
       expect(other.text).toBe(nodeResult.text);
@@ -269,9 +345,12 @@ describe.skipIf(engines.length === 0)('the installed packages in Deno and Bun, f
   it('runs the runtime in Deno with no permission at all (no --allow-env, no --allow-read): the weight file inline, the same outputs as Node', () => {
     const deno = engines.find((e) => e.name === 'deno')!;
     nodeResult ??= JSON.parse(run('node', ['node-esm.mjs'], project).stdout);
-    writeFileSync(join(project, 'no-permissions.mjs'), `import { createRuntime } from '@weft/io/runtime';\nconst runtime = await createRuntime(${JSON.stringify(nodeResult.text)});\n`
-      + `const streams = runtime.streams(1);\nconst out = [];\nfor (let i = 0; i < 20; i++) out.push(streams.step(Float32Array.of(Math.sin(i / 3)))[0]);\n`
-      + `console.log(JSON.stringify({ backend: runtime.backend.name, out }));\n`);
+    writeFileSync(
+      join(project, 'no-permissions.mjs'),
+      `import { createRuntime } from '@weft/io/runtime';\nconst runtime = await createRuntime(${JSON.stringify(nodeResult.text)});\n` +
+        `const streams = runtime.streams(1);\nconst out = [];\nfor (let i = 0; i < 20; i++) out.push(streams.step(Float32Array.of(Math.sin(i / 3)))[0]);\n` +
+        `console.log(JSON.stringify({ backend: runtime.backend.name, out }));\n`,
+    );
     const [executable] = deno.command('no-permissions.mjs');
     const denied = run(executable, ['run', 'no-permissions.mjs'], project);
     expect(denied.status, denied.stderr).toBe(0);
@@ -289,16 +368,27 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
   beforeAll(async () => {
     server = await serve();
     port = (server.address() as AddressInfo).port;
-    writeFileSync(join(project, 'page.html'), `<!doctype html>\n<meta charset="utf-8">\n<title>weft from an import map</title>\n<link rel="icon" href="data:,">\n`
-      + `<script type="importmap">${JSON.stringify({ imports: importMap() })}</script>\n`
-      + `<script type="module">\nimport * as consumer from './train.mjs';\nwindow.consumer = consumer;\n</script>\n`);
+    writeFileSync(
+      join(project, 'page.html'),
+      `<!doctype html>\n<meta charset="utf-8">\n<title>weft from an import map</title>\n<link rel="icon" href="data:,">\n` +
+        `<script type="importmap">${JSON.stringify({ imports: importMap() })}</script>\n` +
+        `<script type="module">\nimport * as consumer from './train.mjs';\nwindow.consumer = consumer;\n</script>\n`,
+    );
     nodeResult ??= JSON.parse(run('node', ['node-esm.mjs'], project).stdout);
     writeFileSync(join(project, 'from-node.weft.json'), nodeResult.text);
     browser = await chromium.launch({
       executablePath: executable,
       headless: true,
-      args: ['--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run', '--disable-background-networking', '--disable-component-update', '--disable-sync',
-        '--host-resolver-rules=MAP weft-kiosk.test 127.0.0.1'],
+      args: [
+        '--no-sandbox',
+        '--disable-gpu',
+        '--disable-quic',
+        '--no-first-run',
+        '--disable-background-networking',
+        '--disable-component-update',
+        '--disable-sync',
+        '--host-resolver-rules=MAP weft-kiosk.test 127.0.0.1',
+      ],
     });
   }, 120_000);
 
@@ -311,7 +401,9 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
     const page = await browser.newPage();
     const errors: string[] = [];
     page.on('pageerror', (error) => errors.push(error.message));
-    page.on('console', (message) => { if (message.type() === 'error') errors.push(message.text()); });
+    page.on('console', (message) => {
+      if (message.type() === 'error') errors.push(message.text());
+    });
     await page.goto(`${origin}/page.html`);
     await page.waitForFunction(() => 'consumer' in window, undefined, { timeout: 30_000 }).catch(() => undefined);
     return { page, errors };
@@ -333,9 +425,13 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
     expect(Number.isFinite(outputs[0])).toBe(true);
     const modules = requested.map((r) => r.url);
     const bytes = requested.reduce((n, r) => n + r.bytes, 0);
-    console.log(`the runtime from an import map: ${modules.length} modules, ${bytes} bytes, on ${await page.evaluate(() => (window as unknown as { backend: string }).backend)}`);
+    console.log(
+      `the runtime from an import map: ${modules.length} modules, ${bytes} bytes, on ${await page.evaluate(() => (window as unknown as { backend: string }).backend)}`,
+    );
     // (The seeded generator, random.js, is the runtime's too: @weft/core/base gives it for sampling.)
-    const training = modules.filter((url) => /\/(tape|trainer|tensor|pool|gradient-check)\.js$|\/optim\/|\/ops\/|@weft\/(core|cells|io)\/dist\/index\.js$|\/kernels\/index\.js$/.test(url));
+    const training = modules.filter((url) =>
+      /\/(tape|trainer|tensor|pool|gradient-check)\.js$|\/optim\/|\/ops\/|@weft\/(core|cells|io)\/dist\/index\.js$|\/kernels\/index\.js$/.test(url),
+    );
     expect(training).toEqual([]);
     // 42 before the cells' step plans (cells/dist/plans: the plans, their tracer and the traced program's step) joined.
     expect(modules.length).toBeLessThanOrEqual(50);
@@ -351,14 +447,19 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
     page.on('pageerror', (error) => errors.push(error.message));
     await page.goto(`http://127.0.0.1:${port}/strict-runtime.html`);
     await page.waitForFunction(() => 'outputs' in window, undefined, { timeout: 30_000 });
-    const result = await page.evaluate(() => ({ outputs: (window as unknown as { outputs: number[] }).outputs, backend: (window as unknown as { backend: string }).backend }));
+    const result = await page.evaluate(() => ({
+      outputs: (window as unknown as { outputs: number[] }).outputs,
+      backend: (window as unknown as { backend: string }).backend,
+    }));
     console.log(`strict page: backend ${result.backend}; notes: ${notes.join(' | ')}`);
     expect(result.backend).toBe('javascript');
     expect(notes.filter((n) => /WebAssembly/.test(n))).toHaveLength(1);
     expect(errors.filter((e) => !/Content Security Policy|wasm-unsafe-eval|WebAssembly/.test(e))).toEqual([]);
     // The same forecast as the WebAssembly runtime gives elsewhere, to f32 rounding in other summation orders.
     const { createRuntime } = await import('@weft/io/runtime');
-    const reference = Array.from((await createRuntime(readFileSync(join(project, 'from-node.weft.json'), 'utf8'), { backend: 'javascript' })).streams(1).step(Float32Array.of(0.5)));
+    const reference = Array.from(
+      (await createRuntime(readFileSync(join(project, 'from-node.weft.json'), 'utf8'), { backend: 'javascript' })).streams(1).step(Float32Array.of(0.5)),
+    );
     expect(result.outputs).toEqual(reference);
     await page.close();
   }, 60_000);
@@ -371,7 +472,9 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
       const { text, ...rest } = await (window as unknown as { consumer: { trainAndForecast(): Promise<typeof nodeResult> } }).consumer.trainAndForecast();
       return { ...rest, text: text.length };
     });
-    console.log(`installed packages, loss after ${result.steps} steps: Chromium ${result.lastLoss} (${result.lastLossBits}), Node ${nodeResult.lastLoss} (${nodeResult.lastLossBits}); backend ${result.backend}`);
+    console.log(
+      `installed packages, loss after ${result.steps} steps: Chromium ${result.lastLoss} (${result.lastLossBits}), Node ${nodeResult.lastLoss} (${nodeResult.lastLossBits}); backend ${result.backend}`,
+    );
     expectSameAsNode(result);
     await page.close();
   }, 60_000);
@@ -381,7 +484,9 @@ describe.skipIf(!browserAvailable)('the installed packages in Chromium, with an 
     expect(errors).toEqual([]);
     const result = await page.evaluate(async () => {
       const text = await (await fetch('/from-node.weft.json')).text();
-      const read = await (window as unknown as { consumer: { readAndForecast(text: string): Promise<{ digestChecked: boolean; digestVerified: boolean; forecasts: number[] }> } }).consumer.readAndForecast(text);
+      const read = await (
+        window as unknown as { consumer: { readAndForecast(text: string): Promise<{ digestChecked: boolean; digestVerified: boolean; forecasts: number[] }> } }
+      ).consumer.readAndForecast(text);
       return { secure: window.isSecureContext, subtle: globalThis.crypto?.subtle !== undefined, host: location.hostname, ...read };
     });
     expect(result.host).toBe('weft-kiosk.test');

@@ -42,7 +42,11 @@ async function trainQuietly(argv: string[]) {
 async function maeOnObserved(weights: string, file: string, observed: readonly (number | null)[]): Promise<{ mae: number; count: number }> {
   const loaded = await loadWeightFile(weights);
   const forecaster = createRowForecaster(await createRuntime(loaded), loaded.metadata);
-  const rows = readFileSync(file, 'utf8').trim().split('\n').slice(1).map((line) => line.split(','));
+  const rows = readFileSync(file, 'utf8')
+    .trim()
+    .split('\n')
+    .slice(1)
+    .map((line) => line.split(','));
   const made = rows.map(([time, level], t) => forecaster.next({ time, level }, `${file} row ${t}`));
   let sum = 0;
   let count = 0;
@@ -66,7 +70,11 @@ describe('series with missing readings', () => {
     while (missing < 0.1 * rows) {
       const length = 1 + holes.integer(10);
       const start = 1 + holes.integer(rows - length - 1);
-      for (let t = start; t < start + length && missing < 0.1 * rows; t++) if (!gone[t]) (gone[t] = true, missing++);
+      for (let t = start; t < start + length && missing < 0.1 * rows; t++) {
+        if (gone[t]) continue;
+        gone[t] = true;
+        missing++;
+      }
     }
     const time = (t: number) => new Date(Date.UTC(2026, 0, 1, t)).toISOString().slice(0, 16);
     const complete = join(folder, 'complete.csv');
@@ -79,7 +87,9 @@ describe('series with missing readings', () => {
     expect(text).toMatch(/^missing readings: level 48 of 480 \(10%\); inputs interpolated across each gap/m);
     const whole = await maeOnObserved(join(folder, 'complete.weft.json'), complete, observed);
     const withHoles = await maeOnObserved(join(folder, 'gappy.weft.json'), gappy, observed);
-    console.log(`hourly series, 10% missing in runs of 1–10 rows: test MAE ${withHoles.mae.toFixed(4)} on ${withHoles.count} observed rows, against ${whole.mae.toFixed(4)} for the same command on the complete series (ratio ${(withHoles.mae / whole.mae).toFixed(3)})`);
+    console.log(
+      `hourly series, 10% missing in runs of 1–10 rows: test MAE ${withHoles.mae.toFixed(4)} on ${withHoles.count} observed rows, against ${whole.mae.toFixed(4)} for the same command on the complete series (ratio ${(withHoles.mae / whole.mae).toFixed(3)})`,
+    );
     // The training run scored the same observed rows, and the runtime's forecasts give its figure.
     expect(outcome.heldOut.model.overall!.count).toBe(withHoles.count);
     expect(outcome.heldOut.model.overall!.mae).toBeCloseTo(withHoles.mae, 6);
@@ -89,7 +99,15 @@ describe('series with missing readings', () => {
   it('train on Seattle weather with a tenth of its readings removed, scoring only observed rows, and forecast at every row from a file and from standard input', async () => {
     const lines = readFileSync(seattle, 'utf8').trim().split('\n');
     const holes = new Random('seattle holes');
-    const gappyLines = [lines[0], ...lines.slice(1).map((line) => line.split(',').map((cell, c) => (c >= 1 && c <= 4 && holes.uniform() < 0.1 ? (holes.uniform() < 0.5 ? '' : 'NA') : cell)).join(','))];
+    const gappyLines = [
+      lines[0],
+      ...lines.slice(1).map((line) =>
+        line
+          .split(',')
+          .map((cell, c) => (c >= 1 && c <= 4 && holes.uniform() < 0.1 ? (holes.uniform() < 0.5 ? '' : 'NA') : cell))
+          .join(','),
+      ),
+    ];
     const file = join(folder, 'seattle-gappy.csv');
     writeFileSync(file, `${gappyLines.join('\n')}\n`);
     const out = join(folder, 'seattle-gappy.weft.json');
@@ -98,12 +116,16 @@ describe('series with missing readings', () => {
     const testRows = gappyLines.slice(-146).map((line) => line.split(',')[2]);
     const observedCount = testRows.filter((cell) => cell !== '' && cell !== 'NA').length;
     expect(observedCount).toBeLessThan(146);
-    expect(outcome.heldOut.what).toContain(`146 forecasts of temp_max, 1 row ahead (${observedCount} of them with an observed value, the only ones scored, for the model and every baseline alike)`);
+    expect(outcome.heldOut.what).toContain(
+      `146 forecasts of temp_max, 1 row ahead (${observedCount} of them with an observed value, the only ones scored, for the model and every baseline alike)`,
+    );
     expect(outcome.heldOut.model.overall!.count).toBe(observedCount);
     expect(outcome.heldOut.baselines.every((b) => b.overall!.count === observedCount)).toBe(true);
     expect(text).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline)/m);
     const best = outcome.heldOut.baselines.reduce((a, b) => (b.value < a.value ? b : a));
-    console.log(`Seattle, a tenth of the readings removed: model MAE ${outcome.heldOut.model.value.toFixed(3)} on ${observedCount} observed test days, best baseline ${best.name} ${best.value.toFixed(3)}`);
+    console.log(
+      `Seattle, a tenth of the readings removed: model MAE ${outcome.heldOut.model.value.toFixed(3)} on ${observedCount} observed test days, best baseline ${best.name} ${best.value.toFixed(3)}`,
+    );
     // weft score reads the file through the runtime and repeats the figures.
     const scored = await score(parseArgs('score', [out, file, '--format', 'json'], scoreFlags));
     const report = JSON.parse(scored) as { model: { overall: { mae: number; count: number } } };
@@ -114,7 +136,11 @@ describe('series with missing readings', () => {
     const window = ((await loadWeightFile(out)).metadata.window as { rows: number }).rows;
     const run = spawnSync(process.execPath, [binary, 'run', out, file], { encoding: 'utf8' });
     expect(run.status).toBe(0);
-    const printed = run.stdout.trim().split('\n').slice(1).map((line) => line.split(','));
+    const printed = run.stdout
+      .trim()
+      .split('\n')
+      .slice(1)
+      .map((line) => line.split(','));
     expect(printed).toHaveLength(1461);
     expect(printed.slice(window - 1).every((row) => Number.isFinite(Number(row[1])) && row[1] !== '')).toBe(true);
     const piped = spawnSync(process.execPath, [binary, 'run', out, '-'], { encoding: 'utf8', input: readFileSync(file, 'utf8') });

@@ -18,7 +18,14 @@ import { evaluateGraph } from '../packages/io/test/onnx/evaluate.js';
 import { decodeIndependently } from '../packages/io/test/onnx/independent.js';
 import { mguPlan } from '../packages/cells/test/plans/mgu.js';
 
-const description = { input: { kind: 'values', width: 3 }, layers: [{ cell: 'test.mgu', hidden: 6 }, { cell: 'gru', hidden: 5 }], readout: { width: 2 } } as const;
+const description = {
+  input: { kind: 'values', width: 3 },
+  layers: [
+    { cell: 'test.mgu', hidden: 6 },
+    { cell: 'gru', hidden: 5 },
+  ],
+  readout: { width: 2 },
+} as const;
 const plans = { 'test.mgu': mguPlan };
 
 async function written(): Promise<{ text: string; model: ReturnType<typeof buildModel> }> {
@@ -42,8 +49,11 @@ describe('a new cell written in this test as a plan, and nothing else', () => {
     kind: 'test.leaky',
     state: ({ hidden }) => [{ name: 'h', width: hidden }],
     parameters: ({ inputWidth, hidden }) => [
-      { name: 'gate', shape: [inputWidth, hidden] }, { name: 'gateBias', shape: [hidden] },
-      { name: 'input', shape: [inputWidth, hidden] }, { name: 'recurrent', shape: [hidden, hidden] }, { name: 'bias', shape: [hidden] },
+      { name: 'gate', shape: [inputWidth, hidden] },
+      { name: 'gateBias', shape: [hidden] },
+      { name: 'input', shape: [inputWidth, hidden] },
+      { name: 'recurrent', shape: [hidden, hidden] },
+      { name: 'bias', shape: [hidden] },
     ],
     step(w) {
       const [h] = w.state;
@@ -55,9 +65,17 @@ describe('a new cell written in this test as a plan, and nothing else', () => {
   const leakyPlans = { 'test.leaky': leaky };
 
   it('trains, streams in the runtime as the trained model computes, and runs from its ONNX file as the model does', async () => {
-    const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'test.leaky', hidden: 8 }], readout: { width: 1 } }, { seed: 2, plans: leakyPlans });
+    const model = buildModel(
+      { input: { kind: 'values', width: 1 }, layers: [{ cell: 'test.leaky', hidden: 8 }], readout: { width: 1 } },
+      { seed: 2, plans: leakyPlans },
+    );
     const values = Array.from({ length: 600 }, (_, i) => Math.sin(i / 6));
-    const trainer = new Trainer({ model, data: streamBatches({ kind: 'values', values, features: 1 }, { window: 24 }), optimizer: new AdamRule({ rate: 0.02 }), epochs: 12 });
+    const trainer = new Trainer({
+      model,
+      data: streamBatches({ kind: 'values', values, features: 1 }, { window: 24 }),
+      optimizer: new AdamRule({ rate: 0.02 }),
+      epochs: 12,
+    });
     const first = trainer.step();
     let last = first;
     while (!trainer.finished) last = trainer.step();
@@ -83,8 +101,13 @@ describe('a new cell written in this test as a plan, and nothing else', () => {
 describe('a cell of your own, as a plan', () => {
   it('is written to a weight file under its kind, and read back only with its plan (one line naming the layer otherwise)', async () => {
     const { text, model } = await written();
-    const refused = await readWeightFile(text).then(() => null, (error: unknown) => oneLine(error));
-    expect(refused).toMatch(/model\.layers\[0\]\.cell: expected one of 'lstm', 'gru', 'plain' \(test\.mgu is a cell of your own: give its plan, plans: \{ 'test\.mgu': … \}\), received "test\.mgu"/);
+    const refused = await readWeightFile(text).then(
+      () => null,
+      (error: unknown) => oneLine(error),
+    );
+    expect(refused).toMatch(
+      /model\.layers\[0\]\.cell: expected one of 'lstm', 'gru', 'plain' \(test\.mgu is a cell of your own: give its plan, plans: \{ 'test\.mgu': … \}\), received "test\.mgu"/,
+    );
     const file = await readWeightFile(text, { plans });
     expect((file.model as typeof description).layers[0].cell).toBe('test.mgu');
     const loaded = loadModel(file, { plans });
@@ -92,9 +115,12 @@ describe('a cell of your own, as a plan', () => {
     loaded.parameters().forEach((p, i) => expect(Array.from(p.tensor.data)).toEqual(Array.from(model.parameters()[i].tensor.data)));
   });
 
-  it('is refused where its plan does not fit the file\'s tensors, naming the tensor and both shapes', async () => {
+  it("is refused where its plan does not fit the file's tensors, naming the tensor and both shapes", async () => {
     const { text } = await written();
-    const wider: CellPlan = { ...mguPlan, parameters: (shape) => mguPlan.parameters(shape).map((p) => (p.name === 'recurrentGate' ? { ...p, shape: [shape.hidden, 2 * shape.hidden] } : p)) };
+    const wider: CellPlan = {
+      ...mguPlan,
+      parameters: (shape) => mguPlan.parameters(shape).map((p) => (p.name === 'recurrentGate' ? { ...p, shape: [shape.hidden, 2 * shape.hidden] } : p)),
+    };
     const file = await readWeightFile(text, { plans: { 'test.mgu': wider } });
     const fromLoad = (() => {
       try {
@@ -105,9 +131,15 @@ describe('a cell of your own, as a plan', () => {
       return 'loaded';
     })();
     expect(fromLoad).toMatch(/layers\[0\]\.forward\.recurrentGate.*\[6, 12\].*\[6, 6\]/);
-    const fromRuntime = await createRuntime(text, { plans: { 'test.mgu': wider } }).then(() => 'made', (error: unknown) => oneLine(error));
+    const fromRuntime = await createRuntime(text, { plans: { 'test.mgu': wider } }).then(
+      () => 'made',
+      (error: unknown) => oneLine(error),
+    );
     expect(fromRuntime).toMatch(/layers\[0\]\.forward\.recurrentGate.*\[6, 12\].*\[6, 6\]/);
-    const noPlan = await createRuntime(text, { plans: {} }).then(() => 'made', (error: unknown) => oneLine(error));
+    const noPlan = await createRuntime(text, { plans: {} }).then(
+      () => 'made',
+      (error: unknown) => oneLine(error),
+    );
     expect(noPlan).toMatch(/model\.layers\[0\]\.cell.*test\.mgu is a cell of your own/);
   });
 

@@ -40,7 +40,10 @@ describe('the package dependency graph', () => {
   for (const [name, uses] of Object.entries(allowed)) {
     it(`@weft/${name} uses only ${uses.length === 0 ? 'no other weft package' : uses.map((u) => `@weft/${u}`).join(', ')}, in its manifest, its references and its imports alike`, () => {
       const manifest = JSON.parse(readFileSync(join(packages, name, 'package.json'), 'utf8')) as { dependencies?: Record<string, string> };
-      const declared = Object.keys(manifest.dependencies ?? {}).filter((d) => d.startsWith('@weft/')).map((d) => d.slice(6)).sort();
+      const declared = Object.keys(manifest.dependencies ?? {})
+        .filter((d) => d.startsWith('@weft/'))
+        .map((d) => d.slice(6))
+        .sort();
       const config = JSON.parse(readFileSync(join(packages, name, 'tsconfig.json'), 'utf8')) as { references?: { path: string }[] };
       // A reference names a package folder, or one of its tsconfig files (io's Node entry has its own).
       const referenced = [...new Set((config.references ?? []).map((r) => r.path.replace(/^\.\.\//, '').split('/')[0]))].sort();

@@ -42,7 +42,10 @@ describe.skipIf(!available)('the pictures, rendered', () => {
 
   it('draws a 58,000-step run on a log scale with round ticks, labelled axes and the kept step marked', async () => {
     const random = new Random('long run');
-    const training = Array.from({ length: 58_000 }, (_, i) => ({ step: i + 1, loss: 3 / Math.sqrt(1 + i / 20) + 0.05 + 0.05 * random.normal() / Math.sqrt(1 + i / 500) }));
+    const training = Array.from({ length: 58_000 }, (_, i) => ({
+      step: i + 1,
+      loss: 3 / Math.sqrt(1 + i / 20) + 0.05 + (0.05 * random.normal()) / Math.sqrt(1 + i / 500),
+    }));
     const validation = Array.from({ length: 580 }, (_, i) => ({ step: 100 * (i + 1), loss: 3 / Math.sqrt(1 + 5 * (i + 1)) + 0.08 }));
     const svg = lossCurveSvg(training, validation, 'a long run', 40_100);
     const found = await render(svg, 'loss-58000-steps', ['axis-label', 'loss-tick-label', 'step-tick-label', 'kept', 'kept-label']);
@@ -58,7 +61,15 @@ describe.skipIf(!available)('the pictures, rendered', () => {
 
   it('draws a 20-step run on a linear scale from 0 with every fifth step labelled and the kept step marked', async () => {
     const training = Array.from({ length: 20 }, (_, i) => ({ step: i + 1, loss: 0.9 - 0.02 * i }));
-    const svg = lossCurveSvg(training, [{ step: 10, loss: 0.8 }, { step: 20, loss: 0.72 }], 'a short run', 20);
+    const svg = lossCurveSvg(
+      training,
+      [
+        { step: 10, loss: 0.8 },
+        { step: 20, loss: 0.72 },
+      ],
+      'a short run',
+      20,
+    );
     const found = await render(svg, 'loss-20-steps', ['axis-label', 'loss-tick-label', 'step-tick-label', 'kept-label', 'validation']);
     expect(found['axis-label']).toEqual(['step', 'loss']);
     expect(found['loss-tick-label']).toEqual(['0', '0.2', '0.4', '0.6', '0.8', '1']);
@@ -67,7 +78,7 @@ describe.skipIf(!available)('the pictures, rendered', () => {
     expect(found.validation).toHaveLength(2);
   }, 60_000);
 
-  it('draws many series\' forecasts with their bands, two to a row', async () => {
+  it("draws many series' forecasts with their bands, two to a row", async () => {
     const random = new Random('bands');
     const traces = ['north', 'south', 'east'].map((title, s) => {
       const actual = Array.from({ length: 120 }, (_, i) => (s + 1) * 100 + 20 * Math.sin(i / 6) + 5 * random.normal());

@@ -22,16 +22,21 @@ const withoutLogic: Record<string, string> = {
   'packages/core/src/base-entry.ts': 'the @weft/core/base entry: re-exports',
   'packages/core/src/training-state.ts': 'types only (the training state as plain data)',
   'packages/cells/src/index.ts': 'the package entry: re-exports',
-  'packages/cells/src/kernels/index.ts': 'an entry: re-exports core\'s step kernels',
+  'packages/cells/src/kernels/index.ts': "an entry: re-exports core's step kernels",
   'packages/cells/src/description-entry.ts': 'the @weft/cells/description entry: re-exports',
   'packages/cells/src/plans/plan.ts': 'types only (the plan contract and the traced program)',
+  'packages/cells/src/description-types.ts': "types only (the description's shapes; description.ts checks them)",
+  'packages/cells/src/model-types.ts': "types only (a built model's options and results)",
+  'packages/cli/src/pairs-types.ts': 'types only (what reading and preparing pairs gives)',
+  'packages/cli/src/sweep-types.ts': "types only (a sweep's combinations and rows)",
+  'packages/io/src/data/baselines-types.ts': "types only (the baselines' split, scores and options)",
   'packages/optim/src/index.ts': 'the package entry: re-exports',
-  'packages/optim/src/training/types.ts': 'types only (the trainer\'s options, events and summary)',
+  'packages/optim/src/training/types.ts': "types only (the trainer's options, events and summary)",
   'packages/optim/src/data.ts': 'types only (the batch shapes) and re-exports of the sources',
   'packages/optim/src/node/index.ts': 'the @weft/optim/node entry: re-exports',
-  'packages/optim/src/node/shard-worker.ts': 'a worker thread\'s script, run by threads.ts and tested through test/node/threads.test.ts',
+  'packages/optim/src/node/shard-worker.ts': "a worker thread's script, run by threads.ts and tested through test/node/threads.test.ts",
   'packages/io/src/index.ts': 'the package entry: re-exports',
-  'packages/io/src/data/series-types.ts': 'types only (a prepared series\' shapes)',
+  'packages/io/src/data/series-types.ts': "types only (a prepared series' shapes)",
   'packages/io/src/runtime/index.ts': 'the @weft/io/runtime entry: re-exports',
   'packages/io/src/runtime/javascript.ts': 'the @weft/io/runtime/javascript entry: re-exports',
   'packages/io/src/runtime/encoder-decoder.ts': 'the @weft/io/runtime/encoder-decoder entry: re-exports',
@@ -48,7 +53,9 @@ function sources(folder: string): string[] {
   });
 }
 
-const files = readdirSync(join(root, 'packages')).flatMap((p) => sources(join(root, 'packages', p, 'src'))).map((f) => relative(root, f).split('\\').join('/'));
+const files = readdirSync(join(root, 'packages'))
+  .flatMap((p) => sources(join(root, 'packages', p, 'src')))
+  .map((f) => relative(root, f).split('\\').join('/'));
 
 describe('the tests mirror the sources', () => {
   it('give every source file with logic a test file of its own name and place', () => {

@@ -33,7 +33,10 @@ export function bursts(count: number, seed: string): LabelledSequence[] {
 export async function classifyVibration(): Promise<{ accuracy: number; majority: number }> {
   const train = bursts(smallBudget() ? 300 : 900, 'pumps-train');
   const test = bursts(300, 'pumps-test');
-  const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'gru', hidden: 16, bidirectional: true }], readout: { width: 3 } }, { seed: 1 });
+  const model = buildModel(
+    { input: { kind: 'values', width: 1 }, layers: [{ cell: 'gru', hidden: 16, bidirectional: true }], readout: { width: 3 } },
+    { seed: 1 },
+  );
   const trainer = new Trainer({
     model,
     data: sequenceBatches(train, { batchSize: 32, seed: 1 }),

@@ -5,7 +5,7 @@
  *
  * Run: npx tsx examples/custom-cell/main.ts
  */
-import { Random, Tape, checkGradients, multiply, randomUniform, sum } from '@weft/core';
+import { Random, type Tape, checkGradients, multiply, randomUniform, sum } from '@weft/core';
 import { buildModel, runSequence } from '@weft/cells';
 import { AdamRule, Trainer, sequenceBatches } from '@weft/optim';
 import { bursts } from '../classify-vibration/main.js';
@@ -16,13 +16,16 @@ export async function customCell(): Promise<{ gradientsPass: boolean; accuracy: 
   // 1. Prove the gradients, in f64, over a ragged batch.
   const cell = new MinimalGatedCell(2, 5, 'f64', 3);
   const inputs = randomUniform([7, 3, 2], new Random(1), -1, 1, 'f64');
-  const report = checkGradients((tape: Tape) => {
-    const { outputs } = runSequence(tape, cell, inputs, { lengths: [7, 4, 2] });
-    return sum(tape, multiply(tape, outputs, outputs));
-  }, cell.parameters().map((p) => {
-    p.tensor.name = p.name;
-    return p.tensor;
-  }));
+  const report = checkGradients(
+    (tape: Tape) => {
+      const { outputs } = runSequence(tape, cell, inputs, { lengths: [7, 4, 2] });
+      return sum(tape, multiply(tape, outputs, outputs));
+    },
+    cell.parameters().map((p) => {
+      p.tensor.name = p.name;
+      return p.tensor;
+    }),
+  );
   console.log(report.text());
   // 2. Train it, registered under its own kind, in a described model.
   const model = buildModel(

@@ -12,7 +12,12 @@ export class MinimalGatedCell implements RecurrentCell {
   readonly hidden: number;
   private readonly weights: Record<'inputGate' | 'recurrentGate' | 'gateBias' | 'inputCandidate' | 'recurrentCandidate' | 'candidateBias', Tensor>;
 
-  constructor(readonly inputWidth: number, hidden: number, readonly dtype: DType = 'f32', seed = 0) {
+  constructor(
+    readonly inputWidth: number,
+    hidden: number,
+    readonly dtype: DType = 'f32',
+    seed = 0,
+  ) {
     const random = new Random(seed);
     const matrix = (rows: number): Tensor => trainable(randomUniform([rows, hidden], random, -1 / Math.sqrt(rows), 1 / Math.sqrt(rows), dtype));
     const bias = (): Tensor => trainable(zeros([hidden], dtype));

@@ -40,7 +40,9 @@ runIfMain(import.meta.url, async () => {
   }));
   const forecasts = await streamReadings(file, day);
   for (let i = 0; i < 96; i += 12) {
-    const forecast = Object.entries(forecasts[i]).map(([name, value]) => `${name} ${value.toFixed(1)}`).join(', ');
+    const forecast = Object.entries(forecasts[i])
+      .map(([name, value]) => `${name} ${value.toFixed(1)}`)
+      .join(', ');
     console.log(`${String(i / 4).padStart(2)}:00  now ${day[i].air_temperature_c.toFixed(1)} °C  in two hours: ${forecast}`);
   }
 });

@@ -27,7 +27,12 @@ let loaded: Promise<Runtime> | null = null;
 
 /** The runtime, made once per worker from the weight file the environment names. */
 function runtimeOf(env: WorkerEnvironment): Promise<Runtime> {
-  loaded ??= env.MODEL !== undefined ? createRuntime(env.MODEL) : env.MODEL_URL !== undefined ? createRuntime(new URL(env.MODEL_URL)) : Promise.reject(new Error('set MODEL_URL or MODEL to a weight file'));
+  loaded ??=
+    env.MODEL !== undefined
+      ? createRuntime(env.MODEL)
+      : env.MODEL_URL !== undefined
+        ? createRuntime(new URL(env.MODEL_URL))
+        : Promise.reject(new Error('set MODEL_URL or MODEL to a weight file'));
   return loaded;
 }
 
@@ -56,7 +61,8 @@ export default {
       throw error;
     }
     const targets = forecaster.outputNames;
-    const pick = (shift: (v: number, i: number) => number) => Object.fromEntries(targets.map((t, k) => [t, forecaster.rowsAhead.map((_, s) => shift(made[s * targets.length + k], s * targets.length + k))]));
+    const pick = (shift: (v: number, i: number) => number) =>
+      Object.fromEntries(targets.map((t, k) => [t, forecaster.rowsAhead.map((_, s) => shift(made[s * targets.length + k], s * targets.length + k))]));
     const half = forecaster.intervals?.halfWidth;
     return answer(200, {
       rowsAhead: forecaster.rowsAhead,

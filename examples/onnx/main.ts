@@ -35,12 +35,19 @@ export async function throughOnnx(epochs = 6, hours = 24): Promise<{ file: strin
     const streams = runtime.streams(1);
     return Array.from({ length: hours }, (_, t) => streams.step(Float32Array.of(inflow[t], level[t]))[0]);
   };
-  return { file: join(folder, 'tank.onnx'), onnxBytes: onnx.length, nodes: decodeOnnxModel(onnx).graph.nodes.map((n) => n.opType), before: await stream(weights), after: await stream(back) };
+  return {
+    file: join(folder, 'tank.onnx'),
+    onnxBytes: onnx.length,
+    nodes: decodeOnnxModel(onnx).graph.nodes.map((n) => n.opType),
+    before: await stream(weights),
+    after: await stream(back),
+  };
 }
 
 runIfMain(import.meta.url, async () => {
   const { file, onnxBytes, nodes, before, after } = await throughOnnx();
   console.log(`ONNX file: ${file}, ${onnxBytes} bytes, nodes ${nodes.join(' → ')} (try: npx weft inspect ${file})`);
-  for (let t = 0; t < before.length; t += 4) console.log(`hour ${String(t).padStart(2)}: forecast ${before[t].toFixed(4)} before the trip, ${after[t].toFixed(4)} after`);
+  for (let t = 0; t < before.length; t += 4)
+    console.log(`hour ${String(t).padStart(2)}: forecast ${before[t].toFixed(4)} before the trip, ${after[t].toFixed(4)} after`);
   console.log(before.every((v, t) => v === after[t]) ? 'the same forecasts, bit for bit' : 'the forecasts differ');
 });

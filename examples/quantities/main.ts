@@ -14,7 +14,12 @@ import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
 import { runIfMain, smallBudget } from '../shared.js';
 
 const numbers = ['one', 'two', 'three', 'four', 'five', 'six', 'seven', 'eight', 'nine', 'ten', 'eleven', 'twelve'];
-const units: [string[], string][] = [[['grams', 'gram', 'g'], 'g'], [['kilos', 'kilograms', 'kg'], 'kg'], [['litres', 'liters', 'l'], 'l'], [['millilitres', 'ml'], 'ml']];
+const units: [string[], string][] = [
+  [['grams', 'gram', 'g'], 'g'],
+  [['kilos', 'kilograms', 'kg'], 'kg'],
+  [['litres', 'liters', 'l'], 'l'],
+  [['millilitres', 'ml'], 'ml'],
+];
 
 /** Every phrase the invented grammar makes, with its canonical form. */
 export function phrases(): [string[], string][] {
@@ -44,18 +49,23 @@ export async function quantities(): Promise<Record<string, number>> {
   // Sources are read character by character (the phrase as typed), which makes them long: 6 to 34 steps.
   const spelled = (w: string[]) => [...w.join(' ')];
   const words = ['<start>', '<end>', ...new Set(all.flatMap(([w]) => spelled(w)))];
-  const characters = ['<start>', '<end>', ...new Set(all.flatMap(([, c]) => [...c]))].sort((a, b) => (a.length > 1 || b.length > 1 ? b.length - a.length : a < b ? -1 : 1));
+  const characters = ['<start>', '<end>', ...new Set(all.flatMap(([, c]) => [...c]))].sort((a, b) =>
+    a.length > 1 || b.length > 1 ? b.length - a.length : a < b ? -1 : 1,
+  );
   const wordId = (w: string) => words.indexOf(w);
   const charId = (c: string) => characters.indexOf(c);
   const results: Record<string, number> = {};
   for (const reverseSource of [false, true]) {
     const layer = { cell: 'gru', hidden: 64 };
-    const model = new EncoderDecoderModel({
-      kind: 'encoder-decoder',
-      reverseSource,
-      encoder: { input: { kind: 'embedding', vocabulary: words.length, width: 16 }, layers: [layer] },
-      decoder: { input: { kind: 'embedding', vocabulary: characters.length, width: 16 }, layers: [layer], readout: { width: characters.length } },
-    }, { seed: 2 });
+    const model = new EncoderDecoderModel(
+      {
+        kind: 'encoder-decoder',
+        reverseSource,
+        encoder: { input: { kind: 'embedding', vocabulary: words.length, width: 16 }, layers: [layer] },
+        decoder: { input: { kind: 'embedding', vocabulary: characters.length, width: 16 }, layers: [layer], readout: { width: characters.length } },
+      },
+      { seed: 2 },
+    );
     const parameters = model.parameters().map((p) => p.tensor);
     const optimizer = new AdamRule({ rate: 0.01 });
     const tape = new Tape();
@@ -80,7 +90,13 @@ export async function quantities(): Promise<Record<string, number>> {
       });
       tape.clear();
       resetGradients(parameters);
-      const { outputs } = model.run(tape, { tokens: source, steps: sourceSteps, batch: 16 }, batch.map(([w]) => spelled(w).length), { tokens: targetIn, steps: targetSteps, batch: 16 }, batch.map(([, c]) => c.length + 1));
+      const { outputs } = model.run(
+        tape,
+        { tokens: source, steps: sourceSteps, batch: 16 },
+        batch.map(([w]) => spelled(w).length),
+        { tokens: targetIn, steps: targetSteps, batch: 16 },
+        batch.map(([, c]) => c.length + 1),
+      );
       const loss = crossEntropyAtTargets(tape, reshape(tape, outputs, [targetSteps * 16, characters.length]), targetOut, { weights: mask });
       tape.reverseSweep(loss);
       limitGradientNorm(parameters, 1);
@@ -92,7 +108,10 @@ export async function quantities(): Promise<Record<string, number>> {
         let correct = 0;
         for (const [w, c] of test) {
           const [best] = runtime.beamSearch(spelled(w).map(wordId), { width, startToken: START, endToken: END, maxLength: 12 });
-          const text = best.tokens.filter((id) => id !== END).map((id) => characters[id]).join('');
+          const text = best.tokens
+            .filter((id) => id !== END)
+            .map((id) => characters[id])
+            .join('');
           if (text === c) correct++;
         }
         const key = `${reverseSource ? 'reversed' : 'in order'}, ${step} steps, beam ${width}`;
@@ -104,7 +123,12 @@ export async function quantities(): Promise<Record<string, number>> {
     if (reverseSource) {
       const example = ['seven', 'and', 'a', 'half', 'litres'];
       const [best] = runtime.beamSearch(spelled(example).map(wordId), { width: 4, startToken: START, endToken: END, maxLength: 12 });
-      console.log(`"${example.join(' ')}" → "${best.tokens.filter((id) => id !== END).map((id) => characters[id]).join('')}"`);
+      console.log(
+        `"${example.join(' ')}" → "${best.tokens
+          .filter((id) => id !== END)
+          .map((id) => characters[id])
+          .join('')}"`,
+      );
     }
   }
   return results;

@@ -61,7 +61,8 @@ const parameterCount = (d: EncoderDecoderDescription) => parameterLayout(d).para
 /** The hidden size without attention whose parameter count is closest to `target`. */
 function matchedHidden(target: number): number {
   let best = 1;
-  for (let h = 1; h <= 512; h++) if (Math.abs(parameterCount(description(h, null)) - target) < Math.abs(parameterCount(description(best, null)) - target)) best = h;
+  for (let h = 1; h <= 512; h++)
+    if (Math.abs(parameterCount(description(h, null)) - target) < Math.abs(parameterCount(description(best, null)) - target)) best = h;
   return best;
 }
 
@@ -93,7 +94,10 @@ export async function sealCodes(): Promise<{ bands: LengthBand[]; parameters: { 
   let map = '';
   const exact: Record<string, number[]> = {};
   const written: Record<string, string[][]> = {};
-  for (const [name, model] of [['with attention', attentive], ['without', plain]] as const) {
+  for (const [name, model] of [
+    ['with attention', attentive],
+    ['without', plain],
+  ] as const) {
     const started = Date.now();
     const trainer = new Trainer({
       model,
@@ -121,20 +125,46 @@ export async function sealCodes(): Promise<{ bands: LengthBand[]; parameters: { 
       const source = Array.from(code.scanned);
       const weights = new Float32Array(decoded.attention.length * source.length);
       decoded.attention.forEach((row, t) => weights.set(row, t * source.length));
-      map = attentionMapSvg(source, decoded.tokens.map((t) => targetAlphabet[t]), weights, `attention while filing ${code.scanned}`);
+      map = attentionMapSvg(
+        source,
+        decoded.tokens.map((t) => targetAlphabet[t]),
+        weights,
+        `attention while filing ${code.scanned}`,
+      );
     }
-    console.log(`${name}: ${parameterCount(model.description)} parameters, ${summary.steps} steps in ${((Date.now() - started) / 1000).toFixed(0)} s, validation token accuracy ${trainer.validate().metric.toFixed(3)}`);
+    console.log(
+      `${name}: ${parameterCount(model.description)} parameters, ${summary.steps} steps in ${((Date.now() - started) / 1000).toFixed(0)} s, validation token accuracy ${trainer.validate().metric.toFixed(3)}`,
+    );
   }
-  const bands: LengthBand[] = [[20, 33], [34, 46], [47, 60]].map(([from, to]) => {
+  const bands: LengthBand[] = [
+    [20, 33],
+    [34, 46],
+    [47, 60],
+  ].map(([from, to]) => {
     const members = heldOut.map((code, k) => (code.scanned.length >= from && code.scanned.length <= to ? k : -1)).filter((k) => k >= 0);
     const rate = (name: string) => members.reduce((n, k) => n + exact[name][k], 0) / Math.max(1, members.length);
-    const tokens = (name: string) => tokenAccuracy(members.map((k) => written[name][k]), members.map((k) => Array.from(heldOut[k].filed)));
-    return { from, to, withAttention: rate('with attention'), without: rate('without'), tokensWithAttention: tokens('with attention'), tokensWithout: tokens('without'), count: members.length };
+    const tokens = (name: string) =>
+      tokenAccuracy(
+        members.map((k) => written[name][k]),
+        members.map((k) => Array.from(heldOut[k].filed)),
+      );
+    return {
+      from,
+      to,
+      withAttention: rate('with attention'),
+      without: rate('without'),
+      tokensWithAttention: tokens('with attention'),
+      tokensWithout: tokens('without'),
+      count: members.length,
+    };
   });
   const percent = (v: number) => `${(100 * v).toFixed(1)}%`.padStart(7);
   console.log('held-out codes by source length: exact match (token accuracy)');
   console.log('  length   codes   with attention      without');
-  for (const b of bands) console.log(`  ${b.from}–${b.to}   ${String(b.count).padStart(5)}   ${percent(b.withAttention)} (${percent(b.tokensWithAttention)})   ${percent(b.without)} (${percent(b.tokensWithout)})`);
+  for (const b of bands)
+    console.log(
+      `  ${b.from}–${b.to}   ${String(b.count).padStart(5)}   ${percent(b.withAttention)} (${percent(b.tokensWithAttention)})   ${percent(b.without)} (${percent(b.tokensWithout)})`,
+    );
   return { bands, parameters: { withAttention: parameterCount(attentive.description), without: parameterCount(plain.description) }, steps, map };
 }
 

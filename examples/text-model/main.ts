@@ -18,7 +18,14 @@ export async function textModel(): Promise<{ perplexity: number; unigram: number
   const symbols = [...new Set(text)].sort();
   const ids = Int32Array.from([...text].map((c) => symbols.indexOf(c)));
   const split = Math.floor(ids.length * 0.9);
-  const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 16 }, layers: [{ cell: 'lstm', hidden: smallBudget() ? 48 : 64 }], readout: { width: symbols.length } }, { seed: 1 });
+  const model = buildModel(
+    {
+      input: { kind: 'embedding', vocabulary: symbols.length, width: 16 },
+      layers: [{ cell: 'lstm', hidden: smallBudget() ? 48 : 64 }],
+      readout: { width: symbols.length },
+    },
+    { seed: 1 },
+  );
   const trainer = new Trainer({
     model,
     data: streamBatches({ kind: 'tokens', tokens: ids.slice(0, split), vocabulary: symbols.length }, { streams: 8, window: 48 }),

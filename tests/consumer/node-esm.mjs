@@ -14,4 +14,6 @@ const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell:
 await saveWeightFile(path, model);
 const loaded = await loadWeightFile(path);
 const { text, ...rest } = result;
-process.stdout.write(JSON.stringify({ ...rest, textLength: text.length, saved: readFileSync(path, 'utf8').length, savedVerified: loaded.digestVerified, text }) + '\n');
+process.stdout.write(
+  `${JSON.stringify({ ...rest, textLength: text.length, saved: readFileSync(path, 'utf8').length, savedVerified: loaded.digestVerified, text })}\n`,
+);

@@ -24,7 +24,18 @@ export function f32Bits(value) {
 export const series = Array.from({ length: 320 }, (_, i) => Math.sin(i / 6) + 0.3 * Math.sin(i / 2.3));
 
 export async function trainAndForecast() {
-  const entries = [Random, WeftError, defaultBackend, matmulKernel, javascriptForward, plainForward, cellKernels, checkDescription, createJavascriptRuntime, createTranslator];
+  const entries = [
+    Random,
+    WeftError,
+    defaultBackend,
+    matmulKernel,
+    javascriptForward,
+    plainForward,
+    cellKernels,
+    checkDescription,
+    createJavascriptRuntime,
+    createTranslator,
+  ];
   const missing = entries.filter((entry) => entry === undefined).length;
   const description = { input: { kind: 'values', width: 1 }, layers: [{ cell: 'gru', hidden: 8 }], readout: { width: 1 } };
   const model = buildModel(description, { seed: 3 });
@@ -82,9 +93,19 @@ export async function textModelBits() {
   const line = 'the loom hums at dawn while the dyer stirs a vat of indigo; a shuttle flies left, then right. ';
   const symbols = [...new Set(line)].sort();
   const tokens = Int32Array.from(line.repeat(6), (c) => symbols.indexOf(c));
-  const description = { input: { kind: 'embedding', vocabulary: symbols.length, width: 8 }, layers: [{ cell: 'lstm', hidden: 16 }], readout: { width: symbols.length } };
+  const description = {
+    input: { kind: 'embedding', vocabulary: symbols.length, width: 8 },
+    layers: [{ cell: 'lstm', hidden: 16 }],
+    readout: { width: symbols.length },
+  };
   const model = buildModel(description, { seed: 5 });
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 12 }), optimizer: new AdamRule({ rate: 0.02 }), epochs: 100, seed: 5 });
+  const trainer = new Trainer({
+    model,
+    data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 12 }),
+    optimizer: new AdamRule({ rate: 0.02 }),
+    epochs: 100,
+    seed: 5,
+  });
   const losses = [];
   for (let i = 0; i < 20; i++) losses.push(f32Bits(trainer.step()));
   const runtime = await createRuntime(await writeWeightFile(model.description, modelTensors(model)));

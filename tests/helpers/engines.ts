@@ -34,7 +34,13 @@ export function otherEngines(): Engine[] {
     const executable = join(folder, known.binary);
     if (!existsSync(executable)) {
       mkdirSync(folder, { recursive: true });
-      const packed = execFileSync('npm', ['pack', `${known.registry}@${known.version}`, '--pack-destination', folder, '--silent'], { encoding: 'utf8', env: { ...process.env, npm_config_loglevel: 'error' } }).trim().split('\n').pop()!;
+      const packed = execFileSync('npm', ['pack', `${known.registry}@${known.version}`, '--pack-destination', folder, '--silent'], {
+        encoding: 'utf8',
+        env: { ...process.env, npm_config_loglevel: 'error' },
+      })
+        .trim()
+        .split('\n')
+        .pop()!;
       execFileSync('tar', ['-xzf', join(folder, packed), '-C', folder]);
       chmodSync(executable, 0o755);
     }

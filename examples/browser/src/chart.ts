@@ -48,7 +48,14 @@ export class LossChart {
       context.fill();
     }
     if (this.normCanvas === null) return;
-    const norms = this.frame(this.normCanvas, steps, largest(this.gradientNorm.map((p) => p.value), 1e-9));
+    const norms = this.frame(
+      this.normCanvas,
+      steps,
+      largest(
+        this.gradientNorm.map((p) => p.value),
+        1e-9,
+      ),
+    );
     norms?.line(this.gradientNorm, '#777');
   }
 

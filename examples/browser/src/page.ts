@@ -86,7 +86,7 @@ worker.onmessage = (event: MessageEvent<FromWorker>) => {
     status.textContent = `failed: ${message.message}`;
   }
   $<HTMLButtonElement>('train').disabled = false;
-  $<HTMLButtonElement>('stop').disabled = message.type === 'progress' ? false : true;
+  $<HTMLButtonElement>('stop').disabled = message.type !== 'progress';
   for (const resolve of waiting.splice(0)) resolve(message);
 };
 
@@ -125,7 +125,9 @@ function generate(): string {
     const tokens = generateTokens(runtime, { prefix, length: 120, random: new Random(4), temperature: 0.7 });
     return [...prefix, ...tokens].map((id) => vocabulary[id]).join('');
   }
-  return forecast(parseNumbers($<HTMLTextAreaElement>('data').value)).map((v) => v.toFixed(3)).join(', ');
+  return forecast(parseNumbers($<HTMLTextAreaElement>('data').value))
+    .map((v) => v.toFixed(3))
+    .join(', ');
 }
 
 /** One-step-ahead forecasts for every value of a series, through the runtime. */
@@ -181,9 +183,26 @@ const handle = {
     train(settings);
     const message = await until('done');
     if (message.type === 'failed') throw new Error(message.message);
-    return { steps: lastDone!.steps, lastLoss: lastDone!.lastLoss, lastLossBits: lastDone!.lastLossBits, backend: lastDone!.backend, workers: lastDone!.workers, status: status.textContent ?? '', heldOut: lastDone!.heldOut, heldOutText: $('heldout').textContent ?? '', timerWorstLateness: timer.worst, timerTicks: timer.ticks };
+    return {
+      steps: lastDone!.steps,
+      lastLoss: lastDone!.lastLoss,
+      lastLossBits: lastDone!.lastLossBits,
+      backend: lastDone!.backend,
+      workers: lastDone!.workers,
+      status: status.textContent ?? '',
+      heldOut: lastDone!.heldOut,
+      heldOutText: $('heldout').textContent ?? '',
+      timerWorstLateness: timer.worst,
+      timerTicks: timer.ticks,
+    };
   },
-  chartPoints: () => ({ training: chart.training.length, validation: chart.validation.length, gradientNorm: chart.gradientNorm.length, firstLoss: chart.training[0]?.value, lastLoss: chart.training.at(-1)?.value }),
+  chartPoints: () => ({
+    training: chart.training.length,
+    validation: chart.validation.length,
+    gradientNorm: chart.gradientNorm.length,
+    firstLoss: chart.training[0]?.value,
+    lastLoss: chart.training.at(-1)?.value,
+  }),
   forecast: (values: number[]) => forecast(values),
   generate: () => generate(),
   hasWeights: () => runtime !== null,

@@ -77,7 +77,10 @@ function parts(count: number, least: number): { trainEnd: number; testStart: num
 }
 
 export function parseNumbers(text: string): number[] {
-  const values = text.split(/[\s,;]+/).filter((s) => s !== '').map(Number);
+  const values = text
+    .split(/[\s,;]+/)
+    .filter((s) => s !== '')
+    .map(Number);
   const bad = values.findIndex((v) => !Number.isFinite(v));
   if (bad >= 0) throw new Error(`item ${bad + 1} is not a number`);
   return values;
@@ -90,7 +93,12 @@ const platformBackend = defaultBackend();
  * The model, trainer and held-out figures of a configuration; with `startThreads` and `config.workers` > 1 (and
  * more than one shard per batch), the trainer computes its shards on that many threads.
  */
-export async function prepare(config: TrainingConfig, onProgress?: (event: TrainingEvent) => void, signal?: AbortSignal, startThreads?: StartThreads): Promise<Prepared> {
+export async function prepare(
+  config: TrainingConfig,
+  onProgress?: (event: TrainingEvent) => void,
+  signal?: AbortSignal,
+  startThreads?: StartThreads,
+): Promise<Prepared> {
   // Everything below (the model, the batches, the trainer's buffers) is made on this backend.
   setDefaultBackend(config.backend ?? platformBackend);
   const count = Math.min(config.workers ?? 1, Math.ceil(config.streams / SHARD_ROWS));
@@ -99,19 +107,37 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
     if (count > 1 && startThreads !== undefined) threads = await startThreads(model, count);
     return threads === null ? {} : { workers: threads };
   };
-  const common = { optimizer: new AdamRule({ rate: config.rate }), epochs: config.epochs, gradientNormLimit: 1, seed: config.seed, onProgress, signal, shardRows: SHARD_ROWS };
+  const common = {
+    optimizer: new AdamRule({ rate: config.rate }),
+    epochs: config.epochs,
+    gradientNormLimit: 1,
+    seed: config.seed,
+    onProgress,
+    signal,
+    shardRows: SHARD_ROWS,
+  };
   if (config.kind === 'text') {
     // The vocabulary as weft train makes it: the unknown token first, then every character of the text.
     const symbols = buildVocabulary(config.data);
     const ids = Int32Array.from([...config.data].map((c) => symbols.indexOf(c)));
     const { trainEnd, testStart } = parts(ids.length, 2);
-    const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 12 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: symbols.length } }, { seed: config.seed });
+    const model = buildModel(
+      {
+        input: { kind: 'embedding', vocabulary: symbols.length, width: 12 },
+        layers: [{ cell: config.cell, hidden: config.hidden }],
+        readout: { width: symbols.length },
+      },
+      { seed: config.seed },
+    );
     const trainer = new Trainer({
       ...common,
       ...(await threadsFor(model)),
       model,
       data: streamBatches({ kind: 'tokens', tokens: ids.slice(0, trainEnd), vocabulary: symbols.length }, { streams: config.streams, window: config.window }),
-      validation: wholeStream({ kind: 'tokens', tokens: ids.slice(0, testStart), vocabulary: symbols.length }, { window: config.window, scoredFrom: trainEnd - 1 }),
+      validation: wholeStream(
+        { kind: 'tokens', tokens: ids.slice(0, testStart), vocabulary: symbols.length },
+        { window: config.window, scoredFrom: trainEnd - 1 },
+      ),
       validateEvery: 10,
     });
     const heldOut = (): HeldOut => {
@@ -138,10 +164,16 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
         model: { name: 'model', description: '', value: Math.exp(crossEntropy / n) },
         baselines: [
           { name: 'unigram', description: 'each character as often as in the text before the test (add-one)', value: judged.unigram },
-          { name: `${judged.order}-gram`, description: `interpolated Kneser-Ney, order ${judged.order} of 1-6 chosen on the validation part`, value: judged.ngram },
+          {
+            name: `${judged.order}-gram`,
+            description: `interpolated Kneser-Ney, order ${judged.order} of 1-6 chosen on the validation part`,
+            value: judged.ngram,
+          },
         ],
         names: [],
-        context: [`parts of the text, in order: training ${trainEnd} characters; validation, for stopping and keeping weights, ${testStart - trainEnd}; test, scored once at the end, the last ${n}`],
+        context: [
+          `parts of the text, in order: training ${trainEnd} characters; validation, for stopping and keeping weights, ${testStart - trainEnd}; test, scored once at the end, the last ${n}`,
+        ],
       };
       return { report, lines: reportLines(report) };
     };
@@ -150,10 +182,22 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
   // A column of numbers, prepared as weft train prepares a series (prepareSeries: the same parts, scaling,
   // baselines and verdict), read as long streams as the page's window and streams settings describe.
   const values = parseNumbers(config.data);
-  const series = prepareSeries(`value\n${values.join('\n')}\n`, 'the series', { window: config.window, lookback: 0, streams: config.streams, validationShare: VALIDATION_SHARE, testShare: TEST_SHARE, horizon: 1, seed: config.seed, examples: 'streams' });
+  const series = prepareSeries(`value\n${values.join('\n')}\n`, 'the series', {
+    window: config.window,
+    lookback: 0,
+    streams: config.streams,
+    validationShare: VALIDATION_SHARE,
+    testShare: TEST_SHARE,
+    horizon: 1,
+    seed: config.seed,
+    examples: 'streams',
+  });
   const streams = series.examples as SeriesStreams;
   const { trainEnd, testStart } = streams;
-  const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: 1 } }, { seed: config.seed });
+  const model = buildModel(
+    { input: { kind: 'values', width: 1 }, layers: [{ cell: config.cell, hidden: config.hidden }], readout: { width: 1 } },
+    { seed: config.seed },
+  );
   const trainer = new Trainer({
     ...common,
     ...(await threadsFor(model)),
@@ -175,7 +219,13 @@ export async function prepare(config: TrainingConfig, onProgress?: (event: Train
     const { mean, deviation } = series.metadata.normalisation as { mean: number[]; deviation: number[] };
     const positions: number[] = [];
     for (let t = testStart - 1; t + 1 < values.length; t++) positions.push(t);
-    return { report, lines: reportLines(report), actual: positions.map((t) => values[t + 1]), forecast: positions.map((t) => outputs[t] * deviation[0] + mean[0]), halfWidth: halfWidth[0] };
+    return {
+      report,
+      lines: reportLines(report),
+      actual: positions.map((t) => values[t + 1]),
+      forecast: positions.map((t) => outputs[t] * deviation[0] + mean[0]),
+      halfWidth: halfWidth[0],
+    };
   };
   return { model, trainer, threads, metadata: series.metadata, heldOut };
 }
@@ -188,4 +238,5 @@ export function f32Bits(value: number): string {
 }
 
 /** An invented demo text for the page. */
-export const sampleText = 'the loom hums at dawn while the dyer stirs a vat of indigo. a shuttle flies left, then right; the warp threads rise and fall. by noon the bolt of cloth is long enough to cover the bench. the weaver counts the picks per inch and tightens the reed. at dusk the looms rest and the spools are stacked by colour. ';
+export const sampleText =
+  'the loom hums at dawn while the dyer stirs a vat of indigo. a shuttle flies left, then right; the warp threads rise and fall. by noon the bolt of cloth is long enough to cover the bench. the weaver counts the picks per inch and tightens the reed. at dusk the looms rest and the spools are stacked by colour. ';

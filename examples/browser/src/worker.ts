@@ -5,7 +5,7 @@ import type { RecurrentCell } from '@weft/cells';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import type { ChartPoint, FromWorker, ToWorker } from './protocol.js';
 import { startThreadGroup, webWorkerThread } from '@weft/optim';
-import type { ShardWorkers, TrainableModel } from '@weft/optim';
+import type { ShardWorkers, TrainableModel, TrainingSummary } from '@weft/optim';
 import { f32Bits, prepare } from './training.js';
 
 /** Web Workers running shard.js, as many as asked: the page's training threads (cross-origin isolated pages only). */
@@ -39,10 +39,13 @@ function gradientChecks(): FromWorker {
     for (const p of cell.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
     const inputs = randomUniform([5, 3, 3], random, -1, 1, 'f64');
     const weights = randomUniform([5, 3, 4], random, -1, 1, 'f64');
-    const report = checkGradients((tape) => {
-      const { outputs, state } = runSequence(tape, cell, inputs, { lengths: [5, 3, 1] });
-      return add(tape, sum(tape, multiply(tape, outputs, weights)), sum(tape, multiply(tape, state[0], state[0])));
-    }, [...cell.parameters().map((p) => p.tensor), inputs]);
+    const report = checkGradients(
+      (tape) => {
+        const { outputs, state } = runSequence(tape, cell, inputs, { lengths: [5, 3, 1] });
+        return add(tape, sum(tape, multiply(tape, outputs, weights)), sum(tape, multiply(tape, state[0], state[0])));
+      },
+      [...cell.parameters().map((p) => p.tensor), inputs],
+    );
     return { label, passed: report.passed, worst: Math.max(...report.tensors.map((t) => t.worstRelativeError)) };
   });
   return { type: 'checked', reports };
@@ -71,19 +74,25 @@ self.onmessage = async (event: MessageEvent<ToWorker>) => {
       lastPost = performance.now();
     };
     const config = { ...message.config, workers: message.config.workers ?? availableThreads() };
-    if (config.workers > availableThreads()) throw new Error(`${config.workers} training threads asked, ${availableThreads()} available (threads need a cross-origin isolated page)`);
-    const { model, trainer, threads, metadata, heldOut } = await prepare(config, (e) => {
-      if (e.kind === 'step') {
-        pending.training.push({ step: e.step, value: e.loss });
-        if (Number.isFinite(e.gradientNorm)) pending.gradientNorm.push({ step: e.step, value: e.gradientNorm });
-        if (message.config.maxSteps !== undefined && e.step >= message.config.maxSteps) controller?.abort();
-      }
-      if (e.kind === 'validation') pending.validation.push({ step: e.step, value: e.validationLoss! });
-      total = Math.min(e.totalSteps, message.config.maxSteps ?? Infinity);
-      if (performance.now() - lastPost > 100) flush(e.step);
-    }, controller.signal, startThreads);
+    if (config.workers > availableThreads())
+      throw new Error(`${config.workers} training threads asked, ${availableThreads()} available (threads need a cross-origin isolated page)`);
+    const { model, trainer, threads, metadata, heldOut } = await prepare(
+      config,
+      (e) => {
+        if (e.kind === 'step') {
+          pending.training.push({ step: e.step, value: e.loss });
+          if (Number.isFinite(e.gradientNorm)) pending.gradientNorm.push({ step: e.step, value: e.gradientNorm });
+          if (message.config.maxSteps !== undefined && e.step >= message.config.maxSteps) controller?.abort();
+        }
+        if (e.kind === 'validation') pending.validation.push({ step: e.step, value: e.validationLoss! });
+        total = Math.min(e.totalSteps, message.config.maxSteps ?? Infinity);
+        if (performance.now() - lastPost > 100) flush(e.step);
+      },
+      controller.signal,
+      startThreads,
+    );
     post({ type: 'started', workers: threads?.count ?? 1 });
-    let summary;
+    let summary: TrainingSummary;
     try {
       summary = await trainer.run();
     } finally {
@@ -91,7 +100,16 @@ self.onmessage = async (event: MessageEvent<ToWorker>) => {
     }
     flush(summary.steps);
     const weightFile = await writeWeightFile(model.description, modelTensors(model), { metadata });
-    post({ type: 'done', steps: summary.steps, lastLoss: summary.lastLoss, lastLossBits: f32Bits(summary.lastLoss), weightFile, backend: trainer.backend.name, workers: threads?.count ?? 1, heldOut: heldOut() });
+    post({
+      type: 'done',
+      steps: summary.steps,
+      lastLoss: summary.lastLoss,
+      lastLossBits: f32Bits(summary.lastLoss),
+      weightFile,
+      backend: trainer.backend.name,
+      workers: threads?.count ?? 1,
+      heldOut: heldOut(),
+    });
   } catch (error) {
     post({ type: 'failed', message: (error as Error).message });
   }

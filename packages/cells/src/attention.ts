@@ -52,7 +52,7 @@ const attentionKind: OperationKind<AttentionSaved> = {
     const gq = query.tracked ? tape.gradientOf(query) : null;
     const gk = scoreKeys.tracked ? tape.gradientOf(scoreKeys) : null;
     const gv = values.tracked ? tape.gradientOf(values) : null;
-    const gvec = vector !== null && vector.tracked ? tape.gradientOf(vector) : null;
+    const gvec = vector?.tracked ? tape.gradientOf(vector) : null;
     const scoreGradient = tape.buffer('f64', sources);
     for (let t = 0; t < steps; t++) {
       for (let b = 0; b < rows; b++) {
@@ -101,7 +101,8 @@ const attentionKind: OperationKind<AttentionSaved> = {
  * states); `vector` [D] (v, additive form only, else null); `lengths` per row, or null for full rows.
  */
 export function attend(tape: Tape, query: Tensor, scoreKeys: Tensor, values: Tensor, vector: Tensor | null, lengths: Int32Array | null): AttentionStep {
-  if (query.shape.length !== 2 && query.shape.length !== 3) fail('shape_mismatch', 'attend.query', '[batch, depth] or [steps, batch, depth]', formatShape(query.shape));
+  if (query.shape.length !== 2 && query.shape.length !== 3)
+    fail('shape_mismatch', 'attend.query', '[batch, depth] or [steps, batch, depth]', formatShape(query.shape));
   const steps = query.shape.length === 3 ? query.shape[0] : 1;
   const [rows, depth] = query.shape.slice(-2);
   if (values.shape.length !== 3 || values.shape[1] !== rows) fail('shape_mismatch', 'attend.values', `[sources, ${rows}, width]`, formatShape(values.shape));
@@ -109,7 +110,8 @@ export function attend(tape: Tape, query: Tensor, scoreKeys: Tensor, values: Ten
   if (scoreKeys.shape.length !== 3 || scoreKeys.shape[0] !== sources || scoreKeys.shape[1] !== rows || scoreKeys.shape[2] !== depth) {
     fail('shape_mismatch', 'attend.scoreKeys', formatShape([sources, rows, depth]), formatShape(scoreKeys.shape));
   }
-  if (vector !== null && (vector.shape.length !== 1 || vector.shape[0] !== depth)) fail('shape_mismatch', 'attend.vector', formatShape([depth]), formatShape(vector.shape));
+  if (vector !== null && (vector.shape.length !== 1 || vector.shape[0] !== depth))
+    fail('shape_mismatch', 'attend.vector', formatShape([depth]), formatShape(vector.shape));
   if (lengths !== null && lengths.length !== rows) fail('shape_mismatch', 'attend.lengths', `${rows} lengths`, `${lengths.length}`);
   const tracked = query.tracked || scoreKeys.tracked || values.tracked || (vector?.tracked ?? false);
   const out = tape.output(query.shape.length === 3 ? [steps, rows, width] : [rows, width], values.dtype, tracked);

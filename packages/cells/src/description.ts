@@ -16,68 +16,19 @@ import { WeftError, isRecord } from '@weft/core/base';
 import type { Problem } from '@weft/core/base';
 import { isNamespacedKind, planOf } from './plans/index.js';
 import { plainPlan } from './plans/plain.js';
+import type { AttentionForm, EncoderDecoderDescription, ModelDescription } from './description-types.js';
 
-/** The cells weft builds itself, by their word in a description. */
-export type BuiltInCellKind = 'lstm' | 'gru' | 'plain';
-
-/** Inputs that are token ids, looked up in a trained embedding table. */
-export interface EmbeddingInput {
-  /** Marks token-id input. */
-  readonly kind: 'embedding';
-  /** How many distinct tokens there are (ids run from 0 to vocabulary − 1). */
-  readonly vocabulary: number;
-  /** Width of each token's embedding vector, the first layer's input width. */
-  readonly width: number;
-}
-
-/** Inputs that are numbers: `width` values per step. */
-export interface ValuesInput {
-  /** Marks numeric input. */
-  readonly kind: 'values';
-  /** Values per step (features). */
-  readonly width: number;
-}
-
-/** One recurrent layer of a model description. */
-export interface LayerDescription {
-  /** `lstm`, `gru`, `plain`, or the kind of a cell registered with the builder. */
-  readonly cell: string;
-  /** Hidden size of the layer's cell (per direction). */
-  readonly hidden: number;
-  /** Run a second cell backward in time and join both outputs (width 2 × hidden); default false. */
-  readonly bidirectional?: boolean;
-  /**
-   * Run the layer's one cell backward in time only (each row from its last valid step to its first; outputs put back
-   * in time order), its parameters named `backward`; default false. Not with `bidirectional`.
-   */
-  readonly reverse?: boolean;
-  /** LSTM only. */
-  readonly peepholes?: boolean;
-  /** LSTM only. */
-  readonly forgetBias?: number;
-  /** GRU only. */
-  readonly resetAfterProduct?: boolean;
-  /** Plain only: `tanh` or `relu`. */
-  readonly activation?: 'tanh' | 'relu';
-}
-
-/** The affine map from the last layer's output to the model's output at each step. */
-export interface ReadoutDescription {
-  /** Output width: classes (or tokens) for classification, values for forecasting. */
-  readonly width: number;
-}
-
-/** A sequence model as plain data (JSON): what a weight file stores and `buildModel` builds. */
-export interface ModelDescription {
-  /** What the model reads at each step. */
-  readonly input: EmbeddingInput | ValuesInput;
-  /** The recurrent layers, first to last (stacked: each reads the one before). */
-  readonly layers: readonly LayerDescription[];
-  /** Dropout rate between layers and before the readout while training, in [0, 1); default 0. */
-  readonly dropout?: number;
-  /** The readout; absent or null to output the last layer's states. */
-  readonly readout?: ReadoutDescription | null;
-}
+export type {
+  AnyModelDescription,
+  AttentionForm,
+  BuiltInCellKind,
+  EmbeddingInput,
+  EncoderDecoderDescription,
+  LayerDescription,
+  ModelDescription,
+  ReadoutDescription,
+  ValuesInput,
+} from './description-types.js';
 
 const everyLayer = ['cell', 'hidden', 'bidirectional', 'reverse'];
 const layerKeys: Record<string, readonly string[]> = {
@@ -153,7 +104,7 @@ export function describeProblems(value: unknown, path = 'description', customKin
         return;
       }
       const kind = layer.cell;
-      const known = typeof kind === 'string' && (Object.prototype.hasOwnProperty.call(layerKeys, kind) || customKinds.includes(kind));
+      const known = typeof kind === 'string' && (Object.hasOwn(layerKeys, kind) || customKinds.includes(kind));
       if (!known) {
         const own = typeof kind === 'string' && isNamespacedKind(kind) ? ` (${kind} is a cell of your own: give its plan, plans: { '${kind}': … })` : '';
         add(`${where}.cell`, `one of ${[...Object.keys(layerKeys), ...customKinds].map((k) => `'${k}'`).join(', ')}${own}`, kind);
@@ -163,7 +114,7 @@ export function describeProblems(value: unknown, path = 'description', customKin
       if (layer.bidirectional !== undefined && typeof layer.bidirectional !== 'boolean') add(`${where}.bidirectional`, 'true or false', layer.bidirectional);
       if (layer.reverse !== undefined && typeof layer.reverse !== 'boolean') add(`${where}.reverse`, 'true or false', layer.reverse);
       if (layer.reverse === true && layer.bidirectional === true) add(`${where}.reverse`, 'not with bidirectional', true);
-      if (typeof kind === 'string' && Object.prototype.hasOwnProperty.call(layerKeys, kind)) {
+      if (typeof kind === 'string' && Object.hasOwn(layerKeys, kind)) {
         for (const key of Object.keys(layer)) {
           if (!layerKeys[kind].includes(key)) add(`${where}.${key}`, `no such field for a ${kind} layer (${layerKeys[kind].join(', ')})`, layer[key]);
         }
@@ -172,8 +123,10 @@ export function describeProblems(value: unknown, path = 'description', customKin
       if (layer.forgetBias !== undefined && (typeof layer.forgetBias !== 'number' || !Number.isFinite(layer.forgetBias))) {
         add(`${where}.forgetBias`, 'a finite number', layer.forgetBias);
       }
-      if (layer.resetAfterProduct !== undefined && typeof layer.resetAfterProduct !== 'boolean') add(`${where}.resetAfterProduct`, 'true or false', layer.resetAfterProduct);
-      if (layer.activation !== undefined && layer.activation !== 'tanh' && layer.activation !== 'relu') add(`${where}.activation`, "'tanh' or 'relu'", layer.activation);
+      if (layer.resetAfterProduct !== undefined && typeof layer.resetAfterProduct !== 'boolean')
+        add(`${where}.resetAfterProduct`, 'true or false', layer.resetAfterProduct);
+      if (layer.activation !== undefined && layer.activation !== 'tanh' && layer.activation !== 'relu')
+        add(`${where}.activation`, "'tanh' or 'relu'", layer.activation);
     });
   }
   if (value.dropout !== undefined && !(typeof value.dropout === 'number' && value.dropout >= 0 && value.dropout < 1)) {
@@ -214,45 +167,8 @@ export function checkDescription(value: unknown, path = 'description', customKin
   return value as ModelDescription;
 }
 
-/**
- * An encoder-decoder (Sutskever, Vinyals & Le 2014; Cho et al. 2014): the encoder reads the source tokens, and its
- * final state is the decoder's initial state; the decoder reads the target tokens shifted right (starting with a
- * start token) and predicts the next target token through its readout. Encoder and decoder layers match one to one
- * in cell kind and hidden size; decoder layer i starts from the final state of encoder layer i's last cell (its
- * backward cell when the layer is bidirectional or reverse: that cell ends on the first source token, as Bahdanau
- * et al. 2015 start the decoder from the backward state there). Decoder layers run forward in time only; both inputs
- * are embeddings. `reverseSource` feeds each source sequence reversed within its length (Sutskever et al. 2014, §3.3).
- * `attention` (Luong, Pham & Manning 2015, global attention) lets each decoding step look at every encoder output:
- * see `attend` and EncoderDecoderModel.
- *
- *   { "kind": "encoder-decoder", "reverseSource": true, "attention": "general",
- *     "encoder": { "input": {embedding}, "layers": [...] },
- *     "decoder": { "input": {embedding}, "layers": [...], "readout": { "width": V } } }
- */
-export interface EncoderDecoderDescription {
-  /** Marks an encoder-decoder. */
-  readonly kind: 'encoder-decoder';
-  /** Reads the source sequence; its final state starts the decoder. */
-  readonly encoder: ModelDescription;
-  /** Generates the target sequence, one token per step, from the encoder's final state. */
-  readonly decoder: ModelDescription;
-  /** Feed the source to the encoder in reverse order (Sutskever, Vinyals & Le 2014); default false. */
-  readonly reverseSource?: boolean;
-  /**
-   * How each decoding step scores the encoder's outputs: `dot` (h·h̄; the encoder's output width must equal the
-   * decoder's hidden size), `general` (h·W h̄), `additive` (v·tanh(W h + U h̄)); absent or null for no attention.
-   */
-  readonly attention?: AttentionForm | null;
-}
-
-/** The score functions of attention (Luong et al. 2015, eq. 8; `additive` is Bahdanau et al. 2015's). */
-export type AttentionForm = 'dot' | 'general' | 'additive';
-
 /** The attention forms, as a description spells them. */
 export const ATTENTION_FORMS: readonly AttentionForm[] = ['dot', 'general', 'additive'];
-
-/** Either kind of model description. */
-export type AnyModelDescription = ModelDescription | EncoderDecoderDescription;
 
 /** True when `value` is (shaped like) an encoder-decoder description. */
 export function isEncoderDecoder(value: unknown): value is EncoderDecoderDescription {
@@ -271,7 +187,8 @@ export function describeAnyProblems(value: unknown, path = 'description', custom
   for (const key of Object.keys(v)) if (!fields.includes(key)) add(`.${key}`, `no such field (${fields.join(', ')})`, v[key]);
   if (v.reverseSource !== undefined && typeof v.reverseSource !== 'boolean') add('.reverseSource', 'true or false', v.reverseSource);
   const attention = v.attention;
-  if (attention !== undefined && attention !== null && !ATTENTION_FORMS.includes(attention as AttentionForm)) add('.attention', `${ATTENTION_FORMS.map((f) => `'${f}'`).join(', ')} or null`, attention);
+  if (attention !== undefined && attention !== null && !ATTENTION_FORMS.includes(attention as AttentionForm))
+    add('.attention', `${ATTENTION_FORMS.map((f) => `'${f}'`).join(', ')} or null`, attention);
   const encoder = describeProblems(v.encoder, `${path}.encoder`, customKinds);
   const decoder = describeProblems(v.decoder, `${path}.decoder`, customKinds);
   problems.push(...encoder, ...decoder);
@@ -288,12 +205,20 @@ export function describeAnyProblems(value: unknown, path = 'description', custom
   }
   e.layers.forEach((layer, i) => {
     const other = d.layers[i];
-    if (layer.cell !== other.cell || layer.hidden !== other.hidden) problems.push({ code: 'invalid_option', path: `${path}.decoder.layers[${i}]`, expected: `a ${layer.cell} layer of ${layer.hidden} (as the encoder's)`, received: `${other.cell} of ${other.hidden}` });
-    if (other.bidirectional === true || other.reverse === true) add(`.decoder.layers[${i}]`, 'a layer that reads forward (it decodes one step at a time)', other);
+    if (layer.cell !== other.cell || layer.hidden !== other.hidden)
+      problems.push({
+        code: 'invalid_option',
+        path: `${path}.decoder.layers[${i}]`,
+        expected: `a ${layer.cell} layer of ${layer.hidden} (as the encoder's)`,
+        received: `${other.cell} of ${other.hidden}`,
+      });
+    if (other.bidirectional === true || other.reverse === true)
+      add(`.decoder.layers[${i}]`, 'a layer that reads forward (it decodes one step at a time)', other);
   });
   const top = e.layers[e.layers.length - 1];
   const width = top.hidden * (top.bidirectional === true ? 2 : 1);
   const hidden = d.layers[d.layers.length - 1].hidden;
-  if (attention === 'dot' && width !== hidden) add('.attention', `'general' or 'additive' (dot needs the encoder's output width ${width} to equal the decoder's hidden size ${hidden})`, attention);
+  if (attention === 'dot' && width !== hidden)
+    add('.attention', `'general' or 'additive' (dot needs the encoder's output width ${width} to equal the decoder's hidden size ${hidden})`, attention);
   return problems;
 }

@@ -66,8 +66,17 @@ export class EncoderDecoderModel {
   readonly dtype: DType;
 
   constructor(description: unknown, options: BuildOptions = {}) {
-    const problems = describeAnyProblems(description, 'description', [...Object.keys(options.cells ?? {}), ...Object.keys(checkPlans(options.plans, 'EncoderDecoderModel.plans'))]);
-    if (!isEncoderDecoder(description)) problems.unshift({ code: 'invalid_option', path: 'description.kind', expected: "'encoder-decoder'", received: JSON.stringify((description as { kind?: unknown })?.kind) ?? 'nothing' });
+    const problems = describeAnyProblems(description, 'description', [
+      ...Object.keys(options.cells ?? {}),
+      ...Object.keys(checkPlans(options.plans, 'EncoderDecoderModel.plans')),
+    ]);
+    if (!isEncoderDecoder(description))
+      problems.unshift({
+        code: 'invalid_option',
+        path: 'description.kind',
+        expected: "'encoder-decoder'",
+        received: JSON.stringify((description as { kind?: unknown })?.kind) ?? 'nothing',
+      });
     if (problems.length > 0) throw new WeftError(problems);
     const checked = description as EncoderDecoderDescription;
     this.description = JSON.parse(JSON.stringify(checked)) as EncoderDecoderDescription;
@@ -103,7 +112,14 @@ export class EncoderDecoderModel {
    * batch (the targets shifted right behind a start token) from the encoder's final state, reading the encoder's
    * outputs through attention when the description has it.
    */
-  run(tape: Tape, source: TokenBatch, sourceLengths: Int32Array | readonly number[] | null, targetInput: TokenBatch, targetLengths: Int32Array | readonly number[] | null = null, options: EncoderDecoderRunOptions = {}): EncoderDecoderRun {
+  run(
+    tape: Tape,
+    source: TokenBatch,
+    sourceLengths: Int32Array | readonly number[] | null,
+    targetInput: TokenBatch,
+    targetLengths: Int32Array | readonly number[] | null = null,
+    options: EncoderDecoderRunOptions = {},
+  ): EncoderDecoderRun {
     if (source.batch !== targetInput.batch) {
       fail('shape_mismatch', 'encoderDecoder.targetInput.batch', `${source.batch} (the source batch)`, `${targetInput.batch}`);
     }
@@ -125,7 +141,8 @@ export class EncoderDecoderModel {
     const values = reversed ? reverseWithinLengths(tape, encoder.outputs, lengths) : encoder.outputs;
     const [sources, , width] = values.shape;
     const get = (name: string): Tensor => this.attention.get(name) as Tensor;
-    const project = (x: Tensor, w: Tensor, leading: number): Tensor => reshape(tape, matmul(tape, reshape(tape, x, [leading * rows, x.shape[2]]), w), [leading, rows, w.shape[1]]);
+    const project = (x: Tensor, w: Tensor, leading: number): Tensor =>
+      reshape(tape, matmul(tape, reshape(tape, x, [leading * rows, x.shape[2]]), w), [leading, rows, w.shape[1]]);
     const keys = form === 'dot' ? values : project(values, get('attention.keys'), sources);
     const query = form === 'additive' ? project(states, get('attention.query'), steps) : states;
     const { context, weights } = attend(tape, query, keys, values, form === 'additive' ? get('attention.vector') : null, lengths);

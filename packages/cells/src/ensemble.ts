@@ -16,10 +16,18 @@ import { SequenceModel } from './model.js';
 /** The description of `count` members of `member` stacked into one model (hidden sizes and readout × count). */
 export function stackedDescription(member: ModelDescription, count: number): ModelDescription {
   if (!Number.isInteger(count) || count < 1) fail('invalid_option', 'members', 'a whole number ≥ 1', String(count));
-  if (member.input.kind !== 'values') fail('invalid_option', 'description.input.kind', "'values' (members are stacked over numeric inputs only)", JSON.stringify(member.input.kind));
+  if (member.input.kind !== 'values')
+    fail('invalid_option', 'description.input.kind', "'values' (members are stacked over numeric inputs only)", JSON.stringify(member.input.kind));
   member.layers.forEach((layer, i) => {
-    if (layerDirections(layer).length !== 1) fail('invalid_option', `description.layers[${i}].bidirectional`, 'a layer reading one way (members are stacked over one-way layers only)', 'true');
-    if (layer.hidden * count > MAX_HIDDEN) fail('invalid_option', 'members', `at most ${Math.floor(MAX_HIDDEN / layer.hidden)} members of ${layer.hidden} hidden units (${MAX_HIDDEN} in all)`, String(count));
+    if (layerDirections(layer).length !== 1)
+      fail('invalid_option', `description.layers[${i}].bidirectional`, 'a layer reading one way (members are stacked over one-way layers only)', 'true');
+    if (layer.hidden * count > MAX_HIDDEN)
+      fail(
+        'invalid_option',
+        'members',
+        `at most ${Math.floor(MAX_HIDDEN / layer.hidden)} members of ${layer.hidden} hidden units (${MAX_HIDDEN} in all)`,
+        String(count),
+      );
   });
   return {
     ...member,
@@ -37,7 +45,8 @@ export function stackMembers(members: readonly SequenceModel[]): SequenceModel {
   const first = members[0];
   const same = JSON.stringify(first.description);
   members.forEach((m, k) => {
-    if (JSON.stringify(m.description) !== same) fail('invalid_option', `members[${k}].description`, 'the description of members[0]', JSON.stringify(m.description).slice(0, 80));
+    if (JSON.stringify(m.description) !== same)
+      fail('invalid_option', `members[${k}].description`, 'the description of members[0]', JSON.stringify(m.description).slice(0, 80));
     if (m.dtype !== first.dtype) fail('invalid_option', `members[${k}].dtype`, first.dtype, m.dtype);
   });
   if (!modelLayout(first.description).builtIn) fail('invalid_option', 'members[0].description', 'built-in cells (lstm, gru, plain)', 'a cell of your own');
@@ -78,7 +87,14 @@ export function stackMembers(members: readonly SequenceModel[]): SequenceModel {
  * over k (the mean of the middle two for an even count). `scratch` holds at least `members` numbers; nothing is
  * allocated.
  */
-export function medianOfMembers(values: ArrayLike<number>, from: number, members: number, width: number, out: { [index: number]: number }, scratch: Float64Array): void {
+export function medianOfMembers(
+  values: ArrayLike<number>,
+  from: number,
+  members: number,
+  width: number,
+  out: { [index: number]: number },
+  scratch: Float64Array,
+): void {
   for (let j = 0; j < width; j++) {
     // Insertion sort of the members' values for output j (a handful of members).
     for (let k = 0; k < members; k++) {

@@ -130,8 +130,16 @@ interface GruStepSaved {
 const gruStepKind: OperationKind<GruStepSaved> = {
   name: 'gruStep',
   saves: () => ({
-    projected: noTensor, hPrevious: noTensor, recurrent: noTensor, recurrentCandidate: noTensor, candidateBias: null,
-    gates: noTensor.data, candidate: noTensor.data, resetHidden: null, lengths: null, step: 0,
+    projected: noTensor,
+    hPrevious: noTensor,
+    recurrent: noTensor,
+    recurrentCandidate: noTensor,
+    candidateBias: null,
+    gates: noTensor.data,
+    candidate: noTensor.data,
+    resetHidden: null,
+    lengths: null,
+    step: 0,
   }),
   backward(node, tape): void {
     const { projected, hPrevious, recurrent, recurrentCandidate, candidateBias, gates, candidate, resetHidden, lengths, step } = node.saved;
@@ -144,8 +152,21 @@ const gruStepKind: OperationKind<GruStepSaved> = {
     const candidateGradient = tape.buffer(dtype, rows * hidden);
     const productGradient = tape.buffer(dtype, rows * hidden);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    tape.kernels.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hPreviousGradient, h.gradient!, gates, candidate,
-      hPrevious.data, resetAfter, rows, hidden, lengths, step);
+    tape.kernels.gruBackwardCandidate(
+      updateResetGradient,
+      candidateGradient,
+      productGradient,
+      hPreviousGradient,
+      h.gradient!,
+      gates,
+      candidate,
+      hPrevious.data,
+      resetAfter,
+      rows,
+      hidden,
+      lengths,
+      step,
+    );
     if (!resetAfter) {
       // δ(r ⊙ h₋) = δq · R_nᵀ; δR_n += (r ⊙ h₋)ᵀ · δq
       const resetHiddenGradient = tape.buffer(dtype, rows * hidden);

@@ -9,13 +9,45 @@ export { GruCell } from './gru.js';
 export type { PlainActivation, PlainOptions } from './plain.js';
 export { PlainCell } from './plain.js';
 export { fillIdentity, fillOrthogonal, fillUniform, glorotBound, orthogonalMatrix } from './init.js';
-export { allActive, copyLastSteps, holdInactiveRows, isActive, joinSteps, lastSteps, reverseWithinLengths, stackSteps, timeStep, zeroBeyondLengths } from './sequence-ops.js';
+export {
+  allActive,
+  copyLastSteps,
+  holdInactiveRows,
+  isActive,
+  joinSteps,
+  lastSteps,
+  reverseWithinLengths,
+  stackSteps,
+  timeStep,
+  zeroBeyondLengths,
+} from './sequence-ops.js';
 export type { SequenceOptions } from './layer.js';
 export { checkLengths, runBidirectional, runReversed, runSequence } from './layer.js';
-export type { AnyModelDescription, AttentionForm, BuiltInCellKind, EmbeddingInput, EncoderDecoderDescription, LayerDescription, ModelDescription, ReadoutDescription, ValuesInput } from './description.js';
+export type {
+  AnyModelDescription,
+  AttentionForm,
+  BuiltInCellKind,
+  EmbeddingInput,
+  EncoderDecoderDescription,
+  LayerDescription,
+  ModelDescription,
+  ReadoutDescription,
+  ValuesInput,
+} from './description.js';
 export { ATTENTION_FORMS, MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
-export type { CellPlan, CellShape, PlanSlot, ProgramValue, StepInstruction, StepOperation, StepProgram, StepValue, StepWriter, ValueSource } from './plans/plan.js';
+export type {
+  CellPlan,
+  CellShape,
+  PlanSlot,
+  ProgramValue,
+  StepInstruction,
+  StepOperation,
+  StepProgram,
+  StepValue,
+  StepWriter,
+  ValueSource,
+} from './plans/plan.js';
 export type { CellPlans } from './plans/index.js';
 export { builtInPlans, isNamespacedKind, namespacedKinds, planOf } from './plans/index.js';
 export { traceStep } from './plans/trace.js';

@@ -39,7 +39,8 @@ export class LstmCell extends PlanCell implements FusedSequence {
 
   constructor(options: LstmOptions) {
     const forgetBias = options.forgetBias ?? 1;
-    if (typeof forgetBias !== 'number' || !Number.isFinite(forgetBias)) fail('invalid_option', `${options.name ?? 'lstm'}.forgetBias`, 'a finite number', String(forgetBias));
+    if (typeof forgetBias !== 'number' || !Number.isFinite(forgetBias))
+      fail('invalid_option', `${options.name ?? 'lstm'}.forgetBias`, 'a finite number', String(forgetBias));
     super({
       ...options,
       plan: lstmPlan,
@@ -114,8 +115,15 @@ interface LstmStepSaved {
 const lstmStepKind: OperationKind<LstmStepSaved> = {
   name: 'lstmStep',
   saves: () => ({
-    projected: noTensor, hPrevious: noTensor, cPrevious: noTensor, recurrent: noTensor, peephole: null,
-    gates: noTensor.data, tanhCell: noTensor.data, lengths: null, step: 0,
+    projected: noTensor,
+    hPrevious: noTensor,
+    cPrevious: noTensor,
+    recurrent: noTensor,
+    peephole: null,
+    gates: noTensor.data,
+    tanhCell: noTensor.data,
+    lengths: null,
+    step: 0,
   }),
   backward(node, tape): void {
     const { projected, hPrevious, cPrevious, recurrent, peephole, gates, tanhCell, lengths, step } = node.saved;
@@ -130,7 +138,7 @@ const lstmStepKind: OperationKind<LstmStepSaved> = {
       gateGradient,
       hPreviousGradient,
       cPrevious.tracked ? tape.gradientOf(cPrevious) : null,
-      peephole !== null && peephole.tracked ? tape.gradientOf(peephole) : null,
+      peephole?.tracked ? tape.gradientOf(peephole) : null,
       h.gradient,
       c.gradient,
       gates,

@@ -37,7 +37,8 @@ export class PlainCell extends PlanCell implements FusedSequence {
 
   constructor(options: PlainOptions) {
     const activation = options.activation ?? 'tanh';
-    if (activation !== 'tanh' && activation !== 'relu') fail('invalid_option', `${options.name ?? 'plain'}.activation`, "'tanh' or 'relu'", JSON.stringify(activation));
+    if (activation !== 'tanh' && activation !== 'relu')
+      fail('invalid_option', `${options.name ?? 'plain'}.activation`, "'tanh' or 'relu'", JSON.stringify(activation));
     super({
       ...options,
       plan: plainPlan,

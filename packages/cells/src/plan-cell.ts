@@ -27,14 +27,30 @@ export function stepOnTape(program: StepProgram, tape: Tape, x: Tensor, state: r
     const b = values[instruction.b];
     let out: Tensor;
     switch (instruction.operation) {
-      case 'product': out = matmul(tape, a, parameter(instruction.weights)); break;
-      case 'add': out = add(tape, a, b); break;
-      case 'subtract': out = subtract(tape, a, b); break;
-      case 'multiply': out = multiply(tape, a, b); break;
-      case 'sigmoid': out = sigmoid(tape, a); break;
-      case 'tanh': out = tanh(tape, a); break;
-      case 'relu': out = relu(tape, a); break;
-      case 'columns': out = slice(tape, a, instruction.start, instruction.start + program.values[instruction.out].width); break;
+      case 'product':
+        out = matmul(tape, a, parameter(instruction.weights));
+        break;
+      case 'add':
+        out = add(tape, a, b);
+        break;
+      case 'subtract':
+        out = subtract(tape, a, b);
+        break;
+      case 'multiply':
+        out = multiply(tape, a, b);
+        break;
+      case 'sigmoid':
+        out = sigmoid(tape, a);
+        break;
+      case 'tanh':
+        out = tanh(tape, a);
+        break;
+      case 'relu':
+        out = relu(tape, a);
+        break;
+      case 'columns':
+        out = slice(tape, a, instruction.start, instruction.start + program.values[instruction.out].width);
+        break;
     }
     values[instruction.out] = out;
   }

@@ -39,8 +39,20 @@ export interface ResolvedCellOptions {
 export function resolveCellOptions(options: CommonCellOptions, kind: string): ResolvedCellOptions {
   const name = options.name ?? kind;
   // Options of earlier versions, refused by name so that a program written for them learns the new word.
-  if ('hiddenSize' in options) fail('invalid_option', `${name}.hiddenSize`, 'the option hidden (hiddenSize was renamed)', JSON.stringify((options as { hiddenSize?: unknown }).hiddenSize));
-  if ('inputSize' in options) fail('invalid_option', `${name}.inputSize`, 'the option inputWidth (inputSize was renamed)', JSON.stringify((options as { inputSize?: unknown }).inputSize));
+  if ('hiddenSize' in options)
+    fail(
+      'invalid_option',
+      `${name}.hiddenSize`,
+      'the option hidden (hiddenSize was renamed)',
+      JSON.stringify((options as { hiddenSize?: unknown }).hiddenSize),
+    );
+  if ('inputSize' in options)
+    fail(
+      'invalid_option',
+      `${name}.inputSize`,
+      'the option inputWidth (inputSize was renamed)',
+      JSON.stringify((options as { inputSize?: unknown }).inputSize),
+    );
   return {
     name,
     inputWidth: requirePositiveWhole(options.inputWidth, `${name}.inputWidth`),

@@ -212,7 +212,14 @@ const lastKind: OperationKind<RaggedSaved> = {
  * [rows, width] (zeros for a row of length 0; `lengths` null means every row has `steps` steps); returns `out`. The
  * one home of the last-valid-step rule, for the tape's `lastSteps` and for code that reads outputs off the tape.
  */
-export function copyLastSteps<T extends FloatArray>(out: T, data: ArrayLike<number>, lengths: Int32Array | null, steps: number, rows: number, width: number): T {
+export function copyLastSteps<T extends FloatArray>(
+  out: T,
+  data: ArrayLike<number>,
+  lengths: Int32Array | null,
+  steps: number,
+  rows: number,
+  width: number,
+): T {
   for (let b = 0; b < rows; b++) {
     const length = lengths === null ? steps : lengths[b];
     const at = ((length - 1) * rows + b) * width;

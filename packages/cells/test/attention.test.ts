@@ -16,8 +16,8 @@ function states(random: Random): Tensor {
   return f64Input(random, [S, B, H], 'encoder states');
 }
 
-describe('attention over an encoder\'s states', () => {
-  it('weighs each row\'s own source positions by the softmax of q·k (dot form), zero beyond its length and for an empty row', () => {
+describe("attention over an encoder's states", () => {
+  it("weighs each row's own source positions by the softmax of q·k (dot form), zero beyond its length and for an empty row", () => {
     const random = new Random('attention-values');
     const keys = states(random);
     const query = f64Input(random, [B, H], 'query');
@@ -52,7 +52,9 @@ describe('attention over an encoder\'s states', () => {
     const keys = states(random);
     const query = f64Input(random, [B, H], 'query');
     const w = f64Input(random, [B, H], 'w');
-    check(checkGradients((tape) => weighted(tape, attend(tape, query, keys, keys, null, lengths).context, w), [query, keys], { tolerance: 1e-6, directions: 2 }));
+    check(
+      checkGradients((tape) => weighted(tape, attend(tape, query, keys, keys, null, lengths).context, w), [query, keys], { tolerance: 1e-6, directions: 2 }),
+    );
   });
 
   it('gives the general form (q · W k) the gradients of finite differences for the query, W and the states', () => {
@@ -61,10 +63,16 @@ describe('attention over an encoder\'s states', () => {
     const query = f64Input(random, [B, D], 'query');
     const projection = f64Input(random, [H, D], 'W');
     const w = f64Input(random, [B, H], 'w');
-    check(checkGradients((tape) => {
-      const scored = reshape(tape, matmul(tape, reshape(tape, keys, [S * B, H]), projection), [S, B, D]);
-      return weighted(tape, attend(tape, query, scored, keys, null, lengths).context, w);
-    }, [query, projection, keys], { tolerance: 1e-6, directions: 2 }));
+    check(
+      checkGradients(
+        (tape) => {
+          const scored = reshape(tape, matmul(tape, reshape(tape, keys, [S * B, H]), projection), [S, B, D]);
+          return weighted(tape, attend(tape, query, scored, keys, null, lengths).context, w);
+        },
+        [query, projection, keys],
+        { tolerance: 1e-6, directions: 2 },
+      ),
+    );
   });
 
   it('gives the additive form (v · tanh(W s + U h)) the gradients of finite differences for s, W, U, v and the states', () => {
@@ -75,16 +83,24 @@ describe('attention over an encoder\'s states', () => {
     const ua = f64Input(random, [H, D], 'U_a');
     const v = f64Input(random, [D], 'v_a');
     const w = f64Input(random, [B, H], 'w');
-    check(checkGradients((tape) => {
-      const q = matmul(tape, decoder, wa);
-      const u = reshape(tape, matmul(tape, reshape(tape, keys, [S * B, H]), ua), [S, B, D]);
-      return weighted(tape, attend(tape, q, u, keys, v, lengths).context, w);
-    }, [decoder, wa, ua, v, keys], { tolerance: 1e-6, directions: 2 }));
+    check(
+      checkGradients(
+        (tape) => {
+          const q = matmul(tape, decoder, wa);
+          const u = reshape(tape, matmul(tape, reshape(tape, keys, [S * B, H]), ua), [S, B, D]);
+          return weighted(tape, attend(tape, q, u, keys, v, lengths).context, w);
+        },
+        [decoder, wa, ua, v, keys],
+        { tolerance: 1e-6, directions: 2 },
+      ),
+    );
   });
 
   it('refuses keys of another shape than the query and values imply, naming both', () => {
     const random = new Random('attention-shapes');
     const keys = states(random);
-    expect(() => attend(new Tape(), f64Input(random, [B, 2], 'q'), keys, keys, null, null)).toThrowError('Shape mismatch at attend.scoreKeys: expected [5, 3, 2], received [5, 3, 4]');
+    expect(() => attend(new Tape(), f64Input(random, [B, 2], 'q'), keys, keys, null, null)).toThrowError(
+      'Shape mismatch at attend.scoreKeys: expected [5, 3, 2], received [5, 3, 4]',
+    );
   });
 });

@@ -6,7 +6,20 @@
  * bidirectional ragged stack with an embedding, dropout and a readout under masked cross-entropy.
  */
 import { afterAll, describe, expect, it } from 'vitest';
-import { Random, Tape, crossEntropyAtTargets, defaultBackend, javascriptBackend, randomUniform, reshape, setDefaultBackend, sum, multiply, webAssemblyBackend, webAssemblyUnavailable } from '@weft/core';
+import {
+  Random,
+  Tape,
+  crossEntropyAtTargets,
+  defaultBackend,
+  javascriptBackend,
+  randomUniform,
+  reshape,
+  setDefaultBackend,
+  sum,
+  multiply,
+  webAssemblyBackend,
+  webAssemblyUnavailable,
+} from '@weft/core';
 import type { Backend, Tensor } from '@weft/core';
 import { GruCell, LstmCell, PlainCell, buildModel, runSequence } from '@weft/cells';
 import type { RecurrentCell } from '@weft/cells';
@@ -27,7 +40,10 @@ function worst(a: ArrayLike<number>, b: ArrayLike<number>): number {
   return error;
 }
 
-interface Run { readonly outputs: Float32Array; readonly gradients: Float32Array[] }
+interface Run {
+  readonly outputs: Float32Array;
+  readonly gradients: Float32Array[];
+}
 
 function cellRun(backend: Backend, make: () => RecurrentCell, mode: 'fused' | 'composed'): Run {
   setDefaultBackend(backend);

@@ -19,7 +19,7 @@ const source = { tokens: Int32Array.of(1, 4, 2, 5, 3, 0), steps: 3, batch: 2 };
 const targetInput = { tokens: Int32Array.of(0, 0, 2, 3), steps: 2, batch: 2 };
 
 describe('encoder-decoder models', () => {
-  it('name the encoder\'s parameters encoder.… and the decoder\'s decoder.…, and give logits [T_target, B, V]', () => {
+  it("name the encoder's parameters encoder.… and the decoder's decoder.…, and give logits [T_target, B, V]", () => {
     const model = new EncoderDecoderModel(description, { seed: 4 });
     const names = model.parameters().map((p) => p.name);
     expect(names[0]).toBe('encoder.embedding.table');
@@ -36,16 +36,22 @@ describe('encoder-decoder models', () => {
 
   it('give the teacher-forced loss the gradients of finite differences through both halves (f64)', () => {
     const model = new EncoderDecoderModel(description, { seed: 4, dtype: 'f64' });
-    const report = checkGradients((tape) => {
-      const { outputs } = model.run(tape, source, [3, 2], targetInput, [2, 1]);
-      return crossEntropyAtTargets(tape, reshape(tape, outputs, [4, 5]), [2, 3, 1, 0], { weights: [1, 1, 1, 0] });
-    }, model.parameters().map((p) => p.tensor), { tolerance: 1e-6 });
+    const report = checkGradients(
+      (tape) => {
+        const { outputs } = model.run(tape, source, [3, 2], targetInput, [2, 1]);
+        return crossEntropyAtTargets(tape, reshape(tape, outputs, [4, 5]), [2, 3, 1, 0], { weights: [1, 1, 1, 0] });
+      },
+      model.parameters().map((p) => p.tensor),
+      { tolerance: 1e-6 },
+    );
     if (!report.passed) throw new Error(report.text());
     expect(report.passed).toBe(true);
   });
 
   it('refuse a description that is not an encoder-decoder, and batches of two sizes', () => {
-    expect(() => new EncoderDecoderModel(description.encoder)).toThrowError(/^Invalid option at description\.kind: expected 'encoder-decoder', received nothing/);
+    expect(() => new EncoderDecoderModel(description.encoder)).toThrowError(
+      /^Invalid option at description\.kind: expected 'encoder-decoder', received nothing/,
+    );
     const model = new EncoderDecoderModel(description);
     expect(() => model.run(new Tape(), source, null, { tokens: Int32Array.of(0, 0, 0), steps: 1, batch: 3 })).toThrowError(
       'Shape mismatch at encoderDecoder.targetInput.batch: expected 2 (the source batch), received 3',
@@ -53,7 +59,9 @@ describe('encoder-decoder models', () => {
   });
 
   it('refuse an unknown attention form, and dot attention between unequal widths, naming the field', () => {
-    expect(() => new EncoderDecoderModel({ ...description, attention: 'cosine' })).toThrowError(/description\.attention: expected 'dot', 'general', 'additive' or null, received "cosine"/);
+    expect(() => new EncoderDecoderModel({ ...description, attention: 'cosine' })).toThrowError(
+      /description\.attention: expected 'dot', 'general', 'additive' or null, received "cosine"/,
+    );
     const wide = { ...description, attention: 'dot', encoder: { ...description.encoder, layers: [{ cell: 'gru', hidden: 4, bidirectional: true }] } };
     expect(() => new EncoderDecoderModel(wide)).toThrowError(/dot needs the encoder's output width 8 to equal the decoder's hidden size 4/);
   });
@@ -61,7 +69,10 @@ describe('encoder-decoder models', () => {
 
 /** A bidirectional two-layer LSTM encoder and a two-layer LSTM decoder, with the given attention. */
 function attentive(attention: AttentionForm, reverseSource = false): EncoderDecoderDescription {
-  const layers = (bidirectional: boolean) => [{ cell: 'lstm', hidden: 3, bidirectional }, { cell: 'lstm', hidden: 3, bidirectional }];
+  const layers = (bidirectional: boolean) => [
+    { cell: 'lstm', hidden: 3, bidirectional },
+    { cell: 'lstm', hidden: 3, bidirectional },
+  ];
   return {
     kind: 'encoder-decoder',
     attention,
@@ -79,13 +90,22 @@ const sourceLengths = [4, 2, 3];
 const targetLengths = [3, 1, 2];
 
 describe('encoder-decoders with attention', () => {
-  for (const [form, reverseSource] of [['dot', false], ['general', false], ['additive', false], ['general', true]] as const) {
+  for (const [form, reverseSource] of [
+    ['dot', false],
+    ['general', false],
+    ['additive', false],
+    ['general', true],
+  ] as const) {
     it(`give the ${form} form${reverseSource ? ' (source reversed)' : ''} the gradients of finite differences for every parameter, with ragged sources and masked targets (f64)`, () => {
       const model = new EncoderDecoderModel(attentive(form, reverseSource), { seed: 7, dtype: 'f64' });
-      const report = checkGradients((tape) => {
-        const { outputs } = model.run(tape, sources, sourceLengths, targets, targetLengths);
-        return crossEntropyAtTargets(tape, reshape(tape, outputs, [9, 5]), [2, 1, 4, 3, 0, 1, 1, 0, 0], { weights: [1, 1, 1, 1, 0, 1, 1, 0, 0] });
-      }, model.parameters().map((p) => p.tensor), { tolerance: 1e-6 });
+      const report = checkGradients(
+        (tape) => {
+          const { outputs } = model.run(tape, sources, sourceLengths, targets, targetLengths);
+          return crossEntropyAtTargets(tape, reshape(tape, outputs, [9, 5]), [2, 1, 4, 3, 0, 1, 1, 0, 0], { weights: [1, 1, 1, 1, 0, 1, 1, 0, 0] });
+        },
+        model.parameters().map((p) => p.tensor),
+        { tolerance: 1e-6 },
+      );
       if (!report.passed) throw new Error(report.text());
       expect(report.passed).toBe(true);
     });
@@ -97,9 +117,11 @@ describe('encoder-decoders with attention', () => {
       const layout = parameterLayout(model.description).parameters;
       expect(model.parameters().map((p) => [p.name, p.tensor.shape])).toEqual(layout.map((p) => [p.name, p.shape]));
     }
-    expect(parameterLayout(attentive('additive')).parameters.slice(-4).map((p) => `${p.name} [${p.shape.join(', ')}]`)).toEqual([
-      'attention.keys [6, 3]', 'attention.query [3, 3]', 'attention.vector [3]', 'attention.combine [9, 3]',
-    ]);
+    expect(
+      parameterLayout(attentive('additive'))
+        .parameters.slice(-4)
+        .map((p) => `${p.name} [${p.shape.join(', ')}]`),
+    ).toEqual(['attention.keys [6, 3]', 'attention.query [3, 3]', 'attention.vector [3]', 'attention.combine [9, 3]']);
   });
 
   it('compute the logits of Luong et al. 2015, eqs. 5–8, recomputed here in plain loops, and weights that sum to 1 over each source', () => {
@@ -122,7 +144,8 @@ describe('encoder-decoders with attention', () => {
           const scores = Array.from({ length: sourceLengths[b] }, (_, s) => {
             let e = 0;
             if (form === 'dot') for (let j = 0; j < D; j++) e += h(t, b, j) * hbar(s, b, j);
-            else if (form === 'general') for (let j = 0; j < D; j++) for (let i = 0; i < E; i++) e += h(t, b, j) * p('attention.keys')[i * D + j] * hbar(s, b, i);
+            else if (form === 'general')
+              for (let j = 0; j < D; j++) for (let i = 0; i < E; i++) e += h(t, b, j) * p('attention.keys')[i * D + j] * hbar(s, b, i);
             else {
               for (let j = 0; j < D; j++) {
                 let pre = 0;
@@ -136,7 +159,10 @@ describe('encoder-decoders with attention', () => {
           const total = scores.reduce((n, e) => n + Math.exp(e), 0);
           const a = scores.map((e) => Math.exp(e) / total);
           a.forEach((w, s) => expect(Math.abs(run.attentionWeights![(t * B + b) * S + s] - w)).toBeLessThan(1e-12));
-          const joined = [...Array.from({ length: E }, (_, i) => a.reduce((n, w, s) => n + w * hbar(s, b, i), 0)), ...Array.from({ length: D }, (_, j) => h(t, b, j))];
+          const joined = [
+            ...Array.from({ length: E }, (_, i) => a.reduce((n, w, s) => n + w * hbar(s, b, i), 0)),
+            ...Array.from({ length: D }, (_, j) => h(t, b, j)),
+          ];
           const tilde = Array.from({ length: D }, (_, j) => Math.tanh(joined.reduce((n, x, i) => n + x * p('attention.combine')[i * D + j], 0)));
           for (let v = 0; v < 5; v++) {
             const logit = tilde.reduce((n, x, j) => n + x * weights[j * 5 + v], bias[v]);
@@ -147,7 +173,7 @@ describe('encoder-decoders with attention', () => {
     }
   });
 
-  it('start each decoder layer from its encoder layer\'s backward cell when that layer is bidirectional', () => {
+  it("start each decoder layer from its encoder layer's backward cell when that layer is bidirectional", () => {
     const model = new EncoderDecoderModel(attentive('general'), { seed: 1, dtype: 'f64' });
     const encoder = model.encoder.run(new Tape({ recording: false }), sources, { lengths: sourceLengths });
     // Encoder slots: layer 0 forward h, c, backward h, c; layer 1 the same. The decoder takes each backward pair.

@@ -11,8 +11,19 @@ import type { ModelDescription } from '@weft/cells';
 
 const descriptions: Record<string, ModelDescription> = {
   'LSTMs with peepholes': { input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 4, peepholes: true }], readout: { width: 2 } },
-  'GRUs resetting after the product': { input: { kind: 'values', width: 2 }, layers: [{ cell: 'gru', hidden: 3, resetAfterProduct: true }], readout: { width: 1 } },
-  'two-layer stacks of a plain layer and an LSTM': { input: { kind: 'values', width: 2 }, layers: [{ cell: 'plain', hidden: 3 }, { cell: 'lstm', hidden: 2 }], readout: { width: 2 } },
+  'GRUs resetting after the product': {
+    input: { kind: 'values', width: 2 },
+    layers: [{ cell: 'gru', hidden: 3, resetAfterProduct: true }],
+    readout: { width: 1 },
+  },
+  'two-layer stacks of a plain layer and an LSTM': {
+    input: { kind: 'values', width: 2 },
+    layers: [
+      { cell: 'plain', hidden: 3 },
+      { cell: 'lstm', hidden: 2 },
+    ],
+    readout: { width: 2 },
+  },
 };
 
 describe('members stacked into one model', () => {
@@ -43,8 +54,12 @@ describe('members stacked into one model', () => {
     const b = buildModel(descriptions['GRUs resetting after the product'], { seed: 1 });
     expect(() => stackMembers([a, b])).toThrowError(/members\[1\]\.description/);
     expect(() => stackMembers([])).toThrowError(/at least one model/);
-    expect(() => stackedDescription({ input: { kind: 'embedding', vocabulary: 5, width: 2 }, layers: [{ cell: 'gru', hidden: 2 }] }, 2)).toThrowError(/numeric inputs only/);
-    expect(() => stackedDescription({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'gru', hidden: 2, bidirectional: true }] }, 2)).toThrowError(/one-way layers only/);
+    expect(() => stackedDescription({ input: { kind: 'embedding', vocabulary: 5, width: 2 }, layers: [{ cell: 'gru', hidden: 2 }] }, 2)).toThrowError(
+      /numeric inputs only/,
+    );
+    expect(() => stackedDescription({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'gru', hidden: 2, bidirectional: true }] }, 2)).toThrowError(
+      /one-way layers only/,
+    );
     expect(() => stackedDescription(descriptions['LSTMs with peepholes'], 0)).toThrowError(/whole number ≥ 1/);
   });
 });

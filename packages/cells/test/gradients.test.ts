@@ -4,7 +4,7 @@
  * over a ragged batch with a given initial state.
  */
 import { describe, expect, it } from 'vitest';
-import { Random, Tape, checkGradients } from '@weft/core';
+import { Random, type Tape, checkGradients } from '@weft/core';
 import type { GradientReport, Tensor } from '@weft/core';
 import { runSequence } from '@weft/cells';
 import type { CellMode } from '@weft/cells';
@@ -40,7 +40,14 @@ describe('cell gradients (f64 finite differences, ragged lengths 5, 3, 1)', () =
           });
           return total;
         };
-        const tensors = [...cell.parameters().map((p) => { p.tensor.name = p.name; return p.tensor; }), inputs, ...state];
+        const tensors = [
+          ...cell.parameters().map((p) => {
+            p.tensor.name = p.name;
+            return p.tensor;
+          }),
+          inputs,
+          ...state,
+        ];
         expectPass(checkGradients(loss, tensors, { directions: 2 }));
       });
     }

@@ -5,7 +5,12 @@ import { describeAgainstOnnxEquations } from './onnx-seeded.js';
 describe('the GRU cell', () => {
   it('holds input [I, 3H], bias [3H], recurrent [H, 2H], recurrentCandidate [H, H] and carries h', () => {
     const cell = new GruCell({ inputWidth: 3, hidden: 4 });
-    expect(cell.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`)).toEqual(['input [3, 12]', 'bias [12]', 'recurrent [4, 8]', 'recurrentCandidate [4, 4]']);
+    expect(cell.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`)).toEqual([
+      'input [3, 12]',
+      'bias [12]',
+      'recurrent [4, 8]',
+      'recurrentCandidate [4, 4]',
+    ]);
     expect(cell.state).toEqual([{ name: 'h', width: 4 }]);
     expect(cell.recurrentCandidateBias).toBeNull();
   });

@@ -1,5 +1,5 @@
 /** Shared builders for the cells tests. */
-import { Random, Tape, add } from '@weft/core';
+import { Random, type Tape, add } from '@weft/core';
 import type { Tensor } from '@weft/core';
 import { GruCell, LstmCell, PlainCell } from '@weft/cells';
 import type { CellMode, RecurrentCell } from '@weft/cells';

@@ -4,16 +4,22 @@ import { GruCell, LstmCell, PlainCell, glorotBound, orthogonalMatrix } from '@we
 
 /** WᵀW for the H×H block at columns [c0, c0 + H) of a [H, stride] row-major buffer, in f64. */
 function gram(data: ArrayLike<number>, stride: number, size: number, c0: number): number[][] {
-  return Array.from({ length: size }, (_, i) => Array.from({ length: size }, (_, j) => {
-    let s = 0;
-    for (let r = 0; r < size; r++) s += data[r * stride + c0 + i] * data[r * stride + c0 + j];
-    return s;
-  }));
+  return Array.from({ length: size }, (_, i) =>
+    Array.from({ length: size }, (_, j) => {
+      let s = 0;
+      for (let r = 0; r < size; r++) s += data[r * stride + c0 + i] * data[r * stride + c0 + j];
+      return s;
+    }),
+  );
 }
 
 function worstFromIdentity(m: number[][]): number {
   let worst = 0;
-  m.forEach((row, i) => row.forEach((v, j) => { worst = Math.max(worst, Math.abs(v - (i === j ? 1 : 0))); }));
+  m.forEach((row, i) =>
+    row.forEach((v, j) => {
+      worst = Math.max(worst, Math.abs(v - (i === j ? 1 : 0)));
+    }),
+  );
   return worst;
 }
 

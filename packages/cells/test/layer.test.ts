@@ -10,7 +10,13 @@ const H = 5;
 const lengths = Int32Array.of(6, 4, 0);
 
 describe('sequence layers', () => {
-  const model = buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 4 }, { cell: 'gru', hidden: 2, bidirectional: true }] });
+  const model = buildModel({
+    input: { kind: 'values', width: 3 },
+    layers: [
+      { cell: 'lstm', hidden: 4 },
+      { cell: 'gru', hidden: 2, bidirectional: true },
+    ],
+  });
   const tape = new Tape();
 
   it('zeroes the outputs beyond each row length and holds the state from the last valid step', () => {
@@ -76,14 +82,22 @@ describe('sequence layers', () => {
     const random = new Random('reverse');
     const cell = new LstmCell({ inputWidth: 3, hidden: 2, random: 4 });
     const other = new LstmCell({ inputWidth: 3, hidden: 2, random: 5 });
-    const inputs = tensor(Float32Array.from({ length: 5 * 3 * 3 }, () => random.between(-1, 1)), [5, 3, 3]);
+    const inputs = tensor(
+      Float32Array.from({ length: 5 * 3 * 3 }, () => random.between(-1, 1)),
+      [5, 3, 3],
+    );
     const lengths = Int32Array.of(5, 2, 0);
     const both = runBidirectional(new Tape(), other, cell, inputs, { lengths });
     const alone = runReversed(new Tape(), cell, inputs, { lengths });
     for (let p = 0; p < 15; p++) for (let j = 0; j < 2; j++) expect(alone.outputs.data[p * 2 + j]).toBe(both.outputs.data[p * 4 + 2 + j]);
     expect(Array.from(alone.state[0].data)).toEqual(Array.from(both.state[2].data));
     const model = buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'gru', hidden: 2, reverse: true }] });
-    expect(model.parameters().map((p) => p.name)).toEqual(['layers[0].backward.input', 'layers[0].backward.bias', 'layers[0].backward.recurrent', 'layers[0].backward.recurrentCandidate']);
+    expect(model.parameters().map((p) => p.name)).toEqual([
+      'layers[0].backward.input',
+      'layers[0].backward.bias',
+      'layers[0].backward.recurrent',
+      'layers[0].backward.recurrentCandidate',
+    ]);
     expect(model.stateSlots().map((s) => s.path)).toEqual(['layers[0].backward.h']);
   });
 });

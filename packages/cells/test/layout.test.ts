@@ -8,15 +8,26 @@ import { EncoderDecoderModel, buildModel, modelLayout, parameterLayout } from '@
 import type { ModelDescription } from '@weft/cells';
 
 const descriptions: Record<string, ModelDescription> = {
-  'an LSTM with peepholes over values, with a readout': { input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 5, peepholes: true }], readout: { width: 2 } },
+  'an LSTM with peepholes over values, with a readout': {
+    input: { kind: 'values', width: 3 },
+    layers: [{ cell: 'lstm', hidden: 5, peepholes: true }],
+    readout: { width: 2 },
+  },
   'a stack of a bidirectional GRU (reset after) and a plain ReLU layer over an embedding': {
     input: { kind: 'embedding', vocabulary: 9, width: 4 },
-    layers: [{ cell: 'gru', hidden: 6, bidirectional: true, resetAfterProduct: true }, { cell: 'plain', hidden: 3, activation: 'relu' }],
+    layers: [
+      { cell: 'gru', hidden: 6, bidirectional: true, resetAfterProduct: true },
+      { cell: 'plain', hidden: 3, activation: 'relu' },
+    ],
     readout: { width: 9 },
   },
   'three layers of every cell, no readout': {
     input: { kind: 'values', width: 2 },
-    layers: [{ cell: 'plain', hidden: 4 }, { cell: 'gru', hidden: 3 }, { cell: 'lstm', hidden: 2, bidirectional: true }],
+    layers: [
+      { cell: 'plain', hidden: 4 },
+      { cell: 'gru', hidden: 3 },
+      { cell: 'lstm', hidden: 2, bidirectional: true },
+    ],
   },
 };
 
@@ -26,7 +37,9 @@ describe('the layout of a description', () => {
       const model = buildModel(description, { seed: 1 });
       const layout = modelLayout(description);
       expect(layout.builtIn).toBe(true);
-      expect(layout.parameters.map((p) => `${p.name} [${p.shape.join(', ')}]`)).toEqual(model.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`));
+      expect(layout.parameters.map((p) => `${p.name} [${p.shape.join(', ')}]`)).toEqual(
+        model.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`),
+      );
       expect(layout.outputWidth).toBe(model.outputWidth);
     });
   }
@@ -38,17 +51,19 @@ describe('the layout of a description', () => {
     ]);
   });
 
-  it('names an encoder-decoder\'s parameters encoder first, then decoder, as the model does', () => {
+  it("names an encoder-decoder's parameters encoder first, then decoder, as the model does", () => {
     const description = {
       kind: 'encoder-decoder' as const,
       encoder: { input: { kind: 'embedding' as const, vocabulary: 6, width: 3 }, layers: [{ cell: 'lstm' as const, hidden: 4 }] },
       decoder: { input: { kind: 'embedding' as const, vocabulary: 7, width: 3 }, layers: [{ cell: 'lstm' as const, hidden: 4 }], readout: { width: 7 } },
     };
     const model = new EncoderDecoderModel(description, { seed: 2 });
-    expect(parameterLayout(description).parameters.map((p) => `${p.name} [${p.shape.join(', ')}]`)).toEqual(model.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`));
+    expect(parameterLayout(description).parameters.map((p) => `${p.name} [${p.shape.join(', ')}]`)).toEqual(
+      model.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`),
+    );
   });
 
-  it('says when a layer\'s cell is not built in, so its parameters cannot be known from the description', () => {
+  it("says when a layer's cell is not built in, so its parameters cannot be known from the description", () => {
     expect(modelLayout({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'mine' as 'lstm', hidden: 3 }] }).builtIn).toBe(false);
   });
 });

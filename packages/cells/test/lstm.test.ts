@@ -5,8 +5,16 @@ import { describeAgainstOnnxEquations } from './onnx-seeded.js';
 describe('the LSTM cell', () => {
   it('holds input [I, 4H], recurrent [H, 4H], bias [4H] and, with peepholes, peephole [3H], and carries h and c', () => {
     const cell = new LstmCell({ inputWidth: 3, hidden: 5, peepholes: true });
-    expect(cell.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`)).toEqual(['input [3, 20]', 'recurrent [5, 20]', 'bias [20]', 'peephole [15]']);
-    expect(cell.state).toEqual([{ name: 'h', width: 5 }, { name: 'c', width: 5 }]);
+    expect(cell.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`)).toEqual([
+      'input [3, 20]',
+      'recurrent [5, 20]',
+      'bias [20]',
+      'peephole [15]',
+    ]);
+    expect(cell.state).toEqual([
+      { name: 'h', width: 5 },
+      { name: 'c', width: 5 },
+    ]);
     expect([cell.kind, cell.inputWidth, cell.hidden]).toEqual(['lstm', 3, 5]);
     expect(new LstmCell({ inputWidth: 3, hidden: 5 }).peephole).toBeNull();
   });

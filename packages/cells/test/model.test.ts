@@ -39,8 +39,12 @@ describe('models built from a description', () => {
       'readout.bias [5]',
     ]);
     expect(model.stateSlots().map((s) => s.path)).toEqual([
-      'layers[0].forward.h', 'layers[0].forward.c', 'layers[0].backward.h', 'layers[0].backward.c',
-      'layers[1].forward.h', 'layers[1].backward.h',
+      'layers[0].forward.h',
+      'layers[0].forward.c',
+      'layers[0].backward.h',
+      'layers[0].backward.c',
+      'layers[1].forward.h',
+      'layers[1].backward.h',
     ]);
   });
 
@@ -73,7 +77,10 @@ describe('models built from a description', () => {
       const { outputs } = model.run(tape, { tokens, steps, batch }, { lengths, training: true, random: new Random('dropout') });
       return crossEntropyAtTargets(tape, reshape(tape, outputs, [steps * batch, 5]), targets, { weights: mask });
     };
-    const tensors = model.parameters().map((p) => { p.tensor.name = p.name; return p.tensor; });
+    const tensors = model.parameters().map((p) => {
+      p.tensor.name = p.name;
+      return p.tensor;
+    });
     // The mean loss is about 1.6 while many entries of its gradient are near 1e-5; at h = 1e-5 the
     // finite-difference noise (≈ ε·|f|/h ≈ 3e-11) alone is a relative 4e-6 of those. h = 1e-4 cuts the noise
     // tenfold while the O(h²) truncation stays near 1e-8 relative.

@@ -15,7 +15,15 @@ import type { GruCell, LstmCell, PlainCell } from '@weft/cells';
 type Flat = ArrayLike<number>;
 
 /** ours[k, block·H + j] = onnx[(onnxBlock·H + j)·width + k], for each of our blocks. */
-function transposeBlocks(target: Float32Array | Float64Array, targetCols: number, source: Flat, width: number, hidden: number, blocks: readonly number[], firstColumnBlock = 0): void {
+function transposeBlocks(
+  target: Float32Array | Float64Array,
+  targetCols: number,
+  source: Flat,
+  width: number,
+  hidden: number,
+  blocks: readonly number[],
+  firstColumnBlock = 0,
+): void {
   blocks.forEach((onnxBlock, ours) => {
     for (let j = 0; j < hidden; j++) {
       for (let k = 0; k < width; k++) target[k * targetCols + (firstColumnBlock + ours) * hidden + j] = source[(onnxBlock * hidden + j) * width + k];

@@ -16,7 +16,7 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { Tape, tensor } from '@weft/core';
 import type { DType, Tensor } from '@weft/core';
-import { GruCell, LstmCell, PlainCell, runBidirectional, runSequence } from '@weft/cells';
+import { GruCell, LstmCell, PlainCell, runSequence } from '@weft/cells';
 import type { RecurrentCell } from '@weft/cells';
 import { loadGru, loadLstm, loadPlain } from './onnx-mapping.js';
 import { specGru, specLstm, specRnn } from './onnx-equations.js';
@@ -38,7 +38,9 @@ interface OnnxCase {
 }
 
 const cases: OnnxCase[] = existsSync(folder)
-  ? readdirSync(folder).filter((name) => existsSync(join(folder, name, 'case.json'))).sort()
+  ? readdirSync(folder)
+      .filter((name) => existsSync(join(folder, name, 'case.json')))
+      .sort()
       .map((name) => JSON.parse(readFileSync(join(folder, name, 'case.json'), 'utf8')) as OnnxCase)
   : [];
 
@@ -79,7 +81,8 @@ function sequenceOf(c: OnnxCase, dtype: DType): Tensor {
   if ((c.attributes.layout ?? 0) === 0) return tensor(data, dims, dtype);
   const [batch, steps, width] = dims;
   const values = new Array<number>(data.length);
-  for (let b = 0; b < batch; b++) for (let t = 0; t < steps; t++) for (let k = 0; k < width; k++) values[(t * batch + b) * width + k] = data[(b * steps + t) * width + k];
+  for (let b = 0; b < batch; b++)
+    for (let t = 0; t < steps; t++) for (let k = 0; k < width; k++) values[(t * batch + b) * width + k] = data[(b * steps + t) * width + k];
   return tensor(values, [steps, batch, width], dtype);
 }
 
@@ -95,7 +98,8 @@ function asStoredY(c: OnnxCase, outputs: Tensor): number[] {
   const [steps, batch, hidden] = outputs.shape;
   if ((c.attributes.layout ?? 0) === 0) return Array.from(outputs.data);
   const values = new Array<number>(outputs.size);
-  for (let b = 0; b < batch; b++) for (let t = 0; t < steps; t++) for (let j = 0; j < hidden; j++) values[(b * steps + t) * hidden + j] = outputs.data[(t * batch + b) * hidden + j];
+  for (let b = 0; b < batch; b++)
+    for (let t = 0; t < steps; t++) for (let j = 0; j < hidden; j++) values[(b * steps + t) * hidden + j] = outputs.data[(t * batch + b) * hidden + j];
   return values;
 }
 
@@ -158,12 +162,15 @@ describe('ONNX backend test vectors', () => {
 
   for (const c of cases) {
     const reason = unsupported(c);
-    it.skipIf(reason !== null)(`${c.case}: stored outputs ${Object.keys(c.outputs).join(', ')} within 1e-5 in f32${reason ? ` (skipped: ${reason})` : ''}`, () => {
-      const produced = runCase(c, 'f32');
-      for (const [name, stored] of Object.entries(c.outputs)) {
-        expect(maxGap(produced[name], stored.data)).toBeLessThanOrEqual(1e-5);
-      }
-    });
+    it.skipIf(reason !== null)(
+      `${c.case}: stored outputs ${Object.keys(c.outputs).join(', ')} within 1e-5 in f32${reason ? ` (skipped: ${reason})` : ''}`,
+      () => {
+        const produced = runCase(c, 'f32');
+        for (const [name, stored] of Object.entries(c.outputs)) {
+          expect(maxGap(produced[name], stored.data)).toBeLessThanOrEqual(1e-5);
+        }
+      },
+    );
 
     it.skipIf(reason !== null)(`${c.case}: in f64, within 1e-9 of the specification's equations and within 1e-7 of the float32 stored outputs`, () => {
       const produced = runCase(c, 'f64');

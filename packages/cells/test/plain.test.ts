@@ -12,7 +12,9 @@ describe('the plain recurrent cell', () => {
   });
 
   it('refuses an activation other than tanh and ReLU, by name', () => {
-    expect(() => new PlainCell({ inputWidth: 2, hidden: 3, activation: 'sigmoid' as 'tanh' })).toThrowError(/^Invalid option at plain\.activation: expected 'tanh' or 'relu'/);
+    expect(() => new PlainCell({ inputWidth: 2, hidden: 3, activation: 'sigmoid' as 'tanh' })).toThrowError(
+      /^Invalid option at plain\.activation: expected 'tanh' or 'relu'/,
+    );
   });
 });
 

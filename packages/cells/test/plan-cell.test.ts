@@ -4,9 +4,14 @@ import { LstmCell, PlanCell, buildModel, builtInPlans, runSequence } from '@weft
 import { mguPlan, mguReference } from './plans/mgu.js';
 
 describe('a plan on the tape', () => {
-  it('trains a cell of your own from its plan: parameters of the plan\'s shapes, a step that follows its equations', () => {
+  it("trains a cell of your own from its plan: parameters of the plan's shapes, a step that follows its equations", () => {
     const cell = new PlanCell({ plan: mguPlan, inputWidth: 3, hidden: 4, dtype: 'f64', random: 3, name: 'layers[0].forward' });
-    expect(cell.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`)).toEqual(['input [3, 8]', 'bias [8]', 'recurrentGate [4, 4]', 'recurrentCandidate [4, 4]']);
+    expect(cell.parameters().map((p) => `${p.name} [${p.tensor.shape.join(', ')}]`)).toEqual([
+      'input [3, 8]',
+      'bias [8]',
+      'recurrentGate [4, 4]',
+      'recurrentCandidate [4, 4]',
+    ]);
     const random = new Random('plan-cell');
     for (const p of cell.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] = random.between(-0.7, 0.7);
     const x = Array.from({ length: 2 }, () => Array.from({ length: 3 }, () => random.between(-1, 1)));
@@ -21,9 +26,20 @@ describe('a plan on the tape', () => {
   it('gives gradients that central finite differences confirm (f64, over a ragged sequence)', () => {
     const cell = new PlanCell({ plan: mguPlan, inputWidth: 3, hidden: 5, dtype: 'f64', random: 11 });
     const random = new Random('plan-cell-gradients');
-    const inputs = tensor(Float64Array.from({ length: 6 * 2 * 3 }, () => random.between(-1, 1)), [6, 2, 3], 'f64');
-    const weights = tensor(Float64Array.from({ length: 6 * 2 * 5 }, () => random.between(-1, 1)), [6, 2, 5], 'f64');
-    const report = checkGradients((tape) => sum(tape, multiply(tape, runSequence(tape, cell, inputs, { lengths: [6, 4] }).outputs, weights)), cell.parameters().map((p) => p.tensor));
+    const inputs = tensor(
+      Float64Array.from({ length: 6 * 2 * 3 }, () => random.between(-1, 1)),
+      [6, 2, 3],
+      'f64',
+    );
+    const weights = tensor(
+      Float64Array.from({ length: 6 * 2 * 5 }, () => random.between(-1, 1)),
+      [6, 2, 5],
+      'f64',
+    );
+    const report = checkGradients(
+      (tape) => sum(tape, multiply(tape, runSequence(tape, cell, inputs, { lengths: [6, 4] }).outputs, weights)),
+      cell.parameters().map((p) => p.tensor),
+    );
     expect(report.tensors.map((t) => t.name)).toEqual(['input', 'bias', 'recurrentGate', 'recurrentCandidate']);
     expect(report.passed).toBe(true);
   });
@@ -35,28 +51,61 @@ describe('a plan on the tape', () => {
     expect(Math.max(...Array.from(input, Math.abs))).toBeLessThanOrEqual(Math.sqrt(6 / 7));
     expect(Array.from(bias)).toEqual(new Array(8).fill(0));
     // Orthogonal: RᵀR = I (Saxe et al. 2014).
-    for (let i = 0; i < 4; i++) for (let j = 0; j < 4; j++) {
-      let dot = 0;
-      for (let k = 0; k < 4; k++) dot += gate[k * 4 + i] * gate[k * 4 + j];
-      expect(Math.abs(dot - (i === j ? 1 : 0))).toBeLessThan(1e-6);
-    }
+    for (let i = 0; i < 4; i++)
+      for (let j = 0; j < 4; j++) {
+        let dot = 0;
+        for (let k = 0; k < 4; k++) dot += gate[k * 4 + i] * gate[k * 4 + j];
+        expect(Math.abs(dot - (i === j ? 1 : 0))).toBeLessThan(1e-6);
+      }
   });
 
-  it('runs the LSTM plan on the tape as the LSTM cell\'s composed step, which is that plan', () => {
+  it("runs the LSTM plan on the tape as the LSTM cell's composed step, which is that plan", () => {
     const lstm = new LstmCell({ inputWidth: 2, hidden: 3, random: 2, mode: 'composed', peepholes: true });
-    const asPlan = new PlanCell({ plan: { ...builtInPlans.lstm, kind: 'test.lstm' }, layer: { cell: 'test.lstm', hidden: 3, peepholes: true }, inputWidth: 2, hidden: 3, random: 2 });
+    const asPlan = new PlanCell({
+      plan: { ...builtInPlans.lstm, kind: 'test.lstm' },
+      layer: { cell: 'test.lstm', hidden: 3, peepholes: true },
+      inputWidth: 2,
+      hidden: 3,
+      random: 2,
+    });
     for (const [i, p] of asPlan.parameters().entries()) p.tensor.data.set(lstm.parameters()[i].tensor.data);
-    const x = tensor([[0.3, -0.2], [0.9, 0.1]]);
-    const state = [tensor([[0.1, 0.2, -0.3], [0, 0.5, 0.2]]), tensor([[0.4, -0.1, 0.3], [0.2, 0.2, -0.6]])];
+    const x = tensor([
+      [0.3, -0.2],
+      [0.9, 0.1],
+    ]);
+    const state = [
+      tensor([
+        [0.1, 0.2, -0.3],
+        [0, 0.5, 0.2],
+      ]),
+      tensor([
+        [0.4, -0.1, 0.3],
+        [0.2, 0.2, -0.6],
+      ]),
+    ];
     const a = lstm.step(new Tape({ recording: false }), x, state).state;
     const b = asPlan.step(new Tape({ recording: false }), x, state).state;
     expect(Array.from(b[0].data)).toEqual(Array.from(a[0].data));
     expect(Array.from(b[1].data)).toEqual(Array.from(a[1].data));
   });
 
-  it('builds a model of a plan\'s cells, and refuses a plan filed under another kind or a built-in word, naming it', () => {
-    const model = buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'test.mgu', hidden: 3, bidirectional: true }], readout: { width: 1 } }, { plans: { 'test.mgu': mguPlan } });
-    expect(model.parameters().map((p) => p.name).slice(0, 5)).toEqual(['layers[0].forward.input', 'layers[0].forward.bias', 'layers[0].forward.recurrentGate', 'layers[0].forward.recurrentCandidate', 'layers[0].backward.input']);
+  it("builds a model of a plan's cells, and refuses a plan filed under another kind or a built-in word, naming it", () => {
+    const model = buildModel(
+      { input: { kind: 'values', width: 2 }, layers: [{ cell: 'test.mgu', hidden: 3, bidirectional: true }], readout: { width: 1 } },
+      { plans: { 'test.mgu': mguPlan } },
+    );
+    expect(
+      model
+        .parameters()
+        .map((p) => p.name)
+        .slice(0, 5),
+    ).toEqual([
+      'layers[0].forward.input',
+      'layers[0].forward.bias',
+      'layers[0].forward.recurrentGate',
+      'layers[0].forward.recurrentCandidate',
+      'layers[0].backward.input',
+    ]);
     const refused = (plans: Record<string, unknown>): string => {
       try {
         buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'test.mgu', hidden: 3 }] }, { plans: plans as never });

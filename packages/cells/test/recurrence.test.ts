@@ -20,11 +20,18 @@ describe('what the built-in cells share: their options and the checks at their b
     expect(() => new GruCell({ inputWidth: 3, hidden: 4097, name: 'layers[0].forward' })).toThrowError(
       'Invalid option at layers[0].forward.hidden: expected a whole number from 1 to 4096, received 4097',
     );
-    expect(() => new PlainCell({ inputWidth: 3, hidden: 0 })).toThrowError('Invalid option at plain.hidden: expected a whole number from 1 to 4096, received 0');
+    expect(() => new PlainCell({ inputWidth: 3, hidden: 0 })).toThrowError(
+      'Invalid option at plain.hidden: expected a whole number from 1 to 4096, received 0',
+    );
     expect(() => buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 4097 }] })).toThrowError(
       'Invalid option at description.layers[0].hidden: expected a whole number from 1 to 4096, received 4097',
     );
-    expect([hiddenProblem(1), hiddenProblem(4096), hiddenProblem(4096.5), hiddenProblem('8')]).toEqual([null, null, 'a whole number from 1 to 4096', 'a whole number from 1 to 4096']);
+    expect([hiddenProblem(1), hiddenProblem(4096), hiddenProblem(4096.5), hiddenProblem('8')]).toEqual([
+      null,
+      null,
+      'a whole number from 1 to 4096',
+      'a whole number from 1 to 4096',
+    ]);
   });
 
   it('refuses the option names of earlier versions by name, so a program written for them learns the new word', () => {
@@ -36,7 +43,11 @@ describe('what the built-in cells share: their options and the checks at their b
 
   it('names the state slot and both shapes for a step given a wrong state', () => {
     const cell = new LstmCell({ inputWidth: 3, hidden: 4, name: 'layers[0].forward' });
-    expect(() => cell.step(tape, zeros([2, 3]), [zeros([2, 4]), zeros([2, 5])])).toThrowError('Shape mismatch at layers[0].forward.state.c: expected [2, 4], received [2, 5]');
-    expect(() => cell.step(tape, zeros([2, 3]), [zeros([2, 4])])).toThrowError('Invalid argument at layers[0].forward.state: expected 2 tensors (h, c), received 1');
+    expect(() => cell.step(tape, zeros([2, 3]), [zeros([2, 4]), zeros([2, 5])])).toThrowError(
+      'Shape mismatch at layers[0].forward.state.c: expected [2, 4], received [2, 5]',
+    );
+    expect(() => cell.step(tape, zeros([2, 3]), [zeros([2, 4])])).toThrowError(
+      'Invalid argument at layers[0].forward.state: expected 2 tensors (h, c), received 1',
+    );
   });
 });

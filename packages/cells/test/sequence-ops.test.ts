@@ -23,13 +23,23 @@ describe('the last valid step of each row', () => {
 
   it('is what the tape operation computes, and the operation passes gradients back to those steps only (finite differences)', () => {
     const lengths = Int32Array.of(2, 3, 1);
-    const sequence = trainable(tensor(Array.from(data, (v) => v / 100), [steps, rows, width], 'f64'), 'sequence');
+    const sequence = trainable(
+      tensor(
+        Array.from(data, (v) => v / 100),
+        [steps, rows, width],
+        'f64',
+      ),
+      'sequence',
+    );
     const picked = lastSteps(new Tape({ recording: false }), sequence, lengths);
     expect(Array.from(picked.data)).toEqual(Array.from(copyLastSteps(new Float64Array(rows * width), sequence.data, lengths, steps, rows, width)));
-    const report = checkGradients((tape) => {
-      const last = lastSteps(tape, sequence, lengths);
-      return sum(tape, multiply(tape, last, last));
-    }, [sequence]);
+    const report = checkGradients(
+      (tape) => {
+        const last = lastSteps(tape, sequence, lengths);
+        return sum(tape, multiply(tape, last, last));
+      },
+      [sequence],
+    );
     expect(report.passed).toBe(true);
   });
 });

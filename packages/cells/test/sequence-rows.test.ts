@@ -22,7 +22,7 @@ describe('the ragged convention on plain arrays', () => {
     expect(Array.from(twice)).toEqual(Array.from(valid));
   });
 
-  it('accumulates the adjoint of each map for the gradient: ⟨A x, y⟩ = ⟨x, Aᵀ y⟩ (a map\'s transpose, common practice)', () => {
+  it("accumulates the adjoint of each map for the gradient: ⟨A x, y⟩ = ⟨x, Aᵀ y⟩ (a map's transpose, common practice)", () => {
     const dot = (a: Float64Array, b: Float64Array): number => a.reduce((n, v, i) => n + v * b[i], 0);
     const x = sequence();
     const y = sequence();

@@ -32,5 +32,5 @@ for (let i = 0; i < 42 * perDay; i++) {
   const stamp = new Date(Date.UTC(2026, 3, 1) + i * 15 * 60 * 1000).toISOString().slice(0, 16);
   rows.push([stamp, temperature.toFixed(2), humidity.toFixed(1), soil.toFixed(2), light.toFixed(2)].join(','));
 }
-writeFileSync(new URL('./greenhouse.csv', import.meta.url), rows.join('\n') + '\n');
+writeFileSync(new URL('./greenhouse.csv', import.meta.url), `${rows.join('\n')}\n`);
 console.log(`wrote ${rows.length - 1} rows`);

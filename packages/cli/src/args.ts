@@ -39,7 +39,8 @@ export function parseArgs(verb: string, argv: readonly string[], specs: readonly
     }
     if (token.kind === 'option-terminator') continue;
     const spec = known.get(token.name);
-    if (spec === undefined || !token.rawName.startsWith('--')) throw new CommandError(`unknown flag ${token.rawName} for weft ${verb} (see weft ${verb} --help)`, 2);
+    if (spec === undefined || !token.rawName.startsWith('--'))
+      throw new CommandError(`unknown flag ${token.rawName} for weft ${verb} (see weft ${verb} --help)`, 2);
     if (flags.has(spec.name) || switches.has(spec.name)) throw new CommandError(`flag --${spec.name} of weft ${verb} is given twice; give it once`, 2);
     if (spec.switch === true) {
       if (token.inlineValue === true) throw new CommandError(`flag --${spec.name} of weft ${verb} takes no value`, 2);
@@ -47,7 +48,8 @@ export function parseArgs(verb: string, argv: readonly string[], specs: readonly
       continue;
     }
     const value = token.value;
-    if (value === undefined || (token.inlineValue !== true && value.startsWith('--'))) throw new CommandError(`flag --${spec.name} of weft ${verb} needs a value (${spec.value ?? 'VALUE'})`, 2);
+    if (value === undefined || (token.inlineValue !== true && value.startsWith('--')))
+      throw new CommandError(`flag --${spec.name} of weft ${verb} needs a value (${spec.value ?? 'VALUE'})`, 2);
     flags.set(spec.name, value);
   }
   return { flags, switches, positional };

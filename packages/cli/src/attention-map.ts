@@ -6,7 +6,7 @@
 
 const CELL = 22;
 
-function escape(text: string): string {
+function xmlText(text: string): string {
   return text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;').replace(/"/g, '&quot;');
 }
 
@@ -22,19 +22,24 @@ export function attentionMapSvg(source: readonly string[], output: readonly stri
   const top = Math.max(3, ...source.map((t) => t.length)) * 8 + 28;
   const width = label + source.length * CELL + 8;
   const height = top + output.length * CELL + 8;
-  const parts = [`<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" font-family="sans-serif" font-size="12">`,
-    `<title>${escape(title)}</title>`, `<text x="4" y="14">${escape(title)}</text>`];
+  const parts = [
+    `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" font-family="sans-serif" font-size="12">`,
+    `<title>${xmlText(title)}</title>`,
+    `<text x="4" y="14">${xmlText(title)}</text>`,
+  ];
   source.forEach((token, s) => {
     const x = label + s * CELL + CELL / 2;
-    parts.push(`<text transform="translate(${x},${top - 4}) rotate(-90)">${escape(token)}</text>`);
+    parts.push(`<text transform="translate(${x},${top - 4}) rotate(-90)">${xmlText(token)}</text>`);
   });
   output.forEach((token, t) => {
     const y = top + t * CELL;
-    parts.push(`<text x="${label - 4}" y="${y + CELL / 2 + 4}" text-anchor="end">${escape(token)}</text>`);
+    parts.push(`<text x="${label - 4}" y="${y + CELL / 2 + 4}" text-anchor="end">${xmlText(token)}</text>`);
     source.forEach((_, s) => {
       const w = Math.min(1, Math.max(0, Number(weights[t * source.length + s]) || 0));
       const shade = Math.round(255 * (1 - w));
-      parts.push(`<rect x="${label + s * CELL}" y="${y}" width="${CELL}" height="${CELL}" fill="rgb(${shade},${shade},255)" stroke="#ddd"><title>${escape(token)} ← ${escape(source[s])}: ${w.toFixed(3)}</title></rect>`);
+      parts.push(
+        `<rect x="${label + s * CELL}" y="${y}" width="${CELL}" height="${CELL}" fill="rgb(${shade},${shade},255)" stroke="#ddd"><title>${xmlText(token)} ← ${xmlText(source[s])}: ${w.toFixed(3)}</title></rect>`,
+      );
     });
   });
   parts.push('</svg>');

@@ -14,7 +14,11 @@ import { CommandError } from './errors.js';
 import { loadUserModule, makerExport } from './user-module.js';
 
 export const checkFlags: FlagSpec[] = [
-  { name: 'module', value: 'FILE', description: 'check the cell your module makes instead of the built-in cells (JavaScript; TypeScript on Node 22.18+, or with tsx installed beside it)' },
+  {
+    name: 'module',
+    value: 'FILE',
+    description: 'check the cell your module makes instead of the built-in cells (JavaScript; TypeScript on Node 22.18+, or with tsx installed beside it)',
+  },
   { name: 'export', value: 'NAME', description: 'the export that makes the cell', fallback: 'default' },
   { name: 'inputs', value: 'NUMBER', description: 'input width for the check', fallback: '3' },
   { name: 'hidden', value: 'NUMBER', description: 'hidden size for the check', fallback: '4' },
@@ -23,7 +27,7 @@ export const checkFlags: FlagSpec[] = [
   { name: 'step', value: 'NUMBER', description: 'the finite-difference step h (Richardson extrapolation adds h/2 where needed)', fallback: '1e-5' },
   { name: 'floor', value: 'NUMBER', description: 'an absolute error under this passes whatever its relative error', fallback: '1e-9' },
   { name: 'entries', value: 'NUMBER', description: 'check at most this many entries of each tensor, drawn by the seed', fallback: 'every entry' },
-  { name: 'seed', value: 'TEXT', description: 'seed of the check\'s inputs, weights and drawn entries', fallback: 'the cell\'s name' },
+  { name: 'seed', value: 'TEXT', description: "seed of the check's inputs, weights and drawn entries", fallback: "the cell's name" },
   { name: 'report', value: 'summary|table', description: 'summary: a line per tensor; table: also every failing entry with both values', fallback: 'summary' },
   backendFlag,
   { name: 'quiet', switch: true, description: 'print only the result line (and the reports of checks that fail)' },
@@ -58,24 +62,36 @@ export function checkCell(cell: RecurrentCell, options: CellCheckOptions): Gradi
   });
   const weights = randomUniform([steps, batch, cell.hidden], random, -1, 1, 'f64');
   const lengths = [steps, Math.max(1, steps - 2), 1];
-  const tensors: Tensor[] = [...cell.parameters().map((p) => {
-    p.tensor.name = p.name;
-    return p.tensor;
-  }), inputs, ...state];
+  const tensors: Tensor[] = [
+    ...cell.parameters().map((p) => {
+      p.tensor.name = p.name;
+      return p.tensor;
+    }),
+    inputs,
+    ...state,
+  ];
   for (const t of tensors) {
     if (t.dtype !== 'f64') throw new CommandError(`the cell's parameter ${t.name} is ${t.dtype}; make it in the dtype the request gives (f64)`);
   }
-  return checkGradients((tape: Tape) => {
-    const result = runSequence(tape, cell, inputs, { lengths, initialState: state });
-    let total = sum(tape, multiply(tape, result.outputs, weights));
-    for (const s of result.state) total = add(tape, total, sum(tape, multiply(tape, s, s)));
-    return total;
-  }, tensors, { ...options, directions: 2, seed });
+  return checkGradients(
+    (tape: Tape) => {
+      const result = runSequence(tape, cell, inputs, { lengths, initialState: state });
+      let total = sum(tape, multiply(tape, result.outputs, weights));
+      for (const s of result.state) total = add(tape, total, sum(tape, multiply(tape, s, s)));
+      return total;
+    },
+    tensors,
+    { ...options, directions: 2, seed },
+  );
 }
 
 /** Every failing entry of a report as table rows: tensor, index, reverse value, finite difference, relative error. */
 function failureTable(report: GradientReport): string {
-  const rows = report.tensors.flatMap((t) => t.failed.map((f) => `  ${t.name}[${f.index.join(', ')}]  reverse ${f.analytic}  finite difference ${f.numeric}  relative error ${f.relativeError.toExponential(2)}`));
+  const rows = report.tensors.flatMap((t) =>
+    t.failed.map(
+      (f) => `  ${t.name}[${f.index.join(', ')}]  reverse ${f.analytic}  finite difference ${f.numeric}  relative error ${f.relativeError.toExponential(2)}`,
+    ),
+  );
   return rows.length === 0 ? '' : `\nfailing entries (at most ${MAX_FAILED_SHOWN} per tensor, the worst first):\n${rows.join('\n')}`;
 }
 
@@ -99,7 +115,9 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
     try {
       cell = maker({ inputWidth, hidden, dtype: 'f64' });
     } catch (error) {
-      throw new CommandError(`${modulePath}: export ${JSON.stringify(name)} threw when asked for a cell of ${inputWidth} inputs and ${hidden} hidden in f64: ${(error as Error).message.split('\n')[0]}`);
+      throw new CommandError(
+        `${modulePath}: export ${JSON.stringify(name)} threw when asked for a cell of ${inputWidth} inputs and ${hidden} hidden in f64: ${(error as Error).message.split('\n')[0]}`,
+      );
     }
     if (typeof cell !== 'object' || cell === null || typeof cell.step !== 'function' || typeof cell.parameters !== 'function' || !Array.isArray(cell.state)) {
       throw new CommandError(`${modulePath}: export ${JSON.stringify(name)} did not return a cell (an object with state, parameters() and step())`);
@@ -109,7 +127,8 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
     for (const mode of ['fused', 'composed'] as const) {
       const random = new Random(`check-${mode}`);
       const shake = (cell: RecurrentCell) => {
-        for (const p of cell.parameters()) if (p.name !== 'input' && p.name !== 'recurrent') for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.4, 0.4);
+        for (const p of cell.parameters())
+          if (p.name !== 'input' && p.name !== 'recurrent') for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.4, 0.4);
         return cell;
       };
       const base = { inputWidth, hidden, dtype: 'f64' as const, mode };
@@ -125,10 +144,19 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
   const parts: string[] = [];
   let passed = true;
   for (const [label, cell] of cells) {
-    const report = checkCell(cell, { steps, tolerance, step, absoluteFloor, ...(entries === undefined ? {} : { entriesPerTensor: entries }), seed: args.flags.get('seed') ?? label });
+    const report = checkCell(cell, {
+      steps,
+      tolerance,
+      step,
+      absoluteFloor,
+      ...(entries === undefined ? {} : { entriesPerTensor: entries }),
+      seed: args.flags.get('seed') ?? label,
+    });
     passed = passed && report.passed;
     if (!args.switches.has('quiet') || !report.passed) parts.push(`${label}:\n${report.text()}${table ? failureTable(report) : ''}`);
   }
-  parts.push(`${passed ? `all ${cells.length} gradient checks passed` : 'GRADIENT CHECK FAILED'} (backend ${backend.name}; finite differences in f64 run on the JavaScript kernels on every backend)`);
+  parts.push(
+    `${passed ? `all ${cells.length} gradient checks passed` : 'GRADIENT CHECK FAILED'} (backend ${backend.name}; finite differences in f64 run on the JavaScript kernels on every backend)`,
+  );
   return { text: parts.join('\n\n'), passed };
 }

@@ -40,7 +40,8 @@ export function readBytes(path: string): Uint8Array {
       } finally {
         closeSync(handle);
       }
-      if (!isWeightFileText(head, path)) throw new CommandError(`${shown(path)}: ${(size / 1048576).toFixed(1)} MB; weft reads ONNX files of at most ${MAX_ONNX_BYTES / 1048576} MB`);
+      if (!isWeightFileText(head, path))
+        throw new CommandError(`${shown(path)}: ${(size / 1048576).toFixed(1)} MB; weft reads ONNX files of at most ${MAX_ONNX_BYTES / 1048576} MB`);
     }
     return readFileSync(path);
   } catch (error) {
@@ -67,7 +68,10 @@ export function isWeightFileText(bytes: Uint8Array, path = ''): boolean {
 /** The `--values` flag: graph input names and the TensorProto files that hold their values. */
 function givenValues(args: ParsedArgs): Record<string, OnnxTensor> {
   const values: Record<string, OnnxTensor> = {};
-  for (const pair of (args.flags.get('values') ?? '').split(',').map((s) => s.trim()).filter((s) => s !== '')) {
+  for (const pair of (args.flags.get('values') ?? '')
+    .split(',')
+    .map((s) => s.trim())
+    .filter((s) => s !== '')) {
     const at = pair.indexOf('=');
     if (at <= 0) throw new CommandError(`--values takes NAME=FILE pairs separated by commas; got ${JSON.stringify(pair)}`, 2);
     values[pair.slice(0, at)] = decodeOnnxTensor(readBytes(pair.slice(at + 1)), pair.slice(at + 1));
@@ -78,7 +82,9 @@ function givenValues(args: ParsedArgs): Record<string, OnnxTensor> {
 /** One line describing an imported model: its layers and what it reads and gives. */
 export function importSummary(imported: OnnxImport): string {
   const d = imported.description;
-  const layers = d.layers.map((l) => `${l.cell === 'plain' ? `plain ${l.activation ?? 'tanh'}` : l.cell.toUpperCase()} ${l.hidden}${l.bidirectional === true ? ' both ways' : ''}`).join(', then ');
+  const layers = d.layers
+    .map((l) => `${l.cell === 'plain' ? `plain ${l.activation ?? 'tanh'}` : l.cell.toUpperCase()} ${l.hidden}${l.bidirectional === true ? ' both ways' : ''}`)
+    .join(', then ');
   const input = d.input.kind === 'embedding' ? `token ids (${d.input.vocabulary} tokens, embedding ${d.input.width})` : `${d.input.width} values per step`;
   const readout = d.readout === undefined || d.readout === null ? '' : `, readout to ${d.readout.width}`;
   return `${layers}${readout}; reads ${input} from "${imported.binding.input.name}" (layout ${imported.binding.layout})`;
@@ -92,9 +98,10 @@ export async function convert(args: ParsedArgs): Promise<string> {
   if (isWeightFileText(bytes, path)) {
     if (args.flags.has('values')) throw new CommandError('--values is for ONNX files; this is a weight file', 2);
     const file = await readWeightFile(new TextDecoder().decode(bytes));
-    if (isEncoderDecoder(file.model)) throw new CommandError(`${shown(name)}: an encoder-decoder; weft converts sequence models (one chain of layers) to ONNX, not encoder-decoders`);
+    if (isEncoderDecoder(file.model))
+      throw new CommandError(`${shown(name)}: an encoder-decoder; weft converts sequence models (one chain of layers) to ONNX, not encoder-decoders`);
     const onnx = exportOnnx(file, { lengths: args.switches.has('lengths') });
-    const out = args.flags.get('out') ?? path.replace(/(\.weft)?\.json$/i, '') + '.onnx';
+    const out = args.flags.get('out') ?? `${path.replace(/(\.weft)?\.json$/i, '')}.onnx`;
     const encoded = encodeOnnxModel(onnx);
     writeFileAtomic(out, encoded);
     return `${shown(name)} → ${shown(out)}: ONNX operator set ${ONNX_OPSET}, ${onnx.graph.nodes.length} nodes (${onnx.graph.nodes.map((n) => n.opType).join(', ')}), ${encoded.length} bytes; inputs ${onnx.graph.inputs.map((i) => i.name).join(', ')}, output ${onnx.graph.outputs[0].name}`;
@@ -102,7 +109,7 @@ export async function convert(args: ParsedArgs): Promise<string> {
   if (args.switches.has('lengths')) throw new CommandError('--lengths is for weight files; this is an ONNX file', 2);
   const values = givenValues(args);
   const imported = importOnnx(decodeOnnxModel(bytes, name), { values });
-  const out = args.flags.get('out') ?? path.replace(/\.onnx$/i, '') + '.weft.json';
+  const out = args.flags.get('out') ?? `${path.replace(/\.onnx$/i, '')}.weft.json`;
   const text = await importedWeightFile(imported);
   // Checked with the reader weft run uses (the file and its metadata against the model) before anything is written:
   // a model's metadata the ONNX file carried (say a horizon of -3) must not make a file weft then refuses.

@@ -14,9 +14,32 @@ import { Random, fail, indexOfLargest } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
 import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
 import type { DataSource, LabelledSequence } from '@weft/optim';
-import { UNKNOWN_TOKEN, buildVocabulary, chooseLogistic, predictLogistic, summaryFeatures, textBaselines, classificationReport, columnNamed, columnStatistics, decimal, fieldPath, parseTable, readStepTable } from '@weft/io';
+import {
+  UNKNOWN_TOKEN,
+  buildVocabulary,
+  chooseLogistic,
+  predictLogistic,
+  summaryFeatures,
+  textBaselines,
+  classificationReport,
+  columnNamed,
+  columnStatistics,
+  decimal,
+  fieldPath,
+  parseTable,
+  readStepTable,
+} from '@weft/io';
 import { prepareSeries } from '@weft/io';
-import type { ChosenSettings, ClassificationReport, ForecastIntervals, HeldOutReport, PreparedSeries, SeriesPreparation, Table, WeightMetadata } from '@weft/io';
+import type {
+  ChosenSettings,
+  ClassificationReport,
+  ForecastIntervals,
+  HeldOutReport,
+  PreparedSeries,
+  SeriesPreparation,
+  Table,
+  WeightMetadata,
+} from '@weft/io';
 
 export type { Contender, HeldOutReport } from '@weft/io';
 import { CommandError } from './errors.js';
@@ -77,12 +100,20 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
     };
   }
   const { values, features, horizon, trainEnd, testStart, rows } = examples;
-  const targetOptions = (to: number) => 'columns' in examples.targets
-    ? { targetColumns: [...examples.targets.columns] }
-    : { targets: examples.targets.values.slice(0, to * examples.targets.width), targetWidth: examples.targets.width };
+  const targetOptions = (to: number) =>
+    'columns' in examples.targets
+      ? { targetColumns: [...examples.targets.columns] }
+      : { targets: examples.targets.values.slice(0, to * examples.targets.width), targetWidth: examples.targets.width };
   const weights = examples.targetWeights;
   const weightWidth = 'columns' in examples.targets ? examples.targets.columns.length : examples.targets.width;
-  const data = (to: number) => ({ kind: 'values' as const, values: values.slice(0, to * features), features, ...targetOptions(to), ...(weights === undefined ? {} : { targetWeights: weights.slice(0, to * weightWidth) }), horizon });
+  const data = (to: number) => ({
+    kind: 'values' as const,
+    values: values.slice(0, to * features),
+    features,
+    ...targetOptions(to),
+    ...(weights === undefined ? {} : { targetWeights: weights.slice(0, to * weightWidth) }),
+    horizon,
+  });
   // Validation and test read the series from its first row as one stream (the runtime's forecast at each row, as
   // `weft run` makes it), every row before their own first target carrying state only.
   const validation = wholeStream(data(testStart), { window: examples.window, scoredFrom: trainEnd - horizon });
@@ -99,7 +130,14 @@ export function prepareForecast(text: string, file: string, options: PrepareOpti
 
 /** What every prepared series hands the command as it is. */
 function common(series: PreparedSeries): Pick<Prepared, 'task' | 'input' | 'outputWidth' | 'metadata' | 'notes' | 'chosen'> {
-  return { task: 'forecast', input: { kind: 'values', width: series.inputWidth }, outputWidth: series.outputWidth, metadata: series.metadata, notes: series.notes, ...(series.chosen === undefined ? {} : { chosen: series.chosen }) };
+  return {
+    task: 'forecast',
+    input: { kind: 'values', width: series.inputWidth },
+    outputWidth: series.outputWidth,
+    metadata: series.metadata,
+    notes: series.notes,
+    ...(series.chosen === undefined ? {} : { chosen: series.chosen }),
+  };
 }
 
 /** A model's outputs on sources read in turn, every row of every batch in order, and their width. */
@@ -131,7 +169,9 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
   const trainEnd = pieces.length - testCount - validationCount;
   const testStart = pieces.length - testCount;
   if (trainEnd < options.streams * options.window + 1) {
-    throw new CommandError(`${file}: ${pieces.length} ${options.tokens} leave ${Math.max(0, trainEnd)} to train on (after ${validationCount} for validation and ${testCount} for the test), too few for ${options.streams} streams of ${options.window}-token windows (${options.streams * options.window + 1}); lower --streams or --window, or the --validation and --test shares`);
+    throw new CommandError(
+      `${file}: ${pieces.length} ${options.tokens} leave ${Math.max(0, trainEnd)} to train on (after ${validationCount} for validation and ${testCount} for the test), too few for ${options.streams} streams of ${options.window}-token windows (${options.streams * options.window + 1}); lower --streams or --window, or the --validation and --test shares`,
+    );
   }
   const trainPieces = pieces.slice(0, trainEnd);
   const vocabulary = buildVocabulary(trainPieces);
@@ -143,7 +183,10 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
   // A part read as one stream from a warm-up before it; its first token is predicted from the one before it.
   const reading = (from: number, to: number) => {
     const begin = Math.max(0, from - 1 - TEXT_WARM_UP);
-    return wholeStream({ kind: 'tokens', tokens: ids.subarray(begin, to), vocabulary: vocabulary.length }, { window: options.window, scoredFrom: from - 1 - begin });
+    return wholeStream(
+      { kind: 'tokens', tokens: ids.subarray(begin, to), vocabulary: vocabulary.length },
+      { window: options.window, scoredFrom: from - 1 - begin },
+    );
   };
   const validation = reading(trainEnd, testStart);
   const test = reading(testStart, pieces.length);
@@ -156,11 +199,23 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
     task: 'text',
     input: { kind: 'embedding', vocabulary: vocabulary.length, width: options.embedding },
     outputWidth: vocabulary.length,
-    train: streamBatches({ kind: 'tokens', tokens: trainIds, vocabulary: vocabulary.length }, { streams: options.streams, window: options.window, lookback: options.lookback }),
+    train: streamBatches(
+      { kind: 'tokens', tokens: trainIds, vocabulary: vocabulary.length },
+      { streams: options.streams, window: options.window, lookback: options.lookback },
+    ),
     validation,
-    metadata: { task: 'next-token', tokens: options.tokens, vocabulary, split: { kind: 'text', tokens: pieces.length, trainingTokens: trainEnd, validationTokens: validationCount, testTokens: testCount } },
+    metadata: {
+      task: 'next-token',
+      tokens: options.tokens,
+      vocabulary,
+      split: { kind: 'text', tokens: pieces.length, trainingTokens: trainEnd, validationTokens: validationCount, testTokens: testCount },
+    },
     notes: [
-      ...(unseen > 0 ? [`${unseen} of the ${pieces.length - trainEnd} validation and test ${options.tokens} never occur in the training text; the model reads them as ${UNKNOWN}`] : []),
+      ...(unseen > 0
+        ? [
+            `${unseen} of the ${pieces.length - trainEnd} validation and test ${options.tokens} never occur in the training text; the model reads them as ${UNKNOWN}`,
+          ]
+        : []),
     ],
     validationFigure: (model) => Math.exp(averageCrossEntropy(model, validation)),
     heldOut: (model) => ({
@@ -170,7 +225,11 @@ export function prepareText(text: string, file: string, options: PrepareOptions)
       model: { name: 'model', description: '', value: Math.exp(averageCrossEntropy(model, test)) },
       baselines: [
         { name: 'unigram', description: 'each token as often as in the training and validation text (add-one)', value: judged.unigram },
-        { name: `${judged.order}-gram`, description: `interpolated Kneser-Ney over ${options.tokens}, order ${judged.order} of 1-${most} chosen on the validation part (validation perplexity ${judged.orderLosses.map((l, i) => `${i + 1}: ${Number(Math.exp(l).toPrecision(4))}`).join(', ')})`, value: judged.ngram },
+        {
+          name: `${judged.order}-gram`,
+          description: `interpolated Kneser-Ney over ${options.tokens}, order ${judged.order} of 1-${most} chosen on the validation part (validation perplexity ${judged.orderLosses.map((l, i) => `${i + 1}: ${Number(Math.exp(l).toPrecision(4))}`).join(', ')})`,
+          value: judged.ngram,
+        },
       ],
       names: [],
       context: [partsLine],
@@ -193,11 +252,19 @@ export function prepareClassification(text: string, file: string, options: Class
   const labelAt = table.header.indexOf(options.labelColumn);
   const sequenceAt = table.header.indexOf(options.sequenceColumn);
   if (labelAt < 0 || sequenceAt < 0) {
-    throw new CommandError(`${file}: needs columns ${JSON.stringify(options.labelColumn)} and ${JSON.stringify(options.sequenceColumn)} (or a long table: one step per row, with --id-column); found ${table.header.join(', ')}`, 2);
+    throw new CommandError(
+      `${file}: needs columns ${JSON.stringify(options.labelColumn)} and ${JSON.stringify(options.sequenceColumn)} (or a long table: one step per row, with --id-column); found ${table.header.join(', ')}`,
+      2,
+    );
   }
   const labels = [...new Set(table.rows.map((r) => r.fields[labelAt].trim()))].sort();
   onlyOneClass(labels, table.rows.length > 0 ? fieldPath(table, 0, labelAt) : `${file}:1:1`);
-  const items = table.rows.map((r) => r.fields[sequenceAt].trim().split(/\s+/).filter((s) => s !== ''));
+  const items = table.rows.map((r) =>
+    r.fields[sequenceAt]
+      .trim()
+      .split(/\s+/)
+      .filter((s) => s !== ''),
+  );
   items.forEach((list, i) => {
     if (list.length === 0) fail('bad_data', fieldPath(table, i, sequenceAt), 'a sequence of at least one item', 'an empty field');
   });
@@ -209,14 +276,22 @@ export function prepareClassification(text: string, file: string, options: Class
   if (!numeric && numbers >= total / 2) {
     const row = items.findIndex((list) => list.some((s) => Number.isNaN(decimal(s))));
     const bad = items[row].find((s) => Number.isNaN(decimal(s)))!;
-    fail('bad_data', fieldPath(table, row, sequenceAt), `a decimal number, as ${numbers} of the ${total} items of the sequences are`, JSON.stringify(bad.slice(0, 80)));
+    fail(
+      'bad_data',
+      fieldPath(table, row, sequenceAt),
+      `a decimal number, as ${numbers} of the ${total} items of the sequences are`,
+      JSON.stringify(bad.slice(0, 80)),
+    );
   }
   const vocabulary = numeric ? null : buildVocabulary(items.flat());
   const index = new Map((vocabulary ?? []).map((v, i) => [v, i]));
   let mean = 0;
   let deviation = 1;
   if (numeric) {
-    const statistics = columnStatistics(items.flat().map((s) => [decimal(s)]), 1);
+    const statistics = columnStatistics(
+      items.flat().map((s) => [decimal(s)]),
+      1,
+    );
     mean = statistics.mean[0];
     deviation = statistics.deviation[0];
   }
@@ -238,17 +313,26 @@ export function prepareClassification(text: string, file: string, options: Class
 
 /** A classifier needs two classes: `where` is the file:line:column of the first label. */
 function onlyOneClass(labels: readonly string[], where: string): void {
-  if (labels.length < 2) fail('bad_data', where, 'labels of at least two classes (a classifier needs them)', `the label ${JSON.stringify(labels[0] ?? '')} on every sequence`);
+  if (labels.length < 2)
+    fail('bad_data', where, 'labels of at least two classes (a classifier needs them)', `the label ${JSON.stringify(labels[0] ?? '')} on every sequence`);
 }
 
 /** A labelled long table (one step per row, several numbers per step) as sequences, normalised per column. */
 function prepareStepClassification(table: Table, file: string, options: ClassifyOptions): Prepared {
-  const read = readStepTable(table, { idColumn: options.idColumn as string, stepColumn: options.stepColumn, labelColumn: options.labelColumn, columns: options.columns });
+  const read = readStepTable(table, {
+    idColumn: options.idColumn as string,
+    stepColumn: options.stepColumn,
+    labelColumn: options.labelColumn,
+    columns: options.columns,
+  });
   const labels = [...new Set(read.sequences.map((q) => q.label as string))].sort();
   const width = read.columns.length;
   const labelAt = columnNamed(table, options.labelColumn, 'the labels');
   onlyOneClass(labels, table.rows.length > 0 ? fieldPath(table, 0, labelAt) : `${file}:1:1`);
-  const statistics = columnStatistics(read.sequences.flatMap((q) => q.steps), width);
+  const statistics = columnStatistics(
+    read.sequences.flatMap((q) => q.steps),
+    width,
+  );
   const sequences: LabelledSequence[] = read.sequences.map((q) => ({
     values: q.steps.flatMap((step) => step.map((v, j) => (v - statistics.mean[j]) / statistics.deviation[j])),
     label: labels.indexOf(q.label as string),
@@ -277,7 +361,11 @@ function sequenceFeatures(q: LabelledSequence, features: number, vocabulary: num
 }
 
 function classificationData(
-  sequences: LabelledSequence[], labels: string[], features: number, file: string, options: ClassifyOptions,
+  sequences: LabelledSequence[],
+  labels: string[],
+  features: number,
+  file: string,
+  options: ClassifyOptions,
   shape: { input: ModelDescription['input']; metadata: WeightMetadata; notes: string[] },
 ): Prepared {
   const order = sequences.map((_, i) => i);
@@ -287,7 +375,10 @@ function classificationData(
   const testSet = order.slice(0, testCount).map((i) => sequences[i]);
   const validationSet = order.slice(testCount, testCount + validationCount).map((i) => sequences[i]);
   const trainSet = order.slice(testCount + validationCount).map((i) => sequences[i]);
-  if (trainSet.length < 2) throw new CommandError(`${file}: ${sequences.length} sequences leave ${trainSet.length} to train on after ${validationCount} for validation and ${testCount} for the test; lower --validation or --test`);
+  if (trainSet.length < 2)
+    throw new CommandError(
+      `${file}: ${sequences.length} sequences leave ${trainSet.length} to train on after ${validationCount} for validation and ${testCount} for the test; lower --validation or --test`,
+    );
   const validation = sequenceBatches(validationSet, { batchSize: 64, features });
   const test = sequenceBatches(testSet, { batchSize: 64, features });
   const labelsOf = (set: LabelledSequence[]) => set.map((q) => q.label ?? 0);
@@ -296,12 +387,21 @@ function classificationData(
   const trainCounts = labels.map((_, k) => trainSet.filter((q) => q.label === k).length);
   const majorityClass = indexOfLargest(trainCounts);
   const testLabels = labelsOf(testSet);
-  const majority = classificationReport(testLabels, testLabels.map(() => majorityClass), labels.length);
+  const majority = classificationReport(
+    testLabels,
+    testLabels.map(() => majorityClass),
+    labels.length,
+  );
   const vocabulary = shape.input.kind === 'embedding' ? shape.input.vocabulary : 0;
   const featuresOf = (set: LabelledSequence[]) => set.map((q) => sequenceFeatures(q, features, vocabulary));
   const logistic = chooseLogistic(featuresOf(trainSet), labelsOf(trainSet), featuresOf(validationSet), labelsOf(validationSet), labels.length);
-  const regression = classificationReport(testLabels, featuresOf(testSet).map((row) => predictLogistic(logistic, row)), labels.length);
-  const summaries = shape.input.kind === 'embedding' ? 'the share of each token and the length' : 'mean, deviation, minimum, maximum, last value and slope of each column';
+  const regression = classificationReport(
+    testLabels,
+    featuresOf(testSet).map((row) => predictLogistic(logistic, row)),
+    labels.length,
+  );
+  const summaries =
+    shape.input.kind === 'embedding' ? 'the share of each token and the length' : 'mean, deviation, minimum, maximum, last value and slope of each column';
   const partsLine = `parts of ${file}, a seeded shuffle (seed ${options.seed}): training ${trainSet.length} sequences; validation, for stopping and keeping weights, ${validationSet.length}; test, scored once at the end, ${testSet.length}`;
   return {
     task: 'classify',
@@ -309,7 +409,17 @@ function classificationData(
     outputWidth: labels.length,
     train: sequenceBatches(trainSet, { batchSize: options.batch, features, seed: options.seed }),
     validation,
-    metadata: { ...shape.metadata, split: { kind: 'sequences', seed: options.seed, sequences: sequences.length, trainingSequences: trainSet.length, validationSequences: validationSet.length, testSequences: testSet.length } },
+    metadata: {
+      ...shape.metadata,
+      split: {
+        kind: 'sequences',
+        seed: options.seed,
+        sequences: sequences.length,
+        trainingSequences: trainSet.length,
+        validationSequences: validationSet.length,
+        testSequences: testSet.length,
+      },
+    },
     notes: shape.notes,
     validationFigure: (model) => predictedClasses(model, validation, labels.length).accuracy,
     heldOut: (model) => {
@@ -320,8 +430,18 @@ function classificationData(
         what: `${testSet.length} test sequences of ${file}, drawn at random (seed ${options.seed}), used for neither training nor stopping`,
         model: { name: 'model', description: '', value: scores.accuracy, scores },
         baselines: [
-          { name: 'majority class', description: `always ${JSON.stringify(labels[majorityClass])}, the most common class in training`, value: majority.accuracy, scores: majority },
-          { name: 'logistic regression', description: `on ${summaries} of each sequence, L2 penalty ${logistic.penalty} chosen on the validation sequences`, value: regression.accuracy, scores: regression },
+          {
+            name: 'majority class',
+            description: `always ${JSON.stringify(labels[majorityClass])}, the most common class in training`,
+            value: majority.accuracy,
+            scores: majority,
+          },
+          {
+            name: 'logistic regression',
+            description: `on ${summaries} of each sequence, L2 penalty ${logistic.penalty} chosen on the validation sequences`,
+            value: regression.accuracy,
+            scores: regression,
+          },
         ],
         names: labels,
         context: [partsLine],

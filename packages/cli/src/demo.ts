@@ -25,7 +25,18 @@ async function demo(): Promise<void> {
   console.log('weft demo: forecasting a greenhouse two hours ahead');
   console.log(`data: ${data}`);
   console.log('  invented readings every 15 minutes for 42 days: air temperature, humidity, soil moisture, light\n');
-  const flags = ['--target', 'air_temperature_c', '--horizon', '8', '--cell', 'gru', ...(epochs === undefined ? [] : ['--epochs', epochs]), '--start-over', '--out', out];
+  const flags = [
+    '--target',
+    'air_temperature_c',
+    '--horizon',
+    '8',
+    '--cell',
+    'gru',
+    ...(epochs === undefined ? [] : ['--epochs', epochs]),
+    '--start-over',
+    '--out',
+    out,
+  ];
   console.log(`$ weft train greenhouse.csv ${flags.slice(0, -2).join(' ')} --out ${out}`);
   const outcome = await train(parseArgs('train', [data, ...flags], trainFlags));
 
@@ -49,7 +60,9 @@ async function demo(): Promise<void> {
     if (forecast === undefined || r + horizon < firstTest || (r + horizon - firstTest) % 40 !== 0 || samples.length >= 10) continue;
     const now = Number(table.rows[r].fields[targetColumn]);
     const actual = Number(table.rows[r + horizon].fields[targetColumn]);
-    samples.push(`  ${table.rows[r].fields[0].padEnd(17)}  ${now.toFixed(2).padStart(6)}  ${actual.toFixed(2).padStart(12)}  ${forecast.toFixed(2).padStart(8)}`);
+    samples.push(
+      `  ${table.rows[r].fields[0].padEnd(17)}  ${now.toFixed(2).padStart(6)}  ${actual.toFixed(2).padStart(12)}  ${forecast.toFixed(2).padStart(8)}`,
+    );
   }
   console.log('\nsome forecasts from the saved weight file, loaded into the runtime (test days, °C):');
   console.log(`  ${'time'.padEnd(17)}  ${'now'.padStart(6)}  ${'actual in 2h'.padStart(12)}  ${'forecast'.padStart(8)}`);

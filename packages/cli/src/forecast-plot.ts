@@ -35,7 +35,7 @@ function covered(trace: ForecastTrace, from: number): [number, number] {
   return [inside, count];
 }
 
-const escape = (text: string) => text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
+const xmlText = (text: string) => text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
 
 /** Runs of consecutive finite points, as "x,y x,y …" lists (a gap breaks a line). */
 function runs(values: readonly number[], x: (i: number) => number, y: (v: number) => number): string[] {
@@ -92,7 +92,7 @@ export function forecastSvg(traces: readonly ForecastTrace[], title: string, lev
     const [inside, count] = covered(trace, from);
     const caption = `${trace.title}${from > 0 ? ` (last ${actual.length} rows)` : ''}${count > 0 ? `: ${inside} of ${count} values inside the band` : ''}`;
     return [
-      `<text x="${left}" y="${upper - 6}" font-size="12">${escape(caption)}</text>`,
+      `<text x="${left}" y="${upper - 6}" font-size="12">${xmlText(caption)}</text>`,
       `<rect x="${left}" y="${upper}" width="${right - left}" height="${lower - upper}" fill="none" stroke="#ccc"/>`,
       ...band,
       ...runs(actual, x, y).map((p) => `<polyline fill="none" stroke="#555" stroke-width="1.6" points="${p}"/>`),
@@ -103,7 +103,7 @@ export function forecastSvg(traces: readonly ForecastTrace[], title: string, lev
   });
   return `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" viewBox="0 0 ${width} ${height}" font-family="sans-serif">
 <rect width="${width}" height="${height}" fill="white"/>
-<text x="${width / 2}" y="20" text-anchor="middle" font-size="14">${escape(title)}</text>
+<text x="${width / 2}" y="20" text-anchor="middle" font-size="14">${xmlText(title)}</text>
 ${cells.join('\n')}
 <text x="${width / 2}" y="${height - 6}" text-anchor="middle" font-size="12"><tspan fill="#555">— values</tspan>   <tspan fill="#c0392b">— forecasts</tspan>${level === null ? '' : `   <tspan fill="#5b95cf">■ ${Number((100 * level).toFixed(1))}% prediction intervals</tspan>`}</text>
 </svg>
@@ -121,7 +121,10 @@ export class TraceRecorder {
   private first = 0;
   private last = -1;
 
-  constructor(private readonly title: string, private readonly ahead: number) {}
+  constructor(
+    private readonly title: string,
+    private readonly ahead: number,
+  ) {}
 
   /** Row `row` (0-based): its value, and the forecast made at it for `ahead` rows on with its interval's half-width. */
   add(row: number, actual: number, forecast: number, halfWidth: number): void {

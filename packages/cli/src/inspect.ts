@@ -32,15 +32,38 @@ export async function inspect(args: ParsedArgs): Promise<string> {
   // The loss history a checkpoint carries is for resuming the loss curve, not for reading here.
   const metadata = Object.entries(file.metadata).filter(([key]) => key !== 'history');
   if (args.switches.has('json')) {
-    return JSON.stringify({ model: file.model, tensors: rows, parameters, metadata: Object.fromEntries(metadata), digest: { hex: file.digest, verified: file.digestVerified }, checkpoint: file.training !== undefined }, null, 2);
+    return JSON.stringify(
+      {
+        model: file.model,
+        tensors: rows,
+        parameters,
+        metadata: Object.fromEntries(metadata),
+        digest: { hex: file.digest, verified: file.digestVerified },
+        checkpoint: file.training !== undefined,
+      },
+      null,
+      2,
+    );
   }
   const lines: string[] = [];
   lines.push(`${shown(path)}: weft weight file, version ${file.version}${file.training !== undefined ? ' (a checkpoint: carries training state)' : ''}`);
-  lines.push('', 'model:', ...JSON.stringify(file.model, null, 2).split('\n').map((l) => `  ${shown(l)}`));
-  const widths = [Math.max(6, ...rows.map((r) => r.name.length)), Math.max(5, ...rows.map((r) => r.shape.length)), 5, Math.max(5, ...rows.map((r) => String(r.bytes).length))];
+  lines.push(
+    '',
+    'model:',
+    ...JSON.stringify(file.model, null, 2)
+      .split('\n')
+      .map((l) => `  ${shown(l)}`),
+  );
+  const widths = [
+    Math.max(6, ...rows.map((r) => r.name.length)),
+    Math.max(5, ...rows.map((r) => r.shape.length)),
+    5,
+    Math.max(5, ...rows.map((r) => String(r.bytes).length)),
+  ];
   lines.push('', 'tensors:');
   lines.push(`  ${'name'.padEnd(widths[0])}  ${'shape'.padEnd(widths[1])}  ${'dtype'.padEnd(widths[2])}  ${'bytes'.padStart(widths[3])}`);
-  for (const r of rows) lines.push(`  ${r.name.padEnd(widths[0])}  ${r.shape.padEnd(widths[1])}  ${r.dtype.padEnd(widths[2])}  ${String(r.bytes).padStart(widths[3])}`);
+  for (const r of rows)
+    lines.push(`  ${r.name.padEnd(widths[0])}  ${r.shape.padEnd(widths[1])}  ${r.dtype.padEnd(widths[2])}  ${String(r.bytes).padStart(widths[3])}`);
   lines.push(`  ${parameters} parameters, ${rows.reduce((n, r) => n + r.bytes, 0)} bytes of tensor data`);
   lines.push('', 'metadata:');
   for (const [key, value] of metadata) {
@@ -52,10 +75,18 @@ export async function inspect(args: ParsedArgs): Promise<string> {
   // The tensors against the description's layout, as weft run checks them (built-in cells; a cell of your own
   // defines its own tensors).
   const layout = parameterLayout(file.model);
-  const problems = layout.builtIn ? layoutProblems(file.tensors.map((t) => ({ name: t.name, shape: t.shape })), layout.parameters) : [];
+  const problems = layout.builtIn
+    ? layoutProblems(
+        file.tensors.map((t) => ({ name: t.name, shape: t.shape })),
+        layout.parameters,
+      )
+    : [];
   if (problems.length > 0) {
     process.stdout.write(`${lines.join('\n')}\n`);
-    throw new CommandError(`${shown(path)}: weft run refuses this file, its tensors disagree with its description: ${problems.map(describeProblem).join('; ')}`, 1);
+    throw new CommandError(
+      `${shown(path)}: weft run refuses this file, its tensors disagree with its description: ${problems.map(describeProblem).join('; ')}`,
+      1,
+    );
   }
   if (!file.digestVerified) {
     // The report still goes where reports go; the failure is one line on standard error and exit 1.
@@ -70,13 +101,23 @@ function inspectOnnx(path: string, bytes: Uint8Array): string {
   const model = decodeOnnxModel(bytes, path);
   const g = model.graph;
   const dims = (d: readonly (number | string | null)[] | null) => (d === null ? '[?]' : `[${d.map((x) => (x === null ? '?' : String(x))).join(', ')}]`);
-  const lines = [`${shown(path)}: ONNX model, IR version ${model.irVersion}, operator sets ${model.opsets.map((o) => `${o.domain === '' ? 'ai.onnx' : shown(o.domain)} ${o.version}`).join(', ')}${model.producerName === '' ? '' : `, written by ${shown(model.producerName)}${model.producerVersion === '' ? '' : ` ${shown(model.producerVersion)}`}`}`];
-  lines.push('', 'inputs:', ...g.inputs.map((i) => `  ${shown(i.name)} ${dims(i.dims)}${g.initializers.some((t) => t.name === i.name) ? ' (has an initializer)' : ''}`));
+  const lines = [
+    `${shown(path)}: ONNX model, IR version ${model.irVersion}, operator sets ${model.opsets.map((o) => `${o.domain === '' ? 'ai.onnx' : shown(o.domain)} ${o.version}`).join(', ')}${model.producerName === '' ? '' : `, written by ${shown(model.producerName)}${model.producerVersion === '' ? '' : ` ${shown(model.producerVersion)}`}`}`,
+  ];
+  lines.push(
+    '',
+    'inputs:',
+    ...g.inputs.map((i) => `  ${shown(i.name)} ${dims(i.dims)}${g.initializers.some((t) => t.name === i.name) ? ' (has an initializer)' : ''}`),
+  );
   lines.push('', 'outputs:', ...g.outputs.map((o) => `  ${shown(o.name)} ${dims(o.dims)}`));
   lines.push('', 'nodes:');
   g.nodes.forEach((n, i) => {
-    const attributes = n.attributes.map((a) => `${shown(a.name)}=${shown(JSON.stringify(a.i ?? a.f ?? a.s ?? a.ints ?? a.floats ?? a.strings ?? '…'))}`).join(' ');
-    lines.push(`  ${String(i).padStart(3)} ${shown(n.opType).padEnd(10)} ${n.inputs.map((x) => (x === '' ? '-' : shown(x))).join(', ')} → ${n.outputs.map((x) => (x === '' ? '-' : shown(x))).join(', ')}${attributes === '' ? '' : `  (${attributes})`}`);
+    const attributes = n.attributes
+      .map((a) => `${shown(a.name)}=${shown(JSON.stringify(a.i ?? a.f ?? a.s ?? a.ints ?? a.floats ?? a.strings ?? '…'))}`)
+      .join(' ');
+    lines.push(
+      `  ${String(i).padStart(3)} ${shown(n.opType).padEnd(10)} ${n.inputs.map((x) => (x === '' ? '-' : shown(x))).join(', ')} → ${n.outputs.map((x) => (x === '' ? '-' : shown(x))).join(', ')}${attributes === '' ? '' : `  (${attributes})`}`,
+    );
   });
   const parameters = g.initializers.reduce((n, t) => n + t.values.length, 0);
   lines.push('', `constants: ${g.initializers.length} tensors, ${parameters} values`);

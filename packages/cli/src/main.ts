@@ -73,7 +73,7 @@ const verbs: Record<string, Verb> = {
     },
   },
   score: {
-    summary: 'score a weight file on a labelled data file, beside the baselines, in the data\'s units',
+    summary: "score a weight file on a labelled data file, beside the baselines, in the data's units",
     usage: 'weft score MODEL DATA [flags]',
     example: 'weft score greenhouse.weft.json greenhouse-june.csv --format json',
     flags: scoreFlags,
@@ -122,7 +122,12 @@ function version(): string {
 }
 
 function overview(): string {
-  const lines = ['weft: train and run small recurrent networks (LSTM, GRU, plain) from the terminal', '', 'usage: weft VERB [flags]   (weft VERB --help for each)', ''];
+  const lines = [
+    'weft: train and run small recurrent networks (LSTM, GRU, plain) from the terminal',
+    '',
+    'usage: weft VERB [flags]   (weft VERB --help for each)',
+    '',
+  ];
   for (const [name, verb] of Object.entries(verbs)) lines.push(`  ${name.padEnd(8)} ${verb.summary}`);
   lines.push('', '  --version  print the version', '', `example:\n  ${verbs.train.example}`);
   return lines.join('\n');

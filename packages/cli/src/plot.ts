@@ -30,7 +30,7 @@ export function sparkline(values: readonly number[], width = 40): string {
   return means.map((m) => bars[high === low ? 0 : Math.min(7, Math.floor(((m - low) / (high - low)) * 8))]).join('');
 }
 
-function escape(text: string): string {
+function xmlText(text: string): string {
   return text.replace(/&/g, '&amp;').replace(/</g, '&lt;').replace(/>/g, '&gt;');
 }
 
@@ -94,10 +94,11 @@ export function logTicks(low: number, high: number): number[] {
   const last = Math.ceil(Math.log10(high));
   const multiples = last - first <= 3 ? [1, 2, 5] : [1];
   const ticks: number[] = [];
-  for (let k = first; k <= last; k++) for (const m of multiples) {
-    const v = Number((m * 10 ** k).toPrecision(12));
-    if (v >= low && v <= high) ticks.push(v);
-  }
+  for (let k = first; k <= last; k++)
+    for (const m of multiples) {
+      const v = Number((m * 10 ** k).toPrecision(12));
+      if (v >= low && v <= high) ticks.push(v);
+    }
   return ticks;
 }
 
@@ -105,7 +106,12 @@ export function logTicks(low: number, high: number): number[] {
 function tickLabel(v: number): string {
   if (v === 0) return '0';
   const a = Math.abs(v);
-  return a >= 1e-3 && a < 1e6 ? String(Number(v.toPrecision(6))) : v.toExponential().replace(/\.?0+e/, 'e').replace('e+', 'e');
+  return a >= 1e-3 && a < 1e6
+    ? String(Number(v.toPrecision(6)))
+    : v
+        .toExponential()
+        .replace(/\.?0+e/, 'e')
+        .replace('e+', 'e');
 }
 
 /** The SVG of a run's losses (see the file's comment); `kept`, the step whose weights were kept, is marked. */
@@ -136,7 +142,10 @@ export function lossCurveSvg(allTraining: readonly LossPoint[], allValidation: r
   if (log) {
     // Out to the round values just beyond the losses, so the lowest and highest are labelled.
     const rounds = (k: number) => [1, 2, 5].map((m) => m * 10 ** k);
-    low = rounds(Math.floor(Math.log10(low))).filter((v) => v <= low).pop() ?? low;
+    low =
+      rounds(Math.floor(Math.log10(low)))
+        .filter((v) => v <= low)
+        .pop() ?? low;
     high = [...rounds(Math.floor(Math.log10(high))), 10 ** (Math.floor(Math.log10(high)) + 1)].find((v) => v >= high) ?? high;
   }
   const lossTicks = log ? logTicks(low, high) : roundTicks(low, high);
@@ -146,13 +155,26 @@ export function lossCurveSvg(allTraining: readonly LossPoint[], allValidation: r
   const y = (loss: number) => top + (height - top - bottom) * (1 - (scale(loss) - from) / (to - from || 1));
   const points = (list: readonly LossPoint[]) => list.map((p) => `${x(p.step).toFixed(1)},${y(p.loss).toFixed(1)}`).join(' ');
   const stepTicks = roundTicks(0, maxStep, 6).filter((s) => Number.isInteger(s));
-  const yTicks = lossTicks.map((v) => `<line class="loss-tick" x1="${left}" x2="${width - right}" y1="${y(v).toFixed(1)}" y2="${y(v).toFixed(1)}" stroke="#e4e4e4"/><text class="loss-tick-label" x="${left - 6}" y="${(y(v) + 4).toFixed(1)}" text-anchor="end" font-size="11">${tickLabel(v)}</text>`).join('\n');
-  const xTicks = stepTicks.map((s) => `<line class="step-tick" x1="${x(s).toFixed(1)}" x2="${x(s).toFixed(1)}" y1="${height - bottom}" y2="${height - bottom + 5}" stroke="#333"/><text class="step-tick-label" x="${x(s).toFixed(1)}" y="${height - bottom + 18}" text-anchor="middle" font-size="11">${s.toLocaleString('en')}</text>`).join('\n');
+  const yTicks = lossTicks
+    .map(
+      (v) =>
+        `<line class="loss-tick" x1="${left}" x2="${width - right}" y1="${y(v).toFixed(1)}" y2="${y(v).toFixed(1)}" stroke="#e4e4e4"/><text class="loss-tick-label" x="${left - 6}" y="${(y(v) + 4).toFixed(1)}" text-anchor="end" font-size="11">${tickLabel(v)}</text>`,
+    )
+    .join('\n');
+  const xTicks = stepTicks
+    .map(
+      (s) =>
+        `<line class="step-tick" x1="${x(s).toFixed(1)}" x2="${x(s).toFixed(1)}" y1="${height - bottom}" y2="${height - bottom + 5}" stroke="#333"/><text class="step-tick-label" x="${x(s).toFixed(1)}" y="${height - bottom + 18}" text-anchor="middle" font-size="11">${s.toLocaleString('en')}</text>`,
+    )
+    .join('\n');
   const dots = validation.map((p) => `<circle class="validation" cx="${x(p.step).toFixed(1)}" cy="${y(p.loss).toFixed(1)}" r="3" fill="#c0392b"/>`).join('');
-  const keptMark = kept === undefined ? '' : `<line class="kept" x1="${x(kept).toFixed(1)}" x2="${x(kept).toFixed(1)}" y1="${top}" y2="${height - bottom}" stroke="#2e7d32" stroke-width="1.5" stroke-dasharray="5 4"/><text class="kept-label" x="${(x(kept) + (x(kept) > width - 160 ? -6 : 6)).toFixed(1)}" y="${top + 14}" text-anchor="${x(kept) > width - 160 ? 'end' : 'start'}" font-size="11" fill="#2e7d32">weights kept: step ${kept.toLocaleString('en')}</text>`;
+  const keptMark =
+    kept === undefined
+      ? ''
+      : `<line class="kept" x1="${x(kept).toFixed(1)}" x2="${x(kept).toFixed(1)}" y1="${top}" y2="${height - bottom}" stroke="#2e7d32" stroke-width="1.5" stroke-dasharray="5 4"/><text class="kept-label" x="${(x(kept) + (x(kept) > width - 160 ? -6 : 6)).toFixed(1)}" y="${top + 14}" text-anchor="${x(kept) > width - 160 ? 'end' : 'start'}" font-size="11" fill="#2e7d32">weights kept: step ${kept.toLocaleString('en')}</text>`;
   return `<svg xmlns="http://www.w3.org/2000/svg" width="${width}" height="${height}" viewBox="0 0 ${width} ${height}" font-family="sans-serif">
 <rect width="${width}" height="${height}" fill="white"/>
-<text x="${width / 2}" y="22" text-anchor="middle" font-size="14">${escape(title)}</text>
+<text x="${width / 2}" y="22" text-anchor="middle" font-size="14">${xmlText(title)}</text>
 ${yTicks}
 ${xTicks}
 <line x1="${left}" x2="${left}" y1="${top}" y2="${height - bottom}" stroke="#333"/>

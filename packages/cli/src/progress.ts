@@ -32,14 +32,20 @@ export class ProgressView {
    * `maeScale`: the factor that turns the validation MAE (on normalised values) into the data's units, when there
    * is one (a forecast of one column: its deviation); null shows it as normalised.
    */
-  constructor(stream: NodeJS.WriteStream = process.stderr, private readonly maeScale: number | null = null) {
+  constructor(
+    stream: NodeJS.WriteStream = process.stderr,
+    private readonly maeScale: number | null = null,
+  ) {
     this.stream = stream;
     this.interactive = stream.isTTY === true;
   }
 
   show(event: TrainingEvent): void {
     if (event.kind === 'validation') {
-      const mae = this.maeScale === null ? `MAE ${event.validationMetric!.toPrecision(4)} normalised` : `MAE ${(event.validationMetric! * this.maeScale).toPrecision(4)} in data units`;
+      const mae =
+        this.maeScale === null
+          ? `MAE ${event.validationMetric!.toPrecision(4)} normalised`
+          : `MAE ${(event.validationMetric! * this.maeScale).toPrecision(4)} in data units`;
       const metric = event.validationMetricName === 'accuracy' ? `accuracy ${(event.validationMetric! * 100).toFixed(1)}%` : mae;
       this.lastValidation = `validation loss ${event.validationLoss!.toPrecision(4)}, ${metric}`;
       if (!this.interactive) this.plain(event, true);
@@ -85,7 +91,13 @@ export class ProgressView {
   private plain(event: TrainingEvent, validation: boolean): void {
     const parts = [`step ${event.step}/${event.totalSteps}`, `epoch ${event.epoch}`, `loss ${event.loss.toPrecision(4)}`];
     if (validation) parts.push(this.lastValidation);
-    else parts.push(`gradient norm ${Number.isFinite(event.gradientNorm) ? event.gradientNorm.toPrecision(3) : '-'}`, `rate ${event.learningRate.toPrecision(3)}`, `${Math.round(event.positionsPerSecond)} tok/s`, `${formatSeconds(event.secondsLeft)} left`);
+    else
+      parts.push(
+        `gradient norm ${Number.isFinite(event.gradientNorm) ? event.gradientNorm.toPrecision(3) : '-'}`,
+        `rate ${event.learningRate.toPrecision(3)}`,
+        `${Math.round(event.positionsPerSecond)} tok/s`,
+        `${formatSeconds(event.secondsLeft)} left`,
+      );
     this.stream.write(`${parts.join('  ')}\n`);
   }
 }

@@ -20,10 +20,18 @@ export type EachRow = (table: Table, row: number, emit: (record: OutputRecord) =
  * from the forecasts before it: the model's forecast of every column is fed back as the next row, which needs a
  * model that forecasts all its input columns one row ahead.
  */
-export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, name: string, keep: readonly string[], marked: boolean, plotTitle: string | null = null) {
+export function rowForecasts(
+  runtime: Runtime,
+  meta: Record<string, unknown>,
+  name: string,
+  keep: readonly string[],
+  marked: boolean,
+  plotTitle: string | null = null,
+) {
   const model = createRowForecaster(runtime, meta);
   // With --plot: the first target's values and its nearest forecasts, for the picture.
-  const recorder = plotTitle === null ? null : new TraceRecorder(plotTitle === '' ? model.outputNames[0] : `${plotTitle}: ${model.outputNames[0]}`, model.rowsAhead[0]);
+  const recorder =
+    plotTitle === null ? null : new TraceRecorder(plotTitle === '' ? model.outputNames[0] : `${plotTitle}: ${model.outputNames[0]}`, model.rowsAhead[0]);
   const raw: Record<string, string> = {};
   let at: number[] | null = null;
   let kept: number[] = [];
@@ -40,16 +48,26 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
   const several = rowsAhead.length > 1;
   const checkAhead = (count: number): void => {
     if (several) {
-      if (count > rowsAhead[rowsAhead.length - 1]) throw new CommandError(`--ahead ${count}: this model forecasts rows 1 to ${rowsAhead[rowsAhead.length - 1]} ahead at once; ask for at most ${rowsAhead[rowsAhead.length - 1]} (or train it with a longer --horizon)`, 2);
+      if (count > rowsAhead[rowsAhead.length - 1])
+        throw new CommandError(
+          `--ahead ${count}: this model forecasts rows 1 to ${rowsAhead[rowsAhead.length - 1]} ahead at once; ask for at most ${rowsAhead[rowsAhead.length - 1]} (or train it with a longer --horizon)`,
+          2,
+        );
       return;
     }
     const missing = model.inputNames.filter((c) => !model.outputNames.includes(c));
     if (Number(meta.horizon) !== 1 || missing.length > 0 || model.readNames.length > model.inputNames.length) {
-      throw new CommandError(`--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead, and read no times; this one forecasts ${model.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''}${model.readNames.length > model.inputNames.length ? ' and reads the time column' : ''} (train it with --horizon 1 and no --target, or with --horizon ROWS to forecast that many rows at once)`, 2);
+      throw new CommandError(
+        `--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead, and read no times; this one forecasts ${model.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''}${model.readNames.length > model.inputNames.length ? ' and reads the time column' : ''} (train it with --horizon 1 and no --target, or with --horizon ROWS to forecast that many rows at once)`,
+        2,
+      );
     }
   };
   const ahead = (rows: number, count: number, emit: (record: OutputRecord) => void): void => {
-    if (rows < model.warmUp) throw new CommandError(`${name}: ${rows} rows are fewer than the ${model.warmUp} the model reads before its first forecast; nothing to forecast ahead from`);
+    if (rows < model.warmUp)
+      throw new CommandError(
+        `${name}: ${rows} rows are fewer than the ${model.warmUp} the model reads before its first forecast; nothing to forecast ahead from`,
+      );
     for (let k = 1; k <= count; k++) {
       // A model of every row up to its horizon: row rows + k holds the forecast made at the last row, k rows ahead,
       // in its "in k" columns (so each column keeps its meaning: made at the row `made` names, k rows on).
@@ -93,9 +111,16 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
       // Point at the first field that is not a number, by line and column (a time that does not parse: its message).
       const j = model.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
       if (j < 0) throw new CommandError(`${fieldPath(table, 0, (at as number[])[model.readNames.length - 1])}: ${(error as Error).message}`);
-      throw new CommandError(`${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`);
+      throw new CommandError(
+        `${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`,
+      );
     }
-    recorder?.add(row - 1, model.takesMissing || raw[model.outputNames[0]].trim() !== '' ? Number(raw[model.outputNames[0]]) : NaN, ready ? made[0] : NaN, bounds?.halfWidth[0] ?? NaN);
+    recorder?.add(
+      row - 1,
+      model.takesMissing || raw[model.outputNames[0]].trim() !== '' ? Number(raw[model.outputNames[0]]) : NaN,
+      ready ? made[0] : NaN,
+      bounds?.halfWidth[0] ?? NaN,
+    );
     const record: OutputRecord = marked ? { row, made: 'from data' } : { row };
     keptNames = kept.map((c) => table.header[c]);
     kept.forEach((c) => (record[table.header[c]] = fields[c]));
@@ -112,7 +137,6 @@ export function rowForecasts(runtime: Runtime, meta: Record<string, unknown>, na
   return { each, ahead, checkAhead, traces: (): ForecastTrace[] => (recorder === null ? [] : [recorder.trace()]), level: bounds?.level ?? null };
 }
 
-
 /**
  * `weft run` on a model of many series (metadata `panel`): each row goes to its series' forecaster (by the id
  * column, which leads each record), rows numbered within their series; `--ahead` forecasts past the end of every
@@ -126,10 +150,26 @@ export function seriesForecasts(runtime: Runtime, meta: Record<string, unknown>,
   const each: EachRow = (table, _row, emit) => {
     if (idAt < 0) [idAt] = columnsAt(table, [panel.idColumn], name, 'it names the series the model forecasts');
     const id = table.rows[0].fields[idAt].trim();
-    if (!panel.ids.includes(id)) throw new CommandError(`${fieldPath(table, 0, idAt)}: ${JSON.stringify(id.slice(0, 80))} is not a series the model was trained on (${panel.ids.slice(0, 6).map((s) => JSON.stringify(s)).join(', ')}${panel.ids.length > 6 ? `, … ${panel.ids.length} in all` : ''})`);
+    if (!panel.ids.includes(id))
+      throw new CommandError(
+        `${fieldPath(table, 0, idAt)}: ${JSON.stringify(id.slice(0, 80))} is not a series the model was trained on (${panel.ids
+          .slice(0, 6)
+          .map((s) => JSON.stringify(s))
+          .join(', ')}${panel.ids.length > 6 ? `, … ${panel.ids.length} in all` : ''})`,
+      );
     let series = bySeries.get(id);
     if (series === undefined) {
-      series = { forecasts: rowForecasts(runtime, seriesMetadata(meta, id), name, keep.filter((c) => c !== panel.idColumn), marked, plot ? id : null), rows: 0 };
+      series = {
+        forecasts: rowForecasts(
+          runtime,
+          seriesMetadata(meta, id),
+          name,
+          keep.filter((c) => c !== panel.idColumn),
+          marked,
+          plot ? id : null,
+        ),
+        rows: 0,
+      };
       bySeries.set(id, series);
     }
     series.forecasts.each(table, ++series.rows, withId(id, emit));
@@ -141,7 +181,11 @@ export function seriesForecasts(runtime: Runtime, meta: Record<string, unknown>,
       for (const [id, series] of bySeries) series.forecasts.ahead(series.rows, count, withId(id, emit));
     },
     traces: (): ForecastTrace[] => [...bySeries.values()].flatMap((s) => s.forecasts.traces()),
-    level: forecastIntervals(meta, Array.isArray((meta.intervals as { halfWidth?: unknown[] } | undefined)?.halfWidth) ? (meta.intervals as { halfWidth: unknown[] }).halfWidth.length : 0)?.level ?? null,
+    level:
+      forecastIntervals(
+        meta,
+        Array.isArray((meta.intervals as { halfWidth?: unknown[] } | undefined)?.halfWidth) ? (meta.intervals as { halfWidth: unknown[] }).halfWidth.length : 0,
+      )?.level ?? null,
   };
 }
 

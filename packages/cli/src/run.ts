@@ -35,15 +35,23 @@ import { csvCell } from './terminal.js';
 export const runFlags: FlagSpec[] = [
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
   { name: 'keep', value: 'A,B', description: 'input columns to carry through to each output row (forecast, classify), such as a date' },
-  { name: 'ahead', value: 'ROWS', description: 'after the last row, forecast this many rows more: from the last row by a model forecasting every row up to its horizon at once (weft train --horizon on sliding windows), else each from the forecast before it (a model forecasting every column 1 row ahead)' },
+  {
+    name: 'ahead',
+    value: 'ROWS',
+    description:
+      'after the last row, forecast this many rows more: from the last row by a model forecasting every row up to its horizon at once (weft train --horizon on sliding windows), else each from the forecast before it (a model forecasting every column 1 row ahead)',
+  },
   { name: 'beam', value: 'WIDTH', description: 'beam search of this width instead of greedy decoding (pairs)', fallback: '1' },
   { name: 'attention-map', value: 'FILE.svg', description: 'draw the attention weights of the first output (pairs, with attention)' },
-  { name: 'plot', value: 'FILE.svg', description: 'draw each series\' values, the forecasts made for them and the band of the prediction intervals (forecast; the last 240 rows of each series)' },
+  {
+    name: 'plot',
+    value: 'FILE.svg',
+    description: "draw each series' values, the forecasts made for them and the band of the prediction intervals (forecast; the last 240 rows of each series)",
+  },
   { name: 'out', value: 'FILE', description: 'write here instead of standard output' },
   backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
-
 
 function softmax(row: ArrayLike<number>): number[] {
   let max = -Infinity;
@@ -53,14 +61,16 @@ function softmax(row: ArrayLike<number>): number[] {
   return e.map((v) => v / total);
 }
 
-
 /** Where output rows go: written as they come (CSV to a stream), or gathered (JSON, or a file written at the end). */
 class Output {
   private header: string[] | null = null;
   private readonly gathered: OutputRecord[] = [];
   private readonly chunks: string[] = [];
 
-  constructor(private readonly format: 'csv' | 'json', private readonly write: ((text: string) => void) | null) {}
+  constructor(
+    private readonly format: 'csv' | 'json',
+    private readonly write: ((text: string) => void) | null,
+  ) {}
 
   add(record: OutputRecord): void {
     if (this.format === 'json') {
@@ -84,8 +94,6 @@ class Output {
   }
 }
 
-
-
 /** Runs the model on the input; returns what is left to print (null when written to --out or already written). */
 export async function runModel(args: ParsedArgs, write: (text: string) => void = (text) => void process.stdout.write(text)): Promise<string | null> {
   const [modelPath, dataPath] = args.positional;
@@ -103,11 +111,17 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
     writeFileAtomic(outPath, text);
     return null;
   }
-  for (const flag of ['beam', 'attention-map']) if (args.flags.has(flag)) throw new CommandError(`--${flag} applies to encoder-decoders (weft train --task pairs); ${modelPath} is a sequence model`, 2);
+  for (const flag of ['beam', 'attention-map'])
+    if (args.flags.has(flag)) throw new CommandError(`--${flag} applies to encoder-decoders (weft train --task pairs); ${modelPath} is a sequence model`, 2);
   const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
   const meta = file.metadata as Record<string, unknown>;
   const output = new Output(format, outPath === undefined ? write : null);
-  const keep = args.flags.get('keep')?.split(',').map((s) => s.trim()).filter((s) => s !== '') ?? [];
+  const keep =
+    args.flags
+      .get('keep')
+      ?.split(',')
+      .map((s) => s.trim())
+      .filter((s) => s !== '') ?? [];
   if (keep.length > 0 && meta.task === 'next-token') throw new CommandError('--keep carries columns of a table; a next-token model reads text', 2);
 
   if (meta.task === 'classification' && typeof meta.idColumn === 'string') {
@@ -134,23 +148,35 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
     if (ahead > 0 && meta.task !== 'forecast') throw new CommandError('--ahead needs a forecast model', 2);
     const plot = args.flags.get('plot');
     if (plot !== undefined && meta.task !== 'forecast') throw new CommandError('--plot draws forecasts: it needs a forecast model', 2);
-    const forecast = meta.task !== 'forecast' ? null : meta.panel !== undefined ? seriesForecasts(runtime, meta, name, keep, ahead > 0, plot !== undefined) : rowForecasts(runtime, meta, name, keep, ahead > 0, plot === undefined ? null : '');
+    const forecast =
+      meta.task !== 'forecast'
+        ? null
+        : meta.panel !== undefined
+          ? seriesForecasts(runtime, meta, name, keep, ahead > 0, plot !== undefined)
+          : rowForecasts(runtime, meta, name, keep, ahead > 0, plot === undefined ? null : '');
     if (forecast !== null && ahead > 0) forecast.checkAhead(ahead);
     const each = forecast?.each ?? classifier(runtime, meta, name, keep);
     let row = 0;
     // JSON records are read whole (a record may span lines), then given row by row as a table is.
-    const records = fromStdin || !isJsonRecords('', dataPath) ? tableRecords(boundedLines(fromStdin ? process.stdin : createReadStream(dataPath), name), name) : jsonRows(readTable(utf8Text(readFileSync(dataPath), name), name));
+    const records =
+      fromStdin || !isJsonRecords('', dataPath)
+        ? tableRecords(boundedLines(fromStdin ? process.stdin : createReadStream(dataPath), name), name)
+        : jsonRows(readTable(utf8Text(readFileSync(dataPath), name), name));
     for await (const table of records) each(table, ++row, (record) => output.add(record));
     if (forecast !== null && ahead > 0) {
       if (row === 0) throw new CommandError(`${name}: no rows to forecast ahead from`);
       forecast.ahead(row, ahead, (record) => output.add(record));
     }
-    if (forecast !== null && plot !== undefined) writeFileAtomic(plot, forecastSvg(forecast.traces(), `weft run ${basename(modelPath)} on ${basename(name)}`, forecast.level));
+    if (forecast !== null && plot !== undefined)
+      writeFileAtomic(plot, forecastSvg(forecast.traces(), `weft run ${basename(modelPath)} on ${basename(name)}`, forecast.level));
   } else if (meta.task === 'next-token') {
     const text = utf8Text(fromStdin ? readFileSync(0) : readFileSync(dataPath), name);
     const translator = createTranslator(meta);
     const { ids, pieces, unknown } = translator.tokenIds(text);
-    if (unknown > 0) process.stderr.write(`weft: ${unknown} of ${pieces.length} ${meta.tokens === 'words' ? 'words' : 'characters'} of ${name} are not in the model's vocabulary; they are read as ${translator.tokenText(0)}\n`);
+    if (unknown > 0)
+      process.stderr.write(
+        `weft: ${unknown} of ${pieces.length} ${meta.tokens === 'words' ? 'words' : 'characters'} of ${name} are not in the model's vocabulary; they are read as ${translator.tokenText(0)}\n`,
+      );
     const streams = runtime.streams(1);
     const token = new Int32Array(1);
     pieces.forEach((piece, p) => {
@@ -158,10 +184,18 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
       const probabilities = softmax(streams.step(token));
       const best = indexOfLargest(probabilities);
       const actual = p + 1 < pieces.length ? ids[p + 1] : -1;
-      output.add({ position: p + 1, token: piece, 'most likely next': translator.tokenText(best), probability: Number(probabilities[best].toPrecision(4)), 'probability of actual next': actual < 0 ? '' : Number(probabilities[actual].toPrecision(4)) });
+      output.add({
+        position: p + 1,
+        token: piece,
+        'most likely next': translator.tokenText(best),
+        probability: Number(probabilities[best].toPrecision(4)),
+        'probability of actual next': actual < 0 ? '' : Number(probabilities[actual].toPrecision(4)),
+      });
     });
   } else {
-    throw new CommandError(`${modelPath}: its metadata names no task weft run knows (${JSON.stringify(meta.task)}); expected forecast, next-token or classification`);
+    throw new CommandError(
+      `${modelPath}: its metadata names no task weft run knows (${JSON.stringify(meta.task)}); expected forecast, next-token or classification`,
+    );
   }
   const rest = output.finish();
   if (outPath !== undefined) {
@@ -170,7 +204,6 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   }
   return rest === '' ? null : rest;
 }
-
 
 /** A table's rows one at a time, each as a table of that row alone (how tableRecords gives them). */
 function* jsonRows(table: Table): Generator<Table> {
@@ -191,7 +224,10 @@ function classifier(runtime: Runtime, meta: Record<string, unknown>, name: strin
       kept = columnsAt(table, keep, name, 'for --keep');
     }
     const r = table.rows[0];
-    const items = r.fields[column].trim().split(/\s+/).filter((s) => s !== '');
+    const items = r.fields[column]
+      .trim()
+      .split(/\s+/)
+      .filter((s) => s !== '');
     if (items.length === 0) fail('bad_data', fieldPath(table, 0, column), 'a sequence of at least one item', 'an empty field');
     const values = tokens
       ? translator.tokenIds(items.join(' ')).ids

@@ -24,7 +24,8 @@ export async function sampleText(args: ParsedArgs): Promise<string> {
   if (path === undefined) throw new CommandError('weft sample needs a weight file (see weft sample --help)', 2);
   const file = await loadWeightFile(path);
   const vocabulary = file.metadata.vocabulary;
-  if (file.metadata.task !== 'next-token' || vocabulary === undefined) throw new CommandError(`${path}: not a text model (its task is ${JSON.stringify(file.metadata.task)}); weft sample needs one trained on text`);
+  if (file.metadata.task !== 'next-token' || vocabulary === undefined)
+    throw new CommandError(`${path}: not a text model (its task is ${JSON.stringify(file.metadata.task)}); weft sample needs one trained on text`);
   const mode = file.metadata.tokens === 'words' ? 'words' : 'characters';
   const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
   const translator = createTranslator(file.metadata as Record<string, unknown>);
@@ -33,7 +34,9 @@ export async function sampleText(args: ParsedArgs): Promise<string> {
   const prefix = split === null ? [Math.min(1, vocabulary.length - 1)] : Array.from(split.ids);
   if (prefix.length === 0) throw new CommandError('--prefix must hold at least one token', 2);
   if (split !== null && split.unknown > 0) {
-    process.stderr.write(`weft: ${split.unknown} of ${split.pieces.length} ${mode} of --prefix are not in the model's vocabulary; the model reads them as ${translator.tokenText(0)}\n`);
+    process.stderr.write(
+      `weft: ${split.unknown} of ${split.pieces.length} ${mode} of --prefix are not in the model's vocabulary; the model reads them as ${translator.tokenText(0)}\n`,
+    );
   }
   const tokens = generateTokens(runtime, {
     prefix,

@@ -5,7 +5,30 @@
  * on its own end, and the means over series (panel.ts), the baselines' intervals pooled over series as in training.
  */
 import { fail } from '@weft/core';
-import { baselineErrors, baselineIntervals, createRowForecaster, createTranslator, fieldPath, forecastBaselines, forecastMissing, forecastPanel, forecastReport, forecastWords, insertSkippedTimes, missingTest, numberAt, panelReport, pooledBaselineWidths, readTable, readTimeColumn, scoreForecaster, scoreIntervals, seriesMetadata, seriesRows, withIntervals } from '@weft/io';
+import {
+  baselineErrors,
+  baselineIntervals,
+  createRowForecaster,
+  createTranslator,
+  fieldPath,
+  forecastBaselines,
+  forecastMissing,
+  forecastPanel,
+  forecastReport,
+  forecastWords,
+  insertSkippedTimes,
+  missingTest,
+  numberAt,
+  panelReport,
+  pooledBaselineWidths,
+  readTable,
+  readTimeColumn,
+  scoreForecaster,
+  scoreIntervals,
+  seriesMetadata,
+  seriesRows,
+  withIntervals,
+} from '@weft/io';
 import type { HeldOutReport, Table } from '@weft/io';
 import type { Runtime } from '@weft/io/runtime';
 import { scoredCount } from './scored-part.js';
@@ -32,17 +55,30 @@ function scoresSeason(meta: Record<string, unknown>): number | null {
 }
 
 /** The forecast report of a file: one series, or every series of a model of many. */
-export function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, season: number | null | undefined, part: ScoredPart): HeldOutReport {
+export function scoreForecast(
+  runtime: Runtime,
+  meta: Record<string, unknown>,
+  text: string,
+  name: string,
+  season: number | null | undefined,
+  part: ScoredPart,
+): HeldOutReport {
   const table = readTable(text, name);
   const panel = forecastPanel(meta);
   if (panel === null) return seriesScore(runtime, meta, table, name, season, part).withIntervals();
   const idAt = table.header.indexOf(panel.idColumn);
-  if (idAt < 0) throw new CommandError(`${name}: no column ${JSON.stringify(panel.idColumn)}, which names the series the model forecasts; the input has ${table.header.join(', ')}`);
+  if (idAt < 0)
+    throw new CommandError(
+      `${name}: no column ${JSON.stringify(panel.idColumn)}, which names the series the model forecasts; the input has ${table.header.join(', ')}`,
+    );
   const timeName = typeof meta.timeColumn === 'string' && table.header.includes(meta.timeColumn) ? meta.timeColumn : undefined;
   const groups = seriesRows(table, { index: idAt, name: panel.idColumn }, timeName === undefined ? null : readTimeColumn(table, timeName));
   const known = [...groups.keys()].filter((id) => panel.ids.includes(id));
   const unknown = [...groups.keys()].filter((id) => !panel.ids.includes(id));
-  if (known.length === 0) throw new CommandError(`${fieldPath(table, 0, idAt)}: none of the file's series is one the model was trained on (${panel.ids.slice(0, 6).join(', ')}${panel.ids.length > 6 ? ', …' : ''})`);
+  if (known.length === 0)
+    throw new CommandError(
+      `${fieldPath(table, 0, idAt)}: none of the file's series is one the model was trained on (${panel.ids.slice(0, 6).join(', ')}${panel.ids.length > 6 ? ', …' : ''})`,
+    );
   // Each series scored on its own part: its training run's test part (recorded per series) when this is the file trained on.
   const scores = known.map((id) => {
     const own = seriesMetadata(meta, id);
@@ -52,23 +88,54 @@ export function scoreForecast(runtime: Runtime, meta: Record<string, unknown>, t
     return seriesScore(runtime, own, { ...table, rows: groups.get(id)!.map((r) => table.rows[r]) }, name, shared, { ...part, split });
   });
   const level = scores[0].level;
-  const widths = level === null ? null : pooledBaselineWidths(scores.map((s) => s.baselineErrors()), scores.map((s) => s.scales), level);
+  const widths =
+    level === null
+      ? null
+      : pooledBaselineWidths(
+          scores.map((s) => s.baselineErrors()),
+          scores.map((s) => s.scales),
+          level,
+        );
   const reports = scores.map((s, i) => s.withIntervals(widths?.[i]));
-  const report = panelReport(known, reports, `each series' own scored part (${reports[0].what.replace(/, for .*$/, '')} in the first), ${known.length} series of ${name}`, [
-    ...(unknown.length === 0 ? [] : [`left out ${unknown.length} series the model was not trained on: ${unknown.slice(0, 5).map((id) => JSON.stringify(id)).join(', ')}${unknown.length > 5 ? ', …' : ''}`]),
-    ...(reports[0].context ?? []).filter((line) => line.startsWith('warning')),
-    `each series: ${reports[0].context?.find((line) => line.startsWith('the model'))?.replace(/; the baselines are fitted on .*$/, '') ?? 'the model runs through every row'}; the baselines are fitted on the rows before its scored ones`,
-    season !== undefined ? `season: ${season === null ? 'none' : `${season} rows`} (as asked)` : `season: ${typeof scoresSeason(meta) === 'number' ? `${scoresSeason(meta)} rows` : 'none'}, as in training (one for every series)`,
-  ]);
+  const report = panelReport(
+    known,
+    reports,
+    `each series' own scored part (${reports[0].what.replace(/, for .*$/, '')} in the first), ${known.length} series of ${name}`,
+    [
+      ...(unknown.length === 0
+        ? []
+        : [
+            `left out ${unknown.length} series the model was not trained on: ${unknown
+              .slice(0, 5)
+              .map((id) => JSON.stringify(id))
+              .join(', ')}${unknown.length > 5 ? ', …' : ''}`,
+          ]),
+      ...(reports[0].context ?? []).filter((line) => line.startsWith('warning')),
+      `each series: ${reports[0].context?.find((line) => line.startsWith('the model'))?.replace(/; the baselines are fitted on .*$/, '') ?? 'the model runs through every row'}; the baselines are fitted on the rows before its scored ones`,
+      season !== undefined
+        ? `season: ${season === null ? 'none' : `${season} rows`} (as asked)`
+        : `season: ${typeof scoresSeason(meta) === 'number' ? `${scoresSeason(meta)} rows` : 'none'}, as in training (one for every series)`,
+    ],
+  );
   return report;
 }
 
-function seriesScore(runtime: Runtime, meta: Record<string, unknown>, given: Table, name: string, season: number | null | undefined, part: ScoredPart): SeriesScore {
+function seriesScore(
+  runtime: Runtime,
+  meta: Record<string, unknown>,
+  given: Table,
+  name: string,
+  season: number | null | undefined,
+  part: ScoredPart,
+): SeriesScore {
   const translator = createTranslator(meta);
   // A model that takes missing readings reads the file as training did: skipped times put back as rows of missing
   // cells, and the markers read as missing (never scored).
   const missing = forecastMissing(meta, translator.inputNames.length);
-  const givenTime = missing === null ? null : readTimeColumn(given, typeof meta.timeColumn === 'string' && given.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
+  const givenTime =
+    missing === null
+      ? null
+      : readTimeColumn(given, typeof meta.timeColumn === 'string' && given.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
   const table = givenTime === null ? given : insertSkippedTimes(given, givenTime).table;
   const isMissing = missing === null ? null : missingTest(missing.markers);
   const at = translator.inputNames.map((c) => {
@@ -77,24 +144,32 @@ function seriesScore(runtime: Runtime, meta: Record<string, unknown>, given: Tab
     return i;
   });
   const horizon = Number(meta.horizon);
-  const values = table.rows.map((row, r) => at.map((c) => (isMissing !== null && isMissing(row.fields[c]) ? NaN : numberAt(table, r, c))));
+  const values = table.rows.map((row, r) => at.map((c) => (isMissing?.(row.fields[c]) ? NaN : numberAt(table, r, c))));
   const targets = translator.outputNames.map((t) => translator.inputNames.indexOf(t));
   const rows = values.length;
   if (rows < horizon + 4) throw new CommandError(`${name}: ${rows} rows are too few to score forecasts ${horizon} rows ahead`);
   const time = readTimeColumn(table, typeof meta.timeColumn === 'string' && table.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
   const { scored, warning, same } = scoredCount(rows, part, 'series', { all: 'rows', test: 'testRows', fitted: ['trainingRows', 'validationRows'] });
-  if (scored < horizon) fail('invalid_option', '--test', `a share leaving at least ${horizon} scored rows (the horizon) of the ${rows}`, `${part.share} (${scored} rows)`);
+  if (scored < horizon)
+    fail('invalid_option', '--test', `a share leaving at least ${horizon} scored rows (the horizon) of the ${rows}`, `${part.share} (${scored} rows)`);
   const testStart = rows - scored;
-  if (testStart < 3) fail('invalid_option', '--test', `a share leaving at least 3 rows to fit the baselines on, of the ${rows}`, `${part.share} (${testStart} rows)`);
+  if (testStart < 3)
+    fail('invalid_option', '--test', `a share leaving at least 3 rows to fit the baselines on, of the ${rows}`, `${part.share} (${testStart} rows)`);
   if (season !== undefined && season !== null && !(season < testStart)) {
-    fail('invalid_option', `${name}:${table.rows[testStart - 1].line}:1 (--season)`, `a season shorter than the ${testStart} rows before the scored ones, which end at this line`, String(season));
+    fail(
+      'invalid_option',
+      `${name}:${table.rows[testStart - 1].line}:1 (--season)`,
+      `a season shorter than the ${testStart} rows before the scored ones, which end at this line`,
+      String(season),
+    );
   }
   // The model's forecast made at every row, in real units (a stream's state running from the first row; a
   // windowed model's from the rows of its window).
   const forecaster = createRowForecaster(runtime, meta);
   const timeName = forecaster.readNames.length > forecaster.inputNames.length ? forecaster.readNames[forecaster.readNames.length - 1] : null;
   const timeAt = timeName === null ? -1 : table.header.indexOf(timeName);
-  if (timeName !== null && timeAt < 0) throw new CommandError(`${name}: no column ${JSON.stringify(timeName)}, the times the model reads its calendar inputs from`);
+  if (timeName !== null && timeAt < 0)
+    throw new CommandError(`${name}: no column ${JSON.stringify(timeName)}, the times the model reads its calendar inputs from`);
   const row: Record<string, number | string> = {};
   // forecasts[t][s × targets + k]: target k, rowsAhead[s] rows after row t (every row up to the horizon for a model
   // that forecasts them all at once).
@@ -107,7 +182,12 @@ function seriesScore(runtime: Runtime, meta: Record<string, unknown>, given: Tab
     return forecaster.nextInto(row, made, fieldPath(table, r, at[0])) ? made : null;
   });
   if (forecasts[rows - scored - horizon] === null || forecasts[rows - scored - rowsAhead[0]] === null) {
-    fail('invalid_option', '--test', `a share whose first scored row has the model's ${forecaster.warmUp} rows of window before it`, `${part.share ?? 'the recorded test part'} (${scored} of ${rows} rows)`);
+    fail(
+      'invalid_option',
+      '--test',
+      `a share whose first scored row has the model's ${forecaster.warmUp} rows of window before it`,
+      `${part.share ?? 'the recorded test part'} (${scored} of ${rows} rows)`,
+    );
   }
   const positions: number[] = [];
   for (let t = testStart - horizon; t < rows - horizon; t++) positions.push(t);
@@ -117,7 +197,12 @@ function seriesScore(runtime: Runtime, meta: Record<string, unknown>, given: Tab
   const step = (h: number) => rowsAhead.indexOf(h) * targets.length;
   const forecastAt = (t: number, k: number, h: number) => (forecasts[t] as Float64Array)[step(h) + k];
   const report = forecastReport({
-    what: `${forecastWords(positions.length, translator.outputNames, rowsAhead, positions.reduce((n, t) => n + targets.filter((j) => !Number.isNaN(values[t + horizon][j])).length, 0))}, for ${same ? 'the training run\'s test part, ' : ''}${lines} of ${name}`,
+    what: `${forecastWords(
+      positions.length,
+      translator.outputNames,
+      rowsAhead,
+      positions.reduce((n, t) => n + targets.filter((j) => !Number.isNaN(values[t + horizon][j])).length, 0),
+    )}, for ${same ? "the training run's test part, " : ''}${lines} of ${name}`,
     model: scoreForecaster(split, forecastAt, baselines.scales),
     baselines: baselines.scores,
     names: translator.outputNames,
@@ -137,8 +222,14 @@ function seriesScore(runtime: Runtime, meta: Record<string, unknown>, given: Tab
     scales: baselines.scales,
     baselineErrors: () => baselineErrors(split, baselines, from).map((errors, b) => ({ name: baselines.scores[b].name, errors })),
     // The model's own prediction intervals (recorded by weft train) and the baselines', scored on the same rows.
-    withIntervals: (baselineWidths) => (forecaster.intervals === null ? report
-      : withIntervals(report, scoreIntervals(split, forecastAt, forecaster.intervals, baselines.scales), baselineIntervals(split, baselines, forecaster.intervals.level, from, baselineWidths))),
+    withIntervals: (baselineWidths) =>
+      forecaster.intervals === null
+        ? report
+        : withIntervals(
+            report,
+            scoreIntervals(split, forecastAt, forecaster.intervals, baselines.scales),
+            baselineIntervals(split, baselines, forecaster.intervals.level, from, baselineWidths),
+          ),
     level: forecaster.intervals?.level ?? null,
   };
 }

@@ -12,8 +12,18 @@
  * `--format json` for scripts.
  */
 import { readData } from './train.js';
-import { Random, fail, indexOfLargest, logSumExp } from '@weft/core';
-import { chooseLogistic, classificationReport, createTranslator, fieldPath, parseTable, predictLogistic, readStepTable, sha256Hex, summaryFeatures, textBaselines } from '@weft/io';
+import { Random, fail, indexOfLargest } from '@weft/core';
+import {
+  chooseLogistic,
+  classificationReport,
+  createTranslator,
+  fieldPath,
+  parseTable,
+  predictLogistic,
+  readStepTable,
+  sha256Hex,
+  summaryFeatures,
+} from '@weft/io';
 import type { Table } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
@@ -22,33 +32,39 @@ import type { Runtime } from '@weft/io/runtime';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
-import { DEFAULT_SHARE, scoredCount, scoredItems } from './scored-part.js';
+import { DEFAULT_SHARE, scoredItems } from './scored-part.js';
 import type { ScoredPart } from './scored-part.js';
 import type { HeldOutReport } from './datasets.js';
 import { CommandError } from './errors.js';
 import { scoreTransduction } from './transduce.js';
 import { reportJson, reportLines } from '@weft/io';
 import { scoreForecast } from './score-forecast.js';
+import { logits, scoreText } from './score-text.js';
 
 export const scoreFlags: FlagSpec[] = [
   { name: 'format', value: 'text|json', description: 'plain text, or JSON for scripts', fallback: 'text' },
-  { name: 'season', value: 'ROWS|none', description: 'season for the seasonal baselines (forecast)', fallback: 'as weft train chooses it: the time column\'s spacing or the differences\' autocorrelation' },
-  { name: 'test', value: 'SHARE', description: 'share of the file scored (the end of a series or text, a seeded share of sequences); the rest fits the baselines', fallback: 'the training run\'s test part when this is its data file, else 0.2' },
+  {
+    name: 'season',
+    value: 'ROWS|none',
+    description: 'season for the seasonal baselines (forecast)',
+    fallback: "as weft train chooses it: the time column's spacing or the differences' autocorrelation",
+  },
+  {
+    name: 'test',
+    value: 'SHARE',
+    description: 'share of the file scored (the end of a series or text, a seeded share of sequences); the rest fits the baselines',
+    fallback: "the training run's test part when this is its data file, else 0.2",
+  },
   { name: 'label-column', value: 'NAME', description: 'label column of a classify CSV', fallback: 'label' },
   { name: 'beam', value: 'WIDTH', description: 'decode by beam search of this width (pairs)', fallback: '1' },
   backendFlag,
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
-function logits(row: ArrayLike<number>): { best: number; logSumExp: number } {
-  let best = 0;
-  for (let k = 1; k < row.length; k++) if (row[k] > row[best]) best = k;
-  return { best, logSumExp: logSumExp(row, 0, row.length) };
-}
-
 export async function score(args: ParsedArgs): Promise<string> {
   const [modelPath, dataPath] = args.positional;
-  if (modelPath === undefined || dataPath === undefined) throw new CommandError('weft score needs a weight file and a labelled data file (see weft score --help)', 2);
+  if (modelPath === undefined || dataPath === undefined)
+    throw new CommandError('weft score needs a weight file and a labelled data file (see weft score --help)', 2);
   if (args.positional.length > 2) throw new CommandError(`weft score takes a weight file and one data file, got ${args.positional.length} arguments`, 2);
   const format = choiceFlag(args, 'format', ['text', 'json'] as const, 'text');
   const text = readData(dataPath);
@@ -69,16 +85,27 @@ export async function score(args: ParsedArgs): Promise<string> {
   const meta = file.metadata as Record<string, unknown>;
   const season = args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined;
   const report =
-    meta.task === 'forecast' ? scoreForecast(runtime, meta, text, dataPath, season, part)
-      : meta.task === 'classification' ? scoreClassifier(runtime, meta, text, dataPath, args.flags.get('label-column') ?? 'label', part)
-        : meta.task === 'next-token' ? scoreText(runtime, meta, text, dataPath, part)
+    meta.task === 'forecast'
+      ? scoreForecast(runtime, meta, text, dataPath, season, part)
+      : meta.task === 'classification'
+        ? scoreClassifier(runtime, meta, text, dataPath, args.flags.get('label-column') ?? 'label', part)
+        : meta.task === 'next-token'
+          ? scoreText(runtime, meta, text, dataPath, part)
           : null;
-  if (report === null) throw new CommandError(`${modelPath}: its metadata names no task weft score knows (${JSON.stringify(meta.task)}); expected forecast, classification or next-token`);
+  if (report === null)
+    throw new CommandError(
+      `${modelPath}: its metadata names no task weft score knows (${JSON.stringify(meta.task)}); expected forecast, classification or next-token`,
+    );
   return format === 'json' ? `${JSON.stringify(reportJson(report), null, 2)}\n` : `${reportLines(report).join('\n')}\n`;
 }
 
 /** The class probabilities of every sequence of a long table (one step per row), in the order ids first appear. */
-export function classifyStepTable(runtime: Runtime, meta: Record<string, unknown>, table: Table, labelColumn?: string): { id: string; line: number; label: string | null; probabilities: number[]; steps: readonly (readonly number[])[] }[] {
+export function classifyStepTable(
+  runtime: Runtime,
+  meta: Record<string, unknown>,
+  table: Table,
+  labelColumn?: string,
+): { id: string; line: number; label: string | null; probabilities: number[]; steps: readonly (readonly number[])[] }[] {
   const translator = createTranslator(meta);
   const classes = translator.outputNames;
   const read = readStepTable(table, {
@@ -114,7 +141,10 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
     const results = classifyStepTable(runtime, meta, table, labelColumn);
     results.forEach((r) => {
       const k = classes.indexOf(r.label as string);
-      if (k < 0) throw new CommandError(`${name}:${r.line}:${table.rows.find((row) => row.line === r.line)?.starts[labelAt] ?? 1}: ${JSON.stringify((r.label ?? '').slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
+      if (k < 0)
+        throw new CommandError(
+          `${name}:${r.line}:${table.rows.find((row) => row.line === r.line)?.starts[labelAt] ?? 1}: ${JSON.stringify((r.label ?? '').slice(0, 80))} is not a class the model knows (${classes.join(', ')})`,
+        );
       let best = 0;
       for (let j = 1; j < r.probabilities.length; j++) if (r.probabilities[j] > r.probabilities[best]) best = j;
       items.push({ actual: k, predicted: best, features: summaryFeatures(r.steps.flat(), r.steps.length, translator.inputNames.length) });
@@ -124,21 +154,32 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
     const sequenceColumn = String(meta.sequenceColumn ?? 'sequence');
     const labelAt = table.header.indexOf(labelColumn);
     const sequenceAt = table.header.indexOf(sequenceColumn);
-    if (labelAt < 0 || sequenceAt < 0) throw new CommandError(`${name}: needs columns ${JSON.stringify(labelColumn)} and ${JSON.stringify(sequenceColumn)} to score; found ${table.header.join(', ')}`, 2);
+    if (labelAt < 0 || sequenceAt < 0)
+      throw new CommandError(
+        `${name}: needs columns ${JSON.stringify(labelColumn)} and ${JSON.stringify(sequenceColumn)} to score; found ${table.header.join(', ')}`,
+        2,
+      );
     const tokens = Array.isArray(meta.vocabulary) && meta.vocabulary.length > 0;
     const vocabulary = tokens ? (meta.vocabulary as unknown[]).length : 0;
     const norm = meta.normalisation as { mean: number[]; deviation: number[] } | undefined;
     table.rows.forEach((r, i) => {
       const label = r.fields[labelAt].trim();
       const k = classes.indexOf(label);
-      if (k < 0) throw new CommandError(`${fieldPath(table, i, labelAt)}: ${JSON.stringify(label.slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
-      const pieces = r.fields[sequenceAt].trim().split(/\s+/).filter((s) => s !== '');
+      if (k < 0)
+        throw new CommandError(`${fieldPath(table, i, labelAt)}: ${JSON.stringify(label.slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
+      const pieces = r.fields[sequenceAt]
+        .trim()
+        .split(/\s+/)
+        .filter((s) => s !== '');
       if (pieces.length === 0) fail('bad_data', fieldPath(table, i, sequenceAt), 'a sequence of at least one item', 'an empty field');
-      const raw = tokens ? null : pieces.map((s, j) => {
-        const v = Number(s);
-        if (!Number.isFinite(v)) throw new CommandError(`${fieldPath(table, i, sequenceAt)}: item ${j + 1} ${JSON.stringify(s.slice(0, 80))} is not a number`);
-        return v;
-      });
+      const raw = tokens
+        ? null
+        : pieces.map((s, j) => {
+            const v = Number(s);
+            if (!Number.isFinite(v))
+              throw new CommandError(`${fieldPath(table, i, sequenceAt)}: item ${j + 1} ${JSON.stringify(s.slice(0, 80))} is not a number`);
+            return v;
+          });
       const ids = tokens ? translator.tokenIds(pieces.join(' ')).ids : null;
       const input = ids ?? Float32Array.from(raw!, (v) => (v - (norm?.mean[0] ?? 0)) / (norm?.deviation[0] ?? 1));
       const out = runtime.run(input, pieces.length, 1);
@@ -151,8 +192,15 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
       items.push({ actual: k, predicted: logits(out.subarray((pieces.length - 1) * classes.length, pieces.length * classes.length)).best, features });
     });
   }
-  if (items.length < 3) throw new CommandError(`${name}: ${items.length} labelled sequences are too few to score beside baselines fitted on others (at least 3)`);
-  const { scored, warning, same } = scoredItems(items.length, part, 'sequences', { all: 'sequences', test: 'testSequences', fitted: ['trainingSequences', 'validationSequences'] }, (seed) => new Random(`${seed}:split`));
+  if (items.length < 3)
+    throw new CommandError(`${name}: ${items.length} labelled sequences are too few to score beside baselines fitted on others (at least 3)`);
+  const { scored, warning, same } = scoredItems(
+    items.length,
+    part,
+    'sequences',
+    { all: 'sequences', test: 'testSequences', fitted: ['trainingSequences', 'validationSequences'] },
+    (seed) => new Random(`${seed}:split`),
+  );
   const test = items.filter((_, i) => scored.has(i));
   const fit = items.filter((_, i) => !scored.has(i));
   // The baselines learn from the sequences not scored: the majority class, and the logistic regression with its
@@ -161,57 +209,49 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
   const majorityClass = indexOfLargest(counts);
   const learn = fit.filter((_, i) => i % 5 !== 4 || fit.length < 5);
   const check = fit.length < 5 ? fit : fit.filter((_, i) => i % 5 === 4);
-  const logistic = chooseLogistic(learn.map((q) => q.features), learn.map((q) => q.actual), check.map((q) => q.features), check.map((q) => q.actual), classes.length);
+  const logistic = chooseLogistic(
+    learn.map((q) => q.features),
+    learn.map((q) => q.actual),
+    check.map((q) => q.features),
+    check.map((q) => q.actual),
+    classes.length,
+  );
   const actual = test.map((q) => q.actual);
-  const scores = classificationReport(actual, test.map((q) => q.predicted), classes.length);
-  const majority = classificationReport(actual, actual.map(() => majorityClass), classes.length);
-  const regression = classificationReport(actual, test.map((q) => predictLogistic(logistic, q.features)), classes.length);
+  const scores = classificationReport(
+    actual,
+    test.map((q) => q.predicted),
+    classes.length,
+  );
+  const majority = classificationReport(
+    actual,
+    actual.map(() => majorityClass),
+    classes.length,
+  );
+  const regression = classificationReport(
+    actual,
+    test.map((q) => predictLogistic(logistic, q.features)),
+    classes.length,
+  );
   return {
     metric: 'accuracy',
     lowerIsBetter: false,
-    what: `${test.length} of the ${items.length} ${unit} of ${name}${same ? ', the training run\'s test part' : ', drawn at random'}`,
+    what: `${test.length} of the ${items.length} ${unit} of ${name}${same ? ", the training run's test part" : ', drawn at random'}`,
     model: { name: 'model', description: '', value: scores.accuracy, scores },
     baselines: [
-      { name: 'majority class', description: `always ${JSON.stringify(classes[majorityClass])}, the most common class of the ${fit.length} sequences not scored`, value: majority.accuracy, scores: majority },
-      { name: 'logistic regression', description: `on summary features of each sequence, fitted on the ${fit.length} sequences not scored (L2 penalty ${logistic.penalty})`, value: regression.accuracy, scores: regression },
+      {
+        name: 'majority class',
+        description: `always ${JSON.stringify(classes[majorityClass])}, the most common class of the ${fit.length} sequences not scored`,
+        value: majority.accuracy,
+        scores: majority,
+      },
+      {
+        name: 'logistic regression',
+        description: `on summary features of each sequence, fitted on the ${fit.length} sequences not scored (L2 penalty ${logistic.penalty})`,
+        value: regression.accuracy,
+        scores: regression,
+      },
     ],
     names: classes,
     context: warning === null ? [] : [warning],
   };
 }
-
-/** Tokens of warm-up before the first scored token: state only. */
-const WARM_UP = 256;
-
-function scoreText(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, part: ScoredPart): HeldOutReport {
-  const translator = createTranslator(meta);
-  const { ids, pieces, unknown } = translator.tokenIds(text);
-  if (ids.length < 10) throw new CommandError(`${name}: ${ids.length} tokens are too few to score beside baselines counted on the text before them (at least 10)`);
-  const { scored, warning, same } = scoredCount(ids.length, part, 'text', { all: 'tokens', test: 'testTokens', fitted: ['trainingTokens', 'validationTokens'] });
-  const testStart = ids.length - scored;
-  const streams = runtime.streams(1);
-  const token = new Int32Array(1);
-  let crossEntropy = 0;
-  for (let p = Math.max(0, testStart - 1 - WARM_UP); p + 1 < ids.length; p++) {
-    token[0] = ids[p];
-    const out = streams.step(token);
-    if (p + 1 >= testStart) crossEntropy += logits(out).logSumExp - out[ids[p + 1]];
-  }
-  const vocabulary = translator.outputNames.length;
-  // Baselines counted on the text before the scored part; the n-gram order chosen on its last fifth.
-  const most = meta.tokens === 'words' ? 3 : 6;
-  const judged = textBaselines(ids, Math.max(1, Math.round(testStart * 0.8)), testStart, vocabulary, most);
-  return {
-    metric: 'perplexity',
-    lowerIsBetter: true,
-    what: `the last ${scored} tokens of ${name}${same ? ' (the training run\'s test part)' : ''}, each predicted from those before it${unknown > 0 ? ` (${unknown} of ${pieces.length} pieces of the file not in the vocabulary, read as the unknown token)` : ''}`,
-    model: { name: 'model', description: '', value: Math.exp(crossEntropy / scored) },
-    baselines: [
-      { name: 'unigram', description: `each token as often as in the ${testStart} tokens before (add-one)`, value: judged.unigram },
-      { name: `${judged.order}-gram`, description: `interpolated Kneser-Ney, counted on the ${testStart} tokens before, order ${judged.order} of 1-${most} chosen on their last fifth`, value: judged.ngram },
-    ],
-    names: [],
-    context: warning === null ? [] : [warning],
-  };
-}
-

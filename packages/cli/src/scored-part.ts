@@ -23,7 +23,12 @@ export const DEFAULT_SHARE = 0.2;
  * How many of `count` items (rows, tokens, sequences) are scored: the training run's own test part when this is its
  * data file and nothing else is asked, else the share asked (default 0.2). `recorded` names the split's count fields.
  */
-export function scoredCount(count: number, part: ScoredPart, kind: string, fields: { all: string; test: string; fitted: string[] }): { scored: number; warning: string | null; same: boolean } {
+export function scoredCount(
+  count: number,
+  part: ScoredPart,
+  kind: string,
+  fields: { all: string; test: string; fitted: string[] },
+): { scored: number; warning: string | null; same: boolean } {
   const split = part.split;
   const recorded = split !== null && split.kind === kind && split[fields.all] === count && Number.isInteger(split[fields.test]);
   if (part.share === undefined && part.trainedOn && recorded) return { scored: split[fields.test] as number, warning: null, same: true };
@@ -34,16 +39,24 @@ export function scoredCount(count: number, part: ScoredPart, kind: string, field
   return {
     scored,
     same: false,
-    warning: overlap > 0 ? `warning: this is the file the model was trained on (the same SHA-256), and ${overlap} of the ${scored} scored ${kind === 'series' ? 'rows' : kind === 'text' ? 'tokens' : 'items'} were trained on or used for stopping: the model's figures are optimistic; leave out --test to score its own test part, or score new data` : null,
+    warning:
+      overlap > 0
+        ? `warning: this is the file the model was trained on (the same SHA-256), and ${overlap} of the ${scored} scored ${kind === 'series' ? 'rows' : kind === 'text' ? 'tokens' : 'items'} were trained on or used for stopping: the model's figures are optimistic; leave out --test to score its own test part, or score new data`
+        : null,
   };
 }
 
 /** Which of `count` sequences or pairs are scored: a seeded shuffle's first ones, as `weft train` drew its test part. */
-export function scoredItems(count: number, part: ScoredPart, kind: string, fields: { all: string; test: string; fitted: string[] }, seedOf: (seed: string) => Random): { scored: Set<number>; warning: string | null; same: boolean } {
+export function scoredItems(
+  count: number,
+  part: ScoredPart,
+  kind: string,
+  fields: { all: string; test: string; fitted: string[] },
+  seedOf: (seed: string) => Random,
+): { scored: Set<number>; warning: string | null; same: boolean } {
   const { scored, warning, same } = scoredCount(count, part, kind, fields);
   const seed = same && typeof part.split?.seed === 'string' ? part.split.seed : '1';
   const order = Array.from({ length: count }, (_, i) => i);
   seedOf(seed).shuffle(order);
   return { scored: new Set(order.slice(0, scored)), warning, same };
 }
-

@@ -72,7 +72,9 @@ export async function* tableRecords(lines: AsyncIterable<string>, file: string, 
     pending.push(raw);
     if (open) {
       if (pending.length > maxQuotedLines) {
-        throw new CommandError(`${file}:${openerLine}:${openerColumn}: a quote opened here is not closed within ${maxQuotedLines.toLocaleString('en')} lines (a stray quote?)`);
+        throw new CommandError(
+          `${file}:${openerLine}:${openerColumn}: a quote opened here is not closed within ${maxQuotedLines.toLocaleString('en')} lines (a stray quote?)`,
+        );
       }
       continue;
     }

@@ -23,10 +23,20 @@ export function checkedRow(value: unknown, all: readonly Combination[], file: st
     throw new CommandError(`${shown(file)}: a row that names no combination of the grid (index ${shown(JSON.stringify(index) ?? 'missing')})`);
   }
   const c = all[index];
-  if (JSON.stringify(row.flags) !== JSON.stringify(c.flags) || row.data !== c.data) throw new CommandError(`${shown(file)}: combination ${index} has other flags or data than the grid's (the grid changed: run the parts again)`);
+  if (JSON.stringify(row.flags) !== JSON.stringify(c.flags) || row.data !== c.data)
+    throw new CommandError(`${shown(file)}: combination ${index} has other flags or data than the grid's (the grid changed: run the parts again)`);
   const r = row.results as Partial<RunResults> | null | undefined;
   const number = (v: unknown) => v === null || (typeof v === 'number' && Number.isFinite(v));
-  const sound = r === null || (typeof r === 'object' && r !== undefined && typeof r.metric === 'string' && typeof r.lowerIsBetter === 'boolean' && typeof r.model === 'number' && number(r.validationLoss) && number(r.validationFigure ?? null) && typeof r.steps === 'number');
+  const sound =
+    r === null ||
+    (typeof r === 'object' &&
+      r !== undefined &&
+      typeof r.metric === 'string' &&
+      typeof r.lowerIsBetter === 'boolean' &&
+      typeof r.model === 'number' &&
+      number(r.validationLoss) &&
+      number(r.validationFigure ?? null) &&
+      typeof r.steps === 'number');
   if (!sound || !(row.error === null || typeof row.error === 'string') || (r === null) !== (row.error !== null)) {
     throw new CommandError(`${shown(file)}: combination ${index}: its results are not those weft train writes (changed by hand?)`);
   }
@@ -52,7 +62,8 @@ export function readPart(path: string, name: string, all: readonly Combination[]
     throw new CommandError(`${shown(name)}: not a part's results (${(error as Error).message})`);
   }
   const part = parsed as { grid?: unknown; rows?: unknown } | null;
-  if (typeof part !== 'object' || part === null || Array.isArray(part) || !Array.isArray(part.rows)) throw new CommandError(`${shown(name)}: not a part's results (expected an object with "grid" and "rows")`);
+  if (typeof part !== 'object' || part === null || Array.isArray(part) || !Array.isArray(part.rows))
+    throw new CommandError(`${shown(name)}: not a part's results (expected an object with "grid" and "rows")`);
   if (part.grid !== digest) throw new CommandError(`${shown(name)}: made from another grid (the grid changed since: run the parts again)`);
   return part.rows.map((row) => checkedRow(row, all, name));
 }

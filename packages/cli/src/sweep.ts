@@ -22,38 +22,21 @@ import { shown } from './terminal.js';
 import { trainFlags } from './train.js';
 import type { RunResults } from './results.js';
 import { gridDigest, readDone, readPart } from './sweep-parts.js';
+import type { Combination, SweepRow } from './sweep-types.js';
+
+export type { Combination, SweepRow } from './sweep-types.js';
 export { watchSweepParent } from './sweep-parts.js';
 
 export const sweepFlags: FlagSpec[] = [
-  { name: 'part', value: 'K/N', description: 'run only the K-th of N parts of the grid (for a cluster\'s job array)', fallback: '1/1' },
+  { name: 'part', value: 'K/N', description: "run only the K-th of N parts of the grid (for a cluster's job array)", fallback: '1/1' },
   { name: 'jobs', value: 'NUMBER', description: 'trainings at once', fallback: 'the cores this machine offers' },
   { name: 'folder', value: 'DIR', description: 'where weight files and results go', fallback: '<grid name>.sweep' },
-  { name: 'merge', switch: true, description: 'join the parts\' results in the folder into the table (every combination must be there)' },
+  { name: 'merge', switch: true, description: "join the parts' results in the folder into the table (every combination must be there)" },
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
 
 /** Flags a sweep sets itself for each combination, so a grid may not. */
 const reserved = new Set(['out', 'checkpoint', 'resume', 'start-over', 'quiet', 'results', 'debug', 'checkpoint-every']);
-
-/** One combination of the grid. */
-export interface Combination {
-  /** Its place in the grid's fixed order. */
-  readonly index: number;
-  /** The data file as the grid names it (relative to the grid file unless absolute). */
-  readonly data: string;
-  /** The data file's path from here. */
-  readonly path: string;
-  /** Flag values by name. */
-  readonly flags: Readonly<Record<string, string | number | boolean>>;
-}
-
-/** A combination with what its training gave (or the error that ended it). */
-export interface SweepRow extends Combination {
-  /** The run's results, or null when it failed. */
-  readonly results: RunResults | null;
-  /** Why it failed (the command's error line), or null. */
-  readonly error: string | null;
-}
 
 /** Reads and checks a grid file; every problem is a one-line error naming the file and the field. */
 export function readGrid(path: string): Combination[] {
@@ -74,24 +57,33 @@ export function readGrid(path: string): Combination[] {
   if (files.length === 0) throw new CommandError(`${shown(path)}: "data" names no file`);
   if (typeof flags !== 'object' || flags === null || Array.isArray(flags)) throw new CommandError(`${shown(path)}: "flags" must be an object of value lists`);
   const known = new Map(trainFlags.map((f) => [f.name, f]));
-  const lists = Object.keys(flags).sort().map((name) => {
-    const spec = known.get(name);
-    if (spec === undefined || reserved.has(name)) {
-      throw new CommandError(`${shown(path)}: flags.${name} is ${spec === undefined ? 'not a flag of weft train' : 'set by the sweep itself'} (see weft train --help)`);
-    }
-    const given = (flags as Record<string, unknown>)[name];
-    const values = Array.isArray(given) ? given : [given];
-    if (values.length === 0) throw new CommandError(`${shown(path)}: flags.${name} has an empty list of values`);
-    values.forEach((v, i) => {
-      const ok = spec.switch === true ? typeof v === 'boolean' : typeof v === 'string' || (typeof v === 'number' && Number.isFinite(v));
-      if (!ok) throw new CommandError(`${shown(path)}: flags.${name}[${i}] must be ${spec.switch === true ? 'true or false' : 'a number or text'}, got ${JSON.stringify(v)}`);
+  const lists = Object.keys(flags)
+    .sort()
+    .map((name) => {
+      const spec = known.get(name);
+      if (spec === undefined || reserved.has(name)) {
+        throw new CommandError(
+          `${shown(path)}: flags.${name} is ${spec === undefined ? 'not a flag of weft train' : 'set by the sweep itself'} (see weft train --help)`,
+        );
+      }
+      const given = (flags as Record<string, unknown>)[name];
+      const values = Array.isArray(given) ? given : [given];
+      if (values.length === 0) throw new CommandError(`${shown(path)}: flags.${name} has an empty list of values`);
+      values.forEach((v, i) => {
+        const ok = spec.switch === true ? typeof v === 'boolean' : typeof v === 'string' || (typeof v === 'number' && Number.isFinite(v));
+        if (!ok)
+          throw new CommandError(
+            `${shown(path)}: flags.${name}[${i}] must be ${spec.switch === true ? 'true or false' : 'a number or text'}, got ${JSON.stringify(v)}`,
+          );
+      });
+      return { name, values: values as (string | number | boolean)[] };
     });
-    return { name, values: values as (string | number | boolean)[] };
-  });
   // Counted before any is made: a few hundred bytes of grid can ask for 10⁸ runs.
   const count = lists.reduce((n, l) => n * l.values.length, files.length);
   if (count > MAX_COMBINATIONS) {
-    throw new CommandError(`${shown(path)}: ${count.toLocaleString('en')} combinations (${files.length} data file${files.length === 1 ? '' : 's'} × ${lists.map((l) => `${l.values.length} ${l.name}`).join(' × ')}); a grid may hold at most ${MAX_COMBINATIONS.toLocaleString('en')}: split it into grids of fewer values`);
+    throw new CommandError(
+      `${shown(path)}: ${count.toLocaleString('en')} combinations (${files.length} data file${files.length === 1 ? '' : 's'} × ${lists.map((l) => `${l.values.length} ${l.name}`).join(' × ')}); a grid may hold at most ${MAX_COMBINATIONS.toLocaleString('en')}: split it into grids of fewer values`,
+    );
   }
   const combinations: Combination[] = [];
   for (const file of files) {
@@ -111,7 +103,10 @@ export function partOf(text: string | undefined): [number, number] {
   const match = /^(\d+)\/(\d+)$/.exec(text.trim());
   const [k, n] = match === null ? [NaN, NaN] : [Number(match[1]), Number(match[2])];
   if (!(Number.isSafeInteger(k) && Number.isSafeInteger(n) && n >= 1 && k >= 1 && k <= n && n <= MAX_COMBINATIONS)) {
-    throw new CommandError(`--part must be K/N with 1 ≤ K ≤ N ≤ ${MAX_COMBINATIONS.toLocaleString('en')} (the K-th of N parts), got ${JSON.stringify(text)}`, 2);
+    throw new CommandError(
+      `--part must be K/N with 1 ≤ K ≤ N ≤ ${MAX_COMBINATIONS.toLocaleString('en')} (the K-th of N parts), got ${JSON.stringify(text)}`,
+      2,
+    );
   }
   return [k, n];
 }
@@ -141,7 +136,10 @@ const command = fileURLToPath(new URL('./main.js', import.meta.url));
 function trainOne(c: Combination, folder: string): Promise<SweepRow> {
   return new Promise((done) => {
     // The child ends itself when this process is gone (killed, even with SIGKILL): see watchSweepParent.
-    const child = spawn(process.execPath, [command, ...trainArguments(c, folder)], { stdio: ['ignore', 'ignore', 'pipe'], env: { ...process.env, WEFT_SWEEP_PARENT: String(process.pid) } });
+    const child = spawn(process.execPath, [command, ...trainArguments(c, folder)], {
+      stdio: ['ignore', 'ignore', 'pipe'],
+      env: { ...process.env, WEFT_SWEEP_PARENT: String(process.pid) },
+    });
     let stderr = '';
     child.stderr.on('data', (chunk: Buffer) => (stderr += chunk.toString()));
     child.on('close', (code) => {
@@ -164,7 +162,8 @@ function trainOne(c: Combination, folder: string): Promise<SweepRow> {
 export function ranked(rows: readonly SweepRow[]): SweepRow[] {
   const key = (r: SweepRow): [number, number] => {
     if (r.results === null) return [3, 0];
-    if (r.results.validationFigure !== null && r.results.validationFigure !== undefined) return [0, r.results.lowerIsBetter ? r.results.validationFigure : -r.results.validationFigure];
+    if (r.results.validationFigure !== null && r.results.validationFigure !== undefined)
+      return [0, r.results.lowerIsBetter ? r.results.validationFigure : -r.results.validationFigure];
     return [r.results.validationLoss === null ? 2 : 1, r.results.validationLoss ?? 0];
   };
   return [...rows].sort((a, b) => {
@@ -177,22 +176,57 @@ export function ranked(rows: readonly SweepRow[]): SweepRow[] {
 /** The table as CSV, every figure written in full (so tables from parts and from one process compare exactly). */
 export function tableCsv(rows: readonly SweepRow[]): string {
   const flagNames = [...new Set(rows.flatMap((r) => Object.keys(r.flags)))].sort();
-  const lines = [['rank', 'index', 'data', ...flagNames, 'validation loss', 'metric', 'validation figure', 'test figure', 'best baseline', 'baseline test figure', 'steps', 'error'].join(',')];
+  const lines = [
+    [
+      'rank',
+      'index',
+      'data',
+      ...flagNames,
+      'validation loss',
+      'metric',
+      'validation figure',
+      'test figure',
+      'best baseline',
+      'baseline test figure',
+      'steps',
+      'error',
+    ].join(','),
+  ];
   ranked(rows).forEach((r, i) => {
     const q = (v: unknown) => (typeof v === 'string' && /[",\n]/.test(v) ? `"${v.replace(/"/g, '""')}"` : String(v ?? ''));
-    lines.push([i + 1, r.index, q(r.data), ...flagNames.map((f) => q(r.flags[f])), q(r.results?.validationLoss), q(r.results?.metric), q(r.results?.validationFigure), q(r.results?.model),
-      q(r.results?.bestBaseline?.name), q(r.results?.bestBaseline?.value), q(r.results?.steps), q(r.error)].join(','));
+    lines.push(
+      [
+        i + 1,
+        r.index,
+        q(r.data),
+        ...flagNames.map((f) => q(r.flags[f])),
+        q(r.results?.validationLoss),
+        q(r.results?.metric),
+        q(r.results?.validationFigure),
+        q(r.results?.model),
+        q(r.results?.bestBaseline?.name),
+        q(r.results?.bestBaseline?.value),
+        q(r.results?.steps),
+        q(r.error),
+      ].join(','),
+    );
   });
   return `${lines.join('\n')}\n`;
 }
 
 function readable(rows: readonly SweepRow[]): string {
-  return ranked(rows).map((r, i) => {
-    const flags = Object.entries(r.flags).map(([k, v]) => `--${k} ${String(v)}`).join(' ');
-    const figure = r.results === null ? `failed: ${r.error ?? ''}`
-      : `validation ${r.results.metric} ${r.results.validationFigure?.toPrecision(4) ?? '—'} (loss ${r.results.validationLoss?.toPrecision(4) ?? '—'}), test ${r.results.metric} ${r.results.model.toPrecision(4)}${r.results.bestBaseline === null ? '' : ` (best baseline ${r.results.bestBaseline.name} ${r.results.bestBaseline.value.toPrecision(4)})`}`;
-    return `${String(i + 1).padStart(3)}. c${r.index} ${shown(r.data.split(/[\\/]/).at(-1) ?? r.data)} ${shown(flags)}: ${shown(figure)}`;
-  }).join('\n');
+  return ranked(rows)
+    .map((r, i) => {
+      const flags = Object.entries(r.flags)
+        .map(([k, v]) => `--${k} ${String(v)}`)
+        .join(' ');
+      const figure =
+        r.results === null
+          ? `failed: ${r.error ?? ''}`
+          : `validation ${r.results.metric} ${r.results.validationFigure?.toPrecision(4) ?? '—'} (loss ${r.results.validationLoss?.toPrecision(4) ?? '—'}), test ${r.results.metric} ${r.results.model.toPrecision(4)}${r.results.bestBaseline === null ? '' : ` (best baseline ${r.results.bestBaseline.name} ${r.results.bestBaseline.value.toPrecision(4)})`}`;
+      return `${String(i + 1).padStart(3)}. c${r.index} ${shown(r.data.split(/[\\/]/).at(-1) ?? r.data)} ${shown(flags)}: ${shown(figure)}`;
+    })
+    .join('\n');
 }
 
 export async function sweep(args: ParsedArgs): Promise<{ text: string; failed: boolean }> {
@@ -204,14 +238,19 @@ export async function sweep(args: ParsedArgs): Promise<{ text: string; failed: b
     if (!existsSync(folder)) throw new CommandError(`${shown(folder)}: no such folder (run the parts first)`);
     const seen = new Map<number, SweepRow>();
     const digest = await gridDigest(all);
-    for (const name of readdirSync(folder).filter((f) => /^part-\d+-of-\d+\.json$/.test(f)).sort()) {
+    for (const name of readdirSync(folder)
+      .filter((f) => /^part-\d+-of-\d+\.json$/.test(f))
+      .sort()) {
       for (const row of readPart(join(folder, name), name, all, digest)) {
         if (seen.has(row.index)) throw new CommandError(`${shown(name)}: combination ${row.index} is in two parts' results`);
         seen.set(row.index, row);
       }
     }
     const missing = all.filter((c) => !seen.has(c.index)).map((c) => c.index);
-    if (missing.length > 0) throw new CommandError(`${shown(folder)}: no results for combination${missing.length === 1 ? '' : 's'} ${missing.join(', ')} of ${all.length} (run the missing parts)`);
+    if (missing.length > 0)
+      throw new CommandError(
+        `${shown(folder)}: no results for combination${missing.length === 1 ? '' : 's'} ${missing.join(', ')} of ${all.length} (run the missing parts)`,
+      );
     const rows = all.map((c) => seen.get(c.index) as SweepRow);
     writeFileAtomic(join(folder, 'table.csv'), tableCsv(rows));
     return { text: `${readable(rows)}\ntable: ${join(folder, 'table.csv')}`, failed: rows.some((r) => r.results === null) };
@@ -243,7 +282,10 @@ export async function sweep(args: ParsedArgs): Promise<{ text: string; failed: b
   await Promise.all(Array.from({ length: Math.min(jobs, mine.length) }, worker));
   rows.sort((a, b) => a.index - b.index);
   writeFileAtomic(join(folder, `part-${k}-of-${n}.json`), `${JSON.stringify({ grid: digest, part: [k, n], rows }, null, 1)}\n`);
-  const lines = [`part ${k} of ${n}: ${mine.length} of ${all.length} combinations, ${Math.min(jobs, Math.max(1, mine.length))} at a time${reused > 0 ? ` (${reused} finished by an earlier run of this grid, not trained again)` : ''}`, readable(rows)];
+  const lines = [
+    `part ${k} of ${n}: ${mine.length} of ${all.length} combinations, ${Math.min(jobs, Math.max(1, mine.length))} at a time${reused > 0 ? ` (${reused} finished by an earlier run of this grid, not trained again)` : ''}`,
+    readable(rows),
+  ];
   if (n === 1) {
     writeFileAtomic(join(folder, 'table.csv'), tableCsv(rows));
     lines.push(`table: ${join(folder, 'table.csv')}`);

@@ -15,7 +15,7 @@ export const LONGEST_LINE = MAX_LINE + 40;
 // C0 and C1 controls, DEL, the line and paragraph separators, and the bidirectional overrides and isolates.
 const unsafe = /[\u0000-\u001f\u007f-\u009f\u2028\u2029\u202a-\u202e\u2066-\u2069]/g;
 
-function escape(character: string): string {
+function escapeCharacter(character: string): string {
   const named: Record<string, string> = { '\n': '\\n', '\r': '\\r', '\t': '\\t' };
   return named[character] ?? `\\u{${character.codePointAt(0)!.toString(16)}}`;
 }
@@ -23,7 +23,7 @@ function escape(character: string): string {
 /** `text` safe to print: control characters escaped, cut to `max` characters with a count of what was left out. */
 export function shown(text: string, max = MAX_VALUE): string {
   const cut = text.length > max ? text.slice(0, max) : text;
-  const safe = cut.replace(unsafe, escape);
+  const safe = cut.replace(unsafe, escapeCharacter);
   return text.length > max ? `${safe}… (${text.length - max} more characters)` : safe;
 }
 
@@ -32,7 +32,7 @@ export function shown(text: string, max = MAX_VALUE): string {
  * tab, line feed and carriage return, which a quoted CSV field holds as they are; nothing cut.
  */
 export function dataText(text: string): string {
-  return text.replace(unsafe, (c) => (c === '\t' || c === '\n' || c === '\r' ? c : escape(c)));
+  return text.replace(unsafe, (c) => (c === '\t' || c === '\n' || c === '\r' ? c : escapeCharacter(c)));
 }
 
 /** A CSV cell of output: a number as it is, text with its control characters escaped (dataText) and quoted where CSV needs it (RFC 4180). */

@@ -56,6 +56,8 @@ export function utf8Text(bytes: Uint8Array, name: string): string {
         column = 1;
       } else if ((bytes[i] & 0xc0) !== 0x80) column++;
     }
-    throw new CommandError(`${name}:${line}:${column}: expected UTF-8 text, received the byte 0x${bytes[at].toString(16).padStart(2, '0')} (save the file as UTF-8)`);
+    throw new CommandError(
+      `${name}:${line}:${column}: expected UTF-8 text, received the byte 0x${bytes[at].toString(16).padStart(2, '0')} (save the file as UTF-8)`,
+    );
   }
 }

@@ -16,7 +16,8 @@ import { numberFlag } from './args.js';
 import { attentionMapSvg } from './attention-map.js';
 import { chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
-import { checkSourceLength, decodeText, readPairs, sourceIds, textOf, tokensOf, transductionMeta, transductionReport } from './pairs.js';
+import { checkSourceLength, readPairs, textOf, tokensOf } from './pairs.js';
+import { decodeText, sourceIds, transductionMeta, transductionReport } from './transduction.js';
 import { csvCell } from './terminal.js';
 import type { TransductionMeta } from './pairs.js';
 import type { HeldOutReport } from './datasets.js';
@@ -32,7 +33,13 @@ async function open(file: WeightFile, args: ParsedArgs, path: string): Promise<{
 /** The sources of `text`: the source column of a pairs CSV whose header names it, else every non-empty line. */
 function sourcesOf(text: string, name: string, meta: TransductionMeta): { sources: string[][]; lines: string[] } {
   const first = text.split(/\r?\n/, 1)[0].trim();
-  if (first === meta.sourceColumn || first.split(/[,\t;]/).map((h) => h.trim()).includes(meta.sourceColumn)) {
+  if (
+    first === meta.sourceColumn ||
+    first
+      .split(/[,\t;]/)
+      .map((h) => h.trim())
+      .includes(meta.sourceColumn)
+  ) {
     const table = parseTable(text, { file: name });
     const at = table.header.indexOf(meta.sourceColumn);
     const lines = table.rows.map((r) => r.fields[at].trim());
@@ -43,7 +50,10 @@ function sourcesOf(text: string, name: string, meta: TransductionMeta): { source
     sources.forEach((source, r) => checkSourceLength(source.length, fieldPath(table, r, at), meta.tokens));
     return { sources, lines };
   }
-  const numbered = text.split(/\r?\n/).map((l, i) => ({ line: l.trim(), at: i + 1 })).filter((l) => l.line !== '');
+  const numbered = text
+    .split(/\r?\n/)
+    .map((l, i) => ({ line: l.trim(), at: i + 1 }))
+    .filter((l) => l.line !== '');
   const sources = numbered.map((l) => {
     const source = tokensOf(l.line, meta.tokens);
     checkSourceLength(source.length, `${name}:${l.at}:1`, meta.tokens);
@@ -52,9 +62,15 @@ function sourcesOf(text: string, name: string, meta: TransductionMeta): { source
   return { sources, lines: numbered.map((l) => l.line) };
 }
 
-
 /** `weft run` on a transduction model: each source's output, as CSV (source,output) or JSON. */
-export async function runTransduction(file: WeightFile, args: ParsedArgs, modelPath: string, text: string, name: string, format: 'csv' | 'json'): Promise<string> {
+export async function runTransduction(
+  file: WeightFile,
+  args: ParsedArgs,
+  modelPath: string,
+  text: string,
+  name: string,
+  format: 'csv' | 'json',
+): Promise<string> {
   const { runtime, meta, beam } = await open(file, args, modelPath);
   const { sources, lines } = sourcesOf(text, name, meta);
   if (sources.length === 0) throw new CommandError(`${name}: no sources to run (one per line, or a CSV with a ${JSON.stringify(meta.sourceColumn)} column)`);
@@ -80,15 +96,35 @@ export async function runTransduction(file: WeightFile, args: ParsedArgs, modelP
 /** `weft score` on a transduction model: exact match, token accuracy and BLEU on a pairs file, beside copying and the most frequent training target (recorded in the weight file). */
 export async function scoreTransduction(file: WeightFile, args: ParsedArgs, modelPath: string, dataPath: string, part: ScoredPart): Promise<HeldOutReport> {
   const { runtime, meta, beam } = await open(file, args, modelPath);
-  const pairs = readPairs(readFileSync(dataPath, 'utf8'), dataPath, { sourceColumn: meta.sourceColumn, targetColumn: meta.targetColumn, tokens: meta.tokens, maxTarget: Number.MAX_SAFE_INTEGER });
+  const pairs = readPairs(readFileSync(dataPath, 'utf8'), dataPath, {
+    sourceColumn: meta.sourceColumn,
+    targetColumn: meta.targetColumn,
+    tokens: meta.tokens,
+    maxTarget: Number.MAX_SAFE_INTEGER,
+  });
   const recorded = file.metadata.mostFrequentTarget;
   const mostFrequent = Array.isArray(recorded) && recorded.every((t) => typeof t === 'string') ? (recorded as string[]) : null;
   // Every pair is scored, unless this is the file trained on: then the training run's own test part (or --test).
   const count = pairs.sources.length;
-  const chosen = part.trainedOn || part.share !== undefined
-    ? scoredItems(count, part, 'pairs', { all: 'pairs', test: 'testPairs', fitted: ['trainingPairs', 'validationPairs'] }, (seed) => new Random(`pairs:${seed}`))
-    : null;
+  const chosen =
+    part.trainedOn || part.share !== undefined
+      ? scoredItems(
+          count,
+          part,
+          'pairs',
+          { all: 'pairs', test: 'testPairs', fitted: ['trainingPairs', 'validationPairs'] },
+          (seed) => new Random(`pairs:${seed}`),
+        )
+      : null;
   const keep = (_: unknown, i: number) => chosen === null || chosen.scored.has(i);
-  const report = transductionReport(runtime, meta, pairs.sources.filter(keep), pairs.targets.filter(keep), `${chosen === null ? count : chosen.scored.size} pairs of ${dataPath}${chosen?.same ? ', the training run\'s test part' : ''}`, beam, mostFrequent);
+  const report = transductionReport(
+    runtime,
+    meta,
+    pairs.sources.filter(keep),
+    pairs.targets.filter(keep),
+    `${chosen === null ? count : chosen.scored.size} pairs of ${dataPath}${chosen?.same ? ", the training run's test part" : ''}`,
+    beam,
+    mostFrequent,
+  );
   return chosen?.warning ? { ...report, context: [chosen.warning] } : report;
 }

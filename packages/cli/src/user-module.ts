@@ -30,10 +30,14 @@ async function tsxImporter(file: string): Promise<((specifier: string, parent: s
     } catch {
       continue; // Not installed there: try the next place.
     }
-    const exported = (JSON.parse(readFileSync(manifest, 'utf8')) as { exports?: Record<string, { import?: { default?: string } | string }> }).exports?.['./esm/api']?.import;
+    const exported = (JSON.parse(readFileSync(manifest, 'utf8')) as { exports?: Record<string, { import?: { default?: string } | string }> }).exports?.[
+      './esm/api'
+    ]?.import;
     const target = typeof exported === 'string' ? exported : exported?.default;
     if (target === undefined) continue;
-    const loaded = (await import(pathToFileURL(join(dirname(manifest), target)).href)) as { tsImport?: (specifier: string, parent: string) => Promise<unknown> };
+    const loaded = (await import(pathToFileURL(join(dirname(manifest), target)).href)) as {
+      tsImport?: (specifier: string, parent: string) => Promise<unknown>;
+    };
     if (typeof loaded.tsImport === 'function') return loaded.tsImport;
   }
   return null;
@@ -48,7 +52,9 @@ export async function loadUserModule(path: string): Promise<Record<string, unkno
     if (!TYPESCRIPT.test(file) || nodeStripsTypes()) return (await import(url)) as Record<string, unknown>;
     const tsImport = await tsxImporter(file);
     if (tsImport === null) {
-      throw new CommandError(`${path}: a TypeScript module needs Node 22.18 or later (it strips the types itself; this is Node ${process.version}), or tsx installed beside it (npm install --save-dev tsx); or compile it to JavaScript first`);
+      throw new CommandError(
+        `${path}: a TypeScript module needs Node 22.18 or later (it strips the types itself; this is Node ${process.version}), or tsx installed beside it (npm install --save-dev tsx); or compile it to JavaScript first`,
+      );
     }
     return (await tsImport(url, url)) as Record<string, unknown>;
   } catch (error) {
@@ -63,10 +69,20 @@ export async function loadUserModule(path: string): Promise<Record<string, unkno
  */
 export function makerExport<T extends (...args: never[]) => unknown>(loaded: Record<string, unknown>, path: string, name: string, expected: string): T {
   const maker = loaded[name];
-  if (maker === undefined) throw new CommandError(`${path}: no export ${JSON.stringify(name)} (it exports ${Object.keys(loaded).map((k) => JSON.stringify(k)).join(', ') || 'nothing'}); name one with --export`);
-  if (typeof maker !== 'function') throw new CommandError(`${path}: export ${JSON.stringify(name)} is ${maker === null ? 'null' : typeof maker}, not a function ${expected}`);
+  if (maker === undefined)
+    throw new CommandError(
+      `${path}: no export ${JSON.stringify(name)} (it exports ${
+        Object.keys(loaded)
+          .map((k) => JSON.stringify(k))
+          .join(', ') || 'nothing'
+      }); name one with --export`,
+    );
+  if (typeof maker !== 'function')
+    throw new CommandError(`${path}: export ${JSON.stringify(name)} is ${maker === null ? 'null' : typeof maker}, not a function ${expected}`);
   if (/^class[\s{]/.test(Function.prototype.toString.call(maker))) {
-    throw new CommandError(`${path}: export ${JSON.stringify(name)} is a class; export a function ${expected} that makes one (for example (request) => new ${maker.name || 'YourCell'}(request))`);
+    throw new CommandError(
+      `${path}: export ${JSON.stringify(name)} is a class; export a function ${expected} that makes one (for example (request) => new ${maker.name || 'YourCell'}(request))`,
+    );
   }
   return maker as T;
 }

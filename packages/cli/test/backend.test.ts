@@ -25,22 +25,45 @@ async function demoRun(backend: 'javascript' | 'webassembly'): Promise<{ heldOut
   const lines: string[] = [];
   // The demo's flags on a short budget (the demo chooses its epochs from the data): sliding windows over every row
   // ahead up to 8, two epochs, the plain model alone (the demo also tries the hybrid).
-  const flags = ['--target', 'air_temperature_c', '--horizon', '8', '--cell', 'gru', '--epochs', '2', '--hybrid', 'no', '--validation', '0.15', '--backend', backend, '--out', join(folder, `${backend}.weft.json`)];
+  const flags = [
+    '--target',
+    'air_temperature_c',
+    '--horizon',
+    '8',
+    '--cell',
+    'gru',
+    '--epochs',
+    '2',
+    '--hybrid',
+    'no',
+    '--validation',
+    '0.15',
+    '--backend',
+    backend,
+    '--out',
+    join(folder, `${backend}.weft.json`),
+  ];
   const outcome = await train(parseArgs('train', [data, ...flags], trainFlags), (line) => lines.push(line));
   return { heldOut: outcome.heldOut.model.value, first: lines.find((l) => l.startsWith('training a ')) ?? '' };
 }
 
 describe('weft train --backend', () => {
-  it.skipIf(webAssemblyUnavailable() !== null)('trains the demo to held-out errors within 2% of each other on the two backends', async () => {
-    const wasm = await demoRun('webassembly');
-    const js = await demoRun('javascript');
-    console.log(`demo held-out MAE: webassembly ${wasm.heldOut}, javascript ${js.heldOut}`);
-    expect(wasm.first).toMatch(/, webassembly backend, this thread$/);
-    expect(js.first).toMatch(/, javascript backend, this thread$/);
-    expect(Math.abs(wasm.heldOut - js.heldOut) / js.heldOut).toBeLessThan(0.02);
-  }, 120_000);
+  it.skipIf(webAssemblyUnavailable() !== null)(
+    'trains the demo to held-out errors within 2% of each other on the two backends',
+    async () => {
+      const wasm = await demoRun('webassembly');
+      const js = await demoRun('javascript');
+      console.log(`demo held-out MAE: webassembly ${wasm.heldOut}, javascript ${js.heldOut}`);
+      expect(wasm.first).toMatch(/, webassembly backend, this thread$/);
+      expect(js.first).toMatch(/, javascript backend, this thread$/);
+      expect(Math.abs(wasm.heldOut - js.heldOut) / js.heldOut).toBeLessThan(0.02);
+    },
+    120_000,
+  );
 
   it('refuses a backend that does not exist, naming the choices', () => {
-    expect(() => chooseBackend(parseArgs('train', ['x.csv', '--backend', 'gpu'], trainFlags))).toThrowError('--backend must be one of javascript, webassembly, got "gpu"');
+    expect(() => chooseBackend(parseArgs('train', ['x.csv', '--backend', 'gpu'], trainFlags))).toThrowError(
+      '--backend must be one of javascript, webassembly, got "gpu"',
+    );
   });
 });

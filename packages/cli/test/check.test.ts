@@ -22,7 +22,12 @@ describe('weft check', () => {
   it('prints only the result line of a passing check under --quiet, and still the report of a failing one', () => {
     const quiet = weft(['check', '--quiet']);
     expect(quiet.code).toBe(0);
-    expect(quiet.out).toBe('all 10 gradient checks passed (backend webassembly; finite differences in f64 run on the JavaScript kernels on every backend)\n'.replace('webassembly', process.env.WEFT_BACKEND ?? 'webassembly'));
+    expect(quiet.out).toBe(
+      'all 10 gradient checks passed (backend webassembly; finite differences in f64 run on the JavaScript kernels on every backend)\n'.replace(
+        'webassembly',
+        process.env.WEFT_BACKEND ?? 'webassembly',
+      ),
+    );
     const broken = weft(['check', '--quiet', '--module', join(fixtures, 'broken-cell.mjs')]);
     expect(broken.code).toBe(1);
     expect(broken.out).toMatch(/FAIL recurrent \[4, 4\]/);
@@ -34,13 +39,14 @@ describe('the gradient check of the built-in cells at larger sizes, and of delib
   const cells = async () => {
     const { GruCell, LstmCell, PlainCell } = await import('@weft/cells');
     const base = (hidden: number) => ({ inputWidth: 3, hidden, dtype: 'f64' as const });
-    return (hidden: number) => [
-      ['LSTM', new LstmCell({ ...base(hidden), random: 1 })],
-      ['LSTM with peepholes', new LstmCell({ ...base(hidden), random: 2, peepholes: true })],
-      ['GRU', new GruCell({ ...base(hidden), random: 3 })],
-      ['GRU, reset after', new GruCell({ ...base(hidden), random: 4, resetAfterProduct: true })],
-      ['plain', new PlainCell({ ...base(hidden), random: 5 })],
-    ] as const;
+    return (hidden: number) =>
+      [
+        ['LSTM', new LstmCell({ ...base(hidden), random: 1 })],
+        ['LSTM with peepholes', new LstmCell({ ...base(hidden), random: 2, peepholes: true })],
+        ['GRU', new GruCell({ ...base(hidden), random: 3 })],
+        ['GRU, reset after', new GruCell({ ...base(hidden), random: 4, resetAfterProduct: true })],
+        ['plain', new PlainCell({ ...base(hidden), random: 5 })],
+      ] as const;
   };
 
   it('passes every built-in cell at H ∈ {8, 32, 64} and T ∈ {5, 20, 50} in f64, saying which entries needed which rule', async () => {
@@ -52,8 +58,14 @@ describe('the gradient check of the built-in cells at larger sizes, and of delib
         const entries = hidden === 8 && steps === 5 ? {} : { entriesPerTensor: 40 };
         for (const [name, cell] of make(hidden)) {
           const report = checkCell(cell, { steps, seed: `${name} ${hidden} ${steps}`, ...entries });
-          const rules = report.tensors.reduce((n, t) => [n[0] + t.passedByNoise.length, n[1] + t.passedByExtrapolation.length, n[2] + t.passedByFloor.length], [0, 0, 0]);
-          if (rules.some((n) => n > 0)) console.log(`${name}, H ${hidden}, T ${steps}: ${rules[0]} entries within the rounding noise, ${rules[1]} once extrapolated, ${rules[2]} by the floor`);
+          const rules = report.tensors.reduce(
+            (n, t) => [n[0] + t.passedByNoise.length, n[1] + t.passedByExtrapolation.length, n[2] + t.passedByFloor.length],
+            [0, 0, 0],
+          );
+          if (rules.some((n) => n > 0))
+            console.log(
+              `${name}, H ${hidden}, T ${steps}: ${rules[0]} entries within the rounding noise, ${rules[1]} once extrapolated, ${rules[2]} by the floor`,
+            );
           expect(report.passed, `${name}, H ${hidden}, T ${steps}:\n${report.text()}`).toBe(true);
         }
       }
@@ -74,7 +86,13 @@ describe('the gradient check of the built-in cells at larger sizes, and of delib
       };
       return { ...javascriptBackend, kernels: { ...javascriptBackend.kernels, [kernel]: wrong } };
     };
-    const kernelOf: Record<string, string> = { LSTM: 'lstmStepBackward', 'LSTM with peepholes': 'lstmStepBackward', GRU: 'gruBackwardCandidate', 'GRU, reset after': 'gruBackwardCandidate', plain: 'plainStepBackward' };
+    const kernelOf: Record<string, string> = {
+      LSTM: 'lstmStepBackward',
+      'LSTM with peepholes': 'lstmStepBackward',
+      GRU: 'gruBackwardCandidate',
+      'GRU, reset after': 'gruBackwardCandidate',
+      plain: 'plainStepBackward',
+    };
     for (const [name, cell] of make(8)) {
       const report = checkCell(cell, { steps: 5, seed: name, backend: skewed(kernelOf[name]) });
       expect(report.passed, name).toBe(false);
@@ -87,7 +105,21 @@ describe('the gradient check of the built-in cells at larger sizes, and of delib
   }, 120_000);
 
   it('prints every failing entry with both values under --report table, and takes --step, --floor, --entries and --seed', () => {
-    const broken = weft(['check', '--module', join(fixtures, 'broken-cell.mjs'), '--report', 'table', '--entries', '8', '--seed', 's', '--step', '1e-5', '--floor', '1e-9']);
+    const broken = weft([
+      'check',
+      '--module',
+      join(fixtures, 'broken-cell.mjs'),
+      '--report',
+      'table',
+      '--entries',
+      '8',
+      '--seed',
+      's',
+      '--step',
+      '1e-5',
+      '--floor',
+      '1e-9',
+    ]);
     expect(broken.code).toBe(1);
     expect(broken.out).toMatch(/^failing entries \(at most 100 per tensor, the worst first\):$/m);
     expect(broken.out).toMatch(/^ {2}recurrent\[\d+, \d+\] {2}reverse -?[\d.e-]+ {2}finite difference -?[\d.e-]+ {2}relative error [\d.e+-]+$/m);

@@ -43,6 +43,10 @@ export function expectOneLineError(result: CommandResult, code: number, pattern:
 
 /** Writes an invented text (notes from a weaving workshop, repeated with variations) as notes.txt in `folder`. */
 export function writeNotes(folder: string): void {
-  const notes = Array.from({ length: 60 }, (_, i) => `day ${i % 7}: the warp was ${['wool', 'linen', 'silk'][i % 3]} and the weft was ${['red', 'blue', 'gold', 'grey'][i % 4]}; we wove ${10 + (i % 9)} rows before tea.\n`).join('');
+  const notes = Array.from(
+    { length: 60 },
+    (_, i) =>
+      `day ${i % 7}: the warp was ${['wool', 'linen', 'silk'][i % 3]} and the weft was ${['red', 'blue', 'gold', 'grey'][i % 4]}; we wove ${10 + (i % 9)} rows before tea.\n`,
+  ).join('');
   writeFileSync(join(folder, 'notes.txt'), notes);
 }

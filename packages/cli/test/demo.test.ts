@@ -19,7 +19,18 @@ describe('the demo', () => {
     const result = spawnSync(process.execPath, [demo, folder], { encoding: 'utf8', env: { ...process.env, WEFT_DEMO_EPOCHS: '2' }, timeout: 120_000 });
     expect(result.status).toBe(0);
     expect(result.stdout).toMatch(/^ {2}model +MAE [\d.]+ {2}RMSE [\d.]+ {2}MAPE [\d.]+% {2}sMAPE [\d.]+% {2}MASE [\d.]+/m);
-    for (const baseline of ['naive', 'seasonal naive', 'simple smoothing', 'Holt', 'damped trend', 'Holt-Winters additive', 'Holt-Winters multiplicative', 'Theta', 'linear']) expect(result.stdout).toMatch(new RegExp(`^  ${baseline} +MAE`, 'm'));
+    for (const baseline of [
+      'naive',
+      'seasonal naive',
+      'simple smoothing',
+      'Holt',
+      'damped trend',
+      'Holt-Winters additive',
+      'Holt-Winters multiplicative',
+      'Theta',
+      'linear',
+    ])
+      expect(result.stdout).toMatch(new RegExp(`^  ${baseline} +MAE`, 'm'));
     expect(result.stdout).toMatch(/^season of 96 rows from the time column \(rows 15 minutes apart\)/m);
     expect(result.stdout).toMatch(/^verdict: the model /m);
     const forecasts = result.stdout.split('\n').filter((line) => /^ {2}2026-\d\d-\d\dT\d\d:\d\d +-?[\d.]+ +-?[\d.]+ +-?[\d.]+$/.test(line));

@@ -21,7 +21,13 @@ describe('the forecast picture', () => {
   });
 
   it('breaks a line at a missing value, draws several series two to a row on their own scales, and names no band without intervals', () => {
-    const trace = (title: string, scale: number) => ({ title, actual: [1, NaN, 3, 4].map((v) => v * scale), forecast: [NaN, NaN, NaN, NaN], low: [NaN, NaN, NaN, NaN], high: [NaN, NaN, NaN, NaN] });
+    const trace = (title: string, scale: number) => ({
+      title,
+      actual: [1, NaN, 3, 4].map((v) => v * scale),
+      forecast: [NaN, NaN, NaN, NaN],
+      low: [NaN, NaN, NaN, NaN],
+      high: [NaN, NaN, NaN, NaN],
+    });
     const svg = forecastSvg([trace('north', 1), trace('south', 1000), trace('east', 5)], 'three', null);
     expect(svg).toContain('width="900" height="456"');
     expect(svg.match(/<polyline fill="none" stroke="#555"/g)).toHaveLength(6);
@@ -30,7 +36,7 @@ describe('the forecast picture', () => {
     expect(svg).not.toContain('<polygon');
   });
 
-  it('keeps a long series\' last rows, and places each forecast at the row it is for', () => {
+  it("keeps a long series' last rows, and places each forecast at the row it is for", () => {
     const recorder = new TraceRecorder('level', 2);
     for (let row = 0; row < 1000; row++) recorder.add(row, row, row + 2, 0.5);
     const trace = recorder.trace();

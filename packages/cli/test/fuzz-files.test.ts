@@ -37,7 +37,12 @@ async function files(): Promise<{ weights: Json; checkpoint: Json }> {
   const model = buildModel(description, { seed: 1 });
   const weights = JSON.parse(await writeWeightFile(model.description, modelTensors(model), { metadata })) as Json;
   const values = Array.from({ length: 200 }, (_, i) => Math.sin(i / 5));
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'values', values, features: 2 }, { streams: 2, window: 8 }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 1 });
+  const trainer = new Trainer({
+    model,
+    data: streamBatches({ kind: 'values', values, features: 2 }, { streams: 2, window: 8 }),
+    optimizer: new AdamRule({ rate: 0.01 }),
+    epochs: 1,
+  });
   trainer.step();
   const checkpoint = JSON.parse(await writeCheckpoint(trainer, model, metadata)) as Json;
   return { weights, checkpoint };
@@ -61,9 +66,33 @@ function edited(root: Json, path: (string | number)[], value: Json | undefined):
 }
 
 const hostile: (Json | undefined)[] = [
-  undefined, null, true, -1, 0, 2.5, 1e308, 2 ** 31, 2 ** 40, '', 'x'.repeat(100_000), 'line\nweft: forged', '\u001b]0;title\u0007\u001b[31m',
-  '\u202eevil', '__proto__', '__INFINITY__', [], {}, [0], ['a'], [1e9, 1e9], { mean: [0], deviation: [0] }, { __x: 1 }, [null, 'b'],
-  Array.from({ length: 5000 }, (_, i) => `c${i}`), { cell: 'lstm', hidden: 100000 }, { kind: 'embedding', vocabulary: 1e6, width: 1e6 },
+  undefined,
+  null,
+  true,
+  -1,
+  0,
+  2.5,
+  1e308,
+  2 ** 31,
+  2 ** 40,
+  '',
+  'x'.repeat(100_000),
+  'line\nweft: forged',
+  '\u001b]0;title\u0007\u001b[31m',
+  '\u202eevil',
+  '__proto__',
+  '__INFINITY__',
+  [],
+  {},
+  [0],
+  ['a'],
+  [1e9, 1e9],
+  { mean: [0], deviation: [0] },
+  { __x: 1 },
+  [null, 'b'],
+  Array.from({ length: 5000 }, (_, i) => `c${i}`),
+  { cell: 'lstm', hidden: 100000 },
+  { kind: 'embedding', vocabulary: 1e6, width: 1e6 },
 ];
 
 /** Every way the command could report a problem with this file, checked for what may reach the terminal. */

@@ -17,7 +17,12 @@ const MB = 1024 * 1024;
 
 /** Runs weft with its peak memory printed last on stderr; the error line and the peak. */
 function measured(args: string[]): { code: number | null; error: string; peak: number } {
-  const result = spawnSync(process.execPath, ['--require', join(fixtures, 'max-rss.cjs'), binary, ...args], { cwd: folder, stdio: ['ignore', 'pipe', 'pipe'], timeout: 120_000, maxBuffer: 16 * MB });
+  const result = spawnSync(process.execPath, ['--require', join(fixtures, 'max-rss.cjs'), binary, ...args], {
+    cwd: folder,
+    stdio: ['ignore', 'pipe', 'pipe'],
+    timeout: 120_000,
+    maxBuffer: 16 * MB,
+  });
   return outcome(result.status, result.stderr.toString('utf8'));
 }
 
@@ -34,7 +39,10 @@ describe('refused inputs of any size', () => {
     writeFileSync(join(folder, 'huge.onnx'), Uint8Array.of(8, 10));
     truncateSync(join(folder, 'huge.onnx'), 200 * MB);
     const hundred = Array.from({ length: 100 }, (_, i) => i + 1);
-    writeFileSync(join(folder, 'grid.json'), JSON.stringify({ data: 'huge.csv', flags: { hidden: hundred, window: hundred, streams: hundred, epochs: hundred } }));
+    writeFileSync(
+      join(folder, 'grid.json'),
+      JSON.stringify({ data: 'huge.csv', flags: { hidden: hundred, window: hundred, streams: hundred, epochs: hundred } }),
+    );
     const runs = [
       { args: ['train', 'huge.csv'], error: /^weft: huge\.csv: 200\.0 MB; weft reads data files of at most 32 MB/ },
       { args: ['convert', 'huge.onnx'], error: /^weft: huge\.onnx: 200\.0 MB; weft reads ONNX files of at most 64 MB$/ },
@@ -50,17 +58,28 @@ describe('refused inputs of any size', () => {
     }
   });
 
-  it.skipIf(process.platform === 'win32')('stops reading a 200 MB line from standard input at the line limit, under 300 MB', () => {
-    // A small forecaster to run (its columns a, b), trained here on an invented series.
-    writeFileSync(join(folder, 'ab.csv'), `a,b\n${Array.from({ length: 120 }, (_, t) => `${Math.sin(t / 4).toFixed(3)},${Math.cos(t / 4).toFixed(3)}`).join('\n')}\n`);
-    const trained = spawnSync(process.execPath, [binary, 'train', 'ab.csv', '--hidden', '4', '--epochs', '3', '--hybrid', 'no', '--quiet', '--out', 'ab.weft.json'], { cwd: folder, encoding: 'utf8' });
-    expect(trained.status).toBe(0);
-    // Through a pipe, as `producer | weft run MODEL -` gives it: a header, then 200 MB of one line.
-    const pipeline = `{ printf 'a,b\\n'; head -c ${200 * MB} /dev/zero | tr '\\000' '1'; } | "${process.execPath}" --require "${join(fixtures, 'max-rss.cjs')}" "${binary}" run ab.weft.json -`;
-    const shell = spawnSync('sh', ['-c', pipeline], { cwd: folder, timeout: 120_000, maxBuffer: 16 * MB });
-    const result = outcome(shell.status, shell.stderr.toString('utf8'));
-    console.log(`weft run with a 200 MB line: exit ${result.code}, peak ${(result.peak / MB).toFixed(0)} MB`);
-    expect(result.error).toBe('weft: <stdin>:2: a line longer than 1,000,000 characters; weft run reads at most that much per line');
-    expect(result.peak).toBeLessThan(300 * MB);
-  }, 60_000);
+  it.skipIf(process.platform === 'win32')(
+    'stops reading a 200 MB line from standard input at the line limit, under 300 MB',
+    () => {
+      // A small forecaster to run (its columns a, b), trained here on an invented series.
+      writeFileSync(
+        join(folder, 'ab.csv'),
+        `a,b\n${Array.from({ length: 120 }, (_, t) => `${Math.sin(t / 4).toFixed(3)},${Math.cos(t / 4).toFixed(3)}`).join('\n')}\n`,
+      );
+      const trained = spawnSync(
+        process.execPath,
+        [binary, 'train', 'ab.csv', '--hidden', '4', '--epochs', '3', '--hybrid', 'no', '--quiet', '--out', 'ab.weft.json'],
+        { cwd: folder, encoding: 'utf8' },
+      );
+      expect(trained.status).toBe(0);
+      // Through a pipe, as `producer | weft run MODEL -` gives it: a header, then 200 MB of one line.
+      const pipeline = `{ printf 'a,b\\n'; head -c ${200 * MB} /dev/zero | tr '\\000' '1'; } | "${process.execPath}" --require "${join(fixtures, 'max-rss.cjs')}" "${binary}" run ab.weft.json -`;
+      const shell = spawnSync('sh', ['-c', pipeline], { cwd: folder, timeout: 120_000, maxBuffer: 16 * MB });
+      const result = outcome(shell.status, shell.stderr.toString('utf8'));
+      console.log(`weft run with a 200 MB line: exit ${result.code}, peak ${(result.peak / MB).toFixed(0)} MB`);
+      expect(result.error).toBe('weft: <stdin>:2: a line longer than 1,000,000 characters; weft run reads at most that much per line');
+      expect(result.peak).toBeLessThan(300 * MB);
+    },
+    60_000,
+  );
 });

@@ -38,7 +38,11 @@ describe('weft inspect', () => {
     writeFileSync(join(folder, 'edited.weft.json'), text);
     const result = weft(['inspect', 'edited.weft.json']);
     expect(result.out).toMatch(/^digest: SHA-256 [0-9a-f]{64} — verified$/m);
-    expectOneLineError(result, 1, /^weft: edited\.weft\.json: weft run refuses this file, its tensors disagree with its description: Bad weight file at tensors \(layers\[0\]\.forward\.input\)\.shape: expected \[4, 21\] \(from the model description\), received \[4, 18\]; /);
+    expectOneLineError(
+      result,
+      1,
+      /^weft: edited\.weft\.json: weft run refuses this file, its tensors disagree with its description: Bad weight file at tensors \(layers\[0\]\.forward\.input\)\.shape: expected \[4, 21\] \(from the model description\), received \[4, 18\]; /,
+    );
     expect(weft(['run', 'edited.weft.json', '-']).code).not.toBe(0);
   });
 

@@ -51,7 +51,11 @@ describe('the weft command', () => {
 
     it('a damaged weight file, every problem on the one line', () => {
       writeFileSync(join(folder, 'damaged.json'), '{"format":"weft-weights","version":1}');
-      expectOneLineError(weft(['inspect', 'damaged.json']), 1, /^weft: 3 problems: Bad weight file at damaged\.json: model: .*; Bad weight file at damaged\.json: digest: .*; Bad weight file at damaged\.json: tensors: expected an array, received undefined$/);
+      expectOneLineError(
+        weft(['inspect', 'damaged.json']),
+        1,
+        /^weft: 3 problems: Bad weight file at damaged\.json: model: .*; Bad weight file at damaged\.json: digest: .*; Bad weight file at damaged\.json: tensors: expected an array, received undefined$/,
+      );
       writeFileSync(join(folder, 'not-json.json'), 'hello\nworld\n');
       expectOneLineError(weft(['run', 'not-json.json', '-']), 1, /^weft: Bad weight file at not-json\.json: \(file\): expected valid JSON, received .*$/);
     });

@@ -7,11 +7,23 @@ describe('the loss pictures', () => {
     expect(sparkline([8, 7, 6, 5, 4, 3, 2, 1, 0])).toBe('██▇▆▅▄▃▂▁');
     expect(sparkline([1, 1, 1])).toBe('▁▁▁');
     expect(sparkline([Number.NaN])).toBe('');
-    expect(sparkline(Array.from({ length: 400 }, (_, i) => 400 - i), 40)).toHaveLength(40);
+    expect(
+      sparkline(
+        Array.from({ length: 400 }, (_, i) => 400 - i),
+        40,
+      ),
+    ).toHaveLength(40);
   });
 
   it('draw an SVG with the training line, validation dots and an escaped title', () => {
-    const svg = lossCurveSvg([{ step: 1, loss: 2 }, { step: 2, loss: 1 }], [{ step: 2, loss: 1.5 }], 'a < b & c');
+    const svg = lossCurveSvg(
+      [
+        { step: 1, loss: 2 },
+        { step: 2, loss: 1 },
+      ],
+      [{ step: 2, loss: 1.5 }],
+      'a < b & c',
+    );
     expect(svg.startsWith('<svg xmlns="http://www.w3.org/2000/svg"')).toBe(true);
     expect(svg).toContain('a &lt; b &amp; c');
     expect(svg).toMatch(/<polyline [^>]*points="[\d.]+,[\d.]+ [\d.]+,[\d.]+"/);
@@ -19,7 +31,7 @@ describe('the loss pictures', () => {
   });
 });
 
-describe('a long run\'s loss curve', () => {
+describe("a long run's loss curve", () => {
   it('stays bounded: 58,000 steps draw at most 1,200 line points and 400 dots, and keep the highest spike', async () => {
     const { MAX_DOTS, MAX_PLOTTED, lossCurveSvg, thinPoints } = await import('../src/plot.js');
     const training = Array.from({ length: 58_000 }, (_, i) => ({ step: i + 1, loss: i === 31_337 ? 50 : 1 / Math.sqrt(i + 1) }));
@@ -34,7 +46,7 @@ describe('a long run\'s loss curve', () => {
   });
 });
 
-describe('the loss curve\'s scales', () => {
+describe("the loss curve's scales", () => {
   it('ticks at round values: 1, 2 or 5 times a power of ten, and each decade of a log scale', async () => {
     const { logTicks, roundTicks } = await import('../src/plot.js');
     expect(roundTicks(0, 1)).toEqual([0, 0.2, 0.4, 0.6, 0.8, 1]);
@@ -48,7 +60,10 @@ describe('the loss curve\'s scales', () => {
     const { mean } = await import('mathjs');
     const { smoothed } = await import('../src/plot.js');
     const losses = [5, 1, 4, 1, 5, 9, 2, 6];
-    const line = smoothed(losses.map((loss, i) => ({ step: i + 1, loss })), 1);
+    const line = smoothed(
+      losses.map((loss, i) => ({ step: i + 1, loss })),
+      1,
+    );
     expect(line.map((p) => p.step)).toEqual([1, 2, 3, 4, 5, 6, 7, 8]);
     line.forEach((p, i) => expect(p.loss).toBeCloseTo(mean(losses.slice(Math.max(0, i - 1), i + 2)) as number, 12));
     // A long run is drawn with at most MAX_PLOTTED smoothed points.

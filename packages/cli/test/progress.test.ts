@@ -10,8 +10,18 @@ function terminal(columns: number | undefined, isTTY = true): { stream: NodeJS.W
 }
 
 const event = (step: number, kind: TrainingEvent['kind'] = 'step'): TrainingEvent => ({
-  kind, step, epoch: 3, totalSteps: 12_000, loss: 0.123456, gradientNorm: 1.5, learningRate: 0.01, positionsPerSecond: 123_456, secondsLeft: 4000,
-  validationLoss: 0.25, validationMetric: 1.234567, validationMetricName: 'meanAbsoluteError',
+  kind,
+  step,
+  epoch: 3,
+  totalSteps: 12_000,
+  loss: 0.123456,
+  gradientNorm: 1.5,
+  learningRate: 0.01,
+  positionsPerSecond: 123_456,
+  secondsLeft: 4000,
+  validationLoss: 0.25,
+  validationMetric: 1.234567,
+  validationMetricName: 'meanAbsoluteError',
 });
 
 describe('the progress line', () => {
@@ -21,11 +31,17 @@ describe('the progress line', () => {
       const view = new ProgressView(stream, 2.5);
       view.show(event(10, 'validation'));
       view.show(event(12_000));
-      const drawn = written.join('').split('\r\x1b[2K').filter((part) => part !== '');
+      const drawn = written
+        .join('')
+        .split('\r\x1b[2K')
+        .filter((part) => part !== '');
       expect(drawn.length).toBeGreaterThan(0);
       for (const part of drawn) expect([...part].length, `at ${columns} columns: ${part}`).toBeLessThanOrEqual(columns - 1);
       expect(drawn.at(-1)).toMatch(/^100% {2}step 12000 of 1200/);
-      if (columns === 200) expect(drawn.at(-1)).toBe('100%  step 12000 of 12000 · epoch 3 · loss 0.1235 · validation loss 0.2500, MAE 3.086 in data units · 123.5k positions/s · done in 66m40s');
+      if (columns === 200)
+        expect(drawn.at(-1)).toBe(
+          '100%  step 12000 of 12000 · epoch 3 · loss 0.1235 · validation loss 0.2500, MAE 3.086 in data units · 123.5k positions/s · done in 66m40s',
+        );
       else expect(drawn.at(-1)?.endsWith('…')).toBe(true);
     }
   });

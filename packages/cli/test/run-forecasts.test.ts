@@ -27,11 +27,29 @@ const readings = Array.from({ length: 300 }, (_, t) => ({ level: 50 + 10 * Math.
 
 beforeAll(() => {
   writeFileSync(join(folder, 'tank.csv'), `level,inflow\n${readings.map((r) => `${r.level.toFixed(3)},${r.inflow.toFixed(3)}`).join('\n')}\n`);
-  const trained = weft(['train', 'tank.csv', '--target', 'level', '--horizon', '3', '--hybrid', 'no', '--hidden', '8', '--epochs', '3', '--out', 'tank.weft.json', '--quiet']);
+  const trained = weft([
+    'train',
+    'tank.csv',
+    '--target',
+    'level',
+    '--horizon',
+    '3',
+    '--hybrid',
+    'no',
+    '--hidden',
+    '8',
+    '--epochs',
+    '3',
+    '--out',
+    'tank.weft.json',
+    '--quiet',
+  ]);
   expect(trained.code, trained.err).toBe(0);
   // The test part is scored at every row ahead, each against the best baseline, and so are the intervals.
   expect(trained.out).toMatch(/MAE by rows ahead: 1: [\d.]+ \([\d.]+\), 2: [\d.]+ \([\d.]+\), 3: [\d.]+ \([\d.]+\)/);
-  expect(trained.out).toMatch(/^ {2}prediction intervals at 95% \(split conformal on the validation part's errors\): coverage [\d.]+% of 90 values, mean width [\d.]+, MSIS [\d.]+(; more than 5 points from the 95% asked: do not rely on these intervals at this level)?$/m);
+  expect(trained.out).toMatch(
+    /^ {2}prediction intervals at 95% \(split conformal on the validation part's errors\): coverage [\d.]+% of 90 values, mean width [\d.]+, MSIS [\d.]+(; more than 5 points from the 95% asked: do not rely on these intervals at this level)?$/m,
+  );
 });
 
 describe('weft run on a model of several rows ahead', () => {
@@ -39,7 +57,18 @@ describe('weft run on a model of several rows ahead', () => {
     const run = weft(['run', 'tank.weft.json', 'tank.csv', '--format', 'json']);
     expect(run.code, run.err).toBe(0);
     const records = JSON.parse(run.out) as Record<string, number | string>[];
-    expect(Object.keys(records[0])).toEqual(['row', 'level in 1', 'level in 1 low', 'level in 1 high', 'level in 2', 'level in 2 low', 'level in 2 high', 'level in 3', 'level in 3 low', 'level in 3 high']);
+    expect(Object.keys(records[0])).toEqual([
+      'row',
+      'level in 1',
+      'level in 1 low',
+      'level in 1 high',
+      'level in 2',
+      'level in 2 low',
+      'level in 2 high',
+      'level in 3',
+      'level in 3 low',
+      'level in 3 high',
+    ]);
     const file = await readWeightFile(readFileSync(join(folder, 'tank.weft.json'), 'utf8'));
     const forecaster = createRowForecaster(await createRuntime(file), file.metadata as Record<string, unknown>);
     expect(forecaster.rowsAhead).toEqual([1, 2, 3]);
@@ -55,7 +84,7 @@ describe('weft run on a model of several rows ahead', () => {
     });
   });
 
-  it('lays the last row\'s forecasts on the rows they are for with --ahead, and refuses more rows than it forecasts', () => {
+  it("lays the last row's forecasts on the rows they are for with --ahead, and refuses more rows than it forecasts", () => {
     const all = JSON.parse(weft(['run', 'tank.weft.json', 'tank.csv', '--format', 'json']).out) as Record<string, number | string>[];
     const last = all[all.length - 1];
     const run = weft(['run', 'tank.weft.json', 'tank.csv', '--ahead', '3', '--format', 'json']);

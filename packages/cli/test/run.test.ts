@@ -24,11 +24,33 @@ const weft = (args: string[], input?: string) => {
 };
 
 // Invented readings of a tank: level and inflow, every hour.
-const readings = Array.from({ length: 400 }, (_, t) => ({ hour: `h${t}`, level: (50 + 10 * Math.sin(t / 9)).toFixed(3), inflow: (3 + Math.cos(t / 9)).toFixed(3) }));
+const readings = Array.from({ length: 400 }, (_, t) => ({
+  hour: `h${t}`,
+  level: (50 + 10 * Math.sin(t / 9)).toFixed(3),
+  inflow: (3 + Math.cos(t / 9)).toFixed(3),
+}));
 
 beforeAll(() => {
   writeFileSync(join(folder, 'tank.csv'), `hour,level,inflow\n${readings.map((r) => `${r.hour},${r.level},${r.inflow}`).join('\n')}\n`);
-  const trained = weft(['train', 'tank.csv', '--examples', 'streams', '--target', 'level', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'tank.weft.json', '--quiet']);
+  const trained = weft([
+    'train',
+    'tank.csv',
+    '--examples',
+    'streams',
+    '--target',
+    'level',
+    '--hidden',
+    '8',
+    '--window',
+    '16',
+    '--streams',
+    '4',
+    '--epochs',
+    '2',
+    '--out',
+    'tank.weft.json',
+    '--quiet',
+  ]);
   expect(trained.code).toBe(0);
 });
 
@@ -42,11 +64,19 @@ describe('weft run', () => {
       waiters.splice(0).forEach((w) => w());
     });
     const lineCount = () => received.split('\n').length - 1;
-    const until = (lines: number) => new Promise<void>((resolve, reject) => {
-      const timer = setTimeout(() => reject(new Error(`waited for ${lines} lines, have: ${JSON.stringify(received)}`)), 20_000);
-      const check = () => (lineCount() >= lines ? (clearTimeout(timer), resolve()) : waiters.push(check));
-      check();
-    });
+    const until = (lines: number) =>
+      new Promise<void>((resolve, reject) => {
+        const timer = setTimeout(() => reject(new Error(`waited for ${lines} lines, have: ${JSON.stringify(received)}`)), 20_000);
+        const check = (): void => {
+          if (lineCount() < lines) {
+            waiters.push(check);
+            return;
+          }
+          clearTimeout(timer);
+          resolve();
+        };
+        check();
+      });
     child.stdin.write('hour,level,inflow\n');
     for (let i = 0; i < 3; i++) {
       const r = readings[i];
@@ -84,7 +114,7 @@ describe('weft run', () => {
     const probe = 'vat 3 is weld! ';
     const run = weft(['run', 'dye.weft.json', '-', '--format', 'json'], probe);
     expect(run.code).toBe(0);
-    expect(run.err.trim()).toBe('weft: 1 of 15 characters of <stdin> are not in the model\'s vocabulary; they are read as <unknown>');
+    expect(run.err.trim()).toBe("weft: 1 of 15 characters of <stdin> are not in the model's vocabulary; they are read as <unknown>");
     const printed = JSON.parse(run.out) as { token: string; 'most likely next': string; probability: number }[];
     const file = await readWeightFile(readFileSync(join(folder, 'dye.weft.json'), 'utf8'));
     const translator = createTranslator(file.metadata as Record<string, unknown>);
@@ -105,13 +135,38 @@ describe('weft run', () => {
 
   it('forecasts past the end with --ahead by feeding each forecast back, and refuses a model that cannot', async () => {
     writeFileSync(join(folder, 'both.csv'), `level,inflow\n${readings.map((r) => `${r.level},${r.inflow}`).join('\n')}\n`);
-    expect(weft(['train', 'both.csv', '--examples', 'streams', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'both.weft.json', '--quiet']).code).toBe(0);
+    expect(
+      weft([
+        'train',
+        'both.csv',
+        '--examples',
+        'streams',
+        '--hidden',
+        '8',
+        '--window',
+        '16',
+        '--streams',
+        '4',
+        '--epochs',
+        '2',
+        '--out',
+        'both.weft.json',
+        '--quiet',
+      ]).code,
+    ).toBe(0);
     const tail = readings.slice(0, 40);
-    const run = weft(['run', 'both.weft.json', '-', '--ahead', '3', '--format', 'json'], `level,inflow\n${tail.map((r) => `${r.level},${r.inflow}`).join('\n')}\n`);
+    const run = weft(
+      ['run', 'both.weft.json', '-', '--ahead', '3', '--format', 'json'],
+      `level,inflow\n${tail.map((r) => `${r.level},${r.inflow}`).join('\n')}\n`,
+    );
     expect(run.code).toBe(0);
     const records = JSON.parse(run.out) as { row: number; made: string; 'level in 1': number; 'inflow in 1': number }[];
     expect(records).toHaveLength(43);
-    expect(records.slice(40).map((r) => [r.row, r.made])).toEqual([[41, 'from forecasts'], [42, 'from forecasts'], [43, 'from forecasts']]);
+    expect(records.slice(40).map((r) => [r.row, r.made])).toEqual([
+      [41, 'from forecasts'],
+      [42, 'from forecasts'],
+      [43, 'from forecasts'],
+    ]);
     // The same recursion through the library: the forecast made at row 40 is the input of row 41, and so on.
     const file = await readWeightFile(readFileSync(join(folder, 'both.weft.json'), 'utf8'));
     const translator = createTranslator(file.metadata as Record<string, unknown>);
@@ -124,7 +179,9 @@ describe('weft run', () => {
     }
     const refused = weft(['run', 'tank.weft.json', 'both.csv', '--ahead', '2']);
     expect(refused.code).toBe(2);
-    expect(refused.err.trim()).toMatch(/^weft: --ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead, and read no times; this one forecasts level 1 row\(s\) ahead and does not forecast inflow/);
+    expect(refused.err.trim()).toMatch(
+      /^weft: --ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead, and read no times; this one forecasts level 1 row\(s\) ahead and does not forecast inflow/,
+    );
   });
 
   it('names the file, line and column of a row that is not a number, and of a ragged row, in one line', () => {
@@ -143,14 +200,37 @@ describe('weft run on forecasts and classifications', () => {
   it('writes forecasts for a CSV to a file, and classes for labelled sequences as CSV', () => {
     const rows = Array.from({ length: 400 }, (_, i) => `${(20 + 5 * Math.sin(i / 6)).toFixed(3)},${(50 + 10 * Math.cos(i / 6)).toFixed(3)}`);
     writeFileSync(join(folder, 'room.csv'), `temperature,humidity\n${rows.join('\n')}\n`);
-    const trained = weft(['train', 'room.csv', '--examples', 'streams', '--target', 'temperature', '--horizon', '2', '--hidden', '8', '--window', '16', '--streams', '4', '--epochs', '2', '--out', 'room.weft.json', '--quiet']);
+    const trained = weft([
+      'train',
+      'room.csv',
+      '--examples',
+      'streams',
+      '--target',
+      'temperature',
+      '--horizon',
+      '2',
+      '--hidden',
+      '8',
+      '--window',
+      '16',
+      '--streams',
+      '4',
+      '--epochs',
+      '2',
+      '--out',
+      'room.weft.json',
+      '--quiet',
+    ]);
     expect(trained.code).toBe(0);
     // --quiet: no progress, no notes, only the final result lines.
     expect(trained.err).toBe('');
     expect(trained.out).not.toMatch(/^(training a |loss (?!curve)|left out )/m);
-    expect(trained.out.split('\n')[0]).toBe('parts of room.csv, in time order: training lines 2–321 (320 rows); validation, for stopping and keeping weights, lines 322–361 (40 rows); test, scored once at the end, lines 362–401 (40 rows)');
+    expect(trained.out.split('\n')[0]).toBe(
+      'parts of room.csv, in time order: training lines 2–321 (320 rows); validation, for stopping and keeping weights, lines 322–361 (40 rows); test, scored once at the end, lines 362–401 (40 rows)',
+    );
     expect(trained.out).toMatch(/^weight file: .*room\.weft\.json$/m);
-    for (const name of ['model', 'naive', 'simple smoothing', 'Theta', 'linear']) expect(trained.out).toMatch(new RegExp(`^  ${name} +MAE [\\d.]+  RMSE [\\d.]+  MAPE`, 'm'));
+    for (const name of ['model', 'naive', 'simple smoothing', 'Theta', 'linear'])
+      expect(trained.out).toMatch(new RegExp(`^  ${name} +MAE [\\d.]+  RMSE [\\d.]+  MAPE`, 'm'));
     expect(trained.out).toMatch(/^verdict: the model (beats every baseline|does NOT beat the baseline [\w -]+): MAE [\d.]+ against/m);
     writeFileSync(join(folder, 'new-room.csv'), `humidity,temperature\n55,21\n54,22\n52,23\n`);
     const run = weft(['run', 'room.weft.json', 'new-room.csv', '--out', 'forecast.csv']);
@@ -171,9 +251,23 @@ describe('weft run on forecasts and classifications', () => {
       return `${rising ? 'rising' : 'falling'},${items.map((v) => v.toFixed(2)).join(' ')}`;
     });
     writeFileSync(join(folder, 'trends.csv'), `label,sequence\n${labelled.join('\n')}\n`);
-    const classifier = weft(['train', 'trends.csv', '--hidden', '8', '--streams', '16', '--epochs', '8', '--rate', '0.02', '--out', 'trends.weft.json', '--quiet']);
+    const classifier = weft([
+      'train',
+      'trends.csv',
+      '--hidden',
+      '8',
+      '--streams',
+      '16',
+      '--epochs',
+      '8',
+      '--rate',
+      '0.02',
+      '--out',
+      'trends.weft.json',
+      '--quiet',
+    ]);
     expect(classifier.code).toBe(0);
-    expect(classifier.out).toMatch(/^  majority class +accuracy [\d.]+%  macro-F1 [\d.]+  \(always "[a-z]+", the most common class in training\)$/m);
+    expect(classifier.out).toMatch(/^ {2}majority class +accuracy [\d.]+% {2}macro-F1 [\d.]+ {2}\(always "[a-z]+", the most common class in training\)$/m);
     expect(classifier.out).toMatch(/^counts by actual class \(rows\) and predicted class \(columns\):$/m);
     const classes = weft(['run', 'trends.weft.json', '-'], 'sequence\n"0 1 2 3 4"\n"0 -1 -2 -3"\n');
     expect(classes.code).toBe(0);

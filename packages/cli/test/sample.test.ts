@@ -7,7 +7,23 @@ writeNotes(folder);
 
 describe('weft sample', () => {
   it('continues a prefix by the length asked, the same text for the same seed, ending with a newline', () => {
-    const trained = weft(['train', 'notes.txt', '--cell', 'gru', '--hidden', '16', '--window', '24', '--streams', '4', '--epochs', '2', '--out', 'notes.weft.json', '--quiet']);
+    const trained = weft([
+      'train',
+      'notes.txt',
+      '--cell',
+      'gru',
+      '--hidden',
+      '16',
+      '--window',
+      '24',
+      '--streams',
+      '4',
+      '--epochs',
+      '2',
+      '--out',
+      'notes.weft.json',
+      '--quiet',
+    ]);
     expect(trained.code).toBe(0);
     const sample = weft(['sample', 'notes.weft.json', '--prefix', 'day 3: ', '--length', '60', '--seed', '2']);
     expect(sample.code).toBe(0);

@@ -27,7 +27,7 @@ const readme = fileURLToPath(new URL('../../../README.md', import.meta.url));
 const { folder, weft } = commandFolder('weft-many-series-');
 
 describe('many series through the command', () => {
-  it('trains one model across the 14 industries with defaults only, judged per series against each one\'s own baselines, and says which wins as the README does', async () => {
+  it("trains one model across the 14 industries with defaults only, judged per series against each one's own baselines, and says which wins as the README does", async () => {
     const out = join(folder, 'industries.weft.json');
     const lines: string[] = [];
     const outcome = await train(parseArgs('train', [unemployment, '--out', out], trainFlags), (line) => lines.push(line));
@@ -40,24 +40,34 @@ describe('many series through the command', () => {
     expect(report.series).toHaveLength(14);
     // The model's figure and each baseline method's are the means over series of the series' own MASE (mathjs).
     expect(report.model.value).toBeCloseTo(mean(report.series!.map((s) => s.model)) as number, 12);
-    for (const b of report.baselines) expect(b.value).toBeCloseTo(mean(report.series!.map((s) => s.baselines.find((x) => x.name === b.name)!.value)) as number, 12);
-    expect(report.baselines.map((b) => b.name)).toEqual(expect.arrayContaining(['naive', 'seasonal naive', 'simple smoothing', 'Holt-Winters additive', 'Theta']));
+    for (const b of report.baselines)
+      expect(b.value).toBeCloseTo(mean(report.series!.map((s) => s.baselines.find((x) => x.name === b.name)!.value)) as number, 12);
+    expect(report.baselines.map((b) => b.name)).toEqual(
+      expect.arrayContaining(['naive', 'seasonal naive', 'simple smoothing', 'Holt-Winters additive', 'Theta']),
+    );
     // A line per series, each beside that series' best baseline.
     for (const s of report.series!) expect(text).toMatch(new RegExp(`^    ${s.id.replace(/[()]/g, '\\$&')} +[\\d.]+  ${s.best} [\\d.]+`, 'm'));
     const best = report.baselines.reduce((a, b) => (b.value < a.value ? b : a));
     const wins = report.model.value < best.value;
-    expect(text).toMatch(wins ? new RegExp(`^verdict: the model beats every baseline: MASE [\\d.]+ against [\\d.]+ for the best baseline, ${best.name} `, 'm')
-      : new RegExp(`^verdict: the model does NOT beat the baseline ${best.name}: MASE `, 'm'));
+    expect(text).toMatch(
+      wins
+        ? new RegExp(`^verdict: the model beats every baseline: MASE [\\d.]+ against [\\d.]+ for the best baseline, ${best.name} `, 'm')
+        : new RegExp(`^verdict: the model does NOT beat the baseline ${best.name}: MASE `, 'm'),
+    );
     // The README states the same outcome against the same baseline.
     const stated = readFileSync(readme, 'utf8');
     expect(stated).toContain(wins ? `the model beats ${best.name}` : `the model does not beat ${best.name}`);
     // The 95% intervals: coverage printed and scored on every test value (14 series × 12 rows × 2 targets).
     expect(report.intervals?.count).toBe(14 * 12 * 2);
-    expect(text).toMatch(/^ {2}prediction intervals at 95% \(split conformal on the validation part's errors, pooled over series in units of each one's scale\): coverage \d+\.\d% of 336 values, MSIS [\d.]+/m);
+    expect(text).toMatch(
+      /^ {2}prediction intervals at 95% \(split conformal on the validation part's errors, pooled over series in units of each one's scale\): coverage \d+\.\d% of 336 values, MSIS [\d.]+/m,
+    );
 
     // weft score repeats every figure from the runtime: the baselines' to the bit, the model's to the rounding of its
     // f32 kernels (training scored the outputs of the model it trained; the runtime runs the weight file).
-    const scored = JSON.parse(await score(parseArgs('score', [out, unemployment, '--format', 'json'], scoreFlags))) as typeof report & { intervals: { coverage: number; msis: number } };
+    const scored = JSON.parse(await score(parseArgs('score', [out, unemployment, '--format', 'json'], scoreFlags))) as typeof report & {
+      intervals: { coverage: number; msis: number };
+    };
     expect(scored.model.value).toBeCloseTo(report.model.value, 6);
     expect(scored.baselines).toEqual(JSON.parse(JSON.stringify(report.baselines)));
     scored.series!.forEach((s, i) => {
@@ -102,7 +112,11 @@ describe('many series through the command', () => {
     const short = records.filter((r) => r.series !== 'Agriculture' || String(r.date) < '2001-09');
     writeFileSync(join(folder, 'short.csv'), csv(short));
     const line = short.findIndex((r) => r.series === 'Agriculture') + 2;
-    expectOneLineError(weft(['train', 'short.csv', '--short-series', 'refuse']), 1, new RegExp(`^weft: Bad data at short\\.csv:${line}:1: expected at least \\d+ rows for series "Agriculture" \\(.*\\), received 20 rows$`));
+    expectOneLineError(
+      weft(['train', 'short.csv', '--short-series', 'refuse']),
+      1,
+      new RegExp(`^weft: Bad data at short\\.csv:${line}:1: expected at least \\d+ rows for series "Agriculture" \\(.*\\), received 20 rows$`),
+    );
     const skipped = weft(['train', 'short.csv', '--epochs', '1', '--hybrid', 'no', '--out', 'short.weft.json']);
     expect(skipped.out).toMatch(/^left out 1 series shorter than the \d+ rows needed \(.*\): "Agriculture" \(20 rows from line \d+\)/m);
     // Construction's March 2000 row moved after its April row.
@@ -110,11 +124,25 @@ describe('many series through the command', () => {
     const march = moved.findIndex((r) => r.series === 'Construction' && String(r.date).startsWith('2000-03'));
     [moved[march], moved[march + 1]] = [moved[march + 1], moved[march]];
     writeFileSync(join(folder, 'moved.csv'), csv(moved));
-    expectOneLineError(weft(['train', 'moved.csv']), 1, new RegExp(`^weft: Bad data at moved\\.csv:${march + 3}:\\d+: expected a time after line ${march + 2}'s "2000-04-01T0[78]:00:00\\.000Z" for series "Construction" \\(each series' rows in time order; series may take turns\\), received "2000-03-01T08:00:00\\.000Z"$`));
+    expectOneLineError(
+      weft(['train', 'moved.csv']),
+      1,
+      new RegExp(
+        `^weft: Bad data at moved\\.csv:${march + 3}:\\d+: expected a time after line ${march + 2}'s "2000-04-01T0[78]:00:00\\.000Z" for series "Construction" \\(each series' rows in time order; series may take turns\\), received "2000-03-01T08:00:00\\.000Z"$`,
+      ),
+    );
     // A series the model was not trained on, at its cell.
     writeFileSync(join(folder, 'new.csv'), csv([...records.slice(0, 30), { series: 'Fishing', date: '2000-01-01T08:00:00.000Z', count: 5 }]));
-    expectOneLineError(weft(['run', 'short.weft.json', 'new.csv']), 1, /^weft: new\.csv:32:1: "Fishing" is not a series the model was trained on \("Government", "Mining and Extraction", .*\)$/);
+    expectOneLineError(
+      weft(['run', 'short.weft.json', 'new.csv']),
+      1,
+      /^weft: new\.csv:32:1: "Fishing" is not a series the model was trained on \("Government", "Mining and Extraction", .*\)$/,
+    );
     expectOneLineError(weft(['train', 'short.csv', '--interval', '1.5']), 2, /^weft: --interval/);
-    expectOneLineError(weft(['train', 'short.csv', '--id-column', 'region']), 1, /^weft: Bad data at short\.csv:1:1: expected a column named "region" \(for --id-column\), received the columns series, date, count$/);
+    expectOneLineError(
+      weft(['train', 'short.csv', '--id-column', 'region']),
+      1,
+      /^weft: Bad data at short\.csv:1:1: expected a column named "region" \(for --id-column\), received the columns series, date, count$/,
+    );
   }, 120_000);
 });

@@ -46,7 +46,27 @@ function longTable(seed: string, count: number): { text: string; labels: Map<str
 describe('weft score', () => {
   it('scores a classifier of three number columns per step beside a logistic regression, with counts that match weft run', () => {
     writeFileSync(join(folder, 'units.csv'), longTable('train', 600).text);
-    const trained = weft(['train', 'units.csv', '--id-column', 'unit', '--step-column', 'step', '--cell', 'gru', '--hidden', '16', '--epochs', '30', '--rate', '0.01', '--streams', '16', '--out', 'units.weft.json', '--quiet']);
+    const trained = weft([
+      'train',
+      'units.csv',
+      '--id-column',
+      'unit',
+      '--step-column',
+      'step',
+      '--cell',
+      'gru',
+      '--hidden',
+      '16',
+      '--epochs',
+      '30',
+      '--rate',
+      '0.01',
+      '--streams',
+      '16',
+      '--out',
+      'units.weft.json',
+      '--quiet',
+    ]);
     expect(trained.code).toBe(0);
     // The class is the column with the highest mean: a logistic regression on the means can be perfect, so the
     // verdict may go either way; it must name the figures.
@@ -56,8 +76,15 @@ describe('weft score', () => {
     writeFileSync(join(folder, 'fresh.csv'), fresh.text);
     const scored = weft(['score', 'units.weft.json', 'fresh.csv', '--format', 'json']);
     expect(scored.code).toBe(0);
-    const report = JSON.parse(scored.out) as { what: string; model: { value: number; scores: { confusion: number[][]; macroF1: number } }; baselines: { name: string; value: number }[]; names: string[] };
-    console.log(`long table: accuracy ${report.model.value}, macro-F1 ${report.model.scores.macroF1}, baselines ${report.baselines.map((b) => `${b.name} ${b.value}`).join(', ')}`);
+    const report = JSON.parse(scored.out) as {
+      what: string;
+      model: { value: number; scores: { confusion: number[][]; macroF1: number } };
+      baselines: { name: string; value: number }[];
+      names: string[];
+    };
+    console.log(
+      `long table: accuracy ${report.model.value}, macro-F1 ${report.model.scores.macroF1}, baselines ${report.baselines.map((b) => `${b.name} ${b.value}`).join(', ')}`,
+    );
     expect(report.baselines.map((b) => b.name)).toEqual(['majority class', 'logistic regression']);
     expect(report.what).toBe('30 of the 150 labelled sequences (1500 step rows) of fresh.csv, drawn at random');
     expect(report.model.value).toBeGreaterThan(0.8);
@@ -77,17 +104,44 @@ describe('weft score', () => {
     expect(text.out).toMatch(/^counts by actual class \(rows\) and predicted class \(columns\):$/m);
   }, 120_000);
 
-  it('scores a forecast model with the MAE of weft run\'s own forecasts on the last fifth, beside every baseline', () => {
+  it("scores a forecast model with the MAE of weft run's own forecasts on the last fifth, beside every baseline", () => {
     const rows = Array.from({ length: 300 }, (_, t) => `${(20 + 5 * Math.sin(t / 6)).toFixed(3)},${(Math.cos(t / 6)).toFixed(3)}`);
     writeFileSync(join(folder, 'kiln.csv'), `heat,draft\n${rows.join('\n')}\n`);
-    expect(weft(['train', 'kiln.csv', '--examples', 'streams', '--target', 'heat', '--hidden', '8', '--epochs', '3', '--streams', '4', '--out', 'kiln.weft.json', '--quiet']).code).toBe(0);
+    expect(
+      weft([
+        'train',
+        'kiln.csv',
+        '--examples',
+        'streams',
+        '--target',
+        'heat',
+        '--hidden',
+        '8',
+        '--epochs',
+        '3',
+        '--streams',
+        '4',
+        '--out',
+        'kiln.weft.json',
+        '--quiet',
+      ]).code,
+    ).toBe(0);
     const rows2 = Array.from({ length: 200 }, (_, t) => `${(21 + 5 * Math.sin(t / 6 + 1)).toFixed(3)},${(Math.cos(t / 6 + 1)).toFixed(3)}`);
     writeFileSync(join(folder, 'kiln-later.csv'), `heat,draft\n${rows2.join('\n')}\n`);
-    const scored = JSON.parse(weft(['score', 'kiln.weft.json', 'kiln-later.csv', '--format', 'json', '--season', 'none']).out) as { what: string; context: string[]; model: { value: number; overall: { count: number } }; baselines: { name: string }[] };
+    const scored = JSON.parse(weft(['score', 'kiln.weft.json', 'kiln-later.csv', '--format', 'json', '--season', 'none']).out) as {
+      what: string;
+      context: string[];
+      model: { value: number; overall: { count: number } };
+      baselines: { name: string }[];
+    };
     expect(scored.baselines.map((b) => b.name)).toEqual(['naive', 'simple smoothing', 'Holt', 'damped trend', 'Theta', 'linear']);
     expect(scored.what).toBe('40 forecasts of heat, 1 row ahead, for lines 162–201 (40 rows) of kiln-later.csv');
-    expect(scored.context).toContain('the model\'s state starts at zero on line 2 and runs through every row; the baselines are fitted on lines 2–161, the rows before the scored ones');
-    const forecasts = (JSON.parse(weft(['run', 'kiln.weft.json', 'kiln-later.csv', '--format', 'json']).out) as Record<string, number>[]).map((r) => r['heat in 1']);
+    expect(scored.context).toContain(
+      "the model's state starts at zero on line 2 and runs through every row; the baselines are fitted on lines 2–161, the rows before the scored ones",
+    );
+    const forecasts = (JSON.parse(weft(['run', 'kiln.weft.json', 'kiln-later.csv', '--format', 'json']).out) as Record<string, number>[]).map(
+      (r) => r['heat in 1'],
+    );
     const heat = rows2.map((r) => Number(r.split(',')[0]));
     let error = 0;
     for (let t = 159; t + 1 < heat.length; t++) error += Math.abs(heat[t + 1] - forecasts[t]);
@@ -96,7 +150,7 @@ describe('weft score', () => {
     expect(Math.abs(scored.model.value - error / 40)).toBeLessThan(1e-3);
   }, 60_000);
 
-  it('repeats weft train\'s verdict on the file trained on, and warns when the part asked overlaps the rows trained on', () => {
+  it("repeats weft train's verdict on the file trained on, and warns when the part asked overlaps the rows trained on", () => {
     const trained = weft(['train', 'kiln.csv', '--target', 'heat', '--hidden', '8', '--epochs', '3', '--streams', '4', '--out', 'kiln2.weft.json']);
     const trainVerdict = trained.out.split('\n').find((l) => l.startsWith('verdict: '));
     const same = weft(['score', 'kiln2.weft.json', 'kiln.csv']);
@@ -104,21 +158,31 @@ describe('weft score', () => {
     // The same verdict: the same baseline and figures; the model's MAE agrees to f32 rounding (train scores the
     // model in memory, score the runtime on the saved file; their kernels may round differently in the last bit).
     const scoreVerdict = same.out.split('\n').find((l) => l.startsWith('verdict: '))!;
-    const numbers = (line: string) => line.replace(/[\d.]+%/g, '').match(/[\d.]+(e-?\d+)?/g)!.map(Number);
+    const numbers = (line: string) =>
+      line
+        .replace(/[\d.]+%/g, '')
+        .match(/[\d.]+(e-?\d+)?/g)!
+        .map(Number);
     expect(scoreVerdict.replace(/[\d.]+/g, '#')).toBe(trainVerdict!.replace(/[\d.]+/g, '#'));
     numbers(scoreVerdict).forEach((v, i) => expect(Math.abs(v - numbers(trainVerdict!)[i])).toBeLessThanOrEqual(1e-5 * Math.max(1, Math.abs(v))));
     const overlap = weft(['score', 'kiln2.weft.json', 'kiln.csv', '--test', '0.5']);
-    expect(overlap.out.split('\n')[0]).toBe('warning: this is the file the model was trained on (the same SHA-256), and 120 of the 150 scored rows were trained on or used for stopping: the model\'s figures are optimistic; leave out --test to score its own test part, or score new data');
+    expect(overlap.out.split('\n')[0]).toBe(
+      "warning: this is the file the model was trained on (the same SHA-256), and 120 of the 150 scored rows were trained on or used for stopping: the model's figures are optimistic; leave out --test to score its own test part, or score new data",
+    );
   }, 60_000);
 
   it('refuses a classify file with one class, and a long table with steps out of order, in one line each', () => {
     writeFileSync(join(folder, 'one.csv'), `label,sequence\n${Array.from({ length: 20 }, () => 'calm,"1 2 3"').join('\n')}\n`);
     const one = weft(['train', 'one.csv']);
     expect(one.code).toBe(1);
-    expect(one.err.trim()).toBe('weft: Bad data at one.csv:2:1: expected labels of at least two classes (a classifier needs them), received the label "calm" on every sequence');
+    expect(one.err.trim()).toBe(
+      'weft: Bad data at one.csv:2:1: expected labels of at least two classes (a classifier needs them), received the label "calm" on every sequence',
+    );
     writeFileSync(join(folder, 'order.csv'), 'unit,step,label,pressure\nu1,1,a,0.1\nu1,3,a,0.2\nu1,2,a,0.3\nu2,1,b,0.1\n');
     const order = weft(['train', 'order.csv', '--id-column', 'unit', '--step-column', 'step']);
     expect(order.code).toBe(1);
-    expect(order.err.trim()).toBe('weft: Bad data at order.csv:4:4: expected a step after 3 (the step of id "u1" on line 3); steps of a sequence must increase down the file, received 2');
+    expect(order.err.trim()).toBe(
+      'weft: Bad data at order.csv:4:4: expected a step after 3 (the step of id "u1" on line 3); steps of a sequence must increase down the file, received 2',
+    );
   });
 });

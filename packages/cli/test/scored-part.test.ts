@@ -11,7 +11,7 @@ const fields = { all: 'rows', test: 'testRows', fitted: ['trainingRows', 'valida
 const split = { kind: 'series', rows: 100, trainingRows: 80, validationRows: 10, testRows: 10 };
 
 describe('the part weft score scores', () => {
-  it('is the training run\'s own test part when the file is its data and no share is asked', () => {
+  it("is the training run's own test part when the file is its data and no share is asked", () => {
     expect(scoredCount(100, { share: undefined, trainedOn: true, split }, 'series', fields)).toEqual({ scored: 10, warning: null, same: true });
   });
 
@@ -24,12 +24,20 @@ describe('the part weft score scores', () => {
     // The last 30 of 100 rows scored; the first 90 were training and validation rows: 20 of the 30 overlap.
     const { scored, warning } = scoredCount(100, { share: 0.3, trainedOn: true, split }, 'series', fields);
     expect(scored).toBe(30);
-    expect(warning).toBe('warning: this is the file the model was trained on (the same SHA-256), and 20 of the 30 scored rows were trained on or used for stopping: the model\'s figures are optimistic; leave out --test to score its own test part, or score new data');
+    expect(warning).toBe(
+      "warning: this is the file the model was trained on (the same SHA-256), and 20 of the 30 scored rows were trained on or used for stopping: the model's figures are optimistic; leave out --test to score its own test part, or score new data",
+    );
   });
 
-  it('draws the training run\'s test sequences again from its seed', () => {
+  it("draws the training run's test sequences again from its seed", () => {
     const sequences = { kind: 'sequences', seed: 'abc', sequences: 50, trainingSequences: 35, validationSequences: 5, testSequences: 10 };
-    const chosen = scoredItems(50, { share: undefined, trainedOn: true, split: sequences }, 'sequences', { all: 'sequences', test: 'testSequences', fitted: ['trainingSequences', 'validationSequences'] }, (seed) => new Random(`${seed}:split`));
+    const chosen = scoredItems(
+      50,
+      { share: undefined, trainedOn: true, split: sequences },
+      'sequences',
+      { all: 'sequences', test: 'testSequences', fitted: ['trainingSequences', 'validationSequences'] },
+      (seed) => new Random(`${seed}:split`),
+    );
     const order = Array.from({ length: 50 }, (_, i) => i);
     new Random('abc:split').shuffle(order);
     expect([...chosen.scored].sort((a, b) => a - b)).toEqual(order.slice(0, 10).sort((a, b) => a - b));

@@ -20,7 +20,12 @@ async function all<T>(source: AsyncIterable<T>): Promise<T[]> {
 describe('lines as they arrive', () => {
   it('split on \\n and \\r\\n wherever chunks break, and decode a character split across chunks', async () => {
     const euro = new TextEncoder().encode('€'); // three bytes
-    expect(await all(boundedLines(chunks('a,b\r', '\nc', 'd\n', euro.subarray(0, 1), euro.subarray(1), 'x\nlast'), 'in.csv'))).toEqual(['a,b', 'cd', '€x', 'last']);
+    expect(await all(boundedLines(chunks('a,b\r', '\nc', 'd\n', euro.subarray(0, 1), euro.subarray(1), 'x\nlast'), 'in.csv'))).toEqual([
+      'a,b',
+      'cd',
+      '€x',
+      'last',
+    ]);
   });
 
   it('refuse a line past the limit at its line number, without reading further', async () => {
@@ -32,7 +37,9 @@ describe('lines as they arrive', () => {
         yield 'x'.repeat(100);
       }
     }
-    await expect(all(boundedLines(endless(), 'big.csv', 1000))).rejects.toThrow('big.csv:2: a line longer than 1,000 characters; weft run reads at most that much per line');
+    await expect(all(boundedLines(endless(), 'big.csv', 1000))).rejects.toThrow(
+      'big.csv:2: a line longer than 1,000 characters; weft run reads at most that much per line',
+    );
     expect(pulled).toBeLessThan(20);
   });
 });
@@ -40,13 +47,20 @@ describe('lines as they arrive', () => {
 describe('records as they arrive', () => {
   it('read a quoted field spanning lines as one record, on the line it started', async () => {
     const tables = await all(tableRecords(chunks('note,level', '"two', 'lines",3', 'plain,4') as AsyncIterable<string>, 'in.csv'));
-    expect(tables.map((t) => [t.rows[0].line, t.rows[0].fields])).toEqual([[2, ['two\nlines', '3']], [4, ['plain', '4']]]);
+    expect(tables.map((t) => [t.rows[0].line, t.rows[0].fields])).toEqual([
+      [2, ['two\nlines', '3']],
+      [4, ['plain', '4']],
+    ]);
   });
 
   it('name a stray quote where it opened, after at most the line limit, however many rows follow', async () => {
     const rows = ['note,level', 'a,1', 'b,2', 'c "d,3', ...Array.from({ length: 20000 }, (_, i) => `r${i},${i}`)];
-    await expect(all(tableRecords(chunks(...rows) as AsyncIterable<string>, 'stray.csv'))).rejects.toThrow('stray.csv:4:3: a quote opened here is not closed within 1,000 lines (a stray quote?)');
-    await expect(all(tableRecords(chunks('note,level', 'a,1', 'b "c,2') as AsyncIterable<string>, 'end.csv'))).rejects.toThrow('end.csv:3:3: a quote opened here is never closed (a stray quote?)');
+    await expect(all(tableRecords(chunks(...rows) as AsyncIterable<string>, 'stray.csv'))).rejects.toThrow(
+      'stray.csv:4:3: a quote opened here is not closed within 1,000 lines (a stray quote?)',
+    );
+    await expect(all(tableRecords(chunks('note,level', 'a,1', 'b "c,2') as AsyncIterable<string>, 'end.csv'))).rejects.toThrow(
+      'end.csv:3:3: a quote opened here is never closed (a stray quote?)',
+    );
     await expect(all(tableRecords(chunks() as AsyncIterable<string>, 'empty.csv'))).rejects.toThrow('empty.csv: no header row (the input is empty)');
   });
 });

@@ -19,27 +19,54 @@ const all: Combination[] = [
   { index: 0, data: 'a.csv', path: '/x/a.csv', flags: { hidden: 8 } },
   { index: 1, data: 'a.csv', path: '/x/a.csv', flags: { hidden: 16 } },
 ];
-const results = { validationLoss: 0.5, steps: 10, stoppedBy: 'epochs', validationFigure: 1.2, metric: 'MAE', lowerIsBetter: true, model: 1.3, bestBaseline: { name: 'naive', value: 1.4 }, out: 'c0.weft.json' };
+const results = {
+  validationLoss: 0.5,
+  steps: 10,
+  stoppedBy: 'epochs',
+  validationFigure: 1.2,
+  metric: 'MAE',
+  lowerIsBetter: true,
+  model: 1.3,
+  bestBaseline: { name: 'naive', value: 1.4 },
+  out: 'c0.weft.json',
+};
 
 describe('what a sweep reads back', () => {
   it('digests the grid as SHA-256 of its combinations, so another grid has another digest', async () => {
-    const expected = createHash('sha256').update(JSON.stringify(all.map((c) => [c.index, c.data, c.flags]))).digest('hex');
+    const expected = createHash('sha256')
+      .update(JSON.stringify(all.map((c) => [c.index, c.data, c.flags])))
+      .digest('hex');
     expect(await gridDigest(all)).toBe(expected);
     expect(await gridDigest([all[0]])).not.toBe(expected);
   });
 
-  it('reads a part of this grid, and refuses another grid\'s, a row changed by hand and a broken file, in one line', async () => {
+  it("reads a part of this grid, and refuses another grid's, a row changed by hand and a broken file, in one line", async () => {
     const digest = await gridDigest(all);
     const path = join(folder, 'part-1-of-1.json');
     const write = (value: unknown) => writeFileSync(path, typeof value === 'string' ? value : JSON.stringify(value));
-    write({ grid: digest, rows: [{ ...all[0], results, error: null }, { ...all[1], results: null, error: 'weft: failed' }] });
-    expect(readPart(path, 'part-1-of-1.json', all, digest).map((r) => [r.index, r.results?.model ?? null, r.error])).toEqual([[0, 1.3, null], [1, null, 'weft: failed']]);
+    write({
+      grid: digest,
+      rows: [
+        { ...all[0], results, error: null },
+        { ...all[1], results: null, error: 'weft: failed' },
+      ],
+    });
+    expect(readPart(path, 'part-1-of-1.json', all, digest).map((r) => [r.index, r.results?.model ?? null, r.error])).toEqual([
+      [0, 1.3, null],
+      [1, null, 'weft: failed'],
+    ]);
     write({ grid: 'f'.repeat(64), rows: [] });
-    expect(() => readPart(path, 'part-1-of-1.json', all, digest)).toThrowError('part-1-of-1.json: made from another grid (the grid changed since: run the parts again)');
+    expect(() => readPart(path, 'part-1-of-1.json', all, digest)).toThrowError(
+      'part-1-of-1.json: made from another grid (the grid changed since: run the parts again)',
+    );
     write({ grid: digest, rows: [{ ...all[0], flags: { hidden: 9 }, results, error: null }] });
-    expect(() => readPart(path, 'part-1-of-1.json', all, digest)).toThrowError("part-1-of-1.json: combination 0 has other flags or data than the grid's (the grid changed: run the parts again)");
+    expect(() => readPart(path, 'part-1-of-1.json', all, digest)).toThrowError(
+      "part-1-of-1.json: combination 0 has other flags or data than the grid's (the grid changed: run the parts again)",
+    );
     write({ grid: digest, rows: [{ ...all[0], results: { ...results, model: 'good' }, error: null }] });
-    expect(() => readPart(path, 'part-1-of-1.json', all, digest)).toThrowError('part-1-of-1.json: combination 0: its results are not those weft train writes (changed by hand?)');
+    expect(() => readPart(path, 'part-1-of-1.json', all, digest)).toThrowError(
+      'part-1-of-1.json: combination 0: its results are not those weft train writes (changed by hand?)',
+    );
     write({ grid: digest, rows: [{ index: 7 }] });
     expect(() => readPart(path, 'part-1-of-1.json', all, digest)).toThrowError('part-1-of-1.json: a row that names no combination of the grid (index 7)');
     write('[{"index": 0');

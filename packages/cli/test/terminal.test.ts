@@ -40,7 +40,10 @@ describe('writing to the terminal', () => {
     const { WeftError } = await import('@weft/core');
     const { errorReport } = await import('../src/main.js');
     const { MAX_LINE } = await import('../src/terminal.js');
-    const report = errorReport(new WeftError({ code: 'bad_weight_file', path: 'model.layers[0].cell', expected: 'a cell', received: 'x'.repeat(50_000_000) }), false);
+    const report = errorReport(
+      new WeftError({ code: 'bad_weight_file', path: 'model.layers[0].cell', expected: 'a cell', received: 'x'.repeat(50_000_000) }),
+      false,
+    );
     expect(report.text.length).toBeLessThan(MAX_LINE + 100);
     expect(report.text).toMatch(/… \(\d+ more characters\)\n$/);
   });
@@ -60,10 +63,15 @@ describe('writing to the terminal', () => {
 
   it('shows a hostile tensor name and metadata key as escaped text in weft inspect', async () => {
     const name = 'w\nweft: all good\u001b[31m';
-    const text = await writeWeightFile({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 1 }] },
-      [{ name: 'layers[0].forward.input', shape: [1, 1], values: Float32Array.of(0.5) }, { name: 'layers[0].forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
-        { name: 'layers[0].forward.bias', shape: [1], values: Float32Array.of(0) }],
-      { metadata: { [name]: 'x'.repeat(5000) } });
+    const text = await writeWeightFile(
+      { input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 1 }] },
+      [
+        { name: 'layers[0].forward.input', shape: [1, 1], values: Float32Array.of(0.5) },
+        { name: 'layers[0].forward.recurrent', shape: [1, 1], values: Float32Array.of(0.5) },
+        { name: 'layers[0].forward.bias', shape: [1], values: Float32Array.of(0) },
+      ],
+      { metadata: { [name]: 'x'.repeat(5000) } },
+    );
     writeFileSync(join(folder, 'hostile.weft.json'), text);
     const result = await new Promise<{ out: string; code: number | null }>((resolve) => {
       const child = spawn(process.execPath, [binary, 'inspect', 'hostile.weft.json'], { cwd: folder });

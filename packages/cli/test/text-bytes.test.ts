@@ -22,7 +22,7 @@ describe('data files as strict UTF-8', () => {
     expect(firstInvalidUtf8(bytes(0xef, 0xbf, 0xbd))).toBe(-1);
   });
 
-  it('agrees with the platform\'s strict decoder on where text is well formed, over 20,000 random byte strings', () => {
+  it("agrees with the platform's strict decoder on where text is well formed, over 20,000 random byte strings", () => {
     const random = new Random('utf-8');
     const strict = new TextDecoder('utf-8', { fatal: true });
     for (let n = 0; n < 20_000; n++) {

@@ -26,18 +26,22 @@ function weft(args: string[]) {
 }
 
 describe('the files of a training run', () => {
-  it('refuses to replace an earlier run\'s checkpoint unless told to start over', () => {
+  it("refuses to replace an earlier run's checkpoint unless told to start over", () => {
     expect(weft(['train', ...small, '--epochs', '1', '--out', 'first.weft.json']).code).toBe(0);
     const again = weft(['train', ...small, '--epochs', '1', '--out', 'first.weft.json']);
     expect(again.code).toBe(2);
-    expect(again.err.trim()).toBe(`weft: ${join(folder, 'first.weft.checkpoint.json')} holds the checkpoint of an earlier run: continue it with --resume ${join(folder, 'first.weft.checkpoint.json')}, or pass --start-over to replace it`);
+    expect(again.err.trim()).toBe(
+      `weft: ${join(folder, 'first.weft.checkpoint.json')} holds the checkpoint of an earlier run: continue it with --resume ${join(folder, 'first.weft.checkpoint.json')}, or pass --start-over to replace it`,
+    );
     expect(weft(['train', ...small, '--epochs', '1', '--out', 'first.weft.json', '--start-over']).code).toBe(0);
   });
 
   it('refuses an output folder that is missing or read-only before training, naming the path', () => {
     const missing = weft(['train', ...small, '--epochs', '50', '--out', join('missing', 'x.weft.json')]);
     expect(missing.code).toBe(1);
-    expect(missing.err.trim()).toBe(`weft: Could not save at ${join(folder, 'missing', 'x.weft.json')}: expected a folder that exists and takes files, received the folder does not exist`);
+    expect(missing.err.trim()).toBe(
+      `weft: Could not save at ${join(folder, 'missing', 'x.weft.json')}: expected a folder that exists and takes files, received the folder does not exist`,
+    );
     mkdirSync(join(folder, 'locked'));
     chmodSync(join(folder, 'locked'), 0o500);
     const locked = weft(['train', ...small, '--epochs', '50', '--out', join('locked', 'x.weft.json')]);
@@ -45,7 +49,9 @@ describe('the files of a training run', () => {
     // As root a folder's mode does not stop a write; the check then passes and the run trains (not asserted here).
     if (process.getuid?.() !== 0) {
       expect(locked.code).toBe(1);
-      expect(locked.err.trim()).toBe(`weft: Could not save at ${join(folder, 'locked', 'x.weft.json')}: expected a folder that exists and takes files, received no permission to write there`);
+      expect(locked.err.trim()).toBe(
+        `weft: Could not save at ${join(folder, 'locked', 'x.weft.json')}: expected a folder that exists and takes files, received no permission to write there`,
+      );
     }
     // Nothing was written beside the data either: no checkpoint, no loss curve.
     expect(readdirSync(folder).filter((name) => name.startsWith('x.'))).toEqual([]);

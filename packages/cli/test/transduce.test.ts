@@ -15,18 +15,36 @@ const codes = Array.from({ length: 160 }, (_, i) => {
   if (i % 3 !== 0) letters.splice(1 + (i % 2), 0, '-');
   return letters.join('');
 });
-writeFileSync(join(folder, 'codes.csv'), ['source,target', ...codes.map((c) => `${c},${c.replace(/-/g, '').toUpperCase()}`)].join('\n') + '\n');
+writeFileSync(join(folder, 'codes.csv'), `${['source,target', ...codes.map((c) => `${c},${c.replace(/-/g, '').toUpperCase()}`)].join('\n')}\n`);
 
 describe('weft on source/target pairs', () => {
   it('trains an encoder-decoder with attention from a pairs CSV (found by its columns) and reports it beside copying', () => {
-    const trained = weft(['train', 'codes.csv', '--hidden', '24', '--embedding', '8', '--epochs', '25', '--streams', '16', '--rate', '0.02', '--bidirectional', '--quiet']);
+    const trained = weft([
+      'train',
+      'codes.csv',
+      '--hidden',
+      '24',
+      '--embedding',
+      '8',
+      '--epochs',
+      '25',
+      '--streams',
+      '16',
+      '--rate',
+      '0.02',
+      '--bidirectional',
+      '--quiet',
+    ]);
     expect(trained.err).toBe('');
     expect(trained.code).toBe(0);
     expect(trained.out).toMatch(/^test: 16 test pairs of codes\.csv, drawn at random \(seed 1\), used for neither training nor stopping$/m);
     expect(trained.out).toMatch(/^ {2}most frequent target +exact match [\d.]+%/m);
-    expect(trained.out).toMatch(/^ {2}model +exact match [\d.]+%  token accuracy [\d.]+%  BLEU [\d.]+  \(greedy decoding\)$/m);
-    expect(trained.out).toMatch(/^ {2}copy +exact match 0\.0%  token accuracy [\d.]+%  BLEU [\d.]+  \(the source itself as the output\)$/m);
-    const file = JSON.parse(readFileSync(join(folder, 'codes.weft.json'), 'utf8')) as { model: { attention: string; encoder: { layers: { bidirectional: boolean }[] } }; metadata: { task: string } };
+    expect(trained.out).toMatch(/^ {2}model +exact match [\d.]+% {2}token accuracy [\d.]+% {2}BLEU [\d.]+ {2}\(greedy decoding\)$/m);
+    expect(trained.out).toMatch(/^ {2}copy +exact match 0\.0% {2}token accuracy [\d.]+% {2}BLEU [\d.]+ {2}\(the source itself as the output\)$/m);
+    const file = JSON.parse(readFileSync(join(folder, 'codes.weft.json'), 'utf8')) as {
+      model: { attention: string; encoder: { layers: { bidirectional: boolean }[] } };
+      metadata: { task: string };
+    };
     expect([file.model.attention, file.model.encoder.layers[0].bidirectional, file.metadata.task]).toEqual(['general', true, 'transduction']);
   });
 
@@ -49,16 +67,23 @@ describe('weft on source/target pairs', () => {
   it('says in one line that an encoder-decoder does not convert to ONNX, naming the file', () => {
     const converted = weft(['convert', 'codes.weft.json']);
     expect(converted.code).toBe(1);
-    expect(converted.err.trim()).toBe('weft: codes.weft.json: an encoder-decoder; weft converts sequence models (one chain of layers) to ONNX, not encoder-decoders');
+    expect(converted.err.trim()).toBe(
+      'weft: codes.weft.json: an encoder-decoder; weft converts sequence models (one chain of layers) to ONNX, not encoder-decoders',
+    );
   });
 
-  it('scores the test part of the file trained on: the copy baseline\'s figures are those of its definitions', () => {
+  it("scores the test part of the file trained on: the copy baseline's figures are those of its definitions", () => {
     const scored = weft(['score', 'codes.weft.json', 'codes.csv', '--format', 'json']);
     expect(scored.code).toBe(0);
-    const report = JSON.parse(scored.out) as { metric: string; what: string; model: { transduction: { exactMatch: number } }; baselines: { name: string; transduction: { exactMatch: number; tokenAccuracy: number } }[] };
+    const report = JSON.parse(scored.out) as {
+      metric: string;
+      what: string;
+      model: { transduction: { exactMatch: number } };
+      baselines: { name: string; transduction: { exactMatch: number; tokenAccuracy: number } }[];
+    };
     expect(report.metric).toBe('exact match');
     // The file trained on: only its test part is scored, the pairs training never saw.
-    expect(report.what).toBe('16 pairs of codes.csv, the training run\'s test part');
+    expect(report.what).toBe("16 pairs of codes.csv, the training run's test part");
     expect(report.baselines.map((b) => b.name)).toEqual(['copy', 'most frequent target']);
     expect(report.model.transduction.exactMatch).toBeGreaterThan(report.baselines[0].transduction.exactMatch);
     // Copying: every source letter is lower case and every target letter upper case, so no position matches.
@@ -67,18 +92,38 @@ describe('weft on source/target pairs', () => {
 
   it('refuses an empty side, a target over the decoder limit and an unknown attention form in one line', () => {
     writeFileSync(join(folder, 'empty.csv'), 'source,target\nab,AB\ncd,\n');
-    expectOneLineError(weft(['train', 'empty.csv']), 1, /^weft: Bad data at empty\.csv:3:4: expected a target of at least one character, received an empty field$/);
-    expectOneLineError(weft(['train', 'codes.csv', '--max-target', '3', '--start-over']), 1, /^weft: Bad data at codes\.csv:\d+:\d+: expected a target of at most 3 characters \(the decoder's limit, --max-target\), received \d+$/);
-    expectOneLineError(weft(['train', 'codes.csv', '--attention', 'cosine']), 2, /^weft: --attention must be one of dot, general, additive, none, got "cosine"$/);
+    expectOneLineError(
+      weft(['train', 'empty.csv']),
+      1,
+      /^weft: Bad data at empty\.csv:3:4: expected a target of at least one character, received an empty field$/,
+    );
+    expectOneLineError(
+      weft(['train', 'codes.csv', '--max-target', '3', '--start-over']),
+      1,
+      /^weft: Bad data at codes\.csv:\d+:\d+: expected a target of at most 3 characters \(the decoder's limit, --max-target\), received \d+$/,
+    );
+    expectOneLineError(
+      weft(['train', 'codes.csv', '--attention', 'cosine']),
+      2,
+      /^weft: --attention must be one of dot, general, additive, none, got "cosine"$/,
+    );
     expectOneLineError(weft(['train', 'codes.csv', '--task', 'classify', '--reverse-source']), 2, /^weft: --reverse-source applies to --task pairs/);
     writeFileSync(join(folder, 'sources.csv'), 'source,note\nab-cd,first\n,second\n');
-    expectOneLineError(weft(['run', 'codes.weft.json', 'sources.csv']), 1, /^weft: Bad data at sources\.csv:3:1: expected a source of at least one token, received an empty field$/);
+    expectOneLineError(
+      weft(['run', 'codes.weft.json', 'sources.csv']),
+      1,
+      /^weft: Bad data at sources\.csv:3:1: expected a source of at least one token, received an empty field$/,
+    );
   });
 
   it('refuses a source past 10,000 tokens at its line on either backend, and escapes control characters in CSV output', () => {
     const long = `ab\n${'a'.repeat(10_001)}\n`;
     for (const backend of ['javascript', 'webassembly']) {
-      expectOneLineError(weft(['run', 'codes.weft.json', '-', '--backend', backend], long), 1, /^weft: Bad data at <stdin>:2:1: expected a source of at most 10,000 characters \(weft's limit for an encoder-decoder's source\), received 10,001 characters$/);
+      expectOneLineError(
+        weft(['run', 'codes.weft.json', '-', '--backend', backend], long),
+        1,
+        /^weft: Bad data at <stdin>:2:1: expected a source of at most 10,000 characters \(weft's limit for an encoder-decoder's source\), received 10,001 characters$/,
+      );
     }
     writeFileSync(join(folder, 'long.csv'), `source,target\nab,AB\n${'c'.repeat(10_001)},C\n`);
     expectOneLineError(weft(['score', 'codes.weft.json', 'long.csv']), 1, /^weft: Bad data at long\.csv:3:1: expected a source of at most 10,000 characters/);

@@ -28,17 +28,37 @@ describe('a module of your own', () => {
       expect(result.code).toBe(1);
       expect(result.err).toMatch(/^weft: .*cell\.ts: could not load the module: Cannot find (package|module) '@weft\/core'/);
     } else {
-      expectOneLineError(result, 1, /^weft: .*cell\.ts: a TypeScript module needs Node 22\.18 or later \(it strips the types itself; this is Node v\d+\.\d+\.\d+\), or tsx installed beside it \(npm install --save-dev tsx\); or compile it to JavaScript first$/);
+      expectOneLineError(
+        result,
+        1,
+        /^weft: .*cell\.ts: a TypeScript module needs Node 22\.18 or later \(it strips the types itself; this is Node v\d+\.\d+\.\d+\), or tsx installed beside it \(npm install --save-dev tsx\); or compile it to JavaScript first$/,
+      );
     }
   });
 
   it('refuses a class, a value that is not a function, a missing export and a missing file, naming each', () => {
-    expectOneLineError(weft(['check', '--module', join(fixtures, 'class-cell.mjs'), '--export', 'GatedCell']), 1, /^weft: .*class-cell\.mjs: export "GatedCell" is a class; export a function \(\{ inputWidth, hidden, dtype \}\) => cell that makes one \(for example \(request\) => new GatedCell\(request\)\)$/);
-    expectOneLineError(weft(['check', '--module', join(fixtures, 'class-cell.mjs')]), 1, /^weft: .*class-cell\.mjs: no export "default" \(it exports "GatedCell"\); name one with --export$/);
+    expectOneLineError(
+      weft(['check', '--module', join(fixtures, 'class-cell.mjs'), '--export', 'GatedCell']),
+      1,
+      /^weft: .*class-cell\.mjs: export "GatedCell" is a class; export a function \(\{ inputWidth, hidden, dtype \}\) => cell that makes one \(for example \(request\) => new GatedCell\(request\)\)$/,
+    );
+    expectOneLineError(
+      weft(['check', '--module', join(fixtures, 'class-cell.mjs')]),
+      1,
+      /^weft: .*class-cell\.mjs: no export "default" \(it exports "GatedCell"\); name one with --export$/,
+    );
     writeFileSync(join(folder, 'number.mjs'), 'export const makeCell = 42;\n');
-    expectOneLineError(weft(['check', '--module', join(folder, 'number.mjs'), '--export', 'makeCell']), 1, /^weft: .*number\.mjs: export "makeCell" is number, not a function \(\{ inputWidth, hidden, dtype \}\) => cell$/);
+    expectOneLineError(
+      weft(['check', '--module', join(folder, 'number.mjs'), '--export', 'makeCell']),
+      1,
+      /^weft: .*number\.mjs: export "makeCell" is number, not a function \(\{ inputWidth, hidden, dtype \}\) => cell$/,
+    );
     writeFileSync(join(folder, 'throws.mjs'), 'export default () => { throw new Error("no such size"); };\n');
-    expectOneLineError(weft(['check', '--module', join(folder, 'throws.mjs')]), 1, /^weft: .*throws\.mjs: export "default" threw when asked for a cell of 3 inputs and 4 hidden in f64: no such size$/);
+    expectOneLineError(
+      weft(['check', '--module', join(folder, 'throws.mjs')]),
+      1,
+      /^weft: .*throws\.mjs: export "default" threw when asked for a cell of 3 inputs and 4 hidden in f64: no such size$/,
+    );
     expectOneLineError(weft(['check', '--module', join(folder, 'missing.ts')]), 1, /^weft: .*missing\.ts: no such file$/);
   });
 });

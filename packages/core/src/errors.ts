@@ -70,10 +70,7 @@ export class WeftError extends Error {
 
   constructor(problems: Problem | readonly Problem[]) {
     const list: readonly Problem[] = Array.isArray(problems) ? problems : [problems as Problem];
-    const message =
-      list.length === 1
-        ? describeProblem(list[0])
-        : `${list.length} problems:\n` + list.map((p) => `  - ${describeProblem(p)}`).join('\n');
+    const message = list.length === 1 ? describeProblem(list[0]) : `${list.length} problems:\n${list.map((p) => `  - ${describeProblem(p)}`).join('\n')}`;
     super(message);
     this.name = 'WeftError';
     this.problems = list;
@@ -106,12 +103,6 @@ export function formatShape(shape: readonly number[]): string {
 }
 
 /** Throws a `WeftError` with one problem made of these fields. */
-export function fail(
-  code: ProblemCode,
-  path: string,
-  expected: string,
-  received: string,
-  detail?: string,
-): never {
+export function fail(code: ProblemCode, path: string, expected: string, received: string, detail?: string): never {
   throw new WeftError({ code, path, expected, received, detail });
 }

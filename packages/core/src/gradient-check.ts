@@ -163,11 +163,7 @@ function indexOf(offset: number, shape: readonly number[]): number[] {
  * Checks the reverse-mode gradients of the scalar `build` returns with respect to `tensors` against central finite
  * differences, entry by entry and along random directions (f64 recommended).
  */
-export function checkGradients(
-  build: (tape: Tape) => Tensor,
-  tensors: readonly Tensor[],
-  options: GradientCheckOptions = {},
-): GradientReport {
+export function checkGradients(build: (tape: Tape) => Tensor, tensors: readonly Tensor[], options: GradientCheckOptions = {}): GradientReport {
   const step = options.step ?? 1e-5;
   const tolerance = options.tolerance ?? 1e-6;
   const absoluteFloor = options.absoluteFloor ?? 1e-9;
@@ -320,7 +316,13 @@ export function checkGradients(
         return [(fUp - fDown) / (2 * s), noiseOf(fUp, fDown, 2 * s)];
       };
       const judged = judge(expected, difference, step, tolerance, absoluteFloor);
-      directions.push({ analytic: expected, numeric: judged.numeric, relativeError: relativeError(expected, judged.numeric), passed: judged.rule !== 'failed', rule: judged.rule });
+      directions.push({
+        analytic: expected,
+        numeric: judged.numeric,
+        relativeError: relativeError(expected, judged.numeric),
+        passed: judged.rule !== 'failed',
+        rule: judged.rule,
+      });
     }
 
     const passed = results.every((r) => r.passed) && directions.every((d) => d.passed);
@@ -344,7 +346,13 @@ function noiseOf(fUp: number, fDown: number, span: number): number {
  * The rule an entry passes by, trying the cheap ones first: the difference at `step` (relative, then noise), then
  * Richardson's extrapolation with the difference at step/2, then the caller's floor; the value judged last.
  */
-function judge(a: number, difference: (step: number) => [number, number], step: number, tolerance: number, absoluteFloor: number): { rule: PassRule | 'failed'; numeric: number } {
+function judge(
+  a: number,
+  difference: (step: number) => [number, number],
+  step: number,
+  tolerance: number,
+  absoluteFloor: number,
+): { rule: PassRule | 'failed'; numeric: number } {
   const [d1, noise1] = difference(step);
   if (relativeError(a, d1) < tolerance) return { rule: 'relative', numeric: d1 };
   if (Math.abs(a - d1) < noise1) return { rule: 'noise', numeric: d1 };

@@ -26,8 +26,7 @@ export interface PoolCounts {
   readonly peakBytesInUse: number;
 }
 
-const defaultAllocate: Allocate = (dtype, length) =>
-  dtype === 'f64' ? new Float64Array(length) : new Float32Array(length);
+const defaultAllocate: Allocate = (dtype, length) => (dtype === 'f64' ? new Float64Array(length) : new Float32Array(length));
 
 /**
  * Typed arrays kept for reuse by dtype and length: `take` hands one out as it was left (`takeZeroed` clears it),

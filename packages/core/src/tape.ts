@@ -111,8 +111,13 @@ export class Tape {
       const probe = this.pool.take('f32', 1);
       this.pool.give(probe);
       if (!this.backend.holds(probe)) {
-        fail('backend_mismatch', 'Tape.pool', `a pool of the ${this.backend.name} backend (backend.createPool())`, 'a pool whose buffers live elsewhere',
-          'pass { backend, pool: backend.createPool() } together, or leave out the pool');
+        fail(
+          'backend_mismatch',
+          'Tape.pool',
+          `a pool of the ${this.backend.name} backend (backend.createPool())`,
+          'a pool whose buffers live elsewhere',
+          'pass { backend, pool: backend.createPool() } together, or leave out the pool',
+        );
       }
     }
     this.recording = options.recording ?? true;
@@ -167,8 +172,13 @@ export class Tape {
     let saved = (node.lastKind === kind ? node.lastSaved : node.records.get(kind as OperationKind<never>)) as Saved | undefined;
     if (saved === undefined) {
       if (typeof kind.saves !== 'function') {
-        fail('invalid_argument', `${kind.name}.saves`, 'a function that makes the record of what backward reads (see OperationKind)', typeof kind.saves,
-          'an operation kind now keeps what backward needs in named fields: give it saves() and fill the record tape.record returns');
+        fail(
+          'invalid_argument',
+          `${kind.name}.saves`,
+          'a function that makes the record of what backward reads (see OperationKind)',
+          typeof kind.saves,
+          'an operation kind now keeps what backward needs in named fields: give it saves() and fill the record tape.record returns',
+        );
       }
       saved = kind.saves();
       node.records.set(kind as OperationKind<never>, saved);
@@ -206,8 +216,13 @@ export class Tape {
   reverseSweep(output: Tensor, outputGradient?: FloatArray | Tensor): void {
     if (this.swept) fail('tape_state', 'Tape.reverseSweep', 'a tape recorded since the last clear', 'a tape already swept');
     if (!output.tracked) {
-      fail('tape_state', 'Tape.reverseSweep.output', 'a tensor that depends on a trainable tensor', `untracked ${output.label()}`,
-        'nothing recorded on this tape leads to it; mark parameters with trainable() and keep recording on');
+      fail(
+        'tape_state',
+        'Tape.reverseSweep.output',
+        'a tensor that depends on a trainable tensor',
+        `untracked ${output.label()}`,
+        'nothing recorded on this tape leads to it; mark parameters with trainable() and keep recording on',
+      );
     }
     const seed = this.gradientOf(output);
     if (outputGradient === undefined) {

@@ -169,26 +169,14 @@ function describeValue(value: unknown): string {
 }
 
 /** Uniform values in [low, high) drawn from `random` in row-major order. */
-export function randomUniform(
-  shape: readonly number[],
-  random: Random,
-  low = 0,
-  high = 1,
-  dtype: DType = 'f32',
-): Tensor {
+export function randomUniform(shape: readonly number[], random: Random, low = 0, high = 1, dtype: DType = 'f32'): Tensor {
   const result = zeros(shape, dtype);
   for (let i = 0; i < result.size; i++) result.data[i] = random.between(low, high);
   return result;
 }
 
 /** Normal values with the given mean and standard deviation drawn from `random` in row-major order. */
-export function randomNormal(
-  shape: readonly number[],
-  random: Random,
-  mean = 0,
-  deviation = 1,
-  dtype: DType = 'f32',
-): Tensor {
+export function randomNormal(shape: readonly number[], random: Random, mean = 0, deviation = 1, dtype: DType = 'f32'): Tensor {
   const result = zeros(shape, dtype);
   for (let i = 0; i < result.size; i++) result.data[i] = mean + deviation * random.normal();
   return result;

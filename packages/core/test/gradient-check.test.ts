@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { Random, Tape, add, checkGradients, exp, multiply, noTensor, randomUniform, sum, tanh, tensor } from '@weft/core';
+import { Random, type Tape, add, checkGradients, exp, multiply, noTensor, randomUniform, sum, tanh, tensor } from '@weft/core';
 import type { OperationKind, Tensor } from '@weft/core';
 
 /** A mutant operation: y = x², whose backward deliberately adds 2x + 0.01 instead of 2x. */
@@ -72,7 +72,7 @@ describe('checkGradients', () => {
     );
   });
 
-  it('passes an entry within the difference\'s rounding noise, and says so', () => {
+  it("passes an entry within the difference's rounding noise, and says so", () => {
     // f(x) = x0² + 1e-12·x1²: ∂f/∂x1 = 2e-12·x1 is far under the finite-difference noise (≈ ε·|f|/h), so its
     // relative error is large while its absolute error is within NOISE_GROWTH·ε·(|f(x+h)| + |f(x−h)|)/2h.
     const x = tensor([0.3, 0.7], [2], 'f64');
@@ -84,7 +84,7 @@ describe('checkGradients', () => {
     expect(check.worstRelativeError).toBeGreaterThan(1e-6);
     expect(check.passedByNoise).toEqual([1]);
     expect(check.passed).toBe(true);
-    expect(report.text()).toContain('1 passed within the difference\'s rounding noise');
+    expect(report.text()).toContain("1 passed within the difference's rounding noise");
   });
 
   it('scales the noise bound with the loss: a correct gradient of a loss near 1e6 passes, a wrong one still fails', () => {

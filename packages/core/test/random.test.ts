@@ -21,7 +21,7 @@ describe('the bundled generator against the seedrandom package', () => {
     }
   });
 
-  it('keeps the package\'s state format: a state saved by one continues bit-identically in the other', () => {
+  it("keeps the package's state format: a state saved by one continues bit-identically in the other", () => {
     const ours = new Random('handover');
     for (let i = 0; i < 513; i++) ours.normal();
     const theirs = seedrandom.alea('', { state: ours.state() });
@@ -67,7 +67,9 @@ describe('the seeded generator', () => {
   });
 
   it('refuses a bad state naming the field', () => {
-    expect(() => Random.fromState({ c: 1, s0: Number.NaN, s1: 0, s2: 0 })).toThrowError('Invalid argument at RandomState.s0: expected a finite number, received NaN');
+    expect(() => Random.fromState({ c: 1, s0: Number.NaN, s1: 0, s2: 0 })).toThrowError(
+      'Invalid argument at RandomState.s0: expected a finite number, received NaN',
+    );
   });
 });
 

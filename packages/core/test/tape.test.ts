@@ -1,10 +1,24 @@
 import { describe, expect, it } from 'vitest';
 import { f64Input } from '../../../tests/helpers/tensors.js';
 import {
-  Random, defaultBackend, Tape, WeftError, add, checkGradients, matmul, multiply, randomUniform, sigmoid, sum, tanh, tensor, trainable,
-  resetGradients, detach, dropout,
+  Random,
+  defaultBackend,
+  Tape,
+  WeftError,
+  add,
+  checkGradients,
+  matmul,
+  multiply,
+  randomUniform,
+  sigmoid,
+  sum,
+  tanh,
+  tensor,
+  trainable,
+  resetGradients,
+  detach,
+  dropout,
 } from '@weft/core';
-
 
 describe('the tape', () => {
   it('records one node per operation and sweeps from a scalar with seed 1', () => {
@@ -24,7 +38,14 @@ describe('the tape', () => {
   it('gives the vector–Jacobian product from a given output gradient', () => {
     // y = A·x for x [1,2]·A; with seed v, ∂(v·y)/∂x = v·Aᵀ (linear algebra, common practice).
     const x = trainable(tensor([[1, 2]], undefined, 'f64'));
-    const a = tensor([[1, 2, 3], [4, 5, 6]], undefined, 'f64');
+    const a = tensor(
+      [
+        [1, 2, 3],
+        [4, 5, 6],
+      ],
+      undefined,
+      'f64',
+    );
     const tape = new Tape();
     const y = matmul(tape, x, a);
     tape.reverseSweep(y, Float64Array.of(1, -1, 2));
@@ -47,7 +68,9 @@ describe('the tape', () => {
     const x = trainable(tensor([1, 2], [2], 'f64'));
     const tape = new Tape();
     const y = tanh(tape, x);
-    expect(() => tape.reverseSweep(y)).toThrowError('Shape mismatch at Tape.reverseSweep.output: expected a scalar (one element) when no output gradient is given, received [2]');
+    expect(() => tape.reverseSweep(y)).toThrowError(
+      'Shape mismatch at Tape.reverseSweep.output: expected a scalar (one element) when no output gradient is given, received [2]',
+    );
     const s = sum(tape, y);
     tape.reverseSweep(s);
     expect(() => tape.reverseSweep(s)).toThrowError(WeftError);
@@ -60,7 +83,7 @@ describe('the tape', () => {
     expect(() => tape.reverseSweep(y)).toThrowError(/Tape misuse at Tape.reverseSweep.output/);
   });
 
-  it('gives each node its kind\'s own record, reused when the same graph is recorded again', () => {
+  it("gives each node its kind's own record, reused when the same graph is recorded again", () => {
     const x = trainable(tensor([1, 2], [2], 'f64'), 'x');
     const tape = new Tape();
     const scaledKind = {
@@ -184,13 +207,17 @@ describe('dropout', () => {
     const inputWeights = f64Input(random, [2, 3], 'inputWeights');
     const bias = f64Input(random, [3], 'bias');
     const xs = Array.from({ length: 12 }, (_, t) => f64Input(random, [2, 2], `x${t}`));
-    const report = checkGradients((tape) => {
-      let h = f64Input(new Random(0), [2, 3], 'h0');
-      for (const x of xs) {
-        h = tanh(tape, add(tape, add(tape, matmul(tape, x, inputWeights), matmul(tape, h, recurrent)), bias));
-      }
-      return sum(tape, multiply(tape, h, h));
-    }, [recurrent, inputWeights, bias], { tolerance: 1e-7, directions: 2 });
+    const report = checkGradients(
+      (tape) => {
+        let h = f64Input(new Random(0), [2, 3], 'h0');
+        for (const x of xs) {
+          h = tanh(tape, add(tape, add(tape, matmul(tape, x, inputWeights), matmul(tape, h, recurrent)), bias));
+        }
+        return sum(tape, multiply(tape, h, h));
+      },
+      [recurrent, inputWeights, bias],
+      { tolerance: 1e-7, directions: 2 },
+    );
     if (!report.passed) throw new Error(report.text());
     expect(report.passed).toBe(true);
     // The recorded graph really has the recurrent matrix read by 12 matmul nodes.

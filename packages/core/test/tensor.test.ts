@@ -1,9 +1,36 @@
 import { describe, expect, it } from 'vitest';
-import { Random, Tape, WeftError, add, concat, filled, gatherRows, matmul, randomNormal, randomUniform, crossEntropyAtTargets, tensor, zeros } from '@weft/core';
+import {
+  Random,
+  Tape,
+  WeftError,
+  add,
+  concat,
+  filled,
+  gatherRows,
+  matmul,
+  randomNormal,
+  randomUniform,
+  crossEntropyAtTargets,
+  tensor,
+  zeros,
+} from '@weft/core';
 
 describe('tensors', () => {
   it('lay out nested values row-major and read them back by the address formula', () => {
-    const t = tensor([[[1, 2, 3], [4, 5, 6]], [[7, 8, 9], [10, 11, 12]]], undefined, 'f64');
+    const t = tensor(
+      [
+        [
+          [1, 2, 3],
+          [4, 5, 6],
+        ],
+        [
+          [7, 8, 9],
+          [10, 11, 12],
+        ],
+      ],
+      undefined,
+      'f64',
+    );
     expect(t.shape).toEqual([2, 2, 3]);
     expect(t.dtype).toBe('f64');
     // offset = ((i0·n1 + i1)·n2 + i2)
@@ -60,8 +87,14 @@ describe('tensors', () => {
     expect(() => add(tape, a, zeros([3, 4], 'f64'))).toThrowError('Dtype mismatch at add.b: expected f32, received f64');
     expect(() => concat(tape, [a, zeros([2, 4])])).toThrowError('Shape mismatch at concat.parts[1]: expected [3, any], received [2, 4]');
     expect(() => gatherRows(tape, a, [0, 3])).toThrowError('Invalid argument at gatherRows.indices[1]: expected a whole number in [0, 3), received 3');
-    expect(() => crossEntropyAtTargets(tape, a, [0, 1])).toThrowError('Shape mismatch at crossEntropyAtTargets.targets: expected 3 targets (one per row of logits [3, 4]), received 2');
-    expect(() => crossEntropyAtTargets(tape, a, [0, 1, 4])).toThrowError('Invalid argument at crossEntropyAtTargets.targets[2]: expected a class index in [0, 4), received 4');
-    expect(() => crossEntropyAtTargets(tape, a, [0, 1, 2], { weights: [1, Number.NaN, 1] })).toThrowError('Invalid argument at crossEntropyAtTargets.weights[1]: expected a finite number ≥ 0, received NaN');
+    expect(() => crossEntropyAtTargets(tape, a, [0, 1])).toThrowError(
+      'Shape mismatch at crossEntropyAtTargets.targets: expected 3 targets (one per row of logits [3, 4]), received 2',
+    );
+    expect(() => crossEntropyAtTargets(tape, a, [0, 1, 4])).toThrowError(
+      'Invalid argument at crossEntropyAtTargets.targets[2]: expected a class index in [0, 4), received 4',
+    );
+    expect(() => crossEntropyAtTargets(tape, a, [0, 1, 2], { weights: [1, Number.NaN, 1] })).toThrowError(
+      'Invalid argument at crossEntropyAtTargets.weights[1]: expected a finite number ≥ 0, received NaN',
+    );
   });
 });

@@ -39,15 +39,31 @@ export async function readCheckpoint(text: string, options: ReadOptions = {}): P
   const training = file.training;
   const problems: Problem[] = [];
   const add = (path: string, expected: string, received: unknown): void => {
-    problems.push({ code: 'bad_weight_file', path: `training.${path}`, expected, received: typeof received === 'object' ? JSON.stringify(received)?.slice(0, 60) ?? 'null' : String(received) });
+    problems.push({
+      code: 'bad_weight_file',
+      path: `training.${path}`,
+      expected,
+      received: typeof received === 'object' ? (JSON.stringify(received)?.slice(0, 60) ?? 'null') : String(received),
+    });
   };
-  if (!isRecord(training)) fail('bad_weight_file', 'training', 'the training state of a checkpoint', training === undefined ? 'none (a weight file, not a checkpoint)' : typeof training);
+  if (!isRecord(training))
+    fail(
+      'bad_weight_file',
+      'training',
+      'the training state of a checkpoint',
+      training === undefined ? 'none (a weight file, not a checkpoint)' : typeof training,
+    );
   const whole = (v: unknown) => typeof v === 'number' && Number.isInteger(v) && v >= 0;
   if (!whole(training.step)) add('step', 'a whole number ≥ 0', training.step);
-  if (!isRecord(training.cursor) || !whole(training.cursor.epoch) || !whole(training.cursor.index)) add('cursor', '{ epoch, index } whole numbers', training.cursor);
-  if (!isRecord(training.optimizer) || typeof training.optimizer.kind !== 'string' || !isRecord(training.optimizer.slots)) add('optimizer', 'an optimiser state { kind, steps, slots }', training.optimizer);
+  if (!isRecord(training.cursor) || !whole(training.cursor.epoch) || !whole(training.cursor.index))
+    add('cursor', '{ epoch, index } whole numbers', training.cursor);
+  if (!isRecord(training.optimizer) || typeof training.optimizer.kind !== 'string' || !isRecord(training.optimizer.slots))
+    add('optimizer', 'an optimiser state { kind, steps, slots }', training.optimizer);
   if (!isRecord(training.random)) add('random', 'a generator state', training.random);
-  if (training.carried !== null && !(Array.isArray(training.carried) && training.carried.every((row) => Array.isArray(row) && row.every((v) => typeof v === 'number')))) {
+  if (
+    training.carried !== null &&
+    !(Array.isArray(training.carried) && training.carried.every((row) => Array.isArray(row) && row.every((v) => typeof v === 'number')))
+  ) {
     add('carried', 'null or arrays of numbers', training.carried);
   }
   if (!isRecord(training.best)) add('best', 'the early-stopping record', training.best);

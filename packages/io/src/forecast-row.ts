@@ -68,14 +68,23 @@ function cellNumber(raw: number | string | Date | undefined): number {
  * (a marker, or NaN); anything else is an error naming the row and column.
  */
 export function valueAt(row: ForecastRow, name: string, where: string, isMissing: ((text: string) => boolean) | null): number {
-  const raw = Object.prototype.hasOwnProperty.call(row, name) ? row[name] : undefined;
+  const raw = Object.hasOwn(row, name) ? row[name] : undefined;
   if (isMissing !== null && ((typeof raw === 'string' && isMissing(raw)) || (typeof raw === 'number' && Number.isNaN(raw)))) return NaN;
   const value = cellNumber(raw);
   if (!Number.isFinite(value)) {
     const marker = (typeof raw === 'string' && STANDARD_MISSING(raw)) || (typeof raw === 'number' && Number.isNaN(raw));
-    const expected = isMissing !== null ? 'a finite number or a missing-reading marker' : marker ? 'a finite number (this model records no rule for missing readings: retrain it with this version)' : 'a finite number';
-    fail('bad_data', `${where}.${name}`, raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : expected, raw === undefined ? 'nothing' : raw instanceof Date ? 'a Date' : JSON.stringify(raw));
+    const expected =
+      isMissing !== null
+        ? 'a finite number or a missing-reading marker'
+        : marker
+          ? 'a finite number (this model records no rule for missing readings: retrain it with this version)'
+          : 'a finite number';
+    fail(
+      'bad_data',
+      `${where}.${name}`,
+      raw === undefined ? `a value for column ${JSON.stringify(name)}, which the model reads` : expected,
+      raw === undefined ? 'nothing' : raw instanceof Date ? 'a Date' : JSON.stringify(raw),
+    );
   }
   return value;
 }
-

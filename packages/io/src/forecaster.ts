@@ -28,6 +28,8 @@ import { forecastIntervals, forecastMissing, forecastPanel, forecastRowsAhead, f
 import { fillColumn, missingTest } from './data/missing.js';
 import { valueAt } from './forecast-row.js';
 import type { RowForecaster } from './forecast-row.js';
+import { streamRowForecaster } from './forecast-streams.js';
+import type { ForecasterParts } from './forecast-streams.js';
 export type { ForecastRow, RowForecaster } from './forecast-row.js';
 export type { ForecastWindow } from './forecast-metadata.js';
 
@@ -36,7 +38,7 @@ function seriesInputOf(metadata: Readonly<Record<string, unknown>>): { index: nu
   const code = metadata.seriesInput as { index?: unknown; count?: unknown } | undefined;
   if (code === undefined) return null;
   if (!(Number.isInteger(code.count) && Number.isInteger(code.index) && (code.index as number) >= 0 && (code.index as number) < (code.count as number))) {
-    fail('bad_weight_file', 'metadata.seriesInput', 'a series\' index among a count of series', JSON.stringify(code).slice(0, 80));
+    fail('bad_weight_file', 'metadata.seriesInput', "a series' index among a count of series", JSON.stringify(code).slice(0, 80));
   }
   return code as { index: number; count: number };
 }
@@ -47,13 +49,25 @@ function seriesInputOf(metadata: Readonly<Record<string, unknown>>): { index: nu
  */
 export function createSeriesForecasters(runtime: Runtime, metadata: Readonly<Record<string, unknown>>): Map<string, RowForecaster> {
   const panel = forecastPanel(metadata);
-  if (panel === null) fail('invalid_argument', 'createSeriesForecasters.metadata', 'the metadata of a model of many series (metadata.panel)', 'a model of one series: use createRowForecaster');
+  if (panel === null)
+    fail(
+      'invalid_argument',
+      'createSeriesForecasters.metadata',
+      'the metadata of a model of many series (metadata.panel)',
+      'a model of one series: use createRowForecaster',
+    );
   return new Map(panel.ids.map((id) => [id, createRowForecaster(runtime, seriesMetadata(metadata, id))]));
 }
 
 /** A row forecaster for a forecast model and its weight file's metadata. */
 export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<string, unknown>>): RowForecaster {
-  if (metadata.panel !== undefined) fail('invalid_argument', 'createRowForecaster.metadata', 'the metadata of a model of one series (a model of many: createSeriesForecasters, or seriesMetadata for one of them)', `a model of ${forecastPanel(metadata)?.ids.length} series`);
+  if (metadata.panel !== undefined)
+    fail(
+      'invalid_argument',
+      'createRowForecaster.metadata',
+      'the metadata of a model of one series (a model of many: createSeriesForecasters, or seriesMetadata for one of them)',
+      `a model of ${forecastPanel(metadata)?.ids.length} series`,
+    );
   const translator = createTranslator(metadata);
   const inputNames = translator.inputNames;
   const outputNames = translator.outputNames;
@@ -63,7 +77,12 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const members = metadata.members === undefined ? 1 : Number(metadata.members);
   const block = rowsAhead.length * targetCount;
   if (!Number.isInteger(members) || members < 1 || runtime.outputWidth !== members * block) {
-    fail('bad_weight_file', 'metadata.members', `a count of members whose ${rowsAhead.length} × ${targetCount} forecasts make the model's ${runtime.outputWidth} outputs`, JSON.stringify(metadata.members) ?? 'nothing');
+    fail(
+      'bad_weight_file',
+      'metadata.members',
+      `a count of members whose ${rowsAhead.length} × ${targetCount} forecasts make the model's ${runtime.outputWidth} outputs`,
+      JSON.stringify(metadata.members) ?? 'nothing',
+    );
   }
   const intervals = forecastIntervals(metadata, block);
   const output = new Float32Array(runtime.outputWidth);
@@ -79,66 +98,30 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   };
   const width = inputNames.length;
   const checkOut = (out: { readonly length: number }) => {
-    if (out.length < block) fail('shape_mismatch', 'out', `room for ${block} forecasts (${targetCount} target${targetCount === 1 ? '' : 's'} × ${rowsAhead.length} row${rowsAhead.length === 1 ? '' : 's'} ahead)`, `${out.length}`);
+    if (out.length < block)
+      fail(
+        'shape_mismatch',
+        'out',
+        `room for ${block} forecasts (${targetCount} target${targetCount === 1 ? '' : 's'} × ${rowsAhead.length} row${rowsAhead.length === 1 ? '' : 's'} ahead)`,
+        `${out.length}`,
+      );
   };
-  if (window === null) {
-    if (rowsAhead.length !== 1) fail('bad_weight_file', 'metadata.rowsAhead', 'no entry for a model trained on streams (every row up to the horizon needs metadata.window)', '"all"');
-    const normalisation = metadata.normalisation as { mean: readonly number[]; deviation: readonly number[] };
-    const transform = metadata.targetTransform as { kind: 'differences' | 'log-returns'; mean: readonly number[]; deviation: readonly number[] } | undefined;
-    const targets = outputNames.map((t) => inputNames.indexOf(t));
-    // Missing readings (a model that records a rule): each carries the column's last value (its fallback before
-    // any), with a 0/1 flag input per column that had holes in training.
-    const missing = forecastMissing(metadata, width);
-    const isMissing = missing === null ? null : missingTest(missing.markers);
-    const flagged = missing?.flagged ?? [];
-    const carried = Float64Array.from(missing?.fallback ?? normalisation.mean);
-    const input = new Float32Array(width + flagged.length);
-    const rowValues = new Float64Array(width);
-    const advance = (values: ArrayLike<number>, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
-      checkOut(out);
-      for (let j = 0; j < width; j++) {
-        const v = values[j];
-        if (!Number.isFinite(v) && !(missing !== null && Number.isNaN(v))) fail('bad_data', `${where}.${inputNames[j]}`, missing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(v));
-        if (!Number.isNaN(v)) carried[j] = v;
-        input[j] = (carried[j] - normalisation.mean[j]) / normalisation.deviation[j];
-      }
-      for (let i = 0; i < flagged.length; i++) input[width + i] = Number.isNaN(values[flagged[i]]) ? 1 : 0;
-      streams.step(input, output);
-      medianOfMembers(output, 0, members, block, combined, scratch);
-      for (let k = 0; k < targetCount; k++) {
-        const j = targets[k];
-        if (transform === undefined) {
-          out[k] = combined[k] * normalisation.deviation[j] + normalisation.mean[j];
-        } else {
-          const level = carried[j];
-          const change = combined[k] * transform.deviation[k] + transform.mean[k];
-          out[k] = transform.kind === 'log-returns' ? level * Math.exp(change) : level + change;
-        }
-      }
-      return true;
-    };
-    const nextInto: RowForecaster['nextInto'] = (row, out, where = 'row') => {
-      for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where, isMissing);
-      return advance(rowValues, out, where);
-    };
-    return {
-      inputNames,
-      readNames: inputNames,
-      outputNames,
-      rowsAhead,
-      members,
-      intervals,
-      warmUp: 1,
-      takesMissing: missing !== null,
-      nextInto,
-      nextValuesInto: (values, out) => advance(values, out, 'values'),
-      next: (row, where) => (nextInto(row, farthest, where), named()),
-      reset: () => {
-        streams.reset();
-        carried.set(missing?.fallback ?? normalisation.mean);
-      },
-    };
-  }
+  const parts: ForecasterParts = {
+    metadata,
+    inputNames,
+    outputNames,
+    rowsAhead,
+    members,
+    intervals,
+    streams,
+    output,
+    combined,
+    scratch,
+    farthest,
+    named,
+    checkOut,
+  };
+  if (window === null) return streamRowForecaster(parts);
   const w = window.rows;
   const targets = outputNames.map((t) => inputNames.indexOf(t));
   const fresh = () => window.hybrid?.map((p) => new SmoothingStepper(p, rowsAhead[0])) ?? null;
@@ -160,7 +143,13 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const ring = new Float64Array(w * stride);
   const input = new Float32Array(inputWidth);
   if (code !== null) input[flagAt + flagged.length + code.index] = 1;
-  if (runtime.inputWidth !== inputWidth) fail('bad_weight_file', 'metadata', `a record of the ${runtime.inputWidth} inputs the model reads`, `${inputWidth} inputs (${width} columns${hybrids > 0 ? `, ${hybrids} smoothing forecasts` : ''}${calendar.length > 0 ? `, ${2 * calendar.length} calendar inputs` : ''}${flagged.length > 0 ? `, ${flagged.length} missing flags` : ''}${code === null ? '' : `, ${code.count} series inputs`})`);
+  if (runtime.inputWidth !== inputWidth)
+    fail(
+      'bad_weight_file',
+      'metadata',
+      `a record of the ${runtime.inputWidth} inputs the model reads`,
+      `${inputWidth} inputs (${width} columns${hybrids > 0 ? `, ${hybrids} smoothing forecasts` : ''}${calendar.length > 0 ? `, ${2 * calendar.length} calendar inputs` : ''}${flagged.length > 0 ? `, ${flagged.length} missing flags` : ''}${code === null ? '' : `, ${code.count} series inputs`})`,
+    );
   let seen = 0;
   const rowValues = new Float64Array(width);
   const bases = new Float64Array(targetCount * rowsAhead.length);
@@ -175,9 +164,21 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
   const advance = (values: ArrayLike<number>, time: number, out: { [index: number]: number; readonly length: number }, where: string): boolean => {
     checkOut(out);
     for (let j = 0; j < width; j++) {
-      if (!Number.isFinite(values[j]) && !(missing !== null && Number.isNaN(values[j]))) fail('bad_data', `${where}.${inputNames[j]}`, missing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(values[j]));
+      if (!Number.isFinite(values[j]) && !(missing !== null && Number.isNaN(values[j])))
+        fail(
+          'bad_data',
+          `${where}.${inputNames[j]}`,
+          missing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading',
+          String(values[j]),
+        );
     }
-    if (timeColumn !== null && !Number.isFinite(time)) fail('bad_data', `${where}.${timeColumn}`, `a time (milliseconds since 1970-01-01 UTC) for column ${JSON.stringify(timeColumn)}, last: the model reads where in the calendar each row falls`, String(time));
+    if (timeColumn !== null && !Number.isFinite(time))
+      fail(
+        'bad_data',
+        `${where}.${timeColumn}`,
+        `a time (milliseconds since 1970-01-01 UTC) for column ${JSON.stringify(timeColumn)}, last: the model reads where in the calendar each row falls`,
+        String(time),
+      );
     const slot = seen % w;
     const at = slot * stride;
     if (missing !== null && seen >= w) {
@@ -243,9 +244,15 @@ export function createRowForecaster(runtime: Runtime, metadata: Readonly<Record<
     for (let j = 0; j < width; j++) rowValues[j] = valueAt(row, inputNames[j], where, isMissing);
     let time = NaN;
     if (timeColumn !== null) {
-      const raw = Object.prototype.hasOwnProperty.call(row, timeColumn) ? row[timeColumn] : undefined;
+      const raw = Object.hasOwn(row, timeColumn) ? row[timeColumn] : undefined;
       time = raw instanceof Date ? raw.getTime() : raw === undefined ? NaN : parseTime(String(raw));
-      if (Number.isNaN(time)) fail('bad_data', `${where}.${timeColumn}`, `a time in column ${JSON.stringify(timeColumn)} (the model reads where in the calendar each row falls)`, raw === undefined ? 'nothing' : JSON.stringify(String(raw).slice(0, 80)));
+      if (Number.isNaN(time))
+        fail(
+          'bad_data',
+          `${where}.${timeColumn}`,
+          `a time in column ${JSON.stringify(timeColumn)} (the model reads where in the calendar each row falls)`,
+          raw === undefined ? 'nothing' : JSON.stringify(String(raw).slice(0, 80)),
+        );
     }
     return advance(rowValues, time, out, where);
   };

@@ -56,7 +56,16 @@ export type { StepSequence, StepTable, StepTableOptions } from './data/steps.js'
 export { readStepTable } from './data/steps.js';
 export type { Series, SeriesOptions } from './data/series.js';
 export { buildVocabulary, readSeries } from './data/series.js';
-export type { ChosenSettings, ForecastIntervals, PanelPart, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './data/prepare-series.js';
+export type {
+  ChosenSettings,
+  ForecastIntervals,
+  PanelPart,
+  PreparedSeries,
+  SeriesPreparation,
+  SeriesStreams,
+  SeriesWindows,
+  WindowExample,
+} from './data/prepare-series.js';
 export { SLIDING_ROWS, prepareSeries, prepareTable } from './data/prepare-series.js';
 export type { PrepareOne, SeriesIdColumn } from './data/panel.js';
 export { preparePanel, seriesIdColumn, seriesRows } from './data/panel.js';

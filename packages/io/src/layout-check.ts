@@ -21,14 +21,25 @@ export function layoutProblems(tensors: readonly NamedShape[], layout: readonly 
   for (const p of layout) {
     const stored = byName.get(p.name);
     if (stored === undefined) {
-      problems.push({ code: 'bad_weight_file', path: `tensors (${p.name})`, expected: `a tensor named ${p.name}, shape [${p.shape.join(', ')}]`, received: 'none' });
+      problems.push({
+        code: 'bad_weight_file',
+        path: `tensors (${p.name})`,
+        expected: `a tensor named ${p.name}, shape [${p.shape.join(', ')}]`,
+        received: 'none',
+      });
       continue;
     }
     byName.delete(p.name);
     if (stored.shape.join(',') !== p.shape.join(',')) {
-      problems.push({ code: 'bad_weight_file', path: `tensors (${p.name}).shape`, expected: `[${p.shape.join(', ')}] (from the model description)`, received: `[${stored.shape.join(', ')}]` });
+      problems.push({
+        code: 'bad_weight_file',
+        path: `tensors (${p.name}).shape`,
+        expected: `[${p.shape.join(', ')}] (from the model description)`,
+        received: `[${stored.shape.join(', ')}]`,
+      });
     }
   }
-  for (const name of byName.keys()) problems.push({ code: 'bad_weight_file', path: `tensors (${name})`, expected: 'only tensors the model description names', received: name });
+  for (const name of byName.keys())
+    problems.push({ code: 'bad_weight_file', path: `tensors (${name})`, expected: 'only tensors the model description names', received: name });
   return problems;
 }

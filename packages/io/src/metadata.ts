@@ -48,7 +48,10 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
     }
     return ids.flatMap((id, i) => {
       const own = seriesMetadata(metadata, id);
-      return metadataProblems(own, model).map((p) => ({ ...p, path: p.path.replace(/^metadata\.(normalisation|window|missing|split|season)\b/, `metadata.panel.series[${i}].$1`) }));
+      return metadataProblems(own, model).map((p) => ({
+        ...p,
+        path: p.path.replace(/^metadata\.(normalisation|window|missing|split|season)\b/, `metadata.panel.series[${i}].$1`),
+      }));
     });
   }
   const problems: Problem[] = [];
@@ -57,12 +60,13 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
   };
   const outputs = modelLayout(model).outputWidth;
   const input = model.input;
-  const has = (field: string): boolean => Object.prototype.hasOwnProperty.call(metadata, field) && metadata[field] !== undefined;
+  const has = (field: string): boolean => Object.hasOwn(metadata, field) && metadata[field] !== undefined;
 
   if (has('vocabulary')) {
     const vocabulary = metadata.vocabulary;
     if (!isStrings(vocabulary)) add('vocabulary', 'an array of strings', vocabulary);
-    else if (input.kind === 'embedding' && vocabulary.length !== input.vocabulary) add('vocabulary', `${input.vocabulary} tokens (the embedding's vocabulary)`, vocabulary.length);
+    else if (input.kind === 'embedding' && vocabulary.length !== input.vocabulary)
+      add('vocabulary', `${input.vocabulary} tokens (the embedding's vocabulary)`, vocabulary.length);
     else if (metadata.task === 'next-token' && vocabulary.length !== outputs) add('vocabulary', `${outputs} tokens (the model's outputs)`, vocabulary.length);
   }
   if (has('classes')) {
@@ -77,9 +81,16 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
   const flagged = (metadata.missing as { flagged?: unknown } | undefined)?.flagged;
   // And, one series of many, a 0/1 input per series (seriesInput).
   const seriesInputs = Number((metadata.seriesInput as { count?: unknown } | undefined)?.count ?? 0) || 0;
-  const extra = (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) + (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) + (Array.isArray(flagged) ? flagged.length : 0) + seriesInputs;
+  const extra =
+    (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) +
+    (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) +
+    (Array.isArray(flagged) ? flagged.length : 0) +
+    seriesInputs;
   const readWidth = input.kind === 'values' ? input.width - extra : 1;
-  const widthWords = extra > 0 ? `the model's input width less its ${extra} smoothing, calendar, missing-value and series input${extra === 1 ? '' : 's'}` : 'the model\'s input width';
+  const widthWords =
+    extra > 0
+      ? `the model's input width less its ${extra} smoothing, calendar, missing-value and series input${extra === 1 ? '' : 's'}`
+      : "the model's input width";
   let columns: string[] | null = null;
   if (has('columns')) {
     const value = metadata.columns;
@@ -92,17 +103,28 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
   let members = 1;
   if (has('members')) {
     const value = metadata.members;
-    if (typeof value !== 'number' || !Number.isInteger(value) || value < 1 || outputs % value !== 0) add('members', `a whole number ≥ 1 dividing the model's ${outputs} outputs (members stacked into the model)`, value);
+    if (typeof value !== 'number' || !Number.isInteger(value) || value < 1 || outputs % value !== 0)
+      add('members', `a whole number ≥ 1 dividing the model's ${outputs} outputs (members stacked into the model)`, value);
     else members = value;
   }
   if (has('targetColumns')) {
     const value = metadata.targetColumns;
     // A model forecasting every row up to its horizon (metadata.rowsAhead "all") outputs one block per row ahead.
-    const steps = metadata.rowsAhead === 'all' && typeof metadata.horizon === 'number' && Number.isInteger(metadata.horizon) && metadata.horizon >= 1 ? metadata.horizon : 1;
+    const steps =
+      metadata.rowsAhead === 'all' && typeof metadata.horizon === 'number' && Number.isInteger(metadata.horizon) && metadata.horizon >= 1
+        ? metadata.horizon
+        : 1;
     const perTarget = members * steps;
-    const words = [members > 1 ? `each of the ${members} members` : '', steps > 1 ? `each of the ${steps} rows ahead` : ''].filter((w) => w !== '').join(' and ');
+    const words = [members > 1 ? `each of the ${members} members` : '', steps > 1 ? `each of the ${steps} rows ahead` : '']
+      .filter((w) => w !== '')
+      .join(' and ');
     if (!isStrings(value)) add('targetColumns', 'an array of column names', value);
-    else if (value.length * perTarget !== outputs) add('targetColumns', perTarget > 1 ? `${outputs / perTarget} column names (one per output of ${words})` : `${outputs} column names (one per output of the model)`, value.length);
+    else if (value.length * perTarget !== outputs)
+      add(
+        'targetColumns',
+        perTarget > 1 ? `${outputs / perTarget} column names (one per output of ${words})` : `${outputs} column names (one per output of the model)`,
+        value.length,
+      );
     else if (columns !== null) {
       const stray = value.find((c) => !columns!.includes(c));
       if (stray !== undefined) add('targetColumns', 'names among metadata.columns', stray);
@@ -130,13 +152,17 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
     if (typeof value !== 'number' || !Number.isInteger(value) || value < 1) add('horizon', 'a whole number ≥ 1', value);
   }
   // What weft's own tasks need to be run (the CLI reads these).
-  const needs: Record<string, readonly string[]> = { forecast: ['columns', 'targetColumns', 'normalisation', 'horizon'], 'next-token': ['vocabulary'], classification: ['classes'] };
+  const needs: Record<string, readonly string[]> = {
+    forecast: ['columns', 'targetColumns', 'normalisation', 'horizon'],
+    'next-token': ['vocabulary'],
+    classification: ['classes'],
+  };
   const task = typeof metadata.task === 'string' ? metadata.task : '';
-  for (const field of Object.prototype.hasOwnProperty.call(needs, task) ? needs[task] : []) {
+  for (const field of Object.hasOwn(needs, task) ? needs[task] : []) {
     if (!has(field)) add(field, `a ${field} entry (a ${task} model needs it)`, undefined);
   }
-  if (metadata.task === 'forecast' && input.kind !== 'values') add('task', "a task for a model over tokens (a forecast reads numbers)", metadata.task);
-  if (metadata.task === 'next-token' && input.kind !== 'embedding') add('task', "a task for a model over numbers (next-token reads tokens)", metadata.task);
+  if (metadata.task === 'forecast' && input.kind !== 'values') add('task', 'a task for a model over tokens (a forecast reads numbers)', metadata.task);
+  if (metadata.task === 'next-token' && input.kind !== 'embedding') add('task', 'a task for a model over numbers (next-token reads tokens)', metadata.task);
   return problems;
 }
 

@@ -63,17 +63,28 @@ function fill<M extends { parameters(): readonly NamedParameter[] }>(model: M, f
   for (const p of model.parameters()) {
     const stored = byName.get(p.name);
     if (stored === undefined) {
-      problems.push({ code: 'bad_weight_file', path: `tensors (${p.name})`, expected: `a tensor named ${p.name}, shape [${p.tensor.shape.join(', ')}]`, received: 'none' });
+      problems.push({
+        code: 'bad_weight_file',
+        path: `tensors (${p.name})`,
+        expected: `a tensor named ${p.name}, shape [${p.tensor.shape.join(', ')}]`,
+        received: 'none',
+      });
       continue;
     }
     byName.delete(p.name);
     if (stored.shape.join(',') !== p.tensor.shape.join(',')) {
-      problems.push({ code: 'bad_weight_file', path: `tensors (${p.name}).shape`, expected: `[${p.tensor.shape.join(', ')}] (from the model description)`, received: `[${stored.shape.join(', ')}]` });
+      problems.push({
+        code: 'bad_weight_file',
+        path: `tensors (${p.name}).shape`,
+        expected: `[${p.tensor.shape.join(', ')}] (from the model description)`,
+        received: `[${stored.shape.join(', ')}]`,
+      });
       continue;
     }
     p.tensor.data.set(stored.values);
   }
-  for (const name of byName.keys()) problems.push({ code: 'bad_weight_file', path: `tensors (${name})`, expected: 'only tensors the model description names', received: name });
+  for (const name of byName.keys())
+    problems.push({ code: 'bad_weight_file', path: `tensors (${name})`, expected: 'only tensors the model description names', received: name });
   if (problems.length > 0) throw new WeftError(problems);
   return model;
 }

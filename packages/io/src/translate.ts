@@ -115,7 +115,12 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
     if (transform === undefined) return values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0);
     const name = targets[k];
     const level = from === undefined ? lastLevels[k] : Number(from[name]);
-    if (!Number.isFinite(level)) throw bad(`outputs.from.${name}`, `the value of ${JSON.stringify(name)} now (the model forecasts its change)`, from === undefined ? 'no row given to inputs() yet' : JSON.stringify(from[name]));
+    if (!Number.isFinite(level))
+      throw bad(
+        `outputs.from.${name}`,
+        `the value of ${JSON.stringify(name)} now (the model forecasts its change)`,
+        from === undefined ? 'no row given to inputs() yet' : JSON.stringify(from[name]),
+      );
     const change = values[k] * (transform.deviation[k] ?? 1) + (transform.mean[k] ?? 0);
     return transform.kind === 'log-returns' ? level * Math.exp(change) : level + change;
   };
@@ -128,11 +133,12 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
       if (out.length !== width) fail('shape_mismatch', `${where} (into)`, `${width} numbers`, String(out.length));
       for (let j = 0; j < columns.length; j++) {
         const name = columns[j];
-        if (!Object.prototype.hasOwnProperty.call(row, name)) throw bad(`${where}.${name}`, `a value for column ${JSON.stringify(name)}, which the model reads`, 'nothing');
+        if (!Object.hasOwn(row, name)) throw bad(`${where}.${name}`, `a value for column ${JSON.stringify(name)}, which the model reads`, 'nothing');
         const raw = row[name];
         let value = typeof raw === 'number' ? raw : raw.trim() === '' ? NaN : Number(raw);
         if (isMissing !== null && (typeof raw === 'number' ? Number.isNaN(raw) : isMissing(raw))) value = carried[j];
-        else if (!Number.isFinite(value)) throw bad(`${where}.${name}`, isMissing === null ? 'a finite number' : 'a finite number or a missing-reading marker', JSON.stringify(raw));
+        else if (!Number.isFinite(value))
+          throw bad(`${where}.${name}`, isMissing === null ? 'a finite number' : 'a finite number or a missing-reading marker', JSON.stringify(raw));
         else if (missing !== null) carried[j] = value;
         out[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
         if (targetOf[j] >= 0) lastLevels[targetOf[j]] = value;
@@ -156,12 +162,14 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
       }
     },
     inputsFromNumbers(values, into) {
-      if (values.length !== columns.length) fail('shape_mismatch', 'inputsFromNumbers.values', `${columns.length} numbers (${columns.join(', ')})`, String(values.length));
+      if (values.length !== columns.length)
+        fail('shape_mismatch', 'inputsFromNumbers.values', `${columns.length} numbers (${columns.join(', ')})`, String(values.length));
       if (into.length !== width) fail('shape_mismatch', 'inputsFromNumbers.into', `${width} numbers`, String(into.length));
       for (let j = 0; j < columns.length; j++) {
         let value = values[j];
         if (Number.isNaN(value) && isMissing !== null) value = carried[j];
-        else if (!Number.isFinite(value)) throw bad(`values[${j}] (${columns[j]})`, isMissing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(value));
+        else if (!Number.isFinite(value))
+          throw bad(`values[${j}] (${columns[j]})`, isMissing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(value));
         else if (missing !== null) carried[j] = value;
         into[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
         if (targetOf[j] >= 0) lastLevels[targetOf[j]] = value;

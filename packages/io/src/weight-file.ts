@@ -225,7 +225,8 @@ function nestingProblem(text: string, maxDepth: number): Problem | null {
     } else if (c === 34) {
       inString = true;
     } else if (c === 123 || c === 91) {
-      if (++depth > maxDepth) return { code: 'bad_weight_file', path: `(character ${i})`, expected: `nesting at most ${maxDepth} deep`, received: 'deeper nesting' };
+      if (++depth > maxDepth)
+        return { code: 'bad_weight_file', path: `(character ${i})`, expected: `nesting at most ${maxDepth} deep`, received: 'deeper nesting' };
     } else if (c === 125 || c === 93) {
       depth--;
     }
@@ -347,8 +348,14 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
       total += size;
       const [rows] = rowsAndCols(shape as number[]);
       const bytes = size * (dtype === 'f32' ? 4 : dtype === 'f16' ? 2 : 1);
-      if (decodedLength(data as string) !== bytes) add(`${where}.data`, `base64 of ${bytes} bytes for shape [${(shape as number[]).join(', ')}] in ${String(dtype)}`, `${Math.max(0, decodedLength(data as string))} bytes`);
-      else if (dtype === 'i8' && decodedLength(scales as string) !== rows * 4) add(`${where}.scales`, `base64 of ${rows * 4} bytes (${rows} rows)`, `${Math.max(0, decodedLength(scales as string))} bytes`);
+      if (decodedLength(data as string) !== bytes)
+        add(
+          `${where}.data`,
+          `base64 of ${bytes} bytes for shape [${(shape as number[]).join(', ')}] in ${String(dtype)}`,
+          `${Math.max(0, decodedLength(data as string))} bytes`,
+        );
+      else if (dtype === 'i8' && decodedLength(scales as string) !== rows * 4)
+        add(`${where}.scales`, `base64 of ${rows * 4} bytes (${rows} rows)`, `${Math.max(0, decodedLength(scales as string))} bytes`);
       else plans.push({ index: i, name: name as string, shape: (shape as number[]).slice(), dtype: dtype as StoredDType, size, rows });
     });
     if (total > maxElements) add('tensors', `at most ${maxElements} elements in all`, `${total}`);
@@ -385,8 +392,13 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
         if (options.allowNonFinite !== true) {
           const at = values.findIndex((v) => !Number.isFinite(v));
           if (at >= 0) {
-            problems.push({ code: 'not_finite', path: `tensors (${plan.name})[${at}]`, expected: 'finite weights', received: String(values[at]),
-              detail: 'a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it' });
+            problems.push({
+              code: 'not_finite',
+              path: `tensors (${plan.name})[${at}]`,
+              expected: 'finite weights',
+              received: String(values[at]),
+              detail: 'a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it',
+            });
             continue;
           }
         }

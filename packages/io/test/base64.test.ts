@@ -6,7 +6,13 @@ const text = (s: string) => new TextEncoder().encode(s);
 describe('base64', () => {
   // RFC 4648, §10 (test vectors).
   const vectors: [string, string][] = [
-    ['', ''], ['f', 'Zg=='], ['fo', 'Zm8='], ['foo', 'Zm9v'], ['foob', 'Zm9vYg=='], ['fooba', 'Zm9vYmE='], ['foobar', 'Zm9vYmFy'],
+    ['', ''],
+    ['f', 'Zg=='],
+    ['fo', 'Zm8='],
+    ['foo', 'Zm9v'],
+    ['foob', 'Zm9vYg=='],
+    ['fooba', 'Zm9vYmE='],
+    ['foobar', 'Zm9vYmFy'],
   ];
   for (const [plain, encoded] of vectors) {
     it(`encodes ${JSON.stringify(plain)} as ${JSON.stringify(encoded)} and back (RFC 4648 §10)`, () => {

@@ -17,7 +17,18 @@ afterAll(() => rmSync(folder, { recursive: true, force: true }));
 
 function setup() {
   const tokens = Int32Array.from({ length: 2400 }, (_, i) => (i * 7 + Math.floor(i / 5)) % 9);
-  const model = buildModel({ input: { kind: 'embedding', vocabulary: 9, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }, { cell: 'gru', hidden: 8 }], dropout: 0.2, readout: { width: 9 } }, { seed: 8 });
+  const model = buildModel(
+    {
+      input: { kind: 'embedding', vocabulary: 9, width: 4 },
+      layers: [
+        { cell: 'lstm', hidden: 8 },
+        { cell: 'gru', hidden: 8 },
+      ],
+      dropout: 0.2,
+      readout: { width: 9 },
+    },
+    { seed: 8 },
+  );
   const trainer = new Trainer({
     model,
     data: streamBatches({ kind: 'tokens', tokens, vocabulary: 9 }, { streams: 3, window: 10 }),
@@ -80,12 +91,15 @@ describe('checkpoints', () => {
   it('of an encoder-decoder with attention resume bit-identical too, and the runtime decodes the checkpoint', async () => {
     const pairs = Array.from({ length: 90 }, (_, i) => ({ source: [2 + (i % 5), 2 + ((i * 3) % 5), 2 + (i % 3)], target: [2 + ((i * 3) % 5), 2 + (i % 5)] }));
     const make = () => {
-      const model = new EncoderDecoderModel({
-        kind: 'encoder-decoder',
-        attention: 'additive',
-        encoder: { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }] },
-        decoder: { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }], dropout: 0.2, readout: { width: 7 } },
-      }, { seed: 4 });
+      const model = new EncoderDecoderModel(
+        {
+          kind: 'encoder-decoder',
+          attention: 'additive',
+          encoder: { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }] },
+          decoder: { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }], dropout: 0.2, readout: { width: 7 } },
+        },
+        { seed: 4 },
+      );
       const trainer = new Trainer({
         model,
         data: pairBatches(pairs, { batchSize: 8, startToken: 0, endToken: 1, seed: 2 }),
@@ -115,7 +129,9 @@ describe('checkpoints', () => {
   it('are told apart from plain weight files', async () => {
     const { model } = setup();
     await saveWeightFile(join(folder, 'plain.json'), model);
-    await expect(loadCheckpoint(join(folder, 'plain.json'))).rejects.toThrowError(`Bad weight file at ${join(folder, 'plain.json')}: training: expected the training state of a checkpoint, received none (a weight file, not a checkpoint)`);
+    await expect(loadCheckpoint(join(folder, 'plain.json'))).rejects.toThrowError(
+      `Bad weight file at ${join(folder, 'plain.json')}: training: expected the training state of a checkpoint, received none (a weight file, not a checkpoint)`,
+    );
   });
 
   it('save and load through files, atomically', async () => {
@@ -129,12 +145,16 @@ describe('checkpoints', () => {
     // An atomic write replaces the whole file or nothing.
     writeFileAtomic(path, 'new text');
     expect(readFileSync(path, 'utf8')).toBe('new text');
-    expect(() => writeFileAtomic(join(folder, 'no-such-folder', 'x.json'), 'x')).toThrowError(/^Could not save at .*no-such-folder\/x\.json: expected a file written in full \(1 bytes\), received the folder does not exist$/);
+    expect(() => writeFileAtomic(join(folder, 'no-such-folder', 'x.json'), 'x')).toThrowError(
+      /^Could not save at .*no-such-folder\/x\.json: expected a file written in full \(1 bytes\), received the folder does not exist$/,
+    );
     expect(readdirSync(folder).filter((name) => name.endsWith('.tmp'))).toEqual([]);
   });
 
   it('name the file when it is missing or damaged', async () => {
-    await expect(loadWeightFile(join(folder, 'missing.json'))).rejects.toThrowError(`Bad data at ${join(folder, 'missing.json')}: expected a readable file, received no such file`);
+    await expect(loadWeightFile(join(folder, 'missing.json'))).rejects.toThrowError(
+      `Bad data at ${join(folder, 'missing.json')}: expected a readable file, received no such file`,
+    );
     writeFileSync(join(folder, 'broken.json'), '{"format": "weft-weights", "version": 1');
     const error = await loadWeightFile(join(folder, 'broken.json')).catch((e: unknown) => e);
     expect(error).toBeInstanceOf(WeftError);

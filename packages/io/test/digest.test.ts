@@ -3,7 +3,6 @@ import { createHash } from 'node:crypto';
 import { afterEach, describe, expect, it, vi } from 'vitest';
 import { WeftError } from '@weft/core';
 import { readWeightFile, sha256Hex, writeWeightFile, modelTensors } from '@weft/io';
-import { sha256HexSync } from '../src/sha256.js';
 import { descriptions, shaken } from './models.js';
 
 const text = (s: string) => new TextEncoder().encode(s);

@@ -7,7 +7,7 @@ import { describe, expect, it } from 'vitest';
 import { missingTest } from '@weft/io';
 import { valueAt } from '../src/forecast-row.js';
 
-describe('reading a row\'s cells', () => {
+describe("reading a row's cells", () => {
   const markers = missingTest(['-999']);
 
   it('take numbers as they are and parse text', () => {
@@ -20,8 +20,14 @@ describe('reading a row\'s cells', () => {
   });
 
   it('refuse text that is neither a number nor a marker, a missing reading without a rule, and an absent column, naming where', () => {
-    expect(() => valueAt({ heat: 'warm' }, 'heat', 'row 3', markers)).toThrowError('Bad data at row 3.heat: expected a finite number or a missing-reading marker, received "warm"');
-    expect(() => valueAt({ heat: 'NA' }, 'heat', 'row 4', null)).toThrowError('Bad data at row 4.heat: expected a finite number (this model records no rule for missing readings: retrain it with this version), received "NA"');
-    expect(() => valueAt({ flow: 1 }, 'heat', 'row 5', markers)).toThrowError('Bad data at row 5.heat: expected a value for column "heat", which the model reads, received nothing');
+    expect(() => valueAt({ heat: 'warm' }, 'heat', 'row 3', markers)).toThrowError(
+      'Bad data at row 3.heat: expected a finite number or a missing-reading marker, received "warm"',
+    );
+    expect(() => valueAt({ heat: 'NA' }, 'heat', 'row 4', null)).toThrowError(
+      'Bad data at row 4.heat: expected a finite number (this model records no rule for missing readings: retrain it with this version), received "NA"',
+    );
+    expect(() => valueAt({ flow: 1 }, 'heat', 'row 5', markers)).toThrowError(
+      'Bad data at row 5.heat: expected a value for column "heat", which the model reads, received nothing',
+    );
   });
 });

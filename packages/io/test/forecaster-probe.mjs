@@ -14,7 +14,13 @@ const member = { input: { kind: 'values', width: many ? 9 : 6 }, layers: [{ cell
 const stacked = stackMembers([1, 2, 3].map((seed) => buildModel(member, { seed })));
 const smoothing = { method: 'additive', season: 4, alpha: 0.3, beta: 0.1, gamma: 0.2, phi: 1, level: 10, trend: 0.1, seasonal: [1, -1, 0.5, -0.5] };
 const meta = {
-  task: 'forecast', columns: ['heat', 'flow'], targetColumns: ['heat'], horizon: 2, rowsAhead: 'all', members: 3, timeColumn: 'time',
+  task: 'forecast',
+  columns: ['heat', 'flow'],
+  targetColumns: ['heat'],
+  horizon: 2,
+  rowsAhead: 'all',
+  members: 3,
+  timeColumn: 'time',
   normalisation: { mean: [0, 0], deviation: [1, 1] },
   window: { rows: 4, deviation: [1, 1], targetDeviation: [1, 1], hybrid: [smoothing], calendar: ['day of week'] },
   missing: { rule: 'interpolate', gapLimit: 3, flagged: [0], fallback: [10, 0], markers: [] },
@@ -22,7 +28,9 @@ const meta = {
 const runtime = await createRuntime(await writeWeightFile(stacked.description, modelTensors(stacked)));
 const { normalisation, window, missing, ...shared } = meta;
 const series = ['a', 'b', 'c'].map((id) => ({ id, normalisation, window, missing }));
-const forecasters = many ? [...createSeriesForecasters(runtime, { ...shared, panel: { idColumn: 'site', idInputs: true, series } }).values()] : [createRowForecaster(runtime, meta)];
+const forecasters = many
+  ? [...createSeriesForecasters(runtime, { ...shared, panel: { idColumn: 'site', idInputs: true, series } }).values()]
+  : [createRowForecaster(runtime, meta)];
 const row = new Float64Array(3);
 const out = new Float64Array(2);
 const run = (count, start, extra) => {

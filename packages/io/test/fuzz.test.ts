@@ -14,7 +14,17 @@ const RUNS = Number(process.env.WEFT_FUZZ_RUNS ?? 2000);
 const CAP = 5_000;
 
 async function validFile(): Promise<string> {
-  const model = buildModel({ input: { kind: 'embedding', vocabulary: 5, width: 3 }, layers: [{ cell: 'gru', hidden: 4, resetAfterProduct: true }, { cell: 'lstm', hidden: 3, peepholes: true }], readout: { width: 5 } }, { seed: 1 });
+  const model = buildModel(
+    {
+      input: { kind: 'embedding', vocabulary: 5, width: 3 },
+      layers: [
+        { cell: 'gru', hidden: 4, resetAfterProduct: true },
+        { cell: 'lstm', hidden: 3, peepholes: true },
+      ],
+      readout: { width: 5 },
+    },
+    { seed: 1 },
+  );
   const dtypes: Record<string, 'f32' | 'f16' | 'i8'> = {};
   model.parameters().forEach((p, i) => (dtypes[p.name] = (['f32', 'f16', 'i8'] as const)[i % 3]));
   return writeWeightFile(model.description, modelTensors(model), { dtype: dtypes, metadata: { task: 'fuzz', vocabulary: ['a', 'b', 'c', 'd', 'e'] } });

@@ -3,7 +3,13 @@ import { fromHalfBits, toHalfBits } from '@weft/io';
 
 describe('IEEE 754-2008 binary16', () => {
   const pairs: [number, number][] = [
-    [65504, 0x7bff], [1, 0x3c00], [-2, 0xc000], [2 ** -14, 0x0400], [2 ** -24, 0x0001], [0, 0x0000], [-0, 0x8000],
+    [65504, 0x7bff],
+    [1, 0x3c00],
+    [-2, 0xc000],
+    [2 ** -14, 0x0400],
+    [2 ** -24, 0x0001],
+    [0, 0x0000],
+    [-0, 0x8000],
   ];
   for (const [value, bits] of pairs) {
     it(`maps ${value} ↔ 0x${bits.toString(16).padStart(4, '0')}`, () => {

@@ -5,7 +5,17 @@ import { buildModel } from '@weft/cells';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 
-const model = buildModel({ input: { kind: 'values', width: 4 }, layers: [{ cell: 'lstm', hidden: 32, peepholes: true }, { cell: 'gru', hidden: 16 }], readout: { width: 3 } }, { seed: 1 });
+const model = buildModel(
+  {
+    input: { kind: 'values', width: 4 },
+    layers: [
+      { cell: 'lstm', hidden: 32, peepholes: true },
+      { cell: 'gru', hidden: 16 },
+    ],
+    readout: { width: 3 },
+  },
+  { seed: 1 },
+);
 const runtime = await createRuntime(await writeWeightFile(model.description, modelTensors(model)));
 const streams = runtime.streams(2);
 const input = new Float32Array(8);

@@ -23,8 +23,8 @@ describe('hostile weight files', () => {
       { name: 'layers[0].forward.bias', shape: [1], values: Float32Array.of(-Infinity) },
     ]);
     await expect(readWeightFile(text)).rejects.toThrowError(
-      '2 problems:\n  - Non-finite value at tensors (layers[0].forward.input)[0]: expected finite weights, received NaN (a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it)\n'
-      + '  - Non-finite value at tensors (layers[0].forward.bias)[0]: expected finite weights, received -Infinity (a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it)',
+      '2 problems:\n  - Non-finite value at tensors (layers[0].forward.input)[0]: expected finite weights, received NaN (a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it)\n' +
+        '  - Non-finite value at tensors (layers[0].forward.bias)[0]: expected finite weights, received -Infinity (a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it)',
     );
     const file = await readWeightFile(text, { allowNonFinite: true });
     expect(Number.isNaN(file.tensors[0].values[0])).toBe(true);
@@ -36,7 +36,8 @@ describe('hostile weight files', () => {
     expect(file.tensors.map((t) => t.name)).toEqual(['__proto__']);
     expect(Object.getPrototypeOf(file.storedAs)).toBe(null);
     expect(Object.keys(file.storedAs)).toEqual(['__proto__']);
-    expect(file.storedAs['__proto__']).toBe('f32');
+    // biome-ignore lint/suspicious/noProto: the test is that a tensor named __proto__ is a plain key here.
+    expect(file.storedAs.__proto__).toBe('f32');
     expect(({} as Record<string, unknown>).f32).toBeUndefined();
   });
 });
@@ -51,10 +52,14 @@ describe('descriptions that claim too much', () => {
     const parsed = JSON.parse(text) as { model: Record<string, unknown> };
     const before = process.memoryUsage().rss;
     parsed.model.layers = Array.from({ length: 1_000_000 }, () => ({ cell: 'plain', hidden: 1 }));
-    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError('Bad weight file at model.layers: expected at most 256 layers, received an array of 1000000');
+    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError(
+      'Bad weight file at model.layers: expected at most 256 layers, received an array of 1000000',
+    );
     parsed.model.layers = [{ cell: 'plain', hidden: 1 }];
     parsed.model.input = { kind: 'embedding', vocabulary: 1_000_000, width: 1000 };
-    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError(/Bad weight file at model: expected a model of at most 100000000 parameters, received "1000001002 parameters"/);
+    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError(
+      /Bad weight file at model: expected a model of at most 100000000 parameters, received "1000001002 parameters"/,
+    );
     // What the test itself makes (a million layer records, their JSON, parsed again) grows the resident memory by an
     // amount that depends on the Node line's collector: under 300 MB on Node 20 and 26, 522 MB measured on Node 24.
     // The embedding, if it were built, would take 4 GB.

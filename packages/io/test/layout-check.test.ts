@@ -46,9 +46,13 @@ describe('checking a weight file against its layout', () => {
     const parsed = JSON.parse(await writeWeightFile(description, tensors)) as { model: { layers: unknown[] } };
     parsed.model.layers = Array.from({ length: 10 }, () => ({ cell: 'lstm', hidden: 4096 }));
     // 4·4096·(3 + 4096 + 1) + 9·4·4096·(4096 + 4096 + 1) + 4096·2 + 2 parameters.
-    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError('expected a model of at most 100000000 parameters, received "1275289602 parameters"');
+    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError(
+      'expected a model of at most 100000000 parameters, received "1275289602 parameters"',
+    );
     parsed.model.layers = [{ cell: 'lstm', hidden: 20000 }];
-    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError('Bad weight file at model.layers[0].hidden: expected a whole number from 1 to 4096, received 20000');
+    await expect(readWeightFile(JSON.stringify(parsed))).rejects.toThrowError(
+      'Bad weight file at model.layers[0].hidden: expected a whole number from 1 to 4096, received 20000',
+    );
   });
 
   it('refuses a small file that describes an LSTM of hidden 2000 without building it (memory stays flat)', async () => {

@@ -11,9 +11,31 @@ export const descriptions: Record<string, ModelDescription> = {
   'LSTM with peepholes': { input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 6, peepholes: true }], readout: { width: 2 } },
   'GRU (reset before)': { input: { kind: 'values', width: 3 }, layers: [{ cell: 'gru', hidden: 6 }], readout: { width: 2 } },
   'GRU (reset after)': { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'gru', hidden: 6, resetAfterProduct: true }] },
-  stacked: { input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 6, peepholes: true }, { cell: 'gru', hidden: 5, resetAfterProduct: true }, { cell: 'plain', hidden: 4 }], readout: { width: 2 } },
-  bidirectional: { input: { kind: 'embedding', vocabulary: 7, width: 4 }, layers: [{ cell: 'gru', hidden: 5, bidirectional: true }, { cell: 'lstm', hidden: 4, bidirectional: true, peepholes: true }], readout: { width: 3 } },
-  reverse: { input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 5, reverse: true, peepholes: true }, { cell: 'gru', hidden: 4 }], readout: { width: 2 } },
+  stacked: {
+    input: { kind: 'values', width: 3 },
+    layers: [
+      { cell: 'lstm', hidden: 6, peepholes: true },
+      { cell: 'gru', hidden: 5, resetAfterProduct: true },
+      { cell: 'plain', hidden: 4 },
+    ],
+    readout: { width: 2 },
+  },
+  bidirectional: {
+    input: { kind: 'embedding', vocabulary: 7, width: 4 },
+    layers: [
+      { cell: 'gru', hidden: 5, bidirectional: true },
+      { cell: 'lstm', hidden: 4, bidirectional: true, peepholes: true },
+    ],
+    readout: { width: 3 },
+  },
+  reverse: {
+    input: { kind: 'values', width: 3 },
+    layers: [
+      { cell: 'lstm', hidden: 5, reverse: true, peepholes: true },
+      { cell: 'gru', hidden: 4 },
+    ],
+    readout: { width: 2 },
+  },
 };
 
 /** A model with every parameter moved off its initial values (biases and peepholes included). */
@@ -32,11 +54,22 @@ export function trainedTextModel(): { model: SequenceModel; tokens: Int32Array }
     'by noon the bolt of cloth is long enough to cover the bench.',
     'the weaver counts the picks per inch and tightens the reed.',
     'at dusk the looms rest and the spools are stacked by colour.',
-  ].join(' ').repeat(4);
+  ]
+    .join(' ')
+    .repeat(4);
   const symbols = [...new Set(text)].sort();
   const tokens = Int32Array.from([...text].map((c) => symbols.indexOf(c)));
-  const model = buildModel({ input: { kind: 'embedding', vocabulary: symbols.length, width: 8 }, layers: [{ cell: 'lstm', hidden: 24 }], readout: { width: symbols.length } }, { seed: 2 });
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 16 }), optimizer: new AdamRule({ rate: 0.02 }), epochs: 6, gradientNormLimit: 1 });
+  const model = buildModel(
+    { input: { kind: 'embedding', vocabulary: symbols.length, width: 8 }, layers: [{ cell: 'lstm', hidden: 24 }], readout: { width: symbols.length } },
+    { seed: 2 },
+  );
+  const trainer = new Trainer({
+    model,
+    data: streamBatches({ kind: 'tokens', tokens, vocabulary: symbols.length }, { streams: 4, window: 16 }),
+    optimizer: new AdamRule({ rate: 0.02 }),
+    epochs: 6,
+    gradientNormLimit: 1,
+  });
   while (!trainer.finished) trainer.step();
   return { model, tokens };
 }
@@ -46,7 +79,12 @@ export function trainedForecaster(): { model: SequenceModel; values: number[] } 
   const values: number[] = [];
   for (let i = 0; i < 800; i++) values.push(Math.sin(i / 6) + 0.3 * Math.sin(i / 2.3), Math.cos(i / 6) * 0.8);
   const model = buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'gru', hidden: 16 }], readout: { width: 2 } }, { seed: 5 });
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'values', values, features: 2 }, { streams: 4, window: 20 }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 10 });
+  const trainer = new Trainer({
+    model,
+    data: streamBatches({ kind: 'values', values, features: 2 }, { streams: 4, window: 20 }),
+    optimizer: new AdamRule({ rate: 0.01 }),
+    epochs: 10,
+  });
   while (!trainer.finished) trainer.step();
   return { model, values };
 }

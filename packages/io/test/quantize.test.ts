@@ -12,7 +12,7 @@ describe('per-row int8 quantisation (symmetric, one scale per row: common practi
     expect(Array.from(codes)).toEqual([127, -64, 0, 50, 0, 0, 0, 0]);
   });
 
-  it('gives every value back within half its row\'s step, and a row of zeros as zeros', () => {
+  it("gives every value back within half its row's step, and a row of zeros as zeros", () => {
     const random = new Random('quantize');
     const rows = 6;
     const cols = 33;

@@ -11,7 +11,10 @@ import { createRuntime } from '@weft/io/runtime';
 const values = buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'gru', hidden: 8 }], readout: { width: 1 } }, { seed: 1 });
 const valueMeta = { task: 'forecast', columns: ['heat', 'flow'], targetColumns: ['heat'], horizon: 1, normalisation: { mean: [20, 3], deviation: [4, 1.5] } };
 const vocabulary = ['<unknown>', ' ', 'a', 'd', 'e', 'h', 'l', 'm', 'n', 'o', 's', 't', 'u', 'w'];
-const text = buildModel({ input: { kind: 'embedding', vocabulary: vocabulary.length, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }], readout: { width: vocabulary.length } }, { seed: 2 });
+const text = buildModel(
+  { input: { kind: 'embedding', vocabulary: vocabulary.length, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }], readout: { width: vocabulary.length } },
+  { seed: 2 },
+);
 const textMeta = { task: 'next-token', tokens: 'characters', vocabulary };
 const valueRuntime = await createRuntime(await writeWeightFile(values.description, modelTensors(values), { metadata: valueMeta }));
 const textRuntime = await createRuntime(await writeWeightFile(text.description, modelTensors(text), { metadata: textMeta }));

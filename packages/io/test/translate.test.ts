@@ -28,12 +28,14 @@ describe('createTranslator', () => {
 
   it('refuses a missing column, a value that is not a number and a buffer of the wrong size, naming each', () => {
     const message = weftErrorMessage;
-    expect(message(() => forecast.inputs({ level: 1 }, undefined, 'reading 4'))).toBe('Bad data at reading 4.inflow: expected a value for column "inflow", which the model reads, received nothing');
+    expect(message(() => forecast.inputs({ level: 1 }, undefined, 'reading 4'))).toBe(
+      'Bad data at reading 4.inflow: expected a value for column "inflow", which the model reads, received nothing',
+    );
     expect(message(() => forecast.inputs({ level: 'high', inflow: 1 }))).toBe('Bad data at row.level: expected a finite number, received "high"');
     expect(message(() => forecast.inputs({ level: 1, inflow: 1 }, new Float32Array(3)))).toBe('Shape mismatch at row (into): expected 2 numbers, received 3');
   });
 
-  it('carries a stream model\'s missing reading from the column\'s last value (its fallback before any) and flags it after the columns', () => {
+  it("carries a stream model's missing reading from the column's last value (its fallback before any) and flags it after the columns", () => {
     const gappy = createTranslator({
       task: 'forecast',
       columns: ['inflow', 'level'],
@@ -49,7 +51,9 @@ describe('createTranslator', () => {
     // Then the last value, 70, carried; a marker given for the model and NaN both count.
     expect(Array.from(gappy.inputs({ inflow: 3, level: '?' }))).toEqual([0, 2, 1]);
     expect(Array.from(gappy.inputs({ inflow: Number.NaN, level: Number.NaN }))).toEqual([0, 2, 1]);
-    expect(weftErrorMessage(() => gappy.inputs({ inflow: 3, level: 'high' }))).toBe('Bad data at row.level: expected a finite number or a missing-reading marker, received "high"');
+    expect(weftErrorMessage(() => gappy.inputs({ inflow: 3, level: 'high' }))).toBe(
+      'Bad data at row.level: expected a finite number or a missing-reading marker, received "high"',
+    );
     expect(forecast.missing).toBeNull();
   });
 
@@ -62,7 +66,9 @@ describe('createTranslator', () => {
     expect(differences.outputs([0.5], { level: 20 })).toEqual({ level: 22 });
     const returns = createTranslator({ ...base, targetTransform: { kind: 'log-returns', mean: [0], deviation: [Math.log(1.1)] } });
     expect(returns.outputs([1], { level: 10 }).level).toBeCloseTo(11, 12);
-    expect(() => returns.outputs([1])).toThrowError('Bad data at outputs.from.level: expected the value of "level" now (the model forecasts its change), received no row given to inputs() yet');
+    expect(() => returns.outputs([1])).toThrowError(
+      'Bad data at outputs.from.level: expected the value of "level" now (the model forecasts its change), received no row given to inputs() yet',
+    );
   });
 
   it('splits text as training did, counts unknown pieces and maps them to the unknown token', () => {
@@ -84,8 +90,12 @@ describe('createTranslator', () => {
     const into = new Float64Array(1);
     forecast.outputsInto(Float32Array.of(0.25), into);
     expect(into[0]).toBe(forecast.outputs(Float32Array.of(0.25)).level);
-    expect(() => forecast.inputsFromNumbers(Float64Array.of(1), new Float32Array(2))).toThrowError(/^Shape mismatch at inputsFromNumbers\.values: expected 2 numbers \(inflow, level\), received 1$/);
-    expect(() => forecast.inputsFromNumbers(Float64Array.of(1, Infinity), new Float32Array(2))).toThrowError(/^Bad data at values\[1\] \(level\): expected a finite number, received Infinity$/);
+    expect(() => forecast.inputsFromNumbers(Float64Array.of(1), new Float32Array(2))).toThrowError(
+      /^Shape mismatch at inputsFromNumbers\.values: expected 2 numbers \(inflow, level\), received 1$/,
+    );
+    expect(() => forecast.inputsFromNumbers(Float64Array.of(1, Infinity), new Float32Array(2))).toThrowError(
+      /^Bad data at values\[1\] \(level\): expected a finite number, received Infinity$/,
+    );
     const text = createTranslator({ task: 'next-token', tokens: 'characters', vocabulary: [UNKNOWN_TOKEN, 'a', 'b'] });
     expect(['a', 'b', 'z'].map((c) => text.tokenId(c))).toEqual(Array.from(text.tokenIds('abz').ids));
   });

@@ -61,9 +61,13 @@ describe('the weight file', () => {
   it('round-trips every model kind: write → read → outputs identical bit for bit (f32)', async () => {
     for (const [label, description] of Object.entries(descriptions)) {
       const model = shaken(description);
-      const input = description.input.kind === 'embedding'
-        ? { tokens: Int32Array.from({ length: 12 }, (_, i) => (i * 5) % 7), steps: 4, batch: 3 }
-        : tensor(Array.from({ length: 36 }, (_, i) => Math.sin(i)), [4, 3, 3]);
+      const input =
+        description.input.kind === 'embedding'
+          ? { tokens: Int32Array.from({ length: 12 }, (_, i) => (i * 5) % 7), steps: 4, batch: 3 }
+          : tensor(
+              Array.from({ length: 36 }, (_, i) => Math.sin(i)),
+              [4, 3, 3],
+            );
       const reference = outputsOf(model, input);
       const file = await readWeightFile(await write(model));
       const again = outputsOf(loadModel(file), input);
@@ -114,7 +118,9 @@ describe('the weight file', () => {
 
     it('a newer version, saying so', async () => {
       const text = (await good()).replace('"version": 2', '"version": 7');
-      expect(await problems(text)).toEqual(['version: expected version 2 or older (this reader\'s), received 7: written by a newer weft; update weft to read it']);
+      expect(await problems(text)).toEqual([
+        "version: expected version 2 or older (this reader's), received 7: written by a newer weft; update weft to read it",
+      ]);
     });
 
     it('a changed tensor byte, by its digest', async () => {
@@ -164,7 +170,7 @@ describe('the weight file', () => {
       parsed.model.layers[0].cell = 'transformer';
       const found = await problems(JSON.stringify(parsed));
       expect(found).toEqual([
-        'model.layers[0].cell: expected one of \'lstm\', \'gru\', \'plain\', received "transformer"',
+        "model.layers[0].cell: expected one of 'lstm', 'gru', 'plain', received \"transformer\"",
         "tensors[1].dtype: expected 'f32', 'f16' or 'i8', received \"f64\"",
         'tensors[2].shape: expected up to 8 whole numbers in [0, 50000000], received an array of 1',
         'tensors[3].data: expected base64 text, received undefined',
@@ -177,11 +183,13 @@ describe('the weight file', () => {
       // Re-reading is fine (shapes are only compared with the description when a model is built) …
       const file = await readWeightFile(JSON.stringify(parsed));
       // … and building names every tensor that does not fit.
-      expect(() => loadModel(file)).toThrowError(/Bad weight file at tensors \(layers\[0\]\.forward\.input\)\.shape: expected \[3, 21\] \(from the model description\), received \[3, 18\]/);
+      expect(() => loadModel(file)).toThrowError(
+        /Bad weight file at tensors \(layers\[0\]\.forward\.input\)\.shape: expected \[3, 21\] \(from the model description\), received \[3, 18\]/,
+      );
     });
 
     it('deep nesting, without recursing into it', async () => {
-      const deep = '{"format":"weft-weights","version":1,"model":' + '['.repeat(100000) + ']'.repeat(100000) + '}';
+      const deep = `{"format":"weft-weights","version":1,"model":${'['.repeat(100000)}${']'.repeat(100000)}}`;
       expect((await problems(deep))[0]).toMatch(/expected nesting at most 64 deep/);
     });
   });

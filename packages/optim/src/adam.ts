@@ -53,9 +53,19 @@ export class AdamRule extends UpdateRule {
   protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number, kernels: KernelTable): void {
     const t = this.steps;
     kernels.adamUpdate(
-      values, gradient, this.slot('firstMoment', index), this.slot('secondMoment', index), values.length,
-      this.beta1, this.beta2, 1 - this.beta1 ** t, 1 - this.beta2 ** t,
-      this.rate * multiplier, this.decoupledDecay * multiplier, this.l2Penalty, this.epsilon,
+      values,
+      gradient,
+      this.slot('firstMoment', index),
+      this.slot('secondMoment', index),
+      values.length,
+      this.beta1,
+      this.beta2,
+      1 - this.beta1 ** t,
+      1 - this.beta2 ** t,
+      this.rate * multiplier,
+      this.decoupledDecay * multiplier,
+      this.l2Penalty,
+      this.epsilon,
     );
   }
 }

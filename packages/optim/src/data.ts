@@ -23,31 +23,31 @@ import type { TokenBatch } from '@weft/cells';
 export type BatchTargets =
   /** A class per step ([T·B], time-major) or per sequence ([B]); weights (1 real, 0 padding) per target. */
   | {
-    /** Class targets (cross-entropy loss). */
-    readonly kind: 'classes';
-    /** True for a target at every step, false for one per sequence (read at its last valid step). */
-    readonly perStep: boolean;
-    /** The target class ids. */
-    readonly classes: Int32Array;
-    /** A weight per target (0 for padding); null when every target counts once. */
-    readonly weights: Float64Array | null;
-  }
+      /** Class targets (cross-entropy loss). */
+      readonly kind: 'classes';
+      /** True for a target at every step, false for one per sequence (read at its last valid step). */
+      readonly perStep: boolean;
+      /** The target class ids. */
+      readonly classes: Int32Array;
+      /** A weight per target (0 for padding); null when every target counts once. */
+      readonly weights: Float64Array | null;
+    }
   /** Values per step ([T·B, width]) or per sequence ([B, width]); weights per row or per value. */
   | {
-    /** Value targets (mean squared error). */
-    readonly kind: 'values';
-    /** True for targets at every step, false for one row per sequence. */
-    readonly perStep: boolean;
-    /** Values per target row. */
-    readonly width: number;
-    /** The target values, one row per target. */
-    readonly values: Tensor;
-    /**
-     * A weight per target row (0 for padding), or per target value (rows × width; 0 for a value never observed);
-     * null when every row counts once.
-     */
-    readonly weights: Float64Array | null;
-  };
+      /** Value targets (mean squared error). */
+      readonly kind: 'values';
+      /** True for targets at every step, false for one row per sequence. */
+      readonly perStep: boolean;
+      /** Values per target row. */
+      readonly width: number;
+      /** The target values, one row per target. */
+      readonly values: Tensor;
+      /**
+       * A weight per target row (0 for padding), or per target value (rows × width; 0 for a value never observed);
+       * null when every row counts once.
+       */
+      readonly weights: Float64Array | null;
+    };
 
 /** One batch, as a data source hands it to the trainer. */
 export interface Batch {
@@ -95,7 +95,6 @@ export interface DataSource {
    */
   batch(epoch: number, index: number): Batch;
 }
-
 
 export type { StreamOptions, TokenStreamOptions, ValueStreamOptions, WholeStreamOptions } from './data/streams.js';
 export { streamBatches, wholeStream } from './data/streams.js';

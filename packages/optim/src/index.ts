@@ -15,7 +15,19 @@ export type { ScheduleDescription } from './schedule.js';
 export { checkSchedule, scheduleFactor } from './schedule.js';
 export type { ClassificationMetrics, RegressionMetrics } from './metrics.js';
 export { classificationMetrics, regressionMetrics } from './metrics.js';
-export type { Batch, BatchTargets, DataSource, LabelledSequence, PairSetOptions, SequenceSetOptions, StreamOptions, TokenPair, TokenStreamOptions, ValueStreamOptions, WholeStreamOptions } from './data.js';
+export type {
+  Batch,
+  BatchTargets,
+  DataSource,
+  LabelledSequence,
+  PairSetOptions,
+  SequenceSetOptions,
+  StreamOptions,
+  TokenPair,
+  TokenStreamOptions,
+  ValueStreamOptions,
+  WholeStreamOptions,
+} from './data.js';
 export { pairBatches, sequenceBatches, streamBatches, wholeStream } from './data.js';
 export type { TrainableModel } from './training/lookback.js';
 export type { ComputeHere, PlainBatch, ShardJob, ShardOutcome, ShardWorkers } from './training/shards.js';

@@ -29,7 +29,13 @@ export interface RegressionMetrics {
 }
 
 /** Rows of [rows, classes] logits against one target per row; rows with weight 0 are skipped. */
-export function classificationMetrics(logits: FloatArray, targets: Int32Array, weights: FloatArray | null, rows: number, classes: number): ClassificationMetrics {
+export function classificationMetrics(
+  logits: FloatArray,
+  targets: Int32Array,
+  weights: FloatArray | null,
+  rows: number,
+  classes: number,
+): ClassificationMetrics {
   let total = 0;
   let correct = 0;
   let count = 0;

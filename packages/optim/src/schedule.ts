@@ -14,41 +14,41 @@ import { fail } from '@weft/core';
 /** A learning-rate schedule as plain data (see the formulas at the top of this module). */
 export type ScheduleDescription =
   | {
-    /** The base rate throughout (after any warm-up). */
-    readonly kind: 'constant';
-    /** Steps of linear warm-up from rate/warmup to the full rate; default 0. */
-    readonly warmup?: number;
-  }
+      /** The base rate throughout (after any warm-up). */
+      readonly kind: 'constant';
+      /** Steps of linear warm-up from rate/warmup to the full rate; default 0. */
+      readonly warmup?: number;
+    }
   | {
-    /** The rate times `factor` every `every` steps, in whole drops. */
-    readonly kind: 'step';
-    /** Steps between drops. */
-    readonly every: number;
-    /** γ, the factor of each drop (0.5 halves the rate). */
-    readonly factor: number;
-    /** Steps of linear warm-up before the schedule starts; default 0. */
-    readonly warmup?: number;
-  }
+      /** The rate times `factor` every `every` steps, in whole drops. */
+      readonly kind: 'step';
+      /** Steps between drops. */
+      readonly every: number;
+      /** γ, the factor of each drop (0.5 halves the rate). */
+      readonly factor: number;
+      /** Steps of linear warm-up before the schedule starts; default 0. */
+      readonly warmup?: number;
+    }
   | {
-    /** The rate times `factor` per `every` steps, smoothly: γ^(s / every). */
-    readonly kind: 'exponential';
-    /** Steps over which the rate falls by `factor`. */
-    readonly every: number;
-    /** γ, the factor per `every` steps. */
-    readonly factor: number;
-    /** Steps of linear warm-up before the schedule starts; default 0. */
-    readonly warmup?: number;
-  }
+      /** The rate times `factor` per `every` steps, smoothly: γ^(s / every). */
+      readonly kind: 'exponential';
+      /** Steps over which the rate falls by `factor`. */
+      readonly every: number;
+      /** γ, the factor per `every` steps. */
+      readonly factor: number;
+      /** Steps of linear warm-up before the schedule starts; default 0. */
+      readonly warmup?: number;
+    }
   | {
-    /** Half a cosine from the full rate down to `floor` × the rate, over the run (Loshchilov & Hutter 2017). */
-    readonly kind: 'cosine';
-    /** The run's length in steps (warm-up included). */
-    readonly total: number;
-    /** The factor at the end, in [0, 1]; default 0. */
-    readonly floor?: number;
-    /** Steps of linear warm-up before the cosine starts; default 0. */
-    readonly warmup?: number;
-  };
+      /** Half a cosine from the full rate down to `floor` × the rate, over the run (Loshchilov & Hutter 2017). */
+      readonly kind: 'cosine';
+      /** The run's length in steps (warm-up included). */
+      readonly total: number;
+      /** The factor at the end, in [0, 1]; default 0. */
+      readonly floor?: number;
+      /** Steps of linear warm-up before the cosine starts; default 0. */
+      readonly warmup?: number;
+    };
 
 /** Checks a schedule's fields (kinds, whole numbers, ranges), throwing a `WeftError` naming the field; returns it. */
 export function checkSchedule(schedule: ScheduleDescription): ScheduleDescription {
@@ -63,8 +63,10 @@ export function checkSchedule(schedule: ScheduleDescription): ScheduleDescriptio
       if (!(schedule.factor > 0 && schedule.factor <= 1)) fail('invalid_option', 'schedule.factor', 'a number in (0, 1]', String(schedule.factor));
       break;
     case 'cosine':
-      if (!Number.isInteger(schedule.total) || schedule.total <= warmup) fail('invalid_option', 'schedule.total', `a whole number > warmup (${warmup})`, String(schedule.total));
-      if (schedule.floor !== undefined && !(schedule.floor >= 0 && schedule.floor <= 1)) fail('invalid_option', 'schedule.floor', 'a number in [0, 1]', String(schedule.floor));
+      if (!Number.isInteger(schedule.total) || schedule.total <= warmup)
+        fail('invalid_option', 'schedule.total', `a whole number > warmup (${warmup})`, String(schedule.total));
+      if (schedule.floor !== undefined && !(schedule.floor >= 0 && schedule.floor <= 1))
+        fail('invalid_option', 'schedule.floor', 'a number in [0, 1]', String(schedule.floor));
       break;
     default:
       fail('invalid_option', 'schedule.kind', "'constant', 'step', 'exponential' or 'cosine'", JSON.stringify((schedule as { kind: unknown }).kind));

@@ -45,8 +45,15 @@ export class SgdRule extends UpdateRule {
 
   protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number, kernels: KernelTable): void {
     kernels.sgdUpdate(
-      values, gradient, this.slot('velocity', index), values.length,
-      this.rate * multiplier, this.decoupledDecay * multiplier, this.momentum, this.l2Penalty, this.nesterov,
+      values,
+      gradient,
+      this.slot('velocity', index),
+      values.length,
+      this.rate * multiplier,
+      this.decoupledDecay * multiplier,
+      this.momentum,
+      this.l2Penalty,
+      this.nesterov,
     );
   }
 }

@@ -17,7 +17,7 @@
  * shards on threads), the run loop and snapshot/restore read and write the same private state of one object (the
  * carried state, the sums, the counters); the parts that stand alone are in training/ (shards.ts, thread-group.ts).
  */
-import { BufferPool, Random, Tape, Tensor, backendOf, defaultBackend, fail, resetGradients, zeros } from '@weft/core';
+import { type BufferPool, Random, Tape, Tensor, backendOf, defaultBackend, fail, resetGradients, zeros } from '@weft/core';
 import type { Backend, FloatArray } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import type { TrainableModel } from './training/lookback.js';
@@ -71,10 +71,18 @@ export class Trainer {
     }
     if (options.schedule !== undefined) checkSchedule(options.schedule);
     // The names these options had in 0.1.0: refused by name, so a program written for them does not train unclipped.
-    for (const [old, now] of [['clipNorm', 'gradientNormLimit'], ['clipValue', 'gradientValueLimit']] as const) {
+    for (const [old, now] of [
+      ['clipNorm', 'gradientNormLimit'],
+      ['clipValue', 'gradientValueLimit'],
+    ] as const) {
       if (old in options) fail('invalid_option', `trainer.${old}`, `trainer.${now} (the option's name now)`, `trainer.${old}`);
     }
-    for (const [name, value] of [['gradientNormLimit', options.gradientNormLimit], ['gradientValueLimit', options.gradientValueLimit], ['validateEvery', options.validateEvery], ['patience', options.patience]] as const) {
+    for (const [name, value] of [
+      ['gradientNormLimit', options.gradientNormLimit],
+      ['gradientValueLimit', options.gradientValueLimit],
+      ['validateEvery', options.validateEvery],
+      ['patience', options.patience],
+    ] as const) {
       if (value !== undefined && !(value > 0)) fail('invalid_option', `trainer.${name}`, 'a number > 0', String(value));
     }
     if (options.keepBest !== undefined && typeof options.keepBest !== 'boolean') {
@@ -86,7 +94,12 @@ export class Trainer {
     this.backend = options.backend ?? (this.parameters.length > 0 ? backendOf(this.parameters[0].data) : defaultBackend());
     this.parameters.forEach((p, i) => {
       if (!this.backend.holds(p.data)) {
-        fail('backend_mismatch', `trainer.model.parameters[${i}] (${p.label()})`, `a tensor in ${this.backend.name} memory (the trainer's backend)`, `a tensor in ${backendOf(p.data).name} memory`);
+        fail(
+          'backend_mismatch',
+          `trainer.model.parameters[${i}] (${p.label()})`,
+          `a tensor in ${this.backend.name} memory (the trainer's backend)`,
+          `a tensor in ${backendOf(p.data).name} memory`,
+        );
       }
     });
     this.pool = this.backend.createPool();
@@ -117,7 +130,8 @@ export class Trainer {
 
   /** One training step on the next batch; returns the loss. Throws on a non-finite loss or parameter. */
   step(): number {
-    if (this.options.workers !== undefined) fail('invalid_option', 'trainer.step', 'stepAsync() or run() (steps on training threads are asynchronous)', 'step() with workers');
+    if (this.options.workers !== undefined)
+      fail('invalid_option', 'trainer.step', 'stepAsync() or run() (steps on training threads are asynchronous)', 'step() with workers');
     const batch = this.nextBatch();
     return this.finishStep(batch, this.shardRanges(batch).length > 1 ? this.shardsInThread(batch) : this.wholeBatch(batch));
   }
@@ -190,17 +204,35 @@ export class Trainer {
     const jobs: ShardJob[] = this.shardRanges(batch).map(([from, to], k) => {
       const plain = shardOf(batch, from, to);
       const share = plainLossWeight(plain) / total;
-      return { shard: k, batch: plain, state: carried === undefined ? null : carried.map((slot) => rowsOf(slot, from, to)), seed: shardSeed(this.seed, step, k), share };
+      return {
+        shard: k,
+        batch: plain,
+        state: carried === undefined ? null : carried.map((slot) => rowsOf(slot, from, to)),
+        seed: shardSeed(this.seed, step, k),
+        share,
+      };
     });
     const here = (job: ShardJob, into: FloatArray, at: number) => computeJob(this.model, this.parameters, this.tape, this.pool, job, into, at);
-    const outcomes = await workers.compute(step, this.parameters.map((p) => p.data), jobs, here);
+    const outcomes = await workers.compute(
+      step,
+      this.parameters.map((p) => p.data),
+      jobs,
+      here,
+    );
     const sums = this.sumBuffers();
     let loss = 0;
     outcomes.forEach((outcome, k) => {
       loss += outcome.loss;
       this.parameters.forEach((_, i) => this.sumInto(sums[i], workers.gradient(k, i), k));
     });
-    return { loss, carry: this.joinedStates(outcomes.map((o) => o.state), batch.batch), sums };
+    return {
+      loss,
+      carry: this.joinedStates(
+        outcomes.map((o) => o.state),
+        batch.batch,
+      ),
+      sums,
+    };
   }
 
   private zeros: Float64Array = new Float64Array(0);
@@ -253,7 +285,10 @@ export class Trainer {
     if (states.length === 0 || states[0].length === 0) return [];
     return states[0].map((_, slot) => {
       const parts = states.map((s) => s[slot]);
-      const joined = parts[0] instanceof Float64Array ? new Float64Array(parts.reduce((n, p) => n + p.length, 0)) : new Float32Array(parts.reduce((n, p) => n + p.length, 0));
+      const joined =
+        parts[0] instanceof Float64Array
+          ? new Float64Array(parts.reduce((n, p) => n + p.length, 0))
+          : new Float32Array(parts.reduce((n, p) => n + p.length, 0));
       let offset = 0;
       for (const part of parts) {
         joined.set(part, offset);
@@ -391,7 +426,12 @@ export class Trainer {
       optimizer: this.options.optimizer.state(),
       random: this.random.state(),
       carried: this.carried === null ? null : this.carried.map((t) => Array.from(t.data)),
-      best: { loss: this.best.loss, step: this.best.step, parameters: this.best.parameters === null ? null : named(this.best.parameters), stale: this.best.stale },
+      best: {
+        loss: this.best.loss,
+        step: this.best.step,
+        parameters: this.best.parameters === null ? null : named(this.best.parameters),
+        stale: this.best.stale,
+      },
       skipped: this.skipped,
     };
   }
@@ -408,7 +448,11 @@ export class Trainer {
         for (let k = 0; k < values.length; k++) into[i][k] = values[k];
       });
     };
-    load(snapshot.parameters, this.parameters.map((p) => p.data), 'snapshot.parameters');
+    load(
+      snapshot.parameters,
+      this.parameters.map((p) => p.data),
+      'snapshot.parameters',
+    );
     this.options.optimizer.restore(snapshot.optimizer, this.parameters);
     this.random = Random.fromState(snapshot.random);
     this.stepCount = snapshot.step;
@@ -418,7 +462,8 @@ export class Trainer {
       this.releaseCarried();
     } else {
       // Only a sequence model carries state (an encoder-decoder's snapshots have none).
-      if (!('stateSlots' in this.model)) fail('shape_mismatch', 'snapshot.carried', 'null (an encoder-decoder carries no state)', `${snapshot.carried.length} slots`);
+      if (!('stateSlots' in this.model))
+        fail('shape_mismatch', 'snapshot.carried', 'null (an encoder-decoder carries no state)', `${snapshot.carried.length} slots`);
       const model: SequenceModel = this.model;
       const slots = model.stateSlots();
       this.releaseCarried();
@@ -490,4 +535,3 @@ function rowsOf(slot: Tensor, from: number, to: number): FloatArray {
 function now(): number {
   return typeof performance !== 'undefined' ? performance.now() : Date.now();
 }
-

@@ -10,7 +10,6 @@
 import { backendOf, fail, formatShape } from '@weft/core';
 import type { FloatArray, KernelTable, Tensor, UpdateRuleState } from '@weft/core';
 
-
 /** Checks a learning-rate-like option: a finite number > 0 (or ≥ 0 when `zeroAllowed`). */
 export function checkRate(value: unknown, path: string, zeroAllowed = false): number {
   const ok = typeof value === 'number' && Number.isFinite(value) && (zeroAllowed ? value >= 0 : value > 0);
@@ -55,7 +54,8 @@ export abstract class UpdateRule {
 
   /** One update of every parameter from its gradient, at rate α·multiplier. */
   update(parameters: readonly Tensor[], multiplier = 1): void {
-    if (!(multiplier >= 0) || !Number.isFinite(multiplier)) fail('invalid_argument', `${this.kind}.update.multiplier`, 'a finite number ≥ 0', String(multiplier));
+    if (!(multiplier >= 0) || !Number.isFinite(multiplier))
+      fail('invalid_argument', `${this.kind}.update.multiplier`, 'a finite number ≥ 0', String(multiplier));
     this.prepare(parameters);
     this.steps++;
     for (let i = 0; i < parameters.length; i++) {
@@ -104,7 +104,11 @@ export abstract class UpdateRule {
     if (this.slots === null) {
       this.slots = new Map();
       this.sizes = parameters.map((p) => p.size);
-      for (const name of this.slotNames) this.slots.set(name, parameters.map((p) => backendOf(p.data).pool.takeZeroed(p.dtype, p.size)));
+      for (const name of this.slotNames)
+        this.slots.set(
+          name,
+          parameters.map((p) => backendOf(p.data).pool.takeZeroed(p.dtype, p.size)),
+        );
     }
     if (parameters.length !== this.sizes.length) {
       fail('invalid_argument', `${this.kind}.update.parameters`, `the same ${this.sizes.length} parameters on every update`, `${parameters.length}`);

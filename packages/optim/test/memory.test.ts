@@ -9,7 +9,12 @@ import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 function peakBytes(streamLength: number, window: number): number {
   const values = Array.from({ length: streamLength }, (_, i) => Math.sin(i / 7) + 0.1 * Math.cos(i / 3));
   const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'lstm', hidden: 8 }], readout: { width: 1 } }, { seed: 1 });
-  const trainer = new Trainer({ model, data: streamBatches({ kind: 'values', values, features: 1 }, { window }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 1 });
+  const trainer = new Trainer({
+    model,
+    data: streamBatches({ kind: 'values', values, features: 1 }, { window }),
+    optimizer: new AdamRule({ rate: 0.01 }),
+    epochs: 1,
+  });
   while (!trainer.finished) trainer.step();
   return trainer.pool.counts().peakBytesInUse;
 }
@@ -33,7 +38,7 @@ describe('training memory on a stream', () => {
   });
 });
 
-describe('a long run\'s buffers', () => {
+describe("a long run's buffers", () => {
   it('stop being created after the first epoch: batches, carried state and validation reuse their buffers', async () => {
     // On the WebAssembly backend memory is reclaimed only by giving buffers back, so this is what keeps a long run
     // inside its reservation; the counts below are the pools' own, on whichever backend runs.

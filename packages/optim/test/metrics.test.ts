@@ -17,7 +17,11 @@ describe('metrics outside the tape', () => {
     const m = regressionMetrics(Float64Array.of(1, 2, 3, 4), Float64Array.of(0, 2, 5, 4), Float64Array.of(1, 3), 2, 2);
     // Row 0 differences (1, 0), weight 1; row 1 (−2, 0), weight 3: Σ w·d² = 1 + 12, Σ w·|d| = 1 + 6, count 2 + 6.
     expect(m).toEqual({ meanSquaredError: 13 / 8, meanAbsoluteError: 7 / 8, count: 8 });
-    expect(regressionMetrics(Float64Array.of(1), Float64Array.of(0), Float64Array.of(0), 1, 1)).toEqual({ meanSquaredError: 0, meanAbsoluteError: 0, count: 0 });
+    expect(regressionMetrics(Float64Array.of(1), Float64Array.of(0), Float64Array.of(0), 1, 1)).toEqual({
+      meanSquaredError: 0,
+      meanAbsoluteError: 0,
+      count: 0,
+    });
   });
 
   it('give the errors over weighted values when there is one weight per value, leaving out values weighted 0', () => {

@@ -6,7 +6,7 @@ import { AdamRule, Trainer, streamBatches } from '@weft/optim';
 
 const available = webAssemblyUnavailable() === null;
 describe.skipIf(!available)('a trainer on a backend', () => {
-  it('refuses a model whose parameters live in another backend\'s memory', () => {
+  it("refuses a model whose parameters live in another backend's memory", () => {
     const before = defaultBackend();
     try {
       setDefaultBackend('javascript');

@@ -13,7 +13,10 @@ function corpus(length: number, seed: string): Int32Array {
 }
 
 function textModel(seed = 1) {
-  return buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'gru', hidden: 8 }], dropout: 0, readout: { width: 6 } }, { seed });
+  return buildModel(
+    { input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'gru', hidden: 8 }], dropout: 0, readout: { width: 6 } },
+    { seed },
+  );
 }
 
 function weights(model: { parameters(): { tensor: { data: ArrayLike<number> } }[] }): number[][] {
@@ -23,8 +26,26 @@ function weights(model: { parameters(): { tensor: { data: ArrayLike<number> } }[
 describe('the trainer', () => {
   it('gives bit-identical weights for two runs with one seed', async () => {
     const make = () => {
-      const model = buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }, { cell: 'gru', hidden: 6 }], dropout: 0.3, readout: { width: 6 } }, { seed: 9 });
-      return new Trainer({ model, data: streamBatches({ kind: 'tokens', tokens: corpus(2000, 'c'), vocabulary: 6 }, { streams: 4, window: 10 }), optimizer: new AdamRule({ rate: 0.01 }), epochs: 1, seed: 5, gradientNormLimit: 1 });
+      const model = buildModel(
+        {
+          input: { kind: 'embedding', vocabulary: 6, width: 4 },
+          layers: [
+            { cell: 'lstm', hidden: 8 },
+            { cell: 'gru', hidden: 6 },
+          ],
+          dropout: 0.3,
+          readout: { width: 6 },
+        },
+        { seed: 9 },
+      );
+      return new Trainer({
+        model,
+        data: streamBatches({ kind: 'tokens', tokens: corpus(2000, 'c'), vocabulary: 6 }, { streams: 4, window: 10 }),
+        optimizer: new AdamRule({ rate: 0.01 }),
+        epochs: 1,
+        seed: 5,
+        gradientNormLimit: 1,
+      });
     };
     const a = make();
     const b = make();
@@ -44,7 +65,19 @@ describe('the trainer', () => {
       seed: 'resume',
       gradientNormLimit: 0.5,
     });
-    const dropoutModel = () => buildModel({ input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'lstm', hidden: 6 }, { cell: 'lstm', hidden: 6 }], dropout: 0.25, readout: { width: 6 } }, { seed: 2 });
+    const dropoutModel = () =>
+      buildModel(
+        {
+          input: { kind: 'embedding', vocabulary: 6, width: 4 },
+          layers: [
+            { cell: 'lstm', hidden: 6 },
+            { cell: 'lstm', hidden: 6 },
+          ],
+          dropout: 0.25,
+          readout: { width: 6 },
+        },
+        { seed: 2 },
+      );
     const whole = new Trainer(options(dropoutModel()));
     while (!whole.finished) whole.step();
     const first = new Trainer(options(dropoutModel()));
@@ -61,8 +94,16 @@ describe('the trainer', () => {
     // A forecaster of a sine wave with ReLU units and a learning rate far too large: the squared error explodes.
     const wave = Array.from({ length: 600 }, (_, i) => Math.sin(i / 5));
     const make = () => {
-      const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 8, activation: 'relu' }], readout: { width: 1 } }, { seed: 3 });
-      return new Trainer({ model, data: streamBatches({ kind: 'values', values: wave, features: 1 }, { streams: 2, window: 8 }), optimizer: new SgdRule({ rate: 50 }), epochs: 5 });
+      const model = buildModel(
+        { input: { kind: 'values', width: 1 }, layers: [{ cell: 'plain', hidden: 8, activation: 'relu' }], readout: { width: 1 } },
+        { seed: 3 },
+      );
+      return new Trainer({
+        model,
+        data: streamBatches({ kind: 'values', values: wave, features: 1 }, { streams: 2, window: 8 }),
+        optimizer: new SgdRule({ rate: 50 }),
+        epochs: 5,
+      });
     };
     const trainer = make();
     let error: unknown;
@@ -91,12 +132,27 @@ describe('the trainer', () => {
     // is Σ x·δ over every step, and Infinity · 0 is NaN (IEEE 754 §7.2), so the gradient is not finite.
     const x = Float32Array.from({ length: 8 }, (_, i) => (i % 3) / 3);
     x[3 * 2 + 1] = Infinity;
-    const batch: Batch = { input: tensor(x, [4, 2, 1]), steps: 4, batch: 2, lengths: Int32Array.of(4, 3), targets: { kind: 'values', perStep: false, width: 1, values: tensor(Float32Array.of(0.5, -0.5), [2, 1]), weights: null }, positions: 7 };
+    const batch: Batch = {
+      input: tensor(x, [4, 2, 1]),
+      steps: 4,
+      batch: 2,
+      lengths: Int32Array.of(4, 3),
+      targets: { kind: 'values', perStep: false, width: 1, values: tensor(Float32Array.of(0.5, -0.5), [2, 1]), weights: null },
+      positions: 7,
+    };
     for (const shardRows of [undefined, 1]) {
       const model = buildModel({ input: { kind: 'values', width: 1 }, layers: [{ cell: 'gru', hidden: 3 }], readout: { width: 1 } }, { seed: 1 });
       const before = model.parameters().map((p) => Array.from(p.tensor.data));
       const events: TrainingEvent[] = [];
-      const trainer = new Trainer({ model, data: { batchesPerEpoch: 1, carriesState: false, batch: () => batch }, optimizer: new AdamRule({ rate: 0.01 }), epochs: 1, gradientNormLimit: 1, onProgress: (e) => events.push(e), ...(shardRows === undefined ? {} : { shardRows }) });
+      const trainer = new Trainer({
+        model,
+        data: { batchesPerEpoch: 1, carriesState: false, batch: () => batch },
+        optimizer: new AdamRule({ rate: 0.01 }),
+        epochs: 1,
+        gradientNormLimit: 1,
+        onProgress: (e) => events.push(e),
+        ...(shardRows === undefined ? {} : { shardRows }),
+      });
       const loss = trainer.step();
       expect(Number.isFinite(loss)).toBe(true);
       const skipped = events.filter((e) => e.kind === 'skipped');
@@ -134,16 +190,17 @@ describe('the trainer', () => {
   });
 
   it('puts back the best validation weights when the epochs run out, and says which step it kept', async () => {
-    const make = (keepBest?: boolean) => new Trainer({
-      model: textModel(4),
-      data: streamBatches({ kind: 'tokens', tokens: corpus(600, 'p'), vocabulary: 6 }, { window: 10 }),
-      validation: streamBatches({ kind: 'tokens', tokens: corpus(300, 'v'), vocabulary: 6 }, { window: 10 }),
-      // A rate this large makes the validation loss go up and down, so the last validation is rarely the best.
-      optimizer: new AdamRule({ rate: 0.3 }),
-      epochs: 6,
-      validateEvery: 7,
-      ...(keepBest === undefined ? {} : { keepBest }),
-    });
+    const make = (keepBest?: boolean) =>
+      new Trainer({
+        model: textModel(4),
+        data: streamBatches({ kind: 'tokens', tokens: corpus(600, 'p'), vocabulary: 6 }, { window: 10 }),
+        validation: streamBatches({ kind: 'tokens', tokens: corpus(300, 'v'), vocabulary: 6 }, { window: 10 }),
+        // A rate this large makes the validation loss go up and down, so the last validation is rarely the best.
+        optimizer: new AdamRule({ rate: 0.3 }),
+        epochs: 6,
+        validateEvery: 7,
+        ...(keepBest === undefined ? {} : { keepBest }),
+      });
     const trainer = make();
     const summary = await trainer.run();
     expect(summary.stoppedBy).toBe('epochs');
@@ -156,8 +213,16 @@ describe('the trainer', () => {
     // With this seed the best validation came before the end (deterministic), so the two runs end apart.
     expect(summary.keptStep).toBeLessThan(summary.steps);
     expect(last.validate().loss).toBeGreaterThan(summary.bestValidation!.loss);
-    expect(() => new Trainer({ model: textModel(4), data: streamBatches({ kind: 'tokens', tokens: corpus(600, 'p'), vocabulary: 6 }, { window: 10 }), optimizer: new AdamRule({ rate: 0.1 }), epochs: 1, keepBest: 'yes' as unknown as boolean }))
-      .toThrowError(/^Invalid option at trainer\.keepBest/);
+    expect(
+      () =>
+        new Trainer({
+          model: textModel(4),
+          data: streamBatches({ kind: 'tokens', tokens: corpus(600, 'p'), vocabulary: 6 }, { window: 10 }),
+          optimizer: new AdamRule({ rate: 0.1 }),
+          epochs: 1,
+          keepBest: 'yes' as unknown as boolean,
+        }),
+    ).toThrowError(/^Invalid option at trainer\.keepBest/);
   });
 
   it('honours an abort signal between steps', async () => {
@@ -185,7 +250,10 @@ describe('the trainer', () => {
       optimizer: new AdamRule({ rate: 0.01 }),
       epochs: 1,
     };
-    for (const [old, now] of [['clipNorm', 'gradientNormLimit'], ['clipValue', 'gradientValueLimit']]) {
+    for (const [old, now] of [
+      ['clipNorm', 'gradientNormLimit'],
+      ['clipValue', 'gradientValueLimit'],
+    ]) {
       const error = (() => {
         try {
           return new Trainer({ ...options, [old]: 1 } as TrainerOptions);
@@ -206,7 +274,10 @@ describe('the trainer', () => {
       const tokens = Array.from({ length }, () => random.integer(2));
       return { tokens, label: tokens.filter((t) => t === 1).length * 2 > length ? 1 : 0 };
     });
-    const model = buildModel({ input: { kind: 'embedding', vocabulary: 2, width: 3 }, layers: [{ cell: 'gru', hidden: 8, bidirectional: true }], readout: { width: 2 } }, { seed: 1 });
+    const model = buildModel(
+      { input: { kind: 'embedding', vocabulary: 2, width: 3 }, layers: [{ cell: 'gru', hidden: 8, bidirectional: true }], readout: { width: 2 } },
+      { seed: 1 },
+    );
     const data = sequenceBatches(sequences.slice(0, 200), { batchSize: 16, seed: 2 });
     const validation = sequenceBatches(sequences.slice(200), { batchSize: 40 });
     const trainer = new Trainer({ model, data, validation, optimizer: new AdamRule({ rate: 0.03 }), epochs: 25 });
@@ -227,12 +298,16 @@ describe('the trainer', () => {
         return { source, target: [...source].reverse() };
       });
     };
-    const model = (attention: 'general' | null) => new EncoderDecoderModel({
-      kind: 'encoder-decoder',
-      attention,
-      encoder: { input: { kind: 'embedding', vocabulary: 8, width: 6 }, layers: [{ cell: 'gru', hidden: 16, bidirectional: true }], dropout: 0.1 },
-      decoder: { input: { kind: 'embedding', vocabulary: 8, width: 6 }, layers: [{ cell: 'gru', hidden: 16 }], readout: { width: 8 } },
-    }, { seed: 2 });
+    const model = (attention: 'general' | null) =>
+      new EncoderDecoderModel(
+        {
+          kind: 'encoder-decoder',
+          attention,
+          encoder: { input: { kind: 'embedding', vocabulary: 8, width: 6 }, layers: [{ cell: 'gru', hidden: 16, bidirectional: true }], dropout: 0.1 },
+          decoder: { input: { kind: 'embedding', vocabulary: 8, width: 6 }, layers: [{ cell: 'gru', hidden: 16 }], readout: { width: 8 } },
+        },
+        { seed: 2 },
+      );
     const options = (m: EncoderDecoderModel, epochs: number): TrainerOptions => ({
       model: m,
       data: pairBatches(pairs(240, 'train'), { batchSize: 16, startToken: 0, endToken: 1, seed: 1 }),
@@ -266,13 +341,19 @@ describe('the trainer', () => {
       resumed.restore(saved);
       while (!resumed.finished) resumed.step();
       expect(weights(resumed.model)).toEqual(weights(whole.model));
-      expect(() => resumed.restore({ ...saved, carried: [[0, 0]] })).toThrowError('Shape mismatch at snapshot.carried: expected null (an encoder-decoder carries no state), received 1 slots');
+      expect(() => resumed.restore({ ...saved, carried: [[0, 0]] })).toThrowError(
+        'Shape mismatch at snapshot.carried: expected null (an encoder-decoder carries no state), received 1 slots',
+      );
     });
 
     it('refuse batches without sources for an encoder-decoder, and batches of pairs for a sequence model', () => {
       const streams = streamBatches({ kind: 'tokens', tokens: corpus(200, 'x'), vocabulary: 6 }, { window: 5 });
-      expect(() => new Trainer({ ...options(model(null), 1), data: streams }).step()).toThrowError('Invalid argument at trainer.batch.source: expected batches of pairs (pairBatches) for an encoder-decoder, received a batch without sources');
-      expect(() => new Trainer({ ...options(model(null), 1), model: textModel() }).step()).toThrowError('Invalid argument at trainer.batch.source: expected no sources (batches of pairs train an encoder-decoder), received a batch of pairs');
+      expect(() => new Trainer({ ...options(model(null), 1), data: streams }).step()).toThrowError(
+        'Invalid argument at trainer.batch.source: expected batches of pairs (pairBatches) for an encoder-decoder, received a batch without sources',
+      );
+      expect(() => new Trainer({ ...options(model(null), 1), model: textModel() }).step()).toThrowError(
+        'Invalid argument at trainer.batch.source: expected no sources (batches of pairs train an encoder-decoder), received a batch of pairs',
+      );
     });
   });
 });

@@ -3,7 +3,7 @@ import { Random, randomUniform, tensor, trainable } from '@weft/core';
 import { AdamRule, SgdRule } from '@weft/optim';
 
 describe('what every update rule shares', () => {
-  it('round-trips its state as plain data, continues identically, and refuses another rule\'s state', () => {
+  it("round-trips its state as plain data, continues identically, and refuses another rule's state", () => {
     const random = new Random(4);
     const a = trainable(randomUniform([6], random, -1, 1, 'f32'));
     const b = trainable(tensor(Array.from(a.data), [6], 'f32'));
@@ -29,7 +29,7 @@ describe('what every update rule shares', () => {
     expect(() => new SgdRule({ rate: 0.1 }).restore(first.state(), [b])).toThrowError('Invalid argument at optimizer state.kind: expected sgd, received adam');
   });
 
-  it('refuses bad options by the rule\'s and the option\'s name', () => {
+  it("refuses bad options by the rule's and the option's name", () => {
     expect(() => new AdamRule({ rate: 0 })).toThrowError('Invalid option at adam.rate: expected a finite number > 0, received 0');
     expect(() => new AdamRule({ rate: 0.1, beta1: 1 })).toThrowError('Invalid option at adam.beta1: expected a number in [0, 1), received 1');
     expect(() => new SgdRule({ rate: Number.NaN })).toThrowError('Invalid option at sgd.rate: expected a finite number > 0, received NaN');

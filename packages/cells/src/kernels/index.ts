@@ -3,6 +3,14 @@
  * register its own twins beside them); this entry re-exports them for code that imported them from here.
  */
 export {
-  gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset, logistic, lstmStepBackward,
-  lstmStepForward, plainStepBackward, plainStepForward,
+  gruBackwardCandidate,
+  gruBackwardReset,
+  gruResetHidden,
+  gruStepFinish,
+  gruUpdateReset,
+  logistic,
+  lstmStepBackward,
+  lstmStepForward,
+  plainStepBackward,
+  plainStepForward,
 } from '@weft/core/kernels';

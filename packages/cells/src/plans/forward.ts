@@ -56,7 +56,10 @@ function wholeLayerCell(kind: 'lstm' | 'gru' | 'plain', shape: CellShape, prefix
       hidden,
       inputWidth,
       slotWidths: [hidden, hidden],
-      buffers: (rows, allocate) => ({ state: [allocate(rows * hidden), allocate(rows * hidden)], work: [allocate(rows * 4 * hidden), allocate(rows * hidden)] }),
+      buffers: (rows, allocate) => ({
+        state: [allocate(rows * hidden), allocate(rows * hidden)],
+        work: [allocate(rows * 4 * hidden), allocate(rows * hidden)],
+      }),
       step(x, buffers, rows, lengths, step) {
         // Indexing, not destructuring: this runs once per layer and step.
         const state = buffers.state;
@@ -82,7 +85,25 @@ function wholeLayerCell(kind: 'lstm' | 'gru' | 'plain', shape: CellShape, prefix
       }),
       step(x, buffers, rows, lengths, step) {
         const work = buffers.work;
-        gruLayerStep(x, input, bias, recurrent, candidateWeights, candidateBias, buffers.state[0], work[0], work[1], work[2], work[3], work[4], rows, inputWidth, hidden, lengths, step);
+        gruLayerStep(
+          x,
+          input,
+          bias,
+          recurrent,
+          candidateWeights,
+          candidateBias,
+          buffers.state[0],
+          work[0],
+          work[1],
+          work[2],
+          work[3],
+          work[4],
+          rows,
+          inputWidth,
+          hidden,
+          lengths,
+          step,
+        );
       },
     };
   }
@@ -122,7 +143,9 @@ const SOURCE_COMPUTED = 3;
  */
 function programCell(program: StepProgram, prefix: string, weights: Weights, kernels: ForwardKernels): RuntimeCell {
   const values = program.values;
-  const sources = Int32Array.from(values, (v) => (v.source === 'input' ? SOURCE_INPUT : v.source === 'state' ? SOURCE_STATE : v.source === 'vector' ? SOURCE_VECTOR : SOURCE_COMPUTED));
+  const sources = Int32Array.from(values, (v) =>
+    v.source === 'input' ? SOURCE_INPUT : v.source === 'state' ? SOURCE_STATE : v.source === 'vector' ? SOURCE_VECTOR : SOURCE_COMPUTED,
+  );
   // Where each value lives: its slot, its vector's index, or its working buffer's index.
   const place = new Int32Array(values.length);
   const parameterArrays = new Map<string, Float32Array>();

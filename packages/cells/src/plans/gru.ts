@@ -36,9 +36,10 @@ export const gruPlan: CellPlan = {
     const z = w.sigmoid(w.add(w.columns(projected, 0, hidden), w.columns(gates, 0, hidden)));
     const r = w.sigmoid(w.add(w.columns(projected, hidden, hidden), w.columns(gates, hidden, hidden)));
     const candidateInput = w.columns(projected, 2 * hidden, hidden);
-    const n = layer.resetAfterProduct === true
-      ? w.tanh(w.add(candidateInput, w.multiply(r, w.add(w.product(h, 'recurrentCandidate'), w.vector('recurrentCandidateBias')))))
-      : w.tanh(w.add(candidateInput, w.product(w.multiply(r, h), 'recurrentCandidate')));
+    const n =
+      layer.resetAfterProduct === true
+        ? w.tanh(w.add(candidateInput, w.multiply(r, w.add(w.product(h, 'recurrentCandidate'), w.vector('recurrentCandidateBias')))))
+        : w.tanh(w.add(candidateInput, w.product(w.multiply(r, h), 'recurrentCandidate')));
     return [w.add(n, w.multiply(z, w.subtract(h, n)))];
   },
 };

@@ -49,13 +49,20 @@ export function planOf(kind: string, plans?: CellPlans): CellPlan | null {
  */
 export function checkPlans(plans: unknown, path: string): CellPlans {
   if (plans === undefined) return {};
-  if (typeof plans !== 'object' || plans === null || Array.isArray(plans)) fail('invalid_option', path, 'an object of cell plans by kind', JSON.stringify(plans));
+  if (typeof plans !== 'object' || plans === null || Array.isArray(plans))
+    fail('invalid_option', path, 'an object of cell plans by kind', JSON.stringify(plans));
   for (const [kind, plan] of Object.entries(plans)) {
     const where = `${path}.${kind}`;
-    if (!isNamespacedKind(kind)) fail('invalid_option', where, "a namespaced kind of your own such as 'lab.mgu' (lstm, gru and plain are built in)", JSON.stringify(kind));
+    if (!isNamespacedKind(kind))
+      fail('invalid_option', where, "a namespaced kind of your own such as 'lab.mgu' (lstm, gru and plain are built in)", JSON.stringify(kind));
     const p = plan as Partial<CellPlan> | null;
     if (typeof p !== 'object' || p === null || typeof p.state !== 'function' || typeof p.parameters !== 'function' || typeof p.step !== 'function') {
-      fail('invalid_option', where, 'a cell plan: { kind, state(shape), parameters(shape), step(writer, shape) }', typeof plan === 'function' ? 'a function (a cell maker? plans are objects)' : describeValue(plan));
+      fail(
+        'invalid_option',
+        where,
+        'a cell plan: { kind, state(shape), parameters(shape), step(writer, shape) }',
+        typeof plan === 'function' ? 'a function (a cell maker? plans are objects)' : describeValue(plan),
+      );
     }
     if (p.kind !== kind) fail('invalid_option', `${where}.kind`, JSON.stringify(kind), JSON.stringify(p.kind));
   }

@@ -16,7 +16,10 @@ import type { CellPlan } from './plan.js';
 
 export const lstmPlan: CellPlan = {
   kind: 'lstm',
-  state: ({ hidden }) => [{ name: 'h', width: hidden }, { name: 'c', width: hidden }],
+  state: ({ hidden }) => [
+    { name: 'h', width: hidden },
+    { name: 'c', width: hidden },
+  ],
   parameters({ inputWidth, hidden, layer }) {
     const list = [
       { name: 'input', shape: [inputWidth, 4 * hidden] },

@@ -12,7 +12,8 @@ export function traceStep(plan: CellPlan, shape: CellShape, where: string): Step
   const state = plan.state(shape);
   const parameters = plan.parameters(shape);
   if (state.length < 1) fail('invalid_option', `${path}.state`, 'at least one state slot (the first is the output)', 'none');
-  if (state[0].width !== shape.hidden) fail('invalid_option', `${path}.state[0]`, `the output slot ${shape.hidden} wide (the layer's hidden)`, `${state[0].width} wide`);
+  if (state[0].width !== shape.hidden)
+    fail('invalid_option', `${path}.state[0]`, `the output slot ${shape.hidden} wide (the layer's hidden)`, `${state[0].width} wide`);
   const byName = new Map<string, ParameterLayout>();
   for (const p of parameters) {
     if (byName.has(p.name)) fail('invalid_option', `${path}.parameters`, 'each parameter named once', `'${p.name}' twice`);
@@ -27,7 +28,8 @@ export function traceStep(plan: CellPlan, shape: CellShape, where: string): Step
   const handle = (id: number): StepValue => ({ id, width: values[id].width, row: values[id].row });
   const check = (v: StepValue, operation: string): ProgramValue => {
     const value = values[v?.id];
-    if (value === undefined || value.width !== v.width) fail('invalid_option', `${path}.step.${operation}`, 'values made by this step\'s writer', JSON.stringify(v));
+    if (value === undefined || value.width !== v.width)
+      fail('invalid_option', `${path}.step.${operation}`, "values made by this step's writer", JSON.stringify(v));
     return value;
   };
   const make = (operation: StepOperation, width: number, row: boolean, a: number, b = -1, weights = '', start = 0): StepValue => {
@@ -41,7 +43,12 @@ export function traceStep(plan: CellPlan, shape: CellShape, where: string): Step
     const rowAllowed = operation !== 'subtract';
     if (va.width !== vb.width || (va.row && !vb.row) || (vb.row && !va.row && !rowAllowed)) {
       const as = (v: ProgramValue): string => `${v.row ? 'a row' : 'a value'} ${v.width} wide`;
-      fail('shape_mismatch', `${path}.step.${operation}`, rowAllowed ? 'equal widths (b may be a row)' : 'equal widths, neither a row', `${as(va)} and ${as(vb)}`);
+      fail(
+        'shape_mismatch',
+        `${path}.step.${operation}`,
+        rowAllowed ? 'equal widths (b may be a row)' : 'equal widths, neither a row',
+        `${as(va)} and ${as(vb)}`,
+      );
     }
     return make(operation, va.width, va.row, a.id, b.id);
   };
@@ -50,7 +57,13 @@ export function traceStep(plan: CellPlan, shape: CellShape, where: string): Step
     state: state.map((_, i) => handle(i + 1)),
     vector(name) {
       const p = byName.get(name);
-      if (p === undefined || p.shape.length !== 1) fail('invalid_option', `${path}.step.vector`, 'a one-dimensional parameter of the plan', `'${name}'${p === undefined ? ' (no such parameter)' : ` ${JSON.stringify(p.shape)}`}`);
+      if (p === undefined || p.shape.length !== 1)
+        fail(
+          'invalid_option',
+          `${path}.step.vector`,
+          'a one-dimensional parameter of the plan',
+          `'${name}'${p === undefined ? ' (no such parameter)' : ` ${JSON.stringify(p.shape)}`}`,
+        );
       values.push({ source: 'vector', width: p.shape[0], row: true, name, slot: -1 });
       return handle(values.length - 1);
     },
@@ -58,7 +71,12 @@ export function traceStep(plan: CellPlan, shape: CellShape, where: string): Step
       const v = check(value, 'product');
       const p = byName.get(weights);
       if (p === undefined || p.shape.length !== 2 || p.shape[0] !== v.width || v.row) {
-        fail('shape_mismatch', `${path}.step.product`, `a two-dimensional parameter [${v.width}, …] for a value ${v.width} wide`, `'${weights}'${p === undefined ? ' (no such parameter)' : ` ${JSON.stringify(p.shape)}`}${v.row ? ' with a row' : ''}`);
+        fail(
+          'shape_mismatch',
+          `${path}.step.product`,
+          `a two-dimensional parameter [${v.width}, …] for a value ${v.width} wide`,
+          `'${weights}'${p === undefined ? ' (no such parameter)' : ` ${JSON.stringify(p.shape)}`}${v.row ? ' with a row' : ''}`,
+        );
       }
       return make('product', p.shape[1], false, value.id, -1, weights);
     },
@@ -78,11 +96,22 @@ export function traceStep(plan: CellPlan, shape: CellShape, where: string): Step
   };
   const results = plan.step(writer, shape);
   if (!Array.isArray(results) || results.length !== state.length) {
-    fail('invalid_option', `${path}.step`, `the new state: ${state.length} value(s), one per slot`, Array.isArray(results) ? `${results.length} value(s)` : typeof results);
+    fail(
+      'invalid_option',
+      `${path}.step`,
+      `the new state: ${state.length} value(s), one per slot`,
+      Array.isArray(results) ? `${results.length} value(s)` : typeof results,
+    );
   }
   results.forEach((r, i) => {
     const v = check(r, 'result');
-    if (v.width !== state[i].width || v.row) fail('shape_mismatch', `${path}.step.result[${i}]`, `slot '${state[i].name}': a value ${state[i].width} wide`, `${v.row ? 'a row' : 'a value'} ${v.width} wide`);
+    if (v.width !== state[i].width || v.row)
+      fail(
+        'shape_mismatch',
+        `${path}.step.result[${i}]`,
+        `slot '${state[i].name}': a value ${state[i].width} wide`,
+        `${v.row ? 'a row' : 'a value'} ${v.width} wide`,
+      );
   });
   // A slot's new value that is not computed by the step (a slot or the input passed on as it is) is copied, so
   // that writing the new state never reads a slot already written.

@@ -17,14 +17,24 @@ export function checkPlanAgainstOnnx(kind: OnnxKind, plan: CellPlan, layer: Laye
     it(`runs the ${kind} plan's step in the runtime (${route}) as the ONNX equations, ragged lengths ${lengths.join(', ')}, f32 within 1e-5`, () => {
       const { spec, cell, run } = setup(kind, `${kind}-plan`, 6, 5, 3, 4);
       const expected = run({ ...spec, lengths });
-      const byName = new Map(cell('f32').parameters().map((p) => [`cell.${p.name}`, p.tensor.data]));
+      const byName = new Map(
+        cell('f32')
+          .parameters()
+          .map((p) => [`cell.${p.name}`, p.tensor.data]),
+      );
       const asked: string[] = [];
       const runAs = route === 'traced program' ? { ...plan, kind: `test.${plan.kind}` } : plan;
-      const made = runtimeCell(runAs, { inputWidth: 3, hidden: 4, layer }, 'cell', (name, shape, matrix) => {
-        asked.push(name);
-        const values = byName.get(name)!;
-        return matrix === true ? javascriptForward.matrix(values, shape[0], shape[1]) : Float32Array.from(values);
-      }, javascriptForward.kernels);
+      const made = runtimeCell(
+        runAs,
+        { inputWidth: 3, hidden: 4, layer },
+        'cell',
+        (name, shape, matrix) => {
+          asked.push(name);
+          const values = byName.get(name)!;
+          return matrix === true ? javascriptForward.matrix(values, shape[0], shape[1]) : Float32Array.from(values);
+        },
+        javascriptForward.kernels,
+      );
       expect(asked.sort()).toEqual([...byName.keys()].sort());
       const buffers = made.buffers(5, (n) => new Float32Array(n));
       buffers.state[0].set(spec.h0!.flat());

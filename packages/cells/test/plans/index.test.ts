@@ -14,15 +14,30 @@ function refused(plans: unknown): string {
 }
 
 describe('the plans weft knows', () => {
-  it('takes owner.name words as kinds of your own, and the description\'s such kinds once each', () => {
+  it("takes owner.name words as kinds of your own, and the description's such kinds once each", () => {
     expect(['lab.mgu', 'a.b.c', 'my-lab.cell_2'].map(isNamespacedKind)).toEqual([true, true, true]);
-    expect(['mgu', 'lstm', '.mgu', 'lab.', 'lab..mgu', '1lab.mgu', 'lab mgu.x'].map(isNamespacedKind)).toEqual([false, false, false, false, false, false, false]);
-    const layers = [{ cell: 'lab.mgu', hidden: 2 }, { cell: 'gru', hidden: 2 }, { cell: 'lab.mgu', hidden: 2 }];
-    expect(namespacedKinds({ kind: 'encoder-decoder', encoder: { layers }, decoder: { layers: [{ cell: 'lab.other', hidden: 2 }] } })).toEqual(['lab.mgu', 'lab.other']);
+    expect(['mgu', 'lstm', '.mgu', 'lab.', 'lab..mgu', '1lab.mgu', 'lab mgu.x'].map(isNamespacedKind)).toEqual([
+      false,
+      false,
+      false,
+      false,
+      false,
+      false,
+      false,
+    ]);
+    const layers = [
+      { cell: 'lab.mgu', hidden: 2 },
+      { cell: 'gru', hidden: 2 },
+      { cell: 'lab.mgu', hidden: 2 },
+    ];
+    expect(namespacedKinds({ kind: 'encoder-decoder', encoder: { layers }, decoder: { layers: [{ cell: 'lab.other', hidden: 2 }] } })).toEqual([
+      'lab.mgu',
+      'lab.other',
+    ]);
     expect(namespacedKinds('not a description')).toEqual([]);
   });
 
-  it('finds the built-in cells first, then a program\'s own, and nothing for a kind neither knows', () => {
+  it("finds the built-in cells first, then a program's own, and nothing for a kind neither knows", () => {
     expect(planOf('gru')).toBe(builtInPlans.gru);
     expect(planOf('gru', { gru: mguPlan })).toBe(builtInPlans.gru);
     expect(planOf('test.mgu', { 'test.mgu': mguPlan })).toBe(mguPlan);

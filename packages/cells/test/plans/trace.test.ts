@@ -11,7 +11,11 @@ function traced(step: (w: StepWriter) => readonly StepValue[], state = [{ name: 
   const plan: CellPlan = {
     kind: 'test.bad',
     state: () => state,
-    parameters: () => [{ name: 'input', shape: [3, 4] }, { name: 'recurrent', shape: [4, 4] }, { name: 'bias', shape: [4] }],
+    parameters: () => [
+      { name: 'input', shape: [3, 4] },
+      { name: 'recurrent', shape: [4, 4] },
+      { name: 'bias', shape: [4] },
+    ],
     step,
   };
   try {
@@ -29,7 +33,20 @@ describe('tracing a plan', () => {
   it('records the minimal gated unit as fourteen operations on numbered values, its new h last', () => {
     const program = traceStep(mguPlan, { inputWidth: 3, hidden: 4, layer: { cell: 'test.mgu', hidden: 4 } }, 'layers[0].forward');
     expect(program.instructions.map((i) => i.operation)).toEqual([
-      'product', 'add', 'columns', 'product', 'add', 'sigmoid', 'columns', 'multiply', 'product', 'add', 'tanh', 'subtract', 'multiply', 'add',
+      'product',
+      'add',
+      'columns',
+      'product',
+      'add',
+      'sigmoid',
+      'columns',
+      'multiply',
+      'product',
+      'add',
+      'tanh',
+      'subtract',
+      'multiply',
+      'add',
     ]);
     expect(program.values.slice(0, 4).map((v) => v.source)).toEqual(['input', 'state', 'computed', 'vector']);
     expect(program.results).toEqual([program.values.length - 1]);
@@ -46,13 +63,29 @@ describe('tracing a plan', () => {
 
   it('refuses a step that returns the wrong number of slots, a slot of the wrong width, or a row', () => {
     expect(traced((w) => [w.state[0], w.state[0]])).toMatch(/\.step: expected the new state: 1 value\(s\), one per slot.*2 value\(s\)/);
-    expect(traced((w) => [w.product(w.input, 'input'), w.input], [{ name: 'h', width: 4 }, { name: 'c', width: 4 }])).toMatch(/result\[1\].*slot 'c': a value 4 wide.*a value 3 wide/);
+    expect(
+      traced(
+        (w) => [w.product(w.input, 'input'), w.input],
+        [
+          { name: 'h', width: 4 },
+          { name: 'c', width: 4 },
+        ],
+      ),
+    ).toMatch(/result\[1\].*slot 'c': a value 4 wide.*a value 3 wide/);
     expect(traced((w) => [w.vector('bias')])).toMatch(/result\[0\].*a row 4 wide/);
     expect(traced((w) => [w.state[0]], [{ name: 'h', width: 5 }])).toMatch(/state\[0\].*the output slot 4 wide/);
   });
 
   it('copies a slot passed on unchanged, so the new state never reads a slot already written', () => {
-    const plan: CellPlan = { ...mguPlan, kind: 'test.keep', state: ({ hidden }) => [{ name: 'h', width: hidden }, { name: 'k', width: hidden }], step: (w) => [w.state[1], w.state[0]] };
+    const plan: CellPlan = {
+      ...mguPlan,
+      kind: 'test.keep',
+      state: ({ hidden }) => [
+        { name: 'h', width: hidden },
+        { name: 'k', width: hidden },
+      ],
+      step: (w) => [w.state[1], w.state[0]],
+    };
     const program = traceStep(plan, { inputWidth: 3, hidden: 4, layer: { cell: 'test.keep', hidden: 4 } }, 'x');
     expect(program.instructions.map((i) => `${i.operation} ${i.a}`)).toEqual(['columns 2', 'columns 1']);
   });

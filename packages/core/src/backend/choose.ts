@@ -47,7 +47,9 @@ export function defaultBackend(): Backend {
       } catch (error) {
         // Validated but not compiled (a page whose Content-Security-Policy lacks 'wasm-unsafe-eval'): JavaScript,
         // said once, as the runtime does. Naming a backend says nothing.
-        console.warn(`weft: WebAssembly could not be compiled here (${(error as Error).message}); training runs on JavaScript. Allow 'wasm-unsafe-eval' in a page's CSP, or choose the 'javascript' backend.`);
+        console.warn(
+          `weft: WebAssembly could not be compiled here (${(error as Error).message}); training runs on JavaScript. Allow 'wasm-unsafe-eval' in a page's CSP, or choose the 'javascript' backend.`,
+        );
         current = javascriptBackend;
       }
     }

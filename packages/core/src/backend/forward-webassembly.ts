@@ -1,19 +1,9 @@
-/**
- * The runtime's WebAssembly SIMD backend: the forward kernels of core/wasm/runtime.ts (a module of its own, so the
- * runtime bundle carries no training kernels) over one LinearMemory of its own that never grows (memory.ts says
- * why that keeps every view valid). Weights are copied into it when a runtime is made; streams take their state
- * and working buffers from it when they are made, so stepping allocates nothing. Weight matrices are packed into
- * 8-column panels when they are copied in (core/wasm/packed.ts), so a streaming step reads each panel as one
- * contiguous run; the kernels therefore refuse arrays that are not this memory's.
- */
-import type { FloatArray } from '../dtype.js';
 import { fail } from '../errors.js';
 import type { ForwardBackend, ForwardKernels } from './forward.js';
 import { LinearMemory } from './memory.js';
-import { KernelWorkspace, checkReservation, compileModule, moduleUnavailable } from './module.js';
+import { KernelWorkspace, addressing, checkReservation, compileModule, moduleUnavailable } from './module.js';
+import type { ModuleExports } from './module.js';
 import { runtimeModuleBase64 } from './wasm-runtime.generated.js';
-
-type Kernel = (...args: number[]) => void;
 
 /** Options of the runtime's WebAssembly SIMD backend. */
 export interface ForwardWebAssemblyOptions {
@@ -38,7 +28,7 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
   compiled ??= compileModule(runtimeModuleBase64);
   const bytes = checkReservation(options.memoryBytes ?? 16 * 1048576 + 4 * (options.weightBytes ?? 0), 'runtime.memoryBytes');
   const memory = new LinearMemory(bytes);
-  const x = new WebAssembly.Instance(compiled, { env: { memory: memory.memory } }).exports as unknown as Readonly<Record<string, Kernel>>;
+  const x = new WebAssembly.Instance(compiled, { env: { memory: memory.memory } }).exports as unknown as ModuleExports;
   const workspace = new KernelWorkspace(memory);
   const scratch = (floats: number): number => workspace.scratch(floats);
   const lengths = (values: Int32Array | null, rows: number): number => workspace.lengths(values, rows);
@@ -47,34 +37,122 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
     fail('backend_mismatch', `runtime ${kernel}`, "arrays of this runtime's webassembly memory (made by its backend)", 'an array from elsewhere');
   };
   // The byte offset of each array, or −1 when it is not this memory's (memory.offsetOf says why not `byteOffset`).
-  const at = (a: FloatArray): number => memory.offsetOf(a);
-  const atOrZero = (a: FloatArray | null): number => (a === null ? 0 : memory.offsetOf(a));
+  const { at, pointer: atOrZero } = addressing(memory);
   const kernels: ForwardKernels = {
     affineRows: (out, bias, xs, weights, rows, inner, cols) => {
-      const o = at(out), b = at(bias), p = at(xs), w = at(weights);
+      const o = at(out),
+        b = at(bias),
+        p = at(xs),
+        w = at(weights);
       if (o < 0 || b < 0 || p < 0 || w < 0) foreign('affineRows');
       x.affineRows(o, b, p, w, rows, inner, cols, rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32));
       return out;
     },
     lstmLayerStep: (xs, input, recurrent, bias, peephole, hState, cell, gates, tanhCell, rows, inputWidth, hidden, rowLengths, step) => {
-      const p = at(xs), w = at(input), r = at(recurrent), b = at(bias), e = atOrZero(peephole), h = at(hState), c = at(cell), g = at(gates), t = at(tanhCell);
+      const p = at(xs),
+        w = at(input),
+        r = at(recurrent),
+        b = at(bias),
+        e = atOrZero(peephole),
+        h = at(hState),
+        c = at(cell),
+        g = at(gates),
+        t = at(tanhCell);
       if (p < 0 || w < 0 || r < 0 || b < 0 || e < 0 || h < 0 || c < 0 || g < 0 || t < 0) foreign('lstmLayerStep');
-      x.lstmLayerStep(p, w, r, b, e, h, c, g, t, rows, inputWidth, hidden, lengths(rowLengths, rows), step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32));
+      x.lstmLayerStep(
+        p,
+        w,
+        r,
+        b,
+        e,
+        h,
+        c,
+        g,
+        t,
+        rows,
+        inputWidth,
+        hidden,
+        lengths(rowLengths, rows),
+        step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32),
+      );
     },
-    gruLayerStep: (xs, input, bias, recurrent, candidateWeights, candidateBias, hState, projected, gates, updateReset, candidate, resetHidden,
-      rows, inputWidth, hidden, rowLengths, step) => {
-      const p = at(xs), w = at(input), b = at(bias), r = at(recurrent), cw = at(candidateWeights), cb = atOrZero(candidateBias), h = at(hState);
-      const j = at(projected), g = at(gates), u = at(updateReset), c = at(candidate), rh = at(resetHidden);
+    gruLayerStep: (
+      xs,
+      input,
+      bias,
+      recurrent,
+      candidateWeights,
+      candidateBias,
+      hState,
+      projected,
+      gates,
+      updateReset,
+      candidate,
+      resetHidden,
+      rows,
+      inputWidth,
+      hidden,
+      rowLengths,
+      step,
+    ) => {
+      const p = at(xs),
+        w = at(input),
+        b = at(bias),
+        r = at(recurrent),
+        cw = at(candidateWeights),
+        cb = atOrZero(candidateBias),
+        h = at(hState);
+      const j = at(projected),
+        g = at(gates),
+        u = at(updateReset),
+        c = at(candidate),
+        rh = at(resetHidden);
       if (p < 0 || w < 0 || b < 0 || r < 0 || cw < 0 || cb < 0 || h < 0 || j < 0 || g < 0 || u < 0 || c < 0 || rh < 0) foreign('gruLayerStep');
-      x.gruLayerStep(p, w, b, r, cw, cb, h, j, g, u, c, rh, rows, inputWidth, hidden, lengths(rowLengths, rows), step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32));
+      x.gruLayerStep(
+        p,
+        w,
+        b,
+        r,
+        cw,
+        cb,
+        h,
+        j,
+        g,
+        u,
+        c,
+        rh,
+        rows,
+        inputWidth,
+        hidden,
+        lengths(rowLengths, rows),
+        step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32),
+      );
     },
     plainLayerStep: (xs, input, recurrent, bias, hState, pre, rectified, rows, inputWidth, hidden, rowLengths, step) => {
-      const p = at(xs), w = at(input), r = at(recurrent), b = at(bias), h = at(hState), q = at(pre);
+      const p = at(xs),
+        w = at(input),
+        r = at(recurrent),
+        b = at(bias),
+        h = at(hState),
+        q = at(pre);
       if (p < 0 || w < 0 || r < 0 || b < 0 || h < 0 || q < 0) foreign('plainLayerStep');
-      x.plainLayerStep(p, w, r, b, h, q, +rectified, rows, inputWidth, hidden, lengths(rowLengths, rows), step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(hidden / 8) * 8) * Math.max(inputWidth, hidden) + 32));
+      x.plainLayerStep(
+        p,
+        w,
+        r,
+        b,
+        h,
+        q,
+        +rectified,
+        rows,
+        inputWidth,
+        hidden,
+        lengths(rowLengths, rows),
+        step,
+        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(hidden / 8) * 8) * Math.max(inputWidth, hidden) + 32),
+      );
     },
   };
   return Object.freeze({

@@ -16,13 +16,43 @@ import * as javascript from '../kernels/index.js';
 /** The names in every kernel table. */
 export const KERNEL_NAMES = [
   'matmul',
-  'add', 'subtract', 'multiply', 'scale', 'addInto', 'addScaledInto', 'multiplyInto', 'addRow', 'sumRows', 'copyAt', 'addAt',
-  'sigmoid', 'tanh', 'relu', 'exp', 'log', 'sigmoidGradientInto', 'tanhGradientInto', 'reluGradientInto',
-  'sum', 'dot', 'sumOfSquares', 'maxAbs', 'firstNonFinite', 'limitEntries', 'crossEntropyRows',
-  'lstmStepForward', 'lstmStepBackward',
-  'gruUpdateReset', 'gruResetHidden', 'gruStepFinish', 'gruBackwardCandidate', 'gruBackwardReset',
-  'plainStepForward', 'plainStepBackward',
-  'adamUpdate', 'sgdUpdate',
+  'add',
+  'subtract',
+  'multiply',
+  'scale',
+  'addInto',
+  'addScaledInto',
+  'multiplyInto',
+  'addRow',
+  'sumRows',
+  'copyAt',
+  'addAt',
+  'sigmoid',
+  'tanh',
+  'relu',
+  'exp',
+  'log',
+  'sigmoidGradientInto',
+  'tanhGradientInto',
+  'reluGradientInto',
+  'sum',
+  'dot',
+  'sumOfSquares',
+  'maxAbs',
+  'firstNonFinite',
+  'limitEntries',
+  'crossEntropyRows',
+  'lstmStepForward',
+  'lstmStepBackward',
+  'gruUpdateReset',
+  'gruResetHidden',
+  'gruStepFinish',
+  'gruBackwardCandidate',
+  'gruBackwardReset',
+  'plainStepForward',
+  'plainStepBackward',
+  'adamUpdate',
+  'sgdUpdate',
 ] as const;
 
 /** The name of a kernel in every backend's table. */
@@ -32,6 +62,5 @@ export type KernelName = (typeof KERNEL_NAMES)[number];
 export type KernelTable = { readonly [K in KernelName]: (typeof javascript)[K] };
 
 /** The JavaScript kernels as a table. */
-export const javascriptKernels: KernelTable = Object.freeze(
-  Object.fromEntries(KERNEL_NAMES.map((name) => [name, javascript[name]])) as unknown as KernelTable,
-);
+// biome-ignore lint/performance/noDynamicNamespaceImportAccess: the table is every kernel of the module by name, made once.
+export const javascriptKernels: KernelTable = Object.freeze(Object.fromEntries(KERNEL_NAMES.map((name) => [name, javascript[name]])) as unknown as KernelTable);

@@ -62,9 +62,13 @@ export class LinearMemory {
       this.whenExhausted?.();
       const found = this.joinFree(size);
       if (found >= 0) return found;
-      fail('backend_memory', 'webassembly backend', `at most ${this.reservedBytes} bytes of tensors and scratch (the reservation)`,
+      fail(
+        'backend_memory',
+        'webassembly backend',
+        `at most ${this.reservedBytes} bytes of tensors and scratch (the reservation)`,
         `a request for ${size} more bytes with ${this.top} in use`,
-        'make the backend with a larger memoryBytes, or give buffers back to their pool');
+        'make the backend with a larger memoryBytes, or give buffers back to their pool',
+      );
     }
     const offset = this.top;
     this.top += size;

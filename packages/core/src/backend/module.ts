@@ -7,6 +7,7 @@
 import { fail } from '../errors.js';
 import { decodeBase64Bytes } from './bytes.js';
 import type { LinearMemory } from './memory.js';
+import type { FloatArray } from '../dtype.js';
 
 /** Why a module in base64 cannot run here, or null when it can. */
 export function moduleUnavailable(base64: string): string | null {
@@ -29,7 +30,13 @@ export function compileModule(base64: string): WebAssembly.Module {
     return new WebAssembly.Module(decodeBase64Bytes(base64));
   } catch (error) {
     // Validated but not compiled: a page whose Content-Security-Policy lacks 'wasm-unsafe-eval', for one.
-    fail('backend_unavailable', 'backend webassembly', 'a platform that compiles WebAssembly', `a refusal to compile (${(error as Error).message})`, "use the 'javascript' backend, or allow 'wasm-unsafe-eval' in the page's CSP");
+    fail(
+      'backend_unavailable',
+      'backend webassembly',
+      'a platform that compiles WebAssembly',
+      `a refusal to compile (${(error as Error).message})`,
+      "use the 'javascript' backend, or allow 'wasm-unsafe-eval' in the page's CSP",
+    );
   }
 }
 
@@ -76,4 +83,31 @@ export class KernelWorkspace {
     for (let b = 0; b < rows; b++) copy[b] = lengths[b];
     return this.memory.offsetOf(copy);
   }
+}
+
+/** How a kernel wrapper finds arrays in a memory (memory.offsetOf: a recorded offset, not `byteOffset`; memory.ts says why). */
+export interface Addressing {
+  /** True when the array lives in the memory. */
+  readonly mine: (a: FloatArray) => boolean;
+  /** True for null or an array of the memory. */
+  readonly mineOrNull: (a: FloatArray | null) => boolean;
+  /** The array's byte offset in the memory. */
+  readonly at: (a: FloatArray | Int32Array) => number;
+  /** The array's byte offset, or 0 for null. */
+  readonly pointer: (a: FloatArray | Int32Array | null) => number;
+}
+
+/** The addressing of `memory`'s arrays, for the kernel wrappers of both WebAssembly backends. */
+export function addressing(memory: LinearMemory): Addressing {
+  return {
+    mine: (a) => memory.offsetOf(a) >= 0,
+    mineOrNull: (a) => a === null || memory.offsetOf(a) >= 0,
+    at: (a) => memory.offsetOf(a),
+    pointer: (a) => (a === null ? 0 : memory.offsetOf(a)),
+  };
+}
+
+/** The functions a kernel module exports, by name (their arguments: byte offsets and sizes). */
+export interface ModuleExports {
+  readonly [name: string]: (...args: number[]) => void;
 }

@@ -20,9 +20,20 @@ export function affineRows(out: FloatArray, bias: FloatArray, x: FloatArray, wei
 
 /** gates [rows, 4H] = x·W + b + h·R, then h, c ← the LSTM step (tanhCell [rows, H] is working memory). */
 export function lstmLayerStep(
-  x: FloatArray, input: FloatArray, recurrent: FloatArray, bias: FloatArray, peephole: FloatArray | null,
-  hState: FloatArray, cell: FloatArray, gates: FloatArray, tanhCell: FloatArray,
-  rows: number, inputWidth: number, hidden: number, lengths: Int32Array | null, step: number,
+  x: FloatArray,
+  input: FloatArray,
+  recurrent: FloatArray,
+  bias: FloatArray,
+  peephole: FloatArray | null,
+  hState: FloatArray,
+  cell: FloatArray,
+  gates: FloatArray,
+  tanhCell: FloatArray,
+  rows: number,
+  inputWidth: number,
+  hidden: number,
+  lengths: Int32Array | null,
+  step: number,
 ): void {
   matmul(gates, x, input, rows, inputWidth, 4 * hidden);
   addRow(gates, gates, bias, rows, 4 * hidden);
@@ -36,10 +47,23 @@ export function lstmLayerStep(
  * in `resetHidden`, or h₋·R_n + b_Rn when `candidateBias` is given: the reset-after form); then h.
  */
 export function gruLayerStep(
-  x: FloatArray, input: FloatArray, bias: FloatArray, recurrent: FloatArray, candidateWeights: FloatArray,
-  candidateBias: FloatArray | null, hState: FloatArray, projected: FloatArray, gates: FloatArray,
-  updateReset: FloatArray, candidate: FloatArray, resetHidden: FloatArray,
-  rows: number, inputWidth: number, hidden: number, lengths: Int32Array | null, step: number,
+  x: FloatArray,
+  input: FloatArray,
+  bias: FloatArray,
+  recurrent: FloatArray,
+  candidateWeights: FloatArray,
+  candidateBias: FloatArray | null,
+  hState: FloatArray,
+  projected: FloatArray,
+  gates: FloatArray,
+  updateReset: FloatArray,
+  candidate: FloatArray,
+  resetHidden: FloatArray,
+  rows: number,
+  inputWidth: number,
+  hidden: number,
+  lengths: Int32Array | null,
+  step: number,
 ): void {
   matmul(projected, x, input, rows, inputWidth, 3 * hidden);
   addRow(projected, projected, bias, rows, 3 * hidden);
@@ -57,8 +81,18 @@ export function gruLayerStep(
 
 /** pre [rows, H] = x·W + b + h·R, φ applied (held rows keep h₋), then h = pre. */
 export function plainLayerStep(
-  x: FloatArray, input: FloatArray, recurrent: FloatArray, bias: FloatArray, hState: FloatArray, pre: FloatArray,
-  rectified: boolean, rows: number, inputWidth: number, hidden: number, lengths: Int32Array | null, step: number,
+  x: FloatArray,
+  input: FloatArray,
+  recurrent: FloatArray,
+  bias: FloatArray,
+  hState: FloatArray,
+  pre: FloatArray,
+  rectified: boolean,
+  rows: number,
+  inputWidth: number,
+  hidden: number,
+  lengths: Int32Array | null,
+  step: number,
 ): void {
   matmul(pre, x, input, rows, inputWidth, hidden);
   addRow(pre, pre, bias, rows, hidden);

@@ -12,6 +12,7 @@
  * Accumulation is in f64 for both dtypes, with one rounding on the final store.
  */
 import type { FloatArray } from '../dtype.js';
+import { matmulFewRows } from './matmul-few-rows.js';
 import { SCRATCH_LEFT, SCRATCH_RIGHT, scratch } from './scratch.js';
 
 const BLOCK = 4;
@@ -43,19 +44,49 @@ export function matmul(
     const rowCount = Math.min(BLOCK, rows - row0);
     for (let cb = 0; cb < colBlocks; cb++) {
       const rightBase = cb * inner * BLOCK;
-      let c00 = 0, c01 = 0, c02 = 0, c03 = 0;
-      let c10 = 0, c11 = 0, c12 = 0, c13 = 0;
-      let c20 = 0, c21 = 0, c22 = 0, c23 = 0;
-      let c30 = 0, c31 = 0, c32 = 0, c33 = 0;
+      let c00 = 0,
+        c01 = 0,
+        c02 = 0,
+        c03 = 0;
+      let c10 = 0,
+        c11 = 0,
+        c12 = 0,
+        c13 = 0;
+      let c20 = 0,
+        c21 = 0,
+        c22 = 0,
+        c23 = 0;
+      let c30 = 0,
+        c31 = 0,
+        c32 = 0,
+        c33 = 0;
       let pa = leftBase;
       let pb = rightBase;
       for (let k = 0; k < inner; k++) {
-        const a0 = left[pa], a1 = left[pa + 1], a2 = left[pa + 2], a3 = left[pa + 3];
-        const b0 = right[pb], b1 = right[pb + 1], b2 = right[pb + 2], b3 = right[pb + 3];
-        c00 += a0 * b0; c01 += a0 * b1; c02 += a0 * b2; c03 += a0 * b3;
-        c10 += a1 * b0; c11 += a1 * b1; c12 += a1 * b2; c13 += a1 * b3;
-        c20 += a2 * b0; c21 += a2 * b1; c22 += a2 * b2; c23 += a2 * b3;
-        c30 += a3 * b0; c31 += a3 * b1; c32 += a3 * b2; c33 += a3 * b3;
+        const a0 = left[pa],
+          a1 = left[pa + 1],
+          a2 = left[pa + 2],
+          a3 = left[pa + 3];
+        const b0 = right[pb],
+          b1 = right[pb + 1],
+          b2 = right[pb + 2],
+          b3 = right[pb + 3];
+        c00 += a0 * b0;
+        c01 += a0 * b1;
+        c02 += a0 * b2;
+        c03 += a0 * b3;
+        c10 += a1 * b0;
+        c11 += a1 * b1;
+        c12 += a1 * b2;
+        c13 += a1 * b3;
+        c20 += a2 * b0;
+        c21 += a2 * b1;
+        c22 += a2 * b2;
+        c23 += a2 * b3;
+        c30 += a3 * b0;
+        c31 += a3 * b1;
+        c32 += a3 * b2;
+        c33 += a3 * b3;
         pa += BLOCK;
         pb += BLOCK;
       }
@@ -64,15 +95,45 @@ export function matmul(
       if (rowCount === BLOCK && colCount === BLOCK) {
         let o = row0 * cols + col0;
         if (accumulate) {
-          out[o] += c00; out[o + 1] += c01; out[o + 2] += c02; out[o + 3] += c03; o += cols;
-          out[o] += c10; out[o + 1] += c11; out[o + 2] += c12; out[o + 3] += c13; o += cols;
-          out[o] += c20; out[o + 1] += c21; out[o + 2] += c22; out[o + 3] += c23; o += cols;
-          out[o] += c30; out[o + 1] += c31; out[o + 2] += c32; out[o + 3] += c33;
+          out[o] += c00;
+          out[o + 1] += c01;
+          out[o + 2] += c02;
+          out[o + 3] += c03;
+          o += cols;
+          out[o] += c10;
+          out[o + 1] += c11;
+          out[o + 2] += c12;
+          out[o + 3] += c13;
+          o += cols;
+          out[o] += c20;
+          out[o + 1] += c21;
+          out[o + 2] += c22;
+          out[o + 3] += c23;
+          o += cols;
+          out[o] += c30;
+          out[o + 1] += c31;
+          out[o + 2] += c32;
+          out[o + 3] += c33;
         } else {
-          out[o] = c00; out[o + 1] = c01; out[o + 2] = c02; out[o + 3] = c03; o += cols;
-          out[o] = c10; out[o + 1] = c11; out[o + 2] = c12; out[o + 3] = c13; o += cols;
-          out[o] = c20; out[o + 1] = c21; out[o + 2] = c22; out[o + 3] = c23; o += cols;
-          out[o] = c30; out[o + 1] = c31; out[o + 2] = c32; out[o + 3] = c33;
+          out[o] = c00;
+          out[o + 1] = c01;
+          out[o + 2] = c02;
+          out[o + 3] = c03;
+          o += cols;
+          out[o] = c10;
+          out[o + 1] = c11;
+          out[o + 2] = c12;
+          out[o + 3] = c13;
+          o += cols;
+          out[o] = c20;
+          out[o + 1] = c21;
+          out[o + 2] = c22;
+          out[o + 3] = c23;
+          o += cols;
+          out[o] = c30;
+          out[o + 1] = c31;
+          out[o + 2] = c32;
+          out[o + 3] = c33;
         }
       } else {
         // Edge block: write the valid corner one entry at a time.
@@ -90,18 +151,59 @@ export function matmul(
 }
 
 function pick(
-  r: number, c: number,
-  c00: number, c01: number, c02: number, c03: number,
-  c10: number, c11: number, c12: number, c13: number,
-  c20: number, c21: number, c22: number, c23: number,
-  c30: number, c31: number, c32: number, c33: number,
+  r: number,
+  c: number,
+  c00: number,
+  c01: number,
+  c02: number,
+  c03: number,
+  c10: number,
+  c11: number,
+  c12: number,
+  c13: number,
+  c20: number,
+  c21: number,
+  c22: number,
+  c23: number,
+  c30: number,
+  c31: number,
+  c32: number,
+  c33: number,
 ): number {
   const i = r * BLOCK + c;
   switch (i) {
-    case 0: return c00; case 1: return c01; case 2: return c02; case 3: return c03;
-    case 4: return c10; case 5: return c11; case 6: return c12; case 7: return c13;
-    case 8: return c20; case 9: return c21; case 10: return c22; case 11: return c23;
-    case 12: return c30; case 13: return c31; case 14: return c32; default: return c33;
+    case 0:
+      return c00;
+    case 1:
+      return c01;
+    case 2:
+      return c02;
+    case 3:
+      return c03;
+    case 4:
+      return c10;
+    case 5:
+      return c11;
+    case 6:
+      return c12;
+    case 7:
+      return c13;
+    case 8:
+      return c20;
+    case 9:
+      return c21;
+    case 10:
+      return c22;
+    case 11:
+      return c23;
+    case 12:
+      return c30;
+    case 13:
+      return c31;
+    case 14:
+      return c32;
+    default:
+      return c33;
   }
 }
 
@@ -139,63 +241,6 @@ function packRight(right: Float64Array, b: FloatArray, inner: number, cols: numb
       } else {
         for (let k = 0; k < inner; k++) right[base + k * BLOCK + c] = b[k * cols + col];
       }
-    }
-  }
-}
-
-/**
- * Fewer than 4 rows (a single sample, the streaming case): packing the right operand would cost as much as the
- * product itself, so read it in place, 4 columns at a time with 4 accumulators.
- */
-function matmulFewRows(
-  out: FloatArray,
-  a: FloatArray,
-  b: FloatArray,
-  rows: number,
-  inner: number,
-  cols: number,
-  transposeA: boolean,
-  transposeB: boolean,
-  accumulate: boolean,
-): void {
-  const aRowStep = transposeA ? 1 : inner;
-  const aInnerStep = transposeA ? rows : 1;
-  const bInnerStep = transposeB ? 1 : cols;
-  const bColStep = transposeB ? inner : 1;
-  for (let row = 0; row < rows; row++) {
-    const aStart = row * aRowStep;
-    let col = 0;
-    for (; col + BLOCK <= cols; col += BLOCK) {
-      let s0 = 0, s1 = 0, s2 = 0, s3 = 0;
-      let pa = aStart;
-      let pb = col * bColStep;
-      for (let k = 0; k < inner; k++) {
-        const x = a[pa];
-        s0 += x * b[pb];
-        s1 += x * b[pb + bColStep];
-        s2 += x * b[pb + 2 * bColStep];
-        s3 += x * b[pb + 3 * bColStep];
-        pa += aInnerStep;
-        pb += bInnerStep;
-      }
-      const o = row * cols + col;
-      if (accumulate) {
-        out[o] += s0; out[o + 1] += s1; out[o + 2] += s2; out[o + 3] += s3;
-      } else {
-        out[o] = s0; out[o + 1] = s1; out[o + 2] = s2; out[o + 3] = s3;
-      }
-    }
-    for (; col < cols; col++) {
-      let s = 0;
-      let pa = aStart;
-      let pb = col * bColStep;
-      for (let k = 0; k < inner; k++) {
-        s += a[pa] * b[pb];
-        pa += aInnerStep;
-        pb += bInnerStep;
-      }
-      const o = row * cols + col;
-      out[o] = accumulate ? out[o] + s : s;
     }
   }
 }

@@ -25,9 +25,16 @@ export function holdRow(lengths: Int32Array | null, b: number, step: number, sta
  * inside its sequence.
  */
 export function passHeldRow(
-  lengths: Int32Array | null, b: number, step: number,
-  previousGradient: FloatArray | null, gradient: FloatArray | null, offset: number, width: number,
-  cleared: FloatArray, from: number, to: number,
+  lengths: Int32Array | null,
+  b: number,
+  step: number,
+  previousGradient: FloatArray | null,
+  gradient: FloatArray | null,
+  offset: number,
+  width: number,
+  cleared: FloatArray,
+  from: number,
+  to: number,
 ): boolean {
   if (!isHeld(lengths, b, step)) return false;
   cleared.fill(0, from, to);

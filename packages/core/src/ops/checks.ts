@@ -16,8 +16,13 @@ export function requireSameDType(operation: string, name: string, t: Tensor, dty
  */
 export function requireBackend(tape: Tape, operation: string, name: string, t: Tensor): void {
   if (!tape.backend.holds(t.data)) {
-    fail('backend_mismatch', `${operation}.${name}`, `a tensor in ${tape.backend.name} memory (the tape's backend)`, `a tensor in ${backendOf(t.data).name} memory`,
-      'make tensors and tapes on one backend, or copy with convert(t, dtype, backend.pool)');
+    fail(
+      'backend_mismatch',
+      `${operation}.${name}`,
+      `a tensor in ${tape.backend.name} memory (the tape's backend)`,
+      `a tensor in ${backendOf(t.data).name} memory`,
+      'make tensors and tapes on one backend, or copy with convert(t, dtype, backend.pool)',
+    );
   }
 }
 

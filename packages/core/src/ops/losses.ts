@@ -55,12 +55,7 @@ export interface CrossEntropyOptions {
 }
 
 /** Weighted mean softmax cross-entropy of [rows, classes] logits against integer targets, one per row. */
-export function crossEntropyAtTargets(
-  tape: Tape,
-  logits: Tensor,
-  targets: Int32Array | readonly number[],
-  options: CrossEntropyOptions = {},
-): Tensor {
+export function crossEntropyAtTargets(tape: Tape, logits: Tensor, targets: Int32Array | readonly number[], options: CrossEntropyOptions = {}): Tensor {
   requireRank('crossEntropyAtTargets', 'logits', logits, 2);
   requireBackend(tape, 'crossEntropyAtTargets', 'logits', logits);
   const [rows, classes] = logits.shape;
@@ -164,7 +159,8 @@ export function meanSquaredError(tape: Tape, prediction: Tensor, target: Tensor,
     const given = options.weights;
     // One weight per row, or one per value (a missing target weighs 0 beside its row's observed ones).
     const perValue = given.length === prediction.size && width !== 1;
-    if (given.length !== rows && !perValue) fail('shape_mismatch', 'meanSquaredError.weights', `${rows} weights (one per row) or ${prediction.size} (one per value)`, `${given.length}`);
+    if (given.length !== rows && !perValue)
+      fail('shape_mismatch', 'meanSquaredError.weights', `${rows} weights (one per row) or ${prediction.size} (one per value)`, `${given.length}`);
     weights = tape.buffer(prediction.dtype, given.length);
     let total = 0;
     for (let r = 0; r < given.length; r++) {

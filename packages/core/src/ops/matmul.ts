@@ -75,8 +75,13 @@ export function matmul(tape: Tape, a: Tensor, b: Tensor, options: MatmulOptions 
   const cols = transposeB ? b.shape[0] : b.shape[1];
   if (inner !== innerB) {
     const expected = transposeB ? `[${'cols'}, ${inner}]` : `[${inner}, ${'cols'}]`;
-    fail('shape_mismatch', 'matmul.b', expected, formatShape(b.shape),
-      `inner sizes differ: ${transposeA ? 'Aᵀ' : 'A'} is [${rows}, ${inner}], ${transposeB ? 'Bᵀ' : 'B'} is [${innerB}, ${cols}]`);
+    fail(
+      'shape_mismatch',
+      'matmul.b',
+      expected,
+      formatShape(b.shape),
+      `inner sizes differ: ${transposeA ? 'Aᵀ' : 'A'} is [${rows}, ${inner}], ${transposeB ? 'Bᵀ' : 'B'} is [${innerB}, ${cols}]`,
+    );
   }
   const out = tape.output([rows, cols], a.dtype, a.tracked || b.tracked);
   tape.kernels.matmul(out.data, a.data, b.data, rows, inner, cols, transposeA, transposeB, false);

@@ -7,8 +7,19 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it, vi } from 'vitest';
 import { withRefusedWebAssembly } from '../../../../tests/helpers/refused-webassembly.js';
 import {
-  Tape, WeftError, add, backendNamed, backendOf, createWebAssemblyBackend, defaultBackend, javascriptBackend, matmul, setDefaultBackend,
-  tensor, webAssemblyUnavailable, zeros,
+  Tape,
+  WeftError,
+  add,
+  backendNamed,
+  backendOf,
+  createWebAssemblyBackend,
+  defaultBackend,
+  javascriptBackend,
+  matmul,
+  setDefaultBackend,
+  tensor,
+  webAssemblyUnavailable,
+  zeros,
 } from '@weft/core';
 
 const available = webAssemblyUnavailable() === null;
@@ -33,7 +44,9 @@ describe('choosing a backend', () => {
     expect(names).toEqual(['javascript', 'javascript']);
     expect(notes).toHaveLength(1);
     expect(notes[0]).toMatch(/^weft: WebAssembly could not be compiled here \(.*disallowed by embedder.*\); training runs on JavaScript/);
-    expect(named).toMatch(/^Backend unavailable at backend webassembly: expected a platform that compiles WebAssembly, received a refusal to compile \(Wasm code generation disallowed by embedder\)/);
+    expect(named).toMatch(
+      /^Backend unavailable at backend webassembly: expected a platform that compiles WebAssembly, received a refusal to compile \(Wasm code generation disallowed by embedder\)/,
+    );
   });
 
   it('refuses an unknown backend name, listing the known ones', () => {
@@ -48,11 +61,13 @@ describe('choosing a backend', () => {
     expect(backendOf(onJs.data)).toBe(javascriptBackend);
     const jsTape = new Tape({ backend: javascriptBackend });
     expect(() => matmul(jsTape, onJs, onWasm)).toThrowError(
-      "Backend mismatch at matmul.b: expected a tensor in javascript memory (the tape's backend), received a tensor in webassembly memory "
-      + '(make tensors and tapes on one backend, or copy with convert(t, dtype, backend.pool))',
+      "Backend mismatch at matmul.b: expected a tensor in javascript memory (the tape's backend), received a tensor in webassembly memory " +
+        '(make tensors and tapes on one backend, or copy with convert(t, dtype, backend.pool))',
     );
     const wasmTape = new Tape({ backend: wasm });
-    expect(() => add(wasmTape, onWasm, zeros([2, 3], 'f32', javascriptBackend.pool))).toThrowError(/^Backend mismatch at add\.b: expected a tensor in webassembly memory/);
+    expect(() => add(wasmTape, onWasm, zeros([2, 3], 'f32', javascriptBackend.pool))).toThrowError(
+      /^Backend mismatch at add\.b: expected a tensor in webassembly memory/,
+    );
     // f64 tensors live on every backend (gradient checks run on the JavaScript kernels on either).
     const a = tensor([1, 2], [1, 2], 'f64');
     expect(add(wasmTape, a, a).data[1]).toBe(4);
@@ -60,8 +75,8 @@ describe('choosing a backend', () => {
 
   it.skipIf(!available)('refuses a tape given a pool of another backend, before any operation runs', () => {
     expect(() => new Tape({ backend: backendNamed('webassembly'), pool: javascriptBackend.createPool() })).toThrowError(
-      "Backend mismatch at Tape.pool: expected a pool of the webassembly backend (backend.createPool()), received a pool whose buffers live elsewhere "
-      + '(pass { backend, pool: backend.createPool() } together, or leave out the pool)',
+      'Backend mismatch at Tape.pool: expected a pool of the webassembly backend (backend.createPool()), received a pool whose buffers live elsewhere ' +
+        '(pass { backend, pool: backend.createPool() } together, or leave out the pool)',
     );
   });
 

@@ -26,7 +26,12 @@ describe('the backend the environment asks for', () => {
   });
 
   it('takes a refused read of the environment as unset instead of throwing', () => {
-    Object.defineProperty(process, 'env', { configurable: true, get: () => { throw new Error('NotCapable: Requires env access to "WEFT_BACKEND"'); } });
+    Object.defineProperty(process, 'env', {
+      configurable: true,
+      get: () => {
+        throw new Error('NotCapable: Requires env access to "WEFT_BACKEND"');
+      },
+    });
     expect(() => process.env).toThrow('NotCapable');
     expect(environmentBackendChoice()).toBeUndefined();
   });

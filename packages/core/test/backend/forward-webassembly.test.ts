@@ -10,7 +10,7 @@ import { worstGap } from '../../../../tests/helpers/close.js';
 
 const available = forwardWebAssemblyUnavailable() === null;
 
-describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against their JavaScript twins', () => {
+describe.skipIf(!available)("the runtime's WebAssembly layer steps against their JavaScript twins", () => {
   it('agree on the LSTM, GRU (both forms) and plain layer steps and the readout, one row and five rows, ragged', () => {
     const wasm = createForwardWebAssembly({ memoryBytes: 8 * 1048576 });
     const random = new Random('layers');
@@ -39,8 +39,22 @@ describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against thei
       const sides = [wasm, javascriptForward].map((backend) => {
         const state = make(backend, h);
         const cell = make(backend, c);
-        backend.kernels.lstmLayerStep(make(backend, x), backend.matrix(w4, inputWidth, 4 * hidden), backend.matrix(r4, hidden, 4 * hidden), make(backend, b4),
-          make(backend, p3), state, cell, backend.floats(rows * 4 * hidden), backend.floats(rows * hidden), rows, inputWidth, hidden, lengths, 1);
+        backend.kernels.lstmLayerStep(
+          make(backend, x),
+          backend.matrix(w4, inputWidth, 4 * hidden),
+          backend.matrix(r4, hidden, 4 * hidden),
+          make(backend, b4),
+          make(backend, p3),
+          state,
+          cell,
+          backend.floats(rows * 4 * hidden),
+          backend.floats(rows * hidden),
+          rows,
+          inputWidth,
+          hidden,
+          lengths,
+          1,
+        );
         return [state, cell];
       });
       compare(sides[0][0], sides[1][0]);
@@ -53,9 +67,25 @@ describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against thei
       for (const resetAfter of [false, true]) {
         const gru = [wasm, javascriptForward].map((backend) => {
           const state = make(backend, h);
-          backend.kernels.gruLayerStep(make(backend, x), backend.matrix(w3, inputWidth, 3 * hidden), make(backend, b3), backend.matrix(r2, hidden, 2 * hidden),
-            backend.matrix(rn, hidden, hidden), resetAfter ? make(backend, bn) : null, state, backend.floats(rows * 3 * hidden), backend.floats(rows * 3 * hidden),
-            backend.floats(rows * 2 * hidden), backend.floats(rows * hidden), backend.floats(rows * hidden), rows, inputWidth, hidden, lengths, 1);
+          backend.kernels.gruLayerStep(
+            make(backend, x),
+            backend.matrix(w3, inputWidth, 3 * hidden),
+            make(backend, b3),
+            backend.matrix(r2, hidden, 2 * hidden),
+            backend.matrix(rn, hidden, hidden),
+            resetAfter ? make(backend, bn) : null,
+            state,
+            backend.floats(rows * 3 * hidden),
+            backend.floats(rows * 3 * hidden),
+            backend.floats(rows * 2 * hidden),
+            backend.floats(rows * hidden),
+            backend.floats(rows * hidden),
+            rows,
+            inputWidth,
+            hidden,
+            lengths,
+            1,
+          );
           return state;
         });
         compare(gru[0], gru[1]);
@@ -64,8 +94,20 @@ describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against thei
       for (const rectified of [false, true]) {
         const plain = [wasm, javascriptForward].map((backend) => {
           const state = make(backend, h);
-          backend.kernels.plainLayerStep(make(backend, x), backend.matrix(w1, inputWidth, hidden), backend.matrix(rn, hidden, hidden),
-            make(backend, bn), state, backend.floats(rows * hidden), rectified, rows, inputWidth, hidden, lengths, 1);
+          backend.kernels.plainLayerStep(
+            make(backend, x),
+            backend.matrix(w1, inputWidth, hidden),
+            backend.matrix(rn, hidden, hidden),
+            make(backend, bn),
+            state,
+            backend.floats(rows * hidden),
+            rectified,
+            rows,
+            inputWidth,
+            hidden,
+            lengths,
+            1,
+          );
           return state;
         });
         compare(plain[0], plain[1]);
@@ -84,13 +126,19 @@ describe.skipIf(!available)('the runtime\'s WebAssembly layer steps against thei
   });
 });
 
-describe.skipIf(!available)('the runtime\'s WebAssembly forward backend', () => {
+describe.skipIf(!available)("the runtime's WebAssembly forward backend", () => {
   it('packs a weight matrix for its kernels, zeroes new arrays, takes released ones back and names itself', () => {
     const wasm = createForwardWebAssembly({ memoryBytes: 1048576 });
     const floats = wasm.floats(10);
     expect(Array.from(floats).every((v) => v === 0)).toBe(true);
     // 3 × 9 packs into two 8-column panels: 3 rows × 16 columns.
-    expect(wasm.matrix(Array.from({ length: 27 }, (_, i) => i), 3, 9).length).toBeGreaterThanOrEqual(27);
+    expect(
+      wasm.matrix(
+        Array.from({ length: 27 }, (_, i) => i),
+        3,
+        9,
+      ).length,
+    ).toBeGreaterThanOrEqual(27);
     wasm.release(floats);
     expect(wasm.describe()).toMatch(/^webassembly/);
     expect(() => createForwardWebAssembly({ memoryBytes: 100 })).toThrowError(/^Invalid option at /);

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { javascriptForward } from '@weft/core/forward';
 
-describe('the runtime\'s JavaScript forward backend', () => {
+describe("the runtime's JavaScript forward backend", () => {
   it('runs the layer-step kernels on ordinary f32 arrays, weight matrices as they are, and names itself', () => {
     expect(javascriptForward.name).toBe('javascript');
     expect(Object.keys(javascriptForward.kernels).sort()).toEqual(['affineRows', 'gruLayerStep', 'lstmLayerStep', 'plainLayerStep']);

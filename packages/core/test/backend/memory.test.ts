@@ -107,7 +107,7 @@ describe('LinearMemory', () => {
 });
 
 describe.skipIf(webAssemblyUnavailable() !== null)('the WebAssembly backend on batches of many shapes', () => {
-  it('reuses its pools\' unused blocks when the reservation runs out, instead of failing', () => {
+  it("reuses its pools' unused blocks when the reservation runs out, instead of failing", () => {
     const backend = createWebAssemblyBackend({ memoryBytes: 1048576 });
     const pool = backend.createPool();
     // 300 different lengths of about 8 KB each: 2.4 MB in all, more than the 1 MiB reserved, one at a time in use.

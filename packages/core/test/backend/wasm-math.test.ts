@@ -32,7 +32,7 @@ function worst(kernel: 'sigmoid' | 'tanh' | 'exp', low: number, high: number, re
 
 const logistic = (x: number): number => 1 / (1 + Math.exp(-x));
 
-describe.skipIf(!available)('the WebAssembly backend\'s SIMD transcendentals', () => {
+describe.skipIf(!available)("the WebAssembly backend's SIMD transcendentals", () => {
   it('computes the logistic function within 1.5e-7 of Math on [−100, 100] (f32 rounding is 6e-8)', () => {
     const error = worst('sigmoid', -100, 100, logistic);
     console.log(`sigmoid worst error on [-100, 100]: ${error.toExponential(3)}`);

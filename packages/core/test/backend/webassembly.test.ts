@@ -16,7 +16,9 @@ const available = webAssemblyUnavailable() === null;
 const backend = available ? createWebAssemblyBackend({ memoryBytes: 64 * 1048576 }) : null;
 
 type Spec = number | null;
-interface Arrays { readonly f: (Float32Array | null)[] }
+interface Arrays {
+  readonly f: (Float32Array | null)[];
+}
 
 /** Makes matching arrays: one set in WebAssembly memory, one in ordinary arrays, same seeded values. */
 function arrays(specs: readonly Spec[], seed: number, low = -2, high = 2): { wasm: Arrays; js: Arrays } {
@@ -59,7 +61,18 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
     // f32 accumulation (the SIMD kernel) against f64 accumulation rounded once (the twin): each entry within the
     // forward error bound of an f32 dot product, γ_k·Σ|a||b| with γ_k = k·u/(1 − k·u), u = 2⁻²⁴ (Higham, "Accuracy
     // and Stability of Numerical Algorithms", 2nd ed. 2002, §3.1), plus one rounding of each result.
-    const shapes = [[32, 192, 512], [5, 7, 9], [1, 32, 256], [3, 17, 13], [33, 65, 129], [2, 5, 3], [4, 8, 8], [1, 1, 1], [7, 1, 19], [6, 40, 1]];
+    const shapes = [
+      [32, 192, 512],
+      [5, 7, 9],
+      [1, 32, 256],
+      [3, 17, 13],
+      [33, 65, 129],
+      [2, 5, 3],
+      [4, 8, 8],
+      [1, 1, 1],
+      [7, 1, 19],
+      [6, 40, 1],
+    ];
     const u = 2 ** -24;
     let worstRatio = 0;
     for (const [rows, inner, cols] of shapes) {
@@ -125,18 +138,34 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
   });
 
   it('agree on the LSTM step forward and backward: peepholes or not, ragged rows, absent gradients', () => {
-    for (const [rows, size] of [[3, 8], [1, 5], [4, 13]]) {
+    for (const [rows, size] of [
+      [3, 8],
+      [1, 5],
+      [4, 13],
+    ]) {
       for (const peephole of [false, true]) {
         for (const lengths of [null, Int32Array.from({ length: rows }, (_, b) => b % 3)]) {
           const p = peephole ? 3 * size : null;
           const n = rows * size;
-          agree([n, n, 4 * n, n, n, n, p], (k, [h, c, gates, tanhCell, hp, cp, pp]) => {
-            k.lstmStepForward(h!, c!, gates!, tanhCell!, hp!, cp!, pp, rows, size, lengths, 1);
-          }, false, rows * size);
+          agree(
+            [n, n, 4 * n, n, n, n, p],
+            (k, [h, c, gates, tanhCell, hp, cp, pp]) => {
+              k.lstmStepForward(h!, c!, gates!, tanhCell!, hp!, cp!, pp, rows, size, lengths, 1);
+            },
+            false,
+            rows * size,
+          );
           for (const absent of [false, true]) {
-            agree([4 * n, n, absent ? null : n, p, n, absent ? null : n, 4 * n, n, n, n, p], (k, [gg, hpg, cpg, pg, hg, cg, gates, tc, cp, c, pp]) => {
-              k.lstmStepBackward(gg!, hpg, cpg, pg, hg, cg, gates!, tc!, cp!, c!, pp, rows, size, lengths, 1);
-            }, false, rows + size, -1, 1);
+            agree(
+              [4 * n, n, absent ? null : n, p, n, absent ? null : n, 4 * n, n, n, n, p],
+              (k, [gg, hpg, cpg, pg, hg, cg, gates, tc, cp, c, pp]) => {
+                k.lstmStepBackward(gg!, hpg, cpg, pg, hg, cg, gates!, tc!, cp!, c!, pp, rows, size, lengths, 1);
+              },
+              false,
+              rows + size,
+              -1,
+              1,
+            );
           }
         }
       }
@@ -144,20 +173,42 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
   });
 
   it('agree on the GRU step pieces in both reset forms, forward and backward, ragged rows included', () => {
-    for (const [rows, size] of [[3, 8], [2, 5]]) {
+    for (const [rows, size] of [
+      [3, 8],
+      [2, 5],
+    ]) {
       const n = rows * size;
       for (const lengths of [null, Int32Array.from({ length: rows }, (_, b) => b)]) {
         agree([3 * n, 4 * 3 * n, 2 * n], (k, [gates, projected, product]) => k.gruUpdateReset(gates!, projected!, 3 * n, product!, rows, size), false, n);
         agree([n, 3 * n, n], (k, [rh, gates, hp]) => k.gruResetHidden(rh!, gates!, hp!, rows, size), true, n + 1);
         for (const resetAfter of [false, true]) {
-          agree([n, 3 * n, 2 * 3 * n, n, n], (k, [h, gates, projected, candidate, hp]) => {
-            k.gruStepFinish(h!, gates!, projected!, 3 * n, candidate!, hp!, resetAfter, rows, size, lengths, 1);
-          }, false, n + 2);
-          agree([2 * n, n, n, n, n, 3 * n, n, n], (k, [ur, cg, pg, hpg, hg, gates, candidate, hp]) => {
-            k.gruBackwardCandidate(ur!, cg!, pg!, hpg, hg!, gates!, candidate!, hp!, resetAfter, rows, size, lengths, 1);
-          }, false, n + 3, -1, 1);
+          agree(
+            [n, 3 * n, 2 * 3 * n, n, n],
+            (k, [h, gates, projected, candidate, hp]) => {
+              k.gruStepFinish(h!, gates!, projected!, 3 * n, candidate!, hp!, resetAfter, rows, size, lengths, 1);
+            },
+            false,
+            n + 2,
+          );
+          agree(
+            [2 * n, n, n, n, n, 3 * n, n, n],
+            (k, [ur, cg, pg, hpg, hg, gates, candidate, hp]) => {
+              k.gruBackwardCandidate(ur!, cg!, pg!, hpg, hg!, gates!, candidate!, hp!, resetAfter, rows, size, lengths, 1);
+            },
+            false,
+            n + 3,
+            -1,
+            1,
+          );
         }
-        agree([2 * n, n, n, 3 * n, n], (k, [ur, hpg, rhg, gates, hp]) => k.gruBackwardReset(ur!, hpg, rhg!, gates!, hp!, rows, size, lengths, 1), false, n + 4, -1, 1);
+        agree(
+          [2 * n, n, n, 3 * n, n],
+          (k, [ur, hpg, rhg, gates, hp]) => k.gruBackwardReset(ur!, hpg, rhg!, gates!, hp!, rows, size, lengths, 1),
+          false,
+          n + 4,
+          -1,
+          1,
+        );
       }
     }
   });
@@ -171,12 +222,17 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
     }
   });
 
-  it('agree bit for bit on the Adam and SGD updates (f64 arithmetic in the twin\'s order)', () => {
+  it("agree bit for bit on the Adam and SGD updates (f64 arithmetic in the twin's order)", () => {
     for (const n of [1, 2, 5, 37, 1001]) {
-      agree([n, n, n, n], (k, [values, gradient, m, v]) => {
-        for (let i = 0; i < n; i++) v![i] = Math.abs(v![i]);
-        k.adamUpdate(values!, gradient!, m!, v!, n, 0.9, 0.999, 1 - 0.9 ** 3, 1 - 0.999 ** 3, 0.01, 0.001, 0.0001, 1e-8);
-      }, true, n);
+      agree(
+        [n, n, n, n],
+        (k, [values, gradient, m, v]) => {
+          for (let i = 0; i < n; i++) v![i] = Math.abs(v![i]);
+          k.adamUpdate(values!, gradient!, m!, v!, n, 0.9, 0.999, 1 - 0.9 ** 3, 1 - 0.999 ** 3, 0.01, 0.001, 0.0001, 1e-8);
+        },
+        true,
+        n,
+      );
       for (const nesterov of [false, true]) {
         agree([n, n, n], (k, [values, gradient, velocity]) => k.sgdUpdate(values!, gradient!, velocity!, n, 0.05, 0.001, 0.9, 0.0001, nesterov), true, n + 1);
       }
@@ -203,6 +259,8 @@ describe.skipIf(!available)('the compiled kernels handed to another thread', () 
   });
 
   it('refuse anything that is not a compiled module, in one line', () => {
-    expect(() => useCompiledKernels('kernels' as unknown as WebAssembly.Module)).toThrowError('Invalid argument at useCompiledKernels.module: expected a WebAssembly.Module (from compiledKernels), received string');
+    expect(() => useCompiledKernels('kernels' as unknown as WebAssembly.Module)).toThrowError(
+      'Invalid argument at useCompiledKernels.module: expected a WebAssembly.Module (from compiledKernels), received string',
+    );
   });
 });

@@ -59,7 +59,7 @@ function forward(x: Inputs, resetAfter: boolean) {
   return { h, gates, candidate, resetHidden };
 }
 
-describe('the GRU step kernels (Cho et al. 2014, in the ONNX GRU operator\'s two forms)', () => {
+describe("the GRU step kernels (Cho et al. 2014, in the ONNX GRU operator's two forms)", () => {
   for (const resetAfter of [false, true]) {
     const form = resetAfter ? 'reset after the product' : 'reset before the product';
     it(`compute z, r, n and h of the equations with the ${form}, and hold a row past its length`, () => {
@@ -101,8 +101,21 @@ describe('the GRU step kernels (Cho et al. 2014, in the ONNX GRU operator\'s two
       const recurrentGradient = new Float64Array(hidden * 2 * hidden);
       const candidateWeightsGradient = new Float64Array(hidden * hidden);
       const candidateBiasGradient = new Float64Array(hidden);
-      kernels.gruBackwardCandidate(updateResetGradient, candidateGradient, productGradient, hPreviousGradient, upstream, gates, candidate,
-        x.hPrevious, resetAfter, rows, hidden, lengths, step);
+      kernels.gruBackwardCandidate(
+        updateResetGradient,
+        candidateGradient,
+        productGradient,
+        hPreviousGradient,
+        upstream,
+        gates,
+        candidate,
+        x.hPrevious,
+        resetAfter,
+        rows,
+        hidden,
+        lengths,
+        step,
+      );
       if (resetAfter) {
         product(candidateWeightsGradient, x.hPrevious, productGradient, hidden, rows, hidden, true);
         kernels.sumRows(candidateBiasGradient, productGradient, rows, hidden, true);

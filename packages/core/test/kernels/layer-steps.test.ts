@@ -47,11 +47,28 @@ describe('the layer steps of the inference runtime', () => {
     const spec = specLstm({ x: [x], w, r, b, p, h0, c0, lengths: Array.from(lengths) });
     // ONNX gate blocks i, o, f, c; ours i, f, g, o.
     const blocks = [0, 2, 3, 1];
-    const bias = Float64Array.from({ length: 4 * hidden }, (_, i) => b[blocks[Math.floor(i / hidden)] * hidden + (i % hidden)] + b[4 * hidden + blocks[Math.floor(i / hidden)] * hidden + (i % hidden)]);
+    const bias = Float64Array.from(
+      { length: 4 * hidden },
+      (_, i) => b[blocks[Math.floor(i / hidden)] * hidden + (i % hidden)] + b[4 * hidden + blocks[Math.floor(i / hidden)] * hidden + (i % hidden)],
+    );
     const peephole = Float64Array.from([...p.slice(0, hidden), ...p.slice(2 * hidden), ...p.slice(hidden, 2 * hidden)]);
     const cell = Float64Array.from(c0.flat());
-    kernels.lstmLayerStep(flatX, ours(w, blocks), ours(r, blocks), bias, peephole, state, cell, new Float64Array(rows * 4 * hidden),
-      new Float64Array(rows * hidden), rows, width, hidden, lengths, 0);
+    kernels.lstmLayerStep(
+      flatX,
+      ours(w, blocks),
+      ours(r, blocks),
+      bias,
+      peephole,
+      state,
+      cell,
+      new Float64Array(rows * 4 * hidden),
+      new Float64Array(rows * hidden),
+      rows,
+      width,
+      hidden,
+      lengths,
+      0,
+    );
     expect(worstGap(state, spec.yh.flat())).toBeLessThan(1e-14);
     expect(worstGap(cell, spec.yc!.flat())).toBeLessThan(1e-14);
   });
@@ -67,9 +84,25 @@ describe('the layer steps of the inference runtime', () => {
       const spec = specGru({ x: [x], w, r, b, h0, lengths: Array.from(lengths), linearBeforeReset });
       const bias = Float64Array.from({ length: 3 * hidden }, (_, i) => b[i] + (linearBeforeReset && i >= 2 * hidden ? 0 : b[3 * hidden + i]));
       const candidateBias = linearBeforeReset ? Float64Array.from(b.slice(5 * hidden)) : null;
-      kernels.gruLayerStep(flatX, ours(w, [0, 1, 2]), bias, ours(r, [0, 1]), ours(r, [2], 0, 1), candidateBias, state,
-        new Float64Array(rows * 3 * hidden), new Float64Array(rows * 3 * hidden), new Float64Array(rows * 2 * hidden),
-        new Float64Array(rows * hidden), new Float64Array(rows * hidden), rows, width, hidden, lengths, 0);
+      kernels.gruLayerStep(
+        flatX,
+        ours(w, [0, 1, 2]),
+        bias,
+        ours(r, [0, 1]),
+        ours(r, [2], 0, 1),
+        candidateBias,
+        state,
+        new Float64Array(rows * 3 * hidden),
+        new Float64Array(rows * 3 * hidden),
+        new Float64Array(rows * 2 * hidden),
+        new Float64Array(rows * hidden),
+        new Float64Array(rows * hidden),
+        rows,
+        width,
+        hidden,
+        lengths,
+        0,
+      );
       expect(worstGap(state, spec.yh.flat())).toBeLessThan(1e-14);
     });
   }
@@ -104,6 +137,11 @@ describe('the layer steps of the inference runtime', () => {
     const bias = Float64Array.of(0.5, -2);
     const out = kernels.affineRows(new Float64Array(6), bias, Float64Array.from(x.flat()), Float64Array.from(weights.flat()), 3, 6, 2);
     const product = ((referenceMultiply(matrix(x), matrix(weights)) as MathMatrix).toArray() as number[][]).flat();
-    expect(worstGap(out, product.map((v, i) => v + bias[i % 2]))).toBeLessThan(1e-14);
+    expect(
+      worstGap(
+        out,
+        product.map((v, i) => v + bias[i % 2]),
+      ),
+    ).toBeLessThan(1e-14);
   });
 });

@@ -77,8 +77,23 @@ describe('the LSTM step kernels (Gers, Schmidhuber & Cummins 2000; peepholes: Ge
       const hPreviousGradient = new Float64Array(rows * hidden);
       const cPreviousGradient = new Float64Array(rows * hidden);
       const peepholeGradient = peepholes ? new Float64Array(3 * hidden) : null;
-      kernels.lstmStepBackward(gateGradient, hPreviousGradient, cPreviousGradient, peepholeGradient, towardH, towardC, gates, tanhCell,
-        x.cPrevious, c, x.peephole, rows, hidden, lengths, step);
+      kernels.lstmStepBackward(
+        gateGradient,
+        hPreviousGradient,
+        cPreviousGradient,
+        peepholeGradient,
+        towardH,
+        towardC,
+        gates,
+        tanhCell,
+        x.cPrevious,
+        c,
+        x.peephole,
+        rows,
+        hidden,
+        lengths,
+        step,
+      );
       expect(worstGap(gateGradient, numericGradient(objective, x.pre))).toBeLessThan(1e-8);
       expect(worstGap(cPreviousGradient, numericGradient(objective, x.cPrevious))).toBeLessThan(1e-8);
       // h₋ reaches the objective only through a held row here (its share through R is the caller's product).

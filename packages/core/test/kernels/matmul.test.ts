@@ -19,7 +19,14 @@ function reference(a: number[][], b: number[][]): Float64Array {
 
 describe('matmul kernel', () => {
   const shapes: [number, number, number][] = [
-    [1, 1, 1], [1, 7, 5], [3, 9, 2], [4, 4, 4], [5, 3, 7], [9, 17, 13], [32, 19, 41], [2, 160, 33],
+    [1, 1, 1],
+    [1, 7, 5],
+    [3, 9, 2],
+    [4, 4, 4],
+    [5, 3, 7],
+    [9, 17, 13],
+    [32, 19, 41],
+    [2, 160, 33],
   ];
 
   for (const [rows, inner, cols] of shapes) {

@@ -19,7 +19,7 @@ describe('the row helpers for ragged batches (a row past its length holds its st
     expect(Array.from(target)).toEqual([1, 2, 8, 9]);
   });
 
-  it('forward: copy a held row\'s previous state across and say so; leave an active row alone', () => {
+  it("forward: copy a held row's previous state across and say so; leave an active row alone", () => {
     const state = Float64Array.of(0, 0, 0, 0);
     const previous = Float64Array.of(1, 2, 3, 4);
     expect(holdRow(lengths, 0, 2, state, previous, 0, 2)).toBe(true);
@@ -27,7 +27,7 @@ describe('the row helpers for ragged batches (a row past its length holds its st
     expect(Array.from(state)).toEqual([1, 2, 0, 0]);
   });
 
-  it('backward: zero a held row\'s gate gradients and pass its state gradient to the previous state', () => {
+  it("backward: zero a held row's gate gradients and pass its state gradient to the previous state", () => {
     const gates = Float64Array.of(5, 5, 5, 5, 5, 5);
     const previousGradient = Float64Array.of(1, 1);
     expect(passHeldRow(lengths, 0, 3, previousGradient, Float64Array.of(0.5, 0.25), 0, 2, gates, 0, 3)).toBe(true);

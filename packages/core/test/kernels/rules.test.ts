@@ -13,12 +13,12 @@ describe('the update-rule loops', () => {
     const g0 = 0.2 + kappa * 0.5;
     const m0 = b1 * 0.01 + (1 - b1) * g0;
     const v0 = b2 * 0.001 + (1 - b2) * g0 * g0;
-    const theta0 = 0.5 - (rate * ((m0 / c1) / (Math.sqrt(v0 / c2) + eps)) + decay * 0.5);
+    const theta0 = 0.5 - (rate * (m0 / c1 / (Math.sqrt(v0 / c2) + eps)) + decay * 0.5);
     kernels.adamUpdate(values, gradient, m, v, 2, b1, b2, c1, c2, rate, decay, kappa, eps);
     expect([m[0], v[0], values[0]]).toEqual([m0, v0, theta0]);
   });
 
-  it('take one SGD step with momentum μ as v ← μv + g, θ ← θ − ηv, and Nesterov\'s in its common reformulation θ ← θ − η(g + μv) (common practice)', () => {
+  it("take one SGD step with momentum μ as v ← μv + g, θ ← θ − ηv, and Nesterov's in its common reformulation θ ← θ − η(g + μv) (common practice)", () => {
     for (const nesterov of [false, true]) {
       const values = Float64Array.of(1);
       const velocity = Float64Array.of(0.5);

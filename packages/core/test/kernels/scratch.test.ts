@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { SCRATCH_LEFT, SCRATCH_RIGHT, scratch } from '../../src/kernels/scratch.js';
 
-describe('the kernels\' scratch memory', () => {
+describe("the kernels' scratch memory", () => {
   it('grows a slot by doubling to the largest size asked and hands the same array back after that', () => {
     const first = scratch(SCRATCH_LEFT, 100);
     expect(first).toBeInstanceOf(Float64Array);

@@ -57,7 +57,7 @@ describe('log-sum-exp', () => {
 });
 
 describe('the index of the largest entry', () => {
-  it('is the first of equals, skips NaN, and takes arrays far longer than a call\'s argument limit (a 150,000-word vocabulary)', () => {
+  it("is the first of equals, skips NaN, and takes arrays far longer than a call's argument limit (a 150,000-word vocabulary)", () => {
     expect(indexOfLargest([3, 7, 7, -1])).toBe(1);
     expect(indexOfLargest([NaN, 2, NaN, 5])).toBe(3);
     expect(indexOfLargest([])).toBe(-1);

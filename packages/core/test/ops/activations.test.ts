@@ -13,7 +13,10 @@ const references = {
 
 describe('activations on the tape', () => {
   for (const [name, op, low, high] of [
-    ['sigmoid', sigmoid, -4, 4], ['tanh', tanh, -3, 3], ['exp', exp, -2, 2], ['log', log, 0.2, 3],
+    ['sigmoid', sigmoid, -4, 4],
+    ['tanh', tanh, -3, 3],
+    ['exp', exp, -2, 2],
+    ['log', log, 0.2, 3],
   ] as const) {
     it(`computes ${name} as Math does and its gradient as finite differences do`, () => {
       const random = new Random(name);
@@ -44,7 +47,9 @@ describe('activations on the tape', () => {
     expect([y.data[2], y.data[3], y.data[4]]).toEqual([0.5, 1, 1]);
   });
 
-  it('refuses a missing tensor by the activation\'s name', () => {
-    expect(() => tanh(new Tape(), undefined as unknown as Parameters<typeof tanh>[1])).toThrowError('Invalid argument at tanh.a: expected a tensor, received undefined');
+  it("refuses a missing tensor by the activation's name", () => {
+    expect(() => tanh(new Tape(), undefined as unknown as Parameters<typeof tanh>[1])).toThrowError(
+      'Invalid argument at tanh.a: expected a tensor, received undefined',
+    );
   });
 });

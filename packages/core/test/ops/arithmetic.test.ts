@@ -6,8 +6,22 @@ describe('elementwise arithmetic on the tape', () => {
   it('adds, subtracts, multiplies and scales element by element, a bias row broadcast over every row', () => {
     // Worked by hand (definition of the operations, common practice).
     const tape = new Tape();
-    const a = tensor([[1, 2], [3, 4]], [2, 2], 'f64');
-    const b = tensor([[0.5, -1], [2, 0.25]], [2, 2], 'f64');
+    const a = tensor(
+      [
+        [1, 2],
+        [3, 4],
+      ],
+      [2, 2],
+      'f64',
+    );
+    const b = tensor(
+      [
+        [0.5, -1],
+        [2, 0.25],
+      ],
+      [2, 2],
+      'f64',
+    );
     const row = tensor([10, 20], [2], 'f64');
     expect(Array.from(add(tape, a, b).data)).toEqual([1.5, 1, 5, 4.25]);
     expect(Array.from(add(tape, a, row).data)).toEqual([11, 22, 13, 24]);

@@ -9,11 +9,15 @@ describe('the checks every operation makes at its boundary', () => {
   });
 
   it('name the operation and argument of a wrong rank, with the rank expected and the shape received', () => {
-    expect(() => matmul(tape, tensor([1, 2], [2], 'f64'), tensor([[1]], [1, 1], 'f64'))).toThrowError('Shape mismatch at matmul.a: expected a rank-2 tensor, received [2]');
+    expect(() => matmul(tape, tensor([1, 2], [2], 'f64'), tensor([[1]], [1, 1], 'f64'))).toThrowError(
+      'Shape mismatch at matmul.a: expected a rank-2 tensor, received [2]',
+    );
     expect(() => gatherRows(tape, tensor([1, 2], [2], 'f64'), [0])).toThrowError(WeftError);
   });
 
   it('name the operation and argument of a wrong shape, with both shapes', () => {
-    expect(() => meanSquaredError(tape, tensor([[1, 2]], [1, 2], 'f64'), tensor([1, 2], [2], 'f64'))).toThrowError('Shape mismatch at meanSquaredError.target: expected [1, 2], received [2]');
+    expect(() => meanSquaredError(tape, tensor([[1, 2]], [1, 2], 'f64'), tensor([1, 2], [2], 'f64'))).toThrowError(
+      'Shape mismatch at meanSquaredError.target: expected [1, 2], received [2]',
+    );
   });
 });

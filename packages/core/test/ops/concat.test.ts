@@ -6,7 +6,14 @@ describe('concat and slice on the tape', () => {
   it('join along the last axis and cut a column range back out, row by row', () => {
     // Worked by hand (definition, common practice).
     const tape = new Tape();
-    const a = tensor([[1, 2], [3, 4]], [2, 2], 'f64');
+    const a = tensor(
+      [
+        [1, 2],
+        [3, 4],
+      ],
+      [2, 2],
+      'f64',
+    );
     const b = tensor([[5], [6]], [2, 1], 'f64');
     const joined = concat(tape, [a, b]);
     expect(joined.shape).toEqual([2, 3]);
@@ -28,6 +35,8 @@ describe('concat and slice on the tape', () => {
     expect(() => concat(tape, [tensor([[1, 2]], [1, 2], 'f64'), tensor([[1], [2]], [2, 1], 'f64')])).toThrowError(
       'Shape mismatch at concat.parts[1]: expected [1, any], received [2, 1]',
     );
-    expect(() => slice(tape, tensor([1, 2, 3], [3], 'f64'), 2, 4)).toThrowError('Invalid argument at slice.range: expected 0 ≤ start ≤ end ≤ 3, received start 2, end 4');
+    expect(() => slice(tape, tensor([1, 2, 3], [3], 'f64'), 2, 4)).toThrowError(
+      'Invalid argument at slice.range: expected 0 ≤ start ≤ end ≤ 3, received start 2, end 4',
+    );
   });
 });

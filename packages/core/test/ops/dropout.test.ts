@@ -22,6 +22,8 @@ describe('dropout on the tape (inverted: Srivastava et al. 2014, scaled by 1/(1 
   });
 
   it('refuses a rate outside [0, 1)', () => {
-    expect(() => dropout(new Tape(), filled([2], 1, 'f64'), 1, new Random(0))).toThrowError('Invalid option at dropout.rate: expected a number in [0, 1), received 1');
+    expect(() => dropout(new Tape(), filled([2], 1, 'f64'), 1, new Random(0))).toThrowError(
+      'Invalid option at dropout.rate: expected a number in [0, 1), received 1',
+    );
   });
 });

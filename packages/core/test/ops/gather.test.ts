@@ -4,7 +4,15 @@ import { checkOptions, expectPass, input, weightedSum } from './helpers.js';
 
 describe('gatherRows on the tape', () => {
   it('picks the rows the indices name, repeats included', () => {
-    const table = tensor([[1, 2], [3, 4], [5, 6]], [3, 2], 'f64');
+    const table = tensor(
+      [
+        [1, 2],
+        [3, 4],
+        [5, 6],
+      ],
+      [3, 2],
+      'f64',
+    );
     expect(Array.from(gatherRows(new Tape(), table, [2, 0, 2]).data)).toEqual([5, 6, 1, 2, 5, 6]);
   });
 
@@ -23,8 +31,19 @@ describe('gatherRows on the tape', () => {
   });
 
   it('refuses an index outside the table or not whole, by its position', () => {
-    const table = tensor([[1, 2], [3, 4]], [2, 2], 'f64');
-    expect(() => gatherRows(new Tape(), table, [1, 2])).toThrowError('Invalid argument at gatherRows.indices[1]: expected a whole number in [0, 2), received 2');
-    expect(() => gatherRows(new Tape(), table, [0.5])).toThrowError('Invalid argument at gatherRows.indices[0]: expected a whole number in [0, 2), received 0.5');
+    const table = tensor(
+      [
+        [1, 2],
+        [3, 4],
+      ],
+      [2, 2],
+      'f64',
+    );
+    expect(() => gatherRows(new Tape(), table, [1, 2])).toThrowError(
+      'Invalid argument at gatherRows.indices[1]: expected a whole number in [0, 2), received 2',
+    );
+    expect(() => gatherRows(new Tape(), table, [0.5])).toThrowError(
+      'Invalid argument at gatherRows.indices[0]: expected a whole number in [0, 2), received 0.5',
+    );
   });
 });

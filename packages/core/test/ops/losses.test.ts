@@ -4,7 +4,15 @@ import { checkOptions, expectPass, input } from './helpers.js';
 
 describe('losses on the tape', () => {
   it('computes weighted softmax cross-entropy as −Σ w·log softmax(z)[t] / Σ w (definition, common practice)', () => {
-    const logits = tensor([[1, 2, 3], [0, 0, 0], [5, -5, 0]], [3, 3], 'f64');
+    const logits = tensor(
+      [
+        [1, 2, 3],
+        [0, 0, 0],
+        [5, -5, 0],
+      ],
+      [3, 3],
+      'f64',
+    );
     const loss = crossEntropyAtTargets(new Tape(), logits, [2, 0, 1], { weights: [1, 0.5, 2] });
     const logSoftmax = (row: number[], j: number) => row[j] - Math.log(row.reduce((s, v) => s + Math.exp(v), 0));
     const expected = -(1 * logSoftmax([1, 2, 3], 2) + 0.5 * logSoftmax([0, 0, 0], 0) + 2 * logSoftmax([5, -5, 0], 1)) / 3.5;
@@ -32,8 +40,22 @@ describe('losses on the tape', () => {
   });
 
   it('computes the mean squared error, weighted per row, as Σ w (p − y)² / (width · Σ w)', () => {
-    const p = tensor([[1, 2], [3, 4]], [2, 2], 'f64');
-    const y = tensor([[0, 2], [5, 4]], [2, 2], 'f64');
+    const p = tensor(
+      [
+        [1, 2],
+        [3, 4],
+      ],
+      [2, 2],
+      'f64',
+    );
+    const y = tensor(
+      [
+        [0, 2],
+        [5, 4],
+      ],
+      [2, 2],
+      'f64',
+    );
     expect(meanSquaredError(new Tape(), p, y).data[0]).toBe((1 + 0 + 4 + 0) / 4);
     expect(meanSquaredError(new Tape(), p, y, { weights: [3, 1] }).data[0]).toBe((3 * 1 + 1 * 4) / (2 * 4));
   });
@@ -58,11 +80,27 @@ describe('losses on the tape', () => {
   });
 
   it('weighs the mean squared error per value when given one weight per value, as Σ w (p − y)² / Σ w', () => {
-    const p = tensor([[1, 2], [3, 4]], [2, 2], 'f64');
-    const y = tensor([[0, 2], [5, 9]], [2, 2], 'f64');
+    const p = tensor(
+      [
+        [1, 2],
+        [3, 4],
+      ],
+      [2, 2],
+      'f64',
+    );
+    const y = tensor(
+      [
+        [0, 2],
+        [5, 9],
+      ],
+      [2, 2],
+      'f64',
+    );
     // The last value weighs 0 (never observed): its error of 5 counts nowhere.
     expect(meanSquaredError(new Tape(), p, y, { weights: [1, 1, 2, 0] }).data[0]).toBe((1 + 0 + 2 * 4) / 4);
-    expect(() => meanSquaredError(new Tape(), p, y, { weights: [1, 1, 1] })).toThrowError('meanSquaredError.weights: expected 2 weights (one per row) or 4 (one per value), received 3');
+    expect(() => meanSquaredError(new Tape(), p, y, { weights: [1, 1, 1] })).toThrowError(
+      'meanSquaredError.weights: expected 2 weights (one per row) or 4 (one per value), received 3',
+    );
   });
 
   it('gives a value weighted 0 no gradient, and the others those of finite differences', () => {
@@ -79,8 +117,19 @@ describe('losses on the tape', () => {
   });
 
   it('refuses a target outside the classes and a negative weight, by position', () => {
-    const logits = tensor([[1, 2], [3, 4]], [2, 2], 'f64');
-    expect(() => crossEntropyAtTargets(new Tape(), logits, [0, 2])).toThrowError('Invalid argument at crossEntropyAtTargets.targets[1]: expected a class index in [0, 2), received 2');
-    expect(() => meanSquaredError(new Tape(), logits, logits, { weights: [1, -1] })).toThrowError('Invalid argument at meanSquaredError.weights[1]: expected a finite number ≥ 0, received -1');
+    const logits = tensor(
+      [
+        [1, 2],
+        [3, 4],
+      ],
+      [2, 2],
+      'f64',
+    );
+    expect(() => crossEntropyAtTargets(new Tape(), logits, [0, 2])).toThrowError(
+      'Invalid argument at crossEntropyAtTargets.targets[1]: expected a class index in [0, 2), received 2',
+    );
+    expect(() => meanSquaredError(new Tape(), logits, logits, { weights: [1, -1] })).toThrowError(
+      'Invalid argument at meanSquaredError.weights[1]: expected a finite number ≥ 0, received -1',
+    );
   });
 });

@@ -33,6 +33,8 @@ describe('matmul on the tape', () => {
     const a = tensor([[1, 2, 3]], [1, 3], 'f64');
     const b = tensor([[1], [2]], [2, 1], 'f64');
     expect(() => matmul(new Tape(), a, b)).toThrowError(WeftError);
-    expect(() => matmul(new Tape(), a, b)).toThrowError('Shape mismatch at matmul.b: expected [3, cols], received [2, 1] (inner sizes differ: A is [1, 3], B is [2, 1])');
+    expect(() => matmul(new Tape(), a, b)).toThrowError(
+      'Shape mismatch at matmul.b: expected [3, cols], received [2, 1] (inner sizes differ: A is [1, 3], B is [2, 1])',
+    );
   });
 });

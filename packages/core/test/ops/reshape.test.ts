@@ -3,8 +3,15 @@ import { Random, Tape, checkGradients, multiply, reshape, tensor } from '@weft/c
 import { checkOptions, expectPass, input, weightedSum } from './helpers.js';
 
 describe('reshape on the tape', () => {
-  it('shares the input\'s buffer under the new shape, in the same row-major order', () => {
-    const a = tensor([[1, 2, 3], [4, 5, 6]], [2, 3], 'f64');
+  it("shares the input's buffer under the new shape, in the same row-major order", () => {
+    const a = tensor(
+      [
+        [1, 2, 3],
+        [4, 5, 6],
+      ],
+      [2, 3],
+      'f64',
+    );
     const b = reshape(new Tape(), a, [3, 2]);
     expect(b.shape).toEqual([3, 2]);
     expect(b.data).toBe(a.data);
@@ -19,6 +26,8 @@ describe('reshape on the tape', () => {
   });
 
   it('refuses a shape of another size, naming both sizes', () => {
-    expect(() => reshape(new Tape(), tensor([1, 2, 3], [3], 'f64'), [2, 2])).toThrowError('Shape mismatch at reshape.shape: expected a shape of 3 elements (from [3]), received [2, 2] of 4');
+    expect(() => reshape(new Tape(), tensor([1, 2, 3], [3], 'f64'), [2, 2])).toThrowError(
+      'Shape mismatch at reshape.shape: expected a shape of 3 elements (from [3]), received [2, 2] of 4',
+    );
   });
 });

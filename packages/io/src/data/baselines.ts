@@ -21,77 +21,22 @@
 import { fail } from '@weft/core';
 import { interpolated } from './missing.js';
 import { ForecastErrorSum, maseScale } from './scores.js';
-import type { ForecastErrors } from './scores.js';
 import { leastSquares } from './least-squares.js';
 import { chooseSeason } from './seasonality.js';
-import type { SeasonChoice, Spacing } from './seasonality.js';
+import type { SeasonChoice } from './seasonality.js';
 import { fitSmoothing, runSmoothing } from './smoothing.js';
 import type { SmoothingMethod } from './smoothing.js';
 import { thetaForecasts } from './theta.js';
+import type { BaselineOptions, BaselineScore, ForecastBaselines, Forecaster, SeriesSplit, StepErrors } from './baselines-types.js';
 
-/** A series cut for scoring: which rows fit the baselines and which positions are scored. */
-export interface SeriesSplit {
-  /** The series in real units, one row per time step, one number per input column. */
-  readonly values: readonly (readonly number[])[];
-  /** Which input columns are targets (indexes into a row). */
-  readonly targets: readonly number[];
-  /** Rows ahead that a forecast is for. */
-  readonly horizon: number;
-  /** Rows [0, fitRows) fit the baselines (and give the MASE scale); no scored target row lies before it. */
-  readonly fitRows: number;
-  /** The rows t whose forecast (of row t + horizon) is scored. */
-  readonly positions: readonly number[];
-  /**
-   * Rows ahead to score, each up to `horizon` (default: `horizon` alone). Every one scores the same target rows,
-   * t + horizon for t in `positions`, each forecast made `h` rows before its target row.
-   */
-  readonly rowsAhead?: readonly number[];
-}
-
-/** Errors at one number of rows ahead. */
-export interface StepErrors {
-  /** Rows ahead of the row the forecasts were made at. */
-  readonly rowsAhead: number;
-  /** Errors over every target there (MASE: the mean over targets of the scaled errors). */
-  readonly overall: ForecastErrors;
-}
-
-/** One contender's scored errors. */
-export interface BaselineScore {
-  /** A short name: naive, seasonal naive, simple smoothing, Holt, damped trend, Holt-Winters additive, … */
-  readonly name: string;
-  /** How it forecasts, in words, for reports (with its fitted parameters). */
-  readonly description: string;
-  /** Errors per target column, in the order of `targets`. */
-  readonly perTarget: readonly ForecastErrors[];
-  /** Errors over every target and position together (MASE: the mean over targets of the scaled errors). */
-  readonly overall: ForecastErrors;
-  /** With several rows ahead (`SeriesSplit.rowsAhead`), the errors at each, nearest first. */
-  readonly byRowsAhead?: readonly StepErrors[];
-}
-
-/** Every baseline that applies, the season used and why, and why any baseline was left out. */
-export interface ForecastBaselines {
-  /** The baselines, in a fixed order. */
-  readonly scores: readonly BaselineScore[];
-  /** The season used and the reason. */
-  readonly season: SeasonChoice;
-  /** Per target, the MASE scale (in-sample seasonal naive error over the fitting rows). */
-  readonly scales: readonly number[];
-  /** Baselines left out, each with the reason. */
-  readonly leftOut: readonly string[];
-  /** Each baseline's forecaster, in the order of `scores` (for scores computed later, such as intervals). */
-  readonly forecasters: readonly Forecaster[];
-}
-
-/** A forecaster: the forecast of target k for row t + h, made at row t (h: the split's horizon unless given). */
-export type Forecaster = (t: number, k: number, h: number) => number;
+export type { BaselineOptions, BaselineScore, ForecastBaselines, Forecaster, SeriesSplit, StepErrors } from './baselines-types.js';
 
 /** The rows ahead a split scores, nearest first (checked: whole numbers from 1 to its horizon). */
 export function rowsAheadOf(split: SeriesSplit): readonly number[] {
   const steps = split.rowsAhead ?? [split.horizon];
   steps.forEach((h, i) => {
-    if (!(Number.isInteger(h) && h >= 1 && h <= split.horizon)) fail('invalid_argument', `split.rowsAhead[${i}]`, `a whole number in [1, ${split.horizon}] (the horizon)`, String(h));
+    if (!(Number.isInteger(h) && h >= 1 && h <= split.horizon))
+      fail('invalid_argument', `split.rowsAhead[${i}]`, `a whole number in [1, ${split.horizon}] (the horizon)`, String(h));
   });
   return steps;
 }
@@ -100,7 +45,11 @@ export function rowsAheadOf(split: SeriesSplit): readonly number[] {
  * Scores a forecaster on the split's target rows, per target and overall (every row ahead pooled), and at each row
  * ahead when the split has several; `scales` give MASE.
  */
-export function scoreForecaster(split: SeriesSplit, forecast: Forecaster, scales: readonly number[] = []): Pick<BaselineScore, 'perTarget' | 'overall' | 'byRowsAhead'> {
+export function scoreForecaster(
+  split: SeriesSplit,
+  forecast: Forecaster,
+  scales: readonly number[] = [],
+): Pick<BaselineScore, 'perTarget' | 'overall' | 'byRowsAhead'> {
   const sums = split.targets.map(() => new ForecastErrorSum());
   const all = new ForecastErrorSum();
   const steps = rowsAheadOf(split);
@@ -149,7 +98,14 @@ export function fitLinear(split: SeriesSplit): Float64Array[] {
     x[r * p] = 1;
     for (let lag = 0; lag < LAGS; lag++) for (let c = 0; c < width; c++) x[r * p + 1 + lag * width + c] = split.values[t - lag][c];
   });
-  return split.targets.map((j) => leastSquares(x, rows.map((t) => split.values[t + split.horizon][j]), rows.length, p));
+  return split.targets.map((j) =>
+    leastSquares(
+      x,
+      rows.map((t) => split.values[t + split.horizon][j]),
+      rows.length,
+      p,
+    ),
+  );
 }
 
 /** The linear baseline's forecast at row t (t ≥ LAGS − 1) from its weights. */
@@ -163,19 +119,11 @@ export function linearForecast(values: readonly (readonly number[])[], w: ArrayL
   return s;
 }
 
-/** Options of `forecastBaselines`. */
-export interface BaselineOptions {
-  /** Rows in a season, or null for none; undefined chooses one (chooseSeason). */
-  readonly season?: number | null;
-  /** How the rows are spaced in time (from a time column), for the season's candidates. */
-  readonly spacing?: Spacing | null;
-}
-
 const figure = (v: number) => Number(v.toPrecision(3)).toString();
 
 const SMOOTHING: readonly { method: SmoothingMethod; name: string; what: string }[] = [
   { method: 'simple', name: 'simple smoothing', what: 'simple exponential smoothing' },
-  { method: 'holt', name: 'Holt', what: 'Holt\'s linear trend' },
+  { method: 'holt', name: 'Holt', what: "Holt's linear trend" },
   { method: 'damped', name: 'damped trend', what: 'exponential smoothing with a damped trend' },
   { method: 'additive', name: 'Holt-Winters additive', what: 'Holt-Winters, additive season' },
   { method: 'multiplicative', name: 'Holt-Winters multiplicative', what: 'Holt-Winters, multiplicative season' },
@@ -194,7 +142,8 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
   const carried = gappy ? columns.map(carryForward) : columns;
   const carriedRows = gappy ? carryRows(values) : values;
   let season: SeasonChoice;
-  if (options.season === undefined) season = chooseSeason(gappy ? interpolated(columns[0].subarray(0, fitRows)) : columns[0].subarray(0, fitRows), options.spacing ?? null);
+  if (options.season === undefined)
+    season = chooseSeason(gappy ? interpolated(columns[0].subarray(0, fitRows)) : columns[0].subarray(0, fitRows), options.spacing ?? null);
   else if (options.season === null) season = { season: null, reason: 'no season (as asked)', candidates: [] };
   else {
     if (!(Number.isInteger(options.season) && options.season >= 1 && options.season < fitRows)) {
@@ -243,12 +192,16 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
     if (seasonal && m === null) continue;
     // Fitted once (the one-step error does not depend on the rows ahead), run once per row ahead.
     const fits = columns.map((series) => fitSmoothing(series, fitRows, method, m ?? 1));
-    const forecast = fits.every((f) => f !== null) ? byStep((h) => {
-      const out = columns.map((series) => new Float64Array(series.length));
-      return columns.every((series, k) => !Number.isNaN(runSmoothing(series, fitRows, fits[k]!, h, out[k]))) ? out : null;
-    }) : null;
+    const forecast = fits.every((f) => f !== null)
+      ? byStep((h) => {
+          const out = columns.map((series) => new Float64Array(series.length));
+          return columns.every((series, k) => !Number.isNaN(runSmoothing(series, fitRows, fits[k]!, h, out[k]))) ? out : null;
+        })
+      : null;
     if (forecast === null) {
-      leftOut.push(`${name}: ${method === 'multiplicative' ? 'needs values above 0 and two seasons of fitting rows' : `needs at least ${seasonal ? 2 * (m ?? 1) : 3} fitting rows`}`);
+      leftOut.push(
+        `${name}: ${method === 'multiplicative' ? 'needs values above 0 and two seasons of fitting rows' : `needs at least ${seasonal ? 2 * (m ?? 1) : 3} fitting rows`}`,
+      );
       continue;
     }
     const fit = fits[0]!;
@@ -265,12 +218,18 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
     return made.map((f) => f!.forecasts);
   });
   if (theta !== null) {
-    add('Theta', `simple smoothing with half the trend line's slope as drift, α ${figure(thetaAlpha)}${thetaAdjustment === null ? '' : `, season taken out (${thetaAdjustment})`}`, theta);
+    add(
+      'Theta',
+      `simple smoothing with half the trend line's slope as drift, α ${figure(thetaAlpha)}${thetaAdjustment === null ? '' : `, season taken out (${thetaAdjustment})`}`,
+      theta,
+    );
   } else leftOut.push('Theta: needs at least 3 fitting rows');
   if (split.positions.every((t) => t + horizon - Math.max(...steps) >= LAGS - 1)) {
     // One least-squares fit per row ahead (direct forecasts).
     const weights = new Map(steps.map((h) => [h, fitLinear({ ...split, horizon: h })]));
-    add('linear', `least squares on the last ${LAGS} values of every input column${steps.length > 1 ? ', one fit per row ahead' : ''}`, (t, k, h) => linearForecast(carriedRows, weights.get(h)![k], t));
+    add('linear', `least squares on the last ${LAGS} values of every input column${steps.length > 1 ? ', one fit per row ahead' : ''}`, (t, k, h) =>
+      linearForecast(carriedRows, weights.get(h)![k], t),
+    );
   } else leftOut.push(`linear: a scored row has fewer than ${LAGS - 1} rows before it`);
   return { scores, season, scales, leftOut, forecasters };
 }

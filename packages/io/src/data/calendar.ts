@@ -13,12 +13,18 @@ export type CalendarPosition = 'month of year' | 'quarter of year' | 'week of ye
 export function calendarFor(spacing: Spacing | null): CalendarPosition[] {
   if (spacing === null) return [];
   switch (spacing.unit) {
-    case 'months': return ['month of year'];
-    case 'quarters': return ['quarter of year'];
-    case 'weeks': return ['week of year'];
-    case 'days': return ['day of week', 'day of year'];
-    case 'years': return [];
-    default: return ['time of day', 'day of week'];
+    case 'months':
+      return ['month of year'];
+    case 'quarters':
+      return ['quarter of year'];
+    case 'weeks':
+      return ['week of year'];
+    case 'days':
+      return ['day of week', 'day of year'];
+    case 'years':
+      return [];
+    default:
+      return ['time of day', 'day of week'];
   }
 }
 
@@ -64,13 +70,25 @@ function fraction(position: CalendarPosition): void {
   daysToNewYear(civil[0], civil);
   const startOfYear = civil[2] * DAY;
   switch (position) {
-    case 'month of year': civil[3] = civil[1] / 12; break;
-    case 'quarter of year': civil[3] = Math.floor(civil[1] / 3) / 4; break;
-    case 'week of year': civil[3] = ((time - startOfYear) / (7 * DAY)) / (YEAR / (7 * DAY)); break;
+    case 'month of year':
+      civil[3] = civil[1] / 12;
+      break;
+    case 'quarter of year':
+      civil[3] = Math.floor(civil[1] / 3) / 4;
+      break;
+    case 'week of year':
+      civil[3] = (time - startOfYear) / (7 * DAY) / (YEAR / (7 * DAY));
+      break;
     // 1970-01-01 was a Thursday: Monday is 0.
-    case 'day of week': civil[3] = ((((days + 3) % 7) + 7) % 7) / 7; break;
-    case 'day of year': civil[3] = (time - startOfYear) / YEAR; break;
-    case 'time of day': civil[3] = (((time % DAY) + DAY) % DAY) / DAY; break;
+    case 'day of week':
+      civil[3] = ((((days + 3) % 7) + 7) % 7) / 7;
+      break;
+    case 'day of year':
+      civil[3] = (time - startOfYear) / YEAR;
+      break;
+    case 'time of day':
+      civil[3] = (((time % DAY) + DAY) % DAY) / DAY;
+      break;
   }
 }
 
@@ -81,7 +99,13 @@ export function calendarInputs(positions: readonly CalendarPosition[], time: num
 }
 
 /** As calendarInputs, the time read from `times[index]` (so a hot loop passes no number that needs boxing). */
-export function calendarInputsAt(positions: readonly CalendarPosition[], times: ArrayLike<number>, index: number, into: { [index: number]: number }, offset: number): void {
+export function calendarInputsAt(
+  positions: readonly CalendarPosition[],
+  times: ArrayLike<number>,
+  index: number,
+  into: { [index: number]: number },
+  offset: number,
+): void {
   civil[4] = times[index];
   writeAngles(positions, into, offset);
 }

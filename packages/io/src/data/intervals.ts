@@ -17,7 +17,10 @@ import type { Forecaster, SeriesSplit } from './baselines.js';
 /** The conformal half-width at `level` from absolute errors (Infinity when there are too few for the level). */
 export function conformalHalfWidth(errors: readonly number[], level: number): number {
   if (!(level > 0 && level < 1)) fail('invalid_option', 'interval level', 'a share between 0 and 1 (0.95 for 95%)', String(level));
-  const sorted = errors.filter((e) => Number.isFinite(e)).map(Math.abs).sort((a, b) => a - b);
+  const sorted = errors
+    .filter((e) => Number.isFinite(e))
+    .map(Math.abs)
+    .sort((a, b) => a - b);
   const rank = Math.ceil((sorted.length + 1) * level);
   return rank > sorted.length ? Infinity : sorted[rank - 1];
 }
@@ -61,12 +64,23 @@ export class IntervalScoreSum {
 
   /** The scores so far. */
   result(): IntervalScores {
-    return { level: this.level, coverage: this.n === 0 ? NaN : this.inside / this.n, meanWidth: this.n === 0 ? NaN : this.width / this.n, msis: this.scaledCount === 0 ? null : this.scored / this.scaledCount, count: this.n };
+    return {
+      level: this.level,
+      coverage: this.n === 0 ? NaN : this.inside / this.n,
+      meanWidth: this.n === 0 ? NaN : this.width / this.n,
+      msis: this.scaledCount === 0 ? null : this.scored / this.scaledCount,
+      count: this.n,
+    };
   }
 }
 
 /** Scores prediction intervals on a split's observed target rows (every row ahead), each target scaled by its MASE scale. */
-export function scoreIntervals(split: SeriesSplit, forecast: Forecaster, intervals: { readonly level: number; readonly halfWidth: readonly number[] }, scales: readonly number[]): IntervalScores {
+export function scoreIntervals(
+  split: SeriesSplit,
+  forecast: Forecaster,
+  intervals: { readonly level: number; readonly halfWidth: readonly number[] },
+  scales: readonly number[],
+): IntervalScores {
   const sum = new IntervalScoreSum(intervals.level);
   const steps = rowsAheadOf(split);
   const targets = split.targets.length;
@@ -92,7 +106,13 @@ export function scoreIntervals(split: SeriesSplit, forecast: Forecaster, interva
  * so these errors are in-sample and the intervals, if anything, narrow), scored on the split's test rows. In the
  * order of `baselines.scores`.
  */
-export function baselineIntervals(split: SeriesSplit, baselines: { readonly forecasters: readonly Forecaster[]; readonly scales: readonly number[] }, level: number, from: number, halfWidths?: readonly (readonly number[])[]): IntervalScores[] {
+export function baselineIntervals(
+  split: SeriesSplit,
+  baselines: { readonly forecasters: readonly Forecaster[]; readonly scales: readonly number[] },
+  level: number,
+  from: number,
+  halfWidths?: readonly (readonly number[])[],
+): IntervalScores[] {
   const errors = halfWidths === undefined ? baselineErrors(split, baselines, from) : null;
   return baselines.forecasters.map((forecast, b) => {
     const halfWidth = halfWidths?.[b] ?? errors![b].map((e) => conformalHalfWidth(e, level));
@@ -107,9 +127,13 @@ export function baselineIntervals(split: SeriesSplit, baselines: { readonly fore
  */
 export function baselineErrors(split: SeriesSplit, baselines: { readonly forecasters: readonly Forecaster[] }, from: number): number[][][] {
   const steps = rowsAheadOf(split);
-  return baselines.forecasters.map((forecast) => steps.flatMap((h) => split.targets.map((j, k) => {
-    const errors: number[] = [];
-    for (let r = Math.max(from, h); r < split.fitRows; r++) errors.push(split.values[r][j] - forecast(r - h, k, h));
-    return errors;
-  })));
+  return baselines.forecasters.map((forecast) =>
+    steps.flatMap((h) =>
+      split.targets.map((j, k) => {
+        const errors: number[] = [];
+        for (let r = Math.max(from, h); r < split.fitRows; r++) errors.push(split.values[r][j] - forecast(r - h, k, h));
+        return errors;
+      }),
+    ),
+  );
 }

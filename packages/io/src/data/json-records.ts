@@ -48,7 +48,8 @@ export function parseJsonRecords(text: string, file = '<text>'): Table {
       const c = text[i];
       if (c === '\\') i++;
       else if (c === '"') break;
-      else if (c === '\n' || text.charCodeAt(i) < 0x20) throw problem(i, 'a closing quote before the end of the line (a control character in a string is written escaped)', shown(start));
+      else if (c === '\n' || text.charCodeAt(i) < 0x20)
+        throw problem(i, 'a closing quote before the end of the line (a control character in a string is written escaped)', shown(start));
     }
     if (i >= text.length) throw problem(start, 'a string closed by a quote', 'the end of the text');
     i++;
@@ -63,7 +64,8 @@ export function parseJsonRecords(text: string, file = '<text>'): Table {
     space();
     const c = text[i];
     if (c === '"') return string();
-    if (c === '{' || c === '[') throw problem(i, `a string, number, true, false or null for ${JSON.stringify(key)} (a record's values are flat)`, c === '{' ? 'an object' : 'an array');
+    if (c === '{' || c === '[')
+      throw problem(i, `a string, number, true, false or null for ${JSON.stringify(key)} (a record's values are flat)`, c === '{' ? 'an object' : 'an array');
     const m = /^(?:-?(?:0|[1-9]\d*)(?:\.\d+)?(?:[eE][+-]?\d+)?|true|false|null)/.exec(text.slice(i, i + 400));
     if (m === null) throw problem(i, `a JSON value for ${JSON.stringify(key)}`, shown(i));
     i += m[0].length;

@@ -62,7 +62,14 @@ function standardise(rows: readonly (readonly number[])[], features: number) {
 }
 
 /** The penalised loss and (into `gradient`) its gradient at `w`, over standardised rows `x` (n × (features + 1)). */
-export function logisticLoss(w: Float64Array, x: Float64Array, labels: ArrayLike<number>, classes: number, penalty: number, gradient: Float64Array | null): number {
+export function logisticLoss(
+  w: Float64Array,
+  x: Float64Array,
+  labels: ArrayLike<number>,
+  classes: number,
+  penalty: number,
+  gradient: Float64Array | null,
+): number {
   const p = w.length / classes;
   const n = labels.length;
   const scores = new Float64Array(classes);
@@ -146,7 +153,13 @@ export function predictLogistic(model: LogisticModel, row: readonly number[]): n
 export const LOGISTIC_PENALTIES = [1e-4, 1e-3, 1e-2, 1e-1, 1] as const;
 
 /** Fits one regression per penalty and keeps the one most accurate on the validation rows (the smaller λ on ties). */
-export function chooseLogistic(train: readonly (readonly number[])[], trainLabels: ArrayLike<number>, validation: readonly (readonly number[])[], validationLabels: ArrayLike<number>, classes: number): LogisticModel {
+export function chooseLogistic(
+  train: readonly (readonly number[])[],
+  trainLabels: ArrayLike<number>,
+  validation: readonly (readonly number[])[],
+  validationLabels: ArrayLike<number>,
+  classes: number,
+): LogisticModel {
   let best: LogisticModel | null = null;
   let bestAccuracy = -1;
   for (const penalty of LOGISTIC_PENALTIES) {

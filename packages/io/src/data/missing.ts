@@ -60,7 +60,15 @@ export interface MissingRecord {
  * (0 or absent for none). They come in an array, not as arguments, so that a hot loop passes no number that would be
  * boxed: it allocates nothing.
  */
-export function fillColumn(values: Float64Array | Float32Array, offset: number, stride: number, count: number, edges: ArrayLike<number>, edge: number, rule: Exclude<MissingRule, 'refuse'>): void {
+export function fillColumn(
+  values: Float64Array | Float32Array,
+  offset: number,
+  stride: number,
+  count: number,
+  edges: ArrayLike<number>,
+  edge: number,
+  rule: Exclude<MissingRule, 'refuse'>,
+): void {
   let left = edges[edge];
   let leftAt = edges[edge + 1];
   const fallback = edges[edge + 2];
@@ -138,7 +146,11 @@ export function interpolated(column: ArrayLike<number>): Float64Array {
   const out = Float64Array.from(column as ArrayLike<number>);
   let mean = 0;
   let n = 0;
-  for (let i = 0; i < out.length; i++) if (!Number.isNaN(out[i])) (mean += out[i], n++);
+  for (let i = 0; i < out.length; i++) {
+    if (Number.isNaN(out[i])) continue;
+    mean += out[i];
+    n++;
+  }
   fillColumn(out, 0, 1, out.length, [NaN, -1, n === 0 ? 0 : mean / n], 0, 'interpolate');
   return out;
 }

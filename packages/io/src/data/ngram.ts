@@ -50,7 +50,10 @@ export class KneserNeyModel {
         grams.set(k, (grams.get(k) ?? 0) + 1);
         if (n < order && i > 0) {
           let set = preceding.get(k);
-          if (set === undefined) preceding.set(k, (set = new Set()));
+          if (set === undefined) {
+            set = new Set();
+            preceding.set(k, set);
+          }
           set.add(tokens[i - 1]);
         }
       }

@@ -16,7 +16,12 @@ import type { Contender, HeldOutReport, SeriesFigures } from './verdict.js';
  */
 export function pooledHalfWidths(errors: readonly (readonly (readonly number[])[])[], scales: readonly (readonly number[])[], level: number): number[][] {
   const targets = scales[0].length;
-  const quantiles = errors[0].map((_, c) => conformalHalfWidth(errors.flatMap((e, i) => e[c].map((v) => v / usable(scales[i][c % targets]))), level));
+  const quantiles = errors[0].map((_, c) =>
+    conformalHalfWidth(
+      errors.flatMap((e, i) => e[c].map((v) => v / usable(scales[i][c % targets]))),
+      level,
+    ),
+  );
   return errors.map((_, i) => quantiles.map((q, c) => q * usable(scales[i][c % targets])));
 }
 
@@ -24,11 +29,19 @@ export function pooledHalfWidths(errors: readonly (readonly (readonly number[])[
  * Per series, per baseline in its own order, the half-widths pooled across the series that have that baseline
  * (`errors[i]`: series i's baselines, each with its errors per row ahead and target; `scales[i]`: its scale per target).
  */
-export function pooledBaselineWidths(errors: readonly (readonly { readonly name: string; readonly errors: readonly (readonly number[])[] }[])[], scales: readonly (readonly number[])[], level: number): number[][][] {
+export function pooledBaselineWidths(
+  errors: readonly (readonly { readonly name: string; readonly errors: readonly (readonly number[])[] }[])[],
+  scales: readonly (readonly number[])[],
+  level: number,
+): number[][][] {
   const byName = new Map<string, number[][]>();
   for (const name of new Set(errors.flatMap((e) => e.map((b) => b.name)))) {
     const having = errors.flatMap((e, i) => (e.some((b) => b.name === name) ? [i] : []));
-    const widths = pooledHalfWidths(having.map((i) => errors[i].find((b) => b.name === name)!.errors), having.map((i) => scales[i]), level);
+    const widths = pooledHalfWidths(
+      having.map((i) => errors[i].find((b) => b.name === name)!.errors),
+      having.map((i) => scales[i]),
+      level,
+    );
     having.forEach((i, n) => byName.set(`${i}:${name}`, [widths[n]]));
   }
   return errors.map((e, i) => e.map((b) => byName.get(`${i}:${b.name}`)![0]));
@@ -50,7 +63,14 @@ export function panelReport(ids: readonly string[], reports: readonly HeldOutRep
   const meanErrors = (pick: (r: HeldOutReport) => Contender | undefined): ForecastErrors => {
     const all = reports.map((r) => pick(r)?.overall);
     const smapes = all.map((e) => e?.smape).filter((v): v is number => typeof v === 'number');
-    return { mae: NaN, rmse: NaN, mape: null, smape: smapes.length === all.length ? mean(smapes) : null, mase: mean(all.map((e) => e?.mase ?? NaN)), count: all.reduce((n, e) => n + (e?.count ?? 0), 0) };
+    return {
+      mae: NaN,
+      rmse: NaN,
+      mape: null,
+      smape: smapes.length === all.length ? mean(smapes) : null,
+      mase: mean(all.map((e) => e?.mase ?? NaN)),
+      count: all.reduce((n, e) => n + (e?.count ?? 0), 0),
+    };
   };
   const pooled = (pick: (r: HeldOutReport) => IntervalScores | undefined): IntervalScores | undefined => {
     const scores = reports.map(pick);
@@ -58,7 +78,13 @@ export function panelReport(ids: readonly string[], reports: readonly HeldOutRep
     const all = scores as IntervalScores[];
     const count = all.reduce((n, s) => n + s.count, 0);
     const weighted = (f: (s: IntervalScores) => number) => all.reduce((sum, s) => sum + f(s) * s.count, 0) / count;
-    return { level: all[0].level, coverage: weighted((s) => s.coverage), meanWidth: NaN, msis: all.every((s) => s.msis !== null) ? weighted((s) => s.msis as number) : null, count };
+    return {
+      level: all[0].level,
+      coverage: weighted((s) => s.coverage),
+      meanWidth: NaN,
+      msis: all.every((s) => s.msis !== null) ? weighted((s) => s.msis as number) : null,
+      count,
+    };
   };
   const contender = (name: string, description: string, pick: (r: HeldOutReport) => Contender | undefined): Contender => {
     const overall = meanErrors(pick);

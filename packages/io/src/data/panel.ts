@@ -28,17 +28,10 @@ import { columnNamed, decimal, fieldPath } from './table.js';
 import type { Table } from './table.js';
 import { readTimeColumn } from './time-column.js';
 import type { TimeColumn } from './time-column.js';
-import type { PanelPart, PreparedSeries, SeriesPreparation, SeriesWindows, WindowExample } from './series-types.js';
+import type { PreparedSeries, SeriesPreparation, SeriesWindows, WindowExample } from './series-types.js';
+import type { PrepareOne, SeriesIdColumn } from './series-types.js';
 
-/** The column that names each series of a long table. */
-export interface SeriesIdColumn {
-  /** Its index in the header. */
-  readonly index: number;
-  /** Its name. */
-  readonly name: string;
-  /** True when found from the table (not named by the caller). */
-  readonly found: boolean;
-}
+export type { PrepareOne, SeriesIdColumn } from './series-types.js';
 
 /**
  * The id column of a long table: the one named (`idColumn`), none (`null`), or, when not said, found: with a time
@@ -57,13 +50,16 @@ export function seriesIdColumn(table: Table, time: TimeColumn | null, options: P
     const cells = table.rows.map((row) => row.fields[c].trim());
     if (cells.every((v) => !Number.isNaN(decimal(v)))) return false;
     const seen = new Map<string, Set<number>>();
-    return new Set(cells).size > 1 && cells.every((v, r) => {
-      const times = seen.get(v) ?? new Set<number>();
-      seen.set(v, times);
-      if (times.has(time.times[r])) return false;
-      times.add(time.times[r]);
-      return true;
-    });
+    return (
+      new Set(cells).size > 1 &&
+      cells.every((v, r) => {
+        const times = seen.get(v) ?? new Set<number>();
+        seen.set(v, times);
+        if (times.has(time.times[r])) return false;
+        times.add(time.times[r]);
+        return true;
+      })
+    );
   });
   return index < 0 ? null : { index, name: table.header[index], found: true };
 }
@@ -82,7 +78,12 @@ export function seriesRows(table: Table, id: Pick<SeriesIdColumn, 'index' | 'nam
     if (time !== null && rows.length > 0) {
       const last = rows[rows.length - 1];
       if (!(time.times[r] > time.times[last])) {
-        fail('bad_data', fieldPath(table, r, time.index), `a time after line ${table.rows[last].line}'s ${JSON.stringify(table.rows[last].fields[time.index].trim())} for series ${JSON.stringify(name)} (each series' rows in time order; series may take turns)`, JSON.stringify(row.fields[time.index].trim().slice(0, 40)));
+        fail(
+          'bad_data',
+          fieldPath(table, r, time.index),
+          `a time after line ${table.rows[last].line}'s ${JSON.stringify(table.rows[last].fields[time.index].trim())} for series ${JSON.stringify(name)} (each series' rows in time order; series may take turns)`,
+          JSON.stringify(row.fields[time.index].trim().slice(0, 40)),
+        );
       }
     }
     rows.push(r);
@@ -91,24 +92,33 @@ export function seriesRows(table: Table, id: Pick<SeriesIdColumn, 'index' | 'nam
   return groups;
 }
 
-/** Prepares one series' table (prepare-series.ts' prepareTable, passed in so the modules do not import each other). */
-export type PrepareOne = (table: Table, time: TimeColumn | null, options: SeriesPreparation, part: PanelPart) => PreparedSeries;
-
 /** Many series of a long table prepared as one model's data (see the file's comment). */
 export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesIdColumn, options: SeriesPreparation, prepareOne: PrepareOne): PreparedSeries {
   const file = table.file;
-  if (options.examples === 'streams') fail('invalid_option', '--examples', `sliding (a table of many series, by ${JSON.stringify(id.name)}, trains on every series' sliding windows)`, 'streams');
+  if (options.examples === 'streams')
+    fail('invalid_option', '--examples', `sliding (a table of many series, by ${JSON.stringify(id.name)}, trains on every series' sliding windows)`, 'streams');
   const short = options.shortSeries ?? 'skip';
   if (short !== 'skip' && short !== 'refuse') fail('invalid_option', '--short-series', 'skip or refuse', String(short));
   const groups = seriesRows(table, id, time);
-  if (groups.size < 2) fail('bad_data', fieldPath(table, 0, id.index), `at least two series named in column ${JSON.stringify(id.name)} (one series: leave out --id-column)`, `only ${JSON.stringify([...groups.keys()][0])}`);
+  if (groups.size < 2)
+    fail(
+      'bad_data',
+      fieldPath(table, 0, id.index),
+      `at least two series named in column ${JSON.stringify(id.name)} (one series: leave out --id-column)`,
+      `only ${JSON.stringify([...groups.keys()][0])}`,
+    );
   const horizon = options.horizon;
   const subTable = (rows: readonly number[]): Table => ({ file, delimiter: table.delimiter, header: table.header, rows: rows.map((r) => table.rows[r]) });
   const probes = [...groups].map(([name, rows]) => {
     const sub = subTable(rows);
     const subTime = time === null ? null : readTimeColumn(sub, time.name);
     const putBack = subTime === null ? null : insertSkippedTimes(sub, subTime, options.missing === 'refuse');
-    const read = readSeries(putBack?.table ?? sub, { columns: options.columns, targets: options.targets, leaveOut: [id.name, ...(time === null ? [] : [time.name])], markers: options.missingMarkers });
+    const read = readSeries(putBack?.table ?? sub, {
+      columns: options.columns,
+      targets: options.targets,
+      leaveOut: [id.name, ...(time === null ? [] : [time.name])],
+      markers: options.missingMarkers,
+    });
     return { name, rows, sub, subTime, read, count: (putBack?.table ?? sub).rows.length };
   });
   // One season for all: the one most series choose (the smaller on a tie), unless given.
@@ -146,17 +156,35 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
   const needWords = `${!given.has('window') && least > window + horizon + 1 ? (season === null ? '24 rows to train on' : `two seasons of ${season} rows to train on`) : `a ${window}-row window`}, ${horizon} row${horizon === 1 ? '' : 's'} ahead and the validation and test parts`;
   if (dropped.length > 0 && short === 'refuse') {
     const p = dropped[0];
-    fail('bad_data', fieldPath(table, p.rows[0], id.index), `at least ${need} rows for series ${JSON.stringify(p.name)} (${needWords}; --short-series skip leaves such series out)`, `${p.count} rows`);
+    fail(
+      'bad_data',
+      fieldPath(table, p.rows[0], id.index),
+      `at least ${need} rows for series ${JSON.stringify(p.name)} (${needWords}; --short-series skip leaves such series out)`,
+      `${p.count} rows`,
+    );
   }
-  if (kept.length === 0) fail('bad_data', fieldPath(table, 0, id.index), `a series with at least ${need} rows (${needWords})`, `${probes.length} series of at most ${Math.max(...probes.map((p) => p.count))} rows`);
+  if (kept.length === 0)
+    fail(
+      'bad_data',
+      fieldPath(table, 0, id.index),
+      `a series with at least ${need} rows (${needWords})`,
+      `${probes.length} series of at most ${Math.max(...probes.map((p) => p.count))} rows`,
+    );
   // Every series flags the columns any series has holes in, so all read the same inputs.
   const flagged = [...new Set(kept.flatMap((p) => p.read.columns.filter((_, j) => p.read.missing[j] > 0)))];
   const settings: SeriesPreparation = { ...options, season, window, examples: 'sliding', given: new Set([...given, 'window']) };
-  const parts = kept.map((p, i) => prepareOne(p.sub, p.subTime, settings, { leaveOut: [id.name], flagged, ...(options.idInputs === true ? { code: { index: i, count: kept.length } } : {}) }));
+  const parts = kept.map((p, i) =>
+    prepareOne(p.sub, p.subTime, settings, { leaveOut: [id.name], flagged, ...(options.idInputs === true ? { code: { index: i, count: kept.length } } : {}) }),
+  );
   const first = parts[0];
   parts.forEach((part, i) => {
     if (part.inputWidth !== first.inputWidth) {
-      fail('bad_data', fieldPath(table, kept[i].rows[0], id.index), `series ${JSON.stringify(kept[i].name)} read with the ${first.inputWidth} inputs of series ${JSON.stringify(kept[0].name)} (the same columns, calendar and spacing)`, `${part.inputWidth} inputs`);
+      fail(
+        'bad_data',
+        fieldPath(table, kept[i].rows[0], id.index),
+        `series ${JSON.stringify(kept[i].name)} read with the ${first.inputWidth} inputs of series ${JSON.stringify(kept[0].name)} (the same columns, calendar and spacing)`,
+        `${part.inputWidth} inputs`,
+      );
     }
   });
   const windows = parts.map((p) => p.examples as SeriesWindows);
@@ -180,12 +208,21 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
   const meta = first.metadata as Record<string, unknown>;
   const perSeries = ['normalisation', 'window', 'missing', 'split', 'season'];
   const shared = Object.fromEntries(Object.entries(meta).filter(([key]) => !perSeries.includes(key)));
-  const seasonWords = options.season !== undefined ? `season: ${season === null ? 'none (as asked)' : `${season} rows (as asked)`}`
-    : `season: ${season === null ? 'none' : `${season} rows`}, the choice of ${seasonCounts.get(season) ?? 0} of ${probes.length} series (each chosen as for one series; one season for all, so every series reads the same window)`;
+  const seasonWords =
+    options.season !== undefined
+      ? `season: ${season === null ? 'none (as asked)' : `${season} rows (as asked)`}`
+      : `season: ${season === null ? 'none' : `${season} rows`}, the choice of ${seasonCounts.get(season) ?? 0} of ${probes.length} series (each chosen as for one series; one season for all, so every series reads the same window)`;
   const testRows = kept.map((p) => p.count - seriesParts(p.count, options).testStart);
   const notes = [
     `many series: ${ids.length} series named in column ${JSON.stringify(id.name)}${id.found ? ' (found: its names share times; --id-column to choose another, none for one series)' : ''}, one model across them, each read on its own scale${options.idInputs === true ? ', with a 0/1 input per series' : ''}`,
-    ...(dropped.length === 0 ? [] : [`left out ${dropped.length} series shorter than the ${need} rows needed (${needWords}): ${dropped.slice(0, 5).map((p) => `${JSON.stringify(p.name)} (${p.count} rows from line ${table.rows[p.rows[0]].line})`).join(', ')}${dropped.length > 5 ? `, and ${dropped.length - 5} more` : ''} (--short-series refuse to stop instead)`]),
+    ...(dropped.length === 0
+      ? []
+      : [
+          `left out ${dropped.length} series shorter than the ${need} rows needed (${needWords}): ${dropped
+            .slice(0, 5)
+            .map((p) => `${JSON.stringify(p.name)} (${p.count} rows from line ${table.rows[p.rows[0]].line})`)
+            .join(', ')}${dropped.length > 5 ? `, and ${dropped.length - 5} more` : ''} (--short-series refuse to stop instead)`,
+        ]),
     ...[...new Set(parts.flatMap((p) => p.notes.filter((n) => !n.startsWith('note: column'))))],
   ];
   const sizes = [...new Set(testRows)];
@@ -206,7 +243,14 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
       panel: {
         idColumn: id.name,
         idInputs: options.idInputs === true,
-        series: kept.map((p, i) => ({ id: p.name, ...Object.fromEntries(perSeries.flatMap((key) => (parts[i].metadata as Record<string, unknown>)[key] === undefined ? [] : [[key, (parts[i].metadata as Record<string, unknown>)[key]]])) })),
+        series: kept.map((p, i) => ({
+          id: p.name,
+          ...Object.fromEntries(
+            perSeries.flatMap((key) =>
+              (parts[i].metadata as Record<string, unknown>)[key] === undefined ? [] : [[key, (parts[i].metadata as Record<string, unknown>)[key]]],
+            ),
+          ),
+        })),
       },
     },
     notes,
@@ -214,7 +258,7 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
       ...(given.has('epochs') ? {} : { epochs }),
       ...(given.has('patience') ? {} : { patience: 5 }),
       ...(given.has('hidden') ? {} : { hidden: 32 }),
-      said: `sliding windows of ${ids.length} series${options.hybrid === true ? ' on top of each one\'s best exponential smoothing method' : ''}: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${season === null ? 'no season' : `two seasons of ${season} rows`}, at most a quarter of the shortest series' training rows)`}${horizon > 1 ? `, forecasting rows 1 to ${horizon} ahead at once` : ''}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override)`,
+      said: `sliding windows of ${ids.length} series${options.hybrid === true ? " on top of each one's best exponential smoothing method" : ''}: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${season === null ? 'no season' : `two seasons of ${season} rows`}, at most a quarter of the shortest series' training rows)`}${horizon > 1 ? `, forecasting rows 1 to ${horizon} ahead at once` : ''}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'} (chosen from the data; flags override)`,
     },
     validationFigure: (outputs, width) => {
       const figures = slices(validationCounts, outputs, width).map((slice, i) => parts[i].validationFigure(slice, width));
@@ -222,13 +266,33 @@ export function preparePanel(table: Table, time: TimeColumn | null, id: SeriesId
     },
     heldOut: (outputs, width, intervals) => {
       // The baselines' intervals are pooled across series as the model's are (each baseline method on its own).
-      const baselineWidths = intervals === undefined ? null : pooledBaselineWidths(parts.map((p) => p.baselineErrors!()), parts.map((p) => p.scales!), intervals.level);
-      const reports = slices(testCounts, outputs, width).map((slice, i) => parts[i].heldOut(slice, width, intervals === undefined ? undefined : { level: intervals.level, halfWidth: intervals.halfWidth.slice(i * block, (i + 1) * block), baselines: baselineWidths![i] }));
+      const baselineWidths =
+        intervals === undefined
+          ? null
+          : pooledBaselineWidths(
+              parts.map((p) => p.baselineErrors!()),
+              parts.map((p) => p.scales!),
+              intervals.level,
+            );
+      const reports = slices(testCounts, outputs, width).map((slice, i) =>
+        parts[i].heldOut(
+          slice,
+          width,
+          intervals === undefined
+            ? undefined
+            : { level: intervals.level, halfWidth: intervals.halfWidth.slice(i * block, (i + 1) * block), baselines: baselineWidths![i] },
+        ),
+      );
       return panelReport(ids, reports, what, [
         `parts of each series, in time order: training, validation (for stopping and keeping weights), test (scored once at the end), by the --validation and --test shares of its rows`,
         seasonWords,
       ]);
     },
-    intervals: (outputs, width, level) => pooledHalfWidths(slices(validationCounts, outputs, width).map((slice, i) => parts[i].validationErrors!(slice, width)), parts.map((p) => p.scales!), level).flat(),
+    intervals: (outputs, width, level) =>
+      pooledHalfWidths(
+        slices(validationCounts, outputs, width).map((slice, i) => parts[i].validationErrors!(slice, width)),
+        parts.map((p) => p.scales!),
+        level,
+      ).flat(),
   };
 }

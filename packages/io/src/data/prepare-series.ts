@@ -11,42 +11,44 @@
  * says per column how many were missing and what was done.
  */
 import { fail } from '@weft/core';
-import { medianOfMembers } from '@weft/cells';
-import { forecastBaselines, scoreForecaster } from './baselines.js';
-import { baselineIntervals, conformalHalfWidth, scoreIntervals } from './intervals.js';
+import { forecastBaselines } from './baselines.js';
 import { readSeries } from './series.js';
 import { checkGaps, linesOf, seriesParts, tableNotes } from './series-checks.js';
-import { columnStatistics, fieldPath } from './table.js';
 import type { Table } from './table.js';
 import { readTable } from './json-records.js';
 import { calendarCopies, readTimeColumn } from './time-column.js';
 import type { TimeColumn } from './time-column.js';
 import { preparePanel, seriesIdColumn } from './panel.js';
 import { insertSkippedTimes } from './skipped-times.js';
-import type { MissingRecord } from './missing.js';
-import { forecastReport, forecastWords, withIntervals } from './verdict.js';
+import { forecastWords } from './verdict.js';
 import type { PanelPart, PreparedSeries, SeriesPreparation } from './series-types.js';
-export type { ChosenSettings, ForecastIntervals, PanelPart, PreparedSeries, SeriesPreparation, SeriesStreams, SeriesWindows, WindowExample } from './series-types.js';
+export type {
+  ChosenSettings,
+  ForecastIntervals,
+  PanelPart,
+  PreparedSeries,
+  SeriesPreparation,
+  SeriesStreams,
+  SeriesWindows,
+  WindowExample,
+} from './series-types.js';
 import { slidingWindows } from './series-windows.js';
-import type { SeriesContext } from './series-windows.js';
+import { streamsOf } from './series-streams.js';
 
 /** At most this many training rows train on sliding windows by default; longer series on streams. */
 export const SLIDING_ROWS = 10_000;
 
 /** A target transform and its inverse, from the level now (y) and the level ahead (ahead) or the change (change). */
-const TRANSFORMS = {
-  differences: { forward: (ahead: number, y: number) => ahead - y, inverse: (change: number, y: number) => y + change },
-  'log-returns': { forward: (ahead: number, y: number) => Math.log(ahead / y), inverse: (change: number, y: number) => y * Math.exp(change) },
-} as const;
-
 /**
  * Prepares a CSV/TSV text or JSON records of series (`file` names it in messages) for training and judging: one
  * series, or, with an id column (given, or found: panel.ts), many series and one model across them.
  */
 export function prepareSeries(text: string, file: string, options: SeriesPreparation): PreparedSeries {
   const rule = options.missing ?? 'interpolate';
-  if (!['interpolate', 'carry', 'segments', 'refuse'].includes(rule)) fail('invalid_option', '--missing', 'interpolate, carry, segments or refuse', String(rule));
-  if (options.gapLimit !== undefined && !(Number.isInteger(options.gapLimit) && options.gapLimit >= 1)) fail('invalid_option', '--gap-limit', 'a whole number of rows ≥ 1', String(options.gapLimit));
+  if (!['interpolate', 'carry', 'segments', 'refuse'].includes(rule))
+    fail('invalid_option', '--missing', 'interpolate, carry, segments or refuse', String(rule));
+  if (options.gapLimit !== undefined && !(Number.isInteger(options.gapLimit) && options.gapLimit >= 1))
+    fail('invalid_option', '--gap-limit', 'a whole number of rows ≥ 1', String(options.gapLimit));
   const given = readTable(text, file);
   const time = readTimeColumn(given, options.timeColumn, 'for --time-column');
   const id = seriesIdColumn(given, time, options);
@@ -68,7 +70,14 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
   // Columns that repeat the time column's calendar (a year, a month number) are not readings: left out, said.
   const copies = time === null || options.columns !== undefined ? [] : calendarCopies(table, time);
   const leaveOut = [...(time === null ? [] : [time.name]), ...copies, ...(part?.leaveOut ?? [])];
-  const series = readSeries(table, { columns: options.columns, targets: options.targets, leaveOut, markers: options.missingMarkers, refuseMissing: rule === 'refuse', choices: { columns: 'with --columns', targets: 'for --target' } });
+  const series = readSeries(table, {
+    columns: options.columns,
+    targets: options.targets,
+    leaveOut,
+    markers: options.missingMarkers,
+    refuseMissing: rule === 'refuse',
+    choices: { columns: 'with --columns', targets: 'for --target' },
+  });
   const columns = series.columns.map((name) => table.header.indexOf(name));
   const targets = series.targets.map((name) => table.header.indexOf(name));
   const leftOut = series.leftOut.filter((text) => time === null || !text.startsWith(`${time.name} (`));
@@ -78,7 +87,12 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
   const { trainEnd, testStart } = seriesParts(rows, options);
   if (options.season !== undefined && options.season !== null && !(options.season < testStart)) {
     // The fitting rows end at this line: a season must fit in them.
-    fail('invalid_option', `${file}:${table.rows[testStart - 1].line}:1 (--season)`, `a season shorter than the ${testStart} training and validation rows (of ${rows}), which end at this line`, String(options.season));
+    fail(
+      'invalid_option',
+      `${file}:${table.rows[testStart - 1].line}:1 (--season)`,
+      `a season shorter than the ${testStart} training and validation rows (of ${rows}), which end at this line`,
+      String(options.season),
+    );
   }
   const targetIndexes = targets.map((t) => columns.indexOf(t));
   const positions: number[] = [];
@@ -94,11 +108,17 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
   const holes = series.missing.some((n) => n > 0);
   const notes = [
     ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
-    ...(copies.length === 0 ? [] : [`left out ${copies.map((c) => JSON.stringify(c)).join(' and ')}: ${copies.length === 1 ? 'it repeats' : 'they repeat'} the time column's calendar (--columns to read ${copies.length === 1 ? 'it' : 'them'})`]),
+    ...(copies.length === 0
+      ? []
+      : [
+          `left out ${copies.map((c) => JSON.stringify(c)).join(' and ')}: ${copies.length === 1 ? 'it repeats' : 'they repeat'} the time column's calendar (--columns to read ${copies.length === 1 ? 'it' : 'them'})`,
+        ]),
     ...(putBack?.note === null || putBack === null ? [] : [putBack.note]),
     ...series.notes,
     ...(holes ? [missingNote(series.columns, series.missing, rows, examples === 'sliding' ? rule : 'streams', options.gapLimit, series.targets)] : []),
-    ...(time === null ? [] : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
+    ...(time === null
+      ? []
+      : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
     ...tableNotes(table, time, series.columns),
   ];
   const metadata = {
@@ -110,133 +130,78 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
     split: { kind: 'series', rows, trainingRows: trainEnd, validationRows: testStart - trainEnd, testRows: rows - testStart },
     ...(baselines.season.season === null ? {} : { season: baselines.season.season }),
   };
-  const context = [partsLine, `${baselines.season.reason}${options.season === undefined ? ' (--season to choose another, or none)' : ''}`, ...baselines.leftOut.map((l) => `left out: ${l}`)];
+  const context = [
+    partsLine,
+    `${baselines.season.reason}${options.season === undefined ? ' (--season to choose another, or none)' : ''}`,
+    ...baselines.leftOut.map((l) => `left out: ${l}`),
+  ];
   // Sliding windows forecast every row up to the horizon at once; streams the row `horizon` ahead.
   const rowsAhead = examples === 'sliding' ? Array.from({ length: horizon }, (_, i) => i + 1) : [horizon];
   let observed = 0;
   for (const t of positions) for (const j of targetIndexes) if (!Number.isNaN(values[t + horizon][j])) observed++;
   const what = `${forecastWords(positions.length, targetNames, rowsAhead, observed)}, for the test ${linesOf(table, testStart, rows)} of ${file}, used for neither training nor stopping`;
-  const common = { table, file, values, columns, targetIndexes, trainEnd, testStart, horizon, options, split, baselines, notes, metadata, context, what, time, missing: series.missing, ...(part === undefined ? {} : { panel: part }) };
+  const common = {
+    table,
+    file,
+    values,
+    columns,
+    targetIndexes,
+    trainEnd,
+    testStart,
+    horizon,
+    options,
+    split,
+    baselines,
+    notes,
+    metadata,
+    context,
+    what,
+    time,
+    missing: series.missing,
+    ...(part === undefined ? {} : { panel: part }),
+  };
   if (examples === 'sliding') return slidingWindows({ ...common, season: baselines.season.season });
-  if (holes && (options.transform ?? 'none') !== 'none') fail('invalid_option', '--transform', `none for a series with missing readings (a change from or to a missing reading is unknown); or fill the gaps first`, `${options.transform} with ${series.missing.reduce((a, b) => a + b, 0)} missing readings`);
-  if (options.hybrid === true) fail('invalid_option', '--hybrid', `sliding windows (--examples sliding; the default up to ${SLIDING_ROWS.toLocaleString('en')} training rows, and not with --transform or --lookback)`, 'streams');
+  if (holes && (options.transform ?? 'none') !== 'none')
+    fail(
+      'invalid_option',
+      '--transform',
+      `none for a series with missing readings (a change from or to a missing reading is unknown); or fill the gaps first`,
+      `${options.transform} with ${series.missing.reduce((a, b) => a + b, 0)} missing readings`,
+    );
+  if (options.hybrid === true)
+    fail(
+      'invalid_option',
+      '--hybrid',
+      `sliding windows (--examples sliding; the default up to ${SLIDING_ROWS.toLocaleString('en')} training rows, and not with --transform or --lookback)`,
+      'streams',
+    );
   if (trainEnd < options.streams * options.window + horizon) {
-    fail('invalid_option', file, `at least ${options.streams * options.window + horizon} training rows for ${options.streams} streams of ${options.window}-row windows ${horizon} row${horizon === 1 ? '' : 's'} ahead; lower --streams or --window, or the --validation and --test shares`, `${rows} rows, which leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test)`);
+    fail(
+      'invalid_option',
+      file,
+      `at least ${options.streams * options.window + horizon} training rows for ${options.streams} streams of ${options.window}-row windows ${horizon} row${horizon === 1 ? '' : 's'} ahead; lower --streams or --window, or the --validation and --test shares`,
+      `${rows} rows, which leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test)`,
+    );
   }
   return streamsOf(common);
 }
 
-type Common = SeriesContext;
-
-/** Long streams: every column normalised by its training rows' mean and deviation; a transform's changes as targets. */
-function streamsOf(input: Omit<Common, 'season'>): PreparedSeries {
-  const { table, values, columns, targetIndexes, trainEnd, testStart, horizon, options, split, baselines } = input;
-  const rows = values.length;
-  const { mean, deviation } = columnStatistics(values.slice(0, trainEnd), columns.length);
-  // Missing inputs carry the last value (the training mean before the first), each column with holes adding a 0/1
-  // "was missing" input, as the runtime does row by row.
-  const flagged = input.missing.flatMap((n, j) => (n > 0 ? [j] : []));
-  const features = columns.length + flagged.length;
-  const carried = [...mean];
-  const normalised = values.flatMap((row) => [
-    ...row.map((v, j) => {
-      if (!Number.isNaN(v)) carried[j] = v;
-      return (carried[j] - mean[j]) / deviation[j];
-    }),
-    ...flagged.map((j) => (Number.isNaN(row[j]) ? 1 : 0)),
-  ]);
-  // A missing target weighs 0: the targets are given with a weight each (0 stands in for the missing value).
-  const targetHoles = targetIndexes.some((j) => input.missing[j] > 0);
-  // With a transform, the model learns the change over `horizon` rows (row s holds the change from s − h to s).
-  const transform = options.transform ?? 'none';
-  let change: { mean: number[]; deviation: number[]; rows: number[][] } | null = null;
-  if (transform !== 'none') {
-    if (transform === 'log-returns') {
-      values.forEach((row, r) => targetIndexes.forEach((j) => {
-        if (!(row[j] > 0)) fail('bad_data', fieldPath(table, r, columns[j]), `a number > 0 in column ${JSON.stringify(table.header[columns[j]])} (log returns need positive values)`, String(row[j]));
-      }));
-    }
-    const f = TRANSFORMS[transform].forward;
-    const raw = values.map((row, s) => targetIndexes.map((j) => (s < horizon ? 0 : f(row[j], values[s - horizon][j]))));
-    const statistics = columnStatistics(raw.slice(horizon, trainEnd), targetIndexes.length);
-    change = { ...statistics, rows: raw.map((row) => row.map((v, k) => (v - statistics.mean[k]) / statistics.deviation[k])) };
-  }
-  const targetCount = targetIndexes.length;
-  const combined = new Float64Array(targetCount);
-  /** The model's forecast, in real units, made at each row of a reading from the first row (forecasts[k][t]). */
-  const forecastsOf = (outputs: ArrayLike<number>, width: number, end: number): Float64Array[] => {
-    const forecasts = targetIndexes.map(() => new Float64Array(end));
-    // Members stacked into one model give one block of targets each: their median is the forecast.
-    const members = width / targetCount;
-    const scratch = new Float64Array(members);
-    for (let i = 0, t = 0; i + width <= outputs.length; i += width, t++) {
-      medianOfMembers(outputs, i, members, targetCount, combined, scratch);
-      targetIndexes.forEach((j, k) => {
-        forecasts[k][t] = change === null
-          ? combined[k] * deviation[j] + mean[j]
-          : TRANSFORMS[transform as 'differences' | 'log-returns'].inverse(combined[k] * change.deviation[k] + change.mean[k], values[t][j]);
-      });
-    }
-    return forecasts;
-  };
-  const names = targetIndexes.map((j) => table.header[columns[j]]);
-  return {
-    inputWidth: features,
-    outputWidth: targetCount,
-    examples: {
-      kind: 'streams',
-      values: normalised,
-      features,
-      targets: change !== null ? { values: change.rows.flat(), width: targetCount }
-        : targetHoles ? { values: values.flatMap((row) => targetIndexes.map((j) => (Number.isNaN(row[j]) ? 0 : (row[j] - mean[j]) / deviation[j]))), width: targetCount }
-          : { columns: targetIndexes },
-      ...(targetHoles ? { targetWeights: values.flatMap((row) => targetIndexes.map((j) => (Number.isNaN(row[j]) ? 0 : 1))) } : {}),
-      horizon,
-      trainEnd,
-      testStart,
-      rows,
-      window: options.window,
-      lookback: options.lookback,
-      streams: options.streams,
-    },
-    metadata: {
-      ...input.metadata,
-      missing: { rule: 'carry', gapLimit: rows, flagged, fallback: mean, markers: [...(options.missingMarkers ?? [])] } satisfies MissingRecord,
-      normalisation: { mean, deviation },
-      ...(change === null ? {} : { targetTransform: { kind: transform, mean: change.mean, deviation: change.deviation } }),
-    },
-    notes: input.notes,
-    validationFigure: (outputs, width) => {
-      const forecasts = forecastsOf(outputs, width, testStart);
-      const scored: number[] = [];
-      for (let t = trainEnd - horizon; t < testStart - horizon; t++) scored.push(t);
-      const errors = scoreForecaster({ ...split, positions: scored }, (at, k) => forecasts[k][at], baselines.scales).overall;
-      return targetCount > 1 ? errors.mase ?? NaN : errors.mae;
-    },
-    heldOut: (outputs, width, intervals) => {
-      const forecasts = forecastsOf(outputs, width, rows);
-      const scored = scoreForecaster(split, (at, k) => forecasts[k][at], baselines.scales);
-      const report = forecastReport({ what: input.what, model: scored, baselines: baselines.scores, names, context: input.context });
-      if (intervals === undefined) return report;
-      return withIntervals(report, scoreIntervals(split, (at, k) => forecasts[k][at], intervals, baselines.scales), baselineIntervals(split, baselines, intervals.level, trainEnd));
-    },
-    intervals: (outputs, width, level) => {
-      const forecasts = forecastsOf(outputs, width, testStart);
-      return targetIndexes.map((j, k) => {
-        const errors: number[] = [];
-        for (let t = trainEnd - horizon; t < testStart - horizon; t++) errors.push(values[t + horizon][j] - forecasts[k][t]);
-        return conformalHalfWidth(errors, level);
-      });
-    },
-  };
-}
-
 /** What was missing and what was done, in one line. */
-function missingNote(columns: readonly string[], missing: readonly number[], rows: number, rule: string, gapLimit: number | undefined, targets: readonly string[]): string {
+function missingNote(
+  columns: readonly string[],
+  missing: readonly number[],
+  rows: number,
+  rule: string,
+  gapLimit: number | undefined,
+  targets: readonly string[],
+): string {
   const counts = columns.flatMap((name, j) => (missing[j] > 0 ? [`${name} ${missing[j]} of ${rows} (${Math.round((100 * missing[j]) / rows)}%)`] : []));
-  const inputs = rule === 'streams' ? 'inputs carried from the last value (streams read row by row; the state carries across every gap)' : rule === 'segments'
-    ? 'no training window holds a missing input (every gap cuts the series; the runtime carries the last value)'
-    : `inputs ${rule === 'interpolate' ? 'interpolated across each gap (carried where a gap reaches the window\'s last row)' : 'carried from the last value'}, gaps longer than ${gapLimit === undefined ? 'half the window' : `${gapLimit} rows`} kept out of training windows`;
+  const inputs =
+    rule === 'streams'
+      ? 'inputs carried from the last value (streams read row by row; the state carries across every gap)'
+      : rule === 'segments'
+        ? 'no training window holds a missing input (every gap cuts the series; the runtime carries the last value)'
+        : `inputs ${rule === 'interpolate' ? "interpolated across each gap (carried where a gap reaches the window's last row)" : 'carried from the last value'}, gaps longer than ${gapLimit === undefined ? 'half the window' : `${gapLimit} rows`} kept out of training windows`;
   const targetHoles = columns.some((name, j) => missing[j] > 0 && targets.includes(name));
   return `missing readings: ${counts.join(', ')}; ${inputs}, with a 0/1 "was missing" input per column with holes${targetHoles ? '; a missing target weighs 0 in the loss and is scored by no one' : ''} (--missing, --gap-limit)`;
 }

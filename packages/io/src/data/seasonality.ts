@@ -121,7 +121,12 @@ export function chooseSeason(series: ArrayLike<number>, spacing: Spacing | null 
     if (3 * m > n) return { rows: m, autocorrelation: NaN, limit: NaN, rejected: `fewer than 3 seasons (${3 * m + 1} rows) to test it in ${n + 1} rows` };
     const limit = seasonalityLimit(acf, m, n);
     const r = acf[m];
-    return { rows: m, autocorrelation: r, limit, rejected: r > limit ? null : `autocorrelation of the differences ${r.toFixed(3)}, not above the 90% limit ${limit.toFixed(3)}` };
+    return {
+      rows: m,
+      autocorrelation: r,
+      limit,
+      rejected: r > limit ? null : `autocorrelation of the differences ${r.toFixed(3)}, not above the 90% limit ${limit.toFixed(3)}`,
+    };
   });
   // The shortest passing season within 0.1 of the highest autocorrelation wins: a daily cycle in hourly rows also
   // shows at 168 rows (and, in noisy differences, at 25), and the weekly season is chosen only when the week adds
@@ -134,7 +139,9 @@ export function chooseSeason(series: ArrayLike<number>, spacing: Spacing | null 
     return { season: null, reason: `no season: candidates from ${source}; ${tried}`, candidates };
   }
   const chosen = passing[0];
-  const final = candidates.map((c) => (c === chosen || c.rejected !== null ? c : { ...c, rejected: `${chosen.rows} rows is shorter, or clearly stronger (by 0.1)` }));
+  const final = candidates.map((c) =>
+    c === chosen || c.rejected !== null ? c : { ...c, rejected: `${chosen.rows} rows is shorter, or clearly stronger (by 0.1)` },
+  );
   return {
     season: chosen.rows,
     reason: `season of ${chosen.rows} rows from ${source}: autocorrelation of the differences ${chosen.autocorrelation.toFixed(3)}, above the 90% limit ${chosen.limit.toFixed(3)}`,

@@ -27,7 +27,12 @@ export function seriesParts(rows: number, options: { readonly validationShare: n
   const test = Math.max(1, Math.round(rows * options.testShare));
   const validation = Math.max(1, Math.round(rows * options.validationShare));
   if (test < options.horizon) {
-    fail('invalid_option', '--test', `a share leaving at least ${options.horizon} test rows (the horizon) of the ${rows}: ${Math.ceil((100 * options.horizon) / rows) / 100} or more`, `${options.testShare} (${test} row${test === 1 ? '' : 's'})`);
+    fail(
+      'invalid_option',
+      '--test',
+      `a share leaving at least ${options.horizon} test rows (the horizon) of the ${rows}: ${Math.ceil((100 * options.horizon) / rows) / 100} or more`,
+      `${options.testShare} (${test} row${test === 1 ? '' : 's'})`,
+    );
   }
   return { rows, trainEnd: rows - test - validation, testStart: rows - test };
 }
@@ -47,11 +52,21 @@ export function checkTimes(table: Table, time: TimeColumn): void {
   if (time.repeated >= 0 && (time.backwards < 0 || time.repeated < time.backwards)) {
     const r = time.repeated;
     const first = time.times.indexOf(time.times[r]);
-    fail('bad_data', at(r), `a time after line ${table.rows[r - 1].line}'s in column ${JSON.stringify(time.name)}, as a series has one row per time (several series in one table? name the column that tells them apart with --id-column NAME to forecast them all with one model)`, `${shown(r)} again (as on line ${table.rows[first].line})`);
+    fail(
+      'bad_data',
+      at(r),
+      `a time after line ${table.rows[r - 1].line}'s in column ${JSON.stringify(time.name)}, as a series has one row per time (several series in one table? name the column that tells them apart with --id-column NAME to forecast them all with one model)`,
+      `${shown(r)} again (as on line ${table.rows[first].line})`,
+    );
   }
   if (time.backwards >= 0) {
     const r = time.backwards;
-    fail('bad_data', at(r), `a time after line ${table.rows[r - 1].line}'s ${shown(r - 1)} in column ${JSON.stringify(time.name)} (sort the file by time)`, shown(r));
+    fail(
+      'bad_data',
+      at(r),
+      `a time after line ${table.rows[r - 1].line}'s ${shown(r - 1)} in column ${JSON.stringify(time.name)} (sort the file by time)`,
+      shown(r),
+    );
   }
 }
 
@@ -67,7 +82,12 @@ export function checkGaps(table: Table, time: TimeColumn, season: number | null)
   const median = sorted[Math.floor(sorted.length / 2)];
   const r = gaps.findIndex((g) => g > season * median * 1.05) + 1;
   if (r > 0) {
-    fail('bad_data', fieldPath(table, r, time.index), `a time at most a season (${season} rows, ${time.spacing.unit} apart) after line ${table.rows[r - 1].line}'s in column ${JSON.stringify(time.name)}; fill the missing rows, or forecast the parts apart`, `${JSON.stringify(table.rows[r].fields[time.index].trim().slice(0, 40))}, ${Math.round(gaps[r - 1] / median)} rows' time later`);
+    fail(
+      'bad_data',
+      fieldPath(table, r, time.index),
+      `a time at most a season (${season} rows, ${time.spacing.unit} apart) after line ${table.rows[r - 1].line}'s in column ${JSON.stringify(time.name)}; fill the missing rows, or forecast the parts apart`,
+      `${JSON.stringify(table.rows[r].fields[time.index].trim().slice(0, 40))}, ${Math.round(gaps[r - 1] / median)} rows' time later`,
+    );
   }
 }
 
@@ -79,7 +99,9 @@ export function tableNotes(table: Table, time: TimeColumn | null, numeric: reado
     const c = table.header.indexOf(name);
     const first = decimal(table.rows[0]?.fields[c] ?? '');
     if (table.rows.length > 2 && table.rows.every((row, r) => decimal(row.fields[c]) === first + r)) {
-      notes.push(`note: column ${JSON.stringify(name)} counts the rows (${first}, ${first + 1}, ${first + 2}, …): it is probably an index, not a reading; leave it out with --columns`);
+      notes.push(
+        `note: column ${JSON.stringify(name)} counts the rows (${first}, ${first + 1}, ${first + 2}, …): it is probably an index, not a reading; leave it out with --columns`,
+      );
     }
   }
   // A text column that names series: its values stand in blocks (series one after another) or take turns
@@ -92,7 +114,9 @@ export function tableNotes(table: Table, time: TimeColumn | null, numeric: reado
     for (let r = 1; r < cells.length; r++) if (cells[r] !== cells[r - 1]) runs++;
     const inTurns = cells.every((v, r) => r < distinct || v === cells[r - distinct]);
     if (distinct > 1 && distinct <= table.rows.length / 3 && (runs === distinct || inTurns)) {
-      notes.push(`note: column ${JSON.stringify(name)} names ${distinct} repeating values: if each names a series, the table holds several series and weft would pool them into one; forecast each with one model with --id-column ${name}, or pick one series's rows`);
+      notes.push(
+        `note: column ${JSON.stringify(name)} names ${distinct} repeating values: if each names a series, the table holds several series and weft would pool them into one; forecast each with one model with --id-column ${name}, or pick one series's rows`,
+      );
     }
   });
   return notes;

@@ -5,6 +5,9 @@
 import type { WeightMetadata } from '../weight-file.js';
 import type { HeldOutReport } from './verdict.js';
 import type { MissingRule } from './missing.js';
+import type { Table } from './table.js';
+import type { TimeColumn } from './time-column.js';
+import type { ForecastBaselines, SeriesSplit } from './baselines-types.js';
 
 /** How a series table is prepared (the command's flags; a user's program gives the same). */
 export interface SeriesPreparation {
@@ -116,15 +119,17 @@ export interface SeriesStreams {
   /** Numbers per row. */
   readonly features: number;
   /** The targets: input columns forecast `horizon` rows on, or explicit per-row values (a transform's changes). */
-  readonly targets: {
-    /** Indexes into a row of the columns forecast. */
-    readonly columns: readonly number[];
-  } | {
-    /** Per row, `width` target numbers, row-major. */
-    readonly values: readonly number[];
-    /** Targets per row. */
-    readonly width: number;
-  };
+  readonly targets:
+    | {
+        /** Indexes into a row of the columns forecast. */
+        readonly columns: readonly number[];
+      }
+    | {
+        /** Per row, `width` target numbers, row-major. */
+        readonly values: readonly number[];
+        /** Targets per row. */
+        readonly width: number;
+      };
   /** With missing targets: per row, 1 per target observed and 0 per target missing (row-major like `targets.values`). */
   readonly targetWeights?: readonly number[];
   /** Rows ahead of each target. */
@@ -212,4 +217,44 @@ export interface ForecastIntervals {
    * from its own validation errors (many series pool them across series: panel.ts).
    */
   readonly baselines?: readonly (readonly number[])[];
+}
+
+/** The column that names each series of a long table. */
+export interface SeriesIdColumn {
+  /** Its index in the header. */
+  readonly index: number;
+  /** Its name. */
+  readonly name: string;
+  /** True when found from the table (not named by the caller). */
+  readonly found: boolean;
+}
+
+/** Prepares one series' table (prepare-series.ts' prepareTable, passed in so the modules do not import each other). */
+export type PrepareOne = (table: Table, time: TimeColumn | null, options: SeriesPreparation, part: PanelPart) => PreparedSeries;
+
+/** What prepareSeries has read and decided before the examples are made. */
+export interface SeriesContext {
+  readonly table: Table;
+  readonly file: string;
+  readonly values: readonly (readonly number[])[];
+  /** Header indexes of the input columns. */
+  readonly columns: readonly number[];
+  /** Indexes into `columns` of the targets. */
+  readonly targetIndexes: readonly number[];
+  readonly trainEnd: number;
+  readonly testStart: number;
+  readonly horizon: number;
+  readonly season: number | null;
+  readonly options: SeriesPreparation;
+  readonly split: SeriesSplit;
+  readonly baselines: ForecastBaselines;
+  readonly notes: readonly string[];
+  readonly metadata: WeightMetadata;
+  readonly context: readonly string[];
+  readonly what: string;
+  readonly time: TimeColumn | null;
+  /** Per input column, its count of missing values. */
+  readonly missing: readonly number[];
+  /** One series of many (panel.ts): the choices shared with the others; its validation figure is then MASE. */
+  readonly panel?: PanelPart;
 }

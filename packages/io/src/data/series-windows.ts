@@ -15,60 +15,24 @@
  */
 import { fail } from '@weft/core';
 import { medianOfMembers } from '@weft/cells';
-import type { WeightMetadata } from '../weight-file.js';
-import type { ForecastBaselines, SeriesSplit } from './baselines.js';
 import { forecastBaselines, scoreForecaster } from './baselines.js';
 import { calendarFor, calendarInputs } from './calendar.js';
-import type { PanelPart, PreparedSeries, SeriesPreparation, WindowExample } from './series-types.js';
+import type { PreparedSeries, WindowExample } from './series-types.js';
 import { baselineErrors, baselineIntervals, conformalHalfWidth, scoreIntervals } from './intervals.js';
 import { fillColumn, gapLengths, lastObserved } from './missing.js';
 import type { MissingRecord } from './missing.js';
 import { columnStatistics } from './table.js';
-import { chooseSmoothing, logTargets } from './window-choices.js';
-import type { Table } from './table.js';
-import type { TimeColumn } from './time-column.js';
+import { changeDeviations, checkWindowSettings, chooseSmoothing, logTargets } from './window-choices.js';
 import { forecastReport, withIntervals } from './verdict.js';
+import type { SeriesContext } from './series-types.js';
 
-/** What prepareSeries has read and decided before the examples are made. */
-export interface SeriesContext {
-  readonly table: Table;
-  readonly file: string;
-  readonly values: readonly (readonly number[])[];
-  /** Header indexes of the input columns. */
-  readonly columns: readonly number[];
-  /** Indexes into `columns` of the targets. */
-  readonly targetIndexes: readonly number[];
-  readonly trainEnd: number;
-  readonly testStart: number;
-  readonly horizon: number;
-  readonly season: number | null;
-  readonly options: SeriesPreparation;
-  readonly split: SeriesSplit;
-  readonly baselines: ForecastBaselines;
-  readonly notes: readonly string[];
-  readonly metadata: WeightMetadata;
-  readonly context: readonly string[];
-  readonly what: string;
-  readonly time: TimeColumn | null;
-  /** Per input column, its count of missing values. */
-  readonly missing: readonly number[];
-  /** One series of many (panel.ts): the choices shared with the others; its validation figure is then MASE. */
-  readonly panel?: PanelPart;
-}
+export type { SeriesContext } from './series-types.js';
 
 /** Sliding windows over a series (see the file's comment). */
 export function slidingWindows(input: SeriesContext): PreparedSeries {
   const { table, file, columns, targetIndexes, trainEnd, testStart, horizon, season, options, split, baselines } = input;
   const given = options.given ?? new Set<string>();
-  if ((options.transform ?? 'none') !== 'none') fail('invalid_option', '--transform', '--examples streams (sliding windows already forecast the change from the window\'s last row)', options.transform ?? 'none');
-  if (options.lookback > 0) fail('invalid_option', '--lookback', '--examples streams (sliding windows are read whole)', String(options.lookback));
-  // Two seasons and the horizon, or without a season 24 rows and the horizon (a 40-row series with the default shares).
-  const least = (season === null ? 24 : 2 * season) + horizon;
-  if (trainEnd < least) {
-    const rows = input.values.length;
-    const total = Math.ceil(least / (1 - options.validationShare - options.testShare));
-    fail('invalid_option', file, `at least ${least} training rows for a series ${season === null ? 'without a season' : `with a season of ${season} rows`} (${season === null ? '24 rows' : 'two seasons'} and the horizon): about ${total} rows in all with the --validation and --test shares`, `${rows} rows, which leave ${trainEnd} training rows`);
-  }
+  checkWindowSettings(input);
   const window = given.has('window') ? options.window : Math.max(2, Math.min(season === null ? 24 : 2 * season, 64, Math.floor(trainEnd / 4)));
   const width = columns.length;
   // Targets read as logarithms where the season's swing grows with the level (see logTargets); the windows, the
@@ -78,20 +42,7 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   const targetCount = targetIndexes.length;
   // Every row up to the horizon at once (direct multi-output): one block of targets per row ahead, nearest first.
   const rowsAhead = Array.from({ length: horizon }, (_, i) => i + 1);
-  // Deviations of one-row changes per column, and of the forecast change per target, over the training rows.
-  // (Pairs with a missing value are left out.)
-  const deviation = Array.from({ length: width }, (_, j) => {
-    let sum = 0;
-    let pairs = 0;
-    for (let t = 1; t < trainEnd; t++) {
-      const d = values[t][j] - values[t - 1][j];
-      if (Number.isNaN(d)) continue;
-      sum += d * d;
-      pairs++;
-    }
-    const d = Math.sqrt(sum / Math.max(1, pairs));
-    return d > 0 && Number.isFinite(d) ? d : 1;
-  });
+  const deviation = changeDeviations(values, trainEnd, width);
   // Missing values: each row's last observed value per column (the level a window ending there is read from), the
   // gaps' lengths, the columns read with a 0/1 "was missing" input, and the fill of a column never observed yet.
   const gappy = input.missing.some((n) => n > 0);
@@ -109,14 +60,15 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   // The value a window ending at row t is read relative to, per column: the row's own, or, where it is missing, the
   // window's fill of its last row (what the runtime computes; the last value carried, moved with the season).
   const column = new Float64Array(window);
-  const referenceOf = (j: number): Float64Array => Float64Array.from(values, (row, t) => {
-    if (!Number.isNaN(row[j])) return row[j];
-    if (t < window - 1) return lastSeen[j][t] >= 0 ? values[lastSeen[j][t]][j] : fallback[j];
-    const first = t - window + 1;
-    for (let k = 0; k < window; k++) column[k] = values[first + k][j];
-    fillColumn(column, 0, 1, window, edgesOf(j, first), 0, rule);
-    return column[window - 1];
-  });
+  const referenceOf = (j: number): Float64Array =>
+    Float64Array.from(values, (row, t) => {
+      if (!Number.isNaN(row[j])) return row[j];
+      if (t < window - 1) return lastSeen[j][t] >= 0 ? values[lastSeen[j][t]][j] : fallback[j];
+      const first = t - window + 1;
+      for (let k = 0; k < window; k++) column[k] = values[first + k][j];
+      fillColumn(column, 0, 1, window, edgesOf(j, first), 0, rule);
+      return column[window - 1];
+    });
   const reference = targetIndexes.map((j) => (input.missing[j] > 0 ? referenceOf(j) : null));
   const level = (t: number, k: number) => reference[k]?.[t] ?? values[t][targetIndexes[k]];
   const gaps = gapLengths(values, flagged);
@@ -125,7 +77,18 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   // The hybrid: per target, the smoothing method (fitted on the training rows) whose forecasts of the validation
   // rows are best; the model reads its forecasts of the next row beside the values and forecasts the correction to
   // its forecast of each row ahead.
-  const hybrid = options.hybrid === true ? targetIndexes.map((j) => chooseSmoothing(values.map((row) => row[j]), trainEnd, testStart, rowsAhead, season)) : null;
+  const hybrid =
+    options.hybrid === true
+      ? targetIndexes.map((j) =>
+          chooseSmoothing(
+            values.map((row) => row[j]),
+            trainEnd,
+            testStart,
+            rowsAhead,
+            season,
+          ),
+        )
+      : null;
   const base = (s: number, k: number, t: number) => (hybrid === null ? level(t, k) : hybrid[k].forecasts[s][t]);
   // Calendar inputs from the time column (where in the year, week or day each row falls), after the hybrid's.
   const positions = options.calendar === false || input.time === null ? [] : calendarFor(input.time.spacing);
@@ -136,18 +99,20 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   const code = input.panel?.code;
   const codeAt = flagAt + flagged.length;
   const inputWidth = codeAt + (code?.count ?? 0);
-  const targetDeviation = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
-    let sum = 0;
-    let n = 0;
-    for (let t = 0; t + h < trainEnd; t++) {
-      const d = values[t + h][j] - base(s, k, t);
-      if (Number.isNaN(d)) continue;
-      sum += d * d;
-      n++;
-    }
-    const d = Math.sqrt(sum / Math.max(1, n));
-    return d > 0 && Number.isFinite(d) ? d : 1;
-  }));
+  const targetDeviation = rowsAhead.flatMap((h, s) =>
+    targetIndexes.map((j, k) => {
+      let sum = 0;
+      let n = 0;
+      for (let t = 0; t + h < trainEnd; t++) {
+        const d = values[t + h][j] - base(s, k, t);
+        if (Number.isNaN(d)) continue;
+        sum += d * d;
+        n++;
+      }
+      const d = Math.sqrt(sum / Math.max(1, n));
+      return d > 0 && Number.isFinite(d) ? d : 1;
+    }),
+  );
   const filled = new Float64Array(window * width);
   // The window ending at row t; its targets are the rows ahead before row `end` (0 past it: those are never scored).
   const example = (t: number, end: number): WindowExample => {
@@ -161,14 +126,17 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
     for (let k = 0; k < window; k++) {
       const row = first + k;
       for (let j = 0; j < width; j++) inputs[k * inputWidth + j] = (filled[k * width + j] - filled[last + j]) / deviation[j];
-      if (hybrid !== null) targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (hybrid[i].forecasts[0][row] - filled[last + j]) / deviation[j]));
+      if (hybrid !== null)
+        targetIndexes.forEach((j, i) => (inputs[k * inputWidth + width + i] = (hybrid[i].forecasts[0][row] - filled[last + j]) / deviation[j]));
       if (times !== null && positions.length > 0) calendarInputs(positions, times[row], inputs, k * inputWidth + calendarAt);
       flagged.forEach((j, i) => (inputs[k * inputWidth + flagAt + i] = Number.isNaN(values[row][j]) ? 1 : 0));
       if (code !== undefined) for (let i = 0; i < code.count; i++) inputs[k * inputWidth + codeAt + i] = i === code.index ? 1 : 0;
     }
     // A target past `end` or never observed weighs 0 (its value 0 is never read).
     const known = (h: number, j: number) => t + h < end && !Number.isNaN(values[t + h][j]);
-    const target = rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => (known(h, j) ? (values[t + h][j] - base(s, k, t)) / targetDeviation[s * targetCount + k] : 0)));
+    const target = rowsAhead.flatMap((h, s) =>
+      targetIndexes.map((j, k) => (known(h, j) ? (values[t + h][j] - base(s, k, t)) / targetDeviation[s * targetCount + k] : 0)),
+    );
     if (!gappy) return { values: inputs, target };
     return { values: inputs, target, targetWeights: rowsAhead.flatMap((h) => targetIndexes.map((j) => (known(h, j) ? 1 : 0))) };
   };
@@ -186,10 +154,17 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   };
   // Training and validation windows have every row ahead in their part (the farthest row ahead is in it).
   const train = windowsEnding(0, trainEnd - horizon, trainEnd, trainable);
-  if (train.length < 2) fail('invalid_option', '--window', `a window leaving at least 2 training windows ${horizon} row${horizon === 1 ? '' : 's'} ahead in the ${trainEnd} training rows of ${file}`, `${window} rows (${train.length} window${train.length === 1 ? '' : 's'})`);
+  if (train.length < 2)
+    fail(
+      'invalid_option',
+      '--window',
+      `a window leaving at least 2 training windows ${horizon} row${horizon === 1 ? '' : 's'} ahead in the ${trainEnd} training rows of ${file}`,
+      `${window} rows (${train.length} window${train.length === 1 ? '' : 's'})`,
+    );
   const observed = (t: number, end: number) => !gappy || rowsAhead.some((h) => t + h < end && targetIndexes.some((j) => !Number.isNaN(values[t + h][j])));
   const validation = windowsEnding(trainEnd - horizon, testStart - horizon, testStart, observed);
-  if (validation.length === 0) fail('invalid_option', '--window', `a window that fits before a validation row of ${file} (${testStart - trainEnd} validation rows)`, `${window} rows`);
+  if (validation.length === 0)
+    fail('invalid_option', '--window', `a window that fits before a validation row of ${file} (${testStart - trainEnd} validation rows)`, `${window} rows`);
   const batch = given.has('streams') ? options.streams : Math.max(1, Math.min(32, Math.floor(train.length / 4)));
   const batchesPerEpoch = Math.ceil(train.length / batch);
   const epochs = Math.min(300, Math.max(3, Math.ceil(2000 / batchesPerEpoch)));
@@ -218,11 +193,13 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
   /** Each row ahead's errors on the validation rows, from the windows whose row that far ahead is one of them. */
   const validationErrors = (outputs: ArrayLike<number>, outputWidth: number): number[][] => {
     const forecasts = forecastsOf(outputs, outputWidth, validationFrom);
-    return rowsAhead.flatMap((h, s) => targetIndexes.map((j, k) => {
-      const errors: number[] = [];
-      for (let t = Math.max(validationFrom, trainEnd - h); t + h < testStart; t++) errors.push(input.values[t + h][j] - forecasts[s][k][t]);
-      return errors;
-    }));
+    return rowsAhead.flatMap((h, s) =>
+      targetIndexes.map((j, k) => {
+        const errors: number[] = [];
+        for (let t = Math.max(validationFrom, trainEnd - h); t + h < testStart; t++) errors.push(input.values[t + h][j] - forecasts[s][k][t]);
+        return errors;
+      }),
+    );
   };
   // With several rows ahead, every baseline forecasts each of them too (fitted once).
   const several = rowsAhead.length > 1;
@@ -241,28 +218,58 @@ export function slidingWindows(input: SeriesContext): PreparedSeries {
       test: windowsEnding(testFrom, values.length - 1, values.length),
       batch,
     },
-    metadata: { ...input.metadata, ...(several ? { rowsAhead: 'all' } : {}), missing: { rule, gapLimit, flagged, fallback, markers: [...(options.missingMarkers ?? [])] } satisfies MissingRecord, normalisation: columnStatistics(values.slice(0, trainEnd), width), window: { rows: window, deviation, targetDeviation, ...(logged.some((l) => l) ? { log: logged } : {}), ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }), ...(positions.length === 0 ? {} : { calendar: positions }) } },
+    metadata: {
+      ...input.metadata,
+      ...(several ? { rowsAhead: 'all' } : {}),
+      missing: { rule, gapLimit, flagged, fallback, markers: [...(options.missingMarkers ?? [])] } satisfies MissingRecord,
+      normalisation: columnStatistics(values.slice(0, trainEnd), width),
+      window: {
+        rows: window,
+        deviation,
+        targetDeviation,
+        ...(logged.some((l) => l) ? { log: logged } : {}),
+        ...(hybrid === null ? {} : { hybrid: hybrid.map((h) => h.parameters) }),
+        ...(positions.length === 0 ? {} : { calendar: positions }),
+      },
+    },
     notes: input.notes,
     chosen: {
       ...(given.has('epochs') ? {} : { epochs }),
       ...(given.has('patience') ? {} : { patience: 5 }),
       ...(given.has('hidden') ? {} : { hidden: 32 }),
-      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}${logged.some((l) => l) ? ` of the logarithm of ${targetIndexes.filter((j) => logged[j]).map((j) => table.header[columns[j]]).join(', ')}` : ''}: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}${ahead}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
+      said: `sliding windows${hybrid === null ? '' : ` on top of ${hybrid.map((h) => h.name).join(', ')}`}${
+        logged.some((l) => l)
+          ? ` of the logarithm of ${targetIndexes
+              .filter((j) => logged[j])
+              .map((j) => table.header[columns[j]])
+              .join(', ')}`
+          : ''
+      }: ${train.length} training examples of ${window} rows${given.has('window') ? '' : ` (${seasonWords})`}${ahead}, ${batch} per batch${given.has('epochs') ? '' : `, up to ${epochs} epochs`}${given.has('patience') ? '' : ', patience 5'}${given.has('hidden') ? '' : ', 32 hidden'}${positions.length === 0 ? '' : `, reading the ${positions.join(' and ')}`} (chosen from the data; flags override, --examples streams reads the series as streams)`,
     },
     validationFigure: (outputs, outputWidth) => {
       const forecasts = forecastsOf(outputs, outputWidth, validationFrom);
       const scored: number[] = [];
       for (let t = validationFrom; t < testStart - horizon; t++) scored.push(t);
       const errors = scoreForecaster({ ...scoredSplit, positions: scored }, (at, k, h) => forecasts[h - 1][k][at], baselines.scales).overall;
-      return targetCount > 1 || input.panel !== undefined ? errors.mase ?? NaN : errors.mae;
+      return targetCount > 1 || input.panel !== undefined ? (errors.mase ?? NaN) : errors.mae;
     },
     heldOut: (outputs, outputWidth, intervals) => {
       const forecasts = forecastsOf(outputs, outputWidth, testFrom);
       const forecast = (at: number, k: number, h: number) => forecasts[h - 1][k][at];
       const scored = scoreForecaster(scoredSplit, forecast, baselines.scales);
-      const report = forecastReport({ what: input.what, model: scored, baselines: scoredBaselines, names: targetIndexes.map((j) => table.header[columns[j]]), context: input.context });
+      const report = forecastReport({
+        what: input.what,
+        model: scored,
+        baselines: scoredBaselines,
+        names: targetIndexes.map((j) => table.header[columns[j]]),
+        context: input.context,
+      });
       if (intervals === undefined) return report;
-      return withIntervals(report, scoreIntervals(scoredSplit, forecast, intervals, baselines.scales), baselineIntervals(scoredSplit, scoredFits, intervals.level, trainEnd, intervals.baselines));
+      return withIntervals(
+        report,
+        scoreIntervals(scoredSplit, forecast, intervals, baselines.scales),
+        baselineIntervals(scoredSplit, scoredFits, intervals.level, trainEnd, intervals.baselines),
+      );
     },
     intervals: (outputs, outputWidth, level) => validationErrors(outputs, outputWidth).map((errors) => conformalHalfWidth(errors, level)),
     validationErrors,

@@ -66,7 +66,8 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
     });
     if (firstBad < 0 && numbers > 0) numeric.push(c);
     else if (firstBad < 0) leftOut.push(`${name} (every cell missing)`);
-    else if (numbers === 0) leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 40))} at line ${table.rows[firstBad].line})`);
+    else if (numbers === 0)
+      leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[firstBad].fields[c].trim().slice(0, 40))} at line ${table.rows[firstBad].line})`);
     else if (options.columns === undefined) {
       fail(
         'bad_data',
@@ -77,26 +78,52 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
       );
     }
   });
-  const columns = options.columns === undefined ? numeric : options.columns.map((name) => columnNamed(table, name, options.choices?.columns ?? 'a column to read'));
+  const columns =
+    options.columns === undefined ? numeric : options.columns.map((name) => columnNamed(table, name, options.choices?.columns ?? 'a column to read'));
   if (columns.length === 0) fail('bad_data', `${table.file}:1:1`, 'at least one column of numbers', `the columns ${table.header.join(', ')}`);
-  const targets = options.targets === undefined ? columns : options.targets.map((name) => columnNamed(table, name, options.choices?.targets ?? 'a column to forecast'));
+  const targets =
+    options.targets === undefined ? columns : options.targets.map((name) => columnNamed(table, name, options.choices?.targets ?? 'a column to forecast'));
   for (const t of targets) {
     if (!columns.includes(t) && leftOut.includes(`${table.header[t]} (every cell missing)`)) {
-      fail('bad_data', fieldPath(table, 0, t), `a column with at least one reading (${JSON.stringify(table.header[t])} was chosen ${options.choices?.targets ?? 'as a column to forecast'})`, `every one of its ${table.rows.length} cells missing`);
+      fail(
+        'bad_data',
+        fieldPath(table, 0, t),
+        `a column with at least one reading (${JSON.stringify(table.header[t])} was chosen ${options.choices?.targets ?? 'as a column to forecast'})`,
+        `every one of its ${table.rows.length} cells missing`,
+      );
     }
     if (!columns.includes(t)) {
-      fail('bad_data', `${table.file}:1:1`, `a target among the columns read (${columns.map((c) => table.header[c]).join(', ')})`, JSON.stringify(table.header[t]));
+      fail(
+        'bad_data',
+        `${table.file}:1:1`,
+        `a target among the columns read (${columns.map((c) => table.header[c]).join(', ')})`,
+        JSON.stringify(table.header[t]),
+      );
     }
   }
   const missing = columns.map(() => 0);
-  const values = table.rows.map((row, r) => columns.map((c, j) => {
-    if (!isMissing(row.fields[c])) return numberAt(table, r, c);
-    if (options.refuseMissing === true) fail('bad_data', fieldPath(table, r, c), `a reading in column ${JSON.stringify(table.header[c])} (missing cells are refused here)`, JSON.stringify(row.fields[c].trim().slice(0, 80)));
-    missing[j]++;
-    return NaN;
-  }));
+  const values = table.rows.map((row, r) =>
+    columns.map((c, j) => {
+      if (!isMissing(row.fields[c])) return numberAt(table, r, c);
+      if (options.refuseMissing === true)
+        fail(
+          'bad_data',
+          fieldPath(table, r, c),
+          `a reading in column ${JSON.stringify(table.header[c])} (missing cells are refused here)`,
+          JSON.stringify(row.fields[c].trim().slice(0, 80)),
+        );
+      missing[j]++;
+      return NaN;
+    }),
+  );
   columns.forEach((c, j) => {
-    if (missing[j] === table.rows.length && table.rows.length > 0) fail('bad_data', fieldPath(table, 0, c), `a column with at least one reading (${JSON.stringify(table.header[c])} was chosen)`, `every one of its ${table.rows.length} cells missing`);
+    if (missing[j] === table.rows.length && table.rows.length > 0)
+      fail(
+        'bad_data',
+        fieldPath(table, 0, c),
+        `a column with at least one reading (${JSON.stringify(table.header[c])} was chosen)`,
+        `every one of its ${table.rows.length} cells missing`,
+      );
   });
   // A marker that is also a number changes what the file says: said, with the first cell it took.
   const notes: string[] = [];
@@ -104,11 +131,15 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
     if (Number.isNaN(decimal(marker))) continue;
     let count = 0;
     let first = '';
-    columns.forEach((c) => table.rows.forEach((row, r) => {
-      if (row.fields[c].trim() !== marker.trim()) return;
-      if (count++ === 0) first = fieldPath(table, r, c);
-    }));
-    notes.push(`note: the missing marker ${JSON.stringify(marker)} is also a number; ${count === 0 ? 'no cell holds it' : `${count} cell${count === 1 ? '' : 's'} holding it ${count === 1 ? 'was' : 'were'} read as missing, the first at ${first}`}`);
+    columns.forEach((c) =>
+      table.rows.forEach((row, r) => {
+        if (row.fields[c].trim() !== marker.trim()) return;
+        if (count++ === 0) first = fieldPath(table, r, c);
+      }),
+    );
+    notes.push(
+      `note: the missing marker ${JSON.stringify(marker)} is also a number; ${count === 0 ? 'no cell holds it' : `${count} cell${count === 1 ? '' : 's'} holding it ${count === 1 ? 'was' : 'were'} read as missing, the first at ${first}`}`,
+    );
   }
   return {
     columns: columns.map((c) => table.header[c]),

@@ -62,7 +62,13 @@ function stepsBetween(step: Step, a: number, b: number): number {
 /** The grid's step as the unit rows are apart: "days", "hours", "2 hours", "months", "quarters", "90 seconds". */
 function stepWords(step: Step): string {
   if (step.kind === 'months') return step.months === 1 ? 'months' : step.months === 3 ? 'quarters' : 'years';
-  const units: [number, string][] = [[7 * DAY, 'weeks'], [DAY, 'days'], [3_600_000, 'hours'], [60_000, 'minutes'], [1000, 'seconds']];
+  const units: [number, string][] = [
+    [7 * DAY, 'weeks'],
+    [DAY, 'days'],
+    [3_600_000, 'hours'],
+    [60_000, 'minutes'],
+    [1000, 'seconds'],
+  ];
   for (const [size, name] of units) {
     if (step.span % size === 0) return step.span === size ? name : `${step.span / size} ${name}`;
   }
@@ -87,28 +93,45 @@ export function insertSkippedTimes(table: Table, time: TimeColumn, refuse = fals
   const gaps: number[] = [];
   for (let r = 1; r < n; r++) gaps.push(time.times[r] - time.times[r - 1]);
   const median = [...gaps].sort((a, b) => a - b)[Math.floor(gaps.length / 2)];
-  const step: Step = median >= 28 * DAY && median <= 31 * DAY ? { kind: 'months', months: 1 }
-    : median >= 89 * DAY && median <= 92 * DAY ? { kind: 'months', months: 3 }
-      : median >= 365 * DAY && median <= 366 * DAY ? { kind: 'months', months: 12 }
-        : { kind: 'span', span: median };
+  const step: Step =
+    median >= 28 * DAY && median <= 31 * DAY
+      ? { kind: 'months', months: 1 }
+      : median >= 89 * DAY && median <= 92 * DAY
+        ? { kind: 'months', months: 3 }
+        : median >= 365 * DAY && median <= 366 * DAY
+          ? { kind: 'months', months: 12 }
+          : { kind: 'span', span: median };
   const unit = stepWords(step);
-  const steps = gaps.map((g, i) => stepsBetween(step, time.times[i], time.times[i + 1]));
+  const steps = gaps.map((_g, i) => stepsBetween(step, time.times[i], time.times[i + 1]));
   const off = steps.findIndex((s) => Number.isNaN(s));
   if (off >= 0) {
-    return { ...same, note: `note: time column ${JSON.stringify(time.name)}: ${fieldPath(table, off + 1, time.index)} is off the grid of rows ${unit} apart (${Math.round((gaps[off] / (step.kind === 'span' ? step.span : 30.44 * DAY * step.months)) * 100) / 100} steps after the row above): no rows put back for skipped times` };
+    return {
+      ...same,
+      note: `note: time column ${JSON.stringify(time.name)}: ${fieldPath(table, off + 1, time.index)} is off the grid of rows ${unit} apart (${Math.round((gaps[off] / (step.kind === 'span' ? step.span : 30.44 * DAY * step.months)) * 100) / 100} steps after the row above): no rows put back for skipped times`,
+    };
   }
   const missingRows = steps.reduce((s, k) => s + k - 1, 0);
   if (missingRows === 0) return same;
   const longest = steps.indexOf(Math.max(...steps));
   if (refuse) {
-    fail('bad_data', fieldPath(table, longest + 1, time.index), `a row at every time ${unit} apart in column ${JSON.stringify(time.name)} (missing rows are refused here)`, `${spanWords(step, steps[longest], unit)} after line ${table.rows[longest].line}`);
+    fail(
+      'bad_data',
+      fieldPath(table, longest + 1, time.index),
+      `a row at every time ${unit} apart in column ${JSON.stringify(time.name)} (missing rows are refused here)`,
+      `${spanWords(step, steps[longest], unit)} after line ${table.rows[longest].line}`,
+    );
   }
   if (missingRows > n) {
     // Most of the series would be put back: the spacing changes. Where: the first of ten wide gaps in a row.
     const run = Math.min(10, gaps.length);
     let at = steps.findIndex((_, i) => i + run <= steps.length && steps.slice(i, i + run).every((k) => k > 1));
     if (at < 0) at = longest;
-    fail('bad_data', fieldPath(table, at + 1, time.index), `one spacing in column ${JSON.stringify(time.name)}: rows ${unit} apart up to line ${table.rows[at].line}, as most rows are`, `rows ${spanWords(step, steps[at], unit)} apart from here (${missingRows} rows would be put back for ${n} given); forecast the parts apart`);
+    fail(
+      'bad_data',
+      fieldPath(table, at + 1, time.index),
+      `one spacing in column ${JSON.stringify(time.name)}: rows ${unit} apart up to line ${table.rows[at].line}, as most rows are`,
+      `rows ${spanWords(step, steps[at], unit)} apart from here (${missingRows} rows would be put back for ${n} given); forecast the parts apart`,
+    );
   }
   const rows: TableRow[] = [];
   const times: number[] = [];

@@ -100,7 +100,10 @@ export class SmoothingStepper {
   private broken = false;
   private readonly m: number;
 
-  constructor(private readonly p: SmoothingParameters, private readonly horizon = 1) {
+  constructor(
+    private readonly p: SmoothingParameters,
+    private readonly horizon = 1,
+  ) {
     const seasonal = hasSeason(p.method);
     this.m = seasonal ? p.season : 1;
     this.ring = Float64Array.from(seasonal ? p.seasonal : [0]);
@@ -180,7 +183,7 @@ export class SmoothingStepper {
     }
     const phi = hasTrend(p.method) ? p.phi : 0;
     let damping = 0;
-    for (let i = 1, power = 1; i <= rows; i++) damping += (power *= phi);
+    for (let i = 1, power = 1; i <= rows; i++) damping += power *= phi;
     const ahead = state[LEVEL] + damping * state[SLOPE];
     if (!hasSeason(p.method)) {
       into[at] = ahead;
@@ -278,7 +281,11 @@ export function oneStepError(series: ArrayLike<number>, count: number, p: Smooth
 }
 
 /** States at time −1 from the first rows (see the file's comment); null when there are too few rows. */
-export function initialStates(series: ArrayLike<number>, method: SmoothingMethod, season: number): Pick<SmoothingParameters, 'level' | 'trend' | 'seasonal'> | null {
+export function initialStates(
+  series: ArrayLike<number>,
+  method: SmoothingMethod,
+  season: number,
+): Pick<SmoothingParameters, 'level' | 'trend' | 'seasonal'> | null {
   const m = hasSeason(method) ? season : 1;
   if (series.length < 2 * m) return null;
   let first = 0;

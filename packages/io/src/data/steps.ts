@@ -67,11 +67,13 @@ export function readStepTable(table: Table, options: StepTableOptions): StepTabl
       if (reserved.has(c)) return;
       const first = table.rows.findIndex((r) => Number.isNaN(decimal(r.fields[c])));
       if (first < 0) valueColumns.push(c);
-      else if (table.rows.every((r) => Number.isNaN(decimal(r.fields[c])))) leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[first].fields[c].trim().slice(0, 40))} at line ${table.rows[first].line})`);
+      else if (table.rows.every((r) => Number.isNaN(decimal(r.fields[c]))))
+        leftOut.push(`${name} (no numbers: ${JSON.stringify(table.rows[first].fields[c].trim().slice(0, 40))} at line ${table.rows[first].line})`);
       else numberAt(table, first, c);
     });
   }
-  if (valueColumns.length === 0) throw bad(`${table.file}:1:1`, 'at least one column of numbers besides the id, step and label columns', `the columns ${table.header.join(', ')}`);
+  if (valueColumns.length === 0)
+    throw bad(`${table.file}:1:1`, 'at least one column of numbers besides the id, step and label columns', `the columns ${table.header.join(', ')}`);
   const groups = new Map<string, { line: number; label: string | null; labelRow: number; steps: number[][]; lastStep: number; lastRow: number }>();
   table.rows.forEach((row, r) => {
     const id = row.fields[idAt].trim();
@@ -83,12 +85,20 @@ export function readStepTable(table: Table, options: StepTableOptions): StepTabl
       group = { line: row.line, label, labelRow: r, steps: [], lastStep: -Infinity, lastRow: -1 };
       groups.set(id, group);
     } else if (label !== group.label) {
-      throw bad(fieldPath(table, r, labelAt), `the label ${JSON.stringify(group.label)} that id ${JSON.stringify(id)} has on line ${table.rows[group.labelRow].line} (one label per sequence)`, JSON.stringify(label));
+      throw bad(
+        fieldPath(table, r, labelAt),
+        `the label ${JSON.stringify(group.label)} that id ${JSON.stringify(id)} has on line ${table.rows[group.labelRow].line} (one label per sequence)`,
+        JSON.stringify(label),
+      );
     }
     if (stepAt >= 0) {
       const step = numberAt(table, r, stepAt);
       if (!(step > group.lastStep)) {
-        throw bad(fieldPath(table, r, stepAt), `a step after ${group.lastStep} (the step of id ${JSON.stringify(id)} on line ${table.rows[group.lastRow].line}); steps of a sequence must increase down the file`, String(step));
+        throw bad(
+          fieldPath(table, r, stepAt),
+          `a step after ${group.lastStep} (the step of id ${JSON.stringify(id)} on line ${table.rows[group.lastRow].line}); steps of a sequence must increase down the file`,
+          String(step),
+        );
       }
       group.lastStep = step;
       group.lastRow = r;

@@ -105,7 +105,8 @@ export function parseTable(text: string, options: TableOptions = {}): Table {
         field += c;
       }
     } else if (c === '"') {
-      if (field !== '' || fieldStartedQuoted) throw problem(`${file}:${line}:${column}`, 'a quote only at the start of a field (or doubled inside quotes)', 'a quote inside an unquoted field');
+      if (field !== '' || fieldStartedQuoted)
+        throw problem(`${file}:${line}:${column}`, 'a quote only at the start of a field (or doubled inside quotes)', 'a quote inside an unquoted field');
       quoted = true;
       fieldStartedQuoted = true;
     } else if (c === delimiter) {
@@ -147,7 +148,8 @@ export function parseTable(text: string, options: TableOptions = {}): Table {
   header.forEach((name, c) => {
     if (name === '') throw problem(`${file}:${head.line}:${head.starts[c]}`, 'a name for every column in the header', 'an empty name');
     const earlier = seen.get(name);
-    if (earlier !== undefined) throw problem(`${file}:${head.line}:${head.starts[c]}`, 'column names that differ', `${JSON.stringify(name)} again (column ${earlier + 1} has it)`);
+    if (earlier !== undefined)
+      throw problem(`${file}:${head.line}:${head.starts[c]}`, 'column names that differ', `${JSON.stringify(name)} again (column ${earlier + 1} has it)`);
     seen.set(name, c);
   });
   for (const row of rest) {
@@ -191,7 +193,11 @@ export function columnNamed(table: Table, name: string, purpose: string): number
   const at = table.header.indexOf(name);
   if (at < 0) {
     const head = table.header.join(', ');
-    throw problem(`${table.file}:1:1`, `a column named ${JSON.stringify(name)} (${purpose})`, `the columns ${head.length > 300 ? `${head.slice(0, 300)}…` : head}`);
+    throw problem(
+      `${table.file}:1:1`,
+      `a column named ${JSON.stringify(name)} (${purpose})`,
+      `the columns ${head.length > 300 ? `${head.slice(0, 300)}…` : head}`,
+    );
   }
   return at;
 }
@@ -202,7 +208,10 @@ export function columnNamed(table: Table, name: string, purpose: string): number
  * whatever the data's size. A constant column gets deviation 1 (so normalising it gives zeros, not NaN), and so does
  * a column with no value (mean 0).
  */
-export function columnStatistics(values: readonly (readonly number[])[], columns: number): {
+export function columnStatistics(
+  values: readonly (readonly number[])[],
+  columns: number,
+): {
   /** Each column's mean. */
   mean: number[];
   /** Each column's standard deviation. */

@@ -29,7 +29,11 @@ export interface ThetaForecast {
 export function lineSlope(series: ArrayLike<number>, count: number): number {
   let n = 0;
   let tMean = 0;
-  for (let t = 0; t < count; t++) if (!Number.isNaN(series[t])) (n++, (tMean += t));
+  for (let t = 0; t < count; t++) {
+    if (Number.isNaN(series[t])) continue;
+    n++;
+    tMean += t;
+  }
   if (n === 0) return 0;
   tMean /= n;
   let yMean = 0;
@@ -53,7 +57,14 @@ export function thetaForecasts(series: ArrayLike<number>, count: number, horizon
   let gappy = false;
   for (let t = 0; t < n && !gappy; t++) gappy = Number.isNaN(series[t]);
   const whole = gappy ? interpolated(series) : series;
-  if (season !== null && season >= 2 && isSeasonal(Array.from({ length: count }, (_, i) => whole[i]), season)) {
+  if (
+    season !== null &&
+    season >= 2 &&
+    isSeasonal(
+      Array.from({ length: count }, (_, i) => whole[i]),
+      season,
+    )
+  ) {
     let positive = true;
     for (let t = 0; t < n && positive; t++) positive = whole[t] > 0;
     adjustment = positive ? 'multiplicative' : 'additive';

@@ -56,8 +56,16 @@ export function timeSpacing(times: ArrayLike<number>): Spacing | null {
   const near = (unit: number, low: number, high: number) => median >= unit * low && median <= unit * high && regular(unit * low, unit * high);
   if (median > 0 && median < DAY && DAY % median === 0 && regular(median, median)) {
     const perDay = DAY / median;
-    const unit = median % HOUR === 0 ? (median === HOUR ? 'hours' : `${median / HOUR} hours`)
-      : median % MINUTE === 0 ? (median === MINUTE ? 'minutes' : `${median / MINUTE} minutes`) : `${median / 1000} seconds`;
+    const unit =
+      median % HOUR === 0
+        ? median === HOUR
+          ? 'hours'
+          : `${median / HOUR} hours`
+        : median % MINUTE === 0
+          ? median === MINUTE
+            ? 'minutes'
+            : `${median / MINUTE} minutes`
+          : `${median / 1000} seconds`;
     return { unit, seasons: perDay * 7 <= 100_000 ? [perDay, perDay * 7] : [perDay] };
   }
   if (median === DAY && regular(DAY, DAY)) return { unit: 'days', seasons: [7, 365] };
@@ -103,7 +111,7 @@ export function readTimeColumn(table: Table, name?: string, choice = 'a time col
       return (TIME_NAMES.test(h.trim()) && isTime) || (isTime && Number.isNaN(decimal(first))) ? [c] : [];
     });
     const distinct = (c: number) => new Set(table.rows.map((row) => row.fields[c]?.trim())).size;
-    index = candidates.length <= 1 ? candidates[0] ?? -1 : candidates.reduce((best, c) => (distinct(c) > distinct(best) ? c : best));
+    index = candidates.length <= 1 ? (candidates[0] ?? -1) : candidates.reduce((best, c) => (distinct(c) > distinct(best) ? c : best));
   }
   if (index < 0) return null;
   const times = new Float64Array(table.rows.length);
@@ -113,7 +121,12 @@ export function readTimeColumn(table: Table, name?: string, choice = 'a time col
   table.rows.forEach((row, r) => {
     const t = parseTime(row.fields[index] ?? '');
     if (Number.isNaN(t)) {
-      fail('bad_data', fieldPath(table, r, index), `a time in column ${JSON.stringify(table.header[index])} (2024-03-01, 2024-03-01T13:00, 2024-03, 2024-Q1 or 2024)`, JSON.stringify((row.fields[index] ?? '').trim().slice(0, 80)));
+      fail(
+        'bad_data',
+        fieldPath(table, r, index),
+        `a time in column ${JSON.stringify(table.header[index])} (2024-03-01, 2024-03-01T13:00, 2024-03, 2024-Q1 or 2024)`,
+        JSON.stringify((row.fields[index] ?? '').trim().slice(0, 80)),
+      );
     }
     times[r] = t;
     if (repeated < 0 && seen.has(t)) repeated = r;
@@ -131,9 +144,13 @@ export function calendarCopies(table: Table, time: TimeColumn): string[] {
   if (table.rows.length < 3) return [];
   const parts = [(d: Date) => d.getUTCFullYear(), (d: Date) => d.getUTCMonth() + 1, (d: Date) => d.getUTCDate(), (d: Date) => d.getUTCHours()];
   const dates = Array.from(time.times, (t) => new Date(t));
-  return table.header.filter((_, c) => c !== time.index && parts.some((part) => {
-    // A part that never changes (every row's hour 0) names nothing.
-    if (dates.every((d) => part(d) === part(dates[0]))) return false;
-    return table.rows.every((row, r) => decimal(row.fields[c]) === part(dates[r]));
-  }));
+  return table.header.filter(
+    (_, c) =>
+      c !== time.index &&
+      parts.some((part) => {
+        // A part that never changes (every row's hour 0) names nothing.
+        if (dates.every((d) => part(d) === part(dates[0]))) return false;
+        return table.rows.every((row, r) => decimal(row.fields[c]) === part(dates[r]));
+      }),
+  );
 }

@@ -95,18 +95,31 @@ export interface ForecastReportParts {
 /** A forecast comparison: MAE in the data's units for one target; with several targets, the mean MASE (scale-free). */
 export function forecastReport(parts: ForecastReportParts): HeldOutReport {
   const several = parts.names.length > 1;
-  const value = (s: Pick<BaselineScore, 'overall'>) => (several ? s.overall.mase ?? NaN : s.overall.mae);
+  const value = (s: Pick<BaselineScore, 'overall'>) => (several ? (s.overall.mase ?? NaN) : s.overall.mae);
   return {
     metric: several ? 'MASE' : 'MAE',
     lowerIsBetter: true,
     what: parts.what,
-    model: { name: 'model', description: '', value: value(parts.model), perTarget: parts.model.perTarget, overall: parts.model.overall, ...(parts.model.byRowsAhead === undefined ? {} : { byRowsAhead: parts.model.byRowsAhead }) },
-    baselines: parts.baselines.map((b) => ({ name: b.name, description: b.description, value: value(b), perTarget: b.perTarget, overall: b.overall, ...(b.byRowsAhead === undefined ? {} : { byRowsAhead: b.byRowsAhead }) })),
+    model: {
+      name: 'model',
+      description: '',
+      value: value(parts.model),
+      perTarget: parts.model.perTarget,
+      overall: parts.model.overall,
+      ...(parts.model.byRowsAhead === undefined ? {} : { byRowsAhead: parts.model.byRowsAhead }),
+    },
+    baselines: parts.baselines.map((b) => ({
+      name: b.name,
+      description: b.description,
+      value: value(b),
+      perTarget: b.perTarget,
+      overall: b.overall,
+      ...(b.byRowsAhead === undefined ? {} : { byRowsAhead: b.byRowsAhead }),
+    })),
     names: parts.names,
     context: parts.context,
   };
 }
-
 
 const figure = (v: number): string => (Number.isFinite(v) ? Number(v.toPrecision(4)).toString() : String(v));
 const percent = (v: number): string => `${(100 * v).toFixed(1)}%`;
@@ -136,10 +149,13 @@ export function verdict(report: HeldOutReport): string {
       : `verdict: the model does NOT beat the baseline ${best.name}: ${metric} ${percent(m)} against its ${percent(best.value)} (${points} percentage points ${m === best.value ? 'apart' : 'lower'}); train longer, on more data, or use the baseline`;
   }
   const gap = Math.abs(m - best.value);
-  const units = report.metric === 'MAE' ? ' in the data\'s units' : '';
+  const units = report.metric === 'MAE' ? " in the data's units" : '';
   const relative = best.value === 0 ? '' : `, ${((100 * gap) / best.value).toFixed(1)}%`;
   // Beside the data's units, the scale-free figure (MASE) when there is one.
-  const mase = report.metric === 'MAE' && report.model.overall?.mase != null && best.overall?.mase != null ? `; MASE ${figure(report.model.overall.mase)} against ${figure(best.overall.mase)}` : '';
+  const mase =
+    report.metric === 'MAE' && report.model.overall?.mase != null && best.overall?.mase != null
+      ? `; MASE ${figure(report.model.overall.mase)} against ${figure(best.overall.mase)}`
+      : '';
   return better
     ? `verdict: the model beats every baseline: ${report.metric} ${figure(m)} against ${figure(best.value)} for the best baseline, ${best.name} (${figure(gap)} lower${units}${relative}${mase})`
     : `verdict: the model does NOT beat the baseline ${best.name}: ${report.metric} ${figure(m)} against its ${figure(best.value)} (${figure(gap)} ${m === best.value ? 'apart' : 'higher'}${units}${relative}${mase}); use the baseline, or train longer (--epochs, --patience), on more data, or with other settings`;
@@ -170,7 +186,10 @@ export function reportLines(report: HeldOutReport): string[] {
     const name = c.name.padEnd(width);
     const how = c.description === '' ? '' : `  (${c.description})`;
     if (c.overall !== undefined) lines.push(`  ${name}  ${errorsText(c.overall, !several && report.series === undefined)}${how}`);
-    else if (c.transduction !== undefined) lines.push(`  ${name}  exact match ${percent(c.transduction.exactMatch)}  token accuracy ${percent(c.transduction.tokenAccuracy)}  BLEU ${figure(c.transduction.bleu)}${how}`);
+    else if (c.transduction !== undefined)
+      lines.push(
+        `  ${name}  exact match ${percent(c.transduction.exactMatch)}  token accuracy ${percent(c.transduction.tokenAccuracy)}  BLEU ${figure(c.transduction.bleu)}${how}`,
+      );
     else if (c.scores !== undefined) lines.push(`  ${name}  accuracy ${percent(c.scores.accuracy)}  macro-F1 ${figure(c.scores.macroF1)}${how}`);
     else lines.push(`  ${name}  ${report.metric} ${figure(c.value)}${how}`);
   }
@@ -186,12 +205,16 @@ export function reportLines(report: HeldOutReport): string[] {
   if (steps !== undefined && steps.length > 1) {
     // The model and the best baseline at each row ahead, in the report's metric.
     const best = bestOf(report);
-    const at = (e: ForecastErrors) => figure(report.metric === 'MASE' ? e.mase ?? NaN : e.mae);
-    lines.push(`  ${report.metric} by rows ahead: ${steps.map((s, i) => `${s.rowsAhead}: ${at(s.overall)}${best.byRowsAhead?.[i] === undefined ? '' : ` (${at(best.byRowsAhead[i].overall)})`}`).join(', ')} — the model's, and in brackets ${best.name}'s`);
+    const at = (e: ForecastErrors) => figure(report.metric === 'MASE' ? (e.mase ?? NaN) : e.mae);
+    lines.push(
+      `  ${report.metric} by rows ahead: ${steps.map((s, i) => `${s.rowsAhead}: ${at(s.overall)}${best.byRowsAhead?.[i] === undefined ? '' : ` (${at(best.byRowsAhead[i].overall)})`}`).join(', ')} — the model's, and in brackets ${best.name}'s`,
+    );
   }
   if (report.intervals !== undefined) {
     const i = report.intervals;
-    lines.push(`  prediction intervals at ${Number((100 * i.level).toFixed(1))}% (split conformal on the validation part's errors${report.series === undefined ? '' : ', pooled over series in units of each one\'s scale'}): coverage ${percent(i.coverage)} of ${i.count} values${Number.isNaN(i.meanWidth) ? '' : `, mean width ${figure(i.meanWidth)}`}${i.msis === null ? '' : `, MSIS ${figure(i.msis)}`}${Number.isFinite(i.meanWidth) || Number.isNaN(i.meanWidth) ? '' : ' (the validation part is too short for this level)'}${Math.abs(i.coverage - i.level) > 0.05 ? `; more than 5 points from the ${Number((100 * i.level).toFixed(1))}% asked: do not rely on these intervals at this level` : ''}`);
+    lines.push(
+      `  prediction intervals at ${Number((100 * i.level).toFixed(1))}% (split conformal on the validation part's errors${report.series === undefined ? '' : ", pooled over series in units of each one's scale"}): coverage ${percent(i.coverage)} of ${i.count} values${Number.isNaN(i.meanWidth) ? '' : `, mean width ${figure(i.meanWidth)}`}${i.msis === null ? '' : `, MSIS ${figure(i.msis)}`}${Number.isFinite(i.meanWidth) || Number.isNaN(i.meanWidth) ? '' : ' (the validation part is too short for this level)'}${Math.abs(i.coverage - i.level) > 0.05 ? `; more than 5 points from the ${Number((100 * i.level).toFixed(1))}% asked: do not rely on these intervals at this level` : ''}`,
+    );
     const line = baselineIntervalsLine(report);
     if (line !== null) lines.push(line);
   }
@@ -215,7 +238,9 @@ function seriesLines(report: HeldOutReport, series: readonly SeriesFigures[]): s
   }
   const method = bestOf(report);
   const againstMethod = series.filter((s) => s.model < (s.baselines.find((b) => b.name === method.name)?.value ?? Infinity)).length;
-  lines.push(`  the model beats ${method.name} (the best method over all series) on ${againstMethod} of ${series.length} series, and each series' own best baseline on ${wins} of ${series.length}`);
+  lines.push(
+    `  the model beats ${method.name} (the best method over all series) on ${againstMethod} of ${series.length} series, and each series' own best baseline on ${wins} of ${series.length}`,
+  );
   return lines;
 }
 
@@ -234,7 +259,8 @@ export function reportJson(report: HeldOutReport): unknown {
 export function forecastWords(rows: number, names: readonly string[], rowsAhead: readonly number[], observed = rows * names.length): string {
   const last = rowsAhead[rowsAhead.length - 1];
   const all = rows * names.length;
-  const scored = observed < all ? ` (${observed * rowsAhead.length} of them with an observed value, the only ones scored, for the model and every baseline alike)` : '';
+  const scored =
+    observed < all ? ` (${observed * rowsAhead.length} of them with an observed value, the only ones scored, for the model and every baseline alike)` : '';
   if (rowsAhead.length === 1) return `${rows} forecasts of ${names.join(', ')}, ${last} row${last === 1 ? '' : 's'} ahead${scored}`;
   return `${rows} rows of ${names.join(', ')}, each forecast ${rowsAhead[0]} to ${last} rows ahead (${rows * rowsAhead.length * names.length} forecasts)${scored}`;
 }
@@ -250,7 +276,12 @@ function baselineIntervalsLine(report: HeldOutReport): string | null {
   const best = scored.reduce((a, b) => (b.intervals!.msis! < a.intervals!.msis! ? b : a));
   const i = best.intervals!;
   const msis = i.msis!;
-  const compared = model < msis ? `the model's ${figure(model)} is lower (better) by ${percent(1 - model / msis)}` : model > msis ? `the model's ${figure(model)} is higher (worse) by ${percent(model / msis - 1)}` : `the model's is the same`;
+  const compared =
+    model < msis
+      ? `the model's ${figure(model)} is lower (better) by ${percent(1 - model / msis)}`
+      : model > msis
+        ? `the model's ${figure(model)} is higher (worse) by ${percent(model / msis - 1)}`
+        : `the model's is the same`;
   return `  the baselines' intervals, each made the same way from its own validation errors${report.series === undefined ? '' : ' (pooled over series)'}: lowest MSIS ${best.name} ${figure(msis)} (coverage ${percent(i.coverage)}${Number.isNaN(i.meanWidth) ? '' : `, mean width ${figure(i.meanWidth)}`}); ${compared}`;
 }
 

@@ -1,5 +1,6 @@
 /**
- * Two choices sliding windows make from the training rows: the smoothing method a hybrid reads (the one whose
+ * What sliding windows check and choose from the training rows: the settings they refuse and the rows they need,
+ * the deviation of each column's one-row changes (their scale), the smoothing method a hybrid reads (the one whose
  * forecasts of the validation rows are best), and which targets are read as logarithms.
  */
 import { fail } from '@weft/core';
@@ -12,7 +13,13 @@ import { fieldPath } from './table.js';
  * The smoothing method, fitted on rows [0, fitEnd), whose forecasts of rows [fitEnd, checkEnd) have the lowest MAE
  * (over every row ahead in `rowsAhead`); its forecasts made at every row, per row ahead (forecasts[s][t]).
  */
-export function chooseSmoothing(series: readonly number[], fitEnd: number, checkEnd: number, rowsAhead: readonly number[], season: number | null): { name: string; parameters: SmoothingParameters; forecasts: Float64Array[] } {
+export function chooseSmoothing(
+  series: readonly number[],
+  fitEnd: number,
+  checkEnd: number,
+  rowsAhead: readonly number[],
+  season: number | null,
+): { name: string; parameters: SmoothingParameters; forecasts: Float64Array[] } {
   const methods: SmoothingMethod[] = ['simple', 'damped', ...(season === null ? [] : (['additive', 'multiplicative'] as SmoothingMethod[]))];
   let best: { name: string; parameters: SmoothingParameters; forecasts: Float64Array[]; error: number } | null = null;
   for (const method of methods) {
@@ -26,7 +33,12 @@ export function chooseSmoothing(series: readonly number[], fitEnd: number, check
     });
     if (best === null || error < best.error) {
       const { meanSquaredError: _unused, ...parameters } = fit;
-      best = { name: method === 'simple' ? 'simple smoothing' : method === 'damped' ? 'a damped trend' : `Holt-Winters ${method}`, parameters, forecasts, error };
+      best = {
+        name: method === 'simple' ? 'simple smoothing' : method === 'damped' ? 'a damped trend' : `Holt-Winters ${method}`,
+        parameters,
+        forecasts,
+        error,
+      };
     }
   }
   if (best === null) fail('invalid_option', '--hybrid', 'a smoothing method that fits the training rows', 'none fits');
@@ -53,7 +65,13 @@ export function logTargets(input: SeriesContext): boolean[] {
     const column = values.map((row) => row[j]);
     if (asked === 'yes') {
       const bad = column.findIndex((v) => !(v > 0) && !Number.isNaN(v));
-      if (bad >= 0) fail('bad_data', fieldPath(table, bad, columns[j]), `a number > 0 in column ${JSON.stringify(table.header[columns[j]])} (--log yes reads its logarithm)`, String(column[bad]));
+      if (bad >= 0)
+        fail(
+          'bad_data',
+          fieldPath(table, bad, columns[j]),
+          `a number > 0 in column ${JSON.stringify(table.header[columns[j]])} (--log yes reads its logarithm)`,
+          String(column[bad]),
+        );
       logged[j] = true;
       continue;
     }
@@ -63,4 +81,47 @@ export function logTargets(input: SeriesContext): boolean[] {
     if (additive !== null && multiplicative !== null && multiplicative.meanSquaredError < additive.meanSquaredError) logged[j] = true;
   }
   return logged;
+}
+
+/** Refuses settings sliding windows cannot take, and a series too short for them (two seasons and the horizon). */
+export function checkWindowSettings(input: SeriesContext): void {
+  const { file, trainEnd, horizon, season, options } = input;
+  if ((options.transform ?? 'none') !== 'none')
+    fail(
+      'invalid_option',
+      '--transform',
+      "--examples streams (sliding windows already forecast the change from the window's last row)",
+      options.transform ?? 'none',
+    );
+  if (options.lookback > 0) fail('invalid_option', '--lookback', '--examples streams (sliding windows are read whole)', String(options.lookback));
+  // Two seasons and the horizon, or without a season 24 rows and the horizon (a 40-row series with the default shares).
+  const least = (season === null ? 24 : 2 * season) + horizon;
+  if (trainEnd < least) {
+    const rows = input.values.length;
+    const total = Math.ceil(least / (1 - options.validationShare - options.testShare));
+    fail(
+      'invalid_option',
+      file,
+      `at least ${least} training rows for a series ${season === null ? 'without a season' : `with a season of ${season} rows`} (${season === null ? '24 rows' : 'two seasons'} and the horizon): about ${total} rows in all with the --validation and --test shares`,
+      `${rows} rows, which leave ${trainEnd} training rows`,
+    );
+  }
+}
+
+/** The deviation of each column's one-row changes over rows [0, trainEnd) (pairs with a missing value left out; 1 where 0). */
+export function changeDeviations(values: readonly (readonly number[])[], trainEnd: number, width: number): number[] {
+  // Deviations of one-row changes per column, and of the forecast change per target, over the training rows.
+  // (Pairs with a missing value are left out.)
+  return Array.from({ length: width }, (_, j) => {
+    let sum = 0;
+    let pairs = 0;
+    for (let t = 1; t < trainEnd; t++) {
+      const d = values[t][j] - values[t - 1][j];
+      if (Number.isNaN(d)) continue;
+      sum += d * d;
+      pairs++;
+    }
+    const d = Math.sqrt(sum / Math.max(1, pairs));
+    return d > 0 && Number.isFinite(d) ? d : 1;
+  });
 }

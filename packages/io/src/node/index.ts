@@ -67,7 +67,11 @@ function writeProblem(error: unknown): string {
  * temporary name holds the process id and a random part, so two saves never share one; leftovers of killed saves
  * are removed first. `write` stands in for the system's write in tests (it returns the bytes written).
  */
-export function writeFileAtomic(path: string, text: string | Uint8Array, write: (descriptor: number, bytes: Uint8Array, offset: number, length: number) => number = writeSync): void {
+export function writeFileAtomic(
+  path: string,
+  text: string | Uint8Array,
+  write: (descriptor: number, bytes: Uint8Array, offset: number, length: number) => number = writeSync,
+): void {
   removeLeftovers(path);
   const folder = dirname(path);
   const temporary = join(folder, `.${basename(path)}.${process.pid}.${randomBytes(8).toString('hex')}.tmp`);
@@ -75,7 +79,7 @@ export function writeFileAtomic(path: string, text: string | Uint8Array, write: 
   let descriptor: number | null = null;
   try {
     descriptor = openSync(temporary, 'w');
-    for (let done = 0; done < bytes.length;) {
+    for (let done = 0; done < bytes.length; ) {
       const written = write(descriptor, bytes, done, bytes.length - done);
       if (!(written > 0)) fail('write_failed', path, `all ${bytes.length} bytes written`, `${done} (the disk took no more: is it full?)`);
       done += written;

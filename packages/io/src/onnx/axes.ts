@@ -32,16 +32,19 @@ export function moveAxes(node: OnnxNode, index: number, axes: Axes, constants: M
   if (node.opType === 'Identity') return axes;
   if (node.opType === 'Transpose') {
     const perm = attribute(node, 'perm')?.ints ?? labels.map((_, i) => labels.length - 1 - i);
-    if (perm.length !== labels.length || [...perm].sort().some((v, i) => v !== i)) fail('invalid_option', `${where}.perm`, `a permutation of ${labels.length} axes`, JSON.stringify(perm));
+    if (perm.length !== labels.length || [...perm].sort().some((v, i) => v !== i))
+      fail('invalid_option', `${where}.perm`, `a permutation of ${labels.length} axes`, JSON.stringify(perm));
     return { labels: perm.map((i) => labels[i]), sizes: axes.sizes };
   }
   if (node.opType === 'Squeeze') {
     const axesInput = node.inputs[1];
-    const list = axesInput !== undefined && axesInput !== '' ? (constants.get(axesInput)?.values as readonly number[] | undefined) : attribute(node, 'axes')?.ints;
+    const list =
+      axesInput !== undefined && axesInput !== '' ? (constants.get(axesInput)?.values as readonly number[] | undefined) : attribute(node, 'axes')?.ints;
     if (list === undefined) fail('invalid_option', `${where}.axes`, 'constant axes (the direction axis)', 'none or computed');
     const removed = list.map(normalise);
     for (const axis of removed) {
-      if (labels[axis] !== 'd' || size('d') !== 1) fail('invalid_option', `${where}.axes`, 'the direction axis of a one-direction layer', `axis ${axis} (${labels[axis] ?? 'none'})`);
+      if (labels[axis] !== 'd' || size('d') !== 1)
+        fail('invalid_option', `${where}.axes`, 'the direction axis of a one-direction layer', `axis ${axis} (${labels[axis] ?? 'none'})`);
     }
     return { labels: labels.filter((_, i) => !removed.includes(i)).map((l) => (l === 'h' ? 'f' : l)), sizes: axes.sizes };
   }

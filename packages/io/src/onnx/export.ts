@@ -37,12 +37,38 @@ export interface OnnxExportOptions {
 }
 
 /** A layer of a cell of your own as a Scan, after the checks that it can be one; returns its output's name. */
-function ownCellLayer(layer: LayerDescription, i: number, width: number, input: string, options: OnnxExportOptions, take: (name: string) => Float32Array, graph: GraphWriter): string {
+function ownCellLayer(
+  layer: LayerDescription,
+  i: number,
+  width: number,
+  input: string,
+  options: OnnxExportOptions,
+  take: (name: string) => Float32Array,
+  graph: GraphWriter,
+): string {
   const where = `model.layers[${i}]`;
   const plan = planOf(layer.cell, checkPlans(options.plans, 'exportOnnx.plans'));
-  if (plan === null) fail('invalid_option', `${where}.cell`, `a built-in cell ('lstm', 'gru', 'plain') or one whose plan is given (exportOnnx plans: { '${layer.cell}': … })`, JSON.stringify(layer.cell));
-  if (layer.bidirectional === true || layer.reverse === true) fail('invalid_option', where, `a forward layer (a cell of your own is written as an ONNX Scan, which runs forward only)`, layer.bidirectional === true ? 'bidirectional' : 'reverse');
-  if (options.lengths === true) fail('invalid_option', 'exportOnnx.lengths', `no lengths input (layer ${i}'s cell of your own is written as an ONNX Scan, which has no sequence lengths)`, 'true');
+  if (plan === null)
+    fail(
+      'invalid_option',
+      `${where}.cell`,
+      `a built-in cell ('lstm', 'gru', 'plain') or one whose plan is given (exportOnnx plans: { '${layer.cell}': … })`,
+      JSON.stringify(layer.cell),
+    );
+  if (layer.bidirectional === true || layer.reverse === true)
+    fail(
+      'invalid_option',
+      where,
+      `a forward layer (a cell of your own is written as an ONNX Scan, which runs forward only)`,
+      layer.bidirectional === true ? 'bidirectional' : 'reverse',
+    );
+  if (options.lengths === true)
+    fail(
+      'invalid_option',
+      'exportOnnx.lengths',
+      `no lengths input (layer ${i}'s cell of your own is written as an ONNX Scan, which has no sequence lengths)`,
+      'true',
+    );
   const program = traceStep(plan, { inputWidth: width, hidden: layer.hidden, layer }, layerPath(i, 'forward'));
   return writeScanLayer(program, `layers[${i}]`, layerPath(i, 'forward'), input, take, graph);
 }
@@ -124,7 +150,12 @@ export function exportOnnx(file: WeightFile, options: OnnxExportOptions = {}): O
       }
     }
     const name = `layers[${i}]`;
-    const args = [current, floats(`${name}.W`, [directions, gates * hidden, width], w), floats(`${name}.R`, [directions, gates * hidden, hidden], r), floats(`${name}.B`, [directions, 2 * gates * hidden], b)];
+    const args = [
+      current,
+      floats(`${name}.W`, [directions, gates * hidden, width], w),
+      floats(`${name}.R`, [directions, gates * hidden, hidden], r),
+      floats(`${name}.B`, [directions, 2 * gates * hidden], b),
+    ];
     if (options.lengths === true || p !== null) args.push(options.lengths === true ? 'lengths' : '');
     if (p !== null) args.push('', '', floats(`${name}.P`, [directions, 3 * hidden], p));
     const attributes: OnnxNode['attributes'][number][] = [
@@ -132,7 +163,8 @@ export function exportOnnx(file: WeightFile, options: OnnxExportOptions = {}): O
       { name: 'direction', type: 3, s: directions === 2 ? 'bidirectional' : layer.reverse === true ? 'reverse' : 'forward' },
     ];
     if (kind === 'gru') attributes.push({ name: 'linear_before_reset', type: 2, i: layer.resetAfterProduct === true ? 1 : 0 });
-    if (kind === 'plain') attributes.push({ name: 'activations', type: 8, strings: Array.from({ length: directions }, () => (layer.activation === 'relu' ? 'Relu' : 'Tanh')) });
+    if (kind === 'plain')
+      attributes.push({ name: 'activations', type: 8, strings: Array.from({ length: directions }, () => (layer.activation === 'relu' ? 'Relu' : 'Tanh')) });
     node(kind === 'lstm' ? 'LSTM' : kind === 'gru' ? 'GRU' : 'RNN', name, args, [`${name}.Y`]);
     nodes[nodes.length - 1] = { ...nodes[nodes.length - 1], attributes };
     // Y [steps, directions, batch, hidden] → [steps, batch, directions·hidden]: ours is [forward | backward].

@@ -97,7 +97,6 @@ const RECURRENT = new Set(['LSTM', 'GRU', 'RNN']);
 const GLUE = new Set(['Identity', 'Squeeze', 'Transpose', 'Reshape']);
 const SUPPORTED = new Set([...RECURRENT, ...GLUE, 'Gather', 'MatMul', 'Add', 'Gemm', 'Softmax', 'LogSoftmax']);
 
-
 /** Reads an ONNX model (see above); throws a WeftError naming the node, operator and attribute of anything weft does not run. */
 export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): OnnxImport {
   const graph = model.graph;
@@ -129,7 +128,12 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
     const name = node.inputs[slot];
     const t = name === undefined || name === '' ? undefined : constants.get(name);
     if (t === undefined) {
-      const why = name === undefined || name === '' ? 'none' : graphInputs.has(name) ? `graph input "${name}" with no initializer (give its values)` : `"${name}", computed by another node`;
+      const why =
+        name === undefined || name === ''
+          ? 'none'
+          : graphInputs.has(name)
+            ? `graph input "${name}" with no initializer (give its values)`
+            : `"${name}", computed by another node`;
       fail('bad_data', `${nodeLabel(node, index)}.input[${slot}]`, `${what}: an initializer or given values`, why);
     }
     if (t.dataType !== ONNX_FLOAT) fail('bad_data', `${nodeLabel(node, index)}.input[${slot}] ("${name}")`, 'FLOAT data', `data type ${t.dataType}`);
@@ -139,9 +143,21 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
   const consumedOnce = (value: string, from: string): [OnnxNode, number] | null => {
     const list = consumers.get(value) ?? [];
     if (list.length === 0) return null;
-    if (list.length > 1) fail('invalid_option', `${from} output "${value}"`, 'one node reading it (weft reads a chain of layers)', `${list.length} nodes: ${list.map((i) => nodeLabel(graph.nodes[i], i)).join(', ')}`);
+    if (list.length > 1)
+      fail(
+        'invalid_option',
+        `${from} output "${value}"`,
+        'one node reading it (weft reads a chain of layers)',
+        `${list.length} nodes: ${list.map((i) => nodeLabel(graph.nodes[i], i)).join(', ')}`,
+      );
     // A node met twice on the walk closes a cycle (an output fed back into the chain): refused, never followed.
-    if (used.has(list[0])) fail('invalid_option', `${from} output "${value}"`, 'a graph without cycles (each node met once on the way from the input to the outputs)', `read again by ${nodeLabel(graph.nodes[list[0]], list[0])}, met before`);
+    if (used.has(list[0]))
+      fail(
+        'invalid_option',
+        `${from} output "${value}"`,
+        'a graph without cycles (each node met once on the way from the input to the outputs)',
+        `read again by ${nodeLabel(graph.nodes[list[0]], list[0])}, met before`,
+      );
     return [graph.nodes[list[0]], list[0]];
   };
 
@@ -157,7 +173,8 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
   if (firstX !== undefined) {
     const gather = graph.nodes[firstX];
     const where = nodeLabel(gather, firstX);
-    if (gather.opType !== 'Gather') fail('invalid_option', where, 'a Gather of token ids from a constant table, or nothing, before the first recurrent node', gather.opType);
+    if (gather.opType !== 'Gather')
+      fail('invalid_option', where, 'a Gather of token ids from a constant table, or nothing, before the first recurrent node', gather.opType);
     const axis = attribute(gather, 'axis')?.i ?? 0;
     if (axis !== 0) fail('invalid_option', `${where}.axis`, '0 (rows of the table)', String(axis));
     embedding = constant(gather, firstX, 0, 'an embedding table');
@@ -191,8 +208,12 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
       // The previous layer's output, through the glue, must be [time, batch, features] in this node's layout.
       const wanted = nodeLayout === 0 ? ['t', 'b', 'f'] : ['b', 't', 'f'];
       if (node.inputs[0] !== currentValue || current === null || current.labels.join() !== wanted.join()) {
-        fail('invalid_option', `${where}.input[0]`, `the previous layer's output as [${wanted.join(', ')}] (t time, b batch, f features)`,
-          current === null || node.inputs[0] !== currentValue ? `"${node.inputs[0]}"` : `[${current.labels.join(', ')}]`);
+        fail(
+          'invalid_option',
+          `${where}.input[0]`,
+          `the previous layer's output as [${wanted.join(', ')}] (t time, b batch, f features)`,
+          current === null || node.inputs[0] !== currentValue ? `"${node.inputs[0]}"` : `[${current.labels.join(', ')}]`,
+        );
       }
     }
     const w = constant(node, index, 1, 'the input weights W');
@@ -201,13 +222,27 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
     const hidden = declared ?? r.dims[2];
     const inputWidth = w.dims[2];
     if (w.dims.length !== 3 || w.dims[0] !== directions || w.dims[1] !== gates * hidden) {
-      fail('bad_data', `${where}.input[1] (W, "${node.inputs[1]}")`, `dims [${directions}, ${gates * hidden}, input width] (${directions} direction(s), ${gates} gates × hidden_size ${hidden})`, JSON.stringify(w.dims));
+      fail(
+        'bad_data',
+        `${where}.input[1] (W, "${node.inputs[1]}")`,
+        `dims [${directions}, ${gates * hidden}, input width] (${directions} direction(s), ${gates} gates × hidden_size ${hidden})`,
+        JSON.stringify(w.dims),
+      );
     }
     if (r.dims.length !== 3 || r.dims[0] !== directions || r.dims[1] !== gates * hidden || r.dims[2] !== hidden) {
-      fail('bad_data', `${where}.input[2] (R, "${node.inputs[2]}")`, `dims [${directions}, ${gates * hidden}, ${hidden}] (hidden_size ${hidden})`, JSON.stringify(r.dims));
+      fail(
+        'bad_data',
+        `${where}.input[2] (R, "${node.inputs[2]}")`,
+        `dims [${directions}, ${gates * hidden}, ${hidden}] (hidden_size ${hidden})`,
+        JSON.stringify(r.dims),
+      );
     }
-    if (width !== -1 && inputWidth !== width) fail('bad_data', `${where}.input[1] (W, "${node.inputs[1]}")`, `an input width of ${width} (what the layer before gives)`, String(inputWidth));
-    const optional = (slot: number): OnnxTensor | null => (node.inputs[slot] === undefined || node.inputs[slot] === '' ? null : constant(node, index, slot, ['', '', '', 'the biases B', '', '', '', 'the peepholes P'][slot]));
+    if (width !== -1 && inputWidth !== width)
+      fail('bad_data', `${where}.input[1] (W, "${node.inputs[1]}")`, `an input width of ${width} (what the layer before gives)`, String(inputWidth));
+    const optional = (slot: number): OnnxTensor | null =>
+      node.inputs[slot] === undefined || node.inputs[slot] === ''
+        ? null
+        : constant(node, index, slot, ['', '', '', 'the biases B', '', '', '', 'the peepholes P'][slot]);
     const b = optional(3);
     if (b !== null && (b.dims.length !== 2 || b.dims[0] !== directions || b.dims[1] !== 2 * gates * hidden)) {
       fail('bad_data', `${where}.input[3] (B, "${node.inputs[3]}")`, `dims [${directions}, ${2 * gates * hidden}]`, JSON.stringify(b.dims));
@@ -223,24 +258,50 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
       if (graphInputs.has(name)) return name;
       const t = constants.get(name);
       if (t !== undefined && slot >= 5 && Array.from(t.values as ArrayLike<number>).every((v) => v === 0)) return null;
-      fail('invalid_option', `${where}.input[${slot}] (${what}, "${name}")`, slot === 4 ? 'a graph input (lengths are given per run)' : 'a graph input, or zeros (weft states start at zero)', t === undefined ? 'a value computed by another node' : 'a constant that is not all zeros');
+      fail(
+        'invalid_option',
+        `${where}.input[${slot}] (${what}, "${name}")`,
+        slot === 4 ? 'a graph input (lengths are given per run)' : 'a graph input, or zeros (weft states start at zero)',
+        t === undefined ? 'a value computed by another node' : 'a constant that is not all zeros',
+      );
     };
     const lengthsInput = runInput(4, 'sequence_lens');
     if (lengthsInput !== null) {
-      if (lengths !== null && lengths !== lengthsInput) fail('invalid_option', `${where}.input[4]`, `the same lengths as the layers before ("${lengths}")`, `"${lengthsInput}"`);
+      if (lengths !== null && lengths !== lengthsInput)
+        fail('invalid_option', `${where}.input[4]`, `the same lengths as the layers before ("${lengths}")`, `"${lengthsInput}"`);
       lengths = lengthsInput;
     }
     initialState.push({ h: runInput(5, 'initial_h'), c: kind === 'lstm' ? runInput(6, 'initial_c') : null });
-    states.push({ h: node.outputs[1] !== undefined && node.outputs[1] !== '' ? node.outputs[1] : null, c: node.outputs[2] !== undefined && node.outputs[2] !== '' ? node.outputs[2] : null });
+    states.push({
+      h: node.outputs[1] !== undefined && node.outputs[1] !== '' ? node.outputs[1] : null,
+      c: node.outputs[2] !== undefined && node.outputs[2] !== '' ? node.outputs[2] : null,
+    });
     for (const state of [node.outputs[1], node.outputs[2]]) {
       if (state !== undefined && state !== '' && (consumers.get(state) ?? []).length > 0) {
-        fail('invalid_option', `${where} output "${state}"`, 'final states read by no other node (weft passes only the sequence between layers)', `read by ${nodeLabel(graph.nodes[consumers.get(state)![0]], consumers.get(state)![0])}`);
+        fail(
+          'invalid_option',
+          `${where} output "${state}"`,
+          'final states read by no other node (weft passes only the sequence between layers)',
+          `read by ${nodeLabel(graph.nodes[consumers.get(state)![0]], consumers.get(state)![0])}`,
+        );
       }
     }
 
     // The tensors, direction by direction, in weft's names and layouts.
-    tensors.push(...layerTensors(kind, layers.length, reverse ? ['backward'] : directions === 2 ? ['forward', 'backward'] : ['forward'], inputWidth, hidden, resetAfter,
-      w.values as Float32Array, r.values as Float32Array, b === null ? null : (b.values as Float32Array), p === null ? null : (p.values as Float32Array)));
+    tensors.push(
+      ...layerTensors(
+        kind,
+        layers.length,
+        reverse ? ['backward'] : directions === 2 ? ['forward', 'backward'] : ['forward'],
+        inputWidth,
+        hidden,
+        resetAfter,
+        w.values as Float32Array,
+        r.values as Float32Array,
+        b === null ? null : (b.values as Float32Array),
+        p === null ? null : (p.values as Float32Array),
+      ),
+    );
     const layer: { -readonly [K in keyof LayerDescription]: LayerDescription[K] } = { cell: kind, hidden };
     if (directions === 2) layer.bidirectional = true;
     if (reverse) layer.reverse = true;
@@ -255,7 +316,8 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
     current = { labels: nodeLayout === 0 ? ['t', 'd', 'b', 'h'] : ['b', 't', 'd', 'h'], sizes: { d: directions, h: hidden, f: directions * hidden } };
     if (currentValue === '') {
       // Only the final states are asked for: fine for the last layer, whose states the model's run gives.
-      if (layerIndex < recurrent.length - 1) fail('invalid_option', `${where}.output[0]`, 'the sequence output Y (weft layers pass the sequence on)', 'not asked for');
+      if (layerIndex < recurrent.length - 1)
+        fail('invalid_option', `${where}.output[0]`, 'the sequence output Y (weft layers pass the sequence on)', 'not asked for');
       return;
     }
     for (;;) {
@@ -269,7 +331,11 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
   });
 
   // The readout: MatMul (+ Add), or Gemm on flattened rows; then Softmax or LogSoftmax.
-  let readout: { weights: Float32Array; bias: Float32Array; width: number } | null = null as { weights: Float32Array; bias: Float32Array; width: number } | null;
+  let readout: { weights: Float32Array; bias: Float32Array; width: number } | null = null as {
+    weights: Float32Array;
+    bias: Float32Array;
+    width: number;
+  } | null;
   let outputFunction: OnnxBinding['outputFunction'] = 'none';
   let axes = current as Axes | null;
   for (;;) {
@@ -286,14 +352,22 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
       const weights = constant(node, index, 1, 'the readout weights');
       let transB = 0;
       if (node.opType === 'Gemm') {
-        if (labels.length !== 2) fail('invalid_option', `${where}.input[0]`, 'rows [steps·batch, features] (Gemm is 2-D; flatten with Reshape)', `[${labels.join(', ')}]`);
+        if (labels.length !== 2)
+          fail('invalid_option', `${where}.input[0]`, 'rows [steps·batch, features] (Gemm is 2-D; flatten with Reshape)', `[${labels.join(', ')}]`);
         const alpha = attribute(node, 'alpha')?.f ?? 1;
         const beta = attribute(node, 'beta')?.f ?? 1;
-        if (alpha !== 1 || beta !== 1 || (attribute(node, 'transA')?.i ?? 0) !== 0) fail('invalid_option', `${where}`, 'alpha 1, beta 1, transA 0', `alpha ${alpha}, beta ${beta}, transA ${attribute(node, 'transA')?.i ?? 0}`);
+        if (alpha !== 1 || beta !== 1 || (attribute(node, 'transA')?.i ?? 0) !== 0)
+          fail('invalid_option', `${where}`, 'alpha 1, beta 1, transA 0', `alpha ${alpha}, beta ${beta}, transA ${attribute(node, 'transA')?.i ?? 0}`);
         transB = attribute(node, 'transB')?.i ?? 0;
       }
       const [rows, cols] = transB === 0 ? weights.dims : [weights.dims[1], weights.dims[0]];
-      if (weights.dims.length !== 2 || rows !== width) fail('bad_data', `${where}.input[1] ("${node.inputs[1]}")`, `a matrix with ${width} ${transB === 0 ? 'rows' : 'columns'} (the features)`, JSON.stringify(weights.dims));
+      if (weights.dims.length !== 2 || rows !== width)
+        fail(
+          'bad_data',
+          `${where}.input[1] ("${node.inputs[1]}")`,
+          `a matrix with ${width} ${transB === 0 ? 'rows' : 'columns'} (the features)`,
+          JSON.stringify(weights.dims),
+        );
       const values = new Float32Array(width * cols);
       const wv = weights.values as Float32Array;
       for (let i = 0; i < width; i++) for (let j = 0; j < cols; j++) values[i * cols + j] = transB === 0 ? wv[i * cols + j] : wv[j * width + i];
@@ -317,15 +391,23 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
     currentValue = node.outputs[0];
   }
   graph.nodes.forEach((node, index) => {
-    if (!used.has(index)) fail('invalid_option', nodeLabel(node, index), 'a node on the chain from the input to the output', 'a node off it (weft reads a single chain of layers)');
+    if (!used.has(index))
+      fail('invalid_option', nodeLabel(node, index), 'a node on the chain from the input to the output', 'a node off it (weft reads a single chain of layers)');
   });
-  if (currentValue !== '' && !graphOutputs.has(currentValue)) fail('invalid_option', 'graph output', `"${currentValue}" (the end of the chain)`, `[${[...graphOutputs].join(', ')}]`);
+  if (currentValue !== '' && !graphOutputs.has(currentValue))
+    fail('invalid_option', 'graph output', `"${currentValue}" (the end of the chain)`, `[${[...graphOutputs].join(', ')}]`);
   if (currentValue === '' && states[states.length - 1].h === null) fail('invalid_option', 'graph output', "the last layer's Y or Y_h", 'neither');
   if (readout !== null) {
-    tensors.push({ name: 'readout.weights', shape: [width, readout.width], values: readout.weights }, { name: 'readout.bias', shape: [readout.width], values: readout.bias });
+    tensors.push(
+      { name: 'readout.weights', shape: [width, readout.width], values: readout.weights },
+      { name: 'readout.bias', shape: [readout.width], values: readout.bias },
+    );
   }
   const description: ModelDescription = {
-    input: inputKind === 'tokens' ? { kind: 'embedding', vocabulary: (embedding as OnnxTensor).dims[0], width: (embedding as OnnxTensor).dims[1] } : { kind: 'values', width: layers.length > 0 ? (tensors.find((t) => t.name.endsWith('.input'))?.shape[0] ?? 0) : 0 },
+    input:
+      inputKind === 'tokens'
+        ? { kind: 'embedding', vocabulary: (embedding as OnnxTensor).dims[0], width: (embedding as OnnxTensor).dims[1] }
+        : { kind: 'values', width: layers.length > 0 ? (tensors.find((t) => t.name.endsWith('.input'))?.shape[0] ?? 0) : 0 },
     layers,
     ...(readout !== null ? { readout: { width: readout.width } } : {}),
   };
@@ -342,14 +424,31 @@ export function importOnnx(model: OnnxModel, options: OnnxImportOptions = {}): O
   return {
     description,
     tensors,
-    binding: { input: { name: inputName, kind: inputKind }, layout, lengths, initialState, output: { name: currentValue, axes: currentValue === '' ? [] : (axes as Axes).labels }, states, outputFunction, opset, producer: model.producerName },
+    binding: {
+      input: { name: inputName, kind: inputKind },
+      layout,
+      lengths,
+      initialState,
+      output: { name: currentValue, axes: currentValue === '' ? [] : (axes as Axes).labels },
+      states,
+      outputFunction,
+      opset,
+      producer: model.producerName,
+    },
     metadata,
   };
 }
 
-function biasOf(node: OnnxNode, index: number, slot: number, width: number, constant: (node: OnnxNode, index: number, slot: number, what: string) => OnnxTensor): Float32Array {
+function biasOf(
+  node: OnnxNode,
+  index: number,
+  slot: number,
+  width: number,
+  constant: (node: OnnxNode, index: number, slot: number, what: string) => OnnxTensor,
+): Float32Array {
   const bias = constant(node, index, slot, 'the readout bias');
   const count = bias.dims.reduce((n, d) => n * d, 1);
-  if (count !== width || bias.dims[bias.dims.length - 1] !== width) fail('bad_data', `${nodeLabel(node, index)}.input[${slot}] ("${node.inputs[slot]}")`, `a bias of ${width} values`, JSON.stringify(bias.dims));
+  if (count !== width || bias.dims[bias.dims.length - 1] !== width)
+    fail('bad_data', `${nodeLabel(node, index)}.input[${slot}] ("${node.inputs[slot]}")`, `a bias of ${width} values`, JSON.stringify(bias.dims));
   return Float32Array.from(bias.values as Float32Array);
 }

@@ -19,7 +19,16 @@ import type { NamedValues } from '../weight-file.js';
 export const gateBlocks: Readonly<Record<'lstm' | 'gru' | 'plain', readonly number[]>> = { lstm: [0, 2, 3, 1], gru: [0, 1, 2], plain: [0] };
 
 /** ours [width, columns]: ours[k, (first + block)·H + j] = onnx[(onnxBlock·H + j)·width + k] for the listed blocks. */
-export function fromOnnxBlocks(ours: Float32Array, columns: number, onnx: ArrayLike<number>, onnxOffset: number, width: number, hidden: number, blocks: readonly number[], first = 0): void {
+export function fromOnnxBlocks(
+  ours: Float32Array,
+  columns: number,
+  onnx: ArrayLike<number>,
+  onnxOffset: number,
+  width: number,
+  hidden: number,
+  blocks: readonly number[],
+  first = 0,
+): void {
   blocks.forEach((onnxBlock, block) => {
     for (let j = 0; j < hidden; j++) {
       const row = onnxOffset + (onnxBlock * hidden + j) * width;
@@ -29,7 +38,16 @@ export function fromOnnxBlocks(ours: Float32Array, columns: number, onnx: ArrayL
 }
 
 /** The inverse of fromOnnxBlocks: ONNX rows from our columns. */
-export function toOnnxBlocks(onnx: Float32Array, onnxOffset: number, ours: ArrayLike<number>, columns: number, width: number, hidden: number, blocks: readonly number[], first = 0): void {
+export function toOnnxBlocks(
+  onnx: Float32Array,
+  onnxOffset: number,
+  ours: ArrayLike<number>,
+  columns: number,
+  width: number,
+  hidden: number,
+  blocks: readonly number[],
+  first = 0,
+): void {
   blocks.forEach((onnxBlock, block) => {
     for (let j = 0; j < hidden; j++) {
       const row = onnxOffset + (onnxBlock * hidden + j) * width;
@@ -48,8 +66,16 @@ export function sumBiases(wb: number, rb: number): number {
  * and layouts for layer `layer`.
  */
 export function layerTensors(
-  kind: 'lstm' | 'gru' | 'plain', layer: number, cells: readonly ('forward' | 'backward')[], inputWidth: number, hidden: number, resetAfter: boolean,
-  w: Float32Array, r: Float32Array, b: Float32Array | null, p: Float32Array | null,
+  kind: 'lstm' | 'gru' | 'plain',
+  layer: number,
+  cells: readonly ('forward' | 'backward')[],
+  inputWidth: number,
+  hidden: number,
+  resetAfter: boolean,
+  w: Float32Array,
+  r: Float32Array,
+  b: Float32Array | null,
+  p: Float32Array | null,
 ): NamedValues[] {
   const gates = kind === 'lstm' ? 4 : kind === 'gru' ? 3 : 1;
   const out: NamedValues[] = [];

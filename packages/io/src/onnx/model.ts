@@ -15,7 +15,22 @@ import type { WireField } from './protobuf.js';
 export const ONNX_FLOAT = 1;
 export const ONNX_INT32 = 6;
 export const ONNX_INT64 = 7;
-const typeNames: Record<number, string> = { 1: 'FLOAT', 2: 'UINT8', 3: 'INT8', 4: 'UINT16', 5: 'INT16', 6: 'INT32', 7: 'INT64', 8: 'STRING', 9: 'BOOL', 10: 'FLOAT16', 11: 'DOUBLE', 12: 'UINT32', 13: 'UINT64', 16: 'BFLOAT16' };
+const typeNames: Record<number, string> = {
+  1: 'FLOAT',
+  2: 'UINT8',
+  3: 'INT8',
+  4: 'UINT16',
+  5: 'INT16',
+  6: 'INT32',
+  7: 'INT64',
+  8: 'STRING',
+  9: 'BOOL',
+  10: 'FLOAT16',
+  11: 'DOUBLE',
+  12: 'UINT32',
+  13: 'UINT64',
+  16: 'BFLOAT16',
+};
 
 /** A tensor: its name, dims and values (float32, or integers for INT32/INT64). */
 export interface OnnxTensor {
@@ -159,7 +174,7 @@ export function decodeTensor(bytes: Uint8Array, path = 'tensor', offset = 0): On
   const dims = (map.get(1) ?? []).flatMap((f) => int64sOf(f, where, 'dims'));
   const dataType = last(map, 2) === undefined ? 0 : int64Of(last(map, 2)!, where, 'data_type');
   const location = last(map, 14);
-  if (location !== undefined && int64Of(location, where, 'data_location') !== 0 || map.has(13)) {
+  if ((location !== undefined && int64Of(location, where, 'data_location') !== 0) || map.has(13)) {
     fail('bad_data', `${where}.external_data`, 'tensor data inside the file', 'data held in an external file (save the model with its weights inside it)');
   }
   for (const d of dims) {
@@ -182,7 +197,8 @@ export function decodeTensor(bytes: Uint8Array, path = 'tensor', offset = 0): On
     let values: Float32Array;
     if (raw !== undefined) {
       const data = bytesOf(raw, where, 'raw_data');
-      if (data.length !== count * 4) fail('bad_data', `${where}.raw_data`, `${count * 4} bytes (${count} floats for dims ${JSON.stringify(dims)})`, `${data.length} bytes`);
+      if (data.length !== count * 4)
+        fail('bad_data', `${where}.raw_data`, `${count * 4} bytes (${count} floats for dims ${JSON.stringify(dims)})`, `${data.length} bytes`);
       values = new Float32Array(littleEndian(data, 4).buffer);
     } else {
       const parts = (map.get(4) ?? []).map((f) => floatsOf(f, where, 'float_data'));
@@ -281,7 +297,8 @@ function decodeGraph(graph: Map<number, WireField[]>, path: string, base: (f: Wi
     };
   });
   const initializers = (graph.get(5) ?? []).map((f, k) => decodeTensor(bytesOf(f, path, `initializer[${k}]`), `${path}.initializer[${k}]`, base(f)));
-  const values = (number: number, name: string) => (graph.get(number) ?? []).map((f, k) => decodeValueInfo(nested(f, path, `${name}[${k}]`, base), `${path}.${name}[${k}]`, base));
+  const values = (number: number, name: string) =>
+    (graph.get(number) ?? []).map((f, k) => decodeValueInfo(nested(f, path, `${name}[${k}]`, base), `${path}.${name}[${k}]`, base));
   return {
     name: last(graph, 2) === undefined ? '' : stringOf(last(graph, 2)!, path, 'name'),
     nodes,
@@ -297,15 +314,20 @@ export function decodeOnnxModel(bytes: Uint8Array, file = 'model.onnx'): OnnxMod
   const model = groups(readFields(bytes, 0, file));
   const irVersion = last(model, 1) === undefined ? 0 : int64Of(last(model, 1)!, file, 'ir_version');
   // ir_version is an int64 (onnx.proto): one written past 2^63 − 1 as unsigned reads as negative, and no version is.
-  if (irVersion < 0) fail('bad_data', `${file}.ir_version`, 'a version ≥ 0', `${irVersion} (${(2n ** 64n + BigInt(irVersion)).toString()} written as unsigned)`);
+  if (irVersion < 0)
+    fail('bad_data', `${file}.ir_version`, 'a version ≥ 0', `${irVersion} (${(2n ** 64n + BigInt(irVersion)).toString()} written as unsigned)`);
   const opsets = (model.get(8) ?? []).map((f) => {
     const o = groups(nested(f, file, 'opset_import', base));
-    return { domain: last(o, 1) === undefined ? '' : stringOf(last(o, 1)!, file, 'opset_import.domain'), version: last(o, 2) === undefined ? 0 : int64Of(last(o, 2)!, file, 'opset_import.version') };
+    return {
+      domain: last(o, 1) === undefined ? '' : stringOf(last(o, 1)!, file, 'opset_import.domain'),
+      version: last(o, 2) === undefined ? 0 : int64Of(last(o, 2)!, file, 'opset_import.version'),
+    };
   });
   const metadata: Record<string, string> = Object.create(null) as Record<string, string>;
   for (const f of model.get(14) ?? []) {
     const entry = groups(nested(f, file, 'metadata_props', base));
-    metadata[last(entry, 1) === undefined ? '' : stringOf(last(entry, 1)!, file, 'metadata_props.key')] = last(entry, 2) === undefined ? '' : stringOf(last(entry, 2)!, file, 'metadata_props.value');
+    metadata[last(entry, 1) === undefined ? '' : stringOf(last(entry, 1)!, file, 'metadata_props.key')] =
+      last(entry, 2) === undefined ? '' : stringOf(last(entry, 2)!, file, 'metadata_props.value');
   }
   const graphField = last(model, 7);
   if (graphField === undefined) fail('bad_data', `${file}.graph`, 'a graph', 'none (is this an ONNX model file?)');
@@ -336,15 +358,17 @@ function writeTensor(w: ProtoWriter, t: OnnxTensor): void {
 
 function writeValueInfo(w: ProtoWriter, v: OnnxValueInfo): void {
   w.string(1, v.name);
-  w.message(2, (type) => type.message(1, (tensor) => {
-    tensor.int(1, v.elementType);
-    if (v.dims !== null) {
-      const dims = v.dims;
-      tensor.message(2, (shape) => {
-        for (const d of dims) shape.message(1, (dim) => (typeof d === 'number' ? dim.int(1, d) : typeof d === 'string' ? dim.string(2, d) : undefined));
-      });
-    }
-  }));
+  w.message(2, (type) =>
+    type.message(1, (tensor) => {
+      tensor.int(1, v.elementType);
+      if (v.dims !== null) {
+        const dims = v.dims;
+        tensor.message(2, (shape) => {
+          for (const d of dims) shape.message(1, (dim) => (typeof d === 'number' ? dim.int(1, d) : typeof d === 'string' ? dim.string(2, d) : undefined));
+        });
+      }
+    }),
+  );
 }
 
 function writeGraph(g: ProtoWriter, graph: OnnxGraph): void {

@@ -21,28 +21,59 @@ export interface GraphWriter {
   node(opType: string, name: string, inputs: string[], outputs: string[], attributes?: OnnxAttribute[]): void;
 }
 
-const operators: Record<string, string> = { product: 'MatMul', add: 'Add', subtract: 'Sub', multiply: 'Mul', sigmoid: 'Sigmoid', tanh: 'Tanh', relu: 'Relu', columns: 'Slice' };
+const operators: Record<string, string> = {
+  product: 'MatMul',
+  add: 'Add',
+  subtract: 'Sub',
+  multiply: 'Mul',
+  sigmoid: 'Sigmoid',
+  tanh: 'Tanh',
+  relu: 'Relu',
+  columns: 'Slice',
+};
 
 /**
  * Writes layer `name` (`layers[0]`) of a plan's cell reading `input` [steps, batch, inputWidth]; its parameters are
  * `parameters.<name>` of the weight file (via `take`). Returns the name of its output [steps, batch, hidden].
  */
-export function writeScanLayer(program: StepProgram, name: string, parameters: string, input: string, take: (name: string) => Float32Array, graph: GraphWriter): string {
+export function writeScanLayer(
+  program: StepProgram,
+  name: string,
+  parameters: string,
+  input: string,
+  take: (name: string) => Float32Array,
+  graph: GraphWriter,
+): string {
   for (const p of program.parameters) graph.floats(`${parameters}.${p.name}`, [...p.shape], take(`${parameters}.${p.name}`));
   const shape = `${name}.inputShape`;
   const batch = `${name}.batch`;
   graph.node('Shape', shape, [input], [shape]);
   graph.node('Gather', batch, [shape, graph.int64s(`${name}.batchAxis`, [1])], [batch], [{ name: 'axis', type: 2, i: 0 }]);
-  const zeros = program.state.map((slot, s) => {
+  const zeros = program.state.map((slot) => {
     const dims = `${name}.${slot.name}.dims`;
     graph.node('Concat', dims, [batch, graph.int64s(`${name}.${slot.name}.width`, [slot.width])], [dims], [{ name: 'axis', type: 2, i: 0 }]);
     const zero = `${name}.${slot.name}.zero`;
-    graph.node('ConstantOfShape', zero, [dims], [zero], [{ name: 'value', type: 4, t: { name: '', dataType: ONNX_FLOAT, dims: [1], values: Float32Array.of(0) } }]);
+    graph.node(
+      'ConstantOfShape',
+      zero,
+      [dims],
+      [zero],
+      [{ name: 'value', type: 4, t: { name: '', dataType: ONNX_FLOAT, dims: [1], values: Float32Array.of(0) } }],
+    );
     return zero;
   });
   const body = stepGraph(program, name, parameters, graph);
   const finals = program.state.map((slot) => `${name}.final.${slot.name}`);
-  graph.node('Scan', name, [...zeros, input], [...finals, `${name}.output`], [{ name: 'body', type: 5, g: body }, { name: 'num_scan_inputs', type: 2, i: 1 }]);
+  graph.node(
+    'Scan',
+    name,
+    [...zeros, input],
+    [...finals, `${name}.output`],
+    [
+      { name: 'body', type: 5, g: body },
+      { name: 'num_scan_inputs', type: 2, i: 1 },
+    ],
+  );
   return `${name}.output`;
 }
 
@@ -61,13 +92,26 @@ function stepGraph(program: StepProgram, name: string, parameters: string, graph
     else if (instruction.b >= 0) inputs.push(valueName(instruction.b));
     else if (instruction.operation === 'columns') {
       const at = `${name}.v${instruction.out}`;
-      inputs.push(graph.int64s(`${at}.starts`, [instruction.start]), graph.int64s(`${at}.ends`, [instruction.start + values[instruction.out].width]), graph.int64s(`${at}.axes`, [-1]));
+      inputs.push(
+        graph.int64s(`${at}.starts`, [instruction.start]),
+        graph.int64s(`${at}.ends`, [instruction.start + values[instruction.out].width]),
+        graph.int64s(`${at}.axes`, [-1]),
+      );
     }
-    return { name: `${name}.v${instruction.out}`, opType: operators[instruction.operation], domain: '', inputs, outputs: [valueName(instruction.out)], attributes: [] };
+    return {
+      name: `${name}.v${instruction.out}`,
+      opType: operators[instruction.operation],
+      domain: '',
+      inputs,
+      outputs: [valueName(instruction.out)],
+      attributes: [],
+    };
   });
   // Every body output its own value: the new state slots, then the step's output (the first slot's value again).
   const outputs = program.state.map((slot) => `${name}.next.${slot.name}`);
-  program.results.forEach((id, s) => nodes.push({ name: outputs[s], opType: 'Identity', domain: '', inputs: [valueName(id)], outputs: [outputs[s]], attributes: [] }));
+  program.results.forEach((id, s) =>
+    nodes.push({ name: outputs[s], opType: 'Identity', domain: '', inputs: [valueName(id)], outputs: [outputs[s]], attributes: [] }),
+  );
   nodes.push({ name: `${name}.y`, opType: 'Identity', domain: '', inputs: [valueName(program.results[0])], outputs: [`${name}.y`], attributes: [] });
   const info = (value: string, width: number): OnnxValueInfo => ({ name: value, elementType: ONNX_FLOAT, dims: ['batch', width] });
   return {

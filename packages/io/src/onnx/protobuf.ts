@@ -49,7 +49,12 @@ export function readFields(bytes: Uint8Array, offset: number, path: string): Wir
     } else if (wire === 2) {
       const length = varint();
       if (length > BigInt(bytes.length - i)) {
-        fail('bad_data', `${path} @${at}`, `a field of at most ${bytes.length - i} bytes (what is left)`, `a length of ${length} (field ${number}; the file is cut short or damaged)`);
+        fail(
+          'bad_data',
+          `${path} @${at}`,
+          `a field of at most ${bytes.length - i} bytes (what is left)`,
+          `a length of ${length} (field ${number}; the file is cut short or damaged)`,
+        );
       }
       const value = bytes.subarray(i, i + Number(length));
       i += Number(length);
@@ -69,7 +74,12 @@ export function readFields(bytes: Uint8Array, offset: number, path: string): Wir
 /** Refuses a field whose wire type is not the one the schema gives it. */
 export function requireWire(field: WireField, wire: number, path: string, name: string): void {
   if (field.wire !== wire) {
-    fail('bad_data', `${path}.${name} @${field.at}`, `wire type ${wire} (${wireNames[wire]})`, `wire type ${field.wire} (${wireNames[field.wire] ?? 'unknown'})`);
+    fail(
+      'bad_data',
+      `${path}.${name} @${field.at}`,
+      `wire type ${wire} (${wireNames[wire]})`,
+      `wire type ${field.wire} (${wireNames[field.wire] ?? 'unknown'})`,
+    );
   }
 }
 

@@ -33,8 +33,10 @@ export function recurrentForm(node: OnnxNode, index: number): RecurrentForm {
   const directions: 1 | 2 = direction === 'bidirectional' ? 2 : 1;
   for (const a of node.attributes) {
     if (a.name === 'clip') fail('invalid_option', `${where}.clip`, 'no clip (weft cells do not clip their activations)', String(a.f));
-    if (a.name === 'input_forget' && (a.i ?? 0) !== 0) fail('invalid_option', `${where}.input_forget`, '0 (weft LSTMs have separate input and forget gates)', String(a.i));
-    if (a.name === 'activation_alpha' || a.name === 'activation_beta') fail('invalid_option', `${where}.${a.name}`, 'none (only the default activations are run)', JSON.stringify(a.floats));
+    if (a.name === 'input_forget' && (a.i ?? 0) !== 0)
+      fail('invalid_option', `${where}.input_forget`, '0 (weft LSTMs have separate input and forget gates)', String(a.i));
+    if (a.name === 'activation_alpha' || a.name === 'activation_beta')
+      fail('invalid_option', `${where}.${a.name}`, 'none (only the default activations are run)', JSON.stringify(a.floats));
     if (!['hidden_size', 'direction', 'layout', 'linear_before_reset', 'activations', 'clip', 'input_forget'].includes(a.name)) {
       fail('invalid_option', `${where}.${a.name}`, `an attribute of ${node.opType}`, a.name);
     }
@@ -44,10 +46,20 @@ export function recurrentForm(node: OnnxNode, index: number): RecurrentForm {
   if (activations !== undefined) {
     const defaults = kind === 'lstm' ? ['Sigmoid', 'Tanh', 'Tanh'] : kind === 'gru' ? ['Sigmoid', 'Tanh'] : null;
     const expected = defaults === null ? null : Array.from({ length: directions }, () => defaults).flat();
-    if (kind === 'plain' && activations.length === directions && activations.every((x) => x === activations[0]) && (activations[0] === 'Tanh' || activations[0] === 'Relu')) {
+    if (
+      kind === 'plain' &&
+      activations.length === directions &&
+      activations.every((x) => x === activations[0]) &&
+      (activations[0] === 'Tanh' || activations[0] === 'Relu')
+    ) {
       activation = activations[0] === 'Relu' ? 'relu' : 'tanh';
     } else if (expected === null || activations.join() !== expected.join()) {
-      fail('invalid_option', `${where}.activations`, kind === 'plain' ? `Tanh or Relu, ${directions} time(s)` : `the defaults ${JSON.stringify(expected)}`, JSON.stringify(activations));
+      fail(
+        'invalid_option',
+        `${where}.activations`,
+        kind === 'plain' ? `Tanh or Relu, ${directions} time(s)` : `the defaults ${JSON.stringify(expected)}`,
+        JSON.stringify(activations),
+      );
     }
   }
   const resetAfter = (attribute(node, 'linear_before_reset')?.i ?? 0) !== 0;

@@ -91,7 +91,12 @@ function search(decoding: Decoding, vocabulary: number, width: number, alpha: nu
     beams = next;
   }
   const byScore = (a: BeamResult, b: BeamResult) => b.score - a.score;
-  const unfinished: BeamResult[] = beams.map((b) => ({ tokens: b.tokens, logProbability: b.logProbability, score: score(b.logProbability, Math.max(1, b.tokens.length)), finished: false }));
+  const unfinished: BeamResult[] = beams.map((b) => ({
+    tokens: b.tokens,
+    logProbability: b.logProbability,
+    score: score(b.logProbability, Math.max(1, b.tokens.length)),
+    finished: false,
+  }));
   return [...finished.sort(byScore), ...unfinished.sort(byScore)].slice(0, width);
 }
 

@@ -31,7 +31,9 @@ export function forwardBackend(choice: RuntimeBackendChoice | undefined, weightB
       // lacks 'wasm-unsafe-eval'): JavaScript, said once. Choosing a backend by name says nothing.
       if (!warned) {
         warned = true;
-        console.warn(`weft: WebAssembly could not be compiled here (${(error as Error).message}); the runtime runs on JavaScript, 3–4× slower. Allow 'wasm-unsafe-eval' in a page's CSP, or pass backend: 'javascript'.`);
+        console.warn(
+          `weft: WebAssembly could not be compiled here (${(error as Error).message}); the runtime runs on JavaScript, 3–4× slower. Allow 'wasm-unsafe-eval' in a page's CSP, or pass backend: 'javascript'.`,
+        );
       }
       return javascriptForward;
     }

@@ -222,7 +222,8 @@ export class EncoderDecoderRuntime {
       input[0] = options.startToken;
       for (let step = 0; step < options.maxLength; step++) {
         const logits = decoding.step(input);
-        const token = options.random === undefined ? greedy(logits, 0, this.outputWidth) : sample(logits, 0, this.outputWidth, options.random, options, scratch);
+        const token =
+          options.random === undefined ? greedy(logits, 0, this.outputWidth) : sample(logits, 0, this.outputWidth, options.random, options, scratch);
         tokens.push(token);
         if (this.weights !== null) attention.push(decoding.weights.slice(0, source.length));
         if (token === options.endToken) break;
@@ -236,9 +237,17 @@ export class EncoderDecoderRuntime {
 }
 
 /** The start token (a decoder input), the end token (an output) and the length limit of a decode, checked. */
-export function checkTokens(options: { readonly startToken: number; readonly endToken: number; readonly maxLength: number }, runtime: EncoderDecoderRuntime, where: string): void {
-  if (!Number.isInteger(options.maxLength) || options.maxLength < 1) fail('invalid_option', `${where}.maxLength`, 'a whole number ≥ 1', String(options.maxLength));
-  for (const [key, limit] of [['startToken', runtime.decoder.vocabularySize], ['endToken', runtime.outputWidth]] as const) {
+export function checkTokens(
+  options: { readonly startToken: number; readonly endToken: number; readonly maxLength: number },
+  runtime: EncoderDecoderRuntime,
+  where: string,
+): void {
+  if (!Number.isInteger(options.maxLength) || options.maxLength < 1)
+    fail('invalid_option', `${where}.maxLength`, 'a whole number ≥ 1', String(options.maxLength));
+  for (const [key, limit] of [
+    ['startToken', runtime.decoder.vocabularySize],
+    ['endToken', runtime.outputWidth],
+  ] as const) {
     const id = options[key];
     if (!Number.isInteger(id) || id < 0 || id >= limit) fail('invalid_option', `${where}.${key}`, `a token id in [0, ${limit})`, String(id));
   }
@@ -280,7 +289,10 @@ export class Decoding {
   private readonly token = new Int32Array(1);
 
   constructor(runtime: EncoderDecoderRuntime, rows: number, maxSourceLength: number, attention: AttentionWeights | null) {
-    for (const [name, value] of [['rows', rows], ['maxSourceLength', maxSourceLength]] as const) {
+    for (const [name, value] of [
+      ['rows', rows],
+      ['maxSourceLength', maxSourceLength],
+    ] as const) {
       if (!Number.isInteger(value) || value < 1) fail('invalid_option', `decoding.${name}`, 'a whole number ≥ 1', String(value));
     }
     this.runtime = runtime;
@@ -322,7 +334,8 @@ export class Decoding {
 
   /** Encodes `source` and puts every row at the start of decoding it. */
   start(source: readonly number[] | Int32Array): void {
-    if (source.length > this.maxSourceLength) fail('invalid_argument', 'decoding.start.source', `at most ${this.maxSourceLength} tokens (the decoding's maxSourceLength)`, `${source.length}`);
+    if (source.length > this.maxSourceLength)
+      fail('invalid_argument', 'decoding.start.source', `at most ${this.maxSourceLength} tokens (the decoding's maxSourceLength)`, `${source.length}`);
     this.length = source.length;
     const attention = this.attention;
     let state: Float32Array;

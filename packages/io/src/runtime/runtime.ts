@@ -86,7 +86,12 @@ export class Runtime {
     const cellPlans = model.layers.map((layer, i) => {
       const plan = planOf(layer.cell, plans);
       if (plan === null) {
-        problems.push({ code: 'bad_weight_file', path: `model.layers[${i}].cell`, expected: "a cell with a plan: built in ('lstm', 'gru', 'plain') or given in the runtime's plans", received: layer.cell });
+        problems.push({
+          code: 'bad_weight_file',
+          path: `model.layers[${i}].cell`,
+          expected: "a cell with a plan: built in ('lstm', 'gru', 'plain') or given in the runtime's plans",
+          received: layer.cell,
+        });
       }
       return plan as CellPlan;
     });
@@ -153,7 +158,8 @@ export class Runtime {
 
   /** `count` independent streams, each starting from zero state. */
   streams(count: number): Streams {
-    if (!this.streamable) fail('invalid_argument', 'Runtime.streams', 'a model whose layers all run forward in time', 'a layer that reads backward (use run() on whole sequences)');
+    if (!this.streamable)
+      fail('invalid_argument', 'Runtime.streams', 'a model whose layers all run forward in time', 'a layer that reads backward (use run() on whole sequences)');
     if (!Number.isInteger(count) || count < 1) fail('invalid_argument', 'Runtime.streams.count', 'a whole number ≥ 1', String(count));
     return new Streams(this, count);
   }
@@ -164,7 +170,13 @@ export class Runtime {
    * given, each cell's final state is pushed onto it (layer by layer, the forward cell then the backward one; each
    * cell's slots in order, [batch, hidden] each).
    */
-  run(input: Float32Array | Int32Array | readonly number[], steps: number, batch: number, lengths: Int32Array | readonly number[] | null = null, finalState?: Float32Array[]): Float32Array {
+  run(
+    input: Float32Array | Int32Array | readonly number[],
+    steps: number,
+    batch: number,
+    lengths: Int32Array | readonly number[] | null = null,
+    finalState?: Float32Array[],
+  ): Float32Array {
     if (!(Number.isInteger(steps) && steps >= 0)) fail('invalid_argument', 'Runtime.run.steps', 'a whole number ≥ 0', String(steps));
     if (!(Number.isInteger(batch) && batch >= 1)) fail('invalid_argument', 'Runtime.run.batch', 'a whole number ≥ 1', String(batch));
     if (lengths !== null) {
@@ -185,7 +197,12 @@ export class Runtime {
       return array;
     };
     try {
-      let features = this.embed(input, steps * batch, 'Runtime.run.input', temporary(steps * batch * (this.embedding === null ? this.inputWidth : this.embeddingWidth)));
+      let features = this.embed(
+        input,
+        steps * batch,
+        'Runtime.run.input',
+        temporary(steps * batch * (this.embedding === null ? this.inputWidth : this.embeddingWidth)),
+      );
       let width = this.embedding === null ? this.inputWidth : this.embeddingWidth;
       for (const layer of this.layers) {
         const out = temporary(steps * batch * layer.width);
@@ -219,14 +236,17 @@ export class Runtime {
       const w = this.embeddingWidth;
       for (let p = 0; p < positions; p++) {
         const id = input[p];
-        if (!(id >= 0 && id < this.vocabularySize) || !Number.isInteger(id)) fail('invalid_argument', `${where}[${p}]`, `a token id in [0, ${this.vocabularySize})`, String(id));
+        if (!(id >= 0 && id < this.vocabularySize) || !Number.isInteger(id))
+          fail('invalid_argument', `${where}[${p}]`, `a token id in [0, ${this.vocabularySize})`, String(id));
         for (let j = 0; j < w; j++) out[p * w + j] = this.embedding[id * w + j];
       }
       return out;
     }
-    if (input.length !== positions * this.inputWidth) fail('shape_mismatch', where, `${positions * this.inputWidth} numbers (${positions} × ${this.inputWidth})`, `${input.length}`);
+    if (input.length !== positions * this.inputWidth)
+      fail('shape_mismatch', where, `${positions * this.inputWidth} numbers (${positions} × ${this.inputWidth})`, `${input.length}`);
     // A NaN or infinity would poison a stream's state for good: refused at the boundary, naming its place.
-    if (this.checksFinite) for (let i = 0; i < input.length; i++) if (!Number.isFinite(input[i])) fail('not_finite', `${where}[${i}]`, 'a finite number', String(input[i]));
+    if (this.checksFinite)
+      for (let i = 0; i < input.length; i++) if (!Number.isFinite(input[i])) fail('not_finite', `${where}[${i}]`, 'a finite number', String(input[i]));
     if (into !== undefined) {
       for (let i = 0; i < input.length; i++) into[i] = input[i];
       return into;
@@ -253,7 +273,16 @@ export class Runtime {
 
 type Temporary = (length: number) => Float32Array;
 
-function runDirection(cell: RuntimeCell, x: Float32Array, steps: number, batch: number, width: number, lengths: Int32Array | null, temporary: Temporary, finalState?: Float32Array[]): Float32Array {
+function runDirection(
+  cell: RuntimeCell,
+  x: Float32Array,
+  steps: number,
+  batch: number,
+  width: number,
+  lengths: Int32Array | null,
+  temporary: Temporary,
+  finalState?: Float32Array[],
+): Float32Array {
   const buffers = cell.buffers(batch, temporary);
   const out = temporary(steps * batch * cell.hidden);
   for (let t = 0; t < steps; t++) {
@@ -300,7 +329,8 @@ export class Streams {
     this.open('step');
     const runtime = this.runtime;
     // Every check before any state changes: a step that throws leaves every stream as it was.
-    if (into !== undefined && into.length !== this.count * runtime.outputWidth) fail('shape_mismatch', 'Streams.step.into', `${this.count * runtime.outputWidth} numbers`, `${into.length}`);
+    if (into !== undefined && into.length !== this.count * runtime.outputWidth)
+      fail('shape_mismatch', 'Streams.step.into', `${this.count * runtime.outputWidth} numbers`, `${into.length}`);
     runtime.embed(input, this.count, 'Streams.step.input', this.first);
     const layers = runtime.layerList();
     let x = this.first;
@@ -318,7 +348,8 @@ export class Streams {
   /** Sets one stream's state (or every stream's) back to zero. */
   reset(stream?: number): void {
     this.open('reset');
-    if (stream !== undefined && !(Number.isInteger(stream) && stream >= 0 && stream < this.count)) fail('invalid_argument', 'Streams.reset.stream', `a stream number in [0, ${this.count})`, String(stream));
+    if (stream !== undefined && !(Number.isInteger(stream) && stream >= 0 && stream < this.count))
+      fail('invalid_argument', 'Streams.reset.stream', `a stream number in [0, ${this.count})`, String(stream));
     for (const layer of this.buffers) {
       for (const slot of layer.state) {
         const width = slot.length / this.count;

@@ -31,7 +31,14 @@ export function greedy(logits: ArrayLike<number>, offset: number, width: number)
  * Draws a token index from softmax(row / temperature), among the `topK` largest logits when given; allocation-free with
  * a `scratch` of the row's width.
  */
-export function sample(logits: ArrayLike<number>, offset: number, width: number, random: UniformSource, options: SamplingOptions = {}, scratch?: Float64Array): number {
+export function sample(
+  logits: ArrayLike<number>,
+  offset: number,
+  width: number,
+  random: UniformSource,
+  options: SamplingOptions = {},
+  scratch?: Float64Array,
+): number {
   const temperature = options.temperature ?? 1;
   const topK = options.topK ?? 0;
   if (!(temperature > 0) || !Number.isFinite(temperature)) fail('invalid_option', 'sample.temperature', 'a finite number > 0', String(temperature));

@@ -13,7 +13,11 @@ export type Refuse = (code: 'bad_weight_file' | 'invalid_argument', path: string
 /** A file already read: its tensors carry their values as typed arrays. */
 function isRead(source: object): source is WeightFile {
   const tensors = (source as { tensors?: unknown }).tensors;
-  return Array.isArray(tensors) && tensors.length > 0 && tensors.every((t) => typeof t === 'object' && t !== null && ArrayBuffer.isView((t as { values?: unknown }).values));
+  return (
+    Array.isArray(tensors) &&
+    tensors.length > 0 &&
+    tensors.every((t) => typeof t === 'object' && t !== null && ArrayBuffer.isView((t as { values?: unknown }).values))
+  );
 }
 
 /** The text of a fetched weight file, or an error naming the address and the status. */
@@ -25,7 +29,13 @@ async function responseText(response: Response, where: string, refuse: Refuse): 
 /** The text a source holds (for the reader to read and check), or the file when it was already read. */
 export async function sourceText(source: Exclude<WeightSource, string>, refuse: Refuse): Promise<string | WeightFile> {
   const where = 'createRuntime.source';
-  if (typeof source !== 'object' || source === null) refuse('invalid_argument', where, 'weight-file text, bytes, a Response, a URL, a parsed weight file or one read by readWeightFile', source === null ? 'null' : typeof source);
+  if (typeof source !== 'object' || source === null)
+    refuse(
+      'invalid_argument',
+      where,
+      'weight-file text, bytes, a Response, a URL, a parsed weight file or one read by readWeightFile',
+      source === null ? 'null' : typeof source,
+    );
   if (source instanceof ArrayBuffer || ArrayBuffer.isView(source)) {
     const bytes = source instanceof ArrayBuffer ? new Uint8Array(source) : new Uint8Array(source.buffer, source.byteOffset, source.byteLength);
     try {

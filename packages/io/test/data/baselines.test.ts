@@ -55,7 +55,7 @@ describe('forecast baselines', () => {
   const values = [[1], [2], [4], [8], [3], [6], [9]];
   const split: SeriesSplit = { values, targets: [0], horizon: 1, fitRows: 5, positions: [4, 5] };
 
-  it('scores naive and seasonal naive as worked by hand, with MASE on the fitting rows\' seasonal naive scale', () => {
+  it("scores naive and seasonal naive as worked by hand, with MASE on the fitting rows' seasonal naive scale", () => {
     const { scores, scales } = forecastBaselines(split, { season: 2 });
     const byName = Object.fromEntries(scores.map((s) => [s.name, s.overall]));
     // naive: |6 − 3| and |9 − 6| → 3; seasonal naive, season 2: row t+1 from row t−1: |6 − 8|, |9 − 3| → 4.
@@ -64,7 +64,17 @@ describe('forecast baselines', () => {
     // Scale: |4 − 1|, |8 − 2|, |3 − 4| over the 5 fitting rows → 10/3; MASE of naive 3 / (10/3) = 0.9.
     expect(scales[0]).toBe(10 / 3);
     expect(byName.naive.mase).toBeCloseTo(0.9, 14);
-    expect(scores.map((s) => s.name)).toEqual(['naive', 'seasonal naive', 'simple smoothing', 'Holt', 'damped trend', 'Holt-Winters additive', 'Holt-Winters multiplicative', 'Theta', 'linear']);
+    expect(scores.map((s) => s.name)).toEqual([
+      'naive',
+      'seasonal naive',
+      'simple smoothing',
+      'Holt',
+      'damped trend',
+      'Holt-Winters additive',
+      'Holt-Winters multiplicative',
+      'Theta',
+      'linear',
+    ]);
     expect(bestBaseline(scores).overall.mase).toBe(Math.min(...scores.map((s) => s.overall.mase!)));
   });
 
@@ -99,7 +109,9 @@ describe('forecast baselines', () => {
       error = caught;
     }
     expect(error).toBeInstanceOf(WeftError);
-    expect((error as WeftError).message).toBe('Invalid option at season: expected a whole number of rows in [1, 4] (shorter than the fitting rows), received 5');
+    expect((error as WeftError).message).toBe(
+      'Invalid option at season: expected a whole number of rows in [1, 4] (shorter than the fitting rows), received 5',
+    );
   });
 
   it('scores every row ahead on the same target rows: naive as worked by hand, each method as its own one-horizon run, pooled as their mean', () => {
@@ -114,9 +126,13 @@ describe('forecast baselines', () => {
       expect(scored.byRowsAhead!.map((s) => s.rowsAhead)).toEqual([1, 2, 3]);
       [1, 2, 3].forEach((h, i) => {
         // The same target rows forecast h rows before them, as a split of one horizon.
-        const alone = forecastBaselines({ values, targets: [0], horizon: h, fitRows: 80, positions: positions.map((t) => t + 3 - h) }, { season: 6 }).scores.find((b) => b.name === name)!;
+        const alone = forecastBaselines(
+          { values, targets: [0], horizon: h, fitRows: 80, positions: positions.map((t) => t + 3 - h) },
+          { season: 6 },
+        ).scores.find((b) => b.name === name)!;
         expect(scored.byRowsAhead![i].overall.mae).toBeCloseTo(alone.overall.mae, 12);
-        if (name === 'naive') expect(alone.overall.mae).toBeCloseTo(mean(positions.map((t) => Math.abs(values[t + 3][0] - values[t + 3 - h][0]))) as number, 12);
+        if (name === 'naive')
+          expect(alone.overall.mae).toBeCloseTo(mean(positions.map((t) => Math.abs(values[t + 3][0] - values[t + 3 - h][0]))) as number, 12);
       });
       // Every row ahead has the same count, so the pooled MAE is their mean (mathjs).
       expect(scored.overall.mae).toBeCloseTo(mean(scored.byRowsAhead!.map((s) => s.overall.mae)) as number, 12);

@@ -46,7 +46,7 @@ describe('prediction intervals', () => {
     expect(scores.count).toBe(3);
   });
 
-  it('give each baseline intervals from its own validation errors, scored on the test rows, and say which is best beside the model\'s', () => {
+  it("give each baseline intervals from its own validation errors, scored on the test rows, and say which is best beside the model's", () => {
     // Naive on 0, 1, 3, 2, 4, 7, 5, 6, 10, 9: validation rows 5–7 (t = 4–6), test rows 8–9.
     const values = [0, 1, 3, 2, 4, 7, 5, 6, 10, 9].map((v) => [v]);
     const split: SeriesSplit = { values, targets: [0], horizon: 1, fitRows: 8, positions: [7, 8] };
@@ -58,12 +58,28 @@ describe('prediction intervals', () => {
     expect(scores.coverage).toBe(0.5);
     expect(scores.meanWidth).toBe(4);
     expect(scores.count).toBe(2);
-    const report = { metric: 'MAE', lowerIsBetter: true, what: 'w', model: { name: 'model', description: '', value: 1 }, baselines: [{ name: 'naive', description: '', value: 2, intervals: scores }], names: ['y'], intervals: { ...scores, msis: scores.msis! / 2 } };
-    expect(reportLines(report)).toContain(`  the baselines' intervals, each made the same way from its own validation errors: lowest MSIS naive ${Number(scores.msis!.toPrecision(4))} (coverage 50.0%, mean width 4); the model's ${Number((scores.msis! / 2).toPrecision(4))} is lower (better) by 50.0%`);
+    const report = {
+      metric: 'MAE',
+      lowerIsBetter: true,
+      what: 'w',
+      model: { name: 'model', description: '', value: 1 },
+      baselines: [{ name: 'naive', description: '', value: 2, intervals: scores }],
+      names: ['y'],
+      intervals: { ...scores, msis: scores.msis! / 2 },
+    };
+    expect(reportLines(report)).toContain(
+      `  the baselines' intervals, each made the same way from its own validation errors: lowest MSIS naive ${Number(scores.msis!.toPrecision(4))} (coverage 50.0%, mean width 4); the model's ${Number((scores.msis! / 2).toPrecision(4))} is lower (better) by 50.0%`,
+    );
     expect(verdict(report)).toMatch(/^verdict: the model beats every baseline/);
     // The errors those intervals come from, given out for pooling (panel.ts), and half-widths given back.
     expect(baselineErrors(split, fitted, 5)[naive]).toEqual([[3, -2, 1]]);
-    const given = baselineIntervals(split, fitted, 0.5, 5, fitted.scores.map(() => [1]))[naive];
+    const given = baselineIntervals(
+      split,
+      fitted,
+      0.5,
+      5,
+      fitted.scores.map(() => [1]),
+    )[naive];
     // 6 ± 1 misses 10, 10 ± 1 holds 9: coverage 1/2, width 2.
     expect([given.coverage, given.meanWidth]).toEqual([0.5, 2]);
   });

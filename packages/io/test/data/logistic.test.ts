@@ -47,7 +47,13 @@ describe('logistic regression on summary features', () => {
     const make = (n: number) => Array.from({ length: n }, (_, i) => ({ label: i % 3, row: [3 * (i % 3) + random.normal(), random.normal()] }));
     const train = make(90);
     const validation = make(30);
-    const model = chooseLogistic(train.map((e) => e.row), train.map((e) => e.label), validation.map((e) => e.row), validation.map((e) => e.label), 3);
+    const model = chooseLogistic(
+      train.map((e) => e.row),
+      train.map((e) => e.label),
+      validation.map((e) => e.row),
+      validation.map((e) => e.label),
+      3,
+    );
     const test = make(60);
     const correct = test.filter((e) => predictLogistic(model, e.row) === e.label).length;
     expect(correct / 60).toBeGreaterThan(0.85);

@@ -6,7 +6,7 @@ import { describe, expect, it } from 'vitest';
 import { minimise } from '@weft/io';
 
 describe('Nelder–Mead minimisation', () => {
-  it('finds the minimum of Rosenbrock\'s function from (−1.2, 1)', () => {
+  it("finds the minimum of Rosenbrock's function from (−1.2, 1)", () => {
     const result = minimise((p) => 100 * (p[1] - p[0] ** 2) ** 2 + (1 - p[0]) ** 2, [-1.2, 1], { evaluations: 2000, tolerance: 1e-16 });
     expect(Math.abs(result.point[0] - 1)).toBeLessThan(1e-4);
     expect(Math.abs(result.point[1] - 1)).toBeLessThan(1e-4);

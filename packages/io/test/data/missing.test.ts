@@ -48,7 +48,7 @@ describe('missing readings', () => {
     expect(Array.from(window)).toEqual([1, 10, 2, 20, 3, 30]);
   });
 
-  it('follow the season\'s shape when a season of rows before the gap lies in the window', () => {
+  it("follow the season's shape when a season of rows before the gap lies in the window", () => {
     // Season 3: rows 0–2 are 0, 3, 0; the next season is 10 higher. Row 4 is missing inside the window: the line from
     // row 3 (10) to row 5 (10) gives 10 at row 4, plus the previous season's departure from its own line at row 1,
     // 3 − (0 + (0 − 0) / 2) = 3: 13.
@@ -65,9 +65,21 @@ describe('missing readings', () => {
     expect(short[2]).toBe(13);
   });
 
-  it('find each row\'s last reading and the length of the gap each row lies in', () => {
+  it("find each row's last reading and the length of the gap each row lies in", () => {
     expect(Array.from(lastObserved([NaN, 1, NaN, NaN, 4]))).toEqual([-1, 1, 1, 1, 4]);
-    expect(Array.from(gapLengths([[1, NaN], [NaN, NaN], [NaN, 3], [4, 4]], [0, 1]))).toEqual([2, 2, 2, 0]);
+    expect(
+      Array.from(
+        gapLengths(
+          [
+            [1, NaN],
+            [NaN, NaN],
+            [NaN, 3],
+            [4, 4],
+          ],
+          [0, 1],
+        ),
+      ),
+    ).toEqual([2, 2, 2, 0]);
     expect(Array.from(interpolated([NaN, 2, NaN, 4, NaN]))).toEqual([2, 2, 3, 4, 4]);
   });
 });

@@ -27,7 +27,11 @@ describe('classification scores', () => {
     // actual:    0 0 0 1 1 2
     // predicted: 0 0 1 1 0 1
     const report = classificationReport([0, 0, 0, 1, 1, 2], [0, 0, 1, 1, 0, 1], 3);
-    expect(report.confusion).toEqual([[2, 1, 0], [1, 1, 0], [0, 1, 0]]);
+    expect(report.confusion).toEqual([
+      [2, 1, 0],
+      [1, 1, 0],
+      [0, 1, 0],
+    ]);
     expect(report.accuracy).toBeCloseTo(3 / 6, 15);
     // class 0: P 2/3, R 2/3, F1 2/3; class 1: P 1/3, R 1/2, F1 0.4; class 2: never predicted, P = R = F1 = 0.
     expect(report.perClass[0].precision).toBeCloseTo(2 / 3, 15);
@@ -40,7 +44,10 @@ describe('classification scores', () => {
 
   it('macro-averages as Manning, Raghavan & Schütze work it: per-class 0.5 and 0.9 give 0.7, pooled counts 0.83', () => {
     // Class 1: 10 right, 10 wrong each way; class 2: 90 right, 10 wrong each way (so precision = recall per class).
-    const report = scoresFromConfusion([[10, 10], [10, 90]]);
+    const report = scoresFromConfusion([
+      [10, 10],
+      [10, 90],
+    ]);
     expect(report.perClass[0].precision).toBeCloseTo(0.5, 15);
     expect(report.perClass[1].precision).toBeCloseTo(0.9, 15);
     expect((report.perClass[0].precision + report.perClass[1].precision) / 2).toBeCloseTo(0.7, 15);

@@ -33,7 +33,9 @@ describe('seasons', () => {
   it('finds the 24-row season of a trending series from hourly times, and says why', () => {
     const choice = chooseSeason(trendingDaily, { unit: 'hours', seasons: [24, 168] });
     expect(choice.season).toBe(24);
-    expect(choice.reason).toMatch(/^season of 24 rows from the time column \(rows hours apart\): autocorrelation of the differences 0\.\d{3}, above the 90% limit 0\.\d{3}$/);
+    expect(choice.reason).toMatch(
+      /^season of 24 rows from the time column \(rows hours apart\): autocorrelation of the differences 0\.\d{3}, above the 90% limit 0\.\d{3}$/,
+    );
     expect(choice.candidates.map((c) => c.rows)).toEqual([24, 168]);
   });
 

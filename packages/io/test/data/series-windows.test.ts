@@ -18,7 +18,17 @@ const rows = 120;
 const y = Array.from({ length: rows }, (_, t) => 10 + (0.05 * t * t) / 10 + Math.sin(t / 2));
 const text = `level\n${y.map((v) => v.toFixed(6)).join('\n')}\n`;
 const values = y.map((v) => Number(v.toFixed(6)));
-const options = { window: 3, lookback: 0, streams: 4, validationShare: 0.2, testShare: 0.1, horizon: 2, seed: '1', season: null, given: new Set(['window', 'streams']) };
+const options = {
+  window: 3,
+  lookback: 0,
+  streams: 4,
+  validationShare: 0.2,
+  testShare: 0.1,
+  horizon: 2,
+  seed: '1',
+  season: null,
+  given: new Set(['window', 'streams']),
+};
 const rms = (list: number[]) => sqrt(mean(list.map((v) => v * v))) as number;
 
 describe('sliding windows', () => {
@@ -58,7 +68,7 @@ describe('sliding windows', () => {
     expect(prepared.heldOut(members, 6).model.value).toBeCloseTo(0, 9);
   });
 
-  it('read the hybrid smoothing method\'s forecast of the next row beside the values', () => {
+  it("read the hybrid smoothing method's forecast of the next row beside the values", () => {
     const prepared = prepareSeries(text, 'level.csv', { ...options, hybrid: true });
     const windows = prepared.examples as SeriesWindows;
     const recorded = prepared.metadata.window as { deviation: number[]; hybrid: { method: string }[] };
@@ -78,7 +88,19 @@ describe('sliding windows', () => {
     const windGone = (t: number) => t >= 10 && t < 30;
     const cell = (v: number, gone: boolean) => (gone ? 'NA' : v.toFixed(4));
     const gappy = `date,heat,wind\n${heat.map((v, t) => `${new Date(Date.UTC(2026, 0, 1 + t)).toISOString().slice(0, 10)},${cell(v, heatGone(t))},${cell(wind[t], windGone(t))}`).join('\n')}\n`;
-    const settings = { window: 6, lookback: 0, streams: 8, validationShare: 0.2, testShare: 0.15, horizon: 1, seed: '1', season: 7, given: new Set(['window', 'streams']), targets: ['heat'], calendar: false };
+    const settings = {
+      window: 6,
+      lookback: 0,
+      streams: 8,
+      validationShare: 0.2,
+      testShare: 0.15,
+      horizon: 1,
+      seed: '1',
+      season: 7,
+      given: new Set(['window', 'streams']),
+      targets: ['heat'],
+      calendar: false,
+    };
 
     it('fill each window from its own rows and those before it, flag the holes, weigh a missing target 0, and keep long gaps out of training', () => {
       const prepared = prepareSeries(gappy, 'gappy.csv', settings);
@@ -123,13 +145,16 @@ describe('sliding windows', () => {
       expect(shadow.heldOut(exact, 1)).toEqual(report);
     });
 
-    it('give the runtime\'s row-by-row forecasts the scored figures to the bit, holes and all, forecasts made at a missing row included', async () => {
+    it("give the runtime's row-by-row forecasts the scored figures to the bit, holes and all, forecasts made at a missing row included", async () => {
       // Two seasons of rows per window, so a missing last row is filled with the season's shape; row 150 is missing
       // and forecasts row 151.
       const prepared = prepareSeries(gappy, 'gappy.csv', { ...settings, window: 14 });
       const windows = prepared.examples as SeriesWindows;
       expect((prepared.metadata.window as { rows: number }).rows).toBe(14);
-      const model = buildModel({ input: { kind: 'values', width: prepared.inputWidth }, layers: [{ cell: 'gru', hidden: 5 }], readout: { width: 1 } }, { seed: 4 });
+      const model = buildModel(
+        { input: { kind: 'values', width: prepared.inputWidth }, layers: [{ cell: 'gru', hidden: 5 }], readout: { width: 1 } },
+        { seed: 4 },
+      );
       const random = new Random('gappy runtime');
       for (const p of model.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
       const runtime = await createRuntime(await readWeightFile(await writeWeightFile(model.description, modelTensors(model))));
@@ -137,7 +162,11 @@ describe('sliding windows', () => {
       const outputs = windows.test.flatMap((x) => Array.from(runtime.run(Float32Array.from(x.values), w, 1).subarray(w - 1, w)));
       const report = prepared.heldOut(outputs, 1);
       const forecaster = createRowForecaster(runtime, prepared.metadata);
-      const table = gappy.trim().split('\n').slice(1).map((line) => line.split(','));
+      const table = gappy
+        .trim()
+        .split('\n')
+        .slice(1)
+        .map((line) => line.split(','));
       let sum = 0;
       let count = 0;
       table.forEach((fields, t) => {

@@ -25,7 +25,7 @@ describe('exponential smoothing', () => {
     expect([...out]).toEqual([10, 11, 11]);
   });
 
-  it('works Holt\'s method by hand: α ½, β ½ on 1, 3, 4, 8', () => {
+  it("works Holt's method by hand: α ½, β ½ on 1, 3, 4, 8", () => {
     // b₋₁ = 2, ℓ₋₁ = −1; forecasts 1, 3, 5, 6.25; errors 0, 0, −1, 1.75; ℓ₃ = 7.125, b₃ = 2.1875.
     const states = initialStates([1, 3, 4, 8], 'holt', 1)!;
     expect(states).toEqual({ level: -1, trend: 2, seasonal: [] });
@@ -38,7 +38,7 @@ describe('exponential smoothing', () => {
     expect(two[3]).toBe(7.125 + 2 * 2.1875);
   });
 
-  it('forecasts the last point of the NIST handbook\'s example as 71.7 with α 0.1', () => {
+  it("forecasts the last point of the NIST handbook's example as 71.7 with α 0.1", () => {
     const points = [71, 70, 69, 68, 64, 65, 72, 78, 75, 75, 75, 70];
     const out = new Float64Array(12);
     runSmoothing(points, 12, { ...base, method: 'simple', alpha: 0.1, level: points[0] }, 1, out);
@@ -55,7 +55,7 @@ describe('exponential smoothing', () => {
     series.forEach((v, t) => expect(out[t]).toBe(v));
   });
 
-  it('reproduces a noiseless line with Holt\'s method, whatever the fitted parameters', () => {
+  it("reproduces a noiseless line with Holt's method, whatever the fitted parameters", () => {
     const line = Array.from({ length: 60 }, (_, t) => 5 + 0.75 * t);
     const fit = fitSmoothing(line, 50, 'holt')!;
     expect(fit.meanSquaredError).toBeLessThan(1e-24);
@@ -88,7 +88,7 @@ describe('exponential smoothing', () => {
     expect(fitSmoothing([1, 2, -1, 3, 2, 1, 4, 2], 8, 'multiplicative', 2)).toBeNull();
   });
 
-  it('is Holt\'s method when the damped trend has φ = 1', () => {
+  it("is Holt's method when the damped trend has φ = 1", () => {
     const random = new Random('damped');
     const series = Array.from({ length: 50 }, (_, t) => t + 3 * random.normal());
     const states = initialStates(series, 'holt', 1)!;

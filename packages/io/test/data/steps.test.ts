@@ -31,11 +31,16 @@ describe('readStepTable', () => {
       return 'no error';
     };
     expect(error('id,step,label,speed\nm1,2,worn,1\nm1,1,worn,2\n')).toBe(
-      'Bad data at mill.csv:3:4: expected a step after 2 (the step of id "m1" on line 2); steps of a sequence must increase down the file, received 1');
+      'Bad data at mill.csv:3:4: expected a step after 2 (the step of id "m1" on line 2); steps of a sequence must increase down the file, received 1',
+    );
     expect(error('id,step,label,speed\nm1,1,worn,1\nm1,2,sound,2\n')).toBe(
-      'Bad data at mill.csv:3:6: expected the label "worn" that id "m1" has on line 2 (one label per sequence), received "sound"');
-    expect(error('id,step,label,speed\nm1,1,worn,1\nm1,2,worn,fast\n')).toBe('Bad data at mill.csv:3:11: expected a decimal number in column "speed", received "fast"');
+      'Bad data at mill.csv:3:6: expected the label "worn" that id "m1" has on line 2 (one label per sequence), received "sound"',
+    );
+    expect(error('id,step,label,speed\nm1,1,worn,1\nm1,2,worn,fast\n')).toBe(
+      'Bad data at mill.csv:3:11: expected a decimal number in column "speed", received "fast"',
+    );
     expect(error('id,step,label,speed\nm1,1,worn,1\n', { idColumn: 'machine', stepColumn: 'step', labelColumn: 'label' })).toBe(
-      'Bad data at mill.csv:1:1: expected a column named "machine" (the sequence ids), received the columns id, step, label, speed');
+      'Bad data at mill.csv:1:1: expected a column named "machine" (the sequence ids), received the columns id, step, label, speed',
+    );
   });
 });

@@ -26,7 +26,10 @@ describe('parseTable', () => {
   it('reads quoted fields, doubled quotes, line ends inside quotes, CRLF and a byte-order mark (RFC 4180)', () => {
     const table = parseTable('\ufeffname,note\r\n"a, b","say ""hi"""\r\nc,"two\nlines"\r\n', { file: 'notes.csv' });
     expect(table.header).toEqual(['name', 'note']);
-    expect(table.rows.map((r) => r.fields)).toEqual([['a, b', 'say "hi"'], ['c', 'two\nlines']]);
+    expect(table.rows.map((r) => r.fields)).toEqual([
+      ['a, b', 'say "hi"'],
+      ['c', 'two\nlines'],
+    ]);
     expect(table.rows.map((r) => r.line)).toEqual([2, 3]);
     expect(table.delimiter).toBe(',');
   });
@@ -50,8 +53,9 @@ describe('parseTable', () => {
   });
 
   it('names file, line and character column for a ragged row, a stray quote, an unclosed quote and text after a quote', () => {
-    expect(thrown(() => parseTable('a\tb\n1\t2\n3\t4\t5\n', { file: 'ragged.tsv' })).message)
-      .toBe('Bad data at ragged.tsv:3:5: expected 2 tab-separated fields, as the header has, received 3');
+    expect(thrown(() => parseTable('a\tb\n1\t2\n3\t4\t5\n', { file: 'ragged.tsv' })).message).toBe(
+      'Bad data at ragged.tsv:3:5: expected 2 tab-separated fields, as the header has, received 3',
+    );
     expect(thrown(() => parseTable('a,b\n1\n', { file: 'short.csv' })).path).toBe('short.csv:2:2');
     expect(thrown(() => parseTable('a,b\n1,x"y\n', { file: 'q.csv' })).path).toBe('q.csv:2:4');
     expect(thrown(() => parseTable('a,b\n1,"open\n', { file: 'q.csv' })).path).toBe('q.csv:3:1');
@@ -66,14 +70,21 @@ describe('parseTable', () => {
     for (const bad of ['0x10', 'Infinity', 'NaN', 'n/a', '', '1e999']) expect(decimal(bad)).toBeNaN();
     const table = parseTable('day,level\n1,3\n2,n/a\n', { file: 'levels.csv' });
     expect(thrown(() => numberAt(table, 1, 1)).message).toBe('Bad data at levels.csv:3:3: expected a decimal number in column "level", received "n/a"');
-    expect(thrown(() => columnNamed(table, 'flow', 'for --target')).message)
-      .toBe('Bad data at levels.csv:1:1: expected a column named "flow" (for --target), received the columns day, level');
+    expect(thrown(() => columnNamed(table, 'flow', 'for --target')).message).toBe(
+      'Bad data at levels.csv:1:1: expected a column named "flow" (for --target), received the columns day, level',
+    );
   });
 });
 
 describe('columnStatistics', () => {
   it('gives the population mean and deviation, and 1 for a constant column, without overflow at 1e300', () => {
-    const { mean, deviation } = columnStatistics([[1, 5, 1e300], [3, 5, 3e300]], 3);
+    const { mean, deviation } = columnStatistics(
+      [
+        [1, 5, 1e300],
+        [3, 5, 3e300],
+      ],
+      3,
+    );
     expect(mean[0]).toBe(2);
     expect(deviation[0]).toBe(1);
     expect(deviation[1]).toBe(1);

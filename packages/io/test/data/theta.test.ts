@@ -10,7 +10,7 @@ import { Random } from '@weft/core';
 import { fitSmoothing, lineSlope, runSmoothing, thetaForecasts } from '@weft/io';
 
 describe('the Theta method', () => {
-  it('adds half the trend line\'s slope as drift to simple smoothing, as Hyndman & Billah write it', () => {
+  it("adds half the trend line's slope as drift to simple smoothing, as Hyndman & Billah write it", () => {
     const random = new Random('theta');
     const series = Array.from({ length: 60 }, (_, t) => 100 + 0.8 * t + 2 * random.normal());
     const theta = thetaForecasts(series, 50, 3, null)!;

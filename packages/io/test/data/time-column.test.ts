@@ -33,7 +33,10 @@ describe('times in a column', () => {
   });
 
   it('takes the column of most distinct times when several look like times, and names columns that repeat its calendar', () => {
-    const rows = Array.from({ length: 24 }, (_, r) => `${2020 + Math.floor(r / 12)},${(r % 12) + 1},${2020 + Math.floor(r / 12)}-${String((r % 12) + 1).padStart(2, '0')}-01,${r * 3}`);
+    const rows = Array.from(
+      { length: 24 },
+      (_, r) => `${2020 + Math.floor(r / 12)},${(r % 12) + 1},${2020 + Math.floor(r / 12)}-${String((r % 12) + 1).padStart(2, '0')}-01,${r * 3}`,
+    );
     const table = parseTable(`year,month,date,sales\n${rows.join('\n')}\n`, { file: 'x.csv' });
     // "year" is named like a time and holds years (2 distinct); "date" holds 24 distinct dates.
     const time = readTimeColumn(table)!;

@@ -1,7 +1,12 @@
 import { describe, expect, it } from 'vitest';
 import { corpusBleu, exactMatchRate, tokenAccuracy } from '../../src/data/transduction.js';
 
-const words = (text: string) => text.toLowerCase().replace(/[.]/g, '').split(/\s+/).filter((w) => w !== '');
+const words = (text: string) =>
+  text
+    .toLowerCase()
+    .replace(/[.]/g, '')
+    .split(/\s+/)
+    .filter((w) => w !== '');
 
 // Papineni, Roukos, Ward & Zhu 2002, §2.1 (examples 1 and 2; values from memory, each recounted by hand below).
 const references = [
@@ -20,7 +25,7 @@ describe('corpus BLEU (Papineni et al. 2002)', () => {
     expect(corpusBleu([the], [[words('The cat is on the mat.'), words('There is a cat on the mat.')]], 1).counts[0]).toEqual({ matched: 2, total: 7 });
   });
 
-  it('gives the paper\'s modified bigram precisions: 10/17 and 1/13', () => {
+  it("gives the paper's modified bigram precisions: 10/17 and 1/13", () => {
     expect(corpusBleu([candidate1], [references], 2).counts[1]).toEqual({ matched: 10, total: 17 });
     expect(corpusBleu([candidate2], [references], 2).counts[1]).toEqual({ matched: 1, total: 13 });
   });
@@ -28,8 +33,19 @@ describe('corpus BLEU (Papineni et al. 2002)', () => {
   it('sums counts over the corpus before dividing, and applies the brevity penalty with the closest reference lengths (worked by hand)', () => {
     // Candidate A "a b c d" against "a b c d e": every n-gram matches; c = 4, r = 5.
     // Candidate B "x y" against "x y": all match; c = 2, r = 2. Corpus c = 6, r = 7: BP = e^(1 − 7/6).
-    const score = corpusBleu([['a', 'b', 'c', 'd'], ['x', 'y']], [[['a', 'b', 'c', 'd', 'e']], [['x', 'y']]]);
-    expect(score.counts).toEqual([{ matched: 6, total: 6 }, { matched: 4, total: 4 }, { matched: 2, total: 2 }, { matched: 1, total: 1 }]);
+    const score = corpusBleu(
+      [
+        ['a', 'b', 'c', 'd'],
+        ['x', 'y'],
+      ],
+      [[['a', 'b', 'c', 'd', 'e']], [['x', 'y']]],
+    );
+    expect(score.counts).toEqual([
+      { matched: 6, total: 6 },
+      { matched: 4, total: 4 },
+      { matched: 2, total: 2 },
+      { matched: 1, total: 1 },
+    ]);
     expect([score.candidateLength, score.referenceLength]).toEqual([6, 7]);
     expect(Math.abs(score.brevityPenalty - Math.exp(1 - 7 / 6))).toBeLessThan(1e-15);
     expect(Math.abs(score.bleu - Math.exp(1 - 7 / 6))).toBeLessThan(1e-15);
@@ -46,8 +62,14 @@ describe('corpus BLEU (Papineni et al. 2002)', () => {
 
 describe('token accuracy and exact match', () => {
   it('count positions right and whole sequences right', () => {
-    const candidates = [['2', '0', '2', '6'], ['1', '2']];
-    const refs = [['2', '0', '2', '6'], ['1', '3', '4']];
+    const candidates = [
+      ['2', '0', '2', '6'],
+      ['1', '2'],
+    ];
+    const refs = [
+      ['2', '0', '2', '6'],
+      ['1', '3', '4'],
+    ];
     expect(tokenAccuracy(candidates, refs)).toBe(5 / 7);
     expect(exactMatchRate(candidates, refs)).toBe(0.5);
   });

@@ -9,7 +9,11 @@ describe('converting files', () => {
   it('turn ONNX bytes into a weight file that records how it binds to the graph', async () => {
     const file = await readWeightFile(await weightFileFromOnnx(encodeOnnxModel(smallModel()), { file: 'small.onnx' }));
     expect(file.model).toEqual({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'lstm', hidden: 3 }] });
-    expect((file.metadata as { onnx: { input: unknown; output: unknown; states: unknown } }).onnx).toMatchObject({ input: { name: 'X', kind: 'values' }, output: { name: 'Y', axes: ['t', 'd', 'b', 'h'] }, states: [{ h: 'Y_h', c: null }] });
+    expect((file.metadata as { onnx: { input: unknown; output: unknown; states: unknown } }).onnx).toMatchObject({
+      input: { name: 'X', kind: 'values' },
+      output: { name: 'Y', axes: ['t', 'd', 'b', 'h'] },
+      states: [{ h: 'Y_h', c: null }],
+    });
   });
 
   it('turn a weight file into ONNX bytes, and refuse an encoder-decoder by name', async () => {

@@ -20,9 +20,12 @@ export function tensorValue(t: Proto): Value {
   const bytes = Uint8Array.from((t.rawData as number[] | undefined) ?? []);
   const view = new DataView(bytes.buffer);
   const type = t.dataType as number;
-  const data = type === 1
-    ? Array.from({ length: bytes.length / 4 }, (_, i) => view.getFloat32(4 * i, true))
-    : type === 7 ? Array.from({ length: bytes.length / 8 }, (_, i) => Number(view.getBigInt64(8 * i, true))) : [];
+  const data =
+    type === 1
+      ? Array.from({ length: bytes.length / 4 }, (_, i) => view.getFloat32(4 * i, true))
+      : type === 7
+        ? Array.from({ length: bytes.length / 8 }, (_, i) => Number(view.getBigInt64(8 * i, true)))
+        : [];
   return { dims, data };
 }
 
@@ -114,21 +117,50 @@ export function evaluateGraph(graph: Proto, feeds: Map<string, Value>): Map<stri
     const unary = (f: (x: number) => number): Value => ({ dims: a.dims, data: a.data.map(f) });
     let outputs: Value[];
     switch (node.opType) {
-      case 'Shape': outputs = [{ dims: [a.dims.length], data: [...a.dims] }]; break;
-      case 'Gather': outputs = [{ dims: b.dims, data: b.data.map((i) => a.data[i]) }]; break;
-      case 'Concat': outputs = [{ dims: [inputs.reduce((n, v) => n + v.data.length, 0)], data: inputs.flatMap((v) => v.data) }]; break;
-      case 'ConstantOfShape': outputs = [{ dims: [...a.data], data: new Array<number>(size(a.data)).fill(tensorValue(attribute(node, 'value')!.t as Proto).data[0]) }]; break;
-      case 'MatMul': outputs = [matmul(a, b)]; break;
-      case 'Add': outputs = [broadcast((x, y) => x + y, a, b)]; break;
-      case 'Sub': outputs = [broadcast((x, y) => x - y, a, b)]; break;
-      case 'Mul': outputs = [broadcast((x, y) => x * y, a, b)]; break;
-      case 'Sigmoid': outputs = [unary((x) => 1 / (1 + Math.exp(-x)))]; break;
-      case 'Tanh': outputs = [unary(Math.tanh)]; break;
-      case 'Relu': outputs = [unary((x) => Math.max(0, x))]; break;
-      case 'Identity': outputs = [a]; break;
-      case 'Slice': outputs = [slice(a, b.data[0], inputs[2].data[0], inputs[3].data[0])]; break;
-      case 'Scan': outputs = scan(node, inputs, values); break;
-      default: throw new Error(`the evaluator does not run ${String(node.opType)}`);
+      case 'Shape':
+        outputs = [{ dims: [a.dims.length], data: [...a.dims] }];
+        break;
+      case 'Gather':
+        outputs = [{ dims: b.dims, data: b.data.map((i) => a.data[i]) }];
+        break;
+      case 'Concat':
+        outputs = [{ dims: [inputs.reduce((n, v) => n + v.data.length, 0)], data: inputs.flatMap((v) => v.data) }];
+        break;
+      case 'ConstantOfShape':
+        outputs = [{ dims: [...a.data], data: new Array<number>(size(a.data)).fill(tensorValue(attribute(node, 'value')!.t as Proto).data[0]) }];
+        break;
+      case 'MatMul':
+        outputs = [matmul(a, b)];
+        break;
+      case 'Add':
+        outputs = [broadcast((x, y) => x + y, a, b)];
+        break;
+      case 'Sub':
+        outputs = [broadcast((x, y) => x - y, a, b)];
+        break;
+      case 'Mul':
+        outputs = [broadcast((x, y) => x * y, a, b)];
+        break;
+      case 'Sigmoid':
+        outputs = [unary((x) => 1 / (1 + Math.exp(-x)))];
+        break;
+      case 'Tanh':
+        outputs = [unary(Math.tanh)];
+        break;
+      case 'Relu':
+        outputs = [unary((x) => Math.max(0, x))];
+        break;
+      case 'Identity':
+        outputs = [a];
+        break;
+      case 'Slice':
+        outputs = [slice(a, b.data[0], inputs[2].data[0], inputs[3].data[0])];
+        break;
+      case 'Scan':
+        outputs = scan(node, inputs, values);
+        break;
+      default:
+        throw new Error(`the evaluator does not run ${String(node.opType)}`);
     }
     (node.output as string[]).forEach((name, i) => values.set(name, outputs[i]));
   }

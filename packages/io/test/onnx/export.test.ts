@@ -21,10 +21,31 @@ const models: Record<string, ModelDescription> = {
   'a GRU with the reset after the product': { input: values(3), layers: [{ cell: 'gru', hidden: 4, resetAfterProduct: true }], readout: { width: 2 } },
   'a plain tanh cell': { input: values(2), layers: [{ cell: 'plain', hidden: 3 }] },
   'a plain ReLU cell': { input: values(2), layers: [{ cell: 'plain', hidden: 3, activation: 'relu' }], readout: { width: 1 } },
-  'a 2-layer stack with embedding and readout': { input: tokens, layers: [{ cell: 'lstm', hidden: 4 }, { cell: 'gru', hidden: 3 }], readout: { width: 7 } },
-  'bidirectional layers': { input: values(3), layers: [{ cell: 'gru', hidden: 3, bidirectional: true, resetAfterProduct: true }, { cell: 'lstm', hidden: 2, bidirectional: true, peepholes: true }], readout: { width: 2 } },
+  'a 2-layer stack with embedding and readout': {
+    input: tokens,
+    layers: [
+      { cell: 'lstm', hidden: 4 },
+      { cell: 'gru', hidden: 3 },
+    ],
+    readout: { width: 7 },
+  },
+  'bidirectional layers': {
+    input: values(3),
+    layers: [
+      { cell: 'gru', hidden: 3, bidirectional: true, resetAfterProduct: true },
+      { cell: 'lstm', hidden: 2, bidirectional: true, peepholes: true },
+    ],
+    readout: { width: 2 },
+  },
   'bidirectional layers with embedding, no readout': { input: tokens, layers: [{ cell: 'plain', hidden: 3, bidirectional: true }] },
-  'a reverse layer under a forward one': { input: values(3), layers: [{ cell: 'lstm', hidden: 3, reverse: true, peepholes: true }, { cell: 'gru', hidden: 2 }], readout: { width: 1 } },
+  'a reverse layer under a forward one': {
+    input: values(3),
+    layers: [
+      { cell: 'lstm', hidden: 3, reverse: true, peepholes: true },
+      { cell: 'gru', hidden: 2 },
+    ],
+    readout: { width: 1 },
+  },
 };
 
 /** A model whose every parameter is nonzero (biases and peepholes start at 0 or 1, which would hide a mix-up). */
@@ -38,9 +59,13 @@ function shaken(description: ModelDescription, seed: number): SequenceModel {
 function outputsOf(model: SequenceModel, description: ModelDescription, lengths: number[]): Float32Array {
   const random = new Random('inputs');
   const [steps, batch] = [5, lengths.length];
-  const input = description.input.kind === 'embedding'
-    ? { tokens: Int32Array.from({ length: steps * batch }, () => random.integer(7)), steps, batch }
-    : tensor(Float32Array.from({ length: steps * batch * description.input.width }, () => random.between(-1, 1)), [steps, batch, description.input.width]);
+  const input =
+    description.input.kind === 'embedding'
+      ? { tokens: Int32Array.from({ length: steps * batch }, () => random.integer(7)), steps, batch }
+      : tensor(
+          Float32Array.from({ length: steps * batch * description.input.width }, () => random.between(-1, 1)),
+          [steps, batch, description.input.width],
+        );
   return Float32Array.from(model.run(new Tape({ recording: false }), input, { lengths }).outputs.data);
 }
 
@@ -59,13 +84,27 @@ describe('exporting to ONNX and importing back', () => {
     });
   });
 
-  it('writes a file that protobufjs decodes, with ONNX\'s schema, into the operators, attributes and tensors written', async () => {
+  it("writes a file that protobufjs decodes, with ONNX's schema, into the operators, attributes and tensors written", async () => {
     const model = shaken(models['bidirectional layers'], 9);
     const file = await readWeightFile(await writeWeightFile(model.description, modelTensors(model)));
     const onnx = exportOnnx(file, { lengths: true, producerVersion: '0.1.0' });
     const decoded = decodeIndependently(encodeOnnxModel(onnx)) as {
-      irVersion: number; opsetImport: { domain?: string; version: number }[]; producerName: string; producerVersion: string;
-      graph: { name: string; node: { opType: string; input: string[]; output: string[]; attribute?: { name: string; type: number; i?: number; s?: number[]; ints?: number[]; strings?: number[][] }[] }[]; initializer: Record<string, unknown>[]; input: { name: string; type: { tensorType: { elemType: number; shape: { dim: unknown[] } } } }[]; output: { name: string; type: { tensorType: { elemType: number } } }[] };
+      irVersion: number;
+      opsetImport: { domain?: string; version: number }[];
+      producerName: string;
+      producerVersion: string;
+      graph: {
+        name: string;
+        node: {
+          opType: string;
+          input: string[];
+          output: string[];
+          attribute?: { name: string; type: number; i?: number; s?: number[]; ints?: number[]; strings?: number[][] }[];
+        }[];
+        initializer: Record<string, unknown>[];
+        input: { name: string; type: { tensorType: { elemType: number; shape: { dim: unknown[] } } } }[];
+        output: { name: string; type: { tensorType: { elemType: number } } }[];
+      };
       metadataProps: { key: string; value: string }[];
     };
     // What the IR requires of a model (IR.md): its IR version, the operator sets it imports, a graph with a name,
@@ -77,7 +116,11 @@ describe('exporting to ONNX and importing back', () => {
     expect(decoded.graph.node.map((n) => n.opType)).toEqual(['GRU', 'Transpose', 'Reshape', 'LSTM', 'Transpose', 'Reshape', 'MatMul', 'Add']);
     const gru = decoded.graph.node[0];
     expect(gru.input).toEqual(['input', 'layers[0].W', 'layers[0].R', 'layers[0].B', 'lengths']);
-    expect(gru.attribute?.map((a) => [a.name, a.type])).toEqual([['hidden_size', 2], ['direction', 3], ['linear_before_reset', 2]]);
+    expect(gru.attribute?.map((a) => [a.name, a.type])).toEqual([
+      ['hidden_size', 2],
+      ['direction', 3],
+      ['linear_before_reset', 2],
+    ]);
     expect(new TextDecoder().decode(Uint8Array.from(gru.attribute![1].s!))).toBe('bidirectional');
     expect(decoded.graph.node[3].input).toEqual(['layers[0].output', 'layers[1].W', 'layers[1].R', 'layers[1].B', 'lengths', '', '', 'layers[1].P']);
     for (const t of onnx.graph.initializers) {
@@ -86,7 +129,10 @@ describe('exporting to ONNX and importing back', () => {
       expect(theirs.dataType, t.name).toBe(t.dataType);
       if (t.dataType === 1) expect(floatsOfIndependent(theirs), t.name).toEqual(Array.from(t.values as Float32Array));
     }
-    expect(decoded.graph.input.map((i) => [i.name, i.type.tensorType.elemType, i.type.tensorType.shape.dim.length])).toEqual([['input', 1, 3], ['lengths', 6, 1]]);
+    expect(decoded.graph.input.map((i) => [i.name, i.type.tensorType.elemType, i.type.tensorType.shape.dim.length])).toEqual([
+      ['input', 1, 3],
+      ['lengths', 6, 1],
+    ]);
     expect(decoded.graph.output.map((o) => [o.name, o.type.tensorType.elemType])).toEqual([['output', 1]]);
     expect(decoded.metadataProps.map((p) => p.key)).toEqual(['weft.model', 'weft.metadata']);
     // And our decoder reads what protobufjs read.
@@ -98,9 +144,16 @@ describe('exporting to ONNX and importing back', () => {
 
 describe('exporting a cell of your own to ONNX', () => {
   const plans = { 'test.mgu': mguPlan };
-  const description: ModelDescription = { input: values(3), layers: [{ cell: 'test.mgu', hidden: 5 }, { cell: 'test.mgu', hidden: 4 }], readout: { width: 2 } };
+  const description: ModelDescription = {
+    input: values(3),
+    layers: [
+      { cell: 'test.mgu', hidden: 5 },
+      { cell: 'test.mgu', hidden: 4 },
+    ],
+    readout: { width: 2 },
+  };
 
-  it('writes each of its layers as a Scan of its plan\'s step, which an evaluator of the ONNX operators runs to the model\'s outputs', async () => {
+  it("writes each of its layers as a Scan of its plan's step, which an evaluator of the ONNX operators runs to the model's outputs", async () => {
     const model = buildModel(description, { seed: 5, plans });
     const random = new Random('own-cell-onnx');
     for (const p of model.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
@@ -126,10 +179,17 @@ describe('exporting a cell of your own to ONNX', () => {
   });
 
   it('refuses, in one line naming the place, a layer with no plan, a bidirectional one, and a lengths input', async () => {
-    const text = async (layers: ModelDescription['layers']): Promise<string> => writeWeightFile({ input: values(3), layers }, modelTensors(buildModel({ input: values(3), layers }, { plans })));
-    const message = (promise: Promise<unknown>): Promise<string> => promise.then(() => 'written', (error: Error) => error.message);
+    const text = async (layers: ModelDescription['layers']): Promise<string> =>
+      writeWeightFile({ input: values(3), layers }, modelTensors(buildModel({ input: values(3), layers }, { plans })));
+    const message = (promise: Promise<unknown>): Promise<string> =>
+      promise.then(
+        () => 'written',
+        (error: Error) => error.message,
+      );
     const plain = await text([{ cell: 'test.mgu', hidden: 3 }]);
-    expect(await message(onnxFromWeightFile(plain, { plans, lengths: true }))).toMatch(/exportOnnx\.lengths: expected no lengths input \(layer 0's cell of your own is written as an ONNX Scan/);
+    expect(await message(onnxFromWeightFile(plain, { plans, lengths: true }))).toMatch(
+      /exportOnnx\.lengths: expected no lengths input \(layer 0's cell of your own is written as an ONNX Scan/,
+    );
     const file = await readWeightFile(plain, { plans });
     expect(() => exportOnnx(file)).toThrowError(/model\.layers\[0\]\.cell: expected a built-in cell .* or one whose plan is given/);
     const both = await text([{ cell: 'test.mgu', hidden: 3, bidirectional: true }]);

@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { fromOnnxBlocks, gateBlocks, sumBiases, toOnnxBlocks } from '../../src/onnx/mapping.js';
 
-describe('the mapping between ONNX\'s weight layouts and ours', () => {
+describe("the mapping between ONNX's weight layouts and ours", () => {
   it('moves ONNX LSTM gate rows i, o, f, c into our columns i, f, g, o, transposed, and back without changing a bit', () => {
     // hidden 1, width 2: ONNX rows (one per gate, in its order) [i, o, f, c], each [k0, k1].
     const onnx = Float32Array.of(1, 2, 3, 4, 5, 6, 7, 8);

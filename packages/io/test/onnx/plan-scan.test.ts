@@ -8,14 +8,24 @@ import { writeScanLayer } from '../../src/onnx/plan-scan.js';
 import { evaluateGraph } from './evaluate.js';
 import { decodeIndependently } from './independent.js';
 
-describe('a plan\'s layer as an ONNX Scan', () => {
-  it('starts every slot at zeros of [batch, width] from the input\'s shape, and scans the step with the weights read from outside', () => {
-    const program = traceStep({ ...builtInPlans.lstm, kind: 'test.lstm' }, { inputWidth: 3, hidden: 4, layer: { cell: 'test.lstm', hidden: 4 } }, 'layers[0].forward');
+describe("a plan's layer as an ONNX Scan", () => {
+  it("starts every slot at zeros of [batch, width] from the input's shape, and scans the step with the weights read from outside", () => {
+    const program = traceStep(
+      { ...builtInPlans.lstm, kind: 'test.lstm' },
+      { inputWidth: 3, hidden: 4, layer: { cell: 'test.lstm', hidden: 4 } },
+      'layers[0].forward',
+    );
     const nodes: { opType: string; outputs: string[]; attributes: OnnxAttribute[] }[] = [];
     const initializers: string[] = [];
     const output = writeScanLayer(program, 'layers[0]', 'layers[0].forward', 'input', (name) => new Float32Array(name.endsWith('bias') ? 16 : 64), {
-      floats: (name) => (initializers.push(name), name),
-      int64s: (name) => (initializers.push(name), name),
+      floats: (name) => {
+        initializers.push(name);
+        return name;
+      },
+      int64s: (name) => {
+        initializers.push(name);
+        return name;
+      },
       node: (opType, _name, _inputs, outputs, attributes = []) => nodes.push({ opType, outputs, attributes }),
     });
     expect(output).toBe('layers[0].output');

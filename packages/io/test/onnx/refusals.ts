@@ -5,13 +5,29 @@ const float = (name: string, dims: number[]): OnnxTensor => ({ name, dataType: 1
 
 export function smallModel(change: (node: OnnxNode) => OnnxNode = (n) => n, initializers?: OnnxTensor[]): OnnxModel {
   return {
-    irVersion: 10, opsets: [{ domain: '', version: 22 }], producerName: 'a test', producerVersion: '', metadata: {},
+    irVersion: 10,
+    opsets: [{ domain: '', version: 22 }],
+    producerName: 'a test',
+    producerVersion: '',
+    metadata: {},
     graph: {
       name: 'small',
-      nodes: [change({ name: 'lstm', opType: 'LSTM', domain: '', inputs: ['X', 'W', 'R'], outputs: ['Y', 'Y_h'], attributes: [{ name: 'hidden_size', type: 2, i: 3 }] })],
+      nodes: [
+        change({
+          name: 'lstm',
+          opType: 'LSTM',
+          domain: '',
+          inputs: ['X', 'W', 'R'],
+          outputs: ['Y', 'Y_h'],
+          attributes: [{ name: 'hidden_size', type: 2, i: 3 }],
+        }),
+      ],
       initializers: initializers ?? [float('W', [1, 12, 2]), float('R', [1, 12, 3])],
       inputs: [{ name: 'X', elementType: 1, dims: [null, null, 2] }],
-      outputs: [{ name: 'Y', elementType: 1, dims: null }, { name: 'Y_h', elementType: 1, dims: null }],
+      outputs: [
+        { name: 'Y', elementType: 1, dims: null },
+        { name: 'Y_h', elementType: 1, dims: null },
+      ],
     },
   };
 }

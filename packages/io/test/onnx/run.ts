@@ -21,29 +21,30 @@ export function runAsOnnx(model: SequenceModel, binding: OnnxBinding, feeds: Rea
       for (let k = 0; k < width; k++) timeMajor[(t * batch + r) * width + k] = values[from + k];
     }
   }
-  const input = binding.input.kind === 'tokens' ? { tokens: Int32Array.from(timeMajor), steps, batch } : tensor(Float32Array.from(timeMajor), [steps, batch, width]);
+  const input =
+    binding.input.kind === 'tokens' ? { tokens: Int32Array.from(timeMajor), steps, batch } : tensor(Float32Array.from(timeMajor), [steps, batch, width]);
   const lengths = binding.lengths === null ? null : Int32Array.from(feeds[binding.lengths].values as ArrayLike<number>);
   const layers = model.description.layers;
   const initialState = binding.initialState.some((s) => s.h !== null || s.c !== null)
     ? model.stateSlots().map((slot) => {
-      const match = /^layers\[(\d+)\]\.(forward|backward)\.(h|c)$/.exec(slot.path)!;
-      const layer = Number(match[1]);
-      // The direction's place among the layer's cells: a reverse layer's one cell is direction 0 in ONNX.
-      const direction = layerDirections(layers[layer]).indexOf(match[2] as 'forward' | 'backward');
-      const name = binding.initialState[layer][match[3] as 'h' | 'c'];
-      const directions = layers[layer].bidirectional === true ? 2 : 1;
-      const hidden = layers[layer].hidden;
-      const out = new Float32Array(batch * hidden);
-      if (name !== null) {
-        const given = feeds[name].values as ArrayLike<number>;
-        for (let r = 0; r < batch; r++) {
-          for (let j = 0; j < hidden; j++) {
-            out[r * hidden + j] = binding.layout === 0 ? given[(direction * batch + r) * hidden + j] : given[(r * directions + direction) * hidden + j];
+        const match = /^layers\[(\d+)\]\.(forward|backward)\.(h|c)$/.exec(slot.path)!;
+        const layer = Number(match[1]);
+        // The direction's place among the layer's cells: a reverse layer's one cell is direction 0 in ONNX.
+        const direction = layerDirections(layers[layer]).indexOf(match[2] as 'forward' | 'backward');
+        const name = binding.initialState[layer][match[3] as 'h' | 'c'];
+        const directions = layers[layer].bidirectional === true ? 2 : 1;
+        const hidden = layers[layer].hidden;
+        const out = new Float32Array(batch * hidden);
+        if (name !== null) {
+          const given = feeds[name].values as ArrayLike<number>;
+          for (let r = 0; r < batch; r++) {
+            for (let j = 0; j < hidden; j++) {
+              out[r * hidden + j] = binding.layout === 0 ? given[(direction * batch + r) * hidden + j] : given[(r * directions + direction) * hidden + j];
+            }
           }
         }
-      }
-      return tensor(out, [batch, hidden]);
-    })
+        return tensor(out, [batch, hidden]);
+      })
     : undefined;
   const run = model.run(new Tape({ recording: false }), input, { lengths, initialState });
   const results: Record<string, number[]> = {};
@@ -80,7 +81,8 @@ export function runAsOnnx(model: SequenceModel, binding: OnnxBinding, feeds: Rea
     mine.forEach(([, k], direction) => {
       const data = run.state[k].data;
       for (let r = 0; r < batch; r++) {
-        for (let j = 0; j < hidden; j++) out[binding.layout === 0 ? (direction * batch + r) * hidden + j : (r * mine.length + direction) * hidden + j] = data[r * hidden + j];
+        for (let j = 0; j < hidden; j++)
+          out[binding.layout === 0 ? (direction * batch + r) * hidden + j : (r * mine.length + direction) * hidden + j] = data[r * hidden + j];
       }
     });
     results[name] = out;

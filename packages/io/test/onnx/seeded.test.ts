@@ -26,12 +26,34 @@ function modelOf(kind: OnnxKind, direction: Direction): { model: OnnxModel; feed
   const results = sides.map((s, d) => s.run({ ...s.spec, x, lengths, reverse: reads[d] === 'behind' }));
   const opType = kind === 'lstm' ? 'LSTM' : kind === 'rnn' ? 'RNN' : 'GRU';
   const initializers = [
-    float('W', [directions, sides[0].spec.w.length, width], sides.flatMap((s) => s.spec.w.flat())),
-    float('R', [directions, sides[0].spec.r.length, hidden], sides.flatMap((s) => s.spec.r.flat())),
-    float('B', [directions, sides[0].spec.b!.length], sides.flatMap((s) => s.spec.b!)),
+    float(
+      'W',
+      [directions, sides[0].spec.w.length, width],
+      sides.flatMap((s) => s.spec.w.flat()),
+    ),
+    float(
+      'R',
+      [directions, sides[0].spec.r.length, hidden],
+      sides.flatMap((s) => s.spec.r.flat()),
+    ),
+    float(
+      'B',
+      [directions, sides[0].spec.b!.length],
+      sides.flatMap((s) => s.spec.b!),
+    ),
   ];
-  if (kind === 'lstm') initializers.push(float('P', [directions, 3 * hidden], sides.flatMap((s) => s.spec.p!)));
-  const attributes = [{ name: 'hidden_size', type: 2, i: hidden }, { name: 'direction', type: 3, s: direction }];
+  if (kind === 'lstm')
+    initializers.push(
+      float(
+        'P',
+        [directions, 3 * hidden],
+        sides.flatMap((s) => s.spec.p!),
+      ),
+    );
+  const attributes = [
+    { name: 'hidden_size', type: 2, i: hidden },
+    { name: 'direction', type: 3, s: direction },
+  ];
   if (kind === 'gru-after') attributes.push({ name: 'linear_before_reset', type: 2, i: 1 });
   const stateInputs = kind === 'lstm' ? ['initial_h', 'initial_c'] : ['initial_h'];
   const model: OnnxModel = {
@@ -45,19 +67,33 @@ function modelOf(kind: OnnxKind, direction: Direction): { model: OnnxModel; feed
       initializers,
       inputs: ['X', 'sequence_lens', ...stateInputs].map((name) => ({ name, elementType: name === 'sequence_lens' ? 6 : 1, dims: null })),
       outputs: (kind === 'lstm' ? ['Y', 'Y_h', 'Y_c'] : ['Y', 'Y_h']).map((name) => ({ name, elementType: 1, dims: null })),
-      nodes: [{
-        name: 'recurrent', opType, domain: '', attributes,
-        inputs: kind === 'lstm' ? ['X', 'W', 'R', 'B', 'sequence_lens', 'initial_h', 'initial_c', 'P'] : ['X', 'W', 'R', 'B', 'sequence_lens', 'initial_h'],
-        outputs: kind === 'lstm' ? ['Y', 'Y_h', 'Y_c'] : ['Y', 'Y_h'],
-      }],
+      nodes: [
+        {
+          name: 'recurrent',
+          opType,
+          domain: '',
+          attributes,
+          inputs: kind === 'lstm' ? ['X', 'W', 'R', 'B', 'sequence_lens', 'initial_h', 'initial_c', 'P'] : ['X', 'W', 'R', 'B', 'sequence_lens', 'initial_h'],
+          outputs: kind === 'lstm' ? ['Y', 'Y_h', 'Y_c'] : ['Y', 'Y_h'],
+        },
+      ],
     },
   };
   const feeds: Record<string, OnnxTensor> = {
     X: float('X', [steps, batch, width], x.flat(2)),
     sequence_lens: { name: 'sequence_lens', dataType: 6, dims: [batch], values: lengths },
-    initial_h: float('initial_h', [directions, batch, hidden], sides.flatMap((s) => s.spec.h0!.flat())),
+    initial_h: float(
+      'initial_h',
+      [directions, batch, hidden],
+      sides.flatMap((s) => s.spec.h0!.flat()),
+    ),
   };
-  if (kind === 'lstm') feeds.initial_c = float('initial_c', [directions, batch, hidden], sides.flatMap((s) => s.spec.c0!.flat()));
+  if (kind === 'lstm')
+    feeds.initial_c = float(
+      'initial_c',
+      [directions, batch, hidden],
+      sides.flatMap((s) => s.spec.c0!.flat()),
+    );
   // ONNX Y is [steps, directions, batch, hidden]; Y_h and Y_c [directions, batch, hidden].
   const expected: Record<string, number[]> = {
     Y: Array.from({ length: steps }, (_, t) => results.map((r) => r.y[t].flat())).flat(2),

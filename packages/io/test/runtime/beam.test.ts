@@ -13,8 +13,21 @@ function description(reverseSource: boolean): EncoderDecoderDescription {
   return {
     kind: 'encoder-decoder',
     reverseSource,
-    encoder: { input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers: [{ cell: 'gru', hidden: 5 }, { cell: 'lstm', hidden: 4 }] },
-    decoder: { input: { kind: 'embedding', vocabulary: 4, width: 3 }, layers: [{ cell: 'gru', hidden: 5 }, { cell: 'lstm', hidden: 4 }], readout: { width: 4 } },
+    encoder: {
+      input: { kind: 'embedding', vocabulary: 6, width: 4 },
+      layers: [
+        { cell: 'gru', hidden: 5 },
+        { cell: 'lstm', hidden: 4 },
+      ],
+    },
+    decoder: {
+      input: { kind: 'embedding', vocabulary: 4, width: 3 },
+      layers: [
+        { cell: 'gru', hidden: 5 },
+        { cell: 'lstm', hidden: 4 },
+      ],
+      readout: { width: 4 },
+    },
   };
 }
 
@@ -29,7 +42,11 @@ function shakenModel(reverseSource = false): EncoderDecoderModel {
 function logProbability(model: EncoderDecoderModel, source: number[], tokens: number[]): number {
   const tape = new Tape({ recording: false });
   const input = Int32Array.from([START, ...tokens.slice(0, -1)]);
-  const { outputs } = model.run(tape, { tokens: Int32Array.from(source), steps: source.length, batch: 1 }, null, { tokens: input, steps: input.length, batch: 1 });
+  const { outputs } = model.run(tape, { tokens: Int32Array.from(source), steps: source.length, batch: 1 }, null, {
+    tokens: input,
+    steps: input.length,
+    batch: 1,
+  });
   let total = 0;
   tokens.forEach((token, t) => {
     const row = Array.from(outputs.data.subarray(t * 4, t * 4 + 4));
@@ -57,7 +74,9 @@ describe('encoder-decoder models and beam search', () => {
       }
       // The same file reloads as a training model, and a sequence runtime refuses it by name.
       expect(loadEncoderDecoder(file).parameters().length).toBe(model.parameters().length);
-      await expect(createRuntime(file)).rejects.toThrowError('Bad weight file at model.kind: expected a sequence model (use createEncoderDecoderRuntime for this file), received "encoder-decoder"');
+      await expect(createRuntime(file)).rejects.toThrowError(
+        'Bad weight file at model.kind: expected a sequence model (use createEncoderDecoderRuntime for this file), received "encoder-decoder"',
+      );
     }
   });
 
@@ -109,11 +128,24 @@ describe('encoder-decoder models and beam search', () => {
     expect(best.tokens).toEqual(greedy);
     const short = runtime.beamSearch(source, { width: 3, startToken: START, endToken: END, maxLength: 2 });
     for (const result of short) expect(result.tokens.length).toBeLessThanOrEqual(2);
-    expect(() => runtime.beamSearch(source, { width: 0, startToken: START, endToken: END, maxLength: 2 })).toThrowError('Invalid option at beamSearch.width: expected a whole number ≥ 1, received 0');
+    expect(() => runtime.beamSearch(source, { width: 0, startToken: START, endToken: END, maxLength: 2 })).toThrowError(
+      'Invalid option at beamSearch.width: expected a whole number ≥ 1, received 0',
+    );
   });
 
   it('refuses an encoder-decoder whose layers do not match', () => {
-    const bad = { ...description(false), decoder: { ...description(false).decoder, layers: [{ cell: 'lstm', hidden: 5 }, { cell: 'lstm', hidden: 4 }] } };
-    expect(() => new EncoderDecoderModel(bad)).toThrowError('Invalid option at description.decoder.layers[0]: expected a gru layer of 5 (as the encoder\'s), received lstm of 5');
+    const bad = {
+      ...description(false),
+      decoder: {
+        ...description(false).decoder,
+        layers: [
+          { cell: 'lstm', hidden: 5 },
+          { cell: 'lstm', hidden: 4 },
+        ],
+      },
+    };
+    expect(() => new EncoderDecoderModel(bad)).toThrowError(
+      "Invalid option at description.decoder.layers[0]: expected a gru layer of 5 (as the encoder's), received lstm of 5",
+    );
   });
 });

@@ -4,11 +4,13 @@ import { withRefusedWebAssembly } from '../../../../tests/helpers/refused-webass
 import { forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
 import { forwardBackend } from '../../src/runtime/choose.js';
 
-describe('choosing the runtime\'s backend', () => {
-  it('takes one by name or one made by the caller, and refuses anything else by the option\'s name', () => {
+describe("choosing the runtime's backend", () => {
+  it("takes one by name or one made by the caller, and refuses anything else by the option's name", () => {
     expect(forwardBackend('javascript', 0)).toBe(javascriptForward);
     expect(forwardBackend(javascriptForward, 0)).toBe(javascriptForward);
-    expect(() => forwardBackend('gpu' as 'javascript', 0)).toThrowError('Invalid option at runtime.backend: expected \'javascript\', \'webassembly\' or a forward backend, received "gpu"');
+    expect(() => forwardBackend('gpu' as 'javascript', 0)).toThrowError(
+      "Invalid option at runtime.backend: expected 'javascript', 'webassembly' or a forward backend, received \"gpu\"",
+    );
   });
 
   it.skipIf(forwardWebAssemblyUnavailable() !== null)('makes a WebAssembly backend sized for the weights when asked by name', () => {
@@ -40,7 +42,9 @@ describe('choosing the runtime\'s backend', () => {
     const { names, notes, named } = result;
     expect(names).toEqual(['javascript', 'javascript']);
     expect(notes).toHaveLength(1);
-    expect(notes[0]).toMatch(/^weft: WebAssembly could not be compiled here \(.*a refusal to compile \(Wasm code generation disallowed by embedder\).*\); the runtime runs on JavaScript/);
+    expect(notes[0]).toMatch(
+      /^weft: WebAssembly could not be compiled here \(.*a refusal to compile \(Wasm code generation disallowed by embedder\).*\); the runtime runs on JavaScript/,
+    );
     // Asked for by name, WebAssembly stays an error (a one-line WeftError): a fallback only replaces the default.
     expect(named).toBe('WeftError');
   });

@@ -13,6 +13,8 @@ describe('making an encoder-decoder runtime', () => {
     const model = new EncoderDecoderModel(description, { seed: 1 });
     const runtime = await createEncoderDecoderRuntime(await writeWeightFile(description, modelTensors(model)), { backend: 'javascript' });
     expect([runtime.constructor.name, runtime.encoder.backend.name, runtime.outputWidth]).toEqual(['EncoderDecoderRuntime', 'javascript', 5]);
-    await expect(createEncoderDecoderRuntime(await writeWeightFile(description.encoder, modelTensors(model.encoder)))).rejects.toThrowError(/^Bad weight file at model\.kind: expected "encoder-decoder"/);
+    await expect(createEncoderDecoderRuntime(await writeWeightFile(description.encoder, modelTensors(model.encoder)))).rejects.toThrowError(
+      /^Bad weight file at model\.kind: expected "encoder-decoder"/,
+    );
   });
 });

@@ -7,12 +7,20 @@ import { EncoderDecoderModel } from '@weft/cells';
 import { modelTensors, writeWeightFile } from '@weft/io';
 import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';
 
-const layers = [{ cell: 'gru', hidden: 8 }, { cell: 'lstm', hidden: 8 }];
-const model = new EncoderDecoderModel({
-  kind: 'encoder-decoder', attention: 'general', reverseSource: true,
-  encoder: { input: { kind: 'embedding', vocabulary: 9, width: 4 }, layers },
-  decoder: { input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers, readout: { width: 6 } },
-}, { seed: 4 });
+const layers = [
+  { cell: 'gru', hidden: 8 },
+  { cell: 'lstm', hidden: 8 },
+];
+const model = new EncoderDecoderModel(
+  {
+    kind: 'encoder-decoder',
+    attention: 'general',
+    reverseSource: true,
+    encoder: { input: { kind: 'embedding', vocabulary: 9, width: 4 }, layers },
+    decoder: { input: { kind: 'embedding', vocabulary: 6, width: 4 }, layers, readout: { width: 6 } },
+  },
+  { seed: 4 },
+);
 const runtime = await createEncoderDecoderRuntime(await writeWeightFile(model.description, modelTensors(model)));
 const decoding = runtime.decoding({ rows: 2, maxSourceLength: 12 });
 const source = Int32Array.of(2, 3, 4, 5, 6, 7, 8, 2);

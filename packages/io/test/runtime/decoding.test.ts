@@ -19,7 +19,10 @@ const END = 1;
 const V = 5;
 
 function description(attention: AttentionForm, bidirectional: boolean, reverseSource = false): EncoderDecoderDescription {
-  const layers = (both: boolean) => [{ cell: 'gru', hidden: 4, bidirectional: both }, { cell: 'lstm', hidden: 4, bidirectional: both }];
+  const layers = (both: boolean) => [
+    { cell: 'gru', hidden: 4, bidirectional: both },
+    { cell: 'lstm', hidden: 4, bidirectional: both },
+  ];
   return {
     kind: 'encoder-decoder',
     attention,
@@ -50,7 +53,11 @@ async function runtimeOf(model: EncoderDecoderModel): Promise<EncoderDecoderRunt
 
 /** The training-side model's teacher-forced logits and attention weights for one source and a target input. */
 function teacherForced(model: EncoderDecoderModel, source: number[], input: number[]): { logits: Float32Array; weights: Float64Array } {
-  const run = model.run(new Tape({ recording: false }), { tokens: Int32Array.from(source), steps: source.length, batch: 1 }, null, { tokens: Int32Array.from(input), steps: input.length, batch: 1 });
+  const run = model.run(new Tape({ recording: false }), { tokens: Int32Array.from(source), steps: source.length, batch: 1 }, null, {
+    tokens: Int32Array.from(input),
+    steps: input.length,
+    batch: 1,
+  });
   return { logits: Float32Array.from(run.outputs.data), weights: run.attentionWeights as Float64Array };
 }
 
@@ -83,7 +90,8 @@ describe('encoder-decoders with attention in the runtime', () => {
         const logits = decoding.step([input[t], input[t]]);
         for (const r of [0, 1]) {
           for (let v = 0; v < V; v++) expect(Math.abs(logits[r * V + v] - expected.logits[t * V + v])).toBeLessThanOrEqual(1e-5);
-          for (let s = 0; s < source.length; s++) expect(Math.abs(decoding.weights[r * 8 + s] - expected.weights[t * source.length + s])).toBeLessThanOrEqual(1e-5);
+          for (let s = 0; s < source.length; s++)
+            expect(Math.abs(decoding.weights[r * 8 + s] - expected.weights[t * source.length + s])).toBeLessThanOrEqual(1e-5);
         }
       }
       decoding.close();
@@ -111,7 +119,8 @@ describe('encoder-decoders with attention in the runtime', () => {
   it('samples with a seeded generator: the same seed gives the same output, and each token is one the softmax allows', async () => {
     const runtime = await runtimeOf(shaken(description('additive', true), 'sampled'));
     const source = [2, 3, 4, 5, 6];
-    const draw = (seed: string) => runtime.decode(source, { startToken: START, endToken: END, maxLength: 12, random: new Random(seed), temperature: 1.5 }).tokens;
+    const draw = (seed: string) =>
+      runtime.decode(source, { startToken: START, endToken: END, maxLength: 12, random: new Random(seed), temperature: 1.5 }).tokens;
     expect(draw('a')).toEqual(draw('a'));
     const outputs = ['a', 'b', 'c', 'd', 'e', 'f'].map(draw);
     // At temperature 1.5 over 5 tokens, six seeds do not all draw the greedy output.
@@ -121,14 +130,16 @@ describe('encoder-decoders with attention in the runtime', () => {
     expect(runtime.decode(source, { startToken: START, endToken: END, maxLength: 12, random: new Random('z'), topK: 1 }).tokens).toEqual(greedy);
   });
 
-  it('has the shape of a sequence runtime (metadata, backend), and samples with the generator of @weft/core/base as with the root\'s', async () => {
+  it("has the shape of a sequence runtime (metadata, backend), and samples with the generator of @weft/core/base as with the root's", async () => {
     const runtime = await runtimeOf(shaken(description('general', true), 'shape'));
     expect(runtime.metadata).toBe(runtime.encoder.metadata);
     expect(runtime.backend.name).toBe('javascript');
     const { Random: BaseRandom } = await import('@weft/core/base');
     const source = [2, 3, 4];
     const options = { startToken: START, endToken: END, maxLength: 8, temperature: 1.2 };
-    expect(runtime.decode(source, { ...options, random: new BaseRandom('same') }).tokens).toEqual(runtime.decode(source, { ...options, random: new Random('same') }).tokens);
+    expect(runtime.decode(source, { ...options, random: new BaseRandom('same') }).tokens).toEqual(
+      runtime.decode(source, { ...options, random: new Random('same') }).tokens,
+    );
   });
 
   it('with a beam wide enough to keep everything, finds the exhaustive best by length-normalised score (attention on)', async () => {
@@ -176,12 +187,20 @@ describe('encoder-decoders with attention in the runtime', () => {
     const model = shaken(description('additive', false));
     const runtime = await runtimeOf(model);
     const decoding = runtime.decoding({ maxSourceLength: 3 });
-    expect(() => decoding.start([1, 2, 3, 4])).toThrowError('Invalid argument at decoding.start.source: expected at most 3 tokens (the decoding\'s maxSourceLength), received 4');
+    expect(() => decoding.start([1, 2, 3, 4])).toThrowError(
+      "Invalid argument at decoding.start.source: expected at most 3 tokens (the decoding's maxSourceLength), received 4",
+    );
     decoding.close();
     const tensors = modelTensors(model).filter((t) => t.name !== 'attention.vector');
-    await expect(createEncoderDecoderRuntime(await writeWeightFile(model.description, tensors), { backend: 'javascript' })).rejects.toThrowError(/attention\.vector/);
-    expect(() => runtime.decode([1, 2], { startToken: 9, endToken: END, maxLength: 4 })).toThrowError('Invalid option at decode.startToken: expected a token id in [0, 5), received 9');
-    expect(() => runtime.decode([], { startToken: START, endToken: END, maxLength: 4 })).toThrowError('Invalid argument at encode.source: expected at least one token, received none');
+    await expect(createEncoderDecoderRuntime(await writeWeightFile(model.description, tensors), { backend: 'javascript' })).rejects.toThrowError(
+      /attention\.vector/,
+    );
+    expect(() => runtime.decode([1, 2], { startToken: 9, endToken: END, maxLength: 4 })).toThrowError(
+      'Invalid option at decode.startToken: expected a token id in [0, 5), received 9',
+    );
+    expect(() => runtime.decode([], { startToken: START, endToken: END, maxLength: 4 })).toThrowError(
+      'Invalid argument at encode.source: expected at least one token, received none',
+    );
   });
 
   it('starts each source again without making garbage where the encoder runs forward only (node --expose-gc, a 1 MB young generation)', () => {

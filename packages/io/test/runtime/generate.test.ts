@@ -19,10 +19,16 @@ describe('generating tokens', () => {
   it('refuses a model over numbers, an empty prefix and a negative length, naming which', async () => {
     const text = shaken(descriptions.LSTM, 7);
     const runtime = await createRuntime(await writeWeightFile(text.description, modelTensors(text)));
-    expect(() => generateTokens(runtime, { prefix: [], length: 3 })).toThrowError('Invalid argument at generateTokens.prefix: expected at least one token id, received none');
-    expect(() => generateTokens(runtime, { prefix: [1], length: -1 })).toThrowError('Invalid argument at generateTokens.length: expected a whole number ≥ 0, received -1');
+    expect(() => generateTokens(runtime, { prefix: [], length: 3 })).toThrowError(
+      'Invalid argument at generateTokens.prefix: expected at least one token id, received none',
+    );
+    expect(() => generateTokens(runtime, { prefix: [1], length: -1 })).toThrowError(
+      'Invalid argument at generateTokens.length: expected a whole number ≥ 0, received -1',
+    );
     const values = shaken(descriptions['plain tanh']);
     const numbers = await createRuntime(await writeWeightFile(values.description, modelTensors(values)));
-    expect(() => generateTokens(numbers, { prefix: [1], length: 3 })).toThrowError('Invalid argument at generateTokens: expected a model over token ids, received a model over numbers');
+    expect(() => generateTokens(numbers, { prefix: [1], length: 3 })).toThrowError(
+      'Invalid argument at generateTokens: expected a model over token ids, received a model over numbers',
+    );
   });
 });

@@ -10,7 +10,12 @@ async function runtimeFor(model: SequenceModel): Promise<Runtime> {
   return createRuntime(await writeWeightFile(model.description, modelTensors(model)));
 }
 
-function inputFor(model: SequenceModel, steps: number, batch: number, seed: string): { values: Float32Array | Int32Array; training: Parameters<SequenceModel['run']>[1] } {
+function inputFor(
+  model: SequenceModel,
+  steps: number,
+  batch: number,
+  seed: string,
+): { values: Float32Array | Int32Array; training: Parameters<SequenceModel['run']>[1] } {
   const random = new Random(seed);
   const described = model.description.input;
   if (described.kind === 'embedding') {
@@ -117,14 +122,14 @@ describe('the inference runtime', () => {
   it('refuses to stream a bidirectional or reverse model and names the input problems', async () => {
     const runtime = await runtimeFor(shaken(descriptions.bidirectional));
     const reversed = await runtimeFor(shaken(descriptions.reverse));
-    expect(() => runtime.streams(1)).toThrowError('Invalid argument at Runtime.streams: expected a model whose layers all run forward in time, received a layer that reads backward (use run() on whole sequences)');
+    expect(() => runtime.streams(1)).toThrowError(
+      'Invalid argument at Runtime.streams: expected a model whose layers all run forward in time, received a layer that reads backward (use run() on whole sequences)',
+    );
     expect(() => reversed.streams(1)).toThrowError(/received a layer that reads backward/);
     expect(() => runtime.run(Int32Array.of(1, 2, 9), 3, 1)).toThrowError('Invalid argument at Runtime.run.input[2]: expected a token id in [0, 7), received 9');
     const values = await runtimeFor(shaken(descriptions['plain tanh']));
     expect(() => values.streams(2).step(new Float32Array(5))).toThrowError('Shape mismatch at Streams.step.input: expected 6 numbers (2 × 3), received 5');
   });
-
-
 
   it('builds from a file already read, and refuses a model its kernels do not know', async () => {
     const model = shaken(descriptions['GRU (reset after)']);
@@ -146,7 +151,9 @@ describe('misused streams', () => {
     reference.step(x);
     a.close();
     a.close();
-    expect(() => a.step(x)).toThrowError('Invalid argument at Streams.step: expected open streams, received streams closed by close() (make new ones with runtime.streams())');
+    expect(() => a.step(x)).toThrowError(
+      'Invalid argument at Streams.step: expected open streams, received streams closed by close() (make new ones with runtime.streams())',
+    );
     expect(() => a.reset()).toThrowError(/^Invalid argument at Streams\.reset: expected open streams/);
     expect(() => a.readState()).toThrowError(/^Invalid argument at Streams\.readState: expected open streams/);
     expect(() => a.restoreState(new Float32Array(4))).toThrowError(/^Invalid argument at Streams\.restoreState: expected open streams/);
@@ -168,10 +175,14 @@ describe('misused streams', () => {
     streams.step(x);
     reference.step(x);
     expect(() => streams.step(x, new Float32Array(3))).toThrowError('Shape mismatch at Streams.step.into: expected 4 numbers, received 3');
-    expect(() => streams.step(Float32Array.of(0.5, NaN, 1, 0, 0, 0))).toThrowError('Non-finite value at Streams.step.input[1]: expected a finite number, received NaN');
+    expect(() => streams.step(Float32Array.of(0.5, NaN, 1, 0, 0, 0))).toThrowError(
+      'Non-finite value at Streams.step.input[1]: expected a finite number, received NaN',
+    );
     expect(() => streams.reset(0.5)).toThrowError('Invalid argument at Streams.reset.stream: expected a stream number in [0, 2), received 0.5');
     expect(() => streams.reset(-1)).toThrowError(/^Invalid argument at Streams\.reset\.stream: /);
-    expect(() => streams.restoreState(new Float32Array(streams.readState().length).fill(Infinity))).toThrowError(/^Non-finite value at Streams\.restoreState\[0\]/);
+    expect(() => streams.restoreState(new Float32Array(streams.readState().length).fill(Infinity))).toThrowError(
+      /^Non-finite value at Streams\.restoreState\[0\]/,
+    );
     expect(Array.from(streams.step(x))).toEqual(Array.from(reference.step(x)));
   });
 
@@ -192,7 +203,9 @@ describe('misused streams', () => {
   it('refuse whole runs of a negative length, and lengths that are not whole numbers', async () => {
     const runtime = await runtimeFor(shaken(small, 13));
     expect(() => runtime.run(new Float32Array(3), -1, 1)).toThrowError('Invalid argument at Runtime.run.steps: expected a whole number ≥ 0, received -1');
-    expect(() => runtime.run(new Float32Array(6), 2, 1, [NaN])).toThrowError('Invalid argument at Runtime.run.lengths[0]: expected a whole number in [0, 2], received NaN');
+    expect(() => runtime.run(new Float32Array(6), 2, 1, [NaN])).toThrowError(
+      'Invalid argument at Runtime.run.lengths[0]: expected a whole number in [0, 2], received NaN',
+    );
     expect(() => runtime.run(new Float32Array(6), 2, 1, [1.5])).toThrowError(/lengths\[0\]: expected a whole number in \[0, 2\], received 1\.5$/);
   });
 
@@ -202,43 +215,54 @@ describe('misused streams', () => {
     // The expected state is each stream's inputs since its last reset, run whole by a runtime of its own.
     const reference = await createRuntime(file);
     const command = fc.oneof(
-      fc.record({ kind: fc.constant('step' as const), set: fc.integer({ min: 0, max: 2 }), values: fc.array(fc.float({ min: -2, max: 2, noNaN: true }), { minLength: 6, maxLength: 6 }) }),
-      fc.record({ kind: fc.constant('reset' as const), set: fc.integer({ min: 0, max: 2 }), stream: fc.option(fc.integer({ min: 0, max: 1 }), { nil: undefined }) }),
+      fc.record({
+        kind: fc.constant('step' as const),
+        set: fc.integer({ min: 0, max: 2 }),
+        values: fc.array(fc.float({ min: -2, max: 2, noNaN: true }), { minLength: 6, maxLength: 6 }),
+      }),
+      fc.record({
+        kind: fc.constant('reset' as const),
+        set: fc.integer({ min: 0, max: 2 }),
+        stream: fc.option(fc.integer({ min: 0, max: 1 }), { nil: undefined }),
+      }),
       fc.record({ kind: fc.constant('reopen' as const), set: fc.integer({ min: 0, max: 2 }) }),
       fc.record({ kind: fc.constant('restore' as const), set: fc.integer({ min: 0, max: 2 }), from: fc.integer({ min: 0, max: 2 }) }),
     );
-    await fc.assert(fc.asyncProperty(fc.array(command, { maxLength: 12 }), async (commands) => {
-      const sets = [0, 1, 2].map(() => ({ streams: runtime.streams(2), history: [[], []] as number[][][] }));
-      try {
-        for (const c of commands) {
-          const set = sets[c.set];
-          if (c.kind === 'step') {
-            const out = Array.from(set.streams.step(Float32Array.from(c.values)));
-            for (let row = 0; row < 2; row++) {
-              set.history[row].push(c.values.slice(3 * row, 3 * row + 3));
-              const steps = set.history[row].length;
-              const whole = reference.run(Float32Array.from(set.history[row].flat()), steps, 1);
-              const expected = whole.subarray((steps - 1) * 2, steps * 2);
-              for (let j = 0; j < 2; j++) expect(Math.abs(out[2 * row + j] - expected[j])).toBeLessThanOrEqual(1e-5 * Math.max(1, Math.abs(expected[j])));
+    await fc.assert(
+      fc.asyncProperty(fc.array(command, { maxLength: 12 }), async (commands) => {
+        const sets = [0, 1, 2].map(() => ({ streams: runtime.streams(2), history: [[], []] as number[][][] }));
+        try {
+          for (const c of commands) {
+            const set = sets[c.set];
+            if (c.kind === 'step') {
+              const out = Array.from(set.streams.step(Float32Array.from(c.values)));
+              for (let row = 0; row < 2; row++) {
+                set.history[row].push(c.values.slice(3 * row, 3 * row + 3));
+                const steps = set.history[row].length;
+                const whole = reference.run(Float32Array.from(set.history[row].flat()), steps, 1);
+                const expected = whole.subarray((steps - 1) * 2, steps * 2);
+                for (let j = 0; j < 2; j++) expect(Math.abs(out[2 * row + j] - expected[j])).toBeLessThanOrEqual(1e-5 * Math.max(1, Math.abs(expected[j])));
+              }
+            } else if (c.kind === 'reset') {
+              set.streams.reset(c.stream);
+              for (let row = 0; row < 2; row++) if (c.stream === undefined || c.stream === row) set.history[row] = [];
+            } else if (c.kind === 'reopen') {
+              // Misuse on the way: closed twice, then stepped; neither may touch the other sets.
+              set.streams.close();
+              set.streams.close();
+              expect(() => set.streams.step(new Float32Array(6))).toThrowError(/closed by close\(\)/);
+              set.streams = runtime.streams(2);
+              set.history = [[], []];
+            } else {
+              set.streams.restoreState(sets[c.from].streams.readState());
+              set.history = sets[c.from].history.map((rows) => rows.map((r) => [...r]));
             }
-          } else if (c.kind === 'reset') {
-            set.streams.reset(c.stream);
-            for (let row = 0; row < 2; row++) if (c.stream === undefined || c.stream === row) set.history[row] = [];
-          } else if (c.kind === 'reopen') {
-            // Misuse on the way: closed twice, then stepped; neither may touch the other sets.
-            set.streams.close();
-            set.streams.close();
-            expect(() => set.streams.step(new Float32Array(6))).toThrowError(/closed by close\(\)/);
-            set.streams = runtime.streams(2);
-            set.history = [[], []];
-          } else {
-            set.streams.restoreState(sets[c.from].streams.readState());
-            set.history = sets[c.from].history.map((rows) => rows.map((r) => [...r]));
           }
+        } finally {
+          for (const set of sets) set.streams.close();
         }
-      } finally {
-        for (const set of sets) set.streams.close();
-      }
-    }), { numRuns: 1000, seed: 20261205 });
+      }),
+      { numRuns: 1000, seed: 20261205 },
+    );
   }, 120_000);
 });

@@ -24,8 +24,14 @@ describe('weight-file forms other than text', () => {
   });
 
   it('refuse bytes that are not UTF-8, a failed response and a value of no known form, through refuse', async () => {
-    await expect(sourceText(Uint8Array.of(0x22, 0xff, 0x22), fail)).rejects.toThrowError('Bad weight file at createRuntime.source: expected the UTF-8 bytes of a weight file, received 3 bytes that are not UTF-8');
-    await expect(sourceText(new Response('gone', { status: 410 }), fail)).rejects.toThrowError('Bad weight file at createRuntime.source: expected a response with status 200–299, received status 410');
-    await expect(sourceText(true as unknown as Record<string, unknown>, fail)).rejects.toThrowError('Invalid argument at createRuntime.source: expected weight-file text, bytes, a Response, a URL, a parsed weight file or one read by readWeightFile, received boolean');
+    await expect(sourceText(Uint8Array.of(0x22, 0xff, 0x22), fail)).rejects.toThrowError(
+      'Bad weight file at createRuntime.source: expected the UTF-8 bytes of a weight file, received 3 bytes that are not UTF-8',
+    );
+    await expect(sourceText(new Response('gone', { status: 410 }), fail)).rejects.toThrowError(
+      'Bad weight file at createRuntime.source: expected a response with status 200–299, received status 410',
+    );
+    await expect(sourceText(true as unknown as Record<string, unknown>, fail)).rejects.toThrowError(
+      'Invalid argument at createRuntime.source: expected weight-file text, bytes, a Response, a URL, a parsed weight file or one read by readWeightFile, received boolean',
+    );
   });
 });

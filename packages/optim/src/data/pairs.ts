@@ -38,7 +38,10 @@ interface PairPlan {
 export function pairBatches(pairs: readonly TokenPair[], options: PairSetOptions): DataSource {
   const { batchSize, startToken, endToken } = options;
   if (!Number.isInteger(batchSize) || batchSize < 1) fail('invalid_option', 'pairs.batchSize', 'a whole number ≥ 1', String(batchSize));
-  for (const [name, id] of [['startToken', startToken], ['endToken', endToken]] as const) {
+  for (const [name, id] of [
+    ['startToken', startToken],
+    ['endToken', endToken],
+  ] as const) {
     if (!Number.isInteger(id) || id < 0) fail('invalid_option', `pairs.${name}`, 'a token id (a whole number ≥ 0)', String(id));
   }
   if (pairs.length === 0) fail('bad_data', 'pairs', 'at least one pair', '0');
@@ -51,7 +54,9 @@ export function pairBatches(pairs: readonly TokenPair[], options: PairSetOptions
       }
     }
   });
-  const order = pairs.map((_, i) => i).sort((a, b) => pairs[a].source.length - pairs[b].source.length || pairs[a].target.length - pairs[b].target.length || a - b);
+  const order = pairs
+    .map((_, i) => i)
+    .sort((a, b) => pairs[a].source.length - pairs[b].source.length || pairs[a].target.length - pairs[b].target.length || a - b);
   const { groups, epochOrder } = neighbourBatches(order, batchSize, options.seed ?? 0);
   // A group's batch never changes (token ids only): made at its first use, handed out read-only every epoch.
   const plans: (PairPlan | undefined)[] = new Array<PairPlan | undefined>(groups.length);

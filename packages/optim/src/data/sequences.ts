@@ -61,7 +61,11 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
     }
     return length;
   });
-  const { groups, epochOrder } = neighbourBatches(sequences.map((_, i) => i).sort((a, b) => lengths[a] - lengths[b] || a - b), batchSize, options.seed ?? 0);
+  const { groups, epochOrder } = neighbourBatches(
+    sequences.map((_, i) => i).sort((a, b) => lengths[a] - lengths[b] || a - b),
+    batchSize,
+    options.seed ?? 0,
+  );
   // What a group's batch holds that never changes (its lengths, classes, token ids), made at its first use and
   // handed out again, read-only, every epoch.
   interface GroupPlan {
@@ -152,7 +156,11 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
  * batch order: shuffled by a generator seeded with the seed and the epoch, so it depends on nothing else (the order
  * of the epoch last asked for is kept, as a trainer asks for one epoch's batches in turn).
  */
-export function neighbourBatches(order: readonly number[], batchSize: number, seed: number | string): { groups: number[][]; epochOrder: (epoch: number) => number[] } {
+export function neighbourBatches(
+  order: readonly number[],
+  batchSize: number,
+  seed: number | string,
+): { groups: number[][]; epochOrder: (epoch: number) => number[] } {
   const groups: number[][] = [];
   for (let i = 0; i < order.length; i += batchSize) groups.push(order.slice(i, i + batchSize));
   let orderEpoch = -1;

@@ -88,7 +88,8 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
   if (!Number.isInteger(streams) || streams < 1) fail('invalid_option', 'stream.streams', 'a whole number ≥ 1', String(streams));
   if (!Number.isInteger(window) || window < 1) fail('invalid_option', 'stream.window', 'a whole number ≥ 1', String(window));
   const lookback = options.lookback ?? 0;
-  if (!Number.isInteger(lookback) || lookback < 0 || lookback > window) fail('invalid_option', 'stream.lookback', `a whole number from 0 to the window (${window})`, String(lookback));
+  if (!Number.isInteger(lookback) || lookback < 0 || lookback > window)
+    fail('invalid_option', 'stream.lookback', `a whole number from 0 to the window (${window})`, String(lookback));
   if (data.kind === 'tokens') {
     const { tokens, vocabulary } = data;
     for (let i = 0; i < tokens.length; i++) {
@@ -97,7 +98,8 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
     // Pairs (input, next): N − 1 of them, split into `streams` contiguous slices.
     const perStream = Math.floor((tokens.length - 1) / streams);
     const windows = Math.floor(perStream / window);
-    if (windows < 1) fail('bad_data', 'stream.tokens', `at least ${streams * window + 1} tokens for ${streams} streams of one ${window}-step window`, `${tokens.length}`);
+    if (windows < 1)
+      fail('bad_data', 'stream.tokens', `at least ${streams * window + 1} tokens for ${streams} streams of one ${window}-step window`, `${tokens.length}`);
     const weightsBySkipped = new Map<number, Float64Array>();
     // The id and target arrays of a batch, by its number of steps (a window, or a window and its lookback): refilled
     // by each batch, valid until the next `batch()` call, as for every source.
@@ -150,7 +152,8 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
   const ownWidth = data.targetWidth ?? 1;
   if (own !== undefined) {
     if (!Number.isInteger(ownWidth) || ownWidth < 1) fail('invalid_option', 'stream.targetWidth', 'a whole number ≥ 1', String(ownWidth));
-    if (own.length !== rows * ownWidth) fail('bad_data', 'stream.targets', `${rows * ownWidth} values (${rows} rows × ${ownWidth}, as many rows as the values)`, `${own.length}`);
+    if (own.length !== rows * ownWidth)
+      fail('bad_data', 'stream.targets', `${rows * ownWidth} values (${rows} rows × ${ownWidth}, as many rows as the values)`, `${own.length}`);
     for (let i = 0; i < own.length; i++) {
       if (!Number.isFinite(own[i])) fail('bad_data', `stream.targets[${Math.floor(i / ownWidth)}][${i % ownWidth}]`, 'a finite number', String(own[i]));
     }
@@ -162,9 +165,11 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
   const valueWeights = data.targetWeights;
   let weightBuffer = new Float64Array(0);
   if (valueWeights !== undefined) {
-    if (valueWeights.length !== rows * width) fail('bad_data', 'stream.targetWeights', `${rows * width} weights (${rows} rows × ${width} targets)`, `${valueWeights.length}`);
+    if (valueWeights.length !== rows * width)
+      fail('bad_data', 'stream.targetWeights', `${rows * width} weights (${rows} rows × ${width} targets)`, `${valueWeights.length}`);
     for (let i = 0; i < valueWeights.length; i++) {
-      if (!(valueWeights[i] >= 0 && Number.isFinite(valueWeights[i]))) fail('bad_data', `stream.targetWeights[${Math.floor(i / width)}][${i % width}]`, 'a finite weight ≥ 0', String(valueWeights[i]));
+      if (!(valueWeights[i] >= 0 && Number.isFinite(valueWeights[i])))
+        fail('bad_data', `stream.targetWeights[${Math.floor(i / width)}][${i % width}]`, 'a finite weight ≥ 0', String(valueWeights[i]));
     }
   }
   const buffers = new BatchBuffers();
@@ -237,9 +242,10 @@ export function wholeStream(data: TokenStreamOptions | ValueStreamOptions, optio
   if (!Number.isInteger(window) || window < 1) fail('invalid_option', 'stream.window', 'a whole number ≥ 1', String(window));
   const features = data.kind === 'values' ? data.features : 1;
   const rows = data.kind === 'values' ? data.values.length / features : data.tokens.length;
-  const horizon = data.kind === 'values' ? data.horizon ?? 1 : 1;
+  const horizon = data.kind === 'values' ? (data.horizon ?? 1) : 1;
   const total = rows - horizon;
-  if (!(Number.isInteger(scoredFrom) && scoredFrom >= 0 && scoredFrom < total)) fail('invalid_option', 'stream.scoredFrom', `a position in [0, ${total})`, String(scoredFrom));
+  if (!(Number.isInteger(scoredFrom) && scoredFrom >= 0 && scoredFrom < total))
+    fail('invalid_option', 'stream.scoredFrom', `a position in [0, ${total})`, String(scoredFrom));
   const batches = Math.ceil(total / window);
   // Targets per row of a value stream (for slicing its weights per target value).
   const valueWidth = data.kind === 'values' ? (data.targets === undefined ? (data.targetColumns?.length ?? features) : (data.targetWidth ?? 1)) : 1;
@@ -248,14 +254,18 @@ export function wholeStream(data: TokenStreamOptions | ValueStreamOptions, optio
     const begin = index * window;
     const steps = Math.min(window, total - begin);
     const end = begin + steps + horizon;
-    const source = data.kind === 'values'
-      ? streamBatches({
-        ...data,
-        values: data.values.slice(begin * features, end * features),
-        ...(data.targets === undefined ? {} : { targets: data.targets.slice(begin * (data.targetWidth ?? 1), end * (data.targetWidth ?? 1)) }),
-        ...(data.targetWeights === undefined ? {} : { targetWeights: data.targetWeights.slice(begin * valueWidth, end * valueWidth) }),
-      }, { window: steps })
-      : streamBatches({ ...data, tokens: data.tokens.subarray(begin, end) }, { window: steps });
+    const source =
+      data.kind === 'values'
+        ? streamBatches(
+            {
+              ...data,
+              values: data.values.slice(begin * features, end * features),
+              ...(data.targets === undefined ? {} : { targets: data.targets.slice(begin * (data.targetWidth ?? 1), end * (data.targetWidth ?? 1)) }),
+              ...(data.targetWeights === undefined ? {} : { targetWeights: data.targetWeights.slice(begin * valueWidth, end * valueWidth) }),
+            },
+            { window: steps },
+          )
+        : streamBatches({ ...data, tokens: data.tokens.subarray(begin, end) }, { window: steps });
     let weights: Float64Array | null = null;
     if (begin < scoredFrom) {
       weights = new Float64Array(steps).fill(1);

@@ -7,4 +7,7 @@ import type { ThreadStart } from '@weft/optim';
 
 if (parentPort === null) throw new Error('shard-worker.js runs as a worker thread (started by startTrainingThreads)');
 const port = parentPort;
-serveShards({ post: (message, transfer) => port.postMessage(message, transfer), listen: (onMessage) => port.on('message', onMessage) }, workerData as ThreadStart);
+serveShards(
+  { post: (message, transfer) => port.postMessage(message, transfer), listen: (onMessage) => port.on('message', onMessage) },
+  workerData as ThreadStart,
+);

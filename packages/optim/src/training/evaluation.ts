@@ -44,7 +44,12 @@ export interface ValidationResult {
 }
 
 /** Runs `model` over every batch of `source` (epoch 0) without recording, handing each batch to `visit`. */
-export function forEachOutputBatch(model: TrainableModel, source: DataSource, visit: (batch: Batch, rows: OutputRows) => void, options: SourceRunOptions = {}): void {
+export function forEachOutputBatch(
+  model: TrainableModel,
+  source: DataSource,
+  visit: (batch: Batch, rows: OutputRows) => void,
+  options: SourceRunOptions = {},
+): void {
   const parameters = model.parameters();
   const backend = options.backend ?? (parameters.length > 0 ? backendOf(parameters[0].tensor.data) : defaultBackend());
   const pool = options.pool ?? backend.pool;
@@ -75,21 +80,26 @@ export function figuresOn(model: TrainableModel, source: DataSource, options: So
   let metricSum = 0;
   let count = 0;
   let kind: 'classes' | 'values' = 'classes';
-  forEachOutputBatch(model, source, (batch, { rows, outputs, width, weights }) => {
-    const targets = batch.targets;
-    if (targets.kind === 'classes') {
-      const m = classificationMetrics(outputs, targets.classes, weights, rows, width);
-      lossSum += m.crossEntropy * m.count;
-      metricSum += m.accuracy * m.count;
-      count += m.count;
-    } else {
-      kind = 'values';
-      const m = regressionMetrics(outputs, targets.values.data, weights, rows, targets.width);
-      lossSum += m.meanSquaredError * m.count;
-      metricSum += m.meanAbsoluteError * m.count;
-      count += m.count;
-    }
-  }, options);
+  forEachOutputBatch(
+    model,
+    source,
+    (batch, { rows, outputs, width, weights }) => {
+      const targets = batch.targets;
+      if (targets.kind === 'classes') {
+        const m = classificationMetrics(outputs, targets.classes, weights, rows, width);
+        lossSum += m.crossEntropy * m.count;
+        metricSum += m.accuracy * m.count;
+        count += m.count;
+      } else {
+        kind = 'values';
+        const m = regressionMetrics(outputs, targets.values.data, weights, rows, targets.width);
+        lossSum += m.meanSquaredError * m.count;
+        metricSum += m.meanAbsoluteError * m.count;
+        count += m.count;
+      }
+    },
+    options,
+  );
   const loss = count > 0 ? lossSum / count : 0;
   return {
     loss,

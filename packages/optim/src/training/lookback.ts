@@ -17,19 +17,33 @@ export type TrainableModel = SequenceModel | EncoderDecoderModel;
  * The model's outputs over one batch and its final state: an encoder-decoder's teacher-forced logits on a batch of
  * pairs (no state), or a sequence model's run from `initialState`.
  */
-export function runOnBatch(model: TrainableModel, tape: Tape, batch: Batch, initialState: readonly Tensor[] | undefined, training: { training: boolean; random?: Random }): { outputs: Tensor; state: readonly Tensor[] } {
+export function runOnBatch(
+  model: TrainableModel,
+  tape: Tape,
+  batch: Batch,
+  initialState: readonly Tensor[] | undefined,
+  training: { training: boolean; random?: Random },
+): { outputs: Tensor; state: readonly Tensor[] } {
   if (model instanceof EncoderDecoderModel) {
     const source = batch.source;
-    if (source === undefined) fail('invalid_argument', 'trainer.batch.source', 'batches of pairs (pairBatches) for an encoder-decoder', 'a batch without sources');
+    if (source === undefined)
+      fail('invalid_argument', 'trainer.batch.source', 'batches of pairs (pairBatches) for an encoder-decoder', 'a batch without sources');
     const run = model.run(tape, source.tokens, source.lengths, batch.input as TokenBatch, batch.lengths, training);
     return { outputs: run.outputs, state: [] };
   }
-  if (batch.source !== undefined) fail('invalid_argument', 'trainer.batch.source', 'no sources (batches of pairs train an encoder-decoder)', 'a batch of pairs');
+  if (batch.source !== undefined)
+    fail('invalid_argument', 'trainer.batch.source', 'no sources (batches of pairs train an encoder-decoder)', 'a batch of pairs');
   return model.run(tape, batch.input, { lengths: batch.lengths, initialState, ...training });
 }
 
 /** The outputs over the whole batch and the state to carry into the next batch. */
-export function forwardWithLookback(model: TrainableModel, tape: Tape, batch: Batch, initialState: readonly Tensor[] | undefined, random: Random): { outputs: Tensor; carry: readonly Tensor[] } {
+export function forwardWithLookback(
+  model: TrainableModel,
+  tape: Tape,
+  batch: Batch,
+  initialState: readonly Tensor[] | undefined,
+  random: Random,
+): { outputs: Tensor; carry: readonly Tensor[] } {
   if (model instanceof EncoderDecoderModel) {
     const result = runOnBatch(model, tape, batch, undefined, { training: true, random });
     return { outputs: result.outputs, carry: result.state };
@@ -44,11 +58,13 @@ export function forwardWithLookback(model: TrainableModel, tape: Tape, batch: Ba
   let carry: readonly Tensor[];
   let headOutputs: Tensor | null = null;
   if (head === null) {
-    carry = initialState ?? model.stateSlots().map((slot) => {
-      const fresh = tape.output([batch.batch, slot.width], model.dtype, false);
-      fresh.data.fill(0);
-      return fresh;
-    });
+    carry =
+      initialState ??
+      model.stateSlots().map((slot) => {
+        const fresh = tape.output([batch.batch, slot.width], model.dtype, false);
+        fresh.data.fill(0);
+        return fresh;
+      });
   } else {
     const first = model.run(tape, head, { ...options, initialState });
     carry = first.state;

@@ -123,7 +123,8 @@ export function shardOf(batch: Batch, from: number, to: number): PlainBatch {
     targetValues: targets.kind === 'values' ? rowsOf(targets.values.data, targetSteps, rows, targetWidth, from, to) : null,
     targetWidth,
     // Weights per target row, or per target value (the width of a row of values).
-    weights: targets.weights === null ? null : rowsOf(targets.weights, targetSteps, rows, targets.weights.length === targetSteps * rows ? 1 : targetWidth, from, to),
+    weights:
+      targets.weights === null ? null : rowsOf(targets.weights, targetSteps, rows, targets.weights.length === targetSteps * rows ? 1 : targetWidth, from, to),
     sourceTokens: source === undefined ? null : rowsOf(source.tokens.tokens, source.tokens.steps, rows, 1, from, to),
     sourceSteps: source === undefined ? 0 : source.tokens.steps,
     sourceLengths: source === undefined ? null : source.lengths.slice(from, to),
@@ -138,13 +139,21 @@ export function batchOf(plain: PlainBatch, dtype: DType, pool: BufferPool, made:
     made.push(buffer);
     return new Tensor(buffer, shape);
   };
-  const input: Tensor | TokenBatch = plain.tokens !== null
-    ? { tokens: plain.tokens, steps: plain.steps, batch: plain.rows }
-    : tensor(plain.values as FloatArray, [plain.steps, plain.rows, plain.width]);
+  const input: Tensor | TokenBatch =
+    plain.tokens !== null
+      ? { tokens: plain.tokens, steps: plain.steps, batch: plain.rows }
+      : tensor(plain.values as FloatArray, [plain.steps, plain.rows, plain.width]);
   const targetRows = plain.perStep ? plain.steps * plain.rows : plain.rows;
-  const targets: BatchTargets = plain.targetKind === 'classes'
-    ? { kind: 'classes', perStep: plain.perStep, classes: plain.classes as Int32Array, weights: plain.weights }
-    : { kind: 'values', perStep: plain.perStep, width: plain.targetWidth, values: tensor(plain.targetValues as FloatArray, [targetRows, plain.targetWidth]), weights: plain.weights };
+  const targets: BatchTargets =
+    plain.targetKind === 'classes'
+      ? { kind: 'classes', perStep: plain.perStep, classes: plain.classes as Int32Array, weights: plain.weights }
+      : {
+          kind: 'values',
+          perStep: plain.perStep,
+          width: plain.targetWidth,
+          values: tensor(plain.targetValues as FloatArray, [targetRows, plain.targetWidth]),
+          weights: plain.weights,
+        };
   return {
     input,
     steps: plain.steps,
@@ -153,7 +162,9 @@ export function batchOf(plain: PlainBatch, dtype: DType, pool: BufferPool, made:
     targets,
     positions: plain.positions,
     ...(plain.carryAfter === null ? {} : { carryAfter: plain.carryAfter }),
-    ...(plain.sourceTokens === null ? {} : { source: { tokens: { tokens: plain.sourceTokens, steps: plain.sourceSteps, batch: plain.rows }, lengths: plain.sourceLengths as Int32Array } }),
+    ...(plain.sourceTokens === null
+      ? {}
+      : { source: { tokens: { tokens: plain.sourceTokens, steps: plain.sourceSteps, batch: plain.rows }, lengths: plain.sourceLengths as Int32Array } }),
   };
 }
 
@@ -174,7 +185,15 @@ export interface ShardOutcome {
  * One shard's forward and reverse sweep on `tape` (cleared first): the parameters' gradients are the shard's
  * (scaled by `share`) afterwards.
  */
-export function shardGradients(model: TrainableModel, parameters: readonly Tensor[], tape: Tape, batch: Batch, initialState: readonly Tensor[] | undefined, seed: string, share: number): ShardOutcome {
+export function shardGradients(
+  model: TrainableModel,
+  parameters: readonly Tensor[],
+  tape: Tape,
+  batch: Batch,
+  initialState: readonly Tensor[] | undefined,
+  seed: string,
+  share: number,
+): ShardOutcome {
   tape.clear();
   resetGradients(parameters);
   const result = forwardWithLookback(model, tape, batch, initialState, new Random(seed));
@@ -190,18 +209,29 @@ export function shardGradients(model: TrainableModel, parameters: readonly Tenso
  * then the tape cleared and the pooled buffers given back. A training thread and the trainer's own thread both run
  * it, so a shard is the same arithmetic wherever it is computed.
  */
-export function computeJob(model: TrainableModel, parameters: readonly Tensor[], tape: Tape, pool: BufferPool, job: ShardJob, into: FloatArray, at: number): ShardOutcome {
+export function computeJob(
+  model: TrainableModel,
+  parameters: readonly Tensor[],
+  tape: Tape,
+  pool: BufferPool,
+  job: ShardJob,
+  into: FloatArray,
+  at: number,
+): ShardOutcome {
   const dtype = model.dtype;
   const made: FloatArray[] = [];
   try {
     const batch = batchOf(job.batch, dtype, pool, made);
     const rows = job.batch.rows;
-    const initial = job.state === null ? undefined : job.state.map((values) => {
-      const buffer = pool.take(dtype, values.length);
-      buffer.set(values);
-      made.push(buffer);
-      return new Tensor(buffer, [rows, values.length / rows]);
-    });
+    const initial =
+      job.state === null
+        ? undefined
+        : job.state.map((values) => {
+            const buffer = pool.take(dtype, values.length);
+            buffer.set(values);
+            made.push(buffer);
+            return new Tensor(buffer, [rows, values.length / rows]);
+          });
     const outcome = shardGradients(model, parameters, tape, batch, initial, job.seed, job.share);
     let offset = at;
     for (const p of parameters) {

@@ -18,7 +18,10 @@ export class BestValidation {
   /** Copies of the parameters at the best validation (null before the first). */
   parameters: FloatArray[] | null = null;
 
-  constructor(private readonly backend: Backend, private readonly patience: number | undefined) {}
+  constructor(
+    private readonly backend: Backend,
+    private readonly patience: number | undefined,
+  ) {}
 
   /** Records a validation at `step`; returns true when patience has run out and the run should stop. */
   observe(result: ValidationResult, step: number, parameters: readonly Tensor[]): boolean {

@@ -172,24 +172,31 @@ export class ThreadGroup implements ShardWorkers {
 
   /** Makes the threads and waits for each to say it built the model. */
   async begin(spawn: (start: ThreadStart) => ShardThread): Promise<void> {
-    const ready = Array.from({ length: this.count - this.first }, (_, i) => new Promise<void>((resolve, reject) => {
-      const thread = spawn(this.start);
-      this.threads.push(thread);
-      let started = false;
-      thread.listen((data) => {
-        const message = data as { ready?: boolean; error?: string };
-        if (!started) {
-          started = true;
-          if (message.ready === true) resolve();
-          else reject(this.fault(i, `it could not start: ${message.error ?? 'no ready message'}`));
-        } else {
-          this.onAnswer(i, data as Answer);
-        }
-      }, (cause) => {
-        if (!started) reject(this.fault(i, cause));
-        else if (!this.closed) void this.fail(this.fault(i, cause));
-      });
-    }));
+    const ready = Array.from(
+      { length: this.count - this.first },
+      (_, i) =>
+        new Promise<void>((resolve, reject) => {
+          const thread = spawn(this.start);
+          this.threads.push(thread);
+          let started = false;
+          thread.listen(
+            (data) => {
+              const message = data as { ready?: boolean; error?: string };
+              if (!started) {
+                started = true;
+                if (message.ready === true) resolve();
+                else reject(this.fault(i, `it could not start: ${message.error ?? 'no ready message'}`));
+              } else {
+                this.onAnswer(i, data as Answer);
+              }
+            },
+            (cause) => {
+              if (!started) reject(this.fault(i, cause));
+              else if (!this.closed) void this.fail(this.fault(i, cause));
+            },
+          );
+        }),
+    );
     try {
       await Promise.all(ready);
     } catch (error) {
@@ -207,7 +214,13 @@ export class ThreadGroup implements ShardWorkers {
   private fault(thread: number, cause: string): WeftError {
     const when = this.currentStep === 0 ? ', starting' : this.pending === null ? `, after step ${this.currentStep}` : `, step ${this.currentStep}`;
     const where = `training thread ${thread + this.first + 1} of ${this.count}${when}`;
-    return new WeftError({ code: 'worker_failed', path: where, expected: 'its shards\' gradients', received: cause, detail: 'every thread was ended; the last checkpoint is as it was written' });
+    return new WeftError({
+      code: 'worker_failed',
+      path: where,
+      expected: "its shards' gradients",
+      received: cause,
+      detail: 'every thread was ended; the last checkpoint is as it was written',
+    });
   }
 
   /** Ends every thread, then rejects the step in progress with `error`. */
@@ -249,7 +262,8 @@ export class ThreadGroup implements ShardWorkers {
       throw this.failure;
     }
     if (this.closed) fail('worker_failed', 'training threads', 'threads still running', 'threads already closed');
-    if (this.callerComputes && here === undefined) fail('invalid_option', 'trainingThreads.compute', 'a function computing the caller\'s shards (the group was started with callerComputes)', 'none');
+    if (this.callerComputes && here === undefined)
+      fail('invalid_option', 'trainingThreads.compute', "a function computing the caller's shards (the group was started with callerComputes)", 'none');
     this.currentStep = step;
     const values = this.weights ?? (this.start.dtype === 'f64' ? new Float64Array(this.total) : new Float32Array(this.total));
     weights.forEach((w, i) => {
@@ -366,7 +380,10 @@ export function serveShards(endpoint: ShardEndpoint, start: ThreadStart): void {
           const outcome = computeJob(model, parameters, tape, pool, job, own ?? gradients, own === null ? job.shard * total : 0);
           return { shard: job.shard, loss: outcome.loss, state: outcome.state, gradients: own };
         });
-        const transfer = results.flatMap((r) => [...r.state.map((s) => s.buffer as ArrayBuffer), ...(r.gradients === null ? [] : [r.gradients.buffer as ArrayBuffer])]);
+        const transfer = results.flatMap((r) => [
+          ...r.state.map((s) => s.buffer as ArrayBuffer),
+          ...(r.gradients === null ? [] : [r.gradients.buffer as ArrayBuffer]),
+        ]);
         endpoint.post({ step, results }, transfer);
       } catch (error) {
         endpoint.post({ step, error: error instanceof Error ? error.message : String(error) }, []);
@@ -392,13 +409,20 @@ export function webWorkerThread(worker: Worker, start: ThreadStart): ShardThread
 }
 
 /** The body of a Web Worker script that computes shards: waits for its start message, then serves shards. */
-export function serveShardsInWorker(scope: { postMessage(message: unknown, transfer: Transferable[]): void; addEventListener(type: 'message', listener: (event: MessageEvent) => void): void; removeEventListener(type: 'message', listener: (event: MessageEvent) => void): void }): void {
+export function serveShardsInWorker(scope: {
+  postMessage(message: unknown, transfer: Transferable[]): void;
+  addEventListener(type: 'message', listener: (event: MessageEvent) => void): void;
+  removeEventListener(type: 'message', listener: (event: MessageEvent) => void): void;
+}): void {
   const first = (event: MessageEvent): void => {
     scope.removeEventListener('message', first);
-    serveShards({
-      post: (message, transfer) => scope.postMessage(message, transfer),
-      listen: (onMessage) => scope.addEventListener('message', (e: MessageEvent) => onMessage(e.data)),
-    }, event.data as ThreadStart);
+    serveShards(
+      {
+        post: (message, transfer) => scope.postMessage(message, transfer),
+        listen: (onMessage) => scope.addEventListener('message', (e: MessageEvent) => onMessage(e.data)),
+      },
+      event.data as ThreadStart,
+    );
   };
   scope.addEventListener('message', first);
 }

@@ -72,9 +72,13 @@ describe('a 1,000-step run', () => {
   ];
   for (const [name, source, kind] of cases) {
     it(`on ${name} keeps its pools' counts and the number of typed arrays flat after the first epoch`, () => {
-      const model = kind === 'tokens'
-        ? buildModel({ input: { kind: 'embedding', vocabulary: 5, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }], readout: { width: 5 } }, { seed: 1 })
-        : buildModel({ input: { kind: 'values', width: 4 }, layers: [{ cell: 'gru', hidden: 8 }], readout: { width: kind === 'classes' ? 3 : 4 } }, { seed: 1 });
+      const model =
+        kind === 'tokens'
+          ? buildModel({ input: { kind: 'embedding', vocabulary: 5, width: 4 }, layers: [{ cell: 'lstm', hidden: 8 }], readout: { width: 5 } }, { seed: 1 })
+          : buildModel(
+              { input: { kind: 'values', width: 4 }, layers: [{ cell: 'gru', hidden: 8 }], readout: { width: kind === 'classes' ? 3 : 4 } },
+              { seed: 1 },
+            );
       const data = source();
       const trainer = new Trainer({ model, data, optimizer: new AdamRule({ rate: 0.01 }), epochs: 2000 });
       const perEpoch = data.batchesPerEpoch;

@@ -33,21 +33,39 @@ describe('batches of independent sequences', () => {
   });
 
   it('carry sequence targets of several values, row by row', () => {
-    const source = sequenceBatches([{ values: [1, 1], target: [0.5, -1] }, { values: [2], target: [3, 4] }], { batchSize: 2 });
+    const source = sequenceBatches(
+      [
+        { values: [1, 1], target: [0.5, -1] },
+        { values: [2], target: [3, 4] },
+      ],
+      { batchSize: 2 },
+    );
     const batch = source.batch(0, 0);
     expect(batch.targets.kind === 'values' && Array.from(batch.targets.values.data)).toEqual([3, 4, 0.5, -1]);
   });
 
   it('carry a weight per target value when a sequence gives them (1 for the sequences that do not), and refuse a wrong count', () => {
-    const source = sequenceBatches([{ values: [1, 1], target: [0.5, -1], targetWeights: [1, 0] }, { values: [2], target: [3, 4] }], { batchSize: 2 });
+    const source = sequenceBatches(
+      [
+        { values: [1, 1], target: [0.5, -1], targetWeights: [1, 0] },
+        { values: [2], target: [3, 4] },
+      ],
+      { batchSize: 2 },
+    );
     const batch = source.batch(0, 0);
     expect(batch.targets.kind === 'values' && Array.from(batch.targets.weights ?? [])).toEqual([1, 1, 1, 0]);
-    expect(() => sequenceBatches([{ values: [1], target: [1, 2], targetWeights: [1] }], { batchSize: 1 })).toThrowError('Bad data at sequences[0].targetWeights: expected 2 finite weights ≥ 0, one per target value, received [1]');
+    expect(() => sequenceBatches([{ values: [1], target: [1, 2], targetWeights: [1] }], { batchSize: 1 })).toThrowError(
+      'Bad data at sequences[0].targetWeights: expected 2 finite weights ≥ 0, one per target value, received [1]',
+    );
   });
 
   it('refuse an empty sequence, a label that is not a whole number, and a batch size below 1, naming which', () => {
-    expect(() => sequenceBatches([{ values: [], label: 0 }], { batchSize: 1 })).toThrowError('Bad data at sequences[0]: expected non-empty values, a multiple of 1, received 0');
-    expect(() => sequenceBatches([{ values: [1], label: 0.5 }], { batchSize: 1 })).toThrowError('Bad data at sequences[0]: expected a whole-number label ≥ 0, received 0.5');
+    expect(() => sequenceBatches([{ values: [], label: 0 }], { batchSize: 1 })).toThrowError(
+      'Bad data at sequences[0]: expected non-empty values, a multiple of 1, received 0',
+    );
+    expect(() => sequenceBatches([{ values: [1], label: 0.5 }], { batchSize: 1 })).toThrowError(
+      'Bad data at sequences[0]: expected a whole-number label ≥ 0, received 0.5',
+    );
     expect(() => sequenceBatches(sequences, { batchSize: 0 })).toThrowError('Invalid option at sequences.batchSize: expected a whole number ≥ 1, received 0');
   });
 });

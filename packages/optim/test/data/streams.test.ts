@@ -22,16 +22,20 @@ describe('value streams', () => {
 
   it('take targets from a matrix of their own when given one, row t + horizon for step t', () => {
     const differences = Array.from({ length: 10 }, (_, t) => (t === 0 ? 0 : 1));
-    const source = streamBatches({ kind: 'values', values, features: 2, targets: differences.map((d, t) => d * (t + 100)), targetWidth: 1 }, { streams: 1, window: 3 });
+    const source = streamBatches(
+      { kind: 'values', values, features: 2, targets: differences.map((d, t) => d * (t + 100)), targetWidth: 1 },
+      { streams: 1, window: 3 },
+    );
     const batch = source.batch(0, 0);
     if (batch.targets.kind !== 'values') throw new Error('value targets expected');
     expect(Array.from(batch.targets.values.data)).toEqual([101, 102, 103]);
     expect(() => streamBatches({ kind: 'values', values, features: 2, targets: [1, 2, 3], targetWidth: 1 }, { window: 2 })).toThrowError(WeftError);
     expect(() => streamBatches({ kind: 'values', values, features: 2, targets: [1, 2, 3], targetWidth: 1 }, { window: 2 })).toThrowError(
-      'Bad data at stream.targets: expected 10 values (10 rows × 1, as many rows as the values), received 3');
+      'Bad data at stream.targets: expected 10 values (10 rows × 1, as many rows as the values), received 3',
+    );
   });
 
-  it('weigh each target value as given (0 for one never observed), times its row\'s weight, and refuse a wrong count', () => {
+  it("weigh each target value as given (0 for one never observed), times its row's weight, and refuse a wrong count", () => {
     // Column 1's row 3 and row 6 were never observed: steps 1 and 4 (horizon 2) weigh 0 there.
     const targetWeights = Array.from({ length: 10 }, (_, t) => (t === 3 || t === 6 ? 0 : 1));
     const source = streamBatches({ kind: 'values', values, features: 2, targetColumns: [1], horizon: 2, targetWeights }, { streams: 2, window: 2 });
@@ -39,7 +43,8 @@ describe('value streams', () => {
     // Steps (t, b): (0, 0) row 0 → target row 2; (0, 1) row 4 → 6; (1, 0) row 1 → 3; (1, 1) row 5 → 7.
     expect(Array.from(batch.targets.weights ?? [])).toEqual([1, 0, 0, 1]);
     expect(() => streamBatches({ kind: 'values', values, features: 2, targetWeights: [1, 1] }, { window: 2 })).toThrowError(
-      'Bad data at stream.targetWeights: expected 20 weights (10 rows × 2 targets), received 2');
+      'Bad data at stream.targetWeights: expected 20 weights (10 rows × 2 targets), received 2',
+    );
   });
 });
 
@@ -76,6 +81,8 @@ describe('a whole stream for evaluation', () => {
   });
 
   it('refuses a warm-up that leaves nothing to score, naming the option', () => {
-    expect(() => wholeStream({ kind: 'values', values: [1, 2, 3], features: 1 }, { window: 2, scoredFrom: 2 })).toThrow('Invalid option at stream.scoredFrom: expected a position in [0, 2), received 2');
+    expect(() => wholeStream({ kind: 'values', values: [1, 2, 3], features: 1 }, { window: 2, scoredFrom: 2 })).toThrow(
+      'Invalid option at stream.scoredFrom: expected a position in [0, 2), received 2',
+    );
   });
 });

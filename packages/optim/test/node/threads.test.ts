@@ -26,7 +26,18 @@ function corpus(length: number): Int32Array {
 }
 
 function model(cell: 'lstm' | 'gru'): SequenceModel {
-  return buildModel({ input: { kind: 'embedding', vocabulary: 11, width: 6 }, layers: [{ cell, hidden: 12 }, { cell, hidden: 10 }], dropout: 0.2, readout: { width: 11 } }, { seed: 3 });
+  return buildModel(
+    {
+      input: { kind: 'embedding', vocabulary: 11, width: 6 },
+      layers: [
+        { cell, hidden: 12 },
+        { cell, hidden: 10 },
+      ],
+      dropout: 0.2,
+      readout: { width: 11 },
+    },
+    { seed: 3 },
+  );
 }
 
 function options(m: SequenceModel, workers?: ShardWorkers, data?: DataSource): TrainerOptions {
@@ -71,8 +82,18 @@ describe('training on worker threads', () => {
   }
 
   const variants = [
-    { what: 'when the trainer\'s thread leaves every shard to 2 started threads', cell: 'lstm', options: { callerComputes: false }, check: (t: TrainingThreads) => expect(t.threads.length).toBe(2) },
-    { what: 'with weights and gradients sent in messages instead of shared memory', cell: 'gru', options: { shared: false }, check: (t: TrainingThreads) => expect(t.shared).toBe(false) },
+    {
+      what: "when the trainer's thread leaves every shard to 2 started threads",
+      cell: 'lstm',
+      options: { callerComputes: false },
+      check: (t: TrainingThreads) => expect(t.threads.length).toBe(2),
+    },
+    {
+      what: 'with weights and gradients sent in messages instead of shared memory',
+      cell: 'gru',
+      options: { shared: false },
+      check: (t: TrainingThreads) => expect(t.shared).toBe(false),
+    },
   ] as const;
   for (const variant of variants) {
     it(`gives the same bits ${variant.what}`, async () => {
@@ -118,9 +139,14 @@ describe('training on worker threads', () => {
     const m = model('gru');
     const threads = await startTrainingThreads({ count: 2, model: m });
     // A hang would outlast the test's time limit (30 s) and fail it; the run's duration is not asserted.
-    const error = await new Trainer(options(m, threads, data)).run().then(() => null, (e: unknown) => e);
+    const error = await new Trainer(options(m, threads, data)).run().then(
+      () => null,
+      (e: unknown) => e,
+    );
     expect(error).toBeInstanceOf(WeftError);
-    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, step 5: expected its shards' gradients, received it threw: Invalid argument at model\.input\.tokens\[\d+\]: expected an id in \[0, 11\), received 11 \(every thread was ended; the last checkpoint is as it was written\)$/);
+    expect((error as WeftError).message).toMatch(
+      /^Training thread failed at training thread 2 of 2, step 5: expected its shards' gradients, received it threw: Invalid argument at model\.input\.tokens\[\d+\]: expected an id in \[0, 11\), received 11 \(every thread was ended; the last checkpoint is as it was written\)$/,
+    );
     expect(await threadsAlive(threads)).toBe(0);
   }, 30_000);
 
@@ -143,8 +169,13 @@ describe('training on worker threads', () => {
       },
     });
     // A thread that never answers is given up after answerWithinMs; a hang would outlast the test's time limit.
-    const error = await trainer.run().then(() => null, (e: unknown) => e);
-    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, (step [67]|after step 6): expected its shards' gradients, received it exited \(code \d+\)/);
+    const error = await trainer.run().then(
+      () => null,
+      (e: unknown) => e,
+    );
+    expect((error as WeftError).message).toMatch(
+      /^Training thread failed at training thread 2 of 2, (step [67]|after step 6): expected its shards' gradients, received it exited \(code \d+\)/,
+    );
     expect(await threadsAlive(threads)).toBe(0);
     const saved = await loadCheckpoint(path);
     expect(saved.snapshot.step).toBe(5);
@@ -163,20 +194,31 @@ describe('training on worker threads', () => {
         if (t.stepsTaken === 3) await (threads.threads[0] as unknown as { worker: { terminate(): Promise<number> } }).worker.terminate();
       },
     });
-    const error = await trainer.run().then(() => null, (e: unknown) => e);
-    expect((error as WeftError).message).toMatch(/^Training thread failed at training thread 2 of 2, after step 3: expected its shards' gradients, received it exited \(code \d+\)/);
+    const error = await trainer.run().then(
+      () => null,
+      (e: unknown) => e,
+    );
+    expect((error as WeftError).message).toMatch(
+      /^Training thread failed at training thread 2 of 2, after step 3: expected its shards' gradients, received it exited \(code \d+\)/,
+    );
     expect(await threadsAlive(threads)).toBe(0);
   }, 30_000);
 
-  it('ends the step with the trainer\'s own error when a shard of its own thread throws, and the threads still close', async () => {
+  it("ends the step with the trainer's own error when a shard of its own thread throws, and the threads still close", async () => {
     // Stream 1 is in shard 0 (rows 0–3), which the trainer's thread computes.
     const tokens = corpus(6000);
     tokens[1 * 500 + 6 * 4] = 11;
     const data = () => streamBatches({ kind: 'tokens', tokens, vocabulary: 12 }, { streams: 12, window: 6 });
-    const alone = await new Trainer(options(model('gru'), undefined, data())).run().then(() => null, (e: unknown) => e);
+    const alone = await new Trainer(options(model('gru'), undefined, data())).run().then(
+      () => null,
+      (e: unknown) => e,
+    );
     const m = model('gru');
     const threads = await startTrainingThreads({ count: 2, model: m });
-    const error = await new Trainer(options(m, threads, data())).run().then(() => null, (e: unknown) => e);
+    const error = await new Trainer(options(m, threads, data())).run().then(
+      () => null,
+      (e: unknown) => e,
+    );
     expect((error as WeftError).message).toBe((alone as WeftError).message);
     expect((error as WeftError).message).toMatch(/^Invalid argument at model\.input\.tokens\[\d+\]: expected an id in \[0, 11\), received 11$/);
     await threads.close();
@@ -184,7 +226,9 @@ describe('training on worker threads', () => {
   }, 30_000);
 
   it('refuses a thread count of 0 in one line', async () => {
-    await expect(startTrainingThreads({ count: 0, model: model('gru') })).rejects.toThrowError('Invalid option at trainingThreads.count: expected a whole number ≥ 1, received 0');
+    await expect(startTrainingThreads({ count: 0, model: model('gru') })).rejects.toThrowError(
+      'Invalid option at trainingThreads.count: expected a whole number ≥ 1, received 0',
+    );
   });
 });
 

@@ -34,25 +34,34 @@ describe('truncated backpropagation with a lookback (k2 > k1)', () => {
     expect(second.input).toMatchObject({ steps: 7, batch: 2 });
     expect(Array.from((second.input as { tokens: Int32Array }).tokens.subarray(0, 4))).toEqual([tokens[1], tokens[21], tokens[2], tokens[22]]);
     expect(second.targets.kind === 'classes' && Array.from(second.targets.weights!)).toEqual([0, 0, 0, 0, 0, 0, 1, 1, 1, 1, 1, 1, 1, 1]);
-    expect(() => streamBatches({ kind: 'tokens', tokens, vocabulary: 7 }, { window: 4, lookback: 5 })).toThrowError('Invalid option at stream.lookback: expected a whole number from 0 to the window (4), received 5');
+    expect(() => streamBatches({ kind: 'tokens', tokens, vocabulary: 7 }, { window: 4, lookback: 5 })).toThrowError(
+      'Invalid option at stream.lookback: expected a whole number from 0 to the window (4), received 5',
+    );
   });
 
   it('computes the same loss in two pieces as in one run over the window', () => {
     const tokens = copies(40, 'same');
-    const model = buildModel({ input: { kind: 'embedding', vocabulary: 4, width: 3 }, layers: [{ cell: 'gru', hidden: 6 }], readout: { width: 4 } }, { seed: 2 });
+    const model = buildModel(
+      { input: { kind: 'embedding', vocabulary: 4, width: 3 }, layers: [{ cell: 'gru', hidden: 6 }], readout: { width: 4 } },
+      { seed: 2 },
+    );
     const source = streamBatches({ kind: 'tokens', tokens, vocabulary: 4 }, { streams: 3, window: 5, lookback: 2 });
     const batch = source.batch(0, 0);
     expect(batch.carryAfter).toBe(3);
     const tape = new Tape({ recording: false });
     const { outputs } = model.run(tape, batch.input);
-    const expected = crossEntropyAtTargets(tape, reshape(tape, outputs, [batch.steps * batch.batch, 4]), (batch.targets as { classes: Int32Array }).classes).data[0];
+    const expected = crossEntropyAtTargets(tape, reshape(tape, outputs, [batch.steps * batch.batch, 4]), (batch.targets as { classes: Int32Array }).classes)
+      .data[0];
     const trainer = new Trainer({ model, data: source, optimizer: new AdamRule({ rate: 0.01 }), epochs: 1 });
     expect(trainer.step()).toBe(expected);
   });
 
   it('learns a six-step copy that windows of four cannot teach without it', () => {
     const accuracy = (lookback: number): number => {
-      const model = buildModel({ input: { kind: 'embedding', vocabulary: 4, width: 4 }, layers: [{ cell: 'lstm', hidden: 32 }], readout: { width: 4 } }, { seed: 1 });
+      const model = buildModel(
+        { input: { kind: 'embedding', vocabulary: 4, width: 4 }, layers: [{ cell: 'lstm', hidden: 32 }], readout: { width: 4 } },
+        { seed: 1 },
+      );
       const trainer = new Trainer({
         model,
         data: streamBatches({ kind: 'tokens', tokens: copies(800, 'train'), vocabulary: 4 }, { streams: 8, window: 4, lookback }),

@@ -24,7 +24,11 @@ const batch: Batch = {
 
 describe('fixed shards of a batch', () => {
   it('cut rows into shards of the given size whatever computes them, the last one smaller', () => {
-    expect(shardRanges(5, 2)).toEqual([[0, 2], [2, 4], [4, 5]]);
+    expect(shardRanges(5, 2)).toEqual([
+      [0, 2],
+      [2, 4],
+      [4, 5],
+    ]);
     expect(shardRanges(32, 8)).toHaveLength(4);
     expect(lossWeight(batch)).toBe(18);
   });
@@ -35,12 +39,14 @@ describe('fixed shards of a batch', () => {
     expect([shard.steps, shard.batch, Array.from(shard.lengths!), shard.positions]).toEqual([5, 2, [3, 4], 7]);
     const input = shard.input as Tensor;
     const whole = batch.input as Tensor;
-    for (let t = 0; t < 5; t++) for (let b = 0; b < 2; b++) for (let f = 0; f < 3; f++) expect(input.data[(t * 2 + b) * 3 + f]).toBe(whole.data[(t * 5 + b + 1) * 3 + f]);
+    for (let t = 0; t < 5; t++)
+      for (let b = 0; b < 2; b++) for (let f = 0; f < 3; f++) expect(input.data[(t * 2 + b) * 3 + f]).toBe(whole.data[(t * 5 + b + 1) * 3 + f]);
     if (shard.targets.kind !== 'classes' || batch.targets.kind !== 'classes') throw new Error('classes expected');
-    for (let t = 0; t < 5; t++) expect([shard.targets.classes[t * 2], shard.targets.classes[t * 2 + 1]]).toEqual([batch.targets.classes[t * 5 + 1], batch.targets.classes[t * 5 + 2]]);
+    for (let t = 0; t < 5; t++)
+      expect([shard.targets.classes[t * 2], shard.targets.classes[t * 2 + 1]]).toEqual([batch.targets.classes[t * 5 + 1], batch.targets.classes[t * 5 + 2]]);
   });
 
-  it('give gradients that add up to the whole batch\'s, within f64 rounding', () => {
+  it("give gradients that add up to the whole batch's, within f64 rounding", () => {
     const model = buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'lstm', hidden: 4 }], readout: { width: 4 } }, { seed: 2, dtype: 'f64' });
     const parameters = model.parameters().map((p) => p.tensor);
     const tape = new Tape();
@@ -60,7 +66,7 @@ describe('fixed shards of a batch', () => {
     expected.forEach((g, i) => g.forEach((value, k) => expect(Math.abs(sums[i][k] - value)).toBeLessThan(1e-12)));
   });
 
-  it('cut weights per target value with their rows, and the shards\' gradients still add up to the whole batch\'s', () => {
+  it("cut weights per target value with their rows, and the shards' gradients still add up to the whole batch's", () => {
     const model = buildModel({ input: { kind: 'values', width: 3 }, layers: [{ cell: 'gru', hidden: 4 }], readout: { width: 2 } }, { seed: 3, dtype: 'f64' });
     const parameters = model.parameters().map((p) => p.tensor);
     const tape = new Tape();

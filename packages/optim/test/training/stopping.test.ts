@@ -10,7 +10,12 @@ describe('the stopping rule', () => {
     const weights = tensor([1, 2], [2], 'f64');
     const rule = new BestValidation(javascriptBackend, 2);
     const seen: boolean[] = [];
-    for (const [step, loss] of [[10, 3], [20, 2], [30, 2.5], [40, 2]] as const) {
+    for (const [step, loss] of [
+      [10, 3],
+      [20, 2],
+      [30, 2.5],
+      [40, 2],
+    ] as const) {
       weights.data.fill(step);
       seen.push(rule.observe(result(loss), step, [weights]));
     }

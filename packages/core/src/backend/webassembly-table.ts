@@ -1,0 +1,103 @@
+import type { KernelTable } from './kernel-table.js';
+import { javascriptKernels } from './kernel-table.js';
+import type { LinearMemory } from './memory.js';
+import type { KernelWorkspace, ModuleExports } from './module.js';
+import { addressing } from './module.js';
+import { simdStepKernels } from './webassembly-steps.js';
+
+/** The kernel table over `memory`, calling the training module's exports `x` where the arrays are this memory's. */
+export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspace: KernelWorkspace): KernelTable {
+  const js = javascriptKernels;
+  // Arrays are found by memory.offsetOf (a recorded offset, not `byteOffset`/`buffer`: see memory.ts for why).
+  const { mine, at } = addressing(memory);
+  return {
+    ...js,
+    matmul: (out, a, b, rows, inner, cols, transposeA = false, transposeB = false, accumulate = false) => {
+      if (!(mine(out) && mine(a) && mine(b))) return js.matmul(out, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
+      const scratch = rows < 4 ? 0 : workspace.scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
+      x.matmul(at(out), at(a), at(b), rows, inner, cols, +transposeA, +transposeB, +accumulate, scratch);
+      return out;
+    },
+    add: (out, a, b, length) => {
+      if (!(mine(out) && mine(a) && mine(b))) return js.add(out, a, b, length);
+      x.add(at(out), at(a), at(b), length);
+      return out;
+    },
+    subtract: (out, a, b, length) => {
+      if (!(mine(out) && mine(a) && mine(b))) return js.subtract(out, a, b, length);
+      x.subtract(at(out), at(a), at(b), length);
+      return out;
+    },
+    multiply: (out, a, b, length) => {
+      if (!(mine(out) && mine(a) && mine(b))) return js.multiply(out, a, b, length);
+      x.multiply(at(out), at(a), at(b), length);
+      return out;
+    },
+    scale: (out, a, s, length) => {
+      if (!(mine(out) && mine(a))) return js.scale(out, a, s, length);
+      x.scale(at(out), at(a), s, length);
+      return out;
+    },
+    addInto: (out, a, length) => {
+      if (!(mine(out) && mine(a))) return js.addInto(out, a, length);
+      x.addInto(at(out), at(a), length);
+      return out;
+    },
+    addScaledInto: (out, a, s, length) => {
+      if (!(mine(out) && mine(a))) return js.addScaledInto(out, a, s, length);
+      x.addScaledInto(at(out), at(a), s, length);
+      return out;
+    },
+    multiplyInto: (out, a, b, length) => {
+      if (!(mine(out) && mine(a) && mine(b))) return js.multiplyInto(out, a, b, length);
+      x.multiplyInto(at(out), at(a), at(b), length);
+      return out;
+    },
+    addRow: (out, a, row, rows, cols) => {
+      if (!(mine(out) && mine(a) && mine(row))) return js.addRow(out, a, row, rows, cols);
+      x.addRow(at(out), at(a), at(row), rows, cols);
+      return out;
+    },
+    sumRows: (out, a, rows, cols, accumulate = false) => {
+      if (!(mine(out) && mine(a))) return js.sumRows(out, a, rows, cols, accumulate);
+      x.sumRows(at(out), at(a), rows, cols, +accumulate);
+      return out;
+    },
+    sigmoid: (out, a, length) => {
+      if (!(mine(out) && mine(a))) return js.sigmoid(out, a, length);
+      x.sigmoid(at(out), at(a), length);
+      return out;
+    },
+    tanh: (out, a, length) => {
+      if (!(mine(out) && mine(a))) return js.tanh(out, a, length);
+      x.tanh(at(out), at(a), length);
+      return out;
+    },
+    exp: (out, a, length) => {
+      if (!(mine(out) && mine(a))) return js.exp(out, a, length);
+      x.exp(at(out), at(a), length);
+      return out;
+    },
+    sigmoidGradientInto: (inputGradient, outputGradient, y, length) => {
+      if (!(mine(inputGradient) && mine(outputGradient) && mine(y))) return js.sigmoidGradientInto(inputGradient, outputGradient, y, length);
+      x.sigmoidGradientInto(at(inputGradient), at(outputGradient), at(y), length);
+      return inputGradient;
+    },
+    tanhGradientInto: (inputGradient, outputGradient, y, length) => {
+      if (!(mine(inputGradient) && mine(outputGradient) && mine(y))) return js.tanhGradientInto(inputGradient, outputGradient, y, length);
+      x.tanhGradientInto(at(inputGradient), at(outputGradient), at(y), length);
+      return inputGradient;
+    },
+    ...simdStepKernels(x, memory, workspace),
+    adamUpdate: (values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon) => {
+      if (!(mine(values) && mine(gradient) && mine(firstMoment) && mine(secondMoment))) {
+        return js.adamUpdate(values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon);
+      }
+      x.adamUpdate(at(values), at(gradient), at(firstMoment), at(secondMoment), length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon);
+    },
+    sgdUpdate: (values, gradient, velocity, length, rate, decay, mu, kappa, nesterov) => {
+      if (!(mine(values) && mine(gradient) && mine(velocity))) return js.sgdUpdate(values, gradient, velocity, length, rate, decay, mu, kappa, nesterov);
+      x.sgdUpdate(at(values), at(gradient), at(velocity), length, rate, decay, mu, kappa, +nesterov);
+    },
+  };
+}
