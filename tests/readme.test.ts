@@ -20,6 +20,12 @@ describe('the README', () => {
     expect(readme).toContain(`\`\`\`ts\n${example}\`\`\``);
   });
 
+  it('shows the plan of examples/custom-cell/mgu-plan.ts verbatim, the cell the command test trains and ships', () => {
+    const readme = readFileSync(new URL('../README.md', import.meta.url), 'utf8');
+    const example = readFileSync(new URL('../examples/custom-cell/mgu-plan.ts', import.meta.url), 'utf8');
+    expect(readme).toContain(`\`\`\`ts\n${example}\`\`\``);
+  });
+
   it('opens with the job and gives the two setup commands', () => {
     const readme = readFileSync(new URL('../README.md', import.meta.url), 'utf8');
     expect(readme.split('\n')[2]).toMatch(/^weft is a TypeScript library for training and running small gated recurrent networks/);

@@ -49,7 +49,7 @@ export type {
   ValueSource,
 } from './plans/plan.js';
 export type { CellPlans } from './plans/index.js';
-export { builtInPlans, isNamespacedKind, namespacedKinds, planOf } from './plans/index.js';
+export { builtInPlans, checkPlans, isNamespacedKind, namespacedKinds, planOf } from './plans/index.js';
 export { traceStep } from './plans/trace.js';
 export type { PlanCellOptions } from './plan-cell.js';
 export { PlanCell, initialisePlanParameters, stepOnTape } from './plan-cell.js';

@@ -44,6 +44,47 @@ describe('a plan on the tape', () => {
     expect(report.passed).toBe(true);
   });
 
+  it("gives, for the example's cell at H = 32 and T = 20, the gradient a Richardson-extrapolated central difference gives, to 1e-7 relative", () => {
+    // Independent of the library's check: D(h) = (f(x + h) − f(x − h)) / 2h at h and h/2, extrapolated to h → 0 as
+    // (4·D(h/2) − D(h)) / 3 (Richardson), whose error is O(h⁴) (common practice), here about 1e-12.
+    const cell = new PlanCell({ plan: mguPlan, inputWidth: 3, hidden: 32, dtype: 'f64', random: 7 });
+    const random = new Random('richardson');
+    const inputs = tensor(
+      Float64Array.from({ length: 20 * 2 * 3 }, () => random.between(-1, 1)),
+      [20, 2, 3],
+      'f64',
+    );
+    const weights = tensor(
+      Float64Array.from({ length: 20 * 2 * 32 }, () => random.between(-1, 1)),
+      [20, 2, 32],
+      'f64',
+    );
+    const loss = (tape: Tape) => sum(tape, multiply(tape, runSequence(tape, cell, inputs, { lengths: [20, 13] }).outputs, weights));
+    const tape = new Tape();
+    const value = loss(tape);
+    tape.reverseSweep(value);
+    const gradients = cell.parameters().map((p) => Float64Array.from(p.tensor.gradient!));
+    const at = (data: Float64Array, k: number, shift: number): number => {
+      const kept = data[k];
+      data[k] = kept + shift;
+      const f = loss(new Tape({ recording: false })).data[0];
+      data[k] = kept;
+      return f;
+    };
+    let worst = 0;
+    cell.parameters().forEach((p, i) => {
+      const data = p.tensor.data as Float64Array;
+      for (let n = 0; n < 6; n++) {
+        const k = random.integer(data.length);
+        const difference = (h: number) => (at(data, k, h) - at(data, k, -h)) / (2 * h);
+        const extrapolated = (4 * difference(5e-4) - difference(1e-3)) / 3;
+        worst = Math.max(worst, Math.abs(extrapolated - gradients[i][k]) / Math.max(Math.abs(gradients[i][k]), 1e-3));
+      }
+    });
+    console.log(`example cell, H = 32, T = 20: worst relative gap to the extrapolated difference ${worst.toExponential(2)} over 24 entries`);
+    expect(worst).toBeLessThan(1e-7);
+  });
+
   it('starts gate blocks as the built-in cells do: recurrent H×H blocks orthogonal, input blocks Glorot-uniform, vectors 0', () => {
     const cell = new PlanCell({ plan: mguPlan, inputWidth: 3, hidden: 4, random: 5 });
     const [input, bias, gate] = cell.parameters().map((p) => p.tensor.data);

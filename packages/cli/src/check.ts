@@ -1,17 +1,19 @@
 /**
  * `weft check`: gradient checks (f64 central differences against the tape) for the built-in cells, fused and
  * composed, or for a cell exported from the user's own module. A module exports (as default, or under
- * --export NAME) a function that makes the cell: ({ inputWidth, hidden, dtype }) => RecurrentCell.
+ * --export NAME) a cell plan (CellPlan of @weft/cells, the form --cell-module trains), or a function that makes the
+ * cell: ({ inputWidth, hidden, dtype }) => RecurrentCell.
  */
 import { MAX_FAILED_SHOWN, Random, add, checkGradients, multiply, randomUniform, sum } from '@weft/core';
 import type { GradientCheckOptions, GradientReport, Tape, Tensor } from '@weft/core';
-import { GruCell, LstmCell, PlainCell, runSequence } from '@weft/cells';
+import { GruCell, LstmCell, PlainCell, PlanCell, runSequence } from '@weft/cells';
 import type { RecurrentCell } from '@weft/cells';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { loadUserModule, makerExport } from './user-module.js';
+import { planExport } from './cell-module.js';
 
 export const checkFlags: FlagSpec[] = [
   {
@@ -110,7 +112,12 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
   if (modulePath !== undefined) {
     const loaded = await loadUserModule(modulePath);
     const name = args.flags.get('export') ?? 'default';
-    const maker = makerExport<Maker>(loaded, modulePath, name, '({ inputWidth, hidden, dtype }) => cell');
+    // A cell plan (as --cell-module takes) is checked as its training cell; anything else must be a maker.
+    const exported = loaded[name];
+    const maker: Maker =
+      typeof exported === 'object' && exported !== null
+        ? (request) => new PlanCell({ ...request, plan: planExport(loaded, modulePath, name), random: 1 })
+        : makerExport<Maker>(loaded, modulePath, name, '({ inputWidth, hidden, dtype }) => cell');
     let cell: RecurrentCell;
     try {
       cell = maker({ inputWidth, hidden, dtype: 'f64' });

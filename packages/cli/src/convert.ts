@@ -12,9 +12,11 @@ import { ONNX_OPSET, decodeOnnxModel, decodeOnnxTensor, encodeOnnxModel, exportO
 import type { OnnxImport, OnnxTensor } from '@weft/io/onnx';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { CommandError } from './errors.js';
+import { cellModuleFlags, cellPlansFrom } from './cell-module.js';
 import { shown } from './terminal.js';
 
 export const convertFlags: FlagSpec[] = [
+  ...cellModuleFlags,
   { name: 'out', value: 'FILE', description: 'where the converted file goes', fallback: '<name>.weft.json from ONNX, <name>.onnx from weft' },
   { name: 'values', value: 'NAME=FILE,…', description: 'ONNX only: values of graph inputs that are weights, as TensorProto files' },
   { name: 'lengths', switch: true, description: 'to ONNX only: add a lengths input [batch] for ragged batches' },
@@ -97,10 +99,11 @@ export async function convert(args: ParsedArgs): Promise<string> {
   const name = basename(path);
   if (isWeightFileText(bytes, path)) {
     if (args.flags.has('values')) throw new CommandError('--values is for ONNX files; this is a weight file', 2);
-    const file = await readWeightFile(new TextDecoder().decode(bytes));
+    const plans = await cellPlansFrom(args);
+    const file = await readWeightFile(new TextDecoder().decode(bytes), { plans });
     if (isEncoderDecoder(file.model))
       throw new CommandError(`${shown(name)}: an encoder-decoder; weft converts sequence models (one chain of layers) to ONNX, not encoder-decoders`);
-    const onnx = exportOnnx(file, { lengths: args.switches.has('lengths') });
+    const onnx = exportOnnx(file, { lengths: args.switches.has('lengths'), plans });
     const out = args.flags.get('out') ?? `${path.replace(/(\.weft)?\.json$/i, '')}.onnx`;
     const encoded = encodeOnnxModel(onnx);
     writeFileAtomic(out, encoded);

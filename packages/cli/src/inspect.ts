@@ -2,6 +2,7 @@
 import { loadWeightFile } from '@weft/io/node';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { CommandError } from './errors.js';
+import { cellModuleFlags, cellPlansFrom } from './cell-module.js';
 import { shown } from './terminal.js';
 import { importSummary, isWeightFileText, readBytes } from './convert.js';
 import { WeftError, describeProblem } from '@weft/core';
@@ -10,6 +11,7 @@ import { layoutProblems } from '@weft/io';
 import { parameterLayout } from '@weft/cells';
 
 export const inspectFlags: FlagSpec[] = [
+  ...cellModuleFlags,
   { name: 'json', switch: true, description: 'print the summary as JSON' },
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];
@@ -21,7 +23,8 @@ export async function inspect(args: ParsedArgs): Promise<string> {
   if (path === undefined) throw new CommandError('weft inspect needs a weight file (see weft inspect --help)', 2);
   const bytes = readBytes(path);
   if (!isWeightFileText(bytes, path)) return inspectOnnx(path, bytes);
-  const file = await loadWeightFile(path, { verifyDigest: 'report' });
+  const plans = await cellPlansFrom(args);
+  const file = await loadWeightFile(path, { verifyDigest: 'report', plans });
   const rows = file.tensors.map((t) => {
     const dtype = file.storedAs[t.name];
     const rowsCount = t.shape.length === 0 ? 1 : t.values.length / Math.max(1, t.shape[t.shape.length - 1]);
@@ -74,7 +77,7 @@ export async function inspect(args: ParsedArgs): Promise<string> {
   lines.push('', `digest: SHA-256 ${file.digest} — ${file.digestVerified ? 'verified' : 'DOES NOT MATCH the tensor bytes (the file was changed or damaged)'}`);
   // The tensors against the description's layout, as weft run checks them (built-in cells; a cell of your own
   // defines its own tensors).
-  const layout = parameterLayout(file.model);
+  const layout = parameterLayout(file.model, plans);
   const problems = layout.builtIn
     ? layoutProblems(
         file.tensors.map((t) => ({ name: t.name, shape: t.shape })),

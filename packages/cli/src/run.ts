@@ -22,6 +22,7 @@ import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
+import { cellModuleFlags, cellPlansFrom } from './cell-module.js';
 import { classifyStepTable } from './score.js';
 import { columnsAt, rowForecasts, seriesForecasts } from './run-forecasts.js';
 import { boundedLines, tableRecords } from './stream-table.js';
@@ -33,6 +34,7 @@ import { utf8Text } from './text-bytes.js';
 import { csvCell } from './terminal.js';
 
 export const runFlags: FlagSpec[] = [
+  ...cellModuleFlags,
   { name: 'format', value: 'csv|json', description: 'output format', fallback: 'csv' },
   { name: 'keep', value: 'A,B', description: 'input columns to carry through to each output row (forecast, classify), such as a date' },
   {
@@ -100,7 +102,8 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   if (modelPath === undefined) throw new CommandError('weft run needs a weight file and data (see weft run --help)', 2);
   if (args.positional.length > 2) throw new CommandError(`weft run takes a weight file and one data file, got ${args.positional.length} arguments`, 2);
   const format = choiceFlag(args, 'format', ['csv', 'json'] as const, 'csv');
-  const file = await loadWeightFile(modelPath);
+  const plans = await cellPlansFrom(args);
+  const file = await loadWeightFile(modelPath, { plans });
   const fromStdin = dataPath === undefined || dataPath === '-';
   const name = fromStdin ? '<stdin>' : dataPath;
   if (!fromStdin && !existsSync(dataPath)) throw new CommandError(`${dataPath}: no such file`);
@@ -113,7 +116,7 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
   }
   for (const flag of ['beam', 'attention-map'])
     if (args.flags.has(flag)) throw new CommandError(`--${flag} applies to encoder-decoders (weft train --task pairs); ${modelPath} is a sequence model`, 2);
-  const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
+  const runtime = await createRuntime(file, { backend: chooseBackend(args).name, plans });
   const meta = file.metadata as Record<string, unknown>;
   const output = new Output(format, outPath === undefined ? write : null);
   const keep =

@@ -7,8 +7,10 @@ import type { FlagSpec, ParsedArgs } from './args.js';
 import { numberFlag } from './args.js';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
+import { cellModuleFlags, cellPlansFrom } from './cell-module.js';
 
 export const sampleFlags: FlagSpec[] = [
+  ...cellModuleFlags,
   { name: 'length', value: 'NUMBER', description: 'tokens to generate', fallback: '200' },
   { name: 'temperature', value: 'NUMBER', description: 'below 1 sharper, above 1 more varied', fallback: '0.8' },
   { name: 'top-k', value: 'NUMBER', description: 'choose among the k most likely tokens only (0: all)', fallback: '0' },
@@ -22,12 +24,13 @@ export const sampleFlags: FlagSpec[] = [
 export async function sampleText(args: ParsedArgs): Promise<string> {
   const [path] = args.positional;
   if (path === undefined) throw new CommandError('weft sample needs a weight file (see weft sample --help)', 2);
-  const file = await loadWeightFile(path);
+  const plans = await cellPlansFrom(args);
+  const file = await loadWeightFile(path, { plans });
   const vocabulary = file.metadata.vocabulary;
   if (file.metadata.task !== 'next-token' || vocabulary === undefined)
     throw new CommandError(`${path}: not a text model (its task is ${JSON.stringify(file.metadata.task)}); weft sample needs one trained on text`);
   const mode = file.metadata.tokens === 'words' ? 'words' : 'characters';
-  const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
+  const runtime = await createRuntime(file, { backend: chooseBackend(args).name, plans });
   const translator = createTranslator(file.metadata as Record<string, unknown>);
   const prefixText = args.flags.get('prefix');
   const split = prefixText === undefined ? null : translator.tokenIds(prefixText);

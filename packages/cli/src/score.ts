@@ -36,12 +36,14 @@ import { DEFAULT_SHARE, scoredItems } from './scored-part.js';
 import type { ScoredPart } from './scored-part.js';
 import type { HeldOutReport } from './datasets.js';
 import { CommandError } from './errors.js';
+import { cellModuleFlags, cellPlansFrom } from './cell-module.js';
 import { scoreTransduction } from './transduce.js';
 import { reportJson, reportLines } from '@weft/io';
 import { scoreForecast } from './score-forecast.js';
 import { logits, scoreText } from './score-text.js';
 
 export const scoreFlags: FlagSpec[] = [
+  ...cellModuleFlags,
   { name: 'format', value: 'text|json', description: 'plain text, or JSON for scripts', fallback: 'text' },
   {
     name: 'season',
@@ -68,7 +70,8 @@ export async function score(args: ParsedArgs): Promise<string> {
   if (args.positional.length > 2) throw new CommandError(`weft score takes a weight file and one data file, got ${args.positional.length} arguments`, 2);
   const format = choiceFlag(args, 'format', ['text', 'json'] as const, 'text');
   const text = readData(dataPath);
-  const file = await loadWeightFile(modelPath);
+  const plans = await cellPlansFrom(args);
+  const file = await loadWeightFile(modelPath, { plans });
   const bytes = new TextEncoder().encode(text);
   const training = file.metadata.training as Record<string, unknown> | undefined;
   const split = typeof file.metadata.split === 'object' && file.metadata.split !== null ? (file.metadata.split as Record<string, unknown>) : null;
@@ -81,7 +84,7 @@ export async function score(args: ParsedArgs): Promise<string> {
     const report = await scoreTransduction(file, args, modelPath, dataPath, part);
     return format === 'json' ? `${JSON.stringify(reportJson(report), null, 2)}\n` : `${reportLines(report).join('\n')}\n`;
   }
-  const runtime = await createRuntime(file, { backend: chooseBackend(args).name });
+  const runtime = await createRuntime(file, { backend: chooseBackend(args).name, plans });
   const meta = file.metadata as Record<string, unknown>;
   const season = args.flags.get('season') === 'none' ? null : args.flags.has('season') ? numberFlag(args, 'season', 1, { whole: true, min: 1 }) : undefined;
   const report =

@@ -28,6 +28,7 @@ import { runResults } from './results.js';
 import { reportLines } from '@weft/io';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
+import { cellModuleFlags, cellPlansFrom } from './cell-module.js';
 import { lossCurveSvg, sparkline } from './plot.js';
 import type { LossPoint } from './plot.js';
 import { ProgressView, formatSeconds } from './progress.js';
@@ -40,6 +41,7 @@ export const trainFlags: FlagSpec[] = [
       'what to learn; by default .txt/.md files are text, CSVs with label and sequence columns are classify, with source and target columns pairs (an encoder-decoder), other CSVs forecast',
   },
   { name: 'cell', value: 'lstm|gru|plain', description: 'recurrent cell', fallback: 'lstm' },
+  ...cellModuleFlags,
   { name: 'hidden', value: 'NUMBER', description: 'hidden units per layer', fallback: '64; 32 on sliding windows' },
   { name: 'layers', value: 'NUMBER', description: 'stacked layers', fallback: '1' },
   { name: 'bidirectional', switch: true, description: 'read sequences both ways (classify; pairs: the encoder)' },
@@ -295,7 +297,10 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const resultsFile = args.flags.get('results');
   for (const path of [out, checkpoint, ...(resultsFile === undefined ? [] : [resolve(resultsFile)])]) checkWritable(path);
   const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify', 'pairs'] as const, guessTask(dataPath, text, args));
-  const cell = choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm');
+  // A cell of your own (--cell-module): its plan builds the model, travels with checkpoints and the weight file.
+  const plans = await cellPlansFrom(args);
+  if (plans !== undefined && args.flags.has('cell')) throw new CommandError('--cell and --cell-module both name the cell; give one', 2);
+  const cell: string = plans === undefined ? choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm') : Object.keys(plans)[0];
   let hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
   const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
   const dropout = numberFlag(args, 'dropout', 0, { min: 0, max: 0.95 });
@@ -339,6 +344,10 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
       2,
     );
   const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
+  if (plans !== undefined && ensemble > 1)
+    throw new CommandError('--ensemble stacks models of the built-in cells; a cell of your own (--cell-module) trains one model', 2);
+  if (plans !== undefined && args.flags.has('workers') && args.flags.get('workers') !== '1')
+    throw new CommandError('--workers: training threads build the built-in cells; a cell of your own (--cell-module) trains on this thread (--workers 1)', 2);
   // Checked with the other flags, before any training.
   const intervalLevel = args.flags.get('interval') === 'none' ? null : numberFlag(args, 'interval', 0.95, { min: 0.5, max: 0.999 });
   for (const name of [
@@ -416,7 +425,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   ) {
     const hybrid = prepareForecast(text, dataPath, { ...options, hybrid: true });
     const figure = async (candidate: Prepared): Promise<number> => {
-      const trial = buildModel({ input: candidate.input, layers, dropout, readout: { width: candidate.outputWidth } }, { seed });
+      const trial = buildModel({ input: candidate.input, layers, dropout, readout: { width: candidate.outputWidth } }, { seed, plans });
       await new Trainer({
         model: trial,
         shardRows: SHARD_ROWS,
@@ -443,7 +452,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     !args.flags.has('hybrid')
   ) {
     // A resumed run keeps the choice its checkpoint made.
-    const saved = await loadCheckpoint(resolve(args.flags.get('resume') as string));
+    const saved = await loadCheckpoint(resolve(args.flags.get('resume') as string), { plans });
     const savedWindow = (saved.file.metadata.window ?? (saved.file.metadata.panel as { series?: { window?: unknown }[] } | undefined)?.series?.[0]?.window) as
       | { hybrid?: unknown }
       | undefined;
@@ -467,7 +476,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   const dataDigest = await sha256Hex(new TextEncoder().encode(text));
   const store = choiceFlag(args, 'store', ['f32', 'f16', 'i8'] as const, 'f32');
   const every = numberFlag(args, 'checkpoint-every', 200, { whole: true, min: 1 });
-  const model: TrainableModel = prepared.task === 'pairs' ? new EncoderDecoderModel(description, { seed }) : buildModel(description, { seed });
+  const model: TrainableModel = prepared.task === 'pairs' ? new EncoderDecoderModel(description, { seed, plans }) : buildModel(description, { seed, plans });
   const history: { training: LossPoint[]; validation: LossPoint[] } = { training: [], validation: [] };
   // A forecast of one column: its validation MAE shown in the data's units (the column's deviation undoes the scaling).
   // With differences, the error of the change is the error of the level, so its deviation serves; log returns
@@ -508,7 +517,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     history: { training: thin(history.training).map((p) => [p.step, p.loss]), validation: thin(history.validation).map((p) => [p.step, p.loss]) },
   });
   // Shards of 8 rows whatever the thread count, so --workers changes the speed and never the weights.
-  const shardCount = Math.ceil(options.batch / SHARD_ROWS);
+  // (A cell of your own trains on this thread: the threads build built-in cells only.)
+  const shardCount = plans === undefined ? Math.ceil(options.batch / SHARD_ROWS) : 1;
   const workerCount = Math.min(
     shardCount,
     args.flags.has('workers') ? numberFlag(args, 'workers', 1, { whole: true, min: 1, max: 256 }) : availableParallelism(),
@@ -549,7 +559,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
       },
     });
     if (resume !== undefined) {
-      const saved = await loadCheckpoint(resolve(resume));
+      const saved = await loadCheckpoint(resolve(resume), { plans });
       const difference = firstDifference(saved.file.model, description);
       if (difference !== null) throw new CommandError(`${resume}: the checkpoint does not match the requested model: ${difference}`);
       const savedTraining = saved.file.metadata.training as Record<string, unknown> | undefined;
@@ -584,7 +594,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
   process.on('SIGINT', onInterrupt);
   const kind = task === 'pairs' ? `encoder-decoder (${attention === 'none' ? 'no' : attention} attention)` : `${task} model`;
   info(
-    `training ${cell === 'lstm' ? 'an LSTM' : cell === 'gru' ? 'a GRU' : 'a plain recurrent'} ${kind} (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend, ${workerCount > 1 ? `${workerCount} threads` : 'this thread'}`,
+    `training ${cell === 'lstm' ? 'an LSTM' : cell === 'gru' ? 'a GRU' : cell === 'plain' ? 'a plain recurrent' : `a ${cell}`} ${kind} (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend, ${workerCount > 1 ? `${workerCount} threads` : 'this thread'}`,
   );
   let summary: TrainingSummary;
   try {
@@ -611,7 +621,7 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     process.on('SIGINT', onInterrupt);
     for (let k = 2; k <= ensemble; k++) {
       const memberSeed = `${seed}/${k}`;
-      const member = buildModel(description, { seed: memberSeed });
+      const member = buildModel(description, { seed: memberSeed, plans });
       const memberThreads = workerCount > 1 ? await startTrainingThreads({ count: workerCount, model: member }) : undefined;
       let memberSummary: TrainingSummary;
       try {

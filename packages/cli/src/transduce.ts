@@ -16,6 +16,7 @@ import { numberFlag } from './args.js';
 import { attentionMapSvg } from './attention-map.js';
 import { chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
+import { cellPlansFrom } from './cell-module.js';
 import { checkSourceLength, readPairs, textOf, tokensOf } from './pairs.js';
 import { decodeText, sourceIds, transductionMeta, transductionReport } from './transduction.js';
 import { csvCell } from './terminal.js';
@@ -25,7 +26,7 @@ import { scoredItems } from './scored-part.js';
 import type { ScoredPart } from './scored-part.js';
 
 async function open(file: WeightFile, args: ParsedArgs, path: string): Promise<{ runtime: EncoderDecoderRuntime; meta: TransductionMeta; beam: number }> {
-  const runtime = await createEncoderDecoderRuntime(file, { backend: chooseBackend(args).name });
+  const runtime = await createEncoderDecoderRuntime(file, { backend: chooseBackend(args).name, plans: await cellPlansFrom(args) });
   const meta = transductionMeta(file.metadata, runtime, path);
   return { runtime, meta, beam: numberFlag(args, 'beam', 1, { whole: true, min: 1, max: 64 }) };
 }

@@ -1,5 +1,5 @@
 /**
- * A cell that is not built in, for the plan tests: the minimal gated unit (Zhou, Wu, Zhang & Zhou 2016, "Minimal
+ * A cell that is not built in, for the plan tests: the example's minimal gated unit (Zhou, Wu, Zhang & Zhou 2016, "Minimal
  * gated unit for recurrent neural networks", eqs. 8–10), one gate f that both forgets and resets:
  *
  *   f = σ(x·W_f + h₋·U_f + b_f)
@@ -9,24 +9,10 @@
  * Parameters: input [I, 2H] (blocks f, h), bias [2H], recurrentGate [H, H], recurrentCandidate [H, H].
  */
 import type { CellPlan } from '@weft/cells/description';
+import { mguPlan as examplePlan } from '../../../../examples/custom-cell/mgu-plan.js';
 
-export const mguPlan: CellPlan = {
-  kind: 'test.mgu',
-  state: ({ hidden }) => [{ name: 'h', width: hidden }],
-  parameters: ({ inputWidth, hidden }) => [
-    { name: 'input', shape: [inputWidth, 2 * hidden] },
-    { name: 'bias', shape: [2 * hidden] },
-    { name: 'recurrentGate', shape: [hidden, hidden] },
-    { name: 'recurrentCandidate', shape: [hidden, hidden] },
-  ],
-  step(w, { hidden }) {
-    const [h] = w.state;
-    const projected = w.add(w.product(w.input, 'input'), w.vector('bias'));
-    const f = w.sigmoid(w.add(w.columns(projected, 0, hidden), w.product(h, 'recurrentGate')));
-    const candidate = w.tanh(w.add(w.columns(projected, hidden, hidden), w.product(w.multiply(f, h), 'recurrentCandidate')));
-    return [w.add(h, w.multiply(f, w.subtract(candidate, h)))];
-  },
-};
+/** The example's plan (examples/custom-cell/mgu-plan.ts) filed under a kind of the tests. */
+export const mguPlan: CellPlan = { ...examplePlan, kind: 'test.mgu' };
 
 /** The minimal gated unit computed directly from the equations above in f64, one row: a reference for the tests. */
 export function mguReference(x: readonly number[], h: readonly number[], p: Readonly<Record<string, ArrayLike<number>>>): number[] {
