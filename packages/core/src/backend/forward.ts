@@ -4,7 +4,10 @@
  * (the kernels of core/src/kernels over ordinary typed arrays) here, and WebAssembly SIMD in
  * forward-webassembly.ts (a module of its own, core/wasm/runtime.ts, with the forward twins only).
  */
-import { affineRows, gruLayerStep, lstmLayerStep, plainLayerStep } from '../kernels/layer-steps.js';
+import { gruLayerStep } from '../kernels/gru-step.js';
+import { lstmLayerStep } from '../kernels/lstm-step.js';
+import { affineRows } from '../kernels/matmul.js';
+import { plainLayerStep } from '../kernels/plain-step.js';
 import type { BackendName } from './backend.js';
 
 /**

@@ -15,6 +15,8 @@
 import type { FloatArray } from '../dtype.js';
 import { logistic } from './logistic.js';
 import { holdRow, isHeld, passHeldRow } from './rows.js';
+import { matmul } from './matmul.js';
+import { addRow } from './elementwise.js';
 
 /** Writes z and r into columns [0, 2H) of `gates` [B, 3H] from the projection row and h₋·R_zr ([B, 2H]). */
 export function gruUpdateReset(
@@ -148,4 +150,42 @@ export function gruBackwardReset(
       if (hiddenPreviousGradient !== null) hiddenPreviousGradient[row + j] += d * r;
     }
   }
+}
+
+/**
+ * The runtime's whole-layer step (its WebAssembly twin: core/wasm/layers.ts; one call per layer and step):
+ * projected [rows, 3H] = x·W + b; updateReset [rows, 2H] = h·R_zr; then z, r; the candidate product (with r ⊙ h₋
+ * in `resetHidden`, or h₋·R_n + b_Rn when `candidateBias` is given: the reset-after form); then h.
+ */
+export function gruLayerStep(
+  x: FloatArray,
+  input: FloatArray,
+  bias: FloatArray,
+  recurrent: FloatArray,
+  candidateWeights: FloatArray,
+  candidateBias: FloatArray | null,
+  hState: FloatArray,
+  projected: FloatArray,
+  gates: FloatArray,
+  updateReset: FloatArray,
+  candidate: FloatArray,
+  resetHidden: FloatArray,
+  rows: number,
+  inputWidth: number,
+  hidden: number,
+  lengths: Int32Array | null,
+  step: number,
+): void {
+  matmul(projected, x, input, rows, inputWidth, 3 * hidden);
+  addRow(projected, projected, bias, rows, 3 * hidden);
+  matmul(updateReset, hState, recurrent, rows, hidden, 2 * hidden);
+  gruUpdateReset(gates, projected, 0, updateReset, rows, hidden);
+  if (candidateBias === null) {
+    gruResetHidden(resetHidden, gates, hState, rows, hidden);
+    matmul(candidate, resetHidden, candidateWeights, rows, hidden, hidden);
+  } else {
+    matmul(candidate, hState, candidateWeights, rows, hidden, hidden);
+    addRow(candidate, candidate, candidateBias, rows, hidden);
+  }
+  gruStepFinish(hState, gates, projected, 0, candidate, hState, candidateBias !== null, rows, hidden, lengths, step);
 }

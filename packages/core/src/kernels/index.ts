@@ -2,14 +2,13 @@
  * The JavaScript kernels: out-first, explicit dimensions, no allocation. They are the JavaScript backend's kernel
  * table (backend/kernel-table.ts) and the reference twins of the WebAssembly backend's kernels.
  */
-export { matmul, matmulNaive } from './matmul.js';
+export { affineRows, matmul, matmulNaive } from './matmul.js';
 export { add, addAt, addInto, addRow, addScaledInto, copyAt, multiply, multiplyInto, scale, subtract, sumRows } from './elementwise.js';
 export { exp, log, relu, reluGradientInto, sigmoid, sigmoidGradientInto, tanh, tanhGradientInto } from './activations.js';
 export { dot, firstNonFinite, limitEntries, maxAbs, sum, sumOfSquares } from './reductions.js';
 export { crossEntropyRows, logSumExp } from './softmax.js';
 export { logistic } from './logistic.js';
-export { lstmStepBackward, lstmStepForward } from './lstm-step.js';
-export { gruBackwardCandidate, gruBackwardReset, gruResetHidden, gruStepFinish, gruUpdateReset } from './gru-step.js';
-export { plainStepBackward, plainStepForward } from './plain-step.js';
+export { lstmLayerStep, lstmStepBackward, lstmStepForward } from './lstm-step.js';
+export { gruBackwardCandidate, gruBackwardReset, gruLayerStep, gruResetHidden, gruStepFinish, gruUpdateReset } from './gru-step.js';
+export { plainLayerStep, plainStepBackward, plainStepForward } from './plain-step.js';
 export { adamUpdate, sgdUpdate } from './rules.js';
-export { affineRows, gruLayerStep, lstmLayerStep, plainLayerStep } from './layer-steps.js';

@@ -13,6 +13,8 @@
 import type { FloatArray } from '../dtype.js';
 import { logistic } from './logistic.js';
 import { addRowInto, copyRow, holdRow, passHeldRow } from './rows.js';
+import { matmul } from './matmul.js';
+import { addRow } from './elementwise.js';
 
 /**
  * On entry `gates` holds the pre-activations a; on exit the activations i, f, g, o (saved for backward).
@@ -134,4 +136,32 @@ export function lstmStepBackward(
       }
     }
   }
+}
+
+/**
+ * The runtime's whole-layer step (its WebAssembly twin: core/wasm/layers.ts; one call per layer and step):
+ * gates [rows, 4H] = x·W + b + h·R, then h, c ← the LSTM step (tanhCell [rows, H] is working memory). The state is
+ * updated in place: the kernel reads each h₋, c₋ entry before writing the same entry.
+ */
+export function lstmLayerStep(
+  x: FloatArray,
+  input: FloatArray,
+  recurrent: FloatArray,
+  bias: FloatArray,
+  peephole: FloatArray | null,
+  hState: FloatArray,
+  cell: FloatArray,
+  gates: FloatArray,
+  tanhCell: FloatArray,
+  rows: number,
+  inputWidth: number,
+  hidden: number,
+  lengths: Int32Array | null,
+  step: number,
+): void {
+  matmul(gates, x, input, rows, inputWidth, 4 * hidden);
+  addRow(gates, gates, bias, rows, 4 * hidden);
+  matmul(gates, hState, recurrent, rows, hidden, 4 * hidden, false, false, true);
+  // In place: the kernel reads each h₋, c₋ entry before writing the same entry.
+  lstmStepForward(hState, cell, gates, tanhCell, hState, cell, peephole, rows, hidden, lengths, step);
 }

@@ -14,6 +14,7 @@
 import type { FloatArray } from '../dtype.js';
 import { matmulFewRows } from './matmul-few-rows.js';
 import { SCRATCH_LEFT, SCRATCH_RIGHT, scratch } from './scratch.js';
+import { addRow } from './elementwise.js';
 
 const BLOCK = 4;
 
@@ -258,4 +259,10 @@ export function matmulNaive(out: FloatArray, a: FloatArray, b: FloatArray, rows:
     }
   }
   return out;
+}
+
+/** out [rows, cols] = x·weights + bias (the readout's affine map), out not aliasing x. */
+export function affineRows(out: FloatArray, bias: FloatArray, x: FloatArray, weights: FloatArray, rows: number, inner: number, cols: number): FloatArray {
+  matmul(out, x, weights, rows, inner, cols);
+  return addRow(out, out, bias, rows, cols);
 }

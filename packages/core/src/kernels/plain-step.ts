@@ -4,6 +4,8 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { holdRow, passHeldRow } from './rows.js';
+import { matmul } from './matmul.js';
+import { addRow } from './elementwise.js';
 
 /** On entry `hState` holds the pre-activation a; on exit φ(a), or h₋ for held rows. */
 export function plainStepForward(
@@ -53,4 +55,29 @@ export function plainStepBackward(
       preGradient[row + j] = rectified ? (h > 0 ? dh : 0) : dh * (1 - h * h);
     }
   }
+}
+
+/**
+ * The runtime's whole-layer step (its WebAssembly twin: core/wasm/layers.ts; one call per layer and step):
+ * pre [rows, H] = x·W + b + h·R, φ applied (held rows keep h₋), then h = pre.
+ */
+export function plainLayerStep(
+  x: FloatArray,
+  input: FloatArray,
+  recurrent: FloatArray,
+  bias: FloatArray,
+  hState: FloatArray,
+  pre: FloatArray,
+  rectified: boolean,
+  rows: number,
+  inputWidth: number,
+  hidden: number,
+  lengths: Int32Array | null,
+  step: number,
+): void {
+  matmul(pre, x, input, rows, inputWidth, hidden);
+  addRow(pre, pre, bias, rows, hidden);
+  matmul(pre, hState, recurrent, rows, hidden, hidden, false, false, true);
+  plainStepForward(pre, hState, rectified, rows, hidden, lengths, step);
+  for (let i = 0; i < rows * hidden; i++) hState[i] = pre[i];
 }

@@ -2,6 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { Random, kernels } from '@weft/core';
 import { worstGap } from '../../../../tests/helpers/close.js';
 import { numericGradient, uniform, weighted } from './finite-differences.js';
+import * as layer from './layer-batch.js';
+import { specGru } from '../../../cells/test/onnx-equations.js';
 
 // Three rows at step 1; row 1 has length 1, so it is past its end and holds its state.
 const rows = 3;
@@ -138,6 +140,43 @@ describe("the GRU step kernels (Cho et al. 2014, in the ONNX GRU operator's two 
       expect(worstGap(recurrentGradient, numericGradient(objective, x.recurrent))).toBeLessThan(1e-8);
       expect(worstGap(candidateWeightsGradient, numericGradient(objective, x.recurrentCandidate))).toBeLessThan(1e-8);
       if (resetAfter) expect(worstGap(candidateBiasGradient, numericGradient(objective, x.candidateBias))).toBeLessThan(1e-8);
+    });
+  }
+});
+
+describe("the runtime's whole-layer GRU step", () => {
+  const { rows, width, hidden, lengths, table, vector, ours, batch } = layer;
+  for (const linearBeforeReset of [false, true]) {
+    it(`compute one GRU step as the ONNX GRU equations do, linear_before_reset ${Number(linearBeforeReset)}`, () => {
+      const random = new Random(`layer-gru-${linearBeforeReset}`);
+      const w = table(random, 3 * hidden, width);
+      const r = table(random, 3 * hidden, hidden);
+      // With the reset before the product ONNX's candidate Rb sits outside it, so it folds into our bias.
+      const b = vector(random, 6 * hidden);
+      const { x, h0, flatX, state } = batch(random);
+      const spec = specGru({ x: [x], w, r, b, h0, lengths: Array.from(lengths), linearBeforeReset });
+      const bias = Float64Array.from({ length: 3 * hidden }, (_, i) => b[i] + (linearBeforeReset && i >= 2 * hidden ? 0 : b[3 * hidden + i]));
+      const candidateBias = linearBeforeReset ? Float64Array.from(b.slice(5 * hidden)) : null;
+      kernels.gruLayerStep(
+        flatX,
+        ours(w, [0, 1, 2]),
+        bias,
+        ours(r, [0, 1]),
+        ours(r, [2], 0, 1),
+        candidateBias,
+        state,
+        new Float64Array(rows * 3 * hidden),
+        new Float64Array(rows * 3 * hidden),
+        new Float64Array(rows * 2 * hidden),
+        new Float64Array(rows * hidden),
+        new Float64Array(rows * hidden),
+        rows,
+        width,
+        hidden,
+        lengths,
+        0,
+      );
+      expect(worstGap(state, spec.yh.flat())).toBeLessThan(1e-14);
     });
   }
 });

@@ -2,6 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { Random, kernels } from '@weft/core';
 import { worstGap } from '../../../../tests/helpers/close.js';
 import { numericGradient, uniform, weighted } from './finite-differences.js';
+import * as layer from './layer-batch.js';
+import { specLstm } from '../../../cells/test/onnx-equations.js';
 
 // Three rows at step 1; row 1 has length 1, so it is past its end and holds its state.
 const rows = 3;
@@ -102,4 +104,44 @@ describe('the LSTM step kernels (Gers, Schmidhuber & Cummins 2000; peepholes: Ge
       expect(Array.from(gateGradient.subarray(4 * hidden, 8 * hidden)).every((v) => v === 0)).toBe(true);
     });
   }
+});
+
+describe("the runtime's whole-layer LSTM step", () => {
+  const { rows, width, hidden, lengths, table, vector, ours, batch } = layer;
+  it('compute one LSTM step with peepholes as the ONNX LSTM equations do', () => {
+    const random = new Random('layer-lstm');
+    const w = table(random, 4 * hidden, width);
+    const r = table(random, 4 * hidden, hidden);
+    const b = vector(random, 8 * hidden);
+    const p = vector(random, 3 * hidden);
+    const { x, h0, flatX, state } = batch(random);
+    const c0 = table(random, rows, hidden);
+    const spec = specLstm({ x: [x], w, r, b, p, h0, c0, lengths: Array.from(lengths) });
+    // ONNX gate blocks i, o, f, c; ours i, f, g, o.
+    const blocks = [0, 2, 3, 1];
+    const bias = Float64Array.from(
+      { length: 4 * hidden },
+      (_, i) => b[blocks[Math.floor(i / hidden)] * hidden + (i % hidden)] + b[4 * hidden + blocks[Math.floor(i / hidden)] * hidden + (i % hidden)],
+    );
+    const peephole = Float64Array.from([...p.slice(0, hidden), ...p.slice(2 * hidden), ...p.slice(hidden, 2 * hidden)]);
+    const cell = Float64Array.from(c0.flat());
+    kernels.lstmLayerStep(
+      flatX,
+      ours(w, blocks),
+      ours(r, blocks),
+      bias,
+      peephole,
+      state,
+      cell,
+      new Float64Array(rows * 4 * hidden),
+      new Float64Array(rows * hidden),
+      rows,
+      width,
+      hidden,
+      lengths,
+      0,
+    );
+    expect(worstGap(state, spec.yh.flat())).toBeLessThan(1e-14);
+    expect(worstGap(cell, spec.yc!.flat())).toBeLessThan(1e-14);
+  });
 });

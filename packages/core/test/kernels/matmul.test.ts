@@ -3,6 +3,7 @@ import { multiply, transpose, matrix } from 'mathjs';
 import type { Matrix } from 'mathjs';
 import { Random, kernels } from '@weft/core';
 import { worstGap } from '../../../../tests/helpers/close.js';
+import * as layer from './layer-batch.js';
 
 function randomMatrix(random: Random, rows: number, cols: number): number[][] {
   return Array.from({ length: rows }, () => Array.from({ length: cols }, () => random.between(-1, 1)));
@@ -92,5 +93,23 @@ describe('matmul kernel', () => {
     const fast = kernels.matmul(new Float64Array(300), a, b, 10, 20, 30);
     const slow = kernels.matmulNaive(new Float64Array(300), a, b, 10, 20, 30);
     expect(worstGap(fast, slow)).toBeLessThanOrEqual(1e-13);
+  });
+});
+
+describe("the readout's affine map", () => {
+  const { table } = layer;
+  it('compute the readout x·W + b as mathjs multiply does, plus the bias row', () => {
+    const random = new Random('affine');
+    const x = table(random, 3, 6);
+    const weights = table(random, 6, 2);
+    const bias = Float64Array.of(0.5, -2);
+    const out = kernels.affineRows(new Float64Array(6), bias, Float64Array.from(x.flat()), Float64Array.from(weights.flat()), 3, 6, 2);
+    const product = ((multiply(matrix(x), matrix(weights)) as Matrix).toArray() as number[][]).flat();
+    expect(
+      worstGap(
+        out,
+        product.map((v, i) => v + bias[i % 2]),
+      ),
+    ).toBeLessThan(1e-14);
   });
 });

@@ -2,6 +2,8 @@ import { describe, expect, it } from 'vitest';
 import { Random, kernels } from '@weft/core';
 import { worstGap } from '../../../../tests/helpers/close.js';
 import { numericGradient, uniform, weighted } from './finite-differences.js';
+import * as layer from './layer-batch.js';
+import { specRnn } from '../../../cells/test/onnx-equations.js';
 
 // Three rows at step 1; row 1 has length 1, so it is past its end and holds its state.
 const rows = 3;
@@ -50,4 +52,30 @@ describe('the plain step kernels (Elman 1990: h = φ(a))', () => {
       expect(Array.from(preGradient.subarray(hidden, 2 * hidden))).toEqual([0, 0, 0, 0]);
     });
   }
+});
+
+describe("the runtime's whole-layer plain step", () => {
+  const { rows, width, hidden, lengths, table, vector, ours, batch } = layer;
+  it('compute one plain tanh step as the ONNX RNN equations do, and a ReLU step as max(0, x·W + b + h·R)', () => {
+    const random = new Random('layer-plain');
+    const w = table(random, hidden, width);
+    const r = table(random, hidden, hidden);
+    const b = vector(random, 2 * hidden);
+    const { x, h0, flatX, state } = batch(random);
+    const spec = specRnn({ x: [x], w, r, b, h0, lengths: Array.from(lengths) });
+    const bias = Float64Array.from({ length: hidden }, (_, j) => b[j] + b[hidden + j]);
+    const relu = Float64Array.from(state);
+    kernels.plainLayerStep(flatX, ours(w, [0]), ours(r, [0]), bias, state, new Float64Array(rows * hidden), false, rows, width, hidden, lengths, 0);
+    expect(worstGap(state, spec.yh.flat())).toBeLessThan(1e-14);
+    kernels.plainLayerStep(flatX, ours(w, [0]), ours(r, [0]), bias, relu, new Float64Array(rows * hidden), true, rows, width, hidden, lengths, 0);
+    for (let row = 0; row < rows; row++) {
+      for (let j = 0; j < hidden; j++) {
+        let a = bias[j];
+        for (let k = 0; k < width; k++) a += x[row][k] * w[j][k];
+        for (let k = 0; k < hidden; k++) a += h0[row][k] * r[j][k];
+        const expected = lengths[row] === 0 ? h0[row][j] : Math.max(0, a);
+        expect(Math.abs(relu[row * hidden + j] - expected)).toBeLessThan(1e-14);
+      }
+    }
+  });
 });

@@ -19,6 +19,7 @@ import type { BeamOptions, BeamResult } from './beam.js';
 import { searchBeams } from './beam.js';
 import type { WeightFile } from '../weight-file.js';
 import { Runtime, runtimeCounts } from './runtime.js';
+import { WholeRun } from './whole-run.js';
 import type { Streams } from './runtime.js';
 import type { SamplingOptions, UniformSource } from './sampling.js';
 import { greedy, sample } from './sampling.js';
@@ -148,6 +149,26 @@ export class EncoderDecoderRuntime {
       readoutWeights: load('decoder.readout.weights', true),
       readoutBias: load('decoder.readout.bias', false),
     };
+  }
+
+  /**
+   * Gives every weight back to the backend's memory (the encoder's, the decoder's and attention's); every later call,
+   * and every step of a decoding made from it, is refused; closing again does nothing. Close decodings first to
+   * give their buffers back too.
+   */
+  close(): void {
+    if (this.decoder.closed) return;
+    const w = this.weights;
+    if (w !== null) {
+      for (const array of [w.keys, w.query, w.vector, w.combine, w.readoutWeights, w.readoutBias]) if (array !== null) this.decoder.backend.release(array);
+    }
+    this.encoder.close();
+    this.decoder.close();
+  }
+
+  /** True once `close` has run. */
+  get closed(): boolean {
+    return this.decoder.closed;
   }
 
   /** The attention form, or null for a model without attention. */
@@ -280,9 +301,10 @@ export class Decoding {
   private readonly zeros: Float32Array;
   private readonly state: Float32Array;
   private readonly gathered: Float32Array;
-  // An encoder whose layers all run forward is streamed token by token into buffers made once (start() then makes
-  // nothing); one with a layer reading backward runs whole (encodeAll), which allocates its outputs.
+  // An encoder whose layers all run forward is streamed token by token into buffers made once; one with a layer
+  // reading backward runs whole, also into buffers made once (whole-run.ts): start() makes nothing either way.
   private readonly encoderStreams: Streams | null;
+  private readonly wholeRun: WholeRun | null;
   private readonly encoderState: Float32Array | null;
   private readonly encoded: Float32Array;
   private readonly widths: readonly number[];
@@ -323,7 +345,8 @@ export class Decoding {
     this.state = allocate(total);
     this.gathered = allocate(total);
     this.encoderStreams = runtime.encoder.streamable ? runtime.encoder.streams(1) : null;
-    this.encoderState = this.encoderStreams === null ? null : allocate(this.encoderStreams.readState().length);
+    this.encoderState = allocate(this.encoderStreams === null ? this.widths.reduce((n, w) => n + w, 0) : this.encoderStreams.readState().length);
+    this.wholeRun = this.encoderStreams === null ? new WholeRun(runtime.encoder, maxSourceLength, allocate) : null;
     this.encoded = allocate(this.encoderStreams === null ? 1 : runtime.encoder.outputWidth);
   }
 
@@ -334,6 +357,7 @@ export class Decoding {
 
   /** Encodes `source` and puts every row at the start of decoding it. */
   start(source: readonly number[] | Int32Array): void {
+    if (this.runtime.closed) this.runtime.encoder.checkOpen('decoding.start');
     if (source.length > this.maxSourceLength)
       fail('invalid_argument', 'decoding.start.source', `at most ${this.maxSourceLength} tokens (the decoding's maxSourceLength)`, `${source.length}`);
     this.length = source.length;
@@ -355,9 +379,7 @@ export class Decoding {
       }
       state = this.encoderStreams.readState(this.encoderState);
     } else {
-      const encoded = this.runtime.encodeAll(source);
-      state = encoded.state;
-      if (attention !== null) this.values.set(encoded.outputs);
+      state = this.runWhole(source);
     }
     let from = 0;
     let to = 0;
@@ -373,6 +395,40 @@ export class Decoding {
       const d = this.runtime.decoder.outputWidth;
       this.runtime.decoder.backend.kernels.affineRows(this.keys, this.zeros, this.values, attention.keys, source.length, this.runtime.encodedWidth, d);
     }
+  }
+
+  /**
+   * Runs an encoder with a layer reading backward over the whole source (fed reversed when the model reads it
+   * reversed), its outputs kept at their source positions; returns the decoder's initial state: per encoder layer,
+   * its last cell's slots (the backward cell of a bidirectional or reverse layer), as encodeAll picks them.
+   */
+  private runWhole(source: readonly number[] | Int32Array): Float32Array {
+    const run = this.wholeRun as WholeRun;
+    const state = this.encoderState as Float32Array;
+    const length = source.length;
+    if (length === 0) fail('invalid_argument', 'encode.source', 'at least one token', 'none');
+    const reversed = this.runtime.description.reverseSource === true;
+    run.run(source, length, reversed);
+    if (this.attention !== null) {
+      const e = this.runtime.encodedWidth;
+      for (let s = 0; s < length; s++) {
+        const at = reversed ? length - 1 - s : s;
+        for (let j = 0; j < e; j++) this.values[at * e + j] = run.outputs[s * e + j];
+      }
+    }
+    let from = 0;
+    let to = 0;
+    for (const layer of this.runtime.encoder.layerList()) {
+      const cells = layer.reverse || layer.backward === null ? 1 : 2;
+      const slots = layer.forward.slotWidths.length;
+      for (let k = (cells - 1) * slots; k < cells * slots; k++) {
+        const slot = run.finals[from + k];
+        state.set(slot, to);
+        to += slot.length;
+      }
+      from += cells * slots;
+    }
+    return state;
   }
 
   /** One decoding step for every row: `tokens` holds one token per row; returns the logits [rows, outputWidth]. */

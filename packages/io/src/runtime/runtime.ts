@@ -71,6 +71,9 @@ export class Runtime {
   private readonly readoutWeights: Float32Array | null;
   private readonly readoutBias: Float32Array | null;
   private readonly featureWidth: number;
+  /** The weights copied into the backend's memory, given back by `close`. */
+  private readonly owned: Float32Array[] = [];
+  private closedBy = false;
 
   /**
    * A runtime for `file` on `backend` (by default the WebAssembly SIMD backend where the platform runs it, else
@@ -107,9 +110,10 @@ export class Runtime {
     const memory = this.backend;
     const weights = (name: string, shape: readonly number[], matrix = false): Float32Array => {
       const values = (tensors.get(name) as WeightFile['tensors'][number]).values;
-      if (matrix) return memory.matrix(values, shape[0], shape[1]);
+      if (matrix) return this.owned[this.owned.push(memory.matrix(values, shape[0], shape[1])) - 1];
       const copy = memory.floats(values.length);
       copy.set(values);
+      this.owned.push(copy);
       return copy;
     };
     this.model = model;
@@ -158,6 +162,7 @@ export class Runtime {
 
   /** `count` independent streams, each starting from zero state. */
   streams(count: number): Streams {
+    this.checkOpen('streams');
     if (!this.streamable)
       fail('invalid_argument', 'Runtime.streams', 'a model whose layers all run forward in time', 'a layer that reads backward (use run() on whole sequences)');
     if (!Number.isInteger(count) || count < 1) fail('invalid_argument', 'Runtime.streams.count', 'a whole number ≥ 1', String(count));
@@ -177,6 +182,7 @@ export class Runtime {
     lengths: Int32Array | readonly number[] | null = null,
     finalState?: Float32Array[],
   ): Float32Array {
+    this.checkOpen('run');
     if (!(Number.isInteger(steps) && steps >= 0)) fail('invalid_argument', 'Runtime.run.steps', 'a whole number ≥ 0', String(steps));
     if (!(Number.isInteger(batch) && batch >= 1)) fail('invalid_argument', 'Runtime.run.batch', 'a whole number ≥ 1', String(batch));
     if (lengths !== null) {
@@ -263,6 +269,28 @@ export class Runtime {
     }
     if (lengths !== null) zeroBeyond(out, out, { steps: positions / batch, rows: batch, width: this.outputWidth }, lengths);
     return out;
+  }
+
+  /**
+   * Gives the weights back to the backend's memory (on WebAssembly, blocks of it that later runtimes on the same
+   * backend reuse; on JavaScript, to the garbage collector). Every later call of the runtime, and of streams made from
+   * it, is refused; closing again does nothing. Close its streams first to give their buffers back too.
+   */
+  close(): void {
+    if (this.closedBy) return;
+    this.closedBy = true;
+    for (const array of this.owned) this.backend.release(array);
+    this.owned.length = 0;
+  }
+
+  /** True once `close` has run. */
+  get closed(): boolean {
+    return this.closedBy;
+  }
+
+  /** Refuses a call on a closed runtime. */
+  checkOpen(call: string): void {
+    if (this.closedBy) fail('invalid_argument', `Runtime.${call}`, 'an open runtime', 'a runtime closed by close() (make a new one with createRuntime)');
   }
 
   /** The layers, for Streams. */
@@ -393,6 +421,8 @@ export class Streams {
 
   /** Refuses a call on closed streams (their blocks may already hold other streams' state). */
   private open(call: string): void {
+    // The message is made only when it is needed: this runs on every step.
+    if (this.runtime.closed) this.runtime.checkOpen(`streams.${call}`);
     if (this.closed) fail('invalid_argument', `Streams.${call}`, 'open streams', 'streams closed by close() (make new ones with runtime.streams())');
   }
 

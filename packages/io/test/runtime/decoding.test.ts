@@ -203,12 +203,35 @@ describe('encoder-decoders with attention in the runtime', () => {
     );
   });
 
-  it('starts each source again without making garbage where the encoder runs forward only (node --expose-gc, a 1 MB young generation)', () => {
-    const probe = fileURLToPath(new URL('./decoding-probe.mjs', import.meta.url));
-    const output = execFileSync(process.execPath, ['--expose-gc', '--max-semi-space-size=1', probe], { encoding: 'utf8' });
-    const { collections, starts, control } = JSON.parse(output.trim().split('\n').at(-1)!) as { collections: number; starts: number; control: number };
-    console.log(`${collections} collections over ${starts} starts and steps; ${control} when each also makes an array of four numbers`);
-    expect(control).toBeGreaterThan(0);
-    expect(collections).toBe(0);
+  for (const encoder of ['forward only', 'bidirectional'] as const) {
+    it(`starts each source again without making garbage, its encoder ${encoder} (node --expose-gc, a 1 MB young generation)`, () => {
+      const probe = fileURLToPath(new URL('./decoding-probe.mjs', import.meta.url));
+      const output = execFileSync(
+        process.execPath,
+        ['--expose-gc', '--max-semi-space-size=1', probe, ...(encoder === 'bidirectional' ? ['bidirectional'] : [])],
+        {
+          encoding: 'utf8',
+        },
+      );
+      const { collections, starts, control } = JSON.parse(output.trim().split('\n').at(-1)!) as { collections: number; starts: number; control: number };
+      console.log(`encoder ${encoder}: ${collections} collections over ${starts} starts and steps; ${control} when each also makes an array of four numbers`);
+      expect(control).toBeGreaterThan(0);
+      expect(collections).toBe(0);
+    });
+  }
+});
+
+describe('closing an encoder-decoder runtime', () => {
+  it('refuses every later call, a decoding made before it included, in one line; closing again does nothing', async () => {
+    const runtime = await runtimeOf(shaken(description('general', true)));
+    const decoding = runtime.decoding({ maxSourceLength: 4 });
+    decoding.start([2, 3]);
+    runtime.close();
+    runtime.close();
+    expect(runtime.closed).toBe(true);
+    expect(() => runtime.decode([1, 2], { startToken: START, endToken: END, maxLength: 3 })).toThrowError(/expected an open runtime/);
+    expect(() => decoding.start([2, 3])).toThrowError(/decoding\.start: expected an open runtime/);
+    expect(() => decoding.step([START])).toThrowError(/streams\.step: expected an open runtime/);
+    decoding.close();
   });
 });

@@ -4,6 +4,7 @@ import { Random, Tape, defaultBackend, sharedPool, tensor } from '@weft/core';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
 import { Runtime, createRuntime, runtimeCounts } from '@weft/io/runtime';
+import { createForwardWebAssembly, forwardWebAssemblyUnavailable } from '@weft/core/forward';
 import { descriptions, shaken } from '../models.js';
 
 async function runtimeFor(model: SequenceModel): Promise<Runtime> {
@@ -265,4 +266,45 @@ describe('misused streams', () => {
       { numRuns: 1000, seed: 20261205 },
     );
   }, 120_000);
+});
+
+describe('closing a runtime', () => {
+  it("gives its weights back and refuses every later call, its streams' too, in one line; closing again does nothing", async () => {
+    const model = shaken(descriptions.stacked, 3);
+    const runtime = await runtimeFor(model);
+    const streams = runtime.streams(1);
+    streams.step(new Float32Array(3));
+    runtime.close();
+    runtime.close();
+    expect(runtime.closed).toBe(true);
+    expect(() => runtime.streams(1)).toThrowError(
+      'Invalid argument at Runtime.streams: expected an open runtime, received a runtime closed by close() (make a new one with createRuntime)',
+    );
+    expect(() => runtime.run(new Float32Array(3), 1, 1)).toThrowError(/Runtime\.run: expected an open runtime/);
+    expect(() => streams.step(new Float32Array(3))).toThrowError(/Runtime\.streams\.step: expected an open runtime/);
+    streams.close();
+  });
+
+  it.skipIf(forwardWebAssemblyUnavailable() !== null)(
+    'lets a later runtime on the same WebAssembly backend reuse the memory a closed one gave back',
+    async () => {
+      const text = await writeWeightFile(descriptions.stacked, modelTensors(shaken(descriptions.stacked, 4)));
+      const backend = createForwardWebAssembly({ memoryBytes: 1048576 });
+      // Without closing, the reservation fills after some runtimes: the next is refused.
+      const kept: Runtime[] = [];
+      let refused = '';
+      for (let i = 0; i < 100_000 && refused === ''; i++) {
+        try {
+          kept.push(await createRuntime(text, { backend }));
+        } catch (error) {
+          refused = (error as Error).message;
+        }
+      }
+      expect(refused).not.toBe('');
+      for (const runtime of kept) runtime.close();
+      // Closed, their blocks serve the next ones: three times as many, made and closed in turn, all fit.
+      for (let i = 0; i < 3 * kept.length; i++) (await createRuntime(text, { backend })).close();
+      console.log(`${kept.length} runtimes filled a 1 MiB reservation; ${3 * kept.length} made and closed in turn fit`);
+    },
+  );
 });

@@ -1,0 +1,45 @@
+import { describe, expect, it } from 'vitest';
+import { Random } from '@weft/core';
+import { buildModel } from '@weft/cells';
+import { modelTensors, writeWeightFile } from '@weft/io';
+import { createRuntime } from '../../src/runtime/create.js';
+import { WholeRun } from '../../src/runtime/whole-run.js';
+
+const description = {
+  input: { kind: 'embedding' as const, vocabulary: 7, width: 3 },
+  layers: [
+    { cell: 'gru', hidden: 4, bidirectional: true },
+    { cell: 'lstm', hidden: 3, reverse: true },
+    { cell: 'plain', hidden: 2 },
+  ],
+  readout: { width: 5 },
+};
+
+describe('a whole run into buffers made once', () => {
+  it('gives the outputs and final states of Runtime.run, bit for bit, for bidirectional, reverse and forward layers, the source fed as given or reversed', async () => {
+    const model = buildModel(description, { seed: 2 });
+    const random = new Random('whole-run');
+    for (const p of model.parameters()) for (let i = 0; i < p.tensor.size; i++) p.tensor.data[i] += random.between(-0.3, 0.3);
+    for (const backend of ['javascript', 'webassembly'] as const) {
+      const runtime = await createRuntime(await writeWeightFile(model.description, modelTensors(model)), { backend });
+      let made = 0;
+      const whole = new WholeRun(runtime, 9, (n) => {
+        made++;
+        return runtime.backend.floats(n);
+      });
+      const afterMaking = made;
+      for (const steps of [9, 4, 1]) {
+        const tokens = Array.from({ length: steps }, () => random.integer(7));
+        for (const reverse of [false, true]) {
+          const fed = reverse ? [...tokens].reverse() : tokens;
+          const finals: Float32Array[] = [];
+          const expected = runtime.run(fed, steps, 1, null, finals);
+          whole.run(tokens, steps, reverse);
+          expect(Array.from(whole.outputs.subarray(0, expected.length)), `${backend}, ${steps} steps`).toEqual(Array.from(expected));
+          expect(whole.finals.map((f) => Array.from(f))).toEqual(finals.map((f) => Array.from(f)));
+        }
+      }
+      expect(made).toBe(afterMaking);
+    }
+  });
+});
