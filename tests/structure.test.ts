@@ -7,7 +7,7 @@
  * so a file that grows logic has to grow its test file too.
  */
 import { existsSync, readFileSync, readdirSync, statSync } from 'node:fs';
-import { join, relative } from 'node:path';
+import { dirname, join, relative } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 
@@ -32,7 +32,8 @@ const withoutLogic: Record<string, string> = {
   'packages/io/src/data/baselines-types.ts': "types only (the baselines' split, scores and options)",
   'packages/optim/src/index.ts': 'the package entry: re-exports',
   'packages/optim/src/training/types.ts': "types only (the trainer's options, events and summary)",
-  'packages/optim/src/data.ts': 'types only (the batch shapes) and re-exports of the sources',
+  'packages/optim/src/data.ts': "the data sources' entry: re-exports of the batch shapes and the sources",
+  'packages/optim/src/data/batch-types.ts': 'types only (the batch shapes every source shares)',
   'packages/optim/src/node/index.ts': 'the @weft/optim/node entry: re-exports',
   'packages/optim/src/node/shard-worker.ts': "a worker thread's script, run by threads.ts and tested through test/node/threads.test.ts",
   'packages/io/src/index.ts': 'the package entry: re-exports',
@@ -83,5 +84,32 @@ describe('the size of source files', () => {
       return text.split('\n').length > 300 && !text.includes('Why one file of this length');
     });
     expect(long).toEqual([]);
+  });
+});
+
+describe('the imports between source files', () => {
+  it('form no circle, type imports included: every import points one way', () => {
+    // Each file's relative imports, resolved to source files; then a depth-first search that reports the first
+    // import that leads back to a file still on the search's path.
+    const imports = new Map<string, string[]>();
+    for (const file of files) {
+      const text = readFileSync(join(root, file), 'utf8');
+      const targets = [...text.matchAll(/from\s+'(\.[^']+)'/g)]
+        .map((m) => join(dirname(file), m[1]).split('\\').join('/').replace(/\.js$/, '.ts'))
+        .filter((target) => files.includes(target));
+      imports.set(file, targets);
+    }
+    const circles: string[] = [];
+    const state = new Map<string, 'open' | 'done'>();
+    const visit = (file: string, path: string[]): void => {
+      state.set(file, 'open');
+      for (const target of imports.get(file) ?? []) {
+        if (state.get(target) === 'open') circles.push([...path.slice(path.indexOf(target)), target].join(' → '));
+        else if (state.get(target) === undefined) visit(target, [...path, target]);
+      }
+      state.set(file, 'done');
+    };
+    for (const file of files) if (state.get(file) === undefined) visit(file, [file]);
+    expect(circles).toEqual([]);
   });
 });

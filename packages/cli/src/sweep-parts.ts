@@ -7,7 +7,7 @@ import { readFileSync } from 'node:fs';
 import { sha256Hex } from '@weft/io';
 import { CommandError } from './errors.js';
 import type { RunResults } from './results.js';
-import type { Combination, SweepRow } from './sweep.js';
+import type { Combination, SweepRow } from './sweep-types.js';
 import { shown } from './terminal.js';
 
 /** The grid's digest: SHA-256 of its combinations in order (data file and flags), so parts of another grid are known. */

@@ -30,10 +30,64 @@ import { BestValidation } from './training/stopping.js';
 import { taskLoss } from './training/task.js';
 import { batchOf, computeJob, lossWeight, plainLossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
 import type { ShardJob, ShardWorkers } from './training/shards.js';
-import type { TrainerOptions, TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
+import type { TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
+import type { UpdateRule } from './update-rule.js';
+import type { ScheduleDescription } from './schedule.js';
 import { checkSchedule, scheduleFactor } from './schedule.js';
 
-export type { TrainerOptions, TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
+export type { TrainingEvent, TrainingSnapshot, TrainingSummary } from './training/types.js';
+
+/** What a `Trainer` trains, on what, and how. */
+export interface TrainerOptions {
+  /**
+   * The model whose parameters are trained in place: a sequence model, or an encoder-decoder trained on batches of
+   * pairs (`pairBatches`).
+   */
+  readonly model: TrainableModel;
+  /** The training batches. */
+  readonly data: DataSource;
+  /** The update rule (SGD, Adam, RMSProp, Adagrad). */
+  readonly optimizer: UpdateRule;
+  /** Passes over `data` (a whole number ≥ 1); the run has epochs × batches-per-epoch steps. */
+  readonly epochs: number;
+  /** The backend to compute on: by default the one whose memory holds the model's parameters. */
+  readonly backend?: Backend;
+  /** Held-out batches for validation, early stopping and keeping the best weights. */
+  readonly validation?: DataSource;
+  /** The learning-rate schedule; default constant. */
+  readonly schedule?: ScheduleDescription;
+  /** Scale the gradients down so their global norm is at most this (Pascanu et al. 2013; `limitGradientNorm`). */
+  readonly gradientNormLimit?: number;
+  /** Limit every gradient entry to ±this (`limitGradientValues`). */
+  readonly gradientValueLimit?: number;
+  /** Validate every this many steps (and at the end of each epoch). Default: once per epoch. */
+  readonly validateEvery?: number;
+  /** Stop after this many validations without improvement, restoring the best weights. */
+  readonly patience?: number;
+  /**
+   * When the run ends (epochs done or patience out, not an abort), put back the weights of the best validation
+   * (default true when there is validation data), so a run that got worse at the end does not keep the worse weights.
+   */
+  readonly keepBest?: boolean;
+  /**
+   * Cut each batch into shards of this many rows and add their gradients in shard order (see training/shards.ts):
+   * the same bits in this thread as on any number of `workers`. Default: 8 with workers, else no cut.
+   */
+  readonly shardRows?: number;
+  /**
+   * Threads that compute the shards (`startTrainingThreads` from `@weft/optim/node`); steps are then asynchronous
+   * (`stepAsync`, `run`).
+   */
+  readonly workers?: ShardWorkers;
+  /** Seed of the trainer's generator (dropout masks); default 0. */
+  readonly seed?: number | string;
+  /** Ends `run()` after the current step when aborted (stoppedBy `signal`). */
+  readonly signal?: AbortSignal;
+  /** Called after each step, each validation, each skipped update and at the end. */
+  readonly onProgress?: (event: TrainingEvent) => void;
+  /** Awaited by `run()` after every step (for example to write a checkpoint every N steps). */
+  readonly afterStep?: (trainer: Trainer) => void | Promise<void>;
+}
 
 /**
  * Trains a sequence model — truncated backpropagation through time over streams (state carried between windows, with

@@ -16,7 +16,7 @@
  * one) that applies to every batch row alike.
  */
 import type { FloatArray, Random } from '@weft/core/base';
-import type { LayerDescription } from '../description.js';
+import type { LayerDescription } from '../description-types.js';
 
 /** One parameter's name and shape. */
 export interface ParameterLayout {

@@ -4,7 +4,7 @@
  * forecasts of the validation rows are best), and which targets are read as logarithms.
  */
 import { fail } from '@weft/core';
-import type { SeriesContext } from './series-windows.js';
+import type { SeriesContext } from './series-types.js';
 import type { SmoothingMethod, SmoothingParameters } from './smoothing.js';
 import { fitSmoothing, runSmoothing } from './smoothing.js';
 import { fieldPath } from './table.js';

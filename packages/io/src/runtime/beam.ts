@@ -8,8 +8,28 @@
  * `maxLength` unfinished come after every finished one.
  */
 import { fail, logSumExp } from '@weft/core/base';
-import type { Decoding, EncoderDecoderRuntime } from './decoding.js';
-import { checkTokens } from './decoding.js';
+
+/** What beam search steps: a decoding of `width` rows over one source (a Decoding, decoding.ts). */
+export interface BeamDecoding {
+  /** Encodes the source and puts every row at the start. */
+  start(source: readonly number[] | Int32Array): void;
+  /** One step of every row; the logits [rows, vocabulary]. */
+  step(tokens: Int32Array): Float32Array;
+  /** Keeps, in row r, the row `parents[r]` was (the surviving beams). */
+  keepRows(parents: readonly number[]): void;
+  /** Gives its buffers back. */
+  close(): void;
+}
+
+/** What beam search decodes with (an EncoderDecoderRuntime, decoding.ts). */
+export interface BeamDecoder {
+  /** The target vocabulary's size (logits per step). */
+  readonly outputWidth: number;
+  /** The decoder: the token ids it reads. */
+  readonly decoder: { readonly vocabularySize: number };
+  /** A decoding of `rows` rows over sources of up to `maxSourceLength` tokens. */
+  decoding(options: { readonly rows: number; readonly maxSourceLength: number }): BeamDecoding;
+}
 
 /** How beam search decodes. */
 export interface BeamOptions {
@@ -38,7 +58,7 @@ export interface BeamResult {
 }
 
 /** The best outputs of `runtime` for one source sequence, best first (at most `width` of them). */
-export function searchBeams(runtime: EncoderDecoderRuntime, source: readonly number[] | Int32Array, options: BeamOptions): BeamResult[] {
+export function searchBeams(runtime: BeamDecoder, source: readonly number[] | Int32Array, options: BeamOptions): BeamResult[] {
   const width = options.width ?? 4;
   const alpha = options.lengthPenalty ?? 1;
   const vocabulary = runtime.outputWidth;
@@ -53,7 +73,7 @@ export function searchBeams(runtime: EncoderDecoderRuntime, source: readonly num
   }
 }
 
-function search(decoding: Decoding, vocabulary: number, width: number, alpha: number, options: BeamOptions): BeamResult[] {
+function search(decoding: BeamDecoding, vocabulary: number, width: number, alpha: number, options: BeamOptions): BeamResult[] {
   let beams: { tokens: number[]; logProbability: number }[] = [{ tokens: [], logProbability: 0 }];
   const finished: BeamResult[] = [];
   const input = new Int32Array(width);
@@ -105,4 +125,21 @@ function logSoftmaxRow(logits: Float32Array, offset: number, width: number): Flo
   const out = new Float64Array(width);
   for (let j = 0; j < width; j++) out[j] = logits[offset + j] - shift;
   return out;
+}
+
+/** The start token (a decoder input), the end token (an output) and the length limit of a decode, checked. */
+export function checkTokens(
+  options: { readonly startToken: number; readonly endToken: number; readonly maxLength: number },
+  runtime: Pick<BeamDecoder, 'outputWidth' | 'decoder'>,
+  where: string,
+): void {
+  if (!Number.isInteger(options.maxLength) || options.maxLength < 1)
+    fail('invalid_option', `${where}.maxLength`, 'a whole number ≥ 1', String(options.maxLength));
+  for (const [key, limit] of [
+    ['startToken', runtime.decoder.vocabularySize],
+    ['endToken', runtime.outputWidth],
+  ] as const) {
+    const id = options[key];
+    if (!Number.isInteger(id) || id < 0 || id >= limit) fail('invalid_option', `${where}.${key}`, `a token id in [0, ${limit})`, String(id));
+  }
 }

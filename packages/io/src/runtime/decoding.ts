@@ -16,7 +16,7 @@ import type { ForwardBackend } from '@weft/core/forward/javascript';
 import type { WeightMetadata } from '../weight-file.js';
 import { layoutProblems } from '../layout-check.js';
 import type { BeamOptions, BeamResult } from './beam.js';
-import { searchBeams } from './beam.js';
+import { checkTokens, searchBeams } from './beam.js';
 import type { WeightFile } from '../weight-file.js';
 import { Runtime, runtimeCounts } from './runtime.js';
 import { WholeRun } from './whole-run.js';
@@ -254,23 +254,6 @@ export class EncoderDecoderRuntime {
     } finally {
       decoding.close();
     }
-  }
-}
-
-/** The start token (a decoder input), the end token (an output) and the length limit of a decode, checked. */
-export function checkTokens(
-  options: { readonly startToken: number; readonly endToken: number; readonly maxLength: number },
-  runtime: EncoderDecoderRuntime,
-  where: string,
-): void {
-  if (!Number.isInteger(options.maxLength) || options.maxLength < 1)
-    fail('invalid_option', `${where}.maxLength`, 'a whole number ≥ 1', String(options.maxLength));
-  for (const [key, limit] of [
-    ['startToken', runtime.decoder.vocabularySize],
-    ['endToken', runtime.outputWidth],
-  ] as const) {
-    const id = options[key];
-    if (!Number.isInteger(id) || id < 0 || id >= limit) fail('invalid_option', `${where}.${key}`, `a token id in [0, ${limit})`, String(id));
   }
 }
 

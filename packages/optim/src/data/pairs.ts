@@ -8,7 +8,7 @@
  */
 import { fail } from '@weft/core';
 import { neighbourBatches } from './sequences.js';
-import type { Batch, DataSource } from '../data.js';
+import type { Batch, DataSource } from './batch-types.js';
 
 /** One source/target pair of token ids. */
 export interface TokenPair {

@@ -3,7 +3,7 @@ import { Random, fail, zeros } from '@weft/core';
 import type { DType, FloatArray, Tensor } from '@weft/core';
 import type { TokenBatch } from '@weft/cells';
 import { BatchBuffers } from './buffers.js';
-import type { Batch, BatchTargets, DataSource } from '../data.js';
+import type { Batch, BatchTargets, DataSource } from './batch-types.js';
 
 /** One independent sequence: its inputs (token ids, or [L, features] numbers) and what to predict. */
 export interface LabelledSequence {

@@ -2,7 +2,7 @@
 import { fail, zeros } from '@weft/core';
 import type { DType, FloatArray } from '@weft/core';
 import { BatchBuffers } from './buffers.js';
-import type { Batch, DataSource } from '../data.js';
+import type { Batch, DataSource } from './batch-types.js';
 
 /** A long stream of token ids, for next-token models. */
 export interface TokenStreamOptions {
