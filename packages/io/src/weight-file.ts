@@ -19,10 +19,15 @@ import type { FloatArray, Problem } from '@weft/core/base';
 import { checkPlans, describeAnyProblems, namespacedKinds } from '@weft/cells/description';
 import type { CellPlans } from '@weft/cells/description';
 import type { AnyModelDescription } from '@weft/cells/description';
-import { decodeBase64Into, decodedLength, encodeBase64 } from './base64.js';
+import { encodeBase64 } from './base64.js';
 import { sha256Hex } from './digest.js';
-import { fromHalfBits, toHalfBits } from './half.js';
-import { dequantizeRows, quantizeRows } from './quantize.js';
+import { readTensors, rowsAndCols } from './weight-tensors.js';
+import type { NamedValues, StoredDType } from './weight-tensors.js';
+
+export type { NamedValues, StoredDType } from './weight-tensors.js';
+export { respellVersionOneName } from './weight-tensors.js';
+import { toHalfBits } from './half.js';
+import { quantizeRows } from './quantize.js';
 
 /** The `format` field every weight file carries. */
 export const FORMAT_TAG = 'weft-weights';
@@ -32,14 +37,6 @@ export const FORMAT_TAG = 'weft-weights';
  * respelled, so a model, a checkpoint and its error messages all use one spelling.
  */
 export const FORMAT_VERSION = 2;
-
-/** A version-1 tensor name in today's spelling: `layers.0.forward.input` → `layers[0].forward.input` (also after `encoder.`/`decoder.`). */
-export function respellVersionOneName(name: string): string {
-  return name.replace(/(^|\.)layers\.(\d+)\./, '$1layers[$2].');
-}
-
-/** How a tensor's values are stored in a file: f32, f16 (binary16), or int8 with one scale per row. */
-export type StoredDType = 'f32' | 'f16' | 'i8';
 
 /** What a user needs to run the model with nothing else. Every field is optional; unknown fields are kept. */
 export interface WeightMetadata {
@@ -59,16 +56,6 @@ export interface WeightMetadata {
   /** How the model was trained, as flat fields (data file, its digest, flags, figures), for the record. */
   readonly training?: Readonly<Record<string, string | number | boolean | null>>;
   readonly [key: string]: unknown;
-}
-
-/** One tensor's values by name, as weight files hold them. */
-export interface NamedValues {
-  /** The parameter's name (`layers[0].forward.input`). */
-  readonly name: string;
-  /** Its shape. */
-  readonly shape: readonly number[];
-  /** Its values, row-major. */
-  readonly values: FloatArray;
 }
 
 /** A weight file after reading: checked, decoded and (by default) verified by its digest. */
@@ -133,13 +120,6 @@ export interface ReadOptions {
 }
 
 const forbiddenKeys = new Set(['__proto__', 'constructor', 'prototype']);
-
-function rowsAndCols(shape: readonly number[]): [number, number] {
-  if (shape.length === 0) return [1, 1];
-  const cols = shape[shape.length - 1];
-  const size = shape.reduce((a, b) => a * b, 1);
-  return [cols === 0 ? 0 : size / cols, cols];
-}
 
 function littleEndianBytes(values: FloatArray, dtype: StoredDType, shape: readonly number[]): { data: Uint8Array; scales: Uint8Array | null } {
   const count = values.length;
@@ -242,9 +222,8 @@ function typeName(value: unknown): string {
   return String(value);
 }
 
-/** Reads and checks a weight file; throws one WeftError listing every problem found. */
-export async function readWeightFile(text: string, options: ReadOptions = {}): Promise<WeightFile> {
-  const maxElements = options.maxElements ?? 50_000_000;
+/** The text parsed as JSON, within the reader's limits, with no key that could reach a prototype; else one error. */
+function parseWeightText(text: string, options: ReadOptions): unknown {
   const maxCharacters = options.maxCharacters ?? 512 * 1024 * 1024;
   const maxDepth = options.maxDepth ?? 64;
   const refuse = (path: string, expected: string, received: string): never => {
@@ -267,6 +246,15 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
     refuse('(file)', 'valid JSON', `${reason}${cutShort ? ' (the file looks cut short)' : ''}`);
   }
   if (forbidden.length > 0) refuse('(file)', 'no key named __proto__, constructor or prototype', `a key ${JSON.stringify(forbidden[0])}`);
+  return parsed;
+}
+
+/** Reads and checks a weight file; throws one WeftError listing every problem found. */
+export async function readWeightFile(text: string, options: ReadOptions = {}): Promise<WeightFile> {
+  const parsed = parseWeightText(text, options);
+  const refuse = (path: string, expected: string, received: string): never => {
+    fail('bad_weight_file', path, expected, received);
+  };
   const problems: Problem[] = [];
   const add = (path: string, expected: string, received: unknown): void => {
     problems.push({ code: 'bad_weight_file', path, expected, received: typeName(received) });
@@ -288,125 +276,7 @@ export async function readWeightFile(text: string, options: ReadOptions = {}): P
   if (!isRecord(digest) || digest.algorithm !== 'SHA-256' || typeof digest.hex !== 'string' || !/^[0-9a-f]{64}$/.test(digest.hex)) {
     add('digest', '{ "algorithm": "SHA-256", "hex": 64 lower-case hex digits }', digest);
   }
-  const tensors = file.tensors;
-  const decoded: NamedValues[] = [];
-  // Tensor names are data: a null-prototype object, so a tensor named __proto__ is a name like any other.
-  const storedAs: Record<string, StoredDType> = Object.create(null) as Record<string, StoredDType>;
-  const digestParts: Uint8Array[] = [];
-  if (!Array.isArray(tensors)) {
-    add('tensors', 'an array', tensors);
-  } else {
-    // Shapes and counts first, so nothing is allocated for a file that asks for too much.
-    let total = 0;
-    const plans: { index: number; name: string; shape: number[]; dtype: StoredDType; size: number; rows: number }[] = [];
-    const seen = new Set<string>();
-    tensors.forEach((entry: unknown, i: number) => {
-      const where = `tensors[${i}]`;
-      if (!isRecord(entry)) {
-        add(where, 'an object', entry);
-        return;
-      }
-      const { shape, dtype, data, scales } = entry;
-      const name = file.version === 1 && typeof entry.name === 'string' ? respellVersionOneName(entry.name) : entry.name;
-      let ok = true;
-      if (typeof name !== 'string' || name === '' || name.length > 200) {
-        add(`${where}.name`, 'a name of 1 to 200 characters', name);
-        ok = false;
-      } else if (seen.has(name)) {
-        add(`${where}.name`, 'a name not used before', name);
-        ok = false;
-      } else {
-        seen.add(name);
-      }
-      let size = 1;
-      if (!Array.isArray(shape) || shape.length > 8 || shape.some((n) => typeof n !== 'number' || !Number.isInteger(n) || n < 0 || n > maxElements)) {
-        add(`${where}.shape`, `up to 8 whole numbers in [0, ${maxElements}]`, shape);
-        ok = false;
-      } else {
-        for (const n of shape as number[]) size *= n;
-        if (size > maxElements) {
-          add(`${where}.shape`, `at most ${maxElements} elements`, `${size}`);
-          ok = false;
-        }
-      }
-      if (dtype !== 'f32' && dtype !== 'f16' && dtype !== 'i8') {
-        add(`${where}.dtype`, "'f32', 'f16' or 'i8'", dtype);
-        ok = false;
-      }
-      if (typeof data !== 'string') {
-        add(`${where}.data`, 'base64 text', data);
-        ok = false;
-      }
-      if (dtype === 'i8' ? typeof scales !== 'string' : scales !== undefined) {
-        add(`${where}.scales`, dtype === 'i8' ? 'base64 text (one f32 scale per row)' : 'no scales (only i8 has them)', scales);
-        ok = false;
-      }
-      for (const key of Object.keys(entry)) {
-        if (!['name', 'shape', 'dtype', 'data', 'scales'].includes(key)) add(`${where}.${key}`, 'no such field', entry[key]);
-      }
-      if (!ok) return;
-      total += size;
-      const [rows] = rowsAndCols(shape as number[]);
-      const bytes = size * (dtype === 'f32' ? 4 : dtype === 'f16' ? 2 : 1);
-      if (decodedLength(data as string) !== bytes)
-        add(
-          `${where}.data`,
-          `base64 of ${bytes} bytes for shape [${(shape as number[]).join(', ')}] in ${String(dtype)}`,
-          `${Math.max(0, decodedLength(data as string))} bytes`,
-        );
-      else if (dtype === 'i8' && decodedLength(scales as string) !== rows * 4)
-        add(`${where}.scales`, `base64 of ${rows * 4} bytes (${rows} rows)`, `${Math.max(0, decodedLength(scales as string))} bytes`);
-      else plans.push({ index: i, name: name as string, shape: (shape as number[]).slice(), dtype: dtype as StoredDType, size, rows });
-    });
-    if (total > maxElements) add('tensors', `at most ${maxElements} elements in all`, `${total}`);
-    if (problems.length === 0) {
-      for (const plan of plans) {
-        const entry = tensors[plan.index] as Record<string, string>;
-        const where = `tensors[${plan.index}]`;
-        const bytes = new Uint8Array(decodedLength(entry.data));
-        const bad = decodeBase64Into(entry.data, bytes);
-        if (bad >= 0) {
-          add(`${where}.data`, 'base64 characters (A–Z, a–z, 0–9, +, /, = padding)', `a bad character at position ${bad}`);
-          continue;
-        }
-        digestParts.push(bytes);
-        const values = new Float32Array(plan.size);
-        const view = new DataView(bytes.buffer);
-        if (plan.dtype === 'f32') {
-          for (let i = 0; i < plan.size; i++) values[i] = view.getFloat32(i * 4, true);
-        } else if (plan.dtype === 'f16') {
-          for (let i = 0; i < plan.size; i++) values[i] = fromHalfBits(view.getUint16(i * 2, true));
-        } else {
-          const scaleBytes = new Uint8Array(plan.rows * 4);
-          const badScale = decodeBase64Into(entry.scales, scaleBytes);
-          if (badScale >= 0) {
-            add(`${where}.scales`, 'base64 characters', `a bad character at position ${badScale}`);
-            continue;
-          }
-          digestParts.push(scaleBytes);
-          const scaleView = new DataView(scaleBytes.buffer);
-          const scaleValues = new Float32Array(plan.rows);
-          for (let r = 0; r < plan.rows; r++) scaleValues[r] = scaleView.getFloat32(r * 4, true);
-          dequantizeRows(new Int8Array(bytes.buffer), scaleValues, plan.rows, plan.size / Math.max(1, plan.rows), values);
-        }
-        if (options.allowNonFinite !== true) {
-          const at = values.findIndex((v) => !Number.isFinite(v));
-          if (at >= 0) {
-            problems.push({
-              code: 'not_finite',
-              path: `tensors (${plan.name})[${at}]`,
-              expected: 'finite weights',
-              received: String(values[at]),
-              detail: 'a model with a non-finite weight computes NaN; retrain, or read with allowNonFinite to inspect it',
-            });
-            continue;
-          }
-        }
-        decoded.push({ name: plan.name, shape: plan.shape, values });
-        storedAs[plan.name] = plan.dtype;
-      }
-    }
-  }
+  const { decoded, storedAs, digestParts } = readTensors(file.tensors, file.version as number, options, add, problems);
   if (problems.length > 0) throw new WeftError(problems);
   const checked = options.verifyDigest !== false;
   const hex = checked ? await sha256Hex(concatenate(digestParts)) : '';
