@@ -113,3 +113,23 @@ describe('the imports between source files', () => {
     expect(circles).toEqual([]);
   });
 });
+
+describe('the public surface of each package', () => {
+  it('is stated in its README as the count of names its root exports, values and types, and the count is true', () => {
+    for (const name of ['core', 'cells', 'optim', 'io', 'cli']) {
+      const entry = readFileSync(join(root, 'packages', name, 'src', 'index.ts'), 'utf8').replace(/\/\*[\s\S]*?\*\/|\/\/.*$/gm, '');
+      const values = new Set<string>();
+      const types = new Set<string>();
+      for (const m of entry.matchAll(/export\s+(type\s+)?\{([^}]*)\}/g)) {
+        for (const part of m[2]
+          .split(',')
+          .map((n) => n.trim())
+          .filter((n) => n !== ''))
+          (m[1] === undefined ? values : types).add(part.split(' as ').at(-1)!.trim());
+      }
+      for (const m of entry.matchAll(/export\s+\*\s+as\s+(\w+)/g)) values.add(m[1]);
+      const readme = readFileSync(join(root, 'packages', name, 'README.md'), 'utf8');
+      expect(readme, name).toContain(`exports ${values.size + types.size} names (${values.size} values, ${types.size} types)`);
+    }
+  });
+});

@@ -51,8 +51,8 @@ export type {
 export type { CellPlans } from './plans/index.js';
 export { builtInPlans, checkPlans, isNamespacedKind, namespacedKinds, planOf } from './plans/index.js';
 export { traceStep } from './plans/trace.js';
-export type { PlanCellOptions } from './plan-cell.js';
-export { PlanCell, initialisePlanParameters, stepOnTape } from './plan-cell.js';
+export type { PlanCellOptions, StepTensors } from './plan-cell.js';
+export { PlanCell, initialisePlanParameters, stepOnTape, stepTensors } from './plan-cell.js';
 export { attentionLayout, cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';
 export type { EncoderDecoderRun, EncoderDecoderRunOptions } from './encoder-decoder.js';
 export { EncoderDecoderModel, decoderStart, reverseTokens } from './encoder-decoder.js';

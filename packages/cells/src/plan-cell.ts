@@ -14,47 +14,79 @@ import { traceStep } from './plans/trace.js';
 import { checkStepArguments, createParameter, resolveCellOptions } from './recurrence.js';
 import type { CommonCellOptions } from './recurrence.js';
 
-/** Runs a traced step on `tape`: x [B, inputWidth] and the state in, the new state (slot order) out. */
-export function stepOnTape(program: StepProgram, tape: Tape, x: Tensor, state: readonly Tensor[], parameter: (name: string) => Tensor): Tensor[] {
-  const values: Tensor[] = new Array<Tensor>(program.values.length);
-  values[0] = x;
-  program.values.forEach((v, id) => {
-    if (v.source === 'state') values[id] = state[v.slot];
-    else if (v.source === 'vector') values[id] = parameter(v.name);
-  });
-  for (const instruction of program.instructions) {
-    const a = values[instruction.a];
-    const b = values[instruction.b];
-    let out: Tensor;
+/** One operation of a traced step bound to its operands' places (and its weights): made once per cell. */
+type BoundOperation = (tape: Tape, values: Tensor[]) => void;
+
+/** A traced step made ready for the tape once per cell: its vectors and one bound operation per instruction. */
+export interface StepTensors {
+  /** By value number: the tensor of a vector value, else null. */
+  readonly vectors: readonly (Tensor | null)[];
+  /** The instructions, each bound to where its operands are and its weights. */
+  readonly operations: readonly BoundOperation[];
+}
+
+/** Binds a traced step's operations to their operands and looks its parameters up by name, once (not every step). */
+export function stepTensors(program: StepProgram, parameter: (name: string) => Tensor): StepTensors {
+  const operations = program.instructions.map((instruction): BoundOperation => {
+    const { a, b, out } = instruction;
     switch (instruction.operation) {
-      case 'product':
-        out = matmul(tape, a, parameter(instruction.weights));
-        break;
+      case 'product': {
+        const weights = parameter(instruction.weights);
+        return (tape, v) => {
+          v[out] = matmul(tape, v[a], weights);
+        };
+      }
       case 'add':
-        out = add(tape, a, b);
-        break;
+        return (tape, v) => {
+          v[out] = add(tape, v[a], v[b]);
+        };
       case 'subtract':
-        out = subtract(tape, a, b);
-        break;
+        return (tape, v) => {
+          v[out] = subtract(tape, v[a], v[b]);
+        };
       case 'multiply':
-        out = multiply(tape, a, b);
-        break;
+        return (tape, v) => {
+          v[out] = multiply(tape, v[a], v[b]);
+        };
       case 'sigmoid':
-        out = sigmoid(tape, a);
-        break;
+        return (tape, v) => {
+          v[out] = sigmoid(tape, v[a]);
+        };
       case 'tanh':
-        out = tanh(tape, a);
-        break;
+        return (tape, v) => {
+          v[out] = tanh(tape, v[a]);
+        };
       case 'relu':
-        out = relu(tape, a);
-        break;
-      case 'columns':
-        out = slice(tape, a, instruction.start, instruction.start + program.values[instruction.out].width);
-        break;
+        return (tape, v) => {
+          v[out] = relu(tape, v[a]);
+        };
+      case 'columns': {
+        const end = instruction.start + program.values[out].width;
+        return (tape, v) => {
+          v[out] = slice(tape, v[a], instruction.start, end);
+        };
+      }
     }
-    values[instruction.out] = out;
+  });
+  return { vectors: program.values.map((v) => (v.source === 'vector' ? parameter(v.name) : null)), operations };
+}
+
+/** Runs a traced step on `tape`: x [B, inputWidth] and the state in, the new state (slot order) out. */
+export function stepOnTape(program: StepProgram, tape: Tape, x: Tensor, state: readonly Tensor[], tensors: StepTensors): Tensor[] {
+  const described = program.values;
+  const values: Tensor[] = new Array<Tensor>(described.length);
+  values[0] = x;
+  for (let id = 1; id < described.length; id++) {
+    const v = described[id];
+    if (v.source === 'state') values[id] = state[v.slot];
+    else if (v.source === 'vector') values[id] = tensors.vectors[id] as Tensor;
   }
-  return program.results.map((r) => values[r]);
+  const operations = tensors.operations;
+  for (let k = 0; k < operations.length; k++) operations[k](tape, values);
+  const results = program.results;
+  const next: Tensor[] = new Array<Tensor>(results.length);
+  for (let s = 0; s < results.length; s++) next[s] = values[results[s]];
+  return next;
 }
 
 /** The parameters a traced plan names, made as trainable zeros, by name (in the plan's order). */
@@ -120,6 +152,8 @@ export class PlanCell implements RecurrentCell {
   /** The cell's path in messages and parameter names (`layers[0].forward`). */
   name: string;
   private readonly tensors: Map<string, Tensor>;
+  /** The step's tensors, found once. */
+  private readonly stepTensors: StepTensors;
 
   constructor(options: PlanCellOptions) {
     const { name, inputWidth, hidden, dtype, random } = resolveCellOptions(options, options.plan.kind);
@@ -133,6 +167,7 @@ export class PlanCell implements RecurrentCell {
     this.program = traceStep(options.plan, shape, name);
     this.state = this.program.state;
     this.tensors = planParameters(this.program, dtype);
+    this.stepTensors = stepTensors(this.program, (n) => parameterNamed(this.tensors, n, name));
     const initialise = options.initialise ?? options.plan.initialise;
     if (initialise !== undefined) initialise((n) => parameterNamed(this.tensors, n, name).data, shape, random);
     else initialisePlanParameters(this.tensors, hidden, random);
@@ -145,7 +180,7 @@ export class PlanCell implements RecurrentCell {
   /** One step of the plan on the tape (core operations); for a built-in cell, the reference its fused path is proven against. */
   step(tape: Tape, x: Tensor, state: readonly Tensor[]): CellStep {
     checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
-    const next = stepOnTape(this.program, tape, x, state, (n) => this.parameter(n));
+    const next = stepOnTape(this.program, tape, x, state, this.stepTensors);
     return { output: next[0], state: next };
   }
 
