@@ -123,11 +123,30 @@ function wholeLayerCell(kind: 'lstm' | 'gru' | 'plain', shape: CellShape, prefix
   };
 }
 
-/** Where a traced program's values live: each one's source, and its slot, vector or working-buffer index. */
-interface ValuePlaces {
+/** A traced program laid out once for the runtime: where each value lives, its width, and each product's matrix. */
+interface ProgramLayout {
+  /** Each value's source (SOURCE_*). */
   readonly sources: Int32Array;
+  /** Each value's slot, vector index or working-buffer index. */
   readonly place: Int32Array;
+  /** The vector parameters, by their index. */
   readonly vectors: readonly Float32Array[];
+  /** 1 for a value that is a row (one for every batch row), else 0. */
+  readonly rowValue: Uint8Array;
+  /** Each value's width. */
+  readonly widths: Int32Array;
+  /** Each instruction's weight matrix (products), else null. */
+  readonly matrices: readonly (Float32Array | null)[];
+  /** The instructions, in order. */
+  readonly instructions: StepProgram['instructions'];
+  /** The new state's values, in slot order. */
+  readonly results: Int32Array;
+  /** The state slots' widths. */
+  readonly slotWidths: readonly number[];
+  /** The widest product's columns (the zero bias's length). */
+  readonly widestProduct: number;
+  /** The runtime's kernels. */
+  readonly kernels: ForwardKernels;
 }
 
 const SOURCE_INPUT = 0;
@@ -135,18 +154,12 @@ const SOURCE_STATE = 1;
 const SOURCE_VECTOR = 2;
 const SOURCE_COMPUTED = 3;
 
-/**
- * A cell run through its traced program. Each computed value has a buffer ([rows, width], or [width] for a row);
- * products run on the backend's affine kernel with a zero bias (so they read its packed weight matrices), the
- * rest are loops over the buffers. The new state is written into the slots after the whole step, so every
- * operation reads the state from before it.
- */
-function programCell(program: StepProgram, prefix: string, weights: Weights, kernels: ForwardKernels): RuntimeCell {
+/** Lays a traced program out, its parameters taken from `weights` as `prefix.<name>`. */
+function programLayout(program: StepProgram, prefix: string, weights: Weights, kernels: ForwardKernels): ProgramLayout {
   const values = program.values;
   const sources = Int32Array.from(values, (v) =>
     v.source === 'input' ? SOURCE_INPUT : v.source === 'state' ? SOURCE_STATE : v.source === 'vector' ? SOURCE_VECTOR : SOURCE_COMPUTED,
   );
-  // Where each value lives: its slot, its vector's index, or its working buffer's index.
   const place = new Int32Array(values.length);
   const parameterArrays = new Map<string, Float32Array>();
   for (const p of program.parameters) parameterArrays.set(p.name, weights(`${prefix}.${p.name}`, p.shape, p.shape.length === 2));
@@ -157,84 +170,108 @@ function programCell(program: StepProgram, prefix: string, weights: Weights, ker
     else if (v.source === 'vector') place[id] = vectors.push(parameterArrays.get(v.name) as Float32Array) - 1;
     else if (v.source === 'computed') place[id] = computed++;
   });
-  const rowValue = Uint8Array.from(values, (v) => (v.row ? 1 : 0));
   const widths = Int32Array.from(values, (v) => v.width);
   const instructions = program.instructions;
-  const matrices = instructions.map((i) => (i.operation === 'product' ? (parameterArrays.get(i.weights) as Float32Array) : null));
-  const widestProduct = Math.max(1, ...instructions.map((i) => (i.operation === 'product' ? widths[i.out] : 0)));
-  const results = Int32Array.from(program.results);
-  const where: ValuePlaces = { sources, place, vectors };
-  const slotWidths = program.state.map((s) => s.width);
+  return {
+    sources,
+    place,
+    vectors,
+    rowValue: Uint8Array.from(values, (v) => (v.row ? 1 : 0)),
+    widths,
+    matrices: instructions.map((i) => (i.operation === 'product' ? (parameterArrays.get(i.weights) as Float32Array) : null)),
+    instructions,
+    results: Int32Array.from(program.results),
+    slotWidths: program.state.map((s) => s.width),
+    widestProduct: Math.max(1, ...instructions.map((i) => (i.operation === 'product' ? widths[i.out] : 0))),
+    kernels,
+  };
+}
+
+/**
+ * A cell run through its traced program. Each computed value has a buffer ([rows, width], or [width] for a row);
+ * products run on the backend's affine kernel with a zero bias (so they read its packed weight matrices), the
+ * rest are loops over the buffers. The new state is written into the slots after the whole step, so every
+ * operation reads the state from before it.
+ */
+function programCell(program: StepProgram, prefix: string, weights: Weights, kernels: ForwardKernels): RuntimeCell {
+  const layout = programLayout(program, prefix, weights, kernels);
   return {
     hidden: program.hidden,
     inputWidth: program.inputWidth,
-    slotWidths,
+    slotWidths: layout.slotWidths,
     buffers(rows, allocate) {
-      const state = slotWidths.map((w) => allocate(rows * w));
+      const state = layout.slotWidths.map((w) => allocate(rows * w));
       const work: Float32Array[] = [];
-      values.forEach((v) => {
+      program.values.forEach((v) => {
         if (v.source === 'computed') work.push(allocate(v.row ? v.width : rows * v.width));
       });
       // The zero bias of every product, last.
-      work.push(allocate(widestProduct));
+      work.push(allocate(layout.widestProduct));
       return { state, work };
     },
     step(x, buffers, rows, lengths, step) {
-      const state = buffers.state;
-      const work = buffers.work;
-      const zero = work[work.length - 1];
-      for (let k = 0; k < instructions.length; k++) {
-        const instruction = instructions[k];
-        const out = work[place[instruction.out]];
-        const a = pick(instruction.a, where, work, state, x);
-        const width = widths[instruction.out];
-        const n = (rowValue[instruction.out] === 1 ? 1 : rows) * width;
-        switch (instruction.operation) {
-          case 'product':
-            kernels.affineRows(out, zero, a, matrices[k] as Float32Array, rows, widths[instruction.a], width);
-            break;
-          case 'add':
-          case 'subtract':
-          case 'multiply':
-            elementwise(instruction.operation, out, a, pick(instruction.b, where, work, state, x), n, rowValue[instruction.b] === 1 ? width : n);
-            break;
-          case 'sigmoid':
-            for (let i = 0; i < n; i++) out[i] = logistic(a[i]);
-            break;
-          case 'tanh':
-            for (let i = 0; i < n; i++) out[i] = Math.tanh(a[i]);
-            break;
-          case 'relu':
-            for (let i = 0; i < n; i++) out[i] = a[i] > 0 ? a[i] : 0;
-            break;
-          case 'columns': {
-            const from = widths[instruction.a];
-            const count = n / width;
-            for (let r = 0; r < count; r++) for (let j = 0; j < width; j++) out[r * width + j] = a[r * from + instruction.start + j];
-            break;
-          }
-        }
-      }
-      for (let s = 0; s < results.length; s++) {
-        const slot = state[s];
-        const next = work[place[results[s]]];
-        const width = slotWidths[s];
-        for (let r = 0; r < rows; r++) {
-          // Rows past their length hold their state.
-          if (lengths !== null && step >= lengths[r]) continue;
-          for (let j = r * width; j < (r + 1) * width; j++) slot[j] = next[j];
-        }
-      }
+      for (let k = 0; k < layout.instructions.length; k++) runInstruction(layout, k, x, buffers, rows);
+      writeState(layout, buffers, rows, lengths, step);
     },
   };
 }
 
+/** Instruction `k` of a laid-out program, for `rows` rows, into its working buffer. */
+function runInstruction(layout: ProgramLayout, k: number, x: Float32Array, buffers: LayerBuffers, rows: number): void {
+  const { widths, rowValue } = layout;
+  const work = buffers.work;
+  const instruction = layout.instructions[k];
+  const out = work[layout.place[instruction.out]];
+  const a = pick(instruction.a, layout, buffers, x);
+  const width = widths[instruction.out];
+  const n = (rowValue[instruction.out] === 1 ? 1 : rows) * width;
+  switch (instruction.operation) {
+    case 'product':
+      layout.kernels.affineRows(out, work[work.length - 1], a, layout.matrices[k] as Float32Array, rows, widths[instruction.a], width);
+      break;
+    case 'add':
+    case 'subtract':
+    case 'multiply':
+      elementwise(instruction.operation, out, a, pick(instruction.b, layout, buffers, x), n, rowValue[instruction.b] === 1 ? width : n);
+      break;
+    case 'sigmoid':
+      for (let i = 0; i < n; i++) out[i] = logistic(a[i]);
+      break;
+    case 'tanh':
+      for (let i = 0; i < n; i++) out[i] = Math.tanh(a[i]);
+      break;
+    case 'relu':
+      for (let i = 0; i < n; i++) out[i] = a[i] > 0 ? a[i] : 0;
+      break;
+    case 'columns': {
+      const from = widths[instruction.a];
+      const count = n / width;
+      for (let r = 0; r < count; r++) for (let j = 0; j < width; j++) out[r * width + j] = a[r * from + instruction.start + j];
+      break;
+    }
+  }
+}
+
+/** The new state into the slots; rows past their length hold theirs. */
+function writeState(layout: ProgramLayout, buffers: LayerBuffers, rows: number, lengths: Int32Array | null, step: number): void {
+  const { results, slotWidths, place } = layout;
+  for (let s = 0; s < results.length; s++) {
+    const slot = buffers.state[s];
+    const next = buffers.work[place[results[s]]];
+    const width = slotWidths[s];
+    for (let r = 0; r < rows; r++) {
+      if (lengths !== null && step >= lengths[r]) continue;
+      for (let j = r * width; j < (r + 1) * width; j++) slot[j] = next[j];
+    }
+  }
+}
+
 /** The array of value `id` (a function of the module, not a closure: the step makes no object). */
-function pick(id: number, where: ValuePlaces, work: readonly Float32Array[], state: readonly Float32Array[], x: Float32Array): Float32Array {
-  const source = where.sources[id];
-  if (source === SOURCE_COMPUTED) return work[where.place[id]];
-  if (source === SOURCE_STATE) return state[where.place[id]];
-  return source === SOURCE_VECTOR ? where.vectors[where.place[id]] : x;
+function pick(id: number, layout: ProgramLayout, buffers: LayerBuffers, x: Float32Array): Float32Array {
+  const source = layout.sources[id];
+  if (source === SOURCE_COMPUTED) return buffers.work[layout.place[id]];
+  if (source === SOURCE_STATE) return buffers.state[layout.place[id]];
+  return source === SOURCE_VECTOR ? layout.vectors[layout.place[id]] : x;
 }
 
 /** out = a ∘ b over n numbers, b repeating every `period` numbers (a row broadcast) or not (period = n). */
