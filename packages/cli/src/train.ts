@@ -29,6 +29,7 @@ import { reportLines } from '@weft/io';
 import { backendFlag, chooseBackend } from './backend.js';
 import { CommandError } from './errors.js';
 import { cellModuleFlags, cellPlansFrom } from './cell-module.js';
+import type { CellPlans } from '@weft/cells';
 import { lossCurveSvg, sparkline } from './plot.js';
 import type { LossPoint } from './plot.js';
 import { ProgressView, formatSeconds } from './progress.js';
@@ -284,28 +285,41 @@ export interface TrainOutcome {
  * baselines, saves; `log` receives the result lines.
  */
 export async function train(args: ParsedArgs, log: (line: string) => void = (line) => process.stdout.write(`${line}\n`)): Promise<TrainOutcome> {
-  const [dataPath] = args.positional;
-  if (dataPath === undefined) throw new CommandError('weft train needs a data file (see weft train --help)', 2);
-  if (args.positional.length > 1) throw new CommandError(`weft train takes one data file, got ${args.positional.length}: ${args.positional.join(' ')}`, 2);
-  const backend = chooseBackend(args);
-  const text = readData(dataPath);
-  // Where the files go, checked before any training: a folder that is missing or refuses files fails now, not
-  // after the run.
-  const out = resolve(args.flags.get('out') ?? `${basename(dataPath, extname(dataPath))}.weft.json`);
-  const checkpoint = resolve(args.flags.get('checkpoint') ?? `${out.replace(/\.json$/i, '')}.checkpoint.json`);
-  const curve = `${checkpoint.replace(/\.json$/i, '')}.loss.svg`;
-  const resultsFile = args.flags.get('results');
-  for (const path of [out, checkpoint, ...(resultsFile === undefined ? [] : [resolve(resultsFile)])]) checkWritable(path);
-  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify', 'pairs'] as const, guessTask(dataPath, text, args));
-  // A cell of your own (--cell-module): its plan builds the model, travels with checkpoints and the weight file.
-  const plans = await cellPlansFrom(args);
-  if (plans !== undefined && args.flags.has('cell')) throw new CommandError('--cell and --cell-module both name the cell; give one', 2);
-  const cell: string = plans === undefined ? choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm') : Object.keys(plans)[0];
-  let hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
-  const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
-  const dropout = numberFlag(args, 'dropout', 0, { min: 0, max: 0.95 });
-  const seed = args.flags.get('seed') ?? '1';
-  const options = {
+  const settings = await trainSettings(args);
+  // Under --quiet only the final result lines are printed (the held-out report, the summary, where files went).
+  const info = args.switches.has('quiet') ? () => undefined : log;
+  let prepared = prepareData(args, settings);
+  const chosen = prepared.task === 'pairs' ? undefined : prepared.chosen;
+  if (chosen !== undefined) info(chosen.said);
+  for (const note of prepared.notes ?? []) info(note);
+  const schedule = scheduleOf(args, settings, chosen);
+  prepared = await chooseHybrid(args, settings, prepared, schedule, info);
+  const run = await startRun(args, settings, prepared, schedule, info, log);
+  const { summary, trainer } = await trainModel(run);
+  const { final, metadata } = await trainMembers(run, trainer);
+  // Prediction intervals from the validation part's errors (JSON has no Infinity: a part too short for the level
+  // records null, an interval without bounds).
+  let intervals: ForecastIntervals | undefined;
+  let kept: typeof metadata & { intervals?: unknown } = metadata;
+  if (prepared.task === 'forecast' && prepared.intervals !== undefined && settings.intervalLevel !== null) {
+    const level = settings.intervalLevel;
+    intervals = { level, halfWidth: prepared.intervals(final as SequenceModel, level) };
+    kept = { ...kept, intervals: { level, method: 'split conformal', halfWidth: intervals.halfWidth.map((h) => (Number.isFinite(h) ? h : null)) } };
+  }
+  await saveWeightFile(settings.out, final, { dtype: run.store, metadata: kept });
+  const heldOut = prepared.task === 'pairs' ? prepared.heldOut(run.model as EncoderDecoderModel) : prepared.heldOut(final as SequenceModel, intervals);
+  reportRun(run, summary, heldOut);
+  const resultsPath = args.flags.get('results');
+  if (resultsPath !== undefined) {
+    const figure = prepared.task === 'pairs' ? null : (prepared.validationFigure?.(final as SequenceModel) ?? null);
+    writeFileAtomic(resultsPath, `${JSON.stringify(runResults(summary, heldOut, settings.out, figure))}\n`);
+  }
+  return { summary, out: settings.out, checkpoint: settings.checkpoint, curve: settings.curve, heldOut, prepared };
+}
+
+/** The options of preparing the data, from the flags (`seed`: the run's). */
+function preparationOptions(args: ParsedArgs, seed: string) {
+  return {
     window: numberFlag(args, 'window', 32, { whole: true, min: 1, max: 100000 }),
     lookback: numberFlag(args, 'lookback', 0, { whole: true, min: 0, max: 100000 }),
     streams: numberFlag(args, 'streams', 8, { whole: true, min: 1, max: 4096 }),
@@ -338,19 +352,81 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     shortSeries: choiceFlag(args, 'short-series', ['skip', 'refuse'] as const, 'skip'),
     idInputs: choiceFlag(args, 'id-inputs', ['yes', 'no'] as const, 'no') === 'yes',
   };
+}
+
+/** What the flags ask of one run, every flag checked before any training. */
+interface TrainSettings {
+  readonly dataPath: string;
+  readonly text: string;
+  readonly backend: ReturnType<typeof chooseBackend>;
+  /** Where the weight file, the checkpoint and the loss curve go (absolute paths). */
+  readonly out: string;
+  readonly checkpoint: string;
+  readonly curve: string;
+  readonly task: Task | 'pairs';
+  /** The plan of a cell of your own (--cell-module), or undefined. */
+  readonly plans: CellPlans | undefined;
+  readonly cell: string;
+  readonly hidden: number;
+  readonly layerCount: number;
+  readonly dropout: number;
+  readonly seed: string;
+  readonly options: ReturnType<typeof preparationOptions>;
+  readonly ensemble: number;
+  readonly intervalLevel: number | null;
+  readonly attention: (typeof ATTENTION_FORMS)[number] | 'none';
+}
+
+/** The run's settings from the flags; the files' folders checked writable and every flag checked, before any training. */
+async function trainSettings(args: ParsedArgs): Promise<TrainSettings> {
+  const [dataPath] = args.positional;
+  if (dataPath === undefined) throw new CommandError('weft train needs a data file (see weft train --help)', 2);
+  if (args.positional.length > 1) throw new CommandError(`weft train takes one data file, got ${args.positional.length}: ${args.positional.join(' ')}`, 2);
+  const backend = chooseBackend(args);
+  const text = readData(dataPath);
+  // Where the files go, checked before any training: a folder that is missing or refuses files fails now, not
+  // after the run.
+  const out = resolve(args.flags.get('out') ?? `${basename(dataPath, extname(dataPath))}.weft.json`);
+  const checkpoint = resolve(args.flags.get('checkpoint') ?? `${out.replace(/\.json$/i, '')}.checkpoint.json`);
+  const curve = `${checkpoint.replace(/\.json$/i, '')}.loss.svg`;
+  const resultsFile = args.flags.get('results');
+  for (const path of [out, checkpoint, ...(resultsFile === undefined ? [] : [resolve(resultsFile)])]) checkWritable(path);
+  const task = choiceFlag(args, 'task', ['forecast', 'text', 'classify', 'pairs'] as const, guessTask(dataPath, text, args));
+  // A cell of your own (--cell-module): its plan builds the model, travels with checkpoints and the weight file.
+  const plans = await cellPlansFrom(args);
+  if (plans !== undefined && args.flags.has('cell')) throw new CommandError('--cell and --cell-module both name the cell; give one', 2);
+  const cell: string = plans === undefined ? choiceFlag(args, 'cell', ['lstm', 'gru', 'plain'] as const, 'lstm') : Object.keys(plans)[0];
+  const hidden = numberFlag(args, 'hidden', 64, { whole: true, min: 1, max: MAX_HIDDEN });
+  const layerCount = numberFlag(args, 'layers', 1, { whole: true, min: 1, max: 16 });
+  const dropout = numberFlag(args, 'dropout', 0, { min: 0, max: 0.95 });
+  const seed = args.flags.get('seed') ?? '1';
+  const options = preparationOptions(args, seed);
+  const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
+  // Checked with the other flags, before any training.
+  const intervalLevel = args.flags.get('interval') === 'none' ? null : numberFlag(args, 'interval', 0.95, { min: 0.5, max: 0.999 });
+  checkTaskFlags(args, task, options, plans, ensemble);
+  const attention = choiceFlag(args, 'attention', [...ATTENTION_FORMS, 'none'] as const, 'general');
+  return { dataPath, text, backend, out, checkpoint, curve, task, plans, cell, hidden, layerCount, dropout, seed, options, ensemble, intervalLevel, attention };
+}
+
+/** Refuses, in one line naming the flag, settings that do not go together or with the task. */
+function checkTaskFlags(
+  args: ParsedArgs,
+  task: Task | 'pairs',
+  options: ReturnType<typeof preparationOptions>,
+  plans: CellPlans | undefined,
+  ensemble: number,
+): void {
   if (options.validationShare + options.testShare > 0.9)
     throw new CommandError(
       `--validation ${options.validationShare} and --test ${options.testShare} leave less than a tenth of the data to train on; lower one of them`,
       2,
     );
-  const ensemble = numberFlag(args, 'ensemble', 1, { whole: true, min: 1, max: 64 });
   if (plans !== undefined && ensemble > 1)
     throw new CommandError('--ensemble stacks models of the built-in cells; a cell of your own (--cell-module) trains one model', 2);
   if (plans !== undefined && args.flags.has('workers') && args.flags.get('workers') !== '1')
     throw new CommandError('--workers: training threads build the built-in cells; a cell of your own (--cell-module) trains on this thread (--workers 1)', 2);
-  // Checked with the other flags, before any training.
-  const intervalLevel = args.flags.get('interval') === 'none' ? null : numberFlag(args, 'interval', 0.95, { min: 0.5, max: 0.999 });
-  for (const name of [
+  const forecastOnly = [
     'time-column',
     'examples',
     'hybrid',
@@ -362,7 +438,8 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     'missing-marker',
     'short-series',
     'id-inputs',
-  ]) {
+  ];
+  for (const name of forecastOnly) {
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'forecast')
       throw new CommandError(`--${name} applies to --task forecast, not ${task}`, 2);
   }
@@ -380,142 +457,183 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     if ((args.flags.has(name) || args.switches.has(name)) && task !== 'pairs')
       throw new CommandError(`--${name} applies to --task pairs (an encoder-decoder), not ${task}`, 2);
   }
-  const attention = choiceFlag(args, 'attention', [...ATTENTION_FORMS, 'none'] as const, 'general');
-  let prepared: Prepared | PairsPrepared =
-    task === 'pairs'
-      ? preparePairs(text, dataPath, {
-          ...options,
-          sourceColumn: args.flags.get('source-column') ?? 'source',
-          targetColumn: args.flags.get('target-column') ?? 'target',
-          maxTarget: numberFlag(args, 'max-target', 100, { whole: true, min: 1, max: 100000 }),
-        })
-      : task === 'forecast'
-        ? prepareForecast(text, dataPath, options)
-        : task === 'text'
-          ? prepareText(text, dataPath, options)
-          : prepareClassification(text, dataPath, {
-              ...options,
-              labelColumn: args.flags.get('label-column') ?? 'label',
-              sequenceColumn: args.flags.get('sequence-column') ?? 'sequence',
-              idColumn: args.flags.get('id-column'),
-              stepColumn: args.flags.get('step-column'),
-            });
-  // Under --quiet only the final result lines are printed (the held-out report, the summary, where files went).
-  const info = args.switches.has('quiet') ? () => undefined : log;
-  const chosen = prepared.task === 'pairs' ? undefined : prepared.chosen;
-  if (chosen !== undefined) info(chosen.said);
-  hidden = chosen?.hidden ?? hidden;
-  for (const note of prepared.notes ?? []) info(note);
-  const layers: LayerDescription[] = Array.from({ length: layerCount }, () => ({
-    cell,
+}
+
+/** The data prepared for the task: its parts, batches, metadata and held-out report. */
+function prepareData(args: ParsedArgs, settings: TrainSettings): Prepared | PairsPrepared {
+  const { task, text, dataPath, options } = settings;
+  if (task === 'pairs') {
+    return preparePairs(text, dataPath, {
+      ...options,
+      sourceColumn: args.flags.get('source-column') ?? 'source',
+      targetColumn: args.flags.get('target-column') ?? 'target',
+      maxTarget: numberFlag(args, 'max-target', 100, { whole: true, min: 1, max: 100000 }),
+    });
+  }
+  if (task === 'forecast') return prepareForecast(text, dataPath, options);
+  if (task === 'text') return prepareText(text, dataPath, options);
+  return prepareClassification(text, dataPath, {
+    ...options,
+    labelColumn: args.flags.get('label-column') ?? 'label',
+    sequenceColumn: args.flags.get('sequence-column') ?? 'sequence',
+    idColumn: args.flags.get('id-column'),
+    stepColumn: args.flags.get('step-column'),
+  });
+}
+
+/** How the model is trained: its layers and the optimiser's settings (the data may have chosen some). */
+interface Schedule {
+  readonly hidden: number;
+  readonly layers: LayerDescription[];
+  readonly rate: number;
+  readonly clip: number;
+  readonly epochs: number;
+  readonly patience: number;
+}
+
+function scheduleOf(args: ParsedArgs, settings: TrainSettings, chosen: Prepared['chosen']): Schedule {
+  const hidden = chosen?.hidden ?? settings.hidden;
+  const layers: LayerDescription[] = Array.from({ length: settings.layerCount }, () => ({
+    cell: settings.cell,
     hidden,
     ...(args.switches.has('bidirectional') ? { bidirectional: true } : {}),
   }));
-  const rate = numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 });
-  const clip = numberFlag(args, 'clip', 1, { min: 1e-9 });
-  const epochs = chosen?.epochs ?? numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 });
-  const patience = chosen?.patience ?? numberFlag(args, 'patience', 3, { whole: true, min: 1 });
-  // --hybrid auto on sliding windows: train the plain model and the hybrid alike (same seed, same settings) and keep
-  // the one better on the validation part; training is deterministic, so the run below repeats the winner exactly.
-  if (
-    prepared.task === 'forecast' &&
-    (prepared.metadata.window !== undefined || prepared.metadata.panel !== undefined) &&
-    !args.flags.has('hybrid') &&
-    args.flags.get('resume') === undefined
-  ) {
-    const hybrid = prepareForecast(text, dataPath, { ...options, hybrid: true });
-    const figure = async (candidate: Prepared): Promise<number> => {
-      const trial = buildModel({ input: candidate.input, layers, dropout, readout: { width: candidate.outputWidth } }, { seed, plans });
-      await new Trainer({
-        model: trial,
-        shardRows: SHARD_ROWS,
-        data: candidate.train,
-        validation: candidate.validation,
-        optimizer: new AdamRule({ rate }),
-        epochs,
-        gradientNormLimit: clip,
-        patience,
-        seed,
-      }).run();
-      return candidate.validationFigure?.(trial) ?? Infinity;
-    };
-    const [plainFigure, hybridFigure] = [await figure(prepared), await figure(hybrid)];
-    const metric = figureName(prepared);
-    info(
-      `tried both on the validation part: ${hybrid.chosen?.said.split(':')[0] ?? 'the hybrid'} ${metric} ${Number(hybridFigure.toPrecision(4))}, plain ${Number(plainFigure.toPrecision(4))}: training the ${hybridFigure < plainFigure ? 'hybrid' : 'plain model'} (--hybrid yes or no to choose)`,
-    );
-    if (hybridFigure < plainFigure) prepared = hybrid;
-  } else if (
-    args.flags.get('resume') !== undefined &&
-    prepared.task === 'forecast' &&
-    (prepared.metadata.window !== undefined || prepared.metadata.panel !== undefined) &&
-    !args.flags.has('hybrid')
-  ) {
-    // A resumed run keeps the choice its checkpoint made.
-    const saved = await loadCheckpoint(resolve(args.flags.get('resume') as string), { plans });
+  return {
+    hidden,
+    layers,
+    rate: numberFlag(args, 'rate', 0.005, { min: 1e-9, max: 10 }),
+    clip: numberFlag(args, 'clip', 1, { min: 1e-9 }),
+    epochs: chosen?.epochs ?? numberFlag(args, 'epochs', 20, { whole: true, min: 1, max: 100000 }),
+    patience: chosen?.patience ?? numberFlag(args, 'patience', 3, { whole: true, min: 1 }),
+  };
+}
+
+/**
+ * --hybrid auto on sliding windows: train the plain model and the hybrid alike (same seed, same settings) and keep
+ * the one better on the validation part; training is deterministic, so the run repeats the winner exactly. A resumed
+ * run keeps the choice its checkpoint made.
+ */
+async function chooseHybrid(
+  args: ParsedArgs,
+  settings: TrainSettings,
+  prepared: Prepared | PairsPrepared,
+  schedule: Schedule,
+  info: (line: string) => void,
+): Promise<Prepared | PairsPrepared> {
+  const { text, dataPath, options, dropout, seed, plans } = settings;
+  const windowed = prepared.task === 'forecast' && (prepared.metadata.window !== undefined || prepared.metadata.panel !== undefined);
+  if (!windowed || args.flags.has('hybrid')) return prepared;
+  const resume = args.flags.get('resume');
+  if (resume !== undefined) {
+    const saved = await loadCheckpoint(resolve(resume), { plans });
     const savedWindow = (saved.file.metadata.window ?? (saved.file.metadata.panel as { series?: { window?: unknown }[] } | undefined)?.series?.[0]?.window) as
       | { hybrid?: unknown }
       | undefined;
-    if (savedWindow?.hybrid !== undefined) prepared = prepareForecast(text, dataPath, { ...options, hybrid: true });
+    return savedWindow?.hybrid !== undefined ? prepareForecast(text, dataPath, { ...options, hybrid: true }) : prepared;
   }
-  const description: AnyModelDescription =
-    prepared.task === 'pairs'
-      ? pairsDescription({
-          cell,
-          hidden,
-          layers: layerCount,
-          bidirectional: args.switches.has('bidirectional'),
-          dropout,
-          embedding: options.embedding,
-          attention: attention === 'none' ? null : attention,
-          reverseSource: args.switches.has('reverse-source'),
-          sourceVocabulary: prepared.sourceVocabulary.length,
-          targetVocabulary: prepared.targetVocabulary.length,
-        })
-      : ({ input: prepared.input, layers, dropout, readout: { width: prepared.outputWidth } } satisfies ModelDescription);
-  const dataDigest = await sha256Hex(new TextEncoder().encode(text));
-  const store = choiceFlag(args, 'store', ['f32', 'f16', 'i8'] as const, 'f32');
-  const every = numberFlag(args, 'checkpoint-every', 200, { whole: true, min: 1 });
-  const model: TrainableModel = prepared.task === 'pairs' ? new EncoderDecoderModel(description, { seed, plans }) : buildModel(description, { seed, plans });
-  const history: { training: LossPoint[]; validation: LossPoint[] } = { training: [], validation: [] };
-  // A forecast of one column: its validation MAE shown in the data's units (the column's deviation undoes the scaling).
-  // With differences, the error of the change is the error of the level, so its deviation serves; log returns
-  // have no such factor and are shown normalised. Sliding windows scale the target's change by its own deviation.
-  const forecastMeta = prepared.metadata as {
+  const hybrid = prepareForecast(text, dataPath, { ...options, hybrid: true });
+  const figure = async (candidate: Prepared): Promise<number> => {
+    const trial = buildModel({ input: candidate.input, layers: schedule.layers, dropout, readout: { width: candidate.outputWidth } }, { seed, plans });
+    await new Trainer({
+      model: trial,
+      shardRows: SHARD_ROWS,
+      data: candidate.train,
+      validation: candidate.validation,
+      optimizer: new AdamRule({ rate: schedule.rate }),
+      epochs: schedule.epochs,
+      gradientNormLimit: schedule.clip,
+      patience: schedule.patience,
+      seed,
+    }).run();
+    return candidate.validationFigure?.(trial) ?? Infinity;
+  };
+  const [plainFigure, hybridFigure] = [await figure(prepared), await figure(hybrid)];
+  const metric = figureName(prepared);
+  info(
+    `tried both on the validation part: ${hybrid.chosen?.said.split(':')[0] ?? 'the hybrid'} ${metric} ${Number(hybridFigure.toPrecision(4))}, plain ${Number(plainFigure.toPrecision(4))}: training the ${hybridFigure < plainFigure ? 'hybrid' : 'plain model'} (--hybrid yes or no to choose)`,
+  );
+  return hybridFigure < plainFigure ? hybrid : prepared;
+}
+
+/** The model's description: the layers and readout of the data's inputs and outputs, or an encoder-decoder. */
+function describeModel(args: ParsedArgs, settings: TrainSettings, prepared: Prepared | PairsPrepared, schedule: Schedule): AnyModelDescription {
+  const { cell, layerCount, dropout, options, attention } = settings;
+  if (prepared.task !== 'pairs')
+    return { input: prepared.input, layers: schedule.layers, dropout, readout: { width: prepared.outputWidth } } satisfies ModelDescription;
+  return pairsDescription({
+    cell,
+    hidden: schedule.hidden,
+    layers: layerCount,
+    bidirectional: args.switches.has('bidirectional'),
+    dropout,
+    embedding: options.embedding,
+    attention: attention === 'none' ? null : attention,
+    reverseSource: args.switches.has('reverse-source'),
+    sourceVocabulary: prepared.sourceVocabulary.length,
+    targetVocabulary: prepared.targetVocabulary.length,
+  });
+}
+
+/**
+ * A forecast of one column: its validation MAE shown in the data's units (the column's deviation undoes the scaling).
+ * With differences, the error of the change is the error of the level, so its deviation serves; log returns have no
+ * such factor and are shown normalised. Sliding windows scale the target's change by its own deviation.
+ */
+function maeScaleOf(task: Task | 'pairs', prepared: Prepared | PairsPrepared): number | null {
+  const meta = prepared.metadata as {
     columns?: string[];
     targetColumns?: string[];
     normalisation?: { deviation: number[] };
     targetTransform?: { kind: string; deviation: number[] };
     window?: { targetDeviation: number[] };
   };
-  const maeScale =
-    task !== 'forecast' ||
-    forecastMeta.targetColumns?.length !== 1 ||
-    prepared.metadata.panel !== undefined ||
-    (prepared.task === 'forecast' && prepared.outputWidth !== 1)
-      ? null
-      : forecastMeta.window !== undefined
-        ? forecastMeta.window.targetDeviation[0]
-        : forecastMeta.targetTransform === undefined
-          ? (forecastMeta.normalisation?.deviation[forecastMeta.columns?.indexOf(forecastMeta.targetColumns[0]) ?? -1] ?? null)
-          : forecastMeta.targetTransform.kind === 'differences'
-            ? forecastMeta.targetTransform.deviation[0]
-            : null;
-  const view = args.switches.has('quiet') ? null : new ProgressView(process.stderr, maeScale);
-  const controller = new AbortController();
+  if (task !== 'forecast' || meta.targetColumns?.length !== 1 || prepared.metadata.panel !== undefined) return null;
+  if (prepared.task === 'forecast' && prepared.outputWidth !== 1) return null;
+  if (meta.window !== undefined) return meta.window.targetDeviation[0];
+  if (meta.targetTransform === undefined) return meta.normalisation?.deviation[meta.columns?.indexOf(meta.targetColumns[0]) ?? -1] ?? null;
+  return meta.targetTransform.kind === 'differences' ? meta.targetTransform.deviation[0] : null;
+}
+
+/** One run's state, from the model made to the files written. */
+interface Run {
+  readonly args: ParsedArgs;
+  readonly settings: TrainSettings;
+  readonly prepared: Prepared | PairsPrepared;
+  readonly schedule: Schedule;
+  readonly description: AnyModelDescription;
+  readonly model: TrainableModel;
+  readonly history: { training: LossPoint[]; validation: LossPoint[] };
+  readonly info: (line: string) => void;
+  readonly log: (line: string) => void;
+  readonly dataDigest: string;
+  readonly store: 'f32' | 'f16' | 'i8';
+  readonly every: number;
+  readonly validateEvery: number | undefined;
+  readonly workerCount: number;
+  readonly view: ProgressView | null;
+  readonly controller: AbortController;
+  readonly started: number;
+  /** Seconds of earlier runs of this training (from the checkpoint resumed), so the summary times the whole run. */
+  earlierSeconds: number;
+}
+
+/** The model made and everything the run keeps beside it; an earlier run's checkpoint refused unless resumed or replaced. */
+async function startRun(
+  args: ParsedArgs,
+  settings: TrainSettings,
+  prepared: Prepared | PairsPrepared,
+  schedule: Schedule,
+  info: (line: string) => void,
+  log: (line: string) => void,
+): Promise<Run> {
+  const { seed, plans, checkpoint, options } = settings;
+  const description = describeModel(args, settings, prepared, schedule);
+  const dataDigest = await sha256Hex(new TextEncoder().encode(settings.text));
+  const store = choiceFlag(args, 'store', ['f32', 'f16', 'i8'] as const, 'f32');
+  const every = numberFlag(args, 'checkpoint-every', 200, { whole: true, min: 1 });
+  const model: TrainableModel = prepared.task === 'pairs' ? new EncoderDecoderModel(description, { seed, plans }) : buildModel(description, { seed, plans });
+  const view = args.switches.has('quiet') ? null : new ProgressView(process.stderr, maeScaleOf(settings.task, prepared));
   const validateEvery = args.flags.has('validate-every') ? numberFlag(args, 'validate-every', 1, { whole: true, min: 1 }) : undefined;
-  const metadataFor = (trainer: Trainer) => ({
-    ...prepared.metadata,
-    training: {
-      data: basename(dataPath),
-      dataDigest,
-      steps: trainer.stepsTaken,
-      seed,
-      store,
-      seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)),
-    },
-    history: { training: thin(history.training).map((p) => [p.step, p.loss]), validation: thin(history.validation).map((p) => [p.step, p.loss]) },
-  });
   // Shards of 8 rows whatever the thread count, so --workers changes the speed and never the weights.
   // (A cell of your own trains on this thread: the threads build built-in cells only.)
   const shardCount = plans === undefined ? Math.ceil(options.batch / SHARD_ROWS) : 1;
@@ -523,182 +641,229 @@ export async function train(args: ParsedArgs, log: (line: string) => void = (lin
     shardCount,
     args.flags.has('workers') ? numberFlag(args, 'workers', 1, { whole: true, min: 1, max: 256 }) : availableParallelism(),
   );
-  // Seconds of earlier runs of this training (from the checkpoint resumed), so the summary times the whole run.
-  let earlierSeconds = 0;
-  const started = Date.now();
-  const resume = args.flags.get('resume');
-  if (resume === undefined && existsSync(checkpoint) && !args.switches.has('start-over')) {
+  if (args.flags.get('resume') === undefined && existsSync(checkpoint) && !args.switches.has('start-over')) {
     throw new CommandError(
       `${checkpoint} holds the checkpoint of an earlier run: continue it with --resume ${checkpoint}, or pass --start-over to replace it`,
       2,
     );
   }
-  const threads: ThreadGroup | undefined = workerCount > 1 ? await startTrainingThreads({ count: workerCount, model }) : undefined;
-  // The trainer (and a resumed run's state) made with the threads running: any refusal here ends them first.
-  const makeTrainer = async (): Promise<Trainer> => {
-    const trainer: Trainer = new Trainer({
-      model,
-      shardRows: SHARD_ROWS,
-      ...(threads === undefined ? {} : { workers: threads }),
-      data: prepared.train,
-      validation: prepared.validation,
-      optimizer: new AdamRule({ rate }),
-      epochs,
-      gradientNormLimit: clip,
-      validateEvery,
-      patience,
-      seed,
-      signal: controller.signal,
-      onProgress: (event: TrainingEvent) => {
-        if (event.kind === 'step') history.training.push({ step: event.step, loss: event.loss });
-        if (event.kind === 'validation') history.validation.push({ step: event.step, loss: event.validationLoss! });
-        view?.show(event);
-      },
-      afterStep: async (t) => {
-        if (t.stepsTaken % every === 0) await saveCheckpoint(checkpoint, t, model, metadataFor(t));
-      },
-    });
-    if (resume !== undefined) {
-      const saved = await loadCheckpoint(resolve(resume), { plans });
-      const difference = firstDifference(saved.file.model, description);
-      if (difference !== null) throw new CommandError(`${resume}: the checkpoint does not match the requested model: ${difference}`);
-      const savedTraining = saved.file.metadata.training as Record<string, unknown> | undefined;
-      if (savedTraining?.dataDigest !== undefined && savedTraining.dataDigest !== dataDigest) {
-        throw new CommandError(
-          `${resume}: the checkpoint was trained on other data (${String(savedTraining.data)}, SHA-256 ${String(savedTraining.dataDigest).slice(0, 12)}…), not ${dataPath}`,
-        );
-      }
-      trainer.restore(saved.snapshot);
-      earlierSeconds =
-        typeof savedTraining?.seconds === 'number' && Number.isFinite(savedTraining.seconds) && savedTraining.seconds >= 0 ? savedTraining.seconds : 0;
-      const savedHistory = saved.file.metadata.history as { training?: number[][]; validation?: number[][] } | undefined;
-      history.training.push(...(savedHistory?.training ?? []).map(([step, loss]) => ({ step, loss })));
-      history.validation.push(...(savedHistory?.validation ?? []).map(([step, loss]) => ({ step, loss })));
-      info(`resuming from ${resume} at step ${trainer.stepsTaken} of ${trainer.totalSteps}`);
-    }
-    return trainer;
+  const history = { training: [], validation: [] };
+  const controller = new AbortController();
+  return {
+    args,
+    settings,
+    prepared,
+    schedule,
+    description,
+    model,
+    history,
+    info,
+    log,
+    dataDigest,
+    store,
+    every,
+    validateEvery,
+    workerCount,
+    view,
+    controller,
+    started: Date.now(),
+    earlierSeconds: 0,
   };
+}
+
+/** The metadata the run's files carry: the data's, the training record and the loss history (thinned). */
+function metadataFor(run: Run, trainer: Trainer) {
+  const { settings, history } = run;
+  return {
+    ...run.prepared.metadata,
+    training: {
+      data: basename(settings.dataPath),
+      dataDigest: run.dataDigest,
+      steps: trainer.stepsTaken,
+      seed: settings.seed,
+      store: run.store,
+      seconds: Number((run.earlierSeconds + (Date.now() - run.started) / 1000).toFixed(3)),
+    },
+    history: { training: thin(history.training).map((p) => [p.step, p.loss]), validation: thin(history.validation).map((p) => [p.step, p.loss]) },
+  };
+}
+
+/** The trainer of the run's model, with progress and checkpoints, and an earlier run's state when resuming. */
+async function makeTrainer(run: Run, threads: ThreadGroup | undefined): Promise<Trainer> {
+  const { model, prepared, schedule, history, settings } = run;
+  const trainer: Trainer = new Trainer({
+    model,
+    shardRows: SHARD_ROWS,
+    ...(threads === undefined ? {} : { workers: threads }),
+    data: prepared.train,
+    validation: prepared.validation,
+    optimizer: new AdamRule({ rate: schedule.rate }),
+    epochs: schedule.epochs,
+    gradientNormLimit: schedule.clip,
+    validateEvery: run.validateEvery,
+    patience: schedule.patience,
+    seed: settings.seed,
+    signal: run.controller.signal,
+    onProgress: (event: TrainingEvent) => {
+      if (event.kind === 'step') history.training.push({ step: event.step, loss: event.loss });
+      if (event.kind === 'validation') history.validation.push({ step: event.step, loss: event.validationLoss! });
+      run.view?.show(event);
+    },
+    afterStep: async (t) => {
+      if (t.stepsTaken % run.every === 0) await saveCheckpoint(settings.checkpoint, t, model, metadataFor(run, t));
+    },
+  });
+  const resume = run.args.flags.get('resume');
+  if (resume !== undefined) await resumeFrom(run, trainer, resume);
+  return trainer;
+}
+
+/** Puts `trainer` at the checkpoint `resume`, refused when it holds another model or was trained on other data. */
+async function resumeFrom(run: Run, trainer: Trainer, resume: string): Promise<void> {
+  const saved = await loadCheckpoint(resolve(resume), { plans: run.settings.plans });
+  const difference = firstDifference(saved.file.model, run.description);
+  if (difference !== null) throw new CommandError(`${resume}: the checkpoint does not match the requested model: ${difference}`);
+  const savedTraining = saved.file.metadata.training as Record<string, unknown> | undefined;
+  if (savedTraining?.dataDigest !== undefined && savedTraining.dataDigest !== run.dataDigest) {
+    throw new CommandError(
+      `${resume}: the checkpoint was trained on other data (${String(savedTraining.data)}, SHA-256 ${String(savedTraining.dataDigest).slice(0, 12)}…), not ${run.settings.dataPath}`,
+    );
+  }
+  trainer.restore(saved.snapshot);
+  run.earlierSeconds =
+    typeof savedTraining?.seconds === 'number' && Number.isFinite(savedTraining.seconds) && savedTraining.seconds >= 0 ? savedTraining.seconds : 0;
+  const savedHistory = saved.file.metadata.history as { training?: number[][]; validation?: number[][] } | undefined;
+  run.history.training.push(...(savedHistory?.training ?? []).map(([step, loss]) => ({ step, loss })));
+  run.history.validation.push(...(savedHistory?.validation ?? []).map(([step, loss]) => ({ step, loss })));
+  run.info(`resuming from ${resume} at step ${trainer.stepsTaken} of ${trainer.totalSteps}`);
+}
+
+/** Ctrl-C aborts the run once (a checkpoint is written); a second one exits at once. */
+function interruptHandler(run: Run): () => void {
+  let interrupts = 0;
+  return () => {
+    interrupts++;
+    if (interrupts > 1) process.exit(130);
+    run.controller.abort();
+  };
+}
+
+/** Trains the run's model on the threads asked for; an interrupted run writes its checkpoint and says how to resume. */
+async function trainModel(run: Run): Promise<{ summary: TrainingSummary; trainer: Trainer }> {
+  const { settings, model } = run;
+  const threads: ThreadGroup | undefined = run.workerCount > 1 ? await startTrainingThreads({ count: run.workerCount, model }) : undefined;
+  // The trainer (and a resumed run's state) made with the threads running: any refusal here ends them first.
   let trainer: Trainer;
   try {
-    trainer = await makeTrainer();
+    trainer = await makeTrainer(run, threads);
   } catch (error) {
     await threads?.close();
     throw error;
   }
-  let interrupts = 0;
-  const onInterrupt = () => {
-    interrupts++;
-    if (interrupts > 1) process.exit(130);
-    controller.abort();
-  };
+  const onInterrupt = interruptHandler(run);
   process.on('SIGINT', onInterrupt);
+  const { cell, task, attention } = settings;
   const kind = task === 'pairs' ? `encoder-decoder (${attention === 'none' ? 'no' : attention} attention)` : `${task} model`;
-  info(
-    `training ${cell === 'lstm' ? 'an LSTM' : cell === 'gru' ? 'a GRU' : cell === 'plain' ? 'a plain recurrent' : `a ${cell}`} ${kind} (${layerCount} × ${hidden} hidden, ${model.parameters().reduce((n, p) => n + p.tensor.size, 0)} parameters) on ${dataPath}: ${trainer.totalSteps} steps, ${backend.name} backend, ${workerCount > 1 ? `${workerCount} threads` : 'this thread'}`,
+  const named = cell === 'lstm' ? 'an LSTM' : cell === 'gru' ? 'a GRU' : cell === 'plain' ? 'a plain recurrent' : `a ${cell}`;
+  const parameters = model.parameters().reduce((n, p) => n + p.tensor.size, 0);
+  run.info(
+    `training ${named} ${kind} (${settings.layerCount} × ${run.schedule.hidden} hidden, ${parameters} parameters) on ${settings.dataPath}: ${trainer.totalSteps} steps, ${settings.backend.name} backend, ${run.workerCount > 1 ? `${run.workerCount} threads` : 'this thread'}`,
   );
   let summary: TrainingSummary;
   try {
     summary = await trainer.run();
   } finally {
     process.off('SIGINT', onInterrupt);
-    view?.finish();
+    run.view?.finish();
     await threads?.close();
   }
-  await saveCheckpoint(checkpoint, trainer, model, metadataFor(trainer));
-  writeFileAtomic(curve, lossCurveSvg(history.training, history.validation, `weft train ${basename(dataPath)}: ${cell} ${task}`, summary.keptStep));
+  await saveCheckpoint(settings.checkpoint, trainer, model, metadataFor(run, trainer));
+  writeFileAtomic(
+    settings.curve,
+    lossCurveSvg(run.history.training, run.history.validation, `weft train ${basename(settings.dataPath)}: ${cell} ${task}`, summary.keptStep),
+  );
   if (summary.stoppedBy === 'signal') {
-    log(`interrupted at step ${summary.steps}; checkpoint written to ${checkpoint}`);
-    log(`resume with: ${resumeCommand(args, checkpoint)}`);
+    run.log(`interrupted at step ${summary.steps}; checkpoint written to ${settings.checkpoint}`);
+    run.log(`resume with: ${resumeCommand(run.args, settings.checkpoint)}`);
     throw new CommandError('', 130);
   }
-  // --ensemble K: members 2…K trained alike from their own seeds (after the first, which the checkpoint holds, so a
-  // resumed run repeats them exactly), then stacked into one model whose forecasts' median is the forecast.
-  let final: TrainableModel = model;
-  let keptMetadata: ReturnType<typeof metadataFor> & { members?: number; intervals?: unknown } = metadataFor(trainer);
-  if (ensemble > 1 && prepared.task === 'forecast') {
-    const members = [model as SequenceModel];
-    // Ctrl-C while a member trains stops it as it stops the first: the checkpoint holds member 1, resuming repeats the rest.
-    process.on('SIGINT', onInterrupt);
-    for (let k = 2; k <= ensemble; k++) {
-      const memberSeed = `${seed}/${k}`;
-      const member = buildModel(description, { seed: memberSeed, plans });
-      const memberThreads = workerCount > 1 ? await startTrainingThreads({ count: workerCount, model: member }) : undefined;
-      let memberSummary: TrainingSummary;
-      try {
-        memberSummary = await new Trainer({
-          model: member,
-          shardRows: SHARD_ROWS,
-          ...(memberThreads === undefined ? {} : { workers: memberThreads }),
-          data: prepared.train,
-          validation: prepared.validation,
-          optimizer: new AdamRule({ rate }),
-          epochs,
-          gradientNormLimit: clip,
-          validateEvery,
-          patience,
-          seed: memberSeed,
-          signal: controller.signal,
-        }).run();
-      } finally {
-        await memberThreads?.close();
-      }
-      if (memberSummary.stoppedBy === 'signal') {
-        process.off('SIGINT', onInterrupt);
-        log(`interrupted while training member ${k} of ${ensemble}; the checkpoint holds member 1: ${checkpoint}`);
-        log(`resume with: ${resumeCommand(args, checkpoint)}`);
-        throw new CommandError('', 130);
-      }
-      const figure = prepared.validationFigure?.(member);
-      info(
-        `member ${k} of ${ensemble} (seed ${memberSeed}): ${memberSummary.steps} steps, kept step ${memberSummary.keptStep}${figure === undefined ? '' : `, validation ${figureName(prepared)} ${Number(figure.toPrecision(4))}`}`,
-      );
-      members.push(member);
+  return { summary, trainer };
+}
+
+/**
+ * --ensemble K: members 2…K trained alike from their own seeds (after the first, which the checkpoint holds, so a
+ * resumed run repeats them exactly), then stacked into one model whose forecasts' median is the forecast.
+ */
+async function trainMembers(run: Run, trainer: Trainer): Promise<{ final: TrainableModel; metadata: ReturnType<typeof metadataFor> & { members?: number } }> {
+  const { settings, prepared, schedule } = run;
+  const { ensemble, seed } = settings;
+  const metadata = metadataFor(run, trainer);
+  if (ensemble <= 1 || prepared.task !== 'forecast') return { final: run.model, metadata };
+  const members = [run.model as SequenceModel];
+  // Ctrl-C while a member trains stops it as it stops the first: the checkpoint holds member 1, resuming repeats the rest.
+  const onInterrupt = interruptHandler(run);
+  process.on('SIGINT', onInterrupt);
+  for (let k = 2; k <= ensemble; k++) {
+    const memberSeed = `${seed}/${k}`;
+    const member = buildModel(run.description, { seed: memberSeed, plans: settings.plans });
+    const memberThreads = run.workerCount > 1 ? await startTrainingThreads({ count: run.workerCount, model: member }) : undefined;
+    let memberSummary: TrainingSummary;
+    try {
+      memberSummary = await new Trainer({
+        model: member,
+        shardRows: SHARD_ROWS,
+        ...(memberThreads === undefined ? {} : { workers: memberThreads }),
+        data: prepared.train,
+        validation: prepared.validation,
+        optimizer: new AdamRule({ rate: schedule.rate }),
+        epochs: schedule.epochs,
+        gradientNormLimit: schedule.clip,
+        validateEvery: run.validateEvery,
+        patience: schedule.patience,
+        seed: memberSeed,
+        signal: run.controller.signal,
+      }).run();
+    } finally {
+      await memberThreads?.close();
     }
-    process.off('SIGINT', onInterrupt);
-    final = stackMembers(members);
-    keptMetadata = {
-      ...keptMetadata,
-      members: ensemble,
-      training: { ...keptMetadata.training, seconds: Number((earlierSeconds + (Date.now() - started) / 1000).toFixed(3)) },
-    };
+    if (memberSummary.stoppedBy === 'signal') {
+      process.off('SIGINT', onInterrupt);
+      run.log(`interrupted while training member ${k} of ${ensemble}; the checkpoint holds member 1: ${settings.checkpoint}`);
+      run.log(`resume with: ${resumeCommand(run.args, settings.checkpoint)}`);
+      throw new CommandError('', 130);
+    }
+    const figure = prepared.validationFigure?.(member);
+    run.info(
+      `member ${k} of ${ensemble} (seed ${memberSeed}): ${memberSummary.steps} steps, kept step ${memberSummary.keptStep}${figure === undefined ? '' : `, validation ${figureName(prepared)} ${Number(figure.toPrecision(4))}`}`,
+    );
+    members.push(member);
   }
-  // Prediction intervals from the validation part's errors (JSON has no Infinity: a part too short for the level
-  // records null, an interval without bounds).
-  let intervals: ForecastIntervals | undefined;
-  if (prepared.task === 'forecast' && prepared.intervals !== undefined && intervalLevel !== null) {
-    const level = intervalLevel;
-    intervals = { level, halfWidth: prepared.intervals(final as SequenceModel, level) };
-    keptMetadata = {
-      ...keptMetadata,
-      intervals: { level, method: 'split conformal', halfWidth: intervals.halfWidth.map((h) => (Number.isFinite(h) ? h : null)) },
-    };
-  }
-  await saveWeightFile(out, final, { dtype: store, metadata: keptMetadata });
-  const heldOut = prepared.task === 'pairs' ? prepared.heldOut(model as EncoderDecoderModel) : prepared.heldOut(final as SequenceModel, intervals);
+  process.off('SIGINT', onInterrupt);
+  const seconds = Number((run.earlierSeconds + (Date.now() - run.started) / 1000).toFixed(3));
+  return { final: stackMembers(members), metadata: { ...metadata, members: ensemble, training: { ...metadata.training, seconds } } };
+}
+
+/** The result lines: the loss sparkline, the held-out report, how the run ended, and where its files went. */
+function reportRun(run: Run, summary: TrainingSummary, heldOut: HeldOutReport): void {
+  const { info, log, history, settings, prepared } = run;
   info(`loss ${sparkline(history.training.map((p) => p.loss))} ${history.training.at(-1)?.loss.toPrecision(4) ?? ''}`);
   for (const line of reportLines(heldOut)) log(line);
-  const seconds = earlierSeconds + (Date.now() - started) / 1000;
-  const ended = summary.stoppedBy === 'patience' ? `stopped early: ${patience} validations without improvement` : 'all epochs done';
+  const seconds = run.earlierSeconds + (Date.now() - run.started) / 1000;
+  const ended = summary.stoppedBy === 'patience' ? `stopped early: ${run.schedule.patience} validations without improvement` : 'all epochs done';
   const kept =
     summary.bestValidation === null || summary.keptStep === summary.steps
       ? `the weights of step ${summary.keptStep}, the last`
       : `the weights of step ${summary.keptStep}, the best validation`;
   log(
-    `finished ${summary.steps} steps in ${seconds < 10 ? `${seconds.toFixed(1)}s` : formatSeconds(seconds)}${earlierSeconds > 0 ? ' (resumed runs included)' : ''}; ${ended}; kept ${kept}`,
+    `finished ${summary.steps} steps in ${seconds < 10 ? `${seconds.toFixed(1)}s` : formatSeconds(seconds)}${run.earlierSeconds > 0 ? ' (resumed runs included)' : ''}; ${ended}; kept ${kept}`,
   );
   if (prepared.task === 'forecast') {
     const m = prepared.metadata as { columns?: string[]; targetColumns?: string[] };
     log(`columns read: ${(m.columns ?? []).join(', ')}; forecast: ${(m.targetColumns ?? []).join(', ')}`);
   }
-  log(`weight file: ${out}`);
-  log(`checkpoint:  ${checkpoint}`);
-  log(`loss curve:  ${curve}`);
-  const resultsPath = args.flags.get('results');
-  if (resultsPath !== undefined) {
-    const figure = prepared.task === 'pairs' ? null : (prepared.validationFigure?.(final as SequenceModel) ?? null);
-    writeFileAtomic(resultsPath, `${JSON.stringify(runResults(summary, heldOut, out, figure))}\n`);
-  }
-  return { summary, out, checkpoint, curve, heldOut, prepared };
+  log(`weight file: ${settings.out}`);
+  log(`checkpoint:  ${settings.checkpoint}`);
+  log(`loss curve:  ${settings.curve}`);
 }
 
 /** What a forecast's validation figure is: MAE in the data's units for one target, MASE for several. */
