@@ -14,7 +14,7 @@ import type { AnyModelDescription, LayerDescription, ModelDescription, SequenceM
 import { AdamRule, Trainer } from '@weft/optim';
 import { startTrainingThreads } from '@weft/optim/node';
 import type { ThreadGroup } from '@weft/optim';
-import type { TrainableModel, TrainingEvent, TrainingSummary } from '@weft/optim';
+import type { TrainableModel, TrainerOptions, TrainingEvent, TrainingSummary } from '@weft/optim';
 import { SLIDING_ROWS, detectDelimiter, isJsonRecords, readTable, sha256Hex } from '@weft/io';
 import type { ForecastIntervals } from '@weft/io';
 import { checkWritable, loadCheckpoint, saveCheckpoint, saveWeightFile, writeFileAtomic } from '@weft/io/node';
@@ -688,10 +688,10 @@ function metadataFor(run: Run, trainer: Trainer) {
   };
 }
 
-/** The trainer of the run's model, with progress and checkpoints, and an earlier run's state when resuming. */
-async function makeTrainer(run: Run, threads: ThreadGroup | undefined): Promise<Trainer> {
-  const { model, prepared, schedule, history, settings } = run;
-  const trainer: Trainer = new Trainer({
+/** What every trainer of the run shares: the data, the schedule, the shards and threads, and the run's abort signal. */
+function trainerOptions(run: Run, model: TrainableModel, seed: string, threads: ThreadGroup | undefined): TrainerOptions {
+  const { prepared, schedule } = run;
+  return {
     model,
     shardRows: SHARD_ROWS,
     ...(threads === undefined ? {} : { workers: threads }),
@@ -702,8 +702,16 @@ async function makeTrainer(run: Run, threads: ThreadGroup | undefined): Promise<
     gradientNormLimit: schedule.clip,
     validateEvery: run.validateEvery,
     patience: schedule.patience,
-    seed: settings.seed,
+    seed,
     signal: run.controller.signal,
+  };
+}
+
+/** The trainer of the run's model, with progress and checkpoints, and an earlier run's state when resuming. */
+async function makeTrainer(run: Run, threads: ThreadGroup | undefined): Promise<Trainer> {
+  const { model, prepared, schedule, history, settings } = run;
+  const trainer: Trainer = new Trainer({
+    ...trainerOptions(run, model, settings.seed, threads),
     onProgress: (event: TrainingEvent) => {
       if (event.kind === 'step') history.training.push({ step: event.step, loss: event.loss });
       if (event.kind === 'validation') history.validation.push({ step: event.step, loss: event.validationLoss! });
@@ -809,20 +817,7 @@ async function trainMembers(run: Run, trainer: Trainer): Promise<{ final: Traina
     const memberThreads = run.workerCount > 1 ? await startTrainingThreads({ count: run.workerCount, model: member }) : undefined;
     let memberSummary: TrainingSummary;
     try {
-      memberSummary = await new Trainer({
-        model: member,
-        shardRows: SHARD_ROWS,
-        ...(memberThreads === undefined ? {} : { workers: memberThreads }),
-        data: prepared.train,
-        validation: prepared.validation,
-        optimizer: new AdamRule({ rate: schedule.rate }),
-        epochs: schedule.epochs,
-        gradientNormLimit: schedule.clip,
-        validateEvery: run.validateEvery,
-        patience: schedule.patience,
-        seed: memberSeed,
-        signal: run.controller.signal,
-      }).run();
+      memberSummary = await new Trainer(trainerOptions(run, member, memberSeed, memberThreads)).run();
     } finally {
       await memberThreads?.close();
     }
