@@ -709,7 +709,7 @@ function trainerOptions(run: Run, model: TrainableModel, seed: string, threads: 
 
 /** The trainer of the run's model, with progress and checkpoints, and an earlier run's state when resuming. */
 async function makeTrainer(run: Run, threads: ThreadGroup | undefined): Promise<Trainer> {
-  const { model, prepared, schedule, history, settings } = run;
+  const { model, history, settings } = run;
   const trainer: Trainer = new Trainer({
     ...trainerOptions(run, model, settings.seed, threads),
     onProgress: (event: TrainingEvent) => {
@@ -803,7 +803,7 @@ async function trainModel(run: Run): Promise<{ summary: TrainingSummary; trainer
  * resumed run repeats them exactly), then stacked into one model whose forecasts' median is the forecast.
  */
 async function trainMembers(run: Run, trainer: Trainer): Promise<{ final: TrainableModel; metadata: ReturnType<typeof metadataFor> & { members?: number } }> {
-  const { settings, prepared, schedule } = run;
+  const { settings, prepared } = run;
   const { ensemble, seed } = settings;
   const metadata = metadataFor(run, trainer);
   if (ensemble <= 1 || prepared.task !== 'forecast') return { final: run.model, metadata };
