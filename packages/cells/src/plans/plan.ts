@@ -130,7 +130,7 @@ export interface ProgramValue {
   readonly width: number;
   /** True for a row applied to every batch row. */
   readonly row: boolean;
-  /** The slot number of a state value, or the parameter name of a vector; '' / −1 otherwise. */
+  /** The slot's name of a state value, or the parameter's name of a vector; '' otherwise. */
   readonly name: string;
   /** The slot of a state value; −1 otherwise. */
   readonly slot: number;
