@@ -34,7 +34,7 @@ function product(id: string, dtype: DType, rows: number, inner: number, cols: nu
     setup: (backend) => {
       const { a, b, out } = operands(backend, dtype, rows, inner, cols);
       const table = backend.kernels;
-      return naive ? () => kernels.matmulNaive(out, a, b, rows, inner, cols) : () => table.matmul(out, a, b, rows, inner, cols);
+      return naive ? () => kernels.matmulNaive(out, a, b, rows, inner, cols) : () => table.matmul(out, a, b, { rows, inner, cols });
     },
     value: (hz) => (hz * flops) / 1e9,
     defaultOnly: naive || dtype === 'f64',

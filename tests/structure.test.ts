@@ -21,6 +21,7 @@ const withoutLogic: Record<string, string> = {
   'packages/core/src/backend/forward-javascript-entry.ts': 'the @weft/core/forward/javascript entry: re-exports',
   'packages/core/src/base-entry.ts': 'the @weft/core/base entry: re-exports',
   'packages/core/src/training-state.ts': 'types only (the training state as plain data)',
+  'packages/core/src/kernels/step-records.ts': "types only (the step kernels' argument records)",
   'packages/cells/src/index.ts': 'the package entry: re-exports',
   'packages/cells/src/kernels/index.ts': "an entry: re-exports core's step kernels",
   'packages/cells/src/description-entry.ts': 'the @weft/cells/description entry: re-exports',

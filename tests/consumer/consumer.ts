@@ -24,7 +24,7 @@ const trainer = new Trainer({
   epochs: 1,
 });
 const loss: number = trainer.step();
-const out: FloatArray = matmul(new Float32Array(1), Float32Array.of(2), Float32Array.of(3), 1, 1, 1);
+const out: FloatArray = matmul(new Float32Array(1), Float32Array.of(2), Float32Array.of(3), { rows: 1, inner: 1, cols: 1 });
 const summary: Promise<TrainingSummary> = trainer.run();
 const problems: readonly Problem[] = new WeftError({ code: 'bad_data', path: 'x', expected: 'y', received: 'z' }).problems;
 const backend: ForwardBackend | null = null;

@@ -16,6 +16,8 @@ import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import { PlanCell } from './plan-cell.js';
 import { gruPlan } from './plans/gru.js';
 import { projectInputs, runSteps } from './recurrence.js';
+import { productShape, refill, refillStep } from '@weft/core/kernels';
+import type { GruFinishInputs, GruForm, GruSaved, GruStepGradients, GruStepOut, StepAt } from '@weft/core/kernels';
 import type { CommonCellOptions } from './recurrence.js';
 
 export interface GruOptions extends CommonCellOptions {
@@ -77,20 +79,28 @@ export class GruCell extends PlanCell implements FusedSequence {
     const tracked = projected.tracked || hPrevious.tracked || this.recurrent.tracked || this.recurrentCandidate.tracked || (candidateBias?.tracked ?? false);
     const gates = tape.buffer(dtype, rows * 3 * hidden);
     const updateReset = tape.buffer(dtype, rows * 2 * hidden);
-    tape.kernels.matmul(updateReset, hPrevious.data, this.recurrent.data, rows, hidden, 2 * hidden);
+    const product = records.product;
+    tape.kernels.matmul(updateReset, hPrevious.data, this.recurrent.data, refill(product, rows, hidden, 2 * hidden));
     tape.kernels.gruUpdateReset(gates, projected.data, offset, updateReset, rows, hidden);
     const candidate = tape.buffer(dtype, rows * hidden);
     let resetHidden = null;
     if (candidateBias === null) {
       resetHidden = tape.buffer(dtype, rows * hidden);
       tape.kernels.gruResetHidden(resetHidden, gates, hPrevious.data, rows, hidden);
-      tape.kernels.matmul(candidate, resetHidden, this.recurrentCandidate.data, rows, hidden, hidden);
+      tape.kernels.matmul(candidate, resetHidden, this.recurrentCandidate.data, refill(product, rows, hidden, hidden));
     } else {
-      tape.kernels.matmul(candidate, hPrevious.data, this.recurrentCandidate.data, rows, hidden, hidden);
+      tape.kernels.matmul(candidate, hPrevious.data, this.recurrentCandidate.data, refill(product, rows, hidden, hidden));
       tape.kernels.addRow(candidate, candidate, candidateBias.data, rows, hidden);
     }
     const h = tape.output([rows, hidden], dtype, tracked);
-    tape.kernels.gruStepFinish(h.data, gates, projected.data, offset, candidate, hPrevious.data, candidateBias !== null, rows, hidden, lengths, step);
+    const { out, inputs } = records;
+    out.h = h.data;
+    out.gates = gates;
+    inputs.projected = projected.data;
+    inputs.projectedOffset = offset;
+    inputs.candidate = candidate;
+    inputs.hPrevious = hPrevious.data;
+    tape.kernels.gruStepFinish(out, inputs, formOf(candidateBias), refillStep(records.at, rows, hidden, lengths, step));
     const saved = tape.record(gruStepKind, h);
     if (saved !== null) {
       saved.projected = projected;
@@ -152,36 +162,32 @@ const gruStepKind: OperationKind<GruStepSaved> = {
     const candidateGradient = tape.buffer(dtype, rows * hidden);
     const productGradient = tape.buffer(dtype, rows * hidden);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    tape.kernels.gruBackwardCandidate(
-      updateResetGradient,
-      candidateGradient,
-      productGradient,
-      hPreviousGradient,
-      h.gradient!,
-      gates,
-      candidate,
-      hPrevious.data,
-      resetAfter,
-      rows,
-      hidden,
-      lengths,
-      step,
-    );
+    const { gradients, saved: read, product } = records;
+    gradients.updateReset = updateResetGradient;
+    gradients.candidate = candidateGradient;
+    gradients.product = productGradient;
+    gradients.hPrevious = hPreviousGradient;
+    read.gates = gates;
+    read.candidate = candidate;
+    read.hPrevious = hPrevious.data;
+    const at = refillStep(records.at, rows, hidden, lengths, step);
+    tape.kernels.gruBackwardCandidate(gradients, h.gradient!, read, formOf(candidateBias), at);
     if (!resetAfter) {
       // δ(r ⊙ h₋) = δq · R_nᵀ; δR_n += (r ⊙ h₋)ᵀ · δq
       const resetHiddenGradient = tape.buffer(dtype, rows * hidden);
-      tape.kernels.matmul(resetHiddenGradient, productGradient, recurrentCandidate.data, rows, hidden, hidden, false, true);
-      tape.kernels.gruBackwardReset(updateResetGradient, hPreviousGradient, resetHiddenGradient, gates, hPrevious.data, rows, hidden, lengths, step);
+      tape.kernels.matmul(resetHiddenGradient, productGradient, recurrentCandidate.data, refill(product, rows, hidden, hidden, 'b'));
+      tape.kernels.gruBackwardReset(gradients, resetHiddenGradient, read, at);
       if (recurrentCandidate.tracked) {
-        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), resetHidden!, productGradient, hidden, rows, hidden, true, false, true);
+        tape.kernels.matmulInto(tape.gradientOf(recurrentCandidate), resetHidden!, productGradient, refill(product, hidden, rows, hidden, 'a'));
       }
     } else {
       // q = h₋·R_n + b_Rn: δR_n += h₋ᵀ · δq, δb_Rn += Σ_rows δq, δh₋ += δq · R_nᵀ
       if (recurrentCandidate.tracked) {
-        tape.kernels.matmul(tape.gradientOf(recurrentCandidate), hPrevious.data, productGradient, hidden, rows, hidden, true, false, true);
+        tape.kernels.matmulInto(tape.gradientOf(recurrentCandidate), hPrevious.data, productGradient, refill(product, hidden, rows, hidden, 'a'));
       }
-      if (candidateBias!.tracked) tape.kernels.sumRows(tape.gradientOf(candidateBias!), productGradient, rows, hidden, true);
-      if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, productGradient, recurrentCandidate.data, rows, hidden, hidden, false, true, true);
+      if (candidateBias!.tracked) tape.kernels.sumRowsInto(tape.gradientOf(candidateBias!), productGradient, rows, hidden);
+      if (hPreviousGradient !== null)
+        tape.kernels.matmulInto(hPreviousGradient, productGradient, recurrentCandidate.data, refill(product, rows, hidden, hidden, 'b'));
     }
     if (projected.tracked) {
       const gp = tape.gradientOf(projected);
@@ -193,7 +199,24 @@ const gruStepKind: OperationKind<GruStepSaved> = {
       }
     }
     // δh₋ += δa_zr · R_zrᵀ; δR_zr += h₋ᵀ · δa_zr
-    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, updateResetGradient, recurrent.data, rows, 2 * hidden, hidden, false, true, true);
-    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, updateResetGradient, hidden, rows, 2 * hidden, true, false, true);
+    if (hPreviousGradient !== null)
+      tape.kernels.matmulInto(hPreviousGradient, updateResetGradient, recurrent.data, refill(product, rows, 2 * hidden, hidden, 'b'));
+    if (recurrent.tracked)
+      tape.kernels.matmulInto(tape.gradientOf(recurrent), hPrevious.data, updateResetGradient, refill(product, hidden, rows, 2 * hidden, 'a'));
   },
+};
+
+/** The step kernels' form: the reset after the candidate product when the cell has that product's bias. */
+function formOf(candidateBias: Tensor | null): GruForm {
+  return candidateBias === null ? 'resetBefore' : 'resetAfter';
+}
+
+/** The step kernels' argument records, made once and refilled before each call (the calls are synchronous). */
+const records = {
+  product: productShape(0, 0, 0),
+  at: { rows: 0, hidden: 0, lengths: null, step: 0 } as StepAt,
+  out: { h: noTensor.data, gates: noTensor.data } as GruStepOut,
+  inputs: { projected: noTensor.data, projectedOffset: 0, candidate: noTensor.data, hPrevious: noTensor.data } as GruFinishInputs,
+  gradients: { updateReset: noTensor.data, candidate: noTensor.data, product: noTensor.data, hPrevious: null } as GruStepGradients,
+  saved: { gates: noTensor.data, candidate: noTensor.data, hPrevious: noTensor.data } as GruSaved,
 };

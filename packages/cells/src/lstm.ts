@@ -15,6 +15,8 @@ import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import { PlanCell } from './plan-cell.js';
 import { lstmPlan } from './plans/lstm.js';
 import { projectInputs, runSteps } from './recurrence.js';
+import { productShape, refill, refillStep } from '@weft/core/kernels';
+import type { LstmArriving, LstmSaved, LstmState, LstmStepGradients, LstmStepOut, StepAt } from '@weft/core/kernels';
 import type { CommonCellOptions } from './recurrence.js';
 
 export interface LstmOptions extends CommonCellOptions {
@@ -75,11 +77,18 @@ export class LstmCell extends PlanCell implements FusedSequence {
     const gates = tape.buffer(this.dtype, rows * width);
     tape.kernels.copyAt(gates, 0, projected.data, step * rows * width, rows * width);
     // a = (x·W + b) + h₋·R
-    tape.kernels.matmul(gates, hPrevious.data, this.recurrent.data, rows, hidden, width, false, false, true);
+    tape.kernels.matmulInto(gates, hPrevious.data, this.recurrent.data, refill(records.product, rows, hidden, width));
     const h = tape.output([rows, hidden], this.dtype, tracked);
     const c = tape.output([rows, hidden], this.dtype, tracked);
     const tanhCell = tape.buffer(this.dtype, rows * hidden);
-    tape.kernels.lstmStepForward(h.data, c.data, gates, tanhCell, hPrevious.data, cPrevious.data, this.peephole?.data ?? null, rows, hidden, lengths, step);
+    const { out, previous } = records;
+    out.h = h.data;
+    out.c = c.data;
+    out.gates = gates;
+    out.tanhCell = tanhCell;
+    previous.h = hPrevious.data;
+    previous.c = cPrevious.data;
+    tape.kernels.lstmStepForward(out, previous, this.peephole?.data ?? null, refillStep(records.at, rows, hidden, lengths, step));
     const saved = tape.record(lstmStepKind, h, c);
     if (saved !== null) {
       saved.projected = projected;
@@ -134,26 +143,33 @@ const lstmStepKind: OperationKind<LstmStepSaved> = {
     const width = 4 * hidden;
     const gateGradient = tape.buffer(h.dtype, rows * width);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    tape.kernels.lstmStepBackward(
-      gateGradient,
-      hPreviousGradient,
-      cPrevious.tracked ? tape.gradientOf(cPrevious) : null,
-      peephole?.tracked ? tape.gradientOf(peephole) : null,
-      h.gradient,
-      c.gradient,
-      gates,
-      tanhCell,
-      cPrevious.data,
-      c.data,
-      peephole === null ? null : peephole.data,
-      rows,
-      hidden,
-      lengths,
-      step,
-    );
+    const { gradients, arriving, saved: read } = records;
+    gradients.gates = gateGradient;
+    gradients.hPrevious = hPreviousGradient;
+    gradients.cPrevious = cPrevious.tracked ? tape.gradientOf(cPrevious) : null;
+    gradients.peephole = peephole?.tracked ? tape.gradientOf(peephole) : null;
+    arriving.h = h.gradient;
+    arriving.c = c.gradient;
+    read.gates = gates;
+    read.tanhCell = tanhCell;
+    read.cPrevious = cPrevious.data;
+    read.c = c.data;
+    read.peephole = peephole === null ? null : peephole.data;
+    tape.kernels.lstmStepBackward(gradients, arriving, read, refillStep(records.at, rows, hidden, lengths, step));
     if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * width, gateGradient, 0, rows * width);
     // δh₋ += δa · Rᵀ and δR += h₋ᵀ · δa.
-    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, gateGradient, recurrent.data, rows, width, hidden, false, true, true);
-    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, gateGradient, hidden, rows, width, true, false, true);
+    if (hPreviousGradient !== null) tape.kernels.matmulInto(hPreviousGradient, gateGradient, recurrent.data, refill(records.product, rows, width, hidden, 'b'));
+    if (recurrent.tracked) tape.kernels.matmulInto(tape.gradientOf(recurrent), hPrevious.data, gateGradient, refill(records.product, hidden, rows, width, 'a'));
   },
+};
+
+/** The step kernels' argument records, made once and refilled before each call (the calls are synchronous). */
+const records = {
+  product: productShape(0, 0, 0),
+  at: { rows: 0, hidden: 0, lengths: null, step: 0 } as StepAt,
+  out: { h: noTensor.data, c: noTensor.data, gates: noTensor.data, tanhCell: noTensor.data } as LstmStepOut,
+  previous: { h: noTensor.data, c: noTensor.data } as LstmState,
+  gradients: { gates: noTensor.data, hPrevious: null, cPrevious: null, peephole: null } as LstmStepGradients,
+  arriving: { h: null, c: null } as LstmArriving,
+  saved: { gates: noTensor.data, tanhCell: noTensor.data, cPrevious: noTensor.data, c: noTensor.data, peephole: null } as LstmSaved,
 };

@@ -12,10 +12,12 @@ import { fillIdentity, fillOrthogonal, fillUniform, glorotBound } from './init.j
 import { PlanCell } from './plan-cell.js';
 import { plainPlan } from './plans/plain.js';
 import { projectInputs, runSteps } from './recurrence.js';
+import { productShape, refill, refillStep } from '@weft/core/kernels';
+import type { PlainStepGradients, StepActivation, StepAt } from '@weft/core/kernels';
 import type { CommonCellOptions } from './recurrence.js';
 
 /** The nonlinearity of a plain recurrent cell. */
-export type PlainActivation = 'tanh' | 'relu';
+export type PlainActivation = StepActivation;
 
 export interface PlainOptions extends CommonCellOptions {
   /** `tanh` (default) or `relu`. */
@@ -67,14 +69,14 @@ export class PlainCell extends PlanCell implements FusedSequence {
     const tracked = projected.tracked || hPrevious.tracked || this.recurrent.tracked;
     const h = tape.output([rows, hidden], this.dtype, tracked);
     tape.kernels.copyAt(h.data, 0, projected.data, step * rows * hidden, rows * hidden);
-    tape.kernels.matmul(h.data, hPrevious.data, this.recurrent.data, rows, hidden, hidden, false, false, true);
-    tape.kernels.plainStepForward(h.data, hPrevious.data, this.activation === 'relu', rows, hidden, lengths, step);
+    tape.kernels.matmulInto(h.data, hPrevious.data, this.recurrent.data, refill(records.product, rows, hidden, hidden));
+    tape.kernels.plainStepForward(h.data, hPrevious.data, this.activation, refillStep(records.at, rows, hidden, lengths, step));
     const saved = tape.record(plainStepKind, h);
     if (saved !== null) {
       saved.projected = projected;
       saved.hPrevious = hPrevious;
       saved.recurrent = this.recurrent;
-      saved.relu = this.activation === 'relu';
+      saved.activation = this.activation;
       saved.lengths = lengths;
       saved.step = step;
     }
@@ -88,25 +90,35 @@ interface PlainStepSaved {
   projected: Tensor;
   hPrevious: Tensor;
   recurrent: Tensor;
-  /** ReLU rather than tanh. */
-  relu: boolean;
+  /** φ: tanh or ReLU. */
+  activation: PlainActivation;
   lengths: Int32Array | null;
   step: number;
 }
 
 const plainStepKind: OperationKind<PlainStepSaved> = {
   name: 'plainStep',
-  saves: () => ({ projected: noTensor, hPrevious: noTensor, recurrent: noTensor, relu: false, lengths: null, step: 0 }),
+  saves: () => ({ projected: noTensor, hPrevious: noTensor, recurrent: noTensor, activation: 'tanh', lengths: null, step: 0 }),
   backward(node, tape): void {
-    const { projected, hPrevious, recurrent, relu, lengths, step } = node.saved;
+    const { projected, hPrevious, recurrent, activation, lengths, step } = node.saved;
     const h = node.output;
     const rows = hPrevious.shape[0];
     const hidden = h.shape[1];
     const preGradient = tape.buffer(h.dtype, rows * hidden);
     const hPreviousGradient = hPrevious.tracked ? tape.gradientOf(hPrevious) : null;
-    tape.kernels.plainStepBackward(preGradient, hPreviousGradient, h.gradient!, h.data, relu, rows, hidden, lengths, step);
+    const gradients = records.gradients;
+    gradients.pre = preGradient;
+    gradients.hPrevious = hPreviousGradient;
+    tape.kernels.plainStepBackward(gradients, h.gradient!, h.data, activation, refillStep(records.at, rows, hidden, lengths, step));
     if (projected.tracked) tape.kernels.addAt(tape.gradientOf(projected), step * rows * hidden, preGradient, 0, rows * hidden);
-    if (hPreviousGradient !== null) tape.kernels.matmul(hPreviousGradient, preGradient, recurrent.data, rows, hidden, hidden, false, true, true);
-    if (recurrent.tracked) tape.kernels.matmul(tape.gradientOf(recurrent), hPrevious.data, preGradient, hidden, rows, hidden, true, false, true);
+    if (hPreviousGradient !== null) tape.kernels.matmulInto(hPreviousGradient, preGradient, recurrent.data, refill(records.product, rows, hidden, hidden, 'b'));
+    if (recurrent.tracked) tape.kernels.matmulInto(tape.gradientOf(recurrent), hPrevious.data, preGradient, refill(records.product, hidden, rows, hidden, 'a'));
   },
+};
+
+/** The step kernels' argument records, made once and refilled before each call (the calls are synchronous). */
+const records = {
+  product: productShape(0, 0, 0),
+  at: { rows: 0, hidden: 0, lengths: null, step: 0 } as StepAt,
+  gradients: { pre: noTensor.data, hPrevious: null } as PlainStepGradients,
 };

@@ -76,12 +76,13 @@ describe('the gradient check of the built-in cells at larger sizes, and of delib
     const { checkCell } = await import('../src/check.js');
     const { javascriptBackend } = await import('@weft/core');
     const make = await cells();
-    // Test-only mutations: one gradient the kernel writes, scaled by 1.001 after it runs.
+    // Test-only mutations: one gradient the kernel writes (a field of its output record), scaled by 1.001 after it runs.
+    const writes: Record<string, string> = { lstmStepBackward: 'gates', gruBackwardCandidate: 'updateReset', plainStepBackward: 'pre' };
     const skewed = (kernel: string) => {
       const original = (javascriptBackend.kernels as unknown as Record<string, (...args: unknown[]) => void>)[kernel];
       const wrong = (...args: unknown[]) => {
         original(...args);
-        const written = args[0] as Float64Array;
+        const written = (args[0] as Record<string, Float64Array>)[writes[kernel]];
         for (let i = 0; i < written.length; i++) written[i] *= 1.001;
       };
       return { ...javascriptBackend, kernels: { ...javascriptBackend.kernels, [kernel]: wrong } };

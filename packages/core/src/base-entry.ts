@@ -14,3 +14,7 @@ export { logistic } from './kernels/logistic.js';
 // The seeded generator, for sampling from a runtime (generateTokens, sample) with no training module loaded.
 export { Random } from './random.js';
 export type { DType, FloatArray } from './dtype.js';
+// The kernels' argument records (types) and the product record's makers, for the runtime's calls of its kernels.
+export type { ProductShape, ProductSizes, Transposed } from './kernels/shapes.js';
+export { productShape, refill } from './kernels/shapes.js';
+export type { GruWeights, GruWork, LayerStepAt, LstmState, LstmWeights, LstmWork, PlainWeights, StepActivation, StepAt } from './kernels/step-records.js';

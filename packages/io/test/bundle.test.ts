@@ -1,7 +1,8 @@
 /**
  * The runtime entries stay small: bundled with esbuild (minified, ESM, for the browser) and gzipped,
- * `@weft/io/runtime` (WebAssembly SIMD forward kernels included) is at most 23.5 KiB and `@weft/io/runtime/javascript`
- * (no WebAssembly) at most 14.5 KiB; `@weft/io/runtime/encoder-decoder` (beam search, attention, WebAssembly) at
+ * `@weft/io/runtime` (WebAssembly SIMD forward kernels included) is at most 24,960 bytes and `@weft/io/runtime/javascript`
+ * (no WebAssembly) at most 15,616 (23.5 and 14.5 KiB until the kernels took named argument records, whose field names
+ * a minifier keeps: about 2.2 KB minified, 0.9 KB gzipped); `@weft/io/runtime/encoder-decoder` (beam search, attention, WebAssembly) at
  * most 27.5 KiB (26 KiB before its decodings ran a bidirectional encoder through buffers made once, whole-run.ts), a
  * budget of its own so the streaming entries do not carry it. Each budget grew by 2–2.5 KiB (from
  * 20,736, 12,288 and 24,576) when the runtime began to run any cell through its step plan (cells/src/plans: the
@@ -75,27 +76,27 @@ const absent = ['reverseSweep', 'gradientOf', 'firstMoment', 'batchesPerEpoch', 
 const wasmMagic = 'AGFzbQ';
 
 describe('the runtime bundles', () => {
-  it('with WebAssembly: at most 24,064 bytes gzipped (the SHA-256 fallback in a lazy chunk), carrying no tape, optimiser, trainer or training kernels', async () => {
+  it('with WebAssembly: at most 24,960 bytes gzipped (the SHA-256 fallback in a lazy chunk), carrying no tape, optimiser, trainer or training kernels', async () => {
     const bundle = await runtimeBundle('index.js');
     const { text, gzipBytes } = bundle;
     console.log(
       `runtime bundle (webassembly + javascript): ${text.length} bytes minified, ${gzipBytes} gzipped; lazy chunks ${bundle.lazy.map((c) => `${c.name} ${c.gzipBytes}`).join(', ')} gzipped`,
     );
     expectLazySha256(bundle);
-    expect(gzipBytes).toBeLessThanOrEqual(24_064);
+    expect(gzipBytes).toBeLessThanOrEqual(24_960);
     expect(absent.filter((word) => text.includes(word))).toEqual([]);
     expect(text.includes('weft-weights')).toBe(true);
     expect(text.split(wasmMagic).length - 1).toBe(1);
   });
 
-  it('for JavaScript alone: at most 14,848 bytes gzipped (the SHA-256 fallback in a lazy chunk), with no WebAssembly module in it', async () => {
+  it('for JavaScript alone: at most 15,616 bytes gzipped (the SHA-256 fallback in a lazy chunk), with no WebAssembly module in it', async () => {
     const bundle = await runtimeBundle('javascript.js');
     const { text, gzipBytes } = bundle;
     console.log(
       `runtime bundle (javascript only): ${text.length} bytes minified, ${gzipBytes} gzipped; lazy chunks ${bundle.lazy.map((c) => `${c.name} ${c.gzipBytes}`).join(', ')} gzipped`,
     );
     expectLazySha256(bundle);
-    expect(gzipBytes).toBeLessThanOrEqual(14_848);
+    expect(gzipBytes).toBeLessThanOrEqual(15_616);
     expect(absent.filter((word) => text.includes(word))).toEqual([]);
     expect(text.includes(wasmMagic)).toBe(false);
     expect(text.includes('weft-weights')).toBe(true);

@@ -8,7 +8,11 @@
  *   θ ← θ − η_t(α·m̂ / (√v̂ + ε) + λθ)
  */
 import type { FloatArray, KernelTable } from '@weft/core';
+import type { AdamBuffers, AdamConstants } from '@weft/core/kernels';
 import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
+
+/** A placeholder for the update records' arrays until the first update fills them. */
+const noValues = new Float32Array(0);
 
 /** Options of Adam. */
 export interface AdamOptions {
@@ -50,22 +54,26 @@ export class AdamRule extends UpdateRule {
     this.decoupledDecay = checkRate(options.decoupledDecay ?? 0, 'adam.decoupledDecay', true);
   }
 
+  /** The update's argument records, made once and refilled per parameter. */
+  private readonly buffers: AdamBuffers = { values: noValues, gradient: noValues, firstMoment: noValues, secondMoment: noValues };
+  private readonly constants: AdamConstants = { beta1: 0, beta2: 0, correction1: 1, correction2: 1, rate: 0, decay: 0, kappa: 0, epsilon: 0 };
+
   protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number, kernels: KernelTable): void {
     const t = this.steps;
-    kernels.adamUpdate(
-      values,
-      gradient,
-      this.slot('firstMoment', index),
-      this.slot('secondMoment', index),
-      values.length,
-      this.beta1,
-      this.beta2,
-      1 - this.beta1 ** t,
-      1 - this.beta2 ** t,
-      this.rate * multiplier,
-      this.decoupledDecay * multiplier,
-      this.l2Penalty,
-      this.epsilon,
-    );
+    const buffers = this.buffers;
+    buffers.values = values;
+    buffers.gradient = gradient;
+    buffers.firstMoment = this.slot('firstMoment', index);
+    buffers.secondMoment = this.slot('secondMoment', index);
+    const constants = this.constants;
+    constants.beta1 = this.beta1;
+    constants.beta2 = this.beta2;
+    constants.correction1 = 1 - this.beta1 ** t;
+    constants.correction2 = 1 - this.beta2 ** t;
+    constants.rate = this.rate * multiplier;
+    constants.decay = this.decoupledDecay * multiplier;
+    constants.kappa = this.l2Penalty;
+    constants.epsilon = this.epsilon;
+    kernels.adamUpdate(buffers, values.length, constants);
   }
 }

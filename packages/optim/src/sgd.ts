@@ -6,7 +6,11 @@
  * where λ is the decoupled weight decay (Loshchilov & Hutter 2019). With μ = 0 it is plain SGD.
  */
 import type { FloatArray, KernelTable } from '@weft/core';
+import type { MomentumBuffers, MomentumConstants } from '@weft/core/kernels';
 import { UpdateRule, checkFactor, checkRate } from './update-rule.js';
+
+/** A placeholder for the update records' arrays until the first update fills them. */
+const noValues = new Float32Array(0);
 
 /** Options of stochastic gradient descent. */
 export interface SgdOptions {
@@ -43,17 +47,21 @@ export class SgdRule extends UpdateRule {
     this.decoupledDecay = checkRate(options.decoupledDecay ?? 0, 'sgd.decoupledDecay', true);
   }
 
+  /** The update's argument records, made once and refilled per parameter. */
+  private readonly buffers: MomentumBuffers = { values: noValues, gradient: noValues, velocity: noValues };
+  private readonly constants: MomentumConstants = { rate: 0, decay: 0, mu: 0, kappa: 0 };
+
   protected apply(index: number, values: FloatArray, gradient: FloatArray, multiplier: number, kernels: KernelTable): void {
-    kernels.sgdUpdate(
-      values,
-      gradient,
-      this.slot('velocity', index),
-      values.length,
-      this.rate * multiplier,
-      this.decoupledDecay * multiplier,
-      this.momentum,
-      this.l2Penalty,
-      this.nesterov,
-    );
+    const buffers = this.buffers;
+    buffers.values = values;
+    buffers.gradient = gradient;
+    buffers.velocity = this.slot('velocity', index);
+    const constants = this.constants;
+    constants.rate = this.rate * multiplier;
+    constants.decay = this.decoupledDecay * multiplier;
+    constants.mu = this.momentum;
+    constants.kappa = this.l2Penalty;
+    if (this.nesterov) kernels.nesterovUpdate(buffers, values.length, constants);
+    else kernels.sgdUpdate(buffers, values.length, constants);
   }
 }

@@ -5,10 +5,11 @@
  * whole-layer kernel call per step (a streaming step crosses into WebAssembly once per layer), which computes the
  * same equations as their plans (the runtime tests compare both with the training model).
  */
-import { logistic } from '@weft/core/base';
+import { logistic, productShape, refill } from '@weft/core/base';
 import type { ForwardKernels } from '@weft/core/forward/javascript';
 import type { CellPlan, CellShape, StepProgram } from './plan.js';
 import { traceStep } from './trace.js';
+import type { GruWeights, GruWork, LayerStepAt, LstmState, LstmWeights, LstmWork, PlainWeights, ProductShape } from '@weft/core/base';
 
 /** A tensor of the weight file in the runtime backend's memory; `matrix` lays a product's weights out for its kernels. */
 export type Weights = (name: string, shape: readonly number[], matrix?: boolean) => Float32Array;
@@ -52,6 +53,11 @@ function wholeLayerCell(kind: 'lstm' | 'gru' | 'plain', shape: CellShape, prefix
     const bias = weights(`${prefix}.bias`, [4 * hidden]);
     const peephole = layer.peepholes === true ? weights(`${prefix}.peephole`, [3 * hidden]) : null;
     const lstmLayerStep = kernels.lstmLayerStep;
+    // The kernel's argument records, made once for the layer and refilled from the batch's buffers per step.
+    const matrices: LstmWeights = { input, recurrent, bias, peephole };
+    const state: LstmState = { h: input, c: input };
+    const work: LstmWork = { gates: input, tanhCell: input };
+    const at = layerPlace(inputWidth, hidden);
     return {
       hidden,
       inputWidth,
@@ -62,9 +68,11 @@ function wholeLayerCell(kind: 'lstm' | 'gru' | 'plain', shape: CellShape, prefix
       }),
       step(x, buffers, rows, lengths, step) {
         // Indexing, not destructuring: this runs once per layer and step.
-        const state = buffers.state;
-        const work = buffers.work;
-        lstmLayerStep(x, input, recurrent, bias, peephole, state[0], state[1], work[0], work[1], rows, inputWidth, hidden, lengths, step);
+        state.h = buffers.state[0];
+        state.c = buffers.state[1];
+        work.gates = buffers.work[0];
+        work.tanhCell = buffers.work[1];
+        lstmLayerStep(state, x, matrices, work, refillLayerStep(at, rows, lengths, step));
       },
     };
   }
@@ -75,6 +83,9 @@ function wholeLayerCell(kind: 'lstm' | 'gru' | 'plain', shape: CellShape, prefix
     const candidateWeights = weights(`${prefix}.recurrentCandidate`, [hidden, hidden], true);
     const candidateBias = layer.resetAfterProduct === true ? weights(`${prefix}.recurrentCandidateBias`, [hidden]) : null;
     const gruLayerStep = kernels.gruLayerStep;
+    const matrices: GruWeights = { input, bias, recurrent, candidate: candidateWeights, candidateBias };
+    const work: GruWork = { projected: input, gates: input, updateReset: input, candidate: input, resetHidden: input };
+    const at = layerPlace(inputWidth, hidden);
     return {
       hidden,
       inputWidth,
@@ -84,43 +95,45 @@ function wholeLayerCell(kind: 'lstm' | 'gru' | 'plain', shape: CellShape, prefix
         work: [allocate(rows * 3 * hidden), allocate(rows * 3 * hidden), allocate(rows * 2 * hidden), allocate(rows * hidden), allocate(rows * hidden)],
       }),
       step(x, buffers, rows, lengths, step) {
-        const work = buffers.work;
-        gruLayerStep(
-          x,
-          input,
-          bias,
-          recurrent,
-          candidateWeights,
-          candidateBias,
-          buffers.state[0],
-          work[0],
-          work[1],
-          work[2],
-          work[3],
-          work[4],
-          rows,
-          inputWidth,
-          hidden,
-          lengths,
-          step,
-        );
+        const buffer = buffers.work;
+        work.projected = buffer[0];
+        work.gates = buffer[1];
+        work.updateReset = buffer[2];
+        work.candidate = buffer[3];
+        work.resetHidden = buffer[4];
+        gruLayerStep(buffers.state[0], x, matrices, work, refillLayerStep(at, rows, lengths, step));
       },
     };
   }
   const input = weights(`${prefix}.input`, [inputWidth, hidden], true);
   const recurrent = weights(`${prefix}.recurrent`, [hidden, hidden], true);
   const bias = weights(`${prefix}.bias`, [hidden]);
-  const rectified = layer.activation === 'relu';
+  const activation = layer.activation === 'relu' ? 'relu' : 'tanh';
   const plainLayerStep = kernels.plainLayerStep;
+  const matrices: PlainWeights = { input, recurrent, bias };
+  const at = layerPlace(inputWidth, hidden);
   return {
     hidden,
     inputWidth,
     slotWidths: [hidden],
     buffers: (rows, allocate) => ({ state: [allocate(rows * hidden)], work: [allocate(rows * hidden)] }),
     step(x, buffers, rows, lengths, step) {
-      plainLayerStep(x, input, recurrent, bias, buffers.state[0], buffers.work[0], rectified, rows, inputWidth, hidden, lengths, step);
+      plainLayerStep(buffers.state[0], x, matrices, buffers.work[0], activation, refillLayerStep(at, rows, lengths, step));
     },
   };
+}
+
+/** A whole-layer step's place record for a layer of these widths (rows, lengths and step are refilled per step). */
+function layerPlace(inputWidth: number, hidden: number): LayerStepAt {
+  return { rows: 0, inputWidth, hidden, lengths: null, step: 0 };
+}
+
+/** Refills a layer's place record for one step and returns it. */
+function refillLayerStep(at: LayerStepAt, rows: number, lengths: Int32Array | null, step: number): LayerStepAt {
+  at.rows = rows;
+  at.lengths = lengths;
+  at.step = step;
+  return at;
 }
 
 /** A traced program laid out once for the runtime: where each value lives, its width, and each product's matrix. */
@@ -147,6 +160,8 @@ interface ProgramLayout {
   readonly widestProduct: number;
   /** The runtime's kernels. */
   readonly kernels: ForwardKernels;
+  /** The products' size record, refilled per product. */
+  readonly product: ProductShape;
 }
 
 const SOURCE_INPUT = 0;
@@ -184,6 +199,7 @@ function programLayout(program: StepProgram, prefix: string, weights: Weights, k
     slotWidths: program.state.map((s) => s.width),
     widestProduct: Math.max(1, ...instructions.map((i) => (i.operation === 'product' ? widths[i.out] : 0))),
     kernels,
+    product: productShape(0, 0, 0),
   };
 }
 
@@ -227,7 +243,7 @@ function runInstruction(layout: ProgramLayout, k: number, x: Float32Array, buffe
   const n = (rowValue[instruction.out] === 1 ? 1 : rows) * width;
   switch (instruction.operation) {
     case 'product':
-      layout.kernels.affineRows(out, work[work.length - 1], a, layout.matrices[k] as Float32Array, rows, widths[instruction.a], width);
+      layout.kernels.affineRows(out, a, layout.matrices[k] as Float32Array, work[work.length - 1], refill(layout.product, rows, widths[instruction.a], width));
       break;
     case 'add':
     case 'subtract':

@@ -39,7 +39,8 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
   // The byte offset of each array, or −1 when it is not this memory's (memory.offsetOf says why not `byteOffset`).
   const { at, pointer: atOrZero } = addressing(memory);
   const kernels: ForwardKernels = {
-    affineRows: (out, bias, xs, weights, rows, inner, cols) => {
+    affineRows: (out, xs, weights, bias, sizes) => {
+      const { rows, inner, cols } = sizes;
       const o = at(out),
         b = at(bias),
         p = at(xs),
@@ -48,111 +49,50 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
       x.affineRows(o, b, p, w, rows, inner, cols, rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32));
       return out;
     },
-    lstmLayerStep: (xs, input, recurrent, bias, peephole, hState, cell, gates, tanhCell, rows, inputWidth, hidden, rowLengths, step) => {
+    lstmLayerStep: (state, xs, weights, work, place) => {
+      const { rows, inputWidth, hidden, step } = place;
       const p = at(xs),
-        w = at(input),
-        r = at(recurrent),
-        b = at(bias),
-        e = atOrZero(peephole),
-        h = at(hState),
-        c = at(cell),
-        g = at(gates),
-        t = at(tanhCell);
+        w = at(weights.input),
+        r = at(weights.recurrent),
+        b = at(weights.bias),
+        e = atOrZero(weights.peephole),
+        h = at(state.h),
+        c = at(state.c),
+        g = at(work.gates),
+        t = at(work.tanhCell);
       if (p < 0 || w < 0 || r < 0 || b < 0 || e < 0 || h < 0 || c < 0 || g < 0 || t < 0) foreign('lstmLayerStep');
-      x.lstmLayerStep(
-        p,
-        w,
-        r,
-        b,
-        e,
-        h,
-        c,
-        g,
-        t,
-        rows,
-        inputWidth,
-        hidden,
-        lengths(rowLengths, rows),
-        step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32),
-      );
+      const panels = rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((4 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32);
+      x.lstmLayerStep(p, w, r, b, e, h, c, g, t, rows, inputWidth, hidden, lengths(place.lengths, rows), step, panels);
     },
-    gruLayerStep: (
-      xs,
-      input,
-      bias,
-      recurrent,
-      candidateWeights,
-      candidateBias,
-      hState,
-      projected,
-      gates,
-      updateReset,
-      candidate,
-      resetHidden,
-      rows,
-      inputWidth,
-      hidden,
-      rowLengths,
-      step,
-    ) => {
+    gruLayerStep: (hState, xs, weights, work, place) => {
+      const { rows, inputWidth, hidden, step } = place;
       const p = at(xs),
-        w = at(input),
-        b = at(bias),
-        r = at(recurrent),
-        cw = at(candidateWeights),
-        cb = atOrZero(candidateBias),
+        w = at(weights.input),
+        b = at(weights.bias),
+        r = at(weights.recurrent),
+        cw = at(weights.candidate),
+        cb = atOrZero(weights.candidateBias),
         h = at(hState);
-      const j = at(projected),
-        g = at(gates),
-        u = at(updateReset),
-        c = at(candidate),
-        rh = at(resetHidden);
+      const j = at(work.projected),
+        g = at(work.gates),
+        u = at(work.updateReset),
+        c = at(work.candidate),
+        rh = at(work.resetHidden);
       if (p < 0 || w < 0 || b < 0 || r < 0 || cw < 0 || cb < 0 || h < 0 || j < 0 || g < 0 || u < 0 || c < 0 || rh < 0) foreign('gruLayerStep');
-      x.gruLayerStep(
-        p,
-        w,
-        b,
-        r,
-        cw,
-        cb,
-        h,
-        j,
-        g,
-        u,
-        c,
-        rh,
-        rows,
-        inputWidth,
-        hidden,
-        lengths(rowLengths, rows),
-        step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32),
-      );
+      const panels = rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil((3 * hidden) / 8) * 8) * Math.max(inputWidth, hidden) + 32);
+      x.gruLayerStep(p, w, b, r, cw, cb, h, j, g, u, c, rh, rows, inputWidth, hidden, lengths(place.lengths, rows), step, panels);
     },
-    plainLayerStep: (xs, input, recurrent, bias, hState, pre, rectified, rows, inputWidth, hidden, rowLengths, step) => {
+    plainLayerStep: (hState, xs, weights, pre, activation, place) => {
+      const { rows, inputWidth, hidden, step } = place;
       const p = at(xs),
-        w = at(input),
-        r = at(recurrent),
-        b = at(bias),
+        w = at(weights.input),
+        r = at(weights.recurrent),
+        b = at(weights.bias),
         h = at(hState),
         q = at(pre);
       if (p < 0 || w < 0 || r < 0 || b < 0 || h < 0 || q < 0) foreign('plainLayerStep');
-      x.plainLayerStep(
-        p,
-        w,
-        r,
-        b,
-        h,
-        q,
-        +rectified,
-        rows,
-        inputWidth,
-        hidden,
-        lengths(rowLengths, rows),
-        step,
-        rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(hidden / 8) * 8) * Math.max(inputWidth, hidden) + 32),
-      );
+      const panels = rows < 4 ? 0 : scratch((Math.ceil(rows / 4) * 4 + Math.ceil(hidden / 8) * 8) * Math.max(inputWidth, hidden) + 32);
+      x.plainLayerStep(p, w, r, b, h, q, +(activation === 'relu'), rows, inputWidth, hidden, lengths(place.lengths, rows), step, panels);
     },
   };
   return Object.freeze({

@@ -4,18 +4,22 @@
  * the table of the backend they were given, never by importing a kernel module.
  *
  * Adding a kernel (both backends, DESIGN "Numbers"):
- *   1. write the JavaScript kernel in core/src/kernels/ (out-first, explicit sizes, aliasing stated) and add its
- *      name to KERNEL_NAMES below; the JavaScript table picks it up;
+ *   1. write the JavaScript kernel in core/src/kernels/ (out-first; at most six parameters, grouped into argument
+ *      records a caller makes once and refills (shapes.ts, step-records.ts); separate named kernels, not boolean
+ *      flags; its comment says which outputs may alias which inputs) and add its name to KERNEL_NAMES below; the
+ *      JavaScript table picks it up;
  *   2. if it is hot, write its twin in core/wasm/ (AssemblyScript, byte offsets, same argument order), export it
  *      from core/wasm/training.ts (and runtime.ts if inference needs it), and wrap it in backend/webassembly.ts;
  *      otherwise the WebAssembly table uses the JavaScript kernel on its own memory, which is correct, just slower;
- *   3. add the pair to test/backend/agreement.test.ts (twin against kernel, f32, |a−b| ≤ 1e-5·max(1, |a|, |b|)).
+ *   3. add the pair to test/backend/webassembly.test.ts (twin against kernel, f32, |a−b| ≤ 1e-5·max(1, |a|, |b|)),
+ *      and its aliasing statement to test/backend/aliasing.test.ts (proved on both backends).
  */
 import * as javascript from '../kernels/index.js';
 
 /** The names in every kernel table. */
 export const KERNEL_NAMES = [
   'matmul',
+  'matmulInto',
   'add',
   'subtract',
   'multiply',
@@ -25,6 +29,7 @@ export const KERNEL_NAMES = [
   'multiplyInto',
   'addRow',
   'sumRows',
+  'sumRowsInto',
   'copyAt',
   'addAt',
   'sigmoid',
@@ -53,6 +58,7 @@ export const KERNEL_NAMES = [
   'plainStepBackward',
   'adamUpdate',
   'sgdUpdate',
+  'nesterovUpdate',
 ] as const;
 
 /** The name of a kernel in every backend's table. */

@@ -26,17 +26,18 @@ export function simdStepKernels(x: ModuleExports, memory: LinearMemory, workspac
   const js = javascriptKernels;
   const { mine, mineOrNull, at, pointer } = addressing(memory);
   return {
-    lstmStepForward: (hState, cell, gates, tanhCell, hPrevious, cellPrevious, peephole, rows, hidden, lengths, step) => {
-      if (!(mine(hState) && mine(cell) && mine(gates) && mine(tanhCell) && mine(hPrevious) && mine(cellPrevious) && mineOrNull(peephole))) {
-        return js.lstmStepForward(hState, cell, gates, tanhCell, hPrevious, cellPrevious, peephole, rows, hidden, lengths, step);
+    lstmStepForward: (out, previous, peephole, place) => {
+      if (!(mine(out.h) && mine(out.c) && mine(out.gates) && mine(out.tanhCell) && mine(previous.h) && mine(previous.c) && mineOrNull(peephole))) {
+        return js.lstmStepForward(out, previous, peephole, place);
       }
+      const { rows, hidden, lengths, step } = place;
       x.lstmStepForward(
-        at(hState),
-        at(cell),
-        at(gates),
-        at(tanhCell),
-        at(hPrevious),
-        at(cellPrevious),
+        at(out.h),
+        at(out.c),
+        at(out.gates),
+        at(out.tanhCell),
+        at(previous.h),
+        at(previous.c),
         pointer(peephole),
         rows,
         hidden,
@@ -44,68 +45,33 @@ export function simdStepKernels(x: ModuleExports, memory: LinearMemory, workspac
         step,
       );
     },
-    lstmStepBackward: (
-      gateGradient,
-      hiddenPreviousGradient,
-      cellPreviousGradient,
-      peepholeGradient,
-      hiddenGradient,
-      cellGradient,
-      gates,
-      tanhCell,
-      cellPrevious,
-      cell,
-      peephole,
-      rows,
-      hidden,
-      lengths,
-      step,
-    ) => {
-      if (
-        !(
-          mine(gateGradient) &&
-          mineOrNull(hiddenPreviousGradient) &&
-          mineOrNull(cellPreviousGradient) &&
-          mineOrNull(peepholeGradient) &&
-          mineOrNull(hiddenGradient) &&
-          mineOrNull(cellGradient) &&
-          mine(gates) &&
-          mine(tanhCell) &&
-          mine(cellPrevious) &&
-          mine(cell) &&
-          mineOrNull(peephole)
-        )
-      ) {
-        return js.lstmStepBackward(
-          gateGradient,
-          hiddenPreviousGradient,
-          cellPreviousGradient,
-          peepholeGradient,
-          hiddenGradient,
-          cellGradient,
-          gates,
-          tanhCell,
-          cellPrevious,
-          cell,
-          peephole,
-          rows,
-          hidden,
-          lengths,
-          step,
-        );
-      }
+    lstmStepBackward: (out, arriving, saved, place) => {
+      const ours =
+        mine(out.gates) &&
+        mineOrNull(out.hPrevious) &&
+        mineOrNull(out.cPrevious) &&
+        mineOrNull(out.peephole) &&
+        mineOrNull(arriving.h) &&
+        mineOrNull(arriving.c) &&
+        mine(saved.gates) &&
+        mine(saved.tanhCell) &&
+        mine(saved.cPrevious) &&
+        mine(saved.c) &&
+        mineOrNull(saved.peephole);
+      if (!ours) return js.lstmStepBackward(out, arriving, saved, place);
+      const { rows, hidden, lengths, step } = place;
       x.lstmStepBackward(
-        at(gateGradient),
-        pointer(hiddenPreviousGradient),
-        pointer(cellPreviousGradient),
-        pointer(peepholeGradient),
-        pointer(hiddenGradient),
-        pointer(cellGradient),
-        at(gates),
-        at(tanhCell),
-        at(cellPrevious),
-        at(cell),
-        pointer(peephole),
+        at(out.gates),
+        pointer(out.hPrevious),
+        pointer(out.cPrevious),
+        pointer(out.peephole),
+        pointer(arriving.h),
+        pointer(arriving.c),
+        at(saved.gates),
+        at(saved.tanhCell),
+        at(saved.cPrevious),
+        at(saved.c),
+        pointer(saved.peephole),
         rows,
         hidden,
         workspace.lengths(lengths, rows),
@@ -120,113 +86,84 @@ export function simdStepKernels(x: ModuleExports, memory: LinearMemory, workspac
       if (!(mine(resetHidden) && mine(gates) && mine(hPrevious))) return js.gruResetHidden(resetHidden, gates, hPrevious, rows, hidden);
       x.gruResetHidden(at(resetHidden), at(gates), at(hPrevious), rows, hidden);
     },
-    gruStepFinish: (hState, gates, projected, projectedOffset, candidate, hPrevious, resetAfter, rows, hidden, lengths, step) => {
-      if (!(mine(hState) && mine(gates) && mine(projected) && mine(candidate) && mine(hPrevious))) {
-        return js.gruStepFinish(hState, gates, projected, projectedOffset, candidate, hPrevious, resetAfter, rows, hidden, lengths, step);
+    gruStepFinish: (out, inputs, form, place) => {
+      if (!(mine(out.h) && mine(out.gates) && mine(inputs.projected) && mine(inputs.candidate) && mine(inputs.hPrevious))) {
+        return js.gruStepFinish(out, inputs, form, place);
       }
+      const { rows, hidden, lengths, step } = place;
       x.gruStepFinish(
-        at(hState),
-        at(gates),
-        at(projected),
-        projectedOffset,
-        at(candidate),
-        at(hPrevious),
-        +resetAfter,
+        at(out.h),
+        at(out.gates),
+        at(inputs.projected),
+        inputs.projectedOffset,
+        at(inputs.candidate),
+        at(inputs.hPrevious),
+        +(form === 'resetAfter'),
         rows,
         hidden,
         workspace.lengths(lengths, rows),
         step,
       );
     },
-    gruBackwardCandidate: (
-      updateResetGradient,
-      candidateGradient,
-      productGradient,
-      hiddenPreviousGradient,
-      hiddenGradient,
-      gates,
-      candidate,
-      hPrevious,
-      resetAfter,
-      rows,
-      hidden,
-      lengths,
-      step,
-    ) => {
-      if (
-        !(
-          mine(updateResetGradient) &&
-          mine(candidateGradient) &&
-          mine(productGradient) &&
-          mineOrNull(hiddenPreviousGradient) &&
-          mine(hiddenGradient) &&
-          mine(gates) &&
-          mine(candidate) &&
-          mine(hPrevious)
-        )
-      ) {
-        return js.gruBackwardCandidate(
-          updateResetGradient,
-          candidateGradient,
-          productGradient,
-          hiddenPreviousGradient,
-          hiddenGradient,
-          gates,
-          candidate,
-          hPrevious,
-          resetAfter,
-          rows,
-          hidden,
-          lengths,
-          step,
-        );
-      }
+    gruBackwardCandidate: (out, arriving, saved, form, place) => {
+      const ours =
+        mine(out.updateReset) &&
+        mine(out.candidate) &&
+        mine(out.product) &&
+        mineOrNull(out.hPrevious) &&
+        mine(arriving) &&
+        mine(saved.gates) &&
+        mine(saved.candidate) &&
+        mine(saved.hPrevious);
+      if (!ours) return js.gruBackwardCandidate(out, arriving, saved, form, place);
+      const { rows, hidden, lengths, step } = place;
       x.gruBackwardCandidate(
-        at(updateResetGradient),
-        at(candidateGradient),
-        at(productGradient),
-        pointer(hiddenPreviousGradient),
-        at(hiddenGradient),
-        at(gates),
-        at(candidate),
-        at(hPrevious),
-        +resetAfter,
+        at(out.updateReset),
+        at(out.candidate),
+        at(out.product),
+        pointer(out.hPrevious),
+        at(arriving),
+        at(saved.gates),
+        at(saved.candidate),
+        at(saved.hPrevious),
+        +(form === 'resetAfter'),
         rows,
         hidden,
         workspace.lengths(lengths, rows),
         step,
       );
     },
-    gruBackwardReset: (updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hPrevious, rows, hidden, lengths, step) => {
-      if (!(mine(updateResetGradient) && mineOrNull(hiddenPreviousGradient) && mine(resetHiddenGradient) && mine(gates) && mine(hPrevious))) {
-        return js.gruBackwardReset(updateResetGradient, hiddenPreviousGradient, resetHiddenGradient, gates, hPrevious, rows, hidden, lengths, step);
+    gruBackwardReset: (out, resetHiddenGradient, saved, place) => {
+      if (!(mine(out.updateReset) && mineOrNull(out.hPrevious) && mine(resetHiddenGradient) && mine(saved.gates) && mine(saved.hPrevious))) {
+        return js.gruBackwardReset(out, resetHiddenGradient, saved, place);
       }
+      const { rows, hidden, lengths, step } = place;
       x.gruBackwardReset(
-        at(updateResetGradient),
-        pointer(hiddenPreviousGradient),
+        at(out.updateReset),
+        pointer(out.hPrevious),
         at(resetHiddenGradient),
-        at(gates),
-        at(hPrevious),
+        at(saved.gates),
+        at(saved.hPrevious),
         rows,
         hidden,
         workspace.lengths(lengths, rows),
         step,
       );
     },
-    plainStepForward: (hState, hPrevious, rectified, rows, hidden, lengths, step) => {
-      if (!(mine(hState) && mine(hPrevious))) return js.plainStepForward(hState, hPrevious, rectified, rows, hidden, lengths, step);
-      x.plainStepForward(at(hState), at(hPrevious), +rectified, rows, hidden, workspace.lengths(lengths, rows), step);
+    plainStepForward: (h, hPrevious, activation, place) => {
+      if (!(mine(h) && mine(hPrevious))) return js.plainStepForward(h, hPrevious, activation, place);
+      const { rows, hidden, lengths, step } = place;
+      x.plainStepForward(at(h), at(hPrevious), +(activation === 'relu'), rows, hidden, workspace.lengths(lengths, rows), step);
     },
-    plainStepBackward: (preGradient, hiddenPreviousGradient, hiddenGradient, hState, rectified, rows, hidden, lengths, step) => {
-      if (!(mine(preGradient) && mineOrNull(hiddenPreviousGradient) && mine(hiddenGradient) && mine(hState))) {
-        return js.plainStepBackward(preGradient, hiddenPreviousGradient, hiddenGradient, hState, rectified, rows, hidden, lengths, step);
-      }
+    plainStepBackward: (out, arriving, h, activation, place) => {
+      if (!(mine(out.pre) && mineOrNull(out.hPrevious) && mine(arriving) && mine(h))) return js.plainStepBackward(out, arriving, h, activation, place);
+      const { rows, hidden, lengths, step } = place;
       x.plainStepBackward(
-        at(preGradient),
-        pointer(hiddenPreviousGradient),
-        at(hiddenGradient),
-        at(hState),
-        +rectified,
+        at(out.pre),
+        pointer(out.hPrevious),
+        at(arriving),
+        at(h),
+        +(activation === 'relu'),
         rows,
         hidden,
         workspace.lengths(lengths, rows),

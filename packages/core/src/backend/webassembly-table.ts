@@ -4,18 +4,26 @@ import type { LinearMemory } from './memory.js';
 import type { KernelWorkspace, ModuleExports } from './module.js';
 import { addressing } from './module.js';
 import { simdStepKernels } from './webassembly-steps.js';
+import type { FloatArray } from '../dtype.js';
+import type { MomentumBuffers, MomentumConstants } from '../kernels/rules.js';
+import type { ProductShape } from '../kernels/shapes.js';
+import { transposesA, transposesB } from '../kernels/shapes.js';
 
 /** The kernel table over `memory`, calling the training module's exports `x` where the arrays are this memory's. */
 export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspace: KernelWorkspace): KernelTable {
   const js = javascriptKernels;
   // Arrays are found by memory.offsetOf (a recorded offset, not `byteOffset`/`buffer`: see memory.ts for why).
   const { mine, at } = addressing(memory);
-  return {
+  const table: KernelTable = {
     ...js,
-    matmul: (out, a, b, rows, inner, cols, transposeA = false, transposeB = false, accumulate = false) => {
-      if (!(mine(out) && mine(a) && mine(b))) return js.matmul(out, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
-      const scratch = rows < 4 ? 0 : workspace.scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
-      x.matmul(at(out), at(a), at(b), rows, inner, cols, +transposeA, +transposeB, +accumulate, scratch);
+    matmul: (out, a, b, shape) => {
+      if (!(mine(out) && mine(a) && mine(b))) return js.matmul(out, a, b, shape);
+      product(out, a, b, shape, 0);
+      return out;
+    },
+    matmulInto: (out, a, b, shape) => {
+      if (!(mine(out) && mine(a) && mine(b))) return js.matmulInto(out, a, b, shape);
+      product(out, a, b, shape, 1);
       return out;
     },
     add: (out, a, b, length) => {
@@ -58,9 +66,14 @@ export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspac
       x.addRow(at(out), at(a), at(row), rows, cols);
       return out;
     },
-    sumRows: (out, a, rows, cols, accumulate = false) => {
-      if (!(mine(out) && mine(a))) return js.sumRows(out, a, rows, cols, accumulate);
-      x.sumRows(at(out), at(a), rows, cols, +accumulate);
+    sumRows: (out, a, rows, cols) => {
+      if (!(mine(out) && mine(a))) return js.sumRows(out, a, rows, cols);
+      x.sumRows(at(out), at(a), rows, cols, 0);
+      return out;
+    },
+    sumRowsInto: (out, a, rows, cols) => {
+      if (!(mine(out) && mine(a))) return js.sumRowsInto(out, a, rows, cols);
+      x.sumRows(at(out), at(a), rows, cols, 1);
       return out;
     },
     sigmoid: (out, a, length) => {
@@ -89,15 +102,32 @@ export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspac
       return inputGradient;
     },
     ...simdStepKernels(x, memory, workspace),
-    adamUpdate: (values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon) => {
-      if (!(mine(values) && mine(gradient) && mine(firstMoment) && mine(secondMoment))) {
-        return js.adamUpdate(values, gradient, firstMoment, secondMoment, length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon);
-      }
+    adamUpdate: (buffers, length, constants) => {
+      const { values, gradient, firstMoment, secondMoment } = buffers;
+      if (!(mine(values) && mine(gradient) && mine(firstMoment) && mine(secondMoment))) return js.adamUpdate(buffers, length, constants);
+      const { beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon } = constants;
       x.adamUpdate(at(values), at(gradient), at(firstMoment), at(secondMoment), length, beta1, beta2, correction1, correction2, rate, decay, kappa, epsilon);
     },
-    sgdUpdate: (values, gradient, velocity, length, rate, decay, mu, kappa, nesterov) => {
-      if (!(mine(values) && mine(gradient) && mine(velocity))) return js.sgdUpdate(values, gradient, velocity, length, rate, decay, mu, kappa, nesterov);
-      x.sgdUpdate(at(values), at(gradient), at(velocity), length, rate, decay, mu, kappa, +nesterov);
-    },
+    sgdUpdate: (buffers, length, constants) => momentum(buffers, length, constants, 0),
+    nesterovUpdate: (buffers, length, constants) => momentum(buffers, length, constants, 1),
   };
+  return table;
+
+  /** The SIMD product (rows < 4 reads the right operand in place and needs no packing scratch). */
+  function product(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: number): void {
+    const { rows, inner, cols } = shape;
+    const scratch = rows < 4 ? 0 : workspace.scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
+    x.matmul(at(out), at(a), at(b), rows, inner, cols, +transposesA(shape), +transposesB(shape), accumulate, scratch);
+  }
+
+  /** Momentum SGD, heavy-ball (`nesterov` 0) or Nesterov's (1). */
+  function momentum(buffers: MomentumBuffers, length: number, constants: MomentumConstants, nesterov: number): void {
+    const { values, gradient, velocity } = buffers;
+    if (!(mine(values) && mine(gradient) && mine(velocity))) {
+      if (nesterov === 1) js.nesterovUpdate(buffers, length, constants);
+      else js.sgdUpdate(buffers, length, constants);
+      return;
+    }
+    x.sgdUpdate(at(values), at(gradient), at(velocity), length, constants.rate, constants.decay, constants.mu, constants.kappa, nesterov);
+  }
 }

@@ -1,6 +1,7 @@
 /**
- * Activation kernels and their derivative kernels, out-first over `length` elements. `out` may alias the input
- * in every forward kernel. The derivative kernels add `outputGradient · f'(·)` into `inputGradient`, expressed
+ * Activation kernels and their derivative kernels, out-first over `length` elements. Aliasing: `out` may alias
+ * the input in every forward kernel, and `inputGradient` may alias either input of a derivative kernel (each
+ * entry is read before the same entry is written). The derivative kernels add `outputGradient · f'(·)` into `inputGradient`, expressed
  * through the forward output `y` where that is the cheaper form (σ' = y(1 − y), tanh' = 1 − y²).
  */
 import type { FloatArray } from '../dtype.js';
@@ -9,6 +10,7 @@ import { logistic } from './logistic.js';
 /**
  * The logistic function, written so that no exponential overflows: for x ≥ 0 it is 1 / (1 + e^−x), for x < 0
  * it is e^x / (1 + e^x) (common practice). Saturates to exactly 0 or 1 far out instead of producing NaN.
+ * `out` may alias `a`.
  */
 export function sigmoid(out: FloatArray, a: FloatArray, length: number): FloatArray {
   for (let i = 0; i < length; i++) out[i] = logistic(a[i]);

@@ -17,8 +17,15 @@ import { logistic } from './logistic.js';
 import { holdRow, isHeld, passHeldRow } from './rows.js';
 import { matmul } from './matmul.js';
 import { addRow } from './elementwise.js';
+import type { ProductShape } from './shapes.js';
+import { refill } from './shapes.js';
+import type { GruFinishInputs, GruForm, GruSaved, GruStepGradients, GruStepOut, GruWeights, GruWork, LayerStepAt, StepAt } from './step-records.js';
 
-/** Writes z and r into columns [0, 2H) of `gates` [B, 3H] from the projection row and h₋·R_zr ([B, 2H]). */
+/**
+ * Writes z and r into columns [0, 2H) of `gates` [B, 3H] from the projection row and h₋·R_zr ([B, 2H]).
+ * Aliasing: `gates` may alias `projected` when `projectedOffset` is 0 (entry by entry); not `recurrentGates`
+ * (its rows are 2H apart, the gates' 3H).
+ */
 export function gruUpdateReset(
   gates: FloatArray,
   projected: FloatArray,
@@ -35,30 +42,25 @@ export function gruUpdateReset(
   }
 }
 
-/** resetHidden = r ⊙ h₋ (the default form's input to R_n). */
+/** resetHidden = r ⊙ h₋ (the default form's input to R_n). Aliasing: `resetHidden` may be `hPrevious` (entry by entry). */
 export function gruResetHidden(resetHidden: FloatArray, gates: FloatArray, hPrevious: FloatArray, rows: number, hidden: number): void {
   for (let b = 0; b < rows; b++) {
     for (let j = 0; j < hidden; j++) resetHidden[b * hidden + j] = gates[b * 3 * hidden + hidden + j] * hPrevious[b * hidden + j];
   }
 }
 
-/** Writes n into columns [2H, 3H) of `gates` and the new state h (h₋ for held rows). */
-export function gruStepFinish(
-  hState: FloatArray,
-  gates: FloatArray,
-  projected: FloatArray,
-  projectedOffset: number,
-  candidate: FloatArray,
-  hPrevious: FloatArray,
-  resetAfter: boolean,
-  rows: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
+/**
+ * Writes n into columns [2H, 3H) of `out.gates` and the new state out.h (h₋ for held rows).
+ * Aliasing: out.h may be inputs.hPrevious (each entry is read before it is written); nothing else may alias.
+ */
+export function gruStepFinish(out: GruStepOut, inputs: GruFinishInputs, form: GruForm, at: StepAt): void {
+  const { h: hState, gates } = out;
+  const { projected, projectedOffset, candidate, hPrevious } = inputs;
+  const { rows, hidden } = at;
+  const resetAfter = form === 'resetAfter';
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
-    if (holdRow(lengths, b, step, hState, hPrevious, row, hidden)) continue;
+    if (holdRow(at, b, hState, hPrevious)) continue;
     const gate = b * 3 * hidden;
     for (let j = 0; j < hidden; j++) {
       const z = gates[gate + j];
@@ -75,28 +77,21 @@ export function gruStepFinish(
  * First half of the reverse step. With δh arriving:
  *   δn = δh(1 − z), δa_z = δh(h₋ − n)·z(1 − z), δa_n = δn(1 − n²), δh₋ += δh·z;
  *   reset after: δq = δa_n ⊙ r, δa_r = δa_n·q·r(1 − r);   reset before: δq = δa_n (δa_r follows in gruBackwardReset).
- * Writes δa_z (and δa_r when reset after, else 0) into `updateResetGradient` [B, 2H], δa_n into
- * `candidateGradient` [B, H] and δq into `productGradient` [B, H]; held rows get zeros and pass δh to h₋.
+ * Writes δa_z (and δa_r when reset after, else 0) into `out.updateReset` [B, 2H], δa_n into `out.candidate`
+ * [B, H] and δq into `out.product` [B, H], and adds δh·z into `out.hPrevious`; held rows get zeros and pass δh
+ * to h₋. Aliasing: out.hPrevious may alias `arriving` (each entry is read before it is written); out.product
+ * must not alias saved.candidate (in the reset-after form q is read after δq is written).
  */
-export function gruBackwardCandidate(
-  updateResetGradient: FloatArray,
-  candidateGradient: FloatArray,
-  productGradient: FloatArray,
-  hiddenPreviousGradient: FloatArray | null,
-  hiddenGradient: FloatArray,
-  gates: FloatArray,
-  candidate: FloatArray,
-  hPrevious: FloatArray,
-  resetAfter: boolean,
-  rows: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
+export function gruBackwardCandidate(out: GruStepGradients, arriving: FloatArray, saved: GruSaved, form: GruForm, at: StepAt): void {
+  const { updateReset: updateResetGradient, candidate: candidateGradient, product: productGradient, hPrevious: hiddenPreviousGradient } = out;
+  const hiddenGradient = arriving;
+  const { gates, candidate, hPrevious } = saved;
+  const { rows, hidden } = at;
+  const resetAfter = form === 'resetAfter';
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
     const pair = b * 2 * hidden;
-    if (passHeldRow(lengths, b, step, hiddenPreviousGradient, hiddenGradient, row, hidden, updateResetGradient, pair, pair + 2 * hidden)) {
+    if (passHeldRow(at, b, hiddenPreviousGradient, hiddenGradient, updateResetGradient, 2 * hidden)) {
       candidateGradient.fill(0, row, row + hidden);
       productGradient.fill(0, row, row + hidden);
       continue;
@@ -125,19 +120,14 @@ export function gruBackwardCandidate(
 
 /**
  * Second half, reset-before form only: with δ(r ⊙ h₋) = δq·R_nᵀ computed by the caller,
- * δa_r = δ(r⊙h₋)·h₋·r(1 − r) and δh₋ += δ(r⊙h₋)·r. Held rows have δq = 0 and are left alone.
+ * δa_r = δ(r⊙h₋)·h₋·r(1 − r) into columns [H, 2H) of `out.updateReset` and δh₋ += δ(r⊙h₋)·r into
+ * `out.hPrevious` (out.candidate and out.product are not touched). Held rows have δq = 0 and are left alone.
+ * Aliasing: out.hPrevious may alias `resetHiddenGradient` or saved.hPrevious (entry by entry).
  */
-export function gruBackwardReset(
-  updateResetGradient: FloatArray,
-  hiddenPreviousGradient: FloatArray | null,
-  resetHiddenGradient: FloatArray,
-  gates: FloatArray,
-  hPrevious: FloatArray,
-  rows: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
+export function gruBackwardReset(out: GruStepGradients, resetHiddenGradient: FloatArray, saved: GruSaved, at: StepAt): void {
+  const { updateReset: updateResetGradient, hPrevious: hiddenPreviousGradient } = out;
+  const { gates, hPrevious } = saved;
+  const { rows, hidden, lengths, step } = at;
   for (let b = 0; b < rows; b++) {
     if (isHeld(lengths, b, step)) continue;
     const row = b * hidden;
@@ -155,37 +145,36 @@ export function gruBackwardReset(
 /**
  * The runtime's whole-layer step (its WebAssembly twin: core/wasm/layers.ts; one call per layer and step):
  * projected [rows, 3H] = x·W + b; updateReset [rows, 2H] = h·R_zr; then z, r; the candidate product (with r ⊙ h₋
- * in `resetHidden`, or h₋·R_n + b_Rn when `candidateBias` is given: the reset-after form); then h.
+ * in `work.resetHidden`, or h₋·R_n + b_Rn when `weights.candidateBias` is given: the reset-after form); then h.
+ *
+ * Aliasing: `h` is updated in place (read before written, entry by entry); `x` must not alias `h` or the work.
  */
-export function gruLayerStep(
-  x: FloatArray,
-  input: FloatArray,
-  bias: FloatArray,
-  recurrent: FloatArray,
-  candidateWeights: FloatArray,
-  candidateBias: FloatArray | null,
-  hState: FloatArray,
-  projected: FloatArray,
-  gates: FloatArray,
-  updateReset: FloatArray,
-  candidate: FloatArray,
-  resetHidden: FloatArray,
-  rows: number,
-  inputWidth: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
-  matmul(projected, x, input, rows, inputWidth, 3 * hidden);
-  addRow(projected, projected, bias, rows, 3 * hidden);
-  matmul(updateReset, hState, recurrent, rows, hidden, 2 * hidden);
+export function gruLayerStep(h: FloatArray, x: FloatArray, weights: GruWeights, work: GruWork, at: LayerStepAt): void {
+  const { rows, hidden, inputWidth } = at;
+  const { projected, gates, updateReset, candidate, resetHidden } = work;
+  matmul(projected, x, weights.input, refill(inputProduct, rows, inputWidth, 3 * hidden));
+  addRow(projected, projected, weights.bias, rows, 3 * hidden);
+  matmul(updateReset, h, weights.recurrent, refill(gateProduct, rows, hidden, 2 * hidden));
   gruUpdateReset(gates, projected, 0, updateReset, rows, hidden);
-  if (candidateBias === null) {
-    gruResetHidden(resetHidden, gates, hState, rows, hidden);
-    matmul(candidate, resetHidden, candidateWeights, rows, hidden, hidden);
+  refill(candidateProduct, rows, hidden, hidden);
+  if (weights.candidateBias === null) {
+    gruResetHidden(resetHidden, gates, h, rows, hidden);
+    matmul(candidate, resetHidden, weights.candidate, candidateProduct);
   } else {
-    matmul(candidate, hState, candidateWeights, rows, hidden, hidden);
-    addRow(candidate, candidate, candidateBias, rows, hidden);
+    matmul(candidate, h, weights.candidate, candidateProduct);
+    addRow(candidate, candidate, weights.candidateBias, rows, hidden);
   }
-  gruStepFinish(hState, gates, projected, 0, candidate, hState, candidateBias !== null, rows, hidden, lengths, step);
+  layerOut.h = h;
+  layerOut.gates = gates;
+  layerInputs.projected = projected;
+  layerInputs.candidate = candidate;
+  layerInputs.hPrevious = h;
+  gruStepFinish(layerOut, layerInputs, weights.candidateBias === null ? 'resetBefore' : 'resetAfter', at);
 }
+
+/** The layer step's own records, made once and refilled per call (kernels are synchronous and not re-entered). */
+const inputProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const gateProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const candidateProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const layerOut: GruStepOut = { h: new Float32Array(0), gates: new Float32Array(0) };
+const layerInputs: GruFinishInputs = { projected: new Float32Array(0), projectedOffset: 0, candidate: new Float32Array(0), hPrevious: new Float32Array(0) };

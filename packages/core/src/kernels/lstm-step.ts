@@ -13,30 +13,27 @@
 import type { FloatArray } from '../dtype.js';
 import { logistic } from './logistic.js';
 import { addRowInto, copyRow, holdRow, passHeldRow } from './rows.js';
-import { matmul } from './matmul.js';
+import { matmul, matmulInto } from './matmul.js';
 import { addRow } from './elementwise.js';
+import type { ProductShape } from './shapes.js';
+import { refill } from './shapes.js';
+import type { LayerStepAt, LstmArriving, LstmSaved, LstmState, LstmStepGradients, LstmStepOut, LstmWeights, LstmWork, StepAt } from './step-records.js';
 
 /**
- * On entry `gates` holds the pre-activations a; on exit the activations i, f, g, o (saved for backward).
- * Writes h and c, and tanh(c) into `tanhCell`. `peephole` is [3H] in the order i, f, o, or null.
+ * On entry `out.gates` holds the pre-activations a; on exit the activations i, f, g, o (saved for backward).
+ * Writes out.h and out.c, and tanh(c) into `out.tanhCell`. `peephole` is [3H] in the order i, f, o, or null.
+ *
+ * Aliasing: out.h may be previous.h and out.c may be previous.c (each entry is read before the same entry is
+ * written; the runtime steps its state in place this way). No other output may alias an input.
  */
-export function lstmStepForward(
-  hState: FloatArray,
-  cell: FloatArray,
-  gates: FloatArray,
-  tanhCell: FloatArray,
-  hPrevious: FloatArray,
-  cellPrevious: FloatArray,
-  peephole: FloatArray | null,
-  rows: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
+export function lstmStepForward(out: LstmStepOut, previous: LstmState, peephole: FloatArray | null, at: StepAt): void {
+  const { h: hState, c: cell, gates, tanhCell } = out;
+  const { h: hPrevious, c: cellPrevious } = previous;
+  const { rows, hidden } = at;
   const width = 4 * hidden;
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
-    if (holdRow(lengths, b, step, hState, hPrevious, row, hidden)) {
+    if (holdRow(at, b, hState, hPrevious)) {
       copyRow(cell, cellPrevious, row, hidden);
       continue;
     }
@@ -69,9 +66,9 @@ export function lstmStepForward(
 }
 
 /**
- * Writes ∂L/∂a into `gateGradient` [B, 4H] (zero for held rows) and adds into the previous state's gradients
- * (when not null) and the peephole gradient (when not null). `hiddenGradient` / `cellGradient` are the gradients
- * arriving at h and c, either may be null (no gradient reached it).
+ * Writes ∂L/∂a into `out.gates` [B, 4H] (zero for held rows) and adds into the previous state's gradients
+ * and the peephole gradient (each when not null). `arriving.h` / `arriving.c` are the gradients arriving at h and
+ * c, either may be null (no gradient reached it).
  *
  * Derivatives (chain rule on the equations above): with δh, δc arriving,
  *   δo = δh·tanh(c),        δa_o = δo·o(1−o),
@@ -80,29 +77,21 @@ export function lstmStepForward(
  *   δc₋ = δc*·f + δa_i·p_i + δa_f·p_f,
  *   δp_i = Σ_b δa_i·c₋,     δp_f = Σ_b δa_f·c₋,     δp_o = Σ_b δa_o·c.
  * The δh₋ share through R is the caller's matmul.
+ *
+ * Aliasing: out.hPrevious may alias arriving.h and out.cPrevious arriving.c (each entry is read before the same
+ * entry is written); out.peephole must not alias the peephole (it is added into row after row while the
+ * peephole is still read). Give the other outputs arrays of their own.
  */
-export function lstmStepBackward(
-  gateGradient: FloatArray,
-  hiddenPreviousGradient: FloatArray | null,
-  cellPreviousGradient: FloatArray | null,
-  peepholeGradient: FloatArray | null,
-  hiddenGradient: FloatArray | null,
-  cellGradient: FloatArray | null,
-  gates: FloatArray,
-  tanhCell: FloatArray,
-  cellPrevious: FloatArray,
-  cell: FloatArray,
-  peephole: FloatArray | null,
-  rows: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
+export function lstmStepBackward(out: LstmStepGradients, arriving: LstmArriving, saved: LstmSaved, at: StepAt): void {
+  const { gates: gateGradient, hPrevious: hiddenPreviousGradient, cPrevious: cellPreviousGradient, peephole: peepholeGradient } = out;
+  const { h: hiddenGradient, c: cellGradient } = arriving;
+  const { gates, tanhCell, cPrevious: cellPrevious, c: cell, peephole } = saved;
+  const { rows, hidden } = at;
   const width = 4 * hidden;
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
     const gate = b * width;
-    if (passHeldRow(lengths, b, step, hiddenPreviousGradient, hiddenGradient, row, hidden, gateGradient, gate, gate + width)) {
+    if (passHeldRow(at, b, hiddenPreviousGradient, hiddenGradient, gateGradient, width)) {
       addRowInto(cellPreviousGradient, cellGradient, row, hidden);
       continue;
     }
@@ -140,28 +129,26 @@ export function lstmStepBackward(
 
 /**
  * The runtime's whole-layer step (its WebAssembly twin: core/wasm/layers.ts; one call per layer and step):
- * gates [rows, 4H] = x·W + b + h·R, then h, c ← the LSTM step (tanhCell [rows, H] is working memory). The state is
- * updated in place: the kernel reads each h₋, c₋ entry before writing the same entry.
+ * gates [rows, 4H] = x·W + b + h·R, then h, c ← the LSTM step (work.tanhCell [rows, H] is working memory).
+ *
+ * Aliasing: the state is updated in place (the step reads each h₋, c₋ entry before writing the same entry);
+ * `x` must not alias the state or the working memory.
  */
-export function lstmLayerStep(
-  x: FloatArray,
-  input: FloatArray,
-  recurrent: FloatArray,
-  bias: FloatArray,
-  peephole: FloatArray | null,
-  hState: FloatArray,
-  cell: FloatArray,
-  gates: FloatArray,
-  tanhCell: FloatArray,
-  rows: number,
-  inputWidth: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
-  matmul(gates, x, input, rows, inputWidth, 4 * hidden);
-  addRow(gates, gates, bias, rows, 4 * hidden);
-  matmul(gates, hState, recurrent, rows, hidden, 4 * hidden, false, false, true);
-  // In place: the kernel reads each h₋, c₋ entry before writing the same entry.
-  lstmStepForward(hState, cell, gates, tanhCell, hState, cell, peephole, rows, hidden, lengths, step);
+export function lstmLayerStep(state: LstmState, x: FloatArray, weights: LstmWeights, work: LstmWork, at: LayerStepAt): void {
+  const { rows, hidden, inputWidth } = at;
+  refill(inputProduct, rows, inputWidth, 4 * hidden);
+  refill(recurrentProduct, rows, hidden, 4 * hidden);
+  matmul(work.gates, x, weights.input, inputProduct);
+  addRow(work.gates, work.gates, weights.bias, rows, 4 * hidden);
+  matmulInto(work.gates, state.h, weights.recurrent, recurrentProduct);
+  layerOut.h = state.h;
+  layerOut.c = state.c;
+  layerOut.gates = work.gates;
+  layerOut.tanhCell = work.tanhCell;
+  lstmStepForward(layerOut, state, weights.peephole, at);
 }
+
+/** The layer step's own records, made once and refilled per call (kernels are synchronous and not re-entered). */
+const inputProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const recurrentProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const layerOut: LstmStepOut = { h: new Float32Array(0), c: new Float32Array(0), gates: new Float32Array(0), tanhCell: new Float32Array(0) };

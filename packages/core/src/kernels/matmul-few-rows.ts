@@ -1,9 +1,11 @@
 /**
- * The matrix product for fewer than 4 rows (matmul.ts calls it; same arguments and meaning): a single sample, the
+ * The matrix product for fewer than 4 rows (matmul.ts calls it; the same shape record, and `accumulate` for matmulInto): a single sample, the
  * streaming case, where packing the right operand would cost as much as the product itself. Accumulates in f64
  * with one rounding on the store, as matmul does. `out` must not alias `a` or `b`.
  */
 import type { FloatArray } from '../dtype.js';
+import type { ProductShape } from './shapes.js';
+import { transposesA, transposesB } from './shapes.js';
 
 /** Columns read together (4 accumulators). */
 const BLOCK = 4;
@@ -12,17 +14,10 @@ const BLOCK = 4;
  * Fewer than 4 rows (a single sample, the streaming case): packing the right operand would cost as much as the
  * product itself, so read it in place, 4 columns at a time with 4 accumulators.
  */
-export function matmulFewRows(
-  out: FloatArray,
-  a: FloatArray,
-  b: FloatArray,
-  rows: number,
-  inner: number,
-  cols: number,
-  transposeA: boolean,
-  transposeB: boolean,
-  accumulate: boolean,
-): void {
+export function matmulFewRows(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: boolean): void {
+  const { rows, inner, cols } = shape;
+  const transposeA = transposesA(shape);
+  const transposeB = transposesB(shape);
   const aRowStep = transposeA ? 1 : inner;
   const aInnerStep = transposeA ? rows : 1;
   const bInnerStep = transposeB ? 1 : cols;

@@ -1,10 +1,11 @@
 /**
- * Matrix product, out-first: out = op(a) · op(b), or out += op(a) · op(b) when `accumulate` is true, where
- * op(a) is a [rows, inner] matrix and op(b) an [inner, cols] matrix, each stored either as written or
- * transposed (a stored [inner, rows] when `transposeA`, b stored [cols, inner] when `transposeB`).
+ * Matrix product, out-first: `matmul` writes out = op(a) · op(b) and `matmulInto` adds it, out += op(a) · op(b),
+ * where op(a) is a [rows, inner] matrix and op(b) an [inner, cols] matrix, each stored either as written or
+ * transposed as the shape record says (shapes.ts: a stored [inner, rows], b stored [cols, inner]).
  *
- * `out` must not alias `a` or `b`: results are written while the operands are still being read (the matmul test
- * shows what aliasing does). Allocates nothing in the steady state: packed panels live in kernel scratch.
+ * Aliasing: `out` must not alias `a` or `b`: results are written while the operands are still being read (the
+ * matmul test shows what aliasing does). `a` and `b` may be the same array. Allocates nothing in the steady state:
+ * packed panels live in kernel scratch.
  *
  * Method (common practice for fast matrix products): both operands are packed into f64 panels, the left one in
  * blocks of 4 rows and the right one in blocks of 4 columns, each laid out k-major so the inner loop reads two
@@ -15,30 +16,36 @@ import type { FloatArray } from '../dtype.js';
 import { matmulFewRows } from './matmul-few-rows.js';
 import { SCRATCH_LEFT, SCRATCH_RIGHT, scratch } from './scratch.js';
 import { addRow } from './elementwise.js';
+import type { ProductShape, ProductSizes } from './shapes.js';
+import { transposesA, transposesB } from './shapes.js';
 
 const BLOCK = 4;
 
-export function matmul(
-  out: FloatArray,
-  a: FloatArray,
-  b: FloatArray,
-  rows: number,
-  inner: number,
-  cols: number,
-  transposeA = false,
-  transposeB = false,
-  accumulate = false,
-): FloatArray {
+/** out = op(a) · op(b). */
+export function matmul(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape): FloatArray {
+  return product(out, a, b, shape, false);
+}
+
+/** out += op(a) · op(b). */
+export function matmulInto(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape): FloatArray {
+  return product(out, a, b, shape, true);
+}
+
+/** The 16 accumulators of an edge block, row-major, written out entry by entry (made once). */
+const corner = new Float64Array(16);
+
+function product(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: boolean): FloatArray {
+  const { rows, inner, cols } = shape;
   if (rows < BLOCK) {
-    matmulFewRows(out, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
+    matmulFewRows(out, a, b, shape, accumulate);
     return out;
   }
   const rowBlocks = Math.ceil(rows / BLOCK);
   const colBlocks = Math.ceil(cols / BLOCK);
   const left = scratch(SCRATCH_LEFT, rowBlocks * inner * BLOCK);
   const right = scratch(SCRATCH_RIGHT, colBlocks * inner * BLOCK);
-  packLeft(left, a, rows, inner, transposeA);
-  packRight(right, b, inner, cols, transposeB);
+  packLeft(left, a, rows, inner, transposesA(shape));
+  packRight(right, b, inner, cols, transposesB(shape));
   for (let rb = 0; rb < rowBlocks; rb++) {
     const leftBase = rb * inner * BLOCK;
     const row0 = rb * BLOCK;
@@ -138,9 +145,25 @@ export function matmul(
         }
       } else {
         // Edge block: write the valid corner one entry at a time.
+        corner[0] = c00;
+        corner[1] = c01;
+        corner[2] = c02;
+        corner[3] = c03;
+        corner[4] = c10;
+        corner[5] = c11;
+        corner[6] = c12;
+        corner[7] = c13;
+        corner[8] = c20;
+        corner[9] = c21;
+        corner[10] = c22;
+        corner[11] = c23;
+        corner[12] = c30;
+        corner[13] = c31;
+        corner[14] = c32;
+        corner[15] = c33;
         for (let r = 0; r < rowCount; r++) {
           for (let c = 0; c < colCount; c++) {
-            const value = pick(r, c, c00, c01, c02, c03, c10, c11, c12, c13, c20, c21, c22, c23, c30, c31, c32, c33);
+            const value = corner[r * BLOCK + c];
             const o = (row0 + r) * cols + col0 + c;
             out[o] = accumulate ? out[o] + value : value;
           }
@@ -149,63 +172,6 @@ export function matmul(
     }
   }
   return out;
-}
-
-function pick(
-  r: number,
-  c: number,
-  c00: number,
-  c01: number,
-  c02: number,
-  c03: number,
-  c10: number,
-  c11: number,
-  c12: number,
-  c13: number,
-  c20: number,
-  c21: number,
-  c22: number,
-  c23: number,
-  c30: number,
-  c31: number,
-  c32: number,
-  c33: number,
-): number {
-  const i = r * BLOCK + c;
-  switch (i) {
-    case 0:
-      return c00;
-    case 1:
-      return c01;
-    case 2:
-      return c02;
-    case 3:
-      return c03;
-    case 4:
-      return c10;
-    case 5:
-      return c11;
-    case 6:
-      return c12;
-    case 7:
-      return c13;
-    case 8:
-      return c20;
-    case 9:
-      return c21;
-    case 10:
-      return c22;
-    case 11:
-      return c23;
-    case 12:
-      return c30;
-    case 13:
-      return c31;
-    case 14:
-      return c32;
-    default:
-      return c33;
-  }
 }
 
 /** Packs op(a) [rows, inner] into blocks of 4 rows, k-major: left[(block·inner + k)·4 + r]; missing rows are 0. */
@@ -261,8 +227,11 @@ export function matmulNaive(out: FloatArray, a: FloatArray, b: FloatArray, rows:
   return out;
 }
 
-/** out [rows, cols] = x·weights + bias (the readout's affine map), out not aliasing x. */
-export function affineRows(out: FloatArray, bias: FloatArray, x: FloatArray, weights: FloatArray, rows: number, inner: number, cols: number): FloatArray {
-  matmul(out, x, weights, rows, inner, cols);
-  return addRow(out, out, bias, rows, cols);
+/**
+ * out [rows, cols] = x [rows, inner] · weights [inner, cols] + bias [cols] (the readout's affine map), weights as
+ * written. Aliasing: `out` must not alias `x`, `weights` or `bias`.
+ */
+export function affineRows(out: FloatArray, x: FloatArray, weights: FloatArray, bias: FloatArray, sizes: ProductSizes): FloatArray {
+  matmul(out, x, weights, sizes);
+  return addRow(out, out, bias, sizes.rows, sizes.cols);
 }

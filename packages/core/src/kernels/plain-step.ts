@@ -4,22 +4,24 @@
  */
 import type { FloatArray } from '../dtype.js';
 import { holdRow, passHeldRow } from './rows.js';
-import { matmul } from './matmul.js';
+import { matmul, matmulInto } from './matmul.js';
 import { addRow } from './elementwise.js';
+import type { ProductShape } from './shapes.js';
+import { refill } from './shapes.js';
+import type { LayerStepAt, PlainStepGradients, PlainWeights, StepActivation, StepAt } from './step-records.js';
 
-/** On entry `hState` holds the pre-activation a; on exit φ(a), or h₋ for held rows. */
-export function plainStepForward(
-  hState: FloatArray,
-  hPrevious: FloatArray,
-  rectified: boolean,
-  rows: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
+/**
+ * On entry `h` holds the pre-activation a; on exit φ(a), or h₋ for held rows.
+ * Aliasing: `h` carries the pre-activation in, so it cannot also be `hPrevious` (a held row would keep the
+ * pre-activation instead of h₋); the layer step below keeps a pre-activation buffer of its own for this.
+ */
+export function plainStepForward(h: FloatArray, hPrevious: FloatArray, activation: StepActivation, at: StepAt): void {
+  const hState = h;
+  const { rows, hidden } = at;
+  const rectified = activation === 'relu';
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
-    if (holdRow(lengths, b, step, hState, hPrevious, row, hidden)) continue;
+    if (holdRow(at, b, hState, hPrevious)) continue;
     if (rectified) {
       for (let j = 0; j < hidden; j++) {
         const a = hState[row + j];
@@ -32,23 +34,19 @@ export function plainStepForward(
 }
 
 /**
- * Writes δa = δh·φ′ into `preGradient` (zero for held rows, whose δh passes to h₋ unchanged);
- * φ′ = 1 − h² for tanh and [h > 0] for ReLU, both from the output h.
+ * Writes δa = δh·φ′ into `out.pre` (zero for held rows, whose δh passes to h₋ unchanged, added into
+ * `out.hPrevious`); φ′ = 1 − h² for tanh and [h > 0] for ReLU, both from the output h.
+ * Aliasing: no output may alias an input (a held row's δa is zeroed before its δh is passed on).
  */
-export function plainStepBackward(
-  preGradient: FloatArray,
-  hiddenPreviousGradient: FloatArray | null,
-  hiddenGradient: FloatArray,
-  hState: FloatArray,
-  rectified: boolean,
-  rows: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
+export function plainStepBackward(out: PlainStepGradients, arriving: FloatArray, h: FloatArray, activation: StepActivation, at: StepAt): void {
+  const { pre: preGradient, hPrevious: hiddenPreviousGradient } = out;
+  const hiddenGradient = arriving;
+  const hState = h;
+  const { rows, hidden } = at;
+  const rectified = activation === 'relu';
   for (let b = 0; b < rows; b++) {
     const row = b * hidden;
-    if (passHeldRow(lengths, b, step, hiddenPreviousGradient, hiddenGradient, row, hidden, preGradient, row, row + hidden)) continue;
+    if (passHeldRow(at, b, hiddenPreviousGradient, hiddenGradient, preGradient, hidden)) continue;
     for (let j = 0; j < hidden; j++) {
       const h = hState[row + j];
       const dh = hiddenGradient[row + j];
@@ -60,24 +58,17 @@ export function plainStepBackward(
 /**
  * The runtime's whole-layer step (its WebAssembly twin: core/wasm/layers.ts; one call per layer and step):
  * pre [rows, H] = x·W + b + h·R, φ applied (held rows keep h₋), then h = pre.
+ * Aliasing: `h` is updated in place; `pre` and `x` must not alias `h`.
  */
-export function plainLayerStep(
-  x: FloatArray,
-  input: FloatArray,
-  recurrent: FloatArray,
-  bias: FloatArray,
-  hState: FloatArray,
-  pre: FloatArray,
-  rectified: boolean,
-  rows: number,
-  inputWidth: number,
-  hidden: number,
-  lengths: Int32Array | null,
-  step: number,
-): void {
-  matmul(pre, x, input, rows, inputWidth, hidden);
-  addRow(pre, pre, bias, rows, hidden);
-  matmul(pre, hState, recurrent, rows, hidden, hidden, false, false, true);
-  plainStepForward(pre, hState, rectified, rows, hidden, lengths, step);
-  for (let i = 0; i < rows * hidden; i++) hState[i] = pre[i];
+export function plainLayerStep(h: FloatArray, x: FloatArray, weights: PlainWeights, pre: FloatArray, activation: StepActivation, at: LayerStepAt): void {
+  const { rows, hidden, inputWidth } = at;
+  matmul(pre, x, weights.input, refill(inputProduct, rows, inputWidth, hidden));
+  addRow(pre, pre, weights.bias, rows, hidden);
+  matmulInto(pre, h, weights.recurrent, refill(recurrentProduct, rows, hidden, hidden));
+  plainStepForward(pre, h, activation, at);
+  for (let i = 0; i < rows * hidden; i++) h[i] = pre[i];
 }
+
+/** The layer step's own records, made once and refilled per call (kernels are synchronous and not re-entered). */
+const inputProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const recurrentProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };

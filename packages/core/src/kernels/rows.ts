@@ -3,6 +3,7 @@
  * copies its previous state across and backward passes its gradient straight to the previous state.
  */
 import type { FloatArray } from '../dtype.js';
+import type { StepAt } from './step-records.js';
 
 /** True when row `b` is past its length at `step` (its state is held). */
 export function isHeld(lengths: Int32Array | null, b: number, step: number): boolean {
@@ -10,35 +11,31 @@ export function isHeld(lengths: Int32Array | null, b: number, step: number): boo
 }
 
 /**
- * Forward, for a row past its length at `step`: copies its state row across from the previous state and returns
- * true (the caller skips the row); false for a row still inside its sequence.
+ * Forward, for row `b` past its length: copies its state row [b·H, (b+1)·H) across from the previous state and
+ * returns true (the caller skips the row); false for a row still inside its sequence.
  */
-export function holdRow(lengths: Int32Array | null, b: number, step: number, state: FloatArray, previous: FloatArray, offset: number, width: number): boolean {
-  if (!isHeld(lengths, b, step)) return false;
-  copyRow(state, previous, offset, width);
+export function holdRow(at: StepAt, b: number, state: FloatArray, previous: FloatArray): boolean {
+  if (!isHeld(at.lengths, b, at.step)) return false;
+  copyRow(state, previous, b * at.hidden, at.hidden);
   return true;
 }
 
 /**
- * Backward, for a row past its length at `step`: zeroes `cleared` over [from, to) (the row's gate gradients), passes
- * the gradient arriving at its state straight to the previous state's, and returns true; false for a row still
- * inside its sequence.
+ * Backward, for row `b` past its length: zeroes the row's `clearedWidth` entries of `cleared` (its gate
+ * gradients), passes the gradient arriving at its state row straight to the previous state's, and returns true;
+ * false for a row still inside its sequence.
  */
 export function passHeldRow(
-  lengths: Int32Array | null,
+  at: StepAt,
   b: number,
-  step: number,
   previousGradient: FloatArray | null,
   gradient: FloatArray | null,
-  offset: number,
-  width: number,
   cleared: FloatArray,
-  from: number,
-  to: number,
+  clearedWidth: number,
 ): boolean {
-  if (!isHeld(lengths, b, step)) return false;
-  cleared.fill(0, from, to);
-  addRowInto(previousGradient, gradient, offset, width);
+  if (!isHeld(at.lengths, b, at.step)) return false;
+  cleared.fill(0, b * clearedWidth, (b + 1) * clearedWidth);
+  addRowInto(previousGradient, gradient, b * at.hidden, at.hidden);
   return true;
 }
 

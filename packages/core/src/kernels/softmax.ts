@@ -33,7 +33,8 @@ export function indexOfLargest(values: ArrayLike<number>): number {
 
 /**
  * Writes each row's loss into `losses` and its softmax probabilities into `probabilities` (see above); returns
- * `losses`.
+ * `losses`. Aliasing: `probabilities` may alias `logits`; `losses` must not alias `probabilities` (a row's loss is
+ * written before its probabilities are scaled).
  */
 export function crossEntropyRows(
   losses: FloatArray,

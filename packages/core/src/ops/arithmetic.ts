@@ -44,7 +44,7 @@ const addKind: OperationKind<PairSaved> = {
     const g = node.output.gradient!;
     if (a.tracked) tape.kernels.addInto(tape.gradientOf(a), g, a.size);
     if (b.tracked) {
-      if (broadcast) tape.kernels.sumRows(tape.gradientOf(b), g, a.size / b.size, b.size, true);
+      if (broadcast) tape.kernels.sumRowsInto(tape.gradientOf(b), g, a.size / b.size, b.size);
       else tape.kernels.addInto(tape.gradientOf(b), g, b.size);
     }
   },

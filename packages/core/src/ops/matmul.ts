@@ -8,6 +8,7 @@ import { noTensor } from '../tape.js';
 import type { OperationKind, Tape } from '../tape.js';
 import type { Tensor } from '../tensor.js';
 import { requireBackend, requireRank, requireSameDType } from './checks.js';
+import { productShape, transposedOf } from '../kernels/shapes.js';
 
 /** Which operands of `matmul` are read transposed. */
 export interface MatmulOptions {
@@ -38,20 +39,20 @@ const kind: OperationKind<MatmulSaved> = {
       const ga = tape.gradientOf(a);
       if (!transposeA) {
         // ∂A [rows, inner] += ∂C [rows, cols] · op(B)ᵀ [cols, inner]
-        tape.kernels.matmul(ga, g, b.data, rows, cols, inner, false, !transposeB, true);
+        tape.kernels.matmulInto(ga, g, b.data, productShape(rows, cols, inner, transposedOf(false, !transposeB)));
       } else {
         // ∂A stored [inner, rows] += op(B) [inner, cols] · ∂Cᵀ [cols, rows]
-        tape.kernels.matmul(ga, b.data, g, inner, cols, rows, transposeB, true, true);
+        tape.kernels.matmulInto(ga, b.data, g, productShape(inner, cols, rows, transposedOf(transposeB, true)));
       }
     }
     if (b.tracked) {
       const gb = tape.gradientOf(b);
       if (!transposeB) {
         // ∂B [inner, cols] += op(A)ᵀ [inner, rows] · ∂C [rows, cols]
-        tape.kernels.matmul(gb, a.data, g, inner, rows, cols, !transposeA, false, true);
+        tape.kernels.matmulInto(gb, a.data, g, productShape(inner, rows, cols, transposedOf(!transposeA, false)));
       } else {
         // ∂B stored [cols, inner] += ∂Cᵀ [cols, rows] · op(A) [rows, inner]
-        tape.kernels.matmul(gb, g, a.data, cols, rows, inner, true, transposeA, true);
+        tape.kernels.matmulInto(gb, g, a.data, productShape(cols, rows, inner, transposedOf(true, transposeA)));
       }
     }
   },
@@ -84,7 +85,7 @@ export function matmul(tape: Tape, a: Tensor, b: Tensor, options: MatmulOptions 
     );
   }
   const out = tape.output([rows, cols], a.dtype, a.tracked || b.tracked);
-  tape.kernels.matmul(out.data, a.data, b.data, rows, inner, cols, transposeA, transposeB, false);
+  tape.kernels.matmul(out.data, a.data, b.data, productShape(rows, inner, cols, transposedOf(transposeA, transposeB)));
   const saved = tape.record(kind, out);
   if (saved !== null) {
     saved.a = a;

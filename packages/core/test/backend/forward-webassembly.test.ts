@@ -40,20 +40,16 @@ describe.skipIf(!available)("the runtime's WebAssembly layer steps against their
         const state = make(backend, h);
         const cell = make(backend, c);
         backend.kernels.lstmLayerStep(
+          { h: state, c: cell },
           make(backend, x),
-          backend.matrix(w4, inputWidth, 4 * hidden),
-          backend.matrix(r4, hidden, 4 * hidden),
-          make(backend, b4),
-          make(backend, p3),
-          state,
-          cell,
-          backend.floats(rows * 4 * hidden),
-          backend.floats(rows * hidden),
-          rows,
-          inputWidth,
-          hidden,
-          lengths,
-          1,
+          {
+            input: backend.matrix(w4, inputWidth, 4 * hidden),
+            recurrent: backend.matrix(r4, hidden, 4 * hidden),
+            bias: make(backend, b4),
+            peephole: make(backend, p3),
+          },
+          { gates: backend.floats(rows * 4 * hidden), tanhCell: backend.floats(rows * hidden) },
+          { rows, inputWidth, hidden, lengths, step: 1 },
         );
         return [state, cell];
       });
@@ -67,25 +63,21 @@ describe.skipIf(!available)("the runtime's WebAssembly layer steps against their
       for (const resetAfter of [false, true]) {
         const gru = [wasm, javascriptForward].map((backend) => {
           const state = make(backend, h);
-          backend.kernels.gruLayerStep(
-            make(backend, x),
-            backend.matrix(w3, inputWidth, 3 * hidden),
-            make(backend, b3),
-            backend.matrix(r2, hidden, 2 * hidden),
-            backend.matrix(rn, hidden, hidden),
-            resetAfter ? make(backend, bn) : null,
-            state,
-            backend.floats(rows * 3 * hidden),
-            backend.floats(rows * 3 * hidden),
-            backend.floats(rows * 2 * hidden),
-            backend.floats(rows * hidden),
-            backend.floats(rows * hidden),
-            rows,
-            inputWidth,
-            hidden,
-            lengths,
-            1,
-          );
+          const weights = {
+            input: backend.matrix(w3, inputWidth, 3 * hidden),
+            bias: make(backend, b3),
+            recurrent: backend.matrix(r2, hidden, 2 * hidden),
+            candidate: backend.matrix(rn, hidden, hidden),
+            candidateBias: resetAfter ? make(backend, bn) : null,
+          };
+          const work = {
+            projected: backend.floats(rows * 3 * hidden),
+            gates: backend.floats(rows * 3 * hidden),
+            updateReset: backend.floats(rows * 2 * hidden),
+            candidate: backend.floats(rows * hidden),
+            resetHidden: backend.floats(rows * hidden),
+          };
+          backend.kernels.gruLayerStep(state, make(backend, x), weights, work, { rows, inputWidth, hidden, lengths, step: 1 });
           return state;
         });
         compare(gru[0], gru[1]);
@@ -94,20 +86,9 @@ describe.skipIf(!available)("the runtime's WebAssembly layer steps against their
       for (const rectified of [false, true]) {
         const plain = [wasm, javascriptForward].map((backend) => {
           const state = make(backend, h);
-          backend.kernels.plainLayerStep(
-            make(backend, x),
-            backend.matrix(w1, inputWidth, hidden),
-            backend.matrix(rn, hidden, hidden),
-            make(backend, bn),
-            state,
-            backend.floats(rows * hidden),
-            rectified,
-            rows,
-            inputWidth,
-            hidden,
-            lengths,
-            1,
-          );
+          const weights = { input: backend.matrix(w1, inputWidth, hidden), recurrent: backend.matrix(rn, hidden, hidden), bias: make(backend, bn) };
+          const place = { rows, inputWidth, hidden, lengths, step: 1 };
+          backend.kernels.plainLayerStep(state, make(backend, x), weights, backend.floats(rows * hidden), rectified ? 'relu' : 'tanh', place);
           return state;
         });
         compare(plain[0], plain[1]);
@@ -116,7 +97,7 @@ describe.skipIf(!available)("the runtime's WebAssembly layer steps against their
       const readoutBias = values(3);
       const outs = [wasm, javascriptForward].map((backend) => {
         const out = backend.floats(rows * 3);
-        backend.kernels.affineRows(out, make(backend, readoutBias), make(backend, h), backend.matrix(readout, hidden, 3), rows, hidden, 3);
+        backend.kernels.affineRows(out, make(backend, h), backend.matrix(readout, hidden, 3), make(backend, readoutBias), { rows, inner: hidden, cols: 3 });
         return out;
       });
       compare(outs[0], outs[1]);

@@ -21,14 +21,15 @@ describe.skipIf(!available)('the WebAssembly step kernels', () => {
     const lengths = Int32Array.of(2, 0, 1);
     const ordinary = Float32Array.from(pre);
     const reference = Float32Array.from(pre);
-    backend.kernels.plainStepForward(ordinary, previous, false, rows, hidden, lengths, 1);
-    javascriptKernels.plainStepForward(reference, previous, false, rows, hidden, lengths, 1);
+    const at = { rows, hidden, lengths, step: 1 };
+    backend.kernels.plainStepForward(ordinary, previous, 'tanh', at);
+    javascriptKernels.plainStepForward(reference, previous, 'tanh', at);
     expect(Array.from(ordinary)).toEqual(Array.from(reference));
     const inMemory = backend.pool.take('f32', rows * hidden) as Float32Array;
     const previousInMemory = backend.pool.take('f32', rows * hidden) as Float32Array;
     inMemory.set(pre);
     previousInMemory.set(previous);
-    backend.kernels.plainStepForward(inMemory, previousInMemory, false, rows, hidden, lengths, 1);
+    backend.kernels.plainStepForward(inMemory, previousInMemory, 'tanh', at);
     expect(worstGap(inMemory, reference)).toBeLessThanOrEqual(1e-5);
   });
 });

@@ -22,8 +22,8 @@ describe.skipIf(!available)('the WebAssembly kernel table', () => {
       const b = make(37 * 5).map(() => random.between(-2, 2));
       const ours = make(5);
       const theirs = make(5);
-      backend.kernels.matmul(ours, a, b, 1, 37, 5);
-      javascriptKernels.matmul(theirs, a, b, 1, 37, 5);
+      backend.kernels.matmul(ours, a, b, { rows: 1, inner: 37, cols: 5 });
+      javascriptKernels.matmul(theirs, a, b, { rows: 1, inner: 37, cols: 5 });
       expect(Array.from(ours)).toEqual(Array.from(theirs));
       backend.kernels.sigmoid(ours, a, 5);
       javascriptKernels.sigmoid(theirs, a, 5);

@@ -11,6 +11,7 @@ import { MessageChannel } from 'node:worker_threads';
 import { Random, compiledKernels, createWebAssemblyBackend, javascriptKernels, useCompiledKernels, webAssemblyUnavailable } from '@weft/core';
 import type { KernelTable } from '@weft/core';
 import { worstGap } from '../../../../tests/helpers/close.js';
+import { transposedOf } from '@weft/core/kernels';
 
 const available = webAssemblyUnavailable() === null;
 const backend = available ? createWebAssemblyBackend({ memoryBytes: 64 * 1048576 }) : null;
@@ -83,8 +84,9 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
             const [outW, a, b] = wasm.f as Float32Array[];
             const [outJ, a2, b2] = js.f as Float32Array[];
             const start = Float64Array.from(outJ);
-            backend!.kernels.matmul(outW, a, b, rows, inner, cols, transposeA, transposeB, accumulate);
-            javascriptKernels.matmul(outJ, a2, b2, rows, inner, cols, transposeA, transposeB, accumulate);
+            const shape = { rows, inner, cols, transposed: transposedOf(transposeA, transposeB) };
+            backend!.kernels[accumulate ? 'matmulInto' : 'matmul'](outW, a, b, shape);
+            javascriptKernels[accumulate ? 'matmulInto' : 'matmul'](outJ, a2, b2, shape);
             const k = inner + (accumulate ? 1 : 0);
             const gamma = (k * u) / (1 - k * u);
             for (let r = 0; r < rows; r++) {
@@ -120,8 +122,8 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
       agree([n], (k, [o]) => k.add(o!, o!, o!, n), true, n + 7); // out aliasing both inputs
       for (const rows of [1, 3, 8]) {
         agree([rows * n, rows * n, n], (k, [o, a, r]) => k.addRow(o!, a!, r!, rows, n), true, rows + n);
-        agree([n, rows * n], (k, [o, a]) => k.sumRows(o!, a!, rows, n, false), true, rows * n);
-        agree([n, rows * n], (k, [o, a]) => k.sumRows(o!, a!, rows, n, true), true, rows * n + 1);
+        agree([n, rows * n], (k, [o, a]) => k.sumRows(o!, a!, rows, n), true, rows * n);
+        agree([n, rows * n], (k, [o, a]) => k.sumRowsInto(o!, a!, rows, n), true, rows * n + 1);
       }
     }
   });
@@ -150,7 +152,7 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
           agree(
             [n, n, 4 * n, n, n, n, p],
             (k, [h, c, gates, tanhCell, hp, cp, pp]) => {
-              k.lstmStepForward(h!, c!, gates!, tanhCell!, hp!, cp!, pp, rows, size, lengths, 1);
+              k.lstmStepForward({ h: h!, c: c!, gates: gates!, tanhCell: tanhCell! }, { h: hp!, c: cp! }, pp, { rows, hidden: size, lengths, step: 1 });
             },
             false,
             rows * size,
@@ -159,7 +161,13 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
             agree(
               [4 * n, n, absent ? null : n, p, n, absent ? null : n, 4 * n, n, n, n, p],
               (k, [gg, hpg, cpg, pg, hg, cg, gates, tc, cp, c, pp]) => {
-                k.lstmStepBackward(gg!, hpg, cpg, pg, hg, cg, gates!, tc!, cp!, c!, pp, rows, size, lengths, 1);
+                const gradients = { gates: gg!, hPrevious: hpg, cPrevious: cpg, peephole: pg };
+                k.lstmStepBackward(
+                  gradients,
+                  { h: hg, c: cg },
+                  { gates: gates!, tanhCell: tc!, cPrevious: cp!, c: c!, peephole: pp },
+                  { rows, hidden: size, lengths, step: 1 },
+                );
               },
               false,
               rows + size,
@@ -185,7 +193,8 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
           agree(
             [n, 3 * n, 2 * 3 * n, n, n],
             (k, [h, gates, projected, candidate, hp]) => {
-              k.gruStepFinish(h!, gates!, projected!, 3 * n, candidate!, hp!, resetAfter, rows, size, lengths, 1);
+              const inputs = { projected: projected!, projectedOffset: 3 * n, candidate: candidate!, hPrevious: hp! };
+              k.gruStepFinish({ h: h!, gates: gates! }, inputs, resetAfter ? 'resetAfter' : 'resetBefore', { rows, hidden: size, lengths, step: 1 });
             },
             false,
             n + 2,
@@ -193,7 +202,9 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
           agree(
             [2 * n, n, n, n, n, 3 * n, n, n],
             (k, [ur, cg, pg, hpg, hg, gates, candidate, hp]) => {
-              k.gruBackwardCandidate(ur!, cg!, pg!, hpg, hg!, gates!, candidate!, hp!, resetAfter, rows, size, lengths, 1);
+              const gradients = { updateReset: ur!, candidate: cg!, product: pg!, hPrevious: hpg };
+              const saved = { gates: gates!, candidate: candidate!, hPrevious: hp! };
+              k.gruBackwardCandidate(gradients, hg!, saved, resetAfter ? 'resetAfter' : 'resetBefore', { rows, hidden: size, lengths, step: 1 });
             },
             false,
             n + 3,
@@ -203,7 +214,10 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
         }
         agree(
           [2 * n, n, n, 3 * n, n],
-          (k, [ur, hpg, rhg, gates, hp]) => k.gruBackwardReset(ur!, hpg, rhg!, gates!, hp!, rows, size, lengths, 1),
+          (k, [ur, hpg, rhg, gates, hp]) => {
+            const gradients = { updateReset: ur!, candidate: ur!, product: ur!, hPrevious: hpg };
+            k.gruBackwardReset(gradients, rhg!, { gates: gates!, candidate: hp!, hPrevious: hp! }, { rows, hidden: size, lengths, step: 1 });
+          },
           false,
           n + 4,
           -1,
@@ -214,10 +228,11 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
   });
 
   it('agree on the plain step, tanh and ReLU, forward and backward', () => {
-    for (const rectified of [false, true]) {
+    for (const activation of ['tanh', 'relu'] as const) {
       for (const lengths of [null, Int32Array.of(2, 0, 1)]) {
-        agree([3 * 6, 3 * 6], (k, [h, hp]) => k.plainStepForward(h!, hp!, rectified, 3, 6, lengths, 1), false, 5);
-        agree([18, 18, 18, 18], (k, [pg, hpg, hg, h]) => k.plainStepBackward(pg!, hpg, hg!, h!, rectified, 3, 6, lengths, 1), false, 6, -1, 1);
+        const at = { rows: 3, hidden: 6, lengths, step: 1 };
+        agree([3 * 6, 3 * 6], (k, [h, hp]) => k.plainStepForward(h!, hp!, activation, at), false, 5);
+        agree([18, 18, 18, 18], (k, [pg, hpg, hg, h]) => k.plainStepBackward({ pre: pg!, hPrevious: hpg }, hg!, h!, activation, at), false, 6, -1, 1);
       }
     }
   });
@@ -228,13 +243,29 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
         [n, n, n, n],
         (k, [values, gradient, m, v]) => {
           for (let i = 0; i < n; i++) v![i] = Math.abs(v![i]);
-          k.adamUpdate(values!, gradient!, m!, v!, n, 0.9, 0.999, 1 - 0.9 ** 3, 1 - 0.999 ** 3, 0.01, 0.001, 0.0001, 1e-8);
+          const constants = {
+            beta1: 0.9,
+            beta2: 0.999,
+            correction1: 1 - 0.9 ** 3,
+            correction2: 1 - 0.999 ** 3,
+            rate: 0.01,
+            decay: 0.001,
+            kappa: 0.0001,
+            epsilon: 1e-8,
+          };
+          k.adamUpdate({ values: values!, gradient: gradient!, firstMoment: m!, secondMoment: v! }, n, constants);
         },
         true,
         n,
       );
-      for (const nesterov of [false, true]) {
-        agree([n, n, n], (k, [values, gradient, velocity]) => k.sgdUpdate(values!, gradient!, velocity!, n, 0.05, 0.001, 0.9, 0.0001, nesterov), true, n + 1);
+      for (const rule of ['sgdUpdate', 'nesterovUpdate'] as const) {
+        const constants = { rate: 0.05, decay: 0.001, mu: 0.9, kappa: 0.0001 };
+        agree(
+          [n, n, n],
+          (k, [values, gradient, velocity]) => k[rule]({ values: values!, gradient: gradient!, velocity: velocity! }, n, constants),
+          true,
+          n + 1,
+        );
       }
     }
   });

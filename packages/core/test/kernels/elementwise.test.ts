@@ -42,14 +42,14 @@ describe('elementwise kernels', () => {
     for (let i = 0; i < 37; i++) expect(out[i]).toBe(i + a[i] + 2 * b[i] + a[i] * b[i]);
   });
 
-  it('addRow adds one row to every row and sumRows sums columns', () => {
+  it('addRow adds one row to every row, sumRows sums columns and sumRowsInto adds the sums', () => {
     const matrix = Float64Array.from({ length: 12 }, (_, i) => i);
     const row = Float64Array.of(10, 20, 30, 40);
     const out = kernels.addRow(new Float64Array(12), matrix, row, 3, 4);
     expect(Array.from(out)).toEqual([10, 21, 32, 43, 14, 25, 36, 47, 18, 29, 40, 51]);
     const sums = kernels.sumRows(new Float64Array(4), matrix, 3, 4);
     expect(Array.from(sums)).toEqual([12, 15, 18, 21]);
-    kernels.sumRows(sums, matrix, 3, 4, true);
+    kernels.sumRowsInto(sums, matrix, 3, 4);
     expect(Array.from(sums)).toEqual([24, 30, 36, 42]);
   });
 });

@@ -10,6 +10,8 @@ const rows = 3;
 const hidden = 4;
 const lengths = Int32Array.of(3, 1, 2);
 const step = 1;
+const at = { rows, hidden, lengths, step };
+const formOf = (resetAfter: boolean) => (resetAfter ? 'resetAfter' : 'resetBefore');
 const sigma = (x: number): number => 1 / (1 + Math.exp(-x));
 
 /** out [m, n] (+)= op(a) · op(b), written plainly here so the test composes the kernels the way a GRU cell does. */
@@ -57,7 +59,7 @@ function forward(x: Inputs, resetAfter: boolean) {
     product(candidate, resetHidden, x.recurrentCandidate, rows, hidden, hidden);
   }
   const h = new Float64Array(rows * hidden);
-  kernels.gruStepFinish(h, gates, x.projected, 0, candidate, x.hPrevious, resetAfter, rows, hidden, lengths, step);
+  kernels.gruStepFinish({ h, gates }, { projected: x.projected, projectedOffset: 0, candidate, hPrevious: x.hPrevious }, formOf(resetAfter), at);
   return { h, gates, candidate, resetHidden };
 }
 
@@ -103,29 +105,17 @@ describe("the GRU step kernels (Cho et al. 2014, in the ONNX GRU operator's two 
       const recurrentGradient = new Float64Array(hidden * 2 * hidden);
       const candidateWeightsGradient = new Float64Array(hidden * hidden);
       const candidateBiasGradient = new Float64Array(hidden);
-      kernels.gruBackwardCandidate(
-        updateResetGradient,
-        candidateGradient,
-        productGradient,
-        hPreviousGradient,
-        upstream,
-        gates,
-        candidate,
-        x.hPrevious,
-        resetAfter,
-        rows,
-        hidden,
-        lengths,
-        step,
-      );
+      const gradients = { updateReset: updateResetGradient, candidate: candidateGradient, product: productGradient, hPrevious: hPreviousGradient };
+      const saved = { gates, candidate, hPrevious: x.hPrevious };
+      kernels.gruBackwardCandidate(gradients, upstream, saved, formOf(resetAfter), at);
       if (resetAfter) {
         product(candidateWeightsGradient, x.hPrevious, productGradient, hidden, rows, hidden, true);
-        kernels.sumRows(candidateBiasGradient, productGradient, rows, hidden, true);
+        kernels.sumRowsInto(candidateBiasGradient, productGradient, rows, hidden);
         product(hPreviousGradient, productGradient, x.recurrentCandidate, rows, hidden, hidden, false, true);
       } else {
         const resetHiddenGradient = new Float64Array(rows * hidden);
         product(resetHiddenGradient, productGradient, x.recurrentCandidate, rows, hidden, hidden, false, true);
-        kernels.gruBackwardReset(updateResetGradient, hPreviousGradient, resetHiddenGradient, gates, x.hPrevious, rows, hidden, lengths, step);
+        kernels.gruBackwardReset(gradients, resetHiddenGradient, saved, at);
         product(candidateWeightsGradient, resetHidden, productGradient, hidden, rows, hidden, true);
       }
       product(hPreviousGradient, updateResetGradient, x.recurrent, rows, 2 * hidden, hidden, false, true);
@@ -157,25 +147,15 @@ describe("the runtime's whole-layer GRU step", () => {
       const spec = specGru({ x: [x], w, r, b, h0, lengths: Array.from(lengths), linearBeforeReset });
       const bias = Float64Array.from({ length: 3 * hidden }, (_, i) => b[i] + (linearBeforeReset && i >= 2 * hidden ? 0 : b[3 * hidden + i]));
       const candidateBias = linearBeforeReset ? Float64Array.from(b.slice(5 * hidden)) : null;
-      kernels.gruLayerStep(
-        flatX,
-        ours(w, [0, 1, 2]),
-        bias,
-        ours(r, [0, 1]),
-        ours(r, [2], 0, 1),
-        candidateBias,
-        state,
-        new Float64Array(rows * 3 * hidden),
-        new Float64Array(rows * 3 * hidden),
-        new Float64Array(rows * 2 * hidden),
-        new Float64Array(rows * hidden),
-        new Float64Array(rows * hidden),
-        rows,
-        width,
-        hidden,
-        lengths,
-        0,
-      );
+      const work = {
+        projected: new Float64Array(rows * 3 * hidden),
+        gates: new Float64Array(rows * 3 * hidden),
+        updateReset: new Float64Array(rows * 2 * hidden),
+        candidate: new Float64Array(rows * hidden),
+        resetHidden: new Float64Array(rows * hidden),
+      };
+      const weights = { input: ours(w, [0, 1, 2]), bias, recurrent: ours(r, [0, 1]), candidate: ours(r, [2], 0, 1), candidateBias };
+      kernels.gruLayerStep(state, flatX, weights, work, { rows, inputWidth: width, hidden, lengths, step: 0 });
       expect(worstGap(state, spec.yh.flat())).toBeLessThan(1e-14);
     });
   }

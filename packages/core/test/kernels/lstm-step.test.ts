@@ -10,6 +10,7 @@ const rows = 3;
 const hidden = 4;
 const lengths = Int32Array.of(3, 1, 2);
 const step = 1;
+const at = { rows, hidden, lengths, step };
 const sigma = (x: number): number => 1 / (1 + Math.exp(-x));
 
 interface Inputs {
@@ -34,7 +35,7 @@ function forward(x: Inputs) {
   const c = new Float64Array(rows * hidden);
   const gates = Float64Array.from(x.pre);
   const tanhCell = new Float64Array(rows * hidden);
-  kernels.lstmStepForward(h, c, gates, tanhCell, x.hPrevious, x.cPrevious, x.peephole, rows, hidden, lengths, step);
+  kernels.lstmStepForward({ h, c, gates, tanhCell }, { h: x.hPrevious, c: x.cPrevious }, x.peephole, at);
   return { h, c, gates, tanhCell };
 }
 
@@ -80,21 +81,10 @@ describe('the LSTM step kernels (Gers, Schmidhuber & Cummins 2000; peepholes: Ge
       const cPreviousGradient = new Float64Array(rows * hidden);
       const peepholeGradient = peepholes ? new Float64Array(3 * hidden) : null;
       kernels.lstmStepBackward(
-        gateGradient,
-        hPreviousGradient,
-        cPreviousGradient,
-        peepholeGradient,
-        towardH,
-        towardC,
-        gates,
-        tanhCell,
-        x.cPrevious,
-        c,
-        x.peephole,
-        rows,
-        hidden,
-        lengths,
-        step,
+        { gates: gateGradient, hPrevious: hPreviousGradient, cPrevious: cPreviousGradient, peephole: peepholeGradient },
+        { h: towardH, c: towardC },
+        { gates, tanhCell, cPrevious: x.cPrevious, c, peephole: x.peephole },
+        at,
       );
       expect(worstGap(gateGradient, numericGradient(objective, x.pre))).toBeLessThan(1e-8);
       expect(worstGap(cPreviousGradient, numericGradient(objective, x.cPrevious))).toBeLessThan(1e-8);
@@ -126,20 +116,11 @@ describe("the runtime's whole-layer LSTM step", () => {
     const peephole = Float64Array.from([...p.slice(0, hidden), ...p.slice(2 * hidden), ...p.slice(hidden, 2 * hidden)]);
     const cell = Float64Array.from(c0.flat());
     kernels.lstmLayerStep(
+      { h: state, c: cell },
       flatX,
-      ours(w, blocks),
-      ours(r, blocks),
-      bias,
-      peephole,
-      state,
-      cell,
-      new Float64Array(rows * 4 * hidden),
-      new Float64Array(rows * hidden),
-      rows,
-      width,
-      hidden,
-      lengths,
-      0,
+      { input: ours(w, blocks), recurrent: ours(r, blocks), bias, peephole },
+      { gates: new Float64Array(rows * 4 * hidden), tanhCell: new Float64Array(rows * hidden) },
+      { rows, inputWidth: width, hidden, lengths, step: 0 },
     );
     expect(worstGap(state, spec.yh.flat())).toBeLessThan(1e-14);
     expect(worstGap(cell, spec.yc!.flat())).toBeLessThan(1e-14);

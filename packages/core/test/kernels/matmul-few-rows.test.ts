@@ -3,6 +3,7 @@ import { matrix, multiply, transpose } from 'mathjs';
 import type { Matrix } from 'mathjs';
 import { Random } from '@weft/core';
 import { matmulFewRows } from '../../src/kernels/matmul-few-rows.js';
+import { productShape, transposedOf } from '../../src/kernels/shapes.js';
 
 // Reference: mathjs `multiply` (a general-purpose npm library, used at test time only).
 function reference(a: number[][], b: number[][]): number[] {
@@ -26,9 +27,9 @@ describe('the matrix product for fewer than four rows', () => {
           const storedA = Float64Array.from((transposeA ? (transpose(a) as number[][]) : a).flat());
           const storedB = Float64Array.from((transposeB ? (transpose(b) as number[][]) : b).flat());
           const out = new Float64Array(rows * cols).fill(0.5);
-          matmulFewRows(out, storedA, storedB, rows, inner, cols, transposeA, transposeB, false);
+          matmulFewRows(out, storedA, storedB, productShape(rows, inner, cols, transposedOf(transposeA, transposeB)), false);
           expect(Math.max(...Array.from(out, (v, i) => Math.abs(v - expected[i])))).toBeLessThan(1e-12);
-          matmulFewRows(out, storedA, storedB, rows, inner, cols, transposeA, transposeB, true);
+          matmulFewRows(out, storedA, storedB, productShape(rows, inner, cols, transposedOf(transposeA, transposeB)), true);
           expect(Math.max(...Array.from(out, (v, i) => Math.abs(v - 2 * expected[i])))).toBeLessThan(1e-12);
         }
       }

@@ -40,20 +40,20 @@ describe('matmul kernel', () => {
           const storedA = transposeA ? flat(transpose(a)) : flat(a);
           const storedB = transposeB ? flat(transpose(b)) : flat(b);
           const out = new Float64Array(rows * cols);
-          kernels.matmul(out, storedA, storedB, rows, inner, cols, transposeA, transposeB);
+          kernels.matmul(out, storedA, storedB, kernels.productShape(rows, inner, cols, kernels.transposedOf(transposeA, transposeB)));
           expect(worstGap(out, reference(a, b))).toBeLessThanOrEqual(1e-12);
         });
       }
     }
   }
 
-  it('adds into out when accumulating', () => {
+  it('adds into out in matmulInto', () => {
     const random = new Random(7);
     const a = randomMatrix(random, 6, 5);
     const b = randomMatrix(random, 5, 3);
     const start = Float64Array.from({ length: 18 }, (_, i) => i * 0.5);
     const out = Float64Array.from(start);
-    kernels.matmul(out, flat(a), flat(b), 6, 5, 3, false, false, true);
+    kernels.matmulInto(out, flat(a), flat(b), { rows: 6, inner: 5, cols: 3 });
     const product = reference(a, b);
     const expected = start.map((v, i) => v + product[i]);
     expect(worstGap(out, expected)).toBeLessThanOrEqual(1e-12);
@@ -66,7 +66,7 @@ describe('matmul kernel', () => {
     const a32 = Float32Array.from(a.flat());
     const b32 = Float32Array.from(b.flat());
     const out = new Float32Array(48);
-    kernels.matmul(out, a32, b32, 8, 12, 6);
+    kernels.matmul(out, a32, b32, { rows: 8, inner: 12, cols: 6 });
     // Reference: mathjs on the f32 values widened to f64, then rounded once to f32.
     const widenedA = Array.from({ length: 8 }, (_, r) => Array.from(a32.subarray(r * 12, r * 12 + 12)));
     const widenedB = Array.from({ length: 12 }, (_, r) => Array.from(b32.subarray(r * 6, r * 6 + 6)));
@@ -80,9 +80,9 @@ describe('matmul kernel', () => {
     // the later columns read overwritten inputs.
     const a = Float64Array.from({ length: 8 }, (_, i) => i + 1);
     const b = Float64Array.from({ length: 64 }, (_, i) => (i % 5) - 2);
-    const expected = kernels.matmul(new Float64Array(8), a, b, 1, 8, 8);
+    const expected = kernels.matmul(new Float64Array(8), a, b, { rows: 1, inner: 8, cols: 8 });
     const aliased = Float64Array.from(a);
-    kernels.matmul(aliased, aliased, b, 1, 8, 8);
+    kernels.matmul(aliased, aliased, b, { rows: 1, inner: 8, cols: 8 });
     expect(Array.from(aliased)).not.toEqual(Array.from(expected));
   });
 
@@ -90,7 +90,7 @@ describe('matmul kernel', () => {
     const random = new Random(3);
     const a = flat(randomMatrix(random, 10, 20));
     const b = flat(randomMatrix(random, 20, 30));
-    const fast = kernels.matmul(new Float64Array(300), a, b, 10, 20, 30);
+    const fast = kernels.matmul(new Float64Array(300), a, b, { rows: 10, inner: 20, cols: 30 });
     const slow = kernels.matmulNaive(new Float64Array(300), a, b, 10, 20, 30);
     expect(worstGap(fast, slow)).toBeLessThanOrEqual(1e-13);
   });
@@ -103,7 +103,7 @@ describe("the readout's affine map", () => {
     const x = table(random, 3, 6);
     const weights = table(random, 6, 2);
     const bias = Float64Array.of(0.5, -2);
-    const out = kernels.affineRows(new Float64Array(6), bias, Float64Array.from(x.flat()), Float64Array.from(weights.flat()), 3, 6, 2);
+    const out = kernels.affineRows(new Float64Array(6), Float64Array.from(x.flat()), Float64Array.from(weights.flat()), bias, { rows: 3, inner: 6, cols: 2 });
     const product = ((multiply(matrix(x), matrix(weights)) as Matrix).toArray() as number[][]).flat();
     expect(
       worstGap(

@@ -10,10 +10,12 @@ const rows = 3;
 const hidden = 4;
 const lengths = Int32Array.of(3, 1, 2);
 const step = 1;
+const at = { rows, hidden, lengths, step };
+const activationOf = (rectified: boolean) => (rectified ? 'relu' : 'tanh');
 
 function forward(pre: Float64Array, hPrevious: Float64Array, rectified: boolean): Float64Array {
   const h = Float64Array.from(pre);
-  kernels.plainStepForward(h, hPrevious, rectified, rows, hidden, lengths, step);
+  kernels.plainStepForward(h, hPrevious, activationOf(rectified), at);
   return h;
 }
 
@@ -44,7 +46,7 @@ describe('the plain step kernels (Elman 1990: h = φ(a))', () => {
       const h = forward(pre, hPrevious, rectified);
       const preGradient = new Float64Array(rows * hidden).fill(7);
       const hPreviousGradient = new Float64Array(rows * hidden);
-      kernels.plainStepBackward(preGradient, hPreviousGradient, upstream, h, rectified, rows, hidden, lengths, step);
+      kernels.plainStepBackward({ pre: preGradient, hPrevious: hPreviousGradient }, upstream, h, activationOf(rectified), at);
       const numeric = numericGradient(() => weighted(forward(pre, hPrevious, rectified), upstream), pre);
       expect(worstGap(preGradient, numeric)).toBeLessThan(1e-8);
       const numericPrevious = numericGradient(() => weighted(forward(pre, hPrevious, rectified), upstream), hPrevious);
@@ -65,9 +67,11 @@ describe("the runtime's whole-layer plain step", () => {
     const spec = specRnn({ x: [x], w, r, b, h0, lengths: Array.from(lengths) });
     const bias = Float64Array.from({ length: hidden }, (_, j) => b[j] + b[hidden + j]);
     const relu = Float64Array.from(state);
-    kernels.plainLayerStep(flatX, ours(w, [0]), ours(r, [0]), bias, state, new Float64Array(rows * hidden), false, rows, width, hidden, lengths, 0);
+    const weights = { input: ours(w, [0]), recurrent: ours(r, [0]), bias };
+    const place = { rows, inputWidth: width, hidden, lengths, step: 0 };
+    kernels.plainLayerStep(state, flatX, weights, new Float64Array(rows * hidden), 'tanh', place);
     expect(worstGap(state, spec.yh.flat())).toBeLessThan(1e-14);
-    kernels.plainLayerStep(flatX, ours(w, [0]), ours(r, [0]), bias, relu, new Float64Array(rows * hidden), true, rows, width, hidden, lengths, 0);
+    kernels.plainLayerStep(relu, flatX, weights, new Float64Array(rows * hidden), 'relu', place);
     for (let row = 0; row < rows; row++) {
       for (let j = 0; j < hidden; j++) {
         let a = bias[j];

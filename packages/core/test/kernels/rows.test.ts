@@ -22,18 +22,20 @@ describe('the row helpers for ragged batches (a row past its length holds its st
   it("forward: copy a held row's previous state across and say so; leave an active row alone", () => {
     const state = Float64Array.of(0, 0, 0, 0);
     const previous = Float64Array.of(1, 2, 3, 4);
-    expect(holdRow(lengths, 0, 2, state, previous, 0, 2)).toBe(true);
-    expect(holdRow(lengths, 1, 2, state, previous, 2, 2)).toBe(false);
+    const at = { rows: 2, hidden: 2, lengths, step: 2 };
+    expect(holdRow(at, 0, state, previous)).toBe(true);
+    expect(holdRow(at, 1, state, previous)).toBe(false);
     expect(Array.from(state)).toEqual([1, 2, 0, 0]);
   });
 
   it("backward: zero a held row's gate gradients and pass its state gradient to the previous state", () => {
     const gates = Float64Array.of(5, 5, 5, 5, 5, 5);
     const previousGradient = Float64Array.of(1, 1);
-    expect(passHeldRow(lengths, 0, 3, previousGradient, Float64Array.of(0.5, 0.25), 0, 2, gates, 0, 3)).toBe(true);
+    const at = { rows: 2, hidden: 2, lengths, step: 3 };
+    expect(passHeldRow(at, 0, previousGradient, Float64Array.of(0.5, 0.25, 0, 0), gates, 3)).toBe(true);
     expect(Array.from(gates)).toEqual([0, 0, 0, 5, 5, 5]);
     expect(Array.from(previousGradient)).toEqual([1.5, 1.25]);
-    expect(passHeldRow(lengths, 1, 3, previousGradient, Float64Array.of(9, 9), 0, 2, gates, 3, 6)).toBe(false);
+    expect(passHeldRow(at, 1, previousGradient, Float64Array.of(9, 9, 9, 9), gates, 3)).toBe(false);
     expect(Array.from(gates)).toEqual([0, 0, 0, 5, 5, 5]);
   });
 });

@@ -14,7 +14,16 @@ describe('the update-rule loops', () => {
     const m0 = b1 * 0.01 + (1 - b1) * g0;
     const v0 = b2 * 0.001 + (1 - b2) * g0 * g0;
     const theta0 = 0.5 - (rate * (m0 / c1 / (Math.sqrt(v0 / c2) + eps)) + decay * 0.5);
-    kernels.adamUpdate(values, gradient, m, v, 2, b1, b2, c1, c2, rate, decay, kappa, eps);
+    kernels.adamUpdate({ values, gradient, firstMoment: m, secondMoment: v }, 2, {
+      beta1: b1,
+      beta2: b2,
+      correction1: c1,
+      correction2: c2,
+      rate,
+      decay,
+      kappa,
+      epsilon: eps,
+    });
     expect([m[0], v[0], values[0]]).toEqual([m0, v0, theta0]);
   });
 
@@ -22,7 +31,8 @@ describe('the update-rule loops', () => {
     for (const nesterov of [false, true]) {
       const values = Float64Array.of(1);
       const velocity = Float64Array.of(0.5);
-      kernels.sgdUpdate(values, Float64Array.of(0.2), velocity, 1, 0.1, 0, 0.9, 0, nesterov);
+      const update = nesterov ? kernels.nesterovUpdate : kernels.sgdUpdate;
+      update({ values, gradient: Float64Array.of(0.2), velocity }, 1, { rate: 0.1, decay: 0, mu: 0.9, kappa: 0 });
       const v = 0.9 * 0.5 + 0.2;
       expect(velocity[0]).toBe(v);
       expect(values[0]).toBe(1 - 0.1 * (nesterov ? 0.2 + 0.9 * v : v));

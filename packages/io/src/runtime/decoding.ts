@@ -9,7 +9,7 @@
  * Why one file of this length: the runtime and its Decoding share the attention weights' layout and the encoder's
  * outputs in the source's order; beam search (beam.ts) is apart because it only steps a Decoding.
  */
-import { WeftError, fail } from '@weft/core/base';
+import { WeftError, fail, productShape, refill } from '@weft/core/base';
 import type { AttentionForm, EncoderDecoderDescription, CellPlans } from '@weft/cells/description';
 import { attentionLayout, isEncoderDecoder } from '@weft/cells/description';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
@@ -282,6 +282,8 @@ export class Decoding {
   private readonly attentional: Float32Array;
   private readonly logits: Float32Array;
   private readonly zeros: Float32Array;
+  /** The affine maps' size record, refilled per call. */
+  private readonly product = productShape(0, 0, 0);
   private readonly state: Float32Array;
   private readonly gathered: Float32Array;
   // An encoder whose layers all run forward is streamed token by token into buffers made once; one with a layer
@@ -376,7 +378,13 @@ export class Decoding {
     if (attention === null) return;
     if (attention.keys !== null) {
       const d = this.runtime.decoder.outputWidth;
-      this.runtime.decoder.backend.kernels.affineRows(this.keys, this.zeros, this.values, attention.keys, source.length, this.runtime.encodedWidth, d);
+      this.runtime.decoder.backend.kernels.affineRows(
+        this.keys,
+        this.values,
+        attention.keys,
+        this.zeros,
+        refill(this.product, source.length, this.runtime.encodedWidth, d),
+      );
     }
   }
 
@@ -425,7 +433,7 @@ export class Decoding {
     const kernels = this.runtime.decoder.backend.kernels;
     const additive = attention.form === 'additive';
     const query = additive ? this.queries : h;
-    if (additive) kernels.affineRows(this.queries, this.zeros, h, attention.query as Float32Array, rows, d, d);
+    if (additive) kernels.affineRows(this.queries, h, attention.query as Float32Array, this.zeros, refill(this.product, rows, d, d));
     const keys = attention.form === 'dot' ? values : this.keys;
     const vector = attention.vector;
     const stride = this.maxSourceLength;
@@ -457,9 +465,9 @@ export class Decoding {
       }
       for (let j = 0; j < d; j++) joined[row + e + j] = h[r * d + j];
     }
-    kernels.affineRows(this.attentional, this.zeros, joined, attention.combine, rows, e + d, d);
+    kernels.affineRows(this.attentional, joined, attention.combine, this.zeros, refill(this.product, rows, e + d, d));
     for (let i = 0; i < rows * d; i++) this.attentional[i] = Math.tanh(this.attentional[i]);
-    kernels.affineRows(this.logits, attention.readoutBias, this.attentional, attention.readoutWeights, rows, d, this.runtime.outputWidth);
+    kernels.affineRows(this.logits, this.attentional, attention.readoutWeights, attention.readoutBias, refill(this.product, rows, d, this.runtime.outputWidth));
     return this.logits;
   }
 

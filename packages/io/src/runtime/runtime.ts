@@ -11,7 +11,7 @@
  * Why one file of this length: Runtime and Streams share one preallocated buffer layout (weights, per-layer state
  * and scratch); keeping them together keeps that layout in one place.
  */
-import { WeftError, fail } from '@weft/core/base';
+import { WeftError, fail, productShape, refill } from '@weft/core/base';
 import type { Problem } from '@weft/core/base';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
 import { isEncoderDecoder, joinFeatures, layerPath, modelLayout, planOf, reverseRows, runtimeCell, zeroBeyond } from '@weft/cells/description';
@@ -71,6 +71,8 @@ export class Runtime {
   private readonly readoutWeights: Float32Array | null;
   private readonly readoutBias: Float32Array | null;
   private readonly featureWidth: number;
+  /** The readout's size record, refilled per call. */
+  private readonly product = productShape(0, 0, 0);
   /** The weights copied into the backend's memory, given back by `close`. */
   private readonly owned: Float32Array[] = [];
   private closedBy = false;
@@ -265,7 +267,13 @@ export class Runtime {
     if (this.readoutWeights === null || this.readoutBias === null) {
       for (let i = 0; i < positions * this.outputWidth; i++) out[i] = features[i];
     } else {
-      this.backend.kernels.affineRows(out, this.readoutBias, features, this.readoutWeights, positions, this.featureWidth, this.outputWidth);
+      this.backend.kernels.affineRows(
+        out,
+        features,
+        this.readoutWeights,
+        this.readoutBias,
+        refill(this.product, positions, this.featureWidth, this.outputWidth),
+      );
     }
     if (lengths !== null) zeroBeyond(out, out, { steps: positions / batch, rows: batch, width: this.outputWidth }, lengths);
     return out;
