@@ -17,8 +17,7 @@ import { logistic } from './logistic.js';
 import { holdRow, isHeld, passHeldRow } from './rows.js';
 import { matmul } from './matmul.js';
 import { addRow } from './elementwise.js';
-import type { ProductShape } from './shapes.js';
-import { refill } from './shapes.js';
+import { productShape, refill } from './shapes.js';
 import type { GruFinishInputs, GruForm, GruSaved, GruStepGradients, GruStepOut, GruWeights, GruWork, LayerStepAt, StepAt } from './step-records.js';
 
 /**
@@ -173,8 +172,8 @@ export function gruLayerStep(h: FloatArray, x: FloatArray, weights: GruWeights, 
 }
 
 /** The layer step's own records, made once and refilled per call (kernels are synchronous and not re-entered). */
-const inputProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
-const gateProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
-const candidateProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const inputProduct = productShape(0, 0, 0);
+const gateProduct = productShape(0, 0, 0);
+const candidateProduct = productShape(0, 0, 0);
 const layerOut: GruStepOut = { h: new Float32Array(0), gates: new Float32Array(0) };
 const layerInputs: GruFinishInputs = { projected: new Float32Array(0), projectedOffset: 0, candidate: new Float32Array(0), hPrevious: new Float32Array(0) };

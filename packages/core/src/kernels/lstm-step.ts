@@ -15,8 +15,7 @@ import { logistic } from './logistic.js';
 import { addRowInto, copyRow, holdRow, passHeldRow } from './rows.js';
 import { matmul, matmulInto } from './matmul.js';
 import { addRow } from './elementwise.js';
-import type { ProductShape } from './shapes.js';
-import { refill } from './shapes.js';
+import { productShape, refill } from './shapes.js';
 import type { LayerStepAt, LstmArriving, LstmSaved, LstmState, LstmStepGradients, LstmStepOut, LstmWeights, LstmWork, StepAt } from './step-records.js';
 
 /**
@@ -149,6 +148,6 @@ export function lstmLayerStep(state: LstmState, x: FloatArray, weights: LstmWeig
 }
 
 /** The layer step's own records, made once and refilled per call (kernels are synchronous and not re-entered). */
-const inputProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
-const recurrentProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const inputProduct = productShape(0, 0, 0);
+const recurrentProduct = productShape(0, 0, 0);
 const layerOut: LstmStepOut = { h: new Float32Array(0), c: new Float32Array(0), gates: new Float32Array(0), tanhCell: new Float32Array(0) };

@@ -23,23 +23,25 @@ const BLOCK = 4;
 
 /** out = op(a) · op(b). */
 export function matmul(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape): FloatArray {
-  return product(out, a, b, shape, false);
+  // Fewer rows than a block (the streaming case) goes straight to the in-place product: no packing, one call less.
+  if (shape.rows < BLOCK) matmulFewRows(out, a, b, shape, false);
+  else product(out, a, b, shape, false);
+  return out;
 }
 
 /** out += op(a) · op(b). */
 export function matmulInto(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape): FloatArray {
-  return product(out, a, b, shape, true);
+  if (shape.rows < BLOCK) matmulFewRows(out, a, b, shape, true);
+  else product(out, a, b, shape, true);
+  return out;
 }
 
 /** The 16 accumulators of an edge block, row-major, written out entry by entry (made once). */
 const corner = new Float64Array(16);
 
-function product(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: boolean): FloatArray {
+/** The packed product for at least 4 rows. */
+function product(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: boolean): void {
   const { rows, inner, cols } = shape;
-  if (rows < BLOCK) {
-    matmulFewRows(out, a, b, shape, accumulate);
-    return out;
-  }
   const rowBlocks = Math.ceil(rows / BLOCK);
   const colBlocks = Math.ceil(cols / BLOCK);
   const left = scratch(SCRATCH_LEFT, rowBlocks * inner * BLOCK);
@@ -171,7 +173,6 @@ function product(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductSh
       }
     }
   }
-  return out;
 }
 
 /** Packs op(a) [rows, inner] into blocks of 4 rows, k-major: left[(block·inner + k)·4 + r]; missing rows are 0. */

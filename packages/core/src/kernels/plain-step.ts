@@ -6,8 +6,7 @@ import type { FloatArray } from '../dtype.js';
 import { holdRow, passHeldRow } from './rows.js';
 import { matmul, matmulInto } from './matmul.js';
 import { addRow } from './elementwise.js';
-import type { ProductShape } from './shapes.js';
-import { refill } from './shapes.js';
+import { productShape, refill } from './shapes.js';
 import type { LayerStepAt, PlainStepGradients, PlainWeights, StepActivation, StepAt } from './step-records.js';
 
 /**
@@ -70,5 +69,5 @@ export function plainLayerStep(h: FloatArray, x: FloatArray, weights: PlainWeigh
 }
 
 /** The layer step's own records, made once and refilled per call (kernels are synchronous and not re-entered). */
-const inputProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
-const recurrentProduct: ProductShape = { rows: 0, inner: 0, cols: 0 };
+const inputProduct = productShape(0, 0, 0);
+const recurrentProduct = productShape(0, 0, 0);
