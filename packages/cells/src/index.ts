@@ -1,6 +1,5 @@
 /** @weft/cells: recurrent cells (plain, LSTM, GRU, your own), sequence layers and the model description. */
 export type { CellMode, CellStep, FusedSequence, NamedParameter, RecurrentCell, SequenceResult, StateSlot } from './cell.js';
-export { hasFusedSequence } from './cell.js';
 export type { CommonCellOptions } from './recurrence.js';
 export type { LstmOptions } from './lstm.js';
 export { LstmCell } from './lstm.js';
@@ -9,18 +8,7 @@ export { GruCell } from './gru.js';
 export type { PlainActivation, PlainOptions } from './plain.js';
 export { PlainCell } from './plain.js';
 export { fillIdentity, fillOrthogonal, fillUniform, glorotBound, orthogonalMatrix } from './init.js';
-export {
-  allActive,
-  copyLastSteps,
-  holdInactiveRows,
-  isActive,
-  joinSteps,
-  lastSteps,
-  reverseWithinLengths,
-  stackSteps,
-  timeStep,
-  zeroBeyondLengths,
-} from './sequence-ops.js';
+export { joinSteps, lastSteps, reverseWithinLengths, stackSteps, zeroBeyondLengths } from './sequence-ops.js';
 export type { SequenceOptions } from './layer.js';
 export { checkLengths, runBidirectional, runReversed, runSequence } from './layer.js';
 export type {
@@ -34,7 +22,7 @@ export type {
   ReadoutDescription,
   ValuesInput,
 } from './description.js';
-export { ATTENTION_FORMS, MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, hiddenProblem, isEncoderDecoder } from './description.js';
+export { ATTENTION_FORMS, MAX_HIDDEN, checkDescription, describeAnyProblems, describeProblems, isEncoderDecoder } from './description.js';
 export type { LayerLayout, ModelLayout, ParameterLayout } from './layout.js';
 export type {
   CellPlan,
@@ -51,14 +39,14 @@ export type {
 export type { CellPlans } from './plans/index.js';
 export { builtInPlans, checkPlans, isNamespacedKind, namespacedKinds, planOf } from './plans/index.js';
 export { traceStep } from './plans/trace.js';
-export type { PlanCellOptions, StepTensors } from './plan-cell.js';
-export { PlanCell, initialisePlanParameters, stepOnTape, stepTensors } from './plan-cell.js';
-export { attentionLayout, cellLayout, layerDirections, layerPath, modelLayout, parameterLayout } from './layout.js';
+export type { PlanCellOptions } from './plan-cell.js';
+export { PlanCell, stepOnTape } from './plan-cell.js';
+export { attentionLayout, layerPath, modelLayout, parameterLayout } from './layout.js';
 export type { EncoderDecoderRun, EncoderDecoderRunOptions } from './encoder-decoder.js';
-export { EncoderDecoderModel, decoderStart, reverseTokens } from './encoder-decoder.js';
+export { EncoderDecoderModel } from './encoder-decoder.js';
 export type { BuildOptions, CellMaker, CellRequest, ModelLayer, ModelRunOptions, ModelRunResult, ModelStateSlot, TokenBatch } from './model.js';
 export { SequenceModel, buildModel } from './model.js';
 export * as stepKernels from './kernels/index.js';
 export type { AttentionStep } from './attention.js';
 export { attend } from './attention.js';
-export { medianOfMembers, stackMembers, stackedDescription } from './ensemble.js';
+export { medianOfMembers } from './ensemble.js';

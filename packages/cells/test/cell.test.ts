@@ -1,5 +1,6 @@
 import { describe, expect, it } from 'vitest';
-import { GruCell, hasFusedSequence } from '@weft/cells';
+import { GruCell } from '@weft/cells';
+import { hasFusedSequence } from '@weft/cells/internal';
 import type { RecurrentCell } from '@weft/cells';
 
 describe('the cell contract', () => {

@@ -6,7 +6,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Tape, checkGradients, crossEntropyAtTargets, reshape } from '@weft/core';
-import { EncoderDecoderModel, decoderStart, parameterLayout, reverseTokens } from '@weft/cells';
+import { EncoderDecoderModel, parameterLayout } from '@weft/cells';
+import { decoderStart, reverseTokens } from '@weft/cells/internal';
 import type { AttentionForm, EncoderDecoderDescription } from '@weft/cells';
 
 const description = {

@@ -6,7 +6,8 @@
 import { describe, expect, it } from 'vitest';
 import { median } from 'mathjs';
 import { Random, Tape, tensor } from '@weft/core';
-import { buildModel, medianOfMembers, stackMembers, stackedDescription } from '@weft/cells';
+import { buildModel, medianOfMembers } from '@weft/cells';
+import { stackMembers, stackedDescription } from '@weft/cells/internal';
 import type { ModelDescription } from '@weft/cells';
 
 const descriptions: Record<string, ModelDescription> = {

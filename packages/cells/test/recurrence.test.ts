@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { Tape, zeros } from '@weft/core';
-import { GruCell, LstmCell, MAX_HIDDEN, PlainCell, buildModel, hiddenProblem, runSequence } from '@weft/cells';
+import { GruCell, LstmCell, MAX_HIDDEN, PlainCell, buildModel, runSequence } from '@weft/cells';
+import { hiddenProblem } from '@weft/cells/internal';
 
 describe('what the built-in cells share: their options and the checks at their boundary', () => {
   const tape = new Tape();

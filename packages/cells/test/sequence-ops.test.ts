@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { Tape, checkGradients, multiply, sum, tensor, trainable } from '@weft/core';
-import { copyLastSteps, lastSteps } from '@weft/cells';
+import { lastSteps } from '@weft/cells';
+import { copyLastSteps } from '@weft/cells/internal';
 
 // A time-major batch [T = 3, B = 3, F = 2] whose entry (t, b, j) is 100·t + 10·b + j, so every value says where it
 // came from.

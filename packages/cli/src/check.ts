@@ -4,7 +4,8 @@
  * --export NAME) a cell plan (CellPlan of @weft/cells, the form --cell-module trains), or a function that makes the
  * cell: ({ inputWidth, hidden, dtype }) => RecurrentCell.
  */
-import { MAX_FAILED_SHOWN, Random, add, checkGradients, multiply, randomUniform, sum } from '@weft/core';
+import { Random, add, checkGradients, multiply, randomUniform, sum } from '@weft/core';
+import { MAX_FAILED_SHOWN } from '@weft/core/internal';
 import type { GradientCheckOptions, GradientReport, Tape, Tensor } from '@weft/core';
 import { GruCell, LstmCell, PlainCell, PlanCell, runSequence } from '@weft/cells';
 import type { RecurrentCell } from '@weft/cells';

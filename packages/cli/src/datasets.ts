@@ -12,7 +12,8 @@
  */
 import { Random, fail, indexOfLargest } from '@weft/core';
 import type { ModelDescription, SequenceModel } from '@weft/cells';
-import { figuresOn, forEachOutputBatch, sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
+import { sequenceBatches, streamBatches, wholeStream } from '@weft/optim';
+import { figuresOn, forEachOutputBatch } from '@weft/optim/internal';
 import type { DataSource, LabelledSequence } from '@weft/optim';
 import {
   UNKNOWN_TOKEN,
@@ -25,10 +26,10 @@ import {
   columnNamed,
   columnStatistics,
   decimal,
-  fieldPath,
   parseTable,
   readStepTable,
 } from '@weft/io';
+import { fieldPath } from '@weft/io/internal';
 import { prepareSeries } from '@weft/io';
 import type {
   ChosenSettings,
@@ -41,7 +42,8 @@ import type {
   WeightMetadata,
 } from '@weft/io';
 
-export type { Contender, HeldOutReport } from '@weft/io';
+export type { HeldOutReport } from '@weft/io';
+export type { Contender } from '@weft/io/internal';
 import { CommandError } from './errors.js';
 
 export type Task = 'forecast' | 'text' | 'classify';

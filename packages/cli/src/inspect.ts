@@ -7,7 +7,7 @@ import { shown } from './terminal.js';
 import { importSummary, isWeightFileText, readBytes } from './convert.js';
 import { WeftError, describeProblem } from '@weft/core';
 import { decodeOnnxModel, importOnnx } from '@weft/io/onnx';
-import { layoutProblems } from '@weft/io';
+import { layoutProblems } from '@weft/io/internal';
 import { parameterLayout } from '@weft/cells';
 
 export const inspectFlags: FlagSpec[] = [

@@ -3,7 +3,8 @@
  * "<target> in <rows>" columns), and with `--ahead` the rows past the end.
  */
 import type { Runtime } from '@weft/io/runtime';
-import { createRowForecaster, fieldPath, forecastIntervals, forecastPanel, seriesMetadata } from '@weft/io';
+import { createRowForecaster, forecastIntervals, forecastPanel } from '@weft/io';
+import { fieldPath, seriesMetadata } from '@weft/io/internal';
 import { TraceRecorder } from './forecast-plot.js';
 import type { ForecastTrace } from './forecast-plot.js';
 import type { Table } from '@weft/io';

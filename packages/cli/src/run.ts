@@ -13,7 +13,8 @@
 import { fail, indexOfLargest } from '@weft/core';
 import { isEncoderDecoder } from '@weft/cells';
 import { createReadStream, existsSync, readFileSync } from 'node:fs';
-import { createTranslator, isJsonRecords, parseTable, fieldPath, readTable } from '@weft/io';
+import { createTranslator, isJsonRecords, parseTable, readTable } from '@weft/io';
+import { fieldPath } from '@weft/io/internal';
 import type { Table } from '@weft/io';
 import { loadWeightFile, writeFileAtomic } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';

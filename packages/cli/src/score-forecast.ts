@@ -10,25 +10,18 @@ import {
   baselineIntervals,
   createRowForecaster,
   createTranslator,
-  fieldPath,
   forecastBaselines,
   forecastMissing,
   forecastPanel,
   forecastReport,
-  forecastWords,
   insertSkippedTimes,
-  missingTest,
   numberAt,
-  panelReport,
-  pooledBaselineWidths,
   readTable,
   readTimeColumn,
   scoreForecaster,
   scoreIntervals,
-  seriesMetadata,
-  seriesRows,
-  withIntervals,
 } from '@weft/io';
+import { fieldPath, forecastWords, missingTest, panelReport, pooledBaselineWidths, seriesMetadata, seriesRows, withIntervals } from '@weft/io/internal';
 import type { HeldOutReport, Table } from '@weft/io';
 import type { Runtime } from '@weft/io/runtime';
 import { scoredCount } from './scored-part.js';

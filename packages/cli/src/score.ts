@@ -13,17 +13,8 @@
  */
 import { readData } from './train.js';
 import { Random, fail, indexOfLargest } from '@weft/core';
-import {
-  chooseLogistic,
-  classificationReport,
-  createTranslator,
-  fieldPath,
-  parseTable,
-  predictLogistic,
-  readStepTable,
-  sha256Hex,
-  summaryFeatures,
-} from '@weft/io';
+import { chooseLogistic, classificationReport, createTranslator, parseTable, predictLogistic, readStepTable, summaryFeatures } from '@weft/io';
+import { fieldPath, sha256Hex } from '@weft/io/internal';
 import type { Table } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';

@@ -4,7 +4,7 @@
  * itself when the sweep is gone.
  */
 import { readFileSync } from 'node:fs';
-import { sha256Hex } from '@weft/io';
+import { sha256Hex } from '@weft/io/internal';
 import { CommandError } from './errors.js';
 import type { RunResults } from './results.js';
 import type { Combination, SweepRow } from './sweep-types.js';

@@ -6,7 +6,8 @@
  */
 import { readFileSync } from 'node:fs';
 import { Random, fail } from '@weft/core';
-import { fieldPath, parseTable } from '@weft/io';
+import { parseTable } from '@weft/io';
+import { fieldPath } from '@weft/io/internal';
 import type { WeightFile } from '@weft/io';
 import { writeFileAtomic } from '@weft/io/node';
 import { createEncoderDecoderRuntime } from '@weft/io/runtime/encoder-decoder';

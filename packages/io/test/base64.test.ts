@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { decodeBase64Into, decodedLength, encodeBase64 } from '@weft/io';
+import { decodeBase64Into, decodedLength, encodeBase64 } from '@weft/io/internal';
 
 const text = (s: string) => new TextEncoder().encode(s);
 

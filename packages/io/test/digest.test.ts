@@ -2,7 +2,8 @@
 import { createHash } from 'node:crypto';
 import { afterEach, describe, expect, it, vi } from 'vitest';
 import { WeftError } from '@weft/core';
-import { readWeightFile, sha256Hex, writeWeightFile, modelTensors } from '@weft/io';
+import { readWeightFile, writeWeightFile, modelTensors } from '@weft/io';
+import { sha256Hex } from '@weft/io/internal';
 import { descriptions, shaken } from './models.js';
 
 const text = (s: string) => new TextEncoder().encode(s);

@@ -4,7 +4,8 @@
  * line naming it (worked by hand from docs/weight-format.md).
  */
 import { describe, expect, it } from 'vitest';
-import { forecastIntervals, forecastPanel, forecastRowsAhead, forecastWindow, seriesMetadata } from '@weft/io';
+import { forecastIntervals, forecastPanel, forecastRowsAhead, forecastWindow } from '@weft/io';
+import { seriesMetadata } from '@weft/io/internal';
 
 const window = { rows: 4, deviation: [0.5, 2], targetDeviation: [0.25] };
 

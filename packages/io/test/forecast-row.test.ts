@@ -4,7 +4,7 @@
  * reading for a model without a rule for them, is a one-line error naming the row and the column.
  */
 import { describe, expect, it } from 'vitest';
-import { missingTest } from '@weft/io';
+import { missingTest } from '@weft/io/internal';
 import { valueAt } from '../src/forecast-row.js';
 
 describe("reading a row's cells", () => {

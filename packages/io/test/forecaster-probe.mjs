@@ -4,7 +4,8 @@
 // during those rows are counted, then again while each row also makes one small object (the control: it shows the
 // count sees an allocation of that size).
 import { PerformanceObserver } from 'node:perf_hooks';
-import { buildModel, stackMembers } from '@weft/cells';
+import { buildModel } from '@weft/cells';
+import { stackMembers } from '@weft/cells/internal';
 import { createRowForecaster, createSeriesForecasters, modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
 

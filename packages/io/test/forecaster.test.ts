@@ -8,7 +8,8 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { median } from 'mathjs';
 import { Random } from '@weft/core';
-import { buildModel, stackMembers } from '@weft/cells';
+import { buildModel } from '@weft/cells';
+import { stackMembers } from '@weft/cells/internal';
 import {
   calendarInputs,
   createRowForecaster,
@@ -17,9 +18,9 @@ import {
   modelTensors,
   readWeightFile,
   runSmoothing,
-  seriesMetadata,
   writeWeightFile,
 } from '@weft/io';
+import { seriesMetadata } from '@weft/io/internal';
 import { createRuntime } from '@weft/io/runtime';
 
 const description = { input: { kind: 'values' as const, width: 2 }, layers: [{ cell: 'gru' as const, hidden: 6 }], readout: { width: 1 } };

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { fromHalfBits, toHalfBits } from '@weft/io';
+import { fromHalfBits, toHalfBits } from '@weft/io/internal';
 
 describe('IEEE 754-2008 binary16', () => {
   const pairs: [number, number][] = [

@@ -30,11 +30,9 @@ export type {
 } from './data.js';
 export { pairBatches, sequenceBatches, streamBatches, wholeStream } from './data.js';
 export type { TrainableModel } from './training/lookback.js';
-export type { ComputeHere, PlainBatch, ShardJob, ShardOutcome, ShardWorkers } from './training/shards.js';
-export { batchOf, computeJob, lossWeight, shardGradients, shardOf, shardRanges, shardSeed } from './training/shards.js';
-export type { ShardEndpoint, ShardThread, ThreadGroupOptions, ThreadStart } from './training/thread-group.js';
-export { ThreadGroup, canShareMemory, serveShards, serveShardsInWorker, startThreadGroup, webWorkerThread } from './training/thread-group.js';
+export type { ShardWorkers } from './training/shards.js';
+export type { ThreadGroupOptions, ThreadStart } from './training/thread-group.js';
+export { ThreadGroup, serveShardsInWorker, startThreadGroup, webWorkerThread } from './training/thread-group.js';
 export type { TrainingEvent, TrainerOptions, TrainingSnapshot, TrainingSummary } from './trainer.js';
-export type { OutputRows, SourceRunOptions, ValidationResult } from './training/evaluation.js';
-export { figuresOn, forEachOutputBatch } from './training/evaluation.js';
+export type { ValidationResult } from './training/evaluation.js';
 export { Trainer } from './trainer.js';

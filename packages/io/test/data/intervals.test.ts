@@ -7,7 +7,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { IntervalScoreSum, baselineErrors, baselineIntervals, conformalHalfWidth, forecastBaselines, reportLines, verdict } from '@weft/io';
+import { baselineErrors, baselineIntervals, conformalHalfWidth, forecastBaselines, reportLines, verdict } from '@weft/io';
+import { IntervalScoreSum } from '@weft/io/internal';
 import type { SeriesSplit } from '@weft/io';
 
 describe('prediction intervals', () => {

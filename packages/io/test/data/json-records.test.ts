@@ -8,7 +8,8 @@ import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { fieldPath, isJsonRecords, parseJsonRecords, readTable } from '@weft/io';
+import { isJsonRecords, parseJsonRecords, readTable } from '@weft/io';
+import { fieldPath } from '@weft/io/internal';
 
 const unemployment = fileURLToPath(new URL('../../../../node_modules/vega-datasets/data/unemployment-across-industries.json', import.meta.url));
 

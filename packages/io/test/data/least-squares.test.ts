@@ -5,7 +5,7 @@
 import { describe, expect, it } from 'vitest';
 import { multiply, qr, transpose, usolve } from 'mathjs';
 import { Random } from '@weft/core';
-import { leastSquares } from '@weft/io';
+import { leastSquares } from '@weft/io/internal';
 
 function referenceWeights(x: number[][], y: number[]): number[] {
   const { Q, R } = qr(x) as unknown as { Q: number[][]; R: number[][] };

@@ -5,7 +5,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { chooseLogistic, fitLogistic, logisticLoss, predictLogistic, summaryFeatures } from '@weft/io';
+import { chooseLogistic, fitLogistic, predictLogistic, summaryFeatures } from '@weft/io';
+import { logisticLoss } from '@weft/io/internal';
 
 describe('logistic regression on summary features', () => {
   it('summarises a sequence by mean, deviation, minimum, maximum, last value and slope per column', () => {

@@ -3,7 +3,7 @@
  * (1, 1) is known in closed form (Rosenbrock, The Computer Journal 3, 1960), from the usual start (−1.2, 1).
  */
 import { describe, expect, it } from 'vitest';
-import { minimise } from '@weft/io';
+import { minimise } from '@weft/io/internal';
 
 describe('Nelder–Mead minimisation', () => {
   it("finds the minimum of Rosenbrock's function from (−1.2, 1)", () => {

@@ -6,7 +6,7 @@
  * last observation forward are common practice.
  */
 import { describe, expect, it } from 'vitest';
-import { MISSING_MARKERS, fillColumn, missingTest } from '@weft/io';
+import { MISSING_MARKERS, fillColumn, missingTest } from '@weft/io/internal';
 import { gapLengths, interpolated, lastObserved } from '../../src/data/missing.js';
 
 const column = (values: number[]) => Float64Array.from(values);

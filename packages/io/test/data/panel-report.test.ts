@@ -5,7 +5,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { mean } from 'mathjs';
-import { forecastReport, panelReport, pooledBaselineWidths, pooledHalfWidths } from '@weft/io';
+import { forecastReport } from '@weft/io';
+import { panelReport, pooledBaselineWidths, pooledHalfWidths } from '@weft/io/internal';
 
 describe('the report of many series', () => {
   it('pools the validation errors of every series in units of its own scale for the half-widths, worked by hand', () => {

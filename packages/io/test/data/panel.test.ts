@@ -5,7 +5,8 @@
  * given, and bad tables are refused at their file:line:column. The report and the pooled intervals: panel-report.test.ts.
  */
 import { describe, expect, it } from 'vitest';
-import { prepareSeries, seriesRows, parseTable } from '@weft/io';
+import { prepareSeries, parseTable } from '@weft/io';
+import { seriesRows } from '@weft/io/internal';
 import type { SeriesWindows } from '@weft/io';
 
 const options = { window: 32, lookback: 0, streams: 8, validationShare: 0.1, testShare: 0.1, horizon: 1, seed: '1' };

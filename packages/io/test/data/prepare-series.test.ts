@@ -4,7 +4,8 @@
  * refused naming the flag.
  */
 import { describe, expect, it } from 'vitest';
-import { SLIDING_ROWS, prepareSeries } from '@weft/io';
+import { prepareSeries } from '@weft/io';
+import { SLIDING_ROWS } from '@weft/io/internal';
 
 const options = { window: 8, lookback: 0, streams: 4, validationShare: 0.1, testShare: 0.1, horizon: 1, seed: '1' };
 const table = (rows: number) =>

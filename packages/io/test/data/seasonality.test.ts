@@ -7,7 +7,8 @@
 import { describe, expect, it } from 'vitest';
 import { dot, mean, subtract } from 'mathjs';
 import { Random } from '@weft/core';
-import { autocorrelations, chooseSeason, isSeasonal, seasonalIndices, seasonalityLimit } from '@weft/io';
+import { chooseSeason, isSeasonal } from '@weft/io';
+import { autocorrelations, seasonalIndices, seasonalityLimit } from '@weft/io/internal';
 
 describe('seasons', () => {
   const random = new Random('seasons');

@@ -4,7 +4,8 @@
  * their file:line:column (skipped times on the grid are put back: skipped-times.ts); a column that counts rows or names several series noted.
  */
 import { describe, expect, it } from 'vitest';
-import { prepareSeries, seriesParts } from '@weft/io';
+import { prepareSeries } from '@weft/io';
+import { seriesParts } from '@weft/io/internal';
 
 const options = { window: 4, lookback: 0, streams: 2, validationShare: 0.2, testShare: 0.1, horizon: 1, seed: '1' };
 

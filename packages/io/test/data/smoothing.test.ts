@@ -11,7 +11,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { SmoothingStepper, fitSmoothing, initialStates, oneStepError, runSmoothing } from '@weft/io';
+import { fitSmoothing, runSmoothing } from '@weft/io';
+import { SmoothingStepper, initialStates, oneStepError } from '@weft/io/internal';
 import type { SmoothingParameters } from '@weft/io';
 
 const base = { beta: 0, gamma: 0, phi: 1, trend: 0, seasonal: [] as number[], season: 1 };

@@ -7,7 +7,8 @@ import { readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { WeftError } from '@weft/core';
-import { columnNamed, columnStatistics, decimal, detectDelimiter, numberAt, parseTable } from '@weft/io';
+import { columnNamed, columnStatistics, decimal, numberAt, parseTable } from '@weft/io';
+import { detectDelimiter } from '@weft/io/internal';
 
 // vega-datasets (npm, development dependency) exports no subpaths, so its files are read from node_modules.
 const vega = (name: string): string => readFileSync(fileURLToPath(new URL(`../../../../node_modules/vega-datasets/data/${name}`, import.meta.url)), 'utf8');

@@ -7,7 +7,8 @@
  */
 import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
-import { fitSmoothing, lineSlope, runSmoothing, thetaForecasts } from '@weft/io';
+import { fitSmoothing, runSmoothing, thetaForecasts } from '@weft/io';
+import { lineSlope } from '@weft/io/internal';
 
 describe('the Theta method', () => {
   it("adds half the trend line's slope as drift to simple smoothing, as Hyndman & Billah write it", () => {

@@ -3,7 +3,8 @@
  * offsets) checked against JavaScript's own `Date.UTC` (ECMA-262 §21.4.1.28), and the spacing of rows.
  */
 import { describe, expect, it } from 'vitest';
-import { calendarCopies, parseTable, parseTime, readTimeColumn, timeSpacing } from '@weft/io';
+import { parseTable, parseTime, readTimeColumn, timeSpacing } from '@weft/io';
+import { calendarCopies } from '@weft/io/internal';
 
 describe('times in a column', () => {
   it('reads dates, date-times with offsets, year-months, year-quarters and years as UTC', () => {

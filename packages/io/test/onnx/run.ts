@@ -3,7 +3,7 @@
  * outputs as the graph's outputs (Y in its layout, Y_h and Y_c), using the binding the import recorded.
  */
 import { Tape, tensor } from '@weft/core';
-import { layerDirections } from '@weft/cells';
+import { layerDirections } from '@weft/cells/internal';
 import type { SequenceModel } from '@weft/cells';
 import type { OnnxBinding, OnnxTensor } from '@weft/io/onnx';
 

@@ -1,6 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { Random, Tape, defaultBackend, sharedPool, tensor } from '@weft/core';
+import { Random, Tape, defaultBackend, tensor } from '@weft/core';
+import { sharedPool } from '@weft/core/internal';
 import type { SequenceModel } from '@weft/cells';
 import { modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
 import { Runtime, createRuntime, runtimeCounts } from '@weft/io/runtime';

@@ -2,7 +2,7 @@
  * One training thread's script (started by threads.ts): it serves shards (`serveShards`) until it is ended.
  */
 import { parentPort, workerData } from 'node:worker_threads';
-import { serveShards } from '@weft/optim';
+import { serveShards } from '@weft/optim/internal';
 import type { ThreadStart } from '@weft/optim';
 
 if (parentPort === null) throw new Error('shard-worker.js runs as a worker thread (started by startTrainingThreads)');

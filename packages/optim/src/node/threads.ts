@@ -8,7 +8,8 @@ import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { Worker } from 'node:worker_threads';
 import { startThreadGroup } from '@weft/optim';
-import type { ShardThread, ThreadGroup, ThreadStart, TrainableModel } from '@weft/optim';
+import type { ThreadGroup, ThreadStart, TrainableModel } from '@weft/optim';
+import type { ShardThread } from '@weft/optim/internal';
 
 /** How `startTrainingThreads` starts its threads. */
 export interface TrainingThreadOptions {

@@ -4,7 +4,7 @@
  */
 import { describe, expect, it } from 'vitest';
 import { defaultBackend, zeros } from '@weft/core';
-import type { PoolCounts } from '@weft/core';
+import type { PoolCounts } from '@weft/core/internal';
 import { buildModel } from '@weft/cells';
 import { AdamRule, Trainer, sequenceBatches, streamBatches } from '@weft/optim';
 import type { DataSource } from '@weft/optim';

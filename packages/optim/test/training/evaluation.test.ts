@@ -1,7 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { Tape, defaultBackend, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { figuresOn, forEachOutputBatch, streamBatches } from '@weft/optim';
+import { streamBatches } from '@weft/optim';
+import { figuresOn, forEachOutputBatch } from '@weft/optim/internal';
 
 // One stream of 61 rows, windows of 12: evaluating window by window with the state carried must equal one run of
 // the model over the first 60 rows at once (the targets are rows 1–60).

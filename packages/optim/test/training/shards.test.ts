@@ -7,7 +7,7 @@
 import { describe, expect, it } from 'vitest';
 import { Random, Tape, Tensor, randomUniform } from '@weft/core';
 import { buildModel } from '@weft/cells';
-import { batchOf, lossWeight, shardGradients, shardOf, shardRanges } from '@weft/optim';
+import { batchOf, lossWeight, shardGradients, shardOf, shardRanges } from '@weft/optim/internal';
 import type { Batch } from '@weft/optim';
 import type { FloatArray } from '@weft/core';
 

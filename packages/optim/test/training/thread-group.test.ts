@@ -8,8 +8,10 @@ import { describe, expect, it } from 'vitest';
 import { Random } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
-import { AdamRule, Trainer, canShareMemory, serveShards, startThreadGroup, streamBatches } from '@weft/optim';
-import type { ShardThread, ThreadStart, TrainerOptions } from '@weft/optim';
+import { AdamRule, Trainer, startThreadGroup, streamBatches } from '@weft/optim';
+import { canShareMemory, serveShards } from '@weft/optim/internal';
+import type { ThreadStart, TrainerOptions } from '@weft/optim';
+import type { ShardThread } from '@weft/optim/internal';
 
 function model(): SequenceModel {
   return buildModel(
