@@ -29,6 +29,35 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
   const bytes = checkReservation(options.memoryBytes ?? 16 * 1048576 + 4 * (options.weightBytes ?? 0), 'runtime.memoryBytes');
   const memory = new LinearMemory(bytes);
   const x = new WebAssembly.Instance(compiled, { env: { memory: memory.memory } }).exports as unknown as ModuleExports;
+  const kernels = forwardKernels(x, memory);
+  return Object.freeze({
+    name: 'webassembly' as const,
+    kernels: Object.freeze(kernels),
+    floats(length: number): Float32Array {
+      const array = memory.floats(length);
+      array.fill(0);
+      return array;
+    },
+    matrix(values: ArrayLike<number>, rows: number, cols: number): Float32Array {
+      const plain = memory.floats(rows * cols);
+      plain.set(values);
+      const packed = memory.floats(Math.ceil(cols / 8) * 8 * rows);
+      x.packPanels(memory.offsetOf(packed), memory.offsetOf(plain), rows, cols);
+      memory.release(memory.offsetOf(plain), plain.length * 4);
+      return packed;
+    },
+    release(array: Float32Array): void {
+      const offset = memory.offsetOf(array);
+      if (offset >= 0) memory.release(offset, array.length * 4);
+    },
+    describe(): string {
+      return `webassembly (f32x4 SIMD forward kernels, ${Math.round(memory.reservedBytes / 1048576)} MiB reserved)`;
+    },
+  });
+}
+
+/** The forward kernels over `memory`, calling the runtime module's exports `x`. */
+function forwardKernels(x: ModuleExports, memory: LinearMemory): ForwardKernels {
   const workspace = new KernelWorkspace(memory);
   const scratch = (floats: number): number => workspace.scratch(floats);
   const lengths = (values: Int32Array | null, rows: number): number => workspace.lengths(values, rows);
@@ -95,28 +124,5 @@ export function createForwardWebAssembly(options: ForwardWebAssemblyOptions = {}
       x.plainLayerStep(p, w, r, b, h, q, +(activation === 'relu'), rows, inputWidth, hidden, lengths(place.lengths, rows), step, panels);
     },
   };
-  return Object.freeze({
-    name: 'webassembly' as const,
-    kernels: Object.freeze(kernels),
-    floats(length: number): Float32Array {
-      const array = memory.floats(length);
-      array.fill(0);
-      return array;
-    },
-    matrix(values: ArrayLike<number>, rows: number, cols: number): Float32Array {
-      const plain = memory.floats(rows * cols);
-      plain.set(values);
-      const packed = memory.floats(Math.ceil(cols / 8) * 8 * rows);
-      x.packPanels(memory.offsetOf(packed), memory.offsetOf(plain), rows, cols);
-      memory.release(memory.offsetOf(plain), plain.length * 4);
-      return packed;
-    },
-    release(array: Float32Array): void {
-      const offset = memory.offsetOf(array);
-      if (offset >= 0) memory.release(offset, array.length * 4);
-    },
-    describe(): string {
-      return `webassembly (f32x4 SIMD forward kernels, ${Math.round(memory.reservedBytes / 1048576)} MiB reserved)`;
-    },
-  });
+  return kernels;
 }

@@ -22,7 +22,18 @@ type StepKernelName =
   | 'plainStepBackward';
 
 /** The step kernels over `memory`, calling the training module's exports `x` where the arrays are this memory's. */
+/** The step kernels over `memory`, calling the training module's exports `x` where the arrays are this memory's. */
 export function simdStepKernels(x: ModuleExports, memory: LinearMemory, workspace: KernelWorkspace): Pick<KernelTable, StepKernelName> {
+  return {
+    ...lstmKernels(x, memory, workspace),
+    ...gruKernels(x, memory, workspace),
+    ...gruBackwardKernels(x, memory, workspace),
+    ...plainKernels(x, memory, workspace),
+  };
+}
+
+/** The LSTM step's wrappers, forward and backward. */
+function lstmKernels(x: ModuleExports, memory: LinearMemory, workspace: KernelWorkspace): Pick<KernelTable, 'lstmStepForward' | 'lstmStepBackward'> {
   const js = javascriptKernels;
   const { mine, mineOrNull, at, pointer } = addressing(memory);
   return {
@@ -78,6 +89,18 @@ export function simdStepKernels(x: ModuleExports, memory: LinearMemory, workspac
         step,
       );
     },
+  };
+}
+
+/** The GRU step's forward wrappers: z and r, r ⊙ h₋, and the finish. */
+function gruKernels(
+  x: ModuleExports,
+  memory: LinearMemory,
+  workspace: KernelWorkspace,
+): Pick<KernelTable, 'gruUpdateReset' | 'gruResetHidden' | 'gruStepFinish'> {
+  const js = javascriptKernels;
+  const { mine, at } = addressing(memory);
+  return {
     gruUpdateReset: (gates, projected, projectedOffset, recurrentGates, rows, hidden) => {
       if (!(mine(gates) && mine(projected) && mine(recurrentGates))) return js.gruUpdateReset(gates, projected, projectedOffset, recurrentGates, rows, hidden);
       x.gruUpdateReset(at(gates), at(projected), projectedOffset, at(recurrentGates), rows, hidden);
@@ -105,6 +128,18 @@ export function simdStepKernels(x: ModuleExports, memory: LinearMemory, workspac
         step,
       );
     },
+  };
+}
+
+/** The GRU step's backward wrappers: both halves. */
+function gruBackwardKernels(
+  x: ModuleExports,
+  memory: LinearMemory,
+  workspace: KernelWorkspace,
+): Pick<KernelTable, 'gruBackwardCandidate' | 'gruBackwardReset'> {
+  const js = javascriptKernels;
+  const { mine, mineOrNull, at, pointer } = addressing(memory);
+  return {
     gruBackwardCandidate: (out, arriving, saved, form, place) => {
       const ours =
         mine(out.updateReset) &&
@@ -150,6 +185,14 @@ export function simdStepKernels(x: ModuleExports, memory: LinearMemory, workspac
         step,
       );
     },
+  };
+}
+
+/** The plain step's wrappers, forward and backward. */
+function plainKernels(x: ModuleExports, memory: LinearMemory, workspace: KernelWorkspace): Pick<KernelTable, 'plainStepForward' | 'plainStepBackward'> {
+  const js = javascriptKernels;
+  const { mine, mineOrNull, at, pointer } = addressing(memory);
+  return {
     plainStepForward: (h, hPrevious, activation, place) => {
       if (!(mine(h) && mine(hPrevious))) return js.plainStepForward(h, hPrevious, activation, place);
       const { rows, hidden, lengths, step } = place;

@@ -11,11 +11,23 @@ import { transposesA, transposesB } from '../kernels/shapes.js';
 
 /** The kernel table over `memory`, calling the training module's exports `x` where the arrays are this memory's. */
 export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspace: KernelWorkspace): KernelTable {
+  // Arrays are found by memory.offsetOf (a recorded offset, not `byteOffset`/`buffer`: see memory.ts for why); an array
+  // from elsewhere runs on the JavaScript kernel, so the kernels without a twin are the JavaScript ones.
+  return {
+    ...javascriptKernels,
+    ...productKernels(x, memory, workspace),
+    ...elementwiseKernels(x, memory),
+    ...activationKernels(x, memory),
+    ...simdStepKernels(x, memory, workspace),
+    ...ruleKernels(x, memory),
+  };
+}
+
+/** The matrix products. */
+function productKernels(x: ModuleExports, memory: LinearMemory, workspace: KernelWorkspace): Pick<KernelTable, 'matmul' | 'matmulInto'> {
   const js = javascriptKernels;
-  // Arrays are found by memory.offsetOf (a recorded offset, not `byteOffset`/`buffer`: see memory.ts for why).
   const { mine, at } = addressing(memory);
-  const table: KernelTable = {
-    ...js,
+  return {
     matmul: (out, a, b, shape) => {
       if (!(mine(out) && mine(a) && mine(b))) return js.matmul(out, a, b, shape);
       product(out, a, b, shape, 0);
@@ -26,6 +38,24 @@ export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspac
       product(out, a, b, shape, 1);
       return out;
     },
+  };
+
+  /** The SIMD product (rows < 4 reads the right operand in place and needs no packing scratch). */
+  function product(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: number): void {
+    const { rows, inner, cols } = shape;
+    const scratch = rows < 4 ? 0 : workspace.scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
+    x.matmul(at(out), at(a), at(b), rows, inner, cols, +transposesA(shape), +transposesB(shape), accumulate, scratch);
+  }
+}
+
+/** The elementwise kernels, bias rows and column sums. */
+function elementwiseKernels(
+  x: ModuleExports,
+  memory: LinearMemory,
+): Pick<KernelTable, 'add' | 'subtract' | 'multiply' | 'scale' | 'addInto' | 'addScaledInto' | 'multiplyInto' | 'addRow' | 'sumRows' | 'sumRowsInto'> {
+  const js = javascriptKernels;
+  const { mine, at } = addressing(memory);
+  return {
     add: (out, a, b, length) => {
       if (!(mine(out) && mine(a) && mine(b))) return js.add(out, a, b, length);
       x.add(at(out), at(a), at(b), length);
@@ -76,6 +106,14 @@ export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspac
       x.sumRows(at(out), at(a), rows, cols, 1);
       return out;
     },
+  };
+}
+
+/** The activations and their derivative kernels. */
+function activationKernels(x: ModuleExports, memory: LinearMemory): Pick<KernelTable, 'sigmoid' | 'tanh' | 'exp' | 'sigmoidGradientInto' | 'tanhGradientInto'> {
+  const js = javascriptKernels;
+  const { mine, at } = addressing(memory);
+  return {
     sigmoid: (out, a, length) => {
       if (!(mine(out) && mine(a))) return js.sigmoid(out, a, length);
       x.sigmoid(at(out), at(a), length);
@@ -101,7 +139,14 @@ export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspac
       x.tanhGradientInto(at(inputGradient), at(outputGradient), at(y), length);
       return inputGradient;
     },
-    ...simdStepKernels(x, memory, workspace),
+  };
+}
+
+/** The update rules' loops. */
+function ruleKernels(x: ModuleExports, memory: LinearMemory): Pick<KernelTable, 'adamUpdate' | 'sgdUpdate' | 'nesterovUpdate'> {
+  const js = javascriptKernels;
+  const { mine, at } = addressing(memory);
+  return {
     adamUpdate: (buffers, length, constants) => {
       const { values, gradient, firstMoment, secondMoment } = buffers;
       if (!(mine(values) && mine(gradient) && mine(firstMoment) && mine(secondMoment))) return js.adamUpdate(buffers, length, constants);
@@ -111,14 +156,6 @@ export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspac
     sgdUpdate: (buffers, length, constants) => momentum(buffers, length, constants, 0),
     nesterovUpdate: (buffers, length, constants) => momentum(buffers, length, constants, 1),
   };
-  return table;
-
-  /** The SIMD product (rows < 4 reads the right operand in place and needs no packing scratch). */
-  function product(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: number): void {
-    const { rows, inner, cols } = shape;
-    const scratch = rows < 4 ? 0 : workspace.scratch((Math.ceil(rows / 4) * 4 + Math.ceil(cols / 8) * 8) * inner + 32);
-    x.matmul(at(out), at(a), at(b), rows, inner, cols, +transposesA(shape), +transposesB(shape), accumulate, scratch);
-  }
 
   /** Momentum SGD, heavy-ball (`nesterov` 0) or Nesterov's (1). */
   function momentum(buffers: MomentumBuffers, length: number, constants: MomentumConstants, nesterov: number): void {

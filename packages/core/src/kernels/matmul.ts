@@ -39,7 +39,11 @@ export function matmulInto(out: FloatArray, a: FloatArray, b: FloatArray, shape:
 /** The 16 accumulators of an edge block, row-major, written out entry by entry (made once). */
 const corner = new Float64Array(16);
 
-/** The packed product for at least 4 rows. */
+/**
+ * The packed product for at least 4 rows. Why one function of this length: its inner loop is the 4 × 4 register
+ * block written out (16 accumulators in locals, not an array, so they stay in registers) with its two stores; split
+ * into calls, the accumulators would have to live in memory.
+ */
 function product(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: boolean): void {
   const { rows, inner, cols } = shape;
   const rowBlocks = Math.ceil(rows / BLOCK);

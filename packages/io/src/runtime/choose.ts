@@ -5,12 +5,13 @@
  * training.
  */
 import { fail } from '@weft/core/base';
+import type { BackendName } from '@weft/core';
 import type { ForwardBackend } from '@weft/core/forward';
 import { createForwardWebAssembly, environmentBackendChoice, forwardWebAssemblyUnavailable, javascriptForward } from '@weft/core/forward';
 import { setForwardChooser } from './forward-default.js';
 
-/** Where a runtime runs: a backend by name, or a forward backend you made. */
-export type RuntimeBackendChoice = 'javascript' | 'webassembly' | ForwardBackend;
+/** Where a runtime runs: a backend by the name training uses (`BackendName`), or a forward backend you made. */
+export type RuntimeBackendChoice = BackendName | ForwardBackend;
 
 let warned = false;
 
