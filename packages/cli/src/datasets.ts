@@ -383,24 +383,11 @@ function classificationData(
     );
   const validation = sequenceBatches(validationSet, { batchSize: 64, features });
   const test = sequenceBatches(testSet, { batchSize: 64, features });
-  const labelsOf = (set: LabelledSequence[]) => set.map((q) => q.label ?? 0);
-  // The majority class of the training sequences, and a logistic regression on summary features with its penalty
-  // chosen on the validation sequences, both scored on the test sequences.
-  const trainCounts = labels.map((_, k) => trainSet.filter((q) => q.label === k).length);
-  const majorityClass = indexOfLargest(trainCounts);
-  const testLabels = labelsOf(testSet);
-  const majority = classificationReport(
-    testLabels,
-    testLabels.map(() => majorityClass),
-    labels.length,
-  );
-  const vocabulary = shape.input.kind === 'embedding' ? shape.input.vocabulary : 0;
-  const featuresOf = (set: LabelledSequence[]) => set.map((q) => sequenceFeatures(q, features, vocabulary));
-  const logistic = chooseLogistic(featuresOf(trainSet), labelsOf(trainSet), featuresOf(validationSet), labelsOf(validationSet), labels.length);
-  const regression = classificationReport(
-    testLabels,
-    featuresOf(testSet).map((row) => predictLogistic(logistic, row)),
-    labels.length,
+  const { majorityClass, majority, logistic, regression } = classifierBaselines(
+    { train: trainSet, validation: validationSet, test: testSet },
+    labels,
+    features,
+    shape.input,
   );
   const summaries =
     shape.input.kind === 'embedding' ? 'the share of each token and the length' : 'mean, deviation, minimum, maximum, last value and slope of each column';
@@ -450,6 +437,36 @@ function classificationData(
       };
     },
   };
+}
+
+/**
+ * The majority class of the training sequences, and a logistic regression on summary features with its penalty
+ * chosen on the validation sequences, both scored on the test sequences.
+ */
+function classifierBaselines(
+  parts: { train: LabelledSequence[]; validation: LabelledSequence[]; test: LabelledSequence[] },
+  labels: readonly string[],
+  features: number,
+  input: ModelDescription['input'],
+): { majorityClass: number; majority: ClassificationReport; logistic: ReturnType<typeof chooseLogistic>; regression: ClassificationReport } {
+  const labelsOf = (set: LabelledSequence[]) => set.map((q) => q.label ?? 0);
+  const trainCounts = labels.map((_, k) => parts.train.filter((q) => q.label === k).length);
+  const majorityClass = indexOfLargest(trainCounts);
+  const testLabels = labelsOf(parts.test);
+  const majority = classificationReport(
+    testLabels,
+    testLabels.map(() => majorityClass),
+    labels.length,
+  );
+  const vocabulary = input.kind === 'embedding' ? input.vocabulary : 0;
+  const featuresOf = (set: LabelledSequence[]) => set.map((q) => sequenceFeatures(q, features, vocabulary));
+  const logistic = chooseLogistic(featuresOf(parts.train), labelsOf(parts.train), featuresOf(parts.validation), labelsOf(parts.validation), labels.length);
+  const regression = classificationReport(
+    testLabels,
+    featuresOf(parts.test).map((row) => predictLogistic(logistic, row)),
+    labels.length,
+  );
+  return { majorityClass, majority, logistic, regression };
 }
 
 /** The class the model predicts for each sequence of a source, scored against the labels. */

@@ -111,18 +111,7 @@ export function preparePairs(text: string, file: string, options: PairsPrepareOp
   const validationRows = order.slice(testCount, testCount + validationCount);
   const trainRows = order.slice(testCount + validationCount);
   const batchOptions = { batchSize: options.batch, startToken: START, endToken: END, seed: options.seed };
-  // The most frequent target of the training pairs (the first in file order on ties): a baseline that ignores the source.
-  const frequency = new Map<string, number>();
-  for (const k of trainRows) {
-    const joined = textOf(pairs.targets[k], options.tokens);
-    frequency.set(joined, (frequency.get(joined) ?? 0) + 1);
-  }
-  let mostFrequent = pairs.targets[trainRows[0]];
-  let most = 0;
-  for (const k of [...trainRows].sort((a, b) => a - b)) {
-    const n = frequency.get(textOf(pairs.targets[k], options.tokens)) ?? 0;
-    if (n > most) [mostFrequent, most] = [pairs.targets[k], n];
-  }
+  const mostFrequent = mostFrequentTarget(pairs.targets, trainRows, options.tokens);
   const metadata: WeightMetadata = {
     task: 'transduction',
     tokens: options.tokens,
@@ -169,6 +158,22 @@ export function preparePairs(text: string, file: string, options: PairsPrepareOp
       return { ...report, context: [partsLine] };
     },
   };
+}
+
+/** The most frequent target of the training pairs (the first in file order on ties): a baseline that ignores the source. */
+function mostFrequentTarget(targets: readonly string[][], trainRows: readonly number[], tokens: PairsPrepareOptions['tokens']): string[] {
+  const frequency = new Map<string, number>();
+  for (const k of trainRows) {
+    const joined = textOf(targets[k], tokens);
+    frequency.set(joined, (frequency.get(joined) ?? 0) + 1);
+  }
+  let mostFrequent = targets[trainRows[0]];
+  let most = 0;
+  for (const k of [...trainRows].sort((a, b) => a - b)) {
+    const n = frequency.get(textOf(targets[k], tokens)) ?? 0;
+    if (n > most) [mostFrequent, most] = [targets[k], n];
+  }
+  return mostFrequent;
 }
 
 /** The index order of a shuffle seeded by `seed` (core's generator, as every weft choice). */

@@ -37,31 +37,86 @@ const isNumbers = (value: unknown): value is number[] => Array.isArray(value) &&
  * types); empty when it fits.
  */
 export function metadataProblems(metadata: Readonly<Record<string, unknown>>, model: ModelDescription): Problem[] {
-  // A model of many series: each series' metadata, as one series' (its own fields named under panel.series[i]).
-  if (metadata.panel !== undefined) {
-    let ids: readonly string[];
-    try {
-      ids = forecastPanel(metadata)?.ids ?? [];
-    } catch (error) {
-      if (error instanceof WeftError) return [...error.problems];
-      throw error;
-    }
-    return ids.flatMap((id, i) => {
-      const own = seriesMetadata(metadata, id);
-      return metadataProblems(own, model).map((p) => ({
-        ...p,
-        path: p.path.replace(/^metadata\.(normalisation|window|missing|split|season)\b/, `metadata.panel.series[${i}].$1`),
-      }));
-    });
-  }
+  if (metadata.panel !== undefined) return panelProblems(metadata, model);
   const problems: Problem[] = [];
-  const add = (field: string, expected: string, received: unknown): void => {
-    problems.push({ code: 'bad_weight_file', path: `metadata.${field}`, expected, received: describe(received) });
+  const check: MetadataCheck = {
+    metadata,
+    input: model.input,
+    outputs: modelLayout(model).outputWidth,
+    has: (field) => Object.hasOwn(metadata, field) && metadata[field] !== undefined,
+    add: (field, expected, received) => {
+      problems.push({ code: 'bad_weight_file', path: `metadata.${field}`, expected, received: describe(received) });
+    },
+    ...readWidthOf(metadata, model.input),
   };
-  const outputs = modelLayout(model).outputWidth;
-  const input = model.input;
-  const has = (field: string): boolean => Object.hasOwn(metadata, field) && metadata[field] !== undefined;
+  tokenProblems(check);
+  const columns = columnProblems(check);
+  targetProblems(check, columns, memberCount(check));
+  normalisationProblems(check);
+  if (check.has('horizon')) {
+    const value = metadata.horizon;
+    if (typeof value !== 'number' || !Number.isInteger(value) || value < 1) check.add('horizon', 'a whole number ≥ 1', value);
+  }
+  taskProblems(check);
+  return problems;
+}
 
+/** What the checks of one series' metadata share. */
+interface MetadataCheck {
+  readonly metadata: Readonly<Record<string, unknown>>;
+  readonly input: ModelDescription['input'];
+  /** The model's output width. */
+  readonly outputs: number;
+  /** The columns the model reads: its input width less the inputs weft adds (or 1 for a model over tokens). */
+  readonly readWidth: number;
+  /** How that width is described in an error. */
+  readonly widthWords: string;
+  readonly has: (field: string) => boolean;
+  readonly add: (field: string, expected: string, received: unknown) => void;
+}
+
+/** A model of many series: each series' metadata, as one series' (its own fields named under panel.series[i]). */
+function panelProblems(metadata: Readonly<Record<string, unknown>>, model: ModelDescription): Problem[] {
+  let ids: readonly string[];
+  try {
+    ids = forecastPanel(metadata)?.ids ?? [];
+  } catch (error) {
+    if (error instanceof WeftError) return [...error.problems];
+    throw error;
+  }
+  return ids.flatMap((id, i) => {
+    const own = seriesMetadata(metadata, id);
+    return metadataProblems(own, model).map((p) => ({
+      ...p,
+      path: p.path.replace(/^metadata\.(normalisation|window|missing|split|season)\b/, `metadata.panel.series[${i}].$1`),
+    }));
+  });
+}
+
+/**
+ * The width of the columns a windowed forecast model reads: its input width less one smoothing forecast per target
+ * (window.hybrid), a sine and cosine per calendar position (window.calendar), a 0/1 "was missing" input per column
+ * with holes (missing.flagged) and, one series of many, a 0/1 input per series (seriesInput).
+ */
+function readWidthOf(metadata: Readonly<Record<string, unknown>>, input: ModelDescription['input']): { readWidth: number; widthWords: string } {
+  const window = metadata.window as { hybrid?: unknown; calendar?: unknown } | undefined;
+  const flagged = (metadata.missing as { flagged?: unknown } | undefined)?.flagged;
+  const seriesInputs = Number((metadata.seriesInput as { count?: unknown } | undefined)?.count ?? 0) || 0;
+  const extra =
+    (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) +
+    (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) +
+    (Array.isArray(flagged) ? flagged.length : 0) +
+    seriesInputs;
+  const readWidth = input.kind === 'values' ? input.width - extra : 1;
+  const widthWords =
+    extra > 0
+      ? `the model's input width less its ${extra} smoothing, calendar, missing-value and series input${extra === 1 ? '' : 's'}`
+      : "the model's input width";
+  return { readWidth, widthWords };
+}
+
+/** The vocabulary's and the class names' lengths against the model. */
+function tokenProblems({ metadata, input, outputs, has, add }: MetadataCheck): void {
   if (has('vocabulary')) {
     const vocabulary = metadata.vocabulary;
     if (!isStrings(vocabulary)) add('vocabulary', 'an array of strings', vocabulary);
@@ -74,84 +129,73 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
     if (!isStrings(classes)) add('classes', 'an array of strings', classes);
     else if (classes.length !== outputs) add('classes', `${outputs} class names (one per output of the model)`, classes.length);
   }
-  // A windowed forecast model may read one smoothing forecast per target (window.hybrid) and a sine and cosine per
-  // calendar position (window.calendar) besides its columns.
-  // It also reads a 0/1 "was missing" input per column with holes (missing.flagged).
-  const window = metadata.window as { hybrid?: unknown; calendar?: unknown } | undefined;
-  const flagged = (metadata.missing as { flagged?: unknown } | undefined)?.flagged;
-  // And, one series of many, a 0/1 input per series (seriesInput).
-  const seriesInputs = Number((metadata.seriesInput as { count?: unknown } | undefined)?.count ?? 0) || 0;
-  const extra =
-    (Array.isArray(window?.hybrid) ? window.hybrid.length : 0) +
-    (Array.isArray(window?.calendar) ? 2 * window.calendar.length : 0) +
-    (Array.isArray(flagged) ? flagged.length : 0) +
-    seriesInputs;
-  const readWidth = input.kind === 'values' ? input.width - extra : 1;
-  const widthWords =
-    extra > 0
-      ? `the model's input width less its ${extra} smoothing, calendar, missing-value and series input${extra === 1 ? '' : 's'}`
-      : "the model's input width";
-  let columns: string[] | null = null;
-  if (has('columns')) {
-    const value = metadata.columns;
-    if (!isStrings(value)) add('columns', 'an array of column names', value);
-    else if (input.kind !== 'values') add('columns', 'no columns (the model reads tokens)', value);
-    else if (value.length !== readWidth) add('columns', `${readWidth} column names (${widthWords})`, value.length);
-    else columns = value;
+}
+
+/** The column names read, against the read width; the names when they fit, else null. */
+function columnProblems({ metadata, input, readWidth, widthWords, has, add }: MetadataCheck): string[] | null {
+  if (!has('columns')) return null;
+  const value = metadata.columns;
+  if (!isStrings(value)) add('columns', 'an array of column names', value);
+  else if (input.kind !== 'values') add('columns', 'no columns (the model reads tokens)', value);
+  else if (value.length !== readWidth) add('columns', `${readWidth} column names (${widthWords})`, value.length);
+  else return value;
+  return null;
+}
+
+/** Forecast members stacked into one model (metadata.members) output one block of targets each: their count. */
+function memberCount({ metadata, outputs, has, add }: MetadataCheck): number {
+  if (!has('members')) return 1;
+  const value = metadata.members;
+  if (typeof value !== 'number' || !Number.isInteger(value) || value < 1 || outputs % value !== 0) {
+    add('members', `a whole number ≥ 1 dividing the model's ${outputs} outputs (members stacked into the model)`, value);
+    return 1;
   }
-  // Forecast members stacked into one model (metadata.members) output one block of targets each.
-  let members = 1;
-  if (has('members')) {
-    const value = metadata.members;
-    if (typeof value !== 'number' || !Number.isInteger(value) || value < 1 || outputs % value !== 0)
-      add('members', `a whole number ≥ 1 dividing the model's ${outputs} outputs (members stacked into the model)`, value);
-    else members = value;
+  return value;
+}
+
+/** The target columns: one per output block (per member and, forecasting every row ahead, per row), among the columns. */
+function targetProblems({ metadata, outputs, has, add }: MetadataCheck, columns: string[] | null, members: number): void {
+  if (!has('targetColumns')) return;
+  const value = metadata.targetColumns;
+  // A model forecasting every row up to its horizon (metadata.rowsAhead "all") outputs one block per row ahead.
+  const steps =
+    metadata.rowsAhead === 'all' && typeof metadata.horizon === 'number' && Number.isInteger(metadata.horizon) && metadata.horizon >= 1 ? metadata.horizon : 1;
+  const perTarget = members * steps;
+  const words = [members > 1 ? `each of the ${members} members` : '', steps > 1 ? `each of the ${steps} rows ahead` : ''].filter((w) => w !== '').join(' and ');
+  if (!isStrings(value)) add('targetColumns', 'an array of column names', value);
+  else if (value.length * perTarget !== outputs)
+    add(
+      'targetColumns',
+      perTarget > 1 ? `${outputs / perTarget} column names (one per output of ${words})` : `${outputs} column names (one per output of the model)`,
+      value.length,
+    );
+  else if (columns !== null) {
+    const stray = value.find((c) => !columns.includes(c));
+    if (stray !== undefined) add('targetColumns', 'names among metadata.columns', stray);
   }
-  if (has('targetColumns')) {
-    const value = metadata.targetColumns;
-    // A model forecasting every row up to its horizon (metadata.rowsAhead "all") outputs one block per row ahead.
-    const steps =
-      metadata.rowsAhead === 'all' && typeof metadata.horizon === 'number' && Number.isInteger(metadata.horizon) && metadata.horizon >= 1
-        ? metadata.horizon
-        : 1;
-    const perTarget = members * steps;
-    const words = [members > 1 ? `each of the ${members} members` : '', steps > 1 ? `each of the ${steps} rows ahead` : '']
-      .filter((w) => w !== '')
-      .join(' and ');
-    if (!isStrings(value)) add('targetColumns', 'an array of column names', value);
-    else if (value.length * perTarget !== outputs)
-      add(
-        'targetColumns',
-        perTarget > 1 ? `${outputs / perTarget} column names (one per output of ${words})` : `${outputs} column names (one per output of the model)`,
-        value.length,
-      );
-    else if (columns !== null) {
-      const stray = value.find((c) => !columns!.includes(c));
-      if (stray !== undefined) add('targetColumns', 'names among metadata.columns', stray);
+}
+
+/** The normalisation's means and deviations: one finite number per column read, the deviations positive. */
+function normalisationProblems({ metadata, readWidth: width, widthWords, has, add }: MetadataCheck): void {
+  if (!has('normalisation')) return;
+  const value = metadata.normalisation as { mean?: unknown; deviation?: unknown } | null;
+  if (typeof value !== 'object' || value === null || Array.isArray(value)) {
+    add('normalisation', '{ "mean": [...], "deviation": [...] }', value);
+    return;
+  }
+  for (const field of ['mean', 'deviation'] as const) {
+    const numbers = value[field];
+    if (!isNumbers(numbers)) add(`normalisation.${field}`, `${width} numbers`, numbers);
+    else if (numbers.length !== width) add(`normalisation.${field}`, `${width} numbers (${widthWords})`, numbers.length);
+    else {
+      const bad = numbers.findIndex((v) => !Number.isFinite(v) || (field === 'deviation' && !(v > 0)));
+      if (bad >= 0) add(`normalisation.${field}[${bad}]`, field === 'deviation' ? 'a finite number > 0' : 'a finite number', numbers[bad]);
     }
   }
-  if (has('normalisation')) {
-    const value = metadata.normalisation as { mean?: unknown; deviation?: unknown } | null;
-    const width = readWidth;
-    if (typeof value !== 'object' || value === null || Array.isArray(value)) {
-      add('normalisation', '{ "mean": [...], "deviation": [...] }', value);
-    } else {
-      for (const field of ['mean', 'deviation'] as const) {
-        const numbers = value[field];
-        if (!isNumbers(numbers)) add(`normalisation.${field}`, `${width} numbers`, numbers);
-        else if (numbers.length !== width) add(`normalisation.${field}`, `${width} numbers (${widthWords})`, numbers.length);
-        else {
-          const bad = numbers.findIndex((v) => !Number.isFinite(v) || (field === 'deviation' && !(v > 0)));
-          if (bad >= 0) add(`normalisation.${field}[${bad}]`, field === 'deviation' ? 'a finite number > 0' : 'a finite number', numbers[bad]);
-        }
-      }
-    }
-  }
-  if (has('horizon')) {
-    const value = metadata.horizon;
-    if (typeof value !== 'number' || !Number.isInteger(value) || value < 1) add('horizon', 'a whole number ≥ 1', value);
-  }
-  // What weft's own tasks need to be run (the CLI reads these).
+}
+
+/** What weft's own tasks need to be run (the CLI reads these), and a task that fits the model's input. */
+function taskProblems({ metadata, input, has, add }: MetadataCheck): void {
   const needs: Record<string, readonly string[]> = {
     forecast: ['columns', 'targetColumns', 'normalisation', 'horizon'],
     'next-token': ['vocabulary'],
@@ -163,7 +207,6 @@ export function metadataProblems(metadata: Readonly<Record<string, unknown>>, mo
   }
   if (metadata.task === 'forecast' && input.kind !== 'values') add('task', 'a task for a model over tokens (a forecast reads numbers)', metadata.task);
   if (metadata.task === 'next-token' && input.kind !== 'embedding') add('task', 'a task for a model over numbers (next-token reads tokens)', metadata.task);
-  return problems;
 }
 
 /** Throws one WeftError listing every way `file`'s metadata disagrees with its model (sequence models only). */

@@ -140,98 +140,143 @@ export function forecastBaselines(split: SeriesSplit, options: BaselineOptions =
   // linear baseline to read.
   const gappy = values.some((row) => row.some((v) => Number.isNaN(v)));
   const carried = gappy ? columns.map(carryForward) : columns;
-  const carriedRows = gappy ? carryRows(values) : values;
-  let season: SeasonChoice;
-  if (options.season === undefined)
-    season = chooseSeason(gappy ? interpolated(columns[0].subarray(0, fitRows)) : columns[0].subarray(0, fitRows), options.spacing ?? null);
-  else if (options.season === null) season = { season: null, reason: 'no season (as asked)', candidates: [] };
-  else {
-    if (!(Number.isInteger(options.season) && options.season >= 1 && options.season < fitRows)) {
-      fail('invalid_option', 'season', `a whole number of rows in [1, ${fitRows - 1}] (shorter than the fitting rows)`, String(options.season));
-    }
-    season = { season: options.season, reason: `season of ${options.season} rows (as asked)`, candidates: [] };
-  }
+  const season = seasonOf(columns[0].subarray(0, fitRows), gappy, fitRows, options);
   const m = season.season;
   const scales = columns.map((c) => maseScale(c, fitRows, m ?? 1));
   const scores: BaselineScore[] = [];
   const leftOut: string[] = [];
   const forecasters: Forecaster[] = [];
-  const add = (name: string, description: string, forecast: Forecaster) => {
-    scores.push({ name, description, ...scoreForecaster(split, forecast, scales) });
-    forecasters.push(forecast);
-  };
   const steps = rowsAheadOf(split);
-  const ahead = steps.length > 1 ? `${steps[0]} to ${steps[steps.length - 1]} rows ahead` : `${horizon} row${horizon === 1 ? '' : 's'} ahead`;
-  add('naive', `the value now, as the forecast ${ahead}`, (t, k) => carried[k][t]);
-  if (m !== null) {
-    const back = (h: number) => Math.ceil(h / m) * m;
-    // The scored row farthest back: the first target row less the most seasons any row ahead reaches back.
-    const reach = Math.max(...steps.map((h) => back(h) - h));
-    if (split.positions.every((t) => t + horizon - reach >= 0)) {
-      const far = back(horizon);
-      // Without a value there, whole seasons further back (the last value seen when none has one).
-      const seasonBack = (t: number, k: number, h: number) => {
-        for (let r = t + h - back(h); r >= 0; r -= m) if (!Number.isNaN(columns[k][r])) return columns[k][r];
-        return carried[k][t];
-      };
-      add('seasonal naive', `the value one season (${m} rows) before the forecast row${far > m ? ` (up to ${far / m} seasons back)` : ''}`, seasonBack);
-    } else leftOut.push(`seasonal naive: a scored row has no row ${reach} rows before it`);
-  } else leftOut.push('the seasonal methods (seasonal naive, Holt-Winters): no season');
-  // Forecasts made at every row, for each row ahead scored: forecasts.get(h)[k][t].
-  const byStep = (make: (h: number) => Float64Array[] | null): ((t: number, k: number, h: number) => number) | null => {
-    const made = new Map<number, Float64Array[]>();
-    for (const h of steps) {
-      const f = make(h);
-      if (f === null) return null;
-      made.set(h, f);
-    }
-    return (t, k, h) => made.get(h)![k][t];
+  const context: BaselineContext = {
+    split,
+    columns,
+    carried,
+    carriedRows: gappy ? carryRows(values) : values,
+    steps,
+    m,
+    leftOut,
+    add: (name, description, forecast) => {
+      scores.push({ name, description, ...scoreForecaster(split, forecast, scales) });
+      forecasters.push(forecast);
+    },
   };
-  for (const { method, name, what } of SMOOTHING) {
-    const seasonal = method === 'additive' || method === 'multiplicative';
-    if (seasonal && m === null) continue;
-    // Fitted once (the one-step error does not depend on the rows ahead), run once per row ahead.
-    const fits = columns.map((series) => fitSmoothing(series, fitRows, method, m ?? 1));
-    const forecast = fits.every((f) => f !== null)
-      ? byStep((h) => {
-          const out = columns.map((series) => new Float64Array(series.length));
-          return columns.every((series, k) => !Number.isNaN(runSmoothing(series, fitRows, fits[k]!, h, out[k]))) ? out : null;
-        })
-      : null;
-    if (forecast === null) {
-      leftOut.push(
-        `${name}: ${method === 'multiplicative' ? 'needs values above 0 and two seasons of fitting rows' : `needs at least ${seasonal ? 2 * (m ?? 1) : 3} fitting rows`}`,
-      );
-      continue;
-    }
-    const fit = fits[0]!;
-    const parameters = `α ${figure(fit.alpha)}${method === 'simple' ? '' : `, β ${figure(fit.beta)}`}${seasonal ? `, γ ${figure(fit.gamma)}` : ''}${method === 'damped' ? `, φ ${figure(fit.phi)}` : ''}`;
-    add(name, `${what}, ${parameters}${columns.length > 1 ? ' (first target)' : ''}`, forecast);
+  const ahead = steps.length > 1 ? `${steps[0]} to ${steps[steps.length - 1]} rows ahead` : `${horizon} row${horizon === 1 ? '' : 's'} ahead`;
+  context.add('naive', `the value now, as the forecast ${ahead}`, (t, k) => carried[k][t]);
+  if (m !== null) addSeasonalNaive(context, m);
+  else leftOut.push('the seasonal methods (seasonal naive, Holt-Winters): no season');
+  for (const smoothing of SMOOTHING) addSmoothing(context, smoothing);
+  addTheta(context);
+  if (split.positions.every((t) => t + horizon - Math.max(...steps) >= LAGS - 1)) {
+    // One least-squares fit per row ahead (direct forecasts).
+    const weights = new Map(steps.map((h) => [h, fitLinear({ ...split, horizon: h })]));
+    context.add('linear', `least squares on the last ${LAGS} values of every input column${steps.length > 1 ? ', one fit per row ahead' : ''}`, (t, k, h) =>
+      linearForecast(context.carriedRows, weights.get(h)![k], t),
+    );
+  } else leftOut.push(`linear: a scored row has fewer than ${LAGS - 1} rows before it`);
+  return { scores, season, scales, leftOut, forecasters };
+}
+
+/** What the baselines of one split share while they are fitted and scored. */
+interface BaselineContext {
+  readonly split: SeriesSplit;
+  /** Each target column's values (NaN where missing). */
+  readonly columns: readonly Float64Array[];
+  /** Each target column carried forward (what was last seen at each row). */
+  readonly carried: readonly Float64Array[];
+  /** Every row with its values carried forward, for the linear baseline. */
+  readonly carriedRows: readonly (readonly number[])[];
+  /** The rows ahead scored. */
+  readonly steps: readonly number[];
+  /** The season in rows, or null. */
+  readonly m: number | null;
+  /** Why a baseline was left out, one line each; and `add` scores a baseline and keeps it. */
+  readonly leftOut: string[];
+  readonly add: (name: string, description: string, forecast: Forecaster) => void;
+}
+
+/** The season: chosen from the first target's fitting rows (gaps interpolated), or as asked. */
+function seasonOf(first: Float64Array, gappy: boolean, fitRows: number, options: BaselineOptions): SeasonChoice {
+  if (options.season === undefined) return chooseSeason(gappy ? interpolated(first) : first, options.spacing ?? null);
+  if (options.season === null) return { season: null, reason: 'no season (as asked)', candidates: [] };
+  if (!(Number.isInteger(options.season) && options.season >= 1 && options.season < fitRows)) {
+    fail('invalid_option', 'season', `a whole number of rows in [1, ${fitRows - 1}] (shorter than the fitting rows)`, String(options.season));
   }
-  let thetaAlpha = NaN;
+  return { season: options.season, reason: `season of ${options.season} rows (as asked)`, candidates: [] };
+}
+
+/** Seasonal naive: the value whole seasons before the forecast row, where every scored row has one. */
+function addSeasonalNaive({ split, columns, carried, steps, leftOut, add }: BaselineContext, m: number): void {
+  const horizon = split.horizon;
+  const back = (h: number) => Math.ceil(h / m) * m;
+  // The scored row farthest back: the first target row less the most seasons any row ahead reaches back.
+  const reach = Math.max(...steps.map((h) => back(h) - h));
+  if (!split.positions.every((t) => t + horizon - reach >= 0)) {
+    leftOut.push(`seasonal naive: a scored row has no row ${reach} rows before it`);
+    return;
+  }
+  const far = back(horizon);
+  // Without a value there, whole seasons further back (the last value seen when none has one).
+  const seasonBack = (t: number, k: number, h: number) => {
+    for (let r = t + h - back(h); r >= 0; r -= m) if (!Number.isNaN(columns[k][r])) return columns[k][r];
+    return carried[k][t];
+  };
+  add('seasonal naive', `the value one season (${m} rows) before the forecast row${far > m ? ` (up to ${far / m} seasons back)` : ''}`, seasonBack);
+}
+
+/** Forecasts made at every row, for each row ahead scored (forecasts.get(h)[k][t]); null when one cannot be made. */
+function byStep(steps: readonly number[], make: (h: number) => Float64Array[] | null): ((t: number, k: number, h: number) => number) | null {
+  const made = new Map<number, Float64Array[]>();
+  for (const h of steps) {
+    const f = make(h);
+    if (f === null) return null;
+    made.set(h, f);
+  }
+  return (t, k, h) => made.get(h)![k][t];
+}
+
+/** One exponential smoothing method: fitted once per column (the one-step error does not depend on the rows ahead), run once per row ahead. */
+function addSmoothing({ split, columns, steps, m, leftOut, add }: BaselineContext, { method, name, what }: (typeof SMOOTHING)[number]): void {
+  const seasonal = method === 'additive' || method === 'multiplicative';
+  if (seasonal && m === null) return;
+  const fitRows = split.fitRows;
+  const fits = columns.map((series) => fitSmoothing(series, fitRows, method, m ?? 1));
+  const forecast = fits.every((f) => f !== null)
+    ? byStep(steps, (h) => {
+        const out = columns.map((series) => new Float64Array(series.length));
+        return columns.every((series, k) => !Number.isNaN(runSmoothing(series, fitRows, fits[k]!, h, out[k]))) ? out : null;
+      })
+    : null;
+  if (forecast === null) {
+    leftOut.push(
+      `${name}: ${method === 'multiplicative' ? 'needs values above 0 and two seasons of fitting rows' : `needs at least ${seasonal ? 2 * (m ?? 1) : 3} fitting rows`}`,
+    );
+    return;
+  }
+  const fit = fits[0]!;
+  const parameters = `α ${figure(fit.alpha)}${method === 'simple' ? '' : `, β ${figure(fit.beta)}`}${seasonal ? `, γ ${figure(fit.gamma)}` : ''}${method === 'damped' ? `, φ ${figure(fit.phi)}` : ''}`;
+  add(name, `${what}, ${parameters}${columns.length > 1 ? ' (first target)' : ''}`, forecast);
+}
+
+/** The Theta method, once per row ahead. */
+function addTheta({ split, columns, steps, m, leftOut, add }: BaselineContext): void {
+  let thetaAlpha = Number.NaN;
   let thetaAdjustment: string | null = null;
-  const theta = byStep((h) => {
-    const made = columns.map((series) => thetaForecasts(series, fitRows, h, m));
+  const theta = byStep(steps, (h) => {
+    const made = columns.map((series) => thetaForecasts(series, split.fitRows, h, m));
     if (!made.every((f) => f !== null)) return null;
     thetaAlpha = made[0]!.alpha;
     thetaAdjustment = made[0]!.adjustment;
     return made.map((f) => f!.forecasts);
   });
-  if (theta !== null) {
-    add(
-      'Theta',
-      `simple smoothing with half the trend line's slope as drift, α ${figure(thetaAlpha)}${thetaAdjustment === null ? '' : `, season taken out (${thetaAdjustment})`}`,
-      theta,
-    );
-  } else leftOut.push('Theta: needs at least 3 fitting rows');
-  if (split.positions.every((t) => t + horizon - Math.max(...steps) >= LAGS - 1)) {
-    // One least-squares fit per row ahead (direct forecasts).
-    const weights = new Map(steps.map((h) => [h, fitLinear({ ...split, horizon: h })]));
-    add('linear', `least squares on the last ${LAGS} values of every input column${steps.length > 1 ? ', one fit per row ahead' : ''}`, (t, k, h) =>
-      linearForecast(carriedRows, weights.get(h)![k], t),
-    );
-  } else leftOut.push(`linear: a scored row has fewer than ${LAGS - 1} rows before it`);
-  return { scores, season, scales, leftOut, forecasters };
+  if (theta === null) {
+    leftOut.push('Theta: needs at least 3 fitting rows');
+    return;
+  }
+  add(
+    'Theta',
+    `simple smoothing with half the trend line's slope as drift, α ${figure(thetaAlpha)}${thetaAdjustment === null ? '' : `, season taken out (${thetaAdjustment})`}`,
+    theta,
+  );
 }
 
 /** The baseline with the lowest overall MASE when every target has a scale, else the lowest overall MAE. */

@@ -53,6 +53,29 @@ export interface Series {
 /** Reads numeric columns of a table as a series, with `file:line:column` errors for any field that is not a number. */
 export function readSeries(table: Table, options: SeriesOptions = {}): Series {
   const isMissing = missingTest(options.markers);
+  const { numeric, leftOut } = numericColumns(table, options, isMissing);
+  const columns =
+    options.columns === undefined ? numeric : options.columns.map((name) => columnNamed(table, name, options.choices?.columns ?? 'a column to read'));
+  if (columns.length === 0) fail('bad_data', `${table.file}:1:1`, 'at least one column of numbers', `the columns ${table.header.join(', ')}`);
+  const targets =
+    options.targets === undefined ? columns : options.targets.map((name) => columnNamed(table, name, options.choices?.targets ?? 'a column to forecast'));
+  checkTargets(table, options, columns, targets, leftOut);
+  const { values, missing } = readValues(table, options, columns, isMissing);
+  return {
+    columns: columns.map((c) => table.header[c]),
+    targets: targets.map((c) => table.header[c]),
+    values,
+    missing,
+    notes: markerNotes(table, options.markers ?? [], columns),
+    leftOut: options.columns === undefined ? leftOut : [],
+  };
+}
+
+/**
+ * The columns whose every present cell is a number, and those left out (every cell missing, or no numbers at all);
+ * a column of numbers with a stray word is an error naming the cell, unless the columns are chosen.
+ */
+function numericColumns(table: Table, options: SeriesOptions, isMissing: (text: string) => boolean): { numeric: number[]; leftOut: string[] } {
   const numeric: number[] = [];
   const leftOut: string[] = [];
   table.header.forEach((name, c) => {
@@ -78,11 +101,11 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
       );
     }
   });
-  const columns =
-    options.columns === undefined ? numeric : options.columns.map((name) => columnNamed(table, name, options.choices?.columns ?? 'a column to read'));
-  if (columns.length === 0) fail('bad_data', `${table.file}:1:1`, 'at least one column of numbers', `the columns ${table.header.join(', ')}`);
-  const targets =
-    options.targets === undefined ? columns : options.targets.map((name) => columnNamed(table, name, options.choices?.targets ?? 'a column to forecast'));
+  return { numeric, leftOut };
+}
+
+/** Every target is a column read that has a reading. */
+function checkTargets(table: Table, options: SeriesOptions, columns: readonly number[], targets: readonly number[], leftOut: readonly string[]): void {
   for (const t of targets) {
     if (!columns.includes(t) && leftOut.includes(`${table.header[t]} (every cell missing)`)) {
       fail(
@@ -101,6 +124,15 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
       );
     }
   }
+}
+
+/** The columns' numbers, NaN where a cell is missing (refused with `refuseMissing`), and each column's missing count. */
+function readValues(
+  table: Table,
+  options: SeriesOptions,
+  columns: readonly number[],
+  isMissing: (text: string) => boolean,
+): { values: number[][]; missing: number[] } {
   const missing = columns.map(() => 0);
   const values = table.rows.map((row, r) =>
     columns.map((c, j) => {
@@ -125,9 +157,13 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
         `every one of its ${table.rows.length} cells missing`,
       );
   });
-  // A marker that is also a number changes what the file says: said, with the first cell it took.
+  return { values, missing };
+}
+
+/** A marker that is also a number changes what the file says: said, with the first cell it took. */
+function markerNotes(table: Table, markers: readonly string[], columns: readonly number[]): string[] {
   const notes: string[] = [];
-  for (const marker of options.markers ?? []) {
+  for (const marker of markers) {
     if (Number.isNaN(decimal(marker))) continue;
     let count = 0;
     let first = '';
@@ -141,14 +177,7 @@ export function readSeries(table: Table, options: SeriesOptions = {}): Series {
       `note: the missing marker ${JSON.stringify(marker)} is also a number; ${count === 0 ? 'no cell holds it' : `${count} cell${count === 1 ? '' : 's'} holding it ${count === 1 ? 'was' : 'were'} read as missing, the first at ${first}`}`,
     );
   }
-  return {
-    columns: columns.map((c) => table.header[c]),
-    targets: targets.map((c) => table.header[c]),
-    values,
-    missing,
-    notes,
-    leftOut: options.columns === undefined ? leftOut : [],
-  };
+  return notes;
 }
 
 /**

@@ -75,12 +75,53 @@ export function detectDelimiter(text: string, file = ''): Delimiter {
 export function parseTable(text: string, options: TableOptions = {}): Table {
   const file = options.file ?? '<text>';
   const delimiter = options.delimiter === undefined || options.delimiter === 'detect' ? detectDelimiter(text, file) : options.delimiter;
-  const records: { fields: string[]; line: number; starts: number[]; end: number }[] = [];
+  const records = splitRecords(text, file, delimiter, options.firstLine ?? 1);
+  if (records.length === 0 && options.header === undefined) throw problem(`${file}:1:1`, 'a header row', 'an empty text');
+  const head = options.header === undefined ? records[0] : { fields: [...options.header], line: 0, starts: options.header.map((_, c) => c + 1), end: 0 };
+  const rest = options.header === undefined ? records.slice(1) : records;
+  const header = checkHeader(head, file);
+  for (const row of rest) {
+    if (row.fields.length !== header.length) {
+      const where = row.fields.length > header.length ? row.starts[header.length] : row.end;
+      throw problem(`${file}:${row.line}:${where}`, `${header.length} ${NAMES[delimiter]}-separated fields, as the header has`, `${row.fields.length}`);
+    }
+  }
+  return { file, delimiter, header, rows: rest.map(({ fields: f, line: l, starts: s }) => ({ fields: f, line: l, starts: s })) };
+}
+
+/** One record as split: its fields, its line, each field's column and the column where the record ends. */
+interface SplitRecord {
+  fields: string[];
+  line: number;
+  starts: number[];
+  end: number;
+}
+
+/** The header's names, trimmed: every one present and different from the others. */
+function checkHeader(head: SplitRecord, file: string): string[] {
+  const header = head.fields.map((h) => h.trim());
+  const seen = new Map<string, number>();
+  header.forEach((name, c) => {
+    if (name === '') throw problem(`${file}:${head.line}:${head.starts[c]}`, 'a name for every column in the header', 'an empty name');
+    const earlier = seen.get(name);
+    if (earlier !== undefined)
+      throw problem(`${file}:${head.line}:${head.starts[c]}`, 'column names that differ', `${JSON.stringify(name)} again (column ${earlier + 1} has it)`);
+    seen.set(name, c);
+  });
+  return header;
+}
+
+/**
+ * The text split into records of fields (RFC 4180 quoting: a field in quotes may hold delimiters, line ends and
+ * doubled quotes), each with the line and columns where it stands; blank lines are skipped.
+ */
+function splitRecords(text: string, file: string, delimiter: Delimiter, firstLine: number): SplitRecord[] {
+  const records: SplitRecord[] = [];
   let fields: string[] = [];
   let starts: number[] = [];
   let field = '';
   let quoted = false;
-  let line = options.firstLine ?? 1;
+  let line = firstLine;
   let recordLine = line;
   let column = 1;
   let fieldStart = 1;
@@ -140,25 +181,7 @@ export function parseTable(text: string, options: TableOptions = {}): Table {
     starts.push(fieldStart);
     records.push({ fields, line: recordLine, starts, end: column });
   }
-  if (records.length === 0 && options.header === undefined) throw problem(`${file}:1:1`, 'a header row', 'an empty text');
-  const head = options.header === undefined ? records[0] : { fields: [...options.header], line: 0, starts: options.header.map((_, c) => c + 1), end: 0 };
-  const rest = options.header === undefined ? records.slice(1) : records;
-  const header = head.fields.map((h) => h.trim());
-  const seen = new Map<string, number>();
-  header.forEach((name, c) => {
-    if (name === '') throw problem(`${file}:${head.line}:${head.starts[c]}`, 'a name for every column in the header', 'an empty name');
-    const earlier = seen.get(name);
-    if (earlier !== undefined)
-      throw problem(`${file}:${head.line}:${head.starts[c]}`, 'column names that differ', `${JSON.stringify(name)} again (column ${earlier + 1} has it)`);
-    seen.set(name, c);
-  });
-  for (const row of rest) {
-    if (row.fields.length !== header.length) {
-      const where = row.fields.length > header.length ? row.starts[header.length] : row.end;
-      throw problem(`${file}:${row.line}:${where}`, `${header.length} ${NAMES[delimiter]}-separated fields, as the header has`, `${row.fields.length}`);
-    }
-  }
-  return { file, delimiter, header, rows: rest.map(({ fields: f, line: l, starts: s }) => ({ fields: f, line: l, starts: s })) };
+  return records;
 }
 
 /** A decimal number as written in data files: digits, an optional point and exponent (no hex, no words). */
