@@ -15,7 +15,7 @@ import { readData } from './train.js';
 import { Random, fail, indexOfLargest } from '@weft/core';
 import { chooseLogistic, classificationReport, createTranslator, parseTable, predictLogistic, readStepTable, summaryFeatures } from '@weft/io';
 import { fieldPath, sha256Hex } from '@weft/io/internal';
-import type { Table } from '@weft/io';
+import type { Table, Translator } from '@weft/io';
 import { isEncoderDecoder } from '@weft/cells';
 import { loadWeightFile } from '@weft/io/node';
 import { createRuntime } from '@weft/io/runtime';
@@ -123,69 +123,20 @@ export function classifyStepTable(
   });
 }
 
+/** One labelled sequence scored: its class, the model's prediction and the baseline's summary features. */
+interface ScoredItem {
+  actual: number;
+  predicted: number;
+  features: number[];
+}
+
 function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: string, name: string, labelColumn: string, part: ScoredPart): HeldOutReport {
   const translator = createTranslator(meta);
   const classes = translator.outputNames;
   const table = parseTable(text, { file: name });
-  // Every labelled sequence: its class, the model's prediction and the baseline's summary features.
-  const items: { actual: number; predicted: number; features: number[] }[] = [];
-  let unit = 'labelled sequences';
-  if (typeof meta.idColumn === 'string') {
-    const labelAt = table.header.indexOf(labelColumn);
-    const results = classifyStepTable(runtime, meta, table, labelColumn);
-    results.forEach((r) => {
-      const k = classes.indexOf(r.label as string);
-      if (k < 0)
-        throw new CommandError(
-          `${name}:${r.line}:${table.rows.find((row) => row.line === r.line)?.starts[labelAt] ?? 1}: ${JSON.stringify((r.label ?? '').slice(0, 80))} is not a class the model knows (${classes.join(', ')})`,
-        );
-      let best = 0;
-      for (let j = 1; j < r.probabilities.length; j++) if (r.probabilities[j] > r.probabilities[best]) best = j;
-      items.push({ actual: k, predicted: best, features: summaryFeatures(r.steps.flat(), r.steps.length, translator.inputNames.length) });
-    });
-    unit = `labelled sequences (${table.rows.length} step rows)`;
-  } else {
-    const sequenceColumn = String(meta.sequenceColumn ?? 'sequence');
-    const labelAt = table.header.indexOf(labelColumn);
-    const sequenceAt = table.header.indexOf(sequenceColumn);
-    if (labelAt < 0 || sequenceAt < 0)
-      throw new CommandError(
-        `${name}: needs columns ${JSON.stringify(labelColumn)} and ${JSON.stringify(sequenceColumn)} to score; found ${table.header.join(', ')}`,
-        2,
-      );
-    const tokens = Array.isArray(meta.vocabulary) && meta.vocabulary.length > 0;
-    const vocabulary = tokens ? (meta.vocabulary as unknown[]).length : 0;
-    const norm = meta.normalisation as { mean: number[]; deviation: number[] } | undefined;
-    table.rows.forEach((r, i) => {
-      const label = r.fields[labelAt].trim();
-      const k = classes.indexOf(label);
-      if (k < 0)
-        throw new CommandError(`${fieldPath(table, i, labelAt)}: ${JSON.stringify(label.slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
-      const pieces = r.fields[sequenceAt]
-        .trim()
-        .split(/\s+/)
-        .filter((s) => s !== '');
-      if (pieces.length === 0) fail('bad_data', fieldPath(table, i, sequenceAt), 'a sequence of at least one item', 'an empty field');
-      const raw = tokens
-        ? null
-        : pieces.map((s, j) => {
-            const v = Number(s);
-            if (!Number.isFinite(v))
-              throw new CommandError(`${fieldPath(table, i, sequenceAt)}: item ${j + 1} ${JSON.stringify(s.slice(0, 80))} is not a number`);
-            return v;
-          });
-      const ids = tokens ? translator.tokenIds(pieces.join(' ')).ids : null;
-      const input = ids ?? Float32Array.from(raw!, (v) => (v - (norm?.mean[0] ?? 0)) / (norm?.deviation[0] ?? 1));
-      const out = runtime.run(input, pieces.length, 1);
-      let features: number[];
-      if (ids !== null) {
-        features = new Array<number>(vocabulary).fill(0);
-        for (const id of ids) features[id] += 1 / ids.length;
-        features.push(ids.length);
-      } else features = summaryFeatures(raw!, raw!.length, 1);
-      items.push({ actual: k, predicted: logits(out.subarray((pieces.length - 1) * classes.length, pieces.length * classes.length)).best, features });
-    });
-  }
+  const stepRows = typeof meta.idColumn === 'string';
+  const items = stepRows ? stepTableItems(runtime, meta, table, labelColumn, translator) : sequenceColumnItems(runtime, meta, table, labelColumn, translator);
+  const unit = stepRows ? `labelled sequences (${table.rows.length} step rows)` : 'labelled sequences';
   if (items.length < 3)
     throw new CommandError(`${name}: ${items.length} labelled sequences are too few to score beside baselines fitted on others (at least 3)`);
   const { scored, warning, same } = scoredItems(
@@ -248,4 +199,72 @@ function scoreClassifier(runtime: Runtime, meta: Record<string, unknown>, text: 
     names: classes,
     context: warning === null ? [] : [warning],
   };
+}
+
+/** The labelled sequences of a table of step rows (an id column), each run through the runtime. */
+function stepTableItems(runtime: Runtime, meta: Record<string, unknown>, table: Table, labelColumn: string, translator: Translator): ScoredItem[] {
+  const classes = translator.outputNames;
+  const name = table.file;
+  const items: ScoredItem[] = [];
+  const labelAt = table.header.indexOf(labelColumn);
+  const results = classifyStepTable(runtime, meta, table, labelColumn);
+  results.forEach((r) => {
+    const k = classes.indexOf(r.label as string);
+    if (k < 0)
+      throw new CommandError(
+        `${name}:${r.line}:${table.rows.find((row) => row.line === r.line)?.starts[labelAt] ?? 1}: ${JSON.stringify((r.label ?? '').slice(0, 80))} is not a class the model knows (${classes.join(', ')})`,
+      );
+    let best = 0;
+    for (let j = 1; j < r.probabilities.length; j++) if (r.probabilities[j] > r.probabilities[best]) best = j;
+    items.push({ actual: k, predicted: best, features: summaryFeatures(r.steps.flat(), r.steps.length, translator.inputNames.length) });
+  });
+  return items;
+}
+
+/** The labelled sequences of a table with a sequence column (numbers or tokens), each run through the runtime. */
+function sequenceColumnItems(runtime: Runtime, meta: Record<string, unknown>, table: Table, labelColumn: string, translator: Translator): ScoredItem[] {
+  const classes = translator.outputNames;
+  const name = table.file;
+  const items: ScoredItem[] = [];
+  const sequenceColumn = String(meta.sequenceColumn ?? 'sequence');
+  const labelAt = table.header.indexOf(labelColumn);
+  const sequenceAt = table.header.indexOf(sequenceColumn);
+  if (labelAt < 0 || sequenceAt < 0)
+    throw new CommandError(
+      `${name}: needs columns ${JSON.stringify(labelColumn)} and ${JSON.stringify(sequenceColumn)} to score; found ${table.header.join(', ')}`,
+      2,
+    );
+  const tokens = Array.isArray(meta.vocabulary) && meta.vocabulary.length > 0;
+  const vocabulary = tokens ? (meta.vocabulary as unknown[]).length : 0;
+  const norm = meta.normalisation as { mean: number[]; deviation: number[] } | undefined;
+  table.rows.forEach((r, i) => {
+    const label = r.fields[labelAt].trim();
+    const k = classes.indexOf(label);
+    if (k < 0)
+      throw new CommandError(`${fieldPath(table, i, labelAt)}: ${JSON.stringify(label.slice(0, 80))} is not a class the model knows (${classes.join(', ')})`);
+    const pieces = r.fields[sequenceAt]
+      .trim()
+      .split(/\s+/)
+      .filter((s) => s !== '');
+    if (pieces.length === 0) fail('bad_data', fieldPath(table, i, sequenceAt), 'a sequence of at least one item', 'an empty field');
+    const raw = tokens
+      ? null
+      : pieces.map((s, j) => {
+          const v = Number(s);
+          if (!Number.isFinite(v))
+            throw new CommandError(`${fieldPath(table, i, sequenceAt)}: item ${j + 1} ${JSON.stringify(s.slice(0, 80))} is not a number`);
+          return v;
+        });
+    const ids = tokens ? translator.tokenIds(pieces.join(' ')).ids : null;
+    const input = ids ?? Float32Array.from(raw!, (v) => (v - (norm?.mean[0] ?? 0)) / (norm?.deviation[0] ?? 1));
+    const out = runtime.run(input, pieces.length, 1);
+    let features: number[];
+    if (ids !== null) {
+      features = new Array<number>(vocabulary).fill(0);
+      for (const id of ids) features[id] += 1 / ids.length;
+      features.push(ids.length);
+    } else features = summaryFeatures(raw!, raw!.length, 1);
+    items.push({ actual: k, predicted: logits(out.subarray((pieces.length - 1) * classes.length, pieces.length * classes.length)).best, features });
+  });
+  return items;
 }

@@ -164,19 +164,7 @@ function indexOf(offset: number, shape: readonly number[]): number[] {
  * differences, entry by entry and along random directions (f64 recommended).
  */
 export function checkGradients(build: (tape: Tape) => Tensor, tensors: readonly Tensor[], options: GradientCheckOptions = {}): GradientReport {
-  const step = options.step ?? 1e-5;
-  const tolerance = options.tolerance ?? 1e-6;
-  const absoluteFloor = options.absoluteFloor ?? 1e-9;
-  const directionCount = options.directions ?? 3;
-  const entriesPerTensor = options.entriesPerTensor ?? Infinity;
-  if (!(step > 0) || !Number.isFinite(step)) fail('invalid_option', 'checkGradients.step', 'a finite number > 0', String(step));
-  if (!(tolerance > 0)) fail('invalid_option', 'checkGradients.tolerance', 'a number > 0', String(tolerance));
-  if (!(absoluteFloor >= 0)) fail('invalid_option', 'checkGradients.absoluteFloor', 'a number ≥ 0', String(absoluteFloor));
-  if (!Number.isInteger(directionCount) || directionCount < 0) {
-    fail('invalid_option', 'checkGradients.directions', 'a whole number ≥ 0', String(directionCount));
-  }
-  if (!(entriesPerTensor >= 1)) fail('invalid_option', 'checkGradients.entriesPerTensor', 'a number ≥ 1', String(entriesPerTensor));
-  if (typeof build !== 'function') fail('invalid_argument', 'checkGradients.build', 'a function (tape) => scalar tensor', typeof build);
+  const settings = checkSettings(build, options);
   const names = tensors.map((t, i) => (t.name !== '' ? t.name : `tensors[${i}]`));
   tensors.forEach((t, i) => {
     if (t.dtype !== 'f64') {
@@ -214,118 +202,12 @@ export function checkGradients(build: (tape: Tape) => Tensor, tensors: readonly 
     if (lossTensor.tracked) tape.reverseSweep(lossTensor);
     const analytic: FloatArray[] = tensors.map((t) => Float64Array.from(t.gradient as FloatArray));
     tape.clear();
-
-    const results: TensorGradientCheck[] = [];
-    tensors.forEach((t, ti) => {
-      const offsets = pickEntries(t.size, entriesPerTensor, random);
-      let worst = -1;
-      let worstOffset = 0;
-      let worstAbsolute = 0;
-      let worstAnalytic = 0;
-      let worstNumeric = 0;
-      const passedByFloor: number[] = [];
-      const passedByNoise: number[] = [];
-      const passedByExtrapolation: number[] = [];
-      const failures: number[] = [];
-      const failed: FailedEntry[] = [];
-      for (const offset of offsets) {
-        const original = t.data[offset];
-        // The central difference at step s, and its rounding noise.
-        const difference = (s: number): [number, number] => {
-          const up = original + s;
-          const down = original - s;
-          t.data[offset] = up;
-          const fUp = evaluate(`${names[ti]}[${offset}] + h`);
-          t.data[offset] = down;
-          const fDown = evaluate(`${names[ti]}[${offset}] − h`);
-          t.data[offset] = original;
-          return [(fUp - fDown) / (up - down), noiseOf(fUp, fDown, up - down)];
-        };
-        const a = analytic[ti][offset];
-        const judged = judge(a, difference, step, tolerance, absoluteFloor);
-        const numeric = judged.numeric;
-        const rel = relativeError(a, numeric);
-        const abs = Math.abs(a - numeric);
-        if (judged.rule === 'floor') passedByFloor.push(offset);
-        else if (judged.rule === 'noise') passedByNoise.push(offset);
-        else if (judged.rule === 'extrapolated') passedByExtrapolation.push(offset);
-        else if (judged.rule === 'failed') {
-          failures.push(offset);
-          failed.push({ index: indexOf(offset, t.shape), analytic: a, numeric, relativeError: rel });
-        }
-        if (rel > worst) {
-          worst = rel;
-          worstOffset = offset;
-          worstAbsolute = abs;
-          worstAnalytic = a;
-          worstNumeric = numeric;
-        }
-      }
-      results.push({
-        name: names[ti],
-        shape: t.shape.slice(),
-        checked: offsets.length,
-        passed: failures.length === 0,
-        worstRelativeError: Math.max(worst, 0),
-        worstAbsoluteError: worstAbsolute,
-        worstIndex: indexOf(worstOffset, t.shape),
-        worstOffset,
-        analytic: worstAnalytic,
-        numeric: worstNumeric,
-        passedByFloor,
-        passedByNoise,
-        passedByExtrapolation,
-        failures,
-        failed: failed.sort((x, y) => y.relativeError - x.relativeError).slice(0, MAX_FAILED_SHOWN),
-      });
-    });
-
+    const results = tensors.map((t, ti) => checkEntries(t, names[ti], analytic[ti], settings, evaluate, random));
     const directions: DirectionalGradientCheck[] = [];
     const totalSize = tensors.reduce((n, t) => n + t.size, 0);
-    for (let d = 0; d < directionCount && totalSize > 0; d++) {
-      const direction = new Float64Array(totalSize);
-      let norm = 0;
-      for (let i = 0; i < totalSize; i++) {
-        direction[i] = random.normal();
-        norm += direction[i] * direction[i];
-      }
-      norm = Math.sqrt(norm);
-      let expected = 0;
-      let offset = 0;
-      for (let ti = 0; ti < tensors.length; ti++) {
-        for (let i = 0; i < tensors[ti].size; i++) {
-          direction[offset + i] /= norm;
-          expected += analytic[ti][i] * direction[offset + i];
-        }
-        offset += tensors[ti].size;
-      }
-      const originals = tensors.map((t) => Float64Array.from(t.data));
-      const move = (s: number): void => {
-        let o = 0;
-        tensors.forEach((t, ti) => {
-          for (let i = 0; i < t.size; i++) t.data[i] = originals[ti][i] + s * direction[o + i];
-          o += t.size;
-        });
-      };
-      const difference = (s: number): [number, number] => {
-        move(s);
-        const fUp = evaluate(`direction ${d} + h`);
-        move(-s);
-        const fDown = evaluate(`direction ${d} − h`);
-        tensors.forEach((t, ti) => t.data.set(originals[ti]));
-        return [(fUp - fDown) / (2 * s), noiseOf(fUp, fDown, 2 * s)];
-      };
-      const judged = judge(expected, difference, step, tolerance, absoluteFloor);
-      directions.push({
-        analytic: expected,
-        numeric: judged.numeric,
-        relativeError: relativeError(expected, judged.numeric),
-        passed: judged.rule !== 'failed',
-        rule: judged.rule,
-      });
-    }
-
+    for (let d = 0; d < settings.directions && totalSize > 0; d++) directions.push(checkDirection(d, tensors, analytic, settings, evaluate, random));
     const passed = results.every((r) => r.passed) && directions.every((d) => d.passed);
+    const { step, tolerance, absoluteFloor } = settings;
     return makeReport({ passed, step, tolerance, absoluteFloor, loss, tensors: results, directions });
   } finally {
     tape.clear();
@@ -335,6 +217,150 @@ export function checkGradients(build: (tape: Tape) => Tensor, tensors: readonly 
       t.gradient = before[i].gradient;
     });
   }
+}
+
+/** A check's settings, each checked. */
+interface CheckSettings {
+  readonly step: number;
+  readonly tolerance: number;
+  readonly absoluteFloor: number;
+  readonly directions: number;
+  readonly entriesPerTensor: number;
+}
+
+/** The options with their defaults, each refused with a one-line error when it is out of range. */
+function checkSettings(build: unknown, options: GradientCheckOptions): CheckSettings {
+  const step = options.step ?? 1e-5;
+  const tolerance = options.tolerance ?? 1e-6;
+  const absoluteFloor = options.absoluteFloor ?? 1e-9;
+  const directions = options.directions ?? 3;
+  const entriesPerTensor = options.entriesPerTensor ?? Infinity;
+  if (!(step > 0) || !Number.isFinite(step)) fail('invalid_option', 'checkGradients.step', 'a finite number > 0', String(step));
+  if (!(tolerance > 0)) fail('invalid_option', 'checkGradients.tolerance', 'a number > 0', String(tolerance));
+  if (!(absoluteFloor >= 0)) fail('invalid_option', 'checkGradients.absoluteFloor', 'a number ≥ 0', String(absoluteFloor));
+  if (!Number.isInteger(directions) || directions < 0) {
+    fail('invalid_option', 'checkGradients.directions', 'a whole number ≥ 0', String(directions));
+  }
+  if (!(entriesPerTensor >= 1)) fail('invalid_option', 'checkGradients.entriesPerTensor', 'a number ≥ 1', String(entriesPerTensor));
+  if (typeof build !== 'function') fail('invalid_argument', 'checkGradients.build', 'a function (tape) => scalar tensor', typeof build);
+  return { step, tolerance, absoluteFloor, directions, entriesPerTensor };
+}
+
+/** One tensor's entries (all, or `entriesPerTensor` drawn at random), each judged against its central difference. */
+function checkEntries(
+  t: Tensor,
+  name: string,
+  analytic: FloatArray,
+  settings: CheckSettings,
+  evaluate: (where: string) => number,
+  random: Random,
+): TensorGradientCheck {
+  const offsets = pickEntries(t.size, settings.entriesPerTensor, random);
+  let worst = -1;
+  let worstOffset = 0;
+  let worstAbsolute = 0;
+  let worstAnalytic = 0;
+  let worstNumeric = 0;
+  const passedByFloor: number[] = [];
+  const passedByNoise: number[] = [];
+  const passedByExtrapolation: number[] = [];
+  const failures: number[] = [];
+  const failed: FailedEntry[] = [];
+  for (const offset of offsets) {
+    const original = t.data[offset];
+    // The central difference at step s, and its rounding noise.
+    const difference = (s: number): [number, number] => {
+      const up = original + s;
+      const down = original - s;
+      t.data[offset] = up;
+      const fUp = evaluate(`${name}[${offset}] + h`);
+      t.data[offset] = down;
+      const fDown = evaluate(`${name}[${offset}] − h`);
+      t.data[offset] = original;
+      return [(fUp - fDown) / (up - down), noiseOf(fUp, fDown, up - down)];
+    };
+    const a = analytic[offset];
+    const judged = judge(a, difference, settings.step, settings.tolerance, settings.absoluteFloor);
+    const numeric = judged.numeric;
+    const rel = relativeError(a, numeric);
+    if (judged.rule === 'floor') passedByFloor.push(offset);
+    else if (judged.rule === 'noise') passedByNoise.push(offset);
+    else if (judged.rule === 'extrapolated') passedByExtrapolation.push(offset);
+    else if (judged.rule === 'failed') {
+      failures.push(offset);
+      failed.push({ index: indexOf(offset, t.shape), analytic: a, numeric, relativeError: rel });
+    }
+    if (rel > worst) [worst, worstOffset, worstAbsolute, worstAnalytic, worstNumeric] = [rel, offset, Math.abs(a - numeric), a, numeric];
+  }
+  return {
+    name,
+    shape: t.shape.slice(),
+    checked: offsets.length,
+    passed: failures.length === 0,
+    worstRelativeError: Math.max(worst, 0),
+    worstAbsoluteError: worstAbsolute,
+    worstIndex: indexOf(worstOffset, t.shape),
+    worstOffset,
+    analytic: worstAnalytic,
+    numeric: worstNumeric,
+    passedByFloor,
+    passedByNoise,
+    passedByExtrapolation,
+    failures,
+    failed: failed.sort((x, y) => y.relativeError - x.relativeError).slice(0, MAX_FAILED_SHOWN),
+  };
+}
+
+/** The directional derivative along random unit direction `d` over every tensor, against its central difference. */
+function checkDirection(
+  d: number,
+  tensors: readonly Tensor[],
+  analytic: readonly FloatArray[],
+  settings: CheckSettings,
+  evaluate: (where: string) => number,
+  random: Random,
+): DirectionalGradientCheck {
+  const totalSize = tensors.reduce((n, t) => n + t.size, 0);
+  const direction = new Float64Array(totalSize);
+  let norm = 0;
+  for (let i = 0; i < totalSize; i++) {
+    direction[i] = random.normal();
+    norm += direction[i] * direction[i];
+  }
+  norm = Math.sqrt(norm);
+  let expected = 0;
+  let offset = 0;
+  for (let ti = 0; ti < tensors.length; ti++) {
+    for (let i = 0; i < tensors[ti].size; i++) {
+      direction[offset + i] /= norm;
+      expected += analytic[ti][i] * direction[offset + i];
+    }
+    offset += tensors[ti].size;
+  }
+  const originals = tensors.map((t) => Float64Array.from(t.data));
+  const move = (s: number): void => {
+    let o = 0;
+    tensors.forEach((t, ti) => {
+      for (let i = 0; i < t.size; i++) t.data[i] = originals[ti][i] + s * direction[o + i];
+      o += t.size;
+    });
+  };
+  const difference = (s: number): [number, number] => {
+    move(s);
+    const fUp = evaluate(`direction ${d} + h`);
+    move(-s);
+    const fDown = evaluate(`direction ${d} − h`);
+    tensors.forEach((t, ti) => t.data.set(originals[ti]));
+    return [(fUp - fDown) / (2 * s), noiseOf(fUp, fDown, 2 * s)];
+  };
+  const judged = judge(expected, difference, settings.step, settings.tolerance, settings.absoluteFloor);
+  return {
+    analytic: expected,
+    numeric: judged.numeric,
+    relativeError: relativeError(expected, judged.numeric),
+    passed: judged.rule !== 'failed',
+    rule: judged.rule,
+  };
 }
 
 /** The rounding noise of a central difference over `span` from values fUp and fDown (see NOISE_GROWTH). */

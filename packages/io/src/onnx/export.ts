@@ -73,6 +73,80 @@ function ownCellLayer(
   return writeScanLayer(program, `layers[${i}]`, layerPath(i, 'forward'), input, take, graph);
 }
 
+/**
+ * A built-in layer as the ONNX operator of its cell (LSTM, GRU or RNN), its weights turned into ONNX's gate order,
+ * and its output as [steps, batch, directions·hidden]; returns the output's name.
+ */
+function builtInLayer(
+  kind: 'lstm' | 'gru' | 'plain',
+  layer: LayerDescription,
+  i: number,
+  width: number,
+  current: string,
+  options: OnnxExportOptions,
+  take: (name: string) => Float32Array,
+  { floats, int64s, node }: GraphWriter,
+): string {
+  const hidden = layer.hidden;
+  const gates = kind === 'lstm' ? 4 : kind === 'gru' ? 3 : 1;
+  const directions = layer.bidirectional === true ? 2 : 1;
+  const w = new Float32Array(directions * gates * hidden * width);
+  const r = new Float32Array(directions * gates * hidden * hidden);
+  const b = new Float32Array(directions * 2 * gates * hidden);
+  const p = kind === 'lstm' && layer.peepholes === true ? new Float32Array(directions * 3 * hidden) : null;
+  const blocks = gateBlocks[kind];
+  const cells = layerDirections(layer);
+  for (let d = 0; d < directions; d++) {
+    const prefix = layerPath(i, cells[d]);
+    toOnnxBlocks(w, d * gates * hidden * width, take(`${prefix}.input`), gates * hidden, width, hidden, blocks);
+    const bias = take(`${prefix}.bias`);
+    blocks.forEach((onnxBlock, block) => {
+      for (let j = 0; j < hidden; j++) b[d * 2 * gates * hidden + onnxBlock * hidden + j] = bias[block * hidden + j];
+    });
+    if (kind === 'gru') {
+      toOnnxBlocks(r, d * gates * hidden * hidden, take(`${prefix}.recurrent`), 2 * hidden, hidden, hidden, [0, 1]);
+      toOnnxBlocks(r, d * gates * hidden * hidden, take(`${prefix}.recurrentCandidate`), hidden, hidden, hidden, [2]);
+      if (layer.resetAfterProduct === true) b.set(take(`${prefix}.recurrentCandidateBias`), d * 2 * gates * hidden + 5 * hidden);
+    } else {
+      toOnnxBlocks(r, d * gates * hidden * hidden, take(`${prefix}.recurrent`), gates * hidden, hidden, hidden, blocks);
+    }
+    if (p !== null) {
+      const peephole = take(`${prefix}.peephole`);
+      // Ours [i, f, o] to ONNX [i, o, f].
+      for (let j = 0; j < hidden; j++) {
+        p[d * 3 * hidden + j] = peephole[j];
+        p[d * 3 * hidden + hidden + j] = peephole[2 * hidden + j];
+        p[d * 3 * hidden + 2 * hidden + j] = peephole[hidden + j];
+      }
+    }
+  }
+  const name = `layers[${i}]`;
+  const args = [
+    current,
+    floats(`${name}.W`, [directions, gates * hidden, width], w),
+    floats(`${name}.R`, [directions, gates * hidden, hidden], r),
+    floats(`${name}.B`, [directions, 2 * gates * hidden], b),
+  ];
+  if (options.lengths === true || p !== null) args.push(options.lengths === true ? 'lengths' : '');
+  if (p !== null) args.push('', '', floats(`${name}.P`, [directions, 3 * hidden], p));
+  const attributes: OnnxNode['attributes'][number][] = [
+    { name: 'hidden_size', type: 2, i: hidden },
+    { name: 'direction', type: 3, s: directions === 2 ? 'bidirectional' : layer.reverse === true ? 'reverse' : 'forward' },
+  ];
+  if (kind === 'gru') attributes.push({ name: 'linear_before_reset', type: 2, i: layer.resetAfterProduct === true ? 1 : 0 });
+  if (kind === 'plain')
+    attributes.push({ name: 'activations', type: 8, strings: Array.from({ length: directions }, () => (layer.activation === 'relu' ? 'Relu' : 'Tanh')) });
+  node(kind === 'lstm' ? 'LSTM' : kind === 'gru' ? 'GRU' : 'RNN', name, args, [`${name}.Y`], attributes);
+  // Y [steps, directions, batch, hidden] → [steps, batch, directions·hidden]: ours is [forward | backward].
+  if (directions === 1) {
+    node('Squeeze', `${name}.squeeze`, [`${name}.Y`, int64s(`${name}.directionAxis`, [1])], [`${name}.output`]);
+  } else {
+    node('Transpose', `${name}.transpose`, [`${name}.Y`], [`${name}.byStep`], [{ name: 'perm', type: 7, ints: [0, 2, 1, 3] }]);
+    node('Reshape', `${name}.join`, [`${name}.byStep`, int64s(`${name}.joinedShape`, [0, 0, -1])], [`${name}.output`]);
+  }
+  return `${name}.output`;
+}
+
 /** A weight file's model as an ONNX model (see above). */
 export function exportOnnx(file: WeightFile, options: OnnxExportOptions = {}): OnnxModel {
   if (isEncoderDecoder(file.model)) fail('invalid_option', 'model.kind', 'a sequence model (encoder-decoders are not exported to ONNX)', '"encoder-decoder"');
@@ -109,73 +183,16 @@ export function exportOnnx(file: WeightFile, options: OnnxExportOptions = {}): O
     current = 'input';
   }
   if (options.lengths === true) inputs.push({ name: 'lengths', elementType: ONNX_INT32, dims: ['batch'] });
+  const graph: GraphWriter = { floats, int64s, node };
   description.layers.forEach((layer, i) => {
     const kind = layer.cell;
     if (kind !== 'lstm' && kind !== 'gru' && kind !== 'plain') {
-      current = ownCellLayer(layer, i, width, current, options, take, { floats, int64s, node });
+      current = ownCellLayer(layer, i, width, current, options, take, graph);
       width = layer.hidden;
       return;
     }
-    const hidden = layer.hidden;
-    const gates = kind === 'lstm' ? 4 : kind === 'gru' ? 3 : 1;
-    const directions = layer.bidirectional === true ? 2 : 1;
-    const w = new Float32Array(directions * gates * hidden * width);
-    const r = new Float32Array(directions * gates * hidden * hidden);
-    const b = new Float32Array(directions * 2 * gates * hidden);
-    const p = kind === 'lstm' && layer.peepholes === true ? new Float32Array(directions * 3 * hidden) : null;
-    const blocks = gateBlocks[kind];
-    const cells = layerDirections(layer);
-    for (let d = 0; d < directions; d++) {
-      const prefix = layerPath(i, cells[d]);
-      toOnnxBlocks(w, d * gates * hidden * width, take(`${prefix}.input`), gates * hidden, width, hidden, blocks);
-      const bias = take(`${prefix}.bias`);
-      blocks.forEach((onnxBlock, block) => {
-        for (let j = 0; j < hidden; j++) b[d * 2 * gates * hidden + onnxBlock * hidden + j] = bias[block * hidden + j];
-      });
-      if (kind === 'gru') {
-        toOnnxBlocks(r, d * gates * hidden * hidden, take(`${prefix}.recurrent`), 2 * hidden, hidden, hidden, [0, 1]);
-        toOnnxBlocks(r, d * gates * hidden * hidden, take(`${prefix}.recurrentCandidate`), hidden, hidden, hidden, [2]);
-        if (layer.resetAfterProduct === true) b.set(take(`${prefix}.recurrentCandidateBias`), d * 2 * gates * hidden + 5 * hidden);
-      } else {
-        toOnnxBlocks(r, d * gates * hidden * hidden, take(`${prefix}.recurrent`), gates * hidden, hidden, hidden, blocks);
-      }
-      if (p !== null) {
-        const peephole = take(`${prefix}.peephole`);
-        // Ours [i, f, o] to ONNX [i, o, f].
-        for (let j = 0; j < hidden; j++) {
-          p[d * 3 * hidden + j] = peephole[j];
-          p[d * 3 * hidden + hidden + j] = peephole[2 * hidden + j];
-          p[d * 3 * hidden + 2 * hidden + j] = peephole[hidden + j];
-        }
-      }
-    }
-    const name = `layers[${i}]`;
-    const args = [
-      current,
-      floats(`${name}.W`, [directions, gates * hidden, width], w),
-      floats(`${name}.R`, [directions, gates * hidden, hidden], r),
-      floats(`${name}.B`, [directions, 2 * gates * hidden], b),
-    ];
-    if (options.lengths === true || p !== null) args.push(options.lengths === true ? 'lengths' : '');
-    if (p !== null) args.push('', '', floats(`${name}.P`, [directions, 3 * hidden], p));
-    const attributes: OnnxNode['attributes'][number][] = [
-      { name: 'hidden_size', type: 2, i: hidden },
-      { name: 'direction', type: 3, s: directions === 2 ? 'bidirectional' : layer.reverse === true ? 'reverse' : 'forward' },
-    ];
-    if (kind === 'gru') attributes.push({ name: 'linear_before_reset', type: 2, i: layer.resetAfterProduct === true ? 1 : 0 });
-    if (kind === 'plain')
-      attributes.push({ name: 'activations', type: 8, strings: Array.from({ length: directions }, () => (layer.activation === 'relu' ? 'Relu' : 'Tanh')) });
-    node(kind === 'lstm' ? 'LSTM' : kind === 'gru' ? 'GRU' : 'RNN', name, args, [`${name}.Y`]);
-    nodes[nodes.length - 1] = { ...nodes[nodes.length - 1], attributes };
-    // Y [steps, directions, batch, hidden] → [steps, batch, directions·hidden]: ours is [forward | backward].
-    if (directions === 1) {
-      node('Squeeze', `${name}.squeeze`, [`${name}.Y`, int64s(`${name}.directionAxis`, [1])], [`${name}.output`]);
-    } else {
-      node('Transpose', `${name}.transpose`, [`${name}.Y`], [`${name}.byStep`], [{ name: 'perm', type: 7, ints: [0, 2, 1, 3] }]);
-      node('Reshape', `${name}.join`, [`${name}.byStep`, int64s(`${name}.joinedShape`, [0, 0, -1])], [`${name}.output`]);
-    }
-    current = `${name}.output`;
-    width = directions * hidden;
+    current = builtInLayer(kind, layer, i, width, current, options, take, graph);
+    width = (layer.bidirectional === true ? 2 : 1) * layer.hidden;
   });
   if (description.readout !== undefined && description.readout !== null) {
     const out = description.readout.width;
