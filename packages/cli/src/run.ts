@@ -128,75 +128,11 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
       .filter((s) => s !== '') ?? [];
   if (keep.length > 0 && meta.task === 'next-token') throw new CommandError('--keep carries columns of a table; a next-token model reads text', 2);
 
-  if (meta.task === 'classification' && typeof meta.idColumn === 'string') {
-    // A long table: a sequence is complete only when the whole input has been read (its rows need not be adjacent).
-    const table = parseTable(utf8Text(fromStdin ? readFileSync(0) : readFileSync(dataPath), name), { file: name });
-    const classes = createTranslator(meta).outputNames;
-    const kept = keep.map((c) => {
-      const i = table.header.indexOf(c);
-      if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)} (for --keep); the input has ${table.header.join(', ')}`);
-      return i;
-    });
-    // Each sequence's first row, by line, for the --keep columns (one lookup table, not a search per sequence).
-    const rowAtLine = new Map(table.rows.map((r) => [r.line, r]));
-    for (const result of classifyStepTable(runtime, meta, table)) {
-      const first = rowAtLine.get(result.line);
-      const record: OutputRecord = { [String(meta.idColumn)]: result.id };
-      kept.forEach((c) => (record[table.header[c]] = first?.fields[c] ?? ''));
-      record.predicted = classes[indexOfLargest(result.probabilities)];
-      classes.forEach((c, k) => (record[`p(${c})`] = Number(result.probabilities[k].toPrecision(4))));
-      output.add(record);
-    }
-  } else if (meta.task === 'forecast' || meta.task === 'classification') {
-    const ahead = args.flags.has('ahead') ? numberFlag(args, 'ahead', 1, { whole: true, min: 1, max: 100000 }) : 0;
-    if (ahead > 0 && meta.task !== 'forecast') throw new CommandError('--ahead needs a forecast model', 2);
-    const plot = args.flags.get('plot');
-    if (plot !== undefined && meta.task !== 'forecast') throw new CommandError('--plot draws forecasts: it needs a forecast model', 2);
-    const forecast =
-      meta.task !== 'forecast'
-        ? null
-        : meta.panel !== undefined
-          ? seriesForecasts(runtime, meta, name, keep, ahead > 0, plot !== undefined)
-          : rowForecasts(runtime, meta, name, keep, ahead > 0, plot === undefined ? null : '');
-    if (forecast !== null && ahead > 0) forecast.checkAhead(ahead);
-    const each = forecast?.each ?? classifier(runtime, meta, name, keep);
-    let row = 0;
-    // JSON records are read whole (a record may span lines), then given row by row as a table is.
-    const records =
-      fromStdin || !isJsonRecords('', dataPath)
-        ? tableRecords(boundedLines(fromStdin ? process.stdin : createReadStream(dataPath), name), name)
-        : jsonRows(readTable(utf8Text(readFileSync(dataPath), name), name));
-    for await (const table of records) each(table, ++row, (record) => output.add(record));
-    if (forecast !== null && ahead > 0) {
-      if (row === 0) throw new CommandError(`${name}: no rows to forecast ahead from`);
-      forecast.ahead(row, ahead, (record) => output.add(record));
-    }
-    if (forecast !== null && plot !== undefined)
-      writeFileAtomic(plot, forecastSvg(forecast.traces(), `weft run ${basename(modelPath)} on ${basename(name)}`, forecast.level));
-  } else if (meta.task === 'next-token') {
-    const text = utf8Text(fromStdin ? readFileSync(0) : readFileSync(dataPath), name);
-    const translator = createTranslator(meta);
-    const { ids, pieces, unknown } = translator.tokenIds(text);
-    if (unknown > 0)
-      process.stderr.write(
-        `weft: ${unknown} of ${pieces.length} ${meta.tokens === 'words' ? 'words' : 'characters'} of ${name} are not in the model's vocabulary; they are read as ${translator.tokenText(0)}\n`,
-      );
-    const streams = runtime.streams(1);
-    const token = new Int32Array(1);
-    pieces.forEach((piece, p) => {
-      token[0] = ids[p];
-      const probabilities = softmax(streams.step(token));
-      const best = indexOfLargest(probabilities);
-      const actual = p + 1 < pieces.length ? ids[p + 1] : -1;
-      output.add({
-        position: p + 1,
-        token: piece,
-        'most likely next': translator.tokenText(best),
-        probability: Number(probabilities[best].toPrecision(4)),
-        'probability of actual next': actual < 0 ? '' : Number(probabilities[actual].toPrecision(4)),
-      });
-    });
-  } else {
+  const input: RunInput = { name, dataPath, fromStdin, modelPath, keep, output };
+  if (meta.task === 'classification' && typeof meta.idColumn === 'string') classifyLongTable(runtime, meta, input);
+  else if (meta.task === 'forecast' || meta.task === 'classification') await runRows(runtime, meta, input, args);
+  else if (meta.task === 'next-token') nextTokens(runtime, meta, input);
+  else {
     throw new CommandError(
       `${modelPath}: its metadata names no task weft run knows (${JSON.stringify(meta.task)}); expected forecast, next-token or classification`,
     );
@@ -207,6 +143,100 @@ export async function runModel(args: ParsedArgs, write: (text: string) => void =
     return null;
   }
   return rest === '' ? null : rest;
+}
+
+/** Where weft run reads and writes: the data's name and path (or stdin), the model's path, the --keep columns and the output. */
+interface RunInput {
+  readonly name: string;
+  readonly dataPath: string;
+  readonly fromStdin: boolean;
+  readonly modelPath: string;
+  readonly keep: readonly string[];
+  readonly output: Output;
+}
+
+/** The whole input as text (strict UTF-8). */
+function readInput({ fromStdin, dataPath, name }: RunInput): string {
+  return utf8Text(fromStdin ? readFileSync(0) : readFileSync(dataPath), name);
+}
+
+/** A long table of labelled steps: a sequence is complete only when the whole input has been read (its rows need not be adjacent). */
+function classifyLongTable(runtime: Runtime, meta: Record<string, unknown>, input: RunInput): void {
+  const { name, keep, output } = input;
+  const table = parseTable(readInput(input), { file: name });
+  const classes = createTranslator(meta).outputNames;
+  const kept = keep.map((c) => {
+    const i = table.header.indexOf(c);
+    if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)} (for --keep); the input has ${table.header.join(', ')}`);
+    return i;
+  });
+  // Each sequence's first row, by line, for the --keep columns (one lookup table, not a search per sequence).
+  const rowAtLine = new Map(table.rows.map((r) => [r.line, r]));
+  for (const result of classifyStepTable(runtime, meta, table)) {
+    const first = rowAtLine.get(result.line);
+    const record: OutputRecord = { [String(meta.idColumn)]: result.id };
+    kept.forEach((c) => (record[table.header[c]] = first?.fields[c] ?? ''));
+    record.predicted = classes[indexOfLargest(result.probabilities)];
+    classes.forEach((c, k) => (record[`p(${c})`] = Number(result.probabilities[k].toPrecision(4))));
+    output.add(record);
+  }
+}
+
+/** Forecasts (one per row, then --ahead past the end) or classes of sequences, row by row as the input streams in. */
+async function runRows(runtime: Runtime, meta: Record<string, unknown>, input: RunInput, args: ParsedArgs): Promise<void> {
+  const { name, dataPath, fromStdin, modelPath, keep, output } = input;
+  const ahead = args.flags.has('ahead') ? numberFlag(args, 'ahead', 1, { whole: true, min: 1, max: 100000 }) : 0;
+  if (ahead > 0 && meta.task !== 'forecast') throw new CommandError('--ahead needs a forecast model', 2);
+  const plot = args.flags.get('plot');
+  if (plot !== undefined && meta.task !== 'forecast') throw new CommandError('--plot draws forecasts: it needs a forecast model', 2);
+  const forecast =
+    meta.task !== 'forecast'
+      ? null
+      : meta.panel !== undefined
+        ? seriesForecasts(runtime, meta, name, keep, ahead > 0, plot !== undefined)
+        : rowForecasts(runtime, meta, name, keep, ahead > 0, plot === undefined ? null : '');
+  if (forecast !== null && ahead > 0) forecast.checkAhead(ahead);
+  const each = forecast?.each ?? classifier(runtime, meta, name, keep);
+  let row = 0;
+  // JSON records are read whole (a record may span lines), then given row by row as a table is.
+  const records =
+    fromStdin || !isJsonRecords('', dataPath)
+      ? tableRecords(boundedLines(fromStdin ? process.stdin : createReadStream(dataPath), name), name)
+      : jsonRows(readTable(utf8Text(readFileSync(dataPath), name), name));
+  for await (const table of records) each(table, ++row, (record) => output.add(record));
+  if (forecast !== null && ahead > 0) {
+    if (row === 0) throw new CommandError(`${name}: no rows to forecast ahead from`);
+    forecast.ahead(row, ahead, (record) => output.add(record));
+  }
+  if (forecast !== null && plot !== undefined)
+    writeFileAtomic(plot, forecastSvg(forecast.traces(), `weft run ${basename(modelPath)} on ${basename(name)}`, forecast.level));
+}
+
+/** The next-token model's most likely next token and the actual one's probability, at every position of the text. */
+function nextTokens(runtime: Runtime, meta: Record<string, unknown>, input: RunInput): void {
+  const { name, output } = input;
+  const text = readInput(input);
+  const translator = createTranslator(meta);
+  const { ids, pieces, unknown } = translator.tokenIds(text);
+  if (unknown > 0)
+    process.stderr.write(
+      `weft: ${unknown} of ${pieces.length} ${meta.tokens === 'words' ? 'words' : 'characters'} of ${name} are not in the model's vocabulary; they are read as ${translator.tokenText(0)}\n`,
+    );
+  const streams = runtime.streams(1);
+  const token = new Int32Array(1);
+  pieces.forEach((piece, p) => {
+    token[0] = ids[p];
+    const probabilities = softmax(streams.step(token));
+    const best = indexOfLargest(probabilities);
+    const actual = p + 1 < pieces.length ? ids[p + 1] : -1;
+    output.add({
+      position: p + 1,
+      token: piece,
+      'most likely next': translator.tokenText(best),
+      probability: Number(probabilities[best].toPrecision(4)),
+      'probability of actual next': actual < 0 ? '' : Number(probabilities[actual].toPrecision(4)),
+    });
+  });
 }
 
 /** A table's rows one at a time, each as a table of that row alone (how tableRecords gives them). */
