@@ -4,6 +4,7 @@
  */
 import type { Runtime } from '@weft/io/runtime';
 import { createRowForecaster, forecastIntervals, forecastPanel } from '@weft/io';
+import type { RowForecaster } from '@weft/io';
 import { fieldPath, seriesMetadata } from '@weft/io/internal';
 import { TraceRecorder } from './forecast-plot.js';
 import type { ForecastTrace } from './forecast-plot.js';
@@ -47,23 +48,7 @@ export function rowForecasts(
   const boundNames = bounds === null ? [] : columnNames.map((c) => [`${c} low`, `${c} high`]);
   const shown = (v: number) => (Number.isFinite(v) ? Number(v.toPrecision(6)) : '');
   const several = rowsAhead.length > 1;
-  const checkAhead = (count: number): void => {
-    if (several) {
-      if (count > rowsAhead[rowsAhead.length - 1])
-        throw new CommandError(
-          `--ahead ${count}: this model forecasts rows 1 to ${rowsAhead[rowsAhead.length - 1]} ahead at once; ask for at most ${rowsAhead[rowsAhead.length - 1]} (or train it with a longer --horizon)`,
-          2,
-        );
-      return;
-    }
-    const missing = model.inputNames.filter((c) => !model.outputNames.includes(c));
-    if (Number(meta.horizon) !== 1 || missing.length > 0 || model.readNames.length > model.inputNames.length) {
-      throw new CommandError(
-        `--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead, and read no times; this one forecasts ${model.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''}${model.readNames.length > model.inputNames.length ? ' and reads the time column' : ''} (train it with --horizon 1 and no --target, or with --horizon ROWS to forecast that many rows at once)`,
-        2,
-      );
-    }
-  };
+  const checkAhead = (count: number): void => checkAheadFor(model, meta, count);
   const ahead = (rows: number, count: number, emit: (record: OutputRecord) => void): void => {
     if (rows < model.warmUp)
       throw new CommandError(
@@ -105,17 +90,7 @@ export function rowForecasts(
     if (row === 1) kept = columnsAt(table, keep, name, 'for --keep');
     const fields = table.rows[0].fields;
     model.readNames.forEach((c, j) => (raw[c] = fields[(at as number[])[j]]));
-    let ready: boolean;
-    try {
-      ready = model.nextInto(raw, made);
-    } catch (error) {
-      // Point at the first field that is not a number, by line and column (a time that does not parse: its message).
-      const j = model.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
-      if (j < 0) throw new CommandError(`${fieldPath(table, 0, (at as number[])[model.readNames.length - 1])}: ${(error as Error).message}`);
-      throw new CommandError(
-        `${fieldPath(table, 0, (at as number[])[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`,
-      );
-    }
+    const ready = forecastRow(model, raw, made, table, at);
     recorder?.add(
       row - 1,
       model.takesMissing || raw[model.outputNames[0]].trim() !== '' ? Number(raw[model.outputNames[0]]) : NaN,
@@ -136,6 +111,46 @@ export function rowForecasts(
     emit(record);
   };
   return { each, ahead, checkAhead, traces: (): ForecastTrace[] => (recorder === null ? [] : [recorder.trace()]), level: bounds?.level ?? null };
+}
+
+/**
+ * With `--ahead` and a model of one row ahead, each forecast is fed back as the next row: the model must forecast
+ * every column it reads, 1 row ahead, and read no times; a model of every row up to its horizon gives at most that
+ * many rows.
+ */
+function checkAheadFor(model: RowForecaster, meta: Record<string, unknown>, count: number): void {
+  const rowsAhead = model.rowsAhead;
+  if (rowsAhead.length > 1) {
+    if (count > rowsAhead[rowsAhead.length - 1])
+      throw new CommandError(
+        `--ahead ${count}: this model forecasts rows 1 to ${rowsAhead[rowsAhead.length - 1]} ahead at once; ask for at most ${rowsAhead[rowsAhead.length - 1]} (or train it with a longer --horizon)`,
+        2,
+      );
+    return;
+  }
+  const missing = model.inputNames.filter((c) => !model.outputNames.includes(c));
+  if (Number(meta.horizon) !== 1 || missing.length > 0 || model.readNames.length > model.inputNames.length) {
+    throw new CommandError(
+      `--ahead feeds each forecast back as the next row, so the model must forecast every column it reads, 1 row ahead, and read no times; this one forecasts ${model.outputNames.join(', ')} ${String(meta.horizon)} row(s) ahead${missing.length > 0 ? ` and does not forecast ${missing.join(', ')}` : ''}${model.readNames.length > model.inputNames.length ? ' and reads the time column' : ''} (train it with --horizon 1 and no --target, or with --horizon ROWS to forecast that many rows at once)`,
+      2,
+    );
+  }
+}
+
+/**
+ * The model's forecasts after one more row (true once it has a window of rows); a field that is not a number is an
+ * error at its line and column (a time that does not parse: its message).
+ */
+function forecastRow(model: RowForecaster, raw: Record<string, string>, made: Float64Array, table: Table, at: readonly number[]): boolean {
+  try {
+    return model.nextInto(raw, made);
+  } catch (error) {
+    const j = model.inputNames.findIndex((c) => !Number.isFinite(Number(raw[c])) || raw[c].trim() === '');
+    if (j < 0) throw new CommandError(`${fieldPath(table, 0, at[model.readNames.length - 1])}: ${(error as Error).message}`);
+    throw new CommandError(
+      `${fieldPath(table, 0, at[Math.max(0, j)])}: ${JSON.stringify(raw[model.inputNames[Math.max(0, j)]].slice(0, 80))} in column ${JSON.stringify(model.inputNames[Math.max(0, j)])} is not a number`,
+    );
+  }
 }
 
 /**

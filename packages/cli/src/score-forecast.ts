@@ -22,7 +22,7 @@ import {
   scoreIntervals,
 } from '@weft/io';
 import { fieldPath, forecastWords, missingTest, panelReport, pooledBaselineWidths, seriesMetadata, seriesRows, withIntervals } from '@weft/io/internal';
-import type { HeldOutReport, Table } from '@weft/io';
+import type { HeldOutReport, RowForecaster, Table, Translator } from '@weft/io';
 import type { Runtime } from '@weft/io/runtime';
 import { scoredCount } from './scored-part.js';
 import type { ScoredPart } from './scored-part.js';
@@ -122,22 +122,8 @@ function seriesScore(
   part: ScoredPart,
 ): SeriesScore {
   const translator = createTranslator(meta);
-  // A model that takes missing readings reads the file as training did: skipped times put back as rows of missing
-  // cells, and the markers read as missing (never scored).
-  const missing = forecastMissing(meta, translator.inputNames.length);
-  const givenTime =
-    missing === null
-      ? null
-      : readTimeColumn(given, typeof meta.timeColumn === 'string' && given.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
-  const table = givenTime === null ? given : insertSkippedTimes(given, givenTime).table;
-  const isMissing = missing === null ? null : missingTest(missing.markers);
-  const at = translator.inputNames.map((c) => {
-    const i = table.header.indexOf(c);
-    if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)}, which the model reads (it reads ${translator.inputNames.join(', ')})`);
-    return i;
-  });
+  const { table, at, values } = readScored(meta, given, translator, name);
   const horizon = Number(meta.horizon);
-  const values = table.rows.map((row, r) => at.map((c) => (isMissing?.(row.fields[c]) ? NaN : numberAt(table, r, c))));
   const targets = translator.outputNames.map((t) => translator.inputNames.indexOf(t));
   const rows = values.length;
   if (rows < horizon + 4) throw new CommandError(`${name}: ${rows} rows are too few to score forecasts ${horizon} rows ahead`);
@@ -159,21 +145,8 @@ function seriesScore(
   // The model's forecast made at every row, in real units (a stream's state running from the first row; a
   // windowed model's from the rows of its window).
   const forecaster = createRowForecaster(runtime, meta);
-  const timeName = forecaster.readNames.length > forecaster.inputNames.length ? forecaster.readNames[forecaster.readNames.length - 1] : null;
-  const timeAt = timeName === null ? -1 : table.header.indexOf(timeName);
-  if (timeName !== null && timeAt < 0)
-    throw new CommandError(`${name}: no column ${JSON.stringify(timeName)}, the times the model reads its calendar inputs from`);
-  const row: Record<string, number | string> = {};
-  // forecasts[t][s × targets + k]: target k, rowsAhead[s] rows after row t (every row up to the horizon for a model
-  // that forecasts them all at once).
   const rowsAhead = forecaster.rowsAhead;
-  const width = rowsAhead.length * targets.length;
-  const forecasts = values.map((v, r) => {
-    translator.inputNames.forEach((c, j) => (row[c] = v[j]));
-    if (timeName !== null) row[timeName] = table.rows[r].fields[timeAt];
-    const made = new Float64Array(width);
-    return forecaster.nextInto(row, made, fieldPath(table, r, at[0])) ? made : null;
-  });
+  const forecasts = forecastsAtEveryRow(forecaster, translator, table, values, at, name);
   if (forecasts[rows - scored - horizon] === null || forecasts[rows - scored - rowsAhead[0]] === null) {
     fail(
       'invalid_option',
@@ -225,4 +198,53 @@ function seriesScore(
           ),
     level: forecaster.intervals?.level ?? null,
   };
+}
+
+/**
+ * The file's rows as the model reads them: a model that takes missing readings reads the file as training did
+ * (skipped times put back as rows of missing cells, the markers read as missing, never scored); the columns the
+ * model reads, and their numbers.
+ */
+function readScored(meta: Record<string, unknown>, given: Table, translator: Translator, name: string): { table: Table; at: number[]; values: number[][] } {
+  const missing = forecastMissing(meta, translator.inputNames.length);
+  const givenTime =
+    missing === null
+      ? null
+      : readTimeColumn(given, typeof meta.timeColumn === 'string' && given.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
+  const table = givenTime === null ? given : insertSkippedTimes(given, givenTime).table;
+  const isMissing = missing === null ? null : missingTest(missing.markers);
+  const at = translator.inputNames.map((c) => {
+    const i = table.header.indexOf(c);
+    if (i < 0) throw new CommandError(`${name}: no column ${JSON.stringify(c)}, which the model reads (it reads ${translator.inputNames.join(', ')})`);
+    return i;
+  });
+  const values = table.rows.map((row, r) => at.map((c) => (isMissing?.(row.fields[c]) ? NaN : numberAt(table, r, c))));
+  return { table, at, values };
+}
+
+/**
+ * The model's forecasts made at every row, in real units (a stream's state running from the first row; a windowed
+ * model's from the rows of its window): forecasts[t][s × targets + k] is target k, rowsAhead[s] rows after row t;
+ * null before the model's first forecast.
+ */
+function forecastsAtEveryRow(
+  forecaster: RowForecaster,
+  translator: Translator,
+  table: Table,
+  values: readonly number[][],
+  at: readonly number[],
+  name: string,
+): (Float64Array | null)[] {
+  const timeName = forecaster.readNames.length > forecaster.inputNames.length ? forecaster.readNames[forecaster.readNames.length - 1] : null;
+  const timeAt = timeName === null ? -1 : table.header.indexOf(timeName);
+  if (timeName !== null && timeAt < 0)
+    throw new CommandError(`${name}: no column ${JSON.stringify(timeName)}, the times the model reads its calendar inputs from`);
+  const row: Record<string, number | string> = {};
+  const width = forecaster.rowsAhead.length * translator.outputNames.length;
+  return values.map((v, r) => {
+    translator.inputNames.forEach((c, j) => (row[c] = v[j]));
+    if (timeName !== null) row[timeName] = table.rows[r].fields[timeAt];
+    const made = new Float64Array(width);
+    return forecaster.nextInto(row, made, fieldPath(table, r, at[0])) ? made : null;
+  });
 }
