@@ -88,33 +88,148 @@ export function splitTokens(text: string, mode: 'characters' | 'words'): string[
 
 /** A translator for the model a weight file's metadata describes. */
 export function createTranslator(metadata: Readonly<Record<string, unknown>>): Translator {
-  const columns = strings(metadata.columns);
-  const targets = strings(metadata.targetColumns);
-  const vocabulary = strings(metadata.vocabulary);
-  const classes = strings(metadata.classes);
-  const mode = metadata.tokens === 'words' ? 'words' : 'characters';
-  const normalisation = (metadata.normalisation ?? { mean: [], deviation: [] }) as Normalisation;
-  const targetIndexes = targets.map((t) => columns.indexOf(t));
-  const index = new Map(vocabulary.map((v, i) => [v, i]));
-  const unknownId = index.get(UNKNOWN_TOKEN) ?? 0;
-  const outputNames = targets.length > 0 ? targets : classes.length > 0 ? classes : vocabulary;
-  const transform = metadata.targetTransform as TargetTransform | undefined;
-  // The targets' raw values in the last row given to inputs(), for undoing a transform.
-  const lastLevels = new Float64Array(targets.length).fill(NaN);
-  // Missing readings: each column's last value (its fallback before any), and the flags after the columns.
-  const missing = metadata.missing === undefined ? null : forecastMissing(metadata, columns.length);
-  const isMissing = missing === null ? null : missingTest(missing.markers);
-  const flagged = missing === null || metadata.window !== undefined ? [] : missing.flagged;
-  const carried = Float64Array.from(missing?.fallback ?? []);
-  const width = columns.length + flagged.length;
-  // Per column, its place among the targets (−1 for none), found once.
-  const targetOf = columns.map((name) => targets.indexOf(name));
-  // Target k in real units from the model's output (loops and no closures: nothing is made per reading).
-  const target = (values: ArrayLike<number>, k: number, from: Readonly<Record<string, number | string>> | undefined): number => {
-    const j = targetIndexes[k];
-    if (transform === undefined) return values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0);
-    const name = targets[k];
-    const level = from === undefined ? lastLevels[k] : Number(from[name]);
+  return new MetadataTranslator(metadata);
+}
+
+/** The translator of one weight file's metadata: its columns, targets, vocabulary and scalings, read once. */
+class MetadataTranslator implements Translator {
+  readonly inputNames: readonly string[];
+  readonly outputNames: readonly string[];
+  readonly missing: MissingRecord | null;
+  private readonly targets: readonly string[];
+  private readonly vocabulary: readonly string[];
+  private readonly mode: 'characters' | 'words';
+  private readonly normalisation: Normalisation;
+  private readonly targetIndexes: readonly number[];
+  private readonly index: Map<string, number>;
+  private readonly unknownId: number;
+  private readonly transform: TargetTransform | undefined;
+  /** The targets' raw values in the last row given to inputs(), for undoing a transform. */
+  private readonly lastLevels: Float64Array;
+  private readonly isMissing: ((text: string) => boolean) | null;
+  /** Missing readings: the columns whose "was missing" flags follow the columns. */
+  private readonly flagged: readonly number[];
+  /** Missing readings: each column's last value (its fallback before any). */
+  private readonly carried: Float64Array;
+  private readonly width: number;
+  /** Per column, its place among the targets (−1 for none), found once. */
+  private readonly targetOf: readonly number[];
+
+  constructor(metadata: Readonly<Record<string, unknown>>) {
+    const columns = strings(metadata.columns);
+    const targets = strings(metadata.targetColumns);
+    const vocabulary = strings(metadata.vocabulary);
+    const classes = strings(metadata.classes);
+    this.inputNames = columns;
+    this.targets = targets;
+    this.vocabulary = vocabulary;
+    this.mode = metadata.tokens === 'words' ? 'words' : 'characters';
+    this.normalisation = (metadata.normalisation ?? { mean: [], deviation: [] }) as Normalisation;
+    this.targetIndexes = targets.map((t) => columns.indexOf(t));
+    this.index = new Map(vocabulary.map((v, i) => [v, i]));
+    this.unknownId = this.index.get(UNKNOWN_TOKEN) ?? 0;
+    this.outputNames = targets.length > 0 ? targets : classes.length > 0 ? classes : vocabulary;
+    this.transform = metadata.targetTransform as TargetTransform | undefined;
+    this.lastLevels = new Float64Array(targets.length).fill(Number.NaN);
+    this.missing = metadata.missing === undefined ? null : forecastMissing(metadata, columns.length);
+    this.isMissing = this.missing === null ? null : missingTest(this.missing.markers);
+    this.flagged = this.missing === null || metadata.window !== undefined ? [] : this.missing.flagged;
+    this.carried = Float64Array.from(this.missing?.fallback ?? []);
+    this.width = columns.length + this.flagged.length;
+    this.targetOf = columns.map((name) => targets.indexOf(name));
+  }
+
+  inputs(row: Readonly<Record<string, number | string>>, into?: Float32Array, where = 'row'): Float32Array {
+    const { inputNames: columns, isMissing, flagged } = this;
+    const out = into ?? new Float32Array(this.width);
+    if (out.length !== this.width) fail('shape_mismatch', `${where} (into)`, `${this.width} numbers`, String(out.length));
+    for (let j = 0; j < columns.length; j++) {
+      const name = columns[j];
+      if (!Object.hasOwn(row, name)) throw bad(`${where}.${name}`, `a value for column ${JSON.stringify(name)}, which the model reads`, 'nothing');
+      const raw = row[name];
+      let value = typeof raw === 'number' ? raw : raw.trim() === '' ? Number.NaN : Number(raw);
+      if (isMissing !== null && (typeof raw === 'number' ? Number.isNaN(raw) : isMissing(raw))) value = this.carried[j];
+      else if (!Number.isFinite(value))
+        throw bad(`${where}.${name}`, isMissing === null ? 'a finite number' : 'a finite number or a missing-reading marker', JSON.stringify(raw));
+      else if (this.missing !== null) this.carried[j] = value;
+      out[j] = this.scaled(value, j);
+    }
+    for (let i = 0; i < flagged.length; i++) {
+      const raw = row[columns[flagged[i]]];
+      out[columns.length + i] = (typeof raw === 'number' ? Number.isNaN(raw) : isMissing!(raw)) ? 1 : 0;
+    }
+    return out;
+  }
+
+  outputs(values: ArrayLike<number>, from?: Readonly<Record<string, number | string>>): Record<string, number> {
+    const named: Record<string, number> = {};
+    for (let k = 0; k < this.targets.length; k++) named[this.targets[k]] = this.target(values, k, from);
+    return named;
+  }
+
+  outputsInto(values: ArrayLike<number>, into: { [index: number]: number; readonly length: number }, from?: Readonly<Record<string, number | string>>): void {
+    const { targets, targetIndexes, normalisation } = this;
+    if (into.length < targets.length) fail('shape_mismatch', 'outputsInto.into', `room for ${targets.length} targets`, String(into.length));
+    for (let k = 0; k < targets.length; k++) {
+      const j = targetIndexes[k];
+      into[k] = this.transform === undefined ? values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0) : this.target(values, k, from);
+    }
+  }
+
+  inputsFromNumbers(values: ArrayLike<number>, into: Float32Array): Float32Array {
+    const { inputNames: columns, isMissing, flagged } = this;
+    if (values.length !== columns.length)
+      fail('shape_mismatch', 'inputsFromNumbers.values', `${columns.length} numbers (${columns.join(', ')})`, String(values.length));
+    if (into.length !== this.width) fail('shape_mismatch', 'inputsFromNumbers.into', `${this.width} numbers`, String(into.length));
+    for (let j = 0; j < columns.length; j++) {
+      let value = values[j];
+      if (Number.isNaN(value) && isMissing !== null) value = this.carried[j];
+      else if (!Number.isFinite(value))
+        throw bad(`values[${j}] (${columns[j]})`, isMissing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(value));
+      else if (this.missing !== null) this.carried[j] = value;
+      into[j] = this.scaled(value, j);
+    }
+    for (let i = 0; i < flagged.length; i++) into[columns.length + i] = Number.isNaN(values[flagged[i]]) ? 1 : 0;
+    return into;
+  }
+
+  tokenId(piece: string): number {
+    return this.index.get(piece) ?? this.unknownId;
+  }
+
+  tokenIds(text: string): { ids: Int32Array; pieces: string[]; unknown: number } {
+    const pieces = splitTokens(text, this.mode);
+    let unknown = 0;
+    const ids = Int32Array.from(pieces, (p) => {
+      const id = this.index.get(p);
+      if (id === undefined) {
+        unknown++;
+        return this.unknownId;
+      }
+      return id;
+    });
+    return { ids, pieces, unknown };
+  }
+
+  tokenText(id: number): string {
+    const vocabulary = this.vocabulary;
+    if (!(Number.isInteger(id) && id >= 0 && id < vocabulary.length)) throw bad('tokenText.id', `a token id in [0, ${vocabulary.length})`, String(id));
+    return vocabulary[id];
+  }
+
+  /** Column j's reading as the model reads it (normalised), noted as its target's last level when it is one. */
+  private scaled(value: number, j: number): number {
+    if (this.targetOf[j] >= 0) this.lastLevels[this.targetOf[j]] = value;
+    return (value - (this.normalisation.mean[j] ?? 0)) / (this.normalisation.deviation[j] ?? 1);
+  }
+
+  /** Target k in real units from the model's output (loops and no closures: nothing is made per reading). */
+  private target(values: ArrayLike<number>, k: number, from: Readonly<Record<string, number | string>> | undefined): number {
+    const j = this.targetIndexes[k];
+    const transform = this.transform;
+    if (transform === undefined) return values[k] * (this.normalisation.deviation[j] ?? 1) + (this.normalisation.mean[j] ?? 0);
+    const name = this.targets[k];
+    const level = from === undefined ? this.lastLevels[k] : Number(from[name]);
     if (!Number.isFinite(level))
       throw bad(
         `outputs.from.${name}`,
@@ -123,79 +238,5 @@ export function createTranslator(metadata: Readonly<Record<string, unknown>>): T
       );
     const change = values[k] * (transform.deviation[k] ?? 1) + (transform.mean[k] ?? 0);
     return transform.kind === 'log-returns' ? level * Math.exp(change) : level + change;
-  };
-  return {
-    inputNames: columns,
-    outputNames,
-    missing,
-    inputs(row, into, where = 'row') {
-      const out = into ?? new Float32Array(width);
-      if (out.length !== width) fail('shape_mismatch', `${where} (into)`, `${width} numbers`, String(out.length));
-      for (let j = 0; j < columns.length; j++) {
-        const name = columns[j];
-        if (!Object.hasOwn(row, name)) throw bad(`${where}.${name}`, `a value for column ${JSON.stringify(name)}, which the model reads`, 'nothing');
-        const raw = row[name];
-        let value = typeof raw === 'number' ? raw : raw.trim() === '' ? NaN : Number(raw);
-        if (isMissing !== null && (typeof raw === 'number' ? Number.isNaN(raw) : isMissing(raw))) value = carried[j];
-        else if (!Number.isFinite(value))
-          throw bad(`${where}.${name}`, isMissing === null ? 'a finite number' : 'a finite number or a missing-reading marker', JSON.stringify(raw));
-        else if (missing !== null) carried[j] = value;
-        out[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
-        if (targetOf[j] >= 0) lastLevels[targetOf[j]] = value;
-      }
-      for (let i = 0; i < flagged.length; i++) {
-        const raw = row[columns[flagged[i]]];
-        out[columns.length + i] = (typeof raw === 'number' ? Number.isNaN(raw) : isMissing!(raw)) ? 1 : 0;
-      }
-      return out;
-    },
-    outputs(values, from) {
-      const named: Record<string, number> = {};
-      for (let k = 0; k < targets.length; k++) named[targets[k]] = target(values, k, from);
-      return named;
-    },
-    outputsInto(values, into, from) {
-      if (into.length < targets.length) fail('shape_mismatch', 'outputsInto.into', `room for ${targets.length} targets`, String(into.length));
-      for (let k = 0; k < targets.length; k++) {
-        const j = targetIndexes[k];
-        into[k] = transform === undefined ? values[k] * (normalisation.deviation[j] ?? 1) + (normalisation.mean[j] ?? 0) : target(values, k, from);
-      }
-    },
-    inputsFromNumbers(values, into) {
-      if (values.length !== columns.length)
-        fail('shape_mismatch', 'inputsFromNumbers.values', `${columns.length} numbers (${columns.join(', ')})`, String(values.length));
-      if (into.length !== width) fail('shape_mismatch', 'inputsFromNumbers.into', `${width} numbers`, String(into.length));
-      for (let j = 0; j < columns.length; j++) {
-        let value = values[j];
-        if (Number.isNaN(value) && isMissing !== null) value = carried[j];
-        else if (!Number.isFinite(value))
-          throw bad(`values[${j}] (${columns[j]})`, isMissing === null ? 'a finite number' : 'a finite number, or NaN for a missing reading', String(value));
-        else if (missing !== null) carried[j] = value;
-        into[j] = (value - (normalisation.mean[j] ?? 0)) / (normalisation.deviation[j] ?? 1);
-        if (targetOf[j] >= 0) lastLevels[targetOf[j]] = value;
-      }
-      for (let i = 0; i < flagged.length; i++) into[columns.length + i] = Number.isNaN(values[flagged[i]]) ? 1 : 0;
-      return into;
-    },
-    tokenId(piece) {
-      return index.get(piece) ?? unknownId;
-    },
-    tokenIds(text) {
-      const pieces = splitTokens(text, mode);
-      let unknown = 0;
-      const ids = Int32Array.from(pieces, (p) => {
-        const id = index.get(p);
-        if (id === undefined) {
-          unknown++;
-          return unknownId;
-        }
-        return id;
-      });
-      return { ids, pieces, unknown };
-    },
-    tokenText(id) {
-      if (!(Number.isInteger(id) && id >= 0 && id < vocabulary.length)) throw bad('tokenText.id', `a token id in [0, ${vocabulary.length})`, String(id));
-      return vocabulary[id];
-    },
-  };
+  }
 }
