@@ -13,6 +13,7 @@
 import { fail } from '@weft/core';
 import { forecastBaselines } from './baselines.js';
 import { readSeries } from './series.js';
+import type { Series } from './series.js';
 import { checkGaps, linesOf, seriesParts, tableNotes } from './series-checks.js';
 import type { Table } from './table.js';
 import { readTable } from './json-records.js';
@@ -106,21 +107,7 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
   // alone (a transform, a lookback) asks for streams.
   const examples = options.examples ?? (trainEnd <= SLIDING_ROWS && (options.transform ?? 'none') === 'none' && options.lookback === 0 ? 'sliding' : 'streams');
   const holes = series.missing.some((n) => n > 0);
-  const notes = [
-    ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
-    ...(copies.length === 0
-      ? []
-      : [
-          `left out ${copies.map((c) => JSON.stringify(c)).join(' and ')}: ${copies.length === 1 ? 'it repeats' : 'they repeat'} the time column's calendar (--columns to read ${copies.length === 1 ? 'it' : 'them'})`,
-        ]),
-    ...(putBack?.note === null || putBack === null ? [] : [putBack.note]),
-    ...series.notes,
-    ...(holes ? [missingNote(series.columns, series.missing, rows, examples === 'sliding' ? rule : 'streams', options.gapLimit, series.targets)] : []),
-    ...(time === null
-      ? []
-      : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
-    ...tableNotes(table, time, series.columns),
-  ];
+  const notes = preparationNotes({ table, time, series, leftOut, copies, putBack, rule: examples === 'sliding' ? rule : 'streams', options });
   const metadata = {
     task: 'forecast' as const,
     columns: columns.map((c) => table.header[c]),
@@ -161,12 +148,61 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
     ...(part === undefined ? {} : { panel: part }),
   };
   if (examples === 'sliding') return slidingWindows({ ...common, season: baselines.season.season });
+  checkStreams(options, series.missing, { file, rows, trainEnd, testStart });
+  return streamsOf(common);
+}
+
+/** The notes of a series' preparation: columns left out, times put back, missing readings, the time column. */
+function preparationNotes({
+  table,
+  time,
+  series,
+  leftOut,
+  copies,
+  putBack,
+  rule,
+  options,
+}: {
+  table: Table;
+  time: TimeColumn | null;
+  series: Series;
+  leftOut: readonly string[];
+  copies: readonly string[];
+  putBack: { note: string | null } | null;
+  /** The missing-reading rule as the note names it ('streams' on streams). */
+  rule: string;
+  options: SeriesPreparation;
+}): string[] {
+  const rows = table.rows.length;
+  const holes = series.missing.some((n) => n > 0);
+  return [
+    ...(options.columns === undefined && leftOut.length > 0 ? [`left out columns that hold no numbers: ${leftOut.join('; ')}`] : []),
+    ...(copies.length === 0
+      ? []
+      : [
+          `left out ${copies.map((c) => JSON.stringify(c)).join(' and ')}: ${copies.length === 1 ? 'it repeats' : 'they repeat'} the time column's calendar (--columns to read ${copies.length === 1 ? 'it' : 'them'})`,
+        ]),
+    ...(putBack?.note === null || putBack === null ? [] : [putBack.note]),
+    ...series.notes,
+    ...(holes ? [missingNote(series.columns, series.missing, rows, rule, options.gapLimit, series.targets)] : []),
+    ...(time === null
+      ? []
+      : [`time column: ${time.name}${time.spacing === null ? ' (irregular spacing: no season from it)' : ` (rows ${time.spacing.unit} apart)`}`]),
+    ...tableNotes(table, time, series.columns),
+  ];
+}
+
+/** What streams cannot do: a transform over missing readings, the hybrid, too few training rows for the streams asked. */
+function checkStreams(options: SeriesPreparation, missing: readonly number[], at: { file: string; rows: number; trainEnd: number; testStart: number }): void {
+  const { file, rows, trainEnd, testStart } = at;
+  const horizon = options.horizon;
+  const holes = missing.some((n) => n > 0);
   if (holes && (options.transform ?? 'none') !== 'none')
     fail(
       'invalid_option',
       '--transform',
       `none for a series with missing readings (a change from or to a missing reading is unknown); or fill the gaps first`,
-      `${options.transform} with ${series.missing.reduce((a, b) => a + b, 0)} missing readings`,
+      `${options.transform} with ${missing.reduce((a, b) => a + b, 0)} missing readings`,
     );
   if (options.hybrid === true)
     fail(
@@ -183,7 +219,6 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
       `${rows} rows, which leave ${Math.max(0, trainEnd)} training rows (after ${testStart - trainEnd} for validation and ${rows - testStart} for the test)`,
     );
   }
-  return streamsOf(common);
 }
 
 /** What was missing and what was done, in one line. */
