@@ -129,21 +129,8 @@ function seriesScore(
   if (rows < horizon + 4) throw new CommandError(`${name}: ${rows} rows are too few to score forecasts ${horizon} rows ahead`);
   const time = readTimeColumn(table, typeof meta.timeColumn === 'string' && table.header.includes(meta.timeColumn) ? meta.timeColumn : undefined);
   const { scored, warning, same } = scoredCount(rows, part, 'series', { all: 'rows', test: 'testRows', fitted: ['trainingRows', 'validationRows'] });
-  if (scored < horizon)
-    fail('invalid_option', '--test', `a share leaving at least ${horizon} scored rows (the horizon) of the ${rows}`, `${part.share} (${scored} rows)`);
   const testStart = rows - scored;
-  if (testStart < 3)
-    fail('invalid_option', '--test', `a share leaving at least 3 rows to fit the baselines on, of the ${rows}`, `${part.share} (${testStart} rows)`);
-  if (season !== undefined && season !== null && !(season < testStart)) {
-    fail(
-      'invalid_option',
-      `${name}:${table.rows[testStart - 1].line}:1 (--season)`,
-      `a season shorter than the ${testStart} rows before the scored ones, which end at this line`,
-      String(season),
-    );
-  }
-  // The model's forecast made at every row, in real units (a stream's state running from the first row; a
-  // windowed model's from the rows of its window).
+  checkScoredRows(table, horizon, scored, season, part);
   const forecaster = createRowForecaster(runtime, meta);
   const rowsAhead = forecaster.rowsAhead;
   const forecasts = forecastsAtEveryRow(forecaster, translator, table, values, at, name);
@@ -247,4 +234,22 @@ function forecastsAtEveryRow(
     const made = new Float64Array(width);
     return forecaster.nextInto(row, made, fieldPath(table, r, at[0])) ? made : null;
   });
+}
+
+/** The scored rows: at least the horizon of them, at least 3 before them to fit the baselines on, and a season that fits in those. */
+function checkScoredRows(table: Table, horizon: number, scored: number, season: number | null | undefined, part: ScoredPart): void {
+  const rows = table.rows.length;
+  if (scored < horizon)
+    fail('invalid_option', '--test', `a share leaving at least ${horizon} scored rows (the horizon) of the ${rows}`, `${part.share} (${scored} rows)`);
+  const testStart = rows - scored;
+  if (testStart < 3)
+    fail('invalid_option', '--test', `a share leaving at least 3 rows to fit the baselines on, of the ${rows}`, `${part.share} (${testStart} rows)`);
+  if (season !== undefined && season !== null && !(season < testStart)) {
+    fail(
+      'invalid_option',
+      `${table.file}:${table.rows[testStart - 1].line}:1 (--season)`,
+      `a season shorter than the ${testStart} rows before the scored ones, which end at this line`,
+      String(season),
+    );
+  }
 }
