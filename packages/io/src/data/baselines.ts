@@ -22,10 +22,8 @@ import { fail } from '@weft/core';
 import { interpolated } from './missing.js';
 import { ForecastErrorSum, maseScale } from './scores.js';
 import { leastSquares } from './least-squares.js';
-import { chooseSeason } from './seasonality.js';
-import type { SeasonChoice } from './seasonality.js';
-import { fitSmoothing, runSmoothing } from './smoothing.js';
-import type { SmoothingMethod } from './smoothing.js';
+import { type SeasonChoice, chooseSeason } from './seasonality.js';
+import { type SmoothingMethod, fitSmoothing, runSmoothing } from './smoothing.js';
 import { thetaForecasts } from './theta.js';
 import type { BaselineOptions, BaselineScore, ForecastBaselines, Forecaster, SeriesSplit, StepErrors } from './baselines-types.js';
 

@@ -106,7 +106,6 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
   // Sliding windows by default for series up to SLIDING_ROWS training rows, unless a setting that applies to streams
   // alone (a transform, a lookback) asks for streams.
   const examples = options.examples ?? (trainEnd <= SLIDING_ROWS && (options.transform ?? 'none') === 'none' && options.lookback === 0 ? 'sliding' : 'streams');
-  const holes = series.missing.some((n) => n > 0);
   const notes = preparationNotes({ table, time, series, leftOut, copies, putBack, rule: examples === 'sliding' ? rule : 'streams', options });
   const metadata = {
     task: 'forecast' as const,
