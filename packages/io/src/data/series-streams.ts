@@ -27,57 +27,13 @@ export function streamsOf(input: Omit<SeriesContext, 'season'>): PreparedSeries 
   // "was missing" input, as the runtime does row by row.
   const flagged = input.missing.flatMap((n, j) => (n > 0 ? [j] : []));
   const features = columns.length + flagged.length;
-  const carried = [...mean];
-  const normalised = values.flatMap((row) => [
-    ...row.map((v, j) => {
-      if (!Number.isNaN(v)) carried[j] = v;
-      return (carried[j] - mean[j]) / deviation[j];
-    }),
-    ...flagged.map((j) => (Number.isNaN(row[j]) ? 1 : 0)),
-  ]);
+  const normalised = normalisedRows(values, mean, deviation, flagged);
   // A missing target weighs 0: the targets are given with a weight each (0 stands in for the missing value).
   const targetHoles = targetIndexes.some((j) => input.missing[j] > 0);
-  // With a transform, the model learns the change over `horizon` rows (row s holds the change from s − h to s).
   const transform = options.transform ?? 'none';
-  let change: { mean: number[]; deviation: number[]; rows: number[][] } | null = null;
-  if (transform !== 'none') {
-    if (transform === 'log-returns') {
-      values.forEach((row, r) =>
-        targetIndexes.forEach((j) => {
-          if (!(row[j] > 0))
-            fail(
-              'bad_data',
-              fieldPath(table, r, columns[j]),
-              `a number > 0 in column ${JSON.stringify(table.header[columns[j]])} (log returns need positive values)`,
-              String(row[j]),
-            );
-        }),
-      );
-    }
-    const f = TRANSFORMS[transform].forward;
-    const raw = values.map((row, s) => targetIndexes.map((j) => (s < horizon ? 0 : f(row[j], values[s - horizon][j]))));
-    const statistics = columnStatistics(raw.slice(horizon, trainEnd), targetIndexes.length);
-    change = { ...statistics, rows: raw.map((row) => row.map((v, k) => (v - statistics.mean[k]) / statistics.deviation[k])) };
-  }
+  const change = transform === 'none' ? null : targetChanges(input, transform);
   const targetCount = targetIndexes.length;
-  const combined = new Float64Array(targetCount);
-  /** The model's forecast, in real units, made at each row of a reading from the first row (forecasts[k][t]). */
-  const forecastsOf = (outputs: ArrayLike<number>, width: number, end: number): Float64Array[] => {
-    const forecasts = targetIndexes.map(() => new Float64Array(end));
-    // Members stacked into one model give one block of targets each: their median is the forecast.
-    const members = width / targetCount;
-    const scratch = new Float64Array(members);
-    for (let i = 0, t = 0; i + width <= outputs.length; i += width, t++) {
-      medianOfMembers(outputs, i, members, targetCount, combined, scratch);
-      targetIndexes.forEach((j, k) => {
-        forecasts[k][t] =
-          change === null
-            ? combined[k] * deviation[j] + mean[j]
-            : TRANSFORMS[transform as 'differences' | 'log-returns'].inverse(combined[k] * change.deviation[k] + change.mean[k], values[t][j]);
-      });
-    }
-    return forecasts;
-  };
+  const forecastsOf = streamForecasts(input, { mean, deviation }, change === null ? null : { ...change, kind: transform as TransformKind });
   const names = targetIndexes.map((j) => table.header[columns[j]]);
   return {
     inputWidth: features,
@@ -134,5 +90,76 @@ export function streamsOf(input: Omit<SeriesContext, 'season'>): PreparedSeries 
         return conformalHalfWidth(errors, level);
       });
     },
+  };
+}
+
+/** A target transform's kind. */
+type TransformKind = keyof typeof TRANSFORMS;
+
+/**
+ * Every row normalised: missing inputs carry the last value (the training mean before the first), and each column
+ * with holes adds a 0/1 "was missing" input, as the runtime does row by row.
+ */
+function normalisedRows(values: readonly (readonly number[])[], mean: readonly number[], deviation: readonly number[], flagged: readonly number[]): number[] {
+  const carried = [...mean];
+  return values.flatMap((row) => [
+    ...row.map((v, j) => {
+      if (!Number.isNaN(v)) carried[j] = v;
+      return (carried[j] - mean[j]) / deviation[j];
+    }),
+    ...flagged.map((j) => (Number.isNaN(row[j]) ? 1 : 0)),
+  ]);
+}
+
+/**
+ * With a transform, the model learns the change over `horizon` rows (row s holds the change from s − h to s),
+ * normalised by the training rows' changes; log returns need positive values.
+ */
+function targetChanges(input: Omit<SeriesContext, 'season'>, transform: TransformKind): { mean: number[]; deviation: number[]; rows: number[][] } {
+  const { table, values, columns, targetIndexes, trainEnd, horizon } = input;
+  if (transform === 'log-returns') {
+    values.forEach((row, r) =>
+      targetIndexes.forEach((j) => {
+        if (!(row[j] > 0))
+          fail(
+            'bad_data',
+            fieldPath(table, r, columns[j]),
+            `a number > 0 in column ${JSON.stringify(table.header[columns[j]])} (log returns need positive values)`,
+            String(row[j]),
+          );
+      }),
+    );
+  }
+  const f = TRANSFORMS[transform].forward;
+  const raw = values.map((row, s) => targetIndexes.map((j) => (s < horizon ? 0 : f(row[j], values[s - horizon][j]))));
+  const statistics = columnStatistics(raw.slice(horizon, trainEnd), targetIndexes.length);
+  return { ...statistics, rows: raw.map((row) => row.map((v, k) => (v - statistics.mean[k]) / statistics.deviation[k])) };
+}
+
+/** The model's forecast, in real units, made at each row of a reading from the first row (forecasts[k][t]). */
+function streamForecasts(
+  input: Omit<SeriesContext, 'season'>,
+  scale: { mean: readonly number[]; deviation: readonly number[] },
+  change: { mean: readonly number[]; deviation: readonly number[]; kind: TransformKind } | null,
+): (outputs: ArrayLike<number>, width: number, end: number) => Float64Array[] {
+  const { values, targetIndexes } = input;
+  const { mean, deviation } = scale;
+  const targetCount = targetIndexes.length;
+  const combined = new Float64Array(targetCount);
+  return (outputs, width, end) => {
+    const forecasts = targetIndexes.map(() => new Float64Array(end));
+    // Members stacked into one model give one block of targets each: their median is the forecast.
+    const members = width / targetCount;
+    const scratch = new Float64Array(members);
+    for (let i = 0, t = 0; i + width <= outputs.length; i += width, t++) {
+      medianOfMembers(outputs, i, members, targetCount, combined, scratch);
+      targetIndexes.forEach((j, k) => {
+        forecasts[k][t] =
+          change === null
+            ? combined[k] * deviation[j] + mean[j]
+            : TRANSFORMS[change.kind].inverse(combined[k] * change.deviation[k] + change.mean[k], values[t][j]);
+      });
+    }
+    return forecasts;
   };
 }
