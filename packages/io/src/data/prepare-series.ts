@@ -58,17 +58,15 @@ export function prepareSeries(text: string, file: string, options: SeriesPrepara
 }
 
 /**
- * One series' table (and its time column) prepared; `part` when it is one of many series (panel.ts), with the
- * choices they share.
+ * The table's series as read: skipped times come back as rows of missing cells, before anything else reads the
+ * rows, and columns that repeat the time column's calendar (a year, a month number) are not readings (left out,
+ * said).
  */
-export function prepareTable(given: Table, timeGiven: TimeColumn | null, options: SeriesPreparation, part?: PanelPart): PreparedSeries {
-  const file = given.file;
+function readTableSeries(given: Table, timeGiven: TimeColumn | null, options: SeriesPreparation, part: PanelPart | undefined) {
   const rule = options.missing ?? 'interpolate';
-  // Skipped times come back as rows of missing cells, before anything else reads the rows.
   const putBack = timeGiven === null ? null : insertSkippedTimes(given, timeGiven, rule === 'refuse');
   const table = putBack?.table ?? given;
   const time = putBack?.time ?? timeGiven;
-  // Columns that repeat the time column's calendar (a year, a month number) are not readings: left out, said.
   const copies = time === null || options.columns !== undefined ? [] : calendarCopies(table, time);
   const leaveOut = [...(time === null ? [] : [time.name]), ...copies, ...(part?.leaveOut ?? [])];
   const series = readSeries(table, {
@@ -79,6 +77,17 @@ export function prepareTable(given: Table, timeGiven: TimeColumn | null, options
     refuseMissing: rule === 'refuse',
     choices: { columns: 'with --columns', targets: 'for --target' },
   });
+  return { putBack, table, time, copies, series };
+}
+
+/**
+ * One series' table (and its time column) prepared; `part` when it is one of many series (panel.ts), with the
+ * choices they share.
+ */
+export function prepareTable(given: Table, timeGiven: TimeColumn | null, options: SeriesPreparation, part?: PanelPart): PreparedSeries {
+  const file = given.file;
+  const rule = options.missing ?? 'interpolate';
+  const { putBack, table, time, copies, series } = readTableSeries(given, timeGiven, options, part);
   const columns = series.columns.map((name) => table.header.indexOf(name));
   const targets = series.targets.map((name) => table.header.indexOf(name));
   const leftOut = series.leftOut.filter((text) => time === null || !text.startsWith(`${time.name} (`));
