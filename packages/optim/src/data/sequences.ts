@@ -48,59 +48,16 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
   const usesLabels = sequences[0].label !== undefined;
   const targetWidth = usesLabels ? 0 : (sequences[0].target?.length ?? 0);
   const weighted = !usesLabels && sequences.some((s) => s.targetWeights !== undefined);
-  const lengths = sequences.map((s, i) => {
-    const length = usesTokens ? s.tokens?.length : s.values === undefined ? undefined : s.values.length / features;
-    if (length === undefined || !Number.isInteger(length) || length < 1) {
-      fail('bad_data', `sequences[${i}]`, usesTokens ? 'non-empty tokens' : `non-empty values, a multiple of ${features}`, String(length));
-    }
-    if (usesLabels ? !Number.isInteger(s.label) || (s.label as number) < 0 : s.target?.length !== targetWidth || targetWidth === 0) {
-      fail('bad_data', `sequences[${i}]`, usesLabels ? 'a whole-number label ≥ 0' : `a target of ${targetWidth} values`, JSON.stringify(s.label ?? s.target));
-    }
-    if (s.targetWeights !== undefined && (s.targetWeights.length !== targetWidth || !s.targetWeights.every((w) => w >= 0 && Number.isFinite(w)))) {
-      fail('bad_data', `sequences[${i}].targetWeights`, `${targetWidth} finite weights ≥ 0, one per target value`, JSON.stringify(s.targetWeights));
-    }
-    return length;
-  });
+  const lengths = checkedLengths(sequences, { features, usesTokens, usesLabels, targetWidth });
   const { groups, epochOrder } = neighbourBatches(
     sequences.map((_, i) => i).sort((a, b) => lengths[a] - lengths[b] || a - b),
     batchSize,
     options.seed ?? 0,
   );
-  // What a group's batch holds that never changes (its lengths, classes, token ids), made at its first use and
-  // handed out again, read-only, every epoch.
-  interface GroupPlan {
-    readonly steps: number;
-    readonly lengths: Int32Array;
-    readonly positions: number;
-    readonly classes: Int32Array | null;
-    readonly ids: Int32Array | null;
-  }
   const plans: (GroupPlan | undefined)[] = new Array<GroupPlan | undefined>(groups.length);
   const planOf = (group: number): GroupPlan => {
-    const known = plans[group];
-    if (known !== undefined) return known;
-    const members = groups[group];
-    const rows = members.length;
-    const steps = Math.max(...members.map((m) => lengths[m]));
-    const batchLengths = Int32Array.from(members.map((m) => lengths[m]));
-    let ids: Int32Array | null = null;
-    if (usesTokens) {
-      ids = new Int32Array(steps * rows);
-      const into = ids;
-      members.forEach((m, b) => {
-        const tokens = sequences[m].tokens!;
-        for (let t = 0; t < tokens.length; t++) into[t * rows + b] = tokens[t];
-      });
-    }
-    const plan: GroupPlan = {
-      steps,
-      lengths: batchLengths,
-      positions: batchLengths.reduce((s, l) => s + l, 0),
-      classes: usesLabels ? Int32Array.from(members.map((m) => sequences[m].label as number)) : null,
-      ids,
-    };
-    plans[group] = plan;
-    return plan;
+    plans[group] ??= groupPlan(groups[group], lengths, sequences, usesTokens, usesLabels);
+    return plans[group];
   };
   const buffers = new BatchBuffers();
   return {
@@ -148,6 +105,65 @@ export function sequenceBatches(sequences: readonly LabelledSequence[], options:
       }
       return { input, steps, batch: rows, lengths: plan.lengths, targets, positions: plan.positions };
     },
+  };
+}
+
+/** Each sequence's length (steps), every sequence checked against the first's kind of input and target. */
+function checkedLengths(
+  sequences: readonly LabelledSequence[],
+  kind: { features: number; usesTokens: boolean; usesLabels: boolean; targetWidth: number },
+): number[] {
+  const { features, usesTokens, usesLabels, targetWidth } = kind;
+  return sequences.map((s, i) => {
+    const length = usesTokens ? s.tokens?.length : s.values === undefined ? undefined : s.values.length / features;
+    if (length === undefined || !Number.isInteger(length) || length < 1) {
+      fail('bad_data', `sequences[${i}]`, usesTokens ? 'non-empty tokens' : `non-empty values, a multiple of ${features}`, String(length));
+    }
+    if (usesLabels ? !Number.isInteger(s.label) || (s.label as number) < 0 : s.target?.length !== targetWidth || targetWidth === 0) {
+      fail('bad_data', `sequences[${i}]`, usesLabels ? 'a whole-number label ≥ 0' : `a target of ${targetWidth} values`, JSON.stringify(s.label ?? s.target));
+    }
+    if (s.targetWeights !== undefined && (s.targetWeights.length !== targetWidth || !s.targetWeights.every((w) => w >= 0 && Number.isFinite(w)))) {
+      fail('bad_data', `sequences[${i}].targetWeights`, `${targetWidth} finite weights ≥ 0, one per target value`, JSON.stringify(s.targetWeights));
+    }
+    return length;
+  });
+}
+
+/** What a group's batch holds that never changes (its lengths, classes, token ids), made at its first use and handed out again, read-only, every epoch. */
+interface GroupPlan {
+  readonly steps: number;
+  readonly lengths: Int32Array;
+  readonly positions: number;
+  readonly classes: Int32Array | null;
+  readonly ids: Int32Array | null;
+}
+
+/** A group's plan (see GroupPlan). */
+function groupPlan(
+  members: readonly number[],
+  lengths: readonly number[],
+  sequences: readonly LabelledSequence[],
+  usesTokens: boolean,
+  usesLabels: boolean,
+): GroupPlan {
+  const rows = members.length;
+  const steps = Math.max(...members.map((m) => lengths[m]));
+  const batchLengths = Int32Array.from(members.map((m) => lengths[m]));
+  let ids: Int32Array | null = null;
+  if (usesTokens) {
+    ids = new Int32Array(steps * rows);
+    const into = ids;
+    members.forEach((m, b) => {
+      const tokens = sequences[m].tokens!;
+      for (let t = 0; t < tokens.length; t++) into[t * rows + b] = tokens[t];
+    });
+  }
+  return {
+    steps,
+    lengths: batchLengths,
+    positions: batchLengths.reduce((s, l) => s + l, 0),
+    classes: usesLabels ? Int32Array.from(members.map((m) => sequences[m].label as number)) : null,
+    ids,
   };
 }
 

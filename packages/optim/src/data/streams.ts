@@ -90,50 +90,65 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
   const lookback = options.lookback ?? 0;
   if (!Number.isInteger(lookback) || lookback < 0 || lookback > window)
     fail('invalid_option', 'stream.lookback', `a whole number from 0 to the window (${window})`, String(lookback));
-  if (data.kind === 'tokens') {
-    const { tokens, vocabulary } = data;
-    for (let i = 0; i < tokens.length; i++) {
-      if (!(tokens[i] >= 0 && tokens[i] < vocabulary)) fail('bad_data', `stream.tokens[${i}]`, `an id in [0, ${vocabulary})`, String(tokens[i]));
-    }
-    // Pairs (input, next): N − 1 of them, split into `streams` contiguous slices.
-    const perStream = Math.floor((tokens.length - 1) / streams);
-    const windows = Math.floor(perStream / window);
-    if (windows < 1)
-      fail('bad_data', 'stream.tokens', `at least ${streams * window + 1} tokens for ${streams} streams of one ${window}-step window`, `${tokens.length}`);
-    const weightsBySkipped = new Map<number, Float64Array>();
-    // The id and target arrays of a batch, by its number of steps (a window, or a window and its lookback): refilled
-    // by each batch, valid until the next `batch()` call, as for every source.
-    const arraysBySteps = new Map<number, { ids: Int32Array; classes: Int32Array }>();
-    return {
-      batchesPerEpoch: windows,
-      carriesState: true,
-      batch(_epoch: number, index: number): Batch {
-        const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams, weightsBySkipped);
-        let arrays = arraysBySteps.get(steps);
-        if (arrays === undefined) {
-          arrays = { ids: new Int32Array(steps * streams), classes: new Int32Array(steps * streams) };
-          arraysBySteps.set(steps, arrays);
-        }
-        const { ids, classes } = arrays;
-        for (let t = 0; t < steps; t++) {
-          for (let b = 0; b < streams; b++) {
-            const at = b * perStream + begin + t;
-            ids[t * streams + b] = tokens[at];
-            classes[t * streams + b] = tokens[at + 1];
-          }
-        }
-        return {
-          input: { tokens: ids, steps, batch: streams },
-          steps,
-          batch: streams,
-          lengths: null,
-          targets: { kind: 'classes', perStep: true, classes, weights },
-          positions: window * streams,
-          carryAfter,
-        };
-      },
-    };
+  const plan: StreamPlan = { streams, window, lookback };
+  return data.kind === 'tokens' ? tokenStreams(data, plan) : valueStreams(data, plan);
+}
+
+/** The streams' layout: how many, the window's steps, and the lookback before it. */
+interface StreamPlan {
+  readonly streams: number;
+  readonly window: number;
+  readonly lookback: number;
+}
+
+/** Token streams: pairs (input, next), N − 1 of them, split into `streams` contiguous slices. */
+function tokenStreams(data: TokenStreamOptions, { streams, window, lookback }: StreamPlan): DataSource {
+  const { tokens, vocabulary } = data;
+  for (let i = 0; i < tokens.length; i++) {
+    if (!(tokens[i] >= 0 && tokens[i] < vocabulary)) fail('bad_data', `stream.tokens[${i}]`, `an id in [0, ${vocabulary})`, String(tokens[i]));
   }
+  // Pairs (input, next): N − 1 of them, split into `streams` contiguous slices.
+  const perStream = Math.floor((tokens.length - 1) / streams);
+  const windows = Math.floor(perStream / window);
+  if (windows < 1)
+    fail('bad_data', 'stream.tokens', `at least ${streams * window + 1} tokens for ${streams} streams of one ${window}-step window`, `${tokens.length}`);
+  const weightsBySkipped = new Map<number, Float64Array>();
+  // The id and target arrays of a batch, by its number of steps (a window, or a window and its lookback): refilled
+  // by each batch, valid until the next `batch()` call, as for every source.
+  const arraysBySteps = new Map<number, { ids: Int32Array; classes: Int32Array }>();
+  return {
+    batchesPerEpoch: windows,
+    carriesState: true,
+    batch(_epoch: number, index: number): Batch {
+      const { begin, steps, carryAfter, weights } = windowPlan(index, window, lookback, streams, weightsBySkipped);
+      let arrays = arraysBySteps.get(steps);
+      if (arrays === undefined) {
+        arrays = { ids: new Int32Array(steps * streams), classes: new Int32Array(steps * streams) };
+        arraysBySteps.set(steps, arrays);
+      }
+      const { ids, classes } = arrays;
+      for (let t = 0; t < steps; t++) {
+        for (let b = 0; b < streams; b++) {
+          const at = b * perStream + begin + t;
+          ids[t * streams + b] = tokens[at];
+          classes[t * streams + b] = tokens[at + 1];
+        }
+      }
+      return {
+        input: { tokens: ids, steps, batch: streams },
+        steps,
+        batch: streams,
+        lengths: null,
+        targets: { kind: 'classes', perStep: true, classes, weights },
+        positions: window * streams,
+        carryAfter,
+      };
+    },
+  };
+}
+
+/** A value stream's data, checked: rows, the horizon, the target columns (or its own targets) and their width. */
+function checkValueStream(data: ValueStreamOptions) {
   const { values, features } = data;
   const horizon = data.horizon ?? 1;
   const columns = data.targetColumns ?? Array.from({ length: features }, (_, i) => i);
@@ -158,6 +173,12 @@ export function streamBatches(data: TokenStreamOptions | ValueStreamOptions, opt
       if (!Number.isFinite(own[i])) fail('bad_data', `stream.targets[${Math.floor(i / ownWidth)}][${i % ownWidth}]`, 'a finite number', String(own[i]));
     }
   }
+  return { values, features, rows, horizon, columns, dtype, own, ownWidth };
+}
+
+/** Value streams: every row's values in, the target columns `horizon` rows on (or the data's own targets) out. */
+function valueStreams(data: ValueStreamOptions, { streams, window, lookback }: StreamPlan): DataSource {
+  const { values, features, rows, horizon, columns, dtype, own, ownWidth } = checkValueStream(data);
   const perStream = Math.floor((rows - horizon) / streams);
   const windows = Math.floor(perStream / window);
   if (windows < 1) fail('bad_data', 'stream.values', `at least ${streams * window + horizon} rows`, `${rows}`);
