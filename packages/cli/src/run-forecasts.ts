@@ -46,7 +46,6 @@ export function rowForecasts(
   // With prediction intervals, a low and a high column after each forecast column.
   const bounds = model.intervals;
   const boundNames = bounds === null ? [] : columnNames.map((c) => [`${c} low`, `${c} high`]);
-  const shown = (v: number) => (Number.isFinite(v) ? Number(v.toPrecision(6)) : '');
   const several = rowsAhead.length > 1;
   const checkAhead = (count: number): void => checkAheadFor(model, meta, count);
   const ahead = (rows: number, count: number, emit: (record: OutputRecord) => void): void => {
@@ -63,19 +62,8 @@ export function rowForecasts(
         record[c] = '';
         if (bounds !== null) record[`${c} low`] = record[`${c} high`] = '';
       }
-      if (several) {
-        // Row k after the last: the forecast the model made at the last row, k rows ahead.
-        const s = rowsAhead.indexOf(k);
-        model.outputNames.forEach((target, j) => {
-          const i = s * targets + j;
-          record[`${target} in ${k}`] = Number(made[i].toPrecision(6));
-          if (j === 0) recorder?.forecastAt(rows - 1 + k, made[i], bounds?.halfWidth[i] ?? NaN);
-          if (bounds !== null) {
-            record[`${target} in ${k} low`] = shown(made[i] - bounds.halfWidth[i]);
-            record[`${target} in ${k} high`] = shown(made[i] + bounds.halfWidth[i]);
-          }
-        });
-      } else {
+      if (several) madeAhead(record, k, rows, { model, made, bounds, recorder });
+      else {
         const last: Record<string, number> = {};
         model.outputNames.forEach((target, j) => (last[target] = made[j]));
         model.nextInto(last, made);
@@ -212,4 +200,29 @@ export function columnsAt(table: Table, names: readonly string[], file: string, 
     if (i < 0) throw new CommandError(`${file}: no column ${JSON.stringify(c)} (${why}); the input has ${table.header.join(', ')}`);
     return i;
   });
+}
+
+/** Row k after the last row (`rows`): the forecast the model made at the last row, k rows ahead, with its interval. */
+function madeAhead(
+  record: OutputRecord,
+  k: number,
+  rows: number,
+  { model, made, bounds, recorder }: { model: RowForecaster; made: Float64Array; bounds: RowForecaster['intervals']; recorder: TraceRecorder | null },
+): void {
+  const s = model.rowsAhead.indexOf(k);
+  const targets = model.outputNames.length;
+  model.outputNames.forEach((target, j) => {
+    const i = s * targets + j;
+    record[`${target} in ${k}`] = Number(made[i].toPrecision(6));
+    if (j === 0) recorder?.forecastAt(rows - 1 + k, made[i], bounds?.halfWidth[i] ?? Number.NaN);
+    if (bounds !== null) {
+      record[`${target} in ${k} low`] = shown(made[i] - bounds.halfWidth[i]);
+      record[`${target} in ${k} high`] = shown(made[i] + bounds.halfWidth[i]);
+    }
+  });
+}
+
+/** A number as written in the output (6 significant digits), or empty when not finite. */
+function shown(v: number): number | '' {
+  return Number.isFinite(v) ? Number(v.toPrecision(6)) : '';
 }

@@ -276,9 +276,7 @@ function panelPrepared(panel: {
   const validationCounts = windows.map((w) => w.validationForecasts.length);
   const testCounts = windows.map((w) => w.test.length);
   const block = first.outputWidth;
-  const testRows = kept.map((p) => p.count - seriesParts(p.count, options).testStart);
-  const sizes = [...new Set(testRows)];
-  const what = `the last ${sizes.length === 1 ? sizes[0] : `${Math.min(...sizes)} to ${Math.max(...sizes)}`} rows of each of ${ids.length} series of ${table.file}, used for neither training nor stopping (figures per series, then means over series)`;
+  const what = heldOutWhat(table, kept, options);
   return {
     inputWidth: first.inputWidth,
     outputWidth: block,
@@ -333,6 +331,12 @@ function panelPrepared(panel: {
         level,
       ).flat(),
   };
+}
+
+/** What the held-out figures are of: the last rows of each series. */
+function heldOutWhat(table: Table, kept: readonly SeriesProbe[], options: SeriesPreparation): string {
+  const sizes = [...new Set(kept.map((p) => p.count - seriesParts(p.count, options).testStart))];
+  return `the last ${sizes.length === 1 ? sizes[0] : `${Math.min(...sizes)} to ${Math.max(...sizes)}`} rows of each of ${kept.length} series of ${table.file}, used for neither training nor stopping (figures per series, then means over series)`;
 }
 
 /** The metadata every series shares, and each series' own (its scales, window, missing rule, split and season) under panel.series. */
