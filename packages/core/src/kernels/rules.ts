@@ -4,8 +4,8 @@
  * passes the per-update constants (bias corrections 1 − βᵗ, the scheduled rate α·η_t and decay λ·η_t) in a record
  * it makes once and refills per update.
  *
- * Aliasing: each entry of every buffer is read before the same entry is written, so a buffer may alias another
- * (the values updated in place of their own gradient, say); the rule means them to be distinct.
+ * Aliasing: the values may alias their gradient (each entry is read before the same entry is written); the moment
+ * estimates and the velocity are the rule's own state and must each be an array of their own.
  */
 import type { FloatArray } from '../dtype.js';
 
