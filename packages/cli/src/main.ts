@@ -6,6 +6,8 @@
 import { readFileSync, realpathSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import { WeftError, describeProblem } from '@weft/core';
+import type { Problem } from '@weft/core';
+import { isNamespacedKind } from '@weft/cells';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { helpText, parseArgs } from './args.js';
 import { check, checkFlags } from './check.js';
@@ -175,10 +177,27 @@ export function errorReport(error: unknown, debug: boolean): { text: string; cod
   if (error instanceof WeftError) {
     // One line, however many problems the error lists.
     const text = error.problems.length === 1 ? error.message : `${error.problems.length} problems: ${error.problems.map(describeProblem).join('; ')}`;
-    return { text: `weft: ${line(text)}\n${stack}`, code: 1 };
+    return { text: `weft: ${line(text + ownCellHint(error.problems))}\n${stack}`, code: 1 };
   }
   const message = (error as Error)?.message ?? String(error);
   return { text: `weft: ${line(message)}${debug ? '' : ' (run again with --debug for details)'}\n${stack}`, code: 1 };
+}
+
+/**
+ * The command's way to give the plan of a cell of your own, when a file's layer names one (a namespaced kind) that
+ * was read without it: the library's words say `plans: { … }`, the command's are its flags.
+ */
+function ownCellHint(problems: readonly Problem[]): string {
+  const own = problems.some((p) => {
+    if (!p.path.endsWith('.cell')) return false;
+    try {
+      const kind: unknown = JSON.parse(p.received);
+      return typeof kind === 'string' && isNamespacedKind(kind);
+    } catch {
+      return false;
+    }
+  });
+  return own ? '; from the command, give its plan with --cell-module FILE (and --cell-export NAME unless it is the default export)' : '';
 }
 
 function invokedDirectly(): boolean {

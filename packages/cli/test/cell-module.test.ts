@@ -102,7 +102,7 @@ describe('a cell of your own through the command', () => {
     expectOneLineError(
       weft(['run', 'whole.weft.json', '-'], 'the warp'),
       1,
-      /model\.layers\[0\]\.cell: expected one of 'lstm', 'gru', 'plain' \(lab\.mgu is a cell of your own: give its plan/,
+      /model\.layers\[0\]\.cell: expected one of 'lstm', 'gru', 'plain' \(lab\.mgu is a cell of your own: give its plan.*; from the command, give its plan with --cell-module FILE/,
     );
     const converted = weft(['convert', 'whole.weft.json', ...own, '--out', 'whole.onnx']);
     expect(converted.code).toBe(0);
