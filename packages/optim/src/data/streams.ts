@@ -1,4 +1,9 @@
-/** Batches over long streams (see data.ts): value series for forecasting and token streams for next-token models. */
+/**
+ * Batches over long streams (see data.ts): value series for forecasting and token streams for next-token models.
+ *
+ * Why one file of this length: training's streams (tokens and values) and evaluation's whole stream read the same
+ * options and cut windows by the same plan (windowPlan), each in functions of its own.
+ */
 import { fail, zeros } from '@weft/core';
 import type { DType, FloatArray } from '@weft/core';
 import { BatchBuffers } from './buffers.js';
