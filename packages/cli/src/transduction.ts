@@ -43,7 +43,7 @@ export function sourceIds(source: readonly string[], vocabulary: readonly string
   return { ids, unknown };
 }
 
-/** One source decoded, greedily (beam 1) or by beam search, as target tokens without the end token. */
+/** One source decoded, greedily (beam 1) or by beam search, as target tokens without the end token (at most maxTarget). */
 export function decodeText(
   runtime: EncoderDecoderRuntime,
   meta: Pick<TransductionMeta, 'sourceVocabulary' | 'targetVocabulary' | 'maxTarget'>,
@@ -53,7 +53,10 @@ export function decodeText(
   const { ids } = sourceIds(source, meta.sourceVocabulary);
   const options = { startToken: START, endToken: END, maxLength: meta.maxTarget + 1 };
   const decoded = beam > 1 ? { tokens: runtime.beamSearch(ids, { ...options, width: beam })[0].tokens, attention: [] } : runtime.decode(ids, options);
-  const tokens = decoded.tokens[decoded.tokens.length - 1] === END ? decoded.tokens.slice(0, -1) : decoded.tokens;
+  // Without an end token within maxTarget + 1 steps the decoding ran out of room: it keeps at most maxTarget tokens,
+  // the longest target the model was trained on (the last step is room for the end token only).
+  const ended = decoded.tokens[decoded.tokens.length - 1] === END;
+  const tokens = ended ? decoded.tokens.slice(0, -1) : decoded.tokens.slice(0, meta.maxTarget);
   return { output: tokens.map((t) => meta.targetVocabulary[t]), attention: decoded.attention };
 }
 

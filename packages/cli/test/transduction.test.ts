@@ -39,12 +39,24 @@ describe('what running and scoring a pairs model share', () => {
     );
   });
 
-  it('decodes at most maxTarget + 1 steps, leaving out the end token, and scores the copy baseline by its definition', () => {
+  it('decodes at most maxTarget + 1 steps and keeps at most maxTarget tokens, leaving out the end token, and scores the copy baseline by its definition', () => {
     const meta = { sourceVocabulary, targetVocabulary, maxTarget: 3 };
     const decoded = decodeText(runtime, meta, ['a', 'b'], 1).output;
-    // maxLength is maxTarget + 1 so that a full-length target still has room for its end token.
-    expect(decoded.length).toBeLessThanOrEqual(4);
+    expect(decoded.length).toBeLessThanOrEqual(3);
     expect(decoded.every((t) => t !== '<end>')).toBe(true);
+    // A decoding that ran out of room (maxTarget + 1 tokens, none the end token) keeps the first maxTarget; one that
+    // ended keeps what came before its end token.
+    const asked: number[] = [];
+    const decodes = (tokens: number[]) =>
+      ({
+        decode: (_source: unknown, options: { maxLength: number }) => {
+          asked.push(options.maxLength);
+          return { tokens, attention: [] };
+        },
+      }) as unknown as typeof runtime;
+    expect(decodeText(decodes([2, 3, 2, 3]), meta, ['a'], 1).output).toEqual(['A', 'B', 'A']);
+    expect(decodeText(decodes([3, 2, 3, END]), meta, ['a'], 1).output).toEqual(['B', 'A', 'B']);
+    expect(asked).toEqual([4, 4]);
     // Copy: the source itself; exact where source and reference are equal (here one pair of two).
     const report = transductionReport(runtime, meta, [['A'], ['a']], [['A'], ['B']], 'two pairs', 1);
     expect(report.baselines[0]).toMatchObject({ name: 'copy', transduction: { exactMatch: 0.5, tokenAccuracy: 0.5 } });
