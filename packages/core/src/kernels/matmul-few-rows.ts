@@ -5,6 +5,7 @@
  */
 import type { FloatArray } from '../dtype.js';
 import type { ProductShape } from './shapes.js';
+import { transposesA, transposesB } from './shapes.js';
 
 /** Columns read together (4 accumulators). */
 const BLOCK = 4;
@@ -15,9 +16,8 @@ const BLOCK = 4;
  */
 export function matmulFewRows(out: FloatArray, a: FloatArray, b: FloatArray, shape: ProductShape, accumulate: boolean): void {
   const { rows, inner, cols } = shape;
-  const transposed = shape.transposed;
-  const transposeA = transposed === 'a' || transposed === 'both';
-  const transposeB = transposed === 'b' || transposed === 'both';
+  const transposeA = transposesA(shape);
+  const transposeB = transposesB(shape);
   const aRowStep = transposeA ? 1 : inner;
   const aInnerStep = transposeA ? rows : 1;
   const bInnerStep = transposeB ? 1 : cols;
