@@ -11,11 +11,12 @@ import { measure } from './harness.js';
 import * as baselines from './baselines.bench.js';
 import * as forecast from './forecast.bench.js';
 import * as matmul from './matmul.bench.js';
+import * as pairs from './pairs.bench.js';
 import * as runtime from './runtime.bench.js';
 import * as train from './train.bench.js';
 import * as window from './window.bench.js';
 
-const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window, train, runtime, baselines, forecast];
+const modules: { cases: BenchCase[]; derived?: Derived }[] = [matmul, window, train, pairs, runtime, baselines, forecast];
 
 function option(name: string, fallback: string): string {
   const index = process.argv.indexOf(`--${name}`);

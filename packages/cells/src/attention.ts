@@ -11,12 +11,16 @@
  *
  * The projections are ordinary tape products, so this operation holds only the part no other operation does: the
  * scores, the masked softmax and the weighted sum, with their derivatives (chain rule; softmax Jacobian
- * ∂a_s/∂e_t = a_s([s = t] − a_t)). Sources are time-major [S, B, ·] like every sequence here; a row of length 0 has
- * a zero context and zero weights. The query may hold T steps at once ([T, B, D], Luong et al.'s decoder states
- * h_t, which do not depend on the attention), each attending over the same states.
+ * ∂a_s/∂e_t = a_s([s = t] − a_t)). It computes through the backend's attention kernels (core's kernels/attention.ts),
+ * which the runtime's decoding calls too, so the equations are written once. Sources are time-major [S, B, ·] like
+ * every sequence here; a row of length 0 has a zero context and zero weights. The query may hold T steps at once
+ * ([T, B, D], Luong et al.'s decoder states h_t, which do not depend on the attention), each attending over the same
+ * states.
  */
 import { fail, formatShape, noTensor } from '@weft/core';
 import type { FloatArray, OperationKind, Tape, Tensor } from '@weft/core';
+import { attentionShape } from '@weft/core/internal';
+import type { AttentionShape } from '@weft/core/internal';
 
 /** What attention gives for one decoding step. */
 export interface AttentionStep {
@@ -35,62 +39,28 @@ interface AttentionSaved {
   values: Tensor;
   /** v of the additive form, or null for the dot forms. */
   vector: Tensor | null;
-  /** The weights a, [T, B, S]. */
+  /** The weights a, [T, B, S], in the values' element type. */
   weights: FloatArray;
-  lengths: Int32Array | null;
+  shape: AttentionShape;
 }
 
 const attentionKind: OperationKind<AttentionSaved> = {
   name: 'attend',
-  saves: () => ({ query: noTensor, scoreKeys: noTensor, values: noTensor, vector: null, weights: noTensor.data, lengths: null }),
+  saves: () => ({ query: noTensor, scoreKeys: noTensor, values: noTensor, vector: null, weights: noTensor.data, shape: attentionShape(0, 0, 0, 0, 0) }),
   backward(node, tape): void {
-    const { query, scoreKeys, values, vector, weights, lengths } = node.saved;
-    const [sources, rows, width] = values.shape;
-    const depth = scoreKeys.shape[2];
-    const steps = query.size / (rows * depth);
-    const g = node.output.gradient!;
+    const { query, scoreKeys, values, vector, weights, shape } = node.saved;
+    const kernels = tape.kernels;
+    // ∂a from the context, then ∂e through the softmax (in place), then the score's own backward.
+    const scoreGradient = tape.buffer(values.dtype, weights.length);
+    kernels.attentionContextBackward(scoreGradient, values.tracked ? tape.gradientOf(values) : null, node.output.gradient!, weights, values.data, shape);
+    kernels.softmaxWithinLengthsBackward(scoreGradient, scoreGradient, weights, shape);
     const gq = query.tracked ? tape.gradientOf(query) : null;
     const gk = scoreKeys.tracked ? tape.gradientOf(scoreKeys) : null;
-    const gv = values.tracked ? tape.gradientOf(values) : null;
-    const gvec = vector?.tracked ? tape.gradientOf(vector) : null;
-    const scoreGradient = tape.buffer('f64', sources);
-    for (let t = 0; t < steps; t++) {
-      for (let b = 0; b < rows; b++) {
-        const length = lengths === null ? sources : lengths[b];
-        const row = t * rows + b;
-        // ∂a_s = ∂c · h_s; ∂h_s += a_s ∂c; then ∂e_s = a_s (∂a_s − Σ_u a_u ∂a_u).
-        let dot = 0;
-        for (let s = 0; s < length; s++) {
-          const at = (s * rows + b) * width;
-          const a = weights[row * sources + s];
-          let da = 0;
-          for (let j = 0; j < width; j++) {
-            da += g[row * width + j] * values.data[at + j];
-            if (gv !== null) gv[at + j] += a * g[row * width + j];
-          }
-          scoreGradient[s] = da;
-          dot += a * da;
-        }
-        for (let s = 0; s < length; s++) {
-          const de = weights[row * sources + s] * (scoreGradient[s] - dot);
-          const at = (s * rows + b) * depth;
-          if (vector === null) {
-            for (let d = 0; d < depth; d++) {
-              if (gq !== null) gq[row * depth + d] += de * scoreKeys.data[at + d];
-              if (gk !== null) gk[at + d] += de * query.data[row * depth + d];
-            }
-          } else {
-            // tanh(q + u) again rather than kept: it would take T·S·B·D numbers.
-            for (let d = 0; d < depth; d++) {
-              const activation = Math.tanh(query.data[row * depth + d] + scoreKeys.data[at + d]);
-              if (gvec !== null) gvec[d] += de * activation;
-              const pre = de * vector.data[d] * (1 - activation * activation);
-              if (gq !== null) gq[row * depth + d] += pre;
-              if (gk !== null) gk[at + d] += pre;
-            }
-          }
-        }
-      }
+    if (vector === null) {
+      kernels.attentionScoresBackward(gq, gk, scoreGradient, query.data, scoreKeys.data, shape);
+    } else {
+      const gradients = { query: gq, keys: gk, vector: vector.tracked ? tape.gradientOf(vector) : null };
+      kernels.attentionScoresAdditiveBackward(gradients, scoreGradient, { query: query.data, keys: scoreKeys.data, vector: vector.data }, shape);
     }
   },
 };
@@ -113,44 +83,21 @@ export function attend(tape: Tape, query: Tensor, scoreKeys: Tensor, values: Ten
   if (vector !== null && (vector.shape.length !== 1 || vector.shape[0] !== depth))
     fail('shape_mismatch', 'attend.vector', formatShape([depth]), formatShape(vector.shape));
   if (lengths !== null && lengths.length !== rows) fail('shape_mismatch', 'attend.lengths', `${rows} lengths`, `${lengths.length}`);
-  const tracked = query.tracked || scoreKeys.tracked || values.tracked || (vector?.tracked ?? false);
-  const out = tape.output(query.shape.length === 3 ? [steps, rows, width] : [rows, width], values.dtype, tracked);
-  const weights = tape.buffer('f64', steps * rows * sources);
-  weights.fill(0);
-  out.data.fill(0);
-  for (let t = 0; t < steps; t++) {
+  if (lengths !== null) {
     for (let b = 0; b < rows; b++) {
-      const length = lengths === null ? sources : lengths[b];
-      const row = t * rows + b;
-      const q = row * depth;
-      const w = row * sources;
-      let max = -Infinity;
-      for (let s = 0; s < length; s++) {
-        const at = (s * rows + b) * depth;
-        let e = 0;
-        if (vector === null) {
-          for (let d = 0; d < depth; d++) e += query.data[q + d] * scoreKeys.data[at + d];
-        } else {
-          for (let d = 0; d < depth; d++) e += vector.data[d] * Math.tanh(query.data[q + d] + scoreKeys.data[at + d]);
-        }
-        weights[w + s] = e;
-        if (e > max) max = e;
-      }
-      // Softmax with the largest score subtracted first, so no exponent is positive (common practice).
-      let total = 0;
-      for (let s = 0; s < length; s++) {
-        const e = Math.exp(weights[w + s] - max);
-        weights[w + s] = e;
-        total += e;
-      }
-      for (let s = 0; s < length; s++) {
-        const a = weights[w + s] / total;
-        weights[w + s] = a;
-        const at = (s * rows + b) * width;
-        for (let j = 0; j < width; j++) out.data[row * width + j] += a * values.data[at + j];
-      }
+      if (!Number.isInteger(lengths[b]) || lengths[b] < 0 || lengths[b] > sources)
+        fail('invalid_argument', `attend.lengths[${b}]`, `a length from 0 to ${sources}`, String(lengths[b]));
     }
   }
+  const tracked = query.tracked || scoreKeys.tracked || values.tracked || (vector?.tracked ?? false);
+  const out = tape.output(query.shape.length === 3 ? [steps, rows, width] : [rows, width], values.dtype, tracked);
+  const weights = tape.buffer(values.dtype, steps * rows * sources);
+  const shape = attentionShape(steps, rows, sources, depth, width, lengths);
+  const kernels = tape.kernels;
+  if (vector === null) kernels.attentionScores(weights, query.data, scoreKeys.data, shape);
+  else kernels.attentionScoresAdditive(weights, { query: query.data, keys: scoreKeys.data, vector: vector.data }, shape);
+  kernels.softmaxWithinLengths(weights, weights, shape);
+  kernels.attentionContext(out.data, weights, values.data, shape);
   const saved = tape.record(attentionKind, out);
   if (saved !== null) {
     saved.query = query;
@@ -158,7 +105,7 @@ export function attend(tape: Tape, query: Tensor, scoreKeys: Tensor, values: Ten
     saved.values = values;
     saved.vector = vector;
     saved.weights = weights;
-    saved.lengths = lengths;
+    saved.shape = shape;
   }
   return { context: out, weights: Float64Array.from(weights) };
 }

@@ -18,3 +18,5 @@ export type { DType, FloatArray } from './dtype.js';
 export type { ProductShape, ProductSizes, Transposed } from './kernels/shapes.js';
 export { productShape, refill } from './kernels/shapes.js';
 export type { GruWeights, GruWork, LayerStepAt, LstmState, LstmWeights, LstmWork, PlainWeights, StepActivation, StepAt } from './kernels/step-records.js';
+export type { AdditiveGradients, AdditiveInputs, AttentionShape } from './kernels/attention.js';
+export { attentionShape } from './kernels/attention.js';

@@ -6,3 +6,5 @@ export type { Allocate, PoolCounts } from './pool.js';
 export { sharedPool } from './pool.js';
 export { MAX_FAILED_SHOWN, NOISE_GROWTH } from './gradient-check.js';
 export { requireBackend } from './ops/checks.js';
+export type { AttentionShape } from './kernels/attention.js';
+export { attentionShape } from './kernels/attention.js';

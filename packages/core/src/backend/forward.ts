@@ -4,6 +4,7 @@
  * (the kernels of core/src/kernels over ordinary typed arrays) here, and WebAssembly SIMD in
  * forward-webassembly.ts (a module of its own, core/wasm/runtime.ts, with the forward twins only).
  */
+import { attentionContext, attentionScores, attentionScoresAdditive, softmaxWithinLengths } from '../kernels/attention.js';
 import { gruLayerStep } from '../kernels/gru-step.js';
 import { lstmLayerStep } from '../kernels/lstm-step.js';
 import { affineRows } from '../kernels/matmul.js';
@@ -24,6 +25,31 @@ export interface ForwardKernels {
   /** One plain-cell step for every stream of a layer. */
   readonly plainLayerStep: typeof plainLayerStep;
 }
+
+/** The forward attention kernels (kernels/attention.ts), for the decoding of an encoder-decoder. */
+export interface ForwardAttentionKernels {
+  /** The dot-form scores. */
+  readonly attentionScores: typeof attentionScores;
+  /** The additive-form scores. */
+  readonly attentionScoresAdditive: typeof attentionScoresAdditive;
+  /** The weights: the softmax of each row's scores within its sources. */
+  readonly softmaxWithinLengths: typeof softmaxWithinLengths;
+  /** The context: the values weighted by the weights. */
+  readonly attentionContext: typeof attentionContext;
+}
+
+/**
+ * The attention kernels of both forward backends: the JavaScript ones, which compute on any f32 array, the
+ * WebAssembly backend's memory included. A decoding step attends over one source for its few rows (a beam), a small
+ * share of the step, so the runtime module carries no twins of them. They are a table of their own, not part of
+ * ForwardKernels, so that only the encoder-decoder's runtime bundle carries them.
+ */
+export const forwardAttentionKernels: ForwardAttentionKernels = /* @__PURE__ */ Object.freeze({
+  attentionScores,
+  attentionScoresAdditive,
+  softmaxWithinLengths,
+  attentionContext,
+});
 
 export type ForwardKernelName = keyof ForwardKernels;
 

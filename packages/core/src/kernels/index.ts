@@ -9,6 +9,18 @@ export { add, addAt, addInto, addRow, addScaledInto, copyAt, multiply, multiplyI
 export { exp, log, relu, reluGradientInto, sigmoid, sigmoidGradientInto, tanh, tanhGradientInto } from './activations.js';
 export { dot, firstNonFinite, limitEntries, maxAbs, sum, sumOfSquares } from './reductions.js';
 export { crossEntropyRows, logSumExp } from './softmax.js';
+export type { AdditiveGradients, AdditiveInputs, AttentionShape } from './attention.js';
+export {
+  attentionContext,
+  attentionContextBackward,
+  attentionScores,
+  attentionScoresAdditive,
+  attentionScoresAdditiveBackward,
+  attentionScoresBackward,
+  attentionShape,
+  softmaxWithinLengths,
+  softmaxWithinLengthsBackward,
+} from './attention.js';
 export { logistic } from './logistic.js';
 export { lstmLayerStep, lstmStepBackward, lstmStepForward } from './lstm-step.js';
 export { gruBackwardCandidate, gruBackwardReset, gruLayerStep, gruResetHidden, gruStepFinish, gruUpdateReset } from './gru-step.js';

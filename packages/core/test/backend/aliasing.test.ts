@@ -55,6 +55,11 @@ const rule = (name: 'sgdUpdate' | 'nesterovUpdate'): Statement => ({
   aliases: [[0, 1]],
   run: (k, [values, gradient, velocity]) => k[name]({ values, gradient, velocity }, n, { rate: 0.1, decay: 0.01, mu: 0.9, kappa: 0.001 }),
 });
+/** Attention over 4 sources for 2 query steps of 3 rows, the rows' lengths 4, 2 and 3; depth and width 8 (whole vectors). */
+const attention = { steps: 2, rows: 3, sources: 4, depth: 8, width: 8, lengths: Int32Array.of(4, 2, 3) };
+const scoreCount = 2 * 3 * 4;
+const queryCount = 2 * 3 * 8;
+const keyCount = 4 * 3 * 8;
 /** A square product's shape (4 rows: the packed path). */
 const square = { rows: 4, inner: 4, cols: 4 };
 /** One row times an 8 × 8 matrix: the path that reads its operands in place, where an aliased out overwrites them. */
@@ -131,6 +136,82 @@ const statements: { readonly [K in KernelName]: readonly Statement[] } = {
       lengths: [n, n, n],
       aliases: [[0, 1]],
       run: (k, [losses, p, logits]) => k.crossEntropyRows(losses, p, logits, Int32Array.of(0, 3, 1), rows, hidden),
+    },
+  ],
+  attentionScores: [
+    {
+      rule: 'mustNot',
+      says: 'scores must not alias query',
+      lengths: [scoreCount, queryCount, keyCount],
+      aliases: [[0, 1]],
+      run: (k, [scores, query, keys]) => k.attentionScores(scores, query, keys, attention),
+    },
+  ],
+  attentionScoresAdditive: [
+    {
+      rule: 'mustNot',
+      says: 'scores must not alias an input',
+      lengths: [scoreCount, queryCount, keyCount, 8],
+      aliases: [[0, 1]],
+      run: (k, [scores, query, keys, vector]) => k.attentionScoresAdditive(scores, { query, keys, vector }, attention),
+    },
+  ],
+  softmaxWithinLengths: [
+    {
+      rule: 'may',
+      says: 'weights may alias scores',
+      lengths: [scoreCount, scoreCount],
+      aliases: [[0, 1]],
+      run: (k, [weights, scores]) => k.softmaxWithinLengths(weights, scores, attention),
+    },
+  ],
+  attentionContext: [
+    {
+      rule: 'mustNot',
+      says: 'context must not alias values',
+      lengths: [queryCount, scoreCount, keyCount],
+      aliases: [[0, 2]],
+      range: [0, 1],
+      run: (k, [context, weights, values]) => k.attentionContext(context, weights, values, attention),
+    },
+  ],
+  attentionContextBackward: [
+    {
+      rule: 'mustNot',
+      says: 'weightGradient must not alias weights',
+      lengths: [scoreCount, keyCount, queryCount, scoreCount, keyCount],
+      aliases: [[0, 3]],
+      range: [0, 1],
+      run: (k, [gw, gv, arriving, weights, values]) => k.attentionContextBackward(gw, gv, arriving, weights, values, attention),
+    },
+  ],
+  softmaxWithinLengthsBackward: [
+    {
+      rule: 'may',
+      says: 'scoreGradient may alias weightGradient',
+      lengths: [scoreCount, scoreCount, scoreCount],
+      aliases: [[0, 1]],
+      range: [0, 1],
+      run: (k, [ge, gw, weights]) => k.softmaxWithinLengthsBackward(ge, gw, weights, attention),
+    },
+  ],
+  attentionScoresBackward: [
+    {
+      rule: 'mustNot',
+      says: 'queryGradient must not alias keys',
+      lengths: [keyCount, keyCount, scoreCount, queryCount, keyCount],
+      aliases: [[0, 4]],
+      run: (k, [gq, gk, ge, query, keys]) => k.attentionScoresBackward(gq, gk, ge, query, keys, attention),
+    },
+  ],
+  attentionScoresAdditiveBackward: [
+    {
+      rule: 'mustNot',
+      says: 'a gradient must not alias an input',
+      lengths: [queryCount, keyCount, 8, scoreCount, queryCount, keyCount, 8],
+      aliases: [[0, 4]],
+      run: (k, [gq, gk, gv, ge, query, keys, vector]) =>
+        k.attentionScoresAdditiveBackward({ query: gq, keys: gk, vector: gv }, ge, { query, keys, vector }, attention),
     },
   ],
   lstmStepForward: [

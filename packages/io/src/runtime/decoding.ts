@@ -9,10 +9,12 @@
  * Why one file of this length: the runtime and its Decoding share the attention weights' layout and the encoder's
  * outputs in the source's order; beam search (beam.ts) is apart because it only steps a Decoding.
  */
-import { WeftError, fail, productShape, refill } from '@weft/core/base';
+import { WeftError, attentionShape, fail, productShape, refill } from '@weft/core/base';
+import type { AdditiveInputs, AttentionShape } from '@weft/core/base';
 import type { AttentionForm, EncoderDecoderDescription, CellPlans } from '@weft/cells/description';
 import { attentionLayout, isEncoderDecoder } from '@weft/cells/description';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
+import { forwardAttentionKernels } from '@weft/core/forward/javascript';
 import type { WeightMetadata } from '../weight-file.js';
 import { layoutProblems } from '../layout-check.js';
 import type { BeamOptions, BeamResult } from './beam.js';
@@ -284,6 +286,11 @@ export class Decoding {
   private readonly zeros: Float32Array;
   /** The affine maps' size record, refilled per call. */
   private readonly product = productShape(0, 0, 0);
+  /** Attention's size record: `rows` query steps over one source row of `sourceLength` positions (set by start). */
+  private readonly attentionShape: AttentionShape;
+  private readonly context: Float32Array;
+  /** The additive form's inputs (the projected queries and keys, and v), or null for the dot forms. */
+  private readonly additiveInputs: AdditiveInputs | null;
   private readonly state: Float32Array;
   private readonly gathered: Float32Array;
   // An encoder whose layers all run forward is streamed token by token into buffers made once; one with a layer
@@ -322,6 +329,9 @@ export class Decoding {
     this.keys = allocate(on * maxSourceLength * d);
     this.queries = allocate(on * rows * d);
     this.joined = allocate(on * rows * (e + d));
+    this.context = allocate(on * rows * e);
+    this.attentionShape = attentionShape(rows, 1, maxSourceLength, d, e, new Int32Array(1));
+    this.additiveInputs = attention?.vector == null ? null : { query: this.queries, keys: this.keys, vector: attention.vector };
     this.attentional = allocate(on * rows * d);
     this.logits = allocate(on * rows * runtime.outputWidth);
     this.zeros = allocate(on * d);
@@ -346,6 +356,7 @@ export class Decoding {
     if (source.length > this.maxSourceLength)
       fail('invalid_argument', 'decoding.start.source', `at most ${this.maxSourceLength} tokens (the decoding's maxSourceLength)`, `${source.length}`);
     this.length = source.length;
+    (this.attentionShape.lengths as Int32Array)[0] = source.length;
     const attention = this.attention;
     let state: Float32Array;
     if (this.encoderStreams !== null && this.encoderState !== null) {
@@ -427,42 +438,26 @@ export class Decoding {
     const h = this.streams.step(tokens);
     const attention = this.attention;
     if (attention === null) return h;
-    const { rows, length, weights, values, joined } = this;
+    const { rows, weights, values, joined } = this;
     const e = this.runtime.encodedWidth;
     const d = this.runtime.decoder.outputWidth;
     const kernels = this.runtime.decoder.backend.kernels;
+    // The attention kernels are one table for both forward backends (they compute on any f32 array).
+    const attend = forwardAttentionKernels;
     const additive = attention.form === 'additive';
     const query = additive ? this.queries : h;
     if (additive) kernels.affineRows(this.queries, h, attention.query as Float32Array, this.zeros, refill(this.product, rows, d, d));
     const keys = attention.form === 'dot' ? values : this.keys;
-    const vector = attention.vector;
-    const stride = this.maxSourceLength;
+    // Every row attends over the one source: the kernels' layout with one batch row and `rows` query steps.
+    const shape = this.attentionShape;
+    if (attention.vector === null) attend.attentionScores(weights, query, keys, shape);
+    else attend.attentionScoresAdditive(weights, this.additiveInputs as AdditiveInputs, shape);
+    attend.softmaxWithinLengths(weights, weights, shape);
+    const context = this.context;
+    attend.attentionContext(context, weights, values, shape);
     for (let r = 0; r < rows; r++) {
-      // Scores, then the softmax with the largest score subtracted first (common practice).
-      let max = -Infinity;
-      for (let s = 0; s < length; s++) {
-        let score = 0;
-        if (vector === null) {
-          for (let j = 0; j < d; j++) score += query[r * d + j] * keys[s * d + j];
-        } else {
-          for (let j = 0; j < d; j++) score += vector[j] * Math.tanh(query[r * d + j] + keys[s * d + j]);
-        }
-        weights[r * stride + s] = score;
-        if (score > max) max = score;
-      }
-      let total = 0;
-      for (let s = 0; s < length; s++) {
-        const x = Math.exp(weights[r * stride + s] - max);
-        weights[r * stride + s] = x;
-        total += x;
-      }
       const row = r * (e + d);
-      joined.fill(0, row, row + e);
-      for (let s = 0; s < length; s++) {
-        const a = weights[r * stride + s] / total;
-        weights[r * stride + s] = a;
-        for (let i = 0; i < e; i++) joined[row + i] += a * values[s * e + i];
-      }
+      for (let i = 0; i < e; i++) joined[row + i] = context[r * e + i];
       for (let j = 0; j < d; j++) joined[row + e + j] = h[r * d + j];
     }
     kernels.affineRows(this.attentional, joined, attention.combine, this.zeros, refill(this.product, rows, e + d, d));
