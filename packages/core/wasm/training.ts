@@ -6,3 +6,4 @@ export {
   plainStepBackward, plainStepForward,
 } from './steps';
 export { adamUpdate, sgdUpdate } from './rules';
+export { attentionContext, attentionContextBackward, attentionScores, attentionScoresBackward } from './attention';

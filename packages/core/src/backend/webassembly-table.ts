@@ -3,6 +3,7 @@ import { javascriptKernels } from './kernel-table.js';
 import type { LinearMemory } from './memory.js';
 import type { KernelWorkspace, ModuleExports } from './module.js';
 import { addressing } from './module.js';
+import { simdAttentionKernels } from './webassembly-attention.js';
 import { simdStepKernels } from './webassembly-steps.js';
 import type { FloatArray } from '../dtype.js';
 import type { MomentumBuffers, MomentumConstants } from '../kernels/rules.js';
@@ -20,6 +21,7 @@ export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspac
     ...activationKernels(x, memory),
     ...simdStepKernels(x, memory, workspace),
     ...ruleKernels(x, memory),
+    ...simdAttentionKernels(x, memory, workspace),
   };
 }
 

@@ -8,54 +8,17 @@
  */
 import { describe, expect, it } from 'vitest';
 import { MessageChannel } from 'node:worker_threads';
-import { Random, compiledKernels, createWebAssemblyBackend, javascriptKernels, useCompiledKernels, webAssemblyUnavailable } from '@weft/core';
+import { compiledKernels, createWebAssemblyBackend, javascriptKernels, useCompiledKernels, webAssemblyUnavailable } from '@weft/core';
 import type { KernelTable } from '@weft/core';
-import { worstGap } from '../../../../tests/helpers/close.js';
+import type { Spec } from './twins.js';
+import { agreeWithTwin, twinArrays } from './twins.js';
 import { transposedOf } from '@weft/core/kernels';
 
 const available = webAssemblyUnavailable() === null;
 const backend = available ? createWebAssemblyBackend({ memoryBytes: 64 * 1048576 }) : null;
 
-type Spec = number | null;
-interface Arrays {
-  readonly f: (Float32Array | null)[];
-}
-
-/** Makes matching arrays: one set in WebAssembly memory, one in ordinary arrays, same seeded values. */
-function arrays(specs: readonly Spec[], seed: number, low = -2, high = 2): { wasm: Arrays; js: Arrays } {
-  const random = new Random(seed);
-  const wasm: (Float32Array | null)[] = [];
-  const js: (Float32Array | null)[] = [];
-  for (const length of specs) {
-    if (length === null) {
-      wasm.push(null);
-      js.push(null);
-      continue;
-    }
-    const a = backend!.pool.take('f32', length) as Float32Array;
-    for (let i = 0; i < length; i++) a[i] = random.between(low, high);
-    const b = Float32Array.from(a);
-    expect(backend!.holds(a)).toBe(true);
-    wasm.push(a);
-    js.push(b);
-  }
-  return { wasm: { f: wasm }, js: { f: js } };
-}
-
-function agree(specs: readonly Spec[], run: (k: KernelTable, x: (Float32Array | null)[]) => void, exact: boolean, seed = 1, low = -2, high = 2): number {
-  const { wasm, js } = arrays(specs, seed, low, high);
-  run(backend!.kernels, wasm.f);
-  run(javascriptKernels, js.f);
-  let worst = 0;
-  wasm.f.forEach((a, i) => {
-    const b = js.f[i];
-    if (a === null || b === null) return;
-    if (exact) expect(Array.from(a), `array ${i}`).toEqual(Array.from(b));
-    else worst = Math.max(worst, worstGap(a, b));
-  });
-  expect(worst).toBeLessThanOrEqual(1e-5);
-  return worst;
-}
+const agree = (specs: readonly Spec[], run: (k: KernelTable, x: (Float32Array | null)[]) => void, exact: boolean, seed = 1, low = -2, high = 2): number =>
+  agreeWithTwin(backend!, specs, run, exact, seed, low, high);
 
 describe.skipIf(!available)('the WebAssembly kernels against their JavaScript twins', () => {
   it('agree on the matrix product in all four transpose forms, accumulating or not, at every edge shape', () => {
@@ -80,9 +43,9 @@ describe.skipIf(!available)('the WebAssembly kernels against their JavaScript tw
       for (const transposeA of [false, true]) {
         for (const transposeB of [false, true]) {
           for (const accumulate of [false, true]) {
-            const { wasm, js } = arrays([rows * cols, rows * inner, inner * cols], rows * 131 + inner * 7 + cols);
-            const [outW, a, b] = wasm.f as Float32Array[];
-            const [outJ, a2, b2] = js.f as Float32Array[];
+            const { wasm, js } = twinArrays(backend!, [rows * cols, rows * inner, inner * cols], rows * 131 + inner * 7 + cols);
+            const [outW, a, b] = wasm as Float32Array[];
+            const [outJ, a2, b2] = js as Float32Array[];
             const start = Float64Array.from(outJ);
             const shape = { rows, inner, cols, transposed: transposedOf(transposeA, transposeB) };
             backend!.kernels[accumulate ? 'matmulInto' : 'matmul'](outW, a, b, shape);
