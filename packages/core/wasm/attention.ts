@@ -10,8 +10,10 @@
  *                                                                    registers over every source
  *   weighSteps   out[s, b] += Σ_t w[t, b, s] · y[t, b]             the same over the query steps
  * Sums are f32 in four lanes, then across the lanes (the JavaScript twin sums in f64 in index order; the agreement
- * tests bound the difference).
+ * tests bound the difference). The additive form's tanh is math.ts's tanh4; its lane loops (`full`) are expanded by
+ * the build (scripts/build-wasm.mjs) into a vector loop and a scalar tail.
  */
+import { load4, store4, tanh4, tanhCall4 } from './math';
 
 // @ts-ignore: decorator
 @inline function at(p: usize, i: i32): usize {
@@ -184,4 +186,61 @@ export function attentionScoresBackward(
 ): void {
   if (queryGradient != 0) weighSources(queryGradient, scoreGradient, keys, steps, rows, sources, depth, lengths, true);
   if (keyGradient != 0) weighSteps(keyGradient, scoreGradient, query, steps, rows, sources, depth, lengths);
+}
+
+/** scores[t, b, s] = v · tanh(query[t, b] + keys[s, b]) for s < L_b. */
+export function attentionScoresAdditive(scores: usize, query: usize, keys: usize, vector: usize, steps: i32, rows: i32, sources: i32, depth: i32, lengths: usize): void {
+  for (let t = 0; t < steps; t++) {
+    for (let b = 0; b < rows; b++) {
+      const length = lengthAt(lengths, b, sources);
+      const q = at(query, (t * rows + b) * depth);
+      const o = at(scores, (t * rows + b) * sources);
+      for (let s = 0; s < length; s++) {
+        const k = at(keys, (s * rows + b) * depth);
+        let sum = f32x4.splat(0);
+        let tail: f32 = 0;
+        for (let d = 0; d < depth; ) {
+          const full = d + 4 <= depth;
+          const term = f32x4.mul(load4(at(vector, d), full), tanh4(f32x4.add(load4(at(q, d), full), load4(at(k, d), full))));
+          if (full) sum = f32x4.add(sum, term);
+          else tail += f32x4.extract_lane(term, 0);
+          d += full ? 4 : 1;
+        }
+        store<f32>(at(o, s), across(sum) + tail);
+      }
+    }
+  }
+}
+
+/**
+ * The additive score's backward: with u = tanh(q + k), ∂v += ∂e·u and ∂q, ∂k += ∂e · v ⊙ (1 − u²), each gradient
+ * skipped when given as 0.
+ */
+export function attentionScoresAdditiveBackward(
+  queryGradient: usize, keyGradient: usize, vectorGradient: usize, scoreGradient: usize, query: usize, keys: usize, vector: usize,
+  steps: i32, rows: i32, sources: i32, depth: i32, lengths: usize,
+): void {
+  const one = f32x4.splat(1);
+  for (let t = 0; t < steps; t++) {
+    for (let b = 0; b < rows; b++) {
+      const length = lengthAt(lengths, b, sources);
+      const row = (t * rows + b) * depth;
+      const q = at(query, row);
+      const gq = queryGradient == 0 ? 0 : at(queryGradient, row);
+      for (let s = 0; s < length; s++) {
+        const de = f32x4.splat(load<f32>(at(scoreGradient, (t * rows + b) * sources + s)));
+        const k = at(keys, (s * rows + b) * depth);
+        const gk = keyGradient == 0 ? 0 : at(keyGradient, (s * rows + b) * depth);
+        for (let d = 0; d < depth; ) {
+          const full = d + 4 <= depth;
+          const u = tanh4(f32x4.add(load4(at(q, d), full), load4(at(k, d), full)));
+          if (vectorGradient != 0) store4(at(vectorGradient, d), f32x4.add(load4(at(vectorGradient, d), full), f32x4.mul(de, u)), full);
+          const pre = f32x4.mul(f32x4.mul(de, load4(at(vector, d), full)), f32x4.sub(one, f32x4.mul(u, u)));
+          if (gq != 0) store4(at(gq, d), f32x4.add(load4(at(gq, d), full), pre), full);
+          if (gk != 0) store4(at(gk, d), f32x4.add(load4(at(gk, d), full), pre), full);
+          d += full ? 4 : 1;
+        }
+      }
+    }
+  }
 }

@@ -6,4 +6,6 @@ export {
   plainStepBackward, plainStepForward,
 } from './steps';
 export { adamUpdate, sgdUpdate } from './rules';
-export { attentionContext, attentionContextBackward, attentionScores, attentionScoresBackward } from './attention';
+export {
+  attentionContext, attentionContextBackward, attentionScores, attentionScoresAdditive, attentionScoresAdditiveBackward, attentionScoresBackward,
+} from './attention';

@@ -20,7 +20,7 @@ describe.skipIf(!available)('the WebAssembly attention kernels', () => {
     { steps: 21, rows: 3, sources: 24, depth: 128, width: 128 },
   ];
 
-  it('agree with their JavaScript twins on the scores, the context and both backward kernels, ragged rows and absent gradients included', () => {
+  it('agree with their JavaScript twins on the dot and additive scores, the context and every backward kernel, ragged rows and absent gradients included', () => {
     let worst = 0;
     for (const { steps, rows, sources, depth, width } of cases) {
       for (const lengths of [null, Int32Array.from({ length: rows }, (_, b) => (b * 5 + sources) % (sources + 1))]) {
@@ -46,8 +46,23 @@ describe.skipIf(!available)('the WebAssembly attention kernels', () => {
             1,
           ),
         );
+        const additive = [scoreCount, steps * rows * depth, sources * rows * depth, depth];
+        worst = Math.max(
+          worst,
+          agreeWithTwin(backend, additive, (k, [e, q, key, v]) => k.attentionScoresAdditive(e!, { query: q!, keys: key!, vector: v! }, shape), false, seed),
+        );
         for (const absent of [false, true]) {
+          const gradients = [absent ? null : steps * rows * depth, sources * rows * depth, absent ? null : depth];
           worst = Math.max(
+            worst,
+            agreeWithTwin(
+              backend,
+              [...gradients, scoreCount, ...additive.slice(1)],
+              (k, [gq, gk, gv, ge, q, key, v]) =>
+                k.attentionScoresAdditiveBackward({ query: gq, keys: gk, vector: gv }, ge!, { query: q!, keys: key!, vector: v! }, shape),
+              false,
+              seed,
+            ),
             worst,
             agreeWithTwin(
               backend,
