@@ -12,7 +12,7 @@
  * and ≥ 2 asked), across four runs. The Adam update is computed in f64 in both backends, bit for bit alike, and stays about 5–7% of a step,
  * so it was not given a faster f32 SIMD form that would make the backends' weights differ.
  */
-import { Random, randomUniform, tensor } from '@weft/core';
+import { Random, createWebAssemblyBackend, defaultBackend, randomUniform, relaxedKernelsUnavailable, setDefaultBackend, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, limitGradientNorm, firstNonFiniteEntry } from '@weft/optim';
@@ -71,6 +71,25 @@ function stepCase(shape: Shape): BenchCase {
     id: idOf(shape),
     unit: 'µs/token',
     setup: () => {
+      const { trainer } = setup(shape);
+      return () => void trainer.step();
+    },
+    value: (hz) => 1e6 / (hz * shape.steps * shape.batch),
+  };
+}
+
+/**
+ * The main step on the relaxed kernel set (fused multiply-adds), where the engine has it and the default backend runs
+ * the standard set: `…relaxed-speedup` is the default step's time over the relaxed one's, both from this run.
+ */
+function relaxedKernelsCase(shape: Shape): BenchCase {
+  return {
+    id: `${idOf(shape)}.relaxed-kernels`,
+    unit: 'µs/token',
+    defaultOnly: true,
+    setup: () => {
+      // The run puts its default backend back after this case (run.ts).
+      setDefaultBackend(createWebAssemblyBackend({ kernels: 'relaxed' }));
       const { trainer } = setup(shape);
       return () => void trainer.step();
     },
@@ -149,7 +168,10 @@ function threadsCase(shape: Shape, count: number): BenchCase {
   };
 }
 
-export const cases: BenchCase[] = [...shapes.map(stepCase), updateCase(main), threadsCase(main, 1), threadsCase(main, 2)];
+/** The relaxed-set case exists where the default backend runs the standard set and the engine has relaxed SIMD (Node 22+). */
+const kernelSets = defaultBackend().kernelSet === 'standard' && relaxedKernelsUnavailable() === null ? [relaxedKernelsCase(main)] : [];
+
+export const cases: BenchCase[] = [...shapes.map(stepCase), ...kernelSets, updateCase(main), threadsCase(main, 1), threadsCase(main, 2)];
 
 export const derived: Derived = (results): Record<string, BenchResult> => {
   const out: Record<string, BenchResult> = {};
@@ -157,6 +179,9 @@ export const derived: Derived = (results): Record<string, BenchResult> => {
   const update = results[`${idOf(main)}.update-only`];
   if (step !== undefined && update !== undefined)
     out[`${idOf(main)}.update-share`] = { value: Number((update.value / step.value).toPrecision(4)), unit: 'ratio' };
+  const relaxed = results[`${idOf(main)}.relaxed-kernels`];
+  if (step !== undefined && relaxed !== undefined)
+    out[`${idOf(main)}.relaxed-speedup`] = { value: Number((step.value / relaxed.value).toPrecision(4)), unit: 'ratio' };
   const one = results[`${idOf(main)}.workers1`];
   const two = results[`${idOf(main)}.workers2`];
   if (one !== undefined && two !== undefined) out[`${idOf(main)}.workers2.speedup`] = { value: Number((two.value / one.value).toPrecision(4)), unit: 'ratio' };

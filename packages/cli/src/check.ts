@@ -11,7 +11,7 @@ import { GruCell, LstmCell, PlainCell, PlanCell, runSequence } from '@weft/cells
 import type { RecurrentCell } from '@weft/cells';
 import type { FlagSpec, ParsedArgs } from './args.js';
 import { choiceFlag, numberFlag } from './args.js';
-import { backendFlag, chooseBackend } from './backend.js';
+import { backendFlag, chooseBackend, kernelsFlag } from './backend.js';
 import { CommandError } from './errors.js';
 import { loadUserModule, makerExport } from './user-module.js';
 import { planExport } from './cell-module.js';
@@ -33,6 +33,7 @@ export const checkFlags: FlagSpec[] = [
   { name: 'seed', value: 'TEXT', description: "seed of the check's inputs, weights and drawn entries", fallback: "the cell's name" },
   { name: 'report', value: 'summary|table', description: 'summary: a line per tensor; table: also every failing entry with both values', fallback: 'summary' },
   backendFlag,
+  kernelsFlag,
   { name: 'quiet', switch: true, description: 'print only the result line (and the reports of checks that fail)' },
   { name: 'debug', switch: true, description: 'show stack traces' },
 ];

@@ -28,7 +28,7 @@ import { pairsDescription, preparePairs } from './pairs.js';
 import type { PairsPrepared } from './pairs.js';
 import { runResults } from './results.js';
 import { reportLines } from '@weft/io';
-import { backendFlag, chooseBackend } from './backend.js';
+import { backendFlag, chooseBackend, kernelRecord, kernelsFlag } from './backend.js';
 import { CommandError } from './errors.js';
 import { cellModuleFlags, cellPlansFrom } from './cell-module.js';
 import type { CellPlans } from '@weft/cells';
@@ -215,6 +215,7 @@ export const trainFlags: FlagSpec[] = [
   { name: 'start-over', switch: true, description: 'replace the checkpoint an earlier run left at --checkpoint instead of refusing' },
   { name: 'store', value: 'f32|f16|i8', description: 'how the weight file stores numbers', fallback: 'f32' },
   backendFlag,
+  kernelsFlag,
   { name: 'quiet', switch: true, description: 'no progress and no notes: print only the final result lines' },
   { name: 'results', value: 'FILE', description: "also write the run's result as JSON (validation, held-out figures against the best baseline, files)" },
   { name: 'debug', switch: true, description: 'show stack traces' },
@@ -683,6 +684,7 @@ function metadataFor(run: Run, trainer: Trainer) {
       dataDigest: run.dataDigest,
       steps: trainer.stepsTaken,
       seed: settings.seed,
+      kernels: kernelRecord(settings.backend),
       store: run.store,
       seconds: Number((run.earlierSeconds + (Date.now() - run.started) / 1000).toFixed(3)),
     },
@@ -740,6 +742,12 @@ async function resumeFrom(run: Run, trainer: Trainer, resume: string): Promise<v
     );
   }
   trainer.restore(saved.snapshot);
+  const kernels = kernelRecord(run.settings.backend);
+  if (typeof savedTraining?.kernels === 'string' && savedTraining.kernels !== kernels) {
+    run.info(
+      `note: the checkpoint was trained on the ${savedTraining.kernels} kernels and continues on the ${kernels} kernels: the result will not be the same bits as a run on either alone (--kernels chooses)`,
+    );
+  }
   run.earlierSeconds =
     typeof savedTraining?.seconds === 'number' && Number.isFinite(savedTraining.seconds) && savedTraining.seconds >= 0 ? savedTraining.seconds : 0;
   const savedHistory = saved.file.metadata.history as { training?: number[][]; validation?: number[][] } | undefined;
@@ -777,7 +785,7 @@ async function trainModel(run: Run): Promise<{ summary: TrainingSummary; trainer
   const named = cell === 'lstm' ? 'an LSTM' : cell === 'gru' ? 'a GRU' : cell === 'plain' ? 'a plain recurrent' : `a ${cell}`;
   const parameters = model.parameters().reduce((n, p) => n + p.tensor.size, 0);
   run.info(
-    `training ${named} ${kind} (${settings.layerCount} × ${run.schedule.hidden} hidden, ${parameters} parameters) on ${settings.dataPath}: ${trainer.totalSteps} steps, ${settings.backend.name} backend, ${run.workerCount > 1 ? `${run.workerCount} threads` : 'this thread'}`,
+    `training ${named} ${kind} (${settings.layerCount} × ${run.schedule.hidden} hidden, ${parameters} parameters) on ${settings.dataPath}: ${trainer.totalSteps} steps, ${settings.backend.name} backend${settings.backend.kernelSet === 'relaxed' ? ' (relaxed kernels)' : ''}, ${run.workerCount > 1 ? `${run.workerCount} threads` : 'this thread'}`,
   );
   let summary: TrainingSummary;
   try {

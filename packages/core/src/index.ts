@@ -26,7 +26,7 @@ export type { DirectionalGradientCheck, FailedEntry, GradientCheckOptions, Gradi
 export { checkGradients } from './gradient-check.js';
 export * as kernels from './kernels/index.js';
 export { indexOfLargest, logSumExp } from './kernels/softmax.js';
-export type { Backend, BackendName, KernelName, KernelTable, WebAssemblyBackendOptions } from './backend/index.js';
+export type { Backend, BackendName, KernelName, KernelSet, KernelTable, WebAssemblyBackendOptions } from './backend/index.js';
 export {
   KERNEL_NAMES,
   backendNamed,
@@ -35,8 +35,11 @@ export {
   createWebAssemblyBackend,
   defaultBackend,
   environmentBackendChoice,
+  environmentKernelChoice,
   javascriptBackend,
   javascriptKernels,
+  defaultKernelSet,
+  relaxedKernelsUnavailable,
   setDefaultBackend,
   useCompiledKernels,
   webAssemblyBackend,

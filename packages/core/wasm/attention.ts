@@ -13,7 +13,7 @@
  * tests bound the difference). The additive form's tanh is math.ts's tanh4; its lane loops (`full`) are expanded by
  * the build (scripts/build-wasm.mjs) into a vector loop and a scalar tail.
  */
-import { load4, store4, tanh4, tanhCall4 } from './math';
+import { load4, madd, store4, tanh4, tanhCall4 } from './math';
 
 // @ts-ignore: decorator
 @inline function at(p: usize, i: i32): usize {
@@ -51,10 +51,10 @@ function dots(out: usize, left: usize, right: usize, steps: i32, rows: i32, sour
         let a0 = f32x4.splat(0), a1 = f32x4.splat(0), a2 = f32x4.splat(0), a3 = f32x4.splat(0);
         for (let d = 0; d < whole; d += 4) {
           const lv = v128.load(at(l, d));
-          a0 = f32x4.add(a0, f32x4.mul(lv, v128.load(at(r0, d))));
-          a1 = f32x4.add(a1, f32x4.mul(lv, v128.load(at(r1, d))));
-          a2 = f32x4.add(a2, f32x4.mul(lv, v128.load(at(r2, d))));
-          a3 = f32x4.add(a3, f32x4.mul(lv, v128.load(at(r3, d))));
+          a0 = madd(lv, v128.load(at(r0, d)), a0);
+          a1 = madd(lv, v128.load(at(r1, d)), a1);
+          a2 = madd(lv, v128.load(at(r2, d)), a2);
+          a3 = madd(lv, v128.load(at(r3, d)), a3);
         }
         let e0 = across(a0), e1 = across(a1), e2 = across(a2), e3 = across(a3);
         for (let d = whole; d < n; d++) {
@@ -72,7 +72,7 @@ function dots(out: usize, left: usize, right: usize, steps: i32, rows: i32, sour
       for (; s < length; s++) {
         const r = at(right, s * stride + b * n);
         let a = f32x4.splat(0);
-        for (let d = 0; d < whole; d += 4) a = f32x4.add(a, f32x4.mul(v128.load(at(l, d)), v128.load(at(r, d))));
+        for (let d = 0; d < whole; d += 4) a = madd(v128.load(at(l, d)), v128.load(at(r, d)), a);
         let e = across(a);
         for (let d = whole; d < n; d++) e += load<f32>(at(l, d)) * load<f32>(at(r, d));
         store<f32>(at(o, s), e);
@@ -100,10 +100,10 @@ function dots(out: usize, left: usize, right: usize, steps: i32, rows: i32, sour
     let v = at(vectors, j);
     for (let i = 0; i < count; i++) {
       const s = v128.load32_splat(w);
-      a0 = f32x4.add(a0, f32x4.mul(s, v128.load(v)));
-      a1 = f32x4.add(a1, f32x4.mul(s, v128.load(v, 16)));
-      a2 = f32x4.add(a2, f32x4.mul(s, v128.load(v, 32)));
-      a3 = f32x4.add(a3, f32x4.mul(s, v128.load(v, 48)));
+      a0 = madd(s, v128.load(v), a0);
+      a1 = madd(s, v128.load(v, 16), a1);
+      a2 = madd(s, v128.load(v, 32), a2);
+      a3 = madd(s, v128.load(v, 48), a3);
       w += wStep;
       v += vStep;
     }
@@ -115,7 +115,7 @@ function dots(out: usize, left: usize, right: usize, steps: i32, rows: i32, sour
     let w = weights;
     let v = at(vectors, j);
     for (let i = 0; i < count; i++) {
-      a = f32x4.add(a, f32x4.mul(v128.load32_splat(w), v128.load(v)));
+      a = madd(v128.load32_splat(w), v128.load(v), a);
       w += wStep;
       v += vStep;
     }

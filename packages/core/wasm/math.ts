@@ -87,6 +87,17 @@
   return v128.bitselect(f32x4.abs(chosen), x, i32x4.splat(0x7fffffff));
 }
 
+/**
+ * c + a·b per lane: a multiply and an add, each rounded (IEEE 754), in the standard kernel set. The relaxed set
+ * (scripts/build-wasm.mjs compiles the kernels a second time with this body made f32x4.relaxed_madd) lets the engine
+ * fuse them into one multiply-add with one rounding where the processor has it (WebAssembly relaxed SIMD), so its
+ * sums differ from the standard set's in the last bits.
+ */
+// @ts-ignore: decorator
+@inline export function madd(a: v128, b: v128, c: v128): v128 {
+  return f32x4.add(c, f32x4.mul(a, b));
+}
+
 /** Loads 4 lanes, or one value into every lane when `full` is false (the scalar tail of a row). */
 // @ts-ignore: decorator
 @inline export function load4(p: usize, full: bool): v128 {

@@ -15,7 +15,7 @@
  * here for every shape up to 64 × 256 (V8 spills its registers): 1×48×144 in 702–756 ns against 454–460 ns, 1×32×128 in
  * 416 against 266, 3×128×512 in 20.0 µs against 15.6 µs; only 1×256×1024 was faster with it (31 µs against 39 µs).
  */
-import { load4, store4 } from './math';
+import { load4, madd, store4 } from './math';
 
 export function matmul(
   out: usize, a: usize, b: usize, rows: i32, inner: i32, cols: i32,
@@ -70,10 +70,10 @@ function blocked(out: usize, packedA: usize, packedB: usize, rows: i32, inner: i
         const a1 = v128.shuffle<f32>(av, av, 1, 1, 1, 1);
         const a2 = v128.shuffle<f32>(av, av, 2, 2, 2, 2);
         const a3 = v128.shuffle<f32>(av, av, 3, 3, 3, 3);
-        c00 = f32x4.add(c00, f32x4.mul(a0, b0)); c01 = f32x4.add(c01, f32x4.mul(a0, b1));
-        c10 = f32x4.add(c10, f32x4.mul(a1, b0)); c11 = f32x4.add(c11, f32x4.mul(a1, b1));
-        c20 = f32x4.add(c20, f32x4.mul(a2, b0)); c21 = f32x4.add(c21, f32x4.mul(a2, b1));
-        c30 = f32x4.add(c30, f32x4.mul(a3, b0)); c31 = f32x4.add(c31, f32x4.mul(a3, b1));
+        c00 = madd(a0, b0, c00); c01 = madd(a0, b1, c01);
+        c10 = madd(a1, b0, c10); c11 = madd(a1, b1, c11);
+        c20 = madd(a2, b0, c20); c21 = madd(a2, b1, c21);
+        c30 = madd(a3, b0, c30); c31 = madd(a3, b1, c31);
         pa += 16;
         pb += 32;
       }
@@ -175,7 +175,7 @@ function fewRows(out: usize, a: usize, b: usize, rows: i32, inner: i32, cols: i3
         if (aInnerStep == 1) {
           let acc = f32x4.splat(0);
           let k = 0;
-          for (; k + 4 <= inner; k += 4) acc = f32x4.add(acc, f32x4.mul(v128.load(aStart + (<usize>k << 2)), v128.load(bStart + (<usize>k << 2))));
+          for (; k + 4 <= inner; k += 4) acc = madd(v128.load(aStart + (<usize>k << 2)), v128.load(bStart + (<usize>k << 2)), acc);
           sum = (f32x4.extract_lane(acc, 0) + f32x4.extract_lane(acc, 1)) + (f32x4.extract_lane(acc, 2) + f32x4.extract_lane(acc, 3));
           for (; k < inner; k++) sum += load<f32>(aStart + (<usize>k << 2)) * load<f32>(bStart + (<usize>k << 2));
         } else {
@@ -195,10 +195,10 @@ function fewRows(out: usize, a: usize, b: usize, rows: i32, inner: i32, cols: i3
       let pb = b + (<usize>col << 2);
       for (let k = 0; k < inner; k++) {
         const x = v128.load32_splat(pa);
-        s0 = f32x4.add(s0, f32x4.mul(x, v128.load(pb)));
-        s1 = f32x4.add(s1, f32x4.mul(x, v128.load(pb, 16)));
-        s2 = f32x4.add(s2, f32x4.mul(x, v128.load(pb, 32)));
-        s3 = f32x4.add(s3, f32x4.mul(x, v128.load(pb, 48)));
+        s0 = madd(x, v128.load(pb), s0);
+        s1 = madd(x, v128.load(pb, 16), s1);
+        s2 = madd(x, v128.load(pb, 32), s2);
+        s3 = madd(x, v128.load(pb, 48), s3);
         pa += aStride;
         pb += bStride;
       }
@@ -215,7 +215,7 @@ function fewRows(out: usize, a: usize, b: usize, rows: i32, inner: i32, cols: i3
       let pa = aStart;
       let pb = b + (<usize>col << 2);
       for (let k = 0; k < inner; k++) {
-        s = f32x4.add(s, f32x4.mul(v128.load32_splat(pa), load4(pb, full)));
+        s = madd(v128.load32_splat(pa), load4(pb, full), s);
         pa += aInnerStep << 2;
         pb += <usize>cols << 2;
       }

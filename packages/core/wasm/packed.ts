@@ -5,6 +5,7 @@
  * step, and no cache-set conflicts from reading a row-major matrix down its columns), and a batch of 4 rows or more
  * skips matmul's packing of the right operand.
  */
+import { madd } from './math';
 import { matmulPackedRight } from './matmul';
 
 // @ts-ignore: decorator
@@ -58,19 +59,19 @@ export function rowAffinePacked(out: usize, start: usize, x: usize, a: usize, in
       for (; pv + 8 <= end; pv += 8) {
         const s = v128.load32_splat(pv);
         const t = v128.load32_splat(pv, 4);
-        s0 = f32x4.add(f32x4.add(s0, f32x4.mul(s, v128.load(q0))), f32x4.mul(t, v128.load(q0, 32)));
-        s1 = f32x4.add(f32x4.add(s1, f32x4.mul(s, v128.load(q0, 16))), f32x4.mul(t, v128.load(q0, 48)));
-        s2 = f32x4.add(f32x4.add(s2, f32x4.mul(s, v128.load(q1))), f32x4.mul(t, v128.load(q1, 32)));
-        s3 = f32x4.add(f32x4.add(s3, f32x4.mul(s, v128.load(q1, 16))), f32x4.mul(t, v128.load(q1, 48)));
+        s0 = madd(t, v128.load(q0, 32), madd(s, v128.load(q0), s0));
+        s1 = madd(t, v128.load(q0, 48), madd(s, v128.load(q0, 16), s1));
+        s2 = madd(t, v128.load(q1, 32), madd(s, v128.load(q1), s2));
+        s3 = madd(t, v128.load(q1, 48), madd(s, v128.load(q1, 16), s3));
         q0 += 64;
         q1 += 64;
       }
       for (; pv < end; pv += 4) {
         const s = v128.load32_splat(pv);
-        s0 = f32x4.add(s0, f32x4.mul(s, v128.load(q0)));
-        s1 = f32x4.add(s1, f32x4.mul(s, v128.load(q0, 16)));
-        s2 = f32x4.add(s2, f32x4.mul(s, v128.load(q1)));
-        s3 = f32x4.add(s3, f32x4.mul(s, v128.load(q1, 16)));
+        s0 = madd(s, v128.load(q0), s0);
+        s1 = madd(s, v128.load(q0, 16), s1);
+        s2 = madd(s, v128.load(q1), s2);
+        s3 = madd(s, v128.load(q1, 16), s3);
         q0 += 32;
         q1 += 32;
       }
@@ -91,8 +92,8 @@ export function rowAffinePacked(out: usize, start: usize, x: usize, a: usize, in
       const end = v + (<usize>n << 2);
       for (let pv = v; pv < end; pv += 4) {
         const s = v128.load32_splat(pv);
-        s0 = f32x4.add(s0, f32x4.mul(s, v128.load(q)));
-        s1 = f32x4.add(s1, f32x4.mul(s, v128.load(q, 16)));
+        s0 = madd(s, v128.load(q), s0);
+        s1 = madd(s, v128.load(q, 16), s1);
         q += 32;
       }
     }

@@ -20,12 +20,22 @@ import type { KernelTable } from './kernel-table.js';
 export type BackendName = 'javascript' | 'webassembly';
 
 /**
+ * The WebAssembly backend's two builds of its kernels: `standard` SIMD (the default), whose every multiply and add is
+ * rounded apart (the same bits on every engine), and `relaxed`, whose matrix products and attention sums use
+ * WebAssembly relaxed SIMD's multiply-add, which the engine fuses into one instruction with one rounding where the
+ * processor has it (faster; the last bits differ from the standard set's, and may differ between processors).
+ */
+export type KernelSet = 'standard' | 'relaxed';
+
+/**
  * Kernels and the memory they compute in: every operation, cell, update rule, trainer and runtime reaches kernels
  * through one.
  */
 export interface Backend {
   /** Which backend this is. */
   readonly name: BackendName;
+  /** Which build of the WebAssembly kernels computes; null for the JavaScript backend. */
+  readonly kernelSet: KernelSet | null;
   /** The backend's kernel table, one function per kernel name. */
   readonly kernels: KernelTable;
   /** Where this backend's tensors get their buffers. */

@@ -7,6 +7,7 @@ import { javascriptKernels } from './kernel-table.js';
 
 /** The JavaScript backend: the kernels of `@weft/core/kernels` over ordinary typed arrays, f32 and f64. */
 export const javascriptBackend: Backend = Object.freeze({
+  kernelSet: null,
   name: 'javascript' as const,
   kernels: javascriptKernels,
   pool: sharedPool,

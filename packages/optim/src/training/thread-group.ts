@@ -22,8 +22,8 @@
  * Why one file of this length: the group and the serving side speak one message protocol (the start message, the
  * step messages and their answers); keeping both ends of it in one place keeps them in step.
  */
-import { Tape, WeftError, backendOf, compiledKernels, fail, setDefaultBackend, useCompiledKernels } from '@weft/core';
-import type { BackendName, FloatArray } from '@weft/core';
+import { Tape, WeftError, backendOf, compiledKernels, createWebAssemblyBackend, fail, setDefaultBackend, useCompiledKernels } from '@weft/core';
+import type { BackendName, FloatArray, KernelSet } from '@weft/core';
 import { EncoderDecoderModel, SequenceModel, isEncoderDecoder } from '@weft/cells';
 import type { TrainableModel } from './lookback.js';
 import { computeJob } from './shards.js';
@@ -60,6 +60,8 @@ export interface ThreadStart {
    * thread runs that code (already tiered up) instead of compiling its own copy while the others compute.
    */
   readonly kernels: WebAssembly.Module | null;
+  /** Which build those kernels are (the trainer's backend's), so every thread computes the same bits; null for JavaScript. */
+  readonly kernelSet: KernelSet | null;
   /** The shared weights, or null when they travel in each step's message. */
   readonly weights: SharedArrayBuffer | null;
   /** Each parameter's element count, in parameter order. */
@@ -120,9 +122,11 @@ export async function startThreadGroup(options: ThreadGroupOptions): Promise<Thr
   const shared = options.shared ?? canShareMemory();
   const total = sizes.reduce((n, s) => n + s, 0);
   const weights = shared ? new SharedArrayBuffer(total * (model.dtype === 'f64' ? 8 : 4)) : null;
-  const backend = parameters.length > 0 ? backendOf(parameters[0].tensor.data).name : 'javascript';
-  const kernels = backend === 'webassembly' ? compiledKernels() : null;
-  const start: ThreadStart = { description: model.description, dtype: model.dtype, backend, kernels, weights, sizes };
+  const owner = parameters.length > 0 ? backendOf(parameters[0].tensor.data) : null;
+  const backend = owner?.name ?? 'javascript';
+  const kernelSet = owner?.kernelSet ?? null;
+  const kernels = kernelSet === null ? null : compiledKernels(kernelSet);
+  const start: ThreadStart = { description: model.description, dtype: model.dtype, backend, kernels, kernelSet, weights, sizes };
   const group = new ThreadGroup(count, options.callerComputes ?? true, start, answerWithinMs);
   await group.begin(options.spawn);
   return group;
@@ -352,8 +356,8 @@ function movable(job: ShardJob): ArrayBuffer[] {
  */
 export function serveShards(endpoint: ShardEndpoint, start: ThreadStart): void {
   try {
-    if (start.kernels !== null) useCompiledKernels(start.kernels);
-    const backend = setDefaultBackend(start.backend as BackendName);
+    if (start.kernels !== null && start.kernelSet !== null) useCompiledKernels(start.kernels, start.kernelSet);
+    const backend = setDefaultBackend(start.kernelSet === null ? (start.backend as BackendName) : createWebAssemblyBackend({ kernels: start.kernelSet }));
     const model = isEncoderDecoder(start.description)
       ? new EncoderDecoderModel(start.description, { dtype: start.dtype })
       : new SequenceModel(start.description, { dtype: start.dtype });

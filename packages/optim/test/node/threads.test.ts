@@ -1,14 +1,14 @@
 /**
  * Training on worker threads (issue 17, A and C): fixed shards make the weights the same bits in this thread and on
  * 1, 2, 3 or 4 threads (LSTM and GRU, dropout on, carried state with a lookback), with the trainer's thread computing
- * its share or not, across a resume that changes the thread count; a thread that throws or is ended mid-step ends
+ * its share or not, across a resume that changes the thread count, and on the relaxed kernel set (within that set); a thread that throws or is ended mid-step ends
  * the run with a one-line error naming it, within the time asked, with no thread left and the last checkpoint intact.
  */
 import { mkdtempSync, rmSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { afterAll, describe, expect, it } from 'vitest';
-import { Random, WeftError } from '@weft/core';
+import { Random, WeftError, createWebAssemblyBackend, defaultBackend, relaxedKernelsUnavailable, setDefaultBackend } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import type { SequenceModel } from '@weft/cells';
 import { AdamRule, Trainer, streamBatches } from '@weft/optim';
@@ -80,6 +80,33 @@ describe('training on worker threads', () => {
       }
     }, 120_000);
   }
+
+  it.skipIf(relaxedKernelsUnavailable() !== null)(
+    'gives the same weights, bit for bit, in this thread and on 2 threads on the relaxed kernel set, other bits than the standard set',
+    async () => {
+      const standard = new Trainer(options(model('lstm')));
+      await steps(standard, 20);
+      const kept = defaultBackend();
+      setDefaultBackend(createWebAssemblyBackend({ kernels: 'relaxed' }));
+      try {
+        const inThread = new Trainer(options(model('lstm')));
+        await steps(inThread, 20);
+        const m = model('lstm');
+        const threads = await startTrainingThreads({ count: 2, model: m });
+        try {
+          await steps(new Trainer(options(m, threads)), 20);
+        } finally {
+          await threads.close();
+        }
+        expect(weights(m)).toEqual(weights(inThread.model as SequenceModel));
+        // Fused multiply-adds round once where the standard set rounds twice: the runs part in the last bits.
+        expect(weights(m)).not.toEqual(weights(standard.model as SequenceModel));
+      } finally {
+        setDefaultBackend(kept);
+      }
+    },
+    60_000,
+  );
 
   const variants = [
     {
