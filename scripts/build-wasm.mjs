@@ -77,6 +77,26 @@ const modules = [
   { entry: 'runtime.ts', output: 'wasm-runtime.generated.ts', name: 'runtimeModuleBase64', what: 'the forward kernels the inference runtime needs' },
 ];
 
+/** The sections of a module's bytes: id and size (WebAssembly core specification §5.5.2). */
+function sectionsOf(bytes) {
+  const sections = [];
+  let i = 8;
+  while (i < bytes.length) {
+    const id = bytes[i++];
+    let size = 0;
+    let shift = 0;
+    let byte;
+    do {
+      byte = bytes[i++];
+      size += (byte & 127) * 2 ** shift;
+      shift += 7;
+    } while (byte & 128);
+    sections.push({ id, size });
+    i += size;
+  }
+  return sections;
+}
+
 /** Each entry's exports, by entry file. */
 const exportsOf = new Map();
 
@@ -143,6 +163,15 @@ for (const module of modules) {
   if (error !== null && error !== undefined) {
     process.stderr.write(errors.join(''));
     console.error(`build-wasm: ${module.entry} did not compile: ${error.message}`);
+    process.exit(1);
+  }
+  // No static data: the backends hand the module's memory to tensors from byte 64 on (memory.ts), so a data segment
+  // (AssemblyScript writes one for Math's lookup tables, for one) would be overwritten by the first tensor.
+  const dataSection = sectionsOf(bytes).find((section) => section.id === 11);
+  if (dataSection !== undefined && dataSection.size > 1) {
+    console.error(
+      `build-wasm: ${module.output} has a data section of ${dataSection.size} bytes; the kernels must keep no static data (use no Math.* that needs tables)`,
+    );
     process.exit(1);
   }
   // An engine without relaxed SIMD (Node 20) cannot compile the relaxed set to list its exports: they are its

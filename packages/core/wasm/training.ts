@@ -9,3 +9,4 @@ export { adamUpdate, sgdUpdate } from './rules';
 export {
   attentionContext, attentionContextBackward, attentionScores, attentionScoresAdditive, attentionScoresAdditiveBackward, attentionScoresBackward,
 } from './attention';
+export { addAt, columns, copyAt, crossEntropyRows, firstNonFinite, sumOfSquares } from './rows';

@@ -74,13 +74,20 @@ export class KernelWorkspace {
 
   /** A ragged batch's lengths copied into the memory (its byte offset), or 0 for none. */
   lengths(lengths: Int32Array | null, rows: number): number {
-    if (lengths === null) return 0;
-    if (this.lengthsCopy.length < rows) {
+    return lengths === null ? 0 : this.integers(lengths, rows);
+  }
+
+  /**
+   * The first `count` of `values` (a batch's lengths, a softmax's target classes) copied into the memory: the byte
+   * offset of the copy, valid until the next call.
+   */
+  integers(values: Int32Array, count: number): number {
+    if (this.lengthsCopy.length < count) {
       this.memory.release(this.memory.offsetOf(this.lengthsCopy), this.lengthsCopy.length * 4);
-      this.lengthsCopy = this.memory.integers(Math.max(rows, 2 * this.lengthsCopy.length));
+      this.lengthsCopy = this.memory.integers(Math.max(count, 2 * this.lengthsCopy.length));
     }
     const copy = this.lengthsCopy;
-    for (let b = 0; b < rows; b++) copy[b] = lengths[b];
+    for (let i = 0; i < count; i++) copy[i] = values[i];
     return this.memory.offsetOf(copy);
   }
 }

@@ -8,6 +8,7 @@ import { simdStepKernels } from './webassembly-steps.js';
 import type { FloatArray } from '../dtype.js';
 import type { MomentumBuffers, MomentumConstants } from '../kernels/rules.js';
 import type { ProductShape } from '../kernels/shapes.js';
+import type { ColumnBlock } from '../kernels/columns.js';
 import { transposesA, transposesB } from '../kernels/shapes.js';
 
 /** The kernel table over `memory`, calling the training module's exports `x` where the arrays are this memory's. */
@@ -22,6 +23,7 @@ export function simdKernelTable(x: ModuleExports, memory: LinearMemory, workspac
     ...simdStepKernels(x, memory, workspace),
     ...ruleKernels(x, memory),
     ...simdAttentionKernels(x, memory, workspace),
+    ...rowKernels(x, memory, workspace),
   };
 }
 
@@ -169,4 +171,53 @@ function ruleKernels(x: ModuleExports, memory: LinearMemory): Pick<KernelTable, 
     }
     x.sgdUpdate(at(values), at(gradient), at(velocity), length, constants.rate, constants.decay, constants.mu, constants.kappa, nesterov);
   }
+}
+
+/** The column-block kernels (kernels/columns.ts). */
+type ColumnKernelName = 'copyToColumns' | 'copyFromColumns' | 'addToColumns' | 'addFromColumns';
+
+/**
+ * The step's offset copies and sums, the column blocks, the update's checks and the softmax cross-entropy (core/wasm/rows.ts). The
+ * reductions return a number, which the module's functions give back as their result.
+ */
+function rowKernels(
+  x: ModuleExports,
+  memory: LinearMemory,
+  workspace: KernelWorkspace,
+): Pick<KernelTable, 'copyAt' | 'addAt' | ColumnKernelName | 'firstNonFinite' | 'sumOfSquares' | 'crossEntropyRows'> {
+  const js = javascriptKernels;
+  const { mine, at } = addressing(memory);
+  const valued = x as unknown as { readonly [name: string]: (...args: number[]) => number };
+  /** One of the four column-block kernels: `toWide` and `add` as core/wasm/rows.ts `columns` takes them. */
+  const columns =
+    (name: ColumnKernelName, toWide: number, add: number) =>
+    (first: FloatArray, second: FloatArray, block: ColumnBlock): FloatArray => {
+      if (!(mine(first) && mine(second))) return js[name](first, second, block);
+      const [wide, narrow] = toWide === 1 ? [first, second] : [second, first];
+      x.columns(at(wide), at(narrow), block.rows, block.cols, block.width, block.first, toWide, add);
+      return first;
+    };
+  return {
+    copyToColumns: columns('copyToColumns', 1, 0),
+    copyFromColumns: columns('copyFromColumns', 0, 0),
+    addToColumns: columns('addToColumns', 1, 1),
+    addFromColumns: columns('addFromColumns', 0, 1),
+    copyAt: (target, targetOffset, source, sourceOffset, length) => {
+      if (!(mine(target) && mine(source))) return js.copyAt(target, targetOffset, source, sourceOffset, length);
+      x.copyAt(at(target), targetOffset, at(source), sourceOffset, length);
+      return target;
+    },
+    addAt: (target, targetOffset, source, sourceOffset, length) => {
+      if (!(mine(target) && mine(source))) return js.addAt(target, targetOffset, source, sourceOffset, length);
+      x.addAt(at(target), targetOffset, at(source), sourceOffset, length);
+      return target;
+    },
+    firstNonFinite: (a, length) => (mine(a) ? valued.firstNonFinite(at(a), length) : js.firstNonFinite(a, length)),
+    sumOfSquares: (a, length) => (mine(a) ? valued.sumOfSquares(at(a), length) : js.sumOfSquares(a, length)),
+    crossEntropyRows: (losses, probabilities, logits, targets, rows, classes) => {
+      if (!(mine(losses) && mine(probabilities) && mine(logits))) return js.crossEntropyRows(losses, probabilities, logits, targets, rows, classes);
+      x.crossEntropyRows(at(losses), at(probabilities), at(logits), workspace.integers(targets, rows), rows, classes);
+      return losses;
+    },
+  };
 }

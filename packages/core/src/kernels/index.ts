@@ -5,6 +5,8 @@
 export { affineRows, matmul, matmulInto, matmulNaive } from './matmul.js';
 export type { ProductShape, ProductSizes, Transposed } from './shapes.js';
 export { productShape, refill, refillStep, transposedOf, transposesA, transposesB } from './shapes.js';
+export type { ColumnBlock } from './columns.js';
+export { addFromColumns, addToColumns, copyFromColumns, copyToColumns } from './columns.js';
 export { add, addAt, addInto, addRow, addScaledInto, copyAt, multiply, multiplyInto, scale, subtract, sumRows, sumRowsInto } from './elementwise.js';
 export { exp, log, relu, reluGradientInto, sigmoid, sigmoidGradientInto, tanh, tanhGradientInto } from './activations.js';
 export { dot, firstNonFinite, limitEntries, maxAbs, sum, sumOfSquares } from './reductions.js';

@@ -21,14 +21,7 @@ const concatKind: OperationKind<{ parts: readonly Tensor[] }> = {
     let offset = 0;
     for (const part of parts) {
       const w = lastAxis(part);
-      if (part.tracked) {
-        const gp = tape.gradientOf(part);
-        for (let r = 0; r < rows; r++) {
-          const from = r * width + offset;
-          const to = r * w;
-          tape.kernels.addAt(gp, to, g, from, w);
-        }
-      }
+      if (part.tracked) tape.kernels.addFromColumns(tape.gradientOf(part), g, { rows, cols: w, width, first: offset });
       offset += w;
     }
   },
@@ -59,11 +52,7 @@ export function concat(tape: Tape, parts: readonly Tensor[]): Tensor {
   let offset = 0;
   for (const part of parts) {
     const w = lastAxis(part);
-    for (let r = 0; r < rows; r++) {
-      const to = r * width + offset;
-      const from = r * w;
-      tape.kernels.copyAt(out.data, to, part.data, from, w);
-    }
+    tape.kernels.copyToColumns(out.data, part.data, { rows, cols: w, width, first: offset });
     offset += w;
   }
   const saved = tape.record(concatKind, out);
@@ -87,13 +76,8 @@ const sliceKind: OperationKind<SliceSaved> = {
     const ga = tape.gradientOf(a);
     const width = lastAxis(a);
     const w = lastAxis(out);
-    const start = node.saved.start;
     const rows = out.size / Math.max(1, w);
-    for (let r = 0; r < rows; r++) {
-      const to = r * width + start;
-      const from = r * w;
-      tape.kernels.addAt(ga, to, g, from, w);
-    }
+    tape.kernels.addToColumns(ga, g, { rows, cols: w, width, first: node.saved.start });
   },
 };
 
@@ -108,11 +92,7 @@ export function slice(tape: Tape, a: Tensor, start: number, end: number): Tensor
   const w = end - start;
   const out = tape.output([...a.shape.slice(0, -1), w], a.dtype, a.tracked);
   const rows = a.size / Math.max(1, width);
-  for (let r = 0; r < rows; r++) {
-    const from = r * width + start;
-    const to = r * w;
-    tape.kernels.copyAt(out.data, to, a.data, from, w);
-  }
+  tape.kernels.copyFromColumns(out.data, a.data, { rows, cols: w, width, first: start });
   const saved = tape.record(sliceKind, out);
   if (saved !== null) {
     saved.input = a;

@@ -55,6 +55,24 @@ const rule = (name: 'sgdUpdate' | 'nesterovUpdate'): Statement => ({
   aliases: [[0, 1]],
   run: (k, [values, gradient, velocity]) => k[name]({ values, gradient, velocity }, n, { rate: 0.1, decay: 0.01, mu: 0.9, kappa: 0.001 }),
 });
+/** Columns 1 and 2 of a [3, 4] matrix beside a [3, 2] one; aliased, the narrow matrix is the wide one's start. */
+const block = { rows: 3, cols: 2, width: 4, first: 1 };
+const columnStatement = (name: 'copyToColumns' | 'copyFromColumns' | 'addToColumns' | 'addFromColumns'): Statement =>
+  name === 'copyToColumns' || name === 'addToColumns'
+    ? {
+        rule: 'mustNot',
+        says: 'the two matrices must not overlap',
+        lengths: [12, 12],
+        aliases: [[0, 1]],
+        run: (k, [wide, narrow]) => k[name](wide, narrow, block),
+      }
+    : {
+        rule: 'may',
+        says: "the narrow matrix may be the wide one's array from its start",
+        lengths: [12, 12],
+        aliases: [[0, 1]],
+        run: (k, [narrow, wide]) => k[name](narrow, wide, block),
+      };
 /** Attention over 4 sources for 2 query steps of 3 rows, the rows' lengths 4, 2 and 3; depth and width 8 (whole vectors). */
 const attention = { steps: 2, rows: 3, sources: 4, depth: 8, width: 8, lengths: Int32Array.of(4, 2, 3) };
 const scoreCount = 2 * 3 * 4;
@@ -138,6 +156,10 @@ const statements: { readonly [K in KernelName]: readonly Statement[] } = {
       run: (k, [losses, p, logits]) => k.crossEntropyRows(losses, p, logits, Int32Array.of(0, 3, 1), rows, hidden),
     },
   ],
+  copyToColumns: [columnStatement('copyToColumns')],
+  copyFromColumns: [columnStatement('copyFromColumns')],
+  addToColumns: [columnStatement('addToColumns')],
+  addFromColumns: [columnStatement('addFromColumns')],
   attentionScores: [
     {
       rule: 'mustNot',
