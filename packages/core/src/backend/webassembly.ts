@@ -15,7 +15,7 @@
  * Chromium). The standard set is the default because it gives the same bits on every engine: the same seed trains
  * the same weights in Node 20, Node 24, Deno, Bun and Chromium. The relaxed set's sums differ in the last bits, so a
  * training run takes another path (the monthly CO₂ forecast's test MAE was 0.3214 on the standard set and 0.3466 on
- * the relaxed one, measured on Node 24), for 1.18× the speed of a training step here. Training gives the same bits
+ * the relaxed one, measured on Node 24), for 1.18–1.21× the speed of a training step here. Training gives the same bits
  * for any thread count within one kernel set.
  *
  * Scratch: the matrix product's packed panels and a copy of a ragged batch's lengths live in blocks of this memory
