@@ -165,7 +165,7 @@ export async function check(args: ParsedArgs): Promise<{ text: string; passed: b
     if (!args.switches.has('quiet') || !report.passed) parts.push(`${label}:\n${report.text()}${table ? failureTable(report) : ''}`);
   }
   parts.push(
-    `${passed ? `all ${cells.length} gradient checks passed` : 'GRADIENT CHECK FAILED'} (backend ${backend.name}; finite differences in f64 run on the JavaScript kernels on every backend)`,
+    `${passed ? `all ${cells.length} gradient checks passed` : 'GRADIENT CHECK FAILED'} (backend ${backend.name}${backend.kernelSet === 'relaxed' ? ' (relaxed kernels)' : ''}; finite differences in f64 run on the JavaScript kernels on every backend)`,
   );
   return { text: parts.join('\n\n'), passed };
 }
