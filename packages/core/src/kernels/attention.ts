@@ -202,20 +202,26 @@ export function attentionScoresAdditiveBackward(gradients: AdditiveGradients, sc
   const gq = gradients.query;
   const gk = gradients.keys;
   const gv = gradients.vector;
+  // Per query row and depth, over its sources: the row's shares of ∂q and ∂v summed in f64 and added once.
   for (let t = 0; t < steps; t++) {
     for (let b = 0; b < rows; b++) {
       const length = lengthOf(shape, b);
       const row = t * rows + b;
-      for (let s = 0; s < length; s++) {
-        const de = scoreGradient[row * sources + s];
-        const k = (s * rows + b) * depth;
-        for (let d = 0; d < depth; d++) {
-          const u = Math.tanh(query[row * depth + d] + keys[k + d]);
-          if (gv !== null) gv[d] += de * u;
+      for (let d = 0; d < depth; d++) {
+        const q = query[row * depth + d];
+        let dq = 0;
+        let dv = 0;
+        for (let s = 0; s < length; s++) {
+          const de = scoreGradient[row * sources + s];
+          const k = (s * rows + b) * depth + d;
+          const u = Math.tanh(q + keys[k]);
+          dv += de * u;
           const pre = de * vector[d] * (1 - u * u);
-          if (gq !== null) gq[row * depth + d] += pre;
-          if (gk !== null) gk[k + d] += pre;
+          dq += pre;
+          if (gk !== null) gk[k] += pre;
         }
+        if (gq !== null) gq[row * depth + d] += dq;
+        if (gv !== null) gv[d] += dv;
       }
     }
   }

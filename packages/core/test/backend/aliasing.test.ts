@@ -229,9 +229,9 @@ const statements: { readonly [K in KernelName]: readonly Statement[] } = {
   attentionScoresAdditiveBackward: [
     {
       rule: 'mustNot',
-      says: 'a gradient must not alias an input',
+      says: 'a gradient must not alias an input (here the keys’ gradient the keys, read again for the next query step)',
       lengths: [queryCount, keyCount, 8, scoreCount, queryCount, keyCount, 8],
-      aliases: [[0, 4]],
+      aliases: [[1, 5]],
       run: (k, [gq, gk, gv, ge, query, keys, vector]) =>
         k.attentionScoresAdditiveBackward({ query: gq, keys: gk, vector: gv }, ge, { query, keys, vector }, attention),
     },
