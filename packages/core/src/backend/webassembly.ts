@@ -6,8 +6,9 @@
  * Each table entry checks that its arrays live in this backend's memory and then calls the SIMD twin with their
  * byte offsets; otherwise (f64 arrays, or an ordinary f32 array that reached a kernel) it runs the JavaScript
  * kernel, which computes the same thing on any typed array. Ops check their tensors at the boundary, so mixing
- * tensors of two backends is refused there, not papered over here. Kernels without a SIMD twin (reductions, the
- * softmax cross-entropy, ReLU, log, the offset copies) are the JavaScript kernels working on this memory.
+ * tensors of two backends is refused there, not papered over here. Kernels without a SIMD twin (the other
+ * reductions, ReLU, log, the update clipping's limits, attention's softmax and its backward) are the JavaScript
+ * kernels working on this memory.
  *
  * Two builds of the kernels exist (KernelSet, backend.ts): `standard` SIMD, the default, and `relaxed`, whose
  * multiply-adds are WebAssembly relaxed SIMD's (fused where the processor has it), chosen by name (`kernels:
