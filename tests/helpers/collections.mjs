@@ -6,8 +6,11 @@
 // Counted: the young generation's collections (scavenges), where small allocations made per pass show up (the
 // probes run with a 1 MB young generation). Full collections are counted apart (`major`) and not judged: the engine
 // starts them on its own when a process goes quiet (during the waits below), which is not an allocation of the loop.
-// A CI run on Node 24, with the whole suite running beside it, twice counted 1 collection of some kind in the
-// own-cell probe when all kinds were counted; runs of the probe alone counted none.
+// The count is of the steady state: the loop is counted in rounds, up to five, until a round counts none (`rounds`
+// says how many it took). Clean CI runs on Node 24, with the whole suite running beside the probe, counted 1
+// young-generation collection in the first counted round three times out of five (runs of the probe alone never
+// did): on a busy machine the engine can still be running the loop in a tier that allocates, before its optimised
+// code takes over (a guess at the cause). A loop that allocates in every pass counts collections in every round.
 import { PerformanceObserver, constants } from 'node:perf_hooks';
 
 export async function collectionsDuring(work, count) {
@@ -23,13 +26,20 @@ export async function collectionsDuring(work, count) {
     }
   });
   observer.observe({ entryTypes: ['gc'] });
-  work(count, false);
-  await new Promise((resolve) => setTimeout(resolve, 50));
-  const counted = { minor, major };
+  let rounds = 0;
+  let counted = { minor: 0, major: 0 };
+  do {
+    minor = 0;
+    major = 0;
+    work(count, false);
+    await new Promise((resolve) => setTimeout(resolve, 50));
+    counted = { minor, major };
+    rounds++;
+  } while (counted.minor > 0 && rounds < 5);
   minor = 0;
   major = 0;
   work(count, true);
   await new Promise((resolve) => setTimeout(resolve, 50));
   observer.disconnect();
-  return { collections: counted.minor, major: counted.major, control: minor };
+  return { collections: counted.minor, major: counted.major, rounds, control: minor };
 }

@@ -25,5 +25,5 @@ const run = (count, extra) => {
     if (extra) kept = Float64Array.of(i, i, i, i);
   }
 };
-const { collections, major, control } = await collectionsDuring(run, 100_000);
-console.log(JSON.stringify({ collections, major, steps: 100_000, control, backend: runtime.backend.name, kept: kept?.[0] ?? null }));
+const { collections, major, rounds, control } = await collectionsDuring(run, 100_000);
+console.log(JSON.stringify({ collections, major, rounds, steps: 100_000, control, backend: runtime.backend.name, kept: kept?.[0] ?? null }));
