@@ -57,6 +57,12 @@ for (const module of modules) {
     setDefaultBackend(chosen);
   }
 }
+if ('step.'.startsWith(only) || only.startsWith('step.')) {
+  for (const [id, result] of Object.entries(runtime.numpyReference())) {
+    results[id] = result;
+    console.log(`${id.padEnd(52)} ${String(result.value).padStart(10)} ${result.unit}`);
+  }
+}
 if ('runtime'.startsWith(only) || only.startsWith('runtime')) {
   for (const [id, result] of Object.entries(await runtime.counts())) {
     results[id] = result;

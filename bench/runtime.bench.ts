@@ -12,9 +12,13 @@
  * one-row product walks two panels at a time, which V8 keeps in registers (four spilled), and arrays are found
  * by an offset recorded when they were made (core/backend/memory.ts), not by `byteOffset`, which costs 10–15 ns a
  * read in Node 20.
+ * The reference: bench/reference/streaming.py times the same steps written in numpy on one thread (OpenBLAS), in
+ * the same run when `python3` with numpy is on the machine, as `reference.numpy.step.…`; `step.….speedup-over-numpy`
+ * is its time over ours (above 1: ours is faster). Without python3 or numpy the bench says so and records neither.
  * Two bundles are counted: `runtime.bundle-gzip-bytes` (with the forward WebAssembly module, budget 20 KiB) and
  * `runtime.javascript.bundle-gzip-bytes` (`@weft/io/runtime/javascript`, budget 12 KiB).
  */
+import { spawnSync } from 'node:child_process';
 import { gzipSync } from 'node:zlib';
 import { fileURLToPath } from 'node:url';
 import { build } from 'esbuild';
@@ -22,7 +26,7 @@ import { Random } from '@weft/core';
 import { buildModel } from '@weft/cells';
 import { modelTensors, readWeightFile, writeWeightFile } from '@weft/io';
 import { Runtime, forwardBackend } from '@weft/io/runtime';
-import type { BenchCase, BenchResult } from './harness.js';
+import type { BenchCase, BenchResult, Derived } from './harness.js';
 
 function stepCase(cell: 'lstm' | 'gru', inputs: number, hidden: number): BenchCase {
   return {
@@ -57,3 +61,35 @@ export async function counts(): Promise<Record<string, BenchResult>> {
     'runtime.javascript.bundle-gzip-bytes': { value: await size('javascript.js'), unit: 'bytes' },
   };
 }
+
+/**
+ * The numpy reference's step times (bench/reference/streaming.py), measured now, in this run; an empty record and
+ * a note on stderr when python3 or numpy is missing here.
+ */
+export function numpyReference(): Record<string, BenchResult> {
+  const script = fileURLToPath(new URL('./reference/streaming.py', import.meta.url));
+  const ran = spawnSync('python3', [script], { encoding: 'utf8', timeout: 600_000 });
+  if (ran.error !== undefined || ran.status !== 0) {
+    const why = ran.error?.message ?? ran.stderr.trim().split('\n').at(-1) ?? `exit ${ran.status}`;
+    console.error(`bench: no numpy reference (${why}); install python3 and numpy to record it`);
+    return {};
+  }
+  const figures = JSON.parse(ran.stdout) as Record<string, number | string>;
+  const out: Record<string, BenchResult> = {};
+  for (const [id, value] of Object.entries(figures)) {
+    if (typeof value === 'number') out[`reference.numpy.${id}`] = { value: Number(value.toPrecision(4)), unit: 'µs/step' };
+  }
+  console.error(`bench: numpy ${String(figures.numpy)} reference measured (bench/reference/streaming.py)`);
+  return out;
+}
+
+/** `step.<cell>.<shape>.speedup-over-numpy`: the numpy reference's time over ours, both from this run. */
+export const derived: Derived = (results) => {
+  const out: Record<string, BenchResult> = {};
+  for (const [id, result] of Object.entries(results)) {
+    const reference = results[`reference.numpy.${id}`];
+    if (!/^step\.(lstm|gru)\.i\d+h\d+$/.test(id) || reference === undefined) continue;
+    out[`${id}.speedup-over-numpy`] = { value: Number((reference.value / result.value).toPrecision(4)), unit: 'ratio' };
+  }
+  return out;
+};

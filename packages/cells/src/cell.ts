@@ -76,5 +76,30 @@ export function hasFusedSequence(cell: RecurrentCell): cell is RecurrentCell & F
   return typeof (cell as Partial<FusedSequence>).runFused === 'function';
 }
 
+/**
+ * A cell that computes, once per sequence, the parts of its step that read only the input and its vectors (the input
+ * projection, a bias added to it): one product over every step's rows instead of one per step, and one gradient
+ * product for its weights. `runComposed` (layer.ts) asks for it before stepping; each step must give the same numbers
+ * as `step` on that step's input, up to the order of the sums in the larger product.
+ */
+export interface SequencePreparation {
+  /**
+   * Runs the input-only part over `inputs` [T, B, inputWidth]; the returned step t takes the state and gives step t's
+   * result. Null when stepping as usual is faster for this shape (the caller then calls `step`).
+   */
+  prepareSequence(tape: Tape, inputs: Tensor): PreparedSequence | null;
+}
+
+/** A sequence whose input-only part is computed: its steps, in time order. */
+export interface PreparedSequence {
+  /** Step `t` from `state` (one [B, width] per slot), recorded on `tape`. */
+  step(tape: Tape, t: number, state: readonly Tensor[]): CellStep;
+}
+
+/** True when the cell computes its input-only part once per sequence (`prepareSequence`). */
+export function hasSequencePreparation(cell: RecurrentCell): cell is RecurrentCell & SequencePreparation {
+  return typeof (cell as Partial<SequencePreparation>).prepareSequence === 'function';
+}
+
 /** How a built-in cell runs: `fused` (one node per step, hand-written backward) or `composed` (core operations). */
 export type CellMode = 'fused' | 'composed';

@@ -10,3 +10,5 @@ export { initialisePlanParameters, stepTensors } from './plan-cell.js';
 export { cellLayout, layerDirections } from './layout.js';
 export { decoderStart, reverseTokens } from './encoder-decoder.js';
 export { stackMembers, stackedDescription } from './ensemble.js';
+export { cutForSequence } from './plan-cell.js';
+export type { SequenceCut } from './plan-cell.js';

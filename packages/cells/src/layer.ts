@@ -7,7 +7,7 @@
 import { concat, fail, formatShape, sameShape } from '@weft/core';
 import type { DType, Tape, Tensor } from '@weft/core';
 import type { RecurrentCell, SequenceResult } from './cell.js';
-import { hasFusedSequence } from './cell.js';
+import { hasFusedSequence, hasSequencePreparation } from './cell.js';
 import { allActive, holdInactiveRows, reverseWithinLengths, stackSteps, timeStep } from './sequence-ops.js';
 
 /** How a sequence layer runs a batch. */
@@ -69,13 +69,17 @@ export function runSequence(tape: Tape, cell: RecurrentCell, inputs: Tensor, opt
   return runComposed(tape, cell, inputs, state, lengths);
 }
 
-/** The general path, for any cell: one `cell.step` per time step, holding the state of finished rows. */
+/**
+ * The general path, for any cell: one `cell.step` per time step, holding the state of finished rows (the input-only
+ * part of a plan's step computed once for the whole sequence first: see `SequencePreparation`).
+ */
 function runComposed(tape: Tape, cell: RecurrentCell, inputs: Tensor, state: readonly Tensor[], lengths: Int32Array | null): SequenceResult {
   const steps = inputs.shape[0];
   const outputs: Tensor[] = [];
+  const prepared = hasSequencePreparation(cell) ? cell.prepareSequence(tape, inputs) : null;
   let current = state;
   for (let t = 0; t < steps; t++) {
-    const result = cell.step(tape, timeStep(tape, inputs, t), current);
+    const result = prepared !== null ? prepared.step(tape, t, current) : cell.step(tape, timeStep(tape, inputs, t), current);
     current = allActive(lengths, t) ? result.state : result.state.map((next, i) => holdInactiveRows(tape, next, current[i], lengths, t));
     outputs.push(result.output);
   }

@@ -4,14 +4,15 @@
  * `composed` mode (the reference their fused steps are proven against); a cell of your own is a plan and runs
  * this way always, in training, in gradient checks, and (through the same traced step) in the runtime.
  */
-import { add, fail, matmul, multiply, relu, sigmoid, slice, subtract, tanh } from '@weft/core';
+import { add, fail, matmul, multiply, relu, reshape, sigmoid, slice, subtract, tanh } from '@weft/core';
 import type { DType, FloatArray, Random, Tape, Tensor } from '@weft/core';
-import type { CellStep, NamedParameter, RecurrentCell, StateSlot } from './cell.js';
+import type { CellStep, NamedParameter, PreparedSequence, RecurrentCell, SequencePreparation, StateSlot } from './cell.js';
 import type { LayerDescription } from './description.js';
 import { fillOrthogonal, fillUniform, glorotBound } from './init.js';
 import type { CellPlan, CellShape, StepProgram } from './plans/plan.js';
 import { traceStep } from './plans/trace.js';
 import { checkStepArguments, createParameter, resolveCellOptions } from './recurrence.js';
+import { timeStep } from './sequence-ops.js';
 import type { CommonCellOptions } from './recurrence.js';
 
 /** One operation of a traced step bound to its operands' places (and its weights): made once per cell. */
@@ -89,6 +90,57 @@ export function stepOnTape(program: StepProgram, tape: Tape, x: Tensor, state: r
   return next;
 }
 
+/**
+ * A traced step cut for a whole sequence: the instructions that read neither the state nor anything made from it
+ * run once over every step's rows (all of them row-wise: products, sums, columns, elementwise functions), the rest
+ * step by step. Each instruction keeps its own bound operation, so the cut changes where values are made, not how.
+ */
+export interface SequenceCut {
+  /** Instructions run once per sequence, in program order. */
+  readonly once: readonly number[];
+  /** Instructions run at every step, in program order. */
+  readonly each: readonly number[];
+  /** Batch values made once and read by the steps, one [B, width] block per step (the input itself when it is read). */
+  readonly blocks: readonly number[];
+  /** Row values made once (a vector's columns) and read by the steps as they are. */
+  readonly rows: readonly number[];
+}
+
+/**
+ * The most batch rows at which `prepareSequence` computes the input-only part once per sequence. Measured on the
+ * WebAssembly backend (one window forward and back, LSTM and GRU in composed mode): at 1 row per step 3–13% faster
+ * than stepping, at 4 rows 4–5%, at 8 rows 1–3%; at 16 and 32 rows 3–11% slower (each step's product is already
+ * efficient there, and copying each step's block of the whole sequence's values in and its gradient out costs more).
+ */
+const WHOLE_SEQUENCE_ROWS = 8;
+
+/** Cuts `program` into its once-per-sequence and per-step parts (see `SequenceCut`). */
+export function cutForSequence(program: StepProgram): SequenceCut {
+  const values = program.values;
+  // A value is made once when it does not depend on the state: the input, vectors, and what only they make.
+  const once = values.map((v) => v.source === 'input' || v.source === 'vector');
+  const made: number[] = [];
+  const each: number[] = [];
+  program.instructions.forEach((instruction, k) => {
+    const fromOnce = once[instruction.a] && (instruction.b < 0 || once[instruction.b]);
+    once[instruction.out] = fromOnce;
+    (fromOnce ? made : each).push(k);
+  });
+  const read = new Set<number>(program.results);
+  for (const k of each) {
+    const { a, b } = program.instructions[k];
+    read.add(a);
+    if (b >= 0) read.add(b);
+  }
+  const blocks: number[] = [];
+  const rows: number[] = [];
+  for (const id of [...read].sort((x, y) => x - y)) {
+    if (!once[id] || values[id].source === 'vector') continue;
+    (values[id].row ? rows : blocks).push(id);
+  }
+  return { once: made, each, blocks, rows };
+}
+
 /** The parameters a traced plan names, made as trainable zeros, by name (in the plan's order). */
 function planParameters(program: StepProgram, dtype: DType): Map<string, Tensor> {
   return new Map(program.parameters.map((p) => [p.name, createParameter(p.name, p.shape, dtype)]));
@@ -141,7 +193,7 @@ export interface PlanCellOptions extends CommonCellOptions {
 }
 
 /** The training cell of a plan: its parameters from the plan, its step the plan's step on the tape. */
-export class PlanCell implements RecurrentCell {
+export class PlanCell implements RecurrentCell, SequencePreparation {
   readonly kind: string;
   readonly inputWidth: number;
   readonly hidden: number;
@@ -154,6 +206,8 @@ export class PlanCell implements RecurrentCell {
   private readonly tensors: Map<string, Tensor>;
   /** The step's tensors, found once. */
   private readonly stepTensors: StepTensors;
+  /** The step cut into its once-per-sequence and per-step parts. */
+  private readonly cut: SequenceCut;
 
   constructor(options: PlanCellOptions) {
     const { name, inputWidth, hidden, dtype, random } = resolveCellOptions(options, options.plan.kind);
@@ -168,6 +222,7 @@ export class PlanCell implements RecurrentCell {
     this.state = this.program.state;
     this.tensors = planParameters(this.program, dtype);
     this.stepTensors = stepTensors(this.program, (n) => parameterNamed(this.tensors, n, name));
+    this.cut = cutForSequence(this.program);
     const initialise = options.initialise ?? options.plan.initialise;
     if (initialise !== undefined) initialise((n) => parameterNamed(this.tensors, n, name).data, shape, random);
     else initialisePlanParameters(this.tensors, hidden, random);
@@ -182,6 +237,38 @@ export class PlanCell implements RecurrentCell {
     checkStepArguments(this.name, x, this.inputWidth, state, this.state, this.dtype);
     const next = stepOnTape(this.program, tape, x, state, this.stepTensors);
     return { output: next[0], state: next };
+  }
+
+  /**
+   * The input-only part of the step over every step of `inputs` [T, B, inputWidth] at once (the layer has checked its
+   * shape); each step then runs the rest (see `SequenceCut`).
+   */
+  prepareSequence(tape: Tape, inputs: Tensor): PreparedSequence | null {
+    const [steps, rows, width] = inputs.shape;
+    const { program, cut } = this;
+    if (rows > WHOLE_SEQUENCE_ROWS || cut.once.length === 0) return null;
+    const { operations, vectors } = this.stepTensors;
+    const described = program.values;
+    const whole: Tensor[] = new Array<Tensor>(described.length);
+    whole[0] = reshape(tape, inputs, [steps * rows, width]);
+    for (let id = 1; id < described.length; id++) if (described[id].source === 'vector') whole[id] = vectors[id] as Tensor;
+    for (const k of cut.once) operations[k](tape, whole);
+    const blocks = cut.blocks.map((id) => (id === 0 ? inputs : reshape(tape, whole[id], [steps, rows, described[id].width])));
+    return {
+      step: (stepTape: Tape, t: number, state: readonly Tensor[]): CellStep => {
+        const values: Tensor[] = new Array<Tensor>(described.length);
+        for (let id = 1; id < described.length; id++) {
+          const v = described[id];
+          if (v.source === 'state') values[id] = state[v.slot];
+          else if (v.source === 'vector') values[id] = vectors[id] as Tensor;
+        }
+        for (let j = 0; j < blocks.length; j++) values[cut.blocks[j]] = timeStep(stepTape, blocks[j], t);
+        for (const id of cut.rows) values[id] = whole[id];
+        for (const k of cut.each) operations[k](stepTape, values);
+        const next = program.results.map((id) => values[id]);
+        return { output: next[0], state: next };
+      },
+    };
   }
 
   /** The parameter `name` of the plan. */

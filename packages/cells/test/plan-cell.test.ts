@@ -1,6 +1,8 @@
 import { describe, expect, it } from 'vitest';
 import { Random, Tape, WeftError, checkGradients, sum, multiply, tensor } from '@weft/core';
+import type { Tensor } from '@weft/core';
 import { LstmCell, PlanCell, buildModel, builtInPlans, runSequence } from '@weft/cells';
+import { cutForSequence } from '@weft/cells/internal';
 import { mguPlan, mguReference } from './plans/mgu.js';
 
 describe('a plan on the tape', () => {
@@ -128,6 +130,56 @@ describe('a plan on the tape', () => {
     const b = asPlan.step(new Tape({ recording: false }), x, state).state;
     expect(Array.from(b[0].data)).toEqual(Array.from(a[0].data));
     expect(Array.from(b[1].data)).toEqual(Array.from(a[1].data));
+  });
+
+  it('computes the input-only part of a step once per sequence, with the outputs and gradients of stepping (f64, ragged)', () => {
+    // LSTM: x·W alone reads neither h nor c; GRU: x·W + b and its three gate columns; the MGU example likewise.
+    const lstm = new LstmCell({ inputWidth: 3, hidden: 4, dtype: 'f64', random: 5, mode: 'composed' });
+    const lstmCut = cutForSequence(lstm.program);
+    expect(lstmCut.once.map((k) => lstm.program.instructions[k].operation)).toEqual(['product']);
+    expect(lstmCut.blocks).toEqual([lstm.program.instructions[lstmCut.once[0]].out]);
+    const gru = new PlanCell({ plan: builtInPlans.gru, inputWidth: 3, hidden: 4, dtype: 'f64', random: 6 });
+    expect(cutForSequence(gru.program).once.map((k) => gru.program.instructions[k].operation)).toEqual(['product', 'add', 'columns', 'columns', 'columns']);
+    const random = new Random('once per sequence');
+    for (const cell of [lstm, gru, new PlanCell({ plan: mguPlan, inputWidth: 3, hidden: 4, dtype: 'f64', random: 7 })]) {
+      const inputs = tensor(
+        Float64Array.from({ length: 5 * 3 * 3 }, () => random.between(-1, 1)),
+        [5, 3, 3],
+        'f64',
+      );
+      const weights = Float64Array.from({ length: 5 * 3 * 4 }, () => random.between(-1, 1));
+      const lengths = [5, 2, 4];
+      // Through the layer (which asks the cell to prepare the sequence), then by hand, one `step` per time step.
+      const run = (prepared: boolean): { outputs: number[]; gradients: number[] } => {
+        const tape = new Tape();
+        const parameters = cell.parameters().map((p) => p.tensor);
+        for (const p of parameters) p.gradient?.fill(0);
+        let outputs: Tensor;
+        if (prepared) outputs = runSequence(tape, cell, inputs, { lengths }).outputs;
+        else {
+          const saved = cell.prepareSequence;
+          cell.prepareSequence = () => null;
+          try {
+            outputs = runSequence(tape, cell, inputs, { lengths }).outputs;
+          } finally {
+            cell.prepareSequence = saved;
+          }
+        }
+        const loss = sum(tape, multiply(tape, outputs, tensor(weights, [5, 3, 4], 'f64')));
+        tape.reverseSweep(loss);
+        return { outputs: Array.from(outputs.data), gradients: parameters.flatMap((p) => Array.from(p.gradient ?? [])) };
+      };
+      const once = run(true);
+      const stepped = run(false);
+      expect(once.gradients.length).toBeGreaterThan(0);
+      for (const [a, b] of [
+        [once.outputs, stepped.outputs],
+        [once.gradients, stepped.gradients],
+      ]) {
+        expect(a.length).toBe(b.length);
+        for (let i = 0; i < a.length; i++) expect(Math.abs(a[i] - b[i])).toBeLessThanOrEqual(1e-12 * Math.max(1, Math.abs(b[i])));
+      }
+    }
   });
 
   it("builds a model of a plan's cells, and refuses a plan filed under another kind or a built-in word, naming it", () => {

@@ -14,7 +14,7 @@ import { gruResetHidden, gruStepFinish, gruUpdateReset, lstmStepForward, plainSt
 
 /** out [rows, cols] = bias + x·weights: the readout. `bias` 0 means none. */
 export function affineRows(out: usize, bias: usize, x: usize, weights: usize, rows: i32, inner: i32, cols: i32, scratch: usize): void {
-  affinePacked(out, bias, x, weights, inner, 0, 0, 0, rows, cols, scratch);
+  affinePacked(out, bias, x, weights, inner, 0, 0, 0, rows, cols, scratch, 0);
 }
 
 /** One LSTM layer step: gates = b + x·W + h·R, then the LSTM gate arithmetic in place on h and c. */
@@ -22,7 +22,7 @@ export function lstmLayerStep(
   x: usize, input: usize, recurrent: usize, bias: usize, peephole: usize, hState: usize, cell: usize, gates: usize,
   tanhCell: usize, rows: i32, inputWidth: i32, hidden: i32, lengths: usize, step: i32, scratch: usize,
 ): void {
-  affinePacked(gates, bias, x, input, inputWidth, hState, recurrent, hidden, rows, 4 * hidden, scratch);
+  affinePacked(gates, bias, x, input, inputWidth, hState, recurrent, hidden, rows, 4 * hidden, scratch, step);
   lstmStepForward(hState, cell, gates, tanhCell, hState, cell, peephole, rows, hidden, lengths, step);
 }
 
@@ -32,14 +32,14 @@ export function gruLayerStep(
   projected: usize, gates: usize, updateReset: usize, candidate: usize, resetHidden: usize,
   rows: i32, inputWidth: i32, hidden: i32, lengths: usize, step: i32, scratch: usize,
 ): void {
-  affinePacked(projected, bias, x, input, inputWidth, 0, 0, 0, rows, 3 * hidden, scratch);
-  affinePacked(updateReset, 0, hState, recurrent, hidden, 0, 0, 0, rows, 2 * hidden, scratch);
+  affinePacked(projected, bias, x, input, inputWidth, 0, 0, 0, rows, 3 * hidden, scratch, step);
+  affinePacked(updateReset, 0, hState, recurrent, hidden, 0, 0, 0, rows, 2 * hidden, scratch, step);
   gruUpdateReset(gates, projected, 0, updateReset, rows, hidden);
   if (candidateBias == 0) {
     gruResetHidden(resetHidden, gates, hState, rows, hidden);
-    affinePacked(candidate, 0, resetHidden, candidateWeights, hidden, 0, 0, 0, rows, hidden, scratch);
+    affinePacked(candidate, 0, resetHidden, candidateWeights, hidden, 0, 0, 0, rows, hidden, scratch, step);
   } else {
-    affinePacked(candidate, candidateBias, hState, candidateWeights, hidden, 0, 0, 0, rows, hidden, scratch);
+    affinePacked(candidate, candidateBias, hState, candidateWeights, hidden, 0, 0, 0, rows, hidden, scratch, step);
   }
   gruStepFinish(hState, gates, projected, 0, candidate, hState, candidateBias != 0 ? 1 : 0, rows, hidden, lengths, step);
 }
@@ -49,7 +49,7 @@ export function plainLayerStep(
   x: usize, input: usize, recurrent: usize, bias: usize, hState: usize, pre: usize, rectified: i32,
   rows: i32, inputWidth: i32, hidden: i32, lengths: usize, step: i32, scratch: usize,
 ): void {
-  affinePacked(pre, bias, x, input, inputWidth, hState, recurrent, hidden, rows, hidden, scratch);
+  affinePacked(pre, bias, x, input, inputWidth, hState, recurrent, hidden, rows, hidden, scratch, step);
   plainStepForward(pre, hState, rectified, rows, hidden, lengths, step);
   memory.copy(hState, pre, <usize>(rows * hidden) << 2);
 }

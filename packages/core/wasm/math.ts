@@ -10,7 +10,12 @@
  * tanh: for |x| < 0.625 the odd polynomial x + x³·Q(x²) of Cephes' tanhf (coefficients from memory); above,
  * 1 − 2 / (e^{2|x|} + 1) with the sign of x restored. sigmoid: 1 / (1 + e^{−|x|}) for x ≥ 0 and
  * e^{−|x|} / (1 + e^{−|x|}) below, so no exponent is positive (the same overflow-safe split as the JavaScript
- * kernels). NaN in gives NaN out in every lane (f32x4.min/max propagate NaN).
+ * kernels). NaN in gives NaN out in every lane.
+ *
+ * The clamps are f32x4.pmin/pmax (b < a ? b : a and a < b ? b : a, one x86 instruction each) rather than
+ * f32x4.min/max (IEEE 754 minimum/maximum, which an engine must build from several instructions to propagate NaN
+ * and order −0 before +0). With the value first and a non-zero constant second they give the same bits for every
+ * input: a NaN value fails the comparison and is returned as it is, and no constant is ±0.
  *
  * The worst errors against Math in f64 are pinned by packages/core/test/backend/wasm-math.test.ts.
  */
@@ -24,13 +29,17 @@
 // @ts-ignore: decorator
 @inline const SHIFT: f32 = 12582912.0;
 
-/** e^x for inputs already inside [−87.33654, 88.72283] or NaN. */
+/**
+ * e^x for inputs already inside [−87.33654, 88.72283] or NaN. `capped` false leaves out the cap of n at 127, which
+ * only inputs above 87.3 reach: for callers whose inputs are ≤ 0 (the same bits, one instruction fewer).
+ */
 // @ts-ignore: decorator
-@inline export function expClamped4(x: v128): v128 {
+@inline function expReduced4(x: v128, capped: bool): v128 {
   // n = round(x·log₂e) by the 1.5·2²³ shift (the sum's low mantissa bits are n), capped at 127 so 2ⁿ is finite;
   // cheaper here than f32x4.nearest and a float-to-integer conversion.
   const shifted = f32x4.add(f32x4.mul(x, f32x4.splat(LOG2E)), f32x4.splat(SHIFT));
-  const n = f32x4.min(f32x4.sub(shifted, f32x4.splat(SHIFT)), f32x4.splat(127.0));
+  const rounded = f32x4.sub(shifted, f32x4.splat(SHIFT));
+  const n = capped ? f32x4.pmin(rounded, f32x4.splat(127.0)) : rounded;
   let r = f32x4.sub(x, f32x4.mul(n, f32x4.splat(LN2_HIGH)));
   r = f32x4.sub(r, f32x4.mul(n, f32x4.splat(LN2_LOW)));
   const r2 = f32x4.mul(r, r);
@@ -45,10 +54,22 @@
   return f32x4.mul(y, scale);
 }
 
-/** e^x clamped to the f32 normal range: the shape the gates need (they only use it below 0 or saturating). */
+/** e^x clamped to the f32 normal range. */
 // @ts-ignore: decorator
 @inline export function expSafe4(x: v128): v128 {
-  return expClamped4(f32x4.min(f32x4.max(x, f32x4.splat(-87.33654)), f32x4.splat(88.72283)));
+  return expReduced4(f32x4.pmin(f32x4.pmax(x, f32x4.splat(-87.33654)), f32x4.splat(88.72283)), true);
+}
+
+/** expSafe4 for x ≤ 0 (or NaN): the same bits without the clamps and cap that only inputs above 0 reach. */
+// @ts-ignore: decorator
+@inline function expSafeBelowZero4(x: v128): v128 {
+  return expReduced4(f32x4.pmax(x, f32x4.splat(-87.33654)), false);
+}
+
+/** expSafe4 for x ≥ 0 (or NaN): the same bits without the clamp that only inputs below 0 reach. */
+// @ts-ignore: decorator
+@inline function expSafeAboveZero4(x: v128): v128 {
+  return expReduced4(f32x4.pmin(x, f32x4.splat(88.72283)), true);
 }
 
 /** e^x over the whole f32 range: 0 below the normal range, +Infinity above it. */
@@ -63,7 +84,8 @@
 // @ts-ignore: decorator
 @inline export function sigmoid4(x: v128): v128 {
   const one = f32x4.splat(1.0);
-  const e = expSafe4(f32x4.neg(f32x4.abs(x)));
+  // −|x| by setting the sign bit: the bits f32x4.neg(f32x4.abs(x)) gives, in one instruction.
+  const e = expSafeBelowZero4(v128.or(x, i32x4.splat(0x80000000)));
   const d = f32x4.div(one, f32x4.add(one, e));
   return v128.bitselect(d, f32x4.mul(e, d), f32x4.ge(x, f32x4.splat(0)));
 }
@@ -80,11 +102,11 @@
   p = f32x4.add(f32x4.mul(p, s), f32x4.splat(1.33314422036e-1));
   p = f32x4.add(f32x4.mul(p, s), f32x4.splat(-3.33332819422e-1));
   const small = f32x4.add(f32x4.mul(f32x4.mul(p, s), x), x);
-  const e = expSafe4(f32x4.add(ax, ax));
+  const e = expSafeAboveZero4(f32x4.add(ax, ax));
   const magnitude = f32x4.sub(one, f32x4.div(f32x4.splat(2.0), f32x4.add(e, one)));
   const chosen = v128.bitselect(small, magnitude, f32x4.lt(ax, f32x4.splat(0.625)));
-  // The sign of x on every result, so tanh(−0) = −0 as IEEE 754 and Math give it.
-  return v128.bitselect(f32x4.abs(chosen), x, i32x4.splat(0x7fffffff));
+  // The sign of x on every result, so tanh(−0) = −0 as IEEE 754 and Math give it (the mask drops chosen's own sign).
+  return v128.bitselect(chosen, x, i32x4.splat(0x7fffffff));
 }
 
 /**

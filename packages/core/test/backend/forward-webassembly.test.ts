@@ -107,6 +107,76 @@ describe.skipIf(!available)("the runtime's WebAssembly layer steps against their
   });
 });
 
+describe.skipIf(!available)("the runtime's WebAssembly streaming products", () => {
+  it('walk the weights from either end on alternate steps and give the same bits both ways (LSTM, GRU, plain; one row and three)', () => {
+    // Each column's sum runs over k in order whichever end the panels are walked from (core/wasm/packed.ts), so an
+    // even and an odd step number from the same state must agree to the bit; hidden 40 gives 6 groups of three
+    // panels and a tail of two in the LSTM's 160 gate columns.
+    const wasm = createForwardWebAssembly({ memoryBytes: 8 * 1048576 });
+    const random = new Random('either end');
+    const values = (n: number): Float32Array => {
+      const array = wasm.floats(n);
+      for (let i = 0; i < n; i++) array[i] = random.between(-0.5, 0.5);
+      return array;
+    };
+    const copy = (a: Float32Array): Float32Array => {
+      const out = wasm.floats(a.length);
+      out.set(a);
+      return out;
+    };
+    const inputWidth = 9;
+    const hidden = 40;
+    let compared = 0;
+    for (const rows of [1, 3]) {
+      const x = values(rows * inputWidth);
+      const h = values(rows * hidden);
+      const c = values(rows * hidden);
+      const lstm = {
+        input: wasm.matrix(values(inputWidth * 4 * hidden), inputWidth, 4 * hidden),
+        recurrent: wasm.matrix(values(hidden * 4 * hidden), hidden, 4 * hidden),
+        bias: values(4 * hidden),
+        peephole: values(3 * hidden),
+      };
+      const gru = {
+        input: wasm.matrix(values(inputWidth * 3 * hidden), inputWidth, 3 * hidden),
+        bias: values(3 * hidden),
+        recurrent: wasm.matrix(values(hidden * 2 * hidden), hidden, 2 * hidden),
+        candidate: wasm.matrix(values(hidden * hidden), hidden, hidden),
+        candidateBias: null,
+      };
+      const plain = {
+        input: wasm.matrix(values(inputWidth * hidden), inputWidth, hidden),
+        recurrent: wasm.matrix(values(hidden * hidden), hidden, hidden),
+        bias: values(hidden),
+      };
+      const results = [0, 1].map((step) => {
+        const place = { rows, inputWidth, hidden, lengths: null, step };
+        const lstmState = { h: copy(h), c: copy(c) };
+        wasm.kernels.lstmLayerStep(lstmState, x, lstm, { gates: wasm.floats(rows * 4 * hidden), tanhCell: wasm.floats(rows * hidden) }, place);
+        const gruState = copy(h);
+        const work = {
+          projected: wasm.floats(rows * 3 * hidden),
+          gates: wasm.floats(rows * 3 * hidden),
+          updateReset: wasm.floats(rows * 2 * hidden),
+          candidate: wasm.floats(rows * hidden),
+          resetHidden: wasm.floats(rows * hidden),
+        };
+        wasm.kernels.gruLayerStep(gruState, x, gru, work, place);
+        const plainState = copy(h);
+        wasm.kernels.plainLayerStep(plainState, x, plain, wasm.floats(rows * hidden), 'tanh', place);
+        return [lstmState.h, lstmState.c, gruState, plainState];
+      });
+      const before = [h, c, h, h];
+      results[0].forEach((even, i) => {
+        expect(Array.from(results[1][i])).toEqual(Array.from(even));
+        expect(even.some((v, j) => v !== before[i][j])).toBe(true);
+        compared += even.length;
+      });
+    }
+    expect(compared).toBe(4 * 4 * hidden);
+  });
+});
+
 describe.skipIf(!available)("the runtime's WebAssembly forward backend", () => {
   it('packs a weight matrix for its kernels, zeroes new arrays, takes released ones back and names itself', () => {
     const wasm = createForwardWebAssembly({ memoryBytes: 1048576 });

@@ -342,6 +342,11 @@ export class Streams {
   private readonly first: Float32Array;
   private readonly output: Float32Array;
   private closed = false;
+  /**
+   * Steps taken, as the layer steps' step number (no lengths here, so it places nothing): its parity sets which end
+   * of the weights a streaming product starts from, so a step starts on those the one before read last (packed.ts).
+   */
+  private steps = 0;
 
   constructor(runtime: Runtime, count: number) {
     this.runtime = runtime;
@@ -372,10 +377,11 @@ export class Streams {
     let x = this.first;
     for (let i = 0; i < layers.length; i++) {
       // Each layer reads the previous layer's h and updates its own state in place.
-      layers[i].forward.step(x, this.buffers[i], this.count, null, 0);
+      layers[i].forward.step(x, this.buffers[i], this.count, null, this.steps);
       x = this.buffers[i].state[0];
     }
     runtime.readout(x, this.count, this.output, null, this.count);
+    this.steps = (this.steps + 1) & 0x3fffffff;
     if (into === undefined) return this.output;
     into.set(this.output);
     return into;
