@@ -1,7 +1,9 @@
 // Garbage collections counted while a loop runs (node --expose-gc): `work(count, extra)` runs the loop `count`
 // times, and when `extra` is true makes one small array per pass as well. After a warm-up of two runs and a full
 // collection, the loop is counted alone, then with the extra array: the control, which shows the count sees an
-// allocation of that size. Used by the allocation probes (own-cell-probe.mjs, and decoding.test.ts's).
+// allocation of that size. Used by every allocation probe (own-cell-probe.mjs and the probes of decoding.test.ts,
+// forecaster.test.ts and translate.test.ts; the last two counted every collection in one round until a full local
+// suite counted 1 in the forecaster's).
 //
 // Counted: the young generation's collections (scavenges), where small allocations made per pass show up (the
 // probes run with a 1 MB young generation). Full collections are counted apart (`major`) and not judged: the engine

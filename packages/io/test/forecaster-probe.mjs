@@ -1,13 +1,14 @@
 // Run by forecaster.test.ts as `node --expose-gc --max-semi-space-size=1 forecaster-probe.mjs`: a windowed hybrid
 // model of three stacked members reading calendar positions forecasts two rows ahead for 20,000 rows given as numbers
 // (nextValuesInto), one heat reading in seven missing (NaN: filled and flagged), after a warm-up; the collections
-// during those rows are counted, then again while each row also makes one small object (the control: it shows the
-// count sees an allocation of that size).
-import { PerformanceObserver } from 'node:perf_hooks';
+// during those rows are counted (young-generation collections, in the steady state: tests/helpers/collections.mjs),
+// then again while each row also makes one small object (the control: it shows the count sees an allocation of that
+// size).
 import { buildModel } from '@weft/cells';
 import { stackMembers } from '@weft/cells/internal';
 import { createRowForecaster, createSeriesForecasters, modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
+import { collectionsDuring } from '../../../tests/helpers/collections.mjs';
 
 // With the argument "many": three series of one model taking turns row by row, each with its own 0/1 input.
 const many = process.argv[2] === 'many';
@@ -45,16 +46,11 @@ const run = (count, start, extra) => {
   }
   return kept;
 };
-run(20000, 0, false);
-globalThis.gc();
-let collections = 0;
-const observer = new PerformanceObserver((list) => (collections += list.getEntries().length));
-observer.observe({ entryTypes: ['gc'] });
-run(20000, 20000, false);
-await new Promise((resolve) => setTimeout(resolve, 50));
-const counted = collections;
-collections = 0;
-run(20000, 40000, true);
-await new Promise((resolve) => setTimeout(resolve, 50));
-observer.disconnect();
-console.log(JSON.stringify({ collections: counted, rows: 20000, control: collections }));
+// Each counted pass continues the series where the last one stopped.
+let next = 0;
+const work = (count, extra) => {
+  run(count, next, extra);
+  next += count;
+};
+const { collections, major, rounds, control } = await collectionsDuring(work, 20000);
+console.log(JSON.stringify({ collections, major, rounds, rows: 20000, control }));

@@ -3,10 +3,10 @@
 // inputsFromNumbers(row, into), step(into, out), outputsInto) and for a text model (a character in, its id, a step); the
 // garbage collections during the readings after a warm-up are counted, then again while each reading also makes
 // one small object (the control: it shows the count sees an allocation of that size).
-import { PerformanceObserver } from 'node:perf_hooks';
 import { buildModel } from '@weft/cells';
 import { createTranslator, modelTensors, writeWeightFile } from '@weft/io';
 import { createRuntime } from '@weft/io/runtime';
+import { collectionsDuring } from '../../../tests/helpers/collections.mjs';
 
 const values = buildModel({ input: { kind: 'values', width: 2 }, layers: [{ cell: 'gru', hidden: 8 }], readout: { width: 1 } }, { seed: 1 });
 const valueMeta = { task: 'forecast', columns: ['heat', 'flow'], targetColumns: ['heat'], horizon: 1, normalisation: { mean: [20, 3], deviation: [4, 1.5] } };
@@ -42,16 +42,12 @@ const run = (count, start, extra) => {
     if (extra) kept = { i, heat: named[0] };
   }
 };
-run(100_000, 0, false);
-globalThis.gc();
-let collections = 0;
-const observer = new PerformanceObserver((list) => (collections += list.getEntries().length));
-observer.observe({ entryTypes: ['gc'] });
-run(100_000, 100_000, false);
-await new Promise((resolve) => setTimeout(resolve, 50));
-const counted = collections;
-collections = 0;
-run(100_000, 200_000, true);
-await new Promise((resolve) => setTimeout(resolve, 50));
-observer.disconnect();
-console.log(JSON.stringify({ collections: counted, readings: 100_000, control: collections, last: kept?.heat ?? null }));
+// Each counted pass continues the readings where the last one stopped (young-generation collections, in the steady
+// state: tests/helpers/collections.mjs).
+let next = 0;
+const work = (count, extra) => {
+  run(count, next, extra);
+  next += count;
+};
+const { collections, major, rounds, control } = await collectionsDuring(work, 100_000);
+console.log(JSON.stringify({ collections, major, rounds, readings: 100_000, control, last: kept?.heat ?? null }));

@@ -14,8 +14,8 @@
 import { WeftError, fail, productShape, refill } from '@weft/core/base';
 import type { Problem } from '@weft/core/base';
 import type { ForwardBackend } from '@weft/core/forward/javascript';
-import { isEncoderDecoder, joinFeatures, layerPath, modelLayout, planOf, reverseRows, runtimeCell, zeroBeyond } from '@weft/cells/description';
-import type { CellPlan, CellPlans, LayerBuffers, RuntimeCell } from '@weft/cells/description';
+import { isEncoderDecoder, layerPath, modelLayout, planOf, runtimeCell, zeroBeyond } from '@weft/cells/description';
+import type { CellPlan, CellPlans, LayerBuffers } from '@weft/cells/description';
 import { layoutProblems } from '../layout-check.js';
 import { defaultForward } from './forward-default.js';
 import type { ModelDescription } from '@weft/cells/description';
@@ -23,16 +23,8 @@ import type { WeightFile, WeightMetadata } from '../weight-file.js';
 import type { ReadOptions } from '../weight-file.js';
 import type { WeightSource } from './source.js';
 import { weightFileFrom } from './source.js';
-
-interface RuntimeLayer {
-  /** The cell that runs in the layer's own direction (forward, or backward for a reverse layer). */
-  readonly forward: RuntimeCell;
-  /** The backward cell of a bidirectional layer. */
-  readonly backward: RuntimeCell | null;
-  readonly width: number;
-  /** The layer reads backward in time only. */
-  readonly reverse: boolean;
-}
+import { WholeRun } from './whole-run.js';
+import type { RuntimeLayer } from './whole-run.js';
 
 /** Counts the arrays the runtime creates, so tests can prove the steady state creates none. */
 export const runtimeCounts: {
@@ -205,32 +197,10 @@ export class Runtime {
       return array;
     };
     try {
-      let features = this.embed(
-        input,
-        steps * batch,
-        'Runtime.run.input',
-        temporary(steps * batch * (this.embedding === null ? this.inputWidth : this.embeddingWidth)),
-      );
-      let width = this.embedding === null ? this.inputWidth : this.embeddingWidth;
-      for (const layer of this.layers) {
-        const out = temporary(steps * batch * layer.width);
-        // A reverse layer is the backward half of a bidirectional one, alone.
-        const ahead = layer.reverse ? null : runDirection(layer.forward, features, steps, batch, width, rowsLengths, temporary, finalState);
-        const back = layer.reverse ? layer.forward : layer.backward;
-        let behind: Float32Array | null = null;
-        if (back !== null) {
-          const reversed = temporary(features.length);
-          reverseRows(reversed, features, { steps, rows: batch, width }, rowsLengths);
-          const outputs = runDirection(back, reversed, steps, batch, width, rowsLengths, temporary, finalState);
-          behind = temporary(outputs.length);
-          reverseRows(behind, outputs, { steps, rows: batch, width: back.hidden }, rowsLengths);
-        }
-        if (ahead !== null && behind !== null && back !== null) joinFeatures(out, ahead, behind, layer.forward.hidden, back.hidden);
-        else out.set((ahead ?? behind) as Float32Array);
-        features = out;
-        width = layer.width;
-      }
-      return this.readout(features, steps * batch, temporary(steps * batch * this.outputWidth), rowsLengths, batch).slice();
+      const whole = new WholeRun(this, steps, temporary, batch);
+      whole.run(input, steps, false, rowsLengths, 'Runtime.run.input');
+      if (finalState !== undefined) for (const slots of whole.finals) finalState.push(slots.slice());
+      return whole.outputs.slice();
     } finally {
       for (const array of made) this.backend.release(array);
     }
@@ -305,32 +275,6 @@ export class Runtime {
   layerList(): readonly RuntimeLayer[] {
     return this.layers;
   }
-}
-
-type Temporary = (length: number) => Float32Array;
-
-function runDirection(
-  cell: RuntimeCell,
-  x: Float32Array,
-  steps: number,
-  batch: number,
-  width: number,
-  lengths: Int32Array | null,
-  temporary: Temporary,
-  finalState?: Float32Array[],
-): Float32Array {
-  const buffers = cell.buffers(batch, temporary);
-  const out = temporary(steps * batch * cell.hidden);
-  for (let t = 0; t < steps; t++) {
-    cell.step(x.subarray(t * batch * width, (t + 1) * batch * width), buffers, batch, lengths, t);
-    const h = buffers.state[0];
-    for (let b = 0; b < batch; b++) {
-      if (lengths !== null && t >= lengths[b]) continue;
-      out.set(h.subarray(b * cell.hidden, (b + 1) * cell.hidden), (t * batch + b) * cell.hidden);
-    }
-  }
-  if (finalState !== undefined) for (const slot of buffers.state) finalState.push(slot.slice());
-  return out;
 }
 
 /** Several independent streams stepped together; see Runtime. */

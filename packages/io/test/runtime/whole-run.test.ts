@@ -42,4 +42,35 @@ describe('a whole run into buffers made once', () => {
       expect(made).toBe(afterMaking);
     }
   });
+
+  it('runs batches with ragged lengths into the same buffers run after run, as a fresh run gives them, and zero past each length', async () => {
+    const model = buildModel(description, { seed: 3 });
+    const random = new Random('whole-run-batches');
+    for (const backend of ['javascript', 'webassembly'] as const) {
+      const runtime = await createRuntime(await writeWeightFile(model.description, modelTensors(model)), { backend });
+      const whole = new WholeRun(runtime, 6, (n) => runtime.backend.floats(n), 3);
+      for (const [steps, lengths] of [
+        [6, [6, 2, 0]],
+        [5, [1, 5, 3]],
+        [6, null],
+        [2, [2, 1, 2]],
+      ] as const) {
+        const tokens = Array.from({ length: steps * 3 }, () => random.integer(7));
+        const rowsLengths = lengths === null ? null : Int32Array.from(lengths);
+        whole.run(tokens, steps, false, rowsLengths);
+        // A fresh walk (Runtime.run makes its own buffers) of the same batch: a stale buffer or state would differ.
+        const finals: Float32Array[] = [];
+        const fresh = runtime.run(tokens, steps, 3, lengths === null ? null : [...lengths], finals);
+        expect(Array.from(whole.outputs.subarray(0, fresh.length)), `${backend}, lengths ${lengths}`).toEqual(Array.from(fresh));
+        expect(whole.finals.map((f) => Array.from(f))).toEqual(finals.map((f) => Array.from(f)));
+        const width = runtime.outputWidth;
+        for (let p = 0; p < steps * 3; p++) {
+          const past = rowsLengths !== null && Math.floor(p / 3) >= rowsLengths[p % 3];
+          const row = Array.from(whole.outputs.subarray(p * width, (p + 1) * width));
+          if (past) expect(row.every((v) => v === 0)).toBe(true);
+          else expect(row.some((v) => v !== 0)).toBe(true);
+        }
+      }
+    }
+  });
 });
