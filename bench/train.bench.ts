@@ -11,6 +11,12 @@
  * On the WebAssembly backend the main step ran 6.4–9.0× the JavaScript backend and the batch-1 LSTM 3.6–5.6× (≥ 5
  * and ≥ 2 asked), across four runs. The Adam update is computed in f64 in both backends, bit for bit alike, and stays about 5–7% of a step,
  * so it was not given a faster f32 SIMD form that would make the backends' weights differ.
+ *
+ * `train.lstm.b160t24i8h32v2.over-b32`: a step over 160 rows against one over 32 (LSTM 32 hidden, 24 steps, 8 inputs:
+ * a forecasting window's shape), the time of each step, from one run. Five ensemble members trained side by side
+ * could at best share every product of one step over five times the rows, so this ratio is a floor under what such
+ * an ensemble's step would cost against one member's: 4.72 in its first run (6.52 against 1.38 ms), which is why
+ * `--ensemble` trains its members one after another.
  */
 import { Random, createWebAssemblyBackend, defaultBackend, randomUniform, relaxedKernelsUnavailable, setDefaultBackend, tensor } from '@weft/core';
 import { buildModel } from '@weft/cells';
@@ -171,7 +177,24 @@ function threadsCase(shape: Shape, count: number): BenchCase {
 /** The relaxed-set case exists where the default backend runs the standard set and the engine has relaxed SIMD (Node 22+). */
 const kernelSets = defaultBackend().kernelSet === 'standard' && relaxedKernelsUnavailable() === null ? [relaxedKernelsCase(main)] : [];
 
-export const cases: BenchCase[] = [...shapes.map(stepCase), ...kernelSets, updateCase(main), threadsCase(main, 1), threadsCase(main, 2)];
+/** A forecasting window's shape, one member's rows and five members' (see the top of this file). */
+const memberRows: Shape = { cell: 'lstm', batch: 32, steps: 24, inputs: 8, hidden: 32, classes: 2 };
+const fiveMembersRows: Shape = { ...memberRows, batch: 160 };
+
+/** The time of one whole step (not per token). */
+function wholeStepCase(shape: Shape): BenchCase {
+  return { ...stepCase(shape), unit: 'ms/step', value: (hz) => 1e3 / hz };
+}
+
+export const cases: BenchCase[] = [
+  ...shapes.map(stepCase),
+  ...kernelSets,
+  updateCase(main),
+  threadsCase(main, 1),
+  threadsCase(main, 2),
+  wholeStepCase(memberRows),
+  wholeStepCase(fiveMembersRows),
+];
 
 export const derived: Derived = (results): Record<string, BenchResult> => {
   const out: Record<string, BenchResult> = {};
@@ -185,5 +208,9 @@ export const derived: Derived = (results): Record<string, BenchResult> => {
   const one = results[`${idOf(main)}.workers1`];
   const two = results[`${idOf(main)}.workers2`];
   if (one !== undefined && two !== undefined) out[`${idOf(main)}.workers2.speedup`] = { value: Number((two.value / one.value).toPrecision(4)), unit: 'ratio' };
+  const member = results[idOf(memberRows)];
+  const five = results[idOf(fiveMembersRows)];
+  if (member !== undefined && five !== undefined)
+    out[`${idOf(fiveMembersRows)}.over-b32`] = { value: Number((five.value / member.value).toPrecision(4)), unit: 'ratio' };
   return out;
 };

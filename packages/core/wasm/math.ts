@@ -44,11 +44,13 @@
   r = f32x4.sub(r, f32x4.mul(n, f32x4.splat(LN2_LOW)));
   const r2 = f32x4.mul(r, r);
   // P(r) = c0 + c1·r + … + c5·r⁵ by Estrin's scheme (three short chains instead of one long Horner chain).
-  const a = f32x4.add(f32x4.splat(5.0000001201e-1), f32x4.mul(f32x4.splat(1.6666665459e-1), r));
-  const b = f32x4.add(f32x4.splat(4.1665795894e-2), f32x4.mul(f32x4.splat(8.3334519073e-3), r));
-  const c = f32x4.add(f32x4.splat(1.3981999507e-3), f32x4.mul(f32x4.splat(1.9875691500e-4), r));
-  const p = f32x4.add(a, f32x4.mul(r2, f32x4.add(b, f32x4.mul(r2, c))));
-  const y = f32x4.add(f32x4.add(f32x4.mul(p, r2), r), f32x4.splat(1.0));
+  // Its multiply-adds are `madd` (below): the same bits as a product and a sum in the standard set, fused in the
+  // relaxed set (after the range reduction, which stays exact as written).
+  const a = madd(f32x4.splat(1.6666665459e-1), r, f32x4.splat(5.0000001201e-1));
+  const b = madd(f32x4.splat(8.3334519073e-3), r, f32x4.splat(4.1665795894e-2));
+  const c = madd(f32x4.splat(1.9875691500e-4), r, f32x4.splat(1.3981999507e-3));
+  const p = madd(r2, madd(r2, c, b), a);
+  const y = f32x4.add(madd(p, r2, r), f32x4.splat(1.0));
   // 2ⁿ from the bits of n + 1.5·2²³ (exact): its low bits are n in two's complement.
   const scale = i32x4.shl(i32x4.add(f32x4.add(n, f32x4.splat(SHIFT)), i32x4.splat(127 - 0x4b400000)), 23);
   return f32x4.mul(y, scale);
@@ -97,11 +99,11 @@
   const ax = f32x4.abs(x);
   const s = f32x4.mul(x, x);
   let p = f32x4.splat(-5.70498872745e-3);
-  p = f32x4.add(f32x4.mul(p, s), f32x4.splat(2.06390887954e-2));
-  p = f32x4.add(f32x4.mul(p, s), f32x4.splat(-5.37397155531e-2));
-  p = f32x4.add(f32x4.mul(p, s), f32x4.splat(1.33314422036e-1));
-  p = f32x4.add(f32x4.mul(p, s), f32x4.splat(-3.33332819422e-1));
-  const small = f32x4.add(f32x4.mul(f32x4.mul(p, s), x), x);
+  p = madd(p, s, f32x4.splat(2.06390887954e-2));
+  p = madd(p, s, f32x4.splat(-5.37397155531e-2));
+  p = madd(p, s, f32x4.splat(1.33314422036e-1));
+  p = madd(p, s, f32x4.splat(-3.33332819422e-1));
+  const small = madd(f32x4.mul(p, s), x, x);
   const e = expSafeAboveZero4(f32x4.add(ax, ax));
   const magnitude = f32x4.sub(one, f32x4.div(f32x4.splat(2.0), f32x4.add(e, one)));
   const chosen = v128.bitselect(small, magnitude, f32x4.lt(ax, f32x4.splat(0.625)));

@@ -10,12 +10,15 @@
  * each with `full` constant so no branch is left in the vector loops. Loops marked `// lanes: one vector` are not
  * doubled.
  *
+ * Their multiply-adds (a·b + c) are math.ts's `madd`: the same bits as the product and sum written out in the
+ * standard kernel set, fused in the relaxed set.
+ *
  * Why one file of this length: the three cells' forward and backward twins share the lane-loop convention, the
  * row-holding rule and the gate layout helpers, and the build expands this file as one unit.
  */
 // The scalar tails call sigmoidCall4 / tanhCall4 once the build expands the lane loops (see below).
 // @ts-ignore: used by the expanded loops
-import { held, load4, sigmoid4, sigmoidCall4, store4, tanh4, tanhCall4 } from './math';
+import { held, load4, madd, sigmoid4, sigmoidCall4, store4, tanh4, tanhCall4 } from './math';
 
 // @ts-ignore: decorator
 @inline function at(p: usize, i: i32): usize {
@@ -66,14 +69,14 @@ export function lstmStepForward(
       const ag = load4(at(gates, gate + 2 * hidden + j), full);
       let ao = load4(at(gates, gate + 3 * hidden + j), full);
       if (peephole != 0) {
-        ai = f32x4.add(ai, f32x4.mul(load4(at(peephole, j), full), cPrev));
-        af = f32x4.add(af, f32x4.mul(load4(at(peephole, hidden + j), full), cPrev));
+        ai = madd(load4(at(peephole, j), full), cPrev, ai);
+        af = madd(load4(at(peephole, hidden + j), full), cPrev, af);
       }
       const i = sigmoid4(ai);
       const f = sigmoid4(af);
       const g = tanh4(ag);
-      const c = f32x4.add(f32x4.mul(f, cPrev), f32x4.mul(i, g));
-      if (peephole != 0) ao = f32x4.add(ao, f32x4.mul(load4(at(peephole, 2 * hidden + j), full), c));
+      const c = madd(f, cPrev, f32x4.mul(i, g));
+      if (peephole != 0) ao = madd(load4(at(peephole, 2 * hidden + j), full), c, ao);
       const o = sigmoid4(ao);
       const tc = tanh4(c);
       store4(at(gates, gate + j), i, full);
@@ -114,8 +117,8 @@ export function lstmStepBackward(
       const cPrev = load4(at(cellPrevious, row + j), full);
       const dh = loadOrZero(hiddenGradient, row + j, full);
       const dao = f32x4.mul(f32x4.mul(f32x4.mul(dh, tc), o), f32x4.sub(one, o));
-      let dc = f32x4.add(loadOrZero(cellGradient, row + j, full), f32x4.mul(f32x4.mul(dh, o), f32x4.sub(one, f32x4.mul(tc, tc))));
-      if (peephole != 0) dc = f32x4.add(dc, f32x4.mul(dao, load4(at(peephole, 2 * hidden + j), full)));
+      let dc = madd(f32x4.mul(dh, o), f32x4.sub(one, f32x4.mul(tc, tc)), loadOrZero(cellGradient, row + j, full));
+      if (peephole != 0) dc = madd(dao, load4(at(peephole, 2 * hidden + j), full), dc);
       const dai = f32x4.mul(f32x4.mul(f32x4.mul(dc, g), i), f32x4.sub(one, i));
       const daf = f32x4.mul(f32x4.mul(f32x4.mul(dc, cPrev), f), f32x4.sub(one, f));
       const dag = f32x4.mul(f32x4.mul(dc, i), f32x4.sub(one, f32x4.mul(g, g)));
@@ -135,9 +138,9 @@ export function lstmStepBackward(
         const pi = at(peepholeGradient, j);
         const pf = at(peepholeGradient, hidden + j);
         const po = at(peepholeGradient, 2 * hidden + j);
-        store4(pi, f32x4.add(load4(pi, full), f32x4.mul(dai, cPrev)), full);
-        store4(pf, f32x4.add(load4(pf, full), f32x4.mul(daf, cPrev)), full);
-        store4(po, f32x4.add(load4(po, full), f32x4.mul(dao, load4(at(cell, row + j), full))), full);
+        store4(pi, madd(dai, cPrev, load4(pi, full)), full);
+        store4(pf, madd(daf, cPrev, load4(pf, full)), full);
+        store4(po, madd(dao, load4(at(cell, row + j), full), load4(po, full)), full);
       }
       j += full ? 4 : 1;
     }
@@ -189,7 +192,7 @@ export function gruStepFinish(
       const recurrentTerm = resetAfter ? f32x4.mul(load4(at(gates, gate + hidden + j), full), q) : q;
       const n = tanh4(f32x4.add(load4(at(projected, projectedOffset + gate + 2 * hidden + j), full), recurrentTerm));
       store4(at(gates, gate + 2 * hidden + j), n, full);
-      const h = f32x4.add(f32x4.mul(f32x4.sub(one, z), n), f32x4.mul(z, load4(at(hPrevious, row + j), full)));
+      const h = madd(f32x4.sub(one, z), n, f32x4.mul(z, load4(at(hPrevious, row + j), full)));
       store4(at(hState, row + j), h, full);
       j += full ? 4 : 1;
     }
@@ -233,7 +236,7 @@ export function gruBackwardCandidate(
       }
       if (hiddenPreviousGradient != 0) {
         const p = at(hiddenPreviousGradient, row + j);
-        store4(p, f32x4.add(load4(p, full), f32x4.mul(dh, z)), full);
+        store4(p, madd(dh, z, load4(p, full)), full);
       }
       j += full ? 4 : 1;
     }
@@ -257,7 +260,7 @@ export function gruBackwardReset(
       store4(at(updateResetGradient, pair + hidden + j), f32x4.mul(f32x4.mul(f32x4.mul(d, load4(at(hPrevious, row + j), full)), r), f32x4.sub(one, r)), full);
       if (hiddenPreviousGradient != 0) {
         const p = at(hiddenPreviousGradient, row + j);
-        store4(p, f32x4.add(load4(p, full), f32x4.mul(d, r)), full);
+        store4(p, madd(d, r, load4(p, full)), full);
       }
       j += full ? 4 : 1;
     }
