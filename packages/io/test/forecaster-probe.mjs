@@ -1,5 +1,5 @@
 // Run by forecaster.test.ts as `node --expose-gc --max-semi-space-size=1 forecaster-probe.mjs`: a windowed hybrid
-// model of three stacked members reading calendar positions forecasts two rows ahead for 20,000 rows given as numbers
+// model of three stacked members reading calendar positions forecasts two rows ahead for 50,000 rows given as numbers
 // (nextValuesInto), one heat reading in seven missing (NaN: filled and flagged), after a warm-up; the collections
 // during those rows are counted (young-generation collections, in the steady state: tests/helpers/collections.mjs),
 // then again while each row also makes one small object (the control: it shows the count sees an allocation of that
@@ -46,11 +46,14 @@ const run = (count, start, extra) => {
   }
   return kept;
 };
+// 50,000 rows a pass: the control's one small object per row then fills the 1 MB young generation a few times over
+// (at 20,000 rows it counted 1 or 2 collections, too close to none).
+const ROWS = 50000;
 // Each counted pass continues the series where the last one stopped.
 let next = 0;
 const work = (count, extra) => {
   run(count, next, extra);
   next += count;
 };
-const { collections, major, rounds, control } = await collectionsDuring(work, 20000);
-console.log(JSON.stringify({ collections, major, rounds, rows: 20000, control }));
+const { collections, major, rounds, control } = await collectionsDuring(work, ROWS);
+console.log(JSON.stringify({ collections, major, rounds, rows: ROWS, control }));
