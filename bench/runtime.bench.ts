@@ -9,14 +9,16 @@
  * On WebAssembly a layer step is one call (products, bias and gates fused, weights packed once into 8-column
  * panels). In the last full run the LSTM at 32 inputs and 64 hidden ran 11.4× the JavaScript backend and the GRU
  * 10.3× (2.85 and 2.21 µs a step), 16.8× at 64 and 256. Two changes took the GRU from 6.3–7.4× to that: the
- * one-row product walks two panels at a time, which V8 keeps in registers (four spilled), and arrays are found
+ * one-row product walked two panels at a time, which V8 keeps in registers (four spilled; three since, see
+ * core/wasm/packed.ts), and arrays are found
  * by an offset recorded when they were made (core/backend/memory.ts), not by `byteOffset`, which costs 10–15 ns a
  * read in Node 20.
  * The reference: bench/reference/streaming.py times the same steps written in numpy on one thread (OpenBLAS), in
  * the same run when `python3` with numpy is on the machine, as `reference.numpy.step.…`; `step.….speedup-over-numpy`
  * is its time over ours (above 1: ours is faster). Without python3 or numpy the bench says so and records neither.
- * Two bundles are counted: `runtime.bundle-gzip-bytes` (with the forward WebAssembly module, budget 20 KiB) and
- * `runtime.javascript.bundle-gzip-bytes` (`@weft/io/runtime/javascript`, budget 12 KiB).
+ * Two bundles are counted: `runtime.bundle-gzip-bytes` (with the forward WebAssembly module) and
+ * `runtime.javascript.bundle-gzip-bytes` (`@weft/io/runtime/javascript`), lazy chunks included; their budgets are
+ * packages/io/test/bundle.test.ts's.
  */
 import { spawnSync } from 'node:child_process';
 import { gzipSync } from 'node:zlib';
@@ -74,7 +76,13 @@ export function numpyReference(): Record<string, BenchResult> {
     console.error(`bench: no numpy reference (${why}); install python3 and numpy to record it`);
     return {};
   }
-  const figures = JSON.parse(ran.stdout) as Record<string, number | string>;
+  let figures: Record<string, number | string>;
+  try {
+    figures = JSON.parse(ran.stdout) as Record<string, number | string>;
+  } catch {
+    console.error(`bench: no numpy reference (bench/reference/streaming.py printed no JSON: ${ran.stdout.slice(0, 80)})`);
+    return {};
+  }
   const out: Record<string, BenchResult> = {};
   for (const [id, value] of Object.entries(figures)) {
     if (typeof value === 'number') out[`reference.numpy.${id}`] = { value: Number(value.toPrecision(4)), unit: 'µs/step' };
