@@ -5,8 +5,9 @@
  * same order of operations where it matters for the state: every product is complete before the gates read it).
  *
  * Every weight matrix here is packed (packed.ts: 8-column panels, k-major), as the runtime stores them. For fewer
- * than 4 rows each row's products run as one pass over the columns: 8 (then 2) vectors of accumulators start at
- * the bias and take x·W and h·R in turn, so the pre-activation is stored once. From 4 rows up, the blocked product
+ * than 4 rows each row's products run as one pass over the columns: 6 (then 2) vectors of accumulators start at
+ * the bias and take x·W and h·R in turn, so the pre-activation is stored once; the layer steps pass their step
+ * number, whose parity sets the end the pass starts from (packed.ts says why; the sums are the same either way). From 4 rows up, the blocked product
  * of matmul.ts runs on the packed weights (only the left operand is packed, in `scratch`).
  */
 import { affinePacked } from './packed';
