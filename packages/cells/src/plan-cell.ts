@@ -74,16 +74,27 @@ export function stepTensors(program: StepProgram, parameter: (name: string) => T
 
 /** Runs a traced step on `tape`: x [B, inputWidth] and the state in, the new state (slot order) out. */
 export function stepOnTape(program: StepProgram, tape: Tape, x: Tensor, state: readonly Tensor[], tensors: StepTensors): Tensor[] {
+  const values = stepValues(program, state, tensors);
+  values[0] = x;
+  const operations = tensors.operations;
+  for (let k = 0; k < operations.length; k++) operations[k](tape, values);
+  return stepResults(program, values);
+}
+
+/** A step's values array with the state slots and the vectors in place (the caller puts in the rest). */
+function stepValues(program: StepProgram, state: readonly Tensor[], tensors: StepTensors): Tensor[] {
   const described = program.values;
   const values: Tensor[] = new Array<Tensor>(described.length);
-  values[0] = x;
   for (let id = 1; id < described.length; id++) {
     const v = described[id];
     if (v.source === 'state') values[id] = state[v.slot];
     else if (v.source === 'vector') values[id] = tensors.vectors[id] as Tensor;
   }
-  const operations = tensors.operations;
-  for (let k = 0; k < operations.length; k++) operations[k](tape, values);
+  return values;
+}
+
+/** The new state's values, in slot order. */
+function stepResults(program: StepProgram, values: readonly Tensor[]): Tensor[] {
   const results = program.results;
   const next: Tensor[] = new Array<Tensor>(results.length);
   for (let s = 0; s < results.length; s++) next[s] = values[results[s]];
@@ -247,25 +258,20 @@ export class PlanCell implements RecurrentCell, SequencePreparation {
     const [steps, rows, width] = inputs.shape;
     const { program, cut } = this;
     if (rows > WHOLE_SEQUENCE_ROWS || cut.once.length === 0) return null;
-    const { operations, vectors } = this.stepTensors;
-    const described = program.values;
-    const whole: Tensor[] = new Array<Tensor>(described.length);
+    const tensors = this.stepTensors;
+    const operations = tensors.operations;
+    // The once-per-sequence part reads no state: the vectors and the whole sequence's rows as the input.
+    const whole = stepValues(program, [], tensors);
     whole[0] = reshape(tape, inputs, [steps * rows, width]);
-    for (let id = 1; id < described.length; id++) if (described[id].source === 'vector') whole[id] = vectors[id] as Tensor;
     for (const k of cut.once) operations[k](tape, whole);
-    const blocks = cut.blocks.map((id) => (id === 0 ? inputs : reshape(tape, whole[id], [steps, rows, described[id].width])));
+    const blocks = cut.blocks.map((id) => (id === 0 ? inputs : reshape(tape, whole[id], [steps, rows, program.values[id].width])));
     return {
       step: (stepTape: Tape, t: number, state: readonly Tensor[]): CellStep => {
-        const values: Tensor[] = new Array<Tensor>(described.length);
-        for (let id = 1; id < described.length; id++) {
-          const v = described[id];
-          if (v.source === 'state') values[id] = state[v.slot];
-          else if (v.source === 'vector') values[id] = vectors[id] as Tensor;
-        }
+        const values = stepValues(program, state, tensors);
         for (let j = 0; j < blocks.length; j++) values[cut.blocks[j]] = timeStep(stepTape, blocks[j], t);
         for (const id of cut.rows) values[id] = whole[id];
         for (const k of cut.each) operations[k](stepTape, values);
-        const next = program.results.map((id) => values[id]);
+        const next = stepResults(program, values);
         return { output: next[0], state: next };
       },
     };

@@ -10,6 +10,17 @@ import { worstGap } from '../../../../tests/helpers/close.js';
 
 const available = forwardWebAssemblyUnavailable() === null;
 
+/** A GRU layer step's working buffers for `rows` rows, zeroed, on `backend`. */
+function gruWork(backend: typeof javascriptForward, rows: number, hidden: number) {
+  return {
+    projected: backend.floats(rows * 3 * hidden),
+    gates: backend.floats(rows * 3 * hidden),
+    updateReset: backend.floats(rows * 2 * hidden),
+    candidate: backend.floats(rows * hidden),
+    resetHidden: backend.floats(rows * hidden),
+  };
+}
+
 describe.skipIf(!available)("the runtime's WebAssembly layer steps against their JavaScript twins", () => {
   it('agree on the LSTM, GRU (both forms) and plain layer steps and the readout, one row and five rows, ragged', () => {
     const wasm = createForwardWebAssembly({ memoryBytes: 8 * 1048576 });
@@ -70,14 +81,7 @@ describe.skipIf(!available)("the runtime's WebAssembly layer steps against their
             candidate: backend.matrix(rn, hidden, hidden),
             candidateBias: resetAfter ? make(backend, bn) : null,
           };
-          const work = {
-            projected: backend.floats(rows * 3 * hidden),
-            gates: backend.floats(rows * 3 * hidden),
-            updateReset: backend.floats(rows * 2 * hidden),
-            candidate: backend.floats(rows * hidden),
-            resetHidden: backend.floats(rows * hidden),
-          };
-          backend.kernels.gruLayerStep(state, make(backend, x), weights, work, { rows, inputWidth, hidden, lengths, step: 1 });
+          backend.kernels.gruLayerStep(state, make(backend, x), weights, gruWork(backend, rows, hidden), { rows, inputWidth, hidden, lengths, step: 1 });
           return state;
         });
         compare(gru[0], gru[1]);
@@ -154,14 +158,7 @@ describe.skipIf(!available)("the runtime's WebAssembly streaming products", () =
         const lstmState = { h: copy(h), c: copy(c) };
         wasm.kernels.lstmLayerStep(lstmState, x, lstm, { gates: wasm.floats(rows * 4 * hidden), tanhCell: wasm.floats(rows * hidden) }, place);
         const gruState = copy(h);
-        const work = {
-          projected: wasm.floats(rows * 3 * hidden),
-          gates: wasm.floats(rows * 3 * hidden),
-          updateReset: wasm.floats(rows * 2 * hidden),
-          candidate: wasm.floats(rows * hidden),
-          resetHidden: wasm.floats(rows * hidden),
-        };
-        wasm.kernels.gruLayerStep(gruState, x, gru, work, place);
+        wasm.kernels.gruLayerStep(gruState, x, gru, gruWork(wasm, rows, hidden), place);
         const plainState = copy(h);
         wasm.kernels.plainLayerStep(plainState, x, plain, wasm.floats(rows * hidden), 'tanh', place);
         return [lstmState.h, lstmState.c, gruState, plainState];
